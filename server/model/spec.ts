@@ -1,0 +1,112 @@
+/**
+ * The one definition of a model and of a fit's result.
+ *
+ * A model (a saved question) and a recipe (the JSON that fully describes a
+ * fit) share these fields; the model form, the API, the fit job and the
+ * recipe command all validate with `modelSpecSchema` and produce a
+ * `FitResult`. Keys and meanings follow the recipe contract in DEVELOPERS.md.
+ */
+import { z } from "zod";
+
+export const modelKinds = ["one-sample", "two-group", "association", "reliability"] as const;
+export const estimators = ["ols", "welch", "rank", "huber", "bisquare", "skipped", "bend"] as const;
+export const inferences = ["parametric", "permutation", "bootstrap"] as const;
+export const corrections = ["none", "bonferroni", "holm", "bh", "maxt"] as const;
+
+export const setAsideSchema = z.strictObject({
+  participant: z.string().min(1),
+  region: z.string().min(1).optional(),
+  reason: z.string().min(1),
+});
+
+export const modelSpecSchema = z.strictObject({
+  kind: z.enum(modelKinds),
+  /** Region names; omitted or empty = every region of the brain table. */
+  regions: z.array(z.string().min(1)).optional(),
+  /** association: the trait column of the participant sheet. */
+  predictor: z.string().min(1).optional(),
+  /** two-group: grouping column of the participant sheet. */
+  group: z.string().min(1).optional(),
+  /** two-group: [first, second]; estimate = mean(first) − mean(second). */
+  levels: z.tuple([z.string().min(1), z.string().min(1)]).optional(),
+  covariates: z.array(z.string().min(1)).default([]),
+  /** association: add a group × predictor interaction (needs `group`). */
+  interaction: z.boolean().default(false),
+  estimator: z.enum(estimators).default("ols"),
+  inference: z.enum(inferences).default("parametric"),
+  resamples: z.number().int().min(1).max(1_000_000).default(10000),
+  seed: z.number().int().min(0).max(2 ** 31 - 1).default(1),
+  correction: z.enum(corrections).default("none"),
+  setAside: z.array(setAsideSchema).default([]),
+  /** Measurement-aware weighting by first-level standard errors. */
+  weights: z.enum(["none", "first-level-se"]).default("none"),
+  tau2Method: z.enum(["dl", "reml"]).default("reml"),
+  smallSample: z.enum(["none", "knapp-hartung"]).default("none"),
+});
+
+export type ModelSpecInput = z.input<typeof modelSpecSchema>;
+export type ModelSpec = z.output<typeof modelSpecSchema>;
+export type SetAside = z.output<typeof setAsideSchema>;
+
+/**
+ * The numbers a fit runs on: the joined roster, already parsed and typed.
+ * `values[r][i]` is participant i's contrast value in region r (NaN where
+ * missing). Participant-sheet columns are typed by the intake.
+ */
+export interface FitData {
+  participants: readonly string[];
+  regions: readonly string[];
+  values: readonly Float64Array[];
+  /** Per region, first-level standard errors (NaN where missing), or null. */
+  standardErrors?: readonly (Float64Array | null)[];
+  /**
+   * Repeated sessions, when the brain table has a session column:
+   * `sessions.values[r][s][i]` is participant i's value in region r at
+   * session `sessions.labels[s]` (NaN where missing). Used by reliability.
+   */
+  sessions?: {
+    labels: readonly string[];
+    values: readonly (readonly Float64Array[])[];
+  };
+  numericColumns: Readonly<Record<string, readonly (number | null)[]>>;
+  categoricalColumns: Readonly<Record<string, readonly (string | null)[]>>;
+}
+
+export type Flag = "outlier" | "leverage" | "influence";
+
+export interface RegionResult {
+  region: string;
+  n: number;
+  estimate: number;
+  se: number | null;
+  statistic: number | null;
+  df: number | null;
+  p: number;
+  pAdjusted: number;
+  ciLow: number | null;
+  ciHigh: number | null;
+  /** association only */
+  r?: number;
+  rCiLow?: number;
+  rCiHigh?: number;
+  /** other per-method extras (effect sizes, tau2, i2, icc…) */
+  [extra: string]: unknown;
+}
+
+export interface ParticipantDiagnostics {
+  participant: string;
+  region: string;
+  leverage: number | null;
+  studentizedResidual: number | null;
+  cooksDistance: number | null;
+  flags: Flag[];
+  [extra: string]: unknown;
+}
+
+export interface FitResult {
+  regions: RegionResult[];
+  participants: ParticipantDiagnostics[];
+  /** thresholds and method notes for the flags, in plain words */
+  notes: string[];
+  [extra: string]: unknown;
+}
