@@ -1,0 +1,5 @@
+import { StudiesScreen } from "../../../components/studies-screen";
+
+export default function StudiesRoute() {
+  return <StudiesScreen />;
+}

@@ -1,0 +1,5 @@
+import { MailboxScreen } from "../components/mailbox-screen";
+
+export default function MailboxRoute() {
+  return <MailboxScreen />;
+}

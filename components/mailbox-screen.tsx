@@ -1,0 +1,60 @@
+import { ScrollView, StyleSheet, View } from "react-native";
+import { Link } from "expo-router";
+import { Card, Empty, Failure, Heading, Notice, Pending, Txt } from "./ui";
+import { Wordmark } from "./logo";
+import { palette, space } from "./theme";
+import { linksIn, useMail } from "../hooks/use-mail";
+
+/** Demo-mode inbox of the local mail fake: sign-in links and invitations land here. */
+export function MailboxScreen() {
+  const mail = useMail();
+  return (
+    <ScrollView style={styles.root} contentContainerStyle={styles.content}>
+      <View style={styles.column}>
+        <Wordmark />
+        <Heading>Mailbox</Heading>
+        <Notice>Demo mode: e-mail sent by this server is caught here instead of being delivered.</Notice>
+        {mail.isPending ? (
+          <Pending />
+        ) : mail.isError ? (
+          <Failure error={mail.error} onRetry={() => mail.refetch()} />
+        ) : mail.data.length === 0 ? (
+          <Empty title="No messages yet" />
+        ) : (
+          mail.data.map((message, index) => (
+            <Card key={message.id ?? `${message.sentAt}-${index}`} testID="mail-message">
+              <Txt kind="label">{message.subject}</Txt>
+              <Txt kind="caption">
+                To {message.to} · {new Date(message.sentAt).toLocaleString()}
+              </Txt>
+              <Txt kind="small" selectable>
+                {message.text.replace(/https?:\/\/\S+/g, "").trim()}
+              </Txt>
+              {linksIn(message.text).map((href) => (
+                <Link key={href} href={href as never} style={styles.link} testID="mail-link">
+                  {linkLabel(href)}
+                </Link>
+              ))}
+            </Card>
+          ))
+        )}
+        <Link href="/sign-in" style={styles.link}>
+          Back to sign-in
+        </Link>
+      </View>
+    </ScrollView>
+  );
+}
+
+function linkLabel(href: string): string {
+  if (href.includes("/api/auth/callback")) return "Open the sign-in link";
+  if (href.includes("/invitations/")) return "Open the invitation";
+  return href;
+}
+
+const styles = StyleSheet.create({
+  root: { flex: 1, backgroundColor: palette.canvas },
+  content: { padding: space.lg, alignItems: "center" },
+  column: { width: "100%", maxWidth: 720, gap: space.lg },
+  link: { color: palette.focus, fontWeight: "600", paddingVertical: space.xs },
+});

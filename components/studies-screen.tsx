@@ -1,0 +1,72 @@
+import { Pressable, StyleSheet, View } from "react-native";
+import { Link } from "expo-router";
+import { Badge, Card, Empty, Failure, Heading, Pending, Txt } from "./ui";
+import { palette, space } from "./theme";
+import { useStudies, type StudySummary } from "../hooks/use-studies";
+
+export function StudiesScreen() {
+  const studies = useStudies();
+  return (
+    <View style={styles.root}>
+      <Heading>Studies</Heading>
+      {studies.isPending ? (
+        <Pending label="Loading your studies…" />
+      ) : studies.isError ? (
+        <Failure error={studies.error} onRetry={() => studies.refetch()} />
+      ) : studies.data.length === 0 ? (
+        <Empty title="No studies yet">
+          <Txt style={{ color: palette.muted, textAlign: "center" }}>
+            A study is your team's workspace for one cohort. Create one, or ask a study's Owner to invite you.
+          </Txt>
+        </Empty>
+      ) : (
+        <View style={styles.list} accessibilityRole="list">
+          {studies.data.map((study) => (
+            <StudyCard key={study.id} study={study} />
+          ))}
+        </View>
+      )}
+    </View>
+  );
+}
+
+function StudyCard({ study }: { study: StudySummary }) {
+  return (
+    <Link href={`/studies/${study.id}`} asChild>
+      <Pressable accessibilityRole="link" accessibilityLabel={`${study.name}, your role: ${study.role}`}>
+        <Card testID="study-card">
+          <View style={styles.cardHead}>
+            <Txt kind="lead" style={styles.name}>
+              {study.name}
+            </Txt>
+            <Badge label={roleLabel(study.role)} tone={study.role === "owner" ? "accent" : "neutral"} />
+          </View>
+          {study.description ? (
+            <Txt kind="small" style={{ color: palette.muted }} numberOfLines={2}>
+              {study.description}
+            </Txt>
+          ) : null}
+          <Txt kind="small" style={{ color: palette.inkSoft }}>
+            {count(study.counts.participants, "participant")} · {count(study.counts.members, "member")} · {count(study.counts.models, "model")} ·{" "}
+            {count(study.counts.fits, "fit")}
+          </Txt>
+        </Card>
+      </Pressable>
+    </Link>
+  );
+}
+
+export function roleLabel(role: string): string {
+  return role.charAt(0).toUpperCase() + role.slice(1);
+}
+
+function count(n: number, noun: string): string {
+  return `${n} ${noun}${n === 1 ? "" : "s"}`;
+}
+
+const styles = StyleSheet.create({
+  root: { gap: space.lg },
+  list: { gap: space.md },
+  cardHead: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.sm },
+  name: { flexShrink: 1, fontWeight: "600" },
+});
