@@ -1,0 +1,117 @@
+/**
+ * Browser-test harness: starts the real server on a free port with a fresh
+ * temporary DATA_DIR, and drives Debian's Chromium through playwright-core.
+ */
+import { spawn, type ChildProcess } from "node:child_process";
+import { mkdirSync, mkdtempSync, rmSync } from "node:fs";
+import { createServer } from "node:net";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import { chromium, type Browser, type Page } from "playwright-core";
+import { projectRoot } from "../../scripts/web-build";
+
+export const chromiumPath = "/usr/bin/chromium";
+export const screenshotDir = join(projectRoot, "tests", "e2e", "screenshots");
+
+export const phone = { width: 390, height: 844 } as const;
+export const wide = { width: 1280, height: 800 } as const;
+
+export interface RunningServer {
+  url: string;
+  dataDir: string;
+  output: () => string;
+  stop: () => Promise<void>;
+}
+
+export async function freePort(): Promise<number> {
+  return new Promise((resolvePort, reject) => {
+    const server = createServer();
+    server.once("error", reject);
+    server.listen(0, "127.0.0.1", () => {
+      const address = server.address();
+      const port = typeof address === "object" && address ? address.port : 0;
+      server.close(() => resolvePort(port));
+    });
+  });
+}
+
+/** Starts `server/index.ts` as a child process and waits for /api/health. */
+export async function startServer(options: { dataDir?: string; env?: Record<string, string> } = {}): Promise<RunningServer> {
+  const port = await freePort();
+  const dataDir = options.dataDir ?? mkdtempSync(join(tmpdir(), "covarion-e2e-"));
+  const url = `http://127.0.0.1:${port}`;
+  let log = "";
+  const child: ChildProcess = spawn(process.execPath, ["--import", "tsx", "server/index.ts"], {
+    cwd: projectRoot,
+    env: { ...process.env, PORT: String(port), HOST: "127.0.0.1", DATA_DIR: dataDir, NODE_ENV: "development", ...options.env },
+    stdio: ["ignore", "pipe", "pipe"],
+  });
+  child.stdout?.on("data", (chunk: Buffer) => {
+    log += chunk.toString();
+  });
+  child.stderr?.on("data", (chunk: Buffer) => {
+    log += chunk.toString();
+  });
+  const deadline = Date.now() + 120_000;
+  for (;;) {
+    if (child.exitCode !== null) throw new Error(`The server exited early (code ${child.exitCode}):\n${log}`);
+    try {
+      const response = await fetch(`${url}/api/health`);
+      if (response.ok) break;
+    } catch {
+      // not listening yet
+    }
+    if (Date.now() > deadline) {
+      child.kill("SIGKILL");
+      throw new Error(`The server did not answer /api/health within 120 s:\n${log}`);
+    }
+    await new Promise((r) => setTimeout(r, 250));
+  }
+  return {
+    url,
+    dataDir,
+    output: () => log,
+    stop: async () => {
+      if (child.exitCode === null) {
+        const exited = new Promise((r) => child.once("exit", r));
+        child.kill("SIGTERM");
+        await Promise.race([exited, new Promise((r) => setTimeout(r, 15_000))]);
+        if (child.exitCode === null) child.kill("SIGKILL");
+      }
+      if (!options.dataDir) rmSync(dataDir, { recursive: true, force: true });
+    },
+  };
+}
+
+export async function launchBrowser(): Promise<Browser> {
+  return chromium.launch({
+    executablePath: chromiumPath,
+    headless: true,
+    args: [
+      "--no-sandbox",
+      "--disable-gpu",
+      "--disable-quic",
+      "--no-first-run",
+      "--disable-background-networking",
+      "--disable-component-update",
+      "--disable-sync",
+    ],
+  });
+}
+
+/** A fresh page (own cookies) at the given size that records page errors and console errors. */
+export async function openPage(browser: Browser, viewport: { width: number; height: number }) {
+  const context = await browser.newContext({ viewport });
+  const page = await context.newPage();
+  const errors: string[] = [];
+  page.on("pageerror", (error) => errors.push(`pageerror: ${error.message}`));
+  page.on("console", (message) => {
+    if (message.type() === "error") errors.push(`console: ${message.text()}`);
+  });
+  return { page, context, errors };
+}
+
+export async function screenshot(page: Page, name: string): Promise<void> {
+  mkdirSync(screenshotDir, { recursive: true });
+  await page.screenshot({ path: join(screenshotDir, `${name}.png`), fullPage: false });
+}
