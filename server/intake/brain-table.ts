@@ -1,0 +1,513 @@
+/**
+ * Brain tables: per-participant contrast values, one per region.
+ *
+ * Two layouts are read:
+ * - wide — an id column and one numeric column per region; a region's
+ *   standard errors sit in a column named region + suffix (default `_se`,
+ *   chosen at upload); an optional `session` column;
+ * - long — columns `region` and `value` (any case), optional `se` and
+ *   `session`, and the id column: one row per participant, session and region.
+ * The layout is long when both `region` and `value` columns exist, unless
+ * the caller says otherwise.
+ *
+ * In the wide layout, when no region list is given, every numeric column
+ * (see columns.ts) other than the id, session and standard-error columns is
+ * a region; text columns are listed as ignored with the reason. Every cell of
+ * a region or standard-error column must be a number or a missing marker;
+ * standard errors must be greater than 0; each participant (id and session)
+ * appears once. Every violation is reported with file, row and column, all
+ * at once (status 422).
+ *
+ * Cost: O(rows × columns).
+ */
+import { IntakeError, ProblemList, problem, type Problem } from "./errors";
+import { notANumberText, parseCategoryCell, parseNumberCell, quoteCell } from "./cells";
+import { findColumn, profileColumn, resolveIdColumn, unknownColumnError, type ColumnProfile } from "./columns";
+import type { RawTable } from "./read-table";
+
+export type BrainLayout = "wide" | "long";
+
+export const DEFAULT_SE_SUFFIX = "_se";
+
+export interface BrainTableOptions {
+  /** Participant id column; default `participant_id` if present, else the first column. */
+  idColumn?: string;
+  /** Default: long when `region` and `value` columns exist, else wide. */
+  layout?: BrainLayout;
+  /** Wide layout: suffix pairing a standard-error column to its region (default `_se`). */
+  seSuffix?: string;
+  /** Session column; default `session` when present; `null` = the table has none. */
+  sessionColumn?: string | null;
+  /** Only these regions (each must exist); default every region. */
+  regions?: readonly string[];
+  /** Columns left out entirely (never read). */
+  dropColumns?: readonly string[];
+  /** Wide layout: the caller's type for a column: "number" = a region, "category" = not a region. */
+  types?: Readonly<Record<string, "number" | "category">>;
+}
+
+export type BrainColumnRole = "id" | "session" | "region" | "se" | "region-name" | "value" | "ignored" | "dropped";
+
+export interface BrainColumn {
+  name: string;
+  role: BrainColumnRole;
+  /** region / se roles in the wide layout: the region it belongs to. */
+  region?: string;
+  /** ignored / dropped: why, in plain words. */
+  reason?: string;
+  profile: ColumnProfile;
+}
+
+export interface BrainEntry {
+  id: string;
+  session: string | null;
+  /** Spreadsheet row of the entry (long layout: its first row). */
+  row: number;
+}
+
+export interface BrainTable {
+  file: string;
+  layout: BrainLayout;
+  idColumn: string;
+  /** True when the id column was not named and the first column was taken. */
+  idColumnGuessed: boolean;
+  sessionColumn: string | null;
+  seSuffix: string;
+  regions: readonly string[];
+  /** One entry per participant and session, in file order. */
+  entries: readonly BrainEntry[];
+  /** `values[r][e]`: entry e's value in region r (NaN where missing). */
+  values: readonly Float64Array[];
+  /** Per region, standard errors (NaN where missing), or null when the table has none for it. */
+  standardErrors: readonly (Float64Array | null)[];
+  columns: readonly BrainColumn[];
+}
+
+export interface BrainAnalysis {
+  /** The table, when no problem was found. */
+  table: BrainTable | null;
+  /** Layout, roles and profiles, even when there are problems. */
+  plan: Omit<BrainTable, "entries" | "values" | "standardErrors">;
+  problems: readonly Problem[];
+  problemCount: number;
+}
+
+/** Builds a brain table or throws IntakeError (422) with every problem found. */
+export function buildBrainTable(raw: RawTable, options: BrainTableOptions = {}): BrainTable {
+  const a = analyseBrainTable(raw, options);
+  if (a.table === null) throw new IntakeError(422, a.problems, a.problemCount);
+  return a.table;
+}
+
+/**
+ * Reads a brain table and reports every problem instead of throwing for
+ * cell-level ones (for previews). Still throws IntakeError (422) when a
+ * column the caller named does not exist.
+ */
+export function analyseBrainTable(raw: RawTable, options: BrainTableOptions = {}): BrainAnalysis {
+  const file = raw.file;
+  const seSuffix = options.seSuffix ?? DEFAULT_SE_SUFFIX;
+  if (seSuffix === "") {
+    throw new IntakeError(422, [problem(file, "bad_option", "the standard-error suffix must not be empty")]);
+  }
+  const dropped = new Set<number>();
+  for (const name of options.dropColumns ?? []) {
+    const j = findColumn(raw, name);
+    if (j < 0) throw unknownColumnError(raw, name, "asked to drop");
+    dropped.add(j);
+  }
+  const id = resolveIdColumn(raw, options.idColumn);
+  if (dropped.has(id.index)) {
+    throw new IntakeError(422, [
+      problem(file, "drop_id_column", "the participant id column cannot be dropped", { column: id.name }),
+    ]);
+  }
+  let sessionIndex = -1;
+  if (options.sessionColumn !== null) {
+    if (options.sessionColumn !== undefined) {
+      sessionIndex = findColumn(raw, options.sessionColumn);
+      if (sessionIndex < 0) throw unknownColumnError(raw, options.sessionColumn, "the session column");
+    } else {
+      sessionIndex = findColumn(raw, "session");
+      if (dropped.has(sessionIndex)) sessionIndex = -1;
+    }
+  }
+  if (sessionIndex === id.index) sessionIndex = -1;
+  for (const name of Object.keys(options.types ?? {})) {
+    if (findColumn(raw, name) < 0) throw unknownColumnError(raw, name, "given a type");
+  }
+
+  const regionIndex = findColumn(raw, "region");
+  const valueIndex = findColumn(raw, "value");
+  const looksLong = regionIndex >= 0 && valueIndex >= 0 && !dropped.has(regionIndex) && !dropped.has(valueIndex);
+  const layout: BrainLayout = options.layout ?? (looksLong ? "long" : "wide");
+  if (layout === "long" && !looksLong) {
+    throw unknownColumnError(raw, regionIndex < 0 ? "region" : "value", "a long brain table needs region and value columns");
+  }
+
+  const profiles = raw.header.map((_, j) => profileColumn(raw, j));
+  const problems = new ProblemList();
+  const columns: BrainColumn[] = profiles.map((p) => ({ name: p.name, role: "ignored", profile: p }));
+  columns[id.index].role = "id";
+  if (sessionIndex >= 0) columns[sessionIndex].role = "session";
+  for (const j of dropped) {
+    columns[j].role = "dropped";
+    columns[j].reason = "dropped at upload";
+  }
+
+  const base = {
+    file,
+    layout,
+    idColumn: id.name,
+    idColumnGuessed: id.guessed,
+    sessionColumn: sessionIndex >= 0 ? raw.header[sessionIndex] : null,
+    seSuffix,
+  };
+
+  const result =
+    layout === "wide"
+      ? readWide(raw, options, id.index, sessionIndex, seSuffix, columns, problems)
+      : readLong(raw, options, id.index, sessionIndex, regionIndex, valueIndex, columns, problems);
+
+  const plan = { ...base, regions: result.regions, columns };
+  if (problems.count > 0 || result.entries === null) {
+    return { table: null, plan, problems: problems.list, problemCount: problems.count };
+  }
+  return {
+    table: { ...plan, entries: result.entries, values: result.values, standardErrors: result.standardErrors },
+    plan,
+    problems: [],
+    problemCount: 0,
+  };
+}
+
+interface ReadResult {
+  regions: string[];
+  entries: BrainEntry[] | null;
+  values: Float64Array[];
+  standardErrors: (Float64Array | null)[];
+}
+
+/** Reads the id (and session) of each row; reports missing ids. */
+function readKey(
+  raw: RawTable,
+  i: number,
+  idIndex: number,
+  sessionIndex: number,
+  problems: ProblemList,
+): { id: string; session: string | null } | null {
+  const row = raw.rows[i];
+  const rowNumber = raw.rowNumbers[i];
+  const id = parseCategoryCell(row[idIndex]);
+  if (id === null) {
+    problems.add(
+      problem(raw.file, "missing_id", "the participant id is missing", { row: rowNumber, column: raw.header[idIndex] }),
+    );
+    return null;
+  }
+  let session: string | null = null;
+  if (sessionIndex >= 0) {
+    session = parseCategoryCell(row[sessionIndex]);
+    if (session === null) {
+      problems.add(
+        problem(raw.file, "missing_session", "the session label is missing; every row needs one when the table has a session column", {
+          row: rowNumber,
+          column: raw.header[sessionIndex],
+        }),
+      );
+      return null;
+    }
+  }
+  return { id, session };
+}
+
+function entryText(id: string, session: string | null): string {
+  return session === null ? `participant ${quoteCell(id)}` : `participant ${quoteCell(id)} in session ${quoteCell(session)}`;
+}
+
+function readNumber(
+  raw: RawTable,
+  i: number,
+  j: number,
+  problems: ProblemList,
+  positive: boolean,
+): number {
+  const cell = raw.rows[i][j];
+  const x = parseNumberCell(cell);
+  if (x === null) return Number.NaN;
+  const where = { row: raw.rowNumbers[i], column: raw.header[j] };
+  if (x === undefined) {
+    problems.add(problem(raw.file, "not_a_number", notANumberText(cell), where));
+    return Number.NaN;
+  }
+  if (positive && !(x > 0)) {
+    problems.add(
+      problem(raw.file, "bad_standard_error", `${quoteCell(cell)} is not a valid standard error; expected a number greater than 0`, where),
+    );
+    return Number.NaN;
+  }
+  return x;
+}
+
+function readWide(
+  raw: RawTable,
+  options: BrainTableOptions,
+  idIndex: number,
+  sessionIndex: number,
+  seSuffix: string,
+  columns: BrainColumn[],
+  problems: ProblemList,
+): ReadResult {
+  const file = raw.file;
+  const free = (j: number) => columns[j].role === "ignored";
+  // Standard-error columns: name = stem + suffix where stem is another free column.
+  const seOf = new Map<number, number>();
+  const isSe = new Set<number>();
+  raw.header.forEach((name, j) => {
+    if (!free(j) || !name.endsWith(seSuffix) || name.length === seSuffix.length) return;
+    const stem = name.slice(0, -seSuffix.length);
+    const k = raw.header.indexOf(stem);
+    if (k >= 0 && free(k)) {
+      seOf.set(k, j);
+      isSe.add(j);
+    }
+  });
+
+  const regionIdx: number[] = [];
+  if (options.regions !== undefined && options.regions.length > 0) {
+    const wanted = new Set<number>();
+    for (const name of options.regions) {
+      const j = raw.header.indexOf(name);
+      if (j < 0 || !free(j) || isSe.has(j)) {
+        throw unknownColumnError(raw, name, "a region asked for");
+      }
+      if (!wanted.has(j)) regionIdx.push(j);
+      wanted.add(j);
+    }
+    raw.header.forEach((_, j) => {
+      if (free(j) && !wanted.has(j) && !isSe.has(j)) columns[j].reason = "not among the regions asked for";
+    });
+  } else {
+    raw.header.forEach((name, j) => {
+      if (!free(j) || isSe.has(j)) return;
+      const type = options.types?.[name] ?? columns[j].profile.type;
+      if (type === "number") {
+        regionIdx.push(j);
+        return;
+      }
+      const p = columns[j].profile;
+      columns[j].reason =
+        p.numbers + p.text === 0
+          ? "has no values"
+          : options.types?.[name] === "category"
+            ? "typed as a category at upload, so not a region"
+            : `not numeric (${p.text} of ${p.numbers + p.text} values are text), so not a region`;
+    });
+  }
+  const regionSet = new Set(regionIdx);
+  for (const j of isSe) {
+    const stem = raw.header[j].slice(0, -seSuffix.length);
+    const k = raw.header.indexOf(stem);
+    if (regionSet.has(k)) {
+      columns[j].role = "se";
+      columns[j].region = stem;
+    } else {
+      isSe.delete(j);
+      columns[j].reason = `standard errors of "${stem}", which is not a region here`;
+    }
+  }
+  for (const j of regionIdx) {
+    columns[j].role = "region";
+    columns[j].region = raw.header[j];
+    columns[j].reason = undefined;
+  }
+  if (regionIdx.length === 0) {
+    problems.add(
+      problem(file, "no_regions", "no region columns: a wide brain table needs at least one numeric column besides the participant id", {
+        row: 1,
+      }),
+    );
+  }
+  // A free column ending in the suffix with no region to pair with is a mistake worth reporting.
+  raw.header.forEach((name, j) => {
+    if (columns[j].role === "ignored" && name.endsWith(seSuffix) && name.length > seSuffix.length && !isSe.has(j)) {
+      const stem = name.slice(0, -seSuffix.length);
+      if (raw.header.indexOf(stem) < 0) {
+        problems.add(
+          problem(
+            file,
+            "unpaired_standard_error",
+            `looks like a standard-error column (suffix "${seSuffix}") but there is no region column named "${stem}"; rename or drop it`,
+            { row: 1, column: name },
+          ),
+        );
+      }
+    }
+  });
+
+  const regions = regionIdx.map((j) => raw.header[j]);
+  const n = raw.rows.length;
+  const values = regionIdx.map(() => new Float64Array(n));
+  const standardErrors = regionIdx.map((j) => (seOf.has(j) && isSe.has(seOf.get(j)!) ? new Float64Array(n) : null));
+  const entries: BrainEntry[] = [];
+  const seen = new Map<string, number>();
+  let keysOk = true;
+  for (let i = 0; i < n; i++) {
+    const key = readKey(raw, i, idIndex, sessionIndex, problems);
+    if (key === null) {
+      keysOk = false;
+      continue;
+    }
+    const k = `${key.id}\u0000${key.session ?? ""}`;
+    const first = seen.get(k);
+    if (first !== undefined) {
+      problems.add(
+        problem(
+          file,
+          "duplicate_participant",
+          `${entryText(key.id, key.session)} appears again (first at row ${first}); each participant${key.session === null ? "" : " and session"} must appear once`,
+          { row: raw.rowNumbers[i], column: raw.header[idIndex] },
+        ),
+      );
+      keysOk = false;
+      continue;
+    }
+    seen.set(k, raw.rowNumbers[i]);
+    const e = entries.length;
+    entries.push({ id: key.id, session: key.session, row: raw.rowNumbers[i] });
+    for (let r = 0; r < regionIdx.length; r++) {
+      values[r][e] = readNumber(raw, i, regionIdx[r], problems, false);
+      const se = standardErrors[r];
+      if (se !== null) se[e] = readNumber(raw, i, seOf.get(regionIdx[r])!, problems, true);
+    }
+  }
+  const m = entries.length;
+  return {
+    regions,
+    entries: keysOk ? entries : null,
+    values: values.map((v) => v.subarray(0, m)),
+    standardErrors: standardErrors.map((s) => (s === null ? null : s.subarray(0, m))),
+  };
+}
+
+function readLong(
+  raw: RawTable,
+  options: BrainTableOptions,
+  idIndex: number,
+  sessionIndex: number,
+  regionIndex: number,
+  valueIndex: number,
+  columns: BrainColumn[],
+  problems: ProblemList,
+): ReadResult {
+  const file = raw.file;
+  columns[regionIndex].role = "region-name";
+  columns[valueIndex].role = "value";
+  let seIndex = findColumn(raw, "se");
+  if (seIndex >= 0 && columns[seIndex].role !== "ignored") seIndex = -1;
+  if (seIndex >= 0) columns[seIndex].role = "se";
+  for (const c of columns) if (c.role === "ignored") c.reason = "not used in a long brain table";
+
+  const wanted = options.regions !== undefined && options.regions.length > 0 ? new Set(options.regions) : null;
+  const regionNumber = new Map<string, number>();
+  const entryNumber = new Map<string, number>();
+  const entries: BrainEntry[] = [];
+  const cells: { e: number; r: number; i: number }[] = [];
+  const seenCell = new Map<string, number>();
+  let keysOk = true;
+  for (let i = 0; i < raw.rows.length; i++) {
+    const key = readKey(raw, i, idIndex, sessionIndex, problems);
+    const region = parseCategoryCell(raw.rows[i][regionIndex]);
+    if (region === null) {
+      problems.add(
+        problem(file, "missing_region", "the region name is missing", { row: raw.rowNumbers[i], column: raw.header[regionIndex] }),
+      );
+      keysOk = false;
+      continue;
+    }
+    if (key === null) {
+      keysOk = false;
+      continue;
+    }
+    if (wanted !== null && !wanted.has(region)) continue;
+    const k = `${key.id}\u0000${key.session ?? ""}`;
+    const ck = `${k}\u0000${region}`;
+    const first = seenCell.get(ck);
+    if (first !== undefined) {
+      problems.add(
+        problem(
+          file,
+          "duplicate_participant",
+          `${entryText(key.id, key.session)} has region ${quoteCell(region)} again (first at row ${first}); each participant${key.session === null ? "" : " and session"} has one value per region`,
+          { row: raw.rowNumbers[i], column: raw.header[idIndex] },
+        ),
+      );
+      keysOk = false;
+      continue;
+    }
+    seenCell.set(ck, raw.rowNumbers[i]);
+    let e = entryNumber.get(k);
+    if (e === undefined) {
+      e = entries.length;
+      entryNumber.set(k, e);
+      entries.push({ id: key.id, session: key.session, row: raw.rowNumbers[i] });
+    }
+    let r = regionNumber.get(region);
+    if (r === undefined) {
+      r = regionNumber.size;
+      regionNumber.set(region, r);
+    }
+    cells.push({ e, r, i });
+  }
+  let regions = [...regionNumber.keys()];
+  if (wanted !== null) {
+    for (const name of options.regions ?? []) {
+      if (!regionNumber.has(name)) {
+        throw new IntakeError(422, [
+          problem(file, "unknown_region", `no rows for region ${quoteCell(name)} (a region asked for) in column ${raw.header[regionIndex]}`),
+        ]);
+      }
+    }
+    regions = [...new Set(options.regions)];
+  }
+  if (regions.length === 0) {
+    problems.add(problem(file, "no_regions", "no region rows: a long brain table needs at least one row with a region and a value"));
+  }
+  const order = regions.map((name) => regionNumber.get(name)!);
+  const position = new Map(order.map((r, idx) => [r, idx]));
+  const m = entries.length;
+  const values = regions.map(() => new Float64Array(m).fill(Number.NaN));
+  const standardErrors = regions.map(() => (seIndex >= 0 ? new Float64Array(m).fill(Number.NaN) : null));
+  for (const { e, r, i } of cells) {
+    const idx = position.get(r)!;
+    values[idx][e] = readNumber(raw, i, valueIndex, problems, false);
+    const se = standardErrors[idx];
+    if (se !== null) se[e] = readNumber(raw, i, seIndex, problems, true);
+  }
+  return { regions, entries: keysOk ? entries : null, values, standardErrors };
+}
+
+/** The distinct participant ids of a brain table, in order of first appearance. */
+export function brainParticipantIds(table: Pick<BrainTable, "entries">): string[] {
+  const seen = new Set<string>();
+  const ids: string[] = [];
+  for (const e of table.entries) {
+    if (!seen.has(e.id)) {
+      seen.add(e.id);
+      ids.push(e.id);
+    }
+  }
+  return ids;
+}
+
+/** The distinct session labels of a brain table in natural order ("2" before "10"), or [] without sessions. */
+export function brainSessions(table: Pick<BrainTable, "entries">): string[] {
+  const labels = new Set<string>();
+  for (const e of table.entries) if (e.session !== null) labels.add(e.session);
+  return [...labels].sort(naturalCompare);
+}
+
+/** Natural order of labels: digit runs compare as numbers ("ses-2" < "ses-10"). */
+export function naturalCompare(a: string, b: string): number {
+  return a.localeCompare(b, "en", { numeric: true, sensitivity: "variant" }) || (a < b ? -1 : a > b ? 1 : 0);
+}

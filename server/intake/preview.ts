@@ -1,0 +1,204 @@
+/**
+ * Preview before storing, and confirmation.
+ *
+ * `previewTable` reads a raw table as a brain table or a participant sheet
+ * and returns what the uploader must see before anything is stored: the
+ * first rows, each column's detected type and role, the problems found
+ * (each naming file, row and column) and the columns that look like direct
+ * identifiers. `confirmTable` applies the uploader's decisions — type
+ * changes, dropped columns, the reason for keeping each flagged identifier
+ * column — and returns the typed table, or throws IntakeError (422) when a
+ * problem remains or an identifier column is neither dropped nor explained.
+ * Cost: O(rows × columns).
+ */
+import { IntakeError, ProblemList, problem, type Problem } from "./errors";
+import { type BrainLayout, type BrainTable, analyseBrainTable, brainParticipantIds, brainSessions } from "./brain-table";
+import type { ColumnType } from "./columns";
+import { findColumn, unknownColumnError } from "./columns";
+import { type IdentifierFlag, type IdentifierKind, findIdentifierColumns } from "./identifiers";
+import { type ParticipantSheet, analyseParticipantSheet } from "./participant-sheet";
+import { type Delimiter, type RawTable, delimiterName } from "./read-table";
+
+export type TableKind = "brain" | "participants";
+
+/** Rows shown in a preview. */
+export const PREVIEW_ROWS = 20;
+
+export interface PreviewOptions {
+  idColumn?: string;
+  /** Brain tables: standard-error suffix (default `_se`). */
+  seSuffix?: string;
+  /** Brain tables: force a layout. */
+  layout?: BrainLayout;
+  /** Brain tables: session column, or null for none. */
+  sessionColumn?: string | null;
+}
+
+export interface ColumnPreview {
+  name: string;
+  type: ColumnType;
+  /** brain: id, session, region, se, region-name, value, ignored; sheet: id, variable */
+  role: string;
+  missing: number;
+  distinct: number;
+  /** Why a brain-table column is not used. */
+  note?: string;
+  identifier?: { kind: IdentifierKind; reason: string };
+}
+
+export interface TablePreview {
+  file: string;
+  kind: TableKind;
+  delimiter: Delimiter;
+  delimiterName: string;
+  rowCount: number;
+  columnCount: number;
+  idColumn: string;
+  idColumnGuessed: boolean;
+  /** Brain tables only. */
+  layout?: BrainLayout;
+  regions?: string[];
+  sessions?: string[];
+  /** Distinct participant ids (brain: across sessions). */
+  participants: number;
+  columns: ColumnPreview[];
+  /** First rows as written, with their spreadsheet row numbers. */
+  rows: { row: number; cells: string[] }[];
+  /** Problems that must be resolved (by type change or drop) before confirming. */
+  problems: Problem[];
+  problemCount: number;
+  identifierColumns: IdentifierFlag[];
+}
+
+export interface Confirmation extends PreviewOptions {
+  /** Type changes: a participant-sheet column's type; a wide brain column: number = region, category = not a region. */
+  types?: Record<string, "number" | "category">;
+  dropColumns?: string[];
+  /** For each flagged identifier column that is kept: why. */
+  identifierReasons?: Record<string, string>;
+}
+
+export interface IdentifierDecision {
+  column: string;
+  kind: IdentifierKind;
+  decision: "dropped" | "kept";
+  reason?: string;
+}
+
+export type ConfirmedTable =
+  | { kind: "brain"; brain: BrainTable; identifierDecisions: IdentifierDecision[] }
+  | { kind: "participants"; sheet: ParticipantSheet; identifierDecisions: IdentifierDecision[] };
+
+function countDistinctIds(raw: RawTable, idColumn: string): number {
+  const j = findColumn(raw, idColumn);
+  return new Set(raw.rows.map((r) => r[j].trim())).size;
+}
+
+/** The preview of `raw` read as `kind`. Throws IntakeError (422) only for a named column that does not exist. */
+export function previewTable(raw: RawTable, kind: TableKind, options: PreviewOptions = {}): TablePreview {
+  const identifiers = findIdentifierColumns(raw);
+  const flagOf = new Map(identifiers.map((f) => [f.column, f]));
+  const common = {
+    file: raw.file,
+    kind,
+    delimiter: raw.delimiter,
+    delimiterName: delimiterName(raw.delimiter),
+    rowCount: raw.rows.length,
+    columnCount: raw.header.length,
+    rows: raw.rows.slice(0, PREVIEW_ROWS).map((cells, i) => ({ row: raw.rowNumbers[i], cells: [...cells] })),
+    identifierColumns: identifiers,
+  };
+  const withFlag = (c: ColumnPreview): ColumnPreview => {
+    const f = flagOf.get(c.name);
+    return f ? { ...c, identifier: { kind: f.kind, reason: f.reason } } : c;
+  };
+  if (kind === "brain") {
+    const a = analyseBrainTable(raw, options);
+    const columns = a.plan.columns.map((c) =>
+      withFlag({
+        name: c.name,
+        type: c.role === "id" ? "id" : c.role === "region" || c.role === "se" || c.role === "value" ? "number" : c.profile.type,
+        role: c.role,
+        missing: c.profile.missing,
+        distinct: c.profile.distinct,
+        ...(c.reason ? { note: c.reason } : {}),
+      }),
+    );
+    return {
+      ...common,
+      idColumn: a.plan.idColumn,
+      idColumnGuessed: a.plan.idColumnGuessed,
+      layout: a.plan.layout,
+      regions: [...a.plan.regions],
+      sessions: a.table ? brainSessions(a.table) : [],
+      participants: a.table ? brainParticipantIds(a.table).length : countDistinctIds(raw, a.plan.idColumn),
+      columns,
+      problems: [...a.problems],
+      problemCount: a.problemCount,
+    };
+  }
+  const a = analyseParticipantSheet(raw, { idColumn: options.idColumn });
+  return {
+    ...common,
+    idColumn: a.idColumn,
+    idColumnGuessed: a.idColumnGuessed,
+    participants: countDistinctIds(raw, a.idColumn),
+    columns: a.columns.map((c) =>
+      withFlag({ name: c.name, type: c.type, role: c.role, missing: c.profile.missing, distinct: c.profile.distinct }),
+    ),
+    problems: [...a.problems],
+    problemCount: a.problemCount,
+  };
+}
+
+/**
+ * Applies the uploader's decisions and returns the typed table. Throws
+ * IntakeError (422) naming each identifier column left undecided, each
+ * named column that does not exist, and every remaining cell problem.
+ */
+export function confirmTable(raw: RawTable, kind: TableKind, confirmation: Confirmation = {}): ConfirmedTable {
+  const drop = confirmation.dropColumns ?? [];
+  for (const name of [...drop, ...Object.keys(confirmation.identifierReasons ?? {})]) {
+    if (findColumn(raw, name) < 0) throw unknownColumnError(raw, name, "named at confirmation");
+  }
+  const dropped = new Set(drop.map((name) => raw.header[findColumn(raw, name)]));
+  const reasons = new Map<string, string>();
+  for (const [name, reason] of Object.entries(confirmation.identifierReasons ?? {})) {
+    reasons.set(raw.header[findColumn(raw, name)], reason.trim());
+  }
+  const undecided = new ProblemList();
+  const decisions: IdentifierDecision[] = [];
+  for (const flag of findIdentifierColumns(raw)) {
+    if (dropped.has(flag.column)) {
+      decisions.push({ column: flag.column, kind: flag.kind, decision: "dropped" });
+    } else if ((reasons.get(flag.column) ?? "") !== "") {
+      decisions.push({ column: flag.column, kind: flag.kind, decision: "kept", reason: reasons.get(flag.column) });
+    } else {
+      undecided.add(
+        problem(
+          raw.file,
+          "identifier_undecided",
+          `may hold direct identifiers (${flag.reason}); drop the column or give a reason to keep it`,
+          { column: flag.column },
+        ),
+      );
+    }
+  }
+  undecided.throwIfAny(422);
+
+  if (kind === "brain") {
+    const a = analyseBrainTable(raw, {
+      idColumn: confirmation.idColumn,
+      seSuffix: confirmation.seSuffix,
+      layout: confirmation.layout,
+      sessionColumn: confirmation.sessionColumn,
+      dropColumns: drop,
+      types: confirmation.types,
+    });
+    if (a.table === null) throw new IntakeError(422, a.problems, a.problemCount);
+    return { kind, brain: a.table, identifierDecisions: decisions };
+  }
+  const a = analyseParticipantSheet(raw, { idColumn: confirmation.idColumn, dropColumns: drop, types: confirmation.types });
+  if (a.sheet === null) throw new IntakeError(422, a.problems, a.problemCount);
+  return { kind, sheet: a.sheet, identifierDecisions: decisions };
+}
