@@ -1,0 +1,159 @@
+/**
+ * Per-participant regression diagnostics for an ordinary least-squares fit
+ * (Belsley, Kuh & Welsch 1980, "Regression Diagnostics", ch. 2; Cook &
+ * Weisberg 1982, "Residuals and Influence in Regression", §2.2–3.5):
+ *
+ * - leverage h_i, the diagonal of the hat matrix;
+ * - internally studentized residual r_i = e_i / (s√(1 − h_i));
+ * - externally studentized residual t_i = e_i / (s_(i)√(1 − h_i)) with
+ *   s_(i)² = (RSS − e_i²/(1 − h_i)) / (n − p − 1);
+ * - Cook's distance D_i = r_i² h_i / (p(1 − h_i));
+ * - DFFITS_i = t_i √(h_i/(1 − h_i));
+ * - DFBETAS_ij = [(XᵀX)⁻¹x_i]_j e_i/(1 − h_i) / (s_(i)√[(XᵀX)⁻¹]_jj);
+ * - Mahalanobis distance (squared) of participant i's predictor values from
+ *   their mean, D²_i = (n − 1)(h_i − 1/n), which holds for a design with an
+ *   intercept (Belsley, Kuh & Welsch 1980, eq. 2.15);
+ * - variance inflation factor per column, VIF_j = 1/(1 − R_j²) =
+ *   [(XᵀX)⁻¹]_jj · Σ(x_ij − x̄_j)² (Marquardt 1970).
+ *
+ * A participant with leverage 1 (for example the only member of a category
+ * level) is reported with leverage 1 and null studentized residuals, Cook's
+ * distance, DFFITS and DFBETAS: these are undefined there, and no NaN or
+ * Infinity is ever returned.
+ *
+ * Flags:
+ * - outlier: Bonferroni outlier test, |t_i| > t_{1 − 0.05/(2n), n − p − 1}
+ *   (Cook & Weisberg 1982, §2.2.2; Weisberg 2005, "Applied Linear
+ *   Regression", §9.4.2);
+ * - leverage: h_i > 2p/n (Hoaglin & Welsch 1978, Am. Stat. 32:17–22), or h_i = 1;
+ * - influence: D_i > 4/n (Bollen & Jackman 1990, in "Modern Methods of Data
+ *   Analysis", p. 266).
+ */
+import type { Flag } from "../model/spec";
+import { studentTQuantile } from "./distributions";
+import type { LinearModelFit, QrDecomposition } from "./linear-model";
+
+/** Leverage within this distance of 1 counts as 1. */
+export const LEVERAGE_ONE_TOLERANCE = 1e-8;
+
+export interface DiagnosticRow {
+  leverage: number;
+  internalStudentized: number | null;
+  externalStudentized: number | null;
+  cooksDistance: number | null;
+  dffits: number | null;
+  /** One value per design column; null where undefined. */
+  dfbetas: (number | null)[] | null;
+  /** Squared Mahalanobis distance of the predictor values (designs with an intercept). */
+  mahalanobis: number | null;
+  flags: Flag[];
+}
+
+export interface DiagnosticsResult {
+  rows: DiagnosticRow[];
+  /** VIF for every non-intercept column (null when the design has no intercept or only one other column). */
+  vif: { column: string; value: number | null }[];
+  thresholds: { outlierT: number | null; leverage: number; cooksDistance: number };
+}
+
+const finiteOrNull = (v: number): number | null => (Number.isFinite(v) ? v : null);
+
+/**
+ * Diagnostics for every row of a fit. `interceptColumn` is the index of the
+ * constant column, or -1 when there is none. Cost O(n·p²).
+ */
+export function regressionDiagnostics(
+  qr: QrDecomposition,
+  fit: LinearModelFit,
+  options: { interceptColumn: number; alpha?: number },
+): DiagnosticsResult {
+  const { n, p, hat, q, rInverse } = qr;
+  const { interceptColumn, alpha = 0.05 } = options;
+  const df = n - p;
+  const rss = fit.rss;
+  const s = df > 0 ? Math.sqrt(rss / df) : 0;
+  const leverageCut = (2 * p) / n;
+  const cookCut = 4 / n;
+  const outlierT = df - 1 > 0 ? studentTQuantile(1 - alpha / (2 * n), df - 1) : null;
+  // diag of (XᵀX)⁻¹
+  const cDiag = new Float64Array(p);
+  for (let j = 0; j < p; j++) {
+    let acc = 0;
+    for (let k = j; k < p; k++) acc += rInverse[j * p + k] * rInverse[j * p + k];
+    cDiag[j] = acc;
+  }
+  const rows: DiagnosticRow[] = [];
+  const qi = new Float64Array(p);
+  for (let i = 0; i < n; i++) {
+    const h = hat[i];
+    const one = h > 1 - LEVERAGE_ONE_TOLERANCE;
+    const e = fit.residuals[i];
+    const flags: Flag[] = [];
+    let internal: number | null = null;
+    let external: number | null = null;
+    let cook: number | null = null;
+    let dffits: number | null = null;
+    let dfbetas: (number | null)[] | null = null;
+    if (!one && df > 0 && s > 0) {
+      const oneMinusH = 1 - h;
+      internal = finiteOrNull(e / (s * Math.sqrt(oneMinusH)));
+      if (internal !== null) cook = finiteOrNull((internal * internal * h) / (p * oneMinusH));
+      if (df - 1 > 0) {
+        const sDel2 = (rss - (e * e) / oneMinusH) / (df - 1);
+        if (sDel2 > rss * 1e-14 && sDel2 > 0) {
+          const sDel = Math.sqrt(sDel2);
+          external = finiteOrNull(e / (sDel * Math.sqrt(oneMinusH)));
+          if (external !== null) dffits = finiteOrNull(external * Math.sqrt(h / oneMinusH));
+          // (XᵀX)⁻¹x_i = R⁻¹ q_i, q_i the i-th row of thin Q
+          for (let j = 0; j < p; j++) qi[j] = q[j * n + i];
+          dfbetas = [];
+          for (let j = 0; j < p; j++) {
+            let acc = 0;
+            for (let k = j; k < p; k++) acc += rInverse[j * p + k] * qi[k];
+            dfbetas.push(finiteOrNull((acc * e) / oneMinusH / (sDel * Math.sqrt(cDiag[j]))));
+          }
+        }
+      }
+    }
+    if (outlierT !== null && external !== null && Math.abs(external) > outlierT) flags.push("outlier");
+    if (one || h > leverageCut) flags.push("leverage");
+    if (cook !== null && cook > cookCut) flags.push("influence");
+    let mahalanobis: number | null = null;
+    if (interceptColumn >= 0 && p > 1) mahalanobis = Math.max(0, (n - 1) * ((one ? 1 : h) - 1 / n));
+    rows.push({
+      leverage: one ? 1 : h,
+      internalStudentized: internal,
+      externalStudentized: external,
+      cooksDistance: cook,
+      dffits,
+      dfbetas,
+      mahalanobis,
+      flags,
+    });
+  }
+  return { rows, vif: varianceInflation(qr, interceptColumn, cDiag), thresholds: { outlierT, leverage: leverageCut, cooksDistance: cookCut } };
+}
+
+function varianceInflation(qr: QrDecomposition, interceptColumn: number, cDiag: Float64Array): DiagnosticsResult["vif"] {
+  const { n, p, q, r } = qr;
+  const out: DiagnosticsResult["vif"] = [];
+  for (let j = 0; j < p; j++) {
+    if (j === interceptColumn) continue;
+    if (interceptColumn < 0 || p < 3) {
+      out.push({ column: qr.columnNames[j], value: interceptColumn < 0 ? null : 1 });
+      continue;
+    }
+    // column j of X = Q·R[:, j]; its centred sum of squares
+    let sum = 0;
+    let sumSq = 0;
+    for (let i = 0; i < n; i++) {
+      let xij = 0;
+      for (let k = 0; k <= j; k++) xij += q[k * n + i] * r[k * p + j];
+      sum += xij;
+      sumSq += xij * xij;
+    }
+    const tss = sumSq - (sum * sum) / n;
+    out.push({ column: qr.columnNames[j], value: finiteOrNull(cDiag[j] * tss) });
+  }
+  return out;
+}
