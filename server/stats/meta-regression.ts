@@ -1,0 +1,381 @@
+/**
+ * Weighting by first-level standard errors: a random-effects (mixed-effects)
+ * weighted linear model per region, as in meta-regression.
+ *
+ * Each participant's contrast value y_i is itself an estimate with a
+ * first-level standard error se_i. The model is
+ *
+ *   y_i = x_i'β + u_i + e_i,   u_i ~ N(0, τ²),   e_i ~ N(0, se_i²),
+ *
+ * so participant i gets weight w_i = 1 / (se_i² + τ²): τ² is the variance of
+ * true differences between participants that the design does not explain
+ * (residual heterogeneity), se_i² their measurement noise.
+ */
+import { StatsError } from "./errors";
+import { normalCdf, normalQuantile, studentTQuantile, studentTTwoSided } from "./measurement-distributions";
+
+export type Tau2Method = "dl" | "reml";
+export type SmallSampleAdjustment = "none" | "knapp-hartung";
+
+export interface WeightedLinearModelInput {
+  /** Contrast value per participant (n values). */
+  y: ArrayLike<number>;
+  /** First-level standard error per participant (n values, each finite and > 0). */
+  se: ArrayLike<number>;
+  /** Design matrix, n rows × p columns including the intercept column. */
+  X: ArrayLike<ArrayLike<number>>;
+  /** Column of X whose coefficient is reported as the estimate. */
+  tested: number;
+  tau2Method: Tau2Method;
+  smallSample: SmallSampleAdjustment;
+  /** Confidence level of the interval, default 0.95. */
+  level?: number;
+  /** Optional participant ids, used only to name a participant in error messages. */
+  participants?: readonly string[];
+}
+
+export interface WeightedLinearModelResult {
+  /** Coefficient of the tested column. */
+  estimate: number;
+  se: number;
+  /** z (smallSample "none") or t (Knapp–Hartung) statistic. */
+  statistic: number;
+  /** n − p with Knapp–Hartung, otherwise null (normal reference). */
+  df: number | null;
+  /** Two-sided p-value. */
+  p: number;
+  ciLow: number;
+  ciHigh: number;
+  /** Residual between-participant variance τ² (truncated at 0). */
+  tau2: number;
+  /** Standard error of τ²: REML from the expected information; DL from the variance of the Q statistic. */
+  tau2Se: number | null;
+  /** Residual I² as a fraction in [0, 1] (Higgins & Thompson 2002, typical within-participant variance). */
+  i2: number;
+  /** Share of residual variance that is measurement noise: mean(se²) / (mean(se²) + τ²). */
+  noiseShare: number;
+  /** Share of residual variance that is true between-participant difference: τ² / (mean(se²) + τ²). */
+  trueShare: number;
+  /** All p coefficients, in the column order of X. */
+  coefficients: number[];
+}
+
+/** REML iteration limits (Fisher scoring). */
+const REML_MAX_ITERATIONS = 200;
+const REML_TOLERANCE = 1e-10;
+
+interface WeightedFit {
+  beta: Float64Array;
+  /** (X'WX)⁻¹, p × p row-major. */
+  inverse: Float64Array;
+  /** Weighted residual sum of squares Σ w_i (y_i − x_i'β)². */
+  rss: number;
+  /** tr(P) with P = W − WX(X'WX)⁻¹X'W. */
+  traceP: number;
+  /** tr(PP). */
+  tracePP: number;
+  /** y'PPy = Σ (w_i e_i)². */
+  yPPy: number;
+}
+
+/**
+ * Inverts a symmetric positive-definite p × p matrix (row-major) by Cholesky
+ * factorisation. Returns null when the matrix is not positive definite to
+ * working precision (rank-deficient design).
+ */
+function invertSpd(a: Float64Array, p: number): Float64Array | null {
+  const l = new Float64Array(p * p);
+  let maxDiag = 0;
+  for (let i = 0; i < p; i++) maxDiag = Math.max(maxDiag, a[i * p + i]);
+  for (let j = 0; j < p; j++) {
+    let sum = a[j * p + j];
+    for (let k = 0; k < j; k++) sum -= l[j * p + k] * l[j * p + k];
+    if (!(sum > 1e-12 * maxDiag)) return null;
+    const ljj = Math.sqrt(sum);
+    l[j * p + j] = ljj;
+    for (let i = j + 1; i < p; i++) {
+      let s = a[i * p + j];
+      for (let k = 0; k < j; k++) s -= l[i * p + k] * l[j * p + k];
+      l[i * p + j] = s / ljj;
+    }
+  }
+  // Inverse of L (lower triangular), then A⁻¹ = L⁻ᵀ L⁻¹.
+  const li = new Float64Array(p * p);
+  for (let j = 0; j < p; j++) {
+    li[j * p + j] = 1 / l[j * p + j];
+    for (let i = j + 1; i < p; i++) {
+      let s = 0;
+      for (let k = j; k < i; k++) s -= l[i * p + k] * li[k * p + j];
+      li[i * p + j] = s / l[i * p + i];
+    }
+  }
+  const inv = new Float64Array(p * p);
+  for (let i = 0; i < p; i++) {
+    for (let j = 0; j <= i; j++) {
+      let s = 0;
+      for (let k = i; k < p; k++) s += li[k * p + i] * li[k * p + j];
+      inv[i * p + j] = s;
+      inv[j * p + i] = s;
+    }
+  }
+  return inv;
+}
+
+/**
+ * Weighted least squares with weights w_i = 1/(v_i + τ²), plus the traces the
+ * τ² estimators need. x is n × p row-major. Cost O(n p²).
+ */
+function weightedFit(y: Float64Array, v: Float64Array, x: Float64Array, n: number, p: number, tau2: number): WeightedFit | null {
+  const a = new Float64Array(p * p);
+  const b = new Float64Array(p * p);
+  const xwy = new Float64Array(p);
+  const w = new Float64Array(n);
+  let sumW = 0;
+  let sumW2 = 0;
+  for (let i = 0; i < n; i++) {
+    const wi = 1 / (v[i] + tau2);
+    w[i] = wi;
+    sumW += wi;
+    sumW2 += wi * wi;
+    const row = i * p;
+    for (let r = 0; r < p; r++) {
+      const xr = x[row + r];
+      xwy[r] += wi * xr * y[i];
+      for (let c = 0; c <= r; c++) {
+        const prod = xr * x[row + c];
+        a[r * p + c] += wi * prod;
+        b[r * p + c] += wi * wi * prod;
+      }
+    }
+  }
+  for (let r = 0; r < p; r++) {
+    for (let c = 0; c < r; c++) {
+      a[c * p + r] = a[r * p + c];
+      b[c * p + r] = b[r * p + c];
+    }
+  }
+  const inverse = invertSpd(a, p);
+  if (inverse === null) return null;
+  const beta = new Float64Array(p);
+  for (let r = 0; r < p; r++) {
+    let s = 0;
+    for (let c = 0; c < p; c++) s += inverse[r * p + c] * xwy[c];
+    beta[r] = s;
+  }
+  let rss = 0;
+  let yPPy = 0;
+  let sumW2H = 0;
+  let sumW3H = 0;
+  for (let i = 0; i < n; i++) {
+    const row = i * p;
+    let fitted = 0;
+    let h = 0;
+    for (let r = 0; r < p; r++) {
+      fitted += x[row + r] * beta[r];
+      let s = 0;
+      for (let c = 0; c < p; c++) s += inverse[r * p + c] * x[row + c];
+      h += x[row + r] * s;
+    }
+    const e = y[i] - fitted;
+    const wi = w[i];
+    rss += wi * e * e;
+    yPPy += wi * wi * e * e;
+    sumW2H += wi * wi * h;
+    sumW3H += wi * wi * wi * h;
+  }
+  // tr((A⁻¹B)²) for the last term of tr(PP).
+  const m = new Float64Array(p * p);
+  for (let r = 0; r < p; r++) {
+    for (let c = 0; c < p; c++) {
+      let s = 0;
+      for (let k = 0; k < p; k++) s += inverse[r * p + k] * b[k * p + c];
+      m[r * p + c] = s;
+    }
+  }
+  let traceM2 = 0;
+  for (let r = 0; r < p; r++) for (let c = 0; c < p; c++) traceM2 += m[r * p + c] * m[c * p + r];
+  return {
+    beta,
+    inverse,
+    rss,
+    traceP: sumW - sumW2H,
+    tracePP: sumW2 - 2 * sumW3H + traceM2,
+    yPPy,
+  };
+}
+
+function who(i: number, participants: readonly string[] | undefined): string {
+  const id = participants?.[i];
+  return id !== undefined ? `participant ${id} (row ${i + 1})` : `row ${i + 1}`;
+}
+
+/**
+ * Random-effects weighted linear model (mixed-effects meta-regression) with
+ * weights 1/(se_i² + τ²), for one region.
+ *
+ * - τ² by DerSimonian–Laird, the method of moments generalised to
+ *   meta-regression (DerSimonian & Laird 1986, Controlled Clinical Trials
+ *   7:177–188; Raudenbush 2009, in The Handbook of Research Synthesis and
+ *   Meta-Analysis, 2nd ed., ch. 16): τ² = max(0, (Q_E − (n − p)) / tr(P)),
+ *   Q_E the residual Q of the fixed-effect fit, P = W − WX(X'WX)⁻¹X'W with
+ *   W = diag(1/se²). Its standard error uses Var(Q_E) = 2(n − p) + 4τ²tr(P)
+ *   + 2τ⁴tr(PP), exact for a normal quadratic form (Biggerstaff & Tweedie
+ *   1997, Statistics in Medicine 16:753–768, for the intercept-only case).
+ * - τ² by restricted maximum likelihood, Fisher scoring (Viechtbauer 2005,
+ *   Journal of Educational and Behavioral Statistics 30:261–293):
+ *   τ² ← τ² + (y'PPy − tr(P)) / tr(PP) with P at the current τ², truncated
+ *   at 0, started from the DL value. Convergence rule: stop when the change
+ *   in τ² is below 1e-10 · max(1, τ²); at most 200 iterations (StatsError
+ *   otherwise). Standard error √(2 / tr(PP)) from the expected information.
+ * - Coefficients by weighted least squares with the final weights; their
+ *   covariance (X'WX)⁻¹; z test and normal interval.
+ * - Knapp–Hartung adjustment (Knapp & Hartung 2003, Statistics in Medicine
+ *   22:2693–2710): covariance multiplied by s² = Σ w_i e_i² / (n − p), t test
+ *   and interval on n − p degrees of freedom. s² is NOT truncated at 1 (the
+ *   default of the documented general-purpose meta-analysis implementation,
+ *   Viechtbauer 2010, Journal of Statistical Software 36(3)), so the
+ *   adjusted standard error can be smaller than the unadjusted one when the
+ *   residuals are more homogeneous than their standard errors imply.
+ * - I² = τ² / (τ² + s̃²) with the typical within-participant variance
+ *   s̃² = (n − p) / tr(P) (Higgins & Thompson 2002, Statistics in Medicine
+ *   21:1539–1558; residual form for meta-regression). With DL and an
+ *   intercept-only model this equals (Q − (n − 1)) / Q.
+ * - noiseShare / trueShare split the expected residual variance of a
+ *   participant, mean(se²) + τ², into measurement noise and true differences.
+ *
+ * Cost: O(n p²) per fit; REML repeats it once per iteration (typically < 15).
+ *
+ * Preconditions: n > p; every y finite; every se finite and > 0; every X row
+ * of length p with finite entries and X of full column rank; 0 ≤ tested < p;
+ * 0 < level < 1. Throws StatsError naming the row (and participant id when
+ * `participants` is given) otherwise.
+ */
+export function weightedLinearModel(input: WeightedLinearModelInput): WeightedLinearModelResult {
+  const { tested, tau2Method, smallSample, participants } = input;
+  const level = input.level ?? 0.95;
+  const n = input.y.length;
+  if (!(level > 0 && level < 1)) throw new StatsError(`weightedLinearModel requires a confidence level between 0 and 1 (got ${level})`);
+  if (tau2Method !== "dl" && tau2Method !== "reml") throw new StatsError(`weightedLinearModel requires tau2Method "dl" or "reml" (got ${String(tau2Method)})`);
+  if (smallSample !== "none" && smallSample !== "knapp-hartung") {
+    throw new StatsError(`weightedLinearModel requires smallSample "none" or "knapp-hartung" (got ${String(smallSample)})`);
+  }
+  if (input.se.length !== n) throw new StatsError(`weightedLinearModel requires one standard error per participant (${n} values, ${input.se.length} standard errors)`);
+  if (input.X.length !== n) throw new StatsError(`weightedLinearModel requires one design row per participant (${n} values, ${input.X.length} rows)`);
+  if (participants !== undefined && participants.length !== n) {
+    throw new StatsError(`weightedLinearModel requires one participant id per value (${n} values, ${participants.length} ids)`);
+  }
+  const p = n > 0 ? input.X[0].length : 0;
+  if (p < 1) throw new StatsError("weightedLinearModel requires at least one design column");
+  if (!(Number.isInteger(tested) && tested >= 0 && tested < p)) {
+    throw new StatsError(`weightedLinearModel requires the tested column to be one of the ${p} design columns (got ${tested})`);
+  }
+  if (n <= p) throw new StatsError(`weightedLinearModel requires more participants than design columns (${n} participants, ${p} columns)`);
+
+  const y = new Float64Array(n);
+  const v = new Float64Array(n);
+  const x = new Float64Array(n * p);
+  let sumV = 0;
+  for (let i = 0; i < n; i++) {
+    const yi = input.y[i];
+    if (typeof yi !== "number" || !Number.isFinite(yi)) {
+      throw new StatsError(`weightedLinearModel requires a finite value for every participant (${who(i, participants)} has ${String(yi)})`);
+    }
+    const si = input.se[i];
+    if (typeof si !== "number" || !Number.isFinite(si) || !(si > 0)) {
+      throw new StatsError(`weightedLinearModel requires a positive standard error for every participant (${who(i, participants)} has ${String(si)})`);
+    }
+    const row = input.X[i];
+    if (row.length !== p) throw new StatsError(`weightedLinearModel requires ${p} design columns in every row (${who(i, participants)} has ${row.length})`);
+    for (let c = 0; c < p; c++) {
+      const xc = row[c];
+      if (typeof xc !== "number" || !Number.isFinite(xc)) {
+        throw new StatsError(`weightedLinearModel requires finite design values (${who(i, participants)}, column ${c + 1} has ${String(xc)})`);
+      }
+      x[i * p + c] = xc;
+    }
+    y[i] = yi;
+    v[i] = si * si;
+    sumV += si * si;
+  }
+  const dfResidual = n - p;
+
+  // Fixed-effect fit (τ² = 0): Q_E, tr(P), tr(PP) for DL, I² and the DL standard error.
+  const fixed = weightedFit(y, v, x, n, p, 0);
+  if (fixed === null) throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
+  const tau2Dl = Math.max(0, (fixed.rss - dfResidual) / fixed.traceP);
+
+  let tau2: number;
+  let tau2Se: number;
+  let final: WeightedFit;
+  if (tau2Method === "dl") {
+    tau2 = tau2Dl;
+    const varQ = 2 * dfResidual + 4 * tau2 * fixed.traceP + 2 * tau2 * tau2 * fixed.tracePP;
+    tau2Se = Math.sqrt(varQ) / fixed.traceP;
+    const fit = weightedFit(y, v, x, n, p, tau2);
+    if (fit === null) throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
+    final = fit;
+  } else {
+    tau2 = tau2Dl;
+    let converged = false;
+    let fit: WeightedFit | null = null;
+    for (let iter = 0; iter < REML_MAX_ITERATIONS; iter++) {
+      fit = weightedFit(y, v, x, n, p, tau2);
+      if (fit === null) throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
+      const step = (fit.yPPy - fit.traceP) / fit.tracePP;
+      const next = Math.max(0, tau2 + step);
+      const change = Math.abs(next - tau2);
+      tau2 = next;
+      if (change <= REML_TOLERANCE * Math.max(1, tau2)) {
+        converged = true;
+        break;
+      }
+    }
+    if (!converged) throw new StatsError(`weightedLinearModel REML estimate of tau2 did not converge in ${REML_MAX_ITERATIONS} iterations`);
+    const last = weightedFit(y, v, x, n, p, tau2);
+    if (last === null) throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
+    final = last;
+    tau2Se = Math.sqrt(2 / final.tracePP);
+  }
+
+  const estimate = final.beta[tested];
+  let variance = final.inverse[tested * p + tested];
+  let df: number | null = null;
+  let statistic: number;
+  let pValue: number;
+  let half: number;
+  if (smallSample === "knapp-hartung") {
+    const s2 = final.rss / dfResidual;
+    variance *= s2;
+    df = dfResidual;
+  }
+  const se = Math.sqrt(variance);
+  if (!(se > 0)) throw new StatsError("weightedLinearModel requires residual variation for the Knapp-Hartung adjustment (the residuals are all zero)");
+  statistic = estimate / se;
+  if (df === null) {
+    pValue = 2 * normalCdf(-Math.abs(statistic));
+    half = normalQuantile(0.5 + level / 2) * se;
+  } else {
+    pValue = studentTTwoSided(statistic, df);
+    half = studentTQuantile(0.5 + level / 2, df) * se;
+  }
+
+  const typicalV = dfResidual / fixed.traceP;
+  const i2 = tau2 / (tau2 + typicalV);
+  const meanV = sumV / n;
+  const noiseShare = meanV / (meanV + tau2);
+  return {
+    estimate,
+    se,
+    statistic,
+    df,
+    p: pValue,
+    ciLow: estimate - half,
+    ciHigh: estimate + half,
+    tau2,
+    tau2Se,
+    i2,
+    noiseShare,
+    trueShare: 1 - noiseShare,
+    coefficients: Array.from(final.beta),
+  };
+}
