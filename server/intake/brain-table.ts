@@ -290,6 +290,9 @@ function readWide(
   } else {
     raw.header.forEach((name, j) => {
       if (!free(j) || isSe.has(j)) return;
+      if (name.endsWith(seSuffix) && name.length > seSuffix.length && options.types?.[name] !== "number") {
+        return; // unpaired standard-error column: reported below
+      }
       const type = options.types?.[name] ?? columns[j].profile.type;
       if (type === "number") {
         regionIdx.push(j);

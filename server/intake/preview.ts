@@ -117,7 +117,14 @@ export function previewTable(raw: RawTable, kind: TableKind, options: PreviewOpt
     const columns = a.plan.columns.map((c) =>
       withFlag({
         name: c.name,
-        type: c.role === "id" ? "id" : c.role === "region" || c.role === "se" || c.role === "value" ? "number" : c.profile.type,
+        type:
+          c.role === "id"
+            ? "id"
+            : c.role === "region" || c.role === "se" || c.role === "value"
+              ? "number"
+              : c.role === "session" || c.role === "region-name"
+                ? "category"
+                : c.profile.type,
         role: c.role,
         missing: c.profile.missing,
         distinct: c.profile.distinct,
