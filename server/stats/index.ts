@@ -25,3 +25,7 @@ export * from "./robust-regression";
 export * from "./robust-correlation";
 export * from "./corrections";
 export * from "./compare-correlations";
+export * from "./meta-regression";
+export * from "./icc";
+export * from "./attenuation";
+export * from "./power";
