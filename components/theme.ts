@@ -91,3 +91,51 @@ export const wideBreakpoint = 900;
 
 /** Largest width of the reading column on a wide screen. */
 export const contentMaxWidth = 1200;
+
+/**
+ * Plot and table sizes (px at one SVG unit per CSS pixel) and the plot
+ * colours that are not data marks. Plots keep text at 11 px or more and give
+ * every pressable mark a hit area of at least 24 px.
+ */
+export const chart = {
+  tickText: 11,
+  labelText: 12,
+  titleText: 12,
+  markRadius: 4.5,
+  /** Radius of the invisible circle that takes a press (diameter ≥ 24 px). */
+  hitRadius: 13,
+  focusRadius: 9,
+  strokeWidth: 1.5,
+  /** Height of one region row in the forest plot. */
+  forestRowHeight: 30,
+  /** Width an SVG is laid out at before its real width is known. */
+  defaultWidth: 360,
+  minWidth: 280,
+  maxWidth: 960,
+  axis: palette.muted,
+  grid: palette.line,
+  zero: palette.inkSoft,
+  text: palette.inkSoft,
+  selectedRow: palette.accentSoft,
+  focus: palette.focus,
+  reference: palette.accent,
+  contour: palette.muted,
+  bar: palette.lineStrong,
+  barExtreme: marks.skyBlue,
+  observed: marks.vermillion,
+  curve: marks.blue,
+  estimate: palette.ink,
+} as const;
+
+/** Data table sizes: one line per row, tap-sized rows. */
+export const table = {
+  rowHeight: 44,
+  headerHeight: 44,
+  pinnedWidth: 128,
+  cellWidth: 112,
+  cellPaddingX: 12,
+  stripe: palette.canvas,
+  selected: palette.accentSoft,
+  border: palette.line,
+  header: palette.canvasDeep,
+} as const;
