@@ -1,0 +1,166 @@
+/**
+ * Covarion's database schema: the source of truth for tables and row types.
+ *
+ * The first four tables are the ones the Auth.js Drizzle adapter works on;
+ * their TypeScript property names are the adapter's own (`emailVerified`,
+ * `sessionToken`, `userId`, `providerAccountId`, …) while SQL names are
+ * snake_case. Then studies, memberships, invitations and the append-only
+ * audit trail (a trigger added in a hand-written migration refuses UPDATE
+ * and DELETE on `audit_events`).
+ *
+ * Migrations are generated from this file with `npm run db:generate` and
+ * committed under db/migrations.
+ */
+import { sql } from "drizzle-orm";
+import { boolean, check, index, integer, jsonb, pgTable, primaryKey, text, timestamp, uniqueIndex } from "drizzle-orm/pg-core";
+
+export const roles = ["owner", "analyst", "reviewer", "viewer"] as const;
+export type Role = (typeof roles)[number];
+
+const id = () =>
+  text("id")
+    .primaryKey()
+    .$defaultFn(() => crypto.randomUUID());
+const createdAt = () => timestamp("created_at", { mode: "date", withTimezone: true }).notNull().defaultNow();
+
+export const users = pgTable("users", {
+  id: id(),
+  name: text("name"),
+  email: text("email").unique(),
+  emailVerified: timestamp("email_verified", { mode: "date", withTimezone: true }),
+  image: text("image"),
+  createdAt: createdAt(),
+});
+
+export const accounts = pgTable(
+  "accounts",
+  {
+    userId: text("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    type: text("type").$type<"oauth" | "oidc" | "email" | "webauthn">().notNull(),
+    provider: text("provider").notNull(),
+    providerAccountId: text("provider_account_id").notNull(),
+    refresh_token: text("refresh_token"),
+    access_token: text("access_token"),
+    expires_at: integer("expires_at"),
+    token_type: text("token_type"),
+    scope: text("scope"),
+    id_token: text("id_token"),
+    session_state: text("session_state"),
+  },
+  (t) => [primaryKey({ columns: [t.provider, t.providerAccountId] })],
+);
+
+export const sessions = pgTable(
+  "sessions",
+  {
+    sessionToken: text("session_token").primaryKey(),
+    userId: text("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    expires: timestamp("expires", { mode: "date", withTimezone: true }).notNull(),
+  },
+  (t) => [index("sessions_user_idx").on(t.userId)],
+);
+
+export const verificationTokens = pgTable(
+  "verification_tokens",
+  {
+    identifier: text("identifier").notNull(),
+    token: text("token").notNull(),
+    expires: timestamp("expires", { mode: "date", withTimezone: true }).notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.identifier, t.token] })],
+);
+
+export const studies = pgTable("studies", {
+  id: id(),
+  name: text("name").notNull(),
+  description: text("description").notNull().default(""),
+  /** When true, Viewers do not see participant-level rows. */
+  restricted: boolean("restricted").notNull().default(false),
+  createdBy: text("created_by").references(() => users.id),
+  createdAt: createdAt(),
+  updatedAt: timestamp("updated_at", { mode: "date", withTimezone: true }).notNull().defaultNow(),
+  /** Soft delete: the row and its audit trail stay; the study disappears from every route. */
+  deletedAt: timestamp("deleted_at", { mode: "date", withTimezone: true }),
+  deletedBy: text("deleted_by").references(() => users.id),
+});
+
+export const memberships = pgTable(
+  "memberships",
+  {
+    studyId: text("study_id")
+      .notNull()
+      .references(() => studies.id),
+    userId: text("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    role: text("role").$type<Role>().notNull(),
+    createdAt: createdAt(),
+  },
+  (t) => [
+    primaryKey({ columns: [t.studyId, t.userId] }),
+    index("memberships_user_idx").on(t.userId),
+    check("memberships_role_check", sql`${t.role} in ('owner', 'analyst', 'reviewer', 'viewer')`),
+  ],
+);
+
+export const invitations = pgTable(
+  "invitations",
+  {
+    id: id(),
+    studyId: text("study_id")
+      .notNull()
+      .references(() => studies.id),
+    /** Invited address, lower-cased. */
+    email: text("email").notNull(),
+    role: text("role").$type<Role>().notNull(),
+    /** SHA-256 of the single-use token; the token itself is only in the e-mail. */
+    tokenHash: text("token_hash").notNull(),
+    invitedBy: text("invited_by")
+      .notNull()
+      .references(() => users.id),
+    createdAt: createdAt(),
+    expiresAt: timestamp("expires_at", { mode: "date", withTimezone: true }).notNull(),
+    acceptedAt: timestamp("accepted_at", { mode: "date", withTimezone: true }),
+    acceptedBy: text("accepted_by").references(() => users.id),
+    revokedAt: timestamp("revoked_at", { mode: "date", withTimezone: true }),
+    revokedBy: text("revoked_by").references(() => users.id),
+  },
+  (t) => [
+    uniqueIndex("invitations_token_hash_idx").on(t.tokenHash),
+    index("invitations_study_idx").on(t.studyId),
+    check("invitations_role_check", sql`${t.role} in ('owner', 'analyst', 'reviewer', 'viewer')`),
+  ],
+);
+
+/**
+ * The audit trail: who did what, when, in which study, to which target, with
+ * the state before and after where it applies. Append-only (enforced by a
+ * trigger); written in the same transaction as the change it records.
+ */
+export const auditEvents = pgTable(
+  "audit_events",
+  {
+    id: id(),
+    /** Monotonic order within one database, for stable newest-first lists. */
+    seq: integer("seq").generatedAlwaysAsIdentity(),
+    studyId: text("study_id").references(() => studies.id),
+    actorId: text("actor_id").references(() => users.id),
+    kind: text("kind").notNull(),
+    targetType: text("target_type"),
+    targetId: text("target_id"),
+    before: jsonb("before"),
+    after: jsonb("after"),
+    at: timestamp("at", { mode: "date", withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index("audit_events_study_idx").on(t.studyId, t.seq)],
+);
+
+export type User = typeof users.$inferSelect;
+export type Study = typeof studies.$inferSelect;
+export type Membership = typeof memberships.$inferSelect;
+export type Invitation = typeof invitations.$inferSelect;
+export type AuditEvent = typeof auditEvents.$inferSelect;

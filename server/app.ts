@@ -1,0 +1,123 @@
+/**
+ * Builds Covarion's Express app from its dependencies (supertest imports
+ * this; server/index.ts listens). Order matters:
+ *
+ * 1. security headers (helmet, with a CSP the exported web app runs under),
+ *    compression, the same-origin check for state-changing /api requests;
+ * 2. the rate limit on sign-in e-mail requests, then Auth.js at /api/auth
+ *    (before the JSON parser: it reads its own bodies);
+ * 3. the JSON parser (size-limited), the session lookup, one router per
+ *    resource under /api, 404 JSON for unknown /api paths;
+ * 4. the exported web build for every other GET;
+ * 5. the one error middleware.
+ */
+import { readFileSync } from "node:fs";
+import { dirname, join } from "node:path";
+import { fileURLToPath } from "node:url";
+import { ExpressAuth } from "@auth/express";
+import compression from "compression";
+import express, { type Express } from "express";
+import helmet from "helmet";
+import type { Database } from "../db/client";
+import { authConfig, emailProviderId, type InstitutionProvider } from "./auth/auth-config";
+import { loadSession } from "./auth/session";
+import type { Config } from "./config";
+import type { CaughtMail } from "./dev/mail-fake";
+import { apiNotFound, errorHandler } from "./http/errors";
+import { limitByIpAndAddress } from "./http/rate-limits";
+import { sameOrigin } from "./http/same-origin";
+import { serveWebBuild } from "./http/web-build";
+import { activityRoutes } from "./routes/activity";
+import type { RouteDeps } from "./routes/deps";
+import { devRoutes } from "./routes/dev";
+import { invitationRoutes } from "./routes/invitations";
+import { memberRoutes } from "./routes/members";
+import { studyRoutes } from "./routes/studies";
+import { systemRoutes } from "./routes/system";
+import type { Mailer } from "./services/mailer";
+
+const root = join(dirname(fileURLToPath(import.meta.url)), "..");
+
+export interface AppDeps {
+  config: Config;
+  db: Database;
+  mailer: Mailer;
+  /** The local mail fake (demo/development), shown at GET /api/dev/mail. */
+  mailbox?: { messages(): CaughtMail[] } | null;
+  /** The OpenID Connect provider for institution sign-in (the local fake or the configured one). */
+  institution?: InstitutionProvider | null;
+  clock?: () => Date;
+  /** Directory of the exported web app (default: ./dist at the project root). */
+  distDir?: string;
+  log?: (error: unknown, context: string) => void;
+}
+
+export const version: string = (JSON.parse(readFileSync(join(root, "package.json"), "utf8")) as { version: string }).version;
+
+export function createApp(deps: AppDeps): Express {
+  const { config, db } = deps;
+  const clock = deps.clock ?? (() => new Date());
+  const log = deps.log ?? ((error: unknown, context: string) => console.error(`[covarion] ${context}:`, error));
+  const institution = deps.institution ?? null;
+  const routeDeps: RouteDeps = {
+    db,
+    config,
+    mailer: deps.mailer,
+    clock,
+    mailbox: config.devServices ? (deps.mailbox ?? null) : null,
+    institution,
+    version,
+  };
+
+  const app = express();
+  app.locals.db = db;
+  app.set("trust proxy", config.trustProxy);
+  app.set("query parser", "simple");
+  app.disable("x-powered-by");
+
+  const https = config.publicUrl.startsWith("https:");
+  const formTargets = ["'self'", ...(institution ? [new URL(institution.issuer).origin] : [])];
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        useDefaults: true,
+        directives: {
+          defaultSrc: ["'self'"],
+          scriptSrc: ["'self'"],
+          styleSrc: ["'self'", "'unsafe-inline'"],
+          imgSrc: ["'self'", "data:", "blob:"],
+          fontSrc: ["'self'", "data:"],
+          connectSrc: ["'self'"],
+          formAction: formTargets,
+          frameAncestors: ["'none'"],
+          objectSrc: ["'none'"],
+          upgradeInsecureRequests: https ? [] : null,
+        },
+      },
+      strictTransportSecurity: https ? undefined : false,
+    }),
+  );
+  app.use(compression());
+  app.use("/api", sameOrigin(config.publicUrl));
+
+  const signInBody = [express.urlencoded({ extended: false, limit: "16kb" }), express.json({ limit: "16kb" })];
+  const signInLimits = limitByIpAndAddress("sign-in e-mail", config.rateLimit, (req) => {
+    const email = (req.body as { email?: unknown } | undefined)?.email;
+    return typeof email === "string" && email.trim() ? email.trim().toLowerCase() : null;
+  });
+  app.post(`/api/auth/signin/${emailProviderId}`, ...signInBody, ...signInLimits);
+  app.use("/api/auth", ExpressAuth(authConfig({ db, mailer: deps.mailer, institution, secret: config.secrets.authSecret, log })));
+
+  app.use("/api", express.json({ limit: config.bodyLimit }), loadSession(db, clock));
+  app.use("/api", systemRoutes(routeDeps));
+  if (config.devServices) app.use("/api", devRoutes(routeDeps));
+  app.use("/api", studyRoutes(routeDeps));
+  app.use("/api", memberRoutes(routeDeps));
+  app.use("/api", invitationRoutes(routeDeps));
+  app.use("/api", activityRoutes(routeDeps));
+  app.use("/api", apiNotFound);
+
+  app.use(serveWebBuild(deps.distDir ?? join(root, "dist")));
+  app.use(errorHandler(log));
+  return app;
+}

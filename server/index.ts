@@ -1,0 +1,81 @@
+/**
+ * Starts Covarion: reads the configuration, takes the data directory's
+ * lock, opens and migrates the database, seeds the demo on first start,
+ * starts the local mail and identity fakes outside production, listens,
+ * prints the address, and shuts down cleanly on SIGINT/SIGTERM (stops
+ * listening, closes the fakes and the database, releases the lock).
+ */
+import type { Server } from "node:http";
+import { openDatabase, type OpenDatabase } from "../db/client";
+import { migrateDatabase } from "../db/migrate";
+import { seedDemo } from "../db/seed";
+import { createApp } from "./app";
+import { ConfigError, loadConfig } from "./config";
+import { startServices, type Services } from "./dev/dev-services";
+import { acquireDataLock, DataLockError, type DataLock } from "./services/data-lock";
+
+async function main(): Promise<void> {
+  let lock: DataLock | null = null;
+  let database: OpenDatabase | null = null;
+  let services: Services | null = null;
+  let server: Server | null = null;
+  let stopping = false;
+
+  const stop = async (code: number) => {
+    if (stopping) return;
+    stopping = true;
+    if (server) {
+      const open = server;
+      const force = setTimeout(() => open.closeAllConnections(), 2000);
+      await new Promise<void>((resolve) => {
+        open.close(() => resolve());
+        open.closeIdleConnections();
+      });
+      clearTimeout(force);
+    }
+    await services?.close().catch(() => {});
+    await database?.close().catch(() => {});
+    lock?.release();
+    process.exit(code);
+  };
+
+  try {
+    const config = loadConfig();
+    lock = acquireDataLock(config.dataDir);
+    process.once("SIGINT", () => void stop(0));
+    process.once("SIGTERM", () => void stop(0));
+    database = await openDatabase({ dataDir: config.databaseDir });
+    await migrateDatabase(database.db);
+    if (config.demo) {
+      // seedDemoDatasets: the data intake's demo datasets are stored here once it provides them.
+      const seeded = await seedDemo(database.db, { now: new Date() });
+      if (seeded.seeded) console.log("Covarion: created the demo people and demo study.");
+    }
+    services = await startServices(config);
+    const app = createApp({
+      config,
+      db: database.db,
+      mailer: services.mailer,
+      mailbox: services.mailFake,
+      institution: services.institution,
+    });
+    server = app.listen(config.port, config.host);
+    await new Promise<void>((resolve, reject) => {
+      server?.once("listening", resolve);
+      server?.once("error", reject);
+    });
+    console.log(`Covarion is running at ${config.publicUrl} (data in ${config.dataDir}${config.demo ? ", demo mode" : ""}).`);
+    if (services.mailFake) console.log(`Local mailbox: ${config.publicUrl}/mailbox`);
+  } catch (error) {
+    if (error instanceof ConfigError || error instanceof DataLockError) {
+      console.error(`Covarion cannot start: ${error.message}`);
+    } else if ((error as NodeJS.ErrnoException).code === "EADDRINUSE") {
+      console.error(`Covarion cannot start: the address is already in use (${(error as Error).message}). Set PORT to another port.`);
+    } else {
+      console.error("Covarion cannot start:", error);
+    }
+    await stop(1);
+  }
+}
+
+await main();

@@ -1,0 +1,56 @@
+/**
+ * Studies.
+ *
+ * GET    /api/studies             → studies you belong to, with your role and counts
+ * POST   /api/studies             → { name, description?, restricted? }; you become Owner (201)
+ * GET    /api/studies/:studyId    → one study with your role, counts and capabilities
+ * PATCH  /api/studies/:studyId    → { name?, description?, restricted? } (Owner)
+ * DELETE /api/studies/:studyId    → { confirm: "<study name>" } soft delete (Owner, 204)
+ */
+import { Router } from "express";
+import { z } from "zod";
+import { authorize, authorizedStudy } from "../auth/permissions";
+import { signedInUser } from "../auth/session";
+import { idSchema, noQuery, parsed, validate } from "../http/validate";
+import { createStudy, deleteStudy, listStudies, studyDetail, updateStudy } from "../services/studies";
+import type { RouteDeps } from "./deps";
+
+const name = z.string().trim().min(1, { error: "must not be empty" }).max(200, { error: "must be at most 200 characters" });
+const description = z.string().trim().max(5000, { error: "must be at most 5000 characters" });
+export const studyParams = z.strictObject({ studyId: idSchema });
+
+const create = { body: z.strictObject({ name, description: description.optional(), restricted: z.boolean().optional() }), query: noQuery };
+const read = { params: studyParams, query: noQuery };
+const patch = {
+  params: studyParams,
+  query: noQuery,
+  body: z
+    .strictObject({ name: name.optional(), description: description.optional(), restricted: z.boolean().optional() })
+    .refine((b) => Object.keys(b).length > 0, { error: "give at least one of name, description, restricted" }),
+};
+const remove = { params: studyParams, query: noQuery, body: z.strictObject({ confirm: z.string({ error: "type the study's name to confirm" }) }) };
+
+export function studyRoutes(deps: RouteDeps): Router {
+  const router = Router();
+  router.get("/studies", authorize("studies.list"), validate({ query: noQuery }), async (_req, res) => {
+    res.json(await listStudies(deps.db, signedInUser(res).id));
+  });
+  router.post("/studies", authorize("studies.create"), validate(create), async (_req, res) => {
+    const study = await createStudy(deps.db, signedInUser(res), parsed(res, create).body, deps.clock());
+    res.status(201).json(study);
+  });
+  router.get("/studies/:studyId", authorize("study.read"), validate(read), async (_req, res) => {
+    const { study, role } = authorizedStudy(res);
+    res.json(await studyDetail(deps.db, study, role));
+  });
+  router.patch("/studies/:studyId", authorize("study.update"), validate(patch), async (_req, res) => {
+    const { study, role } = authorizedStudy(res);
+    res.json(await updateStudy(deps.db, signedInUser(res), study, role, parsed(res, patch).body, deps.clock()));
+  });
+  router.delete("/studies/:studyId", authorize("study.delete"), validate(remove), async (_req, res) => {
+    const { study } = authorizedStudy(res);
+    await deleteStudy(deps.db, signedInUser(res), study, parsed(res, remove).body.confirm, deps.clock());
+    res.status(204).end();
+  });
+  return router;
+}
