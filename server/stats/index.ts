@@ -29,3 +29,5 @@ export * from "./meta-regression";
 export * from "./icc";
 export * from "./attenuation";
 export * from "./power";
+export * from "./permutation";
+export * from "./bootstrap";

@@ -1,0 +1,68 @@
+import { afterAll, describe, expect, it } from "vitest";
+import { createPermutationPool, splitRegions } from "../../../server/jobs/parallel-permutation";
+import { StatsError } from "../../../server/stats/errors";
+import { linearPermutationTest } from "../../../server/stats/permutation";
+import { createRng } from "../../../server/stats/rng";
+import { normal } from "../stats/resampling-reference";
+
+describe("splitRegions", () => {
+  it("covers every region once in even-sized contiguous blocks", () => {
+    expect(splitRegions(7, 2)).toEqual([
+      [0, 4],
+      [4, 7],
+    ]);
+    expect(splitRegions(400, 2)).toEqual([
+      [0, 200],
+      [200, 400],
+    ]);
+    expect(splitRegions(1, 2)).toEqual([[0, 1]]);
+    expect(splitRegions(10, 3)).toEqual([
+      [0, 4],
+      [4, 8],
+      [8, 10],
+    ]);
+  });
+});
+
+describe("parallel linear permutation test", () => {
+  const pool = createPermutationPool({ threads: 2 });
+  afterAll(() => pool.close());
+
+  const rng = createRng(5);
+  const n = 30;
+  const p = 4;
+  const rows = Array.from({ length: n }, () => [1, normal(rng), normal(rng), normal(rng)]);
+  const design = Float64Array.from(rows.flat());
+  const y = Array.from({ length: 7 }, (_, r) => Float64Array.from(rows.map((row) => 0.2 * r * row[3] + row[1] + normal(rng))));
+  const input = { design, n, p, tested: 3, y, scheme: "freedman-lane" as const, resamples: 300, maxT: true, keepNull: true };
+
+  it("returns exactly the single-thread result for the same seed", async () => {
+    const seen: number[] = [];
+    const parallel = await pool.linearPermutationTest({ ...input, seed: 17, onProgress: (f) => seen.push(f) });
+    const single = linearPermutationTest({ ...input, rng: createRng(17) });
+    expect(Array.from(parallel.observed)).toEqual(Array.from(single.observed));
+    expect(Array.from(parallel.p)).toEqual(Array.from(single.p));
+    expect(Array.from(parallel.pMaxT ?? [])).toEqual(Array.from(single.pMaxT ?? []));
+    expect(Array.from(parallel.maxNull ?? [])).toEqual(Array.from(single.maxNull ?? []));
+    expect(parallel.nullStatistics?.map((a) => Array.from(a))).toEqual(single.nullStatistics?.map((a) => Array.from(a)));
+    expect(parallel.rearrangements).toBe(301);
+    expect(parallel.exact).toBe(false);
+    expect(seen[seen.length - 1]).toBe(1);
+  });
+
+  it("stops the workers with code cancelled", async () => {
+    const big = { ...input, resamples: 200000, keepNull: false };
+    let error: unknown;
+    try {
+      await pool.linearPermutationTest({ ...big, seed: 1, shouldCancel: () => true });
+    } catch (e) {
+      error = e;
+    }
+    expect(error).toBeInstanceOf(StatsError);
+    expect((error as StatsError).code).toBe("cancelled");
+  });
+
+  it("validates on the main thread with the same messages", async () => {
+    await expect(pool.linearPermutationTest({ ...input, tested: 9, seed: 1 })).rejects.toThrow(/tested to be a column index/);
+  });
+});
