@@ -15,12 +15,14 @@
  *
  * Planted on purpose, so the product has something to show:
  * - a trait association: the prefrontal and parietal contrast rises with
- *   task accuracy (about 0.5 contrast units per standard deviation of
- *   accuracy), and patients are lower in prefrontal regions;
+ *   task accuracy (0.15 contrast units per 0.07 of accuracy in the left
+ *   dorsolateral prefrontal region, less elsewhere), and patients are
+ *   somewhat lower in prefrontal regions;
  * - one clear outlier: sub-23's left dorsolateral prefrontal value is far
  *   above everyone else's;
  * - one high-leverage participant: sub-41's accuracy is far below the rest,
- *   with a contrast that follows the trend;
+ *   while its contrast is only as low as a participant 2.5 standard
+ *   deviations below the mean would have;
  * - id mismatches: participant 07 is written `7` in the brain table (a near
  *   miss, never merged silently), sub-71 is only in the brain table and
  *   sub-72 only in the sheet; sub-15 is written `SUB-15` in the brain table,
@@ -46,16 +48,16 @@ export const demoScenario = {
 
 /** Ten regions (ordinary anatomical names) and how each responds to the task, to accuracy and to being a patient. */
 export const demoRegions: readonly { name: string; mean: number; accuracy: number; patient: number }[] = [
-  { name: "L_dlpfc", mean: 0.55, accuracy: 0.5, patient: -0.35 },
-  { name: "R_dlpfc", mean: 0.5, accuracy: 0.45, patient: -0.3 },
-  { name: "L_parietal", mean: 0.7, accuracy: 0.35, patient: -0.15 },
-  { name: "R_parietal", mean: 0.65, accuracy: 0.3, patient: -0.1 },
-  { name: "L_insula", mean: 0.3, accuracy: 0.1, patient: 0 },
-  { name: "R_insula", mean: 0.28, accuracy: 0.05, patient: 0 },
-  { name: "dACC", mean: 0.45, accuracy: 0.15, patient: -0.1 },
-  { name: "L_caudate", mean: 0.12, accuracy: 0, patient: 0.05 },
+  { name: "L_dlpfc", mean: 0.55, accuracy: 0.15, patient: -0.2 },
+  { name: "R_dlpfc", mean: 0.5, accuracy: 0.13, patient: -0.18 },
+  { name: "L_parietal", mean: 0.7, accuracy: 0.1, patient: -0.08 },
+  { name: "R_parietal", mean: 0.65, accuracy: 0.08, patient: -0.05 },
+  { name: "L_insula", mean: 0.3, accuracy: 0.02, patient: 0 },
+  { name: "R_insula", mean: 0.28, accuracy: 0, patient: 0 },
+  { name: "dACC", mean: 0.45, accuracy: 0.05, patient: -0.05 },
+  { name: "L_caudate", mean: 0.12, accuracy: 0, patient: 0.03 },
   { name: "R_caudate", mean: 0.1, accuracy: 0, patient: 0 },
-  { name: "precuneus", mean: -0.2, accuracy: -0.1, patient: 0.1 },
+  { name: "precuneus", mean: -0.2, accuracy: -0.03, patient: 0.05 },
 ];
 
 export interface DemoFiles {
@@ -135,8 +137,8 @@ export function generateDemoFiles(seed: number = DEMO_SEED): DemoFiles {
   lev.rtMs = 1480;
   for (const p of shuffle(people, rng).slice(0, RETESTED)) p.retest = true;
 
-  const accMean = people.reduce((s, p) => s + p.accuracy, 0) / people.length;
-  const accSd = Math.sqrt(people.reduce((s, p) => s + (p.accuracy - accMean) ** 2, 0) / (people.length - 1));
+  // Accuracy on the scale the effects are planted on (mean 0.82, one unit per 0.07), capped at ±2.5.
+  const accuracyZ = (p: Person) => Math.max(-2.5, Math.min(2.5, (p.accuracy - 0.82) / 0.07));
 
   // Brain table: one row per participant and session.
   const header = ["participant_id", "session"];
@@ -144,7 +146,7 @@ export function generateDemoFiles(seed: number = DEMO_SEED): DemoFiles {
   const lines = [header.join(",")];
   for (const p of people) {
     if (p.number === 72) continue; // only in the participant sheet
-    const z = (p.accuracy - accMean) / accSd;
+    const z = accuracyZ(p);
     // Stable, person-level part of each region's contrast (the same in both sessions).
     const stable = demoRegions.map(
       (r) => r.mean + r.accuracy * z + (p.group === "patient" ? r.patient : 0) + 0.22 * normal(rng),
@@ -155,7 +157,7 @@ export function generateDemoFiles(seed: number = DEMO_SEED): DemoFiles {
       demoRegions.forEach((r, k) => {
         const se = 0.1 + 0.12 * rng.next() + 0.6 * (p.meanFd - 0.08);
         let value = stable[k] + Math.sqrt(se * se + 0.12 * 0.12) * normal(rng);
-        if (p.id === demoScenario.outlier && r.name === demoScenario.outlierRegion && session === 1) value = 3.35;
+        if (p.id === demoScenario.outlier && r.name === demoScenario.outlierRegion && session === 1) value = 2.45;
         if (p.number === 33 && r.name === "R_caudate" && session === 1) {
           cells.push("n/a", "n/a"); // outside the acquired field of view
           return;
