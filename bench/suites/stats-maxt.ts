@@ -9,9 +9,9 @@
  *
  * Data are invented by a seeded generator.
  */
-import { Matrix, solve } from "ml-matrix";
+import { inverse, Matrix, solve } from "ml-matrix";
 import { createPermutationPool } from "../../server/jobs/parallel-permutation";
-import { linearPermutationTest } from "../../server/stats/permutation";
+import { type LinearPermutationResult, linearPermutationTest } from "../../server/stats/permutation";
 import { createRearranger } from "../../server/stats/rearrangements";
 import { createRng, type Rng } from "../../server/stats/rng";
 
@@ -59,7 +59,7 @@ export default async function run(): Promise<void> {
   await pool.linearPermutationTest({ ...input, resamples: 10, seed: 1 });
   const startup = seconds(start);
   let parallelTime: number;
-  let parallel;
+  let parallel: LinearPermutationResult;
   try {
     start = process.hrtime.bigint();
     parallel = await pool.linearPermutationTest({ ...input, seed: SEED });
@@ -96,8 +96,7 @@ export default async function run(): Promise<void> {
   for (let r = 0; r < REGIONS; r++) for (let i = 0; i < N; i++) Y.set(i, r, y[r][i]);
   const fittedZ = Z.mmul(solve(Z, Y));
   const residualsZ = Y.clone().sub(fittedZ);
-  const xtxInverseTT = new Matrix(X.transpose().mmul(X)).clone();
-  const cTT = solve(xtxInverseTT, Matrix.eye(P)).get(TESTED, TESTED);
+  const cTT = inverse(X.transpose().mmul(X)).get(TESTED, TESTED);
   const walk = createRearranger({ kind: "permutations", n: N, resamples: RESAMPLES, rng: createRng(SEED) });
   let maxDifference = 0;
   start = process.hrtime.bigint();

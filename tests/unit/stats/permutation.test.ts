@@ -12,7 +12,6 @@ import {
   normal,
   oneSampleT,
   pooledT,
-  rowsOf,
   twoSidedShare,
   welchT,
 } from "./resampling-reference";

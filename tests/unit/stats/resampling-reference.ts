@@ -41,11 +41,6 @@ export function naiveOls(x: number[][], y: readonly number[]): { beta: number[];
   return { beta, residuals, fitted, t };
 }
 
-/** Rows of a row-major Float64Array design. */
-export function rowsOf(design: Float64Array, n: number, p: number): number[][] {
-  return Array.from({ length: n }, (_, i) => Array.from(design.subarray(i * p, (i + 1) * p)));
-}
-
 /** Every permutation of 0..n−1 (Heap's algorithm; n! of them). */
 export function allPermutations(n: number): number[][] {
   const out: number[][] = [];
