@@ -85,7 +85,7 @@ export async function startIdentityFake(options: IdentityFakeOptions): Promise<I
     claims: { openid: ["sub"], email: ["email", "email_verified"], profile: ["name"] },
     conformIdTokenClaims: false,
     features: { devInteractions: { enabled: false } },
-    pkce: { required: () => false },
+    ttl: { Interaction: 3600, Session: 8 * 3600, Grant: 8 * 3600, AccessToken: 3600, IdToken: 3600, AuthorizationCode: 300 },
     interactions: { url: (_ctx, interaction) => `/interaction/${interaction.uid}` },
     async findAccount(_ctx, sub) {
       const person = directory.get(sub);
