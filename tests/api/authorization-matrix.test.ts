@@ -1,0 +1,174 @@
+/**
+ * The authorization matrix: every API route × {Owner, Analyst, Reviewer,
+ * Viewer, signed-in non-member, signed-out} with the expected status.
+ *
+ * Routes are enumerated from the app's router itself: a route added
+ * without a row here fails "every route has a row". Each case runs on a
+ * fresh study, so destructive cases do not disturb the others. Auth.js's
+ * own endpoints under /api/auth are outside the matrix (they are guarded by
+ * Auth.js's CSRF check and the sign-in rate limit, tested elsewhere).
+ */
+import { randomBytes } from "node:crypto";
+import request from "supertest";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { invitations, memberships, studies, users } from "../../db/schema";
+import { listRoutes } from "../../server/http/route-list";
+import { hashToken } from "../../server/services/invitations";
+import { createTestApp, signInByEmail, userIdOf, type TestApp } from "./helpers";
+
+const personas = ["owner", "analyst", "reviewer", "viewer", "outsider", "anonymous"] as const;
+type Persona = (typeof personas)[number];
+type Expected = Record<Persona, number>;
+
+interface Fixture {
+  studyId: string;
+  studyName: string;
+  targetUserId: string;
+  invitationId: string;
+  token: string;
+  n: number;
+}
+
+interface Row {
+  path: (f: Fixture) => string;
+  body?: (f: Fixture) => unknown;
+  expected: Expected;
+}
+
+const all = (status: number): Expected => ({ owner: status, analyst: status, reviewer: status, viewer: status, outsider: status, anonymous: status });
+const signedIn = (status: number): Expected => ({ ...all(status), anonymous: 401 });
+const members = (status: number): Expected => ({ ...all(status), outsider: 404, anonymous: 401 });
+const ownerOnly = (status: number): Expected => ({ owner: status, analyst: 403, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 });
+
+const matrix: Record<string, Row> = {
+  "GET /api/health": { path: () => "/api/health", expected: all(200) },
+  "GET /api/auth-options": { path: () => "/api/auth-options", expected: all(200) },
+  "GET /api/me": { path: () => "/api/me", expected: signedIn(200) },
+  "GET /api/dev/mail": { path: () => "/api/dev/mail", expected: all(200) },
+  "POST /api/dev/demo-sign-in": { path: () => "/api/dev/demo-sign-in", body: () => ({ email: "viewer@demo.covarion.test" }), expected: all(200) },
+  "GET /api/studies": { path: () => "/api/studies", expected: signedIn(200) },
+  "POST /api/studies": { path: () => "/api/studies", body: (f) => ({ name: `Matrix study ${f.n}` }), expected: signedIn(201) },
+  "GET /api/studies/:studyId": { path: (f) => `/api/studies/${f.studyId}`, expected: members(200) },
+  "PATCH /api/studies/:studyId": { path: (f) => `/api/studies/${f.studyId}`, body: () => ({ name: "Renamed" }), expected: ownerOnly(200) },
+  "DELETE /api/studies/:studyId": { path: (f) => `/api/studies/${f.studyId}`, body: (f) => ({ confirm: f.studyName }), expected: ownerOnly(204) },
+  "GET /api/studies/:studyId/members": { path: (f) => `/api/studies/${f.studyId}/members`, expected: members(200) },
+  "PATCH /api/studies/:studyId/members/:userId": {
+    path: (f) => `/api/studies/${f.studyId}/members/${f.targetUserId}`,
+    body: () => ({ role: "analyst" }),
+    expected: ownerOnly(200),
+  },
+  "DELETE /api/studies/:studyId/members/:userId": { path: (f) => `/api/studies/${f.studyId}/members/${f.targetUserId}`, expected: ownerOnly(204) },
+  "GET /api/studies/:studyId/invitations": { path: (f) => `/api/studies/${f.studyId}/invitations`, expected: ownerOnly(200) },
+  "POST /api/studies/:studyId/invitations": {
+    path: (f) => `/api/studies/${f.studyId}/invitations`,
+    body: (f) => ({ email: `invitee${f.n}@lab.example`, role: "viewer" }),
+    expected: ownerOnly(201),
+  },
+  "DELETE /api/studies/:studyId/invitations/:invitationId": { path: (f) => `/api/studies/${f.studyId}/invitations/${f.invitationId}`, expected: ownerOnly(204) },
+  "GET /api/invitations/:token": { path: (f) => `/api/invitations/${f.token}`, expected: all(200) },
+  // The fixture's invitation is addressed to the outsider: only they may accept it; members get 403 (wrong address).
+  "POST /api/invitations/:token/accept": {
+    path: (f) => `/api/invitations/${f.token}/accept`,
+    expected: { owner: 403, analyst: 403, reviewer: 403, viewer: 403, outsider: 200, anonymous: 401 },
+  },
+  "GET /api/studies/:studyId/activity": {
+    path: (f) => `/api/studies/${f.studyId}/activity`,
+    expected: { owner: 200, analyst: 200, reviewer: 200, viewer: 403, outsider: 404, anonymous: 401 },
+  },
+};
+
+let t: TestApp;
+const cookies = new Map<Persona, string>();
+const ids = new Map<Persona, string>();
+let counter = 0;
+
+beforeAll(async () => {
+  t = await createTestApp();
+  for (const role of ["owner", "analyst", "reviewer", "viewer"] as const) {
+    const email = `${role}@demo.covarion.test`;
+    const res = await request(t.url).post("/api/dev/demo-sign-in").send({ email }).expect(200);
+    cookies.set(role, String(res.headers["set-cookie"]).split(";")[0]);
+    ids.set(role, await userIdOf(t.db, email));
+  }
+  cookies.set("outsider", await sessionCookieOf("outsider@lab.example"));
+  ids.set("outsider", await userIdOf(t.db, "outsider@lab.example"));
+});
+afterAll(async () => {
+  await t?.close();
+});
+
+/** The session cookie of a person signed in through the e-mail link. */
+async function sessionCookieOf(email: string): Promise<string> {
+  const agent = await signInByEmail(t, email);
+  const jar = (agent as unknown as { jar: { getCookie(name: string, access: unknown): { value: string } | undefined } }).jar;
+  const url = new URL(t.url);
+  const cookie = jar.getCookie("authjs.session-token", { domain: url.hostname, path: "/", secure: false, script: false });
+  if (!cookie) throw new Error("no session cookie after e-mail sign-in");
+  return `authjs.session-token=${cookie.value}`;
+}
+
+async function makeFixture(): Promise<Fixture> {
+  counter += 1;
+  const now = new Date();
+  const name = `Matrix fixture ${counter}`;
+  const [study] = await t.db.insert(studies).values({ name, createdBy: ids.get("owner") }).returning();
+  const [target] = await t.db.insert(users).values({ email: `target${counter}@lab.example`, name: "Target" }).returning();
+  await t.db.insert(memberships).values([
+    ...(["owner", "analyst", "reviewer", "viewer"] as const).map((role) => ({ studyId: study.id, userId: ids.get(role) as string, role })),
+    { studyId: study.id, userId: target.id, role: "viewer" as const },
+  ]);
+  const token = randomBytes(32).toString("base64url");
+  const [inv] = await t.db
+    .insert(invitations)
+    .values({
+      studyId: study.id,
+      email: "outsider@lab.example",
+      role: "viewer",
+      tokenHash: hashToken(token),
+      invitedBy: ids.get("owner") as string,
+      expiresAt: new Date(now.getTime() + 7 * 24 * 3600 * 1000),
+    })
+    .returning();
+  return { studyId: study.id, studyName: name, targetUserId: target.id, invitationId: inv.id, token, n: counter };
+}
+
+function routeKeys(): string[] {
+  return listRoutes(t.app)
+    .filter((r) => r.path.startsWith("/api/") && !r.path.startsWith("/api/auth/"))
+    .map((r) => `${r.method} ${r.path}`);
+}
+
+describe("authorization matrix", () => {
+  it("every API route has a row, and every row a route", () => {
+    const keys = routeKeys();
+    expect(keys.length).toBeGreaterThan(10);
+    expect(keys.filter((k) => !(k in matrix))).toEqual([]);
+    expect(Object.keys(matrix).filter((k) => !keys.includes(k))).toEqual([]);
+  });
+
+  it("every API route carries exactly one authorize() middleware", () => {
+    const bad = listRoutes(t.app)
+      .filter((r) => r.path.startsWith("/api/") && !r.path.startsWith("/api/auth/"))
+      .filter((r) => r.actions.length !== 1)
+      .map((r) => `${r.method} ${r.path}: ${r.actions.join(", ") || "none"}`);
+    expect(bad).toEqual([]);
+  });
+
+  for (const [key, row] of Object.entries(matrix)) {
+    it(`${key}`, async () => {
+      const method = key.split(" ")[0];
+      const got: Partial<Expected> = {};
+      for (const persona of personas) {
+        const fixture = await makeFixture();
+        const path = row.path(fixture);
+        let req = request(t.url)[method.toLowerCase() as "get" | "post" | "patch" | "delete"](path);
+        const cookie = cookies.get(persona);
+        if (cookie) req = req.set("Cookie", cookie);
+        const res = row.body ? await req.send(row.body(fixture) as object) : await req;
+        got[persona] = res.status;
+        if (res.status >= 400) expect(res.body.error, `${key} as ${persona}: envelope`).toMatchObject({ code: expect.any(String), message: expect.any(String) });
+      }
+      expect(got).toEqual(row.expected);
+    });
+  }
+});
