@@ -38,9 +38,14 @@ export interface IntraclassCorrelationsResult {
   meanSquares: { between: number; within: number; sessions: number; error: number };
 }
 
-/** Spearman–Brown step-up of a single-session value to the mean of k sessions. */
+/**
+ * Spearman–Brown step-up of a single-session value to the mean of k sessions.
+ * Increasing on (−1/(k−1), 1]; at or below −1/(k−1) the k-session value is
+ * unbounded below, reported as −Infinity.
+ */
 function stepUp(r: number, k: number): number {
-  return (k * r) / (1 + (k - 1) * r);
+  const denominator = 1 + (k - 1) * r;
+  return denominator > 0 ? (k * r) / denominator : Number.NEGATIVE_INFINITY;
 }
 
 /**
@@ -70,7 +75,12 @@ function stepUp(r: number, k: number): number {
  * - ICC(2,1): Shrout & Fleiss (1979) approximate interval with
  *   Satterthwaite degrees of freedom ν for the denominator.
  * - ICC(2,k): the ICC(2,1) bounds stepped up by Spearman–Brown, which equals
- *   the closed form of McGraw & Wong (1996, Table 7, ICC(A,k)).
+ *   the closed form of McGraw & Wong (1996, Table 7, ICC(A,k)). The value is
+ *   the step-up of ICC(2,1), algebraically the formula above.
+ *
+ * The k-session forms range over (−∞, 1]: where a one-session value or bound
+ * is at or below −1/(k−1) (possible only when sessions disagree more than
+ * participants differ), the k-session value or lower bound is −Infinity.
  *
  * Cost O(n k) plus a few F quantiles.
  *
@@ -151,7 +161,7 @@ export function intraclassCorrelations(
   const icc11 = (bms - wms) / (bms + (k - 1) * wms);
   const icc1k = (bms - wms) / bms;
   const icc21 = (bms - ems) / (bms + (k - 1) * ems + (k * (jms - ems)) / n);
-  const icc2k = (bms - ems) / (bms + (jms - ems) / n);
+  const icc2k = stepUp(icc21, k);
   const icc31 = (bms - ems) / (bms + (k - 1) * ems);
   const icc3k = (bms - ems) / bms;
 

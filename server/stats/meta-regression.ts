@@ -12,7 +12,7 @@
  * (residual heterogeneity), se_i² their measurement noise.
  */
 import { StatsError } from "./errors";
-import { normalCdf, normalQuantile, studentTQuantile, studentTTwoSided } from "./measurement-distributions";
+import { findRoot, normalCdf, normalQuantile, studentTQuantile, studentTTwoSided } from "./measurement-distributions";
 
 export type Tau2Method = "dl" | "reml";
 export type SmallSampleAdjustment = "none" | "knapp-hartung";
@@ -60,7 +60,8 @@ export interface WeightedLinearModelResult {
   coefficients: number[];
 }
 
-/** REML iteration limits (Fisher scoring). */
+/** REML iteration limits: Fisher scoring steps before switching to Brent's method, bracket expansions, tolerance. */
+const REML_FISHER_STEPS = 10;
 const REML_MAX_ITERATIONS = 200;
 const REML_TOLERANCE = 1e-10;
 
@@ -225,8 +226,14 @@ function who(i: number, participants: readonly string[] | undefined): string {
  *   Journal of Educational and Behavioral Statistics 30:261–293):
  *   τ² ← τ² + (y'PPy − tr(P)) / tr(PP) with P at the current τ², truncated
  *   at 0, started from the DL value. Convergence rule: stop when the change
- *   in τ² is below 1e-10 · max(1, τ²); at most 200 iterations (StatsError
- *   otherwise). Standard error √(2 / tr(PP)) from the expected information.
+ *   in τ² is below 1e-10 · max(mean(se²), τ²) (scale-free), or at τ² = 0
+ *   when the score is not positive. If that has not happened after 10
+ *   steps (Fisher scoring can creep when the expected information is far
+ *   below the observed), the REML score equation y'PPy = tr(P) is solved to
+ *   machine precision by Brent's method between the latest values of τ²
+ *   with scores of opposite sign (the bracket is widened by doubling if
+ *   needed; StatsError after 200 doublings). Standard error √(2 / tr(PP))
+ *   from the expected information.
  * - Coefficients by weighted least squares with the final weights; their
  *   covariance (X'WX)⁻¹; z test and normal interval.
  * - Knapp–Hartung adjustment (Knapp & Hartung 2003, Statistics in Medicine
@@ -315,25 +322,69 @@ export function weightedLinearModel(input: WeightedLinearModelInput): WeightedLi
     if (fit === null) throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
     final = fit;
   } else {
+    // Fisher scoring from the DL value, truncated at 0. Where it has not converged after
+    // REML_FISHER_STEPS steps (it can creep when the expected information is far below the
+    // observed), the score equation is solved by Brent's method between the most recent
+    // values of τ² whose scores have opposite signs.
+    const meanV = sumV / n;
+    const tolerance = REML_TOLERANCE * meanV;
+    const fitAt = (t: number): WeightedFit => {
+      const f = weightedFit(y, v, x, n, p, t);
+      if (f === null) throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
+      return f;
+    };
+    const score = (f: WeightedFit): number => f.yPPy - f.traceP;
     tau2 = tau2Dl;
+    let fit = fitAt(tau2);
+    let positiveAt = Number.NaN;
+    let negativeAt = Number.NaN;
+    const note = (t: number, f: WeightedFit): void => {
+      const sc = score(f);
+      if (sc > 0) positiveAt = t;
+      else if (sc < 0) negativeAt = t;
+    };
+    note(tau2, fit);
     let converged = false;
-    let fit: WeightedFit | null = null;
-    for (let iter = 0; iter < REML_MAX_ITERATIONS; iter++) {
-      fit = weightedFit(y, v, x, n, p, tau2);
-      if (fit === null) throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
-      const step = (fit.yPPy - fit.traceP) / fit.tracePP;
-      const next = Math.max(0, tau2 + step);
-      const change = Math.abs(next - tau2);
-      tau2 = next;
-      if (change <= REML_TOLERANCE * Math.max(1, tau2)) {
+    for (let iter = 0; iter < REML_FISHER_STEPS; iter++) {
+      const step = score(fit) / fit.tracePP;
+      if (tau2 === 0 && step <= 0) {
+        converged = true;
+        break;
+      }
+      const candidate = Math.max(0, tau2 + step);
+      const change = Math.abs(candidate - tau2);
+      tau2 = candidate;
+      fit = fitAt(tau2);
+      note(tau2, fit);
+      if (change <= tolerance * Math.max(1, tau2 / meanV)) {
         converged = true;
         break;
       }
     }
-    if (!converged) throw new StatsError(`weightedLinearModel REML estimate of tau2 did not converge in ${REML_MAX_ITERATIONS} iterations`);
-    const last = weightedFit(y, v, x, n, p, tau2);
-    if (last === null) throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
-    final = last;
+    if (!converged) {
+      if (Number.isNaN(positiveAt)) {
+        // Every score seen was negative: the maximum is at 0 unless the score at 0 is positive.
+        const atZero = fitAt(0);
+        if (score(atZero) <= 0) {
+          tau2 = 0;
+          fit = atZero;
+          converged = true;
+        } else positiveAt = 0;
+      }
+      if (!converged && Number.isNaN(negativeAt)) {
+        let hi = Math.max(2 * positiveAt, positiveAt + meanV);
+        for (let guard = 0; score(fitAt(hi)) > 0; guard++) {
+          if (guard >= REML_MAX_ITERATIONS) throw new StatsError(`weightedLinearModel REML estimate of tau2 did not converge in ${REML_MAX_ITERATIONS} iterations`);
+          hi *= 2;
+        }
+        negativeAt = hi;
+      }
+      if (!converged) {
+        tau2 = findRoot((t) => score(fitAt(t)), Math.min(positiveAt, negativeAt), Math.max(positiveAt, negativeAt), "weightedLinearModel REML");
+        fit = fitAt(tau2);
+      }
+    }
+    final = fit;
     tau2Se = Math.sqrt(2 / final.tracePP);
   }
 

@@ -96,6 +96,24 @@ describe("intraclassCorrelations with a systematic session shift", () => {
   });
 });
 
+describe("intraclassCorrelations when sessions disagree more than participants differ", () => {
+  it("keeps every interval ordered, with an unbounded lower limit for the k-session forms", () => {
+    const r = intraclassCorrelations([
+      [0.1, 0.9, 0.4],
+      [0.9, 0.1, 0.6],
+      [0.5, 0.45, 0.2],
+      [0.3, 0.8, 0.1],
+    ]);
+    for (const icc of [r.icc11, r.icc21, r.icc31, r.icc1k, r.icc2k, r.icc3k]) {
+      expect(icc.ciLow).toBeLessThanOrEqual(icc.value);
+      expect(icc.value).toBeLessThanOrEqual(icc.ciHigh);
+    }
+    // (exact algebra: the one-session lower bound is below −1/(k−1) = −0.5, where the Spearman–Brown step-up has its pole)
+    expect(r.icc21.ciLow).toBeLessThan(-0.5);
+    expect(r.icc2k.ciLow).toBe(Number.NEGATIVE_INFINITY);
+  });
+});
+
 describe("intraclassCorrelations preconditions", () => {
   it("needs two sessions and two participants", () => {
     expect(() => intraclassCorrelations([[1], [2], [3]])).toThrow("intraclassCorrelations requires at least two sessions (got 1)");

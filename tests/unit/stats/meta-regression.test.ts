@@ -1,6 +1,8 @@
+import { Matrix, inverse } from "ml-matrix";
 import { describe, expect, it } from "vitest";
 import { StatsError } from "../../../server/stats/errors";
 import { weightedLinearModel } from "../../../server/stats/meta-regression";
+import { createRng } from "../../../server/stats/rng";
 
 /**
  * BCG vaccine trials (Colditz et al. 1994, JAMA 271:698–702): 2×2 counts
@@ -185,6 +187,36 @@ describe("weightedLinearModel, with a moderator", () => {
     // (exact algebra: shares of mean(se²) + τ²)
     expect(r.noiseShare).toBeCloseTo(meanV / (meanV + r.tau2), 14);
     expect(r.noiseShare + r.trueShare).toBeCloseTo(1, 15);
+  });
+});
+
+describe("weightedLinearModel REML on many invented designs", () => {
+  it("always solves the REML score equation, or stops at τ² = 0 with a non-positive score", () => {
+    // Invented data from a seeded generator: noisy designs with 1–3 columns, where Fisher scoring alone often
+    // creeps and the Brent fallback takes over. The check builds P = W − WX(X'WX)⁻¹X'W with a general matrix library.
+    const rng = createRng(11);
+    for (let trial = 0; trial < 150; trial++) {
+      const n = 4 + rng.int(30);
+      const p = 1 + rng.int(3);
+      const X = Array.from({ length: n }, () => [1, ...Array.from({ length: p - 1 }, () => rng.next())]);
+      const se = Array.from({ length: n }, () => 0.05 + rng.next());
+      const scale = trial % 2 ? 1 : 5;
+      const y = se.map((s) => (rng.next() - 0.5) * 3 * s * scale);
+      const r = weightedLinearModel({ y, se, X, tested: p - 1, tau2Method: "reml", smallSample: "none" });
+      const W = Matrix.diag(se.map((s) => 1 / (s * s + r.tau2)));
+      const Xm = new Matrix(X);
+      const WX = W.mmul(Xm);
+      const P = W.sub(WX.mmul(inverse(Xm.transpose().mmul(WX))).mmul(WX.transpose()));
+      const Py = P.mmul(Matrix.columnVector(y));
+      const yPPy = Py.transpose().mmul(Py).get(0, 0);
+      const traceP = P.trace();
+      // (exact algebra: REML score ½(y'PPy − tr P), Viechtbauer 2005)
+      if (r.tau2 > 0) expect(yPPy / traceP).toBeCloseTo(1, 7);
+      else expect(yPPy).toBeLessThanOrEqual(traceP * (1 + 1e-9));
+      // (exact algebra: WLS coefficients (X'WX)⁻¹X'Wy at the final τ²)
+      const beta = inverse(Xm.transpose().mmul(WX)).mmul(WX.transpose()).mmul(Matrix.columnVector(y));
+      expect(r.estimate).toBeCloseTo(beta.get(p - 1, 0), 9);
+    }
   });
 });
 
