@@ -350,8 +350,6 @@ function readWide(
 
   const regions = regionIdx.map((j) => raw.header[j]);
   const n = raw.rows.length;
-  const values = regionIdx.map(() => new Float64Array(n));
-  const standardErrors = regionIdx.map((j) => (seOf.has(j) && isSe.has(seOf.get(j)!) ? new Float64Array(n) : null));
   const entries: BrainEntry[] = [];
   const seen = new Map<string, number>();
   let keysOk = true;
@@ -376,21 +374,41 @@ function readWide(
       continue;
     }
     seen.set(k, raw.rowNumbers[i]);
-    const e = entries.length;
     entries.push({ id: key.id, session: key.session, row: raw.rowNumbers[i] });
-    for (let r = 0; r < regionIdx.length; r++) {
-      values[r][e] = readNumber(raw, i, regionIdx[r], problems, false);
-      const se = standardErrors[r];
-      if (se !== null) se[e] = readNumber(raw, i, seOf.get(regionIdx[r])!, problems, true);
-    }
   }
-  const m = entries.length;
-  return {
-    regions,
-    entries: keysOk ? entries : null,
-    values: values.map((v) => v.subarray(0, m)),
-    standardErrors: standardErrors.map((s) => (s === null ? null : s.subarray(0, m))),
-  };
+  // Cells were parsed once when the columns were profiled; report the bad ones, column by column.
+  const values: Float64Array[] = [];
+  const standardErrors: (Float64Array | null)[] = [];
+  for (const j of regionIdx) {
+    const p = columns[j].profile;
+    for (const i of p.textRows) {
+      problems.add(problem(file, "not_a_number", notANumberText(raw.rows[i][j]), { row: raw.rowNumbers[i], column: p.name }));
+    }
+    values.push(p.values.slice());
+    const sj = seOf.get(j);
+    if (sj === undefined || !isSe.has(sj)) {
+      standardErrors.push(null);
+      continue;
+    }
+    const sp = columns[sj].profile;
+    const se = sp.values.slice();
+    const bad = new Set(sp.textRows);
+    for (let i = 0; i < n; i++) {
+      if (bad.has(i)) {
+        problems.add(problem(file, "not_a_number", notANumberText(raw.rows[i][sj]), { row: raw.rowNumbers[i], column: sp.name }));
+      } else if (se[i] <= 0) {
+        problems.add(
+          problem(file, "bad_standard_error", `${quoteCell(raw.rows[i][sj])} is not a valid standard error; expected a number greater than 0`, {
+            row: raw.rowNumbers[i],
+            column: sp.name,
+          }),
+        );
+        se[i] = Number.NaN;
+      }
+    }
+    standardErrors.push(se);
+  }
+  return { regions, entries: keysOk ? entries : null, values, standardErrors };
 }
 
 function readLong(

@@ -12,7 +12,7 @@
  * Cost: O(rows) per column.
  */
 import { IntakeError, problem } from "./errors";
-import { parseNumberCell } from "./cells";
+import { isMissing, parseNumberCell } from "./cells";
 import type { RawTable } from "./read-table";
 
 export type ColumnType = "number" | "category" | "id";
@@ -29,30 +29,78 @@ export interface ColumnProfile {
   numbers: number;
   /** Non-missing cells that are not numbers. */
   text: number;
-  /** Distinct non-missing values. */
-  distinct: number;
+  /** Distinct non-missing values, counted for category columns only. */
+  distinct?: number;
+  /** Each row's cell as a number (NaN where missing or not a number). */
+  values: Float64Array;
+  /** Row indices (into `rows`) of the non-missing cells that are not numbers. */
+  textRows: readonly number[];
 }
 
-/** Profiles column `index` of `table`. */
+const profileCache = new WeakMap<RawTable, readonly ColumnProfile[]>();
+
+/**
+ * Profiles column `index` of `table`. All columns are profiled together in
+ * one row-by-row pass the first time any is asked for, and the profiles are
+ * reused for that table object (a raw table is never changed after reading).
+ */
 export function profileColumn(table: RawTable, index: number): ColumnProfile {
-  let missing = 0;
-  let numbers = 0;
-  let text = 0;
-  const seen = new Set<string>();
-  for (const row of table.rows) {
-    const cell = row[index];
-    const x = parseNumberCell(cell);
-    if (x === null) {
-      missing += 1;
-      continue;
+  return profileColumns(table)[index];
+}
+
+/** Profiles of every column of `table` (see profileColumn). */
+export function profileColumns(table: RawTable): readonly ColumnProfile[] {
+  const cached = profileCache.get(table);
+  if (cached !== undefined) return cached;
+  const rows = table.rows;
+  const n = rows.length;
+  const m = table.header.length;
+  const values = Array.from({ length: m }, () => new Float64Array(n));
+  const missing = new Int32Array(m);
+  const numbers = new Int32Array(m);
+  const textRows: number[][] = Array.from({ length: m }, () => []);
+  for (let i = 0; i < n; i++) {
+    const row = rows[i];
+    for (let j = 0; j < m; j++) {
+      const x = parseNumberCell(row[j]);
+      if (x === null) {
+        missing[j] += 1;
+        values[j][i] = Number.NaN;
+      } else if (x === undefined) {
+        textRows[j].push(i);
+        values[j][i] = Number.NaN;
+      } else {
+        numbers[j] += 1;
+        values[j][i] = x;
+      }
     }
-    if (x === undefined) text += 1;
-    else numbers += 1;
-    if (seen.size < 100_000) seen.add(cell.trim());
   }
-  const present = numbers + text;
-  const type = present > 0 && numbers >= NUMBER_SHARE * present ? "number" : "category";
-  return { name: table.header[index], index, type, missing, numbers, text, distinct: seen.size };
+  const profiles = table.header.map((name, j): ColumnProfile => {
+    const text = textRows[j].length;
+    const present = numbers[j] + text;
+    const type = present > 0 && numbers[j] >= NUMBER_SHARE * present ? "number" : "category";
+    const profile: ColumnProfile = {
+      name,
+      index: j,
+      type,
+      missing: missing[j],
+      numbers: numbers[j],
+      text,
+      values: values[j],
+      textRows: textRows[j],
+    };
+    if (type === "category") {
+      const seen = new Set<string>();
+      for (const row of rows) {
+        const t = row[j].trim();
+        if (!isMissing(t)) seen.add(t);
+      }
+      profile.distinct = seen.size;
+    }
+    return profile;
+  });
+  profileCache.set(table, profiles);
+  return profiles;
 }
 
 /** Index of the header name `name`, or -1. Exact match first, then case-insensitive if unique. */

@@ -88,16 +88,23 @@ export function buildFitData(
   const position = new Map(participants.map((id, i) => [id, i]));
   const n = participants.length;
   const sessionIndex = new Map(labels.map((s, k) => [s, k]));
-  const pick = (series: Float64Array, wanted: string | null): Float64Array => {
+  // For each entry of the brain table: its participant's position (−1 if not joined) and session number.
+  const entryParticipant = new Int32Array(brain.entries.length);
+  const entrySession = new Int32Array(brain.entries.length);
+  brain.entries.forEach((e, k) => {
+    entryParticipant[k] = position.get(e.id) ?? -1;
+    entrySession[k] = e.session === null ? 0 : (sessionIndex.get(e.session) ?? -1);
+  });
+  const chosen = session === null ? 0 : (sessionIndex.get(session) as number);
+  const pick = (series: Float64Array, s: number): Float64Array => {
     const out = new Float64Array(n).fill(Number.NaN);
-    brain.entries.forEach((e, k) => {
-      if (e.session !== wanted) return;
-      const i = position.get(e.id);
-      if (i !== undefined) out[i] = series[k];
-    });
+    for (let k = 0; k < series.length; k++) {
+      const i = entryParticipant[k];
+      if (i >= 0 && entrySession[k] === s) out[i] = series[k];
+    }
     return out;
   };
-  const values = brain.values.map((v) => pick(v, session));
+  const values = brain.values.map((v) => pick(v, chosen));
   const hasSe = brain.standardErrors.some((s) => s !== null);
   const data: FitData = {
     participants,
@@ -106,20 +113,9 @@ export function buildFitData(
     numericColumns: {},
     categoricalColumns: {},
   };
-  if (hasSe) data.standardErrors = brain.standardErrors.map((s) => (s === null ? null : pick(s, session)));
+  if (hasSe) data.standardErrors = brain.standardErrors.map((s) => (s === null ? null : pick(s, chosen)));
   if (labels.length > 0) {
-    data.sessions = {
-      labels,
-      values: brain.values.map((v) => {
-        const perSession = labels.map(() => new Float64Array(n).fill(Number.NaN));
-        brain.entries.forEach((e, k) => {
-          const i = position.get(e.id);
-          const s = e.session === null ? undefined : sessionIndex.get(e.session);
-          if (i !== undefined && s !== undefined) perSession[s][i] = v[k];
-        });
-        return perSession;
-      }),
-    };
+    data.sessions = { labels, values: brain.values.map((v) => labels.map((_, s) => pick(v, s))) };
   }
   if (sheet !== null) {
     const sheetRow = new Map(sheet.ids.map((id, r) => [id, r]));

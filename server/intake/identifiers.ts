@@ -16,9 +16,11 @@
  * "Left Handed" is not flagged). Record numbers are recognised by header
  * words only: by content they cannot be told from participant ids.
  *
- * Cost: O(columns × 200) cell tests. Never throws.
+ * Cost: one profile pass per column (shared with type inference), then
+ * O(columns × 200) pattern tests. Never throws.
  */
 import { isMissing } from "./cells";
+import { profileColumn } from "./columns";
 import type { RawTable } from "./read-table";
 
 export type IdentifierKind = "name" | "birth-date" | "address" | "phone" | "email" | "record-number";
@@ -153,7 +155,14 @@ export function findIdentifierColumns(table: RawTable): IdentifierFlag[] {
       flags.push({ column: name, kind: byHeader, reason: `the column name suggests ${KIND_WORDS[byHeader]}` });
       return;
     }
-    const cells = table.rows.map((r) => r[j]);
+    // A column of numbers and missing markers only cannot hold names, dates, addresses or e-mails.
+    if (profileColumn(table, j).text === 0) return;
+    const cells: string[] = [];
+    for (const row of table.rows) {
+      if (isMissing(row[j])) continue;
+      cells.push(row[j]);
+      if (cells.length >= SAMPLE) break;
+    }
     const byCells = identifierKindFromCells(cells);
     if (byCells) {
       const pct = Math.round(byCells.share * 100);

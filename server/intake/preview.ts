@@ -13,7 +13,7 @@
  */
 import { IntakeError, ProblemList, problem, type Problem } from "./errors";
 import { type BrainLayout, type BrainTable, analyseBrainTable, brainParticipantIds, brainSessions } from "./brain-table";
-import type { ColumnType } from "./columns";
+import type { ColumnProfile, ColumnType } from "./columns";
 import { findColumn, unknownColumnError } from "./columns";
 import { type IdentifierFlag, type IdentifierKind, findIdentifierColumns } from "./identifiers";
 import { type ParticipantSheet, analyseParticipantSheet } from "./participant-sheet";
@@ -40,7 +40,11 @@ export interface ColumnPreview {
   /** brain: id, session, region, se, region-name, value, ignored; sheet: id, variable */
   role: string;
   missing: number;
-  distinct: number;
+  /** Distinct values (category columns). */
+  distinct?: number;
+  /** Smallest and largest number (columns with numbers). */
+  min?: number;
+  max?: number;
   /** Why a brain-table column is not used. */
   note?: string;
   identifier?: { kind: IdentifierKind; reason: string };
@@ -89,6 +93,22 @@ export type ConfirmedTable =
   | { kind: "brain"; brain: BrainTable; identifierDecisions: IdentifierDecision[] }
   | { kind: "participants"; sheet: ParticipantSheet; identifierDecisions: IdentifierDecision[] };
 
+function summary(p: ColumnProfile): Pick<ColumnPreview, "missing" | "distinct" | "min" | "max"> {
+  const out: Pick<ColumnPreview, "missing" | "distinct" | "min" | "max"> = { missing: p.missing };
+  if (p.distinct !== undefined) out.distinct = p.distinct;
+  if (p.numbers > 0) {
+    let min = Number.POSITIVE_INFINITY;
+    let max = Number.NEGATIVE_INFINITY;
+    for (const x of p.values) {
+      if (x < min) min = x;
+      if (x > max) max = x;
+    }
+    out.min = min;
+    out.max = max;
+  }
+  return out;
+}
+
 function countDistinctIds(raw: RawTable, idColumn: string): number {
   const j = findColumn(raw, idColumn);
   return new Set(raw.rows.map((r) => r[j].trim())).size;
@@ -126,8 +146,7 @@ export function previewTable(raw: RawTable, kind: TableKind, options: PreviewOpt
                 ? "category"
                 : c.profile.type,
         role: c.role,
-        missing: c.profile.missing,
-        distinct: c.profile.distinct,
+        ...summary(c.profile),
         ...(c.reason ? { note: c.reason } : {}),
       }),
     );
@@ -151,7 +170,7 @@ export function previewTable(raw: RawTable, kind: TableKind, options: PreviewOpt
     idColumnGuessed: a.idColumnGuessed,
     participants: countDistinctIds(raw, a.idColumn),
     columns: a.columns.map((c) =>
-      withFlag({ name: c.name, type: c.type, role: c.role, missing: c.profile.missing, distinct: c.profile.distinct }),
+      withFlag({ name: c.name, type: c.type, role: c.role, ...summary(c.profile) }),
     ),
     problems: [...a.problems],
     problemCount: a.problemCount,

@@ -1,5 +1,6 @@
+import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { DEFAULT_MAX_BYTES, DEFAULT_MAX_COLUMNS, IntakeError, readTable } from "../../../server/intake";
+import { DEFAULT_MAX_BYTES, DEFAULT_MAX_COLUMNS, IntakeError, parseNumberCell, readTable } from "../../../server/intake";
 
 const enc = (s: string) => new TextEncoder().encode(s);
 
@@ -176,5 +177,44 @@ describe("readTable: refusals (one per bad-input kind)", () => {
     } catch (e) {
       expect((e as IntakeError).status).toBe(413);
     }
+  });
+});
+
+describe("number cells", () => {
+  // The documented number syntax, and the engine's own correctly rounded conversion, as the reference.
+  const SYNTAX = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/;
+  const reference = (t: string) => (SYNTAX.test(t) && Number.isFinite(Number(t)) ? Number(t) : undefined);
+
+  it("reads plain decimals exactly as Number() does, and refuses everything else", () => {
+    const cases = ["0", "-0.42", "+3e-4", ".5", "5.", "1e22", "1e23", "123456789012345", "1234567890123456789", "0.1", "0.000000000000000000000001234", "9007199254740993", "1e400", "-", ".", "1e", "e5", "1,5", "0x10", "Inf", "NaN", " 2.5 ", "1 000", "--1", "1e+5", "1E-5", "00012.5000"];
+    for (const c of cases) {
+      const expected = c.trim() === "" ? null : reference(c.trim());
+      expect(parseNumberCell(c), c).toBe(expected);
+    }
+  });
+
+  it("agrees with Number() on thousands of random decimal strings (seeded)", () => {
+    const decimal = fc
+      .tuple(
+        fc.constantFrom("", "+", "-"),
+        fc.stringMatching(/^\d{0,20}$/),
+        fc.constantFrom("", "."),
+        fc.stringMatching(/^\d{0,20}$/),
+        fc.constantFrom("", "e", "E", "e-", "e+"),
+        fc.stringMatching(/^\d{0,3}$/),
+      )
+      .map((parts) => parts.join(""));
+    fc.assert(
+      fc.property(decimal, (t) => {
+        const expected = t === "" ? null : reference(t);
+        expect(Object.is(parseNumberCell(t), expected) || parseNumberCell(t) === expected).toBe(true);
+      }),
+      { seed: 31, numRuns: 5000 },
+    );
+  });
+
+  it("reads the missing markers as missing", () => {
+    for (const m of ["", " ", "n/a", "N/A", "NA", " n/a "]) expect(parseNumberCell(m)).toBeNull();
+    expect(parseNumberCell("na")).toBeUndefined();
   });
 });

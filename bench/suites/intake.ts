@@ -1,0 +1,89 @@
+/**
+ * Intake speed: a 2,000 participants × 400 regions brain table (≈ 8 MB CSV)
+ * and a participant sheet, through the same steps as an upload — read
+ * (decode, delimiter, papaparse), preview (types, identifier guard),
+ * confirm (typed brain table / sheet), join (roster, FitData), SHA-256.
+ * Storage is measured by the upload route's own benchmark once it exists.
+ * Target for the whole upload: ≤ 3 s on this machine.
+ */
+import os from "node:os";
+import { createRng } from "../../server/stats/rng";
+import {
+  buildFitData,
+  confirmTable,
+  previewTable,
+  readTable,
+  sha256Hex,
+} from "../../server/intake";
+
+const PARTICIPANTS = 2000;
+const REGIONS = 400;
+
+function makeFiles(): { brain: Uint8Array; sheet: Uint8Array } {
+  const rng = createRng(4242);
+  const header = ["participant_id", ...Array.from({ length: REGIONS }, (_, r) => `region_${String(r + 1).padStart(3, "0")}`)];
+  const lines = [header.join(",")];
+  for (let i = 0; i < PARTICIPANTS; i++) {
+    const cells = [`sub-${String(i + 1).padStart(4, "0")}`];
+    for (let r = 0; r < REGIONS; r++) cells.push((rng.next() * 4 - 2).toFixed(6));
+    lines.push(cells.join(","));
+  }
+  const sheet = ["participant_id\tgroup\tage\taccuracy\tmean_fd"];
+  for (let i = 0; i < PARTICIPANTS; i++) {
+    sheet.push(
+      [
+        `sub-${String(i + 1).padStart(4, "0")}`,
+        rng.next() < 0.5 ? "patient" : "control",
+        String(18 + rng.int(50)),
+        (0.5 + rng.next() / 2).toFixed(3),
+        (0.05 + rng.next() / 5).toFixed(3),
+      ].join("\t"),
+    );
+  }
+  const enc = new TextEncoder();
+  return { brain: enc.encode(`${lines.join("\n")}\n`), sheet: enc.encode(`${sheet.join("\n")}\n`) };
+}
+
+function time<T>(f: () => T): [T, number] {
+  const t0 = performance.now();
+  const out = f();
+  return [out, performance.now() - t0];
+}
+
+export default async function intakeBench(): Promise<void> {
+  const { brain, sheet } = makeFiles();
+  console.log(
+    `brain table ${PARTICIPANTS} × ${REGIONS}: ${(brain.byteLength / 1e6).toFixed(1)} MB; sheet ${(sheet.byteLength / 1e3).toFixed(0)} kB`,
+  );
+  console.log(`machine load (1-minute average): ${os.loadavg()[0].toFixed(1)}`);
+  const totals: number[] = [];
+  for (let run = 1; run <= 3; run++) {
+    // Upload request: read both files, preview them, hash them.
+    const [, tUpload] = time(() => {
+      previewTable(readTable(brain, "brain.csv"), "brain");
+      previewTable(readTable(sheet, "participants.tsv"), "participants");
+      sha256Hex(brain);
+      sha256Hex(sheet);
+    });
+    // Confirm request: the stored bytes are read again (nothing cached), typed, and joined.
+    const [rawBrain, tRead] = time(() => readTable(brain, "brain.csv"));
+    const [rawSheet, tReadSheet] = time(() => readTable(sheet, "participants.tsv"));
+    const [confirmed, tConfirm] = time(() => ({
+      b: confirmTable(rawBrain, "brain"),
+      s: confirmTable(rawSheet, "participants"),
+    }));
+    const [, tJoin] = time(() => {
+      if (confirmed.b.kind !== "brain" || confirmed.s.kind !== "participants") throw new Error("unexpected kinds");
+      return buildFitData(confirmed.b.brain, confirmed.s.sheet);
+    });
+    const total = tUpload + tRead + tReadSheet + tConfirm + tJoin;
+    totals.push(total);
+    console.log(
+      `run ${run}: upload (read, preview, sha256) ${tUpload.toFixed(0)} ms · confirm: read ${(tRead + tReadSheet).toFixed(0)} ms, type and check ${tConfirm.toFixed(0)} ms, join ${tJoin.toFixed(0)} ms · total ${total.toFixed(0)} ms`,
+    );
+  }
+  const median = [...totals].sort((a, b) => a - b)[1];
+  console.log(
+    `parse + validate + join, both requests (median of 3): ${median.toFixed(0)} ms — target for the whole upload ≤ 3000 ms (storage not included here)`,
+  );
+}
