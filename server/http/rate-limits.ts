@@ -23,10 +23,12 @@ export function limitByIpAndAddress(
   settings: RateLimitSettings,
   addressOf: (req: Request, res: Response) => string | null,
 ): RequestHandler[] {
-  const handler = (_req: Request, res: Response, next: (error: unknown) => void) => {
-    const minutes = Math.ceil(settings.windowMs / 60_000);
+  const handler = (req: Request, res: Response, next: (error: unknown) => void) => {
+    const reset = (req as Request & { rateLimit?: { resetTime?: Date } }).rateLimit?.resetTime;
+    const seconds = reset ? Math.max(1, Math.ceil((reset.getTime() - Date.now()) / 1000)) : Math.ceil(settings.windowMs / 1000);
+    res.set("Retry-After", String(seconds));
+    const minutes = Math.ceil(seconds / 60);
     next(new HttpError(429, "rate_limited", `Too many ${what} requests; try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`));
-    void res;
   };
   const byIp = rateLimit({
     windowMs: settings.windowMs,
