@@ -5,6 +5,7 @@
  * prints the address, and shuts down cleanly on SIGINT/SIGTERM (stops
  * listening, closes the fakes and the database, releases the lock).
  */
+import { existsSync } from "node:fs";
 import type { Server } from "node:http";
 import { openDatabase, type OpenDatabase } from "../db/client";
 import { migrateDatabase } from "../db/migrate";
@@ -40,6 +41,8 @@ async function main(): Promise<void> {
   };
 
   try {
+    // Variables already set in the environment win over the .env file.
+    if (existsSync(".env")) process.loadEnvFile(".env");
     const config = loadConfig();
     lock = acquireDataLock(config.dataDir);
     process.once("SIGINT", () => void stop(0));

@@ -11,6 +11,7 @@ import { count, eq } from "drizzle-orm";
 import type { Database } from "../client";
 import { memberships, studies, users, type Role } from "../schema";
 import { recordEvent } from "../../server/services/audit";
+import { demoScenario } from "./demo-data";
 
 export interface DemoPerson {
   email: string;
@@ -26,7 +27,7 @@ export const demoPeople: readonly DemoPerson[] = [
 ];
 
 export const demoStudy = {
-  name: "Harbour Bay working-memory cohort (demo)",
+  name: `${demoScenario.cohort} (demo)`,
   description:
     "Invented demo study: two groups scanned with a working-memory load task; one contrast value per region per participant, with a participant sheet. All values come from a seeded generator.",
 };

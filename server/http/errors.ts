@@ -3,13 +3,15 @@
  * `{ "error": { "code", "message", "details"? } }`.
  *
  * Routes and services throw `HttpError` (or its helpers `notFound`,
- * `forbidden`, …); zod validation failures become 400, `StatsError` and
- * intake errors (anything with `name` "IntakeError" or a numeric `status`
- * of 422) become 422, body-parser's size errors 413, anything else 500
- * (logged on the server, never a stack to the client).
+ * `forbidden`, …); zod validation failures become 400, `StatsError` 422,
+ * `IntakeError` its own status (400 unreadable file, 413 too large, 422
+ * content not as asked) with its problems (file, row, column) in
+ * `details`, body-parser's size errors 413, anything else 500 (logged on
+ * the server, never a stack to the client).
  */
 import type { ErrorRequestHandler, RequestHandler } from "express";
 import { ZodError } from "zod";
+import { IntakeError } from "../intake/errors";
 import { StatsError } from "../stats/errors";
 
 export class HttpError extends Error {
@@ -62,10 +64,13 @@ export function toErrorResponse(error: unknown): { status: number; body: ErrorBo
   if (error instanceof StatsError) {
     return { status: 422, body: envelope(error.code, error.message) };
   }
-  const e = error as { name?: string; status?: number; statusCode?: number; type?: string; message?: string; code?: string; details?: unknown };
-  if (e && (e.name === "IntakeError" || e.status === 422)) {
-    return { status: 422, body: envelope(typeof e.code === "string" ? e.code : "invalid_input", String(e.message), e.details) };
+  if (error instanceof IntakeError) {
+    return {
+      status: error.status,
+      body: envelope(error.problems[0]?.code ?? "invalid_file", error.message, { problems: error.problems, problemCount: error.problemCount }),
+    };
   }
+  const e = error as { name?: string; status?: number; statusCode?: number; type?: string; message?: string; code?: string; details?: unknown };
   if (e && e.type === "entity.too.large") {
     return { status: 413, body: envelope("payload_too_large", "The request body is larger than the server accepts.") };
   }

@@ -90,8 +90,11 @@ function startServer(dataDir: string, port: number): Proc {
     env: { ...process.env, NODE_ENV: "development", DATA_DIR: dataDir, PORT: String(port), HOST: "127.0.0.1", PUBLIC_URL: "" },
     stdio: ["ignore", "pipe", "pipe"],
   });
-  child.stdout?.on("data", (c: Buffer) => (out += c.toString()));
-  child.stderr?.on("data", (c: Buffer) => (out += c.toString()));
+  const collect = (c: Buffer) => {
+    out += c.toString();
+  };
+  child.stdout?.on("data", collect);
+  child.stderr?.on("data", collect);
   const exited = new Promise<number | null>((resolve) => child.once("exit", (code) => resolve(code)));
   return { child, output: () => out, exited };
 }
