@@ -559,7 +559,7 @@ export function bootstrapStatistic(d: RegionData): (indices: Int32Array) => numb
     guard(() => {
       const { x, z, m } = rowsOf(indices);
       if (m <= p) return Number.NaN;
-      return solveLinearModel(qrDecompose(x, m, p), z).coefficients[d.tested];
+      return solveLinearModel(qrDecompose(x, m, p, undefined, { thin: false }), z).coefficients[d.tested];
     });
 }
 

@@ -33,10 +33,18 @@ export interface QrDecomposition {
 }
 
 /**
- * Householder QR of the row-major n×p design `x`. Requires n > p ≥ 1 and
- * finite entries; throws StatsError naming a collinear column.
+ * Householder QR of the row-major n×p design `x`. Requires n ≥ p ≥ 1 and
+ * finite entries; throws StatsError naming a collinear column. With
+ * `{ thin: false }` the thin Q and the hat values are not formed (both are
+ * then empty arrays): enough for solving, as iteratively reweighted fits do.
  */
-export function qrDecompose(x: ArrayLike<number>, n: number, p: number, columnNames?: readonly string[]): QrDecomposition {
+export function qrDecompose(
+  x: ArrayLike<number>,
+  n: number,
+  p: number,
+  columnNames?: readonly string[],
+  options: { thin?: boolean } = {},
+): QrDecomposition {
   require(p >= 1 && n >= p, "qrDecompose requires at least as many rows as columns");
   require(x.length === n * p, "qrDecompose requires a design of n·p entries");
   const names = columnNames ?? Array.from({ length: p }, (_, j) => `column ${j + 1}`);
@@ -88,6 +96,9 @@ export function qrDecompose(x: ArrayLike<number>, n: number, p: number, columnNa
       for (let k = i + 1; k <= j; k++) s += r[i * p + k] * rInverse[k * p + j];
       rInverse[i * p + j] = -s / r[i * p + i];
     }
+  }
+  if (options.thin === false) {
+    return { n, p, columnNames: names, v: a, beta, r, rInverse, hat: new Float64Array(0), q: new Float64Array(0) };
   }
   // Thin Q: apply H_0 … H_{p−1} to the first p unit vectors (in reverse order).
   const q = new Float64Array(n * p);

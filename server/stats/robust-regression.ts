@@ -81,7 +81,7 @@ function weightedFit(x: ArrayLike<number>, n: number, p: number, y: ArrayLike<nu
     ys[i] = y[i] * sw;
     for (let j = 0; j < p; j++) xs[i * p + j] = x[i * p + j] * sw;
   }
-  const fit = solveLinearModel(qrDecompose(xs, n, p, names), ys);
+  const fit = solveLinearModel(qrDecompose(xs, n, p, names, { thin: false }), ys);
   const residuals = new Float64Array(n);
   for (let i = 0; i < n; i++) {
     let f = 0;
@@ -184,7 +184,7 @@ export function robustLinearModel(
   varD /= n - 1;
   const kappa = 1 + (p * varD) / (n * meanD * meanD);
   const stddev = Math.sqrt(sumPsi2 / df) * (kappa / meanD);
-  const cov = unscaledCovariance(qrDecompose(x, n, p, names));
+  const cov = unscaledCovariance(qrDecompose(x, n, p, names, { thin: false }));
   const se = new Float64Array(p);
   const t = new Float64Array(p);
   const pValues = new Float64Array(p);

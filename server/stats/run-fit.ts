@@ -372,13 +372,32 @@ function nullHistogram(values: ArrayLike<number>, observed: number, bins = NULL_
 
 /** Throws if any number in the result is NaN or ±Infinity: no such value may leave the engine. */
 function assertFinite(value: unknown, path: string): void {
-  if (typeof value === "number") {
-    if (!Number.isFinite(value)) throw new StatsError(`internal: the fit produced a non-finite number at ${path}`);
-  } else if (Array.isArray(value)) {
-    value.forEach((v, i) => assertFinite(v, `${path}[${i}]`));
-  } else if (value !== null && typeof value === "object") {
-    for (const [k, v] of Object.entries(value)) assertFinite(v, `${path}.${k}`);
+  const bad = findNonFinite(value);
+  if (bad !== null) throw new StatsError(`internal: the fit produced a non-finite number at ${path}${bad}`);
+}
+
+function findNonFinite(value: unknown): string | null {
+  if (typeof value === "number") return Number.isFinite(value) ? null : "";
+  if (value === null || typeof value !== "object") return null;
+  if (Array.isArray(value)) {
+    for (let i = 0; i < value.length; i++) {
+      const v = value[i];
+      if (typeof v === "number" ? !Number.isFinite(v) : v !== null && typeof v === "object") {
+        const inner = findNonFinite(v);
+        if (inner !== null) return `[${i}]${inner}`;
+      }
+    }
+    return null;
   }
+  const record = value as Record<string, unknown>;
+  for (const key in record) {
+    const v = record[key];
+    if (typeof v === "number" ? !Number.isFinite(v) : v !== null && typeof v === "object") {
+      const inner = findNonFinite(v);
+      if (inner !== null) return `.${key}${inner}`;
+    }
+  }
+  return null;
 }
 
 interface RegionWork {
