@@ -31,3 +31,5 @@ export * from "./attenuation";
 export * from "./power";
 export * from "./permutation";
 export * from "./bootstrap";
+export * from "./fit-methods";
+export * from "./run-fit";
