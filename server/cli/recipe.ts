@@ -1,0 +1,245 @@
+/**
+ * Recipes: the JSON that fully describes a fit, and running one from files.
+ *
+ * A recipe holds the model fields of `modelSpecSchema` plus the file keys:
+ * `brainTable` (path of the brain table), `participantSheet` (path; optional
+ * for one-sample and reliability fits without covariates), `idColumn`
+ * (default "participant_id", the same in both files), and the intake keys
+ * `seSuffix` (default "_se"), `session` (the session fitted when the brain
+ * table has several; default the first in natural order) and `mappings`
+ * (confirmed id mappings, brain id → sheet id; default none). A recipe
+ * printed by the recipe command also carries `softwareVersion` and
+ * `inputs` (each file's name and SHA-256); fed back in, the hashes are
+ * checked, so a re-run uses exactly the same bytes. Unknown keys are errors.
+ *
+ * Paths are relative to the recipe's folder. Reading the files is the only
+ * I/O; parsing, joining and fitting use the same intake library and the same
+ * `runFit` as the app.
+ */
+import { readFileSync } from "node:fs";
+import { basename, dirname, resolve } from "node:path";
+import { fileURLToPath } from "node:url";
+import { z } from "zod";
+import { type FitResult, type ModelSpec, modelSpecSchema } from "../model/spec";
+import {
+  IntakeError,
+  buildBrainTable,
+  buildFitData,
+  buildParticipantSheet,
+  problem,
+  readTable,
+  sha256Hex,
+  type ParticipantSheet,
+} from "../intake";
+
+const fileRef = z.strictObject({ file: z.string().min(1), sha256: z.string().regex(/^[0-9a-f]{64}$/) });
+
+export const recipeSchema = z.strictObject({
+  brainTable: z.string().min(1),
+  participantSheet: z.string().min(1).optional(),
+  idColumn: z.string().min(1).default("participant_id"),
+  seSuffix: z.string().min(1).default("_se"),
+  session: z.string().min(1).optional(),
+  mappings: z.array(z.strictObject({ brainId: z.string().min(1), sheetId: z.string().min(1) })).default([]),
+  ...modelSpecSchema.shape,
+  softwareVersion: z.string().min(1).optional(),
+  inputs: z.strictObject({ brainTable: fileRef, participantSheet: fileRef.optional() }).optional(),
+});
+
+export type Recipe = z.output<typeof recipeSchema>;
+
+/** A fault in the recipe or its files: the command prints `message` as one line and exits with code 2. */
+export class RecipeError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = "RecipeError";
+  }
+}
+
+/** The software version written into every recipe (package.json `version`). */
+export function softwareVersion(): string {
+  const pkg = JSON.parse(readFileSync(fileURLToPath(new URL("../../package.json", import.meta.url)), "utf8")) as {
+    version: string;
+  };
+  return pkg.version;
+}
+
+/** The recipe JSON document checked against the schema; throws RecipeError naming the key at fault. */
+export function parseRecipe(text: string, recipeName: string): Recipe {
+  let json: unknown;
+  try {
+    json = JSON.parse(text);
+  } catch (e) {
+    throw new RecipeError(`${recipeName}: invalid JSON (${(e as Error).message})`);
+  }
+  if (json === null || typeof json !== "object" || Array.isArray(json)) {
+    throw new RecipeError(`${recipeName}: a recipe must be a JSON object`);
+  }
+  const parsed = recipeSchema.safeParse(json);
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0];
+    const path = issue.path.map(String).join(".");
+    if (issue.code === "unrecognized_keys") {
+      const keys = issue.keys.map((k) => `"${path ? `${path}.` : ""}${k}"`).join(", ");
+      throw new RecipeError(`${recipeName}: unknown key ${keys}`);
+    }
+    if (path === "") throw new RecipeError(`${recipeName}: ${issue.message}`);
+    throw new RecipeError(`${recipeName}: key "${path}": ${issue.message}`);
+  }
+  return parsed.data;
+}
+
+function readInput(recipeDir: string, file: string, what: string): Uint8Array {
+  try {
+    return readFileSync(resolve(recipeDir, file));
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    if (code === "ENOENT") throw new RecipeError(`${file}: ${what} file not found (paths are relative to the recipe's folder)`);
+    if (code === "EISDIR") throw new RecipeError(`${file}: ${what} is a folder, not a file`);
+    throw new RecipeError(`${file}: ${what} file cannot be read (${code ?? (e as Error).message})`);
+  }
+}
+
+function checkHash(file: string, bytes: Uint8Array, expected: { file: string; sha256: string } | undefined, key: string): string {
+  const sha256 = sha256Hex(bytes);
+  if (expected === undefined) return sha256;
+  if (expected.file !== file) {
+    throw new RecipeError(`recipe key "inputs.${key}.file" is "${expected.file}" but "${key}" names "${file}"`);
+  }
+  if (expected.sha256 !== sha256) {
+    throw new RecipeError(
+      `${file}: content differs from the recipe (SHA-256 ${sha256.slice(0, 12)}… instead of ${expected.sha256.slice(0, 12)}…); the recipe was made from other data`,
+    );
+  }
+  return sha256;
+}
+
+function requireColumn(sheet: ParticipantSheet, name: string, key: string): void {
+  if (sheet.columns.some((c) => c.name === name)) return;
+  const names = sheet.columns.map((c) => c.name).slice(0, 12).join(", ");
+  throw new IntakeError(422, [
+    problem(sheet.file, "unknown_column", `no column named "${name}" (recipe key ${key}); the sheet has: ${sheet.idColumn}, ${names}`, {
+      row: 1,
+    }),
+  ]);
+}
+
+export interface RecipeOutput {
+  [key: string]: unknown;
+  regions: FitResult["regions"];
+  participants: FitResult["participants"];
+  roster: {
+    matched: number;
+    onlyInBrainTable: string[];
+    onlyInParticipantSheet: string[];
+    duplicates: { file: string; key: string; ids: string[] }[];
+    nearMisses: { brainId: string; sheetId: string; reason: string }[];
+    rule: string | null;
+  };
+  recipe: Record<string, unknown>;
+}
+
+/**
+ * Reads the recipe at `recipePath` and its files, fits, and returns the
+ * output document. Throws RecipeError and IntakeError (bad recipe or files)
+ * and StatsError (the fit's preconditions); anything else is a fault of the
+ * program.
+ */
+export async function runRecipe(recipePath: string): Promise<RecipeOutput> {
+  const recipeName = basename(recipePath);
+  let text: string;
+  try {
+    text = readFileSync(recipePath, "utf8");
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    throw new RecipeError(
+      code === "ENOENT" ? `${recipeName}: recipe file not found` : `${recipeName}: recipe cannot be read (${code ?? (e as Error).message})`,
+    );
+  }
+  const recipe = parseRecipe(text, recipeName);
+  const dir = dirname(recipePath);
+
+  const needsSheet =
+    recipe.kind === "two-group" || recipe.kind === "association" || recipe.covariates.length > 0 || recipe.mappings.length > 0;
+  if (needsSheet && recipe.participantSheet === undefined) {
+    const why = recipe.kind === "two-group" || recipe.kind === "association" ? `kind "${recipe.kind}"` : recipe.mappings.length > 0 ? "mappings" : "covariates";
+    throw new RecipeError(`${recipeName}: key "participantSheet" is required for ${why}`);
+  }
+  if (recipe.inputs?.participantSheet && recipe.participantSheet === undefined) {
+    throw new RecipeError(`${recipeName}: key "inputs.participantSheet" is given but "participantSheet" is not`);
+  }
+
+  const brainBytes = readInput(dir, recipe.brainTable, "brain table");
+  const sheetBytes = recipe.participantSheet === undefined ? null : readInput(dir, recipe.participantSheet, "participant sheet");
+  const brainSha = checkHash(recipe.brainTable, brainBytes, recipe.inputs?.brainTable, "brainTable");
+  const sheetSha =
+    sheetBytes === null || recipe.participantSheet === undefined
+      ? null
+      : checkHash(recipe.participantSheet, sheetBytes, recipe.inputs?.participantSheet, "participantSheet");
+
+  const brain = buildBrainTable(readTable(brainBytes, recipe.brainTable), {
+    idColumn: recipe.idColumn,
+    seSuffix: recipe.seSuffix,
+    regions: recipe.regions,
+  });
+  let sheet: ParticipantSheet | null = null;
+  if (sheetBytes !== null && recipe.participantSheet !== undefined) {
+    sheet = buildParticipantSheet(readTable(sheetBytes, recipe.participantSheet), { idColumn: recipe.idColumn });
+    if (recipe.predictor !== undefined) requireColumn(sheet, recipe.predictor, "predictor");
+    if (recipe.group !== undefined) requireColumn(sheet, recipe.group, "group");
+    for (const c of recipe.covariates) requireColumn(sheet, c, "covariates");
+  }
+  const built = buildFitData(brain, sheet, { session: recipe.session, mappings: recipe.mappings });
+
+  const spec: ModelSpec = {
+    kind: recipe.kind,
+    regions: [...built.data.regions],
+    ...(recipe.predictor !== undefined ? { predictor: recipe.predictor } : {}),
+    ...(recipe.group !== undefined ? { group: recipe.group } : {}),
+    ...(recipe.levels !== undefined ? { levels: recipe.levels } : {}),
+    covariates: recipe.covariates,
+    interaction: recipe.interaction,
+    estimator: recipe.estimator,
+    inference: recipe.inference,
+    resamples: recipe.resamples,
+    seed: recipe.seed,
+    correction: recipe.correction,
+    setAside: recipe.setAside,
+    weights: recipe.weights,
+    tau2Method: recipe.tau2Method,
+    smallSample: recipe.smallSample,
+  };
+  // Loaded only now, so a bad recipe or file is reported without loading the engine.
+  const { runFit } = await import("../stats/run-fit");
+  const result = runFit(spec, built.data);
+
+  const roster = built.roster;
+  const filled: Record<string, unknown> = {
+    brainTable: recipe.brainTable,
+    ...(recipe.participantSheet !== undefined ? { participantSheet: recipe.participantSheet } : {}),
+    idColumn: recipe.idColumn,
+    seSuffix: recipe.seSuffix,
+    ...(built.session !== null ? { session: built.session } : {}),
+    mappings: recipe.mappings,
+    ...spec,
+    softwareVersion: softwareVersion(),
+    inputs: {
+      brainTable: { file: recipe.brainTable, sha256: brainSha },
+      ...(sheetSha !== null && recipe.participantSheet !== undefined
+        ? { participantSheet: { file: recipe.participantSheet, sha256: sheetSha } }
+        : {}),
+    },
+  };
+  return {
+    ...result,
+    roster: {
+      matched: roster === null ? built.data.participants.length : roster.matched.length,
+      onlyInBrainTable: roster?.onlyInBrainTable ?? [],
+      onlyInParticipantSheet: roster?.onlyInParticipantSheet ?? [],
+      duplicates: (roster?.duplicates ?? []).map((d) => ({ file: d.file, key: d.key, ids: d.ids })),
+      nearMisses: roster?.nearMisses ?? [],
+      rule: roster?.rule ?? null,
+    },
+    recipe: filled,
+  };
+}
