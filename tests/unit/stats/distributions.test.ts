@@ -75,6 +75,8 @@ describe("noncentral t distribution", () => {
       [2.5, 9, 1.2],
       [-0.5, 20, 0.8],
       [4, 5, 3],
+      [20, 9, 30],
+      [-3, 15, -2.5],
     ] as const) {
       expect(noncentralTCdf(t, nu, delta)).toBeCloseTo(noncentralTByQuadrature(t, nu, delta), 6); // (independent quadrature)
     }
