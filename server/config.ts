@@ -186,6 +186,12 @@ function loadOrCreateSecrets(dataDir: string): Secrets {
     identityClientSecret: randomBytes(24).toString("base64url"),
     identityCookieKeys: [randomBytes(24).toString("base64url")],
   };
-  writeFileSync(file, `${JSON.stringify(secrets, null, 2)}\n`, { mode: 0o600, flag: "wx" });
+  try {
+    writeFileSync(file, `${JSON.stringify(secrets, null, 2)}\n`, { mode: 0o600, flag: "wx" });
+  } catch (error) {
+    // Another process created it between our check and our write: use theirs.
+    if ((error as NodeJS.ErrnoException).code === "EEXIST") return loadOrCreateSecrets(dataDir);
+    throw error;
+  }
   return secrets;
 }

@@ -1,0 +1,66 @@
+/**
+ * Configuration: defaults, secrets generated once into DATA_DIR and reused,
+ * and fail-fast messages that name the variable.
+ */
+import { mkdtempSync, readFileSync, rmSync, statSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import { afterAll, describe, expect, it } from "vitest";
+import { ConfigError, loadConfig } from "../../server/config";
+
+const dirs: string[] = [];
+function dataDir(): string {
+  const dir = mkdtempSync(join(tmpdir(), "covarion-config-"));
+  dirs.push(dir);
+  return dir;
+}
+afterAll(() => {
+  for (const d of dirs) rmSync(d, { recursive: true, force: true });
+});
+
+describe("loadConfig", () => {
+  it("applies the documented defaults", () => {
+    const dir = dataDir();
+    const config = loadConfig({ DATA_DIR: dir });
+    expect(config).toMatchObject({
+      port: 3000,
+      host: "127.0.0.1",
+      publicUrl: "http://127.0.0.1:3000",
+      nodeEnv: "development",
+      demo: true,
+      devServices: true,
+      databaseDir: join(dir, "db"),
+      oidc: null,
+      smtpUrl: null,
+    });
+  });
+
+  it("uses PORT, HOST and PUBLIC_URL when given, and turns demo off in production unless asked", () => {
+    const config = loadConfig({ DATA_DIR: dataDir(), PORT: "4100", HOST: "0.0.0.0" });
+    expect(config.publicUrl).toBe("http://0.0.0.0:4100");
+    expect(loadConfig({ DATA_DIR: dataDir(), PUBLIC_URL: "https://covarion.lab.example/" }).publicUrl).toBe("https://covarion.lab.example");
+    const prod = loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://mail.lab.example:587" });
+    expect(prod).toMatchObject({ demo: false, devServices: false, production: true });
+    expect(loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://m.example", DEMO: "on" }).demo).toBe(true);
+  });
+
+  it("generates secrets on first start into DATA_DIR (mode 600) and reuses them", () => {
+    const dir = dataDir();
+    const first = loadConfig({ DATA_DIR: dir });
+    const second = loadConfig({ DATA_DIR: dir });
+    expect(first.secrets).toEqual(second.secrets);
+    expect(first.secrets.authSecret.length).toBeGreaterThanOrEqual(32);
+    expect(statSync(join(dir, "secrets.json")).mode & 0o777).toBe(0o600);
+    expect(JSON.parse(readFileSync(join(dir, "secrets.json"), "utf8")).authSecret).toBe(first.secrets.authSecret);
+    expect(loadConfig({ DATA_DIR: dir, AUTH_SECRET: "s".repeat(40) }).secrets.authSecret).toBe("s".repeat(40));
+  });
+
+  it("fails fast naming the variable", () => {
+    expect(() => loadConfig({ DATA_DIR: dataDir(), PORT: "eighty" })).toThrow(ConfigError);
+    expect(() => loadConfig({ DATA_DIR: dataDir(), PORT: "eighty" })).toThrow(/PORT is invalid.*"eighty"/);
+    expect(() => loadConfig({ DATA_DIR: dataDir(), PUBLIC_URL: "ftp://x" })).toThrow(/PUBLIC_URL/);
+    expect(() => loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production" })).toThrow(/SMTP_URL is required/);
+    expect(() => loadConfig({ DATA_DIR: dataDir(), OIDC_ISSUER: "https://idp.example" })).toThrow(/must be given together/);
+    expect(() => loadConfig({ DATA_DIR: dataDir(), AUTH_SECRET: "short" })).toThrow(/AUTH_SECRET/);
+  });
+});
