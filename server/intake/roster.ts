@@ -14,7 +14,7 @@
  * Cost: O(n) hashing for matches; near misses compare the unmatched ids
  * pairwise, O(unmatched brain × unmatched sheet × id length).
  */
-import { IntakeError, ProblemList, problem } from "./errors";
+import { ProblemList, problem } from "./errors";
 import { quoteCell } from "./cells";
 
 export interface IdMapping {

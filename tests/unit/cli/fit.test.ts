@@ -28,8 +28,12 @@ function run(args: string[], viaNpm = false): Promise<Run> {
       : spawn(process.execPath, ["--import", "tsx", join(root, "server", "cli", "fit.ts"), ...args], { cwd: root });
     let stdout = "";
     let stderr = "";
-    child.stdout.on("data", (d) => (stdout += d));
-    child.stderr.on("data", (d) => (stderr += d));
+    child.stdout.on("data", (d) => {
+      stdout += d;
+    });
+    child.stderr.on("data", (d) => {
+      stderr += d;
+    });
     child.on("error", reject);
     child.on("close", (code) => resolve({ code, stdout, stderr }));
   });

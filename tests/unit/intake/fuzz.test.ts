@@ -72,7 +72,7 @@ describe("intake never fails with anything but IntakeError", () => {
     // The generator must reach past the reader often enough to exercise the later stages.
     expect(outcomes.read).toBeGreaterThan(300);
     expect(outcomes.built).toBeGreaterThan(30);
-  });
+  }, 60_000);
 
   it("on random well-formed tables, and export then re-read gives the same cells", () => {
     const cell = fc.oneof(
@@ -102,5 +102,5 @@ describe("intake never fails with anything but IntakeError", () => {
       }),
       { seed: 7, numRuns: 1000 },
     );
-  });
+  }, 60_000);
 });

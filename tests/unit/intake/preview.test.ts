@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { IntakeError, PREVIEW_ROWS, confirmTable, previewTable, readTable } from "../../../server/intake";
+import { type IntakeError, PREVIEW_ROWS, confirmTable, previewTable, readTable } from "../../../server/intake";
 
 const sheetText =
   "participant_id,age,group,email,DOB\n" +

@@ -156,19 +156,19 @@ describe("readTable: refusals (one per bad-input kind)", () => {
     const e = refusal(`${header}\n${row}\n`);
     expect(e.status).toBe(413);
     expect(e.problems[0].code).toBe("too_many_columns");
-  });
+  }, 30_000);
 
   it("exactly 20,000 columns is accepted", () => {
     const header = Array.from({ length: DEFAULT_MAX_COLUMNS }, (_, j) => `c${j}`).join(",");
     const row = Array.from({ length: DEFAULT_MAX_COLUMNS }, () => "1").join(",");
     expect(readTable(`${header}\n${row}\n`, "wide.csv").header.length).toBe(DEFAULT_MAX_COLUMNS);
-  });
+  }, 30_000);
 
   it("more than 50 MB → 413 (checked before decoding)", () => {
     const e = refusal(new Uint8Array(DEFAULT_MAX_BYTES + 1).fill(0x61));
     expect(e.status).toBe(413);
     expect(e.problems[0].code).toBe("too_large");
-  });
+  }, 30_000);
 
   it("the byte limit can be lowered by the caller", () => {
     try {
@@ -211,7 +211,7 @@ describe("number cells", () => {
       }),
       { seed: 31, numRuns: 5000 },
     );
-  });
+  }, 30_000);
 
   it("reads the missing markers as missing", () => {
     for (const m of ["", " ", "n/a", "N/A", "NA", " n/a "]) expect(parseNumberCell(m)).toBeNull();

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { IntakeError, ROSTER_RULE, joinRoster, normaliseId, oneEditApart } from "../../../server/intake";
+import { type IntakeError, ROSTER_RULE, joinRoster, normaliseId, oneEditApart } from "../../../server/intake";
 
 describe("roster join", () => {
   it("normalises ids: trim, case, optional sub- prefix", () => {
