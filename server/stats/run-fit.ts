@@ -128,7 +128,7 @@ function checkData(data: FitData): void {
 }
 
 function has(record: Readonly<Record<string, unknown>>, key: string): boolean {
-  return Object.prototype.hasOwnProperty.call(record, key);
+  return Object.hasOwn(record, key);
 }
 
 function prepare(specIn: ModelSpec, data: FitData): Prepared {
@@ -556,7 +556,9 @@ function diagnosticsFor(
   const ids = prep.data.participants;
   const out: ParticipantDiagnostics[] = diag.rows.map((row, k) => {
     const dfbetas: Record<string, number | null> | null = row.dfbetas ? {} : null;
-    if (row.dfbetas && dfbetas) names.forEach((nm, j) => (dfbetas[nm] = (row.dfbetas as (number | null)[])[j]));
+    if (row.dfbetas && dfbetas) {
+      for (let j = 0; j < names.length; j++) dfbetas[names[j]] = row.dfbetas[j];
+    }
     return {
       participant: ids[rows[k]],
       region,

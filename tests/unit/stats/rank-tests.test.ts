@@ -22,7 +22,9 @@ describe("exact null distributions", () => {
       counts[v]++;
     }
     const p = signedRankDistribution(n);
-    counts.forEach((c, v) => expect(p[v]).toBeCloseTo(c / 256, 14)); // (exact enumeration)
+    counts.forEach((c, v) => {
+      expect(p[v]).toBeCloseTo(c / 256, 14); // (exact enumeration)
+    });
   });
   it("Mann–Whitney distribution equals brute-force enumeration of C(9, 4) assignments", () => {
     const n1 = 4;
@@ -35,11 +37,15 @@ describe("exact null distributions", () => {
       total++;
     }
     const p = rankSumDistribution(n1, n2);
-    counts.forEach((c, u) => expect(p[u]).toBeCloseTo(c / total, 14)); // (exact enumeration)
+    counts.forEach((c, u) => {
+      expect(p[u]).toBeCloseTo(c / total, 14); // (exact enumeration)
+    });
   });
   it("Kendall inversion counts are the Mahonian numbers", () => {
     const p = kendallDistribution(4);
-    [1, 3, 5, 6, 5, 3, 1].forEach((c, i) => expect(p[i] * 24).toBeCloseTo(c, 10)); // (exact enumeration: inversions of the 24 permutations of 4)
+    [1, 3, 5, 6, 5, 3, 1].forEach((c, i) => {
+      expect(p[i] * 24).toBeCloseTo(c, 10); // (exact enumeration: inversions of the 24 permutations of 4)
+    });
   });
   it("Spearman S distribution for n = 4 by enumeration", () => {
     const p = spearmanDistribution(4);
@@ -98,7 +104,9 @@ describe("Mann–Whitney U test", () => {
     const all = permeabilityTerm.concat(permeabilityEarly);
     const order = all.map((_, i) => i).sort((a, b) => all[a] - all[b]);
     const rank = new Array(all.length);
-    order.forEach((idx, r) => (rank[idx] = r + 1));
+    order.forEach((idx, r) => {
+      rank[idx] = r + 1;
+    });
     for (const s of subsets(15, 10)) {
       const u = s.reduce((a, k) => a + rank[k], 0) - 55;
       if (u >= 35) extreme++;
@@ -135,10 +143,14 @@ describe("order statistics of pairwise sums without forming all pairs", () => {
     const walsh: number[] = [];
     for (let i = 0; i < x.length; i++) for (let j = i; j < x.length; j++) walsh.push(x[i] + x[j]);
     walsh.sort((a, b) => a - b);
-    walsh.forEach((v, k) => expect(kthWalshSum(x, k + 1)).toBe(v)); // (exact enumeration)
+    walsh.forEach((v, k) => {
+      expect(kthWalshSum(x, k + 1)).toBe(v); // (exact enumeration)
+    });
     const diffs: number[] = [];
     for (const a of x) for (const b of y) diffs.push(a - b);
     diffs.sort((a, b) => a - b);
-    diffs.forEach((v, k) => expect(kthDifference(x, y, k + 1)).toBe(v)); // (exact enumeration)
+    diffs.forEach((v, k) => {
+      expect(kthDifference(x, y, k + 1)).toBe(v); // (exact enumeration)
+    });
   });
 });

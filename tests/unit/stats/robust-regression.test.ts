@@ -29,7 +29,9 @@ describe("Huber M-estimation (MASS::rlm defaults)", () => {
   it("stopping rule: stops at the first relative residual change ≤ 1e-4, and a tighter rule moves the answer less than that", () => {
     const last = h.changes[h.changes.length - 1];
     expect(last).toBeLessThanOrEqual(1e-4);
-    h.changes.slice(0, -1).forEach((c) => expect(c).toBeGreaterThan(1e-4));
+    h.changes.slice(0, -1).forEach((c) => {
+      expect(c).toBeGreaterThan(1e-4);
+    });
     expect(h.iterations).toBe(h.changes.length);
     const tight = robustLinearModel(design.x, design.n, design.p, y, { psi: "huber", acc: 1e-12, maxIterations: 500 });
     expect(tight.changes.length).toBeGreaterThan(h.changes.length);
