@@ -32,3 +32,17 @@ function describe(value: unknown): string {
   if (typeof value === "string") return `"${value}"`;
   return typeof value;
 }
+
+/**
+ * Runs a layout computation; a `ChartInputError` becomes `{ problem }` (its
+ * message, for the plot to show in place of the drawing), any other error is
+ * rethrown as a bug.
+ */
+export function tryLayout<T>(compute: () => T): { layout: T; problem: null } | { layout: null; problem: string } {
+  try {
+    return { layout: compute(), problem: null };
+  } catch (error) {
+    if (error instanceof ChartInputError) return { layout: null, problem: error.message };
+    throw error;
+  }
+}

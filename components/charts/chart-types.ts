@@ -18,15 +18,17 @@ export interface ParticipantMark {
 }
 
 export interface PressTargetProps {
-  /** Centre of the target in SVG units. */
-  cx: number;
-  cy: number;
-  /** Hit radius in SVG units (the theme's `chart.hitRadius` gives a ≥ 24-px target). */
-  r: number;
+  /** The hit rectangle in SVG units; a square of side 2·chart.hitRadius with rx = hitRadius is a ≥ 24-px round target. */
+  x: number;
+  y: number;
+  width: number;
+  height: number;
+  /** Corner radius. */
+  rx?: number;
   /** Accessible name, e.g. "sub-12: trait 31, contrast 0.42, flagged outlier". */
   label: string;
   onPress: () => void;
-  /** Draws the focus ring also when not focused (the mark is the selected one). */
+  /** The mark or row is the selected one: the focus ring stays drawn. */
   selected?: boolean;
   testID?: string;
 }
