@@ -4,7 +4,7 @@
  */
 import type { ReactNode } from "react";
 import { Pressable, ScrollView, StyleSheet, Text, View, useWindowDimensions } from "react-native";
-import { Link, usePathname } from "expo-router";
+import { usePathname, useRouter } from "expo-router";
 import { useSafeAreaInsets } from "react-native-safe-area-context";
 import { Wordmark } from "./logo";
 import { fonts, palette, radius, space, type, wideBreakpoint } from "./theme";
@@ -31,21 +31,27 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
   ];
   if (options.data?.mailbox) items.push({ href: "/mailbox", label: "Mailbox", glyph: "✉" });
 
+  const router = useRouter();
   const isActive = (href: string) => pathname === href || pathname.startsWith(`${href}/`);
+  const go = (href: string) => () => router.push(href as never);
 
   if (wide) {
     return (
       <View style={styles.wideRoot}>
-        <View style={styles.rail} accessibilityRole="navigation">
+        <View style={styles.rail} role="navigation">
           <Wordmark />
           <View style={styles.railItems}>
             {items.map((item) => (
-              <Link key={item.href} href={item.href} asChild>
-                <Pressable accessibilityRole="link" style={[styles.railItem, isActive(item.href) && styles.railItemActive]}>
-                  <Text style={[styles.railGlyph, isActive(item.href) && styles.activeText]}>{item.glyph}</Text>
-                  <Text style={[styles.railLabel, isActive(item.href) && styles.activeText]}>{item.label}</Text>
-                </Pressable>
-              </Link>
+              <Pressable
+                key={item.href}
+                accessibilityRole="link"
+                accessibilityState={{ selected: isActive(item.href) }}
+                onPress={go(item.href)}
+                style={[styles.railItem, isActive(item.href) && styles.railItemActive]}
+              >
+                <Text style={[styles.railGlyph, isActive(item.href) && styles.activeText]}>{item.glyph}</Text>
+                <Text style={[styles.railLabel, isActive(item.href) && styles.activeText]}>{item.label}</Text>
+              </Pressable>
             ))}
           </View>
           <View style={styles.railFooter}>
@@ -77,14 +83,12 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
         {props.children}
         <ResearchFooter />
       </ScrollView>
-      <View style={[styles.bottomBar, { paddingBottom: insets.bottom }]} accessibilityRole="navigation">
+      <View style={[styles.bottomBar, { paddingBottom: insets.bottom }]} role="navigation">
         {items.map((item) => (
-          <Link key={item.href} href={item.href} asChild>
-            <Pressable accessibilityRole="link" style={styles.tab}>
-              <Text style={[styles.tabGlyph, isActive(item.href) && styles.activeText]}>{item.glyph}</Text>
-              <Text style={[styles.tabLabel, isActive(item.href) && styles.activeText]}>{item.label}</Text>
-            </Pressable>
-          </Link>
+          <Pressable key={item.href} accessibilityRole="link" accessibilityState={{ selected: isActive(item.href) }} onPress={go(item.href)} style={styles.tab}>
+            <Text style={[styles.tabGlyph, isActive(item.href) && styles.activeText]}>{item.glyph}</Text>
+            <Text style={[styles.tabLabel, isActive(item.href) && styles.activeText]}>{item.label}</Text>
+          </Pressable>
         ))}
       </View>
     </View>

@@ -1,5 +1,5 @@
 import { Pressable, StyleSheet, View } from "react-native";
-import { Link } from "expo-router";
+import { useRouter } from "expo-router";
 import { Badge, Card, Empty, Failure, Heading, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { useStudies, type StudySummary } from "../hooks/use-studies";
@@ -31,9 +31,9 @@ export function StudiesScreen() {
 }
 
 function StudyCard({ study }: { study: StudySummary }) {
+  const router = useRouter();
   return (
-    <Link href={`/studies/${study.id}`} asChild>
-      <Pressable accessibilityRole="link" accessibilityLabel={`${study.name}, your role: ${study.role}`}>
+    <Pressable accessibilityRole="link" accessibilityLabel={`${study.name}, your role: ${study.role}`} onPress={() => router.push(`/studies/${study.id}` as never)}>
         <Card testID="study-card">
           <View style={styles.cardHead}>
             <Txt kind="lead" style={styles.name}>
@@ -50,9 +50,8 @@ function StudyCard({ study }: { study: StudySummary }) {
             {count(study.counts.participants, "participant")} · {count(study.counts.members, "member")} · {count(study.counts.models, "model")} ·{" "}
             {count(study.counts.fits, "fit")}
           </Txt>
-        </Card>
-      </Pressable>
-    </Link>
+      </Card>
+    </Pressable>
   );
 }
 

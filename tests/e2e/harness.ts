@@ -99,14 +99,25 @@ export async function launchBrowser(): Promise<Browser> {
   });
 }
 
-/** A fresh page (own cookies) at the given size that records page errors and console errors. */
+/**
+ * A fresh page (own cookies) at the given size that records page errors,
+ * console errors and failed responses. A 401 from `/api/me` is the signed-out
+ * answer, not an error; the browser's own "Failed to load resource" console
+ * line is replaced by the response record, which names the address.
+ */
 export async function openPage(browser: Browser, viewport: { width: number; height: number }) {
   const context = await browser.newContext({ viewport });
   const page = await context.newPage();
   const errors: string[] = [];
   page.on("pageerror", (error) => errors.push(`pageerror: ${error.message}`));
   page.on("console", (message) => {
-    if (message.type() === "error") errors.push(`console: ${message.text()}`);
+    if (message.type() === "error" && !message.text().startsWith("Failed to load resource")) errors.push(`console: ${message.text()}`);
+  });
+  page.on("response", (response) => {
+    const path = new URL(response.url()).pathname;
+    if (response.status() >= 400 && !(response.status() === 401 && path === "/api/me")) {
+      errors.push(`response: ${response.status()} ${response.request().method()} ${path}`);
+    }
   });
   return { page, context, errors };
 }
