@@ -164,3 +164,122 @@ export type Study = typeof studies.$inferSelect;
 export type Membership = typeof memberships.$inferSelect;
 export type Invitation = typeof invitations.$inferSelect;
 export type AuditEvent = typeof auditEvents.$inferSelect;
+
+// ─── Data intake: dataset versions, their rows, confirmed roster mappings ───
+// (owned by the data intake; see server/services/datasets.ts)
+
+export const datasetKinds = ["brain", "participants"] as const;
+export type DatasetKind = (typeof datasetKinds)[number];
+
+/** How one stored column maps to a row's numbers or categories (see dataset_rows). */
+export interface StoredColumn {
+  name: string;
+  type: "id" | "number" | "category";
+  /** brain: id, session, region, se; sheet: id, variable */
+  role: "id" | "session" | "region" | "se" | "variable";
+  /** region and se columns: the region */
+  region?: string;
+  /** number columns: index into the row's numbers; category columns: index into its categories */
+  slot?: number;
+}
+
+export interface IdentifierDecisionRecord {
+  column: string;
+  kind: string;
+  decision: "dropped" | "kept";
+  reason?: string;
+}
+
+/**
+ * One confirmed, immutable version of an uploaded brain table or
+ * participant sheet (a trigger refuses UPDATE and DELETE). Its id is the
+ * id the upload's preview had. `sha256` is the hash of the uploaded bytes.
+ */
+export const datasetVersions = pgTable(
+  "dataset_versions",
+  {
+    id: text("id").primaryKey(),
+    studyId: text("study_id")
+      .notNull()
+      .references(() => studies.id),
+    kind: text("kind").$type<DatasetKind>().notNull(),
+    /** 1, 2, … per study and kind. */
+    version: integer("version").notNull(),
+    fileName: text("file_name").notNull(),
+    sha256: text("sha256").notNull(),
+    byteSize: integer("byte_size").notNull(),
+    delimiter: text("delimiter").notNull(),
+    /** brain tables: "wide" or "long" as uploaded */
+    layout: text("layout"),
+    idColumn: text("id_column").notNull(),
+    sessionColumn: text("session_column"),
+    seSuffix: text("se_suffix"),
+    columns: jsonb("columns").$type<StoredColumn[]>().notNull(),
+    droppedColumns: jsonb("dropped_columns").$type<string[]>().notNull(),
+    identifierDecisions: jsonb("identifier_decisions").$type<IdentifierDecisionRecord[]>().notNull(),
+    rowCount: integer("row_count").notNull(),
+    participantCount: integer("participant_count").notNull(),
+    uploadedBy: text("uploaded_by")
+      .notNull()
+      .references(() => users.id),
+    uploadedAt: timestamp("uploaded_at", { mode: "date", withTimezone: true }).notNull(),
+    confirmedBy: text("confirmed_by")
+      .notNull()
+      .references(() => users.id),
+    confirmedAt: timestamp("confirmed_at", { mode: "date", withTimezone: true }).notNull(),
+  },
+  (t) => [
+    uniqueIndex("dataset_versions_study_kind_version_idx").on(t.studyId, t.kind, t.version),
+    check("dataset_versions_kind_check", sql`${t.kind} in ('brain', 'participants')`),
+  ],
+);
+
+/**
+ * The rows of a dataset version: one per participant (and session, for
+ * brain tables), in file order. `numbers` holds the row's numeric cells as
+ * shortest round-trip decimals separated by commas (empty = missing), in
+ * slot order; `categories` the category cells (null = missing). Text is
+ * used for the numbers because the embedded database reads and writes long
+ * text an order of magnitude faster than long float arrays or bytea.
+ */
+export const datasetRows = pgTable(
+  "dataset_rows",
+  {
+    datasetId: text("dataset_id")
+      .notNull()
+      .references(() => datasetVersions.id),
+    position: integer("position").notNull(),
+    /** Spreadsheet row of the uploaded file (header = row 1). */
+    sourceRow: integer("source_row").notNull(),
+    participantId: text("participant_id").notNull(),
+    session: text("session"),
+    numbers: text("numbers").notNull(),
+    categories: jsonb("categories").$type<(string | null)[]>().notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.datasetId, t.position] })],
+);
+
+/** A confirmed id mapping (brain-table id → participant-sheet id) of a study's roster. */
+export const rosterMappings = pgTable(
+  "roster_mappings",
+  {
+    id: id(),
+    studyId: text("study_id")
+      .notNull()
+      .references(() => studies.id),
+    brainId: text("brain_id").notNull(),
+    sheetId: text("sheet_id").notNull(),
+    createdBy: text("created_by")
+      .notNull()
+      .references(() => users.id),
+    createdAt: createdAt(),
+  },
+  (t) => [
+    uniqueIndex("roster_mappings_brain_idx").on(t.studyId, t.brainId),
+    uniqueIndex("roster_mappings_sheet_idx").on(t.studyId, t.sheetId),
+  ],
+);
+
+export type DatasetVersion = typeof datasetVersions.$inferSelect;
+export type DatasetRow = typeof datasetRows.$inferSelect;
+export type RosterMapping = typeof rosterMappings.$inferSelect;
