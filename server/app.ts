@@ -106,7 +106,7 @@ export function createApp(deps: AppDeps): Express {
     return typeof email === "string" && email.trim() ? email.trim().toLowerCase() : null;
   });
   app.post(`/api/auth/signin/${emailProviderId}`, ...signInBody, ...signInLimits);
-  app.use("/api/auth", ExpressAuth(authConfig({ db, mailer: deps.mailer, institution, secret: config.secrets.authSecret, log })));
+  app.use("/api/auth", ExpressAuth(authConfig({ db, mailer: deps.mailer, institution, secret: config.secrets.authSecret, secureCookies: https, log })));
 
   app.use("/api", express.json({ limit: config.bodyLimit }), loadSession(db, clock));
   app.use("/api", systemRoutes(routeDeps));

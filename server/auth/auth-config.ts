@@ -35,6 +35,8 @@ export interface AuthDeps {
   mailer: Mailer;
   institution: InstitutionProvider | null;
   secret: string;
+  /** Force Secure cookies (PUBLIC_URL is https); otherwise Auth.js follows the request's protocol. */
+  secureCookies: boolean;
   log: (error: unknown, context: string) => void;
 }
 
@@ -95,6 +97,7 @@ export function authConfig(deps: AuthDeps): ExpressAuthConfig {
   return {
     trustHost: true,
     secret: deps.secret,
+    ...(deps.secureCookies ? { useSecureCookies: true } : {}),
     adapter: DrizzleAdapter(deps.db, {
       usersTable: users,
       accountsTable: accounts,

@@ -76,16 +76,17 @@ export function signedInUser(res: Response): SessionUser {
 
 /**
  * Creates a database session for `userId` and sets the same cookie Auth.js
- * would (HttpOnly, SameSite=Lax, Secure over https).
+ * would (HttpOnly, SameSite=Lax, Secure over https or when `forceSecure`).
  */
-export async function createSession(db: Database, req: Request, res: Response, userId: string, now: Date): Promise<void> {
+export async function createSession(db: Database, req: Request, res: Response, userId: string, now: Date, forceSecure = false): Promise<void> {
+  const secure = req.secure || forceSecure;
   const sessionToken = randomBytes(32).toString("hex");
   const expires = new Date(now.getTime() + sessionMaxAgeSeconds * 1000);
   await db.insert(sessions).values({ sessionToken, userId, expires });
-  res.cookie(sessionCookieName(req.secure), sessionToken, {
+  res.cookie(sessionCookieName(secure), sessionToken, {
     httpOnly: true,
     sameSite: "lax",
-    secure: req.secure,
+    secure,
     path: "/",
     expires,
   });

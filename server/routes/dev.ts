@@ -30,7 +30,7 @@ export function devRoutes(deps: RouteDeps): Router {
     if (!demoPeople.some((p) => p.email === email)) throw notFound(`${email} is not a demo account.`);
     const [user] = await deps.db.select().from(users).where(eq(users.email, email)).limit(1);
     if (!user) throw notFound(`The demo account ${email} has not been created in this database.`);
-    await createSession(deps.db, req, res, user.id, deps.clock());
+    await createSession(deps.db, req, res, user.id, deps.clock(), deps.config.publicUrl.startsWith("https:"));
     res.json({ id: user.id, email: user.email, name: user.name });
   });
   return router;

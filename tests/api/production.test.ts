@@ -56,11 +56,30 @@ describe("production mode", () => {
   });
 
   it("sends the sign-in e-mail through the configured SMTP server and sets HSTS", async () => {
-    const agent = request.agent(app);
-    const csrf = await agent.get("/api/auth/csrf").expect(200);
-    const res = await agent.post("/api/auth/signin/nodemailer").type("form").send({ email: "pi@lab.example", csrfToken: csrf.body.csrfToken }).expect(302);
+    // Secure cookies are not replayed over plain http by a cookie jar, so carry them by hand (as a browser on https would).
+    const csrf = await request(app).get("/api/auth/csrf").expect(200);
+    const cookie = ([] as string[]).concat(csrf.headers["set-cookie"] ?? []).map((c) => c.split(";")[0]).join("; ");
+    const res = await request(app)
+      .post("/api/auth/signin/nodemailer")
+      .set("Cookie", cookie)
+      .type("form")
+      .send({ email: "pi@lab.example", csrfToken: csrf.body.csrfToken })
+      .expect(302);
     expect(res.headers.location).not.toContain("error=");
     expect(smtp.messages()[0]).toMatchObject({ to: "pi@lab.example", subject: "Your sign-in link for Covarion" });
     expect(res.headers["strict-transport-security"]).toBeDefined();
+  });
+});
+
+describe("cookies behind https", () => {
+  it("marks Auth.js cookies Secure when PUBLIC_URL is https", async () => {
+    const res = await request(app).get("/api/auth/csrf").expect(200);
+    const cookies = ([] as string[]).concat(res.headers["set-cookie"] ?? []);
+    expect(cookies.length).toBeGreaterThan(0);
+    for (const c of cookies) {
+      expect(c).toMatch(/; Secure/i);
+      expect(c).toMatch(/HttpOnly/i);
+      expect(c).toMatch(/SameSite=Lax/i);
+    }
   });
 });
