@@ -12,7 +12,7 @@
  * committed under db/migrations.
  */
 import { sql } from "drizzle-orm";
-import { boolean, check, index, integer, jsonb, pgTable, primaryKey, text, timestamp, uniqueIndex } from "drizzle-orm/pg-core";
+import { boolean, check, doublePrecision, index, integer, jsonb, pgTable, primaryKey, text, timestamp, uniqueIndex } from "drizzle-orm/pg-core";
 
 export const roles = ["owner", "analyst", "reviewer", "viewer"] as const;
 export type Role = (typeof roles)[number];
@@ -283,3 +283,123 @@ export const rosterMappings = pgTable(
 export type DatasetVersion = typeof datasetVersions.$inferSelect;
 export type DatasetRow = typeof datasetRows.$inferSelect;
 export type RosterMapping = typeof rosterMappings.$inferSelect;
+
+// ─── Models, fits and set-asides ───
+// (owned by the fits work; see server/services/models.ts, fits.ts, set-asides.ts)
+
+export const fitStatuses = ["queued", "running", "done", "failed", "cancelled"] as const;
+export type FitStatus = (typeof fitStatuses)[number];
+
+/**
+ * A saved question of a study. `spec` holds the model fields as
+ * `modelSpecSchema` parses them (defaults filled in). `regionSelection`
+ * records how the regions were chosen (see server/model/model-form.ts);
+ * `circular` is true when they were chosen from the same data the model
+ * tests. Soft delete: fits keep pointing at a deleted model.
+ */
+export const models = pgTable(
+  "models",
+  {
+    id: id(),
+    studyId: text("study_id")
+      .notNull()
+      .references(() => studies.id),
+    name: text("name").notNull(),
+    spec: jsonb("spec").notNull(),
+    regionSelection: text("region_selection").notNull(),
+    circular: boolean("circular").notNull().default(false),
+    createdBy: text("created_by")
+      .notNull()
+      .references(() => users.id),
+    createdAt: createdAt(),
+    updatedBy: text("updated_by")
+      .notNull()
+      .references(() => users.id),
+    updatedAt: timestamp("updated_at", { mode: "date", withTimezone: true }).notNull().defaultNow(),
+    deletedAt: timestamp("deleted_at", { mode: "date", withTimezone: true }),
+    deletedBy: text("deleted_by").references(() => users.id),
+  },
+  (t) => [
+    index("models_study_idx").on(t.studyId),
+    uniqueIndex("models_study_name_idx")
+      .on(t.studyId, t.name)
+      .where(sql`${t.deletedAt} is null`),
+    check("models_region_selection_check", sql`${t.regionSelection} in ('anatomical-or-prior', 'independent-data', 'same-data')`),
+  ],
+);
+
+/**
+ * One execution of a model on fixed dataset versions with a fixed seed.
+ * `recipe` is the full recipe (model fields with defaults, dataset version
+ * ids and hashes, confirmed id mappings, set-asides, software version): the
+ * fit job builds its data from the recipe alone, so a re-run gives the
+ * same numbers. Progress and status are written by the main thread only.
+ */
+export const fits = pgTable(
+  "fits",
+  {
+    id: id(),
+    studyId: text("study_id")
+      .notNull()
+      .references(() => studies.id),
+    modelId: text("model_id")
+      .notNull()
+      .references(() => models.id),
+    status: text("status").$type<FitStatus>().notNull().default("queued"),
+    /** 0…1 */
+    progress: doublePrecision("progress").notNull().default(0),
+    /** Estimated seconds left while running; null when unknown. */
+    secondsLeft: integer("seconds_left"),
+    brainVersionId: text("brain_version_id")
+      .notNull()
+      .references(() => datasetVersions.id),
+    sheetVersionId: text("sheet_version_id").references(() => datasetVersions.id),
+    recipe: jsonb("recipe").notNull(),
+    result: jsonb("result"),
+    /** failed: the reason in plain words; cancelled: who cancelled. */
+    error: text("error"),
+    errorCode: text("error_code"),
+    createdBy: text("created_by")
+      .notNull()
+      .references(() => users.id),
+    createdAt: createdAt(),
+    startedAt: timestamp("started_at", { mode: "date", withTimezone: true }),
+    finishedAt: timestamp("finished_at", { mode: "date", withTimezone: true }),
+    cancelledBy: text("cancelled_by").references(() => users.id),
+  },
+  (t) => [
+    index("fits_study_idx").on(t.studyId, t.createdAt),
+    index("fits_status_idx").on(t.status),
+    check("fits_status_check", sql`${t.status} in ('queued', 'running', 'done', 'failed', 'cancelled')`),
+  ],
+);
+
+/**
+ * A participant set aside from every region (`region` null) or from one
+ * region, with a required reason. Nothing is deleted: a restore fills
+ * `restoredAt`/`restoredBy` (and an optional reason).
+ */
+export const setAsides = pgTable(
+  "set_asides",
+  {
+    id: id(),
+    studyId: text("study_id")
+      .notNull()
+      .references(() => studies.id),
+    participantId: text("participant_id").notNull(),
+    region: text("region"),
+    reason: text("reason").notNull(),
+    createdBy: text("created_by")
+      .notNull()
+      .references(() => users.id),
+    createdAt: createdAt(),
+    restoredBy: text("restored_by").references(() => users.id),
+    restoredAt: timestamp("restored_at", { mode: "date", withTimezone: true }),
+    restoreReason: text("restore_reason"),
+  },
+  (t) => [index("set_asides_study_idx").on(t.studyId)],
+);
+
+export type Model = typeof models.$inferSelect;
+export type Fit = typeof fits.$inferSelect;
+export type SetAsideRow = typeof setAsides.$inferSelect;
