@@ -333,7 +333,9 @@ export const models = pgTable(
  * `recipe` is the full recipe (model fields with defaults, dataset version
  * ids and hashes, confirmed id mappings, set-asides, software version): the
  * fit job builds its data from the recipe alone, so a re-run gives the
- * same numbers. Progress and status are written by the main thread only.
+ * same numbers. `result` is the FitResult without its per-participant
+ * diagnostics, which are stored per region in `fit_regions`. Progress and
+ * status are written by the main thread only.
  */
 export const fits = pgTable(
   "fits",
@@ -403,3 +405,24 @@ export const setAsides = pgTable(
 export type Model = typeof models.$inferSelect;
 export type Fit = typeof fits.$inferSelect;
 export type SetAsideRow = typeof setAsides.$inferSelect;
+
+/**
+ * Per-participant diagnostics of a finished fit, one row per region (kept
+ * apart from `fits.result` so a region's detail is read without loading
+ * every region's participants).
+ */
+export const fitRegions = pgTable(
+  "fit_regions",
+  {
+    fitId: text("fit_id")
+      .notNull()
+      .references(() => fits.id),
+    /** Order of the region in the fit's result. */
+    position: integer("position").notNull(),
+    region: text("region").notNull(),
+    participants: jsonb("participants").notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.fitId, t.position] }), uniqueIndex("fit_regions_region_idx").on(t.fitId, t.region)],
+);
+
+export type FitRegionRow = typeof fitRegions.$inferSelect;
