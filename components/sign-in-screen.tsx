@@ -43,10 +43,10 @@ function Methods({ options }: { options: AuthOptions }) {
   );
 }
 
-function EmailSignIn({ providerId, mailbox }: { providerId: string; mailbox: boolean }) {
-  const [email, setEmail] = useState("");
+export function EmailSignIn({ providerId, mailbox, initialEmail = "", callbackPath }: { providerId: string; mailbox: boolean; initialEmail?: string; callbackPath?: string }) {
+  const [email, setEmail] = useState(initialEmail);
   const [invalid, setInvalid] = useState<string | null>(null);
-  const signIn = useEmailSignIn(providerId);
+  const signIn = useEmailSignIn(providerId, callbackPath);
   const submit = () => {
     const trimmed = email.trim();
     if (!/^[^\s@]+@[^\s@]+\.[^\s@]+$/.test(trimmed)) {

@@ -1,14 +1,18 @@
 import { Pressable, StyleSheet, View } from "react-native";
 import { useRouter } from "expo-router";
-import { Badge, Card, Empty, Failure, Heading, Pending, Txt } from "./ui";
+import { Badge, Button, Card, Empty, Failure, Heading, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { useStudies, type StudySummary } from "../hooks/use-studies";
 
 export function StudiesScreen() {
   const studies = useStudies();
+  const router = useRouter();
   return (
     <View style={styles.root}>
-      <Heading>Studies</Heading>
+      <View style={styles.titleRow}>
+        <Heading>Studies</Heading>
+        <Button label="New study" variant="secondary" onPress={() => router.push("/studies/new" as never)} testID="new-study" />
+      </View>
       {studies.isPending ? (
         <Pending label="Loading your studies…" />
       ) : studies.isError ? (
@@ -66,6 +70,7 @@ function count(n: number, noun: string): string {
 const styles = StyleSheet.create({
   root: { gap: space.lg },
   list: { gap: space.md },
+  titleRow: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.md },
   cardHead: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.sm },
   name: { flexShrink: 1, fontWeight: "600" },
 });

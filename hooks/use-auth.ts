@@ -66,9 +66,9 @@ export function describeAuthError(code: string): string {
   }
 }
 
-export function useEmailSignIn(providerId: string) {
+export function useEmailSignIn(providerId: string, callbackPath = "/studies") {
   return useMutation({
-    mutationFn: (email: string) => authAction(`signin/${providerId}`, { email, callbackUrl: `${window.location.origin}/studies` }),
+    mutationFn: (email: string) => authAction(`signin/${providerId}`, { email, callbackUrl: `${window.location.origin}${callbackPath}` }),
   });
 }
 

@@ -1,0 +1,6 @@
+import { Redirect, useLocalSearchParams } from "expo-router";
+
+export default function StudyIndexRoute() {
+  const { studyId } = useLocalSearchParams<{ studyId: string }>();
+  return <Redirect href={`/studies/${String(studyId)}/team` as never} />;
+}

@@ -1,0 +1,5 @@
+import { NewStudyScreen } from "../../../components/new-study-screen";
+
+export default function NewStudyRoute() {
+  return <NewStudyScreen />;
+}

@@ -1,0 +1,118 @@
+import { useState } from "react";
+import { StyleSheet, View } from "react-native";
+import { Choice } from "./choice";
+import { Card, Empty, Failure, Pending, Txt } from "./ui";
+import { palette, space } from "./theme";
+import { useActivity, type ActivityEvent } from "../hooks/use-activity";
+import { useMembers } from "../hooks/use-team";
+
+const kindOptions = [
+  { value: "", label: "Everything" },
+  { value: "study", label: "Study" },
+  { value: "member", label: "Members" },
+  { value: "invitation", label: "Invitations" },
+  { value: "dataset", label: "Data" },
+  { value: "roster", label: "Roster" },
+  { value: "model", label: "Models" },
+  { value: "fit", label: "Fits" },
+  { value: "set-aside", label: "Set aside" },
+] as const;
+
+/** The audit trail, newest first, filterable by person and kind. */
+export function ActivityScreen(props: { studyId: string }) {
+  const [person, setPerson] = useState("");
+  const [kind, setKind] = useState("");
+  const members = useMembers(props.studyId);
+  const activity = useActivity(props.studyId, { person: person || undefined, kind: kind || undefined });
+  const personOptions = [{ value: "", label: "Everyone" }, ...(members.data ?? []).map((m) => ({ value: m.userId, label: m.name ?? m.email ?? m.userId }))];
+  return (
+    <View style={styles.root}>
+      <Card>
+        <Choice label="Who" options={personOptions} value={person} onChange={setPerson} />
+        <Choice label="What" options={kindOptions} value={kind} onChange={setKind} />
+      </Card>
+      {activity.isPending ? (
+        <Pending />
+      ) : activity.isError ? (
+        <Failure error={activity.error} onRetry={() => activity.refetch()} />
+      ) : activity.data.length === 0 ? (
+        <Empty title="Nothing recorded for this filter" />
+      ) : (
+        <View style={styles.list} accessibilityRole="list">
+          {activity.data.map((event) => (
+            <EventRow key={event.id} event={event} />
+          ))}
+        </View>
+      )}
+    </View>
+  );
+}
+
+function EventRow({ event }: { event: ActivityEvent }) {
+  const who = event.actor?.name ?? event.actor?.email ?? "Covarion";
+  const reason = reasonOf(event);
+  return (
+    <View style={styles.row} testID="activity-event">
+      <Txt kind="small">
+        <Txt kind="small" style={{ fontWeight: "600" }}>
+          {who}
+        </Txt>{" "}
+        {describeEvent(event)}
+      </Txt>
+      {reason ? (
+        <Txt kind="caption" style={{ color: palette.inkSoft }}>
+          Reason: {reason}
+        </Txt>
+      ) : null}
+      <Txt kind="caption">
+        {new Date(event.at).toLocaleString()} · {event.kind}
+      </Txt>
+    </View>
+  );
+}
+
+function field(value: unknown, key: string): string | null {
+  if (value && typeof value === "object" && key in value) {
+    const v = (value as Record<string, unknown>)[key];
+    return v === null || v === undefined ? null : String(v);
+  }
+  return null;
+}
+
+function reasonOf(event: ActivityEvent): string | null {
+  return field(event.after, "reason") ?? field(event.before, "reason");
+}
+
+/** One plain sentence per event kind; unknown kinds fall back to their name. */
+export function describeEvent(event: ActivityEvent): string {
+  const after = event.after;
+  const before = event.before;
+  switch (event.kind) {
+    case "study.created":
+      return `created the study “${field(after, "name") ?? ""}”`;
+    case "study.updated":
+      return "changed the study's settings";
+    case "study.deleted":
+      return "deleted the study";
+    case "invitation.sent":
+      return `invited ${field(after, "email") ?? "someone"} as ${field(after, "role") ?? "a member"}`;
+    case "invitation.accepted":
+      return `accepted an invitation as ${field(after, "role") ?? "a member"}`;
+    case "invitation.revoked":
+      return `revoked the invitation of ${field(before, "email") ?? field(after, "email") ?? "someone"}`;
+    case "member.role_changed":
+      return `changed a role from ${field(before, "role") ?? "?"} to ${field(after, "role") ?? "?"}`;
+    case "member.removed":
+      return "removed a member";
+    case "member.left":
+      return "left the study";
+    default:
+      return event.kind.replace(/[._]/g, " ");
+  }
+}
+
+const styles = StyleSheet.create({
+  root: { gap: space.lg },
+  list: { gap: space.xs },
+  row: { backgroundColor: palette.surface, borderWidth: 1, borderColor: palette.line, borderRadius: 8, padding: space.md, gap: 2 },
+});

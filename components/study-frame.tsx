@@ -1,0 +1,75 @@
+/**
+ * A study's frame: its name, your role, and the sections
+ * Data · Models · Fits · Team · Activity.
+ */
+import type { ReactNode } from "react";
+import { Pressable, ScrollView, StyleSheet, Text, View } from "react-native";
+import { usePathname, useRouter } from "expo-router";
+import { Badge, Failure, Pending, Txt } from "./ui";
+import { fonts, palette, radius, space, type } from "./theme";
+import { can, useStudy } from "../hooks/use-study";
+import { roleLabel } from "./studies-screen";
+
+const sections = [
+  { path: "data", label: "Data", action: "data.read" },
+  { path: "models", label: "Models", action: "models.read" },
+  { path: "fits", label: "Fits", action: "fits.read" },
+  { path: "team", label: "Team", action: "members.list" },
+  { path: "activity", label: "Activity", action: "activity.list" },
+] as const;
+
+export function StudyFrame(props: { studyId: string; children: ReactNode }) {
+  const study = useStudy(props.studyId);
+  const pathname = usePathname();
+  const router = useRouter();
+  if (study.isPending) return <Pending label="Loading the study…" />;
+  if (study.isError) return <Failure error={study.error} title="This study could not be opened" onRetry={() => study.refetch()} />;
+  const base = `/studies/${props.studyId}`;
+  const visible = sections.filter((s) => can(study.data, s.action));
+  return (
+    <View style={styles.root}>
+      <View style={styles.head}>
+        <Txt kind="headline" accessibilityRole="header" style={styles.name}>
+          {study.data.name}
+        </Txt>
+        <Badge label={`You: ${roleLabel(study.data.role)}`} tone={study.data.role === "owner" ? "accent" : "neutral"} />
+        {study.data.restricted ? <Badge label="Participant rows restricted" tone="danger" /> : null}
+      </View>
+      {study.data.description ? (
+        <Txt kind="small" style={{ color: palette.muted }}>
+          {study.data.description}
+        </Txt>
+      ) : null}
+      <ScrollView horizontal showsHorizontalScrollIndicator={false} contentContainerStyle={styles.tabs} accessibilityRole="tablist">
+        {visible.map((section) => {
+          const href = `${base}/${section.path}`;
+          const active = pathname === href || pathname.startsWith(`${href}/`);
+          return (
+            <Pressable
+              key={section.path}
+              accessibilityRole="tab"
+              accessibilityState={{ selected: active }}
+              onPress={() => router.push(href as never)}
+              style={[styles.tab, active && styles.tabActive]}
+            >
+              <Text style={[styles.tabText, active && styles.tabTextActive]}>{section.label}</Text>
+            </Pressable>
+          );
+        })}
+      </ScrollView>
+      <View style={styles.body}>{props.children}</View>
+    </View>
+  );
+}
+
+const styles = StyleSheet.create({
+  root: { gap: space.md },
+  head: { flexDirection: "row", flexWrap: "wrap", alignItems: "center", gap: space.sm },
+  name: { flexShrink: 1 },
+  tabs: { gap: space.xs, paddingVertical: space.xs },
+  tab: { paddingHorizontal: space.md, paddingVertical: space.sm, borderRadius: radius.pill, borderWidth: 1, borderColor: palette.line, backgroundColor: palette.surface },
+  tabActive: { backgroundColor: palette.ink, borderColor: palette.ink },
+  tabText: { fontFamily: fonts.semibold, fontSize: type.small, color: palette.inkSoft },
+  tabTextActive: { color: palette.onInk },
+  body: { gap: space.lg },
+});

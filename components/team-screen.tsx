@@ -1,0 +1,190 @@
+import { useState } from "react";
+import { StyleSheet, Switch, View } from "react-native";
+import { useRouter } from "expo-router";
+import { Choice, type ChoiceOption } from "./choice";
+import { Badge, Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "./ui";
+import { palette, space } from "./theme";
+import { roleLabel } from "./studies-screen";
+import { can, useDeleteStudy, useStudy, useUpdateStudy, type StudyDetail } from "../hooks/use-study";
+import { useMe } from "../hooks/use-me";
+import { useChangeRole, useInvite, useMembers, usePendingInvitations, useRemoveMember, useRevokeInvitation, type Member } from "../hooks/use-team";
+import type { Role } from "../hooks/use-studies";
+
+export const roleOptions: readonly ChoiceOption<Role>[] = [
+  { value: "owner", label: "Owner", hint: "manages members and can do everything" },
+  { value: "analyst", label: "Analyst", hint: "uploads data, builds models, runs fits, sets participants aside" },
+  { value: "reviewer", label: "Reviewer", hint: "reads everything, comments, approves fits for sealing" },
+  { value: "viewer", label: "Viewer", hint: "reads results only" },
+];
+
+export function TeamScreen(props: { studyId: string }) {
+  const study = useStudy(props.studyId);
+  if (study.isPending) return <Pending />;
+  if (study.isError) return <Failure error={study.error} onRetry={() => study.refetch()} />;
+  return (
+    <View style={styles.root}>
+      <Members study={study.data} />
+      {can(study.data, "invitations.create") ? <Invite studyId={props.studyId} /> : null}
+      {can(study.data, "invitations.list") ? <PendingList studyId={props.studyId} /> : null}
+      {can(study.data, "study.update") ? <Settings study={study.data} /> : null}
+      {can(study.data, "study.delete") ? <DeleteStudy study={study.data} /> : null}
+    </View>
+  );
+}
+
+function Members({ study }: { study: StudyDetail }) {
+  const members = useMembers(study.id);
+  const me = useMe();
+  const manage = can(study, "members.update");
+  return (
+    <Card testID="members">
+      <Heading level={2}>Members</Heading>
+      {members.isPending ? (
+        <Pending />
+      ) : members.isError ? (
+        <Failure error={members.error} onRetry={() => members.refetch()} />
+      ) : (
+        members.data.map((member) => <MemberRow key={member.userId} studyId={study.id} member={member} manage={manage} isMe={member.userId === me.data?.id} />)
+      )}
+    </Card>
+  );
+}
+
+function MemberRow({ studyId, member, manage, isMe }: { studyId: string; member: Member; manage: boolean; isMe: boolean }) {
+  const change = useChangeRole(studyId);
+  const remove = useRemoveMember(studyId);
+  const router = useRouter();
+  const [editing, setEditing] = useState(false);
+  const error = change.error ?? remove.error;
+  return (
+    <View style={styles.member} testID="member-row">
+      <View style={styles.memberHead}>
+        <View style={{ flexShrink: 1 }}>
+          <Txt style={{ fontWeight: "600" }}>{member.name ?? member.email ?? "Unnamed member"}</Txt>
+          {member.name ? <Txt kind="caption">{member.email}</Txt> : null}
+        </View>
+        <Badge label={roleLabel(member.role) + (isMe ? " (you)" : "")} tone={member.role === "owner" ? "accent" : "neutral"} />
+      </View>
+      {error ? <Notice tone="danger">{error.message}</Notice> : null}
+      {manage && editing ? (
+        <Choice label={`Role of ${member.email ?? "member"}`} options={roleOptions} value={member.role} onChange={(role) => change.mutate({ userId: member.userId, role }, { onSuccess: () => setEditing(false) })} />
+      ) : null}
+      <View style={styles.actions}>
+        {manage ? <Button variant="quiet" label={editing ? "Done" : "Change role"} onPress={() => setEditing(!editing)} /> : null}
+        {manage && !isMe ? <Button variant="quiet" label="Remove" onPress={() => remove.mutate(member.userId)} busy={remove.isPending} /> : null}
+        {isMe ? (
+          <Button
+            variant="quiet"
+            label="Leave this study"
+            onPress={() => remove.mutate(member.userId, { onSuccess: () => router.replace("/studies") })}
+            busy={remove.isPending}
+          />
+        ) : null}
+      </View>
+    </View>
+  );
+}
+
+function Invite({ studyId }: { studyId: string }) {
+  const [email, setEmail] = useState("");
+  const [role, setRole] = useState<Role>("viewer");
+  const invite = useInvite(studyId);
+  const [sentTo, setSentTo] = useState<string | null>(null);
+  const submit = () =>
+    invite.mutate(
+      { email: email.trim(), role },
+      {
+        onSuccess: () => {
+          setSentTo(email.trim());
+          setEmail("");
+        },
+      },
+    );
+  return (
+    <Card testID="invite">
+      <Heading level={2}>Invite by e-mail</Heading>
+      <Field label="E-mail address" value={email} onChangeText={setEmail} autoCapitalize="none" inputMode="email" placeholder="colleague@lab.example" testID="invite-email" error={invite.error?.message ?? null} />
+      <Choice label="Role" options={roleOptions} value={role} onChange={setRole} testID="invite-role" />
+      <Txt kind="caption">{roleOptions.find((o) => o.value === role)?.hint}. The link works once, for this address, for 7 days.</Txt>
+      {sentTo ? <Notice tone="success">Invitation sent to {sentTo}.</Notice> : null}
+      <Button label="Send invitation" onPress={submit} busy={invite.isPending} disabled={email.trim() === ""} testID="send-invitation" />
+    </Card>
+  );
+}
+
+function PendingList({ studyId }: { studyId: string }) {
+  const invitations = usePendingInvitations(studyId, true);
+  const revoke = useRevokeInvitation(studyId);
+  return (
+    <Card>
+      <Heading level={2}>Pending invitations</Heading>
+      {invitations.isPending ? (
+        <Pending />
+      ) : invitations.isError ? (
+        <Failure error={invitations.error} onRetry={() => invitations.refetch()} />
+      ) : invitations.data.length === 0 ? (
+        <Txt kind="small" style={{ color: palette.muted }}>
+          None.
+        </Txt>
+      ) : (
+        invitations.data.map((invitation) => (
+          <View key={invitation.id} style={styles.memberHead} testID="pending-invitation">
+            <View style={{ flexShrink: 1 }}>
+              <Txt>{invitation.email}</Txt>
+              <Txt kind="caption">
+                {roleLabel(invitation.role)} · expires {new Date(invitation.expiresAt).toLocaleDateString()}
+              </Txt>
+            </View>
+            <Button variant="quiet" label="Revoke" onPress={() => revoke.mutate(invitation.id)} busy={revoke.isPending && revoke.variables === invitation.id} />
+          </View>
+        ))
+      )}
+    </Card>
+  );
+}
+
+function Settings({ study }: { study: StudyDetail }) {
+  const [name, setName] = useState(study.name);
+  const [description, setDescription] = useState(study.description);
+  const update = useUpdateStudy(study.id);
+  return (
+    <Card>
+      <Heading level={2}>Study settings</Heading>
+      <Field label="Name" value={name} onChangeText={setName} />
+      <Field label="Description" value={description} onChangeText={setDescription} multiline style={{ minHeight: 72, paddingTop: space.sm }} />
+      <View style={styles.switchRow}>
+        <View style={{ flexShrink: 1 }}>
+          <Txt kind="label">Restrict participant-level rows</Txt>
+          <Txt kind="caption">Viewers then see counts and results, never rows about individual participants.</Txt>
+        </View>
+        <Switch value={study.restricted} onValueChange={(restricted) => update.mutate({ restricted })} accessibilityLabel="Restrict participant-level rows" />
+      </View>
+      {update.error ? <Notice tone="danger">{update.error.message}</Notice> : null}
+      <Button label="Save name and description" variant="secondary" onPress={() => update.mutate({ name: name.trim(), description: description.trim() })} busy={update.isPending} />
+    </Card>
+  );
+}
+
+function DeleteStudy({ study }: { study: StudyDetail }) {
+  const [typed, setTyped] = useState("");
+  const remove = useDeleteStudy(study.id);
+  const router = useRouter();
+  return (
+    <Card>
+      <Heading level={2}>Delete this study</Heading>
+      <Txt kind="small" style={{ color: palette.muted }}>
+        The study disappears for every member. Its records and audit trail are kept. Type the study's name to confirm.
+      </Txt>
+      <Field label="Study name" value={typed} onChangeText={setTyped} error={remove.error?.message ?? null} />
+      <Button label="Delete study" variant="danger" disabled={typed !== study.name} busy={remove.isPending} onPress={() => remove.mutate(typed, { onSuccess: () => router.replace("/studies") })} />
+    </Card>
+  );
+}
+
+const styles = StyleSheet.create({
+  root: { gap: space.lg },
+  member: { gap: space.xs, paddingVertical: space.sm, borderTopWidth: 1, borderTopColor: palette.line },
+  memberHead: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.sm },
+  actions: { flexDirection: "row", flexWrap: "wrap", gap: space.xs, marginLeft: -space.lg },
+  switchRow: { flexDirection: "row", alignItems: "center", justifyContent: "space-between", gap: space.md },
+});
