@@ -16,6 +16,7 @@ export * from "./hodges-lehmann";
 export * from "./wilcoxon-signed-rank";
 export * from "./mann-whitney";
 export * from "./linear-model";
+export * from "./mean-response-band";
 export * from "./design-matrix";
 export * from "./diagnostics";
 export * from "./correlation";
