@@ -47,6 +47,8 @@ export interface TestAppOptions {
   env?: Record<string, string>;
   /** Open the database in this directory instead of memory. */
   dataDir?: string;
+  /** Serve the web build from this directory (default: the project's dist). */
+  distDir?: string;
 }
 
 /** Opens a database copied from the migrated template the global setup built. */
@@ -83,6 +85,7 @@ export async function createTestApp(options: TestAppOptions = {}): Promise<TestA
     mailbox: services.mailFake,
     institution: services.institution,
     clock,
+    distDir: options.distDir,
     log: (error) => errors.push(error),
   });
   server.on("request", app);
