@@ -17,6 +17,7 @@ export * from "./wilcoxon-signed-rank";
 export * from "./mann-whitney";
 export * from "./linear-model";
 export * from "./mean-response-band";
+export * from "./region-plot";
 export * from "./design-matrix";
 export * from "./diagnostics";
 export * from "./correlation";

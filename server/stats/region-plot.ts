@@ -1,0 +1,203 @@
+/**
+ * What a region's plots draw, from a model, the fit data and the
+ * participants a fit used in that region:
+ *
+ * - points: each participant's contrast value (y) with the trait (x) for an
+ *   association, or the group label for a two-group model;
+ * - association: the fitted line of the least-squares model (the model's
+ *   design: predictor, group, interaction, covariates) with its pointwise
+ *   confidence band of the mean response (see mean-response-band.ts),
+ *   evaluated on an even grid over the observed trait range, other columns
+ *   held at their means (an interaction model gets one line per group);
+ * - one-sample: the mean with its t interval; two-group: each group's mean
+ *   with its t interval (Student 1908; Zar 2010, §7.3).
+ *
+ * Pure. Cost O(n·p² + grid·p²). Throws StatsError for an unknown region or
+ * participant, a participant without a value, or a method's precondition
+ * (the band needs n > p, a group mean at least two distinct values).
+ */
+import type { FitData, ModelSpec } from "../model/spec";
+import { type DesignTerm, buildDesign, compareCodePoints } from "./design-matrix";
+import { StatsError } from "./errors";
+import { fitLinearModel } from "./linear-model";
+import { type MeanResponse, meanResponseBand } from "./mean-response-band";
+import { oneSampleTTest } from "./one-sample-t";
+
+export interface PlotPoint {
+  participant: string;
+  /** association: the trait value */
+  x: number | null;
+  /** two-group, or association with a group: the participant's group label */
+  group: string | null;
+  y: number;
+}
+
+export interface BandLine {
+  /** "all participants" or the group level the line is drawn for */
+  label: string;
+  points: ({ x: number } & MeanResponse)[];
+}
+
+export interface GroupMean {
+  label: string;
+  n: number;
+  mean: number;
+  ciLow: number | null;
+  ciHigh: number | null;
+}
+
+export interface RegionPlot {
+  points: PlotPoint[];
+  band: { method: string; level: number; lines: BandLine[] } | null;
+  groupMeans: GroupMean[] | null;
+  /** Why the band or a group mean could not be computed, in plain words. */
+  notes: string[];
+}
+
+export const BAND_GRID_POINTS = 50;
+
+function numericColumn(data: FitData, name: string): readonly (number | null)[] {
+  const col = data.numericColumns[name];
+  if (!col) throw new StatsError(`regionPlot: unknown numeric column '${name}'`);
+  return col;
+}
+
+function groupColumn(data: FitData, name: string): readonly (string | null)[] {
+  if (Object.hasOwn(data.categoricalColumns, name)) return data.categoricalColumns[name];
+  if (Object.hasOwn(data.numericColumns, name)) return data.numericColumns[name].map((v) => (v === null || !Number.isFinite(v) ? null : String(v)));
+  throw new StatsError(`regionPlot: unknown column '${name}'`);
+}
+
+function meanOf(values: ArrayLike<number>): GroupMean["mean"] {
+  let s = 0;
+  for (let i = 0; i < values.length; i++) s += values[i];
+  return s / values.length;
+}
+
+function groupMean(label: string, y: readonly number[], level: number, notes: string[]): GroupMean {
+  try {
+    const t = oneSampleTTest(y, { level });
+    return { label, n: y.length, mean: t.mean, ciLow: t.ciLow, ciHigh: t.ciHigh };
+  } catch (e) {
+    if (!(e instanceof StatsError) || y.length === 0) throw e;
+    notes.push(`No interval for the mean of ${label}: ${e.message}.`);
+    return { label, n: y.length, mean: meanOf(y), ciLow: null, ciHigh: null };
+  }
+}
+
+/**
+ * Plot data of `region` for the participants in `included` (the fit's
+ * participants there, in roster order).
+ */
+export function regionPlot(
+  spec: ModelSpec,
+  data: FitData,
+  region: string,
+  included: readonly string[],
+  options: { level?: number; gridPoints?: number } = {},
+): RegionPlot {
+  const level = options.level ?? 0.95;
+  const gridPoints = options.gridPoints ?? BAND_GRID_POINTS;
+  const r = data.regions.indexOf(region);
+  if (r < 0) throw new StatsError(`regionPlot: unknown region '${region}'`);
+  const position = new Map(data.participants.map((id, i) => [id, i]));
+  const rows = included.map((id) => {
+    const i = position.get(id);
+    if (i === undefined) throw new StatsError(`regionPlot: unknown participant '${id}'`);
+    return i;
+  });
+  const values = data.values[r];
+  const predictor = spec.kind === "association" && spec.predictor ? numericColumn(data, spec.predictor) : null;
+  const group = spec.group && (spec.kind === "two-group" || spec.kind === "association") ? groupColumn(data, spec.group) : null;
+  const points: PlotPoint[] = rows.map((i) => {
+    const y = values[i];
+    if (!Number.isFinite(y)) throw new StatsError(`regionPlot: participant '${data.participants[i]}' has no value in region '${region}'`);
+    return { participant: data.participants[i], x: predictor ? predictor[i] : null, group: group ? group[i] : null, y };
+  });
+  const notes: string[] = [];
+  const y = points.map((p) => p.y);
+  if (spec.kind === "one-sample") {
+    return { points, band: null, groupMeans: points.length > 0 ? [groupMean("all participants", y, level, notes)] : null, notes };
+  }
+  const present = Array.from(new Set(points.map((p) => p.group).filter((g): g is string => g !== null))).sort(compareCodePoints);
+  const levels = spec.levels ? [spec.levels[0], spec.levels[1]] : present;
+  if (spec.kind === "two-group") {
+    const groupMeans = levels.map((label) =>
+      groupMean(
+        label,
+        points.filter((p) => p.group === label).map((p) => p.y),
+        level,
+        notes,
+      ),
+    );
+    return { points, band: null, groupMeans: groupMeans.filter((g) => g.n > 0), notes };
+  }
+  if (spec.kind !== "association" || !predictor) return { points, band: null, groupMeans: null, notes };
+  // Association: the model's least-squares design, as the fit builds it.
+  const n = points.length;
+  const x = Float64Array.from(points, (p) => p.x as number);
+  const terms: DesignTerm[] = [
+    { name: "(intercept)", kind: "intercept" },
+    { name: spec.predictor as string, kind: "numeric", values: x },
+  ];
+  let indicator: Float64Array | null = null;
+  if (group && levels.length === 2) {
+    indicator = Float64Array.from(points, (p) => (p.group === levels[0] ? 1 : 0));
+    terms.push({ name: `${spec.group}: ${levels[0]}`, kind: "numeric", values: indicator });
+    if (spec.interaction) terms.push({ name: `${spec.predictor} × ${spec.group}: ${levels[0]}`, kind: "product", values: x, indicator });
+  }
+  for (const name of spec.covariates) {
+    if (Object.hasOwn(data.numericColumns, name)) {
+      const col = data.numericColumns[name];
+      terms.push({ name, kind: "numeric", values: Float64Array.from(rows, (i) => col[i] as number) });
+    } else if (Object.hasOwn(data.categoricalColumns, name)) {
+      const col = data.categoricalColumns[name];
+      terms.push({ name, kind: "categorical", values: rows.map((i) => col[i] as string) });
+    } else {
+      throw new StatsError(`regionPlot: unknown covariate '${name}'`);
+    }
+  }
+  let band: RegionPlot["band"] = null;
+  try {
+    const design = buildDesign(n, terms);
+    const fit = fitLinearModel(design.x, design.n, design.p, y, design.columnNames);
+    const p = design.p;
+    const means = new Float64Array(p);
+    for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) means[j] += design.x[i * p + j] / n;
+    let lo = Infinity;
+    let hi = -Infinity;
+    for (const v of x) {
+      if (v < lo) lo = v;
+      if (v > hi) hi = v;
+    }
+    const grid = Array.from({ length: gridPoints }, (_, k) => (gridPoints === 1 ? lo : lo + ((hi - lo) * k) / (gridPoints - 1)));
+    const lineFor = (label: string, g: number | null): BandLine => {
+      const designRows = grid.map((gx) => {
+        const row = Array.from(means);
+        row[1] = gx;
+        if (g !== null) {
+          row[2] = g;
+          if (spec.interaction) row[3] = gx * g;
+        }
+        return row;
+      });
+      const fitted = meanResponseBand(fit, designRows, { level });
+      return { label, points: fitted.map((f, k) => ({ x: grid[k], ...f })) };
+    };
+    const lines =
+      spec.interaction && indicator ? [lineFor(levels[0], 1), lineFor(levels[1], 0)] : [lineFor("all participants", null)];
+    band = {
+      method:
+        spec.covariates.length > 0 || (indicator && !spec.interaction)
+          ? "least-squares line of the model, other columns held at their means, with the pointwise confidence band of the mean response"
+          : "least-squares line with the pointwise confidence band of the mean response",
+      level,
+      lines,
+    };
+    if (spec.estimator !== "ols") notes.push(`The line is the least-squares fit, drawn for reference; the region's estimate comes from estimator '${spec.estimator}'.`);
+  } catch (e) {
+    if (!(e instanceof StatsError)) throw e;
+    notes.push(`No fitted line: ${e.message}.`);
+  }
+  return { points, band, groupMeans: null, notes };
+}
