@@ -420,7 +420,10 @@ export const fitRegions = pgTable(
     /** Order of the region in the fit's result. */
     position: integer("position").notNull(),
     region: text("region").notNull(),
+    /** The region's ParticipantDiagnostics rows. */
     participants: jsonb("participants").notNull(),
+    /** What the region's plots draw (server/stats/region-plot.ts), or { error } when it could not be computed. */
+    plot: jsonb("plot"),
   },
   (t) => [primaryKey({ columns: [t.fitId, t.position] }), uniqueIndex("fit_regions_region_idx").on(t.fitId, t.region)],
 );

@@ -1,0 +1,1 @@
+ALTER TABLE "fit_regions" ADD COLUMN "plot" jsonb;
