@@ -28,6 +28,7 @@ import { limitByIpAndAddress } from "./http/rate-limits";
 import { sameOrigin } from "./http/same-origin";
 import { serveWebBuild } from "./http/web-build";
 import { activityRoutes } from "./routes/activity";
+import { plannerRoutes } from "./routes/planner";
 import type { RouteDeps } from "./routes/deps";
 import { devRoutes } from "./routes/dev";
 import { invitationRoutes } from "./routes/invitations";
@@ -115,6 +116,7 @@ export function createApp(deps: AppDeps): Express {
   app.use("/api", memberRoutes(routeDeps));
   app.use("/api", invitationRoutes(routeDeps));
   app.use("/api", activityRoutes(routeDeps));
+  app.use("/api", plannerRoutes(routeDeps));
   app.use("/api", apiNotFound);
 
   app.use(serveWebBuild(deps.distDir ?? join(root, "dist")));

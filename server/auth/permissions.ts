@@ -61,6 +61,7 @@ export const permissions = {
   "studies.create": signedIn,
   "invitation.read": anyone,
   "invitation.accept": signedIn,
+  "planner.use": signedIn,
 
   // A study and its team
   "study.read": study(everyone),

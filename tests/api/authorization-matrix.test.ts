@@ -47,6 +47,7 @@ const matrix: Record<string, Row> = {
   "GET /api/dev/mail": { path: () => "/api/dev/mail", expected: all(200) },
   "POST /api/dev/demo-sign-in": { path: () => "/api/dev/demo-sign-in", body: () => ({ email: "viewer@demo.covarion.test" }), expected: all(200) },
   "GET /api/studies": { path: () => "/api/studies", expected: signedIn(200) },
+  "POST /api/planner": { path: () => "/api/planner", body: () => ({ design: "correlation", effect: 0.3 }), expected: signedIn(200) },
   "POST /api/studies": { path: () => "/api/studies", body: (f) => ({ name: `Matrix study ${f.n}` }), expected: signedIn(201) },
   "GET /api/studies/:studyId": { path: (f) => `/api/studies/${f.studyId}`, expected: members(200) },
   "PATCH /api/studies/:studyId": { path: (f) => `/api/studies/${f.studyId}`, body: () => ({ name: "Renamed" }), expected: ownerOnly(200) },

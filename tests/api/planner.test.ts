@@ -1,0 +1,100 @@
+/**
+ * POST /api/planner: sample size and power through the API, checked against
+ * Cohen's (1988) power tables, exact algebra for attenuation, and the
+ * formula-versus-simulation agreement.
+ */
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { agentFor, createTestApp, signInDemo, type Agent, type TestApp } from "./helpers";
+
+let t: TestApp;
+let agent: Agent;
+beforeAll(async () => {
+  t = await createTestApp();
+  agent = await signInDemo(t, "viewer@demo.covarion.test");
+});
+afterAll(async () => {
+  await t?.close();
+});
+
+describe("formula answers", () => {
+  it("two groups, d = 0.5, alpha .05 two-sided, power .80: 64 per group", async () => {
+    const res = await agent.post("/api/planner").send({ design: "two-group", effect: 0.5, alpha: 0.05, power: 0.8 }).expect(200);
+    expect(res.body.nPerGroup).toEqual([64, 64]); // (Cohen 1988, Table 2.4.1: n = 64 for d = .50, power .80, a2 = .05)
+    expect(res.body.n).toBe(128);
+    expect(res.body.observableEffect).toBeCloseTo(0.5, 12);
+    expect(res.body.method).toMatch(/noncentral t/);
+  });
+
+  it("two groups, d = 0.8: 26 per group", async () => {
+    const res = await agent.post("/api/planner").send({ design: "two-group", effect: 0.8, alpha: 0.05, power: 0.8 }).expect(200);
+    expect(res.body.nPerGroup).toEqual([26, 26]); // (Cohen 1988, Table 2.4.1: n = 26 for d = .80, power .80, a2 = .05)
+  });
+
+  it("correlation r = .30: 85 participants; r = .10: 783", async () => {
+    const r3 = await agent.post("/api/planner").send({ design: "correlation", effect: 0.3, alpha: 0.05, power: 0.8 }).expect(200);
+    expect(r3.body.n).toBe(85); // (Cohen 1988, Table 3.4.1: n = 85 for r = .30, power .80, a2 = .05)
+    const r1 = await agent.post("/api/planner").send({ design: "correlation", effect: 0.1, alpha: 0.05, power: 0.8 }).expect(200);
+    expect(r1.body.n).toBe(783); // (Cohen 1988, Table 3.4.1: n = 783 for r = .10, power .80, a2 = .05)
+  });
+
+  it("unreliable measures shrink the observable correlation to r·√(rel_brain·rel_trait) and raise n", async () => {
+    const res = await agent
+      .post("/api/planner")
+      .send({ design: "correlation", effect: 0.3, alpha: 0.05, power: 0.8, reliabilityBrain: 0.4, reliabilityTrait: 0.8 })
+      .expect(200);
+    expect(res.body.observableEffect).toBeCloseTo(0.3 * Math.sqrt(0.4 * 0.8), 12); // (exact algebra: Spearman 1904 attenuation)
+    const plain = await agent.post("/api/planner").send({ design: "correlation", effect: 0.3 }).expect(200);
+    expect(res.body.n).toBeGreaterThan(plain.body.n);
+    expect(res.body.method).toMatch(/reliability/);
+    // the curve reaches the target at the answer and not one participant before (common practice, no source)
+    const at = res.body.curve.find((p: { n: number }) => p.n === res.body.n);
+    const before = res.body.curve.find((p: { n: number }) => p.n === res.body.n - 1);
+    expect(at.power).toBeGreaterThanOrEqual(0.8);
+    if (before) expect(before.power).toBeLessThan(0.8);
+  });
+});
+
+describe("simulation from variance components", () => {
+  it("agrees with the formula within Monte Carlo error at every simulated size", async () => {
+    const res = await agent
+      .post("/api/planner")
+      .send({
+        design: "one-sample",
+        effect: 0.5,
+        mode: "simulation",
+        components: { measurementNoise: 4, taskDesign: 0.5, trueDifferences: 1 },
+        trials: 8,
+        sessions: 1,
+        simulations: 2000,
+        seed: 7,
+      })
+      .expect(200);
+    const sim = res.body.simulation;
+    expect(sim.reliability).toBeCloseTo(1 / (1 + 0.5 + 4 / 8), 12); // (exact algebra: true / (true + design + noise/trials))
+    expect(sim.points.length).toBeGreaterThan(2);
+    for (const point of sim.points) {
+      // 4 Monte Carlo standard errors, plus a little for the formula's own rounding (common practice, no source)
+      expect(Math.abs(point.power - point.formulaPower)).toBeLessThan(4 * Math.sqrt((point.formulaPower * (1 - point.formulaPower)) / 2000) + 0.005);
+    }
+    const again = await agent
+      .post("/api/planner")
+      .send({ design: "one-sample", effect: 0.5, mode: "simulation", components: { measurementNoise: 4, taskDesign: 0.5, trueDifferences: 1 }, trials: 8, simulations: 2000, seed: 7 })
+      .expect(200);
+    expect(again.body.simulation).toEqual(sim);
+  });
+});
+
+describe("refusals", () => {
+  it("names the field at fault", async () => {
+    const res = await agent.post("/api/planner").send({ design: "correlation", effect: 1.4 }).expect(400);
+    expect(res.body.error.code).toBeDefined();
+    expect(JSON.stringify(res.body.error)).toMatch(/effect/);
+    const missing = await agent.post("/api/planner").send({ design: "one-sample", effect: 0.4, mode: "simulation" }).expect(400);
+    expect(JSON.stringify(missing.body.error)).toMatch(/components/);
+  });
+
+  it("needs a session", async () => {
+    const res = await agentFor(t).post("/api/planner").send({ design: "correlation", effect: 0.3 }).expect(401);
+    expect(res.body.error).toMatchObject({ code: expect.any(String), message: expect.any(String) });
+  });
+});
