@@ -34,6 +34,12 @@ function seconds(start: bigint): number {
   return Number(process.hrtime.bigint() - start) / 1e9;
 }
 
+/** CPU seconds (user + system) this process used since `since`, summed over all its threads. */
+function cpuSeconds(since: NodeJS.CpuUsage): number {
+  const used = process.cpuUsage(since);
+  return (used.user + used.system) / 1e6;
+}
+
 export default async function run(): Promise<void> {
   const rng = createRng(SEED);
   const design = new Float64Array(N * P);
@@ -62,11 +68,15 @@ export default async function run(): Promise<void> {
   await pool.linearPermutationTest({ ...input, resamples: 10, seed: 1 });
   const startup = seconds(start);
   let parallelTime: number;
+  let parallelCpu: number;
+  let cpu: NodeJS.CpuUsage;
   let parallel: LinearPermutationResult;
   try {
     start = process.hrtime.bigint();
+    cpu = process.cpuUsage();
     parallel = await pool.linearPermutationTest({ ...input, seed: SEED });
     parallelTime = seconds(start);
+    parallelCpu = cpuSeconds(cpu);
   } finally {
     await pool.close();
   }
@@ -76,9 +86,14 @@ export default async function run(): Promise<void> {
 
   // One thread, the pure function.
   start = process.hrtime.bigint();
+  cpu = process.cpuUsage();
   const single = linearPermutationTest({ ...input, rng: createRng(SEED) });
   const singleTime = seconds(start);
+  const singleCpu = cpuSeconds(cpu);
   console.log(`  1 thread:         ${singleTime.toFixed(2)} s (${(gflop / singleTime).toFixed(2)} GFLOP/s)`);
+  console.log(
+    `  CPU time used: ${parallelCpu.toFixed(2)} s over both workers (≈ ${(parallelCpu / 2).toFixed(2)} s each), ${singleCpu.toFixed(2)} s on one thread — close to the wall times an otherwise idle machine would show`,
+  );
   let same = true;
   for (let r = 0; r < REGIONS; r++) {
     if (single.p[r] !== parallel.p[r] || single.pMaxT?.[r] !== parallel.pMaxT?.[r]) same = false;
