@@ -28,6 +28,7 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
   const signOut = useSignOut();
   const items: NavItem[] = [
     { href: "/studies", label: "Studies", glyph: "▤" },
+    { href: "/planner", label: "Planner", glyph: "◔" },
   ];
   if (options.data?.mailbox) items.push({ href: "/mailbox", label: "Mailbox", glyph: "✉" });
 

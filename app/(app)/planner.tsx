@@ -1,0 +1,5 @@
+import { PlannerScreen } from "../../components/planner-screen";
+
+export default function PlannerRoute() {
+  return <PlannerScreen />;
+}

@@ -1,0 +1,44 @@
+/**
+ * The Planner as a person uses it, at phone and wide sizes: the default
+ * question answers in one sentence with a power curve and its method named.
+ */
+import { afterAll, beforeAll, expect, it } from "vitest";
+import type { Browser } from "playwright-core";
+import { launchBrowser, openPage, phone, screenshot, startServer, wide, type RunningServer } from "./harness";
+
+let server: RunningServer;
+let browser: Browser;
+
+beforeAll(async () => {
+  server = await startServer();
+  browser = await launchBrowser();
+});
+
+afterAll(async () => {
+  await browser?.close();
+  await server?.stop();
+});
+
+for (const [label, viewport] of [
+  ["phone", phone],
+  ["wide", wide],
+] as const) {
+  it(`plans a correlation study at ${label} size`, async () => {
+    const { page, context, errors } = await openPage(browser, viewport);
+    try {
+      await page.goto(`${server.url}/sign-in`);
+      await page.getByRole("button", { name: "Sign in as the demo analyst" }).click();
+      await page.waitForURL(/\/studies$/);
+      await page.getByRole("link", { name: "Planner" }).click();
+      await page.getByTestId("plan").click();
+      const answer = page.getByTestId("planner-answer");
+      await answer.waitFor();
+      await expect(answer.getByText(/You need \d+ participants for 80% power/).count()).resolves.toBe(1);
+      await expect(answer.getByText(/Method: Fisher z/).count()).resolves.toBe(1);
+      await screenshot(page, `planner-${label}`);
+      expect(errors).toEqual([]);
+    } finally {
+      await context.close();
+    }
+  });
+}
