@@ -3,9 +3,9 @@
  * description, restricted flag), soft delete. Every change is recorded in
  * the audit trail in the same transaction.
  */
-import { and, count, eq, inArray, isNull } from "drizzle-orm";
+import { and, count, desc, eq, inArray, isNull } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
-import { memberships, studies, type Role, type Study } from "../../db/schema";
+import { datasetVersions, fits, memberships, models, studies, type Role, type Study } from "../../db/schema";
 import { capabilitiesOf } from "../auth/permissions";
 import { badRequest } from "../http/errors";
 import { recordEvent } from "./audit";
@@ -43,9 +43,9 @@ function auditView(study: Study) {
 }
 
 /**
- * Counts per study. Participants, models and fits are counted by the
- * tables that hold them once those exist (data, models and fits work);
- * until then they are zero.
+ * Counts per study: members; participants in the newest brain table (or,
+ * before one is uploaded, the newest participant sheet); models not
+ * deleted; fits. Cost: four grouped queries.
  */
 export async function studyCounts(db: Queryable, studyIds: readonly string[]): Promise<Map<string, StudyCounts>> {
   const out = new Map<string, StudyCounts>();
@@ -59,6 +59,38 @@ export async function studyCounts(db: Queryable, studyIds: readonly string[]): P
   for (const row of memberRows) {
     const c = out.get(row.studyId);
     if (c) c.members = Number(row.n);
+  }
+  const modelRows = await db
+    .select({ studyId: models.studyId, n: count() })
+    .from(models)
+    .where(and(inArray(models.studyId, [...studyIds]), isNull(models.deletedAt)))
+    .groupBy(models.studyId);
+  for (const row of modelRows) {
+    const c = out.get(row.studyId);
+    if (c) c.models = Number(row.n);
+  }
+  const fitRows = await db
+    .select({ studyId: fits.studyId, n: count() })
+    .from(fits)
+    .where(inArray(fits.studyId, [...studyIds]))
+    .groupBy(fits.studyId);
+  for (const row of fitRows) {
+    const c = out.get(row.studyId);
+    if (c) c.fits = Number(row.n);
+  }
+  const versions = await db
+    .select({ studyId: datasetVersions.studyId, kind: datasetVersions.kind, participants: datasetVersions.participantCount })
+    .from(datasetVersions)
+    .where(inArray(datasetVersions.studyId, [...studyIds]))
+    .orderBy(desc(datasetVersions.version));
+  const seen = new Set<string>();
+  for (const kind of ["brain", "participants"] as const) {
+    for (const row of versions) {
+      if (row.kind !== kind || seen.has(row.studyId)) continue;
+      seen.add(row.studyId);
+      const c = out.get(row.studyId);
+      if (c) c.participants = row.participants;
+    }
   }
   return out;
 }
