@@ -28,14 +28,17 @@ import { limitByIpAndAddress } from "./http/rate-limits";
 import { sameOrigin } from "./http/same-origin";
 import { serveWebBuild } from "./http/web-build";
 import { activityRoutes } from "./routes/activity";
+import { datasetRoutes } from "./routes/datasets";
 import { plannerRoutes } from "./routes/planner";
 import type { RouteDeps } from "./routes/deps";
 import { devRoutes } from "./routes/dev";
 import { invitationRoutes } from "./routes/invitations";
 import { memberRoutes } from "./routes/members";
+import { rosterRoutes } from "./routes/roster";
 import { studyRoutes } from "./routes/studies";
 import { systemRoutes } from "./routes/system";
 import type { Mailer } from "./services/mailer";
+import { PreviewStore } from "./services/preview-store";
 
 const root = join(dirname(fileURLToPath(import.meta.url)), "..");
 
@@ -116,6 +119,8 @@ export function createApp(deps: AppDeps): Express {
   app.use("/api", memberRoutes(routeDeps));
   app.use("/api", invitationRoutes(routeDeps));
   app.use("/api", activityRoutes(routeDeps));
+  app.use("/api", datasetRoutes(routeDeps, new PreviewStore()));
+  app.use("/api", rosterRoutes(routeDeps));
   app.use("/api", plannerRoutes(routeDeps));
   app.use("/api", apiNotFound);
 

@@ -10,6 +10,7 @@ import type { Server } from "node:http";
 import { openDatabase, type OpenDatabase } from "../db/client";
 import { migrateDatabase } from "../db/migrate";
 import { seedDemo } from "../db/seed";
+import { seedDemoDatasets } from "../db/seed/demo-datasets";
 import { createApp } from "./app";
 import { ConfigError, loadConfig } from "./config";
 import { startServices, type Services } from "./dev/dev-services";
@@ -50,8 +51,7 @@ async function main(): Promise<void> {
     database = await openDatabase({ dataDir: config.databaseDir });
     await migrateDatabase(database.db);
     if (config.demo) {
-      // seedDemoDatasets: the data intake's demo datasets are stored here once it provides them.
-      const seeded = await seedDemo(database.db, { now: new Date() });
+      const seeded = await seedDemo(database.db, { now: new Date(), seedDemoDatasets });
       if (seeded.seeded) console.log("Covarion: created the demo people and demo study.");
     }
     services = await startServices(config);

@@ -72,6 +72,30 @@ const matrix: Record<string, Row> = {
     path: (f) => `/api/invitations/${f.token}/accept`,
     expected: { owner: 403, analyst: 403, reviewer: 403, viewer: 403, outsider: 200, anonymous: 401 },
   },
+  // Data intake (datasets and roster). The fixture study has no datasets: an unknown dataset answers 404
+  // to members, a JSON body without a file 400 to those who may upload, mappings 409 before both tables exist.
+  "POST /api/studies/:studyId/datasets": {
+    path: (f) => `/api/studies/${f.studyId}/datasets`,
+    body: () => ({}),
+    expected: { owner: 400, analyst: 400, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 },
+  },
+  "GET /api/studies/:studyId/datasets": { path: (f) => `/api/studies/${f.studyId}/datasets`, expected: members(200) },
+  "GET /api/studies/:studyId/datasets/:datasetId": {
+    path: (f) => `/api/studies/${f.studyId}/datasets/00000000-0000-4000-8000-000000000000`,
+    expected: members(404),
+  },
+  "POST /api/studies/:studyId/datasets/:datasetId/confirm": {
+    path: (f) => `/api/studies/${f.studyId}/datasets/00000000-0000-4000-8000-000000000000/confirm`,
+    body: () => ({}),
+    expected: { owner: 404, analyst: 404, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 },
+  },
+  "GET /api/studies/:studyId/roster": { path: (f) => `/api/studies/${f.studyId}/roster`, expected: members(200) },
+  "POST /api/studies/:studyId/roster/mappings": {
+    path: (f) => `/api/studies/${f.studyId}/roster/mappings`,
+    body: () => ({ mappings: [{ brainId: "7", sheetId: "sub-07" }] }),
+    expected: { owner: 409, analyst: 409, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 },
+  },
+  "GET /api/studies/:studyId/roster.csv": { path: (f) => `/api/studies/${f.studyId}/roster.csv`, expected: members(200) },
   "GET /api/studies/:studyId/activity": {
     path: (f) => `/api/studies/${f.studyId}/activity`,
     expected: { owner: 200, analyst: 200, reviewer: 200, viewer: 403, outsider: 404, anonymous: 401 },

@@ -1,0 +1,153 @@
+/**
+ * Datasets: uploads of brain tables and participant sheets, previews,
+ * confirmation into immutable versions.
+ *
+ * POST /api/studies/:studyId/datasets                      multipart: kind (brain | participants), file,
+ *                                                          optional idColumn, seSuffix, layout, sessionColumn ("none" = no session column)
+ *                                                          → 201 preview { id, status: "preview", columns, rows, problems, identifierColumns, … }
+ * GET  /api/studies/:studyId/datasets                      → versions and live previews, newest first
+ * GET  /api/studies/:studyId/datasets/:datasetId?offset&limit
+ *                                                          → a version (metadata and a page of rows) or a preview
+ * POST /api/studies/:studyId/datasets/:datasetId/confirm   { types?, dropColumns?, identifierReasons?, idColumn?, seSuffix?, layout?, sessionColumn? }
+ *                                                          → 201 the stored version
+ *
+ * Unreadable files answer 400, files over the limits 413, content refused
+ * 422 — each with every problem (file, row, column) in `details.problems`;
+ * nothing is stored then. Rows are left out (null or []) for roles that may
+ * not read participant-level rows (Viewers of a restricted study).
+ */
+import { Router, type RequestHandler } from "express";
+import multer from "multer";
+import { z } from "zod";
+import { authorize, authorizedStudy, roleMay } from "../auth/permissions";
+import { signedInUser } from "../auth/session";
+import { HttpError } from "../http/errors";
+import { idSchema, noQuery, parsed, validate } from "../http/validate";
+import { DEFAULT_MAX_BYTES, IntakeError, problem } from "../intake";
+import { confirmUpload, getDataset, listDatasets, previewUpload } from "../services/datasets";
+import type { PreviewStore, UploadOptions } from "../services/preview-store";
+import type { RouteDeps } from "./deps";
+import { studyParams } from "./studies";
+
+const columnName = z.string().trim().min(1, { error: "must not be empty" }).max(500, { error: "must be at most 500 characters" });
+const optionalField = (schema: z.ZodType) => z.preprocess((v) => (v === "" ? undefined : v), schema.optional());
+
+const uploadBody = z.strictObject({
+  kind: z.enum(["brain", "participants"], { error: 'must be "brain" or "participants"' }),
+  idColumn: optionalField(columnName),
+  seSuffix: optionalField(z.string().min(1).max(50)),
+  layout: optionalField(z.enum(["wide", "long"], { error: 'must be "wide" or "long"' })),
+  sessionColumn: optionalField(columnName),
+});
+const upload = { params: studyParams, query: noQuery, body: uploadBody };
+const list = { params: studyParams, query: noQuery };
+const datasetParams = z.strictObject({ studyId: idSchema, datasetId: idSchema });
+const read = {
+  params: datasetParams,
+  query: z.strictObject({
+    offset: z.coerce.number().int().min(0).default(0),
+    limit: z.coerce.number().int().min(1).max(1000).default(100),
+  }),
+};
+const confirm = {
+  params: datasetParams,
+  query: noQuery,
+  body: z.strictObject({
+    types: z.record(columnName, z.enum(["number", "category"], { error: 'must be "number" or "category"' })).optional(),
+    dropColumns: z.array(columnName).max(20_000).optional(),
+    identifierReasons: z.record(columnName, z.string().trim().min(1, { error: "give the reason" }).max(2000)).optional(),
+    idColumn: columnName.optional(),
+    seSuffix: z.string().min(1).max(50).optional(),
+    layout: z.enum(["wide", "long"]).optional(),
+    sessionColumn: columnName.nullable().optional(),
+  }),
+};
+
+/** The uploaded file's name as shown in messages: its last path part, without control characters. */
+function cleanFileName(name: string): string {
+  const base = name.split(/[\\/]/).pop() ?? "";
+  // biome-ignore lint/suspicious/noControlCharactersInRegex: control characters are what is removed
+  const clean = base.replace(/[\u0000-\u001f\u007f]/g, "").trim().slice(0, 200);
+  return clean === "" ? "upload" : clean;
+}
+
+/** multer with the intake's byte limit; its errors answer with the envelope (413 too large, 400 otherwise). */
+function receiveFile(): RequestHandler {
+  const single = multer({
+    storage: multer.memoryStorage(),
+    limits: { fileSize: DEFAULT_MAX_BYTES, files: 1, fields: 10, fieldSize: 10_000, parts: 12 },
+  }).single("file");
+  return (req, res, next) => {
+    single(req, res, (error: unknown) => {
+      if (!error) return next();
+      if (error instanceof multer.MulterError) {
+        if (error.code === "LIMIT_FILE_SIZE") {
+          return next(
+            new IntakeError(413, [problem("upload", "too_large", `the file is larger than the limit of ${DEFAULT_MAX_BYTES / (1024 * 1024)} MB`)]),
+          );
+        }
+        const field = error.field ? ` (field "${error.field}")` : "";
+        return next(new HttpError(400, "bad_upload", `The upload is not as expected: ${error.message}${field}. Send the fields kind and file.`));
+      }
+      next(new HttpError(400, "bad_upload", "The upload could not be read as multipart form data with the fields kind and file."));
+    });
+  };
+}
+
+export function datasetRoutes(deps: RouteDeps, store: PreviewStore): Router {
+  const router = Router();
+
+  router.post("/studies/:studyId/datasets", authorize("data.upload"), receiveFile(), validate(upload), async (req, res) => {
+    const { study } = authorizedStudy(res);
+    const file = req.file;
+    if (!file) {
+      throw new HttpError(400, "validation_failed", "body.file: attach the file to upload", [{ field: "body.file", message: "attach the file to upload" }]);
+    }
+    const body = parsed(res, upload).body;
+    const user = signedInUser(res);
+    const options: UploadOptions = {
+      ...(body.idColumn !== undefined ? { idColumn: body.idColumn as string } : {}),
+      ...(body.seSuffix !== undefined ? { seSuffix: body.seSuffix as string } : {}),
+      ...(body.layout !== undefined ? { layout: body.layout as "wide" | "long" } : {}),
+      ...(body.sessionColumn !== undefined ? { sessionColumn: body.sessionColumn === "none" ? null : (body.sessionColumn as string) } : {}),
+    };
+    const view = previewUpload(store, {
+      studyId: study.id,
+      kind: body.kind,
+      fileName: cleanFileName(file.originalname),
+      bytes: new Uint8Array(file.buffer.buffer, file.buffer.byteOffset, file.buffer.byteLength),
+      options,
+      uploader: { id: user.id, name: user.name, email: user.email },
+      now: deps.clock(),
+    });
+    res.status(201).json(view);
+  });
+
+  router.get("/studies/:studyId/datasets", authorize("data.read"), validate(list), async (_req, res) => {
+    const { study } = authorizedStudy(res);
+    res.json(await listDatasets(deps.db, store, study.id, deps.clock()));
+  });
+
+  router.get("/studies/:studyId/datasets/:datasetId", authorize("data.read"), validate(read), async (_req, res) => {
+    const { study, role } = authorizedStudy(res);
+    const { params, query } = parsed(res, read);
+    const withRows = roleMay("participants.read", role, { restricted: study.restricted });
+    res.json(await getDataset(deps.db, store, study.id, params.datasetId, { ...query, withRows }, deps.clock()));
+  });
+
+  router.post("/studies/:studyId/datasets/:datasetId/confirm", authorize("data.upload"), validate(confirm), async (_req, res) => {
+    const { study } = authorizedStudy(res);
+    const { params, body } = parsed(res, confirm);
+    const user = signedInUser(res);
+    const view = await confirmUpload(deps.db, store, {
+      studyId: study.id,
+      datasetId: params.datasetId,
+      actor: { id: user.id, name: user.name, email: user.email },
+      confirmation: body,
+      now: deps.clock(),
+    });
+    res.status(201).json(view);
+  });
+
+  return router;
+}
