@@ -429,3 +429,38 @@ export const fitRegions = pgTable(
 );
 
 export type FitRegionRow = typeof fitRegions.$inferSelect;
+
+// ─── Measurement: stated reliabilities of participant-sheet traits ───
+// (owned by the measurement work; see server/services/reliability.ts)
+
+/**
+ * A trait's reliability as the study states it, with its source (for
+ * example "test–retest r = .82, manual of the scale"). One row per study
+ * and participant-sheet column; a PUT replaces the study's whole list.
+ * Used for Spearman's correction for attenuation beside association results.
+ */
+export const traitReliabilities = pgTable(
+  "trait_reliabilities",
+  {
+    studyId: text("study_id")
+      .notNull()
+      .references(() => studies.id),
+    /** Participant-sheet column (a numeric trait). */
+    column: text("column").notNull(),
+    /** 0 < reliability ≤ 1. */
+    reliability: doublePrecision("reliability").notNull(),
+    /** Where the value comes from, in the user's words. */
+    source: text("source").notNull(),
+    updatedBy: text("updated_by")
+      .notNull()
+      .references(() => users.id),
+    updatedAt: timestamp("updated_at", { mode: "date", withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [
+    primaryKey({ columns: [t.studyId, t.column] }),
+    check("trait_reliabilities_range_check", sql`${t.reliability} > 0 and ${t.reliability} <= 1`),
+    check("trait_reliabilities_source_check", sql`length(trim(${t.source})) > 0`),
+  ],
+);
+
+export type TraitReliability = typeof traitReliabilities.$inferSelect;
