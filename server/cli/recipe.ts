@@ -21,6 +21,7 @@ import { basename, dirname, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
 import { z } from "zod";
 import { type FitResult, type ModelSpec, modelSpecSchema } from "../model/spec";
+import { requireStandardErrors } from "./standard-error-check";
 import {
   IntakeError,
   buildBrainTable,
@@ -177,7 +178,8 @@ export async function runRecipe(recipePath: string): Promise<RecipeOutput> {
       ? null
       : checkHash(recipe.participantSheet, sheetBytes, recipe.inputs?.participantSheet, "participantSheet");
 
-  const brain = buildBrainTable(readTable(brainBytes, recipe.brainTable), {
+  const brainRaw = readTable(brainBytes, recipe.brainTable);
+  const brain = buildBrainTable(brainRaw, {
     idColumn: recipe.idColumn,
     seSuffix: recipe.seSuffix,
     regions: recipe.regions,
@@ -190,6 +192,9 @@ export async function runRecipe(recipePath: string): Promise<RecipeOutput> {
     for (const c of recipe.covariates) requireColumn(sheet, c, "covariates");
   }
   const built = buildFitData(brain, sheet, { session: recipe.session, mappings: recipe.mappings });
+  if (recipe.weights === "first-level-se") {
+    requireStandardErrors({ raw: brainRaw, brain, data: built.data, session: built.session, setAside: recipe.setAside });
+  }
 
   const spec: ModelSpec = {
     kind: recipe.kind,

@@ -13,6 +13,9 @@
  * left out; then, per region, anyone with a missing value in the contrast,
  * the predictor, the group (or a group outside the two levels) or any
  * covariate is dropped (listwise deletion), and `n` reports who is left.
+ * With weights "first-level-se", a participant who has a contrast value but
+ * no standard error (missing or not > 0) is refused with a StatsError naming
+ * the participant and the region, never dropped.
  *
  * Kinds and estimators:
  * - one-sample: ols (t test; numeric covariates are mean-centred and the
@@ -56,7 +59,7 @@ import { type Design, type DesignTerm, buildDesign, compareCodePoints } from "./
 import { regressionDiagnostics } from "./diagnostics";
 import { StatsError } from "./errors";
 import { type Estimator, type Kind, type RegionData, bootstrapP, bootstrapStatistic, estimateRegion, olsFit, permutationStatistic } from "./fit-methods";
-import { intraclassCorrelations } from "./icc";
+import { type IntraclassCorrelation, intraclassCorrelations } from "./icc";
 import { type QrDecomposition, qrDecompose, unscaledCovariance } from "./linear-model";
 import { weightedLinearModel } from "./meta-regression";
 import { genericPermutationTest, linearPermutationTest } from "./permutation";
@@ -251,6 +254,12 @@ function rowsFor(prep: Prepared, r: number): number[] {
   for (let i = 0; i < data.participants.length; i++) {
     if (asideAll[i] || aside?.has(i)) continue;
     if (!Number.isFinite(values[i])) continue;
+    // Weighted fits refuse, never drop, a participant with a value but no usable standard error.
+    if (se && !(Number.isFinite(se[i]) && se[i] > 0)) {
+      fail(
+        `participant '${data.participants[i]}' has a contrast value but no first-level standard error; weights 'first-level-se' need one for every participant with a value (add it, or set the participant aside)`,
+      );
+    }
     if (predictor) {
       const v = predictor[i];
       if (v === null || !Number.isFinite(v)) continue;
@@ -268,7 +277,6 @@ function rowsFor(prep: Prepared, r: number): number[] {
       } else if (c.categorical[i] === null) complete = false;
     }
     if (!complete) continue;
-    if (se && !(Number.isFinite(se[i]) && se[i] > 0)) continue;
     rows.push(i);
   }
   return rows;
@@ -501,6 +509,7 @@ export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = 
     });
     notes.push(correctionNote(s.correction));
   }
+  if (s.weights === "first-level-se") notes.push(...weightingNotes(s));
   notes.push(...diagnosticNotes());
   const result: FitResult = {
     regions: works.map((w) => w.result),
@@ -529,6 +538,21 @@ function correctionNote(method: string): string {
     default:
       return "pAdjusted: no correction over regions (equal to p).";
   }
+}
+
+function weightingNotes(s: ModelSpec): string[] {
+  const tau2 =
+    s.tau2Method === "reml"
+      ? "restricted maximum likelihood (REML; Viechtbauer 2005)"
+      : "DerSimonian–Laird method of moments (DerSimonian & Laird 1986)";
+  return [
+    `Weights: each participant counts with 1/(se² + τ²), se the first-level standard error and τ² the residual variance of true differences between participants, estimated by ${tau2}.`,
+    s.smallSample === "knapp-hartung"
+      ? "Inference: Knapp–Hartung (2003) adjusted standard error with a t reference on n − p degrees of freedom."
+      : "Inference: z statistic with a normal reference (no small-sample adjustment).",
+    "i2: share of the residual variance due to true differences rather than measurement noise (Higgins & Thompson 2002); noiseShare = mean(se²)/(mean(se²) + τ²), trueShare = τ²/(mean(se²) + τ²).",
+    "Leave-one-out range: not given for weighted fits.",
+  ];
 }
 
 function diagnosticNotes(): string[] {
@@ -582,7 +606,8 @@ function diagnosticsFor(
     influence: diag.rows.filter((r) => r.flags.includes("influence")).length,
   };
   // Leave-one-out range of the least-squares coefficient, exact: b − b(i) = (XᵀX)⁻¹x_i e_i/(1 − h_i).
-  if (d.estimator === "ols" || d.estimator === "welch") {
+  // (Weighted fits: the exact deletion formula is that of unweighted least squares, not of the weighted estimate, so no range is given.)
+  if ((d.estimator === "ols" || d.estimator === "welch") && prep.spec.weights === "none") {
     const cov = unscaledCovariance(qr);
     const p = qr.p;
     let lo = Infinity;
@@ -841,6 +866,23 @@ function bootstrapPass(prep: Prepared, works: RegionWork[], options: RunFitOptio
   );
 }
 
+/**
+ * One ICC form as a fit reports it: { value, ciLow, ciHigh, f, df1, df2, p }.
+ * A k-session lower bound past the Spearman–Brown pole is unbounded below
+ * (−Infinity in icc.ts) and is reported as null.
+ */
+function iccForm(x: IntraclassCorrelation) {
+  return {
+    value: x.value,
+    ciLow: Number.isFinite(x.ciLow) ? x.ciLow : null,
+    ciHigh: Number.isFinite(x.ciHigh) ? x.ciHigh : null,
+    f: x.f,
+    df1: x.df1,
+    df2: x.df2,
+    p: x.p,
+  };
+}
+
 function runReliability(prep: Prepared, options: RunFitOptions): FitResult {
   const { data, spec } = prep;
   const sessions = data.sessions as NonNullable<FitData["sessions"]>;
@@ -877,7 +919,12 @@ function runReliability(prep: Prepared, options: RunFitOptions): FitResult {
         sessions: k,
         df1: main.df1,
         df2: main.df2,
-        icc: { icc11: icc.icc11, icc21: icc.icc21, icc31: icc.icc31, icc1k: icc.icc1k, icc2k: icc.icc2k, icc3k: icc.icc3k },
+        icc11: iccForm(icc.icc11),
+        icc21: iccForm(icc.icc21),
+        icc31: iccForm(icc.icc31),
+        icc1k: iccForm(icc.icc1k),
+        icc2k: iccForm(icc.icc2k),
+        icc3k: iccForm(icc.icc3k),
       });
     });
     options.onProgress?.((idx + 1) / prep.regionIndex.length);
@@ -890,6 +937,9 @@ function runReliability(prep: Prepared, options: RunFitOptions): FitResult {
   });
   notes.push(correctionNote(spec.correction));
   notes.push("p: F test of the hypothesis that the population ICC is 0 (one-sided).");
+  notes.push(
+    "icc11, icc21, icc31 and their k-session forms icc1k, icc2k, icc3k after Shrout & Fleiss (1979), with 95% confidence intervals; a k-session lower bound that is unbounded below is shown as empty (null).",
+  );
   const result: FitResult = {
     regions,
     participants: [],
