@@ -15,7 +15,7 @@ const kindOptions = [
   { value: "roster", label: "Roster" },
   { value: "model", label: "Models" },
   { value: "fit", label: "Fits" },
-  { value: "set-aside", label: "Set aside" },
+  { value: "participant", label: "Set aside" },
 ] as const;
 
 /** The audit trail, newest first, filterable by person and kind. */
@@ -106,6 +106,26 @@ export function describeEvent(event: ActivityEvent): string {
       return "removed a member";
     case "member.left":
       return "left the study";
+    case "participant.set_aside":
+      return `set participant ${field(after, "participant") ?? "?"} aside${field(after, "region") ? ` in ${field(after, "region")}` : " from every region"}`;
+    case "participant.restored":
+      return `restored participant ${field(before, "participant") ?? "?"}${field(before, "region") ? ` in ${field(before, "region")}` : ""}`;
+    case "dataset.confirmed":
+      return `stored ${field(after, "kind") === "brain" ? "brain table" : "participant sheet"} version ${field(after, "version") ?? "?"} (${field(after, "fileName") ?? "file"})`;
+    case "dataset.identifier_confirmed":
+      return "kept a column that looks like a direct identifier";
+    case "roster.mapping_confirmed":
+      return `confirmed that ${field(after, "brainId") ?? "?"} in the brain table is ${field(after, "sheetId") ?? "?"} in the participant sheet`;
+    case "model.created":
+      return `saved the model “${field(after, "name") ?? ""}”`;
+    case "model.updated":
+      return `changed the model “${field(after, "name") ?? field(before, "name") ?? ""}”`;
+    case "model.deleted":
+      return `deleted the model “${field(before, "name") ?? ""}”`;
+    case "fit.run":
+      return `ran a fit of “${field(after, "modelName") ?? "a model"}” (seed ${field(after, "seed") ?? "?"}, ${field(after, "setAside") ?? 0} set aside)`;
+    case "fit.cancelled":
+      return "cancelled a fit";
     default:
       return event.kind.replace(/[._]/g, " ");
   }

@@ -1,0 +1,295 @@
+/**
+ * One region of a finished fit: the data plot (scatter with the fitted line
+ * and band, or a strip plot per group), residual versus leverage, the
+ * participant diagnostics table, the with-and-without sensitivity, the
+ * permutation null distribution, and set-aside with an at-once preview.
+ */
+import { useMemo, useState } from "react";
+import { StyleSheet, View } from "react-native";
+import type { ColumnDef } from "@tanstack/react-table";
+import { useRouter } from "expo-router";
+import { ScatterPlot } from "../charts/scatter-plot";
+import { StripPlot } from "../charts/strip-plot";
+import { LeveragePlot } from "../charts/leverage-plot";
+import { NullHistogram } from "../charts/null-histogram";
+import { formatP, formatValue } from "../charts/number-format";
+import { DataTable } from "../tables/data-table";
+import { Choice } from "../choice";
+import { Badge, Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "../ui";
+import { palette, space } from "../theme";
+import { useRegionDetail, useRegionPreview, useRunFit, useSetAside, useSetAsides, type FitView, type RegionDetail } from "../../hooks/use-fits";
+import type { Flag } from "../../server/model/spec";
+
+type Point = NonNullable<RegionDetail["points"]>[number];
+
+export function RegionDetailPanel(props: { fit: FitView; region: string; canSetAside: boolean; canRun: boolean }) {
+  const detail = useRegionDetail(props.fit.id, props.region, true);
+  const [selected, setSelected] = useState<string | null>(null);
+  if (detail.isPending) return <Pending label={`Loading ${props.region}…`} />;
+  if (detail.isError) return <Failure error={detail.error} onRetry={() => detail.refetch()} />;
+  const d = detail.data;
+  const point = d.points?.find((p) => p.participant === selected) ?? null;
+  return (
+    <View style={styles.root} testID="region-detail">
+      <Heading level={2}>{d.region}</Heading>
+      <Summary detail={d} />
+      {d.points ? <DataPlot detail={d} selected={selected} onSelect={setSelected} /> : <Notice>This study restricts participant-level rows: the plots are not shown to Viewers.</Notice>}
+      {point ? <ParticipantCard fit={props.fit} detail={d} point={point} canSetAside={props.canSetAside} onClose={() => setSelected(null)} /> : null}
+      <PreviewCard fit={props.fit} region={d.region} canRun={props.canRun} enabled={props.canSetAside} />
+      {d.points && d.kind !== "reliability" ? (
+        <Card>
+          <Heading level={3}>Residual versus leverage</Heading>
+          <LeveragePlot
+            points={d.points.map((p) => ({ id: p.participant, flags: p.flags as Flag[], leverage: p.leverage, residual: p.studentizedResidual }))}
+            coefficients={coefficientCount(d)}
+            selectedId={selected}
+            onPointPress={setSelected}
+            testID="leverage-plot"
+          />
+          <Txt kind="caption">Dashed curves: Cook's distance 0.5 and 1. Leverage and residuals from the least-squares fit of the region's design.</Txt>
+        </Card>
+      ) : null}
+      <Sensitivity detail={d} />
+      {isHistogram(d.nullHistogram) ? (
+        <Card>
+          <Heading level={3}>Permutation null distribution</Heading>
+          <NullHistogram edges={d.nullHistogram.edges} counts={d.nullHistogram.counts} observed={d.nullHistogram.observed} statisticName="t" p={d.result.p} testID="null-histogram" />
+        </Card>
+      ) : null}
+      {d.points ? <DiagnosticsTable points={d.points} selected={selected} onSelect={setSelected} /> : null}
+      {d.notes.length > 0 ? (
+        <Txt kind="caption" style={{ color: palette.muted }}>
+          {d.notes.join(" ")}
+        </Txt>
+      ) : null}
+    </View>
+  );
+}
+
+function coefficientCount(d: RegionDetail): number {
+  const df = d.result.df;
+  return typeof df === "number" && Number.isFinite(df) ? Math.max(1, Math.round(d.n - df)) : 2;
+}
+
+function isHistogram(value: unknown): value is { edges: number[]; counts: number[]; observed: number } {
+  return Boolean(value && typeof value === "object" && Array.isArray((value as { edges?: unknown }).edges));
+}
+
+function Summary({ detail }: { detail: RegionDetail }) {
+  const r = detail.result;
+  const ci = r.ciLow !== null && r.ciHigh !== null ? `${formatValue(r.ciLow)} to ${formatValue(r.ciHigh)}` : "n/a";
+  return (
+    <Card>
+      <Txt testID="region-summary">
+        Estimate {formatValue(r.estimate)} (95% CI {ci}), {r.statistic !== null ? `statistic ${formatValue(r.statistic)}, ` : ""}
+        {r.df !== null ? `df ${formatValue(r.df, 4)}, ` : ""}p {formatP(r.p)}, adjusted p {formatP(r.pAdjusted)}, N = {r.n}.
+      </Txt>
+      {typeof r.r === "number" ? (
+        <Txt kind="small" style={{ color: palette.inkSoft }}>
+          r = {formatValue(r.r)}
+          {typeof r.rCiLow === "number" && typeof r.rCiHigh === "number" ? ` (95% CI ${formatValue(r.rCiLow)} to ${formatValue(r.rCiHigh)})` : ""}. With {r.n} participants the interval,
+          not p alone, shows how uncertain this correlation is.
+        </Txt>
+      ) : null}
+      <View style={styles.badges}>
+        <Badge label={`${detail.flagCounts.outlier} outlier`} tone={detail.flagCounts.outlier ? "danger" : "neutral"} />
+        <Badge label={`${detail.flagCounts.leverage} leverage`} tone={detail.flagCounts.leverage ? "accent" : "neutral"} />
+        <Badge label={`${detail.flagCounts.influence} influence`} tone={detail.flagCounts.influence ? "accent" : "neutral"} />
+      </View>
+    </Card>
+  );
+}
+
+function DataPlot({ detail, selected, onSelect }: { detail: RegionDetail; selected: string | null; onSelect: (id: string) => void }) {
+  const points = detail.points ?? [];
+  const setAsideIds = new Set((detail.setAside ?? []).map((s) => s.participant));
+  if (detail.kind === "association") {
+    const line = detail.band?.lines[0];
+    return (
+      <Card>
+        <Heading level={3}>
+          {detail.axes.x} and the contrast value
+        </Heading>
+        <ScatterPlot
+          points={points.map((p) => ({ id: p.participant, flags: p.flags as Flag[], setAside: setAsideIds.has(p.participant), x: p.x, y: p.y }))}
+          band={line?.points.map((b) => ({ x: b.x, fit: b.fit, low: b.low, high: b.high }))}
+          xLabel={detail.axes.x ?? "trait"}
+          yLabel="Contrast value"
+          xName={detail.axes.x ?? "trait"}
+          yName="contrast"
+          bandLabel={detail.band ? `${Math.round(detail.band.level * 100)}% confidence band` : undefined}
+          selectedId={selected}
+          onPointPress={onSelect}
+          testID="scatter-plot"
+        />
+        <Txt kind="caption">One mark per participant ({points.length}). Fitted line: {detail.band?.method ?? "least squares"}.</Txt>
+      </Card>
+    );
+  }
+  const groups =
+    detail.groupMeans && detail.groupMeans.length > 0
+      ? detail.groupMeans.map((g) => ({ key: g.label, label: `${g.label} (n = ${g.n})`, mean: g.mean, low: g.ciLow, high: g.ciHigh }))
+      : [{ key: "all", label: `All participants (n = ${detail.n})`, mean: detail.result.estimate, low: detail.result.ciLow, high: detail.result.ciHigh }];
+  const single = groups.length === 1;
+  return (
+    <Card>
+      <Heading level={3}>{single ? "Contrast values around zero" : "Contrast values by group"}</Heading>
+      <StripPlot
+        groups={groups}
+        points={points.map((p) => ({ id: p.participant, flags: p.flags as Flag[], setAside: setAsideIds.has(p.participant), group: single ? groups[0].key : (p.group ?? ""), value: p.y }))}
+        valueLabel="Contrast value"
+        valueName="contrast"
+        summaryLabel="mean and 95% CI"
+        selectedId={selected}
+        onPointPress={onSelect}
+        testID="strip-plot"
+      />
+      <Txt kind="caption">One mark per participant ({points.length}); horizontal offset is for visibility only.</Txt>
+    </Card>
+  );
+}
+
+function ParticipantCard({ fit, detail, point, canSetAside, onClose }: { fit: FitView; detail: RegionDetail; point: Point; canSetAside: boolean; onClose: () => void }) {
+  const [reason, setReason] = useState("");
+  const [scope, setScope] = useState<"region" | "all">("region");
+  const setAside = useSetAside(fit.studyId);
+  const already = detail.setAside?.find((s) => s.participant === point.participant);
+  return (
+    <Card testID="participant-card">
+      <View style={styles.badges}>
+        <Heading level={3}>{point.participant}</Heading>
+        {point.flags.map((f) => (
+          <Badge key={f} label={f} tone="danger" />
+        ))}
+      </View>
+      <Txt kind="small">
+        {detail.axes.x ? `${detail.axes.x} ${formatValue(point.x)} · ` : ""}
+        {point.group ? `${detail.axes.group ?? "group"} ${point.group} · ` : ""}contrast {formatValue(point.y)} · leverage {formatValue(point.leverage)} · studentized residual{" "}
+        {formatValue(point.studentizedResidual)} · Cook's distance {formatValue(point.cooksDistance)}
+      </Txt>
+      {already ? <Notice>Set aside in this fit ({already.scope}): {already.reason}</Notice> : null}
+      {canSetAside ? (
+        setAside.isSuccess ? (
+          <Notice tone="success">Set aside and logged. The estimate below is recomputed without this participant; refit to update every region.</Notice>
+        ) : (
+          <>
+            <Notice tone="caution">Set participants aside only for reasons decided before looking at results (for example excessive motion or failed task checks). Every set-aside is logged with its reason.</Notice>
+            <Choice
+              label="Set aside from"
+              options={[
+                { value: "region", label: `This region (${detail.region})` },
+                { value: "all", label: "Every region" },
+              ]}
+              value={scope}
+              onChange={setScope}
+            />
+            <Field label="Reason (required)" value={reason} onChangeText={setReason} placeholder="e.g. mean framewise displacement above the preregistered 0.5 mm" testID="set-aside-reason" />
+            {setAside.error ? <Notice tone="danger">{setAside.error.message}</Notice> : null}
+            <Button
+              label="Set aside"
+              variant="danger"
+              disabled={reason.trim().length === 0}
+              busy={setAside.isPending}
+              onPress={() => setAside.mutate({ participant: point.participant, region: scope === "region" ? detail.region : undefined, reason: reason.trim() })}
+              testID="set-aside"
+            />
+          </>
+        )
+      ) : null}
+      <Button label="Close" variant="quiet" onPress={onClose} />
+    </Card>
+  );
+}
+
+function PreviewCard({ fit, region, canRun, enabled }: { fit: FitView; region: string; canRun: boolean; enabled: boolean }) {
+  const setAsides = useSetAsides(fit.studyId, enabled);
+  const version = (setAsides.data ?? []).map((s) => `${s.id}:${s.restoredAt ?? ""}`).join(",");
+  const preview = useRegionPreview(fit.id, region, version, enabled && setAsides.isSuccess);
+  const run = useRunFit(fit.studyId);
+  const router = useRouter();
+  if (!enabled || !preview.data) return null;
+  const changed = preview.data.changes.added + preview.data.changes.restored > 0;
+  if (!changed) return null;
+  const p = preview.data.preview;
+  return (
+    <Card testID="region-preview">
+      <Heading level={3}>With the current set-asides</Heading>
+      <Txt>
+        Estimate {formatValue(p.estimate)} (95% CI {formatValue(p.ciLow)} to {formatValue(p.ciHigh)}), p {formatP(p.p)}, N = {p.n}
+        {preview.data.fit ? ` — this fit had ${formatValue(preview.data.fit.estimate)} with N = ${preview.data.fit.n}` : ""}.
+      </Txt>
+      <Txt kind="caption">Parametric, this region only. A refit recomputes every region with the model's own inference and correction; this fit stays as it is.</Txt>
+      {run.error ? <Notice tone="danger">{run.error.message}</Notice> : null}
+      {canRun ? (
+        <Button
+          label="Refit every region"
+          onPress={() => run.mutate(fit.model.id, { onSuccess: (next) => router.push(`/studies/${fit.studyId}/fits/${next.id}` as never) })}
+          busy={run.isPending}
+          testID="refit"
+        />
+      ) : null}
+    </Card>
+  );
+}
+
+function Sensitivity({ detail }: { detail: RegionDetail }) {
+  const s = detail.sensitivity as { excluded: string[]; n: number; estimate?: number; p?: number; ciLow?: number | null; ciHigh?: number | null; error?: string } | null;
+  const loo = detail.leaveOneOut as { estimateMin: number; estimateMax: number; minWithout: string; maxWithout: string; rMin?: number; rMax?: number } | null;
+  if (!s && !loo) return null;
+  return (
+    <Card testID="sensitivity">
+      <Heading level={3}>With and without</Heading>
+      {s ? (
+        s.error ? (
+          <Txt kind="small">Without the {s.excluded.length} flagged participants the estimate could not be computed: {s.error}.</Txt>
+        ) : (
+          <Txt kind="small">
+            Without the {s.excluded.length} participant{s.excluded.length === 1 ? "" : "s"} flagged outlier or influence ({detail.points ? s.excluded.join(", ") : "ids withheld"}): estimate{" "}
+            {formatValue(s.estimate)} (95% CI {formatValue(s.ciLow)} to {formatValue(s.ciHigh)}), p {formatP(s.p ?? Number.NaN)}, N = {s.n}; with them {formatValue(detail.result.estimate)}, p{" "}
+            {formatP(detail.result.p)}.
+          </Txt>
+        )
+      ) : (
+        <Txt kind="small">No participant is flagged outlier or influence in this region.</Txt>
+      )}
+      {loo ? (
+        <Txt kind="small">
+          Leaving one participant out moves the estimate between {formatValue(loo.estimateMin)} and {formatValue(loo.estimateMax)}
+          {typeof loo.rMin === "number" && typeof loo.rMax === "number" ? ` (r between ${formatValue(loo.rMin)} and ${formatValue(loo.rMax)})` : ""}.
+        </Txt>
+      ) : null}
+    </Card>
+  );
+}
+
+function DiagnosticsTable({ points, selected, onSelect }: { points: readonly Point[]; selected: string | null; onSelect: (id: string) => void }) {
+  const rows = useMemo(() => points.map((p) => ({ ...p, flagText: p.flags.join(", ") })), [points]);
+  const columns = useMemo<ColumnDef<(typeof rows)[number], unknown>[]>(
+    () => [
+      { accessorKey: "participant", header: "Participant" },
+      { accessorKey: "flagText", header: "Flags", meta: { width: 120 } },
+      { accessorKey: "y", header: "Contrast", meta: { numeric: true, digits: 3 } },
+      { accessorKey: "fitted", header: "Fitted", meta: { numeric: true, digits: 3 } },
+      { accessorKey: "leverage", header: "Leverage", meta: { numeric: true, digits: 3 } },
+      { accessorKey: "studentizedResidual", header: "Studentized residual", meta: { numeric: true, digits: 3, width: 120 } },
+      { accessorKey: "cooksDistance", header: "Cook's distance", meta: { numeric: true, digits: 3, width: 110 } },
+      { accessorKey: "dffits", header: "DFFITS", meta: { numeric: true, digits: 3 } },
+      { accessorKey: "mahalanobis", header: "Mahalanobis", meta: { numeric: true, digits: 3 } },
+    ],
+    [],
+  );
+  return (
+    <Card>
+      <Heading level={3}>Participant diagnostics</Heading>
+      <DataTable label="Participant diagnostics" data={rows} columns={columns} getRowId={(r) => r.participant} onRowPress={(r) => onSelect(r.participant)} selectedRowId={selected} searchable testID="diagnostics-table" />
+      <Txt kind="caption">
+        Flags: outlier — externally studentized residual beyond the Bonferroni 5% cut-off (Cook & Weisberg 1982); leverage — hat value above 2p/n (Hoaglin & Welsch 1978); influence — Cook's distance above 4/n (Bollen & Jackman 1990).
+      </Txt>
+    </Card>
+  );
+}
+
+const styles = StyleSheet.create({
+  root: { gap: space.md },
+  badges: { flexDirection: "row", flexWrap: "wrap", gap: space.xs, alignItems: "center" },
+});

@@ -1,0 +1,256 @@
+/**
+ * New model: a short form for the question (kind, regions, predictor or
+ * grouping, covariates) and how to answer it (estimator, inference,
+ * correction, weights). Validation is the API's own schema.
+ */
+import { useMemo, useState } from "react";
+import { StyleSheet, View } from "react-native";
+import { useRouter } from "expo-router";
+import { Choice, MultiChoice } from "./choice";
+import { Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "./ui";
+import { palette, space } from "./theme";
+import { questionOf } from "./fit/describe-model";
+import { useColumnLevels, useCreateModel, useModelInputs, type ModelInputs } from "../hooks/use-models";
+import { useRunFit } from "../hooks/use-fits";
+import {
+  circularityCaution,
+  estimatorsByKind,
+  modelCreateSchema,
+  regionSelectionLabels,
+  regionSelectionQuestion,
+  regionSelections,
+  type ModelCreateInput,
+  type RegionSelection,
+} from "../server/model/model-form";
+import type { ModelSpec } from "../server/model/spec";
+
+type Kind = ModelSpec["kind"];
+type Estimator = ModelSpec["estimator"];
+
+const kindOptions = [
+  { value: "association", label: "Tracks a trait" },
+  { value: "two-group", label: "Two groups differ" },
+  { value: "one-sample", label: "Effect across the group" },
+  { value: "reliability", label: "Reliability across sessions" },
+] as const;
+
+const estimatorLabels: Record<Estimator, string> = {
+  ols: "Least squares",
+  welch: "Welch t",
+  rank: "Rank-based",
+  huber: "Huber",
+  bisquare: "Bisquare",
+  skipped: "Skipped correlation",
+  bend: "Percentage bend",
+};
+
+const inferenceOptions = [
+  { value: "parametric", label: "Parametric" },
+  { value: "permutation", label: "Permutation" },
+  { value: "bootstrap", label: "Bootstrap" },
+] as const;
+
+const correctionOptions = [
+  { value: "none", label: "None" },
+  { value: "holm", label: "Holm" },
+  { value: "bh", label: "Benjamini–Hochberg" },
+  { value: "bonferroni", label: "Bonferroni" },
+  { value: "maxt", label: "Max-T" },
+] as const;
+
+export function ModelForm(props: { studyId: string }) {
+  const inputs = useModelInputs(props.studyId);
+  if (inputs.isPending) return <Pending label="Reading the study's tables…" />;
+  if (inputs.isError) return <Failure error={inputs.error} onRetry={() => inputs.refetch()} />;
+  if (inputs.data.regions.length === 0) {
+    return <Notice tone="caution" title="No brain table yet">Upload and confirm a brain table in the Data section before building a model.</Notice>;
+  }
+  return <Form studyId={props.studyId} inputs={inputs.data} />;
+}
+
+function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
+  const router = useRouter();
+  const [name, setName] = useState("");
+  const [kind, setKind] = useState<Kind>("association");
+  const [allRegions, setAllRegions] = useState(true);
+  const [regions, setRegions] = useState<string[]>([]);
+  const [predictor, setPredictor] = useState<string | null>(inputs.numericColumns[0] ?? null);
+  const [group, setGroup] = useState<string | null>(inputs.categoricalColumns[0] ?? null);
+  const [levels, setLevels] = useState<string[]>([]);
+  const [covariates, setCovariates] = useState<string[]>([]);
+  const [estimator, setEstimator] = useState<Estimator>("ols");
+  const [inference, setInference] = useState<ModelSpec["inference"]>("parametric");
+  const [resamples, setResamples] = useState("10000");
+  const [seed, setSeed] = useState("1");
+  const [correction, setCorrection] = useState<ModelSpec["correction"]>("holm");
+  const [weighted, setWeighted] = useState(false);
+  const [tau2Method, setTau2Method] = useState<"reml" | "dl">("reml");
+  const [knappHartung, setKnappHartung] = useState(false);
+  const [selection, setSelection] = useState<RegionSelection | null>(null);
+  const [problems, setProblems] = useState<{ field: string; message: string }[]>([]);
+  const create = useCreateModel(studyId);
+  const runFit = useRunFit(studyId);
+  const levelsQuery = useColumnLevels(studyId, kind === "two-group" ? (group ?? undefined) : undefined);
+
+  const estimators = estimatorsByKind[kind];
+  const covariateOptions = useMemo(
+    () =>
+      [...inputs.numericColumns, ...inputs.categoricalColumns]
+        .filter((c) => c !== predictor || kind !== "association")
+        .filter((c) => c !== group || (kind !== "two-group" && kind !== "association"))
+        .map((c) => ({ value: c, label: c })),
+    [inputs, predictor, group, kind],
+  );
+
+  const spec = (): ModelCreateInput["spec"] => ({
+    kind,
+    regions: allRegions ? undefined : regions,
+    predictor: kind === "association" ? (predictor ?? undefined) : undefined,
+    group: kind === "two-group" ? (group ?? undefined) : undefined,
+    levels: kind === "two-group" && levels.length === 2 ? [levels[0], levels[1]] : undefined,
+    covariates: kind === "reliability" ? [] : covariates.filter((c) => covariateOptions.some((o) => o.value === c)),
+    estimator: estimators.includes(estimator) ? estimator : "ols",
+    inference: kind === "reliability" ? "parametric" : inference,
+    resamples: Number(resamples),
+    seed: Number(seed),
+    correction,
+    weights: weighted ? "first-level-se" : "none",
+    tau2Method,
+    smallSample: knappHartung ? "knapp-hartung" : "none",
+  });
+
+  const save = (thenRun: boolean) => {
+    const body = { name: name.trim(), spec: spec(), regionSelection: selection ?? undefined };
+    const checked = modelCreateSchema.safeParse(body);
+    if (!checked.success) {
+      setProblems(checked.error.issues.map((i) => ({ field: i.path.filter((p) => p !== "spec").join(".") || "model", message: i.message })));
+      return;
+    }
+    setProblems([]);
+    create.mutate(checked.data as ModelCreateInput, {
+      onSuccess: (model) => {
+        if (!thenRun) {
+          router.replace(`/studies/${studyId}/models` as never);
+          return;
+        }
+        runFit.mutate(model.id, { onSuccess: (fit) => router.replace(`/studies/${studyId}/fits/${fit.id}` as never) });
+      },
+    });
+  };
+
+  const preview = spec();
+  return (
+    <View style={styles.root}>
+      <Heading>New model</Heading>
+      <Card>
+        <Field label="Name" value={name} onChangeText={setName} placeholder="e.g. Accuracy, adjusted for age and motion" testID="model-name" />
+        <Choice label="Question" options={kindOptions} value={kind} onChange={setKind} testID="model-kind" />
+        <Txt kind="small" style={{ color: palette.inkSoft }} testID="model-question">
+          {questionOf({ ...preview, covariates: preview.covariates ?? [], interaction: false } as ModelSpec)}
+        </Txt>
+      </Card>
+
+      <Card>
+        <Heading level={3}>Regions</Heading>
+        <Choice
+          label="Which regions"
+          options={[
+            { value: "all", label: `All ${inputs.regions.length}` },
+            { value: "chosen", label: "Choose" },
+          ]}
+          value={allRegions ? "all" : "chosen"}
+          onChange={(v) => setAllRegions(v === "all")}
+        />
+        {!allRegions ? <MultiChoice label="Regions" options={inputs.regions.map((r) => ({ value: r, label: r }))} values={regions} onChange={setRegions} /> : null}
+        <Choice label={regionSelectionQuestion} options={regionSelections.map((v) => ({ value: v, label: regionSelectionLabels[v] }))} value={selection} onChange={setSelection} testID="region-selection" />
+        {selection === "same-data" ? (
+          <Notice tone="caution" title="Circular region selection" testID="circularity-caution">
+            {circularityCaution}
+          </Notice>
+        ) : null}
+      </Card>
+
+      {kind === "association" || kind === "two-group" ? (
+        <Card>
+          <Heading level={3}>{kind === "association" ? "Trait" : "Groups"}</Heading>
+          {kind === "association" ? (
+            inputs.numericColumns.length === 0 ? (
+              <Notice tone="caution">The participant sheet has no numeric column to use as a trait.</Notice>
+            ) : (
+              <Choice label="Trait (predictor)" options={inputs.numericColumns.map((c) => ({ value: c, label: c }))} value={predictor} onChange={setPredictor} testID="model-predictor" />
+            )
+          ) : (
+            <>
+              <Choice label="Grouping column" options={inputs.categoricalColumns.map((c) => ({ value: c, label: c }))} value={group} onChange={(g) => { setGroup(g); setLevels([]); }} testID="model-group" />
+              {levelsQuery.data ? (
+                <MultiChoice label="Compare (first minus second; pick two)" options={levelsQuery.data.map((l) => ({ value: l, label: l }))} values={levels} onChange={(v) => setLevels(v.slice(-2))} />
+              ) : null}
+            </>
+          )}
+          <MultiChoice label="Nuisance covariates" options={covariateOptions} values={covariates} onChange={setCovariates} testID="model-covariates" />
+        </Card>
+      ) : kind === "one-sample" ? (
+        <Card>
+          <MultiChoice label="Nuisance covariates (numeric, centred)" options={inputs.numericColumns.map((c) => ({ value: c, label: c }))} values={covariates} onChange={setCovariates} testID="model-covariates" />
+        </Card>
+      ) : null}
+
+      {kind !== "reliability" ? (
+        <Card>
+          <Heading level={3}>How to answer it</Heading>
+          <Choice label="Estimator" options={estimators.map((e) => ({ value: e, label: estimatorLabels[e] }))} value={estimators.includes(estimator) ? estimator : "ols"} onChange={setEstimator} testID="model-estimator" />
+          <Choice label="Inference" options={inferenceOptions} value={inference} onChange={setInference} testID="model-inference" />
+          {inference !== "parametric" ? (
+            <View style={styles.pair}>
+              <View style={styles.half}>
+                <Field label="Resamples" value={resamples} onChangeText={setResamples} inputMode="numeric" />
+              </View>
+              <View style={styles.half}>
+                <Field label="Seed" value={seed} onChangeText={setSeed} inputMode="numeric" />
+              </View>
+            </View>
+          ) : null}
+          <Choice label="Correction over regions" options={correctionOptions} value={correction} onChange={setCorrection} testID="model-correction" />
+          {inputs.hasStandardErrors ? (
+            <>
+              <Choice
+                label="Weights"
+                options={[
+                  { value: "none", label: "Equal" },
+                  { value: "se", label: "First-level standard errors" },
+                ]}
+                value={weighted ? "se" : "none"}
+                onChange={(v) => setWeighted(v === "se")}
+              />
+              {weighted ? (
+                <>
+                  <Choice label="Between-participant variance τ²" options={[{ value: "reml", label: "REML" }, { value: "dl", label: "DerSimonian–Laird" }]} value={tau2Method} onChange={setTau2Method} />
+                  <Choice label="Small-sample adjustment" options={[{ value: "none", label: "None" }, { value: "kh", label: "Knapp–Hartung" }]} value={knappHartung ? "kh" : "none"} onChange={(v) => setKnappHartung(v === "kh")} />
+                </>
+              ) : null}
+            </>
+          ) : null}
+        </Card>
+      ) : null}
+
+      {problems.length > 0 ? (
+        <Notice tone="danger" title="Check these fields" testID="model-problems">
+          {problems.map((p) => `${p.field}: ${p.message}`).join("\n")}
+        </Notice>
+      ) : null}
+      {create.error ? <Notice tone="danger">{create.error.message}</Notice> : null}
+      {runFit.error ? <Notice tone="danger">{runFit.error.message}</Notice> : null}
+      <View style={styles.buttons}>
+        <Button label="Save and run" onPress={() => save(true)} busy={create.isPending || runFit.isPending} testID="save-and-run" />
+        <Button label="Save" variant="secondary" onPress={() => save(false)} busy={create.isPending} testID="save-model" />
+      </View>
+    </View>
+  );
+}
+
+const styles = StyleSheet.create({
+  root: { gap: space.lg, maxWidth: 760 },
+  pair: { flexDirection: "row", flexWrap: "wrap", gap: space.md },
+  half: { flexGrow: 1, flexBasis: 140 },
+  buttons: { flexDirection: "row", flexWrap: "wrap", gap: space.md },
+});

@@ -1,0 +1,146 @@
+import { useEffect } from "react";
+import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { apiBase, apiFetch, jsonBody } from "./api";
+import { studyKeys } from "./use-studies";
+import { modelKeys } from "./use-models";
+import type { FitSummaryView, FitView, RegionDetail, RegionPreview } from "../server/services/fits";
+
+export type { FitSummaryView, FitView, RegionDetail, RegionPreview };
+
+export interface SetAsideView {
+  id: string;
+  participant: string;
+  region: string | null;
+  reason: string;
+  createdBy: { id: string; name: string | null };
+  createdAt: string;
+  restoredAt: string | null;
+}
+
+export const fitKeys = {
+  all: ["fits"] as const,
+  list: (studyId: string) => [...fitKeys.all, "list", studyId] as const,
+  detail: (fitId: string) => [...fitKeys.all, "detail", fitId] as const,
+  region: (fitId: string, region: string) => [...fitKeys.all, "region", fitId, region] as const,
+  preview: (fitId: string, region: string) => [...fitKeys.all, "preview", fitId, region] as const,
+  setAsides: (studyId: string) => ["set-asides", studyId] as const,
+};
+
+const running = (status: string | undefined) => status === "queued" || status === "running";
+
+export const fitsQueryOptions = (studyId: string) =>
+  queryOptions({ queryKey: fitKeys.list(studyId), queryFn: () => apiFetch<FitSummaryView[]>(`/api/studies/${encodeURIComponent(studyId)}/fits`) });
+
+export const fitQueryOptions = (fitId: string) =>
+  queryOptions({ queryKey: fitKeys.detail(fitId), queryFn: () => apiFetch<FitView>(`/api/fits/${encodeURIComponent(fitId)}`) });
+
+export const regionDetailQueryOptions = (fitId: string, region: string) =>
+  queryOptions({
+    queryKey: fitKeys.region(fitId, region),
+    queryFn: () => apiFetch<RegionDetail>(`/api/fits/${encodeURIComponent(fitId)}/regions/${encodeURIComponent(region)}`),
+  });
+
+export const setAsidesQueryOptions = (studyId: string) =>
+  queryOptions({ queryKey: fitKeys.setAsides(studyId), queryFn: () => apiFetch<SetAsideView[]>(`/api/studies/${encodeURIComponent(studyId)}/set-asides`) });
+
+export function useFits(studyId: string) {
+  const query = useQuery({ ...fitsQueryOptions(studyId), refetchInterval: (q) => (q.state.data?.some((f) => running(f.status)) ? 2000 : false) });
+  return query;
+}
+
+/** A fit, kept current while it runs: server-sent progress events, with polling as the fallback. */
+export function useFit(fitId: string) {
+  const client = useQueryClient();
+  const query = useQuery({ ...fitQueryOptions(fitId), refetchInterval: (q) => (running(q.state.data?.status) ? 3000 : false) });
+  const active = running(query.data?.status);
+  useEffect(() => {
+    if (!active || typeof EventSource === "undefined") return;
+    const source = new EventSource(`${apiBase}/api/fits/${encodeURIComponent(fitId)}/events`, { withCredentials: true });
+    const onUpdate = (event: MessageEvent) => {
+      try {
+        const update = JSON.parse(event.data) as Partial<FitView>;
+        client.setQueryData<FitView>(fitKeys.detail(fitId), (old) => (old ? { ...old, ...pickLive(update) } : old));
+        if (update.status && !running(update.status)) {
+          source.close();
+          void client.invalidateQueries({ queryKey: fitKeys.detail(fitId) });
+          void client.invalidateQueries({ queryKey: fitKeys.all });
+        }
+      } catch {
+        // a heartbeat or an unreadable event: polling still keeps the fit current
+      }
+    };
+    source.onmessage = onUpdate;
+    for (const name of ["progress", "status", "done", "failed", "cancelled"]) source.addEventListener(name, onUpdate as EventListener);
+    source.onerror = () => source.close();
+    return () => source.close();
+  }, [active, fitId, client]);
+  return query;
+}
+
+function pickLive(update: Partial<FitView>): Partial<FitView> {
+  const live: Partial<FitView> = {};
+  if (update.status) live.status = update.status;
+  if (update.progress) live.progress = update.progress;
+  if (update.error !== undefined) live.error = update.error;
+  return live;
+}
+
+export function useRegionDetail(fitId: string, region: string | null, enabled: boolean) {
+  return useQuery({ ...regionDetailQueryOptions(fitId, region ?? ""), enabled: enabled && region !== null });
+}
+
+/** The selected region recomputed at once with the study's current set-asides. */
+export function useRegionPreview(fitId: string, region: string | null, setAsideVersion: string, enabled: boolean) {
+  return useQuery({
+    queryKey: [...fitKeys.preview(fitId, region ?? ""), setAsideVersion] as const,
+    enabled: enabled && region !== null,
+    queryFn: () => apiFetch<RegionPreview>(`/api/fits/${encodeURIComponent(fitId)}/regions/${encodeURIComponent(region ?? "")}/preview`, { method: "POST" }),
+  });
+}
+
+export function useSetAsides(studyId: string, enabled = true) {
+  return useQuery({ ...setAsidesQueryOptions(studyId), enabled });
+}
+
+export function useRunFit(studyId: string) {
+  const client = useQueryClient();
+  return useMutation({
+    mutationFn: (modelId: string) => apiFetch<FitView>(`/api/studies/${encodeURIComponent(studyId)}/fits`, jsonBody("POST", { modelId })),
+    onSuccess: async () => {
+      await client.invalidateQueries({ queryKey: fitKeys.all });
+      await client.invalidateQueries({ queryKey: modelKeys.all(studyId) });
+      await client.invalidateQueries({ queryKey: studyKeys.all });
+    },
+  });
+}
+
+export function useCancelFit(fitId: string) {
+  const client = useQueryClient();
+  return useMutation({
+    mutationFn: () => apiFetch<FitView>(`/api/fits/${encodeURIComponent(fitId)}/cancel`, { method: "POST" }),
+    onSuccess: () => client.invalidateQueries({ queryKey: fitKeys.all }),
+  });
+}
+
+export function useSetAside(studyId: string) {
+  const client = useQueryClient();
+  return useMutation({
+    mutationFn: (input: { participant: string; region?: string; reason: string }) =>
+      apiFetch<SetAsideView>(`/api/studies/${encodeURIComponent(studyId)}/set-asides`, jsonBody("POST", input)),
+    onSuccess: async () => {
+      await client.invalidateQueries({ queryKey: fitKeys.setAsides(studyId) });
+      await client.invalidateQueries({ queryKey: ["activity", studyId] });
+    },
+  });
+}
+
+export function useRestoreSetAside(studyId: string) {
+  const client = useQueryClient();
+  return useMutation({
+    mutationFn: (setAsideId: string) => apiFetch<SetAsideView>(`/api/studies/${encodeURIComponent(studyId)}/set-asides/${encodeURIComponent(setAsideId)}`, { method: "DELETE" }),
+    onSuccess: async () => {
+      await client.invalidateQueries({ queryKey: fitKeys.setAsides(studyId) });
+      await client.invalidateQueries({ queryKey: ["activity", studyId] });
+    },
+  });
+}
