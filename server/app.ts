@@ -27,14 +27,18 @@ import { apiNotFound, errorHandler } from "./http/errors";
 import { limitByIpAndAddress } from "./http/rate-limits";
 import { sameOrigin } from "./http/same-origin";
 import { serveWebBuild } from "./http/web-build";
+import { FitJobs } from "./jobs/fit-jobs";
 import { activityRoutes } from "./routes/activity";
 import { datasetRoutes } from "./routes/datasets";
 import { plannerRoutes } from "./routes/planner";
 import type { RouteDeps } from "./routes/deps";
 import { devRoutes } from "./routes/dev";
+import { fitRoutes } from "./routes/fits";
 import { invitationRoutes } from "./routes/invitations";
 import { memberRoutes } from "./routes/members";
+import { modelRoutes } from "./routes/models";
 import { rosterRoutes } from "./routes/roster";
+import { setAsideRoutes } from "./routes/set-asides";
 import { studyRoutes } from "./routes/studies";
 import { systemRoutes } from "./routes/system";
 import type { Mailer } from "./services/mailer";
@@ -54,6 +58,11 @@ export interface AppDeps {
   /** Directory of the exported web app (default: ./dist at the project root). */
   distDir?: string;
   log?: (error: unknown, context: string) => void;
+  /**
+   * The fit jobs (worker-thread pool). Default: a new one for this app,
+   * available as `app.locals.fitJobs`; whoever starts the app closes it.
+   */
+  fitJobs?: FitJobs;
 }
 
 export const version: string = (JSON.parse(readFileSync(join(root, "package.json"), "utf8")) as { version: string }).version;
@@ -73,8 +82,11 @@ export function createApp(deps: AppDeps): Express {
     version,
   };
 
+  const fitJobs = deps.fitJobs ?? new FitJobs({ db, clock, log });
+
   const app = express();
   app.locals.db = db;
+  app.locals.fitJobs = fitJobs;
   app.set("trust proxy", config.trustProxy);
   app.set("query parser", "simple");
   app.disable("x-powered-by");
@@ -122,6 +134,9 @@ export function createApp(deps: AppDeps): Express {
   app.use("/api", datasetRoutes(routeDeps, new PreviewStore()));
   app.use("/api", rosterRoutes(routeDeps));
   app.use("/api", plannerRoutes(routeDeps));
+  app.use("/api", modelRoutes(routeDeps));
+  app.use("/api", fitRoutes(routeDeps, fitJobs));
+  app.use("/api", setAsideRoutes(routeDeps));
   app.use("/api", apiNotFound);
 
   app.use(serveWebBuild(deps.distDir ?? join(root, "dist")));

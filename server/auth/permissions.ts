@@ -6,7 +6,9 @@
  * Audiences:
  * - `anyone`: no session needed (health, sign-in options, invitation preview);
  * - `signed-in`: any signed-in person (own profile, list/create studies, accept an invitation);
- * - `study`: members of the study named by `:studyId` whose role is listed.
+ * - `study`: members of the study named by `:studyId` (or, on routes such
+ *   as `/fits/:fitId`, of the study the route's `studyOf` resolver finds)
+ *   whose role is listed.
  *   A study that does not exist, is deleted, or that you do not belong to
  *   answers 404 (its existence is not revealed); a member whose role is not
  *   listed gets 403. `whenRestricted` narrows the roles when the study marks
@@ -123,18 +125,32 @@ export function capabilitiesOf(role: Role, restricted: boolean): Action[] {
   );
 }
 
+/**
+ * For study actions on routes without `:studyId` (e.g. `/fits/:fitId`):
+ * finds the study of the resource the route's params name, or null when
+ * there is none. The resource then answers 404 exactly as a study you do
+ * not belong to.
+ */
+export interface StudyOf {
+  resolve: (db: Database, params: Record<string, string>) => Promise<string | null>;
+  /** The 404 message (default "Not found."). */
+  notFound?: string;
+}
+
 /** The middleware: checks `action` for this request, answering 401/403/404 through the error envelope. */
-export function authorize(action: Action): RequestHandler {
+export function authorize(action: Action, options: { studyOf?: StudyOf } = {}): RequestHandler {
   const audience: Audience = permissions[action];
   if (!audience) throw new Error(`authorize: unknown action ${String(action)}`);
+  const { studyOf } = options;
   const handler: RequestHandler = async (req, res, next) => {
     if (audience.scope === "anyone") return next();
     const user = currentUser(res);
     if (!user) throw unauthorized();
     if (audience.scope === "signed-in") return next();
     const db = (req.app.locals as { db: Database }).db;
-    const found = await findMembership(db, String(req.params.studyId ?? ""), user);
-    if (!found) throw notFound("Study not found.");
+    const studyId = studyOf ? await studyOf.resolve(db, req.params as Record<string, string>) : String(req.params.studyId ?? "");
+    const found = studyId === null ? null : await findMembership(db, studyId, user);
+    if (!found) throw notFound(studyOf ? (studyOf.notFound ?? "Not found.") : "Study not found.");
     const isSelf = typeof req.params.userId === "string" && req.params.userId === user.id;
     if (!roleMay(action, found.role, { restricted: found.study.restricted, isSelf })) {
       throw forbidden(`Your role in this study (${found.role}) does not allow ${action}.`);

@@ -9,10 +9,15 @@
  * Auth.js's CSRF check and the sign-in rate limit, tested elsewhere).
  */
 import { randomBytes } from "node:crypto";
+import { eq } from "drizzle-orm";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { invitations, memberships, studies, users } from "../../db/schema";
+import { fits, invitations, memberships, models, setAsides, studies, users } from "../../db/schema";
+import { seedDemoDatasets } from "../../db/seed/demo-datasets";
 import { listRoutes } from "../../server/http/route-list";
+import type { FitJobs } from "../../server/jobs/fit-jobs";
+import { modelSpecSchema } from "../../server/model/spec";
+import { createFit } from "../../server/services/fits";
 import { hashToken } from "../../server/services/invitations";
 import { createTestApp, signInByEmail, userIdOf, type TestApp } from "./helpers";
 
@@ -27,18 +32,26 @@ interface Fixture {
   invitationId: string;
   token: string;
   n: number;
+  modelId: string;
+  setAsideId: string;
+  /** Rows with `data`: a finished fit and a queued one on the demo tables. */
+  fitId: string;
+  queuedFitId: string;
 }
 
 interface Row {
   path: (f: Fixture) => string;
   body?: (f: Fixture) => unknown;
   expected: Expected;
+  /** The fixture study needs the demo tables, a finished fit and a queued one. */
+  data?: boolean;
 }
 
 const all = (status: number): Expected => ({ owner: status, analyst: status, reviewer: status, viewer: status, outsider: status, anonymous: status });
 const signedIn = (status: number): Expected => ({ ...all(status), anonymous: 401 });
 const members = (status: number): Expected => ({ ...all(status), outsider: 404, anonymous: 401 });
 const ownerOnly = (status: number): Expected => ({ owner: status, analyst: 403, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 });
+const makers = (status: number): Expected => ({ owner: status, analyst: status, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 });
 
 const matrix: Record<string, Row> = {
   "GET /api/health": { path: () => "/api/health", expected: all(200) },
@@ -100,6 +113,38 @@ const matrix: Record<string, Row> = {
     path: (f) => `/api/studies/${f.studyId}/activity`,
     expected: { owner: 200, analyst: 200, reviewer: 200, viewer: 403, outsider: 404, anonymous: 401 },
   },
+  // Reliability of the measures. The fixture study has no data: an empty list may be stated, the brain reliability answers 409.
+  "GET /api/studies/:studyId/trait-reliabilities": { path: (f) => `/api/studies/${f.studyId}/trait-reliabilities`, expected: members(200) },
+  "PUT /api/studies/:studyId/trait-reliabilities": {
+    path: (f) => `/api/studies/${f.studyId}/trait-reliabilities`,
+    body: () => [],
+    expected: { owner: 200, analyst: 200, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 },
+  },
+  "GET /api/studies/:studyId/reliability": { path: (f) => `/api/studies/${f.studyId}/reliability`, expected: members(409) },
+  // Models, fits and set-asides. Routes under /api/fits/:fitId find the fit's study first: non-members get 404.
+  "GET /api/studies/:studyId/models": { path: (f) => `/api/studies/${f.studyId}/models`, expected: members(200) },
+  "POST /api/studies/:studyId/models": {
+    path: (f) => `/api/studies/${f.studyId}/models`,
+    body: () => ({ name: "Matrix new model", regionSelection: "independent-data", spec: { kind: "one-sample" } }),
+    expected: makers(201),
+  },
+  "GET /api/studies/:studyId/models/:modelId": { path: (f) => `/api/studies/${f.studyId}/models/${f.modelId}`, expected: members(200) },
+  "PATCH /api/studies/:studyId/models/:modelId": { path: (f) => `/api/studies/${f.studyId}/models/${f.modelId}`, body: () => ({ name: "Renamed model" }), expected: makers(200) },
+  "DELETE /api/studies/:studyId/models/:modelId": { path: (f) => `/api/studies/${f.studyId}/models/${f.modelId}`, expected: makers(204) },
+  "GET /api/studies/:studyId/fits": { path: (f) => `/api/studies/${f.studyId}/fits`, expected: members(200) },
+  "POST /api/studies/:studyId/fits": { path: (f) => `/api/studies/${f.studyId}/fits`, body: (f) => ({ modelId: f.modelId }), expected: makers(202), data: true },
+  "GET /api/fits/:fitId": { path: (f) => `/api/fits/${f.fitId}`, expected: members(200), data: true },
+  "GET /api/fits/:fitId/events": { path: (f) => `/api/fits/${f.fitId}/events`, expected: members(200), data: true },
+  "POST /api/fits/:fitId/cancel": { path: (f) => `/api/fits/${f.queuedFitId}/cancel`, expected: makers(200), data: true },
+  "GET /api/fits/:fitId/regions/:region": { path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc`, expected: members(200), data: true },
+  "POST /api/fits/:fitId/regions/:region/preview": { path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc/preview`, expected: members(200), data: true },
+  "GET /api/studies/:studyId/set-asides": { path: (f) => `/api/studies/${f.studyId}/set-asides`, expected: members(200) },
+  "POST /api/studies/:studyId/set-asides": {
+    path: (f) => `/api/studies/${f.studyId}/set-asides`,
+    body: () => ({ participant: "sub-02", reason: "Matrix case" }),
+    expected: makers(201),
+  },
+  "DELETE /api/studies/:studyId/set-asides/:setAsideId": { path: (f) => `/api/studies/${f.studyId}/set-asides/${f.setAsideId}`, expected: makers(200) },
 };
 
 let t: TestApp;
@@ -132,7 +177,7 @@ async function sessionCookieOf(email: string): Promise<string> {
   return `authjs.session-token=${cookie.value}`;
 }
 
-async function makeFixture(): Promise<Fixture> {
+async function makeFixture(withData = false): Promise<Fixture> {
   counter += 1;
   const now = new Date();
   const name = `Matrix fixture ${counter}`;
@@ -154,7 +199,29 @@ async function makeFixture(): Promise<Fixture> {
       expiresAt: new Date(now.getTime() + 7 * 24 * 3600 * 1000),
     })
     .returning();
-  return { studyId: study.id, studyName: name, targetUserId: target.id, invitationId: inv.id, token, n: counter };
+  const owner = ids.get("owner") as string;
+  const [model] = await t.db
+    .insert(models)
+    .values({ studyId: study.id, name: "Matrix model", spec: modelSpecSchema.parse({ kind: "one-sample" }), regionSelection: "independent-data", createdBy: owner, updatedBy: owner })
+    .returning();
+  const [aside] = await t.db.insert(setAsides).values({ studyId: study.id, participantId: "sub-01", reason: "Matrix fixture", createdBy: owner }).returning();
+  let fitId = "";
+  let queuedFitId = "";
+  if (withData) {
+    await seedDemoDatasets(t.db, { studyId: study.id, uploadedBy: owner, now });
+    const jobs = t.app.locals.fitJobs as FitJobs;
+    const fit = await createFit(t.db, jobs, { id: owner }, study, model.id, now, "matrix");
+    await jobs.whenIdle();
+    const [done] = await t.db.select().from(fits).where(eq(fits.id, fit.id));
+    const { id: _id, ...copy } = done;
+    const [queued] = await t.db
+      .insert(fits)
+      .values({ ...copy, status: "queued", progress: 0, result: null, startedAt: null, finishedAt: null })
+      .returning();
+    fitId = fit.id;
+    queuedFitId = queued.id;
+  }
+  return { studyId: study.id, studyName: name, targetUserId: target.id, invitationId: inv.id, token, n: counter, modelId: model.id, setAsideId: aside.id, fitId, queuedFitId };
 }
 
 function routeKeys(): string[] {
@@ -184,9 +251,9 @@ describe("authorization matrix", () => {
       const method = key.split(" ")[0];
       const got: Partial<Expected> = {};
       for (const persona of personas) {
-        const fixture = await makeFixture();
+        const fixture = await makeFixture(row.data === true);
         const path = row.path(fixture);
-        let req = request(t.url)[method.toLowerCase() as "get" | "post" | "patch" | "delete"](path);
+        let req = request(t.url)[method.toLowerCase() as "get" | "post" | "put" | "patch" | "delete"](path);
         const cookie = cookies.get(persona);
         if (cookie) req = req.set("Cookie", cookie);
         const res = row.body ? await req.send(row.body(fixture) as object) : await req;

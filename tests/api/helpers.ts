@@ -111,6 +111,7 @@ export async function createTestApp(options: TestAppOptions = {}): Promise<TestA
     async close() {
       server.closeAllConnections();
       await new Promise<void>((resolve) => server.close(() => resolve()));
+      await (app.locals.fitJobs as { close(): Promise<void> } | undefined)?.close();
       await services.close();
       await database.close();
       rmSync(dataDir, { recursive: true, force: true });

@@ -1,0 +1,455 @@
+/**
+ * Fits: creating one (a queued job), listing, reading (status, progress,
+ * recipe, result), cancelling, a region's detail for plots, and the
+ * one-region preview with the current set-asides.
+ *
+ * A new fit is pinned at creation: the study's current brain-table and
+ * participant-sheet versions, its confirmed id mappings and its active
+ * set-asides (those that name a participant and region present in that
+ * data; others are listed in the audit event as not applied) go into the
+ * recipe, with the model fields (defaults filled in) and the software
+ * version. The job builds its data from the recipe alone. A full refit is
+ * simply a new fit; the old one stays.
+ *
+ * Participant-level content (diagnostics rows, points, participant ids in
+ * results, the recipe's set-aside list and id mappings) is left out for
+ * callers without `fits.participants.read` (Viewers of a restricted study).
+ */
+import { and, desc, eq, inArray } from "drizzle-orm";
+import type { Database, Queryable } from "../../db/client";
+import { datasetVersions, fitRegions, fits, models, users, type Fit, type FitStatus, type Study } from "../../db/schema";
+import { conflict, notFound } from "../http/errors";
+import { idSchema } from "../http/validate";
+import type { FitJobs, FitProgress } from "../jobs/fit-jobs";
+import { circularityCaution } from "../model/model-form";
+import { type ModelSpec, type ParticipantDiagnostics, type RegionResult, modelSpecSchema } from "../model/spec";
+import type { RegionPlot } from "../stats/region-plot";
+import { FIT_LEVEL, runFit } from "../stats/run-fit";
+import { recordEvent } from "./audit";
+import { currentVersions } from "./datasets";
+import { confirmedMappings, inputsOfFit, specOfRecipe } from "./fit-inputs";
+import { findModel } from "./models";
+import { activeSetAsideList } from "./set-asides";
+
+interface Actor {
+  id: string;
+}
+
+export interface DatasetRef {
+  id: string;
+  version: number;
+  fileName: string;
+  sha256: string;
+}
+
+export interface FitSummaryView {
+  id: string;
+  studyId: string;
+  model: { id: string; name: string; deleted: boolean; circular: boolean };
+  status: FitStatus;
+  progress: FitProgress;
+  createdBy: { id: string; name: string | null };
+  createdAt: string;
+  startedAt: string | null;
+  finishedAt: string | null;
+  error: { code: string; message: string } | null;
+}
+
+/** A fit's result without its per-participant rows (those are in the region detail). */
+export interface FitResultSummary {
+  regions: RegionResult[];
+  notes: string[];
+  [extra: string]: unknown;
+}
+
+export interface FitView extends FitSummaryView {
+  model: FitSummaryView["model"] & { caution: string | null };
+  datasets: { brain: DatasetRef; participants: DatasetRef | null };
+  /** False when participant-level content is withheld from the caller. */
+  participantsVisible: boolean;
+  /** The full recipe, or null when participant-level content is withheld. */
+  recipe: Record<string, unknown> | null;
+  /** The result without per-participant rows (see the region detail), when done. */
+  result: FitResultSummary | null;
+}
+
+/** The study of the fit named by `params.fitId`, for `authorize` (null when there is none). */
+export async function studyOfFit(db: Database, params: Record<string, string>): Promise<string | null> {
+  const fitId = params.fitId;
+  if (!idSchema.safeParse(fitId).success) return null;
+  const [row] = await db.select({ studyId: fits.studyId }).from(fits).where(eq(fits.id, fitId));
+  return row?.studyId ?? null;
+}
+
+/** The fit (of an authorized study). Throws 404. */
+export async function findFit(db: Queryable, studyId: string, fitId: string): Promise<Fit> {
+  const [row] = await db
+    .select()
+    .from(fits)
+    .where(and(eq(fits.id, fitId), eq(fits.studyId, studyId)));
+  if (!row) throw notFound("Fit not found.");
+  return row;
+}
+
+function progressOf(fit: Fit, jobs: FitJobs): FitProgress {
+  if (fit.status === "running") {
+    const live = jobs.live(fit.id);
+    if (live) return live;
+  }
+  return { fraction: fit.status === "done" ? 1 : fit.progress, secondsLeft: fit.status === "running" ? fit.secondsLeft : null };
+}
+
+async function summaries(db: Queryable, jobs: FitJobs, rows: readonly Fit[]): Promise<FitSummaryView[]> {
+  if (rows.length === 0) return [];
+  const modelIds = [...new Set(rows.map((f) => f.modelId))];
+  const people = [...new Set(rows.map((f) => f.createdBy))];
+  const [ms, who] = await Promise.all([
+    db.select({ id: models.id, name: models.name, deletedAt: models.deletedAt, circular: models.circular }).from(models).where(inArray(models.id, modelIds)),
+    db.select({ id: users.id, name: users.name }).from(users).where(inArray(users.id, people)),
+  ]);
+  const modelById = new Map(ms.map((m) => [m.id, m]));
+  const names = new Map(who.map((u) => [u.id, u.name]));
+  return rows.map((f) => {
+    const m = modelById.get(f.modelId);
+    return {
+      id: f.id,
+      studyId: f.studyId,
+      model: { id: f.modelId, name: m?.name ?? "", deleted: Boolean(m?.deletedAt), circular: m?.circular ?? false },
+      status: f.status,
+      progress: progressOf(f, jobs),
+      createdBy: { id: f.createdBy, name: names.get(f.createdBy) ?? null },
+      createdAt: f.createdAt.toISOString(),
+      startedAt: f.startedAt?.toISOString() ?? null,
+      finishedAt: f.finishedAt?.toISOString() ?? null,
+      error: f.error ? { code: f.errorCode ?? "failed", message: f.error } : null,
+    };
+  });
+}
+
+/** The study's fits, newest first (optionally of one model). */
+export async function listFits(db: Queryable, jobs: FitJobs, studyId: string, options: { modelId?: string } = {}): Promise<FitSummaryView[]> {
+  const rows = await db
+    .select()
+    .from(fits)
+    .where(and(eq(fits.studyId, studyId), options.modelId ? eq(fits.modelId, options.modelId) : undefined))
+    .orderBy(desc(fits.createdAt), desc(fits.id));
+  return summaries(db, jobs, rows);
+}
+
+const participantIdKeys = ["minWithout", "maxWithout", "rMinWithout", "rMaxWithout"] as const;
+
+/** A region result without participant ids (projection outliers, sensitivity exclusions, leave-one-out names). */
+export function withoutParticipantIds(r: RegionResult): RegionResult {
+  const out: RegionResult = { ...r };
+  if (Array.isArray(out.projectionOutliers)) out.projectionOutliers = { count: out.projectionOutliers.length };
+  if (out.sensitivity && typeof out.sensitivity === "object") {
+    const s = { ...(out.sensitivity as Record<string, unknown>) };
+    if (Array.isArray(s.excluded)) s.excluded = { count: s.excluded.length };
+    out.sensitivity = s;
+  }
+  if (out.leaveOneOut && typeof out.leaveOneOut === "object") {
+    const l = { ...(out.leaveOneOut as Record<string, unknown>) };
+    for (const k of participantIdKeys) delete l[k];
+    out.leaveOneOut = l;
+  }
+  return out;
+}
+
+/** One fit as the API answers it. */
+export async function fitView(db: Queryable, jobs: FitJobs, fit: Fit, participantsVisible: boolean): Promise<FitView> {
+  const [summary] = await summaries(db, jobs, [fit]);
+  const versionIds = [fit.brainVersionId, ...(fit.sheetVersionId ? [fit.sheetVersionId] : [])];
+  const versions = await db
+    .select({ id: datasetVersions.id, version: datasetVersions.version, fileName: datasetVersions.fileName, sha256: datasetVersions.sha256 })
+    .from(datasetVersions)
+    .where(inArray(datasetVersions.id, versionIds));
+  const ref = (id: string): DatasetRef => versions.find((v) => v.id === id) ?? { id, version: 0, fileName: "", sha256: "" };
+  let result = fit.status === "done" ? (fit.result as FitResultSummary) : null;
+  if (result && !participantsVisible) result = { ...result, regions: result.regions.map(withoutParticipantIds) };
+  return {
+    ...summary,
+    model: { ...summary.model, caution: summary.model.circular ? circularityCaution : null },
+    datasets: { brain: ref(fit.brainVersionId), participants: fit.sheetVersionId ? ref(fit.sheetVersionId) : null },
+    participantsVisible,
+    recipe: participantsVisible ? (fit.recipe as Record<string, unknown>) : null,
+    result,
+  };
+}
+
+/**
+ * Creates a queued fit of a model on the study's current data and starts
+ * its job. Throws 404 (model), 409 (no confirmed brain table), IntakeError
+ * 422 (the data cannot be joined).
+ */
+export async function createFit(
+  db: Database,
+  jobs: FitJobs,
+  actor: Actor,
+  study: Study,
+  modelId: string,
+  now: Date,
+  softwareVersion: string,
+): Promise<FitView> {
+  const model = await findModel(db, study.id, modelId);
+  const { brain, participants } = await currentVersions(db, study.id);
+  if (!brain) throw conflict("This study has no confirmed brain table yet: upload and confirm one before running a fit.");
+  const mappings = await confirmedMappings(db, study.id);
+  const inputs = { brainVersionId: brain.id, sheetVersionId: participants?.id ?? null, mappings };
+  const data = await jobs.data.get(inputs);
+  const known = new Set(data.participants);
+  const regions = new Set(data.regions);
+  const active = await activeSetAsideList(db, study.id);
+  const applied = active.filter((s) => known.has(s.participant) && (s.region === undefined || regions.has(s.region)));
+  const notApplied = active.filter((s) => !applied.includes(s));
+  const spec: ModelSpec = modelSpecSchema.parse({ ...(model.spec as object), setAside: applied });
+  const recipe: Record<string, unknown> = {
+    brainTable: brain.fileName,
+    ...(participants ? { participantSheet: participants.fileName } : {}),
+    idColumn: brain.idColumn,
+    seSuffix: brain.seSuffix ?? "_se",
+    mappings,
+    ...spec,
+    softwareVersion,
+    inputs: {
+      brainTable: { file: brain.fileName, sha256: brain.sha256 },
+      ...(participants ? { participantSheet: { file: participants.fileName, sha256: participants.sha256 } } : {}),
+    },
+  };
+  const fit = await db.transaction(async (tx) => {
+    const [created] = await tx
+      .insert(fits)
+      .values({
+        studyId: study.id,
+        modelId: model.id,
+        status: "queued",
+        brainVersionId: brain.id,
+        sheetVersionId: participants?.id ?? null,
+        recipe: JSON.parse(JSON.stringify(recipe)),
+        createdBy: actor.id,
+        createdAt: now,
+      })
+      .returning();
+    await recordEvent(tx, {
+      studyId: study.id,
+      actorId: actor.id,
+      kind: "fit.run",
+      targetType: "fit",
+      targetId: created.id,
+      after: {
+        modelId: model.id,
+        modelName: model.name,
+        brainTable: { id: brain.id, version: brain.version },
+        participantSheet: participants ? { id: participants.id, version: participants.version } : null,
+        setAside: applied.length,
+        ...(notApplied.length > 0 ? { setAsideNotApplied: notApplied } : {}),
+        seed: spec.seed,
+      },
+      at: now,
+    });
+    return created;
+  });
+  jobs.enqueue(fit.id);
+  return fitView(db, jobs, fit, true);
+}
+
+/** Cancels a queued or running fit. Throws 409 when it has already finished. */
+export async function cancelFit(db: Database, jobs: FitJobs, actor: Actor, fit: Fit, now: Date): Promise<FitView> {
+  const cancelled = await jobs.cancel(fit.id, () =>
+    db.transaction(async (tx) => {
+      const rows = await tx
+        .update(fits)
+        .set({ status: "cancelled", cancelledBy: actor.id, finishedAt: now, secondsLeft: null })
+        .where(and(eq(fits.id, fit.id), inArray(fits.status, ["queued", "running"])))
+        .returning({ status: fits.status });
+      if (rows.length === 0) return false;
+      await recordEvent(tx, { studyId: fit.studyId, actorId: actor.id, kind: "fit.cancelled", targetType: "fit", targetId: fit.id, before: { status: fit.status }, at: now });
+      return true;
+    }),
+  );
+  const [now2] = await db.select().from(fits).where(eq(fits.id, fit.id));
+  if (!cancelled) throw conflict(`This fit has already finished (${now2.status}).`);
+  return fitView(db, jobs, now2, true);
+}
+
+function regionOf(fit: Fit, region: string): RegionResult {
+  if (fit.status !== "done") throw conflict(`This fit is not finished (status ${fit.status}).`);
+  const found = (fit.result as { regions: RegionResult[] }).regions.find((r) => r.region === region);
+  if (!found) throw notFound(`No region '${region}' in this fit.`);
+  return found;
+}
+
+export interface RegionDetailPoint {
+  participant: string;
+  x: number | null;
+  group: string | null;
+  y: number;
+  fitted: number | null;
+  residual: number | null;
+  leverage: number | null;
+  studentizedResidual: number | null;
+  cooksDistance: number | null;
+  dffits: number | null;
+  mahalanobis: number | null;
+  flags: string[];
+}
+
+export interface RegionDetail {
+  fitId: string;
+  region: string;
+  kind: string;
+  estimator: string;
+  inference: string;
+  level: number;
+  /** The region's row of the result (estimate, CI, statistic, df, p, adjusted p, extras). */
+  result: RegionResult;
+  n: number;
+  axes: { x: string | null; y: string; group: string | null; levels: string[] | null };
+  flagCounts: { outlier: number; leverage: number; influence: number };
+  participantsVisible: boolean;
+  /** One per participant in the region's fit, or null when withheld. */
+  points: RegionDetailPoint[] | null;
+  /** Participants of the fit's set-aside list that concern this region, or null when withheld. */
+  setAside: { participant: string; scope: "all regions" | "this region"; reason: string }[] | null;
+  band: RegionPlot["band"];
+  groupMeans: RegionPlot["groupMeans"];
+  nullHistogram: unknown;
+  sensitivity: unknown;
+  leaveOneOut: unknown;
+  notes: string[];
+}
+
+/** A finished fit's region, for its plots and diagnostics table. Throws 409 (not done), 404 (no such region). */
+export async function regionDetail(db: Queryable, fit: Fit, region: string, participantsVisible: boolean): Promise<RegionDetail> {
+  const summary = regionOf(fit, region);
+  const [row] = await db
+    .select()
+    .from(fitRegions)
+    .where(and(eq(fitRegions.fitId, fit.id), eq(fitRegions.region, region)));
+  const spec = specOfRecipe(fit.recipe as Record<string, unknown>);
+  const result = fit.result as Record<string, unknown>;
+  const diagnostics = (row?.participants ?? []) as ParticipantDiagnostics[];
+  const plot = (row?.plot ?? null) as RegionPlot | { error: string } | null;
+  const drawn = plot && "points" in plot ? plot : null;
+  const notes = [...(drawn?.notes ?? []), ...(plot && "error" in plot ? [`No plot data: ${plot.error}.`] : [])];
+  const byId = new Map((drawn?.points ?? []).map((p) => [p.participant, p]));
+  const flagCounts = { outlier: 0, leverage: 0, influence: 0 };
+  for (const d of diagnostics) for (const f of d.flags) flagCounts[f] += 1;
+  const points: RegionDetailPoint[] = diagnostics.map((d) => {
+    const p = byId.get(d.participant);
+    return {
+      participant: d.participant,
+      x: p?.x ?? null,
+      group: p?.group ?? null,
+      y: (p?.y ?? d.value) as number,
+      fitted: (d.fitted as number | undefined) ?? null,
+      residual: (d.residual as number | undefined) ?? null,
+      leverage: d.leverage,
+      studentizedResidual: d.studentizedResidual,
+      cooksDistance: d.cooksDistance,
+      dffits: (d.dffits as number | null | undefined) ?? null,
+      mahalanobis: (d.mahalanobis as number | null | undefined) ?? null,
+      flags: d.flags,
+    };
+  });
+  const levels = drawn?.groupMeans && spec.kind === "two-group" ? drawn.groupMeans.map((g) => g.label) : spec.levels ? [...spec.levels] : null;
+  const setAside = spec.setAside
+    .filter((s) => s.region === undefined || s.region === region)
+    .map((s) => ({ participant: s.participant, scope: s.region === undefined ? ("all regions" as const) : ("this region" as const), reason: s.reason }));
+  const shown = participantsVisible ? summary : withoutParticipantIds(summary);
+  return {
+    fitId: fit.id,
+    region,
+    kind: spec.kind,
+    estimator: spec.estimator,
+    inference: spec.inference,
+    level: (result.level as number | undefined) ?? FIT_LEVEL,
+    result: shown,
+    n: summary.n,
+    axes: { x: spec.kind === "association" ? (spec.predictor ?? null) : null, y: "contrast value", group: spec.group ?? null, levels },
+    flagCounts,
+    participantsVisible,
+    points: participantsVisible ? points : null,
+    setAside: participantsVisible ? setAside : null,
+    band: drawn?.band ?? null,
+    groupMeans: drawn?.groupMeans ?? null,
+    nullHistogram: summary.nullHistogram ?? null,
+    sensitivity: shown.sensitivity ?? null,
+    leaveOneOut: shown.leaveOneOut ?? null,
+    notes,
+  };
+}
+
+export interface RegionPreview {
+  fitId: string;
+  region: string;
+  /** Always "parametric": resampling inference is recomputed by a full refit. */
+  inference: "parametric";
+  /** The fit's numbers for the region (parametric counterparts when the fit resampled), or null when the fit is not done. */
+  fit: { n: number; estimate: number; ciLow: number | null; ciHigh: number | null; p: number; r?: number } | null;
+  /** The region recomputed with the study's current set-asides. */
+  preview: { n: number; estimate: number; se: number | null; statistic: number | null; df: number | null; p: number; ciLow: number | null; ciHigh: number | null; r?: number; rCiLow?: number; rCiHigh?: number; method: unknown };
+  /** Set-asides applied in the preview (participant ids withheld when not visible). */
+  setAside: { count: number; participants: { participant: string; scope: "all regions" | "this region"; reason: string }[] | null };
+  /** How the preview's set-aside list differs from the fit's for this region. */
+  changes: { added: number; restored: number };
+}
+
+/**
+ * Recomputes one region of a fit at once with the study's current active
+ * set-asides (same data versions and model; parametric inference; no
+ * correction). Runs on the request thread: one region costs O(n·p²).
+ * Throws 404 (no such region), StatsError 422 (e.g. too few participants left).
+ */
+export async function previewRegion(db: Queryable, jobs: FitJobs, fit: Fit, region: string, participantsVisible: boolean): Promise<RegionPreview> {
+  const recipeSpec = specOfRecipe(fit.recipe as Record<string, unknown>);
+  const chosen = recipeSpec.regions && recipeSpec.regions.length > 0 ? recipeSpec.regions : null;
+  if (chosen && !chosen.includes(region)) throw notFound(`No region '${region}' in this fit.`);
+  const data = await jobs.data.get(inputsOfFit(fit));
+  if (!data.regions.includes(region)) throw notFound(`No region '${region}' in this fit.`);
+  const known = new Set(data.participants);
+  const active = (await activeSetAsideList(db, fit.studyId)).filter((s) => known.has(s.participant) && (s.region === undefined || s.region === region));
+  const spec: ModelSpec = { ...recipeSpec, regions: [region], setAside: active, inference: "parametric", correction: "none" };
+  const out = runFit(spec, data).regions[0];
+  const keyOf = (s: { participant: string; region?: string }) => `${s.participant}\u0000${s.region ?? ""}`;
+  const before = new Set(recipeSpec.setAside.filter((s) => s.region === undefined || s.region === region).map(keyOf));
+  const now = new Set(active.map(keyOf));
+  let fitNumbers: RegionPreview["fit"] = null;
+  if (fit.status === "done") {
+    const r = (fit.result as { regions: RegionResult[] }).regions.find((x) => x.region === region);
+    if (r) {
+      fitNumbers = {
+        n: r.n,
+        estimate: r.estimate,
+        ciLow: (r.ciLowParametric as number | null | undefined) ?? r.ciLow,
+        ciHigh: (r.ciHighParametric as number | null | undefined) ?? r.ciHigh,
+        p: (r.pParametric as number | undefined) ?? r.p,
+        ...(r.r !== undefined ? { r: r.r } : {}),
+      };
+    }
+  }
+  return {
+    fitId: fit.id,
+    region,
+    inference: "parametric",
+    fit: fitNumbers,
+    preview: {
+      n: out.n,
+      estimate: out.estimate,
+      se: out.se,
+      statistic: out.statistic,
+      df: out.df,
+      p: out.p,
+      ciLow: out.ciLow,
+      ciHigh: out.ciHigh,
+      ...(out.r !== undefined ? { r: out.r, rCiLow: out.rCiLow, rCiHigh: out.rCiHigh } : {}),
+      method: out.method,
+    },
+    setAside: {
+      count: active.length,
+      participants: participantsVisible
+        ? active.map((s) => ({ participant: s.participant, scope: s.region === undefined ? ("all regions" as const) : ("this region" as const), reason: s.reason }))
+        : null,
+    },
+    changes: { added: [...now].filter((k) => !before.has(k)).length, restored: [...before].filter((k) => !now.has(k)).length },
+  };
+}
