@@ -31,6 +31,7 @@ import { FitJobs } from "./jobs/fit-jobs";
 import { activityRoutes } from "./routes/activity";
 import { datasetRoutes } from "./routes/datasets";
 import { plannerRoutes } from "./routes/planner";
+import { reliabilityRoutes } from "./routes/reliability";
 import type { RouteDeps } from "./routes/deps";
 import { devRoutes } from "./routes/dev";
 import { fitRoutes } from "./routes/fits";
@@ -134,6 +135,7 @@ export function createApp(deps: AppDeps): Express {
   app.use("/api", datasetRoutes(routeDeps, new PreviewStore()));
   app.use("/api", rosterRoutes(routeDeps));
   app.use("/api", plannerRoutes(routeDeps));
+  app.use("/api", reliabilityRoutes(routeDeps));
   app.use("/api", modelRoutes(routeDeps));
   app.use("/api", fitRoutes(routeDeps, fitJobs));
   app.use("/api", setAsideRoutes(routeDeps));
