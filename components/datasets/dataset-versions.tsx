@@ -26,38 +26,38 @@ export function DatasetVersions(props: { studyId: string; canReadRows: boolean }
   if (datasets.isError) return <Failure error={datasets.error} onRetry={() => datasets.refetch()} />;
   const versions = datasets.data.filter(isVersion);
   const toggle = (id: string) => setReading((current) => (current === id ? null : id));
+  const read = versions.find((v) => v.id === reading);
   return (
-    <View style={styles.kinds}>
-      {kinds.map((kind) => {
-        const ofKind = versions.filter((v) => v.kind === kind).sort((a, b) => b.version - a.version);
-        const current = ofKind.find((v) => v.current) ?? ofKind[0];
-        const older = ofKind.filter((v) => v !== current);
-        return (
-          <Card key={kind} style={styles.kind} testID={`versions-${kind}`}>
-            <Heading level={2}>{kindLabel[kind]}</Heading>
-            {current === undefined ? (
-              <Txt kind="small" style={styles.muted}>
-                No {kindLabel[kind].toLowerCase()} yet.
-              </Txt>
-            ) : (
-              <>
-                <VersionFacts version={current} />
-                <Button
-                  label={reading === current.id ? "Hide rows" : "Read rows"}
-                  variant="secondary"
-                  onPress={() => toggle(current.id)}
-                  accessibilityLabel={`${reading === current.id ? "Hide" : "Read"} rows of version ${current.version}`}
-                  style={styles.readButton}
-                />
-                {reading === current.id ? <VersionRows studyId={props.studyId} version={current} canReadRows={props.canReadRows} /> : null}
-              </>
-            )}
-            {older.length > 0 ? (
-              <View style={styles.older} testID={`older-${kind}`}>
-                <Heading level={3}>Older versions</Heading>
-                {older.map((v) => (
-                  <View key={v.id} style={styles.olderRow} testID="older-version">
-                    <View style={styles.olderHead}>
+    <View style={styles.root}>
+      <View style={styles.kinds}>
+        {kinds.map((kind) => {
+          const ofKind = versions.filter((v) => v.kind === kind).sort((a, b) => b.version - a.version);
+          const current = ofKind.find((v) => v.current) ?? ofKind[0];
+          const older = ofKind.filter((v) => v !== current);
+          return (
+            <Card key={kind} style={styles.kind} testID={`versions-${kind}`}>
+              <Heading level={2}>{kindLabel[kind]}</Heading>
+              {current === undefined ? (
+                <Txt kind="small" style={styles.muted}>
+                  No {kindLabel[kind].toLowerCase()} yet.
+                </Txt>
+              ) : (
+                <>
+                  <VersionFacts version={current} />
+                  <Button
+                    label={reading === current.id ? "Hide rows" : "Read rows"}
+                    variant="secondary"
+                    onPress={() => toggle(current.id)}
+                    accessibilityLabel={`${reading === current.id ? "Hide" : "Read"} rows of version ${current.version} of the ${kindLabel[kind].toLowerCase()}`}
+                    style={styles.readButton}
+                  />
+                </>
+              )}
+              {older.length > 0 ? (
+                <View style={styles.older} testID={`older-${kind}`}>
+                  <Heading level={3}>Older versions</Heading>
+                  {older.map((v) => (
+                    <View key={v.id} style={styles.olderRow} testID="older-version">
                       <View style={styles.shrink}>
                         <Txt kind="small">
                           Version {v.version} · <Txt kind="mono">{v.fileName}</Txt>
@@ -73,19 +73,25 @@ export function DatasetVersions(props: { studyId: string; canReadRows: boolean }
                         accessibilityLabel={`${reading === v.id ? "Hide" : "Read"} version ${v.version} of the ${kindLabel[kind].toLowerCase()}`}
                       />
                     </View>
-                    {reading === v.id ? (
-                      <>
-                        <VersionFacts version={v} />
-                        <VersionRows studyId={props.studyId} version={v} canReadRows={props.canReadRows} />
-                      </>
-                    ) : null}
-                  </View>
-                ))}
-              </View>
-            ) : null}
-          </Card>
-        );
-      })}
+                  ))}
+                </View>
+              ) : null}
+            </Card>
+          );
+        })}
+      </View>
+      {read ? (
+        <Card testID="version-reader">
+          <View style={styles.readerHead}>
+            <Heading level={2} style={styles.shrink}>
+              {kindLabel[read.kind]}, version {read.version}
+            </Heading>
+            <Button label="Close" variant="quiet" onPress={() => setReading(null)} />
+          </View>
+          <VersionFacts version={read} />
+          <VersionRows key={read.id} studyId={props.studyId} version={read} canReadRows={props.canReadRows} />
+        </Card>
+      ) : null}
     </View>
   );
 }
@@ -109,8 +115,8 @@ function VersionFacts({ version: v }: { version: DatasetVersion }) {
       <Txt kind="small">
         {plural(v.rowCount, "row")} · {plural(v.participantCount, "participant")}
         {v.kind === "brain"
-          ? ` · ${plural(v.regions?.length ?? 0, "region")}${seColumns > 0 ? ` (${formatCount(seColumns)} with standard errors)` : ""} · ${v.layout ?? "wide"} layout${
-              v.sessionColumn ? ` · sessions in ${v.sessionColumn}` : ""
+          ? ` · ${plural(v.regions?.length ?? 0, "region")}${seColumns > 0 ? ` (${formatCount(seColumns)} with standard errors)` : ""} · ${v.layout ?? "wide"} layout · ${
+              v.sessionColumn ? `session column ${v.sessionColumn}` : "no session column"
             }`
           : ` · ${plural(variables, "variable")}`}
       </Txt>
@@ -161,14 +167,15 @@ function VersionRows(props: { studyId: string; version: DatasetVersion; canReadR
 }
 
 const styles = StyleSheet.create({
-  kinds: { flexDirection: "row", flexWrap: "wrap", gap: space.lg },
+  root: { gap: space.lg },
+  kinds: { flexDirection: "row", flexWrap: "wrap", alignItems: "flex-start", gap: space.lg },
+  readerHead: { flexDirection: "row", alignItems: "center", justifyContent: "space-between", gap: space.sm },
   kind: { flexGrow: 1, flexBasis: 320, minWidth: 0 },
   muted: { color: palette.muted },
   shrink: { flexShrink: 1 },
   readButton: { alignSelf: "flex-start" },
   older: { gap: space.xs, marginTop: space.sm },
-  olderRow: { gap: space.xs, paddingVertical: space.xs, borderTopWidth: 1, borderTopColor: palette.line },
-  olderHead: { flexDirection: "row", alignItems: "center", justifyContent: "space-between", gap: space.sm },
+  olderRow: { flexDirection: "row", alignItems: "center", justifyContent: "space-between", gap: space.sm, paddingVertical: space.xs, borderTopWidth: 1, borderTopColor: palette.line },
   facts: { gap: 2 },
   factHead: { flexDirection: "row", flexWrap: "wrap", alignItems: "center", gap: space.sm },
   rows: { gap: space.sm },

@@ -10,6 +10,7 @@ import { palette, space } from "../theme";
 import { Button, Txt } from "../ui";
 import { columnWindow } from "./dataset-format";
 import { type CellRow, type FileColumn, fileRowColumns } from "./table-rows";
+import { withTextCells } from "./text-cells";
 
 /** Other columns shown at once. */
 export const COLUMNS_AT_ONCE = 30;
@@ -24,7 +25,7 @@ export function FileRowsTable(props: {
 }) {
   const [start, setStart] = useState(0);
   const window = columnWindow(props.columns.length - 1, start, COLUMNS_AT_ONCE);
-  const columns = useMemo(() => fileRowColumns(props.columns, props.idIndex, window.start, window.end), [props.columns, props.idIndex, window.start, window.end]);
+  const columns = useMemo(() => withTextCells(fileRowColumns(props.columns, props.idIndex, window.start, window.end)), [props.columns, props.idIndex, window.start, window.end]);
   const paged = props.columns.length - 1 > COLUMNS_AT_ONCE;
   return (
     <View style={styles.root}>

@@ -1,16 +1,24 @@
 /**
  * An error answer shown as a list: each problem of a refused file on its own
- * line (each names the file, row and column), "and N more", or the error's
- * message when it carries no list.
+ * line (each names the file, row and column), the first few at once and the
+ * rest on request, "and N more" for those the server did not carry, or the
+ * error's message when it carries no list.
  */
+
+/** Problems shown before "Show all". */
+export const PROBLEMS_SHOWN = 5;
+import { useState } from "react";
 import { StyleSheet, View } from "react-native";
 import { palette, radius, space } from "../theme";
-import { Txt } from "../ui";
+import { Button, Txt } from "../ui";
 import { plural } from "./dataset-format";
 import { problemsFrom } from "./upload-decisions";
 
 export function ProblemList(props: { error: unknown; title: string; testID?: string }) {
   const shown = problemsFrom(props.error);
+  const [all, setAll] = useState(false);
+  const listed = shown === null ? [] : all ? shown.messages : shown.messages.slice(0, PROBLEMS_SHOWN);
+  const folded = shown === null ? 0 : shown.messages.length - listed.length;
   const message = props.error instanceof Error ? props.error.message : "Something went wrong.";
   return (
     <View style={styles.root} accessibilityRole="alert" testID={props.testID}>
@@ -19,11 +27,19 @@ export function ProblemList(props: { error: unknown; title: string; testID?: str
       </Txt>
       {shown ? (
         <View accessibilityRole="list" style={styles.list}>
-          {shown.messages.map((m, k) => (
+          {listed.map((m, k) => (
             <Txt key={`${k}-${m}`} kind="small" style={styles.item} testID="problem">
               • {m}
             </Txt>
           ))}
+          {folded > 0 || all ? (
+            <Button
+              label={all ? "Show fewer" : `Show all ${shown.messages.length} problems listed`}
+              variant="quiet"
+              onPress={() => setAll(!all)}
+              style={styles.toggle}
+            />
+          ) : null}
           {shown.more > 0 ? (
             <Txt kind="small" style={styles.item}>
               … and {plural(shown.more, "more problem")} of the same kind or elsewhere in the file.
@@ -44,4 +60,5 @@ const styles = StyleSheet.create({
   title: { color: palette.danger },
   list: { gap: 2 },
   item: { color: palette.ink },
+  toggle: { alignSelf: "flex-start", paddingHorizontal: 0 },
 });

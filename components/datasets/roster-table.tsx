@@ -8,9 +8,10 @@ import { useMemo } from "react";
 import type { RosterReport, RosterRow } from "../../hooks/use-roster";
 import { DataTable } from "../tables/data-table";
 import { rosterColumns } from "./table-rows";
+import { withTextCells } from "./text-cells";
 
 export function RosterTable(props: { report: RosterReport; rows: readonly RosterRow[] }) {
-  const columns = useMemo(() => rosterColumns(props.report.columns), [props.report.columns]);
+  const columns = useMemo(() => withTextCells(rosterColumns(props.report.columns)), [props.report.columns]);
   return (
     <DataTable
       label="Roster"

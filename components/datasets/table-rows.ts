@@ -45,7 +45,7 @@ export function fileRowColumns(columns: readonly FileColumn[], idIndex: number, 
       id: `col-${c.j}`,
       header: c.name,
       accessorFn: (r: CellRow) => r.cells[c.j],
-      meta: { numeric: c.numeric, width: widthForHeader(c.name), ...(c.numeric ? { digits: 4 } : {}) },
+      meta: { numeric: c.numeric, width: widthForHeader(c.name), ...(c.numeric ? { digits: 6 } : {}) },
     })),
   ];
 }
@@ -55,7 +55,7 @@ export function rosterColumns(sheetColumns: RosterReport["columns"]): ColumnDef<
   return [
     { id: "participant", header: "participant", accessorFn: (r: RosterRow) => r.participant },
     { id: "status", header: "status", accessorFn: (r: RosterRow) => statusLabel[r.status], meta: { width: 156 } },
-    { id: "via", header: "matched by", accessorFn: (r: RosterRow) => viaLabel(r.via) || null, meta: { width: 148 } },
+    { id: "via", header: "matched by", accessorFn: (r: RosterRow) => viaLabel(r.via) || null, meta: { width: 168 } },
     { id: "brainId", header: "brain-table id", accessorFn: (r: RosterRow) => r.brainId, meta: { width: 128 } },
     { id: "sheetId", header: "sheet id", accessorFn: (r: RosterRow) => r.sheetId, meta: { width: 112 } },
     { id: "sessions", header: "sessions", accessorFn: (r: RosterRow) => (r.sessions.length > 0 ? r.sessions.join(", ") : null), meta: { width: 104 } },
@@ -63,7 +63,7 @@ export function rosterColumns(sheetColumns: RosterReport["columns"]): ColumnDef<
       id: `sheet-${k}`,
       header: c.name,
       accessorFn: (r: RosterRow) => r.values[c.name] ?? null,
-      meta: { numeric: c.type === "number", width: widthForHeader(c.name), ...(c.type === "number" ? { digits: 4 } : {}) },
+      meta: { numeric: c.type === "number", width: widthForHeader(c.name), ...(c.type === "number" ? { digits: 6 } : {}) },
     })),
   ];
 }

@@ -128,6 +128,7 @@ export function UploadPanel(props: { studyId: string }) {
         onPress={submit}
         busy={upload.isPending}
         disabled={!form.kind || !form.file || (form.kind === "brain" && form.seSuffix === "")}
+        style={styles.submit}
         testID="upload-submit"
       />
     </Card>
@@ -136,4 +137,5 @@ export function UploadPanel(props: { studyId: string }) {
 
 const styles = StyleSheet.create({
   options: { gap: space.md },
+  submit: { alignSelf: "flex-start" },
 });

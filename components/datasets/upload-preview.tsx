@@ -19,6 +19,7 @@ import { Badge, Button, Card, Field, Heading, Notice, Txt } from "../ui";
 import { formatBytes, kindLabel, plural } from "./dataset-format";
 import { FileRowsTable } from "./file-rows-table";
 import { ProblemList } from "./problem-list";
+import { withTextCells } from "./text-cells";
 import {
   type Decisions,
   type IdentifierDecision,
@@ -188,7 +189,7 @@ function ColumnTypes(props: { preview: DatasetPreview; decisions: Decisions; onT
   const { preview, decisions, onType } = props;
   const choiceWidth = preview.kind === "brain" ? 300 : 200;
   const columns = useMemo<ColumnDef<ColumnPreview, unknown>[]>(
-    () => [
+    () => withTextCells<ColumnPreview>([
       { id: "name", header: "column", accessorFn: (c) => c.name, meta: { width: 160 } },
       { id: "role", header: "role", accessorFn: (c) => roleWords[c.role] ?? c.role, meta: { width: 136 } },
       {
@@ -207,7 +208,7 @@ function ColumnTypes(props: { preview: DatasetPreview; decisions: Decisions; onT
       { id: "missing", header: "missing", accessorFn: (c) => c.missing, meta: { numeric: true, decimals: 0, width: 92 } },
       { id: "values", header: "values", accessorFn: (c) => summaryOf(c) || null, meta: { width: 200 } },
       { id: "note", header: "note", accessorFn: (c) => c.note ?? (c.identifier ? `may hold direct identifiers (${c.identifier.reason})` : null), meta: { width: 320 } },
-    ],
+    ]),
     [preview, decisions, onType, choiceWidth],
   );
   return (
