@@ -3,7 +3,13 @@
  * lock, opens and migrates the database, seeds the demo on first start,
  * starts the local mail and identity fakes outside production, listens,
  * prints the address, and shuts down cleanly on SIGINT/SIGTERM (stops
- * listening, closes the fakes and the database, releases the lock).
+ * listening, stops the fit jobs' worker threads, closes the fakes and the
+ * database, releases the lock).
+ *
+ * Fits: one pool of worker threads for the process (server/jobs/fit-jobs.ts).
+ * At start, fits a previous process left queued or running are re-queued
+ * (a fit is deterministic, so it gives the numbers it would have given); a
+ * fit interrupted by shutdown stays "running" in the table until then.
  */
 import { existsSync } from "node:fs";
 import type { Server } from "node:http";
@@ -13,6 +19,7 @@ import { seedDemo } from "../db/seed";
 import { seedDemoDatasets } from "../db/seed/demo-datasets";
 import { createApp } from "./app";
 import { ConfigError, loadConfig } from "./config";
+import { FitJobs } from "./jobs/fit-jobs";
 import { startServices, type Services } from "./dev/dev-services";
 import { acquireDataLock, DataLockError, type DataLock } from "./services/data-lock";
 
@@ -21,6 +28,7 @@ async function main(): Promise<void> {
   let database: OpenDatabase | null = null;
   let services: Services | null = null;
   let server: Server | null = null;
+  let fitJobs: FitJobs | null = null;
   let stopping = false;
 
   const stop = async (code: number) => {
@@ -35,6 +43,7 @@ async function main(): Promise<void> {
       });
       clearTimeout(force);
     }
+    await fitJobs?.close().catch(() => {});
     await services?.close().catch(() => {});
     await database?.close().catch(() => {});
     lock?.release();
@@ -55,12 +64,14 @@ async function main(): Promise<void> {
       if (seeded.seeded) console.log("Covarion: created the demo people and demo study.");
     }
     services = await startServices(config);
+    fitJobs = new FitJobs({ db: database.db, warm: true });
     const app = createApp({
       config,
       db: database.db,
       mailer: services.mailer,
       mailbox: services.mailFake,
       institution: services.institution,
+      fitJobs,
     });
     server = app.listen(config.port, config.host);
     await new Promise<void>((resolve, reject) => {
@@ -69,6 +80,8 @@ async function main(): Promise<void> {
     });
     console.log(`Covarion is running at ${config.publicUrl} (data in ${config.dataDir}${config.demo ? ", demo mode" : ""}).`);
     if (services.mailFake) console.log(`Local mailbox: ${config.publicUrl}/mailbox`);
+    const requeued = await fitJobs.recover();
+    if (requeued.length > 0) console.log(`Covarion: re-queued ${requeued.length} fit(s) left unfinished by the previous run.`);
   } catch (error) {
     if (error instanceof ConfigError || error instanceof DataLockError) {
       console.error(`Covarion cannot start: ${error.message}`);

@@ -58,6 +58,12 @@ export interface FitJobsOptions {
   log?: (error: unknown, context: string) => void;
   /** Least time between two progress writes to the database (default 500 ms). */
   progressWriteMs?: number;
+  /**
+   * Start the worker threads now and keep them (a server). Default false:
+   * threads start with the first fit and end after a minute idle (tests,
+   * scripts), since loading the engine in a thread takes seconds.
+   */
+  warm?: boolean;
 }
 
 export const INTERNAL_FAILURE = "The fit stopped because of an internal error on the server. It has been logged.";
@@ -85,6 +91,7 @@ export class FitJobs {
   private readonly log: (error: unknown, context: string) => void;
   private readonly progressWriteMs: number;
   private pool: Piscina | null = null;
+  private readonly warm: boolean;
   private readonly running = new Map<string, Running>();
   private readonly pending = new Set<Promise<void>>();
   private readonly listeners = new Map<string, Set<(e: FitEvent) => void>>();
@@ -98,6 +105,8 @@ export class FitJobs {
     this.log = options.log ?? ((error, context) => console.error(`[covarion] ${context}:`, error));
     this.progressWriteMs = options.progressWriteMs ?? 500;
     this.data = new FitDataCache(this.db);
+    this.warm = options.warm ?? false;
+    if (this.warm) this.getPool();
   }
 
   /** Starts a queued fit (its row must exist with status "queued"). */
@@ -176,9 +185,9 @@ export class FitJobs {
       this.pool = new Piscina({
         filename: new URL("./fit-task.ts", import.meta.url).href,
         execArgv: ["--import", "tsx"],
-        minThreads: 0,
+        minThreads: this.warm ? this.threads : 0,
         maxThreads: this.threads,
-        idleTimeout: 60_000,
+        idleTimeout: this.warm ? Number.POSITIVE_INFINITY : 60_000,
       });
     }
     return this.pool;
