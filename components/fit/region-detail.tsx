@@ -12,7 +12,8 @@ import { ScatterPlot } from "../charts/scatter-plot";
 import { StripPlot } from "../charts/strip-plot";
 import { LeveragePlot } from "../charts/leverage-plot";
 import { NullHistogram } from "../charts/null-histogram";
-import { formatP, formatValue } from "../charts/number-format";
+import { formatValue } from "../charts/number-format";
+import { pPhrase } from "./p-text";
 import { DataTable } from "../tables/data-table";
 import { Choice } from "../choice";
 import { Badge, Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "../ui";
@@ -82,7 +83,7 @@ function Summary({ detail }: { detail: RegionDetail }) {
     <Card>
       <Txt testID="region-summary">
         Estimate {formatValue(r.estimate)} (95% CI {ci}), {r.statistic !== null ? `statistic ${formatValue(r.statistic)}, ` : ""}
-        {r.df !== null ? `df ${formatValue(r.df, 4)}, ` : ""}p {formatP(r.p)}, adjusted p {formatP(r.pAdjusted)}, N = {r.n}.
+        {r.df !== null ? `df ${formatValue(r.df, 4)}, ` : ""}{pPhrase(r.p)}, adjusted {pPhrase(r.pAdjusted)}, N = {r.n}.
       </Txt>
       {typeof r.r === "number" ? (
         <Txt kind="small" style={{ color: palette.inkSoft }}>
@@ -215,7 +216,7 @@ function PreviewCard({ fit, region, canRun, enabled }: { fit: FitView; region: s
     <Card testID="region-preview">
       <Heading level={3}>With the current set-asides</Heading>
       <Txt>
-        Estimate {formatValue(p.estimate)} (95% CI {formatValue(p.ciLow)} to {formatValue(p.ciHigh)}), p {formatP(p.p)}, N = {p.n}
+        Estimate {formatValue(p.estimate)} (95% CI {formatValue(p.ciLow)} to {formatValue(p.ciHigh)}), {pPhrase(p.p)}, N = {p.n}
         {preview.data.fit ? ` — this fit had ${formatValue(preview.data.fit.estimate)} with N = ${preview.data.fit.n}` : ""}.
       </Txt>
       <Txt kind="caption">Parametric, this region only. A refit recomputes every region with the model's own inference and correction; this fit stays as it is.</Txt>
@@ -245,8 +246,7 @@ function Sensitivity({ detail }: { detail: RegionDetail }) {
         ) : (
           <Txt kind="small">
             Without the {s.excluded.length} participant{s.excluded.length === 1 ? "" : "s"} flagged outlier or influence ({detail.points ? s.excluded.join(", ") : "ids withheld"}): estimate{" "}
-            {formatValue(s.estimate)} (95% CI {formatValue(s.ciLow)} to {formatValue(s.ciHigh)}), p {formatP(s.p ?? Number.NaN)}, N = {s.n}; with them {formatValue(detail.result.estimate)}, p{" "}
-            {formatP(detail.result.p)}.
+            {formatValue(s.estimate)} (95% CI {formatValue(s.ciLow)} to {formatValue(s.ciHigh)}), {pPhrase(s.p)}, N = {s.n}; with them {formatValue(detail.result.estimate)}, {pPhrase(detail.result.p)}.
           </Txt>
         )
       ) : (

@@ -1,7 +1,8 @@
 import { useMemo } from "react";
 import type { ColumnDef } from "@tanstack/react-table";
 import { DataTable } from "../tables/data-table";
-import { formatP, formatValue } from "../charts/number-format";
+import { formatValue } from "../charts/number-format";
+import { pText } from "./p-text";
 import type { RegionResult } from "../../server/model/spec";
 
 interface Row {
@@ -48,8 +49,8 @@ export function RegionTable(props: { regions: readonly RegionResult[]; estimateL
       { accessorKey: "interval", header: "95% CI", meta: { width: 150 }, sortingFn: (a, b) => (a.original.ciLow ?? -Infinity) - (b.original.ciLow ?? -Infinity) },
       { accessorKey: "statistic", header: "Statistic", meta: { numeric: true, digits: 3, width: 88 } },
       { accessorKey: "df", header: "df", meta: { numeric: true, digits: 4, width: 64 } },
-      { accessorKey: "p", header: "p", meta: { numeric: true, width: 80 }, cell: (c) => formatP(c.getValue() as number) },
-      { accessorKey: "pAdjusted", header: "Adjusted p", meta: { numeric: true, width: 96 }, cell: (c) => formatP(c.getValue() as number) },
+      { accessorKey: "p", header: "p", meta: { numeric: true, width: 84 }, cell: (c) => pText(c.getValue() as number) },
+      { accessorKey: "pAdjusted", header: "Adjusted p", meta: { numeric: true, width: 104 }, cell: (c) => pText(c.getValue() as number) },
       { accessorKey: "flags", header: "Flags", meta: { numeric: true, decimals: 0, width: 64 } },
     ],
     [props.estimateLabel],

@@ -69,6 +69,16 @@ export interface DataTableProps<T extends RowData> {
   testID?: string;
 }
 
+/**
+ * A cell's content. Cell functions are called directly so that plain text
+ * they return is wrapped in the table's own text style (flexRender would
+ * mount them as components and the text would reach the page unstyled).
+ */
+function renderCell<T>(cell: Cell<T, unknown>): ReactNode {
+  const def = cell.column.columnDef.cell;
+  return typeof def === "function" ? (def(cell.getContext()) as ReactNode) : (flexRender(def, cell.getContext()) as ReactNode);
+}
+
 function asNode(rendered: ReactNode, numeric: boolean | undefined, emphasis = false): ReactNode {
   if (typeof rendered === "string" || typeof rendered === "number") {
     return (
@@ -335,7 +345,7 @@ function BodyRow<T>(props: {
         role={index === 0 ? "rowheader" : "cell"}
         style={[styles.cell, { width: props.widthOf(index, meta) }, meta?.numeric ? styles.numericCell : null, index === 0 ? [pinnedCellStyle, background] : null]}
       >
-        {asNode(flexRender(cell.column.columnDef.cell, cell.getContext()) as ReactNode, meta?.numeric, index === 0)}
+        {asNode(renderCell(cell), meta?.numeric, index === 0)}
       </View>
     );
   });
