@@ -25,6 +25,7 @@ import { circularityCaution } from "../model/model-form";
 import { type ModelSpec, type ParticipantDiagnostics, type RegionResult, modelSpecSchema } from "../model/spec";
 import type { RegionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
+import { attenuateResult, withAttenuation } from "./attenuation";
 import { recordEvent } from "./audit";
 import { currentVersions } from "./datasets";
 import { confirmedMappings, inputsOfFit, specOfRecipe } from "./fit-inputs";
@@ -166,6 +167,7 @@ export async function fitView(db: Queryable, jobs: FitJobs, fit: Fit, participan
   const ref = (id: string): DatasetRef => versions.find((v) => v.id === id) ?? { id, version: 0, fileName: "", sha256: "" };
   let result = fit.status === "done" ? (fit.result as FitResultSummary) : null;
   if (result && !participantsVisible) result = { ...result, regions: result.regions.map(withoutParticipantIds) };
+  if (result) result = await attenuateResult(db, fit, result);
   return {
     ...summary,
     model: { ...summary.model, caution: summary.model.circular ? circularityCaution : null },
@@ -355,7 +357,7 @@ export async function regionDetail(db: Queryable, fit: Fit, region: string, part
   const setAside = spec.setAside
     .filter((s) => s.region === undefined || s.region === region)
     .map((s) => ({ participant: s.participant, scope: s.region === undefined ? ("all regions" as const) : ("this region" as const), reason: s.reason }));
-  const shown = participantsVisible ? summary : withoutParticipantIds(summary);
+  const [shown] = (await withAttenuation(db, fit, [participantsVisible ? summary : withoutParticipantIds(summary)])).regions;
   return {
     fitId: fit.id,
     region,

@@ -2,7 +2,8 @@
  * Reliability of a study's measures through the API: stated trait
  * reliabilities (roles, validation, audit) and the brain reliability per
  * region from the brain table's sessions, on the demo files (invented data
- * from a seeded generator, with a second session for some participants).
+ * from a seeded generator, with a second session for some participants), and
+ * attenuation beside association results when both reliabilities are known.
  */
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
@@ -282,4 +283,102 @@ describe("brain reliability per region", () => {
     }
     await agents.outsider.get(`/api/studies/${studyId}/reliability`).expect(404);
   });
+});
+
+describe("attenuation beside association results", () => {
+  let studyId: string;
+  let reliability: { regions: { region: string; icc31: { value: number } }[] };
+  beforeAll(async () => {
+    studyId = await demoStudy();
+    reliability = (await agents.analyst.get(`/api/studies/${studyId}/reliability`).expect(200)).body;
+  }, 60_000);
+
+  interface RegionBody {
+    region: string;
+    n: number;
+    r: number;
+    rCiLow: number;
+    attenuation?: {
+      reliabilityBrain: number;
+      ceiling: number;
+      disattenuated: number;
+      observedCiLow: number;
+      disattenuatedCiLow: number;
+      disattenuatedCiHigh: number;
+      caution: string | null;
+    };
+  }
+  interface FitBody {
+    id: string;
+    result: { regions: RegionBody[]; notes: string[] };
+  }
+
+  async function fitOf(name: string, spec: Record<string, unknown>): Promise<FitBody> {
+    const model = await agents.analyst
+      .post(`/api/studies/${studyId}/models`)
+      .send({ name, regionSelection: "anatomical-or-prior", spec })
+      .expect(201);
+    const created = await agents.analyst.post(`/api/studies/${studyId}/fits`).send({ modelId: model.body.id }).expect(202);
+    const start = Date.now();
+    for (;;) {
+      const res = await agents.viewer.get(`/api/fits/${created.body.id}`).expect(200);
+      if (res.body.status === "done") return res.body;
+      if (res.body.status === "failed" || res.body.status === "cancelled") throw new Error(`fit ${res.body.status}: ${JSON.stringify(res.body.error)}`);
+      if (Date.now() - start > 90_000) throw new Error("fit did not finish");
+      await new Promise((r) => setTimeout(r, 100));
+    }
+  }
+
+  /** Fisher z interval of r on m = n − 3 − k degrees of freedom, written out here (Fisher 1921). */
+  const fisher = (r: number, m: number) => [Math.tanh(Math.atanh(r) - 1.959963985 / Math.sqrt(m)), Math.tanh(Math.atanh(r) + 1.959963985 / Math.sqrt(m))];
+
+  it("an association fit carries Spearman's correction per region once the trait's reliability is stated", async () => {
+    const before = await fitOf("Accuracy, no reliability stated", { kind: "association", predictor: "accuracy" });
+    expect(before.result.regions.some((r) => "attenuation" in r)).toBe(false);
+
+    await agents.analyst.put(`/api/studies/${studyId}/trait-reliabilities`).send([{ column: "accuracy", reliability: 0.81, source: "test–retest r = .81, task manual" }]).expect(200);
+    const fit = await fitOf("Accuracy", { kind: "association", predictor: "accuracy" });
+    expect(fit.result.notes).toContainEqual(expect.stringMatching(/^attenuation: Spearman's \(1904\) correction/));
+    expect(fit.result.regions).toHaveLength(10);
+    let carried = 0;
+    for (const r of fit.result.regions) {
+      const a = r.attenuation;
+      const icc31 = reliability.regions.find((x) => x.region === r.region)?.icc31.value as number;
+      if (!(icc31 > 0)) {
+        // A reliability of 0 or below leaves nothing to divide by: no attenuation for that region.
+        expect(a, r.region).toBeUndefined();
+        continue;
+      }
+      if (!a) throw new Error(`${r.region}: no attenuation`);
+      carried += 1;
+      expect(a).toMatchObject({ reliabilityBrain: icc31, reliabilityBrainForm: "ICC(3,1)", reliabilityTrait: 0.81, traitSource: "test–retest r = .81, task manual", trait: "accuracy", observed: r.r });
+      // (exact algebra: Spearman 1904, ceiling √(rel_brain · rel_trait), corrected r = r / ceiling)
+      const ceiling = Math.sqrt(icc31 * 0.81);
+      expect(a.ceiling).toBeCloseTo(ceiling, 12);
+      expect(a.disattenuated).toBeCloseTo(r.r / ceiling, 12);
+      // (exact algebra: the Fisher z interval of r on n − 3, each bound divided by the ceiling and clipped to [−1, 1])
+      const [lo, hi] = fisher(r.r, r.n - 3);
+      expect(a.observedCiLow).toBeCloseTo(lo, 8);
+      expect(a.observedCiLow).toBeCloseTo(r.rCiLow, 8);
+      expect(a.disattenuatedCiLow).toBeCloseTo(Math.max(-1, lo / ceiling), 8);
+      expect(a.disattenuatedCiHigh).toBeCloseTo(Math.min(1, hi / ceiling), 8);
+      if (Math.abs(r.r / ceiling) > 1) expect(a.caution).toMatch(/larger than 1 in size/);
+    }
+    expect(carried).toBeGreaterThan(5);
+    const first = fit.result.regions[0];
+    const detail = await agents.viewer.get(`/api/fits/${fit.id}/regions/${first.region}`).expect(200);
+    expect(detail.body.result.attenuation).toEqual(first.attenuation);
+  }, 240_000);
+
+  it("with a covariate the interval uses n − 3 − k and the caution names the partial correlation; one-sample fits carry none", async () => {
+    const fit = await fitOf("Accuracy with age", { kind: "association", predictor: "accuracy", covariates: ["age"] });
+    const r = fit.result.regions.find((x) => x.attenuation !== undefined);
+    if (!r?.attenuation) throw new Error("no region carries an attenuation");
+    const [lo] = fisher(r.r, r.n - 4);
+    // (exact algebra: one covariate, k = 1)
+    expect(r.attenuation.observedCiLow).toBeCloseTo(lo, 8);
+    expect(r.attenuation.caution).toMatch(/partial correlation/);
+    const oneSample = await fitOf("Effect present", { kind: "one-sample" });
+    expect(oneSample.result.regions.some((x) => "attenuation" in x)).toBe(false);
+  }, 240_000);
 });
