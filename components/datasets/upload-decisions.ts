@@ -29,17 +29,17 @@ export const noDecisions: Decisions = { types: {}, identifiers: {} };
 type PreviewShape = Pick<DatasetPreview, "kind" | "layout" | "columns" | "identifierColumns" | "problems" | "id">;
 
 /**
- * The two types a column may take, as the uploader reads them, or null when
- * its type is fixed: participant-sheet variables are numbers or categories;
- * in a wide brain table a numeric column is a region and a category column
- * is not used. Id, session, standard-error and long-layout columns are fixed.
+ * The words for the two types a column may take, or null when its type is
+ * fixed: participant-sheet variables are numbers or categories; in a wide
+ * brain table a numeric column is a region and a category column is not
+ * used. Id, session, standard-error and long-layout columns are fixed.
  */
 export function typeChoices(preview: Pick<DatasetPreview, "kind" | "layout">, column: ColumnPreview): Record<TypeChoice, string> | null {
   if (preview.kind === "participants") {
     return column.role === "variable" ? { number: "number", category: "category" } : null;
   }
   if (preview.layout !== "long" && (column.role === "region" || column.role === "ignored") && column.type !== "id") {
-    return { number: "number (region)", category: "category (not used)" };
+    return { number: "region", category: "not used" };
   }
   return null;
 }

@@ -142,7 +142,7 @@ export function UploadPreview(props: { studyId: string; preview: DatasetPreview;
         <Heading level={3}>Columns and their types</Heading>
         <Txt kind="caption">
           {preview.kind === "brain"
-            ? "In a wide brain table every numeric column is a region (with its standard errors paired by suffix). Type a column as a category to leave it out."
+            ? "In a wide brain table every numeric column is a region, with its standard errors paired by suffix. Mark a column “not used” to leave it out."
             : "Numbers can be used as predictors and covariates; categories as groups. Change a type where the detection is wrong."}
         </Txt>
         <ColumnTypes preview={preview} decisions={decisions} onType={setType} />
@@ -187,16 +187,14 @@ function summaryOf(c: ColumnPreview): string {
 
 function ColumnTypes(props: { preview: DatasetPreview; decisions: Decisions; onType: (column: string, chosen: TypeChoice) => void }) {
   const { preview, decisions, onType } = props;
-  const choiceWidth = preview.kind === "brain" ? 300 : 200;
   const columns = useMemo<ColumnDef<ColumnPreview, unknown>[]>(
     () => withTextCells<ColumnPreview>([
-      { id: "name", header: "column", accessorFn: (c) => c.name, meta: { width: 160 } },
-      { id: "role", header: "role", accessorFn: (c) => roleWords[c.role] ?? c.role, meta: { width: 136 } },
+      { id: "name", header: "column", accessorFn: (c) => c.name, meta: { width: 128 } },
       {
         id: "type",
         header: "type",
         accessorFn: (c) => chosenType(c, decisions),
-        meta: { width: choiceWidth },
+        meta: { width: 200 },
         cell: (ctx) => {
           const c = ctx.row.original;
           const choices = typeChoices(preview, c);
@@ -205,11 +203,12 @@ function ColumnTypes(props: { preview: DatasetPreview; decisions: Decisions; onT
           return <TypeToggle column={c.name} choices={choices} chosen={chosen === "id" ? "category" : chosen} detected={c.type} onChange={(t) => onType(c.name, t)} />;
         },
       },
+      { id: "role", header: "role", accessorFn: (c) => roleWords[c.role] ?? c.role, meta: { width: 136 } },
       { id: "missing", header: "missing", accessorFn: (c) => c.missing, meta: { numeric: true, decimals: 0, width: 92 } },
       { id: "values", header: "values", accessorFn: (c) => summaryOf(c) || null, meta: { width: 200 } },
       { id: "note", header: "note", accessorFn: (c) => c.note ?? (c.identifier ? `may hold direct identifiers (${c.identifier.reason})` : null), meta: { width: 320 } },
     ]),
-    [preview, decisions, onType, choiceWidth],
+    [preview, decisions, onType],
   );
   return (
     <DataTable
@@ -234,7 +233,7 @@ function TypeToggle(props: { column: string; choices: Record<TypeChoice, string>
             key={t}
             role="radio"
             aria-checked={selected}
-            accessibilityLabel={`${props.column}: ${props.choices[t]}${props.detected === t ? " (detected)" : ""}`}
+            accessibilityLabel={`${props.column}: ${t}${props.choices[t] !== t ? ` (${props.choices[t]})` : ""}${props.detected === t ? " (detected)" : ""}`}
             onPress={() => props.onChange(t)}
             style={[styles.chip, selected && styles.chipSelected]}
           >
