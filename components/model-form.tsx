@@ -78,6 +78,7 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
   const [group, setGroup] = useState<string | null>(inputs.categoricalColumns[0] ?? null);
   const [levels, setLevels] = useState<string[]>([]);
   const [covariates, setCovariates] = useState<string[]>([]);
+  const [interactionWith, setInteractionWith] = useState<string>("");
   const [estimator, setEstimator] = useState<Estimator>("ols");
   const [inference, setInference] = useState<ModelSpec["inference"]>("parametric");
   const [resamples, setResamples] = useState("10000");
@@ -97,16 +98,18 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
     () =>
       [...inputs.numericColumns, ...inputs.categoricalColumns]
         .filter((c) => c !== predictor || kind !== "association")
-        .filter((c) => c !== group || (kind !== "two-group" && kind !== "association"))
+        .filter((c) => c !== group || kind !== "two-group")
+        .filter((c) => c !== interactionWith || kind !== "association")
         .map((c) => ({ value: c, label: c })),
-    [inputs, predictor, group, kind],
+    [inputs, predictor, group, kind, interactionWith],
   );
 
   const spec = (): ModelCreateInput["spec"] => ({
     kind,
     regions: allRegions ? undefined : regions,
     predictor: kind === "association" ? (predictor ?? undefined) : undefined,
-    group: kind === "two-group" ? (group ?? undefined) : undefined,
+    group: kind === "two-group" ? (group ?? undefined) : kind === "association" && interactionWith ? interactionWith : undefined,
+    interaction: kind === "association" && interactionWith !== "",
     levels: kind === "two-group" && levels.length === 2 ? [levels[0], levels[1]] : undefined,
     covariates: kind === "reliability" ? [] : covariates.filter((c) => covariateOptions.some((o) => o.value === c)),
     estimator: estimators.includes(estimator) ? estimator : "ols",
@@ -146,7 +149,7 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
         <Field label="Name" value={name} onChangeText={setName} placeholder="e.g. Accuracy, adjusted for age and motion" testID="model-name" />
         <Choice label="Question" options={kindOptions} value={kind} onChange={setKind} testID="model-kind" />
         <Txt kind="small" style={{ color: palette.inkSoft }} testID="model-question">
-          {questionOf({ ...preview, covariates: preview.covariates ?? [], interaction: false } as ModelSpec)}
+          {questionOf({ ...preview, covariates: preview.covariates ?? [], interaction: preview.interaction ?? false } as ModelSpec)}
         </Txt>
       </Card>
 
@@ -188,6 +191,14 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
             </>
           )}
           <MultiChoice label="Nuisance covariates" options={covariateOptions} values={covariates} onChange={setCovariates} testID="model-covariates" />
+          {kind === "association" && inputs.categoricalColumns.length > 0 ? (
+            <Choice
+              label="Does the slope differ by group? (group × trait interaction)"
+              options={[{ value: "", label: "No" }, ...inputs.categoricalColumns.map((c) => ({ value: c, label: `By ${c}` }))]}
+              value={interactionWith}
+              onChange={setInteractionWith}
+            />
+          ) : null}
         </Card>
       ) : kind === "one-sample" ? (
         <Card>
