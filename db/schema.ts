@@ -464,3 +464,44 @@ export const traitReliabilities = pgTable(
 );
 
 export type TraitReliability = typeof traitReliabilities.$inferSelect;
+
+// ─── Publication: approval and sealing of fits ───
+// (owned by the publication work; see server/services/sealing.ts)
+
+/**
+ * A Reviewer's (or Owner's) approval of a finished fit for sealing. One per
+ * fit; append-only (a trigger refuses UPDATE and DELETE).
+ */
+export const fitApprovals = pgTable("fit_approvals", {
+  fitId: text("fit_id")
+    .primaryKey()
+    .references(() => fits.id),
+  approvedBy: text("approved_by")
+    .notNull()
+    .references(() => users.id),
+  approvedAt: timestamp("approved_at", { mode: "date", withTimezone: true }).notNull(),
+});
+
+/**
+ * The seal of an approved fit: the SHA-256 of its canonical recipe+result
+ * JSON, who sealed it and when. Once a seal exists, triggers refuse any
+ * change to the fit's recipe, result, status or data versions, to its
+ * per-region rows, and to the seal itself.
+ */
+export const fitSeals = pgTable(
+  "fit_seals",
+  {
+    fitId: text("fit_id")
+      .primaryKey()
+      .references(() => fits.id),
+    sha256: text("sha256").notNull(),
+    sealedBy: text("sealed_by")
+      .notNull()
+      .references(() => users.id),
+    sealedAt: timestamp("sealed_at", { mode: "date", withTimezone: true }).notNull(),
+  },
+  (t) => [check("fit_seals_sha256_check", sql`${t.sha256} ~ '^[0-9a-f]{64}$'`)],
+);
+
+export type FitApproval = typeof fitApprovals.$inferSelect;
+export type FitSeal = typeof fitSeals.$inferSelect;
