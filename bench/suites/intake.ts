@@ -3,10 +3,19 @@
  * and a participant sheet, through the same steps as an upload — read
  * (decode, delimiter, papaparse), preview (types, identifier guard),
  * confirm (typed brain table / sheet), join (roster, FitData), SHA-256.
- * Storage is measured by the upload route's own benchmark once it exists.
+ * Then the whole upload through the data service, storage included: the
+ * upload request (read, check, preview) and the confirm request (read
+ * again, type, store the version and its rows in one transaction) for both
+ * files, on a migrated in-memory database.
  * Target for the whole upload: ≤ 3 s on this machine.
  */
+import { randomUUID } from "node:crypto";
 import os from "node:os";
+import { openDatabase } from "../../db/client";
+import { migrateDatabase } from "../../db/migrate";
+import { studies, users } from "../../db/schema";
+import { confirmUpload, previewUpload } from "../../server/services/datasets";
+import { PreviewStore } from "../../server/services/preview-store";
 import { createRng } from "../../server/stats/rng";
 import {
   buildFitData,
@@ -83,7 +92,31 @@ export default async function intakeBench(): Promise<void> {
     );
   }
   const median = [...totals].sort((a, b) => a - b)[1];
-  console.log(
-    `parse + validate + join, both requests (median of 3): ${median.toFixed(0)} ms — target for the whole upload ≤ 3000 ms (storage not included here)`,
-  );
+  console.log(`parse + validate + join, both requests (median of 3): ${median.toFixed(0)} ms (no storage)`);
+
+  const database = await openDatabase();
+  try {
+    await migrateDatabase(database.db);
+    const [user] = await database.db.insert(users).values({ email: "bench@lab.example", name: "Bench" }).returning();
+    const person = { id: user.id, name: user.name, email: user.email };
+    const store = new PreviewStore();
+    const whole: number[] = [];
+    for (let run = 1; run <= 3; run++) {
+      const [study] = await database.db.insert(studies).values({ name: `Bench ${randomUUID()}`, createdBy: user.id }).returning();
+      const now = new Date();
+      const t0 = performance.now();
+      const pb = previewUpload(store, { studyId: study.id, kind: "brain", fileName: "brain.csv", bytes: brain, options: {}, uploader: person, now });
+      const ps = previewUpload(store, { studyId: study.id, kind: "participants", fileName: "participants.tsv", bytes: sheet, options: {}, uploader: person, now });
+      const t1 = performance.now();
+      await confirmUpload(database.db, store, { studyId: study.id, datasetId: pb.id, actor: person, confirmation: {}, now });
+      await confirmUpload(database.db, store, { studyId: study.id, datasetId: ps.id, actor: person, confirmation: {}, now });
+      const t2 = performance.now();
+      whole.push(t2 - t0);
+      console.log(`stored run ${run}: upload requests ${(t1 - t0).toFixed(0)} ms · confirm requests with storage ${(t2 - t1).toFixed(0)} ms · total ${(t2 - t0).toFixed(0)} ms`);
+    }
+    const m = [...whole].sort((a, b) => a - b)[1];
+    console.log(`whole upload of both files, storage included (median of 3): ${m.toFixed(0)} ms — target ≤ 3000 ms`);
+  } finally {
+    await database.close();
+  }
 }

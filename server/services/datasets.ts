@@ -32,6 +32,7 @@ import {
   type Confirmation,
   IntakeError,
   type ParticipantSheet,
+  type RawTable,
   type SheetColumn,
   type TablePreview,
   confirmTable,
@@ -231,7 +232,7 @@ const ROW_BATCH = 500;
 export async function storeVersion(db: Database, input: StoreVersionInput): Promise<DatasetView> {
   const raw = readTable(input.bytes, input.fileName);
   const confirmed = confirmTable(raw, input.kind, input.confirmation);
-  const encoded = confirmed.kind === "brain" ? encodeBrain(confirmed.brain) : encodeSheet(confirmed.sheet);
+  const encoded = confirmed.kind === "brain" ? encodeBrain(confirmed.brain, raw) : encodeSheet(confirmed.sheet);
   const decisions: IdentifierDecisionRecord[] = confirmed.identifierDecisions.map((d) => ({ ...d }));
   const sha256 = sha256Hex(input.bytes);
   await db.transaction(async (tx) => {
@@ -346,7 +347,24 @@ export function decodeNumbers(text: string, count: number): Float64Array {
   return out;
 }
 
-function encodeBrain(b: BrainTable): Encoded {
+/**
+ * A wide table's row as stored numbers, straight from the uploaded cells
+ * (already checked to be numbers or missing markers): the exact text
+ * written, trimmed, with missing markers as empty. Equal, once read, to
+ * encodeNumbers of the typed values, and cheaper than printing them again.
+ */
+function rawNumbers(row: readonly string[], columns: readonly number[]): string {
+  let out = "";
+  for (let k = 0; k < columns.length; k++) {
+    if (k > 0) out += ",";
+    const cell = row[columns[k]];
+    const x = parseNumberCell(cell);
+    if (typeof x === "number") out += cell.length > 0 && cell.charCodeAt(0) > 32 && cell.charCodeAt(cell.length - 1) > 32 ? cell : cell.trim();
+  }
+  return out;
+}
+
+function encodeBrain(b: BrainTable, raw: RawTable): Encoded {
   const columns: StoredColumn[] = [{ name: b.idColumn, type: "id", role: "id" }];
   if (b.sessionColumn !== null) columns.push({ name: b.sessionColumn, type: "category", role: "session" });
   let slot = 0;
@@ -361,14 +379,23 @@ function encodeBrain(b: BrainTable): Encoded {
       seSlots.push(slot++);
     } else seSlots.push(null);
   });
+  // Wide layout: each entry is one uploaded row, and each slot one uploaded column.
+  const rawIndex = new Map(b.columns.map((c) => [c.name, c.profile.index]));
+  const slotColumns = columns.filter((c) => c.type === "number").map((c) => rawIndex.get(c.name) ?? -1);
+  const fromRaw = b.layout === "wide" && b.entries.length === raw.rows.length && slotColumns.every((j) => j >= 0);
   const buffer = new Array<number>(slot);
   const rows = b.entries.map((e, k): EncodedRow => {
-    for (let r = 0; r < b.regions.length; r++) {
-      buffer[valueSlots[r]] = b.values[r][k];
-      const s = seSlots[r];
-      if (s !== null) buffer[s] = (b.standardErrors[r] as Float64Array)[k];
+    let numbers: string;
+    if (fromRaw) numbers = rawNumbers(raw.rows[k], slotColumns);
+    else {
+      for (let r = 0; r < b.regions.length; r++) {
+        buffer[valueSlots[r]] = b.values[r][k];
+        const s = seSlots[r];
+        if (s !== null) buffer[s] = (b.standardErrors[r] as Float64Array)[k];
+      }
+      numbers = encodeNumbers(buffer);
     }
-    return { position: k, sourceRow: e.row, participantId: e.id, session: e.session, numbers: encodeNumbers(buffer), categories: [] };
+    return { position: k, sourceRow: e.row, participantId: e.id, session: e.session, numbers, categories: [] };
   });
   const dropped = b.columns.filter((c) => c.role === "dropped").map((c) => c.name);
   return {

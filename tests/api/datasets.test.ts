@@ -13,7 +13,8 @@ import { seedDemo } from "../../db/seed";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
 import { generateDemoFiles } from "../../db/seed/demo-data";
 import { auditEvents, datasetRows, datasetVersions, memberships, studies } from "../../db/schema";
-import { DEFAULT_MAX_COLUMNS } from "../../server/intake";
+import { DEFAULT_MAX_COLUMNS, buildBrainTable, buildFitData, buildParticipantSheet, readTable } from "../../server/intake";
+import { currentVersions, loadBrainTable, loadParticipantSheet } from "../../server/services/datasets";
 import { type Agent, type TestApp, createTestApp, signInDemo, userIdOf } from "./helpers";
 
 let t: TestApp;
@@ -227,6 +228,18 @@ describe("upload, preview, confirm", () => {
     const res = await upload(agents.analyst, studyId, "brain", text, "semi.csv", { idColumn: "subject", seSuffix: ".stderr" }).expect(201);
     expect(res.body).toMatchObject({ idColumn: "subject", delimiterName: "semicolon", regions: ["dlpfc"] });
     expect(res.body.columns.map((c: { role: string }) => c.role)).toEqual(["id", "region", "se"]);
+  });
+
+  it("stores a wide brain table's numbers exactly as read (missing stays missing)", async () => {
+    const studyId = await newStudy();
+    const text = "participant_id,a,a_se,b\ns1, 0.5 ,0.10,-1e-3\ns2,n/a,NA,+2.\ns3,.25,1E1,\n";
+    const { version } = await uploadAndConfirm(agents.analyst, studyId, "brain", text, "brain.csv");
+    const rows = await agents.analyst.get(`/api/studies/${studyId}/datasets/${version.id}`).expect(200);
+    expect(rows.body.rows.items).toEqual([
+      { row: 2, cells: ["s1", 0.5, 0.1, -0.001] },
+      { row: 3, cells: ["s2", null, null, 2] },
+      { row: 4, cells: ["s3", 0.25, 10, null] },
+    ]);
   });
 });
 
@@ -459,6 +472,20 @@ describe("demo study", () => {
       expect(roster.body).toMatchObject({ matched: 69, onlyInBrainTable: ["7", "sub-71"], onlyInParticipantSheet: ["sub-07", "sub-72"] });
       const detail = await owner.get(`/api/studies/${studyId}`).expect(200);
       expect(detail.body.counts.participants).toBe(71);
+
+      // The stored versions read back into exactly the numbers the files give.
+      const { brain, participants } = await currentVersions(fresh.db, studyId);
+      const stored = buildFitData(await loadBrainTable(fresh.db, brain!), await loadParticipantSheet(fresh.db, participants!));
+      const direct = buildFitData(
+        buildBrainTable(readTable(demo.brainCsv, demo.brainFileName)),
+        buildParticipantSheet(readTable(demo.participantsTsv, demo.sheetFileName)),
+      );
+      expect(stored.data.participants).toEqual(direct.data.participants);
+      expect(stored.data.values.map((v) => Array.from(v))).toEqual(direct.data.values.map((v) => Array.from(v)));
+      expect(stored.data.standardErrors?.map((v) => Array.from(v ?? []))).toEqual(direct.data.standardErrors?.map((v) => Array.from(v ?? [])));
+      expect(stored.data.sessions?.values.map((r) => r.map((v) => Array.from(v)))).toEqual(direct.data.sessions?.values.map((r) => r.map((v) => Array.from(v))));
+      expect(stored.data.numericColumns).toEqual(direct.data.numericColumns);
+      expect(stored.data.categoricalColumns).toEqual(direct.data.categoricalColumns);
     } finally {
       await fresh.close();
     }
