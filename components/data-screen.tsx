@@ -1,7 +1,9 @@
 /**
  * A study's Data section: the stored versions of its brain table and
  * participant sheet, the upload flow with its preview (Owners and
- * Analysts), the join report and the roster table with its CSV export.
+ * Analysts), the join report and the roster table with its CSV export,
+ * then the reliability of the measures (regions across sessions; stated
+ * trait reliabilities).
  * Viewers of a restricted study see counts, never participant rows.
  */
 import { StyleSheet, View } from "react-native";
@@ -12,6 +14,7 @@ import { DownloadLink } from "./datasets/download-link";
 import { JoinReport } from "./datasets/join-report";
 import { RosterTable } from "./datasets/roster-table";
 import { UploadPanel } from "./datasets/upload-panel";
+import { ReliabilitySection } from "./measurement/reliability-section";
 import { palette, space } from "./theme";
 import { Card, Failure, Heading, Notice, Pending, Txt } from "./ui";
 
@@ -30,6 +33,7 @@ export function DataScreen(props: { studyId: string }) {
         <Notice>Owners and Analysts upload data; your role reads it.</Notice>
       )}
       <RosterSection studyId={props.studyId} canMap={canUpload} />
+      <ReliabilitySection studyId={props.studyId} canEdit={canUpload} />
     </View>
   );
 }

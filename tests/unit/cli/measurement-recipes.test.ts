@@ -232,7 +232,7 @@ describe("recipe command: BCG trials as a brain table, weighted by first-level s
     expect(r.estimate).toBeCloseTo(-0.7145, 4); // (Viechtbauer 2010, REML fit; Knapp–Hartung does not move the estimate)
     expect(r.df).toBe(12); // (exact algebra: k − p = 13 − 1)
     // (exact algebra: Knapp & Hartung 2003, se² = Σw(y − μ)² / ((k − 1) Σw) at the REML τ²)
-    const { sw, q } = pooled(r.tau2);
+    const { sw, q } = pooled(r.tau2 as number);
     expect(r.se).toBeCloseTo(Math.sqrt(q / (k - 1) / sw), 10);
     // (Student t table: t_{.975, 12} = 2.179, Zar 2010, Table B.3)
     expect((r.ciHigh as number) - r.estimate).toBeCloseTo(2.179 * (r.se as number), 3);
