@@ -420,10 +420,15 @@ export const fitRegions = pgTable(
     /** Order of the region in the fit's result. */
     position: integer("position").notNull(),
     region: text("region").notNull(),
-    /** The region's ParticipantDiagnostics rows. */
-    participants: jsonb("participants").notNull(),
-    /** What the region's plots draw (server/stats/region-plot.ts), or { error } when it could not be computed. */
-    plot: jsonb("plot"),
+    /**
+     * The region's ParticipantDiagnostics rows as JSON text (serialized in
+     * the worker thread; text is stored and read without the embedded
+     * database parsing it, which matters at hundreds of regions × thousands
+     * of participants).
+     */
+    participants: text("participants").notNull(),
+    /** What the region's plots draw (server/stats/region-plot.ts), or { error }, as JSON text. */
+    plot: text("plot"),
   },
   (t) => [primaryKey({ columns: [t.fitId, t.position] }), uniqueIndex("fit_regions_region_idx").on(t.fitId, t.region)],
 );

@@ -278,32 +278,31 @@ export class FitJobs {
     }
   }
 
+  /**
+   * Stores a finished fit: the per-region rows first, one statement per
+   * region outside any transaction (so readers are never held up behind
+   * one long write), then, in one short transaction, the result and status
+   * "done" — unless the fit was cancelled meanwhile, in which case its
+   * rows are removed again. Rows left by an interrupted earlier run of the
+   * same fit are replaced.
+   */
   private async finish(fitId: string, run: Running, outcome: Extract<FitTaskOutcome, { ok: true }>): Promise<void> {
-    const { participants, ...summary } = outcome.result;
-    const byRegion = new Map<string, unknown[]>();
-    for (const d of participants) {
-      const list = byRegion.get(d.region) ?? [];
-      list.push(d);
-      byRegion.set(d.region, list);
+    await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
+    for (const [position, r] of outcome.regions.entries()) {
+      if (run.controller.signal.aborted) break;
+      await this.db.insert(fitRegions).values({ fitId, position, region: r.region, participants: r.participants, plot: r.plot });
     }
-    const rows = summary.regions.map((r, position) => ({
-      fitId,
-      position,
-      region: r.region,
-      participants: byRegion.get(r.region) ?? [],
-      plot: outcome.plots[r.region] ?? null,
-    }));
     const done = await this.db.transaction(async (tx) => {
       const [row] = await tx.select({ status: fits.status }).from(fits).where(eq(fits.id, fitId)).for("update");
-      if (!row || terminal.includes(row.status)) return false;
-      for (let i = 0; i < rows.length; i += 50) await tx.insert(fitRegions).values(rows.slice(i, i + 50));
+      if (!row || terminal.includes(row.status) || run.controller.signal.aborted) return false;
       await tx
         .update(fits)
-        .set({ status: "done", progress: 1, secondsLeft: 0, result: summary, finishedAt: this.clock(), startedAt: new Date(run.startedAt ?? this.clock().getTime()) })
+        .set({ status: "done", progress: 1, secondsLeft: 0, result: outcome.summary, finishedAt: this.clock(), startedAt: new Date(run.startedAt ?? this.clock().getTime()) })
         .where(eq(fits.id, fitId));
       return true;
     });
     if (done) this.emit({ type: "status", fitId, status: "done", progress: { fraction: 1, secondsLeft: 0 }, error: null });
+    else await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
   }
 }
 

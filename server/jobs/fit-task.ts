@@ -1,6 +1,8 @@
 /**
  * Worker-thread task of a fit job: runs `runFit` and, for every region with
- * participant diagnostics, the data its plots draw (`regionPlot`). Workers
+ * participant diagnostics, the data its plots draw (`regionPlot`), and
+ * serializes each region's rows to JSON text here, off the request thread
+ * (at 400 regions × 500 participants that is ~100 MB of JSON). Workers
  * compute only — no database, no files; the main thread writes everything.
  *
  * Messages on `port` (the main thread's end of a MessageChannel):
@@ -11,7 +13,7 @@
  * the main thread aborts the task and the pool ends the worker thread.
  */
 import type { MessagePort } from "node:worker_threads";
-import type { FitData, FitResult, ModelSpec } from "../model/spec";
+import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../model/spec";
 import { StatsError } from "../stats/errors";
 import { type RegionPlot, regionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
@@ -26,8 +28,15 @@ export interface FitTask {
 
 export type FitTaskMessage = { type: "started" } | { type: "progress"; fraction: number };
 
+/** One region's per-participant diagnostics and plot data, serialized here (JSON text) so the main thread only stores them. */
+export interface RegionRows {
+  region: string;
+  participants: string;
+  plot: string | null;
+}
+
 export type FitTaskOutcome =
-  | { ok: true; result: FitResult; plots: Record<string, RegionPlot | { error: string }> }
+  | { ok: true; summary: Omit<FitResult, "participants">; regions: RegionRows[] }
   | { ok: false; code: string; message: string };
 
 export default function runFitTask(task: FitTask): FitTaskOutcome {
@@ -44,23 +53,34 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
         post({ type: "progress", fraction });
       },
     });
-    const plots: Record<string, RegionPlot | { error: string }> = {};
-    const included = new Map<string, string[]>();
-    for (const d of result.participants) {
-      const list = included.get(d.region) ?? [];
-      list.push(d.participant);
-      included.set(d.region, list);
+    const { participants, ...summary } = result;
+    const byRegion = new Map<string, ParticipantDiagnostics[]>();
+    for (const d of participants) {
+      const list = byRegion.get(d.region) ?? [];
+      list.push(d);
+      byRegion.set(d.region, list);
     }
-    for (const [region, ids] of included) {
-      try {
-        plots[region] = regionPlot(task.spec, task.data, region, ids, { level: FIT_LEVEL });
-      } catch (e) {
-        if (!(e instanceof StatsError)) throw e;
-        plots[region] = { error: e.message };
+    const regions: RegionRows[] = result.regions.map(({ region }) => {
+      const rows = byRegion.get(region) ?? [];
+      let plot: RegionPlot | { error: string } | null = null;
+      if (rows.length > 0) {
+        try {
+          plot = regionPlot(
+            task.spec,
+            task.data,
+            region,
+            rows.map((d) => d.participant),
+            { level: FIT_LEVEL },
+          );
+        } catch (e) {
+          if (!(e instanceof StatsError)) throw e;
+          plot = { error: e.message };
+        }
       }
-    }
+      return { region, participants: JSON.stringify(rows), plot: plot === null ? null : JSON.stringify(plot) };
+    });
     post({ type: "progress", fraction: 1 });
-    return { ok: true, result, plots };
+    return { ok: true, summary, regions };
   } catch (e) {
     if (e instanceof StatsError) return { ok: false, code: e.code, message: e.message };
     throw e;

@@ -31,6 +31,7 @@ import { currentVersions } from "./datasets";
 import { confirmedMappings, inputsOfFit, specOfRecipe } from "./fit-inputs";
 import { findModel } from "./models";
 import { activeSetAsideList } from "./set-asides";
+import { type Publication, publicationOf } from "./sealing";
 
 interface Actor {
   id: string;
@@ -72,6 +73,9 @@ export interface FitView extends FitSummaryView {
   recipe: Record<string, unknown> | null;
   /** The result without per-participant rows (see the region detail), when done. */
   result: FitResultSummary | null;
+  /** Who approved the fit for sealing, and its seal { by, at, sha256, intact } (services/sealing.ts). */
+  approval: Publication["approval"];
+  seal: Publication["seal"];
 }
 
 /** The study of the fit named by `params.fitId`, for `authorize` (null when there is none). */
@@ -175,6 +179,7 @@ export async function fitView(db: Queryable, jobs: FitJobs, fit: Fit, participan
     participantsVisible,
     recipe: participantsVisible ? (fit.recipe as Record<string, unknown>) : null,
     result,
+    ...(await publicationOf(db, fit)),
   };
 }
 
@@ -329,8 +334,8 @@ export async function regionDetail(db: Queryable, fit: Fit, region: string, part
     .where(and(eq(fitRegions.fitId, fit.id), eq(fitRegions.region, region)));
   const spec = specOfRecipe(fit.recipe as Record<string, unknown>);
   const result = fit.result as Record<string, unknown>;
-  const diagnostics = (row?.participants ?? []) as ParticipantDiagnostics[];
-  const plot = (row?.plot ?? null) as RegionPlot | { error: string } | null;
+  const diagnostics = (row ? JSON.parse(row.participants) : []) as ParticipantDiagnostics[];
+  const plot = (row?.plot ? JSON.parse(row.plot) : null) as RegionPlot | { error: string } | null;
   const drawn = plot && "points" in plot ? plot : null;
   const notes = [...(drawn?.notes ?? []), ...(plot && "error" in plot ? [`No plot data: ${plot.error}.`] : [])];
   const byId = new Map((drawn?.points ?? []).map((p) => [p.participant, p]));

@@ -7,7 +7,7 @@ import { createGunzip, constants as zlibConstants } from "node:zlib";
 import { eq } from "drizzle-orm";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { fits, studies, users } from "../../db/schema";
+import { fitRegions, fits, studies, users } from "../../db/schema";
 import { demoPeople, demoStudy } from "../../db/seed";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
 import { recipeSchema } from "../../server/cli/recipe";
@@ -306,6 +306,9 @@ describe("fits", () => {
     const [after] = await t.db.select().from(fits).where(eq(fits.id, left.id));
     expect(after.status).toBe("done");
     expect(after.result).toEqual(original.result);
+    const rowsOf = async (id: string) =>
+      (await t.db.select().from(fitRegions).where(eq(fitRegions.fitId, id)).orderBy(fitRegions.position)).map((r) => [r.region, r.participants, r.plot]);
+    expect(await rowsOf(left.id)).toEqual(await rowsOf(original.id));
   });
 });
 
