@@ -35,6 +35,8 @@ import { reliabilityRoutes } from "./routes/reliability";
 import type { RouteDeps } from "./routes/deps";
 import { devRoutes } from "./routes/dev";
 import { fitRoutes } from "./routes/fits";
+import { fitExportRoutes } from "./routes/fit-exports";
+import { fitSealingRoutes } from "./routes/fit-sealing";
 import { invitationRoutes } from "./routes/invitations";
 import { memberRoutes } from "./routes/members";
 import { modelRoutes } from "./routes/models";
@@ -138,6 +140,8 @@ export function createApp(deps: AppDeps): Express {
   app.use("/api", reliabilityRoutes(routeDeps));
   app.use("/api", modelRoutes(routeDeps));
   app.use("/api", fitRoutes(routeDeps, fitJobs));
+  app.use("/api", fitExportRoutes(routeDeps));
+  app.use("/api", fitSealingRoutes(routeDeps, fitJobs));
   app.use("/api", setAsideRoutes(routeDeps));
   app.use("/api", apiNotFound);
 

@@ -138,6 +138,16 @@ const matrix: Record<string, Row> = {
   "POST /api/fits/:fitId/cancel": { path: (f) => `/api/fits/${f.queuedFitId}/cancel`, expected: makers(200), data: true },
   "GET /api/fits/:fitId/regions/:region": { path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc`, expected: members(200), data: true },
   "POST /api/fits/:fitId/regions/:region/preview": { path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc/preview`, expected: members(200), data: true },
+  // Exports, approval and sealing of a fit. The fixture's fit is done but not approved: an Owner passes the seal's rights check and gets 409.
+  "GET /api/fits/:fitId/regions.csv": { path: (f) => `/api/fits/${f.fitId}/regions.csv`, expected: members(200), data: true },
+  "GET /api/fits/:fitId/recipe.json": { path: (f) => `/api/fits/${f.fitId}/recipe.json`, expected: members(200), data: true },
+  "GET /api/fits/:fitId/methods": { path: (f) => `/api/fits/${f.fitId}/methods`, expected: members(200), data: true },
+  "POST /api/fits/:fitId/approve": {
+    path: (f) => `/api/fits/${f.fitId}/approve`,
+    expected: { owner: 200, analyst: 403, reviewer: 200, viewer: 403, outsider: 404, anonymous: 401 },
+    data: true,
+  },
+  "POST /api/fits/:fitId/seal": { path: (f) => `/api/fits/${f.fitId}/seal`, expected: ownerOnly(409), data: true },
   "GET /api/studies/:studyId/set-asides": { path: (f) => `/api/studies/${f.studyId}/set-asides`, expected: members(200) },
   "POST /api/studies/:studyId/set-asides": {
     path: (f) => `/api/studies/${f.studyId}/set-asides`,

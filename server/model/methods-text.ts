@@ -1,0 +1,459 @@
+/**
+ * The methods paragraph of a fit: plain academic English generated from the
+ * fit's recipe and result, with the published references of the methods it
+ * used and the cautions that apply.
+ *
+ * Pure: no I/O, no framework imports; the same input gives the same text.
+ * The paragraph states, in order: the data (file names, shortened SHA-256,
+ * how participants were matched, how many were set aside and that each
+ * reason is logged, listwise deletion, N per region), the question and the
+ * estimator, the inference (resamples, seed, exact or Monte Carlo), the
+ * correction over regions, the weighting, the diagnostics, the software and
+ * its version, then the cautions (circular region selection; imprecision of
+ * brain–trait associations below 1,000 participants — threshold: common
+ * practice, no source — after Marek et al. 2022).
+ *
+ * Cost O(regions + set-asides). Throws `MethodsTextError` when the recipe's
+ * model fields are malformed.
+ */
+import { type ModelSpec, type RegionResult, modelSpecSchema } from "./spec";
+
+/** Published references, keyed by the short form used in the text. */
+export const methodReferences = {
+  "Beaton & Tukey 1974":
+    "Beaton, A. E., & Tukey, J. W. (1974). The fitting of power series, meaning polynomials, illustrated on band-spectroscopic data. Technometrics, 16(2), 147–185.",
+  "Benjamini & Hochberg 1995":
+    "Benjamini, Y., & Hochberg, Y. (1995). Controlling the false discovery rate: a practical and powerful approach to multiple testing. Journal of the Royal Statistical Society, Series B, 57(1), 289–300.",
+  "Bollen & Jackman 1990":
+    "Bollen, K. A., & Jackman, R. W. (1990). Regression diagnostics: an expository treatment of outliers and influential cases. In J. Fox & J. S. Long (Eds.), Modern Methods of Data Analysis (pp. 257–291). Newbury Park, CA: Sage.",
+  "Cook 1977": "Cook, R. D. (1977). Detection of influential observation in linear regression. Technometrics, 19(1), 15–18.",
+  "Cook & Weisberg 1982": "Cook, R. D., & Weisberg, S. (1982). Residuals and Influence in Regression. New York: Chapman & Hall.",
+  "DerSimonian & Laird 1986": "DerSimonian, R., & Laird, N. (1986). Meta-analysis in clinical trials. Controlled Clinical Trials, 7(3), 177–188.",
+  "Dunn 1961": "Dunn, O. J. (1961). Multiple comparisons among means. Journal of the American Statistical Association, 56(293), 52–64.",
+  "Efron 1987": "Efron, B. (1987). Better bootstrap confidence intervals. Journal of the American Statistical Association, 82(397), 171–185.",
+  "Efron & Tibshirani 1993": "Efron, B., & Tibshirani, R. J. (1993). An Introduction to the Bootstrap. New York: Chapman & Hall.",
+  "Fisher 1921":
+    "Fisher, R. A. (1921). On the “probable error” of a coefficient of correlation deduced from a small sample. Metron, 1, 3–32.",
+  "Freedman & Lane 1983":
+    "Freedman, D., & Lane, D. (1983). A nonstochastic interpretation of reported significance levels. Journal of Business & Economic Statistics, 1(4), 292–298.",
+  "Higgins & Thompson 2002": "Higgins, J. P. T., & Thompson, S. G. (2002). Quantifying heterogeneity in a meta-analysis. Statistics in Medicine, 21(11), 1539–1558.",
+  "Hoaglin & Welsch 1978": "Hoaglin, D. C., & Welsch, R. E. (1978). The hat matrix in regression and ANOVA. The American Statistician, 32(1), 17–22.",
+  "Hodges & Lehmann 1963": "Hodges, J. L., & Lehmann, E. L. (1963). Estimates of location based on rank tests. Annals of Mathematical Statistics, 34(2), 598–611.",
+  "Holm 1979": "Holm, S. (1979). A simple sequentially rejective multiple test procedure. Scandinavian Journal of Statistics, 6(2), 65–70.",
+  "Huber 1964": "Huber, P. J. (1964). Robust estimation of a location parameter. Annals of Mathematical Statistics, 35(1), 73–101.",
+  "Knapp & Hartung 2003":
+    "Knapp, G., & Hartung, J. (2003). Improved tests for a random effects meta-regression with a single covariate. Statistics in Medicine, 22(17), 2693–2710.",
+  "Kriegeskorte et al. 2009":
+    "Kriegeskorte, N., Simmons, W. K., Bellgowan, P. S. F., & Baker, C. I. (2009). Circular analysis in systems neuroscience: the dangers of double dipping. Nature Neuroscience, 12(5), 535–540.",
+  "Mann & Whitney 1947":
+    "Mann, H. B., & Whitney, D. R. (1947). On a test of whether one of two random variables is stochastically larger than the other. Annals of Mathematical Statistics, 18(1), 50–60.",
+  "Marek et al. 2022": "Marek, S., Tervo-Clemmens, B., Calabro, F. J., et al. (2022). Reproducible brain-wide association studies require thousands of individuals. Nature, 603, 654–660.",
+  "Rousselet & Pernet 2012":
+    "Rousselet, G. A., & Pernet, C. R. (2012). Improving standards in brain-behavior correlation analyses. Frontiers in Human Neuroscience, 6, 119.",
+  "Shrout & Fleiss 1979": "Shrout, P. E., & Fleiss, J. L. (1979). Intraclass correlations: uses in assessing rater reliability. Psychological Bulletin, 86(2), 420–428.",
+  "Spearman 1904": "Spearman, C. (1904). The proof and measurement of association between two things. American Journal of Psychology, 15(1), 72–101.",
+  "Student 1908": "Student (1908). The probable error of a mean. Biometrika, 6(1), 1–25.",
+  "Viechtbauer 2005":
+    "Viechtbauer, W. (2005). Bias and efficiency of meta-analytic variance estimators in the random-effects model. Journal of Educational and Behavioral Statistics, 30(3), 261–293.",
+  "Vul et al. 2009":
+    "Vul, E., Harris, C., Winkielman, P., & Pashler, H. (2009). Puzzlingly high correlations in fMRI studies of emotion, personality, and social cognition. Perspectives on Psychological Science, 4(3), 274–290.",
+  "Welch 1947":
+    "Welch, B. L. (1947). The generalization of “Student's” problem when several different population variances are involved. Biometrika, 34(1–2), 28–35.",
+  "Westfall & Young 1993": "Westfall, P. H., & Young, S. S. (1993). Resampling-Based Multiple Testing: Examples and Methods for p-Value Adjustment. New York: Wiley.",
+  "Wilcox 1994": "Wilcox, R. R. (1994). The percentage bend correlation coefficient. Psychometrika, 59(4), 601–616.",
+  "Wilcox 2004": "Wilcox, R. R. (2004). Inferences based on a skipped correlation coefficient. Journal of Applied Statistics, 31(2), 131–143.",
+  "Wilcoxon 1945": "Wilcoxon, F. (1945). Individual comparisons by ranking methods. Biometrics Bulletin, 1(6), 80–83.",
+  "Winkler et al. 2014":
+    "Winkler, A. M., Ridgway, G. R., Webster, M. A., Smith, S. M., & Nichols, T. E. (2014). Permutation inference for the general linear model. NeuroImage, 92, 381–397.",
+} as const;
+
+export type ReferenceKey = keyof typeof methodReferences;
+
+export interface MethodsReference {
+  /** Short form as cited in the text, e.g. "Holm 1979". */
+  key: ReferenceKey;
+  /** Full citation. */
+  citation: string;
+}
+
+export interface MethodsDataFile {
+  fileName: string;
+  version: number;
+  sha256: string;
+}
+
+export interface MethodsInput {
+  /** The fit's recipe as stored (model fields at the top level, mappings, set-asides, software version). */
+  recipe: Readonly<Record<string, unknown>>;
+  /** The fit's result (its regions, in fit order). */
+  result: { readonly regions: readonly RegionResult[] };
+  /** The data versions the fit ran on. */
+  datasets: { brain: MethodsDataFile; participants: MethodsDataFile | null };
+  /** How the model's regions were chosen, and whether that was from the same data. */
+  regionSelection: "anatomical-or-prior" | "independent-data" | "same-data" | null;
+  /** The join of the two files, or null without a participant sheet. */
+  roster: {
+    brainParticipants: number;
+    sheetParticipants: number;
+    matched: number;
+    /** Of the matched: through a confirmed mapping. */
+    matchedByMapping: number;
+    onlyInBrainTable: number;
+    onlyInParticipantSheet: number;
+    /** Ids sharing a normalised form with another id of the same file (not matched). */
+    duplicateIds: number;
+  } | null;
+  /** Participants in the brain table (used without a sheet). */
+  brainParticipants: number;
+  /** The program's name (default "Covarion"). */
+  softwareName?: string;
+}
+
+export interface MethodsText {
+  /** The paragraph, cautions last. */
+  text: string;
+  /** References cited in the text, in reference-list order (by full citation). */
+  references: MethodsReference[];
+  /** The cautions that apply (also at the end of `text`). */
+  cautions: string[];
+}
+
+/** The recipe's model fields are not a valid model. */
+export class MethodsTextError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = "MethodsTextError";
+  }
+}
+
+/** Association fits below this largest N get the imprecision caution (common practice, no source). */
+export const SMALL_ASSOCIATION_N = 1000;
+
+const numberWords = ["no", "one", "two", "three", "four", "five", "six", "seven", "eight", "nine", "ten"];
+
+/** "two", "12", "1,500" (words up to ten, as in most style guides). */
+export function numberWord(n: number): string {
+  return Number.isInteger(n) && n >= 0 && n <= 10 ? numberWords[n] : n.toLocaleString("en");
+}
+
+/** "one participant", "12 participants". */
+export function count(n: number, singular: string, plural = `${singular}s`): string {
+  return `${numberWord(n)} ${n === 1 ? singular : plural}`;
+}
+
+function capitalise(text: string): string {
+  return text.charAt(0).toUpperCase() + text.slice(1);
+}
+
+/** "a", "a and b", "a, b and c" (or with "or"). */
+function list(items: readonly string[], joiner: "and" | "or" = "and"): string {
+  if (items.length <= 1) return items.join("");
+  return `${items.slice(0, -1).join(", ")} ${joiner} ${items[items.length - 1]}`;
+}
+
+function quoted(name: string): string {
+  return `“${name}”`;
+}
+
+/** A shortened SHA-256 as printed in the paragraph (first 12 hex digits). */
+export function shortHash(sha256: string): string {
+  return sha256.slice(0, 12);
+}
+
+function specOf(recipe: Readonly<Record<string, unknown>>): ModelSpec {
+  const fields: Record<string, unknown> = {};
+  for (const key of Object.keys(modelSpecSchema.shape)) if (recipe[key] !== undefined) fields[key] = recipe[key];
+  const parsed = modelSpecSchema.safeParse(fields);
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0];
+    throw new MethodsTextError(`recipe field '${issue.path.join(".") || "(model)"}': ${issue.message}`);
+  }
+  return parsed.data;
+}
+
+class Citations {
+  readonly used = new Set<ReferenceKey>();
+  /** "(Holm 1979)" or "(Freedman & Lane 1983; Winkler et al. 2014)", recording each key. */
+  cite(...keys: ReferenceKey[]): string {
+    for (const k of keys) this.used.add(k);
+    return `(${this.name(...keys)})`;
+  }
+  /** "Holm 1979" without parentheses, recording each key. */
+  name(...keys: ReferenceKey[]): string {
+    for (const k of keys) this.used.add(k);
+    return keys.join("; ");
+  }
+  references(): MethodsReference[] {
+    const byCitation = (a: ReferenceKey, b: ReferenceKey) => (methodReferences[a] < methodReferences[b] ? -1 : methodReferences[a] > methodReferences[b] ? 1 : 0);
+    return [...this.used].sort(byCitation).map((key) => ({ key, citation: methodReferences[key] }));
+  }
+}
+
+function dataSentences(input: MethodsInput, spec: ModelSpec): string[] {
+  const { brain, participants } = input.datasets;
+  const out: string[] = [];
+  const brainText = `the brain table ${quoted(brain.fileName)} (version ${brain.version}, SHA-256 ${shortHash(brain.sha256)}…)`;
+  const idColumn = typeof input.recipe.idColumn === "string" ? input.recipe.idColumn : "participant_id";
+  if (participants && input.roster) {
+    const r = input.roster;
+    out.push(
+      `Contrast values from ${brainText} were joined with the participant sheet ${quoted(participants.fileName)} (version ${participants.version}, SHA-256 ${shortHash(participants.sha256)}…) by participant identifier (column ${quoted(idColumn)}); identifiers were compared after trimming spaces, ignoring case and treating a leading “sub-” as optional, and no other near match was merged without a confirmed mapping.`,
+    );
+    const unmatched: string[] = [];
+    if (r.onlyInBrainTable > 0) unmatched.push(`${count(r.onlyInBrainTable, "participant")} only in the brain table`);
+    if (r.onlyInParticipantSheet > 0) unmatched.push(`${count(r.onlyInParticipantSheet, "participant")} only in the participant sheet`);
+    if (r.duplicateIds > 0) unmatched.push(`${count(r.duplicateIds, "duplicated identifier")}`);
+    let sentence = `Of ${count(r.brainParticipants, "participant")} in the brain table and ${r.sheetParticipants.toLocaleString("en")} in the participant sheet, ${r.matched.toLocaleString("en")} were matched`;
+    if (r.matchedByMapping > 0) sentence += ` (${r.matchedByMapping === 1 ? "one through an identifier mapping" : `${numberWord(r.matchedByMapping)} through identifier mappings`} confirmed by a team member)`;
+    const left = r.onlyInBrainTable + r.onlyInParticipantSheet + r.duplicateIds;
+    sentence += unmatched.length > 0 ? `; ${list(unmatched)} ${left === 1 ? "was" : "were"} not analysed.` : ".";
+    out.push(sentence);
+  } else {
+    out.push(`Contrast values were read from ${brainText}, ${count(input.brainParticipants, "participant")}; no participant sheet was used.`);
+  }
+  const asides = spec.setAside;
+  if (asides.length === 0) {
+    out.push("No participant was set aside.");
+  } else {
+    const everyRegion = new Set(asides.filter((s) => s.region === undefined).map((s) => s.participant));
+    const oneRegion = asides.filter((s) => s.region !== undefined && !everyRegion.has(s.participant));
+    const parts: string[] = [];
+    if (everyRegion.size > 0) parts.push(`${count(everyRegion.size, "participant")} ${everyRegion.size === 1 ? "was" : "were"} set aside from every region`);
+    if (oneRegion.length > 0) {
+      const people = new Set(oneRegion.map((s) => s.participant)).size;
+      parts.push(`${count(people, "participant")} from ${oneRegion.length === 1 ? "one region" : `single regions (${oneRegion.length.toLocaleString("en")} participant–region pairs)`}`);
+    }
+    out.push(`${capitalise(list(parts))}, each with a written reason decided by the team and recorded in the study's audit log; no participant was excluded automatically.`);
+  }
+  const ns = input.result.regions.map((x) => x.n);
+  const lo = Math.min(...ns);
+  const hi = Math.max(...ns);
+  if (spec.kind === "reliability") {
+    out.push(`Participants without a value in every session were left out of that region, leaving ${lo === hi ? `N = ${lo}` : `N = ${lo}–${hi}`} per region.`);
+  } else {
+    const fields = ["the contrast value"];
+    if (spec.kind === "association" && spec.predictor) fields.push(quoted(spec.predictor));
+    if (spec.group) fields.push(`the group ${quoted(spec.group)}`);
+    if (spec.covariates.length > 0) fields.push(spec.covariates.length === 1 ? "the covariate" : "a covariate");
+    out.push(
+      `Participants with a missing value in ${list(fields, "or")} were left out of that region only (listwise deletion), leaving ${lo === hi ? `N = ${lo}` : `N = ${lo}–${hi}`} per region.`,
+    );
+  }
+  return out;
+}
+
+function regionWords(spec: ModelSpec, regionCount: number): string {
+  return regionCount === 1 ? "one region" : `each of ${count(regionCount, "region")}`;
+}
+
+function covariateWords(spec: ModelSpec): string {
+  return spec.covariates.length > 0 ? `, adjusting for ${list(spec.covariates.map(quoted))},` : "";
+}
+
+function modelSentences(spec: ModelSpec, regionCount: number, c: Citations): string[] {
+  const where = regionWords(spec, regionCount);
+  const cov = covariateWords(spec);
+  const hasCov = spec.covariates.length > 0;
+  const weighted = spec.weights === "first-level-se";
+  const out: string[] = [];
+  if (spec.kind === "reliability") {
+    out.push(
+      `In ${where}, the test–retest reliability of the contrast value across sessions was estimated by the intraclass correlation ICC(2,1) (two-way random effects, absolute agreement, single session), with the other five forms and their 95% confidence intervals reported, and tested against zero with its F test ${c.cite("Shrout & Fleiss 1979")}.`,
+    );
+    return out;
+  }
+  if (spec.kind === "one-sample") {
+    let how: string;
+    if (weighted) how = `as the weighted mean${hasCov ? " adjusted for the covariates" : ""}`;
+    else if (spec.estimator === "ols") how = hasCov ? `as the intercept of a least-squares linear model with mean-centred covariates (the adjusted mean)` : `with a one-sample t test ${c.cite("Student 1908")}`;
+    else if (spec.estimator === "rank") how = `with the Wilcoxon signed-rank test ${c.cite("Wilcoxon 1945")}, the estimate being the Hodges–Lehmann pseudomedian ${c.cite("Hodges & Lehmann 1963")}`;
+    else how = robustWords(spec.estimator, c, "location");
+    out.push(`In ${where}, the mean contrast value across participants${cov} was tested against zero ${how}.`);
+  } else if (spec.kind === "two-group") {
+    const [a, b] = spec.levels ?? ["first", "second"];
+    const levels = spec.levels ? `${quoted(a)} and ${quoted(b)}` : "its two levels";
+    let how: string;
+    if (weighted) how = "as the weighted difference in means";
+    else if (spec.estimator === "ols") how = hasCov ? "by a least-squares linear model with the covariates (analysis of covariance)" : `with Student's t test with pooled variance ${c.cite("Student 1908")}`;
+    else if (spec.estimator === "welch") how = `with Welch's t test and Welch–Satterthwaite degrees of freedom ${c.cite("Welch 1947")}`;
+    else if (spec.estimator === "rank") how = `with the Mann–Whitney U test ${c.cite("Mann & Whitney 1947")}, the estimate being the Hodges–Lehmann shift ${c.cite("Hodges & Lehmann 1963")}`;
+    else how = robustWords(spec.estimator, c, "difference");
+    out.push(
+      `In ${where}, contrast values were compared between the levels ${levels} of ${quoted(spec.group ?? "group")}${cov} ${how}; the estimate is ${spec.levels ? `${quoted(a)} minus ${quoted(b)}` : "the first level minus the second"}.`,
+    );
+  } else {
+    const predictor = quoted(spec.predictor ?? "predictor");
+    const groupCov = spec.group && !spec.interaction ? `${spec.covariates.length > 0 ? "" : ","} with ${quoted(spec.group)} as a covariate,` : "";
+    const target = spec.interaction
+      ? `the difference between the levels of ${quoted(spec.group ?? "group")} in the slope of the contrast value on ${predictor} (predictor × group interaction)${cov}`
+      : `the association between the contrast value and ${predictor}${cov}${groupCov}`;
+    let how: string;
+    if (weighted) how = "by weighted least squares";
+    else if (spec.estimator === "ols") {
+      how = spec.interaction
+        ? "by least squares"
+        : hasCov || spec.group
+          ? `as the least-squares slope of the predictor with the partial correlation r and its Fisher z interval ${c.cite("Fisher 1921")}`
+          : `as the least-squares regression slope with Pearson's r and its Fisher z interval ${c.cite("Fisher 1921")}`;
+    } else if (spec.estimator === "rank") {
+      how = hasCov || spec.group ? `by the partial Spearman correlation (ranks, linear adjustment for the covariates) ${c.cite("Spearman 1904")}` : `by Spearman's rank correlation ${c.cite("Spearman 1904")}`;
+    } else if (spec.estimator === "skipped") {
+      how = `by the skipped correlation: bivariate outliers found by a projection method with a boxplot rule were removed and Pearson's r computed on the rest ${c.cite("Wilcox 2004", "Rousselet & Pernet 2012")}`;
+    } else if (spec.estimator === "bend") {
+      how = `by the percentage-bend correlation with β = 0.2 ${c.cite("Wilcox 1994")}`;
+    } else how = robustWords(spec.estimator, c, "slope");
+    out.push(`In ${where}, ${target} was estimated ${how}.`);
+  }
+  if (weighted) {
+    const tau =
+      spec.tau2Method === "reml" ? `restricted maximum likelihood ${c.cite("Viechtbauer 2005")}` : `the DerSimonian–Laird method of moments ${c.cite("DerSimonian & Laird 1986")}`;
+    const small =
+      spec.smallSample === "knapp-hartung"
+        ? `tests and intervals used the Knapp–Hartung adjusted standard error with a t reference on n − p degrees of freedom ${c.cite("Knapp & Hartung 2003")}`
+        : "tests and intervals used a z statistic with a normal reference";
+    out.push(
+      `Each participant was weighted by 1/(se² + τ²), with se the first-level standard error of the contrast value and τ² the residual variance of true differences between participants, estimated by ${tau}; ${small}, and the share of residual variance due to true differences (I²) was reported ${c.cite("Higgins & Thompson 2002")}.`,
+    );
+  }
+  return out;
+}
+
+function robustWords(estimator: ModelSpec["estimator"], c: Citations, what: "location" | "difference" | "slope"): string {
+  const target = what === "location" ? "location" : what === "difference" ? "group difference" : "slope";
+  if (estimator === "huber") {
+    return `by robust M-estimation of the ${target} with Huber's ψ (k = 1.345) ${c.cite("Huber 1964")}, a median-absolute-deviation scale and iteratively reweighted least squares`;
+  }
+  return `by robust M-estimation of the ${target} with Tukey's bisquare ψ (c = 4.685) ${c.cite("Beaton & Tukey 1974")}, started from the Huber estimate ${c.cite("Huber 1964")}, with a median-absolute-deviation scale and iteratively reweighted least squares`;
+}
+
+/** How the rank tests' p-values were found, from the regions' method words ("exact" or an approximation). */
+function rankExactness(regions: readonly RegionResult[]): string {
+  const methods = regions.map((r) => String(r.method ?? ""));
+  const exact = methods.filter((m) => /\bexact\b/.test(m)).length;
+  const approximation = methods.some((m) => /t approximation|partial Spearman/.test(m)) ? "the t approximation" : "the normal approximation with tie and continuity correction";
+  if (exact === regions.length) return "The rank tests' p-values are exact.";
+  if (exact === 0) return `The rank tests' p-values come from ${approximation}.`;
+  return `The rank tests' p-values are exact in ${count(exact, "region")} and come from ${approximation} in the other ${count(regions.length - exact, "region")}.`;
+}
+
+interface PermutationInfo {
+  exact: boolean;
+  rearrangements: number;
+}
+
+function permutationInfo(regions: readonly RegionResult[]): PermutationInfo[] {
+  const out: PermutationInfo[] = [];
+  for (const r of regions) {
+    const p = r.permutation as { exact?: unknown; rearrangements?: unknown } | undefined;
+    if (p && typeof p.exact === "boolean" && typeof p.rearrangements === "number") out.push({ exact: p.exact, rearrangements: p.rearrangements });
+  }
+  return out;
+}
+
+function inferenceSentences(spec: ModelSpec, regions: readonly RegionResult[], c: Citations): string[] {
+  if (spec.kind === "reliability") return [];
+  const seed = `seed ${spec.seed}`;
+  if (spec.inference === "parametric") {
+    const out = ["All p-values are two-sided; intervals are 95% confidence intervals."];
+    if (spec.estimator === "rank" && spec.weights === "none") out.push(rankExactness(regions));
+    return out;
+  }
+  if (spec.inference === "bootstrap") {
+    const percentile = spec.estimator === "skipped" || spec.estimator === "bend";
+    const interval = percentile
+      ? `percentile intervals ${c.cite("Efron & Tibshirani 1993")}`
+      : `bias-corrected and accelerated (BCa) intervals ${c.cite("Efron 1987", "Efron & Tibshirani 1993")}`;
+    return [
+      `Intervals were 95% ${interval} from ${spec.resamples.toLocaleString("en")} bootstrap resamples of participants drawn with a seeded generator (${seed}); the two-sided p-value is 2·min(A, 1 − A), with A the share of bootstrap estimates below zero.`,
+    ];
+  }
+  const info = permutationInfo(regions);
+  const allExact = info.length > 0 && info.every((i) => i.exact);
+  const someExact = info.some((i) => i.exact);
+  const counts = [...new Set(info.map((i) => i.rearrangements))];
+  let scheme: string;
+  if (spec.estimator === "ols" && spec.kind === "one-sample") {
+    scheme = `by sign flipping of the ${spec.covariates.length > 0 ? "residuals of the reduced model" : "contrast values"}, with the t statistic recomputed for each rearrangement ${c.cite("Winkler et al. 2014")}`;
+  } else if (spec.estimator === "ols") {
+    scheme = `by permuting the residuals of the reduced model without the tested term and recomputing the t statistic, the Freedman–Lane procedure ${c.cite("Freedman & Lane 1983", "Winkler et al. 2014")}`;
+  } else {
+    const what = spec.kind === "one-sample" ? "flipping the signs of the contrast values" : spec.kind === "two-group" ? "permuting the group labels" : `permuting the values of ${quoted(spec.predictor ?? "the predictor")}`;
+    scheme = `by ${what} and recomputing the estimator's statistic`;
+  }
+  let how: string;
+  if (allExact) {
+    how = `every distinct rearrangement was enumerated (${counts.map((n) => n.toLocaleString("en")).join(" or ")}), so the p-values are exact`;
+  } else {
+    how = `${spec.resamples.toLocaleString("en")} random rearrangements were drawn with a seeded generator (${seed}), the same in every region, and the p-values are Monte Carlo estimates${someExact ? "; where fewer distinct rearrangements exist than were asked for, all were enumerated and the p-value is exact" : ""}`;
+  }
+  return [`Two-sided p-values were obtained ${scheme}; ${how}. Intervals are parametric 95% confidence intervals.`];
+}
+
+function correctionSentence(spec: ModelSpec, regionCount: number, c: Citations): string {
+  if (regionCount === 1) return "With one region, no correction over regions applies.";
+  const m = numberWord(regionCount);
+  switch (spec.correction) {
+    case "bonferroni":
+      return `p-values were corrected over the ${m} regions by the Bonferroni method ${c.cite("Dunn 1961")}.`;
+    case "holm":
+      return `p-values were corrected for the family-wise error rate over the ${m} regions by Holm's step-down procedure ${c.cite("Holm 1979")}.`;
+    case "bh":
+      return `p-values were adjusted over the ${m} regions to control the false discovery rate ${c.cite("Benjamini & Hochberg 1995")}.`;
+    case "maxt":
+      return `The family-wise error rate over the ${m} regions was controlled with the distribution of the maximum absolute statistic across regions in the same rearrangements ${c.cite("Westfall & Young 1993")}.`;
+    default:
+      return `p-values were not corrected over the ${m} regions.`;
+  }
+}
+
+function diagnosticSentence(spec: ModelSpec, c: Citations): string | null {
+  if (spec.kind === "reliability") return null;
+  const sensitivity = spec.weights === "none" ? "; each region was also refitted without participants flagged as outlying or influential, as a sensitivity analysis" : "";
+  return `For every participant in every region, leverage, the externally studentized residual and Cook's distance were computed from the least-squares fit of the region's design ${c.cite("Cook 1977")}; participants were flagged as outlying (studentized residual beyond the Bonferroni critical value; ${c.name("Cook & Weisberg 1982")}), of high leverage (hat value above 2p/n; ${c.name("Hoaglin & Welsch 1978")}) or influential (Cook's distance above 4/n; ${c.name("Bollen & Jackman 1990")})${sensitivity}. Flags did not remove anyone from the reported estimates.`;
+}
+
+function softwareSentence(input: MethodsInput, spec: ModelSpec): string {
+  const name = input.softwareName ?? "Covarion";
+  const version = typeof input.recipe.softwareVersion === "string" ? input.recipe.softwareVersion : null;
+  const seed = spec.inference === "parametric" ? "" : ` and seed ${spec.seed}`;
+  return `Analyses were run in ${name}${version ? ` version ${version}` : ""}; the fit's recipe, which records the data files' SHA-256 hashes, the model${seed}, reproduces every number exactly.`;
+}
+
+function cautionsOf(input: MethodsInput, spec: ModelSpec, c: Citations): string[] {
+  const out: string[] = [];
+  if (input.regionSelection === "same-data") {
+    out.push(
+      `Caution: the regions were chosen from the same data that were tested here, which inflates the reported effects; these results should be read as exploratory ${c.cite("Vul et al. 2009", "Kriegeskorte et al. 2009")}.`,
+    );
+  }
+  const maxN = Math.max(0, ...input.result.regions.map((r) => r.n));
+  if (spec.kind === "association" && maxN < SMALL_ASSOCIATION_N) {
+    out.push(
+      `Caution: brain–trait associations estimated from samples of this size are imprecise and tend to shrink on replication ${c.cite("Marek et al. 2022")}; the confidence intervals, not only the p-values, should be reported.`,
+    );
+  }
+  return out;
+}
+
+/**
+ * Builds the methods paragraph of a finished fit. Pure; cost O(regions +
+ * set-asides). Throws MethodsTextError when the recipe's model fields are
+ * malformed or the result has no regions.
+ */
+export function buildMethodsText(input: MethodsInput): MethodsText {
+  const spec = specOf(input.recipe);
+  const regions = input.result.regions;
+  if (regions.length === 0) throw new MethodsTextError("the fit's result has no regions");
+  const c = new Citations();
+  const sentences: string[] = [
+    ...dataSentences(input, spec),
+    ...modelSentences(spec, regions.length, c),
+    ...inferenceSentences(spec, regions, c),
+    capitalise(correctionSentence(spec, regions.length, c)),
+  ];
+  const diagnostics = diagnosticSentence(spec, c);
+  if (diagnostics) sentences.push(diagnostics);
+  sentences.push(softwareSentence(input, spec));
+  const cautions = cautionsOf(input, spec, c);
+  return { text: [...sentences, ...cautions].join(" "), references: c.references(), cautions };
+}

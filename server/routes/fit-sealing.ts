@@ -1,0 +1,42 @@
+/**
+ * Approval and sealing of a fit:
+ *
+ * POST /api/fits/:fitId/approve → FitView with `approval`; 409 unless done, or when already approved (Owner, Reviewer)
+ * POST /api/fits/:fitId/seal    → FitView with `seal` { by, at, sha256, intact }; 409 unless done and approved,
+ *                                 or when already sealed (Owner)
+ *
+ * Routes under /fits/:fitId find the fit's study before checking rights.
+ */
+import { Router } from "express";
+import { z } from "zod";
+import { authorize, authorizedStudy, roleMay, type StudyOf } from "../auth/permissions";
+import { signedInUser } from "../auth/session";
+import { idSchema, noQuery, parsed, validate } from "../http/validate";
+import type { FitJobs } from "../jobs/fit-jobs";
+import { findFit, fitView, studyOfFit } from "../services/fits";
+import { approveFit, sealFit } from "../services/sealing";
+import type { RouteDeps } from "./deps";
+
+const fitStudy: StudyOf = { resolve: studyOfFit, notFound: "Fit not found." };
+const action = { params: z.strictObject({ fitId: idSchema }), query: noQuery, body: z.union([z.strictObject({}), z.undefined()]) };
+
+export function fitSealingRoutes(deps: RouteDeps, jobs: FitJobs): Router {
+  const router = Router();
+
+  router.post("/fits/:fitId/approve", authorize("fits.approve", { studyOf: fitStudy }), validate(action), async (_req, res) => {
+    const { study, role } = authorizedStudy(res);
+    const fit = await findFit(deps.db, study.id, parsed(res, action).params.fitId);
+    const now = deps.clock();
+    await approveFit(deps.db, signedInUser(res), fit, now);
+    res.json(await fitView(deps.db, jobs, await findFit(deps.db, study.id, fit.id), roleMay("fits.participants.read", role, { restricted: study.restricted })));
+  });
+
+  router.post("/fits/:fitId/seal", authorize("fits.seal", { studyOf: fitStudy }), validate(action), async (_req, res) => {
+    const { study, role } = authorizedStudy(res);
+    const fit = await findFit(deps.db, study.id, parsed(res, action).params.fitId);
+    await sealFit(deps.db, signedInUser(res), fit, deps.clock());
+    res.json(await fitView(deps.db, jobs, await findFit(deps.db, study.id, fit.id), roleMay("fits.participants.read", role, { restricted: study.restricted })));
+  });
+
+  return router;
+}

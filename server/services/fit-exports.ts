@@ -1,0 +1,153 @@
+/**
+ * What a finished fit hands to a paper: the region table as CSV, the recipe
+ * as JSON, and the methods paragraph with its references.
+ *
+ * - Region table: one row per region in fit order with n, estimate, se,
+ *   statistic, df, p, adjusted p, the 95% interval, r and its interval
+ *   (columns present when any region has r), the method, the inference and
+ *   the correction; numbers in full precision (shortest round-trip
+ *   decimals), missing as `n/a`, text cells neutralised against formula
+ *   injection (server/intake/export-csv.ts).
+ * - Recipe: the stored recipe, keys in the recipe command's order (values
+ *   unchanged), so `npm run --silent fit -- recipe.json` beside the two
+ *   original files reproduces the numbers.
+ * - Methods: server/model/methods-text.ts, fed with the recipe, the result,
+ *   the data versions, the model's region-selection answer and the join of
+ *   the fit's data versions.
+ *
+ * Route handler → this module → pure builders (toCsv, buildMethodsText).
+ */
+import { eq, inArray } from "drizzle-orm";
+import type { Queryable } from "../../db/client";
+import { datasetVersions, models, type Fit } from "../../db/schema";
+import { toCsv, type CsvCell } from "../intake/export-csv";
+import { buildMethodsText, type MethodsInput, type MethodsText } from "../model/methods-text";
+import type { RegionResult } from "../model/spec";
+import { conflict } from "../http/errors";
+import { buildFitInputs, inputsOfFit } from "./fit-inputs";
+
+function regionsOf(fit: Fit): RegionResult[] {
+  if (fit.status !== "done" || !fit.result) throw conflict(`This fit is not finished (status ${fit.status}); exports are available once it is done.`);
+  return (fit.result as { regions: RegionResult[] }).regions;
+}
+
+/** File names of a fit's downloads: "fit-1a2b3c4d-regions.csv", "fit-1a2b3c4d-recipe.json". */
+export function exportFileName(fit: Pick<Fit, "id">, what: "regions.csv" | "recipe.json"): string {
+  return `fit-${fit.id.slice(0, 8)}-${what}`;
+}
+
+function inferenceOf(r: RegionResult, fallback: string): string {
+  const perm = r.permutation as { scheme?: string; exact?: boolean; rearrangements?: number } | undefined;
+  if (perm && typeof perm.rearrangements === "number") {
+    return `permutation (${perm.scheme ?? "rearrangement"}, ${perm.rearrangements} rearrangements, ${perm.exact ? "exact" : "Monte Carlo"})`;
+  }
+  const boot = r.bootstrap as { method?: string; resamples?: number } | undefined;
+  if (boot && typeof boot.resamples === "number") return `bootstrap (${boot.method === "bca" ? "BCa" : "percentile"}, ${boot.resamples} resamples)`;
+  return fallback;
+}
+
+const correctionNames: Readonly<Record<string, string>> = {
+  none: "none",
+  bonferroni: "Bonferroni",
+  holm: "Holm",
+  bh: "Benjamini–Hochberg",
+  maxt: "max-T",
+};
+
+/** The region table of a finished fit as CSV text. Throws 409 when the fit is not done. Cost O(regions). */
+export function regionsCsv(fit: Fit): string {
+  const regions = regionsOf(fit);
+  const result = fit.result as { inference?: string; correction?: string };
+  const withR = regions.some((r) => typeof r.r === "number");
+  const header = ["region", "n", "estimate", "se", "statistic", "df", "p", "p_adjusted", "ci_low", "ci_high"];
+  if (withR) header.push("r", "r_ci_low", "r_ci_high");
+  header.push("method", "inference", "correction");
+  const correction = correctionNames[result.correction ?? "none"] ?? String(result.correction);
+  const rows = regions.map((r) => {
+    const row: CsvCell[] = [r.region, r.n, r.estimate, r.se, r.statistic, r.df, r.p, r.pAdjusted, r.ciLow, r.ciHigh];
+    if (withR) row.push(r.r ?? null, r.rCiLow ?? null, r.rCiHigh ?? null);
+    row.push(typeof r.method === "string" ? r.method : null, inferenceOf(r, result.inference ?? "parametric"), correction);
+    return row;
+  });
+  return toCsv(header, rows);
+}
+
+/** The recipe command's key order; other keys follow in stored order. */
+const recipeKeyOrder = [
+  "brainTable",
+  "participantSheet",
+  "idColumn",
+  "seSuffix",
+  "session",
+  "mappings",
+  "kind",
+  "regions",
+  "predictor",
+  "group",
+  "levels",
+  "covariates",
+  "interaction",
+  "estimator",
+  "inference",
+  "resamples",
+  "seed",
+  "correction",
+  "setAside",
+  "weights",
+  "tau2Method",
+  "smallSample",
+  "softwareVersion",
+  "inputs",
+];
+
+/** The stored recipe as a JSON document (keys in the recipe command's order, values unchanged). */
+export function recipeJson(fit: Pick<Fit, "recipe">): string {
+  const recipe = fit.recipe as Record<string, unknown>;
+  const ordered: Record<string, unknown> = {};
+  for (const key of recipeKeyOrder) if (key in recipe) ordered[key] = recipe[key];
+  for (const key of Object.keys(recipe)) if (!(key in ordered)) ordered[key] = recipe[key];
+  return `${JSON.stringify(ordered, null, 2)}\n`;
+}
+
+/**
+ * The methods paragraph of a finished fit. Reads the data versions, the
+ * model and the join of the fit's data (O(rows × columns)). Throws 409 when
+ * the fit is not done.
+ */
+export async function methodsOf(db: Queryable, fit: Fit, softwareName = "Covarion"): Promise<MethodsText> {
+  const regions = regionsOf(fit);
+  const ids = [fit.brainVersionId, ...(fit.sheetVersionId ? [fit.sheetVersionId] : [])];
+  const [versions, [model], built] = await Promise.all([
+    db.select().from(datasetVersions).where(inArray(datasetVersions.id, ids)),
+    db.select({ regionSelection: models.regionSelection }).from(models).where(eq(models.id, fit.modelId)),
+    buildFitInputs(db, inputsOfFit(fit)),
+  ]);
+  const brain = versions.find((v) => v.id === fit.brainVersionId);
+  const sheet = fit.sheetVersionId ? versions.find((v) => v.id === fit.sheetVersionId) : undefined;
+  if (!brain) throw new Error(`methodsOf: brain table version ${fit.brainVersionId} not found`);
+  const roster = built.roster;
+  const input: MethodsInput = {
+    recipe: fit.recipe as Record<string, unknown>,
+    result: { regions },
+    datasets: {
+      brain: { fileName: brain.fileName, version: brain.version, sha256: brain.sha256 },
+      participants: sheet ? { fileName: sheet.fileName, version: sheet.version, sha256: sheet.sha256 } : null,
+    },
+    regionSelection: (model?.regionSelection as MethodsInput["regionSelection"]) ?? null,
+    roster:
+      roster && sheet
+        ? {
+            brainParticipants: brain.participantCount,
+            sheetParticipants: sheet.participantCount,
+            matched: roster.matched.length,
+            matchedByMapping: roster.matched.filter((m) => m.via === "mapping").length,
+            onlyInBrainTable: roster.onlyInBrainTable.length,
+            onlyInParticipantSheet: roster.onlyInParticipantSheet.length,
+            duplicateIds: roster.duplicates.reduce((s, d) => s + d.ids.length, 0),
+          }
+        : null,
+    brainParticipants: built.data.participants.length,
+    softwareName,
+  };
+  return buildMethodsText(input);
+}

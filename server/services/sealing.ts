@@ -1,0 +1,140 @@
+/**
+ * Approval and sealing of fits.
+ *
+ * A Reviewer or Owner approves a finished fit (`fits.approve`); an Owner
+ * seals an approved fit (`fits.seal`). The seal stores the SHA-256 of the
+ * fit's canonical recipe+result JSON with who sealed it and when; from then
+ * on database triggers refuse any change to the fit's row, its per-region
+ * rows and the seal itself (db/migrations/0009_fit-sealing-immutable.sql).
+ * Each step records an audit event (fit.approved, fit.sealed) in the same
+ * transaction.
+ *
+ * Canonical JSON follows the JSON Canonicalization Scheme (RFC 8785): object
+ * keys sorted by UTF-16 code units, no white space, numbers in the
+ * ECMAScript shortest round-trip form, strings as JSON.stringify writes
+ * them. The hash covers `{ "recipe": …, "result": … }` exactly as stored.
+ */
+import { createHash } from "node:crypto";
+import { eq } from "drizzle-orm";
+import type { Database, Queryable } from "../../db/client";
+import { fitApprovals, fitSeals, fits, users, type Fit } from "../../db/schema";
+import { conflict } from "../http/errors";
+import { recordEvent } from "./audit";
+
+interface Actor {
+  id: string;
+}
+
+export interface ApprovalView {
+  by: { id: string; name: string | null };
+  at: string;
+}
+
+export interface SealView {
+  by: { id: string; name: string | null };
+  at: string;
+  /** SHA-256 of the canonical recipe+result JSON at sealing. */
+  sha256: string;
+  /** True when the stored recipe and result still hash to `sha256`. */
+  intact: boolean;
+}
+
+export interface Publication {
+  approval: ApprovalView | null;
+  seal: SealView | null;
+}
+
+/**
+ * Canonical JSON text of a JSON value (RFC 8785): sorted keys, no white
+ * space. Pure; cost O(size · log keys). Undefined object members are left
+ * out, as JSON.stringify does. Throws TypeError for a non-finite number or a
+ * value JSON cannot hold (function, symbol, bigint, undefined at the top).
+ */
+export function canonicalJson(value: unknown): string {
+  if (value === null) return "null";
+  switch (typeof value) {
+    case "boolean":
+      return value ? "true" : "false";
+    case "string":
+      return JSON.stringify(value);
+    case "number":
+      if (!Number.isFinite(value)) throw new TypeError(`canonicalJson: ${value} is not a JSON number`);
+      return JSON.stringify(value);
+    case "object": {
+      if (Array.isArray(value)) return `[${value.map((v) => (v === undefined ? "null" : canonicalJson(v))).join(",")}]`;
+      const record = value as Record<string, unknown>;
+      const keys = Object.keys(record)
+        .filter((k) => record[k] !== undefined)
+        .sort();
+      return `{${keys.map((k) => `${JSON.stringify(k)}:${canonicalJson(record[k])}`).join(",")}}`;
+    }
+    default:
+      throw new TypeError(`canonicalJson: a ${typeof value} is not a JSON value`);
+  }
+}
+
+/** SHA-256 (hex) of the canonical JSON of `{ recipe, result }`. Pure. */
+export function sealHash(recipe: unknown, result: unknown): string {
+  return createHash("sha256").update(canonicalJson({ recipe, result }), "utf8").digest("hex");
+}
+
+/** The fit's approval and seal (null when absent). Reads two rows and re-hashes a sealed fit's recipe and result. */
+export async function publicationOf(db: Queryable, fit: Pick<Fit, "id" | "recipe" | "result">): Promise<Publication> {
+  const [approval] = await db
+    .select({ at: fitApprovals.approvedAt, id: users.id, name: users.name })
+    .from(fitApprovals)
+    .innerJoin(users, eq(users.id, fitApprovals.approvedBy))
+    .where(eq(fitApprovals.fitId, fit.id));
+  const [seal] = await db
+    .select({ at: fitSeals.sealedAt, sha256: fitSeals.sha256, id: users.id, name: users.name })
+    .from(fitSeals)
+    .innerJoin(users, eq(users.id, fitSeals.sealedBy))
+    .where(eq(fitSeals.fitId, fit.id));
+  return {
+    approval: approval ? { by: { id: approval.id, name: approval.name }, at: approval.at.toISOString() } : null,
+    seal: seal
+      ? { by: { id: seal.id, name: seal.name }, at: seal.at.toISOString(), sha256: seal.sha256, intact: sealHash(fit.recipe, fit.result) === seal.sha256 }
+      : null,
+  };
+}
+
+/** True when the fit is sealed. */
+export async function isSealed(db: Queryable, fitId: string): Promise<boolean> {
+  const [row] = await db.select({ fitId: fitSeals.fitId }).from(fitSeals).where(eq(fitSeals.fitId, fitId));
+  return row !== undefined;
+}
+
+/**
+ * Approves a finished fit for sealing. Throws 409 when the fit is not done
+ * or is already approved.
+ */
+export async function approveFit(db: Database, actor: Actor, fit: Fit, now: Date): Promise<void> {
+  await db.transaction(async (tx) => {
+    const [current] = await tx.select({ status: fits.status }).from(fits).where(eq(fits.id, fit.id)).for("update");
+    if (current?.status !== "done") throw conflict(`Only a finished fit can be approved (this one is ${current?.status ?? "gone"}).`);
+    const [existing] = await tx.select({ at: fitApprovals.approvedAt }).from(fitApprovals).where(eq(fitApprovals.fitId, fit.id));
+    if (existing) throw conflict(`This fit was already approved on ${existing.at.toISOString()}.`);
+    await tx.insert(fitApprovals).values({ fitId: fit.id, approvedBy: actor.id, approvedAt: now });
+    await recordEvent(tx, { studyId: fit.studyId, actorId: actor.id, kind: "fit.approved", targetType: "fit", targetId: fit.id, after: { modelId: fit.modelId }, at: now });
+  });
+}
+
+/**
+ * Seals an approved, finished fit: stores the SHA-256 of its canonical
+ * recipe+result JSON. Returns the hash. Throws 409 when the fit is not
+ * done, not approved, or already sealed.
+ */
+export async function sealFit(db: Database, actor: Actor, fit: Fit, now: Date): Promise<string> {
+  return db.transaction(async (tx) => {
+    const [current] = await tx.select().from(fits).where(eq(fits.id, fit.id)).for("update");
+    if (current?.status !== "done") throw conflict(`Only a finished fit can be sealed (this one is ${current?.status ?? "gone"}).`);
+    const [sealed] = await tx.select({ at: fitSeals.sealedAt }).from(fitSeals).where(eq(fitSeals.fitId, fit.id));
+    if (sealed) throw conflict(`This fit was already sealed on ${sealed.at.toISOString()}.`);
+    const [approved] = await tx.select({ at: fitApprovals.approvedAt }).from(fitApprovals).where(eq(fitApprovals.fitId, fit.id));
+    if (!approved) throw conflict("This fit has not been approved: a Reviewer or Owner approves it before it can be sealed.");
+    const sha256 = sealHash(current.recipe, current.result);
+    await tx.insert(fitSeals).values({ fitId: fit.id, sha256, sealedBy: actor.id, sealedAt: now });
+    await recordEvent(tx, { studyId: fit.studyId, actorId: actor.id, kind: "fit.sealed", targetType: "fit", targetId: fit.id, after: { sha256 }, at: now });
+    return sha256;
+  });
+}
