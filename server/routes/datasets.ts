@@ -76,7 +76,9 @@ function receiveFile(): RequestHandler {
   const single = multer({
     storage: multer.memoryStorage(),
     limits: { fileSize: DEFAULT_MAX_BYTES, files: 1, fields: 10, fieldSize: 10_000, parts: 12 },
-  }).single("file");
+    // Browsers send file names as UTF-8 (multer's default reads them as Latin-1).
+    defParamCharset: "utf8",
+  } as multer.Options).single("file");
   return (req, res, next) => {
     single(req, res, (error: unknown) => {
       if (!error) return next();

@@ -225,8 +225,8 @@ describe("upload, preview, confirm", () => {
   it("takes the id column and standard-error suffix chosen at upload", async () => {
     const studyId = await newStudy();
     const text = "subject;dlpfc;dlpfc.stderr\ns1;0.5;0.1\ns2;0.6;0.2\n";
-    const res = await upload(agents.analyst, studyId, "brain", text, "semi.csv", { idColumn: "subject", seSuffix: ".stderr" }).expect(201);
-    expect(res.body).toMatchObject({ idColumn: "subject", delimiterName: "semicolon", regions: ["dlpfc"] });
+    const res = await upload(agents.analyst, studyId, "brain", text, "Zürich semi.csv", { idColumn: "subject", seSuffix: ".stderr" }).expect(201);
+    expect(res.body).toMatchObject({ fileName: "Zürich semi.csv", idColumn: "subject", delimiterName: "semicolon", regions: ["dlpfc"] });
     expect(res.body.columns.map((c: { role: string }) => c.role)).toEqual(["id", "region", "se"]);
   });
 
