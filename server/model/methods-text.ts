@@ -221,7 +221,7 @@ function dataSentences(input: MethodsInput, spec: ModelSpec): string[] {
     if (everyRegion.size > 0) parts.push(`${count(everyRegion.size, "participant")} ${everyRegion.size === 1 ? "was" : "were"} set aside from every region`);
     if (oneRegion.length > 0) {
       const people = new Set(oneRegion.map((s) => s.participant)).size;
-      parts.push(`${count(people, "participant")} from ${oneRegion.length === 1 ? "one region" : `single regions (${oneRegion.length.toLocaleString("en")} participant–region pairs)`}`);
+      parts.push(`${count(people, "participant")} from ${oneRegion.length === 1 ? "one region" : `single regions (${numberWord(oneRegion.length)} participant–region pairs)`}`);
     }
     out.push(`${capitalise(list(parts))}, each with a written reason decided by the team and recorded in the study's audit log; no participant was excluded automatically.`);
   }
@@ -333,7 +333,7 @@ function rankExactness(regions: readonly RegionResult[]): string {
   const approximation = methods.some((m) => /t approximation|partial Spearman/.test(m)) ? "the t approximation" : "the normal approximation with tie and continuity correction";
   if (exact === regions.length) return "The rank tests' p-values are exact.";
   if (exact === 0) return `The rank tests' p-values come from ${approximation}.`;
-  return `The rank tests' p-values are exact in ${count(exact, "region")} and come from ${approximation} in the other ${count(regions.length - exact, "region")}.`;
+  return `The rank tests' p-values are exact in ${count(exact, "region")} and come from ${approximation} in the other${regions.length - exact === 1 ? " region" : ` ${count(regions.length - exact, "region")}`}.`;
 }
 
 interface PermutationInfo {

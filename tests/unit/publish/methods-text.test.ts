@@ -1,0 +1,197 @@
+/**
+ * The methods paragraph: what it states for each kind of fit, which
+ * references it cites, and the cautions. Inputs are small hand-made recipes
+ * and results (invented numbers; only counts, flags and names matter here).
+ */
+import { describe, expect, it } from "vitest";
+import { type MethodsInput, MethodsTextError, buildMethodsText, methodReferences } from "../../../server/model/methods-text";
+import type { RegionResult } from "../../../server/model/spec";
+
+function region(name: string, n: number, extra: Record<string, unknown> = {}): RegionResult {
+  return { region: name, n, estimate: 0.1, se: 0.05, statistic: 2, df: n - 2, p: 0.05, pAdjusted: 0.1, ciLow: 0, ciHigh: 0.2, ...extra };
+}
+
+const brain = { fileName: "lantern_brain-table.csv", version: 2, sha256: "0123456789abcdef".repeat(4) };
+const sheet = { fileName: "lantern_participants.tsv", version: 1, sha256: "fedcba9876543210".repeat(4) };
+
+function input(recipe: Record<string, unknown>, regions: RegionResult[], extra: Partial<MethodsInput> = {}): MethodsInput {
+  return {
+    recipe: { brainTable: brain.fileName, participantSheet: sheet.fileName, idColumn: "participant_id", mappings: [], softwareVersion: "0.1.0", ...recipe },
+    result: { regions },
+    datasets: { brain, participants: sheet },
+    regionSelection: "anatomical-or-prior",
+    roster: { brainParticipants: 71, sheetParticipants: 72, matched: 70, matchedByMapping: 1, onlyInBrainTable: 1, onlyInParticipantSheet: 2, duplicateIds: 0 },
+    brainParticipants: 71,
+    ...extra,
+  };
+}
+
+/** Every "(Author Year; …)" key cited in the text. */
+function citedKeys(text: string): string[] {
+  return Object.keys(methodReferences).filter((k) => text.includes(k));
+}
+
+const association = {
+  kind: "association",
+  predictor: "accuracy",
+  covariates: ["age", "mean_fd"],
+  inference: "permutation",
+  resamples: 5000,
+  seed: 7,
+  correction: "holm",
+  setAside: [
+    { participant: "sub-03", reason: "motion above the preregistered limit" },
+    { participant: "sub-09", region: "L_insula", reason: "signal dropout" },
+    { participant: "sub-11", region: "L_insula", reason: "signal dropout" },
+    { participant: "sub-11", region: "R_insula", reason: "signal dropout" },
+  ],
+};
+const monteCarlo = { permutation: { scheme: "Freedman–Lane", exact: false, rearrangements: 5000, observed: 2 } };
+
+describe("methods paragraph", () => {
+  it("states the data, matching, set-asides, N range, estimator, inference, correction, diagnostics and software of an association fit", () => {
+    const out = buildMethodsText(input(association, [region("L_insula", 66, monteCarlo), region("R_insula", 68, monteCarlo), region("L_dlpfc", 69, monteCarlo)]));
+    const t = out.text;
+    expect(t).toContain("“lantern_brain-table.csv” (version 2, SHA-256 0123456789ab…)");
+    expect(t).toContain("“lantern_participants.tsv” (version 1, SHA-256 fedcba987654…)");
+    expect(t).not.toContain("0123456789abcdef0"); // hashes are shortened to 12 hex digits
+    expect(t).toContain("Of 71 participants in the brain table and 72 in the participant sheet, 70 were matched (one through an identifier mapping confirmed by a team member); one participant only in the brain table and two participants only in the participant sheet were not analysed.");
+    expect(t).toContain("One participant was set aside from every region and two participants from single regions (three participant–region pairs), each with a written reason");
+    expect(t).toContain("recorded in the study's audit log; no participant was excluded automatically.");
+    expect(t).toContain("leaving N = 66–69 per region.");
+    expect(t).toContain("In each of three regions, the association between the contrast value and “accuracy”, adjusting for “age” and “mean_fd”, was estimated as the least-squares slope");
+    expect(t).toContain("the Freedman–Lane procedure (Freedman & Lane 1983; Winkler et al. 2014)");
+    expect(t).toContain("5,000 random rearrangements were drawn with a seeded generator (seed 7)");
+    expect(t).toContain("Monte Carlo");
+    expect(t).toContain("Holm's step-down procedure (Holm 1979)");
+    expect(t).toContain("Cook's distance");
+    expect(t).toContain("Flags did not remove anyone from the reported estimates.");
+    expect(t).toContain("Analyses were run in Covarion version 0.1.0");
+    // Circularity is not claimed for regions chosen from anatomy; the small-sample caution applies to associations.
+    expect(t).not.toContain("exploratory");
+    expect(out.cautions).toHaveLength(1);
+    expect(out.cautions[0]).toContain("(Marek et al. 2022)");
+    expect(t.endsWith(out.cautions[0])).toBe(true);
+  });
+
+  it("cites exactly the references it lists, each with its full citation, in reference-list order", () => {
+    const out = buildMethodsText(input(association, [region("L_insula", 66, monteCarlo)], { regionSelection: "same-data" }));
+    expect(out.references.map((r) => r.key).sort()).toEqual(citedKeys(out.text).sort());
+    for (const r of out.references) expect(r.citation).toBe(methodReferences[r.key]);
+    const citations = out.references.map((r) => r.citation);
+    expect(citations).toEqual([...citations].sort());
+    // "Cook, R. D. (1977)" sorts before "Cook, R. D., & Weisberg, S. (1982)", as in a reference list.
+    expect(out.references.findIndex((r) => r.key === "Cook 1977")).toBeLessThan(out.references.findIndex((r) => r.key === "Cook & Weisberg 1982"));
+  });
+
+  it("warns about circular region selection with Vul et al. and Kriegeskorte et al.", () => {
+    const out = buildMethodsText(input({ kind: "one-sample" }, [region("L_insula", 70)], { regionSelection: "same-data" }));
+    expect(out.cautions).toEqual([expect.stringContaining("chosen from the same data that were tested")]);
+    expect(out.text).toContain("exploratory (Vul et al. 2009; Kriegeskorte et al. 2009)");
+    expect(out.references.map((r) => r.key)).toEqual(expect.arrayContaining(["Vul et al. 2009", "Kriegeskorte et al. 2009"]));
+  });
+
+  it("says when every rearrangement was enumerated (exact p-values)", () => {
+    const exact = { permutation: { scheme: "sign flipping", exact: true, rearrangements: 256, observed: 1 } };
+    const out = buildMethodsText(input({ kind: "one-sample", inference: "permutation", resamples: 10000, seed: 3 }, [region("a", 8, exact), region("b", 8, exact)]));
+    expect(out.text).toContain("by sign flipping of the contrast values");
+    expect(out.text).toContain("every distinct rearrangement was enumerated (256), so the p-values are exact");
+    expect(out.text).not.toContain("Monte Carlo");
+  });
+
+  it("one-sample t test without a participant sheet, one region, no correction needed", () => {
+    const out = buildMethodsText(
+      input({ kind: "one-sample", participantSheet: undefined, correction: "holm" }, [region("L_insula", 71)], {
+        datasets: { brain, participants: null },
+        roster: null,
+      }),
+    );
+    expect(out.text).toContain("Contrast values were read from the brain table “lantern_brain-table.csv” (version 2, SHA-256 0123456789ab…), 71 participants; no participant sheet was used.");
+    expect(out.text).toContain("No participant was set aside.");
+    expect(out.text).toContain("leaving N = 71 per region.");
+    expect(out.text).toContain("with a one-sample t test (Student 1908)");
+    expect(out.text).toContain("With one region, no correction over regions applies.");
+    expect(out.text).not.toContain("Holm");
+    expect(out.cautions).toEqual([]);
+  });
+
+  it("two groups with Welch's t test and BCa bootstrap intervals", () => {
+    const out = buildMethodsText(
+      input({ kind: "two-group", group: "group", levels: ["patient", "control"], estimator: "welch", inference: "bootstrap", resamples: 2000, seed: 11, correction: "bh" }, [
+        region("a", 70),
+        region("b", 70),
+      ]),
+    );
+    expect(out.text).toContain("compared between the levels “patient” and “control” of “group” with Welch's t test and Welch–Satterthwaite degrees of freedom (Welch 1947); the estimate is “patient” minus “control”.");
+    expect(out.text).toContain("bias-corrected and accelerated (BCa) intervals (Efron 1987; Efron & Tibshirani 1993) from 2,000 bootstrap resamples of participants drawn with a seeded generator (seed 11)");
+    expect(out.text).toContain("to control the false discovery rate (Benjamini & Hochberg 1995)");
+  });
+
+  it("robust estimators name Huber (1964) and, for the bisquare, Beaton & Tukey (1974)", () => {
+    const huber = buildMethodsText(input({ kind: "one-sample", estimator: "huber" }, [region("a", 70)]));
+    expect(huber.text).toContain("Huber's ψ (k = 1.345) (Huber 1964)");
+    const bisquare = buildMethodsText(input({ kind: "association", predictor: "age", estimator: "bisquare", correction: "bonferroni" }, [region("a", 70), region("b", 70)]));
+    expect(bisquare.text).toContain("Tukey's bisquare ψ (c = 4.685) (Beaton & Tukey 1974), started from the Huber estimate (Huber 1964)");
+    expect(bisquare.text).toContain("by the Bonferroni method (Dunn 1961)");
+  });
+
+  it("max-T correction cites Westfall & Young; a generic rearrangement test names what it permutes", () => {
+    const out = buildMethodsText(
+      input({ kind: "association", predictor: "accuracy", estimator: "rank", inference: "permutation", resamples: 1000, correction: "maxt" }, [
+        region("a", 70, { permutation: { scheme: "Spearman rho", exact: false, rearrangements: 1000 } }),
+        region("b", 70, { permutation: { scheme: "Spearman rho", exact: false, rearrangements: 1000 } }),
+      ]),
+    );
+    expect(out.text).toContain("by Spearman's rank correlation (Spearman 1904)");
+    expect(out.text).toContain("by permuting the values of “accuracy” and recomputing the estimator's statistic");
+    expect(out.text).toContain("maximum absolute statistic across regions in the same rearrangements (Westfall & Young 1993)");
+  });
+
+  it("weighted fits state the weights, the τ² method and the small-sample adjustment", () => {
+    const out = buildMethodsText(input({ kind: "one-sample", weights: "first-level-se", tau2Method: "dl", smallSample: "knapp-hartung" }, [region("a", 40)]));
+    expect(out.text).toContain("weighted by 1/(se² + τ²)");
+    expect(out.text).toContain("the DerSimonian–Laird method of moments (DerSimonian & Laird 1986)");
+    expect(out.text).toContain("Knapp–Hartung adjusted standard error with a t reference on n − p degrees of freedom (Knapp & Hartung 2003)");
+    expect(out.text).toContain("(Higgins & Thompson 2002)");
+    expect(out.text).not.toContain("refitted without participants flagged"); // no unweighted sensitivity refit on weighted fits
+    const reml = buildMethodsText(input({ kind: "one-sample", weights: "first-level-se" }, [region("a", 40)]));
+    expect(reml.text).toContain("restricted maximum likelihood (Viechtbauer 2005)");
+  });
+
+  it("reliability fits name ICC(2,1) after Shrout & Fleiss and no participant diagnostics", () => {
+    const out = buildMethodsText(input({ kind: "reliability", participantSheet: undefined }, [region("a", 16), region("b", 15)], { datasets: { brain, participants: null }, roster: null }));
+    expect(out.text).toContain("intraclass correlation ICC(2,1)");
+    expect(out.text).toContain("(Shrout & Fleiss 1979)");
+    expect(out.text).toContain("Participants without a value in every session were left out of that region, leaving N = 15–16 per region.");
+    expect(out.text).not.toContain("Cook's distance");
+  });
+
+  it("rank tests say whether their p-values were exact", () => {
+    const out = buildMethodsText(
+      input({ kind: "one-sample", estimator: "rank" }, [
+        region("a", 20, { method: "Wilcoxon signed-rank test (exact), Hodges–Lehmann pseudomedian" }),
+        region("b", 20, { method: "Wilcoxon signed-rank test (normal approximation with tie and continuity correction), Hodges–Lehmann pseudomedian" }),
+      ]),
+    );
+    expect(out.text).toContain("with the Wilcoxon signed-rank test (Wilcoxon 1945), the estimate being the Hodges–Lehmann pseudomedian (Hodges & Lehmann 1963)");
+    expect(out.text).toContain("The rank tests' p-values are exact in one region and come from the normal approximation with tie and continuity correction in the other region.");
+  });
+
+  it("no imprecision caution for associations from 1,000 participants up", () => {
+    const out = buildMethodsText(input({ kind: "association", predictor: "age" }, [region("a", 999), region("b", 1000)]));
+    expect(out.cautions).toEqual([]);
+    const small = buildMethodsText(input({ kind: "association", predictor: "age" }, [region("a", 999)]));
+    expect(small.cautions).toHaveLength(1);
+  });
+
+  it("is deterministic", () => {
+    const a = input(association, [region("L_insula", 66, monteCarlo)]);
+    expect(buildMethodsText(a)).toEqual(buildMethodsText(structuredClone(a)));
+  });
+
+  it("refuses a malformed recipe, naming the field, and a result without regions", () => {
+    expect(() => buildMethodsText(input({ kind: "one-sample", estimator: "median" }, [region("a", 10)]))).toThrow(MethodsTextError);
+    expect(() => buildMethodsText(input({ kind: "one-sample", estimator: "median" }, [region("a", 10)]))).toThrow(/recipe field 'estimator'/);
+    expect(() => buildMethodsText(input({ kind: "one-sample" }, []))).toThrow("the fit's result has no regions");
+  });
+});
