@@ -50,15 +50,22 @@ export function fileRowColumns(columns: readonly FileColumn[], idIndex: number, 
   ];
 }
 
-/** Columns of the roster table: participant (pinned), status, matched by, both ids, sessions, then the sheet's columns. */
-export function rosterColumns(sheetColumns: RosterReport["columns"]): ColumnDef<RosterRow, unknown>[] {
+/**
+ * Columns of the roster table: participant (pinned), status, matched by,
+ * both ids, sessions (left out when the brain table has none), then the
+ * sheet's columns.
+ */
+export function rosterColumns(sheetColumns: RosterReport["columns"], options: { sessions: boolean } = { sessions: true }): ColumnDef<RosterRow, unknown>[] {
+  const sessions: ColumnDef<RosterRow, unknown>[] = options.sessions
+    ? [{ id: "sessions", header: "sessions", accessorFn: (r: RosterRow) => (r.sessions.length > 0 ? r.sessions.join(", ") : null), meta: { width: 104 } }]
+    : [];
   return [
     { id: "participant", header: "participant", accessorFn: (r: RosterRow) => r.participant },
     { id: "status", header: "status", accessorFn: (r: RosterRow) => statusLabel[r.status], meta: { width: 156 } },
     { id: "via", header: "matched by", accessorFn: (r: RosterRow) => viaLabel(r.via) || null, meta: { width: 168 } },
     { id: "brainId", header: "brain-table id", accessorFn: (r: RosterRow) => r.brainId, meta: { width: 128 } },
     { id: "sheetId", header: "sheet id", accessorFn: (r: RosterRow) => r.sheetId, meta: { width: 112 } },
-    { id: "sessions", header: "sessions", accessorFn: (r: RosterRow) => (r.sessions.length > 0 ? r.sessions.join(", ") : null), meta: { width: 104 } },
+    ...sessions,
     ...sheetColumns.map((c, k) => ({
       id: `sheet-${k}`,
       header: c.name,

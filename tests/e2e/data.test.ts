@@ -253,6 +253,60 @@ it("columns that may hold direct identifiers must be dropped or kept with a writ
   }
 });
 
+it("a roster of 1,200 participants is read whole (two server pages) and paged, sorted and searched in the table", async () => {
+  const { page, context, errors } = await openPage(browser, wide);
+  try {
+    await page.goto(`${server.url}/sign-in`);
+    await page.getByRole("button", { name: "Sign in as the demo analyst" }).click();
+    await page.waitForURL(/\/studies$/);
+    await page.getByTestId("new-study").click();
+    await page.getByTestId("study-name").fill("Large roster check");
+    await page.getByTestId("create-study").click();
+    await page.waitForURL(/\/studies\/[^/]+\/data$/);
+    await page.getByTestId("versions-brain").getByText("No brain table yet.").waitFor();
+    await page.getByTestId("join-report").getByText("Upload and confirm both a brain table and a participant sheet").waitFor();
+
+    // Invented values by plain arithmetic: 1,200 participants, two regions, a group and an age.
+    const n = 1200;
+    const ids = Array.from({ length: n }, (_, i) => `sub-${String(i + 1).padStart(4, "0")}`);
+    const brain = ["participant_id,left_area,right_area", ...ids.map((id, i) => `${id},${((i * 37) % 101) / 100},${((i * 53) % 97) / 100}`)].join("\n");
+    const sheet = ["participant_id\tgroup\tage", ...ids.map((id, i) => `${id}\t${i % 2 === 0 ? "patient" : "control"}\t${20 + (i % 45)}`)].join("\n");
+    const upload = page.getByTestId("upload");
+    for (const [kind, name, text] of [
+      ["Brain table", "large-brain.csv", brain],
+      ["Participant sheet", "large-participants.tsv", sheet],
+    ] as const) {
+      await chooseKind(page, kind);
+      await upload.getByTestId("upload-file").setInputFiles({ name, mimeType: "text/plain", buffer: Buffer.from(`${text}\n`) });
+      await upload.getByTestId("upload-submit").click();
+      await page.getByTestId("upload-preview").getByTestId("confirm-upload").click();
+      await page.getByTestId("upload-stored").getByText(`Stored ${name} as version 1`).waitFor();
+    }
+
+    const report = page.getByTestId("join-report");
+    await expect(report.getByTestId("count-matched").innerText()).resolves.toMatch(/^1,200\s+matched$/);
+    const roster = page.getByTestId("roster-table");
+    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe("rows 1–25 of 1,200");
+    await roster.getByRole("button", { name: "Next page" }).click();
+    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe("rows 26–50 of 1,200");
+    await roster.getByRole("textbox", { name: "Search Roster" }).fill("sub-1199");
+    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe("row 1 of 1 (of 1,200 in all)");
+    await roster.getByRole("row").filter({ hasText: "sub-1199" }).getByText("patient").waitFor();
+    await roster.getByRole("textbox", { name: "Search Roster" }).fill("");
+    await roster.getByRole("button", { name: "age, sort descending" }).click(); // numeric columns sort largest first on the first press
+    await roster.getByRole("button", { name: "age, sort ascending" }).waitFor();
+    await expect(roster.getByRole("row").nth(2).innerText()).resolves.toMatch(/^sub-0045\s[\s\S]*\b64$/); // (exact: the first index with i mod 45 = 44; ties keep roster order)
+    await roster.getByRole("textbox", { name: "Filter age" }).fill(">= 64");
+    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe("rows 1–25 of 26 (of 1,200 in all)"); // (exact count: age 64 when i mod 45 = 44, i < 1200: 26 values)
+    await roster.scrollIntoViewIfNeeded();
+    await screenshot(page, "data-wide-large-roster");
+    // The reliability section below the roster answers 409 while the brain table has no sessions to compare (its "not available" state).
+    expect(errors.filter((e) => !/^response: 409 GET \/api\/studies\/[^/]+\/reliability$/.test(e))).toEqual([]);
+  } finally {
+    await context.close();
+  }
+});
+
 it("reads well at wide size: versions side by side, an older version's rows, the report and the roster", async () => {
   const { page, context, errors } = await openPage(browser, wide);
   try {
@@ -270,5 +324,47 @@ it("reads well at wide size: versions side by side, an older version's rows, the
     expect(errors).toEqual([]);
   } finally {
     await context.close();
+  }
+});
+
+it("a Viewer of a restricted study sees the counts and versions, never participant rows, and no upload", async () => {
+  const owner = await openPage(browser, wide);
+  const viewer = await openPage(browser, phone);
+  try {
+    await owner.page.goto(`${server.url}/sign-in`);
+    await owner.page.getByRole("button", { name: "Sign in as the demo owner" }).click();
+    await owner.page.waitForURL(/\/studies$/);
+    await owner.page.getByRole("link", { name: /\(demo\), your role: owner/ }).click();
+    await owner.page.waitForURL(/\/studies\/[^/]+\/data$/);
+    await owner.page.getByRole("tab", { name: "Team" }).click();
+    await owner.page.getByRole("switch", { name: "Restrict participant-level rows" }).click();
+    await owner.page.getByText("Participant rows restricted").waitFor();
+
+    const { page } = viewer;
+    await page.goto(`${server.url}/sign-in`);
+    await page.getByRole("button", { name: "Sign in as the demo viewer" }).click();
+    await page.waitForURL(/\/studies$/);
+    await page.getByRole("link", { name: /\(demo\), your role: viewer/ }).click();
+    await page.waitForURL(/\/studies\/[^/]+\/data$/);
+    const report = page.getByTestId("join-report");
+    await report.getByTestId("counts-only").waitFor();
+    await expect(report.getByTestId("count-matched").innerText()).resolves.toMatch(/^70\s+matched$/);
+    await expect(report.getByTestId("near-miss").count()).resolves.toBe(0);
+    await expect(report.getByTestId("only-in-brain-table").count()).resolves.toBe(0);
+    await page.getByTestId("roster-restricted").waitFor();
+    await expect(page.getByTestId("roster-table").count()).resolves.toBe(0);
+    await expect(page.getByTestId("roster-csv").count()).resolves.toBe(0);
+    await expect(page.getByTestId("upload").count()).resolves.toBe(0);
+    await page.getByText("Owners and Analysts upload data; your role reads it.").waitFor();
+    await page.getByRole("button", { name: "Read rows of version 2 of the brain table" }).click();
+    await page.getByTestId("version-reader").getByText("This study restricts participant-level rows").waitFor();
+    await expect(page.getByTestId("version-rows-table").count()).resolves.toBe(0);
+    await page.getByTestId("roster-restricted").scrollIntoViewIfNeeded();
+    await screenshot(page, "data-phone-viewer-restricted");
+    expect(owner.errors).toEqual([]);
+    expect(viewer.errors).toEqual([]);
+  } finally {
+    await owner.context.close();
+    await viewer.context.close();
   }
 });

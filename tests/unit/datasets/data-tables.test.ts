@@ -69,6 +69,11 @@ describe("roster columns", () => {
     expect(columns.slice(0, 7).map((c) => read(c, lonely))).toEqual(["sub-72", "only in sheet", null, null, "sub-72", null, null]); // (missing values read as missing)
     expect(viaLabel("rule")).toBe("id rule"); // (product wording)
   });
+
+  it("leaves the sessions column out when the brain table has no sessions", () => {
+    const without = rosterColumns([{ name: "age", type: "number" }], { sessions: false }) as Readable<RosterRow>[];
+    expect(without.map((c) => c.header)).toEqual(["participant", "status", "matched by", "brain-table id", "sheet id", "age"]); // (product rule)
+  });
 });
 
 describe("sizes and hashes", () => {
