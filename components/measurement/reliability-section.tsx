@@ -37,7 +37,7 @@ function BrainReliabilityCard(props: { studyId: string }) {
       { accessorKey: "icc31", header: "ICC(3,1)", meta: { numeric: true, decimals: 2, width: 88 } },
       { accessorKey: "icc31Interval", header: "95% CI", meta: { width: 150, label: "ICC(3,1) 95% confidence interval" }, enableSorting: false },
       { accessorKey: "icc21", header: "ICC(2,1)", meta: { numeric: true, decimals: 2, width: 88 } },
-      { accessorKey: "icc21Interval", header: "95% CI ", meta: { width: 150, label: "ICC(2,1) 95% confidence interval" }, enableSorting: false },
+      { accessorKey: "icc21Interval", header: "95% CI", meta: { width: 150, label: "ICC(2,1) 95% confidence interval" }, enableSorting: false },
     ],
     [],
   );
@@ -81,6 +81,10 @@ function TraitReliabilityCard(props: { studyId: string; canEdit: boolean }) {
   const traits = useTraitReliabilities(props.studyId);
   const roster = useRoster(props.studyId);
   const numericColumns = useMemo(() => (roster.data?.report.columns ?? []).filter((c) => c.type === "number").map((c) => c.name), [roster.data]);
+  // Kept here, not in the form: a save refreshes the list, which mounts the form afresh
+  // (and a mutation's per-call callbacks only reach the component that is still mounted).
+  const save = useSaveTraitReliabilities(props.studyId);
+  const [saved, setSaved] = useState(false);
   return (
     <Card testID="trait-reliabilities">
       <Heading level={2}>Trait reliabilities</Heading>
@@ -98,7 +102,21 @@ function TraitReliabilityCard(props: { studyId: string; canEdit: boolean }) {
         ) : numericColumns.length === 0 && traits.data.length === 0 ? (
           <Notice>Upload a participant sheet with numeric traits to state their reliabilities.</Notice>
         ) : (
-          <TraitForm key={traits.data.map((t) => `${t.column}:${t.updatedAt}`).join("|")} studyId={props.studyId} saved={traits.data} numericColumns={numericColumns} />
+          <>
+            <TraitForm
+              key={traits.data.map((t) => `${t.column}:${t.updatedAt}`).join("|")}
+              save={save}
+              saved={traits.data}
+              numericColumns={numericColumns}
+              onSaved={() => setSaved(true)}
+              onEdit={() => setSaved(false)}
+            />
+            {saved ? (
+              <Notice tone="success" testID="trait-saved">
+                Saved. The change is recorded in the study's activity.
+              </Notice>
+            ) : null}
+          </>
         )
       ) : traits.data.length === 0 ? (
         <Notice>No trait reliability has been stated yet. Owners and Analysts state them.</Notice>
@@ -127,20 +145,25 @@ const newKey = () => {
   return `row-${nextKey}`;
 };
 
-function TraitForm(props: { studyId: string; saved: readonly TraitReliability[]; numericColumns: readonly string[] }) {
-  const save = useSaveTraitReliabilities(props.studyId);
+function TraitForm(props: {
+  save: ReturnType<typeof useSaveTraitReliabilities>;
+  saved: readonly TraitReliability[];
+  numericColumns: readonly string[];
+  onSaved: () => void;
+  onEdit: () => void;
+}) {
+  const save = props.save;
   const [drafts, setDrafts] = useState<TraitDraft[]>(() =>
     props.saved.map((t) => ({ key: newKey(), column: t.column, reliability: String(t.reliability), source: t.source })),
   );
   const [problems, setProblems] = useState<DraftProblems>({});
-  const [saved, setSaved] = useState(false);
   const options = useMemo(() => {
     const names = [...new Set([...props.numericColumns, ...drafts.map((d) => d.column).filter((c) => c !== "")])];
     return names.map((name) => ({ value: name, label: name }));
   }, [props.numericColumns, drafts]);
 
   const change = (key: string, patch: Partial<TraitDraft>) => {
-    setSaved(false);
+    props.onEdit();
     setDrafts((list) => list.map((d) => (d.key === key ? { ...d, ...patch } : d)));
   };
   const submit = () => {
@@ -148,7 +171,7 @@ function TraitForm(props: { studyId: string; saved: readonly TraitReliability[];
     setProblems(checked.problems);
     if (checked.entries === null) return;
     save.mutate(checked.entries, {
-      onSuccess: () => setSaved(true),
+      onSuccess: () => props.onSaved(),
       onError: (e) => {
         if (e instanceof ApiError) setProblems(problemsFromDetails(drafts, e.details));
       },
@@ -184,7 +207,15 @@ function TraitForm(props: { studyId: string; saved: readonly TraitReliability[];
             error={problems[d.key]?.source ?? null}
             testID={`trait-source-${i}`}
           />
-          <Button label="Remove" variant="quiet" onPress={() => setDrafts((list) => list.filter((x) => x.key !== d.key))} accessibilityLabel={`Remove ${d.column || "this trait"}`} />
+          <Button
+            label="Remove"
+            variant="quiet"
+            onPress={() => {
+              props.onEdit();
+              setDrafts((list) => list.filter((x) => x.key !== d.key));
+            }}
+            accessibilityLabel={`Remove ${d.column || "this trait"}`}
+          />
         </View>
       ))}
       <View style={styles.actions}>
@@ -192,7 +223,7 @@ function TraitForm(props: { studyId: string; saved: readonly TraitReliability[];
           label="Add a trait"
           variant="secondary"
           onPress={() => {
-            setSaved(false);
+            props.onEdit();
             setDrafts((list) => [...list, { key: newKey(), column: "", reliability: "", source: "" }]);
           }}
           testID="trait-add"
@@ -201,11 +232,6 @@ function TraitForm(props: { studyId: string; saved: readonly TraitReliability[];
       </View>
       {save.isError && !(save.error instanceof ApiError && Array.isArray(save.error.details)) ? (
         <Notice tone="danger">{save.error instanceof Error ? save.error.message : "The trait reliabilities could not be saved."}</Notice>
-      ) : null}
-      {saved ? (
-        <Notice tone="success" testID="trait-saved">
-          Saved. The change is recorded in the study's activity.
-        </Notice>
       ) : null}
     </View>
   );

@@ -6,13 +6,13 @@
 import { describe, expect, it } from "vitest";
 import { ChartInputError } from "../../../components/charts/chart-input-error";
 import { attenuationWords } from "../../../components/fit/attenuation-words";
-import { tau2MethodName, varianceShareRows, varianceSharesMethod } from "../../../components/fit/variance-shares-layout";
+import { type VarianceShareInput, tau2MethodName, varianceShareRows, varianceSharesMethod } from "../../../components/fit/variance-shares-layout";
 import { checkTraitDrafts, intervalText, parseReliability, problemsFromDetails, reliabilityRows } from "../../../components/measurement/reliability-rows";
 import { ApiError } from "../../../hooks/api";
 import { fetchBrainReliability } from "../../../hooks/use-reliability";
 
 describe("variance shares", () => {
-  const region = { region: "L_insula", tau2: 0.0312, i2: 0.41, noiseShare: 0.62, trueShare: 0.38, tau2Method: "reml" as const };
+  const region: VarianceShareInput = { region: "L_insula", tau2: 0.0312, i2: 0.41, noiseShare: 0.62, trueShare: 0.38, tau2Method: "reml" };
 
   it("words each bar and names the method under it", () => {
     const [row] = varianceShareRows([region]);
