@@ -1,10 +1,11 @@
 /**
- * Exports of a finished fit (409 until it is done):
+ * Exports of a fit:
  *
- * GET /api/fits/:fitId/regions.csv  → the region table as CSV (attachment)
- * GET /api/fits/:fitId/recipe.json  → the recipe as stored (attachment); 403 for callers without
- *                                     `fits.participants.read` (it names set-aside participants and id mappings)
- * GET /api/fits/:fitId/methods      → { text, references: [{ key, citation }], cautions }
+ * GET /api/fits/:fitId/regions.csv  → the region table as CSV (attachment); 409 until the fit is done
+ * GET /api/fits/:fitId/recipe.json  → the recipe as stored (attachment; fixed when the fit is created, so
+ *                                     available at once); 403 for callers without `fits.participants.read`
+ *                                     (it names set-aside participants and id mappings)
+ * GET /api/fits/:fitId/methods      → { text, references: [{ key, citation }], cautions }; 409 until the fit is done
  *
  * All carry `fits.export`. Routes under /fits/:fitId find the fit's study
  * before checking rights, so a fit of another study answers 404.

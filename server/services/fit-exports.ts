@@ -39,7 +39,11 @@ export function exportFileName(fit: Pick<Fit, "id">, what: "regions.csv" | "reci
 function inferenceOf(r: RegionResult, fallback: string): string {
   const perm = r.permutation as { scheme?: string; exact?: boolean; rearrangements?: number } | undefined;
   if (perm && typeof perm.rearrangements === "number") {
-    return `permutation (${perm.scheme ?? "rearrangement"}, ${perm.rearrangements} rearrangements, ${perm.exact ? "exact" : "Monte Carlo"})`;
+    // `rearrangements` counts the observed order too (server/stats/permutation.ts).
+    const scheme = perm.scheme ?? "rearrangement";
+    return perm.exact
+      ? `permutation (${scheme}, all ${perm.rearrangements} rearrangements, exact)`
+      : `permutation (${scheme}, ${perm.rearrangements - 1} random rearrangements plus the observed order, Monte Carlo)`;
   }
   const boot = r.bootstrap as { method?: string; resamples?: number } | undefined;
   if (boot && typeof boot.resamples === "number") return `bootstrap (${boot.method === "bca" ? "BCa" : "percentile"}, ${boot.resamples} resamples)`;
