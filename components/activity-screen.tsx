@@ -126,6 +126,10 @@ export function describeEvent(event: ActivityEvent): string {
       return `ran a fit of “${field(after, "modelName") ?? "a model"}” (seed ${field(after, "seed") ?? "?"}, ${field(after, "setAside") ?? 0} set aside)`;
     case "fit.cancelled":
       return "cancelled a fit";
+    case "fit.approved":
+      return "approved a fit for sealing";
+    case "fit.sealed":
+      return `sealed a fit (SHA-256 ${(field(after, "sha256") ?? "").slice(0, 12)}…)`;
     default:
       return event.kind.replace(/[._]/g, " ");
   }

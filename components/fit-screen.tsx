@@ -9,6 +9,7 @@ import { ForestPlot } from "./charts/forest-plot";
 import { RegionTable } from "./fit/region-table";
 import { RegionDetailPanel } from "./fit/region-detail";
 import { ProgressBar } from "./fit/progress-bar";
+import { PublishPanel } from "./fit/publish-panel";
 import { methodOf, questionOf, regionsOf } from "./fit/describe-model";
 import { Badge, Button, Card, Failure, Heading, Notice, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
@@ -77,6 +78,7 @@ function FitBody({ fit, canRun, canSetAside }: { fit: FitView; canRun: boolean; 
             {fit.model.caution}
           </Notice>
         ) : null}
+        {fit.status === "done" ? <PublishPanel fit={fit} /> : null}
       </Card>
 
       {fit.status === "queued" || fit.status === "running" ? (

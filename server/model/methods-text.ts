@@ -242,7 +242,7 @@ function dataSentences(input: MethodsInput, spec: ModelSpec): string[] {
   return out;
 }
 
-function regionWords(spec: ModelSpec, regionCount: number): string {
+function regionWords(regionCount: number): string {
   return regionCount === 1 ? "one region" : `each of ${count(regionCount, "region")}`;
 }
 
@@ -251,7 +251,7 @@ function covariateWords(spec: ModelSpec): string {
 }
 
 function modelSentences(spec: ModelSpec, regionCount: number, c: Citations): string[] {
-  const where = regionWords(spec, regionCount);
+  const where = regionWords(regionCount);
   const cov = covariateWords(spec);
   const hasCov = spec.covariates.length > 0;
   const weighted = spec.weights === "first-level-se";
