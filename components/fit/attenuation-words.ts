@@ -18,6 +18,8 @@ export interface AttenuationInput {
   reliabilityBrainForm?: string;
   reliabilityTrait: number;
   traitSource: string;
+  /** When the trait's reliability was stated (ISO time). */
+  traitStatedAt?: string;
   /** The trait's column name. */
   trait?: string;
   observed: number;

@@ -12,7 +12,9 @@
  *   the reliability that matters here.
  * - Trait reliability: the study's stated value for the fit's predictor,
  *   with its source (read when the fit is shown, so a value stated after
- *   the fit still applies; the attenuation object names both inputs).
+ *   the fit still applies; the attenuation object names both inputs and
+ *   when the trait's value was stated). It is an annotation beside the
+ *   result: a sealed fit's stored result and its seal hash do not include it.
  *
  * Computed for association fits with estimator "ols", no weights and no
  * interaction (the observed r is then Pearson's r, or the partial r with
@@ -40,6 +42,8 @@ export interface Attenuation {
   /** The trait's stated reliability and its source. */
   reliabilityTrait: number;
   traitSource: string;
+  /** When the trait's reliability was stated (it is read when the fit is shown, not stored with the fit). */
+  traitStatedAt: string;
   trait: string;
   observed: number;
   observedCiLow: number;
@@ -69,7 +73,7 @@ export function attenuationApplies(spec: Pick<ModelSpec, "kind" | "estimator" | 
 function attenuationOf(
   region: RegionResult,
   brain: RegionReliability,
-  trait: { name: string; reliability: number; source: string },
+  trait: { name: string; reliability: number; source: string; statedAt: string },
   otherColumns: number,
 ): Attenuation | null {
   const r = region.r;
@@ -86,6 +90,7 @@ function attenuationOf(
       reliabilityBrainForm: "ICC(3,1)",
       reliabilityTrait: trait.reliability,
       traitSource: trait.source,
+      traitStatedAt: trait.statedAt,
       trait: trait.name,
       observed: a.observed,
       observedCiLow: a.observedCiLow,

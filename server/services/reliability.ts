@@ -90,10 +90,10 @@ export async function listTraitReliabilities(db: Queryable, studyId: string): Pr
   }));
 }
 
-/** Stated reliability and source per column (for attenuation). */
-export async function traitReliabilityMap(db: Queryable, studyId: string): Promise<Map<string, { reliability: number; source: string }>> {
+/** Stated reliability, source and time of statement per column (for attenuation). */
+export async function traitReliabilityMap(db: Queryable, studyId: string): Promise<Map<string, { reliability: number; source: string; statedAt: string }>> {
   const rows = await db.select().from(traitReliabilities).where(eq(traitReliabilities.studyId, studyId));
-  return new Map(rows.map((r) => [r.column, { reliability: r.reliability, source: r.source }]));
+  return new Map(rows.map((r) => [r.column, { reliability: r.reliability, source: r.source, statedAt: r.updatedAt.toISOString() }]));
 }
 
 /**

@@ -300,6 +300,7 @@ describe("attenuation beside association results", () => {
     rCiLow: number;
     attenuation?: {
       reliabilityBrain: number;
+      traitStatedAt: string;
       ceiling: number;
       disattenuated: number;
       observedCiLow: number;
@@ -352,6 +353,7 @@ describe("attenuation beside association results", () => {
       if (!a) throw new Error(`${r.region}: no attenuation`);
       carried += 1;
       expect(a).toMatchObject({ reliabilityBrain: icc31, reliabilityBrainForm: "ICC(3,1)", reliabilityTrait: 0.81, traitSource: "test–retest r = .81, task manual", trait: "accuracy", observed: r.r });
+      expect(Number.isNaN(Date.parse(a.traitStatedAt))).toBe(false);
       // (exact algebra: Spearman 1904, ceiling √(rel_brain · rel_trait), corrected r = r / ceiling)
       const ceiling = Math.sqrt(icc31 * 0.81);
       expect(a.ceiling).toBeCloseTo(ceiling, 12);
