@@ -9,6 +9,8 @@ import { ForestPlot } from "./charts/forest-plot";
 import { RegionTable } from "./fit/region-table";
 import { RegionDetailPanel } from "./fit/region-detail";
 import { ProgressBar } from "./fit/progress-bar";
+import { VarianceShares } from "./fit/variance-shares";
+import type { VarianceShareInput } from "./fit/variance-shares-layout";
 import { PublishPanel } from "./fit/publish-panel";
 import { methodOf, questionOf, regionsOf } from "./fit/describe-model";
 import { Badge, Button, Card, Failure, Heading, Notice, Pending, Txt } from "./ui";
@@ -110,6 +112,12 @@ function FitBody({ fit, canRun, canSetAside }: { fit: FitView; canRun: boolean; 
                 testID="forest-plot"
               />
             </Card>
+            {spec?.weights === "first-level-se" ? (
+              <Card>
+                <Heading level={3}>Measurement noise and true differences</Heading>
+                <VarianceShares regions={varianceRows(regions, spec.tau2Method)} testID="variance-shares" />
+              </Card>
+            ) : null}
             {(fit.result?.notes as string[] | undefined)?.length ? (
               <Txt kind="caption" style={{ color: palette.muted }}>
                 {(fit.result?.notes as string[]).join(" ")}
@@ -121,6 +129,13 @@ function FitBody({ fit, canRun, canSetAside }: { fit: FitView; canRun: boolean; 
       ) : null}
     </View>
   );
+}
+
+/** The weighted fit's per-region variance components, for the shares plot (regions without them are left out). */
+function varianceRows(regions: readonly RegionResult[], tau2Method: "dl" | "reml"): VarianceShareInput[] {
+  return regions
+    .filter((r) => typeof r.tau2 === "number" && typeof r.noiseShare === "number" && typeof r.trueShare === "number")
+    .map((r) => ({ region: r.region, tau2: r.tau2 as number, i2: (r.i2 as number | undefined) ?? 0, noiseShare: r.noiseShare as number, trueShare: r.trueShare as number, tau2Method }));
 }
 
 const styles = StyleSheet.create({

@@ -14,6 +14,8 @@ import { LeveragePlot } from "../charts/leverage-plot";
 import { NullHistogram } from "../charts/null-histogram";
 import { formatValue } from "../charts/number-format";
 import { pPhrase } from "./p-text";
+import { AttenuationNote } from "./attenuation-note";
+import type { AttenuationInput } from "./attenuation-words";
 import { DataTable } from "../tables/data-table";
 import { Choice } from "../choice";
 import { Badge, Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "../ui";
@@ -34,6 +36,12 @@ export function RegionDetailPanel(props: { fit: FitView; region: string; canSetA
     <View style={styles.root} testID="region-detail">
       <Heading level={2}>{d.region}</Heading>
       <Summary detail={d} />
+      {d.result.attenuation ? (
+        <Card>
+          <Heading level={3}>Reliability and the largest observable correlation</Heading>
+          <AttenuationNote attenuation={d.result.attenuation as AttenuationInput} testID="attenuation-note" />
+        </Card>
+      ) : null}
       {d.points ? <DataPlot detail={d} selected={selected} onSelect={setSelected} /> : <Notice>This study restricts participant-level rows: the plots are not shown to Viewers.</Notice>}
       {point ? <ParticipantCard fit={props.fit} detail={d} point={point} canSetAside={props.canSetAside} onClose={() => setSelected(null)} /> : null}
       <PreviewCard fit={props.fit} region={d.region} canRun={props.canRun} enabled={props.canSetAside} />

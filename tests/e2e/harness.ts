@@ -100,6 +100,15 @@ export async function launchBrowser(): Promise<Browser> {
 }
 
 /**
+ * Answers that are states, not failures: 401 from /api/me is "signed out";
+ * 409 from a study's /reliability is "no sessions to compare" (the screen
+ * shows it as such).
+ */
+function expectedRefusal(status: number, path: string): boolean {
+  return (status === 401 && path === "/api/me") || (status === 409 && /^\/api\/studies\/[^/]+\/reliability$/.test(path));
+}
+
+/**
  * A fresh page (own cookies) at the given size that records page errors,
  * console errors and failed responses. A 401 from `/api/me` is the signed-out
  * answer, not an error; the browser's own "Failed to load resource" console
@@ -115,7 +124,7 @@ export async function openPage(browser: Browser, viewport: { width: number; heig
   });
   page.on("response", (response) => {
     const path = new URL(response.url()).pathname;
-    if (response.status() >= 400 && !(response.status() === 401 && path === "/api/me")) {
+    if (response.status() >= 400 && !expectedRefusal(response.status(), path)) {
       errors.push(`response: ${response.status()} ${response.request().method()} ${path}`);
     }
   });
