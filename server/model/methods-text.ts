@@ -105,6 +105,8 @@ export interface MethodsInput {
   } | null;
   /** Participants in the brain table (used without a sheet). */
   brainParticipants: number;
+  /** The session whose values were fitted when the brain table has several, else null. */
+  session?: { label: string; of: number } | null;
   /** The program's name (default "Covarion"). */
   softwareName?: string;
 }
@@ -210,6 +212,9 @@ function dataSentences(input: MethodsInput, spec: ModelSpec): string[] {
     out.push(sentence);
   } else {
     out.push(`Contrast values were read from ${brainText}, ${count(input.brainParticipants, "participant")}; no participant sheet was used.`);
+  }
+  if (input.session && input.session.of > 1 && spec.kind !== "reliability") {
+    out.push(`The brain table holds ${count(input.session.of, "session")}; values from session ${quoted(input.session.label)} were analysed.`);
   }
   const asides = spec.setAside;
   if (asides.length === 0) {

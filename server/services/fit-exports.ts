@@ -151,6 +151,7 @@ export async function methodsOf(db: Queryable, fit: Fit, softwareName = "Covario
           }
         : null,
     brainParticipants: built.data.participants.length,
+    session: built.session === null ? null : { label: built.session, of: built.data.sessions?.labels.length ?? 1 },
     softwareName,
   };
   return buildMethodsText(input);

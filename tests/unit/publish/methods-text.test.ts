@@ -195,3 +195,14 @@ describe("methods paragraph", () => {
     expect(() => buildMethodsText(input({ kind: "one-sample" }, []))).toThrow("the fit's result has no regions");
   });
 });
+
+describe("methods paragraph: sessions", () => {
+  it("names the session analysed when the brain table holds several, and not otherwise", () => {
+    const two = buildMethodsText(input({ kind: "one-sample" }, [region("a", 70)], { session: { label: "1", of: 2 } }));
+    expect(two.text).toContain("The brain table holds two sessions; values from session “1” were analysed.");
+    const one = buildMethodsText(input({ kind: "one-sample" }, [region("a", 70)], { session: { label: "1", of: 1 } }));
+    expect(one.text).not.toContain("session");
+    const reliability = buildMethodsText(input({ kind: "reliability" }, [region("a", 16)], { session: { label: "1", of: 2 } }));
+    expect(reliability.text).not.toContain("values from session");
+  });
+});
