@@ -280,8 +280,9 @@ export class FitJobs {
 
   /**
    * Stores a finished fit: the per-region rows first, one statement per
-   * region outside any transaction (so readers are never held up behind
-   * one long write), then, in one short transaction, the result and status
+   * region outside any transaction, yielding to the event loop after each
+   * (so readers are never held up behind one long write), then, in one
+   * short transaction, the result and status
    * "done" — unless the fit was cancelled meanwhile, in which case its
    * rows are removed again. Rows left by an interrupted earlier run of the
    * same fit are replaced.
@@ -291,6 +292,8 @@ export class FitJobs {
     for (const [position, r] of outcome.regions.entries()) {
       if (run.controller.signal.aborted) break;
       await this.db.insert(fitRegions).values({ fitId, position, region: r.region, participants: r.participants, plot: r.plot });
+      // The embedded database answers within microtasks: yield to the event loop so requests are served between regions.
+      await new Promise<void>((resolve) => setImmediate(resolve));
     }
     const done = await this.db.transaction(async (tx) => {
       const [row] = await tx.select({ status: fits.status }).from(fits).where(eq(fits.id, fitId)).for("update");

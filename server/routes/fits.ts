@@ -23,7 +23,7 @@ import { authorize, authorizedStudy, roleMay, type StudyOf } from "../auth/permi
 import { signedInUser } from "../auth/session";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import type { FitEvent, FitJobs } from "../jobs/fit-jobs";
-import { cancelFit, createFit, findFit, fitView, listFits, previewRegion, regionDetail, studyOfFit } from "../services/fits";
+import { cancelFit, createFit, findFit, listFits, loadFitView, previewRegion, regionDetail, studyOfFit } from "../services/fits";
 import type { RouteDeps } from "./deps";
 import { studyParams } from "./studies";
 
@@ -62,8 +62,7 @@ export function fitRoutes(deps: RouteDeps, jobs: FitJobs, options: FitRouteOptio
   });
 
   router.get("/fits/:fitId", authorize("fits.read", { studyOf: fitStudy }), validate(read), async (_req, res) => {
-    const fit = await findFit(deps.db, authorizedStudy(res).study.id, parsed(res, read).params.fitId);
-    res.json(await fitView(deps.db, jobs, fit, participantsVisible(res)));
+    res.json(await loadFitView(deps.db, jobs, authorizedStudy(res).study.id, parsed(res, read).params.fitId, participantsVisible(res)));
   });
 
   router.get("/fits/:fitId/events", authorize("fits.read", { studyOf: fitStudy }), validate(read), async (req, res) => {
@@ -95,7 +94,7 @@ export function fitRoutes(deps: RouteDeps, jobs: FitJobs, options: FitRouteOptio
     }
     req.on("close", end);
     // The current state, read after subscribing so no change falls between the two.
-    const current = await fitView(deps.db, jobs, await findFit(deps.db, studyId, fitId), false);
+    const current = await loadFitView(deps.db, jobs, studyId, fitId, false);
     send("status", { id: current.id, status: current.status, progress: current.progress, error: current.error });
   });
 

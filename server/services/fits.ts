@@ -16,6 +16,7 @@
  * callers without `fits.participants.read` (Viewers of a restricted study).
  */
 import { and, desc, eq, inArray } from "drizzle-orm";
+import { alias } from "drizzle-orm/pg-core";
 import type { Database, Queryable } from "../../db/client";
 import { datasetVersions, fitRegions, fits, models, users, type Fit, type FitStatus, type Study } from "../../db/schema";
 import { conflict, notFound } from "../http/errors";
@@ -96,7 +97,7 @@ export async function findFit(db: Queryable, studyId: string, fitId: string): Pr
   return row;
 }
 
-function progressOf(fit: Fit, jobs: FitJobs): FitProgress {
+function progressOf(fit: Pick<Fit, "id" | "status" | "progress" | "secondsLeft">, jobs: FitJobs): FitProgress {
   if (fit.status === "running") {
     const live = jobs.live(fit.id);
     if (live) return live;
@@ -104,41 +105,57 @@ function progressOf(fit: Fit, jobs: FitJobs): FitProgress {
   return { fraction: fit.status === "done" ? 1 : fit.progress, secondsLeft: fit.status === "running" ? fit.secondsLeft : null };
 }
 
-async function summaries(db: Queryable, jobs: FitJobs, rows: readonly Fit[]): Promise<FitSummaryView[]> {
-  if (rows.length === 0) return [];
-  const modelIds = [...new Set(rows.map((f) => f.modelId))];
-  const people = [...new Set(rows.map((f) => f.createdBy))];
-  const [ms, who] = await Promise.all([
-    db.select({ id: models.id, name: models.name, deletedAt: models.deletedAt, circular: models.circular }).from(models).where(inArray(models.id, modelIds)),
-    db.select({ id: users.id, name: users.name }).from(users).where(inArray(users.id, people)),
-  ]);
-  const modelById = new Map(ms.map((m) => [m.id, m]));
-  const names = new Map(who.map((u) => [u.id, u.name]));
-  return rows.map((f) => {
-    const m = modelById.get(f.modelId);
-    return {
-      id: f.id,
-      studyId: f.studyId,
-      model: { id: f.modelId, name: m?.name ?? "", deleted: Boolean(m?.deletedAt), circular: m?.circular ?? false },
-      status: f.status,
-      progress: progressOf(f, jobs),
-      createdBy: { id: f.createdBy, name: names.get(f.createdBy) ?? null },
-      createdAt: f.createdAt.toISOString(),
-      startedAt: f.startedAt?.toISOString() ?? null,
-      finishedAt: f.finishedAt?.toISOString() ?? null,
-      error: f.error ? { code: f.errorCode ?? "failed", message: f.error } : null,
-    };
-  });
+/** The columns of a fit's summary (not its recipe or result, which can be large). */
+const summaryColumns = {
+  id: fits.id,
+  studyId: fits.studyId,
+  modelId: fits.modelId,
+  status: fits.status,
+  progress: fits.progress,
+  secondsLeft: fits.secondsLeft,
+  createdBy: fits.createdBy,
+  createdAt: fits.createdAt,
+  startedAt: fits.startedAt,
+  finishedAt: fits.finishedAt,
+  error: fits.error,
+  errorCode: fits.errorCode,
+  modelName: models.name,
+  modelDeletedAt: models.deletedAt,
+  modelCircular: models.circular,
+  creatorName: users.name,
+};
+
+type SummaryRow = {
+  [K in keyof typeof summaryColumns]: (typeof summaryColumns)[K]["_"]["notNull"] extends true
+    ? (typeof summaryColumns)[K]["_"]["data"]
+    : (typeof summaryColumns)[K]["_"]["data"] | null;
+};
+
+function summaryOf(row: SummaryRow, jobs: FitJobs): FitSummaryView {
+  return {
+    id: row.id,
+    studyId: row.studyId,
+    model: { id: row.modelId, name: row.modelName ?? "", deleted: Boolean(row.modelDeletedAt), circular: row.modelCircular ?? false },
+    status: row.status,
+    progress: progressOf(row, jobs),
+    createdBy: { id: row.createdBy, name: row.creatorName ?? null },
+    createdAt: row.createdAt.toISOString(),
+    startedAt: row.startedAt?.toISOString() ?? null,
+    finishedAt: row.finishedAt?.toISOString() ?? null,
+    error: row.error ? { code: row.errorCode ?? "failed", message: row.error } : null,
+  };
 }
 
-/** The study's fits, newest first (optionally of one model). */
+/** The study's fits, newest first (optionally of one model). One query. */
 export async function listFits(db: Queryable, jobs: FitJobs, studyId: string, options: { modelId?: string } = {}): Promise<FitSummaryView[]> {
   const rows = await db
-    .select()
+    .select(summaryColumns)
     .from(fits)
+    .leftJoin(models, eq(models.id, fits.modelId))
+    .leftJoin(users, eq(users.id, fits.createdBy))
     .where(and(eq(fits.studyId, studyId), options.modelId ? eq(fits.modelId, options.modelId) : undefined))
     .orderBy(desc(fits.createdAt), desc(fits.id));
-  return summaries(db, jobs, rows);
+  return rows.map((r) => summaryOf(r as SummaryRow, jobs));
 }
 
 const participantIdKeys = ["minWithout", "maxWithout", "rMinWithout", "rMaxWithout"] as const;
@@ -160,27 +177,51 @@ export function withoutParticipantIds(r: RegionResult): RegionResult {
   return out;
 }
 
-/** One fit as the API answers it. */
-export async function fitView(db: Queryable, jobs: FitJobs, fit: Fit, participantsVisible: boolean): Promise<FitView> {
-  const [summary] = await summaries(db, jobs, [fit]);
-  const versionIds = [fit.brainVersionId, ...(fit.sheetVersionId ? [fit.sheetVersionId] : [])];
-  const versions = await db
-    .select({ id: datasetVersions.id, version: datasetVersions.version, fileName: datasetVersions.fileName, sha256: datasetVersions.sha256 })
-    .from(datasetVersions)
-    .where(inArray(datasetVersions.id, versionIds));
-  const ref = (id: string): DatasetRef => versions.find((v) => v.id === id) ?? { id, version: 0, fileName: "", sha256: "" };
+const brainVersion = alias(datasetVersions, "brain_version");
+const sheetVersion = alias(datasetVersions, "sheet_version");
+
+/**
+ * One fit of the study as the API answers it, read in one query (the fit,
+ * its model, who ran it, its dataset versions); a finished fit adds its
+ * attenuation notes and its approval and seal. Throws 404.
+ */
+export async function loadFitView(db: Queryable, jobs: FitJobs, studyId: string, fitId: string, participantsVisible: boolean): Promise<FitView> {
+  const [row] = await db
+    .select({
+      ...summaryColumns,
+      fit: fits,
+      brain: { id: brainVersion.id, version: brainVersion.version, fileName: brainVersion.fileName, sha256: brainVersion.sha256 },
+      sheet: { id: sheetVersion.id, version: sheetVersion.version, fileName: sheetVersion.fileName, sha256: sheetVersion.sha256 },
+    })
+    .from(fits)
+    .leftJoin(models, eq(models.id, fits.modelId))
+    .leftJoin(users, eq(users.id, fits.createdBy))
+    .leftJoin(brainVersion, eq(brainVersion.id, fits.brainVersionId))
+    .leftJoin(sheetVersion, eq(sheetVersion.id, fits.sheetVersionId))
+    .where(and(eq(fits.id, fitId), eq(fits.studyId, studyId)));
+  if (!row) throw notFound("Fit not found.");
+  const { fit } = row;
+  const summary = summaryOf(row as unknown as SummaryRow, jobs);
+  const ref = (v: DatasetRef | null, id: string): DatasetRef => (v?.id ? v : { id, version: 0, fileName: "", sha256: "" });
   let result = fit.status === "done" ? (fit.result as FitResultSummary) : null;
   if (result && !participantsVisible) result = { ...result, regions: result.regions.map(withoutParticipantIds) };
   if (result) result = await attenuateResult(db, fit, result);
+  // Only a finished fit can be approved or sealed.
+  const publication: Publication = fit.status === "done" ? await publicationOf(db, fit) : { approval: null, seal: null };
   return {
     ...summary,
     model: { ...summary.model, caution: summary.model.circular ? circularityCaution : null },
-    datasets: { brain: ref(fit.brainVersionId), participants: fit.sheetVersionId ? ref(fit.sheetVersionId) : null },
+    datasets: { brain: ref(row.brain, fit.brainVersionId), participants: fit.sheetVersionId ? ref(row.sheet, fit.sheetVersionId) : null },
     participantsVisible,
     recipe: participantsVisible ? (fit.recipe as Record<string, unknown>) : null,
     result,
-    ...(await publicationOf(db, fit)),
+    ...publication,
   };
+}
+
+/** One fit as the API answers it (see loadFitView). */
+export async function fitView(db: Queryable, jobs: FitJobs, fit: Pick<Fit, "id" | "studyId">, participantsVisible: boolean): Promise<FitView> {
+  return loadFitView(db, jobs, fit.studyId, fit.id, participantsVisible);
 }
 
 /**
