@@ -6,9 +6,11 @@
  * requests — runs `runFit` off the request thread (server/jobs/fit-task.ts).
  * The main thread alone reads and writes the database (one process owns
  * it): it builds the fit's data from the versions its recipe names, hands
- * data and model to a worker, receives `started` and throttled `progress`
- * messages through a MessagePort, and writes status, progress (at most
- * every `progressWriteMs`), time left and finally the result.
+ * data and model to a worker, receives `started`, throttled `progress` and
+ * then one message per region (its diagnostics and plot data as JSON text)
+ * through a MessagePort, and writes status, progress (at most every
+ * `progressWriteMs`), time left, each region's rows as they arrive, and
+ * finally the result.
  *
  * Life cycle: queued → running → done | failed | cancelled. A statistical
  * precondition (StatsError, or an intake problem building the data) fails
@@ -80,6 +82,12 @@ interface Running {
   startedAt: number | null;
   progress: FitProgress;
   lastWrite: number;
+  /** Region rows are stored one after another as the worker sends them. */
+  storing: Promise<void>;
+  /** Resolves with the number of regions once the worker's last region is stored. */
+  stored: Promise<number>;
+  markStored: (count: number) => void;
+  storeFailed: (error: unknown) => void;
 }
 
 export class FitJobs {
@@ -113,7 +121,23 @@ export class FitJobs {
   enqueue(fitId: string): void {
     if (this.closed) throw new Error("FitJobs: closed");
     if (this.running.has(fitId)) return;
-    this.running.set(fitId, { controller: new AbortController(), startedAt: null, progress: { fraction: 0, secondsLeft: null }, lastWrite: 0 });
+    let markStored: (count: number) => void = () => {};
+    let storeFailed: (error: unknown) => void = () => {};
+    const stored = new Promise<number>((resolve, reject) => {
+      markStored = resolve;
+      storeFailed = reject;
+    });
+    stored.catch(() => {});
+    this.running.set(fitId, {
+      controller: new AbortController(),
+      startedAt: null,
+      progress: { fraction: 0, secondsLeft: null },
+      lastWrite: 0,
+      storing: Promise.resolve(),
+      stored,
+      markStored,
+      storeFailed,
+    });
     const job = this.execute(fitId).catch((error) => this.log(error, `fit ${fitId}`));
     this.pending.add(job);
     void job.finally(() => this.pending.delete(job));
@@ -219,29 +243,56 @@ export class FitJobs {
         return await this.fail(fitId, "data_unavailable", "The fit's data versions could not be read.");
       }
       if (run.controller.signal.aborted) return;
+      // Rows left by an interrupted earlier run of the same fit are replaced.
+      await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
       const channel = new MessageChannel();
-      channel.port1.on("message", (message: FitTaskMessage) => {
-        void this.onMessage(fitId, run, message).catch((error) => this.log(error, `fit ${fitId}: progress`));
-      });
+      channel.port1.on("message", (message: FitTaskMessage) => this.onMessage(fitId, run, message));
       const task: FitTask = { spec, data, port: channel.port2 };
       let outcome: FitTaskOutcome;
       try {
         outcome = (await this.getPool().run(task, { transferList: [channel.port2], signal: run.controller.signal })) as FitTaskOutcome;
+        if (outcome.ok) await run.stored;
       } catch (error) {
+        channel.port1.close();
+        await run.storing.catch(() => {});
+        await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
         if (run.controller.signal.aborted) return; // cancelled (already marked) or shutting down (left for recovery)
         this.log(error, `fit ${fitId}`);
         return await this.fail(fitId, "internal_error", INTERNAL_FAILURE);
-      } finally {
-        channel.port1.close();
       }
-      if (!outcome.ok) return await this.fail(fitId, outcome.code, outcome.message);
+      channel.port1.close();
+      if (!outcome.ok) {
+        await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
+        return await this.fail(fitId, outcome.code, outcome.message);
+      }
       await this.finish(fitId, run, outcome);
     } finally {
       this.running.delete(fitId);
     }
   }
 
-  private async onMessage(fitId: string, run: Running, message: FitTaskMessage): Promise<void> {
+  private onMessage(fitId: string, run: Running, message: FitTaskMessage): void {
+    if (message.type === "region") {
+      run.storing = run.storing.then(async () => {
+        if (run.controller.signal.aborted) return;
+        const { position, region, participants, plot } = message;
+        await this.db.insert(fitRegions).values({ fitId, position, region, participants, plot });
+        // The embedded database answers within microtasks: yield to the event loop so requests are served between regions.
+        await new Promise<void>((resolve) => setImmediate(resolve));
+      });
+      return;
+    }
+    if (message.type === "regions-done") {
+      run.storing.then(
+        () => run.markStored(message.count),
+        (error) => run.storeFailed(error),
+      );
+      return;
+    }
+    void this.onProgress(fitId, run, message).catch((error) => this.log(error, `fit ${fitId}: progress`));
+  }
+
+  private async onProgress(fitId: string, run: Running, message: Extract<FitTaskMessage, { type: "started" | "progress" }>): Promise<void> {
     const nowMs = this.clock().getTime();
     if (message.type === "started") {
       run.startedAt = nowMs;
@@ -279,22 +330,14 @@ export class FitJobs {
   }
 
   /**
-   * Stores a finished fit: the per-region rows first, one statement per
-   * region outside any transaction, yielding to the event loop after each
-   * (so readers are never held up behind one long write), then, in one
-   * short transaction, the result and status
-   * "done" — unless the fit was cancelled meanwhile, in which case its
-   * rows are removed again. Rows left by an interrupted earlier run of the
-   * same fit are replaced.
+   * Marks a fit done once its region rows are stored (they arrive one by
+   * one from the worker and are stored outside any transaction, yielding
+   * to the event loop after each, so readers are never held up behind one
+   * long write): in one short transaction, the result and status "done" —
+   * unless the fit was cancelled meanwhile, in which case its rows are
+   * removed again.
    */
   private async finish(fitId: string, run: Running, outcome: Extract<FitTaskOutcome, { ok: true }>): Promise<void> {
-    await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
-    for (const [position, r] of outcome.regions.entries()) {
-      if (run.controller.signal.aborted) break;
-      await this.db.insert(fitRegions).values({ fitId, position, region: r.region, participants: r.participants, plot: r.plot });
-      // The embedded database answers within microtasks: yield to the event loop so requests are served between regions.
-      await new Promise<void>((resolve) => setImmediate(resolve));
-    }
     const done = await this.db.transaction(async (tx) => {
       const [row] = await tx.select({ status: fits.status }).from(fits).where(eq(fits.id, fitId)).for("update");
       if (!row || terminal.includes(row.status) || run.controller.signal.aborted) return false;

@@ -5,12 +5,16 @@
  * (at 400 regions × 500 participants that is ~100 MB of JSON). Workers
  * compute only — no database, no files; the main thread writes everything.
  *
- * Messages on `port` (the main thread's end of a MessageChannel):
- * `{ type: "started" }` first, then `{ type: "progress", fraction }` at most
- * every PROGRESS_INTERVAL_MS (and at the end). A statistical precondition
- * comes back as `{ ok: false, code, message }` (the fit's reason for
- * failing); any other error is thrown (the main thread logs it). Cancel:
- * the main thread aborts the task and the pool ends the worker thread.
+ * Messages on `port` (the main thread's end of a MessageChannel), in order:
+ * `{ type: "started" }`; `{ type: "progress", fraction }` at most every
+ * PROGRESS_INTERVAL_MS; then one `{ type: "region", … }` per region of the
+ * result, as each is ready (so the main thread stores them one by one and
+ * never receives the whole at once); then `{ type: "regions-done", count }`.
+ * The task's return value is the result without its per-participant rows.
+ * A statistical precondition comes back as `{ ok: false, code, message }`
+ * (the fit's reason for failing); any other error is thrown (the main
+ * thread logs it). Cancel: the main thread aborts the task and the pool
+ * ends the worker thread.
  */
 import type { MessagePort } from "node:worker_threads";
 import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../model/spec";
@@ -26,18 +30,21 @@ export interface FitTask {
   port: MessagePort;
 }
 
-export type FitTaskMessage = { type: "started" } | { type: "progress"; fraction: number };
-
-/** One region's per-participant diagnostics and plot data, serialized here (JSON text) so the main thread only stores them. */
+/** One region's per-participant diagnostics and plot data, as JSON text. */
 export interface RegionRows {
+  position: number;
   region: string;
   participants: string;
   plot: string | null;
 }
 
-export type FitTaskOutcome =
-  | { ok: true; summary: Omit<FitResult, "participants">; regions: RegionRows[] }
-  | { ok: false; code: string; message: string };
+export type FitTaskMessage =
+  | { type: "started" }
+  | { type: "progress"; fraction: number }
+  | ({ type: "region" } & RegionRows)
+  | { type: "regions-done"; count: number };
+
+export type FitTaskOutcome = { ok: true; summary: Omit<FitResult, "participants"> } | { ok: false; code: string; message: string };
 
 export default function runFitTask(task: FitTask): FitTaskOutcome {
   const { port } = task;
@@ -60,7 +67,7 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
       list.push(d);
       byRegion.set(d.region, list);
     }
-    const regions: RegionRows[] = result.regions.map(({ region }) => {
+    result.regions.forEach(({ region }, position) => {
       const rows = byRegion.get(region) ?? [];
       let plot: RegionPlot | { error: string } | null = null;
       if (rows.length > 0) {
@@ -77,14 +84,13 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
           plot = { error: e.message };
         }
       }
-      return { region, participants: JSON.stringify(rows), plot: plot === null ? null : JSON.stringify(plot) };
+      post({ type: "region", position, region, participants: JSON.stringify(rows), plot: plot === null ? null : JSON.stringify(plot) });
     });
-    post({ type: "progress", fraction: 1 });
-    return { ok: true, summary, regions };
+    post({ type: "regions-done", count: result.regions.length });
+    return { ok: true, summary };
   } catch (e) {
     if (e instanceof StatsError) return { ok: false, code: e.code, message: e.message };
     throw e;
-  } finally {
-    port.close();
   }
+  // The port is left open: messages still queued on it must reach the main thread, which closes its end.
 }
