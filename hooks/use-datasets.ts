@@ -12,8 +12,12 @@ import { apiFetch, jsonBody } from "./api";
 import { activityKeys } from "./use-activity";
 import { rosterKeys } from "./use-roster";
 import { studyKeys } from "./use-studies";
+import type { DatasetKind, IdentifierDecisionRecord, StoredColumn } from "../db/schema";
+import type { IdentifierKind } from "../server/intake/identifiers";
+import type { DatasetView as DatasetVersion, PersonRef, RowsPage } from "../server/services/datasets";
 
-export type DatasetKind = "brain" | "participants";
+// The API's own view types, shared with the server (type-only: nothing of the server reaches the bundle).
+export type { DatasetKind, DatasetVersion, IdentifierDecisionRecord, IdentifierKind, PersonRef, RowsPage, StoredColumn };
 
 /** One problem of an uploaded file; `message` already names the file, row and column. */
 export interface IntakeProblem {
@@ -23,8 +27,6 @@ export interface IntakeProblem {
   code: string;
   message: string;
 }
-
-export type IdentifierKind = "name" | "birth-date" | "address" | "phone" | "email" | "record-number";
 
 export interface ColumnPreview {
   name: string;
@@ -37,12 +39,6 @@ export interface ColumnPreview {
   max?: number;
   note?: string;
   identifier?: { kind: IdentifierKind; reason: string };
-}
-
-export interface PersonRef {
-  id: string;
-  name: string | null;
-  email: string | null;
 }
 
 export interface UploadOptions {
@@ -84,57 +80,6 @@ export interface DatasetPreview {
   uploadedBy: PersonRef;
   uploadedAt: string;
   expiresAt: string;
-}
-
-export interface StoredColumn {
-  name: string;
-  type: "number" | "category" | "id";
-  role: string;
-  region?: string;
-  slot?: number;
-}
-
-export interface IdentifierDecisionRecord {
-  column: string;
-  kind: IdentifierKind;
-  decision: "dropped" | "kept";
-  reason?: string;
-}
-
-/** A stored, immutable version of a brain table or participant sheet. */
-export interface DatasetVersion {
-  id: string;
-  studyId: string;
-  kind: DatasetKind;
-  status: "confirmed";
-  version: number;
-  current: boolean;
-  fileName: string;
-  sha256: string;
-  byteSize: number;
-  delimiter: string;
-  layout: string | null;
-  idColumn: string;
-  sessionColumn: string | null;
-  seSuffix: string | null;
-  columns: StoredColumn[];
-  droppedColumns: string[];
-  identifierDecisions: IdentifierDecisionRecord[];
-  rowCount: number;
-  participantCount: number;
-  regions: string[] | null;
-  uploadedBy: PersonRef;
-  uploadedAt: string;
-  confirmedBy: PersonRef;
-  confirmedAt: string;
-}
-
-export interface RowsPage {
-  total: number;
-  offset: number;
-  limit: number;
-  /** Each row's spreadsheet row number and its cells, in the order of the version's `columns`. */
-  items: { row: number; cells: (string | number | null)[] }[];
 }
 
 /** A version with one page of its rows (`rows` null when the caller may not read participant-level rows). */

@@ -13,39 +13,11 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { apiBase, apiFetch, jsonBody } from "./api";
 import { activityKeys } from "./use-activity";
+import type { NearMiss, RosterDuplicate } from "../server/intake/roster";
+import type { RosterRow, RosterStatus, VersionRef } from "../server/services/roster";
 
-export type RosterStatus = "matched" | "only-in-brain-table" | "only-in-participant-sheet";
-
-export interface RosterRow {
-  /** The brain-table id when there is one, else the sheet id. */
-  participant: string;
-  brainId: string | null;
-  sheetId: string | null;
-  status: RosterStatus;
-  via: "identical" | "rule" | "mapping" | null;
-  sessions: string[];
-  values: Record<string, number | string | null>;
-}
-
-export interface VersionRef {
-  id: string;
-  version: number;
-  fileName: string;
-  sha256: string;
-}
-
-export interface RosterDuplicate {
-  source: "brainTable" | "participantSheet";
-  file: string;
-  key: string;
-  ids: string[];
-}
-
-export interface NearMiss {
-  brainId: string;
-  sheetId: string;
-  reason: string;
-}
+// The API's own view types, shared with the server (type-only: nothing of the server reaches the bundle).
+export type { NearMiss, RosterDuplicate, RosterRow, RosterStatus, VersionRef };
 
 export interface RecordedMapping {
   brainId: string;
