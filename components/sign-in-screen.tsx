@@ -96,7 +96,7 @@ function InstitutionSignIn({ providerId, name }: { providerId: string; name: str
     <Card>
       <Heading level={2}>Institution sign-in</Heading>
       <Txt kind="small" style={{ color: palette.muted }}>
-        Use your institution's account ({name}).
+        Use your institution's account — {name}.
       </Txt>
       {signIn.error ? <Notice tone="danger">{signIn.error.message}</Notice> : null}
       <Button label={`Continue with ${name}`} variant="secondary" onPress={() => signIn.mutate()} busy={signIn.isPending} testID="institution-sign-in" />
