@@ -29,6 +29,7 @@ import type { Database } from "../../db/client";
 import { memberships, studies, type Role, type Study, roles as allRoles } from "../../db/schema";
 import { forbidden, notFound, unauthorized } from "../http/errors";
 import { idSchema } from "../http/validate";
+import { cachedMembership, rememberMembership } from "./access-cache";
 import { currentUser, type SessionUser } from "./session";
 
 export type Audience =
@@ -166,13 +167,17 @@ export function authorize(action: Action, options: { studyOf?: StudyOf } = {}): 
 
 async function findMembership(db: Database, studyId: string, user: SessionUser): Promise<AuthorizedStudy | null> {
   if (!idSchema.safeParse(studyId).success) return null;
+  const cached = cachedMembership(db, studyId, user.id);
+  if (cached) return cached;
   const rows = await db
     .select({ study: studies, role: memberships.role })
     .from(memberships)
     .innerJoin(studies, eq(studies.id, memberships.studyId))
     .where(and(eq(memberships.studyId, studyId), eq(memberships.userId, user.id), isNull(studies.deletedAt)))
     .limit(1);
-  return rows[0] ?? null;
+  const found = rows[0] ?? null;
+  if (found) rememberMembership(db, studyId, user.id, found);
+  return found;
 }
 
 /** The study and role `authorize` found (study routes only). */

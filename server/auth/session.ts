@@ -12,6 +12,7 @@ import { and, eq, gt } from "drizzle-orm";
 import type { Request, RequestHandler, Response } from "express";
 import type { Database } from "../../db/client";
 import { sessions, users } from "../../db/schema";
+import { cachedSession, rememberSession } from "./access-cache";
 
 export interface SessionUser {
   id: string;
@@ -51,15 +52,19 @@ export function loadSession(db: Database, clock: () => Date): RequestHandler {
 }
 
 export async function userForSession(db: Database, token: string, now: Date): Promise<SessionUser | null> {
+  const cached = cachedSession(db, token, now);
+  if (cached) return cached;
   const rows = await db
-    .select({ id: users.id, email: users.email, name: users.name })
+    .select({ id: users.id, email: users.email, name: users.name, expires: sessions.expires })
     .from(sessions)
     .innerJoin(users, eq(users.id, sessions.userId))
     .where(and(eq(sessions.sessionToken, token), gt(sessions.expires, now)))
     .limit(1);
   const row = rows[0];
   if (!row || !row.email) return null;
-  return { id: row.id, email: row.email, name: row.name };
+  const user = { id: row.id, email: row.email, name: row.name };
+  rememberSession(db, token, user, row.expires);
+  return user;
 }
 
 /** The signed-in person, or null. */

@@ -83,9 +83,20 @@ export interface FitView extends FitSummaryView {
 export async function studyOfFit(db: Database, params: Record<string, string>): Promise<string | null> {
   const fitId = params.fitId;
   if (!idSchema.safeParse(fitId).success) return null;
+  // A fit never moves to another study, so the answer can be kept (per database, bounded).
+  const known = fitStudies.get(db) ?? new Map<string, string>();
+  fitStudies.set(db, known);
+  const cached = known.get(fitId);
+  if (cached) return cached;
   const [row] = await db.select({ studyId: fits.studyId }).from(fits).where(eq(fits.id, fitId));
+  if (row) {
+    if (known.size >= 10_000) known.clear();
+    known.set(fitId, row.studyId);
+  }
   return row?.studyId ?? null;
 }
+
+const fitStudies = new WeakMap<object, Map<string, string>>();
 
 /** The fit (of an authorized study). Throws 404. */
 export async function findFit(db: Queryable, studyId: string, fitId: string): Promise<Fit> {

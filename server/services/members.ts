@@ -9,6 +9,7 @@ import type { Database, Queryable } from "../../db/client";
 import { memberships, users, type Role } from "../../db/schema";
 import { conflict, notFound } from "../http/errors";
 import { recordEvent } from "./audit";
+import { forgetStudyMemberships } from "../auth/access-cache";
 
 export interface MemberView {
   userId: string;
@@ -56,7 +57,8 @@ const lastOwnerMessage = "A study needs at least one Owner: make someone else Ow
 
 /** Changes a member's role. Throws 404 for a non-member, 409 when it would leave no Owner. */
 export async function changeRole(db: Database, actorId: string, studyId: string, userId: string, role: Role, now: Date): Promise<MemberView> {
-  return db.transaction(async (tx) => {
+  forgetStudyMemberships(db, studyId);
+  const changed = await db.transaction(async (tx) => {
     const member = await memberOf(tx, studyId, userId);
     if (member.role === role) return member;
     if (member.role === "owner" && (await ownerCount(tx, studyId)) <= 1) throw conflict(lastOwnerMessage);
@@ -73,10 +75,13 @@ export async function changeRole(db: Database, actorId: string, studyId: string,
     });
     return { ...member, role };
   });
+  forgetStudyMemberships(db, studyId);
+  return changed;
 }
 
 /** Removes a member (or, when `actorId === userId`, leaves). 409 when it would leave no Owner. */
 export async function removeMember(db: Database, actorId: string, studyId: string, userId: string, now: Date): Promise<void> {
+  forgetStudyMemberships(db, studyId);
   await db.transaction(async (tx) => {
     const member = await memberOf(tx, studyId, userId);
     if (member.role === "owner" && (await ownerCount(tx, studyId)) <= 1) throw conflict(lastOwnerMessage);
@@ -91,4 +96,5 @@ export async function removeMember(db: Database, actorId: string, studyId: strin
       at: now,
     });
   });
+  forgetStudyMemberships(db, studyId);
 }
