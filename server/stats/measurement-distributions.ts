@@ -20,6 +20,7 @@
  * Everything is pure; each function throws StatsError on invalid arguments.
  */
 import { StatsError } from "./errors";
+import { brentRoot } from "./roots";
 
 const LANCZOS = [
   0.99999999999980993, 676.5203681218851, -1259.1392167224028, 771.32342877765313, -176.61502916214059,
@@ -198,71 +199,16 @@ export function studentTTwoSided(t: number, df: number): number {
 
 /**
  * Brent's root finder (Brent 1973, Algorithms for Minimization without
- * Derivatives, ch. 4) on a bracketing interval [a, b]; relative tolerance
- * about 1e-14. Throws StatsError when [a, b] does not bracket a root.
+ * Derivatives, ch. 4) on a bracketing interval [a, b], to machine
+ * precision: `brentRoot` of roots.ts with no absolute tolerance, so the
+ * relative tolerance is about 2·ε. Throws StatsError naming `name` when
+ * [a, b] does not bracket a root.
  */
 export function findRoot(f: (x: number) => number, a0: number, b0: number, name: string): number {
-  let a = a0;
-  let b = b0;
-  let fa = f(a);
-  let fb = f(b);
-  if (fa === 0) return a;
-  if (fb === 0) return b;
-  if (!(fa * fb < 0)) throw new StatsError(`${name} could not bracket the solution`);
-  let c = a;
-  let fc = fa;
-  let d = b - a;
-  let e = d;
-  for (let iter = 0; iter < 300; iter++) {
-    if ((fb > 0 && fc > 0) || (fb < 0 && fc < 0)) {
-      c = a;
-      fc = fa;
-      d = b - a;
-      e = d;
-    }
-    if (Math.abs(fc) < Math.abs(fb)) {
-      a = b;
-      b = c;
-      c = a;
-      fa = fb;
-      fb = fc;
-      fc = fa;
-    }
-    const tol = 4 * Number.EPSILON * Math.abs(b) + 1e-300;
-    const xm = 0.5 * (c - b);
-    if (Math.abs(xm) <= tol || fb === 0) return b;
-    if (Math.abs(e) >= tol && Math.abs(fa) > Math.abs(fb)) {
-      const s = fb / fa;
-      let p: number;
-      let q: number;
-      if (a === c) {
-        p = 2 * xm * s;
-        q = 1 - s;
-      } else {
-        const qq = fa / fc;
-        const r = fb / fc;
-        p = s * (2 * xm * qq * (qq - r) - (b - a) * (r - 1));
-        q = (qq - 1) * (r - 1) * (s - 1);
-      }
-      if (p > 0) q = -q;
-      p = Math.abs(p);
-      if (2 * p < Math.min(3 * xm * q - Math.abs(tol * q), Math.abs(e * q))) {
-        e = d;
-        d = p / q;
-      } else {
-        d = xm;
-        e = d;
-      }
-    } else {
-      d = xm;
-      e = d;
-    }
-    a = b;
-    fa = fb;
-    b += Math.abs(d) > tol ? d : xm > 0 ? tol : -tol;
-    fb = f(b);
-  }
-  return b;
+  const fa = f(a0);
+  const fb = f(b0);
+  if (!(fa === 0 || fb === 0 || fa * fb < 0)) throw new StatsError(`${name} could not bracket the solution`);
+  return brentRoot(f, a0, b0, 1e-300, 300);
 }
 
 /** Finds x ≥ 0 with upper(x) = q for a decreasing upper-tail function with upper(0) > q: doubling, then Brent. */
