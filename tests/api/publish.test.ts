@@ -9,7 +9,6 @@
  * participants in the brain table (one written "7" where the sheet says
  * "sub-07"), 15 in the participant sheet.
  */
-import { spawn } from "node:child_process";
 import { createHash } from "node:crypto";
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
@@ -22,6 +21,7 @@ import { readTable } from "../../server/intake";
 import { createRng } from "../../server/stats/rng";
 import { sealHash } from "../../server/services/sealing";
 import { type Agent, type TestApp, createTestApp, signInDemo, userIdOf } from "./helpers";
+import { runRecipeCommand } from "../support/recipe-command";
 
 const projectRoot = join(import.meta.dirname, "..", "..");
 const packageVersion = (JSON.parse(readFileSync(join(projectRoot, "package.json"), "utf8")) as { version: string }).version;
@@ -84,22 +84,6 @@ async function runModel(name: string, spec: Record<string, unknown>, regionSelec
   return fit.body.id as string;
 }
 
-/** Runs the recipe command on a recipe file; resolves with exit code, stdout and stderr. */
-function runRecipeCommand(recipePath: string): Promise<{ code: number | null; stdout: string; stderr: string }> {
-  return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, ["--import", "tsx", "server/cli/fit.ts", recipePath], { cwd: projectRoot, stdio: ["ignore", "pipe", "pipe"] });
-    let stdout = "";
-    let stderr = "";
-    child.stdout.on("data", (c: Buffer) => {
-      stdout += c.toString();
-    });
-    child.stderr.on("data", (c: Buffer) => {
-      stderr += c.toString();
-    });
-    child.on("error", reject);
-    child.on("close", (code) => resolve({ code, stdout, stderr }));
-  });
-}
 
 const associationSpec = { kind: "association", predictor: "accuracy", covariates: ["age"], inference: "permutation", resamples: 2000, seed: 11, correction: "holm" };
 let fitId: string;
@@ -203,7 +187,7 @@ describe("exact re-run of the recipe", () => {
       writeFileSync(join(dir, "recipe.json"), recipeText);
       writeFileSync(join(dir, recipe.brainTable), files.brain);
       writeFileSync(join(dir, recipe.participantSheet), files.sheet);
-      const run = await runRecipeCommand(join(dir, "recipe.json"));
+      const run = await runRecipeCommand([join(dir, "recipe.json")]);
       expect(run.stderr).toBe("");
       expect(run.code).toBe(0);
       const out = JSON.parse(run.stdout) as { regions: Record<string, unknown>[]; recipe: Record<string, unknown> };
@@ -217,7 +201,7 @@ describe("exact re-run of the recipe", () => {
 
       // Changed data bytes are refused, naming the file.
       writeFileSync(join(dir, recipe.participantSheet), files.sheet.replace("sub-01\t", "sub-01 \t"));
-      const changed = await runRecipeCommand(join(dir, "recipe.json"));
+      const changed = await runRecipeCommand([join(dir, "recipe.json")]);
       expect(changed.code).toBe(2);
       expect(changed.stderr).toContain(`${sheetFileName}: content differs from the recipe`);
     } finally {

@@ -4,39 +4,18 @@
  * started together in beforeAll (each is a separate process) and checked
  * one by one.
  */
-import { spawn } from "node:child_process";
 import { createHash } from "node:crypto";
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { dirname, join } from "node:path";
-import { fileURLToPath } from "node:url";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { runRecipeCommand, type CommandRun } from "../../support/recipe-command";
 
-const root = join(dirname(fileURLToPath(import.meta.url)), "..", "..", "..");
 const dir = mkdtempSync(join(tmpdir(), "covarion-recipe-"));
 
-interface Run {
-  code: number | null;
-  stdout: string;
-  stderr: string;
-}
-
-function run(args: string[], viaNpm = false): Promise<Run> {
-  return new Promise((resolve, reject) => {
-    const child = viaNpm
-      ? spawn("npm", ["run", "--silent", "fit", "--", ...args], { cwd: root })
-      : spawn(process.execPath, ["--import", "tsx", join(root, "server", "cli", "fit.ts"), ...args], { cwd: root });
-    let stdout = "";
-    let stderr = "";
-    child.stdout.on("data", (d) => {
-      stdout += d;
-    });
-    child.stderr.on("data", (d) => {
-      stderr += d;
-    });
-    child.on("error", reject);
-    child.on("close", (code) => resolve({ code, stdout, stderr }));
-  });
+/** The recipe command, directly or through npm. */
+function run(args: string[], viaNpm = false): Promise<CommandRun> {
+  return runRecipeCommand(args, { viaNpm });
 }
 
 const BRAIN =
@@ -71,7 +50,7 @@ function recipe(name: string, body: unknown): string {
 
 const sha256 = (s: string | Uint8Array) => createHash("sha256").update(s).digest("hex");
 
-const results = new Map<string, Run>();
+const results = new Map<string, CommandRun>();
 
 const cases: Record<string, () => string[]> = {
   usage: () => [],

@@ -13,41 +13,20 @@
  * couple at a time: the machine has two cores); the others call the same
  * `runRecipe` the command calls, in this process.
  */
-import { spawn } from "node:child_process";
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { dirname, join } from "node:path";
-import { fileURLToPath } from "node:url";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { runRecipe } from "../../../server/cli/recipe";
 import { IntakeError } from "../../../server/intake";
 import { StatsError } from "../../../server/stats/errors";
+import { runRecipeCommand, type CommandRun } from "../../support/recipe-command";
 
-const root = join(dirname(fileURLToPath(import.meta.url)), "..", "..", "..");
 const dir = mkdtempSync(join(tmpdir(), "covarion-measurement-"));
 
-interface Run {
-  code: number | null;
-  stdout: string;
-  stderr: string;
-}
-
-function run(args: string[], viaNpm = false): Promise<Run> {
-  return new Promise((resolve, reject) => {
-    const child = viaNpm
-      ? spawn("npm", ["run", "--silent", "fit", "--", ...args], { cwd: root })
-      : spawn(process.execPath, ["--import", "tsx", join(root, "server", "cli", "fit.ts"), ...args], { cwd: root });
-    let stdout = "";
-    let stderr = "";
-    child.stdout.on("data", (d) => {
-      stdout += d;
-    });
-    child.stderr.on("data", (d) => {
-      stderr += d;
-    });
-    child.on("error", reject);
-    child.on("close", (code) => resolve({ code, stdout, stderr }));
-  });
+/** The recipe command, directly or through npm. */
+function run(args: string[], viaNpm = false): Promise<CommandRun> {
+  return runRecipeCommand(args, { viaNpm });
 }
 
 function file(name: string, content: string): string {
@@ -116,7 +95,7 @@ function pooled(tau2: number) {
   return { w, sw, mu, q };
 }
 
-const spawned = new Map<string, Run>();
+const spawned = new Map<string, CommandRun>();
 const spawnCases: Record<string, { args: () => string[]; viaNpm?: boolean }> = {
   dl: { args: () => [recipe("bcg-dl.json", { brainTable: "bcg.csv", kind: "one-sample", weights: "first-level-se", tau2Method: "dl" })], viaNpm: true },
   reml: { args: () => [recipe("bcg-reml.json", { brainTable: "bcg.csv", kind: "one-sample", weights: "first-level-se", tau2Method: "reml" })] },
