@@ -21,6 +21,7 @@ import { runRecipe } from "../../../server/cli/recipe";
 import { IntakeError } from "../../../server/intake";
 import { StatsError } from "../../../server/stats/errors";
 import { runRecipeCommand, type CommandRun } from "../../support/recipe-command";
+import { BCG, SHROUT_FLEISS } from "../stats/reference-data";
 
 const dir = mkdtempSync(join(tmpdir(), "covarion-measurement-"));
 
@@ -40,26 +41,6 @@ function recipe(name: string, body: unknown): string {
   return file(name, JSON.stringify(body));
 }
 
-/**
- * BCG vaccine trials (Colditz et al. 1994): [vaccinated TB+, vaccinated TB−,
- * control TB+, control TB−, absolute latitude], as in the data set documented
- * by Viechtbauer (2010).
- */
-const BCG: readonly (readonly [number, number, number, number, number])[] = [
-  [4, 119, 11, 128, 44],
-  [6, 300, 29, 274, 55],
-  [3, 228, 11, 209, 42],
-  [62, 13536, 248, 12619, 52],
-  [33, 5036, 47, 5761, 13],
-  [180, 1361, 372, 1079, 44],
-  [8, 2537, 10, 619, 19],
-  [505, 87886, 499, 87892, 13],
-  [29, 7470, 45, 7232, 27],
-  [17, 1699, 65, 1600, 42],
-  [186, 50448, 141, 27197, 18],
-  [5, 2493, 3, 2338, 33],
-  [27, 16886, 29, 17825, 33],
-];
 /** Log risk ratio and its large-sample sampling variance per trial. */
 const yi = BCG.map(([a, b, c, d]) => Math.log(a / (a + b) / (c / (c + d))));
 const vi = BCG.map(([a, b, c, d]) => 1 / a - 1 / (a + b) + 1 / c - 1 / (c + d));
@@ -71,15 +52,6 @@ const BCG_WIDE = `participant_id,log_rr,log_rr_se\n${trialIds.map((id, i) => `${
 const BCG_LONG = `participant_id,region,value,se\n${trialIds.map((id, i) => `${id},log_rr,${yi[i]},${Math.sqrt(vi[i])}`).join("\n")}\n`;
 const BCG_SHEET = `participant_id\tlatitude\n${trialIds.map((id, i) => `${id}\t${BCG[i][4]}`).join("\n")}\n`;
 
-/** Shrout & Fleiss (1979), Table 2: 6 targets rated by 4 judges; here 6 participants in 4 sessions. */
-const SHROUT_FLEISS = [
-  [9, 2, 5, 8],
-  [6, 1, 3, 2],
-  [8, 4, 6, 8],
-  [7, 1, 2, 6],
-  [10, 5, 6, 9],
-  [6, 2, 4, 7],
-];
 const SF_LONG = `participant_id,session,region,value\n${SHROUT_FLEISS.flatMap((row, i) => row.map((v, s) => `p${i + 1},ses-${s + 1},rating,${v}`)).join("\n")}\n`;
 /** Wide with a session column: one row per participant and session, sessions interleaved out of order on purpose. */
 const SF_WIDE = `participant_id,session,rating,rating_copy\n${[3, 1, 0, 2]

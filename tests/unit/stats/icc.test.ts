@@ -1,16 +1,8 @@
 import { describe, expect, it } from "vitest";
 import { StatsError } from "../../../server/stats/errors";
 import { intraclassCorrelations } from "../../../server/stats/icc";
+import { SHROUT_FLEISS } from "./reference-data";
 
-/** Shrout & Fleiss (1979, Psychological Bulletin 86:420–428), Table 2: 6 targets rated by 4 judges. */
-const SHROUT_FLEISS = [
-  [9, 2, 5, 8],
-  [6, 1, 3, 2],
-  [8, 4, 6, 8],
-  [7, 1, 2, 6],
-  [10, 5, 6, 9],
-  [6, 2, 4, 7],
-];
 
 const stepUp = (r: number, k: number) => (k * r) / (1 + (k - 1) * r);
 

@@ -3,27 +3,8 @@ import { describe, expect, it } from "vitest";
 import { StatsError } from "../../../server/stats/errors";
 import { weightedLinearModel } from "../../../server/stats/meta-regression";
 import { createRng } from "../../../server/stats/rng";
+import { BCG } from "./reference-data";
 
-/**
- * BCG vaccine trials (Colditz et al. 1994, JAMA 271:698–702): 2×2 counts
- * [vaccinated TB+, vaccinated TB−, control TB+, control TB−, absolute latitude],
- * as listed in the data set documented by Viechtbauer (2010, J Stat Softw 36(3)).
- */
-const BCG: readonly (readonly [number, number, number, number, number])[] = [
-  [4, 119, 11, 128, 44],
-  [6, 300, 29, 274, 55],
-  [3, 228, 11, 209, 42],
-  [62, 13536, 248, 12619, 52],
-  [33, 5036, 47, 5761, 13],
-  [180, 1361, 372, 1079, 44],
-  [8, 2537, 10, 619, 19],
-  [505, 87886, 499, 87892, 13],
-  [29, 7470, 45, 7232, 27],
-  [17, 1699, 65, 1600, 42],
-  [186, 50448, 141, 27197, 18],
-  [5, 2493, 3, 2338, 33],
-  [27, 16886, 29, 17825, 33],
-];
 /** Log risk ratio and its large-sample sampling variance per trial. */
 const yi = BCG.map(([a, b, c, d]) => Math.log(a / (a + b) / (c / (c + d))));
 const vi = BCG.map(([a, b, c, d]) => 1 / a - 1 / (a + b) + 1 / c - 1 / (c + d));

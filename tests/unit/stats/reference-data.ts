@@ -80,3 +80,34 @@ export function* permutations(n: number): Generator<Int32Array> {
     }
   }
 }
+
+/**
+ * BCG vaccine trials (Colditz et al. 1994, JAMA 271:698–702): 2×2 counts
+ * [vaccinated TB+, vaccinated TB−, control TB+, control TB−, absolute latitude],
+ * as listed in the data set documented by Viechtbauer (2010, J Stat Softw 36(3)).
+ */
+export const BCG: readonly (readonly [number, number, number, number, number])[] = [
+  [4, 119, 11, 128, 44],
+  [6, 300, 29, 274, 55],
+  [3, 228, 11, 209, 42],
+  [62, 13536, 248, 12619, 52],
+  [33, 5036, 47, 5761, 13],
+  [180, 1361, 372, 1079, 44],
+  [8, 2537, 10, 619, 19],
+  [505, 87886, 499, 87892, 13],
+  [29, 7470, 45, 7232, 27],
+  [17, 1699, 65, 1600, 42],
+  [186, 50448, 141, 27197, 18],
+  [5, 2493, 3, 2338, 33],
+  [27, 16886, 29, 17825, 33],
+];
+
+/** Shrout & Fleiss (1979, Psychological Bulletin 86:420–428), Table 2: 6 targets rated by 4 judges. */
+export const SHROUT_FLEISS: readonly (readonly number[])[] = [
+  [9, 2, 5, 8],
+  [6, 1, 3, 2],
+  [8, 4, 6, 8],
+  [7, 1, 2, 6],
+  [10, 5, 6, 9],
+  [6, 2, 4, 7],
+];
