@@ -4,7 +4,7 @@
  * variance components at a handful of study sizes around it.
  */
 import type { PlannerAnswer, PlannerQuestion } from "../model/planner";
-import { planSampleSize, simulatePower } from "../stats/power";
+import { componentReliability, planSampleSize, simulatePower } from "../stats/power";
 import { createRng } from "../stats/rng";
 
 const methodByDesign = {
@@ -15,13 +15,8 @@ const methodByDesign = {
 
 export function planStudy(question: PlannerQuestion): PlannerAnswer {
   let reliabilityBrain = question.reliabilityBrain;
-  let simulationReliability: number | null = null;
   if (question.mode === "simulation" && question.components) {
-    const c = question.components;
-    const sessions = question.sessions ?? 1;
-    const trials = question.trials ?? 1;
-    simulationReliability = c.trueDifferences / (c.trueDifferences + (c.taskDesign + c.measurementNoise / trials) / sessions);
-    reliabilityBrain = simulationReliability;
+    reliabilityBrain = componentReliability(question.components, { sessions: question.sessions, trials: question.trials });
   }
   const plan = planSampleSize({
     design: question.design,

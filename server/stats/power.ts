@@ -257,6 +257,20 @@ export interface VarianceComponents {
   trueDifferences: number;
 }
 
+/**
+ * Reliability of a participant's value averaged over S sessions of T trials,
+ * from the three variance components (classical test theory; the
+ * Spearman–Brown step-up over sessions):
+ * σ²_true / (σ²_true + (σ²_design + σ²_noise/T) / S). Cost O(1).
+ * Callers validate the components (non-negative, true differences > 0).
+ */
+export function componentReliability(components: VarianceComponents, options: { sessions?: number; trials?: number } = {}): number {
+  const sessions = options.sessions ?? 1;
+  const trials = options.trials ?? 1;
+  const { measurementNoise, taskDesign, trueDifferences } = components;
+  return trueDifferences / (trueDifferences + (taskDesign + measurementNoise / trials) / sessions);
+}
+
 export interface SimulatePowerInput {
   design: PowerDesign;
   /** Total participants for each simulated study size. */
@@ -373,7 +387,7 @@ export function simulatePower(input: SimulatePowerInput): SimulatePowerResult {
 
   const sessionSd = Math.sqrt(taskDesign + measurementNoise / trials);
   const trueSd = Math.sqrt(trueDifferences);
-  const reliability = trueDifferences / (trueDifferences + (taskDesign + measurementNoise / trials) / sessions);
+  const reliability = componentReliability(input.components, { sessions, trials });
   const normal = normalSource(rng);
   const measured = (trueValue: number): number => {
     let sum = 0;
