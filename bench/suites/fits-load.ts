@@ -75,7 +75,7 @@ export default async function fitsLoad(): Promise<void> {
   const dataDir = mkdtempSync(join(os.tmpdir(), "covarion-bench-"));
   const port = await freePort();
   const base = `http://127.0.0.1:${port}`;
-  const child = spawn(process.execPath, ["--import", "tsx", "server/index.ts"], {
+  const child = spawn(process.execPath, [...(process.env.BENCH_PROF ? ["--cpu-prof", "--cpu-prof-dir=" + process.env.BENCH_PROF] : []), "--import", "tsx", "server/index.ts"], {
     env: { ...process.env, NODE_ENV: "development", DATA_DIR: dataDir, PORT: String(port), HOST: "127.0.0.1", PUBLIC_URL: base },
     stdio: ["ignore", "pipe", "pipe"],
   });

@@ -15,10 +15,10 @@
  * results, the recipe's set-aside list and id mappings) is left out for
  * callers without `fits.participants.read` (Viewers of a restricted study).
  */
-import { and, desc, eq, inArray } from "drizzle-orm";
-import { alias } from "drizzle-orm/pg-core";
+import { and, desc, eq, getTableColumns, inArray, sql } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
-import { datasetVersions, fitRegions, fits, models, users, type Fit, type FitStatus, type Study } from "../../db/schema";
+import { perDatabase } from "../../db/prepared";
+import { datasetVersions, fitApprovals, fitRegions, fitSeals, fits, models, users, type Fit, type FitStatus, type Study } from "../../db/schema";
 import { conflict, notFound } from "../http/errors";
 import { idSchema } from "../http/validate";
 import type { FitJobs, FitProgress } from "../jobs/fit-jobs";
@@ -32,7 +32,7 @@ import { currentVersions } from "./datasets";
 import { confirmedMappings, inputsOfFit, specOfRecipe } from "./fit-inputs";
 import { findModel } from "./models";
 import { activeSetAsideList } from "./set-asides";
-import { type Publication, publicationOf } from "./sealing";
+import { type Publication, sealHash } from "./sealing";
 
 interface Actor {
   id: string;
@@ -72,7 +72,10 @@ export interface FitView extends FitSummaryView {
   participantsVisible: boolean;
   /** The full recipe, or null when participant-level content is withheld. */
   recipe: Record<string, unknown> | null;
-  /** The result without per-participant rows (see the region detail), when done. */
+  /**
+   * The result when done, without per-participant rows and without each
+   * region's permutation null histogram (both are in the region detail).
+   */
   result: FitResultSummary | null;
   /** Who approved the fit for sealing, and its seal { by, at, sha256, intact } (services/sealing.ts). */
   approval: Publication["approval"];
@@ -98,14 +101,23 @@ export async function studyOfFit(db: Database, params: Record<string, string>): 
 
 const fitStudies = new WeakMap<object, Map<string, string>>();
 
-/** The fit (of an authorized study). Throws 404. */
-export async function findFit(db: Queryable, studyId: string, fitId: string): Promise<Fit> {
-  const [row] = await db
-    .select()
+/** A fit's columns without its result (read apart, see doneResultOf). */
+const { result: _result, ...rowColumns } = getTableColumns(fits);
+
+const fitRow = perDatabase((db) =>
+  db
+    .select(rowColumns)
     .from(fits)
-    .where(and(eq(fits.id, fitId), eq(fits.studyId, studyId)));
+    .where(and(eq(fits.id, sql.placeholder("fitId")), eq(fits.studyId, sql.placeholder("studyId"))))
+    .prepare("fit_row"),
+);
+
+/** The fit (of an authorized study), its result (when done) read once and kept (see doneResultOf). Throws 404. */
+export async function findFit(db: Queryable, studyId: string, fitId: string): Promise<Fit> {
+  const [row] = await fitRow(db).execute({ fitId, studyId });
   if (!row) throw notFound("Fit not found.");
-  return row;
+  const result = row.status === "done" ? (await doneResultOf(db, row.id, row.finishedAt)).result : null;
+  return { ...row, result };
 }
 
 function progressOf(fit: Pick<Fit, "id" | "status" | "progress" | "secondsLeft">, jobs: FitJobs): FitProgress {
@@ -116,7 +128,15 @@ function progressOf(fit: Pick<Fit, "id" | "status" | "progress" | "secondsLeft">
   return { fraction: fit.status === "done" ? 1 : fit.progress, secondsLeft: fit.status === "running" ? fit.secondsLeft : null };
 }
 
-/** The columns of a fit's summary (not its recipe or result, which can be large). */
+/**
+ * The columns of a fit's summary (not its recipe or result, which can be
+ * large). Its model and creator are scalar subqueries rather than joins:
+ * the embedded database plans every query afresh, and planning a join
+ * costs far more than running these one-row lookups.
+ */
+/** A column of the outer `fits` row, named in full (drizzle writes a selected column unqualified, which inside a subquery would mean the inner table's). */
+const outerFit = (column: string) => sql.raw(`"fits"."${column}"`);
+
 const summaryColumns = {
   id: fits.id,
   studyId: fits.studyId,
@@ -130,23 +150,33 @@ const summaryColumns = {
   finishedAt: fits.finishedAt,
   error: fits.error,
   errorCode: fits.errorCode,
-  modelName: models.name,
-  modelDeletedAt: models.deletedAt,
-  modelCircular: models.circular,
-  creatorName: users.name,
+  model: sql<{ name: string; deleted: boolean; circular: boolean } | null>`(select json_build_object('name', mo.name, 'deleted', mo.deleted_at is not null, 'circular', mo.circular)
+    from ${models} mo where mo.id = ${outerFit("model_id")})`,
+  creatorName: sql<string | null>`(select u.name from ${users} u where u.id = ${outerFit("created_by")})`,
 };
 
-type SummaryRow = {
-  [K in keyof typeof summaryColumns]: (typeof summaryColumns)[K]["_"]["notNull"] extends true
-    ? (typeof summaryColumns)[K]["_"]["data"]
-    : (typeof summaryColumns)[K]["_"]["data"] | null;
-};
+interface SummaryRow {
+  id: string;
+  studyId: string;
+  modelId: string;
+  status: FitStatus;
+  progress: number;
+  secondsLeft: number | null;
+  createdBy: string;
+  createdAt: Date;
+  startedAt: Date | null;
+  finishedAt: Date | null;
+  error: string | null;
+  errorCode: string | null;
+  model: { name: string; deleted: boolean; circular: boolean } | null;
+  creatorName: string | null;
+}
 
 function summaryOf(row: SummaryRow, jobs: FitJobs): FitSummaryView {
   return {
     id: row.id,
     studyId: row.studyId,
-    model: { id: row.modelId, name: row.modelName ?? "", deleted: Boolean(row.modelDeletedAt), circular: row.modelCircular ?? false },
+    model: { id: row.modelId, name: row.model?.name ?? "", deleted: row.model?.deleted ?? false, circular: row.model?.circular ?? false },
     status: row.status,
     progress: progressOf(row, jobs),
     createdBy: { id: row.createdBy, name: row.creatorName ?? null },
@@ -157,16 +187,22 @@ function summaryOf(row: SummaryRow, jobs: FitJobs): FitSummaryView {
   };
 }
 
-/** The study's fits, newest first (optionally of one model). One query. */
-export async function listFits(db: Queryable, jobs: FitJobs, studyId: string, options: { modelId?: string } = {}): Promise<FitSummaryView[]> {
-  const rows = await db
+const fitsOfStudy = perDatabase((db) =>
+  db.select(summaryColumns).from(fits).where(eq(fits.studyId, sql.placeholder("studyId"))).orderBy(desc(fits.createdAt), desc(fits.id)).prepare("fits_of_study"),
+);
+const fitsOfModel = perDatabase((db) =>
+  db
     .select(summaryColumns)
     .from(fits)
-    .leftJoin(models, eq(models.id, fits.modelId))
-    .leftJoin(users, eq(users.id, fits.createdBy))
-    .where(and(eq(fits.studyId, studyId), options.modelId ? eq(fits.modelId, options.modelId) : undefined))
-    .orderBy(desc(fits.createdAt), desc(fits.id));
-  return rows.map((r) => summaryOf(r as SummaryRow, jobs));
+    .where(and(eq(fits.studyId, sql.placeholder("studyId")), eq(fits.modelId, sql.placeholder("modelId"))))
+    .orderBy(desc(fits.createdAt), desc(fits.id))
+    .prepare("fits_of_model"),
+);
+
+/** The study's fits, newest first (optionally of one model). One query. */
+export async function listFits(db: Queryable, jobs: FitJobs, studyId: string, options: { modelId?: string } = {}): Promise<FitSummaryView[]> {
+  const rows: SummaryRow[] = options.modelId ? await fitsOfModel(db).execute({ studyId, modelId: options.modelId }) : await fitsOfStudy(db).execute({ studyId });
+  return rows.map((r) => summaryOf(r, jobs));
 }
 
 const participantIdKeys = ["minWithout", "maxWithout", "rMinWithout", "rMaxWithout"] as const;
@@ -188,45 +224,133 @@ export function withoutParticipantIds(r: RegionResult): RegionResult {
   return out;
 }
 
-const brainVersion = alias(datasetVersions, "brain_version");
-const sheetVersion = alias(datasetVersions, "sheet_version");
+
+/** A finished fit's result as stored, parsed once, with the hash its seal is checked against. */
+interface DoneResult {
+  finishedAt: number;
+  /** As stored (the seal covers it). */
+  result: FitResultSummary;
+  /** As the fit view shows it: regions without their null histograms. */
+  shown: FitResultSummary;
+  chars: number;
+  /** sealHash(recipe, result) of the values read from the database, computed when first needed. */
+  hash: string | null;
+}
 
 /**
- * One fit of the study as the API answers it, read in one query (the fit,
- * its model, who ran it, its dataset versions); a finished fit adds its
- * attenuation notes and its approval and seal. Throws 404.
+ * Finished fits' results, kept parsed in memory (per database, least
+ * recently used first out, at most RESULT_CACHE_CHARS characters of JSON).
+ * A fit's result is written once, in the same update that marks it done,
+ * and never changes afterwards (a sealed fit's row is also guarded by a
+ * trigger), so a parsed copy stays right; reading and parsing a result of
+ * 400 regions from the embedded database costs ~20 ms of the request
+ * thread, which readers of a finished fit would otherwise pay every time.
+ * Entries are frozen: callers copy before they change anything.
  */
-export async function loadFitView(db: Queryable, jobs: FitJobs, studyId: string, fitId: string, participantsVisible: boolean): Promise<FitView> {
+const RESULT_CACHE_CHARS = 64 * 1024 * 1024;
+const doneResults = new WeakMap<object, { entries: Map<string, DoneResult>; chars: number }>();
+
+function deepFreeze<T>(value: T): T {
+  if (value && typeof value === "object" && !Object.isFrozen(value)) {
+    Object.freeze(value);
+    for (const v of Object.values(value)) deepFreeze(v);
+  }
+  return value;
+}
+
+/** The finished fit's stored result (from memory when read before). */
+async function doneResultOf(db: Queryable, fitId: string, finishedAt: Date | null): Promise<DoneResult> {
+  const cache = doneResults.get(db) ?? { entries: new Map<string, DoneResult>(), chars: 0 };
+  doneResults.set(db, cache);
+  const stamp = finishedAt?.getTime() ?? 0;
+  const hit = cache.entries.get(fitId);
+  if (hit && hit.finishedAt === stamp) {
+    cache.entries.delete(fitId);
+    cache.entries.set(fitId, hit);
+    return hit;
+  }
   const [row] = await db
+    .select({ text: sql<string | null>`${fits.result}::text` })
+    .from(fits)
+    .where(eq(fits.id, fitId));
+  const text = row?.text ?? "null";
+  const result = deepFreeze(JSON.parse(text) as FitResultSummary);
+  const shown = deepFreeze({ ...result, regions: result.regions.map(({ nullHistogram: _, ...region }) => region as RegionResult) });
+  const entry: DoneResult = { finishedAt: stamp, result, shown, chars: text.length, hash: null };
+  if (hit) {
+    cache.entries.delete(fitId);
+    cache.chars -= hit.chars;
+  }
+  if (entry.chars <= RESULT_CACHE_CHARS) {
+    cache.entries.set(fitId, entry);
+    cache.chars += entry.chars;
+    for (const [id, old] of cache.entries) {
+      if (cache.chars <= RESULT_CACHE_CHARS) break;
+      cache.entries.delete(id);
+      cache.chars -= old.chars;
+    }
+  }
+  return entry;
+}
+
+/** A dataset version of the fit as { id, version, fileName, sha256 } (a scalar subquery). */
+const version = (column: "brain_version_id" | "sheet_version_id") =>
+  sql<DatasetRef | null>`(select json_build_object('id', dv.id, 'version', dv.version, 'fileName', dv.file_name, 'sha256', dv.sha256)
+    from ${datasetVersions} dv where dv.id = ${outerFit(column)})`;
+
+/** One fit as the API shows it, without its result (see loadFitView). */
+const fitViewRow = perDatabase((db) =>
+  db
     .select({
       ...summaryColumns,
-      fit: fits,
-      brain: { id: brainVersion.id, version: brainVersion.version, fileName: brainVersion.fileName, sha256: brainVersion.sha256 },
-      sheet: { id: sheetVersion.id, version: sheetVersion.version, fileName: sheetVersion.fileName, sha256: sheetVersion.sha256 },
+      recipe: fits.recipe,
+      brainVersionId: fits.brainVersionId,
+      sheetVersionId: fits.sheetVersionId,
+      brain: version("brain_version_id"),
+      sheet: version("sheet_version_id"),
+      approval: sql<{ at: string; id: string; name: string | null } | null>`(select json_build_object('at', a.approved_at, 'id', u.id, 'name', u.name)
+        from ${fitApprovals} a join ${users} u on u.id = a.approved_by where a.fit_id = ${outerFit("id")})`,
+      seal: sql<{ at: string; sha256: string; id: string; name: string | null } | null>`(select json_build_object('at', s.sealed_at, 'sha256', s.sha256, 'id', u.id, 'name', u.name)
+        from ${fitSeals} s join ${users} u on u.id = s.sealed_by where s.fit_id = ${outerFit("id")})`,
     })
     .from(fits)
-    .leftJoin(models, eq(models.id, fits.modelId))
-    .leftJoin(users, eq(users.id, fits.createdBy))
-    .leftJoin(brainVersion, eq(brainVersion.id, fits.brainVersionId))
-    .leftJoin(sheetVersion, eq(sheetVersion.id, fits.sheetVersionId))
-    .where(and(eq(fits.id, fitId), eq(fits.studyId, studyId)));
+    .where(and(eq(fits.id, sql.placeholder("fitId")), eq(fits.studyId, sql.placeholder("studyId"))))
+    .prepare("fit_view"),
+);
+
+/**
+ * One fit of the study as the API answers it, read in one query (the fit
+ * without its result; its model, who ran it, its dataset versions, its
+ * approval and seal as scalar subqueries); a finished fit adds its result
+ * (parsed once and kept, see doneResults) with its attenuation notes. A
+ * seal is `intact` when the recipe and the result as read from the
+ * database hash to the sealed SHA-256. Throws 404.
+ */
+export async function loadFitView(db: Queryable, jobs: FitJobs, studyId: string, fitId: string, participantsVisible: boolean): Promise<FitView> {
+  const [row] = await fitViewRow(db).execute({ fitId, studyId });
   if (!row) throw notFound("Fit not found.");
-  const { fit } = row;
-  const summary = summaryOf(row as unknown as SummaryRow, jobs);
+  const summary = summaryOf(row, jobs);
   const ref = (v: DatasetRef | null, id: string): DatasetRef => (v?.id ? v : { id, version: 0, fileName: "", sha256: "" });
-  let result = fit.status === "done" ? (fit.result as FitResultSummary) : null;
+  // Only a finished fit has a result, and only a finished fit can be approved or sealed.
+  const stored = row.status === "done" ? await doneResultOf(db, row.id, row.finishedAt) : null;
+  let result: FitResultSummary | null = stored?.shown ?? null;
   if (result && !participantsVisible) result = { ...result, regions: result.regions.map(withoutParticipantIds) };
-  if (result) result = await attenuateResult(db, fit, result);
-  // Only a finished fit can be approved or sealed.
-  const publication: Publication = fit.status === "done" ? await publicationOf(db, fit) : { approval: null, seal: null };
+  if (result) result = await attenuateResult(db, { studyId, brainVersionId: row.brainVersionId, recipe: row.recipe }, result);
+  let seal: Publication["seal"] = null;
+  if (stored && row.seal) {
+    stored.hash ??= sealHash(row.recipe, stored.result);
+    seal = { by: { id: row.seal.id, name: row.seal.name }, at: new Date(row.seal.at).toISOString(), sha256: row.seal.sha256, intact: stored.hash === row.seal.sha256 };
+  }
+  const approval: Publication["approval"] = stored && row.approval ? { by: { id: row.approval.id, name: row.approval.name }, at: new Date(row.approval.at).toISOString() } : null;
   return {
     ...summary,
     model: { ...summary.model, caution: summary.model.circular ? circularityCaution : null },
-    datasets: { brain: ref(row.brain, fit.brainVersionId), participants: fit.sheetVersionId ? ref(row.sheet, fit.sheetVersionId) : null },
+    datasets: { brain: ref(row.brain, row.brainVersionId), participants: row.sheetVersionId ? ref(row.sheet, row.sheetVersionId) : null },
     participantsVisible,
-    recipe: participantsVisible ? (fit.recipe as Record<string, unknown>) : null,
+    recipe: participantsVisible ? (row.recipe as Record<string, unknown>) : null,
     result,
-    ...publication,
+    approval,
+    seal,
   };
 }
 

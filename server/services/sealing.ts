@@ -17,7 +17,7 @@
 import { createHash } from "node:crypto";
 import { eq } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
-import { fitApprovals, fitSeals, fits, users, type Fit } from "../../db/schema";
+import { fitApprovals, fitSeals, fits, type Fit } from "../../db/schema";
 import { conflict } from "../http/errors";
 import { recordEvent } from "./audit";
 
@@ -76,26 +76,6 @@ export function canonicalJson(value: unknown): string {
 /** SHA-256 (hex) of the canonical JSON of `{ recipe, result }`. Pure. */
 export function sealHash(recipe: unknown, result: unknown): string {
   return createHash("sha256").update(canonicalJson({ recipe, result }), "utf8").digest("hex");
-}
-
-/** The fit's approval and seal (null when absent). Reads two rows and re-hashes a sealed fit's recipe and result. */
-export async function publicationOf(db: Queryable, fit: Pick<Fit, "id" | "recipe" | "result">): Promise<Publication> {
-  const [approval] = await db
-    .select({ at: fitApprovals.approvedAt, id: users.id, name: users.name })
-    .from(fitApprovals)
-    .innerJoin(users, eq(users.id, fitApprovals.approvedBy))
-    .where(eq(fitApprovals.fitId, fit.id));
-  const [seal] = await db
-    .select({ at: fitSeals.sealedAt, sha256: fitSeals.sha256, id: users.id, name: users.name })
-    .from(fitSeals)
-    .innerJoin(users, eq(users.id, fitSeals.sealedBy))
-    .where(eq(fitSeals.fitId, fit.id));
-  return {
-    approval: approval ? { by: { id: approval.id, name: approval.name }, at: approval.at.toISOString() } : null,
-    seal: seal
-      ? { by: { id: seal.id, name: seal.name }, at: seal.at.toISOString(), sha256: seal.sha256, intact: sealHash(fit.recipe, fit.result) === seal.sha256 }
-      : null,
-  };
 }
 
 /** True when the fit is sealed. */

@@ -5,6 +5,7 @@
  */
 import { and, eq, inArray, isNull, sql } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
+import { perDatabase } from "../../db/prepared";
 import { datasetVersions, fits, memberships, models, studies, type Role, type Study } from "../../db/schema";
 import { capabilitiesOf } from "../auth/permissions";
 import { badRequest } from "../http/errors";
@@ -44,40 +45,47 @@ function auditView(study: Study) {
 }
 
 /**
- * Counts per study: members; participants in the newest brain table (or,
- * before one is uploaded, the newest participant sheet); models not
- * deleted; fits. Cost: four grouped queries.
+ * The counts of the study in the query's `studies` row, as columns:
+ * members; participants in the newest brain table (or, before one is
+ * uploaded, the newest participant sheet); models not deleted; fits.
+ * The embedded database answers one query at a time, so the counts are
+ * subqueries of the query that reads the studies rather than queries of
+ * their own. (The outer study is named explicitly: inside a subquery an
+ * unqualified id would be the inner table's.)
  */
-export async function studyCounts(db: Queryable, studyIds: readonly string[]): Promise<Map<string, StudyCounts>> {
-  const out = new Map<string, StudyCounts>();
-  for (const id of studyIds) out.set(id, { members: 0, participants: 0, models: 0, fits: 0 });
-  if (studyIds.length === 0) return out;
-  // One query for every count (the embedded database answers one query at a time, so fewer is faster):
-  // participants = the newest brain table's count, else the newest participant sheet's.
-  // (the outer study is named explicitly: inside a subquery an unqualified id would be the inner table's)
+function countColumns() {
   const outer = sql.raw(`"studies"."id"`);
   const latest = (kind: "brain" | "participants") =>
     sql<number | null>`(select dv.participant_count from ${datasetVersions} dv
       where dv.study_id = ${outer} and dv.kind = ${kind} order by dv.version desc limit 1)`;
+  return {
+    members: sql<number>`(select count(*) from ${memberships} m where m.study_id = ${outer})`,
+    models: sql<number>`(select count(*) from ${models} mo where mo.study_id = ${outer} and mo.deleted_at is null)`,
+    fits: sql<number>`(select count(*) from ${fits} f where f.study_id = ${outer})`,
+    brainParticipants: latest("brain"),
+    sheetParticipants: latest("participants"),
+  };
+}
+
+function countsOf(row: { members: unknown; models: unknown; fits: unknown; brainParticipants: unknown; sheetParticipants: unknown }): StudyCounts {
+  return {
+    members: Number(row.members),
+    models: Number(row.models),
+    fits: Number(row.fits),
+    participants: Number(row.brainParticipants ?? row.sheetParticipants ?? 0),
+  };
+}
+
+/** Counts per study (see countColumns). One query. */
+export async function studyCounts(db: Queryable, studyIds: readonly string[]): Promise<Map<string, StudyCounts>> {
+  const out = new Map<string, StudyCounts>();
+  for (const id of studyIds) out.set(id, { members: 0, participants: 0, models: 0, fits: 0 });
+  if (studyIds.length === 0) return out;
   const rows = await db
-    .select({
-      studyId: studies.id,
-      members: sql<number>`(select count(*) from ${memberships} m where m.study_id = ${outer})`,
-      models: sql<number>`(select count(*) from ${models} mo where mo.study_id = ${outer} and mo.deleted_at is null)`,
-      fits: sql<number>`(select count(*) from ${fits} f where f.study_id = ${outer})`,
-      brainParticipants: latest("brain"),
-      sheetParticipants: latest("participants"),
-    })
+    .select({ studyId: studies.id, ...countColumns() })
     .from(studies)
     .where(inArray(studies.id, [...studyIds]));
-  for (const row of rows) {
-    out.set(row.studyId, {
-      members: Number(row.members),
-      models: Number(row.models),
-      fits: Number(row.fits),
-      participants: Number(row.brainParticipants ?? row.sheetParticipants ?? 0),
-    });
-  }
+  for (const row of rows) out.set(row.studyId, countsOf(row));
   return out;
 }
 
@@ -94,19 +102,20 @@ function summary(study: Study, role: Role, counts: StudyCounts): StudySummary {
   };
 }
 
-/** Studies the person belongs to (not deleted), most recently created first. */
-export async function listStudies(db: Database, userId: string): Promise<StudySummary[]> {
-  const rows = await db
-    .select({ study: studies, role: memberships.role })
+const studiesOfPerson = perDatabase((db) =>
+  db
+    .select({ study: studies, role: memberships.role, ...countColumns() })
     .from(memberships)
     .innerJoin(studies, eq(studies.id, memberships.studyId))
-    .where(and(eq(memberships.userId, userId), isNull(studies.deletedAt)));
+    .where(and(eq(memberships.userId, sql.placeholder("userId")), isNull(studies.deletedAt)))
+    .prepare("studies_of_person"),
+);
+
+/** Studies the person belongs to (not deleted), most recently created first, with their counts. One query. */
+export async function listStudies(db: Database, userId: string): Promise<StudySummary[]> {
+  const rows = await studiesOfPerson(db).execute({ userId });
   rows.sort((a, b) => b.study.createdAt.getTime() - a.study.createdAt.getTime() || a.study.name.localeCompare(b.study.name));
-  const counts = await studyCounts(
-    db,
-    rows.map((r) => r.study.id),
-  );
-  return rows.map((r) => summary(r.study, r.role, counts.get(r.study.id) as StudyCounts));
+  return rows.map((r) => summary(r.study, r.role, countsOf(r)));
 }
 
 export async function studyDetail(db: Database, study: Study, role: Role): Promise<StudyDetail> {

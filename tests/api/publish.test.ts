@@ -191,7 +191,12 @@ describe("exact re-run of the recipe", () => {
       expect(run.stderr).toBe("");
       expect(run.code).toBe(0);
       const out = JSON.parse(run.stdout) as { regions: Record<string, unknown>[]; recipe: Record<string, unknown> };
-      expect(out.regions).toEqual(fit.body.result.regions);
+      // The fit view leaves each region's null histogram to the region detail: compare both.
+      expect(out.regions.map(({ nullHistogram: _, ...r }) => r)).toEqual(fit.body.result.regions);
+      for (const r of out.regions) {
+        const detail = await agents.analyst.get(`/api/fits/${fitId}/regions/${r.region as string}`).expect(200);
+        expect(r.nullHistogram).toEqual(detail.body.nullHistogram);
+      }
       // Not vacuous: estimates and the per-region N differ between regions; 2000 random rearrangements plus the observed order.
       expect(out.regions.map((r) => r.n)).toEqual([13, 13, 12]);
       expect(new Set(out.regions.map((r) => r.estimate)).size).toBe(3);
