@@ -4,9 +4,11 @@
  * PGlite keeps its files in one directory and does NOT lock it: one process
  * only (server/services/data-lock.ts takes the lock before this is called).
  * Always `close()` what you open; an open instance keeps Node alive.
+ * Writes are tracked for the read cache (db/read-cache.ts).
  */
 import { PGlite } from "@electric-sql/pglite";
 import { drizzle, type PgliteDatabase } from "drizzle-orm/pglite";
+import { trackWrites } from "./read-cache";
 import * as schema from "./schema";
 
 export type Database = PgliteDatabase<typeof schema>;
@@ -32,6 +34,7 @@ export interface OpenDatabaseOptions {
 export async function openDatabase(options: OpenDatabaseOptions = {}): Promise<OpenDatabase> {
   const pg = await PGlite.create({ dataDir: options.dataDir, loadDataDir: options.loadDataDir });
   const db = drizzle({ client: pg, schema });
+  trackWrites(pg, db);
   let closed = false;
   return {
     db,

@@ -11,7 +11,8 @@
  * same readers on an idle server first for comparison. Target: p95 ≤ 100 ms.
  * The readers run in this process on the same machine, and the fit's
  * worker thread takes one of its cores: on a 2-core machine the server's
- * request thread shares the other core with the readers.
+ * request thread shares the other core with the readers (the worker thread
+ * runs at a lower priority, server/jobs/thread-priority.ts).
  *
  * Then the one-region preview round trip (POST
  * /api/fits/:fitId/regions/:region/preview, N = 500, one participant set
@@ -75,7 +76,9 @@ export default async function fitsLoad(): Promise<void> {
   const dataDir = mkdtempSync(join(os.tmpdir(), "covarion-bench-"));
   const port = await freePort();
   const base = `http://127.0.0.1:${port}`;
-  const child = spawn(process.execPath, [...(process.env.BENCH_PROF ? ["--cpu-prof", "--cpu-prof-dir=" + process.env.BENCH_PROF] : []), "--import", "tsx", "server/index.ts"], {
+  // BENCH_PROF=<directory>: the server writes a CPU profile of its run there (open it in a Chromium developer tools window).
+  const profile = process.env.BENCH_PROF ? ["--cpu-prof", `--cpu-prof-dir=${process.env.BENCH_PROF}`] : [];
+  const child = spawn(process.execPath, [...profile, "--import", "tsx", "server/index.ts"], {
     env: { ...process.env, NODE_ENV: "development", DATA_DIR: dataDir, PORT: String(port), HOST: "127.0.0.1", PUBLIC_URL: base },
     stdio: ["ignore", "pipe", "pipe"],
   });

@@ -19,8 +19,6 @@ import type { ExpressAuthConfig } from "@auth/express";
 import type { Database } from "../../db/client";
 import { accounts, sessions, users, verificationTokens } from "../../db/schema";
 import { linkMail, type Mailer } from "../services/mailer";
-import type { Adapter } from "@auth/core/adapters";
-import { forgetSession } from "./access-cache";
 
 export const emailProviderId = "nodemailer";
 export const institutionProviderId = "institution";
@@ -100,15 +98,13 @@ export function authConfig(deps: AuthDeps): ExpressAuthConfig {
     trustHost: true,
     secret: deps.secret,
     ...(deps.secureCookies ? { useSecureCookies: true } : {}),
-    adapter: forgettingSessions(
-      deps.db,
-      DrizzleAdapter(deps.db, {
-        usersTable: users,
-        accountsTable: accounts,
-        sessionsTable: sessions,
-        verificationTokensTable: verificationTokens,
-      }),
-    ),
+    // Sessions it writes or deletes reach request look-ups at once: every write clears the read cache (db/read-cache.ts).
+    adapter: DrizzleAdapter(deps.db, {
+      usersTable: users,
+      accountsTable: accounts,
+      sessionsTable: sessions,
+      verificationTokensTable: verificationTokens,
+    }),
     session: { strategy: "database" },
     providers,
     pages: { signIn: "/sign-in", error: "/sign-in", verifyRequest: "/sign-in" },
@@ -130,16 +126,3 @@ export function authConfig(deps: AuthDeps): ExpressAuthConfig {
   };
 }
 
-/** The adapter, with a signed-out session also dropped from the request cache (server/auth/access-cache.ts). */
-function forgettingSessions(db: object, adapter: Adapter): Adapter {
-  const deleteSession = adapter.deleteSession;
-  if (!deleteSession) return adapter;
-  return {
-    ...adapter,
-    deleteSession: async (sessionToken: string): Promise<void> => {
-      forgetSession(db, sessionToken);
-      await deleteSession(sessionToken);
-      forgetSession(db, sessionToken);
-    },
-  };
-}

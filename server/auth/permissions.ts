@@ -23,13 +23,14 @@
  * After `authorize` passes, `res.locals.user` is the signed-in person and,
  * for study actions, `res.locals.study` and `res.locals.role` are set.
  */
-import { and, eq, isNull } from "drizzle-orm";
+import { and, eq, isNull, sql } from "drizzle-orm";
 import type { RequestHandler, Response } from "express";
 import type { Database } from "../../db/client";
+import { perDatabase } from "../../db/prepared";
+import { cachedRead } from "../../db/read-cache";
 import { memberships, studies, type Role, type Study, roles as allRoles } from "../../db/schema";
 import { forbidden, notFound, unauthorized } from "../http/errors";
 import { idSchema } from "../http/validate";
-import { cachedMembership, rememberMembership } from "./access-cache";
 import { currentUser, type SessionUser } from "./session";
 
 export type Audience =
@@ -165,19 +166,21 @@ export function authorize(action: Action, options: { studyOf?: StudyOf } = {}): 
   return handler;
 }
 
-async function findMembership(db: Database, studyId: string, user: SessionUser): Promise<AuthorizedStudy | null> {
-  if (!idSchema.safeParse(studyId).success) return null;
-  const cached = cachedMembership(db, studyId, user.id);
-  if (cached) return cached;
-  const rows = await db
+const membershipRow = perDatabase((db) =>
+  db
     .select({ study: studies, role: memberships.role })
     .from(memberships)
     .innerJoin(studies, eq(studies.id, memberships.studyId))
-    .where(and(eq(memberships.studyId, studyId), eq(memberships.userId, user.id), isNull(studies.deletedAt)))
-    .limit(1);
-  const found = rows[0] ?? null;
-  if (found) rememberMembership(db, studyId, user.id, found);
-  return found;
+    .where(and(eq(memberships.studyId, sql.placeholder("studyId")), eq(memberships.userId, sql.placeholder("userId")), isNull(studies.deletedAt)))
+    .limit(1)
+    .prepare("membership_row"),
+);
+
+/** The person's membership of a (not deleted) study, or null. Kept until the next write (db/read-cache.ts). */
+async function findMembership(db: Database, studyId: string, user: SessionUser): Promise<AuthorizedStudy | null> {
+  if (!idSchema.safeParse(studyId).success) return null;
+  const [found] = await cachedRead(db, `membership ${studyId} ${user.id}`, () => membershipRow(db).execute({ studyId, userId: user.id }));
+  return found ?? null;
 }
 
 /** The study and role `authorize` found (study routes only). */

@@ -8,11 +8,13 @@
  * same kind (demo one-tap sign-in).
  */
 import { randomBytes } from "node:crypto";
-import { and, eq, gt } from "drizzle-orm";
+import { eq, sql } from "drizzle-orm";
 import type { Request, RequestHandler, Response } from "express";
 import type { Database } from "../../db/client";
+import { perDatabase } from "../../db/prepared";
+import { cachedRead } from "../../db/read-cache";
 import { sessions, users } from "../../db/schema";
-import { cachedSession, rememberSession } from "./access-cache";
+
 
 export interface SessionUser {
   id: string;
@@ -51,20 +53,21 @@ export function loadSession(db: Database, clock: () => Date): RequestHandler {
   };
 }
 
-export async function userForSession(db: Database, token: string, now: Date): Promise<SessionUser | null> {
-  const cached = cachedSession(db, token, now);
-  if (cached) return cached;
-  const rows = await db
+const sessionRow = perDatabase((db) =>
+  db
     .select({ id: users.id, email: users.email, name: users.name, expires: sessions.expires })
     .from(sessions)
     .innerJoin(users, eq(users.id, sessions.userId))
-    .where(and(eq(sessions.sessionToken, token), gt(sessions.expires, now)))
-    .limit(1);
-  const row = rows[0];
-  if (!row || !row.email) return null;
-  const user = { id: row.id, email: row.email, name: row.name };
-  rememberSession(db, token, user, row.expires);
-  return user;
+    .where(eq(sessions.sessionToken, sql.placeholder("token")))
+    .limit(1)
+    .prepare("session_row"),
+);
+
+/** The person of an unexpired session, or null. The row is kept until the next write (db/read-cache.ts). */
+export async function userForSession(db: Database, token: string, now: Date): Promise<SessionUser | null> {
+  const [row] = await cachedRead(db, `session ${token}`, () => sessionRow(db).execute({ token }));
+  if (!row || !row.email || !(row.expires > now)) return null;
+  return { id: row.id, email: row.email, name: row.name };
 }
 
 /** The signed-in person, or null. */

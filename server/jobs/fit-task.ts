@@ -14,13 +14,18 @@
  * A statistical precondition comes back as `{ ok: false, code, message }`
  * (the fit's reason for failing); any other error is thrown (the main
  * thread logs it). Cancel: the main thread aborts the task and the pool
- * ends the worker thread.
+ * ends the worker thread. Worker threads run at a lower priority than the
+ * request thread (thread-priority.ts).
  */
 import type { MessagePort } from "node:worker_threads";
 import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../model/spec";
 import { StatsError } from "../stats/errors";
 import { type RegionPlot, regionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
+import { lowerWorkerThreadPriority } from "./thread-priority";
+
+// Fits run behind the request thread (see thread-priority.ts).
+lowerWorkerThreadPriority();
 
 export const PROGRESS_INTERVAL_MS = 100;
 

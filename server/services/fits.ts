@@ -18,6 +18,7 @@
 import { and, desc, eq, getTableColumns, inArray, sql } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
 import { perDatabase } from "../../db/prepared";
+import { cachedRead, deepFreeze } from "../../db/read-cache";
 import { datasetVersions, fitApprovals, fitRegions, fitSeals, fits, models, users, type Fit, type FitStatus, type Study } from "../../db/schema";
 import { conflict, notFound } from "../http/errors";
 import { idSchema } from "../http/validate";
@@ -199,9 +200,12 @@ const fitsOfModel = perDatabase((db) =>
     .prepare("fits_of_model"),
 );
 
-/** The study's fits, newest first (optionally of one model). One query. */
+/** The study's fits, newest first (optionally of one model). One query (kept until the next write, see db/read-cache.ts). */
 export async function listFits(db: Queryable, jobs: FitJobs, studyId: string, options: { modelId?: string } = {}): Promise<FitSummaryView[]> {
-  const rows: SummaryRow[] = options.modelId ? await fitsOfModel(db).execute({ studyId, modelId: options.modelId }) : await fitsOfStudy(db).execute({ studyId });
+  const { modelId } = options;
+  const rows: readonly SummaryRow[] = await cachedRead(db, `fits of ${studyId} ${modelId ?? "*"}`, () =>
+    modelId ? fitsOfModel(db).execute({ studyId, modelId }) : fitsOfStudy(db).execute({ studyId }),
+  );
   return rows.map((r) => summaryOf(r, jobs));
 }
 
@@ -249,14 +253,6 @@ interface DoneResult {
  */
 const RESULT_CACHE_CHARS = 64 * 1024 * 1024;
 const doneResults = new WeakMap<object, { entries: Map<string, DoneResult>; chars: number }>();
-
-function deepFreeze<T>(value: T): T {
-  if (value && typeof value === "object" && !Object.isFrozen(value)) {
-    Object.freeze(value);
-    for (const v of Object.values(value)) deepFreeze(v);
-  }
-  return value;
-}
 
 /** The finished fit's stored result (from memory when read before). */
 async function doneResultOf(db: Queryable, fitId: string, finishedAt: Date | null): Promise<DoneResult> {
@@ -327,7 +323,7 @@ const fitViewRow = perDatabase((db) =>
  * database hash to the sealed SHA-256. Throws 404.
  */
 export async function loadFitView(db: Queryable, jobs: FitJobs, studyId: string, fitId: string, participantsVisible: boolean): Promise<FitView> {
-  const [row] = await fitViewRow(db).execute({ fitId, studyId });
+  const [row] = await cachedRead(db, `fit view ${studyId} ${fitId}`, () => fitViewRow(db).execute({ fitId, studyId }));
   if (!row) throw notFound("Fit not found.");
   const summary = summaryOf(row, jobs);
   const ref = (v: DatasetRef | null, id: string): DatasetRef => (v?.id ? v : { id, version: 0, fileName: "", sha256: "" });

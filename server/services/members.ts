@@ -9,7 +9,6 @@ import type { Database, Queryable } from "../../db/client";
 import { memberships, users, type Role } from "../../db/schema";
 import { conflict, notFound } from "../http/errors";
 import { recordEvent } from "./audit";
-import { forgetStudyMemberships } from "../auth/access-cache";
 
 export interface MemberView {
   userId: string;
@@ -57,7 +56,6 @@ const lastOwnerMessage = "A study needs at least one Owner: make someone else Ow
 
 /** Changes a member's role. Throws 404 for a non-member, 409 when it would leave no Owner. */
 export async function changeRole(db: Database, actorId: string, studyId: string, userId: string, role: Role, now: Date): Promise<MemberView> {
-  forgetStudyMemberships(db, studyId);
   const changed = await db.transaction(async (tx) => {
     const member = await memberOf(tx, studyId, userId);
     if (member.role === role) return member;
@@ -75,13 +73,11 @@ export async function changeRole(db: Database, actorId: string, studyId: string,
     });
     return { ...member, role };
   });
-  forgetStudyMemberships(db, studyId);
   return changed;
 }
 
 /** Removes a member (or, when `actorId === userId`, leaves). 409 when it would leave no Owner. */
 export async function removeMember(db: Database, actorId: string, studyId: string, userId: string, now: Date): Promise<void> {
-  forgetStudyMemberships(db, studyId);
   await db.transaction(async (tx) => {
     const member = await memberOf(tx, studyId, userId);
     if (member.role === "owner" && (await ownerCount(tx, studyId)) <= 1) throw conflict(lastOwnerMessage);
@@ -96,5 +92,4 @@ export async function removeMember(db: Database, actorId: string, studyId: strin
       at: now,
     });
   });
-  forgetStudyMemberships(db, studyId);
 }

@@ -6,11 +6,11 @@
 import { and, eq, inArray, isNull, sql } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
 import { perDatabase } from "../../db/prepared";
+import { cachedRead } from "../../db/read-cache";
 import { datasetVersions, fits, memberships, models, studies, type Role, type Study } from "../../db/schema";
 import { capabilitiesOf } from "../auth/permissions";
 import { badRequest } from "../http/errors";
 import { recordEvent } from "./audit";
-import { forgetStudyMemberships } from "../auth/access-cache";
 
 export interface StudyCounts {
   members: number;
@@ -76,15 +76,18 @@ function countsOf(row: { members: unknown; models: unknown; fits: unknown; brain
   };
 }
 
-/** Counts per study (see countColumns). One query. */
+/** Counts per study (see countColumns). One query (kept until the next write, see db/read-cache.ts). */
 export async function studyCounts(db: Queryable, studyIds: readonly string[]): Promise<Map<string, StudyCounts>> {
   const out = new Map<string, StudyCounts>();
   for (const id of studyIds) out.set(id, { members: 0, participants: 0, models: 0, fits: 0 });
   if (studyIds.length === 0) return out;
-  const rows = await db
-    .select({ studyId: studies.id, ...countColumns() })
-    .from(studies)
-    .where(inArray(studies.id, [...studyIds]));
+  const ids = [...studyIds].sort();
+  const rows = await cachedRead(db, `counts of ${ids.join(",")}`, () =>
+    db
+      .select({ studyId: studies.id, ...countColumns() })
+      .from(studies)
+      .where(inArray(studies.id, ids)),
+  );
   for (const row of rows) out.set(row.studyId, countsOf(row));
   return out;
 }
@@ -111,9 +114,9 @@ const studiesOfPerson = perDatabase((db) =>
     .prepare("studies_of_person"),
 );
 
-/** Studies the person belongs to (not deleted), most recently created first, with their counts. One query. */
+/** Studies the person belongs to (not deleted), most recently created first, with their counts. One query (kept until the next write). */
 export async function listStudies(db: Database, userId: string): Promise<StudySummary[]> {
-  const rows = await studiesOfPerson(db).execute({ userId });
+  const rows = [...(await cachedRead(db, `studies of ${userId}`, () => studiesOfPerson(db).execute({ userId })))];
   rows.sort((a, b) => b.study.createdAt.getTime() - a.study.createdAt.getTime() || a.study.name.localeCompare(b.study.name));
   return rows.map((r) => summary(r.study, r.role, countsOf(r)));
 }
@@ -187,7 +190,6 @@ export async function updateStudy(db: Database, actor: Actor, study: Study, role
     }
     return row;
   });
-  forgetStudyMemberships(db, study.id);
   return studyDetail(db, updated, role);
 }
 
@@ -201,7 +203,6 @@ export async function deleteStudy(db: Database, actor: Actor, study: Study, conf
       { field: "body.confirm", message: "must repeat the study's name exactly" },
     ]);
   }
-  forgetStudyMemberships(db, study.id);
   await db.transaction(async (tx) => {
     await tx.update(studies).set({ deletedAt: now, deletedBy: actor.id }).where(eq(studies.id, study.id));
     await recordEvent(tx, {
@@ -215,5 +216,4 @@ export async function deleteStudy(db: Database, actor: Actor, study: Study, conf
       at: now,
     });
   });
-  forgetStudyMemberships(db, study.id);
 }
