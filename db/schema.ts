@@ -421,11 +421,12 @@ export const fitRegions = pgTable(
     position: integer("position").notNull(),
     region: text("region").notNull(),
     /**
-     * The region's ParticipantDiagnostics rows as JSON text (serialized in
-     * the worker thread; text is stored and read without the embedded
-     * database parsing it, which matters at hundreds of regions × thousands
-     * of participants). Stored out of line without compression (migration
-     * 0011), so storing a large fit does not hold up requests.
+     * The region's ParticipantDiagnostics rows as JSON text, column by
+     * column (server/jobs/region-rows.ts), serialized in the worker thread;
+     * text is stored and read without the embedded database parsing it,
+     * which matters at hundreds of regions × thousands of participants.
+     * Stored out of line without compression (migration 0011), so storing
+     * a large fit does not hold up requests.
      */
     participants: text("participants").notNull(),
     /** What the region's plots draw (server/stats/region-plot.ts), or { error }, as JSON text. */

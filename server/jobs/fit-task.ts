@@ -2,7 +2,8 @@
  * Worker-thread task of a fit job: runs `runFit` and, for every region with
  * participant diagnostics, the data its plots draw (`regionPlot`), and
  * serializes each region's rows to JSON text here, off the request thread
- * (at 400 regions × 500 participants that is ~100 MB of JSON). Workers
+ * (column by column, region-rows.ts: at 400 regions × 500 participants
+ * that is ~60 MB of JSON). Workers
  * compute only — no database, no files; the main thread writes everything.
  *
  * Messages on `port` (the main thread's end of a MessageChannel), in order:
@@ -22,6 +23,7 @@ import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../m
 import { StatsError } from "../stats/errors";
 import { type RegionPlot, regionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
+import { encodeRegionRows } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
 // Fits run behind the request thread (see thread-priority.ts).
@@ -89,7 +91,7 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
           plot = { error: e.message };
         }
       }
-      post({ type: "region", position, region, participants: JSON.stringify(rows), plot: plot === null ? null : JSON.stringify(plot) });
+      post({ type: "region", position, region, participants: encodeRegionRows(rows), plot: plot === null ? null : JSON.stringify(plot) });
     });
     post({ type: "regions-done", count: result.regions.length });
     return { ok: true, summary };

@@ -23,6 +23,7 @@ import { datasetVersions, fitApprovals, fitRegions, fitSeals, fits, models, user
 import { conflict, notFound } from "../http/errors";
 import { idSchema } from "../http/validate";
 import type { FitJobs, FitProgress } from "../jobs/fit-jobs";
+import { decodeRegionRows } from "../jobs/region-rows";
 import { circularityCaution } from "../model/model-form";
 import { type ModelSpec, type ParticipantDiagnostics, type RegionResult, modelSpecSchema } from "../model/spec";
 import type { RegionPlot } from "../stats/region-plot";
@@ -129,15 +130,15 @@ function progressOf(fit: Pick<Fit, "id" | "status" | "progress" | "secondsLeft">
   return { fraction: fit.status === "done" ? 1 : fit.progress, secondsLeft: fit.status === "running" ? fit.secondsLeft : null };
 }
 
+/** A column of the outer `fits` row, named in full (drizzle writes a selected column unqualified, which inside a subquery would mean the inner table's). */
+const outerFit = (column: string) => sql.raw(`"fits"."${column}"`);
+
 /**
  * The columns of a fit's summary (not its recipe or result, which can be
  * large). Its model and creator are scalar subqueries rather than joins:
  * the embedded database plans every query afresh, and planning a join
  * costs far more than running these one-row lookups.
  */
-/** A column of the outer `fits` row, named in full (drizzle writes a selected column unqualified, which inside a subquery would mean the inner table's). */
-const outerFit = (column: string) => sql.raw(`"fits"."${column}"`);
-
 const summaryColumns = {
   id: fits.id,
   studyId: fits.studyId,
@@ -227,7 +228,6 @@ export function withoutParticipantIds(r: RegionResult): RegionResult {
   }
   return out;
 }
-
 
 /** A finished fit's result as stored, parsed once, with the hash its seal is checked against. */
 interface DoneResult {
@@ -506,7 +506,7 @@ export async function regionDetail(db: Queryable, fit: Fit, region: string, part
     .where(and(eq(fitRegions.fitId, fit.id), eq(fitRegions.region, region)));
   const spec = specOfRecipe(fit.recipe as Record<string, unknown>);
   const result = fit.result as Record<string, unknown>;
-  const diagnostics = (row ? JSON.parse(row.participants) : []) as ParticipantDiagnostics[];
+  const diagnostics: ParticipantDiagnostics[] = row ? decodeRegionRows(row.participants, region) : [];
   const plot = (row?.plot ? JSON.parse(row.plot) : null) as RegionPlot | { error: string } | null;
   const drawn = plot && "points" in plot ? plot : null;
   const notes = [...(drawn?.notes ?? []), ...(plot && "error" in plot ? [`No plot data: ${plot.error}.`] : [])];
