@@ -249,9 +249,11 @@ interface DoneResult {
  * trigger), so a parsed copy stays right; reading and parsing a result of
  * 400 regions from the embedded database costs ~20 ms of the request
  * thread, which readers of a finished fit would otherwise pay every time.
- * Entries are frozen: callers copy before they change anything.
+ * Entries are frozen: callers copy before they change anything. The bound
+ * holds about 35 finished fits of 400 regions × 500 participants (counted
+ * as JSON text; the parsed objects take a few times more memory).
  */
-const RESULT_CACHE_CHARS = 64 * 1024 * 1024;
+const RESULT_CACHE_CHARS = 32 * 1024 * 1024;
 const doneResults = new WeakMap<object, { entries: Map<string, DoneResult>; chars: number }>();
 
 /** The finished fit's stored result (from memory when read before). */
