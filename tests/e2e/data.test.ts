@@ -8,30 +8,20 @@
  */
 import { readFileSync } from "node:fs";
 import { join } from "node:path";
-import { afterAll, beforeAll, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
+import { expect, it } from "vitest";
+import type { Page } from "playwright-core";
 import { projectRoot } from "../../scripts/web-build";
-import { launchBrowser, openPage, phone, screenshot, startServer, wide, type RunningServer } from "./harness";
+import { openPage, phone, screenshot, wide } from "./harness";
+import { sharedServerAndBrowser } from "./session";
 
 const brainFile = join(projectRoot, "assets", "demo", "harbour-bay_lantern-3-vs-1_brain-table.csv");
 const sheetFile = join(projectRoot, "assets", "demo", "harbour-bay_participants.tsv");
 
-let server: RunningServer;
-let browser: Browser;
-
-beforeAll(async () => {
-  server = await startServer();
-  browser = await launchBrowser();
-});
-
-afterAll(async () => {
-  await browser?.close();
-  await server?.stop();
-});
+const e2e = sharedServerAndBrowser();
 
 /** Signs in as the demo Analyst and opens the demo study, which opens on its Data section. */
 async function openDemoData(page: Page): Promise<string> {
-  await page.goto(`${server.url}/sign-in`);
+  await page.goto(`${e2e.server.url}/sign-in`);
   await page.getByRole("button", { name: "Sign in as the demo analyst" }).click();
   await page.waitForURL(/\/studies$/);
   await page.getByRole("link", { name: /\(demo\), your role: analyst/ }).click();
@@ -45,7 +35,7 @@ async function chooseKind(page: Page, kind: "Brain table" | "Participant sheet")
 }
 
 it("the demo Analyst uploads both demo files at phone size, confirms them, maps the near miss and reads the roster", async () => {
-  const { page, context, errors } = await openPage(browser, phone);
+  const { page, context, errors } = await openPage(e2e.browser, phone);
   try {
     const studyPath = await openDemoData(page);
     // The seeded demo data are version 1 of each kind.
@@ -138,7 +128,7 @@ it("the demo Analyst uploads both demo files at phone size, confirms them, maps 
     // Export: the CSV the link downloads.
     const href = await page.getByTestId("roster-csv").getAttribute("href");
     expect(href).toBe(`/api${studyPath}/roster.csv`);
-    const csv = await context.request.get(`${server.url}${href}`);
+    const csv = await context.request.get(`${e2e.server.url}${href}`);
     expect(csv.status()).toBe(200);
     const lines = (await csv.text()).trim().split(/\r?\n/);
     expect(lines[0]).toBe("participant,brain_table_id,participant_sheet_id,status,matched_by,sessions,group,age,sex,accuracy,rt_ms,symptom_score,mean_fd");
@@ -152,7 +142,7 @@ it("the demo Analyst uploads both demo files at phone size, confirms them, maps 
 });
 
 it("refused files and refused confirmations are listed by row and column, and store nothing", async () => {
-  const { page, context, errors } = await openPage(browser, phone);
+  const { page, context, errors } = await openPage(e2e.browser, phone);
   try {
     const studyPath = await openDemoData(page);
     const upload = page.getByTestId("upload");
@@ -206,7 +196,7 @@ it("refused files and refused confirmations are listed by row and column, and st
 });
 
 it("columns that may hold direct identifiers must be dropped or kept with a written reason before Confirm", async () => {
-  const { page, context, errors } = await openPage(browser, phone);
+  const { page, context, errors } = await openPage(e2e.browser, phone);
   try {
     const studyPath = await openDemoData(page);
     // The demo sheet with two invented identifier-like columns added.
@@ -243,7 +233,7 @@ it("columns that may hold direct identifiers must be dropped or kept with a writ
     await facts.getByText("Dropped at upload (never stored): name.").waitFor();
     await facts.getByText("Kept email although it may hold direct identifiers. Reason: Invented contact codes for this test, not real addresses").waitFor();
 
-    const csv = await context.request.get(`${server.url}/api${studyPath}/roster.csv`);
+    const csv = await context.request.get(`${e2e.server.url}/api${studyPath}/roster.csv`);
     const header = (await csv.text()).split("\r\n")[0].split(",");
     expect(header).toContain("email");
     expect(header).not.toContain("name");
@@ -254,9 +244,9 @@ it("columns that may hold direct identifiers must be dropped or kept with a writ
 });
 
 it("a roster of 1,200 participants is read whole (two server pages) and paged, sorted and searched in the table", async () => {
-  const { page, context, errors } = await openPage(browser, wide);
+  const { page, context, errors } = await openPage(e2e.browser, wide);
   try {
-    await page.goto(`${server.url}/sign-in`);
+    await page.goto(`${e2e.server.url}/sign-in`);
     await page.getByRole("button", { name: "Sign in as the demo analyst" }).click();
     await page.waitForURL(/\/studies$/);
     await page.getByTestId("new-study").click();
@@ -308,7 +298,7 @@ it("a roster of 1,200 participants is read whole (two server pages) and paged, s
 });
 
 it("reads well at wide size: versions side by side, an older version's rows, the report and the roster", async () => {
-  const { page, context, errors } = await openPage(browser, wide);
+  const { page, context, errors } = await openPage(e2e.browser, wide);
   try {
     await openDemoData(page);
     await page.getByTestId("join-report").getByTestId("mapping").waitFor();
@@ -328,10 +318,10 @@ it("reads well at wide size: versions side by side, an older version's rows, the
 });
 
 it("a Viewer of a restricted study sees the counts and versions, never participant rows, and no upload", async () => {
-  const owner = await openPage(browser, wide);
-  const viewer = await openPage(browser, phone);
+  const owner = await openPage(e2e.browser, wide);
+  const viewer = await openPage(e2e.browser, phone);
   try {
-    await owner.page.goto(`${server.url}/sign-in`);
+    await owner.page.goto(`${e2e.server.url}/sign-in`);
     await owner.page.getByRole("button", { name: "Sign in as the demo owner" }).click();
     await owner.page.waitForURL(/\/studies$/);
     await owner.page.getByRole("link", { name: /\(demo\), your role: owner/ }).click();
@@ -341,7 +331,7 @@ it("a Viewer of a restricted study sees the counts and versions, never participa
     await owner.page.getByText("Participant rows restricted").waitFor();
 
     const { page } = viewer;
-    await page.goto(`${server.url}/sign-in`);
+    await page.goto(`${e2e.server.url}/sign-in`);
     await page.getByRole("button", { name: "Sign in as the demo viewer" }).click();
     await page.waitForURL(/\/studies$/);
     await page.getByRole("link", { name: /\(demo\), your role: viewer/ }).click();

@@ -5,31 +5,20 @@
  * open a region → one mark per participant, flagged ones distinct → set one
  * aside with a reason → refit → Activity shows it.
  */
-import { afterAll, beforeAll, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { launchBrowser, openPage, phone, screenshot, startServer, wide, type RunningServer } from "./harness";
+import { expect, it } from "vitest";
+import { openPage, phone, screenshot, wide } from "./harness";
+import { sharedServerAndBrowser } from "./session";
 
-let server: RunningServer;
-let browser: Browser;
-
-beforeAll(async () => {
-  server = await startServer();
-  browser = await launchBrowser();
-});
-
-afterAll(async () => {
-  await browser?.close();
-  await server?.stop();
-});
+const e2e = sharedServerAndBrowser();
 
 for (const [label, viewport] of [
   ["phone", phone],
   ["wide", wide],
 ] as const) {
   it(`runs, inspects, sets aside and refits at ${label} size`, async () => {
-    const { page, context, errors } = await openPage(browser, viewport);
+    const { page, context, errors } = await openPage(e2e.browser, viewport);
     try {
-      await page.goto(`${server.url}/sign-in`);
+      await page.goto(`${e2e.server.url}/sign-in`);
       await page.getByRole("button", { name: "Sign in as the demo analyst" }).click();
       await page.waitForURL(/\/studies$/);
       await page.getByTestId("study-card").first().click();

@@ -4,34 +4,23 @@
  * (e-mail link through the Mailbox, institution sign-in through the local
  * identity provider) lead to the Studies screen.
  */
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { launchBrowser, openPage, phone, screenshot, startServer, wide, type RunningServer } from "./harness";
+import { describe, expect, it } from "vitest";
+import { openPage, phone, screenshot, wide } from "./harness";
+import { sharedServerAndBrowser } from "./session";
 
-let server: RunningServer;
-let browser: Browser;
-
-beforeAll(async () => {
-  server = await startServer();
-  browser = await launchBrowser();
-});
-
-afterAll(async () => {
-  await browser?.close();
-  await server?.stop();
-});
+const e2e = sharedServerAndBrowser();
 
 describe("serving the app", () => {
   it("answers the health check, the app and a deep link", async () => {
-    const health = await fetch(`${server.url}/api/health`);
+    const health = await fetch(`${e2e.server.url}/api/health`);
     expect(health.status).toBe(200);
     expect(await health.json()).toMatchObject({ ok: true });
-    const root = await fetch(`${server.url}/`);
+    const root = await fetch(`${e2e.server.url}/`);
     expect(root.status).toBe(200);
     expect(await root.text()).toContain("<title>Covarion</title>");
-    const deep = await fetch(`${server.url}/studies`);
+    const deep = await fetch(`${e2e.server.url}/studies`);
     expect(deep.status).toBe(200);
-    const studies = await fetch(`${server.url}/api/studies`);
+    const studies = await fetch(`${e2e.server.url}/api/studies`);
     expect(studies.status).toBe(401);
     expect(await studies.json()).toMatchObject({ error: { code: expect.any(String), message: expect.any(String) } });
   });
@@ -43,9 +32,9 @@ for (const [label, viewport] of [
 ] as const) {
   describe(`at ${label} size`, () => {
     it("signs in with an e-mail link from the Mailbox and shows the Studies screen", async () => {
-      const { page, context, errors } = await openPage(browser, viewport);
+      const { page, context, errors } = await openPage(e2e.browser, viewport);
       try {
-        await page.goto(`${server.url}/studies`);
+        await page.goto(`${e2e.server.url}/studies`);
         await page.getByText("Sign in with an e-mail link").waitFor();
         await expect(page.getByText("Covarion").first().isVisible()).resolves.toBe(true);
         await screenshot(page, `sign-in-${label}`);
@@ -53,7 +42,7 @@ for (const [label, viewport] of [
         await page.getByTestId("email-input").fill(address);
         await page.getByTestId("send-link").click();
         await page.getByText("Check your e-mail").waitFor();
-        await page.goto(`${server.url}/mailbox`);
+        await page.goto(`${e2e.server.url}/mailbox`);
         const message = page.getByTestId("mail-message").filter({ hasText: address }).first();
         await message.waitFor();
         await screenshot(page, `mailbox-${label}`);
@@ -70,9 +59,9 @@ for (const [label, viewport] of [
     });
 
     it("signs in through the institution's identity provider as a demo person and lists the demo study", async () => {
-      const { page, context, errors } = await openPage(browser, viewport);
+      const { page, context, errors } = await openPage(e2e.browser, viewport);
       try {
-        await page.goto(`${server.url}/sign-in`);
+        await page.goto(`${e2e.server.url}/sign-in`);
         await page.getByTestId("institution-sign-in").click();
         const owner = page.getByText("owner@demo.covarion.test").first();
         await owner.waitFor();

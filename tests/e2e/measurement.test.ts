@@ -5,25 +5,15 @@
  * a trait's reliability with its source (a missing source is refused beside
  * its field, before any request); a Viewer reads the stated value.
  */
-import { afterAll, beforeAll, expect, it } from "vitest";
-import type { Browser, Page } from "playwright-core";
-import { launchBrowser, openPage, phone, screenshot, startServer, wide, type RunningServer } from "./harness";
+import { expect, it } from "vitest";
+import type { Page } from "playwright-core";
+import { openPage, phone, screenshot, wide } from "./harness";
+import { sharedServerAndBrowser } from "./session";
 
-let server: RunningServer;
-let browser: Browser;
-
-beforeAll(async () => {
-  server = await startServer();
-  browser = await launchBrowser();
-});
-
-afterAll(async () => {
-  await browser?.close();
-  await server?.stop();
-});
+const e2e = sharedServerAndBrowser();
 
 async function openDemoData(page: Page, role: "analyst" | "viewer"): Promise<void> {
-  await page.goto(`${server.url}/sign-in`);
+  await page.goto(`${e2e.server.url}/sign-in`);
   await page.getByRole("button", { name: `Sign in as the demo ${role}` }).click();
   await page.waitForURL(/\/studies$/);
   await page.getByRole("link", { name: new RegExp(`\\(demo\\), your role: ${role}`) }).click();
@@ -31,7 +21,7 @@ async function openDemoData(page: Page, role: "analyst" | "viewer"): Promise<voi
 }
 
 it("the demo Analyst reads the reliability per region and states a trait's reliability with its source (phone)", async () => {
-  const { page, context, errors } = await openPage(browser, phone);
+  const { page, context, errors } = await openPage(e2e.browser, phone);
   try {
     await openDemoData(page, "analyst");
     const table = page.getByTestId("brain-reliability-table");
@@ -61,7 +51,7 @@ it("the demo Analyst reads the reliability per region and states a trait's relia
 });
 
 it("a Viewer reads the stated trait reliability and the region table on a wide screen", async () => {
-  const { page, context, errors } = await openPage(browser, wide);
+  const { page, context, errors } = await openPage(e2e.browser, wide);
   try {
     await openDemoData(page, "viewer");
     const list = page.getByTestId("trait-reliability-list");

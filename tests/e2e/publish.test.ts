@@ -5,28 +5,27 @@
  * badge with the hash → the activity trail names both steps.
  */
 import { readFileSync } from "node:fs";
-import { afterAll, beforeAll, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { launchBrowser, openPage, phone, screenshot, startServer, wide, type RunningServer } from "./harness";
+import { beforeAll, expect, it } from "vitest";
+import { openPage, phone, screenshot, wide } from "./harness";
+import { sharedServerAndBrowser } from "./session";
 
-let server: RunningServer;
-let browser: Browser;
+const e2e = sharedServerAndBrowser();
 let studyId: string;
 const fitIds = new Map<string, string>();
 
 /** Calls the API as the demo Owner (a real session cookie from the demo sign-in route). */
 async function ownerApi(): Promise<(path: string, init?: { method?: string; body?: unknown }) => Promise<unknown>> {
-  const signIn = await fetch(`${server.url}/api/dev/demo-sign-in`, {
+  const signIn = await fetch(`${e2e.server.url}/api/dev/demo-sign-in`, {
     method: "POST",
-    headers: { "Content-Type": "application/json", Origin: server.url },
+    headers: { "Content-Type": "application/json", Origin: e2e.server.url },
     body: JSON.stringify({ email: "owner@demo.covarion.test" }),
   });
   if (!signIn.ok) throw new Error(`demo sign-in answered ${signIn.status}`);
   const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
   return async (path, init = {}) => {
-    const res = await fetch(`${server.url}${path}`, {
+    const res = await fetch(`${e2e.server.url}${path}`, {
       method: init.method ?? "GET",
-      headers: { Cookie: cookie, Origin: server.url, ...(init.body !== undefined ? { "Content-Type": "application/json" } : {}) },
+      headers: { Cookie: cookie, Origin: e2e.server.url, ...(init.body !== undefined ? { "Content-Type": "application/json" } : {}) },
       body: init.body !== undefined ? JSON.stringify(init.body) : undefined,
     });
     if (!res.ok) throw new Error(`${init.method ?? "GET"} ${path} answered ${res.status}: ${await res.text()}`);
@@ -35,8 +34,6 @@ async function ownerApi(): Promise<(path: string, init?: { method?: string; body
 }
 
 beforeAll(async () => {
-  server = await startServer();
-  browser = await launchBrowser();
   const api = await ownerApi();
   const studies = (await api("/api/studies")) as { id: string }[];
   studyId = studies[0].id;
@@ -63,23 +60,18 @@ beforeAll(async () => {
   }
 });
 
-afterAll(async () => {
-  await browser?.close();
-  await server?.stop();
-});
-
 for (const [label, viewport] of [
   ["phone", phone],
   ["wide", wide],
 ] as const) {
   it(`the Owner reads the methods, downloads the region table, approves and seals at ${label} size`, async () => {
-    const { page, context, errors } = await openPage(browser, viewport);
+    const { page, context, errors } = await openPage(e2e.browser, viewport);
     try {
-      await page.goto(`${server.url}/sign-in`);
+      await page.goto(`${e2e.server.url}/sign-in`);
       await page.getByRole("button", { name: "Sign in as the demo owner" }).click();
       await page.waitForURL(/\/studies$/);
       const fitId = fitIds.get(label) as string;
-      await page.goto(`${server.url}/studies/${studyId}/fits/${fitId}`);
+      await page.goto(`${e2e.server.url}/studies/${studyId}/fits/${fitId}`);
       const panel = page.getByTestId("publish-panel");
       await panel.waitFor({ timeout: 60_000 });
       await expect(page.getByTestId("publish-status").textContent()).resolves.toBe("Not yet approved for sealing.");
@@ -106,7 +98,7 @@ for (const [label, viewport] of [
       const lines = csv.trimEnd().split("\r\n");
       expect(lines[0]).toBe("region,n,estimate,se,statistic,df,p,p_adjusted,ci_low,ci_high,r,r_ci_low,r_ci_high,method,inference,correction");
       expect(lines.length - 1).toBe(await page.getByTestId("region-table").locator('[role="row"][aria-selected]').count());
-      const direct = await page.request.get(`${server.url}/api/fits/${fitId}/regions.csv`);
+      const direct = await page.request.get(`${e2e.server.url}/api/fits/${fitId}/regions.csv`);
       expect(direct.status()).toBe(200);
       expect(direct.headers()["content-type"]).toMatch(/^text\/csv/);
       expect(await direct.text()).toBe(csv);
@@ -117,7 +109,7 @@ for (const [label, viewport] of [
       await page.getByTestId("seal-fit").click();
       const badge = page.getByTestId("sealed-badge");
       await badge.waitFor();
-      const sealed = (await page.request.get(`${server.url}/api/fits/${fitId}`).then((r) => r.json())) as { seal: { sha256: string } };
+      const sealed = (await page.request.get(`${e2e.server.url}/api/fits/${fitId}`).then((r) => r.json())) as { seal: { sha256: string } };
       await expect(badge.textContent()).resolves.toContain(sealed.seal.sha256.slice(0, 12));
       await expect(page.getByTestId("seal-hash").textContent()).resolves.toContain(sealed.seal.sha256);
       await expect(page.getByTestId("approve-fit").count()).resolves.toBe(0);
