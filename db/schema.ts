@@ -12,7 +12,7 @@
  * committed under db/migrations.
  */
 import { sql } from "drizzle-orm";
-import { boolean, check, doublePrecision, index, integer, jsonb, pgTable, primaryKey, text, timestamp, uniqueIndex } from "drizzle-orm/pg-core";
+import { type AnyPgColumn, boolean, check, doublePrecision, index, integer, jsonb, pgTable, primaryKey, text, timestamp, uniqueIndex } from "drizzle-orm/pg-core";
 
 export const roles = ["owner", "analyst", "reviewer", "viewer"] as const;
 export type Role = (typeof roles)[number];
@@ -86,6 +86,15 @@ export const studies = pgTable("studies", {
   /** Soft delete: the row and its audit trail stay; the study disappears from every route. */
   deletedAt: timestamp("deleted_at", { mode: "date", withTimezone: true }),
   deletedBy: text("deleted_by").references(() => users.id),
+  /** Archived: read-only for everyone, still readable (a study with sealed fits is archived, never deleted). */
+  archivedAt: timestamp("archived_at", { mode: "date", withTimezone: true }),
+  archivedBy: text("archived_by").references(() => users.id),
+  /**
+   * "A second person signs off": while true, whoever started a fit cannot
+   * approve it. An Owner may turn it off (a one-person lab); a seal then
+   * records that one person signed off.
+   */
+  secondPersonSignOff: boolean("second_person_sign_off").notNull().default(true),
 });
 
 export const memberships = pgTable(
@@ -368,6 +377,8 @@ export const fits = pgTable(
     startedAt: timestamp("started_at", { mode: "date", withTimezone: true }),
     finishedAt: timestamp("finished_at", { mode: "date", withTimezone: true }),
     cancelledBy: text("cancelled_by").references(() => users.id),
+    /** The earlier fit of the same model this one re-runs (after a set-aside or new data); null for a first fit. */
+    refitOf: text("refit_of").references((): AnyPgColumn => fits.id),
   },
   (t) => [
     index("fits_study_idx").on(t.studyId, t.createdAt),
@@ -506,6 +517,10 @@ export const fitSeals = pgTable(
       .notNull()
       .references(() => users.id),
     sealedAt: timestamp("sealed_at", { mode: "date", withTimezone: true }).notNull(),
+    /** True when the study let one person start, approve and seal this fit. */
+    singlePersonSignOff: boolean("single_person_sign_off").notNull().default(false),
+    /** The model as it was at sealing ({ name, regionSelection, circular }); later renames do not reach a sealed fit. */
+    model: jsonb("model"),
   },
   (t) => [check("fit_seals_sha256_check", sql`${t.sha256} ~ '^[0-9a-f]{64}$'`)],
 );
