@@ -1,91 +1,176 @@
 /**
- * An exclusive lock on a data directory, because PGlite has none: two
- * processes on one database directory lose committed rows.
+ * An exclusive lock on a data folder, held for the server's lifetime,
+ * because the embedded database has none: two processes on one database
+ * folder lose committed rows.
  *
- * The lock is a file beside the data directory (`<dataDir>.lock`, so it
- * is never inside the database files), created atomically (`wx`) with the
- * owner's pid inside. A lock left by a process that no longer runs is taken
- * over; a lock held by a live process makes `acquireDataLock` throw a
- * `DataLockError` naming that pid.
+ * - The folder's real path is resolved first (it is created when missing),
+ *   so `DATA_DIR=/x` and `DATA_DIR=/x-link` (a symlink) are one folder.
+ * - The lock lives inside the folder itself (`<real dataDir>/server.lock`),
+ *   so every path to the folder — symlink or bind mount — sees the same lock.
+ * - It is proper-lockfile's lock: an atomic `mkdir`, whose mtime the holder
+ *   refreshes every `updateMs`. Liveness is judged by that mtime, never by a
+ *   pid (pids are reused after a hard kill, and two pid namespaces sharing a
+ *   volume would each see the other's pid as alive or dead at random). A
+ *   lock not refreshed for `staleMs` belongs to a process that died without
+ *   releasing it (kill -9, power loss) and is taken over; a live holder
+ *   refreshes it well within that time and is never taken over.
+ * - It is released on a normal close, and removed on process exit
+ *   (proper-lockfile's exit hook), which includes SIGINT/SIGTERM shutdowns.
+ * - When the lock is compromised (its folder removed or taken over, for
+ *   example after the event loop stalled longer than `staleMs`), the holder
+ *   must stop writing at once: by default the process exits with code 1
+ *   without closing the database (a hard stop loses nothing committed, a
+ *   close could write into files another server now owns).
+ *
+ * Who holds the lock (pid, host, since when) is written beside it in
+ * `server.lock.json`, for the refusal message only.
  */
-import { readFileSync, rmSync, writeFileSync } from "node:fs";
-import { resolve } from "node:path";
+import { mkdirSync, readFileSync, realpathSync, rmSync, statSync, writeFileSync } from "node:fs";
+import { hostname } from "node:os";
+import { join, resolve } from "node:path";
+import { lockSync } from "proper-lockfile";
+
+/** A lock not refreshed for this long is taken over. */
+export const DATA_LOCK_STALE_MS = 10_000;
+/** How often the holder refreshes its lock (well within the stale period). */
+export const DATA_LOCK_UPDATE_MS = 2_000;
+/** How long a new holder waits before checking that nobody took the lock in the same instant. */
+const SETTLE_MS = 150;
 
 export class DataLockError extends Error {
-  readonly pid: number;
-  constructor(message: string, pid: number) {
+  /** The real path of the data folder. */
+  readonly folder: string;
+  constructor(message: string, folder: string) {
     super(message);
     this.name = "DataLockError";
-    this.pid = pid;
+    this.folder = folder;
   }
 }
 
 export interface DataLock {
+  /** The real path of the locked data folder. */
+  readonly folder: string;
+  /** The lock itself (a folder inside the data folder). */
   readonly file: string;
-  /** Removes the lock file if this process still owns it. Idempotent. */
+  /** Releases the lock if this process still holds it. Idempotent. */
   release(): void;
 }
 
-/** The lock file path for a data directory. */
-export function lockFileFor(dataDir: string): string {
-  return `${resolve(dataDir).replace(/[\\/]+$/, "")}.lock`;
+export interface DataLockOptions {
+  /** A lock not refreshed for this long is taken over (default 10 s; at least 2 s). */
+  staleMs?: number;
+  /** How often the lock is refreshed (default 2 s; at least 1 s, at most half of `staleMs`). */
+  updateMs?: number;
+  /** Called once when the lock was lost; default: print and exit with code 1 at once. */
+  onCompromised?: (error: Error) => void;
 }
 
-/** True when a process with this pid exists (EPERM means it exists but is not ours). */
-export function isProcessAlive(pid: number): boolean {
-  if (!Number.isInteger(pid) || pid <= 0) return false;
-  try {
-    process.kill(pid, 0);
-    return true;
-  } catch (error) {
-    return (error as NodeJS.ErrnoException).code === "EPERM";
-  }
+/** The lock's path for a data folder whose real path is `folder`. */
+export function lockFileFor(folder: string): string {
+  return join(folder, "server.lock");
+}
+
+function ownerFileFor(folder: string): string {
+  return join(folder, "server.lock.json");
+}
+
+/** Creates the folder when missing and returns its real path (symlinks resolved). */
+export function realDataFolder(dataDir: string): string {
+  const absolute = resolve(dataDir);
+  mkdirSync(absolute, { recursive: true });
+  return realpathSync(absolute);
 }
 
 /**
- * Takes the lock for `dataDir` on behalf of `pid` (default: this process).
- * Throws `DataLockError` when a live process holds it.
+ * Takes the lock for `dataDir` for this process's lifetime. Throws
+ * `DataLockError` naming the folder when another live server holds it.
  */
-export function acquireDataLock(dataDir: string, pid: number = process.pid): DataLock {
-  const file = lockFileFor(dataDir);
-  for (let attempt = 0; attempt < 3; attempt++) {
-    try {
-      writeFileSync(file, `${pid}\n`, { flag: "wx" });
-      return makeLock(file, pid);
-    } catch (error) {
-      if ((error as NodeJS.ErrnoException).code !== "EEXIST") throw error;
-    }
-    const holder = readHolder(file);
-    if (holder !== null && holder !== pid && isProcessAlive(holder)) {
-      throw new DataLockError(
-        `The data directory ${resolve(dataDir)} is in use by another Covarion server (pid ${holder}). Stop that server first, or choose another DATA_DIR. Lock file: ${file}`,
-        holder,
+export function acquireDataLock(dataDir: string, options: DataLockOptions = {}): DataLock {
+  const folder = realDataFolder(dataDir);
+  const file = lockFileFor(folder);
+  const staleMs = options.staleMs ?? DATA_LOCK_STALE_MS;
+  const onCompromised =
+    options.onCompromised ??
+    ((error: Error) => {
+      console.error(
+        `Covarion stops: the lock of the data folder ${folder} was lost (${error.message}); another server may be using it. Stopping without further writes.`,
       );
-    }
-    if (holder === pid) return makeLock(file, pid);
-    // The holder is gone (or the file is unreadable): take the lock over.
-    rmSync(file, { force: true });
+      process.exit(1);
+    });
+  let releaseLock: () => void;
+  try {
+    releaseLock = lockSync(folder, {
+      lockfilePath: file,
+      realpath: false,
+      stale: staleMs,
+      update: options.updateMs ?? DATA_LOCK_UPDATE_MS,
+      onCompromised,
+    });
+  } catch (error) {
+    const code = (error as NodeJS.ErrnoException).code;
+    if (code === "ELOCKED" || code === "ENOENT") throw inUse(folder, file, staleMs);
+    throw error;
   }
-  throw new Error(`Could not take the lock ${file} after three attempts.`);
+
+  // Two servers that found the same stale lock at the same instant could
+  // each remove it and believe they made the new one: wait a moment and
+  // check the lock is still the one this process made.
+  const made = statSync(file, { bigint: true });
+  Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, SETTLE_MS);
+  const now = safeStat(file);
+  if (!now || now.ino !== made.ino || now.ctimeNs !== made.ctimeNs) {
+    try {
+      releaseLock();
+    } catch {
+      // the lock is no longer ours; nothing to release
+    }
+    throw inUse(folder, file, staleMs);
+  }
+
+  writeFileSync(ownerFileFor(folder), `${JSON.stringify({ pid: process.pid, host: hostname(), since: new Date().toISOString() })}\n`);
+  let released = false;
+  return {
+    folder,
+    file,
+    release() {
+      if (released) return;
+      released = true;
+      const owner = readOwner(folder);
+      if (owner?.pid === process.pid && owner.host === hostname()) rmSync(ownerFileFor(folder), { force: true });
+      try {
+        releaseLock();
+      } catch (error) {
+        // Already released or lost (onCompromised has been told): nothing left to remove.
+        if ((error as NodeJS.ErrnoException).code !== "ERELEASED") throw error;
+      }
+    },
+  };
 }
 
-function readHolder(file: string): number | null {
+function safeStat(file: string) {
   try {
-    const pid = Number.parseInt(readFileSync(file, "utf8").trim(), 10);
-    return Number.isInteger(pid) ? pid : null;
+    return statSync(file, { bigint: true });
   } catch {
     return null;
   }
 }
 
-function makeLock(file: string, pid: number): DataLock {
-  let released = false;
-  return {
-    file,
-    release() {
-      if (released) return;
-      released = true;
-      if (readHolder(file) === pid) rmSync(file, { force: true });
-    },
-  };
+function inUse(folder: string, file: string, staleMs: number): DataLockError {
+  const owner = readOwner(folder);
+  const who = owner ? ` (pid ${owner.pid} on host ${owner.host}, since ${owner.since})` : "";
+  return new DataLockError(
+    `The data folder ${folder} is in use by another Covarion server${who}. Stop that server first, or choose another DATA_DIR. ` +
+      `A server that was killed without stopping leaves its lock (${file}), which is taken over ${staleMs / 1000} s after that server's last sign of life.`,
+    folder,
+  );
+}
+
+function readOwner(folder: string): { pid: number; host: string; since: string } | null {
+  try {
+    const parsed = JSON.parse(readFileSync(ownerFileFor(folder), "utf8")) as { pid?: unknown; host?: unknown; since?: unknown };
+    if (typeof parsed.pid !== "number" || typeof parsed.host !== "string" || typeof parsed.since !== "string") return null;
+    return { pid: parsed.pid, host: parsed.host, since: parsed.since };
+  } catch {
+    return null;
+  }
 }

@@ -1,10 +1,12 @@
 /**
- * The data directory: rows survive a restart, the lock keeps a second
- * server out (with a message naming the holder's pid), a dead holder's lock
- * is taken over, and the real server shuts down cleanly on SIGTERM.
+ * The data directory: rows survive a restart; the lock keeps a second
+ * server out whatever path names the folder (a symlink too), with a message
+ * naming the folder; a hard-killed holder's lock is taken over after the
+ * stale period and a live holder's never; a lost lock stops its holder; the
+ * real server shuts down cleanly on SIGTERM.
  */
-import { spawn, spawnSync, type ChildProcess } from "node:child_process";
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
+import { spawn, type ChildProcess } from "node:child_process";
+import { existsSync, mkdtempSync, realpathSync, rmSync, symlinkSync } from "node:fs";
 import { createServer } from "node:net";
 import { tmpdir } from "node:os";
 import { dirname, join } from "node:path";
@@ -20,36 +22,118 @@ const root = join(dirname(fileURLToPath(import.meta.url)), "..", "..");
 const made: string[] = [];
 function tempDir(): string {
   const dir = mkdtempSync(join(tmpdir(), "covarion-data-"));
-  made.push(dir, lockFileFor(dir));
+  made.push(dir);
   return dir;
+}
+/** A symlink to `target` in a separate temporary folder. */
+function linkTo(target: string): string {
+  const link = join(tempDir(), "data-link");
+  symlinkSync(target, link);
+  return link;
 }
 afterAll(() => {
   for (const path of made) rmSync(path, { recursive: true, force: true });
 });
 
+interface Holder {
+  child: ChildProcess;
+  output: () => string;
+  exited: Promise<number | null>;
+}
+
+/** Starts a separate process that takes the lock of `dataDir` and holds it until killed. */
+async function startHolder(dataDir: string, updateMs: number): Promise<Holder> {
+  let out = "";
+  const child = spawn(process.execPath, ["--import", "tsx", "tests/api/data-lock-holder.ts", dataDir, String(updateMs)], {
+    cwd: root,
+    stdio: ["ignore", "pipe", "pipe"],
+  });
+  const collect = (c: Buffer) => {
+    out += c.toString();
+  };
+  child.stdout?.on("data", collect);
+  child.stderr?.on("data", collect);
+  const exited = new Promise<number | null>((resolve) => child.once("exit", (code) => resolve(code)));
+  const deadline = Date.now() + 20_000;
+  while (!out.includes("locked")) {
+    if (child.exitCode !== null || Date.now() > deadline) throw new Error(`the lock holder did not start:\n${out}`);
+    await new Promise((r) => setTimeout(r, 50));
+  }
+  return { child, output: () => out, exited };
+}
+
+const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
+
 describe("data directory lock", () => {
-  it("refuses a second holder while the first lives, naming its pid", () => {
+  it("refuses a second holder on a symlink to the same folder, naming the folder, until the first stops", async () => {
     const dir = tempDir();
-    const lock = acquireDataLock(dir);
-    expect(readFileSync(lockFileFor(dir), "utf8").trim()).toBe(String(process.pid));
-    const other = spawn(process.execPath, ["-e", "setTimeout(() => {}, 30000)"]);
+    const real = realpathSync(dir);
+    const holder = await startHolder(dir, 1000);
     try {
-      expect(() => acquireDataLock(dir, other.pid)).toThrow(DataLockError);
-      expect(() => acquireDataLock(dir, other.pid)).toThrow(`in use by another Covarion server (pid ${process.pid})`);
+      expect(existsSync(lockFileFor(real))).toBe(true);
+      let refusal: unknown;
+      try {
+        acquireDataLock(linkTo(dir)).release();
+      } catch (error) {
+        refusal = error;
+      }
+      expect(refusal).toBeInstanceOf(DataLockError);
+      expect((refusal as Error).message).toContain(`The data folder ${real} is in use by another Covarion server (pid ${holder.child.pid} on host`);
+      expect(() => acquireDataLock(dir)).toThrow(DataLockError);
     } finally {
-      other.kill();
-      lock.release();
+      holder.child.kill("SIGTERM");
+      await holder.exited;
     }
-    expect(existsSync(lockFileFor(dir))).toBe(false);
+    // SIGTERM released the lock: the next holder takes it at once.
+    expect(existsSync(lockFileFor(real))).toBe(false);
+    const lock = acquireDataLock(linkTo(dir));
+    expect(lock.folder).toBe(real);
+    lock.release();
+    expect(existsSync(lockFileFor(real))).toBe(false);
   });
 
-  it("takes over the lock of a process that no longer runs", () => {
+  it("never takes over a live holder's lock; takes over a hard-killed holder's after the stale period", async () => {
     const dir = tempDir();
-    const gone = spawnSync(process.execPath, ["-e", ""]).pid;
-    writeFileSync(lockFileFor(dir), `${gone}\n`);
-    const lock = acquireDataLock(dir);
-    expect(readFileSync(lockFileFor(dir), "utf8").trim()).toBe(String(process.pid));
-    lock.release();
+    const staleMs = 3000;
+    const holder = await startHolder(dir, 1000);
+    try {
+      // Alive and refreshing: refused for longer than the stale period.
+      const until = Date.now() + staleMs + 1500;
+      while (Date.now() < until) {
+        expect(() => acquireDataLock(dir, { staleMs })).toThrow(DataLockError);
+        await sleep(250);
+      }
+    } finally {
+      holder.child.kill("SIGKILL");
+    }
+    await holder.exited;
+    // Killed without releasing: the lock stays until it is stale, whatever became of the pid.
+    expect(existsSync(lockFileFor(realpathSync(dir)))).toBe(true);
+    expect(() => acquireDataLock(dir, { staleMs })).toThrow(DataLockError);
+    const killedAt = Date.now();
+    let lock = null;
+    while (!lock && Date.now() - killedAt < 10_000) {
+      try {
+        lock = acquireDataLock(dir, { staleMs });
+      } catch (error) {
+        if (!(error instanceof DataLockError)) throw error;
+        await sleep(200);
+      }
+    }
+    expect(lock).not.toBeNull();
+    lock?.release();
+  }, 30_000);
+
+  it("stops a holder whose lock was lost instead of letting it write on", async () => {
+    const dir = tempDir();
+    const holder = await startHolder(dir, 1000);
+    try {
+      rmSync(lockFileFor(realpathSync(dir)), { recursive: true });
+      expect(await holder.exited).toBe(1);
+      expect(holder.output()).toContain(`the lock of the data folder ${realpathSync(dir)} was lost`);
+    } finally {
+      if (holder.child.exitCode === null) holder.child.kill("SIGKILL");
+    }
   });
 });
 
@@ -145,11 +229,16 @@ describe("the real server process", () => {
 
       const second = startServer(dataDir, await freePort());
       expect(await second.exited).toBe(1);
-      expect(second.output()).toContain(`is in use by another Covarion server (pid ${first.child.pid})`);
+      const real = realpathSync(dataDir);
+      expect(second.output()).toContain(`The data folder ${real} is in use by another Covarion server (pid ${first.child.pid}`);
+      // Another path to the same folder is the same folder.
+      const third = startServer(linkTo(dataDir), await freePort());
+      expect(await third.exited).toBe(1);
+      expect(third.output()).toContain(`Covarion cannot start: The data folder ${real} is in use by another Covarion server`);
 
       first.child.kill("SIGTERM");
       expect(await first.exited).toBe(0);
-      expect(existsSync(lockFileFor(dataDir))).toBe(false);
+      expect(existsSync(lockFileFor(real))).toBe(false);
     } finally {
       if (first.child.exitCode === null) first.child.kill("SIGKILL");
     }
