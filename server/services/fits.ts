@@ -137,7 +137,10 @@ const outerFit = (column: string) => sql.raw(`"fits"."${column}"`);
  * The columns of a fit's summary (not its recipe or result, which can be
  * large). Its model and creator are scalar subqueries rather than joins:
  * the embedded database plans every query afresh, and planning a join
- * costs far more than running these one-row lookups.
+ * costs far more than running these one-row lookups. A sealed fit's model
+ * is the one its seal kept (`SealedModel`, services/sealing.ts): renaming or
+ * deleting the model later does not reach a sealed fit. (Seals made before
+ * the seal kept its model have none: those show the model as it is now.)
  */
 const summaryColumns = {
   id: fits.id,
@@ -152,8 +155,9 @@ const summaryColumns = {
   finishedAt: fits.finishedAt,
   error: fits.error,
   errorCode: fits.errorCode,
-  model: sql<{ name: string; deleted: boolean; circular: boolean } | null>`(select json_build_object('name', mo.name, 'deleted', mo.deleted_at is not null, 'circular', mo.circular)
-    from ${models} mo where mo.id = ${outerFit("model_id")})`,
+  model: sql<{ name: string; deleted: boolean; circular: boolean } | null>`coalesce(
+    (select s.model from ${fitSeals} s where s.fit_id = ${outerFit("id")}),
+    (select jsonb_build_object('name', mo.name, 'deleted', mo.deleted_at is not null, 'circular', mo.circular) from ${models} mo where mo.id = ${outerFit("model_id")}))`,
   creatorName: sql<string | null>`(select u.name from ${users} u where u.id = ${outerFit("created_by")})`,
 };
 

@@ -7,7 +7,9 @@
  * on database triggers refuse any change to the fit's row, its per-region
  * rows and the seal itself (db/migrations/0009_fit-sealing-immutable.sql).
  * Each step records an audit event (fit.approved, fit.sealed) in the same
- * transaction.
+ * transaction. The seal also keeps the model as it was at sealing
+ * (`SealedModel`): the sealed fit's view shows that name, not a later
+ * rename or deletion.
  *
  * Canonical JSON follows the JSON Canonicalization Scheme (RFC 8785): object
  * keys sorted by UTF-16 code units, no white space, numbers in the
@@ -17,7 +19,7 @@
 import { createHash } from "node:crypto";
 import { eq } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
-import { fitApprovals, fitSeals, fits, type Fit } from "../../db/schema";
+import { fitApprovals, fitSeals, fits, models, type Fit } from "../../db/schema";
 import { conflict } from "../http/errors";
 import { recordEvent } from "./audit";
 
@@ -37,6 +39,15 @@ export interface SealView {
   sha256: string;
   /** True when the stored recipe and result still hash to `sha256`. */
   intact: boolean;
+}
+
+/** The model of a sealed fit as it was at sealing (`fit_seals.model`). */
+export interface SealedModel {
+  name: string;
+  regionSelection: string;
+  circular: boolean;
+  /** Whether the model had already been deleted when the fit was sealed. */
+  deleted: boolean;
 }
 
 export interface Publication {
@@ -113,7 +124,12 @@ export async function sealFit(db: Database, actor: Actor, fit: Fit, now: Date): 
     const [approved] = await tx.select({ at: fitApprovals.approvedAt }).from(fitApprovals).where(eq(fitApprovals.fitId, fit.id));
     if (!approved) throw conflict("This fit has not been approved: a Reviewer or Owner approves it before it can be sealed.");
     const sha256 = sealHash(current.recipe, current.result);
-    await tx.insert(fitSeals).values({ fitId: fit.id, sha256, sealedBy: actor.id, sealedAt: now });
+    const [model] = await tx
+      .select({ name: models.name, regionSelection: models.regionSelection, circular: models.circular, deletedAt: models.deletedAt })
+      .from(models)
+      .where(eq(models.id, current.modelId));
+    const snapshot: SealedModel | null = model ? { name: model.name, regionSelection: model.regionSelection, circular: model.circular, deleted: model.deletedAt !== null } : null;
+    await tx.insert(fitSeals).values({ fitId: fit.id, sha256, sealedBy: actor.id, sealedAt: now, model: snapshot });
     await recordEvent(tx, { studyId: fit.studyId, actorId: actor.id, kind: "fit.sealed", targetType: "fit", targetId: fit.id, after: { sha256 }, at: now });
     return sha256;
   });

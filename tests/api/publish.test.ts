@@ -307,6 +307,30 @@ describe("approval and sealing", () => {
     expect(mine[0].after).toEqual({ sha256: sealedSha });
   });
 
+  it("a sealed fit shows its model as it was at sealing: a later rename or deletion reaches only unsealed fits", async () => {
+    const sealed = (await agents.viewer.get(`/api/fits/${fitId}`).expect(200)).body;
+    const modelId = sealed.model.id as string;
+    const sealedName = sealed.model.name as string;
+    expect(sealed.model).toMatchObject({ name: "Accuracy with age, permutation", deleted: false, circular: false });
+    const other = await agents.analyst.post(`/api/studies/${studyId}/fits`).send({ modelId }).expect(202);
+    await waitForDone(other.body.id);
+
+    await agents.analyst.patch(`/api/studies/${studyId}/models/${modelId}`).send({ name: "Renamed after sealing", regionSelection: "same-data" }).expect(200);
+    const renamed = (await agents.viewer.get(`/api/fits/${fitId}`).expect(200)).body;
+    expect(renamed.model).toMatchObject({ id: modelId, name: sealedName, deleted: false, circular: false, caution: null });
+    expect((await agents.viewer.get(`/api/fits/${other.body.id}`).expect(200)).body.model).toMatchObject({ name: "Renamed after sealing", deleted: false, circular: true });
+
+    await agents.analyst.delete(`/api/studies/${studyId}/models/${modelId}`).expect(204);
+    const deleted = (await agents.viewer.get(`/api/fits/${fitId}`).expect(200)).body;
+    expect(deleted.model).toMatchObject({ id: modelId, name: sealedName, deleted: false });
+    expect(deleted.seal).toMatchObject({ sha256: sealedSha, intact: true });
+    expect((await agents.viewer.get(`/api/fits/${other.body.id}`).expect(200)).body.model).toMatchObject({ name: "Renamed after sealing", deleted: true });
+    // The study's list of fits shows the same.
+    const list = (await agents.viewer.get(`/api/studies/${studyId}/fits`).expect(200)).body as { id: string; model: { name: string; deleted: boolean } }[];
+    expect(list.find((f) => f.id === fitId)?.model).toMatchObject({ name: sealedName, deleted: false });
+    expect(list.find((f) => f.id === other.body.id)?.model).toMatchObject({ name: "Renamed after sealing", deleted: true });
+  });
+
   it("in a restricted study, Viewers get the region table and methods but not the recipe (it names participants)", async () => {
     await agents.owner.patch(`/api/studies/${studyId}`).send({ restricted: true }).expect(200);
     try {
