@@ -3,9 +3,12 @@
  * this; server/index.ts listens). Order matters:
  *
  * 1. security headers (helmet, with a CSP the exported web app runs under),
- *    compression, the same-origin check for state-changing /api requests;
+ *    the host check (a request addressed to another host than PUBLIC_URL's
+ *    is refused), compression, the same-origin check for state-changing
+ *    /api requests;
  * 2. the rate limit on sign-in e-mail requests, then Auth.js at /api/auth
- *    (before the JSON parser: it reads its own bodies);
+ *    (before the JSON parser: it reads its own bodies), which sees every
+ *    request as made to PUBLIC_URL, so its links and redirects start there;
  * 3. the JSON parser (size-limited), the session lookup, one router per
  *    resource under /api, 404 JSON for unknown /api paths;
  * 4. the exported web build for every other GET;
@@ -24,6 +27,7 @@ import { loadSession } from "./auth/session";
 import type { Config } from "./config";
 import type { CaughtMail } from "./dev/mail-fake";
 import { apiNotFound, errorHandler } from "./http/errors";
+import { hostGuard, pinToPublicUrl } from "./http/host-check";
 import { limitByIpAndAddress } from "./http/rate-limits";
 import { sameOrigin } from "./http/same-origin";
 import { serveWebBuild } from "./http/web-build";
@@ -116,12 +120,14 @@ export function createApp(deps: AppDeps): Express {
       strictTransportSecurity: https ? undefined : false,
     }),
   );
+  const hostPolicy = { publicUrl: config.publicUrl, production: config.production };
+  app.use(hostGuard(hostPolicy));
   // API answers are made afresh for each request: the fastest gzip level (a finished fit's view of
   // 400 regions compresses in ~8 ms instead of ~19 ms, ~7 % larger). The web build keeps the default.
   const apiCompression = compression({ level: 1 });
   const fileCompression = compression();
   app.use((req, res, next) => (req.path.startsWith("/api/") ? apiCompression : fileCompression)(req, res, next));
-  app.use("/api", sameOrigin(config.publicUrl));
+  app.use("/api", sameOrigin(hostPolicy));
 
   const signInBody = [express.urlencoded({ extended: false, limit: "16kb" }), express.json({ limit: "16kb" })];
   const signInLimits = limitByIpAndAddress("sign-in e-mail", config.rateLimit, (req) => {
@@ -129,7 +135,7 @@ export function createApp(deps: AppDeps): Express {
     return typeof email === "string" && email.trim() ? email.trim().toLowerCase() : null;
   });
   app.post(`/api/auth/signin/${emailProviderId}`, ...signInBody, ...signInLimits);
-  app.use("/api/auth", ExpressAuth(authConfig({ db, mailer: deps.mailer, institution, secret: config.secrets.authSecret, secureCookies: https, log })));
+  app.use("/api/auth", pinToPublicUrl(config.publicUrl), ExpressAuth(authConfig({ db, mailer: deps.mailer, institution, secret: config.secrets.authSecret, secureCookies: https, log })));
 
   app.use("/api", express.json({ limit: config.bodyLimit }), loadSession(db, clock));
   app.use("/api", systemRoutes(routeDeps));

@@ -95,6 +95,8 @@ export function authConfig(deps: AuthDeps): ExpressAuthConfig {
     });
   }
   return {
+    // Auth.js builds its links from the request's host and protocol; server/app.ts pins both to
+    // PUBLIC_URL before Auth.js runs (server/http/host-check.ts), so the host it trusts is ours.
     trustHost: true,
     secret: deps.secret,
     ...(deps.secureCookies ? { useSecureCookies: true } : {}),

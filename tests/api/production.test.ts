@@ -21,6 +21,8 @@ let smtp: MailFake;
 let services: Services;
 let database: OpenDatabase;
 let app: ReturnType<typeof createApp>;
+/** Production answers only requests addressed to PUBLIC_URL's host. */
+const host = "covarion.lab.example";
 const dataDir = mkdtempSync(join(tmpdir(), "covarion-prod-"));
 
 beforeAll(async () => {
@@ -46,21 +48,22 @@ describe("production mode", () => {
   });
 
   it("answers 404 for the mailbox and demo sign-in", async () => {
-    expect((await request(app).get("/api/dev/mail").expect(404)).body.error.code).toBe("not_found");
-    await request(app).post("/api/dev/demo-sign-in").send({ email: "owner@demo.covarion.test" }).expect(404);
+    expect((await request(app).get("/api/dev/mail").set("Host", host).expect(404)).body.error.code).toBe("not_found");
+    await request(app).post("/api/dev/demo-sign-in").set("Host", host).send({ email: "owner@demo.covarion.test" }).expect(404);
   });
 
   it("offers e-mail sign-in only, with no demo accounts", async () => {
-    const res = await request(app).get("/api/auth-options").expect(200);
+    const res = await request(app).get("/api/auth-options").set("Host", host).expect(200);
     expect(res.body).toEqual({ email: { providerId: "nodemailer" }, institution: null, demoAccounts: [], mailbox: false });
   });
 
   it("sends the sign-in e-mail through the configured SMTP server and sets HSTS", async () => {
     // Secure cookies are not replayed over plain http by a cookie jar, so carry them by hand (as a browser on https would).
-    const csrf = await request(app).get("/api/auth/csrf").expect(200);
+    const csrf = await request(app).get("/api/auth/csrf").set("Host", host).expect(200);
     const cookie = ([] as string[]).concat(csrf.headers["set-cookie"] ?? []).map((c) => c.split(";")[0]).join("; ");
     const res = await request(app)
       .post("/api/auth/signin/nodemailer")
+      .set("Host", host)
       .set("Cookie", cookie)
       .type("form")
       .send({ email: "pi@lab.example", csrfToken: csrf.body.csrfToken })
@@ -73,7 +76,7 @@ describe("production mode", () => {
 
 describe("cookies behind https", () => {
   it("marks Auth.js cookies Secure when PUBLIC_URL is https", async () => {
-    const res = await request(app).get("/api/auth/csrf").expect(200);
+    const res = await request(app).get("/api/auth/csrf").set("Host", host).expect(200);
     const cookies = ([] as string[]).concat(res.headers["set-cookie"] ?? []);
     expect(cookies.length).toBeGreaterThan(0);
     for (const c of cookies) {
