@@ -103,6 +103,9 @@ export function loadConfig(env: Env = process.env): Config {
   const stored = loadOrCreateSecrets(dataDir);
   const secrets: Secrets = { ...stored, authSecret: e.AUTH_SECRET ?? stored.authSecret };
 
+  if (production && !e.PUBLIC_URL) {
+    throw new ConfigError("Configuration error: PUBLIC_URL is required when NODE_ENV=production (sign-in links are built from it and requests addressed to another host are refused). See .env.example.");
+  }
   if (production && !e.SMTP_URL) {
     throw new ConfigError("Configuration error: SMTP_URL is required when NODE_ENV=production (e-mail sign-in and invitations need a mail server). See .env.example.");
   }

@@ -39,9 +39,9 @@ describe("loadConfig", () => {
     const config = loadConfig({ DATA_DIR: dataDir(), PORT: "4100", HOST: "0.0.0.0" });
     expect(config.publicUrl).toBe("http://0.0.0.0:4100");
     expect(loadConfig({ DATA_DIR: dataDir(), PUBLIC_URL: "https://covarion.lab.example/" }).publicUrl).toBe("https://covarion.lab.example");
-    const prod = loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://mail.lab.example:587" });
+    const prod = loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://mail.lab.example:587", PUBLIC_URL: "https://covarion.lab.example" });
     expect(prod).toMatchObject({ demo: false, devServices: false, production: true });
-    expect(loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://m.example", DEMO: "on" }).demo).toBe(true);
+    expect(loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://m.example", PUBLIC_URL: "https://c.example", DEMO: "on" }).demo).toBe(true);
   });
 
   it("generates secrets on first start into DATA_DIR (mode 600) and reuses them", () => {
@@ -59,7 +59,9 @@ describe("loadConfig", () => {
     expect(() => loadConfig({ DATA_DIR: dataDir(), PORT: "eighty" })).toThrow(ConfigError);
     expect(() => loadConfig({ DATA_DIR: dataDir(), PORT: "eighty" })).toThrow(/PORT is invalid.*"eighty"/);
     expect(() => loadConfig({ DATA_DIR: dataDir(), PUBLIC_URL: "ftp://x" })).toThrow(/PUBLIC_URL/);
-    expect(() => loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production" })).toThrow(/SMTP_URL is required/);
+    expect(() => loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", PUBLIC_URL: "https://c.example" })).toThrow(/SMTP_URL is required/);
+    // Sign-in links are built from PUBLIC_URL alone, so production cannot guess it from HOST and PORT.
+    expect(() => loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://m.example" })).toThrow(/PUBLIC_URL is required/);
     expect(() => loadConfig({ DATA_DIR: dataDir(), OIDC_ISSUER: "https://idp.example" })).toThrow(/must be given together/);
     expect(() => loadConfig({ DATA_DIR: dataDir(), AUTH_SECRET: "short" })).toThrow(/AUTH_SECRET/);
   });
