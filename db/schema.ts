@@ -203,6 +203,13 @@ export interface IdentifierDecisionRecord {
  * One confirmed, immutable version of an uploaded brain table or
  * participant sheet (a trigger refuses UPDATE and DELETE). Its id is the
  * id the upload's preview had. `sha256` is the hash of the uploaded bytes.
+ *
+ * A version is stored in steps so that no long transaction holds the
+ * database: the row is written with `complete` false, its rows in batches,
+ * then `complete` is set in one short transaction with the audit events.
+ * Only complete versions are ever read; the trigger allows exactly that
+ * one change, and the deletion of an incomplete version and its rows (left
+ * by a stop in the middle of storing).
  */
 export const datasetVersions = pgTable(
   "dataset_versions",
@@ -236,6 +243,8 @@ export const datasetVersions = pgTable(
       .notNull()
       .references(() => users.id),
     confirmedAt: timestamp("confirmed_at", { mode: "date", withTimezone: true }).notNull(),
+    /** False while its rows are being stored; readers see complete versions only. */
+    complete: boolean("complete").notNull().default(false),
   },
   (t) => [
     uniqueIndex("dataset_versions_study_kind_version_idx").on(t.studyId, t.kind, t.version),

@@ -263,6 +263,7 @@ export async function storeVersion(db: Database, input: StoreVersionInput): Prom
       uploadedAt: input.uploadedAt,
       confirmedBy: input.confirmedBy,
       confirmedAt: input.now,
+      complete: true,
     });
     for (let i = 0; i < encoded.rows.length; i += ROW_BATCH) {
       await tx.insert(datasetRows).values(encoded.rows.slice(i, i + ROW_BATCH).map((r) => ({ ...r, datasetId: input.id })));
