@@ -12,6 +12,7 @@ import { Txt } from "./ui";
 import { useAuthOptions } from "../hooks/use-auth";
 import { useSignOut } from "../hooks/use-auth";
 import type { Me } from "../hooks/use-me";
+import { researchUseCaution } from "../server/model/cautions";
 
 interface NavItem {
   href: string;
@@ -99,9 +100,7 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
 function ResearchFooter() {
   return (
     <View style={styles.footer}>
-      <Txt kind="caption">
-        Covarion is for research analysis. Group-level associations are not a basis for decisions about an individual patient.
-      </Txt>
+      <Txt kind="caption">{researchUseCaution}</Txt>
     </View>
   );
 }

@@ -8,6 +8,7 @@ import { Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "./u
 import { palette, space } from "./theme";
 import { useAuthOptions, useDemoSignIn, useEmailSignIn, useInstitutionSignIn, type AuthOptions } from "../hooks/use-auth";
 import { meKeys } from "../hooks/use-me";
+import { researchUseCaution } from "../server/model/cautions";
 
 const roleBlurb: Record<string, string> = {
   owner: "manages members and can do everything",
@@ -27,7 +28,7 @@ export function SignInScreen(props: { error?: string }) {
         </Txt>
         {props.error ? <Notice tone="danger">{props.error}</Notice> : null}
         {options.isPending ? <Pending /> : options.isError ? <Failure error={options.error} onRetry={() => options.refetch()} /> : <Methods options={options.data} />}
-        <Txt kind="caption">For research analysis only; not for decisions about an individual patient.</Txt>
+        <Txt kind="caption">{researchUseCaution}</Txt>
       </View>
     </ScrollView>
   );

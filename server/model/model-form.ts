@@ -27,8 +27,8 @@ export const regionSelectionLabels: Readonly<Record<RegionSelection, string>> = 
   "same-data": "From this same data",
 };
 
-export const circularityCaution =
-  "The regions were chosen from the same data this model tests. Selecting regions because they show an effect and then testing that effect on the same participants inflates it (Vul et al. 2009; Kriegeskorte et al. 2009). Choose regions from anatomy, prior literature or independent data, or report these results as exploratory.";
+/** The caution's text lives with the product's other cautions. */
+export { circularityCaution } from "./cautions";
 
 /** True when the regions were chosen from the same data the model tests. */
 export function isCircular(selection: RegionSelection): boolean {
