@@ -10,7 +10,7 @@ import { PowerCurve } from "./charts/power-curve";
 import { Button, Card, Field, Heading, Notice, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { usePlanner, type PlannerAnswer, type PlannerQuestionInput } from "../hooks/use-planner";
-import { plannerQuestionSchema } from "../server/model/planner";
+import { plannerQuestionSchema, simulationLimitText } from "../server/model/planner";
 
 type Design = "correlation" | "two-group" | "one-sample";
 
@@ -121,6 +121,9 @@ export function PlannerScreen() {
                   <Field label="True-difference variance" value={trueDiff} onChangeText={setTrueDiff} inputMode="decimal" />
                 </View>
               </View>
+              <Txt kind="caption" style={{ color: palette.muted }}>
+                {simulationLimitText}
+              </Txt>
             </>
           )}
           {problem ? <Notice tone="danger">{problem}</Notice> : null}

@@ -15,6 +15,27 @@ export const varianceComponentsSchema = z.strictObject({
   trueDifferences: z.number().gt(0, { error: "trueDifferences must be above 0" }),
 });
 
+/**
+ * The planner's cost cap: the most random draws one simulation may take.
+ * Every simulated study draws, for each participant, a true value, a trait
+ * (correlation) and one value per session, so a simulation takes at most
+ * simulated studies × participants over the study sizes tried × (sessions + 2)
+ * draws. The simulation makes 10–12 million draws per second of one core on
+ * the 2-core reference machine, so at the cap it keeps the planner's worker
+ * thread busy for about 18 s (`npm run bench -- planner-load` prints the
+ * figures).
+ */
+export const PLANNER_MAX_DRAWS = 200_000_000;
+
+/** Random draws of a simulation of `simulations` studies at each of `sizes` (total participants), `sessions` per participant. */
+export function simulationDraws(simulations: number, sizes: readonly number[], sessions = 1): number {
+  const participants = sizes.reduce((sum, n) => sum + n, 0);
+  return simulations * participants * (sessions + 2);
+}
+
+/** The cap in words, for the Planner form and the refusal. */
+export const simulationLimitText = `A simulation may take at most ${PLANNER_MAX_DRAWS / 1e6} million random draws (simulated studies × participants over the study sizes tried × (sessions + 2)).`;
+
 export const plannerQuestionSchema = z
   .strictObject({
     design: z.enum(["correlation", "two-group", "one-sample"]),

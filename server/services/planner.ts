@@ -2,8 +2,15 @@
  * Sample size and power for the next study: the formula answer from
  * server/stats/power.ts and, on request, a Monte Carlo answer from three
  * variance components at a handful of study sizes around it.
+ *
+ * Pure computation that can take seconds (the simulation) or tens of
+ * milliseconds (the noncentral t search): it runs in the planner's worker
+ * thread (server/jobs/planner-jobs.ts), never on the request thread. A
+ * simulation whose draws exceed PLANNER_MAX_DRAWS is refused (422
+ * `planner_too_costly`) before anything is drawn.
  */
-import type { PlannerAnswer, PlannerQuestion } from "../model/planner";
+import { HttpError } from "../http/errors";
+import { PLANNER_MAX_DRAWS, type PlannerAnswer, type PlannerQuestion, simulationDraws } from "../model/planner";
 import { componentReliability, planSampleSize, simulatePower } from "../stats/power";
 import { createRng } from "../stats/rng";
 
@@ -32,6 +39,7 @@ export function planStudy(question: PlannerQuestion): PlannerAnswer {
   const answer: PlannerAnswer = { ...plan, method: `${methodByDesign[question.design]}${reliabilityNote}` };
   if (question.mode === "simulation" && question.components) {
     const nValues = simulationSizes(plan.curve.map((p) => p.n), plan.n);
+    checkSimulationCost(question, nValues);
     const result = simulatePower({
       design: question.design,
       nValues,
@@ -64,4 +72,24 @@ function simulationSizes(curveSizes: readonly number[], answer: number): number[
   const step = Math.max(1, Math.floor(curveSizes.length / 6));
   for (let i = 0; i < curveSizes.length; i += step) sizes.add(curveSizes[i]);
   return [...sizes].sort((a, b) => a - b).slice(0, 8);
+}
+
+/** Refuses (422 `planner_too_costly`) a simulation whose random draws exceed the cap, naming the limit, the cost asked for and what would fit. */
+function checkSimulationCost(question: PlannerQuestion, nValues: readonly number[]): void {
+  const sessions = question.sessions ?? 1;
+  const draws = simulationDraws(question.simulations, nValues, sessions);
+  if (draws <= PLANNER_MAX_DRAWS) return;
+  const participants = nValues.reduce((sum, n) => sum + n, 0);
+  const maxSimulations = Math.floor(PLANNER_MAX_DRAWS / simulationDraws(1, nValues, sessions));
+  const millions = (value: number) => `${(value / 1e6).toLocaleString("en", { maximumFractionDigits: 1 })} million`;
+  const remedy =
+    maxSimulations >= 100
+      ? `Ask for at most ${maxSimulations.toLocaleString("en")} simulated studies, or fewer sessions.`
+      : "These study sizes are too large to simulate; use the formula answer.";
+  throw new HttpError(
+    422,
+    "planner_too_costly",
+    `This simulation would take ${millions(draws)} random draws (${question.simulations.toLocaleString("en")} simulated studies × ${participants.toLocaleString("en")} participants over ${nValues.length} study sizes × (${sessions} sessions + 2)); the limit is ${millions(PLANNER_MAX_DRAWS)}. ${remedy}`,
+    { field: "simulations", limit: PLANNER_MAX_DRAWS, requested: draws, simulations: question.simulations, participants, sessions, maxSimulations },
+  );
 }

@@ -1,9 +1,13 @@
 /**
  * POST /api/planner: sample size and power through the API, checked against
  * Cohen's (1988) power tables, exact algebra for attenuation, and the
- * formula-versus-simulation agreement.
+ * formula-versus-simulation agreement; the simulation's cost cap (422
+ * naming the limit), seeded simulations unchanged by the move to the
+ * planner's worker thread, and a question stopped when its asker leaves.
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { sharedPlannerJobs } from "../../server/jobs/planner-jobs";
+import { PLANNER_MAX_DRAWS, simulationDraws } from "../../server/model/planner";
 import { agentFor, createTestApp, signInDemo, type Agent, type TestApp } from "./helpers";
 
 let t: TestApp;
@@ -81,6 +85,73 @@ describe("simulation from variance components", () => {
       .send({ design: "one-sample", effect: 0.5, mode: "simulation", components: { measurementNoise: 4, taskDesign: 0.5, trueDifferences: 1 }, trials: 8, simulations: 2000, seed: 7 })
       .expect(200);
     expect(again.body.simulation).toEqual(sim);
+  });
+});
+
+describe("the simulation's cost cap", () => {
+  const components = { measurementNoise: 4, taskDesign: 0.5, trueDifferences: 1 };
+
+  it("refuses a simulation over the cap with 422, naming the limit, the cost asked for and what would fit", async () => {
+    const question = { design: "correlation", effect: 0.1, mode: "simulation", components, simulations: 20000, sessions: 20, trials: 10000 };
+    const res = await agent.post("/api/planner").send(question).expect(422);
+    expect(res.body.error.code).toBe("planner_too_costly");
+    const details = res.body.error.details;
+    expect(details.limit).toBe(PLANNER_MAX_DRAWS);
+    expect(details.requested).toBeGreaterThan(PLANNER_MAX_DRAWS);
+    // the cost is simulated studies × participants over the sizes tried × (sessions + 2) (exact arithmetic)
+    expect(details.requested).toBe(20000 * details.participants * 22);
+    expect(res.body.error.message).toContain(`the limit is ${PLANNER_MAX_DRAWS / 1e6} million`);
+    expect(res.body.error.message).toContain(`(20,000 simulated studies × ${details.participants.toLocaleString("en")} participants`);
+    // the suggested number of simulated studies is the largest that fits (exact arithmetic)
+    expect(res.body.error.message).toContain(`at most ${details.maxSimulations.toLocaleString("en")} simulated studies`);
+    expect(details.maxSimulations * details.participants * 22).toBeLessThanOrEqual(PLANNER_MAX_DRAWS);
+    expect((details.maxSimulations + 1) * details.participants * 22).toBeGreaterThan(PLANNER_MAX_DRAWS);
+  });
+
+  it("says when even the fewest simulated studies are too many for the study sizes", async () => {
+    const res = await agent
+      .post("/api/planner")
+      .send({ design: "correlation", effect: 0.01, mode: "simulation", components, simulations: 100 })
+      .expect(422);
+    expect(res.body.error.code).toBe("planner_too_costly");
+    expect(res.body.error.message).toContain("too large to simulate; use the formula answer");
+  });
+
+  it("gives a legal seeded simulation the same numbers as before it moved to the worker thread", async () => {
+    const res = await agent
+      .post("/api/planner")
+      .send({ design: "two-group", effect: 0.6, groupRatio: 1.5, mode: "simulation", components: { measurementNoise: 3, taskDesign: 0.4, trueDifferences: 1 }, trials: 12, sessions: 2, simulations: 400, seed: 2024 })
+      .expect(200);
+    expect(res.body.n).toBe(123);
+    const sim = res.body.simulation;
+    expect(simulationDraws(400, sim.points.map((p: { n: number }) => p.n), 2)).toBeLessThanOrEqual(PLANNER_MAX_DRAWS);
+    // rejections out of 400 at each size, recorded from the planner answering on the request thread with seed 2024 (value from the previous version, no outside source)
+    expect(sim.points.map((p: { n: number; power: number }) => [p.n, Math.round(p.power * 400)])).toEqual([
+      [5, 25],
+      [48, 160],
+      [88, 249],
+      [123, 309],
+      [163, 367],
+      [203, 380],
+      [245, 389],
+    ]);
+    expect(sim.n).toBe(163);
+    expect(sim.reliability).toBeCloseTo(1 / (1 + (0.4 + 3 / 12) / 2), 12); // (exact algebra: true / (true + (design + noise/trials) / sessions))
+  });
+
+  it("stops a simulation whose asker disconnected", async () => {
+    const question = { design: "correlation", effect: 0.1, mode: "simulation", components, simulations: 20000, sessions: 4, trials: 50 };
+    const refused = await agent.post("/api/planner").send(question).expect(422);
+    const largest = { ...question, simulations: refused.body.error.details.maxSimulations };
+    const jobs = sharedPlannerJobs();
+    const before = jobs.aborted;
+    // The client gives up after half a second, long before a simulation at the cap could finish.
+    await expect(agent.post("/api/planner").send(largest).timeout(500)).rejects.toThrow(/Timeout/);
+    const deadline = Date.now() + 10_000;
+    while (jobs.aborted === before && Date.now() < deadline) await new Promise((r) => setTimeout(r, 50));
+    expect(jobs.aborted).toBe(before + 1);
+    // The thread is free again for the next question.
+    await agent.post("/api/planner").send({ design: "correlation", effect: 0.3 }).expect(200);
   });
 });
 

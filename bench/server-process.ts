@@ -1,0 +1,92 @@
+/**
+ * Benchmark helpers: the real server as a child process on 127.0.0.1 with a
+ * fresh data directory (demo mode), a demo person's session, and a latency
+ * summary line (p50/p95/max). Not a suite (bench/index.ts runs only the
+ * files in bench/suites/).
+ */
+import { type ChildProcess, spawn } from "node:child_process";
+import { mkdtempSync, rmSync } from "node:fs";
+import { createServer } from "node:net";
+import os from "node:os";
+import { join } from "node:path";
+
+export interface BenchServer {
+  base: string;
+  /** Cookie header of the signed-in demo person. */
+  cookie: string;
+  child: ChildProcess;
+  /** The server's output so far. */
+  log(): string;
+  stop(): Promise<void>;
+}
+
+function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const s = createServer();
+    s.listen(0, "127.0.0.1", () => {
+      const port = (s.address() as { port: number }).port;
+      s.close(() => resolve(port));
+    });
+    s.on("error", reject);
+  });
+}
+
+/** Starts the server, waits until it answers, and signs in the demo person `email`. */
+export async function startBenchServer(email = "analyst@demo.covarion.test"): Promise<BenchServer> {
+  const dataDir = mkdtempSync(join(os.tmpdir(), "covarion-bench-"));
+  const port = await freePort();
+  const base = `http://127.0.0.1:${port}`;
+  const child = spawn(process.execPath, ["--import", "tsx", "server/index.ts"], {
+    env: { ...process.env, NODE_ENV: "development", DATA_DIR: dataDir, PORT: String(port), HOST: "127.0.0.1", PUBLIC_URL: base },
+    stdio: ["ignore", "pipe", "pipe"],
+  });
+  let output = "";
+  const keep = (d: unknown) => {
+    output += String(d);
+  };
+  child.stdout?.on("data", keep);
+  child.stderr?.on("data", keep);
+  const stop = async () => {
+    child.kill("SIGTERM");
+    await new Promise<void>((resolve) => {
+      if (child.exitCode !== null || child.signalCode !== null) resolve();
+      else child.once("exit", () => resolve());
+    });
+    rmSync(dataDir, { recursive: true, force: true });
+  };
+  try {
+    const started = performance.now();
+    for (;;) {
+      if (child.exitCode !== null) throw new Error(`the server stopped:\n${output}`);
+      try {
+        if ((await fetch(`${base}/api/health`)).ok) break;
+      } catch {
+        // not listening yet
+      }
+      if (performance.now() - started > 120_000) throw new Error(`the server did not start:\n${output}`);
+      await new Promise((r) => setTimeout(r, 250));
+    }
+    const signIn = await fetch(`${base}/api/dev/demo-sign-in`, {
+      method: "POST",
+      headers: { "Content-Type": "application/json" },
+      body: JSON.stringify({ email }),
+    });
+    if (signIn.status !== 200) throw new Error(`demo sign-in answered ${signIn.status}`);
+    const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
+    return { base, cookie, child, log: () => output, stop };
+  } catch (error) {
+    await stop();
+    throw error;
+  }
+}
+
+function percentile(sorted: readonly number[], q: number): number {
+  if (sorted.length === 0) return Number.NaN;
+  return sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil(q * sorted.length) - 1))];
+}
+
+/** One line: count, p50, p95 and max of `times` (ms). */
+export function latencySummary(label: string, times: readonly number[]): string {
+  const s = [...times].sort((a, b) => a - b);
+  return `${label.padEnd(44)} n = ${String(s.length).padStart(5)}   p50 ${percentile(s, 0.5).toFixed(1).padStart(6)} ms   p95 ${percentile(s, 0.95).toFixed(1).padStart(6)} ms   max ${(s[s.length - 1] ?? Number.NaN).toFixed(1).padStart(7)} ms`;
+}
