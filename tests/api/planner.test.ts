@@ -6,8 +6,8 @@
  * planner's worker thread, and a question stopped when its asker leaves.
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { sharedPlannerJobs } from "../../server/jobs/planner-jobs";
-import { PLANNER_MAX_DRAWS, simulationDraws } from "../../server/model/planner";
+import { PlannerJobs, sharedPlannerJobs } from "../../server/jobs/planner-jobs";
+import { PLANNER_MAX_DRAWS, plannerQuestionSchema, simulationDraws } from "../../server/model/planner";
 import { agentFor, createTestApp, signInDemo, type Agent, type TestApp } from "./helpers";
 
 let t: TestApp;
@@ -152,6 +152,17 @@ describe("the simulation's cost cap", () => {
     expect(jobs.aborted).toBe(before + 1);
     // The thread is free again for the next question.
     await agent.post("/api/planner").send({ design: "correlation", effect: 0.3 }).expect(200);
+  });
+  it("answers 429 when more questions wait than the planner keeps", async () => {
+    const jobs = new PlannerJobs({ maxWaiting: 0 });
+    try {
+      const question = plannerQuestionSchema.parse({ design: "one-sample", effect: 0.5, mode: "simulation", components, simulations: 500 });
+      const first = jobs.plan(question, new AbortController().signal);
+      await expect(jobs.plan(question, new AbortController().signal)).rejects.toMatchObject({ status: 429, code: "planner_busy" });
+      expect((await first).simulation?.simulations).toBe(500);
+    } finally {
+      await jobs.close();
+    }
   });
 });
 
