@@ -9,13 +9,18 @@
  * reason is logged, listwise deletion, N per region), the question and the
  * estimator, the inference (resamples, seed, exact or Monte Carlo), the
  * correction over regions, the weighting, the diagnostics, the software and
- * its version, then the cautions (circular region selection; imprecision of
- * brain–trait associations below 1,000 participants — threshold: common
- * practice, no source — after Marek et al. 2022).
+ * its version, then the
+ * cautions (texts and thresholds in `cautions.ts`, shared with the screens).
+ *
+ * Style: counts of participants, regions, rearrangements and everything
+ * else are numerals ("1 participant", "12 regions"; journals' statistics
+ * style), and no sentence starts with one; nouns and verbs agree with the
+ * count; lists take the serial comma ("a, b, and c").
  *
  * Cost O(regions + set-asides). Throws `MethodsTextError` when the recipe's
  * model fields are malformed.
  */
+import { associationPaperCaution, circularityPaperCaution, type PaperCaution, smallSamplePaperCaution } from "./cautions";
 import { type ModelSpec, type RegionResult, modelSpecSchema } from "./spec";
 
 /** Published references, keyed by the short form used in the text. */
@@ -128,29 +133,26 @@ export class MethodsTextError extends Error {
   }
 }
 
-/** Association fits below this largest N get the imprecision caution (common practice, no source). */
-export const SMALL_ASSOCIATION_N = 1000;
-
-const numberWords = ["no", "one", "two", "three", "four", "five", "six", "seven", "eight", "nine", "ten"];
-
-/** "two", "12", "1,500" (words up to ten, as in most style guides). */
-export function numberWord(n: number): string {
-  return Number.isInteger(n) && n >= 0 && n <= 10 ? numberWords[n] : n.toLocaleString("en");
+/** A count as a numeral with thousands separators: "7", "1,500". */
+export function numeral(n: number): string {
+  return n.toLocaleString("en");
 }
 
-/** "one participant", "12 participants". */
+/** "1 participant", "12 participants", "1,500 participants". */
 export function count(n: number, singular: string, plural = `${singular}s`): string {
-  return `${numberWord(n)} ${n === 1 ? singular : plural}`;
+  return `${numeral(n)} ${n === 1 ? singular : plural}`;
 }
 
-function capitalise(text: string): string {
-  return text.charAt(0).toUpperCase() + text.slice(1);
+/** "was" for a count of 1, "were" otherwise. */
+function was(n: number): string {
+  return n === 1 ? "was" : "were";
 }
 
-/** "a", "a and b", "a, b and c" (or with "or"). */
-function list(items: readonly string[], joiner: "and" | "or" = "and"): string {
+/** "a", "a and b", "a, b, and c" (serial comma; or with "or"). */
+export function list(items: readonly string[], joiner: "and" | "or" = "and"): string {
   if (items.length <= 1) return items.join("");
-  return `${items.slice(0, -1).join(", ")} ${joiner} ${items[items.length - 1]}`;
+  if (items.length === 2) return `${items[0]} ${joiner} ${items[1]}`;
+  return `${items.slice(0, -1).join(", ")}, ${joiner} ${items[items.length - 1]}`;
 }
 
 function quoted(name: string): string {
@@ -177,7 +179,6 @@ class Citations {
   readonly used = new Set<ReferenceKey>();
   /** "(Holm 1979)" or "(Freedman & Lane 1983; Winkler et al. 2014)", recording each key. */
   cite(...keys: ReferenceKey[]): string {
-    for (const k of keys) this.used.add(k);
     return `(${this.name(...keys)})`;
   }
   /** "Holm 1979" without parentheses, recording each key. */
@@ -185,129 +186,149 @@ class Citations {
     for (const k of keys) this.used.add(k);
     return keys.join("; ");
   }
+  /** A caution's text, recording the references it cites. */
+  caution(caution: PaperCaution): string {
+    for (const k of caution.references) this.used.add(k);
+    return caution.text;
+  }
   references(): MethodsReference[] {
     const byCitation = (a: ReferenceKey, b: ReferenceKey) => (methodReferences[a] < methodReferences[b] ? -1 : methodReferences[a] > methodReferences[b] ? 1 : 0);
     return [...this.used].sort(byCitation).map((key) => ({ key, citation: methodReferences[key] }));
   }
 }
 
-function dataSentences(input: MethodsInput, spec: ModelSpec): string[] {
+/** "N = 12" or "N = 9–14". */
+function nRange(regions: readonly RegionResult[]): string {
+  const ns = regions.map((x) => x.n);
+  const lo = Math.min(...ns);
+  const hi = Math.max(...ns);
+  return lo === hi ? `N = ${numeral(lo)}` : `N = ${numeral(lo)}–${numeral(hi)}`;
+}
+
+function joinSentences(input: MethodsInput): string[] {
   const { brain, participants } = input.datasets;
-  const out: string[] = [];
   const brainText = `the brain table ${quoted(brain.fileName)} (version ${brain.version}, SHA-256 ${shortHash(brain.sha256)}…)`;
   const idColumn = typeof input.recipe.idColumn === "string" ? input.recipe.idColumn : "participant_id";
-  if (participants && input.roster) {
-    const r = input.roster;
-    out.push(
-      `Contrast values from ${brainText} were joined with the participant sheet ${quoted(participants.fileName)} (version ${participants.version}, SHA-256 ${shortHash(participants.sha256)}…) by participant identifier (column ${quoted(idColumn)}); identifiers were compared after trimming spaces, ignoring case and treating a leading “sub-” as optional, and no other near match was merged without a confirmed mapping.`,
-    );
-    const unmatched: string[] = [];
-    if (r.onlyInBrainTable > 0) unmatched.push(`${count(r.onlyInBrainTable, "participant")} only in the brain table`);
-    if (r.onlyInParticipantSheet > 0) unmatched.push(`${count(r.onlyInParticipantSheet, "participant")} only in the participant sheet`);
-    if (r.duplicateIds > 0) unmatched.push(`${count(r.duplicateIds, "duplicated identifier")}`);
-    let sentence = `Of ${count(r.brainParticipants, "participant")} in the brain table and ${r.sheetParticipants.toLocaleString("en")} in the participant sheet, ${r.matched.toLocaleString("en")} were matched`;
-    if (r.matchedByMapping > 0) sentence += ` (${r.matchedByMapping === 1 ? "one through an identifier mapping" : `${numberWord(r.matchedByMapping)} through identifier mappings`} confirmed by a team member)`;
-    const left = r.onlyInBrainTable + r.onlyInParticipantSheet + r.duplicateIds;
-    sentence += unmatched.length > 0 ? `; ${list(unmatched)} ${left === 1 ? "was" : "were"} not analysed.` : ".";
-    out.push(sentence);
-  } else {
-    out.push(`Contrast values were read from ${brainText}, ${count(input.brainParticipants, "participant")}; no participant sheet was used.`);
+  if (!participants || !input.roster) {
+    return [`Contrast values were read from ${brainText} for ${count(input.brainParticipants, "participant")}; no participant sheet was used.`];
   }
+  const r = input.roster;
+  const out = [
+    `Contrast values from ${brainText} were joined with the participant sheet ${quoted(participants.fileName)} (version ${participants.version}, SHA-256 ${shortHash(participants.sha256)}…) by participant identifier (column ${quoted(idColumn)}); identifiers were compared after trimming spaces, ignoring case, and treating a leading “sub-” as optional, and no other near match was merged without a confirmed mapping.`,
+  ];
+  const unmatched: string[] = [];
+  if (r.onlyInBrainTable > 0) unmatched.push(`${count(r.onlyInBrainTable, "participant")} only in the brain table`);
+  if (r.onlyInParticipantSheet > 0) unmatched.push(`${count(r.onlyInParticipantSheet, "participant")} only in the participant sheet`);
+  if (r.duplicateIds > 0) unmatched.push(count(r.duplicateIds, "duplicated identifier"));
+  let sentence = `Of ${count(r.brainParticipants, "participant")} in the brain table and ${numeral(r.sheetParticipants)} in the participant sheet, ${numeral(r.matched)} ${was(r.matched)} matched`;
+  if (r.matchedByMapping > 0) {
+    sentence += ` (${numeral(r.matchedByMapping)} through ${r.matchedByMapping === 1 ? "an identifier mapping" : "identifier mappings"} confirmed by a team member)`;
+  }
+  const left = r.onlyInBrainTable + r.onlyInParticipantSheet + r.duplicateIds;
+  sentence += unmatched.length > 0 ? `; ${list(unmatched)} ${was(left)} not analysed.` : ".";
+  out.push(sentence);
+  return out;
+}
+
+function setAsideSentence(spec: ModelSpec): string {
+  const asides = spec.setAside;
+  if (asides.length === 0) return "No participant was set aside.";
+  const everyRegion = new Set(asides.filter((s) => s.region === undefined).map((s) => s.participant));
+  const pairs = new Set(asides.filter((s) => s.region !== undefined && !everyRegion.has(s.participant)).map((s) => `${s.participant}\u0000${s.region}`));
+  const people = new Set([...pairs].map((p) => p.split("\u0000")[0])).size;
+  const parts: string[] = [];
+  if (everyRegion.size > 0) parts.push(`${count(everyRegion.size, "participant")} from every region`);
+  if (people === 1) parts.push(`1 participant from ${count(pairs.size, "region")}`);
+  else if (people > 1 && pairs.size === people) parts.push(`${count(people, "participant")} from 1 region each`);
+  else if (people > 1) parts.push(`${count(people, "participant")} from some regions only (${count(pairs.size, "participant–region pair")})`);
+  return `The team set aside ${list(parts)}; every set-aside has a written reason recorded in the study's audit log, and no participant was excluded automatically.`;
+}
+
+function dataSentences(input: MethodsInput, spec: ModelSpec): string[] {
+  const out = joinSentences(input);
   if (input.session && input.session.of > 1 && spec.kind !== "reliability") {
     out.push(`The brain table holds ${count(input.session.of, "session")}; values from session ${quoted(input.session.label)} were analysed.`);
   }
-  const asides = spec.setAside;
-  if (asides.length === 0) {
-    out.push("No participant was set aside.");
-  } else {
-    const everyRegion = new Set(asides.filter((s) => s.region === undefined).map((s) => s.participant));
-    const oneRegion = asides.filter((s) => s.region !== undefined && !everyRegion.has(s.participant));
-    const parts: string[] = [];
-    if (everyRegion.size > 0) parts.push(`${count(everyRegion.size, "participant")} ${everyRegion.size === 1 ? "was" : "were"} set aside from every region`);
-    if (oneRegion.length > 0) {
-      const people = new Set(oneRegion.map((s) => s.participant)).size;
-      parts.push(`${count(people, "participant")} from ${oneRegion.length === 1 ? "one region" : `single regions (${numberWord(oneRegion.length)} participant–region pairs)`}`);
-    }
-    out.push(`${capitalise(list(parts))}, each with a written reason decided by the team and recorded in the study's audit log; no participant was excluded automatically.`);
-  }
-  const ns = input.result.regions.map((x) => x.n);
-  const lo = Math.min(...ns);
-  const hi = Math.max(...ns);
+  out.push(setAsideSentence(spec));
+  const n = nRange(input.result.regions);
   if (spec.kind === "reliability") {
-    out.push(`Participants without a value in every session were left out of that region, leaving ${lo === hi ? `N = ${lo}` : `N = ${lo}–${hi}`} per region.`);
+    out.push(`Participants without a value in every session were left out of that region, leaving ${n} per region.`);
   } else {
     const fields = ["the contrast value"];
     if (spec.kind === "association" && spec.predictor) fields.push(quoted(spec.predictor));
     if (spec.group) fields.push(`the group ${quoted(spec.group)}`);
     if (spec.covariates.length > 0) fields.push(spec.covariates.length === 1 ? "the covariate" : "a covariate");
-    out.push(
-      `Participants with a missing value in ${list(fields, "or")} were left out of that region only (listwise deletion), leaving ${lo === hi ? `N = ${lo}` : `N = ${lo}–${hi}`} per region.`,
-    );
+    out.push(`Participants with a missing value in ${list(fields, "or")} were left out of that region only (listwise deletion), leaving ${n} per region.`);
   }
   return out;
 }
 
-function regionWords(regionCount: number): string {
-  return regionCount === 1 ? "one region" : `each of ${count(regionCount, "region")}`;
+/** "In the region “L_insula”" or "In each of the 12 regions". */
+function regionWords(regions: readonly RegionResult[]): string {
+  return regions.length === 1 ? `In the region ${quoted(regions[0].region)}` : `In each of the ${numeral(regions.length)} regions`;
 }
 
-function covariateWords(spec: ModelSpec): string {
-  return spec.covariates.length > 0 ? `, adjusting for ${list(spec.covariates.map(quoted))},` : "";
+/** ", adjusting for “age”, “sex”, and the group “group”," or "". */
+function adjustingWords(spec: ModelSpec): string {
+  const terms = spec.covariates.map(quoted);
+  if (spec.kind === "association" && spec.group && !spec.interaction) terms.push(`the group ${quoted(spec.group)}`);
+  return terms.length > 0 ? `, adjusting for ${list(terms)},` : "";
 }
 
-function modelSentences(spec: ModelSpec, regionCount: number, c: Citations): string[] {
-  const where = regionWords(regionCount);
-  const cov = covariateWords(spec);
+function modelSentences(spec: ModelSpec, regions: readonly RegionResult[], c: Citations): string[] {
+  const where = regionWords(regions);
+  const adjusting = adjustingWords(spec);
   const hasCov = spec.covariates.length > 0;
   const weighted = spec.weights === "first-level-se";
   const out: string[] = [];
   if (spec.kind === "reliability") {
     out.push(
-      `In ${where}, the test–retest reliability of the contrast value across sessions was estimated by the intraclass correlation ICC(2,1) (two-way random effects, absolute agreement, single session), with the other five forms and their 95% confidence intervals reported, and tested against zero with its F test ${c.cite("Shrout & Fleiss 1979")}.`,
+      `${where}, the test–retest reliability of the contrast value across sessions was estimated by the intraclass correlation ICC(2,1) (two-way random effects, absolute agreement, single session), with the other five forms and their 95% confidence intervals reported, and tested against zero with its F test ${c.cite("Shrout & Fleiss 1979")}.`,
     );
     return out;
   }
   if (spec.kind === "one-sample") {
     let how: string;
-    if (weighted) how = `as the weighted mean${hasCov ? " adjusted for the covariates" : ""}`;
-    else if (spec.estimator === "ols") how = hasCov ? `as the intercept of a least-squares linear model with mean-centred covariates (the adjusted mean)` : `with a one-sample t test ${c.cite("Student 1908")}`;
+    if (weighted) how = hasCov ? "using the intercept of a weighted linear model with mean-centred covariates (the adjusted weighted mean)" : "using the weighted mean";
+    else if (spec.estimator === "ols") how = hasCov ? "using the intercept of a least-squares linear model with mean-centred covariates (the adjusted mean)" : `with a one-sample t test ${c.cite("Student 1908")}`;
     else if (spec.estimator === "rank") how = `with the Wilcoxon signed-rank test ${c.cite("Wilcoxon 1945")}, the estimate being the Hodges–Lehmann pseudomedian ${c.cite("Hodges & Lehmann 1963")}`;
     else how = robustWords(spec.estimator, c, "location");
-    out.push(`In ${where}, the mean contrast value across participants${cov} was tested against zero ${how}.`);
+    const subject = spec.estimator === "ols" ? "the mean contrast value across participants" : "the location of the contrast values across participants";
+    out.push(`${where}, ${subject}${adjusting} was tested against zero ${how}.`);
   } else if (spec.kind === "two-group") {
     const [a, b] = spec.levels ?? ["first", "second"];
     const levels = spec.levels ? `${quoted(a)} and ${quoted(b)}` : "its two levels";
     let how: string;
-    if (weighted) how = "as the weighted difference in means";
+    if (weighted) how = hasCov ? "by a weighted linear model with the covariates" : "using the weighted difference in means";
     else if (spec.estimator === "ols") how = hasCov ? "by a least-squares linear model with the covariates (analysis of covariance)" : `with Student's t test with pooled variance ${c.cite("Student 1908")}`;
     else if (spec.estimator === "welch") how = `with Welch's t test and Welch–Satterthwaite degrees of freedom ${c.cite("Welch 1947")}`;
     else if (spec.estimator === "rank") how = `with the Mann–Whitney U test ${c.cite("Mann & Whitney 1947")}, the estimate being the Hodges–Lehmann shift ${c.cite("Hodges & Lehmann 1963")}`;
     else how = robustWords(spec.estimator, c, "difference");
     out.push(
-      `In ${where}, contrast values were compared between the levels ${levels} of ${quoted(spec.group ?? "group")}${cov} ${how}; the estimate is ${spec.levels ? `${quoted(a)} minus ${quoted(b)}` : "the first level minus the second"}.`,
+      `${where}, contrast values were compared between the levels ${levels} of ${quoted(spec.group ?? "group")}${adjusting} ${how}; the estimate is ${spec.levels ? `${quoted(a)} minus ${quoted(b)}` : "the first level minus the second"}.`,
     );
   } else {
     const predictor = quoted(spec.predictor ?? "predictor");
-    const groupCov = spec.group && !spec.interaction ? `${spec.covariates.length > 0 ? "" : ","} with ${quoted(spec.group)} as a covariate,` : "";
     const target = spec.interaction
-      ? `the difference between the levels of ${quoted(spec.group ?? "group")} in the slope of the contrast value on ${predictor} (predictor × group interaction)${cov}`
-      : `the association between the contrast value and ${predictor}${cov}${groupCov}`;
+      ? `the difference between the levels of ${quoted(spec.group ?? "group")} in the slope of the contrast value on ${predictor} (predictor × group interaction)${adjusting}`
+      : `the association between the contrast value and ${predictor}${adjusting}`;
+    const adjusted = hasCov || Boolean(spec.group);
     let how: string;
     if (weighted) how = "by weighted least squares";
     else if (spec.estimator === "ols") {
       how = spec.interaction
         ? "by least squares"
-        : hasCov || spec.group
+        : adjusted
           ? `as the least-squares slope of the predictor with the partial correlation r and its Fisher z interval ${c.cite("Fisher 1921")}`
           : `as the least-squares regression slope with Pearson's r and its Fisher z interval ${c.cite("Fisher 1921")}`;
     } else if (spec.estimator === "rank") {
-      how = hasCov || spec.group ? `by the partial Spearman correlation (ranks, linear adjustment for the covariates) ${c.cite("Spearman 1904")}` : `by Spearman's rank correlation ${c.cite("Spearman 1904")}`;
+      how = adjusted ? `by the partial Spearman correlation (ranks, linear adjustment for the covariates) ${c.cite("Spearman 1904")}` : `by Spearman's rank correlation ${c.cite("Spearman 1904")}`;
     } else if (spec.estimator === "skipped") {
       how = `by the skipped correlation: bivariate outliers found by a projection method with a boxplot rule were removed and Pearson's r computed on the rest ${c.cite("Wilcox 2004", "Rousselet & Pernet 2012")}`;
     } else if (spec.estimator === "bend") {
       how = `by the percentage-bend correlation with β = 0.2 ${c.cite("Wilcox 1994")}`;
-    } else how = robustWords(spec.estimator, c, "slope");
-    out.push(`In ${where}, ${target} was estimated ${how}.`);
+    } else how = robustWords(spec.estimator, c, spec.interaction ? "interaction" : "slope");
+    out.push(`${where}, ${target} was estimated ${how}.`);
   }
   if (weighted) {
     const tau =
@@ -323,10 +344,10 @@ function modelSentences(spec: ModelSpec, regionCount: number, c: Citations): str
   return out;
 }
 
-function robustWords(estimator: ModelSpec["estimator"], c: Citations, what: "location" | "difference" | "slope"): string {
-  const target = what === "location" ? "location" : what === "difference" ? "group difference" : "slope";
+function robustWords(estimator: ModelSpec["estimator"], c: Citations, what: "location" | "difference" | "slope" | "interaction"): string {
+  const target = what === "difference" ? "group difference" : what === "interaction" ? "interaction coefficient" : what;
   if (estimator === "huber") {
-    return `by robust M-estimation of the ${target} with Huber's ψ (k = 1.345) ${c.cite("Huber 1964")}, a median-absolute-deviation scale and iteratively reweighted least squares`;
+    return `by robust M-estimation of the ${target} with Huber's ψ (k = 1.345) ${c.cite("Huber 1964")}, a median-absolute-deviation scale, and iteratively reweighted least squares`;
   }
   return `by robust M-estimation of the ${target} with Tukey's bisquare ψ (c = 4.685) ${c.cite("Beaton & Tukey 1974")}, started from the Huber estimate ${c.cite("Huber 1964")}, with a median-absolute-deviation scale and iteratively reweighted least squares`;
 }
@@ -338,7 +359,7 @@ function rankExactness(regions: readonly RegionResult[]): string {
   const approximation = methods.some((m) => /t approximation|partial Spearman/.test(m)) ? "the t approximation" : "the normal approximation with tie and continuity correction";
   if (exact === regions.length) return "The rank tests' p-values are exact.";
   if (exact === 0) return `The rank tests' p-values come from ${approximation}.`;
-  return `The rank tests' p-values are exact in ${count(exact, "region")} and come from ${approximation} in the other${regions.length - exact === 1 ? " region" : ` ${count(regions.length - exact, "region")}`}.`;
+  return `The rank tests' p-values are exact in ${count(exact, "region")} and come from ${approximation} in ${count(regions.length - exact, "region")}.`;
 }
 
 interface PermutationInfo {
@@ -369,13 +390,12 @@ function inferenceSentences(spec: ModelSpec, regions: readonly RegionResult[], c
       ? `percentile intervals ${c.cite("Efron & Tibshirani 1993")}`
       : `bias-corrected and accelerated (BCa) intervals ${c.cite("Efron 1987", "Efron & Tibshirani 1993")}`;
     return [
-      `Intervals were 95% ${interval} from ${spec.resamples.toLocaleString("en")} bootstrap resamples of participants drawn with a seeded generator (${seed}); the two-sided p-value is 2·min(A, 1 − A), with A the share of bootstrap estimates below zero.`,
+      `Intervals were 95% ${interval} from ${count(spec.resamples, "bootstrap resample")} of participants drawn with a seeded generator (${seed}); the two-sided p-value is 2·min(A, 1 − A), with A the share of bootstrap estimates below zero.`,
     ];
   }
   const info = permutationInfo(regions);
   const allExact = info.length > 0 && info.every((i) => i.exact);
   const someExact = info.some((i) => i.exact);
-  const counts = [...new Set(info.map((i) => i.rearrangements))];
   let scheme: string;
   if (spec.estimator === "ols" && spec.kind === "one-sample") {
     scheme = `by sign flipping of the ${spec.covariates.length > 0 ? "residuals of the reduced model" : "contrast values"}, with the t statistic recomputed for each rearrangement ${c.cite("Winkler et al. 2014")}`;
@@ -387,55 +407,66 @@ function inferenceSentences(spec: ModelSpec, regions: readonly RegionResult[], c
   }
   let how: string;
   if (allExact) {
-    how = `every distinct rearrangement was enumerated (${counts.map((n) => n.toLocaleString("en")).join(" or ")}), so the p-values are exact`;
+    const counts = info.map((i) => i.rearrangements);
+    const lo = Math.min(...counts);
+    const hi = Math.max(...counts);
+    const howMany = lo === hi ? count(lo, "rearrangement") : `${numeral(lo)} to ${numeral(hi)} rearrangements, depending on the region`;
+    how = `every distinct rearrangement was enumerated (${howMany}), so the p-values are exact`;
   } else {
-    how = `${spec.resamples.toLocaleString("en")} random rearrangements were drawn with a seeded generator (${seed}), the same in every region, and the p-values are Monte Carlo estimates${someExact ? "; where fewer distinct rearrangements exist than were asked for, all were enumerated and the p-value is exact" : ""}`;
+    const shared = regions.length > 1 ? ", the same in every region," : "";
+    const enumerated = someExact ? "; where fewer distinct rearrangements exist than were asked for, all were enumerated and the p-value is exact" : "";
+    how = `${count(spec.resamples, "random rearrangement")} ${was(spec.resamples)} drawn with a seeded generator (${seed})${shared} and the p-values are Monte Carlo estimates${enumerated}`;
   }
   return [`Two-sided p-values were obtained ${scheme}; ${how}. Intervals are parametric 95% confidence intervals.`];
 }
 
 function correctionSentence(spec: ModelSpec, regionCount: number, c: Citations): string {
-  if (regionCount === 1) return "With one region, no correction over regions applies.";
-  const m = numberWord(regionCount);
+  if (regionCount === 1) return "With 1 region, no correction over regions applies.";
+  const over = `over the ${numeral(regionCount)} regions`;
   switch (spec.correction) {
     case "bonferroni":
-      return `p-values were corrected over the ${m} regions by the Bonferroni method ${c.cite("Dunn 1961")}.`;
+      return `The p-values were corrected ${over} by the Bonferroni method ${c.cite("Dunn 1961")}.`;
     case "holm":
-      return `p-values were corrected for the family-wise error rate over the ${m} regions by Holm's step-down procedure ${c.cite("Holm 1979")}.`;
+      return `The p-values were corrected for the family-wise error rate ${over} by Holm's step-down procedure ${c.cite("Holm 1979")}.`;
     case "bh":
-      return `p-values were adjusted over the ${m} regions to control the false discovery rate ${c.cite("Benjamini & Hochberg 1995")}.`;
+      return `The p-values were adjusted ${over} by the Benjamini–Hochberg procedure to control the false discovery rate ${c.cite("Benjamini & Hochberg 1995")}.`;
     case "maxt":
-      return `The family-wise error rate over the ${m} regions was controlled with the distribution of the maximum absolute statistic across regions in the same rearrangements ${c.cite("Westfall & Young 1993")}.`;
+      return `The family-wise error rate ${over} was controlled with the distribution of the maximum absolute statistic across regions in the same rearrangements ${c.cite("Westfall & Young 1993")}.`;
     default:
-      return `p-values were not corrected over the ${m} regions.`;
+      return `The p-values were not corrected ${over}.`;
   }
 }
 
-function diagnosticSentence(spec: ModelSpec, c: Citations): string | null {
-  if (spec.kind === "reliability") return null;
+function diagnosticSentences(spec: ModelSpec, c: Citations): string[] {
+  if (spec.kind === "reliability") return [];
   const sensitivity = spec.weights === "none" ? "; each region was also refitted without participants flagged as outlying or influential, as a sensitivity analysis" : "";
-  return `For every participant in every region, leverage, the externally studentized residual and Cook's distance were computed from the least-squares fit of the region's design ${c.cite("Cook 1977")}; participants were flagged as outlying (studentized residual beyond the Bonferroni critical value; ${c.name("Cook & Weisberg 1982")}), of high leverage (hat value above 2p/n; ${c.name("Hoaglin & Welsch 1978")}) or influential (Cook's distance above 4/n; ${c.name("Bollen & Jackman 1990")})${sensitivity}. Flags did not remove anyone from the reported estimates.`;
+  return [
+    `Leverage, the externally studentized residual, and Cook's distance were computed for every participant in every region from the least-squares fit of the region's design ${c.cite("Cook 1977")}; participants were flagged as outlying (studentized residual beyond the Bonferroni critical value; ${c.name("Cook & Weisberg 1982")}), of high leverage (hat value above 2p/n; ${c.name("Hoaglin & Welsch 1978")}), or influential (Cook's distance above 4/n; ${c.name("Bollen & Jackman 1990")})${sensitivity}.`,
+    "Flags did not remove anyone from the reported estimates.",
+  ];
 }
 
-function softwareSentence(input: MethodsInput, spec: ModelSpec): string {
+function softwareSentences(input: MethodsInput, spec: ModelSpec): string[] {
   const name = input.softwareName ?? "Covarion";
   const version = typeof input.recipe.softwareVersion === "string" ? input.recipe.softwareVersion : null;
-  const seed = spec.inference === "parametric" ? "" : ` and seed ${spec.seed}`;
-  return `Analyses were run in ${name}${version ? ` version ${version}` : ""}; the fit's recipe, which records the data files' SHA-256 hashes, the model${seed}, reproduces every number exactly.`;
+  const recorded = ["the SHA-256 hashes of the data files", "the model"];
+  if (spec.inference !== "parametric") recorded.push("the seed");
+  if (version) recorded.push("the software version");
+  return [
+    `Analyses were run in ${name}${version ? ` version ${version}` : ""}.`,
+    `The fit's recipe records ${list(recorded)}; running the recipe again reproduces every number exactly.`,
+  ];
 }
 
 function cautionsOf(input: MethodsInput, spec: ModelSpec, c: Citations): string[] {
   const out: string[] = [];
-  if (input.regionSelection === "same-data") {
-    out.push(
-      `Caution: the regions were chosen from the same data that were tested here, which inflates the reported effects; these results should be read as exploratory ${c.cite("Vul et al. 2009", "Kriegeskorte et al. 2009")}.`,
-    );
-  }
-  const maxN = Math.max(0, ...input.result.regions.map((r) => r.n));
-  if (spec.kind === "association" && maxN < SMALL_ASSOCIATION_N) {
-    out.push(
-      `Caution: brain–trait associations estimated from samples of this size are imprecise and tend to shrink on replication ${c.cite("Marek et al. 2022")}; the confidence intervals, not only the p-values, should be reported.`,
-    );
+  if (input.regionSelection === "same-data") out.push(c.caution(circularityPaperCaution));
+  const ns = input.result.regions.map((r) => r.n);
+  const small = smallSamplePaperCaution(ns);
+  if (small) out.push(c.caution(small));
+  if (spec.kind === "association") {
+    const imprecise = associationPaperCaution(Math.max(0, ...ns));
+    if (imprecise) out.push(c.caution(imprecise));
   }
   return out;
 }
@@ -452,13 +483,12 @@ export function buildMethodsText(input: MethodsInput): MethodsText {
   const c = new Citations();
   const sentences: string[] = [
     ...dataSentences(input, spec),
-    ...modelSentences(spec, regions.length, c),
+    ...modelSentences(spec, regions, c),
     ...inferenceSentences(spec, regions, c),
-    capitalise(correctionSentence(spec, regions.length, c)),
+    correctionSentence(spec, regions.length, c),
+    ...diagnosticSentences(spec, c),
+    ...softwareSentences(input, spec),
   ];
-  const diagnostics = diagnosticSentence(spec, c);
-  if (diagnostics) sentences.push(diagnostics);
-  sentences.push(softwareSentence(input, spec));
   const cautions = cautionsOf(input, spec, c);
   return { text: [...sentences, ...cautions].join(" "), references: c.references(), cautions };
 }

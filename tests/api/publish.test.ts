@@ -19,6 +19,7 @@ import { fitRegions, fits, memberships } from "../../db/schema";
 import { recipeSchema } from "../../server/cli/recipe";
 import { readTable } from "../../server/intake";
 import { createRng } from "../../server/stats/rng";
+import { REGION_DETAIL_KEYS } from "../../server/services/fits";
 import { sealHash } from "../../server/services/sealing";
 import { type Agent, type TestApp, createTestApp, signInDemo, userIdOf } from "./helpers";
 import { runRecipeCommand } from "../support/recipe-command";
@@ -156,8 +157,8 @@ describe("exports of a finished fit", () => {
     const { text, references, cautions } = res.body as { text: string; references: { key: string; citation: string }[]; cautions: string[] };
     expect(text).toContain(`“${brainFileName}” (version 1, SHA-256 ${sha256(files.brain).slice(0, 12)}…)`);
     expect(text).toContain(`“${sheetFileName}” (version 1, SHA-256 ${sha256(files.sheet).slice(0, 12)}…)`);
-    expect(text).toContain("Of 14 participants in the brain table and 15 in the participant sheet, 14 were matched (one through an identifier mapping confirmed by a team member); one participant only in the participant sheet was not analysed.");
-    expect(text).toContain("One participant was set aside from every region and one participant from one region, each with a written reason");
+    expect(text).toContain("Of 14 participants in the brain table and 15 in the participant sheet, 14 were matched (1 through an identifier mapping confirmed by a team member); 1 participant only in the participant sheet was not analysed.");
+    expect(text).toContain("The team set aside 1 participant from every region and 1 participant from 1 region; every set-aside has a written reason");
     expect(text).toContain("leaving N = 12–13 per region.");
     expect(text).toContain("Freedman–Lane procedure (Freedman & Lane 1983; Winkler et al. 2014)");
     expect(text).toContain("2,000 random rearrangements were drawn with a seeded generator (seed 11)");
@@ -166,14 +167,16 @@ describe("exports of a finished fit", () => {
     expect(text).not.toContain("sub-03"); // counts only, never participant ids
     expect(references.map((r) => r.key)).toEqual(expect.arrayContaining(["Freedman & Lane 1983", "Holm 1979", "Cook 1977", "Marek et al. 2022"]));
     expect(references.every((r) => r.citation.length > 20)).toBe(true);
-    expect(cautions).toEqual([expect.stringContaining("Marek et al. 2022")]);
+    // Regions of 12–13 participants: the small-sample caution, then the imprecision of associations below 1,000.
+    expect(cautions).toEqual([expect.stringContaining("fewer than 20 participants"), expect.stringContaining("fewer than 1,000 participants")]);
+    for (const caution of cautions) expect(caution).toContain("(Marek et al. 2022)");
   });
 
   it("a circular model's paragraph carries the circularity caution", async () => {
     const circular = await runModel("Chosen from these data", { kind: "one-sample", regions: ["L_insula"] }, "same-data");
     const res = await agents.viewer.get(`/api/fits/${circular}/methods`).expect(200);
-    expect(res.body.cautions).toEqual([expect.stringContaining("(Vul et al. 2009; Kriegeskorte et al. 2009)")]);
-    expect(res.body.text).toContain("With one region, no correction over regions applies.");
+    expect(res.body.cautions).toEqual([expect.stringContaining("(Vul et al. 2009; Kriegeskorte et al. 2009)"), expect.stringContaining("fewer than 20 participants")]);
+    expect(res.body.text).toContain("With 1 region, no correction over regions applies.");
   });
 });
 
@@ -191,12 +194,15 @@ describe("exact re-run of the recipe", () => {
       expect(run.stderr).toBe("");
       expect(run.code).toBe(0);
       const out = JSON.parse(run.stdout) as { regions: Record<string, unknown>[]; recipe: Record<string, unknown> };
-      // The fit view leaves each region's null histogram to the region detail: compare both.
-      expect(out.regions.map(({ nullHistogram: _, ...r }) => r)).toEqual(fit.body.result.regions);
+      // The fit view leaves each region's nested parts (null histogram, sensitivity, …) to the region detail: compare both.
+      const withoutDetail = (r: Record<string, unknown>) => Object.fromEntries(Object.entries(r).filter(([key]) => !REGION_DETAIL_KEYS.has(key)));
+      expect(out.regions.map(withoutDetail)).toEqual(fit.body.result.regions);
       for (const r of out.regions) {
         const detail = await agents.analyst.get(`/api/fits/${fitId}/regions/${r.region as string}`).expect(200);
+        expect(detail.body.result).toEqual(r);
         expect(r.nullHistogram).toEqual(detail.body.nullHistogram);
       }
+      expect(out.regions.every((r) => r.nullHistogram !== undefined && r.permutation !== undefined)).toBe(true);
       // Not vacuous: estimates and the per-region N differ between regions; 2000 random rearrangements plus the observed order.
       expect(out.regions.map((r) => r.n)).toEqual([13, 13, 12]);
       expect(new Set(out.regions.map((r) => r.estimate)).size).toBe(3);

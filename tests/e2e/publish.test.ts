@@ -84,7 +84,7 @@ for (const [label, viewport] of [
       expect(text).toContain("Freedman–Lane procedure (Freedman & Lane 1983; Winkler et al. 2014)");
       expect(text).toContain("1,000 random rearrangements were drawn with a seeded generator (seed 5)");
       expect(text).toMatch(/Analyses were run in Covarion version \d+\.\d+\.\d+/);
-      expect(text).toContain("The brain table holds two sessions; values from session “1” were analysed.");
+      expect(text).toContain("The brain table holds 2 sessions; values from session “1” were analysed.");
       await page.getByTestId("methods-references").getByText("Holm, S. (1979).", { exact: false }).waitFor();
       await page.getByTestId("copy-methods").click();
       await expect(page.getByTestId("copy-outcome").textContent()).resolves.toBe("Copied.");

@@ -55,18 +55,19 @@ describe("methods paragraph", () => {
     expect(t).toContain("“lantern_brain-table.csv” (version 2, SHA-256 0123456789ab…)");
     expect(t).toContain("“lantern_participants.tsv” (version 1, SHA-256 fedcba987654…)");
     expect(t).not.toContain("0123456789abcdef0"); // hashes are shortened to 12 hex digits
-    expect(t).toContain("Of 71 participants in the brain table and 72 in the participant sheet, 70 were matched (one through an identifier mapping confirmed by a team member); one participant only in the brain table and two participants only in the participant sheet were not analysed.");
-    expect(t).toContain("One participant was set aside from every region and two participants from single regions (three participant–region pairs), each with a written reason");
-    expect(t).toContain("recorded in the study's audit log; no participant was excluded automatically.");
+    expect(t).toContain("Of 71 participants in the brain table and 72 in the participant sheet, 70 were matched (1 through an identifier mapping confirmed by a team member); 1 participant only in the brain table and 2 participants only in the participant sheet were not analysed.");
+    expect(t).toContain(
+      "The team set aside 1 participant from every region and 2 participants from some regions only (3 participant–region pairs); every set-aside has a written reason recorded in the study's audit log, and no participant was excluded automatically.",
+    );
     expect(t).toContain("leaving N = 66–69 per region.");
-    expect(t).toContain("In each of three regions, the association between the contrast value and “accuracy”, adjusting for “age” and “mean_fd”, was estimated as the least-squares slope");
+    expect(t).toContain("In each of the 3 regions, the association between the contrast value and “accuracy”, adjusting for “age” and “mean_fd”, was estimated as the least-squares slope");
     expect(t).toContain("the Freedman–Lane procedure (Freedman & Lane 1983; Winkler et al. 2014)");
     expect(t).toContain("5,000 random rearrangements were drawn with a seeded generator (seed 7)");
     expect(t).toContain("Monte Carlo");
     expect(t).toContain("Holm's step-down procedure (Holm 1979)");
     expect(t).toContain("Cook's distance");
     expect(t).toContain("Flags did not remove anyone from the reported estimates.");
-    expect(t).toContain("Analyses were run in Covarion version 0.1.0");
+    expect(t).toContain("Analyses were run in Covarion version 0.1.0.");
     // Circularity is not claimed for regions chosen from anatomy; the small-sample caution applies to associations.
     expect(t).not.toContain("exploratory");
     expect(out.cautions).toHaveLength(1);
@@ -95,7 +96,7 @@ describe("methods paragraph", () => {
     const exact = { permutation: { scheme: "sign flipping", exact: true, rearrangements: 256, observed: 1 } };
     const out = buildMethodsText(input({ kind: "one-sample", inference: "permutation", resamples: 10000, seed: 3 }, [region("a", 8, exact), region("b", 8, exact)]));
     expect(out.text).toContain("by sign flipping of the contrast values");
-    expect(out.text).toContain("every distinct rearrangement was enumerated (256), so the p-values are exact");
+    expect(out.text).toContain("every distinct rearrangement was enumerated (256 rearrangements), so the p-values are exact");
     expect(out.text).not.toContain("Monte Carlo");
   });
 
@@ -106,11 +107,11 @@ describe("methods paragraph", () => {
         roster: null,
       }),
     );
-    expect(out.text).toContain("Contrast values were read from the brain table “lantern_brain-table.csv” (version 2, SHA-256 0123456789ab…), 71 participants; no participant sheet was used.");
+    expect(out.text).toContain("Contrast values were read from the brain table “lantern_brain-table.csv” (version 2, SHA-256 0123456789ab…) for 71 participants; no participant sheet was used.");
     expect(out.text).toContain("No participant was set aside.");
     expect(out.text).toContain("leaving N = 71 per region.");
     expect(out.text).toContain("with a one-sample t test (Student 1908)");
-    expect(out.text).toContain("With one region, no correction over regions applies.");
+    expect(out.text).toContain("With 1 region, no correction over regions applies.");
     expect(out.text).not.toContain("Holm");
     expect(out.cautions).toEqual([]);
   });
@@ -174,7 +175,7 @@ describe("methods paragraph", () => {
       ]),
     );
     expect(out.text).toContain("with the Wilcoxon signed-rank test (Wilcoxon 1945), the estimate being the Hodges–Lehmann pseudomedian (Hodges & Lehmann 1963)");
-    expect(out.text).toContain("The rank tests' p-values are exact in one region and come from the normal approximation with tie and continuity correction in the other region.");
+    expect(out.text).toContain("The rank tests' p-values are exact in 1 region and come from the normal approximation with tie and continuity correction in 1 region.");
   });
 
   it("no imprecision caution for associations from 1,000 participants up", () => {
@@ -199,10 +200,93 @@ describe("methods paragraph", () => {
 describe("methods paragraph: sessions", () => {
   it("names the session analysed when the brain table holds several, and not otherwise", () => {
     const two = buildMethodsText(input({ kind: "one-sample" }, [region("a", 70)], { session: { label: "1", of: 2 } }));
-    expect(two.text).toContain("The brain table holds two sessions; values from session “1” were analysed.");
+    expect(two.text).toContain("The brain table holds 2 sessions; values from session “1” were analysed.");
     const one = buildMethodsText(input({ kind: "one-sample" }, [region("a", 70)], { session: { label: "1", of: 1 } }));
     expect(one.text).not.toContain("session");
     const reliability = buildMethodsText(input({ kind: "reliability" }, [region("a", 16)], { session: { label: "1", of: 2 } }));
     expect(reliability.text).not.toContain("values from session");
+  });
+});
+
+describe("methods paragraph: small samples", () => {
+  it("cautions about regions with fewer than 20 participants (common practice, no source; after Marek et al. 2022)", () => {
+    const some = buildMethodsText(input({ kind: "one-sample", correction: "holm" }, [region("a", 19), region("b", 20), region("c", 40)]));
+    expect(some.cautions).toEqual([expect.stringContaining("Caution: 1 of the 3 regions was analysed with fewer than 20 participants;")]);
+    expect(some.cautions[0]).toContain("(Marek et al. 2022)");
+    expect(some.references.map((r) => r.key)).toContain("Marek et al. 2022");
+    const all = buildMethodsText(input({ kind: "two-group", group: "group" }, [region("a", 12), region("b", 9)]));
+    expect(all.cautions).toEqual([expect.stringContaining("Caution: all 2 regions were analysed with fewer than 20 participants;")]);
+    const one = buildMethodsText(input({ kind: "reliability" }, [region("a", 5)]));
+    expect(one.cautions).toEqual([expect.stringContaining("Caution: the region was analysed with fewer than 20 participants;")]);
+    const none = buildMethodsText(input({ kind: "one-sample" }, [region("a", 20), region("b", 20)]));
+    expect(none.cautions).toEqual([]);
+    expect(none.references.map((r) => r.key)).not.toContain("Marek et al. 2022");
+  });
+
+  it("a small association fit carries both the small-sample and the imprecision caution, circularity first", () => {
+    const out = buildMethodsText(input({ kind: "association", predictor: "age" }, [region("a", 15)], { regionSelection: "same-data" }));
+    expect(out.cautions).toHaveLength(3);
+    expect(out.cautions[0]).toContain("chosen from the same data");
+    expect(out.cautions[1]).toContain("fewer than 20 participants");
+    expect(out.cautions[2]).toContain("fewer than 1,000 participants are imprecise");
+    expect(out.text.endsWith(out.cautions.join(" "))).toBe(true);
+  });
+});
+
+describe("methods paragraph: counts and lists", () => {
+  it("writes counts as numerals that agree with their nouns and verbs, and lists with the serial comma", () => {
+    const one = buildMethodsText(
+      input({ kind: "one-sample", setAside: [{ participant: "sub-03", region: "a", reason: "dropout" }] }, [region("a", 1)], {
+        roster: { brainParticipants: 1, sheetParticipants: 2, matched: 1, matchedByMapping: 1, onlyInBrainTable: 0, onlyInParticipantSheet: 1, duplicateIds: 0 },
+      }),
+    );
+    expect(one.text).toContain(
+      "Of 1 participant in the brain table and 2 in the participant sheet, 1 was matched (1 through an identifier mapping confirmed by a team member); 1 participant only in the participant sheet was not analysed.",
+    );
+    expect(one.text).toContain("The team set aside 1 participant from 1 region;");
+    expect(one.text).toContain("In the region “a”, the mean contrast value");
+    expect(one.text).toContain("leaving N = 1 per region.");
+    const many = buildMethodsText(
+      input(
+        {
+          kind: "one-sample",
+          setAside: [
+            { participant: "sub-01", region: "a", reason: "dropout" },
+            { participant: "sub-02", region: "b", reason: "dropout" },
+          ],
+        },
+        [region("a", 1500), region("b", 1500)],
+        { roster: { brainParticipants: 1502, sheetParticipants: 1500, matched: 1499, matchedByMapping: 2, onlyInBrainTable: 3, onlyInParticipantSheet: 1, duplicateIds: 2 } },
+      ),
+    );
+    expect(many.text).toContain(
+      "Of 1,502 participants in the brain table and 1,500 in the participant sheet, 1,499 were matched (2 through identifier mappings confirmed by a team member); 3 participants only in the brain table, 1 participant only in the participant sheet, and 2 duplicated identifiers were not analysed.",
+    );
+    expect(many.text).toContain("The team set aside 2 participants from 1 region each;");
+    expect(many.text).toContain("leaving N = 1,500 per region.");
+    expect(many.text).toContain("The fit's recipe records the SHA-256 hashes of the data files, the model, and the software version; running the recipe again reproduces every number exactly.");
+  });
+
+  it("one participant from several regions, and exact enumeration with a single rearrangement count", () => {
+    const out = buildMethodsText(
+      input(
+        {
+          kind: "two-group",
+          group: "group",
+          inference: "permutation",
+          resamples: 1000,
+          setAside: [
+            { participant: "sub-01", region: "a", reason: "dropout" },
+            { participant: "sub-01", region: "b", reason: "dropout" },
+          ],
+        },
+        [region("a", 4, { permutation: { exact: true, rearrangements: 24 } }), region("b", 5, { permutation: { exact: true, rearrangements: 120 } })],
+      ),
+    );
+    expect(out.text).toContain("The team set aside 1 participant from 2 regions;");
+    expect(out.text).toContain("every distinct rearrangement was enumerated (24 to 120 rearrangements, depending on the region), so the p-values are exact");
+    const single = buildMethodsText(input({ kind: "one-sample", inference: "permutation", resamples: 1 }, [region("a", 30, { permutation: { exact: false, rearrangements: 1 } })]));
+    expect(single.text).toContain("1 random rearrangement was drawn with a seeded generator (seed 1) and the p-values are Monte Carlo estimates.");
+    expect(single.text).not.toContain("the same in every region");
   });
 });
