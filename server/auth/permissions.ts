@@ -15,6 +15,13 @@
  *   participant-level rows as restricted. `self` lists roles allowed when the
  *   route's `:userId` is the signed-in person (leaving a study).
  *
+ * Every study action is either a read (`reads(…)`) or a change
+ * (`writes(…)`). An archived study is read-only for every role: `authorize`
+ * answers 409 `study_archived` to every change of it, here and nowhere else
+ * (only `study.unarchive`, marked `inState: "archived"`, passes). An action
+ * marked `inState: "deleted"` (restoring) reaches a deleted study, which
+ * every other action treats as not found.
+ *
  * Rights follow PRODUCT.md: Owner manages members and can do everything;
  * Analyst uploads data, builds models, runs fits, sets participants aside;
  * Reviewer reads everything, comments and approves a fit for sealing; Viewer
@@ -29,7 +36,7 @@ import type { Database } from "../../db/client";
 import { perDatabase } from "../../db/prepared";
 import { cachedRead } from "../../db/read-cache";
 import { memberships, studies, type Role, type Study, roles as allRoles } from "../../db/schema";
-import { forbidden, notFound, unauthorized } from "../http/errors";
+import { forbidden, HttpError, notFound, unauthorized } from "../http/errors";
 import { idSchema } from "../http/validate";
 import { currentUser, type SessionUser } from "./session";
 
@@ -39,14 +46,26 @@ export type Audience =
   | {
       readonly scope: "study";
       readonly roles: readonly Role[];
+      /** "write": refused in an archived study (409 study_archived). */
+      readonly access: "read" | "write";
       readonly whenRestricted?: readonly Role[];
       readonly self?: readonly Role[];
+      /** The action is about a study in this state: "archived" passes the archive's refusal, "deleted" reaches a deleted study. */
+      readonly inState?: "archived" | "deleted";
     };
+
+interface StudyExtra {
+  whenRestricted?: readonly Role[];
+  self?: readonly Role[];
+  inState?: "archived" | "deleted";
+}
 
 const anyone = { scope: "anyone" } as const;
 const signedIn = { scope: "signed-in" } as const;
-const study = (roles: readonly Role[], extra: { whenRestricted?: readonly Role[]; self?: readonly Role[] } = {}) =>
-  ({ scope: "study", roles, ...extra }) as const;
+/** A study action that only reads. */
+const reads = (roles: readonly Role[], extra: StudyExtra = {}) => ({ scope: "study", access: "read", roles, ...extra }) as const;
+/** A study action that changes something (refused while the study is archived). */
+const writes = (roles: readonly Role[], extra: StudyExtra = {}) => ({ scope: "study", access: "write", roles, ...extra }) as const;
 
 const everyone: readonly Role[] = allRoles;
 const owner: readonly Role[] = ["owner"];
@@ -68,33 +87,36 @@ export const permissions = {
   "planner.use": signedIn,
 
   // A study and its team
-  "study.read": study(everyone),
-  "study.update": study(owner),
-  "study.delete": study(owner),
-  "members.list": study(everyone),
-  "members.update": study(owner),
-  "members.remove": study(owner, { self: everyone }),
-  "invitations.list": study(owner),
-  "invitations.create": study(owner),
-  "invitations.revoke": study(owner),
-  "activity.list": study(readers),
+  "study.read": reads(everyone),
+  "study.update": writes(owner),
+  "study.delete": writes(owner),
+  "study.archive": writes(owner),
+  "study.unarchive": writes(owner, { inState: "archived" }),
+  "study.restore": writes(owner, { inState: "deleted" }),
+  "members.list": reads(everyone),
+  "members.update": writes(owner),
+  "members.remove": writes(owner, { self: everyone }),
+  "invitations.list": reads(owner),
+  "invitations.create": writes(owner),
+  "invitations.revoke": writes(owner),
+  "activity.list": reads(readers),
 
   // Data, models and fits (routes arrive with later work; rights decided here)
-  "data.read": study(everyone),
-  "data.upload": study(makers),
-  "data.delete": study(makers),
-  "participants.read": study(everyone, { whenRestricted: readers }),
-  "participants.set-aside": study(makers),
-  "models.read": study(everyone),
-  "models.write": study(makers),
-  "fits.read": study(everyone),
-  "fits.run": study(makers),
-  "fits.export": study(everyone),
-  "fits.participants.read": study(everyone, { whenRestricted: readers }),
-  "fits.approve": study(["owner", "reviewer"]),
-  "fits.seal": study(owner),
-  "comments.read": study(readers),
-  "comments.write": study(readers),
+  "data.read": reads(everyone),
+  "data.upload": writes(makers),
+  "data.delete": writes(makers),
+  "participants.read": reads(everyone, { whenRestricted: readers }),
+  "participants.set-aside": writes(makers),
+  "models.read": reads(everyone),
+  "models.write": writes(makers),
+  "fits.read": reads(everyone),
+  "fits.run": writes(makers),
+  "fits.export": reads(everyone),
+  "fits.participants.read": reads(everyone, { whenRestricted: readers }),
+  "fits.approve": writes(["owner", "reviewer"]),
+  "fits.seal": writes(owner),
+  "comments.read": reads(readers),
+  "comments.write": writes(readers),
 } as const satisfies Record<string, Audience>;
 
 export type Action = keyof typeof permissions;
@@ -120,11 +142,49 @@ export function roleMay(action: Action, role: Role, options: { restricted?: bool
   return allowed;
 }
 
-/** Every action the role may perform in a study (for the web app to show or hide controls). */
-export function capabilitiesOf(role: Role, restricted: boolean): Action[] {
-  return (Object.keys(permissions) as Action[]).filter(
-    (a) => permissions[a].scope === "study" && roleMay(a, role, { restricted }),
+/** The state of a study that decides which actions it accepts. */
+export type StudyState = Pick<Study, "name" | "archivedAt" | "deletedAt">;
+
+/** The answer to any change of an archived study (409 study_archived). */
+export function studyArchived(study: Pick<Study, "name">): HttpError {
+  return new HttpError(
+    409,
+    "study_archived",
+    `The study "${study.name}" is archived: it is read-only for every role. An Owner can unarchive it (Team → Archive) to change it again.`,
   );
+}
+
+/**
+ * The archive rule, in one place: null when `action` may proceed in the
+ * study's current state, else the error to answer. Changes of an archived
+ * study are refused, except the action that unarchives it.
+ */
+export function stateRefusal(action: Action, study: StudyState): HttpError | null {
+  const audience: Audience = permissions[action];
+  if (audience.scope !== "study") return null;
+  if (study.archivedAt && audience.access === "write" && audience.inState !== "archived") return studyArchived(study);
+  return null;
+}
+
+/** Throws 409 study_archived when the study is archived (for changes reached without a study-scoped route, e.g. accepting an invitation). */
+export function assertNotArchived(study: StudyState): void {
+  if (study.archivedAt) throw studyArchived(study);
+}
+
+/**
+ * Every action the role may perform in the study as it is now (for the web
+ * app to show or hide controls): an archived study lists only reads and
+ * unarchiving; actions about another state (restoring a deleted study,
+ * unarchiving a study that is not archived) are left out.
+ */
+export function capabilitiesOf(role: Role, study: StudyState & Pick<Study, "restricted">): Action[] {
+  const state = study.deletedAt ? "deleted" : study.archivedAt ? "archived" : undefined;
+  return (Object.keys(permissions) as Action[]).filter((a) => {
+    const audience: Audience = permissions[a];
+    if (audience.scope !== "study" || !roleMay(a, role, { restricted: study.restricted })) return false;
+    if (audience.inState !== undefined && audience.inState !== state) return false;
+    return stateRefusal(a, study) === null;
+  });
 }
 
 /**
@@ -151,12 +211,14 @@ export function authorize(action: Action, options: { studyOf?: StudyOf } = {}): 
     if (audience.scope === "signed-in") return next();
     const db = (req.app.locals as { db: Database }).db;
     const studyId = studyOf ? await studyOf.resolve(db, req.params as Record<string, string>) : String(req.params.studyId ?? "");
-    const found = studyId === null ? null : await findMembership(db, studyId, user);
+    const found = studyId === null ? null : await findMembership(db, studyId, user, audience.inState === "deleted");
     if (!found) throw notFound(studyOf ? (studyOf.notFound ?? "Not found.") : "Study not found.");
     const isSelf = typeof req.params.userId === "string" && req.params.userId === user.id;
     if (!roleMay(action, found.role, { restricted: found.study.restricted, isSelf })) {
       throw forbidden(`Your role in this study (${found.role}) does not allow ${action}.`);
     }
+    const refusal = stateRefusal(action, found.study);
+    if (refusal) throw refusal;
     res.locals.study = found.study;
     res.locals.role = found.role;
     next();
@@ -176,9 +238,22 @@ const membershipRow = perDatabase((db) =>
     .prepare("membership_row"),
 );
 
-/** The person's membership of a (not deleted) study, or null. Kept until the next write (db/read-cache.ts). */
-async function findMembership(db: Database, studyId: string, user: SessionUser): Promise<AuthorizedStudy | null> {
+/**
+ * The person's membership of a (not deleted) study, or null; with
+ * `includeDeleted`, of a deleted study too (restoring). Kept until the next
+ * write (db/read-cache.ts).
+ */
+async function findMembership(db: Database, studyId: string, user: SessionUser, includeDeleted = false): Promise<AuthorizedStudy | null> {
   if (!idSchema.safeParse(studyId).success) return null;
+  if (includeDeleted) {
+    const [any] = await db
+      .select({ study: studies, role: memberships.role })
+      .from(memberships)
+      .innerJoin(studies, eq(studies.id, memberships.studyId))
+      .where(and(eq(memberships.studyId, studyId), eq(memberships.userId, user.id)))
+      .limit(1);
+    return any ?? null;
+  }
   const [found] = await cachedRead(db, `membership ${studyId} ${user.id}`, () => membershipRow(db).execute({ studyId, userId: user.id }));
   return found ?? null;
 }

@@ -11,6 +11,7 @@ import { and, desc, eq, gt, isNull } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
 import { invitations, memberships, studies, users, type Invitation, type Role, type Study } from "../../db/schema";
 import { conflict, forbidden, HttpError, notFound } from "../http/errors";
+import { assertNotArchived } from "../auth/permissions";
 import { recordEvent } from "./audit";
 import { linkMail, type Mailer } from "./mailer";
 
@@ -230,6 +231,7 @@ export async function accept(db: Database, user: { id: string; email: string }, 
     if (user.email.toLowerCase() !== inv.email) {
       throw forbidden(`This invitation was sent to ${inv.email}; you are signed in as ${user.email}. Sign in with the invited address to accept it.`);
     }
+    assertNotArchived(found.study);
     const already = await tx
       .select({ role: memberships.role })
       .from(memberships)

@@ -1,15 +1,25 @@
 /**
  * Studies: create (the creator becomes Owner), read, update (name,
- * description, restricted flag), soft delete. Every change is recorded in
- * the audit trail in the same transaction.
+ * description, restricted flag), and the life cycle that never loses what
+ * was recorded:
+ *
+ * - delete is a soft delete an Owner can undo for 30 days (restore); after
+ *   that the study stays stored but can no longer be restored;
+ * - a study with a sealed fit cannot be deleted, only archived: read-only
+ *   for every role (the permission module refuses its changes), still
+ *   readable, and an Owner can unarchive it.
+ *
+ * Every change is recorded in the audit trail in the same transaction; the
+ * trail itself is never deleted, so a restored study shows its whole history.
  */
-import { and, eq, inArray, isNull, sql } from "drizzle-orm";
+import { and, desc, eq, gte, inArray, isNotNull, isNull, sql } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
 import { perDatabase } from "../../db/prepared";
 import { cachedRead } from "../../db/read-cache";
-import { datasetVersions, fits, memberships, models, studies, type Role, type Study } from "../../db/schema";
+import { datasetVersions, fitSeals, fits, memberships, models, studies, users, type Role, type Study } from "../../db/schema";
 import { capabilitiesOf } from "../auth/permissions";
-import { badRequest } from "../http/errors";
+import { badRequest, HttpError } from "../http/errors";
+import { restorableUntil, restoreWindowDays, restoreWindowMs } from "../model/study-lifecycle";
 import { recordEvent } from "./audit";
 
 export interface StudyCounts {
@@ -28,6 +38,8 @@ export interface StudySummary {
   counts: StudyCounts;
   createdAt: string;
   updatedAt: string;
+  /** When the study was archived (read-only for every role), or null. */
+  archivedAt: string | null;
 }
 
 export interface StudyDetail extends StudySummary {
@@ -102,6 +114,7 @@ function summary(study: Study, role: Role, counts: StudyCounts): StudySummary {
     counts,
     createdAt: study.createdAt.toISOString(),
     updatedAt: study.updatedAt.toISOString(),
+    archivedAt: study.archivedAt?.toISOString() ?? null,
   };
 }
 
@@ -123,7 +136,7 @@ export async function listStudies(db: Database, userId: string): Promise<StudySu
 
 export async function studyDetail(db: Database, study: Study, role: Role): Promise<StudyDetail> {
   const counts = (await studyCounts(db, [study.id])).get(study.id) as StudyCounts;
-  return { ...summary(study, role, counts), capabilities: capabilitiesOf(role, study.restricted) };
+  return { ...summary(study, role, counts), capabilities: capabilitiesOf(role, study) };
 }
 
 export interface NewStudy {
@@ -193,17 +206,75 @@ export async function updateStudy(db: Database, actor: Actor, study: Study, role
   return studyDetail(db, updated, role);
 }
 
+/** A deleted study its Owner can still restore. */
+export interface DeletedStudy {
+  id: string;
+  name: string;
+  description: string;
+  deletedAt: string;
+  deletedBy: { id: string; name: string | null } | null;
+  /** The last moment it can be restored. */
+  restorableUntil: string;
+}
+
+/**
+ * Deleted studies `userId` owns that can still be restored at `now`, most
+ * recently deleted first. Studies past the restore window stay stored and
+ * are not listed.
+ */
+export async function listDeletedStudies(db: Database, userId: string, now: Date): Promise<DeletedStudy[]> {
+  const cutoff = new Date(now.getTime() - restoreWindowMs);
+  const rows = await db
+    .select({ study: studies, deletedByName: users.name })
+    .from(memberships)
+    .innerJoin(studies, eq(studies.id, memberships.studyId))
+    .leftJoin(users, eq(users.id, studies.deletedBy))
+    .where(and(eq(memberships.userId, userId), eq(memberships.role, "owner"), isNotNull(studies.deletedAt), gte(studies.deletedAt, cutoff)))
+    .orderBy(desc(studies.deletedAt));
+  return rows.map(({ study, deletedByName }) => {
+    const deletedAt = study.deletedAt as Date;
+    return {
+      id: study.id,
+      name: study.name,
+      description: study.description,
+      deletedAt: deletedAt.toISOString(),
+      deletedBy: study.deletedBy ? { id: study.deletedBy, name: deletedByName } : null,
+      restorableUntil: restorableUntil(deletedAt).toISOString(),
+    };
+  });
+}
+
+/** True when a fit of the study is sealed. */
+async function hasSealedFit(db: Queryable, studyId: string): Promise<boolean> {
+  const rows = await db
+    .select({ fitId: fitSeals.fitId })
+    .from(fitSeals)
+    .innerJoin(fits, eq(fits.id, fitSeals.fitId))
+    .where(eq(fits.studyId, studyId))
+    .limit(1);
+  return rows.length > 0;
+}
+
 /**
  * Soft-deletes a study: it disappears from every route, its rows and audit
- * trail stay. `confirmation` must repeat the study's name exactly.
+ * trail stay, and an Owner can restore it for 30 days. `confirmation` must
+ * repeat the study's name exactly. A study with a sealed fit is never
+ * deleted (409 study_has_sealed_fits): archive it instead.
  */
 export async function deleteStudy(db: Database, actor: Actor, study: Study, confirmation: string, now: Date): Promise<void> {
-  if (confirmation !== study.name) {
-    throw badRequest(`To delete this study, type its name exactly: "${study.name}".`, [
-      { field: "body.confirm", message: "must repeat the study's name exactly" },
-    ]);
-  }
   await db.transaction(async (tx) => {
+    if (await hasSealedFit(tx, study.id)) {
+      throw new HttpError(
+        409,
+        "study_has_sealed_fits",
+        `The study "${study.name}" has sealed fits, so it cannot be deleted. Archive it instead: it becomes read-only for every role and stays readable.`,
+      );
+    }
+    if (confirmation !== study.name) {
+      throw badRequest(`To delete this study, type its name exactly: "${study.name}".`, [
+        { field: "body.confirm", message: "must repeat the study's name exactly" },
+      ]);
+    }
     await tx.update(studies).set({ deletedAt: now, deletedBy: actor.id }).where(eq(studies.id, study.id));
     await recordEvent(tx, {
       studyId: study.id,
@@ -212,8 +283,101 @@ export async function deleteStudy(db: Database, actor: Actor, study: Study, conf
       targetType: "study",
       targetId: study.id,
       before: auditView(study),
-      after: { deletedAt: now.toISOString() },
+      after: { deletedAt: now.toISOString(), restorableUntil: restorableUntil(now).toISOString() },
       at: now,
     });
   });
+}
+
+/**
+ * Restores a deleted study within the restore window: everything it held,
+ * its audit trail included, is back as it was. 409 study_not_deleted when it
+ * is not deleted; 410 restore_expired after the window (the study stays
+ * stored).
+ */
+export async function restoreStudy(db: Database, actor: Actor, study: Study, role: Role, now: Date): Promise<StudyDetail> {
+  if (!study.deletedAt) throw new HttpError(409, "study_not_deleted", `The study "${study.name}" is not deleted; there is nothing to restore.`);
+  const until = restorableUntil(study.deletedAt);
+  if (now.getTime() > until.getTime()) {
+    throw new HttpError(
+      410,
+      "restore_expired",
+      `The study "${study.name}" was deleted on ${day(study.deletedAt)}. A deleted study can be restored for ${restoreWindowDays} days, until ${day(until)}; that time has passed, so it can no longer be restored.`,
+    );
+  }
+  const restored = await db.transaction(async (tx) => {
+    const [row] = await tx.update(studies).set({ deletedAt: null, deletedBy: null, updatedAt: now }).where(eq(studies.id, study.id)).returning();
+    await recordEvent(tx, {
+      studyId: study.id,
+      actorId: actor.id,
+      kind: "study.restored",
+      targetType: "study",
+      targetId: study.id,
+      before: { deletedAt: study.deletedAt?.toISOString(), deletedBy: study.deletedBy },
+      after: auditView(row),
+      at: now,
+    });
+    return row;
+  });
+  return studyDetail(db, restored, role);
+}
+
+/**
+ * Archives a study: read-only for every role, still readable. 409 when a
+ * fit is still queued or running (it would change the study after the
+ * archive): wait for it or cancel it first.
+ */
+export async function archiveStudy(db: Database, actor: Actor, study: Study, role: Role, now: Date): Promise<StudyDetail> {
+  const archived = await db.transaction(async (tx) => {
+    const running = await tx
+      .select({ id: fits.id })
+      .from(fits)
+      .where(and(eq(fits.studyId, study.id), inArray(fits.status, ["queued", "running"])));
+    if (running.length > 0) {
+      throw new HttpError(
+        409,
+        "fits_in_progress",
+        `The study "${study.name}" has ${running.length} fit${running.length === 1 ? "" : "s"} queued or running. Wait until ${running.length === 1 ? "it finishes" : "they finish"} or cancel ${running.length === 1 ? "it" : "them"}, then archive.`,
+        { fitIds: running.map((r) => r.id) },
+      );
+    }
+    const [row] = await tx.update(studies).set({ archivedAt: now, archivedBy: actor.id, updatedAt: now }).where(eq(studies.id, study.id)).returning();
+    await recordEvent(tx, {
+      studyId: study.id,
+      actorId: actor.id,
+      kind: "study.archived",
+      targetType: "study",
+      targetId: study.id,
+      before: { archivedAt: null },
+      after: { archivedAt: now.toISOString() },
+      at: now,
+    });
+    return row;
+  });
+  return studyDetail(db, archived, role);
+}
+
+/** Unarchives a study: its members can change it again. 409 study_not_archived when it is not archived. */
+export async function unarchiveStudy(db: Database, actor: Actor, study: Study, role: Role, now: Date): Promise<StudyDetail> {
+  if (!study.archivedAt) throw new HttpError(409, "study_not_archived", `The study "${study.name}" is not archived.`);
+  const unarchived = await db.transaction(async (tx) => {
+    const [row] = await tx.update(studies).set({ archivedAt: null, archivedBy: null, updatedAt: now }).where(eq(studies.id, study.id)).returning();
+    await recordEvent(tx, {
+      studyId: study.id,
+      actorId: actor.id,
+      kind: "study.unarchived",
+      targetType: "study",
+      targetId: study.id,
+      before: { archivedAt: study.archivedAt?.toISOString(), archivedBy: study.archivedBy },
+      after: { archivedAt: null },
+      at: now,
+    });
+    return row;
+  });
+  return studyDetail(db, unarchived, role);
+}
+
+/** A date as YYYY-MM-DD (UTC) for messages. */
+function day(at: Date): string {
+  return at.toISOString().slice(0, 10);
 }

@@ -14,6 +14,7 @@ import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { fits, invitations, memberships, models, setAsides, studies, users } from "../../db/schema";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
+import { type Action, type Audience, permissions } from "../../server/auth/permissions";
 import { listRoutes } from "../../server/http/route-list";
 import type { FitJobs } from "../../server/jobs/fit-jobs";
 import { modelSpecSchema } from "../../server/model/spec";
@@ -45,6 +46,8 @@ interface Row {
   expected: Expected;
   /** The fixture study needs the demo tables, a finished fit and a queued one. */
   data?: boolean;
+  /** The fixture study is deleted (restoring) or archived (unarchiving) before the request. */
+  state?: "deleted" | "archived";
 }
 
 const all = (status: number): Expected => ({ owner: status, analyst: status, reviewer: status, viewer: status, outsider: status, anonymous: status });
@@ -65,6 +68,10 @@ const matrix: Record<string, Row> = {
   "GET /api/studies/:studyId": { path: (f) => `/api/studies/${f.studyId}`, expected: members(200) },
   "PATCH /api/studies/:studyId": { path: (f) => `/api/studies/${f.studyId}`, body: () => ({ name: "Renamed" }), expected: ownerOnly(200) },
   "DELETE /api/studies/:studyId": { path: (f) => `/api/studies/${f.studyId}`, body: (f) => ({ confirm: f.studyName }), expected: ownerOnly(204) },
+  // The study's life cycle: only its Owner restores a deleted study, archives and unarchives.
+  "POST /api/studies/:studyId/restore": { path: (f) => `/api/studies/${f.studyId}/restore`, expected: ownerOnly(200), state: "deleted" },
+  "POST /api/studies/:studyId/archive": { path: (f) => `/api/studies/${f.studyId}/archive`, expected: ownerOnly(200) },
+  "POST /api/studies/:studyId/unarchive": { path: (f) => `/api/studies/${f.studyId}/unarchive`, expected: ownerOnly(200), state: "archived" },
   "GET /api/studies/:studyId/members": { path: (f) => `/api/studies/${f.studyId}/members`, expected: members(200) },
   "PATCH /api/studies/:studyId/members/:userId": {
     path: (f) => `/api/studies/${f.studyId}/members/${f.targetUserId}`,
@@ -187,7 +194,7 @@ async function sessionCookieOf(email: string): Promise<string> {
   return `authjs.session-token=${cookie.value}`;
 }
 
-async function makeFixture(withData = false): Promise<Fixture> {
+async function makeFixture(withData = false, state?: "deleted" | "archived"): Promise<Fixture> {
   counter += 1;
   const now = new Date();
   const name = `Matrix fixture ${counter}`;
@@ -231,6 +238,8 @@ async function makeFixture(withData = false): Promise<Fixture> {
     fitId = fit.id;
     queuedFitId = queued.id;
   }
+  if (state === "deleted") await t.db.update(studies).set({ deletedAt: now, deletedBy: owner }).where(eq(studies.id, study.id));
+  if (state === "archived") await t.db.update(studies).set({ archivedAt: now, archivedBy: owner }).where(eq(studies.id, study.id));
   return { studyId: study.id, studyName: name, targetUserId: target.id, invitationId: inv.id, token, n: counter, modelId: model.id, setAsideId: aside.id, fitId, queuedFitId };
 }
 
@@ -256,12 +265,32 @@ describe("authorization matrix", () => {
     expect(bad).toEqual([]);
   });
 
+  // An archived study is read-only for every role: each change answers 409 study_archived, each read as before
+  // (the Owner, who may do everything, asks). Which actions change something is decided in the permission table.
+  describe("in an archived study", () => {
+    for (const [key, row] of Object.entries(matrix)) {
+      const action = () => listRoutes(t.app).find((r) => `${r.method} ${r.path}` === key)?.actions[0] as Action | undefined;
+      it(`${key}`, async ({ skip }) => {
+        const audience = permissions[action() as Action] as Audience | undefined;
+        if (!audience || audience.scope !== "study") return skip();
+        expect(audience.access, `${key}: the permission table says whether ${action()} reads or changes`).toMatch(/^(read|write)$/);
+        if (audience.inState !== undefined) return skip();
+        const fixture = await makeFixture(row.data === true, "archived");
+        const method = key.split(" ")[0].toLowerCase() as "get" | "post" | "put" | "patch" | "delete";
+        const req = request(t.url)[method](row.path(fixture)).set("Cookie", cookies.get("owner") as string);
+        const res = row.body ? await req.send(row.body(fixture) as object) : await req;
+        if (audience.access === "write") expect([res.status, res.body.error?.code]).toEqual([409, "study_archived"]);
+        else expect(res.status).toBe(row.expected.owner);
+      });
+    }
+  });
+
   for (const [key, row] of Object.entries(matrix)) {
     it(`${key}`, async () => {
       const method = key.split(" ")[0];
       const got: Partial<Expected> = {};
       for (const persona of personas) {
-        const fixture = await makeFixture(row.data === true);
+        const fixture = await makeFixture(row.data === true, row.state);
         const path = row.path(fixture);
         let req = request(t.url)[method.toLowerCase() as "get" | "post" | "put" | "patch" | "delete"](path);
         const cookie = cookies.get(persona);

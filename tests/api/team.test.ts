@@ -84,7 +84,7 @@ describe("studies", () => {
     await owner.patch(`/api/studies/${studyId}`).send({}).expect(400);
   });
 
-  it("deletes only with the typed name, then hides the study everywhere but keeps its trail", async () => {
+  it("deletes only with the typed name, then hides the study everywhere but keeps its trail and says until when it can be restored", async () => {
     const owner = await signInByEmail(t, "erik@lab.example");
     const studyId = await newStudy(owner, "To be deleted");
     const wrong = await owner.delete(`/api/studies/${studyId}`).send({ confirm: "to be deleted" }).expect(400);
@@ -96,6 +96,9 @@ describe("studies", () => {
     const rows = await t.db.select().from(auditEvents);
     const deleted = rows.find((r) => r.studyId === studyId && r.kind === "study.deleted");
     expect(deleted?.before).toMatchObject({ name: "To be deleted" });
+    // The event says until when the delete can be undone (30 days; see study-lifecycle.test.ts).
+    const after = deleted?.after as { deletedAt: string; restorableUntil: string };
+    expect(Date.parse(after.restorableUntil) - Date.parse(after.deletedAt)).toBe(30 * 24 * 60 * 60 * 1000);
   });
 
   it("a study id that is not an id answers 404, not 400 (nothing is revealed)", async () => {
