@@ -67,7 +67,7 @@ export function allowedHost(policy: HostPolicy): (value: string | undefined) => 
 export function hostGuard(policy: HostPolicy): RequestHandler {
   const allowed = allowedHost(policy);
   const publicHost = new URL(policy.publicUrl).host;
-  const accepted = policy.production ? publicHost : `${publicHost}, localhost, 127.0.0.1 or [::1]`;
+  const accepted = policy.production ? publicHost : `${publicHost} or localhost, 127.0.0.1 and [::1] on any port`;
   return (req, res, next) => {
     const host = req.host;
     if (allowed(host)) return next();
