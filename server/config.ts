@@ -47,6 +47,8 @@ const envSchema = z.object({
   RATE_LIMIT_WINDOW_MINUTES: positiveInt.default(15),
   RATE_LIMIT_PER_ADDRESS: positiveInt.default(5),
   RATE_LIMIT_PER_IP: positiveInt.default(30),
+  REQUEST_IDLE_TIMEOUT_SECONDS: z.coerce.number().positive().default(30),
+  REQUEST_TIMEOUT_SECONDS: z.coerce.number().positive().default(600),
 });
 
 export type Env = Readonly<Record<string, string | undefined>>;
@@ -77,6 +79,8 @@ export interface Config {
   oidcName: string;
   bodyLimit: string;
   rateLimit: { windowMs: number; perAddress: number; perIp: number };
+  /** Longest wait for headers or pause in a body, and longest time to receive a whole request (server/http/request-timeouts.ts). */
+  requestTimeouts: { idleMs: number; totalMs: number };
   secrets: Secrets;
 }
 
@@ -113,6 +117,11 @@ export function loadConfig(env: Env = process.env): Config {
   if (oidcParts.some(Boolean) && !oidcParts.every(Boolean)) {
     throw new ConfigError("Configuration error: OIDC_ISSUER, OIDC_CLIENT_ID and OIDC_CLIENT_SECRET must be given together. See .env.example.");
   }
+  if (e.REQUEST_TIMEOUT_SECONDS < e.REQUEST_IDLE_TIMEOUT_SECONDS) {
+    throw new ConfigError(
+      `Configuration error: REQUEST_TIMEOUT_SECONDS (${e.REQUEST_TIMEOUT_SECONDS}) must be at least REQUEST_IDLE_TIMEOUT_SECONDS (${e.REQUEST_IDLE_TIMEOUT_SECONDS}). See .env.example.`,
+    );
+  }
   const oidc =
     e.OIDC_ISSUER && e.OIDC_CLIENT_ID && e.OIDC_CLIENT_SECRET
       ? { issuer: e.OIDC_ISSUER, clientId: e.OIDC_CLIENT_ID, clientSecret: e.OIDC_CLIENT_SECRET, name: e.OIDC_NAME }
@@ -139,6 +148,7 @@ export function loadConfig(env: Env = process.env): Config {
       perAddress: e.RATE_LIMIT_PER_ADDRESS,
       perIp: e.RATE_LIMIT_PER_IP,
     },
+    requestTimeouts: { idleMs: Math.round(e.REQUEST_IDLE_TIMEOUT_SECONDS * 1000), totalMs: Math.round(e.REQUEST_TIMEOUT_SECONDS * 1000) },
     secrets,
   };
 }

@@ -1,7 +1,8 @@
 /**
  * Starts Covarion: reads the configuration, takes the data directory's
  * lock, opens and migrates the database, seeds the demo on first start,
- * starts the local mail and identity fakes outside production, listens,
+ * starts the local mail and identity fakes outside production, listens
+ * (with the time limits on receiving a request, server/http/request-timeouts.ts),
  * prints the address, and shuts down cleanly on SIGINT/SIGTERM (stops
  * listening, stops the fit jobs' worker threads, closes the fakes and the
  * database, releases the lock).
@@ -19,6 +20,7 @@ import { seedDemo } from "../db/seed";
 import { seedDemoDatasets } from "../db/seed/demo-datasets";
 import { createApp } from "./app";
 import { ConfigError, loadConfig } from "./config";
+import { createHttpServer } from "./http/request-timeouts";
 import { FitJobs } from "./jobs/fit-jobs";
 import { startServices, type Services } from "./dev/dev-services";
 import { acquireDataLock, DataLockError, type DataLock } from "./services/data-lock";
@@ -73,7 +75,8 @@ async function main(): Promise<void> {
       institution: services.institution,
       fitJobs,
     });
-    server = app.listen(config.port, config.host);
+    server = createHttpServer(app, config.requestTimeouts);
+    server.listen(config.port, config.host);
     await new Promise<void>((resolve, reject) => {
       server?.once("listening", resolve);
       server?.once("error", reject);

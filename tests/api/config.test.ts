@@ -32,6 +32,7 @@ describe("loadConfig", () => {
       databaseDir: join(dir, "db"),
       oidc: null,
       smtpUrl: null,
+      requestTimeouts: { idleMs: 30_000, totalMs: 600_000 },
     });
   });
 
@@ -64,5 +65,10 @@ describe("loadConfig", () => {
     expect(() => loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://m.example" })).toThrow(/PUBLIC_URL is required/);
     expect(() => loadConfig({ DATA_DIR: dataDir(), OIDC_ISSUER: "https://idp.example" })).toThrow(/must be given together/);
     expect(() => loadConfig({ DATA_DIR: dataDir(), AUTH_SECRET: "short" })).toThrow(/AUTH_SECRET/);
+    expect(() => loadConfig({ DATA_DIR: dataDir(), REQUEST_IDLE_TIMEOUT_SECONDS: "0" })).toThrow(/REQUEST_IDLE_TIMEOUT_SECONDS/);
+    expect(() => loadConfig({ DATA_DIR: dataDir(), REQUEST_IDLE_TIMEOUT_SECONDS: "60", REQUEST_TIMEOUT_SECONDS: "30" })).toThrow(
+      /REQUEST_TIMEOUT_SECONDS \(30\) must be at least REQUEST_IDLE_TIMEOUT_SECONDS \(60\)/,
+    );
+    expect(loadConfig({ DATA_DIR: dataDir(), REQUEST_IDLE_TIMEOUT_SECONDS: "0.5", REQUEST_TIMEOUT_SECONDS: "90" }).requestTimeouts).toEqual({ idleMs: 500, totalMs: 90_000 });
   });
 });

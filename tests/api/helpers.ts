@@ -19,6 +19,7 @@ import { createApp } from "../../server/app";
 import { loadConfig, type Config } from "../../server/config";
 import { startServices, type Services } from "../../server/dev/dev-services";
 import type { CaughtMail } from "../../server/dev/mail-fake";
+import { applyRequestTimeouts } from "../../server/http/request-timeouts";
 
 export type Agent = ReturnType<typeof request.agent>;
 
@@ -72,6 +73,7 @@ export async function createTestApp(options: TestAppOptions = {}): Promise<TestA
     RATE_LIMIT_PER_IP: "1000",
     ...options.env,
   });
+  applyRequestTimeouts(server, config.requestTimeouts);
   const database = await openTemplateDatabase(options.dataDir);
   let offset = 0;
   const clock = () => new Date(Date.now() + offset);
