@@ -314,5 +314,6 @@ describe("methods paragraph: every combination reads as grammatical English", ()
         turn++;
       }
     expect([...problems]).toEqual([]);
-  });
+    // 77 paragraphs per combination: a generous time-out for a shared machine (not a timing check).
+  }, 60_000);
 });
