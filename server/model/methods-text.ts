@@ -9,7 +9,7 @@
  * reason is logged, listwise deletion, N per region), the question and the
  * estimator, the inference (resamples, seed, exact or Monte Carlo), the
  * correction over regions, the weighting, the diagnostics, the software and
- * its version, then the
+ * its version, who signed the fit off when one person did it all, then the
  * cautions (texts and thresholds in `cautions.ts`, shared with the screens).
  *
  * Style: counts of participants, regions, rearrangements and everything
@@ -114,6 +114,12 @@ export interface MethodsInput {
   session?: { label: string; of: number } | null;
   /** The program's name (default "Covarion"). */
   softwareName?: string;
+  /**
+   * True when the seal records that one person started, approved and sealed
+   * the fit (the study had turned off "A second person signs off"); the
+   * paragraph then says so.
+   */
+  singlePersonSignOff?: boolean;
 }
 
 export interface MethodsText {
@@ -458,6 +464,10 @@ function softwareSentences(input: MethodsInput, spec: ModelSpec): string[] {
   ];
 }
 
+/** Said when the study let one person start, approve and seal the fit. */
+export const singlePersonSignOffSentence =
+  "The same person started, approved, and sealed this fit; the study's setting “A second person signs off” was turned off.";
+
 function cautionsOf(input: MethodsInput, spec: ModelSpec, c: Citations): string[] {
   const out: string[] = [];
   if (input.regionSelection === "same-data") out.push(c.caution(circularityPaperCaution));
@@ -489,6 +499,7 @@ export function buildMethodsText(input: MethodsInput): MethodsText {
     ...diagnosticSentences(spec, c),
     ...softwareSentences(input, spec),
   ];
+  if (input.singlePersonSignOff) sentences.push(singlePersonSignOffSentence);
   const cautions = cautionsOf(input, spec, c);
   return { text: [...sentences, ...cautions].join(" "), references: c.references(), cautions };
 }

@@ -286,6 +286,7 @@ function inputOf(model: ModelSpec, shape: Shape, n: number, turn: number): Metho
       : null,
     brainParticipants: n,
     session: [null, { label: "1", of: 2 }, { label: "baseline", of: n }][turn % 3],
+    singlePersonSignOff: turn % 2 === 0,
   };
 }
 

@@ -208,7 +208,17 @@ describe("methods paragraph: sessions", () => {
   });
 });
 
-describe("methods paragraph: small samples", () => {
+describe("methods paragraph: sign-off and small samples", () => {
+  it("says when one person started, approved and sealed the fit, and only then", () => {
+    const single = buildMethodsText(input({ kind: "one-sample" }, [region("a", 70)], { singlePersonSignOff: true }));
+    expect(single.text).toContain("The same person started, approved, and sealed this fit; the study's setting “A second person signs off” was turned off.");
+    expect(single.cautions).toEqual([]);
+    for (const singlePersonSignOff of [false, undefined]) {
+      const two = buildMethodsText(input({ kind: "one-sample" }, [region("a", 70)], { singlePersonSignOff }));
+      expect(two.text).not.toContain("same person");
+    }
+  });
+
   it("cautions about regions with fewer than 20 participants (common practice, no source; after Marek et al. 2022)", () => {
     const some = buildMethodsText(input({ kind: "one-sample", correction: "holm" }, [region("a", 19), region("b", 20), region("c", 40)]));
     expect(some.cautions).toEqual([expect.stringContaining("Caution: 1 of the 3 regions was analysed with fewer than 20 participants;")]);
