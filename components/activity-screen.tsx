@@ -126,6 +126,8 @@ export function describeEvent(event: ActivityEvent): string {
       return `ran a fit of “${field(after, "modelName") ?? "a model"}” (seed ${field(after, "seed") ?? "?"}, ${field(after, "setAside") ?? 0} set aside)`;
     case "fit.cancelled":
       return "cancelled a fit";
+    case "fit.requeued":
+      return "re-queued a fit after a restart";
     case "fit.approved":
       return "approved a fit for sealing";
     case "fit.sealed":

@@ -21,19 +21,24 @@
  * Restart: `recover()` re-queues every fit left queued or running by a
  * previous process. A fit is deterministic (fixed data versions, fixed
  * seed), so running it again gives the numbers it would have given; a fit
- * whose data can no longer be read fails with that reason.
+ * whose data can no longer be read fails with that reason. A re-queued fit
+ * keeps its first start time (`startedAt` is never overwritten once set),
+ * its progress starts again from 0, and the re-queue is recorded in the
+ * audit trail (`fit.requeued`, no actor, with the status and progress it
+ * was left at) in the same transaction.
  *
  * Listeners (the server-sent events route) receive every progress and
  * status change of a fit as it happens.
  */
 import { availableParallelism } from "node:os";
 import { MessageChannel } from "node:worker_threads";
-import { and, eq, inArray } from "drizzle-orm";
+import { and, eq, inArray, sql } from "drizzle-orm";
 import { Piscina } from "piscina";
 import type { Database } from "../../db/client";
 import { fitRegions, fits, type FitStatus } from "../../db/schema";
 import { IntakeError } from "../intake/errors";
 import type { FitData } from "../model/spec";
+import { recordEvent } from "../services/audit";
 import { FitDataCache, type FitInputs, inputsOfFit, specOfRecipe } from "../services/fit-inputs";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "./fit-task";
 
@@ -179,13 +184,37 @@ export class FitJobs {
    * module comment). Returns their ids, oldest first.
    */
   async recover(): Promise<string[]> {
-    const rows = await this.db
-      .update(fits)
-      .set({ status: "queued", progress: 0, secondsLeft: null, startedAt: null })
-      .where(inArray(fits.status, ["queued", "running"]))
-      .returning({ id: fits.id, createdAt: fits.createdAt });
+    const rows = await this.db.transaction(async (tx) => {
+      const left = await tx
+        .select({ id: fits.id, studyId: fits.studyId, status: fits.status, progress: fits.progress, startedAt: fits.startedAt, createdAt: fits.createdAt })
+        .from(fits)
+        .where(inArray(fits.status, ["queued", "running"]))
+        .for("update");
+      if (left.length === 0) return left;
+      await tx
+        .update(fits)
+        .set({ status: "queued", progress: 0, secondsLeft: null })
+        .where(inArray(fits.id, left.map((f) => f.id)));
+      const at = this.clock();
+      for (const fit of left) {
+        await recordEvent(tx, {
+          studyId: fit.studyId,
+          actorId: null,
+          kind: "fit.requeued",
+          targetType: "fit",
+          targetId: fit.id,
+          before: { status: fit.status, progress: fit.progress, startedAt: fit.startedAt },
+          after: { status: "queued", progress: 0 },
+          at,
+        });
+      }
+      return left;
+    });
     rows.sort((a, b) => a.createdAt.getTime() - b.createdAt.getTime() || (a.id < b.id ? -1 : 1));
-    for (const row of rows) this.enqueue(row.id);
+    for (const row of rows) {
+      this.enqueue(row.id);
+      this.emit({ type: "status", fitId: row.id, status: "queued", progress: { fraction: 0, secondsLeft: null }, error: null });
+    }
     return rows.map((r) => r.id);
   }
 
@@ -298,7 +327,7 @@ export class FitJobs {
       run.startedAt = nowMs;
       const updated = await this.db
         .update(fits)
-        .set({ status: "running", startedAt: new Date(nowMs), progress: 0 })
+        .set({ status: "running", startedAt: firstStart(new Date(nowMs)), progress: 0 })
         .where(and(eq(fits.id, fitId), eq(fits.status, "queued")))
         .returning({ id: fits.id });
       if (updated.length > 0) this.emit({ type: "status", fitId, status: "running", progress: run.progress, error: null });
@@ -343,7 +372,7 @@ export class FitJobs {
       if (!row || terminal.includes(row.status) || run.controller.signal.aborted) return false;
       await tx
         .update(fits)
-        .set({ status: "done", progress: 1, secondsLeft: 0, result: outcome.summary, finishedAt: this.clock(), startedAt: new Date(run.startedAt ?? this.clock().getTime()) })
+        .set({ status: "done", progress: 1, secondsLeft: 0, result: outcome.summary, finishedAt: this.clock(), startedAt: firstStart(new Date(run.startedAt ?? this.clock().getTime())) })
         .where(eq(fits.id, fitId));
       return true;
     });
@@ -352,3 +381,7 @@ export class FitJobs {
   }
 }
 
+/** A fit's start time is its first: kept when already set (a fit re-queued after a restart), else `now`. */
+function firstStart(now: Date) {
+  return sql`coalesce(${fits.startedAt}, ${now.toISOString()}::timestamptz)`;
+}
