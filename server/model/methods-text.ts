@@ -303,7 +303,7 @@ function modelSentences(spec: ModelSpec, regions: readonly RegionResult[], c: Ci
     out.push(`${where}, ${subject}${adjusting} was tested against zero ${how}.`);
   } else if (spec.kind === "two-group") {
     const [a, b] = spec.levels ?? ["first", "second"];
-    const levels = spec.levels ? `${quoted(a)} and ${quoted(b)}` : "its two levels";
+    const levels = spec.levels ? `the levels ${quoted(a)} and ${quoted(b)}` : "the two levels";
     let how: string;
     if (weighted) how = hasCov ? "by a weighted linear model with the covariates" : "using the weighted difference in means";
     else if (spec.estimator === "ols") how = hasCov ? "by a least-squares linear model with the covariates (analysis of covariance)" : `with Student's t test with pooled variance ${c.cite("Student 1908")}`;
@@ -311,7 +311,7 @@ function modelSentences(spec: ModelSpec, regions: readonly RegionResult[], c: Ci
     else if (spec.estimator === "rank") how = `with the Mann–Whitney U test ${c.cite("Mann & Whitney 1947")}, the estimate being the Hodges–Lehmann shift ${c.cite("Hodges & Lehmann 1963")}`;
     else how = robustWords(spec.estimator, c, "difference");
     out.push(
-      `${where}, contrast values were compared between the levels ${levels} of ${quoted(spec.group ?? "group")}${adjusting} ${how}; the estimate is ${spec.levels ? `${quoted(a)} minus ${quoted(b)}` : "the first level minus the second"}.`,
+      `${where}, contrast values were compared between ${levels} of ${quoted(spec.group ?? "group")}${adjusting} ${how}; the estimate is ${spec.levels ? `${quoted(a)} minus ${quoted(b)}` : "the first level minus the second"}.`,
     );
   } else {
     const predictor = quoted(spec.predictor ?? "predictor");

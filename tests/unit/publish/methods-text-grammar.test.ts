@@ -39,6 +39,8 @@ const countedSubject = new RegExp(
   `(?<![\\d.,])(\\d[\\d,]*)(?: (?:random|bootstrap|duplicated))?(?: (?:${countNouns})s?)?(?: only in the (?:brain table|participant sheet))? (was|were|is|are|has|have)\\b`,
   "g",
 );
+/** Words that may come back within two words ("for every participant in every region"). */
+const echoEvery = new Set(["every", "each"]);
 const partOf = /(\d[\d,]*) of the \d[\d,]* \w+ (was|were)\b/g;
 
 /** Every rule a sentence breaks, as "rule: sentence" strings (empty when it reads well). */
@@ -55,6 +57,9 @@ function sentenceProblems(sentence: string): string[] {
   if (brokenClause.test(sentence)) fail("broken clause");
   const doubled = /\b([A-Za-z]+)[\s,;:]+\1\b/i.exec(sentence);
   if (doubled) fail(`doubled word "${doubled[1]}"`);
+  // "between the levels its two levels of": a content word again within two words.
+  const echoed = /\b([a-z]{4,})\b(?:[\s,]+[\w“”-]+){1,2}[\s,]+\1\b/i.exec(sentence);
+  if (echoed && !echoEvery.has(echoed[1].toLowerCase())) fail(`"${echoed[1]}" repeated within two words`);
   let depth = 0;
   for (const ch of sentence) {
     if (ch === "(") depth++;
@@ -125,6 +130,7 @@ describe("the sentence rules catch what they are for", () => {
     ["All p-values are two-sided", "does not end with a period"],
     ["All p-values are  two-sided.", "double space"],
     ["Identifiers were matched through a identifier mapping.", "a/an"],
+    ["Contrast values were compared between the levels its two levels of “group”.", "repeated within two words"],
   ])("%s → %s", (sentence, rule) => {
     expect(sentenceProblems(sentence).join("\n")).toContain(rule);
   });

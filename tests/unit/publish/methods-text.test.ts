@@ -128,6 +128,11 @@ describe("methods paragraph", () => {
     expect(out.text).toContain("to control the false discovery rate (Benjamini & Hochberg 1995)");
   });
 
+  it("two groups without named levels: 'between the two levels of'", () => {
+    const out = buildMethodsText(input({ kind: "two-group", group: "group" }, [region("a", 70)]));
+    expect(out.text).toContain("contrast values were compared between the two levels of “group” with Student's t test with pooled variance (Student 1908); the estimate is the first level minus the second.");
+  });
+
   it("robust estimators name Huber (1964) and, for the bisquare, Beaton & Tukey (1974)", () => {
     const huber = buildMethodsText(input({ kind: "one-sample", estimator: "huber" }, [region("a", 70)]));
     expect(huber.text).toContain("Huber's ψ (k = 1.345) (Huber 1964)");
