@@ -56,7 +56,7 @@ async function main(): Promise<void> {
     // Variables already set in the environment win over the .env file.
     if (existsSync(".env")) process.loadEnvFile(".env");
     const config = loadConfig();
-    lock = acquireDataLock(config.dataDir);
+    lock = await acquireDataLock(config.dataDir);
     process.once("SIGINT", () => void stop(0));
     process.once("SIGTERM", () => void stop(0));
     database = await openDatabase({ dataDir: config.databaseDir });

@@ -14,6 +14,11 @@
  *   lock not refreshed for `staleMs` belongs to a process that died without
  *   releasing it (kill -9, power loss) and is taken over; a live holder
  *   refreshes it well within that time and is never taken over.
+ * - A server that finds the lock held watches it for a moment: a holder
+ *   that refreshes it is alive, and the newcomer refuses (`DataLockError`
+ *   naming the folder) within about `updateMs`; a lock that is not
+ *   refreshed is waited for until it is stale and then taken over, so a
+ *   server restarted right after a kill -9 starts within `staleMs`.
  * - It is released on a normal close, and removed on process exit
  *   (proper-lockfile's exit hook), which includes SIGINT/SIGTERM shutdowns.
  * - When the lock is compromised (its folder removed or taken over, for
@@ -63,6 +68,8 @@ export interface DataLockOptions {
   updateMs?: number;
   /** Called once when the lock was lost; default: print and exit with code 1 at once. */
   onCompromised?: (error: Error) => void;
+  /** Told once, in words, when the lock is held and this process waits to see whether its holder lives (default: printed). */
+  onWait?: (message: string) => void;
 }
 
 /** The lock's path for a data folder whose real path is `folder`. */
@@ -81,16 +88,45 @@ export function realDataFolder(dataDir: string): string {
   return realpathSync(absolute);
 }
 
+const sleep = (ms: number) => new Promise<void>((resolve) => setTimeout(resolve, ms));
+
 /**
- * Takes the lock for `dataDir` for this process's lifetime. Throws
+ * Takes the lock for `dataDir` for this process's lifetime. When the lock
+ * is held, waits until its holder shows it is alive (refusal) or the lock
+ * goes stale (take-over), at most `staleMs` plus a little. Rejects with
  * `DataLockError` naming the folder when another live server holds it.
  */
-export function acquireDataLock(dataDir: string, options: DataLockOptions = {}): DataLock {
+export async function acquireDataLock(dataDir: string, options: DataLockOptions = {}): Promise<DataLock> {
   const folder = realDataFolder(dataDir);
   const file = lockFileFor(folder);
-  const staleMs = options.staleMs ?? DATA_LOCK_STALE_MS;
+  const staleMs = Math.max(options.staleMs ?? DATA_LOCK_STALE_MS, 2000);
+  const updateMs = options.updateMs ?? DATA_LOCK_UPDATE_MS;
+  const onWait = options.onWait ?? ((message: string) => console.log(`Covarion: ${message}`));
+  const deadline = Date.now() + staleMs + 2000;
+  let seenMtime: bigint | null = null;
+  for (;;) {
+    try {
+      return await takeLock(folder, file, staleMs, updateMs, options.onCompromised);
+    } catch (error) {
+      if (!(error instanceof DataLockError)) throw error;
+      const now = safeStat(file);
+      if (now) {
+        // A holder that refreshes its lock is alive: refuse at once.
+        if (seenMtime !== null && now.mtimeNs !== seenMtime) throw error;
+        if (seenMtime === null) {
+          onWait(`the data folder ${folder} is locked; waiting up to ${Math.ceil(staleMs / 1000)} s to see whether the server holding it still runs.`);
+        }
+        seenMtime = now.mtimeNs;
+      }
+      if (Date.now() > deadline) throw error;
+      await sleep(250);
+    }
+  }
+}
+
+async function takeLock(folder: string, file: string, staleMs: number, updateMs: number, compromised?: (error: Error) => void): Promise<DataLock> {
   const onCompromised =
-    options.onCompromised ??
+    compromised ??
     ((error: Error) => {
       console.error(
         `Covarion stops: the lock of the data folder ${folder} was lost (${error.message}); another server may be using it. Stopping without further writes.`,
@@ -103,7 +139,7 @@ export function acquireDataLock(dataDir: string, options: DataLockOptions = {}):
       lockfilePath: file,
       realpath: false,
       stale: staleMs,
-      update: options.updateMs ?? DATA_LOCK_UPDATE_MS,
+      update: updateMs,
       onCompromised,
     });
   } catch (error) {
@@ -116,7 +152,7 @@ export function acquireDataLock(dataDir: string, options: DataLockOptions = {}):
   // each remove it and believe they made the new one: wait a moment and
   // check the lock is still the one this process made.
   const made = statSync(file, { bigint: true });
-  Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, SETTLE_MS);
+  await sleep(SETTLE_MS);
   const now = safeStat(file);
   if (!now || now.ino !== made.ino || now.ctimeNs !== made.ctimeNs) {
     try {
@@ -159,8 +195,8 @@ function inUse(folder: string, file: string, staleMs: number): DataLockError {
   const owner = readOwner(folder);
   const who = owner ? ` (pid ${owner.pid} on host ${owner.host}, since ${owner.since})` : "";
   return new DataLockError(
-    `The data folder ${folder} is in use by another Covarion server${who}. Stop that server first, or choose another DATA_DIR. ` +
-      `A server that was killed without stopping leaves its lock (${file}), which is taken over ${staleMs / 1000} s after that server's last sign of life.`,
+    `The data folder ${folder} is in use by another Covarion server${who}, which keeps its lock (${file}) fresh. Stop that server first, or choose another DATA_DIR. ` +
+      `(The lock of a server that was killed is taken over ${staleMs / 1000} s after its last sign of life.)`,
     folder,
   );
 }

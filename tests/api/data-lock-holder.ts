@@ -6,6 +6,6 @@
 import { acquireDataLock } from "../../server/services/data-lock";
 
 const [dataDir, updateMs] = process.argv.slice(2);
-acquireDataLock(dataDir, { updateMs: Number(updateMs) });
+await acquireDataLock(dataDir, { updateMs: Number(updateMs) });
 console.log("locked");
 setInterval(() => {}, 60_000);
