@@ -2,8 +2,9 @@
  * Builds Covarion's Express app from its dependencies (supertest imports
  * this; server/index.ts listens). Order matters:
  *
- * 1. security headers (helmet, with a CSP the exported web app runs under),
- *    the host check (a request addressed to another host than PUBLIC_URL's
+ * 1. security headers (helmet, with a CSP the exported web app runs under;
+ *    a Permissions-Policy; `Cache-Control: no-store` on /api answers unless
+ *    the route sets its own), the host check (a request addressed to another host than PUBLIC_URL's
  *    is refused), compression, the same-origin check for state-changing
  *    /api requests;
  * 2. the rate limit on sign-in e-mail requests, then Auth.js at /api/auth
@@ -30,6 +31,7 @@ import { apiNotFound, errorHandler } from "./http/errors";
 import { hostGuard, pinToPublicUrl } from "./http/host-check";
 import { limitByIpAndAddress } from "./http/rate-limits";
 import { sameOrigin } from "./http/same-origin";
+import { noStoreByDefault, setPermissionsPolicy } from "./http/security-headers";
 import { serveWebBuild } from "./http/web-build";
 import { FitJobs } from "./jobs/fit-jobs";
 import { activityRoutes } from "./routes/activity";
@@ -107,6 +109,7 @@ export function createApp(deps: AppDeps): Express {
         directives: {
           defaultSrc: ["'self'"],
           scriptSrc: ["'self'"],
+          // 'unsafe-inline' stays: the fonts' @font-face rules are written into a <style> at run time (DEVELOPERS.md, Security).
           styleSrc: ["'self'", "'unsafe-inline'"],
           imgSrc: ["'self'", "data:", "blob:"],
           fontSrc: ["'self'", "data:"],
@@ -120,6 +123,8 @@ export function createApp(deps: AppDeps): Express {
       strictTransportSecurity: https ? undefined : false,
     }),
   );
+  app.use(setPermissionsPolicy);
+  app.use("/api", noStoreByDefault);
   const hostPolicy = { publicUrl: config.publicUrl, production: config.production };
   app.use(hostGuard(hostPolicy));
   // API answers are made afresh for each request: the fastest gzip level (a finished fit's view of

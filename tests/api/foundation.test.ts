@@ -2,8 +2,10 @@
  * Foundation: health, the error envelope, sessions, sign-in by e-mail link
  * and by institution (OpenID Connect), demo sign-in, sign-out.
  */
+import express from "express";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { noStoreByDefault } from "../../server/http/security-headers";
 import { agentFor, createTestApp, firstLink, pathOf, signInByEmail, signInByInstitution, signInDemo, type TestApp } from "./helpers";
 
 let t: TestApp;
@@ -59,6 +61,33 @@ describe("health and envelope", () => {
     const res = await request(t.app).get("/api/health");
     expect(res.headers["content-security-policy"]).toContain("default-src 'self'");
     expect(res.headers["x-content-type-options"]).toBe("nosniff");
+  });
+
+  it("API answers are kept by no cache; pages and answers carry a Permissions-Policy", async () => {
+    const agent = await signInDemo(t, "analyst@demo.covarion.test");
+    for (const path of ["/api/studies", "/api/me", "/api/auth/session", "/api/health"]) {
+      const res = await agent.get(path).expect(200);
+      expect(res.headers["cache-control"], path).toContain("no-store");
+    }
+    expect((await request(t.app).get("/api/studies").expect(401)).headers["cache-control"]).toBe("no-store");
+    expect((await request(t.app).get("/api/no-such-thing").expect(404)).headers["cache-control"]).toBe("no-store");
+    for (const path of ["/api/health", "/sign-in"]) {
+      const policy = String((await request(t.app).get(path)).headers["permissions-policy"]);
+      for (const feature of ["camera=()", "microphone=()", "geolocation=()", "payment=()", "usb=()"]) expect(policy, path).toContain(feature);
+    }
+  });
+
+  it("a route that sets its own caching keeps it", async () => {
+    const app = express();
+    app.use(noStoreByDefault);
+    app.get("/view", (_req, res) => {
+      res.set("Cache-Control", "private, no-cache").json({});
+    });
+    app.get("/plain", (_req, res) => {
+      res.json({});
+    });
+    expect((await request(app).get("/view").expect(200)).headers["cache-control"]).toBe("private, no-cache");
+    expect((await request(app).get("/plain").expect(200)).headers["cache-control"]).toBe("no-store");
   });
 
   it("lists sign-in methods and demo accounts", async () => {
