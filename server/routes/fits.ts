@@ -3,13 +3,18 @@
  *
  * GET  /api/studies/:studyId/fits?modelId=          → FitSummaryView[] newest first
  * POST /api/studies/:studyId/fits { modelId }       → 202 FitView (status "queued"); 409 without a confirmed brain table (Owner, Analyst)
- * GET  /api/fits/:fitId                             → FitView: status, progress { fraction, secondsLeft }, datasets, recipe, result when done
+ * GET  /api/fits/:fitId                             → FitView: status, progress { fraction, secondsLeft }, datasets, recipe, result when done;
+ *                                                      a done fit from a kept body, gzip or plain, with a strong ETag
+ *                                                      (304 to If-None-Match; services/fit-view-body.ts)
  * GET  /api/fits/:fitId/events                      → server-sent events: "status" and "progress", each
  *                                                      { id, status, progress: { fraction, secondsLeft }, error }; ends after
  *                                                      done, failed or cancelled; a comment line every 15 s keeps it open
  * POST /api/fits/:fitId/cancel                      → FitView (status "cancelled"); 409 when already finished (Owner, Analyst)
- * GET  /api/fits/:fitId/regions/:region             → RegionDetail (points, band, group means, null histogram, sensitivity);
+ * GET  /api/fits/:fitId/regions/:region             → RegionDetail (plot points, band, group means, null histogram, sensitivity);
  *                                                      409 until the fit is done
+ * GET  /api/fits/:fitId/regions/:region/participants?offset=&limit=&sort=&direction=&search=
+ *                                                   → RegionParticipantsPage: every diagnostic of each participant, a page
+ *                                                      at a time (limit ≤ 1000); 403 to Viewers of a restricted study
  * POST /api/fits/:fitId/regions/:region/preview     → RegionPreview: the region recomputed at once with the current set-asides
  *
  * Routes under /fits/:fitId find the fit's study before checking rights,
@@ -23,7 +28,10 @@ import { authorize, authorizedStudy, roleMay, type StudyOf } from "../auth/permi
 import { signedInUser } from "../auth/session";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import type { FitEvent, FitJobs } from "../jobs/fit-jobs";
+import { sendEncoded } from "../http/encoded-body";
+import { fitViewBody } from "../services/fit-view-body";
 import { cancelFit, createFit, findFit, listFits, loadFitView, previewRegion, regionDetail, studyOfFit } from "../services/fits";
+import { PARTICIPANT_PAGE_MAX, participantOrders, regionParticipants } from "../services/region-participants";
 import type { RouteDeps } from "./deps";
 import { studyParams } from "./studies";
 
@@ -35,6 +43,16 @@ const create = { params: studyParams, query: noQuery, body: z.strictObject({ mod
 const read = { params: fitParams, query: noQuery };
 const region = { params: regionParams, query: noQuery };
 const preview = { params: regionParams, query: noQuery, body: z.union([z.strictObject({}), z.undefined()]) };
+const participantPage = {
+  params: regionParams,
+  query: z.strictObject({
+    offset: z.coerce.number().int().min(0).default(0),
+    limit: z.coerce.number().int().min(1).max(PARTICIPANT_PAGE_MAX).default(100),
+    sort: z.enum(participantOrders).default("position"),
+    direction: z.enum(["asc", "desc"]).default("asc"),
+    search: z.string().max(200).optional(),
+  }),
+};
 
 const terminal: readonly FitStatus[] = ["done", "failed", "cancelled"];
 
@@ -61,8 +79,10 @@ export function fitRoutes(deps: RouteDeps, jobs: FitJobs, options: FitRouteOptio
     res.status(202).json(fit);
   });
 
-  router.get("/fits/:fitId", authorize("fits.read", { studyOf: fitStudy }), validate(read), async (_req, res) => {
-    res.json(await loadFitView(deps.db, jobs, authorizedStudy(res).study.id, parsed(res, read).params.fitId, participantsVisible(res)));
+  router.get("/fits/:fitId", authorize("fits.read", { studyOf: fitStudy }), validate(read), async (req, res) => {
+    const answer = await fitViewBody(deps.db, jobs, authorizedStudy(res).study.id, parsed(res, read).params.fitId, participantsVisible(res));
+    if ("encoded" in answer) sendEncoded(req, res, answer.encoded);
+    else res.json(answer.view);
   });
 
   router.get("/fits/:fitId/events", authorize("fits.read", { studyOf: fitStudy }), validate(read), async (req, res) => {
@@ -107,6 +127,12 @@ export function fitRoutes(deps: RouteDeps, jobs: FitJobs, options: FitRouteOptio
     const { params } = parsed(res, region);
     const fit = await findFit(deps.db, authorizedStudy(res).study.id, params.fitId);
     res.json(await regionDetail(deps.db, fit, params.region, participantsVisible(res)));
+  });
+
+  router.get("/fits/:fitId/regions/:region/participants", authorize("fits.participants.read", { studyOf: fitStudy }), validate(participantPage), async (_req, res) => {
+    const { params, query } = parsed(res, participantPage);
+    const fit = await findFit(deps.db, authorizedStudy(res).study.id, params.fitId);
+    res.json(await regionParticipants(deps.db, fit, params.region, query));
   });
 
   router.post("/fits/:fitId/regions/:region/preview", authorize("fits.read", { studyOf: fitStudy }), validate(preview), async (_req, res) => {

@@ -15,6 +15,7 @@
  * results, the recipe's set-aside list and id mappings) is left out for
  * callers without `fits.participants.read` (Viewers of a restricted study).
  */
+import { createHash } from "node:crypto";
 import { and, desc, eq, getTableColumns, inArray, sql } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
 import { perDatabase } from "../../db/prepared";
@@ -25,7 +26,7 @@ import { idSchema } from "../http/validate";
 import type { FitJobs, FitProgress } from "../jobs/fit-jobs";
 import { decodeRegionRows } from "../jobs/region-rows";
 import { circularityCaution } from "../model/model-form";
-import { type ModelSpec, type ParticipantDiagnostics, type RegionResult, modelSpecSchema } from "../model/spec";
+import { type Flag, type ModelSpec, type ParticipantDiagnostics, type RegionResult, modelSpecSchema } from "../model/spec";
 import type { RegionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
 import { attenuateResult, withAttenuation } from "./attenuation";
@@ -60,6 +61,25 @@ export interface FitSummaryView {
   error: { code: string; message: string } | null;
 }
 
+/**
+ * The keys of a region's result that the fit view leaves to the region
+ * detail (GET /api/fits/:fitId/regions/:region): the nested parts a
+ * region table does not show — the permutation null histogram, the
+ * with-and-without sensitivity, leave-one-out, variance inflation factors,
+ * the permutation and bootstrap accounts, projection outliers. Three of
+ * them name participants (sensitivity, leave-one-out, projection
+ * outliers), so the fit view's regions carry no participant id at all.
+ * Left out, a 400-region view is less than half the size.
+ */
+export const REGION_DETAIL_KEYS: ReadonlySet<string> = new Set(["nullHistogram", "sensitivity", "leaveOneOut", "vif", "permutation", "bootstrap", "projectionOutliers"]);
+
+/** A region's result as the fit view shows it (without REGION_DETAIL_KEYS). */
+function viewRegion(region: RegionResult): RegionResult {
+  const out: Record<string, unknown> = {};
+  for (const [key, value] of Object.entries(region)) if (!REGION_DETAIL_KEYS.has(key)) out[key] = value;
+  return out as RegionResult;
+}
+
 /** A fit's result without its per-participant rows (those are in the region detail). */
 export interface FitResultSummary {
   regions: RegionResult[];
@@ -75,8 +95,9 @@ export interface FitView extends FitSummaryView {
   /** The full recipe, or null when participant-level content is withheld. */
   recipe: Record<string, unknown> | null;
   /**
-   * The result when done, without per-participant rows and without each
-   * region's permutation null histogram (both are in the region detail).
+   * The result when done, without per-participant rows and with each
+   * region's row without REGION_DETAIL_KEYS (those are in the region
+   * detail); with attenuation where it applies (services/attenuation.ts).
    */
   result: FitResultSummary | null;
   /** Who approved the fit for sealing, and its seal { by, at, sha256, intact } (services/sealing.ts). */
@@ -238,7 +259,7 @@ interface DoneResult {
   finishedAt: number;
   /** As stored (the seal covers it). */
   result: FitResultSummary;
-  /** As the fit view shows it: regions without their null histograms. */
+  /** As the fit view shows it: regions without REGION_DETAIL_KEYS. */
   shown: FitResultSummary;
   chars: number;
   /** sealHash(recipe, result) of the values read from the database, computed when first needed. */
@@ -277,7 +298,7 @@ async function doneResultOf(db: Queryable, fitId: string, finishedAt: Date | nul
     .where(eq(fits.id, fitId));
   const text = row?.text ?? "null";
   const result = deepFreeze(JSON.parse(text) as FitResultSummary);
-  const shown = deepFreeze({ ...result, regions: result.regions.map(({ nullHistogram: _, ...region }) => region as RegionResult) });
+  const shown = deepFreeze({ ...result, regions: result.regions.map(viewRegion) });
   const entry: DoneResult = { finishedAt: stamp, result, shown, chars: text.length, hash: null };
   if (hit) {
     cache.entries.delete(fitId);
@@ -321,39 +342,77 @@ const fitViewRow = perDatabase((db) =>
 );
 
 /**
- * One fit of the study as the API answers it, read in one query (the fit
- * without its result; its model, who ran it, its dataset versions, its
- * approval and seal as scalar subqueries); a finished fit adds its result
- * (parsed once and kept, see doneResults) with its attenuation notes. A
- * seal is `intact` when the recipe and the result as read from the
+ * A fit's view in two parts, for answering a finished fit from a kept,
+ * compressed body (services/fit-view-body.ts):
+ *
+ * - `head`: the view with `result: null` — everything about the fit
+ *   besides its result, read in one query (the fit without its result; its
+ *   model, who ran it, its dataset versions, its approval and seal as
+ *   scalar subqueries). All that can change after a fit is done lives
+ *   here: the model's name (until sealed), approval, seal, who ran it.
+ * - `result` (done fits): the stored result as the view shows it (parsed
+ *   once and kept, see doneResults), with attenuation where it applies,
+ *   and `resultStamp`, which changes whenever that shown result can: the
+ *   stored result never changes; the attenuation beside it follows the
+ *   study's stated reliabilities.
+ *
+ * The kept body is keyed on the head's JSON and the stamp, so anything
+ * added to the view must go in the head, or change the stamp.
+ * A seal is `intact` when the recipe and the result as read from the
  * database hash to the sealed SHA-256. Throws 404.
  */
-export async function loadFitView(db: Queryable, jobs: FitJobs, studyId: string, fitId: string, participantsVisible: boolean): Promise<FitView> {
+export interface FitViewParts {
+  head: FitView;
+  result: FitResultSummary | null;
+  resultStamp: string;
+}
+
+export async function fitViewParts(db: Queryable, jobs: FitJobs, studyId: string, fitId: string, participantsVisible: boolean): Promise<FitViewParts> {
   const [row] = await cachedRead(db, `fit view ${studyId} ${fitId}`, () => fitViewRow(db).execute({ fitId, studyId }));
   if (!row) throw notFound("Fit not found.");
   const summary = summaryOf(row, jobs);
   const ref = (v: DatasetRef | null, id: string): DatasetRef => (v?.id ? v : { id, version: 0, fileName: "", sha256: "" });
   // Only a finished fit has a result, and only a finished fit can be approved or sealed.
   const stored = row.status === "done" ? await doneResultOf(db, row.id, row.finishedAt) : null;
-  let result: FitResultSummary | null = stored?.shown ?? null;
-  if (result && !participantsVisible) result = { ...result, regions: result.regions.map(withoutParticipantIds) };
-  if (result) result = await attenuateResult(db, { studyId, brainVersionId: row.brainVersionId, recipe: row.recipe }, result);
+  // The shown regions carry no participant ids (REGION_DETAIL_KEYS), so callers without participant rows get the same result.
+  const shown = stored ? await shownResult(db, row, stored) : null;
   let seal: Publication["seal"] = null;
   if (stored && row.seal) {
     stored.hash ??= sealHash(row.recipe, stored.result);
     seal = { by: { id: row.seal.id, name: row.seal.name }, at: new Date(row.seal.at).toISOString(), sha256: row.seal.sha256, intact: stored.hash === row.seal.sha256 };
   }
   const approval: Publication["approval"] = stored && row.approval ? { by: { id: row.approval.id, name: row.approval.name }, at: new Date(row.approval.at).toISOString() } : null;
-  return {
+  const head: FitView = {
     ...summary,
     model: { ...summary.model, caution: summary.model.circular ? circularityCaution : null },
     datasets: { brain: ref(row.brain, row.brainVersionId), participants: row.sheetVersionId ? ref(row.sheet, row.sheetVersionId) : null },
     participantsVisible,
     recipe: participantsVisible ? (row.recipe as Record<string, unknown>) : null,
-    result,
+    result: null,
     approval,
     seal,
   };
+  return { head, result: shown?.result ?? null, resultStamp: shown?.stamp ?? "" };
+}
+
+/**
+ * A finished fit's result as its view shows it: the kept regions without
+ * REGION_DETAIL_KEYS, with attenuation added where it applies, and a stamp
+ * of what was added ("" when nothing was). Kept until the next write to the
+ * database (attenuation reads the study's stated trait reliabilities).
+ */
+function shownResult(db: Queryable, row: Pick<Fit, "id" | "studyId" | "brainVersionId" | "recipe">, stored: DoneResult): Promise<{ result: FitResultSummary; stamp: string }> {
+  return cachedRead(db, `fit result shown ${row.id} ${stored.finishedAt}`, async () => {
+    const result = await attenuateResult(db, { studyId: row.studyId, brainVersionId: row.brainVersionId, recipe: row.recipe }, stored.shown);
+    const stamp = result === stored.shown ? "" : createHash("sha256").update(JSON.stringify(result)).digest("base64url");
+    return { result, stamp };
+  });
+}
+
+/** One fit of the study as the API answers it (see fitViewParts). Throws 404. */
+export async function loadFitView(db: Queryable, jobs: FitJobs, studyId: string, fitId: string, participantsVisible: boolean): Promise<FitView> {
+  const { head, result } = await fitViewParts(db, jobs, studyId, fitId, participantsVisible);
+  return { ...head, result };
 }
 
 /** One fit as the API answers it (see loadFitView). */
@@ -463,6 +522,7 @@ function regionOf(fit: Fit, region: string): RegionResult {
   return found;
 }
 
+/** One participant of a region's fit with every diagnostic (GET …/regions/:region/participants). */
 export interface RegionDetailPoint {
   participant: string;
   x: number | null;
@@ -478,6 +538,9 @@ export interface RegionDetailPoint {
   flags: string[];
 }
 
+/** What the region's plots and its participant card draw of one participant (the rest is in the participants' pages). */
+export type RegionPlotPoint = Pick<RegionDetailPoint, "participant" | "x" | "group" | "y" | "leverage" | "studentizedResidual" | "cooksDistance" | "flags">;
+
 export interface RegionDetail {
   fitId: string;
   region: string;
@@ -491,8 +554,12 @@ export interface RegionDetail {
   axes: { x: string | null; y: string; group: string | null; levels: string[] | null };
   flagCounts: { outlier: number; leverage: number; influence: number };
   participantsVisible: boolean;
-  /** One per participant in the region's fit, or null when withheld. */
-  points: RegionDetailPoint[] | null;
+  /**
+   * One per participant in the region's fit, with what the plots draw, or
+   * null when withheld. Every diagnostic of each participant is paged at
+   * GET /api/fits/:fitId/regions/:region/participants.
+   */
+  points: RegionPlotPoint[] | null;
   /** Participants of the fit's set-aside list that concern this region, or null when withheld. */
   setAside: { participant: string; scope: "all regions" | "this region"; reason: string }[] | null;
   band: RegionPlot["band"];
@@ -503,22 +570,20 @@ export interface RegionDetail {
   notes: string[];
 }
 
-/** A finished fit's region, for its plots and diagnostics table. Throws 409 (not done), 404 (no such region). */
-export async function regionDetail(db: Queryable, fit: Fit, region: string, participantsVisible: boolean): Promise<RegionDetail> {
+/** A finished fit's region: its result row, its participants with every diagnostic (in the fit's order), its plot. Throws 409 (not done), 404 (no such region). */
+export async function regionParticipantRows(
+  db: Queryable,
+  fit: Fit,
+  region: string,
+): Promise<{ summary: RegionResult; points: RegionDetailPoint[]; plot: RegionPlot | { error: string } | null }> {
   const summary = regionOf(fit, region);
   const [row] = await db
     .select()
     .from(fitRegions)
     .where(and(eq(fitRegions.fitId, fit.id), eq(fitRegions.region, region)));
-  const spec = specOfRecipe(fit.recipe as Record<string, unknown>);
-  const result = fit.result as Record<string, unknown>;
   const diagnostics: ParticipantDiagnostics[] = row ? decodeRegionRows(row.participants, region) : [];
   const plot = (row?.plot ? JSON.parse(row.plot) : null) as RegionPlot | { error: string } | null;
-  const drawn = plot && "points" in plot ? plot : null;
-  const notes = [...(drawn?.notes ?? []), ...(plot && "error" in plot ? [`No plot data: ${plot.error}.`] : [])];
-  const byId = new Map((drawn?.points ?? []).map((p) => [p.participant, p]));
-  const flagCounts = { outlier: 0, leverage: 0, influence: 0 };
-  for (const d of diagnostics) for (const f of d.flags) flagCounts[f] += 1;
+  const byId = new Map((plot && "points" in plot ? plot.points : []).map((p) => [p.participant, p]));
   const points: RegionDetailPoint[] = diagnostics.map((d) => {
     const p = byId.get(d.participant);
     return {
@@ -536,6 +601,28 @@ export async function regionDetail(db: Queryable, fit: Fit, region: string, part
       flags: d.flags,
     };
   });
+  return { summary, points, plot };
+}
+
+/** A finished fit's region, for its plots. Throws 409 (not done), 404 (no such region). */
+export async function regionDetail(db: Queryable, fit: Fit, region: string, participantsVisible: boolean): Promise<RegionDetail> {
+  const { summary, points, plot } = await regionParticipantRows(db, fit, region);
+  const spec = specOfRecipe(fit.recipe as Record<string, unknown>);
+  const result = fit.result as Record<string, unknown>;
+  const drawn = plot && "points" in plot ? plot : null;
+  const notes = [...(drawn?.notes ?? []), ...(plot && "error" in plot ? [`No plot data: ${plot.error}.`] : [])];
+  const flagCounts = { outlier: 0, leverage: 0, influence: 0 };
+  for (const p of points) for (const f of p.flags) flagCounts[f as Flag] += 1;
+  const plotPoints: RegionPlotPoint[] = points.map((p) => ({
+    participant: p.participant,
+    x: p.x,
+    group: p.group,
+    y: p.y,
+    leverage: p.leverage,
+    studentizedResidual: p.studentizedResidual,
+    cooksDistance: p.cooksDistance,
+    flags: p.flags,
+  }));
   const levels = drawn?.groupMeans && spec.kind === "two-group" ? drawn.groupMeans.map((g) => g.label) : spec.levels ? [...spec.levels] : null;
   const setAside = spec.setAside
     .filter((s) => s.region === undefined || s.region === region)
@@ -553,7 +640,7 @@ export async function regionDetail(db: Queryable, fit: Fit, region: string, part
     axes: { x: spec.kind === "association" ? (spec.predictor ?? null) : null, y: "contrast value", group: spec.group ?? null, levels },
     flagCounts,
     participantsVisible,
-    points: participantsVisible ? points : null,
+    points: participantsVisible ? plotPoints : null,
     setAside: participantsVisible ? setAside : null,
     band: drawn?.band ?? null,
     groupMeans: drawn?.groupMeans ?? null,

@@ -144,6 +144,8 @@ const matrix: Record<string, Row> = {
   "GET /api/fits/:fitId/events": { path: (f) => `/api/fits/${f.fitId}/events`, expected: members(200), data: true },
   "POST /api/fits/:fitId/cancel": { path: (f) => `/api/fits/${f.queuedFitId}/cancel`, expected: makers(200), data: true },
   "GET /api/fits/:fitId/regions/:region": { path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc`, expected: members(200), data: true },
+  // Participant rows: the fixture study is not restricted, so every member pages them (a restricted study's Viewers get 403, tests/api/fits.test.ts).
+  "GET /api/fits/:fitId/regions/:region/participants": { path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc/participants`, expected: members(200), data: true },
   "POST /api/fits/:fitId/regions/:region/preview": { path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc/preview`, expected: members(200), data: true },
   // Exports, approval and sealing of a fit. The fixture's fit is done but not approved: an Owner passes the seal's rights check and gets 409.
   "GET /api/fits/:fitId/regions.csv": { path: (f) => `/api/fits/${f.fitId}/regions.csv`, expected: members(200), data: true },

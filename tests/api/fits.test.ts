@@ -2,8 +2,8 @@
  * Models, fits as background jobs, region detail, set-asides and the
  * one-region preview, through the real app on the demo study's data.
  */
-import { request as httpRequest } from "node:http";
-import { createGunzip, constants as zlibConstants } from "node:zlib";
+import { type IncomingHttpHeaders, request as httpRequest } from "node:http";
+import { createGunzip, gunzipSync, constants as zlibConstants } from "node:zlib";
 import { eq } from "drizzle-orm";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
@@ -13,6 +13,8 @@ import { seedDemoDatasets } from "../../db/seed/demo-datasets";
 import { recipeSchema } from "../../server/cli/recipe";
 import { FitJobs } from "../../server/jobs/fit-jobs";
 import { currentVersions } from "../../server/services/datasets";
+import { createRng } from "../../server/stats/rng";
+import { REGION_DETAIL_KEYS, loadFitView } from "../../server/services/fits";
 import { createTestApp, signInByEmail, type TestApp } from "./helpers";
 
 let t: TestApp;
@@ -32,6 +34,7 @@ const as = (role: string) => {
     get: (path: string) => wrap(r.get(path)),
     post: (path: string) => wrap(r.post(path)),
     patch: (path: string) => wrap(r.patch(path)),
+    put: (path: string) => wrap(r.put(path)),
     delete: (path: string) => wrap(r.delete(path)),
   };
 };
@@ -207,15 +210,22 @@ describe("fits", () => {
     expect(fit.body).toMatchObject({ status: "done", progress: { fraction: 1, secondsLeft: null }, error: null, participantsVisible: true });
     expect(fit.body.datasets.brain).toMatchObject({ version: 1, fileName: "harbour-bay_lantern-3-vs-1_brain-table.csv", sha256: expect.stringMatching(/^[0-9a-f]{64}$/) });
     expect(fit.body.datasets.participants).toMatchObject({ fileName: "harbour-bay_participants.tsv" });
-    const regions = fit.body.result.regions as { region: string; estimate: number; p: number; pAdjusted: number; permutation: { rearrangements: number } }[];
+    const regions = fit.body.result.regions as { region: string; estimate: number; p: number; pAdjusted: number; flagged: unknown }[];
     expect(regions.map((r) => r.region)).toEqual(["L_dlpfc", "R_dlpfc", "L_parietal", "R_parietal", "L_insula", "R_insula", "dACC", "L_caudate", "R_caudate", "precuneus"]);
     for (const r of regions) {
       expect(Number.isFinite(r.estimate)).toBe(true);
       expect(r.p).toBeGreaterThan(0);
       expect(r.pAdjusted).toBeGreaterThanOrEqual(r.p);
-      expect(r.permutation.rearrangements).toBe(2001); // 2000 random rearrangements and the identity (common practice, no source)
+      expect(r.flagged).toMatchObject({ outlier: expect.any(Number), leverage: expect.any(Number), influence: expect.any(Number) });
+      // The nested parts of a region's row are in its region detail, not in the fit view.
+      for (const key of REGION_DETAIL_KEYS) expect(r, `${r.region} ${key}`).not.toHaveProperty(key);
     }
     expect(fit.body.result.participants).toBeUndefined();
+    const detail = await as("viewer").get(`/api/fits/${doneFitId}/regions/L_dlpfc`).expect(200);
+    expect(detail.body.result.permutation.rearrangements).toBe(2001); // 2000 random rearrangements and the identity (common practice, no source)
+    // The region detail's row is the region's whole stored row.
+    const [stored] = await t.db.select().from(fits).where(eq(fits.id, doneFitId));
+    expect(detail.body.result).toEqual((stored.result as { regions: unknown[] }).regions[0]);
     expect(new Date(fit.body.startedAt).getTime()).toBeLessThanOrEqual(new Date(fit.body.finishedAt).getTime());
     // The recipe is a recipe the recipe command accepts: model fields with defaults, files and their hashes, software version.
     const recipe = recipeSchema.parse(fit.body.recipe);
@@ -434,4 +444,299 @@ describe("region detail, set-aside and preview", () => {
       await as("owner").patch(`/api/studies/${studyId}`).send({ restricted: false }).expect(200);
     }
   });
+});
+
+/** A GET through node's own client, with the bytes exactly as sent (nothing decoded). */
+function rawGet(path: string, role: string, headers: Record<string, string> = {}): Promise<{ status: number; headers: IncomingHttpHeaders; bytes: Buffer }> {
+  return new Promise((resolve, reject) => {
+    const req = httpRequest(`${t.url}${path}`, { headers: { Cookie: cookies.get(role) as string, ...headers } }, (res) => {
+      const chunks: Buffer[] = [];
+      res.on("data", (c: Buffer) => chunks.push(c));
+      res.on("end", () => resolve({ status: res.statusCode ?? 0, headers: res.headers, bytes: Buffer.concat(chunks) }));
+      res.on("error", reject);
+    });
+    req.on("error", reject);
+    req.end();
+  });
+}
+
+describe("a finished fit's view: kept, compressed once, with a strong ETag", () => {
+  let fitId: string;
+  let modelId: string;
+
+  beforeAll(async () => {
+    modelId = await createModel({ name: "Accuracy, kept view", regionSelection: "anatomical-or-prior", spec: { kind: "association", predictor: "accuracy" } });
+    fitId = await runFit(modelId);
+    await waitForStatus(fitId, ["done"]);
+  });
+
+  it("the gzip answer decodes once to exactly the view's JSON, the plain answer is that text; each has its own strong ETag", async () => {
+    const zipped = await rawGet(`/api/fits/${fitId}`, "analyst", { "Accept-Encoding": "gzip, deflate, br" });
+    expect(zipped.status).toBe(200);
+    expect(zipped.headers["content-encoding"]).toBe("gzip");
+    expect(zipped.headers["content-type"]).toBe("application/json; charset=utf-8");
+    expect(zipped.headers["cache-control"]).toBe("private, no-cache, no-transform");
+    expect(zipped.headers.vary).toMatch(/Accept-Encoding/);
+    expect(zipped.headers.etag).toMatch(/^"[A-Za-z0-9_-]{43}"$/);
+    expect(Number(zipped.headers["content-length"])).toBe(zipped.bytes.length);
+    // One gunzip gives the JSON (the compression middleware did not compress it again), byte for byte what the view serialises to.
+    const text = gunzipSync(zipped.bytes).toString("utf8");
+    const view = await loadFitView(t.db, t.app.locals.fitJobs as FitJobs, studyId, fitId, true);
+    expect(text).toBe(JSON.stringify(view));
+    expect(JSON.parse(text)).toMatchObject({ id: fitId, status: "done", participantsVisible: true, result: { regions: expect.any(Array) } });
+
+    const plain = await rawGet(`/api/fits/${fitId}`, "analyst");
+    expect(plain.status).toBe(200);
+    expect(plain.headers["content-encoding"]).toBeUndefined();
+    expect(plain.headers["cache-control"]).toBe("private, no-cache, no-transform");
+    expect(plain.bytes.toString("utf8")).toBe(text);
+    expect(plain.headers.etag).toMatch(/^"[A-Za-z0-9_-]{43}"$/);
+    expect(plain.headers.etag).not.toBe(zipped.headers.etag);
+    // A client that accepts only brotli gets the plain text, not a second encoding of it.
+    const brOnly = await rawGet(`/api/fits/${fitId}`, "analyst", { "Accept-Encoding": "br" });
+    expect(brOnly.headers["content-encoding"]).toBeUndefined();
+    expect(brOnly.bytes.toString("utf8")).toBe(text);
+
+    const again = await rawGet(`/api/fits/${fitId}`, "reviewer", { "Accept-Encoding": "gzip" });
+    expect(again.headers.etag).toBe(zipped.headers.etag);
+    expect(again.bytes.equals(zipped.bytes)).toBe(true);
+  });
+
+  it("If-None-Match answers 304 with no body until what the view shows changes: approval, the model's name, a stated trait reliability", async () => {
+    const gzip = { "Accept-Encoding": "gzip" };
+    const first = await rawGet(`/api/fits/${fitId}`, "analyst", gzip);
+    const etag = first.headers.etag as string;
+    const same = await rawGet(`/api/fits/${fitId}`, "analyst", { ...gzip, "If-None-Match": etag });
+    expect(same.status).toBe(304);
+    expect(same.bytes.length).toBe(0);
+    expect(same.headers.etag).toBe(etag);
+    expect(same.headers["cache-control"]).toBe("private, no-cache, no-transform");
+    expect((await rawGet(`/api/fits/${fitId}`, "analyst", { ...gzip, "If-None-Match": `"other", W/${etag}` })).status).toBe(304);
+    expect((await rawGet(`/api/fits/${fitId}`, "analyst", { ...gzip, "If-None-Match": '"other"' })).status).toBe(200);
+    // The plain answer's ETag does not validate the gzip answer.
+    const plainTag = (await rawGet(`/api/fits/${fitId}`, "analyst")).headers.etag as string;
+    expect((await rawGet(`/api/fits/${fitId}`, "analyst", { ...gzip, "If-None-Match": plainTag })).status).toBe(200);
+
+    const changed = async (before: string) => {
+      const res = await rawGet(`/api/fits/${fitId}`, "analyst", { ...gzip, "If-None-Match": before });
+      expect(res.status).toBe(200);
+      expect(res.headers.etag).not.toBe(before);
+      return { etag: res.headers.etag as string, body: JSON.parse(gunzipSync(res.bytes).toString("utf8")) };
+    };
+    await as("reviewer").post(`/api/fits/${fitId}/approve`).expect(200);
+    const approved = await changed(etag);
+    expect(approved.body.approval).toMatchObject({ by: { name: expect.any(String) } });
+
+    await as("analyst").patch(`/api/studies/${studyId}/models/${modelId}`).send({ name: "Accuracy, kept view, renamed" }).expect(200);
+    const renamed = await changed(approved.etag);
+    expect(renamed.body.model.name).toBe("Accuracy, kept view, renamed");
+
+    const attenuated = (body: { result: { regions: Record<string, unknown>[] } }) => body.result.regions.filter((r) => r.attenuation !== undefined).length;
+    expect(attenuated(renamed.body)).toBe(0);
+    await as("analyst").put(`/api/studies/${studyId}/trait-reliabilities`).send([{ column: "accuracy", reliability: 0.8, source: "kept-view test" }]).expect(200);
+    try {
+      const stated = await changed(renamed.etag);
+      expect(attenuated(stated.body)).toBeGreaterThan(0);
+      // Nothing changed since: 304 again.
+      expect((await rawGet(`/api/fits/${fitId}`, "analyst", { ...gzip, "If-None-Match": stated.etag })).status).toBe(304);
+    } finally {
+      await as("analyst").put(`/api/studies/${studyId}/trait-reliabilities`).send([]).expect(200);
+    }
+  });
+
+  it("Viewers of a restricted study get their own body (no recipe, no participant id) with its own ETag", async () => {
+    const full = await rawGet(`/api/fits/${fitId}`, "viewer", { "Accept-Encoding": "gzip" });
+    await as("owner").patch(`/api/studies/${studyId}`).send({ restricted: true }).expect(200);
+    try {
+      const withheld = await rawGet(`/api/fits/${fitId}`, "viewer", { "Accept-Encoding": "gzip", "If-None-Match": full.headers.etag as string });
+      expect(withheld.status).toBe(200);
+      expect(withheld.headers.etag).not.toBe(full.headers.etag);
+      const text = gunzipSync(withheld.bytes).toString("utf8");
+      expect(JSON.parse(text)).toMatchObject({ participantsVisible: false, recipe: null });
+      expect(text).not.toMatch(/sub-\d/);
+      const reviewer = await rawGet(`/api/fits/${fitId}`, "reviewer", { "Accept-Encoding": "gzip" });
+      expect(JSON.parse(gunzipSync(reviewer.bytes).toString("utf8")).recipe).not.toBeNull();
+    } finally {
+      await as("owner").patch(`/api/studies/${studyId}`).send({ restricted: false }).expect(200);
+    }
+  });
+
+  it("a fit that is not done is answered afresh, not from a kept body (no strong ETag)", async () => {
+    const long = await createModel({ name: "Long, not kept", regionSelection: "independent-data", spec: { kind: "one-sample", inference: "permutation", resamples: 1_000_000 } });
+    const id = await runFit(long);
+    const res = await rawGet(`/api/fits/${id}`, "analyst", { "Accept-Encoding": "gzip" });
+    expect(res.status).toBe(200);
+    // Express's own weak ETag of the JSON it just wrote, if any; never a kept body's strong one.
+    expect(String(res.headers.etag ?? "W/")).toMatch(/^W\//);
+    expect(res.headers["cache-control"]).not.toBe("private, no-cache, no-transform");
+    expect(["queued", "running"]).toContain(JSON.parse(gunzipSync(res.bytes).toString("utf8")).status);
+    await as("analyst").post(`/api/fits/${id}/cancel`).expect(200);
+  });
+});
+
+describe("per-participant diagnostics, a page at a time", () => {
+  let fitId: string;
+  const base = () => `/api/fits/${fitId}/regions/L_dlpfc/participants`;
+
+  beforeAll(async () => {
+    fitId = await runFit(await createModel({ name: "Accuracy and age, pages", regionSelection: "anatomical-or-prior", spec: { kind: "association", predictor: "accuracy", covariates: ["age"] } }));
+    await waitForStatus(fitId, ["done"]);
+  });
+
+  it("pages in the fit's order cover every participant once, with every diagnostic, matching the region detail's points", async () => {
+    const detail = (await as("analyst").get(`/api/fits/${fitId}/regions/L_dlpfc`).expect(200)).body;
+    const first = (await as("analyst").get(base()).expect(200)).body;
+    expect(first).toMatchObject({ fitId, region: "L_dlpfc", n: detail.n, total: detail.n, offset: 0, limit: 100, sort: "position", direction: "asc", search: null });
+    const rows: Record<string, unknown>[] = [];
+    for (let offset = 0; offset < detail.n; offset += 7) {
+      const page = (await as("reviewer").get(`${base()}?offset=${offset}&limit=7`).expect(200)).body;
+      expect(page.rows.length).toBe(Math.min(7, detail.n - offset));
+      rows.push(...page.rows);
+    }
+    expect(rows).toEqual(first.rows);
+    expect(rows.map((r) => r.participant)).toEqual(detail.points.map((p: { participant: string }) => p.participant));
+    for (const [i, row] of rows.entries()) {
+      expect(Object.keys(row).sort()).toEqual(["cooksDistance", "dffits", "fitted", "flags", "group", "leverage", "mahalanobis", "participant", "residual", "studentizedResidual", "x", "y"]);
+      expect(row).toMatchObject(detail.points[i]);
+    }
+    // The region detail keeps only what its plots draw.
+    expect(Object.keys(detail.points[0]).sort()).toEqual(["cooksDistance", "flags", "group", "leverage", "participant", "studentizedResidual", "x", "y"]);
+    const beyond = (await as("analyst").get(`${base()}?offset=${detail.n}`).expect(200)).body;
+    expect(beyond).toMatchObject({ total: detail.n, rows: [] });
+  });
+
+  it("orders by a column either way with missing values last and ties in the fit's order, and searches participant ids", async () => {
+    const all = (await as("analyst").get(`${base()}?limit=1000`).expect(200)).body.rows as { participant: string; cooksDistance: number | null; flags: string[] }[];
+    const position = new Map(all.map((r, i) => [r.participant, i]));
+    for (const direction of ["asc", "desc"] as const) {
+      const sorted = (await as("analyst").get(`${base()}?limit=1000&sort=cooksDistance&direction=${direction}`).expect(200)).body.rows as typeof all;
+      expect(sorted.length).toBe(all.length);
+      const values = sorted.map((r) => r.cooksDistance);
+      const present = values.filter((v): v is number => v !== null);
+      expect(values.slice(present.length).every((v) => v === null)).toBe(true);
+      expect(present).toEqual([...present].sort((a, b) => (direction === "asc" ? a - b : b - a)));
+      for (let i = 1; i < sorted.length; i++) {
+        if (sorted[i].cooksDistance === sorted[i - 1].cooksDistance) expect(position.get(sorted[i].participant)).toBeGreaterThan(position.get(sorted[i - 1].participant) as number);
+      }
+    }
+    // Pages of a sorted order are slices of it.
+    const top = (await as("analyst").get(`${base()}?sort=cooksDistance&direction=desc&offset=3&limit=5`).expect(200)).body.rows;
+    const whole = (await as("analyst").get(`${base()}?sort=cooksDistance&direction=desc&limit=1000`).expect(200)).body.rows;
+    expect(top).toEqual(whole.slice(3, 8));
+    // Flagged participants first.
+    const flagged = all.filter((r) => r.flags.length > 0).length;
+    expect(flagged).toBeGreaterThan(0);
+    const byFlags = (await as("analyst").get(`${base()}?sort=flags&direction=desc&limit=1000`).expect(200)).body.rows as typeof all;
+    expect(byFlags.slice(0, flagged).every((r) => r.flags.length > 0)).toBe(true);
+    expect(byFlags.slice(flagged).every((r) => r.flags.length === 0)).toBe(true);
+    const byId = (await as("analyst").get(`${base()}?sort=participant&direction=desc&limit=3`).expect(200)).body.rows as typeof all;
+    // Ids in natural order ("sub-2" before "sub-10").
+    const natural = new Intl.Collator("en", { numeric: true }).compare;
+    expect(byId.map((r) => r.participant)).toEqual(all.map((r) => r.participant).sort(natural).reverse().slice(0, 3));
+    const found = (await as("analyst").get(`${base()}?search=${encodeURIComponent(all[4].participant.toUpperCase())}`).expect(200)).body;
+    expect(found.total).toBeGreaterThanOrEqual(1);
+    expect(found.rows.map((r: { participant: string }) => r.participant)).toContain(all[4].participant);
+    expect(found.rows.every((r: { participant: string }) => r.participant.toLowerCase().includes(all[4].participant.toLowerCase()))).toBe(true);
+  });
+
+  it("refuses a bad page naming the field; 404 for an unknown region, 409 before the fit is done", async () => {
+    for (const [query, field] of [
+      ["limit=0", "query.limit"],
+      ["limit=1001", "query.limit"],
+      ["offset=-1", "query.offset"],
+      ["sort=colour", "query.sort"],
+      ["direction=up", "query.direction"],
+      ["page=2", "query"],
+    ] as const) {
+      const res = await as("analyst").get(`${base()}?${query}`).expect(400);
+      expect(res.body.error.code).toBe("validation_failed");
+      expect(res.body.error.details[0].field, query).toBe(field);
+    }
+    await as("analyst").get(`/api/fits/${fitId}/regions/nowhere/participants`).expect(404);
+    const [done] = await t.db.select().from(fits).where(eq(fits.id, fitId));
+    const { id: _id, ...copy } = done;
+    const [queued] = await t.db.insert(fits).values({ ...copy, status: "queued", progress: 0, result: null, startedAt: null, finishedAt: null }).returning();
+    const early = await as("analyst").get(`/api/fits/${queued.id}/regions/L_dlpfc/participants`).expect(409);
+    expect(early.body.error.message).toContain("not finished");
+    await as("analyst").post(`/api/fits/${queued.id}/cancel`).expect(200);
+  });
+
+  it("Viewers of a restricted study are refused (403); Reviewers still page", async () => {
+    await as("viewer").get(base()).expect(200);
+    await as("owner").patch(`/api/studies/${studyId}`).send({ restricted: true }).expect(200);
+    try {
+      const refused = await as("viewer").get(base()).expect(403);
+      expect(refused.body.error.code).toBe("forbidden");
+      expect(JSON.stringify(refused.body)).not.toMatch(/sub-\d/);
+      await as("reviewer").get(base()).expect(200);
+    } finally {
+      await as("owner").patch(`/api/studies/${studyId}`).send({ restricted: false }).expect(200);
+    }
+    await as("outsider").get(base()).expect(404);
+    await as("anonymous").get(base()).expect(401);
+  });
+});
+
+describe("the first view of a 400-region fit", () => {
+  const PARTICIPANTS = 500;
+  const REGIONS = 400;
+
+  /** A 400-region brain table of 500 participants and their sheet, from a seeded generator (a fifth of the regions track accuracy). */
+  function largeFiles(): { brain: string; sheet: string } {
+    const rng = createRng(7070);
+    const lines = [["participant_id", ...Array.from({ length: REGIONS }, (_, r) => `region_${String(r + 1).padStart(3, "0")}`)].join(",")];
+    const sheet = ["participant_id\tage\taccuracy"];
+    for (let i = 0; i < PARTICIPANTS; i++) {
+      const id = `sub-${String(i + 1).padStart(4, "0")}`;
+      const accuracy = 0.5 + rng.next() / 2;
+      const cells = [id];
+      for (let r = 0; r < REGIONS; r++) cells.push((0.3 * (r % 5 === 0 ? accuracy : 0) + rng.next() * 2 - 1).toFixed(5));
+      lines.push(cells.join(","));
+      sheet.push([id, String(18 + Math.floor(rng.next() * 50)), accuracy.toFixed(3)].join("\t"));
+    }
+    return { brain: `${lines.join("\n")}\n`, sheet: `${sheet.join("\n")}\n` };
+  }
+
+  it("is under 100 kB compressed: the fit view, its first region's detail and the first page of that region's participants", async () => {
+    const study = (await as("owner").post("/api/studies").send({ name: "Four hundred regions" }).expect(201)).body.id as string;
+    const files = largeFiles();
+    for (const [kind, name, text] of [
+      ["brain", "large_brain-table.csv", files.brain],
+      ["participants", "large_participants.tsv", files.sheet],
+    ] as const) {
+      const preview = await as("owner").post(`/api/studies/${study}/datasets`).field("kind", kind).attach("file", Buffer.from(text), name).expect(201);
+      await as("owner").post(`/api/studies/${study}/datasets/${preview.body.id}/confirm`).send({}).expect(201);
+    }
+    const model = await as("owner")
+      .post(`/api/studies/${study}/models`)
+      .send({ name: "Large", regionSelection: "independent-data", spec: { kind: "association", predictor: "accuracy", covariates: ["age"], inference: "permutation", resamples: 200, correction: "bh" } })
+      .expect(201);
+    const fitId = (await as("owner").post(`/api/studies/${study}/fits`).send({ modelId: model.body.id }).expect(202)).body.id as string;
+    const start = Date.now();
+    for (;;) {
+      const res = await as("owner").get(`/api/fits/${fitId}`).expect(200);
+      if (res.body.status === "done") break;
+      if (res.body.status !== "queued" && res.body.status !== "running") throw new Error(`fit ${res.body.status}: ${JSON.stringify(res.body.error)}`);
+      if (Date.now() - start > 240_000) throw new Error("the 400-region fit did not finish");
+      await new Promise((r) => setTimeout(r, 250));
+    }
+    const gzip = { "Accept-Encoding": "gzip" };
+    const view = await rawGet(`/api/fits/${fitId}`, "owner", gzip);
+    const shown = JSON.parse(gunzipSync(view.bytes).toString("utf8"));
+    expect(shown.result.regions).toHaveLength(REGIONS);
+    const first = shown.result.regions[0].region as string;
+    const detail = await rawGet(`/api/fits/${fitId}/regions/${first}`, "owner", gzip);
+    const page = await rawGet(`/api/fits/${fitId}/regions/${first}/participants?limit=50`, "owner", gzip);
+    for (const res of [detail, page]) {
+      expect(res.status).toBe(200);
+      expect(res.headers["content-encoding"]).toBe("gzip");
+    }
+    expect(JSON.parse(gunzipSync(detail.bytes).toString("utf8")).points).toHaveLength(PARTICIPANTS);
+    expect(JSON.parse(gunzipSync(page.bytes).toString("utf8")).rows).toHaveLength(50);
+    const sizes = { view: view.bytes.length, detail: detail.bytes.length, page: page.bytes.length };
+    expect(sizes.view + sizes.detail + sizes.page, JSON.stringify(sizes)).toBeLessThan(100_000);
+    // Not vacuous: the stored result is far larger than the view.
+    const [row] = await t.db.select().from(fits).where(eq(fits.id, fitId));
+    expect(JSON.stringify(row.result).length).toBeGreaterThan(2 * gunzipSync(view.bytes).length);
+  }, 300_000);
 });
