@@ -1,21 +1,15 @@
-import { queryOptions, useQuery } from "@tanstack/react-query";
-import { apiFetch } from "./api";
+import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { apiFetch, jsonBody } from "./api";
+import type { DeletedStudy, StudyDetail, StudySummary } from "../server/services/studies";
 
-export type Role = "owner" | "analyst" | "reviewer" | "viewer";
-
-export interface StudySummary {
-  id: string;
-  name: string;
-  description?: string | null;
-  role: Role;
-  restricted?: boolean;
-  counts: { members: number; participants: number; models: number; fits: number };
-  createdAt?: string;
-}
+export type { DeletedStudy, StudySummary };
+export type Role = StudySummary["role"];
 
 export const studyKeys = {
   all: ["studies"] as const,
   list: () => [...studyKeys.all, "list"] as const,
+  /** Deleted studies the person owns that can still be restored. */
+  deleted: () => [...studyKeys.all, "deleted"] as const,
   detail: (studyId: string) => [...studyKeys.all, "detail", studyId] as const,
 };
 
@@ -24,6 +18,25 @@ export const studiesQueryOptions = queryOptions({
   queryFn: () => apiFetch<StudySummary[]>("/api/studies"),
 });
 
+export const deletedStudiesQueryOptions = queryOptions({
+  queryKey: studyKeys.deleted(),
+  queryFn: () => apiFetch<DeletedStudy[]>("/api/studies?deleted=true"),
+});
+
 export function useStudies() {
   return useQuery(studiesQueryOptions);
+}
+
+/** Recently deleted studies the person owns, with the date until which each can be restored. */
+export function useDeletedStudies() {
+  return useQuery(deletedStudiesQueryOptions);
+}
+
+/** Restores a deleted study (Owner, within the restore window). Everything cached may have answered "not found" meanwhile, so all of it is read again. */
+export function useRestoreStudy() {
+  const client = useQueryClient();
+  return useMutation({
+    mutationFn: (studyId: string) => apiFetch<StudyDetail>(`/api/studies/${encodeURIComponent(studyId)}/restore`, jsonBody("POST", {})),
+    onSuccess: () => client.invalidateQueries(),
+  });
 }

@@ -1,12 +1,10 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { apiFetch, jsonBody } from "./api";
-import { studyKeys, type StudySummary } from "./use-studies";
+import { studyKeys } from "./use-studies";
+import type { Action } from "../server/auth/permissions";
+import type { StudyDetail } from "../server/services/studies";
 
-export interface StudyDetail extends StudySummary {
-  description: string;
-  restricted: boolean;
-  capabilities: string[];
-}
+export type { StudyDetail };
 
 export const studyQueryOptions = (studyId: string) =>
   queryOptions({
@@ -19,7 +17,7 @@ export function useStudy(studyId: string) {
 }
 
 /** True when the caller's role in the study allows `action` (see the server's permission table). */
-export function can(study: Pick<StudyDetail, "capabilities"> | undefined, action: string): boolean {
+export function can(study: Pick<StudyDetail, "capabilities"> | undefined, action: Action): boolean {
   return study?.capabilities.includes(action) ?? false;
 }
 
@@ -44,6 +42,25 @@ export function useDeleteStudy(studyId: string) {
   const client = useQueryClient();
   return useMutation({
     mutationFn: (confirmation: string) => apiFetch<void>(`/api/studies/${encodeURIComponent(studyId)}`, jsonBody("DELETE", { confirm: confirmation })),
+    // The lists change; the study's own queries are left alone (read again they would answer "not found" while the screen leaves).
+    onSuccess: () => Promise.all([client.invalidateQueries({ queryKey: studyKeys.list() }), client.invalidateQueries({ queryKey: studyKeys.deleted() })]),
+  });
+}
+
+/** Archives the study: read-only for every role, still readable (Owner). */
+export function useArchiveStudy(studyId: string) {
+  const client = useQueryClient();
+  return useMutation({
+    mutationFn: () => apiFetch<StudyDetail>(`/api/studies/${encodeURIComponent(studyId)}/archive`, jsonBody("POST", {})),
+    onSuccess: () => client.invalidateQueries({ queryKey: studyKeys.all }),
+  });
+}
+
+/** Unarchives the study: its members can change it again (Owner). */
+export function useUnarchiveStudy(studyId: string) {
+  const client = useQueryClient();
+  return useMutation({
+    mutationFn: () => apiFetch<StudyDetail>(`/api/studies/${encodeURIComponent(studyId)}/unarchive`, jsonBody("POST", {})),
     onSuccess: () => client.invalidateQueries({ queryKey: studyKeys.all }),
   });
 }

@@ -27,6 +27,8 @@ export interface StudyCounts {
   participants: number;
   models: number;
   fits: number;
+  /** Sealed fits: while there is one, the study can be archived but not deleted. */
+  sealedFits: number;
 }
 
 export interface StudySummary {
@@ -59,7 +61,7 @@ function auditView(study: Study) {
 /**
  * The counts of the study in the query's `studies` row, as columns:
  * members; participants in the newest brain table (or, before one is
- * uploaded, the newest participant sheet); models not deleted; fits.
+ * uploaded, the newest participant sheet); models not deleted; fits; sealed fits.
  * The embedded database answers one query at a time, so the counts are
  * subqueries of the query that reads the studies rather than queries of
  * their own. (The outer study is named explicitly: inside a subquery an
@@ -74,16 +76,18 @@ function countColumns() {
     members: sql<number>`(select count(*) from ${memberships} m where m.study_id = ${outer})`,
     models: sql<number>`(select count(*) from ${models} mo where mo.study_id = ${outer} and mo.deleted_at is null)`,
     fits: sql<number>`(select count(*) from ${fits} f where f.study_id = ${outer})`,
+    sealedFits: sql<number>`(select count(*) from ${fitSeals} s where s.fit_id in (select f.id from ${fits} f where f.study_id = ${outer}))`,
     brainParticipants: latest("brain"),
     sheetParticipants: latest("participants"),
   };
 }
 
-function countsOf(row: { members: unknown; models: unknown; fits: unknown; brainParticipants: unknown; sheetParticipants: unknown }): StudyCounts {
+function countsOf(row: { members: unknown; models: unknown; fits: unknown; sealedFits: unknown; brainParticipants: unknown; sheetParticipants: unknown }): StudyCounts {
   return {
     members: Number(row.members),
     models: Number(row.models),
     fits: Number(row.fits),
+    sealedFits: Number(row.sealedFits),
     participants: Number(row.brainParticipants ?? row.sheetParticipants ?? 0),
   };
 }
@@ -91,7 +95,7 @@ function countsOf(row: { members: unknown; models: unknown; fits: unknown; brain
 /** Counts per study (see countColumns). One query (kept until the next write, see db/read-cache.ts). */
 export async function studyCounts(db: Queryable, studyIds: readonly string[]): Promise<Map<string, StudyCounts>> {
   const out = new Map<string, StudyCounts>();
-  for (const id of studyIds) out.set(id, { members: 0, participants: 0, models: 0, fits: 0 });
+  for (const id of studyIds) out.set(id, { members: 0, participants: 0, models: 0, fits: 0, sealedFits: 0 });
   if (studyIds.length === 0) return out;
   const ids = [...studyIds].sort();
   const rows = await cachedRead(db, `counts of ${ids.join(",")}`, () =>

@@ -146,7 +146,7 @@ describe("a study with sealed fits", () => {
 
     // Nothing changed, and everything still reads.
     const study = await agents.viewer.get(`/api/studies/${studyId}`).expect(200);
-    expect(study.body).toMatchObject({ name: "Sealed harbour study", restricted: false, counts: { members: 4, models: 1, fits: 1 } });
+    expect(study.body).toMatchObject({ name: "Sealed harbour study", restricted: false, counts: { members: 4, models: 1, fits: 1, sealedFits: 1 } });
     const fit = await agents.viewer.get(`/api/fits/${fitId}`).expect(200);
     expect(fit.body.seal).toMatchObject({ intact: true });
     const region = (fit.body.result.regions as { region: string }[])[0].region;

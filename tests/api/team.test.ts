@@ -36,7 +36,7 @@ describe("two people who sign in by e-mail link", () => {
 
     const aList = await a.get("/api/studies").expect(200);
     expect(aList.body).toEqual([
-      expect.objectContaining({ id: studyId, name: "Load effects pilot", role: "owner", counts: { members: 1, participants: 0, models: 0, fits: 0 } }),
+      expect.objectContaining({ id: studyId, name: "Load effects pilot", role: "owner", counts: { members: 1, participants: 0, models: 0, fits: 0, sealedFits: 0 } }),
     ]);
     await b.get(`/api/studies/${studyId}`).expect(404);
     expect((await b.get("/api/studies").expect(200)).body).toEqual([]);
