@@ -92,8 +92,16 @@ export function describeEvent(event: ActivityEvent): string {
       return `created the study “${field(after, "name") ?? ""}”`;
     case "study.updated":
       return "changed the study's settings";
-    case "study.deleted":
-      return "deleted the study";
+    case "study.deleted": {
+      const until = field(after, "restorableUntil");
+      return until ? `deleted the study (an Owner could restore it until ${new Date(until).toLocaleDateString()})` : "deleted the study";
+    }
+    case "study.restored":
+      return "restored the deleted study";
+    case "study.archived":
+      return "archived the study (read-only for everyone)";
+    case "study.unarchived":
+      return "unarchived the study";
     case "invitation.sent":
       return `invited ${field(after, "email") ?? "someone"} as ${field(after, "role") ?? "a member"}`;
     case "invitation.accepted":

@@ -30,7 +30,7 @@ export function DataScreen(props: { studyId: string }) {
       {canUpload ? (
         <UploadPanel studyId={props.studyId} />
       ) : (
-        <Notice>Owners and Analysts upload data; your role reads it.</Notice>
+        <Notice>{study.data.archivedAt ? "This study is archived: no data can be uploaded until an Owner unarchives it." : "Owners and Analysts upload data; your role reads it."}</Notice>
       )}
       <RosterSection studyId={props.studyId} canMap={canUpload} />
       <ReliabilitySection studyId={props.studyId} canEdit={canUpload} />

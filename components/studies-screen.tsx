@@ -1,8 +1,8 @@
 import { Pressable, StyleSheet, View } from "react-native";
 import { useRouter } from "expo-router";
-import { Badge, Button, Card, Empty, Failure, Heading, Pending, Txt } from "./ui";
+import { Badge, Button, Card, Empty, Failure, Heading, Notice, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
-import { useStudies, type StudySummary } from "../hooks/use-studies";
+import { useDeletedStudies, useRestoreStudy, useStudies, type DeletedStudy, type StudySummary } from "../hooks/use-studies";
 
 export function StudiesScreen() {
   const studies = useStudies();
@@ -30,20 +30,70 @@ export function StudiesScreen() {
           ))}
         </View>
       )}
+      <RecentlyDeleted />
     </View>
+  );
+}
+
+/** Deleted studies the person owns that can still be restored; nothing shows when there are none. */
+function RecentlyDeleted() {
+  const deleted = useDeletedStudies();
+  if (deleted.isPending || deleted.isError || deleted.data.length === 0) return null;
+  return (
+    <View style={styles.list} testID="recently-deleted">
+      <Heading level={2}>Recently deleted</Heading>
+      <Txt kind="small" style={{ color: palette.muted }}>
+        Studies you own that were deleted. Restore brings each back for every member with everything it held, activity included.
+      </Txt>
+      {deleted.data.map((study) => (
+        <DeletedCard key={study.id} study={study} />
+      ))}
+    </View>
+  );
+}
+
+function DeletedCard({ study }: { study: DeletedStudy }) {
+  const restore = useRestoreStudy();
+  const router = useRouter();
+  return (
+    <Card testID="deleted-study-card">
+      <View style={styles.cardHead}>
+        <Txt kind="lead" style={styles.name}>
+          {study.name}
+        </Txt>
+        <Badge label="Deleted" tone="danger" />
+      </View>
+      <Txt kind="small" style={{ color: palette.inkSoft }}>
+        Deleted {new Date(study.deletedAt).toLocaleDateString()}
+        {study.deletedBy?.name ? ` by ${study.deletedBy.name}` : ""} · can be restored until {new Date(study.restorableUntil).toLocaleDateString()}
+      </Txt>
+      {restore.error ? <Notice tone="danger">{restore.error.message}</Notice> : null}
+      <Button
+        label="Restore"
+        variant="secondary"
+        accessibilityLabel={`Restore ${study.name}`}
+        busy={restore.isPending}
+        onPress={() => restore.mutate(study.id, { onSuccess: () => router.push(`/studies/${study.id}` as never) })}
+        style={{ alignSelf: "flex-start" }}
+        testID="restore-study"
+      />
+    </Card>
   );
 }
 
 function StudyCard({ study }: { study: StudySummary }) {
   const router = useRouter();
   return (
-    <Pressable accessibilityRole="link" accessibilityLabel={`${study.name}, your role: ${study.role}`} onPress={() => router.push(`/studies/${study.id}` as never)}>
+    <Pressable accessibilityRole="link" accessibilityLabel={`${study.name}, your role: ${study.role}${study.archivedAt ? ", archived" : ""}`} onPress={() => router.push(`/studies/${study.id}` as never)}>
         <Card testID="study-card">
           <View style={styles.cardHead}>
             <Txt kind="lead" style={styles.name}>
               {study.name}
             </Txt>
-            <Badge label={roleLabel(study.role)} tone={study.role === "owner" ? "accent" : "neutral"} />
+            <View style={styles.badges}>
+              {study.archivedAt ? <Badge label="Archived" /> : null}
+              <Badge label={roleLabel(study.role)} tone={study.role === "owner" ? "accent" : "neutral"} />
+            </View>
           </View>
           {study.description ? (
             <Txt kind="small" style={{ color: palette.muted }} numberOfLines={2}>
@@ -73,4 +123,5 @@ const styles = StyleSheet.create({
   titleRow: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.md },
   cardHead: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.sm },
   name: { flexShrink: 1, fontWeight: "600" },
+  badges: { flexDirection: "row", gap: space.xs },
 });

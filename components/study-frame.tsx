@@ -1,11 +1,11 @@
 /**
- * A study's frame: its name, your role, and the sections
- * Data · Models · Fits · Team · Activity.
+ * A study's frame: its name, your role, whether it is archived (read only),
+ * and the sections Data · Models · Fits · Team · Activity.
  */
 import type { ReactNode } from "react";
 import { Pressable, ScrollView, StyleSheet, Text, View } from "react-native";
 import { usePathname, useRouter } from "expo-router";
-import { Badge, Failure, Pending, Txt } from "./ui";
+import { Badge, Failure, Notice, Pending, Txt } from "./ui";
 import { fonts, palette, radius, space, type } from "./theme";
 import { can, useStudy } from "../hooks/use-study";
 import { roleLabel } from "./studies-screen";
@@ -34,7 +34,14 @@ export function StudyFrame(props: { studyId: string; children: ReactNode }) {
         </Txt>
         <Badge label={`You: ${roleLabel(study.data.role)}`} tone={study.data.role === "owner" ? "accent" : "neutral"} />
         {study.data.restricted ? <Badge label="Participant rows restricted" tone="danger" /> : null}
+        {study.data.archivedAt ? <Badge label="Archived — read only" tone="accent" /> : null}
       </View>
+      {study.data.archivedAt ? (
+        <Notice tone="caution" title="Archived — read only" testID="archived-notice">
+          This study was archived on {new Date(study.data.archivedAt).toLocaleDateString()}. Everything in it can be read and exported; nothing can be changed
+          by any member. {study.data.role === "owner" ? "You can unarchive it under Team." : "An Owner can unarchive it."}
+        </Notice>
+      ) : null}
       {study.data.description ? (
         <Txt kind="small" style={{ color: palette.muted }}>
           {study.data.description}
@@ -67,7 +74,7 @@ const styles = StyleSheet.create({
   head: { flexDirection: "row", flexWrap: "wrap", alignItems: "center", gap: space.sm },
   name: { flexShrink: 1 },
   tabs: { gap: space.xs, paddingVertical: space.xs },
-  tab: { paddingHorizontal: space.md, paddingVertical: space.sm, borderRadius: radius.pill, borderWidth: 1, borderColor: palette.line, backgroundColor: palette.surface },
+  tab: { minHeight: 44, justifyContent: "center", paddingHorizontal: space.md, paddingVertical: space.sm, borderRadius: radius.pill, borderWidth: 1, borderColor: palette.line, backgroundColor: palette.surface },
   tabActive: { backgroundColor: palette.ink, borderColor: palette.ink },
   tabText: { fontFamily: fonts.semibold, fontSize: type.small, color: palette.inkSoft },
   tabTextActive: { color: palette.onInk },

@@ -5,10 +5,11 @@ import { Choice, type ChoiceOption } from "./choice";
 import { Badge, Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { roleLabel } from "./studies-screen";
-import { can, useDeleteStudy, useStudy, useUpdateStudy, type StudyDetail } from "../hooks/use-study";
+import { can, useArchiveStudy, useDeleteStudy, useStudy, useUnarchiveStudy, useUpdateStudy, type StudyDetail } from "../hooks/use-study";
 import { useMe } from "../hooks/use-me";
 import { useChangeRole, useInvite, useMembers, usePendingInvitations, useRemoveMember, useRevokeInvitation, type Member } from "../hooks/use-team";
 import type { Role } from "../hooks/use-studies";
+import { restorableUntil, restoreWindowDays } from "../server/model/study-lifecycle";
 
 export const roleOptions: readonly ChoiceOption<Role>[] = [
   { value: "owner", label: "Owner", hint: "manages members and can do everything" },
@@ -25,8 +26,9 @@ export function TeamScreen(props: { studyId: string }) {
     <View style={styles.root}>
       <Members study={study.data} />
       {can(study.data, "invitations.create") ? <Invite studyId={props.studyId} /> : null}
-      {can(study.data, "invitations.list") ? <PendingList studyId={props.studyId} /> : null}
+      {can(study.data, "invitations.list") ? <PendingList studyId={props.studyId} canRevoke={can(study.data, "invitations.revoke")} /> : null}
       {can(study.data, "study.update") ? <Settings study={study.data} /> : null}
+      {can(study.data, "study.archive") || can(study.data, "study.unarchive") ? <ArchiveStudy study={study.data} /> : null}
       {can(study.data, "study.delete") ? <DeleteStudy study={study.data} /> : null}
     </View>
   );
@@ -44,13 +46,15 @@ function Members({ study }: { study: StudyDetail }) {
       ) : members.isError ? (
         <Failure error={members.error} onRetry={() => members.refetch()} />
       ) : (
-        members.data.map((member) => <MemberRow key={member.userId} studyId={study.id} member={member} manage={manage} isMe={member.userId === me.data?.id} />)
+        members.data.map((member) => (
+          <MemberRow key={member.userId} studyId={study.id} member={member} manage={manage} isMe={member.userId === me.data?.id} archived={study.archivedAt !== null} />
+        ))
       )}
     </Card>
   );
 }
 
-function MemberRow({ studyId, member, manage, isMe }: { studyId: string; member: Member; manage: boolean; isMe: boolean }) {
+function MemberRow({ studyId, member, manage, isMe, archived }: { studyId: string; member: Member; manage: boolean; isMe: boolean; archived: boolean }) {
   const change = useChangeRole(studyId);
   const remove = useRemoveMember(studyId);
   const router = useRouter();
@@ -72,7 +76,7 @@ function MemberRow({ studyId, member, manage, isMe }: { studyId: string; member:
       <View style={styles.actions}>
         {manage ? <Button variant="quiet" label={editing ? "Done" : "Change role"} onPress={() => setEditing(!editing)} /> : null}
         {manage && !isMe ? <Button variant="quiet" label="Remove" onPress={() => remove.mutate(member.userId)} busy={remove.isPending} /> : null}
-        {isMe ? (
+        {isMe && !archived ? (
           <Button
             variant="quiet"
             label="Leave this study"
@@ -112,7 +116,7 @@ function Invite({ studyId }: { studyId: string }) {
   );
 }
 
-function PendingList({ studyId }: { studyId: string }) {
+function PendingList({ studyId, canRevoke }: { studyId: string; canRevoke: boolean }) {
   const invitations = usePendingInvitations(studyId, true);
   const revoke = useRevokeInvitation(studyId);
   return (
@@ -135,7 +139,7 @@ function PendingList({ studyId }: { studyId: string }) {
                 {roleLabel(invitation.role)} · expires {new Date(invitation.expiresAt).toLocaleDateString()}
               </Txt>
             </View>
-            <Button variant="quiet" label="Revoke" onPress={() => revoke.mutate(invitation.id)} busy={revoke.isPending && revoke.variables === invitation.id} />
+            {canRevoke ? <Button variant="quiet" label="Revoke" onPress={() => revoke.mutate(invitation.id)} busy={revoke.isPending && revoke.variables === invitation.id} /> : null}
           </View>
         ))
       )}
@@ -165,15 +169,50 @@ function Settings({ study }: { study: StudyDetail }) {
   );
 }
 
+function ArchiveStudy({ study }: { study: StudyDetail }) {
+  const archive = useArchiveStudy(study.id);
+  const unarchive = useUnarchiveStudy(study.id);
+  const error = archive.error ?? unarchive.error;
+  return (
+    <Card testID="archive-study">
+      <Heading level={2}>{study.archivedAt ? "Archived" : "Archive this study"}</Heading>
+      <Txt kind="small" style={{ color: palette.muted }}>
+        {study.archivedAt
+          ? `Archived on ${new Date(study.archivedAt).toLocaleDateString()}. Nobody can change its data, models, fits, set-asides, team or settings; everything stays readable. Unarchive it to work in it again.`
+          : "Archiving makes the study read-only for every member: its data, models, fits, set-asides, team and settings can no longer change. Everything stays readable and exportable, and you can unarchive it at any time."}
+      </Txt>
+      {error ? <Notice tone="danger">{error.message}</Notice> : null}
+      {study.archivedAt ? (
+        <Button label="Unarchive study" variant="secondary" busy={unarchive.isPending} onPress={() => unarchive.mutate()} testID="unarchive-study" />
+      ) : (
+        <Button label="Archive study" variant="secondary" busy={archive.isPending} onPress={() => archive.mutate()} testID="archive-study-button" />
+      )}
+    </Card>
+  );
+}
+
 function DeleteStudy({ study }: { study: StudyDetail }) {
   const [typed, setTyped] = useState("");
   const remove = useDeleteStudy(study.id);
   const router = useRouter();
+  const sealed = study.counts.sealedFits;
+  if (sealed > 0) {
+    return (
+      <Card testID="delete-study">
+        <Heading level={2}>Delete this study</Heading>
+        <Txt kind="small" style={{ color: palette.muted }}>
+          This study has {sealed} sealed fit{sealed === 1 ? "" : "s"}, so it cannot be deleted: sealed results, their recipes and the activity stay reachable.
+          Archive it instead to make it read-only.
+        </Txt>
+      </Card>
+    );
+  }
   return (
-    <Card>
+    <Card testID="delete-study">
       <Heading level={2}>Delete this study</Heading>
       <Txt kind="small" style={{ color: palette.muted }}>
-        The study disappears for every member. Its records and audit trail are kept. Type the study's name to confirm.
+        The study disappears for every member. You can undo this for {restoreWindowDays} days (until {restorableUntil(new Date()).toLocaleDateString()}) under
+        Studies → Recently deleted; its records and activity are kept. Type the study's name to confirm.
       </Txt>
       <Field label="Study name" value={typed} onChangeText={setTyped} error={remove.error?.message ?? null} />
       <Button label="Delete study" variant="danger" disabled={typed !== study.name} busy={remove.isPending} onPress={() => remove.mutate(typed, { onSuccess: () => router.replace("/studies") })} />
