@@ -1,11 +1,12 @@
 /**
  * Parallel driver for the linear permutation test: splits the regions into
- * contiguous blocks, one per worker thread (piscina), and combines the
+ * contiguous slices, one per worker thread (piscina), and combines the
  * results. Every worker regenerates the same rearrangement sequence from the
  * seed, so per-region counts are simply concatenated and the max-T
  * distribution is the element-wise maximum of the workers' per-rearrangement
- * maxima. The result equals `linearPermutationTest` with `createRng(seed)`
- * exactly (same numbers, bit for bit).
+ * maxima. The result equals `linearPermutationTest` (or
+ * `sharedLinearPermutationTest` for regions that differ in participants)
+ * with `createRng(seed)` exactly (same numbers, bit for bit).
  *
  * Cost: the single-thread cost divided by the number of threads, plus the
  * set-up O(n·p² + n·p·R) on the main thread and copying R·n residuals to the
@@ -13,11 +14,23 @@
  */
 import { Piscina } from "piscina";
 import { StatsError } from "../stats/errors";
-import { assembleLinearResult, type LinearPermutationInput, type LinearPermutationResult } from "../stats/permutation";
-import { prepareLinearPermutation, type RearrangementCounts } from "../stats/permutation-kernel";
+import {
+  assembleLinearResult,
+  type LinearPermutationInput,
+  type LinearPermutationResult,
+  prepareSharedLinearPermutation,
+  type SharedLinearPermutationInput,
+  type SharedLinearPermutationSetup,
+} from "../stats/permutation";
+import { drawOfPlan, prepareLinearPermutation, type RearrangementCounts, type RegionBlock } from "../stats/permutation-kernel";
 import type { PermutationTask } from "./permutation-task";
 
 export type ParallelLinearPermutationInput = Omit<LinearPermutationInput, "rng"> & {
+  /** seed of the generator each worker creates (createRng(seed)) */
+  seed: number;
+};
+
+export type ParallelSharedLinearPermutationInput = Omit<SharedLinearPermutationInput, "rng"> & {
   /** seed of the generator each worker creates (createRng(seed)) */
   seed: number;
 };
@@ -26,6 +39,8 @@ export interface PermutationPool {
   readonly threads: number;
   /** Same contract as `linearPermutationTest`, computed on the pool's worker threads. */
   linearPermutationTest(input: ParallelLinearPermutationInput): Promise<LinearPermutationResult>;
+  /** Same contract as `sharedLinearPermutationTest`, computed on the pool's worker threads. */
+  sharedLinearPermutationTest(input: ParallelSharedLinearPermutationInput): Promise<LinearPermutationResult>;
   /** Stops the worker threads. */
   close(): Promise<void>;
 }
@@ -49,19 +64,18 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
     maxThreads: threads,
   });
 
-  async function linearPermutationTest(input: ParallelLinearPermutationInput): Promise<LinearPermutationResult> {
-    const setup = prepareLinearPermutation(input);
-    const { plan, residuals, residualSquares, observed } = setup;
+  async function run(
+    setup: SharedLinearPermutationSetup,
+    input: { seed: number; maxT?: boolean; keepNull?: boolean; onProgress?: (fraction: number) => void; shouldCancel?: () => boolean },
+  ): Promise<LinearPermutationResult> {
+    const { draw, observed } = setup;
     const regions = observed.length;
-    const n = plan.n;
-    const blocks = splitRegions(regions, threads);
-    const control = new Int32Array(new SharedArrayBuffer(4 * (1 + blocks.length)));
-    const tasks = blocks.map(([from, to], worker) => {
+    const slices = splitRegions(regions, threads);
+    const control = new Int32Array(new SharedArrayBuffer(4 * (1 + slices.length)));
+    const tasks = slices.map(([from, to], worker) => {
       const task: PermutationTask = {
-        plan,
-        residuals: residuals.slice(from * n, to * n),
-        residualSquares: residualSquares.slice(from, to),
-        observed: observed.slice(from, to),
+        draw,
+        blocks: sliceBlocks(setup.blocks, from, to),
         seed: input.seed,
         maxT: input.maxT === true,
         keepNull: input.keepNull === true,
@@ -75,8 +89,8 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
       if (input.shouldCancel?.()) Atomics.store(control, 0, 1);
       if (input.onProgress) {
         let sum = 0;
-        for (let w = 0; w < blocks.length; w++) sum += Atomics.load(control, 1 + w);
-        input.onProgress(Math.min(1, sum / (1e6 * blocks.length)));
+        for (let w = 0; w < slices.length; w++) sum += Atomics.load(control, 1 + w);
+        input.onProgress(Math.min(1, sum / (1e6 * slices.length)));
       }
     };
     poll();
@@ -98,7 +112,7 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
     const counts = new Float64Array(regions);
     const nulls: Float32Array[] | null = input.keepNull ? [] : null;
     let maxAbs: Float64Array | null = input.maxT ? new Float64Array(total) : null;
-    blocks.forEach(([from], w) => {
+    slices.forEach(([from], w) => {
       const part = parts[w];
       counts.set(part.counts, from);
       if (nulls && part.nulls) nulls.push(...part.nulls);
@@ -112,15 +126,52 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
     return assembleLinearResult(observed, counts, maxAbs, nulls, parts[0].exact, total);
   }
 
+  async function linearPermutationTest(input: ParallelLinearPermutationInput): Promise<LinearPermutationResult> {
+    const setup = prepareLinearPermutation(input);
+    const block: RegionBlock = { plan: setup.plan, members: null, residuals: setup.residuals, residualSquares: setup.residualSquares, observed: setup.observed };
+    return run({ draw: drawOfPlan(setup.plan), blocks: [block], observed: setup.observed }, input);
+  }
+
+  async function sharedLinearPermutationTest(input: ParallelSharedLinearPermutationInput): Promise<LinearPermutationResult> {
+    return run(prepareSharedLinearPermutation(input), input);
+  }
+
   return {
     threads,
     linearPermutationTest,
+    sharedLinearPermutationTest,
     close: () => pool.destroy(),
   };
 }
 
 /**
- * Contiguous region blocks, as equal as possible and of even size where
+ * The regions from..to−1 (numbered block by block) as blocks: whole blocks,
+ * or slices of a block's regions with the block's plan. Cost O(slice·n).
+ */
+export function sliceBlocks(blocks: readonly RegionBlock[], from: number, to: number): RegionBlock[] {
+  const out: RegionBlock[] = [];
+  let offset = 0;
+  for (const b of blocks) {
+    const count = b.residualSquares.length;
+    const lo = Math.max(from, offset) - offset;
+    const hi = Math.min(to, offset + count) - offset;
+    if (lo < hi) {
+      const n = b.plan.n;
+      out.push({
+        plan: b.plan,
+        members: b.members,
+        residuals: b.residuals.slice(lo * n, hi * n),
+        residualSquares: b.residualSquares.slice(lo, hi),
+        observed: b.observed.slice(lo, hi),
+      });
+    }
+    offset += count;
+  }
+  return out;
+}
+
+/**
+ * Contiguous region slices, as equal as possible and of even size where
  * possible (the kernel handles regions in pairs). Cost O(threads).
  */
 export function splitRegions(regions: number, threads: number): [number, number][] {

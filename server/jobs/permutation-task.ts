@@ -1,23 +1,22 @@
 /**
  * Worker-thread task for the parallel permutation driver: runs every
- * rearrangement of a plan over one block of regions. Workers compute only —
- * no database, no files; the main thread combines the blocks.
+ * rearrangement of a draw over one slice of the regions (blocks of regions
+ * on the same participants). Workers compute only — no database, no
+ * files; the main thread combines the slices.
  *
  * The generator is created from the seed inside the worker, so every worker
- * walks the same rearrangements as the single-thread `linearPermutationTest`
- * with `createRng(seed)`. Cancellation and progress go through a shared
- * Int32Array: slot 0 is the cancel flag set by the main thread, slot 1 + w is
- * worker w's progress in millionths.
+ * walks the same rearrangements as the single-thread
+ * `sharedLinearPermutationTest` with `createRng(seed)`. Cancellation and
+ * progress go through a shared Int32Array: slot 0 is the cancel flag set by
+ * the main thread, slot 1 + w is worker w's progress in millionths.
  */
-import { countExtremeRearrangements, type LinearPermutationPlan, type RearrangementCounts } from "../stats/permutation-kernel";
+import { countExtremeRearrangements, type RearrangementCounts, type RearrangementDraw, type RegionBlock } from "../stats/permutation-kernel";
 import { createRng } from "../stats/rng";
 
 export interface PermutationTask {
-  plan: LinearPermutationPlan;
-  /** this block's reduced-model residuals, regions × n */
-  residuals: Float64Array;
-  residualSquares: Float64Array;
-  observed: Float64Array;
+  draw: RearrangementDraw;
+  /** this worker's regions, block by block (a block may be a slice of a larger one) */
+  blocks: RegionBlock[];
   seed: number;
   maxT: boolean;
   keepNull: boolean;
@@ -29,10 +28,8 @@ export interface PermutationTask {
 export default function runPermutationTask(task: PermutationTask): RearrangementCounts {
   const control = new Int32Array(task.control);
   return countExtremeRearrangements({
-    plan: task.plan,
-    residuals: task.residuals,
-    residualSquares: task.residualSquares,
-    observed: task.observed,
+    draw: task.draw,
+    blocks: task.blocks,
     rng: createRng(task.seed),
     maxT: task.maxT,
     keepNull: task.keepNull,

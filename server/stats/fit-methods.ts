@@ -353,6 +353,8 @@ export function estimateRegion(d: RegionData, qr?: QrDecomposition): RegionEstim
 export function permutationStatistic(d: RegionData): {
   scheme: "sign-flip" | "labels";
   groupSizes?: [number, number];
+  /** "labels" with two groups: the participant (row of the region) each slot of `order` stands for */
+  slots?: Int32Array;
   statistic: (order: Int32Array, signs: Float64Array) => number;
   name: string;
 } {
@@ -413,6 +415,7 @@ export function permutationStatistic(d: RegionData): {
       return {
         scheme: "labels",
         groupSizes: [n1, n - n1],
+        slots: Int32Array.from(units),
         name: "Welch t",
         statistic: (order) => {
           const [a, b] = pick(order);
@@ -430,6 +433,7 @@ export function permutationStatistic(d: RegionData): {
       return {
         scheme: "labels",
         groupSizes: [n1, n - n1],
+        slots: Int32Array.from(units),
         name: "Mann–Whitney U − n1·n2/2",
         statistic: (order) => {
           let w = 0;
@@ -442,6 +446,7 @@ export function permutationStatistic(d: RegionData): {
     return {
       scheme: "labels",
       groupSizes: [n1, n - n1],
+      slots: Int32Array.from(units),
       name: "robust t of the group difference",
       statistic: (order) => {
         const x = new Float64Array(n * 2);

@@ -20,15 +20,29 @@
  * register-blocked: two regions per pass and up to five columns of Q̃ per
  * pass, so every accumulator stays in a register.
  *
+ * Regions that differ in participants (empty cells) come in blocks, one
+ * block per set of participants, each with its own basis; every block sees
+ * the same draw over all the blocks' participants (see
+ * `createSharedRearranger`). A block of two or more regions keeps the
+ * batched product above; a block of one region rearranges its residuals
+ * instead of the basis rows (m gathers instead of m·p) and takes the draws
+ * 32 at a time, so its own basis stays in cache while the batched product
+ * runs over those 32 rearranged residual vectors as it runs over regions
+ * (one pass over 400 distinct bases per rearrangement is bound by memory).
+ *
  * Everything here is pure and deterministic; the worker-thread driver calls
  * the same functions on slices of regions.
  */
 import { StatsError } from "./errors";
 import {
   createRearranger,
+  createSharedRearranger,
   extremeThreshold,
+  memberPositions,
   progressReporter,
   type RearrangementKind,
+  regionSigns,
+  regionSources,
 } from "./rearrangements";
 import type { Rng } from "./rng";
 
@@ -79,6 +93,12 @@ export function prepareLinearPermutation(input: {
   y: readonly Float64Array[];
   scheme: "sign-flip" | "freedman-lane";
   resamples: number;
+  /**
+   * The draw is shared with regions on other participants: rearrange by
+   * sign vectors or orders of all participants, never by two-group label
+   * assignments.
+   */
+  shared?: boolean;
 }): LinearPermutationSetup {
   const name = "linearPermutationTest";
   const { design, n, p, tested, y, scheme, resamples } = input;
@@ -117,7 +137,7 @@ export function prepareLinearPermutation(input: {
   let kind: RearrangementKind = scheme === "sign-flip" ? "signs" : "permutations";
   let groupOrder: Int32Array | null = null;
   let firstGroupSize = 0;
-  if (scheme === "freedman-lane" && p === 2) {
+  if (scheme === "freedman-lane" && p === 2 && input.shared !== true) {
     const other = 1 - tested;
     let constant = true;
     const values: number[] = [];
@@ -272,15 +292,7 @@ export function regionStatistics(
   const { n, p, df } = plan;
   const v = work.products;
   blockedProducts(work.columns, n, p, residuals, regions, v);
-  for (let r = 0; r < regions; r++) {
-    let ss = 0;
-    const o = r * p;
-    for (let k = 0; k < p; k++) ss += v[o + k] * v[o + k];
-    const ee = residualSquares[r];
-    const rss = ee - ss;
-    const last = v[o + p - 1];
-    out[r] = rss > EXACT_FIT * ee ? last / Math.sqrt(rss / df) : last < 0 ? -Infinity : Infinity;
-  }
+  for (let r = 0; r < regions; r++) out[r] = tStatistic(v, r * p, p, residualSquares[r], df);
 }
 
 /**
@@ -523,59 +535,251 @@ export interface RearrangementCounts {
   rearrangements: number;
 }
 
-/**
- * Runs every rearrangement of the plan over a block of regions and counts,
- * per region, the rearranged statistics at least as extreme as the observed
- * one (two-sided, with the tie tolerance of `extremeThreshold`).
- *
- * Cost per rearrangement: O(n·p) to rearrange the basis plus 2·n·p·R flops.
- * The sequence of rearrangements depends only on the plan and `rng`, so two
- * calls on different region blocks with equally seeded generators walk the
- * same rearrangements. Throws StatsError with code "cancelled" when
- * `shouldCancel()` returns true (checked after every rearrangement).
- */
-export function countExtremeRearrangements(input: {
+/** What every block of regions shares: the kind and size of the draw. Structured-cloneable. */
+export interface RearrangementDraw {
+  kind: RearrangementKind;
+  /** participants the draw rearranges (all blocks' participants together) */
+  n: number;
+  /** "subsets" only: size of the first group */
+  firstGroupSize: number;
+  resamples: number;
+}
+
+/** Regions on one set of participants, ready for the rearrangement loop. Structured-cloneable. */
+export interface RegionBlock {
   plan: LinearPermutationPlan;
+  /**
+   * Positions of the plan's n participants among the draw's participants
+   * (increasing), or null when the block has all of them, in order.
+   */
+  members: Int32Array | null;
+  /** regions × n, region-major: reduced-model residuals e */
   residuals: Float64Array;
   residualSquares: Float64Array;
   observed: Float64Array;
+}
+
+/** The draw of a single block that has every participant: the plan's own kind (label assignments for two groups). */
+export function drawOfPlan(plan: LinearPermutationPlan): RearrangementDraw {
+  return { kind: plan.kind, n: plan.n, firstGroupSize: plan.firstGroupSize, resamples: plan.resamples };
+}
+
+/** Per block, the state of the loop. */
+interface BlockState {
+  block: RegionBlock;
+  regions: number;
+  /** first region of the block in the combined numbering */
+  offset: number;
+  /** the block has every participant of the draw, in order */
+  full: boolean;
+  /** shared participant → position in the block, or −1 */
+  local: Int32Array | null;
+  work: KernelWorkspace;
+  t: Float64Array;
+  /** block position → block position of the residual it receives */
+  from: Int32Array;
+  /** block position → block position its basis row moves to (kernel order) */
+  order: Int32Array;
+  signs: Float64Array;
+  /** one-region blocks: the rearranged residuals of a chunk of rearrangements, one after another */
+  gathered: Float64Array;
+  /** one-region blocks: Q′ẽ for each rearrangement of the chunk */
+  products: Float64Array;
+  /** one-region blocks: the basis, column-major */
+  columns: Float64Array;
+}
+
+function checkBlocks(draw: RearrangementDraw, blocks: readonly RegionBlock[]): void {
+  const name = "linearPermutationTest";
+  if (blocks.length === 0) throw new StatsError(`${name} requires at least one region`);
+  const shared = blocks.some((b) => b.members !== null && b.members.length !== draw.n);
+  if (shared && draw.kind === "subsets") {
+    throw new StatsError(`${name} requires sign vectors or orders of all participants when regions differ in participants`);
+  }
+  for (const b of blocks) {
+    const m = b.members === null ? draw.n : b.members.length;
+    if (b.plan.n !== m) throw new StatsError(`${name} requires each block's participants to match its design (${m} for n = ${b.plan.n})`);
+    if (b.plan.kind !== draw.kind || b.plan.resamples !== draw.resamples) throw new StatsError(`${name} requires every block to share the draw`);
+    if (draw.kind === "subsets" && b.plan.firstGroupSize !== draw.firstGroupSize) throw new StatsError(`${name} requires every block to share the draw`);
+  }
+}
+
+/**
+ * Runs every rearrangement of one draw over blocks of regions and counts,
+ * per region, the rearranged statistics at least as extreme as the
+ * observed one (two-sided, with the tie tolerance of `extremeThreshold`);
+ * with `maxT`, the maximum |t*| over all regions of all blocks per
+ * rearrangement.
+ *
+ * Cost per rearrangement: O(N) for the draw, and per block O(N) for its
+ * share of the draw, O(m·p) to rearrange its basis and 2·m·p·R flops (one
+ * region: O(N) to gather its residuals and 2·m·p flops). Memory: per
+ * one-region block 32·m doubles for a chunk of draws; 32·N numbers for the
+ * chunk's draws. The sequence of rearrangements
+ * depends only on the draw and `rng`, so two calls on different blocks or
+ * region slices with equally seeded generators walk the same
+ * rearrangements. Throws StatsError when the blocks do not fit the draw,
+ * and with code "cancelled" when `shouldCancel()` returns true (checked
+ * after every rearrangement, or after every 32 when one-region blocks are
+ * present).
+ */
+export function countExtremeRearrangements(input: {
+  draw: RearrangementDraw;
+  blocks: readonly RegionBlock[];
   rng: Rng;
   maxT: boolean;
   keepNull: boolean;
   onProgress?: (fraction: number) => void;
   shouldCancel?: () => boolean;
 }): RearrangementCounts {
-  const { plan, residuals, residualSquares, observed, rng } = input;
-  const regions = residualSquares.length;
-  const walk = createRearranger({
-    kind: plan.kind,
-    n: plan.n,
-    resamples: plan.resamples,
-    rng,
-    firstGroupSize: plan.firstGroupSize,
-  });
+  const { draw, blocks, rng } = input;
+  checkBlocks(draw, blocks);
+  const walk =
+    draw.kind === "subsets"
+      ? createRearranger({ kind: "subsets", n: draw.n, resamples: draw.resamples, rng, firstGroupSize: draw.firstGroupSize })
+      : createSharedRearranger({ kind: draw.kind, n: draw.n, resamples: draw.resamples, rng });
+  const sigma = "sigma" in walk ? walk.sigma : null;
   const total = walk.total;
+  let regions = 0;
+  const states: BlockState[] = blocks.map((block) => {
+    const count = block.residualSquares.length;
+    const m = block.plan.n;
+    const full = block.members === null || block.members.length === draw.n;
+    const state: BlockState = {
+      block,
+      regions: count,
+      offset: regions,
+      full,
+      local: full ? null : memberPositions(draw.n, block.members as Int32Array),
+      work: createWorkspace(block.plan, count),
+      t: new Float64Array(count),
+      from: new Int32Array(full ? 0 : m),
+      order: new Int32Array(full ? 0 : m),
+      signs: new Float64Array(full ? 0 : m),
+      gathered: new Float64Array(!full && count === 1 ? CHUNK * m + 1 : 0),
+      products: new Float64Array(!full && count === 1 ? CHUNK * block.plan.p : 0),
+      columns: new Float64Array(0),
+    };
+    if (!full && count === 1) {
+      state.columns = new Float64Array(m * block.plan.p);
+      identityColumns(block.plan, state.columns);
+    }
+    regions += count;
+    return state;
+  });
   const thresholds = new Float64Array(regions);
-  for (let r = 0; r < regions; r++) thresholds[r] = extremeThreshold(observed[r]);
+  for (const st of states) for (let r = 0; r < st.regions; r++) thresholds[st.offset + r] = extremeThreshold(st.block.observed[r]);
   const counts = new Float64Array(regions);
   const maxAbs = input.maxT ? new Float64Array(total) : null;
   const nulls = input.keepNull ? Array.from({ length: regions }, () => new Float32Array(total)) : null;
-  const work = createWorkspace(plan, regions);
-  const t = new Float64Array(regions);
+  const tally: Tally = { thresholds, counts, maxAbs, nulls };
+  // One-region blocks each have their own basis; they take the draws a chunk at a time so that
+  // the basis stays in cache across the chunk (one pass over all bases per rearrangement is bound by memory).
+  const singles = states.filter((st) => !st.full && st.regions === 1);
+  const others = states.filter((st) => st.full || st.regions > 1);
+  const n = draw.n;
+  const drawn = singles.length === 0 ? null : draw.kind === "signs" ? new Float64Array(CHUNK * n) : new Int32Array(CHUNK * n);
   const report = progressReporter("linearPermutationTest", total, input.onProgress, input.shouldCancel);
-  for (let k = 0; k < total; k++) {
-    walk.next();
-    rearrangedColumns(plan, walk.order, walk.signs, work.columns);
-    regionStatistics(plan, work, residuals, residualSquares, regions, t);
-    let max = 0;
-    for (let r = 0; r < regions; r++) {
-      const a = Math.abs(t[r]);
-      if (a >= thresholds[r]) counts[r]++;
-      if (a > max) max = a;
+  for (let k0 = 0; k0 < total; k0 += CHUNK) {
+    const size = Math.min(CHUNK, total - k0);
+    for (let c = 0; c < size; c++) {
+      const k = k0 + c;
+      walk.next();
+      if (drawn) drawn.set(draw.kind === "signs" ? walk.signs : (sigma as Int32Array), c * n);
+      let max = 0;
+      for (const st of others) {
+        const { block, t } = st;
+        if (st.full) {
+          rearrangedColumns(block.plan, walk.order, walk.signs, st.work.columns);
+        } else {
+          if (draw.kind === "signs") {
+            regionSigns(walk.signs, block.members as Int32Array, st.signs);
+          } else {
+            regionSources(sigma as Int32Array, st.local as Int32Array, st.from);
+            // Moving basis row from[j] to row j equals giving row j the residual of from[j].
+            for (let j = 0; j < st.from.length; j++) st.order[st.from[j]] = j;
+          }
+          rearrangedColumns(block.plan, st.order, st.signs, st.work.columns);
+        }
+        regionStatistics(block.plan, st.work, block.residuals, block.residualSquares, st.regions, t);
+        max = Math.max(max, tallyRegions(tally, st.offset, t, st.regions, k));
+      }
+      if (maxAbs) maxAbs[k] = max;
     }
-    if (maxAbs) maxAbs[k] = max;
-    if (nulls) for (let r = 0; r < regions; r++) nulls[r][k] = t[r];
-    report(k + 1);
+    if (drawn) {
+      for (const st of singles) {
+        const { plan, residuals } = st.block;
+        const m = plan.n;
+        for (let c = 0; c < size; c++) {
+          if (draw.kind === "signs") gatherBySigns(drawn as Float64Array, c * n, st.block.members as Int32Array, residuals, st.gathered.subarray(c * m, (c + 1) * m));
+          else gatherBySigma(drawn as Int32Array, c * n, n, st.local as Int32Array, residuals, st.gathered, c * m);
+        }
+        // The rearranged residual vectors of the chunk share the block's basis: the batched product takes them as it takes regions.
+        blockedProducts(st.columns, m, plan.p, st.gathered, size, st.products);
+        for (let c = 0; c < size; c++) {
+          st.t[0] = tStatistic(st.products, c * plan.p, plan.p, st.block.residualSquares[0], plan.df);
+          const a = tallyRegions(tally, st.offset, st.t, 1, k0 + c);
+          if (maxAbs && a > maxAbs[k0 + c]) maxAbs[k0 + c] = a;
+        }
+      }
+    }
+    for (let c = 0; c < size; c++) report(k0 + c + 1);
   }
   return { counts, maxAbs, nulls, exact: walk.exact, rearrangements: total };
+}
+
+/** Rearrangements the one-region blocks take at a time (their draws: 32 × N numbers, in cache). */
+const CHUNK = 32;
+
+/** Per-region counts, per-rearrangement maxima and kept null statistics. */
+interface Tally {
+  thresholds: Float64Array;
+  counts: Float64Array;
+  maxAbs: Float64Array | null;
+  nulls: Float32Array[] | null;
+}
+
+/** Records the statistics t[0..regions−1] of regions offset… at rearrangement k; returns their largest |t|. */
+function tallyRegions(tally: Tally, offset: number, t: Float64Array, regions: number, k: number): number {
+  let max = 0;
+  for (let r = 0; r < regions; r++) {
+    const a = Math.abs(t[r]);
+    if (a >= tally.thresholds[offset + r]) tally.counts[offset + r]++;
+    if (a > max) max = a;
+    if (tally.nulls) tally.nulls[offset + r][k] = t[r];
+  }
+  return max;
+}
+
+/** ẽ_j = s_{members[j]}·e_j: the block's residuals under the shared signs (signs[at + i] for participant i). Cost O(m). */
+function gatherBySigns(signs: Float64Array, at: number, members: Int32Array, e: Float64Array, out: Float64Array): void {
+  for (let j = 0; j < out.length; j++) out[j] = signs[at + members[j]] * e[j];
+}
+
+/**
+ * The rule and the gather at once: the j-th of σ's entries that belong to
+ * the block gives its residual to the block's j-th participant
+ * (σ = sigma[at … at + N − 1]). Cost O(N).
+ */
+function gatherBySigma(sigma: Int32Array, at: number, n: number, local: Int32Array, e: Float64Array, out: Float64Array, o: number): void {
+  let j = o;
+  for (let u = at; u < at + n; u++) {
+    const from = local[sigma[u]];
+    // Branch-free: write, then advance only for the block's own participants (out has one spare slot at the end).
+    out[j] = e[from < 0 ? 0 : from];
+    j += from >= 0 ? 1 : 0;
+  }
+}
+
+/**
+ * t of the tested coefficient from v = Q′ẽ (at v[o … o + p − 1]) and e′e:
+ * RSS* = e′e − ‖v‖², t* = v_p / √(RSS* ÷ df); an exact fit (RSS* ≤ 1e-12·e′e)
+ * gives ±Infinity. Cost O(p).
+ */
+function tStatistic(v: Float64Array, o: number, p: number, ee: number, df: number): number {
+  let ss = 0;
+  for (let k = 0; k < p; k++) ss += v[o + k] * v[o + k];
+  const rss = ee - ss;
+  const last = v[o + p - 1];
+  return rss > EXACT_FIT * ee ? last / Math.sqrt(rss / df) : last < 0 ? -Infinity : Infinity;
 }

@@ -13,10 +13,29 @@
  * (see `TIE_TOLERANCE`). `rearrangements` reports the number evaluated with
  * the identity included (M, or m + 1), and null distributions list the
  * identity first.
+ *
+ * Regions that differ in participants (empty cells) share one draw over all
+ * their participants (`sharedLinearPermutationTest`,
+ * `sharedGenericPermutationTest`; the rule is in rearrangements.ts), and
+ * exact versus Monte Carlo is decided on all of them.
  */
 import { StatsError } from "./errors";
-import { countExtremeRearrangements, prepareLinearPermutation } from "./permutation-kernel";
-import { createRearranger, extremeThreshold, progressReporter } from "./rearrangements";
+import {
+  countExtremeRearrangements,
+  drawOfPlan,
+  prepareLinearPermutation,
+  type RearrangementDraw,
+  type RegionBlock,
+} from "./permutation-kernel";
+import {
+  createRearranger,
+  createSharedRearranger,
+  extremeThreshold,
+  memberPositions,
+  progressReporter,
+  regionSigns,
+  regionSources,
+} from "./rearrangements";
 import type { Rng } from "./rng";
 
 export { TIE_TOLERANCE } from "./rearrangements";
@@ -87,10 +106,141 @@ export interface LinearPermutationResult {
 export function linearPermutationTest(input: LinearPermutationInput): LinearPermutationResult {
   const setup = prepareLinearPermutation(input);
   const runs = countExtremeRearrangements({
-    plan: setup.plan,
-    residuals: setup.residuals,
-    residualSquares: setup.residualSquares,
-    observed: setup.observed,
+    draw: drawOfPlan(setup.plan),
+    blocks: [{ plan: setup.plan, members: null, residuals: setup.residuals, residualSquares: setup.residualSquares, observed: setup.observed }],
+    rng: input.rng,
+    maxT: input.maxT === true,
+    keepNull: input.keepNull === true,
+    onProgress: input.onProgress,
+    shouldCancel: input.shouldCancel,
+  });
+  return assembleLinearResult(setup.observed, runs.counts, runs.maxAbs, runs.nulls, runs.exact, runs.rearrangements);
+}
+
+/** Regions on one set of participants, for `sharedLinearPermutationTest`. */
+export interface LinearPermutationBlockInput {
+  /** row-major n × p design matrix of these participants */
+  design: Float64Array;
+  n: number;
+  p: number;
+  tested: number;
+  /** regions, each of length n */
+  y: readonly Float64Array[];
+  /** positions of the n participants among all participants of the test, increasing */
+  members: Int32Array;
+  /** names the block in error messages ("region 'x': …") */
+  label?: string;
+}
+
+export interface SharedLinearPermutationInput {
+  /** number of participants N over all blocks; each belongs to at least one block */
+  participants: number;
+  blocks: readonly LinearPermutationBlockInput[];
+  scheme: "sign-flip" | "freedman-lane";
+  resamples: number;
+  rng: Rng;
+  maxT?: boolean;
+  keepNull?: boolean;
+  onProgress?: (fraction: number) => void;
+  shouldCancel?: () => boolean;
+}
+
+export interface SharedLinearPermutationSetup {
+  draw: RearrangementDraw;
+  blocks: RegionBlock[];
+  /** observed t of every region, blocks in order */
+  observed: Float64Array;
+}
+
+/** Runs `f`, naming `label` as the region in a StatsError's message. */
+function labelled<T>(label: string | undefined, f: () => T): T {
+  try {
+    return f();
+  } catch (e) {
+    if (label !== undefined && e instanceof StatsError && e.code !== "cancelled" && !e.message.startsWith("region '")) {
+      throw new StatsError(`region '${label}': ${e.message}`, e.code);
+    }
+    throw e;
+  }
+}
+
+/** Checks that every one of n participants is listed in some member list. Cost O(n + Σ m). */
+function checkCovered(name: string, n: number, lists: readonly { members: Int32Array; label?: string }[]): void {
+  const covered = new Uint8Array(n);
+  for (const list of lists) {
+    labelled(list.label, () => memberPositions(n, list.members));
+    for (const a of list.members) covered[a] = 1;
+  }
+  const missing = covered.indexOf(0);
+  if (missing >= 0) throw new StatsError(`${name} requires every participant to belong to a region (participant ${missing} is in none)`);
+}
+
+/**
+ * Prepares blocks of regions that may differ in participants for one shared
+ * draw. A single block with all N participants is prepared exactly as
+ * `linearPermutationTest` prepares it (two-group label assignments
+ * included); otherwise the draw is the sign vectors (sign flipping) or the
+ * orders (Freedman–Lane) of all N participants. Cost: the blocks' set-up,
+ * O(Σ n·p² + n·p·R). Throws StatsError for malformed blocks, naming the
+ * block's label.
+ */
+export function prepareSharedLinearPermutation(input: Omit<SharedLinearPermutationInput, "rng" | "onProgress" | "shouldCancel">): SharedLinearPermutationSetup {
+  const name = "linearPermutationTest";
+  const N = input.participants;
+  if (!(Number.isInteger(N) && N >= 1)) throw new StatsError(`${name} requires at least one participant (got ${N})`);
+  if (input.blocks.length === 0) throw new StatsError(`${name} requires at least one region`);
+  for (const b of input.blocks) {
+    if (b.members.length !== b.n) {
+      throw new StatsError(`${name} requires members to list the block's n = ${b.n} participants (got ${b.members.length})`);
+    }
+  }
+  checkCovered(name, N, input.blocks);
+  const single = input.blocks.length === 1;
+  const blocks: RegionBlock[] = input.blocks.map((b) =>
+    labelled(b.label, () => {
+      const setup = prepareLinearPermutation({ ...b, scheme: input.scheme, resamples: input.resamples, shared: !single });
+      return {
+        plan: setup.plan,
+        members: b.n === N ? null : b.members,
+        residuals: setup.residuals,
+        residualSquares: setup.residualSquares,
+        observed: setup.observed,
+      };
+    }),
+  );
+  const draw: RearrangementDraw = single
+    ? drawOfPlan(blocks[0].plan)
+    : { kind: input.scheme === "sign-flip" ? "signs" : "permutations", n: N, firstGroupSize: 0, resamples: input.resamples };
+  const observed = new Float64Array(blocks.reduce((sum, b) => sum + b.observed.length, 0));
+  let offset = 0;
+  for (const b of blocks) {
+    observed.set(b.observed, offset);
+    offset += b.observed.length;
+  }
+  return { draw, blocks, observed };
+}
+
+/**
+ * The linear permutation test of `linearPermutationTest` for regions that
+ * differ in participants: each block of regions (one set of participants)
+ * has its own design, and all blocks share one draw over the N
+ * participants — one sign vector, or one order σ of which each region keeps
+ * its own participants in σ's order (rearrangements.ts) — so the max-T
+ * p-values control the family-wise error over all regions (Westfall &
+ * Young 1993, single-step max-T; Winkler et al. 2014, NeuroImage
+ * 92:381–397; Freedman & Lane 1983). Exact enumeration when 2^N (or N!) is
+ * at most `resamples`, otherwise Monte Carlo, as above.
+ *
+ * Results list the regions block by block. A single block with every
+ * participant gives exactly `linearPermutationTest`. Cost per
+ * rearrangement: see `countExtremeRearrangements`. Throws StatsError as
+ * `prepareSharedLinearPermutation` and with code "cancelled".
+ */
+export function sharedLinearPermutationTest(input: SharedLinearPermutationInput): LinearPermutationResult {
+  const setup = prepareSharedLinearPermutation(input);
+  const runs = countExtremeRearrangements({
+    draw: setup.draw,
+    blocks: setup.blocks,
     rng: input.rng,
     maxT: input.maxT === true,
     keepNull: input.keepNull === true,
@@ -232,4 +382,140 @@ export function genericPermutationTest(input: GenericPermutationInput): GenericP
   let count = 0;
   for (let k = 0; k < total; k++) if (Math.abs(nullStatistics[k]) >= threshold) count++;
   return { observed, p: count / total, exact: walk.exact, rearrangements: total, nullStatistics };
+}
+
+/** One region of `sharedGenericPermutationTest`. */
+export interface SharedGenericRegion {
+  /** positions of the region's participants among all participants of the test, increasing */
+  members: Int32Array;
+  /**
+   * The statistic of one rearrangement over the region's own participants,
+   * as for `genericPermutationTest` (fresh arrays on each call). With
+   * "labels", slot k receives the value of slot `order[k]`; `slots[k]` is
+   * the participant (position in `members`) that slot k stands for
+   * (default: slot k is participant k).
+   */
+  statistic: (order: Int32Array, signs: Float64Array) => number;
+  slots?: Int32Array;
+  /** two-group label assignments: [first, second] (used when every region has every participant) */
+  groupSizes?: [number, number];
+  /** names the region in error messages */
+  label?: string;
+}
+
+export interface SharedGenericPermutationResult {
+  /** per region */
+  observed: Float64Array;
+  p: Float64Array;
+  nullStatistics: Float64Array[];
+  exact: boolean;
+  rearrangements: number;
+}
+
+/**
+ * `genericPermutationTest` for several regions under one draw, so that
+ * max-T over their null statistics controls the family-wise error
+ * (Westfall & Young 1993, single-step max-T; Winkler et al. 2014).
+ *
+ * When every region has all N participants, the draw is exactly the walk of
+ * `genericPermutationTest` with the same generator (two-group label
+ * assignments with `groupSizes`), the same for every region. Otherwise it
+ * runs over the N participants — one sign vector, or one order σ of which
+ * each region keeps its own participants in σ's order (rearrangements.ts) —
+ * and exact enumeration needs 2^N (or N!) ≤ `resamples`.
+ *
+ * Cost: (M or resamples + 1) × Σ over regions of (statistic + O(N)).
+ * Throws StatsError as `genericPermutationTest` (naming the region's
+ * label), when a participant is in no region, and with code "cancelled"
+ * (checked every 64 rearrangements).
+ */
+export function sharedGenericPermutationTest(input: {
+  participants: number;
+  regions: readonly SharedGenericRegion[];
+  scheme: "sign-flip" | "labels";
+  resamples: number;
+  rng: Rng;
+  onProgress?: (fraction: number) => void;
+  shouldCancel?: () => boolean;
+}): SharedGenericPermutationResult {
+  const name = "genericPermutationTest";
+  const { participants: N, regions, scheme, resamples, rng } = input;
+  if (scheme !== "sign-flip" && scheme !== "labels") throw new StatsError(`${name} requires scheme "sign-flip" or "labels" (got ${String(scheme)})`);
+  if (regions.length === 0) throw new StatsError(`${name} requires at least one region`);
+  if (!(Number.isInteger(N) && N >= (scheme === "labels" ? 2 : 1))) {
+    throw new StatsError(`${name} requires at least ${scheme === "labels" ? 2 : 1} units (got n = ${N})`);
+  }
+  if (!(Number.isInteger(resamples) && resamples >= 1)) throw new StatsError(`${name} requires resamples to be a positive integer (got ${resamples})`);
+  checkCovered(name, N, regions);
+  let walk: { readonly total: number; readonly exact: boolean; next(): void };
+  let arrange: (region: number) => { order: Int32Array; signs: Float64Array };
+  if (regions.every((r) => r.members.length === N)) {
+    const sizes = regions[0].groupSizes;
+    for (const r of regions) {
+      const g = r.groupSizes;
+      if (g?.[0] !== sizes?.[0] || g?.[1] !== sizes?.[1]) throw new StatsError(`${name} requires the same group sizes in every region`);
+    }
+    if (sizes && !(scheme === "labels" && Number.isInteger(sizes[0]) && Number.isInteger(sizes[1]) && sizes[0] >= 1 && sizes[1] >= 1 && sizes[0] + sizes[1] === N)) {
+      throw new StatsError(`${name} requires groupSizes to be two positive integers summing to n = ${N} (got ${sizes[0]}, ${sizes[1]})`);
+    }
+    const w = createRearranger({ kind: scheme === "sign-flip" ? "signs" : sizes ? "subsets" : "permutations", n: N, resamples, rng, firstGroupSize: sizes?.[0] });
+    walk = w;
+    arrange = () => ({ order: Int32Array.from(w.order), signs: Float64Array.from(w.signs) });
+  } else {
+    const w = createSharedRearranger({ kind: scheme === "sign-flip" ? "signs" : "permutations", n: N, resamples, rng });
+    const prepared = regions.map((r) => {
+      const m = r.members.length;
+      const slots = r.slots ?? Int32Array.from({ length: m }, (_, k) => k);
+      const slotOf = new Int32Array(m);
+      for (let k = 0; k < m; k++) slotOf[slots[k]] = k;
+      return { local: memberPositions(N, r.members), slots, slotOf, from: new Int32Array(m) };
+    });
+    walk = w;
+    arrange = (idx) => {
+      const { members } = regions[idx];
+      const { local, slots, slotOf, from } = prepared[idx];
+      const m = members.length;
+      const order = new Int32Array(m);
+      const signs = new Float64Array(m);
+      if (scheme === "sign-flip") {
+        regionSigns(w.signs, members, signs);
+        for (let k = 0; k < m; k++) order[k] = k;
+      } else {
+        signs.fill(1);
+        regionSources(w.sigma, local, from);
+        // Slot k (participant slots[k]) receives the value of participant from[slots[k]], which sits in slot slotOf[…].
+        for (let k = 0; k < m; k++) order[k] = slotOf[from[slots[k]]];
+      }
+      return { order, signs };
+    };
+  }
+  const total = walk.total;
+  const nullStatistics = regions.map(() => new Float64Array(total));
+  const report = progressReporter(name, total, input.onProgress, input.shouldCancel, 64);
+  for (let k = 0; k < total; k++) {
+    walk.next();
+    for (let r = 0; r < regions.length; r++) {
+      const { order, signs } = arrange(r);
+      const value = regions[r].statistic(order, signs);
+      if (typeof value !== "number" || Number.isNaN(value)) {
+        throw labelledError(regions[r].label, `${name} requires the statistic to return a number for every rearrangement (rearrangement ${k} gave ${String(value)})`);
+      }
+      if (k === 0 && !Number.isFinite(value)) throw labelledError(regions[r].label, `${name} requires a finite observed statistic (got ${value})`);
+      nullStatistics[r][k] = value;
+    }
+    report(k + 1);
+  }
+  const observed = Float64Array.from(nullStatistics, (v) => v[0]);
+  const p = new Float64Array(regions.length);
+  for (let r = 0; r < regions.length; r++) {
+    const threshold = extremeThreshold(observed[r]);
+    let count = 0;
+    for (let k = 0; k < total; k++) if (Math.abs(nullStatistics[r][k]) >= threshold) count++;
+    p[r] = count / total;
+  }
+  return { observed, p, nullStatistics, exact: walk.exact, rearrangements: total };
+}
+
+function labelledError(label: string | undefined, message: string): StatsError {
+  return new StatsError(label === undefined ? message : `region '${label}': ${message}`);
 }

@@ -193,6 +193,115 @@ function sortRange(a: Int32Array, from: number, to: number): void {
 }
 
 /**
+ * One rearrangement shared by regions that differ in participants (a brain
+ * table with empty cells, participants set aside in one region), so that
+ * the maximum statistic over regions is taken over the same rearrangement
+ * of the participants, as max-T requires (Westfall & Young 1993,
+ * Resampling-Based Multiple Testing, single-step max-T; Winkler et al.
+ * 2014, NeuroImage 92:381–397).
+ *
+ * The draw runs over the N shared participants (in the roster's order):
+ * - "signs": one vector of ±1 over all N; a region uses the signs of its
+ *   own participants (`regionSigns`).
+ * - "permutations": one σ = (σ₀, …, σ_{N−1}); without empty cells
+ *   participant i receives the residual of participant σᵢ. A region whose
+ *   participants are a₀ < … < a_{m−1} keeps from σ, in σ's order, only the
+ *   entries that are its own, c₀, …, c_{m−1}, and aₖ receives the residual
+ *   of cₖ (`regionSources`). A uniform σ induces a uniform rearrangement of
+ *   every region's own participants, and regions with the same
+ *   participants see the same rearrangement.
+ *
+ * Exact versus Monte Carlo follows the rule of `createRearranger` on all N
+ * (2^N sign vectors or N! orders). σ is the inverse of the walk's `order`:
+ * the least-squares kernel moves rows of the design by `order`, which is
+ * the same as giving participant i the residual of σᵢ, so a least-squares
+ * region that has every one of the N participants sees exactly the
+ * rearrangements it sees when fitted alone with the same kind of draw.
+ */
+export interface SharedRearranger {
+  readonly kind: "signs" | "permutations";
+  readonly exact: boolean;
+  /** Rearrangements the walk visits, the identity included. */
+  readonly total: number;
+  /** Number of shared participants N. */
+  readonly n: number;
+  /** "signs": the sign of every shared participant. */
+  readonly signs: Float64Array;
+  /** "permutations": σ, participant i receives the residual of participant sigma[i]. */
+  readonly sigma: Int32Array;
+  /** "permutations": σ⁻¹, the walk's order (participant order[j] receives the residual of j). */
+  readonly order: Int32Array;
+  index: number;
+  /** Advances to the next rearrangement (the first call gives the identity). */
+  next(): void;
+}
+
+/**
+ * Creates the shared walk over n participants. Cost O(n) per step.
+ * Throws StatsError for n < 1.
+ */
+export function createSharedRearranger(input: { kind: "signs" | "permutations"; n: number; resamples: number; rng: Rng }): SharedRearranger {
+  const walk = createRearranger(input);
+  const sigma = new Int32Array(input.n);
+  const shared: SharedRearranger = {
+    kind: input.kind,
+    exact: walk.exact,
+    total: walk.total,
+    n: input.n,
+    signs: walk.signs,
+    sigma,
+    order: walk.order,
+    index: -1,
+    next() {
+      walk.next();
+      shared.index = walk.index;
+      if (input.kind === "permutations") {
+        const order = walk.order;
+        for (let j = 0; j < order.length; j++) sigma[order[j]] = j;
+      }
+    },
+  };
+  for (let i = 0; i < input.n; i++) sigma[i] = i;
+  return shared;
+}
+
+/**
+ * Checks that `members` are increasing positions among n shared
+ * participants and returns each shared participant's position among the
+ * members (−1 for the others). Cost O(n). Throws StatsError otherwise.
+ */
+export function memberPositions(n: number, members: Int32Array): Int32Array {
+  const local = new Int32Array(n).fill(-1);
+  for (let k = 0; k < members.length; k++) {
+    const a = members[k];
+    if (!(Number.isInteger(a) && a >= 0 && a < n && (k === 0 || a > members[k - 1]))) {
+      throw new StatsError(`shared rearrangements require increasing participant positions between 0 and ${n - 1} (got ${a} at ${k})`);
+    }
+    local[a] = k;
+  }
+  return local;
+}
+
+/**
+ * A region's rearrangement under σ: `from[k]` is the region position of
+ * the participant whose residual the region's k-th participant receives
+ * (the entries of σ that belong to the region, in σ's order). `local` is
+ * the region's `memberPositions`. Cost O(N).
+ */
+export function regionSources(sigma: Int32Array, local: Int32Array, from: Int32Array): void {
+  let k = 0;
+  for (let t = 0; t < sigma.length; t++) {
+    const j = local[sigma[t]];
+    if (j >= 0) from[k++] = j;
+  }
+}
+
+/** A region's signs: the shared signs of its own participants. Cost O(m). */
+export function regionSigns(signs: Float64Array, members: Int32Array, out: Float64Array): void {
+  for (let k = 0; k < members.length; k++) out[k] = signs[members[k]];
+}
+
+/**
  * Checks the cancellation hook and reports progress at most about a hundred
  * times per run. Returns a function to call after each rearrangement.
  * Throws StatsError with code "cancelled" when `shouldCancel()` is true.

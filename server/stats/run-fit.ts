@@ -3,9 +3,10 @@
  * (FitData) into a FitResult, region by region.
  *
  * Pure and deterministic: randomness comes only from `createRng(spec.seed)`,
- * and every permutation or bootstrap call starts a fresh generator from that
- * seed, so each region sees the same rearrangements whatever other regions
- * are in the fit, and the same inputs give byte-identical JSON. Regions keep
+ * and every permutation or bootstrap pass starts a fresh generator from that
+ * seed; the permutation pass draws one rearrangement for all regions (a
+ * bootstrap resamples each region alone), and the same inputs give
+ * byte-identical JSON. Regions keep
  * the order of `spec.regions` (or of the brain table); participants keep the
  * order of the roster.
  *
@@ -38,7 +39,9 @@
  * which refuses covariates); "bootstrap" (participants resampled with
  * replacement; BCa interval, percentile for skipped and bend correlations).
  * Correction over regions: none, Bonferroni, Holm, Benjamini–Hochberg, or
- * max-T (permutation only, same participants in every region).
+ * max-T (permutation only). Regions may differ in participants: every
+ * region is fitted on its own, and permutation inference draws one
+ * rearrangement of all participants for all regions (see permutationPass).
  *
  * Diagnostics (fits other than reliability): for every participant of every
  * region, the least-squares diagnostics of the region's design (see
@@ -62,7 +65,7 @@ import { type Estimator, type Kind, type RegionData, bootstrapP, bootstrapStatis
 import { type IntraclassCorrelation, intraclassCorrelations } from "./icc";
 import { type QrDecomposition, qrDecompose, unscaledCovariance } from "./linear-model";
 import { weightedLinearModel } from "./meta-regression";
-import { genericPermutationTest, linearPermutationTest } from "./permutation";
+import { sharedGenericPermutationTest, sharedLinearPermutationTest } from "./permutation";
 import { extremeThreshold } from "./rearrangements";
 import { createRng } from "./rng";
 
@@ -723,16 +726,41 @@ function scaledProgress(options: RunFitOptions, start: number, span: number) {
   return (f: number) => options.onProgress?.(Math.min(1, start + span * Math.min(1, Math.max(0, f))));
 }
 
+/**
+ * Permutation inference over the fit's regions. Each region keeps its own
+ * participants; all regions share one rearrangement of the participants
+ * available in at least one region (N, roster order): one sign vector, or
+ * one order σ of which each region keeps its own participants in σ's order
+ * (rule and reasoning in rearrangements.ts). So max-T controls the
+ * family-wise error over all regions (Westfall & Young 1993; Winkler et
+ * al. 2014), and every region's own p follows the same draws.
+ *
+ * What holds for a region's numbers: given the seed they are deterministic;
+ * when every region has the same participants nothing depends on the other
+ * regions (the draw runs over exactly those participants, as when the
+ * region is fitted alone, two-group label assignments included); an exact
+ * p (all rearrangements enumerated) is the same whether the region is
+ * fitted alone or with others, provided both runs enumerate (with regions
+ * that differ, enumeration needs 2^N or N! ≤ resamples for all N); a Monte
+ * Carlo p in a fit whose regions differ in participants depends on N and on
+ * which participants are shared, so it is an equally valid draw but not the
+ * same number as when the region is fitted alone. Least squares: a region
+ * with all N participants sees, draw for draw, what it sees alone (sign
+ * flips, Freedman–Lane orders).
+ */
 function permutationPass(prep: Prepared, works: RegionWork[], options: RunFitOptions, notes: string[]): void {
   const s = prep.spec;
   const maxT = s.correction === "maxt";
-  if (maxT) {
-    const first = works[0].rows.join(",");
-    if (works.some((w) => w.rows.join(",") !== first)) fail("max-T correction requires the same participants in every region");
-  }
-  const total = works.length;
+  // The shared participants: available in at least one region, in roster order.
+  const position = new Int32Array(prep.data.participants.length).fill(-1);
+  for (const w of works) for (const i of w.rows) position[i] = 0;
+  let shared = 0;
+  for (let i = 0; i < position.length; i++) if (position[i] === 0) position[i] = shared++;
+  const membersOf = (rows: readonly number[]) => Int32Array.from(rows, (i) => position[i]);
+  const differ = works.some((w) => w.rows.length !== shared);
+  const progress = scaledProgress(options, 0.1, 0.9);
   if (s.estimator === "ols") {
-    // Group regions sharing participants: one kernel call per group, same rearrangements.
+    // Regions on the same participants form one block (one design, the kernel's batched product).
     const groups = new Map<string, RegionWork[]>();
     for (const w of works) {
       const key = w.rows.join(",");
@@ -740,32 +768,30 @@ function permutationPass(prep: Prepared, works: RegionWork[], options: RunFitOpt
       list.push(w);
       groups.set(key, list);
     }
-    let done = 0;
+    const lists = [...groups.values()];
     const scheme = s.kind === "one-sample" ? "sign-flip" : "freedman-lane";
-    for (const list of groups.values()) {
-      const d = list[0].data;
-      const res = inRegion(list[0].name, () =>
-        linearPermutationTest({
-          design: d.design.x,
-          n: d.design.n,
-          p: d.design.p,
-          tested: d.tested,
-          y: list.map((w) => w.data.y),
-          scheme,
-          resamples: s.resamples,
-          rng: createRng(s.seed),
-          maxT,
-          keepNull: true,
-          onProgress: scaledProgress(options, 0.1 + (0.9 * done) / total, (0.9 * list.length) / total),
-          shouldCancel: options.shouldCancel,
-        }),
-      );
-      list.forEach((w, k) => {
+    const res = sharedLinearPermutationTest({
+      participants: shared,
+      blocks: lists.map((list) => {
+        const d = list[0].data;
+        return { design: d.design.x, n: d.design.n, p: d.design.p, tested: d.tested, y: list.map((w) => w.data.y), members: membersOf(list[0].rows), label: list[0].name };
+      }),
+      scheme,
+      resamples: s.resamples,
+      rng: createRng(s.seed),
+      maxT,
+      keepNull: true,
+      onProgress: progress,
+      shouldCancel: options.shouldCancel,
+    });
+    let k = 0;
+    for (const list of lists) {
+      for (const w of list) {
         const nulls = res.nullStatistics?.[k] ?? new Float32Array(0);
         applyPermutation(w, res.p[k], res.observed[k], res.exact, res.rearrangements, nulls, scheme === "sign-flip" ? "sign flipping" : "Freedman–Lane");
         if (res.pMaxT) w.result.pAdjusted = res.pMaxT[k];
-      });
-      done += list.length;
+        k++;
+      }
     }
     notes.push(
       s.kind === "one-sample"
@@ -773,40 +799,50 @@ function permutationPass(prep: Prepared, works: RegionWork[], options: RunFitOpt
         : "p: Freedman–Lane permutation test of the t statistic (Freedman & Lane 1983).",
     );
   } else {
-    const nullsByRegion: Float64Array[] = [];
+    const plans = works.map((w) => permutationStatistic(w.data));
+    const res = sharedGenericPermutationTest({
+      participants: shared,
+      regions: works.map((w, idx) => ({
+        members: membersOf(w.rows),
+        statistic: plans[idx].statistic,
+        slots: plans[idx].slots,
+        groupSizes: plans[idx].groupSizes,
+        label: w.name,
+      })),
+      scheme: plans[0].scheme,
+      resamples: s.resamples,
+      rng: createRng(s.seed),
+      onProgress: progress,
+      shouldCancel: options.shouldCancel,
+    });
     works.forEach((w, idx) => {
-      const plan = permutationStatistic(w.data);
-      const res = inRegion(w.name, () =>
-        genericPermutationTest({
-          n: w.data.y.length,
-          scheme: plan.scheme,
-          statistic: plan.statistic,
-          resamples: s.resamples,
-          rng: createRng(s.seed),
-          groupSizes: plan.groupSizes,
-          onProgress: scaledProgress(options, 0.1 + (0.9 * idx) / total, 0.9 / total),
-          shouldCancel: options.shouldCancel,
-        }),
-      );
-      applyPermutation(w, res.p, res.observed, res.exact, res.rearrangements, res.nullStatistics, plan.name);
-      nullsByRegion.push(res.nullStatistics);
+      applyPermutation(w, res.p[idx], res.observed[idx], res.exact, res.rearrangements, res.nullStatistics[idx], plans[idx].name);
     });
     if (maxT) {
-      const m = nullsByRegion[0].length;
+      const m = res.rearrangements;
       const maxima = new Float64Array(m);
       for (let k = 0; k < m; k++) {
         let best = 0;
-        for (const nulls of nullsByRegion) best = Math.max(best, Math.abs(nulls[k]));
+        for (const nulls of res.nullStatistics) best = Math.max(best, Math.abs(nulls[k]));
         maxima[k] = best;
       }
       works.forEach((w, idx) => {
-        const threshold = extremeThreshold(nullsByRegion[idx][0]);
+        const threshold = extremeThreshold(res.observed[idx]);
         let count = 0;
         for (let k = 0; k < m; k++) if (maxima[k] >= threshold) count++;
         w.result.pAdjusted = count / m;
       });
     }
     notes.push("p: permutation test of the estimator's statistic (generic rearrangement test; the same rearrangements in every region).");
+  }
+  if (differ) {
+    notes.push(
+      `Regions differ in participants (empty cells or set-asides in one region): each region is fitted on its own participants, and all regions share one rearrangement of the ${shared} participants available in at least one region — ${
+        s.kind === "one-sample" ? "one sign vector, each region taking the signs of its own participants" : "one order, each region keeping its own participants in that order"
+      } — so the rearranged statistics of all regions come from the same draws (Westfall & Young 1993; Winkler et al. 2014). Rearrangements are enumerated exhaustively only when the ${shared} participants have at most ${s.resamples} of them (${
+        s.kind === "one-sample" ? `2^${shared} sign vectors` : `${shared}! orders`
+      }).`,
+    );
   }
 }
 

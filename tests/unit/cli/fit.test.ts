@@ -101,6 +101,11 @@ const cases: Record<string, () => string[]> = {
     }),
   ],
   oneSample: () => [recipe("one-sample.json", { brainTable: "data/brain.csv", kind: "one-sample", regions: ["L_insula"] })],
+  maxTEmptyCells: () => {
+    // sub-04 has no R_caudate value and sub-06 no L_insula value: the regions differ in participants.
+    file("data/empty-cells.csv", BRAIN.replace("sub-04,0.40,0.11,0.0", "sub-04,0.40,0.11,n/a").replace("sub-06,0.70,0.13,-0.1", "sub-06,n/a,n/a,-0.1"));
+    return [recipe("max-t-empty-cells.json", { brainTable: "data/empty-cells.csv", kind: "one-sample", inference: "permutation", resamples: 1000, correction: "maxt" })];
+  },
   association: () => [
     recipe("association.json", {
       brainTable: "data/brain.csv",
@@ -192,6 +197,23 @@ describe("recipe command: fits", () => {
       inputs: { brainTable: { file: "data/brain.csv", sha256: sha256(BRAIN) } },
     });
     expect(typeof out.recipe.softwareVersion).toBe("string");
+  });
+
+  it("max-T over a brain table with empty cells: one draw of the 7 participants for both regions", () => {
+    const r = results.get("maxTEmptyCells")!;
+    expect(r.code, r.stderr).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.regions.map((x: { region: string; n: number }) => [x.region, x.n])).toEqual([
+      ["L_insula", 6],
+      ["R_caudate", 6],
+    ]);
+    for (const region of out.regions) {
+      // All 2^7 = 128 sign vectors of the 7 participants are enumerated (common practice, no source).
+      expect(region.permutation).toMatchObject({ scheme: "sign flipping", exact: true, rearrangements: 128 });
+      expect(Number.isInteger(region.p * 128)).toBe(true);
+      expect(region.pAdjusted).toBeGreaterThanOrEqual(region.p);
+    }
+    expect(out.notes.some((n: string) => n.startsWith("Regions differ in participants"))).toBe(true);
   });
 
   it("association with a sheet: roster report, mapping applied, defaults filled in", () => {

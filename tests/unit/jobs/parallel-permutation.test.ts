@@ -1,7 +1,7 @@
 import { afterAll, describe, expect, it } from "vitest";
 import { createPermutationPool, splitRegions } from "../../../server/jobs/parallel-permutation";
 import { StatsError } from "../../../server/stats/errors";
-import { linearPermutationTest } from "../../../server/stats/permutation";
+import { linearPermutationTest, sharedLinearPermutationTest } from "../../../server/stats/permutation";
 import { createRng } from "../../../server/stats/rng";
 import { normal } from "../stats/resampling-reference";
 
@@ -60,6 +60,30 @@ describe("parallel linear permutation test", () => {
     }
     expect(error).toBeInstanceOf(StatsError);
     expect((error as StatsError).code).toBe("cancelled");
+  });
+
+  it("regions that differ in participants: exactly the single-thread shared test, blocks split across workers", async () => {
+    // Three blocks (every participant; without participant 2; without 4 and 7), seven regions in all.
+    const sets = [
+      Array.from({ length: n }, (_, i) => i),
+      Array.from({ length: n }, (_, i) => i).filter((i) => i !== 2),
+      Array.from({ length: n }, (_, i) => i).filter((i) => i !== 4 && i !== 7),
+    ];
+    const regionsOf = [[0, 1, 2], [3], [4, 5, 6]];
+    const blocks = sets.map((members, b) => ({
+      design: Float64Array.from(members.flatMap((i) => rows[i])),
+      n: members.length,
+      p,
+      tested: 3,
+      y: regionsOf[b].map((r) => Float64Array.from(members, (i) => y[r][i])),
+      members: Int32Array.from(members),
+    }));
+    const shared = { participants: n, blocks, scheme: "freedman-lane" as const, resamples: 300, maxT: true, keepNull: true };
+    const parallel = await pool.sharedLinearPermutationTest({ ...shared, seed: 23 });
+    const single = sharedLinearPermutationTest({ ...shared, rng: createRng(23) });
+    expect(Array.from(parallel.p)).toEqual(Array.from(single.p));
+    expect(Array.from(parallel.pMaxT ?? [])).toEqual(Array.from(single.pMaxT ?? []));
+    expect(parallel.nullStatistics?.map((a) => Array.from(a))).toEqual(single.nullStatistics?.map((a) => Array.from(a)));
   });
 
   it("validates on the main thread with the same messages", async () => {
