@@ -17,7 +17,7 @@ import type { ColumnProfile, ColumnType } from "./columns";
 import { findColumn, unknownColumnError } from "./columns";
 import { type IdentifierFlag, type IdentifierKind, findIdentifierColumns } from "./identifiers";
 import { type ParticipantSheet, analyseParticipantSheet } from "./participant-sheet";
-import { type Delimiter, type RawTable, delimiterName } from "./read-table";
+import { type Delimiter, type RawTable, type ReadOptions, delimiterName, readTable } from "./read-table";
 
 export type TableKind = "brain" | "participants";
 
@@ -175,6 +175,32 @@ export function previewTable(raw: RawTable, kind: TableKind, options: PreviewOpt
     problems: [...a.problems],
     problemCount: a.problemCount,
   };
+}
+
+/**
+ * Problems an upload's preview may carry, by kind: each is resolved by a
+ * decision at confirmation (a participant-sheet column with text cells is
+ * typed as a category or dropped). Any other problem refuses the upload.
+ */
+const PREVIEWABLE: Record<TableKind, ReadonlySet<string>> = {
+  brain: new Set(),
+  participants: new Set(["not_a_number"]),
+};
+
+/**
+ * Reads an uploaded file and previews it as `kind`, or throws IntakeError
+ * (400 unreadable, 413 too large, 422 a problem no decision at
+ * confirmation can resolve, every such problem listed).
+ */
+export function previewUpload(bytes: Uint8Array | string, file: string, kind: TableKind, options: PreviewOptions = {}, read: ReadOptions = {}): TablePreview {
+  const preview = previewTable(readTable(bytes, file, read), kind, options);
+  const previewable = PREVIEWABLE[kind];
+  const blocking = preview.problems.filter((p) => !previewable.has(p.code));
+  if (blocking.length > 0) {
+    const total = blocking.length === preview.problems.length ? preview.problemCount : blocking.length;
+    throw new IntakeError(422, blocking, total);
+  }
+  return preview;
 }
 
 /**

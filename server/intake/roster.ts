@@ -11,8 +11,9 @@
  * four or more characters are reported as near misses, and are matched only
  * through a mapping (brain id → sheet id) that a person confirmed.
  *
- * Cost: O(n) hashing for matches; near misses compare the unmatched ids
- * pairwise, O(unmatched brain × unmatched sheet × id length).
+ * Cost: O(n) hashing for matches; near misses hash each unmatched id with
+ * each of its characters deleted, O(unmatched ids × id length²), and
+ * compare only the pairs that share such a key.
  */
 import { ProblemList, problem } from "./errors";
 import { quoteCell } from "./cells";
@@ -180,7 +181,7 @@ export function findNearMisses(brainIds: readonly string[], sheetIds: readonly s
     }
     return m;
   };
-  const zerosKey = (id: string) => normaliseId(id).replace(/\d+/g, (d) => String(BigInt(d)));
+  const zerosKey = (id: string) => normaliseId(id).replace(/\d+/g, (d) => d.replace(/^0+(?=\d)/, ""));
   const sheetZeros = byKey(sheetIds, zerosKey);
   for (const b of brainIds) {
     for (const s of sheetZeros.get(zerosKey(b)) ?? []) add(b, s, "same number written with different leading zeros");
@@ -192,18 +193,38 @@ export function findNearMisses(brainIds: readonly string[], sheetIds: readonly s
     if (k === "") continue;
     for (const s of sheetPunct.get(k) ?? []) add(b, s, "differs only in punctuation or spaces");
   }
+  // One edit apart: two ids of four or more characters share a key of {id} ∪ {id with one character
+  // deleted} exactly when they may be one edit apart (replaced: both lose it; inserted or deleted: one
+  // is the other less one; swapped: each loses one of the pair), so only those pairs are compared.
   const sheetNorm = sheetIds.map((s) => normaliseId(s));
+  const byDeletion = new Map<string, number[]>();
+  sheetNorm.forEach((ns, j) => {
+    if (ns.length < 4) return;
+    for (const k of deletionKeys(ns)) {
+      const list = byDeletion.get(k);
+      if (list === undefined) byDeletion.set(k, [j]);
+      else if (list[list.length - 1] !== j) list.push(j);
+    }
+  });
   for (const b of brainIds) {
     const nb = normaliseId(b);
     if (nb.length < 4) continue;
-    sheetNorm.forEach((ns, j) => {
-      if (ns.length < 4 || Math.abs(ns.length - nb.length) > 1) return;
-      const kind = oneEditApart(nb, ns);
+    const candidates = new Set<number>();
+    for (const k of deletionKeys(nb)) for (const j of byDeletion.get(k) ?? []) candidates.add(j);
+    for (const j of [...candidates].sort((x, y) => x - y)) {
+      const kind = oneEditApart(nb, sheetNorm[j]);
       if (kind) add(b, sheetIds[j], kind);
-    });
+    }
     if (out.length >= MAX_NEAR_MISSES) break;
   }
   return out;
+}
+
+/** The text itself and the text with each one character deleted (distinct). */
+function deletionKeys(text: string): Set<string> {
+  const keys = new Set<string>([text]);
+  for (let i = 0; i < text.length; i++) keys.add(text.slice(0, i) + text.slice(i + 1));
+  return keys;
 }
 
 /**

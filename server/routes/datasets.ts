@@ -23,6 +23,7 @@ import { authorize, authorizedStudy, roleMay } from "../auth/permissions";
 import { signedInUser } from "../auth/session";
 import { HttpError } from "../http/errors";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
+import { sharedUploadStorage } from "../http/shared-upload-storage";
 import { DEFAULT_MAX_BYTES, IntakeError, problem } from "../intake";
 import { confirmUpload, getDataset, listDatasets, previewUpload } from "../services/datasets";
 import type { PreviewStore, UploadOptions } from "../services/preview-store";
@@ -74,7 +75,7 @@ function cleanFileName(name: string): string {
 /** multer with the intake's byte limit; its errors answer with the envelope (413 too large, 400 otherwise). */
 function receiveFile(): RequestHandler {
   const single = multer({
-    storage: multer.memoryStorage(),
+    storage: sharedUploadStorage(),
     limits: { fileSize: DEFAULT_MAX_BYTES, files: 1, fields: 10, fieldSize: 10_000, parts: 12 },
     // Browsers send file names as UTF-8 (multer's default reads them as Latin-1).
     defParamCharset: "utf8",
@@ -113,11 +114,11 @@ export function datasetRoutes(deps: RouteDeps, store: PreviewStore): Router {
       ...(body.layout !== undefined ? { layout: body.layout as "wide" | "long" } : {}),
       ...(body.sessionColumn !== undefined ? { sessionColumn: body.sessionColumn === "none" ? null : (body.sessionColumn as string) } : {}),
     };
-    const view = previewUpload(store, {
+    const view = await previewUpload(store, {
       studyId: study.id,
       kind: body.kind,
       fileName: cleanFileName(file.originalname),
-      bytes: new Uint8Array(file.buffer.buffer, file.buffer.byteOffset, file.buffer.byteLength),
+      bytes: file.bytes ?? new Uint8Array(0),
       options,
       uploader: { id: user.id, name: user.name, email: user.email },
       now: deps.clock(),

@@ -7,6 +7,9 @@
  *          roles that may not read participant-level rows get the counts only (lists and rows null)
  * POST /api/studies/:studyId/roster/mappings   { mappings: [{ brainId, sheetId }] } → 201 the new report
  * GET  /api/studies/:studyId/roster.csv        → the roster as CSV (formula-neutralised)
+ *
+ * The join runs in the intake worker thread, which answers with the JSON
+ * (or CSV) text sent here as it is.
  */
 import { Router } from "express";
 import { z } from "zod";
@@ -42,13 +45,13 @@ export function rosterRoutes(deps: RouteDeps): Router {
   router.get("/studies/:studyId/roster", authorize("data.read"), validate(read), async (_req, res) => {
     const { study, role } = authorizedStudy(res);
     const visible = roleMay("participants.read", role, { restricted: study.restricted });
-    res.json(await getRoster(deps.db, study.id, parsed(res, read).query, visible));
+    res.type("application/json").send(await getRoster(deps.db, study.id, parsed(res, read).query, visible));
   });
 
   router.post("/studies/:studyId/roster/mappings", authorize("data.upload"), validate(map), async (_req, res) => {
     const { study } = authorizedStudy(res);
     await confirmMappings(deps.db, study.id, signedInUser(res).id, parsed(res, map).body.mappings, deps.clock());
-    res.status(201).json(await getRoster(deps.db, study.id, { offset: 0, limit: 100, order: "asc" }, true));
+    res.status(201).type("application/json").send(await getRoster(deps.db, study.id, { offset: 0, limit: 100, order: "asc" }, true));
   });
 
   router.get("/studies/:studyId/roster.csv", authorize("participants.read"), validate(csv), async (_req, res) => {

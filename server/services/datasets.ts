@@ -2,46 +2,45 @@
  * Datasets: uploads, previews, confirmation into immutable versions, and
  * reading versions back.
  *
- * Flow: an upload is read and checked by the intake library and answered
- * with a preview (first rows, column types, problems, identifier columns);
- * the file waits in the PreviewStore. Confirmation applies the uploader's
- * decisions (type changes, dropped columns, reasons for keeping identifier
- * columns), then stores the version, its rows and the audit events in one
- * transaction: nothing is half-stored. A brain table with any problem is
- * refused at upload (422) — its values must all be numbers; a participant
- * sheet whose only problems are text cells in numeric-looking columns is
- * previewed, because typing those columns as categories resolves them.
+ * Flow: an upload is read and checked by the intake library in a worker
+ * thread (server/jobs/intake-jobs.ts) and answered with a preview (first
+ * rows, column types, problems, identifier columns); the file waits in the
+ * PreviewStore. Confirmation applies the uploader's decisions (type
+ * changes, dropped columns, reasons for keeping identifier columns) in a
+ * worker thread, which also builds the rows to store; the main thread then
+ * stores them (storeVersion). An upload whose problems no decision can
+ * resolve is refused at upload (422); see `previewUpload` in the intake.
+ *
+ * Storing never holds the database for long (it answers one query or
+ * transaction at a time, for every request): the version is written
+ * incomplete, its rows in bulk loads of about a thousand rows each with a
+ * turn of the event loop between them, and then, in one short transaction,
+ * the version is marked complete and its audit events recorded. Only
+ * complete versions are ever read, so a stop in the middle leaves nothing
+ * visible; what it left is deleted before the next version is stored.
  *
  * Versions are numbered 1, 2, … per study and kind; the newest is current.
- * Services receive the database, the store and the time as parameters.
+ * Services receive the database, the store, the intake pool and the time
+ * as parameters.
  */
 import { randomUUID } from "node:crypto";
-import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
+import type { PGlite } from "@electric-sql/pglite";
+import { and, asc, desc, eq, getTableName, gte, inArray, lt, sql } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
 import {
   datasetRows,
   datasetVersions,
   users,
   type DatasetKind,
+  type DatasetRow,
   type DatasetVersion,
   type IdentifierDecisionRecord,
   type StoredColumn,
 } from "../../db/schema";
-import {
-  type BrainTable,
-  type Confirmation,
-  IntakeError,
-  type ParticipantSheet,
-  type RawTable,
-  type SheetColumn,
-  type TablePreview,
-  confirmTable,
-  parseNumberCell,
-  previewTable,
-  readTable,
-  sha256Hex,
-} from "../intake";
+import type { BrainTable, Confirmation, ParticipantSheet, SheetColumn, TablePreview } from "../intake";
 import { conflict, gone, notFound } from "../http/errors";
+import { type IntakeJobs, intakeJobs } from "../jobs/intake-jobs";
+import { type EncodedVersion, STORED_ROW_COLUMNS, decodeNumbers } from "../jobs/intake-rows";
 import { recordEvent } from "./audit";
 import type { PreviewStore, StoredPreview, UploadOptions } from "./preview-store";
 
@@ -106,34 +105,27 @@ export interface UploadInput {
   studyId: string;
   kind: DatasetKind;
   fileName: string;
+  /** The file's bytes, best a view of shared memory (handed to the worker thread without a copy). */
   bytes: Uint8Array;
   options: UploadOptions;
   uploader: PersonRef;
   now: Date;
 }
 
-/** Codes a participant-sheet preview may carry (resolved by typing the column as a category). */
-const PREVIEWABLE = new Set(["not_a_number"]);
-
 /**
- * Reads and checks an upload and keeps it as a preview. Throws IntakeError
- * (400 unreadable, 413 too large, 422 content refused) — nothing is kept then.
+ * Reads and checks an upload in a worker thread and keeps it as a preview.
+ * Throws IntakeError (400 unreadable, 413 too large, 422 content refused)
+ * — nothing is kept then.
  */
-export function previewUpload(store: PreviewStore, input: UploadInput): PreviewView {
-  const raw = readTable(input.bytes, input.fileName);
-  const preview = previewTable(raw, input.kind, input.options);
-  const blocking = input.kind === "brain" ? preview.problems : preview.problems.filter((p) => !PREVIEWABLE.has(p.code));
-  if (blocking.length > 0) {
-    const total = input.kind === "brain" ? preview.problemCount : blocking.length;
-    throw new IntakeError(422, blocking, total);
-  }
+export async function previewUpload(store: PreviewStore, input: UploadInput, jobs: IntakeJobs = intakeJobs()): Promise<PreviewView> {
+  const { preview, sha256 } = await jobs.preview({ bytes: input.bytes, fileName: input.fileName, kind: input.kind, options: input.options });
   const stored: StoredPreview = {
     id: randomUUID(),
     studyId: input.studyId,
     kind: input.kind,
     fileName: input.fileName,
     bytes: input.bytes,
-    sha256: sha256Hex(input.bytes),
+    sha256,
     uploadedBy: input.uploader.id,
     uploadedAt: input.now,
     expiresAt: new Date(input.now.getTime() + store.ttlMs),
@@ -172,36 +164,46 @@ export interface ConfirmInput {
 
 /**
  * Confirms a preview into a stored version. Throws 404 (no such upload in
- * this study), 409 (already confirmed), 410 (the preview expired), and
- * IntakeError 422 (an identifier column left undecided, a named column
- * that does not exist, a cell that does not fit the chosen type).
+ * this study), 409 (already confirmed, or being stored), 410 (the preview
+ * expired), and IntakeError 422 (an identifier column left undecided, a
+ * named column that does not exist, a cell that does not fit the chosen
+ * type).
  */
-export async function confirmUpload(db: Database, store: PreviewStore, input: ConfirmInput): Promise<DatasetView> {
+export async function confirmUpload(db: Database, store: PreviewStore, input: ConfirmInput, jobs: IntakeJobs = intakeJobs()): Promise<DatasetView> {
   const found = store.get(input.datasetId, input.now);
   if (found === "expired") throw gone("This upload's preview expired before it was confirmed; upload the file again.");
   if (found === undefined || found.studyId !== input.studyId) {
     const [stored] = await db
-      .select({ version: datasetVersions.version, studyId: datasetVersions.studyId })
+      .select({ version: datasetVersions.version, studyId: datasetVersions.studyId, complete: datasetVersions.complete })
       .from(datasetVersions)
       .where(eq(datasetVersions.id, input.datasetId));
-    if (stored && stored.studyId === input.studyId) throw conflict(`This upload is already confirmed as version ${stored.version}.`);
+    if (stored && stored.studyId === input.studyId && stored.complete) throw conflict(`This upload is already confirmed as version ${stored.version}.`);
     throw notFound("Upload not found.");
   }
-  const options: Confirmation = { ...found.options, ...withoutUndefined(input.confirmation) };
-  const view = await storeVersion(db, {
-    id: found.id,
-    studyId: found.studyId,
-    kind: found.kind,
-    fileName: found.fileName,
-    bytes: found.bytes,
-    confirmation: options,
-    uploadedBy: found.uploadedBy,
-    uploadedAt: found.uploadedAt,
-    confirmedBy: input.actor.id,
-    now: input.now,
-  });
-  store.remove(found.id);
-  return view;
+  if (!store.claim(found.id)) throw conflict("This upload is being stored; wait until its version is shown.");
+  try {
+    const options: Confirmation = { ...found.options, ...withoutUndefined(input.confirmation) };
+    const view = await storeVersion(
+      db,
+      {
+        id: found.id,
+        studyId: found.studyId,
+        kind: found.kind,
+        fileName: found.fileName,
+        bytes: found.bytes,
+        confirmation: options,
+        uploadedBy: found.uploadedBy,
+        uploadedAt: found.uploadedAt,
+        confirmedBy: input.actor.id,
+        now: input.now,
+      },
+      jobs,
+    );
+    store.remove(found.id);
+    return view;
+  } finally {
+    store.release(found.id);
+  }
 }
 
 function withoutUndefined<T extends object>(o: T): Partial<T> {
@@ -221,229 +223,155 @@ export interface StoreVersionInput {
   now: Date;
 }
 
-/** Rows inserted per statement (the embedded database prefers batches). */
-const ROW_BATCH = 500;
+/** Rows deleted per statement when an incomplete version is removed. */
+const DELETE_BATCH = 5000;
+
+/** Versions this process is storing right now, per database (an incomplete version not listed was left by a stop). */
+const storing = new WeakMap<Database, Set<string>>();
+
+const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
 
 /**
- * Reads, types and stores one version with its rows and audit events, in
- * one transaction. Used by confirmation and by the demo seed (the same
- * path for both). Throws IntakeError as confirmTable does.
+ * Reads, types and stores one version with its rows and audit events (see
+ * the module note: written incomplete, rows in bulk loads yielding to the
+ * event loop between them, then marked complete with its audit events in
+ * one short transaction). Used by confirmation and by the demo seed (the
+ * same path for both). Throws IntakeError as confirmTable does.
  */
-export async function storeVersion(db: Database, input: StoreVersionInput): Promise<DatasetView> {
-  const raw = readTable(input.bytes, input.fileName);
-  const confirmed = confirmTable(raw, input.kind, input.confirmation);
-  const encoded = confirmed.kind === "brain" ? encodeBrain(confirmed.brain, raw) : encodeSheet(confirmed.sheet);
-  const decisions: IdentifierDecisionRecord[] = confirmed.identifierDecisions.map((d) => ({ ...d }));
-  const sha256 = sha256Hex(input.bytes);
-  await db.transaction(async (tx) => {
-    const [last] = await tx
-      .select({ n: sql<number>`coalesce(max(${datasetVersions.version}), 0)` })
-      .from(datasetVersions)
-      .where(and(eq(datasetVersions.studyId, input.studyId), eq(datasetVersions.kind, input.kind)));
-    const version = Number(last?.n ?? 0) + 1;
-    await tx.insert(datasetVersions).values({
-      id: input.id,
-      studyId: input.studyId,
-      kind: input.kind,
-      version,
-      fileName: input.fileName,
-      sha256,
-      byteSize: input.bytes.byteLength,
-      delimiter: raw.delimiter,
-      layout: encoded.layout,
-      idColumn: encoded.idColumn,
-      sessionColumn: encoded.sessionColumn,
-      seSuffix: encoded.seSuffix,
-      columns: encoded.columns,
-      droppedColumns: encoded.dropped,
-      identifierDecisions: decisions,
-      rowCount: encoded.rows.length,
-      participantCount: encoded.participantCount,
-      uploadedBy: input.uploadedBy,
-      uploadedAt: input.uploadedAt,
-      confirmedBy: input.confirmedBy,
-      confirmedAt: input.now,
-      complete: true,
-    });
-    for (let i = 0; i < encoded.rows.length; i += ROW_BATCH) {
-      await tx.insert(datasetRows).values(encoded.rows.slice(i, i + ROW_BATCH).map((r) => ({ ...r, datasetId: input.id })));
-    }
-    await recordEvent(tx, {
-      studyId: input.studyId,
-      actorId: input.confirmedBy,
-      kind: "dataset.confirmed",
-      targetType: "dataset",
-      targetId: input.id,
-      after: {
+export async function storeVersion(db: Database, input: StoreVersionInput, jobs: IntakeJobs = intakeJobs()): Promise<DatasetView> {
+  const { encoded, sha256 } = await jobs.encode({
+    bytes: input.bytes,
+    fileName: input.fileName,
+    kind: input.kind,
+    confirmation: input.confirmation,
+    datasetId: input.id,
+  });
+  let mine = storing.get(db);
+  if (!mine) {
+    mine = new Set();
+    storing.set(db, mine);
+  }
+  mine.add(input.id);
+  try {
+    await removeIncompleteVersions(db);
+    const version = await db.transaction(async (tx) => {
+      const [last] = await tx
+        .select({ n: sql<number>`coalesce(max(${datasetVersions.version}), 0)` })
+        .from(datasetVersions)
+        .where(and(eq(datasetVersions.studyId, input.studyId), eq(datasetVersions.kind, input.kind)));
+      const next = Number(last?.n ?? 0) + 1;
+      await tx.insert(datasetVersions).values({
+        id: input.id,
+        studyId: input.studyId,
         kind: input.kind,
-        version,
+        version: next,
         fileName: input.fileName,
         sha256,
         byteSize: input.bytes.byteLength,
-        rows: encoded.rows.length,
-        participants: encoded.participantCount,
-        columns: encoded.columns.map((c) => ({ name: c.name, type: c.type, role: c.role })),
+        delimiter: encoded.delimiter,
+        layout: encoded.layout,
+        idColumn: encoded.idColumn,
+        sessionColumn: encoded.sessionColumn,
+        seSuffix: encoded.seSuffix,
+        columns: encoded.columns,
         droppedColumns: encoded.dropped,
+        identifierDecisions: encoded.decisions,
+        rowCount: encoded.rowCount,
+        participantCount: encoded.participantCount,
+        uploadedBy: input.uploadedBy,
         uploadedAt: input.uploadedAt,
-      },
-      at: input.now,
-    });
-    for (const d of decisions) {
-      await recordEvent(tx, {
-        studyId: input.studyId,
-        actorId: input.confirmedBy,
-        kind: "dataset.identifier_confirmed",
-        targetType: "dataset",
-        targetId: input.id,
-        after: d,
-        at: input.now,
+        confirmedBy: input.confirmedBy,
+        confirmedAt: input.now,
+        complete: false,
       });
+      return next;
+    });
+    try {
+      await loadRows(db, encoded);
+      await db.transaction(async (tx) => {
+        await tx.update(datasetVersions).set({ complete: true }).where(eq(datasetVersions.id, input.id));
+        await recordEvent(tx, {
+          studyId: input.studyId,
+          actorId: input.confirmedBy,
+          kind: "dataset.confirmed",
+          targetType: "dataset",
+          targetId: input.id,
+          after: {
+            kind: input.kind,
+            version,
+            fileName: input.fileName,
+            sha256,
+            byteSize: input.bytes.byteLength,
+            rows: encoded.rowCount,
+            participants: encoded.participantCount,
+            columns: encoded.columns.map((c) => ({ name: c.name, type: c.type, role: c.role })),
+            droppedColumns: encoded.dropped,
+            uploadedAt: input.uploadedAt,
+          },
+          at: input.now,
+        });
+        for (const d of encoded.decisions) {
+          await recordEvent(tx, {
+            studyId: input.studyId,
+            actorId: input.confirmedBy,
+            kind: "dataset.identifier_confirmed",
+            targetType: "dataset",
+            targetId: input.id,
+            after: d,
+            at: input.now,
+          });
+        }
+      });
+    } catch (error) {
+      await removeVersion(db, input.id, encoded.rowCount).catch(() => {});
+      throw error;
     }
-  });
+  } finally {
+    mine.delete(input.id);
+  }
   const view = await findVersion(db, input.studyId, input.id);
   if (!view) throw new Error("storeVersion: the stored version cannot be read back");
   return view;
 }
 
-interface EncodedRow {
-  position: number;
-  sourceRow: number;
-  participantId: string;
-  session: string | null;
-  numbers: string;
-  categories: (string | null)[];
-}
+const COPY_ROWS = `COPY ${getTableName(datasetRows)} (${STORED_ROW_COLUMNS.join(", ")}) FROM '/dev/blob' WITH (FORMAT csv)`;
 
-interface Encoded {
-  layout: string | null;
-  idColumn: string;
-  sessionColumn: string | null;
-  seSuffix: string | null;
-  columns: StoredColumn[];
-  dropped: string[];
-  rows: EncodedRow[];
-  participantCount: number;
-}
-
-/** Numbers as shortest round-trip decimals separated by commas; empty = missing. */
-export function encodeNumbers(values: readonly number[]): string {
-  let out = "";
-  for (let k = 0; k < values.length; k++) {
-    if (k > 0) out += ",";
-    const x = values[k];
-    if (Number.isFinite(x)) out += String(x);
+/** Bulk-loads the encoded rows chunk by chunk, with a turn of the event loop after each, so requests are served in between. */
+async function loadRows(db: Database, encoded: EncodedVersion): Promise<void> {
+  // The bulk load is PGlite's own (COPY from a blob); the ORM has no form of it.
+  const pg = (db as Database & { $client: PGlite }).$client;
+  let from = 0;
+  for (const end of encoded.chunkEnds) {
+    await pg.query(COPY_ROWS, [], { blob: new Blob([encoded.csv.subarray(from, end)]) });
+    from = end;
+    await nextTurn();
   }
-  return out;
 }
 
-/** The inverse of encodeNumbers for `count` numbers (NaN where missing). */
-export function decodeNumbers(text: string, count: number): Float64Array {
-  const out = new Float64Array(count).fill(Number.NaN);
-  if (count === 0) return out;
-  const parts = text.split(",");
-  for (let k = 0; k < count && k < parts.length; k++) {
-    const x = parseNumberCell(parts[k]);
-    if (typeof x === "number") out[k] = x;
+/** Deletes an incomplete version and its rows (the trigger refuses this for complete versions), rows in batches. */
+async function removeVersion(db: Database, id: string, rowCount: number): Promise<void> {
+  for (let from = 0; from < rowCount; from += DELETE_BATCH) {
+    await db.delete(datasetRows).where(and(eq(datasetRows.datasetId, id), gte(datasetRows.position, from), lt(datasetRows.position, from + DELETE_BATCH)));
+    await nextTurn();
   }
-  return out;
+  await db.delete(datasetRows).where(eq(datasetRows.datasetId, id));
+  await db.delete(datasetVersions).where(and(eq(datasetVersions.id, id), eq(datasetVersions.complete, false)));
 }
 
-/**
- * A wide table's row as stored numbers, straight from the uploaded cells
- * (already checked to be numbers or missing markers): the exact text
- * written, trimmed, with missing markers as empty. Equal, once read, to
- * encodeNumbers of the typed values, and cheaper than printing them again.
- */
-function rawNumbers(row: readonly string[], columns: readonly number[]): string {
-  let out = "";
-  for (let k = 0; k < columns.length; k++) {
-    if (k > 0) out += ",";
-    const cell = row[columns[k]];
-    const x = parseNumberCell(cell);
-    if (typeof x === "number") out += cell.length > 0 && cell.charCodeAt(0) > 32 && cell.charCodeAt(cell.length - 1) > 32 ? cell : cell.trim();
+/** Deletes the incomplete versions a stop in the middle of storing left behind (never one this process is storing). */
+export async function removeIncompleteVersions(db: Database): Promise<number> {
+  const mine = storing.get(db) ?? new Set<string>();
+  const left = await db
+    .select({ id: datasetVersions.id, rowCount: datasetVersions.rowCount })
+    .from(datasetVersions)
+    .where(eq(datasetVersions.complete, false));
+  let removed = 0;
+  for (const v of left) {
+    if (mine.has(v.id)) continue;
+    await removeVersion(db, v.id, v.rowCount);
+    removed += 1;
   }
-  return out;
-}
-
-function encodeBrain(b: BrainTable, raw: RawTable): Encoded {
-  const columns: StoredColumn[] = [{ name: b.idColumn, type: "id", role: "id" }];
-  if (b.sessionColumn !== null) columns.push({ name: b.sessionColumn, type: "category", role: "session" });
-  let slot = 0;
-  const valueSlots: number[] = [];
-  const seSlots: (number | null)[] = [];
-  b.regions.forEach((region, r) => {
-    valueSlots.push(slot);
-    columns.push({ name: region, type: "number", role: "region", region, slot: slot++ });
-    if (b.standardErrors[r] !== null) {
-      const seName = b.layout === "wide" ? `${region}${b.seSuffix}` : `${region}_se`;
-      columns.push({ name: seName, type: "number", role: "se", region, slot });
-      seSlots.push(slot++);
-    } else seSlots.push(null);
-  });
-  // Wide layout: each entry is one uploaded row, and each slot one uploaded column.
-  const rawIndex = new Map(b.columns.map((c) => [c.name, c.profile.index]));
-  const slotColumns = columns.filter((c) => c.type === "number").map((c) => rawIndex.get(c.name) ?? -1);
-  const fromRaw = b.layout === "wide" && b.entries.length === raw.rows.length && slotColumns.every((j) => j >= 0);
-  const buffer = new Array<number>(slot);
-  const rows = b.entries.map((e, k): EncodedRow => {
-    let numbers: string;
-    if (fromRaw) numbers = rawNumbers(raw.rows[k], slotColumns);
-    else {
-      for (let r = 0; r < b.regions.length; r++) {
-        buffer[valueSlots[r]] = b.values[r][k];
-        const s = seSlots[r];
-        if (s !== null) buffer[s] = (b.standardErrors[r] as Float64Array)[k];
-      }
-      numbers = encodeNumbers(buffer);
-    }
-    return { position: k, sourceRow: e.row, participantId: e.id, session: e.session, numbers, categories: [] };
-  });
-  const dropped = b.columns.filter((c) => c.role === "dropped").map((c) => c.name);
-  return {
-    layout: b.layout,
-    idColumn: b.idColumn,
-    sessionColumn: b.sessionColumn,
-    seSuffix: b.layout === "wide" ? b.seSuffix : null,
-    columns,
-    dropped,
-    rows,
-    participantCount: new Set(b.entries.map((e) => e.id)).size,
-  };
-}
-
-function encodeSheet(s: ParticipantSheet): Encoded {
-  const columns: StoredColumn[] = [{ name: s.idColumn, type: "id", role: "id" }];
-  let numberSlot = 0;
-  let categorySlot = 0;
-  for (const c of s.columns) {
-    columns.push({ name: c.name, type: c.type, role: "variable", slot: c.type === "number" ? numberSlot++ : categorySlot++ });
-  }
-  const numberColumns = s.columns.filter((c): c is Extract<SheetColumn, { type: "number" }> => c.type === "number");
-  const categoryColumns = s.columns.filter((c): c is Extract<SheetColumn, { type: "category" }> => c.type === "category");
-  const buffer = new Array<number>(numberColumns.length);
-  const rows = s.ids.map((id, k): EncodedRow => {
-    numberColumns.forEach((c, j) => {
-      buffer[j] = c.values[k] ?? Number.NaN;
-    });
-    return {
-      position: k,
-      sourceRow: s.rows[k],
-      participantId: id,
-      session: null,
-      numbers: encodeNumbers(buffer),
-      categories: categoryColumns.map((c) => c.values[k]),
-    };
-  });
-  return {
-    layout: null,
-    idColumn: s.idColumn,
-    sessionColumn: null,
-    seSuffix: null,
-    columns,
-    dropped: [...s.dropped],
-    rows,
-    participantCount: s.ids.length,
-  };
+  return removed;
 }
 
 // ─── Reading versions ───
@@ -459,7 +387,7 @@ async function currentIds(db: Queryable, studyId: string): Promise<Set<string>> 
   const rows = await db
     .selectDistinctOn([datasetVersions.kind], { id: datasetVersions.id })
     .from(datasetVersions)
-    .where(eq(datasetVersions.studyId, studyId))
+    .where(and(eq(datasetVersions.studyId, studyId), eq(datasetVersions.complete, true)))
     .orderBy(datasetVersions.kind, desc(datasetVersions.version));
   return new Set(rows.map((r) => r.id));
 }
@@ -498,7 +426,7 @@ async function findVersion(db: Queryable, studyId: string, id: string): Promise<
   const [v] = await db
     .select()
     .from(datasetVersions)
-    .where(and(eq(datasetVersions.id, id), eq(datasetVersions.studyId, studyId)));
+    .where(and(eq(datasetVersions.id, id), eq(datasetVersions.studyId, studyId), eq(datasetVersions.complete, true)));
   if (!v) return null;
   const [current, who] = await Promise.all([currentIds(db, studyId), people(db, [v.uploadedBy, v.confirmedBy])]);
   return versionView(v, current.has(v.id), who);
@@ -514,7 +442,7 @@ export async function listDatasets(
   const versions = await db
     .select()
     .from(datasetVersions)
-    .where(eq(datasetVersions.studyId, studyId))
+    .where(and(eq(datasetVersions.studyId, studyId), eq(datasetVersions.complete, true)))
     .orderBy(desc(datasetVersions.confirmedAt), desc(datasetVersions.version));
   const previews = store.forStudy(studyId, now).reverse();
   const who = await people(db, [...versions.flatMap((v) => [v.uploadedBy, v.confirmedBy]), ...previews.map((p) => p.uploadedBy)]);
@@ -559,13 +487,12 @@ export async function getDataset(
 }
 
 async function rowsPage(db: Queryable, v: DatasetView, q: RowsQuery): Promise<RowsPage> {
+  // Positions run 0, 1, … without gaps: a range reads one page without walking the rows before it.
   const rows = await db
     .select()
     .from(datasetRows)
-    .where(eq(datasetRows.datasetId, v.id))
-    .orderBy(asc(datasetRows.position))
-    .offset(q.offset)
-    .limit(q.limit);
+    .where(and(eq(datasetRows.datasetId, v.id), gte(datasetRows.position, q.offset), lt(datasetRows.position, q.offset + q.limit)))
+    .orderBy(asc(datasetRows.position));
   const numberCount = v.columns.filter((c) => c.type === "number").length;
   return {
     total: v.rowCount,
@@ -603,21 +530,45 @@ export async function currentVersions(
   };
 }
 
+/** Rows read per query when a whole version is read. */
+const READ_PAGE = 5000;
+
+/**
+ * Calls `each` with the rows of a version page by page, in order, with a
+ * turn of the event loop between pages (a version can hold hundreds of
+ * thousands of rows; one query for all would hold the database meanwhile).
+ */
+export async function forEachRowPage(db: Queryable, v: DatasetVersion, each: (rows: readonly DatasetRow[], first: number) => void): Promise<void> {
+  for (let first = 0; first < v.rowCount; first += READ_PAGE) {
+    const rows = await db
+      .select()
+      .from(datasetRows)
+      .where(and(eq(datasetRows.datasetId, v.id), gte(datasetRows.position, first), lt(datasetRows.position, first + READ_PAGE)))
+      .orderBy(asc(datasetRows.position));
+    each(rows, first);
+    if (first + READ_PAGE < v.rowCount) await nextTurn();
+  }
+}
+
 /** A stored brain-table version as the intake's BrainTable (the form fits run on). */
 export async function loadBrainTable(db: Queryable, v: DatasetVersion): Promise<BrainTable> {
-  const rows = await db.select().from(datasetRows).where(eq(datasetRows.datasetId, v.id)).orderBy(asc(datasetRows.position));
   const regionColumns = v.columns.filter((c) => c.role === "region");
   const numberCount = v.columns.filter((c) => c.type === "number").length;
-  const n = rows.length;
+  const n = v.rowCount;
   const values = regionColumns.map(() => new Float64Array(n));
   const standardErrors = regionColumns.map((rc) => (v.columns.some((c) => c.role === "se" && c.region === rc.region) ? new Float64Array(n) : null));
   const seSlot = regionColumns.map((rc) => v.columns.find((c) => c.role === "se" && c.region === rc.region)?.slot ?? -1);
-  rows.forEach((row, k) => {
-    const numbers = decodeNumbers(row.numbers, numberCount);
-    regionColumns.forEach((rc, r) => {
-      values[r][k] = numbers[rc.slot as number];
-      const se = standardErrors[r];
-      if (se !== null) se[k] = numbers[seSlot[r]];
+  const entries: BrainTable["entries"][number][] = [];
+  await forEachRowPage(db, v, (rows, first) => {
+    rows.forEach((row, j) => {
+      const k = first + j;
+      const numbers = decodeNumbers(row.numbers, numberCount);
+      regionColumns.forEach((rc, r) => {
+        values[r][k] = numbers[rc.slot as number];
+        const se = standardErrors[r];
+        if (se !== null) se[k] = numbers[seSlot[r]];
+      });
+      entries.push({ id: row.participantId, session: row.session, row: row.sourceRow });
     });
   });
   return {
@@ -628,7 +579,7 @@ export async function loadBrainTable(db: Queryable, v: DatasetVersion): Promise<
     sessionColumn: v.sessionColumn,
     seSuffix: v.seSuffix ?? "_se",
     regions: regionColumns.map((c) => c.region ?? c.name),
-    entries: rows.map((r) => ({ id: r.participantId, session: r.session, row: r.sourceRow })),
+    entries,
     values,
     standardErrors,
     columns: [],
@@ -637,22 +588,36 @@ export async function loadBrainTable(db: Queryable, v: DatasetVersion): Promise<
 
 /** A stored participant-sheet version as the intake's ParticipantSheet. */
 export async function loadParticipantSheet(db: Queryable, v: DatasetVersion): Promise<ParticipantSheet> {
-  const rows = await db.select().from(datasetRows).where(eq(datasetRows.datasetId, v.id)).orderBy(asc(datasetRows.position));
   const numberCount = v.columns.filter((c) => c.type === "number").length;
-  const decoded = rows.map((r) => decodeNumbers(r.numbers, numberCount));
-  const columns: SheetColumn[] = v.columns
-    .filter((c) => c.role === "variable")
-    .map((c) =>
+  const variables = v.columns.filter((c) => c.role === "variable");
+  const values: (number | string | null)[][] = variables.map(() => []);
+  const ids: string[] = [];
+  const sourceRows: number[] = [];
+  await forEachRowPage(db, v, (rows) => {
+    for (const r of rows) {
+      const numbers = decodeNumbers(r.numbers, numberCount);
+      variables.forEach((c, j) => {
+        if (c.type === "number") {
+          const x = numbers[c.slot as number];
+          values[j].push(Number.isNaN(x) ? null : x);
+        } else values[j].push(r.categories[c.slot as number] ?? null);
+      });
+      ids.push(r.participantId);
+      sourceRows.push(r.sourceRow);
+    }
+  });
+  const columns = variables.map(
+    (c, j): SheetColumn =>
       c.type === "number"
-        ? { name: c.name, type: "number" as const, values: decoded.map((d) => (Number.isNaN(d[c.slot as number]) ? null : d[c.slot as number])) }
-        : { name: c.name, type: "category" as const, values: rows.map((r) => r.categories[c.slot as number] ?? null) },
-    );
+        ? { name: c.name, type: "number", values: values[j] as (number | null)[] }
+        : { name: c.name, type: "category", values: values[j] as (string | null)[] },
+  );
   return {
     file: v.fileName,
     idColumn: v.idColumn,
     idColumnGuessed: false,
-    ids: rows.map((r) => r.participantId),
-    rows: rows.map((r) => r.sourceRow),
+    ids,
+    rows: sourceRows,
     columns,
     dropped: v.droppedColumns,
   };

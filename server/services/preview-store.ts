@@ -49,6 +49,7 @@ export class PreviewStore {
   readonly maxBytes: number;
   private readonly live = new Map<string, StoredPreview>();
   private readonly gone = new Map<string, number>();
+  private readonly confirming = new Set<string>();
   private bytes = 0;
 
   constructor(options: PreviewStoreOptions = {}) {
@@ -81,6 +82,18 @@ export class PreviewStore {
     if (!p) return;
     this.live.delete(id);
     this.bytes -= p.bytes.byteLength;
+  }
+
+  /** Marks a preview as being confirmed; false when it already is (a second confirm must wait for the first). */
+  claim(id: string): boolean {
+    if (this.confirming.has(id)) return false;
+    this.confirming.add(id);
+    return true;
+  }
+
+  /** Ends what `claim` started (the confirmation succeeded or failed). */
+  release(id: string): void {
+    this.confirming.delete(id);
   }
 
   /** Live previews of one study, oldest first. */

@@ -4,291 +4,116 @@
  * person confirmed; the join report, the roster rows (paged, sorted,
  * filtered, searched), confirming mappings and the CSV export.
  *
+ * The main thread reads what the join needs from the database (page by
+ * page, a turn of the event loop between pages) and keeps it as JSON text
+ * per version (versions never change); the join and everything computed
+ * from it run in the intake worker thread (server/jobs/intake-roster.ts),
+ * which answers with the response's text.
+ *
  * A mapping can only join two ids that the rule left unmatched; it applies
  * to every later version that still holds both ids. Confirming mappings is
  * audited in the same transaction.
  */
-import { asc, eq } from "drizzle-orm";
+import { and, asc, eq, gte, lt } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
-import { datasetRows, rosterMappings, type DatasetVersion, type RosterMapping } from "../../db/schema";
-import {
-  type NearMiss,
-  type ParticipantSheet,
-  type Roster,
-  type RosterDuplicate,
-  joinRoster,
-  naturalCompare,
-  toCsv,
-} from "../intake";
+import { datasetRows, rosterMappings, type DatasetVersion } from "../../db/schema";
+import { naturalCompare } from "../intake";
 import { conflict, HttpError } from "../http/errors";
+import { type IntakeJobs, intakeJobs } from "../jobs/intake-jobs";
+import type { BrainParticipants, MappingFacts, RosterInput, RosterQuery, VersionRef } from "../jobs/intake-roster";
 import { recordEvent } from "./audit";
 import { currentVersions, loadParticipantSheet } from "./datasets";
 
-export type RosterStatus = "matched" | "only-in-brain-table" | "only-in-participant-sheet";
-
-export interface RosterRow {
-  /** The brain-table id when there is one (fits name participants by it), else the sheet id. */
-  participant: string;
-  brainId: string | null;
-  sheetId: string | null;
-  status: RosterStatus;
-  via: "identical" | "rule" | "mapping" | null;
-  /** Brain-table sessions of this participant. */
-  sessions: string[];
-  /** Participant-sheet values by column. */
-  values: Record<string, number | string | null>;
-}
-
-export interface VersionRef {
-  id: string;
-  version: number;
-  fileName: string;
-  sha256: string;
-}
-
-export interface RosterCounts {
-  matched: number;
-  onlyInBrainTable: number;
-  onlyInParticipantSheet: number;
-  duplicates: number;
-  nearMisses: number;
-  mappings: number;
-}
-
-export interface RosterReport {
-  brainTable: VersionRef | null;
-  participantSheet: VersionRef | null;
-  rule: string;
-  counts: RosterCounts;
-  /** false when the caller may not see participant-level rows: the id lists and rows are null. */
-  rowsVisible: boolean;
-  matched: number;
-  onlyInBrainTable: string[] | null;
-  onlyInParticipantSheet: string[] | null;
-  duplicates: RosterDuplicate[] | null;
-  nearMisses: NearMiss[] | null;
-  mappings: { brainId: string; sheetId: string; createdAt: string; applied: boolean }[] | null;
-  /** Participant-sheet columns shown in the rows. */
-  columns: { name: string; type: "number" | "category" }[];
-}
-
-interface Computed {
-  brain: DatasetVersion | null;
-  sheetVersion: DatasetVersion | null;
-  roster: Roster;
-  rows: RosterRow[];
-  sheet: ParticipantSheet | null;
-  mappings: RosterMapping[];
-  applied: Set<string>;
-}
+// The API's view types live with the computation; routes and screens import them from here.
+export type { RosterCounts, RosterPage, RosterQuery, RosterReport, RosterRow, RosterStatus, VersionRef } from "../jobs/intake-roster";
 
 const ref = (v: DatasetVersion | null): VersionRef | null =>
   v === null ? null : { id: v.id, version: v.version, fileName: v.fileName, sha256: v.sha256 };
 
-async function brainIdsAndSessions(db: Queryable, v: DatasetVersion): Promise<{ ids: string[]; sessions: Map<string, string[]> }> {
-  const rows = await db
-    .select({ id: datasetRows.participantId, session: datasetRows.session })
-    .from(datasetRows)
-    .where(eq(datasetRows.datasetId, v.id))
-    .orderBy(asc(datasetRows.position));
-  const ids: string[] = [];
-  const sessions = new Map<string, string[]>();
-  for (const r of rows) {
-    let list = sessions.get(r.id);
-    if (!list) {
-      list = [];
-      sessions.set(r.id, list);
-      ids.push(r.id);
-    }
-    if (r.session !== null) list.push(r.session);
-  }
-  for (const list of sessions.values()) list.sort(naturalCompare);
-  return { ids, sessions };
+/** Rows read per query. */
+const READ_PAGE = 10_000;
+
+/** The newest few versions' roster inputs as JSON text, by version id (a version never changes). */
+const brainTexts = new Map<string, string>();
+const sheetTexts = new Map<string, { json: string; columns: string[] }>();
+const KEPT = 4;
+
+function keep<T>(cache: Map<string, T>, key: string, value: T): T {
+  cache.set(key, value);
+  while (cache.size > KEPT) cache.delete(cache.keys().next().value as string);
+  return value;
 }
 
-async function compute(db: Queryable, studyId: string): Promise<Computed> {
+/** The distinct participant ids of a stored brain table, in file order, each with its sessions, read page by page. */
+async function brainParticipants(db: Queryable, v: DatasetVersion): Promise<string> {
+  const hit = brainTexts.get(v.id);
+  if (hit !== undefined) return hit;
+  const ids: string[] = [];
+  const sessions: string[][] = [];
+  const index = new Map<string, number>();
+  for (let first = 0; first < v.rowCount; first += READ_PAGE) {
+    const rows = await db
+      .select({ id: datasetRows.participantId, session: datasetRows.session })
+      .from(datasetRows)
+      .where(and(eq(datasetRows.datasetId, v.id), gte(datasetRows.position, first), lt(datasetRows.position, first + READ_PAGE)))
+      .orderBy(asc(datasetRows.position));
+    for (const r of rows) {
+      let k = index.get(r.id);
+      if (k === undefined) {
+        k = ids.length;
+        index.set(r.id, k);
+        ids.push(r.id);
+        sessions.push([]);
+      }
+      if (r.session !== null) sessions[k].push(r.session);
+    }
+    await new Promise<void>((resolve) => setImmediate(resolve));
+  }
+  for (const list of sessions) if (list.length > 1) list.sort(naturalCompare);
+  const participants: BrainParticipants = { ids, sessions };
+  return keep(brainTexts, v.id, JSON.stringify(participants));
+}
+
+async function sheetText(db: Queryable, v: DatasetVersion): Promise<{ json: string; columns: string[] }> {
+  const hit = sheetTexts.get(v.id);
+  if (hit !== undefined) return hit;
+  const sheet = await loadParticipantSheet(db, v);
+  return keep(sheetTexts, v.id, { json: JSON.stringify(sheet), columns: sheet.columns.map((c) => c.name) });
+}
+
+/** What the join needs, read from the database (the texts kept per version). */
+async function rosterInput(db: Queryable, studyId: string): Promise<{ input: RosterInput; sheetColumns: string[]; brain: DatasetVersion | null; sheet: DatasetVersion | null }> {
   const { brain, participants } = await currentVersions(db, studyId);
   const mappings = await db.select().from(rosterMappings).where(eq(rosterMappings.studyId, studyId)).orderBy(asc(rosterMappings.createdAt));
-  const b = brain ? await brainIdsAndSessions(db, brain) : { ids: [], sessions: new Map<string, string[]>() };
-  const sheet = participants ? await loadParticipantSheet(db, participants) : null;
-  const sheetIds = sheet?.ids ?? [];
-  const brainSet = new Set(b.ids);
-  const sheetSet = new Set(sheetIds);
-  const usable = mappings.filter((m) => brainSet.has(m.brainId) && sheetSet.has(m.sheetId));
-  const roster = joinRoster(b.ids, sheetIds, {
-    mappings: usable.map((m) => ({ brainId: m.brainId, sheetId: m.sheetId })),
-    brainFile: brain?.fileName,
-    sheetFile: participants?.fileName,
-  });
-  const sheetRow = new Map(sheetIds.map((id, k) => [id, k]));
-  const valuesOf = (sheetId: string | null): Record<string, number | string | null> => {
-    const out: Record<string, number | string | null> = {};
-    if (sheet === null || sheetId === null) return out;
-    const k = sheetRow.get(sheetId) as number;
-    for (const c of sheet.columns) out[c.name] = c.values[k];
-    return out;
+  const brainJson = brain ? await brainParticipants(db, brain) : null;
+  const sheet = participants ? await sheetText(db, participants) : null;
+  const input: RosterInput = {
+    key: [brain?.id ?? "-", participants?.id ?? "-", ...mappings.map((m) => m.id)].join(" "),
+    brain: brain && brainJson !== null ? { ref: ref(brain) as VersionRef, json: brainJson } : null,
+    sheet: participants && sheet ? { ref: ref(participants) as VersionRef, json: sheet.json } : null,
+    mappings: mappings.map((m) => ({ id: m.id, brainId: m.brainId, sheetId: m.sheetId, createdAt: m.createdAt.toISOString() })),
   };
-  const rows: RosterRow[] = [
-    ...roster.matched.map((m) => ({
-      participant: m.brainId,
-      brainId: m.brainId,
-      sheetId: m.sheetId,
-      status: "matched" as const,
-      via: m.via,
-      sessions: b.sessions.get(m.brainId) ?? [],
-      values: valuesOf(m.sheetId),
-    })),
-    ...roster.onlyInBrainTable.map((id) => ({
-      participant: id,
-      brainId: id,
-      sheetId: null,
-      status: "only-in-brain-table" as const,
-      via: null,
-      sessions: b.sessions.get(id) ?? [],
-      values: {},
-    })),
-    ...roster.onlyInParticipantSheet.map((id) => ({
-      participant: id,
-      brainId: null,
-      sheetId: id,
-      status: "only-in-participant-sheet" as const,
-      via: null,
-      sessions: [],
-      values: valuesOf(id),
-    })),
-  ];
-  const brainOrder = new Map(b.ids.map((id, k) => [id, k]));
-  // Matched and brain-only rows in brain-table order, then sheet-only rows in sheet order.
-  rows.sort((x, y) => {
-    const bx = x.brainId === null ? Number.POSITIVE_INFINITY : (brainOrder.get(x.brainId) as number);
-    const by = y.brainId === null ? Number.POSITIVE_INFINITY : (brainOrder.get(y.brainId) as number);
-    if (bx !== by) return bx - by;
-    return (sheetRow.get(x.sheetId ?? "") ?? 0) - (sheetRow.get(y.sheetId ?? "") ?? 0);
-  });
-  return {
-    brain,
-    sheetVersion: participants,
-    roster,
-    rows,
-    sheet,
-    mappings,
-    applied: new Set(usable.map((m) => m.id)),
-  };
+  return { input, sheetColumns: sheet?.columns ?? [], brain, sheet: participants };
 }
 
-function report(c: Computed, rowsVisible: boolean): RosterReport {
-  const r = c.roster;
-  return {
-    brainTable: ref(c.brain),
-    participantSheet: ref(c.sheetVersion),
-    rule: r.rule,
-    counts: {
-      matched: r.matched.length,
-      onlyInBrainTable: r.onlyInBrainTable.length,
-      onlyInParticipantSheet: r.onlyInParticipantSheet.length,
-      duplicates: r.duplicates.length,
-      nearMisses: r.nearMisses.length,
-      mappings: c.applied.size,
-    },
-    rowsVisible,
-    matched: r.matched.length,
-    onlyInBrainTable: rowsVisible ? r.onlyInBrainTable : null,
-    onlyInParticipantSheet: rowsVisible ? r.onlyInParticipantSheet : null,
-    duplicates: rowsVisible ? r.duplicates : null,
-    nearMisses: rowsVisible ? r.nearMisses : null,
-    mappings: rowsVisible
-      ? c.mappings.map((m) => ({ brainId: m.brainId, sheetId: m.sheetId, createdAt: m.createdAt.toISOString(), applied: c.applied.has(m.id) }))
-      : null,
-    columns: (c.sheet?.columns ?? []).map((col) => ({ name: col.name, type: col.type })),
-  };
-}
-
-export interface RosterQuery {
-  offset: number;
-  limit: number;
-  status?: RosterStatus;
-  /** Case-insensitive substring of the brain-table or sheet id. */
-  search?: string;
-  /** "participant", "status", "sessions" or a participant-sheet column. */
-  sort?: string;
-  order: "asc" | "desc";
-}
-
-export interface RosterPage {
-  total: number;
-  offset: number;
-  limit: number;
-  items: RosterRow[];
-}
-
-function compareValues(a: unknown, b: unknown): number {
-  if (a === null || a === undefined) return b === null || b === undefined ? 0 : 1;
-  if (b === null || b === undefined) return -1;
-  if (typeof a === "number" && typeof b === "number") return a - b;
-  return naturalCompare(String(a), String(b));
-}
-
-function selectRows(rows: readonly RosterRow[], q: Omit<RosterQuery, "offset" | "limit">): RosterRow[] {
-  let out = rows.filter((r) => q.status === undefined || r.status === q.status);
-  if (q.search) {
-    const s = q.search.trim().toLowerCase();
-    out = out.filter((r) => (r.brainId ?? "").toLowerCase().includes(s) || (r.sheetId ?? "").toLowerCase().includes(s));
-  }
-  if (q.sort) {
-    const key = q.sort;
-    const get = (r: RosterRow): unknown =>
-      key === "participant" ? r.participant : key === "status" ? r.status : key === "sessions" ? r.sessions.length : r.values[key];
-    const sign = q.order === "desc" ? -1 : 1;
-    // Missing values stay last in both orders; ties keep the roster order.
-    out = out
-      .map((r, k) => ({ r, k }))
-      .sort((x, y) => {
-        const a = get(x.r);
-        const b = get(y.r);
-        const missing = (a === null || a === undefined ? 1 : 0) - (b === null || b === undefined ? 1 : 0);
-        return missing !== 0 ? missing : sign * compareValues(a, b) || x.k - y.k;
-      })
-      .map((x) => x.r);
-  }
-  return out;
-}
-
-/** The join report and one page of roster rows (rows null when `rowsVisible` is false). */
-export async function getRoster(
-  db: Database,
-  studyId: string,
-  query: RosterQuery,
-  rowsVisible: boolean,
-): Promise<RosterReport & { rows: RosterPage | null }> {
-  const c = await compute(db, studyId);
-  if (query.sort && !["participant", "status", "sessions"].includes(query.sort) && !c.sheet?.columns.some((col) => col.name === query.sort)) {
+/**
+ * The join report and one page of roster rows (rows null when
+ * `rowsVisible` is false), as the JSON text of the answer.
+ */
+export async function getRoster(db: Database, studyId: string, query: RosterQuery, rowsVisible: boolean, jobs: IntakeJobs = intakeJobs()): Promise<string> {
+  const { input, sheetColumns } = await rosterInput(db, studyId);
+  if (query.sort && !["participant", "status", "sessions"].includes(query.sort) && !sheetColumns.includes(query.sort)) {
     throw new HttpError(400, "validation_failed", `query.sort: no roster column "${query.sort}"`, [
       { field: "query.sort", message: `no roster column "${query.sort}"` },
     ]);
   }
-  if (!rowsVisible) return { ...report(c, false), rows: null };
-  const selected = selectRows(c.rows, query);
-  return {
-    ...report(c, true),
-    rows: { total: selected.length, offset: query.offset, limit: query.limit, items: selected.slice(query.offset, query.offset + query.limit) },
-  };
+  return (await jobs.roster(input, { kind: "view", query, rowsVisible })) as string;
 }
 
 /** The whole roster as CSV (formula-neutralised), in roster order. */
-export async function rosterCsv(db: Database, studyId: string): Promise<string> {
-  const c = await compute(db, studyId);
-  const columns = c.sheet?.columns ?? [];
-  const header = ["participant", "brain_table_id", "participant_sheet_id", "status", "matched_by", "sessions", ...columns.map((col) => col.name)];
-  const rows = c.rows.map((r) => [
-    r.participant,
-    r.brainId,
-    r.sheetId,
-    r.status,
-    r.via,
-    r.sessions.join(" "),
-    ...columns.map((col) => r.values[col.name] ?? null),
-  ]);
-  return toCsv(header, rows);
+export async function rosterCsv(db: Database, studyId: string, jobs: IntakeJobs = intakeJobs()): Promise<string> {
+  const { input } = await rosterInput(db, studyId);
+  return (await jobs.roster(input, { kind: "csv" })) as string;
 }
 
 /**
@@ -303,36 +128,33 @@ export async function confirmMappings(
   actorId: string,
   mappings: readonly { brainId: string; sheetId: string }[],
   now: Date,
+  jobs: IntakeJobs = intakeJobs(),
 ): Promise<void> {
   await db.transaction(async (tx) => {
-    const c = await compute(tx, studyId);
-    if (c.brain === null || c.sheetVersion === null) {
+    const { input, brain, sheet } = await rosterInput(tx, studyId);
+    if (brain === null || sheet === null) {
       throw conflict("Upload and confirm both a brain table and a participant sheet before mapping ids.");
     }
-    const brainAll = new Set([...c.roster.matched.map((m) => m.brainId), ...c.roster.onlyInBrainTable]);
-    const sheetAll = new Set([...c.roster.matched.map((m) => m.sheetId), ...c.roster.onlyInParticipantSheet]);
-    const brainFree = new Set(c.roster.onlyInBrainTable);
-    const sheetFree = new Set(c.roster.onlyInParticipantSheet);
-    const matchOf = new Map(c.roster.matched.map((m) => [m.brainId, m.sheetId]));
-    const sheetMatchOf = new Map(c.roster.matched.map((m) => [m.sheetId, m.brainId]));
+    const facts = (await jobs.roster(input, { kind: "check", mappings: [...mappings] })) as MappingFacts;
     const seenBrain = new Set<string>();
     const seenSheet = new Set<string>();
-    const nearMiss = new Map(c.roster.nearMisses.map((n) => [`${n.brainId}\u0000${n.sheetId}`, n.reason]));
     mappings.forEach((m, k) => {
       const field = `body.mappings.${k}`;
-      if (!brainAll.has(m.brainId)) {
-        throw new HttpError(422, "unknown_participant", `${field}.brainId: the current brain table (${c.brain?.fileName}) has no participant "${m.brainId}"`);
+      const b = facts.brain[m.brainId];
+      const s = facts.sheet[m.sheetId];
+      if (!b.present) {
+        throw new HttpError(422, "unknown_participant", `${field}.brainId: the current brain table (${brain.fileName}) has no participant "${m.brainId}"`);
       }
-      if (!sheetAll.has(m.sheetId)) {
-        throw new HttpError(422, "unknown_participant", `${field}.sheetId: the current participant sheet (${c.sheetVersion?.fileName}) has no participant "${m.sheetId}"`);
+      if (!s.present) {
+        throw new HttpError(422, "unknown_participant", `${field}.sheetId: the current participant sheet (${sheet.fileName}) has no participant "${m.sheetId}"`);
       }
-      if (!brainFree.has(m.brainId)) throw conflict(`${field}.brainId: "${m.brainId}" is already matched to "${matchOf.get(m.brainId)}"`);
-      if (!sheetFree.has(m.sheetId)) throw conflict(`${field}.sheetId: "${m.sheetId}" is already matched to "${sheetMatchOf.get(m.sheetId)}"`);
+      if (!b.free) throw conflict(`${field}.brainId: "${m.brainId}" is already matched to "${b.matchedTo}"`);
+      if (!s.free) throw conflict(`${field}.sheetId: "${m.sheetId}" is already matched to "${s.matchedTo}"`);
       if (seenBrain.has(m.brainId) || seenSheet.has(m.sheetId)) throw conflict(`${field}: an id appears in two mappings of this request`);
       seenBrain.add(m.brainId);
       seenSheet.add(m.sheetId);
     });
-    const taken = new Set(c.mappings.flatMap((m) => [`b:${m.brainId}`, `s:${m.sheetId}`]));
+    const taken = new Set(input.mappings.flatMap((m) => [`b:${m.brainId}`, `s:${m.sheetId}`]));
     for (const m of mappings) {
       if (taken.has(`b:${m.brainId}`) || taken.has(`s:${m.sheetId}`)) {
         throw conflict(`A mapping for "${m.brainId}" or "${m.sheetId}" was confirmed before (for an earlier version of the tables).`);
@@ -349,9 +171,9 @@ export async function confirmMappings(
         after: {
           brainId: m.brainId,
           sheetId: m.sheetId,
-          nearMiss: nearMiss.get(`${m.brainId}\u0000${m.sheetId}`) ?? null,
-          brainTable: { id: c.brain.id, version: c.brain.version },
-          participantSheet: { id: c.sheetVersion.id, version: c.sheetVersion.version },
+          nearMiss: facts.nearMiss[`${m.brainId}\u0000${m.sheetId}`] ?? null,
+          brainTable: { id: brain.id, version: brain.version },
+          participantSheet: { id: sheet.id, version: sheet.version },
         },
         at: now,
       });

@@ -243,6 +243,110 @@ describe("upload, preview, confirm", () => {
   });
 });
 
+describe("storing without holding the database", () => {
+  it("a version left incomplete by a stop is never shown, and is removed before the next version is stored", async () => {
+    const studyId = await newStudy();
+    const first = await uploadAndConfirm(agents.analyst, studyId, "brain", "participant_id,a\ns1,0.5\ns2,0.7\n", "brain.csv");
+    // What a stop in the middle of storing version 2 leaves: the version, incomplete, with part of its rows.
+    const analystId = await userIdOf(t.db, "analyst@demo.covarion.test");
+    const leftId = crypto.randomUUID();
+    const now = new Date();
+    await t.db.insert(datasetVersions).values({
+      id: leftId,
+      studyId,
+      kind: "brain",
+      version: 2,
+      fileName: "half.csv",
+      sha256: "0".repeat(64),
+      byteSize: 10,
+      delimiter: ",",
+      layout: "wide",
+      idColumn: "participant_id",
+      columns: [
+        { name: "participant_id", type: "id", role: "id" },
+        { name: "a", type: "number", role: "region", region: "a", slot: 0 },
+      ],
+      droppedColumns: [],
+      identifierDecisions: [],
+      rowCount: 3,
+      participantCount: 3,
+      uploadedBy: analystId,
+      uploadedAt: now,
+      confirmedBy: analystId,
+      confirmedAt: now,
+      complete: false,
+    });
+    await t.db.insert(datasetRows).values([{ datasetId: leftId, position: 0, sourceRow: 2, participantId: "s9", numbers: "9", categories: [] }]);
+
+    const list = await agents.analyst.get(`/api/studies/${studyId}/datasets`).expect(200);
+    expect(list.body.map((d: { id: string }) => d.id)).toEqual([first.version.id]);
+    expect(list.body[0]).toMatchObject({ version: 1, current: true });
+    await agents.analyst.get(`/api/studies/${studyId}/datasets/${leftId}`).expect(404);
+    const roster = await agents.analyst.get(`/api/studies/${studyId}/roster`).expect(200);
+    expect(roster.body.brainTable).toMatchObject({ id: first.version.id, version: 1 });
+    expect(roster.body.onlyInBrainTable).toEqual(["s1", "s2"]);
+    const { brain } = await currentVersions(t.db, studyId);
+    expect(brain?.id).toBe(first.version.id);
+
+    const next = await uploadAndConfirm(agents.analyst, studyId, "brain", "participant_id,a\ns1,0.1\ns3,0.2\n", "brain.csv");
+    expect(next.version).toMatchObject({ version: 2, current: true });
+    expect(await t.db.select().from(datasetVersions).where(eq(datasetVersions.id, leftId))).toEqual([]);
+    expect(await t.db.select().from(datasetRows).where(eq(datasetRows.datasetId, leftId))).toEqual([]);
+  });
+
+  it("a version changes only from incomplete to complete; a complete one can be neither changed nor deleted", async () => {
+    const studyId = await newStudy();
+    const { version } = await uploadAndConfirm(agents.analyst, studyId, "participants", "participant_id,age\ns1,30\n", "sheet.csv");
+    const refusal = async (run: () => Promise<unknown>) => {
+      try {
+        await run();
+      } catch (e) {
+        const err = e as Error & { cause?: Error };
+        return `${err.message} ${err.cause?.message ?? ""}`;
+      }
+      return "not refused";
+    };
+    const [stored] = await t.db.select().from(datasetVersions).where(eq(datasetVersions.id, version.id));
+    expect(stored.complete).toBe(true);
+    expect(await refusal(() => t.db.update(datasetVersions).set({ complete: false }).where(eq(datasetVersions.id, version.id)))).toContain(
+      "dataset_versions is immutable (UPDATE refused)",
+    );
+    expect(await refusal(() => t.db.delete(datasetVersions).where(eq(datasetVersions.id, version.id)))).toContain("dataset_versions is immutable (DELETE refused)");
+    // An incomplete version may be completed, but nothing else about it may change on the way.
+    const id = crypto.randomUUID();
+    await t.db.insert(datasetVersions).values({ ...stored, id, version: 2, complete: false });
+    expect(await refusal(() => t.db.update(datasetVersions).set({ complete: true, participantCount: 99 }).where(eq(datasetVersions.id, id)))).toContain(
+      "dataset_versions is immutable (UPDATE refused)",
+    );
+    await t.db.insert(datasetRows).values([{ datasetId: id, position: 0, sourceRow: 2, participantId: "s1", numbers: "30", categories: [] }]);
+    expect(await refusal(() => t.db.update(datasetRows).set({ numbers: "31" }).where(eq(datasetRows.datasetId, id)))).toContain(
+      "dataset_rows is immutable (UPDATE refused)",
+    );
+    await t.db.update(datasetVersions).set({ complete: true }).where(eq(datasetVersions.id, id));
+    expect(await refusal(() => t.db.delete(datasetRows).where(eq(datasetRows.datasetId, id)))).toContain("dataset_rows is immutable (DELETE refused)");
+  });
+
+  it("a second confirm of an upload that is being stored is a conflict; one version is stored", async () => {
+    const studyId = await newStudy();
+    const preview = await upload(agents.analyst, studyId, "brain", demo.brainCsv, demo.brainFileName).expect(201);
+    const confirm = () => agents.analyst.post(`/api/studies/${studyId}/datasets/${preview.body.id}/confirm`).send({});
+    const answers = await Promise.all([confirm(), confirm()]);
+    expect(answers.map((a) => a.status).sort()).toEqual([201, 409]);
+    expect(answers.find((a) => a.status === 409)?.body.error.code).toBe("conflict");
+    expect(await versionCount(studyId)).toBe(1);
+  });
+
+  it("stores and reads back ids and values that need quoting in bulk loads", async () => {
+    const studyId = await newStudy();
+    const ids = ['sub-"q"', "sub-a,b", "sub-\\.", "\\.", "sub-ü-東京", "sub-multi\nline", "sub-tab\tx", "NULL"];
+    const quoted = (v: string) => `"${v.replaceAll('"', '""')}"`;
+    const text = `participant_id,site,score\n${ids.map((id, k) => `${quoted(id)},${quoted(k % 2 ? "a,b \"c\"" : "\\N")},${k}`).join("\n")}\n`;
+    const { version } = await uploadAndConfirm(agents.analyst, studyId, "participants", text, "odd.csv", { types: { site: "category" } });
+    const rows = await agents.analyst.get(`/api/studies/${studyId}/datasets/${version.id}`).expect(200);
+    expect(rows.body.rows.items.map((r: { cells: unknown[] }) => r.cells)).toEqual(ids.map((id, k) => [id, k % 2 ? 'a,b "c"' : "\\N", k]));
+  });
+});
+
 describe("bad input is refused with the envelope and nothing is stored", () => {
   const cases: [string, string | Uint8Array, number, string, string][] = [
     ["empty file", "", 400, "empty_file", "brain.csv: the file is empty"],

@@ -1,5 +1,6 @@
+import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { type IntakeError, ROSTER_RULE, joinRoster, normaliseId, oneEditApart } from "../../../server/intake";
+import { type IntakeError, ROSTER_RULE, findNearMisses, joinRoster, normaliseId, oneEditApart } from "../../../server/intake";
 
 describe("roster join", () => {
   it("normalises ids: trim, case, optional sub- prefix", () => {
@@ -95,5 +96,38 @@ describe("roster join", () => {
     expect(oneEditApart("abcd", "badc")).toBeNull();
     expect(oneEditApart("abcd", "abcd")).toBeNull();
     expect(oneEditApart("abcd", "acbe")).toBeNull();
+  });
+});
+
+describe("near misses found through shared deletion keys", () => {
+  // The pairwise comparison the index replaces (every unmatched brain id against every unmatched sheet id).
+  function pairwise(brainIds: readonly string[], sheetIds: readonly string[]): { brainId: string; sheetId: string; reason: string }[] {
+    const out: { brainId: string; sheetId: string; reason: string }[] = [];
+    for (const b of brainIds) {
+      const nb = normaliseId(b);
+      if (nb.length < 4) continue;
+      for (const s of sheetIds) {
+        const ns = normaliseId(s);
+        if (ns.length < 4) continue;
+        const kind = oneEditApart(nb, ns);
+        if (kind) out.push({ brainId: b, sheetId: s, reason: kind });
+      }
+    }
+    return out;
+  }
+
+  it("finds exactly the one-edit pairs the pairwise comparison finds, in the same order (seeded random ids)", () => {
+    const id = fc.stringMatching(/^(sub-)?[ab1-]{3,6}$/);
+    fc.assert(
+      fc.property(fc.uniqueArray(id, { maxLength: 25 }), fc.uniqueArray(id, { maxLength: 25 }), (brainIds, sheetIds) => {
+        const all = findNearMisses(brainIds, sheetIds);
+        const oneEdit = (n: { reason: string }) => n.reason !== "same number written with different leading zeros" && n.reason !== "differs only in punctuation or spaces";
+        // A pair already reported for leading zeros or punctuation is not reported again.
+        const reported = new Set(all.filter((n) => !oneEdit(n)).map((n) => `${n.brainId}\u0000${n.sheetId}`));
+        const expected = pairwise(brainIds, sheetIds).filter((p) => !reported.has(`${p.brainId}\u0000${p.sheetId}`));
+        expect(all.filter(oneEdit)).toEqual(expected); // (exact enumeration: every pair compared)
+      }),
+      { seed: 18, numRuns: 300 },
+    );
   });
 });

@@ -1,0 +1,233 @@
+/**
+ * The stored form of a confirmed upload: the version's columns and one row
+ * per participant (and session, for brain tables) of `dataset_rows`, built
+ * in the intake worker thread (intake-task.ts) as CSV text that the main
+ * thread hands to the database's bulk load (`COPY … FROM` a blob), chunk by
+ * chunk.
+ *
+ * A row's numbers are one text of shortest round-trip decimals separated
+ * by commas, empty where missing (`encodeNumbers` / `decodeNumbers`); its
+ * categories a JSON array. Chunks hold at most CHUNK_ROWS rows and about
+ * CHUNK_BYTES bytes (a longer single row is a chunk of its own), so each
+ * bulk load holds the database for a few milliseconds only; the chunks lie
+ * end to end in one UTF-8 buffer, which moves to the main thread without
+ * copying.
+ *
+ * Pure: no database, no files. Cost: O(rows × columns).
+ */
+import type { IdentifierDecisionRecord, StoredColumn } from "../../db/schema";
+import { type BrainTable, type ConfirmedTable, type ParticipantSheet, type RawTable, type SheetColumn, parseNumberCell } from "../intake";
+
+/** Most rows in one chunk (one bulk load). */
+export const CHUNK_ROWS = 1000;
+/** About the most bytes of CSV in one chunk. */
+export const CHUNK_BYTES = 256 * 1024;
+
+/** The `dataset_rows` columns the CSV holds, in order. */
+export const STORED_ROW_COLUMNS = ["dataset_id", "position", "source_row", "participant_id", "session", "numbers", "categories"] as const;
+
+/** What a confirmed upload stores: the version's description and its rows as CSV chunks. */
+export interface EncodedVersion {
+  delimiter: string;
+  layout: string | null;
+  idColumn: string;
+  sessionColumn: string | null;
+  seSuffix: string | null;
+  columns: StoredColumn[];
+  dropped: string[];
+  decisions: IdentifierDecisionRecord[];
+  rowCount: number;
+  participantCount: number;
+  /** The rows as CSV (UTF-8), chunk after chunk. */
+  csv: Uint8Array<ArrayBuffer>;
+  /** End offset (in `csv`) of each chunk. */
+  chunkEnds: number[];
+}
+
+interface StoredRow {
+  sourceRow: number;
+  participantId: string;
+  session: string | null;
+  numbers: string;
+  categories: readonly (string | null)[];
+}
+
+interface Description {
+  layout: string | null;
+  idColumn: string;
+  sessionColumn: string | null;
+  seSuffix: string | null;
+  columns: StoredColumn[];
+  dropped: string[];
+  participantCount: number;
+}
+
+/** Numbers as shortest round-trip decimals separated by commas; empty = missing. */
+export function encodeNumbers(values: ArrayLike<number>): string {
+  let out = "";
+  for (let k = 0; k < values.length; k++) {
+    if (k > 0) out += ",";
+    const x = values[k];
+    if (Number.isFinite(x)) out += String(x);
+  }
+  return out;
+}
+
+/** The inverse of encodeNumbers for `count` numbers (NaN where missing). */
+export function decodeNumbers(text: string, count: number): Float64Array {
+  const out = new Float64Array(count).fill(Number.NaN);
+  if (count === 0) return out;
+  const parts = text.split(",");
+  for (let k = 0; k < count && k < parts.length; k++) {
+    const x = parseNumberCell(parts[k]);
+    if (typeof x === "number") out[k] = x;
+  }
+  return out;
+}
+
+/** Builds the stored form of a confirmed table; `datasetId` is the version's id. */
+export function encodeVersion(datasetId: string, raw: RawTable, confirmed: ConfirmedTable): EncodedVersion {
+  const decisions: IdentifierDecisionRecord[] = confirmed.identifierDecisions.map((d) => ({ ...d }));
+  const writer = new CsvChunks(datasetId);
+  const description = confirmed.kind === "brain" ? encodeBrain(confirmed.brain, raw, writer) : encodeSheet(confirmed.sheet, writer);
+  const { csv, chunkEnds, rowCount } = writer.finish();
+  return { delimiter: raw.delimiter, ...description, decisions, rowCount, csv, chunkEnds };
+}
+
+/** A CSV field, always quoted (a quote inside doubled); null is the empty unquoted field. */
+function field(text: string | null): string {
+  if (text === null) return "";
+  return text.includes('"') ? `"${text.replaceAll('"', '""')}"` : `"${text}"`;
+}
+
+/** Collects rows as CSV and cuts them into chunks. */
+class CsvChunks {
+  private readonly id: string;
+  private readonly chunks: string[] = [];
+  private current = "";
+  private inChunk = 0;
+  private rows = 0;
+
+  constructor(datasetId: string) {
+    this.id = field(datasetId);
+  }
+
+  add(row: StoredRow): void {
+    const line = `${this.id},${this.rows},${row.sourceRow},${field(row.participantId)},${field(row.session)},${field(row.numbers)},${field(JSON.stringify(row.categories))}\n`;
+    if (this.inChunk > 0 && (this.inChunk >= CHUNK_ROWS || this.current.length + line.length > CHUNK_BYTES)) this.cut();
+    this.current += line;
+    this.inChunk += 1;
+    this.rows += 1;
+  }
+
+  finish(): { csv: Uint8Array<ArrayBuffer>; chunkEnds: number[]; rowCount: number } {
+    if (this.inChunk > 0) this.cut();
+    let total = 0;
+    for (const c of this.chunks) total += Buffer.byteLength(c, "utf8");
+    const csv = new Uint8Array(total);
+    const encoder = new TextEncoder();
+    const chunkEnds: number[] = [];
+    let at = 0;
+    for (const c of this.chunks) {
+      at += encoder.encodeInto(c, csv.subarray(at)).written;
+      chunkEnds.push(at);
+    }
+    return { csv, chunkEnds, rowCount: this.rows };
+  }
+
+  private cut(): void {
+    this.chunks.push(this.current);
+    this.current = "";
+    this.inChunk = 0;
+  }
+}
+
+/**
+ * A wide table's row as stored numbers, straight from the uploaded cells
+ * (already checked to be numbers or missing markers): the exact text
+ * written, trimmed, with missing markers as empty. Equal, once read, to
+ * encodeNumbers of the typed values, and cheaper than printing them again.
+ */
+function rawNumbers(row: readonly string[], columns: readonly number[]): string {
+  let out = "";
+  for (let k = 0; k < columns.length; k++) {
+    if (k > 0) out += ",";
+    const cell = row[columns[k]];
+    const x = parseNumberCell(cell);
+    if (typeof x === "number") out += cell.length > 0 && cell.charCodeAt(0) > 32 && cell.charCodeAt(cell.length - 1) > 32 ? cell : cell.trim();
+  }
+  return out;
+}
+
+function encodeBrain(b: BrainTable, raw: RawTable, writer: CsvChunks): Description {
+  const columns: StoredColumn[] = [{ name: b.idColumn, type: "id", role: "id" }];
+  if (b.sessionColumn !== null) columns.push({ name: b.sessionColumn, type: "category", role: "session" });
+  let slot = 0;
+  const valueSlots: number[] = [];
+  const seSlots: (number | null)[] = [];
+  b.regions.forEach((region, r) => {
+    valueSlots.push(slot);
+    columns.push({ name: region, type: "number", role: "region", region, slot: slot++ });
+    if (b.standardErrors[r] !== null) {
+      const seName = b.layout === "wide" ? `${region}${b.seSuffix}` : `${region}_se`;
+      columns.push({ name: seName, type: "number", role: "se", region, slot });
+      seSlots.push(slot++);
+    } else seSlots.push(null);
+  });
+  // Wide layout: each entry is one uploaded row, and each slot one uploaded column.
+  const rawIndex = new Map(b.columns.map((c) => [c.name, c.profile.index]));
+  const slotColumns = columns.filter((c) => c.type === "number").map((c) => rawIndex.get(c.name) ?? -1);
+  const fromRaw = b.layout === "wide" && b.entries.length === raw.rows.length && slotColumns.every((j) => j >= 0);
+  const buffer = new Float64Array(slot);
+  const ids = new Set<string>();
+  b.entries.forEach((e, k) => {
+    let numbers: string;
+    if (fromRaw) numbers = rawNumbers(raw.rows[k], slotColumns);
+    else {
+      for (let r = 0; r < b.regions.length; r++) {
+        buffer[valueSlots[r]] = b.values[r][k];
+        const s = seSlots[r];
+        if (s !== null) buffer[s] = (b.standardErrors[r] as Float64Array)[k];
+      }
+      numbers = encodeNumbers(buffer);
+    }
+    ids.add(e.id);
+    writer.add({ sourceRow: e.row, participantId: e.id, session: e.session, numbers, categories: [] });
+  });
+  return {
+    layout: b.layout,
+    idColumn: b.idColumn,
+    sessionColumn: b.sessionColumn,
+    seSuffix: b.layout === "wide" ? b.seSuffix : null,
+    columns,
+    dropped: b.columns.filter((c) => c.role === "dropped").map((c) => c.name),
+    participantCount: ids.size,
+  };
+}
+
+function encodeSheet(s: ParticipantSheet, writer: CsvChunks): Description {
+  const columns: StoredColumn[] = [{ name: s.idColumn, type: "id", role: "id" }];
+  let numberSlot = 0;
+  let categorySlot = 0;
+  for (const c of s.columns) {
+    columns.push({ name: c.name, type: c.type, role: "variable", slot: c.type === "number" ? numberSlot++ : categorySlot++ });
+  }
+  const numberColumns = s.columns.filter((c): c is Extract<SheetColumn, { type: "number" }> => c.type === "number");
+  const categoryColumns = s.columns.filter((c): c is Extract<SheetColumn, { type: "category" }> => c.type === "category");
+  const buffer = new Float64Array(numberColumns.length);
+  s.ids.forEach((id, k) => {
+    numberColumns.forEach((c, j) => {
+      buffer[j] = c.values[k] ?? Number.NaN;
+    });
+    writer.add({ sourceRow: s.rows[k], participantId: id, session: null, numbers: encodeNumbers(buffer), categories: categoryColumns.map((c) => c.values[k]) });
+  });
+  return {
+    layout: null,
+    idColumn: s.idColumn,
+    sessionColumn: null,
+    seSuffix: null,
+    columns,
+    dropped: [...s.dropped],
+    participantCount: s.ids.length,
+  };
+}

@@ -1,0 +1,66 @@
+/**
+ * Worker-thread task of the data intake: everything an upload or its
+ * confirmation computes, off the request thread — reading the bytes
+ * (decode, delimiter, parse), typing and checking, the preview, the
+ * identifier guard, the SHA-256 hash, the rows to store as CSV chunks
+ * (intake-rows.ts), and the roster join (intake-roster.ts). Workers compute only — no database, no files; the
+ * main thread stores what this returns.
+ *
+ * The uploaded bytes arrive as a view of shared memory (no copy); the
+ * stored rows go back as one transferred buffer (no copy). A refusal of
+ * the file comes back as `{ ok: false, status, problems, problemCount }`
+ * (an IntakeError does not survive the thread boundary); any other error
+ * is thrown. Worker threads run at a lower priority than the request
+ * thread (thread-priority.ts).
+ */
+import { Piscina } from "piscina";
+import {
+  type Confirmation,
+  IntakeError,
+  type IntakeStatus,
+  type PreviewOptions,
+  type Problem,
+  type TableKind,
+  type TablePreview,
+  confirmTable,
+  previewUpload,
+  readTable,
+  sha256Hex,
+} from "../intake";
+import { type MappingFacts, type RosterInput, type RosterRequest, answerRoster } from "./intake-roster";
+import { type EncodedVersion, encodeVersion } from "./intake-rows";
+import { lowerWorkerThreadPriority } from "./thread-priority";
+
+lowerWorkerThreadPriority();
+
+export type IntakeTask =
+  | { op: "preview"; bytes: Uint8Array; fileName: string; kind: TableKind; options: PreviewOptions }
+  | { op: "encode"; bytes: Uint8Array; fileName: string; kind: TableKind; confirmation: Confirmation; datasetId: string }
+  | { op: "roster"; input: RosterInput; request: RosterRequest };
+
+export type IntakeRefusal = { ok: false; status: IntakeStatus; problems: Problem[]; problemCount: number };
+
+export type IntakeTaskOutcome =
+  | { ok: true; op: "preview"; preview: TablePreview; sha256: string }
+  | { ok: true; op: "encode"; encoded: EncodedVersion; sha256: string }
+  | { ok: true; op: "roster"; answer: string | MappingFacts }
+  | IntakeRefusal;
+
+export default function runIntakeTask(task: IntakeTask): IntakeTaskOutcome | ReturnType<typeof Piscina.move> {
+  try {
+    if (task.op === "preview") {
+      const preview = previewUpload(task.bytes, task.fileName, task.kind, task.options);
+      return { ok: true, op: "preview", preview, sha256: sha256Hex(task.bytes) };
+    }
+    if (task.op === "roster") return { ok: true, op: "roster", answer: answerRoster(task.input, task.request) };
+    const raw = readTable(task.bytes, task.fileName);
+    const encoded = encodeVersion(task.datasetId, raw, confirmTable(raw, task.kind, task.confirmation));
+    const outcome: IntakeTaskOutcome = { ok: true, op: "encode", encoded, sha256: sha256Hex(task.bytes) };
+    // The rows' buffer moves to the main thread instead of being copied.
+    const movable = { [Piscina.transferableSymbol]: [encoded.csv.buffer], [Piscina.valueSymbol]: outcome };
+    return Piscina.move(movable as unknown as ArrayBuffer);
+  } catch (e) {
+    if (e instanceof IntakeError) return { ok: false, status: e.status, problems: [...e.problems], problemCount: e.problemCount };
+    throw e;
+  }
+}
