@@ -3,11 +3,15 @@ import { Link } from "expo-router";
 import { Card, Empty, Failure, Heading, Notice, Pending, Txt } from "./ui";
 import { Wordmark } from "./logo";
 import { palette, space } from "./theme";
+import { ApiError } from "../hooks/api";
 import { linksIn, useMail } from "../hooks/use-mail";
+import { NotFoundScreen } from "./not-found-screen";
 
 /** Demo-mode inbox of the local mail fake: sign-in links and invitations land here. */
 export function MailboxScreen() {
   const mail = useMail();
+  // Without the local mail fake (production) the mailbox does not exist: the server answers this page and its API with 404.
+  if (mail.error instanceof ApiError && mail.error.status === 404) return <NotFoundScreen />;
   return (
     <ScrollView style={styles.root} contentContainerStyle={styles.content}>
       <View style={styles.column}>

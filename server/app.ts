@@ -160,7 +160,7 @@ export function createApp(deps: AppDeps): Express {
   app.use("/api", setAsideRoutes(routeDeps));
   app.use("/api", apiNotFound);
 
-  app.use(serveWebBuild(deps.distDir ?? join(root, "dist")));
+  app.use(serveWebBuild(deps.distDir ?? join(root, "dist"), { demoPages: config.devServices }));
   app.use(errorHandler(log));
   return app;
 }
