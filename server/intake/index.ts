@@ -15,3 +15,4 @@ export * from "./fit-data";
 export * from "./preview";
 export * from "./export-csv";
 export * from "./hash";
+export * from "./file-name";

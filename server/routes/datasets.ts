@@ -24,7 +24,7 @@ import { signedInUser } from "../auth/session";
 import { HttpError } from "../http/errors";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import { sharedUploadStorage } from "../http/shared-upload-storage";
-import { DEFAULT_MAX_BYTES, IntakeError, problem } from "../intake";
+import { DEFAULT_MAX_BYTES, IntakeError, NO_FILE_NAME, cleanFileName, problem } from "../intake";
 import { confirmUpload, getDataset, listDatasets, previewUpload } from "../services/datasets";
 import type { PreviewStore, UploadOptions } from "../services/preview-store";
 import type { RouteDeps } from "./deps";
@@ -64,12 +64,8 @@ const confirm = {
   }),
 };
 
-/** The uploaded file's name as shown in messages: its last path part, without control characters. */
-function cleanFileName(name: string): string {
-  const base = name.split(/[\\/]/).pop() ?? "";
-  // biome-ignore lint/suspicious/noControlCharactersInRegex: control characters are what is removed
-  const clean = base.replace(/[\u0000-\u001f\u007f]/g, "").trim().slice(0, 200);
-  return clean === "" ? "upload" : clean;
+function noFileName(): HttpError {
+  return new HttpError(400, "validation_failed", `body.file: ${NO_FILE_NAME}`, [{ field: "body.file", message: NO_FILE_NAME }]);
 }
 
 /** multer with the intake's byte limit; its errors answer with the envelope (413 too large, 400 otherwise). */
@@ -79,10 +75,16 @@ function receiveFile(): RequestHandler {
     limits: { fileSize: DEFAULT_MAX_BYTES, files: 1, fields: 10, fieldSize: 10_000, parts: 12 },
     // Browsers send file names as UTF-8 (multer's default reads them as Latin-1).
     defParamCharset: "utf8",
+    // Keep the name as sent ("." and ".." too): cleanFileName takes its last part and refuses what is no name.
+    preservePath: true,
   } as multer.Options).single("file");
   return (req, res, next) => {
     single(req, res, (error: unknown) => {
-      if (!error) return next();
+      if (!error) {
+        // A file part sent without a name arrives as a text field.
+        if (!req.file && typeof (req.body as { file?: unknown } | undefined)?.file === "string") return next(noFileName());
+        return next();
+      }
       if (error instanceof multer.MulterError) {
         if (error.code === "LIMIT_FILE_SIZE") {
           return next(
@@ -104,8 +106,12 @@ export function datasetRoutes(deps: RouteDeps, store: PreviewStore): Router {
     const { study } = authorizedStudy(res);
     const file = req.file;
     if (!file) {
-      throw new HttpError(400, "validation_failed", "body.file: attach the file to upload", [{ field: "body.file", message: "attach the file to upload" }]);
+      // A part whose file name is empty never reaches this handler either; say so.
+      const message = `no file arrived: attach the file to upload; if you did, ${NO_FILE_NAME}`;
+      throw new HttpError(400, "validation_failed", `body.file: ${message}`, [{ field: "body.file", message }]);
     }
+    const fileName = cleanFileName(file.originalname);
+    if (fileName === null) throw noFileName();
     const body = parsed(res, upload).body;
     const user = signedInUser(res);
     const options: UploadOptions = {
@@ -117,7 +123,7 @@ export function datasetRoutes(deps: RouteDeps, store: PreviewStore): Router {
     const view = await previewUpload(store, {
       studyId: study.id,
       kind: body.kind,
-      fileName: cleanFileName(file.originalname),
+      fileName,
       bytes: file.bytes ?? new Uint8Array(0),
       options,
       uploader: { id: user.id, name: user.name, email: user.email },

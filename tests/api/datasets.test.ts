@@ -390,6 +390,29 @@ describe("bad input is refused with the envelope and nothing is stored", () => {
     expect(await versionCount(studyId)).toBe(0);
   });
 
+  it("file names lose bidirectional formatting characters; a file without a name is refused", async () => {
+    const studyId = await newStudy();
+    const named = await upload(agents.analyst, studyId, "participants", "participant_id,age\ns1,30\n", "brain\u202Evsc.exe\u2066.csv\u2069").expect(201);
+    expect(named.body.fileName).toBe("brainvsc.exe.csv");
+    const stored = await agents.analyst.post(`/api/studies/${studyId}/datasets/${named.body.id}/confirm`).send({}).expect(201);
+    expect(stored.body.fileName).toBe("brainvsc.exe.csv");
+    for (const name of [".", "..", "\u202E", "\u2066\u2069"]) {
+      const res = await upload(agents.analyst, studyId, "participants", "participant_id,age\ns1,30\n", name).expect(400);
+      expect(res.body.error).toMatchObject({ code: "validation_failed", message: "body.file: the uploaded file has no name", details: [{ field: "body.file" }] });
+    }
+    // A file part whose name is empty: sent as text, or dropped by the multipart reader.
+    const boundary = "covarion-test";
+    const asText = await agents.analyst
+      .post(`/api/studies/${studyId}/datasets`)
+      .set("Content-Type", `multipart/form-data; boundary=${boundary}`)
+      .send(`--${boundary}\r\nContent-Disposition: form-data; name="kind"\r\n\r\nparticipants\r\n--${boundary}\r\nContent-Disposition: form-data; name="file"; filename=""\r\nContent-Type: text/csv\r\n\r\nparticipant_id,age\ns1,30\n\r\n--${boundary}--\r\n`)
+      .expect(400);
+    expect(asText.body.error.message).toBe("body.file: the uploaded file has no name");
+    const dropped = await upload(agents.analyst, studyId, "participants", "participant_id,age\ns1,30\n", "").expect(400);
+    expect(dropped.body.error.message).toContain("the uploaded file has no name");
+    expect(await versionCount(studyId)).toBe(1);
+  });
+
   it("an upload without a file or with an unknown kind is a 400 naming the field", async () => {
     const studyId = await newStudy();
     const noFile = await agents.analyst.post(`/api/studies/${studyId}/datasets`).field("kind", "brain").expect(400);
