@@ -1,11 +1,22 @@
 import { useEffect } from "react";
-import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { keepPreviousData, queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { apiBase, apiFetch, jsonBody } from "./api";
 import { studyKeys } from "./use-studies";
 import { modelKeys } from "./use-models";
-import type { FitSummaryView, FitView, RegionDetail, RegionPreview } from "../server/services/fits";
+import type { FitSummaryView, FitView, RegionDetail, RegionDetailPoint, RegionPreview } from "../server/services/fits";
+import type { ParticipantOrder, RegionParticipantsPage } from "../server/services/region-participants";
 
-export type { FitSummaryView, FitView, RegionDetail, RegionPreview };
+export type { FitSummaryView, FitView, ParticipantOrder, RegionDetail, RegionDetailPoint, RegionParticipantsPage, RegionPreview };
+
+/** Which page of a region's participant diagnostics to fetch (GET …/regions/:region/participants). */
+export interface ParticipantPageQuery {
+  offset: number;
+  limit: number;
+  sort: ParticipantOrder;
+  direction: "asc" | "desc";
+  /** Part of a participant id ("" for every participant). */
+  search: string;
+}
 
 export interface SetAsideView {
   id: string;
@@ -22,6 +33,7 @@ export const fitKeys = {
   list: (studyId: string) => [...fitKeys.all, "list", studyId] as const,
   detail: (fitId: string) => [...fitKeys.all, "detail", fitId] as const,
   region: (fitId: string, region: string) => [...fitKeys.all, "region", fitId, region] as const,
+  participants: (fitId: string, region: string, page: ParticipantPageQuery) => [...fitKeys.all, "participants", fitId, region, page] as const,
   preview: (fitId: string, region: string) => [...fitKeys.all, "preview", fitId, region] as const,
   setAsides: (studyId: string) => ["set-asides", studyId] as const,
 };
@@ -38,6 +50,16 @@ export const regionDetailQueryOptions = (fitId: string, region: string) =>
   queryOptions({
     queryKey: fitKeys.region(fitId, region),
     queryFn: () => apiFetch<RegionDetail>(`/api/fits/${encodeURIComponent(fitId)}/regions/${encodeURIComponent(region)}`),
+  });
+
+export const regionParticipantsQueryOptions = (fitId: string, region: string, page: ParticipantPageQuery) =>
+  queryOptions({
+    queryKey: fitKeys.participants(fitId, region, page),
+    queryFn: () => {
+      const query = new URLSearchParams({ offset: String(page.offset), limit: String(page.limit), sort: page.sort, direction: page.direction });
+      if (page.search) query.set("search", page.search);
+      return apiFetch<RegionParticipantsPage>(`/api/fits/${encodeURIComponent(fitId)}/regions/${encodeURIComponent(region)}/participants?${query}`);
+    },
   });
 
 export const setAsidesQueryOptions = (studyId: string) =>
@@ -87,6 +109,11 @@ function pickLive(update: Partial<FitView>): Partial<FitView> {
 
 export function useRegionDetail(fitId: string, region: string | null, enabled: boolean) {
   return useQuery({ ...regionDetailQueryOptions(fitId, region ?? ""), enabled: enabled && region !== null });
+}
+
+/** One page of a finished fit's region participants with every diagnostic; the last page stays shown while the next loads. */
+export function useRegionParticipants(fitId: string, region: string | null, page: ParticipantPageQuery, enabled: boolean) {
+  return useQuery({ ...regionParticipantsQueryOptions(fitId, region ?? "", page), enabled: enabled && region !== null, placeholderData: keepPreviousData });
 }
 
 /** The selected region recomputed at once with the study's current set-asides. */

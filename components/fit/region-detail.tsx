@@ -1,12 +1,12 @@
 /**
  * One region of a finished fit: the data plot (scatter with the fitted line
  * and band, or a strip plot per group), residual versus leverage, the
- * participant diagnostics table, the with-and-without sensitivity, the
- * permutation null distribution, and set-aside with an at-once preview.
+ * participant diagnostics table (paged from the API), the with-and-without
+ * sensitivity, the permutation null distribution, and set-aside with an
+ * at-once preview.
  */
-import { useMemo, useState } from "react";
+import { useState } from "react";
 import { StyleSheet, View } from "react-native";
-import type { ColumnDef } from "@tanstack/react-table";
 import { useRouter } from "expo-router";
 import { ScatterPlot } from "../charts/scatter-plot";
 import { StripPlot } from "../charts/strip-plot";
@@ -16,7 +16,7 @@ import { formatValue } from "../charts/number-format";
 import { pPhrase } from "./p-text";
 import { AttenuationNote } from "./attenuation-note";
 import type { AttenuationInput } from "./attenuation-words";
-import { DataTable } from "../tables/data-table";
+import { ParticipantDiagnosticsTable } from "./participant-diagnostics-table";
 import { Choice } from "../choice";
 import { Badge, Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "../ui";
 import { palette, space } from "../theme";
@@ -65,7 +65,7 @@ export function RegionDetailPanel(props: { fit: FitView; region: string; canSetA
           <NullHistogram edges={d.nullHistogram.edges} counts={d.nullHistogram.counts} observed={d.nullHistogram.observed} statisticName="t" p={d.result.p} testID="null-histogram" />
         </Card>
       ) : null}
-      {d.points ? <DiagnosticsTable points={d.points} selected={selected} onSelect={setSelected} /> : null}
+      {d.points ? <ParticipantDiagnosticsTable fitId={props.fit.id} region={d.region} selected={selected} onSelect={setSelected} /> : null}
       {d.notes.length > 0 ? (
         <Txt kind="caption" style={{ color: palette.muted }}>
           {d.notes.join(" ")}
@@ -266,33 +266,6 @@ function Sensitivity({ detail }: { detail: RegionDetail }) {
           {typeof loo.rMin === "number" && typeof loo.rMax === "number" ? ` (r between ${formatValue(loo.rMin)} and ${formatValue(loo.rMax)})` : ""}.
         </Txt>
       ) : null}
-    </Card>
-  );
-}
-
-function DiagnosticsTable({ points, selected, onSelect }: { points: readonly Point[]; selected: string | null; onSelect: (id: string) => void }) {
-  const rows = useMemo(() => points.map((p) => ({ ...p, flagText: p.flags.join(", ") })), [points]);
-  const columns = useMemo<ColumnDef<(typeof rows)[number], unknown>[]>(
-    () => [
-      { accessorKey: "participant", header: "Participant" },
-      { accessorKey: "flagText", header: "Flags", meta: { width: 120 } },
-      { accessorKey: "y", header: "Contrast", meta: { numeric: true, digits: 3 } },
-      { accessorKey: "fitted", header: "Fitted", meta: { numeric: true, digits: 3 } },
-      { accessorKey: "leverage", header: "Leverage", meta: { numeric: true, digits: 3 } },
-      { accessorKey: "studentizedResidual", header: "Studentized residual", meta: { numeric: true, digits: 3, width: 120 } },
-      { accessorKey: "cooksDistance", header: "Cook's distance", meta: { numeric: true, digits: 3, width: 110 } },
-      { accessorKey: "dffits", header: "DFFITS", meta: { numeric: true, digits: 3 } },
-      { accessorKey: "mahalanobis", header: "Mahalanobis", meta: { numeric: true, digits: 3 } },
-    ],
-    [],
-  );
-  return (
-    <Card>
-      <Heading level={3}>Participant diagnostics</Heading>
-      <DataTable label="Participant diagnostics" data={rows} columns={columns} getRowId={(r) => r.participant} onRowPress={(r) => onSelect(r.participant)} selectedRowId={selected} searchable testID="diagnostics-table" />
-      <Txt kind="caption">
-        Flags: outlier — externally studentized residual beyond the Bonferroni 5% cut-off (Cook & Weisberg 1982); leverage — hat value above 2p/n (Hoaglin & Welsch 1978); influence — Cook's distance above 4/n (Bollen & Jackman 1990).
-      </Txt>
     </Card>
   );
 }

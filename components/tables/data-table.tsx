@@ -11,6 +11,10 @@
  * Missing values (null, undefined, NaN) print as "n/a" and sort last in
  * both directions. Columns describe themselves through `meta`: `numeric`,
  * `digits` or `decimals` for number formatting, `width` in px.
+ *
+ * With `server`, the rows are paged, sorted and searched by the API
+ * instead (a region's participant diagnostics): `data` is the page shown,
+ * and the table reports the page, sort and search the person chose.
  */
 import {
   type Cell,
@@ -67,6 +71,20 @@ export interface DataTableProps<T extends RowData> {
   emptyTitle?: string;
   emptyMessage?: string;
   testID?: string;
+  /** Rows paged, sorted and searched by the API: `data` is the current page of `rowCount` matching rows. */
+  server?: ServerRows;
+}
+
+export interface ServerRows {
+  rowCount: number;
+  pagination: PaginationState;
+  onPaginationChange: (next: PaginationState) => void;
+  sorting: SortingState;
+  onSortingChange: (next: SortingState) => void;
+  search: string;
+  onSearchChange: (text: string) => void;
+  /** Placeholder of the search box (what the API searches). */
+  searchPlaceholder: string;
 }
 
 /**
@@ -111,14 +129,19 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
     pageSize: pageSizeOptions.includes(props.initialPageSize as (typeof pageSizeOptions)[number]) ? (props.initialPageSize as number) : 50,
   });
 
+  const server = props.server;
   const tableModel = useReactTable<T>({
     data: props.data as T[],
     columns,
-    state: { sorting, globalFilter, columnFilters, pagination },
-    onSortingChange: setSorting,
+    state: server ? { sorting: server.sorting, pagination: server.pagination } : { sorting, globalFilter, columnFilters, pagination },
+    onSortingChange: (update) => (server ? server.onSortingChange(typeof update === "function" ? update(server.sorting) : update) : setSorting(update)),
     onGlobalFilterChange: setGlobalFilter,
     onColumnFiltersChange: setColumnFilters,
-    onPaginationChange: setPagination,
+    onPaginationChange: (update) => (server ? server.onPaginationChange(typeof update === "function" ? update(server.pagination) : update) : setPagination(update)),
+    manualPagination: server !== undefined,
+    manualSorting: server !== undefined,
+    manualFiltering: server !== undefined,
+    rowCount: server?.rowCount,
     getRowId: (row) => props.getRowId(row),
     defaultColumn: {
       cell: (ctx) => formatCell(ctx.getValue(), ctx.column.columnDef.meta ?? {}),
@@ -131,8 +154,9 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
     getPaginationRowModel: getPaginationRowModel(),
   });
 
-  const matched = tableModel.getPrePaginationRowModel().rows.length;
-  const page = pageWindow(matched, pagination.pageIndex, pagination.pageSize);
+  const shownPaging = server?.pagination ?? pagination;
+  const matched = server ? server.rowCount : tableModel.getPrePaginationRowModel().rows.length;
+  const page = pageWindow(matched, shownPaging.pageIndex, shownPaging.pageSize);
   const headers = tableModel.getHeaderGroups()[0]?.headers ?? [];
   const widthOf = (index: number, meta: { width?: number } | undefined) => meta?.width ?? (index === 0 ? table.pinnedWidth : table.cellWidth);
   const filterProblems = props.filterable
@@ -149,7 +173,7 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
       })
     : [];
 
-  if (props.data.length === 0) {
+  if (server ? server.rowCount === 0 && server.search === "" : props.data.length === 0) {
     return (
       <View testID={props.testID}>
         <Empty title={props.emptyTitle ?? "No rows yet"}>
@@ -166,15 +190,16 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
   const clearAll = () => {
     setGlobalFilter("");
     setColumnFilters([]);
+    server?.onSearchChange("");
   };
 
   return (
     <View style={styles.root} testID={props.testID}>
       {props.searchable ? (
         <TextInput
-          value={globalFilter}
-          onChangeText={(text) => setGlobalFilter(text)}
-          placeholder="Search every column"
+          value={server ? server.search : globalFilter}
+          onChangeText={(text) => (server ? server.onSearchChange(text) : setGlobalFilter(text))}
+          placeholder={server?.searchPlaceholder ?? "Search every column"}
           placeholderTextColor={palette.faint}
           accessibilityLabel={`Search ${props.label}`}
           style={styles.search}
@@ -244,7 +269,7 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
       <View style={styles.pager}>
         <Txt kind="small" style={styles.muted} accessibilityRole="text" testID={props.testID ? `${props.testID}-range` : undefined}>
           {page.label}
-          {matched !== props.data.length ? ` (of ${formatCount(props.data.length)} in all)` : ""}
+          {!server && matched !== props.data.length ? ` (of ${formatCount(props.data.length)} in all)` : ""}
         </Txt>
         <View style={styles.pagerButtons}>
           <Button
@@ -270,14 +295,14 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
             Rows per page
           </Txt>
           {pageSizeOptions.map((size) => {
-            const chosen = size === pagination.pageSize;
+            const chosen = size === shownPaging.pageSize;
             return (
               <Pressable
                 key={size}
                 role="radio"
                 aria-checked={chosen}
                 accessibilityLabel={`${size} rows per page`}
-                onPress={() => setPagination({ pageIndex: 0, pageSize: size })}
+                onPress={() => (server ? server.onPaginationChange({ pageIndex: 0, pageSize: size }) : setPagination({ pageIndex: 0, pageSize: size }))}
                 style={[styles.size, chosen ? styles.sizeChosen : null]}
               >
                 <Text style={[styles.sizeText, chosen ? styles.sizeTextChosen : null]}>{size}</Text>

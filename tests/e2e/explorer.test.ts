@@ -52,6 +52,11 @@ for (const [label, viewport] of [
       const n = Number(/N = (\d+)/.exec(summary ?? "")?.[1]);
       expect(n).toBeGreaterThan(50);
       await expect(marks.count()).resolves.toBe(n);
+      // the participant diagnostics come from the API a page at a time: 50 rows, then the rest
+      const range = page.getByTestId("diagnostics-table-range");
+      await expect.poll(() => range.textContent()).toBe(`rows 1–50 of ${n}`);
+      await page.getByTestId("diagnostics-table").getByRole("button", { name: "Next page" }).click();
+      await expect.poll(() => range.textContent()).toBe(`rows 51–${n} of ${n}`);
       await screenshot(page, `region-detail-${label}`);
       // the planted high-leverage and outlying participants are flagged in at least one region; choose a flagged mark when this one has any
       const flagged = plot.locator('[role="button"][aria-label*="flagged"]');
