@@ -101,6 +101,8 @@ function receiveFile(): RequestHandler {
 
 export function datasetRoutes(deps: RouteDeps, store: PreviewStore): Router {
   const router = Router();
+  // Preview ids prove they were issued here, so one from before a restart is told "expired" (preview-store.ts).
+  store.signIdsWith(deps.config.secrets.authSecret);
 
   router.post("/studies/:studyId/datasets", authorize("data.upload"), receiveFile(), validate(upload), async (req, res) => {
     const { study } = authorizedStudy(res);

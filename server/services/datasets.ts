@@ -23,7 +23,6 @@
  * Services receive the database, the store, the intake pool and the time
  * as parameters.
  */
-import { randomUUID } from "node:crypto";
 import type { PGlite } from "@electric-sql/pglite";
 import { and, asc, desc, eq, getTableName, gte, inArray, lt, sql } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
@@ -101,6 +100,9 @@ export interface RowsPage {
 
 // ─── Upload and preview ───
 
+/** The answer (410) to a confirm or read of a preview that is no longer held: it expired, or the server restarted. */
+export const UPLOAD_EXPIRED = "this upload expired; upload the file again";
+
 export interface UploadInput {
   studyId: string;
   kind: DatasetKind;
@@ -120,7 +122,7 @@ export interface UploadInput {
 export async function previewUpload(store: PreviewStore, input: UploadInput, jobs: IntakeJobs = intakeJobs()): Promise<PreviewView> {
   const { preview, sha256 } = await jobs.preview({ bytes: input.bytes, fileName: input.fileName, kind: input.kind, options: input.options });
   const stored: StoredPreview = {
-    id: randomUUID(),
+    id: store.newId(input.studyId),
     studyId: input.studyId,
     kind: input.kind,
     fileName: input.fileName,
@@ -170,14 +172,14 @@ export interface ConfirmInput {
  * type).
  */
 export async function confirmUpload(db: Database, store: PreviewStore, input: ConfirmInput, jobs: IntakeJobs = intakeJobs()): Promise<DatasetView> {
-  const found = store.get(input.datasetId, input.now);
-  if (found === "expired") throw gone("This upload's preview expired before it was confirmed; upload the file again.");
-  if (found === undefined || found.studyId !== input.studyId) {
+  const found = store.get(input.datasetId, input.now, input.studyId);
+  if (found === undefined || found === "expired" || found.studyId !== input.studyId) {
     const [stored] = await db
       .select({ version: datasetVersions.version, studyId: datasetVersions.studyId, complete: datasetVersions.complete })
       .from(datasetVersions)
       .where(eq(datasetVersions.id, input.datasetId));
     if (stored && stored.studyId === input.studyId && stored.complete) throw conflict(`This upload is already confirmed as version ${stored.version}.`);
+    if (found === "expired") throw gone(UPLOAD_EXPIRED);
     throw notFound("Upload not found.");
   }
   if (!store.claim(found.id)) throw conflict("This upload is being stored; wait until its version is shown.");
@@ -472,7 +474,7 @@ export async function getDataset(
   query: RowsQuery & { withRows: boolean },
   now: Date,
 ): Promise<(DatasetView & { rows: RowsPage | null }) | PreviewView> {
-  const p = store.get(id, now);
+  const p = store.get(id, now, studyId);
   if (p !== undefined && p !== "expired" && p.studyId === studyId) {
     const who = await people(db, [p.uploadedBy]);
     const view = previewView(p, who.get(p.uploadedBy) ?? { id: p.uploadedBy, name: null, email: null });
@@ -480,7 +482,7 @@ export async function getDataset(
   }
   const v = await findVersion(db, studyId, id);
   if (!v) {
-    if (p === "expired") throw gone("This upload's preview expired before it was confirmed.");
+    if (p === "expired") throw gone(UPLOAD_EXPIRED);
     throw notFound("Dataset not found.");
   }
   return { ...v, rows: query.withRows ? await rowsPage(db, v, query) : null };

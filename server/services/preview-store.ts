@@ -8,8 +8,18 @@
  * One server process owns the data directory, so one store per app is the
  * whole truth. A byte budget evicts the oldest previews first. Ids of
  * expired or evicted previews are remembered for a day so a late confirm is
- * told "expired" rather than "not found". Cost: O(previews) per sweep.
+ * told "expired" rather than "not found".
+ *
+ * A restart empties the store. So that a preview issued by an earlier
+ * process is still told "expired", not "not found", preview ids carry their
+ * own proof of issue: a UUID (version 8, RFC 9562) whose first 64 bits are
+ * random and whose last 64 (less the variant bits) are an HMAC-SHA-256 of
+ * those bits and the study's id, keyed by the server's secret (kept in the
+ * data directory across restarts). An id that verifies for the study but is
+ * not held was issued here and has expired; any other id is unknown.
+ * Cost: O(previews) per sweep.
  */
+import { createHmac, randomBytes, randomUUID, timingSafeEqual } from "node:crypto";
 import type { DatasetKind } from "../../db/schema";
 import type { TablePreview } from "../intake";
 
@@ -48,13 +58,44 @@ export class PreviewStore {
   readonly ttlMs: number;
   readonly maxBytes: number;
   private readonly live = new Map<string, StoredPreview>();
-  private readonly gone = new Map<string, number>();
+  /** Expired or evicted previews: when, and for which study. */
+  private readonly gone = new Map<string, { at: number; studyId: string }>();
   private readonly confirming = new Set<string>();
+  private idKey: Buffer | null = null;
   private bytes = 0;
 
   constructor(options: PreviewStoreOptions = {}) {
     this.ttlMs = options.ttlMs ?? 60 * 60 * 1000;
     this.maxBytes = options.maxBytes ?? 256 * 1024 * 1024;
+  }
+
+  /** Keys preview ids with the server's secret (see the module note); without it ids are random UUIDs. */
+  signIdsWith(secret: string): void {
+    this.idKey = createHmac("sha256", secret).update("covarion preview ids").digest();
+  }
+
+  /** A new preview id for `studyId`. */
+  newId(studyId: string): string {
+    if (this.idKey === null) return randomUUID();
+    const bytes = Buffer.alloc(16);
+    randomBytes(8).copy(bytes, 0);
+    bytes[6] = (bytes[6] & 0x0f) | 0x80; // version 8: custom
+    this.seal(bytes, studyId).copy(bytes, 8);
+    return formatUuid(bytes);
+  }
+
+  /** True when `id` was issued by this server (this process or an earlier one) for `studyId`. */
+  issued(id: string, studyId: string): boolean {
+    if (this.idKey === null || !/^[0-9a-f]{8}-[0-9a-f]{4}-8[0-9a-f]{3}-[89ab][0-9a-f]{3}-[0-9a-f]{12}$/i.test(id)) return false;
+    const bytes = Buffer.from(id.replaceAll("-", ""), "hex");
+    return timingSafeEqual(bytes.subarray(8), this.seal(bytes, studyId));
+  }
+
+  /** The last 8 bytes of an id: HMAC of its first 8 and the study, with the RFC 9562 variant bits. */
+  private seal(bytes: Buffer, studyId: string): Buffer {
+    const mac = createHmac("sha256", this.idKey as Buffer).update(bytes.subarray(0, 8)).update(studyId).digest().subarray(0, 8);
+    mac[0] = (mac[0] & 0x3f) | 0x80;
+    return mac;
   }
 
   /** Adds a preview, evicting the oldest ones beyond the byte budget. */
@@ -68,12 +109,19 @@ export class PreviewStore {
     }
   }
 
-  /** The live preview with this id, "expired" when it expired or was evicted, or undefined. */
-  get(id: string, now: Date): StoredPreview | "expired" | undefined {
+  /**
+   * The live preview with this id, "expired" when it expired or was
+   * evicted, or was issued for `studyId` by an earlier process (or so long
+   * ago it is forgotten), or undefined. (A preview that was confirmed is a
+   * version now: callers look for the version first.)
+   */
+  get(id: string, now: Date, studyId?: string): StoredPreview | "expired" | undefined {
     this.sweep(now);
     const p = this.live.get(id);
     if (p) return p;
-    return this.gone.has(id) ? "expired" : undefined;
+    const left = this.gone.get(id);
+    if (left !== undefined && (studyId === undefined || left.studyId === studyId)) return "expired";
+    return studyId !== undefined && this.issued(id, studyId) ? "expired" : undefined;
   }
 
   /** Removes a preview that has been confirmed. */
@@ -105,12 +153,17 @@ export class PreviewStore {
   private drop(id: string, p: StoredPreview, now: Date): void {
     this.live.delete(id);
     this.bytes -= p.bytes.byteLength;
-    this.gone.set(id, now.getTime());
+    this.gone.set(id, { at: now.getTime(), studyId: p.studyId });
   }
 
   private sweep(now: Date): void {
     const t = now.getTime();
     for (const [id, p] of this.live) if (p.expiresAt.getTime() <= t) this.drop(id, p, now);
-    for (const [id, at] of this.gone) if (t - at > DAY) this.gone.delete(id);
+    for (const [id, left] of this.gone) if (t - left.at > DAY) this.gone.delete(id);
   }
+}
+
+function formatUuid(b: Buffer): string {
+  const h = b.toString("hex");
+  return `${h.slice(0, 8)}-${h.slice(8, 12)}-${h.slice(12, 16)}-${h.slice(16, 20)}-${h.slice(20)}`;
 }

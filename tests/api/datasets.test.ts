@@ -15,6 +15,8 @@ import { generateDemoFiles } from "../../db/seed/demo-data";
 import { auditEvents, datasetRows, datasetVersions, memberships, studies } from "../../db/schema";
 import { DEFAULT_MAX_COLUMNS, buildBrainTable, buildFitData, buildParticipantSheet, readTable } from "../../server/intake";
 import { currentVersions, loadBrainTable, loadParticipantSheet } from "../../server/services/datasets";
+import request from "supertest";
+import { createApp } from "../../server/app";
 import { type Agent, type TestApp, createTestApp, signInDemo, userIdOf } from "./helpers";
 
 let t: TestApp;
@@ -566,9 +568,32 @@ describe("roles, restricted studies, export, expiry", () => {
     const preview = await upload(agents.analyst, studyId, "brain", "participant_id,a\ns1,1\n", "brain.csv").expect(201);
     t.advanceClock(2 * 60 * 60 * 1000);
     const res = await agents.analyst.post(`/api/studies/${studyId}/datasets/${preview.body.id}/confirm`).send({}).expect(410);
-    expect(res.body.error.code).toBe("gone");
+    expect(res.body.error).toEqual({ code: "gone", message: "this upload expired; upload the file again" });
     await agents.analyst.get(`/api/studies/${studyId}/datasets/${preview.body.id}`).expect(410);
     expect(await versionCount(studyId)).toBe(0);
+  });
+
+  it("a preview confirmed after a restart is 410 (expired), not 404; an id never issued stays 404", async () => {
+    const studyId = await newStudy();
+    const other = await newStudy();
+    const preview = await upload(agents.analyst, studyId, "brain", "participant_id,a\ns1,1\n", "brain.csv").expect(201);
+    const confirmed = await upload(agents.analyst, studyId, "brain", "participant_id,a\ns1,2\n", "brain.csv").expect(201);
+    await agents.analyst.post(`/api/studies/${studyId}/datasets/${confirmed.body.id}/confirm`).send({}).expect(201);
+    // The restarted server: the same database and secret, a new process's empty preview store.
+    const restarted = createApp({ config: t.config, db: t.db, mailer: t.services.mailer, fitJobs: t.app.locals.fitJobs, log: () => {} });
+    const agent = request.agent(restarted);
+    await agent.post("/api/dev/demo-sign-in").send({ email: "analyst@demo.covarion.test" }).expect(200);
+    const late = await agent.post(`/api/studies/${studyId}/datasets/${preview.body.id}/confirm`).send({}).expect(410);
+    expect(late.body.error).toEqual({ code: "gone", message: "this upload expired; upload the file again" });
+    await agent.get(`/api/studies/${studyId}/datasets/${preview.body.id}`).expect(410);
+    // Confirmed before the restart: a conflict, as before it.
+    await agent.post(`/api/studies/${studyId}/datasets/${confirmed.body.id}/confirm`).send({}).expect(409);
+    // The id belongs to another study, or was never issued: not found.
+    await agent.post(`/api/studies/${other}/datasets/${preview.body.id}/confirm`).send({}).expect(404);
+    await agent.post(`/api/studies/${studyId}/datasets/${crypto.randomUUID()}/confirm`).send({}).expect(404);
+    const forged = `${preview.body.id.slice(0, 24)}${preview.body.id.slice(24).split("").reverse().join("")}`;
+    await agent.post(`/api/studies/${studyId}/datasets/${forged}/confirm`).send({}).expect(404);
+    expect(await versionCount(studyId)).toBe(1);
   });
 
   it("a preview of another study is not found", async () => {
