@@ -21,6 +21,7 @@
  * model fields are malformed.
  */
 import { associationPaperCaution, circularityPaperCaution, type PaperCaution, smallSamplePaperCaution } from "./cautions";
+import { secondPersonSignOffLabel } from "./sign-off";
 import { type ModelSpec, type RegionResult, modelSpecSchema } from "./spec";
 
 /** Published references, keyed by the short form used in the text. */
@@ -465,8 +466,7 @@ function softwareSentences(input: MethodsInput, spec: ModelSpec): string[] {
 }
 
 /** Said when the study let one person start, approve and seal the fit. */
-export const singlePersonSignOffSentence =
-  "The same person started, approved, and sealed this fit; the study's setting “A second person signs off” was turned off.";
+export const singlePersonSignOffSentence = `The same person started, approved, and sealed this fit; the study's setting “${secondPersonSignOffLabel}” was turned off.`;
 
 function cautionsOf(input: MethodsInput, spec: ModelSpec, c: Citations): string[] {
   const out: string[] = [];

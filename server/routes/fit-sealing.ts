@@ -1,9 +1,14 @@
 /**
  * Approval and sealing of a fit:
  *
- * POST /api/fits/:fitId/approve → FitView with `approval`; 409 unless done, or when already approved (Owner, Reviewer)
- * POST /api/fits/:fitId/seal    → FitView with `seal` { by, at, sha256, intact }; 409 unless done and approved,
- *                                 or when already sealed (Owner)
+ * POST /api/fits/:fitId/approve → FitView with `approval`; 409 unless done, or when already approved (Owner, Reviewer);
+ *                                 409 second_person_required when the caller started the fit and the study's
+ *                                 "A second person signs off" is on
+ * POST /api/fits/:fitId/seal    → FitView with `seal` { by, at, sha256, intact, singlePersonSignOff }; 409 unless done
+ *                                 and approved, or when already sealed (Owner); 409 second_person_required when the
+ *                                 caller started and approved it and the setting is on
+ *
+ * The rule is server/model/sign-off.ts; services/sealing.ts applies it.
  *
  * Routes under /fits/:fitId find the fit's study before checking rights.
  */

@@ -5,7 +5,8 @@
  * GET    /api/studies?deleted=true       → deleted studies you own that can still be restored, with the date until which they can
  * POST   /api/studies                    → { name, description?, restricted? }; you become Owner (201)
  * GET    /api/studies/:studyId           → one study with your role, counts and capabilities
- * PATCH  /api/studies/:studyId           → { name?, description?, restricted? } (Owner)
+ * PATCH  /api/studies/:studyId           → { name?, description?, restricted?, secondPersonSignOff? } (Owner); the study's
+ *                                          view carries `secondPersonSignOff` ("A second person signs off", server/model/sign-off.ts)
  * DELETE /api/studies/:studyId           → { confirm: "<study name>" } soft delete (Owner, 204); 409 study_has_sealed_fits
  * POST   /api/studies/:studyId/restore   → undo a delete within 30 days (Owner); 410 restore_expired after
  * POST   /api/studies/:studyId/archive   → read-only for every role, still readable (Owner)
@@ -32,8 +33,8 @@ const patch = {
   params: studyParams,
   query: noQuery,
   body: z
-    .strictObject({ name: name.optional(), description: description.optional(), restricted: z.boolean().optional() })
-    .refine((b) => Object.keys(b).length > 0, { error: "give at least one of name, description, restricted" }),
+    .strictObject({ name: name.optional(), description: description.optional(), restricted: z.boolean().optional(), secondPersonSignOff: z.boolean().optional() })
+    .refine((b) => Object.keys(b).length > 0, { error: "give at least one of name, description, restricted, secondPersonSignOff" }),
 };
 const remove = { params: studyParams, query: noQuery, body: z.strictObject({ confirm: z.string({ error: "type the study's name to confirm" }) }) };
 const list = { query: z.strictObject({ deleted: z.enum(["true", "false"], { error: "must be true or false" }).optional() }) };

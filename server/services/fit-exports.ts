@@ -12,14 +12,15 @@
  *   unchanged), so `npm run --silent fit -- recipe.json` beside the two
  *   original files reproduces the numbers.
  * - Methods: server/model/methods-text.ts, fed with the recipe, the result,
- *   the data versions, the model's region-selection answer and the join of
- *   the fit's data versions.
+ *   the data versions, the model's region-selection answer, the join of
+ *   the fit's data versions and whether its seal records that one person
+ *   started, approved and sealed it.
  *
  * Route handler → this module → pure builders (toCsv, buildMethodsText).
  */
 import { eq, inArray } from "drizzle-orm";
 import type { Queryable } from "../../db/client";
-import { datasetVersions, models, type Fit } from "../../db/schema";
+import { datasetVersions, fitSeals, models, type Fit } from "../../db/schema";
 import { toCsv, type CsvCell } from "../intake/export-csv";
 import { buildMethodsText, type MethodsInput, type MethodsText } from "../model/methods-text";
 import type { RegionResult } from "../model/spec";
@@ -121,10 +122,11 @@ export function recipeJson(fit: Pick<Fit, "recipe">): string {
 export async function methodsOf(db: Queryable, fit: Fit, softwareName = "Covarion"): Promise<MethodsText> {
   const regions = regionsOf(fit);
   const ids = [fit.brainVersionId, ...(fit.sheetVersionId ? [fit.sheetVersionId] : [])];
-  const [versions, [model], built] = await Promise.all([
+  const [versions, [model], built, [seal]] = await Promise.all([
     db.select().from(datasetVersions).where(inArray(datasetVersions.id, ids)),
     db.select({ regionSelection: models.regionSelection }).from(models).where(eq(models.id, fit.modelId)),
     buildFitInputs(db, inputsOfFit(fit)),
+    db.select({ singlePersonSignOff: fitSeals.singlePersonSignOff }).from(fitSeals).where(eq(fitSeals.fitId, fit.id)),
   ]);
   const brain = versions.find((v) => v.id === fit.brainVersionId);
   const sheet = fit.sheetVersionId ? versions.find((v) => v.id === fit.sheetVersionId) : undefined;
@@ -153,6 +155,7 @@ export async function methodsOf(db: Queryable, fit: Fit, softwareName = "Covario
     brainParticipants: built.data.participants.length,
     session: built.session === null ? null : { label: built.session, of: built.data.sessions?.labels.length ?? 1 },
     softwareName,
+    singlePersonSignOff: seal?.singlePersonSignOff === true,
   };
   return buildMethodsText(input);
 }

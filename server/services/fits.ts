@@ -100,7 +100,7 @@ export interface FitView extends FitSummaryView {
    * detail); with attenuation where it applies (services/attenuation.ts).
    */
   result: FitResultSummary | null;
-  /** Who approved the fit for sealing, and its seal { by, at, sha256, intact } (services/sealing.ts). */
+  /** Who approved the fit for sealing, and its seal { by, at, sha256, intact, singlePersonSignOff } (services/sealing.ts). */
   approval: Publication["approval"];
   seal: Publication["seal"];
 }
@@ -333,7 +333,7 @@ const fitViewRow = perDatabase((db) =>
       sheet: version("sheet_version_id"),
       approval: sql<{ at: string; id: string; name: string | null } | null>`(select json_build_object('at', a.approved_at, 'id', u.id, 'name', u.name)
         from ${fitApprovals} a join ${users} u on u.id = a.approved_by where a.fit_id = ${outerFit("id")})`,
-      seal: sql<{ at: string; sha256: string; id: string; name: string | null } | null>`(select json_build_object('at', s.sealed_at, 'sha256', s.sha256, 'id', u.id, 'name', u.name)
+      seal: sql<{ at: string; sha256: string; id: string; name: string | null; single: boolean } | null>`(select json_build_object('at', s.sealed_at, 'sha256', s.sha256, 'id', u.id, 'name', u.name, 'single', s.single_person_sign_off)
         from ${fitSeals} s join ${users} u on u.id = s.sealed_by where s.fit_id = ${outerFit("id")})`,
     })
     .from(fits)
@@ -379,7 +379,13 @@ export async function fitViewParts(db: Queryable, jobs: FitJobs, studyId: string
   let seal: Publication["seal"] = null;
   if (stored && row.seal) {
     stored.hash ??= sealHash(row.recipe, stored.result);
-    seal = { by: { id: row.seal.id, name: row.seal.name }, at: new Date(row.seal.at).toISOString(), sha256: row.seal.sha256, intact: stored.hash === row.seal.sha256 };
+    seal = {
+      by: { id: row.seal.id, name: row.seal.name },
+      at: new Date(row.seal.at).toISOString(),
+      sha256: row.seal.sha256,
+      intact: stored.hash === row.seal.sha256,
+      singlePersonSignOff: row.seal.single === true,
+    };
   }
   const approval: Publication["approval"] = stored && row.approval ? { by: { id: row.approval.id, name: row.approval.name }, at: new Date(row.approval.at).toISOString() } : null;
   const head: FitView = {

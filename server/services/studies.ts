@@ -1,6 +1,7 @@
 /**
  * Studies: create (the creator becomes Owner), read, update (name,
- * description, restricted flag), and the life cycle that never loses what
+ * description, restricted flag, "A second person signs off" — see
+ * server/model/sign-off.ts), and the life cycle that never loses what
  * was recorded:
  *
  * - delete is a soft delete an Owner can undo for 30 days (restore); after
@@ -47,6 +48,8 @@ export interface StudySummary {
 export interface StudyDetail extends StudySummary {
   /** Actions the caller's role allows in this study (see server/auth/permissions.ts). */
   capabilities: string[];
+  /** The setting "A second person signs off" (server/model/sign-off.ts): while true, whoever started a fit cannot approve it. */
+  secondPersonSignOff: boolean;
 }
 
 interface Actor {
@@ -140,7 +143,7 @@ export async function listStudies(db: Database, userId: string): Promise<StudySu
 
 export async function studyDetail(db: Database, study: Study, role: Role): Promise<StudyDetail> {
   const counts = (await studyCounts(db, [study.id])).get(study.id) as StudyCounts;
-  return { ...summary(study, role, counts), capabilities: capabilitiesOf(role, study) };
+  return { ...summary(study, role, counts), capabilities: capabilitiesOf(role, study), secondPersonSignOff: study.secondPersonSignOff };
 }
 
 export interface NewStudy {
@@ -182,9 +185,14 @@ export interface StudyChanges {
   name?: string;
   description?: string;
   restricted?: boolean;
+  secondPersonSignOff?: boolean;
 }
 
-/** Renames, describes or (un)restricts a study; records only the fields that changed. */
+/**
+ * Renames, describes or (un)restricts a study, or turns "A second person
+ * signs off" on or off; records only the fields that changed (the setting
+ * as its own event, study.sign_off_changed).
+ */
 export async function updateStudy(db: Database, actor: Actor, study: Study, role: Role, changes: StudyChanges, now: Date): Promise<StudyDetail> {
   const updated = await db.transaction(async (tx) => {
     const [row] = await tx
@@ -204,6 +212,18 @@ export async function updateStudy(db: Database, actor: Actor, study: Study, role
     }
     if (Object.keys(after).length > 0) {
       await recordEvent(tx, { studyId: study.id, actorId: actor.id, kind: "study.updated", targetType: "study", targetId: study.id, before, after, at: now });
+    }
+    if (row.secondPersonSignOff !== study.secondPersonSignOff) {
+      await recordEvent(tx, {
+        studyId: study.id,
+        actorId: actor.id,
+        kind: "study.sign_off_changed",
+        targetType: "study",
+        targetId: study.id,
+        before: { secondPersonSignOff: study.secondPersonSignOff },
+        after: { secondPersonSignOff: row.secondPersonSignOff },
+        at: now,
+      });
     }
     return row;
   });

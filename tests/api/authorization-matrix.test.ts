@@ -229,7 +229,8 @@ async function makeFixture(withData = false, state?: "deleted" | "archived"): Pr
   if (withData) {
     await seedDemoDatasets(t.db, { studyId: study.id, uploadedBy: owner, now });
     const jobs = t.app.locals.fitJobs as FitJobs;
-    const fit = await createFit(t.db, jobs, { id: owner }, study, model.id, now, "matrix");
+    // The Analyst starts the fit, so the Owner and the Reviewer may approve it ("A second person signs off" is on).
+    const fit = await createFit(t.db, jobs, { id: ids.get("analyst") as string }, study, model.id, now, "matrix");
     await jobs.whenIdle();
     const [done] = await t.db.select().from(fits).where(eq(fits.id, fit.id));
     const { id: _id, ...copy } = done;

@@ -9,7 +9,7 @@ const owner = { approve: true, seal: true };
 const reviewer = { approve: true, seal: false };
 const analyst = { approve: false, seal: false };
 const approval = { by: { id: "u2", name: "Rowan Reviewer" }, at: "2026-03-02T10:00:00.000Z" };
-const seal = { by: { id: "u1", name: "Oda Owner" }, at: "2026-03-03T09:30:00.000Z", sha256: "ab12".repeat(16), intact: true };
+const seal = { by: { id: "u1", name: "Oda Owner" }, at: "2026-03-03T09:30:00.000Z", sha256: "ab12".repeat(16), intact: true, singlePersonSignOff: false };
 
 describe("publish panel state", () => {
   it("an unfinished fit offers nothing", () => {
