@@ -5,6 +5,7 @@ import { Card, Empty, Failure, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { useActivity, type ActivityEvent } from "../hooks/use-activity";
 import { useMembers } from "../hooks/use-team";
+import { signOffSettingWords } from "../server/model/sign-off";
 
 const kindOptions = [
   { value: "", label: "Everything" },
@@ -102,6 +103,8 @@ export function describeEvent(event: ActivityEvent): string {
       return "archived the study (read-only for everyone)";
     case "study.unarchived":
       return "unarchived the study";
+    case "study.sign_off_changed":
+      return signOffSettingWords(field(after, "secondPersonSignOff") === "true");
     case "invitation.sent":
       return `invited ${field(after, "email") ?? "someone"} as ${field(after, "role") ?? "a member"}`;
     case "invitation.accepted":
@@ -139,7 +142,7 @@ export function describeEvent(event: ActivityEvent): string {
     case "fit.approved":
       return "approved a fit for sealing";
     case "fit.sealed":
-      return `sealed a fit (SHA-256 ${(field(after, "sha256") ?? "").slice(0, 12)}…)`;
+      return `sealed a fit (SHA-256 ${(field(after, "sha256") ?? "").slice(0, 12)}…)${field(after, "singlePersonSignOff") === "true" ? " that they had also started and approved" : ""}`;
     default:
       return event.kind.replace(/[._]/g, " ");
   }
