@@ -10,12 +10,14 @@
  *
  * Redirect URIs: the configured public URL's callback, and the same path on
  * any loopback host and port (so tests and local runs on other ports work).
+ * Requests naming another host than a loopback name are refused (421).
  */
 import { createHash, generateKeyPairSync } from "node:crypto";
 import { createServer, type Server } from "node:http";
 import type { AddressInfo } from "node:net";
 import express from "express";
 import Provider, { type Configuration } from "oidc-provider";
+import { isLoopbackHost } from "../http/host-check";
 import { escapeHtml } from "../services/mailer";
 
 export interface FakePerson {
@@ -58,6 +60,11 @@ export async function startIdentityFake(options: IdentityFakeOptions): Promise<I
 
   const app = express();
   app.disable("x-powered-by");
+  // A page on a rebound DNS name reaches 127.0.0.1 under its own name: answer loopback names only.
+  app.use((req, res, next) => {
+    if (isLoopbackHost(req.get("host"))) return next();
+    res.status(421).type("text/plain").send("The local test identity service answers requests for localhost, 127.0.0.1 and [::1] only.\n");
+  });
   const server: Server = createServer(app);
   await new Promise<void>((resolve, reject) => {
     server.once("error", reject);

@@ -225,6 +225,13 @@ describe("demo and development: loopback names only (DNS rebinding)", () => {
     await request(t.app).post("/api/dev/demo-sign-in").set("Host", "evil.example").send({ email: "owner@demo.covarion.test" }).expect(421);
   });
 
+  it("the local identity service answers loopback names only", async () => {
+    const issuer = t.services.institution?.issuer ?? "";
+    await request(issuer).get("/.well-known/openid-configuration").set("Host", "evil.example").expect(421);
+    await request(issuer).get("/.well-known/openid-configuration").set("Host", new URL(issuer).host).expect(200);
+    await request(issuer).get("/.well-known/openid-configuration").set("Host", `localhost:${new URL(issuer).port}`).expect(200);
+  });
+
   it("answers localhost, 127.0.0.1 and [::1] on any port", async () => {
     for (const host of ["localhost:3000", "127.0.0.1", "[::1]:8080", "LOCALHOST"]) {
       await request(t.app).get("/api/dev/mail").set("Host", host).expect(200);
