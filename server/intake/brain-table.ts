@@ -24,6 +24,7 @@ import { IntakeError, ProblemList, problem, type Problem } from "./errors";
 import { notANumberText, parseCategoryCell, quoteCell } from "./cells";
 import { findColumn, profileColumn, resolveIdColumn, unknownColumnError, type ColumnProfile } from "./columns";
 import type { RawTable } from "./read-table";
+import { normaliseId, sameParticipantText } from "./roster";
 
 export type BrainLayout = "wide" | "long";
 
@@ -327,7 +328,8 @@ function readWide(
   const regions = regionIdx.map((j) => raw.header[j]);
   const n = raw.rows.length;
   const entries: BrainEntry[] = [];
-  const seen = new Map<string, number>();
+  // By the roster's rule (normaliseId): ids that are one participant there are one participant here.
+  const seen = new Map<string, BrainEntry>();
   let keysOk = true;
   for (let i = 0; i < n; i++) {
     const key = readKey(raw, i, idIndex, sessionIndex, problems);
@@ -335,22 +337,26 @@ function readWide(
       keysOk = false;
       continue;
     }
-    const k = `${key.id}\u0000${key.session ?? ""}`;
+    const k = `${normaliseId(key.id)}\u0000${key.session ?? ""}`;
     const first = seen.get(k);
     if (first !== undefined) {
+      const once = `each participant${key.session === null ? "" : " and session"} must appear once`;
       problems.add(
         problem(
           file,
           "duplicate_participant",
-          `${entryText(key.id, key.session)} appears again (first at row ${first}); each participant${key.session === null ? "" : " and session"} must appear once`,
+          first.id === key.id
+            ? `${entryText(key.id, key.session)} appears again (first at row ${first.row}); ${once}`
+            : `${sameParticipantText(key.id, first.id, first.row, { session: key.session })}; ${once}`,
           { row: raw.rowNumbers[i], column: raw.header[idIndex] },
         ),
       );
       keysOk = false;
       continue;
     }
-    seen.set(k, raw.rowNumbers[i]);
-    entries.push({ id: key.id, session: key.session, row: raw.rowNumbers[i] });
+    const entry = { id: key.id, session: key.session, row: raw.rowNumbers[i] };
+    seen.set(k, entry);
+    entries.push(entry);
   }
   // Cells were parsed once when the columns were profiled; report the bad ones, column by column.
   const values: Float64Array[] = [];
@@ -411,6 +417,9 @@ function readLong(
   const regionNumber = new Map<string, number>();
   const entryOfId = new Map<string, number | Map<string, number>>();
   const entries: BrainEntry[] = [];
+  // Entries whose ids are one participant by the roster's rule (normaliseId), in the same session, form one group.
+  const groupOfKey = new Map<string, number>();
+  const groupOfEntry: number[] = [];
   const cellEntry = new Int32Array(n);
   const cellRegion = new Int32Array(n);
   const kept = new Int32Array(n);
@@ -438,6 +447,13 @@ function readLong(
     if (e === undefined) {
       e = entries.length;
       entries.push({ id: key.id, session: key.session, row: raw.rowNumbers[i] });
+      const g = `${normaliseId(key.id)}\u0000${key.session ?? ""}`;
+      let group = groupOfKey.get(g);
+      if (group === undefined) {
+        group = groupOfKey.size;
+        groupOfKey.set(g, group);
+      }
+      groupOfEntry.push(group);
       if (key.session === null) entryOfId.set(key.id, e);
       else {
         let sessions = byId as Map<string, number> | undefined;
@@ -489,28 +505,35 @@ function readLong(
   };
   const valueText = isText(valueProfile);
   const seText = seProfile ? isText(seProfile) : null;
-  // Second pass: the first row of each entry and region; a second one is a duplicate.
-  const firstRow = new Cells(m, regionNumber.size, cells);
+  // Second pass: the first row of each participant (group), session and region; a second one is a duplicate.
+  const firstRow = new Cells(groupOfKey.size, regionNumber.size, cells);
+  const firstEntry = new Int32Array(n);
   for (let c = 0; c < cells; c++) {
     const e = cellEntry[c];
     const r = cellRegion[c];
     const i = kept[c];
-    const first = firstRow.get(e, r);
+    const g = groupOfEntry[e];
+    const first = firstRow.get(g, r);
     if (first >= 0) {
       const entry = entries[e];
+      const earlier = entries[firstEntry[first]];
       const region = raw.rows[i][regionIndex].trim();
+      const once = `each participant${entry.session === null ? "" : " and session"} has one value per region`;
       problems.add(
         problem(
           file,
           "duplicate_participant",
-          `${entryText(entry.id, entry.session)} has region ${quoteCell(region)} again (first at row ${raw.rowNumbers[first]}); each participant${entry.session === null ? "" : " and session"} has one value per region`,
+          earlier.id === entry.id
+            ? `${entryText(entry.id, entry.session)} has region ${quoteCell(region)} again (first at row ${raw.rowNumbers[first]}); ${once}`
+            : `${sameParticipantText(entry.id, earlier.id, raw.rowNumbers[first], { session: entry.session, region })}; ${once}`,
           { row: raw.rowNumbers[i], column: raw.header[idIndex] },
         ),
       );
       keysOk = false;
       continue;
     }
-    firstRow.set(e, r, i);
+    firstRow.set(g, r, i);
+    firstEntry[i] = e;
     const idx = position[r];
     const where = () => ({ row: raw.rowNumbers[i], column: raw.header[valueIndex] });
     if (valueText[i] === 1) problems.add(problem(file, "not_a_number", notANumberText(raw.rows[i][valueIndex]), where()));

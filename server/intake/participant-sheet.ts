@@ -15,6 +15,7 @@ import { IntakeError, ProblemList, problem, type Problem } from "./errors";
 import { notANumberText, parseCategoryCell, parseNumberCell, quoteCell } from "./cells";
 import { findColumn, profileColumn, resolveIdColumn, unknownColumnError, type ColumnProfile } from "./columns";
 import type { RawTable } from "./read-table";
+import { normaliseId, sameParticipantText } from "./roster";
 
 export interface ParticipantSheetOptions {
   /** Participant id column; default `participant_id` if present, else the first column. */
@@ -107,7 +108,8 @@ export function analyseParticipantSheet(raw: RawTable, options: ParticipantSheet
 
   const ids: string[] = [];
   const rows: number[] = [];
-  const firstRow = new Map<string, number>();
+  // By the roster's rule (normaliseId): ids that are one participant there are one participant here.
+  const firstRow = new Map<string, { id: string; row: number }>();
   raw.rows.forEach((row, i) => {
     const rowNumber = raw.rowNumbers[i];
     const pid = parseCategoryCell(row[id.index]);
@@ -115,19 +117,22 @@ export function analyseParticipantSheet(raw: RawTable, options: ParticipantSheet
       problems.add(problem(file, "missing_id", "the participant id is missing", { row: rowNumber, column: id.name }));
       return;
     }
-    const first = firstRow.get(pid);
+    const key = normaliseId(pid);
+    const first = firstRow.get(key);
     if (first !== undefined) {
       problems.add(
         problem(
           file,
           "duplicate_participant",
-          `participant ${quoteCell(pid)} appears again (first at row ${first}); each participant must appear once`,
+          first.id === pid
+            ? `participant ${quoteCell(pid)} appears again (first at row ${first.row}); each participant must appear once`
+            : `${sameParticipantText(pid, first.id, first.row)}; each participant must appear once`,
           { row: rowNumber, column: id.name },
         ),
       );
       return;
     }
-    firstRow.set(pid, rowNumber);
+    firstRow.set(key, { id: pid, row: rowNumber });
   });
 
   const columns: SheetColumn[] = [];

@@ -71,6 +71,18 @@ export function normaliseId(id: string): string {
 }
 
 /**
+ * Why two different ids in one file are one participant, for the message
+ * that refuses the second: within one file such ids are duplicates, as if
+ * written the same (the join could not tell which one a row of the other
+ * file belongs to).
+ */
+export function sameParticipantText(id: string, firstId: string, firstRow: number, where: { session?: string | null; region?: string } = {}): string {
+  const session = where.session != null ? ` in session ${quoteCell(where.session)}` : "";
+  const region = where.region !== undefined ? ` (both have region ${quoteCell(where.region)})` : "";
+  return `participant ${quoteCell(id)}${session} is the same participant as ${quoteCell(firstId)} at row ${firstRow}${region}: ids are matched ignoring spaces around them, upper and lower case, and a leading "sub-"`;
+}
+
+/**
  * Joins the distinct participant ids of a brain table with those of a
  * participant sheet. Throws IntakeError (422) when a mapping names an id
  * that is not in its file or maps an id twice.

@@ -340,7 +340,7 @@ describe("storing without holding the database", () => {
 
   it("stores and reads back ids and values that need quoting in bulk loads", async () => {
     const studyId = await newStudy();
-    const ids = ['sub-"q"', "sub-a,b", "sub-\\.", "\\.", "sub-ü-東京", "sub-multi\nline", "sub-tab\tx", "NULL"];
+    const ids = ['sub-"q"', "sub-a,b", "sub-x\\.", "\\.", "sub-ü-東京", "sub-multi\nline", "sub-tab\tx", "NULL"];
     const quoted = (v: string) => `"${v.replaceAll('"', '""')}"`;
     const text = `participant_id,site,score\n${ids.map((id, k) => `${quoted(id)},${quoted(k % 2 ? "a,b \"c\"" : "\\N")},${k}`).join("\n")}\n`;
     const { version } = await uploadAndConfirm(agents.analyst, studyId, "participants", text, "odd.csv", { types: { site: "category" } });
@@ -375,6 +375,22 @@ describe("bad input is refused with the envelope and nothing is stored", () => {
       expect((await agents.analyst.get(`/api/studies/${studyId}/datasets`).expect(200)).body).toEqual([]);
     });
   }
+
+  it("ids the matching rule treats as one participant are refused within one file, naming both rows", async () => {
+    const studyId = await newStudy();
+    const rows = Array.from({ length: 29 }, (_, i) => `sub-${String(i + 1).padStart(2, "0")}\t${20 + i}`);
+    const sheet = await upload(agents.analyst, studyId, "participants", `participant_id\tage\n${rows.join("\n")}\nSUB-04\t50\n`, "participants.tsv").expect(422);
+    expect(sheet.body.error.code).toBe("duplicate_participant");
+    expect(sheet.body.error.message).toContain('participants.tsv row 31, column participant_id: participant "SUB-04" is the same participant as "sub-04" at row 5');
+    expect(sheet.body.error.details.problems).toEqual([expect.objectContaining({ file: "participants.tsv", row: 31, column: "participant_id" })]);
+    const wide = await upload(agents.analyst, studyId, "brain", "participant_id,a\nsub-04,0.1\n04,0.2\n", "brain.csv").expect(422);
+    expect(wide.body.error.message).toContain('brain.csv row 3, column participant_id: participant "04" is the same participant as "sub-04" at row 2');
+    const long = await upload(agents.analyst, studyId, "brain", "id,region,value\nsub-04,a,0.1\nsub-04,b,0.2\n sub-04 ,b,0.3\n", "long.csv").expect(422);
+    expect(long.body.error.message).toContain('long.csv row 4, column id: participant "sub-04" has region "b" again (first at row 3)');
+    const longRule = await upload(agents.analyst, studyId, "brain", "id,region,value\nsub-04,a,0.1\nSUB-04,a,0.2\n", "long.csv").expect(422);
+    expect(longRule.body.error.message).toContain('long.csv row 3, column id: participant "SUB-04" is the same participant as "sub-04" at row 2 (both have region "a")');
+    expect(await versionCount(studyId)).toBe(0);
+  });
 
   it("more than 20,000 columns → 413", async () => {
     const studyId = await newStudy();

@@ -206,3 +206,23 @@ describe("long brain tables", () => {
     expect(refusal(text, { regions: ["c"] }).problems[0].code).toBe("unknown_region");
   });
 });
+
+describe("ids the matching rule treats as one participant", () => {
+  it("are refused in a wide table, per session, naming both rows", () => {
+    const e = refusal("participant_id,session,a\nsub-04,1,0.1\nsub-04,2,0.2\nSub-04,1,0.3\n04,3,0.4\n");
+    expect(e.problems.map((p) => [p.code, p.row, p.column])).toEqual([["duplicate_participant", 4, "participant_id"]]);
+    expect(e.message).toBe(
+      'brain.csv row 4, column participant_id: participant "Sub-04" in session "1" is the same participant as "sub-04" at row 2: ids are matched ignoring spaces around them, upper and lower case, and a leading "sub-"; each participant and session must appear once',
+    );
+  });
+
+  it("are refused in a long table within the same session and region, naming both rows", () => {
+    const e = refusal("participant_id,session,region,value\nsub-04,1,a,0.1\nsub-04,1,b,0.2\nSUB-04,1,a,0.3\nsub-04,2,a,0.4\n");
+    expect(e.problems.map((p) => [p.code, p.row, p.column])).toEqual([["duplicate_participant", 4, "participant_id"]]);
+    expect(e.message).toContain(
+      'brain.csv row 4, column participant_id: participant "SUB-04" in session "1" is the same participant as "sub-04" at row 2 (both have region "a"): ids are matched',
+    );
+    const exact = refusal("participant_id,region,value\ns1,a,1\ns2,a,2\ns1,a,3\n");
+    expect(exact.message).toContain('brain.csv row 4, column participant_id: participant "s1" has region "a" again (first at row 2)');
+  });
+});

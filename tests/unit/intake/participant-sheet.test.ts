@@ -84,3 +84,24 @@ describe("participant sheets", () => {
     expect(a.sheet?.columns[0].values).toEqual([null, null]);
   });
 });
+
+describe("ids the matching rule treats as one participant", () => {
+  it("are refused within one sheet like exact duplicates, naming both rows, the file and the column", () => {
+    const e = refusal("participant_id\tage\nsub-04\t30\nsub-05\t31\nSUB-04\t32\n 04 \t33\nsub-05\t34\n");
+    expect(e.status).toBe(422);
+    expect(e.problems.map((p) => [p.code, p.file, p.row, p.column])).toEqual([
+      ["duplicate_participant", "participants.tsv", 4, "participant_id"],
+      ["duplicate_participant", "participants.tsv", 5, "participant_id"],
+      ["duplicate_participant", "participants.tsv", 6, "participant_id"],
+    ]);
+    expect(e.problems[0].message).toBe(
+      'participants.tsv row 4, column participant_id: participant "SUB-04" is the same participant as "sub-04" at row 2: ids are matched ignoring spaces around them, upper and lower case, and a leading "sub-"; each participant must appear once',
+    );
+    expect(e.problems[1].message).toContain('participant "04" is the same participant as "sub-04" at row 2');
+    expect(e.problems[2].message).toContain('participant "sub-05" appears again (first at row 3)');
+  });
+
+  it("ids the rule keeps apart are accepted", () => {
+    expect(sheet("participant_id\tage\nsub-4\t30\nsub-04\t31\nsub_04\t32\nsub-\t33\n").ids).toEqual(["sub-4", "sub-04", "sub_04", "sub-"]);
+  });
+});
