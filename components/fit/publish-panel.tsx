@@ -1,8 +1,10 @@
 /**
  * A done fit's hand-over to a paper: where it stands (approved, sealed with
- * its hash), the approve and seal actions for those whose role allows them,
- * downloads of the region table and the recipe, and the methods paragraph
- * with its references and a Copy button.
+ * its hash) and who may act next, the approve and seal actions for those
+ * whose role and the study's "A second person signs off" allow them (the
+ * person the setting stops sees why instead of the button), downloads of
+ * the region table and the recipe, and the methods paragraph with its
+ * references and a Copy button.
  */
 import { useState } from "react";
 import { StyleSheet, View } from "react-native";
@@ -11,18 +13,25 @@ import { Badge, Button, Failure, Heading, Notice, Pending, Txt } from "../ui";
 import { fonts, palette, radius, space, type } from "../theme";
 import { copyText } from "./clipboard";
 import { publishState } from "./publish-state";
+import { useMe } from "../../hooks/use-me";
 import { can, useStudy } from "../../hooks/use-study";
 import type { FitView } from "../../hooks/use-fits";
 import { fitDownloads, useApproveFit, useFitMethods, useSealFit, type MethodsText } from "../../hooks/use-fit-exports";
 
 export function PublishPanel({ fit }: { fit: FitView }) {
   const study = useStudy(fit.studyId);
+  const me = useMe();
   const done = fit.status === "done";
   const methods = useFitMethods(fit.id, done);
   const approve = useApproveFit(fit.id, fit.studyId);
   const seal = useSealFit(fit.id, fit.studyId);
   if (!done) return null;
-  const state = publishState(fit, { approve: can(study.data, "fits.approve"), seal: can(study.data, "fits.seal") }, (iso) => new Date(iso).toLocaleString());
+  const state = publishState(
+    fit,
+    { approve: can(study.data, "fits.approve"), seal: can(study.data, "fits.seal"), id: me.data?.id ?? null },
+    { secondPersonSignOff: study.data?.secondPersonSignOff ?? true },
+    (iso) => new Date(iso).toLocaleString(),
+  );
   const downloads = fitDownloads(fit.id);
   const actionError = approve.error ?? seal.error;
   return (
@@ -48,12 +57,22 @@ export function PublishPanel({ fit }: { fit: FitView }) {
           SHA-256 of the recipe and result: {state.hash.full}
         </Txt>
       ) : null}
+      {state.signOffNote ? (
+        <Txt kind="caption" style={styles.hint} testID="single-person-sign-off">
+          {state.signOffNote}
+        </Txt>
+      ) : null}
       {state.broken ? (
         <Notice tone="danger" title="The seal does not match">
           The stored recipe or result no longer hashes to the seal's SHA-256. Report this to the study's Owner.
         </Notice>
       ) : null}
       {actionError ? <Notice tone="danger">{actionError.message}</Notice> : null}
+      {state.refusal ? (
+        <Notice tone="caution" title="A second person signs off" testID="sign-off-refusal">
+          {state.refusal}
+        </Notice>
+      ) : null}
       {state.canApprove || state.canSeal || state.hint ? (
         <View style={styles.actions}>
           {state.canApprove ? <Button label="Approve for sealing" onPress={() => approve.mutate()} busy={approve.isPending} testID="approve-fit" /> : null}

@@ -84,6 +84,9 @@ export function whoMaySeal(secondPersonSignOff: boolean, starter: SignOffPerson,
   return secondPersonSignOff && starter.id === approver.id ? `an Owner other than ${named(starter, viewerId, "the person who started and approved it")}` : "an Owner";
 }
 
+/** Said to the person who started a fit when the setting is off and they could sign it off alone (the publish panel). */
+export const singlePersonWarning = `“${secondPersonSignOffLabel}” is off in this study: a fit one person starts, approves and seals says so on its seal and in its methods paragraph.`;
+
 /** What the seal of a fit one person started, approved and sealed says (the publish panel). */
 export const singlePersonSealNote = `One person started, approved and sealed this fit: the study's setting “${secondPersonSignOffLabel}” was off.`;
 
