@@ -9,6 +9,7 @@ import { can, useArchiveStudy, useDeleteStudy, useStudy, useUnarchiveStudy, useU
 import { useMe } from "../hooks/use-me";
 import { useChangeRole, useInvite, useMembers, usePendingInvitations, useRemoveMember, useRevokeInvitation, type Member } from "../hooks/use-team";
 import type { Role } from "../hooks/use-studies";
+import { secondPersonSignOffExplanation, secondPersonSignOffLabel } from "../server/model/sign-off";
 import { restorableUntil, restoreWindowDays } from "../server/model/study-lifecycle";
 
 export const roleOptions: readonly ChoiceOption<Role>[] = [
@@ -27,7 +28,7 @@ export function TeamScreen(props: { studyId: string }) {
       <Members study={study.data} />
       {can(study.data, "invitations.create") ? <Invite studyId={props.studyId} /> : null}
       {can(study.data, "invitations.list") ? <PendingList studyId={props.studyId} canRevoke={can(study.data, "invitations.revoke")} /> : null}
-      {can(study.data, "study.update") ? <Settings study={study.data} /> : null}
+      {can(study.data, "study.update") ? <Settings study={study.data} /> : <SignOffSetting study={study.data} />}
       {can(study.data, "study.archive") || can(study.data, "study.unarchive") ? <ArchiveStudy study={study.data} /> : null}
       {can(study.data, "study.delete") ? <DeleteStudy study={study.data} /> : null}
     </View>
@@ -163,8 +164,33 @@ function Settings({ study }: { study: StudyDetail }) {
         </View>
         <Switch value={study.restricted} onValueChange={(restricted) => update.mutate({ restricted })} accessibilityLabel="Restrict participant-level rows" />
       </View>
+      <View style={styles.switchRow}>
+        <View style={{ flexShrink: 1 }}>
+          <Txt kind="label">{secondPersonSignOffLabel}</Txt>
+          <Txt kind="caption">{secondPersonSignOffExplanation}</Txt>
+        </View>
+        <Switch
+          value={study.secondPersonSignOff}
+          onValueChange={(secondPersonSignOff) => update.mutate({ secondPersonSignOff })}
+          accessibilityLabel={secondPersonSignOffLabel}
+          testID="second-person-sign-off"
+        />
+      </View>
       {update.error ? <Notice tone="danger">{update.error.message}</Notice> : null}
       <Button label="Save name and description" variant="secondary" onPress={() => update.mutate({ name: name.trim(), description: description.trim() })} busy={update.isPending} />
+    </Card>
+  );
+}
+
+/** "A second person signs off", read-only, for those who may not change the study's settings. */
+function SignOffSetting({ study }: { study: StudyDetail }) {
+  return (
+    <Card testID="second-person-sign-off-state">
+      <View style={styles.memberHead}>
+        <Heading level={2}>{secondPersonSignOffLabel}</Heading>
+        <Badge label={study.secondPersonSignOff ? "On" : "Off"} tone={study.secondPersonSignOff ? "accent" : "neutral"} />
+      </View>
+      <Txt kind="caption">{secondPersonSignOffExplanation} An Owner of the study changes it.</Txt>
     </Card>
   );
 }

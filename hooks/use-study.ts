@@ -2,7 +2,7 @@ import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/r
 import { apiFetch, jsonBody } from "./api";
 import { studyKeys } from "./use-studies";
 import type { Action } from "../server/auth/permissions";
-import type { StudyDetail } from "../server/services/studies";
+import type { StudyChanges, StudyDetail } from "../server/services/studies";
 
 export type { StudyDetail };
 
@@ -32,7 +32,7 @@ export function useCreateStudy() {
 export function useUpdateStudy(studyId: string) {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (changes: { name?: string; description?: string; restricted?: boolean }) =>
+    mutationFn: (changes: StudyChanges) =>
       apiFetch<StudyDetail>(`/api/studies/${encodeURIComponent(studyId)}`, jsonBody("PATCH", changes)),
     onSuccess: () => client.invalidateQueries({ queryKey: studyKeys.all }),
   });
