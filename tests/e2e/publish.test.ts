@@ -1,11 +1,20 @@
 /**
  * Handing a fit to a paper as the demo Owner, at phone and wide sizes: open
- * a done fit (run through the API first) → the methods paragraph shows and
- * copies → the region table downloads as CSV → approve → seal → the Sealed
- * badge with the hash → the activity trail names both steps.
+ * a done fit the demo Analyst ran (through the API first) → the panel says
+ * who may approve → the methods paragraph shows and copies → the region
+ * table downloads as CSV → approve → seal → the Sealed badge with the hash
+ * → the activity trail names both steps.
+ *
+ * "A second person signs off": on a fit the Owner ran, the Owner sees why
+ * they may not approve it; they turn the setting off on the Team screen
+ * (the activity trail says so, a Reviewer sees it read-only), approve and
+ * seal it alone, and the panel and the methods paragraph say one person
+ * signed off.
  */
 import { readFileSync } from "node:fs";
 import { beforeAll, expect, it } from "vitest";
+import { singlePersonSignOffSentence } from "../../server/model/methods-text";
+import { approvalRefusalMessage, singlePersonSealNote, singlePersonWarning } from "../../server/model/sign-off";
 import { openPage, phone, screenshot, wide } from "./harness";
 import { sharedServerAndBrowser } from "./session";
 
@@ -13,12 +22,14 @@ const e2e = sharedServerAndBrowser();
 let studyId: string;
 const fitIds = new Map<string, string>();
 
-/** Calls the API as the demo Owner (a real session cookie from the demo sign-in route). */
-async function ownerApi(): Promise<(path: string, init?: { method?: string; body?: unknown }) => Promise<unknown>> {
+type Api = (path: string, init?: { method?: string; body?: unknown }) => Promise<unknown>;
+
+/** Calls the API as a demo person (a real session cookie from the demo sign-in route). */
+async function demoApi(role: "owner" | "analyst"): Promise<Api> {
   const signIn = await fetch(`${e2e.server.url}/api/dev/demo-sign-in`, {
     method: "POST",
     headers: { "Content-Type": "application/json", Origin: e2e.server.url },
-    body: JSON.stringify({ email: "owner@demo.covarion.test" }),
+    body: JSON.stringify({ email: `${role}@demo.covarion.test` }),
   });
   if (!signIn.ok) throw new Error(`demo sign-in answered ${signIn.status}`);
   const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
@@ -34,10 +45,16 @@ async function ownerApi(): Promise<(path: string, init?: { method?: string; body
 }
 
 beforeAll(async () => {
-  const api = await ownerApi();
-  const studies = (await api("/api/studies")) as { id: string }[];
+  const owner = await demoApi("owner");
+  const analyst = await demoApi("analyst");
+  const studies = (await owner("/api/studies")) as { id: string }[];
   studyId = studies[0].id;
-  for (const label of ["phone", "wide"]) {
+  // The Analyst runs the fits the Owner approves; the Owner runs the one they may not approve while the setting is on.
+  for (const [label, api] of [
+    ["phone", analyst],
+    ["wide", analyst],
+    ["own", owner],
+  ] as const) {
     const model = (await api(`/api/studies/${studyId}/models`, {
       method: "POST",
       body: {
@@ -52,7 +69,7 @@ beforeAll(async () => {
   for (const fitId of fitIds.values()) {
     const deadline = Date.now() + 90_000;
     for (;;) {
-      const fit = (await api(`/api/fits/${fitId}`)) as { status: string };
+      const fit = (await owner(`/api/fits/${fitId}`)) as { status: string };
       if (fit.status === "done") break;
       if (fit.status === "failed" || Date.now() > deadline) throw new Error(`fit ${fitId} ended ${fit.status}`);
       await new Promise((r) => setTimeout(r, 250));
@@ -74,7 +91,10 @@ for (const [label, viewport] of [
       await page.goto(`${e2e.server.url}/studies/${studyId}/fits/${fitId}`);
       const panel = page.getByTestId("publish-panel");
       await panel.waitFor({ timeout: 60_000 });
-      await expect(page.getByTestId("publish-status").textContent()).resolves.toBe("Not yet approved for sealing.");
+      await expect(page.getByTestId("publish-status").textContent()).resolves.toBe(
+        "Not yet approved for sealing. Waiting for a Reviewer or Owner other than Tomas Ferreira to approve.",
+      );
+      await expect(page.getByTestId("sign-off-refusal").count()).resolves.toBe(0);
 
       // The methods paragraph, shown in full with its references, and copied.
       const methods = page.getByTestId("methods-text");
@@ -105,7 +125,7 @@ for (const [label, viewport] of [
 
       // Approve, then seal: the Sealed badge carries the hash.
       await page.getByTestId("approve-fit").click();
-      await page.getByTestId("publish-status").getByText(/^Approved for sealing by /).waitFor();
+      await page.getByTestId("publish-status").getByText(/^Approved for sealing by Maren Lindqvist .*\. Waiting for an Owner to seal\.$/).waitFor();
       await page.getByTestId("seal-fit").click();
       const badge = page.getByTestId("sealed-badge");
       await badge.waitFor();
@@ -126,3 +146,60 @@ for (const [label, viewport] of [
     }
   });
 }
+
+it("A second person signs off: the Owner may not approve their own fit, turns the setting off, and signs off alone", async () => {
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  const reviewer = await openPage(e2e.browser, wide);
+  try {
+    await page.goto(`${e2e.server.url}/sign-in`);
+    await page.getByRole("button", { name: "Sign in as the demo owner" }).click();
+    await page.waitForURL(/\/studies$/);
+    const fitId = fitIds.get("own") as string;
+    await page.goto(`${e2e.server.url}/studies/${studyId}/fits/${fitId}`);
+    await page.getByTestId("publish-panel").waitFor({ timeout: 60_000 });
+    await expect(page.getByTestId("publish-status").textContent()).resolves.toBe("Not yet approved for sealing. Waiting for a Reviewer or Owner other than you to approve.");
+    await expect(page.getByTestId("sign-off-refusal").textContent()).resolves.toContain(approvalRefusalMessage);
+    await expect(page.getByTestId("approve-fit").count()).resolves.toBe(0);
+    await page.getByTestId("sign-off-refusal").evaluate((element) => element.scrollIntoView({ block: "center" }));
+    await screenshot(page, "publish-second-person-phone");
+
+    // The Owner turns the setting off on the Team screen.
+    await page.getByRole("tab", { name: "Team" }).click();
+    const toggle = page.getByRole("switch", { name: "A second person signs off" });
+    await expect(toggle.isChecked()).resolves.toBe(true);
+    const saved = page.waitForResponse((r) => r.request().method() === "PATCH" && new URL(r.url()).pathname === `/api/studies/${studyId}`);
+    await toggle.click();
+    expect((await saved).status()).toBe(200);
+    await expect.poll(() => toggle.isChecked()).toBe(false);
+    await page.getByRole("tab", { name: "Activity" }).click();
+    await page.getByText("turned off “A second person signs off”").first().waitFor();
+
+    // A Reviewer sees the setting, read-only.
+    await reviewer.page.goto(`${e2e.server.url}/sign-in`);
+    await reviewer.page.getByRole("button", { name: "Sign in as the demo reviewer" }).click();
+    await reviewer.page.waitForURL(/\/studies$/);
+    await reviewer.page.goto(`${e2e.server.url}/studies/${studyId}/team`);
+    const state = reviewer.page.getByTestId("second-person-sign-off-state");
+    await state.waitFor();
+    await expect(state.textContent()).resolves.toContain("Off");
+    await expect(reviewer.page.getByRole("switch", { name: "A second person signs off" }).count()).resolves.toBe(0);
+
+    // Back on the fit: the Owner approves and seals it alone; the panel and the methods paragraph say so.
+    await page.goto(`${e2e.server.url}/studies/${studyId}/fits/${fitId}`);
+    await page.getByTestId("approve-fit").waitFor({ timeout: 60_000 });
+    await page.getByText(singlePersonWarning).first().waitFor();
+    await page.getByTestId("approve-fit").click();
+    await page.getByTestId("seal-fit").click();
+    await page.getByTestId("sealed-badge").waitFor();
+    await expect(page.getByTestId("single-person-sign-off").textContent()).resolves.toBe(singlePersonSealNote);
+    await page.getByTestId("toggle-methods").click();
+    await page.getByTestId("methods-text").getByText(singlePersonSignOffSentence, { exact: false }).waitFor();
+    await page.getByTestId("single-person-sign-off").evaluate((element) => element.scrollIntoView({ block: "start" }));
+    await screenshot(page, "publish-single-person-phone");
+    expect(errors).toEqual([]);
+    expect(reviewer.errors).toEqual([]);
+  } finally {
+    await context.close();
+    await reviewer.context.close();
+  }
+});
