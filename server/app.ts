@@ -153,7 +153,7 @@ export function createApp(deps: AppDeps): Express {
   app.use("/api", rosterRoutes(routeDeps));
   app.use("/api", plannerRoutes(routeDeps));
   app.use("/api", reliabilityRoutes(routeDeps));
-  app.use("/api", modelRoutes(routeDeps));
+  app.use("/api", modelRoutes(routeDeps, fitJobs.data));
   app.use("/api", fitRoutes(routeDeps, fitJobs));
   app.use("/api", fitExportRoutes(routeDeps));
   app.use("/api", fitSealingRoutes(routeDeps, fitJobs));

@@ -11,9 +11,12 @@
  *
  * `modelSpecProblems` lists the rules that need no data (a kind's required
  * fields, estimators a kind accepts, inference and correction that go
- * together); the fit itself checks everything again against the data.
+ * together; fit-rules.ts, which the fit engine applies too); the API then
+ * checks the model against the study's current data with the same rules
+ * (services/models.ts), and the fit checks everything again.
  */
 import { z } from "zod";
+import { estimatorsByKind, type SpecProblem, specProblems } from "./fit-rules";
 import { type ModelSpec, type ModelSpecInput, modelSpecSchema } from "./spec";
 
 export const regionSelections = ["anatomical-or-prior", "independent-data", "same-data"] as const;
@@ -35,60 +38,17 @@ export function isCircular(selection: RegionSelection): boolean {
   return selection === "same-data";
 }
 
-/** Estimators each kind accepts (the fit engine enforces the same list). */
-export const estimatorsByKind: Readonly<Record<ModelSpec["kind"], readonly ModelSpec["estimator"][]>> = {
-  "one-sample": ["ols", "rank", "huber", "bisquare"],
-  "two-group": ["ols", "welch", "rank", "huber", "bisquare"],
-  association: ["ols", "rank", "huber", "bisquare", "skipped", "bend"],
-  reliability: ["ols"],
-};
-
-export interface SpecProblem {
-  /** Field path inside the model fields, e.g. "predictor". */
-  field: string;
-  message: string;
-}
+export { estimatorsByKind, type SpecProblem };
 
 /**
- * Rules of a model that need no data. Returns every problem (empty when
- * the model is consistent). Cost O(fields).
+ * The form's rules of a model: the fit rules that need no data
+ * (fit-rules.ts, the same the engine applies), and that participants are
+ * set aside in the study (with a reason), never in a model. Returns every
+ * problem (empty when the model is consistent). Cost O(fields).
  */
 export function modelSpecProblems(spec: ModelSpec): SpecProblem[] {
-  const out: SpecProblem[] = [];
-  const add = (field: string, message: string) => out.push({ field, message });
-  const { kind } = spec;
-  if (!estimatorsByKind[kind].includes(spec.estimator)) add("estimator", `'${spec.estimator}' is not available for kind '${kind}'`);
-  if (kind === "association" && !spec.predictor) add("predictor", "an association needs a predictor (a numeric column of the participant sheet)");
-  if (kind !== "association" && spec.predictor) add("predictor", `not used by kind '${kind}'`);
-  if (kind === "two-group" && !spec.group) add("group", "a two-group model needs a grouping column");
-  if (spec.group && kind !== "two-group" && kind !== "association") add("group", `not used by kind '${kind}'`);
-  if (spec.levels && !spec.group) add("levels", "given without a group");
-  if (spec.levels && spec.levels[0] === spec.levels[1]) add("levels", "the two levels must differ");
-  if (spec.interaction && kind !== "association") add("interaction", `not used by kind '${kind}'`);
-  if (spec.interaction && kind === "association" && !spec.group) add("interaction", "an interaction needs a group");
-  if (spec.predictor && spec.covariates.includes(spec.predictor)) add("covariates", `'${spec.predictor}' is already the predictor`);
-  if (spec.group && spec.covariates.includes(spec.group)) add("covariates", `'${spec.group}' is already the group`);
-  if (new Set(spec.covariates).size !== spec.covariates.length) add("covariates", "a column is listed twice");
-  if (spec.regions && new Set(spec.regions).size !== spec.regions.length) add("regions", "a region is listed twice");
-  if (spec.correction === "maxt" && spec.inference !== "permutation") add("correction", "max-T correction requires permutation inference");
-  if (kind === "reliability") {
-    if (spec.inference !== "parametric") add("inference", "kind 'reliability' supports parametric inference only");
-    if (spec.covariates.length > 0) add("covariates", "kind 'reliability' does not take covariates");
-    if (spec.weights !== "none") add("weights", "kind 'reliability' does not take weights");
-  }
-  if (spec.weights === "first-level-se") {
-    if (spec.estimator !== "ols") add("weights", "'first-level-se' requires estimator 'ols'");
-    if (spec.inference !== "parametric") add("weights", "'first-level-se' supports parametric inference only");
-  }
-  const robustWithCovariates = spec.estimator === "ols" || spec.estimator === "huber" || spec.estimator === "bisquare";
-  if (spec.covariates.length > 0 && !robustWithCovariates && !(kind === "association" && spec.estimator === "rank")) {
-    add("covariates", `estimator '${spec.estimator}' does not take covariates`);
-  }
-  if (spec.inference === "permutation" && spec.estimator !== "ols" && (spec.covariates.length > 0 || (kind === "association" && spec.group))) {
-    add("inference", `permutation with covariates requires estimator 'ols' (Freedman–Lane); '${spec.estimator}' has no such scheme`);
-  }
-  if (spec.interaction && !robustWithCovariates) add("interaction", `estimator '${spec.estimator}' does not support an interaction`);
-  if (spec.setAside.length > 0) add("setAside", "set participants aside in the study (with a reason), not in the model");
+  const out = specProblems(spec);
+  if (spec.setAside.length > 0) out.push({ field: "setAside", message: "set participants aside in the study (with a reason), not in the model" });
   return out;
 }
 

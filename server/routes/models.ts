@@ -8,7 +8,8 @@
  * DELETE /api/studies/:studyId/models/:modelId    → 204 soft delete; its fits stay (Owner, Analyst)
  *
  * Bodies are checked with the schemas the web form uses
- * (server/model/model-form.ts), then against the study's current data.
+ * (server/model/model-form.ts), then against the study's current data with
+ * the fit's own rules (a model sure to fail when run is refused, 400).
  * ModelView: { id, studyId, name, spec, regionSelection, circular,
  * caution, createdBy, createdAt, updatedBy, updatedAt, fitCount }.
  */
@@ -18,6 +19,7 @@ import { authorize, authorizedStudy } from "../auth/permissions";
 import { signedInUser } from "../auth/session";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import { modelCreateSchema, modelPatchSchema } from "../model/model-form";
+import type { FitDataCache } from "../services/fit-inputs";
 import { createModel, deleteModel, getModel, listModels, updateModel } from "../services/models";
 import type { RouteDeps } from "./deps";
 import { studyParams } from "./studies";
@@ -28,13 +30,17 @@ const create = { params: studyParams, query: noQuery, body: modelCreateSchema };
 const read = { params: modelParams, query: noQuery };
 const patch = { params: modelParams, query: noQuery, body: modelPatchSchema };
 
-export function modelRoutes(deps: RouteDeps): Router {
+/**
+ * `fitData`: the fit jobs' cache of built fit data, so that judging a
+ * model against the current data and the fit run next share one build.
+ */
+export function modelRoutes(deps: RouteDeps, fitData?: FitDataCache): Router {
   const router = Router();
   router.get("/studies/:studyId/models", authorize("models.read"), validate(list), async (_req, res) => {
     res.json(await listModels(deps.db, authorizedStudy(res).study.id));
   });
   router.post("/studies/:studyId/models", authorize("models.write"), validate(create), async (_req, res) => {
-    const model = await createModel(deps.db, signedInUser(res), authorizedStudy(res).study.id, parsed(res, create).body, deps.clock());
+    const model = await createModel(deps.db, signedInUser(res), authorizedStudy(res).study.id, parsed(res, create).body, deps.clock(), fitData);
     res.status(201).json(model);
   });
   router.get("/studies/:studyId/models/:modelId", authorize("models.read"), validate(read), async (_req, res) => {
@@ -42,7 +48,7 @@ export function modelRoutes(deps: RouteDeps): Router {
   });
   router.patch("/studies/:studyId/models/:modelId", authorize("models.write"), validate(patch), async (_req, res) => {
     const { params, body } = parsed(res, patch);
-    res.json(await updateModel(deps.db, signedInUser(res), authorizedStudy(res).study.id, params.modelId, body, deps.clock()));
+    res.json(await updateModel(deps.db, signedInUser(res), authorizedStudy(res).study.id, params.modelId, body, deps.clock(), fitData));
   });
   router.delete("/studies/:studyId/models/:modelId", authorize("models.write"), validate(read), async (_req, res) => {
     await deleteModel(deps.db, signedInUser(res), authorizedStudy(res).study.id, parsed(res, read).params.modelId, deps.clock());

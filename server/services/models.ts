@@ -5,9 +5,9 @@
  *
  * The model fields are checked with the shared form schema at the edge;
  * here they are also checked against the study's current data when it
- * exists (regions of the brain table, columns of the participant sheet and
- * their types), answering 400 with a detail per field. Names are unique
- * among a study's models that are not deleted (409).
+ * exists, with the fit's own rules (`problemsWithData`), answering 400 with
+ * a detail per field. Names are unique among a study's models that are not
+ * deleted (409).
  */
 import { and, asc, count, eq, inArray, isNull } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
@@ -21,9 +21,13 @@ import {
   circularityCaution,
   isCircular,
 } from "../model/model-form";
-import { type ModelSpec, modelSpecSchema } from "../model/spec";
+import { type FitData, type ModelSpec, modelSpecSchema } from "../model/spec";
+import { IntakeError } from "../intake/errors";
+import { fitPreconditionProblems } from "../stats/run-fit";
 import { recordEvent } from "./audit";
 import { currentVersions } from "./datasets";
+import { buildFitInputs, confirmedMappings, type FitDataCache } from "./fit-inputs";
+import { activeSetAsideList } from "./set-asides";
 
 interface Actor {
   id: string;
@@ -86,42 +90,47 @@ export async function getModel(db: Queryable, studyId: string, modelId: string):
 }
 
 /**
- * Checks model fields against the study's current data, when there is
- * any. Returns problems as `{ field, message }` with fields under `body.spec`.
+ * Judges model fields against the study's current data with the fit's own
+ * rules (fit-rules.ts, through the engine's `fitPreconditionProblems`), on
+ * the data a fit started now would run on: the current brain table and
+ * participant sheet joined with the confirmed id mappings, the study's
+ * active set-asides applied. So a model that is sure to fail when run is
+ * not saved: unknown regions or columns, a column of the wrong type, no
+ * sessions or standard errors where needed, a group without the two levels
+ * to compare, a region with too few participants (or a group with too few
+ * in a region). Without a brain table nothing is judged; without a
+ * participant sheet nothing that needs its columns; when the two tables
+ * cannot be joined the model is not judged (running a fit reports that).
+ * Returns problems with fields under `body.spec`. Cost: building the data
+ * (reading both versions' rows; kept in `cache` when given, which the fit
+ * started next reuses) and O(regions × participants) for the checks.
  */
-export async function problemsWithData(db: Queryable, studyId: string, spec: ModelSpec): Promise<{ field: string; message: string }[]> {
+export async function problemsWithData(db: Queryable, studyId: string, spec: ModelSpec, cache?: FitDataCache): Promise<{ field: string; message: string }[]> {
   const { brain, participants } = await currentVersions(db, studyId);
-  const out: { field: string; message: string }[] = [];
-  if (brain) {
-    const regions = new Set(brain.columns.filter((c) => c.role === "region").map((c) => c.region ?? c.name));
-    (spec.regions ?? []).forEach((r, k) => {
-      if (!regions.has(r)) out.push({ field: `body.spec.regions.${k}`, message: `no region '${r}' in the brain table ${brain.fileName} (version ${brain.version})` });
-    });
-    if (spec.kind === "reliability" && !brain.sessionColumn) out.push({ field: "body.spec.kind", message: `reliability needs sessions; the brain table ${brain.fileName} has no session column` });
-    if (spec.weights === "first-level-se" && !brain.columns.some((c) => c.role === "se")) {
-      out.push({ field: "body.spec.weights", message: `the brain table ${brain.fileName} has no standard errors` });
-    }
+  if (!brain) return [];
+  const inputs = { brainVersionId: brain.id, sheetVersionId: participants?.id ?? null, mappings: await confirmedMappings(db, studyId) };
+  let data: FitData;
+  try {
+    data = cache ? await cache.get(inputs) : (await buildFitInputs(db, inputs)).data;
+  } catch (e) {
+    if (e instanceof IntakeError) return [];
+    throw e;
   }
-  if (participants) {
-    const types = new Map(participants.columns.filter((c) => c.role === "variable").map((c) => [c.name, c.type]));
-    const where = `the participant sheet ${participants.fileName} (version ${participants.version})`;
-    const need = (field: string, name: string | undefined, numeric: boolean) => {
-      if (name === undefined) return;
-      const type = types.get(name);
-      if (type === undefined) out.push({ field, message: `no column '${name}' in ${where}` });
-      else if (numeric && type !== "number") out.push({ field, message: `column '${name}' of ${where} is a category; this field needs numbers` });
-    };
-    need("body.spec.predictor", spec.predictor, true);
-    need("body.spec.group", spec.group, false);
-    spec.covariates.forEach((c, k) => {
-      need(`body.spec.covariates.${k}`, c, spec.kind === "one-sample");
-    });
-  }
-  return out;
+  const known = new Set(data.participants);
+  const regions = new Set(data.regions);
+  const setAside = (await activeSetAsideList(db, studyId)).filter((a) => known.has(a.participant) && (a.region === undefined || regions.has(a.region)));
+  const problems = fitPreconditionProblems({ ...spec, setAside }, data, {
+    columns: participants !== null,
+    naming: {
+      brainTable: `the brain table ${brain.fileName} (version ${brain.version})`,
+      ...(participants ? { participantSheet: `the participant sheet ${participants.fileName} (version ${participants.version})` } : {}),
+    },
+  });
+  return problems.map((p) => ({ field: `body.spec.${p.field}`, message: p.message }));
 }
 
-async function checkAgainstData(db: Queryable, studyId: string, spec: ModelSpec): Promise<void> {
-  const problems = await problemsWithData(db, studyId, spec);
+async function checkAgainstData(db: Queryable, studyId: string, spec: ModelSpec, cache?: FitDataCache): Promise<void> {
+  const problems = await problemsWithData(db, studyId, spec, cache);
   if (problems.length > 0) {
     throw new HttpError(400, "validation_failed", problems.map((p) => `${p.field}: ${p.message}`).join("; "), problems);
   }
@@ -139,8 +148,8 @@ function auditView(m: { name: string; spec: unknown; regionSelection: string; ci
   return { name: m.name, spec: m.spec, regionSelection: m.regionSelection, circular: m.circular };
 }
 
-export async function createModel(db: Database, actor: Actor, studyId: string, input: ModelCreate, now: Date): Promise<ModelView> {
-  await checkAgainstData(db, studyId, input.spec);
+export async function createModel(db: Database, actor: Actor, studyId: string, input: ModelCreate, now: Date, cache?: FitDataCache): Promise<ModelView> {
+  await checkAgainstData(db, studyId, input.spec, cache);
   const row = await db.transaction(async (tx) => {
     await checkName(tx, studyId, input.name);
     const [created] = await tx
@@ -165,8 +174,16 @@ export async function createModel(db: Database, actor: Actor, studyId: string, i
 }
 
 /** Changes a model; `spec` replaces the model fields as a whole. Records only what changed. */
-export async function updateModel(db: Database, actor: Actor, studyId: string, modelId: string, patch: ModelPatch, now: Date): Promise<ModelView> {
-  if (patch.spec) await checkAgainstData(db, studyId, patch.spec);
+export async function updateModel(
+  db: Database,
+  actor: Actor,
+  studyId: string,
+  modelId: string,
+  patch: ModelPatch,
+  now: Date,
+  cache?: FitDataCache,
+): Promise<ModelView> {
+  if (patch.spec) await checkAgainstData(db, studyId, patch.spec, cache);
   const row = await db.transaction(async (tx) => {
     const before = await findModel(tx, studyId, modelId);
     if (patch.name !== undefined) await checkName(tx, studyId, patch.name, modelId);

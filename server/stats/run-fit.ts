@@ -54,6 +54,7 @@
  * kind, too few participants, and every method precondition. A cancelled fit
  * throws StatsError with code "cancelled".
  */
+import { type DataShape, dataProblems, minimumParticipants, minimumPerGroup, type SpecProblem, specProblems } from "../model/fit-rules";
 import { type FitData, type FitResult, type ModelSpec, type ParticipantDiagnostics, type RegionResult, modelSpecSchema } from "../model/spec";
 import { bootstrapInterval } from "./bootstrap";
 import { adjustPValues } from "./corrections";
@@ -78,12 +79,6 @@ export interface RunFitOptions {
 export const FIT_LEVEL = 0.95;
 /** Bins of the permutation null histogram. */
 export const NULL_HISTOGRAM_BINS = 40;
-
-const VALID: Record<Kind, readonly Estimator[]> = {
-  "one-sample": ["ols", "rank", "huber", "bisquare"],
-  "two-group": ["ols", "welch", "rank", "huber", "bisquare"],
-  association: ["ols", "rank", "huber", "bisquare", "skipped", "bend"],
-};
 
 type Covariate = { name: string; numeric: readonly (number | null)[] } | { name: string; categorical: readonly (string | null)[] };
 
@@ -137,80 +132,8 @@ function has(record: Readonly<Record<string, unknown>>, key: string): boolean {
   return Object.hasOwn(record, key);
 }
 
-function prepare(specIn: ModelSpec, data: FitData): Prepared {
-  const spec = parseSpec(specIn);
-  checkData(data);
-  const kind = spec.kind;
-  // regions
-  const wanted = spec.regions && spec.regions.length > 0 ? spec.regions : data.regions;
-  if (new Set(wanted).size !== wanted.length) fail("regions: a region is listed twice");
-  const regionIndex = wanted.map((name) => {
-    const r = data.regions.indexOf(name);
-    if (r < 0) fail(`regions: unknown region '${name}'`);
-    return r;
-  });
-  if (regionIndex.length === 0) fail("regions: the brain table has no regions");
-  // estimator, weights, inference against the kind
-  if (kind === "reliability") {
-    if (spec.estimator !== "ols") fail(`estimator: '${spec.estimator}' is not available for kind 'reliability'`);
-    if (spec.inference !== "parametric") fail("inference: kind 'reliability' supports parametric inference only");
-    if (spec.weights !== "none") fail("weights: kind 'reliability' does not take weights");
-    if (spec.covariates.length > 0) fail("covariates: kind 'reliability' does not take covariates");
-    if (!data.sessions || data.sessions.labels.length < 2) fail("kind 'reliability' requires a brain table with at least two sessions");
-  } else if (!VALID[kind].includes(spec.estimator)) {
-    fail(`estimator: '${spec.estimator}' is not available for kind '${kind}'`);
-  }
-  if (spec.correction === "maxt" && spec.inference !== "permutation") fail("correction: max-T correction requires permutation inference");
-  if (spec.weights === "first-level-se") {
-    if (spec.estimator !== "ols") fail("weights: 'first-level-se' requires estimator 'ols'");
-    if (spec.inference !== "parametric") fail("weights: 'first-level-se' supports parametric inference only");
-    if (!data.standardErrors) fail("weights: 'first-level-se' requires standard errors in the brain table");
-  }
-  // predictor
-  let predictor: readonly (number | null)[] | null = null;
-  if (kind === "association") {
-    if (!spec.predictor) fail("predictor: kind 'association' requires a predictor");
-    if (has(data.numericColumns, spec.predictor)) predictor = data.numericColumns[spec.predictor];
-    else if (has(data.categoricalColumns, spec.predictor)) fail(`predictor: column '${spec.predictor}' is categorical; an association needs a numeric trait`);
-    else fail(`predictor: unknown column '${spec.predictor}'`);
-  } else if (spec.predictor) {
-    fail(`predictor: not used by kind '${kind}'`);
-  }
-  // group and levels
-  let group: readonly (string | null)[] | null = null;
-  let levels: [string, string] | null = null;
-  const needsGroup = kind === "two-group" || (kind === "association" && spec.interaction);
-  if (kind === "association" && spec.interaction && !spec.group) fail("interaction: requires a group");
-  if (spec.interaction && kind !== "association") fail(`interaction: not used by kind '${kind}'`);
-  if (needsGroup && !spec.group) fail("group: kind 'two-group' requires a grouping column");
-  if (spec.group) {
-    if (kind !== "two-group" && kind !== "association") fail(`group: not used by kind '${kind}'`);
-    if (has(data.categoricalColumns, spec.group)) group = data.categoricalColumns[spec.group];
-    else if (has(data.numericColumns, spec.group)) group = data.numericColumns[spec.group].map((v) => (v === null || !Number.isFinite(v) ? null : String(v)));
-    else fail(`group: unknown column '${spec.group}'`);
-  }
-  if (spec.interaction && spec.estimator !== "ols" && spec.estimator !== "huber" && spec.estimator !== "bisquare") {
-    fail(`interaction: estimator '${spec.estimator}' does not support an interaction`);
-  }
-  // covariates
-  const covariates: Covariate[] = spec.covariates.map((name) => {
-    if (name === spec.predictor) fail(`covariates: '${name}' is already the predictor`);
-    if (name === spec.group) fail(`covariates: '${name}' is already the group`);
-    if (has(data.numericColumns, name)) return { name, numeric: data.numericColumns[name] };
-    if (has(data.categoricalColumns, name)) return { name, categorical: data.categoricalColumns[name] };
-    return fail(`covariates: unknown column '${name}'`);
-  });
-  if (new Set(spec.covariates).size !== spec.covariates.length) fail("covariates: a column is listed twice");
-  if (kind === "one-sample" && covariates.some((c) => "categorical" in c)) {
-    fail("covariates: a one-sample model takes numeric covariates only (they are mean-centred)");
-  }
-  if (covariates.length > 0 && spec.estimator !== "ols" && spec.estimator !== "huber" && spec.estimator !== "bisquare" && !(kind === "association" && spec.estimator === "rank")) {
-    fail(`covariates: estimator '${spec.estimator}' does not take covariates`);
-  }
-  if (spec.inference === "permutation" && spec.estimator !== "ols" && (covariates.length > 0 || (kind === "association" && spec.group))) {
-    fail(`inference: permutation with covariates requires estimator 'ols' (Freedman–Lane); '${spec.estimator}' has no such scheme`);
-  }
-  // set aside
+/** Participants set aside from every region, and per region, from the spec's set-aside list. Throws StatsError for unknown names. */
+function setAsides(spec: ModelSpec, data: FitData): { asideAll: Uint8Array; asideRegion: Map<string, Set<number>> } {
   const n = data.participants.length;
   const asideAll = new Uint8Array(n);
   const asideRegion = new Map<string, Set<number>>();
@@ -225,24 +148,150 @@ function prepare(specIn: ModelSpec, data: FitData): Prepared {
       asideRegion.set(entry.region, set);
     }
   }
-  if (group) {
-    const present = new Set<string>();
-    group.forEach((g, i) => {
-      if (g !== null && !asideAll[i]) present.add(g);
-    });
-    if (spec.levels) {
-      if (spec.levels[0] === spec.levels[1]) fail("levels: the two levels must differ");
-      for (const level of spec.levels) if (!present.has(level)) fail(`levels: level '${level}' is not present in column '${spec.group}'`);
-      levels = [spec.levels[0], spec.levels[1]];
-    } else {
-      const found = Array.from(present).sort(compareCodePoints);
-      if (found.length !== 2) fail(`group: column '${spec.group}' has ${found.length} levels (${found.join(", ")}); name the two to compare in levels`);
-      levels = [found[0], found[1]];
-    }
-  } else if (spec.levels) {
-    fail("levels: given without a group");
+  return { asideAll, asideRegion };
+}
+
+/** The levels of a column among the participants not set aside from every region (numbers as text), sorted by code point. */
+function levelsPresent(data: FitData, column: string, asideAll: Uint8Array): string[] | undefined {
+  let values: readonly (string | null)[];
+  if (has(data.categoricalColumns, column)) values = data.categoricalColumns[column];
+  else if (has(data.numericColumns, column)) values = data.numericColumns[column].map((v) => (v === null || !Number.isFinite(v) ? null : String(v)));
+  else return undefined;
+  const present = new Set<string>();
+  values.forEach((g, i) => {
+    if (g !== null && !asideAll[i]) present.add(g);
+  });
+  return Array.from(present).sort(compareCodePoints);
+}
+
+/** The shape of fit data as the fit rules see it (fit-rules.ts). */
+function shapeOf(data: FitData, asideAll: Uint8Array): DataShape {
+  return {
+    regions: data.regions,
+    sessions: data.sessions?.labels.length ?? 0,
+    hasStandardErrors: Boolean(data.standardErrors),
+    numericColumns: Object.keys(data.numericColumns),
+    categoricalColumns: Object.keys(data.categoricalColumns),
+    levelsOf: (column) => levelsPresent(data, column, asideAll),
+  };
+}
+
+/** The rules of fit-rules.ts on the model and the shape of the data: every problem. */
+function ruleProblems(spec: ModelSpec, data: FitData, asideAll: Uint8Array, naming: Pick<DataShape, "brainTable" | "participantSheet"> = {}): SpecProblem[] {
+  return [...specProblems(spec), ...dataProblems(spec, { ...shapeOf(data, asideAll), ...naming })];
+}
+
+function prepare(specIn: ModelSpec, data: FitData): Prepared {
+  const spec = parseSpec(specIn);
+  checkData(data);
+  const { asideAll, asideRegion } = setAsides(spec, data);
+  const [problem] = ruleProblems(spec, data, asideAll);
+  if (problem) fail(`${problem.field.split(".")[0]}: ${problem.message}`);
+  return resolve(spec, data, asideAll, asideRegion);
+}
+
+/** The columns and levels a valid model names (the rules have passed). */
+function resolve(spec: ModelSpec, data: FitData, asideAll: Uint8Array, asideRegion: Map<string, Set<number>>): Prepared {
+  const wanted = spec.regions && spec.regions.length > 0 ? spec.regions : data.regions;
+  const regionIndex = wanted.map((name) => data.regions.indexOf(name));
+  const predictor = spec.kind === "association" && spec.predictor ? data.numericColumns[spec.predictor] : null;
+  let group: readonly (string | null)[] | null = null;
+  let levels: [string, string] | null = null;
+  if (spec.group) {
+    group = has(data.categoricalColumns, spec.group)
+      ? data.categoricalColumns[spec.group]
+      : data.numericColumns[spec.group].map((v) => (v === null || !Number.isFinite(v) ? null : String(v)));
+    const found = levelsPresent(data, spec.group, asideAll) as string[];
+    levels = spec.levels ? [spec.levels[0], spec.levels[1]] : [found[0], found[1]];
   }
+  const covariates: Covariate[] = spec.covariates.map((name) =>
+    has(data.numericColumns, name) ? { name, numeric: data.numericColumns[name] } : { name, categorical: data.categoricalColumns[name] },
+  );
   return { spec, data, regionIndex, predictor, group, levels, covariates, asideAll, asideRegion };
+}
+
+/**
+ * Participant indices used in region r (after set-aside and listwise
+ * deletion), checked against the minimum the kind and estimator need
+ * (fit-rules.ts) and, for two groups, the minimum per group. Throws
+ * StatsError otherwise.
+ */
+function regionRows(prep: Prepared, r: number): number[] {
+  const s = prep.spec;
+  const kind = s.kind as Kind;
+  const rows = rowsFor(prep, r);
+  const min = minimumParticipants(kind, s.estimator);
+  if (rows.length < min) fail(`too few participants (n = ${rows.length}; at least ${min} needed)`);
+  if (kind === "two-group") {
+    const g = prep.group as readonly (string | null)[];
+    const need = minimumPerGroup(s.estimator);
+    for (const level of prep.levels as [string, string]) {
+      const count = rows.filter((i) => g[i] === level).length;
+      if (count < need) fail(`group level '${level}' has ${count} participant${count === 1 ? "" : "s"} (at least ${need} needed)`);
+    }
+  }
+  return rows;
+}
+
+/** Reliability: per region the participants' values in every session (at least two participants). Throws StatsError otherwise. */
+function sessionMatrix(prep: Prepared, r: number): number[][] {
+  const { data } = prep;
+  const sessions = data.sessions as NonNullable<FitData["sessions"]>;
+  const bySession = sessions.values[r];
+  if (!bySession || bySession.length !== sessions.labels.length) fail("sessions: expected one value array per session");
+  const aside = prep.asideRegion.get(data.regions[r]);
+  const matrix: number[][] = [];
+  for (let i = 0; i < data.participants.length; i++) {
+    if (prep.asideAll[i] || aside?.has(i)) continue;
+    const row = bySession.map((v) => v[i]);
+    if (row.every((v) => Number.isFinite(v))) matrix.push(row);
+  }
+  if (matrix.length < 2) fail(`too few participants with every session (n = ${matrix.length}; at least 2 needed)`);
+  return matrix;
+}
+
+/**
+ * The preconditions of a fit that the data decide, judged without fitting:
+ * the rules of fit-rules.ts on the model and the data's shape (regions,
+ * columns and their types, sessions, standard errors, group levels among
+ * the participants not set aside), then per region the participants left
+ * after set-asides and missing values (the kind's minimum, per group for
+ * two groups; weights: a standard error for every value). What only the
+ * fit itself finds (a design whose columns depend on each other) is not
+ * judged. `columns: false` leaves out everything that needs the
+ * participant sheet (none uploaded yet). `naming` names the tables in the
+ * messages. Returns every problem (fields inside the model fields; a
+ * region's problem under "regions"); a malformed model or set-aside list
+ * throws StatsError. Cost O(regions × participants × columns).
+ */
+export function fitPreconditionProblems(
+  specIn: ModelSpec,
+  data: FitData,
+  options: { columns?: boolean; naming?: Pick<DataShape, "brainTable" | "participantSheet"> } = {},
+): SpecProblem[] {
+  const spec = parseSpec(specIn);
+  checkData(data);
+  const { asideAll, asideRegion } = setAsides(spec, data);
+  const columns = options.columns !== false;
+  const shape: DataShape = { ...shapeOf(data, asideAll), ...options.naming };
+  if (!columns) {
+    shape.numericColumns = undefined;
+    shape.categoricalColumns = undefined;
+  }
+  const problems = [...specProblems(spec), ...dataProblems(spec, shape)];
+  const needsSheet = Boolean(spec.predictor || spec.group || spec.covariates.length > 0);
+  if (problems.length > 0 || (!columns && needsSheet)) return problems;
+  const prep = resolve(spec, data, asideAll, asideRegion);
+  for (const r of prep.regionIndex) {
+    try {
+      if (spec.kind === "reliability") sessionMatrix(prep, r);
+      else regionRows(prep, r);
+    } catch (e) {
+      if (!(e instanceof StatsError)) throw e;
+      problems.push({ field: "regions", message: `region '${data.regions[r]}': ${e.message}` });
+    }
+  }
+  return problems;
 }
 
 /** Participant indices used in region r (after set-aside and listwise deletion). */
@@ -344,13 +393,6 @@ function inRegion<T>(region: string, f: () => T): T {
   }
 }
 
-function minimumParticipants(kind: string, estimator: string): number {
-  if (kind === "association" && estimator === "skipped") return 5;
-  if (kind === "association" && estimator === "bend") return 4;
-  if (kind === "association") return 3;
-  return 2;
-}
-
 /** 40-bin histogram of a null distribution; ±Infinity fall in the end bins. */
 function nullHistogram(values: ArrayLike<number>, observed: number, bins = NULL_HISTOGRAM_BINS) {
   let lo = Infinity;
@@ -443,18 +485,7 @@ export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = 
     if (shouldCancel?.()) cancelled();
     const name = data.regions[r];
     inRegion(name, () => {
-      const rows = rowsFor(prep, r);
-      const min = minimumParticipants(kind, s.estimator);
-      if (rows.length < min) fail(`too few participants (n = ${rows.length}; at least ${min} needed)`);
-      if (kind === "two-group") {
-        const g = prep.group as readonly (string | null)[];
-        const levels = prep.levels as [string, string];
-        for (const level of levels) {
-          const count = rows.filter((i) => g[i] === level).length;
-          const need = s.estimator === "rank" ? 1 : 2;
-          if (count < need) fail(`group level '${level}' has ${count} participant${count === 1 ? "" : "s"} (at least ${need} needed)`);
-        }
-      }
+      const rows = regionRows(prep, r);
       const { design, tested, covariateColumns, x, groupIndicator } = designFor(prep, rows);
       const y = Float64Array.from(rows, (i) => data.values[r][i]);
       const regionData: RegionData = { kind, estimator: s.estimator as Estimator, y, design, tested, covariateColumns, x, groupIndicator, level: FIT_LEVEL };
@@ -928,16 +959,7 @@ function runReliability(prep: Prepared, options: RunFitOptions): FitResult {
     if (options.shouldCancel?.()) cancelled();
     const name = data.regions[r];
     inRegion(name, () => {
-      const bySession = sessions.values[r];
-      if (!bySession || bySession.length !== k) fail("sessions: expected one value array per session");
-      const aside = prep.asideRegion.get(name);
-      const matrix: number[][] = [];
-      for (let i = 0; i < data.participants.length; i++) {
-        if (prep.asideAll[i] || aside?.has(i)) continue;
-        const row = bySession.map((v) => v[i]);
-        if (row.every((v) => Number.isFinite(v))) matrix.push(row);
-      }
-      if (matrix.length < 2) fail(`too few participants with every session (n = ${matrix.length}; at least 2 needed)`);
+      const matrix = sessionMatrix(prep, r);
       const icc = intraclassCorrelations(matrix, { level: FIT_LEVEL });
       const main = icc.icc21;
       regions.push({

@@ -149,12 +149,12 @@ describe("runFit: participants", () => {
 describe("runFit: refusals name the field or the region", () => {
   const data = makeData();
   const cases: [ModelSpecInput, string][] = [
-    [{ kind: "one-sample", regions: ["cerebellum"] }, "regions: unknown region 'cerebellum'"],
-    [{ kind: "association", predictor: "height" }, "predictor: unknown column 'height'"],
-    [{ kind: "association", predictor: "sex" }, "predictor: column 'sex' is categorical"],
-    [{ kind: "two-group", group: "arm" }, "group: unknown column 'arm'"],
+    [{ kind: "one-sample", regions: ["cerebellum"] }, "regions: no region 'cerebellum' in the brain table"],
+    [{ kind: "association", predictor: "height" }, "predictor: no column 'height' in the participant sheet"],
+    [{ kind: "association", predictor: "sex" }, "predictor: column 'sex' of the participant sheet is a category; an association needs a numeric trait"],
+    [{ kind: "two-group", group: "arm" }, "group: no column 'arm' in the participant sheet"],
     [{ kind: "two-group", group: "group", levels: ["patient", "sibling"] }, "levels: level 'sibling' is not present in column 'group'"],
-    [{ kind: "association", predictor: "age", covariates: ["iq"] }, "covariates: unknown column 'iq'"],
+    [{ kind: "association", predictor: "age", covariates: ["iq"] }, "covariates: no column 'iq' in the participant sheet"],
     [{ kind: "association", predictor: "age", estimator: "welch" }, "estimator: 'welch' is not available for kind 'association'"],
     [{ kind: "two-group", group: "group", estimator: "welch", covariates: ["age"] }, "covariates: estimator 'welch' does not take covariates"],
     [{ kind: "one-sample", correction: "maxt" }, "correction: max-T correction requires permutation inference"],

@@ -1,0 +1,204 @@
+/**
+ * The rules a model must satisfy for a fit to run, in one place for the
+ * fit engine (`runFit` refuses with the first problem), the model service
+ * (POST and PATCH of a model check them against the study's current data)
+ * and the model form (in the browser, against what it knows of the data).
+ * Plain TypeScript, no server code: the web app imports it.
+ *
+ * - `specProblems`: rules of the model fields alone.
+ * - `dataProblems`: rules against the shape of the data (regions, columns
+ *   and their types, sessions, standard errors, the levels of a group).
+ * - `minimumParticipants`, `minimumPerGroup`: what every region needs,
+ *   judged per region on the values (run-fit.ts counts them).
+ * - `dataPreconditions`: those per-region preconditions in plain words,
+ *   for the form to show before a fit is run.
+ */
+import type { ModelSpec } from "./spec";
+
+export interface SpecProblem {
+  /** Field path inside the model fields, e.g. "predictor" or "covariates.1". */
+  field: string;
+  message: string;
+}
+
+type Kind = ModelSpec["kind"];
+type Estimator = ModelSpec["estimator"];
+
+/** Estimators each kind accepts. */
+export const estimatorsByKind: Readonly<Record<Kind, readonly Estimator[]>> = {
+  "one-sample": ["ols", "rank", "huber", "bisquare"],
+  "two-group": ["ols", "welch", "rank", "huber", "bisquare"],
+  association: ["ols", "rank", "huber", "bisquare", "skipped", "bend"],
+  reliability: ["ols"],
+};
+
+/** Estimators that fit a design with covariates (least squares and M-estimation). */
+function takesDesign(estimator: Estimator): boolean {
+  return estimator === "ols" || estimator === "huber" || estimator === "bisquare";
+}
+
+/**
+ * Rules of the model fields that need no data: a kind's required fields,
+ * estimators a kind accepts, what goes with what. Returns every problem
+ * (empty when the model is consistent). Cost O(fields).
+ */
+export function specProblems(spec: ModelSpec): SpecProblem[] {
+  const out: SpecProblem[] = [];
+  const add = (field: string, message: string) => out.push({ field, message });
+  const { kind } = spec;
+  if (!estimatorsByKind[kind].includes(spec.estimator)) add("estimator", `'${spec.estimator}' is not available for kind '${kind}'`);
+  if (kind === "association" && !spec.predictor) add("predictor", "an association needs a predictor (a numeric column of the participant sheet)");
+  if (kind !== "association" && spec.predictor) add("predictor", `not used by kind '${kind}'`);
+  if (kind === "two-group" && !spec.group) add("group", "a two-group model needs a grouping column");
+  if (spec.group && kind !== "two-group" && kind !== "association") add("group", `not used by kind '${kind}'`);
+  if (spec.levels && !spec.group) add("levels", "given without a group");
+  if (spec.levels && spec.levels[0] === spec.levels[1]) add("levels", "the two levels must differ");
+  if (spec.interaction && kind !== "association") add("interaction", `not used by kind '${kind}'`);
+  if (spec.interaction && kind === "association" && !spec.group) add("interaction", "an interaction needs a group");
+  if (spec.predictor && spec.covariates.includes(spec.predictor)) add("covariates", `'${spec.predictor}' is already the predictor`);
+  if (spec.group && spec.covariates.includes(spec.group)) add("covariates", `'${spec.group}' is already the group`);
+  if (new Set(spec.covariates).size !== spec.covariates.length) add("covariates", "a column is listed twice");
+  if (spec.regions && new Set(spec.regions).size !== spec.regions.length) add("regions", "a region is listed twice");
+  if (spec.correction === "maxt" && spec.inference !== "permutation") add("correction", "max-T correction requires permutation inference");
+  if (kind === "reliability") {
+    if (spec.inference !== "parametric") add("inference", "kind 'reliability' supports parametric inference only");
+    if (spec.covariates.length > 0) add("covariates", "kind 'reliability' does not take covariates");
+    if (spec.weights !== "none") add("weights", "kind 'reliability' does not take weights");
+  }
+  if (spec.weights === "first-level-se") {
+    if (spec.estimator !== "ols") add("weights", "'first-level-se' requires estimator 'ols'");
+    if (spec.inference !== "parametric") add("weights", "'first-level-se' supports parametric inference only");
+  }
+  if (spec.covariates.length > 0 && !takesDesign(spec.estimator) && !(kind === "association" && spec.estimator === "rank")) {
+    add("covariates", `estimator '${spec.estimator}' does not take covariates`);
+  }
+  if (spec.inference === "permutation" && spec.estimator !== "ols" && (spec.covariates.length > 0 || (kind === "association" && spec.group))) {
+    add("inference", `permutation with covariates requires estimator 'ols' (Freedman–Lane); '${spec.estimator}' has no such scheme`);
+  }
+  if (spec.interaction && !takesDesign(spec.estimator)) add("interaction", `estimator '${spec.estimator}' does not support an interaction`);
+  return out;
+}
+
+/** What the data rules need to know; a part left undefined is not judged. */
+export interface DataShape {
+  /** the brain table's regions */
+  regions?: readonly string[];
+  /** session labels of the brain table (0 without a session column) */
+  sessions?: number;
+  hasStandardErrors?: boolean;
+  /** the participant sheet's columns by type */
+  numericColumns?: readonly string[];
+  categoricalColumns?: readonly string[];
+  /**
+   * The levels of a column among the participants a fit would use (not set
+   * aside from every region), or undefined when they are not known.
+   */
+  levelsOf?: (column: string) => readonly string[] | undefined;
+  /** How messages name the tables, e.g. "the brain table x.csv (version 2)". */
+  brainTable?: string;
+  participantSheet?: string;
+}
+
+/**
+ * Rules of a model against the shape of the data: regions that exist,
+ * columns that exist with the type each field needs, sessions for
+ * reliability, standard errors for weights, and a group with the two
+ * levels to compare. Returns every problem; parts of the shape that are
+ * undefined are not judged. Cost O(fields + regions + columns).
+ */
+export function dataProblems(spec: ModelSpec, shape: DataShape): SpecProblem[] {
+  const out: SpecProblem[] = [];
+  const add = (field: string, message: string) => out.push({ field, message });
+  const brain = shape.brainTable ?? "the brain table";
+  const sheet = shape.participantSheet ?? "the participant sheet";
+  if (shape.regions) {
+    const known = new Set(shape.regions);
+    if (shape.regions.length === 0) add("regions", `${brain} has no regions`);
+    (spec.regions ?? []).forEach((r, k) => {
+      if (!known.has(r)) add(`regions.${k}`, `no region '${r}' in ${brain}`);
+    });
+  }
+  if (spec.kind === "reliability" && shape.sessions !== undefined && shape.sessions < 2) {
+    add("kind", `reliability needs a brain table with at least two sessions; ${brain} has ${shape.sessions === 0 ? "no session column" : "one session"}`);
+  }
+  if (spec.weights === "first-level-se" && shape.hasStandardErrors === false) add("weights", `'first-level-se' requires standard errors in ${brain}`);
+  const numeric = shape.numericColumns;
+  const categorical = shape.categoricalColumns;
+  if (numeric && categorical) {
+    const isNumeric = new Set(numeric);
+    const isCategorical = new Set(categorical);
+    const need = (field: string, name: string | undefined, numbersOnly: string | null) => {
+      if (name === undefined) return false;
+      if (!isNumeric.has(name) && !isCategorical.has(name)) {
+        add(field, `no column '${name}' in ${sheet}`);
+        return false;
+      }
+      if (numbersOnly !== null && !isNumeric.has(name)) {
+        add(field, `column '${name}' of ${sheet} is a category; ${numbersOnly}`);
+        return false;
+      }
+      return true;
+    };
+    if (spec.kind === "association") need("predictor", spec.predictor, "an association needs a numeric trait");
+    spec.covariates.forEach((c, k) => {
+      need(`covariates.${k}`, c, spec.kind === "one-sample" ? "a one-sample model takes numeric covariates only (they are mean-centred)" : null);
+    });
+    if (spec.group && need("group", spec.group, null)) {
+      const levels = shape.levelsOf?.(spec.group);
+      if (levels) {
+        if (spec.levels) {
+          for (const level of spec.levels) if (!levels.includes(level)) add("levels", `level '${level}' is not present in column '${spec.group}'`);
+        } else if (levels.length !== 2) {
+          add("group", `column '${spec.group}' has ${levels.length} levels (${levels.join(", ")}); name the two to compare in levels`);
+        }
+      }
+    }
+  }
+  return out;
+}
+
+/** The fewest participants a region needs for the kind and estimator (after set-asides and missing values). */
+export function minimumParticipants(kind: Kind, estimator: Estimator): number {
+  if (kind === "association" && estimator === "skipped") return 5;
+  if (kind === "association" && estimator === "bend") return 4;
+  if (kind === "association") return 3;
+  return 2;
+}
+
+/** Two groups: the fewest participants each group needs in every region. */
+export function minimumPerGroup(estimator: Estimator): number {
+  return estimator === "rank" ? 1 : 2;
+}
+
+function listed(items: readonly string[]): string {
+  if (items.length <= 1) return items.join("");
+  return `${items.slice(0, -1).join(", ")} and ${items[items.length - 1]}`;
+}
+
+/**
+ * The preconditions of a model that only the values decide, in plain
+ * words: `beforeRun` are judged against the study's current data when the
+ * model is saved (and again when a fit runs); `atRun` only when a fit runs.
+ */
+export function dataPreconditions(spec: ModelSpec): { beforeRun: string[]; atRun: string[] } {
+  const beforeRun: string[] = [];
+  const atRun: string[] = [];
+  if (spec.kind === "reliability") {
+    beforeRun.push("Every region needs at least 2 participants with a value in every session.");
+    return { beforeRun, atRun };
+  }
+  const columns = [spec.predictor, spec.group, ...spec.covariates].filter((c): c is string => Boolean(c));
+  const min = minimumParticipants(spec.kind, spec.estimator);
+  beforeRun.push(
+    `Every region needs at least ${min} participants with a contrast value${columns.length > 0 ? ` and a value for ${listed(columns)}` : ""}; each region keeps its own participants.`,
+  );
+  if (spec.group && !spec.levels) beforeRun.push(`The column ${spec.group} must have exactly two levels among the participants, or name the two to compare.`);
+  if (spec.group && spec.levels) beforeRun.push(`Both ${spec.levels[0]} and ${spec.levels[1]} must occur in the column ${spec.group}.`);
+  if (spec.kind === "two-group") {
+    const g = minimumPerGroup(spec.estimator);
+    beforeRun.push(`Each of the two groups needs at least ${g} participant${g === 1 ? "" : "s"} in every region.`);
+  }
+  if (spec.weights === "first-level-se") beforeRun.push("Every participant with a contrast value needs a first-level standard error above 0.");
+  atRun.push("No column of the design may be a combination of the others in a region (for example a covariate with one value for everyone there).");
+  return { beforeRun, atRun };
+}
