@@ -17,13 +17,29 @@
  * Then the one-region preview round trip (POST
  * /api/fits/:fitId/regions/:region/preview, N = 500, one participant set
  * aside): target ≤ 100 ms.
+ *
+ * Then reads of the finished fit's view while a second 10,000-rearrangement
+ * fit of the same size runs: 20 readers without pause asking for
+ * GET /api/fits/:fitId with `Accept-Encoding: gzip` as browsers do (the
+ * kept, pre-compressed body, services/fit-view-body.ts), then the same
+ * readers revalidating with If-None-Match (304). Target: ≥ 500 requests/s
+ * and p95 ≤ 100 ms. The readers count the bytes but do not decode them
+ * (decoding 20 answers at once would take the readers' share of the core
+ * the server needs); one answer is decoded first to check it, and the
+ * sizes of the first view (the fit view, its first region's detail and the
+ * first page of that region's participants, compressed) are printed. Beside
+ * the rates, the CPU time the server's request thread spent per answer
+ * (Linux, from /proc): unlike latency it hardly depends on what else the
+ * machine runs, so it tells the rate the request thread could keep with a
+ * core of its own.
  */
 import { spawn } from "node:child_process";
-import { mkdtempSync, rmSync } from "node:fs";
+import { mkdtempSync, readFileSync, rmSync } from "node:fs";
 import { Agent, request } from "node:http";
 import { createServer } from "node:net";
 import os from "node:os";
 import { join } from "node:path";
+import { gunzipSync } from "node:zlib";
 import { createRng } from "../../server/stats/rng";
 
 const PARTICIPANTS = 500;
@@ -34,6 +50,8 @@ const READERS = 20;
 const READ_SECONDS = 5;
 const PAUSE_MS = 250;
 const PREVIEWS = 30;
+/** Seconds of each phase reading the finished fit while the second fit runs. */
+const DONE_READ_SECONDS = 4;
 
 function makeFiles(): { brain: string; sheet: string } {
   const rng = createRng(7070);
@@ -60,6 +78,17 @@ function freePort(): Promise<number> {
     });
     s.on("error", reject);
   });
+}
+
+/** CPU milliseconds (user + system) a process's main thread has used, or null where /proc cannot tell. */
+function mainThreadCpuMs(pid: number | undefined): number | null {
+  if (pid === undefined) return null;
+  try {
+    const fields = readFileSync(`/proc/${pid}/task/${pid}/stat`, "utf8").split(") ")[1].split(" ");
+    return ((Number(fields[11]) + Number(fields[12])) * 1000) / 100; // utime and stime, in clock ticks of 1/100 s
+  } catch {
+    return null;
+  }
 }
 
 function percentile(sorted: readonly number[], q: number): number {
@@ -134,6 +163,49 @@ export default async function fitsLoad(): Promise<void> {
       if (payload) req.write(payload);
       req.end();
     });
+  }
+
+  /** A GET whose answer is counted, not decoded: status, time, bytes as sent, headers. */
+  function getRaw(path: string, headers: Record<string, string>): Promise<{ status: number; ms: number; bytes: Buffer; headers: Record<string, unknown> }> {
+    const t0 = performance.now();
+    return new Promise((resolve, reject) => {
+      const req = request(`${base}${path}`, { agent, headers: { Cookie: cookie, ...headers } }, (res) => {
+        const chunks: Buffer[] = [];
+        res.on("data", (c: Buffer) => chunks.push(c));
+        res.on("end", () => resolve({ status: res.statusCode ?? 0, ms: performance.now() - t0, bytes: Buffer.concat(chunks), headers: res.headers }));
+      });
+      req.on("error", (error: NodeJS.ErrnoException) => {
+        if (error.code === "ECONNRESET") {
+          reconnects++;
+          getRaw(path, headers).then(resolve, reject);
+        } else reject(error);
+      });
+      req.end();
+    });
+  }
+
+  /** READERS concurrent readers of one path without pause, for `seconds` or until `stop()`: latencies, answers per second, statuses, bytes. */
+  async function hammer(seconds: number, path: string, headers: Record<string, string>, stop: () => boolean) {
+    const times: number[] = [];
+    const statuses = new Map<number, number>();
+    let bytes = 0;
+    const cpuBefore = mainThreadCpuMs(child.pid);
+    const start = performance.now();
+    const until = start + seconds * 1000;
+    await Promise.all(
+      Array.from({ length: READERS }, async () => {
+        while (performance.now() < until && !stop()) {
+          const r = await getRaw(path, headers);
+          times.push(r.ms);
+          bytes += r.bytes.length;
+          statuses.set(r.status, (statuses.get(r.status) ?? 0) + 1);
+        }
+      }),
+    );
+    const elapsed = (performance.now() - start) / 1000;
+    const cpuAfter = mainThreadCpuMs(child.pid);
+    const cpuPerAnswer = cpuBefore === null || cpuAfter === null ? null : (cpuAfter - cpuBefore) / times.length;
+    return { times, perSecond: times.length / elapsed, elapsed, statuses, bytes, cpuPerAnswer };
   }
 
   async function must(method: string, path: string, body?: unknown): Promise<Record<string, unknown>> {
@@ -259,6 +331,58 @@ export default async function fitsLoad(): Promise<void> {
     }
     console.log(`first preview (data already built by the fit): ${previewTimes[0].toFixed(1)} ms`);
     console.log(summary(`preview, N = ${n} (target ≤ 100 ms)`, previewTimes));
+
+    // The finished fit's view, read while a second fit of the same size runs.
+    const gzip = { "Accept-Encoding": "gzip" };
+    const view = await getRaw(`/api/fits/${fitId}`, gzip);
+    if (view.status !== 200 || view.headers["content-encoding"] !== "gzip") throw new Error(`the fit view answered ${view.status} (${String(view.headers["content-encoding"])})`);
+    const shown = JSON.parse(gunzipSync(view.bytes).toString("utf8")) as { result: { regions: { region: string }[] } };
+    const plain = await getRaw(`/api/fits/${fitId}`, {});
+    const region = shown.result.regions[0].region;
+    const detail = await getRaw(`/api/fits/${fitId}/regions/${region}`, gzip);
+    const page = await getRaw(`/api/fits/${fitId}/regions/${region}/participants?limit=50`, gzip);
+    const kB = (b: number) => `${(b / 1000).toFixed(1)} kB`;
+    console.log(
+      `first view, compressed: fit view ${kB(view.bytes.length)} (${kB(plain.bytes.length)} as plain JSON), first region's detail ${kB(detail.bytes.length)}, first page of 50 participants ${kB(page.bytes.length)}; together ${kB(view.bytes.length + detail.bytes.length + page.bytes.length)} (target < 100 kB)`,
+    );
+    const second = await must("POST", `/api/studies/${studyId}/fits`, { modelId: model.id });
+    const secondId = second.id as string;
+    let secondRunning = true;
+    let secondFraction = 0;
+    for (;;) {
+      const now = await must("GET", `/api/fits/${secondId}`);
+      if (now.status === "running") break;
+      if (now.status !== "queued") throw new Error(`the second fit is ${now.status}`);
+      await new Promise((r) => setTimeout(r, 50));
+    }
+    // A watcher (not counted) notes when the second fit stops running.
+    const watcher = (async () => {
+      while (secondRunning) {
+        const now = await must("GET", `/api/fits/${secondId}`);
+        secondFraction = (now.progress as { fraction: number }).fraction;
+        if (now.status !== "running") secondRunning = false;
+        else await new Promise((r) => setTimeout(r, 500));
+      }
+    })();
+    console.log(
+      `second fit (${RESAMPLES.toLocaleString("en")} rearrangements) running; machine load (1-minute average) ${os.loadavg()[0].toFixed(1)}; ${READERS} readers of the finished fit's view, no pause:`,
+    );
+    const etag = String(view.headers.etag);
+    for (const phase of [
+      { label: `  full answers (gzip, ${kB(view.bytes.length)} each)`, headers: gzip },
+      { label: "  revalidations (If-None-Match → 304)", headers: { ...gzip, "If-None-Match": etag } },
+    ]) {
+      const loaded = await hammer(DONE_READ_SECONDS, `/api/fits/${fitId}`, phase.headers, () => !secondRunning);
+      console.log(summary(phase.label, loaded.times));
+      const statuses = [...loaded.statuses].map(([status, count]) => `${count} × ${status}`).join(", ");
+      const cpu = loaded.cpuPerAnswer === null ? "" : `; server request thread ${loaded.cpuPerAnswer.toFixed(2)} ms of CPU per answer (≈ ${(1000 / loaded.cpuPerAnswer).toFixed(0)} answers/s on a core of its own)`;
+      console.log(
+        `    ${loaded.perSecond.toFixed(0)} requests/s over ${loaded.elapsed.toFixed(1)} s (target ≥ 500 requests/s, p95 ≤ 100 ms); ${statuses}; ${(loaded.bytes / loaded.elapsed / 1e6).toFixed(1)} MB/s${cpu}; the second fit was ${secondRunning ? "running" : "no longer running"} at ${(secondFraction * 100).toFixed(0)} %`,
+      );
+      if (!secondRunning) break;
+    }
+    secondRunning = false;
+    await watcher;
   } catch (error) {
     console.log(`server (exit code ${child.exitCode}, signal ${child.signalCode}) output:\n${log.split("\n").slice(-30).join("\n")}`);
     throw error;
