@@ -2,9 +2,11 @@
  * The uploader's decisions on a preview, kept free of React so they can be
  * tested on their own: which columns may change type and what the two types
  * mean for them, the identifier columns still waiting for a decision (drop
- * it, or keep it with a written reason), the body the confirm route takes,
- * the preview's problems a decision has not yet resolved, and the problems
- * carried by an error answer; and the reading options an upload sends.
+ * it, or keep it with a written reason), the brain-table columns that would
+ * be left out and wait for a decision (leave it out, or — wide layout — use
+ * it as a region), the body the confirm route takes, the preview's problems
+ * a decision has not yet resolved, and the problems carried by an error
+ * answer; and the reading options an upload sends.
  */
 import { ApiError } from "../../hooks/api";
 import type { ColumnPreview, ConfirmInput, DatasetKind, DatasetPreview, IntakeProblem, UploadOptions } from "../../hooks/use-datasets";
@@ -22,9 +24,31 @@ export interface Decisions {
   types: Readonly<Record<string, TypeChoice>>;
   /** Decisions by flagged identifier column. */
   identifiers: Readonly<Record<string, IdentifierDecision>>;
+  /** Brain-table columns the uploader agreed to leave out (sent as dropped). */
+  leaveOut?: Readonly<Record<string, boolean>>;
 }
 
-export const noDecisions: Decisions = { types: {}, identifiers: {} };
+export const noDecisions: Decisions = { types: {}, identifiers: {}, leaveOut: {} };
+
+/** The server's code for a brain-table column that would be left out without a decision. */
+export const LEFT_OUT = "column_left_out";
+
+/** The brain-table columns the preview would leave out, each with the server's sentence saying why. */
+export function leftOutColumns(preview: Pick<DatasetPreview, "problems">): { column: string; message: string }[] {
+  return preview.problems.filter((p) => p.code === LEFT_OUT && p.column !== undefined).map((p) => ({ column: p.column as string, message: p.message }));
+}
+
+/** Whether a column that would be left out is decided: left out, or given a type (a region, or "not used"). */
+function leftOutDecided(column: string, decisions: Decisions): boolean {
+  return decisions.leaveOut?.[column] === true || decisions.types[column] !== undefined;
+}
+
+/** One sentence per column that would be left out and is not decided yet; empty when none. */
+export function undecidedLeftOut(preview: Pick<DatasetPreview, "problems">, decisions: Decisions): string[] {
+  return leftOutColumns(preview)
+    .filter((c) => !leftOutDecided(c.column, decisions))
+    .map((c) => `Column ${c.column}: choose to leave it out or fix the file.`);
+}
 
 type PreviewShape = Pick<DatasetPreview, "kind" | "layout" | "columns" | "identifierColumns" | "problems" | "id">;
 
@@ -49,9 +73,11 @@ export function chosenType(column: ColumnPreview, decisions: Decisions): ColumnP
   return decisions.types[column.name] ?? column.type;
 }
 
-/** Columns the uploader chose to drop (identifier columns only). */
-export function droppedColumns(preview: Pick<DatasetPreview, "identifierColumns">, decisions: Decisions): string[] {
-  return preview.identifierColumns.filter((f) => decisions.identifiers[f.column]?.decision === "drop").map((f) => f.column);
+/** Columns the uploader chose to drop: identifier columns dropped, and columns agreed to be left out. */
+export function droppedColumns(preview: Pick<DatasetPreview, "identifierColumns" | "problems">, decisions: Decisions): string[] {
+  const out = preview.identifierColumns.filter((f) => decisions.identifiers[f.column]?.decision === "drop").map((f) => f.column);
+  for (const { column } of leftOutColumns(preview)) if (decisions.leaveOut?.[column] === true && !out.includes(column)) out.push(column);
+  return out;
 }
 
 /**
@@ -75,11 +101,13 @@ export function undecidedIdentifiers(preview: Pick<DatasetPreview, "identifierCo
  */
 export function confirmInput(preview: PreviewShape, decisions: Decisions): ConfirmInput {
   const dropped = new Set(droppedColumns(preview, decisions));
+  const leftOut = new Set(leftOutColumns(preview).map((c) => c.column));
   const types: Record<string, TypeChoice> = {};
   for (const column of preview.columns) {
     const chosen = decisions.types[column.name];
     if (chosen === undefined || dropped.has(column.name) || typeChoices(preview, column) === null) continue;
-    if (chosen !== column.type) types[column.name] = chosen;
+    // A column that would be left out needs its choice said even when it equals the detection ("not used").
+    if (chosen !== column.type || leftOut.has(column.name)) types[column.name] = chosen;
   }
   const reasons: Record<string, string> = {};
   for (const flag of preview.identifierColumns) {
@@ -96,13 +124,15 @@ export function confirmInput(preview: PreviewShape, decisions: Decisions): Confi
 /**
  * The preview's problems that the decisions do not resolve. A cell that is
  * not a number is resolved by typing its column as a category or dropping
- * it; any other problem stays.
+ * it; a column that would be left out, by leaving it out or choosing its
+ * type; any other problem stays.
  */
 export function openProblems(preview: PreviewShape, decisions: Decisions): IntakeProblem[] {
   const dropped = new Set(droppedColumns(preview, decisions));
   return preview.problems.filter((p) => {
     if (p.column === undefined) return true;
     if (dropped.has(p.column)) return false;
+    if (p.code === LEFT_OUT) return !leftOutDecided(p.column, decisions);
     return !(p.code === "not_a_number" && decisions.types[p.column] === "category");
   });
 }

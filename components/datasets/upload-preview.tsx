@@ -2,8 +2,9 @@
  * The preview of an upload, before anything is stored: what was read (kind,
  * delimiter, rows, columns, participants, id column, layout, regions,
  * sessions), the columns that may hold direct identifiers with the required
- * choice for each (drop it, or keep it with a written reason), the problems
- * still open, each column's detected type with a control to change it, and
+ * choice for each (drop it, or keep it with a written reason), the
+ * brain-table columns that would be left out with the required choice for
+ * each (leave it out, or use it as a region), the problems still open, each column's detected type with a control to change it, and
  * the first rows as written. Confirm stores the version; Cancel leaves
  * nothing stored.
  */
@@ -25,11 +26,14 @@ import {
   type IdentifierDecision,
   type TypeChoice,
   chosenType,
+  LEFT_OUT,
   confirmInput,
+  leftOutColumns,
   noDecisions,
   openProblems,
   typeChoices,
   undecidedIdentifiers,
+  undecidedLeftOut,
 } from "./upload-decisions";
 
 const roleWords: Record<string, string> = {
@@ -49,16 +53,29 @@ const identifierOptions = [
   { value: "keep", label: "Keep it", hint: "with a written reason, logged" },
 ] as const;
 
+const leaveOutOption = { value: "leave", label: "Leave it out", hint: "the column is not stored; the version records it as dropped" } as const;
+const regionOption = { value: "region", label: "Use it as a region", hint: "each cell must then be a number or a missing marker" } as const;
+
 export function UploadPreview(props: { studyId: string; preview: DatasetPreview; onConfirmed: (version: DatasetVersion) => void; onCancel: () => void }) {
   const { preview } = props;
   const [decisions, setDecisions] = useState<Decisions>(noDecisions);
   const confirm = useConfirmDataset(props.studyId);
-  const undecided = undecidedIdentifiers(preview, decisions);
+  const undecided = [...undecidedIdentifiers(preview, decisions), ...undecidedLeftOut(preview, decisions)];
+  const leftOut = leftOutColumns(preview);
   const open = openProblems(preview, decisions);
+  // Columns that would be left out have their own section above the other problems.
+  const listed = open.filter((p) => p.code !== LEFT_OUT);
   const hiddenProblems = Math.max(0, preview.problemCount - preview.problems.length);
 
   const setType = (column: string, chosen: TypeChoice) => setDecisions((d) => ({ ...d, types: { ...d.types, [column]: chosen } }));
   const setIdentifier = (column: string, decision: IdentifierDecision) => setDecisions((d) => ({ ...d, identifiers: { ...d.identifiers, [column]: decision } }));
+  const setLeftOut = (column: string, choice: "leave" | "region") =>
+    setDecisions((d) => {
+      const types = { ...d.types };
+      if (choice === "region") types[column] = "number";
+      else delete types[column];
+      return { ...d, types, leaveOut: { ...d.leaveOut, [column]: choice === "leave" } };
+    });
 
   const fileColumns = useMemo(() => preview.columns.map((c) => ({ name: c.name, numeric: false })), [preview.columns]);
   const idIndex = Math.max(0, preview.columns.findIndex((c) => c.role === "id"));
@@ -123,10 +140,34 @@ export function UploadPreview(props: { studyId: string; preview: DatasetPreview;
         </View>
       ) : null}
 
-      {open.length > 0 || hiddenProblems > 0 ? (
+      {leftOut.length > 0 ? (
+        <View style={styles.section} testID="left-out-columns">
+          <Heading level={3}>Columns that would be left out</Heading>
+          <Notice tone="caution">
+            These columns are not read as regions. Nothing is left out without your say: leave each one out, or fix the file and upload it again
+            {preview.layout !== "long" ? "; a column with numbers can also be used as a region" : ""}.
+          </Notice>
+          {leftOut.map(({ column, message }) => {
+            const value = decisions.leaveOut?.[column] === true ? "leave" : decisions.types[column] === "number" ? "region" : null;
+            return (
+              <View key={column} style={styles.identifier} testID="left-out-column">
+                <Txt kind="small">{message}</Txt>
+                <Choice
+                  label={`What to do with ${column}`}
+                  options={preview.layout !== "long" ? [leaveOutOption, regionOption] : [leaveOutOption]}
+                  value={value}
+                  onChange={(choice) => setLeftOut(column, choice)}
+                />
+              </View>
+            );
+          })}
+        </View>
+      ) : null}
+
+      {listed.length > 0 || hiddenProblems > 0 ? (
         <View style={styles.section} testID="preview-problems">
           <Heading level={3}>Problems to resolve</Heading>
-          {open.map((p, k) => (
+          {listed.map((p, k) => (
             <Txt key={`${k}-${p.message}`} kind="small" style={styles.problem}>
               • {p.message}
             </Txt>
@@ -134,9 +175,9 @@ export function UploadPreview(props: { studyId: string; preview: DatasetPreview;
           {hiddenProblems > 0 ? <Txt kind="small">… and {plural(hiddenProblems, "more problem")} not listed.</Txt> : null}
           <Txt kind="caption">A text cell in a numeric column is resolved by typing the column as a category below; otherwise fix the file and upload it again.</Txt>
         </View>
-      ) : (
+      ) : open.length === 0 ? (
         <Notice tone="success">No problems found in the file.</Notice>
-      )}
+      ) : null}
 
       <View style={styles.section}>
         <Heading level={3}>Columns and their types</Heading>

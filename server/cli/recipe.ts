@@ -125,6 +125,22 @@ function requireColumn(sheet: ParticipantSheet, name: string, key: string): void
   ]);
 }
 
+/**
+ * The intake's refusals as a recipe's author can act on them: a brain-table
+ * column the intake will not leave out without a decision (the same rule
+ * as at upload) is decided in a recipe by naming the regions to read.
+ */
+function withRecipeHints<T>(read: () => T): T {
+  try {
+    return read();
+  } catch (e) {
+    if (!(e instanceof IntakeError) || !e.problems.some((p) => p.code === "column_left_out")) throw e;
+    const hint = ' (in a recipe: name the regions to read under "regions"; every other column is then left out)';
+    const problems = e.problems.map((p) => (p.code === "column_left_out" ? { ...p, message: `${p.message}${hint}` } : p));
+    throw new IntakeError(e.status, problems, e.problemCount);
+  }
+}
+
 export interface RecipeOutput {
   [key: string]: unknown;
   regions: FitResult["regions"];
@@ -179,11 +195,13 @@ export async function runRecipe(recipePath: string): Promise<RecipeOutput> {
       : checkHash(recipe.participantSheet, sheetBytes, recipe.inputs?.participantSheet, "participantSheet");
 
   const brainRaw = readTable(brainBytes, recipe.brainTable);
-  const brain = buildBrainTable(brainRaw, {
-    idColumn: recipe.idColumn,
-    seSuffix: recipe.seSuffix,
-    regions: recipe.regions,
-  });
+  const brain = withRecipeHints(() =>
+    buildBrainTable(brainRaw, {
+      idColumn: recipe.idColumn,
+      seSuffix: recipe.seSuffix,
+      regions: recipe.regions,
+    }),
+  );
   let sheet: ParticipantSheet | null = null;
   if (sheetBytes !== null && recipe.participantSheet !== undefined) {
     sheet = buildParticipantSheet(readTable(sheetBytes, recipe.participantSheet), { idColumn: recipe.idColumn });

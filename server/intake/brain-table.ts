@@ -10,17 +10,18 @@
  * The layout is long when both `region` and `value` columns exist, unless
  * the caller says otherwise.
  *
- * In the wide layout, when no region list is given, every numeric column
- * (see columns.ts) other than the id, session and standard-error columns is
- * a region; text columns are listed as ignored with the reason. Every cell of
- * a region or standard-error column must be a number or a missing marker;
- * standard errors must be greater than 0; each participant (id and session)
- * appears once. Every violation is reported with file, row and column, all
- * at once (status 422).
+ * In the wide layout, when no region list is given, every mostly numeric
+ * column (see columns.ts) other than the id, session and standard-error
+ * columns is a region; any other column is left out only by a decision
+ * (see leftOutProblems: never silently). Every cell of a region or
+ * standard-error column must be a number or a missing marker; standard
+ * errors must be greater than 0; each participant (id and session) appears
+ * once, ids being compared by the roster's rule. Every violation is reported
+ * with file, row and column, all at once (status 422).
  *
  * Cost: O(rows × columns).
  */
-import { IntakeError, ProblemList, problem, type Problem } from "./errors";
+import { IntakeError, MAX_PROBLEMS, ProblemList, problem, type Problem } from "./errors";
 import { notANumberText, parseCategoryCell, quoteCell } from "./cells";
 import { findColumn, profileColumn, resolveIdColumn, unknownColumnError, type ColumnProfile } from "./columns";
 import type { RawTable } from "./read-table";
@@ -87,6 +88,8 @@ export interface BrainTable {
 export interface BrainAnalysis {
   /** The table, when no problem was found. */
   table: BrainTable | null;
+  /** The table as read when the only problems are columns left out without a decision (for previews), else as `table`. */
+  draft: BrainTable | null;
   /** Layout, roles and profiles, even when there are problems. */
   plan: Omit<BrainTable, "entries" | "values" | "standardErrors">;
   problems: readonly Problem[];
@@ -169,17 +172,55 @@ export function analyseBrainTable(raw: RawTable, options: BrainTableOptions = {}
     layout === "wide"
       ? readWide(raw, options, id.index, sessionIndex, seSuffix, columns, problems)
       : readLong(raw, options, id.index, sessionIndex, regionIndex, valueIndex, columns, problems);
+  const leftOut = leftOutProblems(raw, options, seSuffix, columns);
 
   const plan = { ...base, regions: result.regions, columns };
+  const all = [...problems.list, ...leftOut].slice(0, MAX_PROBLEMS);
+  const problemCount = problems.count + leftOut.length;
   if (problems.count > 0 || result.entries === null) {
-    return { table: null, plan, problems: problems.list, problemCount: problems.count };
+    return { table: null, draft: null, plan, problems: all, problemCount };
   }
-  return {
-    table: { ...plan, entries: result.entries, values: result.values, standardErrors: result.standardErrors },
-    plan,
-    problems: [],
-    problemCount: 0,
-  };
+  const table = { ...plan, entries: result.entries, values: result.values, standardErrors: result.standardErrors };
+  if (leftOut.length > 0) return { table: null, draft: table, plan, problems: all, problemCount };
+  return { table, draft: table, plan, problems: [], problemCount: 0 };
+}
+
+/**
+ * The rule for columns a brain table leaves out: a column that is neither
+ * the id, the session, a region, a standard error nor (long layout) a
+ * region name or value is never left out silently. Each is a problem
+ * (`column_left_out`, naming the column, why, and its first text cells by
+ * row) until the uploader decides: drops it, types it as a category ("not
+ * used"), or names the regions to read (then every other column is left
+ * out by that choice). A standard-error column follows its region's
+ * decision; a standard-error column without its region is a problem of its
+ * own (unpaired_standard_error).
+ */
+function leftOutProblems(raw: RawTable, options: BrainTableOptions, seSuffix: string, columns: readonly BrainColumn[]): Problem[] {
+  if (options.regions !== undefined && options.regions.length > 0) return [];
+  const decidedNotRegion = (j: number) => columns[j].role === "dropped" || options.types?.[raw.header[j]] === "category";
+  const out: Problem[] = [];
+  columns.forEach((c, j) => {
+    if (c.role !== "ignored" || decidedNotRegion(j)) return;
+    if (c.name.endsWith(seSuffix) && c.name.length > seSuffix.length) {
+      const k = raw.header.indexOf(c.name.slice(0, -seSuffix.length));
+      if (k < 0) return; // unpaired: its own problem
+      if (decidedNotRegion(k)) return;
+    }
+    out.push(problem(raw.file, "column_left_out", `${leftOutReason(raw, c)}; confirm leaving it out (drop it or mark it not used), or fix the file`, { column: c.name }));
+  });
+  return out;
+}
+
+/** Why a column would be left out, naming its first text cells by row. */
+function leftOutReason(raw: RawTable, c: BrainColumn): string {
+  const p = c.profile;
+  if (c.reason?.startsWith("standard errors of")) return `holds the ${c.reason}`;
+  if (c.reason === "not used in a long brain table") return "is not read: a long brain table uses only the id, session, region, value and se columns";
+  if (p.numbers + p.text === 0) return "has no values, so it is not a region";
+  const shown = p.textRows.slice(0, 3).map((i) => `row ${raw.rowNumbers[i]} ${quoteCell(raw.rows[i][p.index])}`);
+  const more = p.text > shown.length ? ", …" : "";
+  return `is not a region: ${p.text} of ${p.numbers + p.text} values are not numbers (${shown.join(", ")}${more})`;
 }
 
 interface ReadResult {

@@ -2,12 +2,15 @@
  * Column type inference and column lookup.
  *
  * Each column of a raw table is profiled once: missing cells, cells that
- * are numbers, and the rest. A column is detected as `number` when at least
- * 80% of its non-missing cells are numbers (the rest are then reported as
- * problems: most likely typos such as "O.42"), otherwise as `category`
- * (a column with no values at all is a `category`). The participant id
- * column is typed `id`. The 80% share is common practice, no source: it
- * tells a numeric column with a few typos from a text column.
+ * are numbers, and the rest. The one rule for a column's type, used by
+ * brain tables and participant sheets, by uploads and the recipe command
+ * alike: a column is `number` when it is mostly numeric — more than half of
+ * its non-missing cells are numbers — and its other cells are then problems,
+ * each named by row and column (most likely typos such as "O.42", even in a
+ * table of four rows); otherwise it is `category` (a column with no values
+ * at all is a `category`). The participant id column is typed `id`. (Common
+ * practice, no source: a majority tells a numeric column with typos from a
+ * text column without a threshold that small tables cannot reach.)
  *
  * Cost: O(rows) per column.
  */
@@ -17,8 +20,10 @@ import type { RawTable } from "./read-table";
 
 export type ColumnType = "number" | "category" | "id";
 
-/** Share of numeric cells (of the non-missing ones) above which a column is numeric. */
-export const NUMBER_SHARE = 0.8;
+/** Whether a column with `numbers` number cells and `text` other non-missing cells is mostly numeric (so typed `number`). */
+export function isMostlyNumeric(numbers: number, text: number): boolean {
+  return numbers > text;
+}
 
 export interface ColumnProfile {
   name: string;
@@ -77,8 +82,7 @@ export function profileColumns(table: RawTable): readonly ColumnProfile[] {
   }
   const profiles = table.header.map((name, j): ColumnProfile => {
     const text = textRows[j].length;
-    const present = numbers[j] + text;
-    const type = present > 0 && numbers[j] >= NUMBER_SHARE * present ? "number" : "category";
+    const type = isMostlyNumeric(numbers[j], text) ? "number" : "category";
     const profile: ColumnProfile = {
       name,
       index: j,

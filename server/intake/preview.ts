@@ -156,8 +156,8 @@ export function previewTable(raw: RawTable, kind: TableKind, options: PreviewOpt
       idColumnGuessed: a.plan.idColumnGuessed,
       layout: a.plan.layout,
       regions: [...a.plan.regions],
-      sessions: a.table ? brainSessions(a.table) : [],
-      participants: a.table ? brainParticipantIds(a.table).length : countDistinctIds(raw, a.plan.idColumn),
+      sessions: a.draft ? brainSessions(a.draft) : [],
+      participants: a.draft ? brainParticipantIds(a.draft).length : countDistinctIds(raw, a.plan.idColumn),
       columns,
       problems: [...a.problems],
       problemCount: a.problemCount,
@@ -179,11 +179,12 @@ export function previewTable(raw: RawTable, kind: TableKind, options: PreviewOpt
 
 /**
  * Problems an upload's preview may carry, by kind: each is resolved by a
- * decision at confirmation (a participant-sheet column with text cells is
+ * decision at confirmation (a brain-table column that would be left out is
+ * dropped or marked not used; a participant-sheet column with text cells is
  * typed as a category or dropped). Any other problem refuses the upload.
  */
 const PREVIEWABLE: Record<TableKind, ReadonlySet<string>> = {
-  brain: new Set(),
+  brain: new Set(["column_left_out"]),
   participants: new Set(["not_a_number"]),
 };
 

@@ -439,6 +439,41 @@ describe("bad input is refused with the envelope and nothing is stored", () => {
     expect(badKind.body.error.details[0].field).toBe("body.kind");
   });
 
+  it("a brain-table column with one typo among four cells is refused naming the cell, not dropped", async () => {
+    const studyId = await newStudy();
+    const text = "participant_id,ins_l,ins_r\ns1,0.12,0.3\ns2,O.42,0.1\ns3,0.33,0.2\ns4,0.25,0.4\n";
+    const res = await upload(agents.analyst, studyId, "brain", text, "brain.csv").expect(422);
+    expect(res.body.error.code).toBe("not_a_number");
+    expect(res.body.error.details.problems).toEqual([
+      expect.objectContaining({ file: "brain.csv", row: 3, column: "ins_l", message: expect.stringContaining('brain.csv row 3, column ins_l: "O.42" is not a number') }),
+    ]);
+    expect(await versionCount(studyId)).toBe(0);
+  });
+
+  it("a brain-table column that is not read is a problem to confirm: confirm refuses until it is dropped or marked not used", async () => {
+    const studyId = await newStudy();
+    const text = "participant_id,site,ins_r\ns1,north,0.3\ns2,south,0.1\n";
+    const preview = await upload(agents.analyst, studyId, "brain", text, "brain.csv").expect(201);
+    expect(preview.body.regions).toEqual(["ins_r"]);
+    expect(preview.body.problems).toEqual([
+      {
+        file: "brain.csv",
+        column: "site",
+        code: "column_left_out",
+        message:
+          'brain.csv column site: is not a region: 2 of 2 values are not numbers (row 2 "north", row 3 "south"); confirm leaving it out (drop it or mark it not used), or fix the file',
+      },
+    ]);
+    const refused = await agents.analyst.post(`/api/studies/${studyId}/datasets/${preview.body.id}/confirm`).send({}).expect(422);
+    expect(refused.body.error).toMatchObject({ code: "column_left_out", message: expect.stringContaining("brain.csv column site: is not a region") });
+    expect(await versionCount(studyId)).toBe(0);
+    const stored = await agents.analyst.post(`/api/studies/${studyId}/datasets/${preview.body.id}/confirm`).send({ types: { site: "category" } }).expect(201);
+    expect(stored.body.regions).toEqual(["ins_r"]);
+    const second = await upload(agents.analyst, studyId, "brain", text, "brain.csv").expect(201);
+    const dropped = await agents.analyst.post(`/api/studies/${studyId}/datasets/${second.body.id}/confirm`).send({ dropColumns: ["site"] }).expect(201);
+    expect(dropped.body.droppedColumns).toEqual(["site"]);
+  });
+
   it("a sheet whose numeric column has a typo is previewed; confirm refuses it until the column is typed as a category", async () => {
     const studyId = await newStudy();
     const text = "participant_id,age\ns1,23\ns2,31\ns3,4O\ns4,28\ns5,35\n";

@@ -3,11 +3,13 @@ import { ApiError } from "../../../hooks/api";
 import type { ColumnPreview, DatasetPreview } from "../../../hooks/use-datasets";
 import {
   confirmInput,
+  leftOutColumns,
   noDecisions,
   openProblems,
   problemsFrom,
   typeChoices,
   undecidedIdentifiers,
+  undecidedLeftOut,
   uploadOptions,
   type Decisions,
 } from "../../../components/datasets/upload-decisions";
@@ -84,6 +86,43 @@ describe("open problems", () => {
     expect(openProblems(sheet, noDecisions).map((p) => p.row)).toEqual([5, 9, 7]); // (nothing decided)
     const decisions: Decisions = { types: { age: "category" }, identifiers: { name: { decision: "drop", reason: "" } } };
     expect(openProblems(sheet, decisions).map((p) => p.row)).toEqual([7]); // (product rule: a duplicate participant stays open)
+  });
+});
+
+describe("brain-table columns that would be left out", () => {
+  /** A wide brain-table preview with a text column the server will not leave out without a decision. */
+  const brain: Pick<DatasetPreview, "id" | "kind" | "layout" | "columns" | "identifierColumns" | "problems"> = {
+    id: "preview-2",
+    kind: "brain",
+    layout: "wide",
+    columns: [column("participant_id", "id", "id"), column("site", "category", "ignored"), column("ins_r", "number", "region")],
+    identifierColumns: [],
+    problems: [
+      {
+        file: "b.csv",
+        column: "site",
+        code: "column_left_out",
+        message: 'b.csv column site: is not a region: 2 of 2 values are not numbers (row 2 "north", row 3 "south"); confirm leaving it out (drop it or mark it not used), or fix the file',
+      },
+    ],
+  };
+
+  it("each waits for a choice before Confirm, and stays an open problem until then", () => {
+    expect(leftOutColumns(brain).map((c) => c.column)).toEqual(["site"]);
+    expect(undecidedLeftOut(brain, noDecisions)).toEqual(["Column site: choose to leave it out or fix the file."]); // (product rule: nothing is left out silently)
+    expect(openProblems(brain, noDecisions).map((p) => p.code)).toEqual(["column_left_out"]);
+  });
+
+  it("leaving it out drops it; marking it not used or a region sends that type, even when it equals the detection", () => {
+    const leave: Decisions = { ...noDecisions, leaveOut: { site: true } };
+    expect(undecidedLeftOut(brain, leave)).toEqual([]);
+    expect(openProblems(brain, leave)).toEqual([]);
+    expect(confirmInput(brain, leave)).toEqual({ datasetId: "preview-2", dropColumns: ["site"] }); // (server contract: a dropped column is decided)
+    const notUsed: Decisions = { ...noDecisions, types: { site: "category" } };
+    expect(undecidedLeftOut(brain, notUsed)).toEqual([]);
+    expect(confirmInput(brain, notUsed)).toEqual({ datasetId: "preview-2", types: { site: "category" } }); // (server contract: "not used" said explicitly)
+    const region: Decisions = { ...noDecisions, types: { site: "number" } };
+    expect(confirmInput(brain, region)).toEqual({ datasetId: "preview-2", types: { site: "number" } }); // (server contract)
   });
 });
 

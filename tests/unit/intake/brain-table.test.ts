@@ -118,13 +118,24 @@ describe("wide brain tables", () => {
     expect(e.problems[0]).toMatchObject({ code: "unpaired_standard_error", column: "b_se" });
   });
 
-  it("lists text columns as ignored, with the reason", () => {
-    const t = brain("participant_id,scanner,a\ns1,alpha,1\ns2,beta,2\n");
+  it("never leaves a text column out silently: it is a problem until dropped or marked not used", () => {
+    const text = "participant_id,scanner,a\ns1,alpha,1\ns2,beta,2\n";
+    const e = refusal(text);
+    expect(e.problems).toEqual([
+      {
+        file: "brain.csv",
+        column: "scanner",
+        code: "column_left_out",
+        message:
+          'brain.csv column scanner: is not a region: 2 of 2 values are not numbers (row 2 "alpha", row 3 "beta"); confirm leaving it out (drop it or mark it not used), or fix the file',
+      },
+    ]);
+    const t = brain(text, { types: { scanner: "category" } });
     expect(t.regions).toEqual(["a"]);
-    expect(t.columns.find((c) => c.name === "scanner")).toMatchObject({
-      role: "ignored",
-      reason: "not numeric (2 of 2 values are text), so not a region",
-    });
+    expect(t.columns.find((c) => c.name === "scanner")).toMatchObject({ role: "ignored", reason: "typed as a category at upload, so not a region" });
+    expect(brain(text, { dropColumns: ["scanner"] }).columns.find((c) => c.name === "scanner")?.role).toBe("dropped");
+    // Naming the regions leaves every other column out by that choice.
+    expect(brain(text, { regions: ["a"] }).regions).toEqual(["a"]);
   });
 
   it("reads only the regions asked for, and refuses an unknown one", () => {
