@@ -1,7 +1,11 @@
 /**
  * New model: a short form for the question (kind, regions, predictor or
  * grouping, covariates) and how to answer it (estimator, inference,
- * correction, weights). Validation is the API's own schema.
+ * correction, weights). Validation is the API's own schema; the fit rules
+ * (server/model/fit-rules.ts) are judged as the choices change against
+ * what the form knows of the data (regions, columns and their types,
+ * sessions, standard errors, the group's levels), and what only the
+ * values decide is said before the model is saved or run.
  */
 import { useMemo, useState } from "react";
 import { StyleSheet, View } from "react-native";
@@ -22,7 +26,8 @@ import {
   type ModelCreateInput,
   type RegionSelection,
 } from "../server/model/model-form";
-import type { ModelSpec } from "../server/model/spec";
+import { dataPreconditions, dataProblems, type DataShape } from "../server/model/fit-rules";
+import { type ModelSpec, modelSpecSchema } from "../server/model/spec";
 
 type Kind = ModelSpec["kind"];
 type Estimator = ModelSpec["estimator"];
@@ -142,6 +147,17 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
   };
 
   const preview = spec();
+  const parsedPreview = modelSpecSchema.safeParse(preview);
+  const sheetKnown = inputs.numericColumns.length + inputs.categoricalColumns.length > 0;
+  const shape: DataShape = {
+    regions: inputs.regions,
+    sessions: inputs.hasSessions ? undefined : 0,
+    hasStandardErrors: inputs.hasStandardErrors,
+    ...(sheetKnown ? { numericColumns: inputs.numericColumns, categoricalColumns: inputs.categoricalColumns } : {}),
+    levelsOf: (column) => (column === group && levelsQuery.data ? levelsQuery.data : undefined),
+  };
+  const dataIssues = parsedPreview.success ? dataProblems(parsedPreview.data, shape) : [];
+  const judged = parsedPreview.success ? dataPreconditions(parsedPreview.data) : null;
   return (
     <View style={styles.root}>
       <Heading>New model</Heading>
@@ -244,6 +260,21 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
         </Card>
       ) : null}
 
+      {dataIssues.length > 0 ? (
+        <Notice tone="danger" title="Not possible with the study's current data" testID="model-data-problems">
+          {dataIssues.map((p) => `${p.field}: ${p.message}`).join("\n")}
+        </Notice>
+      ) : null}
+      {judged ? (
+        <Notice title="Judged against the data" testID="model-data-preconditions">
+          {[
+            "When you save, the model is checked against the study's current data:",
+            ...judged.beforeRun.map((line) => `• ${line}`),
+            "Only when the fit runs:",
+            ...judged.atRun.map((line) => `• ${line}`),
+          ].join("\n")}
+        </Notice>
+      ) : null}
       {problems.length > 0 ? (
         <Notice tone="danger" title="Check these fields" testID="model-problems">
           {problems.map((p) => `${p.field}: ${p.message}`).join("\n")}
