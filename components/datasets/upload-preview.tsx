@@ -176,7 +176,7 @@ export function UploadPreview(props: { studyId: string; preview: DatasetPreview;
           <Txt kind="caption">A text cell in a numeric column is resolved by typing the column as a category below; otherwise fix the file and upload it again.</Txt>
         </View>
       ) : open.length === 0 ? (
-        <Notice tone="success">No problems found in the file.</Notice>
+        <Notice tone="success">{preview.problems.length === 0 ? "No problems found in the file." : "Your choices above resolve every problem found."}</Notice>
       ) : null}
 
       <View style={styles.section}>

@@ -243,6 +243,41 @@ it("columns that may hold direct identifiers must be dropped or kept with a writ
   }
 });
 
+it("a brain-table column that would be left out needs a choice before Confirm, and is recorded as dropped", async () => {
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  try {
+    await page.goto(`${e2e.server.url}/sign-in`);
+    await page.getByRole("button", { name: "Sign in as the demo analyst" }).click();
+    await page.waitForURL(/\/studies$/);
+    await page.getByTestId("new-study").click();
+    await page.getByTestId("study-name").fill("Left-out column check");
+    await page.getByTestId("create-study").click();
+    await page.waitForURL(/\/studies\/[^/]+\/data$/);
+    const upload = page.getByTestId("upload");
+    await chooseKind(page, "Brain table");
+    // Invented values: a scanner label column among two regions.
+    const text = "participant_id,scanner,left_area,right_area\nsub-01,north,0.1,0.2\nsub-02,south,0.3,0.1\nsub-03,north,0.2,0.4\n";
+    await upload.getByTestId("upload-file").setInputFiles({ name: "brain-with-scanner.csv", mimeType: "text/csv", buffer: Buffer.from(text) });
+    await upload.getByTestId("upload-submit").click();
+    const preview = page.getByTestId("upload-preview");
+    const column = preview.getByTestId("left-out-column");
+    await column.getByText('brain-with-scanner.csv column scanner: is not a region: 3 of 3 values are not numbers (row 2 "north", row 3 "south", row 4 "north")').waitFor();
+    const confirm = preview.getByTestId("confirm-upload");
+    await expect(confirm.getAttribute("aria-disabled")).resolves.toBe("true");
+    await preview.getByTestId("undecided").getByText("Column scanner: choose to leave it out or fix the file.").waitFor();
+    await column.getByRole("radio", { name: /^Leave it out/ }).click();
+    await expect(preview.getByTestId("undecided").count()).resolves.toBe(0);
+    await preview.getByTestId("left-out-columns").scrollIntoViewIfNeeded();
+    await screenshot(page, "data-phone-left-out-column");
+    await confirm.click();
+    await page.getByTestId("upload-stored").getByText("as version 1 of the brain table").waitFor();
+    await page.getByTestId("versions-brain").getByTestId("version-facts").first().getByText("Dropped at upload (never stored): scanner.").waitFor();
+    expect(errors).toEqual([]);
+  } finally {
+    await context.close();
+  }
+});
+
 it("a roster of 1,200 participants is read whole (two server pages) and paged, sorted and searched in the table", async () => {
   const { page, context, errors } = await openPage(e2e.browser, wide);
   try {
