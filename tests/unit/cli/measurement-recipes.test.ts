@@ -339,11 +339,11 @@ describe("recipe command: reliability of the Shrout & Fleiss table as four sessi
 
   it("a table without sessions, or with one session, is refused", async () => {
     expect(await refusal("rel-no-session.json", { brainTable: "bcg.csv", kind: "reliability" })).toBe(
-      "kind 'reliability' requires a brain table with at least two sessions",
+      "kind: reliability needs a brain table with at least two sessions; the brain table has no session column",
     );
     file("one-session.csv", "participant_id,session,rating\np1,a,1\np2,a,2\np3,a,4\n");
     expect(await refusal("rel-one-session.json", { brainTable: "one-session.csv", kind: "reliability" })).toBe(
-      "kind 'reliability' requires a brain table with at least two sessions",
+      "kind: reliability needs a brain table with at least two sessions; the brain table has one session",
     );
   });
 });
