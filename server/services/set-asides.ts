@@ -1,14 +1,22 @@
 /**
  * Set-asides: excluding a participant from every region or from one
  * region, with a written reason. Nothing is deleted: restoring fills in
- * who restored, when and (optionally) why, and both are recorded in the
- * audit trail in the same transaction. The active set-asides of a study
+ * who restored, when and why (a reason is required, as for setting aside),
+ * and both are recorded in the audit trail in the same transaction; each
+ * event names the participant, the region (null = every region) and the
+ * reason, which is what its activity sentence says
+ * (server/model/set-aside-words.ts). The active set-asides of a study
  * become a new fit's set-aside list (see fits.ts); fits already made keep
  * the list they were made with.
  *
  * Participants are named by their brain-table id (the id fits use). A new
  * set-aside is checked against the study's current brain table when there
  * is one: the participant and the region must exist there (400).
+ *
+ * A reader who may not see participant-level rows (a Viewer of a
+ * restricted study, `participants.read`) gets the list with every
+ * participant id withheld (null): the count, scopes, reasons, who and when
+ * stay readable.
  */
 import { and, desc, eq, inArray, isNull } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
@@ -19,7 +27,8 @@ import { currentVersions } from "./datasets";
 
 export interface SetAsideView {
   id: string;
-  participant: string;
+  /** null when withheld from the reader (see the module comment). */
+  participant: string | null;
   /** null = every region */
   region: string | null;
   reason: string;
@@ -41,13 +50,13 @@ interface Actor {
   id: string;
 }
 
-async function views(db: Queryable, rows: readonly SetAsideRow[]): Promise<SetAsideView[]> {
+async function views(db: Queryable, rows: readonly SetAsideRow[], participantsVisible = true): Promise<SetAsideView[]> {
   const ids = [...new Set(rows.flatMap((r) => [r.createdBy, ...(r.restoredBy ? [r.restoredBy] : [])]))];
   const who = ids.length > 0 ? await db.select({ id: users.id, name: users.name }).from(users).where(inArray(users.id, ids)) : [];
   const names = new Map(who.map((u) => [u.id, u.name]));
   return rows.map((r) => ({
     id: r.id,
-    participant: r.participantId,
+    participant: participantsVisible ? r.participantId : null,
     region: r.region,
     reason: r.reason,
     active: r.restoredAt === null,
@@ -59,14 +68,17 @@ async function views(db: Queryable, rows: readonly SetAsideRow[]): Promise<SetAs
   }));
 }
 
-/** The study's set-asides, newest first; restored ones too unless `activeOnly`. */
-export async function listSetAsides(db: Queryable, studyId: string, options: { activeOnly?: boolean } = {}): Promise<SetAsideView[]> {
+/**
+ * The study's set-asides, newest first; restored ones too unless
+ * `activeOnly`; participant ids null unless `participantsVisible` (default true).
+ */
+export async function listSetAsides(db: Queryable, studyId: string, options: { activeOnly?: boolean; participantsVisible?: boolean } = {}): Promise<SetAsideView[]> {
   const rows = await db
     .select()
     .from(setAsides)
     .where(and(eq(setAsides.studyId, studyId), options.activeOnly ? isNull(setAsides.restoredAt) : undefined))
     .orderBy(desc(setAsides.createdAt), desc(setAsides.id));
-  return views(db, rows);
+  return views(db, rows, options.participantsVisible ?? true);
 }
 
 /** The active set-asides as a recipe's list, in a stable order (participant, then region; every-region first). */
@@ -134,8 +146,12 @@ export async function createSetAside(db: Database, actor: Actor, studyId: string
   return v;
 }
 
-/** Restores a set-aside participant (the row stays, marked restored). Throws 404, or 409 when already restored. */
-export async function restoreSetAside(db: Database, actor: Actor, studyId: string, setAsideId: string, reason: string | undefined, now: Date): Promise<SetAsideView> {
+/**
+ * Restores a set-aside participant (the row stays, marked restored, with
+ * who, when and `reason`, which the route has checked is not empty).
+ * Throws 404, or 409 when already restored.
+ */
+export async function restoreSetAside(db: Database, actor: Actor, studyId: string, setAsideId: string, reason: string, now: Date): Promise<SetAsideView> {
   const row = await db.transaction(async (tx) => {
     const [found] = await tx
       .select()
@@ -145,7 +161,7 @@ export async function restoreSetAside(db: Database, actor: Actor, studyId: strin
     if (found.restoredAt !== null) throw conflict(`Participant ${found.participantId} was already restored on ${found.restoredAt.toISOString()}.`);
     const [restored] = await tx
       .update(setAsides)
-      .set({ restoredAt: now, restoredBy: actor.id, restoreReason: reason ?? null })
+      .set({ restoredAt: now, restoredBy: actor.id, restoreReason: reason })
       .where(eq(setAsides.id, setAsideId))
       .returning();
     await recordEvent(tx, {
@@ -155,7 +171,7 @@ export async function restoreSetAside(db: Database, actor: Actor, studyId: strin
       targetType: "participant",
       targetId: found.participantId,
       before: { setAsideId, participant: found.participantId, region: found.region, reason: found.reason },
-      after: { restoredAt: now.toISOString(), reason: reason ?? null },
+      after: { setAsideId, participant: found.participantId, region: found.region, restoredAt: now.toISOString(), reason },
       at: now,
     });
     return restored;

@@ -163,7 +163,11 @@ const matrix: Record<string, Row> = {
     body: () => ({ participant: "sub-02", reason: "Matrix case" }),
     expected: makers(201),
   },
-  "DELETE /api/studies/:studyId/set-asides/:setAsideId": { path: (f) => `/api/studies/${f.studyId}/set-asides/${f.setAsideId}`, expected: makers(200) },
+  "DELETE /api/studies/:studyId/set-asides/:setAsideId": {
+    path: (f) => `/api/studies/${f.studyId}/set-asides/${f.setAsideId}`,
+    body: () => ({ reason: "Matrix restore" }),
+    expected: makers(200),
+  },
 };
 
 let t: TestApp;
