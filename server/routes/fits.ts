@@ -1,9 +1,11 @@
 /**
  * Fits: runs of a model as background jobs, their progress, results and regions.
  *
- * GET  /api/studies/:studyId/fits?modelId=          → FitSummaryView[] newest first
+ * GET  /api/studies/:studyId/fits?modelId=          → FitSummaryView[] newest first, each with stage (approved/sealed
+ *                                                      shown), N, set-aside count, refitOf + changes, stale + staleReasons
  * POST /api/studies/:studyId/fits { modelId }       → 202 FitView (status "queued"); 409 without a confirmed brain table (Owner, Analyst)
- * GET  /api/fits/:fitId                             → FitView: status, progress { fraction, secondsLeft }, datasets, recipe, result when done;
+ * GET  /api/fits/:fitId                             → FitView: status, progress { fraction, secondsLeft }, datasets, recipe, result when done,
+ *                                                      set-asides with who and when, lineage (services/fit-lineage.ts);
  *                                                      a done fit from a kept body, gzip or plain, with a strong ETag
  *                                                      (304 to If-None-Match; services/fit-view-body.ts)
  * GET  /api/fits/:fitId/events                      → server-sent events: "status" and "progress", each
@@ -71,7 +73,7 @@ export function fitRoutes(deps: RouteDeps, jobs: FitJobs, options: FitRouteOptio
   const router = Router();
 
   router.get("/studies/:studyId/fits", authorize("fits.read"), validate(list), async (_req, res) => {
-    res.json(await listFits(deps.db, jobs, authorizedStudy(res).study.id, { modelId: parsed(res, list).query.modelId }));
+    res.json(await listFits(deps.db, jobs, authorizedStudy(res).study.id, { modelId: parsed(res, list).query.modelId, participantsVisible: participantsVisible(res) }));
   });
 
   router.post("/studies/:studyId/fits", authorize("fits.run"), validate(create), async (_req, res) => {

@@ -33,6 +33,7 @@ import { attenuateResult, withAttenuation } from "./attenuation";
 import { recordEvent } from "./audit";
 import { currentVersions } from "./datasets";
 import { confirmedMappings, inputsOfFit, specOfRecipe } from "./fit-inputs";
+import { type FitLineage, type FitSetAsideView, fitSetAsides, lineageOf, refitTarget } from "./fit-lineage";
 import { findModel } from "./models";
 import { activeSetAsideList } from "./set-asides";
 import { type Publication, sealHash } from "./sealing";
@@ -48,11 +49,21 @@ export interface DatasetRef {
   sha256: string;
 }
 
-export interface FitSummaryView {
+/** A fit's status as its badge shows it: a done fit that was approved or sealed says so. */
+export type FitStage = FitStatus | "approved" | "sealed";
+
+/**
+ * A fit as the fits list shows it, with its lineage (services/fit-lineage.ts):
+ * N (smallest and largest over its regions), how many set-asides it applied,
+ * the earlier fit it re-runs and what changed, and whether it is stale.
+ */
+export interface FitSummaryView extends FitLineage {
   id: string;
   studyId: string;
   model: { id: string; name: string; deleted: boolean; circular: boolean };
   status: FitStatus;
+  /** The status, or "approved"/"sealed" for a done fit that has been (services/sealing.ts). */
+  stage: FitStage;
   progress: FitProgress;
   createdBy: { id: string; name: string | null };
   createdAt: string;
@@ -100,6 +111,8 @@ export interface FitView extends FitSummaryView {
    * detail); with attenuation where it applies (services/attenuation.ts).
    */
   result: FitResultSummary | null;
+  /** Each set-aside the fit applied, with who set it aside and when (participant ids withheld when not visible). */
+  setAsides: FitSetAsideView[];
   /** Who approved the fit for sealing, and its seal { by, at, sha256, intact, singlePersonSignOff } (services/sealing.ts). */
   approval: Publication["approval"];
   seal: Publication["seal"];
@@ -180,6 +193,8 @@ const summaryColumns = {
     (select s.model from ${fitSeals} s where s.fit_id = ${outerFit("id")}),
     (select jsonb_build_object('name', mo.name, 'deleted', mo.deleted_at is not null, 'circular', mo.circular) from ${models} mo where mo.id = ${outerFit("model_id")}))`,
   creatorName: sql<string | null>`(select u.name from ${users} u where u.id = ${outerFit("created_by")})`,
+  approved: sql<boolean>`exists (select 1 from ${fitApprovals} a where a.fit_id = ${outerFit("id")})`,
+  sealed: sql<boolean>`exists (select 1 from ${fitSeals} s where s.fit_id = ${outerFit("id")})`,
 };
 
 interface SummaryRow {
@@ -197,20 +212,26 @@ interface SummaryRow {
   errorCode: string | null;
   model: { name: string; deleted: boolean; circular: boolean } | null;
   creatorName: string | null;
+  approved: boolean;
+  sealed: boolean;
 }
 
-function summaryOf(row: SummaryRow, jobs: FitJobs): FitSummaryView {
+const noLineage: FitLineage = { n: null, setAsideCount: 0, refitOf: null, refitOfCreatedAt: null, changes: [], stale: false, staleReasons: [] };
+
+function summaryOf(row: SummaryRow, jobs: FitJobs, lineage: FitLineage | undefined): FitSummaryView {
   return {
     id: row.id,
     studyId: row.studyId,
     model: { id: row.modelId, name: row.model?.name ?? "", deleted: row.model?.deleted ?? false, circular: row.model?.circular ?? false },
     status: row.status,
+    stage: row.status === "done" && row.sealed ? "sealed" : row.status === "done" && row.approved ? "approved" : row.status,
     progress: progressOf(row, jobs),
     createdBy: { id: row.createdBy, name: row.creatorName ?? null },
     createdAt: row.createdAt.toISOString(),
     startedAt: row.startedAt?.toISOString() ?? null,
     finishedAt: row.finishedAt?.toISOString() ?? null,
     error: row.error ? { code: row.errorCode ?? "failed", message: row.error } : null,
+    ...(lineage ?? noLineage),
   };
 }
 
@@ -226,13 +247,24 @@ const fitsOfModel = perDatabase((db) =>
     .prepare("fits_of_model"),
 );
 
-/** The study's fits, newest first (optionally of one model). One query (kept until the next write, see db/read-cache.ts). */
-export async function listFits(db: Queryable, jobs: FitJobs, studyId: string, options: { modelId?: string } = {}): Promise<FitSummaryView[]> {
+/**
+ * The study's fits, newest first (optionally of one model), with their
+ * lineage. One query (kept until the next write, see db/read-cache.ts) and
+ * the lineage's reads (services/fit-lineage.ts). Participant ids in the
+ * lineage's words follow `participantsVisible`.
+ */
+export async function listFits(
+  db: Queryable,
+  jobs: FitJobs,
+  studyId: string,
+  options: { modelId?: string; participantsVisible: boolean },
+): Promise<FitSummaryView[]> {
   const { modelId } = options;
   const rows: readonly SummaryRow[] = await cachedRead(db, `fits of ${studyId} ${modelId ?? "*"}`, () =>
     modelId ? fitsOfModel(db).execute({ studyId, modelId }) : fitsOfStudy(db).execute({ studyId }),
   );
-  return rows.map((r) => summaryOf(r, jobs));
+  const lineage = await lineageOf(db, studyId, rows, { participantsVisible: options.participantsVisible });
+  return rows.map((r) => summaryOf(r, jobs, lineage.get(r.id)));
 }
 
 const participantIdKeys = ["minWithout", "maxWithout", "rMinWithout", "rMaxWithout"] as const;
@@ -349,7 +381,9 @@ const fitViewRow = perDatabase((db) =>
  *   besides its result, read in one query (the fit without its result; its
  *   model, who ran it, its dataset versions, its approval and seal as
  *   scalar subqueries). All that can change after a fit is done lives
- *   here: the model's name (until sealed), approval, seal, who ran it.
+ *   here: the model's name (until sealed), approval, seal, who ran it,
+ *   and its lineage (services/fit-lineage.ts): whether it is stale and
+ *   why, and the names of who set its participants aside.
  * - `result` (done fits): the stored result as the view shows it (parsed
  *   once and kept, see doneResults), with attenuation where it applies,
  *   and `resultStamp`, which changes whenever that shown result can: the
@@ -370,7 +404,9 @@ export interface FitViewParts {
 export async function fitViewParts(db: Queryable, jobs: FitJobs, studyId: string, fitId: string, participantsVisible: boolean): Promise<FitViewParts> {
   const [row] = await cachedRead(db, `fit view ${studyId} ${fitId}`, () => fitViewRow(db).execute({ fitId, studyId }));
   if (!row) throw notFound("Fit not found.");
-  const summary = summaryOf(row, jobs);
+  const lineage = (await lineageOf(db, studyId, [row], { participantsVisible })).get(row.id);
+  const setAsides = await fitSetAsides(db, studyId, row.id, { participantsVisible });
+  const summary = summaryOf(row, jobs, lineage);
   const ref = (v: DatasetRef | null, id: string): DatasetRef => (v?.id ? v : { id, version: 0, fileName: "", sha256: "" });
   // Only a finished fit has a result, and only a finished fit can be approved or sealed.
   const stored = row.status === "done" ? await doneResultOf(db, row.id, row.finishedAt) : null;
@@ -395,6 +431,7 @@ export async function fitViewParts(db: Queryable, jobs: FitJobs, studyId: string
     participantsVisible,
     recipe: participantsVisible ? (row.recipe as Record<string, unknown>) : null,
     result: null,
+    setAsides,
     approval,
     seal,
   };
@@ -451,6 +488,7 @@ export async function createFit(
   const active = await activeSetAsideList(db, study.id);
   const applied = active.filter((s) => known.has(s.participant) && (s.region === undefined || regions.has(s.region)));
   const notApplied = active.filter((s) => !applied.includes(s));
+  const refitOf = await refitTarget(db, study.id, model.id);
   const spec: ModelSpec = modelSpecSchema.parse({ ...(model.spec as object), setAside: applied });
   const recipe: Record<string, unknown> = {
     brainTable: brain.fileName,
@@ -477,6 +515,7 @@ export async function createFit(
         recipe: JSON.parse(JSON.stringify(recipe)),
         createdBy: actor.id,
         createdAt: now,
+        refitOf,
       })
       .returning();
     await recordEvent(tx, {
@@ -491,6 +530,7 @@ export async function createFit(
         brainTable: { id: brain.id, version: brain.version },
         participantSheet: participants ? { id: participants.id, version: participants.version } : null,
         setAside: applied.length,
+        refitOf,
         ...(notApplied.length > 0 ? { setAsideNotApplied: notApplied } : {}),
         seed: spec.seed,
       },
