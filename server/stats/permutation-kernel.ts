@@ -711,7 +711,7 @@ export function countExtremeRearrangements(input: {
         const { plan, residuals } = st.block;
         const m = plan.n;
         for (let c = 0; c < size; c++) {
-          if (draw.kind === "signs") gatherBySigns(drawn as Float64Array, c * n, st.block.members as Int32Array, residuals, st.gathered.subarray(c * m, (c + 1) * m));
+          if (draw.kind === "signs") gatherBySigns(drawn as Float64Array, c * n, st.block.members as Int32Array, residuals, st.gathered, c * m);
           else gatherBySigma(drawn as Int32Array, c * n, n, st.local as Int32Array, residuals, st.gathered, c * m);
         }
         // The rearranged residual vectors of the chunk share the block's basis: the batched product takes them as it takes regions.
@@ -751,15 +751,16 @@ function tallyRegions(tally: Tally, offset: number, t: Float64Array, regions: nu
   return max;
 }
 
-/** ẽ_j = s_{members[j]}·e_j: the block's residuals under the shared signs (signs[at + i] for participant i). Cost O(m). */
-function gatherBySigns(signs: Float64Array, at: number, members: Int32Array, e: Float64Array, out: Float64Array): void {
-  for (let j = 0; j < out.length; j++) out[j] = signs[at + members[j]] * e[j];
+/** ẽ_j = s_{members[j]}·e_j into out[o + j]: the block's residuals under the shared signs (signs[at + i] for participant i). Cost O(m). */
+function gatherBySigns(signs: Float64Array, at: number, members: Int32Array, e: Float64Array, out: Float64Array, o: number): void {
+  for (let j = 0; j < members.length; j++) out[o + j] = signs[at + members[j]] * e[j];
 }
 
 /**
  * The rule and the gather at once: the j-th of σ's entries that belong to
- * the block gives its residual to the block's j-th participant
- * (σ = sigma[at … at + N − 1]). Cost O(N).
+ * the block gives its residual to the block's j-th participant, written to
+ * out[o + j] (σ = sigma[at … at + N − 1]; out[o + m] may be overwritten).
+ * Cost O(N).
  */
 function gatherBySigma(sigma: Int32Array, at: number, n: number, local: Int32Array, e: Float64Array, out: Float64Array, o: number): void {
   let j = o;
