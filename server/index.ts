@@ -23,6 +23,7 @@ import { ConfigError, loadConfig } from "./config";
 import { createHttpServer } from "./http/request-timeouts";
 import { FitJobs } from "./jobs/fit-jobs";
 import { startServices, type Services } from "./dev/dev-services";
+import { removeIncompleteVersions } from "./services/datasets";
 import { acquireDataLock, DataLockError, type DataLock } from "./services/data-lock";
 
 async function main(): Promise<void> {
@@ -61,6 +62,9 @@ async function main(): Promise<void> {
     process.once("SIGTERM", () => void stop(0));
     database = await openDatabase({ dataDir: config.databaseDir });
     await migrateDatabase(database.db);
+    // A dataset version left half-stored by a stop in the middle of an upload is never read; remove it now.
+    const leftovers = await removeIncompleteVersions(database.db);
+    if (leftovers > 0) console.log(`Covarion: removed ${leftovers} dataset version(s) left incomplete by an interrupted upload.`);
     if (config.demo) {
       const seeded = await seedDemo(database.db, { now: new Date(), seedDemoDatasets });
       if (seeded.seeded) console.log("Covarion: created the demo people and demo study.");

@@ -74,7 +74,7 @@ function countColumns() {
   const outer = sql.raw(`"studies"."id"`);
   const latest = (kind: "brain" | "participants") =>
     sql<number | null>`(select dv.participant_count from ${datasetVersions} dv
-      where dv.study_id = ${outer} and dv.kind = ${kind} order by dv.version desc limit 1)`;
+      where dv.study_id = ${outer} and dv.kind = ${kind} and dv.complete order by dv.version desc limit 1)`;
   return {
     members: sql<number>`(select count(*) from ${memberships} m where m.study_id = ${outer})`,
     models: sql<number>`(select count(*) from ${models} mo where mo.study_id = ${outer} and mo.deleted_at is null)`,
