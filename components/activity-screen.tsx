@@ -5,6 +5,7 @@ import { Card, Empty, Failure, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { useActivity, type ActivityEvent } from "../hooks/use-activity";
 import { useMembers } from "../hooks/use-team";
+import { setAsideEventFacts, setAsideEventWords } from "../server/model/set-aside-words";
 import { signOffSettingWords } from "../server/model/sign-off";
 
 const kindOptions = [
@@ -51,7 +52,8 @@ export function ActivityScreen(props: { studyId: string }) {
 
 function EventRow({ event }: { event: ActivityEvent }) {
   const who = event.actor?.name ?? event.actor?.email ?? "Covarion";
-  const reason = reasonOf(event);
+  // A set-aside's sentence quotes its reason itself.
+  const reason = setAsideEventFacts(event) ? null : reasonOf(event);
   return (
     <View style={styles.row} testID="activity-event">
       <Txt kind="small">
@@ -118,9 +120,10 @@ export function describeEvent(event: ActivityEvent): string {
     case "member.left":
       return "left the study";
     case "participant.set_aside":
-      return `set participant ${field(after, "participant") ?? "?"} aside${field(after, "region") ? ` in ${field(after, "region")}` : " from every region"}`;
-    case "participant.restored":
-      return `restored participant ${field(before, "participant") ?? "?"}${field(before, "region") ? ` in ${field(before, "region")}` : ""}`;
+    case "participant.restored": {
+      const facts = setAsideEventFacts(event);
+      return facts ? setAsideEventWords(facts) : event.kind;
+    }
     case "dataset.confirmed":
       return `stored ${field(after, "kind") === "brain" ? "brain table" : "participant sheet"} version ${field(after, "version") ?? "?"} (${field(after, "fileName") ?? "file"})`;
     case "dataset.identifier_confirmed":

@@ -1,9 +1,10 @@
 /**
  * A study's Data section: the stored versions of its brain table and
  * participant sheet, the upload flow with its preview (Owners and
- * Analysts), the join report and the roster table with its CSV export,
- * then the reliability of the measures (regions across sessions; stated
- * trait reliabilities).
+ * Analysts), the study's set-asides (current ones with Restore, restored
+ * ones as history), the join report and the roster table with its CSV
+ * export, then the reliability of the measures (regions across sessions;
+ * stated trait reliabilities).
  * Viewers of a restricted study see counts, never participant rows.
  */
 import { StyleSheet, View } from "react-native";
@@ -15,6 +16,7 @@ import { JoinReport } from "./datasets/join-report";
 import { RosterTable } from "./datasets/roster-table";
 import { UploadPanel } from "./datasets/upload-panel";
 import { ReliabilitySection } from "./measurement/reliability-section";
+import { SetAsideSection } from "./set-asides/set-aside-section";
 import { palette, space } from "./theme";
 import { Card, Failure, Heading, Notice, Pending, Txt } from "./ui";
 
@@ -32,6 +34,7 @@ export function DataScreen(props: { studyId: string }) {
       ) : (
         <Notice>{study.data.archivedAt ? "This study is archived: no data can be uploaded until an Owner unarchives it." : "Owners and Analysts upload data; your role reads it."}</Notice>
       )}
+      <SetAsideSection studyId={props.studyId} canRestore={can(study.data, "participants.set-aside")} />
       <RosterSection studyId={props.studyId} canMap={canUpload} />
       <ReliabilitySection studyId={props.studyId} canEdit={canUpload} />
     </View>

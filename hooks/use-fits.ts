@@ -18,16 +18,6 @@ export interface ParticipantPageQuery {
   search: string;
 }
 
-export interface SetAsideView {
-  id: string;
-  participant: string;
-  region: string | null;
-  reason: string;
-  createdBy: { id: string; name: string | null };
-  createdAt: string;
-  restoredAt: string | null;
-}
-
 export const fitKeys = {
   all: ["fits"] as const,
   list: (studyId: string) => [...fitKeys.all, "list", studyId] as const,
@@ -35,7 +25,6 @@ export const fitKeys = {
   region: (fitId: string, region: string) => [...fitKeys.all, "region", fitId, region] as const,
   participants: (fitId: string, region: string, page: ParticipantPageQuery) => [...fitKeys.all, "participants", fitId, region, page] as const,
   preview: (fitId: string, region: string) => [...fitKeys.all, "preview", fitId, region] as const,
-  setAsides: (studyId: string) => ["set-asides", studyId] as const,
 };
 
 const running = (status: string | undefined) => status === "queued" || status === "running";
@@ -61,9 +50,6 @@ export const regionParticipantsQueryOptions = (fitId: string, region: string, pa
       return apiFetch<RegionParticipantsPage>(`/api/fits/${encodeURIComponent(fitId)}/regions/${encodeURIComponent(region)}/participants?${query}`);
     },
   });
-
-export const setAsidesQueryOptions = (studyId: string) =>
-  queryOptions({ queryKey: fitKeys.setAsides(studyId), queryFn: () => apiFetch<SetAsideView[]>(`/api/studies/${encodeURIComponent(studyId)}/set-asides`) });
 
 export function useFits(studyId: string) {
   const query = useQuery({ ...fitsQueryOptions(studyId), refetchInterval: (q) => (q.state.data?.some((f) => running(f.status)) ? 2000 : false) });
@@ -125,10 +111,6 @@ export function useRegionPreview(fitId: string, region: string | null, setAsideV
   });
 }
 
-export function useSetAsides(studyId: string, enabled = true) {
-  return useQuery({ ...setAsidesQueryOptions(studyId), enabled });
-}
-
 export function useRunFit(studyId: string) {
   const client = useQueryClient();
   return useMutation({
@@ -146,28 +128,5 @@ export function useCancelFit(fitId: string) {
   return useMutation({
     mutationFn: () => apiFetch<FitView>(`/api/fits/${encodeURIComponent(fitId)}/cancel`, { method: "POST" }),
     onSuccess: () => client.invalidateQueries({ queryKey: fitKeys.all }),
-  });
-}
-
-export function useSetAside(studyId: string) {
-  const client = useQueryClient();
-  return useMutation({
-    mutationFn: (input: { participant: string; region?: string; reason: string }) =>
-      apiFetch<SetAsideView>(`/api/studies/${encodeURIComponent(studyId)}/set-asides`, jsonBody("POST", input)),
-    onSuccess: async () => {
-      await client.invalidateQueries({ queryKey: fitKeys.setAsides(studyId) });
-      await client.invalidateQueries({ queryKey: ["activity", studyId] });
-    },
-  });
-}
-
-export function useRestoreSetAside(studyId: string) {
-  const client = useQueryClient();
-  return useMutation({
-    mutationFn: (setAsideId: string) => apiFetch<SetAsideView>(`/api/studies/${encodeURIComponent(studyId)}/set-asides/${encodeURIComponent(setAsideId)}`, { method: "DELETE" }),
-    onSuccess: async () => {
-      await client.invalidateQueries({ queryKey: fitKeys.setAsides(studyId) });
-      await client.invalidateQueries({ queryKey: ["activity", studyId] });
-    },
   });
 }

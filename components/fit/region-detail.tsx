@@ -3,7 +3,11 @@
  * and band, or a strip plot per group), residual versus leverage, the
  * participant diagnostics table (paged from the API), the with-and-without
  * sensitivity, the permutation null distribution, and set-aside with an
- * at-once preview.
+ * at-once preview. A tapped participant's card shows their values with the
+ * individual caution and either the set-aside form or, for someone already
+ * set aside from this region or every region, who set them aside, when and
+ * why, with Restore. A region with few participants gets the small-sample
+ * caution.
  */
 import { useState } from "react";
 import { StyleSheet, View } from "react-native";
@@ -20,7 +24,11 @@ import { ParticipantDiagnosticsTable } from "./participant-diagnostics-table";
 import { Choice } from "../choice";
 import { Badge, Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "../ui";
 import { palette, space } from "../theme";
-import { useRegionDetail, useRegionPreview, useRunFit, useSetAside, useSetAsides, type FitView, type RegionDetail } from "../../hooks/use-fits";
+import { useRegionDetail, useRegionPreview, useRunFit, type FitView, type RegionDetail } from "../../hooks/use-fits";
+import { useSetAside, useSetAsides, type SetAsideView } from "../../hooks/use-set-asides";
+import { RestoreForm } from "../set-asides/restore-form";
+import { individualCaution, regionSmallSampleCaution, setAsideCaution, smallSampleTitle } from "../../server/model/cautions";
+import { setAsideLine } from "../../server/model/set-aside-words";
 import type { Flag } from "../../server/model/spec";
 
 type Point = NonNullable<RegionDetail["points"]>[number];
@@ -32,10 +40,16 @@ export function RegionDetailPanel(props: { fit: FitView; region: string; canSetA
   if (detail.isError) return <Failure error={detail.error} onRetry={() => detail.refetch()} />;
   const d = detail.data;
   const point = d.points?.find((p) => p.participant === selected) ?? null;
+  const smallSample = regionSmallSampleCaution(d.n);
   return (
     <View style={styles.root} testID="region-detail">
       <Heading level={2}>{d.region}</Heading>
       <Summary detail={d} />
+      {smallSample ? (
+        <Notice tone="caution" title={smallSampleTitle} testID="region-small-sample">
+          {smallSample}
+        </Notice>
+      ) : null}
       {d.result.attenuation ? (
         <Card>
           <Heading level={3}>Reliability and the largest observable correlation</Heading>
@@ -43,7 +57,7 @@ export function RegionDetailPanel(props: { fit: FitView; region: string; canSetA
         </Card>
       ) : null}
       {d.points ? <DataPlot detail={d} selected={selected} onSelect={setSelected} /> : <Notice>This study restricts participant-level rows: the plots are not shown to Viewers.</Notice>}
-      {point ? <ParticipantCard fit={props.fit} detail={d} point={point} canSetAside={props.canSetAside} onClose={() => setSelected(null)} /> : null}
+      {point ? <ParticipantCard key={point.participant} fit={props.fit} detail={d} point={point} canSetAside={props.canSetAside} onClose={() => setSelected(null)} /> : null}
       <PreviewCard fit={props.fit} region={d.region} canRun={props.canRun} enabled={props.canSetAside} />
       {d.points && d.kind !== "reliability" ? (
         <Card>
@@ -158,11 +172,21 @@ function DataPlot({ detail, selected, onSelect }: { detail: RegionDetail; select
   );
 }
 
+/** The study's active set-aside that leaves this participant out of this region (every region first), if any. */
+function currentSetAside(list: readonly SetAsideView[] | undefined, participant: string, region: string): SetAsideView | null {
+  const mine = (list ?? []).filter((s) => s.active && s.participant === participant);
+  return mine.find((s) => s.region === null) ?? mine.find((s) => s.region === region) ?? null;
+}
+
 function ParticipantCard({ fit, detail, point, canSetAside, onClose }: { fit: FitView; detail: RegionDetail; point: Point; canSetAside: boolean; onClose: () => void }) {
   const [reason, setReason] = useState("");
   const [scope, setScope] = useState<"region" | "all">("region");
+  const [restored, setRestored] = useState(false);
   const setAside = useSetAside(fit.studyId);
-  const already = detail.setAside?.find((s) => s.participant === point.participant);
+  const studySetAsides = useSetAsides(fit.studyId);
+  const inFit = detail.setAside?.find((s) => s.participant === point.participant);
+  const current = currentSetAside(studySetAsides.data, point.participant, detail.region);
+  const elsewhere = (studySetAsides.data ?? []).filter((s) => s.active && s.participant === point.participant && s.region !== null && s.region !== detail.region);
   return (
     <Card testID="participant-card">
       <View style={styles.badges}>
@@ -170,40 +194,69 @@ function ParticipantCard({ fit, detail, point, canSetAside, onClose }: { fit: Fi
         {point.flags.map((f) => (
           <Badge key={f} label={f} tone="danger" />
         ))}
+        {current ? <Badge label={current.region === null ? "Set aside: all regions" : "Set aside: this region"} tone="accent" /> : null}
       </View>
       <Txt kind="small">
         {detail.axes.x ? `${detail.axes.x} ${formatValue(point.x)} · ` : ""}
         {point.group ? `${detail.axes.group ?? "group"} ${point.group} · ` : ""}contrast {formatValue(point.y)} · leverage {formatValue(point.leverage)} · studentized residual{" "}
         {formatValue(point.studentizedResidual)} · Cook's distance {formatValue(point.cooksDistance)}
       </Txt>
-      {already ? <Notice>Set aside in this fit ({already.scope}): {already.reason}</Notice> : null}
-      {canSetAside ? (
-        setAside.isSuccess ? (
-          <Notice tone="success">Set aside and logged. The estimate below is recomputed without this participant; refit to update every region.</Notice>
-        ) : (
-          <>
-            <Notice tone="caution">Set participants aside only for reasons decided before looking at results (for example excessive motion or failed task checks). Every set-aside is logged with its reason.</Notice>
-            <Choice
-              label="Set aside from"
-              options={[
-                { value: "region", label: `This region (${detail.region})` },
-                { value: "all", label: "Every region" },
-              ]}
-              value={scope}
-              onChange={setScope}
-            />
-            <Field label="Reason (required)" value={reason} onChangeText={setReason} placeholder="e.g. mean framewise displacement above the preregistered 0.5 mm" testID="set-aside-reason" />
-            {setAside.error ? <Notice tone="danger">{setAside.error.message}</Notice> : null}
-            <Button
-              label="Set aside"
-              variant="danger"
-              disabled={reason.trim().length === 0}
-              busy={setAside.isPending}
-              onPress={() => setAside.mutate({ participant: point.participant, region: scope === "region" ? detail.region : undefined, reason: reason.trim() })}
-              testID="set-aside"
-            />
-          </>
-        )
+      <Txt kind="caption" style={{ color: palette.muted }} testID="individual-caution">
+        {individualCaution}
+      </Txt>
+      {inFit ? <Notice>Set aside in this fit ({inFit.scope}): {inFit.reason}</Notice> : null}
+      {restored && !current ? <Notice tone="success">Restored and logged. Refit to bring this participant back into every region's numbers.</Notice> : null}
+      {setAside.isSuccess && current ? <Notice tone="success">Set aside and logged. The estimate below is recomputed without this participant; refit to update every region.</Notice> : null}
+      {current ? (
+        <>
+          <Notice tone="caution" title={current.region === null ? "Set aside from every region" : `Set aside from ${current.region}`} testID="participant-set-aside">
+            {setAsideLine(current)}
+          </Notice>
+          {canSetAside ? <RestoreForm studyId={fit.studyId} setAside={current} onRestored={() => {
+                setAside.reset();
+                setRestored(true);
+              }} /> : null}
+        </>
+      ) : studySetAsides.isPending ? (
+        <Pending label="Checking set-asides…" />
+      ) : canSetAside ? (
+        <>
+          {elsewhere.length > 0 ? (
+            <Txt kind="small" style={{ color: palette.inkSoft }}>
+              Also set aside from {elsewhere.map((s) => s.region).join(", ")}.
+            </Txt>
+          ) : null}
+          <Notice tone="caution">{setAsideCaution}</Notice>
+          <Choice
+            label="Set aside from"
+            options={[
+              { value: "region", label: `This region (${detail.region})` },
+              { value: "all", label: "Every region" },
+            ]}
+            value={scope}
+            onChange={setScope}
+          />
+          <Field label="Reason (required)" value={reason} onChangeText={setReason} placeholder="e.g. mean framewise displacement above the preregistered 0.5 mm" testID="set-aside-reason" />
+          {setAside.error ? <Notice tone="danger">{setAside.error.message}</Notice> : null}
+          <Button
+            label="Set aside"
+            variant="danger"
+            disabled={reason.trim().length === 0}
+            busy={setAside.isPending}
+            onPress={() =>
+              setAside.mutate(
+                { participant: point.participant, region: scope === "region" ? detail.region : undefined, reason: reason.trim() },
+                {
+                  onSuccess: () => {
+                    setReason("");
+                    setRestored(false);
+                  },
+                },
+              )
+            }
+            testID="set-aside"
+          />
+        </>
       ) : null}
       <Button label="Close" variant="quiet" onPress={onClose} />
     </Card>

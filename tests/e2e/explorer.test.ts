@@ -74,7 +74,7 @@ for (const [label, viewport] of [
       await page.waitForURL((url) => /\/fits\/[^/]+$/.test(url.pathname) && url.toString() !== fitUrl);
       await page.getByTestId("region-table").waitFor({ timeout: 90_000 });
       await page.getByRole("tab", { name: "Activity" }).click();
-      await page.getByText(`set participant ${participant} aside`).first().waitFor();
+      await page.getByText(`set aside ${participant} from`).first().waitFor();
       await page.getByText("Mean framewise displacement above the preregistered limit").first().waitFor();
       await screenshot(page, `activity-${label}`);
       expect(errors).toEqual([]);
