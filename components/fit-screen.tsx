@@ -1,5 +1,7 @@
 /**
- * A fit: the model in plain words, progress while it runs, then the region
+ * A fit: its header (the model in plain words, N, what it set aside and
+ * why, the fit it re-runs, whether newer data exist; fit/fit-header.tsx),
+ * progress while it runs, then the region
  * table and forest plot beside the selected region's detail (side by side on
  * a wide screen, one column on a phone).
  */
@@ -12,8 +14,8 @@ import { ProgressBar } from "./fit/progress-bar";
 import { VarianceShares } from "./fit/variance-shares";
 import type { VarianceShareInput } from "./fit/variance-shares-layout";
 import { PublishPanel } from "./fit/publish-panel";
-import { methodOf, questionOf, regionsOf } from "./fit/describe-model";
-import { Badge, Button, Card, Failure, Heading, Notice, Pending, Txt } from "./ui";
+import { FitHeader } from "./fit/fit-header";
+import { Button, Card, Failure, Heading, Notice, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { can, useStudy } from "../hooks/use-study";
 import { useCancelFit, useFit, type FitView } from "../hooks/use-fits";
@@ -51,30 +53,10 @@ function FitBody({ fit, canRun, canSetAside }: { fit: FitView; canRun: boolean; 
   const [selected, setSelected] = useState<string | null>(null);
   const cancel = useCancelFit(fit.id);
   const active = selected ?? regions[0]?.region ?? null;
-  const maxN = regions.reduce((m, r) => Math.max(m, r.n), 0);
   return (
     <View style={styles.root}>
       <Card testID="fit-header">
-        <View style={styles.head}>
-          <Txt kind="title" style={{ flexShrink: 1 }}>
-            {fit.model.name}
-          </Txt>
-          <Badge label={fit.status} tone={fit.status === "done" ? "success" : fit.status === "failed" ? "danger" : "accent"} />
-        </View>
-        {spec ? (
-          <>
-            <Txt>{questionOf(spec)}</Txt>
-            <Txt kind="small" style={{ color: palette.inkSoft }} testID="fit-plain-words">
-              {fit.status === "done" ? `N up to ${maxN} · ` : ""}
-              {regionsOf(spec, regions.length || undefined)} · {methodOf(spec)}
-            </Txt>
-          </>
-        ) : null}
-        <Txt kind="caption">
-          Brain table v{fit.datasets.brain.version} ({fit.datasets.brain.fileName}, {fit.datasets.brain.sha256.slice(0, 10)})
-          {fit.datasets.participants ? ` · participant sheet v${fit.datasets.participants.version} (${fit.datasets.participants.fileName})` : ""} · run by {fit.createdBy.name ?? "a member"},{" "}
-          {new Date(fit.createdAt).toLocaleString()}
-        </Txt>
+        <FitHeader fit={fit} spec={spec} regions={regions} canRun={canRun} />
         {fit.model.caution ? (
           <Notice tone="caution" title="Circular region selection" testID="fit-circularity">
             {fit.model.caution}
@@ -140,7 +122,6 @@ function varianceRows(regions: readonly RegionResult[], tau2Method: "dl" | "reml
 
 const styles = StyleSheet.create({
   root: { gap: space.lg },
-  head: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.sm },
   split: { flexDirection: "row", flexWrap: "wrap", gap: space.lg, alignItems: "flex-start" },
   left: { flexGrow: 1, flexShrink: 1, flexBasis: 420, minWidth: 0, gap: space.lg },
   right: { flexGrow: 1, flexShrink: 1, flexBasis: 420, minWidth: 0 },

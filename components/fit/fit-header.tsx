@@ -1,0 +1,214 @@
+/**
+ * The top of a fit, in plain words and within the first screen: the
+ * model's name and stage, its question, N over the regions, **Set aside: k**
+ * with a disclosure of each set-aside (participant, scope, reason, who and
+ * when), the earlier fit it re-runs with what changed, a notice with a
+ * Refit button when newer data or set-asides exist, and the small-sample
+ * caution when a region has fewer than 20 participants.
+ */
+import { useState } from "react";
+import { Pressable, StyleSheet, View } from "react-native";
+import { useRouter } from "expo-router";
+import { Badge, Button, Notice, Txt } from "../ui";
+import { fonts, palette, radius, space, type } from "../theme";
+import { methodOf, questionOf, regionsOf } from "./describe-model";
+import { nWords, refitOfWords, setAsideByline, setAsideCountWords, setAsideTitle, stageTone, whenWords } from "./lineage-words";
+import { smallSampleCaution } from "../../server/model/cautions";
+import type { ModelSpec, RegionResult } from "../../server/model/spec";
+import { type FitView, useRunFit } from "../../hooks/use-fits";
+
+export function FitHeader({ fit, spec, regions, canRun }: { fit: FitView; spec: ModelSpec | null; regions: readonly RegionResult[]; canRun: boolean }) {
+  const n = nWords(fit.n);
+  const plain = [...(n ? [`${n} per region`] : []), ...(spec ? [regionsOf(spec, regions.length || undefined), methodOf(spec)] : [])];
+  return (
+    <View style={styles.root}>
+      <View style={styles.head}>
+        <Txt kind="title" style={{ flexShrink: 1 }}>
+          {fit.model.name}
+        </Txt>
+        <View testID="fit-stage">
+          <Badge label={fit.stage} tone={stageTone[fit.stage]} />
+        </View>
+      </View>
+      {spec ? <Txt>{questionOf(spec)}</Txt> : null}
+      {plain.length > 0 ? (
+        <Txt kind="small" style={{ color: palette.inkSoft }} testID="fit-plain-words">
+          {plain.join(" · ")}
+        </Txt>
+      ) : null}
+      <SetAsideDisclosure fit={fit} />
+      {fit.refitOf ? <RefitOf fit={fit} /> : null}
+      {fit.stale ? <StaleNotice fit={fit} canRun={canRun} /> : null}
+      {fit.status === "done" ? <SmallSample regions={regions} /> : null}
+      <Txt kind="caption">
+        Brain table v{fit.datasets.brain.version} ({fit.datasets.brain.fileName}, {fit.datasets.brain.sha256.slice(0, 10)})
+        {fit.datasets.participants ? ` · participant sheet v${fit.datasets.participants.version} (${fit.datasets.participants.fileName})` : ""} · run by {fit.createdBy.name ?? "a member"},{" "}
+        {whenWords(fit.createdAt)}
+      </Txt>
+    </View>
+  );
+}
+
+/** "Set aside: k" with each set-aside behind a disclosure (collapsed at first). */
+function SetAsideDisclosure({ fit }: { fit: FitView }) {
+  const [open, setOpen] = useState(false);
+  const count = fit.setAsides.length;
+  if (count === 0) {
+    return (
+      <Txt kind="small" testID="fit-set-aside-count">
+        {setAsideCountWords(0)} · every participant with data was used
+      </Txt>
+    );
+  }
+  return (
+    <View>
+      <Pressable
+        accessibilityRole="button"
+        accessibilityState={{ expanded: open }}
+        accessibilityLabel={`${setAsideCountWords(count)}. ${open ? "Hide" : "Show"} who was set aside and why`}
+        onPress={() => setOpen(!open)}
+        style={({ pressed }) => [styles.disclosure, pressed && styles.pressed]}
+        testID="fit-set-aside-toggle"
+      >
+        <Txt kind="small" style={styles.disclosureText} testID="fit-set-aside-count">
+          {setAsideCountWords(count)}
+        </Txt>
+        <Txt kind="small" style={styles.disclosureHint}>
+          {open ? "Hide ▴" : "Who and why ▾"}
+        </Txt>
+      </Pressable>
+      {open ? (
+        <View style={styles.list} testID="fit-set-aside-list">
+          {fit.setAsides.map((s, i) => (
+            <View key={`${s.participant ?? i}-${s.region ?? ""}`} style={styles.item} testID="fit-set-aside-item">
+              <Txt kind="small" style={styles.itemTitle}>
+                {setAsideTitle(s)}
+              </Txt>
+              <Txt kind="small">“{s.reason}”</Txt>
+              <Txt kind="caption" style={{ color: palette.muted }}>
+                {setAsideByline(s)}
+              </Txt>
+            </View>
+          ))}
+          {!fit.participantsVisible ? (
+            <Txt kind="caption" style={{ color: palette.muted }}>
+              This study keeps participant ids to its Owners, Analysts and Reviewers.
+            </Txt>
+          ) : null}
+        </View>
+      ) : null}
+    </View>
+  );
+}
+
+/** "Refit of ⟨earlier fit⟩" (a link to it) with what changed. */
+function RefitOf({ fit }: { fit: FitView }) {
+  const router = useRouter();
+  const refitOf = fit.refitOf as string;
+  return (
+    <View style={styles.refit} testID="fit-refit-of">
+      <Pressable
+        accessibilityRole="link"
+        onPress={() => router.push(`/studies/${fit.studyId}/fits/${refitOf}` as never)}
+        style={({ pressed }) => [styles.link, pressed && styles.pressed]}
+      >
+        <Txt kind="small" style={styles.linkText}>
+          {refitOfWords(fit.model.name, refitOf, fit.refitOfCreatedAt)}
+        </Txt>
+      </Pressable>
+      <Txt kind="small" style={{ color: palette.inkSoft }}>
+        {fit.changes.length > 0 ? `Changed: ${fit.changes.join("; ")}.` : "Nothing changed in the data, set-asides or model."}
+      </Txt>
+    </View>
+  );
+}
+
+/** The notice that newer data or set-asides exist, with a Refit button for those who may run fits. */
+function StaleNotice({ fit, canRun }: { fit: FitView; canRun: boolean }) {
+  const router = useRouter();
+  const run = useRunFit(fit.studyId);
+  const mayRefit = canRun && !fit.model.deleted;
+  return (
+    <View style={styles.stale} testID="fit-stale">
+      <Notice tone="caution" title="Newer data or set-asides exist">
+        {fit.staleReasons.join(". ")}. This fit stays as it was run{mayRefit ? "; a refit runs the model on what the study has now." : "."}
+      </Notice>
+      {run.error ? <Notice tone="danger">{run.error.message}</Notice> : null}
+      {mayRefit ? (
+        <Button
+          label="Refit"
+          testID="fit-refit"
+          busy={run.isPending}
+          onPress={() => run.mutate(fit.model.id, { onSuccess: (created) => router.push(`/studies/${fit.studyId}/fits/${created.id}` as never) })}
+          style={styles.refitButton}
+        />
+      ) : null}
+    </View>
+  );
+}
+
+/** The small-sample caution on one line, with "more" for the rest. */
+function SmallSample({ regions }: { regions: readonly RegionResult[] }) {
+  const [open, setOpen] = useState(false);
+  const caution = smallSampleCaution(regions);
+  if (!caution) return null;
+  return (
+    <View style={styles.caution} testID="fit-small-sample">
+      <Txt kind="small" numberOfLines={open ? undefined : 1}>
+        <Txt kind="small" style={styles.cautionTitle}>
+          {caution.title}:{" "}
+        </Txt>
+        {caution.text}
+      </Txt>
+      <Pressable
+        accessibilityRole="button"
+        accessibilityState={{ expanded: open }}
+        accessibilityLabel={open ? "Show less of the small-sample caution" : "Read the whole small-sample caution"}
+        onPress={() => setOpen(!open)}
+        style={({ pressed }) => [styles.more, pressed && styles.pressed]}
+      >
+        <Txt kind="small" style={styles.linkText}>
+          {open ? "less" : "more"}
+        </Txt>
+      </Pressable>
+    </View>
+  );
+}
+
+const styles = StyleSheet.create({
+  root: { gap: space.sm },
+  head: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.sm },
+  disclosure: {
+    minHeight: 44,
+    flexDirection: "row",
+    alignItems: "center",
+    justifyContent: "space-between",
+    gap: space.sm,
+    paddingHorizontal: space.md,
+    borderRadius: radius.md,
+    borderWidth: 1,
+    borderColor: palette.line,
+    backgroundColor: palette.canvas,
+  },
+  disclosureText: { fontFamily: fonts.semibold },
+  disclosureHint: { color: palette.focus },
+  pressed: { opacity: 0.7 },
+  list: { gap: space.sm, paddingTop: space.sm },
+  item: { gap: 2, paddingLeft: space.md, borderLeftWidth: 3, borderLeftColor: palette.lineStrong },
+  itemTitle: { fontFamily: fonts.semibold },
+  refit: { gap: 2 },
+  link: { minHeight: 44, justifyContent: "center", alignSelf: "flex-start" },
+  linkText: { color: palette.focus, textDecorationLine: "underline", fontSize: type.small },
+  stale: { gap: space.sm },
+  refitButton: { alignSelf: "flex-start" },
+  caution: {
+    flexDirection: "row",
+    alignItems: "center",
+    gap: space.sm,
+    paddingHorizontal: space.md,
+    borderRadius: radius.md,
+    backgroundColor: palette.warningSoft,
+  },
+  cautionTitle: { fontFamily: fonts.semibold, color: palette.warning },
+  more: { minHeight: 44, minWidth: 44, justifyContent: "center", alignItems: "center" },
+});
