@@ -50,6 +50,19 @@ const reasons = {
   motion: "Mean framewise displacement above 0.5 mm (motion check before analysis)",
 };
 
+/** Uploads a file as the demo Owner (multipart). */
+async function ownerUpload(path: string, form: FormData): Promise<unknown> {
+  const signIn = await fetch(`${e2e.server.url}/api/dev/demo-sign-in`, {
+    method: "POST",
+    headers: { "Content-Type": "application/json", Origin: e2e.server.url },
+    body: JSON.stringify({ email: "owner@demo.covarion.test" }),
+  });
+  const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
+  const res = await fetch(`${e2e.server.url}${path}`, { method: "POST", headers: { Cookie: cookie, Origin: e2e.server.url }, body: form });
+  if (!res.ok) throw new Error(`POST ${path} answered ${res.status}: ${await res.text()}`);
+  return res.json();
+}
+
 async function runFit(api: Api, modelId: string): Promise<string> {
   const fit = (await api(`/api/studies/${studyId}/fits`, { method: "POST", body: { modelId } })) as { id: string };
   const deadline = Date.now() + 90_000;
@@ -197,6 +210,41 @@ it("a Viewer of a restricted study sees the count and the reasons without partic
   } finally {
     await context.close();
     await owner(`/api/studies/${studyId}`, { method: "PATCH", body: { restricted: false } });
+  }
+});
+
+it("a fit with fewer than 20 participants in a region shows the small-sample caution on one line, with more", async () => {
+  // An invented study of 12 participants in two regions, uploaded by the Owner.
+  const study = (await owner("/api/studies", { method: "POST", body: { name: "Twelve participants" } })) as { id: string };
+  const lines = ["participant_id,L_insula,R_insula"];
+  for (let i = 1; i <= 12; i++) lines.push(`p${String(i).padStart(2, "0")},${(0.1 * i - 0.4).toFixed(2)},${(0.3 - 0.05 * i).toFixed(2)}`);
+  const form = new FormData();
+  form.set("kind", "brain");
+  form.set("file", new Blob([`${lines.join("\n")}\n`], { type: "text/csv" }), "twelve.csv");
+  const preview = (await ownerUpload(`/api/studies/${study.id}/datasets`, form)) as { id: string };
+  await owner(`/api/studies/${study.id}/datasets/${preview.id}/confirm`, { method: "POST", body: {} });
+  const model = (await owner(`/api/studies/${study.id}/models`, {
+    method: "POST",
+    body: { name: "Insula load effect", regionSelection: "anatomical-or-prior", spec: { kind: "one-sample" } },
+  })) as { id: string };
+  const fit = (await owner(`/api/studies/${study.id}/fits`, { method: "POST", body: { modelId: model.id } })) as { id: string };
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  try {
+    await signIn(page, "owner");
+    await page.goto(`${e2e.server.url}/studies/${study.id}/fits/${fit.id}`);
+    const caution = page.getByTestId("fit-small-sample");
+    await caution.waitFor({ timeout: 90_000 });
+    expect(await inFirstScreen(page, "fit-small-sample", phone.height)).toBe(true);
+    const collapsed = (await caution.boundingBox())?.height ?? 0;
+    expect(await caution.textContent()).toContain("Fewer than 20 participants in 2 of 2 regions");
+    await expect(page.getByTestId("fit-plain-words").textContent()).resolves.toMatch(/^N = 12 per region/);
+    await expect(page.getByTestId("fit-set-aside-count").textContent()).resolves.toContain("Set aside: 0");
+    await caution.getByRole("button", { name: "Read the whole small-sample caution" }).click();
+    expect((await caution.boundingBox())?.height ?? 0).toBeGreaterThan(collapsed);
+    await screenshot(page, "fit-lineage-small-sample-phone");
+    expect(errors).toEqual([]);
+  } finally {
+    await context.close();
   }
 });
 
