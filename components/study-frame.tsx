@@ -4,9 +4,10 @@
  */
 import type { ReactNode } from "react";
 import { Pressable, ScrollView, StyleSheet, Text, View } from "react-native";
-import { usePathname, useRouter } from "expo-router";
+import { Link, usePathname, useRouter } from "expo-router";
 import { Badge, Failure, Notice, Pending, Txt } from "./ui";
 import { fonts, palette, radius, space, type } from "./theme";
+import { ApiError } from "../hooks/api";
 import { can, useStudy } from "../hooks/use-study";
 import { roleLabel } from "./studies-screen";
 
@@ -23,6 +24,8 @@ export function StudyFrame(props: { studyId: string; children: ReactNode }) {
   const pathname = usePathname();
   const router = useRouter();
   if (study.isPending) return <Pending label="Loading the study…" />;
+  // Unknown, deleted or not yours: the server answers 404 alike, and trying again cannot help.
+  if (study.isError && study.error instanceof ApiError && study.error.status === 404) return <StudyNotFound />;
   if (study.isError) return <Failure error={study.error} title="This study could not be opened" onRetry={() => study.refetch()} />;
   const base = `/studies/${props.studyId}`;
   const visible = sections.filter((s) => can(study.data, s.action));
@@ -69,7 +72,22 @@ export function StudyFrame(props: { studyId: string; children: ReactNode }) {
   );
 }
 
+function StudyNotFound() {
+  return (
+    <View style={styles.root} testID="study-not-found" accessibilityRole="alert">
+      <Txt kind="headline" accessibilityRole="header">
+        Study not found
+      </Txt>
+      <Txt style={{ color: palette.muted }}>There is no study at this address that you belong to. It may have been deleted, or you may not have been invited to it.</Txt>
+      <Link href="/studies" style={styles.link}>
+        Go to your studies
+      </Link>
+    </View>
+  );
+}
+
 const styles = StyleSheet.create({
+  link: { color: palette.focus, fontWeight: "600", minHeight: 44, paddingVertical: space.sm },
   root: { gap: space.md },
   head: { flexDirection: "row", flexWrap: "wrap", alignItems: "center", gap: space.sm },
   name: { flexShrink: 1 },

@@ -1,7 +1,13 @@
 import { useLocalSearchParams } from "expo-router";
 import { ModelForm } from "../../../../../components/model-form";
+import { RoleGate } from "../../../../../components/role-refusal";
 
 export default function NewModelRoute() {
   const { studyId } = useLocalSearchParams<{ studyId: string }>();
-  return <ModelForm studyId={String(studyId)} />;
+  const id = String(studyId);
+  return (
+    <RoleGate studyId={id} action="models.write" doing="build models" changes back={{ href: `/studies/${id}/models`, label: "Back to Models" }}>
+      <ModelForm studyId={id} />
+    </RoleGate>
+  );
 }
