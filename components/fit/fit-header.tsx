@@ -3,8 +3,9 @@
  * model's name and stage, its question, N over the regions, **Set aside: k**
  * with a disclosure of each set-aside (participant, scope, reason, who and
  * when), the earlier fit it re-runs with what changed, a notice with a
- * Refit button when newer data or set-asides exist, and the small-sample
- * caution when a region has fewer than 20 participants.
+ * Refit button when newer data or set-asides exist, a Run again button when
+ * the fit was cancelled or failed, and the small-sample caution when a
+ * region has fewer than 20 participants.
  */
 import { useState } from "react";
 import { Pressable, StyleSheet, View } from "react-native";
@@ -38,7 +39,8 @@ export function FitHeader({ fit, spec, regions, canRun }: { fit: FitView; spec: 
       ) : null}
       <SetAsideDisclosure fit={fit} />
       {fit.refitOf ? <RefitOf fit={fit} /> : null}
-      {fit.stale ? <StaleNotice fit={fit} canRun={canRun} /> : null}
+      {fit.stale ? <StaleNotice fit={fit} canRun={canRun && !ended(fit)} /> : null}
+      {ended(fit) && canRun && !fit.model.deleted ? <RunAgain fit={fit} /> : null}
       {fit.status === "done" ? <SmallSample regions={regions} /> : null}
       <Txt kind="caption">
         Brain table v{fit.datasets.brain.version} ({fit.datasets.brain.fileName}, {fit.datasets.brain.sha256.slice(0, 10)})
@@ -143,6 +145,27 @@ function StaleNotice({ fit, canRun }: { fit: FitView; canRun: boolean }) {
           style={styles.refitButton}
         />
       ) : null}
+    </View>
+  );
+}
+
+/** A fit that stopped without results: cancelled or failed. */
+const ended = (fit: FitView) => fit.status === "cancelled" || fit.status === "failed";
+
+/** Starts a new fit of the same model (on what the study has now) and opens it. */
+function RunAgain({ fit }: { fit: FitView }) {
+  const router = useRouter();
+  const run = useRunFit(fit.studyId);
+  return (
+    <View style={styles.stale}>
+      {run.error ? <Notice tone="danger">{run.error.message}</Notice> : null}
+      <Button
+        label="Run again"
+        testID="fit-run-again"
+        busy={run.isPending}
+        onPress={() => run.mutate(fit.model.id, { onSuccess: (created) => router.push(`/studies/${fit.studyId}/fits/${created.id}` as never) })}
+        style={styles.refitButton}
+      />
     </View>
   );
 }

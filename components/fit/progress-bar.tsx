@@ -2,7 +2,7 @@ import { StyleSheet, View } from "react-native";
 import { Txt } from "../ui";
 import { palette, radius, space } from "../theme";
 
-/** Progress of a running fit with the time left in words. */
+/** Progress of a running fit; the time left in words once the server has an estimate (after the first 5 %, server/jobs/time-left.ts). */
 export function ProgressBar(props: { fraction: number; secondsLeft: number | null }) {
   const percent = Math.max(0, Math.min(100, Math.round(props.fraction * 100)));
   return (
@@ -11,14 +11,19 @@ export function ProgressBar(props: { fraction: number; secondsLeft: number | nul
         <View style={[styles.fill, { width: `${percent}%` }]} />
       </View>
       <Txt kind="caption">
-        {percent}% · {timeLeft(props.secondsLeft)}
+        {progressWords(percent, props.secondsLeft)}
       </Txt>
     </View>
   );
 }
 
-export function timeLeft(seconds: number | null): string {
-  if (seconds === null || !Number.isFinite(seconds)) return "estimating time left";
+/** "37% done · about 2 min left", or the fraction only while there is no estimate. */
+export function progressWords(percent: number, seconds: number | null): string {
+  if (seconds === null || !Number.isFinite(seconds)) return `${percent}% done`;
+  return `${percent}% done · ${timeLeft(seconds)}`;
+}
+
+function timeLeft(seconds: number): string {
   if (seconds < 1) return "finishing";
   if (seconds < 60) return `about ${Math.ceil(seconds)} s left`;
   return `about ${Math.ceil(seconds / 60)} min left`;

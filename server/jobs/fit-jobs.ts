@@ -38,6 +38,7 @@ import type { Database } from "../../db/client";
 import { fitRegions, fits, type FitStatus } from "../../db/schema";
 import { IntakeError } from "../intake/errors";
 import type { FitData } from "../model/spec";
+import { secondsLeftOf } from "./time-left";
 import { recordEvent } from "../services/audit";
 import { FitDataCache, type FitInputs, inputsOfFit, specOfRecipe } from "../services/fit-inputs";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "./fit-task";
@@ -335,7 +336,7 @@ export class FitJobs {
     }
     const fraction = Math.min(1, Math.max(0, message.fraction));
     const elapsed = run.startedAt === null ? 0 : nowMs - run.startedAt;
-    const secondsLeft = fraction >= 0.01 && elapsed >= 250 ? Math.ceil((elapsed * (1 - fraction)) / fraction / 1000) : null;
+    const secondsLeft = secondsLeftOf(fraction, elapsed);
     run.progress = { fraction, secondsLeft };
     this.emit({ type: "progress", fitId, status: "running", progress: run.progress, error: null });
     if (nowMs - run.lastWrite >= this.progressWriteMs) {

@@ -12,6 +12,28 @@ import { sharedServerAndBrowser } from "./session";
 const e2e = sharedServerAndBrowser();
 let studyId: string;
 
+type Api = (path: string, init?: { method?: string; body?: unknown }) => Promise<unknown>;
+
+/** Calls the API as a demo person (a real session cookie from the demo sign-in route). */
+async function demoApi(role: "owner" | "analyst" | "viewer"): Promise<Api> {
+  const signIn = await fetch(`${e2e.server.url}/api/dev/demo-sign-in`, {
+    method: "POST",
+    headers: { "Content-Type": "application/json", Origin: e2e.server.url },
+    body: JSON.stringify({ email: `${role}@demo.covarion.test` }),
+  });
+  if (!signIn.ok) throw new Error(`demo sign-in answered ${signIn.status}`);
+  const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
+  return async (path, init = {}) => {
+    const res = await fetch(`${e2e.server.url}${path}`, {
+      method: init.method ?? "GET",
+      headers: { Cookie: cookie, Origin: e2e.server.url, ...(init.body !== undefined ? { "Content-Type": "application/json" } : {}) },
+      body: init.body !== undefined ? JSON.stringify(init.body) : undefined,
+    });
+    if (!res.ok) throw new Error(`${init.method ?? "GET"} ${path} answered ${res.status}: ${await res.text()}`);
+    return res.json();
+  };
+}
+
 async function signInAsDemo(page: Page, role: "owner" | "analyst" | "reviewer" | "viewer"): Promise<void> {
   await page.goto(`${e2e.server.url}/sign-in`);
   await page.getByRole("button", { name: `Sign in as the demo ${role}` }).click();
@@ -19,15 +41,8 @@ async function signInAsDemo(page: Page, role: "owner" | "analyst" | "reviewer" |
 }
 
 beforeAll(async () => {
-  const signIn = await fetch(`${e2e.server.url}/api/dev/demo-sign-in`, {
-    method: "POST",
-    headers: { "Content-Type": "application/json", Origin: e2e.server.url },
-    body: JSON.stringify({ email: "viewer@demo.covarion.test" }),
-  });
-  if (!signIn.ok) throw new Error(`demo sign-in answered ${signIn.status}`);
-  const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
-  const res = await fetch(`${e2e.server.url}/api/studies`, { headers: { Cookie: cookie } });
-  studyId = ((await res.json()) as { id: string }[])[0].id;
+  const viewer = await demoApi("viewer");
+  studyId = ((await viewer("/api/studies")) as { id: string }[])[0].id;
 });
 
 for (const [route, sentence, back] of [
@@ -70,5 +85,45 @@ it("an unknown study shows Study not found with a link to the studies list", asy
     expect(errors.filter((e) => !e.startsWith(`response: 404 GET /api/studies/${unknown}`))).toEqual([]);
   } finally {
     await context.close();
+  }
+});
+
+it("a cancelled fit offers Run again to an Analyst, which starts a new fit of the same model", async () => {
+  const analyst = await demoApi("analyst");
+  const model = (await analyst(`/api/studies/${studyId}/models`, {
+    method: "POST",
+    body: {
+      name: "Accuracy with age, cancelled",
+      regionSelection: "anatomical-or-prior",
+      spec: { kind: "association", predictor: "accuracy", covariates: ["age"], inference: "permutation", resamples: 5000, seed: 9, correction: "holm" },
+    },
+  })) as { id: string };
+  const fit = (await analyst(`/api/studies/${studyId}/fits`, { method: "POST", body: { modelId: model.id } })) as { id: string };
+  await analyst(`/api/fits/${fit.id}/cancel`, { method: "POST", body: {} });
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  try {
+    await signInAsDemo(page, "analyst");
+    await page.goto(`${e2e.server.url}/studies/${studyId}/fits/${fit.id}`);
+    const runAgain = page.getByTestId("fit-run-again");
+    await runAgain.waitFor();
+    await screenshot(page, "fit-run-again-phone");
+    await runAgain.click();
+    await page.waitForURL((url) => /\/fits\/[^/]+$/.test(url.pathname) && !url.pathname.endsWith(fit.id));
+    const newId = new URL(page.url()).pathname.split("/").pop() as string;
+    const created = (await analyst(`/api/fits/${newId}`)) as { model: { id: string } };
+    expect(created.model.id).toBe(model.id);
+    expect(errors).toEqual([]);
+  } finally {
+    await context.close();
+  }
+  // Whoever may not run fits sees no Run again.
+  const viewer = await openPage(e2e.browser, phone);
+  try {
+    await signInAsDemo(viewer.page, "viewer");
+    await viewer.page.goto(`${e2e.server.url}/studies/${studyId}/fits/${fit.id}`);
+    await viewer.page.getByText("This fit was cancelled before it finished.").waitFor();
+    expect(await viewer.page.getByTestId("fit-run-again").count()).toBe(0);
+  } finally {
+    await viewer.context.close();
   }
 });
