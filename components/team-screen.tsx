@@ -3,7 +3,7 @@ import { StyleSheet, Switch, View } from "react-native";
 import { useRouter } from "expo-router";
 import { Choice, type ChoiceOption } from "./choice";
 import { Badge, Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "./ui";
-import { palette, space } from "./theme";
+import { palette, radius, space } from "./theme";
 import { roleLabel } from "./studies-screen";
 import { can, useArchiveStudy, useDeleteStudy, useStudy, useUnarchiveStudy, useUpdateStudy, type StudyDetail } from "../hooks/use-study";
 import { useMe } from "../hooks/use-me";
@@ -60,7 +60,9 @@ function MemberRow({ studyId, member, manage, isMe, archived }: { studyId: strin
   const remove = useRemoveMember(studyId);
   const router = useRouter();
   const [editing, setEditing] = useState(false);
+  const [confirming, setConfirming] = useState(false);
   const error = change.error ?? remove.error;
+  const who = member.name ?? member.email ?? "this member";
   return (
     <View style={styles.member} testID="member-row">
       <View style={styles.memberHead}>
@@ -74,9 +76,26 @@ function MemberRow({ studyId, member, manage, isMe, archived }: { studyId: strin
       {manage && editing ? (
         <Choice label={`Role of ${member.email ?? "member"}`} options={roleOptions} value={member.role} onChange={(role) => change.mutate({ userId: member.userId, role }, { onSuccess: () => setEditing(false) })} />
       ) : null}
+      {manage && !isMe && confirming ? (
+        <View style={styles.confirm} testID="remove-confirm">
+          <Txt kind="small">
+            Remove {who} ({roleLabel(member.role)}) from this study? They lose access at once; what they did stays in the activity.
+          </Txt>
+          <View style={styles.confirmActions}>
+            <Button
+              variant="danger"
+              label={`Remove ${who}`}
+              onPress={() => remove.mutate(member.userId, { onSuccess: () => setConfirming(false) })}
+              busy={remove.isPending}
+              testID="confirm-remove-member"
+            />
+            <Button variant="quiet" label="Keep" onPress={() => setConfirming(false)} testID="cancel-remove-member" />
+          </View>
+        </View>
+      ) : null}
       <View style={styles.actions}>
         {manage ? <Button variant="quiet" label={editing ? "Done" : "Change role"} onPress={() => setEditing(!editing)} /> : null}
-        {manage && !isMe ? <Button variant="quiet" label="Remove" onPress={() => remove.mutate(member.userId)} busy={remove.isPending} /> : null}
+        {manage && !isMe && !confirming ? <Button variant="quiet" label="Remove" onPress={() => setConfirming(true)} testID="remove-member" /> : null}
         {isMe && !archived ? (
           <Button
             variant="quiet"
@@ -251,5 +270,7 @@ const styles = StyleSheet.create({
   member: { gap: space.xs, paddingVertical: space.sm, borderTopWidth: 1, borderTopColor: palette.line },
   memberHead: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.sm },
   actions: { flexDirection: "row", flexWrap: "wrap", gap: space.xs, marginLeft: -space.lg },
+  confirm: { gap: space.sm, padding: space.md, borderRadius: radius.md, backgroundColor: palette.dangerSoft },
+  confirmActions: { flexDirection: "row", flexWrap: "wrap", gap: space.sm },
   switchRow: { flexDirection: "row", alignItems: "center", justifyContent: "space-between", gap: space.md },
 });

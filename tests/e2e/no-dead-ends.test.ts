@@ -127,3 +127,28 @@ it("a cancelled fit offers Run again to an Analyst, which starts a new fit of th
     await viewer.context.close();
   }
 });
+
+// Last in the file: it removes the demo Viewer from the demo study.
+it("removing a member asks to confirm and names the person", async () => {
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  try {
+    await signInAsDemo(page, "owner");
+    await page.goto(`${e2e.server.url}/studies/${studyId}/team`);
+    const row = page.getByTestId("member-row").filter({ hasText: "Jonah Adeyemi" });
+    await row.getByTestId("remove-member").click();
+    const confirm = row.getByTestId("remove-confirm");
+    await confirm.getByText("Remove Jonah Adeyemi (Viewer) from this study?", { exact: false }).waitFor();
+    await screenshot(page, "remove-member-confirm-phone");
+    // Keep: nothing happens.
+    await row.getByTestId("cancel-remove-member").click();
+    expect(await row.getByTestId("remove-confirm").count()).toBe(0);
+    expect(await page.getByTestId("member-row").filter({ hasText: "Jonah Adeyemi" }).count()).toBe(1);
+    // Confirm: the person leaves the list.
+    await row.getByTestId("remove-member").click();
+    await row.getByRole("button", { name: "Remove Jonah Adeyemi" }).click();
+    await page.getByTestId("member-row").filter({ hasText: "Jonah Adeyemi" }).waitFor({ state: "detached" });
+    expect(errors).toEqual([]);
+  } finally {
+    await context.close();
+  }
+});
