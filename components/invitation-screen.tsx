@@ -7,7 +7,7 @@ import { palette, space } from "./theme";
 import { roleLabel } from "./studies-screen";
 import { useAcceptInvitation, useInvitationPreview } from "../hooks/use-team";
 import { useMe } from "../hooks/use-me";
-import { useAuthOptions } from "../hooks/use-auth";
+import { useAuthOptions, useSignOut } from "../hooks/use-auth";
 
 /** The page an invitation e-mail links to: who invites whom to what, and the accept button. */
 export function InvitationScreen(props: { token: string }) {
@@ -15,6 +15,7 @@ export function InvitationScreen(props: { token: string }) {
   const me = useMe();
   const options = useAuthOptions();
   const accept = useAcceptInvitation(props.token);
+  const signOut = useSignOut(`/invitations/${encodeURIComponent(props.token)}`);
   const router = useRouter();
   return (
     <ScrollView style={styles.root} contentContainerStyle={styles.content}>
@@ -40,9 +41,14 @@ export function InvitationScreen(props: { token: string }) {
                 ) : null}
               </>
             ) : me.data.email.toLowerCase() !== preview.data.email.toLowerCase() ? (
-              <Notice tone="danger">
-                You are signed in as {me.data.email}, but this invitation is for {preview.data.email}. Sign out and sign in with the invited address.
-              </Notice>
+              <>
+                <Notice tone="danger">
+                  You are signed in as {me.data.email}, but this invitation is for {preview.data.email}. Sign out to continue as {preview.data.email}; you come back to
+                  this invitation.
+                </Notice>
+                {signOut.error ? <Notice tone="danger">{signOut.error.message}</Notice> : null}
+                <Button label="Sign out and continue" testID="sign-out-and-continue" busy={signOut.isPending} onPress={() => signOut.mutate()} />
+              </>
             ) : (
               <>
                 {accept.error ? <Notice tone="danger">{accept.error.message}</Notice> : null}

@@ -89,13 +89,14 @@ export function useDemoSignIn() {
   });
 }
 
-export function useSignOut() {
+/** Signs out through Auth.js, then opens `returnTo` (the sign-in page unless a screen wants to come back to itself). */
+export function useSignOut(returnTo = "/sign-in") {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: () => authAction("signout", { callbackUrl: `${window.location.origin}/sign-in` }),
+    mutationFn: () => authAction("signout", { callbackUrl: `${window.location.origin}${returnTo}` }),
     onSuccess: () => {
       client.clear();
-      window.location.assign("/sign-in");
+      window.location.assign(returnTo);
     },
   });
 }

@@ -128,6 +128,31 @@ it("a cancelled fit offers Run again to an Analyst, which starts a new fit of th
   }
 });
 
+it("the invitation page, opened while signed in as someone else, offers Sign out and continue, which comes back to it", async () => {
+  const owner = await demoApi("owner");
+  await owner(`/api/studies/${studyId}/invitations`, { method: "POST", body: { email: "newcomer@lab.example", role: "viewer" } });
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  try {
+    await signInAsDemo(page, "analyst");
+    await page.goto(`${e2e.server.url}/mailbox`);
+    await page.getByTestId("mail-message").filter({ hasText: "newcomer@lab.example" }).first().getByTestId("mail-link").first().click();
+    await page.waitForURL(/\/invitations\/[^/]+$/);
+    const invitationPath = new URL(page.url()).pathname;
+    await page.getByText("You are signed in as analyst@demo.covarion.test, but this invitation is for newcomer@lab.example.", { exact: false }).waitFor();
+    expect(await page.getByTestId("accept-invitation").count()).toBe(0);
+    await screenshot(page, "invitation-other-person-phone");
+    await page.getByTestId("sign-out-and-continue").click();
+    await page.getByText("Sign in as newcomer@lab.example to accept.").waitFor();
+    expect(new URL(page.url()).pathname).toBe(invitationPath);
+    await expect(page.getByTestId("email-input").inputValue()).resolves.toBe("newcomer@lab.example");
+    const me = await page.request.get(`${e2e.server.url}/api/me`);
+    expect(me.status()).toBe(401);
+    expect(errors).toEqual([]);
+  } finally {
+    await context.close();
+  }
+});
+
 // Last in the file: it removes the demo Viewer from the demo study.
 it("removing a member asks to confirm and names the person", async () => {
   const { page, context, errors } = await openPage(e2e.browser, phone);
