@@ -1,5 +1,5 @@
 /**
- * The participant layer shared by the scatter, strip and leverage plots:
+ * The participant layer shared by the scatter and strip plots and the influence view:
  * marks drawn so flagged participants sit on top of plain ones (set aside
  * first, then plain, then flagged), and, when the plot is pressable, one
  * labelled press target per participant in left-to-right order so keyboard

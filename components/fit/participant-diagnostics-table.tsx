@@ -2,7 +2,9 @@
  * A region's participant diagnostics, a page at a time from the API
  * (GET /api/fits/:fitId/regions/:region/participants): the data table in
  * its server mode, so paging, sorting by a column and searching ids ask the
- * server for the rows instead of loading every participant at once.
+ * server for the rows instead of loading every participant at once. The
+ * squared Mahalanobis distance is not a column: it is leverage rescaled,
+ * (n − 1)(h − 1/n), so it adds nothing the leverage column does not show.
  */
 import { useMemo, useState } from "react";
 import type { ColumnDef, PaginationState, SortingState } from "@tanstack/react-table";
@@ -22,7 +24,6 @@ const orderOfColumn: Record<string, ParticipantOrder> = {
   studentizedResidual: "studentizedResidual",
   cooksDistance: "cooksDistance",
   dffits: "dffits",
-  mahalanobis: "mahalanobis",
 };
 
 export function ParticipantDiagnosticsTable(props: { fitId: string; region: string; selected: string | null; onSelect: (id: string) => void }) {
@@ -53,7 +54,6 @@ export function ParticipantDiagnosticsTable(props: { fitId: string; region: stri
       { accessorKey: "studentizedResidual", header: "Studentized residual", meta: { numeric: true, digits: 3, width: 120 } },
       { accessorKey: "cooksDistance", header: "Cook's distance", meta: { numeric: true, digits: 3, width: 110 } },
       { accessorKey: "dffits", header: "DFFITS", meta: { numeric: true, digits: 3 } },
-      { accessorKey: "mahalanobis", header: "Mahalanobis", meta: { numeric: true, digits: 3 } },
     ],
     [],
   );

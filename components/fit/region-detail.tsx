@@ -1,6 +1,7 @@
 /**
  * One region of a finished fit: the data plot (scatter with the fitted line
- * and band, or a strip plot per group), residual versus leverage, the
+ * and band, or a strip plot per group), who moves the estimate (Cook's
+ * distance, leverage and residual against the flags' cut-offs), the
  * participant diagnostics table (paged from the API), the with-and-without
  * sensitivity, the permutation null distribution, and set-aside with an
  * at-once preview. A tapped participant's card shows their values with the
@@ -14,7 +15,8 @@ import { StyleSheet, View } from "react-native";
 import { useRouter } from "expo-router";
 import { ScatterPlot } from "../charts/scatter-plot";
 import { StripPlot } from "../charts/strip-plot";
-import { LeveragePlot } from "../charts/leverage-plot";
+import { InfluenceView } from "../charts/influence-view";
+import type { FlagCuts } from "../charts/influence-layout";
 import { NullHistogram } from "../charts/null-histogram";
 import { formatValue } from "../charts/number-format";
 import { pPhrase } from "./p-text";
@@ -59,19 +61,7 @@ export function RegionDetailPanel(props: { fit: FitView; region: string; canSetA
       {d.points ? <DataPlot detail={d} selected={selected} onSelect={setSelected} /> : <Notice>This study restricts participant-level rows: the plots are not shown to Viewers.</Notice>}
       {point ? <ParticipantCard key={point.participant} fit={props.fit} detail={d} point={point} canSetAside={props.canSetAside} onClose={() => setSelected(null)} /> : null}
       <PreviewCard fit={props.fit} region={d.region} canRun={props.canRun} enabled={props.canSetAside} />
-      {d.points && d.kind !== "reliability" ? (
-        <Card>
-          <Heading level={3}>Residual versus leverage</Heading>
-          <LeveragePlot
-            points={d.points.map((p) => ({ id: p.participant, flags: p.flags as Flag[], leverage: p.leverage, residual: p.studentizedResidual }))}
-            coefficients={coefficientCount(d)}
-            selectedId={selected}
-            onPointPress={setSelected}
-            testID="leverage-plot"
-          />
-          <Txt kind="caption">Dashed curves: Cook's distance 0.5 and 1. Leverage and residuals from the least-squares fit of the region's design.</Txt>
-        </Card>
-      ) : null}
+      {d.points && d.kind !== "reliability" ? <InfluenceCard detail={d} selected={selected} onSelect={setSelected} /> : null}
       <Sensitivity detail={d} />
       {isHistogram(d.nullHistogram) ? (
         <Card>
@@ -89,9 +79,48 @@ export function RegionDetailPanel(props: { fit: FitView; region: string; canSetA
   );
 }
 
-function coefficientCount(d: RegionDetail): number {
-  const df = d.result.df;
-  return typeof df === "number" && Number.isFinite(df) ? Math.max(1, Math.round(d.n - df)) : 2;
+/** The flags' cut-offs as the fit kept them (see flagThresholds in the engine), or null for a fit that did not keep them. */
+function flagCuts(d: RegionDetail): FlagCuts | null {
+  const t = d.result.flagThresholds as { cooksDistance?: unknown; leverage?: unknown; outlierT?: unknown } | undefined;
+  if (!t || typeof t.cooksDistance !== "number") return null;
+  return {
+    cooksDistance: t.cooksDistance,
+    leverage: typeof t.leverage === "number" ? t.leverage : null,
+    outlierT: typeof t.outlierT === "number" ? t.outlierT : null,
+  };
+}
+
+function InfluenceCard({ detail, selected, onSelect }: { detail: RegionDetail; selected: string | null; onSelect: (id: string) => void }) {
+  const cuts = flagCuts(detail);
+  const setAsideIds = new Set((detail.setAside ?? []).map((s) => s.participant));
+  return (
+    <Card testID="influence-card">
+      <Heading level={3}>Who moves this estimate?</Heading>
+      {cuts ? (
+        <>
+          <InfluenceView
+            points={(detail.points ?? []).map((p) => ({
+              id: p.participant,
+              flags: p.flags as Flag[],
+              setAside: setAsideIds.has(p.participant),
+              cooksDistance: p.cooksDistance,
+              leverage: p.leverage,
+              residual: p.studentizedResidual,
+            }))}
+            cuts={cuts}
+            selectedId={selected}
+            onPointPress={onSelect}
+            testID="influence-view"
+          />
+          <Txt kind="caption">
+            Dashed lines: the cut-offs the flags use — influence when Cook's distance is above 4/n, leverage above 2p/n, outlier when the studentized residual is beyond the Bonferroni cut-off (n participants, p terms in the region's design). From the least-squares fit of the region's design.
+          </Txt>
+        </>
+      ) : (
+        <Notice>This fit was run before its flag cut-offs were kept with it; run it again to see who moves the estimate.</Notice>
+      )}
+    </Card>
+  );
 }
 
 function isHistogram(value: unknown): value is { edges: number[]; counts: number[]; observed: number } {

@@ -77,12 +77,13 @@ export interface FitSummaryView extends FitLineage {
  * detail (GET /api/fits/:fitId/regions/:region): the nested parts a
  * region table does not show — the permutation null histogram, the
  * with-and-without sensitivity, leave-one-out, variance inflation factors,
+ * the flags' cut-offs,
  * the permutation and bootstrap accounts, projection outliers. Three of
  * them name participants (sensitivity, leave-one-out, projection
  * outliers), so the fit view's regions carry no participant id at all.
  * Left out, a 400-region view is less than half the size.
  */
-export const REGION_DETAIL_KEYS: ReadonlySet<string> = new Set(["nullHistogram", "sensitivity", "leaveOneOut", "vif", "permutation", "bootstrap", "projectionOutliers"]);
+export const REGION_DETAIL_KEYS: ReadonlySet<string> = new Set(["nullHistogram", "sensitivity", "leaveOneOut", "vif", "flagThresholds", "permutation", "bootstrap", "projectionOutliers"]);
 
 /** A region's result as the fit view shows it (without REGION_DETAIL_KEYS). */
 function viewRegion(region: RegionResult): RegionResult {

@@ -59,6 +59,22 @@ export interface DiagnosticsResult {
 const finiteOrNull = (v: number): number | null => (Number.isFinite(v) ? v : null);
 
 /**
+ * The cut-offs of the three flags for n participants and p design columns
+ * (the rule in this module's header): the Bonferroni critical value of the
+ * externally studentized residual t_{1 − α/(2n), n − p − 1} (null when
+ * n − p − 1 < 1), the leverage cut 2p/n and the Cook's distance cut 4/n.
+ * The plots draw these same values. Cost O(1).
+ */
+export function flagThresholds(n: number, p: number, alpha = 0.05): DiagnosticsResult["thresholds"] {
+  const df = n - p;
+  return {
+    outlierT: df - 1 > 0 ? studentTQuantile(1 - alpha / (2 * n), df - 1) : null,
+    leverage: (2 * p) / n,
+    cooksDistance: 4 / n,
+  };
+}
+
+/**
  * Diagnostics for every row of a fit. `interceptColumn` is the index of the
  * constant column, or -1 when there is none. Cost O(n·p²).
  */
@@ -72,9 +88,8 @@ export function regressionDiagnostics(
   const df = n - p;
   const rss = fit.rss;
   const s = df > 0 ? Math.sqrt(rss / df) : 0;
-  const leverageCut = (2 * p) / n;
-  const cookCut = 4 / n;
-  const outlierT = df - 1 > 0 ? studentTQuantile(1 - alpha / (2 * n), df - 1) : null;
+  const thresholds = flagThresholds(n, p, alpha);
+  const { outlierT, leverage: leverageCut, cooksDistance: cookCut } = thresholds;
   // diag of (XᵀX)⁻¹
   const cDiag = new Float64Array(p);
   for (let j = 0; j < p; j++) {
@@ -131,7 +146,7 @@ export function regressionDiagnostics(
       flags,
     });
   }
-  return { rows, vif: varianceInflation(qr, interceptColumn, cDiag), thresholds: { outlierT, leverage: leverageCut, cooksDistance: cookCut } };
+  return { rows, vif: varianceInflation(qr, interceptColumn, cDiag), thresholds };
 }
 
 function varianceInflation(qr: QrDecomposition, interceptColumn: number, cDiag: Float64Array): DiagnosticsResult["vif"] {

@@ -535,7 +535,7 @@ export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = 
   if (s.inference === "bootstrap") bootstrapPass(prep, works, options, notes);
   // Correction over regions.
   if (s.correction === "maxt") {
-    notes.push("pAdjusted: family-wise p-values from the maximum |statistic| over regions in the same rearrangements (max-T).");
+    notes.push("Adjusted p: family-wise p-values from the maximum |statistic| over regions in the same rearrangements (max-T).");
   } else {
     const adjusted = adjustPValues(works.map((w) => w.result.p), s.correction);
     works.forEach((w, k) => {
@@ -564,13 +564,13 @@ export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = 
 function correctionNote(method: string): string {
   switch (method) {
     case "bonferroni":
-      return "pAdjusted: Bonferroni, min(1, m·p) over the m regions.";
+      return "Adjusted p: Bonferroni, min(1, m·p) over the m regions.";
     case "holm":
-      return "pAdjusted: Holm (1979) step-down over the regions.";
+      return "Adjusted p: Holm (1979) step-down over the regions.";
     case "bh":
-      return "pAdjusted: Benjamini–Hochberg (1995) false discovery rate over the regions.";
+      return "Adjusted p: Benjamini–Hochberg (1995) false discovery rate over the regions.";
     default:
-      return "pAdjusted: no correction over regions (equal to p).";
+      return "Adjusted p: no correction over regions (equal to p).";
   }
 }
 
@@ -584,7 +584,7 @@ function weightingNotes(s: ModelSpec): string[] {
     s.smallSample === "knapp-hartung"
       ? "Inference: Knapp–Hartung (2003) adjusted standard error with a t reference on n − p degrees of freedom."
       : "Inference: z statistic with a normal reference (no small-sample adjustment).",
-    "i2: share of the residual variance due to true differences rather than measurement noise (Higgins & Thompson 2002); noiseShare = mean(se²)/(mean(se²) + τ²), trueShare = τ²/(mean(se²) + τ²).",
+    "I²: share of the residual variance due to true differences rather than measurement noise (Higgins & Thompson 2002); the noise share is mean(se²)/(mean(se²) + τ²) and the true-difference share τ²/(mean(se²) + τ²).",
     "Leave-one-out range: not given for weighted fits.",
   ];
 }
@@ -596,7 +596,7 @@ function diagnosticNotes(): string[] {
     "Flag leverage: hat value above 2p/n (Hoaglin & Welsch 1978), or equal to 1; at leverage 1 the studentized residual and Cook's distance are undefined and shown as empty.",
     "Flag influence: Cook's distance above 4/n (Bollen & Jackman 1990).",
     "Sensitivity: the same estimator refitted without participants flagged outlier or influence.",
-    "mahalanobis: squared Mahalanobis distance of the participant's design values from their mean, (n − 1)(h − 1/n).",
+    "Squared Mahalanobis distance (in the exported participant rows): distance of the participant's design values from their mean, (n − 1)(h − 1/n), leverage rescaled.",
   ];
 }
 
@@ -634,6 +634,8 @@ function diagnosticsFor(
     };
   });
   result.vif = diag.vif;
+  // the flags' cut-offs, so the influence view draws the very values the flags used
+  result.flagThresholds = diag.thresholds;
   result.flagged = {
     outlier: diag.rows.filter((r) => r.flags.includes("outlier")).length,
     leverage: diag.rows.filter((r) => r.flags.includes("leverage")).length,
@@ -996,7 +998,7 @@ function runReliability(prep: Prepared, options: RunFitOptions): FitResult {
   notes.push(correctionNote(spec.correction));
   notes.push("p: F test of the hypothesis that the population ICC is 0 (one-sided).");
   notes.push(
-    "icc11, icc21, icc31 and their k-session forms icc1k, icc2k, icc3k after Shrout & Fleiss (1979), with 95% confidence intervals; a k-session lower bound that is unbounded below is shown as empty (null).",
+    "ICC(1,1), ICC(2,1), ICC(3,1) and their k-session forms ICC(1,k), ICC(2,k), ICC(3,k) after Shrout & Fleiss (1979), with 95% confidence intervals; a k-session lower bound that is unbounded below is shown as empty.",
   );
   const result: FitResult = {
     regions,

@@ -58,6 +58,19 @@ for (const [label, viewport] of [
       await page.getByTestId("diagnostics-table").getByRole("button", { name: "Next page" }).click();
       await expect.poll(() => range.textContent()).toBe(`rows 51–${n} of ${n}`);
       await screenshot(page, `region-detail-${label}`);
+      // the influence view draws the flags' own cut-offs: the line at 4/n, and no curve at Cook's distance 0.5 or 1
+      const influence = page.getByTestId("influence-view");
+      await influence.scrollIntoViewIfNeeded();
+      const cookCut = influence.locator('[data-testid="influence-cut-influence"]');
+      await expect(cookCut.count()).resolves.toBe(1);
+      await expect(cookCut.getAttribute("aria-label")).resolves.toBe(`4/n = ${Number((4 / n).toPrecision(3))}`);
+      await expect(influence.locator("svg").first().getAttribute("aria-label")).resolves.toContain(`influence cut-off 4/n = ${Number((4 / n).toPrecision(3))}`);
+      await expect(influence.locator('[data-testid="influence-cut-leverage"]').count()).resolves.toBe(1);
+      const drawnText = (await influence.locator("text").allTextContents()).join(" | ");
+      expect(drawnText).not.toMatch(/D = (0\.5|1)\b/);
+      expect(await influence.textContent()).not.toMatch(/contour/i);
+      await expect(influence.locator('[role="button"][aria-label*="Cook\'s distance"]').count()).resolves.toBe(n);
+      await screenshot(page, `influence-view-${label}`);
       // the planted high-leverage and outlying participants are flagged in at least one region; choose a flagged mark when this one has any
       const flagged = plot.locator('[role="button"][aria-label*="flagged"]');
       const target = (await flagged.count()) > 0 ? flagged.first() : marks.first();
