@@ -3,6 +3,8 @@
  * session cookie, JSON in and out, and every error envelope
  * `{ error: { code, message, details } }` turned into an `ApiError`.
  */
+import { validationWords } from "./validation-words";
+
 export class ApiError extends Error {
   readonly status: number;
   readonly code: string;
@@ -36,10 +38,12 @@ export async function apiFetch<T>(path: string, init: RequestInit = {}): Promise
   const body: unknown = text ? safeJson(text) : null;
   if (!response.ok) {
     const envelope = (body as { error?: { code?: string; message?: string; details?: unknown } } | null)?.error;
+    // A validation failure is said in sentences, without field paths (the details keep them).
+    const plain = envelope?.code === "validation_failed" ? validationWords(envelope.details) : null;
     throw new ApiError(
       response.status,
       envelope?.code ?? `http_${response.status}`,
-      envelope?.message ?? `The server answered ${response.status}.`,
+      plain ?? envelope?.message ?? `The server answered ${response.status}.`,
       envelope?.details,
     );
   }

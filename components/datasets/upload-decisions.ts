@@ -9,6 +9,7 @@
  * answer; and the reading options an upload sends.
  */
 import { ApiError } from "../../hooks/api";
+import { validationSentence } from "../../hooks/validation-words";
 import type { ColumnPreview, ConfirmInput, DatasetKind, DatasetPreview, IntakeProblem, UploadOptions } from "../../hooks/use-datasets";
 
 export type TypeChoice = "number" | "category";
@@ -147,7 +148,7 @@ export interface ShownProblems {
 /**
  * The problems an error answer carries: an intake refusal's
  * `details.problems` (with `problemCount`), or a validation answer's
- * `[{ field, message }]`. Null when the error carries none (show its message).
+ * `[{ field, message }]` (said as sentences, hooks/validation-words.ts). Null when the error carries none (show its message).
  */
 export function problemsFrom(error: unknown): ShownProblems | null {
   if (!(error instanceof ApiError)) return null;
@@ -156,7 +157,7 @@ export function problemsFrom(error: unknown): ShownProblems | null {
     const messages = details
       .map((d) => d as { field?: unknown; message?: unknown })
       .filter((d) => typeof d.message === "string")
-      .map((d) => (typeof d.field === "string" ? `${d.field}: ${d.message}` : String(d.message)));
+      .map((d) => (typeof d.field === "string" ? validationSentence({ field: d.field, message: String(d.message) }) : String(d.message)));
     return messages.length > 0 ? { messages, more: 0 } : null;
   }
   if (details && typeof details === "object" && Array.isArray(details.problems)) {

@@ -153,6 +153,23 @@ it("the invitation page, opened while signed in as someone else, offers Sign out
   }
 });
 
+it("a form's validation error reads as a sentence without a field path", async () => {
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  try {
+    await signInAsDemo(page, "owner");
+    await page.goto(`${e2e.server.url}/studies/${studyId}/team`);
+    await page.getByTestId("invite-email").fill("not-an-address");
+    await page.getByTestId("send-invitation").click();
+    await page.getByTestId("invite").getByText("Enter an e-mail address such as name@lab.example.").waitFor();
+    expect(await page.getByText("body.email").count()).toBe(0);
+    await screenshot(page, "invite-validation-phone");
+    // The one failed request is the refused invitation.
+    expect(errors.filter((e) => !e.startsWith(`response: 400 POST /api/studies/${studyId}/invitations`))).toEqual([]);
+  } finally {
+    await context.close();
+  }
+});
+
 // Last in the file: it removes the demo Viewer from the demo study.
 it("removing a member asks to confirm and names the person", async () => {
   const { page, context, errors } = await openPage(e2e.browser, phone);

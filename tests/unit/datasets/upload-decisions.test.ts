@@ -141,9 +141,9 @@ describe("problems of an error answer", () => {
     }); // (exact arithmetic: 130 found − 2 carried)
   });
 
-  it("lists a validation answer's fields", () => {
+  it("lists a validation answer's fields as sentences without field paths", () => {
     const error = new ApiError(400, "validation_failed", "body.kind: …", [{ field: "body.kind", message: 'must be "brain" or "participants"' }]);
-    expect(problemsFrom(error)).toEqual({ messages: ['body.kind: must be "brain" or "participants"'], more: 0 }); // (server contract: the error envelope)
+    expect(problemsFrom(error)).toEqual({ messages: ['The kind must be "brain" or "participants".'], more: 0 }); // (server contract: the error envelope)
   });
 
   it("is null when the answer carries no list", () => {
