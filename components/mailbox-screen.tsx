@@ -4,7 +4,7 @@ import { Card, Empty, Failure, Heading, Notice, Pending, Txt } from "./ui";
 import { Wordmark } from "./logo";
 import { palette, space } from "./theme";
 import { ApiError } from "../hooks/api";
-import { linksIn, useMail } from "../hooks/use-mail";
+import { mailSegments, useMail } from "../hooks/use-mail";
 import { NotFoundScreen } from "./not-found-screen";
 
 /** Demo-mode inbox of the local mail fake: sign-in links and invitations land here. */
@@ -32,13 +32,17 @@ export function MailboxScreen() {
                 To {message.to} · {new Date(message.sentAt).toLocaleString()}
               </Txt>
               <Txt kind="small" selectable>
-                {message.text.replace(/https?:\/\/\S+/g, "").trim()}
+                {mailSegments(message.text.trim()).map((segment, i) =>
+                  segment.kind === "text" ? (
+                    segment.text
+                  ) : (
+                    // biome-ignore lint/suspicious/noArrayIndexKey: segments of one fixed message never reorder
+                    <Link key={i} href={segment.href as never} style={styles.link} testID="mail-link">
+                      {linkLabel(segment.href)}
+                    </Link>
+                  ),
+                )}
               </Txt>
-              {linksIn(message.text).map((href) => (
-                <Link key={href} href={href as never} style={styles.link} testID="mail-link">
-                  {linkLabel(href)}
-                </Link>
-              ))}
             </Card>
           ))
         )}

@@ -25,7 +25,21 @@ export function useMail() {
   return useQuery(mailQueryOptions);
 }
 
-/** The http(s) links in a plain-text message, in order of appearance. */
-export function linksIn(text: string): string[] {
-  return Array.from(text.matchAll(/https?:\/\/[^\s<>"')]+/g), (m) => m[0]);
+/** An http(s) address; a full stop or comma right after it ends the sentence, not the address. */
+const linkPattern = /https?:\/\/[^\s<>"')]*[^\s<>"').,;:!?]/g;
+
+export type MailSegment = { kind: "text"; text: string } | { kind: "link"; href: string };
+
+/** A plain-text message cut into its text and its links, in order, so each link can be shown where it stands. */
+export function mailSegments(text: string): MailSegment[] {
+  const segments: MailSegment[] = [];
+  let at = 0;
+  for (const match of text.matchAll(linkPattern)) {
+    const start = match.index ?? 0;
+    if (start > at) segments.push({ kind: "text", text: text.slice(at, start) });
+    segments.push({ kind: "link", href: match[0] });
+    at = start + match[0].length;
+  }
+  if (at < text.length) segments.push({ kind: "text", text: text.slice(at) });
+  return segments;
 }

@@ -170,6 +170,33 @@ it("a form's validation error reads as a sentence without a field path", async (
   }
 });
 
+it("the Mailbox shows the sign-in link inside the message text", async () => {
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  try {
+    await page.goto(`${e2e.server.url}/sign-in`);
+    await page.getByTestId("email-input").fill("mailbox-reader@lab.example");
+    await page.getByTestId("send-link").click();
+    await page.getByText("Check your e-mail").waitFor();
+    await page.goto(`${e2e.server.url}/mailbox`);
+    const message = page.getByTestId("mail-message").filter({ hasText: "mailbox-reader@lab.example" }).first();
+    const link = message.getByTestId("mail-link");
+    await link.waitFor();
+    expect(await link.count()).toBe(1);
+    // The link stands in the sentence that introduces it; no bare address and no dangling colon.
+    const paragraph = (await link.locator("xpath=..").textContent()) ?? "";
+    expect(paragraph).toContain("The link below signs you in.");
+    expect(paragraph).toContain("Sign in to Covarion: Open the sign-in link");
+    expect(paragraph).toContain("If you did not ask for this");
+    expect(paragraph).not.toMatch(/https?:\/\//);
+    await screenshot(page, "mailbox-inline-link-phone");
+    await link.click();
+    await page.waitForURL(/\/studies$/);
+    expect(errors).toEqual([]);
+  } finally {
+    await context.close();
+  }
+});
+
 // Last in the file: it removes the demo Viewer from the demo study.
 it("removing a member asks to confirm and names the person", async () => {
   const { page, context, errors } = await openPage(e2e.browser, phone);
