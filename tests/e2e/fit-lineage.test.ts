@@ -10,7 +10,7 @@
  * A Viewer of a restricted study sees the count and the reasons, no ids.
  */
 import { beforeAll, expect, it } from "vitest";
-import { openPage, phone, screenshot, wide } from "./harness";
+import { type DemoApi, demoApi as signInDemo, openPage, phone, screenshot, wide } from "./harness";
 import { sharedServerAndBrowser } from "./session";
 
 const e2e = sharedServerAndBrowser();
@@ -21,26 +21,11 @@ let owner: Api;
 /** The fit the phone's Refit made: the wide Refit re-runs it (the model's latest done fit). */
 let phoneRefitId: string | null = null;
 
-type Api = (path: string, init?: { method?: string; body?: unknown }) => Promise<unknown>;
+type Api = DemoApi;
 
 /** Calls the API as a demo person (a real session cookie from the demo sign-in route). */
-async function demoApi(role: "owner" | "analyst"): Promise<Api> {
-  const signIn = await fetch(`${e2e.server.url}/api/dev/demo-sign-in`, {
-    method: "POST",
-    headers: { "Content-Type": "application/json", Origin: e2e.server.url },
-    body: JSON.stringify({ email: `${role}@demo.covarion.test` }),
-  });
-  if (!signIn.ok) throw new Error(`demo sign-in answered ${signIn.status}`);
-  const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
-  return async (path, init = {}) => {
-    const res = await fetch(`${e2e.server.url}${path}`, {
-      method: init.method ?? "GET",
-      headers: { Cookie: cookie, Origin: e2e.server.url, ...(init.body !== undefined ? { "Content-Type": "application/json" } : {}) },
-      body: init.body !== undefined ? JSON.stringify(init.body) : undefined,
-    });
-    if (!res.ok) throw new Error(`${init.method ?? "GET"} ${path} answered ${res.status}: ${await res.text()}`);
-    return res.json();
-  };
+function demoApi(role: "owner" | "analyst"): Promise<Api> {
+  return signInDemo(e2e.server.url, role);
 }
 
 const modelName = "Load effect in the frontal regions";

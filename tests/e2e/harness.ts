@@ -135,3 +135,26 @@ export async function screenshot(page: Page, name: string): Promise<void> {
   mkdirSync(screenshotDir, { recursive: true });
   await page.screenshot({ path: join(screenshotDir, `${name}.png`), fullPage: false });
 }
+
+/** A call to the running server's API as one demo person: JSON in and out; throws on a non-2xx answer. */
+export type DemoApi = (path: string, init?: { method?: string; body?: unknown }) => Promise<unknown>;
+
+/** Signs a demo person in through the demo sign-in route and returns an API caller carrying that session cookie. */
+export async function demoApi(serverUrl: string, role: "owner" | "analyst" | "reviewer" | "viewer"): Promise<DemoApi> {
+  const signIn = await fetch(`${serverUrl}/api/dev/demo-sign-in`, {
+    method: "POST",
+    headers: { "Content-Type": "application/json", Origin: serverUrl },
+    body: JSON.stringify({ email: `${role}@demo.covarion.test` }),
+  });
+  if (!signIn.ok) throw new Error(`demo sign-in answered ${signIn.status}`);
+  const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
+  return async (path, init = {}) => {
+    const res = await fetch(`${serverUrl}${path}`, {
+      method: init.method ?? "GET",
+      headers: { Cookie: cookie, Origin: serverUrl, ...(init.body !== undefined ? { "Content-Type": "application/json" } : {}) },
+      body: init.body !== undefined ? JSON.stringify(init.body) : undefined,
+    });
+    if (!res.ok) throw new Error(`${init.method ?? "GET"} ${path} answered ${res.status}: ${await res.text()}`);
+    return res.json();
+  };
+}
