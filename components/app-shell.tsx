@@ -7,6 +7,7 @@ import { Pressable, ScrollView, StyleSheet, Text, View, useWindowDimensions } fr
 import { usePathname, useRouter } from "expo-router";
 import { useSafeAreaInsets } from "react-native-safe-area-context";
 import { Wordmark } from "./logo";
+import { NavIcon, type NavIconName } from "./nav-icons";
 import { fonts, palette, radius, space, type, wideBreakpoint } from "./theme";
 import { Txt } from "./ui";
 import { useAuthOptions } from "../hooks/use-auth";
@@ -17,7 +18,7 @@ import { researchUseCaution } from "../server/model/cautions";
 interface NavItem {
   href: string;
   label: string;
-  glyph: string;
+  icon: NavIconName;
 }
 
 export function AppShell(props: { me: Me; children: ReactNode }) {
@@ -28,10 +29,10 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
   const options = useAuthOptions();
   const signOut = useSignOut();
   const items: NavItem[] = [
-    { href: "/studies", label: "Studies", glyph: "▤" },
-    { href: "/planner", label: "Planner", glyph: "◔" },
+    { href: "/studies", label: "Studies", icon: "studies" },
+    { href: "/planner", label: "Planner", icon: "planner" },
   ];
-  if (options.data?.mailbox) items.push({ href: "/mailbox", label: "Mailbox", glyph: "✉" });
+  if (options.data?.mailbox) items.push({ href: "/mailbox", label: "Mailbox", icon: "mailbox" });
 
   const router = useRouter();
   const isActive = (href: string) => pathname === href || pathname.startsWith(`${href}/`);
@@ -51,7 +52,7 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
                 onPress={go(item.href)}
                 style={[styles.railItem, isActive(item.href) && styles.railItemActive]}
               >
-                <Text style={[styles.railGlyph, isActive(item.href) && styles.activeText]}>{item.glyph}</Text>
+                <NavIcon name={item.icon} color={isActive(item.href) ? palette.accentInk : palette.muted} />
                 <Text style={[styles.railLabel, isActive(item.href) && styles.activeText]}>{item.label}</Text>
               </Pressable>
             ))}
@@ -60,7 +61,7 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
             <Txt kind="caption" numberOfLines={1}>
               {props.me.email}
             </Txt>
-            <Pressable accessibilityRole="button" onPress={() => signOut.mutate()}>
+            <Pressable accessibilityRole="button" onPress={() => signOut.mutate()} style={[styles.signOutTarget, styles.railSignOut]} testID="sign-out">
               <Text style={styles.signOut}>Sign out</Text>
             </Pressable>
           </View>
@@ -77,7 +78,7 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
     <View style={styles.phoneRoot}>
       <View style={[styles.topBar, { paddingTop: insets.top + space.sm }]}>
         <Wordmark size={17} />
-        <Pressable accessibilityRole="button" onPress={() => signOut.mutate()}>
+        <Pressable accessibilityRole="button" onPress={() => signOut.mutate()} style={styles.signOutTarget} testID="sign-out">
           <Text style={styles.signOut}>Sign out</Text>
         </Pressable>
       </View>
@@ -88,7 +89,7 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
       <View style={[styles.bottomBar, { paddingBottom: insets.bottom }]} role="navigation">
         {items.map((item) => (
           <Pressable key={item.href} accessibilityRole="link" accessibilityState={{ selected: isActive(item.href) }} onPress={go(item.href)} style={styles.tab}>
-            <Text style={[styles.tabGlyph, isActive(item.href) && styles.activeText]}>{item.glyph}</Text>
+            <NavIcon name={item.icon} color={isActive(item.href) ? palette.accentInk : palette.muted} size={22} />
             <Text style={[styles.tabLabel, isActive(item.href) && styles.activeText]}>{item.label}</Text>
           </Pressable>
         ))}
@@ -116,13 +117,14 @@ const styles = StyleSheet.create({
     gap: space.xl,
   },
   railItems: { gap: space.xs, flex: 1 },
-  railItem: { flexDirection: "row", alignItems: "center", gap: space.sm, paddingVertical: space.sm, paddingHorizontal: space.md, borderRadius: radius.md },
+  railItem: { flexDirection: "row", alignItems: "center", gap: space.sm, minHeight: 44, paddingVertical: space.sm, paddingHorizontal: space.md, borderRadius: radius.md },
   railItemActive: { backgroundColor: palette.accentSoft },
-  railGlyph: { fontSize: type.lead, color: palette.muted, width: 20, textAlign: "center" },
   railLabel: { fontFamily: fonts.semibold, fontSize: type.body, color: palette.inkSoft },
   railFooter: { gap: space.xs },
   activeText: { color: palette.accentInk },
   signOut: { fontFamily: fonts.semibold, fontSize: type.small, color: palette.focus },
+  signOutTarget: { minHeight: 44, minWidth: 44, justifyContent: "center" },
+  railSignOut: { alignSelf: "flex-start" },
   main: { flex: 1 },
   mainContent: { padding: space.xl, gap: space.lg, maxWidth: 1200, width: "100%", alignSelf: "center" },
   phoneRoot: { flex: 1, backgroundColor: palette.canvas, minHeight: "100%" as unknown as number },
@@ -138,8 +140,7 @@ const styles = StyleSheet.create({
   },
   phoneContent: { padding: space.lg, gap: space.lg, paddingBottom: space.xxxl },
   bottomBar: { flexDirection: "row", borderTopWidth: 1, borderTopColor: palette.line, backgroundColor: palette.surface },
-  tab: { flex: 1, alignItems: "center", paddingVertical: space.sm, gap: 2, minHeight: 52 },
-  tabGlyph: { fontSize: type.lead, color: palette.muted },
+  tab: { flex: 1, alignItems: "center", justifyContent: "center", paddingVertical: space.sm, gap: 2, minHeight: 52 },
   tabLabel: { fontSize: type.caption, fontFamily: fonts.semibold, color: palette.inkSoft },
   footer: { paddingVertical: space.lg, borderTopWidth: 1, borderTopColor: palette.line, marginTop: space.xl },
 });

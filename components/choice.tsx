@@ -68,7 +68,7 @@ const styles = StyleSheet.create({
   root: { gap: space.xs },
   row: { flexDirection: "row", flexWrap: "wrap", gap: space.sm },
   chip: {
-    minHeight: 36,
+    minHeight: 44,
     justifyContent: "center",
     paddingHorizontal: space.md,
     borderRadius: radius.pill,

@@ -6,7 +6,7 @@
  */
 import { beforeAll, expect, it } from "vitest";
 import type { Page } from "playwright-core";
-import { openPage, phone, screenshot } from "./harness";
+import { openPage, phone, screenshot, wide } from "./harness";
 import { sharedServerAndBrowser } from "./session";
 
 const e2e = sharedServerAndBrowser();
@@ -194,6 +194,46 @@ it("the Mailbox shows the sign-in link inside the message text", async () => {
     expect(errors).toEqual([]);
   } finally {
     await context.close();
+  }
+});
+
+it("on the phone the navigation draws its icons and the app bar's, tabs' and chips' tap targets are at least 44 px", async () => {
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  try {
+    await signInAsDemo(page, "owner");
+    await page.goto(`${e2e.server.url}/studies/${studyId}/activity`);
+    await page.getByRole("radio").first().waitFor();
+    for (const name of ["studies", "planner", "mailbox"]) {
+      const icon = page.getByTestId(`nav-icon-${name}`);
+      await icon.waitFor();
+      expect(await icon.evaluate((element) => element.tagName.toLowerCase())).toBe("svg");
+    }
+    const nav = page.getByRole("navigation");
+    expect(await nav.textContent()).not.toMatch(/[▤◔✉]/);
+    const targets = [page.getByTestId("sign-out"), ...(await page.getByRole("tab").all()), ...(await page.getByRole("radio").all()), ...(await nav.getByRole("link").all())];
+    expect(targets.length).toBeGreaterThan(8);
+    for (const target of targets) {
+      const box = await target.boundingBox();
+      expect(box, await target.textContent().catch(() => "?")).not.toBeNull();
+      expect(box?.height ?? 0).toBeGreaterThanOrEqual(44);
+      expect(box?.width ?? 0).toBeGreaterThanOrEqual(44);
+    }
+    await screenshot(page, "nav-icons-phone");
+    expect(errors).toEqual([]);
+  } finally {
+    await context.close();
+  }
+  // The side rail at wide size draws the same icons.
+  const wideView = await openPage(e2e.browser, wide);
+  try {
+    await signInAsDemo(wideView.page, "owner");
+    const icon = wideView.page.getByTestId("nav-icon-planner");
+    await icon.waitFor();
+    expect(await icon.evaluate((element) => element.tagName.toLowerCase())).toBe("svg");
+    await screenshot(wideView.page, "nav-icons-wide");
+    expect(wideView.errors).toEqual([]);
+  } finally {
+    await wideView.context.close();
   }
 });
 
