@@ -214,7 +214,7 @@ it("on the phone the navigation draws its icons and the app bar's, tabs' and chi
     expect(targets.length).toBeGreaterThan(8);
     for (const target of targets) {
       const box = await target.boundingBox();
-      expect(box, await target.textContent().catch(() => "?")).not.toBeNull();
+      expect(box, (await target.textContent().catch(() => null)) ?? "?").not.toBeNull();
       expect(box?.height ?? 0).toBeGreaterThanOrEqual(44);
       expect(box?.width ?? 0).toBeGreaterThanOrEqual(44);
     }
