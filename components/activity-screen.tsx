@@ -7,6 +7,8 @@ import { useActivity, type ActivityEvent } from "../hooks/use-activity";
 import { useMembers } from "../hooks/use-team";
 import { setAsideEventFacts, setAsideEventWords } from "../server/model/set-aside-words";
 import { signOffSettingWords } from "../server/model/sign-off";
+import { fitApprovedWords, fitCancelledWords, fitSealedWords, memberRemovedWords, type PersonFacts, roleChangedWords } from "../server/model/activity-words";
+import { useFits } from "../hooks/use-fits";
 
 const kindOptions = [
   { value: "", label: "Everything" },
@@ -26,6 +28,9 @@ export function ActivityScreen(props: { studyId: string }) {
   const [kind, setKind] = useState("");
   const members = useMembers(props.studyId);
   const activity = useActivity(props.studyId, { person: person || undefined, kind: kind || undefined });
+  const fits = useFits(props.studyId);
+  const names = new Map((members.data ?? []).filter((m) => m.name).map((m) => [m.userId, m.name as string]));
+  const fitModels = new Map((fits.data ?? []).map((f) => [f.id, f.model.name]));
   const personOptions = [{ value: "", label: "Everyone" }, ...(members.data ?? []).map((m) => ({ value: m.userId, label: m.name ?? m.email ?? m.userId }))];
   return (
     <View style={styles.root}>
@@ -42,7 +47,7 @@ export function ActivityScreen(props: { studyId: string }) {
       ) : (
         <View style={styles.list} accessibilityRole="list">
           {activity.data.map((event) => (
-            <EventRow key={event.id} event={event} />
+            <EventRow key={event.id} event={event} names={names} fitModels={fitModels} />
           ))}
         </View>
       )}
@@ -50,7 +55,7 @@ export function ActivityScreen(props: { studyId: string }) {
   );
 }
 
-function EventRow({ event }: { event: ActivityEvent }) {
+function EventRow({ event, names, fitModels }: { event: ActivityEvent; names: ReadonlyMap<string, string>; fitModels: ReadonlyMap<string, string> }) {
   const who = event.actor?.name ?? event.actor?.email ?? "Covarion";
   // A set-aside's sentence quotes its reason itself.
   const reason = setAsideEventFacts(event) ? null : reasonOf(event);
@@ -60,7 +65,7 @@ function EventRow({ event }: { event: ActivityEvent }) {
         <Txt kind="small" style={{ fontWeight: "600" }}>
           {who}
         </Txt>{" "}
-        {describeEvent(event)}
+        {describeEvent(event, names, fitModels)}
       </Txt>
       {reason ? (
         <Txt kind="caption" style={{ color: palette.inkSoft }}>
@@ -86,8 +91,16 @@ function reasonOf(event: ActivityEvent): string | null {
   return field(event.after, "reason") ?? field(event.before, "reason");
 }
 
-/** One plain sentence per event kind; unknown kinds fall back to their name. */
-export function describeEvent(event: ActivityEvent): string {
+/** The person an event about a member names: as recorded, with the name of a current member where the event predates names. */
+function personOf(event: ActivityEvent, recorded: unknown, names: ReadonlyMap<string, string>): PersonFacts {
+  return { name: field(recorded, "name") ?? names.get(event.targetId ?? "") ?? null, email: field(recorded, "email"), role: field(recorded, "role") };
+}
+
+/**
+ * One plain sentence per event kind; unknown kinds fall back to their name.
+ * `names` maps a member's id to their name; `fitModels` a fit's id to its model's name.
+ */
+export function describeEvent(event: ActivityEvent, names: ReadonlyMap<string, string> = new Map(), fitModels: ReadonlyMap<string, string> = new Map()): string {
   const after = event.after;
   const before = event.before;
   switch (event.kind) {
@@ -114,9 +127,9 @@ export function describeEvent(event: ActivityEvent): string {
     case "invitation.revoked":
       return `revoked the invitation of ${field(before, "email") ?? field(after, "email") ?? "someone"}`;
     case "member.role_changed":
-      return `changed a role from ${field(before, "role") ?? "?"} to ${field(after, "role") ?? "?"}`;
+      return roleChangedWords(personOf(event, before, names), field(after, "role"));
     case "member.removed":
-      return "removed a member";
+      return memberRemovedWords(personOf(event, before, names));
     case "member.left":
       return "left the study";
     case "participant.set_aside":
@@ -139,13 +152,13 @@ export function describeEvent(event: ActivityEvent): string {
     case "fit.run":
       return `ran a fit of “${field(after, "modelName") ?? "a model"}” (seed ${field(after, "seed") ?? "?"}, ${field(after, "setAside") ?? 0} set aside)`;
     case "fit.cancelled":
-      return "cancelled a fit";
+      return fitCancelledWords(fitModels.get(event.targetId ?? "") ?? null);
     case "fit.requeued":
       return "re-queued a fit after a restart";
     case "fit.approved":
-      return "approved a fit for sealing";
+      return fitApprovedWords(fitModels.get(event.targetId ?? "") ?? null);
     case "fit.sealed":
-      return `sealed a fit (SHA-256 ${(field(after, "sha256") ?? "").slice(0, 12)}…)${field(after, "singlePersonSignOff") === "true" ? " that they had also started and approved" : ""}`;
+      return fitSealedWords(fitModels.get(event.targetId ?? "") ?? null, field(after, "sha256") ?? "", field(after, "singlePersonSignOff") === "true");
     default:
       return event.kind.replace(/[._]/g, " ");
   }

@@ -67,8 +67,8 @@ export async function changeRole(db: Database, actorId: string, studyId: string,
       kind: "member.role_changed",
       targetType: "user",
       targetId: userId,
-      before: { email: member.email, role: member.role },
-      after: { email: member.email, role },
+      before: { email: member.email, name: member.name, role: member.role },
+      after: { email: member.email, name: member.name, role },
       at: now,
     });
     return { ...member, role };
@@ -88,7 +88,7 @@ export async function removeMember(db: Database, actorId: string, studyId: strin
       kind: actorId === userId ? "member.left" : "member.removed",
       targetType: "user",
       targetId: userId,
-      before: { email: member.email, role: member.role },
+      before: { email: member.email, name: member.name, role: member.role },
       at: now,
     });
   });

@@ -256,6 +256,10 @@ it("removing a member asks to confirm and names the person", async () => {
     await row.getByTestId("remove-member").click();
     await row.getByRole("button", { name: "Remove Jonah Adeyemi" }).click();
     await page.getByTestId("member-row").filter({ hasText: "Jonah Adeyemi" }).waitFor({ state: "detached" });
+    // The activity names who removed whom, and which fit was cancelled.
+    await page.getByRole("tab", { name: "Activity" }).click();
+    await page.getByTestId("activity-event").filter({ hasText: "Maren Lindqvist removed Jonah Adeyemi (Viewer)" }).waitFor();
+    await page.getByTestId("activity-event").filter({ hasText: "Tomas Ferreira cancelled the fit of ‘Accuracy with age, cancelled’" }).waitFor();
     expect(errors).toEqual([]);
   } finally {
     await context.close();

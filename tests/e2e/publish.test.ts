@@ -123,8 +123,8 @@ for (const [label, viewport] of [
       await screenshot(page, `publish-sealed-${label}`);
 
       await page.getByRole("tab", { name: "Activity" }).click();
-      await page.getByText(`sealed a fit (SHA-256 ${sealed.seal.sha256.slice(0, 12)}…)`).first().waitFor();
-      await page.getByText("approved a fit for sealing").first().waitFor();
+      await page.getByText(`sealed the fit of ‘Accuracy with age, for the paper (${label})’ (SHA-256 ${sealed.seal.sha256.slice(0, 12)}…)`).first().waitFor();
+      await page.getByText(`approved the fit of ‘Accuracy with age, for the paper (${label})’ for sealing`).first().waitFor();
       expect(errors).toEqual([]);
     } finally {
       await context.close();
