@@ -6,33 +6,11 @@
  */
 import { beforeAll, expect, it } from "vitest";
 import type { Page } from "playwright-core";
-import { openPage, phone, screenshot, wide } from "./harness";
+import { demoApi, openPage, phone, screenshot, wide } from "./harness";
 import { sharedServerAndBrowser } from "./session";
 
 const e2e = sharedServerAndBrowser();
 let studyId: string;
-
-type Api = (path: string, init?: { method?: string; body?: unknown }) => Promise<unknown>;
-
-/** Calls the API as a demo person (a real session cookie from the demo sign-in route). */
-async function demoApi(role: "owner" | "analyst" | "viewer"): Promise<Api> {
-  const signIn = await fetch(`${e2e.server.url}/api/dev/demo-sign-in`, {
-    method: "POST",
-    headers: { "Content-Type": "application/json", Origin: e2e.server.url },
-    body: JSON.stringify({ email: `${role}@demo.covarion.test` }),
-  });
-  if (!signIn.ok) throw new Error(`demo sign-in answered ${signIn.status}`);
-  const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
-  return async (path, init = {}) => {
-    const res = await fetch(`${e2e.server.url}${path}`, {
-      method: init.method ?? "GET",
-      headers: { Cookie: cookie, Origin: e2e.server.url, ...(init.body !== undefined ? { "Content-Type": "application/json" } : {}) },
-      body: init.body !== undefined ? JSON.stringify(init.body) : undefined,
-    });
-    if (!res.ok) throw new Error(`${init.method ?? "GET"} ${path} answered ${res.status}: ${await res.text()}`);
-    return res.json();
-  };
-}
 
 async function signInAsDemo(page: Page, role: "owner" | "analyst" | "reviewer" | "viewer"): Promise<void> {
   await page.goto(`${e2e.server.url}/sign-in`);
@@ -41,7 +19,7 @@ async function signInAsDemo(page: Page, role: "owner" | "analyst" | "reviewer" |
 }
 
 beforeAll(async () => {
-  const viewer = await demoApi("viewer");
+  const viewer = await demoApi(e2e.server.url, "viewer");
   studyId = ((await viewer("/api/studies")) as { id: string }[])[0].id;
 });
 
@@ -89,7 +67,7 @@ it("an unknown study shows Study not found with a link to the studies list", asy
 });
 
 it("a cancelled fit offers Run again to an Analyst, which starts a new fit of the same model", async () => {
-  const analyst = await demoApi("analyst");
+  const analyst = await demoApi(e2e.server.url, "analyst");
   const model = (await analyst(`/api/studies/${studyId}/models`, {
     method: "POST",
     body: {
@@ -129,7 +107,7 @@ it("a cancelled fit offers Run again to an Analyst, which starts a new fit of th
 });
 
 it("the invitation page, opened while signed in as someone else, offers Sign out and continue, which comes back to it", async () => {
-  const owner = await demoApi("owner");
+  const owner = await demoApi(e2e.server.url, "owner");
   await owner(`/api/studies/${studyId}/invitations`, { method: "POST", body: { email: "newcomer@lab.example", role: "viewer" } });
   const { page, context, errors } = await openPage(e2e.browser, phone);
   try {
