@@ -33,7 +33,8 @@
 import { availableParallelism } from "node:os";
 import { MessageChannel } from "node:worker_threads";
 import { and, eq, inArray, sql } from "drizzle-orm";
-import { Piscina } from "piscina";
+import type { Piscina } from "piscina";
+import { workerPool } from "./worker-pool";
 import type { Database } from "../../db/client";
 import { fitRegions, fits, type FitStatus } from "../../db/schema";
 import { IntakeError } from "../intake/errors";
@@ -236,13 +237,7 @@ export class FitJobs {
 
   private getPool(): Piscina {
     if (!this.pool) {
-      this.pool = new Piscina({
-        filename: new URL("./fit-task.ts", import.meta.url).href,
-        execArgv: ["--import", "tsx"],
-        minThreads: this.warm ? this.threads : 0,
-        maxThreads: this.threads,
-        idleTimeout: this.warm ? Number.POSITIVE_INFINITY : 60_000,
-      });
+      this.pool = workerPool("fit-task.ts", { minThreads: this.warm ? this.threads : 0, maxThreads: this.threads, idleTimeout: this.warm ? Number.POSITIVE_INFINITY : 60_000 });
     }
     return this.pool;
   }

@@ -13,7 +13,8 @@
  * comes back as the IntakeError it was in the worker.
  */
 import { availableParallelism } from "node:os";
-import { Piscina } from "piscina";
+import type { Piscina } from "piscina";
+import { workerPool } from "./worker-pool";
 import { type Confirmation, IntakeError, type PreviewOptions, type TableKind, type TablePreview } from "../intake";
 import type { MappingFacts, RosterInput, RosterRequest } from "./intake-roster";
 import type { EncodedVersion } from "./intake-rows";
@@ -75,13 +76,7 @@ export class IntakeJobs {
 
   private async run(task: IntakeTask): Promise<Extract<IntakeTaskOutcome, { ok: true }>> {
     if (!this.pool) {
-      this.pool = new Piscina({
-        filename: new URL("./intake-task.ts", import.meta.url).href,
-        execArgv: ["--import", "tsx"],
-        minThreads: 0,
-        maxThreads: this.threads,
-        idleTimeout: this.idleTimeoutMs,
-      });
+      this.pool = workerPool("intake-task.ts", { minThreads: 0, maxThreads: this.threads, idleTimeout: this.idleTimeoutMs });
     }
     const outcome = (await this.pool.run(task)) as IntakeTaskOutcome;
     if (!outcome.ok) throw new IntakeError(outcome.status, outcome.problems, outcome.problemCount);

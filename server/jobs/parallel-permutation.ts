@@ -12,7 +12,7 @@
  * set-up O(n·p² + n·p·R) on the main thread and copying R·n residuals to the
  * workers (and R·M floats back with keepNull).
  */
-import { Piscina } from "piscina";
+import { workerPool } from "./worker-pool";
 import { StatsError } from "../stats/errors";
 import {
   assembleLinearResult,
@@ -57,12 +57,7 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
   if (!(Number.isInteger(threads) && threads >= 1)) {
     throw new StatsError(`createPermutationPool requires a positive whole number of threads (got ${threads})`);
   }
-  const pool = new Piscina({
-    filename: new URL("./permutation-task.ts", import.meta.url).href,
-    execArgv: ["--import", "tsx"],
-    minThreads: threads,
-    maxThreads: threads,
-  });
+  const pool = workerPool("permutation-task.ts", { minThreads: threads, maxThreads: threads });
 
   async function run(
     setup: SharedLinearPermutationSetup,

@@ -14,7 +14,8 @@
  * client disconnects) is dropped from the queue or, when running, stopped
  * by ending its worker thread; `aborted` counts those.
  */
-import { Piscina } from "piscina";
+import type { Piscina } from "piscina";
+import { workerPool } from "./worker-pool";
 import { HttpError } from "../http/errors";
 import type { PlannerAnswer, PlannerQuestion } from "../model/planner";
 import type { PlannerTaskOutcome } from "./planner-task";
@@ -69,13 +70,7 @@ export class PlannerJobs {
 
   private getPool(): Piscina {
     if (!this.pool) {
-      this.pool = new Piscina({
-        filename: new URL("./planner-task.ts", import.meta.url).href,
-        execArgv: ["--import", "tsx"],
-        minThreads: 0,
-        maxThreads: 1,
-        idleTimeout: this.idleMs,
-      });
+      this.pool = workerPool("planner-task.ts", { minThreads: 0, maxThreads: 1, idleTimeout: this.idleMs });
     }
     return this.pool;
   }
