@@ -40,15 +40,8 @@ import type { Rng } from "./rng";
 
 export { TIE_TOLERANCE } from "./rearrangements";
 
-export interface LinearPermutationInput {
-  /** row-major n × p design matrix */
-  design: Float64Array;
-  n: number;
-  p: number;
-  /** column index whose coefficient's t is the statistic */
-  tested: number;
-  /** regions, each of length n, complete cases */
-  y: readonly Float64Array[];
+/** How a permutation test rearranges and what it keeps (shared by the one-block and the shared-draw tests). */
+export interface PermutationRunOptions {
   scheme: "sign-flip" | "freedman-lane";
   resamples: number;
   rng: Rng;
@@ -58,6 +51,17 @@ export interface LinearPermutationInput {
   keepNull?: boolean;
   onProgress?: (fraction: number) => void;
   shouldCancel?: () => boolean;
+}
+
+export interface LinearPermutationInput extends PermutationRunOptions {
+  /** row-major n × p design matrix */
+  design: Float64Array;
+  n: number;
+  p: number;
+  /** column index whose coefficient's t is the statistic */
+  tested: number;
+  /** regions, each of length n, complete cases */
+  y: readonly Float64Array[];
 }
 
 export interface LinearPermutationResult {
@@ -132,17 +136,10 @@ export interface LinearPermutationBlockInput {
   label?: string;
 }
 
-export interface SharedLinearPermutationInput {
+export interface SharedLinearPermutationInput extends PermutationRunOptions {
   /** number of participants N over all blocks; each belongs to at least one block */
   participants: number;
   blocks: readonly LinearPermutationBlockInput[];
-  scheme: "sign-flip" | "freedman-lane";
-  resamples: number;
-  rng: Rng;
-  maxT?: boolean;
-  keepNull?: boolean;
-  onProgress?: (fraction: number) => void;
-  shouldCancel?: () => boolean;
 }
 
 export interface SharedLinearPermutationSetup {
