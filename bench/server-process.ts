@@ -31,12 +31,17 @@ function freePort(): Promise<number> {
   });
 }
 
-/** Starts the server, waits until it answers, and signs in the demo person `email`. */
+/**
+ * Starts the server, waits until it answers, and signs in the demo person
+ * `email`. BENCH_PROF=<directory> makes the server write a CPU profile of
+ * its run there (open it in a Chromium developer tools window).
+ */
 export async function startBenchServer(email = "analyst@demo.covarion.test"): Promise<BenchServer> {
+  const profile = process.env.BENCH_PROF ? ["--cpu-prof", `--cpu-prof-dir=${process.env.BENCH_PROF}`] : [];
   const dataDir = mkdtempSync(join(os.tmpdir(), "covarion-bench-"));
   const port = await freePort();
   const base = `http://127.0.0.1:${port}`;
-  const child = spawn(process.execPath, ["--import", "tsx", "server/index.ts"], {
+  const child = spawn(process.execPath, [...profile, "--import", "tsx", "server/index.ts"], {
     env: { ...process.env, NODE_ENV: "development", DATA_DIR: dataDir, PORT: String(port), HOST: "127.0.0.1", PUBLIC_URL: base },
     stdio: ["ignore", "pipe", "pipe"],
   });

@@ -33,14 +33,12 @@
  * machine runs, so it tells the rate the request thread could keep with a
  * core of its own.
  */
-import { spawn } from "node:child_process";
-import { mkdtempSync, readFileSync, rmSync } from "node:fs";
+import { readFileSync } from "node:fs";
 import { Agent, request } from "node:http";
-import { createServer } from "node:net";
 import os from "node:os";
-import { join } from "node:path";
 import { gunzipSync } from "node:zlib";
 import { createRng } from "../../server/stats/rng";
+import { latencySummary, startBenchServer } from "../server-process";
 
 const PARTICIPANTS = 500;
 const REGIONS = 400;
@@ -69,17 +67,6 @@ function makeFiles(): { brain: string; sheet: string } {
   return { brain: `${lines.join("\n")}\n`, sheet: `${sheet.join("\n")}\n` };
 }
 
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = createServer();
-    s.listen(0, "127.0.0.1", () => {
-      const port = (s.address() as { port: number }).port;
-      s.close(() => resolve(port));
-    });
-    s.on("error", reject);
-  });
-}
-
 /** CPU milliseconds (user + system) a process's main thread has used, or null where /proc cannot tell. */
 function mainThreadCpuMs(pid: number | undefined): number | null {
   if (pid === undefined) return null;
@@ -91,34 +78,10 @@ function mainThreadCpuMs(pid: number | undefined): number | null {
   }
 }
 
-function percentile(sorted: readonly number[], q: number): number {
-  if (sorted.length === 0) return Number.NaN;
-  return sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil(q * sorted.length) - 1))];
-}
-
-function summary(label: string, times: number[]): string {
-  const s = [...times].sort((a, b) => a - b);
-  return `${label.padEnd(34)} n = ${String(s.length).padStart(5)}   p50 ${percentile(s, 0.5).toFixed(1).padStart(6)} ms   p95 ${percentile(s, 0.95).toFixed(1).padStart(6)} ms   max ${s[s.length - 1].toFixed(1).padStart(7)} ms`;
-}
-
 export default async function fitsLoad(): Promise<void> {
-  const dataDir = mkdtempSync(join(os.tmpdir(), "covarion-bench-"));
-  const port = await freePort();
-  const base = `http://127.0.0.1:${port}`;
-  // BENCH_PROF=<directory>: the server writes a CPU profile of its run there (open it in a Chromium developer tools window).
-  const profile = process.env.BENCH_PROF ? ["--cpu-prof", `--cpu-prof-dir=${process.env.BENCH_PROF}`] : [];
-  const child = spawn(process.execPath, [...profile, "--import", "tsx", "server/index.ts"], {
-    env: { ...process.env, NODE_ENV: "development", DATA_DIR: dataDir, PORT: String(port), HOST: "127.0.0.1", PUBLIC_URL: base },
-    stdio: ["ignore", "pipe", "pipe"],
-  });
-  let log = "";
-  const keep = (d: unknown) => {
-    log += String(d);
-  };
-  child.stdout.on("data", keep);
-  child.stderr.on("data", keep);
+  const server = await startBenchServer();
+  const { base, cookie, child } = server;
   const agent = new Agent({ keepAlive: true, maxSockets: READERS + 2 });
-  let cookie = "";
 
   let reconnects = 0;
 
@@ -250,23 +213,6 @@ export default async function fitsLoad(): Promise<void> {
   }
 
   try {
-    const started = performance.now();
-    for (;;) {
-      if (child.exitCode !== null) throw new Error(`the server stopped:\n${log}`);
-      try {
-        if ((await call("GET", "/api/health")).status === 200) break;
-      } catch {
-        // not listening yet
-      }
-      if (performance.now() - started > 120_000) throw new Error(`the server did not start:\n${log}`);
-      await new Promise((r) => setTimeout(r, 250));
-    }
-    const signIn = await fetch(`${base}/api/dev/demo-sign-in`, {
-      method: "POST",
-      headers: { "Content-Type": "application/json" },
-      body: JSON.stringify({ email: "analyst@demo.covarion.test" }),
-    });
-    cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
     const study = await must("POST", "/api/studies", { name: "Load benchmark" });
     const studyId = study.id as string;
     const files = makeFiles();
@@ -283,8 +229,8 @@ export default async function fitsLoad(): Promise<void> {
     const idle = await readFor(3, () => `/api/studies/${studyId}/fits`);
     console.log(`machine: ${os.cpus().length} cores, load (1-minute average) ${os.loadavg()[0].toFixed(1)}`);
     console.log(`no fit running, ${READERS} readers for 3 s:`);
-    console.log(summary("  GET /api/studies/:studyId/fits", idle.first));
-    console.log(summary("  GET /api/studies", idle.second));
+    console.log(latencySummary("  GET /api/studies/:studyId/fits", idle.first));
+    console.log(latencySummary("  GET /api/studies", idle.second));
     const fit = await must("POST", `/api/studies/${studyId}/fits`, { modelId: model.id });
     const fitId = fit.id as string;
     const fitStart = performance.now();
@@ -304,9 +250,9 @@ export default async function fitsLoad(): Promise<void> {
       const loaded = await readFor(READ_SECONDS, () => `/api/fits/${fitId}`, running, phase.pause);
       const last = loaded.last as { status: string; progress: { fraction: number } } | null;
       console.log(`${phase.label}:`);
-      console.log(summary("  GET /api/fits/:fitId", loaded.first));
-      console.log(summary("  GET /api/studies", loaded.second));
-      console.log(summary("  both (target p95 ≤ 100 ms)", [...loaded.first, ...loaded.second]));
+      console.log(latencySummary("  GET /api/fits/:fitId", loaded.first));
+      console.log(latencySummary("  GET /api/studies", loaded.second));
+      console.log(latencySummary("  both (target p95 ≤ 100 ms)", [...loaded.first, ...loaded.second]));
       console.log(
         `  errors: ${loaded.errors}; connections reopened: ${reconnects}; the fit was ${last?.status ?? "?"} at ${((last?.progress.fraction ?? 0) * 100).toFixed(0)} % at the end of this phase`,
       );
@@ -330,7 +276,7 @@ export default async function fitsLoad(): Promise<void> {
       previewTimes.push(r.ms);
     }
     console.log(`first preview (data already built by the fit): ${previewTimes[0].toFixed(1)} ms`);
-    console.log(summary(`preview, N = ${n} (target ≤ 100 ms)`, previewTimes));
+    console.log(latencySummary(`preview, N = ${n} (target ≤ 100 ms)`, previewTimes));
 
     // The finished fit's view, read while a second fit of the same size runs.
     const gzip = { "Accept-Encoding": "gzip" };
@@ -373,7 +319,7 @@ export default async function fitsLoad(): Promise<void> {
       { label: "  revalidations (If-None-Match → 304)", headers: { ...gzip, "If-None-Match": etag } },
     ]) {
       const loaded = await hammer(DONE_READ_SECONDS, `/api/fits/${fitId}`, phase.headers, () => !secondRunning);
-      console.log(summary(phase.label, loaded.times));
+      console.log(latencySummary(phase.label, loaded.times));
       const statuses = [...loaded.statuses].map(([status, count]) => `${count} × ${status}`).join(", ");
       const cpu = loaded.cpuPerAnswer === null ? "" : `; server request thread ${loaded.cpuPerAnswer.toFixed(2)} ms of CPU per answer (≈ ${(1000 / loaded.cpuPerAnswer).toFixed(0)} answers/s on a core of its own)`;
       console.log(
@@ -384,15 +330,10 @@ export default async function fitsLoad(): Promise<void> {
     secondRunning = false;
     await watcher;
   } catch (error) {
-    console.log(`server (exit code ${child.exitCode}, signal ${child.signalCode}) output:\n${log.split("\n").slice(-30).join("\n")}`);
+    console.log(`server (exit code ${child.exitCode}, signal ${child.signalCode}) output:\n${server.log().split("\n").slice(-30).join("\n")}`);
     throw error;
   } finally {
     agent.destroy();
-    child.kill("SIGTERM");
-    await new Promise<void>((resolve) => {
-      if (child.exitCode !== null) resolve();
-      else child.once("exit", () => resolve());
-    });
-    rmSync(dataDir, { recursive: true, force: true });
+    await server.stop();
   }
 }
