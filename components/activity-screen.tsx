@@ -9,6 +9,7 @@ import { setAsideEventFacts, setAsideEventWords } from "../server/model/set-asid
 import { signOffSettingWords } from "../server/model/sign-off";
 import { fitApprovedWords, fitCancelledWords, fitSealedWords, memberRemovedWords, type PersonFacts, roleChangedWords } from "../server/model/activity-words";
 import { useFits } from "../hooks/use-fits";
+import { dateWords } from "../server/model/dates";
 
 const kindOptions = [
   { value: "", label: "Everything" },
@@ -110,7 +111,7 @@ export function describeEvent(event: ActivityEvent, names: ReadonlyMap<string, s
       return "changed the study's settings";
     case "study.deleted": {
       const until = field(after, "restorableUntil");
-      return until ? `deleted the study (an Owner could restore it until ${new Date(until).toLocaleDateString()})` : "deleted the study";
+      return until ? `deleted the study (an Owner could restore it until ${dateWords(until)})` : "deleted the study";
     }
     case "study.restored":
       return "restored the deleted study";

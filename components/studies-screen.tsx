@@ -3,6 +3,7 @@ import { useRouter } from "expo-router";
 import { Badge, Button, Card, Empty, Failure, Heading, Notice, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { useDeletedStudies, useRestoreStudy, useStudies, type DeletedStudy, type StudySummary } from "../hooks/use-studies";
+import { dateWords } from "../server/model/dates";
 
 export function StudiesScreen() {
   const studies = useStudies();
@@ -64,8 +65,8 @@ function DeletedCard({ study }: { study: DeletedStudy }) {
         <Badge label="Deleted" tone="danger" />
       </View>
       <Txt kind="small" style={{ color: palette.inkSoft }}>
-        Deleted {new Date(study.deletedAt).toLocaleDateString()}
-        {study.deletedBy?.name ? ` by ${study.deletedBy.name}` : ""} · can be restored until {new Date(study.restorableUntil).toLocaleDateString()}
+        Deleted {dateWords(study.deletedAt)}
+        {study.deletedBy?.name ? ` by ${study.deletedBy.name}` : ""} · can be restored until {dateWords(study.restorableUntil)}
       </Txt>
       {restore.error ? <Notice tone="danger">{restore.error.message}</Notice> : null}
       <Button

@@ -10,6 +10,7 @@ import { fonts, palette, radius, space, type } from "./theme";
 import { ApiError } from "../hooks/api";
 import { can, useStudy } from "../hooks/use-study";
 import { roleLabel } from "./studies-screen";
+import { dateWords } from "../server/model/dates";
 
 const sections = [
   { path: "data", label: "Data", action: "data.read" },
@@ -41,7 +42,7 @@ export function StudyFrame(props: { studyId: string; children: ReactNode }) {
       </View>
       {study.data.archivedAt ? (
         <Notice tone="caution" title="Archived — read only" testID="archived-notice">
-          This study was archived on {new Date(study.data.archivedAt).toLocaleDateString()}. Everything in it can be read and exported; nothing can be changed
+          This study was archived on {dateWords(study.data.archivedAt)}. Everything in it can be read and exported; nothing can be changed
           by any member. {study.data.role === "owner" ? "You can unarchive it under Team." : "An Owner can unarchive it."}
         </Notice>
       ) : null}

@@ -11,6 +11,7 @@ import { useChangeRole, useInvite, useMembers, usePendingInvitations, useRemoveM
 import type { Role } from "../hooks/use-studies";
 import { secondPersonSignOffExplanation, secondPersonSignOffLabel } from "../server/model/sign-off";
 import { restorableUntil, restoreWindowDays } from "../server/model/study-lifecycle";
+import { dateWords } from "../server/model/dates";
 
 export const roleOptions: readonly ChoiceOption<Role>[] = [
   { value: "owner", label: "Owner", hint: "manages members and can do everything" },
@@ -223,7 +224,7 @@ function ArchiveStudy({ study }: { study: StudyDetail }) {
       <Heading level={2}>{study.archivedAt ? "Archived" : "Archive this study"}</Heading>
       <Txt kind="small" style={{ color: palette.muted }}>
         {study.archivedAt
-          ? `Archived on ${new Date(study.archivedAt).toLocaleDateString()}. Nobody can change its data, models, fits, set-asides, team or settings; everything stays readable. Unarchive it to work in it again.`
+          ? `Archived on ${dateWords(study.archivedAt)}. Nobody can change its data, models, fits, set-asides, team or settings; everything stays readable. Unarchive it to work in it again.`
           : "Archiving makes the study read-only for every member: its data, models, fits, set-asides, team and settings can no longer change. Everything stays readable and exportable, and you can unarchive it at any time."}
       </Txt>
       {error ? <Notice tone="danger">{error.message}</Notice> : null}
@@ -256,7 +257,7 @@ function DeleteStudy({ study }: { study: StudyDetail }) {
     <Card testID="delete-study">
       <Heading level={2}>Delete this study</Heading>
       <Txt kind="small" style={{ color: palette.muted }}>
-        The study disappears for every member. You can undo this for {restoreWindowDays} days (until {restorableUntil(new Date()).toLocaleDateString()}) under
+        The study disappears for every member. You can undo this for {restoreWindowDays} days (until {dateWords(restorableUntil(new Date()))}) under
         Studies → Recently deleted; its records and activity are kept. Type the study's name to confirm.
       </Txt>
       <Field label="Study name" value={typed} onChangeText={setTyped} error={remove.error?.message ?? null} />

@@ -5,6 +5,7 @@
  */
 import type { FitStage } from "../../server/services/fits";
 import type { FitSetAsideView } from "../../server/services/fit-lineage";
+import { dateTimeWords } from "../../server/model/dates";
 
 /** "N = 64", or "N = 58–64" when regions differ; null before the fit is done. */
 export function nWords(n: { min: number; max: number } | null): string | null {
@@ -25,7 +26,7 @@ export const stageTone: Record<FitStage, "neutral" | "accent" | "danger" | "succ
 
 /** A date and time as people read it ("3 Dec 2026, 17:21"). */
 export function whenWords(iso: string): string {
-  return new Date(iso).toLocaleString("en-GB", { day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit" });
+  return dateTimeWords(iso);
 }
 
 /** "sub-12 · all regions", or "A participant · L_dlpfc" when ids are withheld. */

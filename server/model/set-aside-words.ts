@@ -8,6 +8,7 @@
  * A participant id may be withheld (null) from a Viewer of a restricted
  * study; the words then say "a participant".
  */
+import { dateWords } from "./dates";
 
 /** What an activity sentence about a set-aside needs (from the audit event). */
 export interface SetAsideEventFacts {
@@ -87,7 +88,7 @@ export function setAsideEventFacts(event: { kind: string; targetId?: string | nu
 
 /** A date as the set-aside lines show it ("3 Dec 2026"), in the reader's time zone. */
 export function setAsideDate(iso: string): string {
-  return new Date(iso).toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" });
+  return dateWords(iso);
 }
 
 /** "Set aside on 3 Dec 2026 by Maren Lindqvist: motion spikes" (the participant card, the Set aside section). */

@@ -1,0 +1,16 @@
+/**
+ * How screens and sentences write a moment, in the reader's time zone: one
+ * style everywhere ("3 Dec 2026", "3 Dec 2026, 17:21"), whatever the
+ * browser's locale.
+ */
+const dateStyle: Intl.DateTimeFormatOptions = { day: "numeric", month: "short", year: "numeric" };
+
+/** "3 Dec 2026" */
+export function dateWords(when: string | Date): string {
+  return new Date(when).toLocaleDateString("en-GB", dateStyle);
+}
+
+/** "3 Dec 2026, 17:21" */
+export function dateTimeWords(when: string | Date): string {
+  return new Date(when).toLocaleString("en-GB", { ...dateStyle, hour: "2-digit", minute: "2-digit" });
+}
