@@ -11,7 +11,8 @@ export { ErrorView as ErrorBoundary } from "../components/error-view";
 const queryClient = new QueryClient({
   defaultOptions: {
     queries: {
-      retry: (failures, error) => !(error instanceof ApiError && error.status >= 400 && error.status < 500) && failures < 2,
+      retry: (failures, error) =>
+        !(error instanceof ApiError && error.status >= 400 && error.status < 500) && failures < 2,
       refetchOnWindowFocus: false,
     },
   },

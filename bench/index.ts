@@ -16,9 +16,13 @@ const suites = readdirSync(join(here, "suites"))
   .sort()
   .filter((f) => wanted.length === 0 || wanted.includes(basename(f, ".ts")));
 
-console.log(`Covarion benchmarks — Node ${process.version}, ${os.cpus().length} cores, ${os.cpus()[0]?.model ?? "unknown CPU"}`);
+console.log(
+  `Covarion benchmarks — Node ${process.version}, ${os.cpus().length} cores, ${os.cpus()[0]?.model ?? "unknown CPU"}`,
+);
 for (const file of suites) {
   console.log(`\n== ${basename(file, ".ts")} ==`);
-  const mod = (await import(pathToFileURL(join(here, "suites", file)).href)) as { default: () => Promise<void> };
+  const mod = (await import(pathToFileURL(join(here, "suites", file)).href)) as {
+    default: () => Promise<void>;
+  };
   await mod.default();
 }

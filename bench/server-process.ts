@@ -37,12 +37,21 @@ function freePort(): Promise<number> {
  * its run there (open it in a Chromium developer tools window).
  */
 export async function startBenchServer(email = "analyst@demo.covarion.test"): Promise<BenchServer> {
-  const profile = process.env.BENCH_PROF ? ["--cpu-prof", `--cpu-prof-dir=${process.env.BENCH_PROF}`] : [];
+  const profile = process.env.BENCH_PROF
+    ? ["--cpu-prof", `--cpu-prof-dir=${process.env.BENCH_PROF}`]
+    : [];
   const dataDir = mkdtempSync(join(os.tmpdir(), "covarion-bench-"));
   const port = await freePort();
   const base = `http://127.0.0.1:${port}`;
   const child = spawn(process.execPath, [...profile, "--import", "tsx", "server/index.ts"], {
-    env: { ...process.env, NODE_ENV: "development", DATA_DIR: dataDir, PORT: String(port), HOST: "127.0.0.1", PUBLIC_URL: base },
+    env: {
+      ...process.env,
+      NODE_ENV: "development",
+      DATA_DIR: dataDir,
+      PORT: String(port),
+      HOST: "127.0.0.1",
+      PUBLIC_URL: base,
+    },
     stdio: ["ignore", "pipe", "pipe"],
   });
   let output = "";
@@ -68,7 +77,8 @@ export async function startBenchServer(email = "analyst@demo.covarion.test"): Pr
       } catch {
         // not listening yet
       }
-      if (performance.now() - started > 120_000) throw new Error(`the server did not start:\n${output}`);
+      if (performance.now() - started > 120_000)
+        throw new Error(`the server did not start:\n${output}`);
       await new Promise((r) => setTimeout(r, 250));
     }
     const signIn = await fetch(`${base}/api/dev/demo-sign-in`, {

@@ -7,7 +7,14 @@ import { useActivity, type ActivityEvent } from "../hooks/use-activity";
 import { useMembers } from "../hooks/use-team";
 import { setAsideEventFacts, setAsideEventWords } from "../server/model/set-aside-words";
 import { signOffSettingWords } from "../server/model/sign-off";
-import { fitApprovedWords, fitCancelledWords, fitSealedWords, memberRemovedWords, type PersonFacts, roleChangedWords } from "../server/model/activity-words";
+import {
+  fitApprovedWords,
+  fitCancelledWords,
+  fitSealedWords,
+  memberRemovedWords,
+  type PersonFacts,
+  roleChangedWords,
+} from "../server/model/activity-words";
 import { useFits } from "../hooks/use-fits";
 import { dateWords } from "../server/model/dates";
 
@@ -28,11 +35,19 @@ export function ActivityScreen(props: { studyId: string }) {
   const [person, setPerson] = useState("");
   const [kind, setKind] = useState("");
   const members = useMembers(props.studyId);
-  const activity = useActivity(props.studyId, { person: person || undefined, kind: kind || undefined });
+  const activity = useActivity(props.studyId, {
+    person: person || undefined,
+    kind: kind || undefined,
+  });
   const fits = useFits(props.studyId);
-  const names = new Map((members.data ?? []).filter((m) => m.name).map((m) => [m.userId, m.name as string]));
+  const names = new Map(
+    (members.data ?? []).filter((m) => m.name).map((m) => [m.userId, m.name as string]),
+  );
   const fitModels = new Map((fits.data ?? []).map((f) => [f.id, f.model.name]));
-  const personOptions = [{ value: "", label: "Everyone" }, ...(members.data ?? []).map((m) => ({ value: m.userId, label: m.name ?? m.email ?? m.userId }))];
+  const personOptions = [
+    { value: "", label: "Everyone" },
+    ...(members.data ?? []).map((m) => ({ value: m.userId, label: m.name ?? m.email ?? m.userId })),
+  ];
   return (
     <View style={styles.root}>
       <Card>
@@ -56,7 +71,15 @@ export function ActivityScreen(props: { studyId: string }) {
   );
 }
 
-function EventRow({ event, names, fitModels }: { event: ActivityEvent; names: ReadonlyMap<string, string>; fitModels: ReadonlyMap<string, string> }) {
+function EventRow({
+  event,
+  names,
+  fitModels,
+}: {
+  event: ActivityEvent;
+  names: ReadonlyMap<string, string>;
+  fitModels: ReadonlyMap<string, string>;
+}) {
   const who = event.actor?.name ?? event.actor?.email ?? "Covarion";
   // A set-aside's sentence quotes its reason itself.
   const reason = setAsideEventFacts(event) ? null : reasonOf(event);
@@ -93,15 +116,27 @@ function reasonOf(event: ActivityEvent): string | null {
 }
 
 /** The person an event about a member names: as recorded, with the name of a current member where the event predates names. */
-function personOf(event: ActivityEvent, recorded: unknown, names: ReadonlyMap<string, string>): PersonFacts {
-  return { name: field(recorded, "name") ?? names.get(event.targetId ?? "") ?? null, email: field(recorded, "email"), role: field(recorded, "role") };
+function personOf(
+  event: ActivityEvent,
+  recorded: unknown,
+  names: ReadonlyMap<string, string>,
+): PersonFacts {
+  return {
+    name: field(recorded, "name") ?? names.get(event.targetId ?? "") ?? null,
+    email: field(recorded, "email"),
+    role: field(recorded, "role"),
+  };
 }
 
 /**
  * One plain sentence per event kind; unknown kinds fall back to their name.
  * `names` maps a member's id to their name; `fitModels` a fit's id to its model's name.
  */
-export function describeEvent(event: ActivityEvent, names: ReadonlyMap<string, string> = new Map(), fitModels: ReadonlyMap<string, string> = new Map()): string {
+export function describeEvent(
+  event: ActivityEvent,
+  names: ReadonlyMap<string, string> = new Map(),
+  fitModels: ReadonlyMap<string, string> = new Map(),
+): string {
   const after = event.after;
   const before = event.before;
   switch (event.kind) {
@@ -111,7 +146,9 @@ export function describeEvent(event: ActivityEvent, names: ReadonlyMap<string, s
       return "changed the study's settings";
     case "study.deleted": {
       const until = field(after, "restorableUntil");
-      return until ? `deleted the study (an Owner could restore it until ${dateWords(until)})` : "deleted the study";
+      return until
+        ? `deleted the study (an Owner could restore it until ${dateWords(until)})`
+        : "deleted the study";
     }
     case "study.restored":
       return "restored the deleted study";
@@ -159,7 +196,11 @@ export function describeEvent(event: ActivityEvent, names: ReadonlyMap<string, s
     case "fit.approved":
       return fitApprovedWords(fitModels.get(event.targetId ?? "") ?? null);
     case "fit.sealed":
-      return fitSealedWords(fitModels.get(event.targetId ?? "") ?? null, field(after, "sha256") ?? "", field(after, "singlePersonSignOff") === "true");
+      return fitSealedWords(
+        fitModels.get(event.targetId ?? "") ?? null,
+        field(after, "sha256") ?? "",
+        field(after, "singlePersonSignOff") === "true",
+      );
     default:
       return event.kind.replace(/[._]/g, " ");
   }
@@ -168,5 +209,12 @@ export function describeEvent(event: ActivityEvent, names: ReadonlyMap<string, s
 const styles = StyleSheet.create({
   root: { gap: space.lg },
   list: { gap: space.xs },
-  row: { backgroundColor: palette.surface, borderWidth: 1, borderColor: palette.line, borderRadius: 8, padding: space.md, gap: 2 },
+  row: {
+    backgroundColor: palette.surface,
+    borderWidth: 1,
+    borderColor: palette.line,
+    borderRadius: 8,
+    padding: space.md,
+    gap: 2,
+  },
 });

@@ -52,8 +52,13 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
                 onPress={go(item.href)}
                 style={[styles.railItem, isActive(item.href) && styles.railItemActive]}
               >
-                <NavIcon name={item.icon} color={isActive(item.href) ? palette.accentInk : palette.muted} />
-                <Text style={[styles.railLabel, isActive(item.href) && styles.activeText]}>{item.label}</Text>
+                <NavIcon
+                  name={item.icon}
+                  color={isActive(item.href) ? palette.accentInk : palette.muted}
+                />
+                <Text style={[styles.railLabel, isActive(item.href) && styles.activeText]}>
+                  {item.label}
+                </Text>
               </Pressable>
             ))}
           </View>
@@ -61,7 +66,12 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
             <Txt kind="caption" numberOfLines={1}>
               {props.me.email}
             </Txt>
-            <Pressable accessibilityRole="button" onPress={() => signOut.mutate()} style={[styles.signOutTarget, styles.railSignOut]} testID="sign-out">
+            <Pressable
+              accessibilityRole="button"
+              onPress={() => signOut.mutate()}
+              style={[styles.signOutTarget, styles.railSignOut]}
+              testID="sign-out"
+            >
               <Text style={styles.signOut}>Sign out</Text>
             </Pressable>
           </View>
@@ -78,7 +88,12 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
     <View style={styles.phoneRoot}>
       <View style={[styles.topBar, { paddingTop: insets.top + space.sm }]}>
         <Wordmark size={17} />
-        <Pressable accessibilityRole="button" onPress={() => signOut.mutate()} style={styles.signOutTarget} testID="sign-out">
+        <Pressable
+          accessibilityRole="button"
+          onPress={() => signOut.mutate()}
+          style={styles.signOutTarget}
+          testID="sign-out"
+        >
           <Text style={styles.signOut}>Sign out</Text>
         </Pressable>
       </View>
@@ -88,9 +103,21 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
       </ScrollView>
       <View style={[styles.bottomBar, { paddingBottom: insets.bottom }]} role="navigation">
         {items.map((item) => (
-          <Pressable key={item.href} accessibilityRole="link" accessibilityState={{ selected: isActive(item.href) }} onPress={go(item.href)} style={styles.tab}>
-            <NavIcon name={item.icon} color={isActive(item.href) ? palette.accentInk : palette.muted} size={22} />
-            <Text style={[styles.tabLabel, isActive(item.href) && styles.activeText]}>{item.label}</Text>
+          <Pressable
+            key={item.href}
+            accessibilityRole="link"
+            accessibilityState={{ selected: isActive(item.href) }}
+            onPress={go(item.href)}
+            style={styles.tab}
+          >
+            <NavIcon
+              name={item.icon}
+              color={isActive(item.href) ? palette.accentInk : palette.muted}
+              size={22}
+            />
+            <Text style={[styles.tabLabel, isActive(item.href) && styles.activeText]}>
+              {item.label}
+            </Text>
           </Pressable>
         ))}
       </View>
@@ -107,7 +134,12 @@ function ResearchFooter() {
 }
 
 const styles = StyleSheet.create({
-  wideRoot: { flex: 1, flexDirection: "row", backgroundColor: palette.canvas, minHeight: "100%" as unknown as number },
+  wideRoot: {
+    flex: 1,
+    flexDirection: "row",
+    backgroundColor: palette.canvas,
+    minHeight: "100%" as unknown as number,
+  },
   rail: {
     width: 220,
     borderRightWidth: 1,
@@ -117,7 +149,15 @@ const styles = StyleSheet.create({
     gap: space.xl,
   },
   railItems: { gap: space.xs, flex: 1 },
-  railItem: { flexDirection: "row", alignItems: "center", gap: space.sm, minHeight: 44, paddingVertical: space.sm, paddingHorizontal: space.md, borderRadius: radius.md },
+  railItem: {
+    flexDirection: "row",
+    alignItems: "center",
+    gap: space.sm,
+    minHeight: 44,
+    paddingVertical: space.sm,
+    paddingHorizontal: space.md,
+    borderRadius: radius.md,
+  },
   railItemActive: { backgroundColor: palette.accentSoft },
   railLabel: { fontFamily: fonts.semibold, fontSize: type.body, color: palette.inkSoft },
   railFooter: { gap: space.xs },
@@ -126,7 +166,13 @@ const styles = StyleSheet.create({
   signOutTarget: { minHeight: 44, minWidth: 44, justifyContent: "center" },
   railSignOut: { alignSelf: "flex-start" },
   main: { flex: 1 },
-  mainContent: { padding: space.xl, gap: space.lg, maxWidth: 1200, width: "100%", alignSelf: "center" },
+  mainContent: {
+    padding: space.xl,
+    gap: space.lg,
+    maxWidth: 1200,
+    width: "100%",
+    alignSelf: "center",
+  },
   phoneRoot: { flex: 1, backgroundColor: palette.canvas, minHeight: "100%" as unknown as number },
   topBar: {
     flexDirection: "row",
@@ -139,8 +185,25 @@ const styles = StyleSheet.create({
     borderBottomColor: palette.line,
   },
   phoneContent: { padding: space.lg, gap: space.lg, paddingBottom: space.xxxl },
-  bottomBar: { flexDirection: "row", borderTopWidth: 1, borderTopColor: palette.line, backgroundColor: palette.surface },
-  tab: { flex: 1, alignItems: "center", justifyContent: "center", paddingVertical: space.sm, gap: 2, minHeight: 52 },
+  bottomBar: {
+    flexDirection: "row",
+    borderTopWidth: 1,
+    borderTopColor: palette.line,
+    backgroundColor: palette.surface,
+  },
+  tab: {
+    flex: 1,
+    alignItems: "center",
+    justifyContent: "center",
+    paddingVertical: space.sm,
+    gap: 2,
+    minHeight: 52,
+  },
   tabLabel: { fontSize: type.caption, fontFamily: fonts.semibold, color: palette.inkSoft },
-  footer: { paddingVertical: space.lg, borderTopWidth: 1, borderTopColor: palette.line, marginTop: space.xl },
+  footer: {
+    paddingVertical: space.lg,
+    borderTopWidth: 1,
+    borderTopColor: palette.line,
+    marginTop: space.xl,
+  },
 });

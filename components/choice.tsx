@@ -9,9 +9,21 @@ export interface ChoiceOption<T extends string> {
 }
 
 /** A labelled row of chips; exactly one chosen (radio semantics). */
-export function Choice<T extends string>(props: { label: string; options: readonly ChoiceOption<T>[]; value: T | null; onChange: (value: T) => void; testID?: string; disabled?: boolean }) {
+export function Choice<T extends string>(props: {
+  label: string;
+  options: readonly ChoiceOption<T>[];
+  value: T | null;
+  onChange: (value: T) => void;
+  testID?: string;
+  disabled?: boolean;
+}) {
   return (
-    <View style={styles.root} accessibilityRole="radiogroup" accessibilityLabel={props.label} testID={props.testID}>
+    <View
+      style={styles.root}
+      accessibilityRole="radiogroup"
+      accessibilityLabel={props.label}
+      testID={props.testID}
+    >
       <Txt kind="label">{props.label}</Txt>
       <View style={styles.row}>
         {props.options.map((option) => {
@@ -26,7 +38,9 @@ export function Choice<T extends string>(props: { label: string; options: readon
               onPress={() => props.onChange(option.value)}
               style={[styles.chip, selected && styles.chipSelected]}
             >
-              <Text style={[styles.chipText, selected && styles.chipTextSelected]}>{option.label}</Text>
+              <Text style={[styles.chipText, selected && styles.chipTextSelected]}>
+                {option.label}
+              </Text>
             </Pressable>
           );
         })}
@@ -36,9 +50,19 @@ export function Choice<T extends string>(props: { label: string; options: readon
 }
 
 /** Several chips, any number chosen (checkbox semantics). */
-export function MultiChoice(props: { label: string; options: readonly ChoiceOption<string>[]; values: readonly string[]; onChange: (values: string[]) => void; testID?: string }) {
+export function MultiChoice(props: {
+  label: string;
+  options: readonly ChoiceOption<string>[];
+  values: readonly string[];
+  onChange: (values: string[]) => void;
+  testID?: string;
+}) {
   const toggle = (value: string) => {
-    props.onChange(props.values.includes(value) ? props.values.filter((v) => v !== value) : [...props.values, value]);
+    props.onChange(
+      props.values.includes(value)
+        ? props.values.filter((v) => v !== value)
+        : [...props.values, value],
+    );
   };
   return (
     <View style={styles.root} accessibilityLabel={props.label} testID={props.testID}>
@@ -55,7 +79,9 @@ export function MultiChoice(props: { label: string; options: readonly ChoiceOpti
               onPress={() => toggle(option.value)}
               style={[styles.chip, selected && styles.chipSelected]}
             >
-              <Text style={[styles.chipText, selected && styles.chipTextSelected]}>{option.label}</Text>
+              <Text style={[styles.chipText, selected && styles.chipTextSelected]}>
+                {option.label}
+              </Text>
             </Pressable>
           );
         })}

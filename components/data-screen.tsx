@@ -32,9 +32,16 @@ export function DataScreen(props: { studyId: string }) {
       {canUpload ? (
         <UploadPanel studyId={props.studyId} />
       ) : (
-        <Notice>{study.data.archivedAt ? "This study is archived: no data can be uploaded until an Owner unarchives it." : "Owners and Analysts upload data; your role reads it."}</Notice>
+        <Notice>
+          {study.data.archivedAt
+            ? "This study is archived: no data can be uploaded until an Owner unarchives it."
+            : "Owners and Analysts upload data; your role reads it."}
+        </Notice>
       )}
-      <SetAsideSection studyId={props.studyId} canRestore={can(study.data, "participants.set-aside")} />
+      <SetAsideSection
+        studyId={props.studyId}
+        canRestore={can(study.data, "participants.set-aside")}
+      />
       <RosterSection studyId={props.studyId} canMap={canUpload} />
       <ReliabilitySection studyId={props.studyId} canEdit={canUpload} />
     </View>
@@ -44,7 +51,14 @@ export function DataScreen(props: { studyId: string }) {
 function RosterSection(props: { studyId: string; canMap: boolean }) {
   const roster = useRoster(props.studyId);
   if (roster.isPending) return <Pending label="Joining the roster…" />;
-  if (roster.isError) return <Failure error={roster.error} title="The roster could not be loaded" onRetry={() => roster.refetch()} />;
+  if (roster.isError)
+    return (
+      <Failure
+        error={roster.error}
+        title="The roster could not be loaded"
+        onRetry={() => roster.refetch()}
+      />
+    );
   const { report, rows } = roster.data;
   return (
     <>
@@ -54,13 +68,23 @@ function RosterSection(props: { studyId: string; canMap: boolean }) {
           <Heading level={2} style={styles.shrink}>
             Roster
           </Heading>
-          {rows !== null && rows.length > 0 ? <DownloadLink label="Download roster.csv" href={rosterCsvUrl(props.studyId)} testID="roster-csv" /> : null}
+          {rows !== null && rows.length > 0 ? (
+            <DownloadLink
+              label="Download roster.csv"
+              href={rosterCsvUrl(props.studyId)}
+              testID="roster-csv"
+            />
+          ) : null}
         </View>
         <Txt kind="small" style={styles.muted}>
-          Participants are excluded by setting them aside in a fit, with a written reason that is logged — never by editing or re-uploading the files.
+          Participants are excluded by setting them aside in a fit, with a written reason that is
+          logged — never by editing or re-uploading the files.
         </Txt>
         {rows === null ? (
-          <Notice testID="roster-restricted">This study restricts participant-level rows: your role sees the join report's counts, not the roster's rows.</Notice>
+          <Notice testID="roster-restricted">
+            This study restricts participant-level rows: your role sees the join report's counts,
+            not the roster's rows.
+          </Notice>
         ) : (
           <RosterTable report={report} rows={rows} />
         )}
@@ -71,7 +95,13 @@ function RosterSection(props: { studyId: string; canMap: boolean }) {
 
 const styles = StyleSheet.create({
   root: { gap: space.lg },
-  rosterHead: { flexDirection: "row", flexWrap: "wrap", alignItems: "center", justifyContent: "space-between", gap: space.sm },
+  rosterHead: {
+    flexDirection: "row",
+    flexWrap: "wrap",
+    alignItems: "center",
+    justifyContent: "space-between",
+    gap: space.sm,
+  },
   shrink: { flexShrink: 1 },
   muted: { color: palette.muted },
 });

@@ -10,7 +10,13 @@ import { useRouter } from "expo-router";
 import { Badge, Card, Empty, Failure, Pending, Txt } from "./ui";
 import { fonts, palette, space } from "./theme";
 import { ProgressBar } from "./fit/progress-bar";
-import { nWords, refitOfWords, setAsideCountWords, stageTone, whenWords } from "./fit/lineage-words";
+import {
+  nWords,
+  refitOfWords,
+  setAsideCountWords,
+  stageTone,
+  whenWords,
+} from "./fit/lineage-words";
 import { useFits, type FitSummaryView } from "../hooks/use-fits";
 
 export function FitsScreen(props: { studyId: string }) {
@@ -20,7 +26,10 @@ export function FitsScreen(props: { studyId: string }) {
   if (fits.data.length === 0) {
     return (
       <Empty title="No fits yet">
-        <Txt style={{ color: palette.muted, textAlign: "center" }}>Run a model from the Models section. Every run is kept, with the data versions and seed it used.</Txt>
+        <Txt style={{ color: palette.muted, textAlign: "center" }}>
+          Run a model from the Models section. Every run is kept, with the data versions and seed it
+          used.
+        </Txt>
       </Empty>
     );
   }
@@ -68,7 +77,9 @@ function FitRow({ studyId, fit }: { studyId: string; fit: FitSummaryView }) {
             Newer data or set-asides exist
           </Txt>
         ) : null}
-        {fit.status === "running" || fit.status === "queued" ? <ProgressBar fraction={fit.progress.fraction} secondsLeft={fit.progress.secondsLeft} /> : null}
+        {fit.status === "running" || fit.status === "queued" ? (
+          <ProgressBar fraction={fit.progress.fraction} secondsLeft={fit.progress.secondsLeft} />
+        ) : null}
         {fit.error ? (
           <Txt kind="small" style={{ color: palette.danger }}>
             {fit.error.message}
@@ -83,6 +94,11 @@ const styles = StyleSheet.create({
   root: { gap: space.md },
   row: { minHeight: 44 },
   pressed: { opacity: 0.8 },
-  head: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.sm },
+  head: {
+    flexDirection: "row",
+    justifyContent: "space-between",
+    alignItems: "center",
+    gap: space.sm,
+  },
   stale: { color: palette.warning, fontFamily: fonts.semibold },
 });

@@ -29,25 +29,39 @@ export function InvitationScreen(props: { token: string }) {
           <Card testID="invitation">
             <Heading level={2}>Invitation to “{preview.data.studyName}”</Heading>
             <Txt>
-              {preview.data.invitedBy.name ?? preview.data.invitedBy.email ?? "A study Owner"} invites {preview.data.email} to join as {roleLabel(preview.data.role)}.
+              {preview.data.invitedBy.name ?? preview.data.invitedBy.email ?? "A study Owner"}{" "}
+              invites {preview.data.email} to join as {roleLabel(preview.data.role)}.
             </Txt>
             {preview.data.status !== "pending" ? (
-              <Notice tone="danger">This invitation is {preview.data.status}. Ask the study's Owner for a new one.</Notice>
+              <Notice tone="danger">
+                This invitation is {preview.data.status}. Ask the study's Owner for a new one.
+              </Notice>
             ) : !me.data ? (
               <>
                 <Notice>Sign in as {preview.data.email} to accept.</Notice>
                 {options.data?.email ? (
-                  <EmailSignIn providerId={options.data.email.providerId} mailbox={options.data.mailbox} initialEmail={preview.data.email} callbackPath={`/invitations/${props.token}`} />
+                  <EmailSignIn
+                    providerId={options.data.email.providerId}
+                    mailbox={options.data.mailbox}
+                    initialEmail={preview.data.email}
+                    callbackPath={`/invitations/${props.token}`}
+                  />
                 ) : null}
               </>
             ) : me.data.email.toLowerCase() !== preview.data.email.toLowerCase() ? (
               <>
                 <Notice tone="danger">
-                  You are signed in as {me.data.email}, but this invitation is for {preview.data.email}. Sign out to continue as {preview.data.email}; you come back to
-                  this invitation.
+                  You are signed in as {me.data.email}, but this invitation is for{" "}
+                  {preview.data.email}. Sign out to continue as {preview.data.email}; you come back
+                  to this invitation.
                 </Notice>
                 {signOut.error ? <Notice tone="danger">{signOut.error.message}</Notice> : null}
-                <Button label="Sign out and continue" testID="sign-out-and-continue" busy={signOut.isPending} onPress={() => signOut.mutate()} />
+                <Button
+                  label="Sign out and continue"
+                  testID="sign-out-and-continue"
+                  busy={signOut.isPending}
+                  onPress={() => signOut.mutate()}
+                />
               </>
             ) : (
               <>
@@ -56,7 +70,11 @@ export function InvitationScreen(props: { token: string }) {
                   label="Accept invitation"
                   testID="accept-invitation"
                   busy={accept.isPending}
-                  onPress={() => accept.mutate(undefined, { onSuccess: (result) => router.replace(`/studies/${result.studyId}` as never) })}
+                  onPress={() =>
+                    accept.mutate(undefined, {
+                      onSuccess: (result) => router.replace(`/studies/${result.studyId}` as never),
+                    })
+                  }
                 />
               </>
             )}

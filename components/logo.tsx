@@ -19,7 +19,16 @@ export function Wordmark(props: { size?: number; inverse?: boolean }) {
   return (
     <View style={{ flexDirection: "row", alignItems: "center", gap: 8 }}>
       <LogoMark size={size * 1.4} />
-      <Txt style={{ fontFamily: fonts.bold, fontSize: size, letterSpacing: -0.3, color: props.inverse ? palette.onInk : palette.ink }}>Covarion</Txt>
+      <Txt
+        style={{
+          fontFamily: fonts.bold,
+          fontSize: size,
+          letterSpacing: -0.3,
+          color: props.inverse ? palette.onInk : palette.ink,
+        }}
+      >
+        Covarion
+      </Txt>
     </View>
   );
 }

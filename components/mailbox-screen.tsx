@@ -17,7 +17,9 @@ export function MailboxScreen() {
       <View style={styles.column}>
         <Wordmark />
         <Heading>Mailbox</Heading>
-        <Notice>Demo mode: e-mail sent by this server is caught here instead of being delivered.</Notice>
+        <Notice>
+          Demo mode: e-mail sent by this server is caught here instead of being delivered.
+        </Notice>
         {mail.isPending ? (
           <Pending />
         ) : mail.isError ? (
@@ -36,8 +38,13 @@ export function MailboxScreen() {
                   segment.kind === "text" ? (
                     segment.text
                   ) : (
-                    // biome-ignore lint/suspicious/noArrayIndexKey: segments of one fixed message never reorder
-                    <Link key={i} href={segment.href as never} style={styles.link} testID="mail-link">
+                    <Link
+                      // biome-ignore lint/suspicious/noArrayIndexKey: segments of one fixed message never reorder
+                      key={i}
+                      href={segment.href as never}
+                      style={styles.link}
+                      testID="mail-link"
+                    >
                       {linkLabel(segment.href)}
                     </Link>
                   ),

@@ -14,7 +14,12 @@ import { Choice, MultiChoice } from "./choice";
 import { Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { questionOf } from "./fit/describe-model";
-import { useColumnLevels, useCreateModel, useModelInputs, type ModelInputs } from "../hooks/use-models";
+import {
+  useColumnLevels,
+  useCreateModel,
+  useModelInputs,
+  type ModelInputs,
+} from "../hooks/use-models";
 import { useRunFit } from "../hooks/use-fits";
 import {
   circularityCaution,
@@ -68,7 +73,11 @@ export function ModelForm(props: { studyId: string }) {
   if (inputs.isPending) return <Pending label="Reading the study's tables…" />;
   if (inputs.isError) return <Failure error={inputs.error} onRetry={() => inputs.refetch()} />;
   if (inputs.data.regions.length === 0) {
-    return <Notice tone="caution" title="No brain table yet">Upload and confirm a brain table in the Data section before building a model.</Notice>;
+    return (
+      <Notice tone="caution" title="No brain table yet">
+        Upload and confirm a brain table in the Data section before building a model.
+      </Notice>
+    );
   }
   return <Form studyId={props.studyId} inputs={inputs.data} />;
 }
@@ -96,7 +105,10 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
   const [problems, setProblems] = useState<{ field: string; message: string }[]>([]);
   const create = useCreateModel(studyId);
   const runFit = useRunFit(studyId);
-  const levelsQuery = useColumnLevels(studyId, kind === "two-group" ? (group ?? undefined) : undefined);
+  const levelsQuery = useColumnLevels(
+    studyId,
+    kind === "two-group" ? (group ?? undefined) : undefined,
+  );
 
   const estimators = estimatorsByKind[kind];
   const covariateOptions = useMemo(
@@ -113,10 +125,18 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
     kind,
     regions: allRegions ? undefined : regions,
     predictor: kind === "association" ? (predictor ?? undefined) : undefined,
-    group: kind === "two-group" ? (group ?? undefined) : kind === "association" && interactionWith ? interactionWith : undefined,
+    group:
+      kind === "two-group"
+        ? (group ?? undefined)
+        : kind === "association" && interactionWith
+          ? interactionWith
+          : undefined,
     interaction: kind === "association" && interactionWith !== "",
     levels: kind === "two-group" && levels.length === 2 ? [levels[0], levels[1]] : undefined,
-    covariates: kind === "reliability" ? [] : covariates.filter((c) => covariateOptions.some((o) => o.value === c)),
+    covariates:
+      kind === "reliability"
+        ? []
+        : covariates.filter((c) => covariateOptions.some((o) => o.value === c)),
     estimator: estimators.includes(estimator) ? estimator : "ols",
     inference: kind === "reliability" ? "parametric" : inference,
     resamples: Number(resamples),
@@ -131,7 +151,12 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
     const body = { name: name.trim(), spec: spec(), regionSelection: selection ?? undefined };
     const checked = modelCreateSchema.safeParse(body);
     if (!checked.success) {
-      setProblems(checked.error.issues.map((i) => ({ field: i.path.filter((p) => p !== "spec").join(".") || "model", message: i.message })));
+      setProblems(
+        checked.error.issues.map((i) => ({
+          field: i.path.filter((p) => p !== "spec").join(".") || "model",
+          message: i.message,
+        })),
+      );
       return;
     }
     setProblems([]);
@@ -141,7 +166,9 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
           router.replace(`/studies/${studyId}/models` as never);
           return;
         }
-        runFit.mutate(model.id, { onSuccess: (fit) => router.replace(`/studies/${studyId}/fits/${fit.id}` as never) });
+        runFit.mutate(model.id, {
+          onSuccess: (fit) => router.replace(`/studies/${studyId}/fits/${fit.id}` as never),
+        });
       },
     });
   };
@@ -153,7 +180,9 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
     regions: inputs.regions,
     sessions: inputs.hasSessions ? undefined : 0,
     hasStandardErrors: inputs.hasStandardErrors,
-    ...(sheetKnown ? { numericColumns: inputs.numericColumns, categoricalColumns: inputs.categoricalColumns } : {}),
+    ...(sheetKnown
+      ? { numericColumns: inputs.numericColumns, categoricalColumns: inputs.categoricalColumns }
+      : {}),
     levelsOf: (column) => (column === group && levelsQuery.data ? levelsQuery.data : undefined),
   };
   const dataIssues = parsedPreview.success ? dataProblems(parsedPreview.data, shape) : [];
@@ -162,10 +191,26 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
     <View style={styles.root}>
       <Heading>New model</Heading>
       <Card>
-        <Field label="Name" value={name} onChangeText={setName} placeholder="e.g. Accuracy, adjusted for age and motion" testID="model-name" />
-        <Choice label="Question" options={kindOptions} value={kind} onChange={setKind} testID="model-kind" />
+        <Field
+          label="Name"
+          value={name}
+          onChangeText={setName}
+          placeholder="e.g. Accuracy, adjusted for age and motion"
+          testID="model-name"
+        />
+        <Choice
+          label="Question"
+          options={kindOptions}
+          value={kind}
+          onChange={setKind}
+          testID="model-kind"
+        />
         <Txt kind="small" style={{ color: palette.inkSoft }} testID="model-question">
-          {questionOf({ ...preview, covariates: preview.covariates ?? [], interaction: preview.interaction ?? false } as ModelSpec)}
+          {questionOf({
+            ...preview,
+            covariates: preview.covariates ?? [],
+            interaction: preview.interaction ?? false,
+          } as ModelSpec)}
         </Txt>
       </Card>
 
@@ -180,8 +225,21 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
           value={allRegions ? "all" : "chosen"}
           onChange={(v) => setAllRegions(v === "all")}
         />
-        {!allRegions ? <MultiChoice label="Regions" options={inputs.regions.map((r) => ({ value: r, label: r }))} values={regions} onChange={setRegions} /> : null}
-        <Choice label={regionSelectionQuestion} options={regionSelections.map((v) => ({ value: v, label: regionSelectionLabels[v] }))} value={selection} onChange={setSelection} testID="region-selection" />
+        {!allRegions ? (
+          <MultiChoice
+            label="Regions"
+            options={inputs.regions.map((r) => ({ value: r, label: r }))}
+            values={regions}
+            onChange={setRegions}
+          />
+        ) : null}
+        <Choice
+          label={regionSelectionQuestion}
+          options={regionSelections.map((v) => ({ value: v, label: regionSelectionLabels[v] }))}
+          value={selection}
+          onChange={setSelection}
+          testID="region-selection"
+        />
         {selection === "same-data" ? (
           <Notice tone="caution" title="Circular region selection" testID="circularity-caution">
             {circularityCaution}
@@ -194,23 +252,54 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
           <Heading level={3}>{kind === "association" ? "Trait" : "Groups"}</Heading>
           {kind === "association" ? (
             inputs.numericColumns.length === 0 ? (
-              <Notice tone="caution">The participant sheet has no numeric column to use as a trait.</Notice>
+              <Notice tone="caution">
+                The participant sheet has no numeric column to use as a trait.
+              </Notice>
             ) : (
-              <Choice label="Trait (predictor)" options={inputs.numericColumns.map((c) => ({ value: c, label: c }))} value={predictor} onChange={setPredictor} testID="model-predictor" />
+              <Choice
+                label="Trait (predictor)"
+                options={inputs.numericColumns.map((c) => ({ value: c, label: c }))}
+                value={predictor}
+                onChange={setPredictor}
+                testID="model-predictor"
+              />
             )
           ) : (
             <>
-              <Choice label="Grouping column" options={inputs.categoricalColumns.map((c) => ({ value: c, label: c }))} value={group} onChange={(g) => { setGroup(g); setLevels([]); }} testID="model-group" />
+              <Choice
+                label="Grouping column"
+                options={inputs.categoricalColumns.map((c) => ({ value: c, label: c }))}
+                value={group}
+                onChange={(g) => {
+                  setGroup(g);
+                  setLevels([]);
+                }}
+                testID="model-group"
+              />
               {levelsQuery.data ? (
-                <MultiChoice label="Compare (first minus second; pick two)" options={levelsQuery.data.map((l) => ({ value: l, label: l }))} values={levels} onChange={(v) => setLevels(v.slice(-2))} />
+                <MultiChoice
+                  label="Compare (first minus second; pick two)"
+                  options={levelsQuery.data.map((l) => ({ value: l, label: l }))}
+                  values={levels}
+                  onChange={(v) => setLevels(v.slice(-2))}
+                />
               ) : null}
             </>
           )}
-          <MultiChoice label="Nuisance covariates" options={covariateOptions} values={covariates} onChange={setCovariates} testID="model-covariates" />
+          <MultiChoice
+            label="Nuisance covariates"
+            options={covariateOptions}
+            values={covariates}
+            onChange={setCovariates}
+            testID="model-covariates"
+          />
           {kind === "association" && inputs.categoricalColumns.length > 0 ? (
             <Choice
               label="Does the slope differ by group? (group × trait interaction)"
-              options={[{ value: "", label: "No" }, ...inputs.categoricalColumns.map((c) => ({ value: c, label: `By ${c}` }))]}
+              options={[
+                { value: "", label: "No" },
+                ...inputs.categoricalColumns.map((c) => ({ value: c, label: `By ${c}` })),
+              ]}
               value={interactionWith}
               onChange={setInteractionWith}
             />
@@ -218,26 +307,55 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
         </Card>
       ) : kind === "one-sample" ? (
         <Card>
-          <MultiChoice label="Nuisance covariates (numeric, centred)" options={inputs.numericColumns.map((c) => ({ value: c, label: c }))} values={covariates} onChange={setCovariates} testID="model-covariates" />
+          <MultiChoice
+            label="Nuisance covariates (numeric, centred)"
+            options={inputs.numericColumns.map((c) => ({ value: c, label: c }))}
+            values={covariates}
+            onChange={setCovariates}
+            testID="model-covariates"
+          />
         </Card>
       ) : null}
 
       {kind !== "reliability" ? (
         <Card>
           <Heading level={3}>How to answer it</Heading>
-          <Choice label="Estimator" options={estimators.map((e) => ({ value: e, label: estimatorLabels[e] }))} value={estimators.includes(estimator) ? estimator : "ols"} onChange={setEstimator} testID="model-estimator" />
-          <Choice label="Inference" options={inferenceOptions} value={inference} onChange={setInference} testID="model-inference" />
+          <Choice
+            label="Estimator"
+            options={estimators.map((e) => ({ value: e, label: estimatorLabels[e] }))}
+            value={estimators.includes(estimator) ? estimator : "ols"}
+            onChange={setEstimator}
+            testID="model-estimator"
+          />
+          <Choice
+            label="Inference"
+            options={inferenceOptions}
+            value={inference}
+            onChange={setInference}
+            testID="model-inference"
+          />
           {inference !== "parametric" ? (
             <View style={styles.pair}>
               <View style={styles.half}>
-                <Field label="Resamples" value={resamples} onChangeText={setResamples} inputMode="numeric" />
+                <Field
+                  label="Resamples"
+                  value={resamples}
+                  onChangeText={setResamples}
+                  inputMode="numeric"
+                />
               </View>
               <View style={styles.half}>
                 <Field label="Seed" value={seed} onChangeText={setSeed} inputMode="numeric" />
               </View>
             </View>
           ) : null}
-          <Choice label="Correction over regions" options={correctionOptions} value={correction} onChange={setCorrection} testID="model-correction" />
+          <Choice
+            label="Correction over regions"
+            options={correctionOptions}
+            value={correction}
+            onChange={setCorrection}
+            testID="model-correction"
+          />
           {inputs.hasStandardErrors ? (
             <>
               <Choice
@@ -251,8 +369,24 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
               />
               {weighted ? (
                 <>
-                  <Choice label="Between-participant variance τ²" options={[{ value: "reml", label: "REML" }, { value: "dl", label: "DerSimonian–Laird" }]} value={tau2Method} onChange={setTau2Method} />
-                  <Choice label="Small-sample adjustment" options={[{ value: "none", label: "None" }, { value: "kh", label: "Knapp–Hartung" }]} value={knappHartung ? "kh" : "none"} onChange={(v) => setKnappHartung(v === "kh")} />
+                  <Choice
+                    label="Between-participant variance τ²"
+                    options={[
+                      { value: "reml", label: "REML" },
+                      { value: "dl", label: "DerSimonian–Laird" },
+                    ]}
+                    value={tau2Method}
+                    onChange={setTau2Method}
+                  />
+                  <Choice
+                    label="Small-sample adjustment"
+                    options={[
+                      { value: "none", label: "None" },
+                      { value: "kh", label: "Knapp–Hartung" },
+                    ]}
+                    value={knappHartung ? "kh" : "none"}
+                    onChange={(v) => setKnappHartung(v === "kh")}
+                  />
                 </>
               ) : null}
             </>
@@ -261,7 +395,11 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
       ) : null}
 
       {dataIssues.length > 0 ? (
-        <Notice tone="danger" title="Not possible with the study's current data" testID="model-data-problems">
+        <Notice
+          tone="danger"
+          title="Not possible with the study's current data"
+          testID="model-data-problems"
+        >
           {dataIssues.map((p) => `${p.field}: ${p.message}`).join("\n")}
         </Notice>
       ) : null}
@@ -283,8 +421,19 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
       {create.error ? <Notice tone="danger">{create.error.message}</Notice> : null}
       {runFit.error ? <Notice tone="danger">{runFit.error.message}</Notice> : null}
       <View style={styles.buttons}>
-        <Button label="Save and run" onPress={() => save(true)} busy={create.isPending || runFit.isPending} testID="save-and-run" />
-        <Button label="Save" variant="secondary" onPress={() => save(false)} busy={create.isPending} testID="save-model" />
+        <Button
+          label="Save and run"
+          onPress={() => save(true)}
+          busy={create.isPending || runFit.isPending}
+          testID="save-and-run"
+        />
+        <Button
+          label="Save"
+          variant="secondary"
+          onPress={() => save(false)}
+          busy={create.isPending}
+          testID="save-model"
+        />
       </View>
     </View>
   );

@@ -15,23 +15,48 @@ export function ModelsScreen(props: { studyId: string }) {
   const writable = can(study.data, "models.write");
   return (
     <View style={styles.root}>
-      {writable ? <Button label="New model" onPress={() => router.push(`/studies/${props.studyId}/models/new` as never)} testID="new-model" style={styles.newButton} /> : null}
+      {writable ? (
+        <Button
+          label="New model"
+          onPress={() => router.push(`/studies/${props.studyId}/models/new` as never)}
+          testID="new-model"
+          style={styles.newButton}
+        />
+      ) : null}
       {models.isPending ? (
         <Pending />
       ) : models.isError ? (
         <Failure error={models.error} onRetry={() => models.refetch()} />
       ) : models.data.length === 0 ? (
         <Empty title="No models yet">
-          <Txt style={{ color: palette.muted, textAlign: "center" }}>A model is a saved question: is the effect there, do groups differ, does it track a trait.</Txt>
+          <Txt style={{ color: palette.muted, textAlign: "center" }}>
+            A model is a saved question: is the effect there, do groups differ, does it track a
+            trait.
+          </Txt>
         </Empty>
       ) : (
-        models.data.map((model) => <ModelCard key={model.id} studyId={props.studyId} model={model} canRun={can(study.data, "fits.run")} />)
+        models.data.map((model) => (
+          <ModelCard
+            key={model.id}
+            studyId={props.studyId}
+            model={model}
+            canRun={can(study.data, "fits.run")}
+          />
+        ))
       )}
     </View>
   );
 }
 
-function ModelCard({ studyId, model, canRun }: { studyId: string; model: ModelView; canRun: boolean }) {
+function ModelCard({
+  studyId,
+  model,
+  canRun,
+}: {
+  studyId: string;
+  model: ModelView;
+  canRun: boolean;
+}) {
   const run = useRunFit(studyId);
   const router = useRouter();
   return (
@@ -54,9 +79,22 @@ function ModelCard({ studyId, model, canRun }: { studyId: string; model: ModelVi
       {run.error ? <Notice tone="danger">{run.error.message}</Notice> : null}
       <View style={styles.actions}>
         {canRun ? (
-          <Button label="Run fit" onPress={() => run.mutate(model.id, { onSuccess: (fit) => router.push(`/studies/${studyId}/fits/${fit.id}` as never) })} busy={run.isPending} testID="run-fit" />
+          <Button
+            label="Run fit"
+            onPress={() =>
+              run.mutate(model.id, {
+                onSuccess: (fit) => router.push(`/studies/${studyId}/fits/${fit.id}` as never),
+              })
+            }
+            busy={run.isPending}
+            testID="run-fit"
+          />
         ) : null}
-        <Button label="See fits" variant="secondary" onPress={() => router.push(`/studies/${studyId}/fits` as never)} />
+        <Button
+          label="See fits"
+          variant="secondary"
+          onPress={() => router.push(`/studies/${studyId}/fits` as never)}
+        />
       </View>
     </Card>
   );
@@ -65,6 +103,11 @@ function ModelCard({ studyId, model, canRun }: { studyId: string; model: ModelVi
 const styles = StyleSheet.create({
   root: { gap: space.md },
   newButton: { alignSelf: "flex-start" },
-  head: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.sm },
+  head: {
+    flexDirection: "row",
+    justifyContent: "space-between",
+    alignItems: "center",
+    gap: space.sm,
+  },
   actions: { flexDirection: "row", flexWrap: "wrap", gap: space.sm },
 });

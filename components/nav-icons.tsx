@@ -9,9 +9,22 @@ export type NavIconName = "studies" | "planner" | "mailbox";
 
 export function NavIcon(props: { name: NavIconName; color: string; size?: number }) {
   const size = props.size ?? 20;
-  const stroke = { stroke: props.color, strokeWidth: 1.8, fill: "none", strokeLinecap: "round", strokeLinejoin: "round" } as const;
+  const stroke = {
+    stroke: props.color,
+    strokeWidth: 1.8,
+    fill: "none",
+    strokeLinecap: "round",
+    strokeLinejoin: "round",
+  } as const;
   return (
-    <Svg width={size} height={size} viewBox="0 0 20 20" accessibilityElementsHidden importantForAccessibility="no" testID={`nav-icon-${props.name}`}>
+    <Svg
+      width={size}
+      height={size}
+      viewBox="0 0 20 20"
+      accessibilityElementsHidden
+      importantForAccessibility="no"
+      testID={`nav-icon-${props.name}`}
+    >
       {props.name === "studies" ? (
         <>
           <Rect x={4} y={3} width={12} height={14} rx={1.5} {...stroke} />

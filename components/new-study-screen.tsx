@@ -15,14 +15,30 @@ export function NewStudyScreen() {
     <View style={styles.root}>
       <Heading>New study</Heading>
       <Card>
-        <Field label="Name" value={name} onChangeText={setName} placeholder="e.g. Load effects, cohort 2" testID="study-name" />
-        <Field label="Description (optional)" value={description} onChangeText={setDescription} multiline style={{ minHeight: 72, paddingTop: space.sm }} />
+        <Field
+          label="Name"
+          value={name}
+          onChangeText={setName}
+          placeholder="e.g. Load effects, cohort 2"
+          testID="study-name"
+        />
+        <Field
+          label="Description (optional)"
+          value={description}
+          onChangeText={setDescription}
+          multiline
+          style={{ minHeight: 72, paddingTop: space.sm }}
+        />
         <View style={styles.switchRow}>
           <View style={{ flexShrink: 1 }}>
             <Txt kind="label">Restrict participant-level rows</Txt>
             <Txt kind="caption">Viewers will see counts and results only.</Txt>
           </View>
-          <Switch value={restricted} onValueChange={setRestricted} accessibilityLabel="Restrict participant-level rows" />
+          <Switch
+            value={restricted}
+            onValueChange={setRestricted}
+            accessibilityLabel="Restrict participant-level rows"
+          />
         </View>
         {create.error ? <Notice tone="danger">{create.error.message}</Notice> : null}
         <Button
@@ -45,5 +61,10 @@ export function NewStudyScreen() {
 
 const styles = StyleSheet.create({
   root: { gap: space.lg },
-  switchRow: { flexDirection: "row", alignItems: "center", justifyContent: "space-between", gap: space.md },
+  switchRow: {
+    flexDirection: "row",
+    alignItems: "center",
+    justifyContent: "space-between",
+    gap: space.md,
+  },
 });

@@ -10,7 +10,9 @@ export function NotFoundScreen() {
       <View style={styles.column}>
         <Wordmark />
         <Heading>Page not found</Heading>
-        <Txt style={{ color: palette.muted }}>There is nothing at this address. It may have moved, or you may not have access to it.</Txt>
+        <Txt style={{ color: palette.muted }}>
+          There is nothing at this address. It may have moved, or you may not have access to it.
+        </Txt>
         <Link href="/studies" style={{ color: palette.focus, fontWeight: "600" }}>
           Go to your studies
         </Link>

@@ -58,7 +58,14 @@ export function PlannerScreen() {
       reliabilityTrait: design === "correlation" ? num(relTrait) : undefined,
       groupRatio: design === "two-group" ? num(ratio) : undefined,
       mode,
-      components: mode === "simulation" ? { measurementNoise: num(noise) ?? Number.NaN, taskDesign: num(taskDesign) ?? Number.NaN, trueDifferences: num(trueDiff) ?? Number.NaN } : undefined,
+      components:
+        mode === "simulation"
+          ? {
+              measurementNoise: num(noise) ?? Number.NaN,
+              taskDesign: num(taskDesign) ?? Number.NaN,
+              trueDifferences: num(trueDiff) ?? Number.NaN,
+            }
+          : undefined,
       trials: mode === "simulation" ? num(trials) : undefined,
     };
     const checked = plannerQuestionSchema.safeParse(question);
@@ -74,51 +81,120 @@ export function PlannerScreen() {
   return (
     <View style={styles.root}>
       <Heading>Planner</Heading>
-      <Txt style={{ color: palette.muted }}>How many participants does the next study need? Unreliable measures shrink the correlation you can observe, so reliability belongs in every plan.</Txt>
+      <Txt style={{ color: palette.muted }}>
+        How many participants does the next study need? Unreliable measures shrink the correlation
+        you can observe, so reliability belongs in every plan.
+      </Txt>
       <View style={styles.columns}>
         <Card style={styles.form}>
-          <Choice label="Question" options={designOptions} value={design} onChange={setDesign} testID="planner-design" />
-          <Field label={design === "correlation" ? "Expected true correlation r" : "Expected standardised difference d"} value={effect} onChangeText={setEffect} inputMode="decimal" testID="planner-effect" />
+          <Choice
+            label="Question"
+            options={designOptions}
+            value={design}
+            onChange={setDesign}
+            testID="planner-design"
+          />
+          <Field
+            label={
+              design === "correlation"
+                ? "Expected true correlation r"
+                : "Expected standardised difference d"
+            }
+            value={effect}
+            onChangeText={setEffect}
+            inputMode="decimal"
+            testID="planner-effect"
+          />
           <View style={styles.pair}>
             <View style={styles.half}>
-              <Field label="Significance level (two-sided)" value={alpha} onChangeText={setAlpha} inputMode="decimal" />
+              <Field
+                label="Significance level (two-sided)"
+                value={alpha}
+                onChangeText={setAlpha}
+                inputMode="decimal"
+              />
             </View>
             <View style={styles.half}>
-              <Field label="Target power" value={power} onChangeText={setPower} inputMode="decimal" />
+              <Field
+                label="Target power"
+                value={power}
+                onChangeText={setPower}
+                inputMode="decimal"
+              />
             </View>
           </View>
-          {design === "two-group" ? <Field label="Second group size ÷ first" value={ratio} onChangeText={setRatio} inputMode="decimal" /> : null}
+          {design === "two-group" ? (
+            <Field
+              label="Second group size ÷ first"
+              value={ratio}
+              onChangeText={setRatio}
+              inputMode="decimal"
+            />
+          ) : null}
           <Choice label="Method" options={modeOptions} value={mode} onChange={setMode} />
           {mode === "formula" ? (
             <View style={styles.pair}>
               <View style={styles.half}>
-                <Field label="Reliability of the brain measure" value={relBrain} onChangeText={setRelBrain} inputMode="decimal" hint="test–retest ICC; blank = perfect" />
+                <Field
+                  label="Reliability of the brain measure"
+                  value={relBrain}
+                  onChangeText={setRelBrain}
+                  inputMode="decimal"
+                  hint="test–retest ICC; blank = perfect"
+                />
               </View>
               {design === "correlation" ? (
                 <View style={styles.half}>
-                  <Field label="Reliability of the trait" value={relTrait} onChangeText={setRelTrait} inputMode="decimal" hint="blank = perfect" />
+                  <Field
+                    label="Reliability of the trait"
+                    value={relTrait}
+                    onChangeText={setRelTrait}
+                    inputMode="decimal"
+                    hint="blank = perfect"
+                  />
                 </View>
               ) : null}
             </View>
           ) : (
             <>
               <Txt kind="small" style={{ color: palette.muted }}>
-                Variances of one participant's value: noise of a single trial, what the task design adds per session, and true differences between people (the effect's unit).
+                Variances of one participant's value: noise of a single trial, what the task design
+                adds per session, and true differences between people (the effect's unit).
               </Txt>
               <View style={styles.pair}>
                 <View style={styles.half}>
-                  <Field label="Trial noise variance" value={noise} onChangeText={setNoise} inputMode="decimal" />
+                  <Field
+                    label="Trial noise variance"
+                    value={noise}
+                    onChangeText={setNoise}
+                    inputMode="decimal"
+                  />
                 </View>
                 <View style={styles.half}>
-                  <Field label="Trials per session" value={trials} onChangeText={setTrials} inputMode="numeric" />
+                  <Field
+                    label="Trials per session"
+                    value={trials}
+                    onChangeText={setTrials}
+                    inputMode="numeric"
+                  />
                 </View>
               </View>
               <View style={styles.pair}>
                 <View style={styles.half}>
-                  <Field label="Task-design variance" value={taskDesign} onChangeText={setTaskDesign} inputMode="decimal" />
+                  <Field
+                    label="Task-design variance"
+                    value={taskDesign}
+                    onChangeText={setTaskDesign}
+                    inputMode="decimal"
+                  />
                 </View>
                 <View style={styles.half}>
-                  <Field label="True-difference variance" value={trueDiff} onChangeText={setTrueDiff} inputMode="decimal" />
+                  <Field
+                    label="True-difference variance"
+                    value={trueDiff}
+                    onChangeText={setTrueDiff}
+                    inputMode="decimal"
+                  />
                 </View>
               </View>
               <Txt kind="caption" style={{ color: palette.muted }}>
@@ -130,13 +206,25 @@ export function PlannerScreen() {
           {planner.error ? <Notice tone="danger">{planner.error.message}</Notice> : null}
           <Button label="Plan the study" onPress={submit} busy={planner.isPending} testID="plan" />
         </Card>
-        <View style={styles.answer}>{planner.data ? <Answer answer={planner.data} design={design} power={num(power) ?? 0.8} /> : null}</View>
+        <View style={styles.answer}>
+          {planner.data ? (
+            <Answer answer={planner.data} design={design} power={num(power) ?? 0.8} />
+          ) : null}
+        </View>
       </View>
     </View>
   );
 }
 
-function Answer({ answer, design, power }: { answer: PlannerAnswer; design: Design; power: number }) {
+function Answer({
+  answer,
+  design,
+  power,
+}: {
+  answer: PlannerAnswer;
+  design: Design;
+  power: number;
+}) {
   const effectName = design === "correlation" ? "r" : "d";
   const sentence =
     design === "two-group" && answer.nPerGroup
@@ -148,16 +236,28 @@ function Answer({ answer, design, power }: { answer: PlannerAnswer; design: Desi
         {sentence} for {Math.round(power * 100)}% power.
       </Txt>
       <Txt kind="small" style={{ color: palette.inkSoft }}>
-        The observable effect through these measures is {effectName} = {answer.observableEffect.toFixed(3)}.
+        The observable effect through these measures is {effectName} ={" "}
+        {answer.observableEffect.toFixed(3)}.
       </Txt>
       {answer.simulation ? (
         <Txt kind="small" style={{ color: palette.inkSoft }}>
           Simulation (reliability {answer.simulation.reliability.toFixed(2)}):{" "}
-          {answer.simulation.n === null ? "no simulated size reached the target power." : `${answer.simulation.n} participants reached the target.`}{" "}
-          {answer.simulation.points.map((p) => `n = ${p.n}: ${(p.power * 100).toFixed(1)}% ± ${(p.se * 100).toFixed(1)}`).join("; ")}.
+          {answer.simulation.n === null
+            ? "no simulated size reached the target power."
+            : `${answer.simulation.n} participants reached the target.`}{" "}
+          {answer.simulation.points
+            .map((p) => `n = ${p.n}: ${(p.power * 100).toFixed(1)}% ± ${(p.se * 100).toFixed(1)}`)
+            .join("; ")}
+          .
         </Txt>
       ) : null}
-      <PowerCurve points={answer.curve} targetPower={power} answerN={answer.n} nLabel="Participants (total)" testID="power-curve" />
+      <PowerCurve
+        points={answer.curve}
+        targetPower={power}
+        answerN={answer.n}
+        nLabel="Participants (total)"
+        testID="power-curve"
+      />
       <Txt kind="caption">Method: {answer.method}.</Txt>
     </Card>
   );

@@ -30,7 +30,8 @@ export function RoleGate(props: RoleGateProps) {
   // The study frame around every study screen shows the pending and error states of the same query.
   if (!study.data) return null;
   if (can(study.data, props.action)) return <>{props.children}</>;
-  const archived = props.changes && study.data.archivedAt !== null && study.data.archivedAt !== undefined;
+  const archived =
+    props.changes && study.data.archivedAt !== null && study.data.archivedAt !== undefined;
   return (
     <Card testID="role-refusal">
       <View style={styles.body} accessibilityRole="alert">
@@ -40,7 +41,9 @@ export function RoleGate(props: RoleGateProps) {
             : `Your role in this study (${roleLabel(study.data.role)}) cannot ${props.doing}.`}
         </Txt>
         <Txt kind="small" style={{ color: palette.inkSoft }}>
-          {archived ? "An Owner can unarchive it under Team." : "An Owner of the study can change your role under Team."}
+          {archived
+            ? "An Owner can unarchive it under Team."
+            : "An Owner of the study can change your role under Team."}
         </Txt>
         <Link href={props.back.href as never} style={styles.link}>
           {props.back.label}

@@ -6,7 +6,13 @@ import { useRouter } from "expo-router";
 import { Wordmark } from "./logo";
 import { Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
-import { useAuthOptions, useDemoSignIn, useEmailSignIn, useInstitutionSignIn, type AuthOptions } from "../hooks/use-auth";
+import {
+  useAuthOptions,
+  useDemoSignIn,
+  useEmailSignIn,
+  useInstitutionSignIn,
+  type AuthOptions,
+} from "../hooks/use-auth";
 import { meKeys } from "../hooks/use-me";
 import { researchUseCaution } from "../server/model/cautions";
 
@@ -24,10 +30,17 @@ export function SignInScreen(props: { error?: string }) {
       <View style={styles.column}>
         <Wordmark size={26} />
         <Txt kind="lead" style={styles.tagline}>
-          Relate each participant's brain contrast values to who they are — with numbers you can defend.
+          Relate each participant's brain contrast values to who they are — with numbers you can
+          defend.
         </Txt>
         {props.error ? <Notice tone="danger">{props.error}</Notice> : null}
-        {options.isPending ? <Pending /> : options.isError ? <Failure error={options.error} onRetry={() => options.refetch()} /> : <Methods options={options.data} />}
+        {options.isPending ? (
+          <Pending />
+        ) : options.isError ? (
+          <Failure error={options.error} onRetry={() => options.refetch()} />
+        ) : (
+          <Methods options={options.data} />
+        )}
         <Txt kind="caption">{researchUseCaution}</Txt>
       </View>
     </ScrollView>
@@ -37,14 +50,31 @@ export function SignInScreen(props: { error?: string }) {
 function Methods({ options }: { options: AuthOptions }) {
   return (
     <View style={{ gap: space.lg }}>
-      {options.email ? <EmailSignIn providerId={options.email.providerId} mailbox={options.mailbox} /> : null}
-      {options.institution ? <InstitutionSignIn providerId={options.institution.providerId} name={options.institution.name} /> : null}
+      {options.email ? (
+        <EmailSignIn providerId={options.email.providerId} mailbox={options.mailbox} />
+      ) : null}
+      {options.institution ? (
+        <InstitutionSignIn
+          providerId={options.institution.providerId}
+          name={options.institution.name}
+        />
+      ) : null}
       {options.demoAccounts.length > 0 ? <DemoAccounts accounts={options.demoAccounts} /> : null}
     </View>
   );
 }
 
-export function EmailSignIn({ providerId, mailbox, initialEmail = "", callbackPath }: { providerId: string; mailbox: boolean; initialEmail?: string; callbackPath?: string }) {
+export function EmailSignIn({
+  providerId,
+  mailbox,
+  initialEmail = "",
+  callbackPath,
+}: {
+  providerId: string;
+  mailbox: boolean;
+  initialEmail?: string;
+  callbackPath?: string;
+}) {
   const [email, setEmail] = useState(initialEmail);
   const [invalid, setInvalid] = useState<string | null>(null);
   const signIn = useEmailSignIn(providerId, callbackPath);
@@ -86,7 +116,12 @@ export function EmailSignIn({ providerId, mailbox, initialEmail = "", callbackPa
         onSubmitEditing={submit}
         testID="email-input"
       />
-      <Button label="Send sign-in link" onPress={submit} busy={signIn.isPending} testID="send-link" />
+      <Button
+        label="Send sign-in link"
+        onPress={submit}
+        busy={signIn.isPending}
+        testID="send-link"
+      />
     </Card>
   );
 }
@@ -100,7 +135,13 @@ function InstitutionSignIn({ providerId, name }: { providerId: string; name: str
         Use your institution's account — {name}.
       </Txt>
       {signIn.error ? <Notice tone="danger">{signIn.error.message}</Notice> : null}
-      <Button label={`Continue with ${name}`} variant="secondary" onPress={() => signIn.mutate()} busy={signIn.isPending} testID="institution-sign-in" />
+      <Button
+        label={`Continue with ${name}`}
+        variant="secondary"
+        onPress={() => signIn.mutate()}
+        busy={signIn.isPending}
+        testID="institution-sign-in"
+      />
     </Card>
   );
 }
@@ -113,7 +154,8 @@ function DemoAccounts({ accounts }: { accounts: AuthOptions["demoAccounts"] }) {
     <Card testID="demo-accounts">
       <Heading level={2}>Demo accounts</Heading>
       <Txt kind="small" style={{ color: palette.muted }}>
-        This server runs in demo mode with an invented study. One tap signs you in as one of its team.
+        This server runs in demo mode with an invented study. One tap signs you in as one of its
+        team.
       </Txt>
       {signIn.error ? <Notice tone="danger">{signIn.error.message}</Notice> : null}
       {accounts.map((account) => (
@@ -133,7 +175,11 @@ function DemoAccounts({ accounts }: { accounts: AuthOptions["demoAccounts"] }) {
           busy={signIn.isPending && signIn.variables === account.email}
         />
       ))}
-      <Txt kind="caption">{Object.entries(roleBlurb).map(([role, text]) => `${role}: ${text}`).join(" · ")}</Txt>
+      <Txt kind="caption">
+        {Object.entries(roleBlurb)
+          .map(([role, text]) => `${role}: ${text}`)
+          .join(" · ")}
+      </Txt>
     </Card>
   );
 }

@@ -2,7 +2,13 @@ import { Pressable, StyleSheet, View } from "react-native";
 import { useRouter } from "expo-router";
 import { Badge, Button, Card, Empty, Failure, Heading, Notice, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
-import { useDeletedStudies, useRestoreStudy, useStudies, type DeletedStudy, type StudySummary } from "../hooks/use-studies";
+import {
+  useDeletedStudies,
+  useRestoreStudy,
+  useStudies,
+  type DeletedStudy,
+  type StudySummary,
+} from "../hooks/use-studies";
 import { dateWords } from "../server/model/dates";
 
 export function StudiesScreen() {
@@ -12,7 +18,12 @@ export function StudiesScreen() {
     <View style={styles.root}>
       <View style={styles.titleRow}>
         <Heading>Studies</Heading>
-        <Button label="New study" variant="secondary" onPress={() => router.push("/studies/new" as never)} testID="new-study" />
+        <Button
+          label="New study"
+          variant="secondary"
+          onPress={() => router.push("/studies/new" as never)}
+          testID="new-study"
+        />
       </View>
       {studies.isPending ? (
         <Pending label="Loading your studies…" />
@@ -21,7 +32,8 @@ export function StudiesScreen() {
       ) : studies.data.length === 0 ? (
         <Empty title="No studies yet">
           <Txt style={{ color: palette.muted, textAlign: "center" }}>
-            A study is your team's workspace for one cohort. Create one, or ask a study's Owner to invite you.
+            A study is your team's workspace for one cohort. Create one, or ask a study's Owner to
+            invite you.
           </Txt>
         </Empty>
       ) : (
@@ -44,7 +56,8 @@ function RecentlyDeleted() {
     <View style={styles.list} testID="recently-deleted">
       <Heading level={2}>Recently deleted</Heading>
       <Txt kind="small" style={{ color: palette.muted }}>
-        Studies you own that were deleted. Restore brings each back for every member with everything it held, activity included.
+        Studies you own that were deleted. Restore brings each back for every member with everything
+        it held, activity included.
       </Txt>
       {deleted.data.map((study) => (
         <DeletedCard key={study.id} study={study} />
@@ -66,7 +79,8 @@ function DeletedCard({ study }: { study: DeletedStudy }) {
       </View>
       <Txt kind="small" style={{ color: palette.inkSoft }}>
         Deleted {dateWords(study.deletedAt)}
-        {study.deletedBy?.name ? ` by ${study.deletedBy.name}` : ""} · can be restored until {dateWords(study.restorableUntil)}
+        {study.deletedBy?.name ? ` by ${study.deletedBy.name}` : ""} · can be restored until{" "}
+        {dateWords(study.restorableUntil)}
       </Txt>
       {restore.error ? <Notice tone="danger">{restore.error.message}</Notice> : null}
       <Button
@@ -74,7 +88,11 @@ function DeletedCard({ study }: { study: DeletedStudy }) {
         variant="secondary"
         accessibilityLabel={`Restore ${study.name}`}
         busy={restore.isPending}
-        onPress={() => restore.mutate(study.id, { onSuccess: () => router.push(`/studies/${study.id}` as never) })}
+        onPress={() =>
+          restore.mutate(study.id, {
+            onSuccess: () => router.push(`/studies/${study.id}` as never),
+          })
+        }
         style={{ alignSelf: "flex-start" }}
         testID="restore-study"
       />
@@ -85,26 +103,34 @@ function DeletedCard({ study }: { study: DeletedStudy }) {
 function StudyCard({ study }: { study: StudySummary }) {
   const router = useRouter();
   return (
-    <Pressable accessibilityRole="link" accessibilityLabel={`${study.name}, your role: ${study.role}${study.archivedAt ? ", archived" : ""}`} onPress={() => router.push(`/studies/${study.id}` as never)}>
-        <Card testID="study-card">
-          <View style={styles.cardHead}>
-            <Txt kind="lead" style={styles.name}>
-              {study.name}
-            </Txt>
-            <View style={styles.badges}>
-              {study.archivedAt ? <Badge label="Archived" /> : null}
-              <Badge label={roleLabel(study.role)} tone={study.role === "owner" ? "accent" : "neutral"} />
-            </View>
-          </View>
-          {study.description ? (
-            <Txt kind="small" style={{ color: palette.muted }} numberOfLines={2}>
-              {study.description}
-            </Txt>
-          ) : null}
-          <Txt kind="small" style={{ color: palette.inkSoft }}>
-            {count(study.counts.participants, "participant")} · {count(study.counts.members, "member")} · {count(study.counts.models, "model")} ·{" "}
-            {count(study.counts.fits, "fit")}
+    <Pressable
+      accessibilityRole="link"
+      accessibilityLabel={`${study.name}, your role: ${study.role}${study.archivedAt ? ", archived" : ""}`}
+      onPress={() => router.push(`/studies/${study.id}` as never)}
+    >
+      <Card testID="study-card">
+        <View style={styles.cardHead}>
+          <Txt kind="lead" style={styles.name}>
+            {study.name}
           </Txt>
+          <View style={styles.badges}>
+            {study.archivedAt ? <Badge label="Archived" /> : null}
+            <Badge
+              label={roleLabel(study.role)}
+              tone={study.role === "owner" ? "accent" : "neutral"}
+            />
+          </View>
+        </View>
+        {study.description ? (
+          <Txt kind="small" style={{ color: palette.muted }} numberOfLines={2}>
+            {study.description}
+          </Txt>
+        ) : null}
+        <Txt kind="small" style={{ color: palette.inkSoft }}>
+          {count(study.counts.participants, "participant")} ·{" "}
+          {count(study.counts.members, "member")} · {count(study.counts.models, "model")} ·{" "}
+          {count(study.counts.fits, "fit")}
+        </Txt>
       </Card>
     </Pressable>
   );
@@ -121,8 +147,18 @@ function count(n: number, noun: string): string {
 const styles = StyleSheet.create({
   root: { gap: space.lg },
   list: { gap: space.md },
-  titleRow: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.md },
-  cardHead: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.sm },
+  titleRow: {
+    flexDirection: "row",
+    justifyContent: "space-between",
+    alignItems: "center",
+    gap: space.md,
+  },
+  cardHead: {
+    flexDirection: "row",
+    justifyContent: "space-between",
+    alignItems: "center",
+    gap: space.sm,
+  },
   name: { flexShrink: 1, fontWeight: "600" },
   badges: { flexDirection: "row", gap: space.xs },
 });

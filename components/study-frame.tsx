@@ -26,8 +26,16 @@ export function StudyFrame(props: { studyId: string; children: ReactNode }) {
   const router = useRouter();
   if (study.isPending) return <Pending label="Loading the study…" />;
   // Unknown, deleted or not yours: the server answers 404 alike, and trying again cannot help.
-  if (study.isError && study.error instanceof ApiError && study.error.status === 404) return <StudyNotFound />;
-  if (study.isError) return <Failure error={study.error} title="This study could not be opened" onRetry={() => study.refetch()} />;
+  if (study.isError && study.error instanceof ApiError && study.error.status === 404)
+    return <StudyNotFound />;
+  if (study.isError)
+    return (
+      <Failure
+        error={study.error}
+        title="This study could not be opened"
+        onRetry={() => study.refetch()}
+      />
+    );
   const base = `/studies/${props.studyId}`;
   const visible = sections.filter((s) => can(study.data, s.action));
   return (
@@ -36,14 +44,20 @@ export function StudyFrame(props: { studyId: string; children: ReactNode }) {
         <Txt kind="headline" accessibilityRole="header" style={styles.name}>
           {study.data.name}
         </Txt>
-        <Badge label={`You: ${roleLabel(study.data.role)}`} tone={study.data.role === "owner" ? "accent" : "neutral"} />
+        <Badge
+          label={`You: ${roleLabel(study.data.role)}`}
+          tone={study.data.role === "owner" ? "accent" : "neutral"}
+        />
         {study.data.restricted ? <Badge label="Participant rows restricted" tone="danger" /> : null}
         {study.data.archivedAt ? <Badge label="Archived — read only" tone="accent" /> : null}
       </View>
       {study.data.archivedAt ? (
         <Notice tone="caution" title="Archived — read only" testID="archived-notice">
-          This study was archived on {dateWords(study.data.archivedAt)}. Everything in it can be read and exported; nothing can be changed
-          by any member. {study.data.role === "owner" ? "You can unarchive it under Team." : "An Owner can unarchive it."}
+          This study was archived on {dateWords(study.data.archivedAt)}. Everything in it can be
+          read and exported; nothing can be changed by any member.{" "}
+          {study.data.role === "owner"
+            ? "You can unarchive it under Team."
+            : "An Owner can unarchive it."}
         </Notice>
       ) : null}
       {study.data.description ? (
@@ -51,7 +65,12 @@ export function StudyFrame(props: { studyId: string; children: ReactNode }) {
           {study.data.description}
         </Txt>
       ) : null}
-      <ScrollView horizontal showsHorizontalScrollIndicator={false} contentContainerStyle={styles.tabs} accessibilityRole="tablist">
+      <ScrollView
+        horizontal
+        showsHorizontalScrollIndicator={false}
+        contentContainerStyle={styles.tabs}
+        accessibilityRole="tablist"
+      >
         {visible.map((section) => {
           const href = `${base}/${section.path}`;
           const active = pathname === href || pathname.startsWith(`${href}/`);
@@ -79,7 +98,10 @@ function StudyNotFound() {
       <Txt kind="headline" accessibilityRole="header">
         Study not found
       </Txt>
-      <Txt style={{ color: palette.muted }}>There is no study at this address that you belong to. It may have been deleted, or you may not have been invited to it.</Txt>
+      <Txt style={{ color: palette.muted }}>
+        There is no study at this address that you belong to. It may have been deleted, or you may
+        not have been invited to it.
+      </Txt>
       <Link href="/studies" style={styles.link}>
         Go to your studies
       </Link>
@@ -93,7 +115,16 @@ const styles = StyleSheet.create({
   head: { flexDirection: "row", flexWrap: "wrap", alignItems: "center", gap: space.sm },
   name: { flexShrink: 1 },
   tabs: { gap: space.xs, paddingVertical: space.xs },
-  tab: { minHeight: 44, justifyContent: "center", paddingHorizontal: space.md, paddingVertical: space.sm, borderRadius: radius.pill, borderWidth: 1, borderColor: palette.line, backgroundColor: palette.surface },
+  tab: {
+    minHeight: 44,
+    justifyContent: "center",
+    paddingHorizontal: space.md,
+    paddingVertical: space.sm,
+    borderRadius: radius.pill,
+    borderWidth: 1,
+    borderColor: palette.line,
+    backgroundColor: palette.surface,
+  },
   tabActive: { backgroundColor: palette.ink, borderColor: palette.ink },
   tabText: { fontFamily: fonts.semibold, fontSize: type.small, color: palette.inkSoft },
   tabTextActive: { color: palette.onInk },

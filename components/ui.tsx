@@ -4,12 +4,40 @@
  * the theme module only.
  */
 import type { ReactNode } from "react";
-import { ActivityIndicator, Pressable, StyleSheet, Text, TextInput, View, type StyleProp, type TextInputProps, type TextStyle, type ViewStyle } from "react-native";
+import {
+  ActivityIndicator,
+  Pressable,
+  StyleSheet,
+  Text,
+  TextInput,
+  View,
+  type StyleProp,
+  type TextInputProps,
+  type TextStyle,
+  type ViewStyle,
+} from "react-native";
 import { fonts, palette, radius, space, type } from "./theme";
 
-type TextKind = "display" | "headline" | "title" | "lead" | "body" | "small" | "caption" | "label" | "mono";
+type TextKind =
+  | "display"
+  | "headline"
+  | "title"
+  | "lead"
+  | "body"
+  | "small"
+  | "caption"
+  | "label"
+  | "mono";
 
-export function Txt(props: { kind?: TextKind; children: ReactNode; style?: StyleProp<TextStyle>; numberOfLines?: number; accessibilityRole?: "header" | "text" | "alert"; selectable?: boolean; testID?: string }) {
+export function Txt(props: {
+  kind?: TextKind;
+  children: ReactNode;
+  style?: StyleProp<TextStyle>;
+  numberOfLines?: number;
+  accessibilityRole?: "header" | "text" | "alert";
+  selectable?: boolean;
+  testID?: string;
+}) {
   const { kind = "body", children, style, ...rest } = props;
   return (
     <Text {...rest} style={[styles.text, textStyles[kind], style]}>
@@ -18,10 +46,18 @@ export function Txt(props: { kind?: TextKind; children: ReactNode; style?: Style
   );
 }
 
-export function Heading(props: { children: ReactNode; level?: 1 | 2 | 3; style?: StyleProp<TextStyle> }) {
+export function Heading(props: {
+  children: ReactNode;
+  level?: 1 | 2 | 3;
+  style?: StyleProp<TextStyle>;
+}) {
   const kind: TextKind = props.level === 3 ? "lead" : props.level === 2 ? "title" : "headline";
   return (
-    <Txt kind={kind} accessibilityRole="header" style={[props.level === 3 ? styles.h3 : null, props.style]}>
+    <Txt
+      kind={kind}
+      accessibilityRole="header"
+      style={[props.level === 3 ? styles.h3 : null, props.style]}
+    >
       {props.children}
     </Txt>
   );
@@ -47,15 +83,31 @@ export function Button(props: {
       testID={props.testID}
       disabled={inactive}
       onPress={onPress}
-      style={({ pressed }) => [styles.button, buttonStyles[variant], inactive && styles.buttonDisabled, pressed && styles.buttonPressed, style]}
+      style={({ pressed }) => [
+        styles.button,
+        buttonStyles[variant],
+        inactive && styles.buttonDisabled,
+        pressed && styles.buttonPressed,
+        style,
+      ]}
     >
-      {busy ? <ActivityIndicator size="small" color={variant === "primary" ? palette.onInk : palette.ink} style={styles.spinner} /> : null}
+      {busy ? (
+        <ActivityIndicator
+          size="small"
+          color={variant === "primary" ? palette.onInk : palette.ink}
+          style={styles.spinner}
+        />
+      ) : null}
       <Text style={[styles.buttonLabel, buttonLabelStyles[variant]]}>{label}</Text>
     </Pressable>
   );
 }
 
-export function Card(props: { children: ReactNode; style?: StyleProp<ViewStyle>; testID?: string }) {
+export function Card(props: {
+  children: ReactNode;
+  style?: StyleProp<ViewStyle>;
+  testID?: string;
+}) {
   return (
     <View style={[styles.card, props.style]} testID={props.testID}>
       {props.children}
@@ -63,7 +115,9 @@ export function Card(props: { children: ReactNode; style?: StyleProp<ViewStyle>;
   );
 }
 
-export function Field(props: TextInputProps & { label: string; hint?: string; error?: string | null }) {
+export function Field(
+  props: TextInputProps & { label: string; hint?: string; error?: string | null },
+) {
   const { label, hint, error, style, ...input } = props;
   return (
     <View style={styles.field}>
@@ -108,7 +162,9 @@ export function Failure(props: { error: unknown; onRetry?: () => void; title?: s
       <Txt kind="small" style={styles.hint}>
         {message}
       </Txt>
-      {props.onRetry ? <Button label="Try again" variant="secondary" onPress={props.onRetry} /> : null}
+      {props.onRetry ? (
+        <Button label="Try again" variant="secondary" onPress={props.onRetry} />
+      ) : null}
     </View>
   );
 }
@@ -122,10 +178,19 @@ export function Empty(props: { title: string; children?: ReactNode }) {
   );
 }
 
-export function Notice(props: { tone?: "info" | "caution" | "danger" | "success"; title?: string; children: ReactNode; testID?: string }) {
+export function Notice(props: {
+  tone?: "info" | "caution" | "danger" | "success";
+  title?: string;
+  children: ReactNode;
+  testID?: string;
+}) {
   const tone = props.tone ?? "info";
   return (
-    <View style={[styles.notice, noticeStyles[tone]]} testID={props.testID} accessibilityRole="summary">
+    <View
+      style={[styles.notice, noticeStyles[tone]]}
+      testID={props.testID}
+      accessibilityRole="summary"
+    >
       {props.title ? <Txt kind="label">{props.title}</Txt> : null}
       <Txt kind="small" style={{ color: palette.inkSoft }}>
         {props.children}
@@ -134,7 +199,10 @@ export function Notice(props: { tone?: "info" | "caution" | "danger" | "success"
   );
 }
 
-export function Badge(props: { label: string; tone?: "neutral" | "accent" | "danger" | "success" }) {
+export function Badge(props: {
+  label: string;
+  tone?: "neutral" | "accent" | "danger" | "success";
+}) {
   const tone = props.tone ?? "neutral";
   return (
     <View style={[styles.badge, badgeStyles[tone]]}>
@@ -185,7 +253,12 @@ const styles = StyleSheet.create({
   state: { padding: space.xl, alignItems: "center", gap: space.md },
   failure: { backgroundColor: palette.dangerSoft, borderRadius: radius.lg },
   notice: { borderRadius: radius.md, padding: space.md, gap: space.xs, borderLeftWidth: 4 },
-  badge: { borderRadius: radius.pill, paddingHorizontal: space.sm, paddingVertical: 2, alignSelf: "flex-start" },
+  badge: {
+    borderRadius: radius.pill,
+    paddingHorizontal: space.sm,
+    paddingVertical: 2,
+    alignSelf: "flex-start",
+  },
   badgeText: { fontFamily: fonts.semibold, fontSize: type.caption, color: palette.ink },
 });
 

@@ -36,12 +36,20 @@ const trackers = new WeakMap<object, Tracker>();
 
 /** A plain read: SELECT (or a parenthesized one) without a row lock. Anything else counts as a write. */
 export function isPlainRead(statement: string): boolean {
-  return /^[\s(]*select\b/i.test(statement) && !/\bfor\s+(update|no\s+key\s+update|share|key\s+share)\b/i.test(statement);
+  return (
+    /^[\s(]*select\b/i.test(statement) &&
+    !/\bfor\s+(update|no\s+key\s+update|share|key\s+share)\b/i.test(statement)
+  );
 }
 
 /** Deep-freezes a JSON-like value (arrays and plain objects; Dates are left as they are). */
 export function deepFreeze<T>(value: T): T {
-  if (value !== null && typeof value === "object" && !Object.isFrozen(value) && !(value instanceof Date)) {
+  if (
+    value !== null &&
+    typeof value === "object" &&
+    !Object.isFrozen(value) &&
+    !(value instanceof Date)
+  ) {
     Object.freeze(value);
     for (const v of Object.values(value)) deepFreeze(v);
   }
@@ -58,20 +66,23 @@ export function trackWrites(pg: PGlite, db: object): void {
   const wrote = () => tracker.entries.clear();
   const around =
     // biome-ignore lint/suspicious/noExplicitAny: wraps PGlite's generic methods whatever their arguments
-    (run: (...args: any[]) => Promise<unknown>, isWrite: (first: unknown) => boolean) =>
-    async (...args: unknown[]): Promise<unknown> => {
-      if (!isWrite(args[0])) return run(...args);
-      wrote();
-      try {
-        return await run(...args);
-      } finally {
+      (run: (...args: any[]) => Promise<unknown>, isWrite: (first: unknown) => boolean) =>
+      async (...args: unknown[]): Promise<unknown> => {
+        if (!isWrite(args[0])) return run(...args);
         wrote();
-      }
-    };
+        try {
+          return await run(...args);
+        } finally {
+          wrote();
+        }
+      };
   const query = pg.query.bind(pg);
   const exec = pg.exec.bind(pg);
   const transaction = pg.transaction.bind(pg);
-  pg.query = around(query, (statement) => typeof statement !== "string" || !isPlainRead(statement)) as typeof pg.query;
+  pg.query = around(
+    query,
+    (statement) => typeof statement !== "string" || !isPlainRead(statement),
+  ) as typeof pg.query;
   // exec may carry several statements: always a write.
   pg.exec = around(exec, () => true) as typeof pg.exec;
   pg.transaction = around(transaction, () => true) as typeof pg.transaction;

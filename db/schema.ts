@@ -12,7 +12,20 @@
  * committed under db/migrations.
  */
 import { sql } from "drizzle-orm";
-import { type AnyPgColumn, boolean, check, doublePrecision, index, integer, jsonb, pgTable, primaryKey, text, timestamp, uniqueIndex } from "drizzle-orm/pg-core";
+import {
+  type AnyPgColumn,
+  boolean,
+  check,
+  doublePrecision,
+  index,
+  integer,
+  jsonb,
+  pgTable,
+  primaryKey,
+  text,
+  timestamp,
+  uniqueIndex,
+} from "drizzle-orm/pg-core";
 
 export const roles = ["owner", "analyst", "reviewer", "viewer"] as const;
 export type Role = (typeof roles)[number];
@@ -21,7 +34,8 @@ const id = () =>
   text("id")
     .primaryKey()
     .$defaultFn(() => crypto.randomUUID());
-const createdAt = () => timestamp("created_at", { mode: "date", withTimezone: true }).notNull().defaultNow();
+const createdAt = () =>
+  timestamp("created_at", { mode: "date", withTimezone: true }).notNull().defaultNow();
 
 export const users = pgTable("users", {
   id: id(),
@@ -232,7 +246,9 @@ export const datasetVersions = pgTable(
     seSuffix: text("se_suffix"),
     columns: jsonb("columns").$type<StoredColumn[]>().notNull(),
     droppedColumns: jsonb("dropped_columns").$type<string[]>().notNull(),
-    identifierDecisions: jsonb("identifier_decisions").$type<IdentifierDecisionRecord[]>().notNull(),
+    identifierDecisions: jsonb("identifier_decisions")
+      .$type<IdentifierDecisionRecord[]>()
+      .notNull(),
     rowCount: integer("row_count").notNull(),
     participantCount: integer("participant_count").notNull(),
     uploadedBy: text("uploaded_by")
@@ -339,10 +355,11 @@ export const models = pgTable(
   },
   (t) => [
     index("models_study_idx").on(t.studyId),
-    uniqueIndex("models_study_name_idx")
-      .on(t.studyId, t.name)
-      .where(sql`${t.deletedAt} is null`),
-    check("models_region_selection_check", sql`${t.regionSelection} in ('anatomical-or-prior', 'independent-data', 'same-data')`),
+    uniqueIndex("models_study_name_idx").on(t.studyId, t.name).where(sql`${t.deletedAt} is null`),
+    check(
+      "models_region_selection_check",
+      sql`${t.regionSelection} in ('anatomical-or-prior', 'independent-data', 'same-data')`,
+    ),
   ],
 );
 
@@ -392,7 +409,10 @@ export const fits = pgTable(
   (t) => [
     index("fits_study_idx").on(t.studyId, t.createdAt),
     index("fits_status_idx").on(t.status),
-    check("fits_status_check", sql`${t.status} in ('queued', 'running', 'done', 'failed', 'cancelled')`),
+    check(
+      "fits_status_check",
+      sql`${t.status} in ('queued', 'running', 'done', 'failed', 'cancelled')`,
+    ),
   ],
 );
 
@@ -452,7 +472,10 @@ export const fitRegions = pgTable(
     /** What the region's plots draw (server/stats/region-plot.ts), or { error }, as JSON text. */
     plot: text("plot"),
   },
-  (t) => [primaryKey({ columns: [t.fitId, t.position] }), uniqueIndex("fit_regions_region_idx").on(t.fitId, t.region)],
+  (t) => [
+    primaryKey({ columns: [t.fitId, t.position] }),
+    uniqueIndex("fit_regions_region_idx").on(t.fitId, t.region),
+  ],
 );
 
 export type FitRegionRow = typeof fitRegions.$inferSelect;

@@ -32,12 +32,18 @@ export async function apiFetch<T>(path: string, init: RequestInit = {}): Promise
   try {
     response = await fetch(`${apiBase}${path}`, { credentials: "include", ...init, headers });
   } catch {
-    throw new ApiError(0, "network", "Covarion's server could not be reached. Check your connection and try again.");
+    throw new ApiError(
+      0,
+      "network",
+      "Covarion's server could not be reached. Check your connection and try again.",
+    );
   }
   const text = await response.text();
   const body: unknown = text ? safeJson(text) : null;
   if (!response.ok) {
-    const envelope = (body as { error?: { code?: string; message?: string; details?: unknown } } | null)?.error;
+    const envelope = (
+      body as { error?: { code?: string; message?: string; details?: unknown } } | null
+    )?.error;
     // A validation failure is said in sentences, without field paths (the details keep them).
     const plain = envelope?.code === "validation_failed" ? validationWords(envelope.details) : null;
     throw new ApiError(
@@ -51,7 +57,10 @@ export async function apiFetch<T>(path: string, init: RequestInit = {}): Promise
 }
 
 /** JSON body helper for mutations. */
-export function jsonBody(method: "POST" | "PATCH" | "PUT" | "DELETE", value?: unknown): RequestInit {
+export function jsonBody(
+  method: "POST" | "PATCH" | "PUT" | "DELETE",
+  value?: unknown,
+): RequestInit {
   return value === undefined ? { method } : { method, body: JSON.stringify(value) };
 }
 

@@ -20,7 +20,8 @@ export interface ActivityFilter {
 
 export const activityKeys = {
   all: (studyId: string) => ["activity", studyId] as const,
-  list: (studyId: string, filter: ActivityFilter) => [...activityKeys.all(studyId), filter.person ?? "", filter.kind ?? ""] as const,
+  list: (studyId: string, filter: ActivityFilter) =>
+    [...activityKeys.all(studyId), filter.person ?? "", filter.kind ?? ""] as const,
 };
 
 export const activityQueryOptions = (studyId: string, filter: ActivityFilter) =>
@@ -31,7 +32,9 @@ export const activityQueryOptions = (studyId: string, filter: ActivityFilter) =>
       if (filter.person) query.set("person", filter.person);
       if (filter.kind) query.set("kind", filter.kind);
       const suffix = query.toString() ? `?${query}` : "";
-      return apiFetch<ActivityEvent[]>(`/api/studies/${encodeURIComponent(studyId)}/activity${suffix}`);
+      return apiFetch<ActivityEvent[]>(
+        `/api/studies/${encodeURIComponent(studyId)}/activity${suffix}`,
+      );
     },
   });
 

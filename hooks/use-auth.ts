@@ -45,7 +45,11 @@ async function authAction(action: string, fields: Record<string, string>): Promi
   });
   const payload = (await response.json().catch(() => null)) as { url?: string } | null;
   if (!response.ok || !payload?.url) {
-    throw new ApiError(response.status, "sign_in_failed", "Sign-in could not be started. Try again in a moment.");
+    throw new ApiError(
+      response.status,
+      "sign_in_failed",
+      "Sign-in could not be started. Try again in a moment.",
+    );
   }
   const url = new URL(payload.url, window.location.origin);
   const error = url.searchParams.get("error");
@@ -68,14 +72,20 @@ export function describeAuthError(code: string): string {
 
 export function useEmailSignIn(providerId: string, callbackPath = "/studies") {
   return useMutation({
-    mutationFn: (email: string) => authAction(`signin/${providerId}`, { email, callbackUrl: `${window.location.origin}${callbackPath}` }),
+    mutationFn: (email: string) =>
+      authAction(`signin/${providerId}`, {
+        email,
+        callbackUrl: `${window.location.origin}${callbackPath}`,
+      }),
   });
 }
 
 export function useInstitutionSignIn(providerId: string) {
   return useMutation({
     mutationFn: async () => {
-      const next = await authAction(`signin/${providerId}`, { callbackUrl: `${window.location.origin}/studies` });
+      const next = await authAction(`signin/${providerId}`, {
+        callbackUrl: `${window.location.origin}/studies`,
+      });
       window.location.assign(next);
     },
   });
@@ -84,7 +94,11 @@ export function useInstitutionSignIn(providerId: string) {
 export function useDemoSignIn() {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (email: string) => apiFetch<unknown>("/api/dev/demo-sign-in", { method: "POST", body: JSON.stringify({ email }) }),
+    mutationFn: (email: string) =>
+      apiFetch<unknown>("/api/dev/demo-sign-in", {
+        method: "POST",
+        body: JSON.stringify({ email }),
+      }),
     onSuccess: () => client.invalidateQueries({ queryKey: meKeys.all }),
   });
 }
@@ -93,7 +107,8 @@ export function useDemoSignIn() {
 export function useSignOut(returnTo = "/sign-in") {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: () => authAction("signout", { callbackUrl: `${window.location.origin}${returnTo}` }),
+    mutationFn: () =>
+      authAction("signout", { callbackUrl: `${window.location.origin}${returnTo}` }),
     onSuccess: () => {
       client.clear();
       window.location.assign(returnTo);

@@ -14,10 +14,22 @@ import { rosterKeys } from "./use-roster";
 import { studyKeys } from "./use-studies";
 import type { DatasetKind, IdentifierDecisionRecord, StoredColumn } from "../db/schema";
 import type { IdentifierKind } from "../server/intake/identifiers";
-import type { DatasetView as DatasetVersion, PersonRef, RowsPage } from "../server/services/datasets";
+import type {
+  DatasetView as DatasetVersion,
+  PersonRef,
+  RowsPage,
+} from "../server/services/datasets";
 
 // The API's own view types, shared with the server (type-only: nothing of the server reaches the bundle).
-export type { DatasetKind, DatasetVersion, IdentifierDecisionRecord, IdentifierKind, PersonRef, RowsPage, StoredColumn };
+export type {
+  DatasetKind,
+  DatasetVersion,
+  IdentifierDecisionRecord,
+  IdentifierKind,
+  PersonRef,
+  RowsPage,
+  StoredColumn,
+};
 
 /** One problem of an uploaded file; `message` already names the file, row and column. */
 export interface IntakeProblem {
@@ -76,7 +88,12 @@ export interface DatasetPreview {
   problems: IntakeProblem[];
   problemCount: number;
   identifierColumns: { column: string; kind: IdentifierKind; reason: string }[];
-  options: { idColumn?: string; seSuffix?: string; layout?: "wide" | "long"; sessionColumn?: string | null };
+  options: {
+    idColumn?: string;
+    seSuffix?: string;
+    layout?: "wide" | "long";
+    sessionColumn?: string | null;
+  };
   uploadedBy: PersonRef;
   uploadedAt: string;
   expiresAt: string;
@@ -108,7 +125,8 @@ export interface ConfirmInput {
 export const datasetKeys = {
   all: (studyId: string) => ["datasets", studyId] as const,
   list: (studyId: string) => [...datasetKeys.all(studyId), "list"] as const,
-  detail: (studyId: string, datasetId: string, offset: number, limit: number) => [...datasetKeys.all(studyId), "detail", datasetId, offset, limit] as const,
+  detail: (studyId: string, datasetId: string, offset: number, limit: number) =>
+    [...datasetKeys.all(studyId), "detail", datasetId, offset, limit] as const,
 };
 
 const base = (studyId: string) => `/api/studies/${encodeURIComponent(studyId)}/datasets`;
@@ -119,10 +137,18 @@ export const datasetsQueryOptions = (studyId: string) =>
     queryFn: () => apiFetch<(DatasetVersion | DatasetPreview)[]>(base(studyId)),
   });
 
-export const datasetQueryOptions = (studyId: string, datasetId: string, offset: number, limit: number) =>
+export const datasetQueryOptions = (
+  studyId: string,
+  datasetId: string,
+  offset: number,
+  limit: number,
+) =>
   queryOptions({
     queryKey: datasetKeys.detail(studyId, datasetId, offset, limit),
-    queryFn: () => apiFetch<DatasetWithRows>(`${base(studyId)}/${encodeURIComponent(datasetId)}?offset=${offset}&limit=${limit}`),
+    queryFn: () =>
+      apiFetch<DatasetWithRows>(
+        `${base(studyId)}/${encodeURIComponent(datasetId)}?offset=${offset}&limit=${limit}`,
+      ),
   });
 
 /** Every version and live preview of the study, newest first. */
@@ -150,7 +176,8 @@ export function uploadForm(input: UploadInput): FormData {
 export function useUploadDataset(studyId: string) {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (input: UploadInput) => apiFetch<DatasetPreview>(base(studyId), { method: "POST", body: uploadForm(input) }),
+    mutationFn: (input: UploadInput) =>
+      apiFetch<DatasetPreview>(base(studyId), { method: "POST", body: uploadForm(input) }),
     onSuccess: () => client.invalidateQueries({ queryKey: datasetKeys.all(studyId) }),
   });
 }
@@ -160,7 +187,10 @@ export function useConfirmDataset(studyId: string) {
   const client = useQueryClient();
   return useMutation({
     mutationFn: ({ datasetId, ...decisions }: ConfirmInput) =>
-      apiFetch<DatasetVersion>(`${base(studyId)}/${encodeURIComponent(datasetId)}/confirm`, jsonBody("POST", decisions)),
+      apiFetch<DatasetVersion>(
+        `${base(studyId)}/${encodeURIComponent(datasetId)}/confirm`,
+        jsonBody("POST", decisions),
+      ),
     onSuccess: async () => {
       await Promise.all([
         client.invalidateQueries({ queryKey: datasetKeys.all(studyId) }),

@@ -37,7 +37,8 @@ export function useFitMethods(fitId: string, enabled: boolean) {
 function usePublishAction(fitId: string, studyId: string, action: "approve" | "seal") {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: () => apiFetch<FitView>(`/api/fits/${encodeURIComponent(fitId)}/${action}`, jsonBody("POST", {})),
+    mutationFn: () =>
+      apiFetch<FitView>(`/api/fits/${encodeURIComponent(fitId)}/${action}`, jsonBody("POST", {})),
     onSuccess: async (fit) => {
       client.setQueryData(fitKeys.detail(fitId), fit);
       await client.invalidateQueries({ queryKey: fitKeys.all });

@@ -8,16 +8,23 @@ export type { ModelView };
 export const modelKeys = {
   all: (studyId: string) => ["models", studyId] as const,
   list: (studyId: string) => [...modelKeys.all(studyId), "list"] as const,
-  detail: (studyId: string, modelId: string) => [...modelKeys.all(studyId), "detail", modelId] as const,
+  detail: (studyId: string, modelId: string) =>
+    [...modelKeys.all(studyId), "detail", modelId] as const,
 };
 
 const base = (studyId: string) => `/api/studies/${encodeURIComponent(studyId)}/models`;
 
 export const modelsQueryOptions = (studyId: string) =>
-  queryOptions({ queryKey: modelKeys.list(studyId), queryFn: () => apiFetch<ModelView[]>(base(studyId)) });
+  queryOptions({
+    queryKey: modelKeys.list(studyId),
+    queryFn: () => apiFetch<ModelView[]>(base(studyId)),
+  });
 
 export const modelQueryOptions = (studyId: string, modelId: string) =>
-  queryOptions({ queryKey: modelKeys.detail(studyId, modelId), queryFn: () => apiFetch<ModelView>(`${base(studyId)}/${encodeURIComponent(modelId)}`) });
+  queryOptions({
+    queryKey: modelKeys.detail(studyId, modelId),
+    queryFn: () => apiFetch<ModelView>(`${base(studyId)}/${encodeURIComponent(modelId)}`),
+  });
 
 export function useModels(studyId: string) {
   return useQuery(modelsQueryOptions(studyId));
@@ -30,7 +37,8 @@ export function useModel(studyId: string, modelId: string) {
 export function useCreateModel(studyId: string) {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (input: ModelCreateInput) => apiFetch<ModelView>(base(studyId), jsonBody("POST", input)),
+    mutationFn: (input: ModelCreateInput) =>
+      apiFetch<ModelView>(base(studyId), jsonBody("POST", input)),
     onSuccess: async () => {
       await client.invalidateQueries({ queryKey: modelKeys.all(studyId) });
       await client.invalidateQueries({ queryKey: studyKeys.all });
@@ -41,7 +49,8 @@ export function useCreateModel(studyId: string) {
 export function useDeleteModel(studyId: string) {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (modelId: string) => apiFetch<void>(`${base(studyId)}/${encodeURIComponent(modelId)}`, { method: "DELETE" }),
+    mutationFn: (modelId: string) =>
+      apiFetch<void>(`${base(studyId)}/${encodeURIComponent(modelId)}`, { method: "DELETE" }),
     onSuccess: () => client.invalidateQueries({ queryKey: modelKeys.all(studyId) }),
   });
 }
@@ -68,9 +77,13 @@ export const modelInputsQueryOptions = (studyId: string) =>
   queryOptions({
     queryKey: ["datasets", studyId, "model-inputs"] as const,
     queryFn: async (): Promise<ModelInputs> => {
-      const list = await apiFetch<DatasetListItem[]>(`/api/studies/${encodeURIComponent(studyId)}/datasets`);
+      const list = await apiFetch<DatasetListItem[]>(
+        `/api/studies/${encodeURIComponent(studyId)}/datasets`,
+      );
       const brain = list.find((d) => d.kind === "brain" && d.status === "confirmed" && d.current);
-      const sheet = list.find((d) => d.kind === "participants" && d.status === "confirmed" && d.current);
+      const sheet = list.find(
+        (d) => d.kind === "participants" && d.status === "confirmed" && d.current,
+      );
       const variables = (sheet?.columns ?? []).filter((c) => c.role === "variable");
       return {
         regions: brain?.regions ?? [],
@@ -92,9 +105,9 @@ export function useColumnLevels(studyId: string, column: string | undefined) {
     queryKey: ["roster", studyId, "levels", column ?? ""] as const,
     enabled: Boolean(column),
     queryFn: async (): Promise<string[]> => {
-      const page = await apiFetch<{ rows: { items: { values: Record<string, string | number | null> }[] } | null }>(
-        `/api/studies/${encodeURIComponent(studyId)}/roster?limit=1000&status=matched`,
-      );
+      const page = await apiFetch<{
+        rows: { items: { values: Record<string, string | number | null> }[] } | null;
+      }>(`/api/studies/${encodeURIComponent(studyId)}/roster?limit=1000&status=matched`);
       const levels = new Set<string>();
       for (const row of page.rows?.items ?? []) {
         const v = row.values[column as string];

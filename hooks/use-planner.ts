@@ -7,6 +7,7 @@ export type { PlannerAnswer, PlannerQuestionInput };
 /** Asks the server's planner; a computation, so a mutation rather than a cached read. */
 export function usePlanner() {
   return useMutation({
-    mutationFn: (question: PlannerQuestionInput) => apiFetch<PlannerAnswer>("/api/planner", jsonBody("POST", question)),
+    mutationFn: (question: PlannerQuestionInput) =>
+      apiFetch<PlannerAnswer>("/api/planner", jsonBody("POST", question)),
   });
 }

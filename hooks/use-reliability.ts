@@ -13,14 +13,21 @@ import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/r
 import { ApiError, apiFetch, jsonBody } from "./api";
 import { activityKeys } from "./use-activity";
 import { fitKeys } from "./use-fits";
-import type { BrainReliabilityView, IccInterval, RegionReliability, TraitReliabilityInput, TraitReliabilityView } from "../server/services/reliability";
-
+import type {
+  BrainReliabilityView,
+  IccInterval,
+  RegionReliability,
+  TraitReliabilityInput,
+  TraitReliabilityView,
+} from "../server/services/reliability";
 
 export type { IccInterval, RegionReliability, TraitReliabilityInput };
 export type BrainReliability = BrainReliabilityView;
 export type TraitReliability = TraitReliabilityView;
 
-export type BrainReliabilityState = { available: true; reliability: BrainReliability } | { available: false; reason: string };
+export type BrainReliabilityState =
+  | { available: true; reliability: BrainReliability }
+  | { available: false; reason: string };
 
 export const reliabilityKeys = {
   all: (studyId: string) => ["reliability", studyId] as const,
@@ -31,9 +38,15 @@ export const reliabilityKeys = {
 const base = (studyId: string) => `/api/studies/${encodeURIComponent(studyId)}`;
 
 /** Reads the brain reliability; a 409 (no sessions to compare) becomes `{ available: false, reason }`. */
-export async function fetchBrainReliability(studyId: string, fetcher = apiFetch): Promise<BrainReliabilityState> {
+export async function fetchBrainReliability(
+  studyId: string,
+  fetcher = apiFetch,
+): Promise<BrainReliabilityState> {
   try {
-    return { available: true, reliability: await fetcher<BrainReliability>(`${base(studyId)}/reliability`) };
+    return {
+      available: true,
+      reliability: await fetcher<BrainReliability>(`${base(studyId)}/reliability`),
+    };
   } catch (e) {
     if (e instanceof ApiError && e.status === 409) return { available: false, reason: e.message };
     throw e;
@@ -41,7 +54,10 @@ export async function fetchBrainReliability(studyId: string, fetcher = apiFetch)
 }
 
 export const brainReliabilityQueryOptions = (studyId: string) =>
-  queryOptions({ queryKey: reliabilityKeys.brain(studyId), queryFn: () => fetchBrainReliability(studyId) });
+  queryOptions({
+    queryKey: reliabilityKeys.brain(studyId),
+    queryFn: () => fetchBrainReliability(studyId),
+  });
 
 export const traitReliabilitiesQueryOptions = (studyId: string) =>
   queryOptions({
@@ -61,7 +77,11 @@ export function useTraitReliabilities(studyId: string) {
 export function useSaveTraitReliabilities(studyId: string) {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (entries: TraitReliabilityInput[]) => apiFetch<TraitReliability[]>(`${base(studyId)}/trait-reliabilities`, jsonBody("PUT", entries)),
+    mutationFn: (entries: TraitReliabilityInput[]) =>
+      apiFetch<TraitReliability[]>(
+        `${base(studyId)}/trait-reliabilities`,
+        jsonBody("PUT", entries),
+      ),
     onSuccess: async (saved) => {
       client.setQueryData(reliabilityKeys.traits(studyId), saved);
       await Promise.all([

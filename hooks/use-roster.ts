@@ -73,12 +73,16 @@ const base = (studyId: string) => `/api/studies/${encodeURIComponent(studyId)}/r
 
 /** Reads the report with the first page, then the remaining pages in order. */
 export async function fetchWholeRoster(studyId: string, fetchPage = apiFetch): Promise<Roster> {
-  const first = await fetchPage<RosterReport & { rows: RosterPage | null }>(`${base(studyId)}?offset=0&limit=${ROSTER_PAGE}`);
+  const first = await fetchPage<RosterReport & { rows: RosterPage | null }>(
+    `${base(studyId)}?offset=0&limit=${ROSTER_PAGE}`,
+  );
   const { rows: page, ...report } = first;
   if (page === null) return { report, rows: null };
   const rows = [...page.items];
   while (rows.length < page.total) {
-    const next = await fetchPage<RosterReport & { rows: RosterPage | null }>(`${base(studyId)}?offset=${rows.length}&limit=${ROSTER_PAGE}`);
+    const next = await fetchPage<RosterReport & { rows: RosterPage | null }>(
+      `${base(studyId)}?offset=${rows.length}&limit=${ROSTER_PAGE}`,
+    );
     if (next.rows === null || next.rows.items.length === 0) break;
     rows.push(...next.rows.items);
   }
@@ -96,7 +100,8 @@ export function useRoster(studyId: string) {
 export function useConfirmMappings(studyId: string) {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (mappings: { brainId: string; sheetId: string }[]) => apiFetch<RosterReport>(`${base(studyId)}/mappings`, jsonBody("POST", { mappings })),
+    mutationFn: (mappings: { brainId: string; sheetId: string }[]) =>
+      apiFetch<RosterReport>(`${base(studyId)}/mappings`, jsonBody("POST", { mappings })),
     onSuccess: async () => {
       await Promise.all([
         client.invalidateQueries({ queryKey: rosterKeys.all(studyId) }),

@@ -20,7 +20,11 @@ export const setAsideKeys = {
 const listPath = (studyId: string) => `/api/studies/${encodeURIComponent(studyId)}/set-asides`;
 
 /** Every set-aside of the study, newest first, restored ones included. */
-export const setAsidesQueryOptions = (studyId: string) => queryOptions({ queryKey: setAsideKeys.list(studyId), queryFn: () => apiFetch<SetAsideView[]>(listPath(studyId)) });
+export const setAsidesQueryOptions = (studyId: string) =>
+  queryOptions({
+    queryKey: setAsideKeys.list(studyId),
+    queryFn: () => apiFetch<SetAsideView[]>(listPath(studyId)),
+  });
 
 export function useSetAsides(studyId: string, enabled = true) {
   return useQuery({ ...setAsidesQueryOptions(studyId), enabled });
@@ -38,7 +42,8 @@ function useInvalidateAfterChange(studyId: string) {
 export function useSetAside(studyId: string) {
   const invalidate = useInvalidateAfterChange(studyId);
   return useMutation({
-    mutationFn: (input: { participant: string; region?: string; reason: string }) => apiFetch<SetAsideView>(listPath(studyId), jsonBody("POST", input)),
+    mutationFn: (input: { participant: string; region?: string; reason: string }) =>
+      apiFetch<SetAsideView>(listPath(studyId), jsonBody("POST", input)),
     onSuccess: invalidate,
   });
 }
@@ -48,7 +53,10 @@ export function useRestoreSetAside(studyId: string) {
   const invalidate = useInvalidateAfterChange(studyId);
   return useMutation({
     mutationFn: (input: { setAsideId: string; reason: string }) =>
-      apiFetch<SetAsideView>(`${listPath(studyId)}/${encodeURIComponent(input.setAsideId)}`, jsonBody("DELETE", { reason: input.reason })),
+      apiFetch<SetAsideView>(
+        `${listPath(studyId)}/${encodeURIComponent(input.setAsideId)}`,
+        jsonBody("DELETE", { reason: input.reason }),
+      ),
     onSuccess: invalidate,
   });
 }

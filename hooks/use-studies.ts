@@ -36,7 +36,11 @@ export function useDeletedStudies() {
 export function useRestoreStudy() {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (studyId: string) => apiFetch<StudyDetail>(`/api/studies/${encodeURIComponent(studyId)}/restore`, jsonBody("POST", {})),
+    mutationFn: (studyId: string) =>
+      apiFetch<StudyDetail>(
+        `/api/studies/${encodeURIComponent(studyId)}/restore`,
+        jsonBody("POST", {}),
+      ),
     onSuccess: () => client.invalidateQueries(),
   });
 }

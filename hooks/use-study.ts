@@ -24,7 +24,8 @@ export function can(study: Pick<StudyDetail, "capabilities"> | undefined, action
 export function useCreateStudy() {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (input: { name: string; description?: string; restricted?: boolean }) => apiFetch<StudyDetail>("/api/studies", jsonBody("POST", input)),
+    mutationFn: (input: { name: string; description?: string; restricted?: boolean }) =>
+      apiFetch<StudyDetail>("/api/studies", jsonBody("POST", input)),
     onSuccess: () => client.invalidateQueries({ queryKey: studyKeys.all }),
   });
 }
@@ -33,7 +34,10 @@ export function useUpdateStudy(studyId: string) {
   const client = useQueryClient();
   return useMutation({
     mutationFn: (changes: StudyChanges) =>
-      apiFetch<StudyDetail>(`/api/studies/${encodeURIComponent(studyId)}`, jsonBody("PATCH", changes)),
+      apiFetch<StudyDetail>(
+        `/api/studies/${encodeURIComponent(studyId)}`,
+        jsonBody("PATCH", changes),
+      ),
     onSuccess: () => client.invalidateQueries({ queryKey: studyKeys.all }),
   });
 }
@@ -41,9 +45,17 @@ export function useUpdateStudy(studyId: string) {
 export function useDeleteStudy(studyId: string) {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (confirmation: string) => apiFetch<void>(`/api/studies/${encodeURIComponent(studyId)}`, jsonBody("DELETE", { confirm: confirmation })),
+    mutationFn: (confirmation: string) =>
+      apiFetch<void>(
+        `/api/studies/${encodeURIComponent(studyId)}`,
+        jsonBody("DELETE", { confirm: confirmation }),
+      ),
     // The lists change; the study's own queries are left alone (read again they would answer "not found" while the screen leaves).
-    onSuccess: () => Promise.all([client.invalidateQueries({ queryKey: studyKeys.list() }), client.invalidateQueries({ queryKey: studyKeys.deleted() })]),
+    onSuccess: () =>
+      Promise.all([
+        client.invalidateQueries({ queryKey: studyKeys.list() }),
+        client.invalidateQueries({ queryKey: studyKeys.deleted() }),
+      ]),
   });
 }
 
@@ -51,7 +63,11 @@ export function useDeleteStudy(studyId: string) {
 export function useArchiveStudy(studyId: string) {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: () => apiFetch<StudyDetail>(`/api/studies/${encodeURIComponent(studyId)}/archive`, jsonBody("POST", {})),
+    mutationFn: () =>
+      apiFetch<StudyDetail>(
+        `/api/studies/${encodeURIComponent(studyId)}/archive`,
+        jsonBody("POST", {}),
+      ),
     onSuccess: () => client.invalidateQueries({ queryKey: studyKeys.all }),
   });
 }
@@ -60,7 +76,11 @@ export function useArchiveStudy(studyId: string) {
 export function useUnarchiveStudy(studyId: string) {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: () => apiFetch<StudyDetail>(`/api/studies/${encodeURIComponent(studyId)}/unarchive`, jsonBody("POST", {})),
+    mutationFn: () =>
+      apiFetch<StudyDetail>(
+        `/api/studies/${encodeURIComponent(studyId)}/unarchive`,
+        jsonBody("POST", {}),
+      ),
     onSuccess: () => client.invalidateQueries({ queryKey: studyKeys.all }),
   });
 }

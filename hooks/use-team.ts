@@ -40,13 +40,22 @@ export const teamKeys = {
 const base = (studyId: string) => `/api/studies/${encodeURIComponent(studyId)}`;
 
 export const membersQueryOptions = (studyId: string) =>
-  queryOptions({ queryKey: teamKeys.members(studyId), queryFn: () => apiFetch<Member[]>(`${base(studyId)}/members`) });
+  queryOptions({
+    queryKey: teamKeys.members(studyId),
+    queryFn: () => apiFetch<Member[]>(`${base(studyId)}/members`),
+  });
 
 export const invitationsQueryOptions = (studyId: string) =>
-  queryOptions({ queryKey: teamKeys.invitations(studyId), queryFn: () => apiFetch<PendingInvitation[]>(`${base(studyId)}/invitations`) });
+  queryOptions({
+    queryKey: teamKeys.invitations(studyId),
+    queryFn: () => apiFetch<PendingInvitation[]>(`${base(studyId)}/invitations`),
+  });
 
 export const invitationPreviewQueryOptions = (token: string) =>
-  queryOptions({ queryKey: teamKeys.invitation(token), queryFn: () => apiFetch<InvitationPreview>(`/api/invitations/${encodeURIComponent(token)}`) });
+  queryOptions({
+    queryKey: teamKeys.invitation(token),
+    queryFn: () => apiFetch<InvitationPreview>(`/api/invitations/${encodeURIComponent(token)}`),
+  });
 
 export function useMembers(studyId: string) {
   return useQuery(membersQueryOptions(studyId));
@@ -60,7 +69,10 @@ export function useInvitationPreview(token: string) {
   return useQuery(invitationPreviewQueryOptions(token));
 }
 
-function useTeamMutation<TInput, TResult>(studyId: string, run: (input: TInput) => Promise<TResult>) {
+function useTeamMutation<TInput, TResult>(
+  studyId: string,
+  run: (input: TInput) => Promise<TResult>,
+) {
   const client = useQueryClient();
   return useMutation({
     mutationFn: run,
@@ -73,27 +85,42 @@ function useTeamMutation<TInput, TResult>(studyId: string, run: (input: TInput) 
 }
 
 export function useInvite(studyId: string) {
-  return useTeamMutation(studyId, (input: { email: string; role: Role }) => apiFetch<PendingInvitation>(`${base(studyId)}/invitations`, jsonBody("POST", input)));
+  return useTeamMutation(studyId, (input: { email: string; role: Role }) =>
+    apiFetch<PendingInvitation>(`${base(studyId)}/invitations`, jsonBody("POST", input)),
+  );
 }
 
 export function useRevokeInvitation(studyId: string) {
-  return useTeamMutation(studyId, (invitationId: string) => apiFetch<void>(`${base(studyId)}/invitations/${encodeURIComponent(invitationId)}`, { method: "DELETE" }));
+  return useTeamMutation(studyId, (invitationId: string) =>
+    apiFetch<void>(`${base(studyId)}/invitations/${encodeURIComponent(invitationId)}`, {
+      method: "DELETE",
+    }),
+  );
 }
 
 export function useChangeRole(studyId: string) {
   return useTeamMutation(studyId, (input: { userId: string; role: Role }) =>
-    apiFetch<Member>(`${base(studyId)}/members/${encodeURIComponent(input.userId)}`, jsonBody("PATCH", { role: input.role })),
+    apiFetch<Member>(
+      `${base(studyId)}/members/${encodeURIComponent(input.userId)}`,
+      jsonBody("PATCH", { role: input.role }),
+    ),
   );
 }
 
 export function useRemoveMember(studyId: string) {
-  return useTeamMutation(studyId, (userId: string) => apiFetch<void>(`${base(studyId)}/members/${encodeURIComponent(userId)}`, { method: "DELETE" }));
+  return useTeamMutation(studyId, (userId: string) =>
+    apiFetch<void>(`${base(studyId)}/members/${encodeURIComponent(userId)}`, { method: "DELETE" }),
+  );
 }
 
 export function useAcceptInvitation(token: string) {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: () => apiFetch<{ studyId: string; role: Role }>(`/api/invitations/${encodeURIComponent(token)}/accept`, { method: "POST" }),
+    mutationFn: () =>
+      apiFetch<{ studyId: string; role: Role }>(
+        `/api/invitations/${encodeURIComponent(token)}/accept`,
+        { method: "POST" },
+      ),
     onSuccess: () => client.invalidateQueries({ queryKey: studyKeys.all }),
   });
 }

@@ -28,7 +28,11 @@ const fieldWords: Record<string, string> = {
 /** `regionSelection` → "the region selection"; list indexes are skipped. */
 export function fieldName(field: string): string {
   // The request part (body, query) and list indexes are not names a person knows.
-  const parts = field.split(".").filter((p, i) => p !== "" && !/^\d+$/.test(p) && !(i === 0 && /^(body|query|params)$/.test(p)));
+  const parts = field
+    .split(".")
+    .filter(
+      (p, i) => p !== "" && !/^\d+$/.test(p) && !(i === 0 && /^(body|query|params)$/.test(p)),
+    );
   const last = parts[parts.length - 1] ?? "";
   if (fieldWords[last]) return fieldWords[last];
   const words = last.replace(/([a-z0-9])([A-Z])/g, "$1 $2").toLowerCase();
@@ -38,7 +42,8 @@ export function fieldName(field: string): string {
 /** One sentence for one detail. */
 export function validationSentence(detail: ValidationDetail): string {
   const parts = detail.field.split(".");
-  if (parts[0] === "params") return "The address of this page is not valid. Go back and open it again from the list.";
+  if (parts[0] === "params")
+    return "The address of this page is not valid. Go back and open it again from the list.";
   const last = parts.filter((p) => !/^\d+$/.test(p)).pop() ?? "";
   if (fieldSentences[last]) return fieldSentences[last];
   const message = detail.message.trim().replace(/\.$/, "");
@@ -46,14 +51,18 @@ export function validationSentence(detail: ValidationDetail): string {
   if (/^(must|is|are|should)\b/.test(message)) return sentence(`${name} ${message}`);
   if (/^(give|type|enter|choose|pick|use)\b/.test(message)) return sentence(message);
   // A message that names its field in code ("groupRatio must be above 0").
-  if (last && message.startsWith(`${last} `)) return sentence(`${name} ${message.slice(last.length + 1)}`);
+  if (last && message.startsWith(`${last} `))
+    return sentence(`${name} ${message.slice(last.length + 1)}`);
   return sentence(`Check ${name}: ${message}`);
 }
 
 /** The sentences for every detail, each once, or null when `details` is not a list of field details. */
 export function validationWords(details: unknown): string | null {
   if (!Array.isArray(details) || details.length === 0) return null;
-  const valid = details.filter((d): d is ValidationDetail => !!d && typeof d === "object" && typeof d.field === "string" && typeof d.message === "string");
+  const valid = details.filter(
+    (d): d is ValidationDetail =>
+      !!d && typeof d === "object" && typeof d.field === "string" && typeof d.message === "string",
+  );
   if (valid.length === 0) return null;
   return [...new Set(valid.map(validationSentence))].join(" ");
 }

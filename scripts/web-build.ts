@@ -9,7 +9,17 @@ import { fileURLToPath } from "node:url";
 
 export const projectRoot = resolve(dirname(fileURLToPath(import.meta.url)), "..");
 
-const sources = ["app", "components", "hooks", "assets", "public", "server/model", "app.json", "package.json", "package-lock.json"];
+const sources = [
+  "app",
+  "components",
+  "hooks",
+  "assets",
+  "public",
+  "server/model",
+  "app.json",
+  "package.json",
+  "package-lock.json",
+];
 
 function newestMtime(path: string): number {
   if (!existsSync(path)) return 0;
@@ -29,7 +39,10 @@ export function webBuildIsStale(root = projectRoot): boolean {
 }
 
 /** Exports the web app when stale; throws if the export fails. */
-export function ensureWebBuild(root = projectRoot, log: (line: string) => void = console.log): void {
+export function ensureWebBuild(
+  root = projectRoot,
+  log: (line: string) => void = console.log,
+): void {
   if (!webBuildIsStale(root)) return;
   log("Building the web app (expo export)…");
   const result = spawnSync("npx", ["expo", "export", "--platform", "web", "--output-dir", "dist"], {
@@ -37,7 +50,8 @@ export function ensureWebBuild(root = projectRoot, log: (line: string) => void =
     stdio: ["ignore", "inherit", "inherit"],
     env: { ...process.env, CI: "1", EXPO_NO_TELEMETRY: "1" },
   });
-  if (result.status !== 0) throw new Error(`The web export failed with exit code ${result.status}.`);
+  if (result.status !== 0)
+    throw new Error(`The web export failed with exit code ${result.status}.`);
 }
 
 if (process.argv[1] && resolve(process.argv[1]) === fileURLToPath(import.meta.url)) {

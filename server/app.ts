@@ -74,12 +74,16 @@ export interface AppDeps {
   fitJobs?: FitJobs;
 }
 
-export const version: string = (JSON.parse(readFileSync(join(root, "package.json"), "utf8")) as { version: string }).version;
+export const version: string = (
+  JSON.parse(readFileSync(join(root, "package.json"), "utf8")) as { version: string }
+).version;
 
 export function createApp(deps: AppDeps): Express {
   const { config, db } = deps;
   const clock = deps.clock ?? (() => new Date());
-  const log = deps.log ?? ((error: unknown, context: string) => console.error(`[covarion] ${context}:`, error));
+  const log =
+    deps.log ??
+    ((error: unknown, context: string) => console.error(`[covarion] ${context}:`, error));
   const institution = deps.institution ?? null;
   const routeDeps: RouteDeps = {
     db,
@@ -131,16 +135,34 @@ export function createApp(deps: AppDeps): Express {
   // 400 regions compresses in ~8 ms instead of ~19 ms, ~7 % larger). The web build keeps the default.
   const apiCompression = compression({ level: 1 });
   const fileCompression = compression();
-  app.use((req, res, next) => (req.path.startsWith("/api/") ? apiCompression : fileCompression)(req, res, next));
+  app.use((req, res, next) =>
+    (req.path.startsWith("/api/") ? apiCompression : fileCompression)(req, res, next),
+  );
   app.use("/api", sameOrigin(hostPolicy));
 
-  const signInBody = [express.urlencoded({ extended: false, limit: "16kb" }), express.json({ limit: "16kb" })];
+  const signInBody = [
+    express.urlencoded({ extended: false, limit: "16kb" }),
+    express.json({ limit: "16kb" }),
+  ];
   const signInLimits = limitByIpAndAddress("sign-in e-mail", config.rateLimit, (req) => {
     const email = (req.body as { email?: unknown } | undefined)?.email;
     return typeof email === "string" && email.trim() ? email.trim().toLowerCase() : null;
   });
   app.post(`/api/auth/signin/${emailProviderId}`, ...signInBody, ...signInLimits);
-  app.use("/api/auth", pinToPublicUrl(config.publicUrl), ExpressAuth(authConfig({ db, mailer: deps.mailer, institution, secret: config.secrets.authSecret, secureCookies: https, log })));
+  app.use(
+    "/api/auth",
+    pinToPublicUrl(config.publicUrl),
+    ExpressAuth(
+      authConfig({
+        db,
+        mailer: deps.mailer,
+        institution,
+        secret: config.secrets.authSecret,
+        secureCookies: https,
+        log,
+      }),
+    ),
+  );
 
   app.use("/api", express.json({ limit: config.bodyLimit }), loadSession(db, clock));
   app.use("/api", systemRoutes(routeDeps));

@@ -43,7 +43,10 @@ const envSchema = z.object({
   OIDC_CLIENT_ID: z.string().min(1).optional(),
   OIDC_CLIENT_SECRET: z.string().min(1).optional(),
   OIDC_NAME: z.string().min(1).default("Institution"),
-  BODY_LIMIT: z.string().regex(/^\d+(b|kb|mb)$/i, "a size such as 1mb or 200kb").default("1mb"),
+  BODY_LIMIT: z
+    .string()
+    .regex(/^\d+(b|kb|mb)$/i, "a size such as 1mb or 200kb")
+    .default("1mb"),
   RATE_LIMIT_WINDOW_MINUTES: positiveInt.default(15),
   RATE_LIMIT_PER_ADDRESS: positiveInt.default(5),
   RATE_LIMIT_PER_IP: positiveInt.default(30),
@@ -94,7 +97,9 @@ export function loadConfig(env: Env = process.env): Config {
   if (!parsed.success) {
     const issue = parsed.error.issues[0];
     const name = String(issue?.path[0] ?? "environment");
-    throw new ConfigError(`Configuration error: ${name} ${describeIssue(issue)} (got ${JSON.stringify(env[name] ?? null)}). See .env.example.`);
+    throw new ConfigError(
+      `Configuration error: ${name} ${describeIssue(issue)} (got ${JSON.stringify(env[name] ?? null)}). See .env.example.`,
+    );
   }
   const e = parsed.data;
   const production = e.NODE_ENV === "production";
@@ -102,20 +107,28 @@ export function loadConfig(env: Env = process.env): Config {
   try {
     mkdirSync(dataDir, { recursive: true });
   } catch (error) {
-    throw new ConfigError(`Configuration error: DATA_DIR ${dataDir} cannot be created (${(error as Error).message}).`);
+    throw new ConfigError(
+      `Configuration error: DATA_DIR ${dataDir} cannot be created (${(error as Error).message}).`,
+    );
   }
   const stored = loadOrCreateSecrets(dataDir);
   const secrets: Secrets = { ...stored, authSecret: e.AUTH_SECRET ?? stored.authSecret };
 
   if (production && !e.PUBLIC_URL) {
-    throw new ConfigError("Configuration error: PUBLIC_URL is required when NODE_ENV=production (sign-in links are built from it and requests addressed to another host are refused). See .env.example.");
+    throw new ConfigError(
+      "Configuration error: PUBLIC_URL is required when NODE_ENV=production (sign-in links are built from it and requests addressed to another host are refused). See .env.example.",
+    );
   }
   if (production && !e.SMTP_URL) {
-    throw new ConfigError("Configuration error: SMTP_URL is required when NODE_ENV=production (e-mail sign-in and invitations need a mail server). See .env.example.");
+    throw new ConfigError(
+      "Configuration error: SMTP_URL is required when NODE_ENV=production (e-mail sign-in and invitations need a mail server). See .env.example.",
+    );
   }
   const oidcParts = [e.OIDC_ISSUER, e.OIDC_CLIENT_ID, e.OIDC_CLIENT_SECRET];
   if (oidcParts.some(Boolean) && !oidcParts.every(Boolean)) {
-    throw new ConfigError("Configuration error: OIDC_ISSUER, OIDC_CLIENT_ID and OIDC_CLIENT_SECRET must be given together. See .env.example.");
+    throw new ConfigError(
+      "Configuration error: OIDC_ISSUER, OIDC_CLIENT_ID and OIDC_CLIENT_SECRET must be given together. See .env.example.",
+    );
   }
   if (e.REQUEST_TIMEOUT_SECONDS < e.REQUEST_IDLE_TIMEOUT_SECONDS) {
     throw new ConfigError(
@@ -124,7 +137,12 @@ export function loadConfig(env: Env = process.env): Config {
   }
   const oidc =
     e.OIDC_ISSUER && e.OIDC_CLIENT_ID && e.OIDC_CLIENT_SECRET
-      ? { issuer: e.OIDC_ISSUER, clientId: e.OIDC_CLIENT_ID, clientSecret: e.OIDC_CLIENT_SECRET, name: e.OIDC_NAME }
+      ? {
+          issuer: e.OIDC_ISSUER,
+          clientId: e.OIDC_CLIENT_ID,
+          clientSecret: e.OIDC_CLIENT_SECRET,
+          name: e.OIDC_NAME,
+        }
       : null;
 
   return {
@@ -134,7 +152,9 @@ export function loadConfig(env: Env = process.env): Config {
     host: e.HOST,
     dataDir,
     databaseDir: join(dataDir, "db"),
-    publicUrl: (e.PUBLIC_URL ?? `http://${e.HOST.includes(":") ? `[${e.HOST}]` : e.HOST}:${e.PORT}`).replace(/\/+$/, ""),
+    publicUrl: (
+      e.PUBLIC_URL ?? `http://${e.HOST.includes(":") ? `[${e.HOST}]` : e.HOST}:${e.PORT}`
+    ).replace(/\/+$/, ""),
     demo: e.DEMO ?? !production,
     devServices: !production,
     trustProxy: parseTrustProxy(e.TRUST_PROXY),
@@ -148,7 +168,10 @@ export function loadConfig(env: Env = process.env): Config {
       perAddress: e.RATE_LIMIT_PER_ADDRESS,
       perIp: e.RATE_LIMIT_PER_IP,
     },
-    requestTimeouts: { idleMs: Math.round(e.REQUEST_IDLE_TIMEOUT_SECONDS * 1000), totalMs: Math.round(e.REQUEST_TIMEOUT_SECONDS * 1000) },
+    requestTimeouts: {
+      idleMs: Math.round(e.REQUEST_IDLE_TIMEOUT_SECONDS * 1000),
+      totalMs: Math.round(e.REQUEST_TIMEOUT_SECONDS * 1000),
+    },
     secrets,
   };
 }
@@ -186,11 +209,15 @@ function loadOrCreateSecrets(dataDir: string): Secrets {
     try {
       raw = JSON.parse(readFileSync(file, "utf8"));
     } catch (error) {
-      throw new ConfigError(`Configuration error: ${file} is not valid JSON (${(error as Error).message}); remove it to generate new secrets.`);
+      throw new ConfigError(
+        `Configuration error: ${file} is not valid JSON (${(error as Error).message}); remove it to generate new secrets.`,
+      );
     }
     const result = secretsSchema.safeParse(raw);
     if (!result.success) {
-      throw new ConfigError(`Configuration error: ${file} field ${result.error.issues[0]?.path.join(".")} is invalid; remove the file to generate new secrets.`);
+      throw new ConfigError(
+        `Configuration error: ${file} field ${result.error.issues[0]?.path.join(".")} is invalid; remove the file to generate new secrets.`,
+      );
     }
     return result.data;
   }

@@ -64,7 +64,10 @@ async function main(): Promise<void> {
     await migrateDatabase(database.db);
     // A dataset version left half-stored by a stop in the middle of an upload is never read; remove it now.
     const leftovers = await removeIncompleteVersions(database.db);
-    if (leftovers > 0) console.log(`Covarion: removed ${leftovers} dataset version(s) left incomplete by an interrupted upload.`);
+    if (leftovers > 0)
+      console.log(
+        `Covarion: removed ${leftovers} dataset version(s) left incomplete by an interrupted upload.`,
+      );
     if (config.demo) {
       const seeded = await seedDemo(database.db, { now: new Date(), seedDemoDatasets });
       if (seeded.seeded) console.log("Covarion: created the demo people and demo study.");
@@ -85,15 +88,22 @@ async function main(): Promise<void> {
       server?.once("listening", resolve);
       server?.once("error", reject);
     });
-    console.log(`Covarion is running at ${config.publicUrl} (data in ${config.dataDir}${config.demo ? ", demo mode" : ""}).`);
+    console.log(
+      `Covarion is running at ${config.publicUrl} (data in ${config.dataDir}${config.demo ? ", demo mode" : ""}).`,
+    );
     if (services.mailFake) console.log(`Local mailbox: ${config.publicUrl}/mailbox`);
     const requeued = await fitJobs.recover();
-    if (requeued.length > 0) console.log(`Covarion: re-queued ${requeued.length} fit(s) left unfinished by the previous run.`);
+    if (requeued.length > 0)
+      console.log(
+        `Covarion: re-queued ${requeued.length} fit(s) left unfinished by the previous run.`,
+      );
   } catch (error) {
     if (error instanceof ConfigError || error instanceof DataLockError) {
       console.error(`Covarion cannot start: ${error.message}`);
     } else if ((error as NodeJS.ErrnoException).code === "EADDRINUSE") {
-      console.error(`Covarion cannot start: the address is already in use (${(error as Error).message}). Set PORT to another port.`);
+      console.error(
+        `Covarion cannot start: the address is already in use (${(error as Error).message}). Set PORT to another port.`,
+      );
     } else {
       console.error("Covarion cannot start:", error);
     }

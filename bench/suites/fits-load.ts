@@ -53,14 +53,18 @@ const DONE_READ_SECONDS = 4;
 
 function makeFiles(): { brain: string; sheet: string } {
   const rng = createRng(7070);
-  const header = ["participant_id", ...Array.from({ length: REGIONS }, (_, r) => `region_${String(r + 1).padStart(3, "0")}`)];
+  const header = [
+    "participant_id",
+    ...Array.from({ length: REGIONS }, (_, r) => `region_${String(r + 1).padStart(3, "0")}`),
+  ];
   const lines = [header.join(",")];
   const sheet = ["participant_id\tage\taccuracy"];
   for (let i = 0; i < PARTICIPANTS; i++) {
     const id = `sub-${String(i + 1).padStart(4, "0")}`;
     const accuracy = 0.5 + rng.next() / 2;
     const cells = [id];
-    for (let r = 0; r < REGIONS; r++) cells.push((0.3 * (r % 5 === 0 ? accuracy : 0) + rng.next() * 2 - 1).toFixed(5));
+    for (let r = 0; r < REGIONS; r++)
+      cells.push((0.3 * (r % 5 === 0 ? accuracy : 0) + rng.next() * 2 - 1).toFixed(5));
     lines.push(cells.join(","));
     sheet.push([id, String(18 + Math.floor(rng.next() * 50)), accuracy.toFixed(3)].join("\t"));
   }
@@ -90,7 +94,11 @@ export default async function fitsLoad(): Promise<void> {
    * just as it was reused (ECONNRESET) is sent again once on a new
    * connection, as browsers do; `reconnects` counts those.
    */
-  async function call(method: string, path: string, body?: unknown): Promise<{ status: number; json: unknown; ms: number }> {
+  async function call(
+    method: string,
+    path: string,
+    body?: unknown,
+  ): Promise<{ status: number; json: unknown; ms: number }> {
     try {
       return await callOnce(method, path, body);
     } catch (error) {
@@ -100,13 +108,21 @@ export default async function fitsLoad(): Promise<void> {
     }
   }
 
-  async function callOnce(method: string, path: string, body?: unknown): Promise<{ status: number; json: unknown; ms: number }> {
+  async function callOnce(
+    method: string,
+    path: string,
+    body?: unknown,
+  ): Promise<{ status: number; json: unknown; ms: number }> {
     const t0 = performance.now();
     return new Promise((resolve, reject) => {
       const payload = body === undefined ? undefined : JSON.stringify(body);
       const req = request(
         `${base}${path}`,
-        { method, agent, headers: { Cookie: cookie, ...(payload ? { "Content-Type": "application/json" } : {}) } },
+        {
+          method,
+          agent,
+          headers: { Cookie: cookie, ...(payload ? { "Content-Type": "application/json" } : {}) },
+        },
         (res) => {
           const chunks: Buffer[] = [];
           res.on("data", (c: Buffer) => chunks.push(c));
@@ -122,21 +138,39 @@ export default async function fitsLoad(): Promise<void> {
           });
         },
       );
-      req.on("error", (error: NodeJS.ErrnoException) => reject(Object.assign(new Error(`${method} ${path}: ${error.message}`), { code: error.code })));
+      req.on("error", (error: NodeJS.ErrnoException) =>
+        reject(
+          Object.assign(new Error(`${method} ${path}: ${error.message}`), { code: error.code }),
+        ),
+      );
       if (payload) req.write(payload);
       req.end();
     });
   }
 
   /** A GET whose answer is counted, not decoded: status, time, bytes as sent, headers. */
-  function getRaw(path: string, headers: Record<string, string>): Promise<{ status: number; ms: number; bytes: Buffer; headers: Record<string, unknown> }> {
+  function getRaw(
+    path: string,
+    headers: Record<string, string>,
+  ): Promise<{ status: number; ms: number; bytes: Buffer; headers: Record<string, unknown> }> {
     const t0 = performance.now();
     return new Promise((resolve, reject) => {
-      const req = request(`${base}${path}`, { agent, headers: { Cookie: cookie, ...headers } }, (res) => {
-        const chunks: Buffer[] = [];
-        res.on("data", (c: Buffer) => chunks.push(c));
-        res.on("end", () => resolve({ status: res.statusCode ?? 0, ms: performance.now() - t0, bytes: Buffer.concat(chunks), headers: res.headers }));
-      });
+      const req = request(
+        `${base}${path}`,
+        { agent, headers: { Cookie: cookie, ...headers } },
+        (res) => {
+          const chunks: Buffer[] = [];
+          res.on("data", (c: Buffer) => chunks.push(c));
+          res.on("end", () =>
+            resolve({
+              status: res.statusCode ?? 0,
+              ms: performance.now() - t0,
+              bytes: Buffer.concat(chunks),
+              headers: res.headers,
+            }),
+          );
+        },
+      );
       req.on("error", (error: NodeJS.ErrnoException) => {
         if (error.code === "ECONNRESET") {
           reconnects++;
@@ -148,7 +182,12 @@ export default async function fitsLoad(): Promise<void> {
   }
 
   /** READERS concurrent readers of one path without pause, for `seconds` or until `stop()`: latencies, answers per second, statuses, bytes. */
-  async function hammer(seconds: number, path: string, headers: Record<string, string>, stop: () => boolean) {
+  async function hammer(
+    seconds: number,
+    path: string,
+    headers: Record<string, string>,
+    stop: () => boolean,
+  ) {
     const times: number[] = [];
     const statuses = new Map<number, number>();
     let bytes = 0;
@@ -167,13 +206,21 @@ export default async function fitsLoad(): Promise<void> {
     );
     const elapsed = (performance.now() - start) / 1000;
     const cpuAfter = mainThreadCpuMs(child.pid);
-    const cpuPerAnswer = cpuBefore === null || cpuAfter === null ? null : (cpuAfter - cpuBefore) / times.length;
+    const cpuPerAnswer =
+      cpuBefore === null || cpuAfter === null ? null : (cpuAfter - cpuBefore) / times.length;
     return { times, perSecond: times.length / elapsed, elapsed, statuses, bytes, cpuPerAnswer };
   }
 
-  async function must(method: string, path: string, body?: unknown): Promise<Record<string, unknown>> {
+  async function must(
+    method: string,
+    path: string,
+    body?: unknown,
+  ): Promise<Record<string, unknown>> {
     const res = await call(method, path, body);
-    if (res.status >= 300) throw new Error(`${method} ${path} answered ${res.status}: ${JSON.stringify(res.json).slice(0, 300)}`);
+    if (res.status >= 300)
+      throw new Error(
+        `${method} ${path} answered ${res.status}: ${JSON.stringify(res.json).slice(0, 300)}`,
+      );
     return res.json as Record<string, unknown>;
   }
 
@@ -202,13 +249,25 @@ export default async function fitsLoad(): Promise<void> {
     return out;
   }
 
-  async function upload(studyId: string, kind: string, fileName: string, text: string): Promise<void> {
+  async function upload(
+    studyId: string,
+    kind: string,
+    fileName: string,
+    text: string,
+  ): Promise<void> {
     const form = new FormData();
     form.set("kind", kind);
     form.set("file", new Blob([text]), fileName);
-    const res = await fetch(`${base}/api/studies/${studyId}/datasets`, { method: "POST", body: form, headers: { Cookie: cookie } });
+    const res = await fetch(`${base}/api/studies/${studyId}/datasets`, {
+      method: "POST",
+      body: form,
+      headers: { Cookie: cookie },
+    });
     const preview = (await res.json()) as { id: string };
-    if (res.status !== 201) throw new Error(`upload ${fileName} answered ${res.status}: ${JSON.stringify(preview).slice(0, 300)}`);
+    if (res.status !== 201)
+      throw new Error(
+        `upload ${fileName} answered ${res.status}: ${JSON.stringify(preview).slice(0, 300)}`,
+      );
     await must("POST", `/api/studies/${studyId}/datasets/${preview.id}/confirm`, {});
   }
 
@@ -219,15 +278,26 @@ export default async function fitsLoad(): Promise<void> {
     const t0 = performance.now();
     await upload(studyId, "brain", "bench_brain-table.csv", files.brain);
     await upload(studyId, "participants", "bench_participants.tsv", files.sheet);
-    console.log(`uploaded ${PARTICIPANTS} participants × ${REGIONS} regions in ${((performance.now() - t0) / 1000).toFixed(1)} s`);
+    console.log(
+      `uploaded ${PARTICIPANTS} participants × ${REGIONS} regions in ${((performance.now() - t0) / 1000).toFixed(1)} s`,
+    );
     const model = await must("POST", `/api/studies/${studyId}/models`, {
       name: "Load",
       regionSelection: "independent-data",
-      spec: { kind: "association", predictor: "accuracy", covariates: ["age"], inference: "permutation", resamples: RESAMPLES, correction: "bh" },
+      spec: {
+        kind: "association",
+        predictor: "accuracy",
+        covariates: ["age"],
+        inference: "permutation",
+        resamples: RESAMPLES,
+        correction: "bh",
+      },
     });
     // Baseline: the same readers with no fit running.
     const idle = await readFor(3, () => `/api/studies/${studyId}/fits`);
-    console.log(`machine: ${os.cpus().length} cores, load (1-minute average) ${os.loadavg()[0].toFixed(1)}`);
+    console.log(
+      `machine: ${os.cpus().length} cores, load (1-minute average) ${os.loadavg()[0].toFixed(1)}`,
+    );
     console.log(`no fit running, ${READERS} readers for 3 s:`);
     console.log(latencySummary("  GET /api/studies/:studyId/fits", idle.first));
     console.log(latencySummary("  GET /api/studies", idle.second));
@@ -237,14 +307,21 @@ export default async function fitsLoad(): Promise<void> {
     for (;;) {
       const now = await must("GET", `/api/fits/${fitId}`);
       if (now.status === "running") break;
-      if (now.status !== "queued") throw new Error(`the fit is ${now.status}: ${JSON.stringify(now.error)}`);
+      if (now.status !== "queued")
+        throw new Error(`the fit is ${now.status}: ${JSON.stringify(now.error)}`);
       await new Promise((r) => setTimeout(r, 50));
     }
-    console.log(`fit: ${REGIONS} regions × ${PARTICIPANTS} participants, ${RESAMPLES.toLocaleString("en")} rearrangements (Freedman–Lane), running`);
-    const running = (last: unknown) => last !== null && (last as { status: string }).status !== "running";
+    console.log(
+      `fit: ${REGIONS} regions × ${PARTICIPANTS} participants, ${RESAMPLES.toLocaleString("en")} rearrangements (Freedman–Lane), running`,
+    );
+    const running = (last: unknown) =>
+      last !== null && (last as { status: string }).status !== "running";
     const phases = [
       { label: `${READERS} readers, no pause, ${READ_SECONDS} s`, pause: 0 },
-      { label: `${READERS} readers pausing ${PAUSE_MS} ms between requests (a screen polling), ${READ_SECONDS} s`, pause: PAUSE_MS },
+      {
+        label: `${READERS} readers pausing ${PAUSE_MS} ms between requests (a screen polling), ${READ_SECONDS} s`,
+        pause: PAUSE_MS,
+      },
     ];
     for (const phase of phases) {
       const loaded = await readFor(READ_SECONDS, () => `/api/fits/${fitId}`, running, phase.pause);
@@ -252,7 +329,9 @@ export default async function fitsLoad(): Promise<void> {
       console.log(`${phase.label}:`);
       console.log(latencySummary("  GET /api/fits/:fitId", loaded.first));
       console.log(latencySummary("  GET /api/studies", loaded.second));
-      console.log(latencySummary("  both (target p95 ≤ 100 ms)", [...loaded.first, ...loaded.second]));
+      console.log(
+        latencySummary("  both (target p95 ≤ 100 ms)", [...loaded.first, ...loaded.second]),
+      );
       console.log(
         `  errors: ${loaded.errors}; connections reopened: ${reconnects}; the fit was ${last?.status ?? "?"} at ${((last?.progress.fraction ?? 0) * 100).toFixed(0)} % at the end of this phase`,
       );
@@ -261,17 +340,25 @@ export default async function fitsLoad(): Promise<void> {
     for (;;) {
       const now = await must("GET", `/api/fits/${fitId}`);
       if (now.status === "done") break;
-      if (now.status !== "running" && now.status !== "queued") throw new Error(`the fit is ${now.status}: ${JSON.stringify(now.error)}`);
+      if (now.status !== "running" && now.status !== "queued")
+        throw new Error(`the fit is ${now.status}: ${JSON.stringify(now.error)}`);
       await new Promise((r) => setTimeout(r, 250));
     }
-    console.log(`fit done in ${((performance.now() - fitStart) / 1000).toFixed(1)} s (worker threads: one per core less one, at least one)`);
+    console.log(
+      `fit done in ${((performance.now() - fitStart) / 1000).toFixed(1)} s (worker threads: one per core less one, at least one)`,
+    );
 
-    await must("POST", `/api/studies/${studyId}/set-asides`, { participant: "sub-0007", region: "region_001", reason: "Benchmark: set aside before the analysis" });
+    await must("POST", `/api/studies/${studyId}/set-asides`, {
+      participant: "sub-0007",
+      region: "region_001",
+      reason: "Benchmark: set aside before the analysis",
+    });
     const previewTimes: number[] = [];
     let n = 0;
     for (let k = 0; k < PREVIEWS; k++) {
       const r = await call("POST", `/api/fits/${fitId}/regions/region_001/preview`, {});
-      if (r.status !== 200) throw new Error(`preview answered ${r.status}: ${JSON.stringify(r.json).slice(0, 300)}`);
+      if (r.status !== 200)
+        throw new Error(`preview answered ${r.status}: ${JSON.stringify(r.json).slice(0, 300)}`);
       n = (r.json as { preview: { n: number } }).preview.n;
       previewTimes.push(r.ms);
     }
@@ -281,8 +368,13 @@ export default async function fitsLoad(): Promise<void> {
     // The finished fit's view, read while a second fit of the same size runs.
     const gzip = { "Accept-Encoding": "gzip" };
     const view = await getRaw(`/api/fits/${fitId}`, gzip);
-    if (view.status !== 200 || view.headers["content-encoding"] !== "gzip") throw new Error(`the fit view answered ${view.status} (${String(view.headers["content-encoding"])})`);
-    const shown = JSON.parse(gunzipSync(view.bytes).toString("utf8")) as { result: { regions: { region: string }[] } };
+    if (view.status !== 200 || view.headers["content-encoding"] !== "gzip")
+      throw new Error(
+        `the fit view answered ${view.status} (${String(view.headers["content-encoding"])})`,
+      );
+    const shown = JSON.parse(gunzipSync(view.bytes).toString("utf8")) as {
+      result: { regions: { region: string }[] };
+    };
     const plain = await getRaw(`/api/fits/${fitId}`, {});
     const region = shown.result.regions[0].region;
     const detail = await getRaw(`/api/fits/${fitId}/regions/${region}`, gzip);
@@ -316,12 +408,25 @@ export default async function fitsLoad(): Promise<void> {
     const etag = String(view.headers.etag);
     for (const phase of [
       { label: `  full answers (gzip, ${kB(view.bytes.length)} each)`, headers: gzip },
-      { label: "  revalidations (If-None-Match → 304)", headers: { ...gzip, "If-None-Match": etag } },
+      {
+        label: "  revalidations (If-None-Match → 304)",
+        headers: { ...gzip, "If-None-Match": etag },
+      },
     ]) {
-      const loaded = await hammer(DONE_READ_SECONDS, `/api/fits/${fitId}`, phase.headers, () => !secondRunning);
+      const loaded = await hammer(
+        DONE_READ_SECONDS,
+        `/api/fits/${fitId}`,
+        phase.headers,
+        () => !secondRunning,
+      );
       console.log(latencySummary(phase.label, loaded.times));
-      const statuses = [...loaded.statuses].map(([status, count]) => `${count} × ${status}`).join(", ");
-      const cpu = loaded.cpuPerAnswer === null ? "" : `; server request thread ${loaded.cpuPerAnswer.toFixed(2)} ms of CPU per answer (≈ ${(1000 / loaded.cpuPerAnswer).toFixed(0)} answers/s on a core of its own)`;
+      const statuses = [...loaded.statuses]
+        .map(([status, count]) => `${count} × ${status}`)
+        .join(", ");
+      const cpu =
+        loaded.cpuPerAnswer === null
+          ? ""
+          : `; server request thread ${loaded.cpuPerAnswer.toFixed(2)} ms of CPU per answer (≈ ${(1000 / loaded.cpuPerAnswer).toFixed(0)} answers/s on a core of its own)`;
       console.log(
         `    ${loaded.perSecond.toFixed(0)} requests/s over ${loaded.elapsed.toFixed(1)} s (target ≥ 500 requests/s, p95 ≤ 100 ms); ${statuses}; ${(loaded.bytes / loaded.elapsed / 1e6).toFixed(1)} MB/s${cpu}; the second fit was ${secondRunning ? "running" : "no longer running"} at ${(secondFraction * 100).toFixed(0)} %`,
       );
@@ -330,7 +435,9 @@ export default async function fitsLoad(): Promise<void> {
     secondRunning = false;
     await watcher;
   } catch (error) {
-    console.log(`server (exit code ${child.exitCode}, signal ${child.signalCode}) output:\n${server.log().split("\n").slice(-30).join("\n")}`);
+    console.log(
+      `server (exit code ${child.exitCode}, signal ${child.signalCode}) output:\n${server.log().split("\n").slice(-30).join("\n")}`,
+    );
     throw error;
   } finally {
     agent.destroy();

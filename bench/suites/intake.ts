@@ -47,7 +47,10 @@ const REGIONS = 400;
 
 function makeFiles(): { brain: Uint8Array; sheet: Uint8Array } {
   const rng = createRng(4242);
-  const header = ["participant_id", ...Array.from({ length: REGIONS }, (_, r) => `region_${String(r + 1).padStart(3, "0")}`)];
+  const header = [
+    "participant_id",
+    ...Array.from({ length: REGIONS }, (_, r) => `region_${String(r + 1).padStart(3, "0")}`),
+  ];
   const lines = [header.join(",")];
   for (let i = 0; i < PARTICIPANTS; i++) {
     const cells = [`sub-${String(i + 1).padStart(4, "0")}`];
@@ -105,7 +108,8 @@ async function inProcess(parts: readonly string[]): Promise<void> {
       s: confirmTable(rawSheet, "participants"),
     }));
     const [, tJoin] = time(() => {
-      if (confirmed.b.kind !== "brain" || confirmed.s.kind !== "participants") throw new Error("unexpected kinds");
+      if (confirmed.b.kind !== "brain" || confirmed.s.kind !== "participants")
+        throw new Error("unexpected kinds");
       return buildFitData(confirmed.b.brain, confirmed.s.sheet);
     });
     const total = tUpload + tRead + tReadSheet + tConfirm + tJoin;
@@ -116,7 +120,9 @@ async function inProcess(parts: readonly string[]): Promise<void> {
   }
   if (totals.length > 0) {
     const median = [...totals].sort((a, b) => a - b)[1];
-    console.log(`parse + validate + join, both requests (median of 3): ${median.toFixed(0)} ms (no storage)`);
+    console.log(
+      `parse + validate + join, both requests (median of 3): ${median.toFixed(0)} ms (no storage)`,
+    );
   }
   if (!parts.includes("2")) return;
 
@@ -124,27 +130,73 @@ async function inProcess(parts: readonly string[]): Promise<void> {
   const database = await openDatabase({ dataDir });
   try {
     await migrateDatabase(database.db);
-    const [user] = await database.db.insert(users).values({ email: "bench@lab.example", name: "Bench" }).returning();
+    const [user] = await database.db
+      .insert(users)
+      .values({ email: "bench@lab.example", name: "Bench" })
+      .returning();
     const person = { id: user.id, name: user.name, email: user.email };
     const store = new PreviewStore();
     // The intake's worker thread starts with the first upload; start it before the clock runs.
-    await previewUpload(store, { studyId: "warm-up", kind: "participants", fileName: "participants.tsv", bytes: sheet, options: {}, uploader: person, now: new Date() });
+    await previewUpload(store, {
+      studyId: "warm-up",
+      kind: "participants",
+      fileName: "participants.tsv",
+      bytes: sheet,
+      options: {},
+      uploader: person,
+      now: new Date(),
+    });
     const whole: number[] = [];
     for (let run = 1; run <= 3; run++) {
-      const [study] = await database.db.insert(studies).values({ name: `Bench ${randomUUID()}`, createdBy: user.id }).returning();
+      const [study] = await database.db
+        .insert(studies)
+        .values({ name: `Bench ${randomUUID()}`, createdBy: user.id })
+        .returning();
       const now = new Date();
       const t0 = performance.now();
-      const pb = await previewUpload(store, { studyId: study.id, kind: "brain", fileName: "brain.csv", bytes: brain, options: {}, uploader: person, now });
-      const ps = await previewUpload(store, { studyId: study.id, kind: "participants", fileName: "participants.tsv", bytes: sheet, options: {}, uploader: person, now });
+      const pb = await previewUpload(store, {
+        studyId: study.id,
+        kind: "brain",
+        fileName: "brain.csv",
+        bytes: brain,
+        options: {},
+        uploader: person,
+        now,
+      });
+      const ps = await previewUpload(store, {
+        studyId: study.id,
+        kind: "participants",
+        fileName: "participants.tsv",
+        bytes: sheet,
+        options: {},
+        uploader: person,
+        now,
+      });
       const t1 = performance.now();
-      await confirmUpload(database.db, store, { studyId: study.id, datasetId: pb.id, actor: person, confirmation: {}, now });
-      await confirmUpload(database.db, store, { studyId: study.id, datasetId: ps.id, actor: person, confirmation: {}, now });
+      await confirmUpload(database.db, store, {
+        studyId: study.id,
+        datasetId: pb.id,
+        actor: person,
+        confirmation: {},
+        now,
+      });
+      await confirmUpload(database.db, store, {
+        studyId: study.id,
+        datasetId: ps.id,
+        actor: person,
+        confirmation: {},
+        now,
+      });
       const t2 = performance.now();
       whole.push(t2 - t0);
-      console.log(`stored run ${run}: upload requests ${(t1 - t0).toFixed(0)} ms · confirm requests with storage ${(t2 - t1).toFixed(0)} ms · total ${(t2 - t0).toFixed(0)} ms`);
+      console.log(
+        `stored run ${run}: upload requests ${(t1 - t0).toFixed(0)} ms · confirm requests with storage ${(t2 - t1).toFixed(0)} ms · total ${(t2 - t0).toFixed(0)} ms`,
+      );
     }
     const m = [...whole].sort((a, b) => a - b)[1];
-    console.log(`whole upload of both files, storage included (median of 3): ${m.toFixed(0)} ms — target ≤ 3000 ms`);
+    console.log(
+      `whole upload of both files, storage included (median of 3): ${m.toFixed(0)} ms — target ≤ 3000 ms`,
+    );
   } finally {
     await database.close();
     rmSync(dataDir, { recursive: true, force: true });
@@ -152,22 +204,49 @@ async function inProcess(parts: readonly string[]): Promise<void> {
 }
 
 /** Participants × sessions × regions of the large long-layout table (885,600 rows, ≈ 49 MB). */
-const LONG_SHAPES: readonly { label: string; participants: number; sessions: number; regions: number }[] = [
-  { label: "1,107 participants × 2 sessions × 400 regions", participants: 1107, sessions: 2, regions: 400 },
-  { label: "44,280 participants × 2 sessions × 10 regions", participants: 44_280, sessions: 2, regions: 10 },
-  { label: "442,800 participants × 2 sessions × 1 region", participants: 442_800, sessions: 2, regions: 1 },
+const LONG_SHAPES: readonly {
+  label: string;
+  participants: number;
+  sessions: number;
+  regions: number;
+}[] = [
+  {
+    label: "1,107 participants × 2 sessions × 400 regions",
+    participants: 1107,
+    sessions: 2,
+    regions: 400,
+  },
+  {
+    label: "44,280 participants × 2 sessions × 10 regions",
+    participants: 44_280,
+    sessions: 2,
+    regions: 10,
+  },
+  {
+    label: "442,800 participants × 2 sessions × 1 region",
+    participants: 442_800,
+    sessions: 2,
+    regions: 1,
+  },
 ];
 const HEALTH_EVERY_MS = 100;
 
 /** A long-layout brain table: columns id, region, value, se, session; one row per participant, session and region. */
-export function makeLongTable(participants: number, sessions: number, regions: number, seed = 5151): Uint8Array<ArrayBuffer> {
+export function makeLongTable(
+  participants: number,
+  sessions: number,
+  regions: number,
+  seed = 5151,
+): Uint8Array<ArrayBuffer> {
   const rng = createRng(seed);
   const parts: string[] = ["id,region,value,se,session"];
   for (let i = 0; i < participants; i++) {
     const id = `sub-${String(i + 1).padStart(6, "0")}`;
     for (let s = 1; s <= sessions; s++) {
       for (let r = 0; r < regions; r++) {
-        parts.push(`${id},region_${String(r + 1).padStart(3, "0")},${(rng.next() * 4 - 2).toFixed(10)},${(0.05 + rng.next() / 5).toFixed(10)},ses-0${s}`);
+        parts.push(
+          `${id},region_${String(r + 1).padStart(3, "0")},${(rng.next() * 4 - 2).toFixed(10)},${(0.05 + rng.next() / 5).toFixed(10)},ses-0${s}`,
+        );
       }
     }
   }
@@ -232,24 +311,44 @@ export async function largeUploadOverHttp(): Promise<void> {
       form.set("kind", "brain");
       form.set("file", new Blob([bytes]), "bench_long.csv");
       const t0 = performance.now();
-      const res = await fetch(`${server.base}/api/studies/${study.id}/datasets`, { method: "POST", body: form, headers });
+      const res = await fetch(`${server.base}/api/studies/${study.id}/datasets`, {
+        method: "POST",
+        body: form,
+        headers,
+      });
       const preview = (await res.json()) as { id: string; participants: number };
       const t1 = performance.now();
-      if (res.status !== 201) throw new Error(`upload answered ${res.status}: ${JSON.stringify(preview).slice(0, 300)}`);
-      const confirmed = await fetch(`${server.base}/api/studies/${study.id}/datasets/${preview.id}/confirm`, {
-        method: "POST",
-        headers: { ...headers, "Content-Type": "application/json" },
-        body: "{}",
-      });
+      if (res.status !== 201)
+        throw new Error(`upload answered ${res.status}: ${JSON.stringify(preview).slice(0, 300)}`);
+      const confirmed = await fetch(
+        `${server.base}/api/studies/${study.id}/datasets/${preview.id}/confirm`,
+        {
+          method: "POST",
+          headers: { ...headers, "Content-Type": "application/json" },
+          body: "{}",
+        },
+      );
       const version = (await confirmed.json()) as { rowCount: number };
       const t2 = performance.now();
-      if (confirmed.status !== 201) throw new Error(`confirm answered ${confirmed.status}: ${JSON.stringify(version).slice(0, 300)}`);
+      if (confirmed.status !== 201)
+        throw new Error(
+          `confirm answered ${confirmed.status}: ${JSON.stringify(version).slice(0, 300)}`,
+        );
       await new Promise((r) => setTimeout(r, 500));
       await Promise.all([health.stop(), list.stop()]);
-      console.log(`long brain table over HTTP: ${shape.label} = ${rows.toLocaleString("en")} rows, ${(bytes.byteLength / 1e6).toFixed(1)} MB`);
+      console.log(
+        `long brain table over HTTP: ${shape.label} = ${rows.toLocaleString("en")} rows, ${(bytes.byteLength / 1e6).toFixed(1)} MB`,
+      );
       console.log(`  machine load (1-minute average): ${os.loadavg()[0].toFixed(1)}`);
-      console.log(`  upload (preview answered) ${((t1 - t0) / 1000).toFixed(1)} s · confirm (stored, ${version.rowCount.toLocaleString("en")} stored rows) ${((t2 - t1) / 1000).toFixed(1)} s`);
-      console.log(latencySummary(`  GET /api/health every ${HEALTH_EVERY_MS} ms (target p95 ≤ 100 ms)`, health.times));
+      console.log(
+        `  upload (preview answered) ${((t1 - t0) / 1000).toFixed(1)} s · confirm (stored, ${version.rowCount.toLocaleString("en")} stored rows) ${((t2 - t1) / 1000).toFixed(1)} s`,
+      );
+      console.log(
+        latencySummary(
+          `  GET /api/health every ${HEALTH_EVERY_MS} ms (target p95 ≤ 100 ms)`,
+          health.times,
+        ),
+      );
       console.log(latencySummary(`  GET /api/studies every ${HEALTH_EVERY_MS} ms`, list.times));
       const failed = health.failures() + list.failures();
       if (failed > 0) console.log(`  requests that failed: ${failed}`);

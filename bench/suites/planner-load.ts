@@ -58,34 +58,59 @@ export default async function plannerLoad(): Promise<void> {
     return { status: res.status, body, ms: performance.now() - t0 };
   };
   try {
-    console.log(`machine: ${os.cpus().length} cores, load (1-minute average) ${os.loadavg()[0].toFixed(1)}; cap ${PLANNER_MAX_DRAWS / 1e6} million draws`);
-    console.log(latencySummary("GET /api/health, idle, 3 s", await healthDuring(server.base, new Promise((r) => setTimeout(r, 3000)))));
+    console.log(
+      `machine: ${os.cpus().length} cores, load (1-minute average) ${os.loadavg()[0].toFixed(1)}; cap ${PLANNER_MAX_DRAWS / 1e6} million draws`,
+    );
+    console.log(
+      latencySummary(
+        "GET /api/health, idle, 3 s",
+        await healthDuring(server.base, new Promise((r) => setTimeout(r, 3000))),
+      ),
+    );
 
     const formulaTimes: number[] = [];
     const formulas = (async () => {
       for (let k = 0; k < 40; k++) {
         const r = await ask({ design: "two-group", effect: 0.2 + k / 100, groupRatio: 1.5 });
-        if (r.status !== 200) throw new Error(`formula answered ${r.status}: ${JSON.stringify(r.body).slice(0, 300)}`);
+        if (r.status !== 200)
+          throw new Error(`formula answered ${r.status}: ${JSON.stringify(r.body).slice(0, 300)}`);
         formulaTimes.push(r.ms);
       }
     })();
     const duringFormulas = await healthDuring(server.base, formulas);
     await formulas;
-    console.log(`first formula answer (starts the planner thread): ${formulaTimes[0].toFixed(1)} ms`);
+    console.log(
+      `first formula answer (starts the planner thread): ${formulaTimes[0].toFixed(1)} ms`,
+    );
     console.log(latencySummary("POST /api/planner, formula (two groups)", formulaTimes.slice(1)));
     console.log(latencySummary("GET /api/health during formula answers", duringFormulas));
 
     const refused = await ask(ISSUE_QUESTION);
-    const error = (refused.body as { error?: { code: string; message: string; details: { maxSimulations: number; requested: number } } }).error;
-    if (refused.status !== 422 || !error) throw new Error(`the question over the cap answered ${refused.status}`);
-    console.log(`over the cap (${(error.details.requested / 1e6).toFixed(0)} million draws): ${refused.status} ${error.code} in ${refused.ms.toFixed(1)} ms`);
+    const error = (
+      refused.body as {
+        error?: {
+          code: string;
+          message: string;
+          details: { maxSimulations: number; requested: number };
+        };
+      }
+    ).error;
+    if (refused.status !== 422 || !error)
+      throw new Error(`the question over the cap answered ${refused.status}`);
+    console.log(
+      `over the cap (${(error.details.requested / 1e6).toFixed(0)} million draws): ${refused.status} ${error.code} in ${refused.ms.toFixed(1)} ms`,
+    );
 
     const capped = { ...ISSUE_QUESTION, simulations: error.details.maxSimulations };
     const simulation = ask(capped);
     const duringSimulation = await healthDuring(server.base, simulation);
     const answered = await simulation;
-    if (answered.status !== 200) throw new Error(`the capped simulation answered ${answered.status}: ${JSON.stringify(answered.body).slice(0, 300)}`);
-    const draws = error.details.requested * (error.details.maxSimulations / ISSUE_QUESTION.simulations);
+    if (answered.status !== 200)
+      throw new Error(
+        `the capped simulation answered ${answered.status}: ${JSON.stringify(answered.body).slice(0, 300)}`,
+      );
+    const draws =
+      error.details.requested * (error.details.maxSimulations / ISSUE_QUESTION.simulations);
     console.log(
       `capped simulation: ${capped.simulations.toLocaleString("en")} simulated studies × 20 sessions, ${(draws / 1e6).toFixed(0)} million draws in ${(answered.ms / 1000).toFixed(1)} s (${(draws / answered.ms / 1000).toFixed(1)} million draws/s)`,
     );

@@ -17,7 +17,12 @@
 import os from "node:os";
 import { inverse, Matrix, solve } from "ml-matrix";
 import { createPermutationPool } from "../../server/jobs/parallel-permutation";
-import { type LinearPermutationBlockInput, type LinearPermutationResult, linearPermutationTest, sharedLinearPermutationTest } from "../../server/stats/permutation";
+import {
+  type LinearPermutationBlockInput,
+  type LinearPermutationResult,
+  linearPermutationTest,
+  sharedLinearPermutationTest,
+} from "../../server/stats/permutation";
 import { createRearranger } from "../../server/stats/rearrangements";
 import { createRng, type Rng } from "../../server/stats/rng";
 
@@ -55,17 +60,29 @@ export default async function run(): Promise<void> {
   const y = Array.from({ length: REGIONS }, (_, r) => {
     const v = new Float64Array(N);
     const effect = r % 20 === 0 ? 0.3 : 0;
-    for (let i = 0; i < N; i++) v[i] = 0.3 * design[i * P + 1] + effect * design[i * P + TESTED] + gaussian(rng);
+    for (let i = 0; i < N; i++)
+      v[i] = 0.3 * design[i * P + 1] + effect * design[i * P + TESTED] + gaussian(rng);
     return v;
   });
-  const input = { design, n: N, p: P, tested: TESTED, y, scheme: "freedman-lane" as const, resamples: RESAMPLES, maxT: true };
+  const input = {
+    design,
+    n: N,
+    p: P,
+    tested: TESTED,
+    y,
+    scheme: "freedman-lane" as const,
+    resamples: RESAMPLES,
+    maxT: true,
+  };
   const rearrangements = RESAMPLES + 1;
   const gflop = (2 * N * P * REGIONS * rearrangements) / 1e9;
   console.log(
     `max-T Freedman–Lane: ${REGIONS} regions × ${N} participants × ${P} regressors × ${RESAMPLES.toLocaleString("en")} rearrangements (+ identity) ≈ ${gflop.toFixed(1)} GFLOP`,
   );
   const load = os.loadavg()[0];
-  console.log(`  (1-minute load average at start: ${load.toFixed(1)} on ${os.cpus().length} cores; timings stretch when other work shares the cores)`);
+  console.log(
+    `  (1-minute load average at start: ${load.toFixed(1)} on ${os.cpus().length} cores; timings stretch when other work shares the cores)`,
+  );
 
   // Two worker threads (pool started and warmed before timing).
   let start = process.hrtime.bigint();
@@ -95,7 +112,9 @@ export default async function run(): Promise<void> {
   const single = linearPermutationTest({ ...input, rng: createRng(SEED) });
   const singleTime = seconds(start);
   const singleCpu = cpuSeconds(cpu);
-  console.log(`  1 thread:         ${singleTime.toFixed(2)} s (${(gflop / singleTime).toFixed(2)} GFLOP/s)`);
+  console.log(
+    `  1 thread:         ${singleTime.toFixed(2)} s (${(gflop / singleTime).toFixed(2)} GFLOP/s)`,
+  );
   console.log(
     `  CPU time used: ${parallelCpu.toFixed(2)} s over both workers (≈ ${(parallelCpu / 2).toFixed(2)} s each), ${singleCpu.toFixed(2)} s on one thread — close to the wall times an otherwise idle machine would show`,
   );
@@ -120,7 +139,12 @@ export default async function run(): Promise<void> {
   const fittedZ = Z.mmul(solve(Z, Y));
   const residualsZ = Y.clone().sub(fittedZ);
   const cTT = inverse(X.transpose().mmul(X)).get(TESTED, TESTED);
-  const walk = createRearranger({ kind: "permutations", n: N, resamples: RESAMPLES, rng: createRng(SEED) });
+  const walk = createRearranger({
+    kind: "permutations",
+    n: N,
+    resamples: RESAMPLES,
+    rng: createRng(SEED),
+  });
   let maxDifference = 0;
   start = process.hrtime.bigint();
   for (let k = 0; k < NAIVE_SUBSET; k++) {
@@ -153,7 +177,11 @@ export default async function run(): Promise<void> {
 }
 
 /** The same fit with about 5 % of the cells emptied at random: every region on its own participants, one shared draw. */
-async function emptyCells(design: Float64Array, y: Float64Array[], completeCpu: number): Promise<void> {
+async function emptyCells(
+  design: Float64Array,
+  y: Float64Array[],
+  completeCpu: number,
+): Promise<void> {
   const rng = createRng(SEED + 1);
   let empty = 0;
   const blocks: LinearPermutationBlockInput[] = y.map((values) => {
@@ -163,7 +191,9 @@ async function emptyCells(design: Float64Array, y: Float64Array[], completeCpu: 
       else members.push(i);
     }
     return {
-      design: Float64Array.from(members.flatMap((i) => Array.from(design.subarray(i * P, (i + 1) * P)))),
+      design: Float64Array.from(
+        members.flatMap((i) => Array.from(design.subarray(i * P, (i + 1) * P))),
+      ),
       n: members.length,
       p: P,
       tested: TESTED,
@@ -172,11 +202,19 @@ async function emptyCells(design: Float64Array, y: Float64Array[], completeCpu: 
     };
   });
   const distinct = new Set(blocks.map((b) => b.members.join(","))).size;
-  const input = { participants: N, blocks, scheme: "freedman-lane" as const, resamples: RESAMPLES, maxT: true };
+  const input = {
+    participants: N,
+    blocks,
+    scheme: "freedman-lane" as const,
+    resamples: RESAMPLES,
+    maxT: true,
+  };
   console.log(
     `max-T Freedman–Lane with empty cells: ${empty.toLocaleString("en")} of ${(REGIONS * N).toLocaleString("en")} cells empty (${((100 * empty) / (REGIONS * N)).toFixed(1)} %), ${distinct} distinct sets of participants, one shared draw of ${N}`,
   );
-  console.log(`  (1-minute load average at start: ${os.loadavg()[0].toFixed(1)} on ${os.cpus().length} cores)`);
+  console.log(
+    `  (1-minute load average at start: ${os.loadavg()[0].toFixed(1)} on ${os.cpus().length} cores)`,
+  );
   const pool = createPermutationPool({ threads: 2 });
   let parallel: LinearPermutationResult;
   let parallelTime: number;
@@ -191,7 +229,9 @@ async function emptyCells(design: Float64Array, y: Float64Array[], completeCpu: 
   } finally {
     await pool.close();
   }
-  console.log(`  2 worker threads: ${parallelTime.toFixed(2)} s (CPU ${parallelCpu.toFixed(2)} s over both workers)`);
+  console.log(
+    `  2 worker threads: ${parallelTime.toFixed(2)} s (CPU ${parallelCpu.toFixed(2)} s over both workers)`,
+  );
   const start = process.hrtime.bigint();
   const cpu = process.cpuUsage();
   const single = sharedLinearPermutationTest({ ...input, rng: createRng(SEED) });
@@ -201,7 +241,10 @@ async function emptyCells(design: Float64Array, y: Float64Array[], completeCpu: 
     `  1 thread:         ${singleTime.toFixed(2)} s (CPU ${singleCpu.toFixed(2)} s; ${(singleCpu / completeCpu).toFixed(2)}× the CPU time without empty cells on 1 thread)`,
   );
   let same = true;
-  for (let r = 0; r < REGIONS; r++) if (single.p[r] !== parallel.p[r] || single.pMaxT?.[r] !== parallel.pMaxT?.[r]) same = false;
+  for (let r = 0; r < REGIONS; r++)
+    if (single.p[r] !== parallel.p[r] || single.pMaxT?.[r] !== parallel.pMaxT?.[r]) same = false;
   console.log(`  parallel and single-thread p-values identical: ${same ? "yes" : "NO"}`);
-  console.log(`  regions with max-T p ≤ .05: ${Array.from(parallel.pMaxT ?? []).filter((v) => v <= 0.05).length} (20 carry a planted effect)`);
+  console.log(
+    `  regions with max-T p ≤ .05: ${Array.from(parallel.pMaxT ?? []).filter((v) => v <= 0.05).length} (20 carry a planted effect)`,
+  );
 }

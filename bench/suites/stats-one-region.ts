@@ -28,7 +28,12 @@ function makeData(): FitData {
   const motion = participants.map(() => 0.05 + rng.next() / 5);
   const site = participants.map(() => ["north", "south", "east"][rng.int(3)]);
   const accuracy = participants.map(() => 0.5 + rng.next() / 2);
-  const values = [Float64Array.from(participants, (_, i) => 0.8 * accuracy[i] - 0.01 * age[i] + 2 * motion[i] + normal())];
+  const values = [
+    Float64Array.from(
+      participants,
+      (_, i) => 0.8 * accuracy[i] - 0.01 * age[i] + 2 * motion[i] + normal(),
+    ),
+  ];
   return {
     participants,
     regions: ["left dorsolateral prefrontal"],
@@ -41,14 +46,23 @@ function makeData(): FitData {
 function summarise(label: string, times: number[]): void {
   const sorted = times.slice().sort((a, b) => a - b);
   const at = (q: number) => sorted[Math.min(sorted.length - 1, Math.floor(q * sorted.length))];
-  console.log(`${label}: median ${at(0.5).toFixed(3)} ms, p95 ${at(0.95).toFixed(3)} ms (${times.length} runs)`);
+  console.log(
+    `${label}: median ${at(0.5).toFixed(3)} ms, p95 ${at(0.95).toFixed(3)} ms (${times.length} runs)`,
+  );
 }
 
 export default async function statsOneRegionBench(): Promise<void> {
   const data = makeData();
-  console.log(`one region, N = ${N}, covariates age + motion + site (3 levels); machine load ${os.loadavg()[0].toFixed(1)}`);
+  console.log(
+    `one region, N = ${N}, covariates age + motion + site (3 levels); machine load ${os.loadavg()[0].toFixed(1)}`,
+  );
   for (const estimator of ["ols", "huber", "rank"] as const) {
-    const spec = modelSpecSchema.parse({ kind: "association", predictor: "accuracy", covariates: ["age", "motion", "site"], estimator });
+    const spec = modelSpecSchema.parse({
+      kind: "association",
+      predictor: "accuracy",
+      covariates: ["age", "motion", "site"],
+      estimator,
+    });
     for (let k = 0; k < 30; k++) runFit(spec, data);
     const times: number[] = [];
     let participants = 0;
@@ -58,6 +72,9 @@ export default async function statsOneRegionBench(): Promise<void> {
       times.push(performance.now() - t0);
       participants = res.participants.length;
     }
-    summarise(`association fit (${estimator}) with diagnostics for ${participants} participants${estimator === "ols" ? " [target median ≤ 2 ms]" : ""}`, times);
+    summarise(
+      `association fit (${estimator}) with diagnostics for ${participants} participants${estimator === "ols" ? " [target median ≤ 2 ms]" : ""}`,
+      times,
+    );
   }
 }

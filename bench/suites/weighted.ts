@@ -8,7 +8,11 @@
  * between-participant spread τ, and per participant a first-level standard
  * error between 0.1 and 0.6.
  */
-import { weightedLinearModel, type SmallSampleAdjustment, type Tau2Method } from "../../server/stats/meta-regression";
+import {
+  weightedLinearModel,
+  type SmallSampleAdjustment,
+  type Tau2Method,
+} from "../../server/stats/meta-regression";
 import { modelSpecSchema } from "../../server/model/spec";
 import { runFit } from "../../server/stats/run-fit";
 import { createRng, type Rng } from "../../server/stats/rng";
@@ -49,7 +53,14 @@ export default async function run(): Promise<void> {
     const start = process.hrtime.bigint();
     let checksum = 0;
     for (let r = 0; r < REGIONS; r++) {
-      checksum += weightedLinearModel({ y: values[r], se: errors[r], X, tested: 0, tau2Method, smallSample }).tau2;
+      checksum += weightedLinearModel({
+        y: values[r],
+        se: errors[r],
+        X,
+        tested: 0,
+        tau2Method,
+        smallSample,
+      }).tau2;
     }
     return { elapsed: seconds(start), checksum };
   };
@@ -59,7 +70,9 @@ export default async function run(): Promise<void> {
   const dl = time("dl", "none");
   const kh = time("reml", "knapp-hartung");
   console.log(`weighted one-sample fit, ${REGIONS} regions × ${N} participants`);
-  console.log(`  REML:                 ${(reml.elapsed * 1000).toFixed(0)} ms (target ≤ 1000 ms; ${((reml.elapsed / REGIONS) * 1000).toFixed(2)} ms per region)`);
+  console.log(
+    `  REML:                 ${(reml.elapsed * 1000).toFixed(0)} ms (target ≤ 1000 ms; ${((reml.elapsed / REGIONS) * 1000).toFixed(2)} ms per region)`,
+  );
   console.log(`  DerSimonian–Laird:    ${(dl.elapsed * 1000).toFixed(0)} ms`);
   console.log(`  REML + Knapp–Hartung: ${(kh.elapsed * 1000).toFixed(0)} ms`);
   console.log(`  mean tau2 over regions (REML): ${(reml.checksum / REGIONS).toFixed(4)}`);
@@ -74,9 +87,15 @@ export default async function run(): Promise<void> {
     numericColumns: {},
     categoricalColumns: {},
   };
-  const spec = modelSpecSchema.parse({ kind: "one-sample", weights: "first-level-se", tau2Method: "reml" });
+  const spec = modelSpecSchema.parse({
+    kind: "one-sample",
+    weights: "first-level-se",
+    tau2Method: "reml",
+  });
   runFit(spec, data); // warm-up
   const start = process.hrtime.bigint();
   const out = runFit(spec, data);
-  console.log(`  whole runFit (REML, with ${out.participants.length.toLocaleString("en")} participant diagnostic rows): ${(seconds(start) * 1000).toFixed(0)} ms`);
+  console.log(
+    `  whole runFit (REML, with ${out.participants.length.toLocaleString("en")} participant diagnostic rows): ${(seconds(start) * 1000).toFixed(0)} ms`,
+  );
 }

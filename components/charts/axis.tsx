@@ -33,18 +33,56 @@ export function Axis(props: AxisProps) {
     return (
       <G>
         {props.grid
-          ? ticks.map((t) => <Line key={`g${t}`} x1={scale(t)} x2={scale(t)} y1={area.top} y2={area.bottom} stroke={chart.grid} strokeWidth={1} />)
+          ? ticks.map((t) => (
+              <Line
+                key={`g${t}`}
+                x1={scale(t)}
+                x2={scale(t)}
+                y1={area.top}
+                y2={area.bottom}
+                stroke={chart.grid}
+                strokeWidth={1}
+              />
+            ))
           : null}
-        <Line x1={area.left} x2={area.right} y1={area.bottom} y2={area.bottom} stroke={chart.axis} strokeWidth={1} />
+        <Line
+          x1={area.left}
+          x2={area.right}
+          y1={area.bottom}
+          y2={area.bottom}
+          stroke={chart.axis}
+          strokeWidth={1}
+        />
         {ticks.map((t, i) => (
           <G key={`t${t}`}>
-            <Line x1={scale(t)} x2={scale(t)} y1={area.bottom} y2={area.bottom + TICK} stroke={chart.axis} strokeWidth={1} />
-            <SvgText x={scale(t)} y={area.bottom + TICK + chart.tickText} fontSize={chart.tickText} fontFamily={fonts.regular} fill={chart.text} textAnchor="middle">
+            <Line
+              x1={scale(t)}
+              x2={scale(t)}
+              y1={area.bottom}
+              y2={area.bottom + TICK}
+              stroke={chart.axis}
+              strokeWidth={1}
+            />
+            <SvgText
+              x={scale(t)}
+              y={area.bottom + TICK + chart.tickText}
+              fontSize={chart.tickText}
+              fontFamily={fonts.regular}
+              fill={chart.text}
+              textAnchor="middle"
+            >
               {labels[i]}
             </SvgText>
           </G>
         ))}
-        <SvgText x={(area.left + area.right) / 2} y={titleY} fontSize={chart.labelText} fontFamily={fonts.semibold} fill={chart.text} textAnchor="middle">
+        <SvgText
+          x={(area.left + area.right) / 2}
+          y={titleY}
+          fontSize={chart.labelText}
+          fontFamily={fonts.semibold}
+          fill={chart.text}
+          textAnchor="middle"
+        >
           {title}
         </SvgText>
       </G>
@@ -55,12 +93,36 @@ export function Axis(props: AxisProps) {
   return (
     <G>
       {props.grid
-        ? ticks.map((t) => <Line key={`g${t}`} x1={area.left} x2={area.right} y1={scale(t)} y2={scale(t)} stroke={chart.grid} strokeWidth={1} />)
+        ? ticks.map((t) => (
+            <Line
+              key={`g${t}`}
+              x1={area.left}
+              x2={area.right}
+              y1={scale(t)}
+              y2={scale(t)}
+              stroke={chart.grid}
+              strokeWidth={1}
+            />
+          ))
         : null}
-      <Line x1={area.left} x2={area.left} y1={area.top} y2={area.bottom} stroke={chart.axis} strokeWidth={1} />
+      <Line
+        x1={area.left}
+        x2={area.left}
+        y1={area.top}
+        y2={area.bottom}
+        stroke={chart.axis}
+        strokeWidth={1}
+      />
       {ticks.map((t, i) => (
         <G key={`t${t}`}>
-          <Line x1={area.left - TICK} x2={area.left} y1={scale(t)} y2={scale(t)} stroke={chart.axis} strokeWidth={1} />
+          <Line
+            x1={area.left - TICK}
+            x2={area.left}
+            y1={scale(t)}
+            y2={scale(t)}
+            stroke={chart.axis}
+            strokeWidth={1}
+          />
           <SvgText
             x={area.left - TICK - 3}
             y={scale(t) + chart.tickText * 0.35}

@@ -35,7 +35,9 @@ export function ChartFrame(props: ChartFrameProps) {
     if (w > 0 && w !== measured) setMeasured(w);
   };
   const base = chartViewport(measured, props.aspect);
-  const viewport = props.heightFor ? chartViewport(measured, props.aspect, props.heightFor(base.width)) : base;
+  const viewport = props.heightFor
+    ? chartViewport(measured, props.aspect, props.heightFor(base.width))
+    : base;
   return (
     <View style={styles.root} onLayout={onLayout} testID={props.testID}>
       {props.problem ? (
@@ -63,6 +65,11 @@ export function ChartFrame(props: ChartFrameProps) {
 
 const styles = StyleSheet.create({
   root: { width: "100%", gap: space.sm },
-  problem: { backgroundColor: palette.dangerSoft, borderRadius: radius.md, padding: space.md, gap: space.xs },
+  problem: {
+    backgroundColor: palette.dangerSoft,
+    borderRadius: radius.md,
+    padding: space.md,
+    gap: space.xs,
+  },
   problemTitle: { color: palette.danger },
 });

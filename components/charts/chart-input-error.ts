@@ -38,7 +38,9 @@ function describe(value: unknown): string {
  * message, for the plot to show in place of the drawing), any other error is
  * rethrown as a bug.
  */
-export function tryLayout<T>(compute: () => T): { layout: T; problem: null } | { layout: null; problem: string } {
+export function tryLayout<T>(
+  compute: () => T,
+): { layout: T; problem: null } | { layout: null; problem: string } {
   try {
     return { layout: compute(), problem: null };
   } catch (error) {

@@ -43,7 +43,8 @@ function checkRows(rows: readonly ForestRow[]) {
   const seen = new Set<string>();
   rows.forEach((row, i) => {
     if (!row.region) throw new ChartInputError(`rows[${i}].region`, "must name a region");
-    if (seen.has(row.region)) throw new ChartInputError(`rows[${i}].region`, `"${row.region}" appears more than once`);
+    if (seen.has(row.region))
+      throw new ChartInputError(`rows[${i}].region`, `"${row.region}" appears more than once`);
     seen.add(row.region);
     requireFinite(row.estimate, `rows[${i}].estimate`);
     if (row.low !== null) requireFinite(row.low, `rows[${i}].low`);
@@ -55,7 +56,10 @@ function checkRows(rows: readonly ForestRow[]) {
 }
 
 function layoutFor(rows: readonly ForestRow[], viewport: Viewport) {
-  const labelWidth = Math.min(viewport.width * 0.38, Math.max(...rows.map((r) => estimateTextWidth(r.region, chart.tickText)), 40));
+  const labelWidth = Math.min(
+    viewport.width * 0.38,
+    Math.max(...rows.map((r) => estimateTextWidth(r.region, chart.tickText)), 40),
+  );
   const area = plotArea(viewport, { top: TOP, right: 14, bottom: BOTTOM, left: labelWidth + 12 });
   const values = rows.flatMap((r) => [r.estimate, r.low, r.high]);
   const count = tickCountFor(area.width);
@@ -90,15 +94,45 @@ export function ForestPlot(props: ForestPlotProps) {
               const selected = row.region === props.selectedRegion;
               return (
                 <G key={row.region}>
-                  {selected ? <Rect x={0} y={top} width={viewport.width} height={chart.forestRowHeight} fill={chart.selectedRow} /> : null}
-                  <SvgText x={4} y={mid + chart.tickText * 0.35} fontSize={chart.tickText} fontFamily={selected ? fonts.semibold : fonts.regular} fill={chart.text}>
+                  {selected ? (
+                    <Rect
+                      x={0}
+                      y={top}
+                      width={viewport.width}
+                      height={chart.forestRowHeight}
+                      fill={chart.selectedRow}
+                    />
+                  ) : null}
+                  <SvgText
+                    x={4}
+                    y={mid + chart.tickText * 0.35}
+                    fontSize={chart.tickText}
+                    fontFamily={selected ? fonts.semibold : fonts.regular}
+                    fill={chart.text}
+                  >
                     {truncateLabel(row.region, labelWidth, chart.tickText)}
                   </SvgText>
                 </G>
               );
             })}
-            <Axis orientation="bottom" area={area} scale={x} ticks={ticks} labels={labels} title={props.estimateLabel} grid />
-            <Line x1={zero} x2={zero} y1={area.top} y2={area.bottom} stroke={chart.zero} strokeWidth={1} strokeDasharray="4 3" />
+            <Axis
+              orientation="bottom"
+              area={area}
+              scale={x}
+              ticks={ticks}
+              labels={labels}
+              title={props.estimateLabel}
+              grid
+            />
+            <Line
+              x1={zero}
+              x2={zero}
+              y1={area.top}
+              y2={area.bottom}
+              stroke={chart.zero}
+              strokeWidth={1}
+              strokeDasharray="4 3"
+            />
             {rows.map((row, i) => {
               const mid = TOP + i * chart.forestRowHeight + chart.forestRowHeight / 2;
               const hasInterval = row.low !== null && row.high !== null;
@@ -106,19 +140,49 @@ export function ForestPlot(props: ForestPlotProps) {
                 <G key={`m${row.region}`}>
                   {hasInterval ? (
                     <G>
-                      <Line x1={x(row.low as number)} x2={x(row.high as number)} y1={mid} y2={mid} stroke={chart.estimate} strokeWidth={chart.strokeWidth} />
-                      <Line x1={x(row.low as number)} x2={x(row.low as number)} y1={mid - 4} y2={mid + 4} stroke={chart.estimate} strokeWidth={chart.strokeWidth} />
-                      <Line x1={x(row.high as number)} x2={x(row.high as number)} y1={mid - 4} y2={mid + 4} stroke={chart.estimate} strokeWidth={chart.strokeWidth} />
+                      <Line
+                        x1={x(row.low as number)}
+                        x2={x(row.high as number)}
+                        y1={mid}
+                        y2={mid}
+                        stroke={chart.estimate}
+                        strokeWidth={chart.strokeWidth}
+                      />
+                      <Line
+                        x1={x(row.low as number)}
+                        x2={x(row.low as number)}
+                        y1={mid - 4}
+                        y2={mid + 4}
+                        stroke={chart.estimate}
+                        strokeWidth={chart.strokeWidth}
+                      />
+                      <Line
+                        x1={x(row.high as number)}
+                        x2={x(row.high as number)}
+                        y1={mid - 4}
+                        y2={mid + 4}
+                        stroke={chart.estimate}
+                        strokeWidth={chart.strokeWidth}
+                      />
                     </G>
                   ) : null}
-                  <MarkShape shape="square" cx={x(row.estimate)} cy={mid} colour={chart.estimate} r={chart.markRadius} />
+                  <MarkShape
+                    shape="square"
+                    cx={x(row.estimate)}
+                    cy={mid}
+                    colour={chart.estimate}
+                    r={chart.markRadius}
+                  />
                 </G>
               );
             })}
             {props.onSelect
               ? rows.map((row, i) => {
                   const onSelect = props.onSelect as (region: string) => void;
-                  const ci = row.low !== null && row.high !== null ? `, ${interval} ${formatValue(row.low)} to ${formatValue(row.high)}` : "";
+                  const ci =
+                    row.low !== null && row.high !== null
+                      ? `, ${interval} ${formatValue(row.low)} to ${formatValue(row.high)}`
+                      : "";
                   return (
                     <PressTarget
                       key={`p${row.region}`}

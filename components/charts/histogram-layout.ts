@@ -24,14 +24,23 @@ export interface HistogramBar {
 export function checkHistogram(edges: readonly number[], counts: readonly number[]): void {
   if (counts.length === 0) throw new ChartInputError("counts", "must hold at least one bin");
   if (edges.length !== counts.length + 1) {
-    throw new ChartInputError("edges", `must have one more entry than counts (got ${edges.length} edges for ${counts.length} counts)`);
+    throw new ChartInputError(
+      "edges",
+      `must have one more entry than counts (got ${edges.length} edges for ${counts.length} counts)`,
+    );
   }
   edges.forEach((e, i) => {
     requireFinite(e, "edges", i);
-    if (i > 0 && !(e > edges[i - 1])) throw new ChartInputError("edges", `must increase strictly (${e} follows ${edges[i - 1]})`, i);
+    if (i > 0 && !(e > edges[i - 1]))
+      throw new ChartInputError(
+        "edges",
+        `must increase strictly (${e} follows ${edges[i - 1]})`,
+        i,
+      );
   });
   counts.forEach((c, i) => {
-    if (!(Number.isInteger(c) && c >= 0)) throw new ChartInputError("counts", `must be a whole number of at least 0 (got ${c})`, i);
+    if (!(Number.isInteger(c) && c >= 0))
+      throw new ChartInputError("counts", `must be a whole number of at least 0 (got ${c})`, i);
   });
 }
 
@@ -44,10 +53,20 @@ export function isExtremeBin(x0: number, x1: number, observed: number, tail: Tai
 }
 
 /** The bars of the histogram, in the order of the bins. Cost O(bins). */
-export function histogramBars(edges: readonly number[], counts: readonly number[], observed: number, tail: Tail = "two-sided"): HistogramBar[] {
+export function histogramBars(
+  edges: readonly number[],
+  counts: readonly number[],
+  observed: number,
+  tail: Tail = "two-sided",
+): HistogramBar[] {
   checkHistogram(edges, counts);
   requireFinite(observed, "observed");
-  return counts.map((count, i) => ({ x0: edges[i], x1: edges[i + 1], count, extreme: isExtremeBin(edges[i], edges[i + 1], observed, tail) }));
+  return counts.map((count, i) => ({
+    x0: edges[i],
+    x1: edges[i + 1],
+    count,
+    extreme: isExtremeBin(edges[i], edges[i + 1], observed, tail),
+  }));
 }
 
 /** Horizontal range covering every bin and the observed statistic, padded by 4% of its length on each side. */

@@ -13,7 +13,15 @@
 import { markRoles } from "../theme";
 import { ChartInputError } from "./chart-input-error";
 import type { Flag, ParticipantMark } from "./chart-types";
-import { type LegendItem, type MarkRole, type MarkShape, markFor, primaryFlag, roleLabel, roleShape } from "./marks";
+import {
+  type LegendItem,
+  type MarkRole,
+  type MarkShape,
+  markFor,
+  primaryFlag,
+  roleLabel,
+  roleShape,
+} from "./marks";
 import { formatValue } from "./number-format";
 import { estimateTextWidth, type Viewport } from "./scales";
 import { formatTicks, tickValues } from "./ticks";
@@ -93,7 +101,9 @@ export interface PlacedLabel {
   leader: { x1: number; y1: number; x2: number; y2: number } | null;
 }
 
-export type InfluenceLegendEntry = ({ kind: "mark" } & LegendItem) | { kind: "line"; label: string; colour: string; dashed: boolean };
+export type InfluenceLegendEntry =
+  | ({ kind: "mark" } & LegendItem)
+  | { kind: "line"; label: string; colour: string; dashed: boolean };
 
 export interface InfluenceLayout {
   plot: { left: number; right: number };
@@ -150,16 +160,37 @@ const panelTitle: Record<PanelKey, string> = {
   residual: "Studentized residual, absolute value",
 };
 
-const panelFlag: Record<PanelKey, Flag> = { cook: "influence", leverage: "leverage", residual: "outlier" };
+const panelFlag: Record<PanelKey, Flag> = {
+  cook: "influence",
+  leverage: "leverage",
+  residual: "outlier",
+};
 
 function check(points: readonly InfluencePoint[], cuts: FlagCuts): void {
-  if (!(Number.isFinite(cuts.cooksDistance) && cuts.cooksDistance > 0)) throw new ChartInputError("cuts.cooksDistance", `must be a positive number (got ${cuts.cooksDistance})`);
-  if (cuts.leverage !== null && !(cuts.leverage > 0)) throw new ChartInputError("cuts.leverage", `must be a positive number (got ${cuts.leverage})`);
-  if (cuts.outlierT !== null && !(cuts.outlierT > 0)) throw new ChartInputError("cuts.outlierT", `must be a positive number (got ${cuts.outlierT})`);
+  if (!(Number.isFinite(cuts.cooksDistance) && cuts.cooksDistance > 0))
+    throw new ChartInputError(
+      "cuts.cooksDistance",
+      `must be a positive number (got ${cuts.cooksDistance})`,
+    );
+  if (cuts.leverage !== null && !(cuts.leverage > 0))
+    throw new ChartInputError("cuts.leverage", `must be a positive number (got ${cuts.leverage})`);
+  if (cuts.outlierT !== null && !(cuts.outlierT > 0))
+    throw new ChartInputError("cuts.outlierT", `must be a positive number (got ${cuts.outlierT})`);
   points.forEach((p, i) => {
-    if (p.cooksDistance !== null && !(Number.isFinite(p.cooksDistance) && p.cooksDistance >= 0)) throw new ChartInputError("points.cooksDistance", `must be zero or more (got ${p.cooksDistance})`, i);
-    if (p.leverage !== null && !(p.leverage >= 0 && p.leverage <= 1)) throw new ChartInputError("points.leverage", `must lie in [0, 1] (got ${p.leverage})`, i);
-    if (p.residual !== null && !Number.isFinite(p.residual)) throw new ChartInputError("points.residual", `must be a finite number (got ${p.residual})`, i);
+    if (p.cooksDistance !== null && !(Number.isFinite(p.cooksDistance) && p.cooksDistance >= 0))
+      throw new ChartInputError(
+        "points.cooksDistance",
+        `must be zero or more (got ${p.cooksDistance})`,
+        i,
+      );
+    if (p.leverage !== null && !(p.leverage >= 0 && p.leverage <= 1))
+      throw new ChartInputError("points.leverage", `must lie in [0, 1] (got ${p.leverage})`, i);
+    if (p.residual !== null && !Number.isFinite(p.residual))
+      throw new ChartInputError(
+        "points.residual",
+        `must be a finite number (got ${p.residual})`,
+        i,
+      );
   });
 }
 
@@ -181,7 +212,13 @@ export function extraFlags(flags: readonly Flag[]): Flag[] {
 }
 
 /** Text box of `text` at baseline `y`, anchored at `x`. */
-export function labelBox(text: string, x: number, y: number, anchor: "start" | "middle" | "end", fontSize: number): Box {
+export function labelBox(
+  text: string,
+  x: number,
+  y: number,
+  anchor: "start" | "middle" | "end",
+  fontSize: number,
+): Box {
   const w = estimateTextWidth(text, fontSize);
   const left = anchor === "start" ? x : anchor === "middle" ? x - w / 2 : x - w;
   return { left, top: y - fontSize, right: left + w, bottom: y + 3 };
@@ -220,10 +257,32 @@ export function placeLabels(
       for (const anchor of ["middle", "start", "end"] as const) {
         const x = anchor === "middle" ? w.x : anchor === "start" ? w.x - 2 : w.x + 2;
         const box = labelBox(w.text, x, y, anchor, fontSize);
-        if (box.left < bounds.left || box.right > bounds.right || box.top < bounds.top || box.bottom > bounds.bottom) continue;
-        if (taken.some((t) => boxesOverlap(t, box)) || leaders.some((t) => boxesOverlap(t, box))) continue;
-        const leader = k === 0 ? null : { x1: w.x, y1: w.y - markRadius - 1, x2: Math.min(box.right, Math.max(box.left, w.x)), y2: box.bottom };
-        const span = leader ? { left: Math.min(leader.x1, leader.x2) - 0.5, right: Math.max(leader.x1, leader.x2) + 0.5, top: leader.y2, bottom: leader.y1 } : null;
+        if (
+          box.left < bounds.left ||
+          box.right > bounds.right ||
+          box.top < bounds.top ||
+          box.bottom > bounds.bottom
+        )
+          continue;
+        if (taken.some((t) => boxesOverlap(t, box)) || leaders.some((t) => boxesOverlap(t, box)))
+          continue;
+        const leader =
+          k === 0
+            ? null
+            : {
+                x1: w.x,
+                y1: w.y - markRadius - 1,
+                x2: Math.min(box.right, Math.max(box.left, w.x)),
+                y2: box.bottom,
+              };
+        const span = leader
+          ? {
+              left: Math.min(leader.x1, leader.x2) - 0.5,
+              right: Math.max(leader.x1, leader.x2) + 0.5,
+              top: leader.y2,
+              bottom: leader.y1,
+            }
+          : null;
         if (span && taken.some((t) => boxesOverlap(t, span))) continue;
         if (span) leaders.push(span);
         done = { id: w.id, text: w.text, x, y, anchor, box, leader };
@@ -243,7 +302,11 @@ export function placeLabels(
  * flags' cut-offs `cuts`. Every cut-off that is given is drawn: each panel's
  * range reaches past its cut-off. Throws ChartInputError on bad input.
  */
-export function influenceLayout(points: readonly InfluencePoint[], cuts: FlagCuts, viewport: Viewport): InfluenceLayout {
+export function influenceLayout(
+  points: readonly InfluencePoint[],
+  cuts: FlagCuts,
+  viewport: Viewport,
+): InfluenceLayout {
   check(points, cuts);
   const g = influenceGeometry;
   const ordered = influenceOrder(points);
@@ -252,7 +315,11 @@ export function influenceLayout(points: readonly InfluencePoint[], cuts: FlagCut
     leverage: (p) => p.leverage,
     residual: (p) => (p.residual === null ? null : Math.abs(p.residual)),
   };
-  const cutOf: Record<PanelKey, number | null> = { cook: cuts.cooksDistance, leverage: cuts.leverage, residual: cuts.outlierT };
+  const cutOf: Record<PanelKey, number | null> = {
+    cook: cuts.cooksDistance,
+    leverage: cuts.leverage,
+    residual: cuts.outlierT,
+  };
   const keys: PanelKey[] = ["cook", "leverage", "residual"];
   // value ranges and tick labels first: the left margin fits the widest tick label
   const ranges = keys.map((key) => {
@@ -265,10 +332,17 @@ export function influenceLayout(points: readonly InfluencePoint[], cuts: FlagCut
     const ticks = tickValues([0, max], 3).filter((t) => t >= 0 && t <= max);
     return { key, max, ticks, labels: formatTicks(ticks) };
   });
-  const widest = ranges.reduce((m, r) => r.labels.reduce((mm, l) => Math.max(mm, estimateTextWidth(l, g.tickText)), m), 0);
+  const widest = ranges.reduce(
+    (m, r) => r.labels.reduce((mm, l) => Math.max(mm, estimateTextWidth(l, g.tickText)), m),
+    0,
+  );
   const left = Math.ceil(widest + 10);
   const right = viewport.width - g.right;
-  if (right - left < 40) throw new ChartInputError("viewport", `is too narrow for the influence view (${viewport.width} px)`);
+  if (right - left < 40)
+    throw new ChartInputError(
+      "viewport",
+      `is too narrow for the influence view (${viewport.width} px)`,
+    );
   // panel heights: Cook's distance gets half the room, leverage and residual a quarter each
   const usable = viewport.height - g.bottom - 3 * g.titleBand - 2 * g.gap;
   const shares: Record<PanelKey, number> = { cook: 0.5, leverage: 0.25, residual: 0.25 };
@@ -289,7 +363,15 @@ export function influenceLayout(points: readonly InfluencePoint[], cuts: FlagCut
       const text = cutText[flag](cutValue);
       const textX = right - 2;
       const textY = y - 3;
-      cut = { flag, value: cutValue, y, text, textX, textY, box: labelBox(text, textX, textY, "end", g.tickText) };
+      cut = {
+        flag,
+        value: cutValue,
+        y,
+        text,
+        textX,
+        textY,
+        box: labelBox(text, textX, textY, "end", g.tickText),
+      };
     }
     panels.push({
       key: r.key,
@@ -318,7 +400,14 @@ export function influenceLayout(points: readonly InfluencePoint[], cuts: FlagCut
         cy === null
           ? []
           : [
-              { shape: style.shape, colour: style.colour, hollow: style.hollow, cx: x, cy, r: g.markRadius },
+              {
+                shape: style.shape,
+                colour: style.colour,
+                hollow: style.hollow,
+                cx: x,
+                cy,
+                r: g.markRadius,
+              },
               ...extras.map((f, k) => ({
                 shape: roleShape[f],
                 colour: p.setAside ? markRoles.setAside : markRoles[f],
@@ -335,12 +424,22 @@ export function influenceLayout(points: readonly InfluencePoint[], cuts: FlagCut
   const cook = panels[0];
   const wanted = placed
     .filter((p) => p.flags.length > 0 && p.y.cook !== null)
-    .map((p) => ({ id: p.id, text: p.id, x: p.x, y: (p.y.cook as number) - extraFlags(p.flags).length * (2 * g.cueRadius + 1.5) }));
+    .map((p) => ({
+      id: p.id,
+      text: p.id,
+      x: p.x,
+      y: (p.y.cook as number) - extraFlags(p.flags).length * (2 * g.cueRadius + 1.5),
+    }));
   const obstacles = panels.flatMap((p) => (p.cut ? [p.cut.box] : []));
-  const { labels, unplaced } = placeLabels(wanted, { left: 0, top: cook.top, right: viewport.width, bottom: cook.bottom }, obstacles, {
-    fontSize: g.labelText,
-    markRadius: g.markRadius,
-  });
+  const { labels, unplaced } = placeLabels(
+    wanted,
+    { left: 0, top: cook.top, right: viewport.width, bottom: cook.bottom },
+    obstacles,
+    {
+      fontSize: g.labelText,
+      markRadius: g.markRadius,
+    },
+  );
   return {
     plot: { left, right },
     panels,
@@ -349,12 +448,26 @@ export function influenceLayout(points: readonly InfluencePoint[], cuts: FlagCut
     unlabelled: unplaced.length,
     undefinedCook: placed.filter((p) => p.y.cook === null).length,
     legend: legendFor(placed, panels),
-    axisTitle: { x: (left + right) / 2, y: viewport.height - 22, text: "Participants, largest Cook's distance first" },
-    note: noteFor(unplaced.length, placed.filter((p) => p.y.cook === null).length, (left + right) / 2, viewport.height - 5),
+    axisTitle: {
+      x: (left + right) / 2,
+      y: viewport.height - 22,
+      text: "Participants, largest Cook's distance first",
+    },
+    note: noteFor(
+      unplaced.length,
+      placed.filter((p) => p.y.cook === null).length,
+      (left + right) / 2,
+      viewport.height - 5,
+    ),
   };
 }
 
-function noteFor(unlabelled: number, undefinedCook: number, x: number, y: number): InfluenceLayout["note"] {
+function noteFor(
+  unlabelled: number,
+  undefinedCook: number,
+  x: number,
+  y: number,
+): InfluenceLayout["note"] {
   const parts: string[] = [];
   if (unlabelled > 0) parts.push(`${unlabelled} more flagged, not named`);
   if (undefinedCook > 0) parts.push(`${undefinedCook} at leverage 1, no Cook's distance`);
@@ -362,7 +475,10 @@ function noteFor(unlabelled: number, undefinedCook: number, x: number, y: number
 }
 
 /** Legend entries for the marks and cut-off lines actually drawn, in a fixed order. */
-export function legendFor(points: readonly PlacedInfluence[], panels: readonly Panel[]): InfluenceLegendEntry[] {
+export function legendFor(
+  points: readonly PlacedInfluence[],
+  panels: readonly Panel[],
+): InfluenceLegendEntry[] {
   const present = new Set<MarkRole>();
   for (const p of points) {
     const drawn = Object.values(p.cues).some((c) => c.length > 0);
@@ -374,9 +490,25 @@ export function legendFor(points: readonly PlacedInfluence[], panels: readonly P
   const order: MarkRole[] = ["participant", "outlier", "leverage", "influence", "setAside"];
   const marks: InfluenceLegendEntry[] = order
     .filter((r) => present.has(r))
-    .map((role) => ({ kind: "mark", role, label: roleLabel[role], shape: roleShape[role], colour: markRoles[role], hollow: role === "setAside" }));
+    .map((role) => ({
+      kind: "mark",
+      role,
+      label: roleLabel[role],
+      shape: roleShape[role],
+      colour: markRoles[role],
+      hollow: role === "setAside",
+    }));
   const lines: InfluenceLegendEntry[] = panels.flatMap((p) =>
-    p.cut ? [{ kind: "line" as const, label: `${cutLegend[p.cut.flag]} (${formatValue(p.cut.value)})`, colour: cutColour[p.cut.flag], dashed: true }] : [],
+    p.cut
+      ? [
+          {
+            kind: "line" as const,
+            label: `${cutLegend[p.cut.flag]} (${formatValue(p.cut.value)})`,
+            colour: cutColour[p.cut.flag],
+            dashed: true,
+          },
+        ]
+      : [],
   );
   return [...marks, ...lines];
 }

@@ -45,9 +45,29 @@ export function Legend(props: LegendProps) {
 
 function Swatch({ entry }: { entry: LegendEntry }) {
   const mid = SWATCH / 2;
-  if (entry.kind === "mark") return <MarkShape shape={entry.shape} cx={mid} cy={mid} colour={entry.colour} hollow={entry.hollow} />;
-  if (entry.kind === "band") return <Rect x={1} y={4} width={SWATCH - 2} height={SWATCH - 8} fill={entry.colour} />;
-  return <Line x1={1} x2={SWATCH - 1} y1={mid} y2={mid} stroke={entry.colour} strokeWidth={2} strokeDasharray={entry.dashed ? "4 3" : undefined} />;
+  if (entry.kind === "mark")
+    return (
+      <MarkShape
+        shape={entry.shape}
+        cx={mid}
+        cy={mid}
+        colour={entry.colour}
+        hollow={entry.hollow}
+      />
+    );
+  if (entry.kind === "band")
+    return <Rect x={1} y={4} width={SWATCH - 2} height={SWATCH - 8} fill={entry.colour} />;
+  return (
+    <Line
+      x1={1}
+      x2={SWATCH - 1}
+      y1={mid}
+      y2={mid}
+      stroke={entry.colour}
+      strokeWidth={2}
+      strokeDasharray={entry.dashed ? "4 3" : undefined}
+    />
+  );
 }
 
 /** Legend entries for participant marks. */
@@ -56,7 +76,13 @@ export function markEntries(items: readonly LegendItem[]): LegendEntry[] {
 }
 
 const styles = StyleSheet.create({
-  root: { flexDirection: "row", flexWrap: "wrap", columnGap: space.lg, rowGap: space.xs, paddingHorizontal: space.xs },
+  root: {
+    flexDirection: "row",
+    flexWrap: "wrap",
+    columnGap: space.lg,
+    rowGap: space.xs,
+    paddingHorizontal: space.xs,
+  },
   item: { flexDirection: "row", alignItems: "center", gap: space.xs, minHeight: 20 },
   label: { color: chart.text },
 });

@@ -22,7 +22,24 @@ export function MarkShape(props: MarkShapeProps) {
   const stroke = props.hollow ? props.colour : palette.surface;
   const strokeWidth = props.hollow ? chart.strokeWidth : 0.75;
   if (props.shape === "circle") {
-    return <Circle cx={props.cx} cy={props.cy} r={r} fill={fill} stroke={stroke} strokeWidth={strokeWidth} />;
+    return (
+      <Circle
+        cx={props.cx}
+        cy={props.cy}
+        r={r}
+        fill={fill}
+        stroke={stroke}
+        strokeWidth={strokeWidth}
+      />
+    );
   }
-  return <Path d={polygonPath(shapeVertices(props.shape, props.cx, props.cy, r))} fill={fill} stroke={stroke} strokeWidth={strokeWidth} strokeLinejoin="round" />;
+  return (
+    <Path
+      d={polygonPath(shapeVertices(props.shape, props.cx, props.cy, r))}
+      fill={fill}
+      stroke={stroke}
+      strokeWidth={strokeWidth}
+      strokeLinejoin="round"
+    />
+  );
 }

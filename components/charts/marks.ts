@@ -58,7 +58,8 @@ export function primaryFlag(flags: readonly Flag[]): Flag | null {
 export function markFor(flags: readonly Flag[], setAside = false): MarkStyle {
   const flag = primaryFlag(flags);
   const role: MarkRole = flag ?? "participant";
-  if (setAside) return { role: "setAside", shape: roleShape[role], colour: markRoles.setAside, hollow: true };
+  if (setAside)
+    return { role: "setAside", shape: roleShape[role], colour: markRoles.setAside, hollow: true };
   return { role, shape: roleShape[role], colour: markRoles[role], hollow: false };
 }
 
@@ -80,7 +81,10 @@ function joinWords(words: readonly string[]): string {
  * The accessible name of one mark: "sub-12: trait 31, contrast 0.42, flagged
  * outlier". Values are printed with three significant digits.
  */
-export function describePoint(mark: ParticipantMark, values: readonly { name: string; value: number | null }[]): string {
+export function describePoint(
+  mark: ParticipantMark,
+  values: readonly { name: string; value: number | null }[],
+): string {
   const parts = values.map((v) => `${v.name} ${formatValue(v.value)}`);
   const state = flagPhrase(mark.flags, mark.setAside ?? false);
   if (state) parts.push(state);
@@ -119,7 +123,12 @@ export function legendItemsFor(marks: Iterable<ParticipantMark>): LegendItem[] {
 }
 
 /** Vertices of a shape of the same area as a circle of radius `r` centred on (cx, cy); empty for a circle. */
-export function shapeVertices(shape: MarkShape, cx: number, cy: number, r: number): [number, number][] {
+export function shapeVertices(
+  shape: MarkShape,
+  cx: number,
+  cy: number,
+  r: number,
+): [number, number][] {
   switch (shape) {
     case "circle":
       return [];

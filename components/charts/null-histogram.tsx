@@ -38,12 +38,18 @@ export function NullHistogram(props: NullHistogramProps) {
   const tail = props.tail ?? "two-sided";
   const result = tryLayout(() => {
     requireFinite(props.p, "p");
-    if (props.p < 0 || props.p > 1) throw new ChartInputError("p", `must lie in [0, 1] (got ${props.p})`);
+    if (props.p < 0 || props.p > 1)
+      throw new ChartInputError("p", `must lie in [0, 1] (got ${props.p})`);
     const bars = histogramBars(props.edges, props.counts, props.observed, tail);
-    return { bars, caption: `Observed ${props.statisticName} = ${formatValue(props.observed)}, ${formatP(props.p)}` };
+    return {
+      bars,
+      caption: `Observed ${props.statisticName} = ${formatValue(props.observed)}, ${formatP(props.p)}`,
+    };
   });
   const total = totalCount(props.counts);
-  const caption = result.layout ? `${result.layout.caption} (${formatCount(total)} rearrangements, ${tail === "two-sided" ? "two-sided" : "one-sided"})` : "";
+  const caption = result.layout
+    ? `${result.layout.caption} (${formatCount(total)} rearrangements, ${tail === "two-sided" ? "two-sided" : "one-sided"})`
+    : "";
   return (
     <ChartFrame
       label={`Histogram of ${props.statisticName} over ${formatCount(total)} rearrangements of the data, with the observed value marked. ${caption}.`}
@@ -59,7 +65,11 @@ export function NullHistogram(props: NullHistogramProps) {
             <Legend
               entries={[
                 { kind: "band", label: "rearrangements", colour: chart.bar },
-                { kind: "band", label: "as or more extreme than observed", colour: chart.barExtreme },
+                {
+                  kind: "band",
+                  label: "as or more extreme than observed",
+                  colour: chart.barExtreme,
+                },
                 { kind: "line", label: `observed ${props.statisticName}`, colour: chart.observed },
               ]}
             />
@@ -89,8 +99,23 @@ export function NullHistogram(props: NullHistogramProps) {
         const labelOnLeft = ox > (area.left + area.right) / 2;
         return (
           <G>
-            <Axis orientation="left" area={area} scale={y} ticks={yTicks} labels={yLabels} title="Rearrangements" grid />
-            <Axis orientation="bottom" area={area} scale={x} ticks={xTicks} labels={formatTicks(xTicks)} title={props.statisticName} />
+            <Axis
+              orientation="left"
+              area={area}
+              scale={y}
+              ticks={yTicks}
+              labels={yLabels}
+              title="Rearrangements"
+              grid
+            />
+            <Axis
+              orientation="bottom"
+              area={area}
+              scale={x}
+              ticks={xTicks}
+              labels={formatTicks(xTicks)}
+              title={props.statisticName}
+            />
             {layout.bars.map((b) => (
               <Rect
                 key={`${b.x0}`}
@@ -101,7 +126,14 @@ export function NullHistogram(props: NullHistogramProps) {
                 fill={b.extreme ? chart.barExtreme : chart.bar}
               />
             ))}
-            <Line x1={ox} x2={ox} y1={area.top - 8} y2={area.bottom} stroke={chart.observed} strokeWidth={2} />
+            <Line
+              x1={ox}
+              x2={ox}
+              y1={area.top - 8}
+              y2={area.bottom}
+              stroke={chart.observed}
+              strokeWidth={2}
+            />
             <SvgText
               x={labelOnLeft ? ox - 4 : ox + 4}
               y={area.top - 6}

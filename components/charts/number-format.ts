@@ -74,7 +74,9 @@ const SUPERSCRIPT: Record<string, string> = {
 };
 
 function scientific(value: number, digits: number): string {
-  const [mantissa, exponent] = Math.abs(value).toExponential(digits - 1).split("e");
+  const [mantissa, exponent] = Math.abs(value)
+    .toExponential(digits - 1)
+    .split("e");
   const m = mantissa.includes(".") ? mantissa.replace(/0+$/, "").replace(/\.$/, "") : mantissa;
   const e = String(Number(exponent))
     .split("")
@@ -93,7 +95,8 @@ export function formatCount(value: number): string {
  * otherwise "p = 0.034" (three decimals). Throws a RangeError outside [0, 1].
  */
 export function formatP(p: number): string {
-  if (!Number.isFinite(p) || p < 0 || p > 1) throw new RangeError(`formatP: p must lie in [0, 1] (got ${p})`);
+  if (!Number.isFinite(p) || p < 0 || p > 1)
+    throw new RangeError(`formatP: p must lie in [0, 1] (got ${p})`);
   if (p < 0.001) return "p < 0.001";
   return `p = ${p.toFixed(3)}`;
 }

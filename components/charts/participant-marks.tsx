@@ -40,7 +40,16 @@ export function ParticipantMarks(props: ParticipantMarksProps) {
     <G>
       {drawn.map((m) => {
         const style = markFor(m.flags, m.setAside ?? false);
-        return <MarkShape key={m.id} shape={style.shape} cx={m.cx} cy={m.cy} colour={style.colour} hollow={style.hollow} />;
+        return (
+          <MarkShape
+            key={m.id}
+            shape={style.shape}
+            cx={m.cx}
+            cy={m.cy}
+            colour={style.colour}
+            hollow={style.hollow}
+          />
+        );
       })}
       {onPress
         ? focusOrder.map((m) => (

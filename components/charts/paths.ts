@@ -8,7 +8,11 @@ import { round2 } from "./marks";
 export type Scale = (value: number) => number;
 
 /** Path data of a polyline through (x, y) points in the given order; a non-finite point starts a new piece. */
-export function linePath(points: readonly { x: number; y: number }[], sx: Scale, sy: Scale): string {
+export function linePath(
+  points: readonly { x: number; y: number }[],
+  sx: Scale,
+  sy: Scale,
+): string {
   let d = "";
   let pen = false;
   for (const p of points) {
@@ -35,9 +39,13 @@ export interface BandPoint {
  * left out. Empty when fewer than two points remain. Cost O(n log n).
  */
 export function bandPath(band: readonly BandPoint[], sx: Scale, sy: Scale): string {
-  const pts = band.filter((b) => [b.x, b.low, b.high].every(Number.isFinite)).sort((a, b) => a.x - b.x);
+  const pts = band
+    .filter((b) => [b.x, b.low, b.high].every(Number.isFinite))
+    .sort((a, b) => a.x - b.x);
   if (pts.length < 2) return "";
-  const upper = pts.map((b, i) => `${i === 0 ? "M" : "L"}${round2(sx(b.x))},${round2(sy(b.high))}`).join("");
+  const upper = pts
+    .map((b, i) => `${i === 0 ? "M" : "L"}${round2(sx(b.x))},${round2(sy(b.high))}`)
+    .join("");
   const lower = pts
     .slice()
     .reverse()

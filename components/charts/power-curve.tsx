@@ -31,16 +31,24 @@ export interface PowerCurveProps {
 export function PowerCurve(props: PowerCurveProps) {
   const result = tryLayout(() => {
     requireFinite(props.targetPower, "targetPower");
-    if (props.targetPower <= 0 || props.targetPower >= 1) throw new ChartInputError("targetPower", `must lie strictly between 0 and 1 (got ${props.targetPower})`);
+    if (props.targetPower <= 0 || props.targetPower >= 1)
+      throw new ChartInputError(
+        "targetPower",
+        `must lie strictly between 0 and 1 (got ${props.targetPower})`,
+      );
     if (props.answerN !== null) {
       requireFinite(props.answerN, "answerN");
-      if (props.answerN <= 0) throw new ChartInputError("answerN", `must be positive (got ${props.answerN})`);
+      if (props.answerN <= 0)
+        throw new ChartInputError("answerN", `must be positive (got ${props.answerN})`);
     }
     return checkPowerPoints(props.points);
   });
   const nLabel = props.nLabel ?? "Participants (N)";
   const target = formatPercent(props.targetPower);
-  const answerWords = props.answerN !== null ? `N = ${formatCount(props.answerN)} reaches ${target} power` : `no N on the curve reaches ${target} power`;
+  const answerWords =
+    props.answerN !== null
+      ? `N = ${formatCount(props.answerN)} reaches ${target} power`
+      : `no N on the curve reaches ${target} power`;
   return (
     <ChartFrame
       label={`Power curve: power against the number of participants, with the ${target} target marked; ${answerWords}.`}
@@ -52,7 +60,16 @@ export function PowerCurve(props: PowerCurveProps) {
           entries={[
             { kind: "line", label: "power", colour: chart.curve },
             { kind: "line", label: `target ${target}`, colour: chart.reference, dashed: true },
-            ...(props.answerN !== null ? [{ kind: "line" as const, label: `N = ${formatCount(props.answerN)}`, colour: chart.estimate, dashed: true }] : []),
+            ...(props.answerN !== null
+              ? [
+                  {
+                    kind: "line" as const,
+                    label: `N = ${formatCount(props.answerN)}`,
+                    colour: chart.estimate,
+                    dashed: true,
+                  },
+                ]
+              : []),
           ]}
         />
       }
@@ -79,7 +96,15 @@ export function PowerCurve(props: PowerCurveProps) {
         const ax = props.answerN !== null ? x(props.answerN) : null;
         return (
           <G>
-            <Axis orientation="left" area={area} scale={y} ticks={yTicks} labels={yLabels} title="Power" grid />
+            <Axis
+              orientation="left"
+              area={area}
+              scale={y}
+              ticks={yTicks}
+              labels={yLabels}
+              title="Power"
+              grid
+            />
             <Axis
               orientation="bottom"
               area={area}
@@ -88,8 +113,25 @@ export function PowerCurve(props: PowerCurveProps) {
               labels={xTicks.map((t) => formatCount(t))}
               title={nLabel}
             />
-            <Line x1={area.left} x2={area.right} y1={ty} y2={ty} stroke={chart.reference} strokeWidth={1.5} strokeDasharray="6 4" />
-            <Path d={linePath(sorted.map((p) => ({ x: p.n, y: p.power })), x, y)} fill="none" stroke={chart.curve} strokeWidth={2.5} />
+            <Line
+              x1={area.left}
+              x2={area.right}
+              y1={ty}
+              y2={ty}
+              stroke={chart.reference}
+              strokeWidth={1.5}
+              strokeDasharray="6 4"
+            />
+            <Path
+              d={linePath(
+                sorted.map((p) => ({ x: p.n, y: p.power })),
+                x,
+                y,
+              )}
+              fill="none"
+              stroke={chart.curve}
+              strokeWidth={2.5}
+            />
             {ax !== null ? (
               <G>
                 <Line
@@ -101,7 +143,14 @@ export function PowerCurve(props: PowerCurveProps) {
                   strokeWidth={1.5}
                   strokeDasharray="4 3"
                 />
-                {answerPower !== null ? <Circle cx={ax} cy={y(answerPower)} r={chart.markRadius + 1} fill={chart.estimate} /> : null}
+                {answerPower !== null ? (
+                  <Circle
+                    cx={ax}
+                    cy={y(answerPower)}
+                    r={chart.markRadius + 1}
+                    fill={chart.estimate}
+                  />
+                ) : null}
                 <SvgText
                   x={ax > (area.left + area.right) / 2 ? ax - 6 : ax + 6}
                   y={(answerPower !== null ? y(answerPower) : area.top) + 16}

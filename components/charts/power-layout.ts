@@ -22,11 +22,13 @@ export function checkPowerPoints(points: readonly PowerPoint[]): PowerPoint[] {
     requireFinite(p.n, `points[${i}].n`);
     requireFinite(p.power, `points[${i}].power`);
     if (p.n <= 0) throw new ChartInputError(`points[${i}].n`, `must be positive (got ${p.n})`);
-    if (p.power < 0 || p.power > 1) throw new ChartInputError(`points[${i}].power`, `must lie in [0, 1] (got ${p.power})`);
+    if (p.power < 0 || p.power > 1)
+      throw new ChartInputError(`points[${i}].power`, `must lie in [0, 1] (got ${p.power})`);
   });
   const sorted = points.map((p) => ({ n: p.n, power: p.power })).sort((a, b) => a.n - b.n);
   for (let i = 1; i < sorted.length; i++) {
-    if (sorted[i].n === sorted[i - 1].n) throw new ChartInputError("points", `N = ${sorted[i].n} appears more than once`);
+    if (sorted[i].n === sorted[i - 1].n)
+      throw new ChartInputError("points", `N = ${sorted[i].n} appears more than once`);
   }
   return sorted;
 }

@@ -33,7 +33,16 @@ export function PressTarget(props: PressTargetProps) {
       <title>{props.label}</title>
       <rect x={x} y={y} width={width} height={height} rx={rx} fill="transparent" />
       {focused || props.selected ? (
-        <rect x={x + 1} y={y + 1} width={width - 2} height={height - 2} rx={Math.max(0, rx - 1)} fill="none" stroke={chart.focus} strokeWidth={2} />
+        <rect
+          x={x + 1}
+          y={y + 1}
+          width={width - 2}
+          height={height - 2}
+          rx={Math.max(0, rx - 1)}
+          fill="none"
+          stroke={chart.focus}
+          strokeWidth={2}
+        />
       ) : null}
     </g>
   );

@@ -33,10 +33,17 @@ export interface PlotArea {
  * theme's default width is used; the SVG still scales to fill its box
  * through its viewBox. `height` can be fixed instead (forest plot rows).
  */
-export function chartViewport(measuredWidth: number | null, aspect: number, fixedHeight?: number): Viewport {
+export function chartViewport(
+  measuredWidth: number | null,
+  aspect: number,
+  fixedHeight?: number,
+): Viewport {
   const raw = measuredWidth !== null && measuredWidth > 0 ? measuredWidth : chart.defaultWidth;
   const width = Math.round(Math.min(chart.maxWidth, Math.max(chart.minWidth, raw)));
-  const height = fixedHeight !== undefined ? Math.round(fixedHeight) : Math.round(width / (aspect > 0 ? aspect : 1.4));
+  const height =
+    fixedHeight !== undefined
+      ? Math.round(fixedHeight)
+      : Math.round(width / (aspect > 0 ? aspect : 1.4));
   return { width, height };
 }
 
@@ -45,9 +52,18 @@ export function plotArea(viewport: Viewport, margins: Margins): PlotArea {
   const width = viewport.width - margins.left - margins.right;
   const height = viewport.height - margins.top - margins.bottom;
   if (width <= 0 || height <= 0) {
-    throw new RangeError(`plotArea: margins ${JSON.stringify(margins)} leave no room in ${viewport.width}×${viewport.height}`);
+    throw new RangeError(
+      `plotArea: margins ${JSON.stringify(margins)} leave no room in ${viewport.width}×${viewport.height}`,
+    );
   }
-  return { left: margins.left, top: margins.top, right: margins.left + width, bottom: margins.top + height, width, height };
+  return {
+    left: margins.left,
+    top: margins.top,
+    right: margins.left + width,
+    bottom: margins.top + height,
+    width,
+    height,
+  };
 }
 
 /**
@@ -56,7 +72,10 @@ export function plotArea(viewport: Viewport, margins: Margins): PlotArea {
  * side. A single value v gives v ± |v|/10 (±1 around zero); no finite value
  * at all gives [0, 1]. Cost O(n).
  */
-export function paddedExtent(values: Iterable<number | null | undefined>, options: { include?: readonly number[]; pad?: number } = {}): [number, number] {
+export function paddedExtent(
+  values: Iterable<number | null | undefined>,
+  options: { include?: readonly number[]; pad?: number } = {},
+): [number, number] {
   let lo = Number.POSITIVE_INFINITY;
   let hi = Number.NEGATIVE_INFINITY;
   const take = (v: number | null | undefined) => {
@@ -89,7 +108,11 @@ export function truncateLabel(text: string, maxWidth: number, fontSize: number):
 }
 
 /** Left margin that fits the widest of `labels` plus the rotated axis title and a gap. */
-export function leftMarginFor(labels: readonly string[], fontSize: number, titleSize: number): number {
+export function leftMarginFor(
+  labels: readonly string[],
+  fontSize: number,
+  titleSize: number,
+): number {
   const widest = labels.reduce((m, l) => Math.max(m, estimateTextWidth(l, fontSize)), 0);
   return Math.ceil(widest + titleSize + 14);
 }

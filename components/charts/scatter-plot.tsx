@@ -47,23 +47,39 @@ function check(points: readonly ScatterPoint[]) {
   const seen = new Set<string>();
   points.forEach((p, i) => {
     if (!p.id) throw new ChartInputError(`points[${i}].id`, "must name a participant");
-    if (seen.has(p.id)) throw new ChartInputError(`points[${i}].id`, `"${p.id}" appears more than once`);
+    if (seen.has(p.id))
+      throw new ChartInputError(`points[${i}].id`, `"${p.id}" appears more than once`);
     seen.add(p.id);
   });
 }
 
 const isFiniteNumber = (v: number | null): v is number => v !== null && Number.isFinite(v);
 
-function layoutFor(props: ScatterPlotProps, shown: readonly (ScatterPoint & { x: number; y: number })[], viewport: Viewport) {
+function layoutFor(
+  props: ScatterPlotProps,
+  shown: readonly (ScatterPoint & { x: number; y: number })[],
+  viewport: Viewport,
+) {
   const band = props.band ?? [];
   const yCount = tickCountFor(viewport.height - 60, 44);
-  const yDomain = niceDomain(paddedExtent([...shown.map((p) => p.y), ...band.flatMap((b) => [b.low, b.high, b.fit])]), yCount);
+  const yDomain = niceDomain(
+    paddedExtent([...shown.map((p) => p.y), ...band.flatMap((b) => [b.low, b.high, b.fit])]),
+    yCount,
+  );
   const yTicks = tickValues(yDomain, yCount);
   const yLabels = formatTicks(yTicks);
   const left = leftMarginFor(yLabels, chart.tickText, chart.labelText);
-  const area = plotArea(viewport, { top: 10, right: 14, bottom: chart.tickText + chart.labelText + 18, left });
+  const area = plotArea(viewport, {
+    top: 10,
+    right: 14,
+    bottom: chart.tickText + chart.labelText + 18,
+    left,
+  });
   const xCount = tickCountFor(area.width);
-  const xDomain = niceDomain(paddedExtent([...shown.map((p) => p.x), ...band.map((b) => b.x)]), xCount);
+  const xDomain = niceDomain(
+    paddedExtent([...shown.map((p) => p.x), ...band.map((b) => b.x)]),
+    xCount,
+  );
   const xTicks = tickValues(xDomain, xCount);
   const x = scaleLinear().domain(xDomain).range([area.left, area.right]);
   const y = scaleLinear().domain(yDomain).range([area.bottom, area.top]);
@@ -74,13 +90,19 @@ export function ScatterPlot(props: ScatterPlotProps) {
   const xName = props.xName ?? "trait";
   const yName = props.yName ?? "contrast";
   const checked = tryLayout(() => check(props.points));
-  const shown = props.points.filter((p): p is ScatterPoint & { x: number; y: number } => isFiniteNumber(p.x) && isFiniteNumber(p.y));
+  const shown = props.points.filter(
+    (p): p is ScatterPoint & { x: number; y: number } => isFiniteNumber(p.x) && isFiniteNumber(p.y),
+  );
   const hidden = props.points.length - shown.length;
   const band = props.band ?? [];
   const entries: LegendEntry[] = markEntries(legendItemsFor(shown));
   if (band.length > 0) {
     entries.push({ kind: "line", label: "fitted line", colour: markRoles.fit });
-    entries.push({ kind: "band", label: props.bandLabel ?? "95% confidence band", colour: markRoles.band });
+    entries.push({
+      kind: "band",
+      label: props.bandLabel ?? "95% confidence band",
+      colour: markRoles.band,
+    });
   }
   const description =
     `Scatter plot of ${props.yLabel} against ${props.xLabel} for ${shown.length} participant${shown.length === 1 ? "" : "s"}` +
@@ -109,8 +131,23 @@ export function ScatterPlot(props: ScatterPlotProps) {
         }));
         return (
           <G>
-            <Axis orientation="left" area={area} scale={y} ticks={yTicks} labels={yLabels} title={props.yLabel} grid />
-            <Axis orientation="bottom" area={area} scale={x} ticks={xTicks} labels={xLabels} title={props.xLabel} />
+            <Axis
+              orientation="left"
+              area={area}
+              scale={y}
+              ticks={yTicks}
+              labels={yLabels}
+              title={props.yLabel}
+              grid
+            />
+            <Axis
+              orientation="bottom"
+              area={area}
+              scale={x}
+              ticks={xTicks}
+              labels={xLabels}
+              title={props.xLabel}
+            />
             {band.length > 1 ? <Path d={bandPath(band, x, y)} fill={markRoles.band} /> : null}
             {band.length > 1 ? (
               <Path
@@ -127,7 +164,11 @@ export function ScatterPlot(props: ScatterPlotProps) {
                 strokeWidth={2}
               />
             ) : null}
-            <ParticipantMarks marks={marks} selectedId={props.selectedId} onPress={props.onPointPress} />
+            <ParticipantMarks
+              marks={marks}
+              selectedId={props.selectedId}
+              onPress={props.onPointPress}
+            />
           </G>
         );
       }}

@@ -49,24 +49,35 @@ export function stripLayout(
   groups: readonly StripGroupInput[],
   points: readonly StripPointInput[],
 ): { placements: Map<string, StripPlacement>; counts: number[] } {
-  if (groups.length < 1 || groups.length > 2) throw new ChartInputError("groups", `must hold one or two groups (got ${groups.length})`);
+  if (groups.length < 1 || groups.length > 2)
+    throw new ChartInputError("groups", `must hold one or two groups (got ${groups.length})`);
   const index = new Map<string, number>();
   groups.forEach((g, i) => {
-    if (index.has(g.key)) throw new ChartInputError(`groups[${i}].key`, `"${g.key}" appears more than once`);
+    if (index.has(g.key))
+      throw new ChartInputError(`groups[${i}].key`, `"${g.key}" appears more than once`);
     index.set(g.key, i);
     requireFinite(g.mean, `groups[${i}].mean`);
     if (g.low !== null) requireFinite(g.low, `groups[${i}].low`);
     if (g.high !== null) requireFinite(g.high, `groups[${i}].high`);
-    if (g.low !== null && g.high !== null && g.low > g.high) throw new ChartInputError(`groups[${i}].low`, `is above high (${g.low} > ${g.high})`);
+    if (g.low !== null && g.high !== null && g.low > g.high)
+      throw new ChartInputError(`groups[${i}].low`, `is above high (${g.low} > ${g.high})`);
   });
   const placements = new Map<string, StripPlacement>();
   const counts = groups.map(() => 0);
   points.forEach((p, i) => {
     const g = index.get(p.group);
-    if (g === undefined) throw new ChartInputError(`points[${i}].group`, `"${p.group}" is not one of the groups (${groups.map((x) => x.key).join(", ")})`);
-    if (placements.has(p.id)) throw new ChartInputError(`points[${i}].id`, `"${p.id}" appears more than once`);
+    if (g === undefined)
+      throw new ChartInputError(
+        `points[${i}].group`,
+        `"${p.group}" is not one of the groups (${groups.map((x) => x.key).join(", ")})`,
+      );
+    if (placements.has(p.id))
+      throw new ChartInputError(`points[${i}].id`, `"${p.id}" appears more than once`);
     if (p.value === null || !Number.isFinite(p.value)) return;
-    placements.set(p.id, { group: g, offset: stripGeometry.cloudCentre + jitterUnit(p.id) * stripGeometry.cloudHalfWidth });
+    placements.set(p.id, {
+      group: g,
+      offset: stripGeometry.cloudCentre + jitterUnit(p.id) * stripGeometry.cloudHalfWidth,
+    });
     counts[g] += 1;
   });
   return { placements, counts };

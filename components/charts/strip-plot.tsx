@@ -50,8 +50,13 @@ export function StripPlot(props: StripPlotProps) {
   const valueName = props.valueName ?? "contrast";
   const result = tryLayout(() => stripLayout(groups, points));
   const shown = result.layout ? points.filter((p) => result.layout.placements.has(p.id)) : [];
-  const entries: LegendEntry[] = [...markEntries(legendItemsFor(shown)), { kind: "line", label: props.summaryLabel ?? "mean and 95% CI", colour: chart.estimate }];
-  const groupWords = groups.map((g, i) => `${g.label} (n = ${result.layout ? result.layout.counts[i] : 0})`).join(" and ");
+  const entries: LegendEntry[] = [
+    ...markEntries(legendItemsFor(shown)),
+    { kind: "line", label: props.summaryLabel ?? "mean and 95% CI", colour: chart.estimate },
+  ];
+  const groupWords = groups
+    .map((g, i) => `${g.label} (n = ${result.layout ? result.layout.counts[i] : 0})`)
+    .join(" and ");
   return (
     <ChartFrame
       label={`Strip plot of ${props.valueLabel} for ${groupWords}, each group's mean and interval beside its points, with a line at zero.`}
@@ -66,7 +71,10 @@ export function StripPlot(props: StripPlotProps) {
         if (!layout) return null;
         const yCount = tickCountFor(viewport.height - 60, 44);
         const yDomain = niceDomain(
-          paddedExtent([...shown.map((p) => p.value), ...groups.flatMap((g) => [g.mean, g.low, g.high])], { include: [0] }),
+          paddedExtent(
+            [...shown.map((p) => p.value), ...groups.flatMap((g) => [g.mean, g.low, g.high])],
+            { include: [0] },
+          ),
           yCount,
         );
         const yTicks = tickValues(yDomain, yCount);
@@ -86,15 +94,40 @@ export function StripPlot(props: StripPlotProps) {
             ...p,
             cx: centre(place.group) + place.offset * column,
             cy: y(p.value as number),
-            label: describePoint(p, [{ name: valueName, value: p.value }]) + ` (${groups[place.group].label})`,
+            label:
+              describePoint(p, [{ name: valueName, value: p.value }]) +
+              ` (${groups[place.group].label})`,
           };
         });
         const zero = y(0);
         return (
           <G>
-            <Axis orientation="left" area={area} scale={y} ticks={yTicks} labels={yLabels} title={props.valueLabel} grid />
-            <Line x1={area.left} x2={area.right} y1={area.bottom} y2={area.bottom} stroke={chart.axis} strokeWidth={1} />
-            <Line x1={area.left} x2={area.right} y1={zero} y2={zero} stroke={chart.zero} strokeWidth={1} strokeDasharray="4 3" />
+            <Axis
+              orientation="left"
+              area={area}
+              scale={y}
+              ticks={yTicks}
+              labels={yLabels}
+              title={props.valueLabel}
+              grid
+            />
+            <Line
+              x1={area.left}
+              x2={area.right}
+              y1={area.bottom}
+              y2={area.bottom}
+              stroke={chart.axis}
+              strokeWidth={1}
+            />
+            <Line
+              x1={area.left}
+              x2={area.right}
+              y1={zero}
+              y2={zero}
+              stroke={chart.zero}
+              strokeWidth={1}
+              strokeDasharray="4 3"
+            />
             {groups.map((g, i) => {
               const sx = centre(i) + stripGeometry.summary * column;
               const half = stripGeometry.meanHalfWidth * column;
@@ -108,20 +141,56 @@ export function StripPlot(props: StripPlotProps) {
                     fill={chart.text}
                     textAnchor="middle"
                   >
-                    {truncateLabel(`${g.label} (n = ${formatCount(layout.counts[i])})`, column - 8, chart.tickText)}
+                    {truncateLabel(
+                      `${g.label} (n = ${formatCount(layout.counts[i])})`,
+                      column - 8,
+                      chart.tickText,
+                    )}
                   </SvgText>
                   {g.low !== null && g.high !== null ? (
                     <G>
-                      <Line x1={sx} x2={sx} y1={y(g.low)} y2={y(g.high)} stroke={chart.estimate} strokeWidth={chart.strokeWidth} />
-                      <Line x1={sx - 4} x2={sx + 4} y1={y(g.low)} y2={y(g.low)} stroke={chart.estimate} strokeWidth={chart.strokeWidth} />
-                      <Line x1={sx - 4} x2={sx + 4} y1={y(g.high)} y2={y(g.high)} stroke={chart.estimate} strokeWidth={chart.strokeWidth} />
+                      <Line
+                        x1={sx}
+                        x2={sx}
+                        y1={y(g.low)}
+                        y2={y(g.high)}
+                        stroke={chart.estimate}
+                        strokeWidth={chart.strokeWidth}
+                      />
+                      <Line
+                        x1={sx - 4}
+                        x2={sx + 4}
+                        y1={y(g.low)}
+                        y2={y(g.low)}
+                        stroke={chart.estimate}
+                        strokeWidth={chart.strokeWidth}
+                      />
+                      <Line
+                        x1={sx - 4}
+                        x2={sx + 4}
+                        y1={y(g.high)}
+                        y2={y(g.high)}
+                        stroke={chart.estimate}
+                        strokeWidth={chart.strokeWidth}
+                      />
                     </G>
                   ) : null}
-                  <Line x1={sx - half} x2={sx + half} y1={y(g.mean)} y2={y(g.mean)} stroke={chart.estimate} strokeWidth={3} />
+                  <Line
+                    x1={sx - half}
+                    x2={sx + half}
+                    y1={y(g.mean)}
+                    y2={y(g.mean)}
+                    stroke={chart.estimate}
+                    strokeWidth={3}
+                  />
                 </G>
               );
             })}
-            <ParticipantMarks marks={marks} selectedId={props.selectedId} onPress={props.onPointPress} />
+            <ParticipantMarks
+              marks={marks}
+              selectedId={props.selectedId}
+              onPress={props.onPointPress}
+            />
           </G>
         );
       }}

@@ -47,10 +47,14 @@ export function stepDecimals(step: number): number {
  * negative ticks use the minus sign. Optional `suffix` (for example "%")
  * is appended to each label.
  */
-export function formatTicks(ticks: readonly number[], options: { scale?: number; suffix?: string } = {}): string[] {
+export function formatTicks(
+  ticks: readonly number[],
+  options: { scale?: number; suffix?: string } = {},
+): string[] {
   const scale = options.scale ?? 1;
   const suffix = options.suffix ?? "";
-  const step = ticks.length > 1 ? (ticks[1] - ticks[0]) * scale : ticks.length === 1 ? ticks[0] * scale : 0;
+  const step =
+    ticks.length > 1 ? (ticks[1] - ticks[0]) * scale : ticks.length === 1 ? ticks[0] * scale : 0;
   const decimals = stepDecimals(step);
   return ticks.map((t) => formatFixed(t * scale, decimals) + suffix);
 }

@@ -72,11 +72,16 @@ export interface ColumnWindow {
  * `start` is clamped to a multiple of `size` inside the range.
  */
 export function columnWindow(total: number, start: number, size: number): ColumnWindow {
-  if (!(Number.isInteger(size) && size >= 1)) throw new RangeError(`size must be a whole number of at least 1 (got ${size})`);
+  if (!(Number.isInteger(size) && size >= 1))
+    throw new RangeError(`size must be a whole number of at least 1 (got ${size})`);
   const n = Math.max(0, Math.floor(total));
   if (n <= size) return { start: 0, end: n, label: `all ${plural(n, "column")}` };
   const lastStart = Math.floor((n - 1) / size) * size;
   const s = Math.min(lastStart, Math.max(0, Math.floor(start / size) * size));
   const end = Math.min(n, s + size);
-  return { start: s, end, label: `columns ${formatCount(s + 1)}–${formatCount(end)} of ${formatCount(n)}` };
+  return {
+    start: s,
+    end,
+    label: `columns ${formatCount(s + 1)}–${formatCount(end)} of ${formatCount(n)}`,
+  };
 }

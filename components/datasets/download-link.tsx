@@ -7,5 +7,12 @@ import { Button } from "../ui";
 import type { DownloadLinkProps } from "./download-link-types";
 
 export function DownloadLink(props: DownloadLinkProps) {
-  return <Button label={props.label} variant="secondary" testID={props.testID} onPress={() => void Linking.openURL(props.href)} />;
+  return (
+    <Button
+      label={props.label}
+      variant="secondary"
+      testID={props.testID}
+      onPress={() => void Linking.openURL(props.href)}
+    />
+  );
 }

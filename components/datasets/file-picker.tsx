@@ -7,5 +7,9 @@ import type { FilePickerProps } from "./file-picker-types";
 import { Notice } from "../ui";
 
 export function FilePicker(props: FilePickerProps) {
-  return <Notice testID={props.testID}>Uploading files is done in the web app; open this study in a browser to choose a file.</Notice>;
+  return (
+    <Notice testID={props.testID}>
+      Uploading files is done in the web app; open this study in a browser to choose a file.
+    </Notice>
+  );
 }

@@ -24,14 +24,25 @@ export function FilePicker(props: FilePickerProps) {
         style={{ display: "none" }}
         onChange={(event) => {
           const file = event.currentTarget.files?.[0];
-          const picked: PickedFile | null = file ? { name: file.name, size: file.size, blob: file } : null;
+          const picked: PickedFile | null = file
+            ? { name: file.name, size: file.size, blob: file }
+            : null;
           event.currentTarget.value = "";
           if (picked) props.onPick(picked);
         }}
       />
-      <Button label={props.file ? "Choose another file" : props.label} variant="secondary" disabled={props.disabled} onPress={() => input.current?.click()} />
+      <Button
+        label={props.file ? "Choose another file" : props.label}
+        variant="secondary"
+        disabled={props.disabled}
+        onPress={() => input.current?.click()}
+      />
       {props.file ? (
-        <Txt kind="small" style={styles.chosen} testID={props.testID ? `${props.testID}-chosen` : undefined}>
+        <Txt
+          kind="small"
+          style={styles.chosen}
+          testID={props.testID ? `${props.testID}-chosen` : undefined}
+        >
           {props.file.name} · {formatBytes(props.file.size)}
         </Txt>
       ) : (

@@ -25,7 +25,10 @@ export function FileRowsTable(props: {
 }) {
   const [start, setStart] = useState(0);
   const window = columnWindow(props.columns.length - 1, start, COLUMNS_AT_ONCE);
-  const columns = useMemo(() => withTextCells(fileRowColumns(props.columns, props.idIndex, window.start, window.end)), [props.columns, props.idIndex, window.start, window.end]);
+  const columns = useMemo(
+    () => withTextCells(fileRowColumns(props.columns, props.idIndex, window.start, window.end)),
+    [props.columns, props.idIndex, window.start, window.end],
+  );
   const paged = props.columns.length - 1 > COLUMNS_AT_ONCE;
   return (
     <View style={styles.root}>
@@ -35,8 +38,18 @@ export function FileRowsTable(props: {
             Showing {window.label} besides the id.
           </Txt>
           <View style={styles.buttons}>
-            <Button label="Earlier columns" variant="secondary" disabled={window.start === 0} onPress={() => setStart(window.start - COLUMNS_AT_ONCE)} />
-            <Button label="Later columns" variant="secondary" disabled={window.end >= props.columns.length - 1} onPress={() => setStart(window.start + COLUMNS_AT_ONCE)} />
+            <Button
+              label="Earlier columns"
+              variant="secondary"
+              disabled={window.start === 0}
+              onPress={() => setStart(window.start - COLUMNS_AT_ONCE)}
+            />
+            <Button
+              label="Later columns"
+              variant="secondary"
+              disabled={window.end >= props.columns.length - 1}
+              onPress={() => setStart(window.start + COLUMNS_AT_ONCE)}
+            />
           </View>
         </View>
       ) : null}

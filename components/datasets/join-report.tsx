@@ -8,7 +8,12 @@
  */
 import { useState } from "react";
 import { StyleSheet, View } from "react-native";
-import { type NearMiss, type RecordedMapping, type RosterReport, useConfirmMappings } from "../../hooks/use-roster";
+import {
+  type NearMiss,
+  type RecordedMapping,
+  type RosterReport,
+  useConfirmMappings,
+} from "../../hooks/use-roster";
 import { formatCount } from "../charts/number-format";
 import { fonts, palette, radius, space, type } from "../theme";
 import { Button, Card, Heading, Notice, Txt } from "../ui";
@@ -30,16 +35,28 @@ export function JoinReport(props: { studyId: string; report: RosterReport; canMa
     <Card testID="join-report">
       <Heading level={2}>Join report</Heading>
       {report.brainTable === null || report.participantSheet === null ? (
-        <Notice>Upload and confirm both a brain table and a participant sheet to join them into the roster.</Notice>
+        <Notice>
+          Upload and confirm both a brain table and a participant sheet to join them into the
+          roster.
+        </Notice>
       ) : (
         <Txt kind="small">
-          Joins the brain table <Txt kind="mono">{report.brainTable.fileName}</Txt> (version {report.brainTable.version}) with the participant sheet{" "}
-          <Txt kind="mono">{report.participantSheet.fileName}</Txt> (version {report.participantSheet.version}).
+          Joins the brain table <Txt kind="mono">{report.brainTable.fileName}</Txt> (version{" "}
+          {report.brainTable.version}) with the participant sheet{" "}
+          <Txt kind="mono">{report.participantSheet.fileName}</Txt> (version{" "}
+          {report.participantSheet.version}).
         </Txt>
       )}
       <View style={styles.tiles} accessibilityRole="list">
         {tiles.map((t) => (
-          <View key={t.key} style={[styles.tile, t.key === "near-misses" && t.value > 0 ? styles.tileAttention : null]} testID={`count-${t.key}`}>
+          <View
+            key={t.key}
+            style={[
+              styles.tile,
+              t.key === "near-misses" && t.value > 0 ? styles.tileAttention : null,
+            ]}
+            testID={`count-${t.key}`}
+          >
             <Txt style={styles.tileValue}>{formatCount(t.value)}</Txt>
             <Txt kind="caption">{t.label}</Txt>
           </View>
@@ -53,14 +70,31 @@ export function JoinReport(props: { studyId: string; report: RosterReport; canMa
       </View>
       {report.rowsVisible ? (
         <>
-          <NearMisses studyId={props.studyId} nearMisses={report.nearMisses ?? []} canMap={props.canMap} />
+          <NearMisses
+            studyId={props.studyId}
+            nearMisses={report.nearMisses ?? []}
+            canMap={props.canMap}
+          />
           <Mappings mappings={report.mappings ?? []} />
-          <IdList title="Only in the brain table" hint="These participants have contrast values but no row in the participant sheet." ids={report.onlyInBrainTable ?? []} testID="only-in-brain-table" />
-          <IdList title="Only in the participant sheet" hint="These participants have a sheet row but no contrast values." ids={report.onlyInParticipantSheet ?? []} testID="only-in-sheet" />
+          <IdList
+            title="Only in the brain table"
+            hint="These participants have contrast values but no row in the participant sheet."
+            ids={report.onlyInBrainTable ?? []}
+            testID="only-in-brain-table"
+          />
+          <IdList
+            title="Only in the participant sheet"
+            hint="These participants have a sheet row but no contrast values."
+            ids={report.onlyInParticipantSheet ?? []}
+            testID="only-in-sheet"
+          />
           {(report.duplicates ?? []).length > 0 ? (
             <View style={styles.section} testID="duplicates">
               <Heading level={3}>Duplicates</Heading>
-              <Txt kind="caption">Ids that the rule makes one participant within the same file; they are not joined until one file is corrected.</Txt>
+              <Txt kind="caption">
+                Ids that the rule makes one participant within the same file; they are not joined
+                until one file is corrected.
+              </Txt>
               {(report.duplicates ?? []).map((d) => (
                 <Txt key={`${d.source}-${d.key}`} kind="small">
                   {d.file}: {d.ids.join(", ")} (all read as “{d.key}”)
@@ -70,7 +104,10 @@ export function JoinReport(props: { studyId: string; report: RosterReport; canMa
           ) : null}
         </>
       ) : (
-        <Notice testID="counts-only">This study restricts participant-level rows: your role sees these counts, not the participant ids.</Notice>
+        <Notice testID="counts-only">
+          This study restricts participant-level rows: your role sees these counts, not the
+          participant ids.
+        </Notice>
       )}
     </Card>
   );
@@ -84,30 +121,44 @@ function NearMisses(props: { studyId: string; nearMisses: readonly NearMiss[]; c
     <View style={styles.section} testID="near-misses">
       <Heading level={3}>Near misses (not merged)</Heading>
       <Txt kind="caption">
-        These ids look alike but the rule does not join them. They stay apart — one in each “only in” list — until someone confirms that they are the
-        same participant.
+        These ids look alike but the rule does not join them. They stay apart — one in each “only
+        in” list — until someone confirms that they are the same participant.
       </Txt>
       {props.nearMisses.map((n) => {
         const key = `${n.brainId}\u0000${n.sheetId}`;
         return (
           <View key={key} style={styles.nearMiss} testID="near-miss">
             <Txt kind="small">
-              Brain table <Txt kind="mono">{n.brainId}</Txt> and sheet <Txt kind="mono">{n.sheetId}</Txt>: {n.reason}.
+              Brain table <Txt kind="mono">{n.brainId}</Txt> and sheet{" "}
+              <Txt kind="mono">{n.sheetId}</Txt>: {n.reason}.
             </Txt>
             {props.canMap && asking !== key ? (
-              <Button label="Confirm as the same participant…" variant="secondary" onPress={() => setAsking(key)} style={styles.start} testID="start-mapping" />
+              <Button
+                label="Confirm as the same participant…"
+                variant="secondary"
+                onPress={() => setAsking(key)}
+                style={styles.start}
+                testID="start-mapping"
+              />
             ) : null}
             {props.canMap && asking === key ? (
               <View style={styles.ask}>
                 <Txt kind="small">
-                  Record that brain-table id {n.brainId} and sheet id {n.sheetId} are the same participant? The mapping is logged under your name and applies
-                  to later versions that hold both ids.
+                  Record that brain-table id {n.brainId} and sheet id {n.sheetId} are the same
+                  participant? The mapping is logged under your name and applies to later versions
+                  that hold both ids.
                 </Txt>
-                {confirm.error ? <ProblemList error={confirm.error} title="The mapping was not recorded" /> : null}
+                {confirm.error ? (
+                  <ProblemList error={confirm.error} title="The mapping was not recorded" />
+                ) : null}
                 <View style={styles.actions}>
                   <Button
                     label="Record the mapping"
-                    onPress={() => confirm.mutate([{ brainId: n.brainId, sheetId: n.sheetId }], { onSuccess: () => setAsking(null) })}
+                    onPress={() =>
+                      confirm.mutate([{ brainId: n.brainId, sheetId: n.sheetId }], {
+                        onSuccess: () => setAsking(null),
+                      })
+                    }
                     busy={confirm.isPending}
                     testID="confirm-mapping"
                   />
@@ -136,7 +187,8 @@ function Mappings(props: { mappings: readonly RecordedMapping[] }) {
       <Heading level={3}>Confirmed mappings</Heading>
       {props.mappings.map((m) => (
         <Txt key={`${m.brainId}\u0000${m.sheetId}`} kind="small" testID="mapping">
-          Brain table <Txt kind="mono">{m.brainId}</Txt> = sheet <Txt kind="mono">{m.sheetId}</Txt> · recorded {formatWhen(m.createdAt)}
+          Brain table <Txt kind="mono">{m.brainId}</Txt> = sheet <Txt kind="mono">{m.sheetId}</Txt>{" "}
+          · recorded {formatWhen(m.createdAt)}
           {m.applied ? "" : " · not applied: the current versions do not hold both ids"}
         </Txt>
       ))}
@@ -162,7 +214,12 @@ function IdList(props: { title: string; hint: string; ids: readonly string[]; te
         {shown.length < props.ids.length ? ", …" : ""}
       </Txt>
       {props.ids.length > IDS_SHOWN ? (
-        <Button label={all ? "Show fewer" : `Show all ${formatCount(props.ids.length)}`} variant="quiet" onPress={() => setAll(!all)} style={styles.start} />
+        <Button
+          label={all ? "Show fewer" : `Show all ${formatCount(props.ids.length)}`}
+          variant="quiet"
+          onPress={() => setAll(!all)}
+          style={styles.start}
+        />
       ) : null}
     </View>
   );
@@ -183,9 +240,20 @@ const styles = StyleSheet.create({
   tileAttention: { backgroundColor: palette.warningSoft, borderColor: palette.accent },
   tileValue: { fontFamily: fonts.bold, fontSize: type.title, fontVariant: ["tabular-nums"] },
   rule: { gap: 2, marginTop: space.xs },
-  section: { gap: space.xs, marginTop: space.sm, paddingTop: space.sm, borderTopWidth: 1, borderTopColor: palette.line },
+  section: {
+    gap: space.xs,
+    marginTop: space.sm,
+    paddingTop: space.sm,
+    borderTopWidth: 1,
+    borderTopColor: palette.line,
+  },
   nearMiss: { gap: space.xs },
   start: { alignSelf: "flex-start" },
-  ask: { gap: space.sm, padding: space.md, borderRadius: radius.md, backgroundColor: palette.warningSoft },
+  ask: {
+    gap: space.sm,
+    padding: space.md,
+    borderRadius: radius.md,
+    backgroundColor: palette.warningSoft,
+  },
   actions: { flexDirection: "row", flexWrap: "wrap", gap: space.sm },
 });

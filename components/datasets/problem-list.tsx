@@ -17,7 +17,8 @@ import { problemsFrom } from "./upload-decisions";
 export function ProblemList(props: { error: unknown; title: string; testID?: string }) {
   const shown = problemsFrom(props.error);
   const [all, setAll] = useState(false);
-  const listed = shown === null ? [] : all ? shown.messages : shown.messages.slice(0, PROBLEMS_SHOWN);
+  const listed =
+    shown === null ? [] : all ? shown.messages : shown.messages.slice(0, PROBLEMS_SHOWN);
   const folded = shown === null ? 0 : shown.messages.length - listed.length;
   const message = props.error instanceof Error ? props.error.message : "Something went wrong.";
   return (
@@ -56,7 +57,14 @@ export function ProblemList(props: { error: unknown; title: string; testID?: str
 }
 
 const styles = StyleSheet.create({
-  root: { backgroundColor: palette.dangerSoft, borderLeftWidth: 4, borderLeftColor: palette.danger, borderRadius: radius.md, padding: space.md, gap: space.xs },
+  root: {
+    backgroundColor: palette.dangerSoft,
+    borderLeftWidth: 4,
+    borderLeftColor: palette.danger,
+    borderRadius: radius.md,
+    padding: space.md,
+    gap: space.xs,
+  },
   title: { color: palette.danger },
   list: { gap: 2 },
   item: { color: palette.ink },

@@ -12,7 +12,10 @@ import { withTextCells } from "./text-cells";
 
 export function RosterTable(props: { report: RosterReport; rows: readonly RosterRow[] }) {
   const sessions = useMemo(() => props.rows.some((r) => r.sessions.length > 0), [props.rows]);
-  const columns = useMemo(() => withTextCells(rosterColumns(props.report.columns, { sessions })), [props.report.columns, sessions]);
+  const columns = useMemo(
+    () => withTextCells(rosterColumns(props.report.columns, { sessions })),
+    [props.report.columns, sessions],
+  );
   return (
     <DataTable
       label="Roster"

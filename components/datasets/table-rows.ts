@@ -32,20 +32,41 @@ export interface FileColumn {
  * (exclusive), counted among the columns other than the id. Throws a
  * RangeError when `idIndex` is not a column.
  */
-export function fileRowColumns(columns: readonly FileColumn[], idIndex: number, start: number, end: number): ColumnDef<CellRow, unknown>[] {
+export function fileRowColumns(
+  columns: readonly FileColumn[],
+  idIndex: number,
+  start: number,
+  end: number,
+): ColumnDef<CellRow, unknown>[] {
   if (!(Number.isInteger(idIndex) && idIndex >= 0 && idIndex < columns.length)) {
-    throw new RangeError(`fileRowColumns: the id column index ${idIndex} is not among ${columns.length} columns`);
+    throw new RangeError(
+      `fileRowColumns: the id column index ${idIndex} is not among ${columns.length} columns`,
+    );
   }
   const others = columns.map((c, j) => ({ ...c, j })).filter((c) => c.j !== idIndex);
   const id = columns[idIndex];
   return [
-    { id: `col-${idIndex}`, header: id.name, accessorFn: (r: CellRow) => r.cells[idIndex], meta: { width: Math.max(128, widthForHeader(id.name)) } },
-    { id: "spreadsheet-row", header: "row", accessorFn: (r: CellRow) => r.row, meta: { numeric: true, decimals: 0, width: 72, label: "spreadsheet row" } },
+    {
+      id: `col-${idIndex}`,
+      header: id.name,
+      accessorFn: (r: CellRow) => r.cells[idIndex],
+      meta: { width: Math.max(128, widthForHeader(id.name)) },
+    },
+    {
+      id: "spreadsheet-row",
+      header: "row",
+      accessorFn: (r: CellRow) => r.row,
+      meta: { numeric: true, decimals: 0, width: 72, label: "spreadsheet row" },
+    },
     ...others.slice(start, end).map((c) => ({
       id: `col-${c.j}`,
       header: c.name,
       accessorFn: (r: CellRow) => r.cells[c.j],
-      meta: { numeric: c.numeric, width: widthForHeader(c.name), ...(c.numeric ? { digits: 6 } : {}) },
+      meta: {
+        numeric: c.numeric,
+        width: widthForHeader(c.name),
+        ...(c.numeric ? { digits: 6 } : {}),
+      },
     })),
   ];
 }
@@ -55,22 +76,56 @@ export function fileRowColumns(columns: readonly FileColumn[], idIndex: number, 
  * both ids, sessions (left out when the brain table has none), then the
  * sheet's columns.
  */
-export function rosterColumns(sheetColumns: RosterReport["columns"], options: { sessions: boolean } = { sessions: true }): ColumnDef<RosterRow, unknown>[] {
+export function rosterColumns(
+  sheetColumns: RosterReport["columns"],
+  options: { sessions: boolean } = { sessions: true },
+): ColumnDef<RosterRow, unknown>[] {
   const sessions: ColumnDef<RosterRow, unknown>[] = options.sessions
-    ? [{ id: "sessions", header: "sessions", accessorFn: (r: RosterRow) => (r.sessions.length > 0 ? r.sessions.join(", ") : null), meta: { width: 104 } }]
+    ? [
+        {
+          id: "sessions",
+          header: "sessions",
+          accessorFn: (r: RosterRow) => (r.sessions.length > 0 ? r.sessions.join(", ") : null),
+          meta: { width: 104 },
+        },
+      ]
     : [];
   return [
     { id: "participant", header: "participant", accessorFn: (r: RosterRow) => r.participant },
-    { id: "status", header: "status", accessorFn: (r: RosterRow) => statusLabel[r.status], meta: { width: 156 } },
-    { id: "via", header: "matched by", accessorFn: (r: RosterRow) => viaLabel(r.via) || null, meta: { width: 168 } },
-    { id: "brainId", header: "brain-table id", accessorFn: (r: RosterRow) => r.brainId, meta: { width: 128 } },
-    { id: "sheetId", header: "sheet id", accessorFn: (r: RosterRow) => r.sheetId, meta: { width: 112 } },
+    {
+      id: "status",
+      header: "status",
+      accessorFn: (r: RosterRow) => statusLabel[r.status],
+      meta: { width: 156 },
+    },
+    {
+      id: "via",
+      header: "matched by",
+      accessorFn: (r: RosterRow) => viaLabel(r.via) || null,
+      meta: { width: 168 },
+    },
+    {
+      id: "brainId",
+      header: "brain-table id",
+      accessorFn: (r: RosterRow) => r.brainId,
+      meta: { width: 128 },
+    },
+    {
+      id: "sheetId",
+      header: "sheet id",
+      accessorFn: (r: RosterRow) => r.sheetId,
+      meta: { width: 112 },
+    },
     ...sessions,
     ...sheetColumns.map((c, k) => ({
       id: `sheet-${k}`,
       header: c.name,
       accessorFn: (r: RosterRow) => r.values[c.name] ?? null,
-      meta: { numeric: c.type === "number", width: widthForHeader(c.name), ...(c.type === "number" ? { digits: 6 } : {}) },
+      meta: {
+        numeric: c.type === "number",
+        width: widthForHeader(c.name),
+        ...(c.type === "number" ? { digits: 6 } : {}),
+      },
     })),
   ];
 }

@@ -12,14 +12,23 @@ import { StyleSheet, Text } from "react-native";
 import { formatCell } from "../tables/cell-values";
 import { fonts, palette, type } from "../theme";
 
-export function withTextCells<T>(columns: readonly ColumnDef<T, unknown>[]): ColumnDef<T, unknown>[] {
+export function withTextCells<T>(
+  columns: readonly ColumnDef<T, unknown>[],
+): ColumnDef<T, unknown>[] {
   return columns.map((column, index) => {
     if (column.cell !== undefined) return column;
     const meta = column.meta ?? {};
     return {
       ...column,
       cell: (ctx) => (
-        <Text numberOfLines={1} style={[styles.text, meta.numeric ? styles.number : null, index === 0 ? styles.pinned : null]}>
+        <Text
+          numberOfLines={1}
+          style={[
+            styles.text,
+            meta.numeric ? styles.number : null,
+            index === 0 ? styles.pinned : null,
+          ]}
+        >
           {formatCell(ctx.getValue(), meta)}
         </Text>
       ),

@@ -10,7 +10,14 @@
  */
 import { ApiError } from "../../hooks/api";
 import { validationSentence } from "../../hooks/validation-words";
-import type { ColumnPreview, ConfirmInput, DatasetKind, DatasetPreview, IntakeProblem, UploadOptions } from "../../hooks/use-datasets";
+import type {
+  ColumnPreview,
+  ConfirmInput,
+  DatasetKind,
+  DatasetPreview,
+  IntakeProblem,
+  UploadOptions,
+} from "../../hooks/use-datasets";
 
 export type TypeChoice = "number" | "category";
 
@@ -35,8 +42,12 @@ export const noDecisions: Decisions = { types: {}, identifiers: {}, leaveOut: {}
 export const LEFT_OUT = "column_left_out";
 
 /** The brain-table columns the preview would leave out, each with the server's sentence saying why. */
-export function leftOutColumns(preview: Pick<DatasetPreview, "problems">): { column: string; message: string }[] {
-  return preview.problems.filter((p) => p.code === LEFT_OUT && p.column !== undefined).map((p) => ({ column: p.column as string, message: p.message }));
+export function leftOutColumns(
+  preview: Pick<DatasetPreview, "problems">,
+): { column: string; message: string }[] {
+  return preview.problems
+    .filter((p) => p.code === LEFT_OUT && p.column !== undefined)
+    .map((p) => ({ column: p.column as string, message: p.message }));
 }
 
 /** Whether a column that would be left out is decided: left out, or given a type (a region, or "not used"). */
@@ -45,13 +56,19 @@ function leftOutDecided(column: string, decisions: Decisions): boolean {
 }
 
 /** One sentence per column that would be left out and is not decided yet; empty when none. */
-export function undecidedLeftOut(preview: Pick<DatasetPreview, "problems">, decisions: Decisions): string[] {
+export function undecidedLeftOut(
+  preview: Pick<DatasetPreview, "problems">,
+  decisions: Decisions,
+): string[] {
   return leftOutColumns(preview)
     .filter((c) => !leftOutDecided(c.column, decisions))
     .map((c) => `Column ${c.column}: choose to leave it out or fix the file.`);
 }
 
-type PreviewShape = Pick<DatasetPreview, "kind" | "layout" | "columns" | "identifierColumns" | "problems" | "id">;
+type PreviewShape = Pick<
+  DatasetPreview,
+  "kind" | "layout" | "columns" | "identifierColumns" | "problems" | "id"
+>;
 
 /**
  * The words for the two types a column may take, or null when its type is
@@ -59,11 +76,18 @@ type PreviewShape = Pick<DatasetPreview, "kind" | "layout" | "columns" | "identi
  * brain table a numeric column is a region and a category column is not
  * used. Id, session, standard-error and long-layout columns are fixed.
  */
-export function typeChoices(preview: Pick<DatasetPreview, "kind" | "layout">, column: ColumnPreview): Record<TypeChoice, string> | null {
+export function typeChoices(
+  preview: Pick<DatasetPreview, "kind" | "layout">,
+  column: ColumnPreview,
+): Record<TypeChoice, string> | null {
   if (preview.kind === "participants") {
     return column.role === "variable" ? { number: "number", category: "category" } : null;
   }
-  if (preview.layout !== "long" && (column.role === "region" || column.role === "ignored") && column.type !== "id") {
+  if (
+    preview.layout !== "long" &&
+    (column.role === "region" || column.role === "ignored") &&
+    column.type !== "id"
+  ) {
     return { number: "region", category: "not used" };
   }
   return null;
@@ -75,9 +99,15 @@ export function chosenType(column: ColumnPreview, decisions: Decisions): ColumnP
 }
 
 /** Columns the uploader chose to drop: identifier columns dropped, and columns agreed to be left out. */
-export function droppedColumns(preview: Pick<DatasetPreview, "identifierColumns" | "problems">, decisions: Decisions): string[] {
-  const out = preview.identifierColumns.filter((f) => decisions.identifiers[f.column]?.decision === "drop").map((f) => f.column);
-  for (const { column } of leftOutColumns(preview)) if (decisions.leaveOut?.[column] === true && !out.includes(column)) out.push(column);
+export function droppedColumns(
+  preview: Pick<DatasetPreview, "identifierColumns" | "problems">,
+  decisions: Decisions,
+): string[] {
+  const out = preview.identifierColumns
+    .filter((f) => decisions.identifiers[f.column]?.decision === "drop")
+    .map((f) => f.column);
+  for (const { column } of leftOutColumns(preview))
+    if (decisions.leaveOut?.[column] === true && !out.includes(column)) out.push(column);
   return out;
 }
 
@@ -85,12 +115,17 @@ export function droppedColumns(preview: Pick<DatasetPreview, "identifierColumns"
  * One sentence per flagged identifier column that is not decided yet (no
  * choice, or "keep" without a reason); empty when Confirm may be pressed.
  */
-export function undecidedIdentifiers(preview: Pick<DatasetPreview, "identifierColumns">, decisions: Decisions): string[] {
+export function undecidedIdentifiers(
+  preview: Pick<DatasetPreview, "identifierColumns">,
+  decisions: Decisions,
+): string[] {
   const out: string[] = [];
   for (const flag of preview.identifierColumns) {
     const d = decisions.identifiers[flag.column];
-    if (d === undefined) out.push(`Column ${flag.column}: choose to drop it or keep it with a reason.`);
-    else if (d.decision === "keep" && d.reason.trim() === "") out.push(`Column ${flag.column}: write why it is kept.`);
+    if (d === undefined)
+      out.push(`Column ${flag.column}: choose to drop it or keep it with a reason.`);
+    else if (d.decision === "keep" && d.reason.trim() === "")
+      out.push(`Column ${flag.column}: write why it is kept.`);
   }
   return out;
 }
@@ -106,7 +141,8 @@ export function confirmInput(preview: PreviewShape, decisions: Decisions): Confi
   const types: Record<string, TypeChoice> = {};
   for (const column of preview.columns) {
     const chosen = decisions.types[column.name];
-    if (chosen === undefined || dropped.has(column.name) || typeChoices(preview, column) === null) continue;
+    if (chosen === undefined || dropped.has(column.name) || typeChoices(preview, column) === null)
+      continue;
     // A column that would be left out needs its choice said even when it equals the detection ("not used").
     if (chosen !== column.type || leftOut.has(column.name)) types[column.name] = chosen;
   }
@@ -152,16 +188,26 @@ export interface ShownProblems {
  */
 export function problemsFrom(error: unknown): ShownProblems | null {
   if (!(error instanceof ApiError)) return null;
-  const details = error.details as { problems?: unknown; problemCount?: unknown } | unknown[] | null | undefined;
+  const details = error.details as
+    | { problems?: unknown; problemCount?: unknown }
+    | unknown[]
+    | null
+    | undefined;
   if (Array.isArray(details)) {
     const messages = details
       .map((d) => d as { field?: unknown; message?: unknown })
       .filter((d) => typeof d.message === "string")
-      .map((d) => (typeof d.field === "string" ? validationSentence({ field: d.field, message: String(d.message) }) : String(d.message)));
+      .map((d) =>
+        typeof d.field === "string"
+          ? validationSentence({ field: d.field, message: String(d.message) })
+          : String(d.message),
+      );
     return messages.length > 0 ? { messages, more: 0 } : null;
   }
   if (details && typeof details === "object" && Array.isArray(details.problems)) {
-    const messages = (details.problems as unknown[]).map((p) => (p as { message?: unknown }).message).filter((m): m is string => typeof m === "string");
+    const messages = (details.problems as unknown[])
+      .map((p) => (p as { message?: unknown }).message)
+      .filter((m): m is string => typeof m === "string");
     if (messages.length === 0) return null;
     const count = typeof details.problemCount === "number" ? details.problemCount : messages.length;
     return { messages, more: Math.max(0, count - messages.length) };

@@ -6,7 +6,12 @@
  */
 import { useState } from "react";
 import { StyleSheet, View } from "react-native";
-import { type DatasetPreview, type DatasetVersion, type PickedFile, useUploadDataset } from "../../hooks/use-datasets";
+import {
+  type DatasetPreview,
+  type DatasetVersion,
+  type PickedFile,
+  useUploadDataset,
+} from "../../hooks/use-datasets";
 import { Choice } from "../choice";
 import { space } from "../theme";
 import { Button, Card, Field, Heading, Notice, Txt } from "../ui";
@@ -17,14 +22,30 @@ import { type UploadFormValues, uploadOptions } from "./upload-decisions";
 import { UploadPreview } from "./upload-preview";
 
 const kindOptions = [
-  { value: "brain", label: "Brain table", hint: "contrast values per participant and region, optional standard errors and session" },
-  { value: "participants", label: "Participant sheet", hint: "one row per participant: age, group, scores…" },
+  {
+    value: "brain",
+    label: "Brain table",
+    hint: "contrast values per participant and region, optional standard errors and session",
+  },
+  {
+    value: "participants",
+    label: "Participant sheet",
+    hint: "one row per participant: age, group, scores…",
+  },
 ] as const;
 
 const layoutOptions = [
-  { value: "detect", label: "Detect", hint: "long when the file has region and value columns, else wide" },
+  {
+    value: "detect",
+    label: "Detect",
+    hint: "long when the file has region and value columns, else wide",
+  },
   { value: "wide", label: "Wide", hint: "one column per region" },
-  { value: "long", label: "Long", hint: "one row per participant and region: id, region, value, optional se" },
+  {
+    value: "long",
+    label: "Long",
+    hint: "one row per participant and region: id, region, value, optional se",
+  },
 ] as const;
 
 const ACCEPT = ".csv,.tsv,.txt,text/csv,text/tab-separated-values,text/plain";
@@ -33,7 +54,14 @@ interface FormState extends UploadFormValues {
   file: PickedFile | null;
 }
 
-const emptyForm: FormState = { kind: null, file: null, idColumn: "", seSuffix: "_se", layout: "detect", sessionColumn: "" };
+const emptyForm: FormState = {
+  kind: null,
+  file: null,
+  idColumn: "",
+  seSuffix: "_se",
+  layout: "detect",
+  sessionColumn: "",
+};
 
 export function UploadPanel(props: { studyId: string }) {
   const [form, setForm] = useState<FormState>(emptyForm);
@@ -65,24 +93,42 @@ export function UploadPanel(props: { studyId: string }) {
   const submit = () => {
     if (!form.kind || !form.file) return;
     setStored(null);
-    upload.mutate({ kind: form.kind, file: form.file, options: uploadOptions(form) }, { onSuccess: setPreview });
+    upload.mutate(
+      { kind: form.kind, file: form.file, options: uploadOptions(form) },
+      { onSuccess: setPreview },
+    );
   };
 
   return (
     <Card testID="upload">
       <Heading level={2}>Upload a new version</Heading>
       <Txt kind="small">
-        A new upload of the same kind becomes the next version; earlier versions stay readable and fits keep the versions they used. You see a preview
-        before anything is stored.
+        A new upload of the same kind becomes the next version; earlier versions stay readable and
+        fits keep the versions they used. You see a preview before anything is stored.
       </Txt>
       {stored ? (
         <Notice tone="success" testID="upload-stored">
-          Stored {stored.fileName} as version {stored.version} of the {kindLabel[stored.kind].toLowerCase()}.
+          Stored {stored.fileName} as version {stored.version} of the{" "}
+          {kindLabel[stored.kind].toLowerCase()}.
         </Notice>
       ) : null}
-      <Choice label="Kind" options={kindOptions} value={form.kind} onChange={(kind) => set({ kind })} testID="upload-kind" />
-      {form.kind ? <Txt kind="caption">{kindOptions.find((o) => o.value === form.kind)?.hint}</Txt> : null}
-      <FilePicker label="Choose a file" accept={ACCEPT} file={form.file} onPick={(file) => set({ file })} testID="upload-file" />
+      <Choice
+        label="Kind"
+        options={kindOptions}
+        value={form.kind}
+        onChange={(kind) => set({ kind })}
+        testID="upload-kind"
+      />
+      {form.kind ? (
+        <Txt kind="caption">{kindOptions.find((o) => o.value === form.kind)?.hint}</Txt>
+      ) : null}
+      <FilePicker
+        label="Choose a file"
+        accept={ACCEPT}
+        file={form.file}
+        onPick={(file) => set({ file })}
+        testID="upload-file"
+      />
       {form.kind ? (
         <View style={styles.options}>
           <Field
@@ -97,14 +143,22 @@ export function UploadPanel(props: { studyId: string }) {
           />
           {form.kind === "brain" ? (
             <>
-              <Choice label="Layout" options={layoutOptions} value={form.layout} onChange={(layout) => set({ layout })} testID="upload-layout" />
+              <Choice
+                label="Layout"
+                options={layoutOptions}
+                value={form.layout}
+                onChange={(layout) => set({ layout })}
+                testID="upload-layout"
+              />
               <Field
                 label="Standard-error suffix"
                 value={form.seSuffix}
                 onChangeText={(seSuffix) => set({ seSuffix })}
                 autoCapitalize="none"
                 autoCorrect={false}
-                hint={"A column named region + suffix (e.g. “L_insula_se”) holds that region’s standard errors."}
+                hint={
+                  "A column named region + suffix (e.g. “L_insula_se”) holds that region’s standard errors."
+                }
                 error={form.seSuffix === "" ? "The suffix must not be empty." : null}
                 testID="upload-se-suffix"
               />
@@ -115,14 +169,22 @@ export function UploadPanel(props: { studyId: string }) {
                 placeholder="session"
                 autoCapitalize="none"
                 autoCorrect={false}
-                hint={"Leave empty to use a column named “session” when there is one; write none when the table has no sessions."}
+                hint={
+                  "Leave empty to use a column named “session” when there is one; write none when the table has no sessions."
+                }
                 testID="upload-session-column"
               />
             </>
           ) : null}
         </View>
       ) : null}
-      {upload.error ? <ProblemList error={upload.error} title="The file was not accepted" testID="upload-problems" /> : null}
+      {upload.error ? (
+        <ProblemList
+          error={upload.error}
+          title="The file was not accepted"
+          testID="upload-problems"
+        />
+      ) : null}
       <Button
         label="Upload and preview"
         onPress={submit}

@@ -34,7 +34,11 @@ export function AttenuationNote(props: AttenuationNoteProps) {
   }
   const w = result.layout;
   return (
-    <View style={styles.root} testID={props.testID} accessibilityLabel="Reliability and attenuation">
+    <View
+      style={styles.root}
+      testID={props.testID}
+      accessibilityLabel="Reliability and attenuation"
+    >
       <Txt kind="label">Reliability and attenuation</Txt>
       <Txt kind="small">{w.observed}</Txt>
       <Txt kind="small">
@@ -53,8 +57,20 @@ export function AttenuationNote(props: AttenuationNoteProps) {
 }
 
 const styles = StyleSheet.create({
-  root: { gap: space.xs, padding: space.md, borderRadius: radius.md, borderWidth: 1, borderColor: palette.line, backgroundColor: palette.surface },
+  root: {
+    gap: space.xs,
+    padding: space.md,
+    borderRadius: radius.md,
+    borderWidth: 1,
+    borderColor: palette.line,
+    backgroundColor: palette.surface,
+  },
   muted: { color: palette.muted },
-  problem: { backgroundColor: palette.dangerSoft, borderRadius: radius.md, padding: space.md, gap: space.xs },
+  problem: {
+    backgroundColor: palette.dangerSoft,
+    borderRadius: radius.md,
+    padding: space.md,
+    gap: space.xs,
+  },
   problemTitle: { color: palette.danger },
 });

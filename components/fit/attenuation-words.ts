@@ -53,19 +53,32 @@ function interval(low: number, high: number): string {
 export function attenuationWords(a: AttenuationInput): AttenuationWords {
   for (const field of ["reliabilityBrain", "reliabilityTrait"] as const) {
     const v = requireFinite(a[field], field);
-    if (!(v > 0 && v <= 1)) throw new ChartInputError(field, `must be greater than 0 and at most 1 (got ${v})`);
+    if (!(v > 0 && v <= 1))
+      throw new ChartInputError(field, `must be greater than 0 and at most 1 (got ${v})`);
   }
-  for (const field of ["observed", "observedCiLow", "observedCiHigh", "disattenuatedCiLow", "disattenuatedCiHigh"] as const) {
+  for (const field of [
+    "observed",
+    "observedCiLow",
+    "observedCiHigh",
+    "disattenuatedCiLow",
+    "disattenuatedCiHigh",
+  ] as const) {
     const v = requireFinite(a[field], field);
     if (v < -1 || v > 1) throw new ChartInputError(field, `must lie between −1 and 1 (got ${v})`);
   }
   const ceiling = requireFinite(a.ceiling, "ceiling");
   const corrected = requireFinite(a.disattenuated, "disattenuated");
   if (!(a.observedCiLow <= a.observed && a.observed <= a.observedCiHigh)) {
-    throw new ChartInputError("observedCiLow", `the interval ${a.observedCiLow} to ${a.observedCiHigh} must hold the observed r ${a.observed}`);
+    throw new ChartInputError(
+      "observedCiLow",
+      `the interval ${a.observedCiLow} to ${a.observedCiHigh} must hold the observed r ${a.observed}`,
+    );
   }
   if (a.disattenuatedCiLow > a.disattenuatedCiHigh) {
-    throw new ChartInputError("disattenuatedCiLow", `must not exceed disattenuatedCiHigh (${a.disattenuatedCiLow} > ${a.disattenuatedCiHigh})`);
+    throw new ChartInputError(
+      "disattenuatedCiLow",
+      `must not exceed disattenuatedCiHigh (${a.disattenuatedCiLow} > ${a.disattenuatedCiHigh})`,
+    );
   }
   const form = a.reliabilityBrainForm ?? "brain reliability";
   const trait = a.trait ? `${a.trait}` : "the trait";

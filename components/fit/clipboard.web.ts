@@ -23,6 +23,7 @@ export async function copyText(text: string): Promise<CopyOutcome> {
   area.select();
   const ok = document.execCommand("copy");
   document.body.removeChild(area);
-  if (!ok) throw new Error("The browser did not allow copying; select the paragraph and copy it by hand.");
+  if (!ok)
+    throw new Error("The browser did not allow copying; select the paragraph and copy it by hand.");
   return "copied";
 }

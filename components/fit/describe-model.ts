@@ -27,13 +27,18 @@ const correctionWords: Record<ModelSpec["correction"], string> = {
   maxt: "max-T family-wise correction over regions",
 };
 
-export function questionOf(spec: Pick<ModelSpec, "kind" | "predictor" | "group" | "levels" | "covariates" | "interaction">): string {
-  const controls = spec.covariates.length > 0 ? `, controlling for ${spec.covariates.join(", ")}` : "";
+export function questionOf(
+  spec: Pick<ModelSpec, "kind" | "predictor" | "group" | "levels" | "covariates" | "interaction">,
+): string {
+  const controls =
+    spec.covariates.length > 0 ? `, controlling for ${spec.covariates.join(", ")}` : "";
   switch (spec.kind) {
     case "one-sample":
       return `Is the contrast present across the group${controls}?`;
     case "two-group": {
-      const levels = spec.levels ? `${spec.levels[0]} and ${spec.levels[1]}` : `the groups of ${spec.group ?? "?"}`;
+      const levels = spec.levels
+        ? `${spec.levels[0]} and ${spec.levels[1]}`
+        : `the groups of ${spec.group ?? "?"}`;
       return `Does the contrast differ between ${levels}${controls}?`;
     }
     case "association":
@@ -45,15 +50,21 @@ export function questionOf(spec: Pick<ModelSpec, "kind" | "predictor" | "group" 
 
 export function methodOf(spec: ModelSpec): string {
   const parts = [estimatorWords[spec.estimator], inferenceWords[spec.inference]];
-  if (spec.inference !== "parametric") parts.push(`${spec.resamples.toLocaleString("en")} resamples, seed ${spec.seed}`);
+  if (spec.inference !== "parametric")
+    parts.push(`${spec.resamples.toLocaleString("en")} resamples, seed ${spec.seed}`);
   parts.push(correctionWords[spec.correction]);
   if (spec.weights === "first-level-se") {
-    parts.push(`weighted by first-level standard errors (τ² by ${spec.tau2Method === "dl" ? "DerSimonian–Laird" : "REML"}${spec.smallSample === "knapp-hartung" ? ", Knapp–Hartung" : ""})`);
+    parts.push(
+      `weighted by first-level standard errors (τ² by ${spec.tau2Method === "dl" ? "DerSimonian–Laird" : "REML"}${spec.smallSample === "knapp-hartung" ? ", Knapp–Hartung" : ""})`,
+    );
   }
   return parts.join(" · ");
 }
 
 export function regionsOf(spec: Pick<ModelSpec, "regions">, total?: number): string {
-  if (!spec.regions || spec.regions.length === 0) return total !== undefined ? `all ${total} regions` : "all regions";
-  return spec.regions.length <= 4 ? spec.regions.join(", ") : `${spec.regions.length} chosen regions`;
+  if (!spec.regions || spec.regions.length === 0)
+    return total !== undefined ? `all ${total} regions` : "all regions";
+  return spec.regions.length <= 4
+    ? spec.regions.join(", ")
+    : `${spec.regions.length} chosen regions`;
 }

@@ -13,14 +13,35 @@ import { useRouter } from "expo-router";
 import { Badge, Button, Notice, Txt } from "../ui";
 import { fonts, palette, radius, space, type } from "../theme";
 import { methodOf, questionOf, regionsOf } from "./describe-model";
-import { nWords, refitOfWords, setAsideByline, setAsideCountWords, setAsideTitle, stageTone, whenWords } from "./lineage-words";
+import {
+  nWords,
+  refitOfWords,
+  setAsideByline,
+  setAsideCountWords,
+  setAsideTitle,
+  stageTone,
+  whenWords,
+} from "./lineage-words";
 import { smallSampleCaution } from "../../server/model/cautions";
 import type { ModelSpec, RegionResult } from "../../server/model/spec";
 import { type FitView, useRunFit } from "../../hooks/use-fits";
 
-export function FitHeader({ fit, spec, regions, canRun }: { fit: FitView; spec: ModelSpec | null; regions: readonly RegionResult[]; canRun: boolean }) {
+export function FitHeader({
+  fit,
+  spec,
+  regions,
+  canRun,
+}: {
+  fit: FitView;
+  spec: ModelSpec | null;
+  regions: readonly RegionResult[];
+  canRun: boolean;
+}) {
   const n = nWords(fit.n);
-  const plain = [...(n ? [`${n} per region`] : []), ...(spec ? [regionsOf(spec, regions.length || undefined), methodOf(spec)] : [])];
+  const plain = [
+    ...(n ? [`${n} per region`] : []),
+    ...(spec ? [regionsOf(spec, regions.length || undefined), methodOf(spec)] : []),
+  ];
   return (
     <View style={styles.root}>
       <View style={styles.head}>
@@ -43,9 +64,12 @@ export function FitHeader({ fit, spec, regions, canRun }: { fit: FitView; spec: 
       {ended(fit) && canRun && !fit.model.deleted ? <RunAgain fit={fit} /> : null}
       {fit.status === "done" ? <SmallSample regions={regions} /> : null}
       <Txt kind="caption">
-        Brain table v{fit.datasets.brain.version} ({fit.datasets.brain.fileName}, {fit.datasets.brain.sha256.slice(0, 10)})
-        {fit.datasets.participants ? ` · participant sheet v${fit.datasets.participants.version} (${fit.datasets.participants.fileName})` : ""} · run by {fit.createdBy.name ?? "a member"},{" "}
-        {whenWords(fit.createdAt)}
+        Brain table v{fit.datasets.brain.version} ({fit.datasets.brain.fileName},{" "}
+        {fit.datasets.brain.sha256.slice(0, 10)})
+        {fit.datasets.participants
+          ? ` · participant sheet v${fit.datasets.participants.version} (${fit.datasets.participants.fileName})`
+          : ""}{" "}
+        · run by {fit.createdBy.name ?? "a member"}, {whenWords(fit.createdAt)}
       </Txt>
     </View>
   );
@@ -82,7 +106,11 @@ function SetAsideDisclosure({ fit }: { fit: FitView }) {
       {open ? (
         <View style={styles.list} testID="fit-set-aside-list">
           {fit.setAsides.map((s, i) => (
-            <View key={`${s.participant ?? i}-${s.region ?? ""}`} style={styles.item} testID="fit-set-aside-item">
+            <View
+              key={`${s.participant ?? i}-${s.region ?? ""}`}
+              style={styles.item}
+              testID="fit-set-aside-item"
+            >
               <Txt kind="small" style={styles.itemTitle}>
                 {setAsideTitle(s)}
               </Txt>
@@ -119,7 +147,9 @@ function RefitOf({ fit }: { fit: FitView }) {
         </Txt>
       </Pressable>
       <Txt kind="small" style={{ color: palette.inkSoft }}>
-        {fit.changes.length > 0 ? `Changed: ${fit.changes.join("; ")}.` : "Nothing changed in the data, set-asides or model."}
+        {fit.changes.length > 0
+          ? `Changed: ${fit.changes.join("; ")}.`
+          : "Nothing changed in the data, set-asides or model."}
       </Txt>
     </View>
   );
@@ -133,7 +163,8 @@ function StaleNotice({ fit, canRun }: { fit: FitView; canRun: boolean }) {
   return (
     <View style={styles.stale} testID="fit-stale">
       <Notice tone="caution" title="Newer data or set-asides exist">
-        {fit.staleReasons.join(". ")}. This fit stays as it was run{mayRefit ? "; a refit runs the model on what the study has now." : "."}
+        {fit.staleReasons.join(". ")}. This fit stays as it was run
+        {mayRefit ? "; a refit runs the model on what the study has now." : "."}
       </Notice>
       {run.error ? <Notice tone="danger">{run.error.message}</Notice> : null}
       {mayRefit ? (
@@ -141,7 +172,12 @@ function StaleNotice({ fit, canRun }: { fit: FitView; canRun: boolean }) {
           label="Refit"
           testID="fit-refit"
           busy={run.isPending}
-          onPress={() => run.mutate(fit.model.id, { onSuccess: (created) => router.push(`/studies/${fit.studyId}/fits/${created.id}` as never) })}
+          onPress={() =>
+            run.mutate(fit.model.id, {
+              onSuccess: (created) =>
+                router.push(`/studies/${fit.studyId}/fits/${created.id}` as never),
+            })
+          }
           style={styles.refitButton}
         />
       ) : null}
@@ -163,7 +199,12 @@ function RunAgain({ fit }: { fit: FitView }) {
         label="Run again"
         testID="fit-run-again"
         busy={run.isPending}
-        onPress={() => run.mutate(fit.model.id, { onSuccess: (created) => router.push(`/studies/${fit.studyId}/fits/${created.id}` as never) })}
+        onPress={() =>
+          run.mutate(fit.model.id, {
+            onSuccess: (created) =>
+              router.push(`/studies/${fit.studyId}/fits/${created.id}` as never),
+          })
+        }
         style={styles.refitButton}
       />
     </View>
@@ -186,7 +227,9 @@ function SmallSample({ regions }: { regions: readonly RegionResult[] }) {
       <Pressable
         accessibilityRole="button"
         accessibilityState={{ expanded: open }}
-        accessibilityLabel={open ? "Show less of the small-sample caution" : "Read the whole small-sample caution"}
+        accessibilityLabel={
+          open ? "Show less of the small-sample caution" : "Read the whole small-sample caution"
+        }
         onPress={() => setOpen(!open)}
         style={({ pressed }) => [styles.more, pressed && styles.pressed]}
       >
@@ -200,7 +243,12 @@ function SmallSample({ regions }: { regions: readonly RegionResult[] }) {
 
 const styles = StyleSheet.create({
   root: { gap: space.sm },
-  head: { flexDirection: "row", justifyContent: "space-between", alignItems: "center", gap: space.sm },
+  head: {
+    flexDirection: "row",
+    justifyContent: "space-between",
+    alignItems: "center",
+    gap: space.sm,
+  },
   disclosure: {
     minHeight: 44,
     flexDirection: "row",

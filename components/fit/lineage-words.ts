@@ -42,7 +42,11 @@ export function setAsideByline(s: Pick<FitSetAsideView, "createdBy" | "createdAt
 }
 
 /** "Refit of Load effect (3 Dec 2026, 17:02)" — the earlier fit by its model's name and when it ran, or its short id. */
-export function refitOfWords(modelName: string, refitOf: string, refitOfCreatedAt: string | null): string {
+export function refitOfWords(
+  modelName: string,
+  refitOf: string,
+  refitOfCreatedAt: string | null,
+): string {
   return `Refit of ${modelName} (${refitOfCreatedAt ? whenWords(refitOfCreatedAt) : `fit ${refitOf.slice(0, 8)}`})`;
 }
 

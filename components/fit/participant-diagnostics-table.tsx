@@ -10,7 +10,11 @@ import { useMemo, useState } from "react";
 import type { ColumnDef, PaginationState, SortingState } from "@tanstack/react-table";
 import { DataTable } from "../tables/data-table";
 import { Card, Failure, Heading, Pending, Txt } from "../ui";
-import { useRegionParticipants, type ParticipantOrder, type RegionDetailPoint } from "../../hooks/use-fits";
+import {
+  useRegionParticipants,
+  type ParticipantOrder,
+  type RegionDetailPoint,
+} from "../../hooks/use-fits";
 
 type Row = RegionDetailPoint & { flagText: string };
 
@@ -26,7 +30,12 @@ const orderOfColumn: Record<string, ParticipantOrder> = {
   dffits: "dffits",
 };
 
-export function ParticipantDiagnosticsTable(props: { fitId: string; region: string; selected: string | null; onSelect: (id: string) => void }) {
+export function ParticipantDiagnosticsTable(props: {
+  fitId: string;
+  region: string;
+  selected: string | null;
+  onSelect: (id: string) => void;
+}) {
   const [pagination, setPagination] = useState<PaginationState>({ pageIndex: 0, pageSize: 50 });
   const [sorting, setSorting] = useState<SortingState>([]);
   const [search, setSearch] = useState("");
@@ -43,7 +52,10 @@ export function ParticipantDiagnosticsTable(props: { fitId: string; region: stri
     },
     true,
   );
-  const rows = useMemo<Row[]>(() => (page.data?.rows ?? []).map((p) => ({ ...p, flagText: p.flags.join(", ") })), [page.data]);
+  const rows = useMemo<Row[]>(
+    () => (page.data?.rows ?? []).map((p) => ({ ...p, flagText: p.flags.join(", ") })),
+    [page.data],
+  );
   const columns = useMemo<ColumnDef<Row, unknown>[]>(
     () => [
       { accessorKey: "participant", header: "Participant" },
@@ -51,8 +63,16 @@ export function ParticipantDiagnosticsTable(props: { fitId: string; region: stri
       { accessorKey: "y", header: "Contrast", meta: { numeric: true, digits: 3 } },
       { accessorKey: "fitted", header: "Fitted", meta: { numeric: true, digits: 3 } },
       { accessorKey: "leverage", header: "Leverage", meta: { numeric: true, digits: 3 } },
-      { accessorKey: "studentizedResidual", header: "Studentized residual", meta: { numeric: true, digits: 3, width: 120 } },
-      { accessorKey: "cooksDistance", header: "Cook's distance", meta: { numeric: true, digits: 3, width: 110 } },
+      {
+        accessorKey: "studentizedResidual",
+        header: "Studentized residual",
+        meta: { numeric: true, digits: 3, width: 120 },
+      },
+      {
+        accessorKey: "cooksDistance",
+        header: "Cook's distance",
+        meta: { numeric: true, digits: 3, width: 110 },
+      },
       { accessorKey: "dffits", header: "DFFITS", meta: { numeric: true, digits: 3 } },
     ],
     [],
@@ -94,7 +114,9 @@ export function ParticipantDiagnosticsTable(props: { fitId: string; region: stri
         />
       )}
       <Txt kind="caption">
-        Flags: outlier — externally studentized residual beyond the Bonferroni 5% cut-off (Cook & Weisberg 1982); leverage — hat value above 2p/n (Hoaglin & Welsch 1978); influence — Cook's distance above 4/n (Bollen & Jackman 1990).
+        Flags: outlier — externally studentized residual beyond the Bonferroni 5% cut-off (Cook &
+        Weisberg 1982); leverage — hat value above 2p/n (Hoaglin & Welsch 1978); influence — Cook's
+        distance above 4/n (Bollen & Jackman 1990).
       </Txt>
     </Card>
   );

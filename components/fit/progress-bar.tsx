@@ -6,13 +6,16 @@ import { palette, radius, space } from "../theme";
 export function ProgressBar(props: { fraction: number; secondsLeft: number | null }) {
   const percent = Math.max(0, Math.min(100, Math.round(props.fraction * 100)));
   return (
-    <View style={styles.root} accessibilityRole="progressbar" accessibilityValue={{ min: 0, max: 100, now: percent }} testID="fit-progress">
+    <View
+      style={styles.root}
+      accessibilityRole="progressbar"
+      accessibilityValue={{ min: 0, max: 100, now: percent }}
+      testID="fit-progress"
+    >
       <View style={styles.track}>
         <View style={[styles.fill, { width: `${percent}%` }]} />
       </View>
-      <Txt kind="caption">
-        {progressWords(percent, props.secondsLeft)}
-      </Txt>
+      <Txt kind="caption">{progressWords(percent, props.secondsLeft)}</Txt>
     </View>
   );
 }
@@ -31,6 +34,11 @@ function timeLeft(seconds: number): string {
 
 const styles = StyleSheet.create({
   root: { gap: space.xs },
-  track: { height: 8, borderRadius: radius.pill, backgroundColor: palette.canvasDeep, overflow: "hidden" },
+  track: {
+    height: 8,
+    borderRadius: radius.pill,
+    backgroundColor: palette.canvasDeep,
+    overflow: "hidden",
+  },
   fill: { height: 8, backgroundColor: palette.accent },
 });

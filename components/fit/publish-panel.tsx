@@ -16,7 +16,13 @@ import { publishState } from "./publish-state";
 import { useMe } from "../../hooks/use-me";
 import { can, useStudy } from "../../hooks/use-study";
 import type { FitView } from "../../hooks/use-fits";
-import { fitDownloads, useApproveFit, useFitMethods, useSealFit, type MethodsText } from "../../hooks/use-fit-exports";
+import {
+  fitDownloads,
+  useApproveFit,
+  useFitMethods,
+  useSealFit,
+  type MethodsText,
+} from "../../hooks/use-fit-exports";
 
 export function PublishPanel({ fit }: { fit: FitView }) {
   const study = useStudy(fit.studyId);
@@ -28,7 +34,11 @@ export function PublishPanel({ fit }: { fit: FitView }) {
   if (!done) return null;
   const state = publishState(
     fit,
-    { approve: can(study.data, "fits.approve"), seal: can(study.data, "fits.seal"), id: me.data?.id ?? null },
+    {
+      approve: can(study.data, "fits.approve"),
+      seal: can(study.data, "fits.seal"),
+      id: me.data?.id ?? null,
+    },
     { secondPersonSignOff: study.data?.secondPersonSignOff ?? true },
     (iso) => new Date(iso).toLocaleString(),
   );
@@ -39,7 +49,11 @@ export function PublishPanel({ fit }: { fit: FitView }) {
       <View style={styles.statusRow}>
         <Heading level={3}>For the paper</Heading>
         {state.stage === "sealed" && state.hash ? (
-          <View style={styles.sealed} testID="sealed-badge" accessibilityLabel={`Sealed, SHA-256 ${state.hash.full}`}>
+          <View
+            style={styles.sealed}
+            testID="sealed-badge"
+            accessibilityLabel={`Sealed, SHA-256 ${state.hash.full}`}
+          >
             <Badge label="Sealed" tone="success" />
             <Txt kind="mono" style={styles.hash} selectable>
               {state.hash.short}…
@@ -64,7 +78,8 @@ export function PublishPanel({ fit }: { fit: FitView }) {
       ) : null}
       {state.broken ? (
         <Notice tone="danger" title="The seal does not match">
-          The stored recipe or result no longer hashes to the seal's SHA-256. Report this to the study's Owner.
+          The stored recipe or result no longer hashes to the seal's SHA-256. Report this to the
+          study's Owner.
         </Notice>
       ) : null}
       {actionError ? <Notice tone="danger">{actionError.message}</Notice> : null}
@@ -75,8 +90,22 @@ export function PublishPanel({ fit }: { fit: FitView }) {
       ) : null}
       {state.canApprove || state.canSeal || state.hint ? (
         <View style={styles.actions}>
-          {state.canApprove ? <Button label="Approve for sealing" onPress={() => approve.mutate()} busy={approve.isPending} testID="approve-fit" /> : null}
-          {state.canSeal ? <Button label="Seal this fit" onPress={() => seal.mutate()} busy={seal.isPending} testID="seal-fit" /> : null}
+          {state.canApprove ? (
+            <Button
+              label="Approve for sealing"
+              onPress={() => approve.mutate()}
+              busy={approve.isPending}
+              testID="approve-fit"
+            />
+          ) : null}
+          {state.canSeal ? (
+            <Button
+              label="Seal this fit"
+              onPress={() => seal.mutate()}
+              busy={seal.isPending}
+              testID="seal-fit"
+            />
+          ) : null}
           {state.hint ? (
             <Txt kind="caption" style={styles.hint}>
               {state.hint}
@@ -85,11 +114,27 @@ export function PublishPanel({ fit }: { fit: FitView }) {
         </View>
       ) : null}
       <View style={styles.actions}>
-        <DownloadLink label="Region table (CSV)" href={downloads.regionsCsv} testID="download-regions" />
-        {fit.participantsVisible ? <DownloadLink label="Recipe (JSON)" href={downloads.recipeJson} testID="download-recipe" /> : null}
+        <DownloadLink
+          label="Region table (CSV)"
+          href={downloads.regionsCsv}
+          testID="download-regions"
+        />
+        {fit.participantsVisible ? (
+          <DownloadLink
+            label="Recipe (JSON)"
+            href={downloads.recipeJson}
+            testID="download-recipe"
+          />
+        ) : null}
       </View>
       {methods.isPending ? <Pending label="Writing the methods paragraph…" /> : null}
-      {methods.isError ? <Failure error={methods.error} onRetry={() => methods.refetch()} title="The methods paragraph could not be written" /> : null}
+      {methods.isError ? (
+        <Failure
+          error={methods.error}
+          onRetry={() => methods.refetch()}
+          title="The methods paragraph could not be written"
+        />
+      ) : null}
       {methods.data ? <MethodsBlock methods={methods.data} /> : null}
     </View>
   );
@@ -103,7 +148,11 @@ function MethodsBlock({ methods }: { methods: MethodsText }) {
       const outcome = await copyText(methods.text);
       setCopied(outcome === "copied" ? "Copied." : "Shared.");
     } catch (e) {
-      setCopied(e instanceof Error ? e.message : "Copying did not work; select the paragraph and copy it by hand.");
+      setCopied(
+        e instanceof Error
+          ? e.message
+          : "Copying did not work; select the paragraph and copy it by hand.",
+      );
     }
   };
   return (
@@ -111,8 +160,18 @@ function MethodsBlock({ methods }: { methods: MethodsText }) {
       <View style={styles.statusRow}>
         <Txt kind="label">Methods paragraph</Txt>
         <View style={styles.actions}>
-          <Button label="Copy" variant="secondary" onPress={() => void copy()} testID="copy-methods" />
-          <Button label={open ? "Show less" : "Show all"} variant="quiet" onPress={() => setOpen(!open)} testID="toggle-methods" />
+          <Button
+            label="Copy"
+            variant="secondary"
+            onPress={() => void copy()}
+            testID="copy-methods"
+          />
+          <Button
+            label={open ? "Show less" : "Show all"}
+            variant="quiet"
+            onPress={() => setOpen(!open)}
+            testID="toggle-methods"
+          />
         </View>
       </View>
       {copied ? (
@@ -121,7 +180,12 @@ function MethodsBlock({ methods }: { methods: MethodsText }) {
         </Txt>
       ) : null}
       <View style={styles.paragraph}>
-        <Txt selectable numberOfLines={open ? undefined : 4} testID="methods-text" style={styles.paragraphText}>
+        <Txt
+          selectable
+          numberOfLines={open ? undefined : 4}
+          testID="methods-text"
+          style={styles.paragraphText}
+        >
           {methods.text}
         </Txt>
       </View>
@@ -140,15 +204,33 @@ function MethodsBlock({ methods }: { methods: MethodsText }) {
 }
 
 const styles = StyleSheet.create({
-  root: { gap: space.sm, borderTopWidth: 1, borderTopColor: palette.line, paddingTop: space.md, marginTop: space.xs },
-  statusRow: { flexDirection: "row", flexWrap: "wrap", justifyContent: "space-between", alignItems: "center", gap: space.sm },
+  root: {
+    gap: space.sm,
+    borderTopWidth: 1,
+    borderTopColor: palette.line,
+    paddingTop: space.md,
+    marginTop: space.xs,
+  },
+  statusRow: {
+    flexDirection: "row",
+    flexWrap: "wrap",
+    justifyContent: "space-between",
+    alignItems: "center",
+    gap: space.sm,
+  },
   sealed: { flexDirection: "row", alignItems: "center", gap: space.xs },
   hash: { fontSize: type.caption, color: palette.success },
   fullHash: { color: palette.muted, fontFamily: fonts.mono },
   actions: { flexDirection: "row", flexWrap: "wrap", alignItems: "center", gap: space.sm },
   hint: { color: palette.muted, flexShrink: 1 },
   methods: { gap: space.sm },
-  paragraph: { backgroundColor: palette.canvas, borderRadius: radius.md, borderWidth: 1, borderColor: palette.line, padding: space.md },
+  paragraph: {
+    backgroundColor: palette.canvas,
+    borderRadius: radius.md,
+    borderWidth: 1,
+    borderColor: palette.line,
+    padding: space.md,
+  },
   paragraphText: { lineHeight: 22 },
   references: { gap: space.xs },
   reference: { color: palette.inkSoft, paddingLeft: space.md },

@@ -62,7 +62,14 @@ export function publishState(
   const starter = fit.createdBy;
   const isStarter = viewer.id !== null && viewer.id === starter.id;
   if (fit.status !== "done") {
-    return { ...none, stage: "unfinished", line: "Exports, approval and sealing open once the fit is done.", canApprove: false, canSeal: false, hint: null };
+    return {
+      ...none,
+      stage: "unfinished",
+      line: "Exports, approval and sealing open once the fit is done.",
+      canApprove: false,
+      canSeal: false,
+      hint: null,
+    };
   }
   if (fit.seal) {
     const approved = fit.approval ? ` after approval by ${who(fit.approval.by)}` : "";
@@ -89,7 +96,11 @@ export function publishState(
       line: `Approved for sealing by ${who(approver)} on ${when(fit.approval.at)}. Waiting for ${whoMaySeal(rule, starter, approver, viewer.id)} to seal.`,
       canApprove: false,
       canSeal,
-      hint: !viewer.seal ? "An Owner of the study seals an approved fit." : canSeal && alone ? singlePersonWarning : null,
+      hint: !viewer.seal
+        ? "An Owner of the study seals an approved fit."
+        : canSeal && alone
+          ? singlePersonWarning
+          : null,
       refusal: viewer.seal && !allowed ? sealRefusalMessage : null,
     };
   }

@@ -26,16 +26,32 @@ import { ParticipantDiagnosticsTable } from "./participant-diagnostics-table";
 import { Choice } from "../choice";
 import { Badge, Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "../ui";
 import { palette, space } from "../theme";
-import { useRegionDetail, useRegionPreview, useRunFit, type FitView, type RegionDetail } from "../../hooks/use-fits";
+import {
+  useRegionDetail,
+  useRegionPreview,
+  useRunFit,
+  type FitView,
+  type RegionDetail,
+} from "../../hooks/use-fits";
 import { useSetAside, useSetAsides, type SetAsideView } from "../../hooks/use-set-asides";
 import { RestoreForm } from "../set-asides/restore-form";
-import { individualCaution, regionSmallSampleCaution, setAsideCaution, smallSampleTitle } from "../../server/model/cautions";
+import {
+  individualCaution,
+  regionSmallSampleCaution,
+  setAsideCaution,
+  smallSampleTitle,
+} from "../../server/model/cautions";
 import { setAsideLine } from "../../server/model/set-aside-words";
 import type { Flag } from "../../server/model/spec";
 
 type Point = NonNullable<RegionDetail["points"]>[number];
 
-export function RegionDetailPanel(props: { fit: FitView; region: string; canSetAside: boolean; canRun: boolean }) {
+export function RegionDetailPanel(props: {
+  fit: FitView;
+  region: string;
+  canSetAside: boolean;
+  canRun: boolean;
+}) {
   const detail = useRegionDetail(props.fit.id, props.region, true);
   const [selected, setSelected] = useState<string | null>(null);
   if (detail.isPending) return <Pending label={`Loading ${props.region}…`} />;
@@ -55,21 +71,60 @@ export function RegionDetailPanel(props: { fit: FitView; region: string; canSetA
       {d.result.attenuation ? (
         <Card>
           <Heading level={3}>Reliability and the largest observable correlation</Heading>
-          <AttenuationNote attenuation={d.result.attenuation as AttenuationInput} testID="attenuation-note" />
+          <AttenuationNote
+            attenuation={d.result.attenuation as AttenuationInput}
+            testID="attenuation-note"
+          />
         </Card>
       ) : null}
-      {d.points ? <DataPlot detail={d} selected={selected} onSelect={setSelected} /> : <Notice>This study restricts participant-level rows: the plots are not shown to Viewers.</Notice>}
-      {point ? <ParticipantCard key={point.participant} fit={props.fit} detail={d} point={point} canSetAside={props.canSetAside} onClose={() => setSelected(null)} /> : null}
-      <PreviewCard fit={props.fit} region={d.region} canRun={props.canRun} enabled={props.canSetAside} />
-      {d.points && d.kind !== "reliability" ? <InfluenceCard detail={d} selected={selected} onSelect={setSelected} /> : null}
+      {d.points ? (
+        <DataPlot detail={d} selected={selected} onSelect={setSelected} />
+      ) : (
+        <Notice>
+          This study restricts participant-level rows: the plots are not shown to Viewers.
+        </Notice>
+      )}
+      {point ? (
+        <ParticipantCard
+          key={point.participant}
+          fit={props.fit}
+          detail={d}
+          point={point}
+          canSetAside={props.canSetAside}
+          onClose={() => setSelected(null)}
+        />
+      ) : null}
+      <PreviewCard
+        fit={props.fit}
+        region={d.region}
+        canRun={props.canRun}
+        enabled={props.canSetAside}
+      />
+      {d.points && d.kind !== "reliability" ? (
+        <InfluenceCard detail={d} selected={selected} onSelect={setSelected} />
+      ) : null}
       <Sensitivity detail={d} />
       {isHistogram(d.nullHistogram) ? (
         <Card>
           <Heading level={3}>Permutation null distribution</Heading>
-          <NullHistogram edges={d.nullHistogram.edges} counts={d.nullHistogram.counts} observed={d.nullHistogram.observed} statisticName="t" p={d.result.p} testID="null-histogram" />
+          <NullHistogram
+            edges={d.nullHistogram.edges}
+            counts={d.nullHistogram.counts}
+            observed={d.nullHistogram.observed}
+            statisticName="t"
+            p={d.result.p}
+            testID="null-histogram"
+          />
         </Card>
       ) : null}
-      {d.points ? <ParticipantDiagnosticsTable fitId={props.fit.id} region={d.region} selected={selected} onSelect={setSelected} /> : null}
+      {d.points ? (
+        <ParticipantDiagnosticsTable
+          fitId={props.fit.id}
+          region={d.region}
+          selected={selected}
+          onSelect={setSelected}
+        />
+      ) : null}
       {d.notes.length > 0 ? (
         <Txt kind="caption" style={{ color: palette.muted }}>
           {d.notes.join(" ")}
@@ -81,7 +136,9 @@ export function RegionDetailPanel(props: { fit: FitView; region: string; canSetA
 
 /** The flags' cut-offs as the fit kept them (see flagThresholds in the engine), or null for a fit that did not keep them. */
 function flagCuts(d: RegionDetail): FlagCuts | null {
-  const t = d.result.flagThresholds as { cooksDistance?: unknown; leverage?: unknown; outlierT?: unknown } | undefined;
+  const t = d.result.flagThresholds as
+    | { cooksDistance?: unknown; leverage?: unknown; outlierT?: unknown }
+    | undefined;
   if (!t || typeof t.cooksDistance !== "number") return null;
   return {
     cooksDistance: t.cooksDistance,
@@ -90,7 +147,15 @@ function flagCuts(d: RegionDetail): FlagCuts | null {
   };
 }
 
-function InfluenceCard({ detail, selected, onSelect }: { detail: RegionDetail; selected: string | null; onSelect: (id: string) => void }) {
+function InfluenceCard({
+  detail,
+  selected,
+  onSelect,
+}: {
+  detail: RegionDetail;
+  selected: string | null;
+  onSelect: (id: string) => void;
+}) {
   const cuts = flagCuts(detail);
   const setAsideIds = new Set((detail.setAside ?? []).map((s) => s.participant));
   return (
@@ -113,82 +178,148 @@ function InfluenceCard({ detail, selected, onSelect }: { detail: RegionDetail; s
             testID="influence-view"
           />
           <Txt kind="caption">
-            Dashed lines: the cut-offs the flags use — influence when Cook's distance is above 4/n, leverage above 2p/n, outlier when the studentized residual is beyond the Bonferroni cut-off (n participants, p terms in the region's design). From the least-squares fit of the region's design.
+            Dashed lines: the cut-offs the flags use — influence when Cook's distance is above 4/n,
+            leverage above 2p/n, outlier when the studentized residual is beyond the Bonferroni
+            cut-off (n participants, p terms in the region's design). From the least-squares fit of
+            the region's design.
           </Txt>
         </>
       ) : (
-        <Notice>This fit was run before its flag cut-offs were kept with it; run it again to see who moves the estimate.</Notice>
+        <Notice>
+          This fit was run before its flag cut-offs were kept with it; run it again to see who moves
+          the estimate.
+        </Notice>
       )}
     </Card>
   );
 }
 
-function isHistogram(value: unknown): value is { edges: number[]; counts: number[]; observed: number } {
-  return Boolean(value && typeof value === "object" && Array.isArray((value as { edges?: unknown }).edges));
+function isHistogram(
+  value: unknown,
+): value is { edges: number[]; counts: number[]; observed: number } {
+  return Boolean(
+    value && typeof value === "object" && Array.isArray((value as { edges?: unknown }).edges),
+  );
 }
 
 function Summary({ detail }: { detail: RegionDetail }) {
   const r = detail.result;
-  const ci = r.ciLow !== null && r.ciHigh !== null ? `${formatValue(r.ciLow)} to ${formatValue(r.ciHigh)}` : "n/a";
+  const ci =
+    r.ciLow !== null && r.ciHigh !== null
+      ? `${formatValue(r.ciLow)} to ${formatValue(r.ciHigh)}`
+      : "n/a";
   return (
     <Card>
       <Txt testID="region-summary">
-        Estimate {formatValue(r.estimate)} (95% CI {ci}), {r.statistic !== null ? `statistic ${formatValue(r.statistic)}, ` : ""}
-        {r.df !== null ? `df ${formatValue(r.df, 4)}, ` : ""}{pPhrase(r.p)}, adjusted {pPhrase(r.pAdjusted)}, N = {r.n}.
+        Estimate {formatValue(r.estimate)} (95% CI {ci}),{" "}
+        {r.statistic !== null ? `statistic ${formatValue(r.statistic)}, ` : ""}
+        {r.df !== null ? `df ${formatValue(r.df, 4)}, ` : ""}
+        {pPhrase(r.p)}, adjusted {pPhrase(r.pAdjusted)}, N = {r.n}.
       </Txt>
       {typeof r.r === "number" ? (
         <Txt kind="small" style={{ color: palette.inkSoft }}>
           r = {formatValue(r.r)}
-          {typeof r.rCiLow === "number" && typeof r.rCiHigh === "number" ? ` (95% CI ${formatValue(r.rCiLow)} to ${formatValue(r.rCiHigh)})` : ""}. With {r.n} participants the interval,
-          not p alone, shows how uncertain this correlation is.
+          {typeof r.rCiLow === "number" && typeof r.rCiHigh === "number"
+            ? ` (95% CI ${formatValue(r.rCiLow)} to ${formatValue(r.rCiHigh)})`
+            : ""}
+          . With {r.n} participants the interval, not p alone, shows how uncertain this correlation
+          is.
         </Txt>
       ) : null}
       <View style={styles.badges}>
-        <Badge label={`${detail.flagCounts.outlier} outlier`} tone={detail.flagCounts.outlier ? "danger" : "neutral"} />
-        <Badge label={`${detail.flagCounts.leverage} leverage`} tone={detail.flagCounts.leverage ? "accent" : "neutral"} />
-        <Badge label={`${detail.flagCounts.influence} influence`} tone={detail.flagCounts.influence ? "accent" : "neutral"} />
+        <Badge
+          label={`${detail.flagCounts.outlier} outlier`}
+          tone={detail.flagCounts.outlier ? "danger" : "neutral"}
+        />
+        <Badge
+          label={`${detail.flagCounts.leverage} leverage`}
+          tone={detail.flagCounts.leverage ? "accent" : "neutral"}
+        />
+        <Badge
+          label={`${detail.flagCounts.influence} influence`}
+          tone={detail.flagCounts.influence ? "accent" : "neutral"}
+        />
       </View>
     </Card>
   );
 }
 
-function DataPlot({ detail, selected, onSelect }: { detail: RegionDetail; selected: string | null; onSelect: (id: string) => void }) {
+function DataPlot({
+  detail,
+  selected,
+  onSelect,
+}: {
+  detail: RegionDetail;
+  selected: string | null;
+  onSelect: (id: string) => void;
+}) {
   const points = detail.points ?? [];
   const setAsideIds = new Set((detail.setAside ?? []).map((s) => s.participant));
   if (detail.kind === "association") {
     const line = detail.band?.lines[0];
     return (
       <Card>
-        <Heading level={3}>
-          {detail.axes.x} and the contrast value
-        </Heading>
+        <Heading level={3}>{detail.axes.x} and the contrast value</Heading>
         <ScatterPlot
-          points={points.map((p) => ({ id: p.participant, flags: p.flags as Flag[], setAside: setAsideIds.has(p.participant), x: p.x, y: p.y }))}
+          points={points.map((p) => ({
+            id: p.participant,
+            flags: p.flags as Flag[],
+            setAside: setAsideIds.has(p.participant),
+            x: p.x,
+            y: p.y,
+          }))}
           band={line?.points.map((b) => ({ x: b.x, fit: b.fit, low: b.low, high: b.high }))}
           xLabel={detail.axes.x ?? "trait"}
           yLabel="Contrast value"
           xName={detail.axes.x ?? "trait"}
           yName="contrast"
-          bandLabel={detail.band ? `${Math.round(detail.band.level * 100)}% confidence band` : undefined}
+          bandLabel={
+            detail.band ? `${Math.round(detail.band.level * 100)}% confidence band` : undefined
+          }
           selectedId={selected}
           onPointPress={onSelect}
           testID="scatter-plot"
         />
-        <Txt kind="caption">One mark per participant ({points.length}). Fitted line: {detail.band?.method ?? "least squares"}.</Txt>
+        <Txt kind="caption">
+          One mark per participant ({points.length}). Fitted line:{" "}
+          {detail.band?.method ?? "least squares"}.
+        </Txt>
       </Card>
     );
   }
   const groups =
     detail.groupMeans && detail.groupMeans.length > 0
-      ? detail.groupMeans.map((g) => ({ key: g.label, label: `${g.label} (n = ${g.n})`, mean: g.mean, low: g.ciLow, high: g.ciHigh }))
-      : [{ key: "all", label: `All participants (n = ${detail.n})`, mean: detail.result.estimate, low: detail.result.ciLow, high: detail.result.ciHigh }];
+      ? detail.groupMeans.map((g) => ({
+          key: g.label,
+          label: `${g.label} (n = ${g.n})`,
+          mean: g.mean,
+          low: g.ciLow,
+          high: g.ciHigh,
+        }))
+      : [
+          {
+            key: "all",
+            label: `All participants (n = ${detail.n})`,
+            mean: detail.result.estimate,
+            low: detail.result.ciLow,
+            high: detail.result.ciHigh,
+          },
+        ];
   const single = groups.length === 1;
   return (
     <Card>
-      <Heading level={3}>{single ? "Contrast values around zero" : "Contrast values by group"}</Heading>
+      <Heading level={3}>
+        {single ? "Contrast values around zero" : "Contrast values by group"}
+      </Heading>
       <StripPlot
         groups={groups}
-        points={points.map((p) => ({ id: p.participant, flags: p.flags as Flag[], setAside: setAsideIds.has(p.participant), group: single ? groups[0].key : (p.group ?? ""), value: p.y }))}
+        points={points.map((p) => ({
+          id: p.participant,
+          flags: p.flags as Flag[],
+          setAside: setAsideIds.has(p.participant),
+          group: single ? groups[0].key : (p.group ?? ""),
+          value: p.y,
+        }))}
         valueLabel="Contrast value"
         valueName="contrast"
         summaryLabel="mean and 95% CI"
@@ -196,18 +327,36 @@ function DataPlot({ detail, selected, onSelect }: { detail: RegionDetail; select
         onPointPress={onSelect}
         testID="strip-plot"
       />
-      <Txt kind="caption">One mark per participant ({points.length}); horizontal offset is for visibility only.</Txt>
+      <Txt kind="caption">
+        One mark per participant ({points.length}); horizontal offset is for visibility only.
+      </Txt>
     </Card>
   );
 }
 
 /** The study's active set-aside that leaves this participant out of this region (every region first), if any. */
-function currentSetAside(list: readonly SetAsideView[] | undefined, participant: string, region: string): SetAsideView | null {
+function currentSetAside(
+  list: readonly SetAsideView[] | undefined,
+  participant: string,
+  region: string,
+): SetAsideView | null {
   const mine = (list ?? []).filter((s) => s.active && s.participant === participant);
   return mine.find((s) => s.region === null) ?? mine.find((s) => s.region === region) ?? null;
 }
 
-function ParticipantCard({ fit, detail, point, canSetAside, onClose }: { fit: FitView; detail: RegionDetail; point: Point; canSetAside: boolean; onClose: () => void }) {
+function ParticipantCard({
+  fit,
+  detail,
+  point,
+  canSetAside,
+  onClose,
+}: {
+  fit: FitView;
+  detail: RegionDetail;
+  point: Point;
+  canSetAside: boolean;
+  onClose: () => void;
+}) {
   const [reason, setReason] = useState("");
   const [scope, setScope] = useState<"region" | "all">("region");
   const [restored, setRestored] = useState(false);
@@ -215,7 +364,13 @@ function ParticipantCard({ fit, detail, point, canSetAside, onClose }: { fit: Fi
   const studySetAsides = useSetAsides(fit.studyId);
   const inFit = detail.setAside?.find((s) => s.participant === point.participant);
   const current = currentSetAside(studySetAsides.data, point.participant, detail.region);
-  const elsewhere = (studySetAsides.data ?? []).filter((s) => s.active && s.participant === point.participant && s.region !== null && s.region !== detail.region);
+  const elsewhere = (studySetAsides.data ?? []).filter(
+    (s) =>
+      s.active &&
+      s.participant === point.participant &&
+      s.region !== null &&
+      s.region !== detail.region,
+  );
   return (
     <Card testID="participant-card">
       <View style={styles.badges}>
@@ -223,28 +378,62 @@ function ParticipantCard({ fit, detail, point, canSetAside, onClose }: { fit: Fi
         {point.flags.map((f) => (
           <Badge key={f} label={f} tone="danger" />
         ))}
-        {current ? <Badge label={current.region === null ? "Set aside: all regions" : "Set aside: this region"} tone="accent" /> : null}
+        {current ? (
+          <Badge
+            label={current.region === null ? "Set aside: all regions" : "Set aside: this region"}
+            tone="accent"
+          />
+        ) : null}
       </View>
       <Txt kind="small">
         {detail.axes.x ? `${detail.axes.x} ${formatValue(point.x)} · ` : ""}
-        {point.group ? `${detail.axes.group ?? "group"} ${point.group} · ` : ""}contrast {formatValue(point.y)} · leverage {formatValue(point.leverage)} · studentized residual{" "}
-        {formatValue(point.studentizedResidual)} · Cook's distance {formatValue(point.cooksDistance)}
+        {point.group ? `${detail.axes.group ?? "group"} ${point.group} · ` : ""}contrast{" "}
+        {formatValue(point.y)} · leverage {formatValue(point.leverage)} · studentized residual{" "}
+        {formatValue(point.studentizedResidual)} · Cook's distance{" "}
+        {formatValue(point.cooksDistance)}
       </Txt>
       <Txt kind="caption" style={{ color: palette.muted }} testID="individual-caution">
         {individualCaution}
       </Txt>
-      {inFit ? <Notice>Set aside in this fit ({inFit.scope}): {inFit.reason}</Notice> : null}
-      {restored && !current ? <Notice tone="success">Restored and logged. Refit to bring this participant back into every region's numbers.</Notice> : null}
-      {setAside.isSuccess && current ? <Notice tone="success">Set aside and logged. The estimate below is recomputed without this participant; refit to update every region.</Notice> : null}
+      {inFit ? (
+        <Notice>
+          Set aside in this fit ({inFit.scope}): {inFit.reason}
+        </Notice>
+      ) : null}
+      {restored && !current ? (
+        <Notice tone="success">
+          Restored and logged. Refit to bring this participant back into every region's numbers.
+        </Notice>
+      ) : null}
+      {setAside.isSuccess && current ? (
+        <Notice tone="success">
+          Set aside and logged. The estimate below is recomputed without this participant; refit to
+          update every region.
+        </Notice>
+      ) : null}
       {current ? (
         <>
-          <Notice tone="caution" title={current.region === null ? "Set aside from every region" : `Set aside from ${current.region}`} testID="participant-set-aside">
+          <Notice
+            tone="caution"
+            title={
+              current.region === null
+                ? "Set aside from every region"
+                : `Set aside from ${current.region}`
+            }
+            testID="participant-set-aside"
+          >
             {setAsideLine(current)}
           </Notice>
-          {canSetAside ? <RestoreForm studyId={fit.studyId} setAside={current} onRestored={() => {
+          {canSetAside ? (
+            <RestoreForm
+              studyId={fit.studyId}
+              setAside={current}
+              onRestored={() => {
                 setAside.reset();
                 setRestored(true);
-              }} /> : null}
+              }}
+            />
+          ) : null}
         </>
       ) : studySetAsides.isPending ? (
         <Pending label="Checking set-asides…" />
@@ -265,7 +454,13 @@ function ParticipantCard({ fit, detail, point, canSetAside, onClose }: { fit: Fi
             value={scope}
             onChange={setScope}
           />
-          <Field label="Reason (required)" value={reason} onChangeText={setReason} placeholder="e.g. mean framewise displacement above the preregistered 0.5 mm" testID="set-aside-reason" />
+          <Field
+            label="Reason (required)"
+            value={reason}
+            onChangeText={setReason}
+            placeholder="e.g. mean framewise displacement above the preregistered 0.5 mm"
+            testID="set-aside-reason"
+          />
           {setAside.error ? <Notice tone="danger">{setAside.error.message}</Notice> : null}
           <Button
             label="Set aside"
@@ -274,7 +469,11 @@ function ParticipantCard({ fit, detail, point, canSetAside, onClose }: { fit: Fi
             busy={setAside.isPending}
             onPress={() =>
               setAside.mutate(
-                { participant: point.participant, region: scope === "region" ? detail.region : undefined, reason: reason.trim() },
+                {
+                  participant: point.participant,
+                  region: scope === "region" ? detail.region : undefined,
+                  reason: reason.trim(),
+                },
                 {
                   onSuccess: () => {
                     setReason("");
@@ -292,7 +491,17 @@ function ParticipantCard({ fit, detail, point, canSetAside, onClose }: { fit: Fi
   );
 }
 
-function PreviewCard({ fit, region, canRun, enabled }: { fit: FitView; region: string; canRun: boolean; enabled: boolean }) {
+function PreviewCard({
+  fit,
+  region,
+  canRun,
+  enabled,
+}: {
+  fit: FitView;
+  region: string;
+  canRun: boolean;
+  enabled: boolean;
+}) {
   const setAsides = useSetAsides(fit.studyId, enabled);
   const version = (setAsides.data ?? []).map((s) => `${s.id}:${s.restoredAt ?? ""}`).join(",");
   const preview = useRegionPreview(fit.id, region, version, enabled && setAsides.isSuccess);
@@ -306,15 +515,26 @@ function PreviewCard({ fit, region, canRun, enabled }: { fit: FitView; region: s
     <Card testID="region-preview">
       <Heading level={3}>With the current set-asides</Heading>
       <Txt>
-        Estimate {formatValue(p.estimate)} (95% CI {formatValue(p.ciLow)} to {formatValue(p.ciHigh)}), {pPhrase(p.p)}, N = {p.n}
-        {preview.data.fit ? ` — this fit had ${formatValue(preview.data.fit.estimate)} with N = ${preview.data.fit.n}` : ""}.
+        Estimate {formatValue(p.estimate)} (95% CI {formatValue(p.ciLow)} to {formatValue(p.ciHigh)}
+        ), {pPhrase(p.p)}, N = {p.n}
+        {preview.data.fit
+          ? ` — this fit had ${formatValue(preview.data.fit.estimate)} with N = ${preview.data.fit.n}`
+          : ""}
+        .
       </Txt>
-      <Txt kind="caption">Parametric, this region only. A refit recomputes every region with the model's own inference and correction; this fit stays as it is.</Txt>
+      <Txt kind="caption">
+        Parametric, this region only. A refit recomputes every region with the model's own inference
+        and correction; this fit stays as it is.
+      </Txt>
       {run.error ? <Notice tone="danger">{run.error.message}</Notice> : null}
       {canRun ? (
         <Button
           label="Refit every region"
-          onPress={() => run.mutate(fit.model.id, { onSuccess: (next) => router.push(`/studies/${fit.studyId}/fits/${next.id}` as never) })}
+          onPress={() =>
+            run.mutate(fit.model.id, {
+              onSuccess: (next) => router.push(`/studies/${fit.studyId}/fits/${next.id}` as never),
+            })
+          }
           busy={run.isPending}
           testID="refit"
         />
@@ -324,19 +544,40 @@ function PreviewCard({ fit, region, canRun, enabled }: { fit: FitView; region: s
 }
 
 function Sensitivity({ detail }: { detail: RegionDetail }) {
-  const s = detail.sensitivity as { excluded: string[]; n: number; estimate?: number; p?: number; ciLow?: number | null; ciHigh?: number | null; error?: string } | null;
-  const loo = detail.leaveOneOut as { estimateMin: number; estimateMax: number; minWithout: string; maxWithout: string; rMin?: number; rMax?: number } | null;
+  const s = detail.sensitivity as {
+    excluded: string[];
+    n: number;
+    estimate?: number;
+    p?: number;
+    ciLow?: number | null;
+    ciHigh?: number | null;
+    error?: string;
+  } | null;
+  const loo = detail.leaveOneOut as {
+    estimateMin: number;
+    estimateMax: number;
+    minWithout: string;
+    maxWithout: string;
+    rMin?: number;
+    rMax?: number;
+  } | null;
   if (!s && !loo) return null;
   return (
     <Card testID="sensitivity">
       <Heading level={3}>With and without</Heading>
       {s ? (
         s.error ? (
-          <Txt kind="small">Without the {s.excluded.length} flagged participants the estimate could not be computed: {s.error}.</Txt>
+          <Txt kind="small">
+            Without the {s.excluded.length} flagged participants the estimate could not be computed:{" "}
+            {s.error}.
+          </Txt>
         ) : (
           <Txt kind="small">
-            Without the {s.excluded.length} participant{s.excluded.length === 1 ? "" : "s"} flagged outlier or influence ({detail.points ? s.excluded.join(", ") : "ids withheld"}): estimate{" "}
-            {formatValue(s.estimate)} (95% CI {formatValue(s.ciLow)} to {formatValue(s.ciHigh)}), {pPhrase(s.p)}, N = {s.n}; with them {formatValue(detail.result.estimate)}, {pPhrase(detail.result.p)}.
+            Without the {s.excluded.length} participant{s.excluded.length === 1 ? "" : "s"} flagged
+            outlier or influence ({detail.points ? s.excluded.join(", ") : "ids withheld"}):
+            estimate {formatValue(s.estimate)} (95% CI {formatValue(s.ciLow)} to{" "}
+            {formatValue(s.ciHigh)}), {pPhrase(s.p)}, N = {s.n}; with them{" "}
+            {formatValue(detail.result.estimate)}, {pPhrase(detail.result.p)}.
           </Txt>
         )
       ) : (
@@ -344,8 +585,12 @@ function Sensitivity({ detail }: { detail: RegionDetail }) {
       )}
       {loo ? (
         <Txt kind="small">
-          Leaving one participant out moves the estimate between {formatValue(loo.estimateMin)} and {formatValue(loo.estimateMax)}
-          {typeof loo.rMin === "number" && typeof loo.rMax === "number" ? ` (r between ${formatValue(loo.rMin)} and ${formatValue(loo.rMax)})` : ""}.
+          Leaving one participant out moves the estimate between {formatValue(loo.estimateMin)} and{" "}
+          {formatValue(loo.estimateMax)}
+          {typeof loo.rMin === "number" && typeof loo.rMax === "number"
+            ? ` (r between ${formatValue(loo.rMin)} and ${formatValue(loo.rMax)})`
+            : ""}
+          .
         </Txt>
       ) : null}
     </Card>

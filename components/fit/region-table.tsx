@@ -24,14 +24,22 @@ function flagTotal(r: RegionResult): number {
 }
 
 /** The fit's regions: sortable by every column, region pinned. */
-export function RegionTable(props: { regions: readonly RegionResult[]; estimateLabel: string; selectedRegion: string | null; onSelect: (region: string) => void }) {
+export function RegionTable(props: {
+  regions: readonly RegionResult[];
+  estimateLabel: string;
+  selectedRegion: string | null;
+  onSelect: (region: string) => void;
+}) {
   const data = useMemo<Row[]>(
     () =>
       props.regions.map((r) => ({
         region: r.region,
         n: r.n,
         estimate: r.estimate,
-        interval: r.ciLow === null || r.ciHigh === null ? "n/a" : `${formatValue(r.ciLow)} to ${formatValue(r.ciHigh)}`,
+        interval:
+          r.ciLow === null || r.ciHigh === null
+            ? "n/a"
+            : `${formatValue(r.ciLow)} to ${formatValue(r.ciHigh)}`,
         ciLow: r.ciLow,
         statistic: r.statistic,
         df: r.df,
@@ -45,12 +53,35 @@ export function RegionTable(props: { regions: readonly RegionResult[]; estimateL
     () => [
       { accessorKey: "region", header: "Region" },
       { accessorKey: "n", header: "N", meta: { numeric: true, decimals: 0, width: 56 } },
-      { accessorKey: "estimate", header: props.estimateLabel, meta: { numeric: true, digits: 3, width: 96 } },
-      { accessorKey: "interval", header: "95% CI", meta: { width: 150 }, sortingFn: (a, b) => (a.original.ciLow ?? -Infinity) - (b.original.ciLow ?? -Infinity) },
-      { accessorKey: "statistic", header: "Statistic", meta: { numeric: true, digits: 3, width: 88 } },
+      {
+        accessorKey: "estimate",
+        header: props.estimateLabel,
+        meta: { numeric: true, digits: 3, width: 96 },
+      },
+      {
+        accessorKey: "interval",
+        header: "95% CI",
+        meta: { width: 150 },
+        sortingFn: (a, b) => (a.original.ciLow ?? -Infinity) - (b.original.ciLow ?? -Infinity),
+      },
+      {
+        accessorKey: "statistic",
+        header: "Statistic",
+        meta: { numeric: true, digits: 3, width: 88 },
+      },
       { accessorKey: "df", header: "df", meta: { numeric: true, digits: 4, width: 64 } },
-      { accessorKey: "p", header: "p", meta: { numeric: true, width: 84 }, cell: (c) => pText(c.getValue() as number) },
-      { accessorKey: "pAdjusted", header: "Adjusted p", meta: { numeric: true, width: 104 }, cell: (c) => pText(c.getValue() as number) },
+      {
+        accessorKey: "p",
+        header: "p",
+        meta: { numeric: true, width: 84 },
+        cell: (c) => pText(c.getValue() as number),
+      },
+      {
+        accessorKey: "pAdjusted",
+        header: "Adjusted p",
+        meta: { numeric: true, width: 104 },
+        cell: (c) => pText(c.getValue() as number),
+      },
       { accessorKey: "flags", header: "Flags", meta: { numeric: true, decimals: 0, width: 64 } },
     ],
     [props.estimateLabel],

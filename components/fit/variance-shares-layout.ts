@@ -55,13 +55,23 @@ export function varianceShareRows(regions: readonly VarianceShareInput[]): Varia
       ["trueShare", truth],
       ["i2", i2],
     ] as const) {
-      if (value < 0 || value > 1) throw new ChartInputError(field, `must lie between 0 and 1 (got ${value})`, i);
+      if (value < 0 || value > 1)
+        throw new ChartInputError(field, `must lie between 0 and 1 (got ${value})`, i);
     }
     if (tau2 < 0) throw new ChartInputError("tau2", `must not be negative (got ${tau2})`, i);
     if (Math.abs(noise + truth - 1) > SUM_TOLERANCE) {
-      throw new ChartInputError("trueShare", `noiseShare and trueShare must add to 1 (got ${noise} + ${truth})`, i);
+      throw new ChartInputError(
+        "trueShare",
+        `noiseShare and trueShare must add to 1 (got ${noise} + ${truth})`,
+        i,
+      );
     }
-    if (r.tau2Method !== "dl" && r.tau2Method !== "reml") throw new ChartInputError("tau2Method", `must be "dl" or "reml" (got "${String(r.tau2Method)}")`, i);
+    if (r.tau2Method !== "dl" && r.tau2Method !== "reml")
+      throw new ChartInputError(
+        "tau2Method",
+        `must be "dl" or "reml" (got "${String(r.tau2Method)}")`,
+        i,
+      );
     return {
       region: r.region,
       noiseShare: noise,
@@ -73,7 +83,9 @@ export function varianceShareRows(regions: readonly VarianceShareInput[]): Varia
 }
 
 /** The method line under the bars, naming the τ² method(s) of the regions shown. */
-export function varianceSharesMethod(regions: readonly Pick<VarianceShareInput, "tau2Method">[]): string {
+export function varianceSharesMethod(
+  regions: readonly Pick<VarianceShareInput, "tau2Method">[],
+): string {
   const methods = [...new Set(regions.map((r) => r.tau2Method))].map(tau2MethodName).join(" and ");
   return `Shares of each region's residual variance: measurement noise = mean(se²) / (mean(se²) + τ²), true differences between participants = τ² / (mean(se²) + τ²); se the first-level standard errors, τ² estimated by ${methods}. I² after Higgins & Thompson (2002).`;
 }

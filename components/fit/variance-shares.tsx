@@ -12,7 +12,11 @@ import { tryLayout } from "../charts/chart-input-error";
 import { Legend } from "../charts/legend";
 import { chart, markRoles, palette, radius, space } from "../theme";
 import { Txt } from "../ui";
-import { type VarianceShareInput, varianceShareRows, varianceSharesMethod } from "./variance-shares-layout";
+import {
+  type VarianceShareInput,
+  varianceShareRows,
+  varianceSharesMethod,
+} from "./variance-shares-layout";
 
 export type { VarianceShareInput };
 
@@ -38,9 +42,17 @@ export function VarianceShares(props: VarianceSharesProps) {
   }
   return (
     <View style={styles.root} testID={props.testID}>
-      <View role="list" accessibilityLabel="Variance shares per region: measurement noise and true differences between participants">
+      <View
+        role="list"
+        accessibilityLabel="Variance shares per region: measurement noise and true differences between participants"
+      >
         {result.layout.map((row) => (
-          <View key={row.region} style={styles.row} role="listitem" accessibilityLabel={`${row.region}: ${row.words}; ${row.detail}`}>
+          <View
+            key={row.region}
+            style={styles.row}
+            role="listitem"
+            accessibilityLabel={`${row.region}: ${row.words}; ${row.detail}`}
+          >
             <View style={styles.head}>
               <Txt kind="label" numberOfLines={1} style={styles.region}>
                 {row.region}
@@ -48,8 +60,12 @@ export function VarianceShares(props: VarianceSharesProps) {
               <Txt kind="caption">{row.detail}</Txt>
             </View>
             <View style={styles.bar} aria-hidden>
-              {row.noiseShare > 0 ? <View style={[styles.segment, { flex: row.noiseShare, backgroundColor: NOISE }]} /> : null}
-              {row.trueShare > 0 ? <View style={[styles.segment, { flex: row.trueShare, backgroundColor: TRUE }]} /> : null}
+              {row.noiseShare > 0 ? (
+                <View style={[styles.segment, { flex: row.noiseShare, backgroundColor: NOISE }]} />
+              ) : null}
+              {row.trueShare > 0 ? (
+                <View style={[styles.segment, { flex: row.trueShare, backgroundColor: TRUE }]} />
+              ) : null}
             </View>
             <Txt kind="caption" style={styles.words}>
               {row.words}
@@ -74,7 +90,13 @@ export function VarianceShares(props: VarianceSharesProps) {
 const styles = StyleSheet.create({
   root: { width: "100%", gap: space.sm },
   row: { gap: space.xs, paddingVertical: space.xs },
-  head: { flexDirection: "row", flexWrap: "wrap", justifyContent: "space-between", alignItems: "baseline", gap: space.sm },
+  head: {
+    flexDirection: "row",
+    flexWrap: "wrap",
+    justifyContent: "space-between",
+    alignItems: "baseline",
+    gap: space.sm,
+  },
   region: { flexShrink: 1 },
   bar: {
     flexDirection: "row",
@@ -88,6 +110,11 @@ const styles = StyleSheet.create({
   segment: { height: "100%" },
   words: { color: palette.inkSoft },
   method: { color: palette.muted },
-  problem: { backgroundColor: palette.dangerSoft, borderRadius: radius.md, padding: space.md, gap: space.xs },
+  problem: {
+    backgroundColor: palette.dangerSoft,
+    borderRadius: radius.md,
+    padding: space.md,
+    gap: space.xs,
+  },
   problemTitle: { color: palette.danger },
 });

@@ -40,10 +40,21 @@ export function intervalText(i: IccInterval): string {
 }
 
 /** One table row per region; regions whose coefficients could not be computed keep their reason. */
-export function reliabilityRows(regions: readonly (RegionReliabilityInput | { region: string; error: string })[]): ReliabilityRow[] {
+export function reliabilityRows(
+  regions: readonly (RegionReliabilityInput | { region: string; error: string })[],
+): ReliabilityRow[] {
   return regions.map((r) =>
     "error" in r
-      ? { region: r.region, n: null, sessions: null, icc31: null, icc31Interval: "n/a", icc21: null, icc21Interval: "n/a", problem: r.error }
+      ? {
+          region: r.region,
+          n: null,
+          sessions: null,
+          icc31: null,
+          icc31Interval: "n/a",
+          icc21: null,
+          icc21Interval: "n/a",
+          problem: r.error,
+        }
       : {
           region: r.region,
           n: r.n,
@@ -72,13 +83,20 @@ export interface TraitEntry {
   source: string;
 }
 
-export type DraftProblems = Record<string, Partial<Record<"column" | "reliability" | "source", string>>>;
+export type DraftProblems = Record<
+  string,
+  Partial<Record<"column" | "reliability" | "source", string>>
+>;
 
 /** Reads a typed reliability: a number with a point as the decimal mark, greater than 0 and at most 1. */
 export function parseReliability(text: string): { value: number } | { problem: string } {
   const t = text.trim();
-  if (t === "") return { problem: "Give the reliability, a number greater than 0 and at most 1 (for example 0.82)." };
-  if (/^[+-]?\d*,\d+$/.test(t)) return { problem: "Use a point as the decimal mark (for example 0.82)." };
+  if (t === "")
+    return {
+      problem: "Give the reliability, a number greater than 0 and at most 1 (for example 0.82).",
+    };
+  if (/^[+-]?\d*,\d+$/.test(t))
+    return { problem: "Use a point as the decimal mark (for example 0.82)." };
   if (!/^[+-]?(\d+\.?\d*|\.\d+)$/.test(t)) return { problem: `"${t}" is not a number.` };
   const value = Number(t);
   if (!(value > 0)) return { problem: "A reliability must be greater than 0." };
@@ -91,7 +109,10 @@ export function parseReliability(text: string): { value: number } | { problem: s
  * once; a reliability in (0, 1]; a source in words. Returns the entries to
  * save when there is no problem, else null and the problems by row key.
  */
-export function checkTraitDrafts(drafts: readonly TraitDraft[], numericColumns: readonly string[]): { entries: TraitEntry[] | null; problems: DraftProblems } {
+export function checkTraitDrafts(
+  drafts: readonly TraitDraft[],
+  numericColumns: readonly string[],
+): { entries: TraitEntry[] | null; problems: DraftProblems } {
   const problems: DraftProblems = {};
   const entries: TraitEntry[] = [];
   const seen = new Set<string>();
@@ -101,28 +122,43 @@ export function checkTraitDrafts(drafts: readonly TraitDraft[], numericColumns: 
   for (const d of drafts) {
     const column = d.column.trim();
     if (column === "") add(d.key, "column", "Choose a trait of the participant sheet.");
-    else if (!numericColumns.includes(column)) add(d.key, "column", `"${column}" is not a numeric column of the current participant sheet.`);
+    else if (!numericColumns.includes(column))
+      add(d.key, "column", `"${column}" is not a numeric column of the current participant sheet.`);
     else if (seen.has(column)) add(d.key, "column", `"${column}" is listed twice.`);
     seen.add(column);
     const rel = parseReliability(d.reliability);
     if ("problem" in rel) add(d.key, "reliability", rel.problem);
     const source = d.source.trim();
-    if (source === "") add(d.key, "source", "Say where the value comes from (for example: test–retest r = .82, manual of the scale).");
-    if (!problems[d.key] && "value" in rel) entries.push({ column, reliability: rel.value, source });
+    if (source === "")
+      add(
+        d.key,
+        "source",
+        "Say where the value comes from (for example: test–retest r = .82, manual of the scale).",
+      );
+    if (!problems[d.key] && "value" in rel)
+      entries.push({ column, reliability: rel.value, source });
   }
   return Object.keys(problems).length > 0 ? { entries: null, problems } : { entries, problems };
 }
 
 /** Server-side problems (`details: [{ field: "body.1.column", message }]`) mapped onto the form's rows. */
-export function problemsFromDetails(drafts: readonly TraitDraft[], details: unknown): DraftProblems {
+export function problemsFromDetails(
+  drafts: readonly TraitDraft[],
+  details: unknown,
+): DraftProblems {
   const problems: DraftProblems = {};
   if (!Array.isArray(details)) return problems;
   for (const d of details) {
-    const m = /^body\.(\d+)\.(column|reliability|source)$/.exec(String((d as { field?: unknown }).field ?? ""));
+    const m = /^body\.(\d+)\.(column|reliability|source)$/.exec(
+      String((d as { field?: unknown }).field ?? ""),
+    );
     const row = m ? drafts[Number(m[1])] : undefined;
     if (!m || !row) continue;
     const field = m[2] as "column" | "reliability" | "source";
-    problems[row.key] = { ...problems[row.key], [field]: String((d as { message?: unknown }).message ?? "") };
+    problems[row.key] = {
+      ...problems[row.key],
+      [field]: String((d as { message?: unknown }).message ?? ""),
+    };
   }
   return problems;
 }

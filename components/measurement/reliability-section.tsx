@@ -10,13 +10,25 @@ import { useMemo, useState } from "react";
 import { StyleSheet, View } from "react-native";
 import { ApiError } from "../../hooks/api";
 import { useRoster } from "../../hooks/use-roster";
-import { type TraitReliability, useBrainReliability, useSaveTraitReliabilities, useTraitReliabilities } from "../../hooks/use-reliability";
+import {
+  type TraitReliability,
+  useBrainReliability,
+  useSaveTraitReliabilities,
+  useTraitReliabilities,
+} from "../../hooks/use-reliability";
 import { Choice } from "../choice";
 import { formatCount } from "../charts/number-format";
 import { DataTable } from "../tables/data-table";
 import { palette, space } from "../theme";
 import { Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "../ui";
-import { type DraftProblems, type ReliabilityRow, type TraitDraft, checkTraitDrafts, problemsFromDetails, reliabilityRows } from "./reliability-rows";
+import {
+  type DraftProblems,
+  type ReliabilityRow,
+  type TraitDraft,
+  checkTraitDrafts,
+  problemsFromDetails,
+  reliabilityRows,
+} from "./reliability-rows";
 
 export function ReliabilitySection(props: { studyId: string; canEdit: boolean }) {
   return (
@@ -32,34 +44,70 @@ function BrainReliabilityCard(props: { studyId: string }) {
   const columns = useMemo<ColumnDef<ReliabilityRow, unknown>[]>(
     () => [
       { accessorKey: "region", header: "Region" },
-      { accessorKey: "n", header: "N", meta: { numeric: true, decimals: 0, width: 56, label: "participants with every session" } },
-      { accessorKey: "sessions", header: "Sessions", meta: { numeric: true, decimals: 0, width: 84 } },
+      {
+        accessorKey: "n",
+        header: "N",
+        meta: { numeric: true, decimals: 0, width: 56, label: "participants with every session" },
+      },
+      {
+        accessorKey: "sessions",
+        header: "Sessions",
+        meta: { numeric: true, decimals: 0, width: 84 },
+      },
       { accessorKey: "icc31", header: "ICC(3,1)", meta: { numeric: true, decimals: 2, width: 88 } },
-      { accessorKey: "icc31Interval", header: "95% CI", meta: { width: 150, label: "ICC(3,1) 95% confidence interval" }, enableSorting: false },
+      {
+        accessorKey: "icc31Interval",
+        header: "95% CI",
+        meta: { width: 150, label: "ICC(3,1) 95% confidence interval" },
+        enableSorting: false,
+      },
       { accessorKey: "icc21", header: "ICC(2,1)", meta: { numeric: true, decimals: 2, width: 88 } },
-      { accessorKey: "icc21Interval", header: "95% CI", meta: { width: 150, label: "ICC(2,1) 95% confidence interval" }, enableSorting: false },
+      {
+        accessorKey: "icc21Interval",
+        header: "95% CI",
+        meta: { width: 150, label: "ICC(2,1) 95% confidence interval" },
+        enableSorting: false,
+      },
     ],
     [],
   );
-  const rows = useMemo(() => (query.data?.available ? reliabilityRows(query.data.reliability.regions) : []), [query.data]);
+  const rows = useMemo(
+    () => (query.data?.available ? reliabilityRows(query.data.reliability.regions) : []),
+    [query.data],
+  );
   return (
     <Card testID="brain-reliability">
       <Heading level={2}>Reliability per region</Heading>
       {query.isPending ? (
         <Pending label="Comparing sessions…" />
       ) : query.isError ? (
-        <Failure error={query.error} title="The reliability could not be computed" onRetry={() => query.refetch()} />
+        <Failure
+          error={query.error}
+          title="The reliability could not be computed"
+          onRetry={() => query.refetch()}
+        />
       ) : !query.data.available ? (
         <Notice testID="brain-reliability-unavailable">
-          {query.data.reason} Reliability per region appears when the brain table has a session column with two or more sessions per participant.
+          {query.data.reason} Reliability per region appears when the brain table has a session
+          column with two or more sessions per participant.
         </Notice>
       ) : (
         <>
           <Txt kind="small" style={styles.muted}>
-            {query.data.reliability.brainTable.fileName} (version {query.data.reliability.brainTable.version}) · sessions {query.data.reliability.sessions.join(", ")} ·{" "}
-            {formatCount(query.data.reliability.participantsRetested)} participants with two or more sessions
+            {query.data.reliability.brainTable.fileName} (version{" "}
+            {query.data.reliability.brainTable.version}) · sessions{" "}
+            {query.data.reliability.sessions.join(", ")} ·{" "}
+            {formatCount(query.data.reliability.participantsRetested)} participants with two or more
+            sessions
           </Txt>
-          <DataTable label="Reliability per region" data={rows} columns={columns} getRowId={(r) => r.region} initialPageSize={50} testID="brain-reliability-table" />
+          <DataTable
+            label="Reliability per region"
+            data={rows}
+            columns={columns}
+            getRowId={(r) => r.region}
+            initialPageSize={50}
+            testID="brain-reliability-table"
+          />
           {rows
             .filter((r) => r.problem !== null)
             .map((r) => (
@@ -69,7 +117,8 @@ function BrainReliabilityCard(props: { studyId: string }) {
             {query.data.reliability.method}
           </Txt>
           <Txt kind="caption" style={styles.muted}>
-            Task-imaging contrast values are often unreliable as individual measures; an observed brain–trait correlation can be no larger than √(rel_brain · rel_trait).
+            Task-imaging contrast values are often unreliable as individual measures; an observed
+            brain–trait correlation can be no larger than √(rel_brain · rel_trait).
           </Txt>
         </>
       )}
@@ -80,7 +129,10 @@ function BrainReliabilityCard(props: { studyId: string }) {
 function TraitReliabilityCard(props: { studyId: string; canEdit: boolean }) {
   const traits = useTraitReliabilities(props.studyId);
   const roster = useRoster(props.studyId);
-  const numericColumns = useMemo(() => (roster.data?.report.columns ?? []).filter((c) => c.type === "number").map((c) => c.name), [roster.data]);
+  const numericColumns = useMemo(
+    () => (roster.data?.report.columns ?? []).filter((c) => c.type === "number").map((c) => c.name),
+    [roster.data],
+  );
   // Kept here, not in the form: a save refreshes the list, which mounts the form afresh
   // (and a mutation's per-call callbacks only reach the component that is still mounted).
   const save = useSaveTraitReliabilities(props.studyId);
@@ -89,18 +141,25 @@ function TraitReliabilityCard(props: { studyId: string; canEdit: boolean }) {
     <Card testID="trait-reliabilities">
       <Heading level={2}>Trait reliabilities</Heading>
       <Txt kind="small" style={styles.muted}>
-        State how reliable each trait of the participant sheet is, and where that value comes from. Association results then show the largest correlation the
-        measures allow and the correlation corrected for unreliability.
+        State how reliable each trait of the participant sheet is, and where that value comes from.
+        Association results then show the largest correlation the measures allow and the correlation
+        corrected for unreliability.
       </Txt>
       {traits.isPending ? (
         <Pending />
       ) : traits.isError ? (
-        <Failure error={traits.error} title="The trait reliabilities could not be loaded" onRetry={() => traits.refetch()} />
+        <Failure
+          error={traits.error}
+          title="The trait reliabilities could not be loaded"
+          onRetry={() => traits.refetch()}
+        />
       ) : props.canEdit ? (
         roster.isPending ? (
           <Pending label="Reading the participant sheet…" />
         ) : numericColumns.length === 0 && traits.data.length === 0 ? (
-          <Notice>Upload a participant sheet with numeric traits to state their reliabilities.</Notice>
+          <Notice>
+            Upload a participant sheet with numeric traits to state their reliabilities.
+          </Notice>
         ) : (
           <>
             <TraitForm
@@ -154,11 +213,18 @@ function TraitForm(props: {
 }) {
   const save = props.save;
   const [drafts, setDrafts] = useState<TraitDraft[]>(() =>
-    props.saved.map((t) => ({ key: newKey(), column: t.column, reliability: String(t.reliability), source: t.source })),
+    props.saved.map((t) => ({
+      key: newKey(),
+      column: t.column,
+      reliability: String(t.reliability),
+      source: t.source,
+    })),
   );
   const [problems, setProblems] = useState<DraftProblems>({});
   const options = useMemo(() => {
-    const names = [...new Set([...props.numericColumns, ...drafts.map((d) => d.column).filter((c) => c !== "")])];
+    const names = [
+      ...new Set([...props.numericColumns, ...drafts.map((d) => d.column).filter((c) => c !== "")]),
+    ];
     return names.map((name) => ({ value: name, label: name }));
   }, [props.numericColumns, drafts]);
 
@@ -183,7 +249,12 @@ function TraitForm(props: {
       {drafts.length === 0 ? <Txt kind="small">No trait reliability stated yet.</Txt> : null}
       {drafts.map((d, i) => (
         <View key={d.key} style={styles.draft} testID={`trait-row-${i}`}>
-          <Choice label="Trait" options={options} value={d.column === "" ? null : d.column} onChange={(column) => change(d.key, { column })} />
+          <Choice
+            label="Trait"
+            options={options}
+            value={d.column === "" ? null : d.column}
+            onChange={(column) => change(d.key, { column })}
+          />
           {problems[d.key]?.column ? (
             <Txt kind="small" style={styles.error} accessibilityRole="alert">
               {problems[d.key]?.column}
@@ -224,14 +295,26 @@ function TraitForm(props: {
           variant="secondary"
           onPress={() => {
             props.onEdit();
-            setDrafts((list) => [...list, { key: newKey(), column: "", reliability: "", source: "" }]);
+            setDrafts((list) => [
+              ...list,
+              { key: newKey(), column: "", reliability: "", source: "" },
+            ]);
           }}
           testID="trait-add"
         />
-        <Button label="Save trait reliabilities" onPress={submit} busy={save.isPending} testID="trait-save" />
+        <Button
+          label="Save trait reliabilities"
+          onPress={submit}
+          busy={save.isPending}
+          testID="trait-save"
+        />
       </View>
       {save.isError && !(save.error instanceof ApiError && Array.isArray(save.error.details)) ? (
-        <Notice tone="danger">{save.error instanceof Error ? save.error.message : "The trait reliabilities could not be saved."}</Notice>
+        <Notice tone="danger">
+          {save.error instanceof Error
+            ? save.error.message
+            : "The trait reliabilities could not be saved."}
+        </Notice>
       ) : null}
     </View>
   );
@@ -242,7 +325,12 @@ const styles = StyleSheet.create({
   muted: { color: palette.muted },
   list: { gap: space.xs },
   form: { gap: space.md },
-  draft: { gap: space.sm, paddingBottom: space.md, borderBottomWidth: 1, borderBottomColor: palette.line },
+  draft: {
+    gap: space.sm,
+    paddingBottom: space.md,
+    borderBottomWidth: 1,
+    borderBottomColor: palette.line,
+  },
   actions: { flexDirection: "row", flexWrap: "wrap", gap: space.sm },
   error: { color: palette.danger },
 });

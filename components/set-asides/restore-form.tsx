@@ -10,13 +10,25 @@ import { participantWords } from "../../server/model/set-aside-words";
 import { space } from "../theme";
 import { Button, Field, Notice } from "../ui";
 
-export function RestoreForm(props: { studyId: string; setAside: SetAsideView; onRestored?: () => void }) {
+export function RestoreForm(props: {
+  studyId: string;
+  setAside: SetAsideView;
+  onRestored?: () => void;
+}) {
   const [open, setOpen] = useState(false);
   const [reason, setReason] = useState("");
   const restore = useRestoreSetAside(props.studyId);
   const who = participantWords(props.setAside.participant);
   if (!open) {
-    return <Button label="Restore" variant="secondary" onPress={() => setOpen(true)} accessibilityLabel={`Restore ${who}`} testID="restore" />;
+    return (
+      <Button
+        label="Restore"
+        variant="secondary"
+        onPress={() => setOpen(true)}
+        accessibilityLabel={`Restore ${who}`}
+        testID="restore"
+      />
+    );
   }
   return (
     <View style={styles.root} testID="restore-form">
@@ -33,7 +45,12 @@ export function RestoreForm(props: { studyId: string; setAside: SetAsideView; on
           label="Restore and log"
           disabled={reason.trim().length === 0}
           busy={restore.isPending}
-          onPress={() => restore.mutate({ setAsideId: props.setAside.id, reason: reason.trim() }, { onSuccess: () => props.onRestored?.() })}
+          onPress={() =>
+            restore.mutate(
+              { setAsideId: props.setAside.id, reason: reason.trim() },
+              { onSuccess: () => props.onRestored?.() },
+            )
+          }
           accessibilityLabel={`Restore ${who} and log the reason`}
           testID="restore-confirm"
         />

@@ -17,7 +17,14 @@ export function SetAsideSection(props: { studyId: string; canRestore: boolean })
   const list = useSetAsides(props.studyId);
   const [historyOpen, setHistoryOpen] = useState(false);
   if (list.isPending) return <Pending label="Loading the set-asides…" />;
-  if (list.isError) return <Failure error={list.error} title="The set-asides could not be loaded" onRetry={() => list.refetch()} />;
+  if (list.isError)
+    return (
+      <Failure
+        error={list.error}
+        title="The set-asides could not be loaded"
+        onRetry={() => list.refetch()}
+      />
+    );
   const current = list.data.filter((s) => s.active);
   const history = list.data.filter((s) => !s.active);
   const withheld = list.data.some((s) => s.participant === null);
@@ -27,13 +34,22 @@ export function SetAsideSection(props: { studyId: string; canRestore: boolean })
         <Heading level={2} style={styles.shrink}>
           Set aside
         </Heading>
-        <Badge label={`${current.length} current`} tone={current.length > 0 ? "accent" : "neutral"} />
+        <Badge
+          label={`${current.length} current`}
+          tone={current.length > 0 ? "accent" : "neutral"}
+        />
       </View>
       <Txt kind="small" style={styles.muted}>
-        Participants left out of new fits, each with a written reason; nothing is deleted. Fits already made keep the list they were made with. Set a participant aside
-        from a fit's region detail.
+        Participants left out of new fits, each with a written reason; nothing is deleted. Fits
+        already made keep the list they were made with. Set a participant aside from a fit's region
+        detail.
       </Txt>
-      {withheld ? <Notice testID="set-aside-ids-withheld">This study restricts participant-level rows: your role sees the count, scopes and reasons, not who.</Notice> : null}
+      {withheld ? (
+        <Notice testID="set-aside-ids-withheld">
+          This study restricts participant-level rows: your role sees the count, scopes and reasons,
+          not who.
+        </Notice>
+      ) : null}
       {current.length === 0 ? (
         <Txt kind="small" testID="set-aside-none">
           Nobody is set aside: new fits use every matched participant.
@@ -77,7 +93,10 @@ function SetAsideRow(props: { setAside: SetAsideView; children?: ReactNode }) {
   const s = props.setAside;
   const restored = restoredLine(s);
   return (
-    <View style={[styles.row, !s.active && styles.rowRestored]} testID={s.active ? "set-aside-row" : "set-aside-history-row"}>
+    <View
+      style={[styles.row, !s.active && styles.rowRestored]}
+      testID={s.active ? "set-aside-row" : "set-aside-history-row"}
+    >
       <View style={styles.rowHead}>
         <Txt kind="lead" style={styles.participant}>
           {s.participant ?? "Participant (id withheld)"}
@@ -93,13 +112,31 @@ function SetAsideRow(props: { setAside: SetAsideView; children?: ReactNode }) {
 }
 
 const styles = StyleSheet.create({
-  head: { flexDirection: "row", flexWrap: "wrap", alignItems: "center", justifyContent: "space-between", gap: space.sm },
+  head: {
+    flexDirection: "row",
+    flexWrap: "wrap",
+    alignItems: "center",
+    justifyContent: "space-between",
+    gap: space.sm,
+  },
   shrink: { flexShrink: 1 },
   muted: { color: palette.muted },
   list: { gap: space.sm },
-  row: { gap: space.xs, padding: space.md, borderWidth: 1, borderColor: palette.line, borderRadius: radius.md, backgroundColor: palette.surface },
+  row: {
+    gap: space.xs,
+    padding: space.md,
+    borderWidth: 1,
+    borderColor: palette.line,
+    borderRadius: radius.md,
+    backgroundColor: palette.surface,
+  },
   rowRestored: { backgroundColor: palette.canvas },
   rowHead: { flexDirection: "row", flexWrap: "wrap", alignItems: "center", gap: space.sm },
   participant: { fontFamily: fonts.semibold },
-  disclosure: { minHeight: 44, justifyContent: "center", paddingHorizontal: space.xs, borderRadius: radius.sm },
+  disclosure: {
+    minHeight: 44,
+    justifyContent: "center",
+    paddingHorizontal: space.xs,
+    borderRadius: radius.sm,
+  },
 });

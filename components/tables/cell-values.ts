@@ -26,7 +26,10 @@ export function compareCells(a: unknown, b: unknown): number {
 const naturalCollator = new Intl.Collator("en", { numeric: true, sensitivity: "base" });
 
 /** Text for a cell: numbers with `digits` significant digits (or `decimals` fixed decimals), booleans as yes/no, missing as "n/a". */
-export function formatCell(value: unknown, options: { digits?: number; decimals?: number } = {}): string {
+export function formatCell(
+  value: unknown,
+  options: { digits?: number; decimals?: number } = {},
+): string {
   if (value === null || value === undefined) return MISSING;
   if (typeof value === "number") {
     if (options.decimals !== undefined) return formatFixed(value, options.decimals);

@@ -25,7 +25,10 @@ const BETWEEN = new RegExp(String.raw`^(${NUMBER})\s*(?:\.\.|to)\s*(${NUMBER})$`
  * the filter box).
  */
 export function parseNumericFilter(text: string): NumericFilter | null {
-  const t = text.trim().replace(/\u2212/g, "-").replace(/,/g, "");
+  const t = text
+    .trim()
+    .replace(/\u2212/g, "-")
+    .replace(/,/g, "");
   if (t === "") return null;
   if (t.toLowerCase() === MISSING) return { kind: "missing" };
   const between = BETWEEN.exec(t);
@@ -39,11 +42,16 @@ export function parseNumericFilter(text: string): NumericFilter | null {
     const op = (compare[1] ?? "=") as ">" | ">=" | "<" | "<=" | "=";
     return { kind: "compare", op, value: Number(compare[2]) };
   }
-  throw new RangeError(`"${text}" is not a number filter; write for example > 0.5, <= 2, 1..3, 4 or n/a`);
+  throw new RangeError(
+    `"${text}" is not a number filter; write for example > 0.5, <= 2, 1..3, 4 or n/a`,
+  );
 }
 
 /** Whether `value` passes `filter`. */
-export function matchesNumericFilter(value: number | null | undefined, filter: NumericFilter): boolean {
+export function matchesNumericFilter(
+  value: number | null | undefined,
+  filter: NumericFilter,
+): boolean {
   const missing = value === null || value === undefined || !Number.isFinite(value);
   if (filter.kind === "missing") return missing;
   if (missing) return false;
@@ -66,6 +74,7 @@ export function matchesNumericFilter(value: number | null | undefined, filter: N
 export function matchesTextFilter(value: unknown, text: string): boolean {
   const needle = text.trim().toLowerCase();
   if (needle === "") return true;
-  if (value === null || value === undefined || (typeof value === "number" && Number.isNaN(value))) return needle === MISSING;
+  if (value === null || value === undefined || (typeof value === "number" && Number.isNaN(value)))
+    return needle === MISSING;
   return String(value).toLowerCase().includes(needle);
 }

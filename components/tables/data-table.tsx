@@ -94,13 +94,22 @@ export interface ServerRows {
  */
 function renderCell<T>(cell: Cell<T, unknown>): ReactNode {
   const def = cell.column.columnDef.cell;
-  return typeof def === "function" ? (def(cell.getContext()) as ReactNode) : (flexRender(def, cell.getContext()) as ReactNode);
+  return typeof def === "function"
+    ? (def(cell.getContext()) as ReactNode)
+    : (flexRender(def, cell.getContext()) as ReactNode);
 }
 
 function asNode(rendered: ReactNode, numeric: boolean | undefined, emphasis = false): ReactNode {
   if (typeof rendered === "string" || typeof rendered === "number") {
     return (
-      <Text numberOfLines={1} style={[styles.cellText, numeric ? styles.numberText : null, emphasis ? styles.emphasis : null]}>
+      <Text
+        numberOfLines={1}
+        style={[
+          styles.cellText,
+          numeric ? styles.numberText : null,
+          emphasis ? styles.emphasis : null,
+        ]}
+      >
         {rendered}
       </Text>
     );
@@ -115,7 +124,10 @@ function headerWords<T>(header: Header<T, unknown>): string {
 }
 
 export function DataTable<T extends RowData>(props: DataTableProps<T>) {
-  const columns = useMemo(() => prepareColumns(props.columns as readonly AnyColumn<T>[]), [props.columns]);
+  const columns = useMemo(
+    () => prepareColumns(props.columns as readonly AnyColumn<T>[]),
+    [props.columns],
+  );
   const metaById = useMemo(() => {
     const byId = new Map<string, ColumnMeta<T, unknown>>();
     for (const c of columns as AnyColumn<T>[]) if (c.id) byId.set(c.id, c.meta ?? {});
@@ -126,18 +138,30 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
   const [columnFilters, setColumnFilters] = useState<ColumnFiltersState>([]);
   const [pagination, setPagination] = useState<PaginationState>({
     pageIndex: 0,
-    pageSize: pageSizeOptions.includes(props.initialPageSize as (typeof pageSizeOptions)[number]) ? (props.initialPageSize as number) : 50,
+    pageSize: pageSizeOptions.includes(props.initialPageSize as (typeof pageSizeOptions)[number])
+      ? (props.initialPageSize as number)
+      : 50,
   });
 
   const server = props.server;
   const tableModel = useReactTable<T>({
     data: props.data as T[],
     columns,
-    state: server ? { sorting: server.sorting, pagination: server.pagination } : { sorting, globalFilter, columnFilters, pagination },
-    onSortingChange: (update) => (server ? server.onSortingChange(typeof update === "function" ? update(server.sorting) : update) : setSorting(update)),
+    state: server
+      ? { sorting: server.sorting, pagination: server.pagination }
+      : { sorting, globalFilter, columnFilters, pagination },
+    onSortingChange: (update) =>
+      server
+        ? server.onSortingChange(typeof update === "function" ? update(server.sorting) : update)
+        : setSorting(update),
     onGlobalFilterChange: setGlobalFilter,
     onColumnFiltersChange: setColumnFilters,
-    onPaginationChange: (update) => (server ? server.onPaginationChange(typeof update === "function" ? update(server.pagination) : update) : setPagination(update)),
+    onPaginationChange: (update) =>
+      server
+        ? server.onPaginationChange(
+            typeof update === "function" ? update(server.pagination) : update,
+          )
+        : setPagination(update),
     manualPagination: server !== undefined,
     manualSorting: server !== undefined,
     manualFiltering: server !== undefined,
@@ -146,7 +170,8 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
     defaultColumn: {
       cell: (ctx) => formatCell(ctx.getValue(), ctx.column.columnDef.meta ?? {}),
     },
-    globalFilterFn: (row, columnId, filterValue) => globalMatch(row.getValue(columnId), metaById.get(columnId), filterValue),
+    globalFilterFn: (row, columnId, filterValue) =>
+      globalMatch(row.getValue(columnId), metaById.get(columnId), filterValue),
     getColumnCanGlobalFilter: () => true,
     getCoreRowModel: getCoreRowModel(),
     getSortedRowModel: getSortedRowModel(),
@@ -158,7 +183,8 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
   const matched = server ? server.rowCount : tableModel.getPrePaginationRowModel().rows.length;
   const page = pageWindow(matched, shownPaging.pageIndex, shownPaging.pageSize);
   const headers = tableModel.getHeaderGroups()[0]?.headers ?? [];
-  const widthOf = (index: number, meta: { width?: number } | undefined) => meta?.width ?? (index === 0 ? table.pinnedWidth : table.cellWidth);
+  const widthOf = (index: number, meta: { width?: number } | undefined) =>
+    meta?.width ?? (index === 0 ? table.pinnedWidth : table.cellWidth);
   const filterProblems = props.filterable
     ? columnFilters.flatMap((f) => {
         const column = tableModel.getColumn(f.id);
@@ -231,19 +257,26 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
                 <View
                   key={header.id}
                   role="cell"
-                  style={[styles.cell, { width: widthOf(index, header.column.columnDef.meta) }, styles.filterCell, index === 0 ? [pinnedCellStyle, styles.pinnedFilter] : null]}
+                  style={[
+                    styles.cell,
+                    { width: widthOf(index, header.column.columnDef.meta) },
+                    styles.filterCell,
+                    index === 0 ? [pinnedCellStyle, styles.pinnedFilter] : null,
+                  ]}
                 >
                   {header.column.getCanFilter() ? (
-                  <TextInput
-                    value={String(header.column.getFilterValue() ?? "")}
-                    onChangeText={(text) => header.column.setFilterValue(text === "" ? undefined : text)}
-                    placeholder={header.column.columnDef.meta?.numeric ? "> 0, 1..3" : "contains"}
-                    placeholderTextColor={palette.faint}
-                    accessibilityLabel={`Filter ${headerWords(header)}`}
-                    style={styles.filterInput}
-                    autoCapitalize="none"
-                    autoCorrect={false}
-                  />
+                    <TextInput
+                      value={String(header.column.getFilterValue() ?? "")}
+                      onChangeText={(text) =>
+                        header.column.setFilterValue(text === "" ? undefined : text)
+                      }
+                      placeholder={header.column.columnDef.meta?.numeric ? "> 0, 1..3" : "contains"}
+                      placeholderTextColor={palette.faint}
+                      accessibilityLabel={`Filter ${headerWords(header)}`}
+                      style={styles.filterInput}
+                      autoCapitalize="none"
+                      autoCorrect={false}
+                    />
                   ) : null}
                 </View>
               ))}
@@ -267,9 +300,16 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
         </Empty>
       ) : null}
       <View style={styles.pager}>
-        <Txt kind="small" style={styles.muted} accessibilityRole="text" testID={props.testID ? `${props.testID}-range` : undefined}>
+        <Txt
+          kind="small"
+          style={styles.muted}
+          accessibilityRole="text"
+          testID={props.testID ? `${props.testID}-range` : undefined}
+        >
           {page.label}
-          {!server && matched !== props.data.length ? ` (of ${formatCount(props.data.length)} in all)` : ""}
+          {!server && matched !== props.data.length
+            ? ` (of ${formatCount(props.data.length)} in all)`
+            : ""}
         </Txt>
         <View style={styles.pagerButtons}>
           <Button
@@ -302,7 +342,11 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
                 role="radio"
                 aria-checked={chosen}
                 accessibilityLabel={`${size} rows per page`}
-                onPress={() => (server ? server.onPaginationChange({ pageIndex: 0, pageSize: size }) : setPagination({ pageIndex: 0, pageSize: size }))}
+                onPress={() =>
+                  server
+                    ? server.onPaginationChange({ pageIndex: 0, pageSize: size })
+                    : setPagination({ pageIndex: 0, pageSize: size })
+                }
                 style={[styles.size, chosen ? styles.sizeChosen : null]}
               >
                 <Text style={[styles.sizeText, chosen ? styles.sizeTextChosen : null]}>{size}</Text>
@@ -315,16 +359,29 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
   );
 }
 
-function HeaderCell<T>(props: { header: Header<T, unknown>; width: number; pinned: boolean; words: string }) {
+function HeaderCell<T>(props: {
+  header: Header<T, unknown>;
+  width: number;
+  pinned: boolean;
+  words: string;
+}) {
   const { header } = props;
   const column = header.column;
   const numeric = column.columnDef.meta?.numeric;
   const sorted = column.getIsSorted();
   const direction = sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : "none";
-  const rendered = header.isPlaceholder ? null : flexRender(column.columnDef.header, header.getContext());
+  const rendered = header.isPlaceholder
+    ? null
+    : flexRender(column.columnDef.header, header.getContext());
   const arrow = sorted === "asc" ? " ▲" : sorted === "desc" ? " ▼" : "";
   const content = asNode(rendered as ReactNode, false, true);
-  const cellStyle = [styles.cell, styles.headerCell, { width: props.width }, numeric ? styles.numericCell : null, props.pinned ? [pinnedCellStyle, styles.pinnedHeader] : null];
+  const cellStyle = [
+    styles.cell,
+    styles.headerCell,
+    { width: props.width },
+    numeric ? styles.numericCell : null,
+    props.pinned ? [pinnedCellStyle, styles.pinnedHeader] : null,
+  ];
   if (!column.getCanSort()) {
     return (
       <View role="columnheader" style={cellStyle}>
@@ -361,14 +418,23 @@ function BodyRow<T>(props: {
   onPress?: (row: T) => void;
 }) {
   const { row } = props;
-  const background = props.selected ? styles.selected : props.striped ? styles.striped : styles.plain;
+  const background = props.selected
+    ? styles.selected
+    : props.striped
+      ? styles.striped
+      : styles.plain;
   const cells = row.getVisibleCells().map((cell: Cell<T, unknown>, index) => {
     const meta = cell.column.columnDef.meta;
     return (
       <View
         key={cell.id}
         role={index === 0 ? "rowheader" : "cell"}
-        style={[styles.cell, { width: props.widthOf(index, meta) }, meta?.numeric ? styles.numericCell : null, index === 0 ? [pinnedCellStyle, background] : null]}
+        style={[
+          styles.cell,
+          { width: props.widthOf(index, meta) },
+          meta?.numeric ? styles.numericCell : null,
+          index === 0 ? [pinnedCellStyle, background] : null,
+        ]}
       >
         {asNode(renderCell(cell), meta?.numeric, index === 0)}
       </View>
@@ -408,15 +474,37 @@ const styles = StyleSheet.create({
     backgroundColor: palette.surface,
   },
   problem: { color: palette.danger },
-  scroller: { borderWidth: 1, borderColor: table.border, borderRadius: radius.md, backgroundColor: palette.surface },
+  scroller: {
+    borderWidth: 1,
+    borderColor: table.border,
+    borderRadius: radius.md,
+    backgroundColor: palette.surface,
+  },
   scrollContent: { flexGrow: 1 },
-  row: { flexDirection: "row", minHeight: table.rowHeight, borderBottomWidth: 1, borderBottomColor: table.border },
+  row: {
+    flexDirection: "row",
+    minHeight: table.rowHeight,
+    borderBottomWidth: 1,
+    borderBottomColor: table.border,
+  },
   headerRow: { backgroundColor: table.header, minHeight: table.headerHeight },
   filterRow: { backgroundColor: table.header },
-  cell: { justifyContent: "center", paddingHorizontal: table.cellPaddingX, height: table.rowHeight },
+  cell: {
+    justifyContent: "center",
+    paddingHorizontal: table.cellPaddingX,
+    height: table.rowHeight,
+  },
   headerCell: { height: table.headerHeight, paddingHorizontal: 0 },
-  pinnedHeader: { backgroundColor: table.header, borderRightWidth: 1, borderRightColor: table.border },
-  pinnedFilter: { backgroundColor: table.header, borderRightWidth: 1, borderRightColor: table.border },
+  pinnedHeader: {
+    backgroundColor: table.header,
+    borderRightWidth: 1,
+    borderRightColor: table.border,
+  },
+  pinnedFilter: {
+    backgroundColor: table.header,
+    borderRightWidth: 1,
+    borderRightColor: table.border,
+  },
   filterCell: { paddingHorizontal: space.xs },
   filterInput: {
     height: 32,
@@ -433,7 +521,13 @@ const styles = StyleSheet.create({
   cellText: { fontSize: type.small, fontFamily: fonts.regular, color: palette.ink },
   numberText: { fontFamily: fonts.mono, fontVariant: ["tabular-nums"], textAlign: "right" },
   emphasis: { fontFamily: fonts.semibold },
-  sortButton: { flex: 1, flexDirection: "row", alignItems: "center", paddingHorizontal: table.cellPaddingX, minHeight: table.headerHeight },
+  sortButton: {
+    flex: 1,
+    flexDirection: "row",
+    alignItems: "center",
+    paddingHorizontal: table.cellPaddingX,
+    minHeight: table.headerHeight,
+  },
   sortButtonNumeric: { justifyContent: "flex-end" },
   arrow: { fontSize: type.caption, color: palette.inkSoft, minWidth: 14, textAlign: "right" },
   plain: { backgroundColor: palette.surface },

@@ -22,7 +22,8 @@ export interface PageWindow {
 
 /** Number of pages for `total` rows of `pageSize` (at least 1). Throws a RangeError for a page size below 1. */
 export function pageCountFor(total: number, pageSize: number): number {
-  if (!(Number.isInteger(pageSize) && pageSize >= 1)) throw new RangeError(`pageSize must be a whole number of at least 1 (got ${pageSize})`);
+  if (!(Number.isInteger(pageSize) && pageSize >= 1))
+    throw new RangeError(`pageSize must be a whole number of at least 1 (got ${pageSize})`);
   return Math.max(1, Math.ceil(Math.max(0, total) / pageSize));
 }
 
@@ -41,12 +42,16 @@ export function pageWindow(total: number, pageIndex: number, pageSize: number): 
   if (rows === 0) return { pageIndex: 0, pageCount, first: 0, last: 0, label: "no rows" };
   const first = index * pageSize + 1;
   const last = Math.min(rows, (index + 1) * pageSize);
-  const label = first === last ? `row ${formatCount(first)} of ${formatCount(rows)}` : `rows ${formatCount(first)}–${formatCount(last)} of ${formatCount(rows)}`;
+  const label =
+    first === last
+      ? `row ${formatCount(first)} of ${formatCount(rows)}`
+      : `rows ${formatCount(first)}–${formatCount(last)} of ${formatCount(rows)}`;
   return { pageIndex: index, pageCount, first, last, label };
 }
 
 /** The page that holds 0-based row `rowIndex`, to keep a row in view when the page size changes. */
 export function pageOfRow(rowIndex: number, pageSize: number): number {
-  if (!(Number.isInteger(pageSize) && pageSize >= 1)) throw new RangeError(`pageSize must be a whole number of at least 1 (got ${pageSize})`);
+  if (!(Number.isInteger(pageSize) && pageSize >= 1))
+    throw new RangeError(`pageSize must be a whole number of at least 1 (got ${pageSize})`);
   return Math.max(0, Math.floor(rowIndex / pageSize));
 }

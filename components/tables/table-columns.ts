@@ -28,7 +28,11 @@ declare module "@tanstack/react-table" {
   }
 }
 
-export type AnyColumn<T> = ColumnDef<T, unknown> & { accessorKey?: string; accessorFn?: (row: T, index: number) => unknown; id?: string };
+export type AnyColumn<T> = ColumnDef<T, unknown> & {
+  accessorKey?: string;
+  accessorFn?: (row: T, index: number) => unknown;
+  id?: string;
+};
 
 function readPath(row: unknown, path: string): unknown {
   let value: unknown = row;
@@ -41,11 +45,15 @@ function readPath(row: unknown, path: string): unknown {
 
 /** The column filter: numeric columns read the comparison language, other columns match text. */
 function columnFilterFor<T>(numeric: boolean): FilterFn<T> {
-  if (!numeric) return (row, columnId, filterValue) => matchesTextFilter(row.getValue(columnId), String(filterValue ?? ""));
+  if (!numeric)
+    return (row, columnId, filterValue) =>
+      matchesTextFilter(row.getValue(columnId), String(filterValue ?? ""));
   return (row, columnId, filterValue) => {
     try {
       const parsed = parseNumericFilter(String(filterValue ?? ""));
-      return parsed === null ? true : matchesNumericFilter(row.getValue<number | undefined>(columnId), parsed);
+      return parsed === null
+        ? true
+        : matchesNumericFilter(row.getValue<number | undefined>(columnId), parsed);
     } catch {
       // unreadable filter text: keep every row; the table shows the problem above itself
       return true;
@@ -53,7 +61,8 @@ function columnFilterFor<T>(numeric: boolean): FilterFn<T> {
   };
 }
 
-const cellSorting: SortingFn<unknown> = (a, b, columnId) => compareCells(a.getValue(columnId), b.getValue(columnId));
+const cellSorting: SortingFn<unknown> = (a, b, columnId) =>
+  compareCells(a.getValue(columnId), b.getValue(columnId));
 
 /**
  * Reads every value through `missingToUndefined` so missing values sort
@@ -84,6 +93,10 @@ export function prepareColumns<T>(columns: readonly AnyColumn<T>[]): ColumnDef<T
 }
 
 /** The search box's test: the cell as printed contains the search text (case-insensitive). */
-export function globalMatch(value: unknown, meta: { digits?: number; decimals?: number } | undefined, search: unknown): boolean {
+export function globalMatch(
+  value: unknown,
+  meta: { digits?: number; decimals?: number } | undefined,
+  search: unknown,
+): boolean {
   return matchesTextFilter(formatCell(value, meta ?? {}), String(search ?? ""));
 }

@@ -8,6 +8,8 @@ import type { ViewStyle } from "react-native";
 export const pinnedCellStyle: ViewStyle = {};
 
 /** Attributes announcing a column header's sort direction. */
-export function sortAttributes(_direction: "ascending" | "descending" | "none"): Readonly<Record<never, never>> {
+export function sortAttributes(
+  _direction: "ascending" | "descending" | "none",
+): Readonly<Record<never, never>> {
   return {};
 }

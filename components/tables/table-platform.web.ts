@@ -10,6 +10,8 @@ import type { ViewStyle } from "react-native";
 export const pinnedCellStyle = { position: "sticky", left: 0, zIndex: 1 } as unknown as ViewStyle;
 
 /** `aria-sort` for a column header. */
-export function sortAttributes(direction: "ascending" | "descending" | "none"): Readonly<Record<string, string>> {
+export function sortAttributes(
+  direction: "ascending" | "descending" | "none",
+): Readonly<Record<string, string>> {
   return { "aria-sort": direction };
 }

@@ -47,7 +47,12 @@ export const demoScenario = {
 } as const;
 
 /** Ten regions (ordinary anatomical names) and how each responds to the task, to accuracy and to being a patient. */
-export const demoRegions: readonly { name: string; mean: number; accuracy: number; patient: number }[] = [
+export const demoRegions: readonly {
+  name: string;
+  mean: number;
+  accuracy: number;
+  patient: number;
+}[] = [
   { name: "L_dlpfc", mean: 0.55, accuracy: 0.15, patient: -0.2 },
   { name: "R_dlpfc", mean: 0.5, accuracy: 0.13, patient: -0.18 },
   { name: "L_parietal", mean: 0.7, accuracy: 0.1, patient: -0.08 },
@@ -116,7 +121,10 @@ export function generateDemoFiles(seed: number = DEMO_SEED): DemoFiles {
   const patients = new Set(shuffle(numbers, rng).slice(0, ENROLLED / 2));
   const people: Person[] = numbers.map((n) => {
     const group = patients.has(n) ? "patient" : "control";
-    const accuracy = Math.min(0.99, Math.max(0.52, (group === "patient" ? 0.78 : 0.85) + 0.07 * normal(rng)));
+    const accuracy = Math.min(
+      0.99,
+      Math.max(0.52, (group === "patient" ? 0.78 : 0.85) + 0.07 * normal(rng)),
+    );
     return {
       number: n,
       id: `sub-${String(n).padStart(2, "0")}`,
@@ -125,7 +133,10 @@ export function generateDemoFiles(seed: number = DEMO_SEED): DemoFiles {
       sex: rng.next() < 0.52 ? "F" : "M",
       accuracy,
       rtMs: 520 + 900 * (1 - accuracy) + 60 * normal(rng),
-      symptom: group === "patient" ? Math.round(Math.max(8, 24 + 7 * normal(rng))) : Math.round(Math.max(0, 3 + 2 * normal(rng))),
+      symptom:
+        group === "patient"
+          ? Math.round(Math.max(8, 24 + 7 * normal(rng)))
+          : Math.round(Math.max(0, 3 + 2 * normal(rng))),
       meanFd: Math.max(0.04, 0.11 + (group === "patient" ? 0.03 : 0) + 0.04 * normal(rng)),
       retest: false,
     };
@@ -157,7 +168,8 @@ export function generateDemoFiles(seed: number = DEMO_SEED): DemoFiles {
       demoRegions.forEach((r, k) => {
         const se = 0.1 + 0.12 * rng.next() + 0.6 * (p.meanFd - 0.08);
         let value = stable[k] + Math.sqrt(se * se + 0.12 * 0.12) * normal(rng);
-        if (p.id === demoScenario.outlier && r.name === demoScenario.outlierRegion && session === 1) value = 2.45;
+        if (p.id === demoScenario.outlier && r.name === demoScenario.outlierRegion && session === 1)
+          value = 2.45;
         if (p.number === 33 && r.name === "R_caudate" && session === 1) {
           cells.push("n/a", "n/a"); // outside the acquired field of view
           return;
@@ -170,7 +182,16 @@ export function generateDemoFiles(seed: number = DEMO_SEED): DemoFiles {
   const brainCsv = `${lines.join("\n")}\n`;
 
   // Participant sheet: BIDS-style TSV with n/a for missing.
-  const sheetHeader = ["participant_id", "group", "age", "sex", "accuracy", "rt_ms", "symptom_score", "mean_fd"];
+  const sheetHeader = [
+    "participant_id",
+    "group",
+    "age",
+    "sex",
+    "accuracy",
+    "rt_ms",
+    "symptom_score",
+    "mean_fd",
+  ];
   const rows = [sheetHeader.join("\t")];
   for (const p of people) {
     if (p.number === 71) continue; // only in the brain table
@@ -188,5 +209,10 @@ export function generateDemoFiles(seed: number = DEMO_SEED): DemoFiles {
     );
   }
   const participantsTsv = `${rows.join("\n")}\n`;
-  return { brainFileName: DEMO_BRAIN_FILE, brainCsv, sheetFileName: DEMO_SHEET_FILE, participantsTsv };
+  return {
+    brainFileName: DEMO_BRAIN_FILE,
+    brainCsv,
+    sheetFileName: DEMO_SHEET_FILE,
+    participantsTsv,
+  };
 }

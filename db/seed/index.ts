@@ -33,7 +33,10 @@ export const demoStudy = {
 };
 
 /** Stores the demo datasets for the demo study (provided by the data intake). */
-export type SeedDemoDatasets = (db: Database, options: { studyId: string; uploadedBy: string; now: Date }) => Promise<void>;
+export type SeedDemoDatasets = (
+  db: Database,
+  options: { studyId: string; uploadedBy: string; now: Date },
+) => Promise<void>;
 
 export interface SeedResult {
   seeded: boolean;
@@ -44,14 +47,24 @@ export interface SeedResult {
  * Seeds the demo people and study when the database has no people.
  * Idempotent across restarts. Cost: a few inserts (plus the datasets hook).
  */
-export async function seedDemo(db: Database, options: { now: Date; seedDemoDatasets?: SeedDemoDatasets }): Promise<SeedResult> {
+export async function seedDemo(
+  db: Database,
+  options: { now: Date; seedDemoDatasets?: SeedDemoDatasets },
+): Promise<SeedResult> {
   const [row] = await db.select({ n: count() }).from(users);
   if (Number(row?.n ?? 0) > 0) return { seeded: false, studyId: null };
   const { now } = options;
   const studyId = await db.transaction(async (tx) => {
     const people = await tx
       .insert(users)
-      .values(demoPeople.map((p) => ({ email: p.email, name: p.name, emailVerified: now, createdAt: now })))
+      .values(
+        demoPeople.map((p) => ({
+          email: p.email,
+          name: p.name,
+          emailVerified: now,
+          createdAt: now,
+        })),
+      )
       .returning();
     const byEmail = new Map(people.map((p) => [p.email, p.id]));
     const ownerId = byEmail.get(demoPeople[0].email) as string;
@@ -59,20 +72,35 @@ export async function seedDemo(db: Database, options: { now: Date; seedDemoDatas
       .insert(studies)
       .values({ ...demoStudy, createdBy: ownerId, createdAt: now, updatedAt: now })
       .returning();
-    await tx.insert(memberships).values(demoPeople.map((p) => ({ studyId: study.id, userId: byEmail.get(p.email) as string, role: p.role, createdAt: now })));
+    await tx.insert(memberships).values(
+      demoPeople.map((p) => ({
+        studyId: study.id,
+        userId: byEmail.get(p.email) as string,
+        role: p.role,
+        createdAt: now,
+      })),
+    );
     await recordEvent(tx, {
       studyId: study.id,
       actorId: ownerId,
       kind: "study.created",
       targetType: "study",
       targetId: study.id,
-      after: { name: study.name, description: study.description, restricted: study.restricted, demo: true },
+      after: {
+        name: study.name,
+        description: study.description,
+        restricted: study.restricted,
+        demo: true,
+      },
       at: now,
     });
     return study.id;
   });
   if (options.seedDemoDatasets) {
-    const [owner] = await db.select({ id: users.id }).from(users).where(eq(users.email, demoPeople[0].email));
+    const [owner] = await db
+      .select({ id: users.id })
+      .from(users)
+      .where(eq(users.email, demoPeople[0].email));
     await options.seedDemoDatasets(db, { studyId, uploadedBy: owner.id, now });
   }
   return { seeded: true, studyId };

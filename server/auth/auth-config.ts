@@ -127,4 +127,3 @@ export function authConfig(deps: AuthDeps): ExpressAuthConfig {
     },
   };
 }
-

@@ -63,9 +63,11 @@ interface StudyExtra {
 const anyone = { scope: "anyone" } as const;
 const signedIn = { scope: "signed-in" } as const;
 /** A study action that only reads. */
-const reads = (roles: readonly Role[], extra: StudyExtra = {}) => ({ scope: "study", access: "read", roles, ...extra }) as const;
+const reads = (roles: readonly Role[], extra: StudyExtra = {}) =>
+  ({ scope: "study", access: "read", roles, ...extra }) as const;
 /** A study action that changes something (refused while the study is archived). */
-const writes = (roles: readonly Role[], extra: StudyExtra = {}) => ({ scope: "study", access: "write", roles, ...extra }) as const;
+const writes = (roles: readonly Role[], extra: StudyExtra = {}) =>
+  ({ scope: "study", access: "write", roles, ...extra }) as const;
 
 const everyone: readonly Role[] = allRoles;
 const owner: readonly Role[] = ["owner"];
@@ -134,11 +136,18 @@ export interface AuthorizedStudy {
  * `restricted` flag; `isSelf` tells whether the route targets the person
  * themselves. Pure; used by `authorize` and by screens' capability lists.
  */
-export function roleMay(action: Action, role: Role, options: { restricted?: boolean; isSelf?: boolean } = {}): boolean {
+export function roleMay(
+  action: Action,
+  role: Role,
+  options: { restricted?: boolean; isSelf?: boolean } = {},
+): boolean {
   const audience: Audience = permissions[action];
   if (audience.scope !== "study") return true;
-  let allowed = audience.roles.includes(role) || (options.isSelf === true && (audience.self?.includes(role) ?? false));
-  if (allowed && options.restricted && audience.whenRestricted) allowed = audience.whenRestricted.includes(role);
+  let allowed =
+    audience.roles.includes(role) ||
+    (options.isSelf === true && (audience.self?.includes(role) ?? false));
+  if (allowed && options.restricted && audience.whenRestricted)
+    allowed = audience.whenRestricted.includes(role);
   return allowed;
 }
 
@@ -162,7 +171,8 @@ export function studyArchived(study: Pick<Study, "name">): HttpError {
 export function stateRefusal(action: Action, study: StudyState): HttpError | null {
   const audience: Audience = permissions[action];
   if (audience.scope !== "study") return null;
-  if (study.archivedAt && audience.access === "write" && audience.inState !== "archived") return studyArchived(study);
+  if (study.archivedAt && audience.access === "write" && audience.inState !== "archived")
+    return studyArchived(study);
   return null;
 }
 
@@ -177,11 +187,15 @@ export function assertNotArchived(study: StudyState): void {
  * unarchiving; actions about another state (restoring a deleted study,
  * unarchiving a study that is not archived) are left out.
  */
-export function capabilitiesOf(role: Role, study: StudyState & Pick<Study, "restricted">): Action[] {
+export function capabilitiesOf(
+  role: Role,
+  study: StudyState & Pick<Study, "restricted">,
+): Action[] {
   const state = study.deletedAt ? "deleted" : study.archivedAt ? "archived" : undefined;
   return (Object.keys(permissions) as Action[]).filter((a) => {
     const audience: Audience = permissions[a];
-    if (audience.scope !== "study" || !roleMay(a, role, { restricted: study.restricted })) return false;
+    if (audience.scope !== "study" || !roleMay(a, role, { restricted: study.restricted }))
+      return false;
     if (audience.inState !== undefined && audience.inState !== state) return false;
     return stateRefusal(a, study) === null;
   });
@@ -210,8 +224,13 @@ export function authorize(action: Action, options: { studyOf?: StudyOf } = {}): 
     if (!user) throw unauthorized();
     if (audience.scope === "signed-in") return next();
     const db = (req.app.locals as { db: Database }).db;
-    const studyId = studyOf ? await studyOf.resolve(db, req.params as Record<string, string>) : String(req.params.studyId ?? "");
-    const found = studyId === null ? null : await findMembership(db, studyId, user, audience.inState === "deleted");
+    const studyId = studyOf
+      ? await studyOf.resolve(db, req.params as Record<string, string>)
+      : String(req.params.studyId ?? "");
+    const found =
+      studyId === null
+        ? null
+        : await findMembership(db, studyId, user, audience.inState === "deleted");
     if (!found) throw notFound(studyOf ? (studyOf.notFound ?? "Not found.") : "Study not found.");
     const isSelf = typeof req.params.userId === "string" && req.params.userId === user.id;
     if (!roleMay(action, found.role, { restricted: found.study.restricted, isSelf })) {
@@ -233,7 +252,13 @@ const membershipRow = perDatabase((db) =>
     .select({ study: studies, role: memberships.role })
     .from(memberships)
     .innerJoin(studies, eq(studies.id, memberships.studyId))
-    .where(and(eq(memberships.studyId, sql.placeholder("studyId")), eq(memberships.userId, sql.placeholder("userId")), isNull(studies.deletedAt)))
+    .where(
+      and(
+        eq(memberships.studyId, sql.placeholder("studyId")),
+        eq(memberships.userId, sql.placeholder("userId")),
+        isNull(studies.deletedAt),
+      ),
+    )
     .limit(1)
     .prepare("membership_row"),
 );
@@ -243,7 +268,12 @@ const membershipRow = perDatabase((db) =>
  * `includeDeleted`, of a deleted study too (restoring). Kept until the next
  * write (db/read-cache.ts).
  */
-async function findMembership(db: Database, studyId: string, user: SessionUser, includeDeleted = false): Promise<AuthorizedStudy | null> {
+async function findMembership(
+  db: Database,
+  studyId: string,
+  user: SessionUser,
+  includeDeleted = false,
+): Promise<AuthorizedStudy | null> {
   if (!idSchema.safeParse(studyId).success) return null;
   if (includeDeleted) {
     const [any] = await db
@@ -254,7 +284,9 @@ async function findMembership(db: Database, studyId: string, user: SessionUser, 
       .limit(1);
     return any ?? null;
   }
-  const [found] = await cachedRead(db, `membership ${studyId} ${user.id}`, () => membershipRow(db).execute({ studyId, userId: user.id }));
+  const [found] = await cachedRead(db, `membership ${studyId} ${user.id}`, () =>
+    membershipRow(db).execute({ studyId, userId: user.id }),
+  );
   return found ?? null;
 }
 
@@ -262,6 +294,7 @@ async function findMembership(db: Database, studyId: string, user: SessionUser, 
 export function authorizedStudy(res: Response): AuthorizedStudy {
   const study = res.locals.study as Study | undefined;
   const role = res.locals.role as Role | undefined;
-  if (!study || !role) throw new Error("authorizedStudy() called on a route without a study-scoped authorize()");
+  if (!study || !role)
+    throw new Error("authorizedStudy() called on a route without a study-scoped authorize()");
   return { study, role };
 }

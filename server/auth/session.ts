@@ -15,14 +15,14 @@ import { perDatabase } from "../../db/prepared";
 import { cachedRead } from "../../db/read-cache";
 import { sessions, users } from "../../db/schema";
 
-
 export interface SessionUser {
   id: string;
   email: string;
   name: string | null;
 }
 
-export const sessionCookieName = (secure: boolean) => (secure ? "__Secure-authjs.session-token" : "authjs.session-token");
+export const sessionCookieName = (secure: boolean) =>
+  secure ? "__Secure-authjs.session-token" : "authjs.session-token";
 /** Auth.js's default session lifetime: 30 days. */
 export const sessionMaxAgeSeconds = 30 * 24 * 60 * 60;
 
@@ -47,7 +47,9 @@ export function readCookie(req: Request, name: string): string | null {
 /** Middleware: sets `res.locals.user` to the session's person or null. */
 export function loadSession(db: Database, clock: () => Date): RequestHandler {
   return async (req, res, next) => {
-    const token = readCookie(req, sessionCookieName(req.secure)) ?? readCookie(req, sessionCookieName(!req.secure));
+    const token =
+      readCookie(req, sessionCookieName(req.secure)) ??
+      readCookie(req, sessionCookieName(!req.secure));
     res.locals.user = token ? await userForSession(db, token, clock()) : null;
     next();
   };
@@ -64,7 +66,11 @@ const sessionRow = perDatabase((db) =>
 );
 
 /** The person of an unexpired session, or null. The row is kept until the next write (db/read-cache.ts). */
-export async function userForSession(db: Database, token: string, now: Date): Promise<SessionUser | null> {
+export async function userForSession(
+  db: Database,
+  token: string,
+  now: Date,
+): Promise<SessionUser | null> {
   const [row] = await cachedRead(db, `session ${token}`, () => sessionRow(db).execute({ token }));
   if (!row || !row.email || !(row.expires > now)) return null;
   return { id: row.id, email: row.email, name: row.name };
@@ -86,7 +92,14 @@ export function signedInUser(res: Response): SessionUser {
  * Creates a database session for `userId` and sets the same cookie Auth.js
  * would (HttpOnly, SameSite=Lax, Secure over https or when `forceSecure`).
  */
-export async function createSession(db: Database, req: Request, res: Response, userId: string, now: Date, forceSecure = false): Promise<void> {
+export async function createSession(
+  db: Database,
+  req: Request,
+  res: Response,
+  userId: string,
+  now: Date,
+  forceSecure = false,
+): Promise<void> {
   const secure = req.secure || forceSecure;
   const sessionToken = randomBytes(32).toString("hex");
   const expires = new Date(now.getTime() + sessionMaxAgeSeconds * 1000);

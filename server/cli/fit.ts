@@ -40,7 +40,9 @@ async function main(argv: readonly string[]): Promise<number> {
       process.stderr.write(`${basename(args[0])}: ${oneLine(e.message)}\n`);
       return 2;
     }
-    process.stderr.write(`internal error: ${oneLine(e instanceof Error ? e.message : String(e))}\n`);
+    process.stderr.write(
+      `internal error: ${oneLine(e instanceof Error ? e.message : String(e))}\n`,
+    );
     return 1;
   }
 }

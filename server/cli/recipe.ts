@@ -33,7 +33,10 @@ import {
   type ParticipantSheet,
 } from "../intake";
 
-const fileRef = z.strictObject({ file: z.string().min(1), sha256: z.string().regex(/^[0-9a-f]{64}$/) });
+const fileRef = z.strictObject({
+  file: z.string().min(1),
+  sha256: z.string().regex(/^[0-9a-f]{64}$/),
+});
 
 export const recipeSchema = z.strictObject({
   brainTable: z.string().min(1),
@@ -41,7 +44,9 @@ export const recipeSchema = z.strictObject({
   idColumn: z.string().min(1).default("participant_id"),
   seSuffix: z.string().min(1).default("_se"),
   session: z.string().min(1).optional(),
-  mappings: z.array(z.strictObject({ brainId: z.string().min(1), sheetId: z.string().min(1) })).default([]),
+  mappings: z
+    .array(z.strictObject({ brainId: z.string().min(1), sheetId: z.string().min(1) }))
+    .default([]),
   ...modelSpecSchema.shape,
   softwareVersion: z.string().min(1).optional(),
   inputs: z.strictObject({ brainTable: fileRef, participantSheet: fileRef.optional() }).optional(),
@@ -59,7 +64,9 @@ export class RecipeError extends Error {
 
 /** The software version written into every recipe (package.json `version`). */
 export function softwareVersion(): string {
-  const pkg = JSON.parse(readFileSync(fileURLToPath(new URL("../../package.json", import.meta.url)), "utf8")) as {
+  const pkg = JSON.parse(
+    readFileSync(fileURLToPath(new URL("../../package.json", import.meta.url)), "utf8"),
+  ) as {
     version: string;
   };
   return pkg.version;
@@ -95,17 +102,27 @@ function readInput(recipeDir: string, file: string, what: string): Uint8Array {
     return readFileSync(resolve(recipeDir, file));
   } catch (e) {
     const code = (e as NodeJS.ErrnoException).code;
-    if (code === "ENOENT") throw new RecipeError(`${file}: ${what} file not found (paths are relative to the recipe's folder)`);
+    if (code === "ENOENT")
+      throw new RecipeError(
+        `${file}: ${what} file not found (paths are relative to the recipe's folder)`,
+      );
     if (code === "EISDIR") throw new RecipeError(`${file}: ${what} is a folder, not a file`);
     throw new RecipeError(`${file}: ${what} file cannot be read (${code ?? (e as Error).message})`);
   }
 }
 
-function checkHash(file: string, bytes: Uint8Array, expected: { file: string; sha256: string } | undefined, key: string): string {
+function checkHash(
+  file: string,
+  bytes: Uint8Array,
+  expected: { file: string; sha256: string } | undefined,
+  key: string,
+): string {
   const sha256 = sha256Hex(bytes);
   if (expected === undefined) return sha256;
   if (expected.file !== file) {
-    throw new RecipeError(`recipe key "inputs.${key}.file" is "${expected.file}" but "${key}" names "${file}"`);
+    throw new RecipeError(
+      `recipe key "inputs.${key}.file" is "${expected.file}" but "${key}" names "${file}"`,
+    );
   }
   if (expected.sha256 !== sha256) {
     throw new RecipeError(
@@ -117,11 +134,19 @@ function checkHash(file: string, bytes: Uint8Array, expected: { file: string; sh
 
 function requireColumn(sheet: ParticipantSheet, name: string, key: string): void {
   if (sheet.columns.some((c) => c.name === name)) return;
-  const names = sheet.columns.map((c) => c.name).slice(0, 12).join(", ");
+  const names = sheet.columns
+    .map((c) => c.name)
+    .slice(0, 12)
+    .join(", ");
   throw new IntakeError(422, [
-    problem(sheet.file, "unknown_column", `no column named "${name}" (recipe key ${key}); the sheet has: ${sheet.idColumn}, ${names}`, {
-      row: 1,
-    }),
+    problem(
+      sheet.file,
+      "unknown_column",
+      `no column named "${name}" (recipe key ${key}); the sheet has: ${sheet.idColumn}, ${names}`,
+      {
+        row: 1,
+      },
+    ),
   ]);
 }
 
@@ -134,9 +159,13 @@ function withRecipeHints<T>(read: () => T): T {
   try {
     return read();
   } catch (e) {
-    if (!(e instanceof IntakeError) || !e.problems.some((p) => p.code === "column_left_out")) throw e;
-    const hint = ' (in a recipe: name the regions to read under "regions"; every other column is then left out)';
-    const problems = e.problems.map((p) => (p.code === "column_left_out" ? { ...p, message: `${p.message}${hint}` } : p));
+    if (!(e instanceof IntakeError) || !e.problems.some((p) => p.code === "column_left_out"))
+      throw e;
+    const hint =
+      ' (in a recipe: name the regions to read under "regions"; every other column is then left out)';
+    const problems = e.problems.map((p) =>
+      p.code === "column_left_out" ? { ...p, message: `${p.message}${hint}` } : p,
+    );
     throw new IntakeError(e.status, problems, e.problemCount);
   }
 }
@@ -170,29 +199,54 @@ export async function runRecipe(recipePath: string): Promise<RecipeOutput> {
   } catch (e) {
     const code = (e as NodeJS.ErrnoException).code;
     throw new RecipeError(
-      code === "ENOENT" ? `${recipeName}: recipe file not found` : `${recipeName}: recipe cannot be read (${code ?? (e as Error).message})`,
+      code === "ENOENT"
+        ? `${recipeName}: recipe file not found`
+        : `${recipeName}: recipe cannot be read (${code ?? (e as Error).message})`,
     );
   }
   const recipe = parseRecipe(text, recipeName);
   const dir = dirname(recipePath);
 
   const needsSheet =
-    recipe.kind === "two-group" || recipe.kind === "association" || recipe.covariates.length > 0 || recipe.mappings.length > 0;
+    recipe.kind === "two-group" ||
+    recipe.kind === "association" ||
+    recipe.covariates.length > 0 ||
+    recipe.mappings.length > 0;
   if (needsSheet && recipe.participantSheet === undefined) {
-    const why = recipe.kind === "two-group" || recipe.kind === "association" ? `kind "${recipe.kind}"` : recipe.mappings.length > 0 ? "mappings" : "covariates";
+    const why =
+      recipe.kind === "two-group" || recipe.kind === "association"
+        ? `kind "${recipe.kind}"`
+        : recipe.mappings.length > 0
+          ? "mappings"
+          : "covariates";
     throw new RecipeError(`${recipeName}: key "participantSheet" is required for ${why}`);
   }
   if (recipe.inputs?.participantSheet && recipe.participantSheet === undefined) {
-    throw new RecipeError(`${recipeName}: key "inputs.participantSheet" is given but "participantSheet" is not`);
+    throw new RecipeError(
+      `${recipeName}: key "inputs.participantSheet" is given but "participantSheet" is not`,
+    );
   }
 
   const brainBytes = readInput(dir, recipe.brainTable, "brain table");
-  const sheetBytes = recipe.participantSheet === undefined ? null : readInput(dir, recipe.participantSheet, "participant sheet");
-  const brainSha = checkHash(recipe.brainTable, brainBytes, recipe.inputs?.brainTable, "brainTable");
+  const sheetBytes =
+    recipe.participantSheet === undefined
+      ? null
+      : readInput(dir, recipe.participantSheet, "participant sheet");
+  const brainSha = checkHash(
+    recipe.brainTable,
+    brainBytes,
+    recipe.inputs?.brainTable,
+    "brainTable",
+  );
   const sheetSha =
     sheetBytes === null || recipe.participantSheet === undefined
       ? null
-      : checkHash(recipe.participantSheet, sheetBytes, recipe.inputs?.participantSheet, "participantSheet");
+      : checkHash(
+          recipe.participantSheet,
+          sheetBytes,
+          recipe.inputs?.participantSheet,
+          "participantSheet",
+        );
 
   const brainRaw = readTable(brainBytes, recipe.brainTable);
   const brain = withRecipeHints(() =>
@@ -204,14 +258,22 @@ export async function runRecipe(recipePath: string): Promise<RecipeOutput> {
   );
   let sheet: ParticipantSheet | null = null;
   if (sheetBytes !== null && recipe.participantSheet !== undefined) {
-    sheet = buildParticipantSheet(readTable(sheetBytes, recipe.participantSheet), { idColumn: recipe.idColumn });
+    sheet = buildParticipantSheet(readTable(sheetBytes, recipe.participantSheet), {
+      idColumn: recipe.idColumn,
+    });
     if (recipe.predictor !== undefined) requireColumn(sheet, recipe.predictor, "predictor");
     if (recipe.group !== undefined) requireColumn(sheet, recipe.group, "group");
     for (const c of recipe.covariates) requireColumn(sheet, c, "covariates");
   }
   const built = buildFitData(brain, sheet, { session: recipe.session, mappings: recipe.mappings });
   if (recipe.weights === "first-level-se") {
-    requireStandardErrors({ raw: brainRaw, brain, data: built.data, session: built.session, setAside: recipe.setAside });
+    requireStandardErrors({
+      raw: brainRaw,
+      brain,
+      data: built.data,
+      session: built.session,
+      setAside: recipe.setAside,
+    });
   }
 
   const spec: ModelSpec = {

@@ -41,7 +41,9 @@ export function requireStandardErrors(input: StandardErrorCheckInput): void {
   const { raw, brain, data, session, setAside } = input;
   const file = brain.file;
   const problems: Problem[] = [];
-  const asideAll = new Set(setAside.filter((s) => s.region === undefined).map((s) => s.participant));
+  const asideAll = new Set(
+    setAside.filter((s) => s.region === undefined).map((s) => s.participant),
+  );
   const asideIn = (region: string, id: string) =>
     asideAll.has(id) || setAside.some((s) => s.region === region && s.participant === id);
 
@@ -57,7 +59,8 @@ export function requireStandardErrors(input: StandardErrorCheckInput): void {
       const id = parseCategoryCell(row[idIndex]);
       const region = parseCategoryCell(row[regionIndex]);
       const s = sessionIndex >= 0 ? parseCategoryCell(row[sessionIndex]) : null;
-      if (id !== null && region !== null) longRow.set(`${id}\u0000${s ?? ""}\u0000${region}`, raw.rowNumbers[i]);
+      if (id !== null && region !== null)
+        longRow.set(`${id}\u0000${s ?? ""}\u0000${region}`, raw.rowNumbers[i]);
     });
   }
   const longSeColumn = brain.columns.find((c) => c.role === "se")?.name;
@@ -65,7 +68,9 @@ export function requireStandardErrors(input: StandardErrorCheckInput): void {
   data.regions.forEach((region, r) => {
     const se = data.standardErrors?.[r] ?? null;
     const column =
-      brain.layout === "long" ? longSeColumn : brain.columns.find((c) => c.role === "se" && c.region === region)?.name;
+      brain.layout === "long"
+        ? longSeColumn
+        : brain.columns.find((c) => c.role === "se" && c.region === region)?.name;
     if (se === null || column === undefined) {
       const expected = brain.layout === "long" ? "se" : `${region}${brain.seSuffix}`;
       problems.push(
@@ -83,7 +88,8 @@ export function requireStandardErrors(input: StandardErrorCheckInput): void {
       if (!Number.isFinite(values[i]) || asideIn(region, id)) return;
       if (Number.isFinite(se[i]) && se[i] > 0) return;
       const key = `${id}\u0000${session ?? ""}`;
-      const row = brain.layout === "long" ? longRow.get(`${key}\u0000${region}`) : rowOfEntry.get(key);
+      const row =
+        brain.layout === "long" ? longRow.get(`${key}\u0000${region}`) : rowOfEntry.get(key);
       const inSession = session === null ? "" : ` in session ${quote(session)}`;
       problems.push(
         problem(

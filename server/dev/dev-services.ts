@@ -21,7 +21,12 @@ export interface Services {
 
 export const institutionCallbackPath = "/api/auth/callback/institution";
 
-const roleNotes: Record<string, string> = { owner: "demo Owner", analyst: "demo Analyst", reviewer: "demo Reviewer", viewer: "demo Viewer" };
+const roleNotes: Record<string, string> = {
+  owner: "demo Owner",
+  analyst: "demo Analyst",
+  reviewer: "demo Reviewer",
+  viewer: "demo Viewer",
+};
 
 export async function startServices(config: Config): Promise<Services> {
   let mailFake: MailFake | null = null;
@@ -29,7 +34,12 @@ export async function startServices(config: Config): Promise<Services> {
   try {
     if (config.devServices && !config.smtpUrl) mailFake = await startMailFake();
     const mailer = createMailer(
-      config.smtpUrl ?? { host: mailFake?.host ?? "127.0.0.1", port: mailFake?.port ?? 25, secure: false, ignoreTLS: true },
+      config.smtpUrl ?? {
+        host: mailFake?.host ?? "127.0.0.1",
+        port: mailFake?.port ?? 25,
+        secure: false,
+        ignoreTLS: true,
+      },
       config.mailFrom,
     );
     let institution: InstitutionProvider | null = config.oidc;
@@ -41,7 +51,12 @@ export async function startServices(config: Config): Promise<Services> {
         redirectUris: [`${config.publicUrl}${institutionCallbackPath}`],
         callbackPath: institutionCallbackPath,
       });
-      institution = { issuer: identityFake.issuer, clientId: identityFake.clientId, clientSecret: identityFake.clientSecret, name: `${config.oidcName} (local test service)` };
+      institution = {
+        issuer: identityFake.issuer,
+        clientId: identityFake.clientId,
+        clientSecret: identityFake.clientSecret,
+        name: `${config.oidcName} (local test service)`,
+      };
     }
     const started = { mailFake, identityFake };
     return {

@@ -63,7 +63,12 @@ export async function startIdentityFake(options: IdentityFakeOptions): Promise<I
   // A page on a rebound DNS name reaches 127.0.0.1 under its own name: answer loopback names only.
   app.use((req, res, next) => {
     if (isLoopbackHost(req.get("host"))) return next();
-    res.status(421).type("text/plain").send("The local test identity service answers requests for localhost, 127.0.0.1 and [::1] only.\n");
+    res
+      .status(421)
+      .type("text/plain")
+      .send(
+        "The local test identity service answers requests for localhost, 127.0.0.1 and [::1] only.\n",
+      );
   });
   const server: Server = createServer(app);
   await new Promise<void>((resolve, reject) => {
@@ -74,7 +79,12 @@ export async function startIdentityFake(options: IdentityFakeOptions): Promise<I
   const issuer = `http://${host}:${port}`;
 
   const { privateKey } = generateKeyPairSync("rsa", { modulusLength: 2048 });
-  const jwk = { ...(privateKey.export({ format: "jwk" }) as Record<string, string>), kid: "fake-1", alg: "RS256", use: "sig" };
+  const jwk = {
+    ...(privateKey.export({ format: "jwk" }) as Record<string, string>),
+    kid: "fake-1",
+    alg: "RS256",
+    use: "sig",
+  };
 
   const configuration: Configuration = {
     clients: [
@@ -92,7 +102,14 @@ export async function startIdentityFake(options: IdentityFakeOptions): Promise<I
     claims: { openid: ["sub"], email: ["email", "email_verified"], profile: ["name"] },
     conformIdTokenClaims: false,
     features: { devInteractions: { enabled: false } },
-    ttl: { Interaction: 3600, Session: 8 * 3600, Grant: 8 * 3600, AccessToken: 3600, IdToken: 3600, AuthorizationCode: 300 },
+    ttl: {
+      Interaction: 3600,
+      Session: 8 * 3600,
+      Grant: 8 * 3600,
+      AccessToken: 3600,
+      IdToken: 3600,
+      AuthorizationCode: 300,
+    },
     interactions: { url: (_ctx, interaction) => `/interaction/${interaction.uid}` },
     async findAccount(_ctx, sub) {
       const person = directory.get(sub);
@@ -121,7 +138,10 @@ export async function startIdentityFake(options: IdentityFakeOptions): Promise<I
   };
   const provider = new Provider(issuer, configuration);
   const allowed = provider.Client.prototype.redirectUriAllowed;
-  provider.Client.prototype.redirectUriAllowed = function redirectUriAllowed(this: unknown, uri: string) {
+  provider.Client.prototype.redirectUriAllowed = function redirectUriAllowed(
+    this: unknown,
+    uri: string,
+  ) {
     return allowed.call(this, uri) || isLoopbackCallback(uri, options.callbackPath);
   };
 
@@ -133,23 +153,42 @@ export async function startIdentityFake(options: IdentityFakeOptions): Promise<I
       next(error);
     }
   });
-  app.post("/interaction/:uid/login", express.urlencoded({ extended: false, limit: "8kb" }), async (req, res, next) => {
-    try {
-      await provider.interactionDetails(req, res);
-      const email = String(req.body?.email ?? "").trim().toLowerCase();
-      if (!/^[^\s@]+@[^\s@]+\.[^\s@]+$/.test(email)) {
-        res.status(400).type("html").send(page("Sign-in", "<p>Enter a valid e-mail address.</p><p><a href=\"javascript:history.back()\">Back</a></p>"));
-        return;
+  app.post(
+    "/interaction/:uid/login",
+    express.urlencoded({ extended: false, limit: "8kb" }),
+    async (req, res, next) => {
+      try {
+        await provider.interactionDetails(req, res);
+        const email = String(req.body?.email ?? "")
+          .trim()
+          .toLowerCase();
+        if (!/^[^\s@]+@[^\s@]+\.[^\s@]+$/.test(email)) {
+          res
+            .status(400)
+            .type("html")
+            .send(
+              page(
+                "Sign-in",
+                '<p>Enter a valid e-mail address.</p><p><a href="javascript:history.back()">Back</a></p>',
+              ),
+            );
+          return;
+        }
+        const known = options.people.find((p) => p.email === email);
+        const name = known?.name ?? (String(req.body?.name ?? "").trim() || email.split("@")[0]);
+        const sub = subjectFor(email);
+        directory.set(sub, { email, name });
+        await provider.interactionFinished(
+          req,
+          res,
+          { login: { accountId: sub } },
+          { mergeWithLastSubmission: false },
+        );
+      } catch (error) {
+        next(error);
       }
-      const known = options.people.find((p) => p.email === email);
-      const name = known?.name ?? (String(req.body?.name ?? "").trim() || email.split("@")[0]);
-      const sub = subjectFor(email);
-      directory.set(sub, { email, name });
-      await provider.interactionFinished(req, res, { login: { accountId: sub } }, { mergeWithLastSubmission: false });
-    } catch (error) {
-      next(error);
-    }
-  });
+    },
+  );
   app.use(provider.callback());
 
   return {
@@ -167,7 +206,8 @@ export async function startIdentityFake(options: IdentityFakeOptions): Promise<I
 function isLoopbackCallback(uri: string, callbackPath: string): boolean {
   const url = URL.parse(uri);
   if (!url || (url.protocol !== "http:" && url.protocol !== "https:")) return false;
-  const loopback = url.hostname === "127.0.0.1" || url.hostname === "localhost" || url.hostname === "[::1]";
+  const loopback =
+    url.hostname === "127.0.0.1" || url.hostname === "localhost" || url.hostname === "[::1]";
   return loopback && url.pathname === callbackPath && url.search === "" && url.hash === "";
 }
 

@@ -31,7 +31,9 @@ export interface MailFake {
 /** Keeps at most this many messages (oldest dropped first). */
 const keep = 500;
 
-export async function startMailFake(options: { host?: string; port?: number; clock?: () => Date } = {}): Promise<MailFake> {
+export async function startMailFake(
+  options: { host?: string; port?: number; clock?: () => Date } = {},
+): Promise<MailFake> {
   const host = options.host ?? "127.0.0.1";
   const clock = options.clock ?? (() => new Date());
   const caught: CaughtMail[] = [];

@@ -22,7 +22,12 @@ export function ifNoneMatch(header: string | undefined, etag: string): boolean {
   return header.split(",").some((tag) => tag.trim() === "*" || bare(tag) === bare(etag));
 }
 
-export function sendEncoded(req: Request, res: Response, body: EncodedBody, contentType = "application/json; charset=utf-8"): void {
+export function sendEncoded(
+  req: Request,
+  res: Response,
+  body: EncodedBody,
+  contentType = "application/json; charset=utf-8",
+): void {
   const zipped = req.acceptsEncodings("gzip", "identity") === "gzip";
   const chosen = zipped ? body.gzip : body.identity;
   res.vary("Accept-Encoding");

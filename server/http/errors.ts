@@ -28,11 +28,15 @@ export class HttpError extends Error {
   }
 }
 
-export const badRequest = (message: string, details?: unknown) => new HttpError(400, "bad_request", message, details);
-export const unauthorized = (message = "Sign in to continue.") => new HttpError(401, "unauthorized", message);
-export const forbidden = (message = "Your role in this study does not allow this.") => new HttpError(403, "forbidden", message);
+export const badRequest = (message: string, details?: unknown) =>
+  new HttpError(400, "bad_request", message, details);
+export const unauthorized = (message = "Sign in to continue.") =>
+  new HttpError(401, "unauthorized", message);
+export const forbidden = (message = "Your role in this study does not allow this.") =>
+  new HttpError(403, "forbidden", message);
 export const notFound = (message = "Not found.") => new HttpError(404, "not_found", message);
-export const conflict = (message: string, details?: unknown) => new HttpError(409, "conflict", message, details);
+export const conflict = (message: string, details?: unknown) =>
+  new HttpError(409, "conflict", message, details);
 export const gone = (message: string) => new HttpError(410, "gone", message);
 
 export interface ErrorBody {
@@ -49,7 +53,9 @@ export function zodDetails(error: ZodError, where: string): { field: string; mes
 
 /** Answers unknown /api paths with the envelope. */
 export const apiNotFound: RequestHandler = (req, _res, next) => {
-  next(new HttpError(404, "not_found", `No API route ${req.method} ${req.originalUrl.split("?")[0]}.`));
+  next(
+    new HttpError(404, "not_found", `No API route ${req.method} ${req.originalUrl.split("?")[0]}.`),
+  );
 };
 
 /** Maps any thrown value to a status and envelope. Exported for tests. */
@@ -67,12 +73,26 @@ export function toErrorResponse(error: unknown): { status: number; body: ErrorBo
   if (error instanceof IntakeError) {
     return {
       status: error.status,
-      body: envelope(error.problems[0]?.code ?? "invalid_file", error.message, { problems: error.problems, problemCount: error.problemCount }),
+      body: envelope(error.problems[0]?.code ?? "invalid_file", error.message, {
+        problems: error.problems,
+        problemCount: error.problemCount,
+      }),
     };
   }
-  const e = error as { name?: string; status?: number; statusCode?: number; type?: string; message?: string; code?: string; details?: unknown };
+  const e = error as {
+    name?: string;
+    status?: number;
+    statusCode?: number;
+    type?: string;
+    message?: string;
+    code?: string;
+    details?: unknown;
+  };
   if (e && e.type === "entity.too.large") {
-    return { status: 413, body: envelope("payload_too_large", "The request body is larger than the server accepts.") };
+    return {
+      status: 413,
+      body: envelope("payload_too_large", "The request body is larger than the server accepts."),
+    };
   }
   if (e && e.type === "entity.parse.failed") {
     return { status: 400, body: envelope("malformed_json", "The request body is not valid JSON.") };
@@ -81,7 +101,10 @@ export function toErrorResponse(error: unknown): { status: number; body: ErrorBo
   if (typeof status === "number" && status >= 400 && status < 500) {
     return { status, body: envelope(`http_${status}`, String(e.message ?? "Request refused.")) };
   }
-  return { status: 500, body: envelope("internal_error", "Something went wrong on the server. It has been logged.") };
+  return {
+    status: 500,
+    body: envelope("internal_error", "Something went wrong on the server. It has been logged."),
+  };
 }
 
 export function describeDetails(details: readonly { field: string; message: string }[]): string {
@@ -89,11 +112,15 @@ export function describeDetails(details: readonly { field: string; message: stri
 }
 
 function envelope(code: string, message: string, details?: unknown): ErrorBody {
-  return details === undefined ? { error: { code, message } } : { error: { code, message, details } };
+  return details === undefined
+    ? { error: { code, message } }
+    : { error: { code, message, details } };
 }
 
 /** The one error middleware. `log` receives 5xx errors (default: console.error). */
-export function errorHandler(log: (error: unknown, context: string) => void = defaultLog): ErrorRequestHandler {
+export function errorHandler(
+  log: (error: unknown, context: string) => void = defaultLog,
+): ErrorRequestHandler {
   return (error, req, res, _next) => {
     const { status, body } = toErrorResponse(error);
     if (status >= 500) log(error, `${req.method} ${req.originalUrl}`);

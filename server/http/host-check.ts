@@ -67,14 +67,17 @@ export function allowedHost(policy: HostPolicy): (value: string | undefined) => 
 export function hostGuard(policy: HostPolicy): RequestHandler {
   const allowed = allowedHost(policy);
   const publicHost = new URL(policy.publicUrl).host;
-  const accepted = policy.production ? publicHost : `${publicHost} or localhost, 127.0.0.1 and [::1] on any port`;
+  const accepted = policy.production
+    ? publicHost
+    : `${publicHost} or localhost, 127.0.0.1 and [::1] on any port`;
   return (req, res, next) => {
     const host = req.host;
     if (allowed(host)) return next();
     const message =
       `This server answers requests for ${accepted} only; this one was addressed to ${host ? JSON.stringify(host) : "no host"}.` +
       " If that is the address you use, set PUBLIC_URL to it.";
-    if (req.path === "/api" || req.path.startsWith("/api/")) return next(new HttpError(421, "misdirected_request", message));
+    if (req.path === "/api" || req.path.startsWith("/api/"))
+      return next(new HttpError(421, "misdirected_request", message));
     res.status(421).type("text/plain").send(`${message}\n`);
   };
 }
@@ -91,7 +94,11 @@ export function pinToPublicUrl(publicUrl: string): RequestHandler {
     req.headers.host = url.host;
     delete req.headers["x-forwarded-host"];
     delete req.headers["x-forwarded-proto"];
-    Object.defineProperty(req, "protocol", { value: protocol, configurable: true, enumerable: true });
+    Object.defineProperty(req, "protocol", {
+      value: protocol,
+      configurable: true,
+      enumerable: true,
+    });
     next();
   };
 }

@@ -25,10 +25,18 @@ export function limitByIpAndAddress(
 ): RequestHandler[] {
   const handler = (req: Request, res: Response, next: (error: unknown) => void) => {
     const reset = (req as Request & { rateLimit?: { resetTime?: Date } }).rateLimit?.resetTime;
-    const seconds = reset ? Math.max(1, Math.ceil((reset.getTime() - Date.now()) / 1000)) : Math.ceil(settings.windowMs / 1000);
+    const seconds = reset
+      ? Math.max(1, Math.ceil((reset.getTime() - Date.now()) / 1000))
+      : Math.ceil(settings.windowMs / 1000);
     res.set("Retry-After", String(seconds));
     const minutes = Math.ceil(seconds / 60);
-    next(new HttpError(429, "rate_limited", `Too many ${what} requests; try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`));
+    next(
+      new HttpError(
+        429,
+        "rate_limited",
+        `Too many ${what} requests; try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`,
+      ),
+    );
   };
   const byIp = rateLimit({
     windowMs: settings.windowMs,

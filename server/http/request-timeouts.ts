@@ -18,7 +18,13 @@
  * limit. Every listening server of the app goes through `createHttpServer`
  * or `applyRequestTimeouts`.
  */
-import { createServer, type IncomingMessage, type RequestListener, type Server, type ServerResponse } from "node:http";
+import {
+  createServer,
+  type IncomingMessage,
+  type RequestListener,
+  type Server,
+  type ServerResponse,
+} from "node:http";
 
 export interface RequestTimeouts {
   /** Longest wait for the headers, and longest pause in a request body (ms). */
@@ -78,7 +84,9 @@ export function cutOffStalledBodies(server: Server, idleMs: number): void {
 }
 
 function hasBody(req: IncomingMessage): boolean {
-  return req.headers["transfer-encoding"] !== undefined || Number(req.headers["content-length"] ?? 0) > 0;
+  return (
+    req.headers["transfer-encoding"] !== undefined || Number(req.headers["content-length"] ?? 0) > 0
+  );
 }
 
 function cutOff(req: IncomingMessage, res: ServerResponse, idleMs: number): void {
@@ -92,7 +100,9 @@ function cutOff(req: IncomingMessage, res: ServerResponse, idleMs: number): void
   const api = path.startsWith("/api/");
   // Connection: close makes Node close the socket once this answer is written; the handler still
   // waiting for the body then sees the request aborted.
-  const body = api ? JSON.stringify({ error: { code: "request_timeout", message } }) : `${message}\n`;
+  const body = api
+    ? JSON.stringify({ error: { code: "request_timeout", message } })
+    : `${message}\n`;
   res.writeHead(408, {
     "Content-Type": api ? "application/json; charset=utf-8" : "text/plain; charset=utf-8",
     "Content-Length": Buffer.byteLength(body),

@@ -35,7 +35,9 @@ function walk(stack: readonly Layer[], prefix: string, out: RouteInfo[]): void {
       const actions = layer.route.stack
         .map((l) => l.handle[permissionTag])
         .filter((a): a is string => typeof a === "string");
-      for (const method of Object.keys(layer.route.methods).filter((m) => layer.route?.methods[m])) {
+      for (const method of Object.keys(layer.route.methods).filter(
+        (m) => layer.route?.methods[m],
+      )) {
         out.push({ method: method.toUpperCase(), path, actions });
       }
     } else if (Array.isArray(layer.handle.stack)) {

@@ -26,7 +26,11 @@ export function sameOrigin(policy: HostPolicy): RequestHandler {
       return next(refusal(`Sec-Fetch-Site is ${site}`));
     }
     const origin = req.get("origin");
-    if (origin !== undefined && origin !== publicOrigin && !(!policy.production && isOwnLoopbackOrigin(origin, req.protocol, req.host))) {
+    if (
+      origin !== undefined &&
+      origin !== publicOrigin &&
+      !(!policy.production && isOwnLoopbackOrigin(origin, req.protocol, req.host))
+    ) {
       return next(refusal(`Origin ${origin} is not this site`));
     }
     next();
@@ -38,5 +42,9 @@ function isOwnLoopbackOrigin(origin: string, protocol: string, host: string | un
 }
 
 function refusal(reason: string): HttpError {
-  return new HttpError(403, "cross_origin", `State-changing requests must come from Covarion's own pages (${reason}).`);
+  return new HttpError(
+    403,
+    "cross_origin",
+    `State-changing requests must come from Covarion's own pages (${reason}).`,
+  );
 }

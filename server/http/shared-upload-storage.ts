@@ -25,7 +25,11 @@ declare global {
 
 export function sharedUploadStorage(): multer.StorageEngine {
   return {
-    _handleFile(_req: Request, file: Express.Multer.File, callback: (error?: unknown, info?: Partial<Express.Multer.File>) => void) {
+    _handleFile(
+      _req: Request,
+      file: Express.Multer.File,
+      callback: (error?: unknown, info?: Partial<Express.Multer.File>) => void,
+    ) {
       const chunks: Buffer[] = [];
       let size = 0;
       file.stream.on("data", (chunk: Buffer) => {

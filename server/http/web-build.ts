@@ -26,7 +26,12 @@ export function serveWebBuild(distDir: string, options: WebBuildOptions): Router
   const router = Router();
   router.use(
     "/_expo/static",
-    express.static(join(distDir, "_expo", "static"), { immutable: true, maxAge: "365d", index: false, fallthrough: false }),
+    express.static(join(distDir, "_expo", "static"), {
+      immutable: true,
+      maxAge: "365d",
+      index: false,
+      fallthrough: false,
+    }),
   );
   router.use(express.static(distDir, { maxAge: "5m", index: false }));
   if (!options.demoPages) router.get(demoOnlyPages, appShell(distDir, 404));
@@ -41,7 +46,9 @@ function appShell(distDir: string, status: 200 | 404): RequestHandler {
       res
         .status(503)
         .type("text")
-        .send("The web app has not been built yet. Run `npm start` (it builds it) or `npm run build:web`.");
+        .send(
+          "The web app has not been built yet. Run `npm start` (it builds it) or `npm run build:web`.",
+        );
       return;
     }
     res.status(status).set("Cache-Control", "no-cache");

@@ -23,7 +23,13 @@
  */
 import { IntakeError, MAX_PROBLEMS, ProblemList, problem, type Problem } from "./errors";
 import { notANumberText, parseCategoryCell, quoteCell } from "./cells";
-import { findColumn, profileColumn, resolveIdColumn, unknownColumnError, type ColumnProfile } from "./columns";
+import {
+  findColumn,
+  profileColumn,
+  resolveIdColumn,
+  unknownColumnError,
+  type ColumnProfile,
+} from "./columns";
 import type { RawTable } from "./read-table";
 import { normaliseId, sameParticipantText } from "./roster";
 
@@ -48,7 +54,15 @@ export interface BrainTableOptions {
   types?: Readonly<Record<string, "number" | "category">>;
 }
 
-export type BrainColumnRole = "id" | "session" | "region" | "se" | "region-name" | "value" | "ignored" | "dropped";
+export type BrainColumnRole =
+  | "id"
+  | "session"
+  | "region"
+  | "se"
+  | "region-name"
+  | "value"
+  | "ignored"
+  | "dropped";
 
 export interface BrainColumn {
   name: string;
@@ -112,7 +126,9 @@ export function analyseBrainTable(raw: RawTable, options: BrainTableOptions = {}
   const file = raw.file;
   const seSuffix = options.seSuffix ?? DEFAULT_SE_SUFFIX;
   if (seSuffix === "") {
-    throw new IntakeError(422, [problem(file, "bad_option", "the standard-error suffix must not be empty")]);
+    throw new IntakeError(422, [
+      problem(file, "bad_option", "the standard-error suffix must not be empty"),
+    ]);
   }
   const dropped = new Set<number>();
   for (const name of options.dropColumns ?? []) {
@@ -123,14 +139,17 @@ export function analyseBrainTable(raw: RawTable, options: BrainTableOptions = {}
   const id = resolveIdColumn(raw, options.idColumn);
   if (dropped.has(id.index)) {
     throw new IntakeError(422, [
-      problem(file, "drop_id_column", "the participant id column cannot be dropped", { column: id.name }),
+      problem(file, "drop_id_column", "the participant id column cannot be dropped", {
+        column: id.name,
+      }),
     ]);
   }
   let sessionIndex = -1;
   if (options.sessionColumn !== null) {
     if (options.sessionColumn !== undefined) {
       sessionIndex = findColumn(raw, options.sessionColumn);
-      if (sessionIndex < 0) throw unknownColumnError(raw, options.sessionColumn, "the session column");
+      if (sessionIndex < 0)
+        throw unknownColumnError(raw, options.sessionColumn, "the session column");
     } else {
       sessionIndex = findColumn(raw, "session");
       if (dropped.has(sessionIndex)) sessionIndex = -1;
@@ -143,15 +162,24 @@ export function analyseBrainTable(raw: RawTable, options: BrainTableOptions = {}
 
   const regionIndex = findColumn(raw, "region");
   const valueIndex = findColumn(raw, "value");
-  const looksLong = regionIndex >= 0 && valueIndex >= 0 && !dropped.has(regionIndex) && !dropped.has(valueIndex);
+  const looksLong =
+    regionIndex >= 0 && valueIndex >= 0 && !dropped.has(regionIndex) && !dropped.has(valueIndex);
   const layout: BrainLayout = options.layout ?? (looksLong ? "long" : "wide");
   if (layout === "long" && !looksLong) {
-    throw unknownColumnError(raw, regionIndex < 0 ? "region" : "value", "a long brain table needs region and value columns");
+    throw unknownColumnError(
+      raw,
+      regionIndex < 0 ? "region" : "value",
+      "a long brain table needs region and value columns",
+    );
   }
 
   const profiles = raw.header.map((_, j) => profileColumn(raw, j));
   const problems = new ProblemList();
-  const columns: BrainColumn[] = profiles.map((p) => ({ name: p.name, role: "ignored", profile: p }));
+  const columns: BrainColumn[] = profiles.map((p) => ({
+    name: p.name,
+    role: "ignored",
+    profile: p,
+  }));
   columns[id.index].role = "id";
   if (sessionIndex >= 0) columns[sessionIndex].role = "session";
   for (const j of dropped) {
@@ -180,7 +208,12 @@ export function analyseBrainTable(raw: RawTable, options: BrainTableOptions = {}
   if (problems.count > 0 || result.entries === null) {
     return { table: null, draft: null, plan, problems: all, problemCount };
   }
-  const table = { ...plan, entries: result.entries, values: result.values, standardErrors: result.standardErrors };
+  const table = {
+    ...plan,
+    entries: result.entries,
+    values: result.values,
+    standardErrors: result.standardErrors,
+  };
   if (leftOut.length > 0) return { table: null, draft: table, plan, problems: all, problemCount };
   return { table, draft: table, plan, problems: [], problemCount: 0 };
 }
@@ -196,9 +229,15 @@ export function analyseBrainTable(raw: RawTable, options: BrainTableOptions = {}
  * decision; a standard-error column without its region is a problem of its
  * own (unpaired_standard_error).
  */
-function leftOutProblems(raw: RawTable, options: BrainTableOptions, seSuffix: string, columns: readonly BrainColumn[]): Problem[] {
+function leftOutProblems(
+  raw: RawTable,
+  options: BrainTableOptions,
+  seSuffix: string,
+  columns: readonly BrainColumn[],
+): Problem[] {
   if (options.regions !== undefined && options.regions.length > 0) return [];
-  const decidedNotRegion = (j: number) => columns[j].role === "dropped" || options.types?.[raw.header[j]] === "category";
+  const decidedNotRegion = (j: number) =>
+    columns[j].role === "dropped" || options.types?.[raw.header[j]] === "category";
   const out: Problem[] = [];
   columns.forEach((c, j) => {
     if (c.role !== "ignored" || decidedNotRegion(j)) return;
@@ -207,7 +246,14 @@ function leftOutProblems(raw: RawTable, options: BrainTableOptions, seSuffix: st
       if (k < 0) return; // unpaired: its own problem
       if (decidedNotRegion(k)) return;
     }
-    out.push(problem(raw.file, "column_left_out", `${leftOutReason(raw, c)}; confirm leaving it out (drop it or mark it not used), or fix the file`, { column: c.name }));
+    out.push(
+      problem(
+        raw.file,
+        "column_left_out",
+        `${leftOutReason(raw, c)}; confirm leaving it out (drop it or mark it not used), or fix the file`,
+        { column: c.name },
+      ),
+    );
   });
   return out;
 }
@@ -216,9 +262,12 @@ function leftOutProblems(raw: RawTable, options: BrainTableOptions, seSuffix: st
 function leftOutReason(raw: RawTable, c: BrainColumn): string {
   const p = c.profile;
   if (c.reason?.startsWith("standard errors of")) return `holds the ${c.reason}`;
-  if (c.reason === "not used in a long brain table") return "is not read: a long brain table uses only the id, session, region, value and se columns";
+  if (c.reason === "not used in a long brain table")
+    return "is not read: a long brain table uses only the id, session, region, value and se columns";
   if (p.numbers + p.text === 0) return "has no values, so it is not a region";
-  const shown = p.textRows.slice(0, 3).map((i) => `row ${raw.rowNumbers[i]} ${quoteCell(raw.rows[i][p.index])}`);
+  const shown = p.textRows
+    .slice(0, 3)
+    .map((i) => `row ${raw.rowNumbers[i]} ${quoteCell(raw.rows[i][p.index])}`);
   const more = p.text > shown.length ? ", …" : "";
   return `is not a region: ${p.text} of ${p.numbers + p.text} values are not numbers (${shown.join(", ")}${more})`;
 }
@@ -243,7 +292,10 @@ function readKey(
   const id = parseCategoryCell(row[idIndex]);
   if (id === null) {
     problems.add(
-      problem(raw.file, "missing_id", "the participant id is missing", { row: rowNumber, column: raw.header[idIndex] }),
+      problem(raw.file, "missing_id", "the participant id is missing", {
+        row: rowNumber,
+        column: raw.header[idIndex],
+      }),
     );
     return null;
   }
@@ -252,10 +304,15 @@ function readKey(
     session = parseCategoryCell(row[sessionIndex]);
     if (session === null) {
       problems.add(
-        problem(raw.file, "missing_session", "the session label is missing; every row needs one when the table has a session column", {
-          row: rowNumber,
-          column: raw.header[sessionIndex],
-        }),
+        problem(
+          raw.file,
+          "missing_session",
+          "the session label is missing; every row needs one when the table has a session column",
+          {
+            row: rowNumber,
+            column: raw.header[sessionIndex],
+          },
+        ),
       );
       return null;
     }
@@ -264,7 +321,9 @@ function readKey(
 }
 
 function entryText(id: string, session: string | null): string {
-  return session === null ? `participant ${quoteCell(id)}` : `participant ${quoteCell(id)} in session ${quoteCell(session)}`;
+  return session === null
+    ? `participant ${quoteCell(id)}`
+    : `participant ${quoteCell(id)} in session ${quoteCell(session)}`;
 }
 
 function readWide(
@@ -303,12 +362,17 @@ function readWide(
       wanted.add(j);
     }
     raw.header.forEach((_, j) => {
-      if (free(j) && !wanted.has(j) && !isSe.has(j)) columns[j].reason = "not among the regions asked for";
+      if (free(j) && !wanted.has(j) && !isSe.has(j))
+        columns[j].reason = "not among the regions asked for";
     });
   } else {
     raw.header.forEach((name, j) => {
       if (!free(j) || isSe.has(j)) return;
-      if (name.endsWith(seSuffix) && name.length > seSuffix.length && options.types?.[name] !== "number") {
+      if (
+        name.endsWith(seSuffix) &&
+        name.length > seSuffix.length &&
+        options.types?.[name] !== "number"
+      ) {
         return; // unpaired standard-error column: reported below
       }
       const type = options.types?.[name] ?? columns[j].profile.type;
@@ -344,14 +408,24 @@ function readWide(
   }
   if (regionIdx.length === 0) {
     problems.add(
-      problem(file, "no_regions", "no region columns: a wide brain table needs at least one numeric column besides the participant id", {
-        row: 1,
-      }),
+      problem(
+        file,
+        "no_regions",
+        "no region columns: a wide brain table needs at least one numeric column besides the participant id",
+        {
+          row: 1,
+        },
+      ),
     );
   }
   // A free column ending in the suffix with no region to pair with is a mistake worth reporting.
   raw.header.forEach((name, j) => {
-    if (columns[j].role === "ignored" && name.endsWith(seSuffix) && name.length > seSuffix.length && !isSe.has(j)) {
+    if (
+      columns[j].role === "ignored" &&
+      name.endsWith(seSuffix) &&
+      name.length > seSuffix.length &&
+      !isSe.has(j)
+    ) {
       const stem = name.slice(0, -seSuffix.length);
       if (raw.header.indexOf(stem) < 0) {
         problems.add(
@@ -405,7 +479,12 @@ function readWide(
   for (const j of regionIdx) {
     const p = columns[j].profile;
     for (const i of p.textRows) {
-      problems.add(problem(file, "not_a_number", notANumberText(raw.rows[i][j]), { row: raw.rowNumbers[i], column: p.name }));
+      problems.add(
+        problem(file, "not_a_number", notANumberText(raw.rows[i][j]), {
+          row: raw.rowNumbers[i],
+          column: p.name,
+        }),
+      );
     }
     values.push(p.values.slice());
     const sj = seOf.get(j);
@@ -418,13 +497,23 @@ function readWide(
     const bad = new Set(sp.textRows);
     for (let i = 0; i < n; i++) {
       if (bad.has(i)) {
-        problems.add(problem(file, "not_a_number", notANumberText(raw.rows[i][sj]), { row: raw.rowNumbers[i], column: sp.name }));
-      } else if (se[i] <= 0) {
         problems.add(
-          problem(file, "bad_standard_error", `${quoteCell(raw.rows[i][sj])} is not a valid standard error; expected a number greater than 0`, {
+          problem(file, "not_a_number", notANumberText(raw.rows[i][sj]), {
             row: raw.rowNumbers[i],
             column: sp.name,
           }),
+        );
+      } else if (se[i] <= 0) {
+        problems.add(
+          problem(
+            file,
+            "bad_standard_error",
+            `${quoteCell(raw.rows[i][sj])} is not a valid standard error; expected a number greater than 0`,
+            {
+              row: raw.rowNumbers[i],
+              column: sp.name,
+            },
+          ),
         );
         se[i] = Number.NaN;
       }
@@ -452,7 +541,8 @@ function readLong(
   if (seIndex >= 0) columns[seIndex].role = "se";
   for (const c of columns) if (c.role === "ignored") c.reason = "not used in a long brain table";
 
-  const wanted = options.regions !== undefined && options.regions.length > 0 ? new Set(options.regions) : null;
+  const wanted =
+    options.regions !== undefined && options.regions.length > 0 ? new Set(options.regions) : null;
   const n = raw.rows.length;
   // First pass: each kept row's entry (participant and session) and region as small integers.
   const regionNumber = new Map<string, number>();
@@ -471,7 +561,10 @@ function readLong(
     const region = parseCategoryCell(raw.rows[i][regionIndex]);
     if (region === null) {
       problems.add(
-        problem(file, "missing_region", "the region name is missing", { row: raw.rowNumbers[i], column: raw.header[regionIndex] }),
+        problem(file, "missing_region", "the region name is missing", {
+          row: raw.rowNumbers[i],
+          column: raw.header[regionIndex],
+        }),
       );
       keysOk = false;
       continue;
@@ -520,14 +613,24 @@ function readLong(
     for (const name of options.regions ?? []) {
       if (!regionNumber.has(name)) {
         throw new IntakeError(422, [
-          problem(file, "unknown_region", `no rows for region ${quoteCell(name)} (a region asked for) in column ${raw.header[regionIndex]}`),
+          problem(
+            file,
+            "unknown_region",
+            `no rows for region ${quoteCell(name)} (a region asked for) in column ${raw.header[regionIndex]}`,
+          ),
         ]);
       }
     }
     regions = [...new Set(options.regions)];
   }
   if (regions.length === 0) {
-    problems.add(problem(file, "no_regions", "no region rows: a long brain table needs at least one row with a region and a value"));
+    problems.add(
+      problem(
+        file,
+        "no_regions",
+        "no region rows: a long brain table needs at least one row with a region and a value",
+      ),
+    );
   }
   const position = new Int32Array(regionNumber.size);
   regions.forEach((name, idx) => {
@@ -535,7 +638,9 @@ function readLong(
   });
   const m = entries.length;
   const values = regions.map(() => new Float64Array(m).fill(Number.NaN));
-  const standardErrors = regions.map(() => (seIndex >= 0 ? new Float64Array(m).fill(Number.NaN) : null));
+  const standardErrors = regions.map(() =>
+    seIndex >= 0 ? new Float64Array(m).fill(Number.NaN) : null,
+  );
   // Cells were parsed once when the columns were profiled: take their numbers, and report the text cells.
   const valueProfile = columns[valueIndex].profile;
   const seProfile = seIndex >= 0 ? columns[seIndex].profile : null;
@@ -577,17 +682,24 @@ function readLong(
     firstEntry[i] = e;
     const idx = position[r];
     const where = () => ({ row: raw.rowNumbers[i], column: raw.header[valueIndex] });
-    if (valueText[i] === 1) problems.add(problem(file, "not_a_number", notANumberText(raw.rows[i][valueIndex]), where()));
+    if (valueText[i] === 1)
+      problems.add(problem(file, "not_a_number", notANumberText(raw.rows[i][valueIndex]), where()));
     else values[idx][e] = valueProfile.values[i];
     const se = standardErrors[idx];
     if (se !== null && seProfile !== null && seText !== null) {
       const seWhere = { row: raw.rowNumbers[i], column: raw.header[seIndex] };
       const x = seProfile.values[i];
-      if (seText[i] === 1) problems.add(problem(file, "not_a_number", notANumberText(raw.rows[i][seIndex]), seWhere));
+      if (seText[i] === 1)
+        problems.add(problem(file, "not_a_number", notANumberText(raw.rows[i][seIndex]), seWhere));
       else if (x > 0) se[e] = x;
       else if (!Number.isNaN(x)) {
         problems.add(
-          problem(file, "bad_standard_error", `${quoteCell(raw.rows[i][seIndex])} is not a valid standard error; expected a number greater than 0`, seWhere),
+          problem(
+            file,
+            "bad_standard_error",
+            `${quoteCell(raw.rows[i][seIndex])} is not a valid standard error; expected a number greater than 0`,
+            seWhere,
+          ),
         );
       }
     }

@@ -46,7 +46,10 @@ export function isPlainNumber(text: string): boolean {
 }
 
 const NOT_A_NUMBER = Symbol("not a number");
-const POW10 = [1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22];
+const POW10 = [
+  1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17,
+  1e18, 1e19, 1e20, 1e21, 1e22,
+];
 
 /**
  * Scans `t` against /^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$/ and returns

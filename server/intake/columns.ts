@@ -120,9 +120,14 @@ export function findColumn(table: RawTable, name: string): number {
 export function unknownColumnError(table: RawTable, name: string, what: string): IntakeError {
   const names = table.header.slice(0, 12).join(", ") + (table.header.length > 12 ? ", …" : "");
   return new IntakeError(422, [
-    problem(table.file, "unknown_column", `no column named "${name}" (${what}); the header has: ${names}`, {
-      row: 1,
-    }),
+    problem(
+      table.file,
+      "unknown_column",
+      `no column named "${name}" (${what}); the header has: ${names}`,
+      {
+        row: 1,
+      },
+    ),
   ]);
 }
 

@@ -51,7 +51,11 @@ export class IntakeError extends Error {
   constructor(status: IntakeStatus, problems: readonly Problem[], problemCount = problems.length) {
     if (problems.length === 0) throw new TypeError("IntakeError requires at least one problem");
     const more = problemCount - 1;
-    super(more > 0 ? `${problems[0].message} (and ${more} more problem${more === 1 ? "" : "s"})` : problems[0].message);
+    super(
+      more > 0
+        ? `${problems[0].message} (and ${more} more problem${more === 1 ? "" : "s"})`
+        : problems[0].message,
+    );
     this.name = "IntakeError";
     this.status = status;
     this.problems = problems.slice(0, MAX_PROBLEMS);

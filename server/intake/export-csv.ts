@@ -32,17 +32,27 @@ export function neutraliseCell(text: string): string {
 
 function field(cell: CsvCell, delimiter: string, missing: string): string {
   let text: string;
-  if (cell === null || cell === undefined || (typeof cell === "number" && Number.isNaN(cell))) text = missing;
+  if (cell === null || cell === undefined || (typeof cell === "number" && Number.isNaN(cell)))
+    text = missing;
   else if (typeof cell === "number") text = Number.isFinite(cell) ? String(cell) : missing;
   else text = neutraliseCell(cell);
-  if (text.includes(delimiter) || text.includes('"') || text.includes("\n") || text.includes("\r")) {
+  if (
+    text.includes(delimiter) ||
+    text.includes('"') ||
+    text.includes("\n") ||
+    text.includes("\r")
+  ) {
     return `"${text.replace(/"/g, '""')}"`;
   }
   return text;
 }
 
 /** The header and rows as CSV text (CRLF line ends, a final CRLF). */
-export function toCsv(header: readonly string[], rows: readonly (readonly CsvCell[])[], options: CsvOptions = {}): string {
+export function toCsv(
+  header: readonly string[],
+  rows: readonly (readonly CsvCell[])[],
+  options: CsvOptions = {},
+): string {
   const d = options.delimiter ?? ",";
   const missing = options.missing ?? "n/a";
   const lines = [header.map((h) => field(h, d, missing)).join(d)];

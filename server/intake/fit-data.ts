@@ -52,7 +52,11 @@ export function buildFitData(
     participants = brainIds;
     sheetIds = brainIds;
   } else {
-    roster = joinRoster(brainIds, sheet.ids, { mappings: options.mappings, brainFile: brain.file, sheetFile: sheet.file });
+    roster = joinRoster(brainIds, sheet.ids, {
+      mappings: options.mappings,
+      brainFile: brain.file,
+      sheetFile: sheet.file,
+    });
     if (roster.matched.length === 0) {
       throw new IntakeError(422, [
         problem(
@@ -81,7 +85,11 @@ export function buildFitData(
     }
   } else if (options.session !== undefined) {
     throw new IntakeError(422, [
-      problem(brain.file, "unknown_session", `session ${quoteCell(options.session)} asked for, but the brain table has no session column`),
+      problem(
+        brain.file,
+        "unknown_session",
+        `session ${quoteCell(options.session)} asked for, but the brain table has no session column`,
+      ),
     ]);
   }
 
@@ -113,7 +121,8 @@ export function buildFitData(
     numericColumns: {},
     categoricalColumns: {},
   };
-  if (hasSe) data.standardErrors = brain.standardErrors.map((s) => (s === null ? null : pick(s, chosen)));
+  if (hasSe)
+    data.standardErrors = brain.standardErrors.map((s) => (s === null ? null : pick(s, chosen)));
   if (labels.length > 0) {
     data.sessions = { labels, values: brain.values.map((v) => labels.map((_, s) => pick(v, s))) };
   }

@@ -23,7 +23,13 @@ import { isMissing } from "./cells";
 import { profileColumn } from "./columns";
 import type { RawTable } from "./read-table";
 
-export type IdentifierKind = "name" | "birth-date" | "address" | "phone" | "email" | "record-number";
+export type IdentifierKind =
+  | "name"
+  | "birth-date"
+  | "address"
+  | "phone"
+  | "email"
+  | "record-number";
 
 export interface IdentifierFlag {
   column: string;
@@ -52,8 +58,26 @@ export function headerWords(header: string): string[] {
 }
 
 const NAME_QUALIFIERS = new Set([
-  "first", "last", "full", "given", "family", "middle", "maiden", "patient", "participant", "subject",
-  "person", "child", "parent", "mother", "father", "guardian", "contact", "sur", "fore", "pt",
+  "first",
+  "last",
+  "full",
+  "given",
+  "family",
+  "middle",
+  "maiden",
+  "patient",
+  "participant",
+  "subject",
+  "person",
+  "child",
+  "parent",
+  "mother",
+  "father",
+  "guardian",
+  "contact",
+  "sur",
+  "fore",
+  "pt",
 ]);
 
 /** The identifier kind suggested by the header words, or null. */
@@ -63,37 +87,73 @@ export function identifierKindFromHeader(header: string): IdentifierKind | null 
   const has = (w: string) => words.includes(w);
   const hasPair = (a: string, b: string) => words.some((w, i) => w === a && words[i + 1] === b);
 
-  if (has("email") || hasPair("e", "mail") || joined === "mail" || has("emailaddress")) return "email";
+  if (has("email") || hasPair("e", "mail") || joined === "mail" || has("emailaddress"))
+    return "email";
   if (
-    has("phone") || has("telephone") || has("mobile") || has("cellphone") || has("tel") || has("fax") ||
-    has("phonenumber") || hasPair("cell", "phone")
+    has("phone") ||
+    has("telephone") ||
+    has("mobile") ||
+    has("cellphone") ||
+    has("tel") ||
+    has("fax") ||
+    has("phonenumber") ||
+    hasPair("cell", "phone")
   ) {
     return "phone";
   }
   if (
-    has("dob") || has("birthdate") || has("birthday") || has("geburtsdatum") ||
+    has("dob") ||
+    has("birthdate") ||
+    has("birthday") ||
+    has("geburtsdatum") ||
     (has("birth") && (has("date") || has("day") || has("of")))
   ) {
     return "birth-date";
   }
   if (
-    has("address") || has("street") || has("postcode") || has("zipcode") || has("zip") ||
-    hasPair("postal", "code") || has("postalcode") || has("streetaddress")
+    has("address") ||
+    has("street") ||
+    has("postcode") ||
+    has("zipcode") ||
+    has("zip") ||
+    hasPair("postal", "code") ||
+    has("postalcode") ||
+    has("streetaddress")
   ) {
     return "address";
   }
   if (
-    has("mrn") || has("nhs") || has("ssn") || has("passport") || hasPair("medical", "record") ||
-    hasPair("record", "number") || hasPair("record", "no") || hasPair("hospital", "number") ||
-    hasPair("hospital", "id") || hasPair("social", "security") || hasPair("insurance", "number") ||
-    hasPair("national", "id") || hasPair("health", "number") || hasPair("chart", "number") ||
-    hasPair("patient", "number") || has("medicalrecord") || has("recordnumber")
+    has("mrn") ||
+    has("nhs") ||
+    has("ssn") ||
+    has("passport") ||
+    hasPair("medical", "record") ||
+    hasPair("record", "number") ||
+    hasPair("record", "no") ||
+    hasPair("hospital", "number") ||
+    hasPair("hospital", "id") ||
+    hasPair("social", "security") ||
+    hasPair("insurance", "number") ||
+    hasPair("national", "id") ||
+    hasPair("health", "number") ||
+    hasPair("chart", "number") ||
+    hasPair("patient", "number") ||
+    has("medicalrecord") ||
+    has("recordnumber")
   ) {
     return "record-number";
   }
   if (
-    has("surname") || has("forename") || has("firstname") || has("lastname") || has("fullname") ||
-    has("givenname") || has("familyname") || has("middlename") || has("maidenname") || has("initials") ||
+    has("surname") ||
+    has("forename") ||
+    has("firstname") ||
+    has("lastname") ||
+    has("fullname") ||
+    has("givenname") ||
+    has("familyname") ||
+    has("middlename") ||
+    has("maidenname") ||
+    has("initials") ||
     (words.length === 1 && words[0] === "name") ||
     words.some((w, i) => w === "name" && i > 0 && NAME_QUALIFIERS.has(words[i - 1]))
   ) {
@@ -121,7 +181,9 @@ function looksLikePhone(v: string): boolean {
 const SAMPLE = 200;
 
 /** The identifier kind suggested by a column's cells, with the share that matched, or null. */
-export function identifierKindFromCells(cells: readonly string[]): { kind: IdentifierKind; share: number } | null {
+export function identifierKindFromCells(
+  cells: readonly string[],
+): { kind: IdentifierKind; share: number } | null {
   const sample: string[] = [];
   for (const c of cells) {
     if (!isMissing(c)) sample.push(c.trim());
@@ -138,7 +200,8 @@ export function identifierKindFromCells(cells: readonly string[]): { kind: Ident
   const distinct = new Set(sample).size / sample.length;
   if (distinct >= 0.8) checks.push(["name", share((v) => PERSON_NAME.test(v))]);
   let best: { kind: IdentifierKind; share: number } | null = null;
-  for (const [kind, s] of checks) if (s >= 0.5 && (best === null || s > best.share)) best = { kind, share: s };
+  for (const [kind, s] of checks)
+    if (s >= 0.5 && (best === null || s > best.share)) best = { kind, share: s };
   return best;
 }
 
@@ -152,7 +215,11 @@ export function findIdentifierColumns(table: RawTable): IdentifierFlag[] {
   table.header.forEach((name, j) => {
     const byHeader = identifierKindFromHeader(name);
     if (byHeader) {
-      flags.push({ column: name, kind: byHeader, reason: `the column name suggests ${KIND_WORDS[byHeader]}` });
+      flags.push({
+        column: name,
+        kind: byHeader,
+        reason: `the column name suggests ${KIND_WORDS[byHeader]}`,
+      });
       return;
     }
     // A column of numbers and missing markers only cannot hold names, dates, addresses or e-mails.
@@ -166,8 +233,15 @@ export function findIdentifierColumns(table: RawTable): IdentifierFlag[] {
     const byCells = identifierKindFromCells(cells);
     if (byCells) {
       const pct = Math.round(byCells.share * 100);
-      const what = byCells.kind === "birth-date" ? "full dates (a birth date is a direct identifier)" : KIND_WORDS[byCells.kind];
-      flags.push({ column: name, kind: byCells.kind, reason: `${pct}% of the values look like ${what}` });
+      const what =
+        byCells.kind === "birth-date"
+          ? "full dates (a birth date is a direct identifier)"
+          : KIND_WORDS[byCells.kind];
+      flags.push({
+        column: name,
+        kind: byCells.kind,
+        reason: `${pct}% of the values look like ${what}`,
+      });
     }
   });
   return flags;

@@ -13,7 +13,13 @@
  */
 import { IntakeError, ProblemList, problem, type Problem } from "./errors";
 import { notANumberText, parseCategoryCell, parseNumberCell, quoteCell } from "./cells";
-import { findColumn, profileColumn, resolveIdColumn, unknownColumnError, type ColumnProfile } from "./columns";
+import {
+  findColumn,
+  profileColumn,
+  resolveIdColumn,
+  unknownColumnError,
+  type ColumnProfile,
+} from "./columns";
 import type { RawTable } from "./read-table";
 import { normaliseId, sameParticipantText } from "./roster";
 
@@ -61,7 +67,10 @@ export interface SheetAnalysis {
 }
 
 /** Builds a participant sheet or throws IntakeError (422) with every problem found. */
-export function buildParticipantSheet(raw: RawTable, options: ParticipantSheetOptions = {}): ParticipantSheet {
+export function buildParticipantSheet(
+  raw: RawTable,
+  options: ParticipantSheetOptions = {},
+): ParticipantSheet {
   const a = analyseParticipantSheet(raw, options);
   if (a.sheet === null) throw new IntakeError(422, a.problems, a.problemCount);
   return a.sheet;
@@ -72,7 +81,10 @@ export function buildParticipantSheet(raw: RawTable, options: ParticipantSheetOp
  * throwing (for previews). Throws IntakeError (422) when a column the caller
  * named does not exist or the id column is dropped.
  */
-export function analyseParticipantSheet(raw: RawTable, options: ParticipantSheetOptions = {}): SheetAnalysis {
+export function analyseParticipantSheet(
+  raw: RawTable,
+  options: ParticipantSheetOptions = {},
+): SheetAnalysis {
   const file = raw.file;
   const id = resolveIdColumn(raw, options.idColumn);
   const dropped = new Set<number>();
@@ -81,7 +93,9 @@ export function analyseParticipantSheet(raw: RawTable, options: ParticipantSheet
     if (j < 0) throw unknownColumnError(raw, name, "asked to drop");
     if (j === id.index) {
       throw new IntakeError(422, [
-        problem(file, "drop_id_column", "the participant id column cannot be dropped", { column: id.name }),
+        problem(file, "drop_id_column", "the participant id column cannot be dropped", {
+          column: id.name,
+        }),
       ]);
     }
     dropped.add(j);
@@ -92,7 +106,12 @@ export function analyseParticipantSheet(raw: RawTable, options: ParticipantSheet
     if (j < 0) throw unknownColumnError(raw, name, "given a type");
     if (type !== "number" && type !== "category") {
       throw new IntakeError(422, [
-        problem(file, "bad_type", `unknown column type ${quoteCell(String(type))}; expected "number" or "category"`, { column: name }),
+        problem(
+          file,
+          "bad_type",
+          `unknown column type ${quoteCell(String(type))}; expected "number" or "category"`,
+          { column: name },
+        ),
       ]);
     }
     if (j !== id.index) types.set(j, type);
@@ -102,7 +121,8 @@ export function analyseParticipantSheet(raw: RawTable, options: ParticipantSheet
   const plans: SheetColumnPlan[] = raw.header.map((name, j) => {
     const profile = profileColumn(raw, j);
     if (j === id.index) return { name, role: "id", type: "id", profile };
-    if (dropped.has(j)) return { name, role: "dropped", type: types.get(j) ?? profile.type, profile };
+    if (dropped.has(j))
+      return { name, role: "dropped", type: types.get(j) ?? profile.type, profile };
     return { name, role: "variable", type: types.get(j) ?? profile.type, profile };
   });
 
@@ -114,7 +134,12 @@ export function analyseParticipantSheet(raw: RawTable, options: ParticipantSheet
     const rowNumber = raw.rowNumbers[i];
     const pid = parseCategoryCell(row[id.index]);
     if (pid === null) {
-      problems.add(problem(file, "missing_id", "the participant id is missing", { row: rowNumber, column: id.name }));
+      problems.add(
+        problem(file, "missing_id", "the participant id is missing", {
+          row: rowNumber,
+          column: id.name,
+        }),
+      );
       return;
     }
     const key = normaliseId(pid);
@@ -145,22 +170,32 @@ export function analyseParticipantSheet(raw: RawTable, options: ParticipantSheet
         const x = parseNumberCell(row[j]);
         if (x === undefined) {
           problems.add(
-            problem(file, "not_a_number", `${notANumberText(row[j])}; or type the column as a category`, {
-              row: raw.rowNumbers[i],
-              column: plan.name,
-            }),
+            problem(
+              file,
+              "not_a_number",
+              `${notANumberText(row[j])}; or type the column as a category`,
+              {
+                row: raw.rowNumbers[i],
+                column: plan.name,
+              },
+            ),
           );
           values.push(null);
         } else values.push(x);
       });
       columns.push({ name: plan.name, type: "number", values });
     } else {
-      columns.push({ name: plan.name, type: "category", values: raw.rows.map((row) => parseCategoryCell(row[j])) });
+      columns.push({
+        name: plan.name,
+        type: "category",
+        values: raw.rows.map((row) => parseCategoryCell(row[j])),
+      });
     }
   }
 
   const common = { idColumn: id.name, idColumnGuessed: id.guessed, columns: plans };
-  if (problems.count > 0) return { sheet: null, ...common, problems: problems.list, problemCount: problems.count };
+  if (problems.count > 0)
+    return { sheet: null, ...common, problems: problems.list, problemCount: problems.count };
   raw.rows.forEach((row, i) => {
     ids.push(row[id.index].trim());
     rows.push(raw.rowNumbers[i]);

@@ -12,12 +12,24 @@
  * Cost: O(rows × columns).
  */
 import { IntakeError, ProblemList, problem, type Problem } from "./errors";
-import { type BrainLayout, type BrainTable, analyseBrainTable, brainParticipantIds, brainSessions } from "./brain-table";
+import {
+  type BrainLayout,
+  type BrainTable,
+  analyseBrainTable,
+  brainParticipantIds,
+  brainSessions,
+} from "./brain-table";
 import type { ColumnProfile, ColumnType } from "./columns";
 import { findColumn, unknownColumnError } from "./columns";
 import { type IdentifierFlag, type IdentifierKind, findIdentifierColumns } from "./identifiers";
 import { type ParticipantSheet, analyseParticipantSheet } from "./participant-sheet";
-import { type Delimiter, type RawTable, type ReadOptions, delimiterName, readTable } from "./read-table";
+import {
+  type Delimiter,
+  type RawTable,
+  type ReadOptions,
+  delimiterName,
+  readTable,
+} from "./read-table";
 
 export type TableKind = "brain" | "participants";
 
@@ -115,7 +127,11 @@ function countDistinctIds(raw: RawTable, idColumn: string): number {
 }
 
 /** The preview of `raw` read as `kind`. Throws IntakeError (422) only for a named column that does not exist. */
-export function previewTable(raw: RawTable, kind: TableKind, options: PreviewOptions = {}): TablePreview {
+export function previewTable(
+  raw: RawTable,
+  kind: TableKind,
+  options: PreviewOptions = {},
+): TablePreview {
   const identifiers = findIdentifierColumns(raw);
   const flagOf = new Map(identifiers.map((f) => [f.column, f]));
   const common = {
@@ -125,7 +141,9 @@ export function previewTable(raw: RawTable, kind: TableKind, options: PreviewOpt
     delimiterName: delimiterName(raw.delimiter),
     rowCount: raw.rows.length,
     columnCount: raw.header.length,
-    rows: raw.rows.slice(0, PREVIEW_ROWS).map((cells, i) => ({ row: raw.rowNumbers[i], cells: [...cells] })),
+    rows: raw.rows
+      .slice(0, PREVIEW_ROWS)
+      .map((cells, i) => ({ row: raw.rowNumbers[i], cells: [...cells] })),
     identifierColumns: identifiers,
   };
   const withFlag = (c: ColumnPreview): ColumnPreview => {
@@ -157,7 +175,9 @@ export function previewTable(raw: RawTable, kind: TableKind, options: PreviewOpt
       layout: a.plan.layout,
       regions: [...a.plan.regions],
       sessions: a.draft ? brainSessions(a.draft) : [],
-      participants: a.draft ? brainParticipantIds(a.draft).length : countDistinctIds(raw, a.plan.idColumn),
+      participants: a.draft
+        ? brainParticipantIds(a.draft).length
+        : countDistinctIds(raw, a.plan.idColumn),
       columns,
       problems: [...a.problems],
       problemCount: a.problemCount,
@@ -193,12 +213,19 @@ const PREVIEWABLE: Record<TableKind, ReadonlySet<string>> = {
  * (400 unreadable, 413 too large, 422 a problem no decision at
  * confirmation can resolve, every such problem listed).
  */
-export function previewUpload(bytes: Uint8Array | string, file: string, kind: TableKind, options: PreviewOptions = {}, read: ReadOptions = {}): TablePreview {
+export function previewUpload(
+  bytes: Uint8Array | string,
+  file: string,
+  kind: TableKind,
+  options: PreviewOptions = {},
+  read: ReadOptions = {},
+): TablePreview {
   const preview = previewTable(readTable(bytes, file, read), kind, options);
   const previewable = PREVIEWABLE[kind];
   const blocking = preview.problems.filter((p) => !previewable.has(p.code));
   if (blocking.length > 0) {
-    const total = blocking.length === preview.problems.length ? preview.problemCount : blocking.length;
+    const total =
+      blocking.length === preview.problems.length ? preview.problemCount : blocking.length;
     throw new IntakeError(422, blocking, total);
   }
   return preview;
@@ -209,7 +236,11 @@ export function previewUpload(bytes: Uint8Array | string, file: string, kind: Ta
  * IntakeError (422) naming each identifier column left undecided, each
  * named column that does not exist, and every remaining cell problem.
  */
-export function confirmTable(raw: RawTable, kind: TableKind, confirmation: Confirmation = {}): ConfirmedTable {
+export function confirmTable(
+  raw: RawTable,
+  kind: TableKind,
+  confirmation: Confirmation = {},
+): ConfirmedTable {
   const drop = confirmation.dropColumns ?? [];
   for (const name of [...drop, ...Object.keys(confirmation.identifierReasons ?? {})]) {
     if (findColumn(raw, name) < 0) throw unknownColumnError(raw, name, "named at confirmation");
@@ -225,7 +256,12 @@ export function confirmTable(raw: RawTable, kind: TableKind, confirmation: Confi
     if (dropped.has(flag.column)) {
       decisions.push({ column: flag.column, kind: flag.kind, decision: "dropped" });
     } else if ((reasons.get(flag.column) ?? "") !== "") {
-      decisions.push({ column: flag.column, kind: flag.kind, decision: "kept", reason: reasons.get(flag.column) });
+      decisions.push({
+        column: flag.column,
+        kind: flag.kind,
+        decision: "kept",
+        reason: reasons.get(flag.column),
+      });
     } else {
       undecided.add(
         problem(
@@ -251,7 +287,11 @@ export function confirmTable(raw: RawTable, kind: TableKind, confirmation: Confi
     if (a.table === null) throw new IntakeError(422, a.problems, a.problemCount);
     return { kind, brain: a.table, identifierDecisions: decisions };
   }
-  const a = analyseParticipantSheet(raw, { idColumn: confirmation.idColumn, dropColumns: drop, types: confirmation.types });
+  const a = analyseParticipantSheet(raw, {
+    idColumn: confirmation.idColumn,
+    dropColumns: drop,
+    types: confirmation.types,
+  });
   if (a.sheet === null) throw new IntakeError(422, a.problems, a.problemCount);
   return { kind, sheet: a.sheet, identifierDecisions: decisions };
 }

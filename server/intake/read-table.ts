@@ -56,13 +56,22 @@ export function delimiterName(d: Delimiter): string {
  * table. Throws `IntakeError` (400 / 413) naming `file`, and the row and
  * column where it applies.
  */
-export function readTable(input: Uint8Array | string, file: string, options: ReadOptions = {}): RawTable {
+export function readTable(
+  input: Uint8Array | string,
+  file: string,
+  options: ReadOptions = {},
+): RawTable {
   const maxBytes = options.maxBytes ?? DEFAULT_MAX_BYTES;
   const maxColumns = options.maxColumns ?? DEFAULT_MAX_COLUMNS;
-  const byteLength = typeof input === "string" ? Buffer.byteLength(input, "utf8") : input.byteLength;
+  const byteLength =
+    typeof input === "string" ? Buffer.byteLength(input, "utf8") : input.byteLength;
   if (byteLength > maxBytes) {
     throw new IntakeError(413, [
-      problem(file, "too_large", `the file has ${formatBytes(byteLength)}; the limit is ${formatBytes(maxBytes)}`),
+      problem(
+        file,
+        "too_large",
+        `the file has ${formatBytes(byteLength)}; the limit is ${formatBytes(maxBytes)}`,
+      ),
     ]);
   }
 
@@ -71,18 +80,32 @@ export function readTable(input: Uint8Array | string, file: string, options: Rea
   const nul = text.indexOf("\u0000");
   if (nul >= 0) {
     throw new IntakeError(400, [
-      problem(file, "binary_file", "contains NUL bytes: this is a binary file, not CSV or TSV text", {
-        row: lineOf(text, nul),
-      }),
+      problem(
+        file,
+        "binary_file",
+        "contains NUL bytes: this is a binary file, not CSV or TSV text",
+        {
+          row: lineOf(text, nul),
+        },
+      ),
     ]);
   }
   if (text.trim() === "") {
-    throw new IntakeError(400, [problem(file, "empty_file", "the file is empty; expected a header row and data rows")]);
+    throw new IntakeError(400, [
+      problem(file, "empty_file", "the file is empty; expected a header row and data rows"),
+    ]);
   }
 
   const delimiter = detectDelimiter(text, file);
-  const parsed = Papa.parse<string[]>(text, { delimiter, quoteChar: '"', escapeChar: '"', skipEmptyLines: false });
-  const quoteError = parsed.errors.find((e) => e.code === "MissingQuotes" || e.code === "InvalidQuotes");
+  const parsed = Papa.parse<string[]>(text, {
+    delimiter,
+    quoteChar: '"',
+    escapeChar: '"',
+    skipEmptyLines: false,
+  });
+  const quoteError = parsed.errors.find(
+    (e) => e.code === "MissingQuotes" || e.code === "InvalidQuotes",
+  );
   if (quoteError) {
     const row = (quoteError.row ?? 0) + 1;
     const text =
@@ -96,20 +119,32 @@ export function readTable(input: Uint8Array | string, file: string, options: Rea
   let headerIndex = 0;
   while (headerIndex < records.length && isBlank(records[headerIndex])) headerIndex += 1;
   if (headerIndex >= records.length) {
-    throw new IntakeError(400, [problem(file, "empty_file", "the file is empty; expected a header row and data rows")]);
+    throw new IntakeError(400, [
+      problem(file, "empty_file", "the file is empty; expected a header row and data rows"),
+    ]);
   }
   if (headerIndex > 0) {
     throw new IntakeError(400, [
-      problem(file, "blank_header", "the header must be the first row; the file starts with blank rows", { row: 1 }),
+      problem(
+        file,
+        "blank_header",
+        "the header must be the first row; the file starts with blank rows",
+        { row: 1 },
+      ),
     ]);
   }
 
   const header = records[0].map((h) => h.trim());
   if (header.length > maxColumns) {
     throw new IntakeError(413, [
-      problem(file, "too_many_columns", `the header has ${header.length} columns; the limit is ${maxColumns}`, {
-        row: 1,
-      }),
+      problem(
+        file,
+        "too_many_columns",
+        `the header has ${header.length} columns; the limit is ${maxColumns}`,
+        {
+          row: 1,
+        },
+      ),
     ]);
   }
   const headerProblems = new ProblemList();
@@ -117,9 +152,14 @@ export function readTable(input: Uint8Array | string, file: string, options: Rea
   header.forEach((name, j) => {
     if (name === "") {
       headerProblems.add(
-        problem(file, "empty_header", `column ${j + 1} has no name; every column needs a name in the header`, {
-          row: 1,
-        }),
+        problem(
+          file,
+          "empty_header",
+          `column ${j + 1} has no name; every column needs a name in the header`,
+          {
+            row: 1,
+          },
+        ),
       );
       return;
     }
@@ -188,10 +228,14 @@ const fatalDecoder = new TextDecoder("utf-8", { fatal: true, ignoreBOM: true });
 function decodeUtf8(bytes: Uint8Array, file: string): string {
   const binary = (text: string) => new IntakeError(400, [problem(file, "binary_file", text)]);
   if (startsWith(bytes, ZIP_MAGIC) || startsWith(bytes, ZIP_EMPTY_MAGIC)) {
-    throw binary("is a zip archive (such as an .xlsx or .ods spreadsheet), not CSV or TSV text; export it as CSV (UTF-8)");
+    throw binary(
+      "is a zip archive (such as an .xlsx or .ods spreadsheet), not CSV or TSV text; export it as CSV (UTF-8)",
+    );
   }
   if (startsWith(bytes, OLE2_MAGIC)) {
-    throw binary("is a legacy binary spreadsheet (such as .xls), not CSV or TSV text; export it as CSV (UTF-8)");
+    throw binary(
+      "is a legacy binary spreadsheet (such as .xls), not CSV or TSV text; export it as CSV (UTF-8)",
+    );
   }
   if (startsWith(bytes, GZIP_MAGIC)) throw binary("is a gzip-compressed file; decompress it first");
   if (startsWith(bytes, PDF_MAGIC)) throw binary("is a PDF document, not CSV or TSV text");
@@ -203,9 +247,14 @@ function decodeUtf8(bytes: Uint8Array, file: string): string {
   const nul = bytes.indexOf(0);
   if (nul >= 0) {
     throw new IntakeError(400, [
-      problem(file, "binary_file", "contains NUL bytes: this is a binary file, not CSV or TSV text", {
-        row: lineOfByte(bytes, nul),
-      }),
+      problem(
+        file,
+        "binary_file",
+        "contains NUL bytes: this is a binary file, not CSV or TSV text",
+        {
+          row: lineOfByte(bytes, nul),
+        },
+      ),
     ]);
   }
   try {
@@ -307,7 +356,8 @@ function detectDelimiter(text: string, file: string): Delimiter {
     else if (ch === 0x3b) counts[2] += 1;
     else if (ch !== 0x20) nonBlank = true;
   }
-  if ((nonBlank || perRecord.length === 0) && perRecord.length < SAMPLE_RECORDS) perRecord.push(counts);
+  if ((nonBlank || perRecord.length === 0) && perRecord.length < SAMPLE_RECORDS)
+    perRecord.push(counts);
 
   const header = perRecord[0];
   let best = -1;

@@ -76,7 +76,12 @@ export function normaliseId(id: string): string {
  * written the same (the join could not tell which one a row of the other
  * file belongs to).
  */
-export function sameParticipantText(id: string, firstId: string, firstRow: number, where: { session?: string | null; region?: string } = {}): string {
+export function sameParticipantText(
+  id: string,
+  firstId: string,
+  firstRow: number,
+  where: { session?: string | null; region?: string } = {},
+): string {
   const session = where.session != null ? ` in session ${quoteCell(where.session)}` : "";
   const region = where.region !== undefined ? ` (both have region ${quoteCell(where.region)})` : "";
   return `participant ${quoteCell(id)}${session} is the same participant as ${quoteCell(firstId)} at row ${firstRow}${region}: ids are matched ignoring spaces around them, upper and lower case, and a leading "sub-"`;
@@ -87,7 +92,11 @@ export function sameParticipantText(id: string, firstId: string, firstRow: numbe
  * participant sheet. Throws IntakeError (422) when a mapping names an id
  * that is not in its file or maps an id twice.
  */
-export function joinRoster(brainIds: readonly string[], sheetIds: readonly string[], options: JoinOptions = {}): Roster {
+export function joinRoster(
+  brainIds: readonly string[],
+  sheetIds: readonly string[],
+  options: JoinOptions = {},
+): Roster {
   const brainFile = options.brainFile ?? "brain table";
   const sheetFile = options.sheetFile ?? "participant sheet";
   const brainSet = new Set(brainIds);
@@ -98,13 +107,37 @@ export function joinRoster(brainIds: readonly string[], sheetIds: readonly strin
   for (const m of options.mappings ?? []) {
     const label = `mapping ${quoteCell(m.brainId)} → ${quoteCell(m.sheetId)}`;
     if (!brainSet.has(m.brainId)) {
-      bad.add(problem(brainFile, "unknown_mapping_id", `${label}: the brain table has no participant ${quoteCell(m.brainId)}`));
+      bad.add(
+        problem(
+          brainFile,
+          "unknown_mapping_id",
+          `${label}: the brain table has no participant ${quoteCell(m.brainId)}`,
+        ),
+      );
     } else if (!sheetSet.has(m.sheetId)) {
-      bad.add(problem(sheetFile, "unknown_mapping_id", `${label}: the participant sheet has no participant ${quoteCell(m.sheetId)}`));
+      bad.add(
+        problem(
+          sheetFile,
+          "unknown_mapping_id",
+          `${label}: the participant sheet has no participant ${quoteCell(m.sheetId)}`,
+        ),
+      );
     } else if (mappedBrain.has(m.brainId)) {
-      bad.add(problem(brainFile, "mapping_twice", `${label}: participant ${quoteCell(m.brainId)} is already mapped`));
+      bad.add(
+        problem(
+          brainFile,
+          "mapping_twice",
+          `${label}: participant ${quoteCell(m.brainId)} is already mapped`,
+        ),
+      );
     } else if (mappedSheet.has(m.sheetId)) {
-      bad.add(problem(sheetFile, "mapping_twice", `${label}: participant ${quoteCell(m.sheetId)} is already mapped to`));
+      bad.add(
+        problem(
+          sheetFile,
+          "mapping_twice",
+          `${label}: participant ${quoteCell(m.sheetId)} is already mapped to`,
+        ),
+      );
     } else {
       mappedBrain.set(m.brainId, m.sheetId);
       mappedSheet.add(m.sheetId);
@@ -113,7 +146,11 @@ export function joinRoster(brainIds: readonly string[], sheetIds: readonly strin
   bad.throwIfAny(422);
 
   const duplicates: RosterDuplicate[] = [];
-  const collisions = (ids: readonly string[], source: RosterDuplicate["source"], file: string): Set<string> => {
+  const collisions = (
+    ids: readonly string[],
+    source: RosterDuplicate["source"],
+    file: string,
+  ): Set<string> => {
     const byKey = new Map<string, string[]>();
     for (const id of ids) {
       const k = normaliseId(id);
@@ -135,7 +172,8 @@ export function joinRoster(brainIds: readonly string[], sheetIds: readonly strin
 
   const sheetUsed = new Set<string>(mappedSheet);
   const match = new Map<string, RosterMatch>();
-  for (const [brainId, sheetId] of mappedBrain) match.set(brainId, { brainId, sheetId, via: "mapping" });
+  for (const [brainId, sheetId] of mappedBrain)
+    match.set(brainId, { brainId, sheetId, via: "mapping" });
   for (const id of brainIds) {
     if (match.has(id) || !sheetSet.has(id) || sheetUsed.has(id)) continue;
     match.set(id, { brainId: id, sheetId: id, via: "identical" });
@@ -162,7 +200,10 @@ export function joinRoster(brainIds: readonly string[], sheetIds: readonly strin
   const onlyInParticipantSheet = sheetIds.filter((id) => !sheetUsed.has(id));
   const nearMisses = findNearMisses(onlyInBrainTable, onlyInParticipantSheet);
   const n = mappedBrain.size;
-  const rule = n > 0 ? `${ROSTER_RULE} ${n} confirmed mapping${n === 1 ? " was" : "s were"} applied.` : ROSTER_RULE;
+  const rule =
+    n > 0
+      ? `${ROSTER_RULE} ${n} confirmed mapping${n === 1 ? " was" : "s were"} applied.`
+      : ROSTER_RULE;
   return { rule, matched, onlyInBrainTable, onlyInParticipantSheet, duplicates, nearMisses };
 }
 
@@ -174,7 +215,10 @@ export const MAX_NEAR_MISSES = 1000;
  * differently. Each brain id and each sheet id appears in at most one pair
  * of each reason; the first reason found wins for a pair.
  */
-export function findNearMisses(brainIds: readonly string[], sheetIds: readonly string[]): NearMiss[] {
+export function findNearMisses(
+  brainIds: readonly string[],
+  sheetIds: readonly string[],
+): NearMiss[] {
   const out: NearMiss[] = [];
   const paired = new Set<string>();
   const add = (brainId: string, sheetId: string, reason: string) => {
@@ -193,10 +237,12 @@ export function findNearMisses(brainIds: readonly string[], sheetIds: readonly s
     }
     return m;
   };
-  const zerosKey = (id: string) => normaliseId(id).replace(/\d+/g, (d) => d.replace(/^0+(?=\d)/, ""));
+  const zerosKey = (id: string) =>
+    normaliseId(id).replace(/\d+/g, (d) => d.replace(/^0+(?=\d)/, ""));
   const sheetZeros = byKey(sheetIds, zerosKey);
   for (const b of brainIds) {
-    for (const s of sheetZeros.get(zerosKey(b)) ?? []) add(b, s, "same number written with different leading zeros");
+    for (const s of sheetZeros.get(zerosKey(b)) ?? [])
+      add(b, s, "same number written with different leading zeros");
   }
   const punctKey = (id: string) => normaliseId(id).replace(/[^\p{L}\p{N}]/gu, "");
   const sheetPunct = byKey(sheetIds, punctKey);
@@ -258,7 +304,12 @@ export function oneEditApart(a: string, b: string): string | null {
       }
     }
     if (diffs === 1) return "differs by one character";
-    if (diffs === 2 && a[first] === b[first + 1] && a[first + 1] === b[first] && first + 1 < a.length) {
+    if (
+      diffs === 2 &&
+      a[first] === b[first + 1] &&
+      a[first + 1] === b[first] &&
+      first + 1 < a.length
+    ) {
       return "two neighbouring characters swapped";
     }
     return null;

@@ -75,7 +75,8 @@ export interface FitJobsOptions {
   warm?: boolean;
 }
 
-export const INTERNAL_FAILURE = "The fit stopped because of an internal error on the server. It has been logged.";
+export const INTERNAL_FAILURE =
+  "The fit stopped because of an internal error on the server. It has been logged.";
 
 const terminal: readonly FitStatus[] = ["done", "failed", "cancelled"];
 
@@ -115,7 +116,8 @@ export class FitJobs {
   constructor(options: FitJobsOptions) {
     this.db = options.db;
     this.threads = options.threads ?? defaultFitThreads();
-    if (!(Number.isInteger(this.threads) && this.threads >= 1)) throw new Error(`FitJobs: threads must be a positive whole number (got ${this.threads})`);
+    if (!(Number.isInteger(this.threads) && this.threads >= 1))
+      throw new Error(`FitJobs: threads must be a positive whole number (got ${this.threads})`);
     this.clock = options.clock ?? (() => new Date());
     this.log = options.log ?? ((error, context) => console.error(`[covarion] ${context}:`, error));
     this.progressWriteMs = options.progressWriteMs ?? 500;
@@ -177,7 +179,13 @@ export class FitJobs {
     if (!changed) return false;
     const run = this.running.get(fitId);
     run?.controller.abort(new Error("cancelled"));
-    this.emit({ type: "status", fitId, status: "cancelled", progress: run?.progress ?? { fraction: 0, secondsLeft: null }, error: null });
+    this.emit({
+      type: "status",
+      fitId,
+      status: "cancelled",
+      progress: run?.progress ?? { fraction: 0, secondsLeft: null },
+      error: null,
+    });
     return true;
   }
 
@@ -188,7 +196,14 @@ export class FitJobs {
   async recover(): Promise<string[]> {
     const rows = await this.db.transaction(async (tx) => {
       const left = await tx
-        .select({ id: fits.id, studyId: fits.studyId, status: fits.status, progress: fits.progress, startedAt: fits.startedAt, createdAt: fits.createdAt })
+        .select({
+          id: fits.id,
+          studyId: fits.studyId,
+          status: fits.status,
+          progress: fits.progress,
+          startedAt: fits.startedAt,
+          createdAt: fits.createdAt,
+        })
         .from(fits)
         .where(inArray(fits.status, ["queued", "running"]))
         .for("update");
@@ -196,7 +211,12 @@ export class FitJobs {
       await tx
         .update(fits)
         .set({ status: "queued", progress: 0, secondsLeft: null })
-        .where(inArray(fits.id, left.map((f) => f.id)));
+        .where(
+          inArray(
+            fits.id,
+            left.map((f) => f.id),
+          ),
+        );
       const at = this.clock();
       for (const fit of left) {
         await recordEvent(tx, {
@@ -215,7 +235,13 @@ export class FitJobs {
     rows.sort((a, b) => a.createdAt.getTime() - b.createdAt.getTime() || (a.id < b.id ? -1 : 1));
     for (const row of rows) {
       this.enqueue(row.id);
-      this.emit({ type: "status", fitId: row.id, status: "queued", progress: { fraction: 0, secondsLeft: null }, error: null });
+      this.emit({
+        type: "status",
+        fitId: row.id,
+        status: "queued",
+        progress: { fraction: 0, secondsLeft: null },
+        error: null,
+      });
     }
     return rows.map((r) => r.id);
   }
@@ -237,7 +263,11 @@ export class FitJobs {
 
   private getPool(): Piscina {
     if (!this.pool) {
-      this.pool = workerPool("fit-task.ts", { minThreads: this.warm ? this.threads : 0, maxThreads: this.threads, idleTimeout: this.warm ? Number.POSITIVE_INFINITY : 60_000 });
+      this.pool = workerPool("fit-task.ts", {
+        minThreads: this.warm ? this.threads : 0,
+        maxThreads: this.threads,
+        idleTimeout: this.warm ? Number.POSITIVE_INFINITY : 60_000,
+      });
     }
     return this.pool;
   }
@@ -263,9 +293,14 @@ export class FitJobs {
         spec = specOfRecipe(fit.recipe as Record<string, unknown>);
         data = await this.data.get(inputsOfFit(fit) as FitInputs);
       } catch (error) {
-        if (error instanceof IntakeError) return await this.fail(fitId, error.problems[0]?.code ?? "invalid_data", error.message);
+        if (error instanceof IntakeError)
+          return await this.fail(fitId, error.problems[0]?.code ?? "invalid_data", error.message);
         this.log(error, `fit ${fitId}: building its data`);
-        return await this.fail(fitId, "data_unavailable", "The fit's data versions could not be read.");
+        return await this.fail(
+          fitId,
+          "data_unavailable",
+          "The fit's data versions could not be read.",
+        );
       }
       if (run.controller.signal.aborted) return;
       // Rows left by an interrupted earlier run of the same fit are replaced.
@@ -275,7 +310,10 @@ export class FitJobs {
       const task: FitTask = { spec, data, port: channel.port2 };
       let outcome: FitTaskOutcome;
       try {
-        outcome = (await this.getPool().run(task, { transferList: [channel.port2], signal: run.controller.signal })) as FitTaskOutcome;
+        outcome = (await this.getPool().run(task, {
+          transferList: [channel.port2],
+          signal: run.controller.signal,
+        })) as FitTaskOutcome;
         if (outcome.ok) await run.stored;
       } catch (error) {
         channel.port1.close();
@@ -314,10 +352,16 @@ export class FitJobs {
       );
       return;
     }
-    void this.onProgress(fitId, run, message).catch((error) => this.log(error, `fit ${fitId}: progress`));
+    void this.onProgress(fitId, run, message).catch((error) =>
+      this.log(error, `fit ${fitId}: progress`),
+    );
   }
 
-  private async onProgress(fitId: string, run: Running, message: Extract<FitTaskMessage, { type: "started" | "progress" }>): Promise<void> {
+  private async onProgress(
+    fitId: string,
+    run: Running,
+    message: Extract<FitTaskMessage, { type: "started" | "progress" }>,
+  ): Promise<void> {
     const nowMs = this.clock().getTime();
     if (message.type === "started") {
       run.startedAt = nowMs;
@@ -326,7 +370,14 @@ export class FitJobs {
         .set({ status: "running", startedAt: firstStart(new Date(nowMs)), progress: 0 })
         .where(and(eq(fits.id, fitId), eq(fits.status, "queued")))
         .returning({ id: fits.id });
-      if (updated.length > 0) this.emit({ type: "status", fitId, status: "running", progress: run.progress, error: null });
+      if (updated.length > 0)
+        this.emit({
+          type: "status",
+          fitId,
+          status: "running",
+          progress: run.progress,
+          error: null,
+        });
       return;
     }
     const fraction = Math.min(1, Math.max(0, message.fraction));
@@ -346,11 +397,23 @@ export class FitJobs {
   private async fail(fitId: string, code: string, message: string): Promise<void> {
     const updated = await this.db
       .update(fits)
-      .set({ status: "failed", error: message, errorCode: code, secondsLeft: null, finishedAt: this.clock() })
+      .set({
+        status: "failed",
+        error: message,
+        errorCode: code,
+        secondsLeft: null,
+        finishedAt: this.clock(),
+      })
       .where(and(eq(fits.id, fitId), inArray(fits.status, ["queued", "running"])))
       .returning({ progress: fits.progress });
     if (updated.length > 0) {
-      this.emit({ type: "status", fitId, status: "failed", progress: { fraction: updated[0].progress, secondsLeft: null }, error: { code, message } });
+      this.emit({
+        type: "status",
+        fitId,
+        status: "failed",
+        progress: { fraction: updated[0].progress, secondsLeft: null },
+        error: { code, message },
+      });
     }
   }
 
@@ -362,17 +425,39 @@ export class FitJobs {
    * unless the fit was cancelled meanwhile, in which case its rows are
    * removed again.
    */
-  private async finish(fitId: string, run: Running, outcome: Extract<FitTaskOutcome, { ok: true }>): Promise<void> {
+  private async finish(
+    fitId: string,
+    run: Running,
+    outcome: Extract<FitTaskOutcome, { ok: true }>,
+  ): Promise<void> {
     const done = await this.db.transaction(async (tx) => {
-      const [row] = await tx.select({ status: fits.status }).from(fits).where(eq(fits.id, fitId)).for("update");
+      const [row] = await tx
+        .select({ status: fits.status })
+        .from(fits)
+        .where(eq(fits.id, fitId))
+        .for("update");
       if (!row || terminal.includes(row.status) || run.controller.signal.aborted) return false;
       await tx
         .update(fits)
-        .set({ status: "done", progress: 1, secondsLeft: 0, result: outcome.summary, finishedAt: this.clock(), startedAt: firstStart(new Date(run.startedAt ?? this.clock().getTime())) })
+        .set({
+          status: "done",
+          progress: 1,
+          secondsLeft: 0,
+          result: outcome.summary,
+          finishedAt: this.clock(),
+          startedAt: firstStart(new Date(run.startedAt ?? this.clock().getTime())),
+        })
         .where(eq(fits.id, fitId));
       return true;
     });
-    if (done) this.emit({ type: "status", fitId, status: "done", progress: { fraction: 1, secondsLeft: 0 }, error: null });
+    if (done)
+      this.emit({
+        type: "status",
+        fitId,
+        status: "done",
+        progress: { fraction: 1, secondsLeft: 0 },
+        error: null,
+      });
     else await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
   }
 }

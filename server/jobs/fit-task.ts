@@ -51,7 +51,9 @@ export type FitTaskMessage =
   | ({ type: "region" } & RegionRows)
   | { type: "regions-done"; count: number };
 
-export type FitTaskOutcome = { ok: true; summary: Omit<FitResult, "participants"> } | { ok: false; code: string; message: string };
+export type FitTaskOutcome =
+  | { ok: true; summary: Omit<FitResult, "participants"> }
+  | { ok: false; code: string; message: string };
 
 export default function runFitTask(task: FitTask): FitTaskOutcome {
   const { port } = task;
@@ -91,7 +93,13 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
           plot = { error: e.message };
         }
       }
-      post({ type: "region", position, region, participants: encodeRegionRows(rows), plot: plot === null ? null : JSON.stringify(plot) });
+      post({
+        type: "region",
+        position,
+        region,
+        participants: encodeRegionRows(rows),
+        plot: plot === null ? null : JSON.stringify(plot),
+      });
     });
     post({ type: "regions-done", count: result.regions.length });
     return { ok: true, summary };

@@ -15,7 +15,13 @@
 import { availableParallelism } from "node:os";
 import type { Piscina } from "piscina";
 import { workerPool } from "./worker-pool";
-import { type Confirmation, IntakeError, type PreviewOptions, type TableKind, type TablePreview } from "../intake";
+import {
+  type Confirmation,
+  IntakeError,
+  type PreviewOptions,
+  type TableKind,
+  type TablePreview,
+} from "../intake";
 import type { MappingFacts, RosterInput, RosterRequest } from "./intake-roster";
 import type { EncodedVersion } from "./intake-rows";
 import type { IntakeTask, IntakeTaskOutcome } from "./intake-task";
@@ -41,7 +47,12 @@ export class IntakeJobs {
    * Reads and previews an uploaded file, with its SHA-256. `bytes` should
    * be a view of shared memory (then it is not copied). Throws IntakeError.
    */
-  async preview(input: { bytes: Uint8Array; fileName: string; kind: TableKind; options: PreviewOptions }): Promise<{ preview: TablePreview; sha256: string }> {
+  async preview(input: {
+    bytes: Uint8Array;
+    fileName: string;
+    kind: TableKind;
+    options: PreviewOptions;
+  }): Promise<{ preview: TablePreview; sha256: string }> {
     const outcome = await this.run({ op: "preview", ...input });
     if (outcome.op !== "preview") throw new Error("intake task: unexpected answer");
     return { preview: outcome.preview, sha256: outcome.sha256 };
@@ -76,7 +87,11 @@ export class IntakeJobs {
 
   private async run(task: IntakeTask): Promise<Extract<IntakeTaskOutcome, { ok: true }>> {
     if (!this.pool) {
-      this.pool = workerPool("intake-task.ts", { minThreads: 0, maxThreads: this.threads, idleTimeout: this.idleTimeoutMs });
+      this.pool = workerPool("intake-task.ts", {
+        minThreads: 0,
+        maxThreads: this.threads,
+        idleTimeout: this.idleTimeoutMs,
+      });
     }
     const outcome = (await this.pool.run(task)) as IntakeTaskOutcome;
     if (!outcome.ok) throw new IntakeError(outcome.status, outcome.problems, outcome.problemCount);

@@ -152,7 +152,9 @@ function computed(input: RosterInput): Computed {
 }
 
 function compute(input: RosterInput): Computed {
-  const b: BrainParticipants = input.brain ? (JSON.parse(input.brain.json) as BrainParticipants) : { ids: [], sessions: [] };
+  const b: BrainParticipants = input.brain
+    ? (JSON.parse(input.brain.json) as BrainParticipants)
+    : { ids: [], sessions: [] };
   const sheet = input.sheet ? (JSON.parse(input.sheet.json) as ParticipantSheet) : null;
   const sheetIds = sheet?.ids ?? [];
   const brainSet = new Set(b.ids);
@@ -204,8 +206,10 @@ function compute(input: RosterInput): Computed {
   const brainOrder = new Map(b.ids.map((id, k) => [id, k]));
   // Matched and brain-only rows in brain-table order, then sheet-only rows in sheet order.
   rows.sort((x, y) => {
-    const bx = x.brainId === null ? Number.POSITIVE_INFINITY : (brainOrder.get(x.brainId) as number);
-    const by = y.brainId === null ? Number.POSITIVE_INFINITY : (brainOrder.get(y.brainId) as number);
+    const bx =
+      x.brainId === null ? Number.POSITIVE_INFINITY : (brainOrder.get(x.brainId) as number);
+    const by =
+      y.brainId === null ? Number.POSITIVE_INFINITY : (brainOrder.get(y.brainId) as number);
     if (bx !== by) return bx - by;
     return (sheetRow.get(x.sheetId ?? "") ?? 0) - (sheetRow.get(y.sheetId ?? "") ?? 0);
   });
@@ -240,7 +244,14 @@ function report(c: Computed, rowsVisible: boolean): RosterReport {
     onlyInParticipantSheet: rowsVisible ? r.onlyInParticipantSheet : null,
     duplicates: rowsVisible ? r.duplicates : null,
     nearMisses: rowsVisible ? r.nearMisses : null,
-    mappings: rowsVisible ? c.mappings.map((m) => ({ brainId: m.brainId, sheetId: m.sheetId, createdAt: m.createdAt, applied: c.applied.has(m.id) })) : null,
+    mappings: rowsVisible
+      ? c.mappings.map((m) => ({
+          brainId: m.brainId,
+          sheetId: m.sheetId,
+          createdAt: m.createdAt,
+          applied: c.applied.has(m.id),
+        }))
+      : null,
     columns: (c.sheet?.columns ?? []).map((col) => ({ name: col.name, type: col.type })),
   };
 }
@@ -252,16 +263,28 @@ function compareValues(a: unknown, b: unknown): number {
   return naturalCompare(String(a), String(b));
 }
 
-function selectRows(rows: readonly RosterRow[], q: Omit<RosterQuery, "offset" | "limit">): RosterRow[] {
+function selectRows(
+  rows: readonly RosterRow[],
+  q: Omit<RosterQuery, "offset" | "limit">,
+): RosterRow[] {
   let out = rows.filter((r) => q.status === undefined || r.status === q.status);
   if (q.search) {
     const s = q.search.trim().toLowerCase();
-    out = out.filter((r) => (r.brainId ?? "").toLowerCase().includes(s) || (r.sheetId ?? "").toLowerCase().includes(s));
+    out = out.filter(
+      (r) =>
+        (r.brainId ?? "").toLowerCase().includes(s) || (r.sheetId ?? "").toLowerCase().includes(s),
+    );
   }
   if (q.sort) {
     const key = q.sort;
     const get = (r: RosterRow): unknown =>
-      key === "participant" ? r.participant : key === "status" ? r.status : key === "sessions" ? r.sessions.length : r.values[key];
+      key === "participant"
+        ? r.participant
+        : key === "status"
+          ? r.status
+          : key === "sessions"
+            ? r.sessions.length
+            : r.values[key];
     const sign = q.order === "desc" ? -1 : 1;
     // Missing values stay last in both orders; ties keep the roster order.
     out = out
@@ -269,7 +292,8 @@ function selectRows(rows: readonly RosterRow[], q: Omit<RosterQuery, "offset" | 
       .sort((x, y) => {
         const a = get(x.r);
         const b = get(y.r);
-        const missing = (a === null || a === undefined ? 1 : 0) - (b === null || b === undefined ? 1 : 0);
+        const missing =
+          (a === null || a === undefined ? 1 : 0) - (b === null || b === undefined ? 1 : 0);
         return missing !== 0 ? missing : sign * compareValues(a, b) || x.k - y.k;
       })
       .map((x) => x.r);
@@ -281,19 +305,43 @@ function selectRows(rows: readonly RosterRow[], q: Omit<RosterQuery, "offset" | 
 function view(c: Computed, query: RosterQuery, rowsVisible: boolean): string {
   if (!rowsVisible) return JSON.stringify({ ...report(c, false), rows: null });
   const selected = selectRows(c.rows, query);
-  const page: RosterPage = { total: selected.length, offset: query.offset, limit: query.limit, items: selected.slice(query.offset, query.offset + query.limit) };
+  const page: RosterPage = {
+    total: selected.length,
+    offset: query.offset,
+    limit: query.limit,
+    items: selected.slice(query.offset, query.offset + query.limit),
+  };
   return JSON.stringify({ ...report(c, true), rows: page });
 }
 
 /** The whole roster as CSV (formula-neutralised), in roster order. */
 function csv(c: Computed): string {
   const columns = c.sheet?.columns ?? [];
-  const header = ["participant", "brain_table_id", "participant_sheet_id", "status", "matched_by", "sessions", ...columns.map((col) => col.name)];
-  const rows = c.rows.map((r) => [r.participant, r.brainId, r.sheetId, r.status, r.via, r.sessions.join(" "), ...columns.map((col) => r.values[col.name] ?? null)]);
+  const header = [
+    "participant",
+    "brain_table_id",
+    "participant_sheet_id",
+    "status",
+    "matched_by",
+    "sessions",
+    ...columns.map((col) => col.name),
+  ];
+  const rows = c.rows.map((r) => [
+    r.participant,
+    r.brainId,
+    r.sheetId,
+    r.status,
+    r.via,
+    r.sessions.join(" "),
+    ...columns.map((col) => r.values[col.name] ?? null),
+  ]);
   return toCsv(header, rows);
 }
 
-function facts(c: Computed, mappings: readonly { brainId: string; sheetId: string }[]): MappingFacts {
+function facts(
+  c: Computed,
+  mappings: readonly { brainId: string; sheetId: string }[],
+): MappingFacts {
   const r = c.roster;
   const matchOf = new Map(r.matched.map((m) => [m.brainId, m.sheetId]));
   const sheetMatchOf = new Map(r.matched.map((m) => [m.sheetId, m.brainId]));
@@ -303,9 +351,17 @@ function facts(c: Computed, mappings: readonly { brainId: string; sheetId: strin
   const out: MappingFacts = { brain: {}, sheet: {}, nearMiss: {} };
   for (const m of mappings) {
     const brainMatch = matchOf.get(m.brainId) ?? null;
-    out.brain[m.brainId] = { present: brainMatch !== null || brainFree.has(m.brainId), free: brainFree.has(m.brainId), matchedTo: brainMatch };
+    out.brain[m.brainId] = {
+      present: brainMatch !== null || brainFree.has(m.brainId),
+      free: brainFree.has(m.brainId),
+      matchedTo: brainMatch,
+    };
     const sheetMatch = sheetMatchOf.get(m.sheetId) ?? null;
-    out.sheet[m.sheetId] = { present: sheetMatch !== null || sheetFree.has(m.sheetId), free: sheetFree.has(m.sheetId), matchedTo: sheetMatch };
+    out.sheet[m.sheetId] = {
+      present: sheetMatch !== null || sheetFree.has(m.sheetId),
+      free: sheetFree.has(m.sheetId),
+      matchedTo: sheetMatch,
+    };
     const reason = nearMiss.get(`${m.brainId}\u0000${m.sheetId}`);
     if (reason !== undefined) out.nearMiss[`${m.brainId}\u0000${m.sheetId}`] = reason;
   }

@@ -16,7 +16,14 @@
  * Pure: no database, no files. Cost: O(rows × columns).
  */
 import type { IdentifierDecisionRecord, StoredColumn } from "../../db/schema";
-import { type BrainTable, type ConfirmedTable, type ParticipantSheet, type RawTable, type SheetColumn, parseNumberCell } from "../intake";
+import {
+  type BrainTable,
+  type ConfirmedTable,
+  type ParticipantSheet,
+  type RawTable,
+  type SheetColumn,
+  parseNumberCell,
+} from "../intake";
 
 /** Most rows in one chunk (one bulk load). */
 export const CHUNK_ROWS = 1000;
@@ -24,7 +31,15 @@ export const CHUNK_ROWS = 1000;
 export const CHUNK_BYTES = 256 * 1024;
 
 /** The `dataset_rows` columns the CSV holds, in order. */
-export const STORED_ROW_COLUMNS = ["dataset_id", "position", "source_row", "participant_id", "session", "numbers", "categories"] as const;
+export const STORED_ROW_COLUMNS = [
+  "dataset_id",
+  "position",
+  "source_row",
+  "participant_id",
+  "session",
+  "numbers",
+  "categories",
+] as const;
 
 /** What a confirmed upload stores: the version's description and its rows as CSV chunks. */
 export interface EncodedVersion {
@@ -86,10 +101,19 @@ export function decodeNumbers(text: string, count: number): Float64Array {
 }
 
 /** Builds the stored form of a confirmed table; `datasetId` is the version's id. */
-export function encodeVersion(datasetId: string, raw: RawTable, confirmed: ConfirmedTable): EncodedVersion {
-  const decisions: IdentifierDecisionRecord[] = confirmed.identifierDecisions.map((d) => ({ ...d }));
+export function encodeVersion(
+  datasetId: string,
+  raw: RawTable,
+  confirmed: ConfirmedTable,
+): EncodedVersion {
+  const decisions: IdentifierDecisionRecord[] = confirmed.identifierDecisions.map((d) => ({
+    ...d,
+  }));
   const writer = new CsvChunks(datasetId);
-  const description = confirmed.kind === "brain" ? encodeBrain(confirmed.brain, raw, writer) : encodeSheet(confirmed.sheet, writer);
+  const description =
+    confirmed.kind === "brain"
+      ? encodeBrain(confirmed.brain, raw, writer)
+      : encodeSheet(confirmed.sheet, writer);
   const { csv, chunkEnds, rowCount } = writer.finish();
   return { delimiter: raw.delimiter, ...description, decisions, rowCount, csv, chunkEnds };
 }
@@ -114,7 +138,11 @@ class CsvChunks {
 
   add(row: StoredRow): void {
     const line = `${this.id},${this.rows},${row.sourceRow},${field(row.participantId)},${field(row.session)},${field(row.numbers)},${field(JSON.stringify(row.categories))}\n`;
-    if (this.inChunk > 0 && (this.inChunk >= CHUNK_ROWS || this.current.length + line.length > CHUNK_BYTES)) this.cut();
+    if (
+      this.inChunk > 0 &&
+      (this.inChunk >= CHUNK_ROWS || this.current.length + line.length > CHUNK_BYTES)
+    )
+      this.cut();
     this.current += line;
     this.inChunk += 1;
     this.rows += 1;
@@ -154,14 +182,19 @@ function rawNumbers(row: readonly string[], columns: readonly number[]): string 
     if (k > 0) out += ",";
     const cell = row[columns[k]];
     const x = parseNumberCell(cell);
-    if (typeof x === "number") out += cell.length > 0 && cell.charCodeAt(0) > 32 && cell.charCodeAt(cell.length - 1) > 32 ? cell : cell.trim();
+    if (typeof x === "number")
+      out +=
+        cell.length > 0 && cell.charCodeAt(0) > 32 && cell.charCodeAt(cell.length - 1) > 32
+          ? cell
+          : cell.trim();
   }
   return out;
 }
 
 function encodeBrain(b: BrainTable, raw: RawTable, writer: CsvChunks): Description {
   const columns: StoredColumn[] = [{ name: b.idColumn, type: "id", role: "id" }];
-  if (b.sessionColumn !== null) columns.push({ name: b.sessionColumn, type: "category", role: "session" });
+  if (b.sessionColumn !== null)
+    columns.push({ name: b.sessionColumn, type: "category", role: "session" });
   let slot = 0;
   const valueSlots: number[] = [];
   const seSlots: (number | null)[] = [];
@@ -176,8 +209,11 @@ function encodeBrain(b: BrainTable, raw: RawTable, writer: CsvChunks): Descripti
   });
   // Wide layout: each entry is one uploaded row, and each slot one uploaded column.
   const rawIndex = new Map(b.columns.map((c) => [c.name, c.profile.index]));
-  const slotColumns = columns.filter((c) => c.type === "number").map((c) => rawIndex.get(c.name) ?? -1);
-  const fromRaw = b.layout === "wide" && b.entries.length === raw.rows.length && slotColumns.every((j) => j >= 0);
+  const slotColumns = columns
+    .filter((c) => c.type === "number")
+    .map((c) => rawIndex.get(c.name) ?? -1);
+  const fromRaw =
+    b.layout === "wide" && b.entries.length === raw.rows.length && slotColumns.every((j) => j >= 0);
   const buffer = new Float64Array(slot);
   const ids = new Set<string>();
   b.entries.forEach((e, k) => {
@@ -192,7 +228,13 @@ function encodeBrain(b: BrainTable, raw: RawTable, writer: CsvChunks): Descripti
       numbers = encodeNumbers(buffer);
     }
     ids.add(e.id);
-    writer.add({ sourceRow: e.row, participantId: e.id, session: e.session, numbers, categories: [] });
+    writer.add({
+      sourceRow: e.row,
+      participantId: e.id,
+      session: e.session,
+      numbers,
+      categories: [],
+    });
   });
   return {
     layout: b.layout,
@@ -210,16 +252,31 @@ function encodeSheet(s: ParticipantSheet, writer: CsvChunks): Description {
   let numberSlot = 0;
   let categorySlot = 0;
   for (const c of s.columns) {
-    columns.push({ name: c.name, type: c.type, role: "variable", slot: c.type === "number" ? numberSlot++ : categorySlot++ });
+    columns.push({
+      name: c.name,
+      type: c.type,
+      role: "variable",
+      slot: c.type === "number" ? numberSlot++ : categorySlot++,
+    });
   }
-  const numberColumns = s.columns.filter((c): c is Extract<SheetColumn, { type: "number" }> => c.type === "number");
-  const categoryColumns = s.columns.filter((c): c is Extract<SheetColumn, { type: "category" }> => c.type === "category");
+  const numberColumns = s.columns.filter(
+    (c): c is Extract<SheetColumn, { type: "number" }> => c.type === "number",
+  );
+  const categoryColumns = s.columns.filter(
+    (c): c is Extract<SheetColumn, { type: "category" }> => c.type === "category",
+  );
   const buffer = new Float64Array(numberColumns.length);
   s.ids.forEach((id, k) => {
     numberColumns.forEach((c, j) => {
       buffer[j] = c.values[k] ?? Number.NaN;
     });
-    writer.add({ sourceRow: s.rows[k], participantId: id, session: null, numbers: encodeNumbers(buffer), categories: categoryColumns.map((c) => c.values[k]) });
+    writer.add({
+      sourceRow: s.rows[k],
+      participantId: id,
+      session: null,
+      numbers: encodeNumbers(buffer),
+      categories: categoryColumns.map((c) => c.values[k]),
+    });
   });
   return {
     layout: null,

@@ -27,7 +27,12 @@ import {
   readTable,
   sha256Hex,
 } from "../intake";
-import { type MappingFacts, type RosterInput, type RosterRequest, answerRoster } from "./intake-roster";
+import {
+  type MappingFacts,
+  type RosterInput,
+  type RosterRequest,
+  answerRoster,
+} from "./intake-roster";
 import { type EncodedVersion, encodeVersion } from "./intake-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
@@ -35,10 +40,22 @@ lowerWorkerThreadPriority();
 
 export type IntakeTask =
   | { op: "preview"; bytes: Uint8Array; fileName: string; kind: TableKind; options: PreviewOptions }
-  | { op: "encode"; bytes: Uint8Array; fileName: string; kind: TableKind; confirmation: Confirmation; datasetId: string }
+  | {
+      op: "encode";
+      bytes: Uint8Array;
+      fileName: string;
+      kind: TableKind;
+      confirmation: Confirmation;
+      datasetId: string;
+    }
   | { op: "roster"; input: RosterInput; request: RosterRequest };
 
-export type IntakeRefusal = { ok: false; status: IntakeStatus; problems: Problem[]; problemCount: number };
+export type IntakeRefusal = {
+  ok: false;
+  status: IntakeStatus;
+  problems: Problem[];
+  problemCount: number;
+};
 
 export type IntakeTaskOutcome =
   | { ok: true; op: "preview"; preview: TablePreview; sha256: string }
@@ -46,21 +63,42 @@ export type IntakeTaskOutcome =
   | { ok: true; op: "roster"; answer: string | MappingFacts }
   | IntakeRefusal;
 
-export default function runIntakeTask(task: IntakeTask): IntakeTaskOutcome | ReturnType<typeof Piscina.move> {
+export default function runIntakeTask(
+  task: IntakeTask,
+): IntakeTaskOutcome | ReturnType<typeof Piscina.move> {
   try {
     if (task.op === "preview") {
       const preview = previewUpload(task.bytes, task.fileName, task.kind, task.options);
       return { ok: true, op: "preview", preview, sha256: sha256Hex(task.bytes) };
     }
-    if (task.op === "roster") return { ok: true, op: "roster", answer: answerRoster(task.input, task.request) };
+    if (task.op === "roster")
+      return { ok: true, op: "roster", answer: answerRoster(task.input, task.request) };
     const raw = readTable(task.bytes, task.fileName);
-    const encoded = encodeVersion(task.datasetId, raw, confirmTable(raw, task.kind, task.confirmation));
-    const outcome: IntakeTaskOutcome = { ok: true, op: "encode", encoded, sha256: sha256Hex(task.bytes) };
+    const encoded = encodeVersion(
+      task.datasetId,
+      raw,
+      confirmTable(raw, task.kind, task.confirmation),
+    );
+    const outcome: IntakeTaskOutcome = {
+      ok: true,
+      op: "encode",
+      encoded,
+      sha256: sha256Hex(task.bytes),
+    };
     // The rows' buffer moves to the main thread instead of being copied.
-    const movable = { [Piscina.transferableSymbol]: [encoded.csv.buffer], [Piscina.valueSymbol]: outcome };
+    const movable = {
+      [Piscina.transferableSymbol]: [encoded.csv.buffer],
+      [Piscina.valueSymbol]: outcome,
+    };
     return Piscina.move(movable as unknown as ArrayBuffer);
   } catch (e) {
-    if (e instanceof IntakeError) return { ok: false, status: e.status, problems: [...e.problems], problemCount: e.problemCount };
+    if (e instanceof IntakeError)
+      return {
+        ok: false,
+        status: e.status,
+        problems: [...e.problems],
+        problemCount: e.problemCount,
+      };
     throw e;
   }
 }

@@ -22,7 +22,12 @@ import {
   type SharedLinearPermutationInput,
   type SharedLinearPermutationSetup,
 } from "../stats/permutation";
-import { drawOfPlan, prepareLinearPermutation, type RearrangementCounts, type RegionBlock } from "../stats/permutation-kernel";
+import {
+  drawOfPlan,
+  prepareLinearPermutation,
+  type RearrangementCounts,
+  type RegionBlock,
+} from "../stats/permutation-kernel";
 import type { PermutationTask } from "./permutation-task";
 
 export type ParallelLinearPermutationInput = Omit<LinearPermutationInput, "rng"> & {
@@ -40,7 +45,9 @@ export interface PermutationPool {
   /** Same contract as `linearPermutationTest`, computed on the pool's worker threads. */
   linearPermutationTest(input: ParallelLinearPermutationInput): Promise<LinearPermutationResult>;
   /** Same contract as `sharedLinearPermutationTest`, computed on the pool's worker threads. */
-  sharedLinearPermutationTest(input: ParallelSharedLinearPermutationInput): Promise<LinearPermutationResult>;
+  sharedLinearPermutationTest(
+    input: ParallelSharedLinearPermutationInput,
+  ): Promise<LinearPermutationResult>;
   /** Stops the worker threads. */
   close(): Promise<void>;
 }
@@ -55,13 +62,21 @@ const PROGRESS_INTERVAL_MS = 100;
 export function createPermutationPool(options: { threads?: number } = {}): PermutationPool {
   const threads = options.threads ?? 2;
   if (!(Number.isInteger(threads) && threads >= 1)) {
-    throw new StatsError(`createPermutationPool requires a positive whole number of threads (got ${threads})`);
+    throw new StatsError(
+      `createPermutationPool requires a positive whole number of threads (got ${threads})`,
+    );
   }
   const pool = workerPool("permutation-task.ts", { minThreads: threads, maxThreads: threads });
 
   async function run(
     setup: SharedLinearPermutationSetup,
-    input: { seed: number; maxT?: boolean; keepNull?: boolean; onProgress?: (fraction: number) => void; shouldCancel?: () => boolean },
+    input: {
+      seed: number;
+      maxT?: boolean;
+      keepNull?: boolean;
+      onProgress?: (fraction: number) => void;
+      shouldCancel?: () => boolean;
+    },
   ): Promise<LinearPermutationResult> {
     const { draw, observed } = setup;
     const regions = observed.length;
@@ -121,13 +136,23 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
     return assembleLinearResult(observed, counts, maxAbs, nulls, parts[0].exact, total);
   }
 
-  async function linearPermutationTest(input: ParallelLinearPermutationInput): Promise<LinearPermutationResult> {
+  async function linearPermutationTest(
+    input: ParallelLinearPermutationInput,
+  ): Promise<LinearPermutationResult> {
     const setup = prepareLinearPermutation(input);
-    const block: RegionBlock = { plan: setup.plan, members: null, residuals: setup.residuals, residualSquares: setup.residualSquares, observed: setup.observed };
+    const block: RegionBlock = {
+      plan: setup.plan,
+      members: null,
+      residuals: setup.residuals,
+      residualSquares: setup.residualSquares,
+      observed: setup.observed,
+    };
     return run({ draw: drawOfPlan(setup.plan), blocks: [block], observed: setup.observed }, input);
   }
 
-  async function sharedLinearPermutationTest(input: ParallelSharedLinearPermutationInput): Promise<LinearPermutationResult> {
+  async function sharedLinearPermutationTest(
+    input: ParallelSharedLinearPermutationInput,
+  ): Promise<LinearPermutationResult> {
     return run(prepareSharedLinearPermutation(input), input);
   }
 
@@ -143,7 +168,11 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
  * The regions from..to−1 (numbered block by block) as blocks: whole blocks,
  * or slices of a block's regions with the block's plan. Cost O(slice·n).
  */
-export function sliceBlocks(blocks: readonly RegionBlock[], from: number, to: number): RegionBlock[] {
+export function sliceBlocks(
+  blocks: readonly RegionBlock[],
+  from: number,
+  to: number,
+): RegionBlock[] {
   const out: RegionBlock[] = [];
   let offset = 0;
   for (const b of blocks) {
@@ -175,7 +204,10 @@ export function splitRegions(regions: number, threads: number): [number, number]
   const blocks: [number, number][] = [];
   let start = 0;
   for (let b = 0; b < count; b++) {
-    const size = Math.min(regions - start, 2 * (Math.floor(pairs / count) + (b < pairs % count ? 1 : 0)));
+    const size = Math.min(
+      regions - start,
+      2 * (Math.floor(pairs / count) + (b < pairs % count ? 1 : 0)),
+    );
     blocks.push([start, start + size]);
     start += size;
   }

@@ -10,7 +10,12 @@
  * progress go through a shared Int32Array: slot 0 is the cancel flag set by
  * the main thread, slot 1 + w is worker w's progress in millionths.
  */
-import { countExtremeRearrangements, type RearrangementCounts, type RearrangementDraw, type RegionBlock } from "../stats/permutation-kernel";
+import {
+  countExtremeRearrangements,
+  type RearrangementCounts,
+  type RearrangementDraw,
+  type RegionBlock,
+} from "../stats/permutation-kernel";
 import { createRng } from "../stats/rng";
 
 export interface PermutationTask {

@@ -45,12 +45,17 @@ export class PlannerJobs {
   async plan(question: PlannerQuestion, signal: AbortSignal): Promise<PlannerAnswer> {
     if (this.closed) throw new Error("PlannerJobs: closed");
     if (this.inFlight > this.maxWaiting) {
-      throw new HttpError(429, "planner_busy", "The planner is busy with other questions; ask again in a minute.");
+      throw new HttpError(
+        429,
+        "planner_busy",
+        "The planner is busy with other questions; ask again in a minute.",
+      );
     }
     this.inFlight++;
     try {
       const outcome = (await this.getPool().run(question, { signal })) as PlannerTaskOutcome;
-      if (!outcome.ok) throw new HttpError(outcome.status, outcome.code, outcome.message, outcome.details);
+      if (!outcome.ok)
+        throw new HttpError(outcome.status, outcome.code, outcome.message, outcome.details);
       return outcome.answer;
     } catch (error) {
       if (signal.aborted) this.aborted++;
@@ -70,7 +75,11 @@ export class PlannerJobs {
 
   private getPool(): Piscina {
     if (!this.pool) {
-      this.pool = workerPool("planner-task.ts", { minThreads: 0, maxThreads: 1, idleTimeout: this.idleMs });
+      this.pool = workerPool("planner-task.ts", {
+        minThreads: 0,
+        maxThreads: 1,
+        idleTimeout: this.idleMs,
+      });
     }
     return this.pool;
   }

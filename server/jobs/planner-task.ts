@@ -14,14 +14,24 @@ import { lowerWorkerThreadPriority } from "./thread-priority";
 
 lowerWorkerThreadPriority();
 
-export type PlannerTaskOutcome = { ok: true; answer: PlannerAnswer } | { ok: false; status: number; code: string; message: string; details?: unknown };
+export type PlannerTaskOutcome =
+  | { ok: true; answer: PlannerAnswer }
+  | { ok: false; status: number; code: string; message: string; details?: unknown };
 
 export default function runPlannerTask(question: PlannerQuestion): PlannerTaskOutcome {
   try {
     return { ok: true, answer: planStudy(question) };
   } catch (error) {
-    if (error instanceof HttpError) return { ok: false, status: error.status, code: error.code, message: error.message, details: error.details };
-    if (error instanceof StatsError) return { ok: false, status: 422, code: error.code, message: error.message };
+    if (error instanceof HttpError)
+      return {
+        ok: false,
+        status: error.status,
+        code: error.code,
+        message: error.message,
+        details: error.details,
+      };
+    if (error instanceof StatsError)
+      return { ok: false, status: 422, code: error.code, message: error.message };
     throw error;
   }
 }

@@ -54,7 +54,12 @@ export function encodeRegionRows(rows: readonly ParticipantDiagnostics[]): strin
       return value;
     });
   }
-  const layout: ColumnLayout = { layout: "columns", n: rows.length, fields, ...(Object.keys(absent).length > 0 ? { absent } : {}) };
+  const layout: ColumnLayout = {
+    layout: "columns",
+    n: rows.length,
+    fields,
+    ...(Object.keys(absent).length > 0 ? { absent } : {}),
+  };
   return JSON.stringify(layout);
 }
 
@@ -63,11 +68,19 @@ export function decodeRegionRows(text: string, region: string): ParticipantDiagn
   const stored = JSON.parse(text) as unknown;
   if (Array.isArray(stored)) return stored as ParticipantDiagnostics[];
   const layout = stored as Partial<ColumnLayout> | null;
-  if (!layout || layout.layout !== "columns" || typeof layout.n !== "number" || typeof layout.fields !== "object" || layout.fields === null) {
+  if (
+    !layout ||
+    layout.layout !== "columns" ||
+    typeof layout.n !== "number" ||
+    typeof layout.fields !== "object" ||
+    layout.fields === null
+  ) {
     throw new SyntaxError("decodeRegionRows: neither a row array nor a column layout");
   }
   const fields = layout.fields;
-  const absent = new Map(Object.entries(layout.absent ?? {}).map(([name, rows]) => [name, new Set(rows)]));
+  const absent = new Map(
+    Object.entries(layout.absent ?? {}).map(([name, rows]) => [name, new Set(rows)]),
+  );
   const rows: ParticipantDiagnostics[] = [];
   for (let i = 0; i < layout.n; i++) {
     const row: Record<string, unknown> = {};

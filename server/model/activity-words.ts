@@ -48,6 +48,10 @@ export function fitCancelledWords(modelName: string | null): string {
 }
 
 /** "sealed the fit of ‘accuracy with age’ (SHA-256 0123456789ab…)" */
-export function fitSealedWords(modelName: string | null, sha256: string, singlePersonSignOff: boolean): string {
+export function fitSealedWords(
+  modelName: string | null,
+  sha256: string,
+  singlePersonSignOff: boolean,
+): string {
   return `sealed ${fitWords(modelName)} (SHA-256 ${sha256.slice(0, 12)}…)${singlePersonSignOff ? " that they had also started and approved" : ""}`;
 }

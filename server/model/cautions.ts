@@ -41,7 +41,10 @@ export const setAsideCaution =
 
 // ─── Circular region selection ───
 
-const circularityReferences = ["Vul et al. 2009", "Kriegeskorte et al. 2009"] as const satisfies readonly ReferenceKey[];
+const circularityReferences = [
+  "Vul et al. 2009",
+  "Kriegeskorte et al. 2009",
+] as const satisfies readonly ReferenceKey[];
 
 /** Shown with a model whose regions were chosen from the same data (model form, models list, fit screen). */
 export const circularityCaution =
@@ -69,7 +72,9 @@ export function isSmallSample(n: number): boolean {
 }
 
 /** The regions whose N is below `SMALL_SAMPLE_N`, in the given order. */
-export function smallSampleRegions<R extends { readonly region: string; readonly n: number }>(regions: readonly R[]): R[] {
+export function smallSampleRegions<R extends { readonly region: string; readonly n: number }>(
+  regions: readonly R[],
+): R[] {
   return regions.filter((r) => isSmallSample(r.n));
 }
 
@@ -90,13 +95,17 @@ const namedRegionsMax = 5;
  * The fit screen's small-sample caution for a fit's regions, or null when
  * every region has at least `SMALL_SAMPLE_N` participants. Cost O(regions).
  */
-export function smallSampleCaution(regions: readonly { readonly region: string; readonly n: number }[]): SmallSampleCaution | null {
+export function smallSampleCaution(
+  regions: readonly { readonly region: string; readonly n: number }[],
+): SmallSampleCaution | null {
   const small = smallSampleRegions(regions).map((r) => ({ region: r.region, n: r.n }));
   if (small.length === 0) return null;
   const named = small.slice(0, namedRegionsMax).map((r) => `${r.region}, N = ${r.n}`);
   const more = small.length - named.length;
   const where =
-    regions.length === 1 ? `this region (N = ${small[0].n})` : `${small.length} of ${regions.length} regions (${named.join("; ")}${more > 0 ? `; and ${more} more` : ""})`;
+    regions.length === 1
+      ? `this region (N = ${small[0].n})`
+      : `${small.length} of ${regions.length} regions (${named.join("; ")}${more > 0 ? `; and ${more} more` : ""})`;
   return {
     title: smallSampleTitle,
     text: `Fewer than ${SMALL_SAMPLE_N} participants in ${where}: ${smallSampleReason}. Read the confidence interval, not only p.`,
@@ -119,7 +128,11 @@ export function smallSamplePaperCaution(ns: readonly number[]): PaperCaution | n
   const small = ns.filter(isSmallSample).length;
   if (small === 0) return null;
   const subject =
-    ns.length === 1 ? "the region was analysed with" : small === ns.length ? `all ${ns.length} regions were analysed with` : `${small} of the ${ns.length} regions ${small === 1 ? "was" : "were"} analysed with`;
+    ns.length === 1
+      ? "the region was analysed with"
+      : small === ns.length
+        ? `all ${ns.length} regions were analysed with`
+        : `${small} of the ${ns.length} regions ${small === 1 ? "was" : "were"} analysed with`;
   return {
     text: `Caution: ${subject} fewer than ${SMALL_SAMPLE_N} participants; ${smallSampleReason}.`,
     references: smallSampleReferences,

@@ -12,5 +12,9 @@ export function dateWords(when: string | Date): string {
 
 /** "3 Dec 2026, 17:21" */
 export function dateTimeWords(when: string | Date): string {
-  return new Date(when).toLocaleString("en-GB", { ...dateStyle, hour: "2-digit", minute: "2-digit" });
+  return new Date(when).toLocaleString("en-GB", {
+    ...dateStyle,
+    hour: "2-digit",
+    minute: "2-digit",
+  });
 }

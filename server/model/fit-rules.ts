@@ -46,36 +46,64 @@ export function specProblems(spec: ModelSpec): SpecProblem[] {
   const out: SpecProblem[] = [];
   const add = (field: string, message: string) => out.push({ field, message });
   const { kind } = spec;
-  if (!estimatorsByKind[kind].includes(spec.estimator)) add("estimator", `'${spec.estimator}' is not available for kind '${kind}'`);
-  if (kind === "association" && !spec.predictor) add("predictor", "an association needs a predictor (a numeric column of the participant sheet)");
+  if (!estimatorsByKind[kind].includes(spec.estimator))
+    add("estimator", `'${spec.estimator}' is not available for kind '${kind}'`);
+  if (kind === "association" && !spec.predictor)
+    add(
+      "predictor",
+      "an association needs a predictor (a numeric column of the participant sheet)",
+    );
   if (kind !== "association" && spec.predictor) add("predictor", `not used by kind '${kind}'`);
-  if (kind === "two-group" && !spec.group) add("group", "a two-group model needs a grouping column");
-  if (spec.group && kind !== "two-group" && kind !== "association") add("group", `not used by kind '${kind}'`);
+  if (kind === "two-group" && !spec.group)
+    add("group", "a two-group model needs a grouping column");
+  if (spec.group && kind !== "two-group" && kind !== "association")
+    add("group", `not used by kind '${kind}'`);
   if (spec.levels && !spec.group) add("levels", "given without a group");
   if (spec.levels && spec.levels[0] === spec.levels[1]) add("levels", "the two levels must differ");
   if (spec.interaction && kind !== "association") add("interaction", `not used by kind '${kind}'`);
-  if (spec.interaction && kind === "association" && !spec.group) add("interaction", "an interaction needs a group");
-  if (spec.predictor && spec.covariates.includes(spec.predictor)) add("covariates", `'${spec.predictor}' is already the predictor`);
-  if (spec.group && spec.covariates.includes(spec.group)) add("covariates", `'${spec.group}' is already the group`);
-  if (new Set(spec.covariates).size !== spec.covariates.length) add("covariates", "a column is listed twice");
-  if (spec.regions && new Set(spec.regions).size !== spec.regions.length) add("regions", "a region is listed twice");
-  if (spec.correction === "maxt" && spec.inference !== "permutation") add("correction", "max-T correction requires permutation inference");
+  if (spec.interaction && kind === "association" && !spec.group)
+    add("interaction", "an interaction needs a group");
+  if (spec.predictor && spec.covariates.includes(spec.predictor))
+    add("covariates", `'${spec.predictor}' is already the predictor`);
+  if (spec.group && spec.covariates.includes(spec.group))
+    add("covariates", `'${spec.group}' is already the group`);
+  if (new Set(spec.covariates).size !== spec.covariates.length)
+    add("covariates", "a column is listed twice");
+  if (spec.regions && new Set(spec.regions).size !== spec.regions.length)
+    add("regions", "a region is listed twice");
+  if (spec.correction === "maxt" && spec.inference !== "permutation")
+    add("correction", "max-T correction requires permutation inference");
   if (kind === "reliability") {
-    if (spec.inference !== "parametric") add("inference", "kind 'reliability' supports parametric inference only");
-    if (spec.covariates.length > 0) add("covariates", "kind 'reliability' does not take covariates");
+    if (spec.inference !== "parametric")
+      add("inference", "kind 'reliability' supports parametric inference only");
+    if (spec.covariates.length > 0)
+      add("covariates", "kind 'reliability' does not take covariates");
     if (spec.weights !== "none") add("weights", "kind 'reliability' does not take weights");
   }
   if (spec.weights === "first-level-se") {
     if (spec.estimator !== "ols") add("weights", "'first-level-se' requires estimator 'ols'");
-    if (spec.inference !== "parametric") add("weights", "'first-level-se' supports parametric inference only");
+    if (spec.inference !== "parametric")
+      add("weights", "'first-level-se' supports parametric inference only");
   }
-  if (spec.covariates.length > 0 && !takesDesign(spec.estimator) && !(kind === "association" && spec.estimator === "rank")) {
+  if (
+    spec.covariates.length > 0 &&
+    !takesDesign(spec.estimator) &&
+    !(kind === "association" && spec.estimator === "rank")
+  ) {
     add("covariates", `estimator '${spec.estimator}' does not take covariates`);
   }
-  if (spec.inference === "permutation" && spec.estimator !== "ols" && (spec.covariates.length > 0 || (kind === "association" && spec.group))) {
-    add("inference", `permutation with covariates requires estimator 'ols' (Freedman–Lane); '${spec.estimator}' has no such scheme`);
+  if (
+    spec.inference === "permutation" &&
+    spec.estimator !== "ols" &&
+    (spec.covariates.length > 0 || (kind === "association" && spec.group))
+  ) {
+    add(
+      "inference",
+      `permutation with covariates requires estimator 'ols' (Freedman–Lane); '${spec.estimator}' has no such scheme`,
+    );
   }
-  if (spec.interaction && !takesDesign(spec.estimator)) add("interaction", `estimator '${spec.estimator}' does not support an interaction`);
+  if (spec.interaction && !takesDesign(spec.estimator))
+    add("interaction", `estimator '${spec.estimator}' does not support an interaction`);
   return out;
 }
 
@@ -119,9 +147,13 @@ export function dataProblems(spec: ModelSpec, shape: DataShape): SpecProblem[] {
     });
   }
   if (spec.kind === "reliability" && shape.sessions !== undefined && shape.sessions < 2) {
-    add("kind", `reliability needs a brain table with at least two sessions; ${brain} has ${shape.sessions === 0 ? "no session column" : "one session"}`);
+    add(
+      "kind",
+      `reliability needs a brain table with at least two sessions; ${brain} has ${shape.sessions === 0 ? "no session column" : "one session"}`,
+    );
   }
-  if (spec.weights === "first-level-se" && shape.hasStandardErrors === false) add("weights", `'first-level-se' requires standard errors in ${brain}`);
+  if (spec.weights === "first-level-se" && shape.hasStandardErrors === false)
+    add("weights", `'first-level-se' requires standard errors in ${brain}`);
   const numeric = shape.numericColumns;
   const categorical = shape.categoricalColumns;
   if (numeric && categorical) {
@@ -139,17 +171,29 @@ export function dataProblems(spec: ModelSpec, shape: DataShape): SpecProblem[] {
       }
       return true;
     };
-    if (spec.kind === "association") need("predictor", spec.predictor, "an association needs a numeric trait");
+    if (spec.kind === "association")
+      need("predictor", spec.predictor, "an association needs a numeric trait");
     spec.covariates.forEach((c, k) => {
-      need(`covariates.${k}`, c, spec.kind === "one-sample" ? "a one-sample model takes numeric covariates only (they are mean-centred)" : null);
+      need(
+        `covariates.${k}`,
+        c,
+        spec.kind === "one-sample"
+          ? "a one-sample model takes numeric covariates only (they are mean-centred)"
+          : null,
+      );
     });
     if (spec.group && need("group", spec.group, null)) {
       const levels = shape.levelsOf?.(spec.group);
       if (levels) {
         if (spec.levels) {
-          for (const level of spec.levels) if (!levels.includes(level)) add("levels", `level '${level}' is not present in column '${spec.group}'`);
+          for (const level of spec.levels)
+            if (!levels.includes(level))
+              add("levels", `level '${level}' is not present in column '${spec.group}'`);
         } else if (levels.length !== 2) {
-          add("group", `column '${spec.group}' has ${levels.length} levels (${levels.join(", ")}); name the two to compare in levels`);
+          add(
+            "group",
+            `column '${spec.group}' has ${levels.length} levels (${levels.join(", ")}); name the two to compare in levels`,
+          );
         }
       }
     }
@@ -187,18 +231,33 @@ export function dataPreconditions(spec: ModelSpec): { beforeRun: string[]; atRun
     beforeRun.push("Every region needs at least 2 participants with a value in every session.");
     return { beforeRun, atRun };
   }
-  const columns = [spec.predictor, spec.group, ...spec.covariates].filter((c): c is string => Boolean(c));
+  const columns = [spec.predictor, spec.group, ...spec.covariates].filter((c): c is string =>
+    Boolean(c),
+  );
   const min = minimumParticipants(spec.kind, spec.estimator);
   beforeRun.push(
     `Every region needs at least ${min} participants with a contrast value${columns.length > 0 ? ` and a value for ${listed(columns)}` : ""}; each region keeps its own participants.`,
   );
-  if (spec.group && !spec.levels) beforeRun.push(`The column ${spec.group} must have exactly two levels among the participants, or name the two to compare.`);
-  if (spec.group && spec.levels) beforeRun.push(`Both ${spec.levels[0]} and ${spec.levels[1]} must occur in the column ${spec.group}.`);
+  if (spec.group && !spec.levels)
+    beforeRun.push(
+      `The column ${spec.group} must have exactly two levels among the participants, or name the two to compare.`,
+    );
+  if (spec.group && spec.levels)
+    beforeRun.push(
+      `Both ${spec.levels[0]} and ${spec.levels[1]} must occur in the column ${spec.group}.`,
+    );
   if (spec.kind === "two-group") {
     const g = minimumPerGroup(spec.estimator);
-    beforeRun.push(`Each of the two groups needs at least ${g} participant${g === 1 ? "" : "s"} in every region.`);
+    beforeRun.push(
+      `Each of the two groups needs at least ${g} participant${g === 1 ? "" : "s"} in every region.`,
+    );
   }
-  if (spec.weights === "first-level-se") beforeRun.push("Every participant with a contrast value needs a first-level standard error above 0.");
-  atRun.push("No column of the design may be a combination of the others in a region (for example a covariate with one value for everyone there).");
+  if (spec.weights === "first-level-se")
+    beforeRun.push(
+      "Every participant with a contrast value needs a first-level standard error above 0.",
+    );
+  atRun.push(
+    "No column of the design may be a combination of the others in a region (for example a covariate with one value for everyone there).",
+  );
   return { beforeRun, atRun };
 }

@@ -20,7 +20,12 @@
  * Cost O(regions + set-asides). Throws `MethodsTextError` when the recipe's
  * model fields are malformed.
  */
-import { associationPaperCaution, circularityPaperCaution, type PaperCaution, smallSamplePaperCaution } from "./cautions";
+import {
+  associationPaperCaution,
+  circularityPaperCaution,
+  type PaperCaution,
+  smallSamplePaperCaution,
+} from "./cautions";
 import { secondPersonSignOffLabel } from "./sign-off";
 import { type ModelSpec, type RegionResult, modelSpecSchema } from "./spec";
 
@@ -32,32 +37,46 @@ export const methodReferences = {
     "Benjamini, Y., & Hochberg, Y. (1995). Controlling the false discovery rate: a practical and powerful approach to multiple testing. Journal of the Royal Statistical Society, Series B, 57(1), 289–300.",
   "Bollen & Jackman 1990":
     "Bollen, K. A., & Jackman, R. W. (1990). Regression diagnostics: an expository treatment of outliers and influential cases. In J. Fox & J. S. Long (Eds.), Modern Methods of Data Analysis (pp. 257–291). Newbury Park, CA: Sage.",
-  "Cook 1977": "Cook, R. D. (1977). Detection of influential observation in linear regression. Technometrics, 19(1), 15–18.",
-  "Cook & Weisberg 1982": "Cook, R. D., & Weisberg, S. (1982). Residuals and Influence in Regression. New York: Chapman & Hall.",
-  "DerSimonian & Laird 1986": "DerSimonian, R., & Laird, N. (1986). Meta-analysis in clinical trials. Controlled Clinical Trials, 7(3), 177–188.",
-  "Dunn 1961": "Dunn, O. J. (1961). Multiple comparisons among means. Journal of the American Statistical Association, 56(293), 52–64.",
-  "Efron 1987": "Efron, B. (1987). Better bootstrap confidence intervals. Journal of the American Statistical Association, 82(397), 171–185.",
-  "Efron & Tibshirani 1993": "Efron, B., & Tibshirani, R. J. (1993). An Introduction to the Bootstrap. New York: Chapman & Hall.",
+  "Cook 1977":
+    "Cook, R. D. (1977). Detection of influential observation in linear regression. Technometrics, 19(1), 15–18.",
+  "Cook & Weisberg 1982":
+    "Cook, R. D., & Weisberg, S. (1982). Residuals and Influence in Regression. New York: Chapman & Hall.",
+  "DerSimonian & Laird 1986":
+    "DerSimonian, R., & Laird, N. (1986). Meta-analysis in clinical trials. Controlled Clinical Trials, 7(3), 177–188.",
+  "Dunn 1961":
+    "Dunn, O. J. (1961). Multiple comparisons among means. Journal of the American Statistical Association, 56(293), 52–64.",
+  "Efron 1987":
+    "Efron, B. (1987). Better bootstrap confidence intervals. Journal of the American Statistical Association, 82(397), 171–185.",
+  "Efron & Tibshirani 1993":
+    "Efron, B., & Tibshirani, R. J. (1993). An Introduction to the Bootstrap. New York: Chapman & Hall.",
   "Fisher 1921":
     "Fisher, R. A. (1921). On the “probable error” of a coefficient of correlation deduced from a small sample. Metron, 1, 3–32.",
   "Freedman & Lane 1983":
     "Freedman, D., & Lane, D. (1983). A nonstochastic interpretation of reported significance levels. Journal of Business & Economic Statistics, 1(4), 292–298.",
-  "Higgins & Thompson 2002": "Higgins, J. P. T., & Thompson, S. G. (2002). Quantifying heterogeneity in a meta-analysis. Statistics in Medicine, 21(11), 1539–1558.",
-  "Hoaglin & Welsch 1978": "Hoaglin, D. C., & Welsch, R. E. (1978). The hat matrix in regression and ANOVA. The American Statistician, 32(1), 17–22.",
-  "Hodges & Lehmann 1963": "Hodges, J. L., & Lehmann, E. L. (1963). Estimates of location based on rank tests. Annals of Mathematical Statistics, 34(2), 598–611.",
-  "Holm 1979": "Holm, S. (1979). A simple sequentially rejective multiple test procedure. Scandinavian Journal of Statistics, 6(2), 65–70.",
-  "Huber 1964": "Huber, P. J. (1964). Robust estimation of a location parameter. Annals of Mathematical Statistics, 35(1), 73–101.",
+  "Higgins & Thompson 2002":
+    "Higgins, J. P. T., & Thompson, S. G. (2002). Quantifying heterogeneity in a meta-analysis. Statistics in Medicine, 21(11), 1539–1558.",
+  "Hoaglin & Welsch 1978":
+    "Hoaglin, D. C., & Welsch, R. E. (1978). The hat matrix in regression and ANOVA. The American Statistician, 32(1), 17–22.",
+  "Hodges & Lehmann 1963":
+    "Hodges, J. L., & Lehmann, E. L. (1963). Estimates of location based on rank tests. Annals of Mathematical Statistics, 34(2), 598–611.",
+  "Holm 1979":
+    "Holm, S. (1979). A simple sequentially rejective multiple test procedure. Scandinavian Journal of Statistics, 6(2), 65–70.",
+  "Huber 1964":
+    "Huber, P. J. (1964). Robust estimation of a location parameter. Annals of Mathematical Statistics, 35(1), 73–101.",
   "Knapp & Hartung 2003":
     "Knapp, G., & Hartung, J. (2003). Improved tests for a random effects meta-regression with a single covariate. Statistics in Medicine, 22(17), 2693–2710.",
   "Kriegeskorte et al. 2009":
     "Kriegeskorte, N., Simmons, W. K., Bellgowan, P. S. F., & Baker, C. I. (2009). Circular analysis in systems neuroscience: the dangers of double dipping. Nature Neuroscience, 12(5), 535–540.",
   "Mann & Whitney 1947":
     "Mann, H. B., & Whitney, D. R. (1947). On a test of whether one of two random variables is stochastically larger than the other. Annals of Mathematical Statistics, 18(1), 50–60.",
-  "Marek et al. 2022": "Marek, S., Tervo-Clemmens, B., Calabro, F. J., et al. (2022). Reproducible brain-wide association studies require thousands of individuals. Nature, 603, 654–660.",
+  "Marek et al. 2022":
+    "Marek, S., Tervo-Clemmens, B., Calabro, F. J., et al. (2022). Reproducible brain-wide association studies require thousands of individuals. Nature, 603, 654–660.",
   "Rousselet & Pernet 2012":
     "Rousselet, G. A., & Pernet, C. R. (2012). Improving standards in brain-behavior correlation analyses. Frontiers in Human Neuroscience, 6, 119.",
-  "Shrout & Fleiss 1979": "Shrout, P. E., & Fleiss, J. L. (1979). Intraclass correlations: uses in assessing rater reliability. Psychological Bulletin, 86(2), 420–428.",
-  "Spearman 1904": "Spearman, C. (1904). The proof and measurement of association between two things. American Journal of Psychology, 15(1), 72–101.",
+  "Shrout & Fleiss 1979":
+    "Shrout, P. E., & Fleiss, J. L. (1979). Intraclass correlations: uses in assessing rater reliability. Psychological Bulletin, 86(2), 420–428.",
+  "Spearman 1904":
+    "Spearman, C. (1904). The proof and measurement of association between two things. American Journal of Psychology, 15(1), 72–101.",
   "Student 1908": "Student (1908). The probable error of a mean. Biometrika, 6(1), 1–25.",
   "Viechtbauer 2005":
     "Viechtbauer, W. (2005). Bias and efficiency of meta-analytic variance estimators in the random-effects model. Journal of Educational and Behavioral Statistics, 30(3), 261–293.",
@@ -65,10 +84,14 @@ export const methodReferences = {
     "Vul, E., Harris, C., Winkielman, P., & Pashler, H. (2009). Puzzlingly high correlations in fMRI studies of emotion, personality, and social cognition. Perspectives on Psychological Science, 4(3), 274–290.",
   "Welch 1947":
     "Welch, B. L. (1947). The generalization of “Student's” problem when several different population variances are involved. Biometrika, 34(1–2), 28–35.",
-  "Westfall & Young 1993": "Westfall, P. H., & Young, S. S. (1993). Resampling-Based Multiple Testing: Examples and Methods for p-Value Adjustment. New York: Wiley.",
-  "Wilcox 1994": "Wilcox, R. R. (1994). The percentage bend correlation coefficient. Psychometrika, 59(4), 601–616.",
-  "Wilcox 2004": "Wilcox, R. R. (2004). Inferences based on a skipped correlation coefficient. Journal of Applied Statistics, 31(2), 131–143.",
-  "Wilcoxon 1945": "Wilcoxon, F. (1945). Individual comparisons by ranking methods. Biometrics Bulletin, 1(6), 80–83.",
+  "Westfall & Young 1993":
+    "Westfall, P. H., & Young, S. S. (1993). Resampling-Based Multiple Testing: Examples and Methods for p-Value Adjustment. New York: Wiley.",
+  "Wilcox 1994":
+    "Wilcox, R. R. (1994). The percentage bend correlation coefficient. Psychometrika, 59(4), 601–616.",
+  "Wilcox 2004":
+    "Wilcox, R. R. (2004). Inferences based on a skipped correlation coefficient. Journal of Applied Statistics, 31(2), 131–143.",
+  "Wilcoxon 1945":
+    "Wilcoxon, F. (1945). Individual comparisons by ranking methods. Biometrics Bulletin, 1(6), 80–83.",
   "Winkler et al. 2014":
     "Winkler, A. M., Ridgway, G. R., Webster, M. A., Smith, S. M., & Nichols, T. E. (2014). Permutation inference for the general linear model. NeuroImage, 92, 381–397.",
 } as const;
@@ -173,11 +196,14 @@ export function shortHash(sha256: string): string {
 
 function specOf(recipe: Readonly<Record<string, unknown>>): ModelSpec {
   const fields: Record<string, unknown> = {};
-  for (const key of Object.keys(modelSpecSchema.shape)) if (recipe[key] !== undefined) fields[key] = recipe[key];
+  for (const key of Object.keys(modelSpecSchema.shape))
+    if (recipe[key] !== undefined) fields[key] = recipe[key];
   const parsed = modelSpecSchema.safeParse(fields);
   if (!parsed.success) {
     const issue = parsed.error.issues[0];
-    throw new MethodsTextError(`recipe field '${issue.path.join(".") || "(model)"}': ${issue.message}`);
+    throw new MethodsTextError(
+      `recipe field '${issue.path.join(".") || "(model)"}': ${issue.message}`,
+    );
   }
   return parsed.data;
 }
@@ -199,7 +225,12 @@ class Citations {
     return caution.text;
   }
   references(): MethodsReference[] {
-    const byCitation = (a: ReferenceKey, b: ReferenceKey) => (methodReferences[a] < methodReferences[b] ? -1 : methodReferences[a] > methodReferences[b] ? 1 : 0);
+    const byCitation = (a: ReferenceKey, b: ReferenceKey) =>
+      methodReferences[a] < methodReferences[b]
+        ? -1
+        : methodReferences[a] > methodReferences[b]
+          ? 1
+          : 0;
     return [...this.used].sort(byCitation).map((key) => ({ key, citation: methodReferences[key] }));
   }
 }
@@ -215,17 +246,24 @@ function nRange(regions: readonly RegionResult[]): string {
 function joinSentences(input: MethodsInput): string[] {
   const { brain, participants } = input.datasets;
   const brainText = `the brain table ${quoted(brain.fileName)} (version ${brain.version}, SHA-256 ${shortHash(brain.sha256)}…)`;
-  const idColumn = typeof input.recipe.idColumn === "string" ? input.recipe.idColumn : "participant_id";
+  const idColumn =
+    typeof input.recipe.idColumn === "string" ? input.recipe.idColumn : "participant_id";
   if (!participants || !input.roster) {
-    return [`Contrast values were read from ${brainText} for ${count(input.brainParticipants, "participant")}; no participant sheet was used.`];
+    return [
+      `Contrast values were read from ${brainText} for ${count(input.brainParticipants, "participant")}; no participant sheet was used.`,
+    ];
   }
   const r = input.roster;
   const out = [
     `Contrast values from ${brainText} were joined with the participant sheet ${quoted(participants.fileName)} (version ${participants.version}, SHA-256 ${shortHash(participants.sha256)}…) by participant identifier (column ${quoted(idColumn)}); identifiers were compared after trimming spaces, ignoring case, and treating a leading “sub-” as optional, and no other near match was merged without a confirmed mapping.`,
   ];
   const unmatched: string[] = [];
-  if (r.onlyInBrainTable > 0) unmatched.push(`${count(r.onlyInBrainTable, "participant")} only in the brain table`);
-  if (r.onlyInParticipantSheet > 0) unmatched.push(`${count(r.onlyInParticipantSheet, "participant")} only in the participant sheet`);
+  if (r.onlyInBrainTable > 0)
+    unmatched.push(`${count(r.onlyInBrainTable, "participant")} only in the brain table`);
+  if (r.onlyInParticipantSheet > 0)
+    unmatched.push(
+      `${count(r.onlyInParticipantSheet, "participant")} only in the participant sheet`,
+    );
   if (r.duplicateIds > 0) unmatched.push(count(r.duplicateIds, "duplicated identifier"));
   let sentence = `Of ${count(r.brainParticipants, "participant")} in the brain table and ${numeral(r.sheetParticipants)} in the participant sheet, ${numeral(r.matched)} ${was(r.matched)} matched`;
   if (r.matchedByMapping > 0) {
@@ -240,45 +278,66 @@ function joinSentences(input: MethodsInput): string[] {
 function setAsideSentence(spec: ModelSpec): string {
   const asides = spec.setAside;
   if (asides.length === 0) return "No participant was set aside.";
-  const everyRegion = new Set(asides.filter((s) => s.region === undefined).map((s) => s.participant));
-  const pairs = new Set(asides.filter((s) => s.region !== undefined && !everyRegion.has(s.participant)).map((s) => `${s.participant}\u0000${s.region}`));
+  const everyRegion = new Set(
+    asides.filter((s) => s.region === undefined).map((s) => s.participant),
+  );
+  const pairs = new Set(
+    asides
+      .filter((s) => s.region !== undefined && !everyRegion.has(s.participant))
+      .map((s) => `${s.participant}\u0000${s.region}`),
+  );
   const people = new Set([...pairs].map((p) => p.split("\u0000")[0])).size;
   const parts: string[] = [];
-  if (everyRegion.size > 0) parts.push(`${count(everyRegion.size, "participant")} from every region`);
+  if (everyRegion.size > 0)
+    parts.push(`${count(everyRegion.size, "participant")} from every region`);
   if (people === 1) parts.push(`1 participant from ${count(pairs.size, "region")}`);
-  else if (people > 1 && pairs.size === people) parts.push(`${count(people, "participant")} from 1 region each`);
-  else if (people > 1) parts.push(`${count(people, "participant")} from some regions only (${count(pairs.size, "participant–region pair")})`);
+  else if (people > 1 && pairs.size === people)
+    parts.push(`${count(people, "participant")} from 1 region each`);
+  else if (people > 1)
+    parts.push(
+      `${count(people, "participant")} from some regions only (${count(pairs.size, "participant–region pair")})`,
+    );
   return `The team set aside ${list(parts)}; every set-aside has a written reason recorded in the study's audit log, and no participant was excluded automatically.`;
 }
 
 function dataSentences(input: MethodsInput, spec: ModelSpec): string[] {
   const out = joinSentences(input);
   if (input.session && input.session.of > 1 && spec.kind !== "reliability") {
-    out.push(`The brain table holds ${count(input.session.of, "session")}; values from session ${quoted(input.session.label)} were analysed.`);
+    out.push(
+      `The brain table holds ${count(input.session.of, "session")}; values from session ${quoted(input.session.label)} were analysed.`,
+    );
   }
   out.push(setAsideSentence(spec));
   const n = nRange(input.result.regions);
   if (spec.kind === "reliability") {
-    out.push(`Participants without a value in every session were left out of that region, leaving ${n} per region.`);
+    out.push(
+      `Participants without a value in every session were left out of that region, leaving ${n} per region.`,
+    );
   } else {
     const fields = ["the contrast value"];
     if (spec.kind === "association" && spec.predictor) fields.push(quoted(spec.predictor));
     if (spec.group) fields.push(`the group ${quoted(spec.group)}`);
-    if (spec.covariates.length > 0) fields.push(spec.covariates.length === 1 ? "the covariate" : "a covariate");
-    out.push(`Participants with a missing value in ${list(fields, "or")} were left out of that region only (listwise deletion), leaving ${n} per region.`);
+    if (spec.covariates.length > 0)
+      fields.push(spec.covariates.length === 1 ? "the covariate" : "a covariate");
+    out.push(
+      `Participants with a missing value in ${list(fields, "or")} were left out of that region only (listwise deletion), leaving ${n} per region.`,
+    );
   }
   return out;
 }
 
 /** "In the region “L_insula”" or "In each of the 12 regions". */
 function regionWords(regions: readonly RegionResult[]): string {
-  return regions.length === 1 ? `In the region ${quoted(regions[0].region)}` : `In each of the ${numeral(regions.length)} regions`;
+  return regions.length === 1
+    ? `In the region ${quoted(regions[0].region)}`
+    : `In each of the ${numeral(regions.length)} regions`;
 }
 
 /** ", adjusting for “age”, “sex”, and the group “group”," or "". */
 function adjustingWords(spec: ModelSpec): string {
   const terms = spec.covariates.map(quoted);
-  if (spec.kind === "association" && spec.group && !spec.interaction) terms.push(`the group ${quoted(spec.group)}`);
+  if (spec.kind === "association" && spec.group && !spec.interaction)
+    terms.push(`the group ${quoted(spec.group)}`);
   return terms.length > 0 ? `, adjusting for ${list(terms)},` : "";
 }
 
@@ -296,20 +355,38 @@ function modelSentences(spec: ModelSpec, regions: readonly RegionResult[], c: Ci
   }
   if (spec.kind === "one-sample") {
     let how: string;
-    if (weighted) how = hasCov ? "using the intercept of a weighted linear model with mean-centred covariates (the adjusted weighted mean)" : "using the weighted mean";
-    else if (spec.estimator === "ols") how = hasCov ? "using the intercept of a least-squares linear model with mean-centred covariates (the adjusted mean)" : `with a one-sample t test ${c.cite("Student 1908")}`;
-    else if (spec.estimator === "rank") how = `with the Wilcoxon signed-rank test ${c.cite("Wilcoxon 1945")}, the estimate being the Hodges–Lehmann pseudomedian ${c.cite("Hodges & Lehmann 1963")}`;
+    if (weighted)
+      how = hasCov
+        ? "using the intercept of a weighted linear model with mean-centred covariates (the adjusted weighted mean)"
+        : "using the weighted mean";
+    else if (spec.estimator === "ols")
+      how = hasCov
+        ? "using the intercept of a least-squares linear model with mean-centred covariates (the adjusted mean)"
+        : `with a one-sample t test ${c.cite("Student 1908")}`;
+    else if (spec.estimator === "rank")
+      how = `with the Wilcoxon signed-rank test ${c.cite("Wilcoxon 1945")}, the estimate being the Hodges–Lehmann pseudomedian ${c.cite("Hodges & Lehmann 1963")}`;
     else how = robustWords(spec.estimator, c, "location");
-    const subject = spec.estimator === "ols" ? "the mean contrast value across participants" : "the location of the contrast values across participants";
+    const subject =
+      spec.estimator === "ols"
+        ? "the mean contrast value across participants"
+        : "the location of the contrast values across participants";
     out.push(`${where}, ${subject}${adjusting} was tested against zero ${how}.`);
   } else if (spec.kind === "two-group") {
     const [a, b] = spec.levels ?? ["first", "second"];
     const levels = spec.levels ? `the levels ${quoted(a)} and ${quoted(b)}` : "the two levels";
     let how: string;
-    if (weighted) how = hasCov ? "by a weighted linear model with the covariates" : "using the weighted difference in means";
-    else if (spec.estimator === "ols") how = hasCov ? "by a least-squares linear model with the covariates (analysis of covariance)" : `with Student's t test with pooled variance ${c.cite("Student 1908")}`;
-    else if (spec.estimator === "welch") how = `with Welch's t test and Welch–Satterthwaite degrees of freedom ${c.cite("Welch 1947")}`;
-    else if (spec.estimator === "rank") how = `with the Mann–Whitney U test ${c.cite("Mann & Whitney 1947")}, the estimate being the Hodges–Lehmann shift ${c.cite("Hodges & Lehmann 1963")}`;
+    if (weighted)
+      how = hasCov
+        ? "by a weighted linear model with the covariates"
+        : "using the weighted difference in means";
+    else if (spec.estimator === "ols")
+      how = hasCov
+        ? "by a least-squares linear model with the covariates (analysis of covariance)"
+        : `with Student's t test with pooled variance ${c.cite("Student 1908")}`;
+    else if (spec.estimator === "welch")
+      how = `with Welch's t test and Welch–Satterthwaite degrees of freedom ${c.cite("Welch 1947")}`;
+    else if (spec.estimator === "rank")
+      how = `with the Mann–Whitney U test ${c.cite("Mann & Whitney 1947")}, the estimate being the Hodges–Lehmann shift ${c.cite("Hodges & Lehmann 1963")}`;
     else how = robustWords(spec.estimator, c, "difference");
     out.push(
       `${where}, contrast values were compared between ${levels} of ${quoted(spec.group ?? "group")}${adjusting} ${how}; the estimate is ${spec.levels ? `${quoted(a)} minus ${quoted(b)}` : "the first level minus the second"}.`,
@@ -329,7 +406,9 @@ function modelSentences(spec: ModelSpec, regions: readonly RegionResult[], c: Ci
           ? `as the least-squares slope of the predictor with the partial correlation r and its Fisher z interval ${c.cite("Fisher 1921")}`
           : `as the least-squares regression slope with Pearson's r and its Fisher z interval ${c.cite("Fisher 1921")}`;
     } else if (spec.estimator === "rank") {
-      how = adjusted ? `by the partial Spearman correlation (ranks, linear adjustment for the covariates) ${c.cite("Spearman 1904")}` : `by Spearman's rank correlation ${c.cite("Spearman 1904")}`;
+      how = adjusted
+        ? `by the partial Spearman correlation (ranks, linear adjustment for the covariates) ${c.cite("Spearman 1904")}`
+        : `by Spearman's rank correlation ${c.cite("Spearman 1904")}`;
     } else if (spec.estimator === "skipped") {
       how = `by the skipped correlation: bivariate outliers found by a projection method with a boxplot rule were removed and Pearson's r computed on the rest ${c.cite("Wilcox 2004", "Rousselet & Pernet 2012")}`;
     } else if (spec.estimator === "bend") {
@@ -339,7 +418,9 @@ function modelSentences(spec: ModelSpec, regions: readonly RegionResult[], c: Ci
   }
   if (weighted) {
     const tau =
-      spec.tau2Method === "reml" ? `restricted maximum likelihood ${c.cite("Viechtbauer 2005")}` : `the DerSimonian–Laird method of moments ${c.cite("DerSimonian & Laird 1986")}`;
+      spec.tau2Method === "reml"
+        ? `restricted maximum likelihood ${c.cite("Viechtbauer 2005")}`
+        : `the DerSimonian–Laird method of moments ${c.cite("DerSimonian & Laird 1986")}`;
     const small =
       spec.smallSample === "knapp-hartung"
         ? `tests and intervals used the Knapp–Hartung adjusted standard error with a t reference on n − p degrees of freedom ${c.cite("Knapp & Hartung 2003")}`
@@ -351,8 +432,17 @@ function modelSentences(spec: ModelSpec, regions: readonly RegionResult[], c: Ci
   return out;
 }
 
-function robustWords(estimator: ModelSpec["estimator"], c: Citations, what: "location" | "difference" | "slope" | "interaction"): string {
-  const target = what === "difference" ? "group difference" : what === "interaction" ? "interaction coefficient" : what;
+function robustWords(
+  estimator: ModelSpec["estimator"],
+  c: Citations,
+  what: "location" | "difference" | "slope" | "interaction",
+): string {
+  const target =
+    what === "difference"
+      ? "group difference"
+      : what === "interaction"
+        ? "interaction coefficient"
+        : what;
   if (estimator === "huber") {
     return `by robust M-estimation of the ${target} with Huber's ψ (k = 1.345) ${c.cite("Huber 1964")}, a median-absolute-deviation scale, and iteratively reweighted least squares`;
   }
@@ -363,7 +453,9 @@ function robustWords(estimator: ModelSpec["estimator"], c: Citations, what: "loc
 function rankExactness(regions: readonly RegionResult[]): string {
   const methods = regions.map((r) => String(r.method ?? ""));
   const exact = methods.filter((m) => /\bexact\b/.test(m)).length;
-  const approximation = methods.some((m) => /t approximation|partial Spearman/.test(m)) ? "the t approximation" : "the normal approximation with tie and continuity correction";
+  const approximation = methods.some((m) => /t approximation|partial Spearman/.test(m))
+    ? "the t approximation"
+    : "the normal approximation with tie and continuity correction";
   if (exact === regions.length) return "The rank tests' p-values are exact.";
   if (exact === 0) return `The rank tests' p-values come from ${approximation}.`;
   return `The rank tests' p-values are exact in ${count(exact, "region")} and come from ${approximation} in ${count(regions.length - exact, "region")}.`;
@@ -378,12 +470,17 @@ function permutationInfo(regions: readonly RegionResult[]): PermutationInfo[] {
   const out: PermutationInfo[] = [];
   for (const r of regions) {
     const p = r.permutation as { exact?: unknown; rearrangements?: unknown } | undefined;
-    if (p && typeof p.exact === "boolean" && typeof p.rearrangements === "number") out.push({ exact: p.exact, rearrangements: p.rearrangements });
+    if (p && typeof p.exact === "boolean" && typeof p.rearrangements === "number")
+      out.push({ exact: p.exact, rearrangements: p.rearrangements });
   }
   return out;
 }
 
-function inferenceSentences(spec: ModelSpec, regions: readonly RegionResult[], c: Citations): string[] {
+function inferenceSentences(
+  spec: ModelSpec,
+  regions: readonly RegionResult[],
+  c: Citations,
+): string[] {
   if (spec.kind === "reliability") return [];
   const seed = `seed ${spec.seed}`;
   if (spec.inference === "parametric") {
@@ -409,7 +506,12 @@ function inferenceSentences(spec: ModelSpec, regions: readonly RegionResult[], c
   } else if (spec.estimator === "ols") {
     scheme = `by permuting the residuals of the reduced model without the tested term and recomputing the t statistic, the Freedman–Lane procedure ${c.cite("Freedman & Lane 1983", "Winkler et al. 2014")}`;
   } else {
-    const what = spec.kind === "one-sample" ? "flipping the signs of the contrast values" : spec.kind === "two-group" ? "permuting the group labels" : `permuting the values of ${quoted(spec.predictor ?? "the predictor")}`;
+    const what =
+      spec.kind === "one-sample"
+        ? "flipping the signs of the contrast values"
+        : spec.kind === "two-group"
+          ? "permuting the group labels"
+          : `permuting the values of ${quoted(spec.predictor ?? "the predictor")}`;
     scheme = `by ${what} and recomputing the estimator's statistic`;
   }
   let how: string;
@@ -417,14 +519,21 @@ function inferenceSentences(spec: ModelSpec, regions: readonly RegionResult[], c
     const counts = info.map((i) => i.rearrangements);
     const lo = Math.min(...counts);
     const hi = Math.max(...counts);
-    const howMany = lo === hi ? count(lo, "rearrangement") : `${numeral(lo)} to ${numeral(hi)} rearrangements, depending on the region`;
+    const howMany =
+      lo === hi
+        ? count(lo, "rearrangement")
+        : `${numeral(lo)} to ${numeral(hi)} rearrangements, depending on the region`;
     how = `every distinct rearrangement was enumerated (${howMany}), so the p-values are exact`;
   } else {
     const shared = regions.length > 1 ? ", the same in every region," : "";
-    const enumerated = someExact ? "; where fewer distinct rearrangements exist than were asked for, all were enumerated and the p-value is exact" : "";
+    const enumerated = someExact
+      ? "; where fewer distinct rearrangements exist than were asked for, all were enumerated and the p-value is exact"
+      : "";
     how = `${count(spec.resamples, "random rearrangement")} ${was(spec.resamples)} drawn with a seeded generator (${seed})${shared} and the p-values are Monte Carlo estimates${enumerated}`;
   }
-  return [`Two-sided p-values were obtained ${scheme}; ${how}. Intervals are parametric 95% confidence intervals.`];
+  return [
+    `Two-sided p-values were obtained ${scheme}; ${how}. Intervals are parametric 95% confidence intervals.`,
+  ];
 }
 
 function correctionSentence(spec: ModelSpec, regionCount: number, c: Citations): string {
@@ -446,7 +555,10 @@ function correctionSentence(spec: ModelSpec, regionCount: number, c: Citations):
 
 function diagnosticSentences(spec: ModelSpec, c: Citations): string[] {
   if (spec.kind === "reliability") return [];
-  const sensitivity = spec.weights === "none" ? "; each region was also refitted without participants flagged as outlying or influential, as a sensitivity analysis" : "";
+  const sensitivity =
+    spec.weights === "none"
+      ? "; each region was also refitted without participants flagged as outlying or influential, as a sensitivity analysis"
+      : "";
   return [
     `Leverage, the externally studentized residual, and Cook's distance were computed for every participant in every region from the least-squares fit of the region's design ${c.cite("Cook 1977")}; participants were flagged as outlying (studentized residual beyond the Bonferroni critical value; ${c.name("Cook & Weisberg 1982")}), of high leverage (hat value above 2p/n; ${c.name("Hoaglin & Welsch 1978")}), or influential (Cook's distance above 4/n; ${c.name("Bollen & Jackman 1990")})${sensitivity}.`,
     "Flags did not remove anyone from the reported estimates.",
@@ -455,7 +567,8 @@ function diagnosticSentences(spec: ModelSpec, c: Citations): string[] {
 
 function softwareSentences(input: MethodsInput, spec: ModelSpec): string[] {
   const name = input.softwareName ?? "Covarion";
-  const version = typeof input.recipe.softwareVersion === "string" ? input.recipe.softwareVersion : null;
+  const version =
+    typeof input.recipe.softwareVersion === "string" ? input.recipe.softwareVersion : null;
   const recorded = ["the SHA-256 hashes of the data files", "the model"];
   if (spec.inference !== "parametric") recorded.push("the seed");
   if (version) recorded.push("the software version");

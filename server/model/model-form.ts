@@ -48,13 +48,18 @@ export { estimatorsByKind, type SpecProblem };
  */
 export function modelSpecProblems(spec: ModelSpec): SpecProblem[] {
   const out = specProblems(spec);
-  if (spec.setAside.length > 0) out.push({ field: "setAside", message: "set participants aside in the study (with a reason), not in the model" });
+  if (spec.setAside.length > 0)
+    out.push({
+      field: "setAside",
+      message: "set participants aside in the study (with a reason), not in the model",
+    });
   return out;
 }
 
 /** The model fields as the form sends them, checked by the rules above. */
 export const modelFieldsSchema = modelSpecSchema.superRefine((spec, ctx) => {
-  for (const p of modelSpecProblems(spec)) ctx.addIssue({ code: "custom", path: p.field.split("."), message: p.message });
+  for (const p of modelSpecProblems(spec))
+    ctx.addIssue({ code: "custom", path: p.field.split("."), message: p.message });
 });
 
 export const modelNameSchema = z
@@ -81,7 +86,9 @@ export const modelPatchSchema = z
     spec: modelFieldsSchema.optional(),
     regionSelection: regionSelectionSchema.optional(),
   })
-  .refine((b) => Object.keys(b).length > 0, { error: "give at least one of name, spec, regionSelection" });
+  .refine((b) => Object.keys(b).length > 0, {
+    error: "give at least one of name, spec, regionSelection",
+  });
 
 export type ModelCreateInput = z.input<typeof modelCreateSchema>;
 export type ModelCreate = z.output<typeof modelCreateSchema>;

@@ -5,9 +5,15 @@
 import { z } from "zod";
 
 const unitInterval = (what: string) =>
-  z.number({ error: `${what} must be a number` }).gt(0, { error: `${what} must be above 0` }).lt(1, { error: `${what} must be below 1` });
+  z
+    .number({ error: `${what} must be a number` })
+    .gt(0, { error: `${what} must be above 0` })
+    .lt(1, { error: `${what} must be below 1` });
 const reliability = (what: string) =>
-  z.number({ error: `${what} must be a number` }).gt(0, { error: `${what} must be above 0` }).max(1, { error: `${what} must be at most 1` });
+  z
+    .number({ error: `${what} must be a number` })
+    .gt(0, { error: `${what} must be above 0` })
+    .max(1, { error: `${what} must be at most 1` });
 
 export const varianceComponentsSchema = z.strictObject({
   measurementNoise: z.number().min(0, { error: "measurementNoise must be at least 0" }),
@@ -28,7 +34,11 @@ export const varianceComponentsSchema = z.strictObject({
 export const PLANNER_MAX_DRAWS = 200_000_000;
 
 /** Random draws of a simulation of `simulations` studies at each of `sizes` (total participants), `sessions` per participant. */
-export function simulationDraws(simulations: number, sizes: readonly number[], sessions = 1): number {
+export function simulationDraws(
+  simulations: number,
+  sizes: readonly number[],
+  sessions = 1,
+): number {
   const participants = sizes.reduce((sum, n) => sum + n, 0);
   return simulations * participants * (sessions + 2);
 }
@@ -45,27 +55,52 @@ export const plannerQuestionSchema = z
     power: unitInterval("power").default(0.8),
     reliabilityBrain: reliability("reliabilityBrain").optional(),
     reliabilityTrait: reliability("reliabilityTrait").optional(),
-    groupRatio: z.number().gt(0, { error: "groupRatio must be above 0" }).max(100, { error: "groupRatio must be at most 100" }).optional(),
+    groupRatio: z
+      .number()
+      .gt(0, { error: "groupRatio must be above 0" })
+      .max(100, { error: "groupRatio must be at most 100" })
+      .optional(),
     /** "formula" (default) or "simulation" from three variance components. */
     mode: z.enum(["formula", "simulation"]).default("formula"),
     components: varianceComponentsSchema.optional(),
     sessions: z.number().int().min(1).max(20).optional(),
     trials: z.number().int().min(1).max(10_000).optional(),
     simulations: z.number().int().min(100).max(20_000).default(2000),
-    seed: z.number().int().min(0).max(2 ** 31 - 1).default(1),
+    seed: z
+      .number()
+      .int()
+      .min(0)
+      .max(2 ** 31 - 1)
+      .default(1),
   })
   .superRefine((q, ctx) => {
     if (q.design === "correlation" && !(q.effect > -1 && q.effect < 1 && q.effect !== 0)) {
-      ctx.addIssue({ code: "custom", path: ["effect"], message: "a correlation effect must be between -1 and 1 and not 0" });
+      ctx.addIssue({
+        code: "custom",
+        path: ["effect"],
+        message: "a correlation effect must be between -1 and 1 and not 0",
+      });
     }
     if (q.design !== "correlation" && (q.effect === 0 || Math.abs(q.effect) > 10)) {
-      ctx.addIssue({ code: "custom", path: ["effect"], message: "a standardised difference d must be non-zero and at most 10 in size" });
+      ctx.addIssue({
+        code: "custom",
+        path: ["effect"],
+        message: "a standardised difference d must be non-zero and at most 10 in size",
+      });
     }
     if (q.mode === "simulation" && !q.components) {
-      ctx.addIssue({ code: "custom", path: ["components"], message: "simulation needs the three variance components" });
+      ctx.addIssue({
+        code: "custom",
+        path: ["components"],
+        message: "simulation needs the three variance components",
+      });
     }
     if (q.groupRatio !== undefined && q.design !== "two-group") {
-      ctx.addIssue({ code: "custom", path: ["groupRatio"], message: "groupRatio applies to the two-group design only" });
+      ctx.addIssue({
+        code: "custom",
+        path: ["groupRatio"],
+        message: "groupRatio applies to the two-group design only",
+      });
     }
   });
 

@@ -22,7 +22,10 @@ export interface SetAsideEventFacts {
 }
 
 /** The audit event kinds of set-asides (written by the set-aside service). */
-export const setAsideEventKinds = { setAside: "participant.set_aside", restored: "participant.restored" } as const;
+export const setAsideEventKinds = {
+  setAside: "participant.set_aside",
+  restored: "participant.restored",
+} as const;
 
 /** How a participant is named in sentences. */
 export function participantWords(participant: string | null): string {
@@ -47,7 +50,8 @@ export function quotedReason(reason: string): string {
 export function setAsideEventWords(facts: SetAsideEventFacts): string {
   const who = participantWords(facts.participant);
   const where = facts.region ?? "every region";
-  const what = facts.action === "set aside" ? `set aside ${who} from ${where}` : `restored ${who} to ${where}`;
+  const what =
+    facts.action === "set aside" ? `set aside ${who} from ${where}` : `restored ${who} to ${where}`;
   return facts.reason ? `${what}: ${quotedReason(facts.reason)}` : what;
 }
 
@@ -69,10 +73,20 @@ function textField(value: unknown, key: string): string | null {
  * in events recorded before it did, in `before`); its reason is the
  * restore's reason.
  */
-export function setAsideEventFacts(event: { kind: string; targetId?: string | null; before: unknown; after: unknown }): SetAsideEventFacts | null {
+export function setAsideEventFacts(event: {
+  kind: string;
+  targetId?: string | null;
+  before: unknown;
+  after: unknown;
+}): SetAsideEventFacts | null {
   const { before, after } = event;
   if (event.kind === setAsideEventKinds.setAside) {
-    return { action: "set aside", participant: textField(after, "participant") ?? event.targetId ?? null, region: textField(after, "region"), reason: textField(after, "reason") };
+    return {
+      action: "set aside",
+      participant: textField(after, "participant") ?? event.targetId ?? null,
+      region: textField(after, "region"),
+      reason: textField(after, "reason"),
+    };
   }
   if (event.kind === setAsideEventKinds.restored) {
     const named = after && typeof after === "object" && "participant" in after ? after : before;
@@ -92,12 +106,20 @@ export function setAsideDate(iso: string): string {
 }
 
 /** "Set aside on 3 Dec 2026 by Maren Lindqvist: motion spikes" (the participant card, the Set aside section). */
-export function setAsideLine(s: { createdAt: string; createdBy: { name: string | null }; reason: string }): string {
+export function setAsideLine(s: {
+  createdAt: string;
+  createdBy: { name: string | null };
+  reason: string;
+}): string {
   return `Set aside on ${setAsideDate(s.createdAt)} by ${s.createdBy.name ?? "a former member"}: ${s.reason}`;
 }
 
 /** "Restored on 4 Dec 2026 by Tomas Ferreira: motion rechecked", or null while the set-aside is active. */
-export function restoredLine(s: { restoredAt: string | null; restoredBy: { name: string | null } | null; restoreReason: string | null }): string | null {
+export function restoredLine(s: {
+  restoredAt: string | null;
+  restoredBy: { name: string | null } | null;
+  restoreReason: string | null;
+}): string | null {
   if (s.restoredAt === null) return null;
   const by = ` by ${s.restoredBy?.name ?? "a former member"}`;
   return `Restored on ${setAsideDate(s.restoredAt)}${by}${s.restoreReason ? `: ${s.restoreReason}` : " (no reason recorded)"}`;

@@ -48,17 +48,30 @@ export const sealRefusalMessage =
   `An Owner other than you seals it; ${turnOff}.`;
 
 /** True when `approverId` may approve a fit `starterId` started. Pure. */
-export function mayApprove(secondPersonSignOff: boolean, starterId: string, approverId: string): boolean {
+export function mayApprove(
+  secondPersonSignOff: boolean,
+  starterId: string,
+  approverId: string,
+): boolean {
   return !secondPersonSignOff || approverId !== starterId;
 }
 
 /** True when `sealerId` may seal a fit `starterId` started and `approverId` approved. Pure. */
-export function maySeal(secondPersonSignOff: boolean, starterId: string, approverId: string, sealerId: string): boolean {
+export function maySeal(
+  secondPersonSignOff: boolean,
+  starterId: string,
+  approverId: string,
+  sealerId: string,
+): boolean {
   return !secondPersonSignOff || !isSinglePersonSignOff(starterId, approverId, sealerId);
 }
 
 /** True when one person started, approved and sealed the fit (what a seal records as `singlePersonSignOff`). Pure. */
-export function isSinglePersonSignOff(starterId: string, approverId: string, sealerId: string): boolean {
+export function isSinglePersonSignOff(
+  starterId: string,
+  approverId: string,
+  sealerId: string,
+): boolean {
   return starterId === approverId && approverId === sealerId;
 }
 
@@ -75,13 +88,26 @@ function named(person: SignOffPerson, viewerId: string | null, otherwise: string
 }
 
 /** Who may approve next: "a Reviewer or Owner other than Tomas Ferreira" while the setting is on, else "a Reviewer or Owner". */
-export function whoMayApprove(secondPersonSignOff: boolean, starter: SignOffPerson, viewerId: string | null): string {
-  return secondPersonSignOff ? `a Reviewer or Owner other than ${named(starter, viewerId, "the person who started it")}` : "a Reviewer or Owner";
+export function whoMayApprove(
+  secondPersonSignOff: boolean,
+  starter: SignOffPerson,
+  viewerId: string | null,
+): string {
+  return secondPersonSignOff
+    ? `a Reviewer or Owner other than ${named(starter, viewerId, "the person who started it")}`
+    : "a Reviewer or Owner";
 }
 
 /** Who may seal next: "an Owner other than …" when the starter approved and the setting is on, else "an Owner". */
-export function whoMaySeal(secondPersonSignOff: boolean, starter: SignOffPerson, approver: SignOffPerson, viewerId: string | null): string {
-  return secondPersonSignOff && starter.id === approver.id ? `an Owner other than ${named(starter, viewerId, "the person who started and approved it")}` : "an Owner";
+export function whoMaySeal(
+  secondPersonSignOff: boolean,
+  starter: SignOffPerson,
+  approver: SignOffPerson,
+  viewerId: string | null,
+): string {
+  return secondPersonSignOff && starter.id === approver.id
+    ? `an Owner other than ${named(starter, viewerId, "the person who started and approved it")}`
+    : "an Owner";
 }
 
 /** Said to the person who started a fit when the setting is off and they could sign it off alone (the publish panel). */

@@ -35,7 +35,12 @@ export const modelSpecSchema = z.strictObject({
   estimator: z.enum(estimators).default("ols"),
   inference: z.enum(inferences).default("parametric"),
   resamples: z.number().int().min(1).max(1_000_000).default(10000),
-  seed: z.number().int().min(0).max(2 ** 31 - 1).default(1),
+  seed: z
+    .number()
+    .int()
+    .min(0)
+    .max(2 ** 31 - 1)
+    .default(1),
   correction: z.enum(corrections).default("none"),
   setAside: z.array(setAsideSchema).default([]),
   /** Measurement-aware weighting by first-level standard errors. */

@@ -30,8 +30,13 @@ import type { PreviewStore, UploadOptions } from "../services/preview-store";
 import type { RouteDeps } from "./deps";
 import { studyParams } from "./studies";
 
-const columnName = z.string().trim().min(1, { error: "must not be empty" }).max(500, { error: "must be at most 500 characters" });
-const optionalField = (schema: z.ZodType) => z.preprocess((v) => (v === "" ? undefined : v), schema.optional());
+const columnName = z
+  .string()
+  .trim()
+  .min(1, { error: "must not be empty" })
+  .max(500, { error: "must be at most 500 characters" });
+const optionalField = (schema: z.ZodType) =>
+  z.preprocess((v) => (v === "" ? undefined : v), schema.optional());
 
 const uploadBody = z.strictObject({
   kind: z.enum(["brain", "participants"], { error: 'must be "brain" or "participants"' }),
@@ -54,9 +59,16 @@ const confirm = {
   params: datasetParams,
   query: noQuery,
   body: z.strictObject({
-    types: z.record(columnName, z.enum(["number", "category"], { error: 'must be "number" or "category"' })).optional(),
+    types: z
+      .record(
+        columnName,
+        z.enum(["number", "category"], { error: 'must be "number" or "category"' }),
+      )
+      .optional(),
     dropColumns: z.array(columnName).max(20_000).optional(),
-    identifierReasons: z.record(columnName, z.string().trim().min(1, { error: "give the reason" }).max(2000)).optional(),
+    identifierReasons: z
+      .record(columnName, z.string().trim().min(1, { error: "give the reason" }).max(2000))
+      .optional(),
     idColumn: columnName.optional(),
     seSuffix: z.string().min(1).max(50).optional(),
     layout: z.enum(["wide", "long"]).optional(),
@@ -65,7 +77,9 @@ const confirm = {
 };
 
 function noFileName(): HttpError {
-  return new HttpError(400, "validation_failed", `body.file: ${NO_FILE_NAME}`, [{ field: "body.file", message: NO_FILE_NAME }]);
+  return new HttpError(400, "validation_failed", `body.file: ${NO_FILE_NAME}`, [
+    { field: "body.file", message: NO_FILE_NAME },
+  ]);
 }
 
 /** multer with the intake's byte limit; its errors answer with the envelope (413 too large, 400 otherwise). */
@@ -82,19 +96,38 @@ function receiveFile(): RequestHandler {
     single(req, res, (error: unknown) => {
       if (!error) {
         // A file part sent without a name arrives as a text field.
-        if (!req.file && typeof (req.body as { file?: unknown } | undefined)?.file === "string") return next(noFileName());
+        if (!req.file && typeof (req.body as { file?: unknown } | undefined)?.file === "string")
+          return next(noFileName());
         return next();
       }
       if (error instanceof multer.MulterError) {
         if (error.code === "LIMIT_FILE_SIZE") {
           return next(
-            new IntakeError(413, [problem("upload", "too_large", `the file is larger than the limit of ${DEFAULT_MAX_BYTES / (1024 * 1024)} MB`)]),
+            new IntakeError(413, [
+              problem(
+                "upload",
+                "too_large",
+                `the file is larger than the limit of ${DEFAULT_MAX_BYTES / (1024 * 1024)} MB`,
+              ),
+            ]),
           );
         }
         const field = error.field ? ` (field "${error.field}")` : "";
-        return next(new HttpError(400, "bad_upload", `The upload is not as expected: ${error.message}${field}. Send the fields kind and file.`));
+        return next(
+          new HttpError(
+            400,
+            "bad_upload",
+            `The upload is not as expected: ${error.message}${field}. Send the fields kind and file.`,
+          ),
+        );
       }
-      next(new HttpError(400, "bad_upload", "The upload could not be read as multipart form data with the fields kind and file."));
+      next(
+        new HttpError(
+          400,
+          "bad_upload",
+          "The upload could not be read as multipart form data with the fields kind and file.",
+        ),
+      );
     });
   };
 }
@@ -104,61 +137,95 @@ export function datasetRoutes(deps: RouteDeps, store: PreviewStore): Router {
   // Preview ids prove they were issued here, so one from before a restart is told "expired" (preview-store.ts).
   store.signIdsWith(deps.config.secrets.authSecret);
 
-  router.post("/studies/:studyId/datasets", authorize("data.upload"), receiveFile(), validate(upload), async (req, res) => {
-    const { study } = authorizedStudy(res);
-    const file = req.file;
-    if (!file) {
-      // A part whose file name is empty never reaches this handler either; say so.
-      const message = `no file arrived: attach the file to upload; if you did, ${NO_FILE_NAME}`;
-      throw new HttpError(400, "validation_failed", `body.file: ${message}`, [{ field: "body.file", message }]);
-    }
-    const fileName = cleanFileName(file.originalname);
-    if (fileName === null) throw noFileName();
-    const body = parsed(res, upload).body;
-    const user = signedInUser(res);
-    const options: UploadOptions = {
-      ...(body.idColumn !== undefined ? { idColumn: body.idColumn as string } : {}),
-      ...(body.seSuffix !== undefined ? { seSuffix: body.seSuffix as string } : {}),
-      ...(body.layout !== undefined ? { layout: body.layout as "wide" | "long" } : {}),
-      ...(body.sessionColumn !== undefined ? { sessionColumn: body.sessionColumn === "none" ? null : (body.sessionColumn as string) } : {}),
-    };
-    const view = await previewUpload(store, {
-      studyId: study.id,
-      kind: body.kind,
-      fileName,
-      bytes: file.bytes ?? new Uint8Array(0),
-      options,
-      uploader: { id: user.id, name: user.name, email: user.email },
-      now: deps.clock(),
-    });
-    res.status(201).json(view);
-  });
+  router.post(
+    "/studies/:studyId/datasets",
+    authorize("data.upload"),
+    receiveFile(),
+    validate(upload),
+    async (req, res) => {
+      const { study } = authorizedStudy(res);
+      const file = req.file;
+      if (!file) {
+        // A part whose file name is empty never reaches this handler either; say so.
+        const message = `no file arrived: attach the file to upload; if you did, ${NO_FILE_NAME}`;
+        throw new HttpError(400, "validation_failed", `body.file: ${message}`, [
+          { field: "body.file", message },
+        ]);
+      }
+      const fileName = cleanFileName(file.originalname);
+      if (fileName === null) throw noFileName();
+      const body = parsed(res, upload).body;
+      const user = signedInUser(res);
+      const options: UploadOptions = {
+        ...(body.idColumn !== undefined ? { idColumn: body.idColumn as string } : {}),
+        ...(body.seSuffix !== undefined ? { seSuffix: body.seSuffix as string } : {}),
+        ...(body.layout !== undefined ? { layout: body.layout as "wide" | "long" } : {}),
+        ...(body.sessionColumn !== undefined
+          ? { sessionColumn: body.sessionColumn === "none" ? null : (body.sessionColumn as string) }
+          : {}),
+      };
+      const view = await previewUpload(store, {
+        studyId: study.id,
+        kind: body.kind,
+        fileName,
+        bytes: file.bytes ?? new Uint8Array(0),
+        options,
+        uploader: { id: user.id, name: user.name, email: user.email },
+        now: deps.clock(),
+      });
+      res.status(201).json(view);
+    },
+  );
 
-  router.get("/studies/:studyId/datasets", authorize("data.read"), validate(list), async (_req, res) => {
-    const { study } = authorizedStudy(res);
-    res.json(await listDatasets(deps.db, store, study.id, deps.clock()));
-  });
+  router.get(
+    "/studies/:studyId/datasets",
+    authorize("data.read"),
+    validate(list),
+    async (_req, res) => {
+      const { study } = authorizedStudy(res);
+      res.json(await listDatasets(deps.db, store, study.id, deps.clock()));
+    },
+  );
 
-  router.get("/studies/:studyId/datasets/:datasetId", authorize("data.read"), validate(read), async (_req, res) => {
-    const { study, role } = authorizedStudy(res);
-    const { params, query } = parsed(res, read);
-    const withRows = roleMay("participants.read", role, { restricted: study.restricted });
-    res.json(await getDataset(deps.db, store, study.id, params.datasetId, { ...query, withRows }, deps.clock()));
-  });
+  router.get(
+    "/studies/:studyId/datasets/:datasetId",
+    authorize("data.read"),
+    validate(read),
+    async (_req, res) => {
+      const { study, role } = authorizedStudy(res);
+      const { params, query } = parsed(res, read);
+      const withRows = roleMay("participants.read", role, { restricted: study.restricted });
+      res.json(
+        await getDataset(
+          deps.db,
+          store,
+          study.id,
+          params.datasetId,
+          { ...query, withRows },
+          deps.clock(),
+        ),
+      );
+    },
+  );
 
-  router.post("/studies/:studyId/datasets/:datasetId/confirm", authorize("data.upload"), validate(confirm), async (_req, res) => {
-    const { study } = authorizedStudy(res);
-    const { params, body } = parsed(res, confirm);
-    const user = signedInUser(res);
-    const view = await confirmUpload(deps.db, store, {
-      studyId: study.id,
-      datasetId: params.datasetId,
-      actor: { id: user.id, name: user.name, email: user.email },
-      confirmation: body,
-      now: deps.clock(),
-    });
-    res.status(201).json(view);
-  });
+  router.post(
+    "/studies/:studyId/datasets/:datasetId/confirm",
+    authorize("data.upload"),
+    validate(confirm),
+    async (_req, res) => {
+      const { study } = authorizedStudy(res);
+      const { params, body } = parsed(res, confirm);
+      const user = signedInUser(res);
+      const view = await confirmUpload(deps.db, store, {
+        studyId: study.id,
+        datasetId: params.datasetId,
+        actor: { id: user.id, name: user.name, email: user.email },
+        confirmation: body,
+        now: deps.clock(),
+      });
+      res.status(201).json(view);
+    },
+  );
 
   return router;
 }

@@ -24,14 +24,27 @@ export function devRoutes(deps: RouteDeps): Router {
     if (!deps.mailbox) throw notFound("The local mailbox is not running.");
     res.json(deps.mailbox.messages());
   });
-  router.post("/dev/demo-sign-in", authorize("dev.demo-sign-in"), validate(demoSignIn), async (req, res) => {
-    if (!deps.config.demo) throw notFound("Demo sign-in is available in demo mode only.");
-    const { email } = parsed(res, demoSignIn).body;
-    if (!demoPeople.some((p) => p.email === email)) throw notFound(`${email} is not a demo account.`);
-    const [user] = await deps.db.select().from(users).where(eq(users.email, email)).limit(1);
-    if (!user) throw notFound(`The demo account ${email} has not been created in this database.`);
-    await createSession(deps.db, req, res, user.id, deps.clock(), deps.config.publicUrl.startsWith("https:"));
-    res.json({ id: user.id, email: user.email, name: user.name });
-  });
+  router.post(
+    "/dev/demo-sign-in",
+    authorize("dev.demo-sign-in"),
+    validate(demoSignIn),
+    async (req, res) => {
+      if (!deps.config.demo) throw notFound("Demo sign-in is available in demo mode only.");
+      const { email } = parsed(res, demoSignIn).body;
+      if (!demoPeople.some((p) => p.email === email))
+        throw notFound(`${email} is not a demo account.`);
+      const [user] = await deps.db.select().from(users).where(eq(users.email, email)).limit(1);
+      if (!user) throw notFound(`The demo account ${email} has not been created in this database.`);
+      await createSession(
+        deps.db,
+        req,
+        res,
+        user.id,
+        deps.clock(),
+        deps.config.publicUrl.startsWith("https:"),
+      );
+      res.json({ id: user.id, email: user.email, name: user.name });
+    },
+  );
   return router;
 }

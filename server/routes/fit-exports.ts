@@ -25,28 +25,59 @@ const read = { params: z.strictObject({ fitId: idSchema }), query: noQuery };
 export function fitExportRoutes(deps: RouteDeps): Router {
   const router = Router();
 
-  router.get("/fits/:fitId/regions.csv", authorize("fits.export", { studyOf: fitStudy }), validate(read), async (_req, res) => {
-    const fit = await findFit(deps.db, authorizedStudy(res).study.id, parsed(res, read).params.fitId);
-    const csv = regionsCsv(fit);
-    res.set({ "Content-Type": "text/csv; charset=utf-8", "Content-Disposition": `attachment; filename="${exportFileName(fit, "regions.csv")}"` });
-    res.send(csv);
-  });
+  router.get(
+    "/fits/:fitId/regions.csv",
+    authorize("fits.export", { studyOf: fitStudy }),
+    validate(read),
+    async (_req, res) => {
+      const fit = await findFit(
+        deps.db,
+        authorizedStudy(res).study.id,
+        parsed(res, read).params.fitId,
+      );
+      const csv = regionsCsv(fit);
+      res.set({
+        "Content-Type": "text/csv; charset=utf-8",
+        "Content-Disposition": `attachment; filename="${exportFileName(fit, "regions.csv")}"`,
+      });
+      res.send(csv);
+    },
+  );
 
-  router.get("/fits/:fitId/recipe.json", authorize("fits.export", { studyOf: fitStudy }), validate(read), async (_req, res) => {
-    const { study, role } = authorizedStudy(res);
-    if (!roleMay("fits.participants.read", role, { restricted: study.restricted })) {
-      throw forbidden("This study restricts participant-level rows, and the recipe names participants (set-asides and id mappings).");
-    }
-    const fit = await findFit(deps.db, study.id, parsed(res, read).params.fitId);
-    const text = recipeJson(fit);
-    res.set({ "Content-Type": "application/json; charset=utf-8", "Content-Disposition": `attachment; filename="${exportFileName(fit, "recipe.json")}"` });
-    res.send(text);
-  });
+  router.get(
+    "/fits/:fitId/recipe.json",
+    authorize("fits.export", { studyOf: fitStudy }),
+    validate(read),
+    async (_req, res) => {
+      const { study, role } = authorizedStudy(res);
+      if (!roleMay("fits.participants.read", role, { restricted: study.restricted })) {
+        throw forbidden(
+          "This study restricts participant-level rows, and the recipe names participants (set-asides and id mappings).",
+        );
+      }
+      const fit = await findFit(deps.db, study.id, parsed(res, read).params.fitId);
+      const text = recipeJson(fit);
+      res.set({
+        "Content-Type": "application/json; charset=utf-8",
+        "Content-Disposition": `attachment; filename="${exportFileName(fit, "recipe.json")}"`,
+      });
+      res.send(text);
+    },
+  );
 
-  router.get("/fits/:fitId/methods", authorize("fits.export", { studyOf: fitStudy }), validate(read), async (_req, res) => {
-    const fit = await findFit(deps.db, authorizedStudy(res).study.id, parsed(res, read).params.fitId);
-    res.json(await methodsOf(deps.db, fit));
-  });
+  router.get(
+    "/fits/:fitId/methods",
+    authorize("fits.export", { studyOf: fitStudy }),
+    validate(read),
+    async (_req, res) => {
+      const fit = await findFit(
+        deps.db,
+        authorizedStudy(res).study.id,
+        parsed(res, read).params.fitId,
+      );
+      res.json(await methodsOf(deps.db, fit));
+    },
+  );
 
   return router;
 }

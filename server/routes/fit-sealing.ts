@@ -23,25 +23,53 @@ import { approveFit, sealFit } from "../services/sealing";
 import type { RouteDeps } from "./deps";
 
 const fitStudy: StudyOf = { resolve: studyOfFit, notFound: "Fit not found." };
-const action = { params: z.strictObject({ fitId: idSchema }), query: noQuery, body: z.union([z.strictObject({}), z.undefined()]) };
+const action = {
+  params: z.strictObject({ fitId: idSchema }),
+  query: noQuery,
+  body: z.union([z.strictObject({}), z.undefined()]),
+};
 
 export function fitSealingRoutes(deps: RouteDeps, jobs: FitJobs): Router {
   const router = Router();
 
-  router.post("/fits/:fitId/approve", authorize("fits.approve", { studyOf: fitStudy }), validate(action), async (_req, res) => {
-    const { study, role } = authorizedStudy(res);
-    const fit = await findFit(deps.db, study.id, parsed(res, action).params.fitId);
-    const now = deps.clock();
-    await approveFit(deps.db, signedInUser(res), fit, now);
-    res.json(await fitView(deps.db, jobs, await findFit(deps.db, study.id, fit.id), roleMay("fits.participants.read", role, { restricted: study.restricted })));
-  });
+  router.post(
+    "/fits/:fitId/approve",
+    authorize("fits.approve", { studyOf: fitStudy }),
+    validate(action),
+    async (_req, res) => {
+      const { study, role } = authorizedStudy(res);
+      const fit = await findFit(deps.db, study.id, parsed(res, action).params.fitId);
+      const now = deps.clock();
+      await approveFit(deps.db, signedInUser(res), fit, now);
+      res.json(
+        await fitView(
+          deps.db,
+          jobs,
+          await findFit(deps.db, study.id, fit.id),
+          roleMay("fits.participants.read", role, { restricted: study.restricted }),
+        ),
+      );
+    },
+  );
 
-  router.post("/fits/:fitId/seal", authorize("fits.seal", { studyOf: fitStudy }), validate(action), async (_req, res) => {
-    const { study, role } = authorizedStudy(res);
-    const fit = await findFit(deps.db, study.id, parsed(res, action).params.fitId);
-    await sealFit(deps.db, signedInUser(res), fit, deps.clock());
-    res.json(await fitView(deps.db, jobs, await findFit(deps.db, study.id, fit.id), roleMay("fits.participants.read", role, { restricted: study.restricted })));
-  });
+  router.post(
+    "/fits/:fitId/seal",
+    authorize("fits.seal", { studyOf: fitStudy }),
+    validate(action),
+    async (_req, res) => {
+      const { study, role } = authorizedStudy(res);
+      const fit = await findFit(deps.db, study.id, parsed(res, action).params.fitId);
+      await sealFit(deps.db, signedInUser(res), fit, deps.clock());
+      res.json(
+        await fitView(
+          deps.db,
+          jobs,
+          await findFit(deps.db, study.id, fit.id),
+          roleMay("fits.participants.read", role, { restricted: study.restricted }),
+        ),
+      );
+    },
+  );
 
   return router;
 }

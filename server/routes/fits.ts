@@ -32,8 +32,21 @@ import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import type { FitEvent, FitJobs } from "../jobs/fit-jobs";
 import { sendEncoded } from "../http/encoded-body";
 import { fitViewBody } from "../services/fit-view-body";
-import { cancelFit, createFit, findFit, listFits, loadFitView, previewRegion, regionDetail, studyOfFit } from "../services/fits";
-import { PARTICIPANT_PAGE_MAX, participantOrders, regionParticipants } from "../services/region-participants";
+import {
+  cancelFit,
+  createFit,
+  findFit,
+  listFits,
+  loadFitView,
+  previewRegion,
+  regionDetail,
+  studyOfFit,
+} from "../services/fits";
+import {
+  PARTICIPANT_PAGE_MAX,
+  participantOrders,
+  regionParticipants,
+} from "../services/region-participants";
 import type { RouteDeps } from "./deps";
 import { studyParams } from "./studies";
 
@@ -44,7 +57,11 @@ const list = { params: studyParams, query: z.strictObject({ modelId: idSchema.op
 const create = { params: studyParams, query: noQuery, body: z.strictObject({ modelId: idSchema }) };
 const read = { params: fitParams, query: noQuery };
 const region = { params: regionParams, query: noQuery };
-const preview = { params: regionParams, query: noQuery, body: z.union([z.strictObject({}), z.undefined()]) };
+const preview = {
+  params: regionParams,
+  query: noQuery,
+  body: z.union([z.strictObject({}), z.undefined()]),
+};
 const participantPage = {
   params: regionParams,
   query: z.strictObject({
@@ -72,76 +89,153 @@ export function fitRoutes(deps: RouteDeps, jobs: FitJobs, options: FitRouteOptio
   const heartbeatMs = options.heartbeatMs ?? 15_000;
   const router = Router();
 
-  router.get("/studies/:studyId/fits", authorize("fits.read"), validate(list), async (_req, res) => {
-    res.json(await listFits(deps.db, jobs, authorizedStudy(res).study.id, { modelId: parsed(res, list).query.modelId, participantsVisible: participantsVisible(res) }));
-  });
+  router.get(
+    "/studies/:studyId/fits",
+    authorize("fits.read"),
+    validate(list),
+    async (_req, res) => {
+      res.json(
+        await listFits(deps.db, jobs, authorizedStudy(res).study.id, {
+          modelId: parsed(res, list).query.modelId,
+          participantsVisible: participantsVisible(res),
+        }),
+      );
+    },
+  );
 
-  router.post("/studies/:studyId/fits", authorize("fits.run"), validate(create), async (_req, res) => {
-    const fit = await createFit(deps.db, jobs, signedInUser(res), authorizedStudy(res).study, parsed(res, create).body.modelId, deps.clock(), deps.version);
-    res.status(202).json(fit);
-  });
+  router.post(
+    "/studies/:studyId/fits",
+    authorize("fits.run"),
+    validate(create),
+    async (_req, res) => {
+      const fit = await createFit(
+        deps.db,
+        jobs,
+        signedInUser(res),
+        authorizedStudy(res).study,
+        parsed(res, create).body.modelId,
+        deps.clock(),
+        deps.version,
+      );
+      res.status(202).json(fit);
+    },
+  );
 
-  router.get("/fits/:fitId", authorize("fits.read", { studyOf: fitStudy }), validate(read), async (req, res) => {
-    const answer = await fitViewBody(deps.db, jobs, authorizedStudy(res).study.id, parsed(res, read).params.fitId, participantsVisible(res));
-    if ("encoded" in answer) sendEncoded(req, res, answer.encoded);
-    else res.json(answer.view);
-  });
+  router.get(
+    "/fits/:fitId",
+    authorize("fits.read", { studyOf: fitStudy }),
+    validate(read),
+    async (req, res) => {
+      const answer = await fitViewBody(
+        deps.db,
+        jobs,
+        authorizedStudy(res).study.id,
+        parsed(res, read).params.fitId,
+        participantsVisible(res),
+      );
+      if ("encoded" in answer) sendEncoded(req, res, answer.encoded);
+      else res.json(answer.view);
+    },
+  );
 
-  router.get("/fits/:fitId/events", authorize("fits.read", { studyOf: fitStudy }), validate(read), async (req, res) => {
-    const fitId = parsed(res, read).params.fitId;
-    const studyId = authorizedStudy(res).study.id;
-    await findFit(deps.db, studyId, fitId);
-    res.status(200);
-    res.set({ "Content-Type": "text/event-stream; charset=utf-8", "Cache-Control": "no-cache", "X-Accel-Buffering": "no" });
-    res.flushHeaders();
-    const flush = () => (res as unknown as { flush?: () => void }).flush?.();
-    let ended = false;
-    const send = (event: FitEvent["type"], data: Omit<FitEvent, "type" | "fitId"> & { id: string }) => {
-      if (ended) return;
-      res.write(`event: ${event}\ndata: ${JSON.stringify(data)}\n\n`);
-      flush();
-      if (terminal.includes(data.status)) end();
-    };
-    const unsubscribe = jobs.subscribe(fitId, (e) => send(e.type, { id: e.fitId, status: e.status, progress: e.progress, error: e.error }));
-    const heartbeat = setInterval(() => {
-      res.write(": heartbeat\n\n");
-      flush();
-    }, heartbeatMs);
-    function end() {
-      if (ended) return;
-      ended = true;
-      unsubscribe();
-      clearInterval(heartbeat);
-      res.end();
-    }
-    req.on("close", end);
-    // The current state, read after subscribing so no change falls between the two.
-    const current = await loadFitView(deps.db, jobs, studyId, fitId, false);
-    send("status", { id: current.id, status: current.status, progress: current.progress, error: current.error });
-  });
+  router.get(
+    "/fits/:fitId/events",
+    authorize("fits.read", { studyOf: fitStudy }),
+    validate(read),
+    async (req, res) => {
+      const fitId = parsed(res, read).params.fitId;
+      const studyId = authorizedStudy(res).study.id;
+      await findFit(deps.db, studyId, fitId);
+      res.status(200);
+      res.set({
+        "Content-Type": "text/event-stream; charset=utf-8",
+        "Cache-Control": "no-cache",
+        "X-Accel-Buffering": "no",
+      });
+      res.flushHeaders();
+      const flush = () => (res as unknown as { flush?: () => void }).flush?.();
+      let ended = false;
+      const send = (
+        event: FitEvent["type"],
+        data: Omit<FitEvent, "type" | "fitId"> & { id: string },
+      ) => {
+        if (ended) return;
+        res.write(`event: ${event}\ndata: ${JSON.stringify(data)}\n\n`);
+        flush();
+        if (terminal.includes(data.status)) end();
+      };
+      const unsubscribe = jobs.subscribe(fitId, (e) =>
+        send(e.type, { id: e.fitId, status: e.status, progress: e.progress, error: e.error }),
+      );
+      const heartbeat = setInterval(() => {
+        res.write(": heartbeat\n\n");
+        flush();
+      }, heartbeatMs);
+      function end() {
+        if (ended) return;
+        ended = true;
+        unsubscribe();
+        clearInterval(heartbeat);
+        res.end();
+      }
+      req.on("close", end);
+      // The current state, read after subscribing so no change falls between the two.
+      const current = await loadFitView(deps.db, jobs, studyId, fitId, false);
+      send("status", {
+        id: current.id,
+        status: current.status,
+        progress: current.progress,
+        error: current.error,
+      });
+    },
+  );
 
-  router.post("/fits/:fitId/cancel", authorize("fits.run", { studyOf: fitStudy }), validate({ ...read, body: z.union([z.strictObject({}), z.undefined()]) }), async (_req, res) => {
-    const fit = await findFit(deps.db, authorizedStudy(res).study.id, parsed(res, read).params.fitId);
-    res.json(await cancelFit(deps.db, jobs, signedInUser(res), fit, deps.clock()));
-  });
+  router.post(
+    "/fits/:fitId/cancel",
+    authorize("fits.run", { studyOf: fitStudy }),
+    validate({ ...read, body: z.union([z.strictObject({}), z.undefined()]) }),
+    async (_req, res) => {
+      const fit = await findFit(
+        deps.db,
+        authorizedStudy(res).study.id,
+        parsed(res, read).params.fitId,
+      );
+      res.json(await cancelFit(deps.db, jobs, signedInUser(res), fit, deps.clock()));
+    },
+  );
 
-  router.get("/fits/:fitId/regions/:region", authorize("fits.read", { studyOf: fitStudy }), validate(region), async (_req, res) => {
-    const { params } = parsed(res, region);
-    const fit = await findFit(deps.db, authorizedStudy(res).study.id, params.fitId);
-    res.json(await regionDetail(deps.db, fit, params.region, participantsVisible(res)));
-  });
+  router.get(
+    "/fits/:fitId/regions/:region",
+    authorize("fits.read", { studyOf: fitStudy }),
+    validate(region),
+    async (_req, res) => {
+      const { params } = parsed(res, region);
+      const fit = await findFit(deps.db, authorizedStudy(res).study.id, params.fitId);
+      res.json(await regionDetail(deps.db, fit, params.region, participantsVisible(res)));
+    },
+  );
 
-  router.get("/fits/:fitId/regions/:region/participants", authorize("fits.participants.read", { studyOf: fitStudy }), validate(participantPage), async (_req, res) => {
-    const { params, query } = parsed(res, participantPage);
-    const fit = await findFit(deps.db, authorizedStudy(res).study.id, params.fitId);
-    res.json(await regionParticipants(deps.db, fit, params.region, query));
-  });
+  router.get(
+    "/fits/:fitId/regions/:region/participants",
+    authorize("fits.participants.read", { studyOf: fitStudy }),
+    validate(participantPage),
+    async (_req, res) => {
+      const { params, query } = parsed(res, participantPage);
+      const fit = await findFit(deps.db, authorizedStudy(res).study.id, params.fitId);
+      res.json(await regionParticipants(deps.db, fit, params.region, query));
+    },
+  );
 
-  router.post("/fits/:fitId/regions/:region/preview", authorize("fits.read", { studyOf: fitStudy }), validate(preview), async (_req, res) => {
-    const { params } = parsed(res, preview);
-    const fit = await findFit(deps.db, authorizedStudy(res).study.id, params.fitId);
-    res.json(await previewRegion(deps.db, jobs, fit, params.region, participantsVisible(res)));
-  });
+  router.post(
+    "/fits/:fitId/regions/:region/preview",
+    authorize("fits.read", { studyOf: fitStudy }),
+    validate(preview),
+    async (_req, res) => {
+      const { params } = parsed(res, preview);
+      const fit = await findFit(deps.db, authorizedStudy(res).study.id, params.fitId);
+      res.json(await previewRegion(deps.db, jobs, fit, params.region, participantsVisible(res)));
+    },
+  );
 
   return router;
 }

@@ -36,23 +36,73 @@ const patch = { params: modelParams, query: noQuery, body: modelPatchSchema };
  */
 export function modelRoutes(deps: RouteDeps, fitData?: FitDataCache): Router {
   const router = Router();
-  router.get("/studies/:studyId/models", authorize("models.read"), validate(list), async (_req, res) => {
-    res.json(await listModels(deps.db, authorizedStudy(res).study.id));
-  });
-  router.post("/studies/:studyId/models", authorize("models.write"), validate(create), async (_req, res) => {
-    const model = await createModel(deps.db, signedInUser(res), authorizedStudy(res).study.id, parsed(res, create).body, deps.clock(), fitData);
-    res.status(201).json(model);
-  });
-  router.get("/studies/:studyId/models/:modelId", authorize("models.read"), validate(read), async (_req, res) => {
-    res.json(await getModel(deps.db, authorizedStudy(res).study.id, parsed(res, read).params.modelId));
-  });
-  router.patch("/studies/:studyId/models/:modelId", authorize("models.write"), validate(patch), async (_req, res) => {
-    const { params, body } = parsed(res, patch);
-    res.json(await updateModel(deps.db, signedInUser(res), authorizedStudy(res).study.id, params.modelId, body, deps.clock(), fitData));
-  });
-  router.delete("/studies/:studyId/models/:modelId", authorize("models.write"), validate(read), async (_req, res) => {
-    await deleteModel(deps.db, signedInUser(res), authorizedStudy(res).study.id, parsed(res, read).params.modelId, deps.clock());
-    res.status(204).end();
-  });
+  router.get(
+    "/studies/:studyId/models",
+    authorize("models.read"),
+    validate(list),
+    async (_req, res) => {
+      res.json(await listModels(deps.db, authorizedStudy(res).study.id));
+    },
+  );
+  router.post(
+    "/studies/:studyId/models",
+    authorize("models.write"),
+    validate(create),
+    async (_req, res) => {
+      const model = await createModel(
+        deps.db,
+        signedInUser(res),
+        authorizedStudy(res).study.id,
+        parsed(res, create).body,
+        deps.clock(),
+        fitData,
+      );
+      res.status(201).json(model);
+    },
+  );
+  router.get(
+    "/studies/:studyId/models/:modelId",
+    authorize("models.read"),
+    validate(read),
+    async (_req, res) => {
+      res.json(
+        await getModel(deps.db, authorizedStudy(res).study.id, parsed(res, read).params.modelId),
+      );
+    },
+  );
+  router.patch(
+    "/studies/:studyId/models/:modelId",
+    authorize("models.write"),
+    validate(patch),
+    async (_req, res) => {
+      const { params, body } = parsed(res, patch);
+      res.json(
+        await updateModel(
+          deps.db,
+          signedInUser(res),
+          authorizedStudy(res).study.id,
+          params.modelId,
+          body,
+          deps.clock(),
+          fitData,
+        ),
+      );
+    },
+  );
+  router.delete(
+    "/studies/:studyId/models/:modelId",
+    authorize("models.write"),
+    validate(read),
+    async (_req, res) => {
+      await deleteModel(
+        deps.db,
+        signedInUser(res),
+        authorizedStudy(res).study.id,
+        parsed(res, read).params.modelId,
+        deps.clock(),
+      );
+      res.status(204).end();
+    },
+  );
   return router;
 }

@@ -14,7 +14,12 @@ import { Router } from "express";
 import { authorize, authorizedStudy } from "../auth/permissions";
 import { signedInUser } from "../auth/session";
 import { noQuery, parsed, validate } from "../http/validate";
-import { currentBrainReliability, listTraitReliabilities, replaceTraitReliabilities, traitReliabilityList } from "../services/reliability";
+import {
+  currentBrainReliability,
+  listTraitReliabilities,
+  replaceTraitReliabilities,
+  traitReliabilityList,
+} from "../services/reliability";
 import type { RouteDeps } from "./deps";
 import { studyParams } from "./studies";
 
@@ -24,21 +29,44 @@ const write = { params: studyParams, query: noQuery, body: traitReliabilityList 
 export function reliabilityRoutes(deps: RouteDeps): Router {
   const router = Router();
 
-  router.get("/studies/:studyId/trait-reliabilities", authorize("data.read"), validate(read), async (_req, res) => {
-    const { study } = authorizedStudy(res);
-    res.json(await listTraitReliabilities(deps.db, study.id));
-  });
+  router.get(
+    "/studies/:studyId/trait-reliabilities",
+    authorize("data.read"),
+    validate(read),
+    async (_req, res) => {
+      const { study } = authorizedStudy(res);
+      res.json(await listTraitReliabilities(deps.db, study.id));
+    },
+  );
 
   // Stating a trait's reliability is part of the participant sheet's settings: the roles that manage data.
-  router.put("/studies/:studyId/trait-reliabilities", authorize("data.upload"), validate(write), async (_req, res) => {
-    const { study } = authorizedStudy(res);
-    res.json(await replaceTraitReliabilities(deps.db, signedInUser(res), study.id, parsed(res, write).body, deps.clock()));
-  });
+  router.put(
+    "/studies/:studyId/trait-reliabilities",
+    authorize("data.upload"),
+    validate(write),
+    async (_req, res) => {
+      const { study } = authorizedStudy(res);
+      res.json(
+        await replaceTraitReliabilities(
+          deps.db,
+          signedInUser(res),
+          study.id,
+          parsed(res, write).body,
+          deps.clock(),
+        ),
+      );
+    },
+  );
 
-  router.get("/studies/:studyId/reliability", authorize("data.read"), validate(read), async (_req, res) => {
-    const { study } = authorizedStudy(res);
-    res.json(await currentBrainReliability(deps.db, study.id));
-  });
+  router.get(
+    "/studies/:studyId/reliability",
+    authorize("data.read"),
+    validate(read),
+    async (_req, res) => {
+      const { study } = authorizedStudy(res);
+      res.json(await currentBrainReliability(deps.db, study.id));
+    },
+  );
 
   return router;
 }

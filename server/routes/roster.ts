@@ -34,7 +34,10 @@ const map = {
   params: studyParams,
   query: noQuery,
   body: z.strictObject({
-    mappings: z.array(z.strictObject({ brainId: id, sheetId: id })).min(1, { error: "give at least one mapping" }).max(1000),
+    mappings: z
+      .array(z.strictObject({ brainId: id, sheetId: id }))
+      .min(1, { error: "give at least one mapping" })
+      .max(1000),
   }),
 };
 const csv = { params: studyParams, query: noQuery };
@@ -42,24 +45,55 @@ const csv = { params: studyParams, query: noQuery };
 export function rosterRoutes(deps: RouteDeps): Router {
   const router = Router();
 
-  router.get("/studies/:studyId/roster", authorize("data.read"), validate(read), async (_req, res) => {
-    const { study, role } = authorizedStudy(res);
-    const visible = roleMay("participants.read", role, { restricted: study.restricted });
-    res.type("application/json").send(await getRoster(deps.db, study.id, parsed(res, read).query, visible));
-  });
+  router.get(
+    "/studies/:studyId/roster",
+    authorize("data.read"),
+    validate(read),
+    async (_req, res) => {
+      const { study, role } = authorizedStudy(res);
+      const visible = roleMay("participants.read", role, { restricted: study.restricted });
+      res
+        .type("application/json")
+        .send(await getRoster(deps.db, study.id, parsed(res, read).query, visible));
+    },
+  );
 
-  router.post("/studies/:studyId/roster/mappings", authorize("data.upload"), validate(map), async (_req, res) => {
-    const { study } = authorizedStudy(res);
-    await confirmMappings(deps.db, study.id, signedInUser(res).id, parsed(res, map).body.mappings, deps.clock());
-    res.status(201).type("application/json").send(await getRoster(deps.db, study.id, { offset: 0, limit: 100, order: "asc" }, true));
-  });
+  router.post(
+    "/studies/:studyId/roster/mappings",
+    authorize("data.upload"),
+    validate(map),
+    async (_req, res) => {
+      const { study } = authorizedStudy(res);
+      await confirmMappings(
+        deps.db,
+        study.id,
+        signedInUser(res).id,
+        parsed(res, map).body.mappings,
+        deps.clock(),
+      );
+      res
+        .status(201)
+        .type("application/json")
+        .send(await getRoster(deps.db, study.id, { offset: 0, limit: 100, order: "asc" }, true));
+    },
+  );
 
-  router.get("/studies/:studyId/roster.csv", authorize("participants.read"), validate(csv), async (_req, res) => {
-    const { study } = authorizedStudy(res);
-    const text = await rosterCsv(deps.db, study.id);
-    const name = `${study.name.replace(/[^\p{L}\p{N}]+/gu, "-").replace(/^-|-$/g, "").toLowerCase() || "study"}-roster.csv`;
-    res.type("text/csv; charset=utf-8").attachment(name).send(text);
-  });
+  router.get(
+    "/studies/:studyId/roster.csv",
+    authorize("participants.read"),
+    validate(csv),
+    async (_req, res) => {
+      const { study } = authorizedStudy(res);
+      const text = await rosterCsv(deps.db, study.id);
+      const name = `${
+        study.name
+          .replace(/[^\p{L}\p{N}]+/gu, "-")
+          .replace(/^-|-$/g, "")
+          .toLowerCase() || "study"
+      }-roster.csv`;
+      res.type("text/csv; charset=utf-8").attachment(name).send(text);
+    },
+  );
 
   return router;
 }

@@ -18,15 +18,24 @@ export function systemRoutes(deps: RouteDeps): Router {
   router.get("/health", authorize("health.read"), validate({ query: noQuery }), (_req, res) => {
     res.json({ ok: true, version: deps.version });
   });
-  router.get("/auth-options", authorize("auth.options"), validate({ query: noQuery }), (_req, res) => {
-    const demo = deps.config.demo && deps.config.devServices;
-    res.json({
-      email: { providerId: emailProviderId },
-      institution: deps.institution ? { providerId: institutionProviderId, name: deps.institution.name } : null,
-      demoAccounts: demo ? demoPeople.map((p) => ({ email: p.email, role: p.role, name: p.name })) : [],
-      mailbox: deps.mailbox !== null,
-    });
-  });
+  router.get(
+    "/auth-options",
+    authorize("auth.options"),
+    validate({ query: noQuery }),
+    (_req, res) => {
+      const demo = deps.config.demo && deps.config.devServices;
+      res.json({
+        email: { providerId: emailProviderId },
+        institution: deps.institution
+          ? { providerId: institutionProviderId, name: deps.institution.name }
+          : null,
+        demoAccounts: demo
+          ? demoPeople.map((p) => ({ email: p.email, role: p.role, name: p.name }))
+          : [],
+        mailbox: deps.mailbox !== null,
+      });
+    },
+  );
   router.get("/me", authorize("me.read"), validate({ query: noQuery }), (_req, res) => {
     const user = signedInUser(res);
     res.json({ id: user.id, email: user.email, name: user.name });

@@ -33,7 +33,11 @@ import { HttpError } from "../http/errors";
 import type { ModelSpec, RegionResult } from "../model/spec";
 import { correctForAttenuation } from "../stats/attenuation";
 import { StatsError } from "../stats/errors";
-import { brainReliabilityOfVersion, traitReliabilityMap, type RegionReliability } from "./reliability";
+import {
+  brainReliabilityOfVersion,
+  traitReliabilityMap,
+  type RegionReliability,
+} from "./reliability";
 
 export interface Attenuation {
   /** ICC(3,1) of the region across the brain table's sessions. */
@@ -66,8 +70,16 @@ const PARTIAL_CAUTION =
   "With covariates the observed r is a partial correlation; the correction assumes the covariates are measured without error.";
 
 /** Whether a fit's kind and options give an observed r that Spearman's correction applies to. */
-export function attenuationApplies(spec: Pick<ModelSpec, "kind" | "estimator" | "weights" | "interaction" | "predictor">): boolean {
-  return spec.kind === "association" && spec.estimator === "ols" && spec.weights === "none" && !spec.interaction && spec.predictor !== undefined;
+export function attenuationApplies(
+  spec: Pick<ModelSpec, "kind" | "estimator" | "weights" | "interaction" | "predictor">,
+): boolean {
+  return (
+    spec.kind === "association" &&
+    spec.estimator === "ols" &&
+    spec.weights === "none" &&
+    !spec.interaction &&
+    spec.predictor !== undefined
+  );
 }
 
 function attenuationOf(
@@ -83,8 +95,15 @@ function attenuationOf(
   const k = typeof region.df === "number" ? region.n - region.df - 2 : otherColumns;
   const n = region.n - Math.max(0, k);
   try {
-    const a = correctForAttenuation({ r, n, reliabilityBrain: Math.min(1, rel), reliabilityTrait: trait.reliability });
-    const cautions = [a.caution, k > 0 ? PARTIAL_CAUTION : null].filter((c): c is string => c !== null);
+    const a = correctForAttenuation({
+      r,
+      n,
+      reliabilityBrain: Math.min(1, rel),
+      reliabilityTrait: trait.reliability,
+    });
+    const cautions = [a.caution, k > 0 ? PARTIAL_CAUTION : null].filter(
+      (c): c is string => c !== null,
+    );
     return {
       reliabilityBrain: Math.min(1, rel),
       reliabilityBrainForm: "ICC(3,1)",
@@ -126,10 +145,14 @@ export async function withAttenuation(
     interaction: recipe.interaction ?? false,
     predictor: recipe.predictor,
   } as Pick<ModelSpec, "kind" | "estimator" | "weights" | "interaction" | "predictor">;
-  if (!attenuationApplies(spec) || regions.length === 0) return { regions: [...regions], added: false };
+  if (!attenuationApplies(spec) || regions.length === 0)
+    return { regions: [...regions], added: false };
   const trait = (await traitReliabilityMap(db, fit.studyId)).get(spec.predictor as string);
   if (!trait) return { regions: [...regions], added: false };
-  const [version] = await db.select().from(datasetVersions).where(eq(datasetVersions.id, fit.brainVersionId));
+  const [version] = await db
+    .select()
+    .from(datasetVersions)
+    .where(eq(datasetVersions.id, fit.brainVersionId));
   if (!version?.sessionColumn) return { regions: [...regions], added: false };
   let reliability: Awaited<ReturnType<typeof brainReliabilityOfVersion>>;
   try {
@@ -145,7 +168,12 @@ export async function withAttenuation(
   const out = regions.map((region) => {
     const brain = byRegion.get(region.region);
     if (!brain) return region;
-    const attenuation = attenuationOf(region, brain, { name: spec.predictor as string, ...trait }, otherColumns);
+    const attenuation = attenuationOf(
+      region,
+      brain,
+      { name: spec.predictor as string, ...trait },
+      otherColumns,
+    );
     if (!attenuation) return region;
     added = true;
     return { ...region, attenuation };

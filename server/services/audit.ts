@@ -37,7 +37,8 @@ export const eventKindPattern = /^[a-z][a-z_-]*(\.[a-z][a-z_-]*)+$/;
 
 /** Appends one event. Throws when `kind` is not a dotted lower-case name. */
 export async function recordEvent(tx: Queryable, event: NewEvent): Promise<void> {
-  if (!eventKindPattern.test(event.kind)) throw new Error(`recordEvent: kind "${event.kind}" is not a dotted lower-case name`);
+  if (!eventKindPattern.test(event.kind))
+    throw new Error(`recordEvent: kind "${event.kind}" is not a dotted lower-case name`);
   await tx.insert(auditEvents).values({
     studyId: event.studyId,
     actorId: event.actorId,
@@ -78,11 +79,18 @@ export interface EventFilter {
 }
 
 /** A study's events, newest first. */
-export async function listEvents(db: Queryable, studyId: string, filter: EventFilter): Promise<EventView[]> {
+export async function listEvents(
+  db: Queryable,
+  studyId: string,
+  filter: EventFilter,
+): Promise<EventView[]> {
   const conditions: SQL[] = [eq(auditEvents.studyId, studyId)];
   if (filter.person) conditions.push(eq(auditEvents.actorId, filter.person));
   if (filter.kind) {
-    const byKind = or(eq(auditEvents.kind, filter.kind), like(auditEvents.kind, `${filter.kind.replace(/[\\%_]/g, "\\$&")}.%`));
+    const byKind = or(
+      eq(auditEvents.kind, filter.kind),
+      like(auditEvents.kind, `${filter.kind.replace(/[\\%_]/g, "\\$&")}.%`),
+    );
     if (byKind) conditions.push(byKind);
   }
   if (filter.beforeSeq !== undefined) conditions.push(lt(auditEvents.seq, filter.beforeSeq));

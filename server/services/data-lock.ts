@@ -96,7 +96,10 @@ const sleep = (ms: number) => new Promise<void>((resolve) => setTimeout(resolve,
  * goes stale (take-over), at most `staleMs` plus a little. Rejects with
  * `DataLockError` naming the folder when another live server holds it.
  */
-export async function acquireDataLock(dataDir: string, options: DataLockOptions = {}): Promise<DataLock> {
+export async function acquireDataLock(
+  dataDir: string,
+  options: DataLockOptions = {},
+): Promise<DataLock> {
   const folder = realDataFolder(dataDir);
   const file = lockFileFor(folder);
   const staleMs = Math.max(options.staleMs ?? DATA_LOCK_STALE_MS, 2000);
@@ -114,7 +117,9 @@ export async function acquireDataLock(dataDir: string, options: DataLockOptions 
         // A holder that refreshes its lock is alive: refuse at once.
         if (seenMtime !== null && now.mtimeNs !== seenMtime) throw error;
         if (seenMtime === null) {
-          onWait(`the data folder ${folder} is locked; waiting up to ${Math.ceil(staleMs / 1000)} s to see whether the server holding it still runs.`);
+          onWait(
+            `the data folder ${folder} is locked; waiting up to ${Math.ceil(staleMs / 1000)} s to see whether the server holding it still runs.`,
+          );
         }
         seenMtime = now.mtimeNs;
       }
@@ -124,7 +129,13 @@ export async function acquireDataLock(dataDir: string, options: DataLockOptions 
   }
 }
 
-async function takeLock(folder: string, file: string, staleMs: number, updateMs: number, compromised?: (error: Error) => void): Promise<DataLock> {
+async function takeLock(
+  folder: string,
+  file: string,
+  staleMs: number,
+  updateMs: number,
+  compromised?: (error: Error) => void,
+): Promise<DataLock> {
   const onCompromised =
     compromised ??
     ((error: Error) => {
@@ -163,7 +174,10 @@ async function takeLock(folder: string, file: string, staleMs: number, updateMs:
     throw inUse(folder, file, staleMs);
   }
 
-  writeFileSync(ownerFileFor(folder), `${JSON.stringify({ pid: process.pid, host: hostname(), since: new Date().toISOString() })}\n`);
+  writeFileSync(
+    ownerFileFor(folder),
+    `${JSON.stringify({ pid: process.pid, host: hostname(), since: new Date().toISOString() })}\n`,
+  );
   let released = false;
   return {
     folder,
@@ -172,7 +186,8 @@ async function takeLock(folder: string, file: string, staleMs: number, updateMs:
       if (released) return;
       released = true;
       const owner = readOwner(folder);
-      if (owner?.pid === process.pid && owner.host === hostname()) rmSync(ownerFileFor(folder), { force: true });
+      if (owner?.pid === process.pid && owner.host === hostname())
+        rmSync(ownerFileFor(folder), { force: true });
       try {
         releaseLock();
       } catch (error) {
@@ -203,8 +218,17 @@ function inUse(folder: string, file: string, staleMs: number): DataLockError {
 
 function readOwner(folder: string): { pid: number; host: string; since: string } | null {
   try {
-    const parsed = JSON.parse(readFileSync(ownerFileFor(folder), "utf8")) as { pid?: unknown; host?: unknown; since?: unknown };
-    if (typeof parsed.pid !== "number" || typeof parsed.host !== "string" || typeof parsed.since !== "string") return null;
+    const parsed = JSON.parse(readFileSync(ownerFileFor(folder), "utf8")) as {
+      pid?: unknown;
+      host?: unknown;
+      since?: unknown;
+    };
+    if (
+      typeof parsed.pid !== "number" ||
+      typeof parsed.host !== "string" ||
+      typeof parsed.since !== "string"
+    )
+      return null;
     return { pid: parsed.pid, host: parsed.host, since: parsed.since };
   } catch {
     return null;

@@ -36,7 +36,13 @@ import {
   type IdentifierDecisionRecord,
   type StoredColumn,
 } from "../../db/schema";
-import type { BrainTable, Confirmation, ParticipantSheet, SheetColumn, TablePreview } from "../intake";
+import type {
+  BrainTable,
+  Confirmation,
+  ParticipantSheet,
+  SheetColumn,
+  TablePreview,
+} from "../intake";
 import { conflict, gone, notFound } from "../http/errors";
 import { type IntakeJobs, intakeJobs } from "../jobs/intake-jobs";
 import { type EncodedVersion, STORED_ROW_COLUMNS, decodeNumbers } from "../jobs/intake-rows";
@@ -119,8 +125,17 @@ export interface UploadInput {
  * Throws IntakeError (400 unreadable, 413 too large, 422 content refused)
  * — nothing is kept then.
  */
-export async function previewUpload(store: PreviewStore, input: UploadInput, jobs: IntakeJobs = intakeJobs()): Promise<PreviewView> {
-  const { preview, sha256 } = await jobs.preview({ bytes: input.bytes, fileName: input.fileName, kind: input.kind, options: input.options });
+export async function previewUpload(
+  store: PreviewStore,
+  input: UploadInput,
+  jobs: IntakeJobs = intakeJobs(),
+): Promise<PreviewView> {
+  const { preview, sha256 } = await jobs.preview({
+    bytes: input.bytes,
+    fileName: input.fileName,
+    kind: input.kind,
+    options: input.options,
+  });
   const stored: StoredPreview = {
     id: store.newId(input.studyId),
     studyId: input.studyId,
@@ -171,18 +186,29 @@ export interface ConfirmInput {
  * named column that does not exist, a cell that does not fit the chosen
  * type).
  */
-export async function confirmUpload(db: Database, store: PreviewStore, input: ConfirmInput, jobs: IntakeJobs = intakeJobs()): Promise<DatasetView> {
+export async function confirmUpload(
+  db: Database,
+  store: PreviewStore,
+  input: ConfirmInput,
+  jobs: IntakeJobs = intakeJobs(),
+): Promise<DatasetView> {
   const found = store.get(input.datasetId, input.now, input.studyId);
   if (found === undefined || found === "expired" || found.studyId !== input.studyId) {
     const [stored] = await db
-      .select({ version: datasetVersions.version, studyId: datasetVersions.studyId, complete: datasetVersions.complete })
+      .select({
+        version: datasetVersions.version,
+        studyId: datasetVersions.studyId,
+        complete: datasetVersions.complete,
+      })
       .from(datasetVersions)
       .where(eq(datasetVersions.id, input.datasetId));
-    if (stored && stored.studyId === input.studyId && stored.complete) throw conflict(`This upload is already confirmed as version ${stored.version}.`);
+    if (stored && stored.studyId === input.studyId && stored.complete)
+      throw conflict(`This upload is already confirmed as version ${stored.version}.`);
     if (found === "expired") throw gone(UPLOAD_EXPIRED);
     throw notFound("Upload not found.");
   }
-  if (!store.claim(found.id)) throw conflict("This upload is being stored; wait until its version is shown.");
+  if (!store.claim(found.id))
+    throw conflict("This upload is being stored; wait until its version is shown.");
   try {
     const options: Confirmation = { ...found.options, ...withoutUndefined(input.confirmation) };
     const view = await storeVersion(
@@ -240,7 +266,11 @@ const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
  * one short transaction). Used by confirmation and by the demo seed (the
  * same path for both). Throws IntakeError as confirmTable does.
  */
-export async function storeVersion(db: Database, input: StoreVersionInput, jobs: IntakeJobs = intakeJobs()): Promise<DatasetView> {
+export async function storeVersion(
+  db: Database,
+  input: StoreVersionInput,
+  jobs: IntakeJobs = intakeJobs(),
+): Promise<DatasetView> {
   const { encoded, sha256 } = await jobs.encode({
     bytes: input.bytes,
     fileName: input.fileName,
@@ -260,7 +290,9 @@ export async function storeVersion(db: Database, input: StoreVersionInput, jobs:
       const [last] = await tx
         .select({ n: sql<number>`coalesce(max(${datasetVersions.version}), 0)` })
         .from(datasetVersions)
-        .where(and(eq(datasetVersions.studyId, input.studyId), eq(datasetVersions.kind, input.kind)));
+        .where(
+          and(eq(datasetVersions.studyId, input.studyId), eq(datasetVersions.kind, input.kind)),
+        );
       const next = Number(last?.n ?? 0) + 1;
       await tx.insert(datasetVersions).values({
         id: input.id,
@@ -291,7 +323,10 @@ export async function storeVersion(db: Database, input: StoreVersionInput, jobs:
     try {
       await loadRows(db, encoded);
       await db.transaction(async (tx) => {
-        await tx.update(datasetVersions).set({ complete: true }).where(eq(datasetVersions.id, input.id));
+        await tx
+          .update(datasetVersions)
+          .set({ complete: true })
+          .where(eq(datasetVersions.id, input.id));
         await recordEvent(tx, {
           studyId: input.studyId,
           actorId: input.confirmedBy,
@@ -353,11 +388,21 @@ async function loadRows(db: Database, encoded: EncodedVersion): Promise<void> {
 /** Deletes an incomplete version and its rows (the trigger refuses this for complete versions), rows in batches. */
 async function removeVersion(db: Database, id: string, rowCount: number): Promise<void> {
   for (let from = 0; from < rowCount; from += DELETE_BATCH) {
-    await db.delete(datasetRows).where(and(eq(datasetRows.datasetId, id), gte(datasetRows.position, from), lt(datasetRows.position, from + DELETE_BATCH)));
+    await db
+      .delete(datasetRows)
+      .where(
+        and(
+          eq(datasetRows.datasetId, id),
+          gte(datasetRows.position, from),
+          lt(datasetRows.position, from + DELETE_BATCH),
+        ),
+      );
     await nextTurn();
   }
   await db.delete(datasetRows).where(eq(datasetRows.datasetId, id));
-  await db.delete(datasetVersions).where(and(eq(datasetVersions.id, id), eq(datasetVersions.complete, false)));
+  await db
+    .delete(datasetVersions)
+    .where(and(eq(datasetVersions.id, id), eq(datasetVersions.complete, false)));
 }
 
 /** Deletes the incomplete versions a stop in the middle of storing left behind (never one this process is storing). */
@@ -381,7 +426,10 @@ export async function removeIncompleteVersions(db: Database): Promise<number> {
 async function people(db: Queryable, ids: readonly string[]): Promise<Map<string, PersonRef>> {
   const unique = [...new Set(ids)];
   if (unique.length === 0) return new Map();
-  const rows = await db.select({ id: users.id, name: users.name, email: users.email }).from(users).where(inArray(users.id, unique));
+  const rows = await db
+    .select({ id: users.id, name: users.name, email: users.email })
+    .from(users)
+    .where(inArray(users.id, unique));
   return new Map(rows.map((r) => [r.id, r]));
 }
 
@@ -394,7 +442,11 @@ async function currentIds(db: Queryable, studyId: string): Promise<Set<string>> 
   return new Set(rows.map((r) => r.id));
 }
 
-function versionView(v: DatasetVersion, current: boolean, who: Map<string, PersonRef>): DatasetView {
+function versionView(
+  v: DatasetVersion,
+  current: boolean,
+  who: Map<string, PersonRef>,
+): DatasetView {
   const person = (id: string): PersonRef => who.get(id) ?? { id, name: null, email: null };
   return {
     id: v.id,
@@ -416,7 +468,8 @@ function versionView(v: DatasetVersion, current: boolean, who: Map<string, Perso
     identifierDecisions: v.identifierDecisions,
     rowCount: v.rowCount,
     participantCount: v.participantCount,
-    regions: v.kind === "brain" ? v.columns.filter((c) => c.role === "region").map((c) => c.name) : null,
+    regions:
+      v.kind === "brain" ? v.columns.filter((c) => c.role === "region").map((c) => c.name) : null,
     uploadedBy: person(v.uploadedBy),
     uploadedAt: v.uploadedAt.toISOString(),
     confirmedBy: person(v.confirmedBy),
@@ -424,13 +477,26 @@ function versionView(v: DatasetVersion, current: boolean, who: Map<string, Perso
   };
 }
 
-async function findVersion(db: Queryable, studyId: string, id: string): Promise<DatasetView | null> {
+async function findVersion(
+  db: Queryable,
+  studyId: string,
+  id: string,
+): Promise<DatasetView | null> {
   const [v] = await db
     .select()
     .from(datasetVersions)
-    .where(and(eq(datasetVersions.id, id), eq(datasetVersions.studyId, studyId), eq(datasetVersions.complete, true)));
+    .where(
+      and(
+        eq(datasetVersions.id, id),
+        eq(datasetVersions.studyId, studyId),
+        eq(datasetVersions.complete, true),
+      ),
+    );
   if (!v) return null;
-  const [current, who] = await Promise.all([currentIds(db, studyId), people(db, [v.uploadedBy, v.confirmedBy])]);
+  const [current, who] = await Promise.all([
+    currentIds(db, studyId),
+    people(db, [v.uploadedBy, v.confirmedBy]),
+  ]);
   return versionView(v, current.has(v.id), who);
 }
 
@@ -447,11 +513,17 @@ export async function listDatasets(
     .where(and(eq(datasetVersions.studyId, studyId), eq(datasetVersions.complete, true)))
     .orderBy(desc(datasetVersions.confirmedAt), desc(datasetVersions.version));
   const previews = store.forStudy(studyId, now).reverse();
-  const who = await people(db, [...versions.flatMap((v) => [v.uploadedBy, v.confirmedBy]), ...previews.map((p) => p.uploadedBy)]);
+  const who = await people(db, [
+    ...versions.flatMap((v) => [v.uploadedBy, v.confirmedBy]),
+    ...previews.map((p) => p.uploadedBy),
+  ]);
   const current = await currentIds(db, studyId);
   const person = (id: string): PersonRef => who.get(id) ?? { id, name: null, email: null };
   return [
-    ...previews.map((p) => ({ ...previewView(p, person(p.uploadedBy)), rows: [] as TablePreview["rows"] })),
+    ...previews.map((p) => ({
+      ...previewView(p, person(p.uploadedBy)),
+      rows: [] as TablePreview["rows"],
+    })),
     ...versions.map((v) => versionView(v, current.has(v.id), who)),
   ];
 }
@@ -477,7 +549,10 @@ export async function getDataset(
   const p = store.get(id, now, studyId);
   if (p !== undefined && p !== "expired" && p.studyId === studyId) {
     const who = await people(db, [p.uploadedBy]);
-    const view = previewView(p, who.get(p.uploadedBy) ?? { id: p.uploadedBy, name: null, email: null });
+    const view = previewView(
+      p,
+      who.get(p.uploadedBy) ?? { id: p.uploadedBy, name: null, email: null },
+    );
     return query.withRows ? view : { ...view, rows: [] };
   }
   const v = await findVersion(db, studyId, id);
@@ -493,7 +568,13 @@ async function rowsPage(db: Queryable, v: DatasetView, q: RowsQuery): Promise<Ro
   const rows = await db
     .select()
     .from(datasetRows)
-    .where(and(eq(datasetRows.datasetId, v.id), gte(datasetRows.position, q.offset), lt(datasetRows.position, q.offset + q.limit)))
+    .where(
+      and(
+        eq(datasetRows.datasetId, v.id),
+        gte(datasetRows.position, q.offset),
+        lt(datasetRows.position, q.offset + q.limit),
+      ),
+    )
     .orderBy(asc(datasetRows.position));
   const numberCount = v.columns.filter((c) => c.type === "number").length;
   return {
@@ -525,7 +606,10 @@ export async function currentVersions(
 ): Promise<{ brain: DatasetVersion | null; participants: DatasetVersion | null }> {
   const ids = await currentIds(db, studyId);
   if (ids.size === 0) return { brain: null, participants: null };
-  const rows = await db.select().from(datasetVersions).where(inArray(datasetVersions.id, [...ids]));
+  const rows = await db
+    .select()
+    .from(datasetVersions)
+    .where(inArray(datasetVersions.id, [...ids]));
   return {
     brain: rows.find((r) => r.kind === "brain") ?? null,
     participants: rows.find((r) => r.kind === "participants") ?? null,
@@ -540,12 +624,22 @@ const READ_PAGE = 5000;
  * turn of the event loop between pages (a version can hold hundreds of
  * thousands of rows; one query for all would hold the database meanwhile).
  */
-export async function forEachRowPage(db: Queryable, v: DatasetVersion, each: (rows: readonly DatasetRow[], first: number) => void): Promise<void> {
+export async function forEachRowPage(
+  db: Queryable,
+  v: DatasetVersion,
+  each: (rows: readonly DatasetRow[], first: number) => void,
+): Promise<void> {
   for (let first = 0; first < v.rowCount; first += READ_PAGE) {
     const rows = await db
       .select()
       .from(datasetRows)
-      .where(and(eq(datasetRows.datasetId, v.id), gte(datasetRows.position, first), lt(datasetRows.position, first + READ_PAGE)))
+      .where(
+        and(
+          eq(datasetRows.datasetId, v.id),
+          gte(datasetRows.position, first),
+          lt(datasetRows.position, first + READ_PAGE),
+        ),
+      )
       .orderBy(asc(datasetRows.position));
     each(rows, first);
     if (first + READ_PAGE < v.rowCount) await nextTurn();
@@ -558,8 +652,12 @@ export async function loadBrainTable(db: Queryable, v: DatasetVersion): Promise<
   const numberCount = v.columns.filter((c) => c.type === "number").length;
   const n = v.rowCount;
   const values = regionColumns.map(() => new Float64Array(n));
-  const standardErrors = regionColumns.map((rc) => (v.columns.some((c) => c.role === "se" && c.region === rc.region) ? new Float64Array(n) : null));
-  const seSlot = regionColumns.map((rc) => v.columns.find((c) => c.role === "se" && c.region === rc.region)?.slot ?? -1);
+  const standardErrors = regionColumns.map((rc) =>
+    v.columns.some((c) => c.role === "se" && c.region === rc.region) ? new Float64Array(n) : null,
+  );
+  const seSlot = regionColumns.map(
+    (rc) => v.columns.find((c) => c.role === "se" && c.region === rc.region)?.slot ?? -1,
+  );
   const entries: BrainTable["entries"][number][] = [];
   await forEachRowPage(db, v, (rows, first) => {
     rows.forEach((row, j) => {
@@ -589,7 +687,10 @@ export async function loadBrainTable(db: Queryable, v: DatasetVersion): Promise<
 }
 
 /** A stored participant-sheet version as the intake's ParticipantSheet. */
-export async function loadParticipantSheet(db: Queryable, v: DatasetVersion): Promise<ParticipantSheet> {
+export async function loadParticipantSheet(
+  db: Queryable,
+  v: DatasetVersion,
+): Promise<ParticipantSheet> {
   const numberCount = v.columns.filter((c) => c.type === "number").length;
   const variables = v.columns.filter((c) => c.role === "variable");
   const values: (number | string | null)[][] = variables.map(() => []);

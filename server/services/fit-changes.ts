@@ -63,15 +63,22 @@ function listed(names: readonly string[]): string {
 
 const plural = (n: number, one: string, many: string) => `${n} ${n === 1 ? one : many}`;
 
-const keyOf = (s: { participant: string; region?: string }) => `${s.participant}\u0000${s.region ?? ""}`;
+const keyOf = (s: { participant: string; region?: string }) =>
+  `${s.participant}\u0000${s.region ?? ""}`;
 
 const scopeOf = (s: SetAsideEntry) => (s.region === undefined ? "all regions" : s.region);
 
 /** Set-asides in `after` and not in `before` (added), and the reverse (restored), by participant and region. */
-export function setAsideDiff(before: readonly SetAsideEntry[], after: readonly SetAsideEntry[]): { added: SetAsideEntry[]; restored: SetAsideEntry[] } {
+export function setAsideDiff(
+  before: readonly SetAsideEntry[],
+  after: readonly SetAsideEntry[],
+): { added: SetAsideEntry[]; restored: SetAsideEntry[] } {
   const was = new Set(before.map(keyOf));
   const now = new Set(after.map(keyOf));
-  return { added: after.filter((s) => !was.has(keyOf(s))), restored: before.filter((s) => !now.has(keyOf(s))) };
+  return {
+    added: after.filter((s) => !was.has(keyOf(s))),
+    restored: before.filter((s) => !now.has(keyOf(s))),
+  };
 }
 
 /** "sub-12 (all regions)", or a count when ids are withheld. */
@@ -80,7 +87,11 @@ function namedSetAsides(entries: readonly SetAsideEntry[], visible: boolean): st
   return listed(entries.map((s) => `${s.participant} (${scopeOf(s)})`));
 }
 
-function setAsideWords(before: readonly SetAsideEntry[], after: readonly SetAsideEntry[], visible: boolean): string[] {
+function setAsideWords(
+  before: readonly SetAsideEntry[],
+  after: readonly SetAsideEntry[],
+  visible: boolean,
+): string[] {
   const { added, restored } = setAsideDiff(before, after);
   const out: string[] = [];
   if (added.length > 0) out.push(`Set aside: ${namedSetAsides(added, visible)}`);
@@ -88,7 +99,11 @@ function setAsideWords(before: readonly SetAsideEntry[], after: readonly SetAsid
   return out;
 }
 
-function mappingWords(before: InputFacts["mappings"], after: InputFacts["mappings"], visible: boolean): string | null {
+function mappingWords(
+  before: InputFacts["mappings"],
+  after: InputFacts["mappings"],
+  visible: boolean,
+): string | null {
   const key = (m: { brainId: string; sheetId: string }) => `${m.brainId}\u0000${m.sheetId}`;
   const was = new Set(before.map(key));
   const now = new Set(after.map(key));
@@ -102,7 +117,8 @@ function mappingWords(before: InputFacts["mappings"], after: InputFacts["mapping
 
 function valueWords(key: string, value: unknown): string {
   if (value === undefined || value === null) return key === "regions" ? "every region" : "none";
-  if (Array.isArray(value)) return value.length === 0 ? (key === "regions" ? "every region" : "none") : value.join(", ");
+  if (Array.isArray(value))
+    return value.length === 0 ? (key === "regions" ? "every region" : "none") : value.join(", ");
   if (typeof value === "boolean") return value ? "on" : "off";
   return String(value);
 }
@@ -111,12 +127,18 @@ function arrayChange(key: string, before: readonly string[], after: readonly str
   const added = after.filter((v) => !before.includes(v));
   const removed = before.filter((v) => !after.includes(v));
   if (added.length === 0 && removed.length === 0) return `${fieldWords[key] ?? key} reordered`;
-  const parts = [...(added.length > 0 ? [`${listed(added)} added`] : []), ...(removed.length > 0 ? [`${listed(removed)} removed`] : [])];
+  const parts = [
+    ...(added.length > 0 ? [`${listed(added)} added`] : []),
+    ...(removed.length > 0 ? [`${listed(removed)} removed`] : []),
+  ];
   return `${fieldWords[key] ?? key}: ${parts.join(", ")}`;
 }
 
 /** The model fields that differ, in words ("estimator ols → huber"); empty when either side is unknown. */
-export function modelFieldChanges(before: InputFacts["model"], after: InputFacts["model"]): string[] {
+export function modelFieldChanges(
+  before: InputFacts["model"],
+  after: InputFacts["model"],
+): string[] {
   if (!before || !after) return [];
   const out: string[] = [];
   const keys = new Set([...Object.keys(before), ...Object.keys(after)]);
@@ -125,8 +147,16 @@ export function modelFieldChanges(before: InputFacts["model"], after: InputFacts
     const a = (before as Record<string, unknown>)[key];
     const b = (after as Record<string, unknown>)[key];
     if (JSON.stringify(a ?? null) === JSON.stringify(b ?? null)) continue;
-    const bothLists = (Array.isArray(a) || a === undefined) && (Array.isArray(b) || b === undefined) && (Array.isArray(a) || Array.isArray(b));
-    if (bothLists && key !== "levels" && ((a as unknown[] | undefined)?.length ?? 0) > 0 && ((b as unknown[] | undefined)?.length ?? 0) > 0) {
+    const bothLists =
+      (Array.isArray(a) || a === undefined) &&
+      (Array.isArray(b) || b === undefined) &&
+      (Array.isArray(a) || Array.isArray(b));
+    if (
+      bothLists &&
+      key !== "levels" &&
+      ((a as unknown[] | undefined)?.length ?? 0) > 0 &&
+      ((b as unknown[] | undefined)?.length ?? 0) > 0
+    ) {
       out.push(arrayChange(key, a as string[], b as string[]));
     } else {
       out.push(`${fieldWords[key] ?? key} ${valueWords(key, a)} → ${valueWords(key, b)}`);
@@ -135,12 +165,19 @@ export function modelFieldChanges(before: InputFacts["model"], after: InputFacts
   return out;
 }
 
-function versionWords(what: "brain table" | "participant sheet", before: VersionRef | null, after: VersionRef | null): string | null {
+function versionWords(
+  what: "brain table" | "participant sheet",
+  before: VersionRef | null,
+  after: VersionRef | null,
+): string | null {
   if (before?.id === after?.id) return null;
   if (!after) return `No ${what} (was version ${before?.version})`;
   const named = `${what} version ${after.version} (${after.fileName})`;
-  if (!before) return `${what[0].toUpperCase()}${what.slice(1)} version ${after.version} (${after.fileName}) added`;
-  return after.version > before.version ? `New ${named}` : `${named[0].toUpperCase()}${named.slice(1)} instead of version ${before.version}`;
+  if (!before)
+    return `${what[0].toUpperCase()}${what.slice(1)} version ${after.version} (${after.fileName}) added`;
+  return after.version > before.version
+    ? `New ${named}`
+    : `${named[0].toUpperCase()}${named.slice(1)} instead of version ${before.version}`;
 }
 
 /**
@@ -149,7 +186,11 @@ function versionWords(what: "brain table" | "participant sheet", before: Version
  * participants set aside or restored (named with their scope, or counted
  * when ids are withheld), changed model fields. Empty when nothing changed.
  */
-export function refitChanges(earlier: InputFacts, later: InputFacts, options: { participantsVisible: boolean }): string[] {
+export function refitChanges(
+  earlier: InputFacts,
+  later: InputFacts,
+  options: { participantsVisible: boolean },
+): string[] {
   const visible = options.participantsVisible;
   const out: string[] = [];
   const brain = versionWords("brain table", earlier.brain, later.brain);
@@ -170,7 +211,11 @@ export function refitChanges(earlier: InputFacts, later: InputFacts, options: { 
  * dataset versions and id mappings, the set-aside list a new fit would
  * apply, and the model's current fields.
  */
-export function staleReasons(fit: InputFacts, current: InputFacts, options: { participantsVisible: boolean }): string[] {
+export function staleReasons(
+  fit: InputFacts,
+  current: InputFacts,
+  options: { participantsVisible: boolean },
+): string[] {
   const visible = options.participantsVisible;
   const out: string[] = [];
   if (fit.brain.id !== current.brain.id) {
@@ -182,18 +227,36 @@ export function staleReasons(fit: InputFacts, current: InputFacts, options: { pa
   }
   if (fit.sheet?.id !== current.sheet?.id) {
     if (!current.sheet) out.push("The study has no participant sheet now");
-    else if (!fit.sheet) out.push(`A participant sheet (version ${current.sheet.version}, ${current.sheet.fileName}) was uploaded`);
-    else if (current.sheet.version > fit.sheet.version) out.push(`A newer participant sheet (version ${current.sheet.version}, ${current.sheet.fileName}) was uploaded`);
-    else out.push(`The study's participant sheet is now version ${current.sheet.version} (${current.sheet.fileName})`);
+    else if (!fit.sheet)
+      out.push(
+        `A participant sheet (version ${current.sheet.version}, ${current.sheet.fileName}) was uploaded`,
+      );
+    else if (current.sheet.version > fit.sheet.version)
+      out.push(
+        `A newer participant sheet (version ${current.sheet.version}, ${current.sheet.fileName}) was uploaded`,
+      );
+    else
+      out.push(
+        `The study's participant sheet is now version ${current.sheet.version} (${current.sheet.fileName})`,
+      );
   }
   const mappings = mappingWords(fit.mappings, current.mappings, visible);
   if (mappings) out.push(`${mappings} since this fit`);
   const { added, restored } = setAsideDiff(fit.setAside, current.setAside);
   if (added.length > 0 || restored.length > 0) {
     const parts = visible
-      ? [...added.map((s) => `${s.participant} (${scopeOf(s)}) added`), ...restored.map((s) => `${s.participant} (${scopeOf(s)}) restored`)]
-      : [...(added.length > 0 ? [`${added.length} added`] : []), ...(restored.length > 0 ? [`${restored.length} restored`] : [])];
-    const shown = parts.length > LIST_MAX * 2 ? [...parts.slice(0, LIST_MAX * 2), `and ${parts.length - LIST_MAX * 2} more`] : parts;
+      ? [
+          ...added.map((s) => `${s.participant} (${scopeOf(s)}) added`),
+          ...restored.map((s) => `${s.participant} (${scopeOf(s)}) restored`),
+        ]
+      : [
+          ...(added.length > 0 ? [`${added.length} added`] : []),
+          ...(restored.length > 0 ? [`${restored.length} restored`] : []),
+        ];
+    const shown =
+      parts.length > LIST_MAX * 2
+        ? [...parts.slice(0, LIST_MAX * 2), `and ${parts.length - LIST_MAX * 2} more`]
+        : parts;
     out.push(`Set-asides changed since this fit: ${shown.join(", ")}`);
   }
   const model = modelFieldChanges(fit.model, current.model);

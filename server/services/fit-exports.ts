@@ -28,7 +28,10 @@ import { conflict } from "../http/errors";
 import { buildFitInputs, inputsOfFit } from "./fit-inputs";
 
 function regionsOf(fit: Fit): RegionResult[] {
-  if (fit.status !== "done" || !fit.result) throw conflict(`This fit is not finished (status ${fit.status}); exports are available once it is done.`);
+  if (fit.status !== "done" || !fit.result)
+    throw conflict(
+      `This fit is not finished (status ${fit.status}); exports are available once it is done.`,
+    );
   return (fit.result as { regions: RegionResult[] }).regions;
 }
 
@@ -38,7 +41,9 @@ export function exportFileName(fit: Pick<Fit, "id">, what: "regions.csv" | "reci
 }
 
 function inferenceOf(r: RegionResult, fallback: string): string {
-  const perm = r.permutation as { scheme?: string; exact?: boolean; rearrangements?: number } | undefined;
+  const perm = r.permutation as
+    | { scheme?: string; exact?: boolean; rearrangements?: number }
+    | undefined;
   if (perm && typeof perm.rearrangements === "number") {
     // `rearrangements` counts the observed order too (server/stats/permutation.ts).
     const scheme = perm.scheme ?? "rearrangement";
@@ -47,7 +52,8 @@ function inferenceOf(r: RegionResult, fallback: string): string {
       : `permutation (${scheme}, ${perm.rearrangements - 1} random rearrangements plus the observed order, Monte Carlo)`;
   }
   const boot = r.bootstrap as { method?: string; resamples?: number } | undefined;
-  if (boot && typeof boot.resamples === "number") return `bootstrap (${boot.method === "bca" ? "BCa" : "percentile"}, ${boot.resamples} resamples)`;
+  if (boot && typeof boot.resamples === "number")
+    return `bootstrap (${boot.method === "bca" ? "BCa" : "percentile"}, ${boot.resamples} resamples)`;
   return fallback;
 }
 
@@ -64,14 +70,40 @@ export function regionsCsv(fit: Fit): string {
   const regions = regionsOf(fit);
   const result = fit.result as { inference?: string; correction?: string };
   const withR = regions.some((r) => typeof r.r === "number");
-  const header = ["region", "n", "estimate", "se", "statistic", "df", "p", "p_adjusted", "ci_low", "ci_high"];
+  const header = [
+    "region",
+    "n",
+    "estimate",
+    "se",
+    "statistic",
+    "df",
+    "p",
+    "p_adjusted",
+    "ci_low",
+    "ci_high",
+  ];
   if (withR) header.push("r", "r_ci_low", "r_ci_high");
   header.push("method", "inference", "correction");
   const correction = correctionNames[result.correction ?? "none"] ?? String(result.correction);
   const rows = regions.map((r) => {
-    const row: CsvCell[] = [r.region, r.n, r.estimate, r.se, r.statistic, r.df, r.p, r.pAdjusted, r.ciLow, r.ciHigh];
+    const row: CsvCell[] = [
+      r.region,
+      r.n,
+      r.estimate,
+      r.se,
+      r.statistic,
+      r.df,
+      r.p,
+      r.pAdjusted,
+      r.ciLow,
+      r.ciHigh,
+    ];
     if (withR) row.push(r.r ?? null, r.rCiLow ?? null, r.rCiHigh ?? null);
-    row.push(typeof r.method === "string" ? r.method : null, inferenceOf(r, result.inference ?? "parametric"), correction);
+    row.push(
+      typeof r.method === "string" ? r.method : null,
+      inferenceOf(r, result.inference ?? "parametric"),
+      correction,
+    );
     return row;
   });
   return toCsv(header, rows);
@@ -119,14 +151,24 @@ export function recipeJson(fit: Pick<Fit, "recipe">): string {
  * model and the join of the fit's data (O(rows × columns)). Throws 409 when
  * the fit is not done.
  */
-export async function methodsOf(db: Queryable, fit: Fit, softwareName = "Covarion"): Promise<MethodsText> {
+export async function methodsOf(
+  db: Queryable,
+  fit: Fit,
+  softwareName = "Covarion",
+): Promise<MethodsText> {
   const regions = regionsOf(fit);
   const ids = [fit.brainVersionId, ...(fit.sheetVersionId ? [fit.sheetVersionId] : [])];
   const [versions, [model], built, [seal]] = await Promise.all([
     db.select().from(datasetVersions).where(inArray(datasetVersions.id, ids)),
-    db.select({ regionSelection: models.regionSelection }).from(models).where(eq(models.id, fit.modelId)),
+    db
+      .select({ regionSelection: models.regionSelection })
+      .from(models)
+      .where(eq(models.id, fit.modelId)),
     buildFitInputs(db, inputsOfFit(fit)),
-    db.select({ singlePersonSignOff: fitSeals.singlePersonSignOff }).from(fitSeals).where(eq(fitSeals.fitId, fit.id)),
+    db
+      .select({ singlePersonSignOff: fitSeals.singlePersonSignOff })
+      .from(fitSeals)
+      .where(eq(fitSeals.fitId, fit.id)),
   ]);
   const brain = versions.find((v) => v.id === fit.brainVersionId);
   const sheet = fit.sheetVersionId ? versions.find((v) => v.id === fit.sheetVersionId) : undefined;
@@ -137,7 +179,9 @@ export async function methodsOf(db: Queryable, fit: Fit, softwareName = "Covario
     result: { regions },
     datasets: {
       brain: { fileName: brain.fileName, version: brain.version, sha256: brain.sha256 },
-      participants: sheet ? { fileName: sheet.fileName, version: sheet.version, sha256: sheet.sha256 } : null,
+      participants: sheet
+        ? { fileName: sheet.fileName, version: sheet.version, sha256: sheet.sha256 }
+        : null,
     },
     regionSelection: (model?.regionSelection as MethodsInput["regionSelection"]) ?? null,
     roster:
@@ -153,7 +197,10 @@ export async function methodsOf(db: Queryable, fit: Fit, softwareName = "Covario
           }
         : null,
     brainParticipants: built.data.participants.length,
-    session: built.session === null ? null : { label: built.session, of: built.data.sessions?.labels.length ?? 1 },
+    session:
+      built.session === null
+        ? null
+        : { label: built.session, of: built.data.sessions?.labels.length ?? 1 },
     softwareName,
     singlePersonSignOff: seal?.singlePersonSignOff === true,
   };

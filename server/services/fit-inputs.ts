@@ -37,16 +37,29 @@ export async function buildFitInputs(db: Queryable, inputs: FitInputs): Promise<
   const ids = [inputs.brainVersionId, ...(inputs.sheetVersionId ? [inputs.sheetVersionId] : [])];
   const versions = await db.select().from(datasetVersions).where(inArray(datasetVersions.id, ids));
   const brain = versions.find((v) => v.id === inputs.brainVersionId && v.kind === "brain");
-  const sheet: DatasetVersion | null = inputs.sheetVersionId ? (versions.find((v) => v.id === inputs.sheetVersionId && v.kind === "participants") ?? null) : null;
-  if (!brain) throw new Error(`buildFitInputs: brain table version ${inputs.brainVersionId} not found`);
-  if (inputs.sheetVersionId && !sheet) throw new Error(`buildFitInputs: participant sheet version ${inputs.sheetVersionId} not found`);
-  const [table, participants] = await Promise.all([loadBrainTable(db, brain), sheet ? loadParticipantSheet(db, sheet) : Promise.resolve(null)]);
+  const sheet: DatasetVersion | null = inputs.sheetVersionId
+    ? (versions.find((v) => v.id === inputs.sheetVersionId && v.kind === "participants") ?? null)
+    : null;
+  if (!brain)
+    throw new Error(`buildFitInputs: brain table version ${inputs.brainVersionId} not found`);
+  if (inputs.sheetVersionId && !sheet)
+    throw new Error(`buildFitInputs: participant sheet version ${inputs.sheetVersionId} not found`);
+  const [table, participants] = await Promise.all([
+    loadBrainTable(db, brain),
+    sheet ? loadParticipantSheet(db, sheet) : Promise.resolve(null),
+  ]);
   return buildFitData(table, participants, { mappings: inputs.mappings });
 }
 
 function keyOf(inputs: FitInputs): string {
-  const mappings = [...inputs.mappings].sort((a, b) => (a.brainId < b.brainId ? -1 : a.brainId > b.brainId ? 1 : 0));
-  return JSON.stringify([inputs.brainVersionId, inputs.sheetVersionId, mappings.map((m) => [m.brainId, m.sheetId])]);
+  const mappings = [...inputs.mappings].sort((a, b) =>
+    a.brainId < b.brainId ? -1 : a.brainId > b.brainId ? 1 : 0,
+  );
+  return JSON.stringify([
+    inputs.brainVersionId,
+    inputs.sheetVersionId,
+    mappings.map((m) => [m.brainId, m.sheetId]),
+  ]);
 }
 
 /** A small least-recently-used cache of built fit inputs. */
@@ -83,12 +96,17 @@ export class FitDataCache {
 /** The model fields of a stored recipe (its other keys name the data). Throws ZodError for a malformed recipe. */
 export function specOfRecipe(recipe: Readonly<Record<string, unknown>>): ModelSpec {
   const fields: Record<string, unknown> = {};
-  for (const key of Object.keys(modelSpecSchema.shape)) if (recipe[key] !== undefined) fields[key] = recipe[key];
+  for (const key of Object.keys(modelSpecSchema.shape))
+    if (recipe[key] !== undefined) fields[key] = recipe[key];
   return modelSpecSchema.parse(fields);
 }
 
 /** The data a stored fit names: its dataset versions and the recipe's id mappings. */
-export function inputsOfFit(fit: { brainVersionId: string; sheetVersionId: string | null; recipe: unknown }): FitInputs {
+export function inputsOfFit(fit: {
+  brainVersionId: string;
+  sheetVersionId: string | null;
+  recipe: unknown;
+}): FitInputs {
   const mappings = (fit.recipe as { mappings?: IdMapping[] } | null)?.mappings ?? [];
   return { brainVersionId: fit.brainVersionId, sheetVersionId: fit.sheetVersionId, mappings };
 }

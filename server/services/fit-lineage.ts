@@ -28,7 +28,13 @@ import type { Queryable } from "../../db/client";
 import { cachedRead } from "../../db/read-cache";
 import { datasetVersions, fits, models, setAsides, users } from "../../db/schema";
 import { type ModelSpec, modelSpecSchema } from "../model/spec";
-import { type InputFacts, type SetAsideEntry, type VersionRef, refitChanges, staleReasons } from "./fit-changes";
+import {
+  type InputFacts,
+  type SetAsideEntry,
+  type VersionRef,
+  refitChanges,
+  staleReasons,
+} from "./fit-changes";
 import { confirmedMappings, specOfRecipe } from "./fit-inputs";
 
 /** A set-aside a fit applied, as its view shows it. */
@@ -117,10 +123,21 @@ async function factsOf(db: Queryable, ids: readonly string[]): Promise<Map<strin
       })
       .from(fits)
       .where(inArray(fits.id, missing));
-    const versionIds = [...new Set(rows.flatMap((r) => [r.brainVersionId, ...(r.sheetVersionId ? [r.sheetVersionId] : [])]))];
+    const versionIds = [
+      ...new Set(
+        rows.flatMap((r) => [r.brainVersionId, ...(r.sheetVersionId ? [r.sheetVersionId] : [])]),
+      ),
+    ];
     const versions =
       versionIds.length > 0
-        ? await db.select({ id: datasetVersions.id, version: datasetVersions.version, fileName: datasetVersions.fileName }).from(datasetVersions).where(inArray(datasetVersions.id, versionIds))
+        ? await db
+            .select({
+              id: datasetVersions.id,
+              version: datasetVersions.version,
+              fileName: datasetVersions.fileName,
+            })
+            .from(datasetVersions)
+            .where(inArray(datasetVersions.id, versionIds))
         : [];
     const byId = new Map(versions.map((v) => [v.id, v]));
     const ref = (id: string): VersionRef => byId.get(id) ?? { id, version: 0, fileName: "" };
@@ -132,7 +149,9 @@ async function factsOf(db: Queryable, ids: readonly string[]): Promise<Map<strin
       } catch {
         spec = null;
       }
-      const mappings = ((recipe.mappings as { brainId: string; sheetId: string }[] | undefined) ?? []).map((m) => ({ brainId: m.brainId, sheetId: m.sheetId }));
+      const mappings = (
+        (recipe.mappings as { brainId: string; sheetId: string }[] | undefined) ?? []
+      ).map((m) => ({ brainId: m.brainId, sheetId: m.sheetId }));
       store.set(r.id, {
         id: r.id,
         modelId: r.modelId,
@@ -157,19 +176,30 @@ async function factsOf(db: Queryable, ids: readonly string[]): Promise<Map<strin
 }
 
 /** The smallest and largest region N of these done fits (read once, then kept: a done fit's result never changes). */
-async function nRanges(db: Queryable, doneIds: readonly string[]): Promise<Map<string, { min: number; max: number } | null>> {
+async function nRanges(
+  db: Queryable,
+  doneIds: readonly string[],
+): Promise<Map<string, { min: number; max: number } | null>> {
   const store = keptFor(db).n;
   const missing = [...new Set(doneIds)].filter((id) => !store.has(id));
   if (missing.length > 0) {
     const rows = await db
       .select({
         id: fits.id,
-        min: sql<number | null>`(select min((r->>'n')::int) from jsonb_array_elements(${fits.result}->'regions') r)`,
-        max: sql<number | null>`(select max((r->>'n')::int) from jsonb_array_elements(${fits.result}->'regions') r)`,
+        min: sql<
+          number | null
+        >`(select min((r->>'n')::int) from jsonb_array_elements(${fits.result}->'regions') r)`,
+        max: sql<
+          number | null
+        >`(select max((r->>'n')::int) from jsonb_array_elements(${fits.result}->'regions') r)`,
       })
       .from(fits)
       .where(and(inArray(fits.id, missing), eq(fits.status, "done")));
-    for (const r of rows) store.set(r.id, r.min === null || r.max === null ? null : { min: Number(r.min), max: Number(r.max) });
+    for (const r of rows)
+      store.set(
+        r.id,
+        r.min === null || r.max === null ? null : { min: Number(r.min), max: Number(r.max) },
+      );
   }
   return new Map(doneIds.map((id) => [id, store.get(id) ?? null]));
 }
@@ -197,7 +227,12 @@ interface StudyNow {
 function studyNow(db: Queryable, studyId: string): Promise<StudyNow> {
   return cachedRead(db, `fit lineage study ${studyId}`, async () => {
     const versions = await db
-      .selectDistinctOn([datasetVersions.kind], { id: datasetVersions.id, kind: datasetVersions.kind, version: datasetVersions.version, fileName: datasetVersions.fileName })
+      .selectDistinctOn([datasetVersions.kind], {
+        id: datasetVersions.id,
+        kind: datasetVersions.kind,
+        version: datasetVersions.version,
+        fileName: datasetVersions.fileName,
+      })
       .from(datasetVersions)
       .where(and(eq(datasetVersions.studyId, studyId), eq(datasetVersions.complete, true)))
       .orderBy(datasetVersions.kind, desc(datasetVersions.version));
@@ -212,27 +247,41 @@ function studyNow(db: Queryable, studyId: string): Promise<StudyNow> {
         region: setAsides.region,
         reason: setAsides.reason,
         createdBy: setAsides.createdBy,
-        creatorName: sql<string | null>`(select u.name from ${users} u where u.id = ${setAsides.createdBy})`,
+        creatorName: sql<
+          string | null
+        >`(select u.name from ${users} u where u.id = ${setAsides.createdBy})`,
         createdAt: setAsides.createdAt,
         restoredAt: setAsides.restoredAt,
       })
       .from(setAsides)
       .where(eq(setAsides.studyId, studyId))
       .orderBy(desc(setAsides.createdAt), desc(setAsides.id));
-    const modelRows = await db.select({ id: models.id, spec: models.spec, deletedAt: models.deletedAt }).from(models).where(eq(models.studyId, studyId));
+    const modelRows = await db
+      .select({ id: models.id, spec: models.spec, deletedAt: models.deletedAt })
+      .from(models)
+      .where(eq(models.studyId, studyId));
     const modelMap = new Map<string, Omit<ModelSpec, "setAside"> | null>();
     for (const m of modelRows) {
       const parsed = modelSpecSchema.safeParse(m.spec);
       modelMap.set(m.id, m.deletedAt === null && parsed.success ? modelFields(parsed.data) : null);
     }
-    return { brain: ref("brain"), sheet: ref("participants"), mappings, setAsides: records, models: modelMap };
+    return {
+      brain: ref("brain"),
+      sheet: ref("participants"),
+      mappings,
+      setAsides: records,
+      models: modelMap,
+    };
   });
 }
 
-const sameRegion = (record: SetAsideRecord, entry: { region?: string }) => record.region === (entry.region ?? null);
+const sameRegion = (record: SetAsideRecord, entry: { region?: string }) =>
+  record.region === (entry.region ?? null);
 
 /** Whether a set-aside record was active at `at`. */
-const activeAt = (record: SetAsideRecord, at: Date) => record.createdAt.getTime() <= at.getTime() && (record.restoredAt === null || record.restoredAt.getTime() > at.getTime());
+const activeAt = (record: SetAsideRecord, at: Date) =>
+  record.createdAt.getTime() <= at.getTime() &&
+  (record.restoredAt === null || record.restoredAt.getTime() > at.getTime());
 
 /**
  * The set-aside list a new fit of the model would apply now, as seen from
@@ -240,15 +289,33 @@ const activeAt = (record: SetAsideRecord, at: Date) => record.createdAt.getTime(
  * region, every-region first).
  */
 function wouldApply(fit: FitFacts, now: StudyNow): SetAsideEntry[] {
-  const applied = new Set(fit.inputs.setAside.map((s) => `${s.participant}\u0000${s.region ?? ""}`));
+  const applied = new Set(
+    fit.inputs.setAside.map((s) => `${s.participant}\u0000${s.region ?? ""}`),
+  );
   const entries = now.setAsides
     .filter((r) => r.restoredAt === null)
-    .filter((r) => !(activeAt(r, fit.createdAt) && !applied.has(`${r.participant}\u0000${r.region ?? ""}`)))
-    .map((r): SetAsideEntry => (r.region === null ? { participant: r.participant, reason: r.reason } : { participant: r.participant, region: r.region, reason: r.reason }));
+    .filter(
+      (r) =>
+        !(activeAt(r, fit.createdAt) && !applied.has(`${r.participant}\u0000${r.region ?? ""}`)),
+    )
+    .map(
+      (r): SetAsideEntry =>
+        r.region === null
+          ? { participant: r.participant, reason: r.reason }
+          : { participant: r.participant, region: r.region, reason: r.reason },
+    );
   entries.sort(
     (a, b) =>
       (a.participant < b.participant ? -1 : a.participant > b.participant ? 1 : 0) ||
-      (a.region === undefined ? -1 : b.region === undefined ? 1 : a.region < b.region ? -1 : a.region > b.region ? 1 : 0),
+      (a.region === undefined
+        ? -1
+        : b.region === undefined
+          ? 1
+          : a.region < b.region
+            ? -1
+            : a.region > b.region
+              ? 1
+              : 0),
   );
   return entries;
 }
@@ -265,7 +332,10 @@ export async function lineageOf(
 ): Promise<Map<string, FitLineage>> {
   const out = new Map<string, FitLineage>();
   if (fitsOfStudy.length === 0) return out;
-  const facts = await factsOf(db, fitsOfStudy.map((f) => f.id));
+  const facts = await factsOf(
+    db,
+    fitsOfStudy.map((f) => f.id),
+  );
   const earlierIds = [...facts.values()].flatMap((f) => (f.refitOf ? [f.refitOf] : []));
   const earlier = await factsOf(db, earlierIds);
   const ns = await nRanges(
@@ -310,13 +380,20 @@ export async function lineageOf(
  * study's record of it active when the fit was created). Participant ids
  * are left out when not visible. Empty for an unknown fit.
  */
-export async function fitSetAsides(db: Queryable, studyId: string, fitId: string, options: { participantsVisible: boolean }): Promise<FitSetAsideView[]> {
+export async function fitSetAsides(
+  db: Queryable,
+  studyId: string,
+  fitId: string,
+  options: { participantsVisible: boolean },
+): Promise<FitSetAsideView[]> {
   const fact = (await factsOf(db, [fitId])).get(fitId);
   if (!fact) return [];
   const now = await studyNow(db, studyId);
   return fact.inputs.setAside.map((s) => {
     // Records are newest first: the latest record active when the fit was made.
-    const record = now.setAsides.find((r) => r.participant === s.participant && sameRegion(r, s) && activeAt(r, fact.createdAt));
+    const record = now.setAsides.find(
+      (r) => r.participant === s.participant && sameRegion(r, s) && activeAt(r, fact.createdAt),
+    );
     return {
       participant: options.participantsVisible ? s.participant : null,
       region: s.region ?? null,
@@ -332,7 +409,11 @@ export async function fitSetAsides(db: Queryable, studyId: string, fitId: string
  * The fit a new fit of `modelId` re-runs: the model's latest done fit in
  * the study, else its latest fit that was not cancelled, else null.
  */
-export async function refitTarget(db: Queryable, studyId: string, modelId: string): Promise<string | null> {
+export async function refitTarget(
+  db: Queryable,
+  studyId: string,
+  modelId: string,
+): Promise<string | null> {
   const [row] = await db
     .select({ id: fits.id })
     .from(fits)

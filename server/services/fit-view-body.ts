@@ -51,7 +51,10 @@ const etagOf = (bytes: Buffer) => `"${createHash("sha256").update(bytes).digest(
 export async function encodeJson(text: string): Promise<EncodedBody> {
   const identity = Buffer.from(text, "utf8");
   const zipped = await gzipAsync(identity, { level: constants.Z_BEST_COMPRESSION });
-  return { identity: { bytes: identity, etag: etagOf(identity) }, gzip: { bytes: zipped, etag: etagOf(zipped) } };
+  return {
+    identity: { bytes: identity, etag: etagOf(identity) },
+    gzip: { bytes: zipped, etag: etagOf(zipped) },
+  };
 }
 
 /**
@@ -67,7 +70,8 @@ export async function fitViewBody(
   participantsVisible: boolean,
 ): Promise<{ encoded: EncodedBody } | { view: FitView }> {
   const parts = await fitViewParts(db, jobs, studyId, fitId, participantsVisible);
-  if (parts.head.status !== "done" || !parts.result) return { view: { ...parts.head, result: parts.result } };
+  if (parts.head.status !== "done" || !parts.result)
+    return { view: { ...parts.head, result: parts.result } };
   const cache = bodies.get(db) ?? { entries: new Map<string, Entry>(), bytes: 0 };
   bodies.set(db, cache);
   const slot = `${fitId} ${participantsVisible}`;
@@ -79,7 +83,11 @@ export async function fitViewBody(
     return { encoded: await hit.body };
   }
   const result = parts.result;
-  const entry: Entry = { key, bytes: 0, body: encodeJson(JSON.stringify({ ...parts.head, result })) };
+  const entry: Entry = {
+    key,
+    bytes: 0,
+    body: encodeJson(JSON.stringify({ ...parts.head, result })),
+  };
   if (hit) {
     cache.entries.delete(slot);
     cache.bytes -= hit.bytes;

@@ -20,20 +20,43 @@ import { and, desc, eq, getTableColumns, inArray, sql } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
 import { perDatabase } from "../../db/prepared";
 import { cachedRead, deepFreeze } from "../../db/read-cache";
-import { datasetVersions, fitApprovals, fitRegions, fitSeals, fits, models, users, type Fit, type FitStatus, type Study } from "../../db/schema";
+import {
+  datasetVersions,
+  fitApprovals,
+  fitRegions,
+  fitSeals,
+  fits,
+  models,
+  users,
+  type Fit,
+  type FitStatus,
+  type Study,
+} from "../../db/schema";
 import { conflict, notFound } from "../http/errors";
 import { idSchema } from "../http/validate";
 import type { FitJobs, FitProgress } from "../jobs/fit-jobs";
 import { decodeRegionRows } from "../jobs/region-rows";
 import { circularityCaution } from "../model/model-form";
-import { type Flag, type ModelSpec, type ParticipantDiagnostics, type RegionResult, modelSpecSchema } from "../model/spec";
+import {
+  type Flag,
+  type ModelSpec,
+  type ParticipantDiagnostics,
+  type RegionResult,
+  modelSpecSchema,
+} from "../model/spec";
 import type { RegionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
 import { attenuateResult, withAttenuation } from "./attenuation";
 import { recordEvent } from "./audit";
 import { currentVersions } from "./datasets";
 import { confirmedMappings, inputsOfFit, specOfRecipe } from "./fit-inputs";
-import { type FitLineage, type FitSetAsideView, fitSetAsides, lineageOf, refitTarget } from "./fit-lineage";
+import {
+  type FitLineage,
+  type FitSetAsideView,
+  fitSetAsides,
+  lineageOf,
+  refitTarget,
+} from "./fit-lineage";
 import { findModel } from "./models";
 import { activeSetAsideList } from "./set-asides";
 import { type Publication, sealHash } from "./sealing";
@@ -83,12 +106,22 @@ export interface FitSummaryView extends FitLineage {
  * outliers), so the fit view's regions carry no participant id at all.
  * Left out, a 400-region view is less than half the size.
  */
-export const REGION_DETAIL_KEYS: ReadonlySet<string> = new Set(["nullHistogram", "sensitivity", "leaveOneOut", "vif", "flagThresholds", "permutation", "bootstrap", "projectionOutliers"]);
+export const REGION_DETAIL_KEYS: ReadonlySet<string> = new Set([
+  "nullHistogram",
+  "sensitivity",
+  "leaveOneOut",
+  "vif",
+  "flagThresholds",
+  "permutation",
+  "bootstrap",
+  "projectionOutliers",
+]);
 
 /** A region's result as the fit view shows it (without REGION_DETAIL_KEYS). */
 function viewRegion(region: RegionResult): RegionResult {
   const out: Record<string, unknown> = {};
-  for (const [key, value] of Object.entries(region)) if (!REGION_DETAIL_KEYS.has(key)) out[key] = value;
+  for (const [key, value] of Object.entries(region))
+    if (!REGION_DETAIL_KEYS.has(key)) out[key] = value;
   return out as RegionResult;
 }
 
@@ -120,7 +153,10 @@ export interface FitView extends FitSummaryView {
 }
 
 /** The study of the fit named by `params.fitId`, for `authorize` (null when there is none). */
-export async function studyOfFit(db: Database, params: Record<string, string>): Promise<string | null> {
+export async function studyOfFit(
+  db: Database,
+  params: Record<string, string>,
+): Promise<string | null> {
   const fitId = params.fitId;
   if (!idSchema.safeParse(fitId).success) return null;
   // A fit never moves to another study, so the answer can be kept (per database, bounded).
@@ -153,16 +189,23 @@ const fitRow = perDatabase((db) =>
 export async function findFit(db: Queryable, studyId: string, fitId: string): Promise<Fit> {
   const [row] = await fitRow(db).execute({ fitId, studyId });
   if (!row) throw notFound("Fit not found.");
-  const result = row.status === "done" ? (await doneResultOf(db, row.id, row.finishedAt)).result : null;
+  const result =
+    row.status === "done" ? (await doneResultOf(db, row.id, row.finishedAt)).result : null;
   return { ...row, result };
 }
 
-function progressOf(fit: Pick<Fit, "id" | "status" | "progress" | "secondsLeft">, jobs: FitJobs): FitProgress {
+function progressOf(
+  fit: Pick<Fit, "id" | "status" | "progress" | "secondsLeft">,
+  jobs: FitJobs,
+): FitProgress {
   if (fit.status === "running") {
     const live = jobs.live(fit.id);
     if (live) return live;
   }
-  return { fraction: fit.status === "done" ? 1 : fit.progress, secondsLeft: fit.status === "running" ? fit.secondsLeft : null };
+  return {
+    fraction: fit.status === "done" ? 1 : fit.progress,
+    secondsLeft: fit.status === "running" ? fit.secondsLeft : null,
+  };
 }
 
 /** A column of the outer `fits` row, named in full (drizzle writes a selected column unqualified, which inside a subquery would mean the inner table's). */
@@ -193,7 +236,9 @@ const summaryColumns = {
   model: sql<{ name: string; deleted: boolean; circular: boolean } | null>`coalesce(
     (select s.model from ${fitSeals} s where s.fit_id = ${outerFit("id")}),
     (select jsonb_build_object('name', mo.name, 'deleted', mo.deleted_at is not null, 'circular', mo.circular) from ${models} mo where mo.id = ${outerFit("model_id")}))`,
-  creatorName: sql<string | null>`(select u.name from ${users} u where u.id = ${outerFit("created_by")})`,
+  creatorName: sql<
+    string | null
+  >`(select u.name from ${users} u where u.id = ${outerFit("created_by")})`,
   approved: sql<boolean>`exists (select 1 from ${fitApprovals} a where a.fit_id = ${outerFit("id")})`,
   sealed: sql<boolean>`exists (select 1 from ${fitSeals} s where s.fit_id = ${outerFit("id")})`,
 };
@@ -217,15 +262,37 @@ interface SummaryRow {
   sealed: boolean;
 }
 
-const noLineage: FitLineage = { n: null, setAsideCount: 0, refitOf: null, refitOfCreatedAt: null, changes: [], stale: false, staleReasons: [] };
+const noLineage: FitLineage = {
+  n: null,
+  setAsideCount: 0,
+  refitOf: null,
+  refitOfCreatedAt: null,
+  changes: [],
+  stale: false,
+  staleReasons: [],
+};
 
-function summaryOf(row: SummaryRow, jobs: FitJobs, lineage: FitLineage | undefined): FitSummaryView {
+function summaryOf(
+  row: SummaryRow,
+  jobs: FitJobs,
+  lineage: FitLineage | undefined,
+): FitSummaryView {
   return {
     id: row.id,
     studyId: row.studyId,
-    model: { id: row.modelId, name: row.model?.name ?? "", deleted: row.model?.deleted ?? false, circular: row.model?.circular ?? false },
+    model: {
+      id: row.modelId,
+      name: row.model?.name ?? "",
+      deleted: row.model?.deleted ?? false,
+      circular: row.model?.circular ?? false,
+    },
     status: row.status,
-    stage: row.status === "done" && row.sealed ? "sealed" : row.status === "done" && row.approved ? "approved" : row.status,
+    stage:
+      row.status === "done" && row.sealed
+        ? "sealed"
+        : row.status === "done" && row.approved
+          ? "approved"
+          : row.status,
     progress: progressOf(row, jobs),
     createdBy: { id: row.createdBy, name: row.creatorName ?? null },
     createdAt: row.createdAt.toISOString(),
@@ -237,13 +304,23 @@ function summaryOf(row: SummaryRow, jobs: FitJobs, lineage: FitLineage | undefin
 }
 
 const fitsOfStudy = perDatabase((db) =>
-  db.select(summaryColumns).from(fits).where(eq(fits.studyId, sql.placeholder("studyId"))).orderBy(desc(fits.createdAt), desc(fits.id)).prepare("fits_of_study"),
+  db
+    .select(summaryColumns)
+    .from(fits)
+    .where(eq(fits.studyId, sql.placeholder("studyId")))
+    .orderBy(desc(fits.createdAt), desc(fits.id))
+    .prepare("fits_of_study"),
 );
 const fitsOfModel = perDatabase((db) =>
   db
     .select(summaryColumns)
     .from(fits)
-    .where(and(eq(fits.studyId, sql.placeholder("studyId")), eq(fits.modelId, sql.placeholder("modelId"))))
+    .where(
+      and(
+        eq(fits.studyId, sql.placeholder("studyId")),
+        eq(fits.modelId, sql.placeholder("modelId")),
+      ),
+    )
     .orderBy(desc(fits.createdAt), desc(fits.id))
     .prepare("fits_of_model"),
 );
@@ -261,10 +338,17 @@ export async function listFits(
   options: { modelId?: string; participantsVisible: boolean },
 ): Promise<FitSummaryView[]> {
   const { modelId } = options;
-  const rows: readonly SummaryRow[] = await cachedRead(db, `fits of ${studyId} ${modelId ?? "*"}`, () =>
-    modelId ? fitsOfModel(db).execute({ studyId, modelId }) : fitsOfStudy(db).execute({ studyId }),
+  const rows: readonly SummaryRow[] = await cachedRead(
+    db,
+    `fits of ${studyId} ${modelId ?? "*"}`,
+    () =>
+      modelId
+        ? fitsOfModel(db).execute({ studyId, modelId })
+        : fitsOfStudy(db).execute({ studyId }),
   );
-  const lineage = await lineageOf(db, studyId, rows, { participantsVisible: options.participantsVisible });
+  const lineage = await lineageOf(db, studyId, rows, {
+    participantsVisible: options.participantsVisible,
+  });
   return rows.map((r) => summaryOf(r, jobs, lineage.get(r.id)));
 }
 
@@ -273,7 +357,8 @@ const participantIdKeys = ["minWithout", "maxWithout", "rMinWithout", "rMaxWitho
 /** A region result without participant ids (projection outliers, sensitivity exclusions, leave-one-out names). */
 export function withoutParticipantIds(r: RegionResult): RegionResult {
   const out: RegionResult = { ...r };
-  if (Array.isArray(out.projectionOutliers)) out.projectionOutliers = { count: out.projectionOutliers.length };
+  if (Array.isArray(out.projectionOutliers))
+    out.projectionOutliers = { count: out.projectionOutliers.length };
   if (out.sensitivity && typeof out.sensitivity === "object") {
     const s = { ...(out.sensitivity as Record<string, unknown>) };
     if (Array.isArray(s.excluded)) s.excluded = { count: s.excluded.length };
@@ -315,7 +400,11 @@ const RESULT_CACHE_CHARS = 32 * 1024 * 1024;
 const doneResults = new WeakMap<object, { entries: Map<string, DoneResult>; chars: number }>();
 
 /** The finished fit's stored result (from memory when read before). */
-async function doneResultOf(db: Queryable, fitId: string, finishedAt: Date | null): Promise<DoneResult> {
+async function doneResultOf(
+  db: Queryable,
+  fitId: string,
+  finishedAt: Date | null,
+): Promise<DoneResult> {
   const cache = doneResults.get(db) ?? { entries: new Map<string, DoneResult>(), chars: 0 };
   doneResults.set(db, cache);
   const stamp = finishedAt?.getTime() ?? 0;
@@ -364,9 +453,19 @@ const fitViewRow = perDatabase((db) =>
       sheetVersionId: fits.sheetVersionId,
       brain: version("brain_version_id"),
       sheet: version("sheet_version_id"),
-      approval: sql<{ at: string; id: string; name: string | null } | null>`(select json_build_object('at', a.approved_at, 'id', u.id, 'name', u.name)
+      approval: sql<{
+        at: string;
+        id: string;
+        name: string | null;
+      } | null>`(select json_build_object('at', a.approved_at, 'id', u.id, 'name', u.name)
         from ${fitApprovals} a join ${users} u on u.id = a.approved_by where a.fit_id = ${outerFit("id")})`,
-      seal: sql<{ at: string; sha256: string; id: string; name: string | null; single: boolean } | null>`(select json_build_object('at', s.sealed_at, 'sha256', s.sha256, 'id', u.id, 'name', u.name, 'single', s.single_person_sign_off)
+      seal: sql<{
+        at: string;
+        sha256: string;
+        id: string;
+        name: string | null;
+        single: boolean;
+      } | null>`(select json_build_object('at', s.sealed_at, 'sha256', s.sha256, 'id', u.id, 'name', u.name, 'single', s.single_person_sign_off)
         from ${fitSeals} s join ${users} u on u.id = s.sealed_by where s.fit_id = ${outerFit("id")})`,
     })
     .from(fits)
@@ -402,13 +501,22 @@ export interface FitViewParts {
   resultStamp: string;
 }
 
-export async function fitViewParts(db: Queryable, jobs: FitJobs, studyId: string, fitId: string, participantsVisible: boolean): Promise<FitViewParts> {
-  const [row] = await cachedRead(db, `fit view ${studyId} ${fitId}`, () => fitViewRow(db).execute({ fitId, studyId }));
+export async function fitViewParts(
+  db: Queryable,
+  jobs: FitJobs,
+  studyId: string,
+  fitId: string,
+  participantsVisible: boolean,
+): Promise<FitViewParts> {
+  const [row] = await cachedRead(db, `fit view ${studyId} ${fitId}`, () =>
+    fitViewRow(db).execute({ fitId, studyId }),
+  );
   if (!row) throw notFound("Fit not found.");
   const lineage = (await lineageOf(db, studyId, [row], { participantsVisible })).get(row.id);
   const setAsides = await fitSetAsides(db, studyId, row.id, { participantsVisible });
   const summary = summaryOf(row, jobs, lineage);
-  const ref = (v: DatasetRef | null, id: string): DatasetRef => (v?.id ? v : { id, version: 0, fileName: "", sha256: "" });
+  const ref = (v: DatasetRef | null, id: string): DatasetRef =>
+    v?.id ? v : { id, version: 0, fileName: "", sha256: "" };
   // Only a finished fit has a result, and only a finished fit can be approved or sealed.
   const stored = row.status === "done" ? await doneResultOf(db, row.id, row.finishedAt) : null;
   // The shown regions carry no participant ids (REGION_DETAIL_KEYS), so callers without participant rows get the same result.
@@ -424,11 +532,20 @@ export async function fitViewParts(db: Queryable, jobs: FitJobs, studyId: string
       singlePersonSignOff: row.seal.single === true,
     };
   }
-  const approval: Publication["approval"] = stored && row.approval ? { by: { id: row.approval.id, name: row.approval.name }, at: new Date(row.approval.at).toISOString() } : null;
+  const approval: Publication["approval"] =
+    stored && row.approval
+      ? {
+          by: { id: row.approval.id, name: row.approval.name },
+          at: new Date(row.approval.at).toISOString(),
+        }
+      : null;
   const head: FitView = {
     ...summary,
     model: { ...summary.model, caution: summary.model.circular ? circularityCaution : null },
-    datasets: { brain: ref(row.brain, row.brainVersionId), participants: row.sheetVersionId ? ref(row.sheet, row.sheetVersionId) : null },
+    datasets: {
+      brain: ref(row.brain, row.brainVersionId),
+      participants: row.sheetVersionId ? ref(row.sheet, row.sheetVersionId) : null,
+    },
     participantsVisible,
     recipe: participantsVisible ? (row.recipe as Record<string, unknown>) : null,
     result: null,
@@ -445,22 +562,44 @@ export async function fitViewParts(db: Queryable, jobs: FitJobs, studyId: string
  * of what was added ("" when nothing was). Kept until the next write to the
  * database (attenuation reads the study's stated trait reliabilities).
  */
-function shownResult(db: Queryable, row: Pick<Fit, "id" | "studyId" | "brainVersionId" | "recipe">, stored: DoneResult): Promise<{ result: FitResultSummary; stamp: string }> {
+function shownResult(
+  db: Queryable,
+  row: Pick<Fit, "id" | "studyId" | "brainVersionId" | "recipe">,
+  stored: DoneResult,
+): Promise<{ result: FitResultSummary; stamp: string }> {
   return cachedRead(db, `fit result shown ${row.id} ${stored.finishedAt}`, async () => {
-    const result = await attenuateResult(db, { studyId: row.studyId, brainVersionId: row.brainVersionId, recipe: row.recipe }, stored.shown);
-    const stamp = result === stored.shown ? "" : createHash("sha256").update(JSON.stringify(result)).digest("base64url");
+    const result = await attenuateResult(
+      db,
+      { studyId: row.studyId, brainVersionId: row.brainVersionId, recipe: row.recipe },
+      stored.shown,
+    );
+    const stamp =
+      result === stored.shown
+        ? ""
+        : createHash("sha256").update(JSON.stringify(result)).digest("base64url");
     return { result, stamp };
   });
 }
 
 /** One fit of the study as the API answers it (see fitViewParts). Throws 404. */
-export async function loadFitView(db: Queryable, jobs: FitJobs, studyId: string, fitId: string, participantsVisible: boolean): Promise<FitView> {
+export async function loadFitView(
+  db: Queryable,
+  jobs: FitJobs,
+  studyId: string,
+  fitId: string,
+  participantsVisible: boolean,
+): Promise<FitView> {
   const { head, result } = await fitViewParts(db, jobs, studyId, fitId, participantsVisible);
   return { ...head, result };
 }
 
 /** One fit as the API answers it (see loadFitView). */
-export async function fitView(db: Queryable, jobs: FitJobs, fit: Pick<Fit, "id" | "studyId">, participantsVisible: boolean): Promise<FitView> {
+export async function fitView(
+  db: Queryable,
+  jobs: FitJobs,
+  fit: Pick<Fit, "id" | "studyId">,
+  participantsVisible: boolean,
+): Promise<FitView> {
   return loadFitView(db, jobs, fit.studyId, fit.id, participantsVisible);
 }
 
@@ -480,14 +619,19 @@ export async function createFit(
 ): Promise<FitView> {
   const model = await findModel(db, study.id, modelId);
   const { brain, participants } = await currentVersions(db, study.id);
-  if (!brain) throw conflict("This study has no confirmed brain table yet: upload and confirm one before running a fit.");
+  if (!brain)
+    throw conflict(
+      "This study has no confirmed brain table yet: upload and confirm one before running a fit.",
+    );
   const mappings = await confirmedMappings(db, study.id);
   const inputs = { brainVersionId: brain.id, sheetVersionId: participants?.id ?? null, mappings };
   const data = await jobs.data.get(inputs);
   const known = new Set(data.participants);
   const regions = new Set(data.regions);
   const active = await activeSetAsideList(db, study.id);
-  const applied = active.filter((s) => known.has(s.participant) && (s.region === undefined || regions.has(s.region)));
+  const applied = active.filter(
+    (s) => known.has(s.participant) && (s.region === undefined || regions.has(s.region)),
+  );
   const notApplied = active.filter((s) => !applied.includes(s));
   const refitOf = await refitTarget(db, study.id, model.id);
   const spec: ModelSpec = modelSpecSchema.parse({ ...(model.spec as object), setAside: applied });
@@ -501,7 +645,9 @@ export async function createFit(
     softwareVersion,
     inputs: {
       brainTable: { file: brain.fileName, sha256: brain.sha256 },
-      ...(participants ? { participantSheet: { file: participants.fileName, sha256: participants.sha256 } } : {}),
+      ...(participants
+        ? { participantSheet: { file: participants.fileName, sha256: participants.sha256 } }
+        : {}),
     },
   };
   const fit = await db.transaction(async (tx) => {
@@ -529,7 +675,9 @@ export async function createFit(
         modelId: model.id,
         modelName: model.name,
         brainTable: { id: brain.id, version: brain.version },
-        participantSheet: participants ? { id: participants.id, version: participants.version } : null,
+        participantSheet: participants
+          ? { id: participants.id, version: participants.version }
+          : null,
         setAside: applied.length,
         refitOf,
         ...(notApplied.length > 0 ? { setAsideNotApplied: notApplied } : {}),
@@ -544,7 +692,13 @@ export async function createFit(
 }
 
 /** Cancels a queued or running fit. Throws 409 when it has already finished. */
-export async function cancelFit(db: Database, jobs: FitJobs, actor: Actor, fit: Fit, now: Date): Promise<FitView> {
+export async function cancelFit(
+  db: Database,
+  jobs: FitJobs,
+  actor: Actor,
+  fit: Fit,
+  now: Date,
+): Promise<FitView> {
   const cancelled = await jobs.cancel(fit.id, () =>
     db.transaction(async (tx) => {
       const rows = await tx
@@ -553,7 +707,15 @@ export async function cancelFit(db: Database, jobs: FitJobs, actor: Actor, fit: 
         .where(and(eq(fits.id, fit.id), inArray(fits.status, ["queued", "running"])))
         .returning({ status: fits.status });
       if (rows.length === 0) return false;
-      await recordEvent(tx, { studyId: fit.studyId, actorId: actor.id, kind: "fit.cancelled", targetType: "fit", targetId: fit.id, before: { status: fit.status }, at: now });
+      await recordEvent(tx, {
+        studyId: fit.studyId,
+        actorId: actor.id,
+        kind: "fit.cancelled",
+        targetType: "fit",
+        targetId: fit.id,
+        before: { status: fit.status },
+        at: now,
+      });
       return true;
     }),
   );
@@ -564,7 +726,9 @@ export async function cancelFit(db: Database, jobs: FitJobs, actor: Actor, fit: 
 
 function regionOf(fit: Fit, region: string): RegionResult {
   if (fit.status !== "done") throw conflict(`This fit is not finished (status ${fit.status}).`);
-  const found = (fit.result as { regions: RegionResult[] }).regions.find((r) => r.region === region);
+  const found = (fit.result as { regions: RegionResult[] }).regions.find(
+    (r) => r.region === region,
+  );
   if (!found) throw notFound(`No region '${region}' in this fit.`);
   return found;
 }
@@ -586,7 +750,17 @@ export interface RegionDetailPoint {
 }
 
 /** What the region's plots and its participant card draw of one participant (the rest is in the participants' pages). */
-export type RegionPlotPoint = Pick<RegionDetailPoint, "participant" | "x" | "group" | "y" | "leverage" | "studentizedResidual" | "cooksDistance" | "flags">;
+export type RegionPlotPoint = Pick<
+  RegionDetailPoint,
+  | "participant"
+  | "x"
+  | "group"
+  | "y"
+  | "leverage"
+  | "studentizedResidual"
+  | "cooksDistance"
+  | "flags"
+>;
 
 export interface RegionDetail {
   fitId: string;
@@ -622,15 +796,23 @@ export async function regionParticipantRows(
   db: Queryable,
   fit: Fit,
   region: string,
-): Promise<{ summary: RegionResult; points: RegionDetailPoint[]; plot: RegionPlot | { error: string } | null }> {
+): Promise<{
+  summary: RegionResult;
+  points: RegionDetailPoint[];
+  plot: RegionPlot | { error: string } | null;
+}> {
   const summary = regionOf(fit, region);
   const [row] = await db
     .select()
     .from(fitRegions)
     .where(and(eq(fitRegions.fitId, fit.id), eq(fitRegions.region, region)));
-  const diagnostics: ParticipantDiagnostics[] = row ? decodeRegionRows(row.participants, region) : [];
+  const diagnostics: ParticipantDiagnostics[] = row
+    ? decodeRegionRows(row.participants, region)
+    : [];
   const plot = (row?.plot ? JSON.parse(row.plot) : null) as RegionPlot | { error: string } | null;
-  const byId = new Map((plot && "points" in plot ? plot.points : []).map((p) => [p.participant, p]));
+  const byId = new Map(
+    (plot && "points" in plot ? plot.points : []).map((p) => [p.participant, p]),
+  );
   const points: RegionDetailPoint[] = diagnostics.map((d) => {
     const p = byId.get(d.participant);
     return {
@@ -652,12 +834,20 @@ export async function regionParticipantRows(
 }
 
 /** A finished fit's region, for its plots. Throws 409 (not done), 404 (no such region). */
-export async function regionDetail(db: Queryable, fit: Fit, region: string, participantsVisible: boolean): Promise<RegionDetail> {
+export async function regionDetail(
+  db: Queryable,
+  fit: Fit,
+  region: string,
+  participantsVisible: boolean,
+): Promise<RegionDetail> {
   const { summary, points, plot } = await regionParticipantRows(db, fit, region);
   const spec = specOfRecipe(fit.recipe as Record<string, unknown>);
   const result = fit.result as Record<string, unknown>;
   const drawn = plot && "points" in plot ? plot : null;
-  const notes = [...(drawn?.notes ?? []), ...(plot && "error" in plot ? [`No plot data: ${plot.error}.`] : [])];
+  const notes = [
+    ...(drawn?.notes ?? []),
+    ...(plot && "error" in plot ? [`No plot data: ${plot.error}.`] : []),
+  ];
   const flagCounts = { outlier: 0, leverage: 0, influence: 0 };
   for (const p of points) for (const f of p.flags) flagCounts[f as Flag] += 1;
   const plotPoints: RegionPlotPoint[] = points.map((p) => ({
@@ -670,11 +860,22 @@ export async function regionDetail(db: Queryable, fit: Fit, region: string, part
     cooksDistance: p.cooksDistance,
     flags: p.flags,
   }));
-  const levels = drawn?.groupMeans && spec.kind === "two-group" ? drawn.groupMeans.map((g) => g.label) : spec.levels ? [...spec.levels] : null;
+  const levels =
+    drawn?.groupMeans && spec.kind === "two-group"
+      ? drawn.groupMeans.map((g) => g.label)
+      : spec.levels
+        ? [...spec.levels]
+        : null;
   const setAside = spec.setAside
     .filter((s) => s.region === undefined || s.region === region)
-    .map((s) => ({ participant: s.participant, scope: s.region === undefined ? ("all regions" as const) : ("this region" as const), reason: s.reason }));
-  const [shown] = (await withAttenuation(db, fit, [participantsVisible ? summary : withoutParticipantIds(summary)])).regions;
+    .map((s) => ({
+      participant: s.participant,
+      scope: s.region === undefined ? ("all regions" as const) : ("this region" as const),
+      reason: s.reason,
+    }));
+  const [shown] = (
+    await withAttenuation(db, fit, [participantsVisible ? summary : withoutParticipantIds(summary)])
+  ).regions;
   return {
     fitId: fit.id,
     region,
@@ -684,7 +885,12 @@ export async function regionDetail(db: Queryable, fit: Fit, region: string, part
     level: (result.level as number | undefined) ?? FIT_LEVEL,
     result: shown,
     n: summary.n,
-    axes: { x: spec.kind === "association" ? (spec.predictor ?? null) : null, y: "contrast value", group: spec.group ?? null, levels },
+    axes: {
+      x: spec.kind === "association" ? (spec.predictor ?? null) : null,
+      y: "contrast value",
+      group: spec.group ?? null,
+      levels,
+    },
     flagCounts,
     participantsVisible,
     points: participantsVisible ? plotPoints : null,
@@ -704,11 +910,36 @@ export interface RegionPreview {
   /** Always "parametric": resampling inference is recomputed by a full refit. */
   inference: "parametric";
   /** The fit's numbers for the region (parametric counterparts when the fit resampled), or null when the fit is not done. */
-  fit: { n: number; estimate: number; ciLow: number | null; ciHigh: number | null; p: number; r?: number } | null;
+  fit: {
+    n: number;
+    estimate: number;
+    ciLow: number | null;
+    ciHigh: number | null;
+    p: number;
+    r?: number;
+  } | null;
   /** The region recomputed with the study's current set-asides. */
-  preview: { n: number; estimate: number; se: number | null; statistic: number | null; df: number | null; p: number; ciLow: number | null; ciHigh: number | null; r?: number; rCiLow?: number; rCiHigh?: number; method: unknown };
+  preview: {
+    n: number;
+    estimate: number;
+    se: number | null;
+    statistic: number | null;
+    df: number | null;
+    p: number;
+    ciLow: number | null;
+    ciHigh: number | null;
+    r?: number;
+    rCiLow?: number;
+    rCiHigh?: number;
+    method: unknown;
+  };
   /** Set-asides applied in the preview (participant ids withheld when not visible). */
-  setAside: { count: number; participants: { participant: string; scope: "all regions" | "this region"; reason: string }[] | null };
+  setAside: {
+    count: number;
+    participants:
+      | { participant: string; scope: "all regions" | "this region"; reason: string }[]
+      | null;
+  };
   /** How the preview's set-aside list differs from the fit's for this region. */
   changes: { added: number; restored: number };
 }
@@ -719,18 +950,35 @@ export interface RegionPreview {
  * correction). Runs on the request thread: one region costs O(n·p²).
  * Throws 404 (no such region), StatsError 422 (e.g. too few participants left).
  */
-export async function previewRegion(db: Queryable, jobs: FitJobs, fit: Fit, region: string, participantsVisible: boolean): Promise<RegionPreview> {
+export async function previewRegion(
+  db: Queryable,
+  jobs: FitJobs,
+  fit: Fit,
+  region: string,
+  participantsVisible: boolean,
+): Promise<RegionPreview> {
   const recipeSpec = specOfRecipe(fit.recipe as Record<string, unknown>);
   const chosen = recipeSpec.regions && recipeSpec.regions.length > 0 ? recipeSpec.regions : null;
   if (chosen && !chosen.includes(region)) throw notFound(`No region '${region}' in this fit.`);
   const data = await jobs.data.get(inputsOfFit(fit));
   if (!data.regions.includes(region)) throw notFound(`No region '${region}' in this fit.`);
   const known = new Set(data.participants);
-  const active = (await activeSetAsideList(db, fit.studyId)).filter((s) => known.has(s.participant) && (s.region === undefined || s.region === region));
-  const spec: ModelSpec = { ...recipeSpec, regions: [region], setAside: active, inference: "parametric", correction: "none" };
+  const active = (await activeSetAsideList(db, fit.studyId)).filter(
+    (s) => known.has(s.participant) && (s.region === undefined || s.region === region),
+  );
+  const spec: ModelSpec = {
+    ...recipeSpec,
+    regions: [region],
+    setAside: active,
+    inference: "parametric",
+    correction: "none",
+  };
   const out = runFit(spec, data).regions[0];
-  const keyOf = (s: { participant: string; region?: string }) => `${s.participant}\u0000${s.region ?? ""}`;
-  const before = new Set(recipeSpec.setAside.filter((s) => s.region === undefined || s.region === region).map(keyOf));
+  const keyOf = (s: { participant: string; region?: string }) =>
+    `${s.participant}\u0000${s.region ?? ""}`;
+  const before = new Set(
+    recipeSpec.setAside.filter((s) => s.region === undefined || s.region === region).map(keyOf),
+  );
   const now = new Set(active.map(keyOf));
   let fitNumbers: RegionPreview["fit"] = null;
   if (fit.status === "done") {
@@ -766,9 +1014,16 @@ export async function previewRegion(db: Queryable, jobs: FitJobs, fit: Fit, regi
     setAside: {
       count: active.length,
       participants: participantsVisible
-        ? active.map((s) => ({ participant: s.participant, scope: s.region === undefined ? ("all regions" as const) : ("this region" as const), reason: s.reason }))
+        ? active.map((s) => ({
+            participant: s.participant,
+            scope: s.region === undefined ? ("all regions" as const) : ("this region" as const),
+            reason: s.reason,
+          }))
         : null,
     },
-    changes: { added: [...now].filter((k) => !before.has(k)).length, restored: [...before].filter((k) => !now.has(k)).length },
+    changes: {
+      added: [...now].filter((k) => !before.has(k)).length,
+      restored: [...before].filter((k) => !now.has(k)).length,
+    },
   };
 }

@@ -9,7 +9,15 @@
 import { createHash, randomBytes } from "node:crypto";
 import { and, desc, eq, gt, isNull } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
-import { invitations, memberships, studies, users, type Invitation, type Role, type Study } from "../../db/schema";
+import {
+  invitations,
+  memberships,
+  studies,
+  users,
+  type Invitation,
+  type Role,
+  type Study,
+} from "../../db/schema";
 import { conflict, forbidden, HttpError, notFound } from "../http/errors";
 import { assertNotArchived } from "../auth/permissions";
 import { recordEvent } from "./audit";
@@ -40,20 +48,41 @@ export function statusOf(invitation: Invitation, now: Date): InvitationStatus {
   return "pending";
 }
 
-const roleWords: Record<Role, string> = { owner: "Owner", analyst: "Analyst", reviewer: "Reviewer", viewer: "Viewer" };
+const roleWords: Record<Role, string> = {
+  owner: "Owner",
+  analyst: "Analyst",
+  reviewer: "Reviewer",
+  viewer: "Viewer",
+};
 
 /** Pending invitations of a study, newest first. */
-export async function listPendingInvitations(db: Queryable, studyId: string, now: Date): Promise<InvitationView[]> {
+export async function listPendingInvitations(
+  db: Queryable,
+  studyId: string,
+  now: Date,
+): Promise<InvitationView[]> {
   const rows = await db
     .select({ invitation: invitations, inviterName: users.name, inviterEmail: users.email })
     .from(invitations)
     .innerJoin(users, eq(users.id, invitations.invitedBy))
-    .where(and(eq(invitations.studyId, studyId), isNull(invitations.acceptedAt), isNull(invitations.revokedAt), gt(invitations.expiresAt, now)))
+    .where(
+      and(
+        eq(invitations.studyId, studyId),
+        isNull(invitations.acceptedAt),
+        isNull(invitations.revokedAt),
+        gt(invitations.expiresAt, now),
+      ),
+    )
     .orderBy(desc(invitations.createdAt));
   return rows.map((r) => view(r.invitation, r.inviterName, r.inviterEmail, now));
 }
 
-function view(inv: Invitation, inviterName: string | null, inviterEmail: string | null, now: Date): InvitationView {
+function view(
+  inv: Invitation,
+  inviterName: string | null,
+  inviterEmail: string | null,
+  now: Date,
+): InvitationView {
   return {
     id: inv.id,
     email: inv.email,
@@ -130,7 +159,12 @@ export async function invite(
   });
 }
 
-async function assertInvitable(db: Queryable, studyId: string, email: string, now: Date): Promise<void> {
+async function assertInvitable(
+  db: Queryable,
+  studyId: string,
+  email: string,
+  now: Date,
+): Promise<void> {
   const existingMember = await db
     .select({ userId: memberships.userId })
     .from(memberships)
@@ -151,11 +185,18 @@ async function assertInvitable(db: Queryable, studyId: string, email: string, no
       ),
     )
     .limit(1);
-  if (pending.length > 0) throw conflict(`${email} already has a pending invitation; revoke it to send a new one.`);
+  if (pending.length > 0)
+    throw conflict(`${email} already has a pending invitation; revoke it to send a new one.`);
 }
 
 /** Revokes a pending invitation of the study. 404 if unknown, 409 if no longer pending. */
-export async function revoke(db: Database, actorId: string, studyId: string, invitationId: string, now: Date): Promise<void> {
+export async function revoke(
+  db: Database,
+  actorId: string,
+  studyId: string,
+  invitationId: string,
+  now: Date,
+): Promise<void> {
   await db.transaction(async (tx) => {
     const [inv] = await tx
       .select()
@@ -164,8 +205,12 @@ export async function revoke(db: Database, actorId: string, studyId: string, inv
       .limit(1);
     if (!inv) throw notFound("Invitation not found.");
     const status = statusOf(inv, now);
-    if (status !== "pending") throw conflict(`This invitation is ${status} and can no longer be revoked.`);
-    await tx.update(invitations).set({ revokedAt: now, revokedBy: actorId }).where(eq(invitations.id, inv.id));
+    if (status !== "pending")
+      throw conflict(`This invitation is ${status} and can no longer be revoked.`);
+    await tx
+      .update(invitations)
+      .set({ revokedAt: now, revokedBy: actorId })
+      .where(eq(invitations.id, inv.id));
     await recordEvent(tx, {
       studyId,
       actorId,
@@ -190,7 +235,12 @@ export interface InvitationPreview {
 
 async function findByToken(db: Queryable, token: string) {
   const rows = await db
-    .select({ invitation: invitations, study: studies, inviterName: users.name, inviterEmail: users.email })
+    .select({
+      invitation: invitations,
+      study: studies,
+      inviterName: users.name,
+      inviterEmail: users.email,
+    })
     .from(invitations)
     .innerJoin(studies, eq(studies.id, invitations.studyId))
     .innerJoin(users, eq(users.id, invitations.invitedBy))
@@ -200,7 +250,11 @@ async function findByToken(db: Queryable, token: string) {
 }
 
 /** What the invitation page shows before accepting. 404 for an unknown token. */
-export async function previewInvitation(db: Database, token: string, now: Date): Promise<InvitationPreview> {
+export async function previewInvitation(
+  db: Database,
+  token: string,
+  now: Date,
+): Promise<InvitationPreview> {
   const found = await findByToken(db, token);
   if (!found) throw notFound("This invitation link is not valid.");
   const { invitation: inv } = found;
@@ -219,17 +273,35 @@ export async function previewInvitation(db: Database, token: string, now: Date):
  * when already used, revoked or expired; 403 when signed in with another
  * address; 409 when already a member.
  */
-export async function accept(db: Database, user: { id: string; email: string }, token: string, now: Date): Promise<{ studyId: string; role: Role }> {
+export async function accept(
+  db: Database,
+  user: { id: string; email: string },
+  token: string,
+  now: Date,
+): Promise<{ studyId: string; role: Role }> {
   return db.transaction(async (tx) => {
     const found = await findByToken(tx, token);
     if (!found) throw notFound("This invitation link is not valid.");
     const inv = found.invitation;
     const status = statusOf(inv, now);
-    if (status === "accepted") throw new HttpError(410, "invitation_used", "This invitation has already been used.");
-    if (status === "revoked") throw new HttpError(410, "invitation_revoked", "This invitation was revoked by the study's Owner.");
-    if (status === "expired") throw new HttpError(410, "invitation_expired", "This invitation has expired; ask the study's Owner for a new one.");
+    if (status === "accepted")
+      throw new HttpError(410, "invitation_used", "This invitation has already been used.");
+    if (status === "revoked")
+      throw new HttpError(
+        410,
+        "invitation_revoked",
+        "This invitation was revoked by the study's Owner.",
+      );
+    if (status === "expired")
+      throw new HttpError(
+        410,
+        "invitation_expired",
+        "This invitation has expired; ask the study's Owner for a new one.",
+      );
     if (user.email.toLowerCase() !== inv.email) {
-      throw forbidden(`This invitation was sent to ${inv.email}; you are signed in as ${user.email}. Sign in with the invited address to accept it.`);
+      throw forbidden(
+        `This invitation was sent to ${inv.email}; you are signed in as ${user.email}. Sign in with the invited address to accept it.`,
+      );
     }
     assertNotArchived(found.study);
     const already = await tx
@@ -237,9 +309,15 @@ export async function accept(db: Database, user: { id: string; email: string }, 
       .from(memberships)
       .where(and(eq(memberships.studyId, inv.studyId), eq(memberships.userId, user.id)))
       .limit(1);
-    if (already.length > 0) throw conflict(`You are already a member of this study (${already[0]?.role}).`);
-    await tx.insert(memberships).values({ studyId: inv.studyId, userId: user.id, role: inv.role, createdAt: now });
-    await tx.update(invitations).set({ acceptedAt: now, acceptedBy: user.id }).where(eq(invitations.id, inv.id));
+    if (already.length > 0)
+      throw conflict(`You are already a member of this study (${already[0]?.role}).`);
+    await tx
+      .insert(memberships)
+      .values({ studyId: inv.studyId, userId: user.id, role: inv.role, createdAt: now });
+    await tx
+      .update(invitations)
+      .set({ acceptedAt: now, acceptedBy: user.id })
+      .where(eq(invitations.id, inv.id));
     await recordEvent(tx, {
       studyId: inv.studyId,
       actorId: user.id,

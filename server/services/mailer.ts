@@ -32,19 +32,36 @@ export function createMailer(server: Mailer["server"], from: string): Mailer {
     async send(message) {
       const result = await transport.sendMail({ from, ...message });
       const refused = [...(result.rejected ?? []), ...(result.pending ?? [])].filter(Boolean);
-      if (refused.length > 0) throw new Error(`The mail server refused ${refused.map(String).join(", ")}.`);
+      if (refused.length > 0)
+        throw new Error(`The mail server refused ${refused.map(String).join(", ")}.`);
     },
   };
 }
 
 /** Escapes text for an HTML e-mail body. */
 export function escapeHtml(text: string): string {
-  return text.replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c] as string);
+  return text.replace(
+    /[&<>"']/g,
+    (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c] as string,
+  );
 }
 
 /** A short message with one link, as text and HTML. */
-export function linkMail(options: { to: string; subject: string; lines: readonly string[]; linkLabel: string; url: string; footer: string }): OutgoingMail {
-  const text = [...options.lines, "", `${options.linkLabel}: ${options.url}`, "", options.footer].join("\n");
+export function linkMail(options: {
+  to: string;
+  subject: string;
+  lines: readonly string[];
+  linkLabel: string;
+  url: string;
+  footer: string;
+}): OutgoingMail {
+  const text = [
+    ...options.lines,
+    "",
+    `${options.linkLabel}: ${options.url}`,
+    "",
+    options.footer,
+  ].join("\n");
   const html = [
     '<div style="font-family: sans-serif; line-height: 1.5">',
     ...options.lines.map((l) => `<p>${escapeHtml(l)}</p>`),

@@ -22,19 +22,34 @@ const roleOrder: Record<Role, number> = { owner: 0, analyst: 1, reviewer: 2, vie
 
 export async function listMembers(db: Queryable, studyId: string): Promise<MemberView[]> {
   const rows = await db
-    .select({ userId: memberships.userId, email: users.email, name: users.name, role: memberships.role, joinedAt: memberships.createdAt })
+    .select({
+      userId: memberships.userId,
+      email: users.email,
+      name: users.name,
+      role: memberships.role,
+      joinedAt: memberships.createdAt,
+    })
     .from(memberships)
     .innerJoin(users, eq(users.id, memberships.userId))
     .where(eq(memberships.studyId, studyId))
     .orderBy(asc(memberships.createdAt));
   return rows
     .map((r) => ({ ...r, joinedAt: r.joinedAt.toISOString() }))
-    .sort((a, b) => roleOrder[a.role] - roleOrder[b.role] || (a.email ?? "").localeCompare(b.email ?? ""));
+    .sort(
+      (a, b) =>
+        roleOrder[a.role] - roleOrder[b.role] || (a.email ?? "").localeCompare(b.email ?? ""),
+    );
 }
 
 async function memberOf(tx: Queryable, studyId: string, userId: string): Promise<MemberView> {
   const rows = await tx
-    .select({ userId: memberships.userId, email: users.email, name: users.name, role: memberships.role, joinedAt: memberships.createdAt })
+    .select({
+      userId: memberships.userId,
+      email: users.email,
+      name: users.name,
+      role: memberships.role,
+      joinedAt: memberships.createdAt,
+    })
     .from(memberships)
     .innerJoin(users, eq(users.id, memberships.userId))
     .where(and(eq(memberships.studyId, studyId), eq(memberships.userId, userId)))
@@ -55,12 +70,23 @@ async function ownerCount(tx: Queryable, studyId: string): Promise<number> {
 const lastOwnerMessage = "A study needs at least one Owner: make someone else Owner first.";
 
 /** Changes a member's role. Throws 404 for a non-member, 409 when it would leave no Owner. */
-export async function changeRole(db: Database, actorId: string, studyId: string, userId: string, role: Role, now: Date): Promise<MemberView> {
+export async function changeRole(
+  db: Database,
+  actorId: string,
+  studyId: string,
+  userId: string,
+  role: Role,
+  now: Date,
+): Promise<MemberView> {
   const changed = await db.transaction(async (tx) => {
     const member = await memberOf(tx, studyId, userId);
     if (member.role === role) return member;
-    if (member.role === "owner" && (await ownerCount(tx, studyId)) <= 1) throw conflict(lastOwnerMessage);
-    await tx.update(memberships).set({ role }).where(and(eq(memberships.studyId, studyId), eq(memberships.userId, userId)));
+    if (member.role === "owner" && (await ownerCount(tx, studyId)) <= 1)
+      throw conflict(lastOwnerMessage);
+    await tx
+      .update(memberships)
+      .set({ role })
+      .where(and(eq(memberships.studyId, studyId), eq(memberships.userId, userId)));
     await recordEvent(tx, {
       studyId,
       actorId,
@@ -77,11 +103,20 @@ export async function changeRole(db: Database, actorId: string, studyId: string,
 }
 
 /** Removes a member (or, when `actorId === userId`, leaves). 409 when it would leave no Owner. */
-export async function removeMember(db: Database, actorId: string, studyId: string, userId: string, now: Date): Promise<void> {
+export async function removeMember(
+  db: Database,
+  actorId: string,
+  studyId: string,
+  userId: string,
+  now: Date,
+): Promise<void> {
   await db.transaction(async (tx) => {
     const member = await memberOf(tx, studyId, userId);
-    if (member.role === "owner" && (await ownerCount(tx, studyId)) <= 1) throw conflict(lastOwnerMessage);
-    await tx.delete(memberships).where(and(eq(memberships.studyId, studyId), eq(memberships.userId, userId)));
+    if (member.role === "owner" && (await ownerCount(tx, studyId)) <= 1)
+      throw conflict(lastOwnerMessage);
+    await tx
+      .delete(memberships)
+      .where(and(eq(memberships.studyId, studyId), eq(memberships.userId, userId)));
     await recordEvent(tx, {
       studyId,
       actorId,

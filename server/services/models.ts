@@ -57,7 +57,11 @@ async function views(db: Queryable, rows: readonly Model[]): Promise<ModelView[]
   const ids = rows.map((m) => m.id);
   const [who, counts] = await Promise.all([
     db.select({ id: users.id, name: users.name }).from(users).where(inArray(users.id, people)),
-    db.select({ modelId: fits.modelId, n: count() }).from(fits).where(inArray(fits.modelId, ids)).groupBy(fits.modelId),
+    db
+      .select({ modelId: fits.modelId, n: count() })
+      .from(fits)
+      .where(inArray(fits.modelId, ids))
+      .groupBy(fits.modelId),
   ]);
   const names = new Map(who.map((u) => [u.id, u.name]));
   const fitCounts = new Map(counts.map((c) => [c.modelId, Number(c.n)]));
@@ -75,16 +79,31 @@ export async function listModels(db: Queryable, studyId: string): Promise<ModelV
 }
 
 /** A model of the study (deleted ones only with `includeDeleted`). Throws 404. */
-export async function findModel(db: Queryable, studyId: string, modelId: string, options: { includeDeleted?: boolean } = {}): Promise<Model> {
+export async function findModel(
+  db: Queryable,
+  studyId: string,
+  modelId: string,
+  options: { includeDeleted?: boolean } = {},
+): Promise<Model> {
   const [row] = await db
     .select()
     .from(models)
-    .where(and(eq(models.id, modelId), eq(models.studyId, studyId), options.includeDeleted ? undefined : isNull(models.deletedAt)));
+    .where(
+      and(
+        eq(models.id, modelId),
+        eq(models.studyId, studyId),
+        options.includeDeleted ? undefined : isNull(models.deletedAt),
+      ),
+    );
   if (!row) throw notFound("Model not found.");
   return row;
 }
 
-export async function getModel(db: Queryable, studyId: string, modelId: string): Promise<ModelView> {
+export async function getModel(
+  db: Queryable,
+  studyId: string,
+  modelId: string,
+): Promise<ModelView> {
   const [v] = await views(db, [await findModel(db, studyId, modelId)]);
   return v;
 }
@@ -105,10 +124,19 @@ export async function getModel(db: Queryable, studyId: string, modelId: string):
  * (reading both versions' rows; kept in `cache` when given, which the fit
  * started next reuses) and O(regions × participants) for the checks.
  */
-export async function problemsWithData(db: Queryable, studyId: string, spec: ModelSpec, cache?: FitDataCache): Promise<{ field: string; message: string }[]> {
+export async function problemsWithData(
+  db: Queryable,
+  studyId: string,
+  spec: ModelSpec,
+  cache?: FitDataCache,
+): Promise<{ field: string; message: string }[]> {
   const { brain, participants } = await currentVersions(db, studyId);
   if (!brain) return [];
-  const inputs = { brainVersionId: brain.id, sheetVersionId: participants?.id ?? null, mappings: await confirmedMappings(db, studyId) };
+  const inputs = {
+    brainVersionId: brain.id,
+    sheetVersionId: participants?.id ?? null,
+    mappings: await confirmedMappings(db, studyId),
+  };
   let data: FitData;
   try {
     data = cache ? await cache.get(inputs) : (await buildFitInputs(db, inputs)).data;
@@ -118,37 +146,68 @@ export async function problemsWithData(db: Queryable, studyId: string, spec: Mod
   }
   const known = new Set(data.participants);
   const regions = new Set(data.regions);
-  const setAside = (await activeSetAsideList(db, studyId)).filter((a) => known.has(a.participant) && (a.region === undefined || regions.has(a.region)));
+  const setAside = (await activeSetAsideList(db, studyId)).filter(
+    (a) => known.has(a.participant) && (a.region === undefined || regions.has(a.region)),
+  );
   const problems = fitPreconditionProblems({ ...spec, setAside }, data, {
     columns: participants !== null,
     naming: {
       brainTable: `the brain table ${brain.fileName} (version ${brain.version})`,
-      ...(participants ? { participantSheet: `the participant sheet ${participants.fileName} (version ${participants.version})` } : {}),
+      ...(participants
+        ? {
+            participantSheet: `the participant sheet ${participants.fileName} (version ${participants.version})`,
+          }
+        : {}),
     },
   });
   return problems.map((p) => ({ field: `body.spec.${p.field}`, message: p.message }));
 }
 
-async function checkAgainstData(db: Queryable, studyId: string, spec: ModelSpec, cache?: FitDataCache): Promise<void> {
+async function checkAgainstData(
+  db: Queryable,
+  studyId: string,
+  spec: ModelSpec,
+  cache?: FitDataCache,
+): Promise<void> {
   const problems = await problemsWithData(db, studyId, spec, cache);
   if (problems.length > 0) {
-    throw new HttpError(400, "validation_failed", problems.map((p) => `${p.field}: ${p.message}`).join("; "), problems);
+    throw new HttpError(
+      400,
+      "validation_failed",
+      problems.map((p) => `${p.field}: ${p.message}`).join("; "),
+      problems,
+    );
   }
 }
 
-async function checkName(db: Queryable, studyId: string, name: string, exceptId?: string): Promise<void> {
+async function checkName(
+  db: Queryable,
+  studyId: string,
+  name: string,
+  exceptId?: string,
+): Promise<void> {
   const rows = await db
     .select({ id: models.id })
     .from(models)
     .where(and(eq(models.studyId, studyId), eq(models.name, name), isNull(models.deletedAt)));
-  if (rows.some((r) => r.id !== exceptId)) throw conflict(`A model named "${name}" already exists in this study.`, [{ field: "body.name", message: "is already used by another model" }]);
+  if (rows.some((r) => r.id !== exceptId))
+    throw conflict(`A model named "${name}" already exists in this study.`, [
+      { field: "body.name", message: "is already used by another model" },
+    ]);
 }
 
 function auditView(m: { name: string; spec: unknown; regionSelection: string; circular: boolean }) {
   return { name: m.name, spec: m.spec, regionSelection: m.regionSelection, circular: m.circular };
 }
 
-export async function createModel(db: Database, actor: Actor, studyId: string, input: ModelCreate, now: Date, cache?: FitDataCache): Promise<ModelView> {
+export async function createModel(
+  db: Database,
+  actor: Actor,
+  studyId: string,
+  input: ModelCreate,
+  now: Date,
+  cache?: FitDataCache,
+): Promise<ModelView> {
   await checkAgainstData(db, studyId, input.spec, cache);
   const row = await db.transaction(async (tx) => {
     await checkName(tx, studyId, input.name);
@@ -166,7 +225,15 @@ export async function createModel(db: Database, actor: Actor, studyId: string, i
         updatedAt: now,
       })
       .returning();
-    await recordEvent(tx, { studyId, actorId: actor.id, kind: "model.created", targetType: "model", targetId: created.id, after: auditView(created), at: now });
+    await recordEvent(tx, {
+      studyId,
+      actorId: actor.id,
+      kind: "model.created",
+      targetType: "model",
+      targetId: created.id,
+      after: auditView(created),
+      at: now,
+    });
     return created;
   });
   const [v] = await views(db, [row]);
@@ -211,7 +278,16 @@ export async function updateModel(
       }
     }
     if (Object.keys(a).length > 0) {
-      await recordEvent(tx, { studyId, actorId: actor.id, kind: "model.updated", targetType: "model", targetId: modelId, before: b, after: a, at: now });
+      await recordEvent(tx, {
+        studyId,
+        actorId: actor.id,
+        kind: "model.updated",
+        targetType: "model",
+        targetId: modelId,
+        before: b,
+        after: a,
+        at: now,
+      });
     }
     return after;
   });
@@ -220,10 +296,19 @@ export async function updateModel(
 }
 
 /** Soft-deletes a model; its fits stay readable. */
-export async function deleteModel(db: Database, actor: Actor, studyId: string, modelId: string, now: Date): Promise<void> {
+export async function deleteModel(
+  db: Database,
+  actor: Actor,
+  studyId: string,
+  modelId: string,
+  now: Date,
+): Promise<void> {
   await db.transaction(async (tx) => {
     const before = await findModel(tx, studyId, modelId);
-    await tx.update(models).set({ deletedAt: now, deletedBy: actor.id }).where(eq(models.id, modelId));
+    await tx
+      .update(models)
+      .set({ deletedAt: now, deletedBy: actor.id })
+      .where(eq(models.id, modelId));
     await recordEvent(tx, {
       studyId,
       actorId: actor.id,

@@ -10,20 +10,29 @@
  * `planner_too_costly`) before anything is drawn.
  */
 import { HttpError } from "../http/errors";
-import { PLANNER_MAX_DRAWS, type PlannerAnswer, type PlannerQuestion, simulationDraws } from "../model/planner";
+import {
+  PLANNER_MAX_DRAWS,
+  type PlannerAnswer,
+  type PlannerQuestion,
+  simulationDraws,
+} from "../model/planner";
 import { componentReliability, planSampleSize, simulatePower } from "../stats/power";
 import { createRng } from "../stats/rng";
 
 const methodByDesign = {
   correlation: "Fisher z approximation for a Pearson correlation, two-sided",
   "two-group": "exact power of the two-sample t test from the noncentral t distribution, two-sided",
-  "one-sample": "exact power of the one-sample t test from the noncentral t distribution, two-sided",
+  "one-sample":
+    "exact power of the one-sample t test from the noncentral t distribution, two-sided",
 } as const;
 
 export function planStudy(question: PlannerQuestion): PlannerAnswer {
   let reliabilityBrain = question.reliabilityBrain;
   if (question.mode === "simulation" && question.components) {
-    reliabilityBrain = componentReliability(question.components, { sessions: question.sessions, trials: question.trials });
+    reliabilityBrain = componentReliability(question.components, {
+      sessions: question.sessions,
+      trials: question.trials,
+    });
   }
   const plan = planSampleSize({
     design: question.design,
@@ -35,10 +44,18 @@ export function planStudy(question: PlannerQuestion): PlannerAnswer {
     groupRatio: question.groupRatio,
   });
   const reliabilityNote =
-    reliabilityBrain !== undefined || question.reliabilityTrait !== undefined ? "; the effect is first reduced by the measures' reliability (Spearman's attenuation)" : "";
-  const answer: PlannerAnswer = { ...plan, method: `${methodByDesign[question.design]}${reliabilityNote}` };
+    reliabilityBrain !== undefined || question.reliabilityTrait !== undefined
+      ? "; the effect is first reduced by the measures' reliability (Spearman's attenuation)"
+      : "";
+  const answer: PlannerAnswer = {
+    ...plan,
+    method: `${methodByDesign[question.design]}${reliabilityNote}`,
+  };
   if (question.mode === "simulation" && question.components) {
-    const nValues = simulationSizes(plan.curve.map((p) => p.n), plan.n);
+    const nValues = simulationSizes(
+      plan.curve.map((p) => p.n),
+      plan.n,
+    );
     checkSimulationCost(question, nValues);
     const result = simulatePower({
       design: question.design,
@@ -81,7 +98,8 @@ function checkSimulationCost(question: PlannerQuestion, nValues: readonly number
   if (draws <= PLANNER_MAX_DRAWS) return;
   const participants = nValues.reduce((sum, n) => sum + n, 0);
   const maxSimulations = Math.floor(PLANNER_MAX_DRAWS / simulationDraws(1, nValues, sessions));
-  const millions = (value: number) => `${(value / 1e6).toLocaleString("en", { maximumFractionDigits: 1 })} million`;
+  const millions = (value: number) =>
+    `${(value / 1e6).toLocaleString("en", { maximumFractionDigits: 1 })} million`;
   const remedy =
     maxSimulations >= 100
       ? `Ask for at most ${maxSimulations.toLocaleString("en")} simulated studies, or fewer sessions.`
@@ -90,6 +108,14 @@ function checkSimulationCost(question: PlannerQuestion, nValues: readonly number
     422,
     "planner_too_costly",
     `This simulation would take ${millions(draws)} random draws (${question.simulations.toLocaleString("en")} simulated studies × ${participants.toLocaleString("en")} participants over ${nValues.length} study sizes × (${sessions} sessions + 2)); the limit is ${millions(PLANNER_MAX_DRAWS)}. ${remedy}`,
-    { field: "simulations", limit: PLANNER_MAX_DRAWS, requested: draws, simulations: question.simulations, participants, sessions, maxSimulations },
+    {
+      field: "simulations",
+      limit: PLANNER_MAX_DRAWS,
+      requested: draws,
+      simulations: question.simulations,
+      participants,
+      sessions,
+      maxSimulations,
+    },
   );
 }

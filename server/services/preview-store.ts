@@ -86,14 +86,22 @@ export class PreviewStore {
 
   /** True when `id` was issued by this server (this process or an earlier one) for `studyId`. */
   issued(id: string, studyId: string): boolean {
-    if (this.idKey === null || !/^[0-9a-f]{8}-[0-9a-f]{4}-8[0-9a-f]{3}-[89ab][0-9a-f]{3}-[0-9a-f]{12}$/i.test(id)) return false;
+    if (
+      this.idKey === null ||
+      !/^[0-9a-f]{8}-[0-9a-f]{4}-8[0-9a-f]{3}-[89ab][0-9a-f]{3}-[0-9a-f]{12}$/i.test(id)
+    )
+      return false;
     const bytes = Buffer.from(id.replaceAll("-", ""), "hex");
     return timingSafeEqual(bytes.subarray(8), this.seal(bytes, studyId));
   }
 
   /** The last 8 bytes of an id: HMAC of its first 8 and the study, with the RFC 9562 variant bits. */
   private seal(bytes: Buffer, studyId: string): Buffer {
-    const mac = createHmac("sha256", this.idKey as Buffer).update(bytes.subarray(0, 8)).update(studyId).digest().subarray(0, 8);
+    const mac = createHmac("sha256", this.idKey as Buffer)
+      .update(bytes.subarray(0, 8))
+      .update(studyId)
+      .digest()
+      .subarray(0, 8);
     mac[0] = (mac[0] & 0x3f) | 0x80;
     return mac;
   }

@@ -64,10 +64,16 @@ type Comparable = string | number | null;
 /** Text in natural order ("sub-2" before "sub-10"), as the app's tables sort it. */
 const naturalCollator = new Intl.Collator("en", { numeric: true, sensitivity: "base" });
 const compareValues = (a: string | number, b: string | number) =>
-  typeof a === "number" && typeof b === "number" ? a - b : naturalCollator.compare(String(a), String(b));
+  typeof a === "number" && typeof b === "number"
+    ? a - b
+    : naturalCollator.compare(String(a), String(b));
 
-function orderValue(point: RegionDetailPoint, sort: Exclude<ParticipantOrder, "position">): Comparable {
-  if (sort === "flags") return point.flags.length === 0 ? null : `${point.flags.length} ${point.flags.join(", ")}`;
+function orderValue(
+  point: RegionDetailPoint,
+  sort: Exclude<ParticipantOrder, "position">,
+): Comparable {
+  if (sort === "flags")
+    return point.flags.length === 0 ? null : `${point.flags.length} ${point.flags.join(", ")}`;
   const value = point[sort];
   return typeof value === "number" && !Number.isFinite(value) ? null : value;
 }
@@ -76,7 +82,12 @@ function orderValue(point: RegionDetailPoint, sort: Exclude<ParticipantOrder, "p
  * One page of a finished fit's region participants with every diagnostic.
  * Throws 409 (fit not done), 404 (no such region).
  */
-export async function regionParticipants(db: Queryable, fit: Fit, region: string, query: RegionParticipantsQuery): Promise<RegionParticipantsPage> {
+export async function regionParticipants(
+  db: Queryable,
+  fit: Fit,
+  region: string,
+  query: RegionParticipantsQuery,
+): Promise<RegionParticipantsPage> {
   const { points } = await regionParticipantRows(db, fit, region);
   const needle = query.search?.trim().toLowerCase() || null;
   let rows = needle ? points.filter((p) => p.participant.toLowerCase().includes(needle)) : points;
@@ -86,7 +97,8 @@ export async function regionParticipants(db: Queryable, fit: Fit, region: string
     rows = rows
       .map((point, position) => ({ point, position, value: orderValue(point, sort) }))
       .sort((a, b) => {
-        if (a.value === null || b.value === null) return a.value === b.value ? a.position - b.position : a.value === null ? 1 : -1;
+        if (a.value === null || b.value === null)
+          return a.value === b.value ? a.position - b.position : a.value === null ? 1 : -1;
         return sign * compareValues(a.value, b.value) || a.position - b.position;
       })
       .map((e) => e.point);

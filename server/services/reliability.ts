@@ -43,7 +43,10 @@ export const traitReliabilityInput = z.strictObject({
   source: z
     .string({ error: "must say where the value comes from" })
     .trim()
-    .min(1, { error: "must say where the value comes from (for example: test–retest r = .82, manual of the scale)" })
+    .min(1, {
+      error:
+        "must say where the value comes from (for example: test–retest r = .82, manual of the scale)",
+    })
     .max(1000),
 });
 
@@ -56,7 +59,11 @@ export const traitReliabilityList = z
     list.forEach((entry, i) => {
       const first = seen.get(entry.column);
       if (first !== undefined) {
-        ctx.addIssue({ code: "custom", path: [i, "column"], message: `column "${entry.column}" is listed twice (first at ${first})` });
+        ctx.addIssue({
+          code: "custom",
+          path: [i, "column"],
+          message: `column "${entry.column}" is listed twice (first at ${first})`,
+        });
       } else {
         seen.set(entry.column, i);
       }
@@ -74,7 +81,10 @@ export interface TraitReliabilityView {
 }
 
 /** The study's stated trait reliabilities, by column name. */
-export async function listTraitReliabilities(db: Queryable, studyId: string): Promise<TraitReliabilityView[]> {
+export async function listTraitReliabilities(
+  db: Queryable,
+  studyId: string,
+): Promise<TraitReliabilityView[]> {
   const rows = await db
     .select({ row: traitReliabilities, name: users.name, email: users.email })
     .from(traitReliabilities)
@@ -91,9 +101,20 @@ export async function listTraitReliabilities(db: Queryable, studyId: string): Pr
 }
 
 /** Stated reliability, source and time of statement per column (for attenuation). */
-export async function traitReliabilityMap(db: Queryable, studyId: string): Promise<Map<string, { reliability: number; source: string; statedAt: string }>> {
-  const rows = await db.select().from(traitReliabilities).where(eq(traitReliabilities.studyId, studyId));
-  return new Map(rows.map((r) => [r.column, { reliability: r.reliability, source: r.source, statedAt: r.updatedAt.toISOString() }]));
+export async function traitReliabilityMap(
+  db: Queryable,
+  studyId: string,
+): Promise<Map<string, { reliability: number; source: string; statedAt: string }>> {
+  const rows = await db
+    .select()
+    .from(traitReliabilities)
+    .where(eq(traitReliabilities.studyId, studyId));
+  return new Map(
+    rows.map((r) => [
+      r.column,
+      { reliability: r.reliability, source: r.source, statedAt: r.updatedAt.toISOString() },
+    ]),
+  );
 }
 
 /**
@@ -111,9 +132,18 @@ export async function replaceTraitReliabilities(
 ): Promise<TraitReliabilityView[]> {
   const { participants } = await currentVersions(db, studyId);
   if (entries.length > 0) {
-    if (!participants) throw conflict("This study has no participant sheet yet: upload and confirm one before stating trait reliabilities.");
-    const numeric = new Set(participants.columns.filter((c) => c.role === "variable" && c.type === "number").map((c) => c.name));
-    const all = new Set(participants.columns.filter((c) => c.role === "variable").map((c) => c.name));
+    if (!participants)
+      throw conflict(
+        "This study has no participant sheet yet: upload and confirm one before stating trait reliabilities.",
+      );
+    const numeric = new Set(
+      participants.columns
+        .filter((c) => c.role === "variable" && c.type === "number")
+        .map((c) => c.name),
+    );
+    const all = new Set(
+      participants.columns.filter((c) => c.role === "variable").map((c) => c.name),
+    );
     const details = entries.flatMap((e, i) =>
       numeric.has(e.column)
         ? []
@@ -127,7 +157,12 @@ export async function replaceTraitReliabilities(
           ],
     );
     if (details.length > 0) {
-      throw new HttpError(422, "unknown_column", details.map((d) => `${d.field}: ${d.message}`).join("; "), details);
+      throw new HttpError(
+        422,
+        "unknown_column",
+        details.map((d) => `${d.field}: ${d.message}`).join("; "),
+        details,
+      );
     }
   }
   const plain = (list: readonly { column: string; reliability: number; source: string }[]) =>
@@ -141,7 +176,14 @@ export async function replaceTraitReliabilities(
     await tx.delete(traitReliabilities).where(eq(traitReliabilities.studyId, studyId));
     if (entries.length > 0) {
       await tx.insert(traitReliabilities).values(
-        entries.map((e) => ({ studyId, column: e.column, reliability: e.reliability, source: e.source, updatedBy: actor.id, updatedAt: now })),
+        entries.map((e) => ({
+          studyId,
+          column: e.column,
+          reliability: e.reliability,
+          source: e.source,
+          updatedBy: actor.id,
+          updatedAt: now,
+        })),
       );
     }
     await recordEvent(tx, {
@@ -151,7 +193,9 @@ export async function replaceTraitReliabilities(
       targetType: "participant_sheet",
       targetId: participants?.id ?? null,
       before: plain(before),
-      after: plain([...entries].sort((a, b) => (a.column < b.column ? -1 : a.column > b.column ? 1 : 0))),
+      after: plain(
+        [...entries].sort((a, b) => (a.column < b.column ? -1 : a.column > b.column ? 1 : 0)),
+      ),
       at: now,
     });
   });
@@ -200,7 +244,9 @@ export const BRAIN_RELIABILITY_METHOD =
 
 const FORMS = ["icc11", "icc21", "icc31", "icc1k", "icc2k", "icc3k"] as const;
 
-function pickForms(r: Record<string, unknown>): Omit<RegionReliability, "region" | "n" | "sessions" | "p"> {
+function pickForms(
+  r: Record<string, unknown>,
+): Omit<RegionReliability, "region" | "n" | "sessions" | "p"> {
   const out = {} as Record<(typeof FORMS)[number], IccInterval>;
   for (const key of FORMS) {
     const form = r[key] as { value: number; ciLow: number | null; ciHigh: number | null };
@@ -217,7 +263,10 @@ const CACHE_SIZE = 8;
  * when the table has no session column, fewer than two sessions, or fewer
  * than two participants with a value in every session.
  */
-export function brainReliabilityOfVersion(db: Queryable, version: DatasetVersion): Promise<BrainReliabilityView> {
+export function brainReliabilityOfVersion(
+  db: Queryable,
+  version: DatasetVersion,
+): Promise<BrainReliabilityView> {
   const hit = cache.get(version.id);
   if (hit) {
     cache.delete(version.id);
@@ -231,15 +280,22 @@ export function brainReliabilityOfVersion(db: Queryable, version: DatasetVersion
   return pending;
 }
 
-async function computeBrainReliability(db: Queryable, version: DatasetVersion): Promise<BrainReliabilityView> {
+async function computeBrainReliability(
+  db: Queryable,
+  version: DatasetVersion,
+): Promise<BrainReliabilityView> {
   const name = version.fileName;
   if (!version.sessionColumn) {
-    throw conflict(`The brain table ${name} has no session column, so the reliability of its regions cannot be estimated: upload a table with a session column and at least two sessions per participant.`);
+    throw conflict(
+      `The brain table ${name} has no session column, so the reliability of its regions cannot be estimated: upload a table with a session column and at least two sessions per participant.`,
+    );
   }
   const brain = await loadBrainTable(db, version);
   const labels = brainSessions(brain);
   if (labels.length < 2) {
-    throw conflict(`The brain table ${name} has one session (${labels.join(", ") || "none"}); reliability needs at least two sessions per participant.`);
+    throw conflict(
+      `The brain table ${name} has one session (${labels.join(", ") || "none"}); reliability needs at least two sessions per participant.`,
+    );
   }
   const built = buildFitData(brain, null);
   const data = built.data;
@@ -299,8 +355,14 @@ async function computeBrainReliability(db: Queryable, version: DatasetVersion): 
 }
 
 /** The brain reliability of the study's current brain table; 409 when there is none or it has no usable sessions. */
-export async function currentBrainReliability(db: Queryable, studyId: string): Promise<BrainReliabilityView> {
+export async function currentBrainReliability(
+  db: Queryable,
+  studyId: string,
+): Promise<BrainReliabilityView> {
   const { brain } = await currentVersions(db, studyId);
-  if (!brain) throw conflict("This study has no confirmed brain table yet: upload one with a session column to see the reliability of its regions.");
+  if (!brain)
+    throw conflict(
+      "This study has no confirmed brain table yet: upload one with a session column to see the reliability of its regions.",
+    );
   return brainReliabilityOfVersion(db, brain);
 }

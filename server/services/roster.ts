@@ -20,12 +20,26 @@ import { datasetRows, rosterMappings, type DatasetVersion } from "../../db/schem
 import { naturalCompare } from "../intake";
 import { conflict, HttpError } from "../http/errors";
 import { type IntakeJobs, intakeJobs } from "../jobs/intake-jobs";
-import type { BrainParticipants, MappingFacts, RosterInput, RosterQuery, VersionRef } from "../jobs/intake-roster";
+import type {
+  BrainParticipants,
+  MappingFacts,
+  RosterInput,
+  RosterQuery,
+  VersionRef,
+} from "../jobs/intake-roster";
 import { recordEvent } from "./audit";
 import { currentVersions, loadParticipantSheet } from "./datasets";
 
 // The API's view types live with the computation; routes and screens import them from here.
-export type { RosterCounts, RosterPage, RosterQuery, RosterReport, RosterRow, RosterStatus, VersionRef } from "../jobs/intake-roster";
+export type {
+  RosterCounts,
+  RosterPage,
+  RosterQuery,
+  RosterReport,
+  RosterRow,
+  RosterStatus,
+  VersionRef,
+} from "../jobs/intake-roster";
 
 const ref = (v: DatasetVersion | null): VersionRef | null =>
   v === null ? null : { id: v.id, version: v.version, fileName: v.fileName, sha256: v.sha256 };
@@ -55,7 +69,13 @@ async function brainParticipants(db: Queryable, v: DatasetVersion): Promise<stri
     const rows = await db
       .select({ id: datasetRows.participantId, session: datasetRows.session })
       .from(datasetRows)
-      .where(and(eq(datasetRows.datasetId, v.id), gte(datasetRows.position, first), lt(datasetRows.position, first + READ_PAGE)))
+      .where(
+        and(
+          eq(datasetRows.datasetId, v.id),
+          gte(datasetRows.position, first),
+          lt(datasetRows.position, first + READ_PAGE),
+        ),
+      )
       .orderBy(asc(datasetRows.position));
     for (const r of rows) {
       let k = index.get(r.id);
@@ -74,24 +94,48 @@ async function brainParticipants(db: Queryable, v: DatasetVersion): Promise<stri
   return keep(brainTexts, v.id, JSON.stringify(participants));
 }
 
-async function sheetText(db: Queryable, v: DatasetVersion): Promise<{ json: string; columns: string[] }> {
+async function sheetText(
+  db: Queryable,
+  v: DatasetVersion,
+): Promise<{ json: string; columns: string[] }> {
   const hit = sheetTexts.get(v.id);
   if (hit !== undefined) return hit;
   const sheet = await loadParticipantSheet(db, v);
-  return keep(sheetTexts, v.id, { json: JSON.stringify(sheet), columns: sheet.columns.map((c) => c.name) });
+  return keep(sheetTexts, v.id, {
+    json: JSON.stringify(sheet),
+    columns: sheet.columns.map((c) => c.name),
+  });
 }
 
 /** What the join needs, read from the database (the texts kept per version). */
-async function rosterInput(db: Queryable, studyId: string): Promise<{ input: RosterInput; sheetColumns: string[]; brain: DatasetVersion | null; sheet: DatasetVersion | null }> {
+async function rosterInput(
+  db: Queryable,
+  studyId: string,
+): Promise<{
+  input: RosterInput;
+  sheetColumns: string[];
+  brain: DatasetVersion | null;
+  sheet: DatasetVersion | null;
+}> {
   const { brain, participants } = await currentVersions(db, studyId);
-  const mappings = await db.select().from(rosterMappings).where(eq(rosterMappings.studyId, studyId)).orderBy(asc(rosterMappings.createdAt));
+  const mappings = await db
+    .select()
+    .from(rosterMappings)
+    .where(eq(rosterMappings.studyId, studyId))
+    .orderBy(asc(rosterMappings.createdAt));
   const brainJson = brain ? await brainParticipants(db, brain) : null;
   const sheet = participants ? await sheetText(db, participants) : null;
   const input: RosterInput = {
     key: [brain?.id ?? "-", participants?.id ?? "-", ...mappings.map((m) => m.id)].join(" "),
     brain: brain && brainJson !== null ? { ref: ref(brain) as VersionRef, json: brainJson } : null,
-    sheet: participants && sheet ? { ref: ref(participants) as VersionRef, json: sheet.json } : null,
-    mappings: mappings.map((m) => ({ id: m.id, brainId: m.brainId, sheetId: m.sheetId, createdAt: m.createdAt.toISOString() })),
+    sheet:
+      participants && sheet ? { ref: ref(participants) as VersionRef, json: sheet.json } : null,
+    mappings: mappings.map((m) => ({
+      id: m.id,
+      brainId: m.brainId,
+      sheetId: m.sheetId,
+      createdAt: m.createdAt.toISOString(),
+    })),
   };
   return { input, sheetColumns: sheet?.columns ?? [], brain, sheet: participants };
 }
@@ -100,9 +144,19 @@ async function rosterInput(db: Queryable, studyId: string): Promise<{ input: Ros
  * The join report and one page of roster rows (rows null when
  * `rowsVisible` is false), as the JSON text of the answer.
  */
-export async function getRoster(db: Database, studyId: string, query: RosterQuery, rowsVisible: boolean, jobs: IntakeJobs = intakeJobs()): Promise<string> {
+export async function getRoster(
+  db: Database,
+  studyId: string,
+  query: RosterQuery,
+  rowsVisible: boolean,
+  jobs: IntakeJobs = intakeJobs(),
+): Promise<string> {
   const { input, sheetColumns } = await rosterInput(db, studyId);
-  if (query.sort && !["participant", "status", "sessions"].includes(query.sort) && !sheetColumns.includes(query.sort)) {
+  if (
+    query.sort &&
+    !["participant", "status", "sessions"].includes(query.sort) &&
+    !sheetColumns.includes(query.sort)
+  ) {
     throw new HttpError(400, "validation_failed", `query.sort: no roster column "${query.sort}"`, [
       { field: "query.sort", message: `no roster column "${query.sort}"` },
     ]);
@@ -111,7 +165,11 @@ export async function getRoster(db: Database, studyId: string, query: RosterQuer
 }
 
 /** The whole roster as CSV (formula-neutralised), in roster order. */
-export async function rosterCsv(db: Database, studyId: string, jobs: IntakeJobs = intakeJobs()): Promise<string> {
+export async function rosterCsv(
+  db: Database,
+  studyId: string,
+  jobs: IntakeJobs = intakeJobs(),
+): Promise<string> {
   const { input } = await rosterInput(db, studyId);
   return (await jobs.roster(input, { kind: "csv" })) as string;
 }
@@ -133,9 +191,14 @@ export async function confirmMappings(
   await db.transaction(async (tx) => {
     const { input, brain, sheet } = await rosterInput(tx, studyId);
     if (brain === null || sheet === null) {
-      throw conflict("Upload and confirm both a brain table and a participant sheet before mapping ids.");
+      throw conflict(
+        "Upload and confirm both a brain table and a participant sheet before mapping ids.",
+      );
     }
-    const facts = (await jobs.roster(input, { kind: "check", mappings: [...mappings] })) as MappingFacts;
+    const facts = (await jobs.roster(input, {
+      kind: "check",
+      mappings: [...mappings],
+    })) as MappingFacts;
     const seenBrain = new Set<string>();
     const seenSheet = new Set<string>();
     mappings.forEach((m, k) => {
@@ -143,25 +206,47 @@ export async function confirmMappings(
       const b = facts.brain[m.brainId];
       const s = facts.sheet[m.sheetId];
       if (!b.present) {
-        throw new HttpError(422, "unknown_participant", `${field}.brainId: the current brain table (${brain.fileName}) has no participant "${m.brainId}"`);
+        throw new HttpError(
+          422,
+          "unknown_participant",
+          `${field}.brainId: the current brain table (${brain.fileName}) has no participant "${m.brainId}"`,
+        );
       }
       if (!s.present) {
-        throw new HttpError(422, "unknown_participant", `${field}.sheetId: the current participant sheet (${sheet.fileName}) has no participant "${m.sheetId}"`);
+        throw new HttpError(
+          422,
+          "unknown_participant",
+          `${field}.sheetId: the current participant sheet (${sheet.fileName}) has no participant "${m.sheetId}"`,
+        );
       }
-      if (!b.free) throw conflict(`${field}.brainId: "${m.brainId}" is already matched to "${b.matchedTo}"`);
-      if (!s.free) throw conflict(`${field}.sheetId: "${m.sheetId}" is already matched to "${s.matchedTo}"`);
-      if (seenBrain.has(m.brainId) || seenSheet.has(m.sheetId)) throw conflict(`${field}: an id appears in two mappings of this request`);
+      if (!b.free)
+        throw conflict(`${field}.brainId: "${m.brainId}" is already matched to "${b.matchedTo}"`);
+      if (!s.free)
+        throw conflict(`${field}.sheetId: "${m.sheetId}" is already matched to "${s.matchedTo}"`);
+      if (seenBrain.has(m.brainId) || seenSheet.has(m.sheetId))
+        throw conflict(`${field}: an id appears in two mappings of this request`);
       seenBrain.add(m.brainId);
       seenSheet.add(m.sheetId);
     });
     const taken = new Set(input.mappings.flatMap((m) => [`b:${m.brainId}`, `s:${m.sheetId}`]));
     for (const m of mappings) {
       if (taken.has(`b:${m.brainId}`) || taken.has(`s:${m.sheetId}`)) {
-        throw conflict(`A mapping for "${m.brainId}" or "${m.sheetId}" was confirmed before (for an earlier version of the tables).`);
+        throw conflict(
+          `A mapping for "${m.brainId}" or "${m.sheetId}" was confirmed before (for an earlier version of the tables).`,
+        );
       }
     }
     for (const m of mappings) {
-      const [row] = await tx.insert(rosterMappings).values({ studyId, brainId: m.brainId, sheetId: m.sheetId, createdBy: actorId, createdAt: now }).returning();
+      const [row] = await tx
+        .insert(rosterMappings)
+        .values({
+          studyId,
+          brainId: m.brainId,
+          sheetId: m.sheetId,
+          createdBy: actorId,
+          createdAt: now,
+        })
+        .returning();
       await recordEvent(tx, {
         studyId,
         actorId,

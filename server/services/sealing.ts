@@ -27,7 +27,14 @@ import { eq } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
 import { fitApprovals, fitSeals, fits, models, studies, type Fit } from "../../db/schema";
 import { conflict, HttpError } from "../http/errors";
-import { approvalRefusalMessage, isSinglePersonSignOff, mayApprove, maySeal, sealRefusalMessage, secondPersonRequiredCode } from "../model/sign-off";
+import {
+  approvalRefusalMessage,
+  isSinglePersonSignOff,
+  mayApprove,
+  maySeal,
+  sealRefusalMessage,
+  secondPersonRequiredCode,
+} from "../model/sign-off";
 import { recordEvent } from "./audit";
 
 interface Actor {
@@ -78,10 +85,12 @@ export function canonicalJson(value: unknown): string {
     case "string":
       return JSON.stringify(value);
     case "number":
-      if (!Number.isFinite(value)) throw new TypeError(`canonicalJson: ${value} is not a JSON number`);
+      if (!Number.isFinite(value))
+        throw new TypeError(`canonicalJson: ${value} is not a JSON number`);
       return JSON.stringify(value);
     case "object": {
-      if (Array.isArray(value)) return `[${value.map((v) => (v === undefined ? "null" : canonicalJson(v))).join(",")}]`;
+      if (Array.isArray(value))
+        return `[${value.map((v) => (v === undefined ? "null" : canonicalJson(v))).join(",")}]`;
       const record = value as Record<string, unknown>;
       const keys = Object.keys(record)
         .filter((k) => record[k] !== undefined)
@@ -100,13 +109,19 @@ export function sealHash(recipe: unknown, result: unknown): string {
 
 /** True when the fit is sealed. */
 export async function isSealed(db: Queryable, fitId: string): Promise<boolean> {
-  const [row] = await db.select({ fitId: fitSeals.fitId }).from(fitSeals).where(eq(fitSeals.fitId, fitId));
+  const [row] = await db
+    .select({ fitId: fitSeals.fitId })
+    .from(fitSeals)
+    .where(eq(fitSeals.fitId, fitId));
   return row !== undefined;
 }
 
 /** Whether the study's "A second person signs off" is on (read in the caller's transaction). */
 async function secondPersonSignOff(tx: Queryable, studyId: string): Promise<boolean> {
-  const [study] = await tx.select({ on: studies.secondPersonSignOff }).from(studies).where(eq(studies.id, studyId));
+  const [study] = await tx
+    .select({ on: studies.secondPersonSignOff })
+    .from(studies)
+    .where(eq(studies.id, studyId));
   return study?.on ?? true;
 }
 
@@ -117,15 +132,33 @@ async function secondPersonSignOff(tx: Queryable, studyId: string): Promise<bool
  */
 export async function approveFit(db: Database, actor: Actor, fit: Fit, now: Date): Promise<void> {
   await db.transaction(async (tx) => {
-    const [current] = await tx.select({ status: fits.status, createdBy: fits.createdBy }).from(fits).where(eq(fits.id, fit.id)).for("update");
-    if (current?.status !== "done") throw conflict(`Only a finished fit can be approved (this one is ${current?.status ?? "gone"}).`);
-    const [existing] = await tx.select({ at: fitApprovals.approvedAt }).from(fitApprovals).where(eq(fitApprovals.fitId, fit.id));
+    const [current] = await tx
+      .select({ status: fits.status, createdBy: fits.createdBy })
+      .from(fits)
+      .where(eq(fits.id, fit.id))
+      .for("update");
+    if (current?.status !== "done")
+      throw conflict(
+        `Only a finished fit can be approved (this one is ${current?.status ?? "gone"}).`,
+      );
+    const [existing] = await tx
+      .select({ at: fitApprovals.approvedAt })
+      .from(fitApprovals)
+      .where(eq(fitApprovals.fitId, fit.id));
     if (existing) throw conflict(`This fit was already approved on ${existing.at.toISOString()}.`);
     if (!mayApprove(await secondPersonSignOff(tx, fit.studyId), current.createdBy, actor.id)) {
       throw new HttpError(409, secondPersonRequiredCode, approvalRefusalMessage);
     }
     await tx.insert(fitApprovals).values({ fitId: fit.id, approvedBy: actor.id, approvedAt: now });
-    await recordEvent(tx, { studyId: fit.studyId, actorId: actor.id, kind: "fit.approved", targetType: "fit", targetId: fit.id, after: { modelId: fit.modelId }, at: now });
+    await recordEvent(tx, {
+      studyId: fit.studyId,
+      actorId: actor.id,
+      kind: "fit.approved",
+      targetType: "fit",
+      targetId: fit.id,
+      after: { modelId: fit.modelId },
+      at: now,
+    });
   });
 }
 
@@ -140,22 +173,55 @@ export async function approveFit(db: Database, actor: Actor, fit: Fit, now: Date
 export async function sealFit(db: Database, actor: Actor, fit: Fit, now: Date): Promise<string> {
   return db.transaction(async (tx) => {
     const [current] = await tx.select().from(fits).where(eq(fits.id, fit.id)).for("update");
-    if (current?.status !== "done") throw conflict(`Only a finished fit can be sealed (this one is ${current?.status ?? "gone"}).`);
-    const [sealed] = await tx.select({ at: fitSeals.sealedAt }).from(fitSeals).where(eq(fitSeals.fitId, fit.id));
+    if (current?.status !== "done")
+      throw conflict(
+        `Only a finished fit can be sealed (this one is ${current?.status ?? "gone"}).`,
+      );
+    const [sealed] = await tx
+      .select({ at: fitSeals.sealedAt })
+      .from(fitSeals)
+      .where(eq(fitSeals.fitId, fit.id));
     if (sealed) throw conflict(`This fit was already sealed on ${sealed.at.toISOString()}.`);
-    const [approved] = await tx.select({ at: fitApprovals.approvedAt, by: fitApprovals.approvedBy }).from(fitApprovals).where(eq(fitApprovals.fitId, fit.id));
-    if (!approved) throw conflict("This fit has not been approved: a Reviewer or Owner approves it before it can be sealed.");
-    if (!maySeal(await secondPersonSignOff(tx, fit.studyId), current.createdBy, approved.by, actor.id)) {
+    const [approved] = await tx
+      .select({ at: fitApprovals.approvedAt, by: fitApprovals.approvedBy })
+      .from(fitApprovals)
+      .where(eq(fitApprovals.fitId, fit.id));
+    if (!approved)
+      throw conflict(
+        "This fit has not been approved: a Reviewer or Owner approves it before it can be sealed.",
+      );
+    if (
+      !maySeal(await secondPersonSignOff(tx, fit.studyId), current.createdBy, approved.by, actor.id)
+    ) {
       throw new HttpError(409, secondPersonRequiredCode, sealRefusalMessage);
     }
     const singlePersonSignOff = isSinglePersonSignOff(current.createdBy, approved.by, actor.id);
     const sha256 = sealHash(current.recipe, current.result);
     const [model] = await tx
-      .select({ name: models.name, regionSelection: models.regionSelection, circular: models.circular, deletedAt: models.deletedAt })
+      .select({
+        name: models.name,
+        regionSelection: models.regionSelection,
+        circular: models.circular,
+        deletedAt: models.deletedAt,
+      })
       .from(models)
       .where(eq(models.id, current.modelId));
-    const snapshot: SealedModel | null = model ? { name: model.name, regionSelection: model.regionSelection, circular: model.circular, deleted: model.deletedAt !== null } : null;
-    await tx.insert(fitSeals).values({ fitId: fit.id, sha256, sealedBy: actor.id, sealedAt: now, singlePersonSignOff, model: snapshot });
+    const snapshot: SealedModel | null = model
+      ? {
+          name: model.name,
+          regionSelection: model.regionSelection,
+          circular: model.circular,
+          deleted: model.deletedAt !== null,
+        }
+      : null;
+    await tx.insert(fitSeals).values({
+      fitId: fit.id,
+      sha256,
+      sealedBy: actor.id,
+      sealedAt: now,
+      singlePersonSignOff,
+      model: snapshot,
+    });
     await recordEvent(tx, {
       studyId: fit.studyId,
       actorId: actor.id,

@@ -50,9 +50,21 @@ interface Actor {
   id: string;
 }
 
-async function views(db: Queryable, rows: readonly SetAsideRow[], participantsVisible = true): Promise<SetAsideView[]> {
-  const ids = [...new Set(rows.flatMap((r) => [r.createdBy, ...(r.restoredBy ? [r.restoredBy] : [])]))];
-  const who = ids.length > 0 ? await db.select({ id: users.id, name: users.name }).from(users).where(inArray(users.id, ids)) : [];
+async function views(
+  db: Queryable,
+  rows: readonly SetAsideRow[],
+  participantsVisible = true,
+): Promise<SetAsideView[]> {
+  const ids = [
+    ...new Set(rows.flatMap((r) => [r.createdBy, ...(r.restoredBy ? [r.restoredBy] : [])])),
+  ];
+  const who =
+    ids.length > 0
+      ? await db
+          .select({ id: users.id, name: users.name })
+          .from(users)
+          .where(inArray(users.id, ids))
+      : [];
   const names = new Map(who.map((u) => [u.id, u.name]));
   return rows.map((r) => ({
     id: r.id,
@@ -72,17 +84,29 @@ async function views(db: Queryable, rows: readonly SetAsideRow[], participantsVi
  * The study's set-asides, newest first; restored ones too unless
  * `activeOnly`; participant ids null unless `participantsVisible` (default true).
  */
-export async function listSetAsides(db: Queryable, studyId: string, options: { activeOnly?: boolean; participantsVisible?: boolean } = {}): Promise<SetAsideView[]> {
+export async function listSetAsides(
+  db: Queryable,
+  studyId: string,
+  options: { activeOnly?: boolean; participantsVisible?: boolean } = {},
+): Promise<SetAsideView[]> {
   const rows = await db
     .select()
     .from(setAsides)
-    .where(and(eq(setAsides.studyId, studyId), options.activeOnly ? isNull(setAsides.restoredAt) : undefined))
+    .where(
+      and(
+        eq(setAsides.studyId, studyId),
+        options.activeOnly ? isNull(setAsides.restoredAt) : undefined,
+      ),
+    )
     .orderBy(desc(setAsides.createdAt), desc(setAsides.id));
   return views(db, rows, options.participantsVisible ?? true);
 }
 
 /** The active set-asides as a recipe's list, in a stable order (participant, then region; every-region first). */
-export async function activeSetAsideList(db: Queryable, studyId: string): Promise<{ participant: string; region?: string; reason: string }[]> {
+export async function activeSetAsideList(
+  db: Queryable,
+  studyId: string,
+): Promise<{ participant: string; region?: string; reason: string }[]> {
   const rows = await db
     .select()
     .from(setAsides)
@@ -90,25 +114,59 @@ export async function activeSetAsideList(db: Queryable, studyId: string): Promis
   rows.sort(
     (a, b) =>
       (a.participantId < b.participantId ? -1 : a.participantId > b.participantId ? 1 : 0) ||
-      (a.region === null ? -1 : b.region === null ? 1 : a.region < b.region ? -1 : a.region > b.region ? 1 : 0),
+      (a.region === null
+        ? -1
+        : b.region === null
+          ? 1
+          : a.region < b.region
+            ? -1
+            : a.region > b.region
+              ? 1
+              : 0),
   );
-  return rows.map((r) => (r.region === null ? { participant: r.participantId, reason: r.reason } : { participant: r.participantId, region: r.region, reason: r.reason }));
+  return rows.map((r) =>
+    r.region === null
+      ? { participant: r.participantId, reason: r.reason }
+      : { participant: r.participantId, region: r.region, reason: r.reason },
+  );
 }
 
-async function checkAgainstBrainTable(db: Queryable, studyId: string, input: NewSetAside): Promise<void> {
+async function checkAgainstBrainTable(
+  db: Queryable,
+  studyId: string,
+  input: NewSetAside,
+): Promise<void> {
   const { brain } = await currentVersions(db, studyId);
   if (!brain) return;
   const problems: { field: string; message: string }[] = [];
   const [found] = await db
     .select({ id: datasetRows.participantId })
     .from(datasetRows)
-    .where(and(eq(datasetRows.datasetId, brain.id), eq(datasetRows.participantId, input.participant)))
+    .where(
+      and(eq(datasetRows.datasetId, brain.id), eq(datasetRows.participantId, input.participant)),
+    )
     .limit(1);
-  if (!found) problems.push({ field: "body.participant", message: `no participant '${input.participant}' in the brain table ${brain.fileName} (version ${brain.version})` });
-  if (input.region !== undefined && !brain.columns.some((c) => c.role === "region" && (c.region ?? c.name) === input.region)) {
-    problems.push({ field: "body.region", message: `no region '${input.region}' in the brain table ${brain.fileName} (version ${brain.version})` });
+  if (!found)
+    problems.push({
+      field: "body.participant",
+      message: `no participant '${input.participant}' in the brain table ${brain.fileName} (version ${brain.version})`,
+    });
+  if (
+    input.region !== undefined &&
+    !brain.columns.some((c) => c.role === "region" && (c.region ?? c.name) === input.region)
+  ) {
+    problems.push({
+      field: "body.region",
+      message: `no region '${input.region}' in the brain table ${brain.fileName} (version ${brain.version})`,
+    });
   }
-  if (problems.length > 0) throw new HttpError(400, "validation_failed", problems.map((p) => `${p.field}: ${p.message}`).join("; "), problems);
+  if (problems.length > 0)
+    throw new HttpError(
+      400,
+      "validation_failed",
+      problems.map((p) => `${p.field}: ${p.message}`).join("; "),
+      problems,
+    );
 }
 
 /**
@@ -116,20 +174,42 @@ async function checkAgainstBrainTable(db: Queryable, studyId: string, input: New
  * 409 when the same set-aside is already active, or the participant is
  * already set aside from every region.
  */
-export async function createSetAside(db: Database, actor: Actor, studyId: string, input: NewSetAside, now: Date): Promise<SetAsideView> {
+export async function createSetAside(
+  db: Database,
+  actor: Actor,
+  studyId: string,
+  input: NewSetAside,
+  now: Date,
+): Promise<SetAsideView> {
   await checkAgainstBrainTable(db, studyId, input);
   const row = await db.transaction(async (tx) => {
     const active = await tx
       .select()
       .from(setAsides)
-      .where(and(eq(setAsides.studyId, studyId), eq(setAsides.participantId, input.participant), isNull(setAsides.restoredAt)));
-    if (active.some((a) => a.region === null)) throw conflict(`Participant ${input.participant} is already set aside from every region.`);
+      .where(
+        and(
+          eq(setAsides.studyId, studyId),
+          eq(setAsides.participantId, input.participant),
+          isNull(setAsides.restoredAt),
+        ),
+      );
+    if (active.some((a) => a.region === null))
+      throw conflict(`Participant ${input.participant} is already set aside from every region.`);
     if (input.region !== undefined && active.some((a) => a.region === input.region)) {
-      throw conflict(`Participant ${input.participant} is already set aside from region ${input.region}.`);
+      throw conflict(
+        `Participant ${input.participant} is already set aside from region ${input.region}.`,
+      );
     }
     const [created] = await tx
       .insert(setAsides)
-      .values({ studyId, participantId: input.participant, region: input.region ?? null, reason: input.reason, createdBy: actor.id, createdAt: now })
+      .values({
+        studyId,
+        participantId: input.participant,
+        region: input.region ?? null,
+        reason: input.reason,
+        createdBy: actor.id,
+        createdAt: now,
+      })
       .returning();
     await recordEvent(tx, {
       studyId,
@@ -137,7 +217,12 @@ export async function createSetAside(db: Database, actor: Actor, studyId: string
       kind: "participant.set_aside",
       targetType: "participant",
       targetId: input.participant,
-      after: { setAsideId: created.id, participant: input.participant, region: input.region ?? null, reason: input.reason },
+      after: {
+        setAsideId: created.id,
+        participant: input.participant,
+        region: input.region ?? null,
+        reason: input.reason,
+      },
       at: now,
     });
     return created;
@@ -151,14 +236,24 @@ export async function createSetAside(db: Database, actor: Actor, studyId: string
  * who, when and `reason`, which the route has checked is not empty).
  * Throws 404, or 409 when already restored.
  */
-export async function restoreSetAside(db: Database, actor: Actor, studyId: string, setAsideId: string, reason: string, now: Date): Promise<SetAsideView> {
+export async function restoreSetAside(
+  db: Database,
+  actor: Actor,
+  studyId: string,
+  setAsideId: string,
+  reason: string,
+  now: Date,
+): Promise<SetAsideView> {
   const row = await db.transaction(async (tx) => {
     const [found] = await tx
       .select()
       .from(setAsides)
       .where(and(eq(setAsides.id, setAsideId), eq(setAsides.studyId, studyId)));
     if (!found) throw notFound("Set-aside not found.");
-    if (found.restoredAt !== null) throw conflict(`Participant ${found.participantId} was already restored on ${found.restoredAt.toISOString()}.`);
+    if (found.restoredAt !== null)
+      throw conflict(
+        `Participant ${found.participantId} was already restored on ${found.restoredAt.toISOString()}.`,
+      );
     const [restored] = await tx
       .update(setAsides)
       .set({ restoredAt: now, restoredBy: actor.id, restoreReason: reason })
@@ -170,8 +265,19 @@ export async function restoreSetAside(db: Database, actor: Actor, studyId: strin
       kind: "participant.restored",
       targetType: "participant",
       targetId: found.participantId,
-      before: { setAsideId, participant: found.participantId, region: found.region, reason: found.reason },
-      after: { setAsideId, participant: found.participantId, region: found.region, restoredAt: now.toISOString(), reason },
+      before: {
+        setAsideId,
+        participant: found.participantId,
+        region: found.region,
+        reason: found.reason,
+      },
+      after: {
+        setAsideId,
+        participant: found.participantId,
+        region: found.region,
+        restoredAt: now.toISOString(),
+        reason,
+      },
       at: now,
     });
     return restored;

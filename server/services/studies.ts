@@ -17,7 +17,17 @@ import { and, desc, eq, gte, inArray, isNotNull, isNull, sql } from "drizzle-orm
 import type { Database, Queryable } from "../../db/client";
 import { perDatabase } from "../../db/prepared";
 import { cachedRead } from "../../db/read-cache";
-import { datasetVersions, fitSeals, fits, memberships, models, studies, users, type Role, type Study } from "../../db/schema";
+import {
+  datasetVersions,
+  fitSeals,
+  fits,
+  memberships,
+  models,
+  studies,
+  users,
+  type Role,
+  type Study,
+} from "../../db/schema";
 import { capabilitiesOf } from "../auth/permissions";
 import { badRequest, HttpError } from "../http/errors";
 import { restorableUntil, restoreWindowDays, restoreWindowMs } from "../model/study-lifecycle";
@@ -85,7 +95,14 @@ function countColumns() {
   };
 }
 
-function countsOf(row: { members: unknown; models: unknown; fits: unknown; sealedFits: unknown; brainParticipants: unknown; sheetParticipants: unknown }): StudyCounts {
+function countsOf(row: {
+  members: unknown;
+  models: unknown;
+  fits: unknown;
+  sealedFits: unknown;
+  brainParticipants: unknown;
+  sheetParticipants: unknown;
+}): StudyCounts {
   return {
     members: Number(row.members),
     models: Number(row.models),
@@ -96,9 +113,13 @@ function countsOf(row: { members: unknown; models: unknown; fits: unknown; seale
 }
 
 /** Counts per study (see countColumns). One query (kept until the next write, see db/read-cache.ts). */
-export async function studyCounts(db: Queryable, studyIds: readonly string[]): Promise<Map<string, StudyCounts>> {
+export async function studyCounts(
+  db: Queryable,
+  studyIds: readonly string[],
+): Promise<Map<string, StudyCounts>> {
   const out = new Map<string, StudyCounts>();
-  for (const id of studyIds) out.set(id, { members: 0, participants: 0, models: 0, fits: 0, sealedFits: 0 });
+  for (const id of studyIds)
+    out.set(id, { members: 0, participants: 0, models: 0, fits: 0, sealedFits: 0 });
   if (studyIds.length === 0) return out;
   const ids = [...studyIds].sort();
   const rows = await cachedRead(db, `counts of ${ids.join(",")}`, () =>
@@ -136,14 +157,26 @@ const studiesOfPerson = perDatabase((db) =>
 
 /** Studies the person belongs to (not deleted), most recently created first, with their counts. One query (kept until the next write). */
 export async function listStudies(db: Database, userId: string): Promise<StudySummary[]> {
-  const rows = [...(await cachedRead(db, `studies of ${userId}`, () => studiesOfPerson(db).execute({ userId })))];
-  rows.sort((a, b) => b.study.createdAt.getTime() - a.study.createdAt.getTime() || a.study.name.localeCompare(b.study.name));
+  const rows = [
+    ...(await cachedRead(db, `studies of ${userId}`, () =>
+      studiesOfPerson(db).execute({ userId }),
+    )),
+  ];
+  rows.sort(
+    (a, b) =>
+      b.study.createdAt.getTime() - a.study.createdAt.getTime() ||
+      a.study.name.localeCompare(b.study.name),
+  );
   return rows.map((r) => summary(r.study, r.role, countsOf(r)));
 }
 
 export async function studyDetail(db: Database, study: Study, role: Role): Promise<StudyDetail> {
   const counts = (await studyCounts(db, [study.id])).get(study.id) as StudyCounts;
-  return { ...summary(study, role, counts), capabilities: capabilitiesOf(role, study), secondPersonSignOff: study.secondPersonSignOff };
+  return {
+    ...summary(study, role, counts),
+    capabilities: capabilitiesOf(role, study),
+    secondPersonSignOff: study.secondPersonSignOff,
+  };
 }
 
 export interface NewStudy {
@@ -153,7 +186,12 @@ export interface NewStudy {
 }
 
 /** Creates a study with `actor` as its Owner. */
-export async function createStudy(db: Database, actor: Actor, input: NewStudy, now: Date): Promise<StudyDetail> {
+export async function createStudy(
+  db: Database,
+  actor: Actor,
+  input: NewStudy,
+  now: Date,
+): Promise<StudyDetail> {
   const study = await db.transaction(async (tx) => {
     const [created] = await tx
       .insert(studies)
@@ -166,7 +204,9 @@ export async function createStudy(db: Database, actor: Actor, input: NewStudy, n
         updatedAt: now,
       })
       .returning();
-    await tx.insert(memberships).values({ studyId: created.id, userId: actor.id, role: "owner", createdAt: now });
+    await tx
+      .insert(memberships)
+      .values({ studyId: created.id, userId: actor.id, role: "owner", createdAt: now });
     await recordEvent(tx, {
       studyId: created.id,
       actorId: actor.id,
@@ -193,7 +233,14 @@ export interface StudyChanges {
  * signs off" on or off; records only the fields that changed (the setting
  * as its own event, study.sign_off_changed).
  */
-export async function updateStudy(db: Database, actor: Actor, study: Study, role: Role, changes: StudyChanges, now: Date): Promise<StudyDetail> {
+export async function updateStudy(
+  db: Database,
+  actor: Actor,
+  study: Study,
+  role: Role,
+  changes: StudyChanges,
+  now: Date,
+): Promise<StudyDetail> {
   const updated = await db.transaction(async (tx) => {
     const [row] = await tx
       .update(studies)
@@ -211,7 +258,16 @@ export async function updateStudy(db: Database, actor: Actor, study: Study, role
       }
     }
     if (Object.keys(after).length > 0) {
-      await recordEvent(tx, { studyId: study.id, actorId: actor.id, kind: "study.updated", targetType: "study", targetId: study.id, before, after, at: now });
+      await recordEvent(tx, {
+        studyId: study.id,
+        actorId: actor.id,
+        kind: "study.updated",
+        targetType: "study",
+        targetId: study.id,
+        before,
+        after,
+        at: now,
+      });
     }
     if (row.secondPersonSignOff !== study.secondPersonSignOff) {
       await recordEvent(tx, {
@@ -246,14 +302,25 @@ export interface DeletedStudy {
  * recently deleted first. Studies past the restore window stay stored and
  * are not listed.
  */
-export async function listDeletedStudies(db: Database, userId: string, now: Date): Promise<DeletedStudy[]> {
+export async function listDeletedStudies(
+  db: Database,
+  userId: string,
+  now: Date,
+): Promise<DeletedStudy[]> {
   const cutoff = new Date(now.getTime() - restoreWindowMs);
   const rows = await db
     .select({ study: studies, deletedByName: users.name })
     .from(memberships)
     .innerJoin(studies, eq(studies.id, memberships.studyId))
     .leftJoin(users, eq(users.id, studies.deletedBy))
-    .where(and(eq(memberships.userId, userId), eq(memberships.role, "owner"), isNotNull(studies.deletedAt), gte(studies.deletedAt, cutoff)))
+    .where(
+      and(
+        eq(memberships.userId, userId),
+        eq(memberships.role, "owner"),
+        isNotNull(studies.deletedAt),
+        gte(studies.deletedAt, cutoff),
+      ),
+    )
     .orderBy(desc(studies.deletedAt));
   return rows.map(({ study, deletedByName }) => {
     const deletedAt = study.deletedAt as Date;
@@ -285,7 +352,13 @@ async function hasSealedFit(db: Queryable, studyId: string): Promise<boolean> {
  * repeat the study's name exactly. A study with a sealed fit is never
  * deleted (409 study_has_sealed_fits): archive it instead.
  */
-export async function deleteStudy(db: Database, actor: Actor, study: Study, confirmation: string, now: Date): Promise<void> {
+export async function deleteStudy(
+  db: Database,
+  actor: Actor,
+  study: Study,
+  confirmation: string,
+  now: Date,
+): Promise<void> {
   await db.transaction(async (tx) => {
     if (await hasSealedFit(tx, study.id)) {
       throw new HttpError(
@@ -299,7 +372,10 @@ export async function deleteStudy(db: Database, actor: Actor, study: Study, conf
         { field: "body.confirm", message: "must repeat the study's name exactly" },
       ]);
     }
-    await tx.update(studies).set({ deletedAt: now, deletedBy: actor.id }).where(eq(studies.id, study.id));
+    await tx
+      .update(studies)
+      .set({ deletedAt: now, deletedBy: actor.id })
+      .where(eq(studies.id, study.id));
     await recordEvent(tx, {
       studyId: study.id,
       actorId: actor.id,
@@ -319,8 +395,19 @@ export async function deleteStudy(db: Database, actor: Actor, study: Study, conf
  * is not deleted; 410 restore_expired after the window (the study stays
  * stored).
  */
-export async function restoreStudy(db: Database, actor: Actor, study: Study, role: Role, now: Date): Promise<StudyDetail> {
-  if (!study.deletedAt) throw new HttpError(409, "study_not_deleted", `The study "${study.name}" is not deleted; there is nothing to restore.`);
+export async function restoreStudy(
+  db: Database,
+  actor: Actor,
+  study: Study,
+  role: Role,
+  now: Date,
+): Promise<StudyDetail> {
+  if (!study.deletedAt)
+    throw new HttpError(
+      409,
+      "study_not_deleted",
+      `The study "${study.name}" is not deleted; there is nothing to restore.`,
+    );
   const until = restorableUntil(study.deletedAt);
   if (now.getTime() > until.getTime()) {
     throw new HttpError(
@@ -330,7 +417,11 @@ export async function restoreStudy(db: Database, actor: Actor, study: Study, rol
     );
   }
   const restored = await db.transaction(async (tx) => {
-    const [row] = await tx.update(studies).set({ deletedAt: null, deletedBy: null, updatedAt: now }).where(eq(studies.id, study.id)).returning();
+    const [row] = await tx
+      .update(studies)
+      .set({ deletedAt: null, deletedBy: null, updatedAt: now })
+      .where(eq(studies.id, study.id))
+      .returning();
     await recordEvent(tx, {
       studyId: study.id,
       actorId: actor.id,
@@ -351,7 +442,13 @@ export async function restoreStudy(db: Database, actor: Actor, study: Study, rol
  * fit is still queued or running (it would change the study after the
  * archive): wait for it or cancel it first.
  */
-export async function archiveStudy(db: Database, actor: Actor, study: Study, role: Role, now: Date): Promise<StudyDetail> {
+export async function archiveStudy(
+  db: Database,
+  actor: Actor,
+  study: Study,
+  role: Role,
+  now: Date,
+): Promise<StudyDetail> {
   const archived = await db.transaction(async (tx) => {
     const running = await tx
       .select({ id: fits.id })
@@ -365,7 +462,11 @@ export async function archiveStudy(db: Database, actor: Actor, study: Study, rol
         { fitIds: running.map((r) => r.id) },
       );
     }
-    const [row] = await tx.update(studies).set({ archivedAt: now, archivedBy: actor.id, updatedAt: now }).where(eq(studies.id, study.id)).returning();
+    const [row] = await tx
+      .update(studies)
+      .set({ archivedAt: now, archivedBy: actor.id, updatedAt: now })
+      .where(eq(studies.id, study.id))
+      .returning();
     await recordEvent(tx, {
       studyId: study.id,
       actorId: actor.id,
@@ -382,10 +483,21 @@ export async function archiveStudy(db: Database, actor: Actor, study: Study, rol
 }
 
 /** Unarchives a study: its members can change it again. 409 study_not_archived when it is not archived. */
-export async function unarchiveStudy(db: Database, actor: Actor, study: Study, role: Role, now: Date): Promise<StudyDetail> {
-  if (!study.archivedAt) throw new HttpError(409, "study_not_archived", `The study "${study.name}" is not archived.`);
+export async function unarchiveStudy(
+  db: Database,
+  actor: Actor,
+  study: Study,
+  role: Role,
+  now: Date,
+): Promise<StudyDetail> {
+  if (!study.archivedAt)
+    throw new HttpError(409, "study_not_archived", `The study "${study.name}" is not archived.`);
   const unarchived = await db.transaction(async (tx) => {
-    const [row] = await tx.update(studies).set({ archivedAt: null, archivedBy: null, updatedAt: now }).where(eq(studies.id, study.id)).returning();
+    const [row] = await tx
+      .update(studies)
+      .set({ archivedAt: null, archivedBy: null, updatedAt: now })
+      .where(eq(studies.id, study.id))
+      .returning();
     await recordEvent(tx, {
       studyId: study.id,
       actorId: actor.id,

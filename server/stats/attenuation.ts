@@ -59,15 +59,25 @@ function clip(x: number): number {
 export function correctForAttenuation(input: AttenuationInput): AttenuationResult {
   const { r, n, reliabilityBrain, reliabilityTrait } = input;
   const level = input.level ?? 0.95;
-  if (!(Number.isFinite(r) && r > -1 && r < 1)) throw new StatsError(`correctForAttenuation requires a correlation r between −1 and 1 (got ${r})`);
-  if (!(Number.isInteger(n) && n >= 4)) throw new StatsError(`correctForAttenuation requires n of at least 4 participants (got ${n})`);
+  if (!(Number.isFinite(r) && r > -1 && r < 1))
+    throw new StatsError(
+      `correctForAttenuation requires a correlation r between −1 and 1 (got ${r})`,
+    );
+  if (!(Number.isInteger(n) && n >= 4))
+    throw new StatsError(`correctForAttenuation requires n of at least 4 participants (got ${n})`);
   for (const [name, value] of [
     ["reliabilityBrain", reliabilityBrain],
     ["reliabilityTrait", reliabilityTrait],
   ] as const) {
-    if (!(value > 0 && value <= 1)) throw new StatsError(`correctForAttenuation requires ${name} greater than 0 and at most 1 (got ${value})`);
+    if (!(value > 0 && value <= 1))
+      throw new StatsError(
+        `correctForAttenuation requires ${name} greater than 0 and at most 1 (got ${value})`,
+      );
   }
-  if (!(level > 0 && level < 1)) throw new StatsError(`correctForAttenuation requires a confidence level between 0 and 1 (got ${level})`);
+  if (!(level > 0 && level < 1))
+    throw new StatsError(
+      `correctForAttenuation requires a confidence level between 0 and 1 (got ${level})`,
+    );
 
   const ceiling = Math.sqrt(reliabilityBrain * reliabilityTrait);
   const half = normalQuantile(0.5 + level / 2) / Math.sqrt(n - 3);

@@ -79,16 +79,23 @@ export function bootstrapInterval(input: BootstrapInput): BootstrapResult {
     throw new StatsError(`${name} requires method "percentile" or "bca" (got ${String(method)})`);
   }
   const minN = method === "bca" ? 3 : 2;
-  if (!(Number.isInteger(n) && n >= minN)) throw new StatsError(`${name} requires at least ${minN} units (got n = ${n})`);
+  if (!(Number.isInteger(n) && n >= minN))
+    throw new StatsError(`${name} requires at least ${minN} units (got n = ${n})`);
   if (!(Number.isInteger(resamples) && resamples >= 2)) {
-    throw new StatsError(`${name} requires resamples to be an integer of at least 2 (got ${resamples})`);
+    throw new StatsError(
+      `${name} requires resamples to be an integer of at least 2 (got ${resamples})`,
+    );
   }
-  if (!(level > 0 && level < 1)) throw new StatsError(`${name} requires 0 < level < 1 (got ${level})`);
+  if (!(level > 0 && level < 1))
+    throw new StatsError(`${name} requires 0 < level < 1 (got ${level})`);
 
   const identity = new Int32Array(n);
   for (let i = 0; i < n; i++) identity[i] = i;
   const estimate = statistic(identity);
-  if (!Number.isFinite(estimate)) throw new StatsError(`${name} requires a finite estimate on the original sample (got ${estimate})`);
+  if (!Number.isFinite(estimate))
+    throw new StatsError(
+      `${name} requires a finite estimate on the original sample (got ${estimate})`,
+    );
 
   const draws = new Float64Array(resamples);
   let kept = 0;
@@ -133,7 +140,9 @@ export function bootstrapInterval(input: BootstrapInput): BootstrapResult {
   }
   const share = (below + 0.5 * ties) / kept;
   if (!(share > 0 && share < 1)) {
-    throw new StatsError(`${name} requires the estimate to lie within the bootstrap distribution for BCa`);
+    throw new StatsError(
+      `${name} requires the estimate to lie within the bootstrap distribution for BCa`,
+    );
   }
   const z0 = normalQuantile(share);
   const acceleration = jackknifeAcceleration(n, statistic, name);
@@ -161,14 +170,20 @@ export function bootstrapInterval(input: BootstrapInput): BootstrapResult {
  * leave-one-out values of the statistic. Cost n calls of `statistic`.
  * Throws StatsError when a leave-one-out value is not finite.
  */
-function jackknifeAcceleration(n: number, statistic: (indices: Int32Array) => number, name: string): number {
+function jackknifeAcceleration(
+  n: number,
+  statistic: (indices: Int32Array) => number,
+  name: string,
+): number {
   const values = new Float64Array(n);
   for (let leave = 0; leave < n; leave++) {
     const indices = new Int32Array(n - 1);
     for (let i = 0, w = 0; i < n; i++) if (i !== leave) indices[w++] = i;
     const v = statistic(indices);
     if (!Number.isFinite(v)) {
-      throw new StatsError(`${name} requires a finite statistic when each unit is left out for BCa (unit ${leave} gave ${v})`);
+      throw new StatsError(
+        `${name} requires a finite statistic when each unit is left out for BCa (unit ${leave} gave ${v})`,
+      );
     }
     values[leave] = v;
   }

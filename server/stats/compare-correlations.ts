@@ -34,8 +34,11 @@ export function compareIndependentCorrelations(
   options: { level?: number } = {},
 ): IndependentCorrelationComparison {
   const { level = 0.95 } = options;
-  require(Math.abs(r1) < 1 && Math.abs(r2) < 1, "compareIndependentCorrelations requires correlations strictly between −1 and 1");
-  require(n1 >= 4 && n2 >= 4, "compareIndependentCorrelations requires at least four participants per group");
+  require(Math.abs(r1) < 1 &&
+    Math.abs(r2) <
+      1, "compareIndependentCorrelations requires correlations strictly between −1 and 1");
+  require(n1 >= 4 &&
+    n2 >= 4, "compareIndependentCorrelations requires at least four participants per group");
   const z = (Math.atanh(r1) - Math.atanh(r2)) / Math.sqrt(1 / (n1 - 3) + 1 / (n2 - 3));
   const c1 = fisherInterval(r1, n1, { level });
   const c2 = fisherInterval(r2, n2, { level });
@@ -66,7 +69,10 @@ export interface LeaveOneOutRange {
  * Pearson's r with each participant left out in turn. Cost O(n).
  * Throws StatsError for fewer than four pairs or when no leave-one-out r is defined.
  */
-export function leaveOneOutCorrelations(x: ArrayLike<number>, y: ArrayLike<number>): LeaveOneOutRange {
+export function leaveOneOutCorrelations(
+  x: ArrayLike<number>,
+  y: ArrayLike<number>,
+): LeaveOneOutRange {
   require(x.length === y.length, "leaveOneOutCorrelations requires two variables of equal length");
   const n = x.length;
   require(n >= 4, "leaveOneOutCorrelations requires at least four pairs");
@@ -117,7 +123,8 @@ export function leaveOneOutCorrelations(x: ArrayLike<number>, y: ArrayLike<numbe
       maxIndex = i;
     }
   }
-  require(minIndex >= 0, "leaveOneOutCorrelations requires variables that vary without any one participant");
+  require(minIndex >=
+    0, "leaveOneOutCorrelations requires variables that vary without any one participant");
   return { values, min, max, minIndex, maxIndex };
 }
 
@@ -141,7 +148,14 @@ export function correlationWithAndWithout(
       ky.push(y[i]);
     }
   }
-  const removed = Array.from(drop).filter((i) => i >= 0 && i < x.length).sort((a, b) => a - b);
-  const without = kx.length >= 3 && removed.length > 0 ? pearsonCorrelation(kx, ky, options) : removed.length === 0 ? all : null;
+  const removed = Array.from(drop)
+    .filter((i) => i >= 0 && i < x.length)
+    .sort((a, b) => a - b);
+  const without =
+    kx.length >= 3 && removed.length > 0
+      ? pearsonCorrelation(kx, ky, options)
+      : removed.length === 0
+        ? all
+        : null;
   return { all, without, removed };
 }

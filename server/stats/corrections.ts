@@ -19,7 +19,8 @@ export type CorrectionMethod = "none" | "bonferroni" | "holm" | "bh";
 function checked(p: readonly number[], name: string): void {
   if (p.length === 0) throw new StatsError(`${name} requires at least one p-value`);
   p.forEach((v, i) => {
-    if (!(v >= 0 && v <= 1)) throw new StatsError(`${name} requires p-values between 0 and 1 (entry ${i + 1} is ${v})`);
+    if (!(v >= 0 && v <= 1))
+      throw new StatsError(`${name} requires p-values between 0 and 1 (entry ${i + 1} is ${v})`);
   });
 }
 

@@ -81,15 +81,29 @@ export function pearsonR(x: ArrayLike<number>, y: ArrayLike<number>): number | n
  * variance 1/(n − 3). Cost O(n). Throws StatsError for fewer than three pairs,
  * unequal lengths, non-finite values or a constant variable.
  */
-export function pearsonCorrelation(x: ArrayLike<number>, y: ArrayLike<number>, options: { level?: number } = {}): CorrelationResult {
+export function pearsonCorrelation(
+  x: ArrayLike<number>,
+  y: ArrayLike<number>,
+  options: { level?: number } = {},
+): CorrelationResult {
   const { level = 0.95 } = options;
   require(x.length === y.length, "pearsonCorrelation requires two variables of equal length");
   const n = x.length;
   require(n >= 3, "pearsonCorrelation requires at least three pairs");
-  for (let i = 0; i < n; i++) require(Number.isFinite(x[i]) && Number.isFinite(y[i]), "pearsonCorrelation requires finite values");
+  for (let i = 0; i < n; i++)
+    require(Number.isFinite(x[i]) &&
+      Number.isFinite(y[i]), "pearsonCorrelation requires finite values");
   const r = pearsonR(x, y);
   require(r !== null, "pearsonCorrelation requires variables that are not constant");
   const df = n - 2;
   const ci = fisherInterval(r, n, { level });
-  return { n, r, t: correlationT(r, df), df, p: correlationP(r, df), ciLow: ci.low, ciHigh: ci.high };
+  return {
+    n,
+    r,
+    t: correlationT(r, df),
+    df,
+    p: correlationP(r, df),
+    ciLow: ci.low,
+    ciHigh: ci.high,
+  };
 }

@@ -65,7 +65,8 @@ export function median(x: Numbers): number {
 export function selectInPlace(scratch: Float64Array, k: number): number {
   let lo = 0;
   let hi = scratch.length - 1;
-  if (k < 0 || k > hi) throw new StatsError(`selectInPlace requires 0 ≤ k < n (got k = ${k}, n = ${scratch.length})`);
+  if (k < 0 || k > hi)
+    throw new StatsError(`selectInPlace requires 0 ≤ k < n (got k = ${k}, n = ${scratch.length})`);
   while (hi > lo) {
     const mid = (lo + hi) >> 1;
     // median of three as pivot

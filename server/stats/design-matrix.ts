@@ -46,14 +46,17 @@ export function treatmentCoding(
   if (levels && levels.length > 0) {
     require(new Set(levels).size === levels.length, `${name}: levels must be distinct`);
     for (const v of present) {
-      if (!levels.includes(v)) throw new StatsError(`${name}: value '${v}' is not one of the given levels`);
+      if (!levels.includes(v))
+        throw new StatsError(`${name}: value '${v}' is not one of the given levels`);
     }
     ordered = levels.filter((l) => present.includes(l));
   } else {
     ordered = present;
   }
   require(ordered.length >= 1, `${name}: no values`);
-  const columns = ordered.slice(1).map((level) => Float64Array.from(values, (v) => (v === level ? 1 : 0)));
+  const columns = ordered
+    .slice(1)
+    .map((level) => Float64Array.from(values, (v) => (v === level ? 1 : 0)));
   return { reference: ordered[0], levels: ordered, columns };
 }
 
@@ -74,7 +77,8 @@ export function buildDesign(n: number, terms: readonly DesignTerm[]): Design {
       columnNames.push(term.name);
       termColumns.push({ name: term.name, columns: [start] });
     } else if (term.kind === "product") {
-      require(term.values.length === n && term.indicator.length === n, `${term.name}: expected ${n} values`);
+      require(term.values.length === n &&
+        term.indicator.length === n, `${term.name}: expected ${n} values`);
       const c = new Float64Array(n);
       for (let i = 0; i < n; i++) c[i] = term.values[i] * term.indicator[i];
       cols.push(c);

@@ -65,7 +65,11 @@ const finiteOrNull = (v: number): number | null => (Number.isFinite(v) ? v : nul
  * n − p − 1 < 1), the leverage cut 2p/n and the Cook's distance cut 4/n.
  * The plots draw these same values. Cost O(1).
  */
-export function flagThresholds(n: number, p: number, alpha = 0.05): DiagnosticsResult["thresholds"] {
+export function flagThresholds(
+  n: number,
+  p: number,
+  alpha = 0.05,
+): DiagnosticsResult["thresholds"] {
   const df = n - p;
   return {
     outlierT: df - 1 > 0 ? studentTQuantile(1 - alpha / (2 * n), df - 1) : null,
@@ -130,7 +134,8 @@ export function regressionDiagnostics(
         }
       }
     }
-    if (outlierT !== null && external !== null && Math.abs(external) > outlierT) flags.push("outlier");
+    if (outlierT !== null && external !== null && Math.abs(external) > outlierT)
+      flags.push("outlier");
     if (one || h > leverageCut) flags.push("leverage");
     if (cook !== null && cook > cookCut) flags.push("influence");
     let mahalanobis: number | null = null;
@@ -149,7 +154,11 @@ export function regressionDiagnostics(
   return { rows, vif: varianceInflation(qr, interceptColumn, cDiag), thresholds };
 }
 
-function varianceInflation(qr: QrDecomposition, interceptColumn: number, cDiag: Float64Array): DiagnosticsResult["vif"] {
+function varianceInflation(
+  qr: QrDecomposition,
+  interceptColumn: number,
+  cDiag: Float64Array,
+): DiagnosticsResult["vif"] {
   const { n, p, q, r } = qr;
   const out: DiagnosticsResult["vif"] = [];
   for (let j = 0; j < p; j++) {

@@ -132,7 +132,8 @@ export function noncentralTCdf(t: number, df: number, ncp: number): number {
   checkDf(df, "noncentralTCdf");
   if (t === Infinity) return 1;
   if (t === -Infinity) return 0;
-  if (!Number.isFinite(t) || !Number.isFinite(ncp)) throw new StatsError("noncentralTCdf requires finite arguments");
+  if (!Number.isFinite(t) || !Number.isFinite(ncp))
+    throw new StatsError("noncentralTCdf requires finite arguments");
   let negative = false;
   let tt = t;
   let del = ncp;

@@ -25,7 +25,11 @@ export interface EffectSize {
  * given the observed t. Cost: about 20–40 noncentral t evaluations per limit.
  * Throws StatsError for a non-finite t or df ≤ 0.
  */
-export function noncentralityInterval(t: number, df: number, level = 0.95): { low: number; high: number } {
+export function noncentralityInterval(
+  t: number,
+  df: number,
+  level = 0.95,
+): { low: number; high: number } {
   require(Number.isFinite(t), "noncentralityInterval requires a finite t");
   require(df > 0, "noncentralityInterval requires positive degrees of freedom");
   require(level > 0 && level < 1, "noncentralityInterval requires 0 < level < 1");
@@ -64,7 +68,10 @@ export function hedgesCorrection(df: number): number {
  * (t = d√n, ν = n − 1). Cost O(n) plus the interval inversion.
  * Throws StatsError for fewer than two values or zero variance.
  */
-export function cohensDOneSample(x: ArrayLike<number>, options: { mu?: number; level?: number } = {}): EffectSize {
+export function cohensDOneSample(
+  x: ArrayLike<number>,
+  options: { mu?: number; level?: number } = {},
+): EffectSize {
   const { mu = 0, level = 0.95 } = options;
   require(x.length >= 2, "cohensDOneSample requires at least two values");
   const n = x.length;
@@ -87,7 +94,8 @@ export function standardizedMeanDifference(
   options: { level?: number } = {},
 ): { d: EffectSize; g: EffectSize } {
   const { level = 0.95 } = options;
-  require(x1.length >= 2 && x2.length >= 2, "standardizedMeanDifference requires at least two values per group");
+  require(x1.length >= 2 &&
+    x2.length >= 2, "standardizedMeanDifference requires at least two values per group");
   const n1 = x1.length;
   const n2 = x2.length;
   const df = n1 + n2 - 2;
@@ -101,12 +109,23 @@ export function standardizedMeanDifference(
  * d and g from a standardised difference whose t statistic is d·scale on df
  * degrees of freedom (used for covariate-adjusted differences too).
  */
-export function effectSizesFromT(d: number, scale: number, df: number, level = 0.95): { d: EffectSize; g: EffectSize } {
-  require(scale > 0 && df > 1, "effectSizesFromT requires a positive scale and more than one degree of freedom");
+export function effectSizesFromT(
+  d: number,
+  scale: number,
+  df: number,
+  level = 0.95,
+): { d: EffectSize; g: EffectSize } {
+  require(scale > 0 &&
+    df > 1, "effectSizesFromT requires a positive scale and more than one degree of freedom");
   return fromT(d, scale, df, level);
 }
 
-function fromT(d: number, scale: number, df: number, level: number): { d: EffectSize; g: EffectSize } {
+function fromT(
+  d: number,
+  scale: number,
+  df: number,
+  level: number,
+): { d: EffectSize; g: EffectSize } {
   const { low, high } = noncentralityInterval(d * scale, df, level);
   const j = hedgesCorrection(df);
   const dCi = { value: d, ciLow: low / scale, ciHigh: high / scale };

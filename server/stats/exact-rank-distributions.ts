@@ -23,7 +23,9 @@ const spearmanCache = new Map<number, Float64Array>();
 
 /** P(V = v), v = 0 … n(n+1)/2. Cost O(n³); n ≤ 1000. */
 export function signedRankDistribution(n: number): Float64Array {
-  require(Number.isInteger(n) && n >= 1 && n <= 1000, "signedRankDistribution requires 1 ≤ n ≤ 1000");
+  require(Number.isInteger(n) &&
+    n >= 1 &&
+    n <= 1000, "signedRankDistribution requires 1 ≤ n ≤ 1000");
   const hit = signedRankCache.get(n);
   if (hit) return hit;
   const max = (n * (n + 1)) / 2;
@@ -43,10 +45,12 @@ export function signedRankDistribution(n: number): Float64Array {
 
 /** P(U = u), u = 0 … n1·n2, for group sizes n1, n2 (≤ 200 each). Cost O(n1²·n2²). */
 export function rankSumDistribution(n1: number, n2: number): Float64Array {
-  require(
-    Number.isInteger(n1) && Number.isInteger(n2) && n1 >= 1 && n2 >= 1 && n1 <= 200 && n2 <= 200,
-    "rankSumDistribution requires group sizes between 1 and 200",
-  );
+  require(Number.isInteger(n1) &&
+    Number.isInteger(n2) &&
+    n1 >= 1 &&
+    n2 >= 1 &&
+    n1 <= 200 &&
+    n2 <= 200, "rankSumDistribution requires group sizes between 1 and 200");
   const key = `${n1},${n2}`;
   const hit = rankSumCache.get(key);
   if (hit) return hit;

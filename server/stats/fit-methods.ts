@@ -19,10 +19,21 @@ import { fisherInterval, pearsonR } from "./correlation";
 import { mean, sampleSd, sortedCopy } from "./descriptive";
 import type { Design } from "./design-matrix";
 import { studentTTwoSidedP } from "./distributions";
-import { effectSizesFromT, noncentralityInterval, standardizedMeanDifference, cohensDOneSample } from "./effect-size";
+import {
+  effectSizesFromT,
+  noncentralityInterval,
+  standardizedMeanDifference,
+  cohensDOneSample,
+} from "./effect-size";
 import { StatsError, require } from "./errors";
 import { walshMedian, differenceMedian } from "./hodges-lehmann";
-import { type LinearModelFit, type QrDecomposition, coefficientInterval, qrDecompose, solveLinearModel } from "./linear-model";
+import {
+  type LinearModelFit,
+  type QrDecomposition,
+  coefficientInterval,
+  qrDecompose,
+  solveLinearModel,
+} from "./linear-model";
 import { mannWhitneyU } from "./mann-whitney";
 import { averageRanks } from "./ranks";
 import { percentageBendCorrelation, skippedCorrelation } from "./robust-correlation";
@@ -68,7 +79,10 @@ export interface RegionEstimate {
   extras: Record<string, unknown>;
 }
 
-const PSI_NAME: Record<RobustPsi, string> = { huber: "Huber M-estimation (k = 1.345)", bisquare: "Tukey bisquare M-estimation (c = 4.685, started from Huber)" };
+const PSI_NAME: Record<RobustPsi, string> = {
+  huber: "Huber M-estimation (k = 1.345)",
+  bisquare: "Tukey bisquare M-estimation (c = 4.685, started from Huber)",
+};
 
 function interval(e: { value: number; ciLow: number; ciHigh: number }) {
   return { value: e.value, ciLow: e.ciLow, ciHigh: e.ciHigh };
@@ -85,20 +99,36 @@ function hasCovariates(d: RegionData): boolean {
   return d.covariateColumns > 0;
 }
 
-function partialR(t: number, df: number, n: number, k: number, level: number): { r: number; rCiLow?: number; rCiHigh?: number } {
+function partialR(
+  t: number,
+  df: number,
+  n: number,
+  k: number,
+  level: number,
+): { r: number; rCiLow?: number; rCiHigh?: number } {
   const r = t / Math.sqrt(t * t + df);
   const ci = fisherInterval(r, n, { k, level });
   return ci.low === null || ci.high === null ? { r } : { r, rCiLow: ci.low, rCiHigh: ci.high };
 }
 
-function correlationFields(c: { r: number; ciLow: number | null; ciHigh: number | null }): { r: number; rCiLow?: number; rCiHigh?: number } {
-  return c.ciLow === null || c.ciHigh === null ? { r: c.r } : { r: c.r, rCiLow: c.ciLow, rCiHigh: c.ciHigh };
+function correlationFields(c: { r: number; ciLow: number | null; ciHigh: number | null }): {
+  r: number;
+  rCiLow?: number;
+  rCiHigh?: number;
+} {
+  return c.ciLow === null || c.ciHigh === null
+    ? { r: c.r }
+    : { r: c.r, rCiLow: c.ciLow, rCiHigh: c.ciHigh };
 }
 
 /** Least-squares fit of the region's design (decomposition shared through `qr` when given). */
-export function olsFit(d: RegionData, qr?: QrDecomposition): LinearModelFit & { qr: QrDecomposition } {
+export function olsFit(
+  d: RegionData,
+  qr?: QrDecomposition,
+): LinearModelFit & { qr: QrDecomposition } {
   const { design } = d;
-  require(design.n > design.p, `too few participants (n = ${design.n}) for a model with ${design.p} coefficients`);
+  require(design.n >
+    design.p, `too few participants (n = ${design.n}) for a model with ${design.p} coefficients`);
   const q = qr ?? qrDecompose(design.x, design.n, design.p, design.columnNames);
   return { ...solveLinearModel(q, d.y), qr: q };
 }
@@ -109,12 +139,24 @@ function olsEstimate(d: RegionData, qr?: QrDecomposition): RegionEstimate {
   const se = fit.se[j];
   const t = fit.t[j];
   const p = fit.pValues[j];
-  if (se === null || t === null || p === null) throw new StatsError("the residual variance is zero, so the standard error is undefined");
+  if (se === null || t === null || p === null)
+    throw new StatsError("the residual variance is zero, so the standard error is undefined");
   const ci = coefficientInterval(fit, j, d.level);
-  const base = { estimate: fit.coefficients[j], se, statistic: t, df: fit.df, p, ciLow: ci.low, ciHigh: ci.high };
+  const base = {
+    estimate: fit.coefficients[j],
+    se,
+    statistic: t,
+    df: fit.df,
+    p,
+    ciLow: ci.low,
+    ciHigh: ci.high,
+  };
   const sigma = fit.sigma as number;
   if (d.kind === "one-sample") {
-    const extras: Record<string, unknown> = { mean: mean(d.y), sd: d.y.length > 1 ? sampleSd(d.y) : null };
+    const extras: Record<string, unknown> = {
+      mean: mean(d.y),
+      sd: d.y.length > 1 ? sampleSd(d.y) : null,
+    };
     if (!hasCovariates(d)) {
       extras.cohensD = interval(cohensDOneSample(d.y, { level: d.level }));
       return { ...base, method: "one-sample t test", extras };
@@ -124,11 +166,20 @@ function olsEstimate(d: RegionData, qr?: QrDecomposition): RegionEstimate {
     const scale = sigma / se;
     const nc = noncentralityInterval(dValue * scale, fit.df, d.level);
     extras.cohensD = { value: dValue, ciLow: nc.low / scale, ciHigh: nc.high / scale };
-    return { ...base, method: "linear model, intercept with mean-centred covariates (adjusted mean)", extras };
+    return {
+      ...base,
+      method: "linear model, intercept with mean-centred covariates (adjusted mean)",
+      extras,
+    };
   }
   if (d.kind === "two-group") {
     const [a, b] = split(d.y, d.x as Float64Array);
-    const extras: Record<string, unknown> = { n1: a.length, n2: b.length, mean1: mean(a), mean2: mean(b) };
+    const extras: Record<string, unknown> = {
+      n1: a.length,
+      n2: b.length,
+      mean1: mean(a),
+      mean2: mean(b),
+    };
     const es = hasCovariates(d)
       ? effectSizesFromT(fit.coefficients[j] / sigma, sigma / se, fit.df, d.level)
       : standardizedMeanDifference(a, b, { level: d.level });
@@ -136,7 +187,9 @@ function olsEstimate(d: RegionData, qr?: QrDecomposition): RegionEstimate {
     extras.hedgesG = interval(es.g);
     return {
       ...base,
-      method: hasCovariates(d) ? "linear model with covariates (ANCOVA), adjusted group difference" : "Student t test (pooled variance)",
+      method: hasCovariates(d)
+        ? "linear model with covariates (ANCOVA), adjusted group difference"
+        : "Student t test (pooled variance)",
       extras,
     };
   }
@@ -164,11 +217,19 @@ function olsEstimate(d: RegionData, qr?: QrDecomposition): RegionEstimate {
 
 function robustEstimate(d: RegionData, psi: RobustPsi): RegionEstimate {
   const { design } = d;
-  require(design.n > design.p, `too few participants (n = ${design.n}) for a model with ${design.p} coefficients`);
-  const fit = robustLinearModel(design.x, design.n, design.p, d.y, { psi, columnNames: design.columnNames });
+  require(design.n >
+    design.p, `too few participants (n = ${design.n}) for a model with ${design.p} coefficients`);
+  const fit = robustLinearModel(design.x, design.n, design.p, d.y, {
+    psi,
+    columnNames: design.columnNames,
+  });
   const j = d.tested;
   const ci = robustCoefficientInterval(fit, j, d.level);
-  const extras: Record<string, unknown> = { scale: fit.scale, iterations: fit.iterations, converged: fit.converged };
+  const extras: Record<string, unknown> = {
+    scale: fit.scale,
+    iterations: fit.iterations,
+    converged: fit.converged,
+  };
   const base = {
     estimate: fit.coefficients[j],
     se: fit.se[j],
@@ -180,7 +241,8 @@ function robustEstimate(d: RegionData, psi: RobustPsi): RegionEstimate {
     method: `${PSI_NAME[psi]}, MAD scale, IRLS`,
     extras,
   };
-  if (d.kind === "association") return { ...base, ...partialR(fit.t[j], fit.df, design.n, design.p - 2, d.level) };
+  if (d.kind === "association")
+    return { ...base, ...partialR(fit.t[j], fit.df, design.n, design.p - 2, d.level) };
   return base;
 }
 
@@ -210,14 +272,18 @@ function partialSpearman(d: RegionData): RegionEstimate {
       for (let i = 0; i < design.n; i++) x[i * p + c] = rk[i];
     }
   }
-  require(design.n > p, `too few participants (n = ${design.n}) for a model with ${p} coefficients`);
+  require(design.n >
+    p, `too few participants (n = ${design.n}) for a model with ${p} coefficients`);
   const fit = solveLinearModel(qrDecompose(x, design.n, p, design.columnNames), rankOf(d.y));
   const t = fit.t[d.tested];
   if (t === null) throw new StatsError("the residual variance of the ranks is zero");
   const r = t / Math.sqrt(t * t + fit.df);
   const k = p - 2;
   const m = design.n - 3 - k;
-  const ci = m > 0 ? fisherInterval(r, design.n, { k, level: d.level, variance: 1.06 / m }) : { low: null, high: null };
+  const ci =
+    m > 0
+      ? fisherInterval(r, design.n, { k, level: d.level, variance: 1.06 / m })
+      : { low: null, high: null };
   return {
     estimate: r,
     se: null,
@@ -242,7 +308,8 @@ export function estimateRegion(d: RegionData, qr?: QrDecomposition): RegionEstim
   if (estimator === "ols") return olsEstimate(d, qr);
   if (estimator === "huber" || estimator === "bisquare") return robustEstimate(d, estimator);
   if (kind === "one-sample") {
-    require(estimator === "rank", `estimator '${estimator}' is not available for kind 'one-sample'`);
+    require(estimator ===
+      "rank", `estimator '${estimator}' is not available for kind 'one-sample'`);
     const w = wilcoxonSignedRank(d.y, { level: d.level });
     return {
       estimate: w.estimate,
@@ -270,7 +337,14 @@ export function estimateRegion(d: RegionData, qr?: QrDecomposition): RegionEstim
         ciLow: w.ciLow,
         ciHigh: w.ciHigh,
         method: "Welch t test (Welch–Satterthwaite df)",
-        extras: { n1: w.n1, n2: w.n2, mean1: w.mean1, mean2: w.mean2, cohensD: interval(es.d), hedgesG: interval(es.g) },
+        extras: {
+          n1: w.n1,
+          n2: w.n2,
+          mean1: w.mean1,
+          mean2: w.mean2,
+          cohensD: interval(es.d),
+          hedgesG: interval(es.g),
+        },
       };
     }
     require(estimator === "rank", `estimator '${estimator}' is not available for kind 'two-group'`);
@@ -284,7 +358,13 @@ export function estimateRegion(d: RegionData, qr?: QrDecomposition): RegionEstim
       ciLow: m.ciLow,
       ciHigh: m.ciHigh,
       method: `Mann–Whitney U test (${m.exact ? "exact" : "normal approximation with tie and continuity correction"}), Hodges–Lehmann shift`,
-      extras: { n1: m.n1, n2: m.n2, exact: m.exact, z: m.z, probabilitySuperiority: m.probabilitySuperiority },
+      extras: {
+        n1: m.n1,
+        n2: m.n2,
+        exact: m.exact,
+        z: m.z,
+        probabilitySuperiority: m.probabilitySuperiority,
+      },
     };
   }
   // association
@@ -301,7 +381,9 @@ export function estimateRegion(d: RegionData, qr?: QrDecomposition): RegionEstim
       ciLow: s.ciLow,
       ciHigh: s.ciHigh,
       ...correlationFields(s),
-      method: s.exact ? "Spearman correlation, exact permutation p (S = Σd²)" : "Spearman correlation, t approximation",
+      method: s.exact
+        ? "Spearman correlation, exact permutation p (S = Σd²)"
+        : "Spearman correlation, t approximation",
       extras: { exact: s.exact },
     };
   }
@@ -316,7 +398,8 @@ export function estimateRegion(d: RegionData, qr?: QrDecomposition): RegionEstim
       ciLow: s.ciLow,
       ciHigh: s.ciHigh,
       ...correlationFields(s),
-      method: "skipped correlation (projection outliers removed, boxplot rule on ideal fourths), Pearson on the rest",
+      method:
+        "skipped correlation (projection outliers removed, boxplot rule on ideal fourths), Pearson on the rest",
       extras: {
         nKept: s.nKept,
         outlierRows: s.outliers,
@@ -483,20 +566,39 @@ export function permutationStatistic(d: RegionData): {
   if (estimator === "rank") {
     const rx = rankOf(x);
     const ry = rankOf(y);
-    return { scheme: "labels", name: "Spearman rho", statistic: (order) => pearsonR(rx, Float64Array.from(order, (k) => ry[k])) ?? Number.POSITIVE_INFINITY };
+    return {
+      scheme: "labels",
+      name: "Spearman rho",
+      statistic: (order) =>
+        pearsonR(
+          rx,
+          Float64Array.from(order, (k) => ry[k]),
+        ) ?? Number.POSITIVE_INFINITY,
+    };
   }
   if (estimator === "skipped") {
-    return { scheme: "labels", name: "skipped correlation r", statistic: (order) => guard(() => skippedCorrelation(x, permuted(order)).r) };
+    return {
+      scheme: "labels",
+      name: "skipped correlation r",
+      statistic: (order) => guard(() => skippedCorrelation(x, permuted(order)).r),
+    };
   }
   if (estimator === "bend") {
-    return { scheme: "labels", name: "percentage-bend r", statistic: (order) => guard(() => percentageBendCorrelation(x, permuted(order)).r) };
+    return {
+      scheme: "labels",
+      name: "percentage-bend r",
+      statistic: (order) => guard(() => percentageBendCorrelation(x, permuted(order)).r),
+    };
   }
   const psi = estimator as RobustPsi;
   const design = d.design;
   return {
     scheme: "labels",
     name: "robust t of the slope",
-    statistic: (order) => guard(() => robustLinearModel(design.x, design.n, design.p, permuted(order), { psi }).t[d.tested]),
+    statistic: (order) =>
+      guard(
+        () => robustLinearModel(design.x, design.n, design.p, permuted(order), { psi }).t[d.tested],
+      ),
   };
 }
 
@@ -541,7 +643,10 @@ export function bootstrapStatistic(d: RegionData): (indices: Int32Array) => numb
       return differenceMedian(sortedCopy(a), sortedCopy(b));
     };
   }
-  if (kind === "association" && (estimator === "rank" || estimator === "skipped" || estimator === "bend")) {
+  if (
+    kind === "association" &&
+    (estimator === "rank" || estimator === "skipped" || estimator === "bend")
+  ) {
     const x = d.x as Float64Array;
     return (indices) =>
       guard(() => {
@@ -564,7 +669,9 @@ export function bootstrapStatistic(d: RegionData): (indices: Int32Array) => numb
     guard(() => {
       const { x, z, m } = rowsOf(indices);
       if (m <= p) return Number.NaN;
-      return solveLinearModel(qrDecompose(x, m, p, undefined, { thin: false }), z).coefficients[d.tested];
+      return solveLinearModel(qrDecompose(x, m, p, undefined, { thin: false }), z).coefficients[
+        d.tested
+      ];
     });
 }
 

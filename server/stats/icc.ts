@@ -94,22 +94,32 @@ export function intraclassCorrelations(
   options: { level?: number } = {},
 ): IntraclassCorrelationsResult {
   const level = options.level ?? 0.95;
-  if (!(level > 0 && level < 1)) throw new StatsError(`intraclassCorrelations requires a confidence level between 0 and 1 (got ${level})`);
+  if (!(level > 0 && level < 1))
+    throw new StatsError(
+      `intraclassCorrelations requires a confidence level between 0 and 1 (got ${level})`,
+    );
   const n = matrix.length;
-  if (n < 2) throw new StatsError(`intraclassCorrelations requires at least two participants (got ${n})`);
+  if (n < 2)
+    throw new StatsError(`intraclassCorrelations requires at least two participants (got ${n})`);
   const k = matrix[0].length;
-  if (k < 2) throw new StatsError(`intraclassCorrelations requires at least two sessions (got ${k})`);
+  if (k < 2)
+    throw new StatsError(`intraclassCorrelations requires at least two sessions (got ${k})`);
   const rowMeans = new Float64Array(n);
   const colSums = new Float64Array(k);
   let total = 0;
   for (let i = 0; i < n; i++) {
     const row = matrix[i];
-    if (row.length !== k) throw new StatsError(`intraclassCorrelations requires ${k} sessions in every row (row ${i + 1} has ${row.length})`);
+    if (row.length !== k)
+      throw new StatsError(
+        `intraclassCorrelations requires ${k} sessions in every row (row ${i + 1} has ${row.length})`,
+      );
     let s = 0;
     for (let j = 0; j < k; j++) {
       const value = row[j];
       if (typeof value !== "number" || !Number.isFinite(value)) {
-        throw new StatsError(`intraclassCorrelations requires a complete matrix (row ${i + 1}, session ${j + 1} has ${String(value)})`);
+        throw new StatsError(
+          `intraclassCorrelations requires a complete matrix (row ${i + 1}, session ${j + 1} has ${String(value)})`,
+        );
       }
       s += value;
       colSums[j] += value;
@@ -137,7 +147,9 @@ export function intraclassCorrelations(
   const ems = ssError / ((n - 1) * (k - 1));
   const scale = Math.max(ssTotal, 1e-300);
   if (!(ssWithin > 1e-13 * scale) || !(ems > 1e-13 * (scale / ((n - 1) * (k - 1))))) {
-    throw new StatsError("intraclassCorrelations requires variation between sessions within participants (the residual mean square is 0)");
+    throw new StatsError(
+      "intraclassCorrelations requires variation between sessions within participants (the residual mean square is 0)",
+    );
   }
 
   const alpha = 1 - level;
@@ -168,7 +180,8 @@ export function intraclassCorrelations(
   // ICC(2,1) interval: Satterthwaite degrees of freedom (Shrout & Fleiss 1979).
   const fj = jms / ems;
   const c = n * (1 + (k - 1) * icc21) - k * icc21;
-  const nu = ((k - 1) * (n - 1) * (k * icc21 * fj + c) ** 2) / ((n - 1) * (k * icc21 * fj) ** 2 + c * c);
+  const nu =
+    ((k - 1) * (n - 1) * (k * icc21 * fj + c) ** 2) / ((n - 1) * (k * icc21 * fj) ** 2 + c * c);
   const fStar = fQuantile(upperP, df1, nu);
   const fStar2 = fQuantile(upperP, nu, df1);
   const low21 = (n * (bms - fStar * ems)) / (fStar * (k * jms + (k * n - k - n) * ems) + n * bms);
@@ -179,9 +192,19 @@ export function intraclassCorrelations(
   return {
     n,
     sessions: k,
-    icc11: { value: icc11, ciLow: (fLowOne - 1) / (fLowOne + k - 1), ciHigh: (fHighOne - 1) / (fHighOne + k - 1), ...oneWay },
+    icc11: {
+      value: icc11,
+      ciLow: (fLowOne - 1) / (fLowOne + k - 1),
+      ciHigh: (fHighOne - 1) / (fHighOne + k - 1),
+      ...oneWay,
+    },
     icc21: { value: icc21, ciLow: low21, ciHigh: high21, ...twoWay },
-    icc31: { value: icc31, ciLow: (fLowThree - 1) / (fLowThree + k - 1), ciHigh: (fHighThree - 1) / (fHighThree + k - 1), ...twoWay },
+    icc31: {
+      value: icc31,
+      ciLow: (fLowThree - 1) / (fLowThree + k - 1),
+      ciHigh: (fHighThree - 1) / (fHighThree + k - 1),
+      ...twoWay,
+    },
     icc1k: { value: icc1k, ciLow: 1 - 1 / fLowOne, ciHigh: 1 - 1 / fHighOne, ...oneWay },
     icc2k: { value: icc2k, ciLow: stepUp(low21, k), ciHigh: stepUp(high21, k), ...twoWay },
     icc3k: { value: icc3k, ciLow: 1 - 1 / fLowThree, ciHigh: 1 - 1 / fHighThree, ...twoWay },

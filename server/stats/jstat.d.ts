@@ -20,7 +20,10 @@ declare module "jstat" {
     centralF: ContinuousDistribution2;
     chisquare: ContinuousDistribution1;
     beta: ContinuousDistribution2;
-    noncentralt: { pdf(x: number, dof: number, ncp: number): number; cdf(x: number, dof: number, ncp: number): number };
+    noncentralt: {
+      pdf(x: number, dof: number, ncp: number): number;
+      cdf(x: number, dof: number, ncp: number): number;
+    };
     /** Regularized incomplete beta function I_x(a, b). */
     ibeta(x: number, a: number, b: number): number;
     /** Inverse of I_x(a, b) in x. */

@@ -35,12 +35,17 @@ export interface KendallResult {
  * Cost O(n²) pair counting. Throws StatsError for fewer than three pairs,
  * unequal lengths, non-finite values or a constant variable.
  */
-export function kendallTauB(x: ArrayLike<number>, y: ArrayLike<number>, options: { level?: number } = {}): KendallResult {
+export function kendallTauB(
+  x: ArrayLike<number>,
+  y: ArrayLike<number>,
+  options: { level?: number } = {},
+): KendallResult {
   const { level = 0.95 } = options;
   require(x.length === y.length, "kendallTauB requires two variables of equal length");
   const n = x.length;
   require(n >= 3, "kendallTauB requires at least three pairs");
-  for (let i = 0; i < n; i++) require(Number.isFinite(x[i]) && Number.isFinite(y[i]), "kendallTauB requires finite values");
+  for (let i = 0; i < n; i++)
+    require(Number.isFinite(x[i]) && Number.isFinite(y[i]), "kendallTauB requires finite values");
   let concordant = 0;
   let discordant = 0;
   for (let i = 0; i < n; i++) {
@@ -67,9 +72,13 @@ export function kendallTauB(x: ArrayLike<number>, y: ArrayLike<number>, options:
     const v0 = n * (n - 1) * (2 * n + 5);
     const vt = tx.reduce((acc, t) => acc + t * (t - 1) * (2 * t + 5), 0);
     const vu = ty.reduce((acc, t) => acc + t * (t - 1) * (2 * t + 5), 0);
-    const v1 = tx.reduce((acc, t) => acc + t * (t - 1), 0) * ty.reduce((acc, t) => acc + t * (t - 1), 0);
-    const v2 = tx.reduce((acc, t) => acc + t * (t - 1) * (t - 2), 0) * ty.reduce((acc, t) => acc + t * (t - 1) * (t - 2), 0);
-    const variance = (v0 - vt - vu) / 18 + v1 / (2 * n * (n - 1)) + v2 / (9 * n * (n - 1) * (n - 2));
+    const v1 =
+      tx.reduce((acc, t) => acc + t * (t - 1), 0) * ty.reduce((acc, t) => acc + t * (t - 1), 0);
+    const v2 =
+      tx.reduce((acc, t) => acc + t * (t - 1) * (t - 2), 0) *
+      ty.reduce((acc, t) => acc + t * (t - 1) * (t - 2), 0);
+    const variance =
+      (v0 - vt - vu) / 18 + v1 / (2 * n * (n - 1)) + v2 / (9 * n * (n - 1) * (n - 2));
     require(variance > 0, "kendallTauB requires variables that are not constant");
     z = s / Math.sqrt(variance);
     p = normalTwoSidedP(z);

@@ -53,7 +53,8 @@ export function qrDecompose(
   for (let i = 0; i < n; i++) {
     for (let j = 0; j < p; j++) {
       const value = x[i * p + j];
-      if (!Number.isFinite(value)) throw new StatsError(`qrDecompose requires finite values (row ${i + 1}, ${names[j]})`);
+      if (!Number.isFinite(value))
+        throw new StatsError(`qrDecompose requires finite values (row ${i + 1}, ${names[j]})`);
       a[j * n + i] = value;
       colNorm[j] += value * value;
     }
@@ -98,7 +99,17 @@ export function qrDecompose(
     }
   }
   if (options.thin === false) {
-    return { n, p, columnNames: names, v: a, beta, r, rInverse, hat: new Float64Array(0), q: new Float64Array(0) };
+    return {
+      n,
+      p,
+      columnNames: names,
+      v: a,
+      beta,
+      r,
+      rInverse,
+      hat: new Float64Array(0),
+      q: new Float64Array(0),
+    };
   }
   // Thin Q: apply H_0 … H_{p−1} to the first p unit vectors (in reverse order).
   const q = new Float64Array(n * p);
@@ -149,7 +160,8 @@ export function solveLinearModel(qr: QrDecomposition, y: ArrayLike<number>): Lin
   require(y.length === n, "solveLinearModel requires one response per design row");
   const z = new Float64Array(n);
   for (let i = 0; i < n; i++) {
-    if (!Number.isFinite(y[i])) throw new StatsError(`solveLinearModel requires finite responses (row ${i + 1})`);
+    if (!Number.isFinite(y[i]))
+      throw new StatsError(`solveLinearModel requires finite responses (row ${i + 1})`);
     z[i] = y[i];
   }
   // z ← Qᵀy
@@ -207,7 +219,20 @@ export function solveLinearModel(qr: QrDecomposition, y: ArrayLike<number>): Lin
       pValues.push(null);
     }
   }
-  return { n, p, df, columnNames: qr.columnNames, coefficients, se, t, pValues, residuals, fitted, rss, sigma };
+  return {
+    n,
+    p,
+    df,
+    columnNames: qr.columnNames,
+    coefficients,
+    se,
+    t,
+    pValues,
+    residuals,
+    fitted,
+    rss,
+    sigma,
+  };
 }
 
 /** Decompose and solve in one call. Cost O(n·p²). */
@@ -238,7 +263,11 @@ export function unscaledCovariance(qr: QrDecomposition): Float64Array {
 }
 
 /** Two-sided confidence interval for coefficient j of a fit. Returns nulls when df = 0. */
-export function coefficientInterval(fit: LinearModelFit, j: number, level = 0.95): { low: number | null; high: number | null } {
+export function coefficientInterval(
+  fit: LinearModelFit,
+  j: number,
+  level = 0.95,
+): { low: number | null; high: number | null } {
   const se = fit.se[j];
   if (se === null || fit.df <= 0) return { low: null, high: null };
   const q = studentTQuantile(0.5 + level / 2, fit.df);

@@ -48,7 +48,9 @@ export function mannWhitneyU(
   require(level > 0 && level < 1, "mannWhitneyU requires 0 < level < 1");
   const n1 = x1.length;
   const n2 = x2.length;
-  require(n1 >= 1 && n2 >= 1 && n1 + n2 >= 3, "mannWhitneyU requires at least one value per group and three in total");
+  require(n1 >= 1 &&
+    n2 >= 1 &&
+    n1 + n2 >= 3, "mannWhitneyU requires at least one value per group and three in total");
   const all = new Float64Array(n1 + n2);
   for (let i = 0; i < n1; i++) {
     require(Number.isFinite(x1[i]), "mannWhitneyU requires finite values");
@@ -80,7 +82,12 @@ export function mannWhitneyU(
     const centred = u - (n1 * n2) / 2;
     z = (centred - 0.5 * Math.sign(centred)) / Math.sqrt(variance);
     p = Math.min(1, 2 * Math.min(normalCdf(z), normalCdf(-z)));
-    k = Math.max(1, Math.floor((n1 * n2) / 2 - normalQuantile(1 - alpha / 2) * Math.sqrt((n1 * n2 * (N + 1)) / 12)));
+    k = Math.max(
+      1,
+      Math.floor(
+        (n1 * n2) / 2 - normalQuantile(1 - alpha / 2) * Math.sqrt((n1 * n2 * (N + 1)) / 12),
+      ),
+    );
   }
   const total = n1 * n2;
   k = Math.min(k, Math.floor((total + 1) / 2));

@@ -28,7 +28,9 @@ export interface MeanResponse {
 }
 
 export function meanResponseBand(
-  model: Pick<LinearModelFit, "coefficients" | "sigma" | "df"> & { qr: Pick<QrDecomposition, "p" | "rInverse"> },
+  model: Pick<LinearModelFit, "coefficients" | "sigma" | "df"> & {
+    qr: Pick<QrDecomposition, "p" | "rInverse">;
+  },
   rows: readonly (readonly number[] | Float64Array)[],
   options: { level?: number } = {},
 ): MeanResponse[] {
@@ -36,15 +38,22 @@ export function meanResponseBand(
   require(level > 0 && level < 1, "meanResponseBand requires a level between 0 and 1");
   const { p, rInverse } = model.qr;
   const { coefficients, sigma, df } = model;
-  if (sigma === null || !(df > 0)) throw new StatsError("meanResponseBand requires a fit with residual degrees of freedom (n > p)");
+  if (sigma === null || !(df > 0))
+    throw new StatsError(
+      "meanResponseBand requires a fit with residual degrees of freedom (n > p)",
+    );
   const q = studentTQuantile(0.5 + level / 2, df);
   const work = new Float64Array(p);
   return rows.map((row, k) => {
-    require(row.length === p, `meanResponseBand requires rows of ${p} values (row ${k + 1} has ${row.length})`);
+    require(row.length ===
+      p, `meanResponseBand requires rows of ${p} values (row ${k + 1} has ${row.length})`);
     let fit = 0;
     for (let j = 0; j < p; j++) {
       const v = row[j];
-      if (!Number.isFinite(v)) throw new StatsError(`meanResponseBand requires finite values (row ${k + 1}, column ${j + 1})`);
+      if (!Number.isFinite(v))
+        throw new StatsError(
+          `meanResponseBand requires finite values (row ${k + 1}, column ${j + 1})`,
+        );
       fit += v * coefficients[j];
     }
     // work = R⁻ᵀx₀: work_j = Σ_{i ≤ j} R⁻¹[i, j]·x₀[i] (R⁻¹ is upper triangular).

@@ -23,8 +23,9 @@ import { StatsError } from "./errors";
 import { brentRoot } from "./roots";
 
 const LANCZOS = [
-  0.99999999999980993, 676.5203681218851, -1259.1392167224028, 771.32342877765313, -176.61502916214059,
-  12.507343278686905, -0.13857109526572012, 9.9843695780195716e-6, 1.5056327351493116e-7,
+  0.99999999999980993, 676.5203681218851, -1259.1392167224028, 771.32342877765313,
+  -176.61502916214059, 12.507343278686905, -0.13857109526572012, 9.9843695780195716e-6,
+  1.5056327351493116e-7,
 ];
 const HALF_LOG_TWO_PI = 0.5 * Math.log(2 * Math.PI);
 
@@ -33,7 +34,8 @@ const HALF_LOG_TWO_PI = 0.5 * Math.log(2 * Math.PI);
  * g = 7; reflection below ½). Cost O(1). Relative accuracy about 1e-15.
  */
 export function logGamma(x: number): number {
-  if (!(x > 0) || !Number.isFinite(x)) throw new StatsError(`logGamma requires a positive finite argument (got ${x})`);
+  if (!(x > 0) || !Number.isFinite(x))
+    throw new StatsError(`logGamma requires a positive finite argument (got ${x})`);
   if (x < 0.5) return Math.log(Math.PI / Math.sin(Math.PI * x)) - logGamma(1 - x);
   const z = x - 1;
   let a = LANCZOS[0];
@@ -82,18 +84,21 @@ function betaContinuedFraction(x: number, a: number, b: number): number {
  * (continued fraction, Numerical Recipes §6.4). Cost O(√max(a, b)) terms.
  */
 export function regularizedBeta(x: number, a: number, b: number): number {
-  if (!(a > 0 && b > 0)) throw new StatsError(`regularizedBeta requires positive shape parameters (got ${a}, ${b})`);
+  if (!(a > 0 && b > 0))
+    throw new StatsError(`regularizedBeta requires positive shape parameters (got ${a}, ${b})`);
   if (!(x >= 0 && x <= 1)) throw new StatsError(`regularizedBeta requires 0 ≤ x ≤ 1 (got ${x})`);
   if (x === 0) return 0;
   if (x === 1) return 1;
-  const logFront = logGamma(a + b) - logGamma(a) - logGamma(b) + a * Math.log(x) + b * Math.log1p(-x);
+  const logFront =
+    logGamma(a + b) - logGamma(a) - logGamma(b) + a * Math.log(x) + b * Math.log1p(-x);
   if (x < (a + 1) / (a + b + 2)) return (Math.exp(logFront) * betaContinuedFraction(x, a, b)) / a;
   return 1 - (Math.exp(logFront) * betaContinuedFraction(1 - x, b, a)) / b;
 }
 
 /** Upper regularized incomplete gamma Q(a, x) = 1 − P(a, x), a > 0, x ≥ 0 (Numerical Recipes §6.2). */
 export function regularizedGammaQ(a: number, x: number): number {
-  if (!(a > 0) || !(x >= 0)) throw new StatsError(`regularizedGammaQ requires a > 0 and x ≥ 0 (got ${a}, ${x})`);
+  if (!(a > 0) || !(x >= 0))
+    throw new StatsError(`regularizedGammaQ requires a > 0 and x ≥ 0 (got ${a}, ${x})`);
   if (x === 0) return 1;
   if (x === Infinity) return 0;
   const logFront = -x + a * Math.log(x) - logGamma(a);
@@ -156,7 +161,11 @@ export function normalQuantile(p: number): number {
   if (p > 0.5) return -normalQuantile(1 - p);
   // Lower half: start from A&S 26.2.23 (absolute error < 4.5e-4).
   const t = Math.sqrt(-2 * Math.log(p));
-  let x = -(t - (2.515517 + 0.802853 * t + 0.010328 * t * t) / (1 + 1.432788 * t + 0.189269 * t * t + 0.001308 * t * t * t));
+  let x = -(
+    t -
+    (2.515517 + 0.802853 * t + 0.010328 * t * t) /
+      (1 + 1.432788 * t + 0.189269 * t * t + 0.001308 * t * t * t)
+  );
   for (let i = 0; i < 4; i++) {
     const u = (normalCdf(x) - p) / normalDensity(x);
     const step = u / (1 + 0.5 * x * u);
@@ -167,7 +176,8 @@ export function normalQuantile(p: number): number {
 }
 
 function checkDf(df: number, name: string): void {
-  if (!(df > 0) || !Number.isFinite(df)) throw new StatsError(`${name} requires positive finite degrees of freedom (got ${df})`);
+  if (!(df > 0) || !Number.isFinite(df))
+    throw new StatsError(`${name} requires positive finite degrees of freedom (got ${df})`);
 }
 
 /**
@@ -183,7 +193,10 @@ export function studentTUpper(t: number, df: number): number {
   if (t === 0) return 0.5;
   const t2 = t * t;
   // P(|T| ≥ |t|) = I_{ν/(ν+t²)}(ν/2, ½) = 1 − I_{t²/(ν+t²)}(½, ν/2); use the form whose argument is exact.
-  const twoSided = t2 > df ? regularizedBeta(df / (df + t2), df / 2, 0.5) : 1 - regularizedBeta(t2 / (df + t2), 0.5, df / 2);
+  const twoSided =
+    t2 > df
+      ? regularizedBeta(df / (df + t2), df / 2, 0.5)
+      : 1 - regularizedBeta(t2 / (df + t2), 0.5, df / 2);
   return t > 0 ? 0.5 * twoSided : 1 - 0.5 * twoSided;
 }
 
@@ -207,12 +220,18 @@ export function studentTTwoSided(t: number, df: number): number {
 export function findRoot(f: (x: number) => number, a0: number, b0: number, name: string): number {
   const fa = f(a0);
   const fb = f(b0);
-  if (!(fa === 0 || fb === 0 || fa * fb < 0)) throw new StatsError(`${name} could not bracket the solution`);
+  if (!(fa === 0 || fb === 0 || fa * fb < 0))
+    throw new StatsError(`${name} could not bracket the solution`);
   return brentRoot(f, a0, b0, 1e-300, 300);
 }
 
 /** Finds x ≥ 0 with upper(x) = q for a decreasing upper-tail function with upper(0) > q: doubling, then Brent. */
-function invertUpperTail(upper: (x: number) => number, q: number, start: number, name: string): number {
+function invertUpperTail(
+  upper: (x: number) => number,
+  q: number,
+  start: number,
+  name: string,
+): number {
   let lo = 0;
   let hi = Math.max(start, 1);
   let guard = 0;
@@ -234,7 +253,12 @@ export function studentTQuantile(p: number, df: number): number {
   if (p === 0.5) return 0;
   if (p < 0.5) return -studentTQuantile(1 - p, df);
   const q = 1 - p;
-  return invertUpperTail((t) => studentTUpper(t, df), q, Math.abs(normalQuantile(p)), "studentTQuantile");
+  return invertUpperTail(
+    (t) => studentTUpper(t, df),
+    q,
+    Math.abs(normalQuantile(p)),
+    "studentTQuantile",
+  );
 }
 
 /** F distribution function P(F ≤ x) on (d1, d2) degrees of freedom. Cost O(√(d1 + d2)). */
@@ -301,14 +325,20 @@ function gaussLegendre(m: number): { nodes: Float64Array; weights: Float64Array 
 const GL = gaussLegendre(16);
 
 /** Composite 16-point Gauss–Legendre rule of f on [a, b] with `panels` equal panels. */
-function gaussLegendreIntegral(f: (s: number) => number, a: number, b: number, panels: number): number {
+function gaussLegendreIntegral(
+  f: (s: number) => number,
+  a: number,
+  b: number,
+  panels: number,
+): number {
   if (!(b > a)) return 0;
   const width = (b - a) / panels;
   let total = 0;
   for (let k = 0; k < panels; k++) {
     const mid = a + (k + 0.5) * width;
     let sum = 0;
-    for (let i = 0; i < GL.nodes.length; i++) sum += GL.weights[i] * f(mid + 0.5 * width * GL.nodes[i]);
+    for (let i = 0; i < GL.nodes.length; i++)
+      sum += GL.weights[i] * f(mid + 0.5 * width * GL.nodes[i]);
     total += 0.5 * width * sum;
   }
   return total;
@@ -327,8 +357,10 @@ function gaussLegendreIntegral(f: (s: number) => number, a: number, b: number, p
  * Cost: at most about 1,500 evaluations of Φ.
  */
 export function noncentralTCdf(t: number, df: number, ncp: number): number {
-  if (!(df >= 1) || !Number.isFinite(df)) throw new StatsError(`noncentralTCdf requires at least 1 degree of freedom (got ${df})`);
-  if (Number.isNaN(t) || !Number.isFinite(ncp)) throw new StatsError("noncentralTCdf requires a number and a finite noncentrality");
+  if (!(df >= 1) || !Number.isFinite(df))
+    throw new StatsError(`noncentralTCdf requires at least 1 degree of freedom (got ${df})`);
+  if (Number.isNaN(t) || !Number.isFinite(ncp))
+    throw new StatsError("noncentralTCdf requires a number and a finite noncentrality");
   if (t === Infinity) return 1;
   if (t === -Infinity) return 0;
   if (t === 0) return normalCdf(-ncp);
@@ -348,6 +380,7 @@ export function noncentralTCdf(t: number, df: number, ncp: number): number {
   for (const b of [centre - width, centre + width]) if (b > sLo && b < sHi) breaks.push(b);
   breaks.sort((x, y) => x - y);
   let total = 0;
-  for (let i = 0; i + 1 < breaks.length; i++) total += gaussLegendreIntegral(integrand, breaks[i], breaks[i + 1], 32);
+  for (let i = 0; i + 1 < breaks.length; i++)
+    total += gaussLegendreIntegral(integrand, breaks[i], breaks[i + 1], 32);
   return Math.min(1, Math.max(0, total));
 }

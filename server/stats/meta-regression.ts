@@ -12,7 +12,13 @@
  * (residual heterogeneity), se_i² their measurement noise.
  */
 import { StatsError } from "./errors";
-import { findRoot, normalCdf, normalQuantile, studentTQuantile, studentTTwoSided } from "./measurement-distributions";
+import {
+  findRoot,
+  normalCdf,
+  normalQuantile,
+  studentTQuantile,
+  studentTTwoSided,
+} from "./measurement-distributions";
 
 export type Tau2Method = "dl" | "reml";
 export type SmallSampleAdjustment = "none" | "knapp-hartung";
@@ -126,7 +132,14 @@ function invertSpd(a: Float64Array, p: number): Float64Array | null {
  * Weighted least squares with weights w_i = 1/(v_i + τ²), plus the traces the
  * τ² estimators need. x is n × p row-major. Cost O(n p²).
  */
-function weightedFit(y: Float64Array, v: Float64Array, x: Float64Array, n: number, p: number, tau2: number): WeightedFit | null {
+function weightedFit(
+  y: Float64Array,
+  v: Float64Array,
+  x: Float64Array,
+  n: number,
+  p: number,
+  tau2: number,
+): WeightedFit | null {
   const a = new Float64Array(p * p);
   const b = new Float64Array(p * p);
   const xwy = new Float64Array(p);
@@ -261,22 +274,43 @@ export function weightedLinearModel(input: WeightedLinearModelInput): WeightedLi
   const { tested, tau2Method, smallSample, participants } = input;
   const level = input.level ?? 0.95;
   const n = input.y.length;
-  if (!(level > 0 && level < 1)) throw new StatsError(`weightedLinearModel requires a confidence level between 0 and 1 (got ${level})`);
-  if (tau2Method !== "dl" && tau2Method !== "reml") throw new StatsError(`weightedLinearModel requires tau2Method "dl" or "reml" (got ${String(tau2Method)})`);
+  if (!(level > 0 && level < 1))
+    throw new StatsError(
+      `weightedLinearModel requires a confidence level between 0 and 1 (got ${level})`,
+    );
+  if (tau2Method !== "dl" && tau2Method !== "reml")
+    throw new StatsError(
+      `weightedLinearModel requires tau2Method "dl" or "reml" (got ${String(tau2Method)})`,
+    );
   if (smallSample !== "none" && smallSample !== "knapp-hartung") {
-    throw new StatsError(`weightedLinearModel requires smallSample "none" or "knapp-hartung" (got ${String(smallSample)})`);
+    throw new StatsError(
+      `weightedLinearModel requires smallSample "none" or "knapp-hartung" (got ${String(smallSample)})`,
+    );
   }
-  if (input.se.length !== n) throw new StatsError(`weightedLinearModel requires one standard error per participant (${n} values, ${input.se.length} standard errors)`);
-  if (input.X.length !== n) throw new StatsError(`weightedLinearModel requires one design row per participant (${n} values, ${input.X.length} rows)`);
+  if (input.se.length !== n)
+    throw new StatsError(
+      `weightedLinearModel requires one standard error per participant (${n} values, ${input.se.length} standard errors)`,
+    );
+  if (input.X.length !== n)
+    throw new StatsError(
+      `weightedLinearModel requires one design row per participant (${n} values, ${input.X.length} rows)`,
+    );
   if (participants !== undefined && participants.length !== n) {
-    throw new StatsError(`weightedLinearModel requires one participant id per value (${n} values, ${participants.length} ids)`);
+    throw new StatsError(
+      `weightedLinearModel requires one participant id per value (${n} values, ${participants.length} ids)`,
+    );
   }
   const p = n > 0 ? input.X[0].length : 0;
   if (p < 1) throw new StatsError("weightedLinearModel requires at least one design column");
   if (!(Number.isInteger(tested) && tested >= 0 && tested < p)) {
-    throw new StatsError(`weightedLinearModel requires the tested column to be one of the ${p} design columns (got ${tested})`);
+    throw new StatsError(
+      `weightedLinearModel requires the tested column to be one of the ${p} design columns (got ${tested})`,
+    );
   }
-  if (n <= p) throw new StatsError(`weightedLinearModel requires more participants than design columns (${n} participants, ${p} columns)`);
+  if (n <= p)
+    throw new StatsError(
+      `weightedLinearModel requires more participants than design columns (${n} participants, ${p} columns)`,
+    );
 
   const y = new Float64Array(n);
   const v = new Float64Array(n);
@@ -285,18 +319,27 @@ export function weightedLinearModel(input: WeightedLinearModelInput): WeightedLi
   for (let i = 0; i < n; i++) {
     const yi = input.y[i];
     if (typeof yi !== "number" || !Number.isFinite(yi)) {
-      throw new StatsError(`weightedLinearModel requires a finite value for every participant (${who(i, participants)} has ${String(yi)})`);
+      throw new StatsError(
+        `weightedLinearModel requires a finite value for every participant (${who(i, participants)} has ${String(yi)})`,
+      );
     }
     const si = input.se[i];
     if (typeof si !== "number" || !Number.isFinite(si) || !(si > 0)) {
-      throw new StatsError(`weightedLinearModel requires a positive standard error for every participant (${who(i, participants)} has ${String(si)})`);
+      throw new StatsError(
+        `weightedLinearModel requires a positive standard error for every participant (${who(i, participants)} has ${String(si)})`,
+      );
     }
     const row = input.X[i];
-    if (row.length !== p) throw new StatsError(`weightedLinearModel requires ${p} design columns in every row (${who(i, participants)} has ${row.length})`);
+    if (row.length !== p)
+      throw new StatsError(
+        `weightedLinearModel requires ${p} design columns in every row (${who(i, participants)} has ${row.length})`,
+      );
     for (let c = 0; c < p; c++) {
       const xc = row[c];
       if (typeof xc !== "number" || !Number.isFinite(xc)) {
-        throw new StatsError(`weightedLinearModel requires finite design values (${who(i, participants)}, column ${c + 1} has ${String(xc)})`);
+        throw new StatsError(
+          `weightedLinearModel requires finite design values (${who(i, participants)}, column ${c + 1} has ${String(xc)})`,
+        );
       }
       x[i * p + c] = xc;
     }
@@ -308,7 +351,8 @@ export function weightedLinearModel(input: WeightedLinearModelInput): WeightedLi
 
   // Fixed-effect fit (τ² = 0): Q_E, tr(P), tr(PP) for DL, I² and the DL standard error.
   const fixed = weightedFit(y, v, x, n, p, 0);
-  if (fixed === null) throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
+  if (fixed === null)
+    throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
   const tau2Dl = Math.max(0, (fixed.rss - dfResidual) / fixed.traceP);
 
   let tau2: number;
@@ -319,7 +363,8 @@ export function weightedLinearModel(input: WeightedLinearModelInput): WeightedLi
     const varQ = 2 * dfResidual + 4 * tau2 * fixed.traceP + 2 * tau2 * tau2 * fixed.tracePP;
     tau2Se = Math.sqrt(varQ) / fixed.traceP;
     const fit = weightedFit(y, v, x, n, p, tau2);
-    if (fit === null) throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
+    if (fit === null)
+      throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
     final = fit;
   } else {
     // Fisher scoring from the DL value, truncated at 0. Where it has not converged after
@@ -330,7 +375,8 @@ export function weightedLinearModel(input: WeightedLinearModelInput): WeightedLi
     const tolerance = REML_TOLERANCE * meanV;
     const fitAt = (t: number): WeightedFit => {
       const f = weightedFit(y, v, x, n, p, t);
-      if (f === null) throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
+      if (f === null)
+        throw new StatsError("weightedLinearModel requires a design matrix of full column rank");
       return f;
     };
     const score = (f: WeightedFit): number => f.yPPy - f.traceP;
@@ -374,13 +420,21 @@ export function weightedLinearModel(input: WeightedLinearModelInput): WeightedLi
       if (!converged && Number.isNaN(negativeAt)) {
         let hi = Math.max(2 * positiveAt, positiveAt + meanV);
         for (let guard = 0; score(fitAt(hi)) > 0; guard++) {
-          if (guard >= REML_MAX_ITERATIONS) throw new StatsError(`weightedLinearModel REML estimate of tau2 did not converge in ${REML_MAX_ITERATIONS} iterations`);
+          if (guard >= REML_MAX_ITERATIONS)
+            throw new StatsError(
+              `weightedLinearModel REML estimate of tau2 did not converge in ${REML_MAX_ITERATIONS} iterations`,
+            );
           hi *= 2;
         }
         negativeAt = hi;
       }
       if (!converged) {
-        tau2 = findRoot((t) => score(fitAt(t)), Math.min(positiveAt, negativeAt), Math.max(positiveAt, negativeAt), "weightedLinearModel REML");
+        tau2 = findRoot(
+          (t) => score(fitAt(t)),
+          Math.min(positiveAt, negativeAt),
+          Math.max(positiveAt, negativeAt),
+          "weightedLinearModel REML",
+        );
         fit = fitAt(tau2);
       }
     }
@@ -400,7 +454,10 @@ export function weightedLinearModel(input: WeightedLinearModelInput): WeightedLi
     df = dfResidual;
   }
   const se = Math.sqrt(variance);
-  if (!(se > 0)) throw new StatsError("weightedLinearModel requires residual variation for the Knapp-Hartung adjustment (the residuals are all zero)");
+  if (!(se > 0))
+    throw new StatsError(
+      "weightedLinearModel requires residual variation for the Knapp-Hartung adjustment (the residuals are all zero)",
+    );
   statistic = estimate / se;
   if (df === null) {
     pValue = 2 * normalCdf(-Math.abs(statistic));

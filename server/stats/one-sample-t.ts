@@ -26,11 +26,15 @@ export interface OneSampleTResult {
  * Throws StatsError for fewer than two values, non-finite values, or zero
  * variance ("oneSampleTTest requires values that are not all equal").
  */
-export function oneSampleTTest(x: ArrayLike<number>, options: { mu?: number; level?: number } = {}): OneSampleTResult {
+export function oneSampleTTest(
+  x: ArrayLike<number>,
+  options: { mu?: number; level?: number } = {},
+): OneSampleTResult {
   const { mu = 0, level = 0.95 } = options;
   const n = x.length;
   require(n >= 2, "oneSampleTTest requires at least two values");
-  for (let i = 0; i < n; i++) require(Number.isFinite(x[i]), "oneSampleTTest requires finite values");
+  for (let i = 0; i < n; i++)
+    require(Number.isFinite(x[i]), "oneSampleTTest requires finite values");
   require(level > 0 && level < 1, "oneSampleTTest requires 0 < level < 1");
   const m = mean(x);
   const v = sampleVariance(x);

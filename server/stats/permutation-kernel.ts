@@ -102,32 +102,45 @@ export function prepareLinearPermutation(input: {
 }): LinearPermutationSetup {
   const name = "linearPermutationTest";
   const { design, n, p, tested, y, scheme, resamples } = input;
-  if (!(Number.isInteger(p) && p >= 1)) throw new StatsError(`${name} requires p ≥ 1 design columns (got ${p})`);
+  if (!(Number.isInteger(p) && p >= 1))
+    throw new StatsError(`${name} requires p ≥ 1 design columns (got ${p})`);
   if (!(Number.isInteger(n) && n > p)) {
-    throw new StatsError(`${name} requires more participants than design columns (n = ${n}, p = ${p})`);
+    throw new StatsError(
+      `${name} requires more participants than design columns (n = ${n}, p = ${p})`,
+    );
   }
   if (design.length !== n * p) {
-    throw new StatsError(`${name} requires design to hold n × p = ${n * p} values (got ${design.length})`);
+    throw new StatsError(
+      `${name} requires design to hold n × p = ${n * p} values (got ${design.length})`,
+    );
   }
   for (let i = 0; i < design.length; i++) {
     if (!Number.isFinite(design[i])) {
-      throw new StatsError(`${name} requires finite design values (row ${Math.floor(i / p)}, column ${i % p})`);
+      throw new StatsError(
+        `${name} requires finite design values (row ${Math.floor(i / p)}, column ${i % p})`,
+      );
     }
   }
   if (!(Number.isInteger(tested) && tested >= 0 && tested < p)) {
-    throw new StatsError(`${name} requires tested to be a column index between 0 and ${p - 1} (got ${tested})`);
+    throw new StatsError(
+      `${name} requires tested to be a column index between 0 and ${p - 1} (got ${tested})`,
+    );
   }
   if (scheme !== "sign-flip" && scheme !== "freedman-lane") {
-    throw new StatsError(`${name} requires scheme "sign-flip" or "freedman-lane" (got ${String(scheme)})`);
+    throw new StatsError(
+      `${name} requires scheme "sign-flip" or "freedman-lane" (got ${String(scheme)})`,
+    );
   }
   if (!(Number.isInteger(resamples) && resamples >= 1)) {
     throw new StatsError(`${name} requires resamples to be a positive integer (got ${resamples})`);
   }
   if (y.length === 0) throw new StatsError(`${name} requires at least one region`);
   for (let r = 0; r < y.length; r++) {
-    if (y[r].length !== n) throw new StatsError(`${name} requires y[${r}] to hold n = ${n} values (got ${y[r].length})`);
+    if (y[r].length !== n)
+      throw new StatsError(`${name} requires y[${r}] to hold n = ${n} values (got ${y[r].length})`);
     for (let i = 0; i < n; i++) {
-      if (!Number.isFinite(y[r][i])) throw new StatsError(`${name} requires finite values (y[${r}], row ${i})`);
+      if (!Number.isFinite(y[r][i]))
+        throw new StatsError(`${name} requires finite values (y[${r}], row ${i})`);
     }
   }
 
@@ -180,14 +193,25 @@ export function prepareLinearPermutation(input: {
     residualSquares[r] = ee;
   }
 
-  const plan: LinearPermutationPlan = { n, p, df: n - p, kind, firstGroupSize, resamples, basis, groupOrder };
+  const plan: LinearPermutationPlan = {
+    n,
+    p,
+    df: n - p,
+    kind,
+    firstGroupSize,
+    resamples,
+    basis,
+    groupOrder,
+  };
   const observed = new Float64Array(regions);
   const work = createWorkspace(plan, regions);
   identityColumns(plan, work.columns);
   regionStatistics(plan, work, residuals, residualSquares, regions, observed);
   for (let r = 0; r < regions; r++) {
     if (!Number.isFinite(observed[r])) {
-      throw new StatsError(`${name} requires residual variation after the full model (y[${r}] is fitted exactly)`);
+      throw new StatsError(
+        `${name} requires residual variation after the full model (y[${r}] is fitted exactly)`,
+      );
     }
   }
   return { plan, residuals, residualSquares, observed };
@@ -198,7 +222,13 @@ export function prepareLinearPermutation(input: {
  * reordered so the tested column is last. Returns Q (n × p, row-major).
  * Cost O(n·p²). Throws StatsError when a column depends on the others.
  */
-function orthonormalBasis(design: Float64Array, n: number, p: number, tested: number, name: string): Float64Array {
+function orthonormalBasis(
+  design: Float64Array,
+  n: number,
+  p: number,
+  tested: number,
+  name: string,
+): Float64Array {
   const columns: number[] = [];
   for (let k = 0; k < p; k++) if (k !== tested) columns.push(k);
   columns.push(tested);
@@ -221,7 +251,9 @@ function orthonormalBasis(design: Float64Array, n: number, p: number, tested: nu
     let norm = 0;
     for (let i = 0; i < n; i++) norm += col[i] * col[i];
     if (!(norm0 > 0) || !(Math.sqrt(norm) > RANK_TOLERANCE * Math.sqrt(norm0))) {
-      throw new StatsError(`${name} requires a full-rank design (column ${source} depends on the others)`);
+      throw new StatsError(
+        `${name} requires a full-rank design (column ${source} depends on the others)`,
+      );
     }
     const s = 1 / Math.sqrt(norm);
     for (let i = 0; i < n; i++) q[i * p + k] = col[i] * s;
@@ -237,7 +269,10 @@ export interface KernelWorkspace {
 }
 
 export function createWorkspace(plan: LinearPermutationPlan, regions: number): KernelWorkspace {
-  return { columns: new Float64Array(plan.n * plan.p), products: new Float64Array(regions * plan.p) };
+  return {
+    columns: new Float64Array(plan.n * plan.p),
+    products: new Float64Array(regions * plan.p),
+  };
 }
 
 function identityColumns(plan: LinearPermutationPlan, columns: Float64Array): void {
@@ -251,7 +286,12 @@ function identityColumns(plan: LinearPermutationPlan, columns: Float64Array): vo
  * move rows (moving rows of Q by σ equals permuting e by σ⁻¹, and both walk
  * the same set of rearrangements). Cost O(n·p).
  */
-function rearrangedColumns(plan: LinearPermutationPlan, order: Int32Array, signs: Float64Array, columns: Float64Array): void {
+function rearrangedColumns(
+  plan: LinearPermutationPlan,
+  order: Int32Array,
+  signs: Float64Array,
+  columns: Float64Array,
+): void {
   const { n, p, basis, kind, groupOrder } = plan;
   if (kind === "signs") {
     for (let i = 0; i < n; i++) {
@@ -336,7 +376,15 @@ function blockedProducts(
 // accumulators; with an odd number of regions the last pass reads the last
 // region twice and writes the same values twice.
 
-function products1(q: Float64Array, k0: number, n: number, p: number, e: Float64Array, regions: number, v: Float64Array): void {
+function products1(
+  q: Float64Array,
+  k0: number,
+  n: number,
+  p: number,
+  e: Float64Array,
+  regions: number,
+  v: Float64Array,
+): void {
   const c0 = k0 * n;
   for (let r = 0; r < regions; r += 2) {
     const s = r + 1 < regions ? r + 1 : r;
@@ -356,7 +404,15 @@ function products1(q: Float64Array, k0: number, n: number, p: number, e: Float64
   }
 }
 
-function products2(q: Float64Array, k0: number, n: number, p: number, e: Float64Array, regions: number, v: Float64Array): void {
+function products2(
+  q: Float64Array,
+  k0: number,
+  n: number,
+  p: number,
+  e: Float64Array,
+  regions: number,
+  v: Float64Array,
+): void {
   const c0 = k0 * n;
   const c1 = c0 + n;
   for (let r = 0; r < regions; r += 2) {
@@ -386,7 +442,15 @@ function products2(q: Float64Array, k0: number, n: number, p: number, e: Float64
   }
 }
 
-function products3(q: Float64Array, k0: number, n: number, p: number, e: Float64Array, regions: number, v: Float64Array): void {
+function products3(
+  q: Float64Array,
+  k0: number,
+  n: number,
+  p: number,
+  e: Float64Array,
+  regions: number,
+  v: Float64Array,
+): void {
   const c0 = k0 * n;
   const c1 = c0 + n;
   const c2 = c1 + n;
@@ -424,7 +488,15 @@ function products3(q: Float64Array, k0: number, n: number, p: number, e: Float64
   }
 }
 
-function products4(q: Float64Array, k0: number, n: number, p: number, e: Float64Array, regions: number, v: Float64Array): void {
+function products4(
+  q: Float64Array,
+  k0: number,
+  n: number,
+  p: number,
+  e: Float64Array,
+  regions: number,
+  v: Float64Array,
+): void {
   const c0 = k0 * n;
   const c1 = c0 + n;
   const c2 = c1 + n;
@@ -470,7 +542,15 @@ function products4(q: Float64Array, k0: number, n: number, p: number, e: Float64
   }
 }
 
-function products5(q: Float64Array, k0: number, n: number, p: number, e: Float64Array, regions: number, v: Float64Array): void {
+function products5(
+  q: Float64Array,
+  k0: number,
+  n: number,
+  p: number,
+  e: Float64Array,
+  regions: number,
+  v: Float64Array,
+): void {
   const c0 = k0 * n;
   const c1 = c0 + n;
   const c2 = c1 + n;
@@ -561,7 +641,12 @@ export interface RegionBlock {
 
 /** The draw of a single block that has every participant: the plan's own kind (label assignments for two groups). */
 export function drawOfPlan(plan: LinearPermutationPlan): RearrangementDraw {
-  return { kind: plan.kind, n: plan.n, firstGroupSize: plan.firstGroupSize, resamples: plan.resamples };
+  return {
+    kind: plan.kind,
+    n: plan.n,
+    firstGroupSize: plan.firstGroupSize,
+    resamples: plan.resamples,
+  };
 }
 
 /** Per block, the state of the loop. */
@@ -594,13 +679,20 @@ function checkBlocks(draw: RearrangementDraw, blocks: readonly RegionBlock[]): v
   if (blocks.length === 0) throw new StatsError(`${name} requires at least one region`);
   const shared = blocks.some((b) => b.members !== null && b.members.length !== draw.n);
   if (shared && draw.kind === "subsets") {
-    throw new StatsError(`${name} requires sign vectors or orders of all participants when regions differ in participants`);
+    throw new StatsError(
+      `${name} requires sign vectors or orders of all participants when regions differ in participants`,
+    );
   }
   for (const b of blocks) {
     const m = b.members === null ? draw.n : b.members.length;
-    if (b.plan.n !== m) throw new StatsError(`${name} requires each block's participants to match its design (${m} for n = ${b.plan.n})`);
-    if (b.plan.kind !== draw.kind || b.plan.resamples !== draw.resamples) throw new StatsError(`${name} requires every block to share the draw`);
-    if (draw.kind === "subsets" && b.plan.firstGroupSize !== draw.firstGroupSize) throw new StatsError(`${name} requires every block to share the draw`);
+    if (b.plan.n !== m)
+      throw new StatsError(
+        `${name} requires each block's participants to match its design (${m} for n = ${b.plan.n})`,
+      );
+    if (b.plan.kind !== draw.kind || b.plan.resamples !== draw.resamples)
+      throw new StatsError(`${name} requires every block to share the draw`);
+    if (draw.kind === "subsets" && b.plan.firstGroupSize !== draw.firstGroupSize)
+      throw new StatsError(`${name} requires every block to share the draw`);
   }
 }
 
@@ -636,7 +728,13 @@ export function countExtremeRearrangements(input: {
   checkBlocks(draw, blocks);
   const walk =
     draw.kind === "subsets"
-      ? createRearranger({ kind: "subsets", n: draw.n, resamples: draw.resamples, rng, firstGroupSize: draw.firstGroupSize })
+      ? createRearranger({
+          kind: "subsets",
+          n: draw.n,
+          resamples: draw.resamples,
+          rng,
+          firstGroupSize: draw.firstGroupSize,
+        })
       : createSharedRearranger({ kind: draw.kind, n: draw.n, resamples: draw.resamples, rng });
   const sigma = "sigma" in walk ? walk.sigma : null;
   const total = walk.total;
@@ -668,18 +766,32 @@ export function countExtremeRearrangements(input: {
     return state;
   });
   const thresholds = new Float64Array(regions);
-  for (const st of states) for (let r = 0; r < st.regions; r++) thresholds[st.offset + r] = extremeThreshold(st.block.observed[r]);
+  for (const st of states)
+    for (let r = 0; r < st.regions; r++)
+      thresholds[st.offset + r] = extremeThreshold(st.block.observed[r]);
   const counts = new Float64Array(regions);
   const maxAbs = input.maxT ? new Float64Array(total) : null;
-  const nulls = input.keepNull ? Array.from({ length: regions }, () => new Float32Array(total)) : null;
+  const nulls = input.keepNull
+    ? Array.from({ length: regions }, () => new Float32Array(total))
+    : null;
   const tally: Tally = { thresholds, counts, maxAbs, nulls };
   // One-region blocks each have their own basis; they take the draws a chunk at a time so that
   // the basis stays in cache across the chunk (one pass over all bases per rearrangement is bound by memory).
   const singles = states.filter((st) => !st.full && st.regions === 1);
   const others = states.filter((st) => st.full || st.regions > 1);
   const n = draw.n;
-  const drawn = singles.length === 0 ? null : draw.kind === "signs" ? new Float64Array(CHUNK * n) : new Int32Array(CHUNK * n);
-  const report = progressReporter("linearPermutationTest", total, input.onProgress, input.shouldCancel);
+  const drawn =
+    singles.length === 0
+      ? null
+      : draw.kind === "signs"
+        ? new Float64Array(CHUNK * n)
+        : new Int32Array(CHUNK * n);
+  const report = progressReporter(
+    "linearPermutationTest",
+    total,
+    input.onProgress,
+    input.shouldCancel,
+  );
   for (let k0 = 0; k0 < total; k0 += CHUNK) {
     const size = Math.min(CHUNK, total - k0);
     for (let c = 0; c < size; c++) {
@@ -701,7 +813,14 @@ export function countExtremeRearrangements(input: {
           }
           rearrangedColumns(block.plan, st.order, st.signs, st.work.columns);
         }
-        regionStatistics(block.plan, st.work, block.residuals, block.residualSquares, st.regions, t);
+        regionStatistics(
+          block.plan,
+          st.work,
+          block.residuals,
+          block.residualSquares,
+          st.regions,
+          t,
+        );
         max = Math.max(max, tallyRegions(tally, st.offset, t, st.regions, k));
       }
       if (maxAbs) maxAbs[k] = max;
@@ -711,13 +830,36 @@ export function countExtremeRearrangements(input: {
         const { plan, residuals } = st.block;
         const m = plan.n;
         for (let c = 0; c < size; c++) {
-          if (draw.kind === "signs") gatherBySigns(drawn as Float64Array, c * n, st.block.members as Int32Array, residuals, st.gathered, c * m);
-          else gatherBySigma(drawn as Int32Array, c * n, n, st.local as Int32Array, residuals, st.gathered, c * m);
+          if (draw.kind === "signs")
+            gatherBySigns(
+              drawn as Float64Array,
+              c * n,
+              st.block.members as Int32Array,
+              residuals,
+              st.gathered,
+              c * m,
+            );
+          else
+            gatherBySigma(
+              drawn as Int32Array,
+              c * n,
+              n,
+              st.local as Int32Array,
+              residuals,
+              st.gathered,
+              c * m,
+            );
         }
         // The rearranged residual vectors of the chunk share the block's basis: the batched product takes them as it takes regions.
         blockedProducts(st.columns, m, plan.p, st.gathered, size, st.products);
         for (let c = 0; c < size; c++) {
-          st.t[0] = tStatistic(st.products, c * plan.p, plan.p, st.block.residualSquares[0], plan.df);
+          st.t[0] = tStatistic(
+            st.products,
+            c * plan.p,
+            plan.p,
+            st.block.residualSquares[0],
+            plan.df,
+          );
           const a = tallyRegions(tally, st.offset, st.t, 1, k0 + c);
           if (maxAbs && a > maxAbs[k0 + c]) maxAbs[k0 + c] = a;
         }
@@ -740,7 +882,13 @@ interface Tally {
 }
 
 /** Records the statistics t[0..regions−1] of regions offset… at rearrangement k; returns their largest |t|. */
-function tallyRegions(tally: Tally, offset: number, t: Float64Array, regions: number, k: number): number {
+function tallyRegions(
+  tally: Tally,
+  offset: number,
+  t: Float64Array,
+  regions: number,
+  k: number,
+): number {
   let max = 0;
   for (let r = 0; r < regions; r++) {
     const a = Math.abs(t[r]);
@@ -752,7 +900,14 @@ function tallyRegions(tally: Tally, offset: number, t: Float64Array, regions: nu
 }
 
 /** ẽ_j = s_{members[j]}·e_j into out[o + j]: the block's residuals under the shared signs (signs[at + i] for participant i). Cost O(m). */
-function gatherBySigns(signs: Float64Array, at: number, members: Int32Array, e: Float64Array, out: Float64Array, o: number): void {
+function gatherBySigns(
+  signs: Float64Array,
+  at: number,
+  members: Int32Array,
+  e: Float64Array,
+  out: Float64Array,
+  o: number,
+): void {
   for (let j = 0; j < members.length; j++) out[o + j] = signs[at + members[j]] * e[j];
 }
 
@@ -762,7 +917,15 @@ function gatherBySigns(signs: Float64Array, at: number, members: Int32Array, e: 
  * out[o + j] (σ = sigma[at … at + N − 1]; out[o + m] may be overwritten).
  * Cost O(N).
  */
-function gatherBySigma(sigma: Int32Array, at: number, n: number, local: Int32Array, e: Float64Array, out: Float64Array, o: number): void {
+function gatherBySigma(
+  sigma: Int32Array,
+  at: number,
+  n: number,
+  local: Int32Array,
+  e: Float64Array,
+  out: Float64Array,
+  o: number,
+): void {
   let j = o;
   for (let u = at; u < at + n; u++) {
     const from = local[sigma[u]];

@@ -111,14 +111,29 @@ export function linearPermutationTest(input: LinearPermutationInput): LinearPerm
   const setup = prepareLinearPermutation(input);
   const runs = countExtremeRearrangements({
     draw: drawOfPlan(setup.plan),
-    blocks: [{ plan: setup.plan, members: null, residuals: setup.residuals, residualSquares: setup.residualSquares, observed: setup.observed }],
+    blocks: [
+      {
+        plan: setup.plan,
+        members: null,
+        residuals: setup.residuals,
+        residualSquares: setup.residualSquares,
+        observed: setup.observed,
+      },
+    ],
     rng: input.rng,
     maxT: input.maxT === true,
     keepNull: input.keepNull === true,
     onProgress: input.onProgress,
     shouldCancel: input.shouldCancel,
   });
-  return assembleLinearResult(setup.observed, runs.counts, runs.maxAbs, runs.nulls, runs.exact, runs.rearrangements);
+  return assembleLinearResult(
+    setup.observed,
+    runs.counts,
+    runs.maxAbs,
+    runs.nulls,
+    runs.exact,
+    runs.rearrangements,
+  );
 }
 
 /** Regions on one set of participants, for `sharedLinearPermutationTest`. */
@@ -154,7 +169,12 @@ function labelled<T>(label: string | undefined, f: () => T): T {
   try {
     return f();
   } catch (e) {
-    if (label !== undefined && e instanceof StatsError && e.code !== "cancelled" && !e.message.startsWith("region '")) {
+    if (
+      label !== undefined &&
+      e instanceof StatsError &&
+      e.code !== "cancelled" &&
+      !e.message.startsWith("region '")
+    ) {
       throw new StatsError(`region '${label}': ${e.message}`, e.code);
     }
     throw e;
@@ -162,14 +182,21 @@ function labelled<T>(label: string | undefined, f: () => T): T {
 }
 
 /** Checks that every one of n participants is listed in some member list. Cost O(n + Σ m). */
-function checkCovered(name: string, n: number, lists: readonly { members: Int32Array; label?: string }[]): void {
+function checkCovered(
+  name: string,
+  n: number,
+  lists: readonly { members: Int32Array; label?: string }[],
+): void {
   const covered = new Uint8Array(n);
   for (const list of lists) {
     labelled(list.label, () => memberPositions(n, list.members));
     for (const a of list.members) covered[a] = 1;
   }
   const missing = covered.indexOf(0);
-  if (missing >= 0) throw new StatsError(`${name} requires every participant to belong to a region (participant ${missing} is in none)`);
+  if (missing >= 0)
+    throw new StatsError(
+      `${name} requires every participant to belong to a region (participant ${missing} is in none)`,
+    );
 }
 
 /**
@@ -181,21 +208,31 @@ function checkCovered(name: string, n: number, lists: readonly { members: Int32A
  * O(Σ n·p² + n·p·R). Throws StatsError for malformed blocks, naming the
  * block's label.
  */
-export function prepareSharedLinearPermutation(input: Omit<SharedLinearPermutationInput, "rng" | "onProgress" | "shouldCancel">): SharedLinearPermutationSetup {
+export function prepareSharedLinearPermutation(
+  input: Omit<SharedLinearPermutationInput, "rng" | "onProgress" | "shouldCancel">,
+): SharedLinearPermutationSetup {
   const name = "linearPermutationTest";
   const N = input.participants;
-  if (!(Number.isInteger(N) && N >= 1)) throw new StatsError(`${name} requires at least one participant (got ${N})`);
+  if (!(Number.isInteger(N) && N >= 1))
+    throw new StatsError(`${name} requires at least one participant (got ${N})`);
   if (input.blocks.length === 0) throw new StatsError(`${name} requires at least one region`);
   for (const b of input.blocks) {
     if (b.members.length !== b.n) {
-      throw new StatsError(`${name} requires members to list the block's n = ${b.n} participants (got ${b.members.length})`);
+      throw new StatsError(
+        `${name} requires members to list the block's n = ${b.n} participants (got ${b.members.length})`,
+      );
     }
   }
   checkCovered(name, N, input.blocks);
   const single = input.blocks.length === 1;
   const blocks: RegionBlock[] = input.blocks.map((b) =>
     labelled(b.label, () => {
-      const setup = prepareLinearPermutation({ ...b, scheme: input.scheme, resamples: input.resamples, shared: !single });
+      const setup = prepareLinearPermutation({
+        ...b,
+        scheme: input.scheme,
+        resamples: input.resamples,
+        shared: !single,
+      });
       return {
         plan: setup.plan,
         members: b.n === N ? null : b.members,
@@ -207,7 +244,12 @@ export function prepareSharedLinearPermutation(input: Omit<SharedLinearPermutati
   );
   const draw: RearrangementDraw = single
     ? drawOfPlan(blocks[0].plan)
-    : { kind: input.scheme === "sign-flip" ? "signs" : "permutations", n: N, firstGroupSize: 0, resamples: input.resamples };
+    : {
+        kind: input.scheme === "sign-flip" ? "signs" : "permutations",
+        n: N,
+        firstGroupSize: 0,
+        resamples: input.resamples,
+      };
   const observed = new Float64Array(blocks.reduce((sum, b) => sum + b.observed.length, 0));
   let offset = 0;
   for (const b of blocks) {
@@ -233,7 +275,9 @@ export function prepareSharedLinearPermutation(input: Omit<SharedLinearPermutati
  * rearrangement: see `countExtremeRearrangements`. Throws StatsError as
  * `prepareSharedLinearPermutation` and with code "cancelled".
  */
-export function sharedLinearPermutationTest(input: SharedLinearPermutationInput): LinearPermutationResult {
+export function sharedLinearPermutationTest(
+  input: SharedLinearPermutationInput,
+): LinearPermutationResult {
   const setup = prepareSharedLinearPermutation(input);
   const runs = countExtremeRearrangements({
     draw: setup.draw,
@@ -244,7 +288,14 @@ export function sharedLinearPermutationTest(input: SharedLinearPermutationInput)
     onProgress: input.onProgress,
     shouldCancel: input.shouldCancel,
   });
-  return assembleLinearResult(setup.observed, runs.counts, runs.maxAbs, runs.nulls, runs.exact, runs.rearrangements);
+  return assembleLinearResult(
+    setup.observed,
+    runs.counts,
+    runs.maxAbs,
+    runs.nulls,
+    runs.exact,
+    runs.rearrangements,
+  );
 }
 
 /**
@@ -269,7 +320,8 @@ export function assembleLinearResult(
     const sorted = Float64Array.from(maxAbs).sort();
     for (let r = 0; r < regions; r++) {
       // count of maxima ≥ threshold = M − (index of the first one ≥ threshold)
-      pMaxT[r] = (rearrangements - lowerBound(sorted, extremeThreshold(observed[r]))) / rearrangements;
+      pMaxT[r] =
+        (rearrangements - lowerBound(sorted, extremeThreshold(observed[r]))) / rearrangements;
     }
   }
   return { observed, p, pMaxT, exact, rearrangements, nullStatistics: nulls, maxNull: maxAbs };
@@ -340,16 +392,21 @@ export function genericPermutationTest(input: GenericPermutationInput): GenericP
     throw new StatsError(`${name} requires scheme "sign-flip" or "labels" (got ${String(scheme)})`);
   }
   if (!(Number.isInteger(n) && n >= (scheme === "labels" ? 2 : 1))) {
-    throw new StatsError(`${name} requires at least ${scheme === "labels" ? 2 : 1} units (got n = ${n})`);
+    throw new StatsError(
+      `${name} requires at least ${scheme === "labels" ? 2 : 1} units (got n = ${n})`,
+    );
   }
   if (!(Number.isInteger(resamples) && resamples >= 1)) {
     throw new StatsError(`${name} requires resamples to be a positive integer (got ${resamples})`);
   }
   if (groupSizes !== undefined) {
     const [a, b] = groupSizes;
-    if (scheme !== "labels") throw new StatsError(`${name} requires scheme "labels" when groupSizes are given`);
+    if (scheme !== "labels")
+      throw new StatsError(`${name} requires scheme "labels" when groupSizes are given`);
     if (!(Number.isInteger(a) && Number.isInteger(b) && a >= 1 && b >= 1 && a + b === n)) {
-      throw new StatsError(`${name} requires groupSizes to be two positive integers summing to n = ${n} (got ${a}, ${b})`);
+      throw new StatsError(
+        `${name} requires groupSizes to be two positive integers summing to n = ${n} (got ${a}, ${b})`,
+      );
     }
   }
   const walk = createRearranger({
@@ -366,7 +423,9 @@ export function genericPermutationTest(input: GenericPermutationInput): GenericP
     walk.next();
     const value = statistic(Int32Array.from(walk.order), Float64Array.from(walk.signs));
     if (typeof value !== "number" || Number.isNaN(value)) {
-      throw new StatsError(`${name} requires the statistic to return a number for every rearrangement (rearrangement ${k} gave ${String(value)})`);
+      throw new StatsError(
+        `${name} requires the statistic to return a number for every rearrangement (rearrangement ${k} gave ${String(value)})`,
+      );
     }
     if (k === 0 && !Number.isFinite(value)) {
       throw new StatsError(`${name} requires a finite observed statistic (got ${value})`);
@@ -437,12 +496,16 @@ export function sharedGenericPermutationTest(input: {
 }): SharedGenericPermutationResult {
   const name = "genericPermutationTest";
   const { participants: N, regions, scheme, resamples, rng } = input;
-  if (scheme !== "sign-flip" && scheme !== "labels") throw new StatsError(`${name} requires scheme "sign-flip" or "labels" (got ${String(scheme)})`);
+  if (scheme !== "sign-flip" && scheme !== "labels")
+    throw new StatsError(`${name} requires scheme "sign-flip" or "labels" (got ${String(scheme)})`);
   if (regions.length === 0) throw new StatsError(`${name} requires at least one region`);
   if (!(Number.isInteger(N) && N >= (scheme === "labels" ? 2 : 1))) {
-    throw new StatsError(`${name} requires at least ${scheme === "labels" ? 2 : 1} units (got n = ${N})`);
+    throw new StatsError(
+      `${name} requires at least ${scheme === "labels" ? 2 : 1} units (got n = ${N})`,
+    );
   }
-  if (!(Number.isInteger(resamples) && resamples >= 1)) throw new StatsError(`${name} requires resamples to be a positive integer (got ${resamples})`);
+  if (!(Number.isInteger(resamples) && resamples >= 1))
+    throw new StatsError(`${name} requires resamples to be a positive integer (got ${resamples})`);
   checkCovered(name, N, regions);
   let walk: { readonly total: number; readonly exact: boolean; next(): void };
   let arrange: (region: number) => { order: Int32Array; signs: Float64Array };
@@ -450,16 +513,40 @@ export function sharedGenericPermutationTest(input: {
     const sizes = regions[0].groupSizes;
     for (const r of regions) {
       const g = r.groupSizes;
-      if (g?.[0] !== sizes?.[0] || g?.[1] !== sizes?.[1]) throw new StatsError(`${name} requires the same group sizes in every region`);
+      if (g?.[0] !== sizes?.[0] || g?.[1] !== sizes?.[1])
+        throw new StatsError(`${name} requires the same group sizes in every region`);
     }
-    if (sizes && !(scheme === "labels" && Number.isInteger(sizes[0]) && Number.isInteger(sizes[1]) && sizes[0] >= 1 && sizes[1] >= 1 && sizes[0] + sizes[1] === N)) {
-      throw new StatsError(`${name} requires groupSizes to be two positive integers summing to n = ${N} (got ${sizes[0]}, ${sizes[1]})`);
+    if (
+      sizes &&
+      !(
+        scheme === "labels" &&
+        Number.isInteger(sizes[0]) &&
+        Number.isInteger(sizes[1]) &&
+        sizes[0] >= 1 &&
+        sizes[1] >= 1 &&
+        sizes[0] + sizes[1] === N
+      )
+    ) {
+      throw new StatsError(
+        `${name} requires groupSizes to be two positive integers summing to n = ${N} (got ${sizes[0]}, ${sizes[1]})`,
+      );
     }
-    const w = createRearranger({ kind: scheme === "sign-flip" ? "signs" : sizes ? "subsets" : "permutations", n: N, resamples, rng, firstGroupSize: sizes?.[0] });
+    const w = createRearranger({
+      kind: scheme === "sign-flip" ? "signs" : sizes ? "subsets" : "permutations",
+      n: N,
+      resamples,
+      rng,
+      firstGroupSize: sizes?.[0],
+    });
     walk = w;
     arrange = () => ({ order: Int32Array.from(w.order), signs: Float64Array.from(w.signs) });
   } else {
-    const w = createSharedRearranger({ kind: scheme === "sign-flip" ? "signs" : "permutations", n: N, resamples, rng });
+    const w = createSharedRearranger({
+      kind: scheme === "sign-flip" ? "signs" : "permutations",
+      n: N,
+      resamples,
+      rng,
+    });
     const prepared = regions.map((r) => {
       const m = r.members.length;
       const slots = r.slots ?? Int32Array.from({ length: m }, (_, k) => k);
@@ -495,9 +582,16 @@ export function sharedGenericPermutationTest(input: {
       const { order, signs } = arrange(r);
       const value = regions[r].statistic(order, signs);
       if (typeof value !== "number" || Number.isNaN(value)) {
-        throw labelledError(regions[r].label, `${name} requires the statistic to return a number for every rearrangement (rearrangement ${k} gave ${String(value)})`);
+        throw labelledError(
+          regions[r].label,
+          `${name} requires the statistic to return a number for every rearrangement (rearrangement ${k} gave ${String(value)})`,
+        );
       }
-      if (k === 0 && !Number.isFinite(value)) throw labelledError(regions[r].label, `${name} requires a finite observed statistic (got ${value})`);
+      if (k === 0 && !Number.isFinite(value))
+        throw labelledError(
+          regions[r].label,
+          `${name} requires a finite observed statistic (got ${value})`,
+        );
       nullStatistics[r][k] = value;
     }
     report(k + 1);

@@ -4,7 +4,12 @@
  * be observed, so the same true effect needs more participants.
  */
 import { StatsError } from "./errors";
-import { noncentralTCdf, normalCdf, normalQuantile, studentTQuantile } from "./measurement-distributions";
+import {
+  noncentralTCdf,
+  normalCdf,
+  normalQuantile,
+  studentTQuantile,
+} from "./measurement-distributions";
 import type { Rng } from "./rng";
 
 export type PowerDesign = "correlation" | "two-group" | "one-sample";
@@ -71,18 +76,33 @@ interface Checked {
 function checkQuestion(input: PowerQuestion, name: string): Checked {
   const { design, effect, alpha } = input;
   if (design !== "correlation" && design !== "two-group" && design !== "one-sample") {
-    throw new StatsError(`${name} requires design "correlation", "two-group" or "one-sample" (got ${String(design)})`);
+    throw new StatsError(
+      `${name} requires design "correlation", "two-group" or "one-sample" (got ${String(design)})`,
+    );
   }
-  if (!Number.isFinite(effect) || effect === 0) throw new StatsError(`${name} requires a non-zero finite effect (got ${effect})`);
-  if (design === "correlation" && !(Math.abs(effect) < 1)) throw new StatsError(`${name} requires a correlation effect between −1 and 1 (got ${effect})`);
-  if (!(alpha > 0 && alpha < 1)) throw new StatsError(`${name} requires alpha between 0 and 1 (got ${alpha})`);
+  if (!Number.isFinite(effect) || effect === 0)
+    throw new StatsError(`${name} requires a non-zero finite effect (got ${effect})`);
+  if (design === "correlation" && !(Math.abs(effect) < 1))
+    throw new StatsError(`${name} requires a correlation effect between −1 and 1 (got ${effect})`);
+  if (!(alpha > 0 && alpha < 1))
+    throw new StatsError(`${name} requires alpha between 0 and 1 (got ${alpha})`);
   const relBrain = input.reliabilityBrain ?? 1;
   const relTrait = input.reliabilityTrait ?? 1;
-  if (!(relBrain > 0 && relBrain <= 1)) throw new StatsError(`${name} requires reliabilityBrain greater than 0 and at most 1 (got ${relBrain})`);
-  if (!(relTrait > 0 && relTrait <= 1)) throw new StatsError(`${name} requires reliabilityTrait greater than 0 and at most 1 (got ${relTrait})`);
+  if (!(relBrain > 0 && relBrain <= 1))
+    throw new StatsError(
+      `${name} requires reliabilityBrain greater than 0 and at most 1 (got ${relBrain})`,
+    );
+  if (!(relTrait > 0 && relTrait <= 1))
+    throw new StatsError(
+      `${name} requires reliabilityTrait greater than 0 and at most 1 (got ${relTrait})`,
+    );
   const ratio = input.groupRatio ?? 1;
-  if (!(Number.isFinite(ratio) && ratio > 0)) throw new StatsError(`${name} requires a positive groupRatio (got ${ratio})`);
-  const observable = design === "correlation" ? effect * Math.sqrt(relBrain * relTrait) : effect * Math.sqrt(relBrain);
+  if (!(Number.isFinite(ratio) && ratio > 0))
+    throw new StatsError(`${name} requires a positive groupRatio (got ${ratio})`);
+  const observable =
+    design === "correlation"
+      ? effect * Math.sqrt(relBrain * relTrait)
+      : effect * Math.sqrt(relBrain);
   return { design, observable, alpha, ratio };
 }
 
@@ -147,26 +167,45 @@ export function powerAt(input: PowerAtInput): PowerAtResult {
     const groups = input.nPerGroup ?? splitTotal(input.n, q.ratio);
     const [n1, n2] = groups;
     if (!(Number.isInteger(n1) && Number.isInteger(n2) && n1 >= 2 && n2 >= 2)) {
-      throw new StatsError(`powerAt requires at least two participants in each group (got ${n1} and ${n2})`);
+      throw new StatsError(
+        `powerAt requires at least two participants in each group (got ${n1} and ${n2})`,
+      );
     }
-    return { power: twoGroupPower(q.observable, n1, n2, q.alpha), observableEffect: q.observable, nPerGroup: [n1, n2] };
+    return {
+      power: twoGroupPower(q.observable, n1, n2, q.alpha),
+      observableEffect: q.observable,
+      nPerGroup: [n1, n2],
+    };
   }
   const n = input.n;
   const minimum = q.design === "correlation" ? 4 : 2;
-  if (!(Number.isInteger(n) && n >= minimum)) throw new StatsError(`powerAt requires n of at least ${minimum} participants for ${q.design} (got ${n})`);
-  const power = q.design === "correlation" ? correlationPower(q.observable, n, q.alpha) : oneSamplePower(q.observable, n, q.alpha);
+  if (!(Number.isInteger(n) && n >= minimum))
+    throw new StatsError(
+      `powerAt requires n of at least ${minimum} participants for ${q.design} (got ${n})`,
+    );
+  const power =
+    q.design === "correlation"
+      ? correlationPower(q.observable, n, q.alpha)
+      : oneSamplePower(q.observable, n, q.alpha);
   return { power, observableEffect: q.observable };
 }
 
 /** Smallest integer m ≥ lo with ok(m), for a monotone predicate; StatsError beyond max. */
-function smallestSatisfying(ok: (m: number) => boolean, lo: number, max: number, name: string): number {
+function smallestSatisfying(
+  ok: (m: number) => boolean,
+  lo: number,
+  max: number,
+  name: string,
+): number {
   if (ok(lo)) return lo;
   let bad = lo;
   let good = lo * 2;
   while (!ok(good)) {
     bad = good;
     if (good >= max) {
-      throw new StatsError(`${name} requires an effect large enough to reach the target power with at most ${MAX_PLANNED_PARTICIPANTS} participants`);
+      throw new StatsError(
+        `${name} requires an effect large enough to reach the target power with at most ${MAX_PLANNED_PARTICIPANTS} participants`,
+      );
     }
     good = Math.min(max, good * 2);
   }
@@ -210,22 +249,36 @@ const CURVE_POINTS = 30;
 export function planSampleSize(input: PlanSampleSizeInput): PlanSampleSizeResult {
   const q = checkQuestion(input, "planSampleSize");
   const target = input.power;
-  if (!(target > 0 && target < 1)) throw new StatsError(`planSampleSize requires a target power between 0 and 1 (got ${target})`);
+  if (!(target > 0 && target < 1))
+    throw new StatsError(`planSampleSize requires a target power between 0 and 1 (got ${target})`);
 
   if (q.design === "correlation") {
     const zSum = normalQuantile(1 - q.alpha / 2) + normalQuantile(target);
     const exact = (zSum / Math.atanh(Math.abs(q.observable))) ** 2 + 3;
     if (!(exact <= MAX_PLANNED_PARTICIPANTS)) {
-      throw new StatsError(`planSampleSize requires an effect large enough to reach the target power with at most ${MAX_PLANNED_PARTICIPANTS} participants`);
+      throw new StatsError(
+        `planSampleSize requires an effect large enough to reach the target power with at most ${MAX_PLANNED_PARTICIPANTS} participants`,
+      );
     }
     const n = Math.max(4, Math.ceil(exact - 1e-9));
-    const curve = grid(4, Math.max(2 * n, 14), n, CURVE_POINTS).map((m) => ({ n: m, power: correlationPower(q.observable, m, q.alpha) }));
+    const curve = grid(4, Math.max(2 * n, 14), n, CURVE_POINTS).map((m) => ({
+      n: m,
+      power: correlationPower(q.observable, m, q.alpha),
+    }));
     return { n, observableEffect: q.observable, curve };
   }
 
   if (q.design === "one-sample") {
-    const n = smallestSatisfying((m) => oneSamplePower(q.observable, m, q.alpha) >= target, 2, MAX_PLANNED_PARTICIPANTS, "planSampleSize");
-    const curve = grid(2, Math.max(2 * n, 12), n, CURVE_POINTS).map((m) => ({ n: m, power: oneSamplePower(q.observable, m, q.alpha) }));
+    const n = smallestSatisfying(
+      (m) => oneSamplePower(q.observable, m, q.alpha) >= target,
+      2,
+      MAX_PLANNED_PARTICIPANTS,
+      "planSampleSize",
+    );
+    const curve = grid(2, Math.max(2 * n, 12), n, CURVE_POINTS).map((m) => ({
+      n: m,
+      power: oneSamplePower(q.observable, m, q.alpha),
+    }));
     return { n, observableEffect: q.observable, curve };
   }
 
@@ -264,7 +317,10 @@ export interface VarianceComponents {
  * σ²_true / (σ²_true + (σ²_design + σ²_noise/T) / S). Cost O(1).
  * Callers validate the components (non-negative, true differences > 0).
  */
-export function componentReliability(components: VarianceComponents, options: { sessions?: number; trials?: number } = {}): number {
+export function componentReliability(
+  components: VarianceComponents,
+  options: { sessions?: number; trials?: number } = {},
+): number {
   const sessions = options.sessions ?? 1;
   const trials = options.trials ?? 1;
   const { measurementNoise, taskDesign, trueDifferences } = components;
@@ -366,21 +422,40 @@ export function simulatePower(input: SimulatePowerInput): SimulatePowerResult {
     ["taskDesign", taskDesign],
     ["trueDifferences", trueDifferences],
   ] as const) {
-    if (!(Number.isFinite(value) && value >= 0)) throw new StatsError(`simulatePower requires components.${name} to be a finite variance of at least 0 (got ${value})`);
+    if (!(Number.isFinite(value) && value >= 0))
+      throw new StatsError(
+        `simulatePower requires components.${name} to be a finite variance of at least 0 (got ${value})`,
+      );
   }
-  if (!(trueDifferences > 0)) throw new StatsError("simulatePower requires components.trueDifferences greater than 0 (the effect is in its units)");
-  if (!(Number.isInteger(sessions) && sessions >= 1)) throw new StatsError(`simulatePower requires sessions to be a whole number of at least 1 (got ${sessions})`);
-  if (!(Number.isInteger(trials) && trials >= 1)) throw new StatsError(`simulatePower requires trials to be a whole number of at least 1 (got ${trials})`);
+  if (!(trueDifferences > 0))
+    throw new StatsError(
+      "simulatePower requires components.trueDifferences greater than 0 (the effect is in its units)",
+    );
+  if (!(Number.isInteger(sessions) && sessions >= 1))
+    throw new StatsError(
+      `simulatePower requires sessions to be a whole number of at least 1 (got ${sessions})`,
+    );
+  if (!(Number.isInteger(trials) && trials >= 1))
+    throw new StatsError(
+      `simulatePower requires trials to be a whole number of at least 1 (got ${trials})`,
+    );
   if (!(Number.isInteger(simulations) && simulations >= 1 && simulations <= 1_000_000)) {
-    throw new StatsError(`simulatePower requires simulations between 1 and 1000000 (got ${simulations})`);
+    throw new StatsError(
+      `simulatePower requires simulations between 1 and 1000000 (got ${simulations})`,
+    );
   }
-  if (input.nValues.length === 0) throw new StatsError("simulatePower requires at least one study size in nValues");
+  if (input.nValues.length === 0)
+    throw new StatsError("simulatePower requires at least one study size in nValues");
   for (const [index, n] of input.nValues.entries()) {
     const groups = design === "two-group" ? splitTotal(n, ratio) : null;
     const minimum = design === "correlation" ? 4 : 2;
-    const valid = Number.isInteger(n) && (groups === null ? n >= minimum : groups[0] >= 2 && groups[1] >= 2);
+    const valid =
+      Number.isInteger(n) && (groups === null ? n >= minimum : groups[0] >= 2 && groups[1] >= 2);
     if (!valid) {
-      const need = design === "two-group" ? "at least two participants in each group" : `at least ${minimum} participants`;
+      const need =
+        design === "two-group"
+          ? "at least two participants in each group"
+          : `at least ${minimum} participants`;
       throw new StatsError(`simulatePower requires ${need} (nValues[${index}] is ${n})`);
     }
   }
@@ -464,7 +539,12 @@ export function simulatePower(input: SimulatePowerInput): SimulatePowerResult {
       }
     }
     const power = rejections / simulations;
-    points.push({ n, power, se: Math.sqrt((power * (1 - power)) / simulations), formulaPower: formula.power });
+    points.push({
+      n,
+      power,
+      se: Math.sqrt((power * (1 - power)) / simulations),
+      formulaPower: formula.power,
+    });
   }
   return { reliability, observableEffect: effect * Math.sqrt(reliability), points };
 }

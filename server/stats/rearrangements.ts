@@ -43,7 +43,11 @@ export function extremeThreshold(observed: number): number {
 }
 
 /** Number of distinct rearrangements M (may be Infinity for large n). Cost O(n). */
-export function countRearrangements(kind: RearrangementKind, n: number, firstGroupSize = 0): number {
+export function countRearrangements(
+  kind: RearrangementKind,
+  n: number,
+  firstGroupSize = 0,
+): number {
   if (kind === "signs") return 2 ** n;
   if (kind === "permutations") {
     let f = 1;
@@ -95,7 +99,8 @@ export function createRearranger(input: {
 }): Rearranger {
   const { kind, n, resamples, rng } = input;
   const n1 = input.firstGroupSize ?? 0;
-  if (!(Number.isInteger(n) && n >= 1)) throw new StatsError("rearrangements require at least one unit");
+  if (!(Number.isInteger(n) && n >= 1))
+    throw new StatsError("rearrangements require at least one unit");
   if (kind === "subsets" && !(Number.isInteger(n1) && n1 >= 1 && n1 < n)) {
     throw new StatsError("rearrangements of two groups require both groups to be non-empty");
   }
@@ -240,7 +245,12 @@ export interface SharedRearranger {
  * Creates the shared walk over n participants. Cost O(n) per step.
  * Throws StatsError for n < 1.
  */
-export function createSharedRearranger(input: { kind: "signs" | "permutations"; n: number; resamples: number; rng: Rng }): SharedRearranger {
+export function createSharedRearranger(input: {
+  kind: "signs" | "permutations";
+  n: number;
+  resamples: number;
+  rng: Rng;
+}): SharedRearranger {
   const walk = createRearranger(input);
   const sigma = new Int32Array(input.n);
   const shared: SharedRearranger = {
@@ -275,7 +285,9 @@ export function memberPositions(n: number, members: Int32Array): Int32Array {
   for (let k = 0; k < members.length; k++) {
     const a = members[k];
     if (!(Number.isInteger(a) && a >= 0 && a < n && (k === 0 || a > members[k - 1]))) {
-      throw new StatsError(`shared rearrangements require increasing participant positions between 0 and ${n - 1} (got ${a} at ${k})`);
+      throw new StatsError(
+        `shared rearrangements require increasing participant positions between 0 and ${n - 1} (got ${a} at ${k})`,
+      );
     }
     local[a] = k;
   }

@@ -64,7 +64,10 @@ function numericColumn(data: FitData, name: string): readonly (number | null)[] 
 
 function groupColumn(data: FitData, name: string): readonly (string | null)[] {
   if (Object.hasOwn(data.categoricalColumns, name)) return data.categoricalColumns[name];
-  if (Object.hasOwn(data.numericColumns, name)) return data.numericColumns[name].map((v) => (v === null || !Number.isFinite(v) ? null : String(v)));
+  if (Object.hasOwn(data.numericColumns, name))
+    return data.numericColumns[name].map((v) =>
+      v === null || !Number.isFinite(v) ? null : String(v),
+    );
   throw new StatsError(`regionPlot: unknown column '${name}'`);
 }
 
@@ -107,19 +110,38 @@ export function regionPlot(
     return i;
   });
   const values = data.values[r];
-  const predictor = spec.kind === "association" && spec.predictor ? numericColumn(data, spec.predictor) : null;
-  const group = spec.group && (spec.kind === "two-group" || spec.kind === "association") ? groupColumn(data, spec.group) : null;
+  const predictor =
+    spec.kind === "association" && spec.predictor ? numericColumn(data, spec.predictor) : null;
+  const group =
+    spec.group && (spec.kind === "two-group" || spec.kind === "association")
+      ? groupColumn(data, spec.group)
+      : null;
   const points: PlotPoint[] = rows.map((i) => {
     const y = values[i];
-    if (!Number.isFinite(y)) throw new StatsError(`regionPlot: participant '${data.participants[i]}' has no value in region '${region}'`);
-    return { participant: data.participants[i], x: predictor ? predictor[i] : null, group: group ? group[i] : null, y };
+    if (!Number.isFinite(y))
+      throw new StatsError(
+        `regionPlot: participant '${data.participants[i]}' has no value in region '${region}'`,
+      );
+    return {
+      participant: data.participants[i],
+      x: predictor ? predictor[i] : null,
+      group: group ? group[i] : null,
+      y,
+    };
   });
   const notes: string[] = [];
   const y = points.map((p) => p.y);
   if (spec.kind === "one-sample") {
-    return { points, band: null, groupMeans: points.length > 0 ? [groupMean("all participants", y, level, notes)] : null, notes };
+    return {
+      points,
+      band: null,
+      groupMeans: points.length > 0 ? [groupMean("all participants", y, level, notes)] : null,
+      notes,
+    };
   }
-  const present = Array.from(new Set(points.map((p) => p.group).filter((g): g is string => g !== null))).sort(compareCodePoints);
+  const present = Array.from(
+    new Set(points.map((p) => p.group).filter((g): g is string => g !== null)),
+  ).sort(compareCodePoints);
   const levels = spec.levels ? [spec.levels[0], spec.levels[1]] : present;
   if (spec.kind === "two-group") {
     const groupMeans = levels.map((label) =>
@@ -132,7 +154,8 @@ export function regionPlot(
     );
     return { points, band: null, groupMeans: groupMeans.filter((g) => g.n > 0), notes };
   }
-  if (spec.kind !== "association" || !predictor) return { points, band: null, groupMeans: null, notes };
+  if (spec.kind !== "association" || !predictor)
+    return { points, band: null, groupMeans: null, notes };
   // Association: the model's least-squares design, as the fit builds it.
   const n = points.length;
   const x = Float64Array.from(points, (p) => p.x as number);
@@ -144,12 +167,22 @@ export function regionPlot(
   if (group && levels.length === 2) {
     indicator = Float64Array.from(points, (p) => (p.group === levels[0] ? 1 : 0));
     terms.push({ name: `${spec.group}: ${levels[0]}`, kind: "numeric", values: indicator });
-    if (spec.interaction) terms.push({ name: `${spec.predictor} × ${spec.group}: ${levels[0]}`, kind: "product", values: x, indicator });
+    if (spec.interaction)
+      terms.push({
+        name: `${spec.predictor} × ${spec.group}: ${levels[0]}`,
+        kind: "product",
+        values: x,
+        indicator,
+      });
   }
   for (const name of spec.covariates) {
     if (Object.hasOwn(data.numericColumns, name)) {
       const col = data.numericColumns[name];
-      terms.push({ name, kind: "numeric", values: Float64Array.from(rows, (i) => col[i] as number) });
+      terms.push({
+        name,
+        kind: "numeric",
+        values: Float64Array.from(rows, (i) => col[i] as number),
+      });
     } else if (Object.hasOwn(data.categoricalColumns, name)) {
       const col = data.categoricalColumns[name];
       terms.push({ name, kind: "categorical", values: rows.map((i) => col[i] as string) });
@@ -170,7 +203,9 @@ export function regionPlot(
       if (v < lo) lo = v;
       if (v > hi) hi = v;
     }
-    const grid = Array.from({ length: gridPoints }, (_, k) => (gridPoints === 1 ? lo : lo + ((hi - lo) * k) / (gridPoints - 1)));
+    const grid = Array.from({ length: gridPoints }, (_, k) =>
+      gridPoints === 1 ? lo : lo + ((hi - lo) * k) / (gridPoints - 1),
+    );
     const lineFor = (label: string, g: number | null): BandLine => {
       const designRows = grid.map((gx) => {
         const row = Array.from(means);
@@ -185,7 +220,9 @@ export function regionPlot(
       return { label, points: fitted.map((f, k) => ({ x: grid[k], ...f })) };
     };
     const lines =
-      spec.interaction && indicator ? [lineFor(levels[0], 1), lineFor(levels[1], 0)] : [lineFor("all participants", null)];
+      spec.interaction && indicator
+        ? [lineFor(levels[0], 1), lineFor(levels[1], 0)]
+        : [lineFor("all participants", null)];
     band = {
       method:
         spec.covariates.length > 0 || (indicator && !spec.interaction)
@@ -194,7 +231,10 @@ export function regionPlot(
       level,
       lines,
     };
-    if (spec.estimator !== "ols") notes.push(`The line is the least-squares fit, drawn for reference; the region's estimate comes from estimator '${spec.estimator}'.`);
+    if (spec.estimator !== "ols")
+      notes.push(
+        `The line is the least-squares fit, drawn for reference; the region's estimate comes from estimator '${spec.estimator}'.`,
+      );
   } catch (e) {
     if (!(e instanceof StatsError)) throw e;
     notes.push(`No fitted line: ${e.message}.`);

@@ -47,7 +47,10 @@ function bendScores(x: Numbers, beta: number, name: string): Float64Array {
   w.sort();
   const k = Math.floor((1 - beta) * n + 0.5);
   const omega = w[Math.min(Math.max(k, 1), n) - 1];
-  if (!(omega > 0)) throw new StatsError(`percentageBendCorrelation requires ${name} to vary within its central ${Math.round((1 - beta) * 100)}%`);
+  if (!(omega > 0))
+    throw new StatsError(
+      `percentageBendCorrelation requires ${name} to vary within its central ${Math.round((1 - beta) * 100)}%`,
+    );
   let i1 = 0;
   let i2 = 0;
   let s = 0;
@@ -71,13 +74,20 @@ function bendScores(x: Numbers, beta: number, name: string): Float64Array {
  * Throws StatsError for fewer than four pairs, unequal lengths, non-finite
  * values, 0 ≤ β < 0.5 violated, or a variable constant in its central part.
  */
-export function percentageBendCorrelation(x: Numbers, y: Numbers, options: { beta?: number } = {}): PercentageBendResult {
+export function percentageBendCorrelation(
+  x: Numbers,
+  y: Numbers,
+  options: { beta?: number } = {},
+): PercentageBendResult {
   const { beta = 0.2 } = options;
-  require(x.length === y.length, "percentageBendCorrelation requires two variables of equal length");
+  require(x.length ===
+    y.length, "percentageBendCorrelation requires two variables of equal length");
   const n = x.length;
   require(n >= 4, "percentageBendCorrelation requires at least four pairs");
   require(beta >= 0 && beta < 0.5, "percentageBendCorrelation requires 0 ≤ beta < 0.5");
-  for (let i = 0; i < n; i++) require(Number.isFinite(x[i]) && Number.isFinite(y[i]), "percentageBendCorrelation requires finite values");
+  for (let i = 0; i < n; i++)
+    require(Number.isFinite(x[i]) &&
+      Number.isFinite(y[i]), "percentageBendCorrelation requires finite values");
   const a = bendScores(x, beta, "the first variable");
   const b = bendScores(y, beta, "the second variable");
   let sab = 0;
@@ -171,12 +181,18 @@ export function projectionOutliers(x: Numbers, y: Numbers): number[] {
  * pairs, unequal lengths, non-finite values, constant variables, or fewer
  * than three points left after removing outliers.
  */
-export function skippedCorrelation(x: Numbers, y: Numbers, options: { level?: number } = {}): SkippedCorrelationResult {
+export function skippedCorrelation(
+  x: Numbers,
+  y: Numbers,
+  options: { level?: number } = {},
+): SkippedCorrelationResult {
   const { level = 0.95 } = options;
   require(x.length === y.length, "skippedCorrelation requires two variables of equal length");
   const n = x.length;
   require(n >= 5, "skippedCorrelation requires at least five pairs");
-  for (let i = 0; i < n; i++) require(Number.isFinite(x[i]) && Number.isFinite(y[i]), "skippedCorrelation requires finite values");
+  for (let i = 0; i < n; i++)
+    require(Number.isFinite(x[i]) &&
+      Number.isFinite(y[i]), "skippedCorrelation requires finite values");
   const outliers = projectionOutliers(x, y);
   const removed = new Set(outliers);
   const kx: number[] = [];
@@ -190,7 +206,8 @@ export function skippedCorrelation(x: Numbers, y: Numbers, options: { level?: nu
   const nKept = kx.length;
   require(nKept >= 3, "skippedCorrelation requires at least three points after removing outliers");
   const r = pearsonR(kx, ky);
-  require(r !== null, "skippedCorrelation requires variables that are not constant after removing outliers");
+  require(r !==
+    null, "skippedCorrelation requires variables that are not constant after removing outliers");
   const df = nKept - 2;
   const ci = fisherInterval(r, nKept, { level });
   const adjustedT = Math.abs(r) < 1 ? Math.abs(r) * Math.sqrt((n - 2) / (1 - r * r)) : null;

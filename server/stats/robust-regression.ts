@@ -73,7 +73,14 @@ function derivativeOf(psi: RobustPsi, u: number, tuning: number): number {
   return t < 1 ? (1 - t) * (1 - 5 * t) : 0;
 }
 
-function weightedFit(x: ArrayLike<number>, n: number, p: number, y: ArrayLike<number>, w: Float64Array | null, names: readonly string[]) {
+function weightedFit(
+  x: ArrayLike<number>,
+  n: number,
+  p: number,
+  y: ArrayLike<number>,
+  w: Float64Array | null,
+  names: readonly string[],
+) {
   const xs = new Float64Array(n * p);
   const ys = new Float64Array(n);
   for (let i = 0; i < n; i++) {
@@ -124,12 +131,18 @@ export function robustLinearModel(
   require(n > p, "robustLinearModel requires more participants than coefficients");
   require(tuning > 0, "robustLinearModel requires a positive tuning constant");
   for (let i = 0; i < n; i++) {
-    if (!Number.isFinite(y[i])) throw new StatsError(`robustLinearModel requires finite responses (row ${i + 1})`);
+    if (!Number.isFinite(y[i]))
+      throw new StatsError(`robustLinearModel requires finite responses (row ${i + 1})`);
   }
   let coefficients: Float64Array;
   let residuals: Float64Array;
   if (start === "huber" && psi !== "huber") {
-    const h = robustLinearModel(x, n, p, y, { psi: "huber", maxIterations, acc, columnNames: names });
+    const h = robustLinearModel(x, n, p, y, {
+      psi: "huber",
+      maxIterations,
+      acc,
+      columnNames: names,
+    });
     coefficients = h.coefficients;
     residuals = h.residuals;
   } else {
@@ -164,7 +177,8 @@ export function robustLinearModel(
       break;
     }
   }
-  require(scale > 0, "robustLinearModel requires residuals that are not mostly zero (the robust scale is 0)");
+  require(scale >
+    0, "robustLinearModel requires residuals that are not mostly zero (the robust scale is 0)");
   // Standard errors (rlm summary, method "XtX").
   const df = n - p;
   let sumPsi2 = 0;
@@ -178,7 +192,8 @@ export function robustLinearModel(
     meanD += deriv[i];
   }
   meanD /= n;
-  require(meanD > 0, "robustLinearModel requires residuals inside the central region of the ψ function");
+  require(meanD >
+    0, "robustLinearModel requires residuals inside the central region of the ψ function");
   let varD = 0;
   for (let i = 0; i < n; i++) varD += (deriv[i] - meanD) * (deriv[i] - meanD);
   varD /= n - 1;
@@ -215,7 +230,11 @@ export function robustLinearModel(
 }
 
 /** Two-sided Student-t interval for coefficient j of a robust fit (n − p df). */
-export function robustCoefficientInterval(fit: RobustFit, j: number, level = 0.95): { low: number; high: number } {
+export function robustCoefficientInterval(
+  fit: RobustFit,
+  j: number,
+  level = 0.95,
+): { low: number; high: number } {
   const q = studentTQuantile(0.5 + level / 2, fit.df);
   return { low: fit.coefficients[j] - q * fit.se[j], high: fit.coefficients[j] + q * fit.se[j] };
 }

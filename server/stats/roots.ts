@@ -10,7 +10,13 @@
  */
 import { StatsError } from "./errors";
 
-export function brentRoot(f: (x: number) => number, a: number, b: number, tol = 1e-10, maxIterations = 200): number {
+export function brentRoot(
+  f: (x: number) => number,
+  a: number,
+  b: number,
+  tol = 1e-10,
+  maxIterations = 200,
+): number {
   let fa = f(a);
   let fb = f(b);
   if (fa === 0) return a;

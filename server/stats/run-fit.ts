@@ -54,15 +54,38 @@
  * kind, too few participants, and every method precondition. A cancelled fit
  * throws StatsError with code "cancelled".
  */
-import { type DataShape, dataProblems, minimumParticipants, minimumPerGroup, type SpecProblem, specProblems } from "../model/fit-rules";
-import { type FitData, type FitResult, type ModelSpec, type ParticipantDiagnostics, type RegionResult, modelSpecSchema } from "../model/spec";
+import {
+  type DataShape,
+  dataProblems,
+  minimumParticipants,
+  minimumPerGroup,
+  type SpecProblem,
+  specProblems,
+} from "../model/fit-rules";
+import {
+  type FitData,
+  type FitResult,
+  type ModelSpec,
+  type ParticipantDiagnostics,
+  type RegionResult,
+  modelSpecSchema,
+} from "../model/spec";
 import { bootstrapInterval } from "./bootstrap";
 import { adjustPValues } from "./corrections";
 import { leaveOneOutCorrelations } from "./compare-correlations";
 import { type Design, type DesignTerm, buildDesign, compareCodePoints } from "./design-matrix";
 import { regressionDiagnostics } from "./diagnostics";
 import { StatsError } from "./errors";
-import { type Estimator, type Kind, type RegionData, bootstrapP, bootstrapStatistic, estimateRegion, olsFit, permutationStatistic } from "./fit-methods";
+import {
+  type Estimator,
+  type Kind,
+  type RegionData,
+  bootstrapP,
+  bootstrapStatistic,
+  estimateRegion,
+  olsFit,
+  permutationStatistic,
+} from "./fit-methods";
 import { type IntraclassCorrelation, intraclassCorrelations } from "./icc";
 import { type QrDecomposition, qrDecompose, unscaledCovariance } from "./linear-model";
 import { weightedLinearModel } from "./meta-regression";
@@ -80,7 +103,9 @@ export const FIT_LEVEL = 0.95;
 /** Bins of the permutation null histogram. */
 export const NULL_HISTOGRAM_BINS = 40;
 
-type Covariate = { name: string; numeric: readonly (number | null)[] } | { name: string; categorical: readonly (string | null)[] };
+type Covariate =
+  | { name: string; numeric: readonly (number | null)[] }
+  | { name: string; categorical: readonly (string | null)[] };
 
 interface Prepared {
   spec: ModelSpec;
@@ -115,16 +140,21 @@ function parseSpec(spec: ModelSpec): ModelSpec {
 
 function checkData(data: FitData): void {
   const n = data.participants.length;
-  if (data.values.length !== data.regions.length) fail("fit data: values must have one row per region");
+  if (data.values.length !== data.regions.length)
+    fail("fit data: values must have one row per region");
   data.values.forEach((v, r) => {
-    if (v.length !== n) fail(`fit data: region '${data.regions[r]}' has ${v.length} values for ${n} participants`);
+    if (v.length !== n)
+      fail(`fit data: region '${data.regions[r]}' has ${v.length} values for ${n} participants`);
   });
-  if (new Set(data.participants).size !== n) fail("fit data: participant identifiers must be unique");
+  if (new Set(data.participants).size !== n)
+    fail("fit data: participant identifiers must be unique");
   for (const [name, col] of Object.entries(data.numericColumns)) {
-    if (col.length !== n) fail(`fit data: column '${name}' has ${col.length} values for ${n} participants`);
+    if (col.length !== n)
+      fail(`fit data: column '${name}' has ${col.length} values for ${n} participants`);
   }
   for (const [name, col] of Object.entries(data.categoricalColumns)) {
-    if (col.length !== n) fail(`fit data: column '${name}' has ${col.length} values for ${n} participants`);
+    if (col.length !== n)
+      fail(`fit data: column '${name}' has ${col.length} values for ${n} participants`);
   }
 }
 
@@ -133,7 +163,10 @@ function has(record: Readonly<Record<string, unknown>>, key: string): boolean {
 }
 
 /** Participants set aside from every region, and per region, from the spec's set-aside list. Throws StatsError for unknown names. */
-function setAsides(spec: ModelSpec, data: FitData): { asideAll: Uint8Array; asideRegion: Map<string, Set<number>> } {
+function setAsides(
+  spec: ModelSpec,
+  data: FitData,
+): { asideAll: Uint8Array; asideRegion: Map<string, Set<number>> } {
   const n = data.participants.length;
   const asideAll = new Uint8Array(n);
   const asideRegion = new Map<string, Set<number>>();
@@ -142,7 +175,8 @@ function setAsides(spec: ModelSpec, data: FitData): { asideAll: Uint8Array; asid
     if (i < 0) fail(`setAside: unknown participant '${entry.participant}'`);
     if (entry.region === undefined) asideAll[i] = 1;
     else {
-      if (!data.regions.includes(entry.region)) fail(`setAside: unknown region '${entry.region}' for participant '${entry.participant}'`);
+      if (!data.regions.includes(entry.region))
+        fail(`setAside: unknown region '${entry.region}' for participant '${entry.participant}'`);
       const set = asideRegion.get(entry.region) ?? new Set<number>();
       set.add(i);
       asideRegion.set(entry.region, set);
@@ -155,7 +189,10 @@ function setAsides(spec: ModelSpec, data: FitData): { asideAll: Uint8Array; asid
 function levelsPresent(data: FitData, column: string, asideAll: Uint8Array): string[] | undefined {
   let values: readonly (string | null)[];
   if (has(data.categoricalColumns, column)) values = data.categoricalColumns[column];
-  else if (has(data.numericColumns, column)) values = data.numericColumns[column].map((v) => (v === null || !Number.isFinite(v) ? null : String(v)));
+  else if (has(data.numericColumns, column))
+    values = data.numericColumns[column].map((v) =>
+      v === null || !Number.isFinite(v) ? null : String(v),
+    );
   else return undefined;
   const present = new Set<string>();
   values.forEach((g, i) => {
@@ -177,7 +214,12 @@ function shapeOf(data: FitData, asideAll: Uint8Array): DataShape {
 }
 
 /** The rules of fit-rules.ts on the model and the shape of the data: every problem. */
-function ruleProblems(spec: ModelSpec, data: FitData, asideAll: Uint8Array, naming: Pick<DataShape, "brainTable" | "participantSheet"> = {}): SpecProblem[] {
+function ruleProblems(
+  spec: ModelSpec,
+  data: FitData,
+  asideAll: Uint8Array,
+  naming: Pick<DataShape, "brainTable" | "participantSheet"> = {},
+): SpecProblem[] {
   return [...specProblems(spec), ...dataProblems(spec, { ...shapeOf(data, asideAll), ...naming })];
 }
 
@@ -191,21 +233,31 @@ function prepare(specIn: ModelSpec, data: FitData): Prepared {
 }
 
 /** The columns and levels a valid model names (the rules have passed). */
-function resolve(spec: ModelSpec, data: FitData, asideAll: Uint8Array, asideRegion: Map<string, Set<number>>): Prepared {
+function resolve(
+  spec: ModelSpec,
+  data: FitData,
+  asideAll: Uint8Array,
+  asideRegion: Map<string, Set<number>>,
+): Prepared {
   const wanted = spec.regions && spec.regions.length > 0 ? spec.regions : data.regions;
   const regionIndex = wanted.map((name) => data.regions.indexOf(name));
-  const predictor = spec.kind === "association" && spec.predictor ? data.numericColumns[spec.predictor] : null;
+  const predictor =
+    spec.kind === "association" && spec.predictor ? data.numericColumns[spec.predictor] : null;
   let group: readonly (string | null)[] | null = null;
   let levels: [string, string] | null = null;
   if (spec.group) {
     group = has(data.categoricalColumns, spec.group)
       ? data.categoricalColumns[spec.group]
-      : data.numericColumns[spec.group].map((v) => (v === null || !Number.isFinite(v) ? null : String(v)));
+      : data.numericColumns[spec.group].map((v) =>
+          v === null || !Number.isFinite(v) ? null : String(v),
+        );
     const found = levelsPresent(data, spec.group, asideAll) as string[];
     levels = spec.levels ? [spec.levels[0], spec.levels[1]] : [found[0], found[1]];
   }
   const covariates: Covariate[] = spec.covariates.map((name) =>
-    has(data.numericColumns, name) ? { name, numeric: data.numericColumns[name] } : { name, categorical: data.categoricalColumns[name] },
+    has(data.numericColumns, name)
+      ? { name, numeric: data.numericColumns[name] }
+      : { name, categorical: data.categoricalColumns[name] },
   );
   return { spec, data, regionIndex, predictor, group, levels, covariates, asideAll, asideRegion };
 }
@@ -227,7 +279,10 @@ function regionRows(prep: Prepared, r: number): number[] {
     const need = minimumPerGroup(s.estimator);
     for (const level of prep.levels as [string, string]) {
       const count = rows.filter((i) => g[i] === level).length;
-      if (count < need) fail(`group level '${level}' has ${count} participant${count === 1 ? "" : "s"} (at least ${need} needed)`);
+      if (count < need)
+        fail(
+          `group level '${level}' has ${count} participant${count === 1 ? "" : "s"} (at least ${need} needed)`,
+        );
     }
   }
   return rows;
@@ -238,7 +293,8 @@ function sessionMatrix(prep: Prepared, r: number): number[][] {
   const { data } = prep;
   const sessions = data.sessions as NonNullable<FitData["sessions"]>;
   const bySession = sessions.values[r];
-  if (!bySession || bySession.length !== sessions.labels.length) fail("sessions: expected one value array per session");
+  if (!bySession || bySession.length !== sessions.labels.length)
+    fail("sessions: expected one value array per session");
   const aside = prep.asideRegion.get(data.regions[r]);
   const matrix: number[][] = [];
   for (let i = 0; i < data.participants.length; i++) {
@@ -246,7 +302,8 @@ function sessionMatrix(prep: Prepared, r: number): number[][] {
     const row = bySession.map((v) => v[i]);
     if (row.every((v) => Number.isFinite(v))) matrix.push(row);
   }
-  if (matrix.length < 2) fail(`too few participants with every session (n = ${matrix.length}; at least 2 needed)`);
+  if (matrix.length < 2)
+    fail(`too few participants with every session (n = ${matrix.length}; at least 2 needed)`);
   return matrix;
 }
 
@@ -300,8 +357,9 @@ function rowsFor(prep: Prepared, r: number): number[] {
   const name = data.regions[r];
   const aside = asideRegion.get(name);
   const values = data.values[r];
-  const se = spec.weights === "first-level-se" ? data.standardErrors?.[r] ?? null : null;
-  if (spec.weights === "first-level-se" && !se) fail(`weights: region '${name}' has no standard errors`);
+  const se = spec.weights === "first-level-se" ? (data.standardErrors?.[r] ?? null) : null;
+  if (spec.weights === "first-level-se" && !se)
+    fail(`weights: region '${name}' has no standard errors`);
   const rows: number[] = [];
   for (let i = 0; i < data.participants.length; i++) {
     if (asideAll[i] || aside?.has(i)) continue;
@@ -334,14 +392,24 @@ function rowsFor(prep: Prepared, r: number): number[] {
   return rows;
 }
 
-function designFor(prep: Prepared, rows: readonly number[]): { design: Design; tested: number; covariateColumns: number; x: Float64Array | null; groupIndicator: Float64Array | null } {
+function designFor(
+  prep: Prepared,
+  rows: readonly number[],
+): {
+  design: Design;
+  tested: number;
+  covariateColumns: number;
+  x: Float64Array | null;
+  groupIndicator: Float64Array | null;
+} {
   const { spec, predictor, group, levels, covariates } = prep;
   const n = rows.length;
   const terms: DesignTerm[] = [{ name: "(intercept)", kind: "intercept" }];
   let tested = 0;
   let x: Float64Array | null = null;
   let groupIndicator: Float64Array | null = null;
-  if (group && levels) groupIndicator = Float64Array.from(rows, (i) => (group[i] === levels[0] ? 1 : 0));
+  if (group && levels)
+    groupIndicator = Float64Array.from(rows, (i) => (group[i] === levels[0] ? 1 : 0));
   if (spec.kind === "two-group") {
     const g = groupIndicator as Float64Array;
     terms.push({ name: `${spec.group}: ${levels?.[0]}`, kind: "numeric", values: g });
@@ -353,9 +421,18 @@ function designFor(prep: Prepared, rows: readonly number[]): { design: Design; t
     terms.push({ name: spec.predictor as string, kind: "numeric", values: x });
     tested = 1;
     if (groupIndicator) {
-      terms.push({ name: `${spec.group}: ${levels?.[0]}`, kind: "numeric", values: groupIndicator });
+      terms.push({
+        name: `${spec.group}: ${levels?.[0]}`,
+        kind: "numeric",
+        values: groupIndicator,
+      });
       if (spec.interaction) {
-        terms.push({ name: `${spec.predictor} × ${spec.group}: ${levels?.[0]}`, kind: "product", values: x, indicator: groupIndicator });
+        terms.push({
+          name: `${spec.predictor} × ${spec.group}: ${levels?.[0]}`,
+          kind: "product",
+          values: x,
+          indicator: groupIndicator,
+        });
         tested = 3;
       }
     }
@@ -372,14 +449,24 @@ function designFor(prep: Prepared, rows: readonly number[]): { design: Design; t
       }
       terms.push({ name: c.name, kind: "numeric", values });
     } else {
-      terms.push({ name: c.name, kind: "categorical", values: rows.map((i) => c.categorical[i] as string) });
+      terms.push({
+        name: c.name,
+        kind: "categorical",
+        values: rows.map((i) => c.categorical[i] as string),
+      });
     }
   }
   const design = buildDesign(n, terms);
   let covariateColumns = 0;
   for (const t of design.termColumns.slice(before)) covariateColumns += t.columns.length;
   if (spec.kind === "association" && groupIndicator && !spec.interaction) covariateColumns += 1;
-  return { design, tested, covariateColumns, x, groupIndicator: spec.kind === "association" ? groupIndicator : null };
+  return {
+    design,
+    tested,
+    covariateColumns,
+    x,
+    groupIndicator: spec.kind === "association" ? groupIndicator : null,
+  };
 }
 
 function inRegion<T>(region: string, f: () => T): T {
@@ -426,7 +513,8 @@ function nullHistogram(values: ArrayLike<number>, observed: number, bins = NULL_
 /** Throws if any number in the result is NaN or ±Infinity: no such value may leave the engine. */
 function assertFinite(value: unknown, path: string): void {
   const bad = findNonFinite(value);
-  if (bad !== null) throw new StatsError(`internal: the fit produced a non-finite number at ${path}${bad}`);
+  if (bad !== null)
+    throw new StatsError(`internal: the fit produced a non-finite number at ${path}${bad}`);
 }
 
 function findNonFinite(value: unknown): string | null {
@@ -488,7 +576,17 @@ export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = 
       const rows = regionRows(prep, r);
       const { design, tested, covariateColumns, x, groupIndicator } = designFor(prep, rows);
       const y = Float64Array.from(rows, (i) => data.values[r][i]);
-      const regionData: RegionData = { kind, estimator: s.estimator as Estimator, y, design, tested, covariateColumns, x, groupIndicator, level: FIT_LEVEL };
+      const regionData: RegionData = {
+        kind,
+        estimator: s.estimator as Estimator,
+        y,
+        design,
+        tested,
+        covariateColumns,
+        x,
+        groupIndicator,
+        level: FIT_LEVEL,
+      };
       const key = `${rows.join(",")}`;
       let qr: QrDecomposition | null = qrCache.get(key) ?? null;
       if (!qr && design.n > design.p) {
@@ -535,9 +633,14 @@ export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = 
   if (s.inference === "bootstrap") bootstrapPass(prep, works, options, notes);
   // Correction over regions.
   if (s.correction === "maxt") {
-    notes.push("Adjusted p: family-wise p-values from the maximum |statistic| over regions in the same rearrangements (max-T).");
+    notes.push(
+      "Adjusted p: family-wise p-values from the maximum |statistic| over regions in the same rearrangements (max-T).",
+    );
   } else {
-    const adjusted = adjustPValues(works.map((w) => w.result.p), s.correction);
+    const adjusted = adjustPValues(
+      works.map((w) => w.result.p),
+      s.correction,
+    );
     works.forEach((w, k) => {
       w.result.pAdjusted = adjusted[k];
     });
@@ -666,7 +769,12 @@ function diagnosticsFor(
       }
     }
     if (loK >= 0) {
-      result.leaveOneOut = { estimateMin: lo, estimateMax: hi, minWithout: ids[rows[loK]], maxWithout: ids[rows[hiK]] };
+      result.leaveOneOut = {
+        estimateMin: lo,
+        estimateMax: hi,
+        minWithout: ids[rows[loK]],
+        maxWithout: ids[rows[hiK]],
+      };
     }
     if (d.kind === "association" && d.design.p === 2) {
       try {
@@ -756,7 +864,8 @@ function weightedRegion(prep: Prepared, r: number, rows: number[], d: RegionData
 }
 
 function scaledProgress(options: RunFitOptions, start: number, span: number) {
-  return (f: number) => options.onProgress?.(Math.min(1, start + span * Math.min(1, Math.max(0, f))));
+  return (f: number) =>
+    options.onProgress?.(Math.min(1, start + span * Math.min(1, Math.max(0, f))));
 }
 
 /**
@@ -781,7 +890,12 @@ function scaledProgress(options: RunFitOptions, start: number, span: number) {
  * with all N participants sees, draw for draw, what it sees alone (sign
  * flips, Freedman–Lane orders).
  */
-function permutationPass(prep: Prepared, works: RegionWork[], options: RunFitOptions, notes: string[]): void {
+function permutationPass(
+  prep: Prepared,
+  works: RegionWork[],
+  options: RunFitOptions,
+  notes: string[],
+): void {
   const s = prep.spec;
   const maxT = s.correction === "maxt";
   // The shared participants: available in at least one region, in roster order.
@@ -807,7 +921,15 @@ function permutationPass(prep: Prepared, works: RegionWork[], options: RunFitOpt
       participants: shared,
       blocks: lists.map((list) => {
         const d = list[0].data;
-        return { design: d.design.x, n: d.design.n, p: d.design.p, tested: d.tested, y: list.map((w) => w.data.y), members: membersOf(list[0].rows), label: list[0].name };
+        return {
+          design: d.design.x,
+          n: d.design.n,
+          p: d.design.p,
+          tested: d.tested,
+          y: list.map((w) => w.data.y),
+          members: membersOf(list[0].rows),
+          label: list[0].name,
+        };
       }),
       scheme,
       resamples: s.resamples,
@@ -821,7 +943,15 @@ function permutationPass(prep: Prepared, works: RegionWork[], options: RunFitOpt
     for (const list of lists) {
       for (const w of list) {
         const nulls = res.nullStatistics?.[k] ?? new Float32Array(0);
-        applyPermutation(w, res.p[k], res.observed[k], res.exact, res.rearrangements, nulls, scheme === "sign-flip" ? "sign flipping" : "Freedman–Lane");
+        applyPermutation(
+          w,
+          res.p[k],
+          res.observed[k],
+          res.exact,
+          res.rearrangements,
+          nulls,
+          scheme === "sign-flip" ? "sign flipping" : "Freedman–Lane",
+        );
         if (res.pMaxT) w.result.pAdjusted = res.pMaxT[k];
         k++;
       }
@@ -849,7 +979,15 @@ function permutationPass(prep: Prepared, works: RegionWork[], options: RunFitOpt
       shouldCancel: options.shouldCancel,
     });
     works.forEach((w, idx) => {
-      applyPermutation(w, res.p[idx], res.observed[idx], res.exact, res.rearrangements, res.nullStatistics[idx], plans[idx].name);
+      applyPermutation(
+        w,
+        res.p[idx],
+        res.observed[idx],
+        res.exact,
+        res.rearrangements,
+        res.nullStatistics[idx],
+        plans[idx].name,
+      );
     });
     if (maxT) {
       const m = res.rearrangements;
@@ -866,12 +1004,16 @@ function permutationPass(prep: Prepared, works: RegionWork[], options: RunFitOpt
         w.result.pAdjusted = count / m;
       });
     }
-    notes.push("p: permutation test of the estimator's statistic (generic rearrangement test; the same rearrangements in every region).");
+    notes.push(
+      "p: permutation test of the estimator's statistic (generic rearrangement test; the same rearrangements in every region).",
+    );
   }
   if (differ) {
     notes.push(
       `Regions differ in participants (empty cells or set-asides in one region): each region is fitted on its own participants, and all regions share one rearrangement of the ${shared} participants available in at least one region — ${
-        s.kind === "one-sample" ? "one sign vector, each region taking the signs of its own participants" : "one order, each region keeping its own participants in that order"
+        s.kind === "one-sample"
+          ? "one sign vector, each region taking the signs of its own participants"
+          : "one order, each region keeping its own participants in that order"
       } — so the rearranged statistics of all regions come from the same draws (Westfall & Young 1993; Winkler et al. 2014). Rearrangements are enumerated exhaustively only when the ${shared} participants have at most ${s.resamples} of them (${
         s.kind === "one-sample" ? `2^${shared} sign vectors` : `${shared}! orders`
       }).`,
@@ -896,7 +1038,12 @@ function applyPermutation(
   res.nullHistogram = nullHistogram(nulls, observed);
 }
 
-function bootstrapPass(prep: Prepared, works: RegionWork[], options: RunFitOptions, notes: string[]): void {
+function bootstrapPass(
+  prep: Prepared,
+  works: RegionWork[],
+  options: RunFitOptions,
+  notes: string[],
+): void {
   const s = prep.spec;
   const total = works.length;
   const method = s.estimator === "skipped" || s.estimator === "bend" ? "percentile" : "bca";
@@ -923,11 +1070,19 @@ function bootstrapPass(prep: Prepared, works: RegionWork[], options: RunFitOptio
     r.pAdjusted = r.p;
     r.statistic = null;
     r.df = null;
-    if (s.kind === "association" && (s.estimator === "rank" || s.estimator === "skipped" || s.estimator === "bend")) {
+    if (
+      s.kind === "association" &&
+      (s.estimator === "rank" || s.estimator === "skipped" || s.estimator === "bend")
+    ) {
       r.rCiLow = res.ciLow;
       r.rCiHigh = res.ciHigh;
     }
-    r.bootstrap = { method, resamples: s.resamples, kept: res.distribution.length, discarded: res.discarded };
+    r.bootstrap = {
+      method,
+      resamples: s.resamples,
+      kept: res.distribution.length,
+      discarded: res.discarded,
+    };
     options.onProgress?.(Math.min(1, 0.1 + (0.9 * (idx + 1)) / total));
   });
   notes.push(
@@ -975,7 +1130,8 @@ function runReliability(prep: Prepared, options: RunFitOptions): FitResult {
         pAdjusted: main.p,
         ciLow: main.ciLow,
         ciHigh: main.ciHigh,
-        method: "intraclass correlation ICC(2,1), two-way random effects, absolute agreement (Shrout & Fleiss 1979)",
+        method:
+          "intraclass correlation ICC(2,1), two-way random effects, absolute agreement (Shrout & Fleiss 1979)",
         sessions: k,
         df1: main.df1,
         df2: main.df2,
@@ -990,8 +1146,12 @@ function runReliability(prep: Prepared, options: RunFitOptions): FitResult {
     options.onProgress?.((idx + 1) / prep.regionIndex.length);
   });
   const notes: string[] = [];
-  if (spec.correction === "maxt") fail("correction: max-T correction requires permutation inference");
-  const adjusted = adjustPValues(regions.map((x) => x.p), spec.correction);
+  if (spec.correction === "maxt")
+    fail("correction: max-T correction requires permutation inference");
+  const adjusted = adjustPValues(
+    regions.map((x) => x.p),
+    spec.correction,
+  );
   regions.forEach((x, i) => {
     x.pAdjusted = adjusted[i];
   });

@@ -13,7 +13,13 @@
  * Interval: Fisher z with variance 1.06/(n − 3) (Fieller, Hartley &
  * Pearson 1957).
  */
-import { type CorrelationResult, correlationP, correlationT, fisherInterval, pearsonR } from "./correlation";
+import {
+  type CorrelationResult,
+  correlationP,
+  correlationT,
+  fisherInterval,
+  pearsonR,
+} from "./correlation";
 import { require } from "./errors";
 import { spearmanDistribution, twoSidedExactP } from "./exact-rank-distributions";
 import { averageRanks } from "./ranks";
@@ -32,12 +38,18 @@ export interface SpearmanResult extends CorrelationResult {
  * Throws StatsError for fewer than three pairs, unequal lengths, non-finite
  * values or a constant variable.
  */
-export function spearmanCorrelation(x: ArrayLike<number>, y: ArrayLike<number>, options: { level?: number } = {}): SpearmanResult {
+export function spearmanCorrelation(
+  x: ArrayLike<number>,
+  y: ArrayLike<number>,
+  options: { level?: number } = {},
+): SpearmanResult {
   const { level = 0.95 } = options;
   require(x.length === y.length, "spearmanCorrelation requires two variables of equal length");
   const n = x.length;
   require(n >= 3, "spearmanCorrelation requires at least three pairs");
-  for (let i = 0; i < n; i++) require(Number.isFinite(x[i]) && Number.isFinite(y[i]), "spearmanCorrelation requires finite values");
+  for (let i = 0; i < n; i++)
+    require(Number.isFinite(x[i]) &&
+      Number.isFinite(y[i]), "spearmanCorrelation requires finite values");
   const rx = averageRanks(x);
   const ry = averageRanks(y);
   const r = pearsonR(rx.ranks, ry.ranks);
@@ -51,5 +63,15 @@ export function spearmanCorrelation(x: ArrayLike<number>, y: ArrayLike<number>, 
   const exact = n <= SPEARMAN_EXACT_MAX_N && rx.ties.length === 0 && ry.ties.length === 0;
   const p = exact ? twoSidedExactP(spearmanDistribution(n), s) : correlationP(r, df);
   const ci = fisherInterval(r, n, { level, variance: n > 3 ? 1.06 / (n - 3) : undefined });
-  return { n, r, t: exact ? null : correlationT(r, df), df, p, ciLow: ci.low, ciHigh: ci.high, exact, s };
+  return {
+    n,
+    r,
+    t: exact ? null : correlationT(r, df),
+    df,
+    p,
+    ciLow: ci.low,
+    ciHigh: ci.high,
+    exact,
+    s,
+  };
 }

@@ -25,12 +25,22 @@ export interface TwoSampleTResult {
 
 function check(name: string, x1: ArrayLike<number>, x2: ArrayLike<number>, level: number): void {
   require(x1.length >= 2 && x2.length >= 2, `${name} requires at least two values per group`);
-  for (let i = 0; i < x1.length; i++) require(Number.isFinite(x1[i]), `${name} requires finite values`);
-  for (let i = 0; i < x2.length; i++) require(Number.isFinite(x2[i]), `${name} requires finite values`);
+  for (let i = 0; i < x1.length; i++)
+    require(Number.isFinite(x1[i]), `${name} requires finite values`);
+  for (let i = 0; i < x2.length; i++)
+    require(Number.isFinite(x2[i]), `${name} requires finite values`);
   require(level > 0 && level < 1, `${name} requires 0 < level < 1`);
 }
 
-function finish(n1: number, n2: number, m1: number, m2: number, se: number, df: number, level: number): TwoSampleTResult {
+function finish(
+  n1: number,
+  n2: number,
+  m1: number,
+  m2: number,
+  se: number,
+  df: number,
+  level: number,
+): TwoSampleTResult {
   const estimate = m1 - m2;
   const t = estimate / se;
   const q = studentTQuantile(0.5 + level / 2, df);
@@ -56,7 +66,11 @@ function finish(n1: number, n2: number, m1: number, m2: number, se: number, df: 
  * Throws StatsError for fewer than two values per group, non-finite values or
  * zero pooled variance.
  */
-export function studentTTest(x1: ArrayLike<number>, x2: ArrayLike<number>, options: { level?: number } = {}): TwoSampleTResult {
+export function studentTTest(
+  x1: ArrayLike<number>,
+  x2: ArrayLike<number>,
+  options: { level?: number } = {},
+): TwoSampleTResult {
   const { level = 0.95 } = options;
   check("studentTTest", x1, x2, level);
   const n1 = x1.length;
@@ -72,7 +86,11 @@ export function studentTTest(x1: ArrayLike<number>, x2: ArrayLike<number>, optio
  * Cost O(n1 + n2). Throws StatsError for fewer than two values per group,
  * non-finite values, or both groups constant.
  */
-export function welchTTest(x1: ArrayLike<number>, x2: ArrayLike<number>, options: { level?: number } = {}): TwoSampleTResult {
+export function welchTTest(
+  x1: ArrayLike<number>,
+  x2: ArrayLike<number>,
+  options: { level?: number } = {},
+): TwoSampleTResult {
   const { level = 0.95 } = options;
   check("welchTTest", x1, x2, level);
   const n1 = x1.length;

@@ -20,7 +20,11 @@
 import { sortedCopy } from "./descriptive";
 import { normalCdf, normalQuantile } from "./distributions";
 import { require } from "./errors";
-import { discreteQuantile, signedRankDistribution, twoSidedExactP } from "./exact-rank-distributions";
+import {
+  discreteQuantile,
+  signedRankDistribution,
+  twoSidedExactP,
+} from "./exact-rank-distributions";
 import { kthWalshSum, walshMedian } from "./hodges-lehmann";
 import { averageRanks } from "./ranks";
 
@@ -81,7 +85,13 @@ export function wilcoxonSignedRank(
     const centred = v - (n * (n + 1)) / 4;
     z = (centred - 0.5 * Math.sign(centred)) / Math.sqrt(variance);
     p = Math.min(1, 2 * Math.min(normalCdf(z), normalCdf(-z)));
-    k = Math.max(1, Math.floor((n * (n + 1)) / 4 - normalQuantile(1 - alpha / 2) * Math.sqrt((n * (n + 1) * (2 * n + 1)) / 24)));
+    k = Math.max(
+      1,
+      Math.floor(
+        (n * (n + 1)) / 4 -
+          normalQuantile(1 - alpha / 2) * Math.sqrt((n * (n + 1) * (2 * n + 1)) / 24),
+      ),
+    );
   }
   k = Math.min(k, Math.floor((total + 1) / 2));
   return {

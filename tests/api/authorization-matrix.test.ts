@@ -50,56 +50,137 @@ interface Row {
   state?: "deleted" | "archived";
 }
 
-const all = (status: number): Expected => ({ owner: status, analyst: status, reviewer: status, viewer: status, outsider: status, anonymous: status });
+const all = (status: number): Expected => ({
+  owner: status,
+  analyst: status,
+  reviewer: status,
+  viewer: status,
+  outsider: status,
+  anonymous: status,
+});
 const signedIn = (status: number): Expected => ({ ...all(status), anonymous: 401 });
 const members = (status: number): Expected => ({ ...all(status), outsider: 404, anonymous: 401 });
-const ownerOnly = (status: number): Expected => ({ owner: status, analyst: 403, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 });
-const makers = (status: number): Expected => ({ owner: status, analyst: status, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 });
+const ownerOnly = (status: number): Expected => ({
+  owner: status,
+  analyst: 403,
+  reviewer: 403,
+  viewer: 403,
+  outsider: 404,
+  anonymous: 401,
+});
+const makers = (status: number): Expected => ({
+  owner: status,
+  analyst: status,
+  reviewer: 403,
+  viewer: 403,
+  outsider: 404,
+  anonymous: 401,
+});
 
 const matrix: Record<string, Row> = {
   "GET /api/health": { path: () => "/api/health", expected: all(200) },
   "GET /api/auth-options": { path: () => "/api/auth-options", expected: all(200) },
   "GET /api/me": { path: () => "/api/me", expected: signedIn(200) },
   "GET /api/dev/mail": { path: () => "/api/dev/mail", expected: all(200) },
-  "POST /api/dev/demo-sign-in": { path: () => "/api/dev/demo-sign-in", body: () => ({ email: "viewer@demo.covarion.test" }), expected: all(200) },
+  "POST /api/dev/demo-sign-in": {
+    path: () => "/api/dev/demo-sign-in",
+    body: () => ({ email: "viewer@demo.covarion.test" }),
+    expected: all(200),
+  },
   "GET /api/studies": { path: () => "/api/studies", expected: signedIn(200) },
-  "POST /api/planner": { path: () => "/api/planner", body: () => ({ design: "correlation", effect: 0.3 }), expected: signedIn(200) },
-  "POST /api/studies": { path: () => "/api/studies", body: (f) => ({ name: `Matrix study ${f.n}` }), expected: signedIn(201) },
+  "POST /api/planner": {
+    path: () => "/api/planner",
+    body: () => ({ design: "correlation", effect: 0.3 }),
+    expected: signedIn(200),
+  },
+  "POST /api/studies": {
+    path: () => "/api/studies",
+    body: (f) => ({ name: `Matrix study ${f.n}` }),
+    expected: signedIn(201),
+  },
   "GET /api/studies/:studyId": { path: (f) => `/api/studies/${f.studyId}`, expected: members(200) },
-  "PATCH /api/studies/:studyId": { path: (f) => `/api/studies/${f.studyId}`, body: () => ({ name: "Renamed" }), expected: ownerOnly(200) },
-  "DELETE /api/studies/:studyId": { path: (f) => `/api/studies/${f.studyId}`, body: (f) => ({ confirm: f.studyName }), expected: ownerOnly(204) },
+  "PATCH /api/studies/:studyId": {
+    path: (f) => `/api/studies/${f.studyId}`,
+    body: () => ({ name: "Renamed" }),
+    expected: ownerOnly(200),
+  },
+  "DELETE /api/studies/:studyId": {
+    path: (f) => `/api/studies/${f.studyId}`,
+    body: (f) => ({ confirm: f.studyName }),
+    expected: ownerOnly(204),
+  },
   // The study's life cycle: only its Owner restores a deleted study, archives and unarchives.
-  "POST /api/studies/:studyId/restore": { path: (f) => `/api/studies/${f.studyId}/restore`, expected: ownerOnly(200), state: "deleted" },
-  "POST /api/studies/:studyId/archive": { path: (f) => `/api/studies/${f.studyId}/archive`, expected: ownerOnly(200) },
-  "POST /api/studies/:studyId/unarchive": { path: (f) => `/api/studies/${f.studyId}/unarchive`, expected: ownerOnly(200), state: "archived" },
-  "GET /api/studies/:studyId/members": { path: (f) => `/api/studies/${f.studyId}/members`, expected: members(200) },
+  "POST /api/studies/:studyId/restore": {
+    path: (f) => `/api/studies/${f.studyId}/restore`,
+    expected: ownerOnly(200),
+    state: "deleted",
+  },
+  "POST /api/studies/:studyId/archive": {
+    path: (f) => `/api/studies/${f.studyId}/archive`,
+    expected: ownerOnly(200),
+  },
+  "POST /api/studies/:studyId/unarchive": {
+    path: (f) => `/api/studies/${f.studyId}/unarchive`,
+    expected: ownerOnly(200),
+    state: "archived",
+  },
+  "GET /api/studies/:studyId/members": {
+    path: (f) => `/api/studies/${f.studyId}/members`,
+    expected: members(200),
+  },
   "PATCH /api/studies/:studyId/members/:userId": {
     path: (f) => `/api/studies/${f.studyId}/members/${f.targetUserId}`,
     body: () => ({ role: "analyst" }),
     expected: ownerOnly(200),
   },
-  "DELETE /api/studies/:studyId/members/:userId": { path: (f) => `/api/studies/${f.studyId}/members/${f.targetUserId}`, expected: ownerOnly(204) },
-  "GET /api/studies/:studyId/invitations": { path: (f) => `/api/studies/${f.studyId}/invitations`, expected: ownerOnly(200) },
+  "DELETE /api/studies/:studyId/members/:userId": {
+    path: (f) => `/api/studies/${f.studyId}/members/${f.targetUserId}`,
+    expected: ownerOnly(204),
+  },
+  "GET /api/studies/:studyId/invitations": {
+    path: (f) => `/api/studies/${f.studyId}/invitations`,
+    expected: ownerOnly(200),
+  },
   "POST /api/studies/:studyId/invitations": {
     path: (f) => `/api/studies/${f.studyId}/invitations`,
     body: (f) => ({ email: `invitee${f.n}@lab.example`, role: "viewer" }),
     expected: ownerOnly(201),
   },
-  "DELETE /api/studies/:studyId/invitations/:invitationId": { path: (f) => `/api/studies/${f.studyId}/invitations/${f.invitationId}`, expected: ownerOnly(204) },
+  "DELETE /api/studies/:studyId/invitations/:invitationId": {
+    path: (f) => `/api/studies/${f.studyId}/invitations/${f.invitationId}`,
+    expected: ownerOnly(204),
+  },
   "GET /api/invitations/:token": { path: (f) => `/api/invitations/${f.token}`, expected: all(200) },
   // The fixture's invitation is addressed to the outsider: only they may accept it; members get 403 (wrong address).
   "POST /api/invitations/:token/accept": {
     path: (f) => `/api/invitations/${f.token}/accept`,
-    expected: { owner: 403, analyst: 403, reviewer: 403, viewer: 403, outsider: 200, anonymous: 401 },
+    expected: {
+      owner: 403,
+      analyst: 403,
+      reviewer: 403,
+      viewer: 403,
+      outsider: 200,
+      anonymous: 401,
+    },
   },
   // Data intake (datasets and roster). The fixture study has no datasets: an unknown dataset answers 404
   // to members, a JSON body without a file 400 to those who may upload, mappings 409 before both tables exist.
   "POST /api/studies/:studyId/datasets": {
     path: (f) => `/api/studies/${f.studyId}/datasets`,
     body: () => ({}),
-    expected: { owner: 400, analyst: 400, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 },
+    expected: {
+      owner: 400,
+      analyst: 400,
+      reviewer: 403,
+      viewer: 403,
+      outsider: 404,
+      anonymous: 401,
+    },
   },
-  "GET /api/studies/:studyId/datasets": { path: (f) => `/api/studies/${f.studyId}/datasets`, expected: members(200) },
+  "GET /api/studies/:studyId/datasets": {
+    path: (f) => `/api/studies/${f.studyId}/datasets`,
+    expected: members(200),
+  },
   "GET /api/studies/:studyId/datasets/:datasetId": {
     path: (f) => `/api/studies/${f.studyId}/datasets/00000000-0000-4000-8000-000000000000`,
     expected: members(404),
@@ -107,57 +188,172 @@ const matrix: Record<string, Row> = {
   "POST /api/studies/:studyId/datasets/:datasetId/confirm": {
     path: (f) => `/api/studies/${f.studyId}/datasets/00000000-0000-4000-8000-000000000000/confirm`,
     body: () => ({}),
-    expected: { owner: 404, analyst: 404, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 },
+    expected: {
+      owner: 404,
+      analyst: 404,
+      reviewer: 403,
+      viewer: 403,
+      outsider: 404,
+      anonymous: 401,
+    },
   },
-  "GET /api/studies/:studyId/roster": { path: (f) => `/api/studies/${f.studyId}/roster`, expected: members(200) },
+  "GET /api/studies/:studyId/roster": {
+    path: (f) => `/api/studies/${f.studyId}/roster`,
+    expected: members(200),
+  },
   "POST /api/studies/:studyId/roster/mappings": {
     path: (f) => `/api/studies/${f.studyId}/roster/mappings`,
     body: () => ({ mappings: [{ brainId: "7", sheetId: "sub-07" }] }),
-    expected: { owner: 409, analyst: 409, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 },
+    expected: {
+      owner: 409,
+      analyst: 409,
+      reviewer: 403,
+      viewer: 403,
+      outsider: 404,
+      anonymous: 401,
+    },
   },
-  "GET /api/studies/:studyId/roster.csv": { path: (f) => `/api/studies/${f.studyId}/roster.csv`, expected: members(200) },
+  "GET /api/studies/:studyId/roster.csv": {
+    path: (f) => `/api/studies/${f.studyId}/roster.csv`,
+    expected: members(200),
+  },
   "GET /api/studies/:studyId/activity": {
     path: (f) => `/api/studies/${f.studyId}/activity`,
-    expected: { owner: 200, analyst: 200, reviewer: 200, viewer: 403, outsider: 404, anonymous: 401 },
+    expected: {
+      owner: 200,
+      analyst: 200,
+      reviewer: 200,
+      viewer: 403,
+      outsider: 404,
+      anonymous: 401,
+    },
   },
   // Reliability of the measures. The fixture study has no data: an empty list may be stated, the brain reliability answers 409.
-  "GET /api/studies/:studyId/trait-reliabilities": { path: (f) => `/api/studies/${f.studyId}/trait-reliabilities`, expected: members(200) },
+  "GET /api/studies/:studyId/trait-reliabilities": {
+    path: (f) => `/api/studies/${f.studyId}/trait-reliabilities`,
+    expected: members(200),
+  },
   "PUT /api/studies/:studyId/trait-reliabilities": {
     path: (f) => `/api/studies/${f.studyId}/trait-reliabilities`,
     body: () => [],
-    expected: { owner: 200, analyst: 200, reviewer: 403, viewer: 403, outsider: 404, anonymous: 401 },
+    expected: {
+      owner: 200,
+      analyst: 200,
+      reviewer: 403,
+      viewer: 403,
+      outsider: 404,
+      anonymous: 401,
+    },
   },
-  "GET /api/studies/:studyId/reliability": { path: (f) => `/api/studies/${f.studyId}/reliability`, expected: members(409) },
+  "GET /api/studies/:studyId/reliability": {
+    path: (f) => `/api/studies/${f.studyId}/reliability`,
+    expected: members(409),
+  },
   // Models, fits and set-asides. Routes under /api/fits/:fitId find the fit's study first: non-members get 404.
-  "GET /api/studies/:studyId/models": { path: (f) => `/api/studies/${f.studyId}/models`, expected: members(200) },
+  "GET /api/studies/:studyId/models": {
+    path: (f) => `/api/studies/${f.studyId}/models`,
+    expected: members(200),
+  },
   "POST /api/studies/:studyId/models": {
     path: (f) => `/api/studies/${f.studyId}/models`,
-    body: () => ({ name: "Matrix new model", regionSelection: "independent-data", spec: { kind: "one-sample" } }),
+    body: () => ({
+      name: "Matrix new model",
+      regionSelection: "independent-data",
+      spec: { kind: "one-sample" },
+    }),
     expected: makers(201),
   },
-  "GET /api/studies/:studyId/models/:modelId": { path: (f) => `/api/studies/${f.studyId}/models/${f.modelId}`, expected: members(200) },
-  "PATCH /api/studies/:studyId/models/:modelId": { path: (f) => `/api/studies/${f.studyId}/models/${f.modelId}`, body: () => ({ name: "Renamed model" }), expected: makers(200) },
-  "DELETE /api/studies/:studyId/models/:modelId": { path: (f) => `/api/studies/${f.studyId}/models/${f.modelId}`, expected: makers(204) },
-  "GET /api/studies/:studyId/fits": { path: (f) => `/api/studies/${f.studyId}/fits`, expected: members(200) },
-  "POST /api/studies/:studyId/fits": { path: (f) => `/api/studies/${f.studyId}/fits`, body: (f) => ({ modelId: f.modelId }), expected: makers(202), data: true },
-  "GET /api/fits/:fitId": { path: (f) => `/api/fits/${f.fitId}`, expected: members(200), data: true },
-  "GET /api/fits/:fitId/events": { path: (f) => `/api/fits/${f.fitId}/events`, expected: members(200), data: true },
-  "POST /api/fits/:fitId/cancel": { path: (f) => `/api/fits/${f.queuedFitId}/cancel`, expected: makers(200), data: true },
-  "GET /api/fits/:fitId/regions/:region": { path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc`, expected: members(200), data: true },
-  // Participant rows: the fixture study is not restricted, so every member pages them (a restricted study's Viewers get 403, tests/api/fits.test.ts).
-  "GET /api/fits/:fitId/regions/:region/participants": { path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc/participants`, expected: members(200), data: true },
-  "POST /api/fits/:fitId/regions/:region/preview": { path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc/preview`, expected: members(200), data: true },
-  // Exports, approval and sealing of a fit. The fixture's fit is done but not approved: an Owner passes the seal's rights check and gets 409.
-  "GET /api/fits/:fitId/regions.csv": { path: (f) => `/api/fits/${f.fitId}/regions.csv`, expected: members(200), data: true },
-  "GET /api/fits/:fitId/recipe.json": { path: (f) => `/api/fits/${f.fitId}/recipe.json`, expected: members(200), data: true },
-  "GET /api/fits/:fitId/methods": { path: (f) => `/api/fits/${f.fitId}/methods`, expected: members(200), data: true },
-  "POST /api/fits/:fitId/approve": {
-    path: (f) => `/api/fits/${f.fitId}/approve`,
-    expected: { owner: 200, analyst: 403, reviewer: 200, viewer: 403, outsider: 404, anonymous: 401 },
+  "GET /api/studies/:studyId/models/:modelId": {
+    path: (f) => `/api/studies/${f.studyId}/models/${f.modelId}`,
+    expected: members(200),
+  },
+  "PATCH /api/studies/:studyId/models/:modelId": {
+    path: (f) => `/api/studies/${f.studyId}/models/${f.modelId}`,
+    body: () => ({ name: "Renamed model" }),
+    expected: makers(200),
+  },
+  "DELETE /api/studies/:studyId/models/:modelId": {
+    path: (f) => `/api/studies/${f.studyId}/models/${f.modelId}`,
+    expected: makers(204),
+  },
+  "GET /api/studies/:studyId/fits": {
+    path: (f) => `/api/studies/${f.studyId}/fits`,
+    expected: members(200),
+  },
+  "POST /api/studies/:studyId/fits": {
+    path: (f) => `/api/studies/${f.studyId}/fits`,
+    body: (f) => ({ modelId: f.modelId }),
+    expected: makers(202),
     data: true,
   },
-  "POST /api/fits/:fitId/seal": { path: (f) => `/api/fits/${f.fitId}/seal`, expected: ownerOnly(409), data: true },
-  "GET /api/studies/:studyId/set-asides": { path: (f) => `/api/studies/${f.studyId}/set-asides`, expected: members(200) },
+  "GET /api/fits/:fitId": {
+    path: (f) => `/api/fits/${f.fitId}`,
+    expected: members(200),
+    data: true,
+  },
+  "GET /api/fits/:fitId/events": {
+    path: (f) => `/api/fits/${f.fitId}/events`,
+    expected: members(200),
+    data: true,
+  },
+  "POST /api/fits/:fitId/cancel": {
+    path: (f) => `/api/fits/${f.queuedFitId}/cancel`,
+    expected: makers(200),
+    data: true,
+  },
+  "GET /api/fits/:fitId/regions/:region": {
+    path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc`,
+    expected: members(200),
+    data: true,
+  },
+  // Participant rows: the fixture study is not restricted, so every member pages them (a restricted study's Viewers get 403, tests/api/fits.test.ts).
+  "GET /api/fits/:fitId/regions/:region/participants": {
+    path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc/participants`,
+    expected: members(200),
+    data: true,
+  },
+  "POST /api/fits/:fitId/regions/:region/preview": {
+    path: (f) => `/api/fits/${f.fitId}/regions/L_dlpfc/preview`,
+    expected: members(200),
+    data: true,
+  },
+  // Exports, approval and sealing of a fit. The fixture's fit is done but not approved: an Owner passes the seal's rights check and gets 409.
+  "GET /api/fits/:fitId/regions.csv": {
+    path: (f) => `/api/fits/${f.fitId}/regions.csv`,
+    expected: members(200),
+    data: true,
+  },
+  "GET /api/fits/:fitId/recipe.json": {
+    path: (f) => `/api/fits/${f.fitId}/recipe.json`,
+    expected: members(200),
+    data: true,
+  },
+  "GET /api/fits/:fitId/methods": {
+    path: (f) => `/api/fits/${f.fitId}/methods`,
+    expected: members(200),
+    data: true,
+  },
+  "POST /api/fits/:fitId/approve": {
+    path: (f) => `/api/fits/${f.fitId}/approve`,
+    expected: {
+      owner: 200,
+      analyst: 403,
+      reviewer: 200,
+      viewer: 403,
+      outsider: 404,
+      anonymous: 401,
+    },
+    data: true,
+  },
+  "POST /api/fits/:fitId/seal": {
+    path: (f) => `/api/fits/${f.fitId}/seal`,
+    expected: ownerOnly(409),
+    data: true,
+  },
+  "GET /api/studies/:studyId/set-asides": {
+    path: (f) => `/api/studies/${f.studyId}/set-asides`,
+    expected: members(200),
+  },
   "POST /api/studies/:studyId/set-asides": {
     path: (f) => `/api/studies/${f.studyId}/set-asides`,
     body: () => ({ participant: "sub-02", reason: "Matrix case" }),
@@ -193,9 +389,18 @@ afterAll(async () => {
 /** The session cookie of a person signed in through the e-mail link. */
 async function sessionCookieOf(email: string): Promise<string> {
   const agent = await signInByEmail(t, email);
-  const jar = (agent as unknown as { jar: { getCookie(name: string, access: unknown): { value: string } | undefined } }).jar;
+  const jar = (
+    agent as unknown as {
+      jar: { getCookie(name: string, access: unknown): { value: string } | undefined };
+    }
+  ).jar;
   const url = new URL(t.url);
-  const cookie = jar.getCookie("authjs.session-token", { domain: url.hostname, path: "/", secure: false, script: false });
+  const cookie = jar.getCookie("authjs.session-token", {
+    domain: url.hostname,
+    path: "/",
+    secure: false,
+    script: false,
+  });
   if (!cookie) throw new Error("no session cookie after e-mail sign-in");
   return `authjs.session-token=${cookie.value}`;
 }
@@ -204,10 +409,20 @@ async function makeFixture(withData = false, state?: "deleted" | "archived"): Pr
   counter += 1;
   const now = new Date();
   const name = `Matrix fixture ${counter}`;
-  const [study] = await t.db.insert(studies).values({ name, createdBy: ids.get("owner") }).returning();
-  const [target] = await t.db.insert(users).values({ email: `target${counter}@lab.example`, name: "Target" }).returning();
+  const [study] = await t.db
+    .insert(studies)
+    .values({ name, createdBy: ids.get("owner") })
+    .returning();
+  const [target] = await t.db
+    .insert(users)
+    .values({ email: `target${counter}@lab.example`, name: "Target" })
+    .returning();
   await t.db.insert(memberships).values([
-    ...(["owner", "analyst", "reviewer", "viewer"] as const).map((role) => ({ studyId: study.id, userId: ids.get(role) as string, role })),
+    ...(["owner", "analyst", "reviewer", "viewer"] as const).map((role) => ({
+      studyId: study.id,
+      userId: ids.get(role) as string,
+      role,
+    })),
     { studyId: study.id, userId: target.id, role: "viewer" as const },
   ]);
   const token = randomBytes(32).toString("base64url");
@@ -225,29 +440,78 @@ async function makeFixture(withData = false, state?: "deleted" | "archived"): Pr
   const owner = ids.get("owner") as string;
   const [model] = await t.db
     .insert(models)
-    .values({ studyId: study.id, name: "Matrix model", spec: modelSpecSchema.parse({ kind: "one-sample" }), regionSelection: "independent-data", createdBy: owner, updatedBy: owner })
+    .values({
+      studyId: study.id,
+      name: "Matrix model",
+      spec: modelSpecSchema.parse({ kind: "one-sample" }),
+      regionSelection: "independent-data",
+      createdBy: owner,
+      updatedBy: owner,
+    })
     .returning();
-  const [aside] = await t.db.insert(setAsides).values({ studyId: study.id, participantId: "sub-01", reason: "Matrix fixture", createdBy: owner }).returning();
+  const [aside] = await t.db
+    .insert(setAsides)
+    .values({
+      studyId: study.id,
+      participantId: "sub-01",
+      reason: "Matrix fixture",
+      createdBy: owner,
+    })
+    .returning();
   let fitId = "";
   let queuedFitId = "";
   if (withData) {
     await seedDemoDatasets(t.db, { studyId: study.id, uploadedBy: owner, now });
     const jobs = t.app.locals.fitJobs as FitJobs;
     // The Analyst starts the fit, so the Owner and the Reviewer may approve it ("A second person signs off" is on).
-    const fit = await createFit(t.db, jobs, { id: ids.get("analyst") as string }, study, model.id, now, "matrix");
+    const fit = await createFit(
+      t.db,
+      jobs,
+      { id: ids.get("analyst") as string },
+      study,
+      model.id,
+      now,
+      "matrix",
+    );
     await jobs.whenIdle();
     const [done] = await t.db.select().from(fits).where(eq(fits.id, fit.id));
     const { id: _id, ...copy } = done;
     const [queued] = await t.db
       .insert(fits)
-      .values({ ...copy, status: "queued", progress: 0, result: null, startedAt: null, finishedAt: null })
+      .values({
+        ...copy,
+        status: "queued",
+        progress: 0,
+        result: null,
+        startedAt: null,
+        finishedAt: null,
+      })
       .returning();
     fitId = fit.id;
     queuedFitId = queued.id;
   }
-  if (state === "deleted") await t.db.update(studies).set({ deletedAt: now, deletedBy: owner }).where(eq(studies.id, study.id));
-  if (state === "archived") await t.db.update(studies).set({ archivedAt: now, archivedBy: owner }).where(eq(studies.id, study.id));
-  return { studyId: study.id, studyName: name, targetUserId: target.id, invitationId: inv.id, token, n: counter, modelId: model.id, setAsideId: aside.id, fitId, queuedFitId };
+  if (state === "deleted")
+    await t.db
+      .update(studies)
+      .set({ deletedAt: now, deletedBy: owner })
+      .where(eq(studies.id, study.id));
+  if (state === "archived")
+    await t.db
+      .update(studies)
+      .set({ archivedAt: now, archivedBy: owner })
+      .where(eq(studies.id, study.id));
+  return {
+    studyId: study.id,
+    studyName: name,
+    targetUserId: target.id,
+    invitationId: inv.id,
+    token,
+    n: counter,
+    modelId: model.id,
+    setAsideId: aside.id,
+    fitId,
+    queuedFitId,
+  };
 }
 
 function routeKeys(): string[] {
@@ -276,17 +540,31 @@ describe("authorization matrix", () => {
   // (the Owner, who may do everything, asks). Which actions change something is decided in the permission table.
   describe("in an archived study", () => {
     for (const [key, row] of Object.entries(matrix)) {
-      const action = () => listRoutes(t.app).find((r) => `${r.method} ${r.path}` === key)?.actions[0] as Action | undefined;
+      const action = () =>
+        listRoutes(t.app).find((r) => `${r.method} ${r.path}` === key)?.actions[0] as
+          | Action
+          | undefined;
       it(`${key}`, async ({ skip }) => {
         const audience = permissions[action() as Action] as Audience | undefined;
         if (!audience || audience.scope !== "study") return skip();
-        expect(audience.access, `${key}: the permission table says whether ${action()} reads or changes`).toMatch(/^(read|write)$/);
+        expect(
+          audience.access,
+          `${key}: the permission table says whether ${action()} reads or changes`,
+        ).toMatch(/^(read|write)$/);
         if (audience.inState !== undefined) return skip();
         const fixture = await makeFixture(row.data === true, "archived");
-        const method = key.split(" ")[0].toLowerCase() as "get" | "post" | "put" | "patch" | "delete";
-        const req = request(t.url)[method](row.path(fixture)).set("Cookie", cookies.get("owner") as string);
+        const method = key.split(" ")[0].toLowerCase() as
+          | "get"
+          | "post"
+          | "put"
+          | "patch"
+          | "delete";
+        const req = request(t.url)
+          [method](row.path(fixture))
+          .set("Cookie", cookies.get("owner") as string);
         const res = row.body ? await req.send(row.body(fixture) as object) : await req;
-        if (audience.access === "write") expect([res.status, res.body.error?.code]).toEqual([409, "study_archived"]);
+        if (audience.access === "write")
+          expect([res.status, res.body.error?.code]).toEqual([409, "study_archived"]);
         else expect(res.status).toBe(row.expected.owner);
       });
     }
@@ -299,12 +577,18 @@ describe("authorization matrix", () => {
       for (const persona of personas) {
         const fixture = await makeFixture(row.data === true, row.state);
         const path = row.path(fixture);
-        let req = request(t.url)[method.toLowerCase() as "get" | "post" | "put" | "patch" | "delete"](path);
+        let req = request(t.url)[
+          method.toLowerCase() as "get" | "post" | "put" | "patch" | "delete"
+        ](path);
         const cookie = cookies.get(persona);
         if (cookie) req = req.set("Cookie", cookie);
         const res = row.body ? await req.send(row.body(fixture) as object) : await req;
         got[persona] = res.status;
-        if (res.status >= 400) expect(res.body.error, `${key} as ${persona}: envelope`).toMatchObject({ code: expect.any(String), message: expect.any(String) });
+        if (res.status >= 400)
+          expect(res.body.error, `${key} as ${persona}: envelope`).toMatchObject({
+            code: expect.any(String),
+            message: expect.any(String),
+          });
       }
       expect(got).toEqual(row.expected);
     });

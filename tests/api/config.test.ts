@@ -39,10 +39,25 @@ describe("loadConfig", () => {
   it("uses PORT, HOST and PUBLIC_URL when given, and turns demo off in production unless asked", () => {
     const config = loadConfig({ DATA_DIR: dataDir(), PORT: "4100", HOST: "0.0.0.0" });
     expect(config.publicUrl).toBe("http://0.0.0.0:4100");
-    expect(loadConfig({ DATA_DIR: dataDir(), PUBLIC_URL: "https://covarion.lab.example/" }).publicUrl).toBe("https://covarion.lab.example");
-    const prod = loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://mail.lab.example:587", PUBLIC_URL: "https://covarion.lab.example" });
+    expect(
+      loadConfig({ DATA_DIR: dataDir(), PUBLIC_URL: "https://covarion.lab.example/" }).publicUrl,
+    ).toBe("https://covarion.lab.example");
+    const prod = loadConfig({
+      DATA_DIR: dataDir(),
+      NODE_ENV: "production",
+      SMTP_URL: "smtp://mail.lab.example:587",
+      PUBLIC_URL: "https://covarion.lab.example",
+    });
     expect(prod).toMatchObject({ demo: false, devServices: false, production: true });
-    expect(loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://m.example", PUBLIC_URL: "https://c.example", DEMO: "on" }).demo).toBe(true);
+    expect(
+      loadConfig({
+        DATA_DIR: dataDir(),
+        NODE_ENV: "production",
+        SMTP_URL: "smtp://m.example",
+        PUBLIC_URL: "https://c.example",
+        DEMO: "on",
+      }).demo,
+    ).toBe(true);
   });
 
   it("generates secrets on first start into DATA_DIR (mode 600) and reuses them", () => {
@@ -52,23 +67,49 @@ describe("loadConfig", () => {
     expect(first.secrets).toEqual(second.secrets);
     expect(first.secrets.authSecret.length).toBeGreaterThanOrEqual(32);
     expect(statSync(join(dir, "secrets.json")).mode & 0o777).toBe(0o600);
-    expect(JSON.parse(readFileSync(join(dir, "secrets.json"), "utf8")).authSecret).toBe(first.secrets.authSecret);
-    expect(loadConfig({ DATA_DIR: dir, AUTH_SECRET: "s".repeat(40) }).secrets.authSecret).toBe("s".repeat(40));
+    expect(JSON.parse(readFileSync(join(dir, "secrets.json"), "utf8")).authSecret).toBe(
+      first.secrets.authSecret,
+    );
+    expect(loadConfig({ DATA_DIR: dir, AUTH_SECRET: "s".repeat(40) }).secrets.authSecret).toBe(
+      "s".repeat(40),
+    );
   });
 
   it("fails fast naming the variable", () => {
     expect(() => loadConfig({ DATA_DIR: dataDir(), PORT: "eighty" })).toThrow(ConfigError);
-    expect(() => loadConfig({ DATA_DIR: dataDir(), PORT: "eighty" })).toThrow(/PORT is invalid.*"eighty"/);
+    expect(() => loadConfig({ DATA_DIR: dataDir(), PORT: "eighty" })).toThrow(
+      /PORT is invalid.*"eighty"/,
+    );
     expect(() => loadConfig({ DATA_DIR: dataDir(), PUBLIC_URL: "ftp://x" })).toThrow(/PUBLIC_URL/);
-    expect(() => loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", PUBLIC_URL: "https://c.example" })).toThrow(/SMTP_URL is required/);
+    expect(() =>
+      loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", PUBLIC_URL: "https://c.example" }),
+    ).toThrow(/SMTP_URL is required/);
     // Sign-in links are built from PUBLIC_URL alone, so production cannot guess it from HOST and PORT.
-    expect(() => loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://m.example" })).toThrow(/PUBLIC_URL is required/);
-    expect(() => loadConfig({ DATA_DIR: dataDir(), OIDC_ISSUER: "https://idp.example" })).toThrow(/must be given together/);
+    expect(() =>
+      loadConfig({ DATA_DIR: dataDir(), NODE_ENV: "production", SMTP_URL: "smtp://m.example" }),
+    ).toThrow(/PUBLIC_URL is required/);
+    expect(() => loadConfig({ DATA_DIR: dataDir(), OIDC_ISSUER: "https://idp.example" })).toThrow(
+      /must be given together/,
+    );
     expect(() => loadConfig({ DATA_DIR: dataDir(), AUTH_SECRET: "short" })).toThrow(/AUTH_SECRET/);
-    expect(() => loadConfig({ DATA_DIR: dataDir(), REQUEST_IDLE_TIMEOUT_SECONDS: "0" })).toThrow(/REQUEST_IDLE_TIMEOUT_SECONDS/);
-    expect(() => loadConfig({ DATA_DIR: dataDir(), REQUEST_IDLE_TIMEOUT_SECONDS: "60", REQUEST_TIMEOUT_SECONDS: "30" })).toThrow(
+    expect(() => loadConfig({ DATA_DIR: dataDir(), REQUEST_IDLE_TIMEOUT_SECONDS: "0" })).toThrow(
+      /REQUEST_IDLE_TIMEOUT_SECONDS/,
+    );
+    expect(() =>
+      loadConfig({
+        DATA_DIR: dataDir(),
+        REQUEST_IDLE_TIMEOUT_SECONDS: "60",
+        REQUEST_TIMEOUT_SECONDS: "30",
+      }),
+    ).toThrow(
       /REQUEST_TIMEOUT_SECONDS \(30\) must be at least REQUEST_IDLE_TIMEOUT_SECONDS \(60\)/,
     );
-    expect(loadConfig({ DATA_DIR: dataDir(), REQUEST_IDLE_TIMEOUT_SECONDS: "0.5", REQUEST_TIMEOUT_SECONDS: "90" }).requestTimeouts).toEqual({ idleMs: 500, totalMs: 90_000 });
+    expect(
+      loadConfig({
+        DATA_DIR: dataDir(),
+        REQUEST_IDLE_TIMEOUT_SECONDS: "0.5",
+        REQUEST_TIMEOUT_SECONDS: "90",
+      }).requestTimeouts,
+    ).toEqual({ idleMs: 500, totalMs: 90_000 });
   });
 });

@@ -44,19 +44,26 @@ interface Holder {
 /** Starts a separate process that takes the lock of `dataDir` and holds it until killed. */
 async function startHolder(dataDir: string, updateMs: number): Promise<Holder> {
   let out = "";
-  const child = spawn(process.execPath, ["--import", "tsx", "tests/api/data-lock-holder.ts", dataDir, String(updateMs)], {
-    cwd: root,
-    stdio: ["ignore", "pipe", "pipe"],
-  });
+  const child = spawn(
+    process.execPath,
+    ["--import", "tsx", "tests/api/data-lock-holder.ts", dataDir, String(updateMs)],
+    {
+      cwd: root,
+      stdio: ["ignore", "pipe", "pipe"],
+    },
+  );
   const collect = (c: Buffer) => {
     out += c.toString();
   };
   child.stdout?.on("data", collect);
   child.stderr?.on("data", collect);
-  const exited = new Promise<number | null>((resolve) => child.once("exit", (code) => resolve(code)));
+  const exited = new Promise<number | null>((resolve) =>
+    child.once("exit", (code) => resolve(code)),
+  );
   const deadline = Date.now() + 20_000;
   while (!out.includes("locked")) {
-    if (child.exitCode !== null || Date.now() > deadline) throw new Error(`the lock holder did not start:\n${out}`);
+    if (child.exitCode !== null || Date.now() > deadline)
+      throw new Error(`the lock holder did not start:\n${out}`);
     await new Promise((r) => setTimeout(r, 50));
   }
   return { child, output: () => out, exited };
@@ -76,7 +83,9 @@ describe("data directory lock", () => {
         (error: unknown) => error,
       );
       expect(refusal).toBeInstanceOf(DataLockError);
-      expect((refusal as Error).message).toContain(`The data folder ${real} is in use by another Covarion server (pid ${holder.child.pid} on host`);
+      expect((refusal as Error).message).toContain(
+        `The data folder ${real} is in use by another Covarion server (pid ${holder.child.pid} on host`,
+      );
       await expect(acquireDataLock(dir, quiet)).rejects.toThrow(DataLockError);
     } finally {
       holder.child.kill("SIGTERM");
@@ -99,7 +108,8 @@ describe("data directory lock", () => {
     try {
       // Alive and refreshing: refused, again and again, for longer than the stale period.
       const until = Date.now() + staleMs + 1500;
-      while (Date.now() < until) await expect(acquireDataLock(dir, { ...quiet, staleMs })).rejects.toThrow(DataLockError);
+      while (Date.now() < until)
+        await expect(acquireDataLock(dir, { ...quiet, staleMs })).rejects.toThrow(DataLockError);
     } finally {
       holder.child.kill("SIGKILL");
     }
@@ -108,7 +118,9 @@ describe("data directory lock", () => {
     expect(existsSync(lockFileFor(realpathSync(dir)))).toBe(true);
     const waited: string[] = [];
     const lock = await acquireDataLock(dir, { staleMs, onWait: (m) => waited.push(m) });
-    expect(waited).toEqual([`the data folder ${realpathSync(dir)} is locked; waiting up to 3 s to see whether the server holding it still runs.`]);
+    expect(waited).toEqual([
+      `the data folder ${realpathSync(dir)} is locked; waiting up to 3 s to see whether the server holding it still runs.`,
+    ]);
     lock.release();
   }, 30_000);
 
@@ -118,7 +130,9 @@ describe("data directory lock", () => {
     try {
       rmSync(lockFileFor(realpathSync(dir)), { recursive: true });
       expect(await holder.exited).toBe(1);
-      expect(holder.output()).toContain(`the lock of the data folder ${realpathSync(dir)} was lost`);
+      expect(holder.output()).toContain(
+        `the lock of the data folder ${realpathSync(dir)} was lost`,
+      );
     } finally {
       if (holder.child.exitCode === null) holder.child.kill("SIGKILL");
     }
@@ -129,10 +143,15 @@ describe("restart", () => {
   it("keeps every committed row after closing and reopening the database", async () => {
     const dir = join(tempDir(), "db");
     const first = await openTemplateDatabase(dir);
-    await first.db.insert(studies).values({ id: "5b0c3a52-5a4c-4a55-8d3e-0f1f2a3b4c5d", name: "Kept across restarts" });
+    await first.db
+      .insert(studies)
+      .values({ id: "5b0c3a52-5a4c-4a55-8d3e-0f1f2a3b4c5d", name: "Kept across restarts" });
     await first.close();
     const second = await openDatabase({ dataDir: dir });
-    const rows = await second.db.select().from(studies).where(eq(studies.id, "5b0c3a52-5a4c-4a55-8d3e-0f1f2a3b4c5d"));
+    const rows = await second.db
+      .select()
+      .from(studies)
+      .where(eq(studies.id, "5b0c3a52-5a4c-4a55-8d3e-0f1f2a3b4c5d"));
     await second.close();
     expect(rows.map((r) => r.name)).toEqual(["Kept across restarts"]);
   });
@@ -159,7 +178,14 @@ function startServer(dataDir: string, port: number): Proc {
   let out = "";
   const child = spawn(process.execPath, ["--import", "tsx", "server/index.ts"], {
     cwd: root,
-    env: { ...process.env, NODE_ENV: "development", DATA_DIR: dataDir, PORT: String(port), HOST: "127.0.0.1", PUBLIC_URL: "" },
+    env: {
+      ...process.env,
+      NODE_ENV: "development",
+      DATA_DIR: dataDir,
+      PORT: String(port),
+      HOST: "127.0.0.1",
+      PUBLIC_URL: "",
+    },
     stdio: ["ignore", "pipe", "pipe"],
   });
   const collect = (c: Buffer) => {
@@ -167,7 +193,9 @@ function startServer(dataDir: string, port: number): Proc {
   };
   child.stdout?.on("data", collect);
   child.stderr?.on("data", collect);
-  const exited = new Promise<number | null>((resolve) => child.once("exit", (code) => resolve(code)));
+  const exited = new Promise<number | null>((resolve) =>
+    child.once("exit", (code) => resolve(code)),
+  );
   return { child, output: () => out, exited };
 }
 
@@ -218,11 +246,15 @@ describe("the real server process", () => {
       const second = startServer(dataDir, await freePort());
       expect(await second.exited).toBe(1);
       const real = realpathSync(dataDir);
-      expect(second.output()).toContain(`The data folder ${real} is in use by another Covarion server (pid ${first.child.pid}`);
+      expect(second.output()).toContain(
+        `The data folder ${real} is in use by another Covarion server (pid ${first.child.pid}`,
+      );
       // Another path to the same folder is the same folder.
       const third = startServer(linkTo(dataDir), await freePort());
       expect(await third.exited).toBe(1);
-      expect(third.output()).toContain(`Covarion cannot start: The data folder ${real} is in use by another Covarion server`);
+      expect(third.output()).toContain(
+        `Covarion cannot start: The data folder ${real} is in use by another Covarion server`,
+      );
 
       first.child.kill("SIGTERM");
       expect(await first.exited).toBe(0);
@@ -235,8 +267,13 @@ describe("the real server process", () => {
     try {
       await waitForHealth(url, again);
       const cookie = await demoSession(url);
-      const list = (await (await fetch(`${url}/api/studies`, { headers: { cookie } })).json()) as { name: string }[];
-      expect(list.map((s) => s.name).sort()).toEqual(["Harbour Bay working-memory cohort (demo)", "Made before the restart"]);
+      const list = (await (await fetch(`${url}/api/studies`, { headers: { cookie } })).json()) as {
+        name: string;
+      }[];
+      expect(list.map((s) => s.name).sort()).toEqual([
+        "Harbour Bay working-memory cohort (demo)",
+        "Made before the restart",
+      ]);
       expect(again.output()).not.toContain("created the demo people");
     } finally {
       // A hard kill leaves the lock behind.
@@ -249,7 +286,9 @@ describe("the real server process", () => {
     const afterKill = startServer(dataDir, port);
     try {
       await waitForHealth(url, afterKill);
-      expect(afterKill.output()).toContain(`the data folder ${realpathSync(dataDir)} is locked; waiting up to 10 s`);
+      expect(afterKill.output()).toContain(
+        `the data folder ${realpathSync(dataDir)} is locked; waiting up to 10 s`,
+      );
     } finally {
       afterKill.child.kill("SIGTERM");
       expect(await afterKill.exited).toBe(0);

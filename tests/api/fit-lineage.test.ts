@@ -36,7 +36,14 @@ interface View {
   stage: string;
   n: { min: number; max: number } | null;
   setAsideCount: number;
-  setAsides: { participant: string | null; region: string | null; scope: string; reason: string; createdBy: { name: string | null } | null; createdAt: string | null }[];
+  setAsides: {
+    participant: string | null;
+    region: string | null;
+    scope: string;
+    reason: string;
+    createdBy: { name: string | null } | null;
+    createdAt: string | null;
+  }[];
   refitOf: string | null;
   refitOfCreatedAt: string | null;
   changes: string[];
@@ -50,7 +57,9 @@ async function view(fitId: string, role = "analyst"): Promise<View> {
 }
 
 async function runFit(modelId: string): Promise<View> {
-  const id = (await as("analyst").post(`/api/studies/${studyId}/fits`).send({ modelId }).expect(202)).body.id as string;
+  const id = (
+    await as("analyst").post(`/api/studies/${studyId}/fits`).send({ modelId }).expect(202)
+  ).body.id as string;
   const start = Date.now();
   for (;;) {
     const v = await view(id);
@@ -75,13 +84,20 @@ beforeAll(async () => {
     await seedDemoDatasets(t.db, { studyId, uploadedBy: owner.id, now: new Date() });
   }
   for (const role of ["owner", "analyst", "reviewer", "viewer"]) {
-    const res = await request(t.url).post("/api/dev/demo-sign-in").send({ email: `${role}@demo.covarion.test` }).expect(200);
+    const res = await request(t.url)
+      .post("/api/dev/demo-sign-in")
+      .send({ email: `${role}@demo.covarion.test` })
+      .expect(200);
     cookies.set(role, String(res.headers["set-cookie"]).split(";")[0]);
   }
   modelId = (
     await as("analyst")
       .post(`/api/studies/${studyId}/models`)
-      .send({ name: "Load effect across the group", regionSelection: "anatomical-or-prior", spec: { kind: "one-sample", regions: ["L_dlpfc", "R_dlpfc", "dACC"] } })
+      .send({
+        name: "Load effect across the group",
+        regionSelection: "anatomical-or-prior",
+        spec: { kind: "one-sample", regions: ["L_dlpfc", "R_dlpfc", "dACC"] },
+      })
       .expect(201)
   ).body.id as string;
 });
@@ -95,17 +111,31 @@ describe("fit lineage", () => {
 
   it("a first fit has no set-asides, no earlier fit, N per region and is not stale", async () => {
     first = await runFit(modelId);
-    expect(first).toMatchObject({ setAsides: [], setAsideCount: 0, refitOf: null, refitOfCreatedAt: null, changes: [], stale: false, staleReasons: [], stage: "done" });
+    expect(first).toMatchObject({
+      setAsides: [],
+      setAsideCount: 0,
+      refitOf: null,
+      refitOfCreatedAt: null,
+      changes: [],
+      stale: false,
+      staleReasons: [],
+      stage: "done",
+    });
     const ns = (first.result?.regions ?? []).map((r) => r.n);
     expect(ns).toHaveLength(3);
     expect(first.n).toEqual({ min: Math.min(...ns), max: Math.max(...ns) });
   });
 
   it("a set-aside makes the first fit stale, naming the participant", async () => {
-    await as("analyst").post(`/api/studies/${studyId}/set-asides`).send({ participant: target, reason }).expect(201);
+    await as("analyst")
+      .post(`/api/studies/${studyId}/set-asides`)
+      .send({ participant: target, reason })
+      .expect(201);
     const stale = await view(first.id);
     expect(stale.stale).toBe(true);
-    expect(stale.staleReasons).toEqual([`Set-asides changed since this fit: ${target} (all regions) added`]);
+    expect(stale.staleReasons).toEqual([
+      `Set-asides changed since this fit: ${target} (all regions) added`,
+    ]);
     // The fit itself is unchanged: it still applied nothing.
     expect(stale.setAsides).toEqual([]);
   });
@@ -117,30 +147,65 @@ describe("fit lineage", () => {
     expect(second.changes).toEqual([`Set aside: ${target} (all regions)`]);
     expect(second.setAsideCount).toBe(1);
     expect(second.setAsides).toEqual([
-      { participant: target, region: null, scope: "all regions", reason, createdBy: { id: expect.any(String), name: "Tomas Ferreira" }, createdAt: expect.any(String) },
+      {
+        participant: target,
+        region: null,
+        scope: "all regions",
+        reason,
+        createdBy: { id: expect.any(String), name: "Tomas Ferreira" },
+        createdAt: expect.any(String),
+      },
     ]);
     expect(second.stale).toBe(false);
     expect(second.staleReasons).toEqual([]);
     // One participant fewer in every region.
-    for (const [i, r] of (second.result?.regions ?? []).entries()) expect(r.n).toBe((first.result?.regions[i].n ?? 0) - 1);
+    for (const [i, r] of (second.result?.regions ?? []).entries())
+      expect(r.n).toBe((first.result?.regions[i].n ?? 0) - 1);
   });
 
   it("the fits list shows the stage, N, set-aside count, lineage and staleness of each fit", async () => {
-    const list = (await as("viewer").get(`/api/studies/${studyId}/fits`).expect(200)).body as View[];
+    const list = (await as("viewer").get(`/api/studies/${studyId}/fits`).expect(200))
+      .body as View[];
     const [newest, older] = list;
-    expect(newest).toMatchObject({ id: second.id, stage: "done", n: second.n, setAsideCount: 1, refitOf: first.id, changes: [`Set aside: ${target} (all regions)`], stale: false });
-    expect(older).toMatchObject({ id: first.id, stage: "done", n: first.n, setAsideCount: 0, refitOf: null, changes: [], stale: true });
+    expect(newest).toMatchObject({
+      id: second.id,
+      stage: "done",
+      n: second.n,
+      setAsideCount: 1,
+      refitOf: first.id,
+      changes: [`Set aside: ${target} (all regions)`],
+      stale: false,
+    });
+    expect(older).toMatchObject({
+      id: first.id,
+      stage: "done",
+      n: first.n,
+      setAsideCount: 0,
+      refitOf: null,
+      changes: [],
+      stale: true,
+    });
   });
 
   it("a Viewer of a restricted study gets the count, reasons and authors without participant ids", async () => {
     await as("owner").patch(`/api/studies/${studyId}`).send({ restricted: true }).expect(200);
     try {
       const seen = await view(second.id, "viewer");
-      expect(seen.setAsides).toEqual([{ participant: null, region: null, scope: "all regions", reason, createdBy: { id: expect.any(String), name: "Tomas Ferreira" }, createdAt: expect.any(String) }]);
+      expect(seen.setAsides).toEqual([
+        {
+          participant: null,
+          region: null,
+          scope: "all regions",
+          reason,
+          createdBy: { id: expect.any(String), name: "Tomas Ferreira" },
+          createdAt: expect.any(String),
+        },
+      ]);
       expect(seen.changes).toEqual(["Set aside: 1 participant"]);
       const older = await view(first.id, "viewer");
       expect(older.staleReasons).toEqual(["Set-asides changed since this fit: 1 added"]);
-      const list = (await as("viewer").get(`/api/studies/${studyId}/fits`).expect(200)).body as View[];
+      const list = (await as("viewer").get(`/api/studies/${studyId}/fits`).expect(200))
+        .body as View[];
       for (const body of [seen, older, list]) expect(JSON.stringify(body)).not.toContain(target);
       // A Reviewer still sees the ids.
       expect((await view(second.id, "reviewer")).setAsides[0].participant).toBe(target);
@@ -151,19 +216,28 @@ describe("fit lineage", () => {
 
   it("an approval shows as the fit's stage in the list", async () => {
     await as("reviewer").post(`/api/fits/${second.id}/approve`).send({}).expect(200);
-    const list = (await as("viewer").get(`/api/studies/${studyId}/fits`).expect(200)).body as View[];
+    const list = (await as("viewer").get(`/api/studies/${studyId}/fits`).expect(200))
+      .body as View[];
     expect(list.find((f) => f.id === second.id)?.stage).toBe("approved");
     expect(list.find((f) => f.id === first.id)?.stage).toBe("done");
   });
 
   it("a restore makes the fit made before the set-aside fresh again and the refit stale, with a new kept body", async () => {
     const before = await as("analyst").get(`/api/fits/${second.id}`).expect(200);
-    const [record] = (await as("analyst").get(`/api/studies/${studyId}/set-asides?active=true`).expect(200)).body as { id: string }[];
-    await as("analyst").delete(`/api/studies/${studyId}/set-asides/${record.id}`).send({ reason: "Re-checked: awake throughout" }).expect(200);
+    const [record] = (
+      await as("analyst").get(`/api/studies/${studyId}/set-asides?active=true`).expect(200)
+    ).body as { id: string }[];
+    await as("analyst")
+      .delete(`/api/studies/${studyId}/set-asides/${record.id}`)
+      .send({ reason: "Re-checked: awake throughout" })
+      .expect(200);
     const fresh = await view(first.id);
     expect(fresh).toMatchObject({ stale: false, staleReasons: [] });
     const after = await as("analyst").get(`/api/fits/${second.id}`).expect(200);
-    expect(after.body).toMatchObject({ stale: true, staleReasons: [`Set-asides changed since this fit: ${target} (all regions) restored`] });
+    expect(after.body).toMatchObject({
+      stale: true,
+      staleReasons: [`Set-asides changed since this fit: ${target} (all regions) restored`],
+    });
     // The refit still shows what it left out, and who set it aside.
     expect(after.body.setAsides).toHaveLength(1);
     expect(after.body.setAsides[0].createdBy.name).toBe("Tomas Ferreira");
@@ -172,22 +246,37 @@ describe("fit lineage", () => {
   });
 
   it("a new brain table version makes every earlier fit stale; a fit on it is a refit naming the new version and is not stale", async () => {
-    const file = readFileSync(join(__dirname, "../../assets/demo/harbour-bay_lantern-3-vs-1_brain-table.csv"), "utf8");
+    const file = readFileSync(
+      join(__dirname, "../../assets/demo/harbour-bay_lantern-3-vs-1_brain-table.csv"),
+      "utf8",
+    );
     // The same table with one value changed: a new version.
     const text = file.replace(/^(sub-01,1,)0\.1592/m, "$10.1593");
     expect(text).not.toBe(file);
-    const preview = await as("owner").post(`/api/studies/${studyId}/datasets`).field("kind", "brain").attach("file", Buffer.from(text), "brain-table-v2.csv").expect(201);
-    const confirmed = await as("owner").post(`/api/studies/${studyId}/datasets/${preview.body.id}/confirm`).send({}).expect(201);
+    const preview = await as("owner")
+      .post(`/api/studies/${studyId}/datasets`)
+      .field("kind", "brain")
+      .attach("file", Buffer.from(text), "brain-table-v2.csv")
+      .expect(201);
+    const confirmed = await as("owner")
+      .post(`/api/studies/${studyId}/datasets/${preview.body.id}/confirm`)
+      .send({})
+      .expect(201);
     const version = confirmed.body.version as number;
     for (const id of [first.id, second.id]) {
       const v = await view(id);
       expect(v.stale).toBe(true);
-      expect(v.staleReasons).toContain(`A newer brain table (version ${version}, brain-table-v2.csv) was uploaded`);
+      expect(v.staleReasons).toContain(
+        `A newer brain table (version ${version}, brain-table-v2.csv) was uploaded`,
+      );
     }
     const third = await runFit(modelId);
     // The latest done fit of the model is the one re-run.
     expect(third.refitOf).toBe(second.id);
-    expect(third.changes).toEqual([`New brain table version ${version} (brain-table-v2.csv)`, `Restored: ${target} (all regions)`]);
+    expect(third.changes).toEqual([
+      `New brain table version ${version} (brain-table-v2.csv)`,
+      `Restored: ${target} (all regions)`,
+    ]);
     expect(third).toMatchObject({ stale: false, staleReasons: [], setAsides: [] });
   });
 });

@@ -23,7 +23,8 @@ async function waitForDone(fitId: string): Promise<void> {
   for (;;) {
     const res = await request(t.url).get(`/api/fits/${fitId}`).set("Cookie", cookie).expect(200);
     if (res.body.status === "done") return;
-    if (res.body.status === "failed" || Date.now() > deadline) throw new Error(`fit ${fitId} is ${res.body.status}`);
+    if (res.body.status === "failed" || Date.now() > deadline)
+      throw new Error(`fit ${fitId} is ${res.body.status}`);
     await new Promise((r) => setTimeout(r, 100));
   }
 }
@@ -36,7 +37,10 @@ beforeAll(async () => {
     const [owner] = await t.db.select().from(users).where(eq(users.email, demoPeople[0].email));
     await seedDemoDatasets(t.db, { studyId, uploadedBy: owner.id, now: new Date() });
   }
-  const signIn = await request(t.url).post("/api/dev/demo-sign-in").send({ email: "owner@demo.covarion.test" }).expect(200);
+  const signIn = await request(t.url)
+    .post("/api/dev/demo-sign-in")
+    .send({ email: "owner@demo.covarion.test" })
+    .expect(200);
   cookie = String(signIn.headers["set-cookie"]).split(";")[0];
 });
 
@@ -49,9 +53,17 @@ describe("restart", () => {
     const model = await request(t.url)
       .post(`/api/studies/${studyId}/models`)
       .set("Cookie", cookie)
-      .send({ name: "Across the group", regionSelection: "independent-data", spec: { kind: "one-sample" } })
+      .send({
+        name: "Across the group",
+        regionSelection: "independent-data",
+        spec: { kind: "one-sample" },
+      })
       .expect(201);
-    const run = await request(t.url).post(`/api/studies/${studyId}/fits`).set("Cookie", cookie).send({ modelId: model.body.id }).expect(202);
+    const run = await request(t.url)
+      .post(`/api/studies/${studyId}/fits`)
+      .set("Cookie", cookie)
+      .send({ modelId: model.body.id })
+      .expect(202);
     await waitForDone(run.body.id);
     const [original] = await t.db.select().from(fits).where(eq(fits.id, run.body.id));
 
@@ -78,24 +90,45 @@ describe("restart", () => {
     try {
       expect(await restarted.recover()).toEqual([running.id, queued.id]);
       const [requeued] = await t.db.select().from(fits).where(eq(fits.id, running.id));
-      expect(requeued).toMatchObject({ status: "queued", progress: 0, secondsLeft: null, startedAt: firstStart });
+      expect(requeued).toMatchObject({
+        status: "queued",
+        progress: 0,
+        secondsLeft: null,
+        startedAt: firstStart,
+      });
       await restarted.whenIdle();
     } finally {
       await restarted.close();
     }
 
-    const after = await t.db.select().from(fits).where(inArray(fits.id, [running.id, queued.id]));
+    const after = await t.db
+      .select()
+      .from(fits)
+      .where(inArray(fits.id, [running.id, queued.id]));
     const byId = new Map(after.map((f) => [f.id, f]));
-    expect(byId.get(running.id)).toMatchObject({ status: "done", progress: 1, startedAt: firstStart });
+    expect(byId.get(running.id)).toMatchObject({
+      status: "done",
+      progress: 1,
+      startedAt: firstStart,
+    });
     // A fit that had never started gets its start time when it first runs.
     expect(byId.get(queued.id)?.status).toBe("done");
     expect(byId.get(queued.id)?.startedAt?.getTime()).toBeGreaterThan(firstStart.getTime());
     for (const fit of after) expect(fit.result).toEqual(original.result);
     const rowsOf = async (id: string) =>
-      (await t.db.select().from(fitRegions).where(eq(fitRegions.fitId, id)).orderBy(fitRegions.position)).map((r) => [r.region, r.participants, r.plot]);
+      (
+        await t.db
+          .select()
+          .from(fitRegions)
+          .where(eq(fitRegions.fitId, id))
+          .orderBy(fitRegions.position)
+      ).map((r) => [r.region, r.participants, r.plot]);
     expect(await rowsOf(running.id)).toEqual(await rowsOf(original.id));
 
-    const activity = await request(t.url).get(`/api/studies/${studyId}/activity?kind=fit.requeued`).set("Cookie", cookie).expect(200);
+    const activity = await request(t.url)
+      .get(`/api/studies/${studyId}/activity?kind=fit.requeued`)
+      .set("Cookie", cookie)
+      .expect(200);
     expect(activity.body).toHaveLength(2);
     const ofRunning = activity.body.find((e: { targetId: string }) => e.targetId === running.id);
     expect(ofRunning).toMatchObject({

@@ -6,7 +6,16 @@ import express from "express";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { noStoreByDefault } from "../../server/http/security-headers";
-import { agentFor, createTestApp, firstLink, pathOf, signInByEmail, signInByInstitution, signInDemo, type TestApp } from "./helpers";
+import {
+  agentFor,
+  createTestApp,
+  firstLink,
+  pathOf,
+  signInByEmail,
+  signInByInstitution,
+  signInDemo,
+  type TestApp,
+} from "./helpers";
 
 let t: TestApp;
 beforeAll(async () => {
@@ -24,7 +33,9 @@ describe("health and envelope", () => {
 
   it("unknown /api paths answer 404 with the envelope", async () => {
     const res = await request(t.app).get("/api/no-such-thing").expect(404);
-    expect(res.body).toEqual({ error: { code: "not_found", message: "No API route GET /api/no-such-thing." } });
+    expect(res.body).toEqual({
+      error: { code: "not_found", message: "No API route GET /api/no-such-thing." },
+    });
     const post = await request(t.app).post("/api/studies/x/y/z").send({}).expect(404);
     expect(post.body.error.code).toBe("not_found");
   });
@@ -41,9 +52,16 @@ describe("health and envelope", () => {
 
   it("malformed JSON is 400 and an oversized body is 413, both with the envelope", async () => {
     const agent = await signInDemo(t, "owner@demo.covarion.test");
-    const bad = await agent.post("/api/studies").set("Content-Type", "application/json").send("{nope").expect(400);
+    const bad = await agent
+      .post("/api/studies")
+      .set("Content-Type", "application/json")
+      .send("{nope")
+      .expect(400);
     expect(bad.body.error.code).toBe("malformed_json");
-    const big = await agent.post("/api/studies").send({ name: "x", description: "y".repeat(1_100_000) }).expect(413);
+    const big = await agent
+      .post("/api/studies")
+      .send({ name: "x", description: "y".repeat(1_100_000) })
+      .expect(413);
     expect(big.body.error.code).toBe("payload_too_large");
   });
 
@@ -69,11 +87,22 @@ describe("health and envelope", () => {
       const res = await agent.get(path).expect(200);
       expect(res.headers["cache-control"], path).toContain("no-store");
     }
-    expect((await request(t.app).get("/api/studies").expect(401)).headers["cache-control"]).toBe("no-store");
-    expect((await request(t.app).get("/api/no-such-thing").expect(404)).headers["cache-control"]).toBe("no-store");
+    expect((await request(t.app).get("/api/studies").expect(401)).headers["cache-control"]).toBe(
+      "no-store",
+    );
+    expect(
+      (await request(t.app).get("/api/no-such-thing").expect(404)).headers["cache-control"],
+    ).toBe("no-store");
     for (const path of ["/api/health", "/sign-in"]) {
       const policy = String((await request(t.app).get(path)).headers["permissions-policy"]);
-      for (const feature of ["camera=()", "microphone=()", "geolocation=()", "payment=()", "usb=()"]) expect(policy, path).toContain(feature);
+      for (const feature of [
+        "camera=()",
+        "microphone=()",
+        "geolocation=()",
+        "payment=()",
+        "usb=()",
+      ])
+        expect(policy, path).toContain(feature);
     }
   });
 
@@ -86,15 +115,24 @@ describe("health and envelope", () => {
     app.get("/plain", (_req, res) => {
       res.json({});
     });
-    expect((await request(app).get("/view").expect(200)).headers["cache-control"]).toBe("private, no-cache");
-    expect((await request(app).get("/plain").expect(200)).headers["cache-control"]).toBe("no-store");
+    expect((await request(app).get("/view").expect(200)).headers["cache-control"]).toBe(
+      "private, no-cache",
+    );
+    expect((await request(app).get("/plain").expect(200)).headers["cache-control"]).toBe(
+      "no-store",
+    );
   });
 
   it("lists sign-in methods and demo accounts", async () => {
     const res = await request(t.app).get("/api/auth-options").expect(200);
     expect(res.body.email).toEqual({ providerId: "nodemailer" });
     expect(res.body.institution.providerId).toBe("institution");
-    expect(res.body.demoAccounts.map((a: { role: string }) => a.role)).toEqual(["owner", "analyst", "reviewer", "viewer"]);
+    expect(res.body.demoAccounts.map((a: { role: string }) => a.role)).toEqual([
+      "owner",
+      "analyst",
+      "reviewer",
+      "viewer",
+    ]);
     expect(res.body.mailbox).toBe(true);
   });
 });
@@ -103,7 +141,11 @@ describe("sign-in", () => {
   it("a new address signs in by e-mail link and /api/me returns it", async () => {
     const agent = await signInByEmail(t, "new.person@lab.example");
     const me = await agent.get("/api/me").expect(200);
-    expect(me.body).toEqual({ id: expect.any(String), email: "new.person@lab.example", name: null });
+    expect(me.body).toEqual({
+      id: expect.any(String),
+      email: "new.person@lab.example",
+      name: null,
+    });
     const mail = t.mail.latestTo("new.person@lab.example");
     expect(mail.subject).toBe("Your sign-in link for Covarion");
     expect(mail.html).toContain("Sign in to Covarion");
@@ -118,13 +160,24 @@ describe("sign-in", () => {
     const res = await request(t.app).get("/api/dev/mail").expect(200);
     const order = (res.body as { to: string }[]).map((m) => m.to);
     expect(order.indexOf("second@lab.example")).toBeLessThan(order.indexOf("first@lab.example"));
-    expect(res.body[0]).toEqual({ id: expect.any(String), to: expect.any(String), subject: expect.any(String), text: expect.any(String), html: expect.any(String), sentAt: expect.any(String) });
+    expect(res.body[0]).toEqual({
+      id: expect.any(String),
+      to: expect.any(String),
+      subject: expect.any(String),
+      text: expect.any(String),
+      html: expect.any(String),
+      sentAt: expect.any(String),
+    });
   });
 
   it("a sign-in link works once", async () => {
     const agent = agentFor(t);
     const csrf = await agent.get("/api/auth/csrf");
-    await agent.post("/api/auth/signin/nodemailer").type("form").send({ email: "once@lab.example", csrfToken: csrf.body.csrfToken }).expect(302);
+    await agent
+      .post("/api/auth/signin/nodemailer")
+      .type("form")
+      .send({ email: "once@lab.example", csrfToken: csrf.body.csrfToken })
+      .expect(302);
     const link = pathOf(firstLink(t.mail.latestTo("once@lab.example").text));
     await agent.get(link).expect(302);
     const again = await agentFor(t).get(link).expect(302);
@@ -149,19 +202,29 @@ describe("sign-in", () => {
 
   it("demo sign-in gives a session cookie like Auth.js's, and rejects other addresses", async () => {
     const agent = agentFor(t);
-    const res = await agent.post("/api/dev/demo-sign-in").send({ email: "reviewer@demo.covarion.test" }).expect(200);
+    const res = await agent
+      .post("/api/dev/demo-sign-in")
+      .send({ email: "reviewer@demo.covarion.test" })
+      .expect(200);
     const cookie = String(res.headers["set-cookie"]);
     expect(cookie).toMatch(/authjs\.session-token=/);
     expect(cookie).toMatch(/HttpOnly/i);
     expect(cookie).toMatch(/SameSite=Lax/i);
     expect((await agent.get("/api/me").expect(200)).body.email).toBe("reviewer@demo.covarion.test");
-    await request(t.app).post("/api/dev/demo-sign-in").send({ email: "someone@else.example" }).expect(404);
+    await request(t.app)
+      .post("/api/dev/demo-sign-in")
+      .send({ email: "someone@else.example" })
+      .expect(404);
   });
 
   it("signs out through Auth.js", async () => {
     const agent = await signInDemo(t, "viewer@demo.covarion.test");
     const csrf = await agent.get("/api/auth/csrf");
-    await agent.post("/api/auth/signout").type("form").send({ csrfToken: csrf.body.csrfToken }).expect(302);
+    await agent
+      .post("/api/auth/signout")
+      .type("form")
+      .send({ csrfToken: csrf.body.csrfToken })
+      .expect(302);
     await agent.get("/api/me").expect(401);
   });
 });

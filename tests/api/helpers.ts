@@ -103,7 +103,15 @@ export async function createTestApp(options: TestAppOptions = {}): Promise<TestA
       messages: () => mailFake.messages(),
       latestTo(to) {
         const found = mailFake.messages().find((m) => m.to === to);
-        if (!found) throw new Error(`no message to ${to}; mailbox: ${mailFake.messages().map((m) => m.to).join(", ") || "empty"}`);
+        if (!found)
+          throw new Error(
+            `no message to ${to}; mailbox: ${
+              mailFake
+                .messages()
+                .map((m) => m.to)
+                .join(", ") || "empty"
+            }`,
+          );
         return found;
       },
     },
@@ -158,7 +166,9 @@ export async function signInByEmail(t: TestApp, email: string): Promise<Agent> {
   const link = firstLink(t.mail.latestTo(email.toLowerCase()).text);
   const followed = await agent.get(pathOf(link));
   if (followed.status !== 302 || String(followed.headers.location) !== `${t.url}/studies`) {
-    throw new Error(`the sign-in link did not sign in: ${followed.status} ${followed.headers.location}`);
+    throw new Error(
+      `the sign-in link did not sign in: ${followed.status} ${followed.headers.location}`,
+    );
   }
   return agent;
 }
@@ -171,7 +181,11 @@ export async function signInDemo(t: TestApp, email: string): Promise<Agent> {
 }
 
 /** Signs `email` in through the fake institution's OpenID Connect flow. */
-export async function signInByInstitution(t: TestApp, email: string, name?: string): Promise<Agent> {
+export async function signInByInstitution(
+  t: TestApp,
+  email: string,
+  name?: string,
+): Promise<Agent> {
   const agent = agentFor(t);
   const issuer = t.services.institution?.issuer;
   if (!issuer) throw new Error("no identity provider");
@@ -180,25 +194,31 @@ export async function signInByInstitution(t: TestApp, email: string, name?: stri
   const started = await agent
     .post("/api/auth/signin/institution")
     .type("form")
-    .send({ csrfToken: (csrf.body as { csrfToken: string }).csrfToken, callbackUrl: `${t.url}/studies` })
+    .send({
+      csrfToken: (csrf.body as { csrfToken: string }).csrfToken,
+      callbackUrl: `${t.url}/studies`,
+    })
     .expect(302);
   const authorize = String(started.headers.location);
-  if (!authorize.startsWith(issuer)) throw new Error(`expected a redirect to the identity provider, got ${authorize}`);
+  if (!authorize.startsWith(issuer))
+    throw new Error(`expected a redirect to the identity provider, got ${authorize}`);
   const toInteraction = await idp.get(pathOf(authorize)).expect(303);
   const interaction = String(toInteraction.headers.location);
   const loginPage = await idp.get(interaction).expect(200);
-  if (!loginPage.text.includes("Institution sign-in")) throw new Error("the identity provider's login page did not show");
+  if (!loginPage.text.includes("Institution sign-in"))
+    throw new Error("the identity provider's login page did not show");
   const login = await idp
     .post(`${interaction}/login`)
     .type("form")
     .send(name ? { email, name } : { email })
     .expect(303);
   let location = String(login.headers.location);
-  for (let hop = 0; hop < 5 && location.startsWith(issuer) ; hop++) {
+  for (let hop = 0; hop < 5 && location.startsWith(issuer); hop++) {
     const next = await idp.get(pathOf(location));
     location = String(next.headers.location);
   }
-  if (!location.startsWith(`${t.url}/api/auth/callback/institution`)) throw new Error(`expected a redirect back to Covarion, got ${location}`);
+  if (!location.startsWith(`${t.url}/api/auth/callback/institution`))
+    throw new Error(`expected a redirect back to Covarion, got ${location}`);
   const done = await agent.get(pathOf(location));
   if (done.status !== 302 || String(done.headers.location) !== `${t.url}/studies`) {
     throw new Error(`institution sign-in did not finish: ${done.status} ${done.headers.location}`);

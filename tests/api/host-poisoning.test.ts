@@ -21,7 +21,14 @@ import { startServices, type Services } from "../../server/dev/dev-services";
 import { startMailFake, type MailFake } from "../../server/dev/mail-fake";
 import { errorHandler } from "../../server/http/errors";
 import { sameOrigin } from "../../server/http/same-origin";
-import { createTestApp, firstLink, openTemplateDatabase, pathOf, signInDemo, type TestApp } from "./helpers";
+import {
+  createTestApp,
+  firstLink,
+  openTemplateDatabase,
+  pathOf,
+  signInDemo,
+  type TestApp,
+} from "./helpers";
 
 const publicUrl = "https://covarion.example.org";
 const publicHost = "covarion.example.org";
@@ -35,10 +42,21 @@ describe("production: links and hosts come from PUBLIC_URL", () => {
 
   beforeAll(async () => {
     smtp = await startMailFake();
-    const config = loadConfig({ NODE_ENV: "production", DATA_DIR: dataDir, SMTP_URL: `smtp://127.0.0.1:${smtp.port}`, PUBLIC_URL: publicUrl });
+    const config = loadConfig({
+      NODE_ENV: "production",
+      DATA_DIR: dataDir,
+      SMTP_URL: `smtp://127.0.0.1:${smtp.port}`,
+      PUBLIC_URL: publicUrl,
+    });
     services = await startServices(config);
     database = await openTemplateDatabase();
-    app = createApp({ config, db: database.db, mailer: services.mailer, institution: services.institution, log: () => {} });
+    app = createApp({
+      config,
+      db: database.db,
+      mailer: services.mailer,
+      institution: services.institution,
+      log: () => {},
+    });
   });
   afterAll(async () => {
     await (app?.locals.fitJobs as { close(): Promise<void> } | undefined)?.close();
@@ -49,13 +67,19 @@ describe("production: links and hosts come from PUBLIC_URL", () => {
   });
 
   /** The CSRF token and the cookies that carry it, fetched with this Host header. */
-  async function csrf(host: string): Promise<{ status: number; token: string | null; cookie: string }> {
+  async function csrf(
+    host: string,
+  ): Promise<{ status: number; token: string | null; cookie: string }> {
     const res = await request(app).get("/api/auth/csrf").set("Host", host);
     const cookie = ([] as string[])
       .concat(res.headers["set-cookie"] ?? [])
       .map((c) => c.split(";")[0])
       .join("; ");
-    return { status: res.status, token: (res.body as { csrfToken?: string }).csrfToken ?? null, cookie };
+    return {
+      status: res.status,
+      token: (res.body as { csrfToken?: string }).csrfToken ?? null,
+      cookie,
+    };
   }
 
   /** Signs `email` in on the real host; returns the session cookie. */
@@ -70,8 +94,14 @@ describe("production: links and hosts come from PUBLIC_URL", () => {
       .expect(302);
     const message = smtp.messages().find((m) => m.to === email);
     if (!message) throw new Error(`no mail to ${email}`);
-    const back = await request(app).get(pathOf(firstLink(message.text))).set("Host", publicHost).set("Cookie", cookie).expect(302);
-    const session = ([] as string[]).concat(back.headers["set-cookie"] ?? []).find((c) => c.startsWith("__Secure-authjs.session-token="));
+    const back = await request(app)
+      .get(pathOf(firstLink(message.text)))
+      .set("Host", publicHost)
+      .set("Cookie", cookie)
+      .expect(302);
+    const session = ([] as string[])
+      .concat(back.headers["set-cookie"] ?? [])
+      .find((c) => c.startsWith("__Secure-authjs.session-token="));
     if (!session) throw new Error("no session cookie");
     return session.split(";")[0] as string;
   }
@@ -108,7 +138,9 @@ describe("production: links and hosts come from PUBLIC_URL", () => {
       .type("form")
       .send({ email: "forwarded@example.org", csrfToken: token })
       .expect(302);
-    const link = firstLink(smtp.messages().find((m) => m.to === "forwarded@example.org")?.text ?? "");
+    const link = firstLink(
+      smtp.messages().find((m) => m.to === "forwarded@example.org")?.text ?? "",
+    );
     expect(link.startsWith(`${publicUrl}/api/auth/callback/nodemailer?`)).toBe(true);
   });
 
@@ -126,7 +158,11 @@ describe("production: links and hosts come from PUBLIC_URL", () => {
     expect(String(res.headers.location).startsWith(`${publicUrl}/`)).toBe(true);
     const link = firstLink(smtp.messages().find((m) => m.to === "pi@lab.example")?.text ?? "");
     expect(link.startsWith(`${publicUrl}/api/auth/callback/nodemailer?`)).toBe(true);
-    const back = await request(app).get(pathOf(link)).set("Host", publicHost).set("Cookie", cookie).expect(302);
+    const back = await request(app)
+      .get(pathOf(link))
+      .set("Host", publicHost)
+      .set("Cookie", cookie)
+      .expect(302);
     expect(back.headers.location).toBe(`${publicUrl}/studies`);
   });
 
@@ -138,11 +174,32 @@ describe("production: links and hosts come from PUBLIC_URL", () => {
   });
 
   it("behind a trusted proxy the forwarded host is the one checked", async () => {
-    const config = loadConfig({ NODE_ENV: "production", DATA_DIR: dataDir, SMTP_URL: `smtp://127.0.0.1:${smtp.port}`, PUBLIC_URL: publicUrl, TRUST_PROXY: "loopback" });
-    const proxied = createApp({ config, db: database.db, mailer: services.mailer, institution: null, log: () => {} });
+    const config = loadConfig({
+      NODE_ENV: "production",
+      DATA_DIR: dataDir,
+      SMTP_URL: `smtp://127.0.0.1:${smtp.port}`,
+      PUBLIC_URL: publicUrl,
+      TRUST_PROXY: "loopback",
+    });
+    const proxied = createApp({
+      config,
+      db: database.db,
+      mailer: services.mailer,
+      institution: null,
+      log: () => {},
+    });
     try {
-      await request(proxied).get("/api/health").set("Host", "127.0.0.1:3000").set("X-Forwarded-Host", publicHost).set("X-Forwarded-Proto", "https").expect(200);
-      const res = await request(proxied).get("/api/health").set("Host", publicHost).set("X-Forwarded-Host", "attacker.example").expect(421);
+      await request(proxied)
+        .get("/api/health")
+        .set("Host", "127.0.0.1:3000")
+        .set("X-Forwarded-Host", publicHost)
+        .set("X-Forwarded-Proto", "https")
+        .expect(200);
+      const res = await request(proxied)
+        .get("/api/health")
+        .set("Host", publicHost)
+        .set("X-Forwarded-Host", "attacker.example")
+        .expect(421);
       expect(res.body.error.code).toBe("misdirected_request");
     } finally {
       await (proxied.locals.fitJobs as { close(): Promise<void> }).close();
@@ -177,9 +234,21 @@ describe("production: links and hosts come from PUBLIC_URL", () => {
       .send({ name: "Planted by another site" })
       .expect(403);
     expect(wrongOrigin.body.error.code).toBe("cross_origin");
-    const studies = await request(app).get("/api/studies").set("Host", publicHost).set("Cookie", session).expect(200);
-    expect((studies.body as { name: string }[]).map((s) => s.name)).not.toContain("Planted by another site");
-    await request(app).post("/api/studies").set("Host", publicHost).set("Origin", publicUrl).set("Cookie", session).send({ name: "Own study" }).expect(201);
+    const studies = await request(app)
+      .get("/api/studies")
+      .set("Host", publicHost)
+      .set("Cookie", session)
+      .expect(200);
+    expect((studies.body as { name: string }[]).map((s) => s.name)).not.toContain(
+      "Planted by another site",
+    );
+    await request(app)
+      .post("/api/studies")
+      .set("Host", publicHost)
+      .set("Origin", publicUrl)
+      .set("Cookie", session)
+      .send({ name: "Own study" })
+      .expect(201);
   });
 });
 
@@ -195,16 +264,40 @@ describe("same-origin check", () => {
   }
 
   it("compares Origin with PUBLIC_URL, not with the Host header", async () => {
-    const res = await request(guarded(true)).post("/x").set("Host", "evil.example").set("Origin", "http://evil.example").expect(403);
+    const res = await request(guarded(true))
+      .post("/x")
+      .set("Host", "evil.example")
+      .set("Origin", "http://evil.example")
+      .expect(403);
     expect(res.body.error.code).toBe("cross_origin");
-    await request(guarded(true)).post("/x").set("Host", "evil.example").set("Origin", publicUrl).expect(200);
-    await request(guarded(true)).post("/x").set("Host", "127.0.0.1:3000").set("Origin", "http://127.0.0.1:3000").expect(403);
+    await request(guarded(true))
+      .post("/x")
+      .set("Host", "evil.example")
+      .set("Origin", publicUrl)
+      .expect(200);
+    await request(guarded(true))
+      .post("/x")
+      .set("Host", "127.0.0.1:3000")
+      .set("Origin", "http://127.0.0.1:3000")
+      .expect(403);
   });
 
   it("outside production also accepts the page's own loopback origin", async () => {
-    await request(guarded(false)).post("/x").set("Host", "localhost:3000").set("Origin", "http://localhost:3000").expect(200);
-    await request(guarded(false)).post("/x").set("Host", "evil.example").set("Origin", "http://evil.example").expect(403);
-    await request(guarded(false)).post("/x").set("Host", "localhost:3000").set("Origin", "http://localhost:4000").expect(403);
+    await request(guarded(false))
+      .post("/x")
+      .set("Host", "localhost:3000")
+      .set("Origin", "http://localhost:3000")
+      .expect(200);
+    await request(guarded(false))
+      .post("/x")
+      .set("Host", "evil.example")
+      .set("Origin", "http://evil.example")
+      .expect(403);
+    await request(guarded(false))
+      .post("/x")
+      .set("Host", "localhost:3000")
+      .set("Origin", "http://localhost:4000")
+      .expect(403);
   });
 });
 
@@ -220,16 +313,32 @@ describe("demo and development: loopback names only (DNS rebinding)", () => {
   it("refuses the local mailbox to a rebound name", async () => {
     const res = await request(t.app).get("/api/dev/mail").set("Host", "evil.example").expect(421);
     expect(res.body.error.code).toBe("misdirected_request");
-    await request(t.app).get("/api/dev/mail").set("Host", `evil.example:${new URL(t.url).port}`).expect(421);
+    await request(t.app)
+      .get("/api/dev/mail")
+      .set("Host", `evil.example:${new URL(t.url).port}`)
+      .expect(421);
     await request(t.app).get("/mailbox").set("Host", "evil.example").expect(421);
-    await request(t.app).post("/api/dev/demo-sign-in").set("Host", "evil.example").send({ email: "owner@demo.covarion.test" }).expect(421);
+    await request(t.app)
+      .post("/api/dev/demo-sign-in")
+      .set("Host", "evil.example")
+      .send({ email: "owner@demo.covarion.test" })
+      .expect(421);
   });
 
   it("the local identity service answers loopback names only", async () => {
     const issuer = t.services.institution?.issuer ?? "";
-    await request(issuer).get("/.well-known/openid-configuration").set("Host", "evil.example").expect(421);
-    await request(issuer).get("/.well-known/openid-configuration").set("Host", new URL(issuer).host).expect(200);
-    await request(issuer).get("/.well-known/openid-configuration").set("Host", `localhost:${new URL(issuer).port}`).expect(200);
+    await request(issuer)
+      .get("/.well-known/openid-configuration")
+      .set("Host", "evil.example")
+      .expect(421);
+    await request(issuer)
+      .get("/.well-known/openid-configuration")
+      .set("Host", new URL(issuer).host)
+      .expect(200);
+    await request(issuer)
+      .get("/.well-known/openid-configuration")
+      .set("Host", `localhost:${new URL(issuer).port}`)
+      .expect(200);
   });
 
   it("answers localhost, 127.0.0.1 and [::1] on any port", async () => {
@@ -240,7 +349,16 @@ describe("demo and development: loopback names only (DNS rebinding)", () => {
 
   it("a signed-in page on localhost may post; another site may not", async () => {
     const agent = await signInDemo(t, "owner@demo.covarion.test");
-    await agent.post("/api/studies").set("Host", "localhost:3000").set("Origin", "http://localhost:3000").send({ name: "Local" }).expect(201);
-    await agent.post("/api/studies").set("Origin", "http://evil.example").send({ name: "Other site" }).expect(403);
+    await agent
+      .post("/api/studies")
+      .set("Host", "localhost:3000")
+      .set("Origin", "http://localhost:3000")
+      .send({ name: "Local" })
+      .expect(201);
+    await agent
+      .post("/api/studies")
+      .set("Origin", "http://evil.example")
+      .send({ name: "Other site" })
+      .expect(403);
   });
 });

@@ -27,11 +27,23 @@ const dataDir = mkdtempSync(join(tmpdir(), "covarion-prod-"));
 
 beforeAll(async () => {
   smtp = await startMailFake();
-  const config = loadConfig({ NODE_ENV: "production", DATA_DIR: dataDir, SMTP_URL: `smtp://127.0.0.1:${smtp.port}`, PUBLIC_URL: "https://covarion.lab.example" });
+  const config = loadConfig({
+    NODE_ENV: "production",
+    DATA_DIR: dataDir,
+    SMTP_URL: `smtp://127.0.0.1:${smtp.port}`,
+    PUBLIC_URL: "https://covarion.lab.example",
+  });
   services = await startServices(config);
   database = await openTemplateDatabase();
   await seedDemo(database.db, { now: new Date() });
-  app = createApp({ config, db: database.db, mailer: services.mailer, mailbox: services.mailFake, institution: services.institution, log: () => {} });
+  app = createApp({
+    config,
+    db: database.db,
+    mailer: services.mailer,
+    mailbox: services.mailFake,
+    institution: services.institution,
+    log: () => {},
+  });
 });
 afterAll(async () => {
   await services?.close();
@@ -48,19 +60,33 @@ describe("production mode", () => {
   });
 
   it("answers 404 for the mailbox and demo sign-in", async () => {
-    expect((await request(app).get("/api/dev/mail").set("Host", host).expect(404)).body.error.code).toBe("not_found");
-    await request(app).post("/api/dev/demo-sign-in").set("Host", host).send({ email: "owner@demo.covarion.test" }).expect(404);
+    expect(
+      (await request(app).get("/api/dev/mail").set("Host", host).expect(404)).body.error.code,
+    ).toBe("not_found");
+    await request(app)
+      .post("/api/dev/demo-sign-in")
+      .set("Host", host)
+      .send({ email: "owner@demo.covarion.test" })
+      .expect(404);
   });
 
   it("offers e-mail sign-in only, with no demo accounts", async () => {
     const res = await request(app).get("/api/auth-options").set("Host", host).expect(200);
-    expect(res.body).toEqual({ email: { providerId: "nodemailer" }, institution: null, demoAccounts: [], mailbox: false });
+    expect(res.body).toEqual({
+      email: { providerId: "nodemailer" },
+      institution: null,
+      demoAccounts: [],
+      mailbox: false,
+    });
   });
 
   it("sends the sign-in e-mail through the configured SMTP server and sets HSTS", async () => {
     // Secure cookies are not replayed over plain http by a cookie jar, so carry them by hand (as a browser on https would).
     const csrf = await request(app).get("/api/auth/csrf").set("Host", host).expect(200);
-    const cookie = ([] as string[]).concat(csrf.headers["set-cookie"] ?? []).map((c) => c.split(";")[0]).join("; ");
+    const cookie = ([] as string[])
+      .concat(csrf.headers["set-cookie"] ?? [])
+      .map((c) => c.split(";")[0])
+      .join("; ");
     const res = await request(app)
       .post("/api/auth/signin/nodemailer")
       .set("Host", host)
@@ -69,7 +95,10 @@ describe("production mode", () => {
       .send({ email: "pi@lab.example", csrfToken: csrf.body.csrfToken })
       .expect(302);
     expect(res.headers.location).not.toContain("error=");
-    expect(smtp.messages()[0]).toMatchObject({ to: "pi@lab.example", subject: "Your sign-in link for Covarion" });
+    expect(smtp.messages()[0]).toMatchObject({
+      to: "pi@lab.example",
+      subject: "Your sign-in link for Covarion",
+    });
     expect(res.headers["strict-transport-security"]).toBeDefined();
   });
 });

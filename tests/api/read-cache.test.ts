@@ -53,7 +53,9 @@ describe("read cache", () => {
     expect(a).toBe(b);
     expect(await c.read()).toBe(a);
     expect(c.loads()).toBe(1);
-    await database.db.insert(users).values({ id: "cache-1", name: "Ines Cache", email: "ines@cache.test" });
+    await database.db
+      .insert(users)
+      .values({ id: "cache-1", name: "Ines Cache", email: "ines@cache.test" });
     const after = await c.read();
     expect(c.loads()).toBe(2);
     expect(after).toContain("Ines Cache");
@@ -94,7 +96,10 @@ describe("read cache", () => {
   it("an answer loading while a write begins is not handed to later callers", async () => {
     const c = counter();
     const early = c.read(); // queued in the database before the update
-    const write = database.db.update(users).set({ name: "Ines Later" }).where(eq(users.id, "cache-1"));
+    const write = database.db
+      .update(users)
+      .set({ name: "Ines Later" })
+      .where(eq(users.id, "cache-1"));
     const [first] = await Promise.all([early, write]);
     expect(first).not.toContain("Ines Later");
     expect(await c.read()).toContain("Ines Later");

@@ -9,7 +9,14 @@ import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { memberships, studies } from "../../db/schema";
 import { generateDemoFiles } from "../../db/seed/demo-data";
-import { type Agent, type TestApp, createTestApp, signInByEmail, signInDemo, userIdOf } from "./helpers";
+import {
+  type Agent,
+  type TestApp,
+  createTestApp,
+  signInByEmail,
+  signInDemo,
+  userIdOf,
+} from "./helpers";
 
 let t: TestApp;
 const agents: Record<"owner" | "analyst" | "reviewer" | "viewer" | "outsider", Agent> = {} as never;
@@ -31,20 +38,35 @@ let studyCounter = 0;
 async function newStudy(): Promise<string> {
   studyCounter += 1;
   const ownerId = await userIdOf(t.db, "owner@demo.covarion.test");
-  const [study] = await t.db.insert(studies).values({ name: `Reliability study ${studyCounter}`, createdBy: ownerId }).returning();
+  const [study] = await t.db
+    .insert(studies)
+    .values({ name: `Reliability study ${studyCounter}`, createdBy: ownerId })
+    .returning();
   for (const role of ["owner", "analyst", "reviewer", "viewer"] as const) {
-    await t.db.insert(memberships).values({ studyId: study.id, userId: await userIdOf(t.db, `${role}@demo.covarion.test`), role });
+    await t.db.insert(memberships).values({
+      studyId: study.id,
+      userId: await userIdOf(t.db, `${role}@demo.covarion.test`),
+      role,
+    });
   }
   return study.id;
 }
 
-async function uploadAndConfirm(studyId: string, kind: "brain" | "participants", content: string, fileName: string) {
+async function uploadAndConfirm(
+  studyId: string,
+  kind: "brain" | "participants",
+  content: string,
+  fileName: string,
+) {
   const preview = await agents.analyst
     .post(`/api/studies/${studyId}/datasets`)
     .field("kind", kind)
     .attach("file", Buffer.from(new TextEncoder().encode(content)), fileName)
     .expect(201);
-  await agents.analyst.post(`/api/studies/${studyId}/datasets/${preview.body.id}/confirm`).send({}).expect(201);
+  await agents.analyst
+    .post(`/api/studies/${studyId}/datasets/${preview.body.id}/confirm`)
+    .send({})
+    .expect(201);
 }
 
 async function demoStudy(): Promise<string> {
@@ -68,7 +90,11 @@ describe("trait reliabilities", () => {
       .put(path())
       .send([
         { column: "accuracy", reliability: 0.82, source: "test–retest r = .82, task manual" },
-        { column: "symptom_score", reliability: 0.9, source: "  internal consistency α = .90, scale manual  " },
+        {
+          column: "symptom_score",
+          reliability: 0.9,
+          source: "  internal consistency α = .90, scale manual  ",
+        },
       ])
       .expect(200);
     expect(put.body).toEqual([
@@ -76,10 +102,18 @@ describe("trait reliabilities", () => {
         column: "accuracy",
         reliability: 0.82,
         source: "test–retest r = .82, task manual",
-        updatedBy: { id: expect.any(String), name: "Tomas Ferreira", email: "analyst@demo.covarion.test" },
+        updatedBy: {
+          id: expect.any(String),
+          name: "Tomas Ferreira",
+          email: "analyst@demo.covarion.test",
+        },
         updatedAt: expect.any(String),
       },
-      expect.objectContaining({ column: "symptom_score", reliability: 0.9, source: "internal consistency α = .90, scale manual" }),
+      expect.objectContaining({
+        column: "symptom_score",
+        reliability: 0.9,
+        source: "internal consistency α = .90, scale manual",
+      }),
     ]);
     for (const role of ["owner", "reviewer", "viewer"] as const) {
       const got = await agents[role].get(path()).expect(200);
@@ -88,33 +122,66 @@ describe("trait reliabilities", () => {
   });
 
   it("a PUT replaces the whole list, and each change is in the activity trail with before and after", async () => {
-    await agents.owner.put(path()).send([{ column: "accuracy", reliability: 0.8, source: "split-half, pilot study" }]).expect(200);
+    await agents.owner
+      .put(path())
+      .send([{ column: "accuracy", reliability: 0.8, source: "split-half, pilot study" }])
+      .expect(200);
     const got = await agents.analyst.get(path()).expect(200);
-    expect(got.body.map((e: { column: string; reliability: number }) => [e.column, e.reliability])).toEqual([["accuracy", 0.8]]);
-    const activity = await agents.owner.get(`/api/studies/${studyId}/activity?kind=trait_reliabilities`).expect(200);
+    expect(
+      got.body.map((e: { column: string; reliability: number }) => [e.column, e.reliability]),
+    ).toEqual([["accuracy", 0.8]]);
+    const activity = await agents.owner
+      .get(`/api/studies/${studyId}/activity?kind=trait_reliabilities`)
+      .expect(200);
     expect(activity.body[0]).toMatchObject({
       kind: "trait_reliabilities.updated",
       targetType: "participant_sheet",
       before: [
         { column: "accuracy", reliability: 0.82, source: "test–retest r = .82, task manual" },
-        { column: "symptom_score", reliability: 0.9, source: "internal consistency α = .90, scale manual" },
+        {
+          column: "symptom_score",
+          reliability: 0.9,
+          source: "internal consistency α = .90, scale manual",
+        },
       ],
       after: [{ column: "accuracy", reliability: 0.8, source: "split-half, pilot study" }],
     });
     await agents.analyst.put(path()).send([]).expect(200, []);
-    const cleared = await agents.owner.get(`/api/studies/${studyId}/activity?kind=trait_reliabilities`).expect(200);
+    const cleared = await agents.owner
+      .get(`/api/studies/${studyId}/activity?kind=trait_reliabilities`)
+      .expect(200);
     expect(cleared.body[0]).toMatchObject({ before: [{ column: "accuracy" }], after: [] });
   });
 
   it("refuses bad entries, naming each field", async () => {
     const put = (body: unknown) => agents.analyst.put(path()).send(body as object);
     const cases: [unknown, string, RegExp][] = [
-      [[{ column: "accuracy", reliability: 0, source: "manual" }], "body.0.reliability", /greater than 0/],
-      [[{ column: "accuracy", reliability: 1.2, source: "manual" }], "body.0.reliability", /at most 1/],
-      [[{ column: "accuracy", reliability: "0.8", source: "manual" }], "body.0.reliability", /number/],
+      [
+        [{ column: "accuracy", reliability: 0, source: "manual" }],
+        "body.0.reliability",
+        /greater than 0/,
+      ],
+      [
+        [{ column: "accuracy", reliability: 1.2, source: "manual" }],
+        "body.0.reliability",
+        /at most 1/,
+      ],
+      [
+        [{ column: "accuracy", reliability: "0.8", source: "manual" }],
+        "body.0.reliability",
+        /number/,
+      ],
       [[{ column: "accuracy", reliability: 0.8 }], "body.0.source", /where the value comes from/],
-      [[{ column: "accuracy", reliability: 0.8, source: "   " }], "body.0.source", /where the value comes from/],
-      [[{ column: "", reliability: 0.8, source: "manual" }], "body.0.column", /participant-sheet column/],
+      [
+        [{ column: "accuracy", reliability: 0.8, source: "   " }],
+        "body.0.source",
+        /where the value comes from/,
+      ],
+      [
+        [{ column: "", reliability: 0.8, source: "manual" }],
+        "body.0.column",
+        /participant-sheet column/,
+      ],
       [[{ column: "accuracy", reliability: 0.8, source: "manual", note: "x" }], "body.0", /key/i],
       [
         [
@@ -129,18 +196,27 @@ describe("trait reliabilities", () => {
     for (const [body, field, message] of cases) {
       const res = await put(body).expect(400);
       expect(res.body.error.code).toBe("validation_failed");
-      expect(res.body.error.details, JSON.stringify(body)).toContainEqual({ field, message: expect.stringMatching(message) });
+      expect(res.body.error.details, JSON.stringify(body)).toContainEqual({
+        field,
+        message: expect.stringMatching(message),
+      });
     }
-    const unknown = await put([{ column: "shoe_size", reliability: 0.8, source: "manual" }]).expect(422);
+    const unknown = await put([{ column: "shoe_size", reliability: 0.8, source: "manual" }]).expect(
+      422,
+    );
     expect(unknown.body.error).toMatchObject({
       code: "unknown_column",
-      details: [{ field: "body.0.column", message: `${demo.sheetFileName} has no column "shoe_size"` }],
+      details: [
+        { field: "body.0.column", message: `${demo.sheetFileName} has no column "shoe_size"` },
+      ],
     });
     const category = await put([
       { column: "accuracy", reliability: 0.8, source: "manual" },
       { column: "sex", reliability: 0.8, source: "manual" },
     ]).expect(422);
-    expect(category.body.error.details).toEqual([{ field: "body.1.column", message: expect.stringContaining('column "sex"') }]);
+    expect(category.body.error.details).toEqual([
+      { field: "body.1.column", message: expect.stringContaining('column "sex"') },
+    ]);
     expect(category.body.error.details[0].message).toMatch(/not numeric/);
     // Nothing was stored by the refused requests.
     const got = await agents.viewer.get(path()).expect(200);
@@ -181,11 +257,22 @@ function iccByHand(matrix: number[][]) {
   const k = matrix[0].length;
   const grand = matrix.flat().reduce((s, x) => s + x, 0) / (n * k);
   const rowMeans = matrix.map((row) => row.reduce((s, x) => s + x, 0) / k);
-  const colMeans = Array.from({ length: k }, (_, j) => matrix.reduce((s, row) => s + row[j], 0) / n);
+  const colMeans = Array.from(
+    { length: k },
+    (_, j) => matrix.reduce((s, row) => s + row[j], 0) / n,
+  );
   const bms = (k * rowMeans.reduce((s, m) => s + (m - grand) ** 2, 0)) / (n - 1);
   const jms = (n * colMeans.reduce((s, m) => s + (m - grand) ** 2, 0)) / (k - 1);
-  const wms = matrix.reduce((s, row, i) => s + row.reduce((t2, x) => t2 + (x - rowMeans[i]) ** 2, 0), 0) / (n * (k - 1));
-  const ems = matrix.reduce((s, row, i) => s + row.reduce((t2, x, j) => t2 + (x - rowMeans[i] - colMeans[j] + grand) ** 2, 0), 0) / ((n - 1) * (k - 1));
+  const wms =
+    matrix.reduce((s, row, i) => s + row.reduce((t2, x) => t2 + (x - rowMeans[i]) ** 2, 0), 0) /
+    (n * (k - 1));
+  const ems =
+    matrix.reduce(
+      (s, row, i) =>
+        s + row.reduce((t2, x, j) => t2 + (x - rowMeans[i] - colMeans[j] + grand) ** 2, 0),
+      0,
+    ) /
+    ((n - 1) * (k - 1));
   return {
     icc11: (bms - wms) / (bms + (k - 1) * wms),
     icc21: (bms - ems) / (bms + (k - 1) * ems + (k * (jms - ems)) / n),
@@ -246,7 +333,8 @@ describe("brain reliability per region", () => {
       for (const key of ["icc11", "icc21", "icc31", "icc1k", "icc2k", "icc3k"]) {
         const form = r[key];
         expect(Object.keys(form).sort()).toEqual(["ciHigh", "ciLow", "value"]);
-        if (form.ciLow !== null) expect(form.ciLow, `${r.region} ${key}`).toBeLessThanOrEqual(form.value);
+        if (form.ciLow !== null)
+          expect(form.ciLow, `${r.region} ${key}`).toBeLessThanOrEqual(form.value);
         expect(form.ciHigh, `${r.region} ${key}`).toBeGreaterThanOrEqual(form.value);
       }
     }
@@ -258,22 +346,44 @@ describe("brain reliability per region", () => {
   it("answers 409 with a clear message without a brain table, without a session column, or with one session", async () => {
     const bare = await newStudy();
     const none = await agents.analyst.get(`/api/studies/${bare}/reliability`).expect(409);
-    expect(none.body.error).toMatchObject({ code: "conflict", message: expect.stringMatching(/no confirmed brain table/) });
+    expect(none.body.error).toMatchObject({
+      code: "conflict",
+      message: expect.stringMatching(/no confirmed brain table/),
+    });
 
     const noSession = await newStudy();
-    await uploadAndConfirm(noSession, "brain", "participant_id,L_insula\nsub-01,0.5\nsub-02,0.2\nsub-03,0.9\n", "single.csv");
+    await uploadAndConfirm(
+      noSession,
+      "brain",
+      "participant_id,L_insula\nsub-01,0.5\nsub-02,0.2\nsub-03,0.9\n",
+      "single.csv",
+    );
     const a = await agents.analyst.get(`/api/studies/${noSession}/reliability`).expect(409);
     expect(a.body.error.message).toMatch(/^The brain table single\.csv has no session column/);
 
     const oneSession = await newStudy();
-    await uploadAndConfirm(oneSession, "brain", "participant_id,session,L_insula\nsub-01,1,0.5\nsub-02,1,0.2\nsub-03,1,0.9\n", "one.csv");
+    await uploadAndConfirm(
+      oneSession,
+      "brain",
+      "participant_id,session,L_insula\nsub-01,1,0.5\nsub-02,1,0.2\nsub-03,1,0.9\n",
+      "one.csv",
+    );
     const b = await agents.analyst.get(`/api/studies/${oneSession}/reliability`).expect(409);
-    expect(b.body.error.message).toMatch(/has one session \(1\); reliability needs at least two sessions per participant/);
+    expect(b.body.error.message).toMatch(
+      /has one session \(1\); reliability needs at least two sessions per participant/,
+    );
 
     const oneRetested = await newStudy();
-    await uploadAndConfirm(oneRetested, "brain", "participant_id,session,L_insula\nsub-01,1,0.5\nsub-01,2,0.4\nsub-02,1,0.2\nsub-03,1,0.9\n", "retest.csv");
+    await uploadAndConfirm(
+      oneRetested,
+      "brain",
+      "participant_id,session,L_insula\nsub-01,1,0.5\nsub-01,2,0.4\nsub-02,1,0.2\nsub-03,1,0.9\n",
+      "retest.csv",
+    );
     const c = await agents.analyst.get(`/api/studies/${oneRetested}/reliability`).expect(409);
-    expect(c.body.error.message).toMatch(/has 1 participant with a value in every session \(1, 2\); reliability needs at least two/);
+    expect(c.body.error.message).toMatch(
+      /has 1 participant with a value in every session \(1, 2\); reliability needs at least two/,
+    );
   });
 
   it("role rules: every member reads it; non-members get 404", async () => {
@@ -290,7 +400,8 @@ describe("attenuation beside association results", () => {
   let reliability: { regions: { region: string; icc31: { value: number } }[] };
   beforeAll(async () => {
     studyId = await demoStudy();
-    reliability = (await agents.analyst.get(`/api/studies/${studyId}/reliability`).expect(200)).body;
+    reliability = (await agents.analyst.get(`/api/studies/${studyId}/reliability`).expect(200))
+      .body;
   }, 60_000);
 
   interface RegionBody {
@@ -319,27 +430,42 @@ describe("attenuation beside association results", () => {
       .post(`/api/studies/${studyId}/models`)
       .send({ name, regionSelection: "anatomical-or-prior", spec })
       .expect(201);
-    const created = await agents.analyst.post(`/api/studies/${studyId}/fits`).send({ modelId: model.body.id }).expect(202);
+    const created = await agents.analyst
+      .post(`/api/studies/${studyId}/fits`)
+      .send({ modelId: model.body.id })
+      .expect(202);
     const start = Date.now();
     for (;;) {
       const res = await agents.viewer.get(`/api/fits/${created.body.id}`).expect(200);
       if (res.body.status === "done") return res.body;
-      if (res.body.status === "failed" || res.body.status === "cancelled") throw new Error(`fit ${res.body.status}: ${JSON.stringify(res.body.error)}`);
+      if (res.body.status === "failed" || res.body.status === "cancelled")
+        throw new Error(`fit ${res.body.status}: ${JSON.stringify(res.body.error)}`);
       if (Date.now() - start > 90_000) throw new Error("fit did not finish");
       await new Promise((r) => setTimeout(r, 100));
     }
   }
 
   /** Fisher z interval of r on m = n − 3 − k degrees of freedom, written out here (Fisher 1921). */
-  const fisher = (r: number, m: number) => [Math.tanh(Math.atanh(r) - 1.959963985 / Math.sqrt(m)), Math.tanh(Math.atanh(r) + 1.959963985 / Math.sqrt(m))];
+  const fisher = (r: number, m: number) => [
+    Math.tanh(Math.atanh(r) - 1.959963985 / Math.sqrt(m)),
+    Math.tanh(Math.atanh(r) + 1.959963985 / Math.sqrt(m)),
+  ];
 
   it("an association fit carries Spearman's correction per region once the trait's reliability is stated", async () => {
-    const before = await fitOf("Accuracy, no reliability stated", { kind: "association", predictor: "accuracy" });
+    const before = await fitOf("Accuracy, no reliability stated", {
+      kind: "association",
+      predictor: "accuracy",
+    });
     expect(before.result.regions.some((r) => "attenuation" in r)).toBe(false);
 
-    await agents.analyst.put(`/api/studies/${studyId}/trait-reliabilities`).send([{ column: "accuracy", reliability: 0.81, source: "test–retest r = .81, task manual" }]).expect(200);
+    await agents.analyst
+      .put(`/api/studies/${studyId}/trait-reliabilities`)
+      .send([{ column: "accuracy", reliability: 0.81, source: "test–retest r = .81, task manual" }])
+      .expect(200);
     const fit = await fitOf("Accuracy", { kind: "association", predictor: "accuracy" });
-    expect(fit.result.notes).toContainEqual(expect.stringMatching(/^attenuation: Spearman's \(1904\) correction/));
+    expect(fit.result.notes).toContainEqual(
+      expect.stringMatching(/^attenuation: Spearman's \(1904\) correction/),
+    );
     expect(fit.result.regions).toHaveLength(10);
     let carried = 0;
     for (const r of fit.result.regions) {
@@ -352,7 +478,14 @@ describe("attenuation beside association results", () => {
       }
       if (!a) throw new Error(`${r.region}: no attenuation`);
       carried += 1;
-      expect(a).toMatchObject({ reliabilityBrain: icc31, reliabilityBrainForm: "ICC(3,1)", reliabilityTrait: 0.81, traitSource: "test–retest r = .81, task manual", trait: "accuracy", observed: r.r });
+      expect(a).toMatchObject({
+        reliabilityBrain: icc31,
+        reliabilityBrainForm: "ICC(3,1)",
+        reliabilityTrait: 0.81,
+        traitSource: "test–retest r = .81, task manual",
+        trait: "accuracy",
+        observed: r.r,
+      });
       expect(Number.isNaN(Date.parse(a.traitStatedAt))).toBe(false);
       // (exact algebra: Spearman 1904, ceiling √(rel_brain · rel_trait), corrected r = r / ceiling)
       const ceiling = Math.sqrt(icc31 * 0.81);
@@ -368,12 +501,18 @@ describe("attenuation beside association results", () => {
     }
     expect(carried).toBeGreaterThan(5);
     const first = fit.result.regions[0];
-    const detail = await agents.viewer.get(`/api/fits/${fit.id}/regions/${first.region}`).expect(200);
+    const detail = await agents.viewer
+      .get(`/api/fits/${fit.id}/regions/${first.region}`)
+      .expect(200);
     expect(detail.body.result.attenuation).toEqual(first.attenuation);
   }, 240_000);
 
   it("with a covariate the interval uses n − 3 − k and the caution names the partial correlation; one-sample fits carry none", async () => {
-    const fit = await fitOf("Accuracy with age", { kind: "association", predictor: "accuracy", covariates: ["age"] });
+    const fit = await fitOf("Accuracy with age", {
+      kind: "association",
+      predictor: "accuracy",
+      covariates: ["age"],
+    });
     const r = fit.result.regions.find((x) => x.attenuation !== undefined);
     if (!r?.attenuation) throw new Error("no region carries an attenuation");
     const [lo] = fisher(r.r, r.n - 4);

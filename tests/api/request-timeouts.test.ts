@@ -18,7 +18,10 @@ let t: TestApp;
 let server: Server;
 let port: number;
 
-async function listen(app: RequestListener, timeouts: { idleMs: number; totalMs: number }): Promise<{ server: Server; port: number }> {
+async function listen(
+  app: RequestListener,
+  timeouts: { idleMs: number; totalMs: number },
+): Promise<{ server: Server; port: number }> {
   const s = createHttpServer(app, timeouts);
   s.listen(0, "127.0.0.1");
   await once(s, "listening");
@@ -31,7 +34,10 @@ async function stop(s: Server): Promise<void> {
 }
 
 beforeAll(async () => {
-  t = await createTestApp({ seed: false, env: { REQUEST_IDLE_TIMEOUT_SECONDS: "0.4", REQUEST_TIMEOUT_SECONDS: "3" } });
+  t = await createTestApp({
+    seed: false,
+    env: { REQUEST_IDLE_TIMEOUT_SECONDS: "0.4", REQUEST_TIMEOUT_SECONDS: "3" },
+  });
   ({ server, port } = await listen(t.app, t.config.requestTimeouts));
 });
 afterAll(async () => {
@@ -56,7 +62,11 @@ async function open(to: number): Promise<Exchange> {
   const closed = once(socket, "close").then(() => received);
   return {
     socket,
-    answer: (withinMs) => Promise.race([closed, new Promise<null>((resolve) => setTimeout(() => resolve(null), withinMs))]),
+    answer: (withinMs) =>
+      Promise.race([
+        closed,
+        new Promise<null>((resolve) => setTimeout(() => resolve(null), withinMs)),
+      ]),
   };
 }
 
@@ -80,7 +90,9 @@ describe("request time limits", () => {
     x.socket.destroy();
     expect(answer).not.toBeNull();
     expect(answer).toMatch(/^HTTP\/1\.1 408 /);
-    const body = JSON.parse(String(answer).slice(String(answer).indexOf("\r\n\r\n") + 4)) as { error: { code: string; message: string } };
+    const body = JSON.parse(String(answer).slice(String(answer).indexOf("\r\n\r\n") + 4)) as {
+      error: { code: string; message: string };
+    };
     expect(body.error.code).toBe("request_timeout");
     expect(body.error.message).toContain("0.4 s");
   });
@@ -129,7 +141,9 @@ describe("what the limits leave alone", () => {
     }, limits);
     try {
       const x = await open(slow.port);
-      x.socket.write("POST /x HTTP/1.1\r\nHost: 127.0.0.1\r\nContent-Length: 5\r\nConnection: close\r\n\r\nhello");
+      x.socket.write(
+        "POST /x HTTP/1.1\r\nHost: 127.0.0.1\r\nContent-Length: 5\r\nConnection: close\r\n\r\nhello",
+      );
       const answer = await x.answer(5_000);
       x.socket.destroy();
       expect(answer).toMatch(/^HTTP\/1\.1 200 /);
@@ -152,7 +166,9 @@ describe("what the limits leave alone", () => {
     try {
       const x = await open(late.port);
       const size = 8 * 1024 * 1024;
-      x.socket.write(`POST /x HTTP/1.1\r\nHost: 127.0.0.1\r\nContent-Length: ${size}\r\nConnection: close\r\n\r\n`);
+      x.socket.write(
+        `POST /x HTTP/1.1\r\nHost: 127.0.0.1\r\nContent-Length: ${size}\r\nConnection: close\r\n\r\n`,
+      );
       x.socket.write(Buffer.alloc(size, 97));
       const answer = await x.answer(8_000);
       x.socket.destroy();

@@ -21,14 +21,36 @@ let t: TestApp;
 let prod: { app: ReturnType<typeof createApp>; services: Services; database: OpenDatabase };
 beforeAll(async () => {
   mkdirSync(join(dist, "_expo", "static", "js", "web"), { recursive: true });
-  writeFileSync(join(dist, "index.html"), "<!DOCTYPE html><html><head><title>Covarion</title></head><body><div id=\"root\"></div></body></html>");
-  writeFileSync(join(dist, "_expo", "static", "js", "web", "entry-0123abcd.js"), `console.log(${JSON.stringify("x".repeat(5000))});`);
+  writeFileSync(
+    join(dist, "index.html"),
+    '<!DOCTYPE html><html><head><title>Covarion</title></head><body><div id="root"></div></body></html>',
+  );
+  writeFileSync(
+    join(dist, "_expo", "static", "js", "web", "entry-0123abcd.js"),
+    `console.log(${JSON.stringify("x".repeat(5000))});`,
+  );
   writeFileSync(join(dist, "favicon.ico"), "icon");
   t = await createTestApp({ seed: false, distDir: dist });
-  const config = loadConfig({ NODE_ENV: "production", DATA_DIR: prodDataDir, SMTP_URL: "smtp://127.0.0.1:9", PUBLIC_URL: "https://covarion.lab.example" });
+  const config = loadConfig({
+    NODE_ENV: "production",
+    DATA_DIR: prodDataDir,
+    SMTP_URL: "smtp://127.0.0.1:9",
+    PUBLIC_URL: "https://covarion.lab.example",
+  });
   const services = await startServices(config);
   const database = await openTemplateDatabase();
-  prod = { app: createApp({ config, db: database.db, mailer: services.mailer, institution: null, distDir: dist, log: () => {} }), services, database };
+  prod = {
+    app: createApp({
+      config,
+      db: database.db,
+      mailer: services.mailer,
+      institution: null,
+      distDir: dist,
+      log: () => {},
+    }),
+    services,
+    database,
+  };
 });
 afterAll(async () => {
   await t?.close();
@@ -41,7 +63,10 @@ afterAll(async () => {
 
 describe("web build", () => {
   it("serves hashed bundles compressed, with a year-long immutable cache", async () => {
-    const res = await request(t.app).get("/_expo/static/js/web/entry-0123abcd.js").set("Accept-Encoding", "gzip").expect(200);
+    const res = await request(t.app)
+      .get("/_expo/static/js/web/entry-0123abcd.js")
+      .set("Accept-Encoding", "gzip")
+      .expect(200);
     expect(res.headers["cache-control"]).toBe("public, max-age=31536000, immutable");
     expect(res.headers["content-encoding"]).toBe("gzip");
     await request(t.app).get("/_expo/static/js/web/missing.js").expect(404);

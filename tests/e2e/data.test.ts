@@ -31,7 +31,10 @@ async function openDemoData(page: Page): Promise<string> {
 }
 
 async function chooseKind(page: Page, kind: "Brain table" | "Participant sheet"): Promise<void> {
-  await page.getByTestId("upload-kind").getByRole("radio", { name: new RegExp(`^${kind}`) }).click();
+  await page
+    .getByTestId("upload-kind")
+    .getByRole("radio", { name: new RegExp(`^${kind}`) })
+    .click();
 }
 
 it("the demo Analyst uploads both demo files at phone size, confirms them, maps the near miss and reads the roster", async () => {
@@ -39,7 +42,9 @@ it("the demo Analyst uploads both demo files at phone size, confirms them, maps 
   try {
     const studyPath = await openDemoData(page);
     // The seeded demo data are version 1 of each kind.
-    await expect(page.getByTestId("versions-brain").getByText("version 1 · current").count()).resolves.toBe(1);
+    await expect(
+      page.getByTestId("versions-brain").getByText("version 1 · current").count(),
+    ).resolves.toBe(1);
     await screenshot(page, "data-phone-start");
 
     // Brain table: preview with detected types, nothing stored yet.
@@ -50,18 +55,30 @@ it("the demo Analyst uploads both demo files at phone size, confirms them, maps 
     await upload.getByTestId("upload-submit").click();
     const preview = page.getByTestId("upload-preview");
     await preview.waitFor();
-    await expect(preview.getByTestId("preview-summary").innerText()).resolves.toMatch(/Brain table · comma-separated · 87 rows · 22 columns · 71 participants/);
+    await expect(preview.getByTestId("preview-summary").innerText()).resolves.toMatch(
+      /Brain table · comma-separated · 87 rows · 22 columns · 71 participants/,
+    );
     await preview.getByText("Layout: wide · 10 regions · sessions 1, 2").waitFor();
     const columns = preview.getByTestId("preview-columns");
-    await expect(columns.getByRole("radio", { name: "L_dlpfc: number (region) (detected)" }).getAttribute("aria-checked")).resolves.toBe("true");
-    await expect(columns.getByRole("radio", { name: "L_dlpfc: category (not used)" }).getAttribute("aria-checked")).resolves.toBe("false");
+    await expect(
+      columns
+        .getByRole("radio", { name: "L_dlpfc: number (region) (detected)" })
+        .getAttribute("aria-checked"),
+    ).resolves.toBe("true");
+    await expect(
+      columns
+        .getByRole("radio", { name: "L_dlpfc: category (not used)" })
+        .getAttribute("aria-checked"),
+    ).resolves.toBe("false");
     await columns.getByText("standard error").first().waitFor();
     await preview.getByTestId("preview-rows").getByText("sub-01").first().waitFor();
     await preview.getByTestId("preview-summary").scrollIntoViewIfNeeded();
     await screenshot(page, "data-phone-preview-brain");
     await columns.scrollIntoViewIfNeeded();
     await screenshot(page, "data-phone-preview-brain-types");
-    await expect(page.getByTestId("versions-brain").getByText("version 1 · current").count()).resolves.toBe(1);
+    await expect(
+      page.getByTestId("versions-brain").getByText("version 1 · current").count(),
+    ).resolves.toBe(1);
     await preview.getByTestId("confirm-upload").click();
     await page.getByTestId("upload-stored").getByText("as version 2 of the brain table").waitFor();
     await page.getByTestId("versions-brain").getByText("version 2 · current").waitFor();
@@ -72,7 +89,9 @@ it("the demo Analyst uploads both demo files at phone size, confirms them, maps 
     await upload.getByTestId("upload-file").setInputFiles(sheetFile);
     await upload.getByTestId("upload-submit").click();
     await preview.waitFor();
-    await expect(preview.getByTestId("preview-summary").innerText()).resolves.toMatch(/Participant sheet · tab-separated · 71 rows · 8 columns · 71 participants/);
+    await expect(preview.getByTestId("preview-summary").innerText()).resolves.toMatch(
+      /Participant sheet · tab-separated · 71 rows · 8 columns · 71 participants/,
+    );
     const sheetColumns = preview.getByTestId("preview-columns");
     for (const [column, detected] of [
       ["group", "category"],
@@ -81,47 +100,78 @@ it("the demo Analyst uploads both demo files at phone size, confirms them, maps 
       ["accuracy", "number"],
       ["symptom_score", "number"],
     ] as const) {
-      await expect(sheetColumns.getByRole("radio", { name: `${column}: ${detected} (detected)` }).getAttribute("aria-checked")).resolves.toBe("true");
+      await expect(
+        sheetColumns
+          .getByRole("radio", { name: `${column}: ${detected} (detected)` })
+          .getAttribute("aria-checked"),
+      ).resolves.toBe("true");
     }
     await preview.getByText("No problems found in the file.").waitFor();
     await sheetColumns.scrollIntoViewIfNeeded();
     await screenshot(page, "data-phone-preview-sheet");
     await preview.getByTestId("confirm-upload").click();
-    await page.getByTestId("upload-stored").getByText("as version 2 of the participant sheet").waitFor();
+    await page
+      .getByTestId("upload-stored")
+      .getByText("as version 2 of the participant sheet")
+      .waitFor();
 
     // Join report: the near miss 7 / sub-07 is reported and not merged.
     const report = page.getByTestId("join-report");
     await report.getByText("(version 2) with the participant sheet").waitFor();
-    await expect(report.getByTestId("count-matched").innerText()).resolves.toMatch(/^69\s+matched$/);
-    await expect(report.getByTestId("count-near-misses").innerText()).resolves.toMatch(/^1\s+near misses$/);
+    await expect(report.getByTestId("count-matched").innerText()).resolves.toMatch(
+      /^69\s+matched$/,
+    );
+    await expect(report.getByTestId("count-near-misses").innerText()).resolves.toMatch(
+      /^1\s+near misses$/,
+    );
     const nearMiss = report.getByTestId("near-miss");
-    await expect(nearMiss.innerText()).resolves.toMatch(/Brain table 7 and sheet sub-07: same number written with different leading zeros/);
+    await expect(nearMiss.innerText()).resolves.toMatch(
+      /Brain table 7 and sheet sub-07: same number written with different leading zeros/,
+    );
     await expect(report.getByTestId("only-in-brain-table").innerText()).resolves.toMatch(/\b7\b/);
     await expect(report.getByTestId("only-in-sheet").innerText()).resolves.toMatch(/sub-07/);
-    await report.getByTestId("join-rule").getByText(/never matched automatically/).waitFor();
+    await report
+      .getByTestId("join-rule")
+      .getByText(/never matched automatically/)
+      .waitFor();
     await nearMiss.scrollIntoViewIfNeeded();
     await screenshot(page, "data-phone-join-report");
 
     // Confirming the mapping records it; the pair is then matched.
     await nearMiss.getByTestId("start-mapping").click();
-    await nearMiss.getByText("Record that brain-table id 7 and sheet id sub-07 are the same participant?").waitFor();
+    await nearMiss
+      .getByText("Record that brain-table id 7 and sheet id sub-07 are the same participant?")
+      .waitFor();
     await nearMiss.getByTestId("confirm-mapping").click();
-    await report.getByTestId("mapping").filter({ hasText: "Brain table 7 = sheet sub-07 · recorded" }).waitFor();
-    await expect(report.getByTestId("count-matched").innerText()).resolves.toMatch(/^70\s+matched$/);
+    await report
+      .getByTestId("mapping")
+      .filter({ hasText: "Brain table 7 = sheet sub-07 · recorded" })
+      .waitFor();
+    await expect(report.getByTestId("count-matched").innerText()).resolves.toMatch(
+      /^70\s+matched$/,
+    );
     await expect(report.getByTestId("near-miss").count()).resolves.toBe(0);
     await report.getByTestId("mapping").scrollIntoViewIfNeeded();
     await screenshot(page, "data-phone-mapping");
 
     // Roster: 70 matched + sub-71 only in the brain table + sub-72 only in the sheet.
     const roster = page.getByTestId("roster-table");
-    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe("rows 1–25 of 72");
+    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe(
+      "rows 1–25 of 72",
+    );
     await roster.getByRole("textbox", { name: "Search Roster" }).fill("sub-07");
-    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe("row 1 of 1 (of 72 in all)");
+    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe(
+      "row 1 of 1 (of 72 in all)",
+    );
     const row = roster.getByRole("row").filter({ hasText: "sub-07" });
-    await expect(row.innerText()).resolves.toMatch(/7[\s\S]*matched[\s\S]*confirmed mapping[\s\S]*sub-07/);
+    await expect(row.innerText()).resolves.toMatch(
+      /7[\s\S]*matched[\s\S]*confirmed mapping[\s\S]*sub-07/,
+    );
     await roster.getByRole("textbox", { name: "Search Roster" }).fill("");
     await roster.getByRole("textbox", { name: "Filter status" }).fill("only");
-    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe("rows 1–2 of 2 (of 72 in all)");
+    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe(
+      "rows 1–2 of 2 (of 72 in all)",
+    );
     await roster.scrollIntoViewIfNeeded();
     await screenshot(page, "data-phone-roster");
 
@@ -131,7 +181,9 @@ it("the demo Analyst uploads both demo files at phone size, confirms them, maps 
     const csv = await context.request.get(`${e2e.server.url}${href}`);
     expect(csv.status()).toBe(200);
     const lines = (await csv.text()).trim().split(/\r?\n/);
-    expect(lines[0]).toBe("participant,brain_table_id,participant_sheet_id,status,matched_by,sessions,group,age,sex,accuracy,rt_ms,symptom_score,mean_fd");
+    expect(lines[0]).toBe(
+      "participant,brain_table_id,participant_sheet_id,status,matched_by,sessions,group,age,sex,accuracy,rt_ms,symptom_score,mean_fd",
+    );
     expect(lines).toHaveLength(73);
     expect(lines.some((l) => l.startsWith("7,7,sub-07,matched,mapping,"))).toBe(true);
 
@@ -153,24 +205,37 @@ it("refused files and refused confirmations are listed by row and column, and st
     cells[10] = "O.42";
     text[3] = cells.join(",");
     await chooseKind(page, "Brain table");
-    await upload.getByTestId("upload-file").setInputFiles({ name: "brain-typo.csv", mimeType: "text/csv", buffer: Buffer.from(text.join("\n")) });
+    await upload.getByTestId("upload-file").setInputFiles({
+      name: "brain-typo.csv",
+      mimeType: "text/csv",
+      buffer: Buffer.from(text.join("\n")),
+    });
     await upload.getByTestId("upload-submit").click();
     const problems = upload.getByTestId("upload-problems");
     await problems.waitFor();
-    await expect(problems.getByTestId("problem").first().innerText()).resolves.toMatch(/brain-typo\.csv row 4, column L_insula: "O\.42" is not a number/);
+    await expect(problems.getByTestId("problem").first().innerText()).resolves.toMatch(
+      /brain-typo\.csv row 4, column L_insula: "O\.42" is not a number/,
+    );
     await screenshot(page, "data-phone-refused-upload");
-    await expect(page.getByTestId("versions-brain").getByText("version 2 · current").count()).resolves.toBe(1);
+    await expect(
+      page.getByTestId("versions-brain").getByText("version 2 · current").count(),
+    ).resolves.toBe(1);
 
     // A sheet confirmed with a text column typed as numbers: 422 at confirmation, nothing stored; Cancel discards.
     await chooseKind(page, "Participant sheet");
     await upload.getByTestId("upload-file").setInputFiles(sheetFile);
     await upload.getByTestId("upload-submit").click();
     const preview = page.getByTestId("upload-preview");
-    await preview.getByTestId("preview-columns").getByRole("radio", { name: "group: number" }).click();
+    await preview
+      .getByTestId("preview-columns")
+      .getByRole("radio", { name: "group: number" })
+      .click();
     await preview.getByTestId("confirm-upload").click();
     const refused = preview.getByTestId("confirm-problems");
     await refused.waitFor();
-    await expect(refused.getByTestId("problem").first().innerText()).resolves.toMatch(/harbour-bay_participants\.tsv row 2, column group: "patient" is not a number/);
+    await expect(refused.getByTestId("problem").first().innerText()).resolves.toMatch(
+      /harbour-bay_participants\.tsv row 2, column group: "patient" is not a number/,
+    );
     await expect(refused.getByTestId("problem").count()).resolves.toBe(5);
     await refused.getByRole("button", { name: "Show all 71 problems listed" }).click();
     await refused.getByTestId("problem").nth(70).waitFor();
@@ -183,7 +248,9 @@ it("refused files and refused confirmations are listed by row and column, and st
     await expect(page.getByTestId("upload-preview").count()).resolves.toBe(0);
     await page.reload();
     await page.getByTestId("versions-participants").getByText("version 2 · current").waitFor();
-    await expect(page.getByTestId("older-participants").getByTestId("older-version").count()).resolves.toBe(1);
+    await expect(
+      page.getByTestId("older-participants").getByTestId("older-version").count(),
+    ).resolves.toBe(1);
 
     // Only the two refusals answered with an error status.
     const base = `/api${studyPath}/datasets`;
@@ -209,7 +276,11 @@ it("columns that may hold direct identifiers must be dropped or kept with a writ
       .join("\n");
     const upload = page.getByTestId("upload");
     await chooseKind(page, "Participant sheet");
-    await upload.getByTestId("upload-file").setInputFiles({ name: "participants-with-contacts.tsv", mimeType: "text/tab-separated-values", buffer: Buffer.from(`${withIdentifiers}\n`) });
+    await upload.getByTestId("upload-file").setInputFiles({
+      name: "participants-with-contacts.tsv",
+      mimeType: "text/tab-separated-values",
+      buffer: Buffer.from(`${withIdentifiers}\n`),
+    });
     await upload.getByTestId("upload-submit").click();
     const preview = page.getByTestId("upload-preview");
     const flagged = preview.getByTestId("identifier-column");
@@ -217,21 +288,39 @@ it("columns that may hold direct identifiers must be dropped or kept with a writ
     await expect(flagged.count()).resolves.toBe(2);
     const confirm = preview.getByTestId("confirm-upload");
     await expect(confirm.getAttribute("aria-disabled")).resolves.toBe("true");
-    await preview.getByTestId("undecided").getByText("Column name: choose to drop it or keep it with a reason.").waitFor();
-    await flagged.filter({ hasText: "name:" }).getByRole("radio", { name: /^Drop it/ }).click();
+    await preview
+      .getByTestId("undecided")
+      .getByText("Column name: choose to drop it or keep it with a reason.")
+      .waitFor();
+    await flagged
+      .filter({ hasText: "name:" })
+      .getByRole("radio", { name: /^Drop it/ })
+      .click();
     const email = flagged.filter({ hasText: "email:" });
     await email.getByRole("radio", { name: /^Keep it/ }).click();
-    await preview.getByTestId("undecided").getByText("Column email: write why it is kept.").waitFor();
+    await preview
+      .getByTestId("undecided")
+      .getByText("Column email: write why it is kept.")
+      .waitFor();
     await expect(confirm.getAttribute("aria-disabled")).resolves.toBe("true");
-    await email.getByRole("textbox", { name: "Why email is kept" }).fill("Invented contact codes for this test, not real addresses");
+    await email
+      .getByRole("textbox", { name: "Why email is kept" })
+      .fill("Invented contact codes for this test, not real addresses");
     await expect(preview.getByTestId("undecided").count()).resolves.toBe(0);
     await preview.getByTestId("identifier-columns").scrollIntoViewIfNeeded();
     await screenshot(page, "data-phone-identifiers");
     await confirm.click();
-    await page.getByTestId("upload-stored").getByText("as version 3 of the participant sheet").waitFor();
+    await page
+      .getByTestId("upload-stored")
+      .getByText("as version 3 of the participant sheet")
+      .waitFor();
     const facts = page.getByTestId("versions-participants").getByTestId("version-facts").first();
     await facts.getByText("Dropped at upload (never stored): name.").waitFor();
-    await facts.getByText("Kept email although it may hold direct identifiers. Reason: Invented contact codes for this test, not real addresses").waitFor();
+    await facts
+      .getByText(
+        "Kept email although it may hold direct identifiers. Reason: Invented contact codes for this test, not real addresses",
+      )
+      .waitFor();
 
     const csv = await context.request.get(`${e2e.server.url}/api${studyPath}/roster.csv`);
     const header = (await csv.text()).split("\r\n")[0].split(",");
@@ -256,22 +345,39 @@ it("a brain-table column that would be left out needs a choice before Confirm, a
     const upload = page.getByTestId("upload");
     await chooseKind(page, "Brain table");
     // Invented values: a scanner label column among two regions.
-    const text = "participant_id,scanner,left_area,right_area\nsub-01,north,0.1,0.2\nsub-02,south,0.3,0.1\nsub-03,north,0.2,0.4\n";
-    await upload.getByTestId("upload-file").setInputFiles({ name: "brain-with-scanner.csv", mimeType: "text/csv", buffer: Buffer.from(text) });
+    const text =
+      "participant_id,scanner,left_area,right_area\nsub-01,north,0.1,0.2\nsub-02,south,0.3,0.1\nsub-03,north,0.2,0.4\n";
+    await upload.getByTestId("upload-file").setInputFiles({
+      name: "brain-with-scanner.csv",
+      mimeType: "text/csv",
+      buffer: Buffer.from(text),
+    });
     await upload.getByTestId("upload-submit").click();
     const preview = page.getByTestId("upload-preview");
     const column = preview.getByTestId("left-out-column");
-    await column.getByText('brain-with-scanner.csv column scanner: is not a region: 3 of 3 values are not numbers (row 2 "north", row 3 "south", row 4 "north")').waitFor();
+    await column
+      .getByText(
+        'brain-with-scanner.csv column scanner: is not a region: 3 of 3 values are not numbers (row 2 "north", row 3 "south", row 4 "north")',
+      )
+      .waitFor();
     const confirm = preview.getByTestId("confirm-upload");
     await expect(confirm.getAttribute("aria-disabled")).resolves.toBe("true");
-    await preview.getByTestId("undecided").getByText("Column scanner: choose to leave it out or fix the file.").waitFor();
+    await preview
+      .getByTestId("undecided")
+      .getByText("Column scanner: choose to leave it out or fix the file.")
+      .waitFor();
     await column.getByRole("radio", { name: /^Leave it out/ }).click();
     await expect(preview.getByTestId("undecided").count()).resolves.toBe(0);
     await preview.getByTestId("left-out-columns").scrollIntoViewIfNeeded();
     await screenshot(page, "data-phone-left-out-column");
     await confirm.click();
     await page.getByTestId("upload-stored").getByText("as version 1 of the brain table").waitFor();
-    await page.getByTestId("versions-brain").getByTestId("version-facts").first().getByText("Dropped at upload (never stored): scanner.").waitFor();
+    await page
+      .getByTestId("versions-brain")
+      .getByTestId("version-facts")
+      .first()
+      .getByText("Dropped at upload (never stored): scanner.")
+      .waitFor();
     expect(errors).toEqual([]);
   } finally {
     await context.close();
@@ -289,44 +395,69 @@ it("a roster of 1,200 participants is read whole (two server pages) and paged, s
     await page.getByTestId("create-study").click();
     await page.waitForURL(/\/studies\/[^/]+\/data$/);
     await page.getByTestId("versions-brain").getByText("No brain table yet.").waitFor();
-    await page.getByTestId("join-report").getByText("Upload and confirm both a brain table and a participant sheet").waitFor();
+    await page
+      .getByTestId("join-report")
+      .getByText("Upload and confirm both a brain table and a participant sheet")
+      .waitFor();
 
     // Invented values by plain arithmetic: 1,200 participants, two regions, a group and an age.
     const n = 1200;
     const ids = Array.from({ length: n }, (_, i) => `sub-${String(i + 1).padStart(4, "0")}`);
-    const brain = ["participant_id,left_area,right_area", ...ids.map((id, i) => `${id},${((i * 37) % 101) / 100},${((i * 53) % 97) / 100}`)].join("\n");
-    const sheet = ["participant_id\tgroup\tage", ...ids.map((id, i) => `${id}\t${i % 2 === 0 ? "patient" : "control"}\t${20 + (i % 45)}`)].join("\n");
+    const brain = [
+      "participant_id,left_area,right_area",
+      ...ids.map((id, i) => `${id},${((i * 37) % 101) / 100},${((i * 53) % 97) / 100}`),
+    ].join("\n");
+    const sheet = [
+      "participant_id\tgroup\tage",
+      ...ids.map((id, i) => `${id}\t${i % 2 === 0 ? "patient" : "control"}\t${20 + (i % 45)}`),
+    ].join("\n");
     const upload = page.getByTestId("upload");
     for (const [kind, name, text] of [
       ["Brain table", "large-brain.csv", brain],
       ["Participant sheet", "large-participants.tsv", sheet],
     ] as const) {
       await chooseKind(page, kind);
-      await upload.getByTestId("upload-file").setInputFiles({ name, mimeType: "text/plain", buffer: Buffer.from(`${text}\n`) });
+      await upload
+        .getByTestId("upload-file")
+        .setInputFiles({ name, mimeType: "text/plain", buffer: Buffer.from(`${text}\n`) });
       await upload.getByTestId("upload-submit").click();
       await page.getByTestId("upload-preview").getByTestId("confirm-upload").click();
       await page.getByTestId("upload-stored").getByText(`Stored ${name} as version 1`).waitFor();
     }
 
     const report = page.getByTestId("join-report");
-    await expect(report.getByTestId("count-matched").innerText()).resolves.toMatch(/^1,200\s+matched$/);
+    await expect(report.getByTestId("count-matched").innerText()).resolves.toMatch(
+      /^1,200\s+matched$/,
+    );
     const roster = page.getByTestId("roster-table");
-    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe("rows 1–25 of 1,200");
+    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe(
+      "rows 1–25 of 1,200",
+    );
     await roster.getByRole("button", { name: "Next page" }).click();
-    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe("rows 26–50 of 1,200");
+    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe(
+      "rows 26–50 of 1,200",
+    );
     await roster.getByRole("textbox", { name: "Search Roster" }).fill("sub-1199");
-    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe("row 1 of 1 (of 1,200 in all)");
+    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe(
+      "row 1 of 1 (of 1,200 in all)",
+    );
     await roster.getByRole("row").filter({ hasText: "sub-1199" }).getByText("patient").waitFor();
     await roster.getByRole("textbox", { name: "Search Roster" }).fill("");
     await roster.getByRole("button", { name: "age, sort descending" }).click(); // numeric columns sort largest first on the first press
     await roster.getByRole("button", { name: "age, sort ascending" }).waitFor();
-    await expect(roster.getByRole("row").nth(2).innerText()).resolves.toMatch(/^sub-0045\s[\s\S]*\b64$/); // (exact: the first index with i mod 45 = 44; ties keep roster order)
+    await expect(roster.getByRole("row").nth(2).innerText()).resolves.toMatch(
+      /^sub-0045\s[\s\S]*\b64$/,
+    ); // (exact: the first index with i mod 45 = 44; ties keep roster order)
     await roster.getByRole("textbox", { name: "Filter age" }).fill(">= 64");
-    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe("rows 1–25 of 26 (of 1,200 in all)"); // (exact count: age 64 when i mod 45 = 44, i < 1200: 26 values)
+    await expect(roster.getByTestId("roster-table-range").innerText()).resolves.toBe(
+      "rows 1–25 of 26 (of 1,200 in all)",
+    ); // (exact count: age 64 when i mod 45 = 44, i < 1200: 26 values)
     await roster.scrollIntoViewIfNeeded();
     await screenshot(page, "data-wide-large-roster");
     // The reliability section below the roster answers 409 while the brain table has no sessions to compare (its "not available" state).
-    expect(errors.filter((e) => !/^response: 409 GET \/api\/studies\/[^/]+\/reliability$/.test(e))).toEqual([]);
+    expect(
+      errors.filter((e) => !/^response: 409 GET \/api\/studies\/[^/]+\/reliability$/.test(e)),
+    ).toEqual([]);
   } finally {
     await context.close();
   }
@@ -340,7 +471,9 @@ it("reads well at wide size: versions side by side, an older version's rows, the
     await screenshot(page, "data-wide-top");
     await page.getByRole("button", { name: "Read version 1 of the brain table" }).click();
     const rows = page.getByTestId("version-reader").getByTestId("version-rows-table");
-    await expect(rows.getByTestId("version-rows-table-range").innerText()).resolves.toBe("rows 1–25 of 87");
+    await expect(rows.getByTestId("version-rows-table-range").innerText()).resolves.toBe(
+      "rows 1–25 of 87",
+    );
     await rows.getByText("sub-01").first().waitFor();
     await rows.scrollIntoViewIfNeeded();
     await screenshot(page, "data-wide-older-version");
@@ -373,7 +506,9 @@ it("a Viewer of a restricted study sees the counts and versions, never participa
     await page.waitForURL(/\/studies\/[^/]+\/data$/);
     const report = page.getByTestId("join-report");
     await report.getByTestId("counts-only").waitFor();
-    await expect(report.getByTestId("count-matched").innerText()).resolves.toMatch(/^70\s+matched$/);
+    await expect(report.getByTestId("count-matched").innerText()).resolves.toMatch(
+      /^70\s+matched$/,
+    );
     await expect(report.getByTestId("near-miss").count()).resolves.toBe(0);
     await expect(report.getByTestId("only-in-brain-table").count()).resolves.toBe(0);
     await page.getByTestId("roster-restricted").waitFor();
@@ -382,7 +517,10 @@ it("a Viewer of a restricted study sees the counts and versions, never participa
     await expect(page.getByTestId("upload").count()).resolves.toBe(0);
     await page.getByText("Owners and Analysts upload data; your role reads it.").waitFor();
     await page.getByRole("button", { name: "Read rows of version 2 of the brain table" }).click();
-    await page.getByTestId("version-reader").getByText("This study restricts participant-level rows").waitFor();
+    await page
+      .getByTestId("version-reader")
+      .getByText("This study restricts participant-level rows")
+      .waitFor();
     await expect(page.getByTestId("version-rows-table").count()).resolves.toBe(0);
     await page.getByTestId("roster-restricted").scrollIntoViewIfNeeded();
     await screenshot(page, "data-phone-viewer-restricted");

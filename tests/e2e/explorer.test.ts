@@ -28,7 +28,10 @@ for (const [label, viewport] of [
       await page.getByTestId("model-predictor").getByRole("radio", { name: "accuracy" }).click();
       await page.getByTestId("model-covariates").getByRole("checkbox", { name: "age" }).click();
       await page.getByTestId("model-inference").getByRole("radio", { name: "Permutation" }).click();
-      await page.getByTestId("region-selection").getByRole("radio", { name: /From anatomy or prior literature/ }).click();
+      await page
+        .getByTestId("region-selection")
+        .getByRole("radio", { name: /From anatomy or prior literature/ })
+        .click();
       await screenshot(page, `model-form-${label}`);
       await page.getByTestId("save-and-run").click();
       await page.waitForURL(/\/fits\/[^/]+$/);
@@ -37,11 +40,21 @@ for (const [label, viewport] of [
       await page.getByTestId("fit-progress").or(page.getByTestId("region-table")).first().waitFor();
       await screenshot(page, `fit-progress-${label}`);
       await page.getByTestId("region-table").waitFor({ timeout: 90_000 });
-      await expect(page.getByTestId("fit-plain-words").textContent()).resolves.toMatch(/permutation inference/);
+      await expect(page.getByTestId("fit-plain-words").textContent()).resolves.toMatch(
+        /permutation inference/,
+      );
       // numbers sort descending first; press again for ascending (smallest adjusted p on top)
       const adjusted = page.getByRole("button", { name: /^Adjusted p, / });
-      for (let presses = 0; presses < 2 && (await page.locator('[role="columnheader"][aria-sort="ascending"]').count()) === 0; presses++) await adjusted.click();
-      await expect(page.locator('[role="columnheader"][aria-sort="ascending"]').count()).resolves.toBe(1);
+      for (
+        let presses = 0;
+        presses < 2 &&
+        (await page.locator('[role="columnheader"][aria-sort="ascending"]').count()) === 0;
+        presses++
+      )
+        await adjusted.click();
+      await expect(
+        page.locator('[role="columnheader"][aria-sort="ascending"]').count(),
+      ).resolves.toBe(1);
       await screenshot(page, `fit-regions-${label}`);
       // open the region at the top of the sorted table
       await page.getByTestId("region-table").locator('[role="row"][aria-selected]').first().click();
@@ -55,7 +68,10 @@ for (const [label, viewport] of [
       // the participant diagnostics come from the API a page at a time: 50 rows, then the rest
       const range = page.getByTestId("diagnostics-table-range");
       await expect.poll(() => range.textContent()).toBe(`rows 1–50 of ${n}`);
-      await page.getByTestId("diagnostics-table").getByRole("button", { name: "Next page" }).click();
+      await page
+        .getByTestId("diagnostics-table")
+        .getByRole("button", { name: "Next page" })
+        .click();
       await expect.poll(() => range.textContent()).toBe(`rows 51–${n} of ${n}`);
       await screenshot(page, `region-detail-${label}`);
       // the influence view draws the flags' own cut-offs: the line at 4/n, and no curve at Cook's distance 0.5 or 1
@@ -63,13 +79,21 @@ for (const [label, viewport] of [
       await influence.scrollIntoViewIfNeeded();
       const cookCut = influence.locator('[data-testid="influence-cut-influence"]');
       await expect(cookCut.count()).resolves.toBe(1);
-      await expect(cookCut.getAttribute("aria-label")).resolves.toBe(`4/n = ${Number((4 / n).toPrecision(3))}`);
-      await expect(influence.locator("svg").first().getAttribute("aria-label")).resolves.toContain(`influence cut-off 4/n = ${Number((4 / n).toPrecision(3))}`);
-      await expect(influence.locator('[data-testid="influence-cut-leverage"]').count()).resolves.toBe(1);
+      await expect(cookCut.getAttribute("aria-label")).resolves.toBe(
+        `4/n = ${Number((4 / n).toPrecision(3))}`,
+      );
+      await expect(influence.locator("svg").first().getAttribute("aria-label")).resolves.toContain(
+        `influence cut-off 4/n = ${Number((4 / n).toPrecision(3))}`,
+      );
+      await expect(
+        influence.locator('[data-testid="influence-cut-leverage"]').count(),
+      ).resolves.toBe(1);
       const drawnText = (await influence.locator("text").allTextContents()).join(" | ");
       expect(drawnText).not.toMatch(/D = (0\.5|1)\b/);
       expect(await influence.textContent()).not.toMatch(/contour/i);
-      await expect(influence.locator('[role="button"][aria-label*="Cook\'s distance"]').count()).resolves.toBe(n);
+      await expect(
+        influence.locator('[role="button"][aria-label*="Cook\'s distance"]').count(),
+      ).resolves.toBe(n);
       await screenshot(page, `influence-view-${label}`);
       // the planted high-leverage and outlying participants are flagged in at least one region; choose a flagged mark when this one has any
       const flagged = plot.locator('[role="button"][aria-label*="flagged"]');
@@ -78,17 +102,24 @@ for (const [label, viewport] of [
       const participant = targetLabel.split(":")[0];
       await target.click();
       await page.getByTestId("participant-card").waitFor();
-      await page.getByTestId("set-aside-reason").fill("Mean framewise displacement above the preregistered limit");
+      await page
+        .getByTestId("set-aside-reason")
+        .fill("Mean framewise displacement above the preregistered limit");
       await page.getByTestId("set-aside").click();
       await page.getByText("Set aside and logged.").waitFor();
       await page.getByTestId("region-preview").waitFor();
       await screenshot(page, `set-aside-${label}`);
       await page.getByTestId("refit").click();
-      await page.waitForURL((url) => /\/fits\/[^/]+$/.test(url.pathname) && url.toString() !== fitUrl);
+      await page.waitForURL(
+        (url) => /\/fits\/[^/]+$/.test(url.pathname) && url.toString() !== fitUrl,
+      );
       await page.getByTestId("region-table").waitFor({ timeout: 90_000 });
       await page.getByRole("tab", { name: "Activity" }).click();
       await page.getByText(`set aside ${participant} from`).first().waitFor();
-      await page.getByText("Mean framewise displacement above the preregistered limit").first().waitFor();
+      await page
+        .getByText("Mean framewise displacement above the preregistered limit")
+        .first()
+        .waitFor();
       await screenshot(page, `activity-${label}`);
       expect(errors).toEqual([]);
     } finally {

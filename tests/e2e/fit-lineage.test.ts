@@ -43,18 +43,26 @@ async function ownerUpload(path: string, form: FormData): Promise<unknown> {
     body: JSON.stringify({ email: "owner@demo.covarion.test" }),
   });
   const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
-  const res = await fetch(`${e2e.server.url}${path}`, { method: "POST", headers: { Cookie: cookie, Origin: e2e.server.url }, body: form });
+  const res = await fetch(`${e2e.server.url}${path}`, {
+    method: "POST",
+    headers: { Cookie: cookie, Origin: e2e.server.url },
+    body: form,
+  });
   if (!res.ok) throw new Error(`POST ${path} answered ${res.status}: ${await res.text()}`);
   return res.json();
 }
 
 async function runFit(api: Api, modelId: string): Promise<string> {
-  const fit = (await api(`/api/studies/${studyId}/fits`, { method: "POST", body: { modelId } })) as { id: string };
+  const fit = (await api(`/api/studies/${studyId}/fits`, {
+    method: "POST",
+    body: { modelId },
+  })) as { id: string };
   const deadline = Date.now() + 90_000;
   for (;;) {
     const seen = (await api(`/api/fits/${fit.id}`)) as { status: string };
     if (seen.status === "done") return fit.id;
-    if (seen.status === "failed" || Date.now() > deadline) throw new Error(`fit ${fit.id} ended ${seen.status}`);
+    if (seen.status === "failed" || Date.now() > deadline)
+      throw new Error(`fit ${fit.id} ended ${seen.status}`);
     await new Promise((r) => setTimeout(r, 250));
   }
 }
@@ -65,13 +73,26 @@ beforeAll(async () => {
   studyId = ((await owner("/api/studies")) as { id: string }[])[0].id;
   const model = (await analyst(`/api/studies/${studyId}/models`, {
     method: "POST",
-    body: { name: modelName, regionSelection: "anatomical-or-prior", spec: { kind: "one-sample", regions: ["L_dlpfc", "R_dlpfc", "dACC"] } },
+    body: {
+      name: modelName,
+      regionSelection: "anatomical-or-prior",
+      spec: { kind: "one-sample", regions: ["L_dlpfc", "R_dlpfc", "dACC"] },
+    },
   })) as { id: string };
   firstId = await runFit(analyst, model.id);
-  await analyst(`/api/studies/${studyId}/set-asides`, { method: "POST", body: { participant: "sub-12", reason: reasons.asleep } });
-  await analyst(`/api/studies/${studyId}/set-asides`, { method: "POST", body: { participant: "sub-20", region: "L_dlpfc", reason: reasons.artefact } });
+  await analyst(`/api/studies/${studyId}/set-asides`, {
+    method: "POST",
+    body: { participant: "sub-12", reason: reasons.asleep },
+  });
+  await analyst(`/api/studies/${studyId}/set-asides`, {
+    method: "POST",
+    body: { participant: "sub-20", region: "L_dlpfc", reason: reasons.artefact },
+  });
   refitId = await runFit(analyst, model.id);
-  await analyst(`/api/studies/${studyId}/set-asides`, { method: "POST", body: { participant: "sub-33", reason: reasons.motion } });
+  await analyst(`/api/studies/${studyId}/set-asides`, {
+    method: "POST",
+    body: { participant: "sub-33", reason: reasons.motion },
+  });
 });
 
 async function signIn(page: Awaited<ReturnType<typeof openPage>>["page"], role: string) {
@@ -81,7 +102,11 @@ async function signIn(page: Awaited<ReturnType<typeof openPage>>["page"], role: 
 }
 
 /** True when the element's box ends within the viewport's height (seen without scrolling). */
-async function inFirstScreen(page: Awaited<ReturnType<typeof openPage>>["page"], testId: string, height: number): Promise<boolean> {
+async function inFirstScreen(
+  page: Awaited<ReturnType<typeof openPage>>["page"],
+  testId: string,
+  height: number,
+): Promise<boolean> {
   const box = await page.getByTestId(testId).first().boundingBox();
   return box !== null && box.y >= 0 && box.y + box.height <= height;
 }
@@ -97,7 +122,9 @@ for (const [label, viewport] of [
       await page.goto(`${e2e.server.url}/studies/${studyId}/fits`);
       const rows = page.getByTestId("fit-row");
       await rows.first().waitFor({ timeout: 60_000 });
-      const refitRow = rows.filter({ hasText: "Set aside: sub-12 (all regions), sub-20 (L_dlpfc)" }).first();
+      const refitRow = rows
+        .filter({ hasText: "Set aside: sub-12 (all regions), sub-20 (L_dlpfc)" })
+        .first();
       const text = (await refitRow.textContent()) ?? "";
       expect(text).toContain(modelName);
       await expect(refitRow.getByTestId("fit-row-stage").textContent()).resolves.toBe("done");
@@ -105,7 +132,10 @@ for (const [label, viewport] of [
       expect(text).toContain("Set aside: 2");
       expect(text).toContain(`Refit of ${modelName}`);
       expect(text).toContain("Newer data or set-asides exist");
-      const firstRow = rows.filter({ hasNotText: "Refit of" }).filter({ hasText: modelName }).first();
+      const firstRow = rows
+        .filter({ hasNotText: "Refit of" })
+        .filter({ hasText: modelName })
+        .first();
       expect(await firstRow.textContent()).toContain("Set aside: 0");
       // Each row is a tap target of at least 44 px.
       const box = await refitRow.boundingBox();
@@ -123,10 +153,22 @@ for (const [label, viewport] of [
       await signIn(page, "analyst");
       await page.goto(`${e2e.server.url}/studies/${studyId}/fits/${refitId}`);
       await page.getByTestId("fit-set-aside-count").waitFor({ timeout: 60_000 });
-      await expect(page.getByTestId("fit-plain-words").textContent()).resolves.toMatch(/^N = \d+–\d+ per region/);
-      await expect(page.getByTestId("fit-set-aside-count").textContent()).resolves.toBe("Set aside: 2");
-      for (const id of ["fit-plain-words", "fit-set-aside-toggle", "fit-refit-of", "fit-stale", "fit-refit"]) {
-        expect(await inFirstScreen(page, id, viewport.height), `${id} in the first screen`).toBe(true);
+      await expect(page.getByTestId("fit-plain-words").textContent()).resolves.toMatch(
+        /^N = \d+–\d+ per region/,
+      );
+      await expect(page.getByTestId("fit-set-aside-count").textContent()).resolves.toBe(
+        "Set aside: 2",
+      );
+      for (const id of [
+        "fit-plain-words",
+        "fit-set-aside-toggle",
+        "fit-refit-of",
+        "fit-stale",
+        "fit-refit",
+      ]) {
+        expect(await inFirstScreen(page, id, viewport.height), `${id} in the first screen`).toBe(
+          true,
+        );
       }
       // Collapsed at first; open lists each participant, scope, reason, who and when.
       await expect(page.getByTestId("fit-set-aside-list").count()).resolves.toBe(0);
@@ -140,7 +182,9 @@ for (const [label, viewport] of [
       const second = (await items.nth(1).textContent()) ?? "";
       expect(second).toContain("sub-20 · L_dlpfc");
       expect(second).toContain(reasons.artefact);
-      await expect(page.getByTestId("fit-refit-of").textContent()).resolves.toContain(`Refit of ${modelName}`);
+      await expect(page.getByTestId("fit-refit-of").textContent()).resolves.toContain(
+        `Refit of ${modelName}`,
+      );
       const stale = (await page.getByTestId("fit-stale").textContent()) ?? "";
       expect(stale).toContain("Newer data or set-asides exist");
       expect(stale).toContain("Set-asides changed since this fit: sub-33 (all regions) added");
@@ -148,7 +192,10 @@ for (const [label, viewport] of [
 
       // Refit starts a new fit of the model and opens it; it re-runs this one and is current.
       await page.getByTestId("fit-refit").click();
-      await page.waitForURL((url) => /\/fits\/[^/]+$/.test(url.pathname) && !url.pathname.endsWith(refitId), { timeout: 30_000 });
+      await page.waitForURL(
+        (url) => /\/fits\/[^/]+$/.test(url.pathname) && !url.pathname.endsWith(refitId),
+        { timeout: 30_000 },
+      );
       const newId = new URL(page.url()).pathname.split("/").pop() as string;
       const created = (await owner(`/api/fits/${newId}`)) as { refitOf: string; changes: string[] };
       if (label === "phone") {
@@ -160,7 +207,9 @@ for (const [label, viewport] of [
         expect(created.refitOf).toBe(phoneRefitId);
         expect(created.changes).toEqual([]);
       }
-      await expect(page.getByTestId("fit-set-aside-count").textContent()).resolves.toBe("Set aside: 3");
+      await expect(page.getByTestId("fit-set-aside-count").textContent()).resolves.toBe(
+        "Set aside: 3",
+      );
       await page.getByTestId("fit-refit-of").waitFor();
       await page.getByTestId("region-table").waitFor({ timeout: 90_000 });
       await expect(page.getByTestId("fit-stale").count()).resolves.toBe(0);
@@ -180,7 +229,9 @@ it("a Viewer of a restricted study sees the count and the reasons without partic
     await signIn(page, "viewer");
     await page.goto(`${e2e.server.url}/studies/${studyId}/fits/${refitId}`);
     await page.getByTestId("fit-set-aside-toggle").waitFor({ timeout: 60_000 });
-    await expect(page.getByTestId("fit-set-aside-count").textContent()).resolves.toBe("Set aside: 2");
+    await expect(page.getByTestId("fit-set-aside-count").textContent()).resolves.toBe(
+      "Set aside: 2",
+    );
     await page.getByTestId("fit-set-aside-toggle").click();
     const list = (await page.getByTestId("fit-set-aside-list").textContent()) ?? "";
     expect(list).toContain(reasons.asleep);
@@ -200,19 +251,35 @@ it("a Viewer of a restricted study sees the count and the reasons without partic
 
 it("a fit with fewer than 20 participants in a region shows the small-sample caution on one line, with more", async () => {
   // An invented study of 12 participants in two regions, uploaded by the Owner.
-  const study = (await owner("/api/studies", { method: "POST", body: { name: "Twelve participants" } })) as { id: string };
+  const study = (await owner("/api/studies", {
+    method: "POST",
+    body: { name: "Twelve participants" },
+  })) as { id: string };
   const lines = ["participant_id,L_insula,R_insula"];
-  for (let i = 1; i <= 12; i++) lines.push(`p${String(i).padStart(2, "0")},${(0.1 * i - 0.4).toFixed(2)},${(0.3 - 0.05 * i).toFixed(2)}`);
+  for (let i = 1; i <= 12; i++)
+    lines.push(
+      `p${String(i).padStart(2, "0")},${(0.1 * i - 0.4).toFixed(2)},${(0.3 - 0.05 * i).toFixed(2)}`,
+    );
   const form = new FormData();
   form.set("kind", "brain");
   form.set("file", new Blob([`${lines.join("\n")}\n`], { type: "text/csv" }), "twelve.csv");
   const preview = (await ownerUpload(`/api/studies/${study.id}/datasets`, form)) as { id: string };
-  await owner(`/api/studies/${study.id}/datasets/${preview.id}/confirm`, { method: "POST", body: {} });
+  await owner(`/api/studies/${study.id}/datasets/${preview.id}/confirm`, {
+    method: "POST",
+    body: {},
+  });
   const model = (await owner(`/api/studies/${study.id}/models`, {
     method: "POST",
-    body: { name: "Insula load effect", regionSelection: "anatomical-or-prior", spec: { kind: "one-sample" } },
+    body: {
+      name: "Insula load effect",
+      regionSelection: "anatomical-or-prior",
+      spec: { kind: "one-sample" },
+    },
   })) as { id: string };
-  const fit = (await owner(`/api/studies/${study.id}/fits`, { method: "POST", body: { modelId: model.id } })) as { id: string };
+  const fit = (await owner(`/api/studies/${study.id}/fits`, {
+    method: "POST",
+    body: { modelId: model.id },
+  })) as { id: string };
   const { page, context, errors } = await openPage(e2e.browser, phone);
   try {
     await signIn(page, "owner");
@@ -222,8 +289,12 @@ it("a fit with fewer than 20 participants in a region shows the small-sample cau
     expect(await inFirstScreen(page, "fit-small-sample", phone.height)).toBe(true);
     const collapsed = (await caution.boundingBox())?.height ?? 0;
     expect(await caution.textContent()).toContain("Fewer than 20 participants in 2 of 2 regions");
-    await expect(page.getByTestId("fit-plain-words").textContent()).resolves.toMatch(/^N = 12 per region/);
-    await expect(page.getByTestId("fit-set-aside-count").textContent()).resolves.toContain("Set aside: 0");
+    await expect(page.getByTestId("fit-plain-words").textContent()).resolves.toMatch(
+      /^N = 12 per region/,
+    );
+    await expect(page.getByTestId("fit-set-aside-count").textContent()).resolves.toContain(
+      "Set aside: 0",
+    );
     await caution.getByRole("button", { name: "Read the whole small-sample caution" }).click();
     expect((await caution.boundingBox())?.height ?? 0).toBeGreaterThan(collapsed);
     await screenshot(page, "fit-lineage-small-sample-phone");

@@ -22,7 +22,9 @@ describe("serving the app", () => {
     expect(deep.status).toBe(200);
     const studies = await fetch(`${e2e.server.url}/api/studies`);
     expect(studies.status).toBe(401);
-    expect(await studies.json()).toMatchObject({ error: { code: expect.any(String), message: expect.any(String) } });
+    expect(await studies.json()).toMatchObject({
+      error: { code: expect.any(String), message: expect.any(String) },
+    });
   });
 });
 

@@ -11,7 +11,10 @@ import { chromiumPath } from "./harness";
 export default function setup(): void {
   if (!existsSync(chromiumPath)) {
     console.log("Installing Debian's chromium for the browser tests…");
-    execSync("apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium", { stdio: "inherit" });
+    execSync(
+      "apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium",
+      { stdio: "inherit" },
+    );
   }
   ensureWebBuild();
 }

@@ -36,14 +36,23 @@ export async function freePort(): Promise<number> {
 }
 
 /** Starts `server/index.ts` as a child process and waits for /api/health. */
-export async function startServer(options: { dataDir?: string; env?: Record<string, string> } = {}): Promise<RunningServer> {
+export async function startServer(
+  options: { dataDir?: string; env?: Record<string, string> } = {},
+): Promise<RunningServer> {
   const port = await freePort();
   const dataDir = options.dataDir ?? mkdtempSync(join(tmpdir(), "covarion-e2e-"));
   const url = `http://127.0.0.1:${port}`;
   let log = "";
   const child: ChildProcess = spawn(process.execPath, ["--import", "tsx", "server/index.ts"], {
     cwd: projectRoot,
-    env: { ...process.env, PORT: String(port), HOST: "127.0.0.1", DATA_DIR: dataDir, NODE_ENV: "development", ...options.env },
+    env: {
+      ...process.env,
+      PORT: String(port),
+      HOST: "127.0.0.1",
+      DATA_DIR: dataDir,
+      NODE_ENV: "development",
+      ...options.env,
+    },
     stdio: ["ignore", "pipe", "pipe"],
   });
   child.stdout?.on("data", (chunk: Buffer) => {
@@ -54,7 +63,8 @@ export async function startServer(options: { dataDir?: string; env?: Record<stri
   });
   const deadline = Date.now() + 120_000;
   for (;;) {
-    if (child.exitCode !== null) throw new Error(`The server exited early (code ${child.exitCode}):\n${log}`);
+    if (child.exitCode !== null)
+      throw new Error(`The server exited early (code ${child.exitCode}):\n${log}`);
     try {
       const response = await fetch(`${url}/api/health`);
       if (response.ok) break;
@@ -105,7 +115,10 @@ export async function launchBrowser(): Promise<Browser> {
  * shows it as such).
  */
 function expectedRefusal(status: number, path: string): boolean {
-  return (status === 401 && path === "/api/me") || (status === 409 && /^\/api\/studies\/[^/]+\/reliability$/.test(path));
+  return (
+    (status === 401 && path === "/api/me") ||
+    (status === 409 && /^\/api\/studies\/[^/]+\/reliability$/.test(path))
+  );
 }
 
 /**
@@ -120,7 +133,8 @@ export async function openPage(browser: Browser, viewport: { width: number; heig
   const errors: string[] = [];
   page.on("pageerror", (error) => errors.push(`pageerror: ${error.message}`));
   page.on("console", (message) => {
-    if (message.type() === "error" && !message.text().startsWith("Failed to load resource")) errors.push(`console: ${message.text()}`);
+    if (message.type() === "error" && !message.text().startsWith("Failed to load resource"))
+      errors.push(`console: ${message.text()}`);
   });
   page.on("response", (response) => {
     const path = new URL(response.url()).pathname;
@@ -137,10 +151,16 @@ export async function screenshot(page: Page, name: string): Promise<void> {
 }
 
 /** A call to the running server's API as one demo person: JSON in and out; throws on a non-2xx answer. */
-export type DemoApi = (path: string, init?: { method?: string; body?: unknown }) => Promise<unknown>;
+export type DemoApi = (
+  path: string,
+  init?: { method?: string; body?: unknown },
+) => Promise<unknown>;
 
 /** Signs a demo person in through the demo sign-in route and returns an API caller carrying that session cookie. */
-export async function demoApi(serverUrl: string, role: "owner" | "analyst" | "reviewer" | "viewer"): Promise<DemoApi> {
+export async function demoApi(
+  serverUrl: string,
+  role: "owner" | "analyst" | "reviewer" | "viewer",
+): Promise<DemoApi> {
   const signIn = await fetch(`${serverUrl}/api/dev/demo-sign-in`, {
     method: "POST",
     headers: { "Content-Type": "application/json", Origin: serverUrl },
@@ -151,10 +171,17 @@ export async function demoApi(serverUrl: string, role: "owner" | "analyst" | "re
   return async (path, init = {}) => {
     const res = await fetch(`${serverUrl}${path}`, {
       method: init.method ?? "GET",
-      headers: { Cookie: cookie, Origin: serverUrl, ...(init.body !== undefined ? { "Content-Type": "application/json" } : {}) },
+      headers: {
+        Cookie: cookie,
+        Origin: serverUrl,
+        ...(init.body !== undefined ? { "Content-Type": "application/json" } : {}),
+      },
       body: init.body !== undefined ? JSON.stringify(init.body) : undefined,
     });
-    if (!res.ok) throw new Error(`${init.method ?? "GET"} ${path} answered ${res.status}: ${await res.text()}`);
+    if (!res.ok)
+      throw new Error(
+        `${init.method ?? "GET"} ${path} answered ${res.status}: ${await res.text()}`,
+      );
     return res.json();
   };
 }

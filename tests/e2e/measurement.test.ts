@@ -28,8 +28,15 @@ it("the demo Analyst reads the reliability per region and states a trait's relia
     await table.waitFor();
     await table.scrollIntoViewIfNeeded();
     await expect(table.getByText("L_dlpfc", { exact: true }).count()).resolves.toBe(1);
-    await expect(page.getByTestId("brain-reliability").getByText(/sessions 1, 2 · 16 participants with two or more sessions/).count()).resolves.toBe(1);
-    await expect(page.getByTestId("brain-reliability-method").textContent()).resolves.toMatch(/^Shrout & Fleiss \(1979\) intraclass correlations across sessions\. ICC\(3,1\): consistency of sessions/);
+    await expect(
+      page
+        .getByTestId("brain-reliability")
+        .getByText(/sessions 1, 2 · 16 participants with two or more sessions/)
+        .count(),
+    ).resolves.toBe(1);
+    await expect(page.getByTestId("brain-reliability-method").textContent()).resolves.toMatch(
+      /^Shrout & Fleiss \(1979\) intraclass correlations across sessions\. ICC\(3,1\): consistency of sessions/,
+    );
     await screenshot(page, "reliability-phone-table");
 
     const form = page.getByTestId("trait-reliabilities");
@@ -56,7 +63,9 @@ it("a Viewer reads the stated trait reliability and the region table on a wide s
     await openDemoData(page, "viewer");
     const list = page.getByTestId("trait-reliability-list");
     await list.waitFor();
-    await expect(list.textContent()).resolves.toBe("accuracy: 0.82 — test–retest r = .82, task manual");
+    await expect(list.textContent()).resolves.toBe(
+      "accuracy: 0.82 — test–retest r = .82, task manual",
+    );
     await expect(page.getByTestId("trait-add").count()).resolves.toBe(0);
     await page.getByTestId("brain-reliability-table").scrollIntoViewIfNeeded();
     await screenshot(page, "reliability-wide");

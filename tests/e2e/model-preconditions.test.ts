@@ -25,11 +25,20 @@ for (const [label, viewport] of [
       await page.getByTestId("model-predictor").getByRole("radio", { name: "accuracy" }).click();
       await page.getByTestId("model-covariates").getByRole("checkbox", { name: "age" }).click();
       const notice = page.getByTestId("model-data-preconditions");
-      await expect.poll(() => notice.textContent()).toContain("Every region needs at least 3 participants with a contrast value and a value for accuracy and age");
+      await expect
+        .poll(() => notice.textContent())
+        .toContain(
+          "Every region needs at least 3 participants with a contrast value and a value for accuracy and age",
+        );
       await expect(notice.textContent()).resolves.toContain("Only when the fit runs:");
       // Two groups: the group rule and the minimum per group follow the choice.
-      await page.getByTestId("model-kind").getByRole("radio", { name: "Two groups differ" }).click();
-      await expect.poll(() => notice.textContent()).toContain("Each of the two groups needs at least 2 participants in every region.");
+      await page
+        .getByTestId("model-kind")
+        .getByRole("radio", { name: "Two groups differ" })
+        .click();
+      await expect
+        .poll(() => notice.textContent())
+        .toContain("Each of the two groups needs at least 2 participants in every region.");
       await expect(page.getByTestId("model-data-problems").count()).resolves.toBe(0);
       await notice.scrollIntoViewIfNeeded();
       await screenshot(page, `model-preconditions-${label}`);

@@ -12,7 +12,10 @@ import { sharedServerAndBrowser } from "./session";
 const e2e = sharedServerAndBrowser();
 let studyId: string;
 
-async function signInAsDemo(page: Page, role: "owner" | "analyst" | "reviewer" | "viewer"): Promise<void> {
+async function signInAsDemo(
+  page: Page,
+  role: "owner" | "analyst" | "reviewer" | "viewer",
+): Promise<void> {
   await page.goto(`${e2e.server.url}/sign-in`);
   await page.getByRole("button", { name: `Sign in as the demo ${role}` }).click();
   await page.waitForURL(/\/studies$/);
@@ -25,7 +28,11 @@ beforeAll(async () => {
 
 for (const [route, sentence, back] of [
   ["models/new", "Your role in this study (Viewer) cannot build models.", "Back to Models"],
-  ["activity", "Your role in this study (Viewer) cannot see the study's activity.", "Back to the study"],
+  [
+    "activity",
+    "Your role in this study (Viewer) cannot see the study's activity.",
+    "Back to the study",
+  ],
 ] as const) {
   it(`a Viewer opening ${route} by its address sees why, with a link back, and no input`, async () => {
     const { page, context, errors } = await openPage(e2e.browser, phone);
@@ -60,7 +67,9 @@ it("an unknown study shows Study not found with a link to the studies list", asy
     await notFound.getByText("Go to your studies").click();
     await page.waitForURL(/\/studies$/);
     // The one failed request is the study's own 404.
-    expect(errors.filter((e) => !e.startsWith(`response: 404 GET /api/studies/${unknown}`))).toEqual([]);
+    expect(
+      errors.filter((e) => !e.startsWith(`response: 404 GET /api/studies/${unknown}`)),
+    ).toEqual([]);
   } finally {
     await context.close();
   }
@@ -73,10 +82,21 @@ it("a cancelled fit offers Run again to an Analyst, which starts a new fit of th
     body: {
       name: "Accuracy with age, cancelled",
       regionSelection: "anatomical-or-prior",
-      spec: { kind: "association", predictor: "accuracy", covariates: ["age"], inference: "permutation", resamples: 5000, seed: 9, correction: "holm" },
+      spec: {
+        kind: "association",
+        predictor: "accuracy",
+        covariates: ["age"],
+        inference: "permutation",
+        resamples: 5000,
+        seed: 9,
+        correction: "holm",
+      },
     },
   })) as { id: string };
-  const fit = (await analyst(`/api/studies/${studyId}/fits`, { method: "POST", body: { modelId: model.id } })) as { id: string };
+  const fit = (await analyst(`/api/studies/${studyId}/fits`, {
+    method: "POST",
+    body: { modelId: model.id },
+  })) as { id: string };
   await analyst(`/api/fits/${fit.id}/cancel`, { method: "POST", body: {} });
   const { page, context, errors } = await openPage(e2e.browser, phone);
   try {
@@ -86,7 +106,9 @@ it("a cancelled fit offers Run again to an Analyst, which starts a new fit of th
     await runAgain.waitFor();
     await screenshot(page, "fit-run-again-phone");
     await runAgain.click();
-    await page.waitForURL((url) => /\/fits\/[^/]+$/.test(url.pathname) && !url.pathname.endsWith(fit.id));
+    await page.waitForURL(
+      (url) => /\/fits\/[^/]+$/.test(url.pathname) && !url.pathname.endsWith(fit.id),
+    );
     const newId = new URL(page.url()).pathname.split("/").pop() as string;
     const created = (await analyst(`/api/fits/${newId}`)) as { model: { id: string } };
     expect(created.model.id).toBe(model.id);
@@ -108,21 +130,37 @@ it("a cancelled fit offers Run again to an Analyst, which starts a new fit of th
 
 it("the invitation page, opened while signed in as someone else, offers Sign out and continue, which comes back to it", async () => {
   const owner = await demoApi(e2e.server.url, "owner");
-  await owner(`/api/studies/${studyId}/invitations`, { method: "POST", body: { email: "newcomer@lab.example", role: "viewer" } });
+  await owner(`/api/studies/${studyId}/invitations`, {
+    method: "POST",
+    body: { email: "newcomer@lab.example", role: "viewer" },
+  });
   const { page, context, errors } = await openPage(e2e.browser, phone);
   try {
     await signInAsDemo(page, "analyst");
     await page.goto(`${e2e.server.url}/mailbox`);
-    await page.getByTestId("mail-message").filter({ hasText: "newcomer@lab.example" }).first().getByTestId("mail-link").first().click();
+    await page
+      .getByTestId("mail-message")
+      .filter({ hasText: "newcomer@lab.example" })
+      .first()
+      .getByTestId("mail-link")
+      .first()
+      .click();
     await page.waitForURL(/\/invitations\/[^/]+$/);
     const invitationPath = new URL(page.url()).pathname;
-    await page.getByText("You are signed in as analyst@demo.covarion.test, but this invitation is for newcomer@lab.example.", { exact: false }).waitFor();
+    await page
+      .getByText(
+        "You are signed in as analyst@demo.covarion.test, but this invitation is for newcomer@lab.example.",
+        { exact: false },
+      )
+      .waitFor();
     expect(await page.getByTestId("accept-invitation").count()).toBe(0);
     await screenshot(page, "invitation-other-person-phone");
     await page.getByTestId("sign-out-and-continue").click();
     await page.getByText("Sign in as newcomer@lab.example to accept.").waitFor();
     expect(new URL(page.url()).pathname).toBe(invitationPath);
-    await expect(page.getByTestId("email-input").inputValue()).resolves.toBe("newcomer@lab.example");
+    await expect(page.getByTestId("email-input").inputValue()).resolves.toBe(
+      "newcomer@lab.example",
+    );
     const me = await page.request.get(`${e2e.server.url}/api/me`);
     expect(me.status()).toBe(401);
     expect(errors).toEqual([]);
@@ -138,11 +176,16 @@ it("a form's validation error reads as a sentence without a field path", async (
     await page.goto(`${e2e.server.url}/studies/${studyId}/team`);
     await page.getByTestId("invite-email").fill("not-an-address");
     await page.getByTestId("send-invitation").click();
-    await page.getByTestId("invite").getByText("Enter an e-mail address such as name@lab.example.").waitFor();
+    await page
+      .getByTestId("invite")
+      .getByText("Enter an e-mail address such as name@lab.example.")
+      .waitFor();
     expect(await page.getByText("body.email").count()).toBe(0);
     await screenshot(page, "invite-validation-phone");
     // The one failed request is the refused invitation.
-    expect(errors.filter((e) => !e.startsWith(`response: 400 POST /api/studies/${studyId}/invitations`))).toEqual([]);
+    expect(
+      errors.filter((e) => !e.startsWith(`response: 400 POST /api/studies/${studyId}/invitations`)),
+    ).toEqual([]);
   } finally {
     await context.close();
   }
@@ -156,7 +199,10 @@ it("the Mailbox shows the sign-in link inside the message text", async () => {
     await page.getByTestId("send-link").click();
     await page.getByText("Check your e-mail").waitFor();
     await page.goto(`${e2e.server.url}/mailbox`);
-    const message = page.getByTestId("mail-message").filter({ hasText: "mailbox-reader@lab.example" }).first();
+    const message = page
+      .getByTestId("mail-message")
+      .filter({ hasText: "mailbox-reader@lab.example" })
+      .first();
     const link = message.getByTestId("mail-link");
     await link.waitFor();
     expect(await link.count()).toBe(1);
@@ -188,7 +234,12 @@ it("on the phone the navigation draws its icons and the app bar's, tabs' and chi
     }
     const nav = page.getByRole("navigation");
     expect(await nav.textContent()).not.toMatch(/[▤◔✉]/);
-    const targets = [page.getByTestId("sign-out"), ...(await page.getByRole("tab").all()), ...(await page.getByRole("radio").all()), ...(await nav.getByRole("link").all())];
+    const targets = [
+      page.getByTestId("sign-out"),
+      ...(await page.getByRole("tab").all()),
+      ...(await page.getByRole("radio").all()),
+      ...(await nav.getByRole("link").all()),
+    ];
     expect(targets.length).toBeGreaterThan(8);
     for (const target of targets) {
       const box = await target.boundingBox();
@@ -224,20 +275,33 @@ it("removing a member asks to confirm and names the person", async () => {
     const row = page.getByTestId("member-row").filter({ hasText: "Jonah Adeyemi" });
     await row.getByTestId("remove-member").click();
     const confirm = row.getByTestId("remove-confirm");
-    await confirm.getByText("Remove Jonah Adeyemi (Viewer) from this study?", { exact: false }).waitFor();
+    await confirm
+      .getByText("Remove Jonah Adeyemi (Viewer) from this study?", { exact: false })
+      .waitFor();
     await screenshot(page, "remove-member-confirm-phone");
     // Keep: nothing happens.
     await row.getByTestId("cancel-remove-member").click();
     expect(await row.getByTestId("remove-confirm").count()).toBe(0);
-    expect(await page.getByTestId("member-row").filter({ hasText: "Jonah Adeyemi" }).count()).toBe(1);
+    expect(await page.getByTestId("member-row").filter({ hasText: "Jonah Adeyemi" }).count()).toBe(
+      1,
+    );
     // Confirm: the person leaves the list.
     await row.getByTestId("remove-member").click();
     await row.getByRole("button", { name: "Remove Jonah Adeyemi" }).click();
-    await page.getByTestId("member-row").filter({ hasText: "Jonah Adeyemi" }).waitFor({ state: "detached" });
+    await page
+      .getByTestId("member-row")
+      .filter({ hasText: "Jonah Adeyemi" })
+      .waitFor({ state: "detached" });
     // The activity names who removed whom, and which fit was cancelled.
     await page.getByRole("tab", { name: "Activity" }).click();
-    await page.getByTestId("activity-event").filter({ hasText: "Maren Lindqvist removed Jonah Adeyemi (Viewer)" }).waitFor();
-    await page.getByTestId("activity-event").filter({ hasText: "Tomas Ferreira cancelled the fit of ‘Accuracy with age, cancelled’" }).waitFor();
+    await page
+      .getByTestId("activity-event")
+      .filter({ hasText: "Maren Lindqvist removed Jonah Adeyemi (Viewer)" })
+      .waitFor();
+    await page
+      .getByTestId("activity-event")
+      .filter({ hasText: "Tomas Ferreira cancelled the fit of ‘Accuracy with age, cancelled’" })
+      .waitFor();
     expect(errors).toEqual([]);
   } finally {
     await context.close();

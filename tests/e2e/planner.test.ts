@@ -22,7 +22,9 @@ for (const [label, viewport] of [
       await page.getByTestId("plan").click();
       const answer = page.getByTestId("planner-answer");
       await answer.waitFor();
-      await expect(answer.getByText(/You need \d+ participants for 80% power/).count()).resolves.toBe(1);
+      await expect(
+        answer.getByText(/You need \d+ participants for 80% power/).count(),
+      ).resolves.toBe(1);
       await expect(answer.getByText(/Method: Fisher z/).count()).resolves.toBe(1);
       await screenshot(page, `planner-${label}`);
       expect(errors).toEqual([]);

@@ -25,7 +25,8 @@ export function sharedServerAndBrowser(): E2eSession {
     await server?.stop();
   });
   const started = <T>(value: T | undefined, what: string): T => {
-    if (value === undefined) throw new Error(`the ${what} is not started yet: read it inside a hook or test`);
+    if (value === undefined)
+      throw new Error(`the ${what} is not started yet: read it inside a hook or test`);
     return value;
   };
   return {

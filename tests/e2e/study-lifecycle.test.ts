@@ -18,7 +18,11 @@ async function signInByLink(page: Page, address: string): Promise<void> {
   await page.getByTestId("send-link").click();
   await page.getByText("Check your e-mail").waitFor();
   await page.goto(`${e2e.server.url}/mailbox`);
-  const message = page.getByTestId("mail-message").filter({ hasText: address }).filter({ hasText: "sign-in link" }).first();
+  const message = page
+    .getByTestId("mail-message")
+    .filter({ hasText: address })
+    .filter({ hasText: "sign-in link" })
+    .first();
   await message.getByTestId("mail-link").first().click();
   await page.waitForURL(/\/studies$/);
 }
@@ -61,14 +65,21 @@ it("an Owner archives and unarchives a study, deletes it and restores it from Re
     await deleteCard.getByRole("textbox").fill("Tidal memory cohort");
     await deleteCard.getByRole("button", { name: "Delete study" }).click();
     await page.waitForURL(/\/studies$/);
-    const deleted = page.getByTestId("deleted-study-card").filter({ hasText: "Tidal memory cohort" });
+    const deleted = page
+      .getByTestId("deleted-study-card")
+      .filter({ hasText: "Tidal memory cohort" });
     await deleted.getByText("can be restored until").waitFor();
-    expect(await page.getByTestId("study-card").filter({ hasText: "Tidal memory cohort" }).count()).toBe(0);
+    expect(
+      await page.getByTestId("study-card").filter({ hasText: "Tidal memory cohort" }).count(),
+    ).toBe(0);
 
     // On a phone the same list, one column, with a tap-sized Restore.
     await small.page.context().addCookies(await page.context().cookies());
     await small.page.goto(`${e2e.server.url}/studies`);
-    const restoreOnPhone = small.page.getByTestId("deleted-study-card").filter({ hasText: "Tidal memory cohort" }).getByTestId("restore-study");
+    const restoreOnPhone = small.page
+      .getByTestId("deleted-study-card")
+      .filter({ hasText: "Tidal memory cohort" })
+      .getByTestId("restore-study");
     await restoreOnPhone.waitFor();
     expect((await restoreOnPhone.boundingBox())?.height).toBeGreaterThanOrEqual(44);
     await screenshot(small.page, "studies-recently-deleted-phone");

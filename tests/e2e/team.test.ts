@@ -16,7 +16,11 @@ async function signInByLink(page: Page, address: string): Promise<void> {
   await page.getByTestId("send-link").click();
   await page.getByText("Check your e-mail").waitFor();
   await page.goto(`${e2e.server.url}/mailbox`);
-  const message = page.getByTestId("mail-message").filter({ hasText: address }).filter({ hasText: "sign-in link" }).first();
+  const message = page
+    .getByTestId("mail-message")
+    .filter({ hasText: address })
+    .filter({ hasText: "sign-in link" })
+    .first();
   await message.getByTestId("mail-link").first().click();
   await page.waitForURL(/\/studies$/);
 }
@@ -33,15 +37,25 @@ it("an Owner invites a Viewer, who accepts from the Mailbox and reads the study 
     const studyPath = new URL(owner.page.url()).pathname.replace(/\/data$/, "");
     await owner.page.goto(`${e2e.server.url}${studyPath}/team`);
     await owner.page.getByTestId("invite-email").fill("guest@lab.example");
-    await owner.page.getByTestId("invite-role").getByRole("radio", { name: /^Viewer/ }).click();
+    await owner.page
+      .getByTestId("invite-role")
+      .getByRole("radio", { name: /^Viewer/ })
+      .click();
     await owner.page.getByTestId("send-invitation").click();
     await owner.page.getByText("Invitation sent to guest@lab.example.").waitFor();
-    await owner.page.getByTestId("pending-invitation").filter({ hasText: "guest@lab.example" }).waitFor();
+    await owner.page
+      .getByTestId("pending-invitation")
+      .filter({ hasText: "guest@lab.example" })
+      .waitFor();
     await screenshot(owner.page, "team-wide");
 
     await signInByLink(guest.page, "guest@lab.example");
     await guest.page.goto(`${e2e.server.url}/mailbox`);
-    const invitation = guest.page.getByTestId("mail-message").filter({ hasText: "guest@lab.example" }).filter({ hasText: "Load study, spring cohort" }).first();
+    const invitation = guest.page
+      .getByTestId("mail-message")
+      .filter({ hasText: "guest@lab.example" })
+      .filter({ hasText: "Load study, spring cohort" })
+      .first();
     await invitation.getByTestId("mail-link").first().click();
     await guest.page.getByTestId("accept-invitation").click();
     await guest.page.waitForURL(new RegExp(`${studyPath}`));

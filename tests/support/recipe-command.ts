@@ -15,11 +15,21 @@ export interface CommandRun {
   stderr: string;
 }
 
-export function runRecipeCommand(args: readonly string[], options: { viaNpm?: boolean } = {}): Promise<CommandRun> {
+export function runRecipeCommand(
+  args: readonly string[],
+  options: { viaNpm?: boolean } = {},
+): Promise<CommandRun> {
   return new Promise((resolve, reject) => {
     const child = options.viaNpm
-      ? spawn("npm", ["run", "--silent", "fit", "--", ...args], { cwd: projectRoot, stdio: ["ignore", "pipe", "pipe"] })
-      : spawn(process.execPath, ["--import", "tsx", join(projectRoot, "server", "cli", "fit.ts"), ...args], { cwd: projectRoot, stdio: ["ignore", "pipe", "pipe"] });
+      ? spawn("npm", ["run", "--silent", "fit", "--", ...args], {
+          cwd: projectRoot,
+          stdio: ["ignore", "pipe", "pipe"],
+        })
+      : spawn(
+          process.execPath,
+          ["--import", "tsx", join(projectRoot, "server", "cli", "fit.ts"), ...args],
+          { cwd: projectRoot, stdio: ["ignore", "pipe", "pipe"] },
+        );
     let stdout = "";
     let stderr = "";
     child.stdout.on("data", (chunk: Buffer) => {

@@ -1,5 +1,13 @@
 import { describe, expect, it } from "vitest";
-import { describePoint, flagPhrase, legendItemsFor, markFor, polygonPath, primaryFlag, shapeVertices } from "../../../components/charts/marks";
+import {
+  describePoint,
+  flagPhrase,
+  legendItemsFor,
+  markFor,
+  polygonPath,
+  primaryFlag,
+  shapeVertices,
+} from "../../../components/charts/marks";
 import { markRoles } from "../../../components/theme";
 
 /** Shoelace formula for the area of a simple polygon. */
@@ -15,8 +23,18 @@ function area(vertices: [number, number][]): number {
 
 describe("marks for flags", () => {
   it("gives each flag its own shape and theme colour", () => {
-    expect(markFor([])).toEqual({ role: "participant", shape: "circle", colour: markRoles.participant, hollow: false }); // (product convention)
-    expect(markFor(["outlier"])).toEqual({ role: "outlier", shape: "triangle", colour: markRoles.outlier, hollow: false }); // (product convention)
+    expect(markFor([])).toEqual({
+      role: "participant",
+      shape: "circle",
+      colour: markRoles.participant,
+      hollow: false,
+    }); // (product convention)
+    expect(markFor(["outlier"])).toEqual({
+      role: "outlier",
+      shape: "triangle",
+      colour: markRoles.outlier,
+      hollow: false,
+    }); // (product convention)
     expect(markFor(["leverage"]).shape).toBe("square"); // (product convention)
     expect(markFor(["influence"]).shape).toBe("diamond"); // (product convention)
   });
@@ -28,13 +46,22 @@ describe("marks for flags", () => {
   });
 
   it("draws a participant set aside hollow, in the set-aside colour, keeping the flag's shape", () => {
-    expect(markFor(["leverage"], true)).toEqual({ role: "setAside", shape: "square", colour: markRoles.setAside, hollow: true }); // (product convention)
+    expect(markFor(["leverage"], true)).toEqual({
+      role: "setAside",
+      shape: "square",
+      colour: markRoles.setAside,
+      hollow: true,
+    }); // (product convention)
   });
 
   it("writes the flags in words for accessible names", () => {
     expect(flagPhrase(["outlier"])).toBe("flagged outlier"); // (product convention)
-    expect(flagPhrase(["leverage", "influence"], true)).toBe("flagged influential and high leverage, set aside"); // (product convention)
-    expect(flagPhrase(["leverage", "influence", "outlier"])).toBe("flagged influential, outlier and high leverage"); // (product convention)
+    expect(flagPhrase(["leverage", "influence"], true)).toBe(
+      "flagged influential and high leverage, set aside",
+    ); // (product convention)
+    expect(flagPhrase(["leverage", "influence", "outlier"])).toBe(
+      "flagged influential, outlier and high leverage",
+    ); // (product convention)
     expect(flagPhrase([])).toBe(""); // (product convention)
     expect(
       describePoint({ id: "sub-12", flags: ["outlier"] }, [
@@ -42,7 +69,9 @@ describe("marks for flags", () => {
         { name: "contrast", value: 0.42 },
       ]),
     ).toBe("sub-12: trait 31, contrast 0.42, flagged outlier"); // (the brief's example label)
-    expect(describePoint({ id: "sub-3", flags: [] }, [{ name: "contrast", value: null }])).toBe("sub-3: contrast n/a"); // (BIDS participants-file convention for missing)
+    expect(describePoint({ id: "sub-3", flags: [] }, [{ name: "contrast", value: null }])).toBe(
+      "sub-3: contrast n/a",
+    ); // (BIDS participants-file convention for missing)
   });
 
   it("lists only the meanings present, in a fixed order", () => {
@@ -51,7 +80,13 @@ describe("marks for flags", () => {
       { id: "b", flags: [], setAside: true },
       { id: "c", flags: ["outlier", "leverage"] },
     ]);
-    expect(items.map((i) => i.label)).toEqual(["participant", "outlier", "high leverage", "influential", "set aside"]); // (product convention)
+    expect(items.map((i) => i.label)).toEqual([
+      "participant",
+      "outlier",
+      "high leverage",
+      "influential",
+      "set aside",
+    ]); // (product convention)
     expect(legendItemsFor([]).map((i) => i.role)).toEqual(["participant"]); // (product convention)
     expect(items.find((i) => i.role === "setAside")?.hollow).toBe(true); // (product convention)
   });

@@ -1,5 +1,13 @@
 import { describe, expect, it } from "vitest";
-import { formatCount, formatFixed, formatP, formatPercent, formatValue, isMissingNumber, MINUS } from "../../../components/charts/number-format";
+import {
+  formatCount,
+  formatFixed,
+  formatP,
+  formatPercent,
+  formatValue,
+  isMissingNumber,
+  MINUS,
+} from "../../../components/charts/number-format";
 
 describe("formatFixed", () => {
   it("rounds to the asked decimals, groups thousands and uses the minus sign", () => {

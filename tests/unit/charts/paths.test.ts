@@ -33,6 +33,15 @@ describe("bandPath", () => {
   });
 
   it("leaves out incomplete points and needs two points", () => {
-    expect(bandPath([{ x: 0, fit: 0, low: Number.NaN, high: 1 }, { x: 1, fit: 0, low: 0, high: 1 }], identity, identity)).toBe(""); // (exact enumeration: one point left)
+    expect(
+      bandPath(
+        [
+          { x: 0, fit: 0, low: Number.NaN, high: 1 },
+          { x: 1, fit: 0, low: 0, high: 1 },
+        ],
+        identity,
+        identity,
+      ),
+    ).toBe(""); // (exact enumeration: one point left)
   });
 });

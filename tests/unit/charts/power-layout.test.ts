@@ -22,10 +22,24 @@ describe("power curve layout", () => {
   });
 
   it("names the point and field of bad input", () => {
-    expect(() => checkPowerPoints([{ n: 10, power: 1.2 }])).toThrow("points[0].power: must lie in [0, 1] (got 1.2)"); // (definition of a probability)
-    expect(() => checkPowerPoints([{ n: 10, power: 0.2 }, { n: 0, power: 0.1 }])).toThrow("points[1].n: must be positive (got 0)"); // (input contract)
-    expect(() => checkPowerPoints([{ n: Number.NaN, power: 0.1 }])).toThrow("points[0].n: must be a finite number (got NaN)"); // (input contract)
-    expect(() => checkPowerPoints([{ n: 10, power: 0.1 }, { n: 10, power: 0.2 }])).toThrow("N = 10 appears more than once"); // (input contract)
+    expect(() => checkPowerPoints([{ n: 10, power: 1.2 }])).toThrow(
+      "points[0].power: must lie in [0, 1] (got 1.2)",
+    ); // (definition of a probability)
+    expect(() =>
+      checkPowerPoints([
+        { n: 10, power: 0.2 },
+        { n: 0, power: 0.1 },
+      ]),
+    ).toThrow("points[1].n: must be positive (got 0)"); // (input contract)
+    expect(() => checkPowerPoints([{ n: Number.NaN, power: 0.1 }])).toThrow(
+      "points[0].n: must be a finite number (got NaN)",
+    ); // (input contract)
+    expect(() =>
+      checkPowerPoints([
+        { n: 10, power: 0.1 },
+        { n: 10, power: 0.2 },
+      ]),
+    ).toThrow("N = 10 appears more than once"); // (input contract)
     expect(() => checkPowerPoints([])).toThrow("points: must hold at least one point"); // (input contract)
   });
 });

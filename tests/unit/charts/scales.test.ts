@@ -1,5 +1,12 @@
 import { describe, expect, it } from "vitest";
-import { chartViewport, estimateTextWidth, leftMarginFor, paddedExtent, plotArea, truncateLabel } from "../../../components/charts/scales";
+import {
+  chartViewport,
+  estimateTextWidth,
+  leftMarginFor,
+  paddedExtent,
+  plotArea,
+  truncateLabel,
+} from "../../../components/charts/scales";
 import { chart } from "../../../components/theme";
 
 describe("paddedExtent", () => {
@@ -35,7 +42,9 @@ describe("chartViewport and plotArea", () => {
   });
 
   it("computes the inner rectangle and refuses margins that leave no room", () => {
-    expect(plotArea({ width: 300, height: 200 }, { top: 10, right: 20, bottom: 30, left: 40 })).toEqual({
+    expect(
+      plotArea({ width: 300, height: 200 }, { top: 10, right: 20, bottom: 30, left: 40 }),
+    ).toEqual({
       left: 40,
       top: 10,
       right: 280,
@@ -43,7 +52,9 @@ describe("chartViewport and plotArea", () => {
       width: 240,
       height: 160,
     }); // (exact arithmetic)
-    expect(() => plotArea({ width: 50, height: 200 }, { top: 0, right: 30, bottom: 0, left: 30 })).toThrow(/no room/); // (exact arithmetic: 50 − 60 < 0)
+    expect(() =>
+      plotArea({ width: 50, height: 200 }, { top: 0, right: 30, bottom: 0, left: 30 }),
+    ).toThrow(/no room/); // (exact arithmetic: 50 − 60 < 0)
   });
 });
 

@@ -17,11 +17,18 @@ describe("strip layout", () => {
     expect(counts).toEqual([1, 1]); // (exact enumeration: sub-2 has no value)
     expect(placements.get("sub-1")?.group).toBe(1); // (exact enumeration)
     expect(placements.has("sub-2")).toBe(false); // (exact enumeration)
-    expect(placements.get("sub-3")?.offset).toBeCloseTo(stripGeometry.cloudCentre + jitterUnit("sub-3") * stripGeometry.cloudHalfWidth, 15); // (exact arithmetic)
+    expect(placements.get("sub-3")?.offset).toBeCloseTo(
+      stripGeometry.cloudCentre + jitterUnit("sub-3") * stripGeometry.cloudHalfWidth,
+      15,
+    ); // (exact arithmetic)
   });
 
   it("gives the same places whatever the order of the points", () => {
-    const points = Array.from({ length: 30 }, (_, i) => ({ id: `sub-${i}`, group: i % 2 ? "patient" : "control", value: i / 10 }));
+    const points = Array.from({ length: 30 }, (_, i) => ({
+      id: `sub-${i}`,
+      group: i % 2 ? "patient" : "control",
+      value: i / 10,
+    }));
     const a = stripLayout(groups, points).placements;
     const b = stripLayout(groups, points.slice().reverse()).placements;
     for (const p of points) expect(b.get(p.id)).toEqual(a.get(p.id)); // (determinism: jitter is a function of the id)
@@ -34,14 +41,20 @@ describe("strip layout", () => {
 
   it("names the field of bad input", () => {
     expect(() => stripLayout([], [])).toThrow("groups: must hold one or two groups (got 0)"); // (input contract)
-    expect(() => stripLayout(groups, [{ id: "a", group: "other", value: 1 }])).toThrow('points[0].group: "other" is not one of the groups (control, patient)'); // (input contract)
+    expect(() => stripLayout(groups, [{ id: "a", group: "other", value: 1 }])).toThrow(
+      'points[0].group: "other" is not one of the groups (control, patient)',
+    ); // (input contract)
     expect(() =>
       stripLayout(groups, [
         { id: "a", group: "control", value: 1 },
         { id: "a", group: "patient", value: 2 },
       ]),
     ).toThrow('points[1].id: "a" appears more than once'); // (input contract)
-    expect(() => stripLayout([{ ...groups[0], low: 1, high: 0 }], [])).toThrow("groups[0].low: is above high (1 > 0)"); // (input contract)
-    expect(() => stripLayout([{ ...groups[0], mean: Number.NaN }], [])).toThrow("groups[0].mean: must be a finite number (got NaN)"); // (input contract)
+    expect(() => stripLayout([{ ...groups[0], low: 1, high: 0 }], [])).toThrow(
+      "groups[0].low: is above high (1 > 0)",
+    ); // (input contract)
+    expect(() => stripLayout([{ ...groups[0], mean: Number.NaN }], [])).toThrow(
+      "groups[0].mean: must be a finite number (got NaN)",
+    ); // (input contract)
   });
 });

@@ -8,7 +8,11 @@ import {
   type TableOptionsResolved,
 } from "@tanstack/react-table";
 import { describe, expect, it } from "vitest";
-import { type AnyColumn, globalMatch, prepareColumns } from "../../../components/tables/table-columns";
+import {
+  type AnyColumn,
+  globalMatch,
+  prepareColumns,
+} from "../../../components/tables/table-columns";
 
 interface Row {
   id: string;
@@ -29,7 +33,12 @@ const columns: AnyColumn<Row>[] = [
   { accessorKey: "age", header: "Age", meta: { numeric: true } },
   { accessorKey: "group", header: "Group" },
   { accessorKey: "scores.accuracy", id: "accuracy", header: "Accuracy", meta: { numeric: true } },
-  { accessorFn: (r) => (r.age === null ? null : r.age * 12), id: "months", header: "Age in months", meta: { numeric: true } },
+  {
+    accessorFn: (r) => (r.age === null ? null : r.age * 12),
+    id: "months",
+    header: "Age in months",
+    meta: { numeric: true },
+  },
 ];
 
 /** A headless TanStack table over `data` with the prepared columns and the given state. */
@@ -52,24 +61,62 @@ function ids(state: { sorting?: SortingState; columnFilters?: ColumnFiltersState
 
 describe("data table columns", () => {
   it("sorts ids in natural order", () => {
-    expect(ids({ sorting: [{ id: "id", desc: false }] })).toEqual(["sub-1", "sub-2", "sub-3", "sub-10"]); // (exact enumeration: natural order)
+    expect(ids({ sorting: [{ id: "id", desc: false }] })).toEqual([
+      "sub-1",
+      "sub-2",
+      "sub-3",
+      "sub-10",
+    ]); // (exact enumeration: natural order)
   });
 
   it("puts missing values last in both directions", () => {
-    expect(ids({ sorting: [{ id: "age", desc: false }] })).toEqual(["sub-1", "sub-10", "sub-3", "sub-2"]); // (exact enumeration: 24, 31, 52, then n/a)
-    expect(ids({ sorting: [{ id: "age", desc: true }] })).toEqual(["sub-3", "sub-10", "sub-1", "sub-2"]); // (exact enumeration: 52, 31, 24, then n/a)
-    expect(ids({ sorting: [{ id: "accuracy", desc: true }] })).toEqual(["sub-10", "sub-3", "sub-1", "sub-2"]); // (exact enumeration: NaN counts as missing)
-    expect(ids({ sorting: [{ id: "months", desc: false }] })).toEqual(["sub-1", "sub-10", "sub-3", "sub-2"]); // (exact enumeration: accessorFn values, null last)
-    expect(ids({ sorting: [{ id: "group", desc: true }] })).toEqual(["sub-10", "sub-3", "sub-2", "sub-1"]); // (exact enumeration: "patient" and "Patient" tie, kept in input order; null last)
+    expect(ids({ sorting: [{ id: "age", desc: false }] })).toEqual([
+      "sub-1",
+      "sub-10",
+      "sub-3",
+      "sub-2",
+    ]); // (exact enumeration: 24, 31, 52, then n/a)
+    expect(ids({ sorting: [{ id: "age", desc: true }] })).toEqual([
+      "sub-3",
+      "sub-10",
+      "sub-1",
+      "sub-2",
+    ]); // (exact enumeration: 52, 31, 24, then n/a)
+    expect(ids({ sorting: [{ id: "accuracy", desc: true }] })).toEqual([
+      "sub-10",
+      "sub-3",
+      "sub-1",
+      "sub-2",
+    ]); // (exact enumeration: NaN counts as missing)
+    expect(ids({ sorting: [{ id: "months", desc: false }] })).toEqual([
+      "sub-1",
+      "sub-10",
+      "sub-3",
+      "sub-2",
+    ]); // (exact enumeration: accessorFn values, null last)
+    expect(ids({ sorting: [{ id: "group", desc: true }] })).toEqual([
+      "sub-10",
+      "sub-3",
+      "sub-2",
+      "sub-1",
+    ]); // (exact enumeration: "patient" and "Patient" tie, kept in input order; null last)
   });
 
   it("filters numeric columns with the comparison language and text columns by contains", () => {
     expect(ids({ columnFilters: [{ id: "age", value: "> 30" }] })).toEqual(["sub-10", "sub-3"]); // (exact enumeration: 31 and 52)
     expect(ids({ columnFilters: [{ id: "age", value: "20..31" }] })).toEqual(["sub-10", "sub-1"]); // (exact enumeration: inclusive range)
     expect(ids({ columnFilters: [{ id: "age", value: "n/a" }] })).toEqual(["sub-2"]); // (filter language: missing only)
-    expect(ids({ columnFilters: [{ id: "accuracy", value: ">= 0.8" }] })).toEqual(["sub-10", "sub-3"]); // (exact enumeration: nested accessor key)
+    expect(ids({ columnFilters: [{ id: "accuracy", value: ">= 0.8" }] })).toEqual([
+      "sub-10",
+      "sub-3",
+    ]); // (exact enumeration: nested accessor key)
     expect(ids({ columnFilters: [{ id: "group", value: "PAT" }] })).toEqual(["sub-10", "sub-3"]); // (exact enumeration: case-insensitive)
-    expect(ids({ columnFilters: [{ id: "age", value: "lots" }] })).toEqual(["sub-10", "sub-2", "sub-1", "sub-3"]); // (filter language: unreadable text keeps every row)
+    expect(ids({ columnFilters: [{ id: "age", value: "lots" }] })).toEqual([
+      "sub-10",
+      "sub-2",
+      "sub-1",
+      "sub-3",
+    ]); // (filter language: unreadable text keeps every row)
   });
 
   it("searches the cells as printed", () => {
@@ -80,7 +127,10 @@ describe("data table columns", () => {
 
   it("refuses an accessorFn column without an id or a text header", () => {
     // TanStack's types already demand an id here; column lists built without types (e.g. from JSON) reach this check
-    const untyped = { accessorFn: (r: Row) => r.age, header: () => null } as unknown as AnyColumn<Row>;
+    const untyped = {
+      accessorFn: (r: Row) => r.age,
+      header: () => null,
+    } as unknown as AnyColumn<Row>;
     expect(() => prepareColumns<Row>([untyped])).toThrow("columns[0]"); // (input contract)
   });
 });

@@ -1,6 +1,14 @@
 import { describe, expect, it } from "vitest";
-import { compareCells, formatCell, missingToUndefined } from "../../../components/tables/cell-values";
-import { matchesNumericFilter, matchesTextFilter, parseNumericFilter } from "../../../components/tables/column-filter";
+import {
+  compareCells,
+  formatCell,
+  missingToUndefined,
+} from "../../../components/tables/cell-values";
+import {
+  matchesNumericFilter,
+  matchesTextFilter,
+  parseNumericFilter,
+} from "../../../components/tables/column-filter";
 import { MINUS } from "../../../components/charts/number-format";
 
 describe("numeric column filters", () => {
@@ -17,12 +25,20 @@ describe("numeric column filters", () => {
   });
 
   it("explains text it cannot read", () => {
-    expect(() => parseNumericFilter("big")).toThrow('"big" is not a number filter; write for example > 0.5, <= 2, 1..3, 4 or n/a'); // (input contract)
+    expect(() => parseNumericFilter("big")).toThrow(
+      '"big" is not a number filter; write for example > 0.5, <= 2, 1..3, 4 or n/a',
+    ); // (input contract)
   });
 
   it("keeps the matching values; missing values pass only n/a", () => {
     const f = parseNumericFilter("1..3")!;
-    expect([0.5, 1, 2, 3, 3.5].map((v) => matchesNumericFilter(v, f))).toEqual([false, true, true, true, false]); // (exact enumeration: inclusive range)
+    expect([0.5, 1, 2, 3, 3.5].map((v) => matchesNumericFilter(v, f))).toEqual([
+      false,
+      true,
+      true,
+      true,
+      false,
+    ]); // (exact enumeration: inclusive range)
     expect(matchesNumericFilter(null, f)).toBe(false); // (filter language)
     expect(matchesNumericFilter(Number.NaN, { kind: "missing" })).toBe(true); // (filter language)
     expect(matchesNumericFilter(2, { kind: "missing" })).toBe(false); // (filter language)

@@ -1,5 +1,11 @@
 import { describe, expect, it } from "vitest";
-import { formatTicks, niceDomain, stepDecimals, tickCountFor, tickValues } from "../../../components/charts/ticks";
+import {
+  formatTicks,
+  niceDomain,
+  stepDecimals,
+  tickCountFor,
+  tickValues,
+} from "../../../components/charts/ticks";
 import { MINUS } from "../../../components/charts/number-format";
 
 function expectCloseList(actual: number[], expected: number[]) {

@@ -55,11 +55,33 @@ const results = new Map<string, CommandRun>();
 const cases: Record<string, () => string[]> = {
   usage: () => [],
   missingRecipe: () => [join(dir, "no-such-recipe.json")],
-  invalidJson: () => [recipe("invalid.json", '{ "brainTable": "brain.csv", "kind": "one-sample", }')],
-  unknownKey: () => [recipe("unknown-key.json", { brainTable: "data/brain.csv", kind: "one-sample", estimatr: "huber" })],
-  badOption: () => [recipe("bad-option.json", { brainTable: "data/brain.csv", kind: "one-sample", estimator: "median" })],
-  missingFile: () => [recipe("missing-file.json", { brainTable: "data/absent.csv", kind: "one-sample" })],
-  missingSheetKey: () => [recipe("no-sheet.json", { brainTable: "data/brain.csv", kind: "association", predictor: "age" })],
+  invalidJson: () => [
+    recipe("invalid.json", '{ "brainTable": "brain.csv", "kind": "one-sample", }'),
+  ],
+  unknownKey: () => [
+    recipe("unknown-key.json", {
+      brainTable: "data/brain.csv",
+      kind: "one-sample",
+      estimatr: "huber",
+    }),
+  ],
+  badOption: () => [
+    recipe("bad-option.json", {
+      brainTable: "data/brain.csv",
+      kind: "one-sample",
+      estimator: "median",
+    }),
+  ],
+  missingFile: () => [
+    recipe("missing-file.json", { brainTable: "data/absent.csv", kind: "one-sample" }),
+  ],
+  missingSheetKey: () => [
+    recipe("no-sheet.json", {
+      brainTable: "data/brain.csv",
+      kind: "association",
+      predictor: "age",
+    }),
+  ],
   unknownColumn: () => [
     recipe("unknown-column.json", {
       brainTable: "data/brain.csv",
@@ -68,8 +90,20 @@ const cases: Record<string, () => string[]> = {
       predictor: "reaction_time",
     }),
   ],
-  unknownRegion: () => [recipe("unknown-region.json", { brainTable: "data/brain.csv", kind: "one-sample", regions: ["L_amygdala"] })],
-  unknownIdColumn: () => [recipe("unknown-id.json", { brainTable: "data/brain.csv", kind: "one-sample", idColumn: "subject" })],
+  unknownRegion: () => [
+    recipe("unknown-region.json", {
+      brainTable: "data/brain.csv",
+      kind: "one-sample",
+      regions: ["L_amygdala"],
+    }),
+  ],
+  unknownIdColumn: () => [
+    recipe("unknown-id.json", {
+      brainTable: "data/brain.csv",
+      kind: "one-sample",
+      idColumn: "subject",
+    }),
+  ],
   nonNumeric: () => {
     file("data/typo.csv", BRAIN.replace("sub-03,0.90", "sub-03,O.90"));
     return [recipe("non-numeric.json", { brainTable: "data/typo.csv", kind: "one-sample" })];
@@ -83,7 +117,10 @@ const cases: Record<string, () => string[]> = {
     return [recipe("too-few.json", { brainTable: "data/two.csv", kind: "one-sample" })];
   },
   spreadsheet: () => {
-    file("data/book.csv", new Uint8Array([0x50, 0x4b, 0x03, 0x04, 0x14, 0x00, 0x06, 0x00, 0x08, 0x00]));
+    file(
+      "data/book.csv",
+      new Uint8Array([0x50, 0x4b, 0x03, 0x04, 0x14, 0x00, 0x06, 0x00, 0x08, 0x00]),
+    );
     return [recipe("spreadsheet.json", { brainTable: "data/book.csv", kind: "one-sample" })];
   },
   hashMismatch: () => [
@@ -100,11 +137,31 @@ const cases: Record<string, () => string[]> = {
       setAside: [{ participant: "sub-99", reason: "excluded before analysis: scanner fault" }],
     }),
   ],
-  oneSample: () => [recipe("one-sample.json", { brainTable: "data/brain.csv", kind: "one-sample", regions: ["L_insula"] })],
+  oneSample: () => [
+    recipe("one-sample.json", {
+      brainTable: "data/brain.csv",
+      kind: "one-sample",
+      regions: ["L_insula"],
+    }),
+  ],
   maxTEmptyCells: () => {
     // sub-04 has no R_caudate value and sub-06 no L_insula value: the regions differ in participants.
-    file("data/empty-cells.csv", BRAIN.replace("sub-04,0.40,0.11,0.0", "sub-04,0.40,0.11,n/a").replace("sub-06,0.70,0.13,-0.1", "sub-06,n/a,n/a,-0.1"));
-    return [recipe("max-t-empty-cells.json", { brainTable: "data/empty-cells.csv", kind: "one-sample", inference: "permutation", resamples: 1000, correction: "maxt" })];
+    file(
+      "data/empty-cells.csv",
+      BRAIN.replace("sub-04,0.40,0.11,0.0", "sub-04,0.40,0.11,n/a").replace(
+        "sub-06,0.70,0.13,-0.1",
+        "sub-06,n/a,n/a,-0.1",
+      ),
+    );
+    return [
+      recipe("max-t-empty-cells.json", {
+        brainTable: "data/empty-cells.csv",
+        kind: "one-sample",
+        inference: "permutation",
+        resamples: 1000,
+        correction: "maxt",
+      }),
+    ];
   },
   association: () => [
     recipe("association.json", {
@@ -147,28 +204,49 @@ function bad(name: string): string {
 }
 
 describe("recipe command: bad input exits 2 with one line naming the fault", () => {
-  it("no recipe argument", () => expect(bad("usage")).toBe("usage: npm run --silent fit -- path/to/recipe.json"));
-  it("missing recipe file", () => expect(bad("missingRecipe")).toBe("no-such-recipe.json: recipe file not found"));
+  it("no recipe argument", () =>
+    expect(bad("usage")).toBe("usage: npm run --silent fit -- path/to/recipe.json"));
+  it("missing recipe file", () =>
+    expect(bad("missingRecipe")).toBe("no-such-recipe.json: recipe file not found"));
   it("invalid JSON", () => expect(bad("invalidJson")).toMatch(/^invalid\.json: invalid JSON \(/));
-  it("unknown option", () => expect(bad("unknownKey")).toBe('unknown-key.json: unknown key "estimatr"'));
-  it("bad option value", () => expect(bad("badOption")).toMatch(/^bad-option\.json: key "estimator": /));
+  it("unknown option", () =>
+    expect(bad("unknownKey")).toBe('unknown-key.json: unknown key "estimatr"'));
+  it("bad option value", () =>
+    expect(bad("badOption")).toMatch(/^bad-option\.json: key "estimator": /));
   it("missing file", () =>
-    expect(bad("missingFile")).toBe("data/absent.csv: brain table file not found (paths are relative to the recipe's folder)"));
+    expect(bad("missingFile")).toBe(
+      "data/absent.csv: brain table file not found (paths are relative to the recipe's folder)",
+    ));
   it("participant sheet needed", () =>
-    expect(bad("missingSheetKey")).toBe('no-sheet.json: key "participantSheet" is required for kind "association"'));
+    expect(bad("missingSheetKey")).toBe(
+      'no-sheet.json: key "participantSheet" is required for kind "association"',
+    ));
   it("unknown column", () =>
-    expect(bad("unknownColumn")).toMatch(/^data\/participants\.tsv row 1: no column named "reaction_time" \(recipe key predictor\)/));
-  it("unknown region", () => expect(bad("unknownRegion")).toMatch(/^data\/brain\.csv row 1: no column named "L_amygdala"/));
-  it("unknown id column", () => expect(bad("unknownIdColumn")).toMatch(/^data\/brain\.csv row 1: no column named "subject"/));
+    expect(bad("unknownColumn")).toMatch(
+      /^data\/participants\.tsv row 1: no column named "reaction_time" \(recipe key predictor\)/,
+    ));
+  it("unknown region", () =>
+    expect(bad("unknownRegion")).toMatch(/^data\/brain\.csv row 1: no column named "L_amygdala"/));
+  it("unknown id column", () =>
+    expect(bad("unknownIdColumn")).toMatch(/^data\/brain\.csv row 1: no column named "subject"/));
   it("non-numeric cell", () =>
-    expect(bad("nonNumeric")).toMatch(/^data\/typo\.csv row 4, column L_insula: "O\.90" is not a number/));
+    expect(bad("nonNumeric")).toMatch(
+      /^data\/typo\.csv row 4, column L_insula: "O\.90" is not a number/,
+    ));
   it("duplicate participant", () =>
-    expect(bad("duplicate")).toMatch(/^data\/dup\.csv row 9, column participant_id: participant "sub-02" appears again \(first at row 3\)/));
-  it("too few participants", () => expect(bad("tooFew")).toMatch(/^too-few\.json: .*too few participants/));
-  it("spreadsheet renamed .csv", () => expect(bad("spreadsheet")).toMatch(/^data\/book\.csv: is a zip archive/));
+    expect(bad("duplicate")).toMatch(
+      /^data\/dup\.csv row 9, column participant_id: participant "sub-02" appears again \(first at row 3\)/,
+    ));
+  it("too few participants", () =>
+    expect(bad("tooFew")).toMatch(/^too-few\.json: .*too few participants/));
+  it("spreadsheet renamed .csv", () =>
+    expect(bad("spreadsheet")).toMatch(/^data\/book\.csv: is a zip archive/));
   it("input changed since the recipe was made", () =>
     expect(bad("hashMismatch")).toMatch(/^data\/brain\.csv: content differs from the recipe/));
-  it("set-aside names an unknown participant", () => expect(bad("unknownSetAside")).toMatch(/^set-aside\.json: setAside: unknown participant 'sub-99'/));
+  it("set-aside names an unknown participant", () =>
+    expect(bad("unknownSetAside")).toMatch(
+      /^set-aside\.json: setAside: unknown participant 'sub-99'/,
+    ));
 });
 
 describe("recipe command: fits", () => {
@@ -182,7 +260,14 @@ describe("recipe command: fits", () => {
     expect(out.regions[0].n).toBe(7);
     // The estimate is the mean: (0.5+0.2+0.9+0.4+0.3+0.7+0.1)/7 = 3.1/7 (exact arithmetic).
     expect(out.regions[0].estimate).toBeCloseTo(3.1 / 7, 12);
-    expect(out.roster).toEqual({ matched: 7, onlyInBrainTable: [], onlyInParticipantSheet: [], duplicates: [], nearMisses: [], rule: null });
+    expect(out.roster).toEqual({
+      matched: 7,
+      onlyInBrainTable: [],
+      onlyInParticipantSheet: [],
+      duplicates: [],
+      nearMisses: [],
+      rule: null,
+    });
     expect(out.recipe).toMatchObject({
       brainTable: "data/brain.csv",
       idColumn: "participant_id",
@@ -209,11 +294,17 @@ describe("recipe command: fits", () => {
     ]);
     for (const region of out.regions) {
       // All 2^7 = 128 sign vectors of the 7 participants are enumerated (common practice, no source).
-      expect(region.permutation).toMatchObject({ scheme: "sign flipping", exact: true, rearrangements: 128 });
+      expect(region.permutation).toMatchObject({
+        scheme: "sign flipping",
+        exact: true,
+        rearrangements: 128,
+      });
       expect(Number.isInteger(region.p * 128)).toBe(true);
       expect(region.pAdjusted).toBeGreaterThanOrEqual(region.p);
     }
-    expect(out.notes.some((n: string) => n.startsWith("Regions differ in participants"))).toBe(true);
+    expect(out.notes.some((n: string) => n.startsWith("Regions differ in participants"))).toBe(
+      true,
+    );
   });
 
   it("association with a sheet: roster report, mapping applied, defaults filled in", () => {
@@ -227,7 +318,10 @@ describe("recipe command: fits", () => {
     expect(out.roster.onlyInParticipantSheet).toEqual(["sub-09"]);
     expect(out.roster.rule).toMatch(/1 confirmed mapping was applied\.$/);
     expect(out.participants.some((p: { participant: string }) => p.participant === "7")).toBe(true);
-    expect(out.recipe.inputs.participantSheet).toEqual({ file: "data/participants.tsv", sha256: sha256(SHEET) });
+    expect(out.recipe.inputs.participantSheet).toEqual({
+      file: "data/participants.tsv",
+      sha256: sha256(SHEET),
+    });
     expect(out.recipe.regions).toEqual(["L_insula", "R_caudate"]);
     expect(out.recipe.covariates).toEqual(["age"]);
   });

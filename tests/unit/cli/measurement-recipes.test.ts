@@ -55,7 +55,9 @@ const BCG_SHEET = `participant_id\tlatitude\n${trialIds.map((id, i) => `${id}\t$
 const SF_LONG = `participant_id,session,region,value\n${SHROUT_FLEISS.flatMap((row, i) => row.map((v, s) => `p${i + 1},ses-${s + 1},rating,${v}`)).join("\n")}\n`;
 /** Wide with a session column: one row per participant and session, sessions interleaved out of order on purpose. */
 const SF_WIDE = `participant_id,session,rating,rating_copy\n${[3, 1, 0, 2]
-  .flatMap((s) => SHROUT_FLEISS.map((row, i) => `p${i + 1},ses-${s + 1},${row[s]},${row[s] * 2 + 1}`))
+  .flatMap((s) =>
+    SHROUT_FLEISS.map((row, i) => `p${i + 1},ses-${s + 1},${row[s]},${row[s] * 2 + 1}`),
+  )
   .join("\n")}\n`;
 
 /** Intercept-only weighted mean and Q with weights 1/(v + τ²), written out independently of the engine. */
@@ -69,13 +71,43 @@ function pooled(tau2: number) {
 
 const spawned = new Map<string, CommandRun>();
 const spawnCases: Record<string, { args: () => string[]; viaNpm?: boolean }> = {
-  dl: { args: () => [recipe("bcg-dl.json", { brainTable: "bcg.csv", kind: "one-sample", weights: "first-level-se", tau2Method: "dl" })], viaNpm: true },
-  reml: { args: () => [recipe("bcg-reml.json", { brainTable: "bcg.csv", kind: "one-sample", weights: "first-level-se", tau2Method: "reml" })] },
-  reliability: { args: () => [recipe("sf-long.json", { brainTable: "shrout-fleiss-long.csv", kind: "reliability" })], viaNpm: true },
+  dl: {
+    args: () => [
+      recipe("bcg-dl.json", {
+        brainTable: "bcg.csv",
+        kind: "one-sample",
+        weights: "first-level-se",
+        tau2Method: "dl",
+      }),
+    ],
+    viaNpm: true,
+  },
+  reml: {
+    args: () => [
+      recipe("bcg-reml.json", {
+        brainTable: "bcg.csv",
+        kind: "one-sample",
+        weights: "first-level-se",
+        tau2Method: "reml",
+      }),
+    ],
+  },
+  reliability: {
+    args: () => [
+      recipe("sf-long.json", { brainTable: "shrout-fleiss-long.csv", kind: "reliability" }),
+    ],
+    viaNpm: true,
+  },
   missingSe: {
     args: () => {
       file("bcg-missing-se.csv", BCG_WIDE.replace(/^(trial-04,[^,]+),[^\n]+$/m, "$1,n/a"));
-      return [recipe("bcg-missing-se.json", { brainTable: "bcg-missing-se.csv", kind: "one-sample", weights: "first-level-se" })];
+      return [
+        recipe("bcg-missing-se.json", {
+          brainTable: "bcg-missing-se.csv",
+          kind: "one-sample",
+          weights: "first-level-se",
+        }),
+      ];
     },
   },
 };
@@ -151,10 +183,18 @@ describe("recipe command: BCG trials as a brain table, weighted by first-level s
     expect(r.trueShare).toBeCloseTo(tau2 / (meanV + tau2), 10);
     expect(typeof r.tau2Se).toBe("number");
     expect(r.method).toMatch(/DerSimonian–Laird/);
-    expect(out.notes.some((n: string) => n.startsWith("Weights: each participant counts with 1/(se² + τ²)"))).toBe(true);
+    expect(
+      out.notes.some((n: string) =>
+        n.startsWith("Weights: each participant counts with 1/(se² + τ²)"),
+      ),
+    ).toBe(true);
     // A leave-one-out range of the unweighted mean would not describe the weighted estimate.
     expect(r.leaveOneOut).toBeUndefined();
-    expect(out.recipe).toMatchObject({ weights: "first-level-se", tau2Method: "dl", smallSample: "none" });
+    expect(out.recipe).toMatchObject({
+      weights: "first-level-se",
+      tau2Method: "dl",
+      smallSample: "none",
+    });
   });
 
   it("REML", () => {
@@ -176,7 +216,12 @@ describe("recipe command: BCG trials as a brain table, weighted by first-level s
 
   it("REML with the Knapp–Hartung adjustment, from a long brain table", async () => {
     const out = await runRecipe(
-      recipe("bcg-kh.json", { brainTable: "bcg-long.csv", kind: "one-sample", weights: "first-level-se", smallSample: "knapp-hartung" }),
+      recipe("bcg-kh.json", {
+        brainTable: "bcg-long.csv",
+        kind: "one-sample",
+        weights: "first-level-se",
+        smallSample: "knapp-hartung",
+      }),
     );
     const r = out.regions[0];
     expect(r.tau2).toBeCloseTo(0.3132, 4); // (Viechtbauer 2010, REML fit; the default τ² method is REML)
@@ -191,9 +236,29 @@ describe("recipe command: BCG trials as a brain table, weighted by first-level s
   });
 
   it("wide and long layouts give the same numbers", async () => {
-    const wide = await runRecipe(recipe("bcg-wide-reml.json", { brainTable: "bcg.csv", kind: "one-sample", weights: "first-level-se" }));
-    const long = await runRecipe(recipe("bcg-long-reml.json", { brainTable: "bcg-long.csv", kind: "one-sample", weights: "first-level-se" }));
-    const pick = (r: Record<string, unknown>) => [r.estimate, r.se, r.tau2, r.tau2Se, r.i2, r.noiseShare, r.p];
+    const wide = await runRecipe(
+      recipe("bcg-wide-reml.json", {
+        brainTable: "bcg.csv",
+        kind: "one-sample",
+        weights: "first-level-se",
+      }),
+    );
+    const long = await runRecipe(
+      recipe("bcg-long-reml.json", {
+        brainTable: "bcg-long.csv",
+        kind: "one-sample",
+        weights: "first-level-se",
+      }),
+    );
+    const pick = (r: Record<string, unknown>) => [
+      r.estimate,
+      r.se,
+      r.tau2,
+      r.tau2Se,
+      r.i2,
+      r.noiseShare,
+      r.p,
+    ];
     expect(pick(long.regions[0])).toEqual(pick(wide.regions[0]));
     // (the spawned command and the in-process run read the same file)
     expect(wide.regions[0].estimate).toBe(output("reml").regions[0].estimate);
@@ -230,21 +295,40 @@ describe("recipe command: participants without a usable standard error are refus
   });
 
   it("in a long table the row of that region is named, with the session", async () => {
-    const text = "participant_id,session,region,value,se\nA,1,r1,1,0.1\nA,2,r1,1.2,0.1\nB,1,r1,2,0.2\nB,1,r2,2,\nB,2,r1,2.1,0.2\nC,1,r1,0.5,0.1\n";
+    const text =
+      "participant_id,session,region,value,se\nA,1,r1,1,0.1\nA,2,r1,1.2,0.1\nB,1,r1,2,0.2\nB,1,r2,2,\nB,2,r1,2.1,0.2\nC,1,r1,0.5,0.1\n";
     file("long-missing.csv", text);
-    const message = await refusal("long-missing.json", { brainTable: "long-missing.csv", kind: "one-sample", weights: "first-level-se" });
+    const message = await refusal("long-missing.json", {
+      brainTable: "long-missing.csv",
+      kind: "one-sample",
+      weights: "first-level-se",
+    });
     expect(message).toBe(
       'long-missing.csv row 5, column se: participant "B" in session "1" has a value in region "r2" but no standard error; weights "first-level-se" need one for every participant with a value (fill it in, or set the participant aside)',
     );
     // Session 2 has every standard error it needs (C has no session-2 row, so no value there).
-    const ok = await runRecipe(recipe("long-ses2.json", { brainTable: "long-missing.csv", kind: "one-sample", weights: "first-level-se", session: "2", regions: ["r1"] }));
+    const ok = await runRecipe(
+      recipe("long-ses2.json", {
+        brainTable: "long-missing.csv",
+        kind: "one-sample",
+        weights: "first-level-se",
+        session: "2",
+        regions: ["r1"],
+      }),
+    );
     expect(ok.regions[0].n).toBe(2);
   });
 
   it("every such participant is listed, not only the first", async () => {
     file("bcg-two-missing.csv", BCG_WIDE.replace(/^(trial-0[27],[^,]+),[^\n]+$/gm, "$1,"));
-    const message = await refusal("bcg-two-missing.json", { brainTable: "bcg-two-missing.csv", kind: "one-sample", weights: "first-level-se" });
-    expect(message).toMatch(/^bcg-two-missing\.csv row 3, column log_rr_se: participant "trial-02" .* \(and 1 more problem\)$/);
+    const message = await refusal("bcg-two-missing.json", {
+      brainTable: "bcg-two-missing.csv",
+      kind: "one-sample",
+      weights: "first-level-se",
+    });
+    expect(message).toMatch(
+      /^bcg-two-missing\.csv row 3, column log_rr_se: participant "trial-02" .* \(and 1 more problem\)$/,
+    );
   });
 
   it("a participant set aside needs no standard error", async () => {
@@ -254,7 +338,9 @@ describe("recipe command: participants without a usable standard error are refus
         brainTable: "bcg-aside.csv",
         kind: "one-sample",
         weights: "first-level-se",
-        setAside: [{ participant: "trial-04", reason: "standard error not reported by the first-level run" }],
+        setAside: [
+          { participant: "trial-04", reason: "standard error not reported by the first-level run" },
+        ],
       }),
     );
     expect(out.regions[0].n).toBe(12);
@@ -262,17 +348,35 @@ describe("recipe command: participants without a usable standard error are refus
 
   it("a zero or negative standard error is refused when the table is read, naming row and column", async () => {
     file("bcg-zero.csv", BCG_WIDE.replace(/^(trial-09,[^,]+),[^\n]+$/m, "$1,0"));
-    expect(await refusal("bcg-zero.json", { brainTable: "bcg-zero.csv", kind: "one-sample", weights: "first-level-se" })).toBe(
+    expect(
+      await refusal("bcg-zero.json", {
+        brainTable: "bcg-zero.csv",
+        kind: "one-sample",
+        weights: "first-level-se",
+      }),
+    ).toBe(
       'bcg-zero.csv row 10, column log_rr_se: "0" is not a valid standard error; expected a number greater than 0',
     );
     file("bcg-negative.csv", BCG_LONG.replace(/^(trial-11,log_rr,[^,]+),[^\n]+$/m, "$1,-0.2"));
-    expect(await refusal("bcg-negative.json", { brainTable: "bcg-negative.csv", kind: "one-sample", weights: "first-level-se" })).toBe(
+    expect(
+      await refusal("bcg-negative.json", {
+        brainTable: "bcg-negative.csv",
+        kind: "one-sample",
+        weights: "first-level-se",
+      }),
+    ).toBe(
       'bcg-negative.csv row 12, column se: "-0.2" is not a valid standard error; expected a number greater than 0',
     );
   });
 
   it("a region without a standard-error column is refused, naming the column expected", async () => {
-    expect(await refusal("no-se.json", { brainTable: "shrout-fleiss-long.csv", kind: "one-sample", weights: "first-level-se" })).toBe(
+    expect(
+      await refusal("no-se.json", {
+        brainTable: "shrout-fleiss-long.csv",
+        kind: "one-sample",
+        weights: "first-level-se",
+      }),
+    ).toBe(
       'shrout-fleiss-long.csv row 1: no standard-error column for region "rating"; weights "first-level-se" need one (expected a column named "se")',
     );
   });
@@ -313,7 +417,11 @@ describe("recipe command: reliability of the Shrout & Fleiss table as four sessi
     const colMeans = [0, 1, 2, 3].map((j) => SHROUT_FLEISS.reduce((s, row) => s + row[j], 0) / n);
     const bms = (sessions * rowMeans.reduce((s, m) => s + (m - grand) ** 2, 0)) / (n - 1);
     const ems =
-      SHROUT_FLEISS.reduce((s, row, i) => s + row.reduce((t, x, j) => t + (x - rowMeans[i] - colMeans[j] + grand) ** 2, 0), 0) /
+      SHROUT_FLEISS.reduce(
+        (s, row, i) =>
+          s + row.reduce((t, x, j) => t + (x - rowMeans[i] - colMeans[j] + grand) ** 2, 0),
+        0,
+      ) /
       ((n - 1) * (sessions - 1));
     expect(bms).toBeCloseTo(11.24, 2); // (Shrout & Fleiss 1979, Table 3: BMS = 11.24)
     expect(ems).toBeCloseTo(1.02, 2); // (Shrout & Fleiss 1979, Table 3: EMS = 1.02)
@@ -325,24 +433,33 @@ describe("recipe command: reliability of the Shrout & Fleiss table as four sessi
   });
 
   it("a wide table with a session column gives the same numbers, and a second region scaled by 2 the same ICCs", async () => {
-    const out = await runRecipe(recipe("sf-wide.json", { brainTable: "shrout-fleiss-wide.csv", kind: "reliability" }));
+    const out = await runRecipe(
+      recipe("sf-wide.json", { brainTable: "shrout-fleiss-wide.csv", kind: "reliability" }),
+    );
     const long = output("reliability").regions[0];
     const [rating, copy] = out.regions;
     expect(rating.sessions).toBe(4);
     for (const key of Object.keys(table4)) {
       expect(rating[key], key).toEqual(long[key]);
       // (exact algebra: intraclass correlations are unchanged by a linear rescaling a + b·x, b > 0)
-      expect((copy[key] as { value: number }).value, key).toBeCloseTo((long[key] as { value: number }).value, 12);
+      expect((copy[key] as { value: number }).value, key).toBeCloseTo(
+        (long[key] as { value: number }).value,
+        12,
+      );
     }
     expect(out.recipe.kind).toBe("reliability");
   });
 
   it("a table without sessions, or with one session, is refused", async () => {
-    expect(await refusal("rel-no-session.json", { brainTable: "bcg.csv", kind: "reliability" })).toBe(
+    expect(
+      await refusal("rel-no-session.json", { brainTable: "bcg.csv", kind: "reliability" }),
+    ).toBe(
       "kind: reliability needs a brain table with at least two sessions; the brain table has no session column",
     );
     file("one-session.csv", "participant_id,session,rating\np1,a,1\np2,a,2\np3,a,4\n");
-    expect(await refusal("rel-one-session.json", { brainTable: "one-session.csv", kind: "reliability" })).toBe(
+    expect(
+      await refusal("rel-one-session.json", { brainTable: "one-session.csv", kind: "reliability" }),
+    ).toBe(
       "kind: reliability needs a brain table with at least two sessions; the brain table has one session",
     );
   });

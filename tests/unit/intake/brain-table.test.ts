@@ -42,7 +42,10 @@ describe("wide brain tables", () => {
       ["sub-02", 3],
       ["sub-03", 4],
     ]);
-    expect(t.columns.find((c) => c.name === "L_insula_se")).toMatchObject({ role: "se", region: "L_insula" });
+    expect(t.columns.find((c) => c.name === "L_insula_se")).toMatchObject({
+      role: "se",
+      region: "L_insula",
+    });
   });
 
   it("uses the suffix chosen at upload", () => {
@@ -63,8 +66,15 @@ describe("wide brain tables", () => {
     const e = refusal(`participant_id,L_insula\n${rows.join("\n")}\n`);
     expect(e.status).toBe(422);
     // Row 17: header is row 1, the 16th data row is row 17 (counted by hand).
-    expect(e.problems[0]).toMatchObject({ file: "brain.csv", row: 17, column: "L_insula", code: "not_a_number" });
-    expect(e.message.startsWith('brain.csv row 17, column L_insula: "O.42" is not a number')).toBe(true);
+    expect(e.problems[0]).toMatchObject({
+      file: "brain.csv",
+      row: 17,
+      column: "L_insula",
+      code: "not_a_number",
+    });
+    expect(e.message.startsWith('brain.csv row 17, column L_insula: "O.42" is not a number')).toBe(
+      true,
+    );
   });
 
   it("hints at the decimal mark for decimal commas", () => {
@@ -84,7 +94,11 @@ describe("wide brain tables", () => {
   it("refuses a duplicate participant", () => {
     const e = refusal("participant_id,a\ns1,1\ns2,2\ns1,3\n");
     expect(e.status).toBe(422);
-    expect(e.problems[0]).toMatchObject({ code: "duplicate_participant", row: 4, column: "participant_id" });
+    expect(e.problems[0]).toMatchObject({
+      code: "duplicate_participant",
+      row: 4,
+      column: "participant_id",
+    });
     expect(e.message).toContain('participant "s1" appears again (first at row 2)');
   });
 
@@ -98,7 +112,10 @@ describe("wide brain tables", () => {
   });
 
   it("refuses a missing id and a missing session label", () => {
-    expect(refusal("participant_id,a\n,1\ns2,2\n").problems[0]).toMatchObject({ code: "missing_id", row: 2 });
+    expect(refusal("participant_id,a\n,1\ns2,2\n").problems[0]).toMatchObject({
+      code: "missing_id",
+      row: 2,
+    });
     expect(refusal("participant_id,session,a\ns1,n/a,1\n").problems[0]).toMatchObject({
       code: "missing_session",
       column: "session",
@@ -132,8 +149,13 @@ describe("wide brain tables", () => {
     ]);
     const t = brain(text, { types: { scanner: "category" } });
     expect(t.regions).toEqual(["a"]);
-    expect(t.columns.find((c) => c.name === "scanner")).toMatchObject({ role: "ignored", reason: "typed as a category at upload, so not a region" });
-    expect(brain(text, { dropColumns: ["scanner"] }).columns.find((c) => c.name === "scanner")?.role).toBe("dropped");
+    expect(t.columns.find((c) => c.name === "scanner")).toMatchObject({
+      role: "ignored",
+      reason: "typed as a category at upload, so not a region",
+    });
+    expect(
+      brain(text, { dropColumns: ["scanner"] }).columns.find((c) => c.name === "scanner")?.role,
+    ).toBe("dropped");
     // Naming the regions leaves every other column out by that choice.
     expect(brain(text, { regions: ["a"] }).regions).toEqual(["a"]);
   });
@@ -158,7 +180,10 @@ describe("wide brain tables", () => {
   });
 
   it("drops columns and lets a type change make a column a region or not", () => {
-    const t = brain("participant_id,a,b,junk\ns1,1,2,x\n", { dropColumns: ["junk"], types: { b: "category" } });
+    const t = brain("participant_id,a,b,junk\ns1,1,2,x\n", {
+      dropColumns: ["junk"],
+      types: { b: "category" },
+    });
     expect(t.regions).toEqual(["a"]);
     expect(t.columns.find((c) => c.name === "junk")?.role).toBe("dropped");
   });
@@ -168,7 +193,9 @@ describe("wide brain tables", () => {
   });
 
   it("analyse returns the problems without throwing, for previews", () => {
-    const a = analyseBrainTable(readTable("participant_id,a\ns1,1\ns2,O.4\ns3,2\ns4,3\ns5,4\n", "brain.csv"));
+    const a = analyseBrainTable(
+      readTable("participant_id,a\ns1,1\ns2,O.4\ns3,2\ns4,3\ns5,4\n", "brain.csv"),
+    );
     expect(a.table).toBeNull();
     expect(a.plan.regions).toEqual(["a"]);
     expect(a.problems[0].message).toContain('brain.csv row 3, column a: "O.4" is not a number');
@@ -220,20 +247,30 @@ describe("long brain tables", () => {
 
 describe("ids the matching rule treats as one participant", () => {
   it("are refused in a wide table, per session, naming both rows", () => {
-    const e = refusal("participant_id,session,a\nsub-04,1,0.1\nsub-04,2,0.2\nSub-04,1,0.3\n04,3,0.4\n");
-    expect(e.problems.map((p) => [p.code, p.row, p.column])).toEqual([["duplicate_participant", 4, "participant_id"]]);
+    const e = refusal(
+      "participant_id,session,a\nsub-04,1,0.1\nsub-04,2,0.2\nSub-04,1,0.3\n04,3,0.4\n",
+    );
+    expect(e.problems.map((p) => [p.code, p.row, p.column])).toEqual([
+      ["duplicate_participant", 4, "participant_id"],
+    ]);
     expect(e.message).toBe(
       'brain.csv row 4, column participant_id: participant "Sub-04" in session "1" is the same participant as "sub-04" at row 2: ids are matched ignoring spaces around them, upper and lower case, and a leading "sub-"; each participant and session must appear once',
     );
   });
 
   it("are refused in a long table within the same session and region, naming both rows", () => {
-    const e = refusal("participant_id,session,region,value\nsub-04,1,a,0.1\nsub-04,1,b,0.2\nSUB-04,1,a,0.3\nsub-04,2,a,0.4\n");
-    expect(e.problems.map((p) => [p.code, p.row, p.column])).toEqual([["duplicate_participant", 4, "participant_id"]]);
+    const e = refusal(
+      "participant_id,session,region,value\nsub-04,1,a,0.1\nsub-04,1,b,0.2\nSUB-04,1,a,0.3\nsub-04,2,a,0.4\n",
+    );
+    expect(e.problems.map((p) => [p.code, p.row, p.column])).toEqual([
+      ["duplicate_participant", 4, "participant_id"],
+    ]);
     expect(e.message).toContain(
       'brain.csv row 4, column participant_id: participant "SUB-04" in session "1" is the same participant as "sub-04" at row 2 (both have region "a"): ids are matched',
     );
     const exact = refusal("participant_id,region,value\ns1,a,1\ns2,a,2\ns1,a,3\n");
-    expect(exact.message).toContain('brain.csv row 4, column participant_id: participant "s1" has region "a" again (first at row 2)');
+    expect(exact.message).toContain(
+      'brain.csv row 4, column participant_id: participant "s1" has region "a" again (first at row 2)',
+    );
   });
 });

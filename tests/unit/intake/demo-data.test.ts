@@ -2,8 +2,19 @@ import { readFileSync } from "node:fs";
 import { dirname, join } from "node:path";
 import { fileURLToPath } from "node:url";
 import { describe, expect, it } from "vitest";
-import { DEMO_SEED, demoRegions, demoScenario, generateDemoFiles } from "../../../db/seed/demo-data";
-import { buildBrainTable, buildFitData, buildParticipantSheet, previewTable, readTable } from "../../../server/intake";
+import {
+  DEMO_SEED,
+  demoRegions,
+  demoScenario,
+  generateDemoFiles,
+} from "../../../db/seed/demo-data";
+import {
+  buildBrainTable,
+  buildFitData,
+  buildParticipantSheet,
+  previewTable,
+  readTable,
+} from "../../../server/intake";
 
 const assets = join(dirname(fileURLToPath(import.meta.url)), "..", "..", "..", "assets", "demo");
 const files = generateDemoFiles();
@@ -37,7 +48,10 @@ describe("demo data", () => {
       ["symptom_score", "number"],
       ["mean_fd", "number"],
     ]);
-    expect(previewTable(readTable(files.participantsTsv, files.sheetFileName), "participants").identifierColumns).toEqual([]);
+    expect(
+      previewTable(readTable(files.participantsTsv, files.sheetFileName), "participants")
+        .identifierColumns,
+    ).toEqual([]);
   });
 
   it("has the planted id mismatches: a 7 / sub-07 near miss, one only in each file, none merged silently", () => {
@@ -45,9 +59,17 @@ describe("demo data", () => {
     expect(roster?.onlyInBrainTable).toEqual(["7", "sub-71"]);
     expect(roster?.onlyInParticipantSheet).toEqual(["sub-07", "sub-72"]);
     expect(roster?.nearMisses).toEqual([
-      { brainId: "7", sheetId: "sub-07", reason: "same number written with different leading zeros" },
+      {
+        brainId: "7",
+        sheetId: "sub-07",
+        reason: "same number written with different leading zeros",
+      },
     ]);
-    expect(roster?.matched.find((m) => m.brainId === "SUB-15")).toEqual({ brainId: "SUB-15", sheetId: "sub-15", via: "rule" });
+    expect(roster?.matched.find((m) => m.brainId === "SUB-15")).toEqual({
+      brainId: "SUB-15",
+      sheetId: "sub-15",
+      via: "rule",
+    });
   });
 
   it("has two groups, one clear outlier and one high-leverage participant", () => {

@@ -20,7 +20,13 @@ describe("CSV export", () => {
   });
 
   it("writes missing values as n/a and quotes fields that need it", () => {
-    const csv = toCsv(["id", "note", "v"], [["s1", 'say "hi", ok', null], ["s2", "two\nlines", Number.NaN]]);
+    const csv = toCsv(
+      ["id", "note", "v"],
+      [
+        ["s1", 'say "hi", ok', null],
+        ["s2", "two\nlines", Number.NaN],
+      ],
+    );
     expect(csv).toBe('id,note,v\r\ns1,"say ""hi"", ok",n/a\r\ns2,"two\nlines",n/a\r\n');
   });
 
@@ -47,7 +53,9 @@ describe("CSV export", () => {
 describe("sha256Hex", () => {
   it("matches the FIPS 180-2 examples", () => {
     // (FIPS 180-2, Appendix B.1: one-block message "abc")
-    expect(sha256Hex("abc")).toBe("ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad");
+    expect(sha256Hex("abc")).toBe(
+      "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad",
+    );
     // (FIPS 180-2, Appendix B.2: two-block message)
     expect(sha256Hex("abcdbcdecdefdefgefghfghighijhijkijkljklmklmnlmnomnopnopq")).toBe(
       "248d6a61d20638b8e5c026930c3e6039a33ce45964ff2167f6ecedd419db06c1",

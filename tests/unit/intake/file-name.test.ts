@@ -19,7 +19,18 @@ describe("uploaded file names", () => {
   });
 
   it("an empty name, . or .. is no name", () => {
-    for (const name of ["", "   ", ".", "..", "dir/..", "dir/", "\u202E", "\u2066..\u2069", "\u0000"]) expect(cleanFileName(name)).toBeNull();
+    for (const name of [
+      "",
+      "   ",
+      ".",
+      "..",
+      "dir/..",
+      "dir/",
+      "\u202E",
+      "\u2066..\u2069",
+      "\u0000",
+    ])
+      expect(cleanFileName(name)).toBeNull();
     expect(cleanFileName("...")).toBe("...");
   });
 });

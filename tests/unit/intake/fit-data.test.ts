@@ -1,13 +1,23 @@
 import { describe, expect, it } from "vitest";
-import { IntakeError, buildBrainTable, buildFitData, buildParticipantSheet, readTable } from "../../../server/intake";
+import {
+  IntakeError,
+  buildBrainTable,
+  buildFitData,
+  buildParticipantSheet,
+  readTable,
+} from "../../../server/intake";
 
 const brain = (t: string) => buildBrainTable(readTable(t, "brain.csv"));
 const sheet = (t: string) => buildParticipantSheet(readTable(t, "participants.tsv"));
 
 describe("buildFitData", () => {
   it("aligns matched participants in brain-table order with their sheet rows", () => {
-    const b = brain("participant_id,a,a_se,b\nsub-03,3,0.3,30\nsub-01,1,0.1,10\nsub-02,2,0.2,20\nsub-09,9,0.9,90\n");
-    const s = sheet("participant_id\tage\tgroup\nsub-01\t21\tcontrol\n02\t22\tpatient\nsub-03\tn/a\tcontrol\nsub-04\t24\tpatient\n");
+    const b = brain(
+      "participant_id,a,a_se,b\nsub-03,3,0.3,30\nsub-01,1,0.1,10\nsub-02,2,0.2,20\nsub-09,9,0.9,90\n",
+    );
+    const s = sheet(
+      "participant_id\tage\tgroup\nsub-01\t21\tcontrol\n02\t22\tpatient\nsub-03\tn/a\tcontrol\nsub-04\t24\tpatient\n",
+    );
     const { data, roster, session, sheetIds } = buildFitData(b, s);
     expect(data.participants).toEqual(["sub-03", "sub-01", "sub-02"]);
     expect(sheetIds).toEqual(["sub-03", "sub-01", "02"]);
@@ -43,7 +53,11 @@ describe("buildFitData", () => {
       [1.2, 2.2, Number.NaN],
       [1.1, Number.NaN, 3.1],
     ]);
-    expect(Array.from(buildFitData(b, null, { session: "10" }).data.values[0])).toEqual([1.1, Number.NaN, 3.1]);
+    expect(Array.from(buildFitData(b, null, { session: "10" }).data.values[0])).toEqual([
+      1.1,
+      Number.NaN,
+      3.1,
+    ]);
     expect(() => buildFitData(b, null, { session: "3" })).toThrow(IntakeError);
   });
 

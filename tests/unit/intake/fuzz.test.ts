@@ -13,23 +13,60 @@ import {
 
 // Bytes that make CSV-like files: delimiters, quotes, line ends, digits, letters,
 // missing markers' letters, a few high and control bytes (invalid UTF-8, NUL).
-const ALPHABET = [..."\t,;\"\r\n .-+eE0123456789abcNA/_sub", 0x00, 0xc3, 0xa9, 0xff, 0xef, 0xbb, 0xbf].map((c) =>
-  typeof c === "number" ? c : c.charCodeAt(0),
-);
+const ALPHABET = [
+  ...'\t,;"\r\n .-+eE0123456789abcNA/_sub',
+  0x00,
+  0xc3,
+  0xa9,
+  0xff,
+  0xef,
+  0xbb,
+  0xbf,
+].map((c) => (typeof c === "number" ? c : c.charCodeAt(0)));
 const csvLikeBytes = fc
   .array(fc.constantFrom(...ALPHABET), { maxLength: 300 })
   .map((a) => new Uint8Array(a));
 
 // Files shaped like tables: lines of a few cells, one delimiter, then a few random bytes changed.
-const CELLS = ["sub-01", "sub-1", "01", "7", "07", "0.42", "-1e-3", "n/a", "NA", "", "O.42", '"a,b"', "1", "2", "2.5"];
-const NAMES = ["participant_id", "session", "L_insula", "L_insula_se", "age", "group", "region", "value", "se", "x_se"];
+const CELLS = [
+  "sub-01",
+  "sub-1",
+  "01",
+  "7",
+  "07",
+  "0.42",
+  "-1e-3",
+  "n/a",
+  "NA",
+  "",
+  "O.42",
+  '"a,b"',
+  "1",
+  "2",
+  "2.5",
+];
+const NAMES = [
+  "participant_id",
+  "session",
+  "L_insula",
+  "L_insula_se",
+  "age",
+  "group",
+  "region",
+  "value",
+  "se",
+  "x_se",
+];
 const lineShapedBytes = fc
   .integer({ min: 2, max: 4 })
   .chain((cols) =>
     fc.record({
       delimiter: fc.constantFrom(",", "\t", ";"),
       header: fc.uniqueArray(fc.constantFrom(...NAMES), { minLength: cols, maxLength: cols }),
-      lines: fc.array(fc.array(fc.constantFrom(...CELLS), { minLength: cols, maxLength: cols }), { minLength: 1, maxLength: 8 }),
+      lines: fc.array(fc.array(fc.constantFrom(...CELLS), { minLength: cols, maxLength: cols }), {
+        minLength: 1,
+        maxLength: 8,
+      }),
       edits: fc.array(fc.tuple(fc.nat(), fc.constantFrom(...ALPHABET)), { maxLength: 2 }),
     }),
   )
@@ -81,10 +118,12 @@ describe("intake never fails with anything but IntakeError", () => {
       fc.string({ maxLength: 6 }),
     );
     const table = fc.integer({ min: 2, max: 5 }).chain((cols) =>
-      fc.array(fc.array(cell, { minLength: cols, maxLength: cols }), { minLength: 1, maxLength: 8 }).map((rows) => ({
-        header: Array.from({ length: cols }, (_, j) => (j === 0 ? "participant_id" : `c${j}`)),
-        rows,
-      })),
+      fc
+        .array(fc.array(cell, { minLength: cols, maxLength: cols }), { minLength: 1, maxLength: 8 })
+        .map((rows) => ({
+          header: Array.from({ length: cols }, (_, j) => (j === 0 ? "participant_id" : `c${j}`)),
+          rows,
+        })),
     );
     fc.assert(
       fc.property(table, ({ header, rows }) => {

@@ -37,15 +37,25 @@ describe("direct-identifier guard", () => {
     expect(identifierKindFromHeader(header)).toBe(kind);
   });
 
-  it.each(["participant_id", "age", "sex", "group", "site_name", "birth_weight", "accuracy", "mean_fd", "handedness", "rt_ms"])(
-    "header %s is not flagged",
-    (header) => {
-      expect(identifierKindFromHeader(header)).toBeNull();
-    },
-  );
+  it.each([
+    "participant_id",
+    "age",
+    "sex",
+    "group",
+    "site_name",
+    "birth_weight",
+    "accuracy",
+    "mean_fd",
+    "handedness",
+    "rt_ms",
+  ])("header %s is not flagged", (header) => {
+    expect(identifierKindFromHeader(header)).toBeNull();
+  });
 
   it("recognises identifiers by content", () => {
-    expect(identifierKindFromCells(["ann@example.org", "bo@lab.example", "n/a"])?.kind).toBe("email");
+    expect(identifierKindFromCells(["ann@example.org", "bo@lab.example", "n/a"])?.kind).toBe(
+      "email",
+    );
     expect(identifierKindFromCells(["1987-03-14", "1990-11-02"])?.kind).toBe("birth-date");
     expect(identifierKindFromCells(["14/03/1987", "2.11.1990"])?.kind).toBe("birth-date");
     expect(identifierKindFromCells(["+44 20 7946 0958", "(555) 010-0199"])?.kind).toBe("phone");
@@ -55,7 +65,9 @@ describe("direct-identifier guard", () => {
 
   it("does not flag numbers, decimals, repeated categories or ordinary ids by content", () => {
     expect(identifierKindFromCells(["0.4213567", "-12345678", "3e-4"])).toBeNull();
-    expect(identifierKindFromCells(["Left Handed", "Left Handed", "Right Handed", "Left Handed"])).toBeNull();
+    expect(
+      identifierKindFromCells(["Left Handed", "Left Handed", "Right Handed", "Left Handed"]),
+    ).toBeNull();
     expect(identifierKindFromCells(["sub-001", "sub-002", "sub-003"])).toBeNull();
     expect(identifierKindFromCells(["patient", "control"])).toBeNull();
     expect(identifierKindFromCells([])).toBeNull();

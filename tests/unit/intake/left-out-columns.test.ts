@@ -31,7 +31,8 @@ function refusal(run: () => unknown): IntakeError {
   throw new Error("expected an IntakeError");
 }
 
-const brain = (text: string, options: BrainTableOptions = {}) => buildBrainTable(readTable(text, "brain.csv"), options);
+const brain = (text: string, options: BrainTableOptions = {}) =>
+  buildBrainTable(readTable(text, "brain.csv"), options);
 
 describe("mostly numeric columns", () => {
   it("is more than half of the non-missing cells being numbers", () => {
@@ -50,15 +51,20 @@ describe("mostly numeric columns", () => {
         row: 3,
         column: "ins_l",
         code: "not_a_number",
-        message: 'brain.csv row 3, column ins_l: "O.42" is not a number; expected a number or a missing marker (empty, "n/a", "N/A" or "NA")',
+        message:
+          'brain.csv row 3, column ins_l: "O.42" is not a number; expected a number or a missing marker (empty, "n/a", "N/A" or "NA")',
       },
     ]);
     // The upload is refused with it (nothing to decide: the file needs fixing).
-    expect(() => previewUpload(text, "brain.csv", "brain")).toThrow(/row 3, column ins_l: "O.42" is not a number/);
+    expect(() => previewUpload(text, "brain.csv", "brain")).toThrow(
+      /row 3, column ins_l: "O.42" is not a number/,
+    );
   });
 
   it("types a participant-sheet column with a stray text cell as a number and names the cell", () => {
-    const a = analyseParticipantSheet(readTable("participant_id,age\ns1,23\ns2,31\ns3,4O\ns4,28\n", "sheet.csv"));
+    const a = analyseParticipantSheet(
+      readTable("participant_id,age\ns1,23\ns2,31\ns3,4O\ns4,28\n", "sheet.csv"),
+    );
     expect(a.columns[1]).toMatchObject({ name: "age", type: "number" });
     expect(a.problems.map((p) => [p.row, p.column, p.code])).toEqual([[4, "age", "not_a_number"]]);
   });
@@ -86,29 +92,50 @@ describe("brain-table columns left out", () => {
     const notUsed = confirmTable(raw, "brain", { types: { ins_l: "category" } });
     expect(notUsed.kind === "brain" && notUsed.brain.regions).toEqual(["ins_r"]);
     // Or made a region, and then its text cell is named.
-    expect(() => confirmTable(raw, "brain", { types: { ins_l: "number" } })).toThrow(/brain.csv row 3, column ins_l: "O.42" is not a number/);
+    expect(() => confirmTable(raw, "brain", { types: { ins_l: "number" } })).toThrow(
+      /brain.csv row 3, column ins_l: "O.42" is not a number/,
+    );
   });
 
   it("an empty column, the standard errors of a left-out column, and a long table's extra column are problems too", () => {
-    const wide = refusal(() => brain("participant_id,a,notes,site,site_se\ns1,1,,x,0.1\ns2,2,n/a,y,0.2\n"));
+    const wide = refusal(() =>
+      brain("participant_id,a,notes,site,site_se\ns1,1,,x,0.1\ns2,2,n/a,y,0.2\n"),
+    );
     expect(wide.problems.map((p) => [p.column, p.code])).toEqual([
       ["notes", "column_left_out"],
       ["site", "column_left_out"],
       ["site_se", "column_left_out"],
     ]);
-    expect(wide.problems[0].message).toContain("brain.csv column notes: has no values, so it is not a region");
-    expect(wide.problems[2].message).toContain('brain.csv column site_se: holds the standard errors of "site", which is not a region here');
+    expect(wide.problems[0].message).toContain(
+      "brain.csv column notes: has no values, so it is not a region",
+    );
+    expect(wide.problems[2].message).toContain(
+      'brain.csv column site_se: holds the standard errors of "site", which is not a region here',
+    );
     // Deciding on a region's column decides its standard errors.
-    const t = brain("participant_id,a,notes,site,site_se\ns1,1,,x,0.1\ns2,2,n/a,y,0.2\n", { dropColumns: ["notes", "site"] });
+    const t = brain("participant_id,a,notes,site,site_se\ns1,1,,x,0.1\ns2,2,n/a,y,0.2\n", {
+      dropColumns: ["notes", "site"],
+    });
     expect(t.regions).toEqual(["a"]);
-    const long = refusal(() => brain("participant_id,region,value,hemisphere\ns1,a,1,left\ns2,a,2,right\n"));
+    const long = refusal(() =>
+      brain("participant_id,region,value,hemisphere\ns1,a,1,left\ns2,a,2,right\n"),
+    );
     expect(long.problems).toMatchObject([{ column: "hemisphere", code: "column_left_out" }]);
-    expect(long.message).toContain("brain.csv column hemisphere: is not read: a long brain table uses only the id, session, region, value and se columns");
-    expect(brain("participant_id,region,value,hemisphere\ns1,a,1,left\n", { dropColumns: ["hemisphere"] }).regions).toEqual(["a"]);
+    expect(long.message).toContain(
+      "brain.csv column hemisphere: is not read: a long brain table uses only the id, session, region, value and se columns",
+    );
+    expect(
+      brain("participant_id,region,value,hemisphere\ns1,a,1,left\n", {
+        dropColumns: ["hemisphere"],
+      }).regions,
+    ).toEqual(["a"]);
   });
 
   it("previews show the sessions and participants of a table whose only problems are columns to decide", () => {
-    const p = previewTable(readTable("participant_id,session,a,site\ns1,1,1,x\ns1,2,1,y\ns2,1,2,z\n", "brain.csv"), "brain");
+    const p = previewTable(
+      readTable("participant_id,session,a,site\ns1,1,1,x\ns1,2,1,y\ns2,1,2,z\n", "brain.csv"),
+      "brain",
+    );
     expect(p.sessions).toEqual(["1", "2"]);
     expect(p.participants).toBe(2);
     expect(p.problems.map((x) => x.code)).toEqual(["column_left_out"]);
@@ -124,16 +151,32 @@ describe("the recipe command uses the same rule", () => {
   };
 
   it("refuses a brain table with a typo or an undecided column, and leaves columns out when the recipe names the regions", async () => {
-    write("typo.csv", "participant_id,ins_l,ins_r\ns1,0.12,0.3\ns2,O.42,0.1\ns3,0.33,0.2\ns4,0.25,0.4\n");
-    const typo = await runRecipe(write("typo.json", JSON.stringify({ brainTable: "typo.csv", kind: "one-sample" }))).catch((e: unknown) => e);
+    write(
+      "typo.csv",
+      "participant_id,ins_l,ins_r\ns1,0.12,0.3\ns2,O.42,0.1\ns3,0.33,0.2\ns4,0.25,0.4\n",
+    );
+    const typo = await runRecipe(
+      write("typo.json", JSON.stringify({ brainTable: "typo.csv", kind: "one-sample" })),
+    ).catch((e: unknown) => e);
     expect(typo).toBeInstanceOf(IntakeError);
-    expect((typo as IntakeError).message).toContain('typo.csv row 3, column ins_l: "O.42" is not a number');
+    expect((typo as IntakeError).message).toContain(
+      'typo.csv row 3, column ins_l: "O.42" is not a number',
+    );
 
     write("site.csv", "participant_id,site,a\ns1,x,0.1\ns2,y,0.4\ns3,x,0.3\n");
-    const site = await runRecipe(write("site.json", JSON.stringify({ brainTable: "site.csv", kind: "one-sample" }))).catch((e: unknown) => e);
-    expect((site as IntakeError).problems).toMatchObject([{ file: "site.csv", column: "site", code: "column_left_out" }]);
+    const site = await runRecipe(
+      write("site.json", JSON.stringify({ brainTable: "site.csv", kind: "one-sample" })),
+    ).catch((e: unknown) => e);
+    expect((site as IntakeError).problems).toMatchObject([
+      { file: "site.csv", column: "site", code: "column_left_out" },
+    ]);
     expect((site as IntakeError).message).toContain('name the regions to read under "regions"');
-    const named = await runRecipe(write("named.json", JSON.stringify({ brainTable: "site.csv", kind: "one-sample", regions: ["a"] })));
+    const named = await runRecipe(
+      write(
+        "named.json",
+        JSON.stringify({ brainTable: "site.csv", kind: "one-sample", regions: ["a"] }),
+      ),
+    );
     expect(named.recipe.regions).toEqual(["a"]);
   });
 });

@@ -1,9 +1,19 @@
 import { describe, expect, it } from "vitest";
-import { type IntakeError, PREVIEW_ROWS, confirmTable, previewTable, readTable } from "../../../server/intake";
+import {
+  type IntakeError,
+  PREVIEW_ROWS,
+  confirmTable,
+  previewTable,
+  readTable,
+} from "../../../server/intake";
 
 const sheetText =
   "participant_id,age,group,email,DOB\n" +
-  Array.from({ length: 30 }, (_, i) => `sub-${String(i + 1).padStart(2, "0")},${20 + i},${i % 2 ? "patient" : "control"},p${i}@example.org,1990-01-${String((i % 28) + 1).padStart(2, "0")}`).join("\n") +
+  Array.from(
+    { length: 30 },
+    (_, i) =>
+      `sub-${String(i + 1).padStart(2, "0")},${20 + i},${i % 2 ? "patient" : "control"},p${i}@example.org,1990-01-${String((i % 28) + 1).padStart(2, "0")}`,
+  ).join("\n") +
   "\n";
 
 describe("preview and confirm", () => {
@@ -11,7 +21,10 @@ describe("preview and confirm", () => {
     const p = previewTable(readTable(sheetText, "participants.csv"), "participants");
     expect(p.rowCount).toBe(30);
     expect(p.rows).toHaveLength(PREVIEW_ROWS);
-    expect(p.rows[0]).toEqual({ row: 2, cells: ["sub-01", "20", "control", "p0@example.org", "1990-01-01"] });
+    expect(p.rows[0]).toEqual({
+      row: 2,
+      cells: ["sub-01", "20", "control", "p0@example.org", "1990-01-01"],
+    });
     expect(p.delimiterName).toBe("comma");
     expect(p.participants).toBe(30);
     expect(p.columns.map((c) => [c.name, c.type])).toEqual([
@@ -59,22 +72,32 @@ describe("preview and confirm", () => {
     ]);
     expect(c.identifierDecisions).toEqual([
       { column: "email", kind: "email", decision: "dropped" },
-      { column: "DOB", kind: "birth-date", decision: "kept", reason: "needed to check age at scan; removed before sharing" },
+      {
+        column: "DOB",
+        kind: "birth-date",
+        decision: "kept",
+        reason: "needed to check age at scan; removed before sharing",
+      },
     ]);
   });
 
   it("a blank reason does not count", () => {
     const raw = readTable("participant_id,name\ns1,Ann Lee\n", "p.csv");
-    expect(() => confirmTable(raw, "participants", { identifierReasons: { name: "  " } })).toThrow(/drop the column/);
+    expect(() => confirmTable(raw, "participants", { identifierReasons: { name: "  " } })).toThrow(
+      /drop the column/,
+    );
   });
 
   it("confirm refuses a column name it does not know", () => {
     const raw = readTable("participant_id,age\ns1,2\n", "p.csv");
-    expect(() => confirmTable(raw, "participants", { dropColumns: ["weight"] })).toThrow(/no column named "weight"/);
+    expect(() => confirmTable(raw, "participants", { dropColumns: ["weight"] })).toThrow(
+      /no column named "weight"/,
+    );
   });
 
   it("previews a brain table with a typo as a problem, and confirm refuses it until the column is dropped", () => {
-    const text = "participant_id,L_insula,L_insula_se,R_insula\ns1,0.1,0.2,1\ns2,O.42,0.2,2\ns3,0.3,0.2,3\ns4,0.4,0.2,4\ns5,0.5,0.2,5\n";
+    const text =
+      "participant_id,L_insula,L_insula_se,R_insula\ns1,0.1,0.2,1\ns2,O.42,0.2,2\ns3,0.3,0.2,3\ns4,0.4,0.2,4\ns5,0.5,0.2,5\n";
     const raw = readTable(text, "brain.csv");
     const p = previewTable(raw, "brain");
     expect(p.layout).toBe("wide");
@@ -95,7 +118,10 @@ describe("preview and confirm", () => {
   });
 
   it("previews sessions of a valid brain table", () => {
-    const p = previewTable(readTable("participant_id,session,a\ns1,1,1\ns1,2,1\n", "brain.csv"), "brain");
+    const p = previewTable(
+      readTable("participant_id,session,a\ns1,1,1\ns1,2,1\n", "brain.csv"),
+      "brain",
+    );
     expect(p.sessions).toEqual(["1", "2"]);
     expect(p.participants).toBe(1);
     expect(p.columns[1]).toMatchObject({ role: "session", type: "category" });

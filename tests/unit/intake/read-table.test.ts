@@ -1,6 +1,12 @@
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { DEFAULT_MAX_BYTES, DEFAULT_MAX_COLUMNS, IntakeError, parseNumberCell, readTable } from "../../../server/intake";
+import {
+  DEFAULT_MAX_BYTES,
+  DEFAULT_MAX_COLUMNS,
+  IntakeError,
+  parseNumberCell,
+  readTable,
+} from "../../../server/intake";
 
 const enc = (s: string) => new TextEncoder().encode(s);
 
@@ -19,7 +25,10 @@ describe("readTable: reading", () => {
     const t = readTable(enc("participant_id,age\nsub-01,23\nsub-02,31\n"), "p.csv");
     expect(t.delimiter).toBe(",");
     expect(t.header).toEqual(["participant_id", "age"]);
-    expect(t.rows).toEqual([["sub-01", "23"], ["sub-02", "31"]]);
+    expect(t.rows).toEqual([
+      ["sub-01", "23"],
+      ["sub-02", "31"],
+    ]);
     expect(t.rowNumbers).toEqual([2, 3]);
   });
 
@@ -35,14 +44,22 @@ describe("readTable: reading", () => {
   });
 
   it("strips a UTF-8 byte-order mark and keeps non-ASCII text", () => {
-    const bytes = new Uint8Array([0xef, 0xbb, 0xbf, ...enc("participant_id,site\nsub-01,Zürich\n")]);
+    const bytes = new Uint8Array([
+      0xef,
+      0xbb,
+      0xbf,
+      ...enc("participant_id,site\nsub-01,Zürich\n"),
+    ]);
     const t = readTable(bytes, "p.csv");
     expect(t.header[0]).toBe("participant_id");
     expect(t.rows[0][1]).toBe("Zürich");
   });
 
   it("reads quoted fields holding delimiters, quotes and line breaks; a quoted multi-line field is one row", () => {
-    const t = readTable('id,note\r\n1,"a, b"\r\n2,"he said ""hi"""\r\n3,"line one\r\nline two"\r\n4,x\r\n', "n.csv");
+    const t = readTable(
+      'id,note\r\n1,"a, b"\r\n2,"he said ""hi"""\r\n3,"line one\r\nline two"\r\n4,x\r\n',
+      "n.csv",
+    );
     expect(t.rows.map((r) => r[1])).toEqual(["a, b", 'he said "hi"', "line one\r\nline two", "x"]);
     // Spreadsheet rows: header 1, then 2, 3, 4 (the multi-line record), 5 (counted by hand).
     expect(t.rowNumbers).toEqual([2, 3, 4, 5]);
@@ -50,7 +67,10 @@ describe("readTable: reading", () => {
 
   it("skips blank rows but keeps the spreadsheet numbering", () => {
     const t = readTable("id,x\n1,2\n\n,\n3,4\n", "b.csv");
-    expect(t.rows).toEqual([["1", "2"], ["3", "4"]]);
+    expect(t.rows).toEqual([
+      ["1", "2"],
+      ["3", "4"],
+    ]);
     expect(t.rowNumbers).toEqual([2, 5]);
   });
 
@@ -59,7 +79,10 @@ describe("readTable: reading", () => {
   });
 
   it("reads old Mac line ends", () => {
-    expect(readTable("id,x\r1,2\r3,4", "b.csv").rows).toEqual([["1", "2"], ["3", "4"]]);
+    expect(readTable("id,x\r1,2\r3,4", "b.csv").rows).toEqual([
+      ["1", "2"],
+      ["3", "4"],
+    ]);
   });
 });
 
@@ -85,7 +108,9 @@ describe("readTable: refusals (one per bad-input kind)", () => {
     const e = refusal("participant_id,L_insula,L_insula\ns1,1,2\n");
     expect(e.status).toBe(400);
     expect(e.problems[0]).toMatchObject({ code: "duplicate_header", row: 1, column: "L_insula" });
-    expect(e.message).toContain("brain.csv row 1, column L_insula: the name appears twice in the header (columns 2 and 3)");
+    expect(e.message).toContain(
+      "brain.csv row 1, column L_insula: the name appears twice in the header (columns 2 and 3)",
+    );
   });
 
   it("empty header name", () => {
@@ -101,14 +126,16 @@ describe("readTable: refusals (one per bad-input kind)", () => {
       ["ragged_row", 3],
       ["ragged_row", 4],
     ]);
-    expect(e.problems[0].message).toBe("brain.csv row 3: has 2 fields; expected 3 as in the header (comma-separated)");
+    expect(e.problems[0].message).toBe(
+      "brain.csv row 3: has 2 fields; expected 3 as in the header (comma-separated)",
+    );
   });
 
   it("unknown delimiter", () => {
     const e = refusal("participant_id|age\nsub-01|23\n");
     expect(e.status).toBe(400);
     expect(e.problems[0].code).toBe("unknown_delimiter");
-    expect(e.message).toContain('unknown delimiter');
+    expect(e.message).toContain("unknown delimiter");
     expect(e.message).toContain('"|"');
   });
 
@@ -183,10 +210,39 @@ describe("readTable: refusals (one per bad-input kind)", () => {
 describe("number cells", () => {
   // The documented number syntax, and the engine's own correctly rounded conversion, as the reference.
   const SYNTAX = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/;
-  const reference = (t: string) => (SYNTAX.test(t) && Number.isFinite(Number(t)) ? Number(t) : undefined);
+  const reference = (t: string) =>
+    SYNTAX.test(t) && Number.isFinite(Number(t)) ? Number(t) : undefined;
 
   it("reads plain decimals exactly as Number() does, and refuses everything else", () => {
-    const cases = ["0", "-0.42", "+3e-4", ".5", "5.", "1e22", "1e23", "123456789012345", "1234567890123456789", "0.1", "0.000000000000000000000001234", "9007199254740993", "1e400", "-", ".", "1e", "e5", "1,5", "0x10", "Inf", "NaN", " 2.5 ", "1 000", "--1", "1e+5", "1E-5", "00012.5000"];
+    const cases = [
+      "0",
+      "-0.42",
+      "+3e-4",
+      ".5",
+      "5.",
+      "1e22",
+      "1e23",
+      "123456789012345",
+      "1234567890123456789",
+      "0.1",
+      "0.000000000000000000000001234",
+      "9007199254740993",
+      "1e400",
+      "-",
+      ".",
+      "1e",
+      "e5",
+      "1,5",
+      "0x10",
+      "Inf",
+      "NaN",
+      " 2.5 ",
+      "1 000",
+      "--1",
+      "1e+5",
+      "1E-5",
+      "00012.5000",
+    ];
     for (const c of cases) {
       const expected = c.trim() === "" ? null : reference(c.trim());
       expect(parseNumberCell(c), c).toBe(expected);
@@ -207,7 +263,9 @@ describe("number cells", () => {
     fc.assert(
       fc.property(decimal, (t) => {
         const expected = t === "" ? null : reference(t);
-        expect(Object.is(parseNumberCell(t), expected) || parseNumberCell(t) === expected).toBe(true);
+        expect(Object.is(parseNumberCell(t), expected) || parseNumberCell(t) === expected).toBe(
+          true,
+        );
       }),
       { seed: 31, numRuns: 5000 },
     );

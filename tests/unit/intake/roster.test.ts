@@ -1,6 +1,13 @@
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { type IntakeError, ROSTER_RULE, findNearMisses, joinRoster, normaliseId, oneEditApart } from "../../../server/intake";
+import {
+  type IntakeError,
+  ROSTER_RULE,
+  findNearMisses,
+  joinRoster,
+  normaliseId,
+  oneEditApart,
+} from "../../../server/intake";
 
 describe("roster join", () => {
   it("normalises ids: trim, case, optional sub- prefix", () => {
@@ -12,7 +19,10 @@ describe("roster join", () => {
   });
 
   it("matches identical ids and ids equal under the rule, and reports the rest", () => {
-    const r = joinRoster(["sub-01", "SUB-02", " 03", "sub-99"], ["sub-01", "02", "sub-03", "sub-50"]);
+    const r = joinRoster(
+      ["sub-01", "SUB-02", " 03", "sub-99"],
+      ["sub-01", "02", "sub-03", "sub-50"],
+    );
     expect(r.matched).toEqual([
       { brainId: "sub-01", sheetId: "sub-01", via: "identical" },
       { brainId: "SUB-02", sheetId: "02", via: "rule" },
@@ -29,12 +39,19 @@ describe("roster join", () => {
     expect(r.onlyInBrainTable).toEqual(["7", "sub-8"]);
     expect(r.nearMisses).toEqual([
       { brainId: "7", sheetId: "07", reason: "same number written with different leading zeros" },
-      { brainId: "sub-8", sheetId: "sub-008", reason: "same number written with different leading zeros" },
+      {
+        brainId: "sub-8",
+        sheetId: "sub-008",
+        reason: "same number written with different leading zeros",
+      },
     ]);
   });
 
   it("reports one-character typos of long ids, punctuation differences and swaps", () => {
-    const r = joinRoster(["CVN1043", "ab_12", "cvn2017"], ["CVN1034x", "CVN1048", "ab12", "cvn2071"]);
+    const r = joinRoster(
+      ["CVN1043", "ab_12", "cvn2017"],
+      ["CVN1034x", "CVN1048", "ab12", "cvn2071"],
+    );
     expect(r.matched).toEqual([]);
     expect(r.nearMisses).toEqual([
       { brainId: "ab_12", sheetId: "ab12", reason: "differs only in punctuation or spaces" },
@@ -60,7 +77,11 @@ describe("roster join", () => {
   it("refuses mappings naming unknown ids or an id twice", () => {
     const attempt = (mappings: { brainId: string; sheetId: string }[]) => {
       try {
-        joinRoster(["7", "9"], ["07", "09"], { mappings, brainFile: "brain.csv", sheetFile: "participants.tsv" });
+        joinRoster(["7", "9"], ["07", "09"], {
+          mappings,
+          brainFile: "brain.csv",
+          sheetFile: "participants.tsv",
+        });
       } catch (e) {
         return e as IntakeError;
       }
@@ -70,10 +91,18 @@ describe("roster join", () => {
       'brain.csv: mapping "8" → "07": the brain table has no participant "8"',
     );
     expect(attempt([{ brainId: "7", sheetId: "x" }]).problems[0].file).toBe("participants.tsv");
-    expect(attempt([{ brainId: "7", sheetId: "07" }, { brainId: "7", sheetId: "09" }]).problems[0].code).toBe(
-      "mapping_twice",
-    );
-    expect(attempt([{ brainId: "7", sheetId: "07" }, { brainId: "9", sheetId: "07" }]).status).toBe(422);
+    expect(
+      attempt([
+        { brainId: "7", sheetId: "07" },
+        { brainId: "7", sheetId: "09" },
+      ]).problems[0].code,
+    ).toBe("mapping_twice");
+    expect(
+      attempt([
+        { brainId: "7", sheetId: "07" },
+        { brainId: "9", sheetId: "07" },
+      ]).status,
+    ).toBe(422);
   });
 
   it("reports ids that collide under the rule as duplicates and does not merge them", () => {
@@ -101,7 +130,10 @@ describe("roster join", () => {
 
 describe("near misses found through shared deletion keys", () => {
   // The pairwise comparison the index replaces (every unmatched brain id against every unmatched sheet id).
-  function pairwise(brainIds: readonly string[], sheetIds: readonly string[]): { brainId: string; sheetId: string; reason: string }[] {
+  function pairwise(
+    brainIds: readonly string[],
+    sheetIds: readonly string[],
+  ): { brainId: string; sheetId: string; reason: string }[] {
     const out: { brainId: string; sheetId: string; reason: string }[] = [];
     for (const b of brainIds) {
       const nb = normaliseId(b);
@@ -119,14 +151,24 @@ describe("near misses found through shared deletion keys", () => {
   it("finds exactly the one-edit pairs the pairwise comparison finds, in the same order (seeded random ids)", () => {
     const id = fc.stringMatching(/^(sub-)?[ab1-]{3,6}$/);
     fc.assert(
-      fc.property(fc.uniqueArray(id, { maxLength: 25 }), fc.uniqueArray(id, { maxLength: 25 }), (brainIds, sheetIds) => {
-        const all = findNearMisses(brainIds, sheetIds);
-        const oneEdit = (n: { reason: string }) => n.reason !== "same number written with different leading zeros" && n.reason !== "differs only in punctuation or spaces";
-        // A pair already reported for leading zeros or punctuation is not reported again.
-        const reported = new Set(all.filter((n) => !oneEdit(n)).map((n) => `${n.brainId}\u0000${n.sheetId}`));
-        const expected = pairwise(brainIds, sheetIds).filter((p) => !reported.has(`${p.brainId}\u0000${p.sheetId}`));
-        expect(all.filter(oneEdit)).toEqual(expected); // (exact enumeration: every pair compared)
-      }),
+      fc.property(
+        fc.uniqueArray(id, { maxLength: 25 }),
+        fc.uniqueArray(id, { maxLength: 25 }),
+        (brainIds, sheetIds) => {
+          const all = findNearMisses(brainIds, sheetIds);
+          const oneEdit = (n: { reason: string }) =>
+            n.reason !== "same number written with different leading zeros" &&
+            n.reason !== "differs only in punctuation or spaces";
+          // A pair already reported for leading zeros or punctuation is not reported again.
+          const reported = new Set(
+            all.filter((n) => !oneEdit(n)).map((n) => `${n.brainId}\u0000${n.sheetId}`),
+          );
+          const expected = pairwise(brainIds, sheetIds).filter(
+            (p) => !reported.has(`${p.brainId}\u0000${p.sheetId}`),
+          );
+          expect(all.filter(oneEdit)).toEqual(expected); // (exact enumeration: every pair compared)
+        },
+      ),
       { seed: 18, numRuns: 300 },
     );
   });

@@ -1,7 +1,10 @@
 import { afterAll, describe, expect, it } from "vitest";
 import { createPermutationPool, splitRegions } from "../../../server/jobs/parallel-permutation";
 import { StatsError } from "../../../server/stats/errors";
-import { linearPermutationTest, sharedLinearPermutationTest } from "../../../server/stats/permutation";
+import {
+  linearPermutationTest,
+  sharedLinearPermutationTest,
+} from "../../../server/stats/permutation";
 import { createRng } from "../../../server/stats/rng";
 import { normal } from "../stats/resampling-reference";
 
@@ -33,18 +36,36 @@ describe("parallel linear permutation test", () => {
   const p = 4;
   const rows = Array.from({ length: n }, () => [1, normal(rng), normal(rng), normal(rng)]);
   const design = Float64Array.from(rows.flat());
-  const y = Array.from({ length: 7 }, (_, r) => Float64Array.from(rows.map((row) => 0.2 * r * row[3] + row[1] + normal(rng))));
-  const input = { design, n, p, tested: 3, y, scheme: "freedman-lane" as const, resamples: 300, maxT: true, keepNull: true };
+  const y = Array.from({ length: 7 }, (_, r) =>
+    Float64Array.from(rows.map((row) => 0.2 * r * row[3] + row[1] + normal(rng))),
+  );
+  const input = {
+    design,
+    n,
+    p,
+    tested: 3,
+    y,
+    scheme: "freedman-lane" as const,
+    resamples: 300,
+    maxT: true,
+    keepNull: true,
+  };
 
   it("returns exactly the single-thread result for the same seed", async () => {
     const seen: number[] = [];
-    const parallel = await pool.linearPermutationTest({ ...input, seed: 17, onProgress: (f) => seen.push(f) });
+    const parallel = await pool.linearPermutationTest({
+      ...input,
+      seed: 17,
+      onProgress: (f) => seen.push(f),
+    });
     const single = linearPermutationTest({ ...input, rng: createRng(17) });
     expect(Array.from(parallel.observed)).toEqual(Array.from(single.observed));
     expect(Array.from(parallel.p)).toEqual(Array.from(single.p));
     expect(Array.from(parallel.pMaxT ?? [])).toEqual(Array.from(single.pMaxT ?? []));
     expect(Array.from(parallel.maxNull ?? [])).toEqual(Array.from(single.maxNull ?? []));
-    expect(parallel.nullStatistics?.map((a) => Array.from(a))).toEqual(single.nullStatistics?.map((a) => Array.from(a)));
+    expect(parallel.nullStatistics?.map((a) => Array.from(a))).toEqual(
+      single.nullStatistics?.map((a) => Array.from(a)),
+    );
     expect(parallel.rearrangements).toBe(301);
     expect(parallel.exact).toBe(false);
     expect(seen[seen.length - 1]).toBe(1);
@@ -78,15 +99,26 @@ describe("parallel linear permutation test", () => {
       y: regionsOf[b].map((r) => Float64Array.from(members, (i) => y[r][i])),
       members: Int32Array.from(members),
     }));
-    const shared = { participants: n, blocks, scheme: "freedman-lane" as const, resamples: 300, maxT: true, keepNull: true };
+    const shared = {
+      participants: n,
+      blocks,
+      scheme: "freedman-lane" as const,
+      resamples: 300,
+      maxT: true,
+      keepNull: true,
+    };
     const parallel = await pool.sharedLinearPermutationTest({ ...shared, seed: 23 });
     const single = sharedLinearPermutationTest({ ...shared, rng: createRng(23) });
     expect(Array.from(parallel.p)).toEqual(Array.from(single.p));
     expect(Array.from(parallel.pMaxT ?? [])).toEqual(Array.from(single.pMaxT ?? []));
-    expect(parallel.nullStatistics?.map((a) => Array.from(a))).toEqual(single.nullStatistics?.map((a) => Array.from(a)));
+    expect(parallel.nullStatistics?.map((a) => Array.from(a))).toEqual(
+      single.nullStatistics?.map((a) => Array.from(a)),
+    );
   });
 
   it("validates on the main thread with the same messages", async () => {
-    await expect(pool.linearPermutationTest({ ...input, tested: 9, seed: 1 })).rejects.toThrow(/tested to be a column index/);
+    await expect(pool.linearPermutationTest({ ...input, tested: 9, seed: 1 })).rejects.toThrow(
+      /tested to be a column index/,
+    );
   });
 });

@@ -5,7 +5,12 @@
  */
 import { describe, expect, it } from "vitest";
 import { decodeRegionRows, encodeRegionRows } from "../../../server/jobs/region-rows";
-import { type FitData, type ModelSpecInput, modelSpecSchema, type ParticipantDiagnostics } from "../../../server/model/spec";
+import {
+  type FitData,
+  type ModelSpecInput,
+  modelSpecSchema,
+  type ParticipantDiagnostics,
+} from "../../../server/model/spec";
 import { createRng } from "../../../server/stats/rng";
 import { runFit } from "../../../server/stats/run-fit";
 
@@ -17,10 +22,21 @@ function makeData(): FitData {
   const age = participants.map(() => 20 + Math.floor(rng.next() * 45));
   const accuracy = participants.map(() => 0.5 + rng.next() / 2);
   const group = participants.map((_, i) => (i % 3 === 0 ? "patient" : "control"));
-  const values = ["left insula", "precuneus"].map((_, r) => Float64Array.from(participants, (_, i) => 0.2 * r + 0.8 * accuracy[i] + rng.next() - 0.5));
+  const values = ["left insula", "precuneus"].map((_, r) =>
+    Float64Array.from(participants, (_, i) => 0.2 * r + 0.8 * accuracy[i] + rng.next() - 0.5),
+  );
   values[1][5] = Number.NaN;
-  const standardErrors = values.map(() => Float64Array.from(participants, () => 0.1 + rng.next() * 0.2));
-  return { participants, regions: ["left insula", "precuneus"], values, standardErrors, numericColumns: { age, accuracy }, categoricalColumns: { group } };
+  const standardErrors = values.map(() =>
+    Float64Array.from(participants, () => 0.1 + rng.next() * 0.2),
+  );
+  return {
+    participants,
+    regions: ["left insula", "precuneus"],
+    values,
+    standardErrors,
+    numericColumns: { age, accuracy },
+    categoricalColumns: { group },
+  };
 }
 
 const data = makeData();
@@ -29,10 +45,16 @@ const rowsOf = (input: ModelSpecInput, region: string): ParticipantDiagnostics[]
 
 describe("region rows by columns", () => {
   const kinds: [string, ModelSpecInput][] = [
-    ["association with a covariate (dfbetas per coefficient)", { kind: "association", predictor: "accuracy", covariates: ["age"] }],
+    [
+      "association with a covariate (dfbetas per coefficient)",
+      { kind: "association", predictor: "accuracy", covariates: ["age"] },
+    ],
     ["robust association", { kind: "association", predictor: "accuracy", estimator: "huber" }],
     ["two groups", { kind: "two-group", group: "group" }],
-    ["one sample, weighted by the standard errors", { kind: "one-sample", weights: "first-level-se" }],
+    [
+      "one sample, weighted by the standard errors",
+      { kind: "one-sample", weights: "first-level-se" },
+    ],
   ];
   for (const [label, input] of kinds) {
     it(`give back exactly the engine's rows: ${label}`, () => {
@@ -46,9 +68,32 @@ describe("region rows by columns", () => {
 
   it("keep a field that some rows lack apart from one that is null", () => {
     const rows: ParticipantDiagnostics[] = [
-      { participant: "a", region: "r", leverage: 0.1, studentizedResidual: null, cooksDistance: 0.25, flags: ["leverage"], dffits: -0.1 },
-      { participant: "b", region: "r", leverage: null, studentizedResidual: 1.5, cooksDistance: null, flags: [] },
-      { participant: "c", region: "r", leverage: 1 / 3, studentizedResidual: -2.5e-17, cooksDistance: 0, flags: ["outlier", "influence"], dffits: null },
+      {
+        participant: "a",
+        region: "r",
+        leverage: 0.1,
+        studentizedResidual: null,
+        cooksDistance: 0.25,
+        flags: ["leverage"],
+        dffits: -0.1,
+      },
+      {
+        participant: "b",
+        region: "r",
+        leverage: null,
+        studentizedResidual: 1.5,
+        cooksDistance: null,
+        flags: [],
+      },
+      {
+        participant: "c",
+        region: "r",
+        leverage: 1 / 3,
+        studentizedResidual: -2.5e-17,
+        cooksDistance: 0,
+        flags: ["outlier", "influence"],
+        dffits: null,
+      },
     ];
     const decoded = decodeRegionRows(encodeRegionRows(rows), "r");
     expect(decoded).toStrictEqual(rows);
@@ -58,7 +103,10 @@ describe("region rows by columns", () => {
   });
 
   it("are smaller than the rows one by one, and the row-by-row text still reads", () => {
-    const rows = rowsOf({ kind: "association", predictor: "accuracy", covariates: ["age"] }, "left insula");
+    const rows = rowsOf(
+      { kind: "association", predictor: "accuracy", covariates: ["age"] },
+      "left insula",
+    );
     const byRows = JSON.stringify(rows);
     expect(encodeRegionRows(rows).length).toBeLessThan(0.75 * byRows.length);
     expect(decodeRegionRows(byRows, "left insula")).toStrictEqual(rows);

@@ -14,7 +14,11 @@ describe.runIf(process.platform === "linux")("fit worker thread priority", () =>
   it("a worker thread lowers only itself", async () => {
     const before = niceOf("/proc/thread-self/stat");
     // A worker thread of a pool set up as the fit pool is (server/jobs/fit-jobs.ts).
-    const pool = new Piscina({ filename: new URL("./fixtures/priority-worker.ts", import.meta.url).href, execArgv: ["--import", "tsx"], maxThreads: 1 });
+    const pool = new Piscina({
+      filename: new URL("./fixtures/priority-worker.ts", import.meta.url).href,
+      execArgv: ["--import", "tsx"],
+      maxThreads: 1,
+    });
     const report = (await pool.run(null)) as { lowered: boolean; nice: number; mainNice: number };
     await pool.destroy();
     expect(report.lowered).toBe(true);

@@ -6,13 +6,31 @@
 import { describe, expect, it } from "vitest";
 import { ChartInputError } from "../../../components/charts/chart-input-error";
 import { attenuationWords } from "../../../components/fit/attenuation-words";
-import { type VarianceShareInput, tau2MethodName, varianceShareRows, varianceSharesMethod } from "../../../components/fit/variance-shares-layout";
-import { checkTraitDrafts, intervalText, parseReliability, problemsFromDetails, reliabilityRows } from "../../../components/measurement/reliability-rows";
+import {
+  type VarianceShareInput,
+  tau2MethodName,
+  varianceShareRows,
+  varianceSharesMethod,
+} from "../../../components/fit/variance-shares-layout";
+import {
+  checkTraitDrafts,
+  intervalText,
+  parseReliability,
+  problemsFromDetails,
+  reliabilityRows,
+} from "../../../components/measurement/reliability-rows";
 import { ApiError } from "../../../hooks/api";
 import { fetchBrainReliability } from "../../../hooks/use-reliability";
 
 describe("variance shares", () => {
-  const region: VarianceShareInput = { region: "L_insula", tau2: 0.0312, i2: 0.41, noiseShare: 0.62, trueShare: 0.38, tau2Method: "reml" };
+  const region: VarianceShareInput = {
+    region: "L_insula",
+    tau2: 0.0312,
+    i2: 0.41,
+    noiseShare: 0.62,
+    trueShare: 0.38,
+    tau2Method: "reml",
+  };
 
   it("words each bar and names the method under it", () => {
     const [row] = varianceShareRows([region]);
@@ -23,8 +41,12 @@ describe("variance shares", () => {
       words: "62% noise · 38% true differences",
       detail: "τ² = 0.0312 · I² = 41%",
     });
-    expect(varianceSharesMethod([region])).toMatch(/τ² estimated by restricted maximum likelihood \(REML\)\. I² after Higgins & Thompson \(2002\)\.$/);
-    expect(varianceSharesMethod([region, { ...region, tau2Method: "dl" }])).toMatch(/restricted maximum likelihood \(REML\) and DerSimonian–Laird/);
+    expect(varianceSharesMethod([region])).toMatch(
+      /τ² estimated by restricted maximum likelihood \(REML\)\. I² after Higgins & Thompson \(2002\)\.$/,
+    );
+    expect(varianceSharesMethod([region, { ...region, tau2Method: "dl" }])).toMatch(
+      /restricted maximum likelihood \(REML\) and DerSimonian–Laird/,
+    );
     expect(tau2MethodName("dl")).toBe("DerSimonian–Laird");
   });
 
@@ -34,12 +56,19 @@ describe("variance shares", () => {
   });
 
   it("refuses shares that are not shares, naming the field and region position", () => {
-    const bad = (patch: Partial<typeof region>) => () => varianceShareRows([region, { ...region, ...patch }]);
-    expect(bad({ noiseShare: 1.2, trueShare: -0.2 })).toThrow("noiseShare[1]: must lie between 0 and 1 (got 1.2)");
-    expect(bad({ noiseShare: 0.5, trueShare: 0.4 })).toThrow("trueShare[1]: noiseShare and trueShare must add to 1 (got 0.5 + 0.4)");
+    const bad = (patch: Partial<typeof region>) => () =>
+      varianceShareRows([region, { ...region, ...patch }]);
+    expect(bad({ noiseShare: 1.2, trueShare: -0.2 })).toThrow(
+      "noiseShare[1]: must lie between 0 and 1 (got 1.2)",
+    );
+    expect(bad({ noiseShare: 0.5, trueShare: 0.4 })).toThrow(
+      "trueShare[1]: noiseShare and trueShare must add to 1 (got 0.5 + 0.4)",
+    );
     expect(bad({ tau2: Number.NaN })).toThrow("tau2[1]: must be a finite number (got NaN)");
     expect(bad({ tau2: -0.1 })).toThrow("tau2[1]: must not be negative");
-    expect(bad({ tau2Method: "ml" as "dl" })).toThrow('tau2Method[1]: must be "dl" or "reml" (got "ml")');
+    expect(bad({ tau2Method: "ml" as "dl" })).toThrow(
+      'tau2Method[1]: must be "dl" or "reml" (got "ml")',
+    );
     expect(() => varianceShareRows([])).toThrow(ChartInputError);
   });
 });
@@ -68,7 +97,9 @@ describe("attenuation note", () => {
     expect(w.ceiling).toBe("Largest r these measures allow: 0.72");
     expect(w.ceilingWorking).toBe("√(0.64 × 0.81) = 0.72");
     expect(w.corrected).toBe("Corrected for unreliability: r = 0.50 (95% CI 0.17 to 0.78)");
-    expect(w.reliabilities).toBe("Brain: ICC(3,1) = 0.64 across sessions. accuracy: 0.81, as stated (test–retest r = .81, task manual).");
+    expect(w.reliabilities).toBe(
+      "Brain: ICC(3,1) = 0.64 across sessions. accuracy: 0.81, as stated (test–retest r = .81, task manual).",
+    );
     expect(w.caution).toBeNull();
     expect(w.method).toMatch(/^Spearman's correction for attenuation \(1904\)/);
   });
@@ -89,11 +120,19 @@ describe("attenuation note", () => {
   });
 
   it("refuses impossible inputs, naming the field", () => {
-    expect(() => attenuationWords({ ...a, reliabilityBrain: 0 })).toThrow("reliabilityBrain: must be greater than 0 and at most 1 (got 0)");
+    expect(() => attenuationWords({ ...a, reliabilityBrain: 0 })).toThrow(
+      "reliabilityBrain: must be greater than 0 and at most 1 (got 0)",
+    );
     expect(() => attenuationWords({ ...a, reliabilityTrait: 1.1 })).toThrow("reliabilityTrait");
-    expect(() => attenuationWords({ ...a, observed: 1.2 })).toThrow("observed: must lie between −1 and 1 (got 1.2)");
-    expect(() => attenuationWords({ ...a, observedCiLow: 0.4 })).toThrow("observedCiLow: the interval 0.4 to 0.56 must hold the observed r 0.36");
-    expect(() => attenuationWords({ ...a, ceiling: Number.NaN })).toThrow("ceiling: must be a finite number");
+    expect(() => attenuationWords({ ...a, observed: 1.2 })).toThrow(
+      "observed: must lie between −1 and 1 (got 1.2)",
+    );
+    expect(() => attenuationWords({ ...a, observedCiLow: 0.4 })).toThrow(
+      "observedCiLow: the interval 0.4 to 0.56 must hold the observed r 0.36",
+    );
+    expect(() => attenuationWords({ ...a, ceiling: Number.NaN })).toThrow(
+      "ceiling: must be a finite number",
+    );
   });
 });
 
@@ -107,7 +146,10 @@ describe("brain reliability rows", () => {
         icc21: { value: 0.412, ciLow: -0.05, ciHigh: 0.74 },
         icc31: { value: 0.455, ciLow: null, ciHigh: 0.77 },
       },
-      { region: "R_caudate", error: "too few participants with every session (n = 1; at least 2 needed)" },
+      {
+        region: "R_caudate",
+        error: "too few participants with every session (n = 1; at least 2 needed)",
+      },
     ]);
     expect(rows[0]).toEqual({
       region: "dACC",
@@ -119,7 +161,12 @@ describe("brain reliability rows", () => {
       icc21Interval: "−0.05 to 0.74",
       problem: null,
     });
-    expect(rows[1]).toMatchObject({ region: "R_caudate", icc31: null, icc31Interval: "n/a", problem: expect.stringMatching(/^too few/) });
+    expect(rows[1]).toMatchObject({
+      region: "R_caudate",
+      icc31: null,
+      icc31Interval: "n/a",
+      problem: expect.stringMatching(/^too few/),
+    });
     expect(intervalText({ value: 0.5, ciLow: 0.1, ciHigh: null })).toBe("0.10 to unbounded");
   });
 });
@@ -128,19 +175,28 @@ describe("trait reliability form", () => {
   it("reads reliabilities as the API does", () => {
     expect(parseReliability(".82")).toEqual({ value: 0.82 });
     expect(parseReliability(" 1 ")).toEqual({ value: 1 });
-    expect(parseReliability("0,82")).toEqual({ problem: "Use a point as the decimal mark (for example 0.82)." });
+    expect(parseReliability("0,82")).toEqual({
+      problem: "Use a point as the decimal mark (for example 0.82).",
+    });
     expect(parseReliability("0")).toEqual({ problem: "A reliability must be greater than 0." });
     expect(parseReliability("-0.3")).toEqual({ problem: "A reliability must be greater than 0." });
     expect(parseReliability("1.2")).toEqual({ problem: "A reliability is at most 1." });
     expect(parseReliability("high")).toEqual({ problem: '"high" is not a number.' });
-    expect(parseReliability("")).toMatchObject({ problem: expect.stringMatching(/^Give the reliability/) });
+    expect(parseReliability("")).toMatchObject({
+      problem: expect.stringMatching(/^Give the reliability/),
+    });
   });
 
   it("checks every row and returns the entries only when all are right", () => {
     const numeric = ["accuracy", "age", "symptom_score"];
     const ok = checkTraitDrafts(
       [
-        { key: "a", column: "accuracy", reliability: "0.82", source: "  test–retest, task manual " },
+        {
+          key: "a",
+          column: "accuracy",
+          reliability: "0.82",
+          source: "  test–retest, task manual ",
+        },
         { key: "b", column: "symptom_score", reliability: ".9", source: "α = .90, scale manual" },
       ],
       numeric,
@@ -163,7 +219,11 @@ describe("trait reliability form", () => {
     );
     expect(bad.entries).toBeNull();
     expect(bad.problems).toEqual({
-      b: { column: '"accuracy" is listed twice.', reliability: "A reliability is at most 1.", source: expect.stringMatching(/^Say where the value comes from/) },
+      b: {
+        column: '"accuracy" is listed twice.',
+        reliability: "A reliability is at most 1.",
+        source: expect.stringMatching(/^Say where the value comes from/),
+      },
       c: { column: '"sex" is not a numeric column of the current participant sheet.' },
       d: { column: "Choose a trait of the participant sheet." },
     });
@@ -174,7 +234,12 @@ describe("trait reliability form", () => {
       { key: "x", column: "accuracy", reliability: "0.8", source: "m" },
       { key: "y", column: "shoe_size", reliability: "0.8", source: "m" },
     ];
-    expect(problemsFromDetails(drafts, [{ field: "body.1.column", message: "participants.tsv has no column \"shoe_size\"" }, { field: "body", message: "x" }])).toEqual({
+    expect(
+      problemsFromDetails(drafts, [
+        { field: "body.1.column", message: 'participants.tsv has no column "shoe_size"' },
+        { field: "body", message: "x" },
+      ]),
+    ).toEqual({
       y: { column: 'participants.tsv has no column "shoe_size"' },
     });
     expect(problemsFromDetails(drafts, undefined)).toEqual({});
@@ -186,7 +251,10 @@ describe("brain reliability query", () => {
     const conflict = async () => {
       throw new ApiError(409, "conflict", "The brain table b.csv has no session column.");
     };
-    await expect(fetchBrainReliability("s1", conflict as never)).resolves.toEqual({ available: false, reason: "The brain table b.csv has no session column." });
+    await expect(fetchBrainReliability("s1", conflict as never)).resolves.toEqual({
+      available: false,
+      reason: "The brain table b.csv has no session column.",
+    });
     const failing = async () => {
       throw new ApiError(500, "internal", "boom");
     };
@@ -196,7 +264,10 @@ describe("brain reliability query", () => {
       paths.push(path);
       return { sessions: ["1", "2"] };
     };
-    await expect(fetchBrainReliability("a b", answering as never)).resolves.toMatchObject({ available: true, reliability: { sessions: ["1", "2"] } });
+    await expect(fetchBrainReliability("a b", answering as never)).resolves.toMatchObject({
+      available: true,
+      reliability: { sessions: ["1", "2"] },
+    });
     expect(paths).toEqual(["/api/studies/a%20b/reliability"]);
   });
 });

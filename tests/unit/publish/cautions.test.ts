@@ -25,7 +25,13 @@ describe("small-sample caution", () => {
     expect(SMALL_SAMPLE_N).toBe(20);
     expect(isSmallSample(19)).toBe(true);
     expect(isSmallSample(20)).toBe(false);
-    expect(smallSampleRegions([{ region: "a", n: 19 }, { region: "b", n: 20 }, { region: "c", n: 3 }]).map((r) => r.region)).toEqual(["a", "c"]);
+    expect(
+      smallSampleRegions([
+        { region: "a", n: 19 },
+        { region: "b", n: 20 },
+        { region: "c", n: 3 },
+      ]).map((r) => r.region),
+    ).toEqual(["a", "c"]);
   });
 
   it("the fit screen's caution names the small regions with their N, and is null when none is small", () => {
@@ -33,7 +39,9 @@ describe("small-sample caution", () => {
     const one = smallSampleCaution([{ region: "L_insula", n: 14 }]);
     expect(one).toEqual({
       title: "Small sample",
-      text: expect.stringMatching(/^Fewer than 20 participants in this region \(N = 14\): .*\(Marek et al\. 2022\)\. Read the confidence interval, not only p\.$/),
+      text: expect.stringMatching(
+        /^Fewer than 20 participants in this region \(N = 14\): .*\(Marek et al\. 2022\)\. Read the confidence interval, not only p\.$/,
+      ),
       regions: [{ region: "L_insula", n: 14 }],
     });
     const some = smallSampleCaution([
@@ -41,13 +49,19 @@ describe("small-sample caution", () => {
       { region: "R_insula", n: 40 },
       { region: "L_dlpfc", n: 19 },
     ]);
-    expect(some?.text).toContain("Fewer than 20 participants in 2 of 3 regions (L_insula, N = 14; L_dlpfc, N = 19):");
+    expect(some?.text).toContain(
+      "Fewer than 20 participants in 2 of 3 regions (L_insula, N = 14; L_dlpfc, N = 19):",
+    );
     expect(some?.regions).toEqual([
       { region: "L_insula", n: 14 },
       { region: "L_dlpfc", n: 19 },
     ]);
-    const many = smallSampleCaution(Array.from({ length: 8 }, (_, i) => ({ region: `r${i + 1}`, n: 10 })));
-    expect(many?.text).toContain("in 8 of 8 regions (r1, N = 10; r2, N = 10; r3, N = 10; r4, N = 10; r5, N = 10; and 3 more):");
+    const many = smallSampleCaution(
+      Array.from({ length: 8 }, (_, i) => ({ region: `r${i + 1}`, n: 10 })),
+    );
+    expect(many?.text).toContain(
+      "in 8 of 8 regions (r1, N = 10; r2, N = 10; r3, N = 10; r4, N = 10; r5, N = 10; and 3 more):",
+    );
     expect(many?.regions).toHaveLength(8);
   });
 
@@ -74,7 +88,8 @@ describe("other cautions", () => {
 
   it("circularity: the model form's text is the shared one; the paper's cites references that exist", () => {
     expect(modelFormCircularityCaution).toBe(circularityCaution);
-    for (const key of circularityPaperCaution.references) expect(methodReferences[key]).toBeDefined();
+    for (const key of circularityPaperCaution.references)
+      expect(methodReferences[key]).toBeDefined();
     expect(circularityPaperCaution.text).toContain("(Vul et al. 2009; Kriegeskorte et al. 2009)");
   });
 });

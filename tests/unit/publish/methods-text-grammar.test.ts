@@ -10,16 +10,46 @@
  * Inputs are invented (only counts, flags and names matter here).
  */
 import { describe, expect, it } from "vitest";
-import { estimatorsByKind, modelSpecProblems, regionSelections } from "../../../server/model/model-form";
+import {
+  estimatorsByKind,
+  modelSpecProblems,
+  regionSelections,
+} from "../../../server/model/model-form";
 import { type MethodsInput, buildMethodsText, list } from "../../../server/model/methods-text";
-import { type ModelSpec, type ModelSpecInput, type RegionResult, corrections, estimators, inferences, modelKinds, modelSpecSchema } from "../../../server/model/spec";
+import {
+  type ModelSpec,
+  type ModelSpecInput,
+  type RegionResult,
+  corrections,
+  estimators,
+  inferences,
+  modelKinds,
+  modelSpecSchema,
+} from "../../../server/model/spec";
 
 // ─── The rules ───
 
 /** Verbs a sentence of the paragraph may carry; a sentence without one of them is a fragment. */
-const knownVerbs = ["was", "were", "is", "are", "has", "have", "holds", "applies", "records", "reproduces", "come", "set", "did", "started", "inflates"];
+const knownVerbs = [
+  "was",
+  "were",
+  "is",
+  "are",
+  "has",
+  "have",
+  "holds",
+  "applies",
+  "records",
+  "reproduces",
+  "come",
+  "set",
+  "did",
+  "started",
+  "inflates",
+];
 /** Nouns that are counted (longest first, so "participant–region pair" wins over "participant"). */
-const countNouns = "participant–region pair|participant|region|rearrangement|session|resample|identifier|mapping|person";
+const countNouns =
+  "participant–region pair|participant|region|rearrangement|session|resample|identifier|mapping|person";
 const numberWords = "one|two|three|four|five|six|seven|eight|nine|ten|eleven|twelve";
 const singularVerbs = new Set(["was", "is", "has"]);
 
@@ -33,8 +63,14 @@ function toNumber(numeral: string): number {
 }
 
 const brokenClause = new RegExp(`, (?:the|a|an) [^,;()]{1,40}, (?:${knownVerbs.join("|")})\\b`);
-const countInWords = new RegExp(`\\b(?:${numberWords})\\s+(?:[a-z]+\\s+)?(?:${countNouns})s?\\b`, "i");
-const countedNoun = new RegExp(`(?<![\\d.,])(\\d[\\d,]*) (?:(?:random|bootstrap|duplicated) )?(${countNouns})(s?)\\b`, "g");
+const countInWords = new RegExp(
+  `\\b(?:${numberWords})\\s+(?:[a-z]+\\s+)?(?:${countNouns})s?\\b`,
+  "i",
+);
+const countedNoun = new RegExp(
+  `(?<![\\d.,])(\\d[\\d,]*) (?:(?:random|bootstrap|duplicated) )?(${countNouns})(s?)\\b`,
+  "g",
+);
 const countedSubject = new RegExp(
   `(?<![\\d.,])(\\d[\\d,]*)(?: (?:random|bootstrap|duplicated))?(?: (?:${countNouns})s?)?(?: only in the (?:brain table|participant sheet))? (was|were|is|are|has|have)\\b`,
   "g",
@@ -59,7 +95,8 @@ function sentenceProblems(sentence: string): string[] {
   if (doubled) fail(`doubled word "${doubled[1]}"`);
   // "between the levels its two levels of": a content word again within two words.
   const echoed = /\b([a-z]{4,})\b(?:[\s,]+[\w“”-]+){1,2}[\s,]+\1\b/i.exec(sentence);
-  if (echoed && !echoEvery.has(echoed[1].toLowerCase())) fail(`"${echoed[1]}" repeated within two words`);
+  if (echoed && !echoEvery.has(echoed[1].toLowerCase()))
+    fail(`"${echoed[1]}" repeated within two words`);
   let depth = 0;
   for (const ch of sentence) {
     if (ch === "(") depth++;
@@ -67,9 +104,11 @@ function sentenceProblems(sentence: string): string[] {
     if (depth < 0) break;
   }
   if (depth !== 0) fail("unbalanced parentheses");
-  if ((sentence.match(/“/g) ?? []).length !== (sentence.match(/”/g) ?? []).length) fail("unbalanced quotation marks");
+  if ((sentence.match(/“/g) ?? []).length !== (sentence.match(/”/g) ?? []).length)
+    fail("unbalanced quotation marks");
   if (countInWords.test(sentence)) fail("count in words");
-  if (/\ba (?=[aeiou])(?!one|uni|use)/i.test(sentence) || /\ban (?![aeiou])/i.test(sentence)) fail("a/an");
+  if (/\ba (?=[aeiou])(?!one|uni|use)/i.test(sentence) || /\ban (?![aeiou])/i.test(sentence))
+    fail("a/an");
   // A counted noun agrees with its numeral: "1 region", "2 regions".
   for (const m of sentence.matchAll(countedNoun)) {
     if ((toNumber(m[1]) === 1) !== (m[3] === "")) fail(`"${m[0]}" does not agree`);
@@ -105,15 +144,25 @@ function checkedSentence(sentence: string): string[] {
 function paragraphProblems(text: string): string[] {
   const out = sentencesOf(text).flatMap(checkedSentence);
   if (/ {2}/.test(text)) out.push("double space between sentences");
-  const inWords = new Set([...text.matchAll(new RegExp(`\\b(?:${numberWords})\\s+(${countNouns})`, "gi"))].map((m) => m[1].toLowerCase()));
-  const asNumerals = new Set([...text.matchAll(new RegExp(`\\d (${countNouns})`, "g"))].map((m) => m[1]));
-  for (const noun of inWords) if (asNumerals.has(noun)) out.push(`"${noun}" counted both in words and as a numeral`);
+  const inWords = new Set(
+    [...text.matchAll(new RegExp(`\\b(?:${numberWords})\\s+(${countNouns})`, "gi"))].map((m) =>
+      m[1].toLowerCase(),
+    ),
+  );
+  const asNumerals = new Set(
+    [...text.matchAll(new RegExp(`\\d (${countNouns})`, "g"))].map((m) => m[1]),
+  );
+  for (const noun of inWords)
+    if (asNumerals.has(noun)) out.push(`"${noun}" counted both in words and as a numeral`);
   return out;
 }
 
 describe("the sentence rules catch what they are for", () => {
   it.each([
-    ["Analyses were run; the fit's recipe, which records the data files' SHA-256 hashes, the model, reproduces every number exactly.", "broken clause"],
+    [
+      "Analyses were run; the fit's recipe, which records the data files' SHA-256 hashes, the model, reproduces every number exactly.",
+      "broken clause",
+    ],
     ["p-values were corrected over the 3 regions.", "does not start with a capital letter"],
     ["12 participants were matched.", "starts with a digit"],
     ["The team set aside 1 participants.", "does not agree"],
@@ -121,7 +170,10 @@ describe("the sentence rules catch what they are for", () => {
     ["Of 3 participants, 1 were matched.", "does not agree"],
     ["Of 3 participants, 2 was matched.", "does not agree"],
     ["The regions, 1 participant only in the brain table were not analysed.", "does not agree"],
-    ["Caution: 1 of the 3 regions were analysed with fewer than 20 participants.", "does not agree"],
+    [
+      "Caution: 1 of the 3 regions were analysed with fewer than 20 participants.",
+      "does not agree",
+    ],
     ["The team set aside one participant from 2 regions.", "count in words"],
     ["The p-values were corrected over the the regions.", "doubled word"],
     ["The estimate was computed (Holm 1979.", "unbalanced parentheses"],
@@ -130,19 +182,34 @@ describe("the sentence rules catch what they are for", () => {
     ["All p-values are two-sided", "does not end with a period"],
     ["All p-values are  two-sided.", "double space"],
     ["Identifiers were matched through a identifier mapping.", "a/an"],
-    ["Contrast values were compared between the levels its two levels of “group”.", "repeated within two words"],
+    [
+      "Contrast values were compared between the levels its two levels of “group”.",
+      "repeated within two words",
+    ],
   ])("%s → %s", (sentence, rule) => {
     expect(sentenceProblems(sentence).join("\n")).toContain(rule);
   });
 
   it("a compound subject with 'and' takes a plural verb; '1 of the 3 regions' agrees with the 1", () => {
-    expect(sentenceProblems("Of 5 participants, 3 were matched; 1 participant only in the brain table and 1 duplicated identifier were not analysed.")).toEqual([]);
-    expect(sentenceProblems("Of 5 participants, 4 were matched; 1 participant only in the brain table was not analysed.")).toEqual([]);
-    expect(sentenceProblems("Caution: 1 of the 3 regions was analysed with fewer than 20 participants.")).toEqual([]);
+    expect(
+      sentenceProblems(
+        "Of 5 participants, 3 were matched; 1 participant only in the brain table and 1 duplicated identifier were not analysed.",
+      ),
+    ).toEqual([]);
+    expect(
+      sentenceProblems(
+        "Of 5 participants, 4 were matched; 1 participant only in the brain table was not analysed.",
+      ),
+    ).toEqual([]);
+    expect(
+      sentenceProblems("Caution: 1 of the 3 regions was analysed with fewer than 20 participants."),
+    ).toEqual([]);
   });
 
   it("flags a count noun written both in words and as a numeral in one paragraph", () => {
-    expect(paragraphProblems("One participant was set aside. Of 3 participants, 2 were matched.")).toContain('"participant" counted both in words and as a numeral');
+    expect(
+      paragraphProblems("One participant was set aside. Of 3 participants, 2 were matched."),
+    ).toContain('"participant" counted both in words and as a numeral');
   });
 
   it("lists take the serial comma and 'and' (or 'or') before the last item", () => {
@@ -156,14 +223,20 @@ describe("the sentence rules catch what they are for", () => {
 
 // ─── The combinations ───
 
-type Variant = Pick<ModelSpecInput, "covariates" | "group" | "levels" | "interaction" | "predictor" | "tau2Method" | "smallSample">;
+type Variant = Pick<
+  ModelSpecInput,
+  "covariates" | "group" | "levels" | "interaction" | "predictor" | "tau2Method" | "smallSample"
+>;
 
 /** The model fields besides the enumerated five that a kind can take (every one is tried where valid). */
 function variantsOf(kind: ModelSpec["kind"]): Variant[] {
   const covariateSets = [[], ["age"], ["age", "mean_fd"]];
   const out: Variant[] = [];
   for (const covariates of covariateSets) {
-    for (const weighting of [{ tau2Method: "reml", smallSample: "none" }, { tau2Method: "dl", smallSample: "knapp-hartung" }] as const) {
+    for (const weighting of [
+      { tau2Method: "reml", smallSample: "none" },
+      { tau2Method: "dl", smallSample: "knapp-hartung" },
+    ] as const) {
       if (kind === "one-sample") out.push({ covariates, ...weighting });
       if (kind === "two-group") {
         out.push({ covariates, group: "group", levels: ["patient", "control"], ...weighting });
@@ -172,7 +245,13 @@ function variantsOf(kind: ModelSpec["kind"]): Variant[] {
       if (kind === "association") {
         out.push({ covariates, predictor: "accuracy", ...weighting });
         out.push({ covariates, predictor: "accuracy", group: "group", ...weighting });
-        out.push({ covariates, predictor: "accuracy", group: "group", interaction: true, ...weighting });
+        out.push({
+          covariates,
+          predictor: "accuracy",
+          group: "group",
+          interaction: true,
+          ...weighting,
+        });
       }
       if (kind === "reliability" && covariates.length === 0) out.push({ ...weighting });
     }
@@ -194,16 +273,29 @@ function validCombinations(): Combination[] {
         for (const correction of corrections)
           for (const weights of ["none", "first-level-se"] as const) {
             const specs = variantsOf(kind)
-              .map((v) => modelSpecSchema.parse({ kind, estimator, inference, correction, weights, ...v }))
+              .map((v) =>
+                modelSpecSchema.parse({ kind, estimator, inference, correction, weights, ...v }),
+              )
               .filter((spec) => modelSpecProblems(spec).length === 0);
-            if (specs.length > 0) out.push({ label: `${kind} × ${estimator} × ${inference} × ${correction} × ${weights}`, specs });
+            if (specs.length > 0)
+              out.push({
+                label: `${kind} × ${estimator} × ${inference} × ${correction} × ${weights}`,
+                specs,
+              });
           }
   return out;
 }
 
 const sizes = [1, 2, 3, 4, 5, 6, 7, 8, 9, 12, 1500];
 
-type Shape = "none" | "one from every region" | "one from one region" | "one from two regions" | "several from one region each" | "several from several regions" | "several from every region and some from one";
+type Shape =
+  | "none"
+  | "one from every region"
+  | "one from one region"
+  | "one from two regions"
+  | "several from one region each"
+  | "several from several regions"
+  | "several from every region and some from one";
 
 const shapes: Shape[] = [
   "none",
@@ -215,7 +307,11 @@ const shapes: Shape[] = [
   "several from every region and some from one",
 ];
 
-function setAsidesOf(shape: Shape, n: number, regionNames: readonly string[]): ModelSpec["setAside"] {
+function setAsidesOf(
+  shape: Shape,
+  n: number,
+  regionNames: readonly string[],
+): ModelSpec["setAside"] {
   const reason = "decided before the fit";
   const at = (i: number) => regionNames[i % regionNames.length];
   const several = Math.max(2, Math.min(n, 9));
@@ -232,7 +328,11 @@ function setAsidesOf(shape: Shape, n: number, regionNames: readonly string[]): M
         { participant: "p-1", region: at(1), reason },
       ];
     case "several from one region each":
-      return Array.from({ length: several }, (_, i) => ({ participant: `p-${i + 1}`, region: at(i), reason }));
+      return Array.from({ length: several }, (_, i) => ({
+        participant: `p-${i + 1}`,
+        region: at(i),
+        reason,
+      }));
     case "several from several regions":
       return Array.from({ length: several }, (_, i) => [
         { participant: `p-${i + 1}`, region: at(i), reason },
@@ -241,7 +341,11 @@ function setAsidesOf(shape: Shape, n: number, regionNames: readonly string[]): M
     case "several from every region and some from one":
       return [
         ...Array.from({ length: several }, (_, i) => ({ participant: `all-${i + 1}`, reason })),
-        ...Array.from({ length: several }, (_, i) => ({ participant: `p-${i + 1}`, region: at(i), reason })),
+        ...Array.from({ length: several }, (_, i) => ({
+          participant: `p-${i + 1}`,
+          region: at(i),
+          reason,
+        })),
       ];
   }
 }
@@ -250,8 +354,16 @@ function factorial(n: number): number {
   return n <= 1 ? 1 : n * factorial(n - 1);
 }
 
-const brain = { fileName: "harbor_brain-table.csv", version: 3, sha256: "0123456789abcdef".repeat(4) };
-const sheet = { fileName: "harbor_participants.tsv", version: 2, sha256: "fedcba9876543210".repeat(4) };
+const brain = {
+  fileName: "harbor_brain-table.csv",
+  version: 3,
+  sha256: "0123456789abcdef".repeat(4),
+};
+const sheet = {
+  fileName: "harbor_participants.tsv",
+  version: 2,
+  sha256: "fedcba9876543210".repeat(4),
+};
 
 /** The paragraph's input for one combination, shape and size; `turn` varies everything else from case to case. */
 function inputOf(model: ModelSpec, shape: Shape, n: number, turn: number): MethodsInput {
@@ -262,20 +374,41 @@ function inputOf(model: ModelSpec, shape: Shape, n: number, turn: number): Metho
     const nr = n + (turn % 2 === 0 ? 0 : r % 2);
     const extra: Record<string, unknown> = {};
     if (spec.inference === "permutation") {
-      const distinct = nr > 20 ? Number.POSITIVE_INFINITY : spec.kind === "one-sample" ? 2 ** nr : factorial(nr);
+      const distinct =
+        nr > 20 ? Number.POSITIVE_INFINITY : spec.kind === "one-sample" ? 2 ** nr : factorial(nr);
       const exact = distinct <= spec.resamples && (turn % 3 !== 1 || r === 0);
       extra.permutation = { exact, rearrangements: exact ? distinct : spec.resamples, observed: 1 };
     }
     if (spec.estimator === "rank") {
       const exact = turn % 3 === 0 || (turn % 3 === 1 && r === 0);
-      extra.method = exact ? "Wilcoxon signed-rank test (exact), Hodges–Lehmann pseudomedian" : "Wilcoxon signed-rank test (normal approximation with tie and continuity correction), Hodges–Lehmann pseudomedian";
+      extra.method = exact
+        ? "Wilcoxon signed-rank test (exact), Hodges–Lehmann pseudomedian"
+        : "Wilcoxon signed-rank test (normal approximation with tie and continuity correction), Hodges–Lehmann pseudomedian";
     }
-    return { region, n: nr, estimate: 0.1, se: 0.05, statistic: 2, df: nr - 1, p: 0.05, pAdjusted: 0.1, ciLow: 0, ciHigh: 0.2, ...extra };
+    return {
+      region,
+      n: nr,
+      estimate: 0.1,
+      se: 0.05,
+      statistic: 2,
+      df: nr - 1,
+      p: 0.05,
+      pAdjusted: 0.1,
+      ciLow: 0,
+      ciHigh: 0.2,
+      ...extra,
+    };
   });
   const withSheet = spec.kind === "two-group" || spec.kind === "association" || turn % 2 === 1;
   const unmatched = [0, 1, n][turn % 3];
   return {
-    recipe: { ...spec, setAside: setAsidesOf(shape, n, regionNames), brainTable: brain.fileName, idColumn: "participant_id", softwareVersion: turn % 4 === 3 ? undefined : "1.2.0" },
+    recipe: {
+      ...spec,
+      setAside: setAsidesOf(shape, n, regionNames),
+      brainTable: brain.fileName,
+      idColumn: "participant_id",
+      softwareVersion: turn % 4 === 3 ? undefined : "1.2.0",
+    },
     result: { regions },
     datasets: { brain, participants: withSheet ? sheet : null },
     regionSelection: regionSelections[turn % regionSelections.length],
@@ -301,26 +434,33 @@ describe("methods paragraph: every combination reads as grammatical English", ()
 
   it("enumerates every estimator each kind accepts, with every inference and correction the rules allow", () => {
     for (const kind of modelKinds) {
-      const used = new Set(combinations.filter((c) => c.specs[0].kind === kind).map((c) => c.specs[0].estimator));
+      const used = new Set(
+        combinations.filter((c) => c.specs[0].kind === kind).map((c) => c.specs[0].estimator),
+      );
       expect([...used].sort()).toEqual([...estimatorsByKind[kind]].sort());
     }
-    const seen = (pick: (s: ModelSpec) => string) => new Set(combinations.map((c) => pick(c.specs[0])));
+    const seen = (pick: (s: ModelSpec) => string) =>
+      new Set(combinations.map((c) => pick(c.specs[0])));
     expect(seen((s) => s.inference)).toEqual(new Set(inferences));
     expect(seen((s) => s.correction)).toEqual(new Set(corrections));
     expect(seen((s) => s.weights)).toEqual(new Set(["none", "first-level-se"]));
   });
 
-  it.each(combinations.map((c) => [c.label, c] as const))("%s", (_label, combination) => {
-    const problems = new Set<string>();
-    let turn = 0;
-    for (const shape of shapes)
-      for (const n of sizes) {
-        const spec = combination.specs[turn % combination.specs.length];
-        const out = buildMethodsText(inputOf(spec, shape, n, turn));
-        for (const p of paragraphProblems(out.text)) problems.add(p);
-        turn++;
-      }
-    expect([...problems]).toEqual([]);
-    // 77 paragraphs per combination: a generous time-out for a shared machine (not a timing check).
-  }, 60_000);
+  it.each(combinations.map((c) => [c.label, c] as const))(
+    "%s",
+    (_label, combination) => {
+      const problems = new Set<string>();
+      let turn = 0;
+      for (const shape of shapes)
+        for (const n of sizes) {
+          const spec = combination.specs[turn % combination.specs.length];
+          const out = buildMethodsText(inputOf(spec, shape, n, turn));
+          for (const p of paragraphProblems(out.text)) problems.add(p);
+          turn++;
+        }
+      expect([...problems]).toEqual([]);
+      // 77 paragraphs per combination: a generous time-out for a shared machine (not a timing check).
+    },
+    60_000,
+  );
 });

@@ -4,7 +4,14 @@
  * words the publish panel and the activity trail use.
  */
 import { describe, expect, it } from "vitest";
-import { isSinglePersonSignOff, mayApprove, maySeal, signOffSettingWords, whoMayApprove, whoMaySeal } from "../../../server/model/sign-off";
+import {
+  isSinglePersonSignOff,
+  mayApprove,
+  maySeal,
+  signOffSettingWords,
+  whoMayApprove,
+  whoMaySeal,
+} from "../../../server/model/sign-off";
 
 const tomas = { id: "u-tomas", name: "Tomas Ferreira" };
 const maren = { id: "u-maren", name: "Maren Lindqvist" };
@@ -34,9 +41,13 @@ describe("the rule", () => {
 
 describe("words", () => {
   it("who may approve next names the starter while the setting is on, or 'you' to the starter", () => {
-    expect(whoMayApprove(true, tomas, maren.id)).toBe("a Reviewer or Owner other than Tomas Ferreira");
+    expect(whoMayApprove(true, tomas, maren.id)).toBe(
+      "a Reviewer or Owner other than Tomas Ferreira",
+    );
     expect(whoMayApprove(true, tomas, tomas.id)).toBe("a Reviewer or Owner other than you");
-    expect(whoMayApprove(true, { id: "u-x", name: null }, null)).toBe("a Reviewer or Owner other than the person who started it");
+    expect(whoMayApprove(true, { id: "u-x", name: null }, null)).toBe(
+      "a Reviewer or Owner other than the person who started it",
+    );
     expect(whoMayApprove(false, tomas, tomas.id)).toBe("a Reviewer or Owner");
   });
 

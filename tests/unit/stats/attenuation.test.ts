@@ -7,7 +7,12 @@ const Z975 = 1.959963984540054;
 
 describe("correctForAttenuation", () => {
   it("divides r and its Fisher z interval by √(rel_brain · rel_trait)", () => {
-    const r = correctForAttenuation({ r: 0.3, n: 100, reliabilityBrain: 0.7, reliabilityTrait: 0.8 });
+    const r = correctForAttenuation({
+      r: 0.3,
+      n: 100,
+      reliabilityBrain: 0.7,
+      reliabilityTrait: 0.8,
+    });
     const ceiling = Math.sqrt(0.56);
     expect(r.ceiling).toBeCloseTo(ceiling, 15); // (exact algebra: √(.7 × .8))
     expect(r.corrected).toBeCloseTo(0.3 / ceiling, 15); // (exact algebra: Spearman 1904)
@@ -30,7 +35,12 @@ describe("correctForAttenuation", () => {
 
   it("warns and clips the interval when the corrected value exceeds 1", () => {
     // Task-imaging reliability near the published mean ICC of .40 (Elliott et al. 2020) with a trait of reliability .8.
-    const r = correctForAttenuation({ r: 0.62, n: 30, reliabilityBrain: 0.4, reliabilityTrait: 0.8 });
+    const r = correctForAttenuation({
+      r: 0.62,
+      n: 30,
+      reliabilityBrain: 0.4,
+      reliabilityTrait: 0.8,
+    });
     expect(r.ceiling).toBeCloseTo(Math.sqrt(0.32), 15); // (exact algebra)
     expect(r.corrected).toBeCloseTo(0.62 / Math.sqrt(0.32), 15); // (exact algebra: 1.096, not clipped)
     expect(r.corrected).toBeGreaterThan(1);
@@ -39,19 +49,30 @@ describe("correctForAttenuation", () => {
   });
 
   it("warns when the observed correlation is near the ceiling", () => {
-    const r = correctForAttenuation({ r: -0.5, n: 200, reliabilityBrain: 0.6, reliabilityTrait: 0.5 });
+    const r = correctForAttenuation({
+      r: -0.5,
+      n: 200,
+      reliabilityBrain: 0.6,
+      reliabilityTrait: 0.5,
+    });
     expect(Math.abs(r.corrected)).toBeLessThanOrEqual(1);
     expect(r.caution).toMatch(/close to the largest value/);
   });
 
   it("names the field that is out of range", () => {
-    expect(() => correctForAttenuation({ r: 1, n: 30, reliabilityBrain: 0.5, reliabilityTrait: 0.5 })).toThrow(StatsError);
-    expect(() => correctForAttenuation({ r: 0.2, n: 3, reliabilityBrain: 0.5, reliabilityTrait: 0.5 })).toThrow(
-      "correctForAttenuation requires n of at least 4 participants (got 3)",
-    );
-    expect(() => correctForAttenuation({ r: 0.2, n: 30, reliabilityBrain: 0, reliabilityTrait: 0.5 })).toThrow(
+    expect(() =>
+      correctForAttenuation({ r: 1, n: 30, reliabilityBrain: 0.5, reliabilityTrait: 0.5 }),
+    ).toThrow(StatsError);
+    expect(() =>
+      correctForAttenuation({ r: 0.2, n: 3, reliabilityBrain: 0.5, reliabilityTrait: 0.5 }),
+    ).toThrow("correctForAttenuation requires n of at least 4 participants (got 3)");
+    expect(() =>
+      correctForAttenuation({ r: 0.2, n: 30, reliabilityBrain: 0, reliabilityTrait: 0.5 }),
+    ).toThrow(
       "correctForAttenuation requires reliabilityBrain greater than 0 and at most 1 (got 0)",
     );
-    expect(() => correctForAttenuation({ r: 0.2, n: 30, reliabilityBrain: 0.5, reliabilityTrait: 1.2 })).toThrow("reliabilityTrait");
+    expect(() =>
+      correctForAttenuation({ r: 0.2, n: 30, reliabilityBrain: 0.5, reliabilityTrait: 1.2 }),
+    ).toThrow("reliabilityTrait");
   });
 });

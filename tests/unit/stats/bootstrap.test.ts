@@ -31,9 +31,16 @@ describe("bootstrapInterval against the ideal bootstrap of a mean", () => {
     ideal.set(s / 4, (ideal.get(s / 4) ?? 0) + 1 / 256);
   }
   const atoms = [...ideal.keys()].sort((a, b) => a - b);
-  const idealCdf = (v: number) => atoms.filter((a) => a <= v).reduce((s, a) => s + (ideal.get(a) ?? 0), 0);
+  const idealCdf = (v: number) =>
+    atoms.filter((a) => a <= v).reduce((s, a) => s + (ideal.get(a) ?? 0), 0);
 
-  const result = bootstrapInterval({ n: 4, statistic: meanOf(x), resamples: 20000, rng: createRng(2024), method: "percentile" });
+  const result = bootstrapInterval({
+    n: 4,
+    statistic: meanOf(x),
+    resamples: 20000,
+    rng: createRng(2024),
+    method: "percentile",
+  });
 
   it("draws replicates from the ideal distribution (Kolmogorov distance within the DKW bound)", () => {
     expect(result.distribution.length).toBe(20000);
@@ -71,7 +78,14 @@ describe("bootstrapInterval against the ideal bootstrap of a mean", () => {
 describe("bootstrapInterval BCa algebra", () => {
   const x = [0.8, 1.1, 1.3, 1.9, 2.2, 2.4, 3.1, 3.9, 5.6, 9.8, 14.5, 0.5];
   const n = x.length;
-  const result = bootstrapInterval({ n, statistic: meanOf(x), resamples: 4000, rng: createRng(77), method: "bca", level: 0.9 });
+  const result = bootstrapInterval({
+    n,
+    statistic: meanOf(x),
+    resamples: 4000,
+    rng: createRng(77),
+    method: "bca",
+    level: 0.9,
+  });
 
   it("uses the jackknife acceleration of the mean, Σ(x − x̄)³ / (6·[Σ(x − x̄)²]^{3/2})", () => {
     // For the mean, θ̄ − θ₍ᵢ₎ = (xᵢ − x̄)/(n − 1), so â reduces to this closed form
@@ -95,7 +109,14 @@ describe("bootstrapInterval BCa algebra", () => {
     expect(result.ciHigh).toBeCloseTo(quantile7(sorted, level(normalQuantile(0.95))), 12);
     // Right skew moves the BCa interval to the right of the percentile interval
     // (Efron & Tibshirani 1993, §14.3; common practice, no source for the size).
-    const percentile = bootstrapInterval({ n, statistic: meanOf(x), resamples: 4000, rng: createRng(77), method: "percentile", level: 0.9 });
+    const percentile = bootstrapInterval({
+      n,
+      statistic: meanOf(x),
+      resamples: 4000,
+      rng: createRng(77),
+      method: "percentile",
+      level: 0.9,
+    });
     expect(Array.from(percentile.distribution)).toEqual(Array.from(result.distribution));
     expect(percentile.ciLow).toBeCloseTo(quantile7(sorted, 0.05), 12); // (Hyndman & Fan 1996, definition 7)
     expect(percentile.ciHigh).toBeCloseTo(quantile7(sorted, 0.95), 12);
@@ -107,7 +128,9 @@ describe("bootstrapInterval BCa algebra", () => {
 describe("bootstrapInterval on the law-school correlation", () => {
   // LSAT and GPA of 15 law schools (Efron & Tibshirani 1993, Table 3.1; values from memory).
   const lsat = [576, 635, 558, 578, 666, 580, 555, 661, 651, 605, 653, 575, 545, 572, 594];
-  const gpa = [3.39, 3.3, 2.81, 3.03, 3.44, 3.07, 3.0, 3.43, 3.36, 3.13, 3.12, 2.74, 2.76, 2.88, 2.96];
+  const gpa = [
+    3.39, 3.3, 2.81, 3.03, 3.44, 3.07, 3.0, 3.43, 3.36, 3.13, 3.12, 2.74, 2.76, 2.88, 2.96,
+  ];
   const correlation = (indices: Int32Array) => {
     const k = indices.length;
     let mx = 0;
@@ -128,7 +151,13 @@ describe("bootstrapInterval on the law-school correlation", () => {
   };
 
   it("gives r = .776 and a bootstrap standard error near .13", () => {
-    const result = bootstrapInterval({ n: 15, statistic: correlation, resamples: 3200, rng: createRng(3200), method: "bca" });
+    const result = bootstrapInterval({
+      n: 15,
+      statistic: correlation,
+      resamples: 3200,
+      rng: createRng(3200),
+      method: "bca",
+    });
     expect(result.estimate).toBeCloseTo(0.776, 3); // (Efron & Tibshirani 1993, ch. 3; value from memory)
     // se ≈ .132 with B = 3200 (Efron & Tibshirani 1993, Table 6.1; value from memory); Monte Carlo and memory tolerance ±.02
     expect(Math.abs(result.se - 0.132)).toBeLessThan(0.02);
@@ -143,8 +172,15 @@ describe("bootstrapInterval non-finite replicates and preconditions", () => {
 
   it("leaves out non-finite replicates and counts them", () => {
     // The statistic is undefined whenever the first two draws coincide (probability 1/20).
-    const statistic = (indices: Int32Array) => (indices[0] === indices[1] ? Number.POSITIVE_INFINITY : meanOf(x)(indices));
-    const result = bootstrapInterval({ n: 20, statistic, resamples: 2000, rng: createRng(8), method: "bca" });
+    const statistic = (indices: Int32Array) =>
+      indices[0] === indices[1] ? Number.POSITIVE_INFINITY : meanOf(x)(indices);
+    const result = bootstrapInterval({
+      n: 20,
+      statistic,
+      resamples: 2000,
+      rng: createRng(8),
+      method: "bca",
+    });
     expect(result.discarded).toBeGreaterThan(50); // ≈ 100 expected (binomial 2000 × 1/20)
     expect(result.discarded).toBeLessThan(160);
     expect(result.distribution.length).toBe(2000 - result.discarded);
@@ -153,21 +189,42 @@ describe("bootstrapInterval non-finite replicates and preconditions", () => {
 
   it("refuses when more than 10% of replicates are not finite", () => {
     const y = x.slice(0, 5);
-    const statistic = (indices: Int32Array) => (indices[0] === indices[1] ? Number.NaN : meanOf(y)(indices));
-    expect(() => bootstrapInterval({ n: 5, statistic, resamples: 1000, rng: createRng(8), method: "percentile" })).toThrow(
-      /finite statistic on at least 90% of resamples/,
-    );
+    const statistic = (indices: Int32Array) =>
+      indices[0] === indices[1] ? Number.NaN : meanOf(y)(indices);
+    expect(() =>
+      bootstrapInterval({
+        n: 5,
+        statistic,
+        resamples: 1000,
+        rng: createRng(8),
+        method: "percentile",
+      }),
+    ).toThrow(/finite statistic on at least 90% of resamples/);
   });
 
   it("rejects bad input with a StatsError naming the field", () => {
-    const ok = { n: 5, statistic: meanOf([1, 2, 3, 4, 5]), resamples: 100, rng: createRng(1), method: "percentile" as const };
+    const ok = {
+      n: 5,
+      statistic: meanOf([1, 2, 3, 4, 5]),
+      resamples: 100,
+      rng: createRng(1),
+      method: "percentile" as const,
+    };
     expect(() => bootstrapInterval({ ...ok, n: 1 })).toThrow(/at least 2 units/);
     expect(() => bootstrapInterval({ ...ok, n: 2, method: "bca" })).toThrow(/at least 3 units/);
-    expect(() => bootstrapInterval({ ...ok, resamples: 1 })).toThrow(/resamples to be an integer of at least 2/);
+    expect(() => bootstrapInterval({ ...ok, resamples: 1 })).toThrow(
+      /resamples to be an integer of at least 2/,
+    );
     expect(() => bootstrapInterval({ ...ok, level: 1 })).toThrow(/0 < level < 1/);
-    expect(() => bootstrapInterval({ ...ok, statistic: () => Number.NaN })).toThrow(/finite estimate/);
+    expect(() => bootstrapInterval({ ...ok, statistic: () => Number.NaN })).toThrow(
+      /finite estimate/,
+    );
     expect(() =>
-      bootstrapInterval({ ...ok, method: "bca", statistic: (ix) => (ix.length === 4 && ix[0] === 1 ? Number.NaN : 1 + ix.length) }),
+      bootstrapInterval({
+        ...ok,
+        method: "bca",
+        statistic: (ix) => (ix.length === 4 && ix[0] === 1 ? Number.NaN : 1 + ix.length),
+      }),
     ).toThrow(StatsError);
     // A constant statistic has no spread for BCa's bias correction.
     expect(() => bootstrapInterval({ ...ok, method: "bca", statistic: () => 3 })).not.toThrow();

@@ -1,12 +1,20 @@
 import { sampleCorrelation } from "simple-statistics";
 import { describe, expect, it } from "vitest";
-import { compareIndependentCorrelations, correlationWithAndWithout, leaveOneOutCorrelations } from "../../../server/stats/compare-correlations";
+import {
+  compareIndependentCorrelations,
+  correlationWithAndWithout,
+  leaveOneOutCorrelations,
+} from "../../../server/stats/compare-correlations";
 import { correlationP, pearsonCorrelation } from "../../../server/stats/correlation";
 import { idealFourths } from "../../../server/stats/descriptive";
 import { normalCdf, normalQuantile } from "../../../server/stats/distributions";
 import { spearmanDistribution } from "../../../server/stats/exact-rank-distributions";
 import { kendallTauB } from "../../../server/stats/kendall";
-import { percentageBendCorrelation, projectionOutliers, skippedCorrelation } from "../../../server/stats/robust-correlation";
+import {
+  percentageBendCorrelation,
+  projectionOutliers,
+  skippedCorrelation,
+} from "../../../server/stats/robust-correlation";
 import { SPEARMAN_EXACT_MAX_N, spearmanCorrelation } from "../../../server/stats/spearman";
 import { anscombeX1, anscombeY1, permutations } from "./reference-data";
 
@@ -150,7 +158,10 @@ describe("comparing and probing correlations", () => {
     const w = correlationWithAndWithout(anscombeX1, anscombeY1, [2]);
     expect(w.without?.n).toBe(10);
     expect(w.without?.r).toBeCloseTo(
-      sampleCorrelation(anscombeX1.filter((_, k) => k !== 2), anscombeY1.filter((_, k) => k !== 2)),
+      sampleCorrelation(
+        anscombeX1.filter((_, k) => k !== 2),
+        anscombeY1.filter((_, k) => k !== 2),
+      ),
       12,
     );
   });

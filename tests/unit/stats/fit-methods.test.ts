@@ -6,7 +6,10 @@ import { createRng } from "../../../server/stats/rng";
 import { runFit } from "../../../server/stats/run-fit";
 
 /** Invented data from a seeded generator (not a reference data set). */
-function makeData(n: number, seed: number): FitData & { age: number[]; score: number[]; group: string[] } {
+function makeData(
+  n: number,
+  seed: number,
+): FitData & { age: number[]; score: number[]; group: string[] } {
   const rng = createRng(seed);
   const normal = () => {
     let s = 0;
@@ -17,7 +20,14 @@ function makeData(n: number, seed: number): FitData & { age: number[]; score: nu
   const age = participants.map(() => 20 + rng.int(45) + rng.next());
   const score = participants.map(() => rng.next() * 30);
   const group = participants.map((_, i) => (i % 5 < 2 ? "patient" : "control"));
-  const y = Float64Array.from(participants, (_, i) => 0.05 * age[i] + (group[i] === "patient" ? 0.8 : 0) + 0.02 * score[i] * (group[i] === "patient" ? 2 : 1) + normal());
+  const y = Float64Array.from(
+    participants,
+    (_, i) =>
+      0.05 * age[i] +
+      (group[i] === "patient" ? 0.8 : 0) +
+      0.02 * score[i] * (group[i] === "patient" ? 2 : 1) +
+      normal(),
+  );
   return {
     participants,
     regions: ["anterior cingulate"],
@@ -51,7 +61,15 @@ describe("covariate-adjusted group difference (ANCOVA)", () => {
     // (Snedecor & Cochran 1989, "Statistical Methods", §18.3: adjusted difference, exact algebra)
     const bw = (sxy(xa, ya) + sxy(xb, yb)) / (sxy(xa, xa) + sxy(xb, xb));
     const adjusted = meanOf(ya) - meanOf(yb) - bw * (meanOf(xa) - meanOf(xb));
-    const r = runFit(spec({ kind: "two-group", group: "group", levels: ["patient", "control"], covariates: ["age"] }), d).regions[0];
+    const r = runFit(
+      spec({
+        kind: "two-group",
+        group: "group",
+        levels: ["patient", "control"],
+        covariates: ["age"],
+      }),
+      d,
+    ).regions[0];
     expect(r.estimate).toBeCloseTo(adjusted, 10);
     expect(r.df).toBe(27);
     expect(r.method).toContain("ANCOVA");
@@ -68,8 +86,18 @@ describe("group × trait interaction", () => {
       return sxy(xs, ys) / sxy(xs, xs);
     };
     // full interaction without other covariates = separate regressions per group (exact algebra)
-    const expected = slope((i) => d.group[i] === "patient") - slope((i) => d.group[i] !== "patient");
-    const r = runFit(spec({ kind: "association", predictor: "score", group: "group", levels: ["patient", "control"], interaction: true }), d).regions[0];
+    const expected =
+      slope((i) => d.group[i] === "patient") - slope((i) => d.group[i] !== "patient");
+    const r = runFit(
+      spec({
+        kind: "association",
+        predictor: "score",
+        group: "group",
+        levels: ["patient", "control"],
+        interaction: true,
+      }),
+      d,
+    ).regions[0];
     expect(r.estimate).toBeCloseTo(expected, 10);
   });
 });
@@ -83,7 +111,10 @@ describe("partial Spearman correlation", () => {
     const ryz = sampleRankCorrelation(y, d.age);
     // r_xy·z = (r_xy − r_xz r_yz)/√((1 − r_xz²)(1 − r_yz²)) (Yule's partial correlation formula, exact algebra)
     const partial = (rxy - rxz * ryz) / Math.sqrt((1 - rxz * rxz) * (1 - ryz * ryz));
-    const r = runFit(spec({ kind: "association", predictor: "score", covariates: ["age"], estimator: "rank" }), d).regions[0];
+    const r = runFit(
+      spec({ kind: "association", predictor: "score", covariates: ["age"], estimator: "rank" }),
+      d,
+    ).regions[0];
     expect(r.estimate).toBeCloseTo(partial, 10);
     expect(r.df).toBe(22);
   });
@@ -111,7 +142,10 @@ describe("robust estimators through the fit", () => {
     const d = makeData(20, 8);
     const values = Float64Array.from(d.values[0]);
     values[3] = 60;
-    const r = runFit(spec({ kind: "association", predictor: "age", estimator: "skipped" }), { ...d, values: [values] }).regions[0];
+    const r = runFit(spec({ kind: "association", predictor: "age", estimator: "skipped" }), {
+      ...d,
+      values: [values],
+    }).regions[0];
     expect(r.projectionOutliers).toContain("sub-04");
     expect(r.nKept as number).toBeLessThan(20);
   });

@@ -18,12 +18,20 @@ describe("flag cut-offs", () => {
     const t = flagThresholds(d.n, d.p);
     expect(dg.thresholds).toEqual(t); // (same module, same values)
     for (const row of dg.rows) {
-      expect(row.flags.includes("influence")).toBe(row.cooksDistance !== null && row.cooksDistance > t.cooksDistance);
+      expect(row.flags.includes("influence")).toBe(
+        row.cooksDistance !== null && row.cooksDistance > t.cooksDistance,
+      );
       expect(row.flags.includes("leverage")).toBe(row.leverage > t.leverage);
-      expect(row.flags.includes("outlier")).toBe(row.externalStudentized !== null && t.outlierT !== null && Math.abs(row.externalStudentized) > t.outlierT);
+      expect(row.flags.includes("outlier")).toBe(
+        row.externalStudentized !== null &&
+          t.outlierT !== null &&
+          Math.abs(row.externalStudentized) > t.outlierT,
+      );
     }
     // speed and stopping distance (n = 50): Cook's distance of rows 23 and 49 is about 0.0856 and 0.340, the only ones above 4/n = 0.08 (value from memory)
-    expect(dg.rows.flatMap((r, i) => (r.flags.includes("influence") ? [i + 1] : []))).toEqual([23, 49]);
+    expect(dg.rows.flatMap((r, i) => (r.flags.includes("influence") ? [i + 1] : []))).toEqual([
+      23, 49,
+    ]);
     expect(dg.rows[48].cooksDistance).toBeCloseTo(0.3404, 3); // (value from memory)
   });
 });

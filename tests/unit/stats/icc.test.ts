@@ -3,7 +3,6 @@ import { StatsError } from "../../../server/stats/errors";
 import { intraclassCorrelations } from "../../../server/stats/icc";
 import { SHROUT_FLEISS } from "./reference-data";
 
-
 const stepUp = (r: number, k: number) => (k * r) / (1 + (k - 1) * r);
 
 describe("intraclassCorrelations on the Shrout & Fleiss example", () => {
@@ -108,8 +107,12 @@ describe("intraclassCorrelations when sessions disagree more than participants d
 
 describe("intraclassCorrelations preconditions", () => {
   it("needs two sessions and two participants", () => {
-    expect(() => intraclassCorrelations([[1], [2], [3]])).toThrow("intraclassCorrelations requires at least two sessions (got 1)");
-    expect(() => intraclassCorrelations([[1, 2]])).toThrow("intraclassCorrelations requires at least two participants (got 1)");
+    expect(() => intraclassCorrelations([[1], [2], [3]])).toThrow(
+      "intraclassCorrelations requires at least two sessions (got 1)",
+    );
+    expect(() => intraclassCorrelations([[1, 2]])).toThrow(
+      "intraclassCorrelations requires at least two participants (got 1)",
+    );
   });
 
   it("names the missing cell", () => {

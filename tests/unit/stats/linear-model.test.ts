@@ -3,7 +3,16 @@ import { buildDesign, treatmentCoding } from "../../../server/stats/design-matri
 import { regressionDiagnostics } from "../../../server/stats/diagnostics";
 import { StatsError } from "../../../server/stats/errors";
 import { fitLinearModel, unscaledCovariance } from "../../../server/stats/linear-model";
-import { anscombeX1, anscombeX4, anscombeY1, anscombeY4, carsDist, carsSpeed, stackloss, withIntercept } from "./reference-data";
+import {
+  anscombeX1,
+  anscombeX4,
+  anscombeY1,
+  anscombeY4,
+  carsDist,
+  carsSpeed,
+  stackloss,
+  withIntercept,
+} from "./reference-data";
 
 describe("least squares by Householder QR", () => {
   it("cars: R's lm(dist ~ speed, cars)", () => {
@@ -31,7 +40,12 @@ describe("least squares by Householder QR", () => {
       stackloss.map((r) => r[1]),
       stackloss.map((r) => r[2]),
     );
-    const f = fitLinearModel(x, n, p, stackloss.map((r) => r[3]));
+    const f = fitLinearModel(
+      x,
+      n,
+      p,
+      stackloss.map((r) => r[3]),
+    );
     expect(f.coefficients[0]).toBeCloseTo(-39.9197, 4); // (R lm(stack.loss ~ ., stackloss); value from memory)
     expect(f.coefficients[1]).toBeCloseTo(0.7156, 4); // (same)
     expect(f.coefficients[2]).toBeCloseTo(1.2953, 4); // (same)
@@ -39,7 +53,10 @@ describe("least squares by Householder QR", () => {
     expect(f.sigma).toBeCloseTo(3.243, 3); // (R: residual standard error 3.243 on 17 df, printed in MASS examples)
   });
   it("fitted values are the projection: residuals orthogonal to every column (exact algebra)", () => {
-    const { x, n, p } = withIntercept(carsSpeed, carsSpeed.map((s) => s * s));
+    const { x, n, p } = withIntercept(
+      carsSpeed,
+      carsSpeed.map((s) => s * s),
+    );
     const f = fitLinearModel(x, n, p, carsDist);
     for (let j = 0; j < p; j++) {
       let dot = 0;
@@ -48,8 +65,13 @@ describe("least squares by Householder QR", () => {
     }
   });
   it("names the collinear column", () => {
-    const { x, n, p } = withIntercept(carsSpeed, carsSpeed.map((s) => 2 * s + 1));
-    expect(() => fitLinearModel(x, n, p, carsDist, ["(intercept)", "speed", "double speed"])).toThrow(
+    const { x, n, p } = withIntercept(
+      carsSpeed,
+      carsSpeed.map((s) => 2 * s + 1),
+    );
+    expect(() =>
+      fitLinearModel(x, n, p, carsDist, ["(intercept)", "speed", "double speed"]),
+    ).toThrow(
       "the design is rank deficient: column 'double speed' is a linear combination of the columns before it",
     );
   });
@@ -108,22 +130,32 @@ describe("regression diagnostics", () => {
       let num = 0;
       for (let r = 0; r < n; r++) {
         let dv = 0;
-        for (let j = 0; j < p; j++) dv += x[r * p + j] * (full.coefficients[j] - del.coefficients[j]);
+        for (let j = 0; j < p; j++)
+          dv += x[r * p + j] * (full.coefficients[j] - del.coefficients[j]);
         num += dv * dv;
       }
       expect(diag.rows[i].cooksDistance).toBeCloseTo(num / (p * s * s), 10);
       // externally studentized: e_i / (s_(i) √(1 − h_i)) with s_(i) from the deleted fit (exact deletion)
       const sDel = del.sigma as number;
       const h = full.qr.hat[i];
-      expect(diag.rows[i].externalStudentized).toBeCloseTo(full.residuals[i] / (sDel * Math.sqrt(1 - h)), 10);
+      expect(diag.rows[i].externalStudentized).toBeCloseTo(
+        full.residuals[i] / (sDel * Math.sqrt(1 - h)),
+        10,
+      );
       // DFFITS: (ŷ_i − ŷ_i(i)) / (s_(i) √h_i)
       let predDel = 0;
       for (let j = 0; j < p; j++) predDel += x[i * p + j] * del.coefficients[j];
-      expect(diag.rows[i].dffits).toBeCloseTo((full.fitted[i] - predDel) / (sDel * Math.sqrt(h)), 10);
+      expect(diag.rows[i].dffits).toBeCloseTo(
+        (full.fitted[i] - predDel) / (sDel * Math.sqrt(h)),
+        10,
+      );
       // DFBETAS: (b_j − b_j(i)) / (s_(i) √[(XᵀX)⁻¹]_jj)
       const c = unscaledCovariance(full.qr);
       for (let j = 0; j < p; j++) {
-        expect((diag.rows[i].dfbetas as number[])[j]).toBeCloseTo((full.coefficients[j] - del.coefficients[j]) / (sDel * Math.sqrt(c[j * p + j])), 10);
+        expect((diag.rows[i].dfbetas as number[])[j]).toBeCloseTo(
+          (full.coefficients[j] - del.coefficients[j]) / (sDel * Math.sqrt(c[j * p + j])),
+          10,
+        );
       }
     }
   });

@@ -52,8 +52,14 @@ function regionModel(
   complete: (i: number) => boolean = () => true,
 ): RegionModel {
   const rows: number[] = [];
-  for (let i = 0; i < data.participants.length; i++) if (Number.isFinite(data.values[r][i]) && complete(i)) rows.push(i);
-  return { rows, x: rows.map((i) => design(i, rows)), tested, y: rows.map((i) => data.values[r][i]) };
+  for (let i = 0; i < data.participants.length; i++)
+    if (Number.isFinite(data.values[r][i]) && complete(i)) rows.push(i);
+  return {
+    rows,
+    x: rows.map((i) => design(i, rows)),
+    tested,
+    y: rows.map((i) => data.values[r][i]),
+  };
 }
 
 /** The reduced model's fit (the design without the tested column) by plain least squares. */
@@ -98,7 +104,12 @@ function countAll(
       if (max >= threshold) family[r]++;
     });
   }
-  return { p: own.map((c) => c / total), pAdjusted: family.map((c) => c / total), observed, count: total };
+  return {
+    p: own.map((c) => c / total),
+    pAdjusted: family.map((c) => c / total),
+    observed,
+    count: total,
+  };
 }
 
 /** Freedman–Lane over every order σ of n participants. */
@@ -127,7 +138,9 @@ function enumerateSigns(models: RegionModel[], n: number): Enumerated {
     models,
     (m, k) => {
       const r = models.indexOf(m);
-      const ystar = m.rows.map((i, j) => reduced[r].fitted[j] + all[k][i] * reduced[r].residuals[j]);
+      const ystar = m.rows.map(
+        (i, j) => reduced[r].fitted[j] + all[k][i] * reduced[r].residuals[j],
+      );
       return leastSquaresT(m, ystar);
     },
     all.length,
@@ -138,7 +151,11 @@ function runModel(input: ModelSpecInput, data: FitData) {
   return runFit(modelSpecSchema.parse(input), data);
 }
 
-function expectExactly(result: ReturnType<typeof runModel>, expected: Enumerated, ns: number[]): void {
+function expectExactly(
+  result: ReturnType<typeof runModel>,
+  expected: Enumerated,
+  ns: number[],
+): void {
   result.regions.forEach((region, r) => {
     expect(region.n).toBe(ns[r]);
     expect(region.p).toBe(expected.p[r]); // (full enumeration above)
@@ -174,13 +191,35 @@ describe("max-T with empty cells, sign flips (one-sample with a covariate), agai
   const expected = enumerateSigns(models, 9);
 
   it("p and max-T adjusted p equal the enumeration exactly", () => {
-    const result = runModel({ kind: "one-sample", covariates: ["motion"], inference: "permutation", resamples: 1000, correction: "maxt", seed: 4 }, data);
+    const result = runModel(
+      {
+        kind: "one-sample",
+        covariates: ["motion"],
+        inference: "permutation",
+        resamples: 1000,
+        correction: "maxt",
+        seed: 4,
+      },
+      data,
+    );
     expectExactly(result, expected, [9, 8, 7, 8]);
-    expect(result.regions.map((r) => r.pAdjusted).every((v, r) => v >= result.regions[r].p)).toBe(true);
+    expect(result.regions.map((r) => r.pAdjusted).every((v, r) => v >= result.regions[r].p)).toBe(
+      true,
+    );
   });
 
   it("without max-T the regions' own p follow the same draws", () => {
-    const result = runModel({ kind: "one-sample", covariates: ["motion"], inference: "permutation", resamples: 1000, correction: "none", seed: 4 }, data);
+    const result = runModel(
+      {
+        kind: "one-sample",
+        covariates: ["motion"],
+        inference: "permutation",
+        resamples: 1000,
+        correction: "none",
+        seed: 4,
+      },
+      data,
+    );
     result.regions.forEach((region, r) => {
       expect(region.p).toBe(expected.p[r]); // (full enumeration above)
     });
@@ -191,11 +230,24 @@ describe("max-T with empty cells, two groups of unequal size, against all 7! ord
   // Patients are participants 0, 3 and 6; region 2 lacks patient 0 and control 5 (2 patients, 3 controls there).
   const data = withEmptyCells(permutationData(7, 22), emptyCells);
   const group = data.categoricalColumns.group;
-  const models = data.regions.map((_, r) => regionModel(data, r, (i) => [1, group[i] === "patient" ? 1 : 0], 1));
+  const models = data.regions.map((_, r) =>
+    regionModel(data, r, (i) => [1, group[i] === "patient" ? 1 : 0], 1),
+  );
 
   it("least squares (label permutation as Freedman–Lane without covariates): p and adjusted p exactly", () => {
     const expected = enumerateOrders(models, 7);
-    const result = runModel({ kind: "two-group", group: "group", levels: ["patient", "control"], inference: "permutation", resamples: 6000, correction: "maxt", seed: 5 }, data);
+    const result = runModel(
+      {
+        kind: "two-group",
+        group: "group",
+        levels: ["patient", "control"],
+        inference: "permutation",
+        resamples: 6000,
+        correction: "maxt",
+        seed: 5,
+      },
+      data,
+    );
     expectExactly(result, expected, [7, 6, 5, 6]);
   });
 
@@ -220,7 +272,16 @@ describe("max-T with empty cells, two groups of unequal size, against all 7! ord
       welch,
     );
     const result = runModel(
-      { kind: "two-group", group: "group", levels: ["patient", "control"], estimator: "welch", inference: "permutation", resamples: 6000, correction: "maxt", seed: 5 },
+      {
+        kind: "two-group",
+        group: "group",
+        levels: ["patient", "control"],
+        estimator: "welch",
+        inference: "permutation",
+        resamples: 6000,
+        correction: "maxt",
+        seed: 5,
+      },
       data,
     );
     expectExactly(result, expected, [7, 6, 5, 6]);
@@ -235,7 +296,18 @@ describe("max-T with empty cells, Freedman–Lane with a covariate, against all 
   const expected = enumerateOrders(models, 7);
 
   it("p and max-T adjusted p equal the enumeration exactly", () => {
-    const result = runModel({ kind: "association", predictor: "age", covariates: ["motion"], inference: "permutation", resamples: 5040, correction: "maxt", seed: 6 }, data);
+    const result = runModel(
+      {
+        kind: "association",
+        predictor: "age",
+        covariates: ["motion"],
+        inference: "permutation",
+        resamples: 5040,
+        correction: "maxt",
+        seed: 6,
+      },
+      data,
+    );
     expectExactly(result, expected, [7, 6, 5, 6]);
   });
 
@@ -246,9 +318,23 @@ describe("max-T with empty cells, Freedman–Lane with a covariate, against all 
       regions: data.regions,
       values: data.values.map((v) => Float64Array.from([...v, 0.5])),
       numericColumns: { age: [...age, 30], motion: [...motion, null] },
-      categoricalColumns: { group: [...(data.categoricalColumns.group as string[]), "control"], sex: [...(data.categoricalColumns.sex as string[]), "F"] },
+      categoricalColumns: {
+        group: [...(data.categoricalColumns.group as string[]), "control"],
+        sex: [...(data.categoricalColumns.sex as string[]), "F"],
+      },
     };
-    const result = runModel({ kind: "association", predictor: "age", covariates: ["motion"], inference: "permutation", resamples: 5040, correction: "maxt", seed: 6 }, withGap);
+    const result = runModel(
+      {
+        kind: "association",
+        predictor: "age",
+        covariates: ["motion"],
+        inference: "permutation",
+        resamples: 5040,
+        correction: "maxt",
+        seed: 6,
+      },
+      withGap,
+    );
     expectExactly(result, expected, [7, 6, 5, 6]);
   });
 });
@@ -266,7 +352,15 @@ describe("max-T with empty cells, Monte Carlo", () => {
   const age = data.numericColumns.age as number[];
   const motion = data.numericColumns.motion as number[];
   const models = data.regions.map((_, r) => regionModel(data, r, (i) => [1, age[i], motion[i]], 1));
-  const spec: ModelSpecInput = { kind: "association", predictor: "age", covariates: ["motion"], inference: "permutation", resamples: 300, correction: "maxt", seed: 8 };
+  const spec: ModelSpecInput = {
+    kind: "association",
+    predictor: "age",
+    covariates: ["motion"],
+    inference: "permutation",
+    resamples: 300,
+    correction: "maxt",
+    seed: 8,
+  };
 
   it("follows the documented draw: σ is the inverse of the seeded walk's order, and (b + 1)/(m + 1)", () => {
     // The sequence of orders comes from the engine's documented walk; the rule and the refits are this file's.
@@ -286,7 +380,9 @@ describe("max-T with empty cells, Monte Carlo", () => {
       (m, k) => {
         const r = models.indexOf(m);
         const c = regionSources(sigmas[k], m.rows);
-        const ystar = m.rows.map((_, j) => reduced[r].fitted[j] + reduced[r].residuals[m.rows.indexOf(c[j])]);
+        const ystar = m.rows.map(
+          (_, j) => reduced[r].fitted[j] + reduced[r].residuals[m.rows.indexOf(c[j])],
+        );
         return leastSquaresT(m, ystar);
       },
       sigmas.length,
@@ -295,7 +391,9 @@ describe("max-T with empty cells, Monte Carlo", () => {
     result.regions.forEach((region, r) => {
       expect(region.p).toBe(expected.p[r]); // (refits above on the same draws)
       expect(region.pAdjusted).toBe(expected.pAdjusted[r]);
-      expect((region.permutation as { rearrangements: number; exact: boolean }).rearrangements).toBe(301);
+      expect(
+        (region.permutation as { rearrangements: number; exact: boolean }).rearrangements,
+      ).toBe(301);
       expect((region.permutation as { exact: boolean }).exact).toBe(false);
       expect((region.p * 301) % 1).toBeCloseTo(0, 9); // (b + 1)/(m + 1), Phipson & Smyth 2010
     });
@@ -307,7 +405,9 @@ describe("max-T with empty cells, Monte Carlo", () => {
     expect(JSON.stringify(a)).toBe(JSON.stringify(b));
     const alone = runModel({ ...spec, regions: ["left insula"] }, data);
     expect(alone.regions[0].p).toBe(a.regions[0].p);
-    expect((alone.regions[0].permutation as { observed: number }).observed).toBe((a.regions[0].permutation as { observed: number }).observed);
+    expect((alone.regions[0].permutation as { observed: number }).observed).toBe(
+      (a.regions[0].permutation as { observed: number }).observed,
+    );
     expect(a.notes.some((note) => note.startsWith("Regions differ in participants"))).toBe(true);
   });
 });
@@ -315,7 +415,10 @@ describe("max-T with empty cells, Monte Carlo", () => {
 describe("permutation fits without empty cells are unchanged", () => {
   // Values recorded from the implementation before regions could differ in participants under max-T
   // (regression values, not an external reference).
-  const recorded = expectedUnchanged as unknown as Record<string, [string, number, number, number, number, boolean][]>;
+  const recorded = expectedUnchanged as unknown as Record<
+    string,
+    [string, number, number, number, number, boolean][]
+  >;
   it.each(unchangedCases.map((c) => [c.name, c] as const))("%s", (name, c) => {
     const result = runFit(modelSpecSchema.parse(c.spec), c.data());
     const now = result.regions.map((r) => {
@@ -323,6 +426,8 @@ describe("permutation fits without empty cells are unchanged", () => {
       return [r.region, r.p, r.pAdjusted, perm.observed, perm.rearrangements, perm.exact];
     });
     expect(now).toEqual(recorded[name]);
-    expect(result.notes.some((note) => note.startsWith("Regions differ in participants"))).toBe(false);
+    expect(result.notes.some((note) => note.startsWith("Regions differ in participants"))).toBe(
+      false,
+    );
   });
 });

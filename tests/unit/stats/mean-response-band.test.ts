@@ -29,7 +29,10 @@ describe("confidence interval of the mean response (fitted line's band)", () => 
     const { x, n, p } = withIntercept(carsSpeed);
     const f = fitLinearModel(x, n, p, carsDist);
     const grid = [4, 10, 15.4, 21, 25];
-    const band = meanResponseBand(f, grid.map((s) => [1, s]));
+    const band = meanResponseBand(
+      f,
+      grid.map((s) => [1, s]),
+    );
     // Independent computation: se(ŷ₀) = s·√(1/n + (x₀ − x̄)²/Sxx) (Draper & Smith 1998, eq. 1.4.5; exact algebra).
     const mean = carsSpeed.reduce((a, b) => a + b, 0) / n;
     const sxx = carsSpeed.reduce((a, b) => a + (b - mean) ** 2, 0);
@@ -54,7 +57,12 @@ describe("confidence interval of the mean response (fitted line's band)", () => 
       stackloss.map((r) => r[1]),
       stackloss.map((r) => r[2]),
     );
-    const f = fitLinearModel(x, n, p, stackloss.map((r) => r[3]));
+    const f = fitLinearModel(
+      x,
+      n,
+      p,
+      stackloss.map((r) => r[3]),
+    );
     const X = new Matrix(n, p);
     for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) X.set(i, j, x[i * p + j]);
     const xtxInv = inverse(X.transpose().mmul(X));
@@ -76,11 +84,19 @@ describe("confidence interval of the mean response (fitted line's band)", () => 
   it("refuses a fit without residual degrees of freedom, a short row and non-finite values", () => {
     const exact = fitLinearModel(withIntercept([0, 1]).x, 2, 2, [1, 3]);
     expect(() => meanResponseBand(exact, [[1, 0.5]])).toThrow(StatsError);
-    expect(() => meanResponseBand(exact, [[1, 0.5]])).toThrow("meanResponseBand requires a fit with residual degrees of freedom (n > p)");
+    expect(() => meanResponseBand(exact, [[1, 0.5]])).toThrow(
+      "meanResponseBand requires a fit with residual degrees of freedom (n > p)",
+    );
     const { x, n, p } = withIntercept(carsSpeed);
     const f = fitLinearModel(x, n, p, carsDist);
-    expect(() => meanResponseBand(f, [[1]])).toThrow("meanResponseBand requires rows of 2 values (row 1 has 1)");
-    expect(() => meanResponseBand(f, [[1, Number.NaN]])).toThrow("meanResponseBand requires finite values (row 1, column 2)");
-    expect(() => meanResponseBand(f, [[1, 1]], { level: 1 })).toThrow("meanResponseBand requires a level between 0 and 1");
+    expect(() => meanResponseBand(f, [[1]])).toThrow(
+      "meanResponseBand requires rows of 2 values (row 1 has 1)",
+    );
+    expect(() => meanResponseBand(f, [[1, Number.NaN]])).toThrow(
+      "meanResponseBand requires finite values (row 1, column 2)",
+    );
+    expect(() => meanResponseBand(f, [[1, 1]], { level: 1 })).toThrow(
+      "meanResponseBand requires a level between 0 and 1",
+    );
   });
 });

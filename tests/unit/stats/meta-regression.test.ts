@@ -33,7 +33,14 @@ describe("BCG trial effect sizes", () => {
 
 describe("weightedLinearModel, intercept only (random-effects pooling)", () => {
   it("DerSimonian–Laird matches the published BCG result", () => {
-    const r = weightedLinearModel({ y: yi, se: sei, X: intercept, tested: 0, tau2Method: "dl", smallSample: "none" });
+    const r = weightedLinearModel({
+      y: yi,
+      se: sei,
+      X: intercept,
+      tested: 0,
+      tau2Method: "dl",
+      smallSample: "none",
+    });
     expect(r.tau2).toBeCloseTo(0.3088, 4); // (Viechtbauer 2010, J Stat Softw 36(3), DL fit of the BCG data)
     expect(r.estimate).toBeCloseTo(-0.7141, 4); // (Viechtbauer 2010, DL fit)
     expect(r.se).toBeCloseTo(0.1787, 4); // (Viechtbauer 2010, DL fit)
@@ -42,7 +49,14 @@ describe("weightedLinearModel, intercept only (random-effects pooling)", () => {
   });
 
   it("DL τ² and I² follow the method-of-moments algebra", () => {
-    const r = weightedLinearModel({ y: yi, se: sei, X: intercept, tested: 0, tau2Method: "dl", smallSample: "none" });
+    const r = weightedLinearModel({
+      y: yi,
+      se: sei,
+      X: intercept,
+      tested: 0,
+      tau2Method: "dl",
+      smallSample: "none",
+    });
     const fixed = pooled(0);
     const s1 = fixed.sw;
     const s2 = fixed.w.reduce((s, x) => s + x * x, 0);
@@ -56,7 +70,10 @@ describe("weightedLinearModel, intercept only (random-effects pooling)", () => {
     expect(r.i2).toBeCloseTo(0.9212, 4); // (brief's documented I² ≈ 92.12%, which is the DL value)
     // (exact algebra: Biggerstaff & Tweedie 1997 variance of Q, Var(τ²_DL) = Var(Q) / (S1 − S2/S1)²)
     const t = r.tau2;
-    const varQ = 2 * (k - 1) + 4 * (s1 - s2 / s1) * t + 2 * (s2 - (2 * s3) / s1 + (s2 * s2) / (s1 * s1)) * t * t;
+    const varQ =
+      2 * (k - 1) +
+      4 * (s1 - s2 / s1) * t +
+      2 * (s2 - (2 * s3) / s1 + (s2 * s2) / (s1 * s1)) * t * t;
     expect(r.tau2Se).toBeCloseTo(Math.sqrt(varQ) / (s1 - s2 / s1), 12);
     // (exact algebra: pooled estimate with weights 1/(v + τ²))
     const re = pooled(t);
@@ -65,7 +82,14 @@ describe("weightedLinearModel, intercept only (random-effects pooling)", () => {
   });
 
   it("REML matches the published BCG result", () => {
-    const r = weightedLinearModel({ y: yi, se: sei, X: intercept, tested: 0, tau2Method: "reml", smallSample: "none" });
+    const r = weightedLinearModel({
+      y: yi,
+      se: sei,
+      X: intercept,
+      tested: 0,
+      tau2Method: "reml",
+      smallSample: "none",
+    });
     expect(r.tau2).toBeCloseTo(0.3132, 4); // (Viechtbauer 2010, J Stat Softw 36(3), REML fit of the BCG data)
     expect(r.estimate).toBeCloseTo(-0.7145, 4); // (Viechtbauer 2010, REML fit)
     expect(r.se).toBeCloseTo(0.1798, 4); // (Viechtbauer 2010, REML fit)
@@ -78,7 +102,14 @@ describe("weightedLinearModel, intercept only (random-effects pooling)", () => {
   });
 
   it("REML solves its estimating equation y'PPy = tr(P)", () => {
-    const r = weightedLinearModel({ y: yi, se: sei, X: intercept, tested: 0, tau2Method: "reml", smallSample: "none" });
+    const r = weightedLinearModel({
+      y: yi,
+      se: sei,
+      X: intercept,
+      tested: 0,
+      tau2Method: "reml",
+      smallSample: "none",
+    });
     const { w, sw, mu } = pooled(r.tau2);
     const yPPy = w.reduce((s, x, i) => s + (x * (yi[i] - mu)) ** 2, 0);
     const traceP = sw - w.reduce((s, x) => s + x * x, 0) / sw;
@@ -87,8 +118,22 @@ describe("weightedLinearModel, intercept only (random-effects pooling)", () => {
   });
 
   it("Knapp–Hartung rescales by the weighted residual variance on k − 1 df, without truncation", () => {
-    const plain = weightedLinearModel({ y: yi, se: sei, X: intercept, tested: 0, tau2Method: "reml", smallSample: "none" });
-    const kh = weightedLinearModel({ y: yi, se: sei, X: intercept, tested: 0, tau2Method: "reml", smallSample: "knapp-hartung" });
+    const plain = weightedLinearModel({
+      y: yi,
+      se: sei,
+      X: intercept,
+      tested: 0,
+      tau2Method: "reml",
+      smallSample: "none",
+    });
+    const kh = weightedLinearModel({
+      y: yi,
+      se: sei,
+      X: intercept,
+      tested: 0,
+      tau2Method: "reml",
+      smallSample: "knapp-hartung",
+    });
     const { sw, mu, q } = pooled(kh.tau2);
     const k = yi.length;
     // (exact algebra: Knapp & Hartung 2003, se² = Σw(y − μ)² / ((k − 1) Σw))
@@ -109,8 +154,22 @@ describe("weightedLinearModel, intercept only (random-effects pooling)", () => {
     const y = [1.01, 0.99, 1.02, 0.98, 1.0];
     const se = [0.5, 0.5, 0.5, 0.5, 0.5];
     const X = y.map(() => [1]);
-    const plain = weightedLinearModel({ y, se, X, tested: 0, tau2Method: "dl", smallSample: "none" });
-    const kh = weightedLinearModel({ y, se, X, tested: 0, tau2Method: "dl", smallSample: "knapp-hartung" });
+    const plain = weightedLinearModel({
+      y,
+      se,
+      X,
+      tested: 0,
+      tau2Method: "dl",
+      smallSample: "none",
+    });
+    const kh = weightedLinearModel({
+      y,
+      se,
+      X,
+      tested: 0,
+      tau2Method: "dl",
+      smallSample: "knapp-hartung",
+    });
     expect(plain.tau2).toBe(0); // (exact algebra: Q < k − 1, truncated at 0)
     // (exact algebra: s² = Σ(y − ȳ)²/σ² / (k − 1) = 0.001 / 0.25 / 4 = 0.001)
     expect(kh.se / plain.se).toBeCloseTo(Math.sqrt(0.001), 12);
@@ -119,7 +178,14 @@ describe("weightedLinearModel, intercept only (random-effects pooling)", () => {
 
 describe("weightedLinearModel, with a moderator", () => {
   it("REML meta-regression on latitude matches the published BCG result", () => {
-    const slope = weightedLinearModel({ y: yi, se: sei, X: latitude, tested: 1, tau2Method: "reml", smallSample: "none" });
+    const slope = weightedLinearModel({
+      y: yi,
+      se: sei,
+      X: latitude,
+      tested: 1,
+      tau2Method: "reml",
+      smallSample: "none",
+    });
     expect(slope.coefficients[0]).toBeCloseTo(0.2515, 4); // (Viechtbauer 2010, mixed-effects model with absolute latitude)
     expect(slope.estimate).toBeCloseTo(-0.0291, 4); // (Viechtbauer 2010, latitude coefficient)
     // (Viechtbauer 2010, residual heterogeneity 0.0764. We converge to 0.07635; the documented implementation stops
@@ -131,7 +197,14 @@ describe("weightedLinearModel, with a moderator", () => {
     // (value from memory: documented SE of tau^2 = 0.0591, last digit uncertain; ours is 0.05905)
     expect(Math.abs((slope.tau2Se ?? 0) - 0.0591)).toBeLessThan(1e-4);
     expect(slope.i2).toBeCloseTo(0.6839, 4); // (value from memory: documented residual I² = 68.39%)
-    const icpt = weightedLinearModel({ y: yi, se: sei, X: latitude, tested: 0, tau2Method: "reml", smallSample: "none" });
+    const icpt = weightedLinearModel({
+      y: yi,
+      se: sei,
+      X: latitude,
+      tested: 0,
+      tau2Method: "reml",
+      smallSample: "none",
+    });
     expect(icpt.estimate).toBeCloseTo(0.2515, 4); // (Viechtbauer 2010)
     expect(icpt.se).toBeCloseTo(0.2491, 4); // (value from memory: documented se of the intercept)
   });
@@ -152,8 +225,22 @@ describe("weightedLinearModel, with a moderator", () => {
 
   it("is equivariant: scaling values and standard errors by c scales the estimate and se by c, τ² by c²", () => {
     const c = 7.5;
-    const a = weightedLinearModel({ y: yi, se: sei, X: latitude, tested: 1, tau2Method: "reml", smallSample: "knapp-hartung" });
-    const b = weightedLinearModel({ y: yi.map((v) => v * c), se: sei.map((s) => s * c), X: latitude, tested: 1, tau2Method: "reml", smallSample: "knapp-hartung" });
+    const a = weightedLinearModel({
+      y: yi,
+      se: sei,
+      X: latitude,
+      tested: 1,
+      tau2Method: "reml",
+      smallSample: "knapp-hartung",
+    });
+    const b = weightedLinearModel({
+      y: yi.map((v) => v * c),
+      se: sei.map((s) => s * c),
+      X: latitude,
+      tested: 1,
+      tau2Method: "reml",
+      smallSample: "knapp-hartung",
+    });
     // (exact algebra)
     expect(b.estimate / a.estimate).toBeCloseTo(c, 8);
     expect(b.se / a.se).toBeCloseTo(c, 8);
@@ -163,7 +250,14 @@ describe("weightedLinearModel, with a moderator", () => {
   });
 
   it("splits residual variance into measurement noise and true differences", () => {
-    const r = weightedLinearModel({ y: yi, se: sei, X: latitude, tested: 1, tau2Method: "reml", smallSample: "none" });
+    const r = weightedLinearModel({
+      y: yi,
+      se: sei,
+      X: latitude,
+      tested: 1,
+      tau2Method: "reml",
+      smallSample: "none",
+    });
     const meanV = vi.reduce((s, v) => s + v, 0) / vi.length;
     // (exact algebra: shares of mean(se²) + τ²)
     expect(r.noiseShare).toBeCloseTo(meanV / (meanV + r.tau2), 14);
@@ -179,11 +273,21 @@ describe("weightedLinearModel REML on many invented designs", () => {
     for (let trial = 0; trial < 150; trial++) {
       const n = 4 + rng.int(30);
       const p = 1 + rng.int(3);
-      const X = Array.from({ length: n }, () => [1, ...Array.from({ length: p - 1 }, () => rng.next())]);
+      const X = Array.from({ length: n }, () => [
+        1,
+        ...Array.from({ length: p - 1 }, () => rng.next()),
+      ]);
       const se = Array.from({ length: n }, () => 0.05 + rng.next());
       const scale = trial % 2 ? 1 : 5;
       const y = se.map((s) => (rng.next() - 0.5) * 3 * s * scale);
-      const r = weightedLinearModel({ y, se, X, tested: p - 1, tau2Method: "reml", smallSample: "none" });
+      const r = weightedLinearModel({
+        y,
+        se,
+        X,
+        tested: p - 1,
+        tau2Method: "reml",
+        smallSample: "none",
+      });
       const W = Matrix.diag(se.map((s) => 1 / (s * s + r.tau2)));
       const Xm = new Matrix(X);
       const WX = W.mmul(Xm);
@@ -195,7 +299,9 @@ describe("weightedLinearModel REML on many invented designs", () => {
       if (r.tau2 > 0) expect(yPPy / traceP).toBeCloseTo(1, 7);
       else expect(yPPy).toBeLessThanOrEqual(traceP * (1 + 1e-9));
       // (exact algebra: WLS coefficients (X'WX)⁻¹X'Wy at the final τ²)
-      const beta = inverse(Xm.transpose().mmul(WX)).mmul(WX.transpose()).mmul(Matrix.columnVector(y));
+      const beta = inverse(Xm.transpose().mmul(WX))
+        .mmul(WX.transpose())
+        .mmul(Matrix.columnVector(y));
       expect(r.estimate).toBeCloseTo(beta.get(p - 1, 0), 9);
     }
   });
@@ -207,38 +313,98 @@ describe("weightedLinearModel preconditions", () => {
   const X = y.map(() => [1]);
 
   it("names the row of a non-positive standard error", () => {
-    expect(() => weightedLinearModel({ y, se, X, tested: 0, tau2Method: "reml", smallSample: "none" })).toThrow(
+    expect(() =>
+      weightedLinearModel({ y, se, X, tested: 0, tau2Method: "reml", smallSample: "none" }),
+    ).toThrow(
       "weightedLinearModel requires a positive standard error for every participant (row 7 has 0)",
     );
   });
 
   it("names the participant id when ids are given", () => {
     const participants = y.map((_, i) => `sub-${String(i + 1).padStart(2, "0")}`);
-    expect(() => weightedLinearModel({ y, se, X, tested: 0, tau2Method: "dl", smallSample: "none", participants })).toThrow(
+    expect(() =>
+      weightedLinearModel({
+        y,
+        se,
+        X,
+        tested: 0,
+        tau2Method: "dl",
+        smallSample: "none",
+        participants,
+      }),
+    ).toThrow(
       "weightedLinearModel requires a positive standard error for every participant (participant sub-07 (row 7) has 0)",
     );
   });
 
   it("refuses missing values, missing standard errors and bad designs", () => {
     const good = se.map((s) => s || 0.2);
-    expect(() => weightedLinearModel({ y: [...y.slice(0, 2), Number.NaN, ...y.slice(3)], se: good, X, tested: 0, tau2Method: "dl", smallSample: "none" })).toThrow(
-      "weightedLinearModel requires a finite value for every participant (row 3 has NaN)",
-    );
-    expect(() => weightedLinearModel({ y, se: [...good.slice(0, 7), Number.NaN], X, tested: 0, tau2Method: "dl", smallSample: "none" })).toThrow(
-      "(row 8 has NaN)",
-    );
-    expect(() => weightedLinearModel({ y, se: [...good.slice(0, 4), -1, ...good.slice(5)], X, tested: 0, tau2Method: "dl", smallSample: "none" })).toThrow(
-      "(row 5 has -1)",
-    );
-    expect(() => weightedLinearModel({ y, se: good, X: y.map(() => [1, 2]), tested: 1, tau2Method: "reml", smallSample: "none" })).toThrow(
-      "weightedLinearModel requires a design matrix of full column rank",
-    );
-    expect(() => weightedLinearModel({ y, se: good, X, tested: 1, tau2Method: "reml", smallSample: "none" })).toThrow(
+    expect(() =>
+      weightedLinearModel({
+        y: [...y.slice(0, 2), Number.NaN, ...y.slice(3)],
+        se: good,
+        X,
+        tested: 0,
+        tau2Method: "dl",
+        smallSample: "none",
+      }),
+    ).toThrow("weightedLinearModel requires a finite value for every participant (row 3 has NaN)");
+    expect(() =>
+      weightedLinearModel({
+        y,
+        se: [...good.slice(0, 7), Number.NaN],
+        X,
+        tested: 0,
+        tau2Method: "dl",
+        smallSample: "none",
+      }),
+    ).toThrow("(row 8 has NaN)");
+    expect(() =>
+      weightedLinearModel({
+        y,
+        se: [...good.slice(0, 4), -1, ...good.slice(5)],
+        X,
+        tested: 0,
+        tau2Method: "dl",
+        smallSample: "none",
+      }),
+    ).toThrow("(row 5 has -1)");
+    expect(() =>
+      weightedLinearModel({
+        y,
+        se: good,
+        X: y.map(() => [1, 2]),
+        tested: 1,
+        tau2Method: "reml",
+        smallSample: "none",
+      }),
+    ).toThrow("weightedLinearModel requires a design matrix of full column rank");
+    expect(() =>
+      weightedLinearModel({ y, se: good, X, tested: 1, tau2Method: "reml", smallSample: "none" }),
+    ).toThrow(
       "weightedLinearModel requires the tested column to be one of the 1 design columns (got 1)",
     );
-    expect(() => weightedLinearModel({ y: y.slice(0, 1), se: good.slice(0, 1), X: X.slice(0, 1), tested: 0, tau2Method: "reml", smallSample: "none" })).toThrow(
+    expect(() =>
+      weightedLinearModel({
+        y: y.slice(0, 1),
+        se: good.slice(0, 1),
+        X: X.slice(0, 1),
+        tested: 0,
+        tau2Method: "reml",
+        smallSample: "none",
+      }),
+    ).toThrow(
       "weightedLinearModel requires more participants than design columns (1 participants, 1 columns)",
     );
-    expect(() => weightedLinearModel({ y, se: good.slice(1), X, tested: 0, tau2Method: "reml", smallSample: "none" })).toThrow(StatsError);
+    expect(() =>
+      weightedLinearModel({
+        y,
+        se: good.slice(1),
+        X,
+        tested: 0,
+        tau2Method: "reml",
+        smallSample: "none",
+      }),
+    ).toThrow(StatsError);
   });
 });

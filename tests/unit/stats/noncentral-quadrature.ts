@@ -17,7 +17,15 @@ function logGammaHalf(nu: number): number {
 export function noncentralTByQuadrature(t: number, nu: number, delta: number): number {
   const lg = logGammaHalf(nu);
   const density = (s: number) =>
-    s <= 0 ? 0 : Math.exp(Math.log(2) + (nu / 2) * Math.log(nu / 2) + (nu - 1) * Math.log(s) - (nu * s * s) / 2 - lg);
+    s <= 0
+      ? 0
+      : Math.exp(
+          Math.log(2) +
+            (nu / 2) * Math.log(nu / 2) +
+            (nu - 1) * Math.log(s) -
+            (nu * s * s) / 2 -
+            lg,
+        );
   const steps = 4000;
   const upper = 1 + 12 / Math.sqrt(nu);
   const h = upper / steps;

@@ -37,12 +37,31 @@ interface Tally {
   uncorrectedFamilyRejections: number;
 }
 
-function simulate(make: (rng: Rng) => { design: Float64Array; p: number; tested: number; y: Float64Array[] }, scheme: "sign-flip" | "freedman-lane", n: number): Tally {
+function simulate(
+  make: (rng: Rng) => { design: Float64Array; p: number; tested: number; y: Float64Array[] },
+  scheme: "sign-flip" | "freedman-lane",
+  n: number,
+): Tally {
   const rng = createRng(20240601);
-  const tally: Tally = { tests: 0, rejections: 0, familyRejections: 0, uncorrectedFamilyRejections: 0 };
+  const tally: Tally = {
+    tests: 0,
+    rejections: 0,
+    familyRejections: 0,
+    uncorrectedFamilyRejections: 0,
+  };
   for (let d = 0; d < DATASETS; d++) {
     const { design, p, tested, y } = make(rng);
-    const result = linearPermutationTest({ design, n, p, tested, y, scheme, resamples: RESAMPLES, rng, maxT: true });
+    const result = linearPermutationTest({
+      design,
+      n,
+      p,
+      tested,
+      y,
+      scheme,
+      resamples: RESAMPLES,
+      rng,
+      maxT: true,
+    });
     expect(result.exact).toBe(false);
     let any = false;
     for (let r = 0; r < REGIONS; r++) {
@@ -73,31 +92,41 @@ function expectNominal(tally: Tally): void {
 describe("null simulation of permutation inference (400 seeded datasets, 8 regions, 199 rearrangements)", () => {
   it("Freedman–Lane with a strong nuisance covariate correlated with the predictor", () => {
     const n = 20;
-    const tally = simulate((rng) => {
-      const rows: number[] = [];
-      const z: number[] = [];
-      for (let i = 0; i < n; i++) {
-        const zi = normal(rng);
-        z.push(zi);
-        rows.push(1, zi, 0.7 * zi + normal(rng));
-      }
-      const y = Array.from({ length: REGIONS }, () => Float64Array.from(z, (zi) => 2 * zi + normal(rng)));
-      return { design: Float64Array.from(rows), p: 3, tested: 2, y };
-    }, "freedman-lane", n);
+    const tally = simulate(
+      (rng) => {
+        const rows: number[] = [];
+        const z: number[] = [];
+        for (let i = 0; i < n; i++) {
+          const zi = normal(rng);
+          z.push(zi);
+          rows.push(1, zi, 0.7 * zi + normal(rng));
+        }
+        const y = Array.from({ length: REGIONS }, () =>
+          Float64Array.from(z, (zi) => 2 * zi + normal(rng)),
+        );
+        return { design: Float64Array.from(rows), p: 3, tested: 2, y };
+      },
+      "freedman-lane",
+      n,
+    );
     expectNominal(tally);
   });
 
   it("sign flipping for a one-sample test with heavy-tailed symmetric errors", () => {
     const n = 12;
-    const tally = simulate((rng) => {
-      // Laplace errors: symmetric, heavier tails than the normal.
-      const laplace = () => {
-        const u = rng.next() - 0.5;
-        return -Math.sign(u) * Math.log(1 - 2 * Math.abs(u) || Number.MIN_VALUE);
-      };
-      const y = Array.from({ length: REGIONS }, () => Float64Array.from({ length: n }, laplace));
-      return { design: new Float64Array(n).fill(1), p: 1, tested: 0, y };
-    }, "sign-flip", n);
+    const tally = simulate(
+      (rng) => {
+        // Laplace errors: symmetric, heavier tails than the normal.
+        const laplace = () => {
+          const u = rng.next() - 0.5;
+          return -Math.sign(u) * Math.log(1 - 2 * Math.abs(u) || Number.MIN_VALUE);
+        };
+        const y = Array.from({ length: REGIONS }, () => Float64Array.from({ length: n }, laplace));
+        return { design: new Float64Array(n).fill(1), p: 1, tested: 0, y };
+      },
+      "sign-flip",
+      n,
+    );
     expectNominal(tally);
   });
 
@@ -105,10 +134,16 @@ describe("null simulation of permutation inference (400 seeded datasets, 8 regio
     const n = 20;
     const group = Array.from({ length: n }, (_, i) => (i % 3 === 0 ? 1 : 0));
     expect(group.filter((g) => g === 1).length).toBe(7);
-    const tally = simulate((rng) => {
-      const y = Array.from({ length: REGIONS }, () => Float64Array.from({ length: n }, () => normal(rng) ** 3));
-      return { design: Float64Array.from(group.flatMap((g) => [1, g])), p: 2, tested: 1, y };
-    }, "freedman-lane", n);
+    const tally = simulate(
+      (rng) => {
+        const y = Array.from({ length: REGIONS }, () =>
+          Float64Array.from({ length: n }, () => normal(rng) ** 3),
+        );
+        return { design: Float64Array.from(group.flatMap((g) => [1, g])), p: 2, tested: 1, y };
+      },
+      "freedman-lane",
+      n,
+    );
     expectNominal(tally);
   });
 
@@ -126,7 +161,9 @@ describe("null simulation of permutation inference (400 seeded datasets, 8 regio
         n: 16,
         scheme: "labels",
         groupSizes: [6, 10],
-        statistic: (order) => median(Array.from(order.subarray(0, 6), (i) => y[i])) - median(Array.from(order.subarray(6), (i) => y[i])),
+        statistic: (order) =>
+          median(Array.from(order.subarray(0, 6), (i) => y[i])) -
+          median(Array.from(order.subarray(6), (i) => y[i])),
         resamples: RESAMPLES,
         rng,
       });

@@ -44,7 +44,12 @@ describe("linearPermutationTest, two groups of unequal size without covariates",
       y.filter((_, i) => group[i] === 1),
       y.filter((_, i) => group[i] === 0),
     );
-    const all = allSubsets(n, 3).map((s) => pooledT(s.map((i) => y[i]), y.filter((_, i) => !s.includes(i))));
+    const all = allSubsets(n, 3).map((s) =>
+      pooledT(
+        s.map((i) => y[i]),
+        y.filter((_, i) => !s.includes(i)),
+      ),
+    );
     return { observed, all, p: twoSidedShare(all, observed) };
   });
 
@@ -104,7 +109,9 @@ describe("linearPermutationTest, two groups of unequal size without covariates",
     expect(result.exact).toBe(false);
     expect(result.rearrangements).toBe(41);
     const nulls = Array.from(result.nullStatistics?.[0] ?? []);
-    const b = nulls.slice(1).filter((t) => Math.abs(t) >= Math.abs(result.observed[0]) * (1 - 1e-6)).length;
+    const b = nulls
+      .slice(1)
+      .filter((t) => Math.abs(t) >= Math.abs(result.observed[0]) * (1 - 1e-6)).length;
     expect(result.p[0]).toBeCloseTo((b + 1) / 41, 12); // (Phipson & Smyth 2010, p = (b + 1)/(m + 1))
   });
 });
@@ -118,7 +125,12 @@ describe("linearPermutationTest, Monte Carlo against exact enumeration", () => {
       y.filter((_, i) => group[i] === 1),
       y.filter((_, i) => group[i] === 0),
     );
-    const all = allSubsets(14, 6).map((s) => pooledT(s.map((i) => y[i]), y.filter((_, i) => !s.includes(i))));
+    const all = allSubsets(14, 6).map((s) =>
+      pooledT(
+        s.map((i) => y[i]),
+        y.filter((_, i) => !s.includes(i)),
+      ),
+    );
     const exactP = twoSidedShare(all, observed); // (exact enumeration over C(14, 6) = 3003)
     const result = linearPermutationTest({
       design: designOf(group.map((g) => [1, g])),
@@ -154,8 +166,12 @@ describe("linearPermutationTest, Monte Carlo against exact enumeration", () => {
     const b = run(42);
     const c = run(43);
     expect(a.exact).toBe(false);
-    expect(Array.from(a.nullStatistics?.[0] ?? [])).toEqual(Array.from(b.nullStatistics?.[0] ?? []));
-    expect(Array.from(a.nullStatistics?.[0] ?? [])).not.toEqual(Array.from(c.nullStatistics?.[0] ?? []));
+    expect(Array.from(a.nullStatistics?.[0] ?? [])).toEqual(
+      Array.from(b.nullStatistics?.[0] ?? []),
+    );
+    expect(Array.from(a.nullStatistics?.[0] ?? [])).not.toEqual(
+      Array.from(c.nullStatistics?.[0] ?? []),
+    );
   });
 });
 
@@ -206,7 +222,13 @@ describe("linearPermutationTest, sign flipping", () => {
       z.map((v) => [v]),
       y,
     );
-    const ts = signs.map((s) => naiveOls(x, reduced.fitted.map((f, i) => f + s[i] * reduced.residuals[i])).t[0]);
+    const ts = signs.map(
+      (s) =>
+        naiveOls(
+          x,
+          reduced.fitted.map((f, i) => f + s[i] * reduced.residuals[i]),
+        ).t[0],
+    );
     const observed = naiveOls(x, y).t[0];
     const result = linearPermutationTest({
       design: designOf(x),
@@ -342,7 +364,9 @@ describe("linearPermutationTest kernel against naive refits on the same rearrang
     const rng = createRng(21);
     const n = 40;
     const rows = Array.from({ length: n }, () => [1, normal(rng), normal(rng), normal(rng)]);
-    const regions = Array.from({ length: 7 }, () => rows.map((r) => 0.5 * r[1] + 0.3 * r[3] + normal(rng)));
+    const regions = Array.from({ length: 7 }, () =>
+      rows.map((r) => 0.5 * r[1] + 0.3 * r[3] + normal(rng)),
+    );
     const result = linearPermutationTest({
       design: designOf(rows),
       n,
@@ -377,7 +401,10 @@ describe("linearPermutationTest kernel against naive refits on the same rearrang
   it("gives the naive t with seven regressors (two column blocks)", () => {
     const rng = createRng(22);
     const n = 25;
-    const rows = Array.from({ length: n }, () => [1, ...Array.from({ length: 6 }, () => normal(rng))]);
+    const rows = Array.from({ length: n }, () => [
+      1,
+      ...Array.from({ length: 6 }, () => normal(rng)),
+    ]);
     const y = rows.map((r) => r[2] - 0.5 * r[6] + normal(rng));
     const result = linearPermutationTest({
       design: designOf(rows),
@@ -423,11 +450,15 @@ describe("linearPermutationTest preconditions, progress and cancellation", () =>
 
   it("rejects malformed input with a message naming the field", () => {
     const run = (patch: object) => () => linearPermutationTest({ ...base, ...patch });
-    expect(run({ n: 2, design: new Float64Array(4) })).toThrow(/more participants than design columns/);
+    expect(run({ n: 2, design: new Float64Array(4) })).toThrow(
+      /more participants than design columns/,
+    );
     expect(run({ design: new Float64Array(6) })).toThrow(/design to hold n × p = 8 values/);
     expect(run({ tested: 2 })).toThrow(/tested to be a column index/);
     expect(run({ y: [Float64Array.from([1, 2, 3])] })).toThrow(/y\[0\] to hold n = 4 values/);
-    expect(run({ y: [Float64Array.from([1, Number.NaN, 3, 4])] })).toThrow(/finite values \(y\[0\], row 1\)/);
+    expect(run({ y: [Float64Array.from([1, Number.NaN, 3, 4])] })).toThrow(
+      /finite values \(y\[0\], row 1\)/,
+    );
     expect(run({ resamples: 0 })).toThrow(/resamples to be a positive integer/);
     expect(run({ y: [] })).toThrow(/at least one region/);
     expect(
@@ -441,7 +472,9 @@ describe("linearPermutationTest preconditions, progress and cancellation", () =>
       }),
     ).toThrow(/full-rank design \(column 1/);
     expect(run({ y: [Float64Array.from([1, 3, 5, 7])] })).toThrow(/fitted exactly/);
-    expect(run({ y: [Float64Array.from([2, 2, 2, 2])] })).toThrow(/residual variation after the reduced model \(y\[0\]\)/);
+    expect(run({ y: [Float64Array.from([2, 2, 2, 2])] })).toThrow(
+      /residual variation after the reduced model \(y\[0\]\)/,
+    );
     expect(run({ y: [Float64Array.from([1, 3, 5, 7])] })).toThrow(StatsError);
   });
 
@@ -478,7 +511,12 @@ describe("genericPermutationTest", () => {
       rng: createRng(1),
     });
     const observed = welchT(y.slice(0, 3), y.slice(3));
-    const all = allSubsets(8, 3).map((s) => welchT(s.map((i) => y[i]), y.filter((_, i) => !s.includes(i))));
+    const all = allSubsets(8, 3).map((s) =>
+      welchT(
+        s.map((i) => y[i]),
+        y.filter((_, i) => !s.includes(i)),
+      ),
+    );
     expect(result.exact).toBe(true);
     expect(result.rearrangements).toBe(56); // C(8, 3) (exact enumeration)
     expect(result.observed).toBeCloseTo(observed, 12); // Welch t (textbook formula)
@@ -521,26 +559,54 @@ describe("genericPermutationTest", () => {
       return sxy / Math.sqrt(sxx * syy);
     };
     const statistic = (order: Int32Array) => r(Array.from(order, (i) => y[i]));
-    const exact = genericPermutationTest({ n: 6, scheme: "labels", statistic, resamples: 720, rng: createRng(1) });
+    const exact = genericPermutationTest({
+      n: 6,
+      scheme: "labels",
+      statistic,
+      resamples: 720,
+      rng: createRng(1),
+    });
     const all = allPermutations(6).map((perm) => r(perm.map((i) => y[i])));
     expect(exact.exact).toBe(true);
     expect(exact.p).toBeCloseTo(twoSidedShare(all, r(y)), 12); // (exact enumeration)
-    const mc = genericPermutationTest({ n: 6, scheme: "labels", statistic, resamples: 500, rng: createRng(1) });
+    const mc = genericPermutationTest({
+      n: 6,
+      scheme: "labels",
+      statistic,
+      resamples: 500,
+      rng: createRng(1),
+    });
     expect(mc.exact).toBe(false);
     expect(mc.rearrangements).toBe(501);
     expect(mc.nullStatistics[0]).toBe(r(y));
-    const b = Array.from(mc.nullStatistics.subarray(1)).filter((v) => Math.abs(v) >= Math.abs(r(y)) * (1 - 1e-9)).length;
+    const b = Array.from(mc.nullStatistics.subarray(1)).filter(
+      (v) => Math.abs(v) >= Math.abs(r(y)) * (1 - 1e-9),
+    ).length;
     expect(mc.p).toBeCloseTo((b + 1) / 501, 12); // (Phipson & Smyth 2010)
   });
 
   it("rejects bad input, NaN statistics and honours cancellation", () => {
-    const ok = { n: 5, scheme: "labels" as const, statistic: () => 1, resamples: 10, rng: createRng(1) };
-    expect(() => genericPermutationTest({ ...ok, groupSizes: [2, 2] })).toThrow(/groupSizes to be two positive integers summing to n = 5/);
-    expect(() => genericPermutationTest({ ...ok, scheme: "sign-flip", groupSizes: [2, 3] })).toThrow(/scheme "labels" when groupSizes/);
+    const ok = {
+      n: 5,
+      scheme: "labels" as const,
+      statistic: () => 1,
+      resamples: 10,
+      rng: createRng(1),
+    };
+    expect(() => genericPermutationTest({ ...ok, groupSizes: [2, 2] })).toThrow(
+      /groupSizes to be two positive integers summing to n = 5/,
+    );
+    expect(() =>
+      genericPermutationTest({ ...ok, scheme: "sign-flip", groupSizes: [2, 3] }),
+    ).toThrow(/scheme "labels" when groupSizes/);
     expect(() => genericPermutationTest({ ...ok, n: 1 })).toThrow(/at least 2 units/);
-    expect(() => genericPermutationTest({ ...ok, statistic: () => Number.POSITIVE_INFINITY })).toThrow(/finite observed statistic/);
+    expect(() =>
+      genericPermutationTest({ ...ok, statistic: () => Number.POSITIVE_INFINITY }),
+    ).toThrow(/finite observed statistic/);
     let k = 0;
-    expect(() => genericPermutationTest({ ...ok, statistic: () => (k++ === 3 ? Number.NaN : 1) })).toThrow(/rearrangement 3 gave NaN/);
+    expect(() =>
+      genericPermutationTest({ ...ok, statistic: () => (k++ === 3 ? Number.NaN : 1) }),
+    ).toThrow(/rearrangement 3 gave NaN/);
     try {
       genericPermutationTest({ ...ok, resamples: 1000, n: 10, shouldCancel: () => true });
       expect.unreachable();

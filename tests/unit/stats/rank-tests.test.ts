@@ -1,10 +1,21 @@
 import { describe, expect, it } from "vitest";
 import { normalCdf } from "../../../server/stats/distributions";
-import { kendallDistribution, rankSumDistribution, signedRankDistribution, spearmanDistribution } from "../../../server/stats/exact-rank-distributions";
+import {
+  kendallDistribution,
+  rankSumDistribution,
+  signedRankDistribution,
+  spearmanDistribution,
+} from "../../../server/stats/exact-rank-distributions";
 import { kthDifference, kthWalshSum } from "../../../server/stats/hodges-lehmann";
 import { mannWhitneyU } from "../../../server/stats/mann-whitney";
 import { wilcoxonSignedRank } from "../../../server/stats/wilcoxon-signed-rank";
-import { depressionX, depressionY, permeabilityEarly, permeabilityTerm, subsets } from "./reference-data";
+import {
+  depressionX,
+  depressionY,
+  permeabilityEarly,
+  permeabilityTerm,
+  subsets,
+} from "./reference-data";
 
 const median = (v: number[]) => {
   const s = v.slice().sort((a, b) => a - b);
@@ -68,7 +79,8 @@ describe("Wilcoxon signed-rank test", () => {
   it("Hodges–Lehmann pseudomedian and interval equal the Walsh-average order statistics", () => {
     const w = wilcoxonSignedRank(d);
     const walsh: number[] = [];
-    for (let i = 0; i < d.length; i++) for (let j = i; j < d.length; j++) walsh.push((d[i] + d[j]) / 2);
+    for (let i = 0; i < d.length; i++)
+      for (let j = i; j < d.length; j++) walsh.push((d[i] + d[j]) / 2);
     walsh.sort((a, b) => a - b);
     expect(w.estimate).toBeCloseTo(median(walsh), 12); // (exact enumeration of the 45 Walsh averages)
     // P(V ≤ 5) = 10/512 < 0.025 ≤ P(V ≤ 6) = 14/512, so k = 6 (exact enumeration)
@@ -129,7 +141,7 @@ describe("Mann–Whitney U test", () => {
     // mid-ranks of the pooled 10 values: 1→1, 2,2,2→3, 3,3→5.5, 4→7, 5→8, 6→9, 7→10 (hand computation)
     // W(a) = 1 + 3 + 3 + 5.5 + 7 + 8 = 27.5, U = 27.5 − 21 = 6.5
     expect(m.u).toBe(6.5);
-    const tie = (27 - 3) + (8 - 2); // Σ(t³ − t) for tie groups of 3 and 2
+    const tie = 27 - 3 + (8 - 2); // Σ(t³ − t) for tie groups of 3 and 2
     const v = (24 / 12) * (11 - tie / 90);
     const z = (6.5 - 12 + 0.5) / Math.sqrt(v);
     expect(m.z).toBeCloseTo(z, 12); // (hand computation with the tie-corrected variance)

@@ -8,8 +8,15 @@ export const sleepGroup1 = [0.7, -1.6, -0.2, -1.2, -0.1, 3.4, 3.7, 0.8, 0.0, 2.0
 export const sleepGroup2 = [1.9, 0.8, 1.1, 0.1, -0.1, 4.4, 5.5, 1.6, 4.6, 3.4];
 
 /** Speed (mph) and stopping distance (ft) of 50 cars (Ezekiel 1930; R dataset `cars`). */
-export const carsSpeed = [4, 4, 7, 7, 8, 9, 10, 10, 10, 11, 11, 12, 12, 12, 12, 13, 13, 13, 13, 14, 14, 14, 14, 15, 15, 15, 16, 16, 17, 17, 17, 18, 18, 18, 18, 19, 19, 19, 20, 20, 20, 20, 20, 22, 23, 24, 24, 24, 24, 25];
-export const carsDist = [2, 10, 4, 22, 16, 10, 18, 26, 34, 17, 28, 14, 20, 24, 28, 26, 34, 34, 46, 26, 36, 60, 80, 20, 26, 54, 32, 40, 32, 40, 50, 42, 56, 76, 84, 36, 46, 68, 32, 48, 52, 56, 64, 66, 54, 70, 92, 93, 120, 85];
+export const carsSpeed = [
+  4, 4, 7, 7, 8, 9, 10, 10, 10, 11, 11, 12, 12, 12, 12, 13, 13, 13, 13, 14, 14, 14, 14, 15, 15, 15,
+  16, 16, 17, 17, 17, 18, 18, 18, 18, 19, 19, 19, 20, 20, 20, 20, 20, 22, 23, 24, 24, 24, 24, 25,
+];
+export const carsDist = [
+  2, 10, 4, 22, 16, 10, 18, 26, 34, 17, 28, 14, 20, 24, 28, 26, 34, 34, 46, 26, 36, 60, 80, 20, 26,
+  54, 32, 40, 32, 40, 50, 42, 56, 76, 84, 36, 46, 68, 32, 48, 52, 56, 64, 66, 54, 70, 92, 93, 120,
+  85,
+];
 
 /** Anscombe's quartet, sets I and IV (Anscombe 1973, Am. Stat. 27:17–21, Table 1). */
 export const anscombeX1 = [10, 8, 13, 9, 11, 14, 6, 4, 12, 7, 5];
@@ -19,9 +26,27 @@ export const anscombeY4 = [6.58, 5.76, 7.71, 8.84, 8.47, 7.04, 5.25, 12.5, 5.56,
 
 /** Brownlee's stack loss data, 21 days: air flow, water temperature, acid concentration, stack loss (Brownlee 1965; R dataset `stackloss`). */
 export const stackloss: readonly (readonly [number, number, number, number])[] = [
-  [80, 27, 89, 42], [80, 27, 88, 37], [75, 25, 90, 37], [62, 24, 87, 28], [62, 22, 87, 18], [62, 23, 87, 18], [62, 24, 93, 19],
-  [62, 24, 93, 20], [58, 23, 87, 15], [58, 18, 80, 14], [58, 18, 89, 14], [58, 17, 88, 13], [58, 18, 82, 11], [58, 19, 93, 12],
-  [50, 18, 89, 8], [50, 18, 86, 7], [50, 19, 72, 8], [50, 19, 79, 8], [50, 20, 80, 9], [56, 20, 82, 15], [70, 20, 91, 15],
+  [80, 27, 89, 42],
+  [80, 27, 88, 37],
+  [75, 25, 90, 37],
+  [62, 24, 87, 28],
+  [62, 22, 87, 18],
+  [62, 23, 87, 18],
+  [62, 24, 93, 19],
+  [62, 24, 93, 20],
+  [58, 23, 87, 15],
+  [58, 18, 80, 14],
+  [58, 18, 89, 14],
+  [58, 17, 88, 13],
+  [58, 18, 82, 11],
+  [58, 19, 93, 12],
+  [50, 18, 89, 8],
+  [50, 18, 86, 7],
+  [50, 19, 72, 8],
+  [50, 19, 79, 8],
+  [50, 20, 80, 9],
+  [56, 20, 82, 15],
+  [70, 20, 91, 15],
 ];
 
 /** Hamilton depression scale before (x) and after (y) treatment, 9 patients (Hollander & Wolfe 1973, p. 29; R `wilcox.test` documentation example). */
@@ -33,7 +58,11 @@ export const permeabilityTerm = [0.8, 0.83, 1.89, 1.04, 1.45, 1.38, 1.91, 1.64, 
 export const permeabilityEarly = [1.15, 0.88, 0.9, 0.74, 1.21];
 
 /** Row-major design with an intercept column from column vectors. */
-export function withIntercept(...columns: readonly (readonly number[])[]): { x: Float64Array; n: number; p: number } {
+export function withIntercept(...columns: readonly (readonly number[])[]): {
+  x: Float64Array;
+  n: number;
+  p: number;
+} {
   const n = columns[0].length;
   const p = columns.length + 1;
   const x = new Float64Array(n * p);

@@ -22,7 +22,9 @@ describe("region plot data", () => {
   it("association: one point per included participant and the least-squares band over the trait range", () => {
     const data = carsData();
     const ids = data.participants.filter((_, i) => i !== 3);
-    const plot = regionPlot(spec({ kind: "association", predictor: "speed" }), data, "dist", ids, { gridPoints: 5 });
+    const plot = regionPlot(spec({ kind: "association", predictor: "speed" }), data, "dist", ids, {
+      gridPoints: 5,
+    });
     expect(plot.points).toHaveLength(49);
     expect(plot.points[3]).toEqual({ participant: "car-5", x: 8, group: null, y: 16 });
     const line = plot.band?.lines[0];
@@ -30,7 +32,12 @@ describe("region plot data", () => {
     // Independent least squares without car 4: the band's centre is the line (exact algebra).
     const keep = carsSpeed.map((_, i) => i).filter((i) => i !== 3);
     const { x, n, p } = withIntercept(keep.map((i) => carsSpeed[i]));
-    const f = fitLinearModel(x, n, p, keep.map((i) => carsDist[i]));
+    const f = fitLinearModel(
+      x,
+      n,
+      p,
+      keep.map((i) => carsDist[i]),
+    );
     for (const pt of line?.points ?? []) {
       expect(pt.fit).toBeCloseTo(f.coefficients[0] + f.coefficients[1] * pt.x, 9);
       expect(pt.low).toBeLessThan(pt.fit);
@@ -41,15 +48,29 @@ describe("region plot data", () => {
 
   it("association with a group interaction: one line per group, each the group's own least-squares line (exact algebra)", () => {
     const data = carsData();
-    const plot = regionPlot(spec({ kind: "association", predictor: "speed", group: "type", interaction: true }), data, "dist", data.participants, {
-      gridPoints: 3,
-    });
+    const plot = regionPlot(
+      spec({ kind: "association", predictor: "speed", group: "type", interaction: true }),
+      data,
+      "dist",
+      data.participants,
+      {
+        gridPoints: 3,
+      },
+    );
     expect(plot.band?.lines.map((l) => l.label)).toEqual(["even", "odd"]);
     for (const [k, label] of ["even", "odd"].entries()) {
-      const idx = carsSpeed.map((_, i) => i).filter((i) => (i % 2 === 0 ? "even" : "odd") === label);
+      const idx = carsSpeed
+        .map((_, i) => i)
+        .filter((i) => (i % 2 === 0 ? "even" : "odd") === label);
       const { x, n, p } = withIntercept(idx.map((i) => carsSpeed[i]));
-      const f = fitLinearModel(x, n, p, idx.map((i) => carsDist[i]));
-      for (const pt of plot.band?.lines[k].points ?? []) expect(pt.fit).toBeCloseTo(f.coefficients[0] + f.coefficients[1] * pt.x, 9);
+      const f = fitLinearModel(
+        x,
+        n,
+        p,
+        idx.map((i) => carsDist[i]),
+      );
+      for (const pt of plot.band?.lines[k].points ?? [])
+        expect(pt.fit).toBeCloseTo(f.coefficients[0] + f.coefficients[1] * pt.x, 9);
     }
   });
 
@@ -68,7 +89,12 @@ describe("region plot data", () => {
     expect(plot.groupMeans?.[1].mean).toBeCloseTo(2.33, 10); // (same: mean in group 2 = 2.33)
     // Group 1: sd = 1.78901 (R sd(sleep$extra[1:10]); value from memory); t(0.975, 9) = 2.262 (Zar 2010, Table B.3)
     expect(plot.groupMeans?.[0].ciLow).toBeCloseTo(0.75 - 2.262157 * (1.78901 / Math.sqrt(10)), 3);
-    expect(plot.points.find((p) => p.participant === "b3")).toEqual({ participant: "b3", x: null, group: "2", y: 0.1 });
+    expect(plot.points.find((p) => p.participant === "b3")).toEqual({
+      participant: "b3",
+      x: null,
+      group: "2",
+      y: 0.1,
+    });
     expect(plot.band).toBeNull();
   });
 
@@ -76,9 +102,18 @@ describe("region plot data", () => {
     const data = carsData();
     const plot = regionPlot(spec({ kind: "one-sample" }), data, "dist", data.participants);
     expect(plot.groupMeans?.[0].mean).toBeCloseTo(42.98, 10); // (R mean(cars$dist) = 42.98; value from memory)
-    expect(() => regionPlot(spec({ kind: "one-sample" }), data, "dist", ["nobody"])).toThrow("regionPlot: unknown participant 'nobody'");
-    expect(() => regionPlot(spec({ kind: "one-sample" }), data, "speed", [])).toThrow("regionPlot: unknown region 'speed'");
-    const gap: FitData = { ...data, values: [Float64Array.from(carsDist, (v, i) => (i === 0 ? Number.NaN : v))] };
-    expect(() => regionPlot(spec({ kind: "one-sample" }), gap, "dist", ["car-1"])).toThrow("regionPlot: participant 'car-1' has no value in region 'dist'");
+    expect(() => regionPlot(spec({ kind: "one-sample" }), data, "dist", ["nobody"])).toThrow(
+      "regionPlot: unknown participant 'nobody'",
+    );
+    expect(() => regionPlot(spec({ kind: "one-sample" }), data, "speed", [])).toThrow(
+      "regionPlot: unknown region 'speed'",
+    );
+    const gap: FitData = {
+      ...data,
+      values: [Float64Array.from(carsDist, (v, i) => (i === 0 ? Number.NaN : v))],
+    };
+    expect(() => regionPlot(spec({ kind: "one-sample" }), gap, "dist", ["car-1"])).toThrow(
+      "regionPlot: participant 'car-1' has no value in region 'dist'",
+    );
   });
 });

@@ -27,10 +27,15 @@ export function invert(a: number[][]): number[][] {
 }
 
 /** Ordinary least squares by the normal equations: coefficients, residuals and the t of every coefficient. */
-export function naiveOls(x: number[][], y: readonly number[]): { beta: number[]; residuals: number[]; fitted: number[]; t: number[] } {
+export function naiveOls(
+  x: number[][],
+  y: readonly number[],
+): { beta: number[]; residuals: number[]; fitted: number[]; t: number[] } {
   const n = x.length;
   const p = x[0].length;
-  const xtx = Array.from({ length: p }, (_, a) => Array.from({ length: p }, (_, b) => x.reduce((s, row) => s + row[a] * row[b], 0)));
+  const xtx = Array.from({ length: p }, (_, a) =>
+    Array.from({ length: p }, (_, b) => x.reduce((s, row) => s + row[a] * row[b], 0)),
+  );
   const xty = Array.from({ length: p }, (_, a) => x.reduce((s, row, i) => s + row[a] * y[i], 0));
   const inv = invert(xtx);
   const beta = inv.map((row) => row.reduce((s, v, b) => s + v * xty[b], 0));
@@ -76,7 +81,9 @@ export function allSubsets(n: number, k: number): number[][] {
 
 /** Every ±1 vector of length n (2^n of them). */
 export function allSignVectors(n: number): number[][] {
-  return Array.from({ length: 1 << n }, (_, mask) => Array.from({ length: n }, (_, i) => (mask & (1 << i) ? -1 : 1)));
+  return Array.from({ length: 1 << n }, (_, mask) =>
+    Array.from({ length: n }, (_, i) => (mask & (1 << i) ? -1 : 1)),
+  );
 }
 
 /** Share of `values` whose absolute value reaches |observed| (relative tolerance 1e-9 for ties). */

@@ -33,9 +33,16 @@ describe("Huber M-estimation (MASS::rlm defaults)", () => {
       expect(c).toBeGreaterThan(1e-4);
     });
     expect(h.iterations).toBe(h.changes.length);
-    const tight = robustLinearModel(design.x, design.n, design.p, y, { psi: "huber", acc: 1e-12, maxIterations: 500 });
+    const tight = robustLinearModel(design.x, design.n, design.p, y, {
+      psi: "huber",
+      acc: 1e-12,
+      maxIterations: 500,
+    });
     expect(tight.changes.length).toBeGreaterThan(h.changes.length);
-    for (let j = 0; j < 4; j++) expect(Math.abs(tight.coefficients[j] - h.coefficients[j])).toBeLessThan(2e-3 * Math.max(1, Math.abs(h.coefficients[j])));
+    for (let j = 0; j < 4; j++)
+      expect(Math.abs(tight.coefficients[j] - h.coefficients[j])).toBeLessThan(
+        2e-3 * Math.max(1, Math.abs(h.coefficients[j])),
+      );
     // at the converged solution the estimating equations Σ ψ(r_i/s)·x_ij = 0 hold, with s = median|r|/0.6745
     // of the residuals that produced the final weights (Huber 1981, §7.8; exact algebra)
     const absR = Array.from(tight.residuals, Math.abs).sort((a, b) => a - b);
@@ -50,7 +57,10 @@ describe("Huber M-estimation (MASS::rlm defaults)", () => {
     }
   });
   it("reports non-convergence honestly when the iteration limit is too low", () => {
-    const short = robustLinearModel(design.x, design.n, design.p, y, { psi: "huber", maxIterations: 2 });
+    const short = robustLinearModel(design.x, design.n, design.p, y, {
+      psi: "huber",
+      maxIterations: 2,
+    });
     expect(short.converged).toBe(false);
     expect(short.iterations).toBe(2);
   });
@@ -65,8 +75,12 @@ describe("Huber M-estimation (MASS::rlm defaults)", () => {
   it("robust location of symmetric data is its centre (exact algebra)", () => {
     const values = [5 - 9, 5 - 1, 5 - 0.5, 5, 5 + 0.5, 5 + 1, 5 + 9];
     const ones = new Float64Array(values.length).fill(1);
-    expect(robustLinearModel(ones, values.length, 1, values, { psi: "huber" }).coefficients[0]).toBeCloseTo(5, 10);
-    expect(robustLinearModel(ones, values.length, 1, values, { psi: "bisquare" }).coefficients[0]).toBeCloseTo(5, 10);
+    expect(
+      robustLinearModel(ones, values.length, 1, values, { psi: "huber" }).coefficients[0],
+    ).toBeCloseTo(5, 10);
+    expect(
+      robustLinearModel(ones, values.length, 1, values, { psi: "bisquare" }).coefficients[0],
+    ).toBeCloseTo(5, 10);
   });
 });
 
@@ -81,8 +95,14 @@ describe("Tukey bisquare M-estimation", () => {
     expect(b.iterations).toBe(11); // (same: "Converged in 11 iterations")
   });
   it("started from the Huber fit (the default here) it reaches the same solution within the stopping tolerance", () => {
-    const fromLs = robustLinearModel(design.x, design.n, design.p, y, { psi: "bisquare", start: "ls" });
+    const fromLs = robustLinearModel(design.x, design.n, design.p, y, {
+      psi: "bisquare",
+      start: "ls",
+    });
     const fromHuber = robustLinearModel(design.x, design.n, design.p, y, { psi: "bisquare" });
-    for (let j = 0; j < 4; j++) expect(Math.abs(fromHuber.coefficients[j] - fromLs.coefficients[j])).toBeLessThan(1e-3 * Math.max(1, Math.abs(fromLs.coefficients[j])));
+    for (let j = 0; j < 4; j++)
+      expect(Math.abs(fromHuber.coefficients[j] - fromLs.coefficients[j])).toBeLessThan(
+        1e-3 * Math.max(1, Math.abs(fromLs.coefficients[j])),
+      );
   });
 });

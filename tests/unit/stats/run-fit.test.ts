@@ -22,16 +22,33 @@ function makeData(n = 24, seed = 11): FitData {
   const participants = Array.from({ length: n }, (_, i) => `sub-${String(i + 1).padStart(2, "0")}`);
   const age: (number | null)[] = participants.map(() => 20 + Math.floor(rng.next() * 40));
   const motion: (number | null)[] = participants.map(() => Math.round(rng.next() * 100) / 100);
-  const group: (string | null)[] = participants.map((_, i) => (i % 3 === 0 ? "patient" : "control"));
+  const group: (string | null)[] = participants.map((_, i) =>
+    i % 3 === 0 ? "patient" : "control",
+  );
   const sex: (string | null)[] = participants.map(() => (rng.next() < 0.5 ? "F" : "M"));
   const regions = ["left insula", "right insula", "precuneus"];
-  const values = regions.map((_, r) => Float64Array.from(participants, (_, i) => 0.4 + 0.03 * r * (age[i] as number) + normal()));
-  const standardErrors = regions.map(() => Float64Array.from(participants, () => 0.2 + rng.next() * 0.3));
+  const values = regions.map((_, r) =>
+    Float64Array.from(participants, (_, i) => 0.4 + 0.03 * r * (age[i] as number) + normal()),
+  );
+  const standardErrors = regions.map(() =>
+    Float64Array.from(participants, () => 0.2 + rng.next() * 0.3),
+  );
   const sessions = {
     labels: ["ses-1", "ses-2"],
-    values: regions.map((_, r) => [values[r], Float64Array.from(values[r], (v) => v + 0.5 * normal())]),
+    values: regions.map((_, r) => [
+      values[r],
+      Float64Array.from(values[r], (v) => v + 0.5 * normal()),
+    ]),
   };
-  return { participants, regions, values, standardErrors, sessions, numericColumns: { age, motion }, categoricalColumns: { group, sex } };
+  return {
+    participants,
+    regions,
+    values,
+    standardErrors,
+    sessions,
+    numericColumns: { age, motion },
+    categoricalColumns: { group, sex },
+  };
 }
 
 const spec = (input: ModelSpecInput) => modelSpecSchema.parse(input);
@@ -59,14 +76,41 @@ describe("runFit: parametric results equal the underlying methods", () => {
     const a = Array.from(data.values[0]).filter((_, i) => g[i] === "patient");
     const b = Array.from(data.values[0]).filter((_, i) => g[i] === "control");
     expect(a.length).toBe(8);
-    const ols = region(runFit(spec({ kind: "two-group", group: "group", levels: ["patient", "control"] }), data), "left insula");
+    const ols = region(
+      runFit(spec({ kind: "two-group", group: "group", levels: ["patient", "control"] }), data),
+      "left insula",
+    );
     expect(ols.estimate).toBeCloseTo(studentTTest(a, b).estimate, 12);
     expect(ols.p).toBeCloseTo(studentTTest(a, b).p, 10);
-    expect((ols.hedgesG as { value: number }).value).toBeLessThan(Math.abs((ols.cohensD as { value: number }).value) + 1e-12);
-    const welch = region(runFit(spec({ kind: "two-group", group: "group", levels: ["patient", "control"], estimator: "welch" }), data), "left insula");
+    expect((ols.hedgesG as { value: number }).value).toBeLessThan(
+      Math.abs((ols.cohensD as { value: number }).value) + 1e-12,
+    );
+    const welch = region(
+      runFit(
+        spec({
+          kind: "two-group",
+          group: "group",
+          levels: ["patient", "control"],
+          estimator: "welch",
+        }),
+        data,
+      ),
+      "left insula",
+    );
     expect(welch.df).toBeCloseTo(welchTTest(a, b).df, 10);
     expect(welch.p).toBeCloseTo(welchTTest(a, b).p, 12);
-    const rank = region(runFit(spec({ kind: "two-group", group: "group", levels: ["patient", "control"], estimator: "rank" }), data), "left insula");
+    const rank = region(
+      runFit(
+        spec({
+          kind: "two-group",
+          group: "group",
+          levels: ["patient", "control"],
+          estimator: "rank",
+        }),
+        data,
+      ),
+      "left insula",
+    );
     expect(rank.statistic).toBe(mannWhitneyU(a, b).u);
     expect(rank.p).toBeCloseTo(mannWhitneyU(a, b).p, 12);
   });
@@ -80,7 +124,10 @@ describe("runFit: parametric results equal the underlying methods", () => {
     expect(r.standardizedSlope).toBeCloseTo(c.r, 12); // (simple regression: standardised slope = r, exact algebra)
   });
   it("weights 'first-level-se' delegate to the weighted meta-regression", () => {
-    const res = runFit(spec({ kind: "one-sample", weights: "first-level-se", tau2Method: "dl" }), data);
+    const res = runFit(
+      spec({ kind: "one-sample", weights: "first-level-se", tau2Method: "dl" }),
+      data,
+    );
     const se = data.standardErrors?.[0] as Float64Array;
     const direct = weightedLinearModel({
       y: data.values[0],
@@ -134,10 +181,14 @@ describe("runFit: participants", () => {
   });
   it("the only member of a category level has leverage 1 and empty residual measures — never NaN", () => {
     const data = makeData();
-    const site = data.participants.map((_, i) => (i === 5 ? "site-c" : i % 2 ? "site-a" : "site-b"));
+    const site = data.participants.map((_, i) =>
+      i === 5 ? "site-c" : i % 2 ? "site-a" : "site-b",
+    );
     const d2: FitData = { ...data, categoricalColumns: { ...data.categoricalColumns, site } };
     const res = runFit(spec({ kind: "association", predictor: "age", covariates: ["site"] }), d2);
-    const row = res.participants.find((p) => p.participant === "sub-06" && p.region === "left insula");
+    const row = res.participants.find(
+      (p) => p.participant === "sub-06" && p.region === "left insula",
+    );
     expect(row?.leverage).toBe(1);
     expect(row?.flags).toContain("leverage");
     expect(row?.studentizedResidual).toBeNull();
@@ -149,26 +200,63 @@ describe("runFit: participants", () => {
 describe("runFit: refusals name the field or the region", () => {
   const data = makeData();
   const cases: [ModelSpecInput, string][] = [
-    [{ kind: "one-sample", regions: ["cerebellum"] }, "regions: no region 'cerebellum' in the brain table"],
-    [{ kind: "association", predictor: "height" }, "predictor: no column 'height' in the participant sheet"],
-    [{ kind: "association", predictor: "sex" }, "predictor: column 'sex' of the participant sheet is a category; an association needs a numeric trait"],
+    [
+      { kind: "one-sample", regions: ["cerebellum"] },
+      "regions: no region 'cerebellum' in the brain table",
+    ],
+    [
+      { kind: "association", predictor: "height" },
+      "predictor: no column 'height' in the participant sheet",
+    ],
+    [
+      { kind: "association", predictor: "sex" },
+      "predictor: column 'sex' of the participant sheet is a category; an association needs a numeric trait",
+    ],
     [{ kind: "two-group", group: "arm" }, "group: no column 'arm' in the participant sheet"],
-    [{ kind: "two-group", group: "group", levels: ["patient", "sibling"] }, "levels: level 'sibling' is not present in column 'group'"],
-    [{ kind: "association", predictor: "age", covariates: ["iq"] }, "covariates: no column 'iq' in the participant sheet"],
-    [{ kind: "association", predictor: "age", estimator: "welch" }, "estimator: 'welch' is not available for kind 'association'"],
-    [{ kind: "two-group", group: "group", estimator: "welch", covariates: ["age"] }, "covariates: estimator 'welch' does not take covariates"],
-    [{ kind: "one-sample", correction: "maxt" }, "correction: max-T correction requires permutation inference"],
-    [{ kind: "one-sample", setAside: [{ participant: "sub-99", reason: "x" }] }, "setAside: unknown participant 'sub-99'"],
+    [
+      { kind: "two-group", group: "group", levels: ["patient", "sibling"] },
+      "levels: level 'sibling' is not present in column 'group'",
+    ],
+    [
+      { kind: "association", predictor: "age", covariates: ["iq"] },
+      "covariates: no column 'iq' in the participant sheet",
+    ],
+    [
+      { kind: "association", predictor: "age", estimator: "welch" },
+      "estimator: 'welch' is not available for kind 'association'",
+    ],
+    [
+      { kind: "two-group", group: "group", estimator: "welch", covariates: ["age"] },
+      "covariates: estimator 'welch' does not take covariates",
+    ],
+    [
+      { kind: "one-sample", correction: "maxt" },
+      "correction: max-T correction requires permutation inference",
+    ],
+    [
+      { kind: "one-sample", setAside: [{ participant: "sub-99", reason: "x" }] },
+      "setAside: unknown participant 'sub-99'",
+    ],
   ];
   it.each(cases)("%j", (input, message) => {
     expect(() => runFit(spec(input), data)).toThrow(message);
   });
   it("too few participants names the region", () => {
-    const setAside = data.participants.slice(0, 23).map((participant) => ({ participant, region: "precuneus", reason: "test" }));
-    expect(() => runFit(spec({ kind: "one-sample", setAside }), data)).toThrow("region 'precuneus': too few participants (n = 1; at least 2 needed)");
+    const setAside = data.participants
+      .slice(0, 23)
+      .map((participant) => ({ participant, region: "precuneus", reason: "test" }));
+    expect(() => runFit(spec({ kind: "one-sample", setAside }), data)).toThrow(
+      "region 'precuneus': too few participants (n = 1; at least 2 needed)",
+    );
   });
   it("max-T takes regions that differ in participants (one region fitted without a participant)", () => {
-    const s = spec({ kind: "one-sample", inference: "permutation", correction: "maxt", resamples: 99, setAside: [{ participant: "sub-03", region: "precuneus", reason: "test" }] });
+    const s = spec({
+      kind: "one-sample",
+      inference: "permutation",
+      correction: "maxt",
+      resamples: 99,
+      setAside: [{ participant: "sub-03", region: "precuneus", reason: "test" }],
+    });
     const res = runFit(s, data);
     expect(region(res, "precuneus").n).toBe(23);
     expect(region(res, "left insula").n).toBe(24);
@@ -189,9 +277,23 @@ describe("runFit: resampling inference", () => {
   it("two groups of 3 and 5: exact label permutation equals enumeration of the C(8, 3) assignments", () => {
     const data = makeData(8, 5);
     const g = data.categoricalColumns.group; // patients are sub-01, sub-04, sub-07
-    const res = runFit(spec({ kind: "two-group", group: "group", levels: ["patient", "control"], inference: "permutation", resamples: 1000 }), data);
+    const res = runFit(
+      spec({
+        kind: "two-group",
+        group: "group",
+        levels: ["patient", "control"],
+        inference: "permutation",
+        resamples: 1000,
+      }),
+      data,
+    );
     const y = Array.from(data.values[0]);
-    const tObs = Math.abs(studentTTest(y.filter((_, i) => g[i] === "patient"), y.filter((_, i) => g[i] !== "patient")).t);
+    const tObs = Math.abs(
+      studentTTest(
+        y.filter((_, i) => g[i] === "patient"),
+        y.filter((_, i) => g[i] !== "patient"),
+      ).t,
+    );
     let extreme = 0;
     let total = 0;
     for (const s of subsets(8, 3)) {
@@ -211,7 +313,17 @@ describe("runFit: resampling inference", () => {
   it("max-T adjusted p is never below the region's own p", () => {
     const data = makeData();
     for (const estimator of ["ols", "rank"] as const) {
-      const res = runFit(spec({ kind: "association", predictor: "age", estimator, inference: "permutation", resamples: 199, correction: "maxt" }), data);
+      const res = runFit(
+        spec({
+          kind: "association",
+          predictor: "age",
+          estimator,
+          inference: "permutation",
+          resamples: 199,
+          correction: "maxt",
+        }),
+        data,
+      );
       for (const r of res.regions) expect(r.pAdjusted).toBeGreaterThanOrEqual(r.p - 1e-12);
     }
   });
@@ -220,7 +332,14 @@ describe("runFit: resampling inference", () => {
     for (const input of [
       { kind: "association", predictor: "age", covariates: ["sex", "motion"], correction: "holm" },
       { kind: "association", predictor: "age", inference: "permutation", resamples: 199, seed: 42 },
-      { kind: "two-group", group: "group", estimator: "huber", inference: "bootstrap", resamples: 200, seed: 7 },
+      {
+        kind: "two-group",
+        group: "group",
+        estimator: "huber",
+        inference: "bootstrap",
+        resamples: 200,
+        seed: 7,
+      },
     ] as ModelSpecInput[]) {
       const a = JSON.stringify(runFit(spec(input), data));
       const b = JSON.stringify(runFit(spec(input), data));
@@ -229,7 +348,9 @@ describe("runFit: resampling inference", () => {
   });
   it("reports progress up to 1", () => {
     const seen: number[] = [];
-    runFit(spec({ kind: "one-sample", inference: "permutation", resamples: 99 }), makeData(), { onProgress: (f) => seen.push(f) });
+    runFit(spec({ kind: "one-sample", inference: "permutation", resamples: 99 }), makeData(), {
+      onProgress: (f) => seen.push(f),
+    });
     expect(seen[seen.length - 1]).toBe(1);
     expect(Math.min(...seen)).toBeGreaterThanOrEqual(0);
   });

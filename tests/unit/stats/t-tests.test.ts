@@ -1,5 +1,10 @@
 import { describe, expect, it } from "vitest";
-import { hedgesCorrection, noncentralityInterval, standardizedMeanDifference, cohensDOneSample } from "../../../server/stats/effect-size";
+import {
+  hedgesCorrection,
+  noncentralityInterval,
+  standardizedMeanDifference,
+  cohensDOneSample,
+} from "../../../server/stats/effect-size";
 import { StatsError } from "../../../server/stats/errors";
 import { oneSampleTTest } from "../../../server/stats/one-sample-t";
 import { studentTTest, welchTTest } from "../../../server/stats/two-sample-t";
@@ -31,14 +36,16 @@ describe("two-sample t tests on Student's sleep data", () => {
     const seW = Math.sqrt(6 / 8 + 200 / 2); // = √100.75
     expect(w.se).toBeCloseTo(seW, 12); // (exact algebra)
     expect(w.t).toBeCloseTo(-15.5 / seW, 12); // (exact algebra)
-    expect(w.df).toBeCloseTo(100.75 ** 2 / ((0.75 ** 2) / 7 + 100 ** 2 / 1), 10); // (Welch–Satterthwaite, exact algebra)
+    expect(w.df).toBeCloseTo(100.75 ** 2 / (0.75 ** 2 / 7 + 100 ** 2 / 1), 10); // (Welch–Satterthwaite, exact algebra)
     const s = studentTTest(a, b);
     const sp2 = (7 * 6 + 1 * 200) / 8; // pooled variance
     expect(s.se).toBeCloseTo(Math.sqrt(sp2 * (1 / 8 + 1 / 2)), 12); // (exact algebra)
     expect(s.df).toBe(8);
   });
   it("refuses a group with one value", () => {
-    expect(() => welchTTest([1], [2, 3])).toThrow("welchTTest requires at least two values per group");
+    expect(() => welchTTest([1], [2, 3])).toThrow(
+      "welchTTest requires at least two values per group",
+    );
   });
 });
 

@@ -8,31 +8,52 @@ import { fieldName, validationSentence, validationWords } from "../../../hooks/v
 
 describe("validationSentence", () => {
   it("asks for an e-mail address with an example", () => {
-    expect(validationSentence({ field: "body.email", message: "must be an e-mail address" })).toBe("Enter an e-mail address such as name@lab.example.");
+    expect(validationSentence({ field: "body.email", message: "must be an e-mail address" })).toBe(
+      "Enter an e-mail address such as name@lab.example.",
+    );
   });
 
   it("names the field in words before a 'must' message", () => {
-    expect(validationSentence({ field: "body.name", message: "must be at most 200 characters" })).toBe("The name must be at most 200 characters.");
-    expect(validationSentence({ field: "body.regionSelection", message: "must not be empty" })).toBe("The region selection must not be empty.");
+    expect(
+      validationSentence({ field: "body.name", message: "must be at most 200 characters" }),
+    ).toBe("The name must be at most 200 characters.");
+    expect(
+      validationSentence({ field: "body.regionSelection", message: "must not be empty" }),
+    ).toBe("The region selection must not be empty.");
   });
 
   it("keeps an instruction as it is, as a sentence", () => {
-    expect(validationSentence({ field: "body.reason", message: "give the reason for setting this participant aside" })).toBe(
-      "Give the reason for setting this participant aside.",
-    );
-    expect(validationSentence({ field: "body.confirm", message: "type the study's name to confirm" })).toBe("Type the study's name to confirm.");
+    expect(
+      validationSentence({
+        field: "body.reason",
+        message: "give the reason for setting this participant aside",
+      }),
+    ).toBe("Give the reason for setting this participant aside.");
+    expect(
+      validationSentence({ field: "body.confirm", message: "type the study's name to confirm" }),
+    ).toBe("Type the study's name to confirm.");
   });
 
   it("replaces a field name the message itself starts with", () => {
-    expect(validationSentence({ field: "body.groups.0.groupRatio", message: "groupRatio must be above 0" })).toBe("The group ratio must be above 0.");
+    expect(
+      validationSentence({
+        field: "body.groups.0.groupRatio",
+        message: "groupRatio must be above 0",
+      }),
+    ).toBe("The group ratio must be above 0.");
   });
 
   it("says an address part is not valid without naming it", () => {
-    expect(validationSentence({ field: "params.studyId", message: "must be an id" })).toBe("The address of this page is not valid. Go back and open it again from the list.");
+    expect(validationSentence({ field: "params.studyId", message: "must be an id" })).toBe(
+      "The address of this page is not valid. Go back and open it again from the list.",
+    );
   });
 
   it("never shows the field path", () => {
-    const sentence = validationSentence({ field: "body.spec.covariates.2", message: "Invalid input" });
+    const sentence = validationSentence({
+      field: "body.spec.covariates.2",
+      message: "Invalid input",
+    });
     expect(sentence).toBe("Check the covariates: Invalid input.");
     expect(sentence).not.toContain("body.");
   });

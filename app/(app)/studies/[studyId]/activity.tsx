@@ -6,7 +6,13 @@ export default function ActivityRoute() {
   const { studyId } = useLocalSearchParams<{ studyId: string }>();
   const id = String(studyId);
   return (
-    <RoleGate studyId={id} action="activity.list" doing="see the study's activity" changes={false} back={{ href: `/studies/${id}/data`, label: "Back to the study" }}>
+    <RoleGate
+      studyId={id}
+      action="activity.list"
+      doing="see the study's activity"
+      changes={false}
+      back={{ href: `/studies/${id}/data`, label: "Back to the study" }}
+    >
       <ActivityScreen studyId={id} />
     </RoleGate>
   );

@@ -6,7 +6,13 @@ export default function NewModelRoute() {
   const { studyId } = useLocalSearchParams<{ studyId: string }>();
   const id = String(studyId);
   return (
-    <RoleGate studyId={id} action="models.write" doing="build models" changes back={{ href: `/studies/${id}/models`, label: "Back to Models" }}>
+    <RoleGate
+      studyId={id}
+      action="models.write"
+      doing="build models"
+      changes
+      back={{ href: `/studies/${id}/models`, label: "Back to Models" }}
+    >
       <ModelForm studyId={id} />
     </RoleGate>
   );
