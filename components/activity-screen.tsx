@@ -5,8 +5,8 @@ import { Card, Empty, Failure, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { useActivity, type ActivityEvent } from "../hooks/use-activity";
 import { useMembers } from "../hooks/use-team";
-import { setAsideEventFacts, setAsideEventWords } from "../server/model/set-aside-words";
-import { signOffSettingWords } from "../server/model/sign-off";
+import { setAsideEventFacts, setAsideEventWords } from "../contract/set-aside-words";
+import { signOffSettingWords } from "../contract/sign-off";
 import {
   fitApprovedWords,
   fitCancelledWords,
@@ -14,9 +14,9 @@ import {
   memberRemovedWords,
   type PersonFacts,
   roleChangedWords,
-} from "../server/model/activity-words";
+} from "../contract/activity-words";
 import { useFits } from "../hooks/use-fits";
-import { dateWords } from "../server/model/dates";
+import { dateWords } from "../contract/dates";
 
 const kindOptions = [
   { value: "", label: "Everything" },

@@ -13,7 +13,7 @@ import { Txt } from "./ui";
 import { useAuthOptions } from "../hooks/use-auth";
 import { useSignOut } from "../hooks/use-auth";
 import type { Me } from "../hooks/use-me";
-import { researchUseCaution } from "../server/model/cautions";
+import { researchUseCaution } from "../contract/cautions";
 
 interface NavItem {
   href: string;

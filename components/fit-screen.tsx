@@ -19,7 +19,7 @@ import { Button, Card, Failure, Heading, Notice, Pending, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { can, useStudy } from "../hooks/use-study";
 import { useCancelFit, useFit, type FitView } from "../hooks/use-fits";
-import { modelSpecSchema, type ModelSpec, type RegionResult } from "../server/model/spec";
+import { modelSpecSchema, type ModelSpec, type RegionResult } from "../contract/spec";
 
 export function FitScreen(props: { studyId: string; fitId: string }) {
   const study = useStudy(props.studyId);

@@ -2,7 +2,7 @@
  * New model: a short form for the question (kind, regions, predictor or
  * grouping, covariates) and how to answer it (estimator, inference,
  * correction, weights). Validation is the API's own schema; the fit rules
- * (server/model/fit-rules.ts) are judged as the choices change against
+ * (contract/fit-rules.ts) are judged as the choices change against
  * what the form knows of the data (regions, columns and their types,
  * sessions, standard errors, the group's levels), and what only the
  * values decide is said before the model is saved or run.
@@ -30,9 +30,9 @@ import {
   regionSelections,
   type ModelCreateInput,
   type RegionSelection,
-} from "../server/model/model-form";
-import { dataPreconditions, dataProblems, type DataShape } from "../server/model/fit-rules";
-import { type ModelSpec, modelSpecSchema } from "../server/model/spec";
+} from "../contract/model-form";
+import { dataPreconditions, dataProblems, type DataShape } from "../contract/fit-rules";
+import { type ModelSpec, modelSpecSchema } from "../contract/spec";
 
 type Kind = ModelSpec["kind"];
 type Estimator = ModelSpec["estimator"];

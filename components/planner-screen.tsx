@@ -10,7 +10,7 @@ import { PowerCurve } from "./charts/power-curve";
 import { Button, Card, Field, Heading, Notice, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { usePlanner, type PlannerAnswer, type PlannerQuestionInput } from "../hooks/use-planner";
-import { plannerQuestionSchema, simulationLimitText } from "../server/model/planner";
+import { plannerQuestionSchema, simulationLimitText } from "../contract/planner";
 
 type Design = "correlation" | "two-group" | "one-sample";
 

@@ -14,7 +14,7 @@ import {
   type AuthOptions,
 } from "../hooks/use-auth";
 import { meKeys } from "../hooks/use-me";
-import { researchUseCaution } from "../server/model/cautions";
+import { researchUseCaution } from "../contract/cautions";
 
 const roleBlurb: Record<string, string> = {
   owner: "manages members and can do everything",

@@ -9,7 +9,7 @@ import {
   type DeletedStudy,
   type StudySummary,
 } from "../hooks/use-studies";
-import { dateWords } from "../server/model/dates";
+import { dateWords } from "../contract/dates";
 
 export function StudiesScreen() {
   const studies = useStudies();

@@ -10,7 +10,7 @@ import { fonts, palette, radius, space, type } from "./theme";
 import { ApiError } from "../hooks/api";
 import { can, useStudy } from "../hooks/use-study";
 import { roleLabel } from "./studies-screen";
-import { dateWords } from "../server/model/dates";
+import { dateWords } from "../contract/dates";
 
 const sections = [
   { path: "data", label: "Data", action: "data.read" },

@@ -25,9 +25,9 @@ import {
   type Member,
 } from "../hooks/use-team";
 import type { Role } from "../hooks/use-studies";
-import { secondPersonSignOffExplanation, secondPersonSignOffLabel } from "../server/model/sign-off";
-import { restorableUntil, restoreWindowDays } from "../server/model/study-lifecycle";
-import { dateWords } from "../server/model/dates";
+import { secondPersonSignOffExplanation, secondPersonSignOffLabel } from "../contract/sign-off";
+import { restorableUntil, restoreWindowDays } from "../contract/study-lifecycle";
+import { dateWords } from "../contract/dates";
 
 export const roleOptions: readonly ChoiceOption<Role>[] = [
   { value: "owner", label: "Owner", hint: "manages members and can do everything" },

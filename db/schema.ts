@@ -327,7 +327,7 @@ export type FitStatus = (typeof fitStatuses)[number];
 /**
  * A saved question of a study. `spec` holds the model fields as
  * `modelSpecSchema` parses them (defaults filled in). `regionSelection`
- * records how the regions were chosen (see server/model/model-form.ts);
+ * records how the regions were chosen (see contract/model-form.ts);
  * `circular` is true when they were chosen from the same data the model
  * tests. Soft delete: fits keep pointing at a deleted model.
  */

@@ -8,7 +8,7 @@ import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/r
 import { apiBase, apiFetch, jsonBody } from "./api";
 import { activityKeys } from "./use-activity";
 import { fitKeys, type FitView } from "./use-fits";
-import type { MethodsText } from "../server/model/methods-text";
+import type { MethodsText } from "../contract/methods-text";
 
 export type { MethodsText };
 

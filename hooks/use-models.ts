@@ -1,7 +1,7 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { apiFetch, jsonBody } from "./api";
 import { studyKeys } from "./use-studies";
-import type { ModelCreateInput, ModelView } from "../server/model/model-form";
+import type { ModelCreateInput, ModelView } from "../contract/model-form";
 
 export type { ModelView };
 

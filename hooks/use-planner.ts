@@ -1,6 +1,6 @@
 import { useMutation } from "@tanstack/react-query";
 import { apiFetch, jsonBody } from "./api";
-import type { PlannerAnswer, PlannerQuestionInput } from "../server/model/planner";
+import type { PlannerAnswer, PlannerQuestionInput } from "../contract/planner";
 
 export type { PlannerAnswer, PlannerQuestionInput };
 

@@ -15,7 +15,7 @@ const sources = [
   "hooks",
   "assets",
   "public",
-  "server/model",
+  "contract",
   "app.json",
   "package.json",
   "package-lock.json",

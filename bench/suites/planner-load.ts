@@ -8,7 +8,7 @@
  * Figures only; nothing here passes or fails on time.
  */
 import os from "node:os";
-import { PLANNER_MAX_DRAWS } from "../../server/model/planner";
+import { PLANNER_MAX_DRAWS } from "../../contract/planner";
 import { latencySummary, startBenchServer } from "../server-process";
 
 const PROBE_MS = 100;

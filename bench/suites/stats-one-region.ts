@@ -9,8 +9,8 @@
  * fit for comparison (no target).
  */
 import os from "node:os";
-import type { FitData } from "../../server/model/spec";
-import { modelSpecSchema } from "../../server/model/spec";
+import type { FitData } from "../../contract/spec";
+import { modelSpecSchema } from "../../contract/spec";
 import { createRng } from "../../server/stats/rng";
 import { runFit } from "../../server/stats/run-fit";
 

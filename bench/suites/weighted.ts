@@ -13,7 +13,7 @@ import {
   type SmallSampleAdjustment,
   type Tau2Method,
 } from "../../server/stats/meta-regression";
-import { modelSpecSchema } from "../../server/model/spec";
+import { modelSpecSchema } from "../../contract/spec";
 import { runFit } from "../../server/stats/run-fit";
 import { createRng, type Rng } from "../../server/stats/rng";
 

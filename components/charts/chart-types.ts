@@ -3,7 +3,7 @@
  * set aside) and the props of the invisible press target drawn over each
  * pressable mark.
  */
-import type { Flag } from "../../server/model/spec";
+import type { Flag } from "../../contract/spec";
 
 export type { Flag };
 

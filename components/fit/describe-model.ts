@@ -1,7 +1,7 @@
 /**
  * A model in plain words, for lists, the fit screen and the methods text.
  */
-import type { ModelSpec } from "../../server/model/spec";
+import type { ModelSpec } from "../../contract/spec";
 
 const estimatorWords: Record<ModelSpec["estimator"], string> = {
   ols: "ordinary least squares",

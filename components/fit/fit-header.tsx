@@ -22,8 +22,8 @@ import {
   stageTone,
   whenWords,
 } from "./lineage-words";
-import { smallSampleCaution } from "../../server/model/cautions";
-import type { ModelSpec, RegionResult } from "../../server/model/spec";
+import { smallSampleCaution } from "../../contract/cautions";
+import type { ModelSpec, RegionResult } from "../../contract/spec";
 import { type FitView, useRunFit } from "../../hooks/use-fits";
 
 export function FitHeader({

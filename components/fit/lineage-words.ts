@@ -5,7 +5,7 @@
  */
 import type { FitStage } from "../../server/services/fits";
 import type { FitSetAsideView } from "../../server/services/fit-lineage";
-import { dateTimeWords } from "../../server/model/dates";
+import { dateTimeWords } from "../../contract/dates";
 
 /** "N = 64", or "N = 58–64" when regions differ; null before the fit is done. */
 export function nWords(n: { min: number; max: number } | null): string | null {

@@ -1,7 +1,7 @@
 /**
  * What the publish panel of a fit shows and allows, from the fit's status,
  * who started it, its approval and seal, the caller's rights and the
- * study's "A second person signs off" (server/model/sign-off.ts): who may
+ * study's "A second person signs off" (contract/sign-off.ts): who may
  * act next, and to the person the rule stops, why. Plain TypeScript (no
  * React), so it is tested on its own.
  */
@@ -15,7 +15,7 @@ import {
   singlePersonWarning,
   whoMayApprove,
   whoMaySeal,
-} from "../../server/model/sign-off";
+} from "../../contract/sign-off";
 import type { Publication } from "../../server/services/sealing";
 
 export interface PublishState {

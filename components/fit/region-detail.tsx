@@ -40,9 +40,9 @@ import {
   regionSmallSampleCaution,
   setAsideCaution,
   smallSampleTitle,
-} from "../../server/model/cautions";
-import { setAsideLine } from "../../server/model/set-aside-words";
-import type { Flag } from "../../server/model/spec";
+} from "../../contract/cautions";
+import { setAsideLine } from "../../contract/set-aside-words";
+import type { Flag } from "../../contract/spec";
 
 type Point = NonNullable<RegionDetail["points"]>[number];
 

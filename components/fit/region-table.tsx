@@ -3,7 +3,7 @@ import type { ColumnDef } from "@tanstack/react-table";
 import { DataTable } from "../tables/data-table";
 import { formatValue } from "../charts/number-format";
 import { pText } from "./p-text";
-import type { RegionResult } from "../../server/model/spec";
+import type { RegionResult } from "../../contract/spec";
 
 interface Row {
   region: string;

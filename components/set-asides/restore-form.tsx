@@ -6,7 +6,7 @@
 import { useState } from "react";
 import { StyleSheet, View } from "react-native";
 import { useRestoreSetAside, type SetAsideView } from "../../hooks/use-set-asides";
-import { participantWords } from "../../server/model/set-aside-words";
+import { participantWords } from "../../contract/set-aside-words";
 import { space } from "../theme";
 import { Button, Field, Notice } from "../ui";
 

@@ -8,7 +8,7 @@
 import { type ReactNode, useState } from "react";
 import { Pressable, StyleSheet, View } from "react-native";
 import { useSetAsides, type SetAsideView } from "../../hooks/use-set-asides";
-import { restoredLine, scopeLabel, setAsideLine } from "../../server/model/set-aside-words";
+import { restoredLine, scopeLabel, setAsideLine } from "../../contract/set-aside-words";
 import { fonts, palette, radius, space } from "../theme";
 import { Badge, Card, Failure, Heading, Notice, Pending, Txt } from "../ui";
 import { RestoreForm } from "./restore-form";

@@ -20,7 +20,7 @@ import { readFileSync } from "node:fs";
 import { basename, dirname, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
 import { z } from "zod";
-import { type FitResult, type ModelSpec, modelSpecSchema } from "../model/spec";
+import { type FitResult, type ModelSpec, modelSpecSchema } from "../../contract/spec";
 import { requireStandardErrors } from "./standard-error-check";
 import {
   IntakeError,

@@ -18,7 +18,7 @@ import { findColumn } from "../intake/columns";
 import { IntakeError, type Problem, problem } from "../intake/errors";
 import type { BrainTable } from "../intake/brain-table";
 import type { RawTable } from "../intake/read-table";
-import type { FitData } from "../model/spec";
+import type { FitData } from "../../contract/spec";
 
 export interface StandardErrorCheckInput {
   /** The brain table's raw rows (for row numbers in the long layout). */

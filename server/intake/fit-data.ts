@@ -11,7 +11,7 @@
  * reliability. Sheet columns (all but the id) are aligned to the
  * participants. Cost: O(participants × (regions × sessions + sheet columns)).
  */
-import type { FitData } from "../model/spec";
+import type { FitData } from "../../contract/spec";
 import { IntakeError, problem } from "./errors";
 import { quoteCell } from "./cells";
 import { type BrainTable, brainParticipantIds, brainSessions } from "./brain-table";

@@ -38,7 +38,7 @@ import { workerPool } from "./worker-pool";
 import type { Database } from "../../db/client";
 import { fitRegions, fits, type FitStatus } from "../../db/schema";
 import { IntakeError } from "../intake/errors";
-import type { FitData } from "../model/spec";
+import type { FitData } from "../../contract/spec";
 import { secondsLeftOf } from "./time-left";
 import { recordEvent } from "../services/audit";
 import { FitDataCache, type FitInputs, inputsOfFit, specOfRecipe } from "../services/fit-inputs";

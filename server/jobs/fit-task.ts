@@ -19,7 +19,7 @@
  * request thread (thread-priority.ts).
  */
 import type { MessagePort } from "node:worker_threads";
-import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../model/spec";
+import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
 import { type RegionPlot, regionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";

@@ -17,7 +17,7 @@
 import type { Piscina } from "piscina";
 import { workerPool } from "./worker-pool";
 import { HttpError } from "../http/errors";
-import type { PlannerAnswer, PlannerQuestion } from "../model/planner";
+import type { PlannerAnswer, PlannerQuestion } from "../../contract/planner";
 import type { PlannerTaskOutcome } from "./planner-task";
 
 export interface PlannerJobsOptions {

@@ -7,7 +7,7 @@
  * logs it). Runs at the fit threads' lower priority, so requests come first.
  */
 import { HttpError } from "../http/errors";
-import type { PlannerAnswer, PlannerQuestion } from "../model/planner";
+import type { PlannerAnswer, PlannerQuestion } from "../../contract/planner";
 import { planStudy } from "../services/planner";
 import { StatsError } from "../stats/errors";
 import { lowerWorkerThreadPriority } from "./thread-priority";

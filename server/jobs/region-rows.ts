@@ -20,7 +20,7 @@
  * Pure; encode runs in the fit's worker thread, decode in the region
  * detail. Cost O(rows × fields).
  */
-import type { ParticipantDiagnostics } from "../model/spec";
+import type { ParticipantDiagnostics } from "../../contract/spec";
 
 interface ColumnLayout {
   layout: "columns";

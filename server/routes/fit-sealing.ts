@@ -8,7 +8,7 @@
  *                                 and approved, or when already sealed (Owner); 409 second_person_required when the
  *                                 caller started and approved it and the setting is on
  *
- * The rule is server/model/sign-off.ts; services/sealing.ts applies it.
+ * The rule is contract/sign-off.ts; services/sealing.ts applies it.
  *
  * Routes under /fits/:fitId find the fit's study before checking rights.
  */

@@ -8,7 +8,7 @@
  * DELETE /api/studies/:studyId/models/:modelId    → 204 soft delete; its fits stay (Owner, Analyst)
  *
  * Bodies are checked with the schemas the web form uses
- * (server/model/model-form.ts), then against the study's current data with
+ * (contract/model-form.ts), then against the study's current data with
  * the fit's own rules (a model sure to fail when run is refused, 400).
  * ModelView: { id, studyId, name, spec, regionSelection, circular,
  * caution, createdBy, createdAt, updatedBy, updatedAt, fitCount }.
@@ -18,7 +18,7 @@ import { z } from "zod";
 import { authorize, authorizedStudy } from "../auth/permissions";
 import { signedInUser } from "../auth/session";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
-import { modelCreateSchema, modelPatchSchema } from "../model/model-form";
+import { modelCreateSchema, modelPatchSchema } from "../../contract/model-form";
 import type { FitDataCache } from "../services/fit-inputs";
 import { createModel, deleteModel, getModel, listModels, updateModel } from "../services/models";
 import type { RouteDeps } from "./deps";

@@ -11,7 +11,7 @@ import { Router } from "express";
 import { authorize } from "../auth/permissions";
 import { noQuery, parsed, validate } from "../http/validate";
 import { type PlannerJobs, sharedPlannerJobs } from "../jobs/planner-jobs";
-import { plannerQuestionSchema } from "../model/planner";
+import { plannerQuestionSchema } from "../../contract/planner";
 import type { RouteDeps } from "./deps";
 
 const ask = { query: noQuery, body: plannerQuestionSchema };

@@ -6,7 +6,7 @@
  * POST   /api/studies                    → { name, description?, restricted? }; you become Owner (201)
  * GET    /api/studies/:studyId           → one study with your role, counts and capabilities
  * PATCH  /api/studies/:studyId           → { name?, description?, restricted?, secondPersonSignOff? } (Owner); the study's
- *                                          view carries `secondPersonSignOff` ("A second person signs off", server/model/sign-off.ts)
+ *                                          view carries `secondPersonSignOff` ("A second person signs off", contract/sign-off.ts)
  * DELETE /api/studies/:studyId           → { confirm: "<study name>" } soft delete (Owner, 204); 409 study_has_sealed_fits
  * POST   /api/studies/:studyId/restore   → undo a delete within 30 days (Owner); 410 restore_expired after
  * POST   /api/studies/:studyId/archive   → read-only for every role, still readable (Owner)

@@ -30,7 +30,7 @@ import { eq } from "drizzle-orm";
 import type { Queryable } from "../../db/client";
 import { datasetVersions, type Fit } from "../../db/schema";
 import { HttpError } from "../http/errors";
-import type { ModelSpec, RegionResult } from "../model/spec";
+import type { ModelSpec, RegionResult } from "../../contract/spec";
 import { correctForAttenuation } from "../stats/attenuation";
 import { StatsError } from "../stats/errors";
 import {

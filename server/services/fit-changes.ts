@@ -8,7 +8,7 @@
  * fields. Participant ids appear only when `participantsVisible`; a Viewer
  * of a restricted study gets counts instead. Cost O(size of the lists).
  */
-import type { ModelSpec } from "../model/spec";
+import type { ModelSpec } from "../../contract/spec";
 
 /** A dataset version as the words name it. */
 export interface VersionRef {

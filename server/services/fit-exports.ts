@@ -11,7 +11,7 @@
  * - Recipe: the stored recipe, keys in the recipe command's order (values
  *   unchanged), so `npm run --silent fit -- recipe.json` beside the two
  *   original files reproduces the numbers.
- * - Methods: server/model/methods-text.ts, fed with the recipe, the result,
+ * - Methods: contract/methods-text.ts, fed with the recipe, the result,
  *   the data versions, the model's region-selection answer, the join of
  *   the fit's data versions and whether its seal records that one person
  *   started, approved and sealed it.
@@ -22,8 +22,8 @@ import { eq, inArray } from "drizzle-orm";
 import type { Queryable } from "../../db/client";
 import { datasetVersions, fitSeals, models, type Fit } from "../../db/schema";
 import { toCsv, type CsvCell } from "../intake/export-csv";
-import { buildMethodsText, type MethodsInput, type MethodsText } from "../model/methods-text";
-import type { RegionResult } from "../model/spec";
+import { buildMethodsText, type MethodsInput, type MethodsText } from "../../contract/methods-text";
+import type { RegionResult } from "../../contract/spec";
 import { conflict } from "../http/errors";
 import { buildFitInputs, inputsOfFit } from "./fit-inputs";
 

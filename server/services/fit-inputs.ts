@@ -13,7 +13,7 @@ import { asc, eq, inArray } from "drizzle-orm";
 import type { Queryable } from "../../db/client";
 import { datasetVersions, rosterMappings, type DatasetVersion } from "../../db/schema";
 import { type BuiltFitData, type IdMapping, buildFitData } from "../intake";
-import { type FitData, type ModelSpec, modelSpecSchema } from "../model/spec";
+import { type FitData, type ModelSpec, modelSpecSchema } from "../../contract/spec";
 import { loadBrainTable, loadParticipantSheet } from "./datasets";
 
 export interface FitInputs {

@@ -27,7 +27,7 @@ import { and, desc, eq, inArray, ne, sql } from "drizzle-orm";
 import type { Queryable } from "../../db/client";
 import { cachedRead } from "../../db/read-cache";
 import { datasetVersions, fits, models, setAsides, users } from "../../db/schema";
-import { type ModelSpec, modelSpecSchema } from "../model/spec";
+import { type ModelSpec, modelSpecSchema } from "../../contract/spec";
 import {
   type InputFacts,
   type SetAsideEntry,

@@ -36,14 +36,14 @@ import { conflict, notFound } from "../http/errors";
 import { idSchema } from "../http/validate";
 import type { FitJobs, FitProgress } from "../jobs/fit-jobs";
 import { decodeRegionRows } from "../jobs/region-rows";
-import { circularityCaution } from "../model/model-form";
+import { circularityCaution } from "../../contract/model-form";
 import {
   type Flag,
   type ModelSpec,
   type ParticipantDiagnostics,
   type RegionResult,
   modelSpecSchema,
-} from "../model/spec";
+} from "../../contract/spec";
 import type { RegionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
 import { attenuateResult, withAttenuation } from "./attenuation";

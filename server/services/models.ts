@@ -20,8 +20,8 @@ import {
   type RegionSelection,
   circularityCaution,
   isCircular,
-} from "../model/model-form";
-import { type FitData, type ModelSpec, modelSpecSchema } from "../model/spec";
+} from "../../contract/model-form";
+import { type FitData, type ModelSpec, modelSpecSchema } from "../../contract/spec";
 import { IntakeError } from "../intake/errors";
 import { fitPreconditionProblems } from "../stats/run-fit";
 import { recordEvent } from "./audit";

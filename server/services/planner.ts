@@ -15,7 +15,7 @@ import {
   type PlannerAnswer,
   type PlannerQuestion,
   simulationDraws,
-} from "../model/planner";
+} from "../../contract/planner";
 import { componentReliability, planSampleSize, simulatePower } from "../stats/power";
 import { createRng } from "../stats/rng";
 

@@ -22,7 +22,7 @@ import type { Database, Queryable } from "../../db/client";
 import { traitReliabilities, users, type DatasetVersion } from "../../db/schema";
 import { HttpError, conflict } from "../http/errors";
 import { brainSessions, buildFitData } from "../intake";
-import { modelSpecSchema } from "../model/spec";
+import { modelSpecSchema } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
 import { runFit } from "../stats/run-fit";
 import { recordEvent } from "./audit";

@@ -11,7 +11,7 @@
  * (`SealedModel`): the sealed fit's view shows that name, not a later
  * rename or deletion.
  *
- * The study's setting "A second person signs off" (server/model/sign-off.ts)
+ * The study's setting "A second person signs off" (contract/sign-off.ts)
  * is read inside the same transaction: while it is on, the fit's starter
  * cannot approve it and one person cannot start, approve and seal it (409
  * second_person_required); while it is off, the seal records whether one
@@ -34,7 +34,7 @@ import {
   maySeal,
   sealRefusalMessage,
   secondPersonRequiredCode,
-} from "../model/sign-off";
+} from "../../contract/sign-off";
 import { recordEvent } from "./audit";
 
 interface Actor {

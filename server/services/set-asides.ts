@@ -5,7 +5,7 @@
  * and both are recorded in the audit trail in the same transaction; each
  * event names the participant, the region (null = every region) and the
  * reason, which is what its activity sentence says
- * (server/model/set-aside-words.ts). The active set-asides of a study
+ * (contract/set-aside-words.ts). The active set-asides of a study
  * become a new fit's set-aside list (see fits.ts); fits already made keep
  * the list they were made with.
  *

@@ -1,7 +1,7 @@
 /**
  * Studies: create (the creator becomes Owner), read, update (name,
  * description, restricted flag, "A second person signs off" — see
- * server/model/sign-off.ts), and the life cycle that never loses what
+ * contract/sign-off.ts), and the life cycle that never loses what
  * was recorded:
  *
  * - delete is a soft delete an Owner can undo for 30 days (restore); after
@@ -30,7 +30,11 @@ import {
 } from "../../db/schema";
 import { capabilitiesOf } from "../auth/permissions";
 import { badRequest, HttpError } from "../http/errors";
-import { restorableUntil, restoreWindowDays, restoreWindowMs } from "../model/study-lifecycle";
+import {
+  restorableUntil,
+  restoreWindowDays,
+  restoreWindowMs,
+} from "../../contract/study-lifecycle";
 import { recordEvent } from "./audit";
 
 export interface StudyCounts {
@@ -58,7 +62,7 @@ export interface StudySummary {
 export interface StudyDetail extends StudySummary {
   /** Actions the caller's role allows in this study (see server/auth/permissions.ts). */
   capabilities: string[];
-  /** The setting "A second person signs off" (server/model/sign-off.ts): while true, whoever started a fit cannot approve it. */
+  /** The setting "A second person signs off" (contract/sign-off.ts): while true, whoever started a fit cannot approve it. */
   secondPersonSignOff: boolean;
 }
 

@@ -29,7 +29,7 @@
  * - influence: D_i > 4/n (Bollen & Jackman 1990, in "Modern Methods of Data
  *   Analysis", p. 266).
  */
-import type { Flag } from "../model/spec";
+import type { Flag } from "../../contract/spec";
 import { studentTQuantile } from "./distributions";
 import type { LinearModelFit, QrDecomposition } from "./linear-model";
 

@@ -16,7 +16,7 @@
  * participant, a participant without a value, or a method's precondition
  * (the band needs n > p, a group mean at least two distinct values).
  */
-import type { FitData, ModelSpec } from "../model/spec";
+import type { FitData, ModelSpec } from "../../contract/spec";
 import { type DesignTerm, buildDesign, compareCodePoints } from "./design-matrix";
 import { StatsError } from "./errors";
 import { fitLinearModel } from "./linear-model";

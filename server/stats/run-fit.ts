@@ -61,7 +61,7 @@ import {
   minimumPerGroup,
   type SpecProblem,
   specProblems,
-} from "../model/fit-rules";
+} from "../../contract/fit-rules";
 import {
   type FitData,
   type FitResult,
@@ -69,7 +69,7 @@ import {
   type ParticipantDiagnostics,
   type RegionResult,
   modelSpecSchema,
-} from "../model/spec";
+} from "../../contract/spec";
 import { bootstrapInterval } from "./bootstrap";
 import { adjustPValues } from "./corrections";
 import { leaveOneOutCorrelations } from "./compare-correlations";

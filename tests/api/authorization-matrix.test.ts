@@ -17,7 +17,7 @@ import { seedDemoDatasets } from "../../db/seed/demo-datasets";
 import { type Action, type Audience, permissions } from "../../server/auth/permissions";
 import { listRoutes } from "../../server/http/route-list";
 import type { FitJobs } from "../../server/jobs/fit-jobs";
-import { modelSpecSchema } from "../../server/model/spec";
+import { modelSpecSchema } from "../../contract/spec";
 import { createFit } from "../../server/services/fits";
 import { hashToken } from "../../server/services/invitations";
 import { createTestApp, signInByEmail, userIdOf, type TestApp } from "./helpers";

@@ -1,7 +1,7 @@
 /**
  * A model that is sure to fail when run is never saved: POST and PATCH of a
  * model judge it against the study's current data with the fit's own rules
- * (server/model/fit-rules.ts through the engine's fitPreconditionProblems).
+ * (contract/fit-rules.ts through the engine's fitPreconditionProblems).
  * And max-T fits on the demo study, whose brain table has empty cells,
  * finish (sign flips and Freedman–Lane).
  */

@@ -7,11 +7,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { PlannerJobs, sharedPlannerJobs } from "../../server/jobs/planner-jobs";
-import {
-  PLANNER_MAX_DRAWS,
-  plannerQuestionSchema,
-  simulationDraws,
-} from "../../server/model/planner";
+import { PLANNER_MAX_DRAWS, plannerQuestionSchema, simulationDraws } from "../../contract/planner";
 import { agentFor, createTestApp, signInDemo, type Agent, type TestApp } from "./helpers";
 
 let t: TestApp;

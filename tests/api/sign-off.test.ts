@@ -14,8 +14,8 @@ import { eq } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { fitSeals, memberships, studies } from "../../db/schema";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
-import { singlePersonSignOffSentence } from "../../server/model/methods-text";
-import { approvalRefusalMessage, sealRefusalMessage } from "../../server/model/sign-off";
+import { singlePersonSignOffSentence } from "../../contract/methods-text";
+import { approvalRefusalMessage, sealRefusalMessage } from "../../contract/sign-off";
 import {
   type Agent,
   type TestApp,

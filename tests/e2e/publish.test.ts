@@ -13,12 +13,12 @@
  */
 import { readFileSync } from "node:fs";
 import { beforeAll, expect, it } from "vitest";
-import { singlePersonSignOffSentence } from "../../server/model/methods-text";
+import { singlePersonSignOffSentence } from "../../contract/methods-text";
 import {
   approvalRefusalMessage,
   singlePersonSealNote,
   singlePersonWarning,
-} from "../../server/model/sign-off";
+} from "../../contract/sign-off";
 import { type DemoApi, demoApi as signInDemo, openPage, phone, screenshot, wide } from "./harness";
 import { sharedServerAndBrowser } from "./session";
 

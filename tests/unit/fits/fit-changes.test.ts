@@ -5,7 +5,7 @@
  * own (common practice, no source).
  */
 import { describe, expect, it } from "vitest";
-import { modelSpecSchema } from "../../../server/model/spec";
+import { modelSpecSchema } from "../../../contract/spec";
 import {
   type InputFacts,
   refitChanges,

@@ -10,7 +10,7 @@ import {
   type ModelSpecInput,
   modelSpecSchema,
   type ParticipantDiagnostics,
-} from "../../../server/model/spec";
+} from "../../../contract/spec";
 import { createRng } from "../../../server/stats/rng";
 import { runFit } from "../../../server/stats/run-fit";
 

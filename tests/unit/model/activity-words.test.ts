@@ -9,7 +9,7 @@ import {
   memberRemovedWords,
   personWords,
   roleChangedWords,
-} from "../../../server/model/activity-words";
+} from "../../../contract/activity-words";
 
 describe("activity words", () => {
   it("names a removed member and their role", () => {

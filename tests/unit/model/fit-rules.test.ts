@@ -1,16 +1,12 @@
 /**
- * The fit rules (server/model/fit-rules.ts): one module for the engine, the
+ * The fit rules (contract/fit-rules.ts): one module for the engine, the
  * model service and the form. The engine refuses exactly what the checks
  * report, with the first problem as its message (product rules, no
  * external source).
  */
 import { describe, expect, it } from "vitest";
-import {
-  dataPreconditions,
-  dataProblems,
-  minimumParticipants,
-} from "../../../server/model/fit-rules";
-import { type FitData, type ModelSpecInput, modelSpecSchema } from "../../../server/model/spec";
+import { dataPreconditions, dataProblems, minimumParticipants } from "../../../contract/fit-rules";
+import { type FitData, type ModelSpecInput, modelSpecSchema } from "../../../contract/spec";
 import { fitPreconditionProblems, runFit } from "../../../server/stats/run-fit";
 import { permutationData, withEmptyCells } from "../stats/permutation-data";
 

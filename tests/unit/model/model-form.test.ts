@@ -5,8 +5,8 @@ import {
   modelCreateSchema,
   modelPatchSchema,
   modelSpecProblems,
-} from "../../../server/model/model-form";
-import { modelSpecSchema } from "../../../server/model/spec";
+} from "../../../contract/model-form";
+import { modelSpecSchema } from "../../../contract/spec";
 
 const problems = (spec: Record<string, unknown>) => modelSpecProblems(modelSpecSchema.parse(spec));
 

@@ -12,7 +12,7 @@ import {
   setAsideEventSentence,
   setAsideEventWords,
   setAsideLine,
-} from "../../../server/model/set-aside-words";
+} from "../../../contract/set-aside-words";
 
 describe("activity sentences", () => {
   it("say who set whom aside from which region, and why", () => {

@@ -16,9 +16,9 @@ import {
   smallSampleCaution,
   smallSamplePaperCaution,
   smallSampleRegions,
-} from "../../../server/model/cautions";
-import { circularityCaution as modelFormCircularityCaution } from "../../../server/model/model-form";
-import { methodReferences } from "../../../server/model/methods-text";
+} from "../../../contract/cautions";
+import { circularityCaution as modelFormCircularityCaution } from "../../../contract/model-form";
+import { methodReferences } from "../../../contract/methods-text";
 
 describe("small-sample caution", () => {
   it("applies below 20 participants, not at 20 (common practice, no source)", () => {

@@ -14,8 +14,8 @@ import {
   estimatorsByKind,
   modelSpecProblems,
   regionSelections,
-} from "../../../server/model/model-form";
-import { type MethodsInput, buildMethodsText, list } from "../../../server/model/methods-text";
+} from "../../../contract/model-form";
+import { type MethodsInput, buildMethodsText, list } from "../../../contract/methods-text";
 import {
   type ModelSpec,
   type ModelSpecInput,
@@ -25,7 +25,7 @@ import {
   inferences,
   modelKinds,
   modelSpecSchema,
-} from "../../../server/model/spec";
+} from "../../../contract/spec";
 
 // ─── The rules ───
 

@@ -9,8 +9,8 @@ import {
   MethodsTextError,
   buildMethodsText,
   methodReferences,
-} from "../../../server/model/methods-text";
-import type { RegionResult } from "../../../server/model/spec";
+} from "../../../contract/methods-text";
+import type { RegionResult } from "../../../contract/spec";
 
 function region(name: string, n: number, extra: Record<string, unknown> = {}): RegionResult {
   return {

@@ -10,7 +10,7 @@ import {
   sealRefusalMessage,
   singlePersonSealNote,
   singlePersonWarning,
-} from "../../../server/model/sign-off";
+} from "../../../contract/sign-off";
 
 const tomas = { id: "u3", name: "Tomas Ferreira" };
 const owner = { approve: true, seal: true, id: "u1" };

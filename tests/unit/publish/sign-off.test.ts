@@ -1,5 +1,5 @@
 /**
- * The rule of "A second person signs off" (server/model/sign-off.ts), every
+ * The rule of "A second person signs off" (contract/sign-off.ts), every
  * combination of starter, approver and sealer among two people, and the
  * words the publish panel and the activity trail use.
  */
@@ -11,7 +11,7 @@ import {
   signOffSettingWords,
   whoMayApprove,
   whoMaySeal,
-} from "../../../server/model/sign-off";
+} from "../../../contract/sign-off";
 
 const tomas = { id: "u-tomas", name: "Tomas Ferreira" };
 const maren = { id: "u-maren", name: "Maren Lindqvist" };

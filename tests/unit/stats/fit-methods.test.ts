@@ -1,6 +1,6 @@
 import { sampleRankCorrelation } from "simple-statistics";
 import { describe, expect, it } from "vitest";
-import { type FitData, type ModelSpecInput, modelSpecSchema } from "../../../server/model/spec";
+import { type FitData, type ModelSpecInput, modelSpecSchema } from "../../../contract/spec";
 import { studentTQuantile } from "../../../server/stats/distributions";
 import { createRng } from "../../../server/stats/rng";
 import { runFit } from "../../../server/stats/run-fit";

@@ -19,7 +19,7 @@
  * region using the signs of its own participants.
  */
 import { describe, expect, it } from "vitest";
-import { type FitData, type ModelSpecInput, modelSpecSchema } from "../../../server/model/spec";
+import { type FitData, type ModelSpecInput, modelSpecSchema } from "../../../contract/spec";
 import { createRearranger } from "../../../server/stats/rearrangements";
 import { createRng } from "../../../server/stats/rng";
 import { runFit } from "../../../server/stats/run-fit";

@@ -4,7 +4,7 @@
  * numeric columns age and motion, a two-level group (every third
  * participant a patient) and a two-level sex column.
  */
-import type { FitData } from "../../../server/model/spec";
+import type { FitData } from "../../../contract/spec";
 import { createRng } from "../../../server/stats/rng";
 
 export const permutationRegions = [

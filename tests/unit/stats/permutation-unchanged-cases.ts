@@ -4,7 +4,7 @@
  * (shared rearrangements): with every region on the same participants the
  * numbers must stay exactly what they were.
  */
-import type { FitData, ModelSpecInput } from "../../../server/model/spec";
+import type { FitData, ModelSpecInput } from "../../../contract/spec";
 import { permutationData } from "./permutation-data";
 
 export interface UnchangedCase {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
-import type { FitData, ModelSpec } from "../../../server/model/spec";
-import { modelSpecSchema } from "../../../server/model/spec";
+import type { FitData, ModelSpec } from "../../../contract/spec";
+import { modelSpecSchema } from "../../../contract/spec";
 import { fitLinearModel } from "../../../server/stats/linear-model";
 import { regionPlot } from "../../../server/stats/region-plot";
 import { carsDist, carsSpeed, sleepGroup1, sleepGroup2, withIntercept } from "./reference-data";

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { type FitData, type ModelSpecInput, modelSpecSchema } from "../../../server/model/spec";
+import { type FitData, type ModelSpecInput, modelSpecSchema } from "../../../contract/spec";
 import { pearsonCorrelation } from "../../../server/stats/correlation";
 import { StatsError } from "../../../server/stats/errors";
 import { intraclassCorrelations } from "../../../server/stats/icc";
