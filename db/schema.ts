@@ -46,6 +46,23 @@ export const users = pgTable("users", {
   createdAt: createdAt(),
 });
 
+/**
+ * What a person's screens remember for them (contract/preferences.ts names
+ * the keys and the shape of each value). One row a person and key.
+ */
+export const userPreferences = pgTable(
+  "user_preferences",
+  {
+    userId: text("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    key: text("key").notNull(),
+    value: jsonb("value").notNull(),
+    updatedAt: timestamp("updated_at", { mode: "date", withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [primaryKey({ columns: [t.userId, t.key] })],
+);
+
 export const accounts = pgTable(
   "accounts",
   {

@@ -82,6 +82,7 @@ export const permissions = {
   "dev.mail": anyone,
   "dev.demo-sign-in": anyone,
   "me.read": signedIn,
+  "me.preferences": signedIn,
   "studies.list": signedIn,
   "studies.create": signedIn,
   "invitation.read": anyone,

@@ -81,6 +81,16 @@ const matrix: Record<string, Row> = {
   "GET /api/health": { path: () => "/api/health", expected: all(200) },
   "GET /api/auth-options": { path: () => "/api/auth-options", expected: all(200) },
   "GET /api/me": { path: () => "/api/me", expected: signedIn(200) },
+  "GET /api/me/preferences": { path: () => "/api/me/preferences", expected: signedIn(200) },
+  "PUT /api/me/preferences/:key": {
+    path: () => "/api/me/preferences/region-table.columns",
+    body: () => ({ value: ["df"] }),
+    expected: signedIn(200),
+  },
+  "DELETE /api/me/preferences/:key": {
+    path: () => "/api/me/preferences/region-table.columns",
+    expected: signedIn(204),
+  },
   "GET /api/dev/mail": { path: () => "/api/dev/mail", expected: all(200) },
   "POST /api/dev/demo-sign-in": {
     path: () => "/api/dev/demo-sign-in",
