@@ -35,6 +35,8 @@ export const methodReferences = {
     "Beaton, A. E., & Tukey, J. W. (1974). The fitting of power series, meaning polynomials, illustrated on band-spectroscopic data. Technometrics, 16(2), 147–185.",
   "Benjamini & Hochberg 1995":
     "Benjamini, Y., & Hochberg, Y. (1995). Controlling the false discovery rate: a practical and powerful approach to multiple testing. Journal of the Royal Statistical Society, Series B, 57(1), 289–300.",
+  "Best & Roberts 1975":
+    "Best, D. J., & Roberts, D. E. (1975). Algorithm AS 89: The upper tail probabilities of Spearman's rho. Journal of the Royal Statistical Society, Series C (Applied Statistics), 24(3), 377–379.",
   "Bollen & Jackman 1990":
     "Bollen, K. A., & Jackman, R. W. (1990). Regression diagnostics: an expository treatment of outliers and influential cases. In J. Fox & J. S. Long (Eds.), Modern Methods of Data Analysis (pp. 257–291). Newbury Park, CA: Sage.",
   "Cook 1977":
@@ -450,12 +452,18 @@ function robustWords(
 }
 
 /** How the rank tests' p-values were found, from the regions' method words ("exact" or an approximation). */
-function rankExactness(regions: readonly RegionResult[]): string {
+function rankExactness(regions: readonly RegionResult[], c: Citations): string {
   const methods = regions.map((r) => String(r.method ?? ""));
   const exact = methods.filter((m) => /\bexact\b/.test(m)).length;
-  const approximation = methods.some((m) => /t approximation|partial Spearman/.test(m))
-    ? "the t approximation"
-    : "the normal approximation with tie and continuity correction";
+  const ways: string[] = [];
+  if (methods.some((m) => /Edgeworth series/.test(m)))
+    ways.push(`the Edgeworth series for Spearman's S = Σd² ${c.cite("Best & Roberts 1975")}`);
+  if (methods.some((m) => /t approximation|partial Spearman/.test(m)))
+    ways.push("the t approximation");
+  const approximation =
+    ways.length > 0
+      ? ways.join(" or ")
+      : "the normal approximation with tie and continuity correction";
   if (exact === regions.length) return "The rank tests' p-values are exact.";
   if (exact === 0) return `The rank tests' p-values come from ${approximation}.`;
   return `The rank tests' p-values are exact in ${count(exact, "region")} and come from ${approximation} in ${count(regions.length - exact, "region")}.`;
@@ -485,7 +493,7 @@ function inferenceSentences(
   const seed = `seed ${spec.seed}`;
   if (spec.inference === "parametric") {
     const out = ["All p-values are two-sided; intervals are 95% confidence intervals."];
-    if (spec.estimator === "rank" && spec.weights === "none") out.push(rankExactness(regions));
+    if (spec.estimator === "rank" && spec.weights === "none") out.push(rankExactness(regions, c));
     return out;
   }
   if (spec.inference === "bootstrap") {

@@ -38,7 +38,7 @@ import { mannWhitneyU } from "./mann-whitney";
 import { averageRanks } from "./ranks";
 import { percentageBendCorrelation, skippedCorrelation } from "./robust-correlation";
 import { type RobustPsi, robustCoefficientInterval, robustLinearModel } from "./robust-regression";
-import { spearmanCorrelation } from "./spearman";
+import { type SpearmanPMethod, spearmanCorrelation } from "./spearman";
 import { welchTTest } from "./two-sample-t";
 import { wilcoxonSignedRank } from "./wilcoxon-signed-rank";
 
@@ -298,6 +298,13 @@ function partialSpearman(d: RegionData): RegionEstimate {
   };
 }
 
+/** How a Spearman p-value was found, in a region's method words. */
+const SPEARMAN_METHOD: Record<SpearmanPMethod, string> = {
+  exact: "Spearman correlation, exact permutation p (S = Σd²)",
+  edgeworth: "Spearman correlation, Edgeworth series p (S = Σd², Best & Roberts 1975)",
+  t: "Spearman correlation, t approximation",
+};
+
 /**
  * The parametric estimate of one region. Throws StatsError when the
  * estimator does not apply (the orchestrator checks kind/estimator pairs
@@ -375,15 +382,13 @@ export function estimateRegion(d: RegionData, qr?: QrDecomposition): RegionEstim
     return {
       estimate: s.r,
       se: null,
-      statistic: s.exact ? s.s : s.t,
+      statistic: s.pMethod === "t" ? s.t : s.s,
       df: s.df,
       p: s.p,
       ciLow: s.ciLow,
       ciHigh: s.ciHigh,
       ...correlationFields(s),
-      method: s.exact
-        ? "Spearman correlation, exact permutation p (S = Σd²)"
-        : "Spearman correlation, t approximation",
+      method: SPEARMAN_METHOD[s.pMethod],
       extras: { exact: s.exact },
     };
   }

@@ -339,6 +339,24 @@ describe("methods paragraph", () => {
     );
   });
 
+  it("Spearman p-values from the Edgeworth series cite it, beside exact and t ones", () => {
+    const out = buildMethodsText(
+      input({ kind: "association", predictor: "age", estimator: "rank" }, [
+        region("a", 9, { method: "Spearman correlation, exact permutation p (S = Σd²)" }),
+        region("b", 40, {
+          method: "Spearman correlation, Edgeworth series p (S = Σd², Best & Roberts 1975)",
+        }),
+        region("c", 40, { method: "Spearman correlation, t approximation" }),
+      ]),
+    );
+    expect(out.text).toContain(
+      "The rank tests' p-values are exact in 1 region and come from the Edgeworth series for Spearman's S = Σd² (Best & Roberts 1975) or the t approximation in 2 regions.",
+    );
+    expect(out.references.map((r) => r.citation)).toContain(
+      methodReferences["Best & Roberts 1975"],
+    );
+  });
+
   it("no imprecision caution for associations from 1,000 participants up", () => {
     const out = buildMethodsText(
       input({ kind: "association", predictor: "age" }, [region("a", 999), region("b", 1000)]),
