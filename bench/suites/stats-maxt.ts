@@ -24,7 +24,7 @@ import {
   sharedLinearPermutationTest,
 } from "../../server/stats/permutation";
 import { createRearranger } from "../../server/stats/rearrangements";
-import { createRng, type Rng } from "../../server/stats/rng";
+import { createRng, normalDraw } from "../../server/stats/rng";
 
 const REGIONS = 400;
 const N = 500;
@@ -33,12 +33,6 @@ const RESAMPLES = 10_000;
 const TESTED = 4;
 const SEED = 2025;
 const NAIVE_SUBSET = 20;
-
-function gaussian(rng: Rng): number {
-  let u = rng.next();
-  while (u === 0) u = rng.next();
-  return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * rng.next());
-}
 
 function seconds(start: bigint): number {
   return Number(process.hrtime.bigint() - start) / 1e9;
@@ -55,13 +49,13 @@ export default async function run(): Promise<void> {
   const design = new Float64Array(N * P);
   for (let i = 0; i < N; i++) {
     design[i * P] = 1;
-    for (let k = 1; k < P; k++) design[i * P + k] = gaussian(rng);
+    for (let k = 1; k < P; k++) design[i * P + k] = normalDraw(rng);
   }
   const y = Array.from({ length: REGIONS }, (_, r) => {
     const v = new Float64Array(N);
     const effect = r % 20 === 0 ? 0.3 : 0;
     for (let i = 0; i < N; i++)
-      v[i] = 0.3 * design[i * P + 1] + effect * design[i * P + TESTED] + gaussian(rng);
+      v[i] = 0.3 * design[i * P + 1] + effect * design[i * P + TESTED] + normalDraw(rng);
     return v;
   });
   const input = {

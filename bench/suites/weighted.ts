@@ -15,17 +15,11 @@ import {
 } from "../../server/stats/meta-regression";
 import { modelSpecSchema } from "../../contract/spec";
 import { runFit } from "../../server/stats/run-fit";
-import { createRng, type Rng } from "../../server/stats/rng";
+import { createRng, normalDraw } from "../../server/stats/rng";
 
 const REGIONS = 400;
 const N = 2000;
 const SEED = 4242;
-
-function gaussian(rng: Rng): number {
-  let u = rng.next();
-  while (u === 0) u = rng.next();
-  return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * rng.next());
-}
 
 function seconds(start: bigint): number {
   return Number(process.hrtime.bigint() - start) / 1e9;
@@ -36,13 +30,13 @@ export default async function run(): Promise<void> {
   const values: number[][] = [];
   const errors: number[][] = [];
   for (let r = 0; r < REGIONS; r++) {
-    const mean = 0.3 * gaussian(rng);
+    const mean = 0.3 * normalDraw(rng);
     const tau = 0.1 + 0.4 * rng.next();
     const y: number[] = new Array(N);
     const se: number[] = new Array(N);
     for (let i = 0; i < N; i++) {
       se[i] = 0.1 + 0.5 * rng.next();
-      y[i] = mean + tau * gaussian(rng) + se[i] * gaussian(rng);
+      y[i] = mean + tau * normalDraw(rng) + se[i] * normalDraw(rng);
     }
     values.push(y);
     errors.push(se);

@@ -31,7 +31,7 @@
  * Same seed → byte-identical files (numbers are printed with toFixed).
  * Cost: O(participants × regions).
  */
-import { createRng, type Rng } from "../../server/stats/rng";
+import { createRng, normalDraw, type Rng } from "../../server/stats/rng";
 
 export const DEMO_SEED = 20261201;
 
@@ -80,11 +80,9 @@ export const DEMO_SHEET_FILE = "harbour-bay_participants.tsv";
 const ENROLLED = 72;
 const RETESTED = 16;
 
-/** Standard normal deviate by the Box–Muller transform (Box & Muller 1958). */
+/** Standard normal deviate; the demo files' sequence takes u as 1 − uniform (see normalDraw). */
 function normal(rng: Rng): number {
-  const u = 1 - rng.next(); // (0, 1]
-  const v = rng.next();
-  return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * v);
+  return normalDraw(rng, { zero: "complement" });
 }
 
 function fixed(x: number, digits: number): string {

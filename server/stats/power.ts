@@ -10,7 +10,7 @@ import {
   normalQuantile,
   studentTQuantile,
 } from "./measurement-distributions";
-import type { Rng } from "./rng";
+import { type Rng, normalPairs } from "./rng";
 
 export type PowerDesign = "correlation" | "two-group" | "one-sample";
 
@@ -364,25 +364,6 @@ export interface SimulatePowerResult {
   points: SimulatedPowerPoint[];
 }
 
-/** Standard normal draws by the Box–Muller transform (Box & Muller 1958), two per pair of uniforms. */
-function normalSource(rng: Rng): () => number {
-  let spare = 0;
-  let hasSpare = false;
-  return () => {
-    if (hasSpare) {
-      hasSpare = false;
-      return spare;
-    }
-    let u = rng.next();
-    while (u === 0) u = rng.next();
-    const radius = Math.sqrt(-2 * Math.log(u));
-    const angle = 2 * Math.PI * rng.next();
-    spare = radius * Math.sin(angle);
-    hasSpare = true;
-    return radius * Math.cos(angle);
-  };
-}
-
 /**
  * Power by Monte Carlo simulation from three variance components.
  *
@@ -463,7 +444,7 @@ export function simulatePower(input: SimulatePowerInput): SimulatePowerResult {
   const sessionSd = Math.sqrt(taskDesign + measurementNoise / trials);
   const trueSd = Math.sqrt(trueDifferences);
   const reliability = componentReliability(input.components, { sessions, trials });
-  const normal = normalSource(rng);
+  const normal = normalPairs(rng);
   const measured = (trueValue: number): number => {
     let sum = 0;
     for (let s = 0; s < sessions; s++) sum += trueValue + sessionSd * normal();

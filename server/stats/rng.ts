@@ -68,3 +68,49 @@ export function createRng(seed: number): Rng {
 function rotl(x: number, k: number): number {
   return ((x << k) | (x >>> (32 - k))) >>> 0;
 }
+
+/** How a normal draw keeps the radius uniform u away from 0 (log 0 = −∞). */
+export type NormalZeroRule = "redraw" | "complement";
+
+/**
+ * A standard normal draw by the Box–Muller transform (Box & Muller 1958):
+ * √(−2 ln u)·cos(2πv) from two uniforms, u drawn first. One draw per two
+ * uniforms; the sine partner is dropped (normalPairs keeps it).
+ * `zero`: "redraw" (default) draws u again while it is 0; "complement" uses
+ * 1 − u, which lies in (0, 1] (the seeded demo data's sequence). The two give
+ * different sequences for the same seed; each is kept so that seeded files
+ * and results stay byte-identical. Cost O(1).
+ */
+export function normalDraw(rng: Rng, options: { zero?: NormalZeroRule } = {}): number {
+  let u: number;
+  if (options.zero === "complement") u = 1 - rng.next();
+  else {
+    u = rng.next();
+    while (u === 0) u = rng.next();
+  }
+  return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * rng.next());
+}
+
+/**
+ * Standard normal draws by the Box–Muller transform (Box & Muller 1958), both
+ * of each pair: √(−2 ln u)·cos(2πv), then √(−2 ln u)·sin(2πv); u = 0 is
+ * drawn again. The first draw of each pair equals normalDraw's. Cost O(1)
+ * per draw.
+ */
+export function normalPairs(rng: Rng): () => number {
+  let spare = 0;
+  let hasSpare = false;
+  return () => {
+    if (hasSpare) {
+      hasSpare = false;
+      return spare;
+    }
+    let u = rng.next();
+    while (u === 0) u = rng.next();
+    const radius = Math.sqrt(-2 * Math.log(u));
+    const angle = 2 * Math.PI * rng.next();
+    spare = radius * Math.sin(angle);
+    hasSpare = true;
+    return radius * Math.cos(angle);
+  };
+}

@@ -18,7 +18,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { fitRegions, fits, memberships } from "../../db/schema";
 import { recipeSchema } from "../../server/cli/recipe";
 import { readTable } from "../../server/intake";
-import { createRng } from "../../server/stats/rng";
+import { createRng, normalDraw } from "../../server/stats/rng";
 import { REGION_DETAIL_KEYS } from "../../server/services/fits";
 import { sealHash } from "../../server/services/sealing";
 import { type Agent, type TestApp, createTestApp, signInDemo, userIdOf } from "./helpers";
@@ -40,10 +40,7 @@ const regions = ["L_insula", "R_insula", "L_dlpfc"];
 /** Invented files from a seeded generator (values to three decimals). */
 function smallFiles(): { brain: string; sheet: string } {
   const rng = createRng(20260101);
-  const normal = () => {
-    const u = Math.max(rng.next(), 1e-12);
-    return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * rng.next());
-  };
+  const normal = () => normalDraw(rng);
   const brainLines = [["participant_id", ...regions].join(",")];
   const sheetLines = [["participant_id", "age", "accuracy", "group"].join("\t")];
   for (let i = 1; i <= 15; i++) {

@@ -5,8 +5,7 @@ import {
   linearPermutationTest,
   sharedLinearPermutationTest,
 } from "../../../server/stats/permutation";
-import { createRng } from "../../../server/stats/rng";
-import { normal } from "../stats/resampling-reference";
+import { createRng, normalDraw } from "../../../server/stats/rng";
 
 describe("splitRegions", () => {
   it("covers every region once in even-sized contiguous blocks", () => {
@@ -34,10 +33,15 @@ describe("parallel linear permutation test", () => {
   const rng = createRng(5);
   const n = 30;
   const p = 4;
-  const rows = Array.from({ length: n }, () => [1, normal(rng), normal(rng), normal(rng)]);
+  const rows = Array.from({ length: n }, () => [
+    1,
+    normalDraw(rng),
+    normalDraw(rng),
+    normalDraw(rng),
+  ]);
   const design = Float64Array.from(rows.flat());
   const y = Array.from({ length: 7 }, (_, r) =>
-    Float64Array.from(rows.map((row) => 0.2 * r * row[3] + row[1] + normal(rng))),
+    Float64Array.from(rows.map((row) => 0.2 * r * row[3] + row[1] + normalDraw(rng))),
   );
   const input = {
     design,

@@ -9,8 +9,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { genericPermutationTest, linearPermutationTest } from "../../../server/stats/permutation";
-import { createRng, type Rng } from "../../../server/stats/rng";
-import { normal } from "./resampling-reference";
+import { createRng, normalDraw, type Rng } from "../../../server/stats/rng";
 
 const DATASETS = 400;
 const REGIONS = 8;
@@ -97,12 +96,12 @@ describe("null simulation of permutation inference (400 seeded datasets, 8 regio
         const rows: number[] = [];
         const z: number[] = [];
         for (let i = 0; i < n; i++) {
-          const zi = normal(rng);
+          const zi = normalDraw(rng);
           z.push(zi);
-          rows.push(1, zi, 0.7 * zi + normal(rng));
+          rows.push(1, zi, 0.7 * zi + normalDraw(rng));
         }
         const y = Array.from({ length: REGIONS }, () =>
-          Float64Array.from(z, (zi) => 2 * zi + normal(rng)),
+          Float64Array.from(z, (zi) => 2 * zi + normalDraw(rng)),
         );
         return { design: Float64Array.from(rows), p: 3, tested: 2, y };
       },
@@ -137,7 +136,7 @@ describe("null simulation of permutation inference (400 seeded datasets, 8 regio
     const tally = simulate(
       (rng) => {
         const y = Array.from({ length: REGIONS }, () =>
-          Float64Array.from({ length: n }, () => normal(rng) ** 3),
+          Float64Array.from({ length: n }, () => normalDraw(rng) ** 3),
         );
         return { design: Float64Array.from(group.flatMap((g) => [1, g])), p: 2, tested: 1, y };
       },
@@ -156,7 +155,7 @@ describe("null simulation of permutation inference (400 seeded datasets, 8 regio
     };
     let rejections = 0;
     for (let d = 0; d < DATASETS; d++) {
-      const y = Array.from({ length: 16 }, () => Math.exp(normal(rng)));
+      const y = Array.from({ length: 16 }, () => Math.exp(normalDraw(rng)));
       const result = genericPermutationTest({
         n: 16,
         scheme: "labels",

@@ -2,14 +2,13 @@ import { describe, expect, it } from "vitest";
 import { StatsError } from "../../../server/stats/errors";
 import { genericPermutationTest, linearPermutationTest } from "../../../server/stats/permutation";
 import { createRearranger } from "../../../server/stats/rearrangements";
-import { createRng } from "../../../server/stats/rng";
+import { createRng, normalDraw } from "../../../server/stats/rng";
 import {
   allPermutations,
   allSignVectors,
   allSubsets,
   mean,
   naiveOls,
-  normal,
   oneSampleT,
   pooledT,
   twoSidedShare,
@@ -120,7 +119,7 @@ describe("linearPermutationTest, Monte Carlo against exact enumeration", () => {
   it("agrees with the exact p of 6 vs 8 group labels within the binomial band", () => {
     const rng = createRng(11);
     const group = [1, 1, 0, 1, 0, 0, 1, 0, 0, 1, 0, 0, 1, 0];
-    const y = group.map((g) => normal(rng) + 0.6 * g);
+    const y = group.map((g) => normalDraw(rng) + 0.6 * g);
     const observed = pooledT(
       y.filter((_, i) => group[i] === 1),
       y.filter((_, i) => group[i] === 0),
@@ -363,9 +362,14 @@ describe("linearPermutationTest kernel against naive refits on the same rearrang
   it("gives the naive t for every random rearrangement with four regressors and seven regions", () => {
     const rng = createRng(21);
     const n = 40;
-    const rows = Array.from({ length: n }, () => [1, normal(rng), normal(rng), normal(rng)]);
+    const rows = Array.from({ length: n }, () => [
+      1,
+      normalDraw(rng),
+      normalDraw(rng),
+      normalDraw(rng),
+    ]);
     const regions = Array.from({ length: 7 }, () =>
-      rows.map((r) => 0.5 * r[1] + 0.3 * r[3] + normal(rng)),
+      rows.map((r) => 0.5 * r[1] + 0.3 * r[3] + normalDraw(rng)),
     );
     const result = linearPermutationTest({
       design: designOf(rows),
@@ -403,9 +407,9 @@ describe("linearPermutationTest kernel against naive refits on the same rearrang
     const n = 25;
     const rows = Array.from({ length: n }, () => [
       1,
-      ...Array.from({ length: 6 }, () => normal(rng)),
+      ...Array.from({ length: 6 }, () => normalDraw(rng)),
     ]);
-    const y = rows.map((r) => r[2] - 0.5 * r[6] + normal(rng));
+    const y = rows.map((r) => r[2] - 0.5 * r[6] + normalDraw(rng));
     const result = linearPermutationTest({
       design: designOf(rows),
       n,

@@ -5,7 +5,6 @@
  * subsets and permutations, and a seeded normal generator for simulated data.
  * Nothing here shares code with the engine's kernel.
  */
-import type { Rng } from "../../../server/stats/rng";
 
 /** Inverts a small symmetric positive-definite matrix (array of rows) by Gauss–Jordan elimination with partial pivoting. */
 export function invert(a: number[][]): number[][] {
@@ -90,13 +89,6 @@ export function allSignVectors(n: number): number[][] {
 export function twoSidedShare(values: readonly number[], observed: number): number {
   const thr = Math.abs(observed) * (1 - 1e-9);
   return values.filter((v) => Math.abs(v) >= thr).length / values.length;
-}
-
-/** Standard normal draws by the Box–Muller transform. */
-export function normal(rng: Rng): number {
-  let u = rng.next();
-  while (u === 0) u = rng.next();
-  return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * rng.next());
 }
 
 export function mean(a: readonly number[]): number {

@@ -20,15 +20,15 @@ import {
   regionSigns,
   regionSources,
 } from "../../../server/stats/rearrangements";
-import { createRng } from "../../../server/stats/rng";
-import { naiveOls, normal } from "./resampling-reference";
+import { createRng, normalDraw } from "../../../server/stats/rng";
+import { naiveOls } from "./resampling-reference";
 
 const N = 10;
 const rng = createRng(31);
-const covariate = Array.from({ length: N }, () => normal(rng));
-const trait = Array.from({ length: N }, () => normal(rng));
+const covariate = Array.from({ length: N }, () => normalDraw(rng));
+const trait = Array.from({ length: N }, () => normalDraw(rng));
 const values = Array.from({ length: 3 }, () =>
-  Array.from({ length: N }, (_, i) => 0.5 * trait[i] + 0.3 * covariate[i] + normal(rng)),
+  Array.from({ length: N }, (_, i) => 0.5 * trait[i] + 0.3 * covariate[i] + normalDraw(rng)),
 );
 
 /** A block: the participants `members` (positions among the N), design [1, trait, covariate], tested column 1. */
