@@ -27,7 +27,8 @@ import {
   smallSamplePaperCaution,
 } from "./cautions";
 import { secondPersonSignOffLabel } from "./sign-off";
-import { type ModelSpec, type RegionResult, modelSpecSchema } from "./spec";
+import { RecipeSpecError, specOfRecipe } from "./recipe";
+import type { ModelSpec, RegionResult } from "./spec";
 
 /** Published references, keyed by the short form used in the text. */
 export const methodReferences = {
@@ -197,17 +198,12 @@ export function shortHash(sha256: string): string {
 }
 
 function specOf(recipe: Readonly<Record<string, unknown>>): ModelSpec {
-  const fields: Record<string, unknown> = {};
-  for (const key of Object.keys(modelSpecSchema.shape))
-    if (recipe[key] !== undefined) fields[key] = recipe[key];
-  const parsed = modelSpecSchema.safeParse(fields);
-  if (!parsed.success) {
-    const issue = parsed.error.issues[0];
-    throw new MethodsTextError(
-      `recipe field '${issue.path.join(".") || "(model)"}': ${issue.message}`,
-    );
+  try {
+    return specOfRecipe(recipe);
+  } catch (error) {
+    if (error instanceof RecipeSpecError) throw new MethodsTextError(error.message);
+    throw error;
   }
-  return parsed.data;
 }
 
 class Citations {

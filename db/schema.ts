@@ -12,6 +12,7 @@
  * committed under db/migrations.
  */
 import { sql } from "drizzle-orm";
+import type { Recipe } from "../contract/recipe";
 import {
   type AnyPgColumn,
   boolean,
@@ -408,7 +409,7 @@ export const fits = pgTable(
       .notNull()
       .references(() => datasetVersions.id),
     sheetVersionId: text("sheet_version_id").references(() => datasetVersions.id),
-    recipe: jsonb("recipe").notNull(),
+    recipe: jsonb("recipe").$type<Recipe>().notNull(),
     result: jsonb("result"),
     /** failed: the reason in plain words; cancelled: who cancelled. */
     error: text("error"),

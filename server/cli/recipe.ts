@@ -1,16 +1,6 @@
 /**
- * Recipes: the JSON that fully describes a fit, and running one from files.
- *
- * A recipe holds the model fields of `modelSpecSchema` plus the file keys:
- * `brainTable` (path of the brain table), `participantSheet` (path; optional
- * for one-sample and reliability fits without covariates), `idColumn`
- * (default "participant_id", the same in both files), and the intake keys
- * `seSuffix` (default "_se"), `session` (the session fitted when the brain
- * table has several; default the first in natural order) and `mappings`
- * (confirmed id mappings, brain id → sheet id; default none). A recipe
- * printed by the recipe command also carries `softwareVersion` and
- * `inputs` (each file's name and SHA-256); fed back in, the hashes are
- * checked, so a re-run uses exactly the same bytes. Unknown keys are errors.
+ * Running a recipe from files (the recipe command). The recipe's keys and
+ * their meaning live in contract/recipe.ts, shared with the app.
  *
  * Paths are relative to the recipe's folder. Reading the files is the only
  * I/O; parsing, joining and fitting use the same intake library and the same
@@ -19,8 +9,8 @@
 import { readFileSync } from "node:fs";
 import { basename, dirname, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
-import { z } from "zod";
-import { type FitResult, type ModelSpec, modelSpecSchema } from "../../contract/spec";
+import { buildRecipe, type Recipe, recipeSchema } from "../../contract/recipe";
+import type { FitResult, ModelSpec } from "../../contract/spec";
 import { requireStandardErrors } from "./standard-error-check";
 import {
   IntakeError,
@@ -32,27 +22,6 @@ import {
   sha256Hex,
   type ParticipantSheet,
 } from "../intake";
-
-const fileRef = z.strictObject({
-  file: z.string().min(1),
-  sha256: z.string().regex(/^[0-9a-f]{64}$/),
-});
-
-export const recipeSchema = z.strictObject({
-  brainTable: z.string().min(1),
-  participantSheet: z.string().min(1).optional(),
-  idColumn: z.string().min(1).default("participant_id"),
-  seSuffix: z.string().min(1).default("_se"),
-  session: z.string().min(1).optional(),
-  mappings: z
-    .array(z.strictObject({ brainId: z.string().min(1), sheetId: z.string().min(1) }))
-    .default([]),
-  ...modelSpecSchema.shape,
-  softwareVersion: z.string().min(1).optional(),
-  inputs: z.strictObject({ brainTable: fileRef, participantSheet: fileRef.optional() }).optional(),
-});
-
-export type Recipe = z.output<typeof recipeSchema>;
 
 /** A fault in the recipe or its files: the command prints `message` as one line and exits with code 2. */
 export class RecipeError extends Error {
@@ -182,7 +151,7 @@ export interface RecipeOutput {
     nearMisses: { brainId: string; sheetId: string; reason: string }[];
     rule: string | null;
   };
-  recipe: Record<string, unknown>;
+  recipe: Recipe;
 }
 
 /**
@@ -299,22 +268,19 @@ export async function runRecipe(recipePath: string): Promise<RecipeOutput> {
   const result = runFit(spec, built.data);
 
   const roster = built.roster;
-  const filled: Record<string, unknown> = {
-    brainTable: recipe.brainTable,
-    ...(recipe.participantSheet !== undefined ? { participantSheet: recipe.participantSheet } : {}),
+  const filled = buildRecipe({
+    brainTable: { file: recipe.brainTable, sha256: brainSha },
+    participantSheet:
+      sheetSha !== null && recipe.participantSheet !== undefined
+        ? { file: recipe.participantSheet, sha256: sheetSha }
+        : null,
     idColumn: recipe.idColumn,
     seSuffix: recipe.seSuffix,
-    ...(built.session !== null ? { session: built.session } : {}),
+    session: built.session,
     mappings: recipe.mappings,
-    ...spec,
+    spec,
     softwareVersion: softwareVersion(),
-    inputs: {
-      brainTable: { file: recipe.brainTable, sha256: brainSha },
-      ...(sheetSha !== null && recipe.participantSheet !== undefined
-        ? { participantSheet: { file: recipe.participantSheet, sha256: sheetSha } }
-        : {}),
-    },
-  };
+  });
   return {
     ...result,
     roster: {

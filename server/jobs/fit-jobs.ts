@@ -41,7 +41,8 @@ import { IntakeError } from "../intake/errors";
 import type { FitData } from "../../contract/spec";
 import { secondsLeftOf } from "./time-left";
 import { recordEvent } from "../services/audit";
-import { FitDataCache, type FitInputs, inputsOfFit, specOfRecipe } from "../services/fit-inputs";
+import { specOfRecipe } from "../../contract/recipe";
+import { FitDataCache, type FitInputs, inputsOfFit } from "../services/fit-inputs";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "./fit-task";
 
 export interface FitProgress {
@@ -290,7 +291,7 @@ export class FitJobs {
       let data: FitData;
       let spec: ReturnType<typeof specOfRecipe>;
       try {
-        spec = specOfRecipe(fit.recipe as Record<string, unknown>);
+        spec = specOfRecipe(fit.recipe);
         data = await this.data.get(inputsOfFit(fit) as FitInputs);
       } catch (error) {
         if (error instanceof IntakeError)

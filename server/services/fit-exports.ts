@@ -23,6 +23,7 @@ import type { Queryable } from "../../db/client";
 import { datasetVersions, fitSeals, models, type Fit } from "../../db/schema";
 import { toCsv, type CsvCell } from "../intake/export-csv";
 import { buildMethodsText, type MethodsInput, type MethodsText } from "../../contract/methods-text";
+import { orderedRecipe } from "../../contract/recipe";
 import type { RegionResult } from "../../contract/spec";
 import { conflict } from "../http/errors";
 import { buildFitInputs, inputsOfFit } from "./fit-inputs";
@@ -109,41 +110,9 @@ export function regionsCsv(fit: Fit): string {
   return toCsv(header, rows);
 }
 
-/** The recipe command's key order; other keys follow in stored order. */
-const recipeKeyOrder = [
-  "brainTable",
-  "participantSheet",
-  "idColumn",
-  "seSuffix",
-  "session",
-  "mappings",
-  "kind",
-  "regions",
-  "predictor",
-  "group",
-  "levels",
-  "covariates",
-  "interaction",
-  "estimator",
-  "inference",
-  "resamples",
-  "seed",
-  "correction",
-  "setAside",
-  "weights",
-  "tau2Method",
-  "smallSample",
-  "softwareVersion",
-  "inputs",
-];
-
 /** The stored recipe as a JSON document (keys in the recipe command's order, values unchanged). */
 export function recipeJson(fit: Pick<Fit, "recipe">): string {
-  const recipe = fit.recipe as Record<string, unknown>;
-  const ordered: Record<string, unknown> = {};
-  for (const key of recipeKeyOrder) if (key in recipe) ordered[key] = recipe[key];
-  for (const key of Object.keys(recipe)) if (!(key in ordered)) ordered[key] = recipe[key];
-  return `${JSON.stringify(ordered, null, 2)}\n`;
+  return `${JSON.stringify(orderedRecipe(fit.recipe), null, 2)}\n`;
 }
 
 /**

@@ -13,13 +13,16 @@ import { asc, eq, inArray } from "drizzle-orm";
 import type { Queryable } from "../../db/client";
 import { datasetVersions, rosterMappings, type DatasetVersion } from "../../db/schema";
 import { type BuiltFitData, type IdMapping, buildFitData } from "../intake";
-import { type FitData, type ModelSpec, modelSpecSchema } from "../../contract/spec";
+import type { Recipe } from "../../contract/recipe";
+import type { FitData } from "../../contract/spec";
 import { loadBrainTable, loadParticipantSheet } from "./datasets";
 
 export interface FitInputs {
   brainVersionId: string;
   sheetVersionId: string | null;
   mappings: readonly IdMapping[];
+  /** The session fitted when the brain table has several; null: the first in natural order. */
+  session: string | null;
 }
 
 /** The study's confirmed id mappings, in brain-id order. */
@@ -48,7 +51,10 @@ export async function buildFitInputs(db: Queryable, inputs: FitInputs): Promise<
     loadBrainTable(db, brain),
     sheet ? loadParticipantSheet(db, sheet) : Promise.resolve(null),
   ]);
-  return buildFitData(table, participants, { mappings: inputs.mappings });
+  return buildFitData(table, participants, {
+    mappings: inputs.mappings,
+    session: inputs.session ?? undefined,
+  });
 }
 
 function keyOf(inputs: FitInputs): string {
@@ -58,13 +64,19 @@ function keyOf(inputs: FitInputs): string {
   return JSON.stringify([
     inputs.brainVersionId,
     inputs.sheetVersionId,
+    inputs.session,
     mappings.map((m) => [m.brainId, m.sheetId]),
   ]);
 }
 
+export interface CachedFitData {
+  data: FitData;
+  session: string | null;
+}
+
 /** A small least-recently-used cache of built fit inputs. */
 export class FitDataCache {
-  private readonly entries = new Map<string, Promise<FitData>>();
+  private readonly entries = new Map<string, Promise<CachedFitData>>();
 
   constructor(
     private readonly db: Queryable,
@@ -72,7 +84,12 @@ export class FitDataCache {
   ) {}
 
   /** The fit data of `inputs` (built once, then shared). A failed build is not kept. */
-  get(inputs: FitInputs): Promise<FitData> {
+  async get(inputs: FitInputs): Promise<FitData> {
+    return (await this.built(inputs)).data;
+  }
+
+  /** The fit data of `inputs` and the session it holds (null: the brain table has none). */
+  built(inputs: FitInputs): Promise<CachedFitData> {
     const key = keyOf(inputs);
     const hit = this.entries.get(key);
     if (hit) {
@@ -80,7 +97,10 @@ export class FitDataCache {
       this.entries.set(key, hit);
       return hit;
     }
-    const built = buildFitInputs(this.db, inputs).then((b) => b.data);
+    const built = buildFitInputs(this.db, inputs).then((b) => ({
+      data: b.data,
+      session: b.session,
+    }));
     this.entries.set(key, built);
     built.catch(() => {
       if (this.entries.get(key) === built) this.entries.delete(key);
@@ -93,20 +113,16 @@ export class FitDataCache {
   }
 }
 
-/** The model fields of a stored recipe (its other keys name the data). Throws ZodError for a malformed recipe. */
-export function specOfRecipe(recipe: Readonly<Record<string, unknown>>): ModelSpec {
-  const fields: Record<string, unknown> = {};
-  for (const key of Object.keys(modelSpecSchema.shape))
-    if (recipe[key] !== undefined) fields[key] = recipe[key];
-  return modelSpecSchema.parse(fields);
-}
-
 /** The data a stored fit names: its dataset versions and the recipe's id mappings. */
 export function inputsOfFit(fit: {
   brainVersionId: string;
   sheetVersionId: string | null;
-  recipe: unknown;
+  recipe: Pick<Recipe, "mappings" | "session">;
 }): FitInputs {
-  const mappings = (fit.recipe as { mappings?: IdMapping[] } | null)?.mappings ?? [];
-  return { brainVersionId: fit.brainVersionId, sheetVersionId: fit.sheetVersionId, mappings };
+  return {
+    brainVersionId: fit.brainVersionId,
+    sheetVersionId: fit.sheetVersionId,
+    mappings: fit.recipe.mappings ?? [],
+    session: fit.recipe.session ?? null,
+  };
 }

@@ -35,7 +35,8 @@ import {
   refitChanges,
   staleReasons,
 } from "./fit-changes";
-import { confirmedMappings, specOfRecipe } from "./fit-inputs";
+import { specOfRecipe } from "../../contract/recipe";
+import { confirmedMappings } from "./fit-inputs";
 
 /** A set-aside a fit applied, as its view shows it. */
 export interface FitSetAsideView {

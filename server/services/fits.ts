@@ -37,6 +37,7 @@ import { idSchema } from "../http/validate";
 import type { FitJobs, FitProgress } from "../jobs/fit-jobs";
 import { decodeRegionRows } from "../jobs/region-rows";
 import { circularityCaution } from "../../contract/model-form";
+import { type Recipe, buildRecipe, specOfRecipe } from "../../contract/recipe";
 import {
   type Flag,
   type ModelSpec,
@@ -49,7 +50,7 @@ import { FIT_LEVEL, runFit } from "../stats/run-fit";
 import { attenuateResult, withAttenuation } from "./attenuation";
 import { recordEvent } from "./audit";
 import { currentVersions } from "./datasets";
-import { confirmedMappings, inputsOfFit, specOfRecipe } from "./fit-inputs";
+import { confirmedMappings, inputsOfFit } from "./fit-inputs";
 import {
   type FitLineage,
   type FitSetAsideView,
@@ -624,8 +625,13 @@ export async function createFit(
       "This study has no confirmed brain table yet: upload and confirm one before running a fit.",
     );
   const mappings = await confirmedMappings(db, study.id);
-  const inputs = { brainVersionId: brain.id, sheetVersionId: participants?.id ?? null, mappings };
-  const data = await jobs.data.get(inputs);
+  const inputs = {
+    brainVersionId: brain.id,
+    sheetVersionId: participants?.id ?? null,
+    mappings,
+    session: null,
+  };
+  const { data, session } = await jobs.data.built(inputs);
   const known = new Set(data.participants);
   const regions = new Set(data.regions);
   const active = await activeSetAsideList(db, study.id);
@@ -635,21 +641,18 @@ export async function createFit(
   const notApplied = active.filter((s) => !applied.includes(s));
   const refitOf = await refitTarget(db, study.id, model.id);
   const spec: ModelSpec = modelSpecSchema.parse({ ...(model.spec as object), setAside: applied });
-  const recipe: Record<string, unknown> = {
-    brainTable: brain.fileName,
-    ...(participants ? { participantSheet: participants.fileName } : {}),
+  const recipe: Recipe = buildRecipe({
+    brainTable: { file: brain.fileName, sha256: brain.sha256 },
+    participantSheet: participants
+      ? { file: participants.fileName, sha256: participants.sha256 }
+      : null,
     idColumn: brain.idColumn,
     seSuffix: brain.seSuffix ?? "_se",
+    session,
     mappings,
-    ...spec,
+    spec,
     softwareVersion,
-    inputs: {
-      brainTable: { file: brain.fileName, sha256: brain.sha256 },
-      ...(participants
-        ? { participantSheet: { file: participants.fileName, sha256: participants.sha256 } }
-        : {}),
-    },
-  };
+  });
   const fit = await db.transaction(async (tx) => {
     const [created] = await tx
       .insert(fits)
@@ -659,7 +662,7 @@ export async function createFit(
         status: "queued",
         brainVersionId: brain.id,
         sheetVersionId: participants?.id ?? null,
-        recipe: JSON.parse(JSON.stringify(recipe)),
+        recipe,
         createdBy: actor.id,
         createdAt: now,
         refitOf,
@@ -841,7 +844,7 @@ export async function regionDetail(
   participantsVisible: boolean,
 ): Promise<RegionDetail> {
   const { summary, points, plot } = await regionParticipantRows(db, fit, region);
-  const spec = specOfRecipe(fit.recipe as Record<string, unknown>);
+  const spec = specOfRecipe(fit.recipe);
   const result = fit.result as Record<string, unknown>;
   const drawn = plot && "points" in plot ? plot : null;
   const notes = [
@@ -957,7 +960,7 @@ export async function previewRegion(
   region: string,
   participantsVisible: boolean,
 ): Promise<RegionPreview> {
-  const recipeSpec = specOfRecipe(fit.recipe as Record<string, unknown>);
+  const recipeSpec = specOfRecipe(fit.recipe);
   const chosen = recipeSpec.regions && recipeSpec.regions.length > 0 ? recipeSpec.regions : null;
   if (chosen && !chosen.includes(region)) throw notFound(`No region '${region}' in this fit.`);
   const data = await jobs.data.get(inputsOfFit(fit));

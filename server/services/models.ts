@@ -136,6 +136,7 @@ export async function problemsWithData(
     brainVersionId: brain.id,
     sheetVersionId: participants?.id ?? null,
     mappings: await confirmedMappings(db, studyId),
+    session: null,
   };
   let data: FitData;
   try {

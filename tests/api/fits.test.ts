@@ -10,7 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { fitRegions, fits, models, studies, users } from "../../db/schema";
 import { demoPeople, demoStudy } from "../../db/seed";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
-import { recipeSchema } from "../../server/cli/recipe";
+import { recipeSchema } from "../../contract/recipe";
 import { FitJobs } from "../../server/jobs/fit-jobs";
 import { currentVersions } from "../../server/services/datasets";
 import { createRng } from "../../server/stats/rng";
@@ -405,6 +405,8 @@ describe("fits", () => {
       seed: 7,
       resamples: 2000,
       softwareVersion: expect.any(String),
+      // The demo brain table has two sessions; the fit names the one it used, as the recipe command does.
+      session: "1",
     });
     expect(recipe.inputs?.brainTable.sha256).toBe(fit.body.datasets.brain.sha256);
     const list = await as("viewer").get(`/api/studies/${studyId}/fits`).expect(200);

@@ -16,7 +16,7 @@ import { join } from "node:path";
 import { eq, sql } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { fitRegions, fits, memberships } from "../../db/schema";
-import { recipeSchema } from "../../server/cli/recipe";
+import { recipeSchema } from "../../contract/recipe";
 import { readTable } from "../../server/intake";
 import { createRng, normalDraw } from "../../server/stats/rng";
 import { REGION_DETAIL_KEYS } from "../../server/services/fits";
@@ -457,10 +457,7 @@ describe("approval and sealing", () => {
     ).toBe(`fit ${fitId} is sealed (UPDATE refused)`);
     expect(
       await refusal(
-        t.db
-          .update(fits)
-          .set({ recipe: { seed: 12 } })
-          .where(eq(fits.id, fitId)),
+        t.db.update(fits).set({ recipe: sql`'{"seed":12}'::jsonb` }).where(eq(fits.id, fitId)),
       ),
     ).toBe(`fit ${fitId} is sealed (UPDATE refused)`);
     expect(await refusal(t.db.delete(fits).where(eq(fits.id, fitId)))).toBe(

@@ -6,7 +6,7 @@
  * the activity trail keeps every step (deleted, restored, archived,
  * unarchived) beside what came before.
  */
-import { and, eq } from "drizzle-orm";
+import { and, eq, sql } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { auditEvents, datasetVersions, fits, memberships, studies } from "../../db/schema";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
@@ -297,7 +297,7 @@ describe("archiving", () => {
         modelId: model.body.id,
         status: "queued",
         brainVersionId: brain.id,
-        recipe: {},
+        recipe: sql`'{}'::jsonb`,
         createdBy: ids.analyst,
       })
       .returning();
