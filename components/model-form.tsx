@@ -33,40 +33,21 @@ import {
 } from "../contract/model-form";
 import { dataPreconditions, dataProblems, type DataShape } from "../contract/fit-rules";
 import { type ModelSpec, modelSpecSchema } from "../contract/spec";
+import {
+  correctionLabels,
+  correctionOrder,
+  estimatorLabels,
+  inferenceLabels,
+  kindLabels,
+  optionsOf,
+} from "../contract/labels";
 
 type Kind = ModelSpec["kind"];
 type Estimator = ModelSpec["estimator"];
 
-const kindOptions = [
-  { value: "association", label: "Tracks a trait" },
-  { value: "two-group", label: "Two groups differ" },
-  { value: "one-sample", label: "Effect across the group" },
-  { value: "reliability", label: "Reliability across sessions" },
-] as const;
-
-const estimatorLabels: Record<Estimator, string> = {
-  ols: "Least squares",
-  welch: "Welch t",
-  rank: "Rank-based",
-  huber: "Huber",
-  bisquare: "Bisquare",
-  skipped: "Skipped correlation",
-  bend: "Percentage bend",
-};
-
-const inferenceOptions = [
-  { value: "parametric", label: "Parametric" },
-  { value: "permutation", label: "Permutation" },
-  { value: "bootstrap", label: "Bootstrap" },
-] as const;
-
-const correctionOptions = [
-  { value: "none", label: "None" },
-  { value: "holm", label: "Holm" },
-  { value: "bh", label: "Benjamini–Hochberg" },
-  { value: "bonferroni", label: "Bonferroni" },
-  { value: "maxt", label: "Max-T" },
-] as const;
+const kindOptions = optionsOf(kindLabels);
+const inferenceOptions = optionsOf(inferenceLabels);
+const correctionOptions = optionsOf(correctionLabels, correctionOrder);
 
 export function ModelForm(props: { studyId: string }) {
   const inputs = useModelInputs(props.studyId);

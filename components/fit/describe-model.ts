@@ -1,31 +1,8 @@
 /**
  * A model in plain words, for lists, the fit screen and the methods text.
  */
+import { correctionWords, estimatorWords, inferenceWords } from "../../contract/labels";
 import type { ModelSpec } from "../../contract/spec";
-
-const estimatorWords: Record<ModelSpec["estimator"], string> = {
-  ols: "ordinary least squares",
-  welch: "Welch's unequal-variance t",
-  rank: "rank-based",
-  huber: "Huber M-estimation",
-  bisquare: "Tukey bisquare M-estimation",
-  skipped: "skipped correlation (projection outlier removal)",
-  bend: "percentage-bend correlation",
-};
-
-const inferenceWords: Record<ModelSpec["inference"], string> = {
-  parametric: "parametric inference",
-  permutation: "permutation inference",
-  bootstrap: "bootstrap intervals",
-};
-
-const correctionWords: Record<ModelSpec["correction"], string> = {
-  none: "no correction over regions",
-  bonferroni: "Bonferroni correction over regions",
-  holm: "Holm correction over regions",
-  bh: "Benjamini–Hochberg false discovery rate over regions",
-  maxt: "max-T family-wise correction over regions",
-};
 
 export function questionOf(
   spec: Pick<ModelSpec, "kind" | "predictor" | "group" | "levels" | "covariates" | "interaction">,

@@ -23,6 +23,7 @@ import type { Queryable } from "../../db/client";
 import { datasetVersions, fitSeals, models, type Fit } from "../../db/schema";
 import { toCsv, type CsvCell } from "../intake/export-csv";
 import { buildMethodsText, type MethodsInput, type MethodsText } from "../../contract/methods-text";
+import { correctionLabels } from "../../contract/labels";
 import { orderedRecipe } from "../../contract/recipe";
 import type { RegionResult } from "../../contract/spec";
 import { conflict } from "../http/errors";
@@ -58,14 +59,6 @@ function inferenceOf(r: RegionResult, fallback: string): string {
   return fallback;
 }
 
-const correctionNames: Readonly<Record<string, string>> = {
-  none: "none",
-  bonferroni: "Bonferroni",
-  holm: "Holm",
-  bh: "Benjamini–Hochberg",
-  maxt: "max-T",
-};
-
 /** The region table of a finished fit as CSV text. Throws 409 when the fit is not done. Cost O(regions). */
 export function regionsCsv(fit: Fit): string {
   const regions = regionsOf(fit);
@@ -85,7 +78,9 @@ export function regionsCsv(fit: Fit): string {
   ];
   if (withR) header.push("r", "r_ci_low", "r_ci_high");
   header.push("method", "inference", "correction");
-  const correction = correctionNames[result.correction ?? "none"] ?? String(result.correction);
+  const correction =
+    correctionLabels[(result.correction ?? "none") as keyof typeof correctionLabels] ??
+    String(result.correction);
   const rows = regions.map((r) => {
     const row: CsvCell[] = [
       r.region,
