@@ -10,10 +10,12 @@
  * The layout is long when both `region` and `value` columns exist, unless
  * the caller says otherwise.
  *
- * In the wide layout, when no region list is given, every mostly numeric
- * column (see columns.ts) other than the id, session and standard-error
- * columns is a region; any other column is left out only by a decision
- * (see leftOutProblems: never silently). Every cell of a region or
+ * In the wide layout, when no region list is given, every numeric column
+ * (at least half of its cells numbers, see columns.ts) other than the id,
+ * session and standard-error columns is a region, whatever the table's size;
+ * any other column is left out only by a decision (see leftOutProblems:
+ * never silently; a text column is named "not a region" with its first text
+ * values). Every cell of a region or
  * standard-error column must be a number or a missing marker; standard
  * errors must be greater than 0; each participant (id and session) appears
  * once, ids being compared by the roster's rule. Every violation is reported
@@ -269,7 +271,7 @@ function leftOutReason(raw: RawTable, c: BrainColumn): string {
     .slice(0, 3)
     .map((i) => `row ${raw.rowNumbers[i]} ${quoteCell(raw.rows[i][p.index])}`);
   const more = p.text > shown.length ? ", …" : "";
-  return `is not a region: ${p.text} of ${p.numbers + p.text} values are not numbers (${shown.join(", ")}${more})`;
+  return `not a region: column ${p.name} has text values (first: ${shown.join(", ")}${more}; ${p.text} of ${p.numbers + p.text} values are text)`;
 }
 
 interface ReadResult {

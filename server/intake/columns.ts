@@ -4,13 +4,14 @@
  * Each column of a raw table is profiled once: missing cells, cells that
  * are numbers, and the rest. The one rule for a column's type, used by
  * brain tables and participant sheets, by uploads and the recipe command
- * alike: a column is `number` when it is mostly numeric — more than half of
- * its non-missing cells are numbers — and its other cells are then problems,
- * each named by row and column (most likely typos such as "O.42", even in a
- * table of four rows); otherwise it is `category` (a column with no values
- * at all is a `category`). The participant id column is typed `id`. (Common
- * practice, no source: a majority tells a numeric column with typos from a
- * text column without a threshold that small tables cannot reach.)
+ * alike: a column is `number` when at least half of its non-missing cells
+ * are numbers (and at least one is), and its other cells are then problems,
+ * each named by row and column (most likely typos such as "O.42", whatever
+ * the table's size: one typo in two rows is still a typo); otherwise it is
+ * `category` (a column with no values at all is a `category`). The
+ * participant id column is typed `id`. (Common practice, no source: a share
+ * of one half tells a numeric column with typos from a text column without a
+ * threshold that small tables cannot reach.)
  *
  * Cost: O(rows) per column.
  */
@@ -20,9 +21,9 @@ import type { RawTable } from "./read-table";
 
 export type ColumnType = "number" | "category" | "id";
 
-/** Whether a column with `numbers` number cells and `text` other non-missing cells is mostly numeric (so typed `number`). */
-export function isMostlyNumeric(numbers: number, text: number): boolean {
-  return numbers > text;
+/** Whether a column with `numbers` number cells and `text` other non-missing cells is typed `number`: at least half are numbers. */
+export function isNumericColumn(numbers: number, text: number): boolean {
+  return numbers > 0 && numbers >= text;
 }
 
 export interface ColumnProfile {
@@ -82,7 +83,7 @@ export function profileColumns(table: RawTable): readonly ColumnProfile[] {
   }
   const profiles = table.header.map((name, j): ColumnProfile => {
     const text = textRows[j].length;
-    const type = isMostlyNumeric(numbers[j], text) ? "number" : "category";
+    const type = isNumericColumn(numbers[j], text) ? "number" : "category";
     const profile: ColumnProfile = {
       name,
       index: j,

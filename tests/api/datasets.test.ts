@@ -657,6 +657,23 @@ describe("bad input is refused with the envelope and nothing is stored", () => {
       'brain.csv row 3, column L_insula: "O.42" is not a number',
     ],
     [
+      "one typo in a two-row table (half the cells numbers)",
+      "participant_id,L_insula\ns1,0.1\ns2,O.42\n",
+      422,
+      "not_a_number",
+      'brain.csv row 3, column L_insula: "O.42" is not a number',
+    ],
+    [
+      "one typo among 2,000 rows",
+      `participant_id,L_insula,R_insula\n${Array.from(
+        { length: 2000 },
+        (_, i) => `s${i + 1},${i === 1499 ? "O.42" : (i % 89) / 100},${(i % 31) / 10}`,
+      ).join("\n")}\n`,
+      422,
+      "not_a_number",
+      'brain.csv row 1501, column L_insula: "O.42" is not a number',
+    ],
+    [
       "duplicate participant",
       "participant_id,a\ns1,1\ns2,2\ns1,3\n",
       422,
@@ -846,7 +863,7 @@ describe("bad input is refused with the envelope and nothing is stored", () => {
         column: "site",
         code: "column_left_out",
         message:
-          'brain.csv column site: is not a region: 2 of 2 values are not numbers (row 2 "north", row 3 "south"); confirm leaving it out (drop it or mark it not used), or fix the file',
+          'brain.csv column site: not a region: column site has text values (first: row 2 "north", row 3 "south"; 2 of 2 values are text); confirm leaving it out (drop it or mark it not used), or fix the file',
       },
     ]);
     const refused = await agents.analyst
@@ -855,7 +872,9 @@ describe("bad input is refused with the envelope and nothing is stored", () => {
       .expect(422);
     expect(refused.body.error).toMatchObject({
       code: "column_left_out",
-      message: expect.stringContaining("brain.csv column site: is not a region"),
+      message: expect.stringContaining(
+        "brain.csv column site: not a region: column site has text values",
+      ),
     });
     expect(await versionCount(studyId)).toBe(0);
     const stored = await agents.analyst

@@ -357,7 +357,7 @@ it("a brain-table column that would be left out needs a choice before Confirm, a
     const column = preview.getByTestId("left-out-column");
     await column
       .getByText(
-        'brain-with-scanner.csv column scanner: is not a region: 3 of 3 values are not numbers (row 2 "north", row 3 "south", row 4 "north")',
+        'brain-with-scanner.csv column scanner: not a region: column scanner has text values (first: row 2 "north", row 3 "south", row 4 "north"; 3 of 3 values are text)',
       )
       .waitFor();
     const confirm = preview.getByTestId("confirm-upload");

@@ -175,7 +175,7 @@ describe("brain-table columns that would be left out", () => {
         column: "site",
         code: "column_left_out",
         message:
-          'b.csv column site: is not a region: 2 of 2 values are not numbers (row 2 "north", row 3 "south"); confirm leaving it out (drop it or mark it not used), or fix the file',
+          'b.csv column site: not a region: column site has text values (first: row 2 "north", row 3 "south"; 2 of 2 values are text); confirm leaving it out (drop it or mark it not used), or fix the file',
       },
     ],
   };

@@ -144,7 +144,7 @@ describe("wide brain tables", () => {
         column: "scanner",
         code: "column_left_out",
         message:
-          'brain.csv column scanner: is not a region: 2 of 2 values are not numbers (row 2 "alpha", row 3 "beta"); confirm leaving it out (drop it or mark it not used), or fix the file',
+          'brain.csv column scanner: not a region: column scanner has text values (first: row 2 "alpha", row 3 "beta"; 2 of 2 values are text); confirm leaving it out (drop it or mark it not used), or fix the file',
       },
     ]);
     const t = brain(text, { types: { scanner: "category" } });

@@ -14,7 +14,7 @@ import {
   analyseParticipantSheet,
   buildBrainTable,
   confirmTable,
-  isMostlyNumeric,
+  isNumericColumn,
   previewTable,
   previewUpload,
   readTable,
@@ -34,11 +34,12 @@ function refusal(run: () => unknown): IntakeError {
 const brain = (text: string, options: BrainTableOptions = {}) =>
   buildBrainTable(readTable(text, "brain.csv"), options);
 
-describe("mostly numeric columns", () => {
-  it("is more than half of the non-missing cells being numbers", () => {
-    expect(isMostlyNumeric(3, 1)).toBe(true); // (product rule: a majority)
-    expect(isMostlyNumeric(1, 1)).toBe(false);
-    expect(isMostlyNumeric(0, 0)).toBe(false);
+describe("numeric columns", () => {
+  it("is at least half of the non-missing cells being numbers, and at least one", () => {
+    expect(isNumericColumn(3, 1)).toBe(true); // (product rule: at least half)
+    expect(isNumericColumn(1, 1)).toBe(true);
+    expect(isNumericColumn(1, 2)).toBe(false);
+    expect(isNumericColumn(0, 0)).toBe(false);
   });
 
   it("names the one typo among four cells by row and column instead of dropping the column", () => {
@@ -71,22 +72,24 @@ describe("mostly numeric columns", () => {
 });
 
 describe("brain-table columns left out", () => {
-  it("a column that is not mostly numeric is a problem naming its text cells, until dropped or marked not used", () => {
-    const text = "participant_id,ins_l,ins_r\ns1,0.12,0.3\ns2,O.42,0.1\n";
+  it("a column that is mostly text is a problem naming its text cells, until dropped or marked not used", () => {
+    const text = "participant_id,ins_l,ins_r\ns1,0.12,0.3\ns2,O.42,0.1\ns3,high,0.2\n";
     const raw = readTable(text, "brain.csv");
     const preview = previewUpload(text, "brain.csv", "brain");
     expect(preview.regions).toEqual(["ins_r"]);
-    expect(preview.participants).toBe(2);
+    expect(preview.participants).toBe(3);
     expect(preview.problems).toEqual([
       {
         file: "brain.csv",
         column: "ins_l",
         code: "column_left_out",
         message:
-          'brain.csv column ins_l: is not a region: 1 of 2 values are not numbers (row 3 "O.42"); confirm leaving it out (drop it or mark it not used), or fix the file',
+          'brain.csv column ins_l: not a region: column ins_l has text values (first: row 3 "O.42", row 4 "high"; 2 of 3 values are text); confirm leaving it out (drop it or mark it not used), or fix the file',
       },
     ]);
-    expect(() => confirmTable(raw, "brain")).toThrow(/brain.csv column ins_l: is not a region/);
+    expect(() => confirmTable(raw, "brain")).toThrow(
+      /brain.csv column ins_l: not a region: column ins_l has text values/,
+    );
     const dropped = confirmTable(raw, "brain", { dropColumns: ["ins_l"] });
     expect(dropped.kind === "brain" && dropped.brain.regions).toEqual(["ins_r"]);
     const notUsed = confirmTable(raw, "brain", { types: { ins_l: "category" } });
