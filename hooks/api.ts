@@ -3,6 +3,7 @@
  * session cookie, JSON in and out, and every error envelope
  * `{ error: { code, message, details } }` turned into an `ApiError`.
  */
+import type { ErrorBody } from "../contract/views/errors";
 import { validationWords } from "./validation-words";
 
 export class ApiError extends Error {
@@ -41,9 +42,8 @@ export async function apiFetch<T>(path: string, init: RequestInit = {}): Promise
   const text = await response.text();
   const body: unknown = text ? safeJson(text) : null;
   if (!response.ok) {
-    const envelope = (
-      body as { error?: { code?: string; message?: string; details?: unknown } } | null
-    )?.error;
+    // Any non-JSON answer (a proxy's error page) has no envelope.
+    const envelope = (body as Partial<ErrorBody> | null)?.error;
     // A validation failure is said in sentences, without field paths (the details keep them).
     const plain = envelope?.code === "validation_failed" ? validationWords(envelope.details) : null;
     throw new ApiError(

@@ -11,6 +11,7 @@
  */
 import type { ErrorRequestHandler, RequestHandler } from "express";
 import { ZodError } from "zod";
+import type { ErrorBody } from "../../contract/views/errors";
 import { IntakeError } from "../intake/errors";
 import { StatsError } from "../stats/errors";
 
@@ -38,10 +39,6 @@ export const notFound = (message = "Not found.") => new HttpError(404, "not_foun
 export const conflict = (message: string, details?: unknown) =>
   new HttpError(409, "conflict", message, details);
 export const gone = (message: string) => new HttpError(410, "gone", message);
-
-export interface ErrorBody {
-  error: { code: string; message: string; details?: unknown };
-}
 
 /** Turns a zod error into a list of `{ path, message }` naming each bad field. */
 export function zodDetails(error: ZodError, where: string): { field: string; message: string }[] {
