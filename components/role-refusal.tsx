@@ -2,7 +2,7 @@
  * A screen that the caller's role (or the study's archived state) does not
  * allow: a plain sentence and a link back, never a form that would be
  * refused or a "Try again" that cannot succeed. Rights come from the
- * capabilities the study view carries (server/auth/permissions.ts).
+ * capabilities the study view carries (contract/permissions.ts).
  */
 import type { ReactNode } from "react";
 import { StyleSheet, View } from "react-native";
@@ -10,7 +10,7 @@ import { Link } from "expo-router";
 import { Card, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { can, useStudy } from "../hooks/use-study";
-import type { Action } from "../server/auth/permissions";
+import type { Action } from "../contract/permissions";
 import { roleLabel } from "./studies-screen";
 
 export interface RoleGateProps {

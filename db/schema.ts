@@ -12,6 +12,7 @@
  * committed under db/migrations.
  */
 import { sql } from "drizzle-orm";
+import type { Role } from "../contract/permissions";
 import type { Recipe } from "../contract/recipe";
 import {
   type AnyPgColumn,
@@ -27,9 +28,6 @@ import {
   timestamp,
   uniqueIndex,
 } from "drizzle-orm/pg-core";
-
-export const roles = ["owner", "analyst", "reviewer", "viewer"] as const;
-export type Role = (typeof roles)[number];
 
 const id = () =>
   text("id")

@@ -1,7 +1,7 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { apiFetch, jsonBody } from "./api";
 import { studyKeys } from "./use-studies";
-import type { Action } from "../server/auth/permissions";
+import type { Action } from "../contract/permissions";
 import type { StudyChanges, StudyDetail } from "../server/services/studies";
 
 export type { StudyDetail };

@@ -9,7 +9,8 @@
  */
 import { count, eq } from "drizzle-orm";
 import type { Database } from "../client";
-import { memberships, studies, users, type Role } from "../schema";
+import type { Role } from "../../contract/permissions";
+import { memberships, studies, users } from "../schema";
 import { recordEvent } from "../../server/services/audit";
 import { demoScenario } from "./demo-data";
 

@@ -1,31 +1,19 @@
 /**
- * The one permission module: a table of action → who may do it, and the
- * `authorize(action)` middleware every API route carries. No route decides
- * rights by itself.
+ * The one permission module: the `authorize(action)` middleware every API
+ * route carries, enforcing the table of action → audience in
+ * contract/permissions.ts. No route decides rights by itself.
  *
- * Audiences:
- * - `anyone`: no session needed (health, sign-in options, invitation preview);
- * - `signed-in`: any signed-in person (own profile, list/create studies, accept an invitation);
- * - `study`: members of the study named by `:studyId` (or, on routes such
- *   as `/fits/:fitId`, of the study the route's `studyOf` resolver finds)
- *   whose role is listed.
- *   A study that does not exist, is deleted, or that you do not belong to
- *   answers 404 (its existence is not revealed); a member whose role is not
- *   listed gets 403. `whenRestricted` narrows the roles when the study marks
- *   participant-level rows as restricted. `self` lists roles allowed when the
- *   route's `:userId` is the signed-in person (leaving a study).
+ * A study-scoped action concerns the study named by `:studyId` (or, on
+ * routes such as `/fits/:fitId`, the study the route's `studyOf` resolver
+ * finds). A study that does not exist, is deleted, or that you do not
+ * belong to answers 404 (its existence is not revealed); a member whose
+ * role is not listed gets 403.
  *
- * Every study action is either a read (`reads(…)`) or a change
- * (`writes(…)`). An archived study is read-only for every role: `authorize`
- * answers 409 `study_archived` to every change of it, here and nowhere else
- * (only `study.unarchive`, marked `inState: "archived"`, passes). An action
- * marked `inState: "deleted"` (restoring) reaches a deleted study, which
- * every other action treats as not found.
- *
- * Rights follow PRODUCT.md: Owner manages members and can do everything;
- * Analyst uploads data, builds models, runs fits, sets participants aside;
- * Reviewer reads everything, comments and approves a fit for sealing; Viewer
- * reads results only (no participant-level rows if the study is restricted).
+ * An archived study is read-only for every role: `authorize` answers 409
+ * `study_archived` to every change (`writes(…)`) of it, here and nowhere
+ * else (only `study.unarchive`, marked `inState: "archived"`, passes). An
+ * action marked `inState: "deleted"` (restoring) reaches a deleted study,
+ * which every other action treats as not found.
  *
  * After `authorize` passes, `res.locals.user` is the signed-in person and,
  * for study actions, `res.locals.study` and `res.locals.role` are set.
@@ -35,94 +23,11 @@ import type { RequestHandler, Response } from "express";
 import type { Database } from "../../db/client";
 import { perDatabase } from "../../db/prepared";
 import { cachedRead } from "../../db/read-cache";
-import { memberships, studies, type Role, type Study, roles as allRoles } from "../../db/schema";
+import { memberships, studies, type Study } from "../../db/schema";
+import { type Action, type Audience, permissions, type Role } from "../../contract/permissions";
 import { forbidden, HttpError, notFound, unauthorized } from "../http/errors";
 import { idSchema } from "../http/validate";
 import { currentUser, type SessionUser } from "./session";
-
-export type Audience =
-  | { readonly scope: "anyone" }
-  | { readonly scope: "signed-in" }
-  | {
-      readonly scope: "study";
-      readonly roles: readonly Role[];
-      /** "write": refused in an archived study (409 study_archived). */
-      readonly access: "read" | "write";
-      readonly whenRestricted?: readonly Role[];
-      readonly self?: readonly Role[];
-      /** The action is about a study in this state: "archived" passes the archive's refusal, "deleted" reaches a deleted study. */
-      readonly inState?: "archived" | "deleted";
-    };
-
-interface StudyExtra {
-  whenRestricted?: readonly Role[];
-  self?: readonly Role[];
-  inState?: "archived" | "deleted";
-}
-
-const anyone = { scope: "anyone" } as const;
-const signedIn = { scope: "signed-in" } as const;
-/** A study action that only reads. */
-const reads = (roles: readonly Role[], extra: StudyExtra = {}) =>
-  ({ scope: "study", access: "read", roles, ...extra }) as const;
-/** A study action that changes something (refused while the study is archived). */
-const writes = (roles: readonly Role[], extra: StudyExtra = {}) =>
-  ({ scope: "study", access: "write", roles, ...extra }) as const;
-
-const everyone: readonly Role[] = allRoles;
-const owner: readonly Role[] = ["owner"];
-const makers: readonly Role[] = ["owner", "analyst"];
-const readers: readonly Role[] = ["owner", "analyst", "reviewer"];
-
-/** Action → audience. Add a row here for every new route's action. */
-export const permissions = {
-  // Public and personal
-  "health.read": anyone,
-  "auth.options": anyone,
-  "dev.mail": anyone,
-  "dev.demo-sign-in": anyone,
-  "me.read": signedIn,
-  "me.preferences": signedIn,
-  "studies.list": signedIn,
-  "studies.create": signedIn,
-  "invitation.read": anyone,
-  "invitation.accept": signedIn,
-  "planner.use": signedIn,
-
-  // A study and its team
-  "study.read": reads(everyone),
-  "study.update": writes(owner),
-  "study.delete": writes(owner),
-  "study.archive": writes(owner),
-  "study.unarchive": writes(owner, { inState: "archived" }),
-  "study.restore": writes(owner, { inState: "deleted" }),
-  "members.list": reads(everyone),
-  "members.update": writes(owner),
-  "members.remove": writes(owner, { self: everyone }),
-  "invitations.list": reads(owner),
-  "invitations.create": writes(owner),
-  "invitations.revoke": writes(owner),
-  "activity.list": reads(readers),
-
-  // Data, models and fits (routes arrive with later work; rights decided here)
-  "data.read": reads(everyone),
-  "data.upload": writes(makers),
-  "data.delete": writes(makers),
-  "participants.read": reads(everyone, { whenRestricted: readers }),
-  "participants.set-aside": writes(makers),
-  "models.read": reads(everyone),
-  "models.write": writes(makers),
-  "fits.read": reads(everyone),
-  "fits.run": writes(makers),
-  "fits.export": reads(everyone),
-  "fits.participants.read": reads(everyone, { whenRestricted: readers }),
-  "fits.approve": writes(["owner", "reviewer"]),
-  "fits.seal": writes(owner),
-  "comments.read": reads(readers),
-  "comments.write": writes(readers),
-} as const satisfies Record<string, Audience>;
-
-export type Action = keyof typeof permissions;
 
 /** The middleware's tag, read by the route list (tests and `listRoutes`). */
 export const permissionTag = Symbol.for("covarion.permission");

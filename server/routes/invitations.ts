@@ -9,7 +9,7 @@
  */
 import { Router } from "express";
 import { z } from "zod";
-import { roles } from "../../db/schema";
+import { roles } from "../../contract/permissions";
 import { authorize, authorizedStudy } from "../auth/permissions";
 import { currentUser, signedInUser } from "../auth/session";
 import { limitByIpAndAddress } from "../http/rate-limits";

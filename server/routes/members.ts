@@ -7,7 +7,7 @@
  */
 import { Router } from "express";
 import { z } from "zod";
-import { roles } from "../../db/schema";
+import { roles } from "../../contract/permissions";
 import { authorize, authorizedStudy } from "../auth/permissions";
 import { signedInUser } from "../auth/session";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";

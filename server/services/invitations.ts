@@ -15,9 +15,9 @@ import {
   studies,
   users,
   type Invitation,
-  type Role,
   type Study,
 } from "../../db/schema";
+import type { Role } from "../../contract/permissions";
 import { conflict, forbidden, HttpError, notFound } from "../http/errors";
 import { assertNotArchived } from "../auth/permissions";
 import { recordEvent } from "./audit";

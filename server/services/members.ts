@@ -6,7 +6,8 @@
  */
 import { and, asc, count, eq } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
-import { memberships, users, type Role } from "../../db/schema";
+import type { Role } from "../../contract/permissions";
+import { memberships, users } from "../../db/schema";
 import { conflict, notFound } from "../http/errors";
 import { recordEvent } from "./audit";
 

@@ -25,9 +25,9 @@ import {
   models,
   studies,
   users,
-  type Role,
   type Study,
 } from "../../db/schema";
+import type { Role } from "../../contract/permissions";
 import { capabilitiesOf } from "../auth/permissions";
 import { badRequest, HttpError } from "../http/errors";
 import {

@@ -14,7 +14,7 @@ import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { fits, invitations, memberships, models, setAsides, studies, users } from "../../db/schema";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
-import { type Action, type Audience, permissions } from "../../server/auth/permissions";
+import { type Action, type Audience, permissions } from "../../contract/permissions";
 import { listRoutes } from "../../server/http/route-list";
 import type { FitJobs } from "../../server/jobs/fit-jobs";
 import { modelSpecSchema } from "../../contract/spec";
