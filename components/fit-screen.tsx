@@ -1,12 +1,16 @@
 /**
  * A fit: its header (the model in plain words, N, what it set aside and
- * why, the fit it re-runs, whether newer data exist; fit/fit-header.tsx),
- * progress while it runs, then the region
- * table and forest plot beside the selected region's detail (side by side on
- * a wide screen, one column on a phone).
+ * why, the fit it re-runs, whether newer data exist; fit/fit-header.tsx)
+ * with progress while it runs and the long caution on one line, then the
+ * region table across the whole width. On a wide screen the selected
+ * region's detail follows below the table in two balanced columns; on a
+ * phone, tapping a region opens its detail as its own view
+ * (fit/region-screen.tsx) and the region last opened stays highlighted. The
+ * forest plot shows the regions on the table's page, in the table's order.
  */
-import { useState } from "react";
-import { StyleSheet, View } from "react-native";
+import { useCallback, useRef, useState } from "react";
+import { StyleSheet, useWindowDimensions, View } from "react-native";
+import { useRouter } from "expo-router";
 import { ForestPlot } from "./charts/forest-plot";
 import { RegionTable } from "./fit/region-table";
 import { RegionDetailPanel } from "./fit/region-detail";
@@ -14,14 +18,16 @@ import { ProgressBar } from "./fit/progress-bar";
 import { VarianceShares } from "./fit/variance-shares";
 import type { VarianceShareInput } from "./fit/variance-shares-layout";
 import { PublishPanel } from "./fit/publish-panel";
-import { FitHeader } from "./fit/fit-header";
+import { CircularityCaution, FitHeader } from "./fit/fit-header";
+import { scrollIntoView } from "./fit/scroll-into-view";
+import { regionPath } from "./fit/region-path";
 import { Button, Card, Failure, Heading, Notice, Pending, Txt } from "./ui";
-import { palette, space } from "./theme";
+import { palette, radius, space, wideBreakpoint } from "./theme";
 import { can, useStudy } from "../hooks/use-study";
 import { useCancelFit, useFit, type FitView } from "../hooks/use-fits";
 import { modelSpecSchema, type ModelSpec, type RegionResult } from "../contract/spec";
 
-export function FitScreen(props: { studyId: string; fitId: string }) {
+export function FitScreen(props: { studyId: string; fitId: string; region?: string }) {
   const study = useStudy(props.studyId);
   const fit = useFit(props.fitId);
   if (fit.isPending || study.isPending) return <Pending label="Loading the fit…" />;
@@ -30,6 +36,7 @@ export function FitScreen(props: { studyId: string; fitId: string }) {
   return (
     <FitBody
       fit={fit.data}
+      initialRegion={props.region ?? null}
       canRun={can(study.data, "fits.run")}
       canSetAside={can(study.data, "participants.set-aside")}
     />
@@ -57,46 +64,63 @@ function estimateLabel(spec: ModelSpec | null): string {
 
 function FitBody({
   fit,
+  initialRegion,
   canRun,
   canSetAside,
 }: {
   fit: FitView;
+  initialRegion: string | null;
   canRun: boolean;
   canSetAside: boolean;
 }) {
   const spec = specOf(fit);
   const regions = (fit.result?.regions ?? []) as RegionResult[];
-  const [selected, setSelected] = useState<string | null>(null);
+  const wide = useWindowDimensions().width >= wideBreakpoint;
+  const router = useRouter();
+  const [selected, setSelected] = useState<string | null>(initialRegion);
+  const [shownRegions, setShownRegions] = useState<readonly string[]>([]);
+  const detailRef = useRef<View>(null);
   const cancel = useCancelFit(fit.id);
-  const active = selected ?? regions[0]?.region ?? null;
+  const known = selected !== null && regions.some((r) => r.region === selected);
+  const active = known ? selected : wide ? (regions[0]?.region ?? null) : null;
+  const select = useCallback(
+    (region: string) => {
+      setSelected(region);
+      if (wide) requestAnimationFrame(() => scrollIntoView(detailRef.current));
+      else router.push(regionPath(fit.studyId, fit.id, region) as never);
+    },
+    [wide, router, fit.studyId, fit.id],
+  );
+  const onRowsShown = useCallback((ids: readonly string[]) => setShownRegions(ids), []);
+  const byRegion = new Map(regions.map((r) => [r.region, r]));
+  const forestRows = (shownRegions.length > 0 ? shownRegions : regions.map((r) => r.region))
+    .map((id) => byRegion.get(id))
+    .filter((r): r is RegionResult => r !== undefined);
+  const running = fit.status === "queued" || fit.status === "running";
   return (
     <View style={styles.root}>
       <Card testID="fit-header">
         <FitHeader fit={fit} spec={spec} regions={regions} canRun={canRun} />
-        {fit.model.caution ? (
-          <Notice tone="caution" title="Circular region selection" testID="fit-circularity">
-            {fit.model.caution}
-          </Notice>
+        {fit.model.caution ? <CircularityCaution text={fit.model.caution} /> : null}
+        {running ? (
+          <View style={styles.progress}>
+            <Txt>{fit.status === "queued" ? "Waiting for a free worker…" : "Fitting…"}</Txt>
+            <ProgressBar fraction={fit.progress.fraction} secondsLeft={fit.progress.secondsLeft} />
+            {cancel.error ? <Notice tone="danger">{cancel.error.message}</Notice> : null}
+            {canRun ? (
+              <Button
+                label="Cancel"
+                variant="secondary"
+                onPress={() => cancel.mutate()}
+                busy={cancel.isPending}
+                testID="cancel-fit"
+                style={styles.cancel}
+              />
+            ) : null}
+          </View>
         ) : null}
-        {fit.status === "done" ? <PublishPanel fit={fit} /> : null}
       </Card>
 
-      {fit.status === "queued" || fit.status === "running" ? (
-        <Card>
-          <Txt>{fit.status === "queued" ? "Waiting for a free worker…" : "Fitting…"}</Txt>
-          <ProgressBar fraction={fit.progress.fraction} secondsLeft={fit.progress.secondsLeft} />
-          {cancel.error ? <Notice tone="danger">{cancel.error.message}</Notice> : null}
-          {canRun ? (
-            <Button
-              label="Cancel"
-              variant="secondary"
-              onPress={() => cancel.mutate()}
-              busy={cancel.isPending}
-              testID="cancel-fit"
-            />
-          ) : null}
-        </Card>
-      ) : null}
       {fit.status === "failed" ? (
         <Notice tone="danger" title="The fit failed">
           {fit.error?.message ?? "No reason was recorded."}
@@ -107,21 +131,46 @@ function FitBody({
       ) : null}
 
       {fit.status === "done" && regions.length > 0 ? (
-        <View style={styles.split}>
-          <View style={styles.left}>
-            <Card>
+        <>
+          <View style={wide ? styles.regionsWide : styles.regionsPhone} testID="fit-regions">
+            <View style={wide ? null : styles.inset}>
               <Heading level={3}>Regions</Heading>
-              <RegionTable
-                regions={regions}
-                estimateLabel={estimateLabel(spec)}
-                selectedRegion={active}
-                onSelect={setSelected}
+              {!wide ? (
+                <Txt kind="caption" style={styles.hint}>
+                  Tap a region to open its plots and diagnostics.
+                </Txt>
+              ) : null}
+            </View>
+            <RegionTable
+              regions={regions}
+              estimateLabel={estimateLabel(spec)}
+              selectedRegion={active}
+              onSelect={select}
+              wide={wide}
+              onRowsShown={onRowsShown}
+              edgeInset={wide ? undefined : space.lg}
+            />
+          </View>
+          {wide && active ? (
+            <View ref={detailRef}>
+              <RegionDetailPanel
+                key={active}
+                fit={fit}
+                region={active}
+                canRun={canRun}
+                canSetAside={canSetAside && fit.participantsVisible}
+                columns
               />
-            </Card>
-            <Card>
+            </View>
+          ) : null}
+          <View style={wide ? styles.pairWide : styles.pairPhone}>
+            <Card style={wide ? styles.half : null}>
               <Heading level={3}>Estimates with 95% intervals</Heading>
+              <Txt kind="caption" style={styles.hint}>
+                The regions on the table's page, in the table's order.
+              </Txt>
               <ForestPlot
-                rows={regions.map((r) => ({
+                rows={forestRows.map((r) => ({
                   region: r.region,
                   estimate: r.estimate,
                   low: r.ciLow,
@@ -130,12 +179,12 @@ function FitBody({
                 estimateLabel={estimateLabel(spec)}
                 intervalLabel="95% CI"
                 selectedRegion={active}
-                onSelect={setSelected}
+                onSelect={select}
                 testID="forest-plot"
               />
             </Card>
             {spec?.weights === "first-level-se" ? (
-              <Card>
+              <Card style={wide ? styles.half : null}>
                 <Heading level={3}>Measurement noise and true differences</Heading>
                 <VarianceShares
                   regions={varianceRows(regions, spec.tau2Method)}
@@ -143,24 +192,18 @@ function FitBody({
                 />
               </Card>
             ) : null}
-            {(fit.result?.notes as string[] | undefined)?.length ? (
-              <Txt kind="caption" style={{ color: palette.muted }}>
-                {(fit.result?.notes as string[]).join(" ")}
-              </Txt>
-            ) : null}
           </View>
-          <View style={styles.right}>
-            {active ? (
-              <RegionDetailPanel
-                key={active}
-                fit={fit}
-                region={active}
-                canRun={canRun}
-                canSetAside={canSetAside && fit.participantsVisible}
-              />
-            ) : null}
-          </View>
-        </View>
+          {(fit.result?.notes as string[] | undefined)?.length ? (
+            <Txt kind="caption" style={{ color: palette.muted }}>
+              {(fit.result?.notes as string[]).join(" ")}
+            </Txt>
+          ) : null}
+        </>
+      ) : null}
+      {fit.status === "done" ? (
+        <Card>
+          <PublishPanel fit={fit} />
+        </Card>
       ) : null}
     </View>
   );
@@ -190,7 +233,21 @@ function varianceRows(
 
 const styles = StyleSheet.create({
   root: { gap: space.lg },
-  split: { flexDirection: "row", flexWrap: "wrap", gap: space.lg, alignItems: "flex-start" },
-  left: { flexGrow: 1, flexShrink: 1, flexBasis: 420, minWidth: 0, gap: space.lg },
-  right: { flexGrow: 1, flexShrink: 1, flexBasis: 420, minWidth: 0 },
+  progress: { gap: space.sm },
+  cancel: { alignSelf: "flex-start" },
+  hint: { color: palette.muted },
+  regionsWide: {
+    gap: space.sm,
+    padding: space.lg,
+    borderRadius: radius.lg,
+    borderWidth: 1,
+    borderColor: palette.line,
+    backgroundColor: palette.surface,
+  },
+  // On a phone the table runs from edge to edge of the screen so the six key columns fit without scrolling.
+  regionsPhone: { gap: space.sm, marginHorizontal: -space.lg },
+  inset: { paddingHorizontal: space.lg },
+  pairWide: { flexDirection: "row", gap: space.lg, alignItems: "flex-start" },
+  pairPhone: { gap: space.lg },
+  half: { flex: 1, minWidth: 0 },
 });

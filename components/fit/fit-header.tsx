@@ -22,6 +22,7 @@ import {
   stageTone,
   whenWords,
 } from "./lineage-words";
+import { CollapsedCaution } from "./collapsed-caution";
 import { smallSampleCaution } from "../../contract/cautions";
 import type { ModelSpec, RegionResult } from "../../contract/spec";
 import { type FitView, useRunFit } from "../../hooks/use-fits";
@@ -213,31 +214,27 @@ function RunAgain({ fit }: { fit: FitView }) {
 
 /** The small-sample caution on one line, with "more" for the rest. */
 function SmallSample({ regions }: { regions: readonly RegionResult[] }) {
-  const [open, setOpen] = useState(false);
   const caution = smallSampleCaution(regions);
   if (!caution) return null;
   return (
-    <View style={styles.caution} testID="fit-small-sample">
-      <Txt kind="small" numberOfLines={open ? undefined : 1}>
-        <Txt kind="small" style={styles.cautionTitle}>
-          {caution.title}:{" "}
-        </Txt>
-        {caution.text}
-      </Txt>
-      <Pressable
-        accessibilityRole="button"
-        accessibilityState={{ expanded: open }}
-        accessibilityLabel={
-          open ? "Show less of the small-sample caution" : "Read the whole small-sample caution"
-        }
-        onPress={() => setOpen(!open)}
-        style={({ pressed }) => [styles.more, pressed && styles.pressed]}
-      >
-        <Txt kind="small" style={styles.linkText}>
-          {open ? "less" : "more"}
-        </Txt>
-      </Pressable>
-    </View>
+    <CollapsedCaution
+      title={caution.title}
+      text={caution.text}
+      name="small-sample caution"
+      testID="fit-small-sample"
+    />
+  );
+}
+
+/** The caution of a model whose regions were chosen from the same data, on one line with "more". */
+export function CircularityCaution({ text }: { text: string }) {
+  return (
+    <CollapsedCaution
+      title="Circular region selection"
+      text={text}
+      name="caution on region selection"
+      testID="fit-circularity"
+    />
   );
 }
 
@@ -272,14 +269,4 @@ const styles = StyleSheet.create({
   linkText: { color: palette.focus, textDecorationLine: "underline", fontSize: type.small },
   stale: { gap: space.sm },
   refitButton: { alignSelf: "flex-start" },
-  caution: {
-    flexDirection: "row",
-    alignItems: "center",
-    gap: space.sm,
-    paddingHorizontal: space.md,
-    borderRadius: radius.md,
-    backgroundColor: palette.warningSoft,
-  },
-  cautionTitle: { fontFamily: fonts.semibold, color: palette.warning },
-  more: { minHeight: 44, minWidth: 44, justifyContent: "center", alignItems: "center" },
 });

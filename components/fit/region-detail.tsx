@@ -10,7 +10,7 @@
  * why, with Restore. A region with few participants gets the small-sample
  * caution.
  */
-import { useState } from "react";
+import { type ReactNode, useState } from "react";
 import { StyleSheet, View } from "react-native";
 import { useRouter } from "expo-router";
 import { ScatterPlot } from "../charts/scatter-plot";
@@ -51,6 +51,10 @@ export function RegionDetailPanel(props: {
   region: string;
   canSetAside: boolean;
   canRun: boolean;
+  /** Lay the parts out in two balanced columns (a wide screen); one column otherwise. */
+  columns?: boolean;
+  /** Shown beside the region's name (e.g. a way back to the table). */
+  heading?: ReactNode;
 }) {
   const detail = useRegionDetail(props.fit.id, props.region, true);
   const [selected, setSelected] = useState<string | null>(null);
@@ -59,24 +63,24 @@ export function RegionDetailPanel(props: {
   const d = detail.data;
   const point = d.points?.find((p) => p.participant === selected) ?? null;
   const smallSample = regionSmallSampleCaution(d.n);
-  return (
-    <View style={styles.root} testID="region-detail">
-      <Heading level={2}>{d.region}</Heading>
+  const top = (
+    <>
+      <View style={styles.title}>
+        <Heading level={2} style={styles.name}>
+          {d.region}
+        </Heading>
+        {props.heading}
+      </View>
       <Summary detail={d} />
       {smallSample ? (
         <Notice tone="caution" title={smallSampleTitle} testID="region-small-sample">
           {smallSample}
         </Notice>
       ) : null}
-      {d.result.attenuation ? (
-        <Card>
-          <Heading level={3}>Reliability and the largest observable correlation</Heading>
-          <AttenuationNote
-            attenuation={d.result.attenuation as AttenuationInput}
-            testID="attenuation-note"
-          />
-        </Card>
-      ) : null}
+    </>
+  );
+  const plots = (
+    <>
       {d.points ? (
         <DataPlot detail={d} selected={selected} onSelect={setSelected} />
       ) : (
@@ -100,10 +104,23 @@ export function RegionDetailPanel(props: {
         canRun={props.canRun}
         enabled={props.canSetAside}
       />
+    </>
+  );
+  const checks = (
+    <>
       {d.points && d.kind !== "reliability" ? (
         <InfluenceCard detail={d} selected={selected} onSelect={setSelected} />
       ) : null}
       <Sensitivity detail={d} />
+      {d.result.attenuation ? (
+        <Card>
+          <Heading level={3}>Reliability and the largest observable correlation</Heading>
+          <AttenuationNote
+            attenuation={d.result.attenuation as AttenuationInput}
+            testID="attenuation-note"
+          />
+        </Card>
+      ) : null}
       {isHistogram(d.nullHistogram) ? (
         <Card>
           <Heading level={3}>Permutation null distribution</Heading>
@@ -117,6 +134,22 @@ export function RegionDetailPanel(props: {
           />
         </Card>
       ) : null}
+    </>
+  );
+  return (
+    <View style={styles.root} testID="region-detail">
+      {top}
+      {props.columns ? (
+        <View style={styles.columns}>
+          <View style={styles.column}>{plots}</View>
+          <View style={styles.column}>{checks}</View>
+        </View>
+      ) : (
+        <>
+          {plots}
+          {checks}
+        </>
+      )}
       {d.points ? (
         <ParticipantDiagnosticsTable
           fitId={props.fit.id}
@@ -599,5 +632,9 @@ function Sensitivity({ detail }: { detail: RegionDetail }) {
 
 const styles = StyleSheet.create({
   root: { gap: space.md },
+  title: { flexDirection: "row", flexWrap: "wrap", alignItems: "center", gap: space.sm },
+  name: { flexShrink: 1 },
+  columns: { flexDirection: "row", gap: space.lg, alignItems: "flex-start" },
+  column: { flex: 1, minWidth: 0, gap: space.md },
   badges: { flexDirection: "row", flexWrap: "wrap", gap: space.xs, alignItems: "center" },
 });

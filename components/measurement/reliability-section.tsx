@@ -43,7 +43,42 @@ function BrainReliabilityCard(props: { studyId: string }) {
   const query = useBrainReliability(props.studyId);
   const columns = useMemo<ColumnDef<ReliabilityRow, unknown>[]>(
     () => [
-      { accessorKey: "region", header: "Region" },
+      // The ICC values and their intervals first, so a phone shows them without scrolling sideways.
+      { accessorKey: "region", header: "Region", meta: { width: 128, narrowWidth: 72 } },
+      {
+        accessorKey: "icc31",
+        header: "ICC(3,1)",
+        meta: { numeric: true, decimals: 2, width: 88, narrowWidth: 52 },
+      },
+      {
+        accessorKey: "icc31Interval",
+        header: "95% CI",
+        meta: {
+          numeric: true,
+          width: 150,
+          narrowWidth: 64,
+          wrap: true,
+          label: "ICC(3,1) 95% confidence interval",
+        },
+        enableSorting: false,
+      },
+      {
+        accessorKey: "icc21",
+        header: "ICC(2,1)",
+        meta: { numeric: true, decimals: 2, width: 88, narrowWidth: 52 },
+      },
+      {
+        accessorKey: "icc21Interval",
+        header: "95% CI",
+        meta: {
+          numeric: true,
+          width: 150,
+          narrowWidth: 64,
+          wrap: true,
+          label: "ICC(2,1) 95% confidence interval",
+        },
+        enableSorting: false,
+      },
       {
         accessorKey: "n",
         header: "N",
@@ -53,20 +88,6 @@ function BrainReliabilityCard(props: { studyId: string }) {
         accessorKey: "sessions",
         header: "Sessions",
         meta: { numeric: true, decimals: 0, width: 84 },
-      },
-      { accessorKey: "icc31", header: "ICC(3,1)", meta: { numeric: true, decimals: 2, width: 88 } },
-      {
-        accessorKey: "icc31Interval",
-        header: "95% CI",
-        meta: { width: 150, label: "ICC(3,1) 95% confidence interval" },
-        enableSorting: false,
-      },
-      { accessorKey: "icc21", header: "ICC(2,1)", meta: { numeric: true, decimals: 2, width: 88 } },
-      {
-        accessorKey: "icc21Interval",
-        header: "95% CI",
-        meta: { width: 150, label: "ICC(2,1) 95% confidence interval" },
-        enableSorting: false,
       },
     ],
     [],

@@ -3,14 +3,20 @@
  * diagnostics): a TanStack Table with sortable columns (press a header;
  * `aria-sort` on web), an optional search box over every column, optional
  * per-column filters (text contains; numbers accept "> 0.5", "1..3", "n/a"),
- * the first (id) column pinned while the others scroll sideways on a phone,
+ * the first (id) column pinned while the others scroll sideways, and
+ * whenever the columns are wider than the table's box an edge fade and a
+ * "More columns →" button that scrolls them into view. The first column
+ * takes the room the others leave, so a table never stands half empty;
+ * headers wrap rather than being cut, and in a narrow box (a phone) cells
+ * sit closer together. Optional columns can be hidden (`columnVisibility`),
  * paging for thousands of rows with a page-size choice and "rows 1–50 of
  * 2,000", numbers right-aligned in tabular figures, a row press callback and
  * an empty state.
  *
  * Missing values (null, undefined, NaN) print as "n/a" and sort last in
  * both directions. Columns describe themselves through `meta`: `numeric`,
- * `digits` or `decimals` for number formatting, `width` in px.
+ * `digits` or `decimals` for number formatting, `width` in px (`narrowWidth`
+ * in a narrow box), `wrap` for cells whose text may take several lines.
  *
  * With `server`, the rows are paged, sorted and searched by the API
  * instead (a region's participant diagnostics): `data` is the page shown,
@@ -32,9 +38,20 @@ import {
   type RowData,
   type SortingState,
   useReactTable,
+  type VisibilityState,
 } from "@tanstack/react-table";
-import { type ReactNode, useMemo, useState } from "react";
-import { Pressable, ScrollView, StyleSheet, Text, TextInput, View } from "react-native";
+import { type ReactNode, useEffect, useMemo, useRef, useState } from "react";
+import {
+  type LayoutChangeEvent,
+  type NativeScrollEvent,
+  type NativeSyntheticEvent,
+  Pressable,
+  ScrollView,
+  StyleSheet,
+  Text,
+  TextInput,
+  View,
+} from "react-native";
 import { fonts, palette, radius, space, table, type } from "../theme";
 import { Button, Empty, Txt } from "../ui";
 import { formatCount } from "../charts/number-format";
@@ -42,7 +59,8 @@ import { formatCell } from "./cell-values";
 import { parseNumericFilter } from "./column-filter";
 import { pageSizeOptions, pageWindow } from "./paging";
 import { type AnyColumn, globalMatch, prepareColumns } from "./table-columns";
-import { pinnedCellStyle, sortAttributes } from "./table-platform";
+import { breakAnywhere, edgeFadeStyle, pinnedCellStyle, sortAttributes } from "./table-platform";
+import { cellPadding, columnWidth, isNarrowBox, nextScrollX, overflowState } from "./table-fit";
 
 export interface DataTableProps<T extends RowData> {
   /** Accessible name of the table, e.g. "Roster". */
@@ -73,6 +91,15 @@ export interface DataTableProps<T extends RowData> {
   testID?: string;
   /** Rows paged, sorted and searched by the API: `data` is the current page of `rowCount` matching rows. */
   server?: ServerRows;
+  /** Columns to hide (`{ id: false }`); every column shows by default. */
+  columnVisibility?: VisibilityState;
+  /** Told the ids of the rows on the page shown, in their order, whenever they change. */
+  onRowsShown?: (ids: readonly string[]) => void;
+  /**
+   * The table itself runs from edge to edge of its box (a phone's screen,
+   * for more room) while the search box, hint and pager keep this inset (px).
+   */
+  edgeInset?: number;
 }
 
 export interface ServerRows {
@@ -99,15 +126,23 @@ function renderCell<T>(cell: Cell<T, unknown>): ReactNode {
     : (flexRender(def, cell.getContext()) as ReactNode);
 }
 
-function asNode(rendered: ReactNode, numeric: boolean | undefined, emphasis = false): ReactNode {
+function asNode(
+  rendered: ReactNode,
+  numeric: boolean | undefined,
+  emphasis: boolean,
+  wrap: boolean,
+  narrow: boolean,
+): ReactNode {
   if (typeof rendered === "string" || typeof rendered === "number") {
     return (
       <Text
-        numberOfLines={1}
+        numberOfLines={wrap ? undefined : 1}
         style={[
           styles.cellText,
           numeric ? styles.numberText : null,
+          numeric && narrow ? styles.numberNarrow : null,
           emphasis ? styles.emphasis : null,
+          wrap && !numeric ? breakAnywhere : null,
         ]}
       >
         {rendered}
@@ -143,13 +178,21 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
       : 50,
   });
 
+  const [boxWidth, setBoxWidth] = useState(0);
+  const [contentWidth, setContentWidth] = useState(0);
+  const [scrollX, setScrollX] = useState(0);
+  const scroller = useRef<ScrollView>(null);
+  const narrow = isNarrowBox(boxWidth);
+  const edge = overflowState(boxWidth, contentWidth, scrollX);
+
   const server = props.server;
+  const columnVisibility = props.columnVisibility ?? {};
   const tableModel = useReactTable<T>({
     data: props.data as T[],
     columns,
     state: server
-      ? { sorting: server.sorting, pagination: server.pagination }
-      : { sorting, globalFilter, columnFilters, pagination },
+      ? { sorting: server.sorting, pagination: server.pagination, columnVisibility }
+      : { sorting, globalFilter, columnFilters, pagination, columnVisibility },
     onSortingChange: (update) =>
       server
         ? server.onSortingChange(typeof update === "function" ? update(server.sorting) : update)
@@ -183,8 +226,14 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
   const matched = server ? server.rowCount : tableModel.getPrePaginationRowModel().rows.length;
   const page = pageWindow(matched, shownPaging.pageIndex, shownPaging.pageSize);
   const headers = tableModel.getHeaderGroups()[0]?.headers ?? [];
-  const widthOf = (index: number, meta: { width?: number } | undefined) =>
-    meta?.width ?? (index === 0 ? table.pinnedWidth : table.cellWidth);
+  const widthOf = (index: number, meta: { width?: number; narrowWidth?: number } | undefined) =>
+    columnWidth(index, meta, narrow);
+  const shownRows = tableModel.getRowModel().rows;
+  const shownIds = shownRows.map((r) => r.id).join("\u0000");
+  const onRowsShown = props.onRowsShown;
+  useEffect(() => {
+    onRowsShown?.(shownIds === "" ? [] : shownIds.split("\u0000"));
+  }, [shownIds, onRowsShown]);
   const filterProblems = props.filterable
     ? columnFilters.flatMap((f) => {
         const column = tableModel.getColumn(f.id);
@@ -219,6 +268,7 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
     server?.onSearchChange("");
   };
 
+  const inset = props.edgeInset ? { marginHorizontal: props.edgeInset } : null;
   return (
     <View style={styles.root} testID={props.testID}>
       {props.searchable ? (
@@ -228,7 +278,7 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
           placeholder={server?.searchPlaceholder ?? "Search every column"}
           placeholderTextColor={palette.faint}
           accessibilityLabel={`Search ${props.label}`}
-          style={styles.search}
+          style={[styles.search, inset]}
           autoCapitalize="none"
           autoCorrect={false}
         />
@@ -238,68 +288,112 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
           {problem}
         </Txt>
       ))}
-      <ScrollView horizontal style={styles.scroller} contentContainerStyle={styles.scrollContent}>
-        <View role="table" accessibilityLabel={props.label}>
-          <View role="row" style={[styles.row, styles.headerRow]}>
-            {headers.map((header, index) => (
-              <HeaderCell
-                key={header.id}
-                header={header}
-                width={widthOf(index, header.column.columnDef.meta)}
-                pinned={index === 0}
-                words={headerWords(header)}
+      {edge.overflow ? (
+        <Pressable
+          accessibilityRole="button"
+          accessibilityLabel={
+            edge.atEnd
+              ? `Back to the first columns of ${props.label}`
+              : `More columns of ${props.label}: scroll right`
+          }
+          onPress={() =>
+            scroller.current?.scrollTo({
+              x: nextScrollX(boxWidth, contentWidth, scrollX),
+              animated: true,
+            })
+          }
+          style={({ pressed }) => [styles.moreColumns, inset, pressed ? styles.pressed : null]}
+          testID={props.testID ? `${props.testID}-more-columns` : undefined}
+        >
+          <Text style={styles.moreColumnsText}>
+            {edge.atEnd ? "← First columns" : "More columns →"}
+          </Text>
+        </Pressable>
+      ) : null}
+      <View style={styles.frame}>
+        <ScrollView
+          ref={scroller}
+          horizontal
+          style={[styles.scroller, props.edgeInset ? styles.edgeToEdge : null]}
+          contentContainerStyle={styles.scrollContent}
+          onLayout={(event: LayoutChangeEvent) => setBoxWidth(event.nativeEvent.layout.width)}
+          onContentSizeChange={(width: number) => setContentWidth(width)}
+          onScroll={(event: NativeSyntheticEvent<NativeScrollEvent>) =>
+            setScrollX(event.nativeEvent.contentOffset.x)
+          }
+          scrollEventThrottle={32}
+          testID={props.testID ? `${props.testID}-scroller` : undefined}
+        >
+          <View role="table" accessibilityLabel={props.label} style={styles.table}>
+            <View role="row" style={[styles.row, styles.headerRow]}>
+              {headers.map((header, index) => (
+                <HeaderCell
+                  key={header.id}
+                  header={header}
+                  width={widthOf(index, header.column.columnDef.meta)}
+                  pinned={index === 0}
+                  words={headerWords(header)}
+                  narrow={narrow}
+                />
+              ))}
+            </View>
+            {props.filterable ? (
+              <View role="row" style={[styles.row, styles.filterRow]}>
+                {headers.map((header, index) => (
+                  <View
+                    key={header.id}
+                    role="cell"
+                    style={[
+                      styles.cell,
+                      { width: widthOf(index, header.column.columnDef.meta) },
+                      index === 0 ? styles.grow : null,
+                      styles.filterCell,
+                      index === 0 ? [pinnedCellStyle, styles.pinnedFilter] : null,
+                    ]}
+                  >
+                    {header.column.getCanFilter() ? (
+                      <TextInput
+                        value={String(header.column.getFilterValue() ?? "")}
+                        onChangeText={(text) =>
+                          header.column.setFilterValue(text === "" ? undefined : text)
+                        }
+                        placeholder={
+                          header.column.columnDef.meta?.numeric ? "> 0, 1..3" : "contains"
+                        }
+                        placeholderTextColor={palette.faint}
+                        accessibilityLabel={`Filter ${headerWords(header)}`}
+                        style={styles.filterInput}
+                        autoCapitalize="none"
+                        autoCorrect={false}
+                      />
+                    ) : null}
+                  </View>
+                ))}
+              </View>
+            ) : null}
+            {shownRows.map((row, rowIndex) => (
+              <BodyRow
+                key={row.id}
+                row={row}
+                striped={rowIndex % 2 === 1}
+                selected={row.id === props.selectedRowId}
+                widthOf={widthOf}
+                narrow={narrow}
+                onPress={props.onRowPress}
               />
             ))}
           </View>
-          {props.filterable ? (
-            <View role="row" style={[styles.row, styles.filterRow]}>
-              {headers.map((header, index) => (
-                <View
-                  key={header.id}
-                  role="cell"
-                  style={[
-                    styles.cell,
-                    { width: widthOf(index, header.column.columnDef.meta) },
-                    styles.filterCell,
-                    index === 0 ? [pinnedCellStyle, styles.pinnedFilter] : null,
-                  ]}
-                >
-                  {header.column.getCanFilter() ? (
-                    <TextInput
-                      value={String(header.column.getFilterValue() ?? "")}
-                      onChangeText={(text) =>
-                        header.column.setFilterValue(text === "" ? undefined : text)
-                      }
-                      placeholder={header.column.columnDef.meta?.numeric ? "> 0, 1..3" : "contains"}
-                      placeholderTextColor={palette.faint}
-                      accessibilityLabel={`Filter ${headerWords(header)}`}
-                      style={styles.filterInput}
-                      autoCapitalize="none"
-                      autoCorrect={false}
-                    />
-                  ) : null}
-                </View>
-              ))}
-            </View>
-          ) : null}
-          {tableModel.getRowModel().rows.map((row, rowIndex) => (
-            <BodyRow
-              key={row.id}
-              row={row}
-              striped={rowIndex % 2 === 1}
-              selected={row.id === props.selectedRowId}
-              widthOf={widthOf}
-              onPress={props.onRowPress}
-            />
-          ))}
-        </View>
-      </ScrollView>
+        </ScrollView>
+        {edge.overflow && !edge.atEnd ? (
+          <View pointerEvents="none" style={[styles.fade, edgeFadeStyle]} />
+        ) : null}
+      </View>
       {matched === 0 ? (
         <Empty title="No rows match the search or filters">
           <Button label="Clear search and filters" variant="secondary" onPress={clearAll} />
         </Empty>
       ) : null}
-      <View style={styles.pager}>
+      <View style={[styles.pager, inset]}>
         <Txt
           kind="small"
           style={styles.muted}
@@ -364,6 +458,7 @@ function HeaderCell<T>(props: {
   width: number;
   pinned: boolean;
   words: string;
+  narrow: boolean;
 }) {
   const { header } = props;
   const column = header.column;
@@ -373,18 +468,35 @@ function HeaderCell<T>(props: {
   const rendered = header.isPlaceholder
     ? null
     : flexRender(column.columnDef.header, header.getContext());
-  const arrow = sorted === "asc" ? " ▲" : sorted === "desc" ? " ▼" : "";
-  const content = asNode(rendered as ReactNode, false, true);
+  const arrow = sorted === "asc" ? "▲" : sorted === "desc" ? "▼" : "";
+  // Headers wrap onto a second line rather than being cut.
+  const content =
+    typeof rendered === "string" || typeof rendered === "number" ? (
+      <Text
+        style={[
+          styles.cellText,
+          styles.emphasis,
+          styles.headerText,
+          numeric ? styles.headerTextNumeric : null,
+        ]}
+      >
+        {rendered}
+      </Text>
+    ) : (
+      (rendered as ReactNode)
+    );
+  const padding = { paddingHorizontal: cellPadding(props.narrow) };
   const cellStyle = [
     styles.cell,
     styles.headerCell,
     { width: props.width },
+    props.pinned ? styles.grow : null,
     numeric ? styles.numericCell : null,
     props.pinned ? [pinnedCellStyle, styles.pinnedHeader] : null,
   ];
   if (!column.getCanSort()) {
     return (
-      <View role="columnheader" style={cellStyle}>
+      <View role="columnheader" style={[cellStyle, padding]}>
         {content}
       </View>
     );
@@ -395,10 +507,10 @@ function HeaderCell<T>(props: {
         role="button"
         accessibilityLabel={`${props.words}, ${nextSortWords(column.getNextSortingOrder())}`}
         onPress={column.getToggleSortingHandler()}
-        style={[styles.sortButton, numeric ? styles.sortButtonNumeric : null]}
+        style={[styles.sortButton, padding, numeric ? styles.sortButtonNumeric : null]}
       >
         {content}
-        <Text style={styles.arrow}>{arrow}</Text>
+        {arrow ? <Text style={styles.arrow}>{arrow}</Text> : null}
       </Pressable>
     </View>
   );
@@ -414,7 +526,8 @@ function BodyRow<T>(props: {
   row: Row<T>;
   striped: boolean;
   selected: boolean;
-  widthOf: (index: number, meta: { width?: number } | undefined) => number;
+  widthOf: (index: number, meta: { width?: number; narrowWidth?: number } | undefined) => number;
+  narrow: boolean;
   onPress?: (row: T) => void;
 }) {
   const { row } = props;
@@ -431,12 +544,18 @@ function BodyRow<T>(props: {
         role={index === 0 ? "rowheader" : "cell"}
         style={[
           styles.cell,
-          { width: props.widthOf(index, meta) },
+          { width: props.widthOf(index, meta), paddingHorizontal: cellPadding(props.narrow) },
           meta?.numeric ? styles.numericCell : null,
-          index === 0 ? [pinnedCellStyle, background] : null,
+          index === 0 ? [styles.grow, pinnedCellStyle, background] : null,
         ]}
       >
-        {asNode(renderCell(cell), meta?.numeric, index === 0)}
+        {asNode(
+          renderCell(cell),
+          meta?.numeric,
+          index === 0,
+          index === 0 || meta?.wrap === true,
+          props.narrow,
+        )}
       </View>
     );
   });
@@ -474,6 +593,17 @@ const styles = StyleSheet.create({
     backgroundColor: palette.surface,
   },
   problem: { color: palette.danger },
+  frame: { position: "relative" },
+  fade: { position: "absolute", top: 1, bottom: 1, right: 1, width: 40 },
+  moreColumns: {
+    alignSelf: "flex-end",
+    minHeight: 44,
+    justifyContent: "center",
+    paddingHorizontal: space.sm,
+  },
+  moreColumnsText: { fontFamily: fonts.semibold, fontSize: type.small, color: palette.focus },
+  table: { flexGrow: 1 },
+  grow: { flexGrow: 1 },
   scroller: {
     borderWidth: 1,
     borderColor: table.border,
@@ -481,6 +611,7 @@ const styles = StyleSheet.create({
     backgroundColor: palette.surface,
   },
   scrollContent: { flexGrow: 1 },
+  edgeToEdge: { borderRadius: 0, borderLeftWidth: 0, borderRightWidth: 0 },
   row: {
     flexDirection: "row",
     minHeight: table.rowHeight,
@@ -492,9 +623,12 @@ const styles = StyleSheet.create({
   cell: {
     justifyContent: "center",
     paddingHorizontal: table.cellPaddingX,
-    height: table.rowHeight,
+    paddingVertical: space.xs,
+    minHeight: table.rowHeight,
   },
-  headerCell: { height: table.headerHeight, paddingHorizontal: 0 },
+  headerCell: { minHeight: table.headerHeight, paddingHorizontal: 0, paddingVertical: 0 },
+  headerText: { flexShrink: 1 },
+  headerTextNumeric: { textAlign: "right" },
   pinnedHeader: {
     backgroundColor: table.header,
     borderRightWidth: 1,
@@ -520,16 +654,18 @@ const styles = StyleSheet.create({
   numericCell: { alignItems: "flex-end" },
   cellText: { fontSize: type.small, fontFamily: fonts.regular, color: palette.ink },
   numberText: { fontFamily: fonts.mono, fontVariant: ["tabular-nums"], textAlign: "right" },
+  numberNarrow: { fontSize: type.caption },
   emphasis: { fontFamily: fonts.semibold },
   sortButton: {
     flex: 1,
     flexDirection: "row",
     alignItems: "center",
-    paddingHorizontal: table.cellPaddingX,
+    gap: 2,
+    paddingVertical: space.xs,
     minHeight: table.headerHeight,
   },
   sortButtonNumeric: { justifyContent: "flex-end" },
-  arrow: { fontSize: type.caption, color: palette.inkSoft, minWidth: 14, textAlign: "right" },
+  arrow: { fontSize: type.caption, color: palette.inkSoft },
   plain: { backgroundColor: palette.surface },
   striped: { backgroundColor: table.stripe },
   selected: { backgroundColor: table.selected },

@@ -6,7 +6,7 @@
  * filter language and text columns a case-insensitive "contains".
  *
  * Column `meta` (declared here for every TanStack column in the app):
- * `numeric`, `digits` or `decimals`, `width`, `label`.
+ * `numeric`, `digits` or `decimals`, `width`, `narrowWidth`, `wrap`, `label`.
  */
 import type { ColumnDef, FilterFn, RowData, SortingFn } from "@tanstack/react-table";
 import { compareCells, formatCell, missingToUndefined } from "./cell-values";
@@ -23,6 +23,10 @@ declare module "@tanstack/react-table" {
     decimals?: number;
     /** Column width in px (the first column defaults to the theme's pinned width). */
     width?: number;
+    /** Column width in px when the table's box is narrow (a phone); `width` when not given. */
+    narrowWidth?: number;
+    /** The cell's text may take several lines (an interval, a long name) instead of being cut. */
+    wrap?: boolean;
     /** Words for the column in accessible names when its header is not plain text. */
     label?: string;
   }

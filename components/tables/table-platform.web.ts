@@ -1,13 +1,23 @@
 /**
  * Web-only table details: the first cell of each row is `position: sticky`
  * at the left edge of the horizontally scrolling table, so the id column
- * stays put while the other columns scroll under it; column headers carry
- * `aria-sort`.
+ * stays put while the other columns scroll under it; long names break
+ * anywhere rather than run out of their cell; the right edge of a table
+ * whose columns go on fades out; column headers carry `aria-sort`.
  */
-import type { ViewStyle } from "react-native";
+import type { TextStyle, ViewStyle } from "react-native";
+import { palette } from "../theme";
 
 /** Sticky positioning is CSS that react-native-web passes through; React Native's style types do not list it. */
 export const pinnedCellStyle = { position: "sticky", left: 0, zIndex: 1 } as unknown as ViewStyle;
+
+/** CSS `overflow-wrap: anywhere` (react-native-web passes it through). */
+export const breakAnywhere = { overflowWrap: "anywhere" } as unknown as TextStyle;
+
+/** A gradient from transparent to the table's surface colour. */
+export const edgeFadeStyle = {
+  backgroundImage: `linear-gradient(to right, ${palette.surface}00, ${palette.surface})`,
+} as unknown as ViewStyle;
 
 /** `aria-sort` for a column header. */
 export function sortAttributes(

@@ -1,0 +1,414 @@
+/**
+ * The region table and the fit page at phone (390×844) and wide (1280×800)
+ * size, on the demo study and on invented studies with 10 and 400 regions
+ * with long region names: the six key columns (region, estimate, 95% CI, p,
+ * adjusted p, flags) have their headers and first rows' cells inside the
+ * viewport with no sideways scroll of the page or the table; no header is
+ * cut; a table wider than its box says so ("More columns →") and keeps its
+ * first column in place; on a phone, tapping a region opens its detail as
+ * its own view, within the first screen, with a way back to the table and
+ * the row highlighted; on a wide screen the table spans the content width
+ * and the detail follows in two columns.
+ */
+import type { Locator, Page } from "playwright-core";
+import { beforeAll, expect, it } from "vitest";
+import { type DemoApi, demoApi, openPage, phone, screenshot, wide } from "./harness";
+import { sharedServerAndBrowser } from "./session";
+
+const e2e = sharedServerAndBrowser();
+let owner: DemoApi;
+const fits: { label: string; studyId: string; fitId: string; estimate: string }[] = [];
+
+const areas = [
+  "anterior_insula",
+  "posterior_superior_temporal_sulcus",
+  "dorsolateral_prefrontal_cortex",
+  "inferior_parietal_lobule",
+  "ventral_striatum",
+];
+
+/** Long, realistic region names: "left_anterior_insula", then numbered once the areas run out. */
+function regionNames(count: number): string[] {
+  const names: string[] = [];
+  for (let i = 0; names.length < count; i++) {
+    const side = i % 2 === 0 ? "left" : "right";
+    const area = areas[Math.floor(i / 2) % areas.length];
+    const round = Math.floor(i / (2 * areas.length));
+    names.push(round === 0 ? `${side}_${area}` : `${side}_${area}_${round + 1}`);
+  }
+  return names;
+}
+
+/** A brain table of 30 participants: region r's values have a mean that grows with r (invented numbers). */
+function brainCsv(regions: readonly string[]): string {
+  const lines = [`participant_id,${regions.join(",")}`];
+  for (let i = 1; i <= 30; i++) {
+    const values = regions.map((_, r) =>
+      (((r % 7) - 2) * 0.05 + Math.sin(i * 1.7 + r * 0.31) * 0.4 + (i === 7 ? 1.5 : 0)).toFixed(4),
+    );
+    lines.push(`sub-${String(i).padStart(2, "0")},${values.join(",")}`);
+  }
+  return `${lines.join("\n")}\n`;
+}
+
+async function ownerUpload(path: string, form: FormData): Promise<unknown> {
+  const signIn = await fetch(`${e2e.server.url}/api/dev/demo-sign-in`, {
+    method: "POST",
+    headers: { "Content-Type": "application/json", Origin: e2e.server.url },
+    body: JSON.stringify({ email: "owner@demo.covarion.test" }),
+  });
+  const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
+  const res = await fetch(`${e2e.server.url}${path}`, {
+    method: "POST",
+    headers: { Cookie: cookie, Origin: e2e.server.url },
+    body: form,
+  });
+  if (!res.ok) throw new Error(`POST ${path} answered ${res.status}: ${await res.text()}`);
+  return res.json();
+}
+
+async function runFit(studyId: string, modelId: string): Promise<string> {
+  const fit = (await owner(`/api/studies/${studyId}/fits`, {
+    method: "POST",
+    body: { modelId },
+  })) as { id: string };
+  const deadline = Date.now() + 120_000;
+  for (;;) {
+    const seen = (await owner(`/api/fits/${fit.id}`)) as { status: string };
+    if (seen.status === "done") return fit.id;
+    if (seen.status === "failed" || Date.now() > deadline)
+      throw new Error(`fit ${fit.id} ended ${seen.status}`);
+    await new Promise((r) => setTimeout(r, 250));
+  }
+}
+
+async function inventedFit(label: string, count: number): Promise<void> {
+  const study = (await owner("/api/studies", {
+    method: "POST",
+    body: { name: `${count} regions with long names` },
+  })) as { id: string };
+  const form = new FormData();
+  form.set("kind", "brain");
+  form.set(
+    "file",
+    new Blob([brainCsv(regionNames(count))], { type: "text/csv" }),
+    `regions-${count}.csv`,
+  );
+  const preview = (await ownerUpload(`/api/studies/${study.id}/datasets`, form)) as { id: string };
+  await owner(`/api/studies/${study.id}/datasets/${preview.id}/confirm`, {
+    method: "POST",
+    body: {},
+  });
+  const model = (await owner(`/api/studies/${study.id}/models`, {
+    method: "POST",
+    body: {
+      name: `Task effect in ${count} regions`,
+      regionSelection: "anatomical-or-prior",
+      spec: { kind: "one-sample", correction: "bh" },
+    },
+  })) as { id: string };
+  fits.push({
+    label,
+    studyId: study.id,
+    fitId: await runFit(study.id, model.id),
+    estimate: "Mean",
+  });
+}
+
+beforeAll(async () => {
+  owner = await demoApi(e2e.server.url, "owner");
+  const demoStudy = ((await owner("/api/studies")) as { id: string }[])[0].id;
+  const model = (await owner(`/api/studies/${demoStudy}/models`, {
+    method: "POST",
+    body: {
+      name: "Accuracy with age held constant",
+      regionSelection: "anatomical-or-prior",
+      spec: { kind: "association", predictor: "accuracy", covariates: ["age"], correction: "bh" },
+    },
+  })) as { id: string };
+  fits.push({
+    label: "demo",
+    studyId: demoStudy,
+    fitId: await runFit(demoStudy, model.id),
+    estimate: "Slope",
+  });
+  await inventedFit("10-regions", 10);
+  await inventedFit("400-regions", 400);
+});
+
+async function signIn(page: Page): Promise<void> {
+  await page.goto(`${e2e.server.url}/sign-in`);
+  await page.getByRole("button", { name: "Sign in as the demo owner" }).click();
+  await page.waitForURL(/\/studies$/);
+}
+
+interface Box {
+  x: number;
+  y: number;
+  width: number;
+  height: number;
+}
+
+async function boxOf(locator: Locator): Promise<Box> {
+  const box = await locator.boundingBox();
+  if (!box) throw new Error("element has no box");
+  return box;
+}
+
+/** Sideways overflow of the page and of every scrolling ancestor of the element (px beyond the box). */
+async function sidewaysOverflow(table: Locator): Promise<{ what: string; by: number }[]> {
+  return table.evaluate((element) => {
+    const found: { what: string; by: number }[] = [];
+    const doc = document.documentElement;
+    if (doc.scrollWidth > doc.clientWidth + 1)
+      found.push({ what: "page", by: doc.scrollWidth - doc.clientWidth });
+    for (let node: HTMLElement | null = element as HTMLElement; node; node = node.parentElement) {
+      if (node.scrollWidth > node.clientWidth + 1) {
+        const style = getComputedStyle(node);
+        if (style.overflowX === "auto" || style.overflowX === "scroll")
+          found.push({
+            what: node.getAttribute("data-testid") ?? node.tagName,
+            by: node.scrollWidth - node.clientWidth,
+          });
+      }
+    }
+    for (const scroller of element.querySelectorAll<HTMLElement>("*")) {
+      const style = getComputedStyle(scroller);
+      if (
+        (style.overflowX === "auto" || style.overflowX === "scroll") &&
+        scroller.scrollWidth > scroller.clientWidth + 1
+      )
+        found.push({
+          what: scroller.getAttribute("data-testid") ?? scroller.tagName,
+          by: scroller.scrollWidth - scroller.clientWidth,
+        });
+    }
+    return found;
+  });
+}
+
+/** Header cells whose own box or text box is narrower than their content (cut or hidden). */
+async function cutHeaders(table: Locator): Promise<string[]> {
+  return table.locator('[role="columnheader"]').evaluateAll((headers) =>
+    headers.flatMap((header) => {
+      const parts = [header as HTMLElement, ...header.querySelectorAll<HTMLElement>("*")];
+      const cut = parts.some(
+        (el) => el.scrollWidth > el.clientWidth + 1 || el.scrollHeight > el.clientHeight + 1,
+      );
+      return cut ? [header.textContent ?? ""] : [];
+    }),
+  );
+}
+
+function inside(box: Box, viewport: { width: number; height: number }): boolean {
+  return (
+    box.x >= 0 &&
+    box.x + box.width <= viewport.width + 0.5 &&
+    box.y >= 0 &&
+    box.y + box.height <= viewport.height + 0.5
+  );
+}
+
+async function checkKeyColumns(
+  page: Page,
+  viewport: { width: number; height: number },
+  estimate: string,
+): Promise<void> {
+  const table = page.getByTestId("region-table");
+  const headerRow = table.locator('[role="row"]').first();
+  await headerRow.evaluate((row) => row.scrollIntoView({ block: "start" }));
+  const headers = table.locator('[role="columnheader"]');
+  const words = (await headers.allTextContents()).map((w) => w.replace(/[▲▼]/g, "").trim());
+  expect(words.slice(0, 6)).toEqual(["Region", estimate, "95% CI", "p", "Adjusted p", "Flags"]);
+  for (let i = 0; i < 6; i++) {
+    const box = await boxOf(headers.nth(i));
+    expect(
+      inside(box, viewport),
+      `header ${words[i]} inside the viewport: ${JSON.stringify(box)}`,
+    ).toBe(true);
+  }
+  // The first rows' six key cells.
+  const rows = table.locator('[role="row"][aria-selected]');
+  for (let r = 0; r < 3; r++) {
+    const cells = rows.nth(r).locator('[role="rowheader"], [role="cell"]');
+    for (let c = 0; c < 6; c++) {
+      const box = await boxOf(cells.nth(c));
+      expect(
+        box.x >= 0 && box.x + box.width <= viewport.width + 0.5,
+        `row ${r + 1}, column ${words[c]} inside the viewport's width: ${JSON.stringify(box)}`,
+      ).toBe(true);
+      const text = await cells.nth(c).evaluate((el) => ({
+        cut: [...el.querySelectorAll<HTMLElement>("*")].some(
+          (t) => t.scrollWidth > t.clientWidth + 1,
+        ),
+      }));
+      expect(text.cut, `row ${r + 1}, column ${words[c]} is not cut`).toBe(false);
+    }
+  }
+  // No key cell on the page is cut (numbers of every length, long names, intervals).
+  const cut = await rows.evaluateAll((all) =>
+    all.flatMap((row) =>
+      [...row.querySelectorAll<HTMLElement>('[role="rowheader"], [role="cell"]')]
+        .slice(0, 6)
+        .filter((cell) =>
+          [cell, ...cell.querySelectorAll<HTMLElement>("*")].some(
+            (el) => el.scrollWidth > el.clientWidth + 1,
+          ),
+        )
+        .map((cell) => cell.textContent ?? ""),
+    ),
+  );
+  expect(cut).toEqual([]);
+  expect(await sidewaysOverflow(table)).toEqual([]);
+  expect(await cutHeaders(table)).toEqual([]);
+  await expect(page.getByTestId("region-table-more-columns").count()).resolves.toBe(0);
+}
+
+for (const [size, viewport] of [
+  ["phone", phone],
+  ["wide", wide],
+] as const) {
+  it(`the six key columns fit without scrolling sideways, headers whole, at ${size} size`, async () => {
+    const { page, context, errors } = await openPage(e2e.browser, viewport);
+    try {
+      await signIn(page);
+      for (const fit of fits) {
+        await page.goto(`${e2e.server.url}/studies/${fit.studyId}/fits/${fit.fitId}`);
+        await page.getByTestId("region-table").waitFor({ timeout: 60_000 });
+        // The header and its N fit in the first screen.
+        const header = await boxOf(page.getByTestId("fit-plain-words"));
+        expect(header.y + header.height).toBeLessThanOrEqual(viewport.height);
+        await screenshot(page, `region-layout-${fit.label}-top-${size}`);
+        await checkKeyColumns(page, viewport, fit.estimate);
+        await screenshot(page, `region-layout-${fit.label}-table-${size}`);
+        if (size === "phone") {
+          // Every row, header and chooser button is a tap target of 44 px.
+          for (const target of [
+            page.getByTestId("region-table").locator('[role="row"]').first(),
+            page.getByTestId("region-table").locator('[role="row"][aria-selected]').first(),
+            page.getByTestId("region-columns-toggle"),
+          ]) {
+            expect((await boxOf(target)).height).toBeGreaterThanOrEqual(44);
+          }
+        } else {
+          // The table spans the content width; the detail follows in two columns.
+          const table = await boxOf(page.getByTestId("fit-regions"));
+          const head = await boxOf(page.getByTestId("fit-header"));
+          expect(Math.abs(table.width - head.width)).toBeLessThanOrEqual(1);
+          const detail = page.getByTestId("region-detail");
+          await detail.waitFor();
+          const detailBox = await boxOf(detail);
+          expect(detailBox.y).toBeGreaterThan(table.y + table.height - 1);
+        }
+      }
+      expect(errors).toEqual([]);
+    } finally {
+      await context.close();
+    }
+  });
+}
+
+it("on a phone, a tapped region opens as its own view within the first screen, with a way back to the highlighted row", async () => {
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  try {
+    await signIn(page);
+    for (const fit of fits) {
+      await page.goto(`${e2e.server.url}/studies/${fit.studyId}/fits/${fit.fitId}`);
+      const table = page.getByTestId("region-table");
+      await table.waitFor({ timeout: 60_000 });
+      const row = table.locator('[role="row"][aria-selected]').nth(1);
+      const region = ((await row.locator('[role="rowheader"]').textContent()) ?? "").trim();
+      await row.click();
+      await page.waitForURL(/\/regions\/[^/]+$/);
+      const detail = page.getByTestId("region-detail");
+      await detail.waitFor({ timeout: 60_000 });
+      await expect(detail.getByRole("heading").first().textContent()).resolves.toBe(region);
+      const summary = await boxOf(page.getByTestId("region-summary"));
+      expect(
+        inside(summary, phone),
+        `summary in the first screen: ${JSON.stringify(summary)}`,
+      ).toBe(true);
+      const back = await boxOf(page.getByTestId("region-back"));
+      expect(inside(back, phone)).toBe(true);
+      expect(back.height).toBeGreaterThanOrEqual(44);
+      await screenshot(page, `region-layout-${fit.label}-detail-phone`);
+      // The participant diagnostics are wider than a phone: the table says so and keeps its first column.
+      const diagnostics = page.getByTestId("diagnostics-table");
+      if ((await diagnostics.count()) > 0) {
+        await diagnostics.scrollIntoViewIfNeeded();
+        const more = page.getByTestId("diagnostics-table-more-columns");
+        await more.waitFor();
+        expect((await boxOf(more)).height).toBeGreaterThanOrEqual(44);
+        const pinned = diagnostics.locator('[role="rowheader"]').first();
+        const before = await boxOf(pinned);
+        await more.click();
+        await expect
+          .poll(() =>
+            page
+              .getByTestId("diagnostics-table-scroller")
+              .evaluate((el) => (el as HTMLElement).scrollLeft),
+          )
+          .toBeGreaterThan(0);
+        const after = await boxOf(pinned);
+        expect(Math.abs(after.x - before.x)).toBeLessThanOrEqual(1);
+        await screenshot(page, `region-layout-${fit.label}-diagnostics-phone`);
+      }
+      await page.getByTestId("region-back").click();
+      await page.waitForURL(/\/fits\/[^/?]+\?region=/);
+      await table.waitFor();
+      const highlighted = table.locator('[role="row"][aria-selected="true"]');
+      await expect(highlighted.count()).resolves.toBe(1);
+      await expect(highlighted.locator('[role="rowheader"]').textContent()).resolves.toBe(region);
+    }
+    expect(errors).toEqual([]);
+  } finally {
+    await context.close();
+  }
+});
+
+it("more columns come through the chooser, remembered for the person; a table wider than a phone says so and keeps the region in place", async () => {
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  const fit = fits[0];
+  try {
+    await signIn(page);
+    await page.goto(`${e2e.server.url}/studies/${fit.studyId}/fits/${fit.fitId}`);
+    const table = page.getByTestId("region-table");
+    await table.waitFor({ timeout: 60_000 });
+    await page.getByTestId("region-columns-toggle").click();
+    for (const name of ["N", "Statistic", "df", "r", "95% CI of r"])
+      await page.getByTestId("region-columns").getByRole("checkbox", { name, exact: true }).click();
+    const more = page.getByTestId("region-table-more-columns");
+    await more.waitFor();
+    const headers = await table.locator('[role="columnheader"]').allTextContents();
+    expect(headers).toEqual(
+      expect.arrayContaining(["N", "Statistic", "df", "r", "95% CI of r"].map((h) => h)),
+    );
+    expect(await cutHeaders(table)).toEqual([]);
+    await screenshot(page, "region-layout-chooser-phone");
+    const pinned = table.locator('[role="rowheader"]').first();
+    const before = await boxOf(pinned);
+    await more.click();
+    await expect
+      .poll(() =>
+        page.getByTestId("region-table-scroller").evaluate((el) => (el as HTMLElement).scrollLeft),
+      )
+      .toBeGreaterThan(0);
+    expect(Math.abs((await boxOf(pinned)).x - before.x)).toBeLessThanOrEqual(1);
+    await screenshot(page, "region-layout-scrolled-phone");
+    // Remembered: the person's preference holds the chosen columns, and a new visit shows them.
+    await expect
+      .poll(
+        async () => ((await owner("/api/me/preferences")) as { preferences: object }).preferences,
+      )
+      .toEqual({ "region-table.columns": ["n", "statistic", "df", "r", "rInterval"] });
+    await page.reload();
+    await table.waitFor({ timeout: 60_000 });
+    await expect
+      .poll(() => table.locator('[role="columnheader"]').allTextContents())
+      .toContain("Statistic");
+    expect(errors).toEqual([]);
+  } finally {
+    await owner("/api/me/preferences/region-table.columns", { method: "PUT", body: { value: [] } });
+    await context.close();
+  }
+});
