@@ -14,6 +14,11 @@
 import { sql } from "drizzle-orm";
 import type { Role } from "../contract/permissions";
 import type { Recipe } from "../contract/recipe";
+import type {
+  DatasetKind,
+  IdentifierDecisionRecord,
+  StoredColumn,
+} from "../contract/views/datasets";
 import {
   type AnyPgColumn,
   boolean,
@@ -206,28 +211,6 @@ export type AuditEvent = typeof auditEvents.$inferSelect;
 
 // ─── Data intake: dataset versions, their rows, confirmed roster mappings ───
 // (owned by the data intake; see server/services/datasets.ts)
-
-export const datasetKinds = ["brain", "participants"] as const;
-export type DatasetKind = (typeof datasetKinds)[number];
-
-/** How one stored column maps to a row's numbers or categories (see dataset_rows). */
-export interface StoredColumn {
-  name: string;
-  type: "id" | "number" | "category";
-  /** brain: id, session, region, se; sheet: id, variable */
-  role: "id" | "session" | "region" | "se" | "variable";
-  /** region and se columns: the region */
-  region?: string;
-  /** number columns: index into the row's numbers; category columns: index into its categories */
-  slot?: number;
-}
-
-export interface IdentifierDecisionRecord {
-  column: string;
-  kind: string;
-  decision: "dropped" | "kept";
-  reason?: string;
-}
 
 /**
  * One confirmed, immutable version of an uploaded brain table or

@@ -12,16 +12,20 @@ import { apiFetch, jsonBody } from "./api";
 import { activityKeys } from "./use-activity";
 import { rosterKeys } from "./use-roster";
 import { studyKeys } from "./use-studies";
-import type { DatasetKind, IdentifierDecisionRecord, StoredColumn } from "../db/schema";
-import type { IdentifierKind } from "../server/intake/identifiers";
 import type {
+  ColumnPreview,
+  DatasetKind,
   DatasetView as DatasetVersion,
+  IdentifierDecisionRecord,
+  IdentifierKind,
   PersonRef,
   RowsPage,
-} from "../server/services/datasets";
+  StoredColumn,
+} from "../contract/views/datasets";
 
-// The API's own view types, shared with the server (type-only: nothing of the server reaches the bundle).
+// The API's own view types, shared with the server (contract/views/datasets.ts).
 export type {
+  ColumnPreview,
   DatasetKind,
   DatasetVersion,
   IdentifierDecisionRecord,
@@ -38,19 +42,6 @@ export interface IntakeProblem {
   column?: string;
   code: string;
   message: string;
-}
-
-export interface ColumnPreview {
-  name: string;
-  type: "number" | "category" | "id";
-  /** brain: id, session, region, se, region-name, value, ignored, dropped; sheet: id, variable */
-  role: string;
-  missing: number;
-  distinct?: number;
-  min?: number;
-  max?: number;
-  note?: string;
-  identifier?: { kind: IdentifierKind; reason: string };
 }
 
 export interface UploadOptions {

@@ -19,17 +19,10 @@
  * Cost: one profile pass per column (shared with type inference), then
  * O(columns × 200) pattern tests. Never throws.
  */
+import type { IdentifierKind } from "../../contract/views/datasets";
 import { isMissing } from "./cells";
 import { profileColumn } from "./columns";
 import type { RawTable } from "./read-table";
-
-export type IdentifierKind =
-  | "name"
-  | "birth-date"
-  | "address"
-  | "phone"
-  | "email"
-  | "record-number";
 
 export interface IdentifierFlag {
   column: string;

@@ -11,6 +11,7 @@
  * problem remains or an identifier column is neither dropped nor explained.
  * Cost: O(rows × columns).
  */
+import type { ColumnPreview, IdentifierKind } from "../../contract/views/datasets";
 import { IntakeError, ProblemList, problem, type Problem } from "./errors";
 import {
   type BrainLayout,
@@ -19,9 +20,9 @@ import {
   brainParticipantIds,
   brainSessions,
 } from "./brain-table";
-import type { ColumnProfile, ColumnType } from "./columns";
+import type { ColumnProfile } from "./columns";
 import { findColumn, unknownColumnError } from "./columns";
-import { type IdentifierFlag, type IdentifierKind, findIdentifierColumns } from "./identifiers";
+import { type IdentifierFlag, findIdentifierColumns } from "./identifiers";
 import { type ParticipantSheet, analyseParticipantSheet } from "./participant-sheet";
 import {
   type Delimiter,
@@ -44,22 +45,6 @@ export interface PreviewOptions {
   layout?: BrainLayout;
   /** Brain tables: session column, or null for none. */
   sessionColumn?: string | null;
-}
-
-export interface ColumnPreview {
-  name: string;
-  type: ColumnType;
-  /** brain: id, session, region, se, region-name, value, ignored; sheet: id, variable */
-  role: string;
-  missing: number;
-  /** Distinct values (category columns). */
-  distinct?: number;
-  /** Smallest and largest number (columns with numbers). */
-  min?: number;
-  max?: number;
-  /** Why a brain-table column is not used. */
-  note?: string;
-  identifier?: { kind: IdentifierKind; reason: string };
 }
 
 export interface TablePreview {

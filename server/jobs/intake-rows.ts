@@ -15,7 +15,7 @@
  *
  * Pure: no database, no files. Cost: O(rows × columns).
  */
-import type { IdentifierDecisionRecord, StoredColumn } from "../../db/schema";
+import type { IdentifierDecisionRecord, StoredColumn } from "../../contract/views/datasets";
 import {
   type BrainTable,
   type ConfirmedTable,

@@ -30,12 +30,17 @@ import {
   datasetRows,
   datasetVersions,
   users,
-  type DatasetKind,
   type DatasetRow,
   type DatasetVersion,
-  type IdentifierDecisionRecord,
-  type StoredColumn,
 } from "../../db/schema";
+import type {
+  DatasetKind,
+  DatasetView,
+  IdentifierDecisionRecord,
+  PersonRef,
+  RowsPage,
+  StoredColumn,
+} from "../../contract/views/datasets";
 import type {
   BrainTable,
   Confirmation,
@@ -49,12 +54,6 @@ import { type EncodedVersion, STORED_ROW_COLUMNS, decodeNumbers } from "../jobs/
 import { recordEvent } from "./audit";
 import type { PreviewStore, StoredPreview, UploadOptions } from "./preview-store";
 
-export interface PersonRef {
-  id: string;
-  name: string | null;
-  email: string | null;
-}
-
 export interface PreviewView extends TablePreview {
   id: string;
   studyId: string;
@@ -66,42 +65,6 @@ export interface PreviewView extends TablePreview {
   uploadedBy: PersonRef;
   uploadedAt: string;
   expiresAt: string;
-}
-
-export interface DatasetView {
-  id: string;
-  studyId: string;
-  kind: DatasetKind;
-  status: "confirmed";
-  version: number;
-  /** The newest version of its kind in the study. */
-  current: boolean;
-  fileName: string;
-  sha256: string;
-  byteSize: number;
-  delimiter: string;
-  layout: string | null;
-  idColumn: string;
-  sessionColumn: string | null;
-  seSuffix: string | null;
-  columns: StoredColumn[];
-  droppedColumns: string[];
-  identifierDecisions: IdentifierDecisionRecord[];
-  rowCount: number;
-  participantCount: number;
-  regions: string[] | null;
-  uploadedBy: PersonRef;
-  uploadedAt: string;
-  confirmedBy: PersonRef;
-  confirmedAt: string;
-}
-
-export interface RowsPage {
-  total: number;
-  offset: number;
-  limit: number;
-  /** Each row's spreadsheet row number and its cells, in the order of `columns`. */
-  items: { row: number; cells: (string | number | null)[] }[];
 }
 
 // ─── Upload and preview ───

@@ -20,7 +20,7 @@
  * Cost: O(previews) per sweep.
  */
 import { createHmac, randomBytes, randomUUID, timingSafeEqual } from "node:crypto";
-import type { DatasetKind } from "../../db/schema";
+import type { DatasetKind } from "../../contract/views/datasets";
 import type { TablePreview } from "../intake";
 
 export interface UploadOptions {

@@ -26,7 +26,8 @@ import { modelSpecSchema } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
 import { runFit } from "../stats/run-fit";
 import { recordEvent } from "./audit";
-import { currentVersions, loadBrainTable, type PersonRef } from "./datasets";
+import type { PersonRef } from "../../contract/views/datasets";
+import { currentVersions, loadBrainTable } from "./datasets";
 
 interface Actor {
   id: string;
