@@ -13,47 +13,27 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { apiBase, apiFetch, jsonBody } from "./api";
 import { activityKeys } from "./use-activity";
-import type { NearMiss, RosterDuplicate } from "../server/intake/roster";
-import type { RosterRow, RosterStatus, VersionRef } from "../server/services/roster";
+import type {
+  MappingView,
+  NearMiss,
+  RosterDuplicate,
+  RosterPage,
+  RosterReport,
+  RosterRow,
+  RosterStatus,
+  VersionRef,
+} from "../contract/views/roster";
 
-// The API's own view types, shared with the server (type-only: nothing of the server reaches the bundle).
-export type { NearMiss, RosterDuplicate, RosterRow, RosterStatus, VersionRef };
-
-export interface RecordedMapping {
-  brainId: string;
-  sheetId: string;
-  createdAt: string;
-  /** Whether both ids are in the current tables, so the mapping joins them now. */
-  applied: boolean;
-}
-
-export interface RosterReport {
-  brainTable: VersionRef | null;
-  participantSheet: VersionRef | null;
-  rule: string;
-  counts: {
-    matched: number;
-    onlyInBrainTable: number;
-    onlyInParticipantSheet: number;
-    duplicates: number;
-    nearMisses: number;
-    mappings: number;
-  };
-  rowsVisible: boolean;
-  onlyInBrainTable: string[] | null;
-  onlyInParticipantSheet: string[] | null;
-  duplicates: RosterDuplicate[] | null;
-  nearMisses: NearMiss[] | null;
-  mappings: RecordedMapping[] | null;
-  columns: { name: string; type: "number" | "category" }[];
-}
-
-interface RosterPage {
-  total: number;
-  offset: number;
-  limit: number;
-  items: RosterRow[];
-}
+// The API's own view types, shared with the server (contract/views/roster.ts).
+export type {
+  MappingView,
+  NearMiss,
+  RosterDuplicate,
+  RosterReport,
+  RosterRow,
+  RosterStatus,
+  VersionRef,
+};
 
 /** The report and every roster row (null when the caller may not see rows). */
 export interface Roster {

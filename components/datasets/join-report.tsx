@@ -10,7 +10,7 @@ import { useState } from "react";
 import { StyleSheet, View } from "react-native";
 import {
   type NearMiss,
-  type RecordedMapping,
+  type MappingView,
   type RosterReport,
   useConfirmMappings,
 } from "../../hooks/use-roster";
@@ -180,7 +180,7 @@ function NearMisses(props: { studyId: string; nearMisses: readonly NearMiss[]; c
   );
 }
 
-function Mappings(props: { mappings: readonly RecordedMapping[] }) {
+function Mappings(props: { mappings: readonly MappingView[] }) {
   if (props.mappings.length === 0) return null;
   return (
     <View style={styles.section} testID="mappings">

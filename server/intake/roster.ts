@@ -15,6 +15,7 @@
  * each of its characters deleted, O(unmatched ids × id length²), and
  * compare only the pairs that share such a key.
  */
+import type { NearMiss, RosterDuplicate } from "../../contract/views/roster";
 import { ProblemList, problem } from "./errors";
 import { quoteCell } from "./cells";
 
@@ -28,20 +29,6 @@ export interface RosterMatch {
   sheetId: string;
   /** identical ids, the normalisation rule, or a confirmed mapping */
   via: "identical" | "rule" | "mapping";
-}
-
-export interface RosterDuplicate {
-  source: "brainTable" | "participantSheet";
-  file: string;
-  /** The normalised id the listed ids share. */
-  key: string;
-  ids: string[];
-}
-
-export interface NearMiss {
-  brainId: string;
-  sheetId: string;
-  reason: string;
 }
 
 export interface Roster {

@@ -16,63 +16,14 @@
  * Pure apart from that small cache. Cost: O(participants) hashing, plus
  * O(rows · log rows) when sorted.
  */
-import {
-  type NearMiss,
-  type ParticipantSheet,
-  type Roster,
-  type RosterDuplicate,
-  joinRoster,
-  naturalCompare,
-  toCsv,
-} from "../intake";
-
-export type RosterStatus = "matched" | "only-in-brain-table" | "only-in-participant-sheet";
-
-export interface RosterRow {
-  /** The brain-table id when there is one (fits name participants by it), else the sheet id. */
-  participant: string;
-  brainId: string | null;
-  sheetId: string | null;
-  status: RosterStatus;
-  via: "identical" | "rule" | "mapping" | null;
-  /** Brain-table sessions of this participant. */
-  sessions: string[];
-  /** Participant-sheet values by column. */
-  values: Record<string, number | string | null>;
-}
-
-export interface VersionRef {
-  id: string;
-  version: number;
-  fileName: string;
-  sha256: string;
-}
-
-export interface RosterCounts {
-  matched: number;
-  onlyInBrainTable: number;
-  onlyInParticipantSheet: number;
-  duplicates: number;
-  nearMisses: number;
-  mappings: number;
-}
-
-export interface RosterReport {
-  brainTable: VersionRef | null;
-  participantSheet: VersionRef | null;
-  rule: string;
-  counts: RosterCounts;
-  /** false when the caller may not see participant-level rows: the id lists and rows are null. */
-  rowsVisible: boolean;
-  matched: number;
-  onlyInBrainTable: string[] | null;
-  onlyInParticipantSheet: string[] | null;
-  duplicates: RosterDuplicate[] | null;
-  nearMisses: NearMiss[] | null;
-  mappings: { brainId: string; sheetId: string; createdAt: string; applied: boolean }[] | null;
-  /** Participant-sheet columns shown in the rows. */
-  columns: { name: string; type: "number" | "category" }[];
-}
+import type {
+  RosterPage,
+  RosterReport,
+  RosterRow,
+  RosterStatus,
+  VersionRef,
+} from "../../contract/views/roster";
+import { type ParticipantSheet, type Roster, joinRoster, naturalCompare, toCsv } from "../intake";
 
 export interface RosterQuery {
   offset: number;
@@ -83,13 +34,6 @@ export interface RosterQuery {
   /** "participant", "status", "sessions" or a participant-sheet column. */
   sort?: string;
   order: "asc" | "desc";
-}
-
-export interface RosterPage {
-  total: number;
-  offset: number;
-  limit: number;
-  items: RosterRow[];
 }
 
 /** A brain table's participants as the roster needs them: distinct ids in file order, each with its sessions in natural order. */

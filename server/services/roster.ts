@@ -25,21 +25,10 @@ import type {
   MappingFacts,
   RosterInput,
   RosterQuery,
-  VersionRef,
 } from "../jobs/intake-roster";
+import type { VersionRef } from "../../contract/views/roster";
 import { recordEvent } from "./audit";
 import { currentVersions, loadParticipantSheet } from "./datasets";
-
-// The API's view types live with the computation; routes and screens import them from here.
-export type {
-  RosterCounts,
-  RosterPage,
-  RosterQuery,
-  RosterReport,
-  RosterRow,
-  RosterStatus,
-  VersionRef,
-} from "../jobs/intake-roster";
 
 const ref = (v: DatasetVersion | null): VersionRef | null =>
   v === null ? null : { id: v.id, version: v.version, fileName: v.fileName, sha256: v.sha256 };
