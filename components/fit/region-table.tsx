@@ -67,7 +67,7 @@ export function RegionTable(props: {
       {
         accessorKey: "region",
         header: "Region",
-        meta: { width: 160, narrowWidth: 80 },
+        meta: { width: 216, narrowWidth: 80 },
       },
       {
         accessorKey: "estimate",
@@ -78,7 +78,7 @@ export function RegionTable(props: {
         accessorKey: "interval",
         header: "95% CI",
         // In a narrow box the interval takes two lines ("low to" and "high", or "low" and "to high").
-        meta: { width: 168, narrowWidth: 74, wrap: true, numeric: true },
+        meta: { width: 160, narrowWidth: 74, wrap: true, numeric: true },
         cell: (c) => c.getValue() as string,
         sortingFn: (a, b) => (a.original.ciLow ?? -Infinity) - (b.original.ciLow ?? -Infinity),
       },
@@ -111,12 +111,12 @@ export function RegionTable(props: {
         header: c.label,
         meta:
           c.kind === "interval"
-            ? { width: 168, narrowWidth: 74, wrap: true, numeric: true }
+            ? { width: 160, narrowWidth: 74, wrap: true, numeric: true }
             : {
                 numeric: true,
                 digits: c.digits,
                 decimals: c.decimals,
-                width: 104,
+                width: 80,
                 narrowWidth: 64,
               },
       })),
@@ -151,7 +151,7 @@ export function RegionTable(props: {
         onRowPress={(row) => props.onSelect(row.region)}
         selectedRowId={props.selectedRegion}
         searchable={props.regions.length > 10}
-        initialPageSize={50}
+        initialPageSize={25}
         columnVisibility={visibility}
         onRowsShown={props.onRowsShown}
         edgeInset={props.edgeInset}
