@@ -33,7 +33,8 @@ import { limitByIpAndAddress } from "./http/rate-limits";
 import { sameOrigin } from "./http/same-origin";
 import { noStoreByDefault, setPermissionsPolicy } from "./http/security-headers";
 import { serveWebBuild } from "./http/web-build";
-import { FitJobs } from "./jobs/fit-jobs";
+import type { FitJobs } from "./jobs/fit-jobs";
+import { createFitJobs } from "./services/fit-store";
 import { activityRoutes } from "./routes/activity";
 import { datasetRoutes } from "./routes/datasets";
 import { plannerRoutes } from "./routes/planner";
@@ -95,7 +96,7 @@ export function createApp(deps: AppDeps): Express {
     version,
   };
 
-  const fitJobs = deps.fitJobs ?? new FitJobs({ db, clock, log });
+  const fitJobs = deps.fitJobs ?? createFitJobs(db, { clock, log });
 
   const app = express();
   app.locals.db = db;

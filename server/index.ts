@@ -21,7 +21,8 @@ import { seedDemoDatasets } from "../db/seed/demo-datasets";
 import { createApp } from "./app";
 import { ConfigError, loadConfig } from "./config";
 import { createHttpServer } from "./http/request-timeouts";
-import { FitJobs } from "./jobs/fit-jobs";
+import type { FitJobs } from "./jobs/fit-jobs";
+import { createFitJobs } from "./services/fit-store";
 import { startServices, type Services } from "./dev/dev-services";
 import { removeIncompleteVersions } from "./services/datasets";
 import { acquireDataLock, DataLockError, type DataLock } from "./services/data-lock";
@@ -73,7 +74,7 @@ async function main(): Promise<void> {
       if (seeded.seeded) console.log("Covarion: created the demo people and demo study.");
     }
     services = await startServices(config);
-    fitJobs = new FitJobs({ db: database.db, warm: true });
+    fitJobs = createFitJobs(database.db, { warm: true });
     const app = createApp({
       config,
       db: database.db,

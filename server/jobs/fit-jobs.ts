@@ -5,12 +5,14 @@
  * `os.availableParallelism() − 1`, at least 1, so one core stays free for
  * requests — runs `runFit` off the request thread (server/jobs/fit-task.ts).
  * The main thread alone reads and writes the database (one process owns
- * it): it builds the fit's data from the versions its recipe names, hands
- * data and model to a worker, receives `started`, throttled `progress` and
- * then one message per region (its diagnostics and plot data as JSON text)
- * through a MessagePort, and writes status, progress (at most every
- * `progressWriteMs`), time left, each region's rows as they arrive, and
- * finally the result.
+ * it), always through the `FitJobStore` it is given (services/fit-store.ts
+ * implements it; no job imports a service): it builds the fit's data from
+ * the versions its recipe names (through the `FitDataSource` it is given),
+ * hands data and model to a worker, receives `started`, throttled
+ * `progress` and then one message per region (its diagnostics and plot
+ * data as JSON text) through a MessagePort, and records status, progress
+ * (at most every `progressWriteMs`), time left, each region's rows as they
+ * arrive, and finally the result.
  *
  * Life cycle: queued → running → done | failed | cancelled. A statistical
  * precondition (StatsError, or an intake problem building the data) fails
@@ -32,18 +34,81 @@
  */
 import { availableParallelism } from "node:os";
 import { MessageChannel } from "node:worker_threads";
-import { and, eq, inArray, sql } from "drizzle-orm";
 import type { Piscina } from "piscina";
-import { workerPool } from "./worker-pool";
-import type { Database } from "../../db/client";
-import { fitRegions, fits, type FitStatus } from "../../db/schema";
-import { IntakeError } from "../intake/errors";
+import { type Recipe, specOfRecipe } from "../../contract/recipe";
 import type { FitData } from "../../contract/spec";
-import { secondsLeftOf } from "./time-left";
-import { recordEvent } from "../services/audit";
-import { specOfRecipe } from "../../contract/recipe";
-import { FitDataCache, type FitInputs, inputsOfFit } from "../services/fit-inputs";
+import type { FitStatus } from "../../db/schema";
+import { IntakeError } from "../intake/errors";
+import type { IdMapping } from "../intake/roster";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "./fit-task";
+import { secondsLeftOf } from "./time-left";
+import { workerPool } from "./worker-pool";
+
+/** The data a fit runs on: dataset versions, confirmed id mappings and the session. */
+export interface FitInputs {
+  brainVersionId: string;
+  sheetVersionId: string | null;
+  mappings: readonly IdMapping[];
+  /** The session fitted when the brain table has several; null: the first in natural order. */
+  session: string | null;
+}
+
+/** Builds (and may keep) the fit data of given inputs (services/fit-inputs.ts). */
+export interface FitDataSource {
+  get(inputs: FitInputs): Promise<FitData>;
+  /** The fit data and the session it holds (null: the brain table has none). */
+  built(inputs: FitInputs): Promise<{ data: FitData; session: string | null }>;
+}
+
+/** A queued fit as its job reads it. */
+export interface QueuedFit {
+  recipe: Recipe;
+  inputs: FitInputs;
+}
+
+/** One region's rows as the worker sends them. */
+export interface RegionRowInput {
+  position: number;
+  region: string;
+  participants: string;
+  plot: string | null;
+}
+
+export interface RequeuedFit {
+  id: string;
+  createdAt: Date;
+}
+
+/**
+ * What a fit job records, and where (services/fit-store.ts). Each status
+ * change names the statuses it may move from and answers whether it moved.
+ */
+export interface FitJobStore {
+  /** The fit when it is queued; null when it is gone or already taken. */
+  queuedFit(fitId: string): Promise<QueuedFit | null>;
+  clearRegionRows(fitId: string): Promise<void>;
+  storeRegionRow(fitId: string, row: RegionRowInput): Promise<void>;
+  /** queued → running (its first start time kept). */
+  markRunning(fitId: string, at: Date): Promise<boolean>;
+  writeProgress(fitId: string, fraction: number, secondsLeft: number | null): Promise<void>;
+  /** queued | running → failed; the progress it stopped at, or null when it had finished. */
+  markFailed(
+    fitId: string,
+    code: string,
+    message: string,
+    at: Date,
+  ): Promise<{ progress: number } | null>;
+  /** queued | running → done with its result, in one short transaction, unless `abandoned()`. */
+  markDone(
+    fitId: string,
+    summary: unknown,
+    at: Date,
+    startedAt: Date,
+    abandoned: () => boolean,
+  ): Promise<boolean>;
+  /** Every fit left queued or running → queued, each with its `fit.requeued` audit event. */
+  requeueLeftovers(at: Date): Promise<RequeuedFit[]>;
+}
 
 export interface FitProgress {
   /** 0…1 */
@@ -61,7 +126,8 @@ export interface FitEvent {
 }
 
 export interface FitJobsOptions {
-  db: Database;
+  store: FitJobStore;
+  data: FitDataSource;
   /** Worker threads (default: available parallelism − 1, at least 1). */
   threads?: number;
   clock?: () => Date;
@@ -78,8 +144,6 @@ export interface FitJobsOptions {
 
 export const INTERNAL_FAILURE =
   "The fit stopped because of an internal error on the server. It has been logged.";
-
-const terminal: readonly FitStatus[] = ["done", "failed", "cancelled"];
 
 /** Default pool size for this machine. */
 export function defaultFitThreads(): number {
@@ -102,8 +166,8 @@ interface Running {
 export class FitJobs {
   readonly threads: number;
   /** Built fit data, shared with previews and region detail. */
-  readonly data: FitDataCache;
-  private readonly db: Database;
+  readonly data: FitDataSource;
+  private readonly store: FitJobStore;
   private readonly clock: () => Date;
   private readonly log: (error: unknown, context: string) => void;
   private readonly progressWriteMs: number;
@@ -115,14 +179,14 @@ export class FitJobs {
   private closed = false;
 
   constructor(options: FitJobsOptions) {
-    this.db = options.db;
+    this.store = options.store;
     this.threads = options.threads ?? defaultFitThreads();
     if (!(Number.isInteger(this.threads) && this.threads >= 1))
       throw new Error(`FitJobs: threads must be a positive whole number (got ${this.threads})`);
     this.clock = options.clock ?? (() => new Date());
     this.log = options.log ?? ((error, context) => console.error(`[covarion] ${context}:`, error));
     this.progressWriteMs = options.progressWriteMs ?? 500;
-    this.data = new FitDataCache(this.db);
+    this.data = options.data;
     this.warm = options.warm ?? false;
     if (this.warm) this.getPool();
   }
@@ -195,44 +259,7 @@ export class FitJobs {
    * module comment). Returns their ids, oldest first.
    */
   async recover(): Promise<string[]> {
-    const rows = await this.db.transaction(async (tx) => {
-      const left = await tx
-        .select({
-          id: fits.id,
-          studyId: fits.studyId,
-          status: fits.status,
-          progress: fits.progress,
-          startedAt: fits.startedAt,
-          createdAt: fits.createdAt,
-        })
-        .from(fits)
-        .where(inArray(fits.status, ["queued", "running"]))
-        .for("update");
-      if (left.length === 0) return left;
-      await tx
-        .update(fits)
-        .set({ status: "queued", progress: 0, secondsLeft: null })
-        .where(
-          inArray(
-            fits.id,
-            left.map((f) => f.id),
-          ),
-        );
-      const at = this.clock();
-      for (const fit of left) {
-        await recordEvent(tx, {
-          studyId: fit.studyId,
-          actorId: null,
-          kind: "fit.requeued",
-          targetType: "fit",
-          targetId: fit.id,
-          before: { status: fit.status, progress: fit.progress, startedAt: fit.startedAt },
-          after: { status: "queued", progress: 0 },
-          at,
-        });
-      }
-      return left;
-    });
+    const rows = await this.store.requeueLeftovers(this.clock());
     rows.sort((a, b) => a.createdAt.getTime() - b.createdAt.getTime() || (a.id < b.id ? -1 : 1));
     for (const row of rows) {
       this.enqueue(row.id);
@@ -286,13 +313,13 @@ export class FitJobs {
   private async execute(fitId: string): Promise<void> {
     const run = this.running.get(fitId) as Running;
     try {
-      const [fit] = await this.db.select().from(fits).where(eq(fits.id, fitId));
-      if (!fit || fit.status !== "queued") return;
+      const fit = await this.store.queuedFit(fitId);
+      if (!fit) return;
       let data: FitData;
       let spec: ReturnType<typeof specOfRecipe>;
       try {
         spec = specOfRecipe(fit.recipe);
-        data = await this.data.get(inputsOfFit(fit) as FitInputs);
+        data = await this.data.get(fit.inputs);
       } catch (error) {
         if (error instanceof IntakeError)
           return await this.fail(fitId, error.problems[0]?.code ?? "invalid_data", error.message);
@@ -305,7 +332,7 @@ export class FitJobs {
       }
       if (run.controller.signal.aborted) return;
       // Rows left by an interrupted earlier run of the same fit are replaced.
-      await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
+      await this.store.clearRegionRows(fitId);
       const channel = new MessageChannel();
       channel.port1.on("message", (message: FitTaskMessage) => this.onMessage(fitId, run, message));
       const task: FitTask = { spec, data, port: channel.port2 };
@@ -319,14 +346,14 @@ export class FitJobs {
       } catch (error) {
         channel.port1.close();
         await run.storing.catch(() => {});
-        await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
+        await this.store.clearRegionRows(fitId);
         if (run.controller.signal.aborted) return; // cancelled (already marked) or shutting down (left for recovery)
         this.log(error, `fit ${fitId}`);
         return await this.fail(fitId, "internal_error", INTERNAL_FAILURE);
       }
       channel.port1.close();
       if (!outcome.ok) {
-        await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
+        await this.store.clearRegionRows(fitId);
         return await this.fail(fitId, outcome.code, outcome.message);
       }
       await this.finish(fitId, run, outcome);
@@ -340,7 +367,7 @@ export class FitJobs {
       run.storing = run.storing.then(async () => {
         if (run.controller.signal.aborted) return;
         const { position, region, participants, plot } = message;
-        await this.db.insert(fitRegions).values({ fitId, position, region, participants, plot });
+        await this.store.storeRegionRow(fitId, { position, region, participants, plot });
         // The embedded database answers within microtasks: yield to the event loop so requests are served between regions.
         await new Promise<void>((resolve) => setImmediate(resolve));
       });
@@ -366,12 +393,7 @@ export class FitJobs {
     const nowMs = this.clock().getTime();
     if (message.type === "started") {
       run.startedAt = nowMs;
-      const updated = await this.db
-        .update(fits)
-        .set({ status: "running", startedAt: firstStart(new Date(nowMs)), progress: 0 })
-        .where(and(eq(fits.id, fitId), eq(fits.status, "queued")))
-        .returning({ id: fits.id });
-      if (updated.length > 0)
+      if (await this.store.markRunning(fitId, new Date(nowMs)))
         this.emit({
           type: "status",
           fitId,
@@ -388,31 +410,18 @@ export class FitJobs {
     this.emit({ type: "progress", fitId, status: "running", progress: run.progress, error: null });
     if (nowMs - run.lastWrite >= this.progressWriteMs) {
       run.lastWrite = nowMs;
-      await this.db
-        .update(fits)
-        .set({ progress: fraction, secondsLeft })
-        .where(and(eq(fits.id, fitId), eq(fits.status, "running")));
+      await this.store.writeProgress(fitId, fraction, secondsLeft);
     }
   }
 
   private async fail(fitId: string, code: string, message: string): Promise<void> {
-    const updated = await this.db
-      .update(fits)
-      .set({
-        status: "failed",
-        error: message,
-        errorCode: code,
-        secondsLeft: null,
-        finishedAt: this.clock(),
-      })
-      .where(and(eq(fits.id, fitId), inArray(fits.status, ["queued", "running"])))
-      .returning({ progress: fits.progress });
-    if (updated.length > 0) {
+    const failed = await this.store.markFailed(fitId, code, message, this.clock());
+    if (failed) {
       this.emit({
         type: "status",
         fitId,
         status: "failed",
-        progress: { fraction: updated[0].progress, secondsLeft: null },
+        progress: { fraction: failed.progress, secondsLeft: null },
         error: { code, message },
       });
     }
@@ -431,26 +440,13 @@ export class FitJobs {
     run: Running,
     outcome: Extract<FitTaskOutcome, { ok: true }>,
   ): Promise<void> {
-    const done = await this.db.transaction(async (tx) => {
-      const [row] = await tx
-        .select({ status: fits.status })
-        .from(fits)
-        .where(eq(fits.id, fitId))
-        .for("update");
-      if (!row || terminal.includes(row.status) || run.controller.signal.aborted) return false;
-      await tx
-        .update(fits)
-        .set({
-          status: "done",
-          progress: 1,
-          secondsLeft: 0,
-          result: outcome.summary,
-          finishedAt: this.clock(),
-          startedAt: firstStart(new Date(run.startedAt ?? this.clock().getTime())),
-        })
-        .where(eq(fits.id, fitId));
-      return true;
-    });
+    const done = await this.store.markDone(
+      fitId,
+      outcome.summary,
+      this.clock(),
+      new Date(run.startedAt ?? this.clock().getTime()),
+      () => run.controller.signal.aborted,
+    );
     if (done)
       this.emit({
         type: "status",
@@ -459,11 +455,6 @@ export class FitJobs {
         progress: { fraction: 1, secondsLeft: 0 },
         error: null,
       });
-    else await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
+    else await this.store.clearRegionRows(fitId);
   }
-}
-
-/** A fit's start time is its first: kept when already set (a fit re-queued after a restart), else `now`. */
-function firstStart(now: Date) {
-  return sql`coalesce(${fits.startedAt}, ${now.toISOString()}::timestamptz)`;
 }

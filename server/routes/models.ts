@@ -19,7 +19,7 @@ import { authorize, authorizedStudy } from "../auth/permissions";
 import { signedInUser } from "../auth/session";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import { modelCreateSchema, modelPatchSchema } from "../../contract/model-form";
-import type { FitDataCache } from "../services/fit-inputs";
+import type { FitDataSource } from "../jobs/fit-jobs";
 import { createModel, deleteModel, getModel, listModels, updateModel } from "../services/models";
 import type { RouteDeps } from "./deps";
 import { studyParams } from "./studies";
@@ -34,7 +34,7 @@ const patch = { params: modelParams, query: noQuery, body: modelPatchSchema };
  * `fitData`: the fit jobs' cache of built fit data, so that judging a
  * model against the current data and the fit run next share one build.
  */
-export function modelRoutes(deps: RouteDeps, fitData?: FitDataCache): Router {
+export function modelRoutes(deps: RouteDeps, fitData?: FitDataSource): Router {
   const router = Router();
   router.get(
     "/studies/:studyId/models",

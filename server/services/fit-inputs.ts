@@ -14,16 +14,9 @@ import type { Queryable } from "../../db/client";
 import { datasetVersions, rosterMappings, type DatasetVersion } from "../../db/schema";
 import { type BuiltFitData, type IdMapping, buildFitData } from "../intake";
 import type { Recipe } from "../../contract/recipe";
+import type { FitDataSource, FitInputs } from "../jobs/fit-jobs";
 import type { FitData } from "../../contract/spec";
 import { loadBrainTable, loadParticipantSheet } from "./datasets";
-
-export interface FitInputs {
-  brainVersionId: string;
-  sheetVersionId: string | null;
-  mappings: readonly IdMapping[];
-  /** The session fitted when the brain table has several; null: the first in natural order. */
-  session: string | null;
-}
 
 /** The study's confirmed id mappings, in brain-id order. */
 export async function confirmedMappings(db: Queryable, studyId: string): Promise<IdMapping[]> {
@@ -75,7 +68,7 @@ export interface CachedFitData {
 }
 
 /** A small least-recently-used cache of built fit inputs. */
-export class FitDataCache {
+export class FitDataCache implements FitDataSource {
   private readonly entries = new Map<string, Promise<CachedFitData>>();
 
   constructor(

@@ -16,7 +16,7 @@
  * callers without `fits.participants.read` (Viewers of a restricted study).
  */
 import { createHash } from "node:crypto";
-import { and, desc, eq, getTableColumns, inArray, sql } from "drizzle-orm";
+import { and, desc, eq, getTableColumns, sql } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
 import { perDatabase } from "../../db/prepared";
 import { cachedRead, deepFreeze } from "../../db/read-cache";
@@ -51,6 +51,7 @@ import { attenuateResult, withAttenuation } from "./attenuation";
 import { recordEvent } from "./audit";
 import { currentVersions } from "./datasets";
 import { confirmedMappings, inputsOfFit } from "./fit-inputs";
+import { insertQueuedFit, markFitCancelled } from "./fit-store";
 import {
   type FitLineage,
   type FitSetAsideView,
@@ -654,20 +655,16 @@ export async function createFit(
     softwareVersion,
   });
   const fit = await db.transaction(async (tx) => {
-    const [created] = await tx
-      .insert(fits)
-      .values({
-        studyId: study.id,
-        modelId: model.id,
-        status: "queued",
-        brainVersionId: brain.id,
-        sheetVersionId: participants?.id ?? null,
-        recipe,
-        createdBy: actor.id,
-        createdAt: now,
-        refitOf,
-      })
-      .returning();
+    const created = await insertQueuedFit(tx, {
+      studyId: study.id,
+      modelId: model.id,
+      brainVersionId: brain.id,
+      sheetVersionId: participants?.id ?? null,
+      recipe,
+      createdBy: actor.id,
+      createdAt: now,
+      refitOf,
+    });
     await recordEvent(tx, {
       studyId: study.id,
       actorId: actor.id,
@@ -704,12 +701,7 @@ export async function cancelFit(
 ): Promise<FitView> {
   const cancelled = await jobs.cancel(fit.id, () =>
     db.transaction(async (tx) => {
-      const rows = await tx
-        .update(fits)
-        .set({ status: "cancelled", cancelledBy: actor.id, finishedAt: now, secondsLeft: null })
-        .where(and(eq(fits.id, fit.id), inArray(fits.status, ["queued", "running"])))
-        .returning({ status: fits.status });
-      if (rows.length === 0) return false;
+      if (!(await markFitCancelled(tx, fit.id, actor.id, now))) return false;
       await recordEvent(tx, {
         studyId: fit.studyId,
         actorId: actor.id,

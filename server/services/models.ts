@@ -26,7 +26,8 @@ import { IntakeError } from "../intake/errors";
 import { fitPreconditionProblems } from "../stats/run-fit";
 import { recordEvent } from "./audit";
 import { currentVersions } from "./datasets";
-import { buildFitInputs, confirmedMappings, type FitDataCache } from "./fit-inputs";
+import type { FitDataSource } from "../jobs/fit-jobs";
+import { buildFitInputs, confirmedMappings } from "./fit-inputs";
 import { activeSetAsideList } from "./set-asides";
 
 interface Actor {
@@ -128,7 +129,7 @@ export async function problemsWithData(
   db: Queryable,
   studyId: string,
   spec: ModelSpec,
-  cache?: FitDataCache,
+  cache?: FitDataSource,
 ): Promise<{ field: string; message: string }[]> {
   const { brain, participants } = await currentVersions(db, studyId);
   if (!brain) return [];
@@ -168,7 +169,7 @@ async function checkAgainstData(
   db: Queryable,
   studyId: string,
   spec: ModelSpec,
-  cache?: FitDataCache,
+  cache?: FitDataSource,
 ): Promise<void> {
   const problems = await problemsWithData(db, studyId, spec, cache);
   if (problems.length > 0) {
@@ -207,7 +208,7 @@ export async function createModel(
   studyId: string,
   input: ModelCreate,
   now: Date,
-  cache?: FitDataCache,
+  cache?: FitDataSource,
 ): Promise<ModelView> {
   await checkAgainstData(db, studyId, input.spec, cache);
   const row = await db.transaction(async (tx) => {
@@ -249,7 +250,7 @@ export async function updateModel(
   modelId: string,
   patch: ModelPatch,
   now: Date,
-  cache?: FitDataCache,
+  cache?: FitDataSource,
 ): Promise<ModelView> {
   if (patch.spec) await checkAgainstData(db, studyId, patch.spec, cache);
   const row = await db.transaction(async (tx) => {

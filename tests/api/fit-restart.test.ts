@@ -10,7 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { fitRegions, fits, studies, users } from "../../db/schema";
 import { demoPeople, demoStudy } from "../../db/seed";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
-import { FitJobs } from "../../server/jobs/fit-jobs";
+import { createFitJobs } from "../../server/services/fit-store";
 import { currentVersions } from "../../server/services/datasets";
 import { createTestApp, type TestApp } from "./helpers";
 
@@ -86,7 +86,7 @@ describe("restart", () => {
       .values({ ...copy, status: "queued", createdAt: new Date(Date.now() + 1000) })
       .returning();
 
-    const restarted = new FitJobs({ db: t.db, threads: 1 });
+    const restarted = createFitJobs(t.db, { threads: 1 });
     try {
       expect(await restarted.recover()).toEqual([running.id, queued.id]);
       const [requeued] = await t.db.select().from(fits).where(eq(fits.id, running.id));

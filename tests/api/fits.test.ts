@@ -11,7 +11,8 @@ import { fitRegions, fits, models, studies, users } from "../../db/schema";
 import { demoPeople, demoStudy } from "../../db/seed";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
 import { recipeSchema } from "../../contract/recipe";
-import { FitJobs } from "../../server/jobs/fit-jobs";
+import type { FitJobs } from "../../server/jobs/fit-jobs";
+import { createFitJobs } from "../../server/services/fit-store";
 import { currentVersions } from "../../server/services/datasets";
 import { createRng } from "../../server/stats/rng";
 import { REGION_DETAIL_KEYS, loadFitView } from "../../server/services/fits";
@@ -545,7 +546,7 @@ describe("fits", () => {
         startedAt: new Date(),
       })
       .returning();
-    const restarted = new FitJobs({ db: t.db, threads: 1 });
+    const restarted = createFitJobs(t.db, { threads: 1 });
     try {
       const requeued = await restarted.recover();
       expect(requeued).toEqual([left.id]);
