@@ -65,7 +65,7 @@ export function toErrorResponse(error: unknown): { status: number; body: ErrorBo
     return { status: 400, body: envelope("validation_failed", describeDetails(details), details) };
   }
   if (error instanceof StatsError) {
-    return { status: 422, body: envelope(error.code, error.message) };
+    return { status: 422, body: envelope(error.code, error.message, error.details) };
   }
   if (error instanceof IntakeError) {
     return {

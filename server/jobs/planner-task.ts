@@ -1,14 +1,13 @@
 /**
  * Worker-thread task of the planner: answers one planner question
- * (server/services/planner.ts) off the request thread. Computes only.
+ * (server/stats/planner.ts) off the request thread. Computes only.
  * A refusal (the cost cap, a statistical precondition) comes back as
  * `{ ok: false, status, code, message, details }`, since error classes do
  * not survive the thread boundary; anything else is thrown (the main thread
  * logs it). Runs at the fit threads' lower priority, so requests come first.
  */
-import { HttpError } from "../http/errors";
 import type { PlannerAnswer, PlannerQuestion } from "../../contract/planner";
-import { planStudy } from "../services/planner";
+import { planStudy } from "../stats/planner";
 import { StatsError } from "../stats/errors";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
@@ -22,16 +21,14 @@ export default function runPlannerTask(question: PlannerQuestion): PlannerTaskOu
   try {
     return { ok: true, answer: planStudy(question) };
   } catch (error) {
-    if (error instanceof HttpError)
+    if (error instanceof StatsError)
       return {
         ok: false,
-        status: error.status,
+        status: 422,
         code: error.code,
         message: error.message,
         details: error.details,
       };
-    if (error instanceof StatsError)
-      return { ok: false, status: 422, code: error.code, message: error.message };
     throw error;
   }
 }

@@ -9,11 +9,14 @@
  */
 export class StatsError extends Error {
   readonly code: string;
+  /** What the caller may show beside the message (e.g. a cost and its limit); JSON only. */
+  readonly details: Record<string, unknown> | undefined;
 
-  constructor(message: string, code = "stats_precondition") {
+  constructor(message: string, code = "stats_precondition", details?: Record<string, unknown>) {
     super(message);
     this.name = "StatsError";
     this.code = code;
+    this.details = details;
   }
 }
 

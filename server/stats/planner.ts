@@ -6,18 +6,19 @@
  * Pure computation that can take seconds (the simulation) or tens of
  * milliseconds (the noncentral t search): it runs in the planner's worker
  * thread (server/jobs/planner-jobs.ts), never on the request thread. A
- * simulation whose draws exceed PLANNER_MAX_DRAWS is refused (422
- * `planner_too_costly`) before anything is drawn.
+ * simulation whose draws exceed PLANNER_MAX_DRAWS is refused (StatsError
+ * `planner_too_costly`, 422 with the cost in `details`) before anything is
+ * drawn.
  */
-import { HttpError } from "../http/errors";
 import {
   PLANNER_MAX_DRAWS,
   type PlannerAnswer,
   type PlannerQuestion,
   simulationDraws,
 } from "../../contract/planner";
-import { componentReliability, planSampleSize, simulatePower } from "../stats/power";
-import { createRng } from "../stats/rng";
+import { StatsError } from "./errors";
+import { componentReliability, planSampleSize, simulatePower } from "./power";
+import { createRng } from "./rng";
 
 const methodByDesign = {
   correlation: "Fisher z approximation for a Pearson correlation, two-sided",
@@ -104,10 +105,9 @@ function checkSimulationCost(question: PlannerQuestion, nValues: readonly number
     maxSimulations >= 100
       ? `Ask for at most ${maxSimulations.toLocaleString("en")} simulated studies, or fewer sessions.`
       : "These study sizes are too large to simulate; use the formula answer.";
-  throw new HttpError(
-    422,
-    "planner_too_costly",
+  throw new StatsError(
     `This simulation would take ${millions(draws)} random draws (${question.simulations.toLocaleString("en")} simulated studies × ${participants.toLocaleString("en")} participants over ${nValues.length} study sizes × (${sessions} sessions + 2)); the limit is ${millions(PLANNER_MAX_DRAWS)}. ${remedy}`,
+    "planner_too_costly",
     {
       field: "simulations",
       limit: PLANNER_MAX_DRAWS,
