@@ -1,6 +1,6 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { apiFetch, jsonBody } from "./api";
-import type { DeletedStudy, StudyDetail, StudySummary } from "../server/services/studies";
+import type { DeletedStudy, StudyDetail, StudySummary } from "../contract/views/studies";
 
 export type { DeletedStudy, StudySummary };
 export type Role = StudySummary["role"];

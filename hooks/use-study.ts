@@ -2,7 +2,7 @@ import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/r
 import { apiFetch, jsonBody } from "./api";
 import { studyKeys } from "./use-studies";
 import type { Action } from "../contract/permissions";
-import type { StudyChanges, StudyDetail } from "../server/services/studies";
+import type { StudyChanges, StudyDetail } from "../contract/views/studies";
 
 export type { StudyDetail };
 

@@ -35,36 +35,14 @@ import {
   restoreWindowDays,
   restoreWindowMs,
 } from "../../contract/study-lifecycle";
+import type {
+  DeletedStudy,
+  StudyChanges,
+  StudyCounts,
+  StudyDetail,
+  StudySummary,
+} from "../../contract/views/studies";
 import { recordEvent } from "./audit";
-
-export interface StudyCounts {
-  members: number;
-  participants: number;
-  models: number;
-  fits: number;
-  /** Sealed fits: while there is one, the study can be archived but not deleted. */
-  sealedFits: number;
-}
-
-export interface StudySummary {
-  id: string;
-  name: string;
-  description: string;
-  restricted: boolean;
-  role: Role;
-  counts: StudyCounts;
-  createdAt: string;
-  updatedAt: string;
-  /** When the study was archived (read-only for every role), or null. */
-  archivedAt: string | null;
-}
-
-export interface StudyDetail extends StudySummary {
-  /** Actions the caller's role allows in this study (see server/auth/permissions.ts). */
-  capabilities: string[];
-  /** The setting "A second person signs off" (contract/sign-off.ts): while true, whoever started a fit cannot approve it. */
-  secondPersonSignOff: boolean;
-}
 
 interface Actor {
   id: string;
@@ -225,13 +203,6 @@ export async function createStudy(
   return studyDetail(db, study, "owner");
 }
 
-export interface StudyChanges {
-  name?: string;
-  description?: string;
-  restricted?: boolean;
-  secondPersonSignOff?: boolean;
-}
-
 /**
  * Renames, describes or (un)restricts a study, or turns "A second person
  * signs off" on or off; records only the fields that changed (the setting
@@ -291,16 +262,6 @@ export async function updateStudy(
 }
 
 /** A deleted study its Owner can still restore. */
-export interface DeletedStudy {
-  id: string;
-  name: string;
-  description: string;
-  deletedAt: string;
-  deletedBy: { id: string; name: string | null } | null;
-  /** The last moment it can be restored. */
-  restorableUntil: string;
-}
-
 /**
  * Deleted studies `userId` owns that can still be restored at `now`, most
  * recently deleted first. Studies past the restore window stay stored and
