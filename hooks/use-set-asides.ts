@@ -8,7 +8,7 @@ import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/r
 import { apiFetch, jsonBody } from "./api";
 import { activityKeys } from "./use-activity";
 import { fitKeys } from "./use-fits";
-import type { SetAsideView } from "../server/services/set-asides";
+import type { SetAsideView } from "../contract/views/set-asides";
 
 export type { SetAsideView };
 

@@ -22,23 +22,9 @@ import { and, desc, eq, inArray, isNull } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
 import { datasetRows, setAsides, users, type SetAsideRow } from "../../db/schema";
 import { HttpError, conflict, notFound } from "../http/errors";
+import type { SetAsideView } from "../../contract/views/set-asides";
 import { recordEvent } from "./audit";
 import { currentVersions } from "./datasets";
-
-export interface SetAsideView {
-  id: string;
-  /** null when withheld from the reader (see the module comment). */
-  participant: string | null;
-  /** null = every region */
-  region: string | null;
-  reason: string;
-  active: boolean;
-  createdBy: { id: string; name: string | null };
-  createdAt: string;
-  restoredBy: { id: string; name: string | null } | null;
-  restoredAt: string | null;
-  restoreReason: string | null;
-}
 
 export interface NewSetAside {
   participant: string;

@@ -10,7 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { memberships } from "../../db/schema";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
 import { setAsideEventFacts, setAsideEventSentence } from "../../contract/set-aside-words";
-import type { SetAsideView } from "../../server/services/set-asides";
+import type { SetAsideView } from "../../contract/views/set-asides";
 import { type Agent, type TestApp, createTestApp, signInDemo, userIdOf } from "./helpers";
 
 let t: TestApp;
