@@ -19,7 +19,7 @@ import type {
   RegionReliability,
   TraitReliabilityInput,
   TraitReliabilityView,
-} from "../server/services/reliability";
+} from "../contract/views/reliability";
 
 export type { IccInterval, RegionReliability, TraitReliabilityInput };
 export type BrainReliability = BrainReliabilityView;

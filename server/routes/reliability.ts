@@ -18,8 +18,8 @@ import {
   currentBrainReliability,
   listTraitReliabilities,
   replaceTraitReliabilities,
-  traitReliabilityList,
 } from "../services/reliability";
+import { traitReliabilityList } from "../../contract/views/reliability";
 import type { RouteDeps } from "./deps";
 import { studyParams } from "./studies";
 
