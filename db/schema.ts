@@ -19,6 +19,7 @@ import type {
   IdentifierDecisionRecord,
   StoredColumn,
 } from "../contract/views/datasets";
+import type { FitStatus } from "../contract/views/fits";
 import {
   type AnyPgColumn,
   boolean,
@@ -319,9 +320,6 @@ export type RosterMapping = typeof rosterMappings.$inferSelect;
 
 // ─── Models, fits and set-asides ───
 // (owned by the fits work; see server/services/models.ts, fits.ts, set-asides.ts)
-
-export const fitStatuses = ["queued", "running", "done", "failed", "cancelled"] as const;
-export type FitStatus = (typeof fitStatuses)[number];
 
 /**
  * A saved question of a study. `spec` holds the model fields as

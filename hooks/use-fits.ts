@@ -12,15 +12,14 @@ import { modelKeys } from "./use-models";
 import type {
   FitSummaryView,
   FitView,
+  ParticipantOrder,
   RegionDetail,
   RegionDetailPoint,
-  RegionPreview,
-} from "../server/services/fits";
-import type {
-  ParticipantOrder,
   RegionParticipantsPage,
-} from "../server/services/region-participants";
+  RegionPreview,
+} from "../contract/views/fits";
 
+// The API's own view types, shared with the server (contract/views/fits.ts).
 export type {
   FitSummaryView,
   FitView,

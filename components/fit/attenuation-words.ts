@@ -8,29 +8,12 @@
  * interval that does not hold its value) throws a `ChartInputError` naming
  * the field.
  */
+import type { Attenuation } from "../../contract/views/fits";
 import { ChartInputError, requireFinite } from "../charts/chart-input-error";
 import { formatFixed } from "../charts/number-format";
 
-/** The attenuation object a fit's association region carries (see the fits API). */
-export interface AttenuationInput {
-  reliabilityBrain: number;
-  /** Which brain reliability, e.g. "ICC(3,1)". */
-  reliabilityBrainForm?: string;
-  reliabilityTrait: number;
-  traitSource: string;
-  /** When the trait's reliability was stated (ISO time). */
-  traitStatedAt?: string;
-  /** The trait's column name. */
-  trait?: string;
-  observed: number;
-  observedCiLow: number;
-  observedCiHigh: number;
-  ceiling: number;
-  disattenuated: number;
-  disattenuatedCiLow: number;
-  disattenuatedCiHigh: number;
-  caution: string | null;
-}
+/** The attenuation object a fit's association region carries (contract/views/fits.ts). */
+export type AttenuationInput = Attenuation;
 
 export interface AttenuationWords {
   observed: string;

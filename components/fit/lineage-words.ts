@@ -3,8 +3,7 @@
  * the regions, the stage badge, who set a participant aside and when, and
  * the earlier fit a refit re-runs. Pure (no React), so it is tested apart.
  */
-import type { FitStage } from "../../server/services/fits";
-import type { FitSetAsideView } from "../../server/services/fit-lineage";
+import type { FitSetAsideView, FitStage } from "../../contract/views/fits";
 import { dateTimeWords } from "../../contract/dates";
 
 /** "N = 64", or "N = 58–64" when regions differ; null before the fit is done. */

@@ -16,7 +16,7 @@ import {
   whoMayApprove,
   whoMaySeal,
 } from "../../contract/sign-off";
-import type { Publication } from "../../server/services/sealing";
+import type { Publication } from "../../contract/views/fits";
 
 export interface PublishState {
   stage: "unfinished" | "not-approved" | "approved" | "sealed";

@@ -37,7 +37,7 @@ import { MessageChannel } from "node:worker_threads";
 import type { Piscina } from "piscina";
 import { type Recipe, specOfRecipe } from "../../contract/recipe";
 import type { FitData } from "../../contract/spec";
-import type { FitStatus } from "../../db/schema";
+import type { FitProgress, FitStatus } from "../../contract/views/fits";
 import { IntakeError } from "../intake/errors";
 import type { IdMapping } from "../intake/roster";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "./fit-task";
@@ -108,13 +108,6 @@ export interface FitJobStore {
   ): Promise<boolean>;
   /** Every fit left queued or running → queued, each with its `fit.requeued` audit event. */
   requeueLeftovers(at: Date): Promise<RequeuedFit[]>;
-}
-
-export interface FitProgress {
-  /** 0…1 */
-  fraction: number;
-  /** Estimated seconds left, or null while unknown. */
-  secondsLeft: number | null;
 }
 
 export interface FitEvent {

@@ -21,7 +21,8 @@
 import type { MessagePort } from "node:worker_threads";
 import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
-import { type RegionPlot, regionPlot } from "../stats/region-plot";
+import type { RegionPlot } from "../../contract/views/fits";
+import { regionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
 import { encodeRegionRows } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";

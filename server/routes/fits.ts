@@ -25,7 +25,7 @@
  */
 import { Router } from "express";
 import { z } from "zod";
-import type { FitStatus } from "../../db/schema";
+import { type FitStatus, participantOrders } from "../../contract/views/fits";
 import { authorize, authorizedStudy, roleMay, type StudyOf } from "../auth/permissions";
 import { signedInUser } from "../auth/session";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
@@ -42,11 +42,7 @@ import {
   regionDetail,
   studyOfFit,
 } from "../services/fits";
-import {
-  PARTICIPANT_PAGE_MAX,
-  participantOrders,
-  regionParticipants,
-} from "../services/region-participants";
+import { PARTICIPANT_PAGE_MAX, regionParticipants } from "../services/region-participants";
 import type { RouteDeps } from "./deps";
 import { studyParams } from "./studies";
 

@@ -33,34 +33,9 @@ import { HttpError } from "../http/errors";
 import type { ModelSpec, RegionResult } from "../../contract/spec";
 import { correctForAttenuation } from "../stats/attenuation";
 import { StatsError } from "../stats/errors";
-import {
-  brainReliabilityOfVersion,
-  traitReliabilityMap,
-  type RegionReliability,
-} from "./reliability";
-
-export interface Attenuation {
-  /** ICC(3,1) of the region across the brain table's sessions. */
-  reliabilityBrain: number;
-  reliabilityBrainForm: "ICC(3,1)";
-  /** The trait's stated reliability and its source. */
-  reliabilityTrait: number;
-  traitSource: string;
-  /** When the trait's reliability was stated (it is read when the fit is shown, not stored with the fit). */
-  traitStatedAt: string;
-  trait: string;
-  observed: number;
-  observedCiLow: number;
-  observedCiHigh: number;
-  /** √(rel_brain · rel_trait): the largest correlation the two measures could show. */
-  ceiling: number;
-  /** r / ceiling (not clipped). */
-  disattenuated: number;
-  disattenuatedCiLow: number;
-  disattenuatedCiHigh: number;
-  /** Plain-words caution, or null. */
-  caution: string | null;
-}
+import type { Attenuation } from "../../contract/views/fits";
+import type { RegionReliability } from "../../contract/views/reliability";
+import { brainReliabilityOfVersion, traitReliabilityMap } from "./reliability";
 
 /** The note added to a fit's notes when at least one region carries an attenuation. */
 export const ATTENUATION_NOTE =

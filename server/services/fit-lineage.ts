@@ -36,37 +36,8 @@ import {
   staleReasons,
 } from "./fit-changes";
 import { specOfRecipe } from "../../contract/recipe";
+import type { FitLineage, FitSetAsideView } from "../../contract/views/fits";
 import { confirmedMappings } from "./fit-inputs";
-
-/** A set-aside a fit applied, as its view shows it. */
-export interface FitSetAsideView {
-  /** The participant's id, or null when participant ids are withheld from the caller. */
-  participant: string | null;
-  /** null = every region */
-  region: string | null;
-  scope: "all regions" | "one region";
-  reason: string;
-  /** Who set the participant aside and when (null when no matching record is found). */
-  createdBy: { id: string; name: string | null } | null;
-  createdAt: string | null;
-}
-
-/** What the fits list and the fit view show of a fit's lineage. */
-export interface FitLineage {
-  /** Smallest and largest N over the regions of a done fit; null before. */
-  n: { min: number; max: number } | null;
-  /** How many set-asides the fit applied. */
-  setAsideCount: number;
-  /** The earlier fit of the same model this one re-runs, or null. */
-  refitOf: string | null;
-  /** When that earlier fit was made (for "refit of the fit of 3 Dec"). */
-  refitOfCreatedAt: string | null;
-  /** What changed against the earlier fit, in plain words (empty without one). */
-  changes: string[];
-  /** True when a new fit of the model would run on other data, set-asides or model fields. */
-  stale: boolean;
-  staleReasons: string[];
-}
 
 /** What never changes once the fit exists. */
 interface FitFacts {

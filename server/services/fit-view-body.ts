@@ -25,7 +25,8 @@ import { promisify } from "node:util";
 import { constants, gzip } from "node:zlib";
 import type { Queryable } from "../../db/client";
 import type { FitJobs } from "../jobs/fit-jobs";
-import { type FitView, fitViewParts } from "./fits";
+import type { FitView } from "../../contract/views/fits";
+import { fitViewParts } from "./fits";
 
 const gzipAsync = promisify(gzip);
 

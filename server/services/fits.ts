@@ -29,12 +29,11 @@ import {
   models,
   users,
   type Fit,
-  type FitStatus,
   type Study,
 } from "../../db/schema";
 import { conflict, notFound } from "../http/errors";
 import { idSchema } from "../http/validate";
-import type { FitJobs, FitProgress } from "../jobs/fit-jobs";
+import type { FitJobs } from "../jobs/fit-jobs";
 import { decodeRegionRows } from "../jobs/region-rows";
 import { circularityCaution } from "../../contract/model-form";
 import { type Recipe, buildRecipe, specOfRecipe } from "../../contract/recipe";
@@ -45,56 +44,34 @@ import {
   type RegionResult,
   modelSpecSchema,
 } from "../../contract/spec";
-import type { RegionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
+import type {
+  DatasetRef,
+  FitLineage,
+  FitProgress,
+  FitResultSummary,
+  FitStatus,
+  FitSummaryView,
+  FitView,
+  Publication,
+  RegionDetail,
+  RegionDetailPoint,
+  RegionPlot,
+  RegionPlotPoint,
+  RegionPreview,
+} from "../../contract/views/fits";
 import { attenuateResult, withAttenuation } from "./attenuation";
 import { recordEvent } from "./audit";
 import { currentVersions } from "./datasets";
 import { confirmedMappings, inputsOfFit } from "./fit-inputs";
 import { insertQueuedFit, markFitCancelled } from "./fit-store";
-import {
-  type FitLineage,
-  type FitSetAsideView,
-  fitSetAsides,
-  lineageOf,
-  refitTarget,
-} from "./fit-lineage";
+import { fitSetAsides, lineageOf, refitTarget } from "./fit-lineage";
 import { findModel } from "./models";
 import { activeSetAsideList } from "./set-asides";
-import { type Publication, sealHash } from "./sealing";
+import { sealHash } from "./sealing";
 
 interface Actor {
   id: string;
-}
-
-export interface DatasetRef {
-  id: string;
-  version: number;
-  fileName: string;
-  sha256: string;
-}
-
-/** A fit's status as its badge shows it: a done fit that was approved or sealed says so. */
-export type FitStage = FitStatus | "approved" | "sealed";
-
-/**
- * A fit as the fits list shows it, with its lineage (services/fit-lineage.ts):
- * N (smallest and largest over its regions), how many set-asides it applied,
- * the earlier fit it re-runs and what changed, and whether it is stale.
- */
-export interface FitSummaryView extends FitLineage {
-  id: string;
-  studyId: string;
-  model: { id: string; name: string; deleted: boolean; circular: boolean };
-  status: FitStatus;
-  /** The status, or "approved"/"sealed" for a done fit that has been (services/sealing.ts). */
-  stage: FitStage;
-  progress: FitProgress;
-  createdBy: { id: string; name: string | null };
-  createdAt: string;
-  startedAt: string | null;
-  finishedAt: string | null;
-  error: { code: string; message: string } | null;
 }
 
 /**
@@ -125,33 +102,6 @@ function viewRegion(region: RegionResult): RegionResult {
   for (const [key, value] of Object.entries(region))
     if (!REGION_DETAIL_KEYS.has(key)) out[key] = value;
   return out as RegionResult;
-}
-
-/** A fit's result without its per-participant rows (those are in the region detail). */
-export interface FitResultSummary {
-  regions: RegionResult[];
-  notes: string[];
-  [extra: string]: unknown;
-}
-
-export interface FitView extends FitSummaryView {
-  model: FitSummaryView["model"] & { caution: string | null };
-  datasets: { brain: DatasetRef; participants: DatasetRef | null };
-  /** False when participant-level content is withheld from the caller. */
-  participantsVisible: boolean;
-  /** The full recipe, or null when participant-level content is withheld. */
-  recipe: Record<string, unknown> | null;
-  /**
-   * The result when done, without per-participant rows and with each
-   * region's row without REGION_DETAIL_KEYS (those are in the region
-   * detail); with attenuation where it applies (services/attenuation.ts).
-   */
-  result: FitResultSummary | null;
-  /** Each set-aside the fit applied, with who set it aside and when (participant ids withheld when not visible). */
-  setAsides: FitSetAsideView[];
-  /** Who approved the fit for sealing, and its seal { by, at, sha256, intact, singlePersonSignOff } (services/sealing.ts). */
-  approval: Publication["approval"];
-  seal: Publication["seal"];
 }
 
 /** The study of the fit named by `params.fitId`, for `authorize` (null when there is none). */
@@ -728,64 +678,6 @@ function regionOf(fit: Fit, region: string): RegionResult {
   return found;
 }
 
-/** One participant of a region's fit with every diagnostic (GET …/regions/:region/participants). */
-export interface RegionDetailPoint {
-  participant: string;
-  x: number | null;
-  group: string | null;
-  y: number;
-  fitted: number | null;
-  residual: number | null;
-  leverage: number | null;
-  studentizedResidual: number | null;
-  cooksDistance: number | null;
-  dffits: number | null;
-  mahalanobis: number | null;
-  flags: string[];
-}
-
-/** What the region's plots and its participant card draw of one participant (the rest is in the participants' pages). */
-export type RegionPlotPoint = Pick<
-  RegionDetailPoint,
-  | "participant"
-  | "x"
-  | "group"
-  | "y"
-  | "leverage"
-  | "studentizedResidual"
-  | "cooksDistance"
-  | "flags"
->;
-
-export interface RegionDetail {
-  fitId: string;
-  region: string;
-  kind: string;
-  estimator: string;
-  inference: string;
-  level: number;
-  /** The region's row of the result (estimate, CI, statistic, df, p, adjusted p, extras). */
-  result: RegionResult;
-  n: number;
-  axes: { x: string | null; y: string; group: string | null; levels: string[] | null };
-  flagCounts: { outlier: number; leverage: number; influence: number };
-  participantsVisible: boolean;
-  /**
-   * One per participant in the region's fit, with what the plots draw, or
-   * null when withheld. Every diagnostic of each participant is paged at
-   * GET /api/fits/:fitId/regions/:region/participants.
-   */
-  points: RegionPlotPoint[] | null;
-  /** Participants of the fit's set-aside list that concern this region, or null when withheld. */
-  setAside: { participant: string; scope: "all regions" | "this region"; reason: string }[] | null;
-  band: RegionPlot["band"];
-  groupMeans: RegionPlot["groupMeans"];
-  nullHistogram: unknown;
-  sensitivity: unknown;
-  leaveOneOut: unknown;
-  notes: string[];
-}
-
 /** A finished fit's region: its result row, its participants with every diagnostic (in the fit's order), its plot. Throws 409 (not done), 404 (no such region). */
 export async function regionParticipantRows(
   db: Queryable,
@@ -897,46 +789,6 @@ export async function regionDetail(
     leaveOneOut: shown.leaveOneOut ?? null,
     notes,
   };
-}
-
-export interface RegionPreview {
-  fitId: string;
-  region: string;
-  /** Always "parametric": resampling inference is recomputed by a full refit. */
-  inference: "parametric";
-  /** The fit's numbers for the region (parametric counterparts when the fit resampled), or null when the fit is not done. */
-  fit: {
-    n: number;
-    estimate: number;
-    ciLow: number | null;
-    ciHigh: number | null;
-    p: number;
-    r?: number;
-  } | null;
-  /** The region recomputed with the study's current set-asides. */
-  preview: {
-    n: number;
-    estimate: number;
-    se: number | null;
-    statistic: number | null;
-    df: number | null;
-    p: number;
-    ciLow: number | null;
-    ciHigh: number | null;
-    r?: number;
-    rCiLow?: number;
-    rCiHigh?: number;
-    method: unknown;
-  };
-  /** Set-asides applied in the preview (participant ids withheld when not visible). */
-  setAside: {
-    count: number;
-    participants:
-      | { participant: string; scope: "all regions" | "this region"; reason: string }[]
-      | null;
-  };
-  /** How the preview's set-aside list differs from the fit's for this region. */
-  changes: { added: number; restored: number };
 }
 
 /**

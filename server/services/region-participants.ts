@@ -14,24 +14,12 @@
  */
 import type { Queryable } from "../../db/client";
 import type { Fit } from "../../db/schema";
-import { type RegionDetailPoint, regionParticipantRows } from "./fits";
-
-/** Columns a page can be ordered by ("position" is the fit's participant order). */
-export const participantOrders = [
-  "position",
-  "participant",
-  "flags",
-  "x",
-  "y",
-  "fitted",
-  "residual",
-  "leverage",
-  "studentizedResidual",
-  "cooksDistance",
-  "dffits",
-  "mahalanobis",
-] as const;
-export type ParticipantOrder = (typeof participantOrders)[number];
+import type {
+  ParticipantOrder,
+  RegionDetailPoint,
+  RegionParticipantsPage,
+} from "../../contract/views/fits";
+import { regionParticipantRows } from "./fits";
 
 /** Most rows in one page. */
 export const PARTICIPANT_PAGE_MAX = 1000;
@@ -42,21 +30,6 @@ export interface RegionParticipantsQuery {
   sort: ParticipantOrder;
   direction: "asc" | "desc";
   search?: string;
-}
-
-export interface RegionParticipantsPage {
-  fitId: string;
-  region: string;
-  /** Participants in the region's fit. */
-  n: number;
-  /** Participants matching `search` (all of them without one). */
-  total: number;
-  offset: number;
-  limit: number;
-  sort: ParticipantOrder;
-  direction: "asc" | "desc";
-  search: string | null;
-  rows: RegionDetailPoint[];
 }
 
 type Comparable = string | number | null;

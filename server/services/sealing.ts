@@ -35,40 +35,11 @@ import {
   sealRefusalMessage,
   secondPersonRequiredCode,
 } from "../../contract/sign-off";
+import type { Publication, SealedModel } from "../../contract/views/fits";
 import { recordEvent } from "./audit";
 
 interface Actor {
   id: string;
-}
-
-export interface ApprovalView {
-  by: { id: string; name: string | null };
-  at: string;
-}
-
-export interface SealView {
-  by: { id: string; name: string | null };
-  at: string;
-  /** SHA-256 of the canonical recipe+result JSON at sealing. */
-  sha256: string;
-  /** True when the stored recipe and result still hash to `sha256`. */
-  intact: boolean;
-  /** True when one person started, approved and sealed the fit (the study's "A second person signs off" was off). */
-  singlePersonSignOff: boolean;
-}
-
-/** The model of a sealed fit as it was at sealing (`fit_seals.model`). */
-export interface SealedModel {
-  name: string;
-  regionSelection: string;
-  circular: boolean;
-  /** Whether the model had already been deleted when the fit was sealed. */
-  deleted: boolean;
-}
-
-export interface Publication {
-  approval: ApprovalView | null;
-  seal: SealView | null;
 }
 
 /**

@@ -14,18 +14,10 @@
  * (n > p), rows of p finite numbers, 0 < level < 1. Throws StatsError
  * otherwise.
  */
+import type { MeanResponse } from "../../contract/views/fits";
 import { studentTQuantile } from "./distributions";
 import { StatsError, require } from "./errors";
 import type { LinearModelFit, QrDecomposition } from "./linear-model";
-
-export interface MeanResponse {
-  /** ŷ₀ = x₀ᵀb */
-  fit: number;
-  /** s·√(x₀ᵀ(XᵀX)⁻¹x₀) */
-  se: number;
-  low: number;
-  high: number;
-}
 
 export function meanResponseBand(
   model: Pick<LinearModelFit, "coefficients" | "sigma" | "df"> & {

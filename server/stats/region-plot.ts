@@ -20,39 +20,9 @@ import type { FitData, ModelSpec } from "../../contract/spec";
 import { type DesignTerm, buildDesign, compareCodePoints } from "./design-matrix";
 import { StatsError } from "./errors";
 import { fitLinearModel } from "./linear-model";
-import { type MeanResponse, meanResponseBand } from "./mean-response-band";
+import type { BandLine, GroupMean, PlotPoint, RegionPlot } from "../../contract/views/fits";
+import { meanResponseBand } from "./mean-response-band";
 import { oneSampleTTest } from "./one-sample-t";
-
-export interface PlotPoint {
-  participant: string;
-  /** association: the trait value */
-  x: number | null;
-  /** two-group, or association with a group: the participant's group label */
-  group: string | null;
-  y: number;
-}
-
-export interface BandLine {
-  /** "all participants" or the group level the line is drawn for */
-  label: string;
-  points: ({ x: number } & MeanResponse)[];
-}
-
-export interface GroupMean {
-  label: string;
-  n: number;
-  mean: number;
-  ciLow: number | null;
-  ciHigh: number | null;
-}
-
-export interface RegionPlot {
-  points: PlotPoint[];
-  band: { method: string; level: number; lines: BandLine[] } | null;
-  groupMeans: GroupMean[] | null;
-  /** Why the band or a group mean could not be computed, in plain words. */
-  notes: string[];
-}
 
 export const BAND_GRID_POINTS = 50;
 

@@ -5,7 +5,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { ChartInputError } from "../../../components/charts/chart-input-error";
-import { attenuationWords } from "../../../components/fit/attenuation-words";
+import { type AttenuationInput, attenuationWords } from "../../../components/fit/attenuation-words";
 import {
   type VarianceShareInput,
   tau2MethodName,
@@ -75,11 +75,12 @@ describe("variance shares", () => {
 
 describe("attenuation note", () => {
   // Reliabilities .64 and .81: ceiling √(.64 × .81) = .8 × .9 = .72 (exact algebra).
-  const a = {
+  const a: AttenuationInput = {
     reliabilityBrain: 0.64,
     reliabilityBrainForm: "ICC(3,1)",
     reliabilityTrait: 0.81,
     traitSource: "test–retest r = .81, task manual",
+    traitStatedAt: "2026-11-20T09:00:00.000Z",
     trait: "accuracy",
     observed: 0.36,
     observedCiLow: 0.12,
