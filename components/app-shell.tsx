@@ -16,7 +16,7 @@ import type { Me } from "../hooks/use-me";
 import { researchUseCaution } from "../contract/cautions";
 
 interface NavItem {
-  href: string;
+  href: "/studies" | "/planner" | "/mailbox";
   label: string;
   icon: NavIconName;
 }
@@ -36,7 +36,7 @@ export function AppShell(props: { me: Me; children: ReactNode }) {
 
   const router = useRouter();
   const isActive = (href: string) => pathname === href || pathname.startsWith(`${href}/`);
-  const go = (href: string) => () => router.push(href as never);
+  const go = (href: NavItem["href"]) => () => router.push(href);
 
   if (wide) {
     return (

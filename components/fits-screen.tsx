@@ -50,7 +50,7 @@ function FitRow({ studyId, fit }: { studyId: string; fit: FitSummaryView }) {
     <Pressable
       accessibilityRole="link"
       accessibilityLabel={`Fit of ${fit.model.name}, ${fit.stage}, run ${whenWords(fit.createdAt)}`}
-      onPress={() => router.push(`/studies/${studyId}/fits/${fit.id}` as never)}
+      onPress={() => router.push(`/studies/${studyId}/fits/${fit.id}`)}
       style={({ pressed }) => [styles.row, pressed && styles.pressed]}
     >
       <Card testID="fit-row">

@@ -72,7 +72,7 @@ export function InvitationScreen(props: { token: string }) {
                   busy={accept.isPending}
                   onPress={() =>
                     accept.mutate(undefined, {
-                      onSuccess: (result) => router.replace(`/studies/${result.studyId}` as never),
+                      onSuccess: (result) => router.replace(`/studies/${result.studyId}`),
                     })
                   }
                 />

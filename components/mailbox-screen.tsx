@@ -41,7 +41,7 @@ export function MailboxScreen() {
                     <Link
                       // biome-ignore lint/suspicious/noArrayIndexKey: segments of one fixed message never reorder
                       key={i}
-                      href={segment.href as never}
+                      href={segment.href}
                       style={styles.link}
                       testID="mail-link"
                     >

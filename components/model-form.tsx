@@ -144,11 +144,11 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
     create.mutate(checked.data as ModelCreateInput, {
       onSuccess: (model) => {
         if (!thenRun) {
-          router.replace(`/studies/${studyId}/models` as never);
+          router.replace(`/studies/${studyId}/models`);
           return;
         }
         runFit.mutate(model.id, {
-          onSuccess: (fit) => router.replace(`/studies/${studyId}/fits/${fit.id}` as never),
+          onSuccess: (fit) => router.replace(`/studies/${studyId}/fits/${fit.id}`),
         });
       },
     });

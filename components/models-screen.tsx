@@ -18,7 +18,7 @@ export function ModelsScreen(props: { studyId: string }) {
       {writable ? (
         <Button
           label="New model"
-          onPress={() => router.push(`/studies/${props.studyId}/models/new` as never)}
+          onPress={() => router.push(`/studies/${props.studyId}/models/new`)}
           testID="new-model"
           style={styles.newButton}
         />
@@ -83,7 +83,7 @@ function ModelCard({
             label="Run fit"
             onPress={() =>
               run.mutate(model.id, {
-                onSuccess: (fit) => router.push(`/studies/${studyId}/fits/${fit.id}` as never),
+                onSuccess: (fit) => router.push(`/studies/${studyId}/fits/${fit.id}`),
               })
             }
             busy={run.isPending}
@@ -93,7 +93,7 @@ function ModelCard({
         <Button
           label="See fits"
           variant="secondary"
-          onPress={() => router.push(`/studies/${studyId}/fits` as never)}
+          onPress={() => router.push(`/studies/${studyId}/fits`)}
         />
       </View>
     </Card>

@@ -49,7 +49,7 @@ export function NewStudyScreen() {
           onPress={() =>
             create.mutate(
               { name: name.trim(), description: description.trim() || undefined, restricted },
-              { onSuccess: (study) => router.replace(`/studies/${study.id}/data` as never) },
+              { onSuccess: (study) => router.replace(`/studies/${study.id}/data`) },
             )
           }
         />

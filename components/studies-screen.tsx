@@ -21,7 +21,7 @@ export function StudiesScreen() {
         <Button
           label="New study"
           variant="secondary"
-          onPress={() => router.push("/studies/new" as never)}
+          onPress={() => router.push("/studies/new")}
           testID="new-study"
         />
       </View>
@@ -90,7 +90,7 @@ function DeletedCard({ study }: { study: DeletedStudy }) {
         busy={restore.isPending}
         onPress={() =>
           restore.mutate(study.id, {
-            onSuccess: () => router.push(`/studies/${study.id}` as never),
+            onSuccess: () => router.push(`/studies/${study.id}`),
           })
         }
         style={{ alignSelf: "flex-start" }}
@@ -106,7 +106,7 @@ function StudyCard({ study }: { study: StudySummary }) {
     <Pressable
       accessibilityRole="link"
       accessibilityLabel={`${study.name}, your role: ${study.role}${study.archivedAt ? ", archived" : ""}`}
-      onPress={() => router.push(`/studies/${study.id}` as never)}
+      onPress={() => router.push(`/studies/${study.id}`)}
     >
       <Card testID="study-card">
         <View style={styles.cardHead}>

@@ -79,7 +79,12 @@ export function StudyFrame(props: { studyId: string; children: ReactNode }) {
               key={section.path}
               accessibilityRole="tab"
               accessibilityState={{ selected: active }}
-              onPress={() => router.push(href as never)}
+              onPress={() =>
+                router.push({
+                  pathname: `/studies/[studyId]/${section.path}`,
+                  params: { studyId: props.studyId },
+                })
+              }
               style={[styles.tab, active && styles.tabActive]}
             >
               <Text style={[styles.tabText, active && styles.tabTextActive]}>{section.label}</Text>

@@ -28,7 +28,10 @@ export function useMail() {
 /** An http(s) address; a full stop or comma right after it ends the sentence, not the address. */
 const linkPattern = /https?:\/\/[^\s<>"')]*[^\s<>"').,;:!?]/g;
 
-export type MailSegment = { kind: "text"; text: string } | { kind: "link"; href: string };
+/** A link's address: always absolute (http or https), so it is an external address to the router. */
+export type MailSegment =
+  | { kind: "text"; text: string }
+  | { kind: "link"; href: `http${string}:${string}` };
 
 /** A plain-text message cut into its text and its links, in order, so each link can be shown where it stands. */
 export function mailSegments(text: string): MailSegment[] {
@@ -37,7 +40,7 @@ export function mailSegments(text: string): MailSegment[] {
   for (const match of text.matchAll(linkPattern)) {
     const start = match.index ?? 0;
     if (start > at) segments.push({ kind: "text", text: text.slice(at, start) });
-    segments.push({ kind: "link", href: match[0] });
+    segments.push({ kind: "link", href: match[0] as `http${string}:${string}` });
     at = start + match[0].length;
   }
   if (at < text.length) segments.push({ kind: "text", text: text.slice(at) });

@@ -3,7 +3,7 @@
 set -euo pipefail
 cd "$(dirname "$0")/.."
 echo "== typecheck =="
-npx tsc --noEmit
+npm run --silent typecheck
 echo "== lint =="
 npx biome check .
 echo "== tests (unit, api, e2e) =="

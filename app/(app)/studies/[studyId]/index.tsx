@@ -2,5 +2,5 @@ import { Redirect, useLocalSearchParams } from "expo-router";
 
 export default function StudyIndexRoute() {
   const { studyId } = useLocalSearchParams<{ studyId: string }>();
-  return <Redirect href={`/studies/${String(studyId)}/data` as never} />;
+  return <Redirect href={`/studies/${String(studyId)}/data`} />;
 }
