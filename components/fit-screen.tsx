@@ -80,6 +80,7 @@ function FitBody({
   const [selected, setSelected] = useState<string | null>(initialRegion);
   const [shownRegions, setShownRegions] = useState<readonly string[]>([]);
   const detailRef = useRef<View>(null);
+  const regionsRef = useRef<View>(null);
   const cancel = useCancelFit(fit.id);
   const known = selected !== null && regions.some((r) => r.region === selected);
   const active = known ? selected : wide ? (regions[0]?.region ?? null) : null;
@@ -132,7 +133,11 @@ function FitBody({
 
       {fit.status === "done" && regions.length > 0 ? (
         <>
-          <View style={wide ? styles.regionsWide : styles.regionsPhone} testID="fit-regions">
+          <View
+            ref={regionsRef}
+            style={wide ? styles.regionsWide : styles.regionsPhone}
+            testID="fit-regions"
+          >
             <View style={wide ? null : styles.inset}>
               <Heading level={3}>Regions</Heading>
               {!wide ? (
@@ -160,6 +165,15 @@ function FitBody({
                 canRun={canRun}
                 canSetAside={canSetAside && fit.participantsVisible}
                 columns
+                heading={
+                  <Button
+                    label="↑ Regions"
+                    variant="quiet"
+                    accessibilityLabel="Back up to the region table"
+                    onPress={() => scrollIntoView(regionsRef.current)}
+                    testID="region-up"
+                  />
+                }
               />
             </View>
           ) : null}

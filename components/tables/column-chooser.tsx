@@ -1,5 +1,5 @@
 /**
- * A table's column chooser: a "Columns" button that opens a row of
+ * A table's column chooser: a "Choose columns" button that opens a row of
  * check-chips, one per optional column, and reports the chosen ids in the
  * order the columns are offered. Every chip is a tap target of 44 px.
  */
@@ -40,7 +40,7 @@ export function ColumnChooser(props: {
         testID={props.testID ? `${props.testID}-toggle` : undefined}
       >
         <Text style={styles.toggleText}>
-          Columns ({shown} of {props.columns.length} more) {open ? "▴" : "▾"}
+          Choose columns ({shown} of {props.columns.length} extra shown) {open ? "▴" : "▾"}
         </Text>
       </Pressable>
       {open ? (

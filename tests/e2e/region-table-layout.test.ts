@@ -299,6 +299,8 @@ for (const [size, viewport] of [
           await detail.waitFor();
           const detailBox = await boxOf(detail);
           expect(detailBox.y).toBeGreaterThan(table.y + table.height - 1);
+          await detail.evaluate((el) => el.scrollIntoView({ block: "start" }));
+          await screenshot(page, `region-layout-${fit.label}-detail-wide`);
         }
       }
       expect(errors).toEqual([]);
@@ -409,6 +411,49 @@ it("more columns come through the chooser, remembered for the person; a table wi
     expect(errors).toEqual([]);
   } finally {
     await owner("/api/me/preferences/region-table.columns", { method: "PUT", body: { value: [] } });
+    await context.close();
+  }
+});
+
+it("on a phone the reliability table shows the ICC values and their intervals, and tables wider than the screen say so", async () => {
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  try {
+    await signIn(page);
+    await page.goto(`${e2e.server.url}/studies/${fits[0].studyId}/data`);
+    const reliability = page.getByTestId("brain-reliability-table");
+    await reliability.waitFor({ timeout: 60_000 });
+    await reliability
+      .locator('[role="row"]')
+      .first()
+      .evaluate((row) => row.scrollIntoView());
+    const headers = reliability.locator('[role="columnheader"]');
+    const words = (await headers.allTextContents()).map((w) => w.replace(/[▲▼]/g, "").trim());
+    expect(words.slice(0, 5)).toEqual(["Region", "ICC(3,1)", "95% CI", "ICC(2,1)", "95% CI"]);
+    for (let i = 0; i < 5; i++)
+      expect(inside(await boxOf(headers.nth(i)), phone), `${words[i]} in view`).toBe(true);
+    const firstRow = reliability.locator('[role="row"]').nth(1);
+    const cells = firstRow.locator('[role="rowheader"], [role="cell"]');
+    for (let c = 0; c < 5; c++) {
+      const box = await boxOf(cells.nth(c));
+      expect(box.x >= 0 && box.x + box.width <= phone.width + 0.5, `cell ${words[c]}`).toBe(true);
+    }
+    expect(await cells.nth(2).textContent()).toMatch(/^-?\d\.\d\d to -?\d\.\d\d$|unbounded/);
+    expect(await cutHeaders(reliability)).toEqual([]);
+    await screenshot(page, "region-layout-reliability-phone");
+    // Every table wider than its box signals it; none that fits does.
+    for (const id of ["brain-reliability-table", "roster-table"]) {
+      const scroller = page.getByTestId(`${id}-scroller`);
+      if ((await scroller.count()) === 0) continue;
+      await scroller.scrollIntoViewIfNeeded();
+      const wider = await scroller.evaluate((el) => el.scrollWidth > el.clientWidth + 1);
+      await expect
+        .poll(() => page.getByTestId(`${id}-more-columns`).count(), { message: id })
+        .toBe(wider ? 1 : 0);
+    }
+    await page.getByTestId("roster-table").scrollIntoViewIfNeeded();
+    await screenshot(page, "region-layout-roster-phone");
+    expect(errors).toEqual([]);
+  } finally {
     await context.close();
   }
 });

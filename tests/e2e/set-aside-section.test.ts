@@ -64,6 +64,13 @@ for (const [label, viewport, participant] of [
       await page.waitForURL(/\/studies$/);
       const { studyId, fitId } = await demoFit(page, label);
       await page.goto(`${e2e.server.url}/studies/${studyId}/fits/${fitId}`);
+      // A phone opens a region as its own view: tap the first region.
+      if (label === "phone")
+        await page
+          .getByTestId("region-table")
+          .locator('[role="row"][aria-selected]')
+          .first()
+          .click({ timeout: 60_000 });
       const detail = page.getByTestId("region-detail");
       await detail.waitFor({ timeout: 60_000 });
       const region = ((await detail.getByRole("heading").first().textContent()) ?? "").trim();
