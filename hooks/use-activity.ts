@@ -1,17 +1,8 @@
 import { queryOptions, useQuery } from "@tanstack/react-query";
+import type { ActivityEvent } from "../contract/views/activity";
 import { apiFetch } from "./api";
 
-export interface ActivityEvent {
-  id: string;
-  seq: number;
-  kind: string;
-  at: string;
-  actor: { id: string; name: string | null; email: string | null } | null;
-  targetType: string | null;
-  targetId: string | null;
-  before: unknown;
-  after: unknown;
-}
+export type { ActivityEvent };
 
 export interface ActivityFilter {
   person?: string;

@@ -18,6 +18,7 @@
  * participant.set_aside, fit.run, fit.sealed, …).
  */
 import { and, desc, eq, like, lt, or, type SQL } from "drizzle-orm";
+import type { ActivityEvent } from "../../contract/views/activity";
 import type { Queryable } from "../../db/client";
 import { auditEvents, users } from "../../db/schema";
 
@@ -56,18 +57,6 @@ function toJson(value: unknown): unknown {
   return JSON.parse(JSON.stringify(value));
 }
 
-export interface EventView {
-  id: string;
-  seq: number;
-  kind: string;
-  at: string;
-  actor: { id: string; name: string | null; email: string | null } | null;
-  targetType: string | null;
-  targetId: string | null;
-  before: unknown;
-  after: unknown;
-}
-
 export interface EventFilter {
   /** Only events by this person (user id). */
   person?: string;
@@ -83,7 +72,7 @@ export async function listEvents(
   db: Queryable,
   studyId: string,
   filter: EventFilter,
-): Promise<EventView[]> {
+): Promise<ActivityEvent[]> {
   const conditions: SQL[] = [eq(auditEvents.studyId, studyId)];
   if (filter.person) conditions.push(eq(auditEvents.actorId, filter.person));
   if (filter.kind) {
