@@ -48,7 +48,7 @@ function BrainReliabilityCard(props: { studyId: string }) {
       {
         accessorKey: "icc31",
         header: "ICC(3,1)",
-        meta: { numeric: true, decimals: 2, width: 88, narrowWidth: 52 },
+        meta: { numeric: true, decimals: 2, width: 88, narrowWidth: 60 },
       },
       {
         accessorKey: "icc31Interval",
@@ -56,7 +56,7 @@ function BrainReliabilityCard(props: { studyId: string }) {
         meta: {
           numeric: true,
           width: 150,
-          narrowWidth: 64,
+          narrowWidth: 62,
           wrap: true,
           label: "ICC(3,1) 95% confidence interval",
         },
@@ -65,7 +65,7 @@ function BrainReliabilityCard(props: { studyId: string }) {
       {
         accessorKey: "icc21",
         header: "ICC(2,1)",
-        meta: { numeric: true, decimals: 2, width: 88, narrowWidth: 52 },
+        meta: { numeric: true, decimals: 2, width: 88, narrowWidth: 60 },
       },
       {
         accessorKey: "icc21Interval",
@@ -73,7 +73,7 @@ function BrainReliabilityCard(props: { studyId: string }) {
         meta: {
           numeric: true,
           width: 150,
-          narrowWidth: 64,
+          narrowWidth: 62,
           wrap: true,
           label: "ICC(2,1) 95% confidence interval",
         },

@@ -59,7 +59,13 @@ import { formatCell } from "./cell-values";
 import { parseNumericFilter } from "./column-filter";
 import { pageSizeOptions, pageWindow } from "./paging";
 import { type AnyColumn, globalMatch, prepareColumns } from "./table-columns";
-import { breakAnywhere, edgeFadeStyle, pinnedCellStyle, sortAttributes } from "./table-platform";
+import {
+  breakAnywhere,
+  edgeFadeStyle,
+  pinnedCellStyle,
+  sortAttributes,
+  wrapText,
+} from "./table-platform";
 import { cellPadding, columnWidth, isNarrowBox, nextScrollX, overflowState } from "./table-fit";
 
 export interface DataTableProps<T extends RowData> {
@@ -142,6 +148,7 @@ function asNode(
           numeric ? styles.numberText : null,
           numeric && narrow ? styles.numberNarrow : null,
           emphasis ? styles.emphasis : null,
+          wrap ? wrapText : null,
           wrap && !numeric ? breakAnywhere : null,
         ]}
       >
@@ -477,6 +484,7 @@ function HeaderCell<T>(props: {
           styles.cellText,
           styles.emphasis,
           styles.headerText,
+          props.narrow ? styles.headerTextNarrow : null,
           numeric ? styles.headerTextNumeric : null,
         ]}
       >
@@ -628,6 +636,7 @@ const styles = StyleSheet.create({
   },
   headerCell: { minHeight: table.headerHeight, paddingHorizontal: 0, paddingVertical: 0 },
   headerText: { flexShrink: 1 },
+  headerTextNarrow: { fontSize: type.caption },
   headerTextNumeric: { textAlign: "right" },
   pinnedHeader: {
     backgroundColor: table.header,

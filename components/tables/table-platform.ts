@@ -8,6 +8,9 @@ import { palette } from "../theme";
 /** Style that keeps the first (id) cell of each row in place while the rest scrolls sideways. */
 export const pinnedCellStyle: ViewStyle = {};
 
+/** Text that may take several lines (the web build collapses its spaces). */
+export const wrapText: TextStyle = {};
+
 /** Lets a long name without spaces break anywhere instead of running out of its cell. */
 export const breakAnywhere: TextStyle = {};
 

@@ -187,15 +187,24 @@ async function sidewaysOverflow(table: Locator): Promise<{ what: string; by: num
   });
 }
 
-/** Header cells whose own box or text box is narrower than their content (cut or hidden). */
+/**
+ * Header cells whose words are cut or hidden: an element narrower than its
+ * content, or text drawn beyond the cell's box on either side (right-aligned
+ * text runs out to the left, which no scroll width shows).
+ */
 async function cutHeaders(table: Locator): Promise<string[]> {
   return table.locator('[role="columnheader"]').evaluateAll((headers) =>
     headers.flatMap((header) => {
       const parts = [header as HTMLElement, ...header.querySelectorAll<HTMLElement>("*")];
-      const cut = parts.some(
+      const overflowing = parts.some(
         (el) => el.scrollWidth > el.clientWidth + 1 || el.scrollHeight > el.clientHeight + 1,
       );
-      return cut ? [header.textContent ?? ""] : [];
+      const range = document.createRange();
+      range.selectNodeContents(header);
+      const text = range.getBoundingClientRect();
+      const box = header.getBoundingClientRect();
+      const outside = text.left < box.left - 1 || text.right > box.right + 1;
+      return overflowing || outside ? [header.textContent ?? ""] : [];
     }),
   );
 }
@@ -250,11 +259,19 @@ async function checkKeyColumns(
     all.flatMap((row) =>
       [...row.querySelectorAll<HTMLElement>('[role="rowheader"], [role="cell"]')]
         .slice(0, 6)
-        .filter((cell) =>
-          [cell, ...cell.querySelectorAll<HTMLElement>("*")].some(
-            (el) => el.scrollWidth > el.clientWidth + 1,
-          ),
-        )
+        .filter((cell) => {
+          const range = document.createRange();
+          range.selectNodeContents(cell);
+          const text = range.getBoundingClientRect();
+          const box = cell.getBoundingClientRect();
+          return (
+            text.left < box.left - 1 ||
+            text.right > box.right + 1 ||
+            [cell, ...cell.querySelectorAll<HTMLElement>("*")].some(
+              (el) => el.scrollWidth > el.clientWidth + 1,
+            )
+          );
+        })
         .map((cell) => cell.textContent ?? ""),
     ),
   );
