@@ -1,0 +1,68 @@
+/**
+ * What every stage of a fit shares: the options a caller passes (progress,
+ * cancelling), the confidence level, the failure helpers (a StatsError, the
+ * "cancelled" error, a region's name put in front of its errors) and the
+ * last check on a finished result (no NaN or ±Infinity leaves the engine).
+ */
+import { StatsError } from "../errors";
+
+export interface RunFitOptions {
+  onProgress?: (fraction: number) => void;
+  shouldCancel?: () => boolean;
+}
+
+/** Confidence level of every interval in a fit. */
+export const FIT_LEVEL = 0.95;
+
+/** Throws a StatsError with the message (a precondition the fit does not meet). */
+export function fail(message: string): never {
+  throw new StatsError(message);
+}
+
+/** Throws the StatsError of a fit its caller cancelled (code "cancelled"). */
+export function cancelled(): never {
+  throw new StatsError("the fit was cancelled", "cancelled");
+}
+
+/** Runs f, putting "region '<name>': " in front of the message of any StatsError it throws (once). */
+export function inRegion<T>(region: string, f: () => T): T {
+  try {
+    return f();
+  } catch (e) {
+    if (e instanceof StatsError && e.code !== "cancelled" && !e.message.startsWith("region '")) {
+      throw new StatsError(`region '${region}': ${e.message}`, e.code);
+    }
+    throw e;
+  }
+}
+
+/** Throws if any number in the result is NaN or ±Infinity: no such value may leave the engine. */
+export function assertFinite(value: unknown, path: string): void {
+  const bad = findNonFinite(value);
+  if (bad !== null)
+    throw new StatsError(`internal: the fit produced a non-finite number at ${path}${bad}`);
+}
+
+function findNonFinite(value: unknown): string | null {
+  if (typeof value === "number") return Number.isFinite(value) ? null : "";
+  if (value === null || typeof value !== "object") return null;
+  if (Array.isArray(value)) {
+    for (let i = 0; i < value.length; i++) {
+      const v = value[i];
+      if (typeof v === "number" ? !Number.isFinite(v) : v !== null && typeof v === "object") {
+        const inner = findNonFinite(v);
+        if (inner !== null) return `[${i}]${inner}`;
+      }
+    }
+    return null;
+  }
+  const record = value as Record<string, unknown>;
+  for (const key in record) {
+    const v = record[key];
+    if (typeof v === "number" ? !Number.isFinite(v) : v !== null && typeof v === "object") {
+      const inner = findNonFinite(v);
+      if (inner !== null) return `.${key}${inner}`;
+    }
+  }
+  return null;
+}

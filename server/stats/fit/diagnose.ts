@@ -1,0 +1,178 @@
+/**
+ * Stage 4 of a fit, diagnose (every kind but reliability): for each
+ * participant of a region, the least-squares diagnostics of the region's
+ * design (diagnostics.ts) with their flags; on the region's result the
+ * variance inflation factors, the flags' cut-offs and counts, the
+ * leave-one-out range of the estimate (least squares, exact deletion
+ * formula) and a sensitivity refit without the participants flagged
+ * `outlier` or `influence`. Hands the participants' rows to the result, and
+ * the region's result, so completed, on to the infer stage.
+ */
+import type { ParticipantDiagnostics, RegionResult } from "../../../contract/spec";
+import { leaveOneOutCorrelations } from "../compare-correlations";
+import { type DiagnosticsResult, regressionDiagnostics } from "../diagnostics";
+import { StatsError } from "../errors";
+import { type RegionData, estimateRegion, olsFit } from "../fit-methods";
+import { type LinearModelFit, type QrDecomposition, unscaledCovariance } from "../linear-model";
+import { type RegionWork, designFor } from "./estimate";
+import type { Prepared } from "./prepare";
+
+/**
+ * The diagnostics of one region, from the least-squares fit of its design
+ * whatever the estimator: a row per participant with its flags, and on the
+ * region's result the variance inflation factors, the flags' cut-offs and
+ * counts, then the leave-one-out range and the sensitivity refit (below).
+ * Needs the region's decomposition (`work.qr`, present when n > p).
+ */
+export function diagnoseRegion(prep: Prepared, work: RegionWork): ParticipantDiagnostics[] {
+  const { name: region, rows, data: d, result } = work;
+  const qr = work.qr as QrDecomposition;
+  const fit = olsFit(d, qr);
+  const diag = regressionDiagnostics(qr, fit, { interceptColumn: 0 });
+  const names = d.design.columnNames;
+  const ids = prep.data.participants;
+  const out: ParticipantDiagnostics[] = diag.rows.map((row, k) => {
+    const dfbetas: Record<string, number | null> | null = row.dfbetas ? {} : null;
+    if (row.dfbetas && dfbetas) {
+      for (let j = 0; j < names.length; j++) dfbetas[names[j]] = row.dfbetas[j];
+    }
+    return {
+      participant: ids[rows[k]],
+      region,
+      leverage: row.leverage,
+      studentizedResidual: row.externalStudentized,
+      cooksDistance: row.cooksDistance,
+      flags: row.flags,
+      internalStudentizedResidual: row.internalStudentized,
+      dffits: row.dffits,
+      dfbetas,
+      mahalanobis: row.mahalanobis,
+      value: d.y[k],
+      fitted: fit.fitted[k],
+      residual: fit.residuals[k],
+    };
+  });
+  result.vif = diag.vif;
+  // the flags' cut-offs, so the influence view draws the very values the flags used
+  result.flagThresholds = diag.thresholds;
+  result.flagged = {
+    outlier: diag.rows.filter((r) => r.flags.includes("outlier")).length,
+    leverage: diag.rows.filter((r) => r.flags.includes("leverage")).length,
+    influence: diag.rows.filter((r) => r.flags.includes("influence")).length,
+  };
+  if ((d.estimator === "ols" || d.estimator === "welch") && prep.spec.weights === "none")
+    leaveOneOutRange(prep, rows, d, qr, fit, result);
+  sensitivityRefit(prep, region, rows, d, diag, result);
+  return out;
+}
+
+/**
+ * Leave-one-out range of the least-squares coefficient, exact: b − b(i) =
+ * (XᵀX)⁻¹x_i e_i/(1 − h_i), participants at leverage 1 left out; for an
+ * association without covariates also the range of the correlation. Sets
+ * `result.leaveOneOut`. (Weighted fits: the exact deletion formula is that
+ * of unweighted least squares, not of the weighted estimate, so no range is
+ * given and this is not called.)
+ */
+function leaveOneOutRange(
+  prep: Prepared,
+  rows: readonly number[],
+  d: RegionData,
+  qr: QrDecomposition,
+  fit: LinearModelFit,
+  result: RegionResult,
+): void {
+  const ids = prep.data.participants;
+  const cov = unscaledCovariance(qr);
+  const p = qr.p;
+  let lo = Infinity;
+  let hi = -Infinity;
+  let loK = -1;
+  let hiK = -1;
+  for (let k = 0; k < rows.length; k++) {
+    const h = qr.hat[k];
+    if (h > 1 - 1e-8) continue;
+    let c = 0;
+    for (let j = 0; j < p; j++) c += cov[d.tested * p + j] * d.design.x[k * p + j];
+    const value = fit.coefficients[d.tested] - (c * fit.residuals[k]) / (1 - h);
+    if (value < lo) {
+      lo = value;
+      loK = k;
+    }
+    if (value > hi) {
+      hi = value;
+      hiK = k;
+    }
+  }
+  if (loK >= 0) {
+    result.leaveOneOut = {
+      estimateMin: lo,
+      estimateMax: hi,
+      minWithout: ids[rows[loK]],
+      maxWithout: ids[rows[hiK]],
+    };
+  }
+  if (d.kind === "association" && d.design.p === 2) {
+    try {
+      const loo = leaveOneOutCorrelations(d.x as Float64Array, d.y);
+      result.leaveOneOut = {
+        ...(result.leaveOneOut as Record<string, unknown> | undefined),
+        rMin: loo.min,
+        rMax: loo.max,
+        rMinWithout: ids[rows[loo.minIndex]],
+        rMaxWithout: ids[rows[loo.maxIndex]],
+      };
+    } catch (e) {
+      if (!(e instanceof StatsError)) throw e;
+    }
+  }
+}
+
+/**
+ * Sensitivity: the same estimator refitted without the participants flagged
+ * `outlier` or `influence` (unweighted fits). Sets `result.sensitivity`, with
+ * the refit's error message when the reduced region cannot be fitted.
+ */
+function sensitivityRefit(
+  prep: Prepared,
+  region: string,
+  rows: readonly number[],
+  d: RegionData,
+  diag: DiagnosticsResult,
+  result: RegionResult,
+): void {
+  const ids = prep.data.participants;
+  const drop = new Set<number>();
+  diag.rows.forEach((row, k) => {
+    if (row.flags.includes("outlier") || row.flags.includes("influence")) drop.add(k);
+  });
+  if (drop.size > 0 && prep.spec.weights === "none") {
+    const keep = rows.filter((_, k) => !drop.has(k));
+    const excluded = rows.filter((_, k) => drop.has(k)).map((i) => ids[i]);
+    try {
+      const { design, tested, covariateColumns, x, groupIndicator } = designFor(prep, keep);
+      const reduced: RegionData = {
+        ...d,
+        y: Float64Array.from(keep, (i) => prep.data.values[prep.data.regions.indexOf(region)][i]),
+        design,
+        tested,
+        covariateColumns,
+        x,
+        groupIndicator,
+      };
+      const est = estimateRegion(reduced);
+      result.sensitivity = {
+        excluded,
+        n: keep.length,
+        estimate: est.estimate,
+        p: est.p,
+        ciLow: est.ciLow,
+        ciHigh: est.ciHigh,
+        ...(est.r !== undefined ? { r: est.r } : {}),
+      };
+    } catch (e) {
+      if (!(e instanceof StatsError)) throw e;
+      result.sensitivity = { excluded, n: keep.length, error: e.message };
+    }
+  }
+}

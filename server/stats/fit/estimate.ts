@@ -1,0 +1,201 @@
+/**
+ * Stage 2 of a fit, estimate: for one region of a prepared fit, the design
+ * (intercept, the tested term, covariates), its least-squares decomposition
+ * (shared by regions on the same participants) and the estimator's parametric
+ * result — or, with weights "first-level-se", the weighted meta-regression.
+ * Hands a `RegionWork` (rows, region data, decomposition, result) to the
+ * diagnose stage and, with all regions done, to the infer stage.
+ */
+import type { RegionResult } from "../../../contract/spec";
+import { type Design, type DesignTerm, buildDesign } from "../design-matrix";
+import { type Estimator, type Kind, type RegionData, estimateRegion } from "../fit-methods";
+import { type QrDecomposition, qrDecompose } from "../linear-model";
+import { weightedLinearModel } from "../meta-regression";
+import { FIT_LEVEL } from "./common";
+import { type Prepared, regionRows } from "./prepare";
+
+export interface RegionWork {
+  r: number;
+  name: string;
+  rows: number[];
+  data: RegionData;
+  qr: QrDecomposition | null;
+  result: RegionResult;
+}
+
+/**
+ * The parametric pass over region r: its participants (regionRows, which
+ * throws StatsError below the minimum), its design and data, the
+ * decomposition (taken from `qrCache` when an earlier region had the same
+ * participants) and the estimator's result.
+ */
+export function estimateRegionWork(
+  prep: Prepared,
+  r: number,
+  qrCache: Map<string, QrDecomposition>,
+): RegionWork {
+  const { data } = prep;
+  const s = prep.spec;
+  const kind = s.kind as Kind;
+  const name = data.regions[r];
+  const rows = regionRows(prep, r);
+  const { design, tested, covariateColumns, x, groupIndicator } = designFor(prep, rows);
+  const y = Float64Array.from(rows, (i) => data.values[r][i]);
+  const regionData: RegionData = {
+    kind,
+    estimator: s.estimator as Estimator,
+    y,
+    design,
+    tested,
+    covariateColumns,
+    x,
+    groupIndicator,
+    level: FIT_LEVEL,
+  };
+  const key = `${rows.join(",")}`;
+  let qr: QrDecomposition | null = qrCache.get(key) ?? null;
+  if (!qr && design.n > design.p) {
+    qr = qrDecompose(design.x, design.n, design.p, design.columnNames);
+    qrCache.set(key, qr);
+  }
+  let result: RegionResult;
+  if (s.weights === "first-level-se") {
+    result = weightedRegion(prep, r, rows, regionData);
+  } else {
+    const est = estimateRegion(regionData, qr ?? undefined);
+    result = {
+      region: name,
+      n: rows.length,
+      estimate: est.estimate,
+      se: est.se,
+      statistic: est.statistic,
+      df: est.df,
+      p: est.p,
+      pAdjusted: est.p,
+      ciLow: est.ciLow,
+      ciHigh: est.ciHigh,
+      ...(est.r !== undefined ? { r: est.r } : {}),
+      ...(est.rCiLow !== undefined ? { rCiLow: est.rCiLow, rCiHigh: est.rCiHigh } : {}),
+      method: est.method,
+      ...est.extras,
+    };
+    if (Array.isArray(est.extras.outlierRows)) {
+      const ids = (est.extras.outlierRows as number[]).map((k) => data.participants[rows[k]]);
+      delete result.outlierRows;
+      result.projectionOutliers = ids;
+    }
+  }
+  return { r, name, rows, data: regionData, qr, result };
+}
+
+export function designFor(
+  prep: Prepared,
+  rows: readonly number[],
+): {
+  design: Design;
+  tested: number;
+  covariateColumns: number;
+  x: Float64Array | null;
+  groupIndicator: Float64Array | null;
+} {
+  const { spec, predictor, group, levels, covariates } = prep;
+  const n = rows.length;
+  const terms: DesignTerm[] = [{ name: "(intercept)", kind: "intercept" }];
+  let tested = 0;
+  let x: Float64Array | null = null;
+  let groupIndicator: Float64Array | null = null;
+  if (group && levels)
+    groupIndicator = Float64Array.from(rows, (i) => (group[i] === levels[0] ? 1 : 0));
+  if (spec.kind === "two-group") {
+    const g = groupIndicator as Float64Array;
+    terms.push({ name: `${spec.group}: ${levels?.[0]}`, kind: "numeric", values: g });
+    tested = 1;
+    x = g;
+    groupIndicator = null;
+  } else if (spec.kind === "association") {
+    x = Float64Array.from(rows, (i) => predictor?.[i] as number);
+    terms.push({ name: spec.predictor as string, kind: "numeric", values: x });
+    tested = 1;
+    if (groupIndicator) {
+      terms.push({
+        name: `${spec.group}: ${levels?.[0]}`,
+        kind: "numeric",
+        values: groupIndicator,
+      });
+      if (spec.interaction) {
+        terms.push({
+          name: `${spec.predictor} × ${spec.group}: ${levels?.[0]}`,
+          kind: "product",
+          values: x,
+          indicator: groupIndicator,
+        });
+        tested = 3;
+      }
+    }
+  }
+  const before = terms.length;
+  for (const c of covariates) {
+    if ("numeric" in c) {
+      const values = Float64Array.from(rows, (i) => c.numeric[i] as number);
+      if (spec.kind === "one-sample") {
+        let m = 0;
+        for (const v of values) m += v;
+        m /= n || 1;
+        for (let k = 0; k < n; k++) values[k] -= m;
+      }
+      terms.push({ name: c.name, kind: "numeric", values });
+    } else {
+      terms.push({
+        name: c.name,
+        kind: "categorical",
+        values: rows.map((i) => c.categorical[i] as string),
+      });
+    }
+  }
+  const design = buildDesign(n, terms);
+  let covariateColumns = 0;
+  for (const t of design.termColumns.slice(before)) covariateColumns += t.columns.length;
+  if (spec.kind === "association" && groupIndicator && !spec.interaction) covariateColumns += 1;
+  return {
+    design,
+    tested,
+    covariateColumns,
+    x,
+    groupIndicator: spec.kind === "association" ? groupIndicator : null,
+  };
+}
+
+function weightedRegion(prep: Prepared, r: number, rows: number[], d: RegionData): RegionResult {
+  const se = prep.data.standardErrors?.[r] as Float64Array;
+  const p = d.design.p;
+  const X: number[][] = [];
+  for (let k = 0; k < rows.length; k++) X.push(Array.from(d.design.x.subarray(k * p, (k + 1) * p)));
+  const w = weightedLinearModel({
+    y: d.y,
+    se: Float64Array.from(rows, (i) => se[i]),
+    X,
+    tested: d.tested,
+    tau2Method: prep.spec.tau2Method,
+    smallSample: prep.spec.smallSample,
+    level: FIT_LEVEL,
+    participants: rows.map((i) => prep.data.participants[i]),
+  });
+  return {
+    region: prep.data.regions[r],
+    n: rows.length,
+    estimate: w.estimate,
+    se: w.se,
+    statistic: w.statistic,
+    df: w.df,
+    p: w.p,
+    pAdjusted: w.p,
+    ciLow: w.ciLow,
+    ciHigh: w.ciHigh,
+    method: `weighted by first-level standard errors with residual between-participant variance τ² (${prep.spec.tau2Method === "reml" ? "REML" : "DerSimonian–Laird"}${prep.spec.smallSample === "knapp-hartung" ? ", Knapp–Hartung" : ""})`,
+    tau2: w.tau2,
+    tau2Se: w.tau2Se,
+    i2: w.i2,
+    noiseShare: w.noiseShare,
+    trueShare: w.trueShare,
+  };
+}

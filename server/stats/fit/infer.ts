@@ -1,0 +1,301 @@
+/**
+ * Stage 3 of a fit, infer: replaces the estimate stage's parametric p (and,
+ * for the bootstrap, interval) by a resampling one when the model asks —
+ * permutation (one rearrangement of the participants for all regions,
+ * max-T from the same draws) or bootstrap (each region resampled alone,
+ * every pass from a fresh generator on the seed) — then adjusts the p-values
+ * over regions. Works on the regions' results in place and adds the notes of
+ * what it did; hands the finished regions to the result.
+ */
+import type { RegionResult } from "../../../contract/spec";
+import { bootstrapInterval } from "../bootstrap";
+import { adjustPValues } from "../corrections";
+import { bootstrapP, bootstrapStatistic, permutationStatistic } from "../fit-methods";
+import { sharedGenericPermutationTest, sharedLinearPermutationTest } from "../permutation";
+import { extremeThreshold } from "../rearrangements";
+import { createRng } from "../rng";
+import { FIT_LEVEL, type RunFitOptions, cancelled, inRegion } from "./common";
+import type { RegionWork } from "./estimate";
+import {
+  bootstrapNote,
+  correctionNote,
+  maxTNote,
+  permutationNote,
+  sharedRearrangementNote,
+} from "./notes";
+import type { Prepared } from "./prepare";
+
+/** Bins of the permutation null histogram. */
+export const NULL_HISTOGRAM_BINS = 40;
+
+/**
+ * The correction over regions (`spec.correction`): max-T was applied by the
+ * permutation pass and only gets its note; any other sets each region's
+ * `pAdjusted` from the regions' p-values (corrections.ts) and adds its note.
+ */
+export function correctOverRegions(
+  regions: RegionResult[],
+  correction: Prepared["spec"]["correction"],
+  notes: string[],
+): void {
+  if (correction === "maxt") {
+    notes.push(maxTNote());
+  } else {
+    const adjusted = adjustPValues(
+      regions.map((x) => x.p),
+      correction,
+    );
+    regions.forEach((x, k) => {
+      x.pAdjusted = adjusted[k];
+    });
+    notes.push(correctionNote(correction));
+  }
+}
+
+/** A progress callback mapping [0, 1] of a pass onto [start, start + span] of the fit. */
+function scaledProgress(options: RunFitOptions, start: number, span: number) {
+  return (f: number) =>
+    options.onProgress?.(Math.min(1, start + span * Math.min(1, Math.max(0, f))));
+}
+
+/**
+ * Permutation inference over the fit's regions. Each region keeps its own
+ * participants; all regions share one rearrangement of the participants
+ * available in at least one region (N, roster order): one sign vector, or
+ * one order σ of which each region keeps its own participants in σ's order
+ * (rule and reasoning in rearrangements.ts). So max-T controls the
+ * family-wise error over all regions (Westfall & Young 1993; Winkler et
+ * al. 2014), and every region's own p follows the same draws.
+ *
+ * What holds for a region's numbers: given the seed they are deterministic;
+ * when every region has the same participants nothing depends on the other
+ * regions (the draw runs over exactly those participants, as when the
+ * region is fitted alone, two-group label assignments included); an exact
+ * p (all rearrangements enumerated) is the same whether the region is
+ * fitted alone or with others, provided both runs enumerate (with regions
+ * that differ, enumeration needs 2^N or N! ≤ resamples for all N); a Monte
+ * Carlo p in a fit whose regions differ in participants depends on N and on
+ * which participants are shared, so it is an equally valid draw but not the
+ * same number as when the region is fitted alone. Least squares: a region
+ * with all N participants sees, draw for draw, what it sees alone (sign
+ * flips, Freedman–Lane orders).
+ */
+export function permutationPass(
+  prep: Prepared,
+  works: RegionWork[],
+  options: RunFitOptions,
+  notes: string[],
+): void {
+  const s = prep.spec;
+  const maxT = s.correction === "maxt";
+  // The shared participants: available in at least one region, in roster order.
+  const position = new Int32Array(prep.data.participants.length).fill(-1);
+  for (const w of works) for (const i of w.rows) position[i] = 0;
+  let shared = 0;
+  for (let i = 0; i < position.length; i++) if (position[i] === 0) position[i] = shared++;
+  const membersOf = (rows: readonly number[]) => Int32Array.from(rows, (i) => position[i]);
+  const differ = works.some((w) => w.rows.length !== shared);
+  const progress = scaledProgress(options, 0.1, 0.9);
+  if (s.estimator === "ols") {
+    // Regions on the same participants form one block (one design, the kernel's batched product).
+    const groups = new Map<string, RegionWork[]>();
+    for (const w of works) {
+      const key = w.rows.join(",");
+      const list = groups.get(key) ?? [];
+      list.push(w);
+      groups.set(key, list);
+    }
+    const lists = [...groups.values()];
+    const scheme = s.kind === "one-sample" ? "sign-flip" : "freedman-lane";
+    const res = sharedLinearPermutationTest({
+      participants: shared,
+      blocks: lists.map((list) => {
+        const d = list[0].data;
+        return {
+          design: d.design.x,
+          n: d.design.n,
+          p: d.design.p,
+          tested: d.tested,
+          y: list.map((w) => w.data.y),
+          members: membersOf(list[0].rows),
+          label: list[0].name,
+        };
+      }),
+      scheme,
+      resamples: s.resamples,
+      rng: createRng(s.seed),
+      maxT,
+      keepNull: true,
+      onProgress: progress,
+      shouldCancel: options.shouldCancel,
+    });
+    let k = 0;
+    for (const list of lists) {
+      for (const w of list) {
+        const nulls = res.nullStatistics?.[k] ?? new Float32Array(0);
+        applyPermutation(
+          w,
+          res.p[k],
+          res.observed[k],
+          res.exact,
+          res.rearrangements,
+          nulls,
+          scheme === "sign-flip" ? "sign flipping" : "Freedman–Lane",
+        );
+        if (res.pMaxT) w.result.pAdjusted = res.pMaxT[k];
+        k++;
+      }
+    }
+    notes.push(permutationNote(s.kind, true));
+  } else {
+    const plans = works.map((w) => permutationStatistic(w.data));
+    const res = sharedGenericPermutationTest({
+      participants: shared,
+      regions: works.map((w, idx) => ({
+        members: membersOf(w.rows),
+        statistic: plans[idx].statistic,
+        slots: plans[idx].slots,
+        groupSizes: plans[idx].groupSizes,
+        label: w.name,
+      })),
+      scheme: plans[0].scheme,
+      resamples: s.resamples,
+      rng: createRng(s.seed),
+      onProgress: progress,
+      shouldCancel: options.shouldCancel,
+    });
+    works.forEach((w, idx) => {
+      applyPermutation(
+        w,
+        res.p[idx],
+        res.observed[idx],
+        res.exact,
+        res.rearrangements,
+        res.nullStatistics[idx],
+        plans[idx].name,
+      );
+    });
+    if (maxT) {
+      const m = res.rearrangements;
+      const maxima = new Float64Array(m);
+      for (let k = 0; k < m; k++) {
+        let best = 0;
+        for (const nulls of res.nullStatistics) best = Math.max(best, Math.abs(nulls[k]));
+        maxima[k] = best;
+      }
+      works.forEach((w, idx) => {
+        const threshold = extremeThreshold(res.observed[idx]);
+        let count = 0;
+        for (let k = 0; k < m; k++) if (maxima[k] >= threshold) count++;
+        w.result.pAdjusted = count / m;
+      });
+    }
+    notes.push(permutationNote(s.kind, false));
+  }
+  if (differ) notes.push(sharedRearrangementNote(s.kind, shared, s.resamples));
+}
+
+/** Puts a region's permutation p, its scheme and its null histogram on the region's result (the parametric p kept as `pParametric`). */
+function applyPermutation(
+  w: RegionWork,
+  p: number,
+  observed: number,
+  exact: boolean,
+  rearrangements: number,
+  nulls: ArrayLike<number>,
+  scheme: string,
+): void {
+  const res = w.result;
+  res.pParametric = res.p;
+  res.p = p;
+  res.pAdjusted = p;
+  res.permutation = { scheme, exact, rearrangements, observed };
+  res.nullHistogram = nullHistogram(nulls, observed);
+}
+
+/**
+ * Bootstrap inference, region by region: participants resampled with
+ * replacement from a fresh generator on the seed (bootstrap.ts), a BCa
+ * interval (percentile for the skipped and bend correlations) and the
+ * bootstrap p replace the parametric ones, which are kept as
+ * `pParametric`, `ciLowParametric`, `ciHighParametric`.
+ */
+export function bootstrapPass(
+  prep: Prepared,
+  works: RegionWork[],
+  options: RunFitOptions,
+  notes: string[],
+): void {
+  const s = prep.spec;
+  const total = works.length;
+  const method = s.estimator === "skipped" || s.estimator === "bend" ? "percentile" : "bca";
+  works.forEach((w, idx) => {
+    if (options.shouldCancel?.()) cancelled();
+    const res = inRegion(w.name, () =>
+      bootstrapInterval({
+        n: w.data.y.length,
+        statistic: bootstrapStatistic(w.data),
+        resamples: s.resamples,
+        rng: createRng(s.seed),
+        level: FIT_LEVEL,
+        method,
+      }),
+    );
+    const r = w.result;
+    r.pParametric = r.p;
+    r.ciLowParametric = r.ciLow;
+    r.ciHighParametric = r.ciHigh;
+    r.se = res.se;
+    r.ciLow = res.ciLow;
+    r.ciHigh = res.ciHigh;
+    r.p = bootstrapP(res.distribution);
+    r.pAdjusted = r.p;
+    r.statistic = null;
+    r.df = null;
+    if (
+      s.kind === "association" &&
+      (s.estimator === "rank" || s.estimator === "skipped" || s.estimator === "bend")
+    ) {
+      r.rCiLow = res.ciLow;
+      r.rCiHigh = res.ciHigh;
+    }
+    r.bootstrap = {
+      method,
+      resamples: s.resamples,
+      kept: res.distribution.length,
+      discarded: res.discarded,
+    };
+    options.onProgress?.(Math.min(1, 0.1 + (0.9 * (idx + 1)) / total));
+  });
+  notes.push(bootstrapNote(method));
+}
+
+/** 40-bin histogram of a null distribution; ±Infinity fall in the end bins. */
+function nullHistogram(values: ArrayLike<number>, observed: number, bins = NULL_HISTOGRAM_BINS) {
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (let k = 0; k < values.length; k++) {
+    const v = values[k];
+    if (Number.isFinite(v)) {
+      if (v < lo) lo = v;
+      if (v > hi) hi = v;
+    }
+  }
+  if (!(lo < hi)) {
+    const c = Number.isFinite(lo) ? lo : 0;
+    lo = c - 0.5;
+    hi = c + 0.5;
+  }
+  const width = (hi - lo) / bins;
+  const edges: number[] = [];
+  for (let b = 0; b <= bins; b++) edges.push(b === bins ? hi : lo + b * width);
+  const counts = new Array<number>(bins).fill(0);
+  for (let k = 0; k < values.length; k++) {
+    const v = values[k];
+    let b = v === Infinity ? bins - 1 : v === -Infinity ? 0 : Math.floor((v - lo) / width);
+    if (b >= bins) b = bins - 1;
+    if (b < 0) b = 0;
+    counts[b]++;
+  }
+  return { edges, counts, observed };
+}

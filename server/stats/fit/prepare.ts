@@ -1,0 +1,309 @@
+/**
+ * Stage 1 of a fit, prepare: checks the model and the data through the fit
+ * rules (contract/fit-rules.ts), resolves the set-asides, the columns and the
+ * group levels a valid model names, and gives each region its participants
+ * (after set-asides and listwise deletion; weights: a standard error for
+ * every value) or, for reliability, its matrix of sessions. Hands a
+ * `Prepared` fit and the rows of each region to the estimate stage (and to
+ * reliability.ts); `fitPreconditionProblems` judges the same preconditions
+ * without fitting.
+ */
+import {
+  type DataShape,
+  dataProblems,
+  minimumParticipants,
+  minimumPerGroup,
+  type SpecProblem,
+  specProblems,
+} from "../../../contract/fit-rules";
+import { type FitData, type ModelSpec, modelSpecSchema } from "../../../contract/spec";
+import { compareCodePoints } from "../design-matrix";
+import { StatsError } from "../errors";
+import type { Kind } from "../fit-methods";
+import { fail } from "./common";
+
+export type Covariate =
+  | { name: string; numeric: readonly (number | null)[] }
+  | { name: string; categorical: readonly (string | null)[] };
+
+export interface Prepared {
+  spec: ModelSpec;
+  data: FitData;
+  regionIndex: number[];
+  predictor: readonly (number | null)[] | null;
+  group: readonly (string | null)[] | null;
+  levels: [string, string] | null;
+  covariates: Covariate[];
+  /** participant index → set aside from every region */
+  asideAll: Uint8Array;
+  /** region name → participant indices set aside there */
+  asideRegion: Map<string, Set<number>>;
+}
+
+function parseSpec(spec: ModelSpec): ModelSpec {
+  const parsed = modelSpecSchema.safeParse(spec);
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0];
+    fail(`model field '${issue.path.join(".") || "(model)"}': ${issue.message}`);
+  }
+  return parsed.data;
+}
+
+function checkData(data: FitData): void {
+  const n = data.participants.length;
+  if (data.values.length !== data.regions.length)
+    fail("fit data: values must have one row per region");
+  data.values.forEach((v, r) => {
+    if (v.length !== n)
+      fail(`fit data: region '${data.regions[r]}' has ${v.length} values for ${n} participants`);
+  });
+  if (new Set(data.participants).size !== n)
+    fail("fit data: participant identifiers must be unique");
+  for (const [name, col] of Object.entries(data.numericColumns)) {
+    if (col.length !== n)
+      fail(`fit data: column '${name}' has ${col.length} values for ${n} participants`);
+  }
+  for (const [name, col] of Object.entries(data.categoricalColumns)) {
+    if (col.length !== n)
+      fail(`fit data: column '${name}' has ${col.length} values for ${n} participants`);
+  }
+}
+
+function has(record: Readonly<Record<string, unknown>>, key: string): boolean {
+  return Object.hasOwn(record, key);
+}
+
+/** Participants set aside from every region, and per region, from the spec's set-aside list. Throws StatsError for unknown names. */
+function setAsides(
+  spec: ModelSpec,
+  data: FitData,
+): { asideAll: Uint8Array; asideRegion: Map<string, Set<number>> } {
+  const n = data.participants.length;
+  const asideAll = new Uint8Array(n);
+  const asideRegion = new Map<string, Set<number>>();
+  for (const entry of spec.setAside) {
+    const i = data.participants.indexOf(entry.participant);
+    if (i < 0) fail(`setAside: unknown participant '${entry.participant}'`);
+    if (entry.region === undefined) asideAll[i] = 1;
+    else {
+      if (!data.regions.includes(entry.region))
+        fail(`setAside: unknown region '${entry.region}' for participant '${entry.participant}'`);
+      const set = asideRegion.get(entry.region) ?? new Set<number>();
+      set.add(i);
+      asideRegion.set(entry.region, set);
+    }
+  }
+  return { asideAll, asideRegion };
+}
+
+/** The levels of a column among the participants not set aside from every region (numbers as text), sorted by code point. */
+function levelsPresent(data: FitData, column: string, asideAll: Uint8Array): string[] | undefined {
+  let values: readonly (string | null)[];
+  if (has(data.categoricalColumns, column)) values = data.categoricalColumns[column];
+  else if (has(data.numericColumns, column))
+    values = data.numericColumns[column].map((v) =>
+      v === null || !Number.isFinite(v) ? null : String(v),
+    );
+  else return undefined;
+  const present = new Set<string>();
+  values.forEach((g, i) => {
+    if (g !== null && !asideAll[i]) present.add(g);
+  });
+  return Array.from(present).sort(compareCodePoints);
+}
+
+/** The shape of fit data as the fit rules see it (fit-rules.ts). */
+function shapeOf(data: FitData, asideAll: Uint8Array): DataShape {
+  return {
+    regions: data.regions,
+    sessions: data.sessions?.labels.length ?? 0,
+    hasStandardErrors: Boolean(data.standardErrors),
+    numericColumns: Object.keys(data.numericColumns),
+    categoricalColumns: Object.keys(data.categoricalColumns),
+    levelsOf: (column) => levelsPresent(data, column, asideAll),
+  };
+}
+
+/** The rules of fit-rules.ts on the model and the shape of the data: every problem. */
+function ruleProblems(
+  spec: ModelSpec,
+  data: FitData,
+  asideAll: Uint8Array,
+  naming: Pick<DataShape, "brainTable" | "participantSheet"> = {},
+): SpecProblem[] {
+  return [...specProblems(spec), ...dataProblems(spec, { ...shapeOf(data, asideAll), ...naming })];
+}
+
+/**
+ * Stage 1 as the fit runs it: the model and the data checked against the fit
+ * rules (the first problem throws StatsError naming its field), then the
+ * set-asides, columns and group levels resolved.
+ */
+export function prepare(specIn: ModelSpec, data: FitData): Prepared {
+  const spec = parseSpec(specIn);
+  checkData(data);
+  const { asideAll, asideRegion } = setAsides(spec, data);
+  const [problem] = ruleProblems(spec, data, asideAll);
+  if (problem) fail(`${problem.field.split(".")[0]}: ${problem.message}`);
+  return resolve(spec, data, asideAll, asideRegion);
+}
+
+/** The columns and levels a valid model names (the rules have passed). */
+function resolve(
+  spec: ModelSpec,
+  data: FitData,
+  asideAll: Uint8Array,
+  asideRegion: Map<string, Set<number>>,
+): Prepared {
+  const wanted = spec.regions && spec.regions.length > 0 ? spec.regions : data.regions;
+  const regionIndex = wanted.map((name) => data.regions.indexOf(name));
+  const predictor =
+    spec.kind === "association" && spec.predictor ? data.numericColumns[spec.predictor] : null;
+  let group: readonly (string | null)[] | null = null;
+  let levels: [string, string] | null = null;
+  if (spec.group) {
+    group = has(data.categoricalColumns, spec.group)
+      ? data.categoricalColumns[spec.group]
+      : data.numericColumns[spec.group].map((v) =>
+          v === null || !Number.isFinite(v) ? null : String(v),
+        );
+    const found = levelsPresent(data, spec.group, asideAll) as string[];
+    levels = spec.levels ? [spec.levels[0], spec.levels[1]] : [found[0], found[1]];
+  }
+  const covariates: Covariate[] = spec.covariates.map((name) =>
+    has(data.numericColumns, name)
+      ? { name, numeric: data.numericColumns[name] }
+      : { name, categorical: data.categoricalColumns[name] },
+  );
+  return { spec, data, regionIndex, predictor, group, levels, covariates, asideAll, asideRegion };
+}
+
+/**
+ * Participant indices used in region r (after set-aside and listwise
+ * deletion), checked against the minimum the kind and estimator need
+ * (fit-rules.ts) and, for two groups, the minimum per group. Throws
+ * StatsError otherwise.
+ */
+export function regionRows(prep: Prepared, r: number): number[] {
+  const s = prep.spec;
+  const kind = s.kind as Kind;
+  const rows = rowsFor(prep, r);
+  const min = minimumParticipants(kind, s.estimator);
+  if (rows.length < min) fail(`too few participants (n = ${rows.length}; at least ${min} needed)`);
+  if (kind === "two-group") {
+    const g = prep.group as readonly (string | null)[];
+    const need = minimumPerGroup(s.estimator);
+    for (const level of prep.levels as [string, string]) {
+      const count = rows.filter((i) => g[i] === level).length;
+      if (count < need)
+        fail(
+          `group level '${level}' has ${count} participant${count === 1 ? "" : "s"} (at least ${need} needed)`,
+        );
+    }
+  }
+  return rows;
+}
+
+/** Reliability: per region the participants' values in every session (at least two participants). Throws StatsError otherwise. */
+export function sessionMatrix(prep: Prepared, r: number): number[][] {
+  const { data } = prep;
+  const sessions = data.sessions as NonNullable<FitData["sessions"]>;
+  const bySession = sessions.values[r];
+  if (!bySession || bySession.length !== sessions.labels.length)
+    fail("sessions: expected one value array per session");
+  const aside = prep.asideRegion.get(data.regions[r]);
+  const matrix: number[][] = [];
+  for (let i = 0; i < data.participants.length; i++) {
+    if (prep.asideAll[i] || aside?.has(i)) continue;
+    const row = bySession.map((v) => v[i]);
+    if (row.every((v) => Number.isFinite(v))) matrix.push(row);
+  }
+  if (matrix.length < 2)
+    fail(`too few participants with every session (n = ${matrix.length}; at least 2 needed)`);
+  return matrix;
+}
+
+/**
+ * The preconditions of a fit that the data decide, judged without fitting:
+ * the rules of fit-rules.ts on the model and the data's shape (regions,
+ * columns and their types, sessions, standard errors, group levels among
+ * the participants not set aside), then per region the participants left
+ * after set-asides and missing values (the kind's minimum, per group for
+ * two groups; weights: a standard error for every value). What only the
+ * fit itself finds (a design whose columns depend on each other) is not
+ * judged. `columns: false` leaves out everything that needs the
+ * participant sheet (none uploaded yet). `naming` names the tables in the
+ * messages. Returns every problem (fields inside the model fields; a
+ * region's problem under "regions"); a malformed model or set-aside list
+ * throws StatsError. Cost O(regions × participants × columns).
+ */
+export function fitPreconditionProblems(
+  specIn: ModelSpec,
+  data: FitData,
+  options: { columns?: boolean; naming?: Pick<DataShape, "brainTable" | "participantSheet"> } = {},
+): SpecProblem[] {
+  const spec = parseSpec(specIn);
+  checkData(data);
+  const { asideAll, asideRegion } = setAsides(spec, data);
+  const columns = options.columns !== false;
+  const shape: DataShape = { ...shapeOf(data, asideAll), ...options.naming };
+  if (!columns) {
+    shape.numericColumns = undefined;
+    shape.categoricalColumns = undefined;
+  }
+  const problems = [...specProblems(spec), ...dataProblems(spec, shape)];
+  const needsSheet = Boolean(spec.predictor || spec.group || spec.covariates.length > 0);
+  if (problems.length > 0 || (!columns && needsSheet)) return problems;
+  const prep = resolve(spec, data, asideAll, asideRegion);
+  for (const r of prep.regionIndex) {
+    try {
+      if (spec.kind === "reliability") sessionMatrix(prep, r);
+      else regionRows(prep, r);
+    } catch (e) {
+      if (!(e instanceof StatsError)) throw e;
+      problems.push({ field: "regions", message: `region '${data.regions[r]}': ${e.message}` });
+    }
+  }
+  return problems;
+}
+
+/** Participant indices used in region r (after set-aside and listwise deletion). */
+function rowsFor(prep: Prepared, r: number): number[] {
+  const { spec, data, predictor, group, levels, covariates, asideAll, asideRegion } = prep;
+  const name = data.regions[r];
+  const aside = asideRegion.get(name);
+  const values = data.values[r];
+  const se = spec.weights === "first-level-se" ? (data.standardErrors?.[r] ?? null) : null;
+  if (spec.weights === "first-level-se" && !se)
+    fail(`weights: region '${name}' has no standard errors`);
+  const rows: number[] = [];
+  for (let i = 0; i < data.participants.length; i++) {
+    if (asideAll[i] || aside?.has(i)) continue;
+    if (!Number.isFinite(values[i])) continue;
+    // Weighted fits refuse, never drop, a participant with a value but no usable standard error.
+    if (se && !(Number.isFinite(se[i]) && se[i] > 0)) {
+      fail(
+        `participant '${data.participants[i]}' has a contrast value but no first-level standard error; weights 'first-level-se' need one for every participant with a value (add it, or set the participant aside)`,
+      );
+    }
+    if (predictor) {
+      const v = predictor[i];
+      if (v === null || !Number.isFinite(v)) continue;
+    }
+    if (group && levels) {
+      const g = group[i];
+      if (g === null) continue;
+      if (g !== levels[0] && g !== levels[1]) continue;
+    }
+    let complete = true;
+    for (const c of covariates) {
+      if ("numeric" in c) {
+        const v = c.numeric[i];
+        if (v === null || !Number.isFinite(v)) complete = false;
+      } else if (c.categorical[i] === null) complete = false;
+    }
+    if (!complete) continue;
+    rows.push(i);
+  }
+  return rows;
+}
