@@ -650,7 +650,7 @@ const styles = StyleSheet.create({
   },
   filterCell: { paddingHorizontal: space.xs },
   filterInput: {
-    height: 32,
+    minHeight: 44,
     borderWidth: 1,
     borderColor: palette.lineStrong,
     borderRadius: radius.sm,
@@ -685,7 +685,7 @@ const styles = StyleSheet.create({
   sizes: { flexDirection: "row", alignItems: "center", gap: space.xs, flexWrap: "wrap" },
   size: {
     minWidth: 44,
-    minHeight: 36,
+    minHeight: 44,
     paddingHorizontal: space.sm,
     borderRadius: radius.pill,
     borderWidth: 1,

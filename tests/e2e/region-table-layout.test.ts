@@ -209,6 +209,25 @@ async function cutHeaders(table: Locator): Promise<string[]> {
   );
 }
 
+/** Interactive elements inside the element (buttons, fields, choices, pressable rows) less than 44 px high. */
+async function smallTargets(root: Locator): Promise<string[]> {
+  return root.evaluate((element) =>
+    [
+      ...element.querySelectorAll<HTMLElement>(
+        'button, input, [role="button"], [role="radio"], [role="checkbox"], [role="row"][aria-selected], [tabindex="0"]',
+      ),
+    ]
+      .filter((el) => {
+        const box = el.getBoundingClientRect();
+        return box.width > 0 && box.height < 44;
+      })
+      .map(
+        (el) =>
+          `${el.getAttribute("aria-label") ?? el.textContent} (${Math.round(el.getBoundingClientRect().height)} px)`,
+      ),
+  );
+}
+
 function inside(box: Box, viewport: { width: number; height: number }): boolean {
   return (
     box.x >= 0 &&
@@ -299,6 +318,7 @@ for (const [size, viewport] of [
         await checkKeyColumns(page, viewport, fit.estimate);
         await screenshot(page, `region-layout-${fit.label}-table-${size}`);
         if (size === "phone") {
+          expect(await smallTargets(page.getByTestId("fit-regions"))).toEqual([]);
           // Every row, header and chooser button is a tap target of 44 px.
           for (const target of [
             page.getByTestId("region-table").locator('[role="row"]').first(),
@@ -357,6 +377,7 @@ it("on a phone, a tapped region opens as its own view within the first screen, w
         await diagnostics.scrollIntoViewIfNeeded();
         const more = page.getByTestId("diagnostics-table-more-columns");
         await more.waitFor();
+        expect(await smallTargets(diagnostics)).toEqual([]);
         expect((await boxOf(more)).height).toBeGreaterThanOrEqual(44);
         const pinned = diagnostics.locator('[role="rowheader"]').first();
         const before = await boxOf(pinned);
@@ -469,6 +490,8 @@ it("on a phone the reliability table shows the ICC values and their intervals, a
     }
     await page.getByTestId("roster-table").scrollIntoViewIfNeeded();
     await screenshot(page, "region-layout-roster-phone");
+    for (const id of ["brain-reliability-table", "roster-table"])
+      expect(await smallTargets(page.getByTestId(id)), id).toEqual([]);
     expect(errors).toEqual([]);
   } finally {
     await context.close();
