@@ -18,7 +18,9 @@ import type {
   DatasetView as DatasetVersion,
   IdentifierDecisionRecord,
   IdentifierKind,
+  IntakeProblem,
   PersonRef,
+  PreviewView as DatasetPreview,
   RowsPage,
   StoredColumn,
 } from "../contract/views/datasets";
@@ -27,67 +29,23 @@ import type {
 export type {
   ColumnPreview,
   DatasetKind,
+  DatasetPreview,
   DatasetVersion,
   IdentifierDecisionRecord,
   IdentifierKind,
+  IntakeProblem,
   PersonRef,
   RowsPage,
   StoredColumn,
 };
 
-/** One problem of an uploaded file; `message` already names the file, row and column. */
-export interface IntakeProblem {
-  file: string;
-  row?: number;
-  column?: string;
-  code: string;
-  message: string;
-}
-
+/** The upload form's fields, sent as multipart strings (the server answers them as the preview's `options`). */
 export interface UploadOptions {
   idColumn?: string;
   seSuffix?: string;
   layout?: "wide" | "long";
   /** "none": the brain table has no session column. */
   sessionColumn?: string;
-}
-
-/** What the server answers to an upload: the preview, before anything is stored. */
-export interface DatasetPreview {
-  id: string;
-  studyId: string;
-  status: "preview";
-  kind: DatasetKind;
-  file: string;
-  fileName: string;
-  sha256: string;
-  byteSize: number;
-  delimiter: string;
-  delimiterName: string;
-  rowCount: number;
-  columnCount: number;
-  idColumn: string;
-  idColumnGuessed: boolean;
-  layout?: "wide" | "long";
-  regions?: string[];
-  sessions?: string[];
-  participants: number;
-  /** In the file's column order. */
-  columns: ColumnPreview[];
-  /** First rows as written, with their spreadsheet row numbers (header = row 1). */
-  rows: { row: number; cells: string[] }[];
-  problems: IntakeProblem[];
-  problemCount: number;
-  identifierColumns: { column: string; kind: IdentifierKind; reason: string }[];
-  options: {
-    idColumn?: string;
-    seSuffix?: string;
-    layout?: "wide" | "long";
-    sessionColumn?: string | null;
-  };
-  uploadedBy: PersonRef;
-  uploadedAt: string;
-  expiresAt: string;
 }
 
 /** A version with one page of its rows (`rows` null when the caller may not read participant-level rows). */

@@ -100,3 +100,77 @@ export interface RowsPage {
   /** Each row's spreadsheet row number and its cells, in the order of `columns`. */
   items: { row: number; cells: (string | number | null)[] }[];
 }
+
+/** One problem of an uploaded file; `message` already names the file, row and column. */
+export interface IntakeProblem {
+  /** The file's name as uploaded or as named in the recipe. */
+  file: string;
+  /** Spreadsheet row number (header = 1), when the problem sits in one row. */
+  row?: number;
+  /** Column name (as in the header), when the problem sits in one column. */
+  column?: string;
+  /** Stable machine-readable code, e.g. "not_a_number", "ragged_row". */
+  code: string;
+  /** The full sentence shown to people, already naming file, row and column. */
+  message: string;
+}
+
+/** A column that looks like a direct identifier. */
+export interface IdentifierFlag {
+  column: string;
+  kind: IdentifierKind;
+  /** Why it was flagged, in plain words (never quoting the cells). */
+  reason: string;
+}
+
+/** The field separators the intake reads. */
+export type Delimiter = "," | "\t" | ";";
+
+/** What the intake shows of an uploaded table before anything is stored. */
+export interface TablePreview {
+  file: string;
+  kind: DatasetKind;
+  delimiter: Delimiter;
+  delimiterName: string;
+  rowCount: number;
+  columnCount: number;
+  idColumn: string;
+  idColumnGuessed: boolean;
+  /** Brain tables only. */
+  layout?: "wide" | "long";
+  regions?: string[];
+  sessions?: string[];
+  /** Distinct participant ids (brain: across sessions). */
+  participants: number;
+  /** In the file's column order. */
+  columns: ColumnPreview[];
+  /** First rows as written, with their spreadsheet row numbers (header = row 1). */
+  rows: { row: number; cells: string[] }[];
+  /** Problems that must be resolved (by type change or drop) before confirming. */
+  problems: IntakeProblem[];
+  problemCount: number;
+  identifierColumns: IdentifierFlag[];
+}
+
+/** The options an upload was read with. */
+export interface UploadOptions {
+  idColumn?: string;
+  seSuffix?: string;
+  layout?: "wide" | "long";
+  /** null: the brain table has no session column. */
+  sessionColumn?: string | null;
+}
+
+/** The answer to an upload: its preview, before anything is stored. */
+export interface PreviewView extends TablePreview {
+  id: string;
+  studyId: string;
+  status: "preview";
+  fileName: string;
+  sha256: string;
+  byteSize: number;
+  options: UploadOptions;
+  uploadedBy: PersonRef;
+  uploadedAt: string;
+  expiresAt: string;
+}

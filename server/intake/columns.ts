@@ -19,8 +19,6 @@ import { IntakeError, problem } from "./errors";
 import { isMissing, parseNumberCell } from "./cells";
 import type { RawTable } from "./read-table";
 
-export type ColumnType = "number" | "category" | "id";
-
 /** Whether a column with `numbers` number cells and `text` other non-missing cells is typed `number`: at least half are numbers. */
 export function isNumericColumn(numbers: number, text: number): boolean {
   return numbers > 0 && numbers >= text;

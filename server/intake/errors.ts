@@ -23,21 +23,12 @@
  * count as rows (they are skipped, but do not shift later numbers). A quoted
  * field that spans several lines belongs to one row.
  */
+import type { IntakeProblem } from "../../contract/views/datasets";
+
+/** One problem of an input file (contract/views/datasets.ts, where the web app reads it too). */
+export type Problem = IntakeProblem;
 
 export type IntakeStatus = 400 | 413 | 422;
-
-export interface Problem {
-  /** The file's name as uploaded or as named in the recipe. */
-  file: string;
-  /** Spreadsheet row number (header = 1), when the problem sits in one row. */
-  row?: number;
-  /** Column name (as in the header), when the problem sits in one column. */
-  column?: string;
-  /** Stable machine-readable code, e.g. "not_a_number", "ragged_row". */
-  code: string;
-  /** The full sentence shown to people, already naming file, row and column. */
-  message: string;
-}
 
 /** At most this many problems are carried by one error (the count of the rest is kept). */
 export const MAX_PROBLEMS = 100;

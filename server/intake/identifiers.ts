@@ -19,17 +19,10 @@
  * Cost: one profile pass per column (shared with type inference), then
  * O(columns × 200) pattern tests. Never throws.
  */
-import type { IdentifierKind } from "../../contract/views/datasets";
+import type { IdentifierFlag, IdentifierKind } from "../../contract/views/datasets";
 import { isMissing } from "./cells";
 import { profileColumn } from "./columns";
 import type { RawTable } from "./read-table";
-
-export interface IdentifierFlag {
-  column: string;
-  kind: IdentifierKind;
-  /** Why it was flagged, in plain words (never quoting the cells). */
-  reason: string;
-}
 
 const KIND_WORDS: Record<IdentifierKind, string> = {
   name: "personal names",

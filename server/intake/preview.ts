@@ -11,8 +11,13 @@
  * problem remains or an identifier column is neither dropped nor explained.
  * Cost: O(rows × columns).
  */
-import type { ColumnPreview, IdentifierKind } from "../../contract/views/datasets";
-import { IntakeError, ProblemList, problem, type Problem } from "./errors";
+import type {
+  ColumnPreview,
+  DatasetKind,
+  IdentifierKind,
+  TablePreview,
+} from "../../contract/views/datasets";
+import { IntakeError, ProblemList, problem } from "./errors";
 import {
   type BrainLayout,
   type BrainTable,
@@ -22,17 +27,14 @@ import {
 } from "./brain-table";
 import type { ColumnProfile } from "./columns";
 import { findColumn, unknownColumnError } from "./columns";
-import { type IdentifierFlag, findIdentifierColumns } from "./identifiers";
+import { findIdentifierColumns } from "./identifiers";
 import { type ParticipantSheet, analyseParticipantSheet } from "./participant-sheet";
-import {
-  type Delimiter,
-  type RawTable,
-  type ReadOptions,
-  delimiterName,
-  readTable,
-} from "./read-table";
+import { type RawTable, type ReadOptions, delimiterName, readTable } from "./read-table";
 
-export type TableKind = "brain" | "participants";
+/** The kind of table a preview reads (contract/views/datasets.ts). */
+export type TableKind = DatasetKind;
+// The preview's shape is an API view; the intake's users reach it here.
+export type { TablePreview };
 
 /** Rows shown in a preview. */
 export const PREVIEW_ROWS = 20;
@@ -45,30 +47,6 @@ export interface PreviewOptions {
   layout?: BrainLayout;
   /** Brain tables: session column, or null for none. */
   sessionColumn?: string | null;
-}
-
-export interface TablePreview {
-  file: string;
-  kind: TableKind;
-  delimiter: Delimiter;
-  delimiterName: string;
-  rowCount: number;
-  columnCount: number;
-  idColumn: string;
-  idColumnGuessed: boolean;
-  /** Brain tables only. */
-  layout?: BrainLayout;
-  regions?: string[];
-  sessions?: string[];
-  /** Distinct participant ids (brain: across sessions). */
-  participants: number;
-  columns: ColumnPreview[];
-  /** First rows as written, with their spreadsheet row numbers. */
-  rows: { row: number; cells: string[] }[];
-  /** Problems that must be resolved (by type change or drop) before confirming. */
-  problems: Problem[];
-  problemCount: number;
-  identifierColumns: IdentifierFlag[];
 }
 
 export interface Confirmation extends PreviewOptions {

@@ -18,9 +18,8 @@
  * on the whole string), one pass over the records: O(bytes).
  */
 import Papa from "papaparse";
+import type { Delimiter } from "../../contract/views/datasets";
 import { IntakeError, ProblemList, problem } from "./errors";
-
-export type Delimiter = "," | "\t" | ";";
 
 /** 50 MiB: larger uploads are refused with 413. */
 export const DEFAULT_MAX_BYTES = 50 * 1024 * 1024;

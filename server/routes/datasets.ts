@@ -26,7 +26,8 @@ import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import { sharedUploadStorage } from "../http/shared-upload-storage";
 import { DEFAULT_MAX_BYTES, IntakeError, NO_FILE_NAME, cleanFileName, problem } from "../intake";
 import { confirmUpload, getDataset, listDatasets, previewUpload } from "../services/datasets";
-import type { PreviewStore, UploadOptions } from "../services/preview-store";
+import type { UploadOptions } from "../../contract/views/datasets";
+import type { PreviewStore } from "../services/preview-store";
 import type { RouteDeps } from "./deps";
 import { studyParams } from "./studies";
 

@@ -36,36 +36,18 @@ import {
 import type {
   DatasetKind,
   DatasetView,
-  IdentifierDecisionRecord,
   PersonRef,
+  PreviewView,
   RowsPage,
-  StoredColumn,
-} from "../../contract/views/datasets";
-import type {
-  BrainTable,
-  Confirmation,
-  ParticipantSheet,
-  SheetColumn,
   TablePreview,
-} from "../intake";
+  UploadOptions,
+} from "../../contract/views/datasets";
+import type { BrainTable, Confirmation, ParticipantSheet, SheetColumn } from "../intake";
 import { conflict, gone, notFound } from "../http/errors";
 import { type IntakeJobs, intakeJobs } from "../jobs/intake-jobs";
 import { type EncodedVersion, STORED_ROW_COLUMNS, decodeNumbers } from "../jobs/intake-rows";
 import { recordEvent } from "./audit";
-import type { PreviewStore, StoredPreview, UploadOptions } from "./preview-store";
-
-export interface PreviewView extends TablePreview {
-  id: string;
-  studyId: string;
-  status: "preview";
-  fileName: string;
-  sha256: string;
-  byteSize: number;
-  options: UploadOptions;
-  uploadedBy: PersonRef;
-  uploadedAt: string;
-  expiresAt: string;
-}
+import type { PreviewStore, StoredPreview } from "./preview-store";
 
 // ─── Upload and preview ───
 

@@ -20,16 +20,7 @@
  * Cost: O(previews) per sweep.
  */
 import { createHmac, randomBytes, randomUUID, timingSafeEqual } from "node:crypto";
-import type { DatasetKind } from "../../contract/views/datasets";
-import type { TablePreview } from "../intake";
-
-export interface UploadOptions {
-  idColumn?: string;
-  seSuffix?: string;
-  layout?: "wide" | "long";
-  /** null: the brain table has no session column. */
-  sessionColumn?: string | null;
-}
+import type { DatasetKind, TablePreview, UploadOptions } from "../../contract/views/datasets";
 
 export interface StoredPreview {
   id: string;
