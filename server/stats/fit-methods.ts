@@ -1,8 +1,10 @@
 /**
  * One region of a fit: the parametric estimate for every (kind, estimator)
- * pair, the statistic a permutation test rearranges, and the statistic a
- * bootstrap resamples. The orchestrator (run-fit.ts) chooses participants,
- * builds the design and calls these; each function is pure.
+ * pair. The statistic a permutation test rearranges is in
+ * permutation-statistic.ts, the one a bootstrap resamples in
+ * bootstrap-statistic.ts, and what they all receive in region-data.ts. The
+ * fit's estimate stage (fit/estimate.ts) chooses participants, builds the
+ * design and calls these; each function is pure.
  *
  * Conventions:
  * - two-group: estimate = first level − second level; the group column in
@@ -15,9 +17,8 @@
  *   conversion of the robust t), with a Fisher-z interval on n − 3 − k,
  *   k = number of other non-intercept columns (Fisher 1924).
  */
-import { fisherInterval, pearsonR } from "./correlation";
-import { mean, sampleSd, sortedCopy } from "./descriptive";
-import type { Design } from "./design-matrix";
+import { fisherInterval } from "./correlation";
+import { mean, sampleSd } from "./descriptive";
 import { studentTTwoSidedP } from "./distributions";
 import {
   effectSizesFromT,
@@ -26,7 +27,6 @@ import {
   cohensDOneSample,
 } from "./effect-size";
 import { StatsError, require } from "./errors";
-import { walshMedian, differenceMedian } from "./hodges-lehmann";
 import {
   type LinearModelFit,
   type QrDecomposition,
@@ -36,48 +36,12 @@ import {
 } from "./linear-model";
 import { mannWhitneyU } from "./mann-whitney";
 import { averageRanks } from "./ranks";
+import type { RegionData, RegionEstimate } from "./region-data";
 import { percentageBendCorrelation, skippedCorrelation } from "./robust-correlation";
 import { type RobustPsi, robustCoefficientInterval, robustLinearModel } from "./robust-regression";
 import { type SpearmanPMethod, spearmanCorrelation } from "./spearman";
 import { welchTTest } from "./two-sample-t";
 import { wilcoxonSignedRank } from "./wilcoxon-signed-rank";
-
-export type Kind = "one-sample" | "two-group" | "association";
-export type Estimator = "ols" | "welch" | "rank" | "huber" | "bisquare" | "skipped" | "bend";
-
-/** Everything one region's computation needs, already restricted to its participants. */
-export interface RegionData {
-  kind: Kind;
-  estimator: Estimator;
-  /** Contrast values of the included participants. */
-  y: Float64Array;
-  design: Design;
-  /** Index of the tested column in the design. */
-  tested: number;
-  /** Number of covariate columns (non-intercept columns other than the tested one and, for association, the predictor/group terms). */
-  covariateColumns: number;
-  /** association: the predictor's values; two-group: 1 for the first level, 0 for the second. */
-  x: Float64Array | null;
-  /** For association with group (and interaction): 1 for the first level. */
-  groupIndicator: Float64Array | null;
-  level: number;
-}
-
-/** The numbers of a region result computed here (names as in RegionResult). */
-export interface RegionEstimate {
-  estimate: number;
-  se: number | null;
-  statistic: number | null;
-  df: number | null;
-  p: number;
-  ciLow: number | null;
-  ciHigh: number | null;
-  r?: number;
-  rCiLow?: number;
-  rCiHigh?: number;
-  method: string;
-  extras: Record<string, unknown>;
-}
 
 const PSI_NAME: Record<RobustPsi, string> = {
   huber: "Huber M-estimation (k = 1.345)",
@@ -428,262 +392,4 @@ export function estimateRegion(d: RegionData, qr?: QrDecomposition): RegionEstim
     method: "percentage-bend correlation (beta = 0.2)",
     extras: {},
   };
-}
-
-/**
- * The statistic a generic permutation test rearranges for estimators without
- * a linear kernel, with the scheme it needs. Each is centred at 0 under the
- * null hypothesis so the two-sided test compares |T*| with |T|. A
- * rearrangement on which the statistic does not exist (for example a robust
- * scale of 0) counts as at least as extreme as the observed one (+Infinity),
- * which can only make the p-value larger.
- */
-export function permutationStatistic(d: RegionData): {
-  scheme: "sign-flip" | "labels";
-  groupSizes?: [number, number];
-  /** "labels" with two groups: the participant (row of the region) each slot of `order` stands for */
-  slots?: Int32Array;
-  statistic: (order: Int32Array, signs: Float64Array) => number;
-  name: string;
-} {
-  const { kind, estimator, y } = d;
-  const n = y.length;
-  if (kind === "one-sample") {
-    if (estimator === "rank") {
-      const nonZero: number[] = [];
-      for (let i = 0; i < n; i++) if (y[i] !== 0) nonZero.push(i);
-      const abs = Float64Array.from(nonZero, (i) => Math.abs(y[i]));
-      const ranks = rankOf(abs);
-      const m = nonZero.length;
-      return {
-        scheme: "sign-flip",
-        name: "signed-rank V − n(n+1)/4",
-        statistic: (_order, signs) => {
-          let v = 0;
-          for (let k = 0; k < m; k++) if (y[nonZero[k]] * signs[nonZero[k]] > 0) v += ranks[k];
-          return v - (m * (m + 1)) / 4;
-        },
-      };
-    }
-    const psi = estimator as RobustPsi;
-    const ones = new Float64Array(n).fill(1);
-    return {
-      scheme: "sign-flip",
-      name: "robust location t",
-      statistic: (_order, signs) => {
-        const z = new Float64Array(n);
-        for (let i = 0; i < n; i++) z[i] = y[i] * signs[i];
-        try {
-          return robustLinearModel(ones, n, 1, z, { psi }).t[0];
-        } catch (e) {
-          if (e instanceof StatsError) return Number.POSITIVE_INFINITY;
-          throw e;
-        }
-      },
-    };
-  }
-  if (kind === "two-group") {
-    const ind = d.x as Float64Array;
-    const first: number[] = [];
-    const second: number[] = [];
-    for (let i = 0; i < n; i++) (ind[i] === 1 ? first : second).push(i);
-    const units = first.concat(second); // identity order: first group, then second
-    const n1 = first.length;
-    const values = Float64Array.from(units, (i) => y[i]);
-    const pick = (order: Int32Array): [Float64Array, Float64Array] => {
-      const a = new Float64Array(n1);
-      const b = new Float64Array(n - n1);
-      for (let k = 0; k < n; k++) {
-        if (k < n1) a[k] = values[order[k]];
-        else b[k - n1] = values[order[k]];
-      }
-      return [a, b];
-    };
-    if (estimator === "welch") {
-      return {
-        scheme: "labels",
-        groupSizes: [n1, n - n1],
-        slots: Int32Array.from(units),
-        name: "Welch t",
-        statistic: (order) => {
-          const [a, b] = pick(order);
-          try {
-            return welchTTest(a, b).t;
-          } catch (e) {
-            if (e instanceof StatsError) return Number.POSITIVE_INFINITY;
-            throw e;
-          }
-        },
-      };
-    }
-    if (estimator === "rank") {
-      const ranks = rankOf(values);
-      return {
-        scheme: "labels",
-        groupSizes: [n1, n - n1],
-        slots: Int32Array.from(units),
-        name: "Mann–Whitney U − n1·n2/2",
-        statistic: (order) => {
-          let w = 0;
-          for (let k = 0; k < n1; k++) w += ranks[order[k]];
-          return w - (n1 * (n1 + 1)) / 2 - (n1 * (n - n1)) / 2;
-        },
-      };
-    }
-    const psi = estimator as RobustPsi;
-    return {
-      scheme: "labels",
-      groupSizes: [n1, n - n1],
-      slots: Int32Array.from(units),
-      name: "robust t of the group difference",
-      statistic: (order) => {
-        const x = new Float64Array(n * 2);
-        const z = new Float64Array(n);
-        for (let k = 0; k < n; k++) {
-          x[k * 2] = 1;
-          x[k * 2 + 1] = k < n1 ? 1 : 0;
-          z[k] = values[order[k]];
-        }
-        try {
-          return robustLinearModel(x, n, 2, z, { psi }).t[1];
-        } catch (e) {
-          if (e instanceof StatsError) return Number.POSITIVE_INFINITY;
-          throw e;
-        }
-      },
-    };
-  }
-  // association: rearrange the contrast values against the predictor
-  const x = d.x as Float64Array;
-  const permuted = (order: Int32Array): Float64Array => {
-    const z = new Float64Array(n);
-    for (let k = 0; k < n; k++) z[k] = y[order[k]];
-    return z;
-  };
-  const guard = (f: () => number): number => {
-    try {
-      return f();
-    } catch (e) {
-      if (e instanceof StatsError) return Number.POSITIVE_INFINITY;
-      throw e;
-    }
-  };
-  if (estimator === "rank") {
-    const rx = rankOf(x);
-    const ry = rankOf(y);
-    return {
-      scheme: "labels",
-      name: "Spearman rho",
-      statistic: (order) =>
-        pearsonR(
-          rx,
-          Float64Array.from(order, (k) => ry[k]),
-        ) ?? Number.POSITIVE_INFINITY,
-    };
-  }
-  if (estimator === "skipped") {
-    return {
-      scheme: "labels",
-      name: "skipped correlation r",
-      statistic: (order) => guard(() => skippedCorrelation(x, permuted(order)).r),
-    };
-  }
-  if (estimator === "bend") {
-    return {
-      scheme: "labels",
-      name: "percentage-bend r",
-      statistic: (order) => guard(() => percentageBendCorrelation(x, permuted(order)).r),
-    };
-  }
-  const psi = estimator as RobustPsi;
-  const design = d.design;
-  return {
-    scheme: "labels",
-    name: "robust t of the slope",
-    statistic: (order) =>
-      guard(
-        () => robustLinearModel(design.x, design.n, design.p, permuted(order), { psi }).t[d.tested],
-      ),
-  };
-}
-
-/**
- * The estimate on a bootstrap resample (participants drawn with
- * replacement); NaN where the estimate does not exist on that resample (the
- * bootstrap leaves such resamples out and counts them).
- */
-export function bootstrapStatistic(d: RegionData): (indices: Int32Array) => number {
-  const { kind, estimator, y, design } = d;
-  const p = design.p;
-  const rowsOf = (indices: Int32Array) => {
-    const m = indices.length;
-    const x = new Float64Array(m * p);
-    const z = new Float64Array(m);
-    for (let k = 0; k < m; k++) {
-      const i = indices[k];
-      z[k] = y[i];
-      for (let j = 0; j < p; j++) x[k * p + j] = design.x[i * p + j];
-    }
-    return { x, z, m };
-  };
-  const guard = (f: () => number): number => {
-    try {
-      const v = f();
-      return Number.isFinite(v) ? v : Number.NaN;
-    } catch (e) {
-      if (e instanceof StatsError) return Number.NaN;
-      throw e;
-    }
-  };
-  if (kind === "one-sample" && estimator === "rank") {
-    return (indices) => walshMedian(sortedCopy(Float64Array.from(indices, (i) => y[i])));
-  }
-  if (kind === "two-group" && estimator === "rank") {
-    const ind = d.x as Float64Array;
-    return (indices) => {
-      const a: number[] = [];
-      const b: number[] = [];
-      for (const i of indices) (ind[i] === 1 ? a : b).push(y[i]);
-      if (a.length === 0 || b.length === 0) return Number.NaN;
-      return differenceMedian(sortedCopy(a), sortedCopy(b));
-    };
-  }
-  if (
-    kind === "association" &&
-    (estimator === "rank" || estimator === "skipped" || estimator === "bend")
-  ) {
-    const x = d.x as Float64Array;
-    return (indices) =>
-      guard(() => {
-        const xs = Float64Array.from(indices, (i) => x[i]);
-        const ys = Float64Array.from(indices, (i) => y[i]);
-        if (estimator === "rank") return pearsonR(rankOf(xs), rankOf(ys)) ?? Number.NaN;
-        if (estimator === "skipped") return skippedCorrelation(xs, ys).r;
-        return percentageBendCorrelation(xs, ys).r;
-      });
-  }
-  if (estimator === "huber" || estimator === "bisquare") {
-    return (indices) =>
-      guard(() => {
-        const { x, z, m } = rowsOf(indices);
-        return robustLinearModel(x, m, p, z, { psi: estimator }).coefficients[d.tested];
-      });
-  }
-  // ols and welch: the least-squares coefficient (for two groups without covariates, the difference of means)
-  return (indices) =>
-    guard(() => {
-      const { x, z, m } = rowsOf(indices);
-      if (m <= p) return Number.NaN;
-      return solveLinearModel(qrDecompose(x, m, p, undefined, { thin: false }), z).coefficients[
-        d.tested
-      ];
-    });
-}
-
-/** Percentile-bootstrap two-sided p-value of H0: θ = 0, 2·min(A, 1 − A) with A = share of θ* below 0 (ties one half) (Wilcox 2012, §4.4.4 style). */
-export function bootstrapP(distribution: Float64Array): number {
-  let below = 0;
-  for (const v of distribution) below += v < 0 ? 1 : v === 0 ? 0.5 : 0;
-  const a = below / distribution.length;
-  return Math.min(1, 2 * Math.min(a, 1 - a));
 }

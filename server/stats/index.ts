@@ -33,5 +33,8 @@ export * from "./attenuation";
 export * from "./power";
 export * from "./permutation";
 export * from "./bootstrap";
+export * from "./region-data";
 export * from "./fit-methods";
+export * from "./permutation-statistic";
+export * from "./bootstrap-statistic";
 export * from "./run-fit";

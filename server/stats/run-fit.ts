@@ -61,7 +61,7 @@
  * notes.ts (the plain-words notes); reliability.ts runs a reliability fit.
  */
 import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../../contract/spec";
-import type { Kind } from "./fit-methods";
+import type { Kind } from "./region-data";
 import type { QrDecomposition } from "./linear-model";
 import { FIT_LEVEL, type RunFitOptions, assertFinite, cancelled, inRegion } from "./fit/common";
 import { diagnoseRegion } from "./fit/diagnose";

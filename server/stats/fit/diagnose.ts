@@ -12,8 +12,9 @@ import type { ParticipantDiagnostics, RegionResult } from "../../../contract/spe
 import { leaveOneOutCorrelations } from "../compare-correlations";
 import { type DiagnosticsResult, regressionDiagnostics } from "../diagnostics";
 import { StatsError } from "../errors";
-import { type RegionData, estimateRegion, olsFit } from "../fit-methods";
+import { estimateRegion, olsFit } from "../fit-methods";
 import { type LinearModelFit, type QrDecomposition, unscaledCovariance } from "../linear-model";
+import type { RegionData } from "../region-data";
 import { type RegionWork, designFor } from "./estimate";
 import type { Prepared } from "./prepare";
 

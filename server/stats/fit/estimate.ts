@@ -8,9 +8,10 @@
  */
 import type { RegionResult } from "../../../contract/spec";
 import { type Design, type DesignTerm, buildDesign } from "../design-matrix";
-import { type Estimator, type Kind, type RegionData, estimateRegion } from "../fit-methods";
+import { estimateRegion } from "../fit-methods";
 import { type QrDecomposition, qrDecompose } from "../linear-model";
 import { weightedLinearModel } from "../meta-regression";
+import type { Estimator, Kind, RegionData } from "../region-data";
 import { FIT_LEVEL } from "./common";
 import { type Prepared, regionRows } from "./prepare";
 

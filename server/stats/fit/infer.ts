@@ -9,9 +9,10 @@
  */
 import type { RegionResult } from "../../../contract/spec";
 import { bootstrapInterval } from "../bootstrap";
+import { bootstrapP, bootstrapStatistic } from "../bootstrap-statistic";
 import { adjustPValues } from "../corrections";
-import { bootstrapP, bootstrapStatistic, permutationStatistic } from "../fit-methods";
 import { sharedGenericPermutationTest, sharedLinearPermutationTest } from "../permutation";
+import { permutationStatistic } from "../permutation-statistic";
 import { extremeThreshold } from "../rearrangements";
 import { createRng } from "../rng";
 import { FIT_LEVEL, type RunFitOptions, cancelled, inRegion } from "./common";

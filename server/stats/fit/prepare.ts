@@ -19,7 +19,7 @@ import {
 import { type FitData, type ModelSpec, modelSpecSchema } from "../../../contract/spec";
 import { compareCodePoints } from "../design-matrix";
 import { StatsError } from "../errors";
-import type { Kind } from "../fit-methods";
+import type { Kind } from "../region-data";
 import { fail } from "./common";
 
 export type Covariate =
