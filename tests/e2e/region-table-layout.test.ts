@@ -82,7 +82,11 @@ async function runFit(studyId: string, modelId: string): Promise<string> {
   }
 }
 
-async function inventedFit(label: string, count: number): Promise<void> {
+async function inventedFit(
+  label: string,
+  count: number,
+  regionSelection: "anatomical-or-prior" | "same-data",
+): Promise<void> {
   const study = (await owner("/api/studies", {
     method: "POST",
     body: { name: `${count} regions with long names` },
@@ -103,7 +107,7 @@ async function inventedFit(label: string, count: number): Promise<void> {
     method: "POST",
     body: {
       name: `Task effect in ${count} regions`,
-      regionSelection: "anatomical-or-prior",
+      regionSelection,
       spec: { kind: "one-sample", correction: "bh" },
     },
   })) as { id: string };
@@ -132,8 +136,9 @@ beforeAll(async () => {
     fitId: await runFit(demoStudy, model.id),
     estimate: "Slope",
   });
-  await inventedFit("10-regions", 10);
-  await inventedFit("400-regions", 400);
+  // Regions chosen from the same data: the fit carries the long circularity caution.
+  await inventedFit("10-regions", 10, "same-data");
+  await inventedFit("400-regions", 400, "anatomical-or-prior");
 });
 
 async function signIn(page: Page): Promise<void> {
@@ -312,8 +317,24 @@ for (const [size, viewport] of [
         await page.goto(`${e2e.server.url}/studies/${fit.studyId}/fits/${fit.fitId}`);
         await page.getByTestId("region-table").waitFor({ timeout: 60_000 });
         // The header and its N fit in the first screen.
-        const header = await boxOf(page.getByTestId("fit-plain-words"));
-        expect(header.y + header.height).toBeLessThanOrEqual(viewport.height);
+        for (const id of ["fit-stage", "fit-plain-words", "fit-set-aside-count"]) {
+          const box = await boxOf(page.getByTestId(id));
+          expect(inside(box, viewport), `${id} in the first screen`).toBe(true);
+        }
+        if (fit.label === "10-regions") {
+          // The long caution takes one line, with "more" for the rest.
+          const caution = page.getByTestId("fit-circularity");
+          const collapsed = await boxOf(caution);
+          expect(inside(collapsed, viewport)).toBe(true);
+          expect(collapsed.height).toBeLessThanOrEqual(48);
+          await caution
+            .getByRole("button", { name: "Read the whole caution on region selection" })
+            .click();
+          expect((await boxOf(caution)).height).toBeGreaterThan(collapsed.height);
+          await caution
+            .getByRole("button", { name: "Show less of the caution on region selection" })
+            .click();
+        }
         await screenshot(page, `region-layout-${fit.label}-top-${size}`);
         await checkKeyColumns(page, viewport, fit.estimate);
         await screenshot(page, `region-layout-${fit.label}-table-${size}`);
