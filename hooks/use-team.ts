@@ -1,34 +1,15 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { apiFetch, jsonBody } from "./api";
-import type { Role } from "./use-studies";
+import type { Role } from "../contract/permissions";
+import type {
+  InvitationPreview,
+  MemberView as Member,
+  InvitationView as PendingInvitation,
+} from "../contract/views/team";
 import { studyKeys } from "./use-studies";
 
-export interface Member {
-  userId: string;
-  email: string | null;
-  name: string | null;
-  role: Role;
-  joinedAt: string;
-}
-
-export interface PendingInvitation {
-  id: string;
-  email: string;
-  role: Role;
-  status: string;
-  invitedBy: { id: string; name: string | null; email: string | null };
-  createdAt: string;
-  expiresAt: string;
-}
-
-export interface InvitationPreview {
-  studyName: string;
-  email: string;
-  role: Role;
-  status: "pending" | "accepted" | "revoked" | "expired" | string;
-  invitedBy: { name: string | null; email: string | null };
-  expiresAt: string;
-}
+// The API's own view types, shared with the server (contract/views/team.ts).
+export type { InvitationPreview, Member, PendingInvitation };
 
 export const teamKeys = {
   all: (studyId: string) => ["team", studyId] as const,

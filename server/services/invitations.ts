@@ -18,24 +18,17 @@ import {
   type Study,
 } from "../../db/schema";
 import type { Role } from "../../contract/permissions";
+import type {
+  InvitationPreview,
+  InvitationStatus,
+  InvitationView,
+} from "../../contract/views/team";
 import { conflict, forbidden, HttpError, notFound } from "../http/errors";
 import { assertNotArchived } from "../auth/permissions";
 import { recordEvent } from "./audit";
 import { linkMail, type Mailer } from "./mailer";
 
 export const invitationLifetimeMs = 7 * 24 * 60 * 60 * 1000;
-
-export type InvitationStatus = "pending" | "accepted" | "revoked" | "expired";
-
-export interface InvitationView {
-  id: string;
-  email: string;
-  role: Role;
-  status: InvitationStatus;
-  invitedBy: { id: string; name: string | null; email: string | null };
-  createdAt: string;
-  expiresAt: string;
-}
 
 export function hashToken(token: string): string {
   return createHash("sha256").update(token).digest("hex");
@@ -222,15 +215,6 @@ export async function revoke(
       at: now,
     });
   });
-}
-
-export interface InvitationPreview {
-  studyName: string;
-  email: string;
-  role: Role;
-  status: InvitationStatus;
-  invitedBy: { name: string | null; email: string | null };
-  expiresAt: string;
 }
 
 async function findByToken(db: Queryable, token: string) {

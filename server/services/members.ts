@@ -9,15 +9,8 @@ import type { Database, Queryable } from "../../db/client";
 import type { Role } from "../../contract/permissions";
 import { memberships, users } from "../../db/schema";
 import { conflict, notFound } from "../http/errors";
+import type { MemberView } from "../../contract/views/team";
 import { recordEvent } from "./audit";
-
-export interface MemberView {
-  userId: string;
-  email: string | null;
-  name: string | null;
-  role: Role;
-  joinedAt: string;
-}
 
 const roleOrder: Record<Role, number> = { owner: 0, analyst: 1, reviewer: 2, viewer: 3 };
 
