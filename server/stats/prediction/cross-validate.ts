@@ -190,11 +190,11 @@ export function crossValidatedPrediction(
     }
     if (options.learningCurve) {
       learningCurveFold(data, y, split, fitOptions, curveRng, (f, rows, fitted) => {
+        curveRows[f] = Math.min(curveRows[f], rows);
         if (fitted === null) {
           curveFailed[f] = true;
           return;
         }
-        curveRows[f] = Math.min(curveRows[f], rows);
         for (let i = 0; i < fitted.observed.length; i++)
           curveSums[f][split.repeat].add(fitted.observed[i], fitted.predicted[i]);
       });
