@@ -8,7 +8,8 @@
  * 10/200 = .05 when the rearrangements are exchangeable (Phipson & Smyth 2010).
  */
 import { describe, expect, it } from "vitest";
-import { genericPermutationTest, linearPermutationTest } from "../../../server/stats/permutation";
+import { genericPermutationTest } from "../../../server/stats/generic-permutation";
+import { linearPermutationTest } from "../../../server/stats/permutation";
 import { createRng, normalDraw, type Rng } from "../../../server/stats/rng";
 
 const DATASETS = 400;

@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { StatsError } from "../../../server/stats/errors";
-import { genericPermutationTest, linearPermutationTest } from "../../../server/stats/permutation";
+import { genericPermutationTest } from "../../../server/stats/generic-permutation";
+import { linearPermutationTest } from "../../../server/stats/permutation";
 import { createRearranger } from "../../../server/stats/rearrangements";
 import { createRng, normalDraw } from "../../../server/stats/rng";
 import {

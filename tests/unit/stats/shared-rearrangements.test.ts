@@ -9,9 +9,9 @@
  * & Young 1993, single-step max-T).
  */
 import { describe, expect, it } from "vitest";
+import { sharedGenericPermutationTest } from "../../../server/stats/generic-permutation";
 import {
   linearPermutationTest,
-  sharedGenericPermutationTest,
   sharedLinearPermutationTest,
 } from "../../../server/stats/permutation";
 import {
