@@ -27,8 +27,8 @@ export function MailboxScreen() {
         ) : mail.data.length === 0 ? (
           <Empty title="No messages yet" />
         ) : (
-          mail.data.map((message, index) => (
-            <Card key={message.id ?? `${message.sentAt}-${index}`} testID="mail-message">
+          mail.data.map((message) => (
+            <Card key={message.id} testID="mail-message">
               <Txt kind="label">{message.subject}</Txt>
               <Txt kind="caption">
                 To {message.to} · {new Date(message.sentAt).toLocaleString()}

@@ -4,20 +4,10 @@
  */
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { apiBase, apiFetch, ApiError } from "./api";
+import type { AuthOptions, DemoAccount } from "../contract/views/system";
 import { meKeys } from "./use-me";
 
-export interface DemoAccount {
-  email: string;
-  role: string;
-  name: string;
-}
-
-export interface AuthOptions {
-  email: { providerId: string } | null;
-  institution: { providerId: string; name: string } | null;
-  demoAccounts: DemoAccount[];
-  mailbox: boolean;
-}
+export type { AuthOptions, DemoAccount };
 
 export const authKeys = {
   options: ["auth-options"] as const,

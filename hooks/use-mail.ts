@@ -1,14 +1,8 @@
 import { queryOptions, useQuery } from "@tanstack/react-query";
+import type { MailMessage } from "../contract/views/system";
 import { apiFetch } from "./api";
 
-export interface MailMessage {
-  id?: string;
-  to: string;
-  subject: string;
-  text: string;
-  html?: string | null;
-  sentAt: string;
-}
+export type { MailMessage };
 
 export const mailKeys = {
   all: ["dev-mail"] as const,

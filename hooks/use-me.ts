@@ -1,11 +1,8 @@
 import { queryOptions, useQuery } from "@tanstack/react-query";
+import type { Me } from "../contract/views/system";
 import { ApiError, apiFetch } from "./api";
 
-export interface Me {
-  id: string;
-  email: string;
-  name: string | null;
-}
+export type { Me };
 
 export const meKeys = {
   all: ["me"] as const,

@@ -8,15 +8,10 @@
 import type { AddressInfo } from "node:net";
 import { simpleParser, type AddressObject } from "mailparser";
 import { SMTPServer } from "smtp-server";
+import type { MailMessage } from "../../contract/views/system";
 
-export interface CaughtMail {
-  id: string;
-  to: string;
-  subject: string;
-  text: string;
-  html: string | null;
-  sentAt: string;
-}
+/** A caught message, as GET /api/dev/mail answers it (contract/views/system.ts). */
+export type CaughtMail = MailMessage;
 
 export interface MailFake {
   readonly host: string;

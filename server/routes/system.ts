@@ -15,6 +15,7 @@ import { emailProviderId, institutionProviderId } from "../auth/auth-config";
 import { signedInUser } from "../auth/session";
 import { z } from "zod";
 import { preferenceKeys, preferenceSchemas } from "../../contract/preferences";
+import type { AuthOptions, Me } from "../../contract/views/system";
 import { HttpError, describeDetails, zodDetails } from "../http/errors";
 import { noQuery, parsed, validate } from "../http/validate";
 import { clearPreference, readPreferences, writePreference } from "../services/preferences";
@@ -40,7 +41,7 @@ export function systemRoutes(deps: RouteDeps): Router {
     validate({ query: noQuery }),
     (_req, res) => {
       const demo = deps.config.demo && deps.config.devServices;
-      res.json({
+      const options: AuthOptions = {
         email: { providerId: emailProviderId },
         institution: deps.institution
           ? { providerId: institutionProviderId, name: deps.institution.name }
@@ -49,12 +50,14 @@ export function systemRoutes(deps: RouteDeps): Router {
           ? demoPeople.map((p) => ({ email: p.email, role: p.role, name: p.name }))
           : [],
         mailbox: deps.mailbox !== null,
-      });
+      };
+      res.json(options);
     },
   );
   router.get("/me", authorize("me.read"), validate({ query: noQuery }), (_req, res) => {
     const user = signedInUser(res);
-    res.json({ id: user.id, email: user.email, name: user.name });
+    const me: Me = { id: user.id, email: user.email, name: user.name };
+    res.json(me);
   });
 
   router.get(
