@@ -28,9 +28,9 @@ export interface ConfoundFit {
 
 /**
  * Fits [1, covariates] on the training rows `train` (indices into the
- * participant arrays). Throws StatsError (from the QR) naming a covariate
- * that is constant or collinear on the training rows, or when there are not
- * more training rows than design columns.
+ * participant arrays). Throws StatsError naming a covariate that is constant
+ * or collinear on the training rows, or when there are not more training
+ * rows than design columns.
  */
 export function fitConfounds(
   covariates: readonly Float64Array[],
@@ -49,8 +49,17 @@ export function fitConfounds(
     design[i * q] = 1;
     for (let c = 1; c < q; c++) design[i * q + c] = covariates[c - 1][train[i]];
   }
-  const names = ["intercept", ...covariateNames.map((name) => `covariate '${name}'`)];
-  const qr = qrDecompose(design, nt, q, names);
+  const names = ["intercept", ...covariateNames];
+  let qr: ReturnType<typeof qrDecompose>;
+  try {
+    qr = qrDecompose(design, nt, q, names);
+  } catch (error) {
+    const column = error instanceof StatsError ? /column '(.*)' is/.exec(error.message) : null;
+    if (!column) throw error;
+    throw new StatsError(
+      `covariate '${column[1]}' is constant or a linear combination of the other covariates in a training fold`,
+    );
+  }
   const heldDesign = new Float64Array(held.length * q);
   for (let i = 0; i < held.length; i++) {
     heldDesign[i * q] = 1;

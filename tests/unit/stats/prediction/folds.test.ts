@@ -154,6 +154,21 @@ describe("crossValidatedPrediction with seeded k-fold splits", () => {
       () => crossValidatedPrediction({ ...data, X }, base),
       "region 'R3' has a missing or non-finite value for participant 'P008'",
     );
+    expectError(
+      () =>
+        crossValidatedPrediction(
+          {
+            ...data,
+            covariates: [
+              data.covariates[0],
+              Float64Array.from(data.covariates[0], (v) => 2 * v + 1),
+            ],
+            covariateNames: ["age", "age in half-years"],
+          },
+          base,
+        ),
+      "covariate 'age in half-years' is constant or a linear combination of the other covariates in a training fold",
+    );
     const flat = data.X.map((x) => Float64Array.from(x));
     flat[1].fill(4);
     expectError(
