@@ -6,10 +6,9 @@
  * its field paths for other callers.
  */
 
-export interface ValidationDetail {
-  field: string;
-  message: string;
-}
+import type { ValidationDetail } from "../contract/views/errors";
+
+export type { ValidationDetail };
 
 /** Whole sentences for fields a person types into, by the field's last name. */
 const fieldSentences: Record<string, string> = {

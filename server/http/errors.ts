@@ -11,7 +11,7 @@
  */
 import type { ErrorRequestHandler, RequestHandler } from "express";
 import { ZodError } from "zod";
-import type { ErrorBody } from "../../contract/views/errors";
+import type { ErrorBody, ValidationDetail } from "../../contract/views/errors";
 import { IntakeError } from "../intake/errors";
 import { StatsError } from "../stats/errors";
 
@@ -41,7 +41,7 @@ export const conflict = (message: string, details?: unknown) =>
 export const gone = (message: string) => new HttpError(410, "gone", message);
 
 /** Turns a zod error into a list of `{ path, message }` naming each bad field. */
-export function zodDetails(error: ZodError, where: string): { field: string; message: string }[] {
+export function zodDetails(error: ZodError, where: string): ValidationDetail[] {
   return error.issues.map((issue) => ({
     field: [where, ...issue.path.map(String)].join("."),
     message: issue.message,
@@ -104,7 +104,7 @@ export function toErrorResponse(error: unknown): { status: number; body: ErrorBo
   };
 }
 
-export function describeDetails(details: readonly { field: string; message: string }[]): string {
+export function describeDetails(details: readonly ValidationDetail[]): string {
   return details.map((d) => `${d.field}: ${d.message}`).join("; ");
 }
 
