@@ -4,7 +4,7 @@
  * ceiling that unreliability puts on the observed correlation.
  */
 import { StatsError } from "./errors";
-import { normalQuantile } from "./measurement-distributions";
+import { normalQuantile } from "./distributions";
 
 export interface AttenuationInput {
   /** Observed Pearson correlation, −1 < r < 1. */

@@ -3,7 +3,7 @@
  * intraclass correlations from a participants × sessions matrix.
  */
 import { StatsError } from "./errors";
-import { fQuantile, fUpper } from "./measurement-distributions";
+import { fQuantile, fUpper } from "./distributions";
 
 export interface IntraclassCorrelation {
   value: number;

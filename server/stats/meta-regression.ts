@@ -12,13 +12,8 @@
  * (residual heterogeneity), se_i² their measurement noise.
  */
 import { StatsError } from "./errors";
-import {
-  findRoot,
-  normalCdf,
-  normalQuantile,
-  studentTQuantile,
-  studentTTwoSided,
-} from "./measurement-distributions";
+import { normalCdf, normalQuantile, studentTQuantile, studentTTwoSidedP } from "./distributions";
+import { findRoot } from "./roots";
 
 export type Tau2Method = "dl" | "reml";
 export type SmallSampleAdjustment = "none" | "knapp-hartung";
@@ -463,7 +458,7 @@ export function weightedLinearModel(input: WeightedLinearModelInput): WeightedLi
     pValue = 2 * normalCdf(-Math.abs(statistic));
     half = normalQuantile(0.5 + level / 2) * se;
   } else {
-    pValue = studentTTwoSided(statistic, df);
+    pValue = studentTTwoSidedP(statistic, df);
     half = studentTQuantile(0.5 + level / 2, df) * se;
   }
 

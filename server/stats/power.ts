@@ -6,10 +6,11 @@
 import { StatsError } from "./errors";
 import {
   noncentralTCdf,
+  noncentralTUpper,
   normalCdf,
   normalQuantile,
   studentTQuantile,
-} from "./measurement-distributions";
+} from "./distributions";
 import { type Rng, normalPairs } from "./rng";
 
 export type PowerDesign = "correlation" | "two-group" | "one-sample";
@@ -121,7 +122,7 @@ function correlationPower(r: number, n: number, alpha: number): number {
 /** Exact power of a two-sided t test: P(|T| > t_c) with T noncentral t(df, δ). */
 function tTestPower(df: number, ncp: number, alpha: number): number {
   const tc = studentTQuantile(1 - alpha / 2, df);
-  const upper = 1 - noncentralTCdf(tc, df, ncp);
+  const upper = noncentralTUpper(tc, df, ncp);
   const lower = noncentralTCdf(-tc, df, ncp);
   return Math.min(1, Math.max(0, upper + lower));
 }

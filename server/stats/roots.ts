@@ -79,3 +79,16 @@ export function brentRoot(
   }
   return b;
 }
+
+/**
+ * Brent's root finder on a bracketing interval [a, b], to machine precision:
+ * `brentRoot` with no absolute tolerance, so the relative tolerance is about
+ * 2·ε. Throws StatsError naming `name` when [a, b] does not bracket a root.
+ */
+export function findRoot(f: (x: number) => number, a0: number, b0: number, name: string): number {
+  const fa = f(a0);
+  const fb = f(b0);
+  if (!(fa === 0 || fb === 0 || fa * fb < 0))
+    throw new StatsError(`${name} could not bracket the solution`);
+  return brentRoot(f, a0, b0, 1e-300, 300);
+}
