@@ -16,10 +16,10 @@
  * training-set sizes (Hastie et al. §7.10, Fig. 7.8).
  */
 import { StatsError } from "../errors";
-import { createRearranger, TIE_TOLERANCE } from "../rearrangements";
+import { createRearranger, shuffleInPlace, TIE_TOLERANCE } from "../rearrangements";
 import { createRng } from "../rng";
 import { fitFold, minimumTrainingRows, type PredictionData, prepareFold } from "./fold-pipeline";
-import { crossValidationSplits, type Split, shuffleInPlace } from "./folds";
+import { crossValidationSplits, type Split } from "./folds";
 import { meanOrNull, ScoreSums, type Scores, scorePairs, sdOrNull } from "./scores";
 import { validatePrediction } from "./validate";
 

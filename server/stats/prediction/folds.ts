@@ -7,11 +7,12 @@
  * so that each fold keeps the group proportions (Kohavi 1995, "A study of
  * cross-validation and bootstrap for accuracy estimation and model
  * selection", IJCAI, §3); repeated with fresh random partitions (Varoquaux et
- * al. 2017, NeuroImage 145:166–179). Shuffles are Fisher–Yates draws
- * (Durstenfeld 1964, CACM 7:420) from the project's generator, so the splits
+ * al. 2017, NeuroImage 145:166–179). Shuffles are the engine's Fisher–Yates
+ * draws (rearrangements.ts) from the project's generator, so the splits
  * depend only on the seed.
  */
 import { StatsError } from "../errors";
+import { shuffleInPlace } from "../rearrangements";
 import type { Rng } from "../rng";
 
 /** One training/held-out split; indices are sorted ascending. */
@@ -34,16 +35,6 @@ export interface FoldOptions {
   /** Group label per unit (null is a label of its own); stratifies k-fold splits. */
   group?: readonly (string | null)[];
   rng: Rng;
-}
-
-/** Durstenfeld's in-place Fisher–Yates shuffle. Cost O(n). */
-export function shuffleInPlace(a: Int32Array, rng: Rng): void {
-  for (let i = a.length - 1; i > 0; i--) {
-    const j = rng.int(i + 1);
-    const t = a[i];
-    a[i] = a[j];
-    a[j] = t;
-  }
 }
 
 /**
