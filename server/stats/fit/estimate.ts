@@ -15,6 +15,7 @@ import type { Estimator, Kind, RegionData } from "../region-data";
 import { FIT_LEVEL } from "./common";
 import { type Prepared, regionRows } from "./prepare";
 
+/** One region after the estimate stage: what the diagnose and infer stages work on. */
 export interface RegionWork {
   r: number;
   name: string;
@@ -89,6 +90,14 @@ export function estimateRegionWork(
   return { r, name, rows, data: regionData, qr, result };
 }
 
+/**
+ * The design of a region on the given participants (buildDesign in
+ * design-matrix.ts): intercept, the tested term (group indicator of the first
+ * level, the predictor, or predictor × group), then the covariates (numeric
+ * ones mean-centred for one sample). Returns the index of the tested column,
+ * the number of covariate columns, the predictor or group values and, for an
+ * association with a group, the group indicator.
+ */
 export function designFor(
   prep: Prepared,
   rows: readonly number[],
@@ -166,6 +175,7 @@ export function designFor(
   };
 }
 
+/** The result of a region weighted by first-level standard errors: the weighted meta-regression with τ² (meta-regression.ts). */
 function weightedRegion(prep: Prepared, r: number, rows: number[], d: RegionData): RegionResult {
   const se = prep.data.standardErrors?.[r] as Float64Array;
   const p = d.design.p;
