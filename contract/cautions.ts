@@ -152,3 +152,18 @@ export function associationPaperCaution(maxN: number): PaperCaution | null {
     references: smallSampleReferences,
   };
 }
+
+// ─── Prediction: weights and in-sample scores ───
+
+/** Title of the prediction fit's caution on screens. */
+export const predictionCautionTitle = "Reading a prediction";
+
+/**
+ * Shown with every prediction fit (fit screen): the region weights of a
+ * model that combines correlated regions cannot be read one by one (Haufe
+ * et al. 2014, NeuroImage 87:96–110), and in-sample correlations overstate
+ * how well a brain measure predicts a trait in new people (Poldrack,
+ * Huckins & Varoquaux 2020).
+ */
+export const predictionCaution =
+  "Report the held-out scores: a correlation computed on the same people a model was fitted to overstates how well it predicts new people. The weights show how the model combines the regions, not what each region does on its own: with correlated regions a weight can be large, small or of either sign for reasons that have nothing to do with that region's link to the trait (Haufe et al. 2014, NeuroImage 87:96–110).";
