@@ -29,8 +29,9 @@
 import { StatsError } from "../errors";
 import { checkDf, checkNumber, checkProbability } from "./arguments";
 import { incompleteBeta, logBetaFront } from "./beta";
-import { logGammaFront, type Tails } from "./gamma";
-import { normalCdf, normalQuantile } from "./normal";
+import { bd0, logGamma, logGammaFront, stirlingCorrection, type Tails } from "./gamma";
+import { logNormalUpper, normalCdf, normalHazard, normalQuantile } from "./normal";
+import { gaussLegendre16 } from "./quadrature";
 import { solveTail } from "./solve";
 
 const TOLERANCE = 1e-17;
@@ -134,8 +135,73 @@ function tailsPositive(t: number, df: number, ncp: number): Tails {
     }
   }
   const lower = Math.min(1, normalCdf(-ncp) + lowerSum);
-  const upper = Math.min(1, Math.max(0, upperSum));
+  let upper = Math.min(1, Math.max(0, upperSum));
+  // With δ < 0 the upper sum has terms of both signs; where it is small, integrate instead.
+  if (ncp < 0 && df >= 1 && upper < 0.01) upper = upperByQuadrature(t, df, ncp);
   return { lower, upper };
+}
+
+/** log of the density of S = √(V/ν), V chi-square on ν ≥ 1 df, at s > 0, without cancellation for large ν. */
+function logScaleDensity(s: number, df: number): number {
+  const h = df / 2;
+  if (h < 10) return Math.LN2 + h * Math.log(h) - logGamma(h) + (df - 1) * Math.log(s) - h * s * s;
+  // Stirling: log 2 + h log h − log Γ(h) + (2h − 1) log s − h s² = log 2 + ½ log(h/2π) − c(h) − log s − h·bd0(1, s²)
+  return (
+    Math.LN2 +
+    0.5 * Math.log(h / (2 * Math.PI)) -
+    stirlingCorrection(h) -
+    Math.log(s) -
+    h * bd0(1, s * s)
+  );
+}
+
+/**
+ * P(T > t) for t ≥ 0, δ < 0, ν ≥ 1, as ∫ f_S(s) Φ̄(t·s − δ) ds (Johnson, Kotz &
+ * Balakrishnan 1995, Continuous Univariate Distributions vol. 2, ch. 31): a
+ * positive integrand, so the small tail keeps full relative precision. The
+ * logarithm of the integrand is concave; its maximum is found by Newton steps
+ * and the integral taken by 16-point Gauss–Legendre panels of one local
+ * standard deviation each, out to where the integrand has fallen by e^−60.
+ */
+function upperByQuadrature(t: number, df: number, ncp: number): number {
+  const logIntegrand = (s: number): number =>
+    s <= 0 ? -Infinity : logScaleDensity(s, df) + logNormalUpper(t * s - ncp);
+  // d/ds and d²/ds² of the log integrand; the Mills ratio m(u) = φ(u)/Φ̄(u)
+  const derivatives = (s: number): [number, number] => {
+    const u = t * s - ncp;
+    const m = normalHazard(u);
+    const d1 = (df - 1) / s - df * s - t * m;
+    const d2 = -(df - 1) / (s * s) - df - t * t * m * (m - u);
+    return [d1, d2];
+  };
+  let s = 1;
+  for (let i = 0; i < 100; i++) {
+    const [d1, d2] = derivatives(s);
+    let next = s - d1 / d2;
+    if (!(next > 0)) next = s / 2;
+    if (Math.abs(next - s) < 1e-12 * s) {
+      s = next;
+      break;
+    }
+    s = next;
+  }
+  const width = 1 / Math.sqrt(-derivatives(s)[1]);
+  const peak = logIntegrand(s);
+  const f = (v: number): number => Math.exp(logIntegrand(v) - peak);
+  let sum = 0;
+  // outward from the peak in panels of one width, each side until a panel adds < 1e-18 of the sum
+  for (const direction of [1, -1]) {
+    let a = s;
+    for (let k = 0; k < 400; k++) {
+      let b = a + direction * width;
+      if (b <= 0) b = 0;
+      const piece = Math.abs(gaussLegendre16(f, Math.min(a, b), Math.max(a, b)));
+      sum += piece;
+      a = b;
+      if (b === 0 || piece <= 1e-18 * sum) break;
+    }
+  }
+  return sum * Math.exp(peak);
 }
 
 function checkArguments(t: number, df: number, ncp: number, name: string): void {

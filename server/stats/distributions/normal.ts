@@ -58,6 +58,26 @@ export function normalUpper(z: number): number {
   return z > 0 ? upperTailPositive(z) : 1 - upperTailPositive(-z);
 }
 
+/**
+ * log Φ̄(z), finite for every finite z: the direct tail below z = 37, the
+ * asymptotic series of the Mills ratio Φ̄(z)/φ(z) ~ 1/z − 1/z³ + 3/z⁵ − 15/z⁷ +
+ * 105/z⁹ (A&S 26.2.12) above, where its truncation error is below 1e-13.
+ */
+export function logNormalUpper(z: number): number {
+  if (z < 37) return Math.log(normalUpper(z));
+  const z0 = Math.trunc(z * 16) / 16;
+  const r = 1 / (z * z);
+  const mills = (1 / z) * (1 - r * (1 - r * (3 - r * (15 - r * 105))));
+  return -0.5 * z0 * z0 - 0.5 * (z - z0) * (z + z0) - 0.9189385332046728 + Math.log(mills);
+}
+
+/** The Mills ratio φ(z)/Φ̄(z) (the hazard of the standard normal), finite for every finite z. */
+export function normalHazard(z: number): number {
+  if (z < 37) return normalDensity(z) / normalUpper(z);
+  const r = 1 / (z * z);
+  return z / (1 - r * (1 - r * (3 - r * (15 - r * 105))));
+}
+
 /** Two-sided standard normal p-value P(|Z| ≥ |z|). Cost O(1). */
 export function normalTwoSidedP(z: number): number {
   checkNumber(z, "normalTwoSidedP");
