@@ -31,6 +31,7 @@ export * from "./meta-regression";
 export * from "./icc";
 export * from "./attenuation";
 export * from "./power";
+export * from "./power-simulation";
 export * from "./planner";
 export * from "./permutation";
 export * from "./permutation-kernel";

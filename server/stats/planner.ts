@@ -17,7 +17,8 @@ import {
   simulationDraws,
 } from "../../contract/planner";
 import { StatsError } from "./errors";
-import { componentReliability, planSampleSize, simulatePower } from "./power";
+import { planSampleSize } from "./power";
+import { componentReliability, simulatePower } from "./power-simulation";
 import { createRng } from "./rng";
 
 const methodByDesign = {

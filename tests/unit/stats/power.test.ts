@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { StatsError } from "../../../server/stats/errors";
-import { planSampleSize, powerAt, simulatePower } from "../../../server/stats/power";
+import { planSampleSize, powerAt } from "../../../server/stats/power";
+import { simulatePower } from "../../../server/stats/power-simulation";
 import { createRng } from "../../../server/stats/rng";
 
 /** Normal percentage points (Abramowitz & Stegun 1964, Table 26.5: 1.959963985 and 0.841621234). */
