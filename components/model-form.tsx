@@ -1,7 +1,8 @@
 /**
  * New model: a short form for the question (kind, regions, predictor or
  * grouping, covariates) and how to answer it (estimator, inference,
- * correction, weights). Validation is the API's own schema; the fit rules
+ * correction, weights; for a prediction: folds, repeats, penalty and
+ * permutation test instead). Validation is the API's own schema; the fit rules
  * (contract/fit-rules.ts) are judged as the choices change against
  * what the form knows of the data (regions, columns and their types,
  * sessions, standard errors, the group's levels), and what only the
@@ -46,7 +47,17 @@ type Kind = ModelSpec["kind"];
 type Estimator = ModelSpec["estimator"];
 
 const kindOptions = optionsOf(kindLabels);
-const inferenceOptions = optionsOf(inferenceLabels);
+const inferenceOptions = optionsOf(inferenceLabels, ["parametric", "permutation", "bootstrap"]);
+const predictionInferenceOptions = [
+  { value: "permutation" as const, label: "Permutation test" },
+  { value: "none" as const, label: "No test" },
+];
+type FoldsChoice = "10" | "5" | "leave-one-out";
+const foldsOptions: { value: FoldsChoice; label: string }[] = [
+  { value: "10", label: "10 folds" },
+  { value: "5", label: "5 folds" },
+  { value: "leave-one-out", label: "Leave one out" },
+];
 const correctionOptions = optionsOf(correctionLabels, correctionOrder);
 
 export function ModelForm(props: { studyId: string }) {
@@ -83,6 +94,11 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
   const [tau2Method, setTau2Method] = useState<"reml" | "dl">("reml");
   const [knappHartung, setKnappHartung] = useState(false);
   const [selection, setSelection] = useState<RegionSelection | null>(null);
+  const [folds, setFolds] = useState<FoldsChoice>("10");
+  const [repeats, setRepeats] = useState("10");
+  const [fixedPenalty, setFixedPenalty] = useState(false);
+  const [lambda, setLambda] = useState("1");
+  const [stratify, setStratify] = useState<string>("");
   const [problems, setProblems] = useState<{ field: string; message: string }[]>([]);
   const create = useCreateModel(studyId);
   const runFit = useRunFit(studyId);
@@ -92,41 +108,70 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
   );
 
   const estimators = estimatorsByKind[kind];
+  const predicting = kind === "prediction";
+  /** The kind's own defaults of inference and resamples (a prediction: permutation, 1,000). */
+  const chooseKind = (next: Kind) => {
+    if (next === kind) return;
+    if (next === "prediction") {
+      if (inference !== "permutation" && inference !== "none") setInference("permutation");
+      if (resamples === "10000") setResamples("1000");
+    } else if (kind === "prediction") {
+      if (inference === "none") setInference("parametric");
+      if (resamples === "1000") setResamples("10000");
+    }
+    setKind(next);
+  };
   const covariateOptions = useMemo(
     () =>
-      [...inputs.numericColumns, ...inputs.categoricalColumns]
-        .filter((c) => c !== predictor || kind !== "association")
+      [...inputs.numericColumns, ...(kind === "prediction" ? [] : inputs.categoricalColumns)]
+        .filter((c) => c !== predictor || (kind !== "association" && kind !== "prediction"))
         .filter((c) => c !== group || kind !== "two-group")
         .filter((c) => c !== interactionWith || kind !== "association")
         .map((c) => ({ value: c, label: c })),
     [inputs, predictor, group, kind, interactionWith],
   );
 
-  const spec = (): ModelCreateInput["spec"] => ({
-    kind,
-    regions: allRegions ? undefined : regions,
-    predictor: kind === "association" ? (predictor ?? undefined) : undefined,
-    group:
-      kind === "two-group"
-        ? (group ?? undefined)
-        : kind === "association" && interactionWith
-          ? interactionWith
-          : undefined,
-    interaction: kind === "association" && interactionWith !== "",
-    levels: kind === "two-group" && levels.length === 2 ? [levels[0], levels[1]] : undefined,
-    covariates:
-      kind === "reliability"
-        ? []
-        : covariates.filter((c) => covariateOptions.some((o) => o.value === c)),
-    estimator: estimators.includes(estimator) ? estimator : "ols",
-    inference: kind === "reliability" ? "parametric" : inference,
-    resamples: Number(resamples),
-    seed: Number(seed),
-    correction,
-    weights: weighted ? "first-level-se" : "none",
-    tau2Method,
-    smallSample: knappHartung ? "knapp-hartung" : "none",
-  });
+  const spec = (): ModelCreateInput["spec"] =>
+    predicting
+      ? {
+          kind,
+          regions: allRegions ? undefined : regions,
+          predictor: predictor ?? undefined,
+          group: stratify || undefined,
+          covariates: covariates.filter((c) => covariateOptions.some((o) => o.value === c)),
+          inference,
+          resamples: Number(resamples),
+          seed: Number(seed),
+          correction: "none",
+          folds: folds === "leave-one-out" ? folds : Number(folds),
+          repeats: folds === "leave-one-out" ? 1 : Number(repeats),
+          lambda: fixedPenalty ? Number(lambda) : undefined,
+        }
+      : {
+          kind,
+          regions: allRegions ? undefined : regions,
+          predictor: kind === "association" ? (predictor ?? undefined) : undefined,
+          group:
+            kind === "two-group"
+              ? (group ?? undefined)
+              : kind === "association" && interactionWith
+                ? interactionWith
+                : undefined,
+          interaction: kind === "association" && interactionWith !== "",
+          levels: kind === "two-group" && levels.length === 2 ? [levels[0], levels[1]] : undefined,
+          covariates:
+            kind === "reliability"
+              ? []
+              : covariates.filter((c) => covariateOptions.some((o) => o.value === c)),
+          estimator: estimators.includes(estimator) ? estimator : "ols",
+          inference: kind === "reliability" ? "parametric" : inference,
+          resamples: Number(resamples),
+          seed: Number(seed),
+          correction,
+          weights: weighted ? "first-level-se" : "none",
+          tau2Method,
+          smallSample: knappHartung ? "knapp-hartung" : "none",
+        };
 
   const save = (thenRun: boolean) => {
     const body = { name: name.trim(), spec: spec(), regionSelection: selection ?? undefined };
@@ -183,7 +228,7 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
           label="Question"
           options={kindOptions}
           value={kind}
-          onChange={setKind}
+          onChange={chooseKind}
           testID="model-kind"
         />
         <Txt kind="small" style={{ color: palette.inkSoft }} testID="model-question">
@@ -228,7 +273,41 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
         ) : null}
       </Card>
 
-      {kind === "association" || kind === "two-group" ? (
+      {predicting ? (
+        <Card>
+          <Heading level={3}>Trait</Heading>
+          {inputs.numericColumns.length === 0 ? (
+            <Notice tone="caution">The participant sheet has no numeric column to predict.</Notice>
+          ) : (
+            <Choice
+              label="Trait to predict"
+              options={inputs.numericColumns.map((c) => ({ value: c, label: c }))}
+              value={predictor}
+              onChange={setPredictor}
+              testID="model-predictor"
+            />
+          )}
+          <MultiChoice
+            label="Confounds (removed inside each training fold)"
+            options={covariateOptions}
+            values={covariates}
+            onChange={setCovariates}
+            testID="model-covariates"
+          />
+          {inputs.categoricalColumns.length > 0 ? (
+            <Choice
+              label="Balance the folds by a group (optional)"
+              options={[
+                { value: "", label: "No" },
+                ...inputs.categoricalColumns.map((c) => ({ value: c, label: `By ${c}` })),
+              ]}
+              value={stratify}
+              onChange={setStratify}
+              testID="model-stratify"
+            />
+          ) : null}
+        </Card>
+      ) : kind === "association" || kind === "two-group" ? (
         <Card>
           <Heading level={3}>{kind === "association" ? "Trait" : "Groups"}</Heading>
           {kind === "association" ? (
@@ -298,7 +377,72 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
         </Card>
       ) : null}
 
-      {kind !== "reliability" ? (
+      {predicting ? (
+        <Card>
+          <Heading level={3}>How to answer it</Heading>
+          <Txt kind="small" style={{ color: palette.inkSoft }}>
+            Ridge regression, fitted on the training folds only and scored on the people left out.
+          </Txt>
+          <Choice
+            label="Cross-validation"
+            options={foldsOptions}
+            value={folds}
+            onChange={setFolds}
+            testID="model-folds"
+          />
+          {folds !== "leave-one-out" ? (
+            <Field
+              label="Repeats (new random split into folds each time)"
+              value={repeats}
+              onChangeText={setRepeats}
+              inputMode="numeric"
+              testID="model-repeats"
+            />
+          ) : null}
+          <Choice
+            label="Penalty (λ)"
+            options={[
+              { value: "cv", label: "Chosen by cross-validation" },
+              { value: "fixed", label: "Fixed value" },
+            ]}
+            value={fixedPenalty ? "fixed" : "cv"}
+            onChange={(v) => setFixedPenalty(v === "fixed")}
+            testID="model-penalty"
+          />
+          {fixedPenalty ? (
+            <Field
+              label="λ"
+              value={lambda}
+              onChangeText={setLambda}
+              inputMode="decimal"
+              testID="model-lambda"
+            />
+          ) : null}
+          <Choice
+            label="Test"
+            options={predictionInferenceOptions}
+            value={inference === "none" ? "none" : "permutation"}
+            onChange={setInference}
+            testID="model-inference"
+          />
+          <View style={styles.pair}>
+            {inference !== "none" ? (
+              <View style={styles.half}>
+                <Field
+                  label="Permutations"
+                  value={resamples}
+                  onChangeText={setResamples}
+                  inputMode="numeric"
+                  testID="model-resamples"
+                />
+              </View>
+            ) : null}
+            <View style={styles.half}>
+              <Field label="Seed" value={seed} onChangeText={setSeed} inputMode="numeric" />
+            </View>
+          </View>
+        </Card>
+      ) : kind !== "reliability" ? (
         <Card>
           <Heading level={3}>How to answer it</Heading>
           <Choice
