@@ -25,7 +25,8 @@ import { Button, Card, Failure, Heading, Notice, Pending, Txt } from "./ui";
 import { palette, radius, space, wideBreakpoint } from "./theme";
 import { can, useStudy } from "../hooks/use-study";
 import { useCancelFit, useFit, type FitView } from "../hooks/use-fits";
-import { modelSpecSchema, type ModelSpec, type RegionResult } from "../contract/spec";
+import { specOfRecipe } from "../contract/recipe";
+import type { ModelSpec, RegionResult } from "../contract/spec";
 
 export function FitScreen(props: { studyId: string; fitId: string; region?: string }) {
   const study = useStudy(props.studyId);
@@ -43,14 +44,14 @@ export function FitScreen(props: { studyId: string; fitId: string; region?: stri
   );
 }
 
-/** The model fields of the fit's recipe (the recipe holds them at its top level). */
+/** The model fields of the fit's recipe, or null when withheld or unreadable. */
 function specOf(fit: FitView): ModelSpec | null {
   if (!fit.recipe) return null;
-  const fields: Record<string, unknown> = {};
-  for (const key of Object.keys(modelSpecSchema.shape))
-    if (fit.recipe[key] !== undefined) fields[key] = fit.recipe[key];
-  const parsed = modelSpecSchema.safeParse(fields);
-  return parsed.success ? parsed.data : null;
+  try {
+    return specOfRecipe(fit.recipe);
+  } catch {
+    return null;
+  }
 }
 
 function estimateLabel(spec: ModelSpec | null): string {
@@ -154,6 +155,7 @@ function FitBody({
               wide={wide}
               onRowsShown={onRowsShown}
               edgeInset={wide ? undefined : space.lg}
+              revealSelected={initialRegion !== null}
             />
           </View>
           {wide && active ? (

@@ -43,6 +43,8 @@ export function RegionTable(props: {
   wide: boolean;
   /** Told the regions on the page shown, in the table's order. */
   onRowsShown?: (regions: readonly string[]) => void;
+  /** Open at the selected region's page and bring its row into sight (coming back from it). */
+  revealSelected?: boolean;
   /** Run the table from edge to edge of its box, the controls inset by this much (a phone). */
   edgeInset?: number;
 }) {
@@ -155,6 +157,7 @@ export function RegionTable(props: {
         columnVisibility={visibility}
         onRowsShown={props.onRowsShown}
         edgeInset={props.edgeInset}
+        revealSelected={props.revealSelected}
         testID="region-table"
       />
     </View>

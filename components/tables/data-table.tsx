@@ -40,7 +40,7 @@ import {
   useReactTable,
   type VisibilityState,
 } from "@tanstack/react-table";
-import { type ReactNode, useEffect, useMemo, useRef, useState } from "react";
+import { type ReactNode, type RefObject, useEffect, useMemo, useRef, useState } from "react";
 import {
   type LayoutChangeEvent,
   type NativeScrollEvent,
@@ -57,12 +57,13 @@ import { Button, Empty, Txt } from "../ui";
 import { formatCount } from "../charts/number-format";
 import { formatCell } from "./cell-values";
 import { parseNumericFilter } from "./column-filter";
-import { pageSizeOptions, pageWindow } from "./paging";
+import { pageOfRow, pageSizeOptions, pageWindow } from "./paging";
 import { type AnyColumn, globalMatch, prepareColumns } from "./table-columns";
 import {
   breakAnywhere,
   edgeFadeStyle,
   pinnedCellStyle,
+  revealElement,
   sortAttributes,
   wrapText,
 } from "./table-platform";
@@ -101,6 +102,12 @@ export interface DataTableProps<T extends RowData> {
   columnVisibility?: VisibilityState;
   /** Told the ids of the rows on the page shown, in their order, whenever they change. */
   onRowsShown?: (ids: readonly string[]) => void;
+  /**
+   * Open at the page of the selected row and bring that row into sight
+   * (coming back to a table from one of its rows). Rows in the order of
+   * `data`; not with `server`.
+   */
+  revealSelected?: boolean;
   /**
    * The table itself runs from edge to edge of its box (a phone's screen,
    * for more room) while the search box, hint and pager keep this inset (px).
@@ -178,18 +185,41 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
   const [sorting, setSorting] = useState<SortingState>(props.initialSorting ?? []);
   const [globalFilter, setGlobalFilter] = useState("");
   const [columnFilters, setColumnFilters] = useState<ColumnFiltersState>([]);
-  const [pagination, setPagination] = useState<PaginationState>({
-    pageIndex: 0,
-    pageSize: pageSizeOptions.includes(props.initialPageSize as (typeof pageSizeOptions)[number])
+  const [pagination, setPagination] = useState<PaginationState>(() => {
+    const pageSize = pageSizeOptions.includes(
+      props.initialPageSize as (typeof pageSizeOptions)[number],
+    )
       ? (props.initialPageSize as number)
-      : 50,
+      : 50;
+    return {
+      pageIndex: props.revealSelected
+        ? pageOfRow(
+            Math.max(
+              0,
+              props.data.findIndex((row) => props.getRowId(row) === props.selectedRowId),
+            ),
+            pageSize,
+          )
+        : 0,
+      pageSize,
+    };
   });
 
+  const selectedRef = useRef<View>(null);
+  const revealed = useRef(false);
   const [boxWidth, setBoxWidth] = useState(0);
   const [contentWidth, setContentWidth] = useState(0);
   const [scrollX, setScrollX] = useState(0);
   const scroller = useRef<ScrollView>(null);
   const narrow = isNarrowBox(boxWidth);
+  // Reveal the selected row once the box is measured (the columns' widths, and so the rows' heights, follow from it).
+  useEffect(() => {
+    if (!props.revealSelected || revealed.current || boxWidth === 0 || !selectedRef.current) return;
+    revealed.current = true;
+    const row = selectedRef.current;
+    const timer = setTimeout(() => revealElement(row), 0);
+    return () => clearTimeout(timer);
+  });
   const edge = overflowState(boxWidth, contentWidth, scrollX);
 
   const server = props.server;
@@ -384,6 +414,7 @@ export function DataTable<T extends RowData>(props: DataTableProps<T>) {
                 row={row}
                 striped={rowIndex % 2 === 1}
                 selected={row.id === props.selectedRowId}
+                rowRef={row.id === props.selectedRowId ? selectedRef : undefined}
                 widthOf={widthOf}
                 narrow={narrow}
                 onPress={props.onRowPress}
@@ -536,6 +567,7 @@ function BodyRow<T>(props: {
   selected: boolean;
   widthOf: (index: number, meta: { width?: number; narrowWidth?: number } | undefined) => number;
   narrow: boolean;
+  rowRef?: RefObject<View | null>;
   onPress?: (row: T) => void;
 }) {
   const { row } = props;
@@ -570,13 +602,14 @@ function BodyRow<T>(props: {
   const onPress = props.onPress;
   if (!onPress) {
     return (
-      <View role="row" style={[styles.row, background]}>
+      <View role="row" style={[styles.row, background]} ref={props.rowRef}>
         {cells}
       </View>
     );
   }
   return (
     <Pressable
+      ref={props.rowRef}
       role="row"
       aria-selected={props.selected}
       onPress={() => onPress(row.original)}

@@ -23,3 +23,6 @@ export function sortAttributes(
 ): Readonly<Record<never, never>> {
   return {};
 }
+
+/** Brings a row into sight (native platforms: nothing). */
+export function revealElement(_view: unknown): void {}

@@ -32,3 +32,10 @@ export function sortAttributes(
 ): Readonly<Record<string, string>> {
   return { "aria-sort": direction };
 }
+
+/** Scrolls a row (an element on the web) to the middle of its scrolling parent. */
+export function revealElement(view: unknown): void {
+  const element = view as HTMLElement | null;
+  if (element && typeof element.scrollIntoView === "function")
+    element.scrollIntoView({ block: "center" });
+}

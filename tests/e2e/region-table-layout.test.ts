@@ -376,6 +376,13 @@ it("on a phone, a tapped region opens as its own view within the first screen, w
       await page.goto(`${e2e.server.url}/studies/${fit.studyId}/fits/${fit.fitId}`);
       const table = page.getByTestId("region-table");
       await table.waitFor({ timeout: 60_000 });
+      // On the 400-region fit, a region from the table's second page.
+      if (fit.label === "400-regions") {
+        await table.getByRole("button", { name: "Next page" }).click();
+        await expect
+          .poll(() => table.getByTestId("region-table-range").textContent())
+          .toMatch(/^rows 26–50 /);
+      }
       const row = table.locator('[role="row"][aria-selected]').nth(1);
       const region = ((await row.locator('[role="rowheader"]').textContent()) ?? "").trim();
       await row.click();
@@ -420,6 +427,11 @@ it("on a phone, a tapped region opens as its own view within the first screen, w
       const highlighted = table.locator('[role="row"][aria-selected="true"]');
       await expect(highlighted.count()).resolves.toBe(1);
       await expect(highlighted.locator('[role="rowheader"]').textContent()).resolves.toBe(region);
+      // The table opens at that row's page with the row in sight.
+      await expect
+        .poll(async () => inside(await boxOf(highlighted), phone), { message: "row in sight" })
+        .toBe(true);
+      await screenshot(page, `region-layout-${fit.label}-back-phone`);
     }
     expect(errors).toEqual([]);
   } finally {
