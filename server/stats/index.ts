@@ -28,6 +28,7 @@ export * from "./robust-correlation";
 export * from "./corrections";
 export * from "./compare-correlations";
 export * from "./meta-regression";
+export * from "./weighted-least-squares";
 export * from "./icc";
 export * from "./attenuation";
 export * from "./power";
