@@ -2,14 +2,15 @@
  * One region of a fit as its own view (a phone opens it by tapping a row
  * of the region table): a way back to the table first, with the region
  * highlighted there, then the region's detail from its name and summary
- * down, so it starts within the first screen.
+ * down, so it starts within the first screen. Opened by its address on a
+ * wide screen, the detail takes two columns as it does below the table.
  */
-import { Pressable, StyleSheet, View } from "react-native";
+import { Pressable, StyleSheet, useWindowDimensions, View } from "react-native";
 import { useRouter } from "expo-router";
 import { RegionDetailPanel } from "./region-detail";
 import { fitPathWithRegion } from "./region-path";
 import { Failure, Pending, Txt } from "../ui";
-import { fonts, palette, space, type } from "../theme";
+import { fonts, palette, space, type, wideBreakpoint } from "../theme";
 import { can, useStudy } from "../../hooks/use-study";
 import { useFit } from "../../hooks/use-fits";
 
@@ -17,6 +18,7 @@ export function RegionScreen(props: { studyId: string; fitId: string; region: st
   const study = useStudy(props.studyId);
   const fit = useFit(props.fitId);
   const router = useRouter();
+  const wide = useWindowDimensions().width >= wideBreakpoint;
   if (fit.isPending || study.isPending) return <Pending label="Loading the region…" />;
   if (fit.isError) return <Failure error={fit.error} onRetry={() => fit.refetch()} />;
   if (study.isError) return <Failure error={study.error} onRetry={() => study.refetch()} />;
@@ -39,6 +41,7 @@ export function RegionScreen(props: { studyId: string; fitId: string; region: st
         region={props.region}
         canRun={can(study.data, "fits.run")}
         canSetAside={can(study.data, "participants.set-aside") && fit.data.participantsVisible}
+        columns={wide}
       />
     </View>
   );
