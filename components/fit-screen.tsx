@@ -7,6 +7,8 @@
  * phone, tapping a region opens its detail as its own view
  * (fit/region-screen.tsx) and the region last opened stays highlighted. The
  * forest plot shows the regions on the table's page, in the table's order.
+ * A prediction fit shows its scores and plots (fit/prediction-view.tsx) in
+ * place of the region table and region detail.
  */
 import { useCallback, useRef, useState } from "react";
 import { StyleSheet, useWindowDimensions, View } from "react-native";
@@ -18,6 +20,8 @@ import { ProgressBar } from "./fit/progress-bar";
 import { VarianceShares } from "./fit/variance-shares";
 import type { VarianceShareInput } from "./fit/variance-shares-layout";
 import { PublishPanel } from "./fit/publish-panel";
+import { PredictionView } from "./fit/prediction-view";
+import type { PredictionBlock } from "../contract/prediction";
 import { CircularityCaution, FitHeader } from "./fit/fit-header";
 import { scrollIntoView } from "./fit/scroll-into-view";
 import { regionPath } from "./fit/region-path";
@@ -99,6 +103,9 @@ function FitBody({
     .map((id) => byRegion.get(id))
     .filter((r): r is RegionResult => r !== undefined);
   const running = fit.status === "queued" || fit.status === "running";
+  // A prediction fit has no region rows: its one `prediction` block takes their place.
+  const prediction =
+    fit.result?.kind === "prediction" ? (fit.result.prediction as PredictionBlock) : null;
   return (
     <View style={styles.root}>
       <Card testID="fit-header">
@@ -132,7 +139,15 @@ function FitBody({
         <Notice>This fit was cancelled before it finished.</Notice>
       ) : null}
 
-      {fit.status === "done" && regions.length > 0 ? (
+      {fit.status === "done" && prediction ? (
+        <PredictionView
+          block={prediction}
+          trait={spec?.predictor ?? null}
+          wide={wide}
+          participantsVisible={fit.participantsVisible}
+        />
+      ) : null}
+      {fit.status === "done" && !prediction && regions.length > 0 ? (
         <>
           <View
             ref={regionsRef}
