@@ -11,7 +11,10 @@ algorithms:
   (hypergeometric series), each tail computed directly;
 - chi-square: the regularized incomplete gamma function mpmath.gammainc;
 - noncentral t: numerical integration (mpmath.quad, tanh-sinh) of its
-  definition P(T > t) = E[Φ̄(t·S − δ)], S = √(V/ν), V chi-square on ν df;
+  definition P(T > t) = E[Φ̄(t·S − δ)], S = √(V/ν), V chi-square on ν df,
+  with breakpoints near S = 1 and t·S = δ; where a tail is below about 1e-30
+  the integrand's peak can lie between them and the value is not trusted
+  (the test leaves those out);
 - quantiles: mpmath.findroot on log(tail) − log(p) at 50 digits.
 Inputs are IEEE doubles taken exactly; outputs are printed to 25 significant
 digits (the test reads them as the nearest double).

@@ -134,10 +134,13 @@ function tailsPositive(t: number, df: number, ncp: number): Tails {
         break;
     }
   }
-  const lower = Math.min(1, normalCdf(-ncp) + lowerSum);
+  let lower = Math.min(1, normalCdf(-ncp) + lowerSum);
   let upper = Math.min(1, Math.max(0, upperSum));
   // With δ < 0 the upper sum has terms of both signs; where it is small, integrate instead.
-  if (ncp < 0 && df >= 1 && upper < 0.01) upper = upperByQuadrature(t, df, ncp);
+  if (ncp < 0 && df >= 1 && upper < 0.01) upper = tailByQuadrature(t, -ncp, df);
+  // With large δ > 0 and small t both factors of the lower terms can underflow while their
+  // product does not; below 1e-200 integrate instead.
+  if (ncp > 0 && df >= 1 && lower < 1e-200) lower = tailByQuadrature(-t, ncp, df);
   return { lower, upper };
 }
 
@@ -156,22 +159,23 @@ function logScaleDensity(s: number, df: number): number {
 }
 
 /**
- * P(T > t) for t ≥ 0, δ < 0, ν ≥ 1, as ∫ f_S(s) Φ̄(t·s − δ) ds (Johnson, Kotz &
- * Balakrishnan 1995, Continuous Univariate Distributions vol. 2, ch. 31): a
- * positive integrand, so the small tail keeps full relative precision. The
+ * ∫ f_S(s) Φ̄(α·s + β) ds, ν ≥ 1: with (α, β) = (t, −δ) the upper tail P(T > t),
+ * with (−t, δ) the lower tail P(T ≤ t) (Johnson, Kotz & Balakrishnan 1995,
+ * Continuous Univariate Distributions vol. 2, ch. 31): a positive integrand,
+ * so a small tail keeps full relative precision. The
  * logarithm of the integrand is concave; its maximum is found by Newton steps
  * and the integral taken by 16-point Gauss–Legendre panels of one local
  * standard deviation each, out to where the integrand has fallen by e^−60.
  */
-function upperByQuadrature(t: number, df: number, ncp: number): number {
+function tailByQuadrature(alpha: number, beta: number, df: number): number {
   const logIntegrand = (s: number): number =>
-    s <= 0 ? -Infinity : logScaleDensity(s, df) + logNormalUpper(t * s - ncp);
+    s <= 0 ? -Infinity : logScaleDensity(s, df) + logNormalUpper(alpha * s + beta);
   // d/ds and d²/ds² of the log integrand; the Mills ratio m(u) = φ(u)/Φ̄(u)
   const derivatives = (s: number): [number, number] => {
-    const u = t * s - ncp;
+    const u = alpha * s + beta;
     const m = normalHazard(u);
-    const d1 = (df - 1) / s - df * s - t * m;
-    const d2 = -(df - 1) / (s * s) - df - t * t * m * (m - u);
+    const d1 = (df - 1) / s - df * s - alpha * m;
+    const d2 = -(df - 1) / (s * s) - df - alpha * alpha * m * (m - u);
     return [d1, d2];
   };
   let s = 1;
