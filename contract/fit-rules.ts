@@ -30,6 +30,8 @@ export const estimatorsByKind: Readonly<Record<Kind, readonly Estimator[]>> = {
   "two-group": ["ols", "welch", "rank", "huber", "bisquare"],
   association: ["ols", "rank", "huber", "bisquare", "skipped", "bend"],
   reliability: ["ols"],
+  // A prediction's method is fixed (ridge regression inside cross-validation); the field keeps its default.
+  prediction: ["ols"],
 };
 
 /** Estimators that fit a design with covariates (least squares and M-estimation). */
@@ -53,12 +55,20 @@ export function specProblems(spec: ModelSpec): SpecProblem[] {
       "predictor",
       "an association needs a predictor (a numeric column of the participant sheet)",
     );
-  if (kind !== "association" && spec.predictor) add("predictor", `not used by kind '${kind}'`);
+  if (kind === "prediction" && !spec.predictor)
+    add(
+      "predictor",
+      "a prediction needs the trait to predict (a numeric column of the participant sheet)",
+    );
+  if (kind !== "association" && kind !== "prediction" && spec.predictor)
+    add("predictor", `not used by kind '${kind}'`);
   if (kind === "two-group" && !spec.group)
     add("group", "a two-group model needs a grouping column");
-  if (spec.group && kind !== "two-group" && kind !== "association")
+  if (spec.group && kind !== "two-group" && kind !== "association" && kind !== "prediction")
     add("group", `not used by kind '${kind}'`);
   if (spec.levels && !spec.group) add("levels", "given without a group");
+  if (spec.levels && kind === "prediction")
+    add("levels", "not used by kind 'prediction' (the group only balances the folds)");
   if (spec.levels && spec.levels[0] === spec.levels[1]) add("levels", "the two levels must differ");
   if (spec.interaction && kind !== "association") add("interaction", `not used by kind '${kind}'`);
   if (spec.interaction && kind === "association" && !spec.group)
@@ -73,6 +83,24 @@ export function specProblems(spec: ModelSpec): SpecProblem[] {
     add("regions", "a region is listed twice");
   if (spec.correction === "maxt" && spec.inference !== "permutation")
     add("correction", "max-T correction requires permutation inference");
+  if (kind === "prediction") {
+    if (spec.inference !== "permutation" && spec.inference !== "none")
+      add("inference", "kind 'prediction' takes permutation inference or none");
+    if (spec.correction !== "none")
+      add(
+        "correction",
+        "kind 'prediction' reports one score for all regions together; no correction applies",
+      );
+    if (spec.weights !== "none") add("weights", "kind 'prediction' does not take weights");
+    if (spec.folds === "leave-one-out" && spec.repeats !== undefined && spec.repeats !== 1)
+      add("repeats", "leave-one-out has one partition; repeats must be 1");
+    if (spec.lambda !== undefined && spec.lambdaGrid !== undefined)
+      add("lambdaGrid", "give a fixed lambda or a grid to choose from, not both");
+  } else {
+    if (spec.inference === "none") add("inference", `'none' is for kind 'prediction' only`);
+    for (const field of ["folds", "repeats", "lambda", "lambdaGrid"] as const)
+      if (spec[field] !== undefined) add(field, "used by kind 'prediction' only");
+  }
   if (kind === "reliability") {
     if (spec.inference !== "parametric")
       add("inference", "kind 'reliability' supports parametric inference only");
@@ -173,17 +201,21 @@ export function dataProblems(spec: ModelSpec, shape: DataShape): SpecProblem[] {
     };
     if (spec.kind === "association")
       need("predictor", spec.predictor, "an association needs a numeric trait");
+    if (spec.kind === "prediction")
+      need("predictor", spec.predictor, "a prediction needs a numeric trait");
     spec.covariates.forEach((c, k) => {
       need(
         `covariates.${k}`,
         c,
         spec.kind === "one-sample"
           ? "a one-sample model takes numeric covariates only (they are mean-centred)"
-          : null,
+          : spec.kind === "prediction"
+            ? "a prediction takes numeric confounds only"
+            : null,
       );
     });
     if (spec.group && need("group", spec.group, null)) {
-      const levels = shape.levelsOf?.(spec.group);
+      const levels = spec.kind === "prediction" ? undefined : shape.levelsOf?.(spec.group);
       if (levels) {
         if (spec.levels) {
           for (const level of spec.levels)
@@ -229,6 +261,19 @@ export function dataPreconditions(spec: ModelSpec): { beforeRun: string[]; atRun
   const atRun: string[] = [];
   if (spec.kind === "reliability") {
     beforeRun.push("Every region needs at least 2 participants with a value in every session.");
+    return { beforeRun, atRun };
+  }
+  if (spec.kind === "prediction") {
+    const confounds =
+      spec.covariates.length > 0 ? `, the trait and ${listed(spec.covariates)}` : " and the trait";
+    beforeRun.push(
+      `Participants are used when they have a value in every chosen region${confounds}; the others are left out of the prediction.`,
+    );
+    atRun.push(
+      spec.folds === "leave-one-out"
+        ? "Leave-one-out needs at least 3 participants."
+        : `Each of the ${spec.folds ?? 10} folds needs participants to hold out${spec.group ? `, and each level of ${spec.group} at least as many participants as folds` : ""}.`,
+    );
     return { beforeRun, atRun };
   }
   const columns = [spec.predictor, spec.group, ...spec.covariates].filter((c): c is string =>

@@ -19,6 +19,7 @@ export const kindLabels: Readonly<Record<Kind, string>> = {
   "two-group": "Two groups differ",
   "one-sample": "Effect across the group",
   reliability: "Reliability across sessions",
+  prediction: "Predicts a trait in new people",
 };
 
 export const estimatorLabels: Readonly<Record<Estimator, string>> = {
@@ -46,12 +47,14 @@ export const inferenceLabels: Readonly<Record<Inference, string>> = {
   parametric: "Parametric",
   permutation: "Permutation",
   bootstrap: "Bootstrap",
+  none: "None",
 };
 
 export const inferenceWords: Readonly<Record<Inference, string>> = {
   parametric: "parametric inference",
   permutation: "permutation inference",
   bootstrap: "bootstrap intervals",
+  none: "no test",
 };
 
 /** The model form's order of corrections. */

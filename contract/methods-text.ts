@@ -27,6 +27,7 @@ import {
   smallSamplePaperCaution,
 } from "./cautions";
 import { secondPersonSignOffLabel } from "./sign-off";
+import type { PredictionBlock } from "./prediction";
 import { RecipeSpecError, specOfRecipe } from "./recipe";
 import type { ModelSpec, RegionResult } from "./spec";
 
@@ -36,6 +37,14 @@ export const methodReferences = {
     "Beaton, A. E., & Tukey, J. W. (1974). The fitting of power series, meaning polynomials, illustrated on band-spectroscopic data. Technometrics, 16(2), 147–185.",
   "Benjamini & Hochberg 1995":
     "Benjamini, Y., & Hochberg, Y. (1995). Controlling the false discovery rate: a practical and powerful approach to multiple testing. Journal of the Royal Statistical Society, Series B, 57(1), 289–300.",
+  "Hoerl & Kennard 1970":
+    "Hoerl, A. E., & Kennard, R. W. (1970). Ridge regression: biased estimation for nonorthogonal problems. Technometrics, 12(1), 55–67.",
+  "Phipson & Smyth 2010":
+    "Phipson, B., & Smyth, G. K. (2010). Permutation p-values should never be zero: calculating exact p-values when permutations are randomly drawn. Statistical Applications in Genetics and Molecular Biology, 9(1), Article 39.",
+  "Poldrack et al. 2020":
+    "Poldrack, R. A., Huckins, G., & Varoquaux, G. (2020). Establishment of best practices for evidence for prediction: a review. JAMA Psychiatry, 77(5), 534–540.",
+  "Snoek et al. 2019":
+    "Snoek, L., Miletić, S., & Scholte, H. S. (2019). How to control for confounds in decoding analyses of neuroimaging data. NeuroImage, 184, 741–760.",
   "Best & Roberts 1975":
     "Best, D. J., & Roberts, D. E. (1975). Algorithm AS 89: The upper tail probabilities of Spearman's rho. Journal of the Royal Statistical Society, Series C (Applied Statistics), 24(3), 377–379.",
   "Bollen & Jackman 1990":
@@ -117,8 +126,12 @@ export interface MethodsDataFile {
 export interface MethodsInput {
   /** The fit's recipe as stored (model fields at the top level, mappings, set-asides, software version). */
   recipe: Readonly<Record<string, unknown>>;
-  /** The fit's result (its regions, in fit order). */
-  result: { readonly regions: readonly RegionResult[] };
+  /** The fit's result (its regions, in fit order; a prediction's block and N instead). */
+  result: {
+    readonly regions: readonly RegionResult[];
+    readonly prediction?: PredictionBlock;
+    readonly n?: number;
+  };
   /** The data versions the fit ran on. */
   datasets: { brain: MethodsDataFile; participants: MethodsDataFile | null };
   /** How the model's regions were chosen, and whether that was from the same data. */
@@ -605,6 +618,7 @@ function cautionsOf(input: MethodsInput, spec: ModelSpec, c: Citations): string[
  */
 export function buildMethodsText(input: MethodsInput): MethodsText {
   const spec = specOf(input.recipe);
+  if (spec.kind === "prediction") return predictionMethodsText(input, spec);
   const regions = input.result.regions;
   if (regions.length === 0) throw new MethodsTextError("the fit's result has no regions");
   const c = new Citations();
@@ -618,5 +632,63 @@ export function buildMethodsText(input: MethodsInput): MethodsText {
   ];
   if (input.singlePersonSignOff) sentences.push(singlePersonSignOffSentence);
   const cautions = cautionsOf(input, spec, c);
+  return { text: [...sentences, ...cautions].join(" "), references: c.references(), cautions };
+}
+
+/** The methods paragraph of a prediction fit (one model over all chosen regions). */
+function predictionMethodsText(input: MethodsInput, spec: ModelSpec): MethodsText {
+  const block = input.result.prediction;
+  if (!block) throw new MethodsTextError("the fit's result has no prediction block");
+  const c = new Citations();
+  const trait = quoted(spec.predictor ?? "trait");
+  const regionCount = block.regions.length;
+  const sentences = joinSentences(input);
+  if (input.session && input.session.of > 1)
+    sentences.push(
+      `The brain table holds ${count(input.session.of, "session")}; values from session ${quoted(input.session.label)} were analysed.`,
+    );
+  sentences.push(setAsideSentence(spec));
+  const confoundNames = spec.covariates.map(quoted);
+  const n = input.result.n ?? block.participants.length;
+  sentences.push(
+    `Participants without a value in every chosen region, ${trait}${confoundNames.length > 0 ? `, or ${list(confoundNames, "or")}` : ""} were left out, leaving ${count(n, "participant")}.`,
+  );
+  const folds =
+    block.folds === "leave-one-out"
+      ? "leave-one-out cross-validation"
+      : `${numeral(block.folds)}-fold cross-validation repeated ${block.repeats === 1 ? "once" : `${numeral(block.repeats)} times`}`;
+  const strata = spec.group ? `, stratified by ${quoted(spec.group)}` : "";
+  sentences.push(
+    `The trait ${trait} was predicted from the contrast values of ${regionCount === 1 ? count(1, "region") : `the ${numeral(regionCount)} regions together`} by ridge regression with an unpenalised intercept ${c.cite("Hoerl & Kennard 1970")}, evaluated by ${folds}${block.folds === "leave-one-out" ? "" : ` (folds drawn with seed ${spec.seed}${strata})`}.`,
+  );
+  const steps: string[] = [];
+  if (confoundNames.length > 0)
+    steps.push(
+      `${list(confoundNames)} ${confoundNames.length === 1 ? "was" : "were"} regressed out of each region and of ${trait} by least squares on the training participants, and the held-out participants were adjusted with the training coefficients ${c.cite("Snoek et al. 2019")}`,
+    );
+  steps.push("each region was standardised by its training mean and standard deviation");
+  steps.push(
+    block.lambdaChoice === "fixed"
+      ? `the ridge penalty was fixed at λ = ${block.lambdas[0]?.lambda ?? spec.lambda}`
+      : `the ridge penalty was chosen from ${spec.lambdaGrid ? count(spec.lambdaGrid.length, "value") : "20 values log-spaced from 10⁻³ to 10³ times the number of training participants"} by an inner five-fold cross-validation minimising the mean squared error`,
+  );
+  sentences.push(
+    `Within each training set, ${list(steps)}; no step saw the held-out participants ${c.cite("Poldrack et al. 2020")}.`,
+  );
+  sentences.push(
+    "Prediction was scored on the held-out participants by the Pearson correlation r between observed and predicted values, by R² = 1 − Σ(observed − predicted)²/Σ(observed − mean observed)², and by the mean absolute error, each averaged over the repeats.",
+  );
+  if (block.permutation)
+    sentences.push(
+      `The scores were tested by re-running the whole procedure on ${block.permutation.resamples.toLocaleString("en")} random permutations of ${trait}, with p = (b + 1)/(m + 1) ${c.cite("Phipson & Smyth 2010")}.`,
+    );
+  else sentences.push("No test of significance was run.");
+  sentences.push(
+    "Performance was also computed with 20%, 40%, 60%, and 80% of each training set to show how it grows with the number of participants.",
+  );
+  sentences.push(...softwareSentences(input, spec));
+  if (input.singlePersonSignOff) sentences.push(singlePersonSignOffSentence);
+  const cautions: string[] = [];
+  if (input.regionSelection === "same-data") cautions.push(c.caution(circularityPaperCaution));
   return { text: [...sentences, ...cautions].join(" "), references: c.references(), cautions };
 }

@@ -18,7 +18,7 @@
  * exactly the same bytes. Unknown keys are errors. Zod only.
  */
 import { z } from "zod";
-import { type ModelSpec, modelSpecSchema } from "./spec";
+import { type ModelSpec, modelSpecSchema, modelSpecShape, withKindDefaults } from "./spec";
 
 const fileRef = z.strictObject({
   file: z.string().min(1),
@@ -30,17 +30,19 @@ export const idMappingSchema = z.strictObject({
   sheetId: z.string().min(1),
 });
 
-export const recipeSchema = z.strictObject({
+const recipeFields = z.strictObject({
   brainTable: z.string().min(1),
   participantSheet: z.string().min(1).optional(),
   idColumn: z.string().min(1).default("participant_id"),
   seSuffix: z.string().min(1).default("_se"),
   session: z.string().min(1).optional(),
   mappings: z.array(idMappingSchema).default([]),
-  ...modelSpecSchema.shape,
+  ...modelSpecShape,
   softwareVersion: z.string().min(1).optional(),
   inputs: z.strictObject({ brainTable: fileRef, participantSheet: fileRef.optional() }).optional(),
 });
+
+export const recipeSchema = recipeFields.transform(withKindDefaults);
 
 /** A recipe with its defaults filled in: what Covarion stores and exports. */
 export type Recipe = z.output<typeof recipeSchema>;
@@ -48,7 +50,7 @@ export type Recipe = z.output<typeof recipeSchema>;
 export type RecipeInput = z.input<typeof recipeSchema>;
 
 /** The key order of an exported recipe (the schema's order); unknown keys follow in stored order. */
-export const recipeKeyOrder = Object.keys(recipeSchema.shape) as (keyof Recipe)[];
+export const recipeKeyOrder = Object.keys(recipeFields.shape) as (keyof Recipe)[];
 
 /** `recipe` with its keys in `recipeKeyOrder` (values unchanged). */
 export function orderedRecipe(recipe: Readonly<Record<string, unknown>>): Record<string, unknown> {
@@ -106,7 +108,7 @@ export class RecipeSpecError extends Error {
  */
 export function specOfRecipe(recipe: Readonly<Record<string, unknown>>): ModelSpec {
   const fields: Record<string, unknown> = {};
-  for (const key of Object.keys(modelSpecSchema.shape))
+  for (const key of Object.keys(modelSpecShape))
     if (recipe[key] !== undefined) fields[key] = recipe[key];
   const parsed = modelSpecSchema.safeParse(fields);
   if (!parsed.success) {

@@ -8,9 +8,15 @@
  */
 import { z } from "zod";
 
-export const modelKinds = ["one-sample", "two-group", "association", "reliability"] as const;
+export const modelKinds = [
+  "one-sample",
+  "two-group",
+  "association",
+  "reliability",
+  "prediction",
+] as const;
 export const estimators = ["ols", "welch", "rank", "huber", "bisquare", "skipped", "bend"] as const;
-export const inferences = ["parametric", "permutation", "bootstrap"] as const;
+export const inferences = ["parametric", "permutation", "bootstrap", "none"] as const;
 export const corrections = ["none", "bonferroni", "holm", "bh", "maxt"] as const;
 
 export const setAsideSchema = z.strictObject({
@@ -19,22 +25,30 @@ export const setAsideSchema = z.strictObject({
   reason: z.string().min(1),
 });
 
-export const modelSpecSchema = z.strictObject({
+/**
+ * The model fields. Defaults that depend on the kind are filled in by
+ * `withKindDefaults` (a prediction's inference, resamples, folds and
+ * repeats); every other default is the field's own.
+ */
+export const modelSpecShape = {
   kind: z.enum(modelKinds),
   /** Region names; omitted or empty = every region of the brain table. */
   regions: z.array(z.string().min(1)).optional(),
-  /** association: the trait column of the participant sheet. */
+  /** association: the trait column of the participant sheet; prediction: the trait predicted. */
   predictor: z.string().min(1).optional(),
-  /** two-group: grouping column of the participant sheet. */
+  /** two-group: grouping column; association: a covariate group; prediction: stratifies the folds. */
   group: z.string().min(1).optional(),
   /** two-group: [first, second]; estimate = mean(first) − mean(second). */
   levels: z.tuple([z.string().min(1), z.string().min(1)]).optional(),
+  /** Covariates (prediction: confounds removed inside each training fold). */
   covariates: z.array(z.string().min(1)).default([]),
   /** association: add a group × predictor interaction (needs `group`). */
   interaction: z.boolean().default(false),
   estimator: z.enum(estimators).default("ols"),
-  inference: z.enum(inferences).default("parametric"),
-  resamples: z.number().int().min(1).max(1_000_000).default(10000),
+  /** Default "parametric"; "permutation" for a prediction. */
+  inference: z.enum(inferences).optional(),
+  /** Default 10,000; 1,000 for a prediction. */
+  resamples: z.number().int().min(1).max(1_000_000).optional(),
   seed: z
     .number()
     .int()
@@ -47,7 +61,46 @@ export const modelSpecSchema = z.strictObject({
   weights: z.enum(["none", "first-level-se"]).default("none"),
   tau2Method: z.enum(["dl", "reml"]).default("reml"),
   smallSample: z.enum(["none", "knapp-hartung"]).default("none"),
-});
+  /** prediction: k of k-fold cross-validation (default 10) or "leave-one-out". */
+  folds: z.union([z.literal("leave-one-out"), z.number().int().min(2).max(10_000)]).optional(),
+  /** prediction: repeated partitions into folds (default 10; 1 for leave-one-out). */
+  repeats: z.number().int().min(1).max(1000).optional(),
+  /** prediction: a fixed ridge penalty; otherwise chosen per training fold by inner cross-validation. */
+  lambda: z.number().positive().optional(),
+  /** prediction: the penalties the inner cross-validation chooses from (default 20 values, 10⁻³…10³ × training rows). */
+  lambdaGrid: z.array(z.number().positive()).min(1).max(200).optional(),
+};
+
+/** The kind-dependent defaults, filled in after the fields are parsed. */
+export function withKindDefaults<
+  T extends {
+    kind: ModelKind;
+    inference?: Inference;
+    resamples?: number;
+    folds?: number | "leave-one-out";
+    repeats?: number;
+  },
+>(fields: T): T & { inference: Inference; resamples: number } {
+  if (fields.kind !== "prediction")
+    return {
+      ...fields,
+      inference: fields.inference ?? "parametric",
+      resamples: fields.resamples ?? 10_000,
+    };
+  const folds = fields.folds ?? 10;
+  return {
+    ...fields,
+    inference: fields.inference ?? "permutation",
+    resamples: fields.resamples ?? 1000,
+    folds,
+    repeats: fields.repeats ?? (folds === "leave-one-out" ? 1 : 10),
+  };
+}
+
+export type ModelKind = (typeof modelKinds)[number];
+export type Inference = (typeof inferences)[number];
+
+export const modelSpecSchema = z.strictObject(modelSpecShape).transform(withKindDefaults);
 
 export type ModelSpecInput = z.input<typeof modelSpecSchema>;
 export type ModelSpec = z.output<typeof modelSpecSchema>;

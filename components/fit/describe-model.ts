@@ -22,10 +22,13 @@ export function questionOf(
       return `Does the contrast track ${spec.predictor ?? "the trait"}${spec.interaction && spec.group ? ` differently by ${spec.group}` : ""}${controls}?`;
     case "reliability":
       return "How reliable is the contrast across sessions?";
+    case "prediction":
+      return `How well do these regions predict ${spec.predictor ?? "the trait"} in people the model has not seen${controls}?`;
   }
 }
 
 export function methodOf(spec: ModelSpec): string {
+  if (spec.kind === "prediction") return predictionMethodOf(spec);
   const parts = [estimatorWords[spec.estimator], inferenceWords[spec.inference]];
   if (spec.inference !== "parametric")
     parts.push(`${spec.resamples.toLocaleString("en")} resamples, seed ${spec.seed}`);
@@ -44,4 +47,25 @@ export function regionsOf(spec: Pick<ModelSpec, "regions">, total?: number): str
   return spec.regions.length <= 4
     ? spec.regions.join(", ")
     : `${spec.regions.length} chosen regions`;
+}
+
+/** A prediction's method: ridge regression, its folds and penalty, and its test. */
+function predictionMethodOf(spec: ModelSpec): string {
+  const folds = spec.folds ?? 10;
+  const repeats = spec.repeats ?? (folds === "leave-one-out" ? 1 : 10);
+  const scheme =
+    folds === "leave-one-out"
+      ? "leave-one-out cross-validation"
+      : `${repeats === 1 ? "" : `${repeats} × `}${folds}-fold cross-validation`;
+  const penalty =
+    spec.lambda !== undefined
+      ? `fixed penalty λ = ${spec.lambda}`
+      : "penalty chosen inside each training fold";
+  const parts = [`ridge regression, ${scheme}, ${penalty}`];
+  if (spec.inference === "permutation")
+    parts.push(
+      `permutation test of the whole pipeline (${spec.resamples.toLocaleString("en")} permutations, seed ${spec.seed})`,
+    );
+  else parts.push(`seed ${spec.seed}, no test`);
+  return parts.join(" · ");
 }

@@ -9,7 +9,7 @@
 import { readFileSync } from "node:fs";
 import { basename, dirname, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
-import { buildRecipe, type Recipe, recipeSchema } from "../../contract/recipe";
+import { buildRecipe, type Recipe, recipeSchema, specOfRecipe } from "../../contract/recipe";
 import type { FitResult, ModelSpec } from "../../contract/spec";
 import { requireStandardErrors } from "./standard-error-check";
 import {
@@ -245,24 +245,8 @@ export async function runRecipe(recipePath: string): Promise<RecipeOutput> {
     });
   }
 
-  const spec: ModelSpec = {
-    kind: recipe.kind,
-    regions: [...built.data.regions],
-    ...(recipe.predictor !== undefined ? { predictor: recipe.predictor } : {}),
-    ...(recipe.group !== undefined ? { group: recipe.group } : {}),
-    ...(recipe.levels !== undefined ? { levels: recipe.levels } : {}),
-    covariates: recipe.covariates,
-    interaction: recipe.interaction,
-    estimator: recipe.estimator,
-    inference: recipe.inference,
-    resamples: recipe.resamples,
-    seed: recipe.seed,
-    correction: recipe.correction,
-    setAside: recipe.setAside,
-    weights: recipe.weights,
-    tau2Method: recipe.tau2Method,
-    smallSample: recipe.smallSample,
-  };
+  // The recipe's model fields, with the regions read named (every region when it named none).
+  const spec: ModelSpec = { ...specOfRecipe(recipe), regions: [...built.data.regions] };
   // Loaded only now, so a bad recipe or file is reported without loading the engine.
   const { runFit } = await import("../stats/run-fit");
   const result = runFit(spec, built.data);

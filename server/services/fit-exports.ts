@@ -24,6 +24,7 @@ import { datasetVersions, fitSeals, models, type Fit } from "../../db/schema";
 import { toCsv, type CsvCell } from "../intake/export-csv";
 import { buildMethodsText, type MethodsInput, type MethodsText } from "../../contract/methods-text";
 import { correctionLabels } from "../../contract/labels";
+import type { PredictionBlock } from "../../contract/prediction";
 import { orderedRecipe } from "../../contract/recipe";
 import type { RegionResult } from "../../contract/spec";
 import { conflict } from "../http/errors";
@@ -140,7 +141,11 @@ export async function methodsOf(
   const roster = built.roster;
   const input: MethodsInput = {
     recipe: fit.recipe as Record<string, unknown>,
-    result: { regions },
+    result: {
+      regions,
+      prediction: (fit.result as { prediction?: PredictionBlock }).prediction,
+      n: (fit.result as { n?: number }).n,
+    },
     datasets: {
       brain: { fileName: brain.fileName, version: brain.version, sha256: brain.sha256 },
       participants: sheet

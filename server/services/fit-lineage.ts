@@ -158,12 +158,13 @@ async function nRanges(
     const rows = await db
       .select({
         id: fits.id,
+        // A prediction fit has no region rows: its N is the result's own `n`.
         min: sql<
           number | null
-        >`(select min((r->>'n')::int) from jsonb_array_elements(${fits.result}->'regions') r)`,
+        >`coalesce((select min((r->>'n')::int) from jsonb_array_elements(${fits.result}->'regions') r), (${fits.result}->>'n')::int)`,
         max: sql<
           number | null
-        >`(select max((r->>'n')::int) from jsonb_array_elements(${fits.result}->'regions') r)`,
+        >`coalesce((select max((r->>'n')::int) from jsonb_array_elements(${fits.result}->'regions') r), (${fits.result}->>'n')::int)`,
       })
       .from(fits)
       .where(and(inArray(fits.id, missing), eq(fits.status, "done")));

@@ -31,6 +31,9 @@
  *   (correlations without covariates).
  * - reliability: intraclass correlations across sessions; the estimate is
  *   ICC(2,1), all six forms are reported.
+ * - prediction: the trait predicted from all chosen regions together by
+ *   cross-validated ridge regression (fit/prediction.ts); one `prediction`
+ *   block instead of per-region rows.
  * - weights "first-level-se": weighted meta-regression with τ² for one-sample,
  *   two-group and association fits with estimator ols.
  *
@@ -69,6 +72,7 @@ import { type RegionWork, estimateRegionWork } from "./fit/estimate";
 import { bootstrapPass, correctOverRegions, permutationPass } from "./fit/infer";
 import { diagnosticNotes, weightingNotes } from "./fit/notes";
 import { prepare } from "./fit/prepare";
+import { runPrediction } from "./fit/prediction";
 import { runReliability } from "./fit/reliability";
 
 export { FIT_LEVEL, type RunFitOptions } from "./fit/common";
@@ -85,6 +89,7 @@ export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = 
   const prep = prepare(spec, data);
   const s = prep.spec;
   if (s.kind === "reliability") return runReliability(prep, options);
+  if (s.kind === "prediction") return runPrediction(prep, options);
   const kind = s.kind as Kind;
   const regionCount = prep.regionIndex.length;
   const heavy = s.inference !== "parametric";

@@ -158,7 +158,9 @@ function resolve(
   const wanted = spec.regions && spec.regions.length > 0 ? spec.regions : data.regions;
   const regionIndex = wanted.map((name) => data.regions.indexOf(name));
   const predictor =
-    spec.kind === "association" && spec.predictor ? data.numericColumns[spec.predictor] : null;
+    (spec.kind === "association" || spec.kind === "prediction") && spec.predictor
+      ? data.numericColumns[spec.predictor]
+      : null;
   let group: readonly (string | null)[] | null = null;
   let levels: [string, string] | null = null;
   if (spec.group) {
@@ -255,6 +257,15 @@ export function fitPreconditionProblems(
   const needsSheet = Boolean(spec.predictor || spec.group || spec.covariates.length > 0);
   if (problems.length > 0 || (!columns && needsSheet)) return problems;
   const prep = resolve(spec, data, asideAll, asideRegion);
+  if (spec.kind === "prediction") {
+    const n = predictionRows(prep).length;
+    if (n < PREDICTION_MINIMUM)
+      problems.push({
+        field: "regions",
+        message: `${n} participant${n === 1 ? " has" : "s have"} a value in every chosen region, the trait and each confound; a prediction needs at least ${PREDICTION_MINIMUM}`,
+      });
+    return problems;
+  }
   for (const r of prep.regionIndex) {
     try {
       if (spec.kind === "reliability") sessionMatrix(prep, r);
@@ -265,6 +276,33 @@ export function fitPreconditionProblems(
     }
   }
   return problems;
+}
+
+/** The fewest complete participants a prediction needs (leave-one-out on 3). */
+export const PREDICTION_MINIMUM = 3;
+
+/**
+ * A prediction's participants: not set aside (from every region or from any
+ * chosen region), with a value in every chosen region, the trait and each
+ * confound (listwise over all of them, since one model uses every region).
+ */
+export function predictionRows(prep: Prepared): number[] {
+  const { data, predictor, covariates, asideAll, asideRegion, regionIndex } = prep;
+  const rows: number[] = [];
+  for (let i = 0; i < data.participants.length; i++) {
+    if (asideAll[i]) continue;
+    if (regionIndex.some((r) => asideRegion.get(data.regions[r])?.has(i))) continue;
+    if (regionIndex.some((r) => !Number.isFinite(data.values[r][i]))) continue;
+    const trait = predictor?.[i];
+    if (trait === null || trait === undefined || !Number.isFinite(trait)) continue;
+    const complete = covariates.every((c) => {
+      if (!("numeric" in c)) return c.categorical[i] !== null;
+      const v = c.numeric[i];
+      return v !== null && Number.isFinite(v);
+    });
+    if (complete) rows.push(i);
+  }
+  return rows;
 }
 
 /** Participant indices used in region r (after set-aside and listwise deletion). */

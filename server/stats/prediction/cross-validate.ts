@@ -20,7 +20,10 @@ import { createRearranger, shuffleInPlace, TIE_TOLERANCE } from "../rearrangemen
 import { createRng } from "../rng";
 import { fitFold, minimumTrainingRows, type PredictionData, prepareFold } from "./fold-pipeline";
 import { crossValidationSplits, type Split } from "./folds";
-import { meanOrNull, ScoreSums, type Scores, scorePairs, sdOrNull } from "./scores";
+import type { LearningCurvePoint, PredictionBlock } from "../../../contract/prediction";
+import { meanOrNull, ScoreSums, scorePairs, sdOrNull } from "./scores";
+
+export type { LearningCurvePoint, PredictionBlock };
 import { validatePrediction } from "./validate";
 
 export interface PredictionInput {
@@ -60,35 +63,6 @@ export interface PredictionOptions {
   standardize?: boolean;
   onProgress?: (fraction: number) => void;
   shouldCancel?: () => boolean;
-}
-
-export interface PredictionBlock {
-  folds: number | "leave-one-out";
-  repeats: number;
-  seed: number;
-  /** "fixed" with a given λ, "inner-cv" when chosen per fold. */
-  lambdaChoice: "fixed" | "inner-cv";
-  r: number | null;
-  r2: number | null;
-  mae: number;
-  /** Standard deviation over repeats (null with one repeat). */
-  spread: { r: number | null; r2: number | null; mae: number | null };
-  perRepeat: ({ repeat: number } & Scores)[];
-  participants: { participant: string; observed: number; predicted: number }[];
-  regions: { region: string; weight: number; signConsistency: number }[];
-  lambdas: { repeat: number; fold: number; lambda: number }[];
-  permutation: { resamples: number; pR: number | null; pR2: number | null } | null;
-  learningCurve: LearningCurvePoint[] | null;
-}
-
-export interface LearningCurvePoint {
-  fraction: number;
-  /** Smallest number of training rows over the folds at this fraction. */
-  trainingRows: number;
-  r: number | null;
-  r2: number | null;
-  rSpread: number | null;
-  r2Spread: number | null;
 }
 
 const FRACTIONS = [0.2, 0.4, 0.6, 0.8];

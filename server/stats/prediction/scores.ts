@@ -7,6 +7,9 @@
  * and scale), and the mean absolute error. Computed from running sums so
  * that permutation loops need no stored predictions. Cost O(1) per value.
  */
+import type { Scores } from "../../../contract/prediction";
+
+export type { Scores };
 
 /** Running sums of (observed, predicted) pairs. */
 export class ScoreSums {
@@ -42,14 +45,6 @@ export class ScoreSums {
       mae: this.sabs / n,
     };
   }
-}
-
-export interface Scores {
-  /** Pearson r; null when the observed or the predicted values are constant. */
-  r: number | null;
-  /** 1 − SSE/SST; null when the observed values are constant. */
-  r2: number | null;
-  mae: number;
 }
 
 /** Scores of paired arrays, computed directly (two passes, for reported values). */

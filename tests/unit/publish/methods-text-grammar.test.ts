@@ -9,6 +9,7 @@
  *
  * Inputs are invented (only counts, flags and names matter here).
  */
+import type { PredictionBlock } from "../../../contract/prediction";
 import { describe, expect, it } from "vitest";
 import {
   estimatorsByKind,
@@ -225,7 +226,16 @@ describe("the sentence rules catch what they are for", () => {
 
 type Variant = Pick<
   ModelSpecInput,
-  "covariates" | "group" | "levels" | "interaction" | "predictor" | "tau2Method" | "smallSample"
+  | "covariates"
+  | "group"
+  | "levels"
+  | "interaction"
+  | "predictor"
+  | "tau2Method"
+  | "smallSample"
+  | "folds"
+  | "repeats"
+  | "lambda"
 >;
 
 /** The model fields besides the enumerated five that a kind can take (every one is tried where valid). */
@@ -254,6 +264,11 @@ function variantsOf(kind: ModelSpec["kind"]): Variant[] {
         });
       }
       if (kind === "reliability" && covariates.length === 0) out.push({ ...weighting });
+      if (kind === "prediction" && weighting.tau2Method === "reml") {
+        out.push({ covariates, predictor: "accuracy", folds: 5, repeats: 2 });
+        out.push({ covariates, predictor: "accuracy", group: "group", folds: "leave-one-out" });
+        out.push({ covariates, predictor: "accuracy", lambda: 2.5 });
+      }
     }
   }
   return out;
@@ -399,7 +414,11 @@ function inputOf(model: ModelSpec, shape: Shape, n: number, turn: number): Metho
       ...extra,
     };
   });
-  const withSheet = spec.kind === "two-group" || spec.kind === "association" || turn % 2 === 1;
+  const withSheet =
+    spec.kind === "two-group" ||
+    spec.kind === "association" ||
+    spec.kind === "prediction" ||
+    turn % 2 === 1;
   const unmatched = [0, 1, n][turn % 3];
   return {
     recipe: {
@@ -409,7 +428,10 @@ function inputOf(model: ModelSpec, shape: Shape, n: number, turn: number): Metho
       idColumn: "participant_id",
       softwareVersion: turn % 4 === 3 ? undefined : "1.2.0",
     },
-    result: { regions },
+    result:
+      spec.kind === "prediction"
+        ? { regions: [], prediction: predictionOf(spec, n), n }
+        : { regions },
     datasets: { brain, participants: withSheet ? sheet : null },
     regionSelection: regionSelections[turn % regionSelections.length],
     roster: withSheet
@@ -426,6 +448,34 @@ function inputOf(model: ModelSpec, shape: Shape, n: number, turn: number): Metho
     brainParticipants: n,
     session: [null, { label: "1", of: 2 }, { label: "baseline", of: n }][turn % 3],
     singlePersonSignOff: turn % 2 === 0,
+  };
+}
+
+/** A prediction block of the shape the engine returns (the paragraph reads its folds, choice of λ and test). */
+function predictionOf(spec: ModelSpec, n: number): PredictionBlock {
+  const regionCount = n === 1500 ? 1200 : Math.max(1, n % 7);
+  const folds = spec.folds ?? 10;
+  const repeats = spec.repeats ?? 10;
+  return {
+    folds,
+    repeats,
+    seed: spec.seed,
+    lambdaChoice: spec.lambda === undefined ? "inner-cv" : "fixed",
+    r: 0.3,
+    r2: 0.08,
+    mae: 1.2,
+    spread: { r: repeats > 1 ? 0.02 : null, r2: repeats > 1 ? 0.01 : null, mae: null },
+    perRepeat: [],
+    participants: [],
+    regions: Array.from({ length: regionCount }, (_, r) => ({
+      region: `region_${r + 1}`,
+      weight: 0.1,
+      signConsistency: 1,
+    })),
+    lambdas: [{ repeat: 0, fold: 0, lambda: spec.lambda ?? 10 }],
+    permutation:
+      spec.inference === "permutation" ? { resamples: spec.resamples, pR: 0.01, pR2: 0.01 } : null,
+    learningCurve: null,
   };
 }
 
