@@ -93,7 +93,7 @@ function FitBody({
     (region: string) => {
       setSelected(region);
       if (wide) requestAnimationFrame(() => scrollIntoView(detailRef.current));
-      else router.push(regionPath(fit.studyId, fit.id, region) as never);
+      else router.push(regionPath(fit.studyId, fit.id, region));
     },
     [wide, router, fit.studyId, fit.id],
   );

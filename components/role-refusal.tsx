@@ -4,6 +4,7 @@
  * refused or a "Try again" that cannot succeed. Rights come from the
  * capabilities the study view carries (contract/permissions.ts).
  */
+import type { Href } from "expo-router";
 import type { ReactNode } from "react";
 import { StyleSheet, View } from "react-native";
 import { Link } from "expo-router";
@@ -20,7 +21,7 @@ export interface RoleGateProps {
   doing: string;
   /** True when the action changes the study (refused in an archived study whatever the role). */
   changes: boolean;
-  back: { href: string; label: string };
+  back: { href: Href; label: string };
   children: ReactNode;
 }
 
@@ -45,7 +46,7 @@ export function RoleGate(props: RoleGateProps) {
             ? "An Owner can unarchive it under Team."
             : "An Owner of the study can change your role under Team."}
         </Txt>
-        <Link href={props.back.href as never} style={styles.link}>
+        <Link href={props.back.href} style={styles.link}>
           {props.back.label}
         </Link>
       </View>

@@ -140,7 +140,7 @@ function RefitOf({ fit }: { fit: FitView }) {
     <View style={styles.refit} testID="fit-refit-of">
       <Pressable
         accessibilityRole="link"
-        onPress={() => router.push(`/studies/${fit.studyId}/fits/${refitOf}` as never)}
+        onPress={() => router.push(`/studies/${fit.studyId}/fits/${refitOf}`)}
         style={({ pressed }) => [styles.link, pressed && styles.pressed]}
       >
         <Txt kind="small" style={styles.linkText}>
@@ -175,8 +175,7 @@ function StaleNotice({ fit, canRun }: { fit: FitView; canRun: boolean }) {
           busy={run.isPending}
           onPress={() =>
             run.mutate(fit.model.id, {
-              onSuccess: (created) =>
-                router.push(`/studies/${fit.studyId}/fits/${created.id}` as never),
+              onSuccess: (created) => router.push(`/studies/${fit.studyId}/fits/${created.id}`),
             })
           }
           style={styles.refitButton}
@@ -202,8 +201,7 @@ function RunAgain({ fit }: { fit: FitView }) {
         busy={run.isPending}
         onPress={() =>
           run.mutate(fit.model.id, {
-            onSuccess: (created) =>
-              router.push(`/studies/${fit.studyId}/fits/${created.id}` as never),
+            onSuccess: (created) => router.push(`/studies/${fit.studyId}/fits/${created.id}`),
           })
         }
         style={styles.refitButton}

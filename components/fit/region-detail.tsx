@@ -565,7 +565,7 @@ function PreviewCard({
           label="Refit every region"
           onPress={() =>
             run.mutate(fit.model.id, {
-              onSuccess: (next) => router.push(`/studies/${fit.studyId}/fits/${next.id}` as never),
+              onSuccess: (next) => router.push(`/studies/${fit.studyId}/fits/${next.id}`),
             })
           }
           busy={run.isPending}

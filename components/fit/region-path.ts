@@ -1,8 +1,14 @@
-/** Addresses of a fit's region view and of the fit with a region highlighted. */
-export function regionPath(studyId: string, fitId: string, region: string): string {
-  return `/studies/${studyId}/fits/${fitId}/regions/${encodeURIComponent(region)}`;
+/** Addresses of a fit's region view and of the fit with a region highlighted (typed routes). */
+import type { Href } from "expo-router";
+
+export function regionPath(studyId: string, fitId: string, region: string): Href {
+  return {
+    pathname: "/studies/[studyId]/fits/[fitId]/regions/[region]",
+    params: { studyId, fitId, region },
+  };
 }
 
-export function fitPathWithRegion(studyId: string, fitId: string, region: string): string {
-  return `/studies/${studyId}/fits/${fitId}?region=${encodeURIComponent(region)}`;
+/** The fit with `region` highlighted in its table (`?region=`). */
+export function fitPathWithRegion(studyId: string, fitId: string, region: string): Href {
+  return { pathname: "/studies/[studyId]/fits/[fitId]", params: { studyId, fitId, region } };
 }

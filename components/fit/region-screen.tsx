@@ -28,7 +28,7 @@ export function RegionScreen(props: { studyId: string; fitId: string; region: st
       <Pressable
         accessibilityRole="link"
         accessibilityLabel={`Back to the regions of ${fit.data.model.name}`}
-        onPress={() => router.push(back as never)}
+        onPress={() => router.push(back)}
         style={({ pressed }) => [styles.back, pressed && styles.pressed]}
         testID="region-back"
       >

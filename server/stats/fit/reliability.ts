@@ -69,8 +69,7 @@ export function runReliability(prep: Prepared, options: RunFitOptions): FitResul
     options.onProgress?.((idx + 1) / prep.regionIndex.length);
   });
   const notes: string[] = [];
-  if (spec.correction === "maxt")
-    fail("correction: max-T correction requires permutation inference");
+  // max-T needs permutation inference, which reliability does not take: the fit rules refuse it (prepare.ts).
   correctOverRegions(regions, spec.correction, notes);
   notes.push(...reliabilityNotes());
   const result: FitResult = {
