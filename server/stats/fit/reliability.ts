@@ -7,7 +7,7 @@
  */
 import type { FitData, FitResult, RegionResult } from "../../../contract/spec";
 import { type IntraclassCorrelation, intraclassCorrelations } from "../icc";
-import { FIT_LEVEL, type RunFitOptions, assertFinite, cancelled, fail, inRegion } from "./common";
+import { FIT_LEVEL, type RunFitOptions, assertFinite, cancelled, inRegion } from "./common";
 import { correctOverRegions } from "./infer";
 import { reliabilityNotes } from "./notes";
 import { type Prepared, sessionMatrix } from "./prepare";
