@@ -13,8 +13,10 @@ import request from "supertest";
 import { inject } from "vitest";
 import { openDatabase, type Database, type OpenDatabase } from "../../db/client";
 import { migrateDatabase } from "../../db/migrate";
-import { seedDemo } from "../../db/seed";
-import { users } from "../../db/schema";
+import { demoPeople, demoStudy, seedDemo } from "../../db/seed";
+import { seedDemoDatasets } from "../../db/seed/demo-datasets";
+import { studies, users } from "../../db/schema";
+import { currentVersions } from "../../server/services/datasets";
 import { createApp } from "../../server/app";
 import { loadConfig, type Config } from "../../server/config";
 import { startServices, type Services } from "../../server/dev/dev-services";
@@ -231,4 +233,38 @@ export async function userIdOf(db: Database, email: string): Promise<string> {
   const [row] = await db.select({ id: users.id }).from(users).where(eq(users.email, email));
   if (!row) throw new Error(`no person ${email}`);
   return row.id;
+}
+
+/** The seeded demo study with its demo tables confirmed (seeded now when missing), and its id. */
+export async function demoStudyWithData(t: TestApp): Promise<string> {
+  const [study] = await t.db.select().from(studies).where(eq(studies.name, demoStudy.name));
+  const { brain } = await currentVersions(t.db, study.id);
+  if (!brain) {
+    const ownerId = await userIdOf(t.db, demoPeople[0].email);
+    await seedDemoDatasets(t.db, { studyId: study.id, uploadedBy: ownerId, now: new Date() });
+  }
+  return study.id;
+}
+
+/** The session cookie of a demo person signed in through the demo route ("name=value"). */
+export async function demoCookie(t: TestApp, email: string): Promise<string> {
+  const res = await request(t.url).post("/api/dev/demo-sign-in").send({ email }).expect(200);
+  return String(res.headers["set-cookie"]).split(";")[0];
+}
+
+/** Polls a fit until its status is one of `wanted`; its view then. Throws after `timeoutMs`. */
+export async function waitForFitStatus(
+  t: TestApp,
+  cookie: string,
+  fitId: string,
+  wanted: readonly string[] = ["done", "failed", "cancelled"],
+  timeoutMs = 120_000,
+): Promise<Record<string, unknown>> {
+  const start = Date.now();
+  for (;;) {
+    const res = await request(t.url).get(`/api/fits/${fitId}`).set("Cookie", cookie).expect(200);
+    if (wanted.includes(res.body.status)) return res.body;
+    if (Date.now() - start > timeoutMs) throw new Error(`fit ${fitId} stayed ${res.body.status}`);
+    await new Promise((r) => setTimeout(r, 100));
+  }
 }

@@ -5,14 +5,15 @@
  * And max-T fits on the demo study, whose brain table has empty cells,
  * finish (sign flips and Freedman–Lane).
  */
-import { eq } from "drizzle-orm";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { studies, users } from "../../db/schema";
-import { demoPeople, demoStudy } from "../../db/seed";
-import { seedDemoDatasets } from "../../db/seed/demo-datasets";
-import { currentVersions } from "../../server/services/datasets";
-import { createTestApp, type TestApp } from "./helpers";
+import {
+  createTestApp,
+  demoCookie,
+  demoStudyWithData,
+  type TestApp,
+  waitForFitStatus,
+} from "./helpers";
 
 let t: TestApp;
 let studyId: string;
@@ -24,34 +25,10 @@ const post = (body: unknown) =>
     .set("Cookie", analyst)
     .send(body as object);
 
-async function waitForStatus(
-  fitId: string,
-  wanted: readonly string[],
-  timeoutMs = 120_000,
-): Promise<Record<string, unknown>> {
-  const start = Date.now();
-  for (;;) {
-    const res = await request(t.url).get(`/api/fits/${fitId}`).set("Cookie", analyst).expect(200);
-    if (wanted.includes(res.body.status)) return res.body;
-    if (Date.now() - start > timeoutMs) throw new Error(`fit ${fitId} stayed ${res.body.status}`);
-    await new Promise((r) => setTimeout(r, 100));
-  }
-}
-
 beforeAll(async () => {
   t = await createTestApp();
-  const [study] = await t.db.select().from(studies).where(eq(studies.name, demoStudy.name));
-  studyId = study.id;
-  const { brain } = await currentVersions(t.db, studyId);
-  if (!brain) {
-    const [owner] = await t.db.select().from(users).where(eq(users.email, demoPeople[0].email));
-    await seedDemoDatasets(t.db, { studyId, uploadedBy: owner.id, now: new Date() });
-  }
-  const res = await request(t.url)
-    .post("/api/dev/demo-sign-in")
-    .send({ email: "analyst@demo.covarion.test" })
-    .expect(200);
-  analyst = String(res.headers["set-cookie"]).split(";")[0];
+  studyId = await demoStudyWithData(t);
+  analyst = await demoCookie(t, "analyst@demo.covarion.test");
 });
 afterAll(async () => {
   await t?.close();
@@ -158,7 +135,7 @@ describe("max-T fits on the demo study (its brain table has empty cells) finish"
       .set("Cookie", analyst)
       .send({ modelId: model.body.id })
       .expect(202);
-    const fit = await waitForStatus(run.body.id as string, ["done", "failed"]);
+    const fit = await waitForFitStatus(t, analyst, run.body.id as string, ["done", "failed"]);
     expect(fit.error).toBeNull();
     expect(fit.status).toBe("done");
     const regions = (

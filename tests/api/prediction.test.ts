@@ -4,15 +4,16 @@
  * block, its N, a recipe the recipe command re-runs to the same numbers,
  * and a methods paragraph. On the seeded demo study (invented data).
  */
-import { eq } from "drizzle-orm";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { recipeSchema } from "../../contract/recipe";
-import { studies, users } from "../../db/schema";
-import { demoPeople, demoStudy } from "../../db/seed";
-import { seedDemoDatasets } from "../../db/seed/demo-datasets";
-import { currentVersions } from "../../server/services/datasets";
-import { createTestApp, type TestApp } from "./helpers";
+import {
+  createTestApp,
+  demoCookie,
+  demoStudyWithData,
+  type TestApp,
+  waitForFitStatus,
+} from "./helpers";
 
 let t: TestApp;
 let studyId: string;
@@ -23,30 +24,10 @@ const as = () => ({
   post: (path: string, body: object) => request(t.url).post(path).set("Cookie", analyst).send(body),
 });
 
-async function waitForStatus(fitId: string, timeoutMs = 120_000): Promise<Record<string, unknown>> {
-  const start = Date.now();
-  for (;;) {
-    const res = await as().get(`/api/fits/${fitId}`).expect(200);
-    if (["done", "failed", "cancelled"].includes(res.body.status)) return res.body;
-    if (Date.now() - start > timeoutMs) throw new Error(`fit ${fitId} stayed ${res.body.status}`);
-    await new Promise((r) => setTimeout(r, 100));
-  }
-}
-
 beforeAll(async () => {
   t = await createTestApp();
-  const [study] = await t.db.select().from(studies).where(eq(studies.name, demoStudy.name));
-  studyId = study.id;
-  const { brain } = await currentVersions(t.db, studyId);
-  if (!brain) {
-    const [owner] = await t.db.select().from(users).where(eq(users.email, demoPeople[0].email));
-    await seedDemoDatasets(t.db, { studyId, uploadedBy: owner.id, now: new Date() });
-  }
-  const res = await request(t.url)
-    .post("/api/dev/demo-sign-in")
-    .send({ email: "analyst@demo.covarion.test" })
-    .expect(200);
-  analyst = String(res.headers["set-cookie"]).split(";")[0];
+  studyId = await demoStudyWithData(t);
+  analyst = await demoCookie(t, "analyst@demo.covarion.test");
 });
 
 afterAll(async () => {
@@ -93,7 +74,7 @@ describe("prediction fits", () => {
     const started = await as()
       .post(`/api/studies/${studyId}/fits`, { modelId: model.body.id })
       .expect(202);
-    const fit = (await waitForStatus(started.body.id)) as {
+    const fit = (await waitForFitStatus(t, analyst, started.body.id)) as {
       status: string;
       error: unknown;
       n: { min: number; max: number } | null;
