@@ -143,6 +143,7 @@ function FitBody({
         <PredictionView
           block={prediction}
           trait={spec?.predictor ?? null}
+          confounds={spec?.covariates ?? []}
           wide={wide}
           participantsVisible={fit.participantsVisible}
         />

@@ -20,15 +20,19 @@ export interface ObservedPredictedPlotProps {
   participants: readonly { participant: string; observed: number; predicted: number }[];
   /** The trait's name for the axis titles. */
   trait: string;
+  /** Confounds removed from the trait inside each training fold (the values shown are residuals). */
+  confounds?: readonly string[];
   testID?: string;
 }
 
 export function ObservedPredictedPlot(props: ObservedPredictedPlotProps) {
   const result = tryLayout(() => observedPredictedDomain(props.participants));
   const n = props.participants.length;
+  const removed =
+    props.confounds && props.confounds.length > 0 ? `, ${props.confounds.join(", ")} removed` : "";
   return (
     <ChartFrame
-      label={`Observed against predicted ${props.trait} for ${formatCount(n)} held-out participants, with the line where prediction equals observation.`}
+      label={`Observed against predicted ${props.trait}${removed} for ${formatCount(n)} held-out participants, with the line where prediction equals observation.`}
       aspect={1.1}
       problem={result.problem}
       testID={props.testID}
@@ -71,7 +75,7 @@ export function ObservedPredictedPlot(props: ObservedPredictedPlotProps) {
               scale={y}
               ticks={ticks}
               labels={labels}
-              title={`Predicted ${props.trait}`}
+              title={`Predicted ${props.trait}${removed}`}
               grid
             />
             <Axis
@@ -80,7 +84,7 @@ export function ObservedPredictedPlot(props: ObservedPredictedPlotProps) {
               scale={x}
               ticks={ticks}
               labels={labels}
-              title={`Observed ${props.trait}`}
+              title={`Observed ${props.trait}${removed}`}
               grid
             />
             <Line

@@ -55,7 +55,7 @@ export function WeightDotPlot(props: WeightDotPlotProps) {
           bottom: BOTTOM,
           left: layout.labelWidth + 12,
         });
-        const count = tickCountFor(area.width, 64);
+        const count = tickCountFor(area.width, 84);
         const domain = niceDomain(
           paddedExtent(
             props.rows.map((r) => r.weight),

@@ -1,7 +1,7 @@
 /**
- * A done prediction fit (kind "prediction"): the held-out scores first, in
- * plain words and as three tiles (r, r² and the mean absolute error, each
- * with its permutation p and its spread over repeats), the caution on how
+ * A done prediction fit (kind "prediction"): the held-out scores first, as
+ * three tiles (r, r² and the mean absolute error, each with its permutation
+ * p and its spread over repeats) and in plain words, the caution on how
  * to read a prediction, then observed against predicted values with the
  * identity line, the learning curve, the region weights as a sorted dot
  * chart with their sign consistency (the 30 largest, or all), and how the
@@ -34,6 +34,8 @@ export function PredictionView(props: {
   block: PredictionBlock;
   /** The trait predicted (the model's `predictor`), for sentences and axis titles. */
   trait: string | null;
+  /** The confounds removed inside each training fold (the model's covariates). */
+  confounds: readonly string[];
   wide: boolean;
   participantsVisible: boolean;
 }) {
@@ -48,7 +50,6 @@ export function PredictionView(props: {
     <View style={styles.root} testID="prediction-view">
       <Card testID="prediction-scores">
         <Heading level={3}>Held-out prediction</Heading>
-        <Txt testID="prediction-sentence">{scoreSentence(block, props.trait)}</Txt>
         <View style={styles.tiles}>
           {scoreTiles(block).map((tile) => (
             <View
@@ -77,6 +78,7 @@ export function PredictionView(props: {
             </View>
           ))}
         </View>
+        <Txt testID="prediction-sentence">{scoreSentence(block, props.trait)}</Txt>
         {spread ? (
           <Txt kind="caption" style={styles.muted}>
             {spread}
@@ -95,12 +97,17 @@ export function PredictionView(props: {
           <Heading level={3}>Observed and predicted</Heading>
           <Txt kind="caption" style={styles.muted}>
             Each participant's prediction comes from a model fitted without them
-            {block.repeats > 1 ? `, averaged over ${formatCount(block.repeats)} repeats` : ""}.
+            {block.repeats > 1 ? `, averaged over ${formatCount(block.repeats)} repeats` : ""}
+            {props.confounds.length > 0
+              ? `. Both are after removing ${props.confounds.join(", ")} inside each training fold`
+              : ""}
+            .
           </Txt>
           {props.participantsVisible && block.participants.length > 0 ? (
             <ObservedPredictedPlot
               participants={block.participants}
               trait={trait}
+              confounds={props.confounds}
               testID="observed-predicted-plot"
             />
           ) : (

@@ -1,0 +1,156 @@
+/**
+ * A prediction fit on the demo study, at phone and wide sizes: the demo
+ * Analyst creates a prediction of "accuracy" from every region with "age"
+ * as a confound (5 folds, 2 repeats, 99 permutations) and runs it through
+ * the API. In the browser the fit shows the held-out scores in words and as
+ * tiles, and the caution on reading a prediction, in its first screen; the
+ * observed against predicted plot, the learning curve and the weight dot
+ * chart are drawn; nothing scrolls sideways and the page logs no errors.
+ * The model form offers the kind with its own plain-words question and
+ * fields.
+ */
+import { beforeAll, expect, it } from "vitest";
+import type { PredictionBlock } from "../../contract/prediction";
+import { demoApi, openPage, phone, screenshot, wide } from "./harness";
+import { sharedServerAndBrowser } from "./session";
+
+const e2e = sharedServerAndBrowser();
+let studyId: string;
+let fitId: string;
+let block: PredictionBlock;
+
+beforeAll(async () => {
+  const analyst = await demoApi(e2e.server.url, "analyst");
+  studyId = ((await analyst("/api/studies")) as { id: string }[])[0].id;
+  const model = (await analyst(`/api/studies/${studyId}/models`, {
+    method: "POST",
+    body: {
+      name: "Accuracy predicted from all regions",
+      regionSelection: "anatomical-or-prior",
+      spec: {
+        kind: "prediction",
+        predictor: "accuracy",
+        covariates: ["age"],
+        folds: 5,
+        repeats: 2,
+        resamples: 99,
+        seed: 7,
+      },
+    },
+  })) as { id: string };
+  const fit = (await analyst(`/api/studies/${studyId}/fits`, {
+    method: "POST",
+    body: { modelId: model.id },
+  })) as { id: string };
+  const deadline = Date.now() + 100_000;
+  for (;;) {
+    const seen = (await analyst(`/api/fits/${fit.id}`)) as {
+      status: string;
+      error?: { message: string } | null;
+      result?: { prediction?: PredictionBlock } | null;
+    };
+    if (seen.status === "done") {
+      fitId = fit.id;
+      block = seen.result?.prediction as PredictionBlock;
+      break;
+    }
+    if (seen.status === "failed" || seen.status === "cancelled" || Date.now() > deadline)
+      throw new Error(`the prediction fit ended ${seen.status}: ${seen.error?.message ?? ""}`);
+    await new Promise((r) => setTimeout(r, 250));
+  }
+}, 120_000);
+
+/** True when the element's box lies within the viewport's height (seen without scrolling). */
+async function inFirstScreen(
+  page: Awaited<ReturnType<typeof openPage>>["page"],
+  testId: string,
+  height: number,
+): Promise<boolean> {
+  const box = await page.getByTestId(testId).first().boundingBox();
+  return box !== null && box.y >= 0 && box.y + box.height <= height;
+}
+
+for (const [label, viewport] of [
+  ["phone", phone],
+  ["wide", wide],
+] as const) {
+  it(`a prediction fit shows scores, caution and plots at ${label} size`, async () => {
+    expect(block.folds).toBe(5);
+    expect(block.repeats).toBe(2);
+    expect(block.permutation?.resamples).toBe(99);
+    const { page, context, errors } = await openPage(e2e.browser, viewport);
+    try {
+      await page.goto(`${e2e.server.url}/sign-in`);
+      await page.getByRole("button", { name: "Sign in as the demo analyst" }).click();
+      await page.waitForURL(/\/studies$/);
+      await page.goto(`${e2e.server.url}/studies/${studyId}/fits/${fitId}`);
+      await page.getByTestId("prediction-view").waitFor();
+      await screenshot(page, `prediction-${label}-top`);
+
+      const sentence = await page.getByTestId("prediction-sentence").innerText();
+      expect(sentence).toMatch(
+        /^Predicted in people the model had not seen \(2 repeats of 5-fold cross-validation\): r = /,
+      );
+      expect(sentence).toMatch(/r = [−\d.n/a]+ \(p (=|<) [\d.]+\), r² = /);
+      // Wide: in the first screen. Phone: the study's frame and the fit's header fill
+      // most of the first screen, so the scores and the caution follow within the second.
+      const reach = label === "phone" ? 2 * viewport.height : viewport.height;
+      for (const id of ["score-r", "score-r2", "score-mae", "prediction-caution"])
+        expect(await inFirstScreen(page, id, reach), `${id} within reach`).toBe(true);
+      await expect(page.getByTestId("score-r").innerText()).resolves.toContain("p ");
+      await expect(page.getByTestId("prediction-caution").innerText()).resolves.toContain(
+        "held-out scores",
+      );
+      // No region table for a prediction fit.
+      expect(await page.getByTestId("fit-regions").count()).toBe(0);
+
+      for (const id of ["observed-predicted-plot", "learning-curve-plot", "weight-dot-plot"]) {
+        const plot = page.getByTestId(id);
+        await plot.scrollIntoViewIfNeeded();
+        await expect(plot.locator("svg").first().isVisible()).resolves.toBe(true);
+      }
+      const dots = await page.getByTestId("weight-dot-plot").locator("svg circle").count();
+      expect(dots).toBe(Math.min(30, block.regions.length));
+      await page.getByTestId("observed-predicted-plot").scrollIntoViewIfNeeded();
+      await screenshot(page, `prediction-${label}-plots`);
+      await page.getByTestId("weight-dot-plot").scrollIntoViewIfNeeded();
+      await screenshot(page, `prediction-${label}-weights`);
+      await expect(page.getByTestId("prediction-lambda").innerText()).resolves.toMatch(
+        /^Penalty chosen inside each training fold by cross-validation: /,
+      );
+
+      const sideways = await page.evaluate(
+        () => document.documentElement.scrollWidth - document.documentElement.clientWidth,
+      );
+      expect(sideways).toBeLessThanOrEqual(0);
+      expect(errors).toEqual([]);
+    } finally {
+      await context.close();
+    }
+  });
+}
+
+it("the model form offers a prediction with its own fields", async () => {
+  const { page, context, errors } = await openPage(e2e.browser, phone);
+  try {
+    await page.goto(`${e2e.server.url}/sign-in`);
+    await page.getByRole("button", { name: "Sign in as the demo analyst" }).click();
+    await page.waitForURL(/\/studies$/);
+    await page.goto(`${e2e.server.url}/studies/${studyId}/models/new`);
+    await page.getByTestId("model-kind").getByRole("radio", { name: "Predicts a trait" }).click();
+    await page.getByTestId("model-predictor").getByRole("radio", { name: "accuracy" }).click();
+    await expect(page.getByTestId("model-question").innerText()).resolves.toBe(
+      "How well do these regions predict accuracy in people the model has not seen?",
+    );
+    for (const id of ["model-folds", "model-penalty", "model-inference", "model-resamples"])
+      await expect(page.getByTestId(id).isVisible()).resolves.toBe(true);
+    for (const id of ["model-estimator", "model-correction"])
+      expect(await page.getByTestId(id).count()).toBe(0);
+    await page.getByTestId("model-folds").getByRole("radio", { name: "Leave one out" }).click();
+    expect(await page.getByTestId("model-repeats").count()).toBe(0);
+    await screenshot(page, "prediction-form-phone");
+    expect(errors).toEqual([]);
+  } finally {
+    await context.close();
+  }
+});
