@@ -65,7 +65,7 @@ export function LearningCurvePlot(props: LearningCurvePlotProps) {
         const series = result.layout;
         if (!series) return null;
         const all = [...series.r, ...series.r2];
-        const yCount = tickCountFor(viewport.height - 60, 40);
+        const yCount = tickCountFor(viewport.height - 50, 30);
         const yDomain = niceDomain(
           paddedExtent(
             all.flatMap((p) => [p.low, p.high]),

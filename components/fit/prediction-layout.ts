@@ -8,14 +8,14 @@
  */
 import type { LearningCurvePoint, PredictionBlock } from "../../contract/prediction";
 import { ChartInputError, requireFinite } from "../charts/chart-input-error";
-import { formatCount, formatValue } from "../charts/number-format";
+import { formatCount, formatFixed, formatValue } from "../charts/number-format";
 import { estimateTextWidth, paddedExtent } from "../charts/scales";
 import { pPhrase } from "./p-text";
 
 /** A score as the screen prints it: two decimals for r and r², three significant digits for MAE. */
 export function scoreText(value: number | null, kind: "r" | "r2" | "mae"): string {
   if (value === null || !Number.isFinite(value)) return "n/a";
-  return kind === "mae" ? formatValue(value, 3) : formatValue(Number(value.toFixed(2)), 2);
+  return kind === "mae" ? formatValue(value, 3) : formatFixed(value, 2);
 }
 
 /** "± 0.03" for a spread over repeats, or null when there is none (one repeat). */
@@ -35,6 +35,8 @@ export function schemeWords(block: Pick<PredictionBlock, "folds" | "repeats">): 
 export interface ScoreTile {
   key: "r" | "r2" | "mae";
   name: string;
+  /** The name on a phone's narrow tile. */
+  shortName: string;
   value: string;
   spread: string | null;
   p: string | null;
@@ -47,6 +49,7 @@ export function scoreTiles(block: PredictionBlock): ScoreTile[] {
     {
       key: "r",
       name: "r",
+      shortName: "r",
       value: scoreText(block.r, "r"),
       spread: spreadText(block.spread.r, "r"),
       p: perm ? pPhrase(perm.pR) : null,
@@ -54,6 +57,7 @@ export function scoreTiles(block: PredictionBlock): ScoreTile[] {
     {
       key: "r2",
       name: "r²",
+      shortName: "r²",
       value: scoreText(block.r2, "r2"),
       spread: spreadText(block.spread.r2, "r2"),
       p: perm ? pPhrase(perm.pR2) : null,
@@ -61,6 +65,7 @@ export function scoreTiles(block: PredictionBlock): ScoreTile[] {
     {
       key: "mae",
       name: "Mean absolute error",
+      shortName: "MAE",
       value: scoreText(block.mae, "mae"),
       spread: spreadText(block.spread.mae, "mae"),
       p: null,

@@ -59,17 +59,17 @@ export function PredictionView(props: {
               accessible
               accessibilityLabel={`${tile.name} ${tile.value}${tile.spread ? ` ${tile.spread} over repeats` : ""}${tile.p ? `, ${tile.p}` : ""}`}
             >
-              <Txt kind="caption" style={styles.tileName}>
-                {tile.name}
+              <Txt kind="caption" style={styles.tileName} numberOfLines={1}>
+                {wide ? tile.name : tile.shortName}
               </Txt>
               <Txt kind="lead" style={styles.tileValue}>
                 {tile.value}
-                {tile.spread ? (
-                  <Txt kind="small" style={styles.muted}>
-                    {` ${tile.spread}`}
-                  </Txt>
-                ) : null}
               </Txt>
+              {tile.spread ? (
+                <Txt kind="small" style={styles.muted}>
+                  {tile.spread}
+                </Txt>
+              ) : null}
               {tile.p ? (
                 <Txt kind="small" style={styles.muted}>
                   {tile.p}

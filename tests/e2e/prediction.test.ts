@@ -111,8 +111,12 @@ for (const [label, viewport] of [
       }
       const dots = await page.getByTestId("weight-dot-plot").locator("svg circle").count();
       expect(dots).toBe(Math.min(30, block.regions.length));
+      await page.getByTestId("prediction-scores").scrollIntoViewIfNeeded();
+      await screenshot(page, `prediction-${label}-scores`);
       await page.getByTestId("observed-predicted-plot").scrollIntoViewIfNeeded();
       await screenshot(page, `prediction-${label}-plots`);
+      await page.getByTestId("learning-curve-plot").scrollIntoViewIfNeeded();
+      await screenshot(page, `prediction-${label}-curve`);
       await page.getByTestId("weight-dot-plot").scrollIntoViewIfNeeded();
       await screenshot(page, `prediction-${label}-weights`);
       await expect(page.getByTestId("prediction-lambda").innerText()).resolves.toMatch(

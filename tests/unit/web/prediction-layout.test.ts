@@ -61,6 +61,8 @@ describe("score words", () => {
     expect(tiles.map((t) => t.value)).toEqual(["n/a", "\u22120.12", "4.24"]);
     expect(tiles.map((t) => t.p)).toEqual(["p = 0.004", "p = 0.006", null]);
     expect(tiles[0].spread).toBe("± 0.03");
+    expect(scoreTiles(block({ r: 0.5 }))[0].value).toBe("0.50");
+    expect(tiles[2].shortName).toBe("MAE");
   });
   it("explains spread and p only when they exist", () => {
     expect(
