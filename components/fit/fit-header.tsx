@@ -40,7 +40,8 @@ export function FitHeader({
 }) {
   const n = nWords(fit.n);
   const plain = [
-    ...(n ? [`${n} per region`] : []),
+    // A prediction is one model over every chosen region: its N is the participants complete in all of them.
+    ...(n ? [spec?.kind === "prediction" ? `${n} in the model` : `${n} per region`] : []),
     ...(spec ? [regionsOf(spec, regions.length || undefined), methodOf(spec)] : []),
   ];
   return (
