@@ -32,7 +32,75 @@ export const estimatorsByKind: Readonly<Record<Kind, readonly Estimator[]>> = {
   reliability: ["ols"],
   // A prediction's method is fixed (ridge regression inside cross-validation); the field keeps its default.
   prediction: ["ols"],
+  // A specification curve's estimators are those of its underlying question (association or two-group; see curveKind).
+  "specification-curve": ["ols", "welch", "rank", "huber", "bisquare", "skipped", "bend"],
 };
+
+/** The question a specification curve asks: an association with a predictor, otherwise two groups. */
+export function curveKind(spec: Pick<ModelSpec, "predictor">): "association" | "two-group" {
+  return spec.predictor ? "association" : "two-group";
+}
+
+/** The rules of a specification curve's own fields (every other kind: `specifications` refused). */
+function curveProblems(spec: ModelSpec, add: (field: string, message: string) => void): void {
+  if (spec.kind !== "specification-curve") {
+    if (spec.specifications !== undefined)
+      add("specifications", "used by kind 'specification-curve' only");
+    return;
+  }
+  if (spec.predictor && spec.group)
+    add(
+      "group",
+      "a specification curve asks one question: a predictor (association) or a group (two groups), not both",
+    );
+  if (!spec.predictor && !spec.group)
+    add(
+      "predictor",
+      "a specification curve needs a predictor (association) or a group and levels (two groups)",
+    );
+  if (spec.group && !spec.predictor && !spec.levels)
+    add("levels", "a specification curve of two groups needs the two levels to compare");
+  if (!spec.regions || spec.regions.length !== 1)
+    add("regions", "a specification curve takes exactly one region");
+  if (spec.inference !== "parametric" && spec.inference !== "permutation")
+    add(
+      "inference",
+      "kind 'specification-curve' takes parametric inference or permutation (the joint test)",
+    );
+  if (spec.correction !== "none")
+    add("correction", "kind 'specification-curve' has one region; no correction applies");
+  if (spec.weights !== "none") add("weights", "kind 'specification-curve' does not take weights");
+  if (spec.covariates.length > 0)
+    add("covariates", "a specification curve lists its covariates in specifications.covariateSets");
+  const kind = curveKind(spec);
+  const estimatorsListed = spec.specifications?.estimators ?? [spec.estimator];
+  const sets = spec.specifications?.covariateSets ?? [[]];
+  if (new Set(estimatorsListed).size !== estimatorsListed.length)
+    add("specifications.estimators", "an estimator is listed twice");
+  estimatorsListed.forEach((e, k) => {
+    if (!estimatorsByKind[kind].includes(e))
+      add(`specifications.estimators.${k}`, `'${e}' is not available for kind '${kind}'`);
+    else if (!takesDesign(e) && !(kind === "association" && e === "rank")) {
+      const j = sets.findIndex((set) => set.length > 0);
+      if (j >= 0)
+        add(
+          `specifications.estimators.${k}`,
+          `estimator '${e}' does not take covariates, and covariate set ${j + 1} has some`,
+        );
+    }
+  });
+  if (new Set(sets.map((set) => JSON.stringify(set))).size !== sets.length)
+    add("specifications.covariateSets", "a covariate set is listed twice");
+  sets.forEach((set, j) => {
+    if (new Set(set).size !== set.length)
+      add(`specifications.covariateSets.${j}`, "a column is listed twice");
+    for (const c of set) {
+      if (c === spec.predictor)
+        add(`specifications.covariateSets.${j}`, `'${c}' is already the predictor`);
+      if (c === spec.group) add(`specifications.covariateSets.${j}`, `'${c}' is already the group`);
+    }
+  });
+}
 
 /** Estimators that fit a design with covariates (least squares and M-estimation). */
 function takesDesign(estimator: Estimator): boolean {
@@ -48,7 +116,7 @@ export function specProblems(spec: ModelSpec): SpecProblem[] {
   const out: SpecProblem[] = [];
   const add = (field: string, message: string) => out.push({ field, message });
   const { kind } = spec;
-  if (!estimatorsByKind[kind].includes(spec.estimator))
+  if (kind !== "specification-curve" && !estimatorsByKind[kind].includes(spec.estimator))
     add("estimator", `'${spec.estimator}' is not available for kind '${kind}'`);
   if (kind === "association" && !spec.predictor)
     add(
@@ -60,11 +128,22 @@ export function specProblems(spec: ModelSpec): SpecProblem[] {
       "predictor",
       "a prediction needs the trait to predict (a numeric column of the participant sheet)",
     );
-  if (kind !== "association" && kind !== "prediction" && spec.predictor)
+  if (
+    kind !== "association" &&
+    kind !== "prediction" &&
+    kind !== "specification-curve" &&
+    spec.predictor
+  )
     add("predictor", `not used by kind '${kind}'`);
   if (kind === "two-group" && !spec.group)
     add("group", "a two-group model needs a grouping column");
-  if (spec.group && kind !== "two-group" && kind !== "association" && kind !== "prediction")
+  if (
+    spec.group &&
+    kind !== "two-group" &&
+    kind !== "association" &&
+    kind !== "prediction" &&
+    kind !== "specification-curve"
+  )
     add("group", `not used by kind '${kind}'`);
   if (spec.levels && !spec.group) add("levels", "given without a group");
   if (spec.levels && kind === "prediction")
@@ -132,6 +211,7 @@ export function specProblems(spec: ModelSpec): SpecProblem[] {
   }
   if (spec.interaction && !takesDesign(spec.estimator))
     add("interaction", `estimator '${spec.estimator}' does not support an interaction`);
+  curveProblems(spec, add);
   return out;
 }
 
@@ -203,6 +283,31 @@ export function dataProblems(spec: ModelSpec, shape: DataShape): SpecProblem[] {
       need("predictor", spec.predictor, "an association needs a numeric trait");
     if (spec.kind === "prediction")
       need("predictor", spec.predictor, "a prediction needs a numeric trait");
+    if (spec.kind === "specification-curve") {
+      need("predictor", spec.predictor, "an association needs a numeric trait");
+      (spec.specifications?.covariateSets ?? []).forEach((set, j) => {
+        set.forEach((c, k) => {
+          need(`specifications.covariateSets.${j}.${k}`, c, null);
+        });
+      });
+      (spec.specifications?.exclusionRules ?? []).forEach((rule, k) => {
+        const field = `specifications.exclusionRules.${k}`;
+        const order = rule.op !== "==" && rule.op !== "!=";
+        if (
+          !need(
+            field,
+            rule.column,
+            order ? `'${rule.op}' compares numbers; a category takes == or !=` : null,
+          )
+        )
+          return;
+        if (isNumeric.has(rule.column) && !Number.isFinite(Number(rule.value)))
+          add(
+            field,
+            `column '${rule.column}' of ${sheet} holds numbers; the value '${rule.value}' is not a number`,
+          );
+      });
+    }
     spec.covariates.forEach((c, k) => {
       need(
         `covariates.${k}`,

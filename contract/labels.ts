@@ -20,6 +20,7 @@ export const kindLabels: Readonly<Record<Kind, string>> = {
   "one-sample": "Effect across the group",
   reliability: "Reliability across sessions",
   prediction: "Predicts a trait in new people",
+  "specification-curve": "Every reasonable analysis of one question",
 };
 
 export const estimatorLabels: Readonly<Record<Estimator, string>> = {

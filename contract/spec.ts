@@ -7,6 +7,7 @@
  * `FitResult`. Keys and meanings follow the recipe contract in DEVELOPERS.md.
  */
 import { z } from "zod";
+import { exclusionRuleSchema } from "./exclusion-rules";
 
 export const modelKinds = [
   "one-sample",
@@ -14,6 +15,7 @@ export const modelKinds = [
   "association",
   "reliability",
   "prediction",
+  "specification-curve",
 ] as const;
 export const estimators = ["ols", "welch", "rank", "huber", "bisquare", "skipped", "bend"] as const;
 export const inferences = ["parametric", "permutation", "bootstrap", "none"] as const;
@@ -28,7 +30,7 @@ export const setAsideSchema = z.strictObject({
 /**
  * The model fields. Defaults that depend on the kind are filled in by
  * `withKindDefaults` (a prediction's inference, resamples, folds and
- * repeats); every other default is the field's own.
+ * repeats; a specification curve's resamples, 500); every other default is the field's own.
  */
 export const modelSpecShape = {
   kind: z.enum(modelKinds),
@@ -47,7 +49,7 @@ export const modelSpecShape = {
   estimator: z.enum(estimators).default("ols"),
   /** Default "parametric"; "permutation" for a prediction. */
   inference: z.enum(inferences).optional(),
-  /** Default 10,000; 1,000 for a prediction. */
+  /** Default 10,000; 1,000 for a prediction; 500 null draws for a specification curve. */
   resamples: z.number().int().min(1).max(1_000_000).optional(),
   seed: z
     .number()
@@ -69,6 +71,22 @@ export const modelSpecShape = {
   lambda: z.number().positive().optional(),
   /** prediction: the penalties the inner cross-validation chooses from (default 20 values, 10⁻³…10³ × training rows). */
   lambdaGrid: z.array(z.number().positive()).min(1).max(200).optional(),
+  /**
+   * specification-curve: the reasonable alternatives; every combination of
+   * estimator × covariate set × on/off of each exclusion rule is fitted.
+   * Omitted parts: the model's estimator, no covariates, no rules.
+   */
+  specifications: z
+    .strictObject({
+      estimators: z.array(z.enum(estimators)).min(1).max(7).optional(),
+      covariateSets: z
+        .array(z.array(z.string().min(1)))
+        .min(1)
+        .max(64)
+        .optional(),
+      exclusionRules: z.array(exclusionRuleSchema).max(8).optional(),
+    })
+    .optional(),
 };
 
 /** The kind-dependent defaults, filled in after the fields are parsed. */
@@ -85,7 +103,7 @@ export function withKindDefaults<
     return {
       ...fields,
       inference: fields.inference ?? "parametric",
-      resamples: fields.resamples ?? 10_000,
+      resamples: fields.resamples ?? (fields.kind === "specification-curve" ? 500 : 10_000),
     };
   const folds = fields.folds ?? 10;
   return {

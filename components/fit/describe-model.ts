@@ -24,6 +24,10 @@ export function questionOf(
       return "How reliable is the contrast across sessions?";
     case "prediction":
       return `How well do these regions predict ${spec.predictor ?? "the trait"} in people the model has not seen${controls}?`;
+    case "specification-curve":
+      return spec.predictor
+        ? `Does the contrast track ${spec.predictor} under every reasonable analysis?`
+        : `Does the contrast differ between ${spec.levels ? `${spec.levels[0]} and ${spec.levels[1]}` : `the groups of ${spec.group ?? "?"}`} under every reasonable analysis?`;
   }
 }
 

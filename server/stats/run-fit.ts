@@ -34,6 +34,10 @@
  * - prediction: the trait predicted from all chosen regions together by
  *   cross-validated ridge regression (fit/prediction.ts); one `prediction`
  *   block instead of per-region rows.
+ * - specification-curve: one region and one question fitted under every
+ *   combination of estimators, covariate sets and exclusion rules, each an
+ *   ordinary fit (fit/specification-curve.ts); `specifications`, `summary`
+ *   and, with permutation, the joint test instead of per-region rows.
  * - weights "first-level-se": weighted meta-regression with τ² for one-sample,
  *   two-group and association fits with estimator ols.
  *
@@ -74,6 +78,7 @@ import { diagnosticNotes, weightingNotes } from "./fit/notes";
 import { prepare } from "./fit/prepare";
 import { runPrediction } from "./fit/prediction";
 import { runReliability } from "./fit/reliability";
+import { runSpecificationCurve } from "./fit/specification-curve";
 
 export { FIT_LEVEL, type RunFitOptions } from "./fit/common";
 export { NULL_HISTOGRAM_BINS } from "./fit/infer";
@@ -90,6 +95,7 @@ export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = 
   const s = prep.spec;
   if (s.kind === "reliability") return runReliability(prep, options);
   if (s.kind === "prediction") return runPrediction(prep, options);
+  if (s.kind === "specification-curve") return runSpecificationCurve(prep, options);
   const kind = s.kind as Kind;
   const regionCount = prep.regionIndex.length;
   const heavy = s.inference !== "parametric";

@@ -1,0 +1,52 @@
+/**
+ * What a specification-curve fit (kind "specification-curve") reports, in
+ * one place for the engine (server/stats/specification-curve/), the API (the
+ * fit's result) and the fit screen. Types only.
+ */
+
+/** One specification: one estimator, one covariate set, one subset of the exclusion rules. */
+export interface CurveSpecification {
+  estimator: string;
+  covariates: string[];
+  /** Indices (into specifications.exclusionRules) of the rules switched on. */
+  exclusions: number[];
+  n: number;
+  estimate: number;
+  ciLow: number | null;
+  ciHigh: number | null;
+  p: number;
+}
+
+export interface CurveSummary {
+  count: number;
+  medianEstimate: number;
+  /** Share of specifications with an estimate above 0. */
+  sharePositive: number;
+  /** Share with p < .05 (two-sided) and an estimate above 0. */
+  shareSignificantPositive: number;
+  /** Share with p < .05 (two-sided) and an estimate below 0. */
+  shareSignificantNegative: number;
+}
+
+/** The joint test (Simonsohn, Simmons & Nelson 2020): p-values against curves of null data. */
+export interface CurveJointTest {
+  resamples: number;
+  /** "positive" or "negative": the sign of the observed median estimate (positive at 0). */
+  dominantDirection: "positive" | "negative";
+  /** Share of specifications significant (p < .05) in the dominant direction. */
+  shareSignificantDominant: number;
+  /** Stouffer's Z of the one-sided p-values in the dominant direction. */
+  stoufferZ: number;
+  pMedian: number;
+  pShareSignificant: number;
+  pStouffer: number;
+}
+
+/** The fields a specification-curve result adds to a fit's result. */
+export interface CurveResultFields {
+  region: string;
+  question: "association" | "two-group";
+  specifications: CurveSpecification[];
+  summary: CurveSummary;
+  jointTest?: CurveJointTest;
+}

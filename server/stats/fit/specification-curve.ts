@@ -1,0 +1,238 @@
+/**
+ * A fit of kind "specification-curve": one question (an association with
+ * `predictor`, or two groups with `group` and `levels`) in one region,
+ * fitted under every combination of the reasonable alternatives the analyst
+ * lists — estimator × covariate set × on/off of each exclusion rule (2^k
+ * subsets) — after Simonsohn, Simmons & Nelson 2020 (Nature Human Behaviour
+ * 4:1208–1214) and Steegen et al. 2016 (multiverse analysis).
+ *
+ * Every specification is the ordinary single-region fit: an association or
+ * two-group ModelSpec with that estimator and covariates, the model's own
+ * set-asides plus the participants the switched-on rules exclude, checked
+ * by prepare.ts and estimated by estimateRegionWork (estimate.ts) — the same
+ * code as an ordinary fit, so each specification equals it exactly.
+ *
+ * Exclusion rules (contract/exclusion-rules.ts) are judged on the
+ * participant sheet: numeric comparisons, == and != also on categories; a
+ * participant with a missing value in a rule's column is not excluded by
+ * that rule.
+ *
+ * Joint test (inference "permutation", `resamples` null draws): the null
+ * data are made by permuting the trait — the predictor of an association,
+ * the group label of two groups — across all participants of the sheet with
+ * one random permutation per draw (seeded by `seed`), while each
+ * participant keeps their brain value, covariates and exclusion-column
+ * values together. Every specification is re-run on each null draw and the
+ * curve scored as in specification-curve/joint.ts. The permutation makes
+ * the trait unrelated to the brain value in every specification at once
+ * (and, unlike removing the estimated effect, needs no model to be right).
+ */
+import { curveKind } from "../../../contract/fit-rules";
+import type { ModelSpec, FitResult } from "../../../contract/spec";
+import type { CurveSpecification } from "../../../contract/specification-curve";
+import { meetsRule, ruleText } from "../../../contract/exclusion-rules";
+import { shuffleInPlace } from "../rearrangements";
+import { createRng } from "../rng";
+import {
+  type CurveStatistics,
+  curveStatistics,
+  curveSummary,
+  jointPValues,
+} from "../specification-curve/joint";
+import { FIT_LEVEL, type RunFitOptions, assertFinite, cancelled, fail, inRegion } from "./common";
+import { estimateRegionWork } from "./estimate";
+import { type Prepared, prepare } from "./prepare";
+
+type Estimator = ModelSpec["estimator"];
+
+interface Choice {
+  estimator: Estimator;
+  covariates: string[];
+  exclusions: number[];
+  prep: Prepared;
+}
+
+/** Participant indices each rule excludes (a missing value is not excluded). */
+function excludedBy(prep: Prepared): number[][] {
+  const { data } = prep;
+  const rules = prep.spec.specifications?.exclusionRules ?? [];
+  return rules.map((rule) => {
+    const numeric = Object.hasOwn(data.numericColumns, rule.column)
+      ? data.numericColumns[rule.column]
+      : null;
+    const column = numeric ?? data.categoricalColumns[rule.column];
+    const out: number[] = [];
+    for (let i = 0; i < data.participants.length; i++)
+      if (meetsRule(rule, column[i] ?? null)) out.push(i);
+    return out;
+  });
+}
+
+/** Every specification of the curve, in a fixed order (estimator, covariate set, rule subset), each prepared as an ordinary fit. */
+function choicesOf(prep: Prepared): Choice[] {
+  const s = prep.spec;
+  const question = curveKind(s);
+  const estimatorList = s.specifications?.estimators ?? [s.estimator];
+  const sets = s.specifications?.covariateSets ?? [[]];
+  const rules = s.specifications?.exclusionRules ?? [];
+  const excluded = excludedBy(prep);
+  const out: Choice[] = [];
+  for (const estimator of estimatorList)
+    for (const covariates of sets)
+      for (let mask = 0; mask < 1 << rules.length; mask++) {
+        const exclusions = rules.map((_, k) => k).filter((k) => mask & (1 << k));
+        const setAside = [...s.setAside];
+        for (const k of exclusions)
+          for (const i of excluded[k])
+            setAside.push({
+              participant: prep.data.participants[i],
+              reason: `rule: ${ruleText(rules[k])}`,
+            });
+        const sub = ordinarySpec(s, question, estimator, covariates, setAside);
+        const label = `specification (${estimator}; covariates: ${covariates.join(", ") || "none"}; rules on: ${exclusions.map((k) => k + 1).join(", ") || "none"})`;
+        let p: Prepared;
+        try {
+          p = prepare(sub, prep.data);
+        } catch (e) {
+          if (e instanceof Error) fail(`${label}: ${e.message}`);
+          throw e;
+        }
+        out.push({ estimator, covariates, exclusions, prep: p });
+      }
+  return out;
+}
+
+/** The ordinary association or two-group model of one specification. */
+export function ordinarySpec(
+  s: ModelSpec,
+  question: "association" | "two-group",
+  estimator: Estimator,
+  covariates: string[],
+  setAside: ModelSpec["setAside"],
+): ModelSpec {
+  return {
+    kind: question,
+    regions: s.regions,
+    ...(question === "association"
+      ? { predictor: s.predictor }
+      : { group: s.group, levels: s.levels }),
+    covariates,
+    interaction: false,
+    estimator,
+    inference: "parametric",
+    resamples: s.resamples,
+    seed: s.seed,
+    correction: "none",
+    setAside,
+    weights: "none",
+    tau2Method: s.tau2Method,
+    smallSample: s.smallSample,
+  };
+}
+
+/** One specification's estimate on its prepared data (a fresh decomposition: designs differ between specifications). */
+function fitOne(prep: Prepared, r: number) {
+  return estimateRegionWork(prep, r, new Map()).result;
+}
+
+/**
+ * Runs the curve. Cost: K = estimators × covariate sets × 2^rules ordinary
+ * single-region fits, times (resamples + 1) with the joint test.
+ */
+export function runSpecificationCurve(prep: Prepared, options: RunFitOptions): FitResult {
+  const { onProgress, shouldCancel } = options;
+  const s = prep.spec;
+  const r = prep.regionIndex[0];
+  const region = prep.data.regions[r];
+  const question = curveKind(s);
+  const choices = inRegion(region, () => choicesOf(prep));
+  const K = choices.length;
+  const observed = inRegion(region, () =>
+    choices.map((c) => {
+      const res = fitOne(c.prep, r);
+      return { c, res };
+    }),
+  );
+  const specifications: CurveSpecification[] = observed.map(({ c, res }) => ({
+    estimator: c.estimator,
+    covariates: [...c.covariates],
+    exclusions: c.exclusions,
+    n: res.n,
+    estimate: res.estimate,
+    ciLow: res.ciLow,
+    ciHigh: res.ciHigh,
+    p: res.p,
+  }));
+  const summary = curveSummary(specifications);
+  const notes = [
+    `${K} specification${K === 1 ? "" : "s"}: every combination of estimator, covariate set and exclusion rules switched on or off; each is the ordinary ${question === "association" ? "association" : "two-group"} fit of region '${region}'.`,
+    "Significant: p < .05, two-sided. Exclusion rules are judged on the participant sheet; a participant with a missing value in a rule's column is not excluded by that rule.",
+  ];
+  let jointTest: FitResult["jointTest"];
+  if (s.inference === "permutation") {
+    const m = s.resamples;
+    const n = prep.data.participants.length;
+    const rng = createRng(s.seed);
+    const perm = new Int32Array(n);
+    const estimates = new Float64Array(K);
+    const ps = new Float64Array(K);
+    const nulls: CurveStatistics[] = [];
+    const trait =
+      question === "association"
+        ? (prep.data.numericColumns[s.predictor as string] as readonly (number | null)[])
+        : null;
+    const groupColumn = choices[0]?.prep.group ?? null;
+    for (let d = 0; d < m; d++) {
+      if (shouldCancel?.()) cancelled();
+      for (let i = 0; i < n; i++) perm[i] = i;
+      shuffleInPlace(perm, rng);
+      const permuted =
+        question === "association"
+          ? { predictor: Array.from(perm, (j) => (trait as readonly (number | null)[])[j]) }
+          : { group: Array.from(perm, (j) => (groupColumn as readonly (string | null)[])[j]) };
+      inRegion(region, () => {
+        for (let k = 0; k < K; k++) {
+          const res = fitOne({ ...choices[k].prep, ...permuted }, r);
+          estimates[k] = res.estimate;
+          ps[k] = res.p;
+        }
+      });
+      nulls.push(curveStatistics(estimates, ps));
+      onProgress?.(Math.min(1, (d + 1) / m));
+    }
+    const obs = curveStatistics(
+      specifications.map((x) => x.estimate),
+      specifications.map((x) => x.p),
+    );
+    jointTest = {
+      resamples: m,
+      dominantDirection: obs.direction > 0 ? "positive" : "negative",
+      shareSignificantDominant: obs.shareDominant,
+      stoufferZ: obs.stoufferZ,
+      ...jointPValues(obs, nulls),
+    };
+    notes.push(
+      `Joint test: ${m} null data sets, each made by permuting ${question === "association" ? `the trait '${s.predictor}'` : `the group labels of '${s.group}'`} across participants (each keeps their brain value, covariates and exclusion-column values), every specification re-run on each; p = (b + 1)/(m + 1) for the median estimate, the share significant in the dominant direction and Stouffer's Z.`,
+    );
+  }
+  specifications.sort((a, b) => a.estimate - b.estimate);
+  const result: FitResult = {
+    regions: [],
+    participants: [],
+    notes,
+    kind: "specification-curve",
+    estimator: s.estimator,
+    inference: s.inference,
+    correction: s.correction,
+    seed: s.seed,
+    level: FIT_LEVEL,
+    region,
+    question,
+    specifications,
+    summary,
+    ...(jointTest ? { jointTest } : {}),
+  };
+  assertFinite(result, "result");
+  onProgress?.(1);
+  return result;
+}

@@ -1,0 +1,273 @@
+/**
+ * The specification curve (kind "specification-curve"): every specification
+ * against the engine's own ordinary fit, the count of specifications, the
+ * summary shares by hand, the rule evaluation, and the joint test's null
+ * draws (Simonsohn, Simmons & Nelson 2020, Nature Human Behaviour
+ * 4:1208–1214).
+ */
+import { describe, expect, it } from "vitest";
+import { meetsRule } from "../../../../contract/exclusion-rules";
+import { specProblems } from "../../../../contract/fit-rules";
+import { type FitData, type ModelSpecInput, modelSpecSchema } from "../../../../contract/spec";
+import type { CurveSpecification } from "../../../../contract/specification-curve";
+import { runFit } from "../../../../server/stats/run-fit";
+import { createRng, normalDraw } from "../../../../server/stats/rng";
+import { curveStatistics, curveSummary } from "../../../../server/stats/specification-curve/joint";
+
+function invented(n: number, slope: number, seed: number): FitData {
+  const rng = createRng(seed);
+  const participants = Array.from({ length: n }, (_, i) => `p${i + 1}`);
+  const trait: (number | null)[] = [];
+  const age: (number | null)[] = [];
+  const fd: (number | null)[] = [];
+  const site: (string | null)[] = [];
+  const group: (string | null)[] = [];
+  const y = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const t = normalDraw(rng);
+    const a = 20 + 10 * rng.next();
+    const f = 0.6 * rng.next();
+    trait.push(i === 3 ? null : t);
+    age.push(a);
+    fd.push(i === 5 ? null : f);
+    site.push(i % 3 === 0 ? "north" : "south");
+    group.push(i % 2 === 0 ? "patient" : "control");
+    y[i] = slope * t + 0.05 * a + 0.3 * normalDraw(rng) + (i % 2 === 0 ? slope : 0);
+  }
+  return {
+    participants,
+    regions: ["amygdala", "insula"],
+    values: [y, Float64Array.from(y, (v) => -v)],
+    numericColumns: { trait, age, mean_fd: fd },
+    categoricalColumns: { site, group },
+  };
+}
+
+const curveInput: ModelSpecInput = {
+  kind: "specification-curve",
+  regions: ["amygdala"],
+  predictor: "trait",
+  specifications: {
+    estimators: ["ols", "huber", "rank"],
+    covariateSets: [[], ["age"], ["age", "site"]],
+    exclusionRules: [
+      { column: "mean_fd", op: ">", value: 0.4, reason: "motion" },
+      { column: "site", op: "==", value: "north", reason: "scanner change" },
+    ],
+  },
+};
+
+describe("specification curve", () => {
+  const data = invented(60, 0.5, 7);
+  const spec = modelSpecSchema.parse(curveInput);
+  const result = runFit(spec, data);
+  const specs = result.specifications as CurveSpecification[];
+
+  it("has one specification per combination: 3 estimators × 3 covariate sets × 2² rule subsets", () => {
+    // Exact enumeration: 3 × 3 × 4 = 36.
+    expect(specs).toHaveLength(36);
+    expect((result.summary as { count: number }).count).toBe(36);
+    const keys = new Set(specs.map((s) => `${s.estimator}|${s.covariates}|${s.exclusions}`));
+    expect(keys.size).toBe(36);
+  });
+
+  it("sorts the specifications by estimate", () => {
+    for (let k = 1; k < specs.length; k++)
+      expect(specs[k].estimate).toBeGreaterThanOrEqual(specs[k - 1].estimate);
+  });
+
+  it("gives every least-squares specification the estimate, interval and p of the ordinary association fit (exact comparison against the engine's own ordinary fit)", () => {
+    const fd = data.numericColumns.mean_fd;
+    const site = data.categoricalColumns.site;
+    const ols = specs.filter((s) => s.estimator === "ols");
+    expect(ols).toHaveLength(12);
+    for (const s of ols) {
+      // The exclusions written out by hand: fd > 0.4 (missing fd kept), site == north.
+      const setAside = data.participants
+        .filter((_, i) => {
+          const motion = s.exclusions.includes(0) && fd[i] !== null && (fd[i] as number) > 0.4;
+          const north = s.exclusions.includes(1) && site[i] === "north";
+          return motion || north;
+        })
+        .map((participant) => ({ participant, reason: "excluded" }));
+      const ordinary = runFit(
+        modelSpecSchema.parse({
+          kind: "association",
+          regions: ["amygdala"],
+          predictor: "trait",
+          covariates: s.covariates,
+          setAside,
+        }),
+        data,
+      ).regions[0];
+      const close = (a: number | null, b: number | null) =>
+        expect(Math.abs((a as number) - (b as number))).toBeLessThanOrEqual(
+          1e-9 * Math.max(1e-300, Math.abs(b as number)),
+        );
+      expect(s.n).toBe(ordinary.n);
+      close(s.estimate, ordinary.estimate);
+      close(s.ciLow, ordinary.ciLow);
+      close(s.ciHigh, ordinary.ciHigh);
+      close(s.p, ordinary.p);
+    }
+  });
+
+  it("drops the participants each switched-on rule names and no others", () => {
+    const none = specs.find(
+      (s) => s.estimator === "ols" && s.covariates.length === 0 && s.exclusions.length === 0,
+    );
+    const north = specs.find(
+      (s) => s.estimator === "ols" && s.covariates.length === 0 && s.exclusions.join() === "1",
+    );
+    // 59 with a trait (p4 missing); north = indices 0, 3, 6, …, 57 (20), p4 among them.
+    expect(none?.n).toBe(59);
+    expect(north?.n).toBe(59 - 19);
+  });
+
+  it("computes the summary shares as counted by hand on a small case", () => {
+    // Hand count: estimates 2, −1, 0.5, −3, 4 with p .01, .20, .04, .03, .50.
+    // Median 0.5; positive 3/5; significant positive (2, 0.5) 2/5; significant negative (−3) 1/5.
+    const s = curveSummary([
+      { estimate: 2, p: 0.01 },
+      { estimate: -1, p: 0.2 },
+      { estimate: 0.5, p: 0.04 },
+      { estimate: -3, p: 0.03 },
+      { estimate: 4, p: 0.5 },
+    ]);
+    expect(s).toEqual({
+      count: 5,
+      medianEstimate: 0.5,
+      sharePositive: 0.6,
+      shareSignificantPositive: 0.4,
+      shareSignificantNegative: 0.2,
+    });
+    // The engine's summary is the same count on its own specifications.
+    const engine = result.summary as ReturnType<typeof curveSummary>;
+    expect(engine.shareSignificantPositive).toBe(
+      specs.filter((x) => x.p < 0.05 && x.estimate > 0).length / specs.length,
+    );
+  });
+
+  it("computes Stouffer's Z of the one-sided p-values in the dominant direction", () => {
+    // By hand: p = .05 and .05 both positive → one-sided .025 each, z = 1.959964; Z = 2·1.959964/√2 = 2.771808.
+    // Φ⁻¹(.975) = 1.959964 (normal table, Abramowitz & Stegun 1964, Table 26.5).
+    const st = curveStatistics([1, 2], [0.05, 0.05]);
+    expect(st.stoufferZ).toBeCloseTo(2.771808, 5);
+    expect(st.direction).toBe(1);
+    expect(st.shareDominant).toBe(0);
+  });
+});
+
+describe("specification curve: the joint test", () => {
+  const base: ModelSpecInput = {
+    kind: "specification-curve",
+    regions: ["amygdala"],
+    predictor: "trait",
+    inference: "permutation",
+    resamples: 99,
+    specifications: {
+      estimators: ["ols"],
+      covariateSets: [[], ["age"]],
+      exclusionRules: [{ column: "mean_fd", op: ">", value: 0.4, reason: "motion" }],
+    },
+  };
+
+  it("gives the floor 1/(m + 1) for a strong effect", () => {
+    const res = runFit(modelSpecSchema.parse(base), invented(60, 1, 3));
+    const joint = res.jointTest as {
+      pMedian: number;
+      pShareSignificant: number;
+      pStouffer: number;
+    };
+    // Exact: no permutation of the trait reaches the observed median or Z, so b = 0 and p = 1/100.
+    expect(joint.pMedian).toBe(1 / 100);
+    expect(joint.pStouffer).toBe(1 / 100);
+    // The share takes only K + 1 values (0, 1/4, …, 1): a null curve significant everywhere ties
+    // the observed share of 1, so its p is small but need not be the floor.
+    expect(joint.pShareSignificant).toBeLessThanOrEqual(0.05);
+  });
+
+  it("gives a joint p that is not small on null data", () => {
+    const res = runFit(modelSpecSchema.parse(base), invented(60, 0, 11));
+    const joint = res.jointTest as { pMedian: number; pStouffer: number };
+    // Common practice, no source: with no effect the p-values are uniform; this seed gives no small value.
+    expect(joint.pMedian).toBeGreaterThan(0.1);
+    expect(joint.pStouffer).toBeGreaterThan(0.1);
+  });
+
+  it("runs a two-group curve against the ordinary two-group fit", () => {
+    const data = invented(40, 1, 5);
+    const res = runFit(
+      modelSpecSchema.parse({
+        kind: "specification-curve",
+        regions: ["amygdala"],
+        group: "group",
+        levels: ["patient", "control"],
+        specifications: { estimators: ["ols", "welch"] },
+      }),
+      data,
+    );
+    const specs = res.specifications as CurveSpecification[];
+    expect(specs).toHaveLength(2);
+    const ordinary = runFit(
+      modelSpecSchema.parse({
+        kind: "two-group",
+        regions: ["amygdala"],
+        group: "group",
+        levels: ["patient", "control"],
+      }),
+      data,
+    ).regions[0];
+    const ols = specs.find((s) => s.estimator === "ols") as CurveSpecification;
+    expect(ols.estimate).toBe(ordinary.estimate);
+    expect(ols.p).toBe(ordinary.p);
+  });
+});
+
+describe("specification curve: rules", () => {
+  it("refuses an estimator the question does not take, a second region and covariates outside the sets", () => {
+    const problems = specProblems(
+      modelSpecSchema.parse({
+        kind: "specification-curve",
+        regions: ["a", "b"],
+        predictor: "trait",
+        covariates: ["age"],
+        specifications: { estimators: ["welch"] },
+      }),
+    );
+    const fields = problems.map((p) => p.field);
+    expect(fields).toContain("specifications.estimators.0");
+    expect(fields).toContain("regions");
+    expect(fields).toContain("covariates");
+  });
+
+  it("refuses specifications on another kind and two groups without levels", () => {
+    expect(
+      specProblems(
+        modelSpecSchema.parse({ kind: "association", predictor: "t", specifications: {} }),
+      ).map((p) => p.field),
+    ).toContain("specifications");
+    expect(
+      specProblems(
+        modelSpecSchema.parse({ kind: "specification-curve", regions: ["a"], group: "g" }),
+      ).map((p) => p.field),
+    ).toContain("levels");
+  });
+
+  it("defaults the null draws of a curve to 500", () => {
+    expect(
+      modelSpecSchema.parse({ kind: "specification-curve", regions: ["a"], predictor: "t" })
+        .resamples,
+    ).toBe(500);
+  });
+
+  it("evaluates rules: a missing value is never excluded; categories only by == and !=", () => {
+    const rule = { column: "fd", op: ">" as const, value: 0.5, reason: "motion" };
+    expect(meetsRule(rule, 0.6)).toBe(true);
+    expect(meetsRule(rule, 0.5)).toBe(false);
+    expect(meetsRule(rule, null)).toBe(false);
+    expect(meetsRule(rule, Number.NaN)).toBe(false);
+    expect(meetsRule({ column: "s", op: "!=", value: "a", reason: "r" }, "b")).toBe(true);
+    expect(meetsRule({ column: "s", op: "<", value: "a", reason: "r" }, "b")).toBe(false);
+  });
+});
