@@ -101,6 +101,9 @@ export const permissions = {
   "fits.participants.read": reads(everyone, { whenRestricted: readers }),
   "fits.approve": writes(["owner", "reviewer"]),
   "fits.seal": writes(owner),
+  "plans.read": reads(everyone),
+  "plans.register": writes(makers),
+  "plans.countersign": writes(["owner", "reviewer"]),
   "comments.read": reads(readers),
   "comments.write": writes(readers),
 } as const satisfies Record<string, Audience>;

@@ -20,6 +20,7 @@ import type {
   StoredColumn,
 } from "../contract/views/datasets";
 import type { FitStatus } from "../contract/views/fits";
+import type { Plan } from "../contract/plans";
 import {
   type AnyPgColumn,
   boolean,
@@ -556,3 +557,37 @@ export const fitSeals = pgTable(
 
 export type FitApproval = typeof fitApprovals.$inferSelect;
 export type FitSeal = typeof fitSeals.$inferSelect;
+
+/**
+ * A registered analysis plan (contract/plans.ts): the plan as given, the
+ * SHA-256 of its canonical JSON, who registered it and when, and whether
+ * the study already held confirmed data then. A trigger refuses every
+ * change except setting the countersignature once; a new version is a new
+ * row naming the plan it replaces and why.
+ */
+export const plans = pgTable(
+  "plans",
+  {
+    id: id(),
+    studyId: text("study_id")
+      .notNull()
+      .references(() => studies.id),
+    plan: jsonb("plan").$type<Plan>().notNull(),
+    sha256: text("sha256").notNull(),
+    registeredBy: text("registered_by")
+      .notNull()
+      .references(() => users.id),
+    registeredAt: timestamp("registered_at", { mode: "date", withTimezone: true }).notNull(),
+    dataSeen: boolean("data_seen").notNull(),
+    replaces: text("replaces").references((): AnyPgColumn => plans.id),
+    replaceReason: text("replace_reason"),
+    countersignedBy: text("countersigned_by").references(() => users.id),
+    countersignedAt: timestamp("countersigned_at", { mode: "date", withTimezone: true }),
+  },
+  (t) => [
+    index("plans_study_idx").on(t.studyId, t.registeredAt),
+    check("plans_sha256_check", sql`${t.sha256} ~ '^[0-9a-f]{64}$'`),
+  ],
+);
+
+export type PlanRow = typeof plans.$inferSelect;

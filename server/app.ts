@@ -48,6 +48,7 @@ import { invitationRoutes } from "./routes/invitations";
 import { memberRoutes } from "./routes/members";
 import { modelRoutes } from "./routes/models";
 import { rosterRoutes } from "./routes/roster";
+import { planRoutes } from "./routes/plans";
 import { setAsideRoutes } from "./routes/set-asides";
 import { studyRoutes } from "./routes/studies";
 import { systemRoutes } from "./routes/system";
@@ -181,6 +182,7 @@ export function createApp(deps: AppDeps): Express {
   app.use("/api", fitExportRoutes(routeDeps));
   app.use("/api", fitSealingRoutes(routeDeps, fitJobs));
   app.use("/api", setAsideRoutes(routeDeps));
+  app.use("/api", planRoutes(routeDeps));
   app.use("/api", apiNotFound);
 
   app.use(serveWebBuild(deps.distDir ?? join(root, "dist"), { demoPages: config.devServices }));

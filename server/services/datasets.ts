@@ -47,6 +47,7 @@ import { conflict, gone, notFound } from "../http/errors";
 import { type IntakeJobs, intakeJobs } from "../jobs/intake-jobs";
 import { type EncodedVersion, STORED_ROW_COLUMNS, decodeNumbers } from "../jobs/intake-rows";
 import { recordEvent } from "./audit";
+import { applyCurrentPlanRules } from "./plans";
 import type { PreviewStore, StoredPreview } from "./preview-store";
 
 // ─── Upload and preview ───
@@ -303,6 +304,8 @@ export async function storeVersion(
             at: input.now,
           });
         }
+        // The current analysis plan's exclusion rules reach the new data (services/plans.ts).
+        await applyCurrentPlanRules(tx, { id: input.confirmedBy }, input.studyId, input.now);
       });
     } catch (error) {
       await removeVersion(db, input.id, encoded.rowCount).catch(() => {});

@@ -12,7 +12,18 @@ import { randomBytes } from "node:crypto";
 import { eq } from "drizzle-orm";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { fits, invitations, memberships, models, setAsides, studies, users } from "../../db/schema";
+import {
+  fits,
+  invitations,
+  memberships,
+  models,
+  plans,
+  setAsides,
+  studies,
+  users,
+} from "../../db/schema";
+import { planSchema } from "../../contract/plans";
+import { planSha256 } from "../../server/services/plans";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
 import { type Action, type Audience, permissions } from "../../contract/permissions";
 import { listRoutes } from "../../server/http/route-list";
@@ -35,6 +46,7 @@ interface Fixture {
   n: number;
   modelId: string;
   setAsideId: string;
+  planId: string;
   /** Rows with `data`: a finished fit and a queued one on the demo tables. */
   fitId: string;
   queuedFitId: string;
@@ -75,6 +87,20 @@ const makers = (status: number): Expected => ({
   viewer: 403,
   outsider: 404,
   anonymous: 401,
+});
+
+const matrixPlan = planSchema.parse({
+  title: "Matrix plan",
+  models: [
+    {
+      name: "Matrix model",
+      spec: { kind: "one-sample" },
+      regionSelection: "independent-data",
+      direction: "positive",
+    },
+  ],
+  correction: "none",
+  missing: "keep",
 });
 
 const matrix: Record<string, Row> = {
@@ -374,6 +400,35 @@ const matrix: Record<string, Row> = {
     body: () => ({ reason: "Matrix restore" }),
     expected: makers(200),
   },
+  // Analysis plans: registered by Owners and Analysts, read by every member, never changed.
+  "GET /api/studies/:studyId/plans": {
+    path: (f) => `/api/studies/${f.studyId}/plans`,
+    expected: members(200),
+  },
+  "POST /api/studies/:studyId/plans": {
+    path: (f) => `/api/studies/${f.studyId}/plans`,
+    body: () => ({ plan: matrixPlan }),
+    expected: makers(201),
+  },
+  "GET /api/plans/:planId": { path: (f) => `/api/plans/${f.planId}`, expected: members(200) },
+  "PATCH /api/plans/:planId": {
+    path: (f) => `/api/plans/${f.planId}`,
+    body: () => ({ title: "Changed" }),
+    expected: makers(409),
+  },
+  "DELETE /api/plans/:planId": { path: (f) => `/api/plans/${f.planId}`, expected: makers(409) },
+  "POST /api/plans/:planId/countersign": {
+    path: (f) => `/api/plans/${f.planId}/countersign`,
+    // The fixture's plan is the Owner's own: a second person countersigns.
+    expected: {
+      owner: 409,
+      analyst: 403,
+      reviewer: 200,
+      viewer: 403,
+      outsider: 404,
+      anonymous: 401,
+    },
+  },
 };
 
 let t: TestApp;
@@ -468,6 +523,17 @@ async function makeFixture(withData = false, state?: "deleted" | "archived"): Pr
       createdBy: owner,
     })
     .returning();
+  const [plan] = await t.db
+    .insert(plans)
+    .values({
+      studyId: study.id,
+      plan: matrixPlan,
+      sha256: planSha256(matrixPlan),
+      registeredBy: owner,
+      registeredAt: now,
+      dataSeen: false,
+    })
+    .returning();
   let fitId = "";
   let queuedFitId = "";
   if (withData) {
@@ -519,6 +585,7 @@ async function makeFixture(withData = false, state?: "deleted" | "archived"): Pr
     n: counter,
     modelId: model.id,
     setAsideId: aside.id,
+    planId: plan.id,
     fitId,
     queuedFitId,
   };

@@ -1,0 +1,245 @@
+/**
+ * The analysis plan: what a team commits to before it looks — the models it
+ * will fit, the expected direction of each tested effect, the correction,
+ * the exclusion rules on participant-sheet columns and the rule for
+ * missing values. One definition, used by the API (validation), the
+ * server (rule set-asides, deviations of a fit) and the screens (the same
+ * words). No server imports.
+ */
+import { z } from "zod";
+import { modelNameSchema, regionSelectionSchema } from "./model-form";
+import { corrections, modelSpecSchema, type ModelSpec } from "./spec";
+
+export const ruleOps = ["<", "<=", ">", ">=", "==", "!="] as const;
+export type RuleOp = (typeof ruleOps)[number];
+export const directions = ["positive", "negative", "either"] as const;
+export type Direction = (typeof directions)[number];
+
+const words = (max: number) =>
+  z
+    .string({ error: "must be text" })
+    .trim()
+    .min(1, { error: "must not be empty" })
+    .max(max, { error: `must be at most ${max} characters` });
+
+/** A criterion on a participant-sheet column: participants meeting it are set aside. */
+export const exclusionRuleSchema = z.strictObject({
+  column: words(200),
+  op: z.enum(ruleOps, { error: `must be one of ${ruleOps.join(" ")}` }),
+  value: z.union([z.number().finite(), words(500)], { error: "must be a number or text" }),
+  reason: words(500),
+});
+export type ExclusionRule = z.output<typeof exclusionRuleSchema>;
+
+/** A planned model: name, the model fields, how the regions were chosen, and the effect's expected direction. */
+export const plannedModelSchema = z.strictObject({
+  name: modelNameSchema,
+  spec: modelSpecSchema,
+  regionSelection: regionSelectionSchema,
+  direction: z.enum(directions, { error: `must be one of ${directions.join(", ")}` }),
+});
+
+/**
+ * Missing values on a rule's column: "keep" (a missing value meets no
+ * rule) or "set-aside" (a missing value meets every rule on its column).
+ */
+export const missingRules = ["keep", "set-aside"] as const;
+export type MissingRule = (typeof missingRules)[number];
+
+export const planSchema = z.strictObject({
+  title: words(300),
+  models: z.array(plannedModelSchema).min(1, { error: "name at least one model" }).max(50),
+  correction: z.enum(corrections, { error: `must be one of ${corrections.join(", ")}` }),
+  exclusionRules: z.array(exclusionRuleSchema).max(100).default([]),
+  missing: z.enum(missingRules, { error: `must be one of ${missingRules.join(", ")}` }),
+});
+export type PlanInput = z.input<typeof planSchema>;
+export type Plan = z.output<typeof planSchema>;
+
+/** POST body: a plan, or a new version naming the plan it replaces and why. */
+export const planCreateSchema = z
+  .strictObject({
+    plan: planSchema,
+    replaces: z.string().min(1).max(100).optional(),
+    reason: words(2000).optional(),
+  })
+  .refine((b) => (b.replaces === undefined) === (b.reason === undefined), {
+    error: "a new version names the plan it replaces and the reason, both",
+    path: ["reason"],
+  });
+
+/** The criterion as written: `mean_fd > 0.5`. */
+export function criterionText(rule: ExclusionRule): string {
+  return `${rule.column} ${rule.op} ${rule.value}`;
+}
+
+/** The set-aside reason a rule gives: "plan rule: mean_fd > 0.5 — motion". */
+export function ruleReason(rule: ExclusionRule): string {
+  return `plan rule: ${criterionText(rule)} — ${rule.reason}`;
+}
+
+/** True when a set-aside reason is one a plan rule gave. */
+export function isRuleReason(reason: string): boolean {
+  return reason.startsWith("plan rule: ");
+}
+
+/**
+ * Whether a participant's value on the rule's column meets the rule. A
+ * number compares as a number when both sides are numbers (text that
+ * reads as a finite number counts as a number); otherwise `==`/`!=`
+ * compare text and the ordering ops compare text by code point. Missing
+ * (null, undefined, empty text, NaN) follows `missing`.
+ */
+export function meetsRule(
+  rule: ExclusionRule,
+  raw: string | number | null | undefined,
+  missing: MissingRule,
+): boolean {
+  const isMissing =
+    raw === null ||
+    raw === undefined ||
+    (typeof raw === "number" && Number.isNaN(raw)) ||
+    (typeof raw === "string" && raw.trim() === "");
+  if (isMissing) return missing === "set-aside";
+  const asNumber = (v: string | number): number | null => {
+    if (typeof v === "number") return Number.isFinite(v) ? v : null;
+    const n = Number(v.trim());
+    return v.trim() !== "" && Number.isFinite(n) ? n : null;
+  };
+  const a = asNumber(raw as string | number);
+  const b = asNumber(rule.value);
+  let cmp: number;
+  if (a !== null && b !== null) cmp = a < b ? -1 : a > b ? 1 : 0;
+  else {
+    const x = String(raw).trim();
+    const y = String(rule.value).trim();
+    cmp = x < y ? -1 : x > y ? 1 : 0;
+  }
+  switch (rule.op) {
+    case "<":
+      return cmp < 0;
+    case "<=":
+      return cmp <= 0;
+    case ">":
+      return cmp > 0;
+    case ">=":
+      return cmp >= 0;
+    case "==":
+      return cmp === 0;
+    case "!=":
+      return cmp !== 0;
+  }
+}
+
+const plural = (n: number, one: string, many: string) => `${n} ${n === 1 ? one : many}`;
+const show = (v: unknown): string =>
+  v === undefined || v === null
+    ? "none"
+    : Array.isArray(v)
+      ? v.length === 0
+        ? "none"
+        : v.join(", ")
+      : String(v);
+
+/** The spec fields compared one by one (covariates and set-asides have their own words). */
+const comparedFields = [
+  "kind",
+  "predictor",
+  "group",
+  "levels",
+  "interaction",
+  "estimator",
+  "inference",
+  "resamples",
+  "weights",
+  "tau2Method",
+  "smallSample",
+  "folds",
+  "repeats",
+  "lambda",
+] as const satisfies readonly (keyof ModelSpec)[];
+
+function sameList(a: readonly string[] | undefined, b: readonly string[] | undefined): boolean {
+  const x = [...(a ?? [])].sort();
+  const y = [...(b ?? [])].sort();
+  return x.length === y.length && x.every((v, i) => v === y[i]);
+}
+
+/** The plain-words differences of a fit's model fields from a planned model's (the correction is the plan's, compared apart). */
+export function specDifferences(planned: ModelSpec, fit: ModelSpec): string[] {
+  const out: string[] = [];
+  for (const c of fit.covariates)
+    if (!planned.covariates.includes(c)) out.push(`added covariate ${c}`);
+  for (const c of planned.covariates)
+    if (!fit.covariates.includes(c)) out.push(`dropped covariate ${c}`);
+  for (const f of comparedFields) {
+    const p = planned[f] as unknown;
+    const q = fit[f] as unknown;
+    const same = Array.isArray(p) || Array.isArray(q) ? show(p) === show(q) : p === q;
+    if (!same)
+      out.push(`${f === "tau2Method" ? "tau² method" : f} ${show(q)} instead of ${show(p)}`);
+  }
+  if (!sameList(planned.regions, fit.regions))
+    out.push(`regions ${show(fit.regions)} instead of ${show(planned.regions)}`);
+  return out;
+}
+
+export interface PlanComparison {
+  /** The planned model the fit is closest to (fewest differences), or null when the plan has none of its kind. */
+  model: string | null;
+  asPlanned: boolean;
+  deviations: string[];
+}
+
+/**
+ * Compares a fit with the plan: its model fields with the closest planned
+ * model's, and its set-asides with the plan's rules. `ruleParticipants`
+ * are the participants the plan's rules set aside in the study (study-wide
+ * set-asides whose reason is a rule reason). As planned = no difference.
+ */
+export function compareWithPlan(
+  plan: Plan,
+  fit: {
+    spec: ModelSpec;
+    setAside: readonly { participant: string; region?: string; reason: string }[];
+  },
+  ruleParticipants: readonly string[],
+): PlanComparison {
+  let best: { name: string; diffs: string[] } | null = null;
+  for (const m of plan.models) {
+    const diffs = specDifferences(m.spec, fit.spec);
+    if (m.spec.kind === fit.spec.kind && (best === null || diffs.length < best.diffs.length))
+      best = { name: m.name, diffs };
+  }
+  const deviations: string[] = best
+    ? [...best.diffs]
+    : [`a ${fit.spec.kind} model, which the plan does not name`];
+  if (fit.spec.correction !== plan.correction)
+    deviations.push(`correction ${fit.spec.correction} instead of ${plan.correction}`);
+  const ruleSet = new Set(ruleParticipants);
+  const outside = new Set(
+    fit.setAside
+      .filter(
+        (s) => !(s.region === undefined && isRuleReason(s.reason) && ruleSet.has(s.participant)),
+      )
+      .map((s) => s.participant),
+  );
+  if (outside.size > 0)
+    deviations.push(
+      `${plural(outside.size, "participant", "participants")} set aside outside the plan's rules`,
+    );
+  const inFit = new Set(
+    fit.setAside.filter((s) => s.region === undefined).map((s) => s.participant),
+  );
+  const kept = [...ruleSet].filter((p) => !inFit.has(p)).length;
+  if (kept > 0)
+    deviations.push(
+      `${plural(kept, "participant", "participants")} the plan's rules set aside ${kept === 1 ? "was" : "were"} kept`,
+    );
+  return { model: best?.name ?? null, asPlanned: deviations.length === 0, deviations };
+}
+
+/** The fit header's words: "As planned" or "Deviates from the plan (3)". */
+export function planVerdict(p: { asPlanned: boolean; deviations: readonly string[] }): string {
+  return p.asPlanned ? "As planned" : `Deviates from the plan (${p.deviations.length})`;
+}
