@@ -26,6 +26,7 @@ import {
   type PaperCaution,
   smallSamplePaperCaution,
 } from "./cautions";
+import { estimatorWords } from "./labels";
 import { secondPersonSignOffLabel } from "./sign-off";
 import type { PredictionBlock } from "./prediction";
 import { RecipeSpecError, specOfRecipe } from "./recipe";
@@ -43,6 +44,10 @@ export const methodReferences = {
     "Phipson, B., & Smyth, G. K. (2010). Permutation p-values should never be zero: calculating exact p-values when permutations are randomly drawn. Statistical Applications in Genetics and Molecular Biology, 9(1), Article 39.",
   "Poldrack et al. 2020":
     "Poldrack, R. A., Huckins, G., & Varoquaux, G. (2020). Establishment of best practices for evidence for prediction: a review. JAMA Psychiatry, 77(5), 534–540.",
+  "Simonsohn et al. 2020":
+    "Simonsohn, U., Simmons, J. P., & Nelson, L. D. (2020). Specification curve analysis. Nature Human Behaviour, 4(11), 1208–1214.",
+  "Steegen et al. 2016":
+    "Steegen, S., Tuerlinckx, F., Gelman, A., & Vanpaemel, W. (2016). Increasing transparency through a multiverse analysis. Perspectives on Psychological Science, 11(5), 702–712.",
   "Snoek et al. 2019":
     "Snoek, L., Miletić, S., & Scholte, H. S. (2019). How to control for confounds in decoding analyses of neuroimaging data. NeuroImage, 184, 741–760.",
   "Best & Roberts 1975":
@@ -619,6 +624,7 @@ function cautionsOf(input: MethodsInput, spec: ModelSpec, c: Citations): string[
 export function buildMethodsText(input: MethodsInput): MethodsText {
   const spec = specOf(input.recipe);
   if (spec.kind === "prediction") return predictionMethodsText(input, spec);
+  if (spec.kind === "specification-curve") return curveMethodsText(input, spec);
   const regions = input.result.regions;
   if (regions.length === 0) throw new MethodsTextError("the fit's result has no regions");
   const c = new Citations();
@@ -686,6 +692,39 @@ function predictionMethodsText(input: MethodsInput, spec: ModelSpec): MethodsTex
   sentences.push(
     "Performance was also computed with 20%, 40%, 60%, and 80% of each training set to show how it grows with the number of participants.",
   );
+  sentences.push(...softwareSentences(input, spec));
+  if (input.singlePersonSignOff) sentences.push(singlePersonSignOffSentence);
+  const cautions: string[] = [];
+  if (input.regionSelection === "same-data") cautions.push(c.caution(circularityPaperCaution));
+  return { text: [...sentences, ...cautions].join(" "), references: c.references(), cautions };
+}
+
+/** The methods paragraph of a specification curve (one question in one region under every combination of choices). */
+function curveMethodsText(input: MethodsInput, spec: ModelSpec): MethodsText {
+  const c = new Citations();
+  const sentences = joinSentences(input);
+  sentences.push(setAsideSentence(spec));
+  const region = quoted(spec.regions?.[0] ?? "region");
+  const question = spec.predictor
+    ? `the association of the contrast with ${quoted(spec.predictor)}`
+    : `the difference in the contrast between ${quoted(spec.levels?.[0] ?? "first")} and ${quoted(spec.levels?.[1] ?? "second")}`;
+  const estimatorList = spec.specifications?.estimators ?? [spec.estimator];
+  const sets = spec.specifications?.covariateSets ?? [[]];
+  const rules = spec.specifications?.exclusionRules ?? [];
+  const total = estimatorList.length * sets.length * 2 ** rules.length;
+  const setWords = sets.map((set) => (set.length === 0 ? "no covariates" : list(set.map(quoted))));
+  const ruleWords = rules.map((r) => `${r.column} ${r.op} ${r.value} (${r.reason})`);
+  sentences.push(
+    `In region ${region}, ${question} was estimated under every combination of reasonable analytic choices ${c.cite("Steegen et al. 2016", "Simonsohn et al. 2020")}: ${count(estimatorList.length, "estimator")} (${list(estimatorList.map((e) => estimatorWords[e]))}), ${count(sets.length, "covariate set")} (${setWords.join("; ")})${rules.length > 0 ? `, and each of ${count(rules.length, "exclusion rule")} (${ruleWords.join("; ")}) applied or not` : ""}, giving ${count(total, "specification")}.`,
+  );
+  sentences.push(
+    "Each specification was fitted as the ordinary single-region model; an exclusion rule set aside the participants meeting it, and a participant with a missing value in a rule's column was not excluded by that rule. A result was counted as significant at p < .05, two-sided.",
+  );
+  if (spec.inference === "permutation")
+    sentences.push(
+      `The specifications were tested jointly ${c.cite("Simonsohn et al. 2020")} against ${spec.resamples.toLocaleString("en")} data sets made under the null hypothesis by permuting ${spec.predictor ? quoted(spec.predictor) : `the labels of ${quoted(spec.group ?? "group")}`} across participants, each participant keeping their contrast value, covariates, and the values the exclusion rules read; every specification was re-run on each, and the median estimate, the share of significant results in the dominant direction, and Stouffer's combined Z were compared with their null distributions, with p = (b + 1)/(m + 1) ${c.cite("Phipson & Smyth 2010")}.`,
+    );
+  else sentences.push("No joint test across specifications was run.");
   sentences.push(...softwareSentences(input, spec));
   if (input.singlePersonSignOff) sentences.push(singlePersonSignOffSentence);
   const cautions: string[] = [];

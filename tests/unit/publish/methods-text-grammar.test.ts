@@ -236,6 +236,8 @@ type Variant = Pick<
   | "folds"
   | "repeats"
   | "lambda"
+  | "specifications"
+  | "regions"
 >;
 
 /** The model fields besides the enumerated five that a kind can take (every one is tried where valid). */
@@ -268,6 +270,26 @@ function variantsOf(kind: ModelSpec["kind"]): Variant[] {
         out.push({ covariates, predictor: "accuracy", folds: 5, repeats: 2 });
         out.push({ covariates, predictor: "accuracy", group: "group", folds: "leave-one-out" });
         out.push({ covariates, predictor: "accuracy", lambda: 2.5 });
+      }
+      if (kind === "specification-curve" && weighting.tau2Method === "reml") {
+        const exclusionRules = [
+          { column: "mean_fd", op: ">", value: 0.5, reason: "motion" },
+          { column: "group", op: "==", value: "patient", reason: "diagnosis unclear" },
+        ] as const;
+        out.push({
+          regions: ["region_1"],
+          predictor: "accuracy",
+          specifications: {
+            covariateSets: covariates.length > 0 ? [[], covariates] : [[]],
+            exclusionRules: [...exclusionRules],
+          },
+        });
+        out.push({
+          regions: ["region_1"],
+          group: "group",
+          levels: ["patient", "control"],
+          specifications: covariates.length === 0 ? {} : { exclusionRules: [exclusionRules[0]] },
+        });
       }
     }
   }
