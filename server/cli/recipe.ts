@@ -179,11 +179,14 @@ export async function runRecipe(recipePath: string): Promise<RecipeOutput> {
   const needsSheet =
     recipe.kind === "two-group" ||
     recipe.kind === "association" ||
+    recipe.kind === "specification-curve" ||
     recipe.covariates.length > 0 ||
     recipe.mappings.length > 0;
   if (needsSheet && recipe.participantSheet === undefined) {
     const why =
-      recipe.kind === "two-group" || recipe.kind === "association"
+      recipe.kind === "two-group" ||
+      recipe.kind === "association" ||
+      recipe.kind === "specification-curve"
         ? `kind "${recipe.kind}"`
         : recipe.mappings.length > 0
           ? "mappings"
