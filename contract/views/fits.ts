@@ -5,6 +5,7 @@
  * participants' diagnostics; the one-region preview with the current
  * set-asides. No server imports, so the web app can use it.
  */
+import type { FitPlanView } from "./plans";
 import type { RegionResult } from "../spec";
 
 /** A fit's life: queued, running, then done, failed or cancelled. */
@@ -139,6 +140,8 @@ export interface FitView extends FitSummaryView {
   /** Who approved the fit for sealing, and its seal { by, at, sha256, intact, singlePersonSignOff } (services/sealing.ts). */
   approval: Publication["approval"];
   seal: Publication["seal"];
+  /** The fit compared with the study's plan current when it was created (contract/plans.ts), or null when there was none. */
+  plan: FitPlanView | null;
 }
 
 /**

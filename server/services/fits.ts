@@ -67,6 +67,7 @@ import { confirmedMappings, inputsOfFit } from "./fit-inputs";
 import { insertQueuedFit, markFitCancelled } from "./fit-store";
 import { fitSetAsides, lineageOf, refitTarget } from "./fit-lineage";
 import { findModel } from "./models";
+import { fitPlan } from "./plans";
 import { activeSetAsideList } from "./set-asides";
 import { sealHash } from "./sealing";
 
@@ -491,6 +492,14 @@ export async function fitViewParts(
           at: new Date(row.approval.at).toISOString(),
         }
       : null;
+  // Compared with the plan current when the fit was created (services/plans.ts).
+  const plan = await cachedRead(db, `fit plan ${studyId} ${fitId}`, () =>
+    fitPlan(db, {
+      studyId,
+      createdAt: new Date(summary.createdAt),
+      spec: specOfRecipe(row.recipe as Record<string, unknown>),
+    }),
+  );
   const head: FitView = {
     ...summary,
     model: { ...summary.model, caution: summary.model.circular ? circularityCaution : null },
@@ -504,6 +513,7 @@ export async function fitViewParts(
     setAsides,
     approval,
     seal,
+    plan,
   };
   return { head, result: shown?.result ?? null, resultStamp: shown?.stamp ?? "" };
 }

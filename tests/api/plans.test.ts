@@ -338,3 +338,91 @@ describe("exclusion rules become set-asides", () => {
     );
   });
 });
+
+describe("a fit compared with the plan", () => {
+  let studyId: string;
+  let planView: PlanView;
+  const planned = {
+    kind: "association",
+    predictor: "accuracy",
+    covariates: ["age"],
+    regions: ["L_dlpfc", "R_dlpfc"],
+    correction: "holm",
+  };
+  beforeAll(async () => {
+    studyId = await newStudy("Plan and fits", true);
+    planView = (
+      await agents.analyst.post(`/api/studies/${studyId}/plans`).send({ plan: plan() }).expect(201)
+    ).body as PlanView;
+  });
+
+  async function fitOf(name: string, spec: Record<string, unknown>) {
+    const model = await agents.analyst
+      .post(`/api/studies/${studyId}/models`)
+      .send({ name, spec, regionSelection: "anatomical-or-prior" })
+      .expect(201);
+    const fit = await agents.analyst
+      .post(`/api/studies/${studyId}/fits`)
+      .send({ modelId: model.body.id })
+      .expect(202);
+    return fit.body.id as string;
+  }
+
+  async function viewOf(fitId: string, wanted = ["queued", "running", "done"]) {
+    for (let i = 0; i < 600; i += 1) {
+      const v = (await agents.viewer.get(`/api/fits/${fitId}`).expect(200)).body;
+      if (wanted.includes(v.status)) return v;
+      await new Promise((r) => setTimeout(r, 100));
+    }
+    throw new Error(`fit ${fitId} did not reach ${wanted.join("/")}`);
+  }
+
+  it("a fit equal to a planned model, with the rule set-asides only, is as planned (also once done)", async () => {
+    const fitId = await fitOf("as planned", planned);
+    const v = await viewOf(fitId);
+    expect(v.plan).toEqual({
+      id: planView.id,
+      sha256: planView.sha256,
+      registeredAt: planView.registeredAt,
+      model: "accuracy in dlpfc",
+      asPlanned: true,
+      deviations: [],
+    });
+    const done = await viewOf(fitId, ["done"]);
+    expect(done.plan).toEqual(v.plan);
+  });
+
+  it("a fit with an extra covariate and an extra set-aside lists those deviations", async () => {
+    await agents.analyst
+      .post(`/api/studies/${studyId}/set-asides`)
+      .send({ participant: "sub-02", reason: "fell asleep" })
+      .expect(201);
+    const fitId = await fitOf("with motion", {
+      ...planned,
+      covariates: ["age", "mean_fd"],
+      estimator: "huber",
+    });
+    const v = await viewOf(fitId);
+    expect(v.plan.asPlanned).toBe(false);
+    expect(v.plan.deviations).toEqual([
+      "added covariate mean_fd",
+      "estimator huber instead of ols",
+      "1 participant set aside outside the plan's rules",
+    ]);
+  });
+
+  it("a fit made before any plan carries no plan", async () => {
+    const other = await newStudy("Fits before a plan", true);
+    const model = await agents.analyst
+      .post(`/api/studies/${other}/models`)
+      .send({ name: "m", spec: planned, regionSelection: "anatomical-or-prior" })
+      .expect(201);
+    const fit = await agents.analyst
+      .post(`/api/studies/${other}/fits`)
+      .send({ modelId: model.body.id })
+      .expect(202);
+    await agents.analyst.post(`/api/studies/${other}/plans`).send({ plan: plan() }).expect(201);
+    const v = (await agents.viewer.get(`/api/fits/${fit.body.id}`).expect(200)).body;
+    expect(v.plan).toBeNull();
+  });
+});

@@ -1,0 +1,146 @@
+/**
+ * The analysis plan's rules and words (contract/plans.ts): when a
+ * participant's value meets an exclusion rule (numbers as numbers, text as
+ * text, missing values by the plan's rule), and the plain-words deviations
+ * of a fit from the plan. Expected values are worked out by hand from the
+ * rule's definition (common practice, no source).
+ */
+import { describe, expect, it } from "vitest";
+import {
+  compareWithPlan,
+  criterionText,
+  type ExclusionRule,
+  meetsRule,
+  type Plan,
+  planSchema,
+  planVerdict,
+  ruleReason,
+} from "../../../contract/plans";
+import { modelSpecSchema } from "../../../contract/spec";
+
+const rule = (
+  op: ExclusionRule["op"],
+  value: number | string,
+  column = "mean_fd",
+): ExclusionRule => ({
+  column,
+  op,
+  value,
+  reason: "motion",
+});
+
+describe("meetsRule", () => {
+  it("compares numbers as numbers with each operator, boundary included or not", () => {
+    const cases: [ExclusionRule["op"], number, boolean][] = [
+      [">", 0.5, false],
+      [">", 0.51, true],
+      [">=", 0.5, true],
+      ["<", 0.5, false],
+      ["<", 0.49, true],
+      ["<=", 0.5, true],
+      ["==", 0.5, true],
+      ["!=", 0.5, false],
+      ["!=", 0.4, true],
+    ];
+    for (const [op, x, want] of cases)
+      expect(meetsRule(rule(op, 0.5), x, "keep"), `${x} ${op} 0.5`).toBe(want);
+    // Numbers written as text compare as numbers ("10" > "9"), not as text.
+    expect(meetsRule(rule(">", 9), "10", "keep")).toBe(true);
+  });
+
+  it("compares text as text", () => {
+    expect(meetsRule(rule("==", "patient", "group"), "patient", "keep")).toBe(true);
+    expect(meetsRule(rule("==", "patient", "group"), "control", "keep")).toBe(false);
+    expect(meetsRule(rule("!=", "patient", "group"), "control", "keep")).toBe(true);
+  });
+
+  it("missing values meet no rule under keep, every rule under set-aside", () => {
+    for (const missing of [null, undefined, Number.NaN, "", "  "]) {
+      expect(meetsRule(rule(">", 0.5), missing, "keep")).toBe(false);
+      expect(meetsRule(rule(">", 0.5), missing, "set-aside")).toBe(true);
+      expect(meetsRule(rule("<", 0.5), missing, "set-aside")).toBe(true);
+    }
+  });
+
+  it("writes the criterion and the set-aside reason", () => {
+    expect(criterionText(rule(">", 0.5))).toBe("mean_fd > 0.5");
+    expect(ruleReason(rule(">", 0.5))).toBe("plan rule: mean_fd > 0.5 — motion");
+  });
+});
+
+describe("compareWithPlan", () => {
+  const plan: Plan = planSchema.parse({
+    title: "t",
+    models: [
+      {
+        name: "accuracy",
+        spec: { kind: "association", predictor: "accuracy", covariates: ["age"] },
+        regionSelection: "anatomical-or-prior",
+        direction: "positive",
+      },
+      {
+        name: "groups",
+        spec: { kind: "two-group", group: "group", levels: ["patient", "control"] },
+        regionSelection: "anatomical-or-prior",
+        direction: "negative",
+      },
+    ],
+    correction: "none",
+    exclusionRules: [rule(">", 0.5)],
+    missing: "keep",
+  });
+  const spec = (fields: Record<string, unknown>) => modelSpecSchema.parse(fields);
+  const byRule = { participant: "sub-09", reason: ruleReason(rule(">", 0.5)) };
+
+  it("a fit equal to a planned model with exactly the rule set-asides is as planned", () => {
+    const out = compareWithPlan(
+      plan,
+      {
+        spec: spec({ kind: "association", predictor: "accuracy", covariates: ["age"] }),
+        setAside: [byRule],
+      },
+      ["sub-09"],
+    );
+    expect(out).toEqual({ model: "accuracy", asPlanned: true, deviations: [] });
+    expect(planVerdict(out)).toBe("As planned");
+  });
+
+  it("lists each difference in plain words, against the closest planned model", () => {
+    const out = compareWithPlan(
+      plan,
+      {
+        spec: spec({
+          kind: "association",
+          predictor: "accuracy",
+          covariates: ["mean_fd"],
+          estimator: "huber",
+          correction: "holm",
+        }),
+        setAside: [
+          { participant: "sub-02", reason: "fell asleep" },
+          { participant: "sub-03", region: "L_dlpfc", reason: "artefact" },
+        ],
+      },
+      ["sub-09"],
+    );
+    expect(out.model).toBe("accuracy");
+    expect(out.deviations).toEqual([
+      "added covariate mean_fd",
+      "dropped covariate age",
+      "estimator huber instead of ols",
+      "correction holm instead of none",
+      "2 participants set aside outside the plan's rules",
+      "1 participant the plan's rules set aside was kept",
+    ]);
+    expect(planVerdict(out)).toBe("Deviates from the plan (6)");
+  });
+
+  it("a kind the plan does not name is a deviation", () => {
+    const out = compareWithPlan(plan, { spec: spec({ kind: "one-sample" }), setAside: [] }, []);
+    expect(out).toEqual({
+      model: null,
+      asPlanned: false,
+      deviations: ["a one-sample model, which the plan does not name"],
+    });
+  });
+});
