@@ -21,6 +21,8 @@ import { VarianceShares } from "./fit/variance-shares";
 import type { VarianceShareInput } from "./fit/variance-shares-layout";
 import { PublishPanel } from "./fit/publish-panel";
 import { PredictionView } from "./fit/prediction-view";
+import { SpecificationCurveView } from "./fit/specification-curve-view";
+import type { CurveResultFields } from "../contract/specification-curve";
 import type { PredictionBlock } from "../contract/prediction";
 import { CircularityCaution, FitHeader } from "./fit/fit-header";
 import { scrollIntoView } from "./fit/scroll-into-view";
@@ -106,6 +108,11 @@ function FitBody({
   // A prediction fit has no region rows: its one `prediction` block takes their place.
   const prediction =
     fit.result?.kind === "prediction" ? (fit.result.prediction as PredictionBlock) : null;
+  // A specification curve has no region rows either: its specifications and summary take their place.
+  const curve =
+    fit.result?.kind === "specification-curve"
+      ? (fit.result as unknown as CurveResultFields)
+      : null;
   return (
     <View style={styles.root}>
       <Card testID="fit-header">
@@ -148,7 +155,16 @@ function FitBody({
           participantsVisible={fit.participantsVisible}
         />
       ) : null}
-      {fit.status === "done" && !prediction && regions.length > 0 ? (
+      {fit.status === "done" && curve ? (
+        <SpecificationCurveView
+          specifications={curve.specifications}
+          summary={curve.summary}
+          jointTest={curve.jointTest}
+          rules={spec?.specifications?.exclusionRules ?? []}
+          region={curve.region}
+        />
+      ) : null}
+      {fit.status === "done" && !prediction && !curve && regions.length > 0 ? (
         <>
           <View
             ref={regionsRef}

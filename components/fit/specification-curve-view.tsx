@@ -1,0 +1,185 @@
+/**
+ * A done specification curve (kind "specification-curve"): the summary in
+ * words, the specifications in estimate order — each a column with its
+ * estimate as a mark and its interval as a bar (filled mark: p < .05;
+ * blue above zero, vermillion below, so colour and fill both carry
+ * meaning) — and below them the choice panel: one row per estimator,
+ * covariate set and exclusion rule, a square in each column whose
+ * specification made that choice. Tapping a column, or the 44 px step
+ * buttons, selects a specification and shows its numbers. Phone first: the
+ * columns scroll sideways when they do not fit.
+ */
+import { useState } from "react";
+import { Pressable, ScrollView, StyleSheet, View } from "react-native";
+import Svg, { Circle, G, Line, Rect } from "react-native-svg";
+import type {
+  CurveJointTest,
+  CurveSpecification,
+  CurveSummary,
+} from "../../contract/specification-curve";
+import { formatP, formatPercent, formatValue } from "../charts/number-format";
+import { chart, marks, palette, radius, space } from "../theme";
+import { Button, Card, Heading, Txt } from "../ui";
+import { curveLayout, specKey } from "./specification-curve-layout";
+
+const ESTIMATE_HEIGHT = 180;
+const ROW_HEIGHT = 20;
+/** Width of the fixed column naming each choice row. */
+const LABEL_WIDTH = 112;
+
+export function SpecificationCurveView(props: {
+  specifications: readonly CurveSpecification[];
+  summary: CurveSummary;
+  jointTest?: CurveJointTest;
+  rules: readonly { column: string; op: string; value: number | string; reason: string }[];
+  region: string;
+}) {
+  const { specifications: specs, summary, jointTest } = props;
+  const [width, setWidth] = useState<number>(chart.defaultWidth);
+  const [selected, setSelected] = useState<number | null>(null);
+  const layout = curveLayout(specs, props.rules, width);
+  const cw = layout.columnWidth;
+  const panelHeight = layout.rows.length * ROW_HEIGHT;
+  const chosen = selected === null ? null : specs[selected];
+  const step = (by: number) =>
+    setSelected((s) => Math.min(specs.length - 1, Math.max(0, (s ?? -by) + by)));
+  return (
+    <View style={styles.root} testID="specification-curve-view">
+      <Card testID="curve-summary">
+        <Heading level={3}>{`${summary.count} specifications in ${props.region}`}</Heading>
+        <Txt>
+          {`Median estimate ${formatValue(summary.medianEstimate)}; ${formatPercent(summary.sharePositive)} above zero; significant (p < .05) above zero in ${formatPercent(summary.shareSignificantPositive)}, below zero in ${formatPercent(summary.shareSignificantNegative)}.`}
+        </Txt>
+        {jointTest ? (
+          <Txt kind="small" testID="curve-joint-test">
+            {`Joint test against ${jointTest.resamples} null data sets (trait permuted): median estimate ${formatP(jointTest.pMedian)}; share significant ${jointTest.dominantDirection === "positive" ? "above" : "below"} zero ${formatP(jointTest.pShareSignificant)}; Stouffer's Z = ${formatValue(jointTest.stoufferZ)}, ${formatP(jointTest.pStouffer)}.`}
+          </Txt>
+        ) : null}
+      </Card>
+      <Card>
+        <View
+          style={styles.panels}
+          onLayout={(e) =>
+            setWidth(Math.max(chart.minWidth, e.nativeEvent.layout.width) - LABEL_WIDTH)
+          }
+        >
+          <View style={styles.labels}>
+            <View style={{ height: ESTIMATE_HEIGHT + space.md }} />
+            {layout.rows.map((row) => (
+              <Txt key={row.key} kind="caption" style={styles.rowLabel} numberOfLines={1}>
+                {row.label}
+              </Txt>
+            ))}
+          </View>
+          <ScrollView horizontal testID="curve-columns" style={styles.scroll}>
+            <View>
+              <Svg width={layout.width} height={ESTIMATE_HEIGHT + panelHeight + space.md}>
+                <Line
+                  x1={0}
+                  x2={layout.width}
+                  y1={layout.y(0, ESTIMATE_HEIGHT)}
+                  y2={layout.y(0, ESTIMATE_HEIGHT)}
+                  stroke={chart.zero}
+                  strokeWidth={1}
+                />
+                {specs.map((s, k) => {
+                  const x = k * cw + cw / 2;
+                  const colour = s.estimate >= 0 ? marks.blue : marks.vermillion;
+                  const significant = s.p < 0.05;
+                  return (
+                    <G key={specKey(s)}>
+                      {selected === k ? (
+                        <Rect
+                          x={k * cw}
+                          y={0}
+                          width={cw}
+                          height={ESTIMATE_HEIGHT + panelHeight + space.md}
+                          fill={chart.selectedRow}
+                        />
+                      ) : null}
+                      {s.ciLow !== null && s.ciHigh !== null ? (
+                        <Line
+                          x1={x}
+                          x2={x}
+                          y1={layout.y(s.ciHigh, ESTIMATE_HEIGHT)}
+                          y2={layout.y(s.ciLow, ESTIMATE_HEIGHT)}
+                          stroke={colour}
+                          strokeOpacity={0.45}
+                          strokeWidth={Math.max(2, cw / 3)}
+                        />
+                      ) : null}
+                      <Circle
+                        cx={x}
+                        cy={layout.y(s.estimate, ESTIMATE_HEIGHT)}
+                        r={Math.min(chart.markRadius, cw / 2 - 1)}
+                        fill={significant ? colour : palette.surface}
+                        stroke={colour}
+                        strokeWidth={chart.strokeWidth}
+                      />
+                      {layout.rows.map((row, j) =>
+                        row.made[k] ? (
+                          <Rect
+                            key={row.key}
+                            x={x - Math.min(4, cw / 2 - 1)}
+                            y={ESTIMATE_HEIGHT + space.md + j * ROW_HEIGHT + ROW_HEIGHT / 2 - 4}
+                            width={Math.min(8, cw - 2)}
+                            height={8}
+                            rx={1}
+                            fill={palette.ink}
+                          />
+                        ) : null,
+                      )}
+                    </G>
+                  );
+                })}
+              </Svg>
+              <View style={[StyleSheet.absoluteFill, styles.hitRow]}>
+                {specs.map((s, k) => (
+                  <Pressable
+                    key={specKey(s)}
+                    style={{ width: cw, height: "100%" }}
+                    onPress={() => setSelected(k)}
+                    accessibilityRole="button"
+                    accessibilityLabel={`Specification ${k + 1}: ${s.estimator}, estimate ${formatValue(s.estimate)}`}
+                  />
+                ))}
+              </View>
+            </View>
+          </ScrollView>
+        </View>
+        <View style={styles.steps}>
+          <Button label="Previous" variant="secondary" onPress={() => step(-1)} />
+          <Button label="Next" variant="secondary" onPress={() => step(1)} />
+        </View>
+        {chosen ? (
+          <View style={styles.detail} testID="curve-selected">
+            <Txt kind="label">{`Specification ${(selected ?? 0) + 1} of ${specs.length}`}</Txt>
+            <Txt kind="small">
+              {`${chosen.estimator}; covariates: ${chosen.covariates.join(", ") || "none"}; rules applied: ${chosen.exclusions.map((k) => props.rules[k]?.reason ?? `rule ${k + 1}`).join(", ") || "none"}`}
+            </Txt>
+            <Txt kind="small">
+              {`n = ${chosen.n}; estimate ${formatValue(chosen.estimate)}${chosen.ciLow !== null && chosen.ciHigh !== null ? ` [${formatValue(chosen.ciLow)}, ${formatValue(chosen.ciHigh)}]` : ""}; ${formatP(chosen.p)}`}
+            </Txt>
+          </View>
+        ) : null}
+      </Card>
+    </View>
+  );
+}
+
+const styles = StyleSheet.create({
+  root: { gap: space.lg },
+  hitRow: { flexDirection: "row" },
+  panels: { flexDirection: "row" },
+  labels: { width: LABEL_WIDTH, paddingRight: space.xs },
+  scroll: { flex: 1 },
+  rowLabel: { color: palette.inkSoft, height: ROW_HEIGHT, lineHeight: ROW_HEIGHT },
+  steps: { flexDirection: "row", gap: space.sm, marginTop: space.md },
+  detail: {
+    marginTop: space.md,
+    padding: space.md,
+    borderRadius: radius.md,
+    backgroundColor: palette.canvas,
+    gap: space.xs,
+  },
+});
