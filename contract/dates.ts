@@ -5,9 +5,12 @@
  */
 const dateStyle: Intl.DateTimeFormatOptions = { day: "numeric", month: "short", year: "numeric" };
 
-/** "3 Dec 2026" */
-export function dateWords(when: string | Date): string {
-  return new Date(when).toLocaleDateString("en-GB", dateStyle);
+/** "3 Dec 2026" (in `timeZone` when given, e.g. "UTC" for a text that must read the same everywhere) */
+export function dateWords(when: string | Date, timeZone?: string): string {
+  return new Date(when).toLocaleDateString(
+    "en-GB",
+    timeZone ? { ...dateStyle, timeZone } : dateStyle,
+  );
 }
 
 /** "3 Dec 2026, 17:21" */

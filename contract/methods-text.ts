@@ -26,6 +26,7 @@ import {
   type PaperCaution,
   smallSamplePaperCaution,
 } from "./cautions";
+import { dateWords } from "./dates";
 import { estimatorWords } from "./labels";
 import { secondPersonSignOffLabel } from "./sign-off";
 import type { PredictionBlock } from "./prediction";
@@ -165,6 +166,13 @@ export interface MethodsInput {
    * paragraph then says so.
    */
   singlePersonSignOff?: boolean;
+  /** The fit compared with the study's plan current when it was created (contract/plans.ts), or null/absent without one. */
+  plan?: {
+    registeredAt: string;
+    sha256: string;
+    asPlanned: boolean;
+    deviations: readonly string[];
+  } | null;
 }
 
 export interface MethodsText {
@@ -601,6 +609,19 @@ function softwareSentences(input: MethodsInput, spec: ModelSpec): string[] {
 }
 
 /** Said when the study let one person start, approve and seal the fit. */
+/**
+ * "The analysis followed the plan registered on 3 Dec 2026 (SHA-256
+ * 0123456789ab…)." or "The analysis deviated from the plan registered on …
+ * (SHA-256 …): added covariate mean_fd; estimator huber instead of ols."
+ * The date is in UTC, so the paragraph reads the same everywhere.
+ */
+export function planSentence(plan: NonNullable<MethodsInput["plan"]>): string {
+  const which = `the plan registered on ${dateWords(plan.registeredAt, "UTC")} (SHA-256 ${plan.sha256.slice(0, 12)}…)`;
+  return plan.asPlanned || plan.deviations.length === 0
+    ? `The analysis followed ${which}.`
+    : `The analysis deviated from ${which}: ${plan.deviations.join("; ")}.`;
+}
+
 export const singlePersonSignOffSentence = `The same person started, approved, and sealed this fit; the study's setting “${secondPersonSignOffLabel}” was turned off.`;
 
 function cautionsOf(input: MethodsInput, spec: ModelSpec, c: Citations): string[] {
@@ -637,6 +658,7 @@ export function buildMethodsText(input: MethodsInput): MethodsText {
     ...softwareSentences(input, spec),
   ];
   if (input.singlePersonSignOff) sentences.push(singlePersonSignOffSentence);
+  if (input.plan) sentences.push(planSentence(input.plan));
   const cautions = cautionsOf(input, spec, c);
   return { text: [...sentences, ...cautions].join(" "), references: c.references(), cautions };
 }
@@ -694,6 +716,7 @@ function predictionMethodsText(input: MethodsInput, spec: ModelSpec): MethodsTex
   );
   sentences.push(...softwareSentences(input, spec));
   if (input.singlePersonSignOff) sentences.push(singlePersonSignOffSentence);
+  if (input.plan) sentences.push(planSentence(input.plan));
   const cautions: string[] = [];
   if (input.regionSelection === "same-data") cautions.push(c.caution(circularityPaperCaution));
   return { text: [...sentences, ...cautions].join(" "), references: c.references(), cautions };
@@ -727,6 +750,7 @@ function curveMethodsText(input: MethodsInput, spec: ModelSpec): MethodsText {
   else sentences.push("No joint test across specifications was run.");
   sentences.push(...softwareSentences(input, spec));
   if (input.singlePersonSignOff) sentences.push(singlePersonSignOffSentence);
+  if (input.plan) sentences.push(planSentence(input.plan));
   const cautions: string[] = [];
   if (input.regionSelection === "same-data") cautions.push(c.caution(circularityPaperCaution));
   return { text: [...sentences, ...cautions].join(" "), references: c.references(), cautions };

@@ -25,10 +25,11 @@ import { toCsv, type CsvCell } from "../intake/export-csv";
 import { buildMethodsText, type MethodsInput, type MethodsText } from "../../contract/methods-text";
 import { correctionLabels } from "../../contract/labels";
 import type { PredictionBlock } from "../../contract/prediction";
-import { orderedRecipe } from "../../contract/recipe";
+import { orderedRecipe, specOfRecipe } from "../../contract/recipe";
 import type { RegionResult } from "../../contract/spec";
 import { conflict } from "../http/errors";
 import { buildFitInputs, inputsOfFit } from "./fit-inputs";
+import { fitPlan } from "./plans";
 
 function regionsOf(fit: Fit): RegionResult[] {
   if (fit.status !== "done" || !fit.result)
@@ -123,7 +124,7 @@ export async function methodsOf(
 ): Promise<MethodsText> {
   const regions = regionsOf(fit);
   const ids = [fit.brainVersionId, ...(fit.sheetVersionId ? [fit.sheetVersionId] : [])];
-  const [versions, [model], built, [seal]] = await Promise.all([
+  const [versions, [model], built, [seal], plan] = await Promise.all([
     db.select().from(datasetVersions).where(inArray(datasetVersions.id, ids)),
     db
       .select({ regionSelection: models.regionSelection })
@@ -134,6 +135,11 @@ export async function methodsOf(
       .select({ singlePersonSignOff: fitSeals.singlePersonSignOff })
       .from(fitSeals)
       .where(eq(fitSeals.fitId, fit.id)),
+    fitPlan(db, {
+      studyId: fit.studyId,
+      createdAt: fit.createdAt,
+      spec: specOfRecipe(fit.recipe as Record<string, unknown>),
+    }),
   ]);
   const brain = versions.find((v) => v.id === fit.brainVersionId);
   const sheet = fit.sheetVersionId ? versions.find((v) => v.id === fit.sheetVersionId) : undefined;
@@ -172,6 +178,7 @@ export async function methodsOf(
         : { label: built.session, of: built.data.sessions?.labels.length ?? 1 },
     softwareName,
     singlePersonSignOff: seal?.singlePersonSignOff === true,
+    plan,
   };
   return buildMethodsText(input);
 }

@@ -390,6 +390,10 @@ describe("a fit compared with the plan", () => {
     });
     const done = await viewOf(fitId, ["done"]);
     expect(done.plan).toEqual(v.plan);
+    const methods = (await agents.viewer.get(`/api/fits/${fitId}/methods`).expect(200)).body;
+    expect(methods.text).toContain(
+      `The analysis followed the plan registered on ${new Date(planView.registeredAt).toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric", timeZone: "UTC" })} (SHA-256 ${planView.sha256.slice(0, 12)}…).`,
+    );
   });
 
   it("a fit with an extra covariate and an extra set-aside lists those deviations", async () => {
@@ -409,6 +413,12 @@ describe("a fit compared with the plan", () => {
       "estimator huber instead of ols",
       "1 participant set aside outside the plan's rules",
     ]);
+    await viewOf(fitId, ["done"]);
+    const methods = (await agents.viewer.get(`/api/fits/${fitId}/methods`).expect(200)).body;
+    expect(methods.text).toContain(
+      `(SHA-256 ${planView.sha256.slice(0, 12)}…): added covariate mean_fd; estimator huber instead of ols; 1 participant set aside outside the plan's rules.`,
+    );
+    expect(methods.text).toContain("The analysis deviated from the plan registered on");
   });
 
   it("a fit made before any plan carries no plan", async () => {

@@ -17,6 +17,7 @@ import {
   ruleReason,
 } from "../../../contract/plans";
 import { modelSpecSchema } from "../../../contract/spec";
+import { planSentence } from "../../../contract/methods-text";
 
 const rule = (
   op: ExclusionRule["op"],
@@ -142,5 +143,29 @@ describe("compareWithPlan", () => {
       asPlanned: false,
       deviations: ["a one-sample model, which the plan does not name"],
     });
+  });
+});
+
+describe("the methods paragraph's plan sentence", () => {
+  const sha = "0123456789abcdef".repeat(4);
+  it("names the plan's date (UTC) and the first 12 hex of its hash", () => {
+    expect(
+      planSentence({
+        registeredAt: "2026-12-03T23:30:00Z",
+        sha256: sha,
+        asPlanned: true,
+        deviations: [],
+      }),
+    ).toBe("The analysis followed the plan registered on 3 Dec 2026 (SHA-256 0123456789ab…).");
+    expect(
+      planSentence({
+        registeredAt: "2026-12-03T00:10:00Z",
+        sha256: sha,
+        asPlanned: false,
+        deviations: ["added covariate mean_fd", "estimator huber instead of ols"],
+      }),
+    ).toBe(
+      "The analysis deviated from the plan registered on 3 Dec 2026 (SHA-256 0123456789ab…): added covariate mean_fd; estimator huber instead of ols.",
+    );
   });
 });
