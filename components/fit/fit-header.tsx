@@ -24,6 +24,7 @@ import {
 } from "./lineage-words";
 import { CollapsedCaution } from "./collapsed-caution";
 import { smallSampleCaution } from "../../contract/cautions";
+import { planVerdict } from "../../contract/plans";
 import type { ModelSpec, RegionResult } from "../../contract/spec";
 import { type FitView, useRunFit } from "../../hooks/use-fits";
 
@@ -61,6 +62,7 @@ export function FitHeader({
         </Txt>
       ) : null}
       <SetAsideDisclosure fit={fit} />
+      {fit.plan ? <PlanVerdict plan={fit.plan} /> : null}
       {fit.refitOf ? <RefitOf fit={fit} /> : null}
       {fit.stale ? <StaleNotice fit={fit} canRun={canRun && !ended(fit)} /> : null}
       {ended(fit) && canRun && !fit.model.deleted ? <RunAgain fit={fit} /> : null}
@@ -127,6 +129,51 @@ function SetAsideDisclosure({ fit }: { fit: FitView }) {
               This study keeps participant ids to its Owners, Analysts and Reviewers.
             </Txt>
           ) : null}
+        </View>
+      ) : null}
+    </View>
+  );
+}
+
+/** "As planned" or "Deviates from the plan (3)" with each deviation behind a disclosure. */
+function PlanVerdict({ plan }: { plan: NonNullable<FitView["plan"]> }) {
+  const [open, setOpen] = useState(false);
+  const verdict = planVerdict(plan);
+  const which = `plan of ${whenWords(plan.registeredAt)}, SHA-256 ${plan.sha256.slice(0, 12)}…`;
+  if (plan.asPlanned)
+    return (
+      <View style={styles.planRow} testID="fit-plan">
+        <Badge label={verdict} tone="success" />
+        <Txt kind="caption" style={{ color: palette.muted }}>
+          {plan.model ? `“${plan.model}” of the ${which}` : which}
+        </Txt>
+      </View>
+    );
+  return (
+    <View testID="fit-plan">
+      <Pressable
+        accessibilityRole="button"
+        accessibilityState={{ expanded: open }}
+        accessibilityLabel={`${verdict}. ${open ? "Hide" : "Show"} how`}
+        onPress={() => setOpen(!open)}
+        style={({ pressed }) => [styles.disclosure, pressed && styles.pressed]}
+        testID="fit-plan-toggle"
+      >
+        <Badge label={verdict} tone="danger" />
+        <Txt kind="small" style={styles.disclosureHint}>
+          {open ? "Hide ▴" : "How ▾"}
+        </Txt>
+      </Pressable>
+      {open ? (
+        <View style={styles.list} testID="fit-plan-deviations">
+          {plan.deviations.map((d) => (
+            <Txt key={d} kind="small">
+              • {d}
+            </Txt>
+          ))}
+          <Txt kind="caption" style={{ color: palette.muted }}>
+            Compared with {plan.model ? `“${plan.model}” of the ${which}` : `the ${which}`}
+          </Txt>
         </View>
       ) : null}
     </View>
@@ -264,6 +311,7 @@ const styles = StyleSheet.create({
   item: { gap: 2, paddingLeft: space.md, borderLeftWidth: 3, borderLeftColor: palette.lineStrong },
   itemTitle: { fontFamily: fonts.semibold },
   refit: { gap: 2 },
+  planRow: { flexDirection: "row", alignItems: "center", flexWrap: "wrap", gap: space.sm },
   link: { minHeight: 44, justifyContent: "center", alignSelf: "flex-start" },
   linkText: { color: palette.focus, textDecorationLine: "underline", fontSize: type.small },
   stale: { gap: space.sm },
