@@ -222,8 +222,8 @@ function rankOf(x: ArrayLike<number>): Float64Array {
  * variance 1.06/(n − 3 − k), extending Fieller, Hartley & Pearson (1957) to
  * the partial case (an approximation).
  */
-function partialSpearman(d: RegionData): RegionEstimate {
-  const { design } = d;
+/** The design of a partial Spearman correlation: every numeric column (not the intercept, not dummies) replaced by its mid-ranks; row-major n × p. */
+export function rankedDesign(design: RegionData["design"]): Float64Array {
   const x = new Float64Array(design.x);
   const p = design.p;
   for (const term of design.termColumns) {
@@ -236,6 +236,13 @@ function partialSpearman(d: RegionData): RegionEstimate {
       for (let i = 0; i < design.n; i++) x[i * p + c] = rk[i];
     }
   }
+  return x;
+}
+
+function partialSpearman(d: RegionData): RegionEstimate {
+  const { design } = d;
+  const p = design.p;
+  const x = rankedDesign(design);
   require(design.n >
     p, `too few participants (n = ${design.n}) for a model with ${p} coefficients`);
   const fit = solveLinearModel(qrDecompose(x, design.n, p, design.columnNames), rankOf(d.y));

@@ -40,8 +40,11 @@ import {
   jointPValues,
 } from "../specification-curve/joint";
 import { FIT_LEVEL, type RunFitOptions, assertFinite, cancelled, fail, inRegion } from "./common";
-import { estimateRegionWork } from "./estimate";
-import { type Prepared, prepare } from "./prepare";
+import { studentTTwoSidedP } from "../distributions";
+import { rankedDesign } from "../fit-methods";
+import { averageRanks } from "../ranks";
+import { designFor, estimateRegionWork } from "./estimate";
+import { type Prepared, prepare, regionRows } from "./prepare";
 
 type Estimator = ModelSpec["estimator"];
 
@@ -130,6 +133,84 @@ export function ordinarySpec(
   };
 }
 
+/**
+ * The null draws of a least-squares or partial-Spearman specification of an
+ * association, without refitting the whole model: when every participant
+ * has a trait value, permuting the trait leaves the specification's
+ * participants unchanged, so the covariate part of the design (Z: the
+ * intercept and covariates, ranked for partial Spearman as rankedDesign
+ * does) is fixed. By the Frisch–Waugh–Lovell theorem the tested slope is
+ * b = (r_x·r_y)/(r_x·r_x) with r_x, r_y the residuals of the permuted trait
+ * (its ranks) and of the brain value (its ranks) on Z, and its t = b/se with
+ * se² = (r_y·r_y − b·r_x·r_y)/(df·r_x·r_x), df = n − columns — the same
+ * estimate, t and p as the full fit (tested against it). Returns null
+ * where this does not apply (the ordinary fit is then re-run).
+ */
+export function fastNull(
+  prep: Prepared,
+  r: number,
+  trait: readonly (number | null)[],
+): ((perm: Int32Array) => { estimate: number; p: number }) | null {
+  const estimator = prep.spec.estimator;
+  if (prep.spec.kind !== "association" || prep.group) return null;
+  if (!trait.every((v) => v !== null && Number.isFinite(v))) return null;
+  const rows = regionRows(prep, r);
+  const { design, tested } = designFor(prep, rows);
+  const rank = estimator === "rank";
+  if (!(estimator === "ols" || (rank && design.p > 2))) return null;
+  const n = design.n;
+  const p = design.p;
+  const df = n - p;
+  if (df < 1) return null;
+  const x = rank ? rankedDesign(design) : design.x;
+  const yRaw = Float64Array.from(rows, (i) => prep.data.values[r][i]);
+  const y = rank ? averageRanks(yRaw).ranks : yRaw;
+  // Orthonormal basis of Z by modified Gram–Schmidt.
+  const basis: Float64Array[] = [];
+  for (let c = 0; c < p; c++) {
+    if (c === tested) continue;
+    const v = new Float64Array(n);
+    for (let i = 0; i < n; i++) v[i] = x[i * p + c];
+    for (const q of basis) {
+      let dot = 0;
+      for (let i = 0; i < n; i++) dot += q[i] * v[i];
+      for (let i = 0; i < n; i++) v[i] -= dot * q[i];
+    }
+    let norm = 0;
+    for (let i = 0; i < n; i++) norm += v[i] * v[i];
+    norm = Math.sqrt(norm);
+    if (!(norm > 1e-10)) return null;
+    for (let i = 0; i < n; i++) v[i] /= norm;
+    basis.push(v);
+  }
+  const residual = (v: Float64Array) => {
+    for (const q of basis) {
+      let dot = 0;
+      for (let i = 0; i < n; i++) dot += q[i] * v[i];
+      for (let i = 0; i < n; i++) v[i] -= dot * q[i];
+    }
+    return v;
+  };
+  const ry = residual(Float64Array.from(y));
+  let ryy = 0;
+  for (let i = 0; i < n; i++) ryy += ry[i] * ry[i];
+  const xs = new Float64Array(n);
+  return (perm) => {
+    for (let k = 0; k < n; k++) xs[k] = trait[perm[rows[k]]] as number;
+    const rx = residual(rank ? averageRanks(xs).ranks : Float64Array.from(xs));
+    let sxx = 0;
+    let sxy = 0;
+    for (let i = 0; i < n; i++) {
+      sxx += rx[i] * rx[i];
+      sxy += rx[i] * ry[i];
+    }
+    const b = sxy / sxx;
+    const rss = Math.max(0, ryy - b * sxy);
+    const t = b / Math.sqrt(rss / df / sxx);
+    return { estimate: rank ? t / Math.sqrt(t * t + df) : b, p: studentTTwoSidedP(t, df) };
+  };
+}
+
 /** One specification's estimate on its prepared data (a fresh decomposition: designs differ between specifications). */
 function fitOne(prep: Prepared, r: number) {
   return estimateRegionWork(prep, r, new Map()).result;
@@ -182,6 +263,9 @@ export function runSpecificationCurve(prep: Prepared, options: RunFitOptions): F
         ? (prep.data.numericColumns[s.predictor as string] as readonly (number | null)[])
         : null;
     const groupColumn = choices[0]?.prep.group ?? null;
+    const fast = trait
+      ? choices.map((c) => inRegion(region, () => fastNull(c.prep, r, trait)))
+      : [];
     for (let d = 0; d < m; d++) {
       if (shouldCancel?.()) cancelled();
       for (let i = 0; i < n; i++) perm[i] = i;
@@ -192,6 +276,13 @@ export function runSpecificationCurve(prep: Prepared, options: RunFitOptions): F
           : { group: Array.from(perm, (j) => (groupColumn as readonly (string | null)[])[j]) };
       inRegion(region, () => {
         for (let k = 0; k < K; k++) {
+          const quick = fast[k];
+          if (quick) {
+            const res = quick(perm);
+            estimates[k] = res.estimate;
+            ps[k] = res.p;
+            continue;
+          }
           const res = fitOne({ ...choices[k].prep, ...permuted }, r);
           estimates[k] = res.estimate;
           ps[k] = res.p;

@@ -10,6 +10,10 @@ import { meetsRule } from "../../../../contract/exclusion-rules";
 import { specProblems } from "../../../../contract/fit-rules";
 import { type FitData, type ModelSpecInput, modelSpecSchema } from "../../../../contract/spec";
 import type { CurveSpecification } from "../../../../contract/specification-curve";
+import { estimateRegionWork } from "../../../../server/stats/fit/estimate";
+import { prepare } from "../../../../server/stats/fit/prepare";
+import { fastNull } from "../../../../server/stats/fit/specification-curve";
+import { shuffleInPlace } from "../../../../server/stats/rearrangements";
 import { runFit } from "../../../../server/stats/run-fit";
 import { createRng, normalDraw } from "../../../../server/stats/rng";
 import { curveStatistics, curveSummary } from "../../../../server/stats/specification-curve/joint";
@@ -269,5 +273,39 @@ describe("specification curve: rules", () => {
     expect(meetsRule(rule, Number.NaN)).toBe(false);
     expect(meetsRule({ column: "s", op: "!=", value: "a", reason: "r" }, "b")).toBe(true);
     expect(meetsRule({ column: "s", op: "<", value: "a", reason: "r" }, "b")).toBe(false);
+  });
+});
+
+describe("specification curve: null draws without refitting", () => {
+  it("gives each least-squares and partial-Spearman null draw the estimate and p of the engine's own ordinary fit on the permuted trait", () => {
+    const data = invented(80, 0.3, 21);
+    const trait = (data.numericColumns.trait as (number | null)[]).map((v) => v ?? 0.1);
+    const complete: FitData = { ...data, numericColumns: { ...data.numericColumns, trait } };
+    const rng = createRng(4);
+    const perm = Int32Array.from({ length: 80 }, (_, i) => i);
+    shuffleInPlace(perm, rng);
+    const permuted = Array.from(perm, (j) => trait[j]);
+    for (const estimator of ["ols", "rank"] as const)
+      for (const covariates of [["age"], ["age", "site"]]) {
+        const prep = prepare(
+          modelSpecSchema.parse({
+            kind: "association",
+            regions: ["amygdala"],
+            predictor: "trait",
+            estimator,
+            covariates,
+            setAside: [{ participant: "p7", reason: "excluded" }],
+          }),
+          complete,
+        );
+        const quick = fastNull(prep, 0, trait);
+        expect(quick).not.toBeNull();
+        const fast = (quick as NonNullable<typeof quick>)(perm);
+        const full = estimateRegionWork({ ...prep, predictor: permuted }, 0, new Map()).result;
+        expect(Math.abs(fast.estimate - full.estimate)).toBeLessThanOrEqual(
+          1e-9 * Math.abs(full.estimate),
+        );
+        expect(Math.abs(fast.p - full.p)).toBeLessThanOrEqual(1e-9 * full.p);
+      }
   });
 });
