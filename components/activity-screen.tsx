@@ -11,6 +11,8 @@ import {
   fitApprovedWords,
   fitCancelledWords,
   fitSealedWords,
+  planCountersignedWords,
+  planRegisteredWords,
   memberRemovedWords,
   type PersonFacts,
   roleChangedWords,
@@ -201,6 +203,14 @@ export function describeEvent(
         field(after, "sha256") ?? "",
         field(after, "singlePersonSignOff") === "true",
       );
+    case "plan.registered":
+      return planRegisteredWords(
+        field(after, "title") ?? "",
+        field(after, "sha256") ?? "",
+        field(after, "replaces") !== null,
+      );
+    case "plan.countersigned":
+      return planCountersignedWords(field(after, "sha256") ?? "");
     default:
       return event.kind.replace(/[._]/g, " ");
   }

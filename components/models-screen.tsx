@@ -6,6 +6,7 @@ import { methodOf, questionOf, regionsOf } from "./fit/describe-model";
 import { can, useStudy } from "../hooks/use-study";
 import { useModels, type ModelView } from "../hooks/use-models";
 import { useRunFit } from "../hooks/use-fits";
+import { PlanCard } from "./plan-card";
 
 /** Saved models of a study, each a question in plain words, with a run button. */
 export function ModelsScreen(props: { studyId: string }) {
@@ -15,6 +16,7 @@ export function ModelsScreen(props: { studyId: string }) {
   const writable = can(study.data, "models.write");
   return (
     <View style={styles.root}>
+      <PlanCard studyId={props.studyId} />
       {writable ? (
         <Button
           label="New model"

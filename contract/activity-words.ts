@@ -55,3 +55,13 @@ export function fitSealedWords(
 ): string {
   return `sealed ${fitWords(modelName)} (SHA-256 ${sha256.slice(0, 12)}…)${singlePersonSignOff ? " that they had also started and approved" : ""}`;
 }
+
+/** "registered the plan ‘Accuracy and prefrontal activity’ (SHA-256 0123456789ab…), a new version" */
+export function planRegisteredWords(title: string, sha256: string, newVersion: boolean): string {
+  return `registered the plan ‘${title}’ (SHA-256 ${sha256.slice(0, 12)}…)${newVersion ? ", a new version" : ""}`;
+}
+
+/** "countersigned the plan (SHA-256 0123456789ab…)" */
+export function planCountersignedWords(sha256: string): string {
+  return `countersigned the plan (SHA-256 ${sha256.slice(0, 12)}…)`;
+}

@@ -18,6 +18,7 @@ import {
 } from "../../../contract/plans";
 import { modelSpecSchema } from "../../../contract/spec";
 import { planSentence } from "../../../contract/methods-text";
+import { planCountersignedWords, planRegisteredWords } from "../../../contract/activity-words";
 
 const rule = (
   op: ExclusionRule["op"],
@@ -167,5 +168,18 @@ describe("the methods paragraph's plan sentence", () => {
     ).toBe(
       "The analysis deviated from the plan registered on 3 Dec 2026 (SHA-256 0123456789ab…): added covariate mean_fd; estimator huber instead of ols.",
     );
+  });
+});
+
+describe("the activity sentences of a plan", () => {
+  const sha = "0123456789abcdef".repeat(4);
+  it("say which plan, by title and hash, and whether it is a new version", () => {
+    expect(planRegisteredWords("Accuracy", sha, false)).toBe(
+      "registered the plan ‘Accuracy’ (SHA-256 0123456789ab…)",
+    );
+    expect(planRegisteredWords("Accuracy", sha, true)).toBe(
+      "registered the plan ‘Accuracy’ (SHA-256 0123456789ab…), a new version",
+    );
+    expect(planCountersignedWords(sha)).toBe("countersigned the plan (SHA-256 0123456789ab…)");
   });
 });
