@@ -41,7 +41,8 @@ import {
 } from "../specification-curve/joint";
 import { FIT_LEVEL, type RunFitOptions, assertFinite, cancelled, fail, inRegion } from "./common";
 import { studentTTwoSidedP } from "../distributions";
-import { rankedDesign } from "../fit-methods";
+import { estimateRegion, rankedDesign } from "../fit-methods";
+import type { Estimator as RegionEstimator } from "../region-data";
 import { averageRanks } from "../ranks";
 import { designFor, estimateRegionWork } from "./estimate";
 import { type Prepared, prepare, regionRows } from "./prepare";
@@ -208,6 +209,46 @@ export function fastNull(
     const rss = Math.max(0, ryy - b * sxy);
     const t = b / Math.sqrt(rss / df / sxx);
     return { estimate: rank ? t / Math.sqrt(t * t + df) : b, p: studentTTwoSidedP(t, df) };
+  };
+}
+
+/**
+ * The null draws of any other association specification when every
+ * participant has a trait value: the specification's participants, design
+ * and brain values are fixed, so each draw only puts the permuted trait into
+ * the tested column and runs the estimator (estimateRegion) on it — the
+ * same call the ordinary fit makes, without rebuilding the design and its
+ * unused decomposition (tested against the ordinary fit). Returns null
+ * where this does not apply.
+ */
+export function swappedNull(
+  prep: Prepared,
+  r: number,
+  trait: readonly (number | null)[],
+): ((perm: Int32Array) => { estimate: number; p: number }) | null {
+  if (prep.spec.kind !== "association" || prep.group) return null;
+  if (!trait.every((v) => v !== null && Number.isFinite(v))) return null;
+  const rows = regionRows(prep, r);
+  const { design, tested, covariateColumns } = designFor(prep, rows);
+  const y = Float64Array.from(rows, (i) => prep.data.values[r][i]);
+  const n = design.n;
+  const p = design.p;
+  return (perm) => {
+    const xs = Float64Array.from(rows, (i) => trait[perm[i]] as number);
+    const x = Float64Array.from(design.x);
+    for (let k = 0; k < n; k++) x[k * p + tested] = xs[k];
+    const est = estimateRegion({
+      kind: "association",
+      estimator: prep.spec.estimator as RegionEstimator,
+      y,
+      design: { ...design, x },
+      tested,
+      covariateColumns,
+      x: xs,
+      groupIndicator: null,
+      level: FIT_LEVEL,
+    });
+    return { estimate: est.estimate, p: est.p };
   };
 }
 

@@ -12,7 +12,7 @@ import { type FitData, type ModelSpecInput, modelSpecSchema } from "../../../../
 import type { CurveSpecification } from "../../../../contract/specification-curve";
 import { estimateRegionWork } from "../../../../server/stats/fit/estimate";
 import { prepare } from "../../../../server/stats/fit/prepare";
-import { fastNull } from "../../../../server/stats/fit/specification-curve";
+import { fastNull, swappedNull } from "../../../../server/stats/fit/specification-curve";
 import { shuffleInPlace } from "../../../../server/stats/rearrangements";
 import { runFit } from "../../../../server/stats/run-fit";
 import { createRng, normalDraw } from "../../../../server/stats/rng";
@@ -307,5 +307,42 @@ describe("specification curve: null draws without refitting", () => {
         );
         expect(Math.abs(fast.p - full.p)).toBeLessThanOrEqual(1e-9 * full.p);
       }
+  });
+});
+
+describe("specification curve: null draws with the design reused", () => {
+  it("gives each robust, rank and correlation null draw the estimate and p of the engine's own ordinary fit on the permuted trait", () => {
+    const data = invented(60, 0.3, 23);
+    const trait = (data.numericColumns.trait as (number | null)[]).map((v) => v ?? -0.2);
+    const complete: FitData = { ...data, numericColumns: { ...data.numericColumns, trait } };
+    const perm = Int32Array.from({ length: 60 }, (_, i) => i);
+    shuffleInPlace(perm, createRng(9));
+    const permuted = Array.from(perm, (j) => trait[j]);
+    const cases = [
+      { estimator: "huber", covariates: ["age"] },
+      { estimator: "bisquare", covariates: ["age", "site"] },
+      { estimator: "rank", covariates: [] },
+      { estimator: "skipped", covariates: [] },
+      { estimator: "bend", covariates: [] },
+    ] as const;
+    for (const { estimator, covariates } of cases) {
+      const prep = prepare(
+        modelSpecSchema.parse({
+          kind: "association",
+          regions: ["amygdala"],
+          predictor: "trait",
+          estimator,
+          covariates: [...covariates],
+        }),
+        complete,
+      );
+      const quick = swappedNull(prep, 0, trait);
+      expect(quick).not.toBeNull();
+      const fast = (quick as NonNullable<typeof quick>)(perm);
+      const full = estimateRegionWork({ ...prep, predictor: permuted }, 0, new Map()).result;
+      // The same estimator call on the same numbers: equal exactly.
+      expect(fast.estimate).toBe(full.estimate);
+      expect(fast.p).toBe(full.p);
+    }
   });
 });
