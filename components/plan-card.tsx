@@ -15,15 +15,14 @@ import { Badge, Button, Card, Failure, Field, Notice, Pending, Txt } from "./ui"
 import { palette, space } from "./theme";
 import { whenWords } from "./fit/lineage-words";
 import { correctionLabels } from "../contract/labels";
+import { directions, type Direction } from "../contract/plans";
 import {
   criterionText,
-  directions,
-  type Direction,
   type ExclusionRule,
   type MissingRule,
   ruleOps,
   type RuleOp,
-} from "../contract/plans";
+} from "../contract/exclusion-rules";
 import { corrections } from "../contract/spec";
 import { can, useStudy } from "../hooks/use-study";
 import { useModels } from "../hooks/use-models";

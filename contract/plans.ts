@@ -4,32 +4,23 @@
  * the exclusion rules on participant-sheet columns and the rule for
  * missing values. One definition, used by the API (validation), the
  * server (rule set-asides, deviations of a fit) and the screens (the same
- * words). No server imports.
+ * words). The rules themselves are contract/exclusion-rules.ts. No server
+ * imports.
  */
+
 import { z } from "zod";
+import {
+  boundedText,
+  criterionText,
+  type ExclusionRule,
+  exclusionRuleSchema,
+  missingRules,
+} from "./exclusion-rules";
 import { modelNameSchema, regionSelectionSchema } from "./model-form";
 import { corrections, modelSpecSchema, type ModelSpec } from "./spec";
 
-export const ruleOps = ["<", "<=", ">", ">=", "==", "!="] as const;
-export type RuleOp = (typeof ruleOps)[number];
 export const directions = ["positive", "negative", "either"] as const;
 export type Direction = (typeof directions)[number];
-
-const words = (max: number) =>
-  z
-    .string({ error: "must be text" })
-    .trim()
-    .min(1, { error: "must not be empty" })
-    .max(max, { error: `must be at most ${max} characters` });
-
-/** A criterion on a participant-sheet column: participants meeting it are set aside. */
-export const exclusionRuleSchema = z.strictObject({
-  column: words(200),
-  op: z.enum(ruleOps, { error: `must be one of ${ruleOps.join(" ")}` }),
-  value: z.union([z.number().finite(), words(500)], { error: "must be a number or text" }),
-  reason: words(500),
-});
-export type ExclusionRule = z.output<typeof exclusionRuleSchema>;
 
 /** A planned model: name, the model fields, how the regions were chosen, and the effect's expected direction. */
 export const plannedModelSchema = z.strictObject({
@@ -39,15 +30,8 @@ export const plannedModelSchema = z.strictObject({
   direction: z.enum(directions, { error: `must be one of ${directions.join(", ")}` }),
 });
 
-/**
- * Missing values on a rule's column: "keep" (a missing value meets no
- * rule) or "set-aside" (a missing value meets every rule on its column).
- */
-export const missingRules = ["keep", "set-aside"] as const;
-export type MissingRule = (typeof missingRules)[number];
-
 export const planSchema = z.strictObject({
-  title: words(300),
+  title: boundedText(300),
   models: z.array(plannedModelSchema).min(1, { error: "name at least one model" }).max(50),
   correction: z.enum(corrections, { error: `must be one of ${corrections.join(", ")}` }),
   exclusionRules: z.array(exclusionRuleSchema).max(100).default([]),
@@ -61,17 +45,12 @@ export const planCreateSchema = z
   .strictObject({
     plan: planSchema,
     replaces: z.string().min(1).max(100).optional(),
-    reason: words(2000).optional(),
+    reason: boundedText(2000).optional(),
   })
   .refine((b) => (b.replaces === undefined) === (b.reason === undefined), {
     error: "a new version names the plan it replaces and the reason, both",
     path: ["reason"],
   });
-
-/** The criterion as written: `mean_fd > 0.5`. */
-export function criterionText(rule: ExclusionRule): string {
-  return `${rule.column} ${rule.op} ${rule.value}`;
-}
 
 /** The set-aside reason a rule gives: "plan rule: mean_fd > 0.5 — motion". */
 export function ruleReason(rule: ExclusionRule): string {
@@ -81,54 +60,6 @@ export function ruleReason(rule: ExclusionRule): string {
 /** True when a set-aside reason is one a plan rule gave. */
 export function isRuleReason(reason: string): boolean {
   return reason.startsWith("plan rule: ");
-}
-
-/**
- * Whether a participant's value on the rule's column meets the rule. A
- * number compares as a number when both sides are numbers (text that
- * reads as a finite number counts as a number); otherwise `==`/`!=`
- * compare text and the ordering ops compare text by code point. Missing
- * (null, undefined, empty text, NaN) follows `missing`.
- */
-export function meetsRule(
-  rule: ExclusionRule,
-  raw: string | number | null | undefined,
-  missing: MissingRule,
-): boolean {
-  const isMissing =
-    raw === null ||
-    raw === undefined ||
-    (typeof raw === "number" && Number.isNaN(raw)) ||
-    (typeof raw === "string" && raw.trim() === "");
-  if (isMissing) return missing === "set-aside";
-  const asNumber = (v: string | number): number | null => {
-    if (typeof v === "number") return Number.isFinite(v) ? v : null;
-    const n = Number(v.trim());
-    return v.trim() !== "" && Number.isFinite(n) ? n : null;
-  };
-  const a = asNumber(raw as string | number);
-  const b = asNumber(rule.value);
-  let cmp: number;
-  if (a !== null && b !== null) cmp = a < b ? -1 : a > b ? 1 : 0;
-  else {
-    const x = String(raw).trim();
-    const y = String(rule.value).trim();
-    cmp = x < y ? -1 : x > y ? 1 : 0;
-  }
-  switch (rule.op) {
-    case "<":
-      return cmp < 0;
-    case "<=":
-      return cmp <= 0;
-    case ">":
-      return cmp > 0;
-    case ">=":
-      return cmp >= 0;
-    case "==":
-      return cmp === 0;
-    case "!=":
-      return cmp !== 0;
-  }
 }
 
 const plural = (n: number, one: string, many: string) => `${n} ${n === 1 ? one : many}`;

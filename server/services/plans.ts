@@ -24,11 +24,11 @@ import type { Database, Queryable } from "../../db/client";
 import { plans, setAsides, users, type PlanRow } from "../../db/schema";
 import {
   compareWithPlan,
-  meetsRule,
   ruleReason,
   type Plan,
   type planCreateSchema,
 } from "../../contract/plans";
+import { meetsRule } from "../../contract/exclusion-rules";
 import type { ModelSpec } from "../../contract/spec";
 import type { FitPlanView, PlanView } from "../../contract/views/plans";
 import type { z } from "zod";

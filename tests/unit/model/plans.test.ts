@@ -8,14 +8,12 @@
 import { describe, expect, it } from "vitest";
 import {
   compareWithPlan,
-  criterionText,
-  type ExclusionRule,
-  meetsRule,
   type Plan,
   planSchema,
   planVerdict,
   ruleReason,
 } from "../../../contract/plans";
+import { criterionText, type ExclusionRule, meetsRule } from "../../../contract/exclusion-rules";
 import { modelSpecSchema } from "../../../contract/spec";
 import { planSentence } from "../../../contract/methods-text";
 import { planCountersignedWords, planRegisteredWords } from "../../../contract/activity-words";
