@@ -46,7 +46,11 @@ import {
 type Kind = ModelSpec["kind"];
 type Estimator = ModelSpec["estimator"];
 
-const kindOptions = optionsOf(kindLabels);
+// A specification curve's alternatives have no editor in this form yet: it is set up through a recipe or the API.
+const kindOptions = optionsOf(
+  kindLabels,
+  (Object.keys(kindLabels) as Kind[]).filter((k) => k !== "specification-curve"),
+);
 const inferenceOptions = optionsOf(inferenceLabels, ["parametric", "permutation", "bootstrap"]);
 const predictionInferenceOptions = [
   { value: "permutation" as const, label: "Permutation test" },
