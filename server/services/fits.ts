@@ -36,7 +36,7 @@ import { idSchema } from "../http/validate";
 import type { FitJobs } from "../jobs/fit-jobs";
 import { decodeRegionRows } from "../jobs/region-rows";
 import { circularityCaution } from "../../contract/model-form";
-import { type Recipe, buildRecipe, specOfRecipe } from "../../contract/recipe";
+import { type Recipe, RecipeSpecError, buildRecipe, specOfRecipe } from "../../contract/recipe";
 import {
   type Flag,
   type ModelSpec,
@@ -497,7 +497,7 @@ export async function fitViewParts(
     fitPlan(db, {
       studyId,
       createdAt: new Date(summary.createdAt),
-      spec: specOfRecipe(row.recipe as Record<string, unknown>),
+      spec: readableSpec(row.recipe),
     }),
   );
   const head: FitView = {
@@ -649,6 +649,16 @@ export async function createFit(
   });
   jobs.enqueue(fit.id);
   return fitView(db, jobs, fit, true);
+}
+
+/** The model fields of a stored recipe, or null when they cannot be read as a model. */
+function readableSpec(recipe: unknown): ModelSpec | null {
+  try {
+    return specOfRecipe(recipe as Record<string, unknown>);
+  } catch (error) {
+    if (error instanceof RecipeSpecError) return null;
+    throw error;
+  }
 }
 
 /** Cancels a queued or running fit. Throws 409 when it has already finished. */

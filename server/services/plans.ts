@@ -365,11 +365,22 @@ export async function fitPlan(
   fit: {
     studyId: string;
     createdAt: Date;
-    spec: ModelSpec;
+    /** The fit's model fields, or null when its recipe cannot be read as a model. */
+    spec: ModelSpec | null;
   },
 ): Promise<FitPlanView | null> {
   const row = await planAt(db, fit.studyId, fit.createdAt);
   if (!row) return null;
+  if (!fit.spec)
+    return {
+      id: row.id,
+      sha256: row.sha256,
+      registeredAt: row.registeredAt.toISOString(),
+      model: null,
+      asPlanned: false,
+      deviations: ["the fit's recipe does not hold a readable model"],
+    };
+  const spec = fit.spec;
   const reasons = row.plan.exclusionRules.map(ruleReason);
   const ruled =
     reasons.length > 0
@@ -385,7 +396,7 @@ export async function fitPlan(
             ),
           )
       : [];
-  const compared = compareWithPlan(row.plan, { spec: fit.spec, setAside: fit.spec.setAside }, [
+  const compared = compareWithPlan(row.plan, { spec, setAside: spec.setAside }, [
     ...new Set(ruled.map((r) => r.participant)),
   ]);
   return {
