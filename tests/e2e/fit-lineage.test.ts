@@ -10,7 +10,15 @@
  * A Viewer of a restricted study sees the count and the reasons, no ids.
  */
 import { beforeAll, expect, it } from "vitest";
-import { type DemoApi, demoApi as signInDemo, openPage, phone, screenshot, wide } from "./harness";
+import {
+  type DemoApi,
+  openPage,
+  phone,
+  runFitToDone,
+  screenshot,
+  demoApi as signInDemo,
+  wide,
+} from "./harness";
 import { sharedServerAndBrowser } from "./session";
 
 const e2e = sharedServerAndBrowser();
@@ -35,38 +43,6 @@ const reasons = {
   motion: "Mean framewise displacement above 0.5 mm (motion check before analysis)",
 };
 
-/** Uploads a file as the demo Owner (multipart). */
-async function ownerUpload(path: string, form: FormData): Promise<unknown> {
-  const signIn = await fetch(`${e2e.server.url}/api/dev/demo-sign-in`, {
-    method: "POST",
-    headers: { "Content-Type": "application/json", Origin: e2e.server.url },
-    body: JSON.stringify({ email: "owner@demo.covarion.test" }),
-  });
-  const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
-  const res = await fetch(`${e2e.server.url}${path}`, {
-    method: "POST",
-    headers: { Cookie: cookie, Origin: e2e.server.url },
-    body: form,
-  });
-  if (!res.ok) throw new Error(`POST ${path} answered ${res.status}: ${await res.text()}`);
-  return res.json();
-}
-
-async function runFit(api: Api, modelId: string): Promise<string> {
-  const fit = (await api(`/api/studies/${studyId}/fits`, {
-    method: "POST",
-    body: { modelId },
-  })) as { id: string };
-  const deadline = Date.now() + 90_000;
-  for (;;) {
-    const seen = (await api(`/api/fits/${fit.id}`)) as { status: string };
-    if (seen.status === "done") return fit.id;
-    if (seen.status === "failed" || Date.now() > deadline)
-      throw new Error(`fit ${fit.id} ended ${seen.status}`);
-    await new Promise((r) => setTimeout(r, 250));
-  }
-}
-
 beforeAll(async () => {
   owner = await demoApi("owner");
   const analyst = await demoApi("analyst");
@@ -79,7 +55,7 @@ beforeAll(async () => {
       spec: { kind: "one-sample", regions: ["L_dlpfc", "R_dlpfc", "dACC"] },
     },
   })) as { id: string };
-  firstId = await runFit(analyst, model.id);
+  firstId = (await runFitToDone(analyst, studyId, model.id, 90_000)).id;
   await analyst(`/api/studies/${studyId}/set-asides`, {
     method: "POST",
     body: { participant: "sub-12", reason: reasons.asleep },
@@ -88,7 +64,7 @@ beforeAll(async () => {
     method: "POST",
     body: { participant: "sub-20", region: "L_dlpfc", reason: reasons.artefact },
   });
-  refitId = await runFit(analyst, model.id);
+  refitId = (await runFitToDone(analyst, studyId, model.id, 90_000)).id;
   await analyst(`/api/studies/${studyId}/set-asides`, {
     method: "POST",
     body: { participant: "sub-33", reason: reasons.motion },
@@ -263,7 +239,10 @@ it("a fit with fewer than 20 participants in a region shows the small-sample cau
   const form = new FormData();
   form.set("kind", "brain");
   form.set("file", new Blob([`${lines.join("\n")}\n`], { type: "text/csv" }), "twelve.csv");
-  const preview = (await ownerUpload(`/api/studies/${study.id}/datasets`, form)) as { id: string };
+  const preview = (await owner(`/api/studies/${study.id}/datasets`, {
+    method: "POST",
+    body: form,
+  })) as { id: string };
   await owner(`/api/studies/${study.id}/datasets/${preview.id}/confirm`, {
     method: "POST",
     body: {},

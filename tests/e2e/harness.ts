@@ -150,10 +150,10 @@ export async function screenshot(page: Page, name: string): Promise<void> {
   await page.screenshot({ path: join(screenshotDir, `${name}.png`), fullPage: false });
 }
 
-/** A call to the running server's API as one demo person: JSON in and out; throws on a non-2xx answer. */
+/** A call to the running server's API as one demo person: JSON (or a multipart form) in, JSON out; throws on a non-2xx answer. */
 export type DemoApi = (
   path: string,
-  init?: { method?: string; body?: unknown },
+  init?: { method?: string; body?: unknown | FormData },
 ) => Promise<unknown>;
 
 /** Signs a demo person in through the demo sign-in route and returns an API caller carrying that session cookie. */
@@ -169,14 +169,15 @@ export async function demoApi(
   if (!signIn.ok) throw new Error(`demo sign-in answered ${signIn.status}`);
   const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
   return async (path, init = {}) => {
+    const form = init.body instanceof FormData ? init.body : null;
     const res = await fetch(`${serverUrl}${path}`, {
       method: init.method ?? "GET",
       headers: {
         Cookie: cookie,
         Origin: serverUrl,
-        ...(init.body !== undefined ? { "Content-Type": "application/json" } : {}),
+        ...(init.body !== undefined && !form ? { "Content-Type": "application/json" } : {}),
       },
-      body: init.body !== undefined ? JSON.stringify(init.body) : undefined,
+      body: form ?? (init.body !== undefined ? JSON.stringify(init.body) : undefined),
     });
     if (!res.ok)
       throw new Error(
@@ -184,4 +185,32 @@ export async function demoApi(
       );
     return res.json();
   };
+}
+
+/**
+ * Runs a fit of a model and waits until it is done (every 250 ms, up to
+ * `timeoutMs`); its id and final view. Throws when it fails, is cancelled
+ * or runs out of time.
+ */
+export async function runFitToDone(
+  api: DemoApi,
+  studyId: string,
+  modelId: string,
+  timeoutMs = 120_000,
+): Promise<{ id: string; view: Record<string, unknown> }> {
+  const fit = (await api(`/api/studies/${studyId}/fits`, {
+    method: "POST",
+    body: { modelId },
+  })) as { id: string };
+  const deadline = Date.now() + timeoutMs;
+  for (;;) {
+    const view = (await api(`/api/fits/${fit.id}`)) as Record<string, unknown> & {
+      status: string;
+      error?: { message: string } | null;
+    };
+    if (view.status === "done") return { id: fit.id, view };
+    if (view.status === "failed" || view.status === "cancelled" || Date.now() > deadline)
+      throw new Error(`fit ${fit.id} ended ${view.status}: ${view.error?.message ?? ""}`);
+    await new Promise((r) => setTimeout(r, 250));
+  }
 }

@@ -11,7 +11,7 @@
  */
 import { beforeAll, expect, it } from "vitest";
 import type { PredictionBlock } from "../../contract/prediction";
-import { demoApi, openPage, phone, screenshot, wide } from "./harness";
+import { demoApi, openPage, phone, runFitToDone, screenshot, wide } from "./harness";
 import { sharedServerAndBrowser } from "./session";
 
 const e2e = sharedServerAndBrowser();
@@ -38,26 +38,9 @@ beforeAll(async () => {
       },
     },
   })) as { id: string };
-  const fit = (await analyst(`/api/studies/${studyId}/fits`, {
-    method: "POST",
-    body: { modelId: model.id },
-  })) as { id: string };
-  const deadline = Date.now() + 100_000;
-  for (;;) {
-    const seen = (await analyst(`/api/fits/${fit.id}`)) as {
-      status: string;
-      error?: { message: string } | null;
-      result?: { prediction?: PredictionBlock } | null;
-    };
-    if (seen.status === "done") {
-      fitId = fit.id;
-      block = seen.result?.prediction as PredictionBlock;
-      break;
-    }
-    if (seen.status === "failed" || seen.status === "cancelled" || Date.now() > deadline)
-      throw new Error(`the prediction fit ended ${seen.status}: ${seen.error?.message ?? ""}`);
-    await new Promise((r) => setTimeout(r, 250));
-  }
+  const done = await runFitToDone(analyst, studyId, model.id, 100_000);
+  fitId = done.id;
+  block = (done.view.result as { prediction: PredictionBlock }).prediction;
 }, 120_000);
 
 /** True when the element's box lies within the viewport's height (seen without scrolling). */

@@ -12,7 +12,7 @@
  */
 import type { Locator, Page } from "playwright-core";
 import { beforeAll, expect, it } from "vitest";
-import { type DemoApi, demoApi, openPage, phone, screenshot, wide } from "./harness";
+import { type DemoApi, demoApi, openPage, phone, runFitToDone, screenshot, wide } from "./harness";
 import { sharedServerAndBrowser } from "./session";
 
 const e2e = sharedServerAndBrowser();
@@ -51,37 +51,6 @@ function brainCsv(regions: readonly string[]): string {
   return `${lines.join("\n")}\n`;
 }
 
-async function ownerUpload(path: string, form: FormData): Promise<unknown> {
-  const signIn = await fetch(`${e2e.server.url}/api/dev/demo-sign-in`, {
-    method: "POST",
-    headers: { "Content-Type": "application/json", Origin: e2e.server.url },
-    body: JSON.stringify({ email: "owner@demo.covarion.test" }),
-  });
-  const cookie = String(signIn.headers.get("set-cookie")).split(";")[0];
-  const res = await fetch(`${e2e.server.url}${path}`, {
-    method: "POST",
-    headers: { Cookie: cookie, Origin: e2e.server.url },
-    body: form,
-  });
-  if (!res.ok) throw new Error(`POST ${path} answered ${res.status}: ${await res.text()}`);
-  return res.json();
-}
-
-async function runFit(studyId: string, modelId: string): Promise<string> {
-  const fit = (await owner(`/api/studies/${studyId}/fits`, {
-    method: "POST",
-    body: { modelId },
-  })) as { id: string };
-  const deadline = Date.now() + 120_000;
-  for (;;) {
-    const seen = (await owner(`/api/fits/${fit.id}`)) as { status: string };
-    if (seen.status === "done") return fit.id;
-    if (seen.status === "failed" || Date.now() > deadline)
-      throw new Error(`fit ${fit.id} ended ${seen.status}`);
-    await new Promise((r) => setTimeout(r, 250));
-  }
-}
-
 async function inventedFit(
   label: string,
   count: number,
@@ -98,7 +67,10 @@ async function inventedFit(
     new Blob([brainCsv(regionNames(count))], { type: "text/csv" }),
     `regions-${count}.csv`,
   );
-  const preview = (await ownerUpload(`/api/studies/${study.id}/datasets`, form)) as { id: string };
+  const preview = (await owner(`/api/studies/${study.id}/datasets`, {
+    method: "POST",
+    body: form,
+  })) as { id: string };
   await owner(`/api/studies/${study.id}/datasets/${preview.id}/confirm`, {
     method: "POST",
     body: {},
@@ -114,7 +86,7 @@ async function inventedFit(
   fits.push({
     label,
     studyId: study.id,
-    fitId: await runFit(study.id, model.id),
+    fitId: (await runFitToDone(owner, study.id, model.id)).id,
     estimate: "Mean",
   });
 }
@@ -133,7 +105,7 @@ beforeAll(async () => {
   fits.push({
     label: "demo",
     studyId: demoStudy,
-    fitId: await runFit(demoStudy, model.id),
+    fitId: (await runFitToDone(owner, demoStudy, model.id)).id,
     estimate: "Slope",
   });
   // Regions chosen from the same data: the fit carries the long circularity caution.
