@@ -20,12 +20,15 @@ import type {
 import { formatP, formatPercent, formatValue } from "../charts/number-format";
 import { chart, marks, palette, radius, space } from "../theme";
 import { Button, Card, Heading, Txt } from "../ui";
+import { formatTicks, tickCountFor, tickValues } from "../charts/ticks";
 import { curveLayout, specKey } from "./specification-curve-layout";
 
 const ESTIMATE_HEIGHT = 180;
 const ROW_HEIGHT = 20;
 /** Width of the fixed column naming each choice row. */
 const LABEL_WIDTH = 112;
+/** Half a tick label's line, so its middle sits on its value. */
+const TICK_HALF = 8;
 
 export function SpecificationCurveView(props: {
   specifications: readonly CurveSpecification[];
@@ -38,6 +41,11 @@ export function SpecificationCurveView(props: {
   const [width, setWidth] = useState<number>(chart.defaultWidth);
   const [selected, setSelected] = useState<number | null>(null);
   const layout = curveLayout(specs, props.rules, width);
+  // Value labels beside the estimate panel (inside its padded range; the title takes the top line).
+  const ticks = tickValues([layout.low, layout.high], tickCountFor(ESTIMATE_HEIGHT, 48)).filter(
+    (t) => t >= layout.low && t <= layout.high && layout.y(t, ESTIMATE_HEIGHT) > 2 * TICK_HALF,
+  );
+  const axis = formatTicks(ticks).map((label, k) => ({ value: ticks[k], label }));
   const cw = layout.columnWidth;
   const panelHeight = layout.rows.length * ROW_HEIGHT;
   const chosen = selected === null ? null : specs[selected];
@@ -64,7 +72,20 @@ export function SpecificationCurveView(props: {
           }
         >
           <View style={styles.labels}>
-            <View style={{ height: ESTIMATE_HEIGHT + space.md }} />
+            <View style={{ height: ESTIMATE_HEIGHT + space.md }} testID="curve-axis">
+              <Txt kind="caption" style={styles.axisTitle}>
+                Estimate
+              </Txt>
+              {axis.map(({ value, label }) => (
+                <Txt
+                  key={label}
+                  kind="caption"
+                  style={[styles.tick, { top: layout.y(value, ESTIMATE_HEIGHT) - TICK_HALF }]}
+                >
+                  {label}
+                </Txt>
+              ))}
+            </View>
             {layout.rows.map((row) => (
               <Txt key={row.key} kind="caption" style={styles.rowLabel} numberOfLines={1}>
                 {row.label}
@@ -172,6 +193,14 @@ const styles = StyleSheet.create({
   hitRow: { flexDirection: "row" },
   panels: { flexDirection: "row" },
   labels: { width: LABEL_WIDTH, paddingRight: space.xs },
+  axisTitle: { position: "absolute", left: 0, top: 0, color: palette.inkSoft },
+  tick: {
+    position: "absolute",
+    right: space.xs,
+    color: palette.inkSoft,
+    fontVariant: ["tabular-nums"],
+    lineHeight: 2 * TICK_HALF,
+  },
   scroll: { flex: 1 },
   rowLabel: { color: palette.inkSoft, height: ROW_HEIGHT, lineHeight: ROW_HEIGHT },
   steps: { flexDirection: "row", gap: space.sm, marginTop: space.md },

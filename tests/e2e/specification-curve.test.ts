@@ -1,0 +1,79 @@
+/**
+ * A specification curve fit in the browser, at phone and wide size: run
+ * through the API on the demo study (invented data), its fit page shows the
+ * summary, the sorted estimates with their choices, and the joint test; the
+ * page does not scroll sideways and logs no errors.
+ */
+import { beforeAll, describe, expect, it } from "vitest";
+import { demoApi, openPage, phone, runFitToDone, screenshot, wide } from "./harness";
+import { sharedServerAndBrowser } from "./session";
+
+const e2e = sharedServerAndBrowser();
+
+let studyId: string;
+let fitId: string;
+let count: number;
+
+beforeAll(async () => {
+  const analyst = await demoApi(e2e.server.url, "analyst");
+  studyId = ((await analyst("/api/studies")) as { id: string }[])[0].id;
+  const model = (await analyst(`/api/studies/${studyId}/models`, {
+    method: "POST",
+    body: {
+      name: "Accuracy in the left insula, every reasonable analysis",
+      regionSelection: "anatomical-or-prior",
+      spec: {
+        kind: "specification-curve",
+        regions: ["L_insula"],
+        predictor: "accuracy",
+        inference: "permutation",
+        resamples: 49,
+        seed: 3,
+        specifications: {
+          estimators: ["ols", "huber"],
+          covariateSets: [[], ["age"]],
+          exclusionRules: [{ column: "mean_fd", op: ">", value: 0.3, reason: "motion" }],
+        },
+      },
+    },
+  })) as { id: string };
+  const done = await runFitToDone(analyst, studyId, model.id, 100_000);
+  fitId = done.id;
+  count = (done.view.result as { summary: { count: number } }).summary.count;
+}, 120_000);
+
+describe("specification curve fit page", () => {
+  for (const [label, viewport] of [
+    ["phone", phone],
+    ["wide", wide],
+  ] as const) {
+    it(`shows the summary, the curve and the joint test at ${label} size`, async () => {
+      // 2 estimators × 2 covariate sets × the rule on or off.
+      expect(count).toBe(8);
+      const { page, context, errors } = await openPage(e2e.browser, viewport);
+      try {
+        await page.goto(`${e2e.server.url}/sign-in`);
+        await page.getByRole("button", { name: "Sign in as the demo analyst" }).click();
+        await page.waitForURL(/\/studies$/);
+        await page.goto(`${e2e.server.url}/studies/${studyId}/fits/${fitId}`);
+        await page.getByTestId("specification-curve-view").waitFor();
+        await screenshot(page, `curve-${label}-top`);
+        await expect(page.getByTestId("curve-summary").isVisible()).resolves.toBe(true);
+        const columns = page.getByTestId("curve-columns");
+        await columns.scrollIntoViewIfNeeded();
+        await screenshot(page, `curve-${label}-columns`);
+        await expect(columns.locator("svg").first().isVisible()).resolves.toBe(true);
+        await page.getByTestId("curve-joint-test").scrollIntoViewIfNeeded();
+        await expect(page.getByTestId("curve-joint-test").innerText()).resolves.toMatch(/49/);
+        await screenshot(page, `curve-${label}-joint`);
+        const sideways = await page.evaluate(
+          () => document.documentElement.scrollWidth - document.documentElement.clientWidth,
+        );
+        expect(sideways).toBeLessThanOrEqual(0);
+        expect(errors).toEqual([]);
+      } finally {
+        await context.close();
+      }
+    });
+  }
+});
