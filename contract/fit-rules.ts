@@ -13,6 +13,7 @@
  * - `dataPreconditions`: those per-region preconditions in plain words,
  *   for the form to show before a fit is run.
  */
+import { curveChoices } from "./specification-curve";
 import type { ModelSpec } from "./spec";
 
 export interface SpecProblem {
@@ -73,8 +74,7 @@ function curveProblems(spec: ModelSpec, add: (field: string, message: string) =>
   if (spec.covariates.length > 0)
     add("covariates", "a specification curve lists its covariates in specifications.covariateSets");
   const kind = curveKind(spec);
-  const estimatorsListed = spec.specifications?.estimators ?? [spec.estimator];
-  const sets = spec.specifications?.covariateSets ?? [[]];
+  const { estimators: estimatorsListed, covariateSets: sets } = curveChoices(spec);
   if (new Set(estimatorsListed).size !== estimatorsListed.length)
     add("specifications.estimators", "an estimator is listed twice");
   estimatorsListed.forEach((e, k) => {

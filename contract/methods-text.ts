@@ -27,7 +27,9 @@ import {
   smallSamplePaperCaution,
 } from "./cautions";
 import { dateWords } from "./dates";
+import { ruleText } from "./exclusion-rules";
 import { estimatorWords } from "./labels";
+import { curveChoices } from "./specification-curve";
 import { secondPersonSignOffLabel } from "./sign-off";
 import type { PredictionBlock } from "./prediction";
 import { RecipeSpecError, specOfRecipe } from "./recipe";
@@ -731,12 +733,14 @@ function curveMethodsText(input: MethodsInput, spec: ModelSpec): MethodsText {
   const question = spec.predictor
     ? `the association of the contrast with ${quoted(spec.predictor)}`
     : `the difference in the contrast between ${quoted(spec.levels?.[0] ?? "first")} and ${quoted(spec.levels?.[1] ?? "second")}`;
-  const estimatorList = spec.specifications?.estimators ?? [spec.estimator];
-  const sets = spec.specifications?.covariateSets ?? [[]];
-  const rules = spec.specifications?.exclusionRules ?? [];
-  const total = estimatorList.length * sets.length * 2 ** rules.length;
+  const {
+    estimators: estimatorList,
+    covariateSets: sets,
+    exclusionRules: rules,
+    count: total,
+  } = curveChoices(spec);
   const setWords = sets.map((set) => (set.length === 0 ? "no covariates" : list(set.map(quoted))));
-  const ruleWords = rules.map((r) => `${r.column} ${r.op} ${r.value} (${r.reason})`);
+  const ruleWords = rules.map(ruleText);
   sentences.push(
     `In region ${region}, ${question} was estimated under every combination of reasonable analytic choices ${c.cite("Steegen et al. 2016", "Simonsohn et al. 2020")}: ${count(estimatorList.length, "estimator")} (${list(estimatorList.map((e) => estimatorWords[e]))}), ${count(sets.length, "covariate set")} (${setWords.join("; ")})${rules.length > 0 ? `, and each of ${count(rules.length, "exclusion rule")} (${ruleWords.join("; ")}) applied or not` : ""}, giving ${count(total, "specification")}.`,
   );

@@ -1,8 +1,33 @@
 /**
  * What a specification-curve fit (kind "specification-curve") reports, in
  * one place for the engine (server/stats/specification-curve/), the API (the
- * fit's result) and the fit screen. Types only.
+ * fit's result) and the fit screen, and the alternatives a curve crosses
+ * with their defaults (`curveChoices`).
  */
+import type { ExclusionRule } from "./exclusion-rules";
+import type { ModelSpec } from "./spec";
+
+/**
+ * The alternatives of a curve with their defaults (the model's estimator;
+ * one set without covariates; no rules) and how many specifications they
+ * make: estimators × covariate sets × 2^rules.
+ */
+export function curveChoices(spec: Pick<ModelSpec, "estimator" | "specifications">): {
+  estimators: ModelSpec["estimator"][];
+  covariateSets: string[][];
+  exclusionRules: ExclusionRule[];
+  count: number;
+} {
+  const estimators = spec.specifications?.estimators ?? [spec.estimator];
+  const covariateSets = spec.specifications?.covariateSets ?? [[]];
+  const exclusionRules = spec.specifications?.exclusionRules ?? [];
+  return {
+    estimators,
+    covariateSets,
+    exclusionRules,
+    count: estimators.length * covariateSets.length * 2 ** exclusionRules.length,
+  };
+}
 
 /** One specification: one estimator, one covariate set, one subset of the exclusion rules. */
 export interface CurveSpecification {

@@ -2,6 +2,7 @@
  * A model in plain words, for lists, the fit screen and the methods text.
  */
 import { correctionWords, estimatorWords, inferenceWords } from "../../contract/labels";
+import { curveChoices } from "../../contract/specification-curve";
 import type { ModelSpec } from "../../contract/spec";
 
 export function questionOf(
@@ -33,6 +34,7 @@ export function questionOf(
 
 export function methodOf(spec: ModelSpec): string {
   if (spec.kind === "prediction") return predictionMethodOf(spec);
+  if (spec.kind === "specification-curve") return curveMethodOf(spec);
   const parts = [estimatorWords[spec.estimator], inferenceWords[spec.inference]];
   if (spec.inference !== "parametric")
     parts.push(`${spec.resamples.toLocaleString("en")} resamples, seed ${spec.seed}`);
@@ -51,6 +53,21 @@ export function regionsOf(spec: Pick<ModelSpec, "regions">, total?: number): str
   return spec.regions.length <= 4
     ? spec.regions.join(", ")
     : `${spec.regions.length} chosen regions`;
+}
+
+/** A specification curve's method: the alternatives it crosses, and its joint test. */
+function curveMethodOf(spec: ModelSpec): string {
+  const { estimators, covariateSets: sets, exclusionRules: rules, count } = curveChoices(spec);
+  const choices = [
+    estimators.map((e) => estimatorWords[e]).join(" or "),
+    `${sets.length} covariate set${sets.length === 1 ? "" : "s"}`,
+    `${rules.length} exclusion rule${rules.length === 1 ? "" : "s"} on or off`,
+  ].join(" × ");
+  const test =
+    spec.inference === "permutation"
+      ? `joint test against ${spec.resamples.toLocaleString("en")} null data sets, seed ${spec.seed}`
+      : "no joint test";
+  return `${count} specifications: ${choices} · ${test}`;
 }
 
 /** A prediction's method: ridge regression, its folds and penalty, and its test. */

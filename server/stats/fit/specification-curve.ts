@@ -29,7 +29,7 @@
  */
 import { curveKind } from "../../../contract/fit-rules";
 import type { ModelSpec, FitResult } from "../../../contract/spec";
-import type { CurveSpecification } from "../../../contract/specification-curve";
+import { type CurveSpecification, curveChoices } from "../../../contract/specification-curve";
 import { meetsRule, ruleText } from "../../../contract/exclusion-rules";
 import { shuffleInPlace } from "../rearrangements";
 import { createRng } from "../rng";
@@ -59,8 +59,7 @@ interface Choice {
 /** Participant indices each rule excludes (a missing value is not excluded). */
 function excludedBy(prep: Prepared): number[][] {
   const { data } = prep;
-  const rules = prep.spec.specifications?.exclusionRules ?? [];
-  return rules.map((rule) => {
+  return curveChoices(prep.spec).exclusionRules.map((rule) => {
     const numeric = Object.hasOwn(data.numericColumns, rule.column)
       ? data.numericColumns[rule.column]
       : null;
@@ -76,9 +75,7 @@ function excludedBy(prep: Prepared): number[][] {
 function choicesOf(prep: Prepared): Choice[] {
   const s = prep.spec;
   const question = curveKind(s);
-  const estimatorList = s.specifications?.estimators ?? [s.estimator];
-  const sets = s.specifications?.covariateSets ?? [[]];
-  const rules = s.specifications?.exclusionRules ?? [];
+  const { estimators: estimatorList, covariateSets: sets, exclusionRules: rules } = curveChoices(s);
   const excluded = excludedBy(prep);
   const out: Choice[] = [];
   for (const estimator of estimatorList)
