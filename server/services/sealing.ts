@@ -35,7 +35,7 @@ import {
   sealRefusalMessage,
   secondPersonRequiredCode,
 } from "../../contract/sign-off";
-import type { Publication, SealedModel } from "../../contract/views/fits";
+import type { SealedModel } from "../../contract/views/fits";
 import { recordEvent } from "./audit";
 
 interface Actor {
