@@ -28,6 +28,9 @@ const flag = z
 
 const positiveInt = z.coerce.number().int().min(1);
 
+/** The largest MAX_UPLOAD_MB accepted: the largest upload size tested. */
+const MAX_UPLOAD_MB_CEILING = 2048;
+
 const envSchema = z.object({
   NODE_ENV: z.enum(["development", "production", "test"]).default("development"),
   PORT: z.coerce.number().int().min(1).max(65535).default(3000),
@@ -52,6 +55,13 @@ const envSchema = z.object({
   RATE_LIMIT_PER_IP: positiveInt.default(30),
   REQUEST_IDLE_TIMEOUT_SECONDS: z.coerce.number().positive().default(30),
   REQUEST_TIMEOUT_SECONDS: z.coerce.number().positive().default(600),
+  MAX_UPLOAD_MB: z.coerce
+    .number()
+    .int()
+    .min(1)
+    .max(MAX_UPLOAD_MB_CEILING, `at most ${MAX_UPLOAD_MB_CEILING} (the largest size tested)`)
+    .default(50),
+  MAX_UPLOAD_COLUMNS: z.coerce.number().int().min(2).max(1_000_000).default(20_000),
 });
 
 export type Env = Readonly<Record<string, string | undefined>>;
@@ -84,6 +94,8 @@ export interface Config {
   rateLimit: { windowMs: number; perAddress: number; perIp: number };
   /** Longest wait for headers or pause in a body, and longest time to receive a whole request (server/http/request-timeouts.ts). */
   requestTimeouts: { idleMs: number; totalMs: number };
+  /** Uploaded files: most bytes received (MAX_UPLOAD_MB) and most columns in a header (MAX_UPLOAD_COLUMNS). */
+  uploads: { maxBytes: number; maxColumns: number };
   secrets: Secrets;
 }
 
@@ -172,6 +184,7 @@ export function loadConfig(env: Env = process.env): Config {
       idleMs: Math.round(e.REQUEST_IDLE_TIMEOUT_SECONDS * 1000),
       totalMs: Math.round(e.REQUEST_TIMEOUT_SECONDS * 1000),
     },
+    uploads: { maxBytes: e.MAX_UPLOAD_MB * 1024 * 1024, maxColumns: e.MAX_UPLOAD_COLUMNS },
     secrets,
   };
 }
