@@ -162,6 +162,7 @@ function FitBody({
           jointTest={curve.jointTest}
           rules={spec?.specifications?.exclusionRules ?? []}
           region={curve.region}
+          planned={fit.plan?.curveChoice}
         />
       ) : null}
       {fit.status === "done" && !prediction && !curve && regions.length > 0 ? (

@@ -17,7 +17,9 @@ import {
   missingRules,
 } from "./exclusion-rules";
 import { modelNameSchema, regionSelectionSchema } from "./model-form";
+import { curveKind } from "./fit-rules";
 import { corrections, modelSpecSchema, type ModelSpec } from "./spec";
+import { curveChoices } from "./specification-curve";
 
 export const directions = ["positive", "negative", "either"] as const;
 export type Direction = (typeof directions)[number];
@@ -168,6 +170,43 @@ export function compareWithPlan(
       `${plural(kept, "participant", "participants")} the plan's rules set aside ${kept === 1 ? "was" : "were"} kept`,
     );
   return { model: best?.name ?? null, asPlanned: deviations.length === 0, deviations };
+}
+
+/**
+ * The specification of a curve that the plan names: the first planned model
+ * asking the curve's question (an association with the same predictor, or
+ * two groups with the same group and levels) in the curve's region, with
+ * its estimator, its covariates and, switched on, the curve's exclusion
+ * rules that have the criterion of one of the plan's rules (the others
+ * off). Null when the plan names no such model or the curve does not hold
+ * its estimator or covariate set.
+ */
+export function plannedCurveChoice(
+  plan: Pick<Plan, "models" | "exclusionRules">,
+  curve: ModelSpec,
+): { model: string; estimator: string; covariates: string[]; exclusions: number[] } | null {
+  const question = curveKind(curve);
+  const region = curve.regions?.[0];
+  const choices = curveChoices(curve);
+  const asks = (m: ModelSpec) =>
+    m.kind === question &&
+    (question === "association"
+      ? m.predictor === curve.predictor
+      : m.group === curve.group &&
+        m.levels?.[0] === curve.levels?.[0] &&
+        m.levels?.[1] === curve.levels?.[1]) &&
+    (m.regions === undefined || region === undefined || m.regions.includes(region));
+  const planned = plan.models.find((m) => asks(m.spec));
+  if (!planned) return null;
+  const { estimator, covariates } = planned.spec;
+  if (!choices.estimators.includes(estimator)) return null;
+  const set = choices.covariateSets.find((c) => sameList(c, covariates));
+  if (!set) return null;
+  const criteria = new Set(plan.exclusionRules.map(criterionText));
+  const exclusions = choices.exclusionRules.flatMap((r, k) =>
+    criteria.has(criterionText(r)) ? [k] : [],
+  );
+  return { model: planned.name, estimator, covariates: set, exclusions };
 }
 
 /** The fit header's words: "As planned" or "Deviates from the plan (3)". */

@@ -77,6 +77,8 @@ export function curveLayout(
 }
 
 /** A specification's identity: its estimator, covariates and rules (unique within a curve). */
-export function specKey(s: CurveSpecification): string {
+export function specKey(
+  s: Pick<CurveSpecification, "estimator" | "covariates" | "exclusions">,
+): string {
   return `${s.estimator}|${s.covariates.join(",")}|${s.exclusions.join(",")}`;
 }

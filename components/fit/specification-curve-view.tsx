@@ -6,12 +6,15 @@
  * meaning) — and below them the choice panel: one row per estimator,
  * covariate set and exclusion rule, a square in each column whose
  * specification made that choice. Tapping a column, or the 44 px step
- * buttons, selects a specification and shows its numbers. Phone first: the
- * columns scroll sideways when they do not fit.
+ * buttons, selects a specification and shows its numbers. When the
+ * study's plan names one of the specifications (contract/plans.ts
+ * plannedCurveChoice), its column carries a triangle above the curve, the
+ * summary says where it falls among the others, and "Show the planned one"
+ * selects it. Phone first: the columns scroll sideways when they do not fit.
  */
 import { useState } from "react";
 import { Pressable, ScrollView, StyleSheet, View } from "react-native";
-import Svg, { Circle, G, Line, Rect } from "react-native-svg";
+import Svg, { Circle, G, Line, Path, Rect } from "react-native-svg";
 import type {
   CurveJointTest,
   CurveSpecification,
@@ -29,6 +32,8 @@ const ROW_HEIGHT = 20;
 const LABEL_WIDTH = 112;
 /** Half a tick label's line, so its middle sits on its value. */
 const TICK_HALF = 8;
+/** Half the width of the planned specification's triangle. */
+const PLANNED_HALF = 5;
 
 export function SpecificationCurveView(props: {
   specifications: readonly CurveSpecification[];
@@ -36,6 +41,13 @@ export function SpecificationCurveView(props: {
   jointTest?: CurveJointTest;
   rules: readonly { column: string; op: string; value: number | string; reason: string }[];
   region: string;
+  /** The specification the study's plan names, if any. */
+  planned?: {
+    model: string;
+    estimator: string;
+    covariates: string[];
+    exclusions: number[];
+  } | null;
 }) {
   const { specifications: specs, summary, jointTest } = props;
   const [width, setWidth] = useState<number>(chart.defaultWidth);
@@ -49,6 +61,11 @@ export function SpecificationCurveView(props: {
   const cw = layout.columnWidth;
   const panelHeight = layout.rows.length * ROW_HEIGHT;
   const chosen = selected === null ? null : specs[selected];
+  const plannedChoice = props.planned;
+  const plannedIndex = plannedChoice
+    ? specs.findIndex((s) => specKey(s) === specKey(plannedChoice))
+    : -1;
+  const planned = plannedIndex >= 0 ? specs[plannedIndex] : null;
   const step = (by: number) =>
     setSelected((s) => Math.min(specs.length - 1, Math.max(0, (s ?? -by) + by)));
   return (
@@ -61,6 +78,11 @@ export function SpecificationCurveView(props: {
         {jointTest ? (
           <Txt kind="small" testID="curve-joint-test">
             {`Joint test against ${jointTest.resamples} null data sets (trait permuted): median estimate ${formatP(jointTest.pMedian)}; share significant ${jointTest.dominantDirection === "positive" ? "above" : "below"} zero ${formatP(jointTest.pShareSignificant)}; Stouffer's Z = ${formatValue(jointTest.stoufferZ)}, ${formatP(jointTest.pStouffer)}.`}
+          </Txt>
+        ) : null}
+        {planned && props.planned ? (
+          <Txt kind="small" testID="curve-planned">
+            {`▲ The plan's specification (model "${props.planned.model}"): estimate ${formatValue(planned.estimate)}, ${formatP(planned.p)}; ${plannedIndex + 1} of ${specs.length} in estimate order.`}
           </Txt>
         ) : null}
       </Card>
@@ -129,6 +151,13 @@ export function SpecificationCurveView(props: {
                           strokeWidth={Math.max(2, cw / 3)}
                         />
                       ) : null}
+                      {k === plannedIndex ? (
+                        <Path
+                          d={`M ${x - PLANNED_HALF} 0 L ${x + PLANNED_HALF} 0 L ${x} ${PLANNED_HALF * 1.6} Z`}
+                          fill={palette.ink}
+                          testID="curve-planned-mark"
+                        />
+                      ) : null}
                       <Circle
                         cx={x}
                         cy={layout.y(s.estimate, ESTIMATE_HEIGHT)}
@@ -171,10 +200,19 @@ export function SpecificationCurveView(props: {
         <View style={styles.steps}>
           <Button label="Previous" variant="secondary" onPress={() => step(-1)} />
           <Button label="Next" variant="secondary" onPress={() => step(1)} />
+          {plannedIndex >= 0 ? (
+            <Button
+              label="Show the planned one"
+              variant="secondary"
+              onPress={() => setSelected(plannedIndex)}
+            />
+          ) : null}
         </View>
         {chosen ? (
           <View style={styles.detail} testID="curve-selected">
-            <Txt kind="label">{`Specification ${(selected ?? 0) + 1} of ${specs.length}`}</Txt>
+            <Txt kind="label">
+              {`Specification ${(selected ?? 0) + 1} of ${specs.length}${selected === plannedIndex ? " — the plan's" : ""}`}
+            </Txt>
             <Txt kind="small">
               {`${chosen.estimator}; covariates: ${chosen.covariates.join(", ") || "none"}; rules applied: ${chosen.exclusions.map((k) => props.rules[k]?.reason ?? `rule ${k + 1}`).join(", ") || "none"}`}
             </Txt>
@@ -203,7 +241,7 @@ const styles = StyleSheet.create({
   },
   scroll: { flex: 1 },
   rowLabel: { color: palette.inkSoft, height: ROW_HEIGHT, lineHeight: ROW_HEIGHT },
-  steps: { flexDirection: "row", gap: space.sm, marginTop: space.md },
+  steps: { flexDirection: "row", flexWrap: "wrap", gap: space.sm, marginTop: space.md },
   detail: {
     marginTop: space.md,
     padding: space.md,

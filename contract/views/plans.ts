@@ -30,4 +30,15 @@ export interface FitPlanView {
   model: string | null;
   asPlanned: boolean;
   deviations: string[];
+  /**
+   * A specification curve only: the specification the plan names
+   * (contract/plans.ts plannedCurveChoice), or null when it names none of
+   * the curve's specifications.
+   */
+  curveChoice?: {
+    model: string;
+    estimator: string;
+    covariates: string[];
+    exclusions: number[];
+  } | null;
 }

@@ -24,6 +24,7 @@ import type { Database, Queryable } from "../../db/client";
 import { plans, setAsides, users, type PlanRow } from "../../db/schema";
 import {
   compareWithPlan,
+  plannedCurveChoice,
   ruleReason,
   type Plan,
   type planCreateSchema,
@@ -404,5 +405,8 @@ export async function fitPlan(
     sha256: row.sha256,
     registeredAt: row.registeredAt.toISOString(),
     ...compared,
+    ...(spec.kind === "specification-curve"
+      ? { curveChoice: plannedCurveChoice(row.plan, spec) }
+      : {}),
   };
 }

@@ -9,6 +9,7 @@ import { describe, expect, it } from "vitest";
 import {
   compareWithPlan,
   type Plan,
+  plannedCurveChoice,
   planSchema,
   planVerdict,
   ruleReason,
@@ -179,5 +180,70 @@ describe("the activity sentences of a plan", () => {
       "registered the plan ‘Accuracy’ (SHA-256 0123456789ab…), a new version",
     );
     expect(planCountersignedWords(sha)).toBe("countersigned the plan (SHA-256 0123456789ab…)");
+  });
+});
+
+describe("plannedCurveChoice", () => {
+  const curve = modelSpecSchema.parse({
+    kind: "specification-curve",
+    regions: ["amygdala_l"],
+    predictor: "anxiety",
+    specifications: {
+      estimators: ["ols", "huber"],
+      covariateSets: [[], ["age", "mean_fd"]],
+      exclusionRules: [rule(">", 0.5), rule("<", 0.6, "accuracy")],
+    },
+  });
+  const planned = (spec: Record<string, unknown>, rules: ExclusionRule[] = [rule(">", 0.5)]) =>
+    planSchema.parse({
+      title: "Anxiety and amygdala",
+      models: [
+        {
+          name: "trait",
+          spec: { kind: "association", ...spec },
+          regionSelection: "anatomical-or-prior",
+          direction: "positive",
+        },
+      ],
+      correction: "none",
+      exclusionRules: rules,
+      missing: "keep",
+    });
+
+  it("names the planned model's estimator, covariate set and the rules the plan shares", () => {
+    const plan = planned({
+      predictor: "anxiety",
+      estimator: "huber",
+      covariates: ["mean_fd", "age"],
+    });
+    // The covariate set comes back in the curve's order; only the plan's rule (mean_fd > 0.5) is on.
+    expect(plannedCurveChoice(plan, curve)).toEqual({
+      model: "trait",
+      estimator: "huber",
+      covariates: ["age", "mean_fd"],
+      exclusions: [0],
+    });
+    expect(
+      plannedCurveChoice(
+        planned({ predictor: "anxiety" }, [rule("<", 0.6, "accuracy"), rule(">", 0.5)]),
+        curve,
+      )?.exclusions,
+    ).toEqual([0, 1]);
+    expect(plannedCurveChoice(planned({ predictor: "anxiety" }, []), curve)?.exclusions).toEqual(
+      [],
+    );
+  });
+
+  it("is null when no planned model asks the curve's question or the curve lacks its choices", () => {
+    expect(plannedCurveChoice(planned({ predictor: "depression" }), curve)).toBeNull();
+    expect(
+      plannedCurveChoice(planned({ predictor: "anxiety", regions: ["insula_r"] }), curve),
+    ).toBeNull();
+    expect(
+      plannedCurveChoice(planned({ predictor: "anxiety", estimator: "bisquare" }), curve),
+    ).toBeNull();
+    expect(
+      plannedCurveChoice(planned({ predictor: "anxiety", covariates: ["age"] }), curve),
+    ).toBeNull();
   });
 });
