@@ -32,3 +32,12 @@ export interface PressTargetProps {
   selected?: boolean;
   testID?: string;
 }
+
+/** A participant's mark placed in a drawing. */
+export interface PlacedMark extends ParticipantMark {
+  /** SVG coordinates of the mark. */
+  cx: number;
+  cy: number;
+  /** Accessible name (see describePoint). */
+  label: string;
+}

@@ -8,12 +8,9 @@ import Svg, { Line, Rect } from "react-native-svg";
 import { chart, space } from "../theme";
 import { Txt } from "../ui";
 import { MarkShape } from "./mark-shape";
-import type { LegendItem } from "./marks";
+import type { LegendEntry } from "./legend-entries";
 
-export type LegendEntry =
-  | ({ kind: "mark" } & LegendItem)
-  | { kind: "line"; label: string; colour: string; dashed?: boolean }
-  | { kind: "band"; label: string; colour: string };
+export { type LegendEntry, markEntries } from "./legend-entries";
 
 export interface LegendProps {
   entries: readonly LegendEntry[];
@@ -68,11 +65,6 @@ function Swatch({ entry }: { entry: LegendEntry }) {
       strokeDasharray={entry.dashed ? "4 3" : undefined}
     />
   );
-}
-
-/** Legend entries for participant marks. */
-export function markEntries(items: readonly LegendItem[]): LegendEntry[] {
-  return items.map((item) => ({ kind: "mark", ...item }));
 }
 
 const styles = StyleSheet.create({

@@ -172,3 +172,12 @@ export function polygonPath(vertices: readonly (readonly [number, number])[]): s
 export function round2(v: number): number {
   return Math.round(v * 100) / 100;
 }
+
+/**
+ * The order marks are drawn in, so flagged participants sit on top of
+ * plain ones: set aside first, then plain, then flagged (stable within each).
+ */
+export function drawOrder<T extends ParticipantMark>(marks: readonly T[]): T[] {
+  const layer = (m: ParticipantMark) => (m.setAside ? 0 : m.flags.length === 0 ? 1 : 2);
+  return marks.slice().sort((a, b) => layer(a) - layer(b));
+}

@@ -7,18 +7,12 @@
  */
 import { G } from "react-native-svg";
 import { chart } from "../theme";
-import type { ParticipantMark } from "./chart-types";
+import type { PlacedMark } from "./chart-types";
 import { MarkShape } from "./mark-shape";
-import { markFor } from "./marks";
+import { drawOrder, markFor } from "./marks";
 import { PressTarget } from "./press-target";
 
-export interface PlacedMark extends ParticipantMark {
-  /** SVG coordinates of the mark. */
-  cx: number;
-  cy: number;
-  /** Accessible name (see describePoint). */
-  label: string;
-}
+export type { PlacedMark };
 
 export interface ParticipantMarksProps {
   marks: readonly PlacedMark[];
@@ -26,13 +20,8 @@ export interface ParticipantMarksProps {
   onPress?: (id: string) => void;
 }
 
-function layer(mark: ParticipantMark): number {
-  if (mark.setAside) return 0;
-  return mark.flags.length === 0 ? 1 : 2;
-}
-
 export function ParticipantMarks(props: ParticipantMarksProps) {
-  const drawn = props.marks.slice().sort((a, b) => layer(a) - layer(b));
+  const drawn = drawOrder(props.marks);
   const focusOrder = props.marks.slice().sort((a, b) => a.cx - b.cx || a.cy - b.cy);
   const onPress = props.onPress;
   const r = chart.hitRadius;
