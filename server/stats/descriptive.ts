@@ -48,13 +48,27 @@ export function sortedCopy(x: Numbers): Float64Array {
   return s;
 }
 
-/** Median (mean of the two middle values for even n). Cost O(n log n). Throws on empty input. */
+/**
+ * Median (mean of the two middle values for even n), by selection on a
+ * copy: the same order statistics, so the same value, as sorting. Expected
+ * cost O(n). Throws on empty input.
+ */
 export function median(x: Numbers): number {
   const n = x.length;
   if (n === 0) throw new StatsError("median requires at least one value");
-  const s = sortedCopy(x);
+  const s = Float64Array.from(x as ArrayLike<number>);
   const h = n >> 1;
-  return n % 2 === 1 ? s[h] : 0.5 * (s[h - 1] + s[h]);
+  if (s.some(Number.isNaN)) {
+    // Selection needs ordered values; sorting puts NaN last, as before.
+    s.sort();
+    return n % 2 === 1 ? s[h] : 0.5 * (s[h - 1] + s[h]);
+  }
+  const upper = selectInPlace(s, h);
+  if (n % 2 === 1) return upper;
+  // After selecting the h-th value, every value left of it is no larger: the (h−1)-th is their maximum.
+  let lower = s[0];
+  for (let i = 1; i < h; i++) if (s[i] > lower) lower = s[i];
+  return 0.5 * (lower + upper);
 }
 
 /**

@@ -302,7 +302,9 @@ export function runSpecificationCurve(prep: Prepared, options: RunFitOptions): F
         : null;
     const groupColumn = choices[0]?.prep.group ?? null;
     const fast = trait
-      ? choices.map((c) => inRegion(region, () => fastNull(c.prep, r, trait)))
+      ? choices.map((c) =>
+          inRegion(region, () => fastNull(c.prep, r, trait) ?? swappedNull(c.prep, r, trait)),
+        )
       : [];
     for (let d = 0; d < m; d++) {
       if (shouldCancel?.()) cancelled();
