@@ -3,14 +3,41 @@
  * drizzle-kit from db/schema.ts) to an open database. Idempotent: applied
  * migrations are recorded by Drizzle and skipped. Run at every start-up and
  * by the test setup.
+ *
+ * On a PostgreSQL server several processes may start at once: each takes
+ * the same session-level advisory lock on one connection before looking at
+ * what is applied, so one applies the migrations and the others, once they
+ * get the lock, find nothing left to do.
  */
 import { dirname, join } from "node:path";
 import { fileURLToPath } from "node:url";
-import { migrate } from "drizzle-orm/pglite/migrator";
-import type { Database } from "./client";
+import { drizzle } from "drizzle-orm/node-postgres";
+import { migrate as migrateServer } from "drizzle-orm/node-postgres/migrator";
+import { migrate as migrateEmbedded } from "drizzle-orm/pglite/migrator";
+import type { PgliteDatabase } from "drizzle-orm/pglite";
+import { type Database, driverOf } from "./client";
+import * as schema from "./schema";
 
 export const migrationsFolder = join(dirname(fileURLToPath(import.meta.url)), "migrations");
 
+/** The advisory lock key migrations are applied under (any fixed number; pg-boss uses its own keys). */
+export const MIGRATION_LOCK_KEY = 7_312_046_095_142n;
+
 export async function migrateDatabase(db: Database): Promise<void> {
-  await migrate(db, { migrationsFolder });
+  const driver = driverOf(db);
+  if (driver.kind === "embedded") {
+    await migrateEmbedded(db as PgliteDatabase<typeof schema>, { migrationsFolder });
+    return;
+  }
+  const client = await driver.pool.connect();
+  try {
+    await client.query("select pg_advisory_lock($1)", [MIGRATION_LOCK_KEY.toString()]);
+    try {
+      await migrateServer(drizzle({ client, schema }), { migrationsFolder });
+    } finally {
+      await client.query("select pg_advisory_unlock($1)", [MIGRATION_LOCK_KEY.toString()]);
+    }
+  } finally {
+    client.release();
+  }
 }

@@ -23,9 +23,8 @@
  * Services receive the database, the store, the intake pool and the time
  * as parameters.
  */
-import type { PGlite } from "@electric-sql/pglite";
 import { and, asc, desc, eq, getTableName, gte, inArray, lt, sql } from "drizzle-orm";
-import type { Database, Queryable } from "../../db/client";
+import { copyCsv, type Database, type Queryable } from "../../db/client";
 import {
   datasetRows,
   datasetVersions,
@@ -319,15 +318,13 @@ export async function storeVersion(
   return view;
 }
 
-const COPY_ROWS = `COPY ${getTableName(datasetRows)} (${STORED_ROW_COLUMNS.join(", ")}) FROM '/dev/blob' WITH (FORMAT csv)`;
-
 /** Bulk-loads the encoded rows chunk by chunk, with a turn of the event loop after each, so requests are served in between. */
 async function loadRows(db: Database, encoded: EncodedVersion): Promise<void> {
-  // The bulk load is PGlite's own (COPY from a blob); the ORM has no form of it.
-  const pg = (db as Database & { $client: PGlite }).$client;
+  // The bulk load is COPY (db/client.ts); the ORM has no form of it.
+  const table = getTableName(datasetRows);
   let from = 0;
   for (const end of encoded.chunkEnds) {
-    await pg.query(COPY_ROWS, [], { blob: new Blob([encoded.csv.subarray(from, end)]) });
+    await copyCsv(db, table, STORED_ROW_COLUMNS, encoded.csv.subarray(from, end));
     from = end;
     await nextTurn();
   }

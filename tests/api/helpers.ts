@@ -11,7 +11,7 @@ import { join } from "node:path";
 import { eq } from "drizzle-orm";
 import request from "supertest";
 import { inject } from "vitest";
-import { openDatabase, type Database, type OpenDatabase } from "../../db/client";
+import { openDatabase, type Database, type EmbeddedDatabase } from "../../db/client";
 import { migrateDatabase } from "../../db/migrate";
 import { demoPeople, demoStudy, seedDemo } from "../../db/seed";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
@@ -55,7 +55,7 @@ export interface TestAppOptions {
 }
 
 /** Opens a database copied from the migrated template the global setup built. */
-export async function openTemplateDatabase(dataDir?: string): Promise<OpenDatabase> {
+export async function openTemplateDatabase(dataDir?: string): Promise<EmbeddedDatabase> {
   const template = new Blob([readFileSync(inject("dbTemplate"))]);
   const database = await openDatabase({ dataDir, loadDataDir: template });
   await migrateDatabase(database.db);

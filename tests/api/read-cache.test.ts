@@ -6,12 +6,12 @@
  */
 import { eq } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { OpenDatabase } from "../../db/client";
+import type { EmbeddedDatabase } from "../../db/client";
 import { cachedRead, isPlainRead } from "../../db/read-cache";
 import { users } from "../../db/schema";
 import { openTemplateDatabase } from "./helpers";
 
-let database: OpenDatabase;
+let database: EmbeddedDatabase;
 
 beforeAll(async () => {
   database = await openTemplateDatabase();
