@@ -193,9 +193,10 @@ export function fastNull(
   let ryy = 0;
   for (let i = 0; i < n; i++) ryy += ry[i] * ry[i];
   const xs = new Float64Array(n);
+  const ranksOf = rank ? drawRanks(trait as readonly number[]) : null;
   return (perm) => {
     for (let k = 0; k < n; k++) xs[k] = trait[perm[rows[k]]] as number;
-    const rx = residual(rank ? averageRanks(xs).ranks : Float64Array.from(xs));
+    const rx = residual(ranksOf ? ranksOf(perm, rows) : Float64Array.from(xs));
     let sxx = 0;
     let sxy = 0;
     for (let i = 0; i < n; i++) {
@@ -206,6 +207,50 @@ export function fastNull(
     const rss = Math.max(0, ryy - b * sxy);
     const t = b / Math.sqrt(rss / df / sxx);
     return { estimate: rank ? t / Math.sqrt(t * t + df) : b, p: studentTTwoSidedP(t, df) };
+  };
+}
+
+/**
+ * Average ranks (ties share the mean of their ranks, as averageRanks) of
+ * the trait values a draw puts on a specification's rows — row k gets
+ * trait[perm[rows[k]]] — without sorting per draw: the trait is sorted once,
+ * and each draw walks that order keeping the values it uses. Same ranks as
+ * averageRanks on those values (tested against it). Cost O(N) per draw,
+ * N = participants, after O(N log N) once.
+ */
+export function drawRanks(
+  trait: readonly number[],
+): (perm: Int32Array, rows: ArrayLike<number>) => Float64Array {
+  const total = trait.length;
+  const order = Int32Array.from({ length: total }, (_, i) => i);
+  order.sort((a, b) => trait[a] - trait[b] || a - b);
+  const slot = new Int32Array(total);
+  return (perm, rows) => {
+    const n = rows.length;
+    slot.fill(-1);
+    for (let k = 0; k < n; k++) slot[perm[rows[k]]] = k;
+    const ranks = new Float64Array(n);
+    // Walk the used values in ascending order; runs of equal values share their mean rank.
+    let seen = 0;
+    let i = 0;
+    while (i < total) {
+      if (slot[order[i]] < 0) {
+        i++;
+        continue;
+      }
+      const value = trait[order[i]];
+      let j = i;
+      let count = 0;
+      while (j < total && trait[order[j]] === value) {
+        if (slot[order[j]] >= 0) count++;
+        j++;
+      }
+      const r = (seen + 1 + seen + count) / 2;
+      for (let q = i; q < j; q++) if (slot[order[q]] >= 0) ranks[slot[order[q]]] = r;
+      seen += count;
+      i = j;
+    }
+    return ranks;
   };
 }
 
