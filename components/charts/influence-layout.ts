@@ -13,7 +13,9 @@
 import { markRoles } from "../theme";
 import { ChartInputError } from "./chart-input-error";
 import type { Flag, ParticipantMark } from "./chart-types";
+import type { PlacedMark } from "./chart-types";
 import {
+  describePoint,
   type LegendItem,
   type MarkRole,
   type MarkShape,
@@ -519,3 +521,30 @@ export const cutColour: Record<Flag, string> = {
   leverage: markRoles.leverage,
   outlier: markRoles.outlier,
 };
+
+/** The influence view's accessible description: counts, cut-offs and how many are flagged. */
+export function influenceDescription(points: readonly InfluencePoint[], cuts: FlagCuts): string {
+  const parts = [`influence cut-off 4/n = ${formatValue(cuts.cooksDistance)}`];
+  if (cuts.leverage !== null) parts.push(`leverage cut-off 2p/n = ${formatValue(cuts.leverage)}`);
+  if (cuts.outlierT !== null) parts.push(`outlier cut-off ${formatValue(cuts.outlierT)}`);
+  const flagged = points.filter((p) => p.flags.length > 0).length;
+  return `Cook's distance, leverage and studentized residual for ${points.length} participants, largest Cook's distance first; ${parts.join(", ")}; ${flagged} flagged.`;
+}
+
+/** The participant marks of the Cook's distance panel (one per participant with a Cook's distance), with their accessible names. */
+export function influenceMarks(layout: InfluenceLayout): PlacedMark[] {
+  return layout.points
+    .filter((p) => p.y.cook !== null)
+    .map((p) => ({
+      id: p.id,
+      flags: p.flags,
+      setAside: p.setAside,
+      cx: p.x,
+      cy: p.y.cook as number,
+      label: describePoint(p, [
+        { name: "Cook's distance", value: p.cooksDistance },
+        { name: "leverage", value: p.leverage },
+        { name: "studentized residual", value: p.residual },
+      ]),
+    }));
+}

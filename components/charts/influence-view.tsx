@@ -14,13 +14,13 @@ import {
   type FlagCuts,
   type InfluencePoint,
   cutColour,
+  influenceDescription,
   influenceHeight,
   influenceLayout,
+  influenceMarks,
 } from "./influence-layout";
 import { Legend } from "./legend";
 import { MarkShape } from "./mark-shape";
-import { describePoint } from "./marks";
-import { formatValue } from "./number-format";
 import { ParticipantMarks } from "./participant-marks";
 import { chartViewport } from "./scales";
 
@@ -32,13 +32,6 @@ export interface InfluenceViewProps {
   testID?: string;
 }
 
-function describeCuts(cuts: FlagCuts): string {
-  const parts = [`influence cut-off 4/n = ${formatValue(cuts.cooksDistance)}`];
-  if (cuts.leverage !== null) parts.push(`leverage cut-off 2p/n = ${formatValue(cuts.leverage)}`);
-  if (cuts.outlierT !== null) parts.push(`outlier cut-off ${formatValue(cuts.outlierT)}`);
-  return parts.join(", ");
-}
-
 export function InfluenceView(props: InfluenceViewProps) {
   // the legend needs the layout too; the frame lays out at its own width, the legend does not depend on it
   const legendLayout = tryLayout(() =>
@@ -48,10 +41,9 @@ export function InfluenceView(props: InfluenceViewProps) {
       chartViewport(null, 1, influenceHeight(chart.defaultWidth)),
     ),
   );
-  const flagged = props.points.filter((p) => p.flags.length > 0).length;
   return (
     <ChartFrame
-      label={`Cook's distance, leverage and studentized residual for ${props.points.length} participants, largest Cook's distance first; ${describeCuts(props.cuts)}; ${flagged} flagged.`}
+      label={influenceDescription(props.points, props.cuts)}
       aspect={1}
       heightFor={influenceHeight}
       interactive={!!props.onPointPress}
@@ -68,20 +60,7 @@ export function InfluenceView(props: InfluenceViewProps) {
         if (!result.layout) return null;
         const layout = result.layout;
         const { left, right } = layout.plot;
-        const marks = layout.points
-          .filter((p) => p.y.cook !== null)
-          .map((p) => ({
-            id: p.id,
-            flags: p.flags,
-            setAside: p.setAside,
-            cx: p.x,
-            cy: p.y.cook as number,
-            label: describePoint(p, [
-              { name: "Cook's distance", value: p.cooksDistance },
-              { name: "leverage", value: p.leverage },
-              { name: "studentized residual", value: p.residual },
-            ]),
-          }));
+        const marks = influenceMarks(layout);
         return (
           <G>
             {layout.panels.map((panel) => (

@@ -16,13 +16,22 @@ import { useRouter } from "expo-router";
 import { ScatterPlot } from "../charts/scatter-plot";
 import { StripPlot } from "../charts/strip-plot";
 import { InfluenceView } from "../charts/influence-view";
-import type { FlagCuts } from "../charts/influence-layout";
 import { NullHistogram } from "../charts/null-histogram";
 import { formatValue } from "../charts/number-format";
 import { pPhrase } from "./p-text";
 import { AttenuationNote } from "./attenuation-note";
 import type { AttenuationInput } from "./attenuation-words";
 import { ParticipantDiagnosticsTable } from "./participant-diagnostics-table";
+import {
+  dataPlotKind,
+  influenceInputOf,
+  influenceNote,
+  influenceTitle,
+  nullHistogramInputOf,
+  nullHistogramTitle,
+  scatterInputOf,
+  stripInputOf,
+} from "./region-plot-inputs";
 import { Choice } from "../choice";
 import { Badge, Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "../ui";
 import { palette, space } from "../theme";
@@ -42,7 +51,6 @@ import {
   smallSampleTitle,
 } from "../../contract/cautions";
 import { setAsideLine } from "../../contract/set-aside-words";
-import type { Flag } from "../../contract/spec";
 
 type Point = NonNullable<RegionDetail["points"]>[number];
 
@@ -63,6 +71,7 @@ export function RegionDetailPanel(props: {
   const d = detail.data;
   const point = d.points?.find((p) => p.participant === selected) ?? null;
   const smallSample = regionSmallSampleCaution(d.n);
+  const nullInput = nullHistogramInputOf(d);
   const top = (
     <>
       <View style={styles.title}>
@@ -121,17 +130,10 @@ export function RegionDetailPanel(props: {
           />
         </Card>
       ) : null}
-      {isHistogram(d.nullHistogram) ? (
+      {nullInput ? (
         <Card>
-          <Heading level={3}>Permutation null distribution</Heading>
-          <NullHistogram
-            edges={d.nullHistogram.edges}
-            counts={d.nullHistogram.counts}
-            observed={d.nullHistogram.observed}
-            statisticName="t"
-            p={d.result.p}
-            testID="null-histogram"
-          />
+          <Heading level={3}>{nullHistogramTitle}</Heading>
+          <NullHistogram {...nullInput} testID="null-histogram" />
         </Card>
       ) : null}
     </>
@@ -167,19 +169,6 @@ export function RegionDetailPanel(props: {
   );
 }
 
-/** The flags' cut-offs as the fit kept them (see flagThresholds in the engine), or null for a fit that did not keep them. */
-function flagCuts(d: RegionDetail): FlagCuts | null {
-  const t = d.result.flagThresholds as
-    | { cooksDistance?: unknown; leverage?: unknown; outlierT?: unknown }
-    | undefined;
-  if (!t || typeof t.cooksDistance !== "number") return null;
-  return {
-    cooksDistance: t.cooksDistance,
-    leverage: typeof t.leverage === "number" ? t.leverage : null,
-    outlierT: typeof t.outlierT === "number" ? t.outlierT : null,
-  };
-}
-
 function InfluenceCard({
   detail,
   selected,
@@ -189,33 +178,20 @@ function InfluenceCard({
   selected: string | null;
   onSelect: (id: string) => void;
 }) {
-  const cuts = flagCuts(detail);
-  const setAsideIds = new Set((detail.setAside ?? []).map((s) => s.participant));
+  const influence = influenceInputOf(detail);
   return (
     <Card testID="influence-card">
-      <Heading level={3}>Who moves this estimate?</Heading>
-      {cuts ? (
+      <Heading level={3}>{influenceTitle}</Heading>
+      {influence ? (
         <>
           <InfluenceView
-            points={(detail.points ?? []).map((p) => ({
-              id: p.participant,
-              flags: p.flags as Flag[],
-              setAside: setAsideIds.has(p.participant),
-              cooksDistance: p.cooksDistance,
-              leverage: p.leverage,
-              residual: p.studentizedResidual,
-            }))}
-            cuts={cuts}
+            points={influence.points}
+            cuts={influence.cuts}
             selectedId={selected}
             onPointPress={onSelect}
             testID="influence-view"
           />
-          <Txt kind="caption">
-            Dashed lines: the cut-offs the flags use — influence when Cook's distance is above 4/n,
-            leverage above 2p/n, outlier when the studentized residual is beyond the Bonferroni
-            cut-off (n participants, p terms in the region's design). From the least-squares fit of
-            the region's design.
-          </Txt>
+          <Txt kind="caption">{influenceNote}</Txt>
         </>
       ) : (
         <Notice>
@@ -224,14 +200,6 @@ function InfluenceCard({
         </Notice>
       )}
     </Card>
-  );
-}
-
-function isHistogram(
-  value: unknown,
-): value is { edges: number[]; counts: number[]; observed: number } {
-  return Boolean(
-    value && typeof value === "object" && Array.isArray((value as { edges?: unknown }).edges),
   );
 }
 
@@ -286,83 +254,32 @@ function DataPlot({
   selected: string | null;
   onSelect: (id: string) => void;
 }) {
-  const points = detail.points ?? [];
-  const setAsideIds = new Set((detail.setAside ?? []).map((s) => s.participant));
-  if (detail.kind === "association") {
-    const line = detail.band?.lines[0];
+  if (dataPlotKind(detail) === "scatter") {
+    const scatter = scatterInputOf(detail);
     return (
       <Card>
-        <Heading level={3}>{detail.axes.x} and the contrast value</Heading>
+        <Heading level={3}>{scatter.title}</Heading>
         <ScatterPlot
-          points={points.map((p) => ({
-            id: p.participant,
-            flags: p.flags as Flag[],
-            setAside: setAsideIds.has(p.participant),
-            x: p.x,
-            y: p.y,
-          }))}
-          band={line?.points.map((b) => ({ x: b.x, fit: b.fit, low: b.low, high: b.high }))}
-          xLabel={detail.axes.x ?? "trait"}
-          yLabel="Contrast value"
-          xName={detail.axes.x ?? "trait"}
-          yName="contrast"
-          bandLabel={
-            detail.band ? `${Math.round(detail.band.level * 100)}% confidence band` : undefined
-          }
+          {...scatter.input}
           selectedId={selected}
           onPointPress={onSelect}
           testID="scatter-plot"
         />
-        <Txt kind="caption">
-          One mark per participant ({points.length}). Fitted line:{" "}
-          {detail.band?.method ?? "least squares"}.
-        </Txt>
+        <Txt kind="caption">{scatter.note}</Txt>
       </Card>
     );
   }
-  const groups =
-    detail.groupMeans && detail.groupMeans.length > 0
-      ? detail.groupMeans.map((g) => ({
-          key: g.label,
-          label: `${g.label} (n = ${g.n})`,
-          mean: g.mean,
-          low: g.ciLow,
-          high: g.ciHigh,
-        }))
-      : [
-          {
-            key: "all",
-            label: `All participants (n = ${detail.n})`,
-            mean: detail.result.estimate,
-            low: detail.result.ciLow,
-            high: detail.result.ciHigh,
-          },
-        ];
-  const single = groups.length === 1;
+  const strip = stripInputOf(detail);
   return (
     <Card>
-      <Heading level={3}>
-        {single ? "Contrast values around zero" : "Contrast values by group"}
-      </Heading>
+      <Heading level={3}>{strip.title}</Heading>
       <StripPlot
-        groups={groups}
-        points={points.map((p) => ({
-          id: p.participant,
-          flags: p.flags as Flag[],
-          setAside: setAsideIds.has(p.participant),
-          group: single ? groups[0].key : (p.group ?? ""),
-          value: p.y,
-        }))}
-        valueLabel="Contrast value"
-        valueName="contrast"
-        summaryLabel="mean and 95% CI"
+        {...strip.input}
         selectedId={selected}
         onPointPress={onSelect}
         testID="strip-plot"
       />
-      <Txt kind="caption">
-        One mark per participant ({points.length}); horizontal offset is for visibility only.
-      </Txt>
+      <Txt kind="caption">{strip.note}</Txt>
     </Card>
   );
 }
