@@ -36,6 +36,13 @@ const envSchema = z.object({
   PORT: z.coerce.number().int().min(1).max(65535).default(3000),
   HOST: z.string().min(1).default("127.0.0.1"),
   DATA_DIR: z.string().min(1).default("./data"),
+  DATABASE_URL: z
+    .string()
+    .regex(
+      /^postgres(ql)?:\/\/\S+$/,
+      "a PostgreSQL address such as postgres://user@host:5432/covarion",
+    )
+    .optional(),
   PUBLIC_URL: z.url({ protocol: /^https?$/ }).optional(),
   DEMO: flag.optional(),
   TRUST_PROXY: z.string().optional(),
@@ -78,8 +85,10 @@ export interface Config {
   port: number;
   host: string;
   dataDir: string;
-  /** Where the database files live: `<dataDir>/db`. */
+  /** Where the embedded database's files live: `<dataDir>/db` (unused when `databaseUrl` is set). */
   databaseDir: string;
+  /** A PostgreSQL server to use instead of the embedded database (DATABASE_URL); several processes may share it. */
+  databaseUrl: string | null;
   publicUrl: string;
   /** Demo people, demo study and one-tap demo sign-in. */
   demo: boolean;
@@ -136,6 +145,11 @@ export function loadConfig(env: Env = process.env): Config {
       "Configuration error: SMTP_URL is required when NODE_ENV=production (e-mail sign-in and invitations need a mail server). See .env.example.",
     );
   }
+  if (production && e.DATABASE_URL && !e.AUTH_SECRET) {
+    throw new ConfigError(
+      "Configuration error: AUTH_SECRET is required when NODE_ENV=production and DATABASE_URL is set (every web process on the database must sign sessions and sign-in links with the same secret). See .env.example.",
+    );
+  }
   const oidcParts = [e.OIDC_ISSUER, e.OIDC_CLIENT_ID, e.OIDC_CLIENT_SECRET];
   if (oidcParts.some(Boolean) && !oidcParts.every(Boolean)) {
     throw new ConfigError(
@@ -164,6 +178,7 @@ export function loadConfig(env: Env = process.env): Config {
     host: e.HOST,
     dataDir,
     databaseDir: join(dataDir, "db"),
+    databaseUrl: e.DATABASE_URL ?? null,
     publicUrl: (
       e.PUBLIC_URL ?? `http://${e.HOST.includes(":") ? `[${e.HOST}]` : e.HOST}:${e.PORT}`
     ).replace(/\/+$/, ""),

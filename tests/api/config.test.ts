@@ -112,4 +112,21 @@ describe("loadConfig", () => {
       }).requestTimeouts,
     ).toEqual({ idleMs: 500, totalMs: 90_000 });
   });
+  it("reads DATABASE_URL: a PostgreSQL address, and in production only with AUTH_SECRET", () => {
+    expect(loadConfig({ DATA_DIR: dataDir() }).databaseUrl).toBeNull();
+    const url = "postgres://covarion@db.example.org:5432/covarion";
+    expect(loadConfig({ DATA_DIR: dataDir(), DATABASE_URL: url }).databaseUrl).toBe(url);
+    expect(() => loadConfig({ DATA_DIR: dataDir(), DATABASE_URL: "mysql://x@y/z" })).toThrow(
+      /DATABASE_URL is invalid: a PostgreSQL address/,
+    );
+    const production = {
+      DATA_DIR: dataDir(),
+      NODE_ENV: "production",
+      PUBLIC_URL: "https://covarion.example.org",
+      SMTP_URL: "smtp://mail.example.org",
+      DATABASE_URL: url,
+    };
+    expect(() => loadConfig(production)).toThrow(/AUTH_SECRET is required .* DATABASE_URL/);
+    expect(loadConfig({ ...production, AUTH_SECRET: "s".repeat(32) }).databaseUrl).toBe(url);
+  });
 });
