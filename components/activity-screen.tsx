@@ -10,7 +10,10 @@ import { signOffSettingWords } from "../contract/sign-off";
 import {
   fitApprovedWords,
   fitCancelledWords,
+  fitRunWords,
   fitSealedWords,
+  noticesFailedWords,
+  noticesSentWords,
   planCountersignedWords,
   planRegisteredWords,
   memberRemovedWords,
@@ -19,6 +22,7 @@ import {
 } from "../contract/activity-words";
 import { useFits } from "../hooks/use-fits";
 import { dateWords } from "../contract/dates";
+import { type NoticeKind, noticeKinds } from "../contract/notices";
 
 const kindOptions = [
   { value: "", label: "Everything" },
@@ -190,7 +194,7 @@ export function describeEvent(
     case "model.deleted":
       return `deleted the model “${field(before, "name") ?? ""}”`;
     case "fit.run":
-      return `ran a fit of “${field(after, "modelName") ?? "a model"}” (seed ${field(after, "seed") ?? "?"}, ${field(after, "setAside") ?? 0} set aside)`;
+      return fitRunWords(field(after, "modelName"), field(after, "seed"), field(after, "setAside"));
     case "fit.cancelled":
       return fitCancelledWords(fitModels.get(event.targetId ?? "") ?? null);
     case "fit.requeued":
@@ -203,6 +207,16 @@ export function describeEvent(
         field(after, "sha256") ?? "",
         field(after, "singlePersonSignOff") === "true",
       );
+    case "fit.notices_sent":
+    case "fit.notices_failed": {
+      const notice = field(after, "notice") as NoticeKind | null;
+      if (!notice || !noticeKinds.includes(notice)) return event.kind.replace(/[._]/g, " ");
+      const count = Number(field(after, "count") ?? 0);
+      const model = fitModels.get(event.targetId ?? "") ?? null;
+      return event.kind === "fit.notices_sent"
+        ? noticesSentWords(notice, count, model)
+        : noticesFailedWords(notice, count, model, field(after, "error"));
+    }
     case "plan.registered":
       return planRegisteredWords(
         field(after, "title") ?? "",

@@ -2,6 +2,7 @@ import { useState } from "react";
 import { StyleSheet, Switch, View } from "react-native";
 import { useRouter } from "expo-router";
 import { Choice, type ChoiceOption } from "./choice";
+import { NoticeSetting } from "./notice-setting";
 import { Badge, Button, Card, Failure, Field, Heading, Notice, Pending, Txt } from "./ui";
 import { palette, radius, space } from "./theme";
 import { roleLabel } from "./studies-screen";
@@ -51,6 +52,7 @@ export function TeamScreen(props: { studyId: string }) {
   return (
     <View style={styles.root}>
       <Members study={study.data} />
+      <NoticeSetting studyId={props.studyId} />
       {can(study.data, "invitations.create") ? <Invite studyId={props.studyId} /> : null}
       {can(study.data, "invitations.list") ? (
         <PendingList studyId={props.studyId} canRevoke={can(study.data, "invitations.revoke")} />

@@ -5,6 +5,7 @@
  * framework imports: the web app imports this module). Set-asides have
  * their own module (set-aside-words.ts).
  */
+import { type NoticeKind, noticeEventWords } from "./notices";
 
 /** A person as the audit event recorded them (older events carry only the e-mail). */
 export interface PersonFacts {
@@ -37,6 +38,15 @@ export function fitWords(modelName: string | null): string {
   return modelName ? `the fit of ‘${modelName}’` : "a fit";
 }
 
+/** "ran a fit of “accuracy with age” (seed 1234, 2 set aside)" */
+export function fitRunWords(
+  modelName: string | null,
+  seed: string | null,
+  setAside: string | number | null,
+): string {
+  return `ran a fit of “${modelName ?? "a model"}” (seed ${seed ?? "?"}, ${setAside ?? 0} set aside)`;
+}
+
 /** "approved the fit of ‘accuracy with age’ for sealing" */
 export function fitApprovedWords(modelName: string | null): string {
   return `approved ${fitWords(modelName)} for sealing`;
@@ -64,4 +74,27 @@ export function planRegisteredWords(title: string, sha256: string, newVersion: b
 /** "countersigned the plan (SHA-256 0123456789ab…)" */
 export function planCountersignedWords(sha256: string): string {
   return `countersigned the plan (SHA-256 ${sha256.slice(0, 12)}…)`;
+}
+
+function peopleWords(count: number): string {
+  return `${count} ${count === 1 ? "person" : "people"}`;
+}
+
+/** "e-mailed 3 people that the fit of ‘accuracy with age’ waits for approval" (the event records who, not what the e-mail said). */
+export function noticesSentWords(
+  notice: NoticeKind,
+  count: number,
+  modelName: string | null,
+): string {
+  return `e-mailed ${peopleWords(count)} that ${fitWords(modelName)} ${noticeEventWords[notice]}`;
+}
+
+/** "could not e-mail 2 people that the fit of ‘accuracy with age’ was sealed (ECONNREFUSED)" */
+export function noticesFailedWords(
+  notice: NoticeKind,
+  count: number,
+  modelName: string | null,
+  error: string | null,
+): string {
+  return `could not e-mail ${peopleWords(count)} that ${fitWords(modelName)} ${noticeEventWords[notice]}${error ? ` (${error})` : ""}`;
 }

@@ -86,6 +86,8 @@ export const permissions = {
   "invitations.create": writes(owner),
   "invitations.revoke": writes(owner),
   "activity.list": reads(readers),
+  // A person's own e-mail notices of the study: changes nothing of the study, so an archived one accepts it.
+  "notices.manage": reads(everyone),
 
   // Data, models and fits (routes arrive with later work; rights decided here)
   "data.read": reads(everyone),

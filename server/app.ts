@@ -53,7 +53,9 @@ import { setAsideRoutes } from "./routes/set-asides";
 import { studyRoutes } from "./routes/studies";
 import { systemRoutes } from "./routes/system";
 import type { Mailer } from "./services/mailer";
+import { FitNotices } from "./services/notices";
 import { PreviewStore } from "./services/preview-store";
+import { noticeRoutes } from "./routes/notices";
 
 const root = join(dirname(fileURLToPath(import.meta.url)), "..");
 
@@ -98,10 +100,22 @@ export function createApp(deps: AppDeps): Express {
   };
 
   const fitJobs = deps.fitJobs ?? createFitJobs(db, { clock, log });
+  // E-mail notices go out after a fit is done or sealed, never holding either up (services/notices.ts).
+  const notices = new FitNotices({
+    db,
+    mailer: deps.mailer,
+    publicUrl: config.publicUrl,
+    clock,
+    log,
+  });
+  fitJobs.subscribeAll((e) => {
+    if (e.type === "status" && e.status === "done") notices.fitDone(e.fitId);
+  });
 
   const app = express();
   app.locals.db = db;
   app.locals.fitJobs = fitJobs;
+  app.locals.notices = notices;
   app.set("trust proxy", config.trustProxy);
   app.set("query parser", "simple");
   app.disable("x-powered-by");
@@ -180,7 +194,8 @@ export function createApp(deps: AppDeps): Express {
   app.use("/api", modelRoutes(routeDeps, fitJobs.data));
   app.use("/api", fitRoutes(routeDeps, fitJobs));
   app.use("/api", fitExportRoutes(routeDeps));
-  app.use("/api", fitSealingRoutes(routeDeps, fitJobs));
+  app.use("/api", fitSealingRoutes(routeDeps, fitJobs, notices));
+  app.use("/api", noticeRoutes(routeDeps));
   app.use("/api", setAsideRoutes(routeDeps));
   app.use("/api", planRoutes(routeDeps));
   app.use("/api", apiNotFound);

@@ -30,7 +30,8 @@
  * was left at) in the same transaction.
  *
  * Listeners (the server-sent events route) receive every progress and
- * status change of a fit as it happens.
+ * status change of a fit as it happens; `subscribeAll` listeners (the
+ * e-mail notices) those of every fit.
  */
 import { availableParallelism } from "node:os";
 import { MessageChannel } from "node:worker_threads";
@@ -169,6 +170,7 @@ export class FitJobs {
   private readonly running = new Map<string, Running>();
   private readonly pending = new Set<Promise<void>>();
   private readonly listeners = new Map<string, Set<(e: FitEvent) => void>>();
+  private readonly everyFit = new Set<(e: FitEvent) => void>();
   private closed = false;
 
   constructor(options: FitJobsOptions) {
@@ -223,6 +225,18 @@ export class FitJobs {
     return () => {
       set.delete(listener);
       if (set.size === 0) this.listeners.delete(fitId);
+    };
+  }
+
+  /**
+   * Calls `listener` with every event of every fit (after the change it
+   * reports has committed) until the returned function is called; the app's
+   * e-mail notices listen here for fits that become done.
+   */
+  subscribeAll(listener: (e: FitEvent) => void): () => void {
+    this.everyFit.add(listener);
+    return () => {
+      this.everyFit.delete(listener);
     };
   }
 
@@ -294,7 +308,7 @@ export class FitJobs {
   }
 
   private emit(event: FitEvent): void {
-    for (const listener of this.listeners.get(event.fitId) ?? []) {
+    for (const listener of [...(this.listeners.get(event.fitId) ?? []), ...this.everyFit]) {
       try {
         listener(event);
       } catch (error) {

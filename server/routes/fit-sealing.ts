@@ -8,7 +8,8 @@
  *                                 and approved, or when already sealed (Owner); 409 second_person_required when the
  *                                 caller started and approved it and the setting is on
  *
- * The rule is contract/sign-off.ts; services/sealing.ts applies it.
+ * The rule is contract/sign-off.ts; services/sealing.ts applies it. After a
+ * seal commits, the whole team gets an e-mail notice (services/notices.ts).
  *
  * Routes under /fits/:fitId find the fit's study before checking rights.
  */
@@ -19,6 +20,7 @@ import { signedInUser } from "../auth/session";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import type { FitJobs } from "../jobs/fit-jobs";
 import { findFit, fitView, studyOfFit } from "../services/fits";
+import type { FitNotices } from "../services/notices";
 import { approveFit, sealFit } from "../services/sealing";
 import type { RouteDeps } from "./deps";
 
@@ -29,7 +31,7 @@ const action = {
   body: z.union([z.strictObject({}), z.undefined()]),
 };
 
-export function fitSealingRoutes(deps: RouteDeps, jobs: FitJobs): Router {
+export function fitSealingRoutes(deps: RouteDeps, jobs: FitJobs, notices: FitNotices): Router {
   const router = Router();
 
   router.post(
@@ -60,6 +62,8 @@ export function fitSealingRoutes(deps: RouteDeps, jobs: FitJobs): Router {
       const { study, role } = authorizedStudy(res);
       const fit = await findFit(deps.db, study.id, parsed(res, action).params.fitId);
       await sealFit(deps.db, signedInUser(res), fit, deps.clock());
+      // The seal has committed: the team's e-mails go out in the background and cannot undo it.
+      notices.fitSealed(fit.id);
       res.json(
         await fitView(
           deps.db,

@@ -253,6 +253,16 @@ const matrix: Record<string, Row> = {
     path: (f) => `/api/studies/${f.studyId}/roster.csv`,
     expected: members(200),
   },
+  // A person's own e-mail notices of the study (kept in their preferences).
+  "GET /api/studies/:studyId/notices": {
+    path: (f) => `/api/studies/${f.studyId}/notices`,
+    expected: members(200),
+  },
+  "PUT /api/studies/:studyId/notices": {
+    path: (f) => `/api/studies/${f.studyId}/notices`,
+    body: () => ({ enabled: false }),
+    expected: members(200),
+  },
   "GET /api/studies/:studyId/activity": {
     path: (f) => `/api/studies/${f.studyId}/activity`,
     expected: {
