@@ -17,7 +17,7 @@ import { parseCategoryCell, quoteCell as quote } from "../intake/cells";
 import { findColumn } from "../intake/columns";
 import { IntakeError, type Problem, problem } from "../intake/errors";
 import type { BrainTable } from "../intake/brain-table";
-import type { RawTable } from "../intake/read-table";
+import { type RawTable, tableRows } from "../intake/read-table";
 import type { FitData } from "../../contract/spec";
 
 export interface StandardErrorCheckInput {
@@ -55,7 +55,7 @@ export function requireStandardErrors(input: StandardErrorCheckInput): void {
     const idIndex = findColumn(raw, brain.idColumn);
     const sessionIndex = brain.sessionColumn === null ? -1 : findColumn(raw, brain.sessionColumn);
     const regionIndex = findColumn(raw, "region");
-    raw.rows.forEach((row, i) => {
+    tableRows(raw).forEach((row, i) => {
       const id = parseCategoryCell(row[idIndex]);
       const region = parseCategoryCell(row[regionIndex]);
       const s = sessionIndex >= 0 ? parseCategoryCell(row[sessionIndex]) : null;

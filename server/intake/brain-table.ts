@@ -269,7 +269,7 @@ function leftOutReason(raw: RawTable, c: BrainColumn): string {
   if (p.numbers + p.text === 0) return "has no values, so it is not a region";
   const shown = p.textRows
     .slice(0, 3)
-    .map((i) => `row ${raw.rowNumbers[i]} ${quoteCell(raw.rows[i][p.index])}`);
+    .map((i) => `row ${raw.rowNumbers[i]} ${quoteCell(raw.cell(i, p.index))}`);
   const more = p.text > shown.length ? ", …" : "";
   return `not a region: column ${p.name} has text values (first: ${shown.join(", ")}${more}; ${p.text} of ${p.numbers + p.text} values are text)`;
 }
@@ -289,9 +289,8 @@ function readKey(
   sessionIndex: number,
   problems: ProblemList,
 ): { id: string; session: string | null } | null {
-  const row = raw.rows[i];
   const rowNumber = raw.rowNumbers[i];
-  const id = parseCategoryCell(row[idIndex]);
+  const id = parseCategoryCell(raw.cell(i, idIndex));
   if (id === null) {
     problems.add(
       problem(raw.file, "missing_id", "the participant id is missing", {
@@ -303,7 +302,7 @@ function readKey(
   }
   let session: string | null = null;
   if (sessionIndex >= 0) {
-    session = parseCategoryCell(row[sessionIndex]);
+    session = parseCategoryCell(raw.cell(i, sessionIndex));
     if (session === null) {
       problems.add(
         problem(
@@ -443,7 +442,7 @@ function readWide(
   });
 
   const regions = regionIdx.map((j) => raw.header[j]);
-  const n = raw.rows.length;
+  const n = raw.rowCount;
   const entries: BrainEntry[] = [];
   // By the roster's rule (normaliseId): ids that are one participant there are one participant here.
   const seen = new Map<string, BrainEntry>();
@@ -482,7 +481,7 @@ function readWide(
     const p = columns[j].profile;
     for (const i of p.textRows) {
       problems.add(
-        problem(file, "not_a_number", notANumberText(raw.rows[i][j]), {
+        problem(file, "not_a_number", notANumberText(raw.cell(i, j)), {
           row: raw.rowNumbers[i],
           column: p.name,
         }),
@@ -500,7 +499,7 @@ function readWide(
     for (let i = 0; i < n; i++) {
       if (bad.has(i)) {
         problems.add(
-          problem(file, "not_a_number", notANumberText(raw.rows[i][sj]), {
+          problem(file, "not_a_number", notANumberText(raw.cell(i, sj)), {
             row: raw.rowNumbers[i],
             column: sp.name,
           }),
@@ -510,7 +509,7 @@ function readWide(
           problem(
             file,
             "bad_standard_error",
-            `${quoteCell(raw.rows[i][sj])} is not a valid standard error; expected a number greater than 0`,
+            `${quoteCell(raw.cell(i, sj))} is not a valid standard error; expected a number greater than 0`,
             {
               row: raw.rowNumbers[i],
               column: sp.name,
@@ -545,7 +544,7 @@ function readLong(
 
   const wanted =
     options.regions !== undefined && options.regions.length > 0 ? new Set(options.regions) : null;
-  const n = raw.rows.length;
+  const n = raw.rowCount;
   // First pass: each kept row's entry (participant and session) and region as small integers.
   const regionNumber = new Map<string, number>();
   const entryOfId = new Map<string, number | Map<string, number>>();
@@ -560,7 +559,7 @@ function readLong(
   let keysOk = true;
   for (let i = 0; i < n; i++) {
     const key = readKey(raw, i, idIndex, sessionIndex, problems);
-    const region = parseCategoryCell(raw.rows[i][regionIndex]);
+    const region = parseCategoryCell(raw.cell(i, regionIndex));
     if (region === null) {
       problems.add(
         problem(file, "missing_region", "the region name is missing", {
@@ -665,7 +664,7 @@ function readLong(
     if (first >= 0) {
       const entry = entries[e];
       const earlier = entries[firstEntry[first]];
-      const region = raw.rows[i][regionIndex].trim();
+      const region = raw.cell(i, regionIndex).trim();
       const once = `each participant${entry.session === null ? "" : " and session"} has one value per region`;
       problems.add(
         problem(
@@ -685,21 +684,21 @@ function readLong(
     const idx = position[r];
     const where = () => ({ row: raw.rowNumbers[i], column: raw.header[valueIndex] });
     if (valueText[i] === 1)
-      problems.add(problem(file, "not_a_number", notANumberText(raw.rows[i][valueIndex]), where()));
+      problems.add(problem(file, "not_a_number", notANumberText(raw.cell(i, valueIndex)), where()));
     else values[idx][e] = valueProfile.values[i];
     const se = standardErrors[idx];
     if (se !== null && seProfile !== null && seText !== null) {
       const seWhere = { row: raw.rowNumbers[i], column: raw.header[seIndex] };
       const x = seProfile.values[i];
       if (seText[i] === 1)
-        problems.add(problem(file, "not_a_number", notANumberText(raw.rows[i][seIndex]), seWhere));
+        problems.add(problem(file, "not_a_number", notANumberText(raw.cell(i, seIndex)), seWhere));
       else if (x > 0) se[e] = x;
       else if (!Number.isNaN(x)) {
         problems.add(
           problem(
             file,
             "bad_standard_error",
-            `${quoteCell(raw.rows[i][seIndex])} is not a valid standard error; expected a number greater than 0`,
+            `${quoteCell(raw.cell(i, seIndex))} is not a valid standard error; expected a number greater than 0`,
             seWhere,
           ),
         );

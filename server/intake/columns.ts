@@ -56,17 +56,15 @@ export function profileColumn(table: RawTable, index: number): ColumnProfile {
 export function profileColumns(table: RawTable): readonly ColumnProfile[] {
   const cached = profileCache.get(table);
   if (cached !== undefined) return cached;
-  const rows = table.rows;
-  const n = rows.length;
+  const n = table.rowCount;
   const m = table.header.length;
   const values = Array.from({ length: m }, () => new Float64Array(n));
   const missing = new Int32Array(m);
   const numbers = new Int32Array(m);
   const textRows: number[][] = Array.from({ length: m }, () => []);
   for (let i = 0; i < n; i++) {
-    const row = rows[i];
     for (let j = 0; j < m; j++) {
-      const x = parseNumberCell(row[j]);
+      const x = parseNumberCell(table.cell(i, j));
       if (x === null) {
         missing[j] += 1;
         values[j][i] = Number.NaN;
@@ -94,8 +92,8 @@ export function profileColumns(table: RawTable): readonly ColumnProfile[] {
     };
     if (type === "category") {
       const seen = new Set<string>();
-      for (const row of rows) {
-        const t = row[j].trim();
+      for (let i = 0; i < n; i++) {
+        const t = table.cell(i, j).trim();
         if (!isMissing(t)) seen.add(t);
       }
       profile.distinct = seen.size;

@@ -211,9 +211,10 @@ export function findIdentifierColumns(table: RawTable): IdentifierFlag[] {
     // A column of numbers and missing markers only cannot hold names, dates, addresses or e-mails.
     if (profileColumn(table, j).text === 0) return;
     const cells: string[] = [];
-    for (const row of table.rows) {
-      if (isMissing(row[j])) continue;
-      cells.push(row[j]);
+    for (let i = 0; i < table.rowCount; i++) {
+      const cell = table.cell(i, j);
+      if (isMissing(cell)) continue;
+      cells.push(cell);
       if (cells.length >= SAMPLE) break;
     }
     const byCells = identifierKindFromCells(cells);

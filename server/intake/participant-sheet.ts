@@ -130,9 +130,9 @@ export function analyseParticipantSheet(
   const rows: number[] = [];
   // By the roster's rule (normaliseId): ids that are one participant there are one participant here.
   const firstRow = new Map<string, { id: string; row: number }>();
-  raw.rows.forEach((row, i) => {
+  for (let i = 0; i < raw.rowCount; i++) {
     const rowNumber = raw.rowNumbers[i];
-    const pid = parseCategoryCell(row[id.index]);
+    const pid = parseCategoryCell(raw.cell(i, id.index));
     if (pid === null) {
       problems.add(
         problem(file, "missing_id", "the participant id is missing", {
@@ -140,7 +140,7 @@ export function analyseParticipantSheet(
           column: id.name,
         }),
       );
-      return;
+      continue;
     }
     const key = normaliseId(pid);
     const first = firstRow.get(key);
@@ -155,10 +155,10 @@ export function analyseParticipantSheet(
           { row: rowNumber, column: id.name },
         ),
       );
-      return;
+      continue;
     }
     firstRow.set(key, { id: pid, row: rowNumber });
-  });
+  }
 
   const columns: SheetColumn[] = [];
   for (const plan of plans) {
@@ -166,14 +166,15 @@ export function analyseParticipantSheet(
     const j = plan.profile.index;
     if (plan.type === "number") {
       const values: (number | null)[] = [];
-      raw.rows.forEach((row, i) => {
-        const x = parseNumberCell(row[j]);
+      for (let i = 0; i < raw.rowCount; i++) {
+        const cell = raw.cell(i, j);
+        const x = parseNumberCell(cell);
         if (x === undefined) {
           problems.add(
             problem(
               file,
               "not_a_number",
-              `${notANumberText(row[j])}; or type the column as a category`,
+              `${notANumberText(cell)}; or type the column as a category`,
               {
                 row: raw.rowNumbers[i],
                 column: plan.name,
@@ -182,13 +183,13 @@ export function analyseParticipantSheet(
           );
           values.push(null);
         } else values.push(x);
-      });
+      }
       columns.push({ name: plan.name, type: "number", values });
     } else {
       columns.push({
         name: plan.name,
         type: "category",
-        values: raw.rows.map((row) => parseCategoryCell(row[j])),
+        values: Array.from({ length: raw.rowCount }, (_, i) => parseCategoryCell(raw.cell(i, j))),
       });
     }
   }
@@ -196,10 +197,10 @@ export function analyseParticipantSheet(
   const common = { idColumn: id.name, idColumnGuessed: id.guessed, columns: plans };
   if (problems.count > 0)
     return { sheet: null, ...common, problems: problems.list, problemCount: problems.count };
-  raw.rows.forEach((row, i) => {
-    ids.push(row[id.index].trim());
+  for (let i = 0; i < raw.rowCount; i++) {
+    ids.push(raw.cell(i, id.index).trim());
     rows.push(raw.rowNumbers[i]);
-  });
+  }
   return {
     sheet: {
       file,

@@ -86,7 +86,9 @@ function summary(p: ColumnProfile): Pick<ColumnPreview, "missing" | "distinct" |
 
 function countDistinctIds(raw: RawTable, idColumn: string): number {
   const j = findColumn(raw, idColumn);
-  return new Set(raw.rows.map((r) => r[j].trim())).size;
+  const ids = new Set<string>();
+  for (let i = 0; i < raw.rowCount; i++) ids.add(raw.cell(i, j).trim());
+  return ids.size;
 }
 
 /** The preview of `raw` read as `kind`. Throws IntakeError (422) only for a named column that does not exist. */
@@ -102,11 +104,12 @@ export function previewTable(
     kind,
     delimiter: raw.delimiter,
     delimiterName: delimiterName(raw.delimiter),
-    rowCount: raw.rows.length,
+    rowCount: raw.rowCount,
     columnCount: raw.header.length,
-    rows: raw.rows
-      .slice(0, PREVIEW_ROWS)
-      .map((cells, i) => ({ row: raw.rowNumbers[i], cells: [...cells] })),
+    rows: Array.from({ length: Math.min(PREVIEW_ROWS, raw.rowCount) }, (_, i) => ({
+      row: raw.rowNumbers[i],
+      cells: raw.row(i),
+    })),
     identifierColumns: identifiers,
   };
   const withFlag = (c: ColumnPreview): ColumnPreview => {

@@ -14,21 +14,35 @@
  * Blank rows (every cell empty or white space) are skipped but counted.
  * Cells are kept exactly as written (no trimming); header names are trimmed.
  *
- * Cost: one pass over the bytes to validate, one papaparse pass (worker-less,
- * on the whole string), one pass over the records: O(bytes).
+ * The table keeps the file's bytes once and, per cell, where it starts and
+ * ends in them (two 32-bit offsets); a cell's text is made when asked for
+ * (`cell(i, j)`). So a 200 MB table of 20 million cells is held in about
+ * 360 MB instead of twenty million strings, and no text of the whole file
+ * is ever made (a string that long is beyond what the engine allows).
+ * Quoting follows the reading papaparse gave before (a quote opens a quoted
+ * field only as its first character; white space may follow the closing
+ * quote; the line ending is guessed from the first megabyte as papaparse
+ * guesses it).
+ *
+ * Cost: one pass over the bytes to validate (UTF-8, NUL), one to split them
+ * into cells: O(bytes).
  */
-import Papa from "papaparse";
+import { isUtf8 } from "node:buffer";
 import type { Delimiter } from "../../contract/views/datasets";
 import { IntakeError, ProblemList, problem } from "./errors";
 
-/** 50 MiB: larger uploads are refused with 413. */
+/** 50 MiB: larger uploads are refused with 413 (the server's limit is the MAX_UPLOAD_MB setting). */
 export const DEFAULT_MAX_BYTES = 50 * 1024 * 1024;
-/** More header fields than this are refused with 413. */
+/** More header fields than this are refused with 413 (the server's limit is the MAX_UPLOAD_COLUMNS setting). */
 export const DEFAULT_MAX_COLUMNS = 20_000;
+/** The most bytes of text a table can have: cell offsets are 32-bit. */
+export const MAX_TEXT_BYTES = 2 ** 32 - 1;
 
 export interface ReadOptions {
   maxBytes?: number;
   maxColumns?: number;
+  /** How the limits are named in a refusal (e.g. "MAX_UPLOAD_MB"); default: no setting is named. */
+  settings?: { maxBytes?: string; maxColumns?: string };
 }
 
 export interface RawTable {
@@ -37,10 +51,19 @@ export interface RawTable {
   delimiter: Delimiter;
   /** Header names, trimmed, unique, non-empty. */
   header: readonly string[];
-  /** Data rows (blank rows removed), each exactly `header.length` cells, as written. */
-  rows: readonly (readonly string[])[];
+  /** Data rows (blank rows removed); each has exactly `header.length` cells. */
+  rowCount: number;
   /** Spreadsheet row number of each data row (header = row 1). */
   rowNumbers: readonly number[];
+  /** Data row `i`'s cell in column `j`, as written. */
+  cell(i: number, j: number): string;
+  /** Data row `i`'s cells, as written. */
+  row(i: number): string[];
+}
+
+/** Every data row's cells (for small tables and tests; a large table is read cell by cell). */
+export function tableRows(table: RawTable): string[][] {
+  return Array.from({ length: table.rowCount }, (_, i) => table.row(i));
 }
 
 const DELIMITER_NAMES: Record<Delimiter, string> = { ",": "comma", "\t": "tab", ";": "semicolon" };
@@ -48,6 +71,42 @@ const DELIMITER_NAMES: Record<Delimiter, string> = { ",": "comma", "\t": "tab", 
 /** Plain-word name of a delimiter ("comma", "tab", "semicolon"). */
 export function delimiterName(d: Delimiter): string {
   return DELIMITER_NAMES[d];
+}
+
+const QUOTE = 0x22;
+
+/** A table's cells as offsets into the file's bytes. */
+class OffsetTable implements RawTable {
+  constructor(
+    readonly file: string,
+    readonly delimiter: Delimiter,
+    readonly header: readonly string[],
+    readonly rowCount: number,
+    readonly rowNumbers: readonly number[],
+    private readonly bytes: Buffer,
+    private readonly starts: Uint32Array,
+    private readonly ends: Uint32Array,
+  ) {}
+
+  cell(i: number, j: number): string {
+    const k = i * this.header.length + j;
+    return cellText(this.bytes, this.starts[k], this.ends[k]);
+  }
+
+  row(i: number): string[] {
+    const out: string[] = [];
+    for (let j = 0; j < this.header.length; j++) out.push(this.cell(i, j));
+    return out;
+  }
+}
+
+/** A cell's text: a quoted cell (it starts with a quote) without its quotes, doubled quotes made single. */
+function cellText(bytes: Buffer, start: number, end: number): string {
+  if (start < end && bytes[start] === QUOTE) {
+    const inner = bytes.toString("utf8", start + 1, end - 1);
+    return inner.includes('"') ? inner.replaceAll('""', '"') : inner;
+  }
+  return bytes.toString("utf8", start, end);
 }
 
 /**
@@ -64,19 +123,26 @@ export function readTable(
   const maxColumns = options.maxColumns ?? DEFAULT_MAX_COLUMNS;
   const byteLength =
     typeof input === "string" ? Buffer.byteLength(input, "utf8") : input.byteLength;
-  if (byteLength > maxBytes) {
+  if (byteLength > maxBytes || byteLength > MAX_TEXT_BYTES) {
+    const limit = Math.min(maxBytes, MAX_TEXT_BYTES);
+    const raise = options.settings?.maxBytes ? `; raise it with ${options.settings.maxBytes}` : "";
     throw new IntakeError(413, [
       problem(
         file,
         "too_large",
-        `the file has ${formatBytes(byteLength)}; the limit is ${formatBytes(maxBytes)}`,
+        `the file has ${formatBytes(byteLength)}; the limit is ${formatBytes(limit)}${limit === maxBytes ? raise : ""}`,
       ),
     ]);
   }
 
-  let text = typeof input === "string" ? input : decodeUtf8(input, file);
-  if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
-  const nul = text.indexOf("\u0000");
+  const bytes =
+    typeof input === "string"
+      ? Buffer.from(input, "utf8")
+      : Buffer.from(input.buffer, input.byteOffset, input.byteLength);
+  if (typeof input !== "string") checkBinary(bytes, file);
+  let from = 0;
+  if (bytes[0] === 0xef && bytes[1] === 0xbb && bytes[2] === 0xbf) from = 3;
+  const nul = bytes.indexOf(0, from);
   if (nul >= 0) {
     throw new IntakeError(400, [
       problem(
@@ -84,71 +150,266 @@ export function readTable(
         "binary_file",
         "contains NUL bytes: this is a binary file, not CSV or TSV text",
         {
-          row: lineOf(text, nul),
+          row: lineOfByte(bytes, nul),
         },
       ),
     ]);
   }
-  if (text.trim() === "") {
+  if (onlyWhiteSpace(bytes, from)) {
     throw new IntakeError(400, [
       problem(file, "empty_file", "the file is empty; expected a header row and data rows"),
     ]);
   }
 
-  const delimiter = detectDelimiter(text, file);
-  const parsed = Papa.parse<string[]>(text, {
-    delimiter,
-    quoteChar: '"',
-    escapeChar: '"',
-    skipEmptyLines: false,
-  });
-  const quoteError = parsed.errors.find(
-    (e) => e.code === "MissingQuotes" || e.code === "InvalidQuotes",
+  const sample = bytes.toString("utf8", from, Math.min(bytes.length, from + 4 * 1024 * 1024));
+  const delimiter = detectDelimiter(sample, file);
+  const newline = guessLineEnding(
+    sample.length > 1024 * 1024 ? sample.slice(0, 1024 * 1024) : sample,
   );
-  if (quoteError) {
-    const row = (quoteError.row ?? 0) + 1;
+  const cells = splitCells(
+    bytes,
+    from,
+    delimiter.charCodeAt(0),
+    newline,
+    file,
+    maxColumns,
+    options,
+  );
+  return new OffsetTable(
+    file,
+    delimiter,
+    cells.header,
+    cells.rowNumbers.length,
+    cells.rowNumbers,
+    bytes,
+    cells.starts,
+    cells.ends,
+  );
+}
+
+/** True when every byte from `from` on is ASCII white space. */
+function onlyWhiteSpace(bytes: Buffer, from: number): boolean {
+  for (let i = from; i < bytes.length; i++) if (!isSpace(bytes[i])) return false;
+  return true;
+}
+
+/** The characters String.prototype.trim removes that are ASCII. */
+function isSpace(b: number): boolean {
+  return b === 0x20 || (b >= 0x09 && b <= 0x0d);
+}
+
+/** The line ending papaparse guesses from the first megabyte of text (quoted text left out). */
+function guessLineEnding(text: string): "\n" | "\r\n" | "\r" {
+  const input = text.replace(/"[\s\S]*?"/g, "");
+  const r = input.split("\r");
+  const n = input.split("\n");
+  if (r.length === 1 || (n.length > 1 && n[0].length < r[0].length)) return "\n";
+  let withN = 0;
+  for (const part of r) if (part[0] === "\n") withN += 1;
+  return withN >= r.length / 2 ? "\r\n" : "\r";
+}
+
+interface Cells {
+  header: string[];
+  rowNumbers: number[];
+  starts: Uint32Array;
+  ends: Uint32Array;
+}
+
+/**
+ * Splits the bytes into records and cells (see the module note on
+ * quoting), checks the header (names, limit) and that every non-blank row
+ * has as many cells as the header, and keeps the cells of the data rows.
+ */
+function splitCells(
+  bytes: Buffer,
+  from: number,
+  delim: number,
+  newline: string,
+  file: string,
+  maxColumns: number,
+  options: ReadOptions,
+): Cells {
+  const len = bytes.length;
+  const nl0 = newline.charCodeAt(0);
+  const nlLen = newline.length;
+  const isNewline = (k: number) =>
+    bytes[k] === nl0 && (nlLen === 1 || (k + 1 < len && bytes[k + 1] === 0x0a));
+  // The record being read: its cells' offsets.
+  let recStart = new Uint32Array(64);
+  let recEnd = new Uint32Array(64);
+  let fields = 0;
+  let record = 0; // 0-based index of the record being read
+  let header: string[] | null = null;
+  let m = 0;
+  let starts = new Uint32Array(0);
+  let ends = new Uint32Array(0);
+  const rowNumbers: number[] = [];
+  const ragged = new ProblemList();
+
+  const push = (s: number, e: number) => {
+    // A header longer than the limit is refused as soon as it is; a data row keeps at most one cell
+    // more than the header (enough to know it is ragged) but counts them all.
+    if (header === null && fields >= maxColumns) tooManyColumns(file, null, maxColumns, options);
+    if (header !== null && m > 0 && fields > m) {
+      fields += 1;
+      return;
+    }
+    if (fields === recStart.length) {
+      const grow = (a: Uint32Array) => {
+        const b = new Uint32Array(a.length * 2);
+        b.set(a);
+        return b;
+      };
+      recStart = grow(recStart);
+      recEnd = grow(recEnd);
+    }
+    recStart[fields] = s;
+    recEnd[fields] = e;
+    fields += 1;
+  };
+  const blank = () => {
+    for (let f = 0; f < Math.min(fields, recStart.length); f++)
+      if (!blankCell(bytes, recStart[f], recEnd[f])) return false;
+    return true;
+  };
+  const endRecord = () => {
+    if (header === null) {
+      if (blank()) {
+        if (record === 0) {
+          // A first blank record: blank_header when anything follows, else the file is empty.
+          header = [];
+        }
+      } else {
+        header = [];
+        for (let f = 0; f < fields; f++)
+          header.push(cellText(bytes, recStart[f], recEnd[f]).trim());
+        m = fields;
+        const lines = countLines(bytes, from, nl0);
+        starts = new Uint32Array(Math.max(1, lines) * m);
+        ends = new Uint32Array(Math.max(1, lines) * m);
+      }
+    } else if (m === 0) {
+      // The file started with a blank record: refused below once a non-blank record shows up.
+      if (!blank()) {
+        throw new IntakeError(400, [
+          problem(
+            file,
+            "blank_header",
+            "the header must be the first row; the file starts with blank rows",
+            { row: 1 },
+          ),
+        ]);
+      }
+    } else if (!blank()) {
+      if (fields !== m) {
+        ragged.add(
+          problem(
+            file,
+            "ragged_row",
+            `has ${fields} field${fields === 1 ? "" : "s"}; expected ${m} as in the header (${delimiterName(String.fromCharCode(delim) as Delimiter)}-separated)`,
+            { row: record + 1 },
+          ),
+        );
+      } else {
+        const at = rowNumbers.length * m;
+        if (at + m > starts.length) {
+          const more = (a: Uint32Array) => {
+            const b = new Uint32Array(Math.max(a.length * 2, at + m));
+            b.set(a);
+            return b;
+          };
+          starts = more(starts);
+          ends = more(ends);
+        }
+        starts.set(recStart.subarray(0, m), at);
+        ends.set(recEnd.subarray(0, m), at);
+        rowNumbers.push(record + 1);
+      }
+    }
+    fields = 0;
+    record += 1;
+  };
+  const badQuotes = (code: "MissingQuotes" | "InvalidQuotes"): never => {
     const text =
-      quoteError.code === "MissingQuotes"
+      code === "MissingQuotes"
         ? "a quoted field is opened but never closed (a double quote is missing)"
         : "a quoted field has text after its closing quote (a quote inside a quoted field must be doubled)";
-    throw new IntakeError(400, [problem(file, "bad_quotes", text, { row })]);
+    throw new IntakeError(400, [problem(file, "bad_quotes", text, { row: record + 1 })]);
+  };
+
+  let i = from;
+  for (;;) {
+    if (i < len && bytes[i] === QUOTE) {
+      // A quoted field: find its closing quote (a doubled quote is part of the text).
+      const open = i;
+      let q = open + 1;
+      for (;;) {
+        q = bytes.indexOf(QUOTE, q);
+        if (q < 0) badQuotes("MissingQuotes");
+        if (q === len - 1) break;
+        if (bytes[q + 1] === QUOTE) {
+          q += 2;
+          continue;
+        }
+        break;
+      }
+      if (q === len - 1) {
+        push(open, q + 1);
+        endRecord();
+        break;
+      }
+      let k = q + 1;
+      let ended: "field" | "record" | null = null;
+      for (;;) {
+        if (k < len && bytes[k] === delim) {
+          ended = "field";
+          break;
+        }
+        if (k < len && isNewline(k)) {
+          ended = "record";
+          break;
+        }
+        if (k < len && isSpace(bytes[k])) k += 1;
+        else break;
+      }
+      if (ended === null) badQuotes("InvalidQuotes");
+      push(open, q + 1);
+      if (ended === "field") i = k + 1;
+      else {
+        endRecord();
+        i = k + nlLen;
+      }
+      continue;
+    }
+    // An unquoted field: up to the next delimiter or line ending.
+    let k = i;
+    while (k < len) {
+      const b = bytes[k];
+      if (b === delim || (b === nl0 && (nlLen === 1 || bytes[k + 1] === 0x0a))) break;
+      k += 1;
+    }
+    push(i, k);
+    if (k >= len) {
+      endRecord();
+      break;
+    }
+    if (bytes[k] === delim) i = k + 1;
+    else {
+      endRecord();
+      i = k + nlLen;
+    }
   }
 
-  const records = parsed.data;
-  let headerIndex = 0;
-  while (headerIndex < records.length && isBlank(records[headerIndex])) headerIndex += 1;
-  if (headerIndex >= records.length) {
+  if (header === null || m === 0) {
     throw new IntakeError(400, [
       problem(file, "empty_file", "the file is empty; expected a header row and data rows"),
     ]);
   }
-  if (headerIndex > 0) {
-    throw new IntakeError(400, [
-      problem(
-        file,
-        "blank_header",
-        "the header must be the first row; the file starts with blank rows",
-        { row: 1 },
-      ),
-    ]);
-  }
-
-  const header = records[0].map((h) => h.trim());
-  if (header.length > maxColumns) {
-    throw new IntakeError(413, [
-      problem(
-        file,
-        "too_many_columns",
-        `the header has ${header.length} columns; the limit is ${maxColumns}`,
-        {
-          row: 1,
-        },
-      ),
-    ]);
-  }
+  const names: string[] = header;
   const headerProblems = new ProblemList();
   const firstSeen = new Map<string, number>();
-  header.forEach((name, j) => {
+  names.forEach((name, j) => {
     if (name === "") {
       headerProblems.add(
         problem(
@@ -175,39 +436,55 @@ export function readTable(
     } else firstSeen.set(name, j);
   });
   headerProblems.throwIfAny(400);
-
-  const rows: string[][] = [];
-  const rowNumbers: number[] = [];
-  const ragged = new ProblemList();
-  for (let i = 1; i < records.length; i++) {
-    const record = records[i];
-    if (isBlank(record)) continue;
-    if (record.length !== header.length) {
-      ragged.add(
-        problem(
-          file,
-          "ragged_row",
-          `has ${record.length} field${record.length === 1 ? "" : "s"}; expected ${header.length} as in the header (${delimiterName(delimiter)}-separated)`,
-          { row: i + 1 },
-        ),
-      );
-      continue;
-    }
-    rows.push(record);
-    rowNumbers.push(i + 1);
-  }
   ragged.throwIfAny(400);
-  if (rows.length === 0) {
+  if (rowNumbers.length === 0) {
     throw new IntakeError(400, [
       problem(file, "header_only", "the file has a header row but no data rows", { row: 1 }),
     ]);
   }
-  return { file, delimiter, header, rows, rowNumbers };
+  return { header: names, rowNumbers, starts, ends };
 }
 
-function isBlank(record: readonly string[]): boolean {
-  for (const cell of record) if (cell.trim() !== "") return false;
-  return true;
+function tooManyColumns(
+  file: string,
+  count: number | null,
+  maxColumns: number,
+  options: ReadOptions,
+): never {
+  const raise = options.settings?.maxColumns
+    ? `; raise it with ${options.settings.maxColumns}`
+    : "";
+  throw new IntakeError(413, [
+    problem(
+      file,
+      "too_many_columns",
+      `the header has ${count === null ? `more than ${maxColumns}` : count} columns; the limit is ${maxColumns}${raise}`,
+      { row: 1 },
+    ),
+  ]);
+}
+
+/** Lines in the bytes (at most the records: a quoted field may span lines). */
+function countLines(bytes: Buffer, from: number, nl: number): number {
+  let count = 1;
+  let at = bytes.indexOf(nl, from);
+  while (at >= 0) {
+    count += 1;
+    at = bytes.indexOf(nl, at + 1);
+  }
+  return count;
+}
+
+/** True when the cell is empty or only white space (as String.prototype.trim sees it). */
+function blankCell(bytes: Buffer, start: number, end: number): boolean {
+  if (start < end && bytes[start] === QUOTE) return cellText(bytes, start, end).trim() === "";
+  let ascii = true;
+  for (let k = start; k < end; k++) {
+    const b = bytes[k];
+    if (b >= 0x80) ascii = false;
+    else if (!isSpace(b)) return false;
+  }
+  return ascii || cellText(bytes, start, end).trim() === "";
 }
 
 const ZIP_MAGIC = [0x50, 0x4b, 0x03, 0x04];
@@ -222,9 +499,8 @@ function startsWith(bytes: Uint8Array, magic: readonly number[]): boolean {
   return true;
 }
 
-const fatalDecoder = new TextDecoder("utf-8", { fatal: true, ignoreBOM: true });
-
-function decodeUtf8(bytes: Uint8Array, file: string): string {
+/** Refuses binary files, spreadsheets, UTF-16 and text that is not UTF-8, naming what the file seems to be. */
+function checkBinary(bytes: Buffer, file: string): void {
   const binary = (text: string) => new IntakeError(400, [problem(file, "binary_file", text)]);
   if (startsWith(bytes, ZIP_MAGIC) || startsWith(bytes, ZIP_EMPTY_MAGIC)) {
     throw binary(
@@ -256,9 +532,7 @@ function decodeUtf8(bytes: Uint8Array, file: string): string {
       ),
     ]);
   }
-  try {
-    return fatalDecoder.decode(bytes);
-  } catch {
+  if (!isUtf8(bytes)) {
     const at = firstInvalidUtf8(bytes);
     throw new IntakeError(400, [
       problem(
@@ -308,12 +582,6 @@ function firstInvalidUtf8(b: Uint8Array): number {
 function lineOfByte(bytes: Uint8Array, offset: number): number {
   let line = 1;
   for (let i = 0; i < offset; i++) if (bytes[i] === 0x0a) line += 1;
-  return line;
-}
-
-function lineOf(text: string, offset: number): number {
-  let line = 1;
-  for (let i = 0; i < offset; i++) if (text.charCodeAt(i) === 0x0a) line += 1;
   return line;
 }
 

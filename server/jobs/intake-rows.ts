@@ -176,11 +176,11 @@ class CsvChunks {
  * written, trimmed, with missing markers as empty. Equal, once read, to
  * encodeNumbers of the typed values, and cheaper than printing them again.
  */
-function rawNumbers(row: readonly string[], columns: readonly number[]): string {
+function rawNumbers(raw: RawTable, i: number, columns: readonly number[]): string {
   let out = "";
   for (let k = 0; k < columns.length; k++) {
     if (k > 0) out += ",";
-    const cell = row[columns[k]];
+    const cell = raw.cell(i, columns[k]);
     const x = parseNumberCell(cell);
     if (typeof x === "number")
       out +=
@@ -213,12 +213,12 @@ function encodeBrain(b: BrainTable, raw: RawTable, writer: CsvChunks): Descripti
     .filter((c) => c.type === "number")
     .map((c) => rawIndex.get(c.name) ?? -1);
   const fromRaw =
-    b.layout === "wide" && b.entries.length === raw.rows.length && slotColumns.every((j) => j >= 0);
+    b.layout === "wide" && b.entries.length === raw.rowCount && slotColumns.every((j) => j >= 0);
   const buffer = new Float64Array(slot);
   const ids = new Set<string>();
   b.entries.forEach((e, k) => {
     let numbers: string;
-    if (fromRaw) numbers = rawNumbers(raw.rows[k], slotColumns);
+    if (fromRaw) numbers = rawNumbers(raw, k, slotColumns);
     else {
       for (let r = 0; r < b.regions.length; r++) {
         buffer[valueSlots[r]] = b.values[r][k];

@@ -17,7 +17,7 @@ import { eq, sql } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { fitRegions, fits, memberships } from "../../db/schema";
 import { recipeSchema } from "../../contract/recipe";
-import { readTable } from "../../server/intake";
+import { readTable, tableRows } from "../../server/intake";
 import { createRng, normalDraw } from "../../server/stats/rng";
 import { REGION_DETAIL_KEYS } from "../../server/services/fits";
 import { sealHash } from "../../server/services/sealing";
@@ -183,7 +183,7 @@ describe("exports of a finished fit", () => {
       "correction",
     ]);
     const shown = fit.body.result.regions as Record<string, unknown>[];
-    expect(table.rows.map((r) => r[0])).toEqual(regions);
+    expect(tableRows(table).map((r) => r[0])).toEqual(regions);
     const keys = [
       "n",
       "estimate",
@@ -198,7 +198,7 @@ describe("exports of a finished fit", () => {
       "rCiLow",
       "rCiHigh",
     ];
-    table.rows.forEach((row, i) => {
+    tableRows(table).forEach((row, i) => {
       for (const [j, k] of keys.entries())
         expect(Number(row[j + 1]), `${regions[i]} ${k}`).toBe(shown[i][k]);
       expect(row[13]).toBe(shown[i].method);
@@ -208,7 +208,7 @@ describe("exports of a finished fit", () => {
       expect(row[15]).toBe("Holm");
     });
     // The set-aside from every region and the one from L_dlpfc: 14 matched − 1, and one fewer in L_dlpfc.
-    expect(table.rows.map((r) => Number(r[1]))).toEqual([13, 13, 12]);
+    expect(tableRows(table).map((r) => Number(r[1]))).toEqual([13, 13, 12]);
   });
 
   it("recipe.json: the stored recipe, accepted as it is by the recipe command's schema", async () => {
