@@ -122,6 +122,11 @@ export function formatDf(df: number): string {
   return Math.abs(df - whole) < 1e-9 ? group(String(whole)) : group(df.toFixed(1));
 }
 
+/** A count with thousands grouped: 1234 → "1,234". */
+export function formatCount(n: number): string {
+  return group(String(Math.round(n)));
+}
+
 /** A rank sum or a count that may end in a half: "123", "123.5", "1,234". */
 export function formatRankSum(value: number): string {
   const whole = Math.round(value);
@@ -205,7 +210,7 @@ function ciRuns(low: unknown, high: unknown, format: (v: number) => string): Tex
 }
 
 /** The symbol of a region's correlation: r, r_s (Spearman), r_pb (percentage bend), "skipped r"; "partial" when adjusted. */
-function correlationSymbol(ctx: SentenceContext): TextRun[] {
+export function correlationSymbol(ctx: SentenceContext): TextRun[] {
   const partial = ctx.adjusted ? [plain("partial ")] : [];
   if (ctx.estimator === "rank") return [...partial, italic("r"), sub("s")];
   if (ctx.estimator === "bend") return [italic("r"), sub("pb")];
@@ -344,6 +349,53 @@ export function resultsSentence(region: RegionResult, ctx: SentenceContext): Tex
   runs.push(plain(", "), ...p, plain(", "));
   runs.push(...(d ? dRuns : estimateRuns(region, ctx)));
   return merged(runs);
+}
+
+// ---------------------------------------------------------------- table cells
+
+/** True when a fit's estimate is itself a correlation or an ICC (cannot exceed 1 in size): no leading zero. */
+export function estimateIsBounded(ctx: SentenceContext): boolean {
+  return (
+    ctx.kind === "reliability" ||
+    (ctx.kind === "association" &&
+      (ctx.estimator === "rank" || ctx.estimator === "skipped" || ctx.estimator === "bend"))
+  );
+}
+
+function withInterval(value: number, low: unknown, high: unknown, f: (v: number) => string) {
+  return finite(low) && finite(high) ? `${f(value)} [${f(low)}, ${f(high)}]` : f(value);
+}
+
+/** A table's estimate cell: "0.42 [0.10, 0.74]" (raw, the estimate's decimals), ".31 [.06, .52]" (bounded). */
+export function estimateCell(region: RegionResult, ctx: SentenceContext): string {
+  if (estimateIsBounded(ctx))
+    return withInterval(region.estimate, region.ciLow, region.ciHigh, (v) => formatBounded(v));
+  const decimals = rawDecimals(region.estimate);
+  return withInterval(region.estimate, region.ciLow, region.ciHigh, (v) => formatRaw(v, decimals));
+}
+
+/**
+ * The effect-size column of a fit's table when its estimate is not already
+ * one: r (association by least squares or M-estimation) or Cohen's d (one
+ * sample, two groups); null otherwise.
+ */
+export function effectSizeHeader(ctx: SentenceContext): TextRun[] | null {
+  if (estimateIsBounded(ctx)) return null;
+  if (ctx.kind === "association") return merged([...correlationSymbol(ctx), plain(" [95% CI]")]);
+  if (ctx.kind === "one-sample" || ctx.kind === "two-group")
+    return [italic("d"), plain(" [95% CI]")];
+  return null;
+}
+
+/** A region's cell in the effect-size column: ".35 [.10, .56]", "0.84 [0.21, 1.46]"; null without a value. */
+export function effectSizeCell(region: RegionResult, ctx: SentenceContext): string | null {
+  if (ctx.kind === "association")
+    return finite(region.r)
+      ? withInterval(region.r, region.rCiLow, region.rCiHigh, (v) => formatBounded(v))
+      : null;
+  const d = effectOf(region, "cohensD");
+  if (!d) return null;
+  return d.ci ? withInterval(d.value, d.ci[0], d.ci[1], (v) => formatStat(v)) : formatStat(d.value);
 }
 
 // ---------------------------------------------------------------- media

@@ -31,7 +31,8 @@ import { conflict } from "../http/errors";
 import { buildFitInputs, inputsOfFit } from "./fit-inputs";
 import { fitPlan } from "./plans";
 
-function regionsOf(fit: Fit): RegionResult[] {
+/** The regions of a finished fit; throws 409 when the fit is not done. */
+export function regionsOf(fit: Fit): RegionResult[] {
   if (fit.status !== "done" || !fit.result)
     throw conflict(
       `This fit is not finished (status ${fit.status}); exports are available once it is done.`,
@@ -39,12 +40,22 @@ function regionsOf(fit: Fit): RegionResult[] {
   return (fit.result as { regions: RegionResult[] }).regions;
 }
 
-/** File names of a fit's downloads: "fit-1a2b3c4d-regions.csv", "fit-1a2b3c4d-recipe.json". */
-export function exportFileName(fit: Pick<Fit, "id">, what: "regions.csv" | "recipe.json"): string {
+/** File names of a fit's downloads: "fit-1a2b3c4d-regions.csv", "fit-1a2b3c4d-recipe.json", "fit-1a2b3c4d-report.zip". */
+export function exportFileName(
+  fit: Pick<Fit, "id">,
+  what:
+    | "regions.csv"
+    | "regions.md"
+    | "regions.tex"
+    | "regions.docx"
+    | "recipe.json"
+    | "report.zip",
+): string {
   return `fit-${fit.id.slice(0, 8)}-${what}`;
 }
 
-function inferenceOf(r: RegionResult, fallback: string): string {
+/** How a region's p was found, in words (the CSV's `inference` column and the manuscript tables' note). */
+export function inferenceOf(r: RegionResult, fallback: string): string {
   const perm = r.permutation as
     | { scheme?: string; exact?: boolean; rearrangements?: number }
     | undefined;
