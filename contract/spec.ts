@@ -57,6 +57,15 @@ export const modelSpecShape = {
     .min(0)
     .max(2 ** 31 - 1)
     .default(1),
+  /**
+   * How a least-squares permutation test draws its random rearrangements:
+   * "blocks-v1" in blocks of 500, each from its own stream of the seed
+   * (server/stats/rng.ts `createBlockRng`), so threads and worker processes
+   * give the same numbers. Absent: one stream for all draws (recipes
+   * written before blocks re-run to their numbers). Every new fit records
+   * `currentRearrangementStreams`.
+   */
+  rearrangementStreams: z.enum(["blocks-v1"]).optional(),
   correction: z.enum(corrections).default("none"),
   setAside: z.array(setAsideSchema).default([]),
   /** Measurement-aware weighting by first-level standard errors. */
@@ -114,6 +123,9 @@ export function withKindDefaults<
     repeats: fields.repeats ?? (folds === "leave-one-out" ? 1 : 10),
   };
 }
+
+/** The stream scheme every new fit records (`rearrangementStreams`). */
+export const currentRearrangementStreams = "blocks-v1" as const;
 
 export type ModelKind = (typeof modelKinds)[number];
 export type Inference = (typeof inferences)[number];

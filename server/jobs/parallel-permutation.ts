@@ -1,12 +1,18 @@
 /**
- * Parallel driver for the linear permutation test: splits the regions into
- * contiguous slices, one per worker thread (piscina), and combines the
- * results. Every worker regenerates the same rearrangement sequence from the
- * seed, so per-region counts are simply concatenated and the max-T
- * distribution is the element-wise maximum of the workers' per-rearrangement
- * maxima. The result equals `linearPermutationTest` (or
+ * Parallel driver for the linear permutation test on worker threads
+ * (piscina). The result equals `linearPermutationTest` (or
  * `sharedLinearPermutationTest` for regions that differ in participants)
- * with `createRng(seed)` exactly (same numbers, bit for bit).
+ * with `createRng(seed)` and the same `streams` exactly (same numbers, bit
+ * for bit), whatever the number of threads.
+ *
+ * - One stream (no `streams`, recipes written before blocks): the regions
+ *   are split into contiguous slices, one per thread; every thread
+ *   regenerates the same rearrangement sequence from the seed, so
+ *   per-region counts are concatenated and the max-T distribution is the
+ *   element-wise maximum of the slices' per-rearrangement maxima.
+ * - "blocks-v1": the test's chunks, region chunks × rearrangement blocks
+ *   (`regionChunks`, `countRearrangementChunk`), queued on the pool in any
+ *   order and merged by place (`mergeRearrangementChunks`).
  *
  * Cost: the single-thread cost divided by the number of threads, plus the
  * set-up O(n·p² + n·p·R) on the main thread and copying R·n residuals to the
@@ -16,6 +22,7 @@ import { workerPool } from "./worker-pool";
 import { StatsError } from "../stats/errors";
 import {
   assembleLinearResult,
+  mergeRearrangementChunks,
   type LinearPermutationInput,
   type LinearPermutationResult,
   prepareSharedLinearPermutation,
@@ -26,7 +33,11 @@ import {
   drawOfPlan,
   prepareLinearPermutation,
   type RearrangementCounts,
+  rearrangementBlocks,
+  rearrangementsOf,
   type RegionBlock,
+  regionChunks,
+  sliceBlocks,
 } from "../stats/permutation-kernel";
 import type { PermutationTask } from "./permutation-task";
 
@@ -72,6 +83,7 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
     setup: SharedLinearPermutationSetup,
     input: {
       seed: number;
+      streams?: "blocks-v1";
       maxT?: boolean;
       keepNull?: boolean;
       onProgress?: (fraction: number) => void;
@@ -80,13 +92,24 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
   ): Promise<LinearPermutationResult> {
     const { draw, observed } = setup;
     const regions = observed.length;
-    const slices = splitRegions(regions, threads);
-    const control = new Int32Array(new SharedArrayBuffer(4 * (1 + slices.length)));
-    const tasks = slices.map(([from, to], worker) => {
+    const blocked = input.streams === "blocks-v1";
+    const rearrangementBlockCount = blocked
+      ? rearrangementBlocks(rearrangementsOf(draw)).length
+      : 0;
+    const slices = blocked ? regionChunks(regions) : splitRegions(regions, threads);
+    const jobs = blocked
+      ? slices.flatMap(([from], slice) =>
+          Array.from({ length: rearrangementBlockCount }, (_, block) => ({ from, slice, block })),
+        )
+      : slices.map(([from], slice) => ({ from, slice, block: undefined }));
+    const control = new Int32Array(new SharedArrayBuffer(4 * (1 + jobs.length)));
+    const sliced = slices.map(([from, to]) => sliceBlocks(setup.blocks, from, to));
+    const tasks = jobs.map(({ slice, block }, worker) => {
       const task: PermutationTask = {
         draw,
-        blocks: sliceBlocks(setup.blocks, from, to),
+        blocks: sliced[slice],
         seed: input.seed,
+        block,
         maxT: input.maxT === true,
         keepNull: input.keepNull === true,
         control: control.buffer as SharedArrayBuffer,
@@ -99,8 +122,8 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
       if (input.shouldCancel?.()) Atomics.store(control, 0, 1);
       if (input.onProgress) {
         let sum = 0;
-        for (let w = 0; w < slices.length; w++) sum += Atomics.load(control, 1 + w);
-        input.onProgress(Math.min(1, sum / (1e6 * slices.length)));
+        for (let w = 0; w < jobs.length; w++) sum += Atomics.load(control, 1 + w);
+        input.onProgress(Math.min(1, sum / (1e6 * jobs.length)));
       }
     };
     poll();
@@ -118,6 +141,20 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
       clearInterval(timer);
     }
 
+    if (blocked) {
+      const merged = mergeRearrangementChunks(
+        observed,
+        draw,
+        jobs.map(({ from, block }, i) => ({
+          regionFrom: from,
+          block: block as number,
+          counts: parts[i],
+        })),
+        { maxT: input.maxT === true, keepNull: input.keepNull === true },
+      );
+      input.onProgress?.(1);
+      return merged;
+    }
     const total = parts[0].rearrangements;
     const counts = new Float64Array(regions);
     const nulls: Float32Array[] | null = input.keepNull ? [] : null;
@@ -162,36 +199,6 @@ export function createPermutationPool(options: { threads?: number } = {}): Permu
     sharedLinearPermutationTest,
     close: () => pool.destroy(),
   };
-}
-
-/**
- * The regions from..to−1 (numbered block by block) as blocks: whole blocks,
- * or slices of a block's regions with the block's plan. Cost O(slice·n).
- */
-export function sliceBlocks(
-  blocks: readonly RegionBlock[],
-  from: number,
-  to: number,
-): RegionBlock[] {
-  const out: RegionBlock[] = [];
-  let offset = 0;
-  for (const b of blocks) {
-    const count = b.residualSquares.length;
-    const lo = Math.max(from, offset) - offset;
-    const hi = Math.min(to, offset + count) - offset;
-    if (lo < hi) {
-      const n = b.plan.n;
-      out.push({
-        plan: b.plan,
-        members: b.members,
-        residuals: b.residuals.slice(lo * n, hi * n),
-        residualSquares: b.residualSquares.slice(lo, hi),
-        observed: b.observed.slice(lo, hi),
-      });
-    }
-    offset += count;
-  }
-  return out;
 }
 
 /**

@@ -42,6 +42,7 @@ import {
   type ModelSpec,
   type ParticipantDiagnostics,
   type RegionResult,
+  currentRearrangementStreams,
   modelSpecSchema,
 } from "../../contract/spec";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
@@ -601,7 +602,11 @@ export async function createFit(
   );
   const notApplied = active.filter((s) => !applied.includes(s));
   const refitOf = await refitTarget(db, study.id, model.id);
-  const spec: ModelSpec = modelSpecSchema.parse({ ...(model.spec as object), setAside: applied });
+  const spec: ModelSpec = modelSpecSchema.parse({
+    ...(model.spec as object),
+    setAside: applied,
+    rearrangementStreams: currentRearrangementStreams,
+  });
   const recipe: Recipe = buildRecipe({
     brainTable: { file: brain.fileName, sha256: brain.sha256 },
     participantSheet: participants

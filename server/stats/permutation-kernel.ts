@@ -35,6 +35,7 @@
  */
 import { StatsError } from "./errors";
 import {
+  countRearrangements,
   createRearranger,
   createSharedRearranger,
   extremeThreshold,
@@ -44,7 +45,7 @@ import {
   regionSigns,
   regionSources,
 } from "./rearrangements";
-import type { Rng } from "./rng";
+import { createBlockRng, type Rng } from "./rng";
 
 /** Everything about the design that the rearrangement loop needs; structured-cloneable. */
 export interface LinearPermutationPlan {
@@ -612,7 +613,18 @@ export interface RearrangementCounts {
   /** per region: t* for every rearrangement, identity first (when requested) */
   nulls: Float32Array[] | null;
   exact: boolean;
+  /** rearrangements evaluated here (with a range: the range's count) */
   rearrangements: number;
+}
+
+/**
+ * A run of consecutive rearrangements of a test: indices first … first +
+ * count − 1, where 0 is the identity and the rest follow the walk's order
+ * (enumeration order, or the order of random draws).
+ */
+export interface RearrangementRange {
+  first: number;
+  count: number;
 }
 
 /** What every block of regions shares: the kind and size of the draw. Structured-cloneable. */
@@ -647,6 +659,120 @@ export function drawOfPlan(plan: LinearPermutationPlan): RearrangementDraw {
     firstGroupSize: plan.firstGroupSize,
     resamples: plan.resamples,
   };
+}
+
+/**
+ * Rearrangements a test over `draw` evaluates, the identity included: all
+ * M distinct ones when M ≤ resamples (exact), otherwise resamples + 1.
+ * Cost O(n).
+ */
+export function rearrangementsOf(draw: RearrangementDraw): number {
+  const m = countRearrangements(draw.kind, draw.n, draw.firstGroupSize);
+  return m <= draw.resamples ? m : draw.resamples + 1;
+}
+
+/**
+ * Rearrangements per block in the "blocks-v1" streams (the first block has
+ * the identity besides). Part of the scheme: changing it changes results.
+ */
+export const REARRANGEMENT_BLOCK = 500;
+
+/**
+ * The rearrangement blocks of the "blocks-v1" streams for a test of `total`
+ * rearrangements: block 0 is the identity and the next REARRANGEMENT_BLOCK,
+ * every later block the next REARRANGEMENT_BLOCK (the last one what is
+ * left). 10,000 resamples make 20 blocks. Cost O(blocks).
+ */
+export function rearrangementBlocks(total: number): RearrangementRange[] {
+  const out: RearrangementRange[] = [];
+  let first = 0;
+  while (first < total) {
+    const count = Math.min(total - first, REARRANGEMENT_BLOCK + (first === 0 ? 1 : 0));
+    out.push({ first, count });
+    first += count;
+  }
+  return out;
+}
+
+/**
+ * One chunk of a blocked test: every rearrangement of rearrangement block
+ * `block` (`rearrangementBlocks`) over the given regions, its random draws
+ * from `createBlockRng(seed, block)` (enumerations need no generator: the
+ * block is a stretch of the enumeration). The chunk depends only on the
+ * draw, its regions, the seed and the block, so chunks may run anywhere
+ * and in any order. Cost: the block's share of `countExtremeRearrangements`
+ * plus 128·block state updates to find its stream. Throws StatsError as
+ * `countExtremeRearrangements` and for a block past the last.
+ */
+export function countRearrangementChunk(input: {
+  draw: RearrangementDraw;
+  blocks: readonly RegionBlock[];
+  seed: number;
+  block: number;
+  maxT: boolean;
+  keepNull: boolean;
+  onProgress?: (fraction: number) => void;
+  shouldCancel?: () => boolean;
+}): RearrangementCounts {
+  const ranges = rearrangementBlocks(rearrangementsOf(input.draw));
+  const range = ranges[input.block];
+  if (!(Number.isInteger(input.block) && range)) {
+    throw new StatsError(
+      `linearPermutationTest has ${ranges.length} rearrangement blocks (got block ${input.block})`,
+    );
+  }
+  return countExtremeRearrangements({
+    ...input,
+    rng: createBlockRng(input.seed, input.block),
+    range,
+  });
+}
+
+/**
+ * The regions from..to−1 (numbered block by block) as blocks: whole blocks,
+ * or slices of a block's regions with the block's plan. Cost O(slice·n).
+ */
+export function sliceBlocks(
+  blocks: readonly RegionBlock[],
+  from: number,
+  to: number,
+): RegionBlock[] {
+  const out: RegionBlock[] = [];
+  let offset = 0;
+  for (const b of blocks) {
+    const count = b.residualSquares.length;
+    const lo = Math.max(from, offset) - offset;
+    const hi = Math.min(to, offset + count) - offset;
+    if (lo < hi) {
+      const n = b.plan.n;
+      out.push({
+        plan: b.plan,
+        members: b.members,
+        residuals: b.residuals.slice(lo * n, hi * n),
+        residualSquares: b.residualSquares.slice(lo, hi),
+        observed: b.observed.slice(lo, hi),
+      });
+    }
+    offset += count;
+  }
+  return out;
+}
+
+/**
+ * Regions per region chunk in the "blocks-v1" scheme: a blocked test's
+ * chunks are regions [0, 100), [100, 200), … (numbered block by block) ×
+ * rearrangement blocks. Fixed by the scheme, not by the number of threads
+ * or workers, since how regions are grouped decides the kernel's path for
+ * a one-region piece of a block (and so the last bits of its numbers).
+ */
+export const REGION_BLOCK = 100;
+
+/** The region chunks [from, to) of a blocked test with `regions` regions. Cost O(chunks). */
+export function regionChunks(regions: number): [number, number][] {
+  const out: [number, number][] = [];
+  for (let from = 0; from < regions; from += REGION_BLOCK)
+    out.push([from, Math.min(regions, from + REGION_BLOCK)]);
+  return out;
 }
 
 /** Per block, the state of the loop. */
@@ -710,10 +836,18 @@ function checkBlocks(draw: RearrangementDraw, blocks: readonly RegionBlock[]): v
  * chunk's draws. The sequence of rearrangements
  * depends only on the draw and `rng`, so two calls on different blocks or
  * region slices with equally seeded generators walk the same
- * rearrangements. Throws StatsError when the blocks do not fit the draw,
- * and with code "cancelled" when `shouldCancel()` returns true (checked
- * after every rearrangement, or after every 32 when one-region blocks are
- * present).
+ * rearrangements.
+ *
+ * With `range`, only the rearrangements first … first + count − 1 of the
+ * walk are evaluated (counts, maxima and nulls are of those alone, maxima
+ * and nulls indexed from the range's start): an enumeration is stepped
+ * forward to `first`; random draws do not depend on their index, so a
+ * range that does not start at 0 skips only the identity and takes its
+ * draws from `rng` from the start — the caller hands each range its own
+ * stream (`createBlockRng`). Throws StatsError when the blocks do not fit
+ * the draw or the range lies outside the test's rearrangements, and with
+ * code "cancelled" when `shouldCancel()` returns true (checked after every
+ * rearrangement, or after every 32 when one-region blocks are present).
  */
 export function countExtremeRearrangements(input: {
   draw: RearrangementDraw;
@@ -721,6 +855,7 @@ export function countExtremeRearrangements(input: {
   rng: Rng;
   maxT: boolean;
   keepNull: boolean;
+  range?: RearrangementRange;
   onProgress?: (fraction: number) => void;
   shouldCancel?: () => boolean;
 }): RearrangementCounts {
@@ -737,7 +872,18 @@ export function countExtremeRearrangements(input: {
         })
       : createSharedRearranger({ kind: draw.kind, n: draw.n, resamples: draw.resamples, rng });
   const sigma = "sigma" in walk ? walk.sigma : null;
-  const total = walk.total;
+  const first = input.range?.first ?? 0;
+  const total = input.range?.count ?? walk.total;
+  if (
+    !(Number.isInteger(first) && Number.isInteger(total) && first >= 0 && total >= 1) ||
+    first + total > walk.total
+  ) {
+    throw new StatsError(
+      `linearPermutationTest requires a range within its ${walk.total} rearrangements (got ${first} + ${total})`,
+    );
+  }
+  const skip = walk.exact ? first : Math.min(first, 1);
+  for (let k = 0; k < skip; k++) walk.next();
   let regions = 0;
   const states: BlockState[] = blocks.map((block) => {
     const count = block.residualSquares.length;

@@ -22,10 +22,16 @@
 import { StatsError } from "./errors";
 import {
   countExtremeRearrangements,
+  countRearrangementChunk,
   drawOfPlan,
   prepareLinearPermutation,
+  type RearrangementCounts,
   type RearrangementDraw,
+  rearrangementBlocks,
+  rearrangementsOf,
   type RegionBlock,
+  regionChunks,
+  sliceBlocks,
 } from "./permutation-kernel";
 import { extremeThreshold, memberPositions } from "./rearrangements";
 import type { Rng } from "./rng";
@@ -37,6 +43,17 @@ export interface PermutationRunOptions {
   scheme: "sign-flip" | "freedman-lane";
   resamples: number;
   rng: Rng;
+  /**
+   * How random rearrangements are drawn. Absent: one stream, `rng`, for all
+   * of them (recipes written before blocks). "blocks-v1": in chunks of
+   * region chunks (`regionChunks`) × rearrangement blocks
+   * (`rearrangementBlocks`), block b's draws from
+   * `createBlockRng(rng.seed, b)` (so `rng` must be fresh from
+   * `createRng(seed)`); any number of threads or processes computes the
+   * chunks to the same numbers. Exact enumerations list the same
+   * rearrangements either way.
+   */
+  streams?: "blocks-v1";
   /** also compute family-wise p-values from the maximum |t*| over regions */
   maxT?: boolean;
   /** keep every rearranged statistic per region (identity first) */
@@ -101,20 +118,57 @@ export interface LinearPermutationResult {
  */
 export function linearPermutationTest(input: LinearPermutationInput): LinearPermutationResult {
   const setup = prepareLinearPermutation(input);
+  const block: RegionBlock = {
+    plan: setup.plan,
+    members: null,
+    residuals: setup.residuals,
+    residualSquares: setup.residualSquares,
+    observed: setup.observed,
+  };
+  return runSetup(
+    { draw: drawOfPlan(setup.plan), blocks: [block], observed: setup.observed },
+    input,
+  );
+}
+
+/** Runs a prepared test in one stream or in blocks (`PermutationRunOptions.streams`), on this thread. */
+function runSetup(
+  setup: SharedLinearPermutationSetup,
+  input: PermutationRunOptions,
+): LinearPermutationResult {
+  const maxT = input.maxT === true;
+  const keepNull = input.keepNull === true;
+  if (input.streams === "blocks-v1") {
+    const blocks = rearrangementBlocks(rearrangementsOf(setup.draw)).length;
+    const regionParts = regionChunks(setup.observed.length);
+    const all = blocks * regionParts.length;
+    const chunks: RearrangementChunk[] = [];
+    for (const [from, to] of regionParts) {
+      const sliced = regionParts.length === 1 ? setup.blocks : sliceBlocks(setup.blocks, from, to);
+      for (let b = 0; b < blocks; b++) {
+        const onProgress = input.onProgress;
+        const done = chunks.length;
+        const counts = countRearrangementChunk({
+          draw: setup.draw,
+          blocks: sliced,
+          seed: input.rng.seed,
+          block: b,
+          maxT,
+          keepNull,
+          onProgress: onProgress && ((f) => onProgress((done + f) / all)),
+          shouldCancel: input.shouldCancel,
+        });
+        chunks.push({ regionFrom: from, block: b, counts });
+      }
+    }
+    return mergeRearrangementChunks(setup.observed, setup.draw, chunks, { maxT, keepNull });
+  }
   const runs = countExtremeRearrangements({
-    draw: drawOfPlan(setup.plan),
-    blocks: [
-      {
-        plan: setup.plan,
-        members: null,
-        residuals: setup.residuals,
-        residualSquares: setup.residualSquares,
-        observed: setup.observed,
-      },
-    ],
+    draw: setup.draw,
+    blocks: setup.blocks,
     rng: input.rng,
-    maxT: input.maxT === true,
-    keepNull: input.keepNull === true,
+    maxT,
+    keepNull,
     onProgress: input.onProgress,
     shouldCancel: input.shouldCancel,
   });
@@ -126,6 +180,82 @@ export function linearPermutationTest(input: LinearPermutationInput): LinearPerm
     runs.exact,
     runs.rearrangements,
   );
+}
+
+/** One chunk's counts: regions regionFrom… (as many as its counts) × rearrangement block `block`. */
+export interface RearrangementChunk {
+  regionFrom: number;
+  block: number;
+  counts: RearrangementCounts;
+}
+
+/**
+ * Merges the chunks of a blocked test (regions × rearrangement blocks of
+ * `rearrangementBlocks`) into its result: per-region counts add over
+ * blocks, each rearrangement's maximum |t*| is the largest of its region
+ * slices' maxima, and kept null statistics go to their rearrangement's
+ * place. Every chunk lands at its own place, so the result does not depend
+ * on the order of `chunks`. Cost O(regions·blocks + total rearrangements,
+ * + regions·total with keepNull). Throws StatsError when a chunk is outside
+ * the test, a region and block are covered twice or not at all.
+ */
+export function mergeRearrangementChunks(
+  observed: Float64Array,
+  draw: RearrangementDraw,
+  chunks: readonly RearrangementChunk[],
+  options: { maxT: boolean; keepNull: boolean },
+): LinearPermutationResult {
+  const name = "linearPermutationTest";
+  const regions = observed.length;
+  const total = rearrangementsOf(draw);
+  const ranges = rearrangementBlocks(total);
+  const covered = new Uint8Array(regions * ranges.length);
+  const counts = new Float64Array(regions);
+  const maxAbs = options.maxT ? new Float64Array(total) : null;
+  const nulls = options.keepNull
+    ? Array.from({ length: regions }, () => new Float32Array(total))
+    : null;
+  let exact = true;
+  for (const chunk of chunks) {
+    const range = ranges[chunk.block];
+    const part = chunk.counts;
+    const width = part.counts.length;
+    if (
+      !range ||
+      part.rearrangements !== range.count ||
+      !(chunk.regionFrom >= 0 && chunk.regionFrom + width <= regions)
+    ) {
+      throw new StatsError(
+        `${name} received a chunk outside the test (regions ${chunk.regionFrom}+${width}, block ${chunk.block})`,
+      );
+    }
+    if ((options.maxT && !part.maxAbs) || (options.keepNull && !part.nulls)) {
+      throw new StatsError(`${name} received a chunk without its maxima or null statistics`);
+    }
+    exact = exact && part.exact;
+    for (let r = 0; r < width; r++) {
+      const at = (chunk.regionFrom + r) * ranges.length + chunk.block;
+      if (covered[at] === 1)
+        throw new StatsError(
+          `${name} received region ${chunk.regionFrom + r} of block ${chunk.block} twice`,
+        );
+      covered[at] = 1;
+      counts[chunk.regionFrom + r] += part.counts[r];
+      if (nulls && part.nulls) nulls[chunk.regionFrom + r].set(part.nulls[r], range.first);
+    }
+    if (maxAbs && part.maxAbs) {
+      const m = part.maxAbs;
+      for (let k = 0; k < range.count; k++)
+        if (m[k] > maxAbs[range.first + k]) maxAbs[range.first + k] = m[k];
+    }
+  }
+  const missing = covered.indexOf(0);
+  if (missing >= 0) {
+    throw new StatsError(
+      `${name} is missing region ${Math.floor(missing / ranges.length)} of block ${missing % ranges.length}`,
+    );
+  }
+  return assembleLinearResult(observed, counts, maxAbs, nulls, exact, total);
 }
 
 /** Regions on one set of participants, for `sharedLinearPermutationTest`. */
@@ -270,24 +400,7 @@ export function prepareSharedLinearPermutation(
 export function sharedLinearPermutationTest(
   input: SharedLinearPermutationInput,
 ): LinearPermutationResult {
-  const setup = prepareSharedLinearPermutation(input);
-  const runs = countExtremeRearrangements({
-    draw: setup.draw,
-    blocks: setup.blocks,
-    rng: input.rng,
-    maxT: input.maxT === true,
-    keepNull: input.keepNull === true,
-    onProgress: input.onProgress,
-    shouldCancel: input.shouldCancel,
-  });
-  return assembleLinearResult(
-    setup.observed,
-    runs.counts,
-    runs.maxAbs,
-    runs.nulls,
-    runs.exact,
-    runs.rearrangements,
-  );
+  return runSetup(prepareSharedLinearPermutation(input), input);
 }
 
 /**

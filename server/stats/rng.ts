@@ -4,7 +4,9 @@
  * xoshiro128** (Blackman & Vigna 2018, "Scrambled linear pseudorandom number
  * generators"), state seeded by SplitMix32 from one 32-bit integer seed. The
  * sequence depends only on the seed, so a recipe with the same seed gives
- * byte-identical output on every machine. Cost: O(1) per draw.
+ * byte-identical output on every machine. Cost: O(1) per draw. Independent
+ * streams for blocks of rearrangements come from the generator's published
+ * jump function (`createBlockRng`).
  */
 export interface Rng {
   /** Uniform float in [0, 1) with 32 bits of randomness. */
@@ -26,15 +28,83 @@ function splitMix32(state: number): () => number {
   };
 }
 
-/** Creates a generator from an integer seed (any safe integer; reduced mod 2^32). */
-export function createRng(seed: number): Rng {
+/** The xoshiro128** state (s0, s1, s2, s3) that `createRng(seed)` starts from. Cost O(1). */
+export function seedState(seed: number): Uint32Array {
   if (!Number.isSafeInteger(seed)) throw new RangeError("createRng requires an integer seed");
   const mix = splitMix32(Number(BigInt.asUintN(32, BigInt(seed))));
-  let a = mix();
-  let b = mix();
-  let c = mix();
-  let d = mix();
-  if ((a | b | c | d) === 0) a = 1;
+  const state = Uint32Array.of(mix(), mix(), mix(), mix());
+  if ((state[0] | state[1] | state[2] | state[3]) === 0) state[0] = 1;
+  return state;
+}
+
+/** Creates a generator from an integer seed (any safe integer; reduced mod 2^32). */
+export function createRng(seed: number): Rng {
+  return rngOfState(seedState(seed), seed);
+}
+
+/**
+ * Advances a xoshiro128** state by one draw in place (the reference
+ * generator's state update, Blackman & Vigna 2018). Cost O(1).
+ */
+export function stepState(s: Uint32Array): void {
+  const t = (s[1] << 9) >>> 0;
+  s[2] ^= s[0];
+  s[3] ^= s[1];
+  s[1] ^= s[2];
+  s[0] ^= s[3];
+  s[2] ^= t;
+  s[3] = rotl(s[3], 11);
+}
+
+/** The jump polynomial of xoshiro128** (Blackman & Vigna 2018, xoshiro128starstar.c `jump`). */
+const JUMP = [0x8764000b, 0xf542d2d3, 0x6fa035c3, 0x77f2db5b] as const;
+
+/**
+ * Moves a xoshiro128** state 2^64 draws ahead in place, by the reference
+ * generator's jump function (Blackman & Vigna 2018: "equivalent to 2^64
+ * calls to next(); it can be used to generate 2^64 non-overlapping
+ * subsequences for parallel computations"). Cost: 128 state updates.
+ */
+export function jumpState(s: Uint32Array): void {
+  const acc = new Uint32Array(4);
+  for (const word of JUMP) {
+    for (let b = 0; b < 32; b++) {
+      if ((word >>> b) & 1) {
+        acc[0] ^= s[0];
+        acc[1] ^= s[1];
+        acc[2] ^= s[2];
+        acc[3] ^= s[3];
+      }
+      stepState(s);
+    }
+  }
+  s.set(acc);
+}
+
+/**
+ * The generator of rearrangement block `block` of a fit with `seed`
+ * (the "blocks-v1" streams): the state of `createRng(seed)` jumped `block`
+ * times by `jumpState`, i.e. moved block × 2^64 draws along the one
+ * sequence of period 2^128 − 1. Block 0 is `createRng(seed)` itself; block
+ * b's draws are those of `createRng(seed)` from draw b·2^64 on, so two
+ * blocks share no state unless one of them makes more than 2^64 draws.
+ * Cost: 128·block state updates (keep blocks to thousands). Throws
+ * RangeError for a block that is not a whole number ≥ 0.
+ */
+export function createBlockRng(seed: number, block: number): Rng {
+  if (!(Number.isSafeInteger(block) && block >= 0))
+    throw new RangeError("createBlockRng requires a whole block number of at least 0");
+  const state = seedState(seed);
+  for (let b = 0; b < block; b++) jumpState(state);
+  return rngOfState(state, seed);
+}
+
+/** A generator drawing on from the xoshiro128** state `state` (copied). */
+export function rngOfState(state: Uint32Array, seed: number): Rng {
+  let a = state[0];
+  let b = state[1];
+  let c = state[2];
+  let d = state[3];
   const nextUint32 = (): number => {
     const result = Math.imul(rotl(Math.imul(b, 5) >>> 0, 7), 9) >>> 0;
     const t = (b << 9) >>> 0;

@@ -126,6 +126,7 @@ export function permutationPass(
       scheme,
       resamples: s.resamples,
       rng: createRng(s.seed),
+      streams: s.rearrangementStreams,
       maxT,
       keepNull: true,
       onProgress: progress,

@@ -125,4 +125,48 @@ describe("parallel linear permutation test", () => {
       /tested to be a column index/,
     );
   });
+
+  it("blocked streams: the same numbers on 1, 2 and 3 threads", async () => {
+    // 230 regions in three sets of participants (99 with everyone; one region without
+    // participant 2; 130 without participant 5): region chunks [0, 100), [100, 200), [200, 230)
+    // × 3 rearrangement blocks (1,200 resamples).
+    const sets = [
+      Array.from({ length: n }, (_, i) => i),
+      Array.from({ length: n }, (_, i) => i).filter((i) => i !== 2),
+      Array.from({ length: n }, (_, i) => i).filter((i) => i !== 5),
+    ];
+    const counts = [99, 1, 130];
+    const shared = {
+      participants: n,
+      blocks: sets.map((members, b) => ({
+        design: Float64Array.from(members.flatMap((i) => rows[i])),
+        n: members.length,
+        p,
+        tested: 3,
+        y: Array.from({ length: counts[b] }, (_, r) =>
+          Float64Array.from(members, (i) => y[(r + b) % 7][i] + 0.01 * r * rows[i][2]),
+        ),
+        members: Int32Array.from(members),
+      })),
+      scheme: "freedman-lane" as const,
+      resamples: 1200,
+      maxT: true,
+      keepNull: true,
+      streams: "blocks-v1" as const,
+    };
+    const single = sharedLinearPermutationTest({ ...shared, rng: createRng(31) });
+    expect(single.rearrangements).toBe(1201);
+    const one = createPermutationPool({ threads: 1 });
+    const three = createPermutationPool({ threads: 3 });
+    try {
+      const results = await Promise.all([
+        one.sharedLinearPermutationTest({ ...shared, seed: 31 }),
+        pool.sharedLinearPermutationTest({ ...shared, seed: 31 }),
+        three.sharedLinearPermutationTest({ ...shared, seed: 31 }),
+      ]);
+      for (const r of results) expect(r).toEqual(single);
+    } finally {
+      await Promise.all([one.close(), three.close()]);
+    }
+  }, 60_000);
 });
