@@ -374,6 +374,16 @@ const matrix: Record<string, Row> = {
     expected: members(200),
     data: true,
   },
+  "GET /api/fits/:fitId/report.zip": {
+    path: (f) => `/api/fits/${f.fitId}/report.zip`,
+    expected: members(200),
+    data: true,
+  },
+  "GET /api/fits/:fitId/report.sha256": {
+    path: (f) => `/api/fits/${f.fitId}/report.sha256`,
+    expected: members(200),
+    data: true,
+  },
   "GET /api/fits/:fitId/methods": {
     path: (f) => `/api/fits/${f.fitId}/methods`,
     expected: members(200),

@@ -1,0 +1,358 @@
+/**
+ * A finished fit's report bundle: one ZIP archive with everything a paper
+ * needs (GET /api/fits/:fitId/report.zip), in a fixed order:
+ *
+ *   README.txt            what each file is (this list, with what was left out and why)
+ *   methods.md            the methods paragraph and its references (fit-exports.ts methodsOf)
+ *   results/regions.csv   the region table (fit-exports.ts regionsCsv)
+ *   recipe.json           the recipe (left out for a caller without participant rows: it names them)
+ *   inputs.json           the data files the fit used: name, version, SHA-256, participants
+ *   set-asides.csv        participant, scope, reason, who, when (no participant column without participant rows)
+ *   activity.csv          the fit's run, re-queues, approval and seal from the audit trail
+ *   seal.json             sealed fits: hash, who, when, intact
+ *
+ * Deterministic: the same fit (and the same records about it) gives the
+ * same bytes — fixed order, every entry dated at the fit's finish time
+ * (services/report-zip.ts), no varying metadata; text is LF-terminated
+ * except the CSV files (CRLF, as every CSV export of the app). Streamed:
+ * the small parts are built first (so a fit that is not done answers 409
+ * before anything is sent), then written one entry at a time.
+ *
+ * The bundle's own SHA-256 (GET /api/fits/:fitId/report.sha256) is
+ * computed by writing the same archive into a hash instead of a response;
+ * since the bundle is deterministic, that is the hash of what the same
+ * caller downloads. It is kept per fit, caller's visibility and digest of
+ * the small parts, so a later change of those (a person's name, say) gives
+ * a new hash rather than a stale one.
+ */
+import { createHash } from "node:crypto";
+import { and, asc, eq, inArray } from "drizzle-orm";
+import type { Queryable } from "../../db/client";
+import { auditEvents, datasetVersions, type Fit, users } from "../../db/schema";
+import {
+  fitApprovedWords,
+  fitCancelledWords,
+  fitRunWords,
+  fitSealedWords,
+} from "../../contract/activity-words";
+import type { FitView } from "../../contract/views/fits";
+import { toCsv } from "../intake/export-csv";
+import type { FitJobs } from "../jobs/fit-jobs";
+import { methodsOf, recipeJson, regionsCsv } from "./fit-exports";
+import { fitViewParts } from "./fits";
+import { writeZip, type ZipEntry } from "./report-zip";
+
+/** A part of the bundle and the line README.txt gives it. */
+export interface ReportPart extends ZipEntry {
+  about: string;
+}
+
+export interface ReportOptions {
+  /** Whether the caller may see participant-level rows (contract/permissions.ts `fits.participants.read`). */
+  participantsVisible: boolean;
+}
+
+/** The audit events of a fit that its activity.csv lists (not the e-mail notices: they are about mail, not the fit). */
+export const reportActivityKinds = [
+  "fit.run",
+  "fit.requeued",
+  "fit.cancelled",
+  "fit.approved",
+  "fit.sealed",
+] as const;
+
+const encoder = new TextEncoder();
+const text = (s: string) => encoder.encode(s);
+const json = (value: unknown) => text(`${JSON.stringify(value, null, 2)}\n`);
+
+function field(value: unknown, key: string): string | null {
+  if (value && typeof value === "object" && key in value) {
+    const v = (value as Record<string, unknown>)[key];
+    return v === null || v === undefined ? null : String(v);
+  }
+  return null;
+}
+
+/** The fit's life in the audit trail as CSV: when, who, event, what. */
+async function activityCsv(db: Queryable, fit: Fit, modelName: string | null): Promise<string> {
+  const rows = await db
+    .select({
+      kind: auditEvents.kind,
+      at: auditEvents.at,
+      after: auditEvents.after,
+      name: users.name,
+      email: users.email,
+    })
+    .from(auditEvents)
+    .leftJoin(users, eq(users.id, auditEvents.actorId))
+    .where(
+      and(
+        eq(auditEvents.studyId, fit.studyId),
+        eq(auditEvents.targetType, "fit"),
+        eq(auditEvents.targetId, fit.id),
+        inArray(auditEvents.kind, [...reportActivityKinds]),
+      ),
+    )
+    .orderBy(asc(auditEvents.seq));
+  const words = (kind: string, after: unknown): string => {
+    switch (kind) {
+      case "fit.run":
+        return fitRunWords(
+          field(after, "modelName"),
+          field(after, "seed"),
+          field(after, "setAside"),
+        );
+      case "fit.requeued":
+        return "re-queued the fit after a restart";
+      case "fit.cancelled":
+        return fitCancelledWords(modelName);
+      case "fit.approved":
+        return fitApprovedWords(modelName);
+      default:
+        return fitSealedWords(
+          modelName,
+          field(after, "sha256") ?? "",
+          field(after, "singlePersonSignOff") === "true",
+        );
+    }
+  };
+  return toCsv(
+    ["when", "who", "event", "what"],
+    rows.map((r) => [
+      r.at.toISOString(),
+      r.name ?? r.email ?? "Covarion",
+      r.kind,
+      words(r.kind, r.after),
+    ]),
+  );
+}
+
+/** The set-asides the fit applied as CSV; without the participant column when ids are withheld. */
+function setAsidesCsv(view: FitView): string {
+  const visible = view.participantsVisible;
+  const header = [...(visible ? ["participant"] : []), "scope", "reason", "who", "when"];
+  return toCsv(
+    header,
+    view.setAsides.map((s) => [
+      ...(visible ? [s.participant] : []),
+      s.region === null ? "all regions" : `region ${s.region}`,
+      s.reason,
+      s.createdBy?.name ?? s.createdBy?.id ?? null,
+      s.createdAt,
+    ]),
+  );
+}
+
+/** What the fit's data were: each file's name, version, SHA-256 and participant count. */
+async function inputsJson(db: Queryable, fit: Fit): Promise<unknown> {
+  const ids = [fit.brainVersionId, ...(fit.sheetVersionId ? [fit.sheetVersionId] : [])];
+  const versions = await db
+    .select({
+      id: datasetVersions.id,
+      fileName: datasetVersions.fileName,
+      version: datasetVersions.version,
+      sha256: datasetVersions.sha256,
+      byteSize: datasetVersions.byteSize,
+      participants: datasetVersions.participantCount,
+    })
+    .from(datasetVersions)
+    .where(inArray(datasetVersions.id, ids));
+  const file = (id: string | null) => {
+    const v = versions.find((x) => x.id === id);
+    return v
+      ? {
+          fileName: v.fileName,
+          version: v.version,
+          sha256: v.sha256,
+          bytes: v.byteSize,
+          participants: v.participants,
+        }
+      : null;
+  };
+  const recipe = fit.recipe as { softwareVersion?: string; session?: string };
+  return {
+    fit: fit.id,
+    software: { name: "Covarion", version: recipe.softwareVersion ?? null },
+    brainTable: file(fit.brainVersionId),
+    participantSheet: file(fit.sheetVersionId),
+    session: recipe.session ?? null,
+    sha256Of: "the file's bytes as uploaded",
+  };
+}
+
+function methodsMarkdown(methods: Awaited<ReturnType<typeof methodsOf>>): string {
+  const refs = methods.references.map((r) => `- ${r.citation}`).join("\n");
+  return `# Methods\n\n${methods.text}\n${refs ? `\n## References\n\n${refs}\n` : ""}`;
+}
+
+function readme(view: FitView, parts: readonly ReportPart[], leftOut: readonly string[]): string {
+  const width = Math.max(...parts.map((p) => p.name.length), "README.txt".length);
+  const lines = [
+    "Covarion report bundle",
+    "",
+    `Fit ${view.id} of the model “${view.model.name}”, finished ${view.finishedAt ?? "—"}.`,
+    view.seal
+      ? `Sealed ${view.seal.at} by ${view.seal.by.name ?? view.seal.by.id}; SHA-256 of the recipe and result: ${view.seal.sha256}.`
+      : "Not sealed: the fit's recipe and results can still be approved and sealed.",
+    "",
+    "Files, in this order:",
+    "",
+    `${"README.txt".padEnd(width)}  this list`,
+    ...parts.map((p) => `${p.name.padEnd(width)}  ${p.about}`),
+  ];
+  if (leftOut.length > 0) lines.push("", "Left out:", "", ...leftOut.map((l) => `- ${l}`));
+  lines.push(
+    "",
+    "The same fit gives the same bundle, byte for byte: the files are always in this order and every",
+    "file is dated at the fit's finish time (UTC). CSV files use commas, CRLF line ends and n/a for a",
+    "missing value.",
+    "",
+  );
+  return lines.join("\n");
+}
+
+export interface Report {
+  view: FitView;
+  /** README.txt first, then the parts in the order above. */
+  entries: ZipEntry[];
+  /** Every entry's time (the fit's finish time). */
+  mtime: Date;
+  /** Digest of the parts built ahead (all but those rendered while writing). */
+  digest: string;
+}
+
+/**
+ * Builds a done fit's bundle for a caller. Reads the fit's view, methods,
+ * inputs, set-asides and activity (the methods paragraph joins the fit's
+ * data: O(rows × columns)). Throws 409 when the fit is not done.
+ */
+export async function buildReport(
+  db: Queryable,
+  jobs: FitJobs,
+  fit: Fit,
+  options: ReportOptions,
+): Promise<Report> {
+  const csv = regionsCsv(fit); // 409 unless done
+  const { head: view } = await fitViewParts(
+    db,
+    jobs,
+    fit.studyId,
+    fit.id,
+    options.participantsVisible,
+  );
+  const modelName = view.model.name;
+  const [methods, inputs, activity] = await Promise.all([
+    methodsOf(db, fit),
+    inputsJson(db, fit),
+    activityCsv(db, fit, modelName),
+  ]);
+  const leftOut: string[] = [];
+  const parts: ReportPart[] = [
+    {
+      name: "methods.md",
+      about: "the methods paragraph with its references",
+      compress: true,
+      bytes: () => text(methodsMarkdown(methods)),
+    },
+    {
+      name: "results/regions.csv",
+      about:
+        "the region table: one row per region with n, estimate, se, statistic, df, p, adjusted p, 95% CI",
+      compress: true,
+      bytes: () => text(csv),
+    },
+  ];
+  if (options.participantsVisible)
+    parts.push({
+      name: "recipe.json",
+      about: "the recipe: re-running it on the two input files reproduces the numbers exactly",
+      compress: true,
+      bytes: () => text(recipeJson(fit)),
+    });
+  else
+    leftOut.push(
+      "recipe.json: this study restricts participant-level rows, and the recipe names participants (set-asides and id mappings).",
+    );
+  parts.push(
+    {
+      name: "inputs.json",
+      about: "the data files the fit used: file name, version, SHA-256 of the bytes, participants",
+      compress: true,
+      bytes: () => json(inputs),
+    },
+    {
+      name: "set-asides.csv",
+      about: options.participantsVisible
+        ? "participants set aside from the fit: participant, scope, reason, who, when"
+        : "set-asides applied by the fit: scope, reason, who, when (participant ids withheld: the study restricts participant-level rows)",
+      compress: true,
+      bytes: () => text(setAsidesCsv(view)),
+    },
+    {
+      name: "activity.csv",
+      about: "the fit's run, approval and seal from the study's audit trail",
+      compress: true,
+      bytes: () => text(activity),
+    },
+  );
+  if (view.seal)
+    parts.push({
+      name: "seal.json",
+      about:
+        "the seal: SHA-256 of the canonical JSON of the recipe and result, who sealed it, when, and whether it still matches",
+      compress: true,
+      bytes: () =>
+        json({
+          fit: view.id,
+          sha256: view.seal?.sha256,
+          hashOf: 'the canonical JSON (RFC 8785) of { "recipe": …, "result": … } as stored',
+          sealedBy: view.seal?.by,
+          sealedAt: view.seal?.at,
+          intact: view.seal?.intact,
+          singlePersonSignOff: view.seal?.singlePersonSignOff,
+        }),
+    });
+  const readmeText = readme(view, parts, leftOut);
+  const entries: ZipEntry[] = [
+    { name: "README.txt", compress: true, bytes: () => text(readmeText) },
+    ...parts,
+  ];
+  const digest = createHash("sha256");
+  for (const entry of entries) {
+    digest.update(entry.name);
+    digest.update(await entry.bytes());
+  }
+  const mtime = fit.finishedAt ?? fit.createdAt;
+  return { view, entries, mtime, digest: digest.digest("hex") };
+}
+
+/** Writes the bundle to `write` (see report-zip.ts). */
+export function writeReport(
+  report: Report,
+  write: (chunk: Uint8Array) => Promise<void> | void,
+): Promise<void> {
+  return writeZip(report.entries, report.mtime, write);
+}
+
+const hashes = new Map<string, { sha256: string; bytes: number }>();
+const keptHashes = 256;
+
+/** The bundle's SHA-256 and size, written into a hash (kept per fit, visibility and digest of its parts). */
+export async function reportSha256(
+  report: Report,
+  options: ReportOptions,
+): Promise<{ sha256: string; bytes: number }> {
+  const key = `${report.view.id} ${options.participantsVisible} ${report.digest}`;
+  const kept = hashes.get(key);
+  if (kept) return kept;
+  const hash = createHash("sha256");
+  let bytes = 0;
+  await writeReport(report, (chunk) => {
+    hash.update(chunk);
+    bytes += chunk.length;
+  });
+  const answer = { sha256: hash.digest("hex"), bytes };
+  hashes.set(key, answer);
+  if (hashes.size > keptHashes) hashes.delete(hashes.keys().next().value as string);
+  return answer;
+}
