@@ -11,7 +11,14 @@ import { join } from "node:path";
 import { eq } from "drizzle-orm";
 import request from "supertest";
 import { inject } from "vitest";
-import { openDatabase, type Database, type EmbeddedDatabase } from "../../db/client";
+import { randomBytes } from "node:crypto";
+import {
+  openDatabase,
+  openServerDatabase,
+  type Database,
+  type EmbeddedDatabase,
+  type OpenDatabase,
+} from "../../db/client";
 import { migrateDatabase } from "../../db/migrate";
 import { demoPeople, demoStudy, seedDemo } from "../../db/seed";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
@@ -62,6 +69,29 @@ export async function openTemplateDatabase(dataDir?: string): Promise<EmbeddedDa
   return database;
 }
 
+/**
+ * In the `api-pg` project (tests/api/pg-global-setup.ts): a fresh database
+ * on the test PostgreSQL server, copied from the migrated template, dropped
+ * again on close. Elsewhere: null.
+ */
+export async function openServerTestDatabase(): Promise<OpenDatabase | null> {
+  const postgres = inject("postgres");
+  if (!postgres) return null;
+  const { createDatabase, dropDatabase } = await import("../support/postgres-server");
+  const name = `covarion_test_${randomBytes(6).toString("hex")}`;
+  const database = await openServerDatabase(
+    await createDatabase(postgres.adminUrl, name, postgres.template),
+  );
+  await migrateDatabase(database.db);
+  return {
+    ...database,
+    async close() {
+      await database.close();
+      await dropDatabase(postgres.adminUrl, name);
+    },
+  };
+}
+
 export async function createTestApp(options: TestAppOptions = {}): Promise<TestApp> {
   const server: Server = createServer();
   await new Promise<void>((resolve) => server.listen(0, "127.0.0.1", resolve));
@@ -76,7 +106,9 @@ export async function createTestApp(options: TestAppOptions = {}): Promise<TestA
     ...options.env,
   });
   applyRequestTimeouts(server, config.requestTimeouts);
-  const database = await openTemplateDatabase(options.dataDir);
+  const database =
+    (options.dataDir ? null : await openServerTestDatabase()) ??
+    (await openTemplateDatabase(options.dataDir));
   let offset = 0;
   const clock = () => new Date(Date.now() + offset);
   if (options.seed !== false) await seedDemo(database.db, { now: clock() });
