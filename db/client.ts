@@ -113,8 +113,11 @@ export async function openServerDatabase(
 ): Promise<ServerDatabase> {
   const log = options.log ?? ((error, context) => console.error(`[covarion] ${context}:`, error));
   const pool = new pg.Pool({ connectionString: url, max: options.maxConnections ?? 10 });
+  let closed = false;
   // An idle connection the server closes must not crash the process; the pool replaces it.
-  pool.on("error", (error) => log(error, "database connection"));
+  pool.on("error", (error) => {
+    if (!closed) log(error, "database connection");
+  });
   try {
     await pool.query("select 1");
   } catch (error) {
@@ -124,7 +127,6 @@ export async function openServerDatabase(
   const db: Database = drizzleNodePg({ client: pool, schema });
   const events = new ServerHub(url, log);
   internals.set(db, { driver: { kind: "server", pool }, events });
-  let closed = false;
   return {
     kind: "server",
     db,

@@ -1,6 +1,7 @@
 /**
  * Starts Covarion: reads the configuration, takes the data directory's
- * lock, opens and migrates the database, seeds the demo on first start,
+ * lock (embedded database only: with DATABASE_URL any number of processes
+ * share the PostgreSQL server), opens and migrates the database, seeds the demo on first start,
  * starts the local mail and identity fakes outside production, listens
  * (with the time limits on receiving a request, server/http/request-timeouts.ts),
  * prints the address, and shuts down cleanly on SIGINT/SIGTERM (stops
@@ -11,10 +12,12 @@
  * At start, fits a previous process left queued or running are re-queued
  * (a fit is deterministic, so it gives the numbers it would have given); a
  * fit interrupted by shutdown stays "running" in the table until then.
+ * On a PostgreSQL server another process may be running the fits this one
+ * finds unfinished, so they are not taken over at start there.
  */
 import { existsSync } from "node:fs";
 import type { Server } from "node:http";
-import { openDatabase, type OpenDatabase } from "../db/client";
+import { openConfiguredDatabase, type OpenDatabase } from "../db/client";
 import { migrateDatabase } from "../db/migrate";
 import { seedDemo } from "../db/seed";
 import { seedDemoDatasets } from "../db/seed/demo-datasets";
@@ -58,10 +61,10 @@ async function main(): Promise<void> {
     // Variables already set in the environment win over the .env file.
     if (existsSync(".env")) process.loadEnvFile(".env");
     const config = loadConfig();
-    lock = await acquireDataLock(config.dataDir);
+    if (!config.databaseUrl) lock = await acquireDataLock(config.dataDir);
     process.once("SIGINT", () => void stop(0));
     process.once("SIGTERM", () => void stop(0));
-    database = await openDatabase({ dataDir: config.databaseDir });
+    database = await openConfiguredDatabase(config);
     await migrateDatabase(database.db);
     // A dataset version left half-stored by a stop in the middle of an upload is never read; remove it now.
     const leftovers = await removeIncompleteVersions(database.db);
@@ -90,14 +93,16 @@ async function main(): Promise<void> {
       server?.once("error", reject);
     });
     console.log(
-      `Covarion is running at ${config.publicUrl} (data in ${config.dataDir}${config.demo ? ", demo mode" : ""}).`,
+      `Covarion is running at ${config.publicUrl} (${config.databaseUrl ? `database ${redactedUrl(config.databaseUrl)}` : `data in ${config.dataDir}`}${config.demo ? ", demo mode" : ""}).`,
     );
     if (services.mailFake) console.log(`Local mailbox: ${config.publicUrl}/mailbox`);
-    const requeued = await fitJobs.recover();
-    if (requeued.length > 0)
-      console.log(
-        `Covarion: re-queued ${requeued.length} fit(s) left unfinished by the previous run.`,
-      );
+    if (database.kind === "embedded") {
+      const requeued = await fitJobs.recover();
+      if (requeued.length > 0)
+        console.log(
+          `Covarion: re-queued ${requeued.length} fit(s) left unfinished by the previous run.`,
+        );
+    }
   } catch (error) {
     if (error instanceof ConfigError || error instanceof DataLockError) {
       console.error(`Covarion cannot start: ${error.message}`);
@@ -109,6 +114,17 @@ async function main(): Promise<void> {
       console.error("Covarion cannot start:", error);
     }
     await stop(1);
+  }
+}
+
+/** A database address without its password, for the log. */
+function redactedUrl(url: string): string {
+  try {
+    const parsed = new URL(url);
+    if (parsed.password) parsed.password = "***";
+    return parsed.toString();
+  } catch {
+    return "(unreadable address)";
   }
 }
 
