@@ -69,6 +69,7 @@ import {
   statisticRuns,
 } from "../../contract/results-sentences";
 import type { RegionResult } from "../../contract/spec";
+import type { ResultsSentenceView } from "../../contract/views/manuscript";
 import { inferenceOf, regionsOf } from "./fit-exports";
 
 export interface ManuscriptOptions {
@@ -79,11 +80,7 @@ export interface ManuscriptOptions {
 }
 
 /** A region's results sentence: plain text (clipboard) and runs with italics (screen, documents). */
-export interface RegionSentence {
-  region: string;
-  text: string;
-  runs: TextRun[];
-}
+export type RegionSentence = ResultsSentenceView;
 
 type Cell = TextRun[];
 interface ManuscriptTable {

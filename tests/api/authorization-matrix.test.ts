@@ -389,6 +389,27 @@ const matrix: Record<string, Row> = {
     expected: members(200),
     data: true,
   },
+  // Manuscript tables and results sentences: every member; set-aside ids in the notes follow fits.participants.read (tests/api/manuscript-tables.test.ts).
+  "GET /api/fits/:fitId/regions.md": {
+    path: (f) => `/api/fits/${f.fitId}/regions.md`,
+    expected: members(200),
+    data: true,
+  },
+  "GET /api/fits/:fitId/regions.tex": {
+    path: (f) => `/api/fits/${f.fitId}/regions.tex`,
+    expected: members(200),
+    data: true,
+  },
+  "GET /api/fits/:fitId/regions.docx": {
+    path: (f) => `/api/fits/${f.fitId}/regions.docx`,
+    expected: members(200),
+    data: true,
+  },
+  "GET /api/fits/:fitId/sentences": {
+    path: (f) => `/api/fits/${f.fitId}/sentences`,
+    expected: members(200),
+    data: true,
+  },
   "POST /api/fits/:fitId/approve": {
     path: (f) => `/api/fits/${f.fitId}/approve`,
     expected: {
