@@ -13,6 +13,7 @@ import { Badge, Button, Failure, Heading, Notice, Pending, Txt } from "../ui";
 import { fonts, palette, radius, space, type } from "../theme";
 import { copyText } from "./clipboard";
 import { publishState } from "./publish-state";
+import { ReportDownload } from "./report-download";
 import { useMe } from "../../hooks/use-me";
 import { can, useStudy } from "../../hooks/use-study";
 import type { FitView } from "../../hooks/use-fits";
@@ -71,6 +72,7 @@ export function PublishPanel({ fit }: { fit: FitView }) {
           SHA-256 of the recipe and result: {state.hash.full}
         </Txt>
       ) : null}
+      <ReportDownload fit={fit} />
       {state.signOffNote ? (
         <Txt kind="caption" style={styles.hint} testID="single-person-sign-off">
           {state.signOffNote}
