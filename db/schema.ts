@@ -591,3 +591,60 @@ export const plans = pgTable(
 );
 
 export type PlanRow = typeof plans.$inferSelect;
+
+// ─── Fits on a job queue (PostgreSQL server only; server/worker/) ───
+
+/**
+ * A fit whose permutation test runs as chunks on worker processes: how many
+ * chunks it has (region chunks × rearrangement blocks,
+ * server/stats/permutation-kernel.ts) and when its result was merged. The
+ * row is written once by the worker that plans the fit; `mergedAt` is set
+ * once, by the one party that merges (under the fit's advisory lock).
+ */
+export const fitRuns = pgTable("fit_runs", {
+  fitId: text("fit_id")
+    .primaryKey()
+    .references(() => fits.id, { onDelete: "cascade" }),
+  chunks: integer("chunks").notNull(),
+  plannedAt: timestamp("planned_at", { mode: "date", withTimezone: true }).notNull(),
+  mergedAt: timestamp("merged_at", { mode: "date", withTimezone: true }),
+});
+
+/**
+ * One computed chunk of a fit's permutation test, written once (a retried
+ * chunk whose row exists adds nothing). The arrays are little-endian
+ * binary as base64 text: `counts` Float64 per region of the chunk,
+ * `maxAbs` Float64 per rearrangement of its block (max-T), `nulls` Float32
+ * region after region (kept null statistics).
+ */
+export const fitChunks = pgTable(
+  "fit_chunks",
+  {
+    fitId: text("fit_id")
+      .notNull()
+      .references(() => fits.id, { onDelete: "cascade" }),
+    chunk: integer("chunk").notNull(),
+    regionFrom: integer("region_from").notNull(),
+    block: integer("block").notNull(),
+    counts: text("counts").notNull(),
+    maxAbs: text("max_abs"),
+    nulls: text("nulls"),
+    exact: boolean("exact").notNull(),
+    rearrangements: integer("rearrangements").notNull(),
+    workerId: text("worker_id").notNull(),
+    computedAt: timestamp("computed_at", { mode: "date", withTimezone: true }).notNull(),
+  },
+  (t) => [
+    primaryKey({ columns: [t.fitId, t.chunk] }),
+    index("fit_chunks_worker_idx").on(t.workerId, t.computedAt),
+  ],
+);
+
+/** A worker process (`npm run worker`): its heartbeat, refreshed every few seconds while it runs. */
+export const workers = pgTable("workers", {
+  id: text("id").primaryKey(),
+  host: text("host").notNull(),
+  pid: integer("pid").notNull(),
+  startedAt: timestamp("started_at", { mode: "date", withTimezone: true }).notNull(),
+  seenAt: timestamp("seen_at", { mode: "date", withTimezone: true }).notNull(),
+});
