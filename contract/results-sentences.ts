@@ -405,16 +405,23 @@ export function runsPlain(runs: readonly TextRun[]): string {
   return runs.map((r) => (r.script === "sub" ? `_${r.text}` : r.text)).join("");
 }
 
-/** Characters Markdown would read as marks, escaped with a backslash. */
+/** Inline marks of Markdown escaped: \ ` * _ | ~, and `<` where it could open an HTML tag ("p < .001" stays). */
+function escapeInline(text: string): string {
+  return text.replace(/[\\`*_|~]|<(?=[A-Za-z/!?])/g, (c) => `\\${c}`);
+}
+
+/** Text from outside (a region name) for a Markdown cell: inline marks, brackets, and `#` or `>` at the start escaped. */
 export function escapeMarkdown(text: string): string {
-  return text.replace(/[\\`*_|<>[\]~#]/g, (c) => `\\${c}`);
+  return escapeInline(text)
+    .replace(/[[\]]/g, (c) => `\\${c}`)
+    .replace(/^([#>])/, "\\$1");
 }
 
 /** Markdown: `*t*`, `<sub>adj</sub>`, `<sup>+</sup>` (sub- and superscripts as HTML, which common Markdown renderers pass). */
 export function runsMarkdown(runs: readonly TextRun[]): string {
   return runs
     .map((r) => {
-      const text = r.text.replace(/[\\`*_|<>~#]/g, (c) => `\\${c}`);
+      const text = escapeInline(r.text);
       const marked = r.italic ? `*${text}*` : text;
       return r.script === "sub"
         ? `<sub>${marked}</sub>`

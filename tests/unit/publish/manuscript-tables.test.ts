@@ -13,6 +13,7 @@ import { unzipSync } from "fflate";
 import { afterEach, describe, expect, it, vi } from "vitest";
 import type { Fit } from "../../../db/schema";
 import {
+  escapeMarkdown,
   estimateCell,
   pCell,
   sentenceContextOf,
@@ -84,9 +85,7 @@ describe("region tables", () => {
     const ctx = sentenceContextOf(fit.result as never, fit.recipe as never);
     const lines = md.split("\n");
     for (const r of (fit.result as { regions: RegionResult[] }).regions) {
-      const row = lines.find((l) =>
-        l.startsWith(`| ${r.region.replace(/[\\`*_|<>[\]~#]/g, (c) => `\\${c}`)} |`),
-      );
+      const row = lines.find((l) => l.startsWith(`| ${escapeMarkdown(r.region)} |`));
       expect(row, r.region).toBeDefined();
       expect(row).toContain(estimateCell(r, ctx));
       expect(row).toContain(`*t*(${r.df}) = `);

@@ -13,6 +13,7 @@ import {
   type SentenceContext,
   type TextRun,
   escapeLatex,
+  escapeMarkdown,
   formatBounded,
   formatDf,
   formatRaw,
@@ -345,6 +346,18 @@ describe("results sentences (APA 7th ed., 6.36, 6.43, 6.44, from memory)", () =>
     ).toEqual(
       ctx({ inference: "permutation", correction: "maxt", adjusted: true, weighted: false }),
     );
+  });
+});
+
+describe("Markdown escapes (common practice, no source)", () => {
+  it("leaves p < .001 alone and escapes marks in region names", () => {
+    const runs = resultsSentence(
+      region({ r: 0.52, rCiLow: 0.31, rCiHigh: 0.68, p: 0.0004 }),
+      ctx({}),
+    );
+    expect(runsMarkdown(runs)).toBe("*r*(58) = .52, 95% CI [.31, .68], *p* < .001");
+    expect(escapeMarkdown("L_a*b|c [d] <em>")).toBe("L\\_a\\*b\\|c \\[d\\] \\<em>");
+    expect(escapeMarkdown("# top")).toBe("\\# top");
   });
 });
 
