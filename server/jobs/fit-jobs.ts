@@ -31,7 +31,11 @@
  *
  * Listeners (the server-sent events route) receive every progress and
  * status change of a fit as it happens; `subscribeAll` listeners (the
- * e-mail notices) those of every fit.
+ * e-mail notices) those of every fit this process runs. With an `events`
+ * relay (a channel on the database, see `createFitJobs`) a fit's listeners
+ * in every process on the same database receive its events, whichever
+ * process runs it, and a fit cancelled in one process stops in the one
+ * that runs it.
  */
 import { availableParallelism } from "node:os";
 import { MessageChannel } from "node:worker_threads";
@@ -119,8 +123,16 @@ export interface FitEvent {
   error: { code: string; message: string } | null;
 }
 
+/** Carries fit events to every process on the database, this one included. */
+export interface FitEventRelay {
+  publish(event: FitEvent): void;
+  subscribe(handler: (event: FitEvent) => void): () => void;
+}
+
 export interface FitJobsOptions {
   store: FitJobStore;
+  /** Without it, a fit's events reach only this process's listeners. */
+  events?: FitEventRelay;
   data: FitDataSource;
   /** Worker threads (default: available parallelism − 1, at least 1). */
   threads?: number;
@@ -171,6 +183,8 @@ export class FitJobs {
   private readonly pending = new Set<Promise<void>>();
   private readonly listeners = new Map<string, Set<(e: FitEvent) => void>>();
   private readonly everyFit = new Set<(e: FitEvent) => void>();
+  private readonly events: FitEventRelay | null;
+  private readonly stopRelay: () => void;
   private closed = false;
 
   constructor(options: FitJobsOptions) {
@@ -183,6 +197,14 @@ export class FitJobs {
     this.progressWriteMs = options.progressWriteMs ?? 500;
     this.data = options.data;
     this.warm = options.warm ?? false;
+    this.events = options.events ?? null;
+    this.stopRelay =
+      this.events?.subscribe((event) => {
+        // Cancelled in another process: stop computing here too (the fit is already marked).
+        if (event.status === "cancelled")
+          this.running.get(event.fitId)?.controller.abort(new Error("cancelled"));
+        this.deliver(event);
+      }) ?? (() => {});
     if (this.warm) this.getPool();
   }
 
@@ -289,6 +311,7 @@ export class FitJobs {
   /** Aborts running tasks and stops the worker threads (fits stay queued/running in the table for the next start). */
   async close(): Promise<void> {
     this.closed = true;
+    this.stopRelay();
     for (const run of this.running.values()) run.controller.abort(new Error("shutting down"));
     await Promise.allSettled([...this.pending]);
     const pool = this.pool;
@@ -307,8 +330,19 @@ export class FitJobs {
     return this.pool;
   }
 
+  /** A fit this process runs changed: its `subscribeAll` listeners here, its listeners everywhere. */
   private emit(event: FitEvent): void {
-    for (const listener of [...(this.listeners.get(event.fitId) ?? []), ...this.everyFit]) {
+    if (this.events) this.events.publish(event);
+    else this.deliver(event);
+    this.tell([...this.everyFit], event);
+  }
+
+  private deliver(event: FitEvent): void {
+    this.tell([...(this.listeners.get(event.fitId) ?? [])], event);
+  }
+
+  private tell(listeners: Iterable<(e: FitEvent) => void>, event: FitEvent): void {
+    for (const listener of listeners) {
       try {
         listener(event);
       } catch (error) {

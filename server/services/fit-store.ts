@@ -10,12 +10,15 @@
  * cancelled. Each write names the statuses it may move from, so a fit
  * cancelled while it runs is never marked done or failed afterwards, and
  * a write that finds the fit already finished changes nothing and says so.
- * `createFitJobs` is the one way the server and the tests start fit jobs.
+ * `createFitJobs` is the one way the server and the tests start fit jobs;
+ * their events travel on a database channel (`fitEvents`), so a fit's
+ * live events reach every process on a PostgreSQL server.
  */
 import { and, eq, inArray, sql } from "drizzle-orm";
-import type { Database, Queryable } from "../../db/client";
+import { type Channel, channel, type Database, type Queryable } from "../../db/client";
 import { type Fit, fitRegions, fits } from "../../db/schema";
 import {
+  type FitEvent,
   FitJobs,
   type FitJobsOptions,
   type FitJobStore,
@@ -199,9 +202,19 @@ export class FitStore implements FitJobStore {
 }
 
 /** Fit jobs on `db`: its store and its cache of built fit data. */
+/** The database channel fit events travel on, to every process on the database (db/client.ts). */
+export function fitEvents(db: Database): Channel<FitEvent> {
+  return channel<FitEvent>(db, "covarion_fit_events");
+}
+
 export function createFitJobs(
   db: Database,
   options: Omit<FitJobsOptions, "store" | "data"> = {},
 ): FitJobs {
-  return new FitJobs({ ...options, store: new FitStore(db), data: new FitDataCache(db) });
+  return new FitJobs({
+    events: fitEvents(db),
+    ...options,
+    store: new FitStore(db),
+    data: new FitDataCache(db),
+  });
 }
