@@ -28,11 +28,11 @@
  * (and, unlike removing the estimated effect, needs no model to be right).
  */
 import { curveKind } from "../../../contract/fit-rules";
-import type { ModelSpec, FitResult } from "../../../contract/spec";
+import type { FitData, FitResult, ModelSpec } from "../../../contract/spec";
 import { type CurveSpecification, curveChoices } from "../../../contract/specification-curve";
 import { meetsRule, ruleText } from "../../../contract/exclusion-rules";
 import { shuffleInPlace } from "../rearrangements";
-import { createRng } from "../rng";
+import { createBlockRng, createRng, type Rng } from "../rng";
 import {
   type CurveStatistics,
   curveStatistics,
@@ -299,6 +299,100 @@ function fitOne(prep: Prepared, r: number) {
   return estimateRegionWork(prep, r, new Map()).result;
 }
 
+/** Null draws per block when a fit records rearrangementStreams "blocks-v1". */
+export const CURVE_BLOCK_DRAWS = 25;
+
+/**
+ * The null draws of the joint test: `draw(rng, count, out, onDraw)` makes
+ * `count` null data sets, each from one random permutation of the trait
+ * (or group labels) taken from `rng` (shuffleInPlace of 0…N−1), re-runs
+ * every specification on it and appends the curve's statistics to `out`.
+ * With one stream (recipes without rearrangementStreams) all draws come
+ * from createRng(seed); with "blocks-v1" draw d belongs to block
+ * ⌊d / CURVE_BLOCK_DRAWS⌋, whose permutations come from
+ * createBlockRng(seed, block) — so blocks can be made apart (threads,
+ * worker processes) and give the same numbers.
+ */
+function nullDrawer(
+  prep: Prepared,
+  choices: readonly Choice[],
+): (rng: Rng, count: number, out: CurveStatistics[], onDraw?: () => void) => void {
+  const s = prep.spec;
+  const r = prep.regionIndex[0];
+  const region = prep.data.regions[r];
+  const question = curveKind(s);
+  const K = choices.length;
+  const n = prep.data.participants.length;
+  const perm = new Int32Array(n);
+  const estimates = new Float64Array(K);
+  const ps = new Float64Array(K);
+  const trait =
+    question === "association"
+      ? (prep.data.numericColumns[s.predictor as string] as readonly (number | null)[])
+      : null;
+  const groupColumn = choices[0]?.prep.group ?? null;
+  const fast = trait
+    ? choices.map((c) =>
+        inRegion(region, () => fastNull(c.prep, r, trait) ?? swappedNull(c.prep, r, trait)),
+      )
+    : [];
+  return (rng, count, out, onDraw) => {
+    for (let d = 0; d < count; d++) {
+      for (let i = 0; i < n; i++) perm[i] = i;
+      shuffleInPlace(perm, rng);
+      const permuted =
+        question === "association"
+          ? { predictor: Array.from(perm, (j) => (trait as readonly (number | null)[])[j]) }
+          : { group: Array.from(perm, (j) => (groupColumn as readonly (string | null)[])[j]) };
+      inRegion(region, () => {
+        for (let k = 0; k < K; k++) {
+          const quick = fast[k];
+          if (quick) {
+            const res = quick(perm);
+            estimates[k] = res.estimate;
+            ps[k] = res.p;
+            continue;
+          }
+          const res = fitOne({ ...choices[k].prep, ...permuted }, r);
+          estimates[k] = res.estimate;
+          ps[k] = res.p;
+        }
+      });
+      out.push(curveStatistics(estimates, ps));
+      onDraw?.();
+    }
+  };
+}
+
+/**
+ * The null statistics of block `block` of a curve fit recording
+ * rearrangementStreams "blocks-v1" (draws block·CURVE_BLOCK_DRAWS onwards,
+ * at most CURVE_BLOCK_DRAWS of them), for a caller that makes blocks apart
+ * and merges them: the joint test's p-values count null draws, so they do
+ * not depend on the order blocks are merged in. Cost: one block's share of
+ * the joint test plus preparing the specifications once.
+ */
+export function curveNullBlock(spec: ModelSpec, data: FitData, block: number): CurveStatistics[] {
+  const prep = prepare(spec, data);
+  const s = prep.spec;
+  if (s.kind !== "specification-curve" || s.inference !== "permutation")
+    fail("null blocks belong to a specification curve with the joint test");
+  if (s.rearrangementStreams !== "blocks-v1")
+    fail('null blocks need a fit that records rearrangementStreams "blocks-v1"');
+  const first = block * CURVE_BLOCK_DRAWS;
+  if (!Number.isInteger(block) || block < 0 || first >= s.resamples)
+    fail(`block ${block} is outside the fit's ${s.resamples} null draws`);
+  const region = prep.data.regions[prep.regionIndex[0]];
+  const choices = inRegion(region, () => choicesOf(prep));
+  const out: CurveStatistics[] = [];
+  nullDrawer(prep, choices)(
+    createBlockRng(s.seed, block),
+    Math.min(CURVE_BLOCK_DRAWS, s.resamples - first),
+    out,
+  );
+  return out;
+}
+
 /**
  * Runs the curve. Cost: K = estimators × covariate sets × 2^rules ordinary
  * single-region fits, times (resamples + 1) with the joint test.
@@ -335,47 +429,21 @@ export function runSpecificationCurve(prep: Prepared, options: RunFitOptions): F
   let jointTest: FitResult["jointTest"];
   if (s.inference === "permutation") {
     const m = s.resamples;
-    const n = prep.data.participants.length;
-    const rng = createRng(s.seed);
-    const perm = new Int32Array(n);
-    const estimates = new Float64Array(K);
-    const ps = new Float64Array(K);
+    const draw = nullDrawer(prep, choices);
     const nulls: CurveStatistics[] = [];
-    const trait =
-      question === "association"
-        ? (prep.data.numericColumns[s.predictor as string] as readonly (number | null)[])
-        : null;
-    const groupColumn = choices[0]?.prep.group ?? null;
-    const fast = trait
-      ? choices.map((c) =>
-          inRegion(region, () => fastNull(c.prep, r, trait) ?? swappedNull(c.prep, r, trait)),
-        )
-      : [];
-    for (let d = 0; d < m; d++) {
+    const onDraw = () => {
       if (shouldCancel?.()) cancelled();
-      for (let i = 0; i < n; i++) perm[i] = i;
-      shuffleInPlace(perm, rng);
-      const permuted =
-        question === "association"
-          ? { predictor: Array.from(perm, (j) => (trait as readonly (number | null)[])[j]) }
-          : { group: Array.from(perm, (j) => (groupColumn as readonly (string | null)[])[j]) };
-      inRegion(region, () => {
-        for (let k = 0; k < K; k++) {
-          const quick = fast[k];
-          if (quick) {
-            const res = quick(perm);
-            estimates[k] = res.estimate;
-            ps[k] = res.p;
-            continue;
-          }
-          const res = fitOne({ ...choices[k].prep, ...permuted }, r);
-          estimates[k] = res.estimate;
-          ps[k] = res.p;
-        }
-      });
-      nulls.push(curveStatistics(estimates, ps));
-      onProgress?.(Math.min(1, (d + 1) / m));
-    }
+      onProgress?.(Math.min(1, nulls.length / m));
+    };
+    if (s.rearrangementStreams === "blocks-v1")
+      for (let b = 0; b * CURVE_BLOCK_DRAWS < m; b++)
+        draw(
+          createBlockRng(s.seed, b),
+          Math.min(CURVE_BLOCK_DRAWS, m - b * CURVE_BLOCK_DRAWS),
+          nulls,
+          onDraw,
+        );
+    else draw(createRng(s.seed), m, nulls, onDraw);
     const obs = curveStatistics(
       specifications.map((x) => x.estimate),
       specifications.map((x) => x.p),
@@ -388,7 +456,7 @@ export function runSpecificationCurve(prep: Prepared, options: RunFitOptions): F
       ...jointPValues(obs, nulls),
     };
     notes.push(
-      `Joint test: ${m} null data sets, each made by permuting ${question === "association" ? `the trait '${s.predictor}'` : `the group labels of '${s.group}'`} across participants (each keeps their brain value, covariates and exclusion-column values), every specification re-run on each; p = (b + 1)/(m + 1) for the median estimate, the share significant in the dominant direction and Stouffer's Z.`,
+      `Joint test: ${m} null data sets, each made by permuting ${question === "association" ? `the trait '${s.predictor}'` : `the group labels of '${s.group}'`} across participants (each keeps their brain value, covariates and exclusion-column values)${s.rearrangementStreams === "blocks-v1" ? `, the permutations drawn in blocks of ${CURVE_BLOCK_DRAWS}, each block from its own stream of seed ${s.seed}` : `, the permutations drawn from seed ${s.seed}`}, every specification re-run on each; p = (b + 1)/(m + 1) for the median estimate, the share significant in the dominant direction and Stouffer's Z.`,
     );
   }
   specifications.sort((a, b) => a.estimate - b.estimate);
