@@ -43,6 +43,7 @@ import type { RouteDeps } from "./routes/deps";
 import { devRoutes } from "./routes/dev";
 import { fitRoutes } from "./routes/fits";
 import { fitExportRoutes } from "./routes/fit-exports";
+import { fitFigureRoutes } from "./routes/fit-figures";
 import { fitReportRoutes } from "./routes/fit-report";
 import { fitSealingRoutes } from "./routes/fit-sealing";
 import { invitationRoutes } from "./routes/invitations";
@@ -195,6 +196,7 @@ export function createApp(deps: AppDeps): Express {
   app.use("/api", modelRoutes(routeDeps, fitJobs.data));
   app.use("/api", fitRoutes(routeDeps, fitJobs));
   app.use("/api", fitExportRoutes(routeDeps));
+  app.use("/api", fitFigureRoutes(routeDeps));
   app.use("/api", fitReportRoutes(routeDeps, fitJobs));
   app.use("/api", fitSealingRoutes(routeDeps, fitJobs, notices));
   app.use("/api", noticeRoutes(routeDeps));

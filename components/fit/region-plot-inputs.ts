@@ -19,6 +19,16 @@ export function dataPlotKind(detail: Pick<RegionDetail, "kind">): "scatter" | "s
   return detail.kind === "association" ? "scatter" : "strip";
 }
 
+/** The scatter plot's title for a trait. */
+export function scatterTitle(trait: string | null): string {
+  return `${trait ?? "trait"} and the contrast value`;
+}
+
+/** The strip plot's title: one sample around zero, or two groups. */
+export function stripTitle(single: boolean): string {
+  return single ? "Contrast values around zero" : "Contrast values by group";
+}
+
 function setAsideIds(detail: RegionDetail): Set<string> {
   return new Set((detail.setAside ?? []).map((s) => s.participant));
 }
@@ -33,7 +43,7 @@ export function scatterInputOf(detail: RegionDetail): {
   const points = detail.points ?? [];
   const line = detail.band?.lines[0];
   return {
-    title: `${detail.axes.x} and the contrast value`,
+    title: scatterTitle(detail.axes.x),
     input: {
       points: points.map((p) => ({
         id: p.participant,
@@ -83,7 +93,7 @@ export function stripInputOf(detail: RegionDetail): {
         ];
   const single = groups.length === 1;
   return {
-    title: single ? "Contrast values around zero" : "Contrast values by group",
+    title: stripTitle(single),
     input: {
       groups,
       points: points.map((p) => ({

@@ -389,6 +389,17 @@ const matrix: Record<string, Row> = {
     expected: members(200),
     data: true,
   },
+  // Figures: the fixture study is not restricted, so every member downloads the participant plots too (a restricted study's Viewer gets 403, tests/api/figures.test.ts).
+  "GET /api/fits/:fitId/figures": {
+    path: (f) => `/api/fits/${f.fitId}/figures`,
+    expected: members(200),
+    data: true,
+  },
+  "GET /api/fits/:fitId/figures/:file": {
+    path: (f) => `/api/fits/${f.fitId}/figures/L_dlpfc-influence.svg`,
+    expected: members(200),
+    data: true,
+  },
   // Manuscript tables and results sentences: every member; set-aside ids in the notes follow fits.participants.read (tests/api/manuscript-tables.test.ts).
   "GET /api/fits/:fitId/regions.md": {
     path: (f) => `/api/fits/${f.fitId}/regions.md`,

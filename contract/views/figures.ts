@@ -1,0 +1,24 @@
+/**
+ * The API's view of a fit's figures (GET /api/fits/:fitId/figures): one
+ * entry per figure that can be downloaded, named stably — `forest`,
+ * `<region>-scatter` or `<region>-strip`, `<region>-influence`,
+ * `<region>-null`. Each downloads as `…/figures/:name.svg`,
+ * `…/:name.png?width=89|183` and its caption as `…/:name.txt`.
+ */
+
+/** The journals' usual figure widths in millimetres: one column, two columns (common practice of journals, no single source). */
+export const figureWidths = [89, 183] as const;
+export type FigureWidth = (typeof figureWidths)[number];
+
+/** What a figure draws. */
+export const figureKinds = ["forest", "scatter", "strip", "influence", "null"] as const;
+export type FigureKind = (typeof figureKinds)[number];
+
+export interface FigureSummary {
+  /** Stable name, used in the download addresses. */
+  name: string;
+  kind: FigureKind;
+  title: string;
+  /** The regions the figure draws (every region for the forest plot). */
+  regions?: string[];
+}

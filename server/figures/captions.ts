@@ -1,0 +1,133 @@
+/**
+ * The caption of a figure, in plain text: what is drawn, N, the estimator,
+ * the interval, the inference and correction, what the marks and flags
+ * mean, and how many participants were set aside (and that they are left
+ * out of the numbers). Uses the model's words from contract/labels.ts and
+ * the methods paragraph's counting words (contract/methods-text.ts).
+ */
+import { cutLegend } from "../../components/charts/influence-layout";
+import { roleLabel, roleShape } from "../../components/charts/marks";
+import { formatCount, formatValue } from "../../components/charts/number-format";
+import { pPhrase } from "../../components/fit/p-text";
+import { influenceNote } from "../../components/fit/region-plot-inputs";
+import { correctionWords, estimatorWords, inferenceWords } from "../../contract/labels";
+import { count } from "../../contract/methods-text";
+import type { ModelSpec, RegionResult } from "../../contract/spec";
+import type { Flag } from "../../contract/spec";
+
+export interface CaptionContext {
+  spec: ModelSpec;
+  /** Interval level, e.g. 0.95. */
+  level: number;
+  fitId: string;
+}
+
+function percent(level: number): string {
+  return `${Math.round(level * 100)}%`;
+}
+
+/** How the estimate and its interval were obtained: "Huber M-estimation; permutation inference; Holm correction over regions." */
+export function methodLine(ctx: CaptionContext): string {
+  const { spec } = ctx;
+  return `Estimator: ${estimatorWords[spec.estimator]}. Inference: ${inferenceWords[spec.inference]}; ${correctionWords[spec.correction]}.`;
+}
+
+/** Participants set aside from `region` (every region when null) in this fit, with the words saying they are left out. */
+export function setAsideLine(spec: ModelSpec, region: string | null): string {
+  const n =
+    region === null
+      ? new Set(spec.setAside.map((s) => s.participant)).size
+      : new Set(
+          spec.setAside
+            .filter((s) => s.region === undefined || s.region === region)
+            .map((s) => s.participant),
+        ).size;
+  if (n === 0) return "No participant was set aside.";
+  return `${count(n, "participant")} set aside before this fit (each with a written reason in the fit's record) ${n === 1 ? "is" : "are"} left out of every number shown.`;
+}
+
+function flagMeaning(flags: readonly Flag[]): string {
+  if (flags.length === 0) return "";
+  const words = flags.map((f) => `${roleShape[f]} = ${roleLabel[f]} (${cutLegend[f]})`);
+  return `Flag shapes: ${words.join("; ")}; circles: participants not flagged; hollow marks: participants set aside.`;
+}
+
+function resultLine(r: RegionResult, level: number): string {
+  const ci =
+    r.ciLow !== null && r.ciHigh !== null
+      ? `, ${percent(level)} CI ${formatValue(r.ciLow)} to ${formatValue(r.ciHigh)}`
+      : "";
+  return `Estimate ${formatValue(r.estimate)}${ci}; ${pPhrase(r.p)}, adjusted ${pPhrase(r.pAdjusted)}; N = ${formatCount(r.n)}.`;
+}
+
+function source(ctx: CaptionContext): string {
+  return `Drawn by Covarion from fit ${ctx.fitId}.`;
+}
+
+/** Caption of the forest plot of `regions`. */
+export function forestCaption(
+  ctx: CaptionContext,
+  regions: readonly RegionResult[],
+  estimateLabel: string,
+): string {
+  const ns = regions.map((r) => r.n);
+  const lo = Math.min(...ns);
+  const hi = Math.max(...ns);
+  return [
+    `Forest plot of ${count(regions.length, "region")}: for each region the estimate (${estimateLabel.toLowerCase()}, square) and its ${percent(ctx.level)} confidence interval (whiskers); the dashed line marks zero. Regions in the fit's order.`,
+    lo === hi
+      ? `N = ${formatCount(lo)} participants per region.`
+      : `N = ${formatCount(lo)} to ${formatCount(hi)} participants per region.`,
+    methodLine(ctx),
+    setAsideLine(ctx.spec, null),
+    source(ctx),
+  ].join("\n");
+}
+
+/** Caption of a region's scatter or strip plot. */
+export function dataPlotCaption(
+  ctx: CaptionContext,
+  r: RegionResult,
+  kind: "scatter" | "strip",
+  what: { axis: string | null; note: string; flags: readonly Flag[]; bandMethod: string | null },
+): string {
+  const drawn =
+    kind === "scatter"
+      ? `Scatter plot of the contrast value in ${r.region} against ${what.axis ?? "the trait"}, one mark per participant, with the fitted line (${what.bandMethod ?? "least squares"}) and its ${percent(ctx.level)} confidence band.`
+      : ctx.spec.kind === "two-group"
+        ? `Strip plot of the contrast value in ${r.region} by group, one mark per participant, with each group's mean (bar) and ${percent(ctx.level)} confidence interval (whiskers); the dashed line marks zero. Horizontal offset within a group is for visibility only.`
+        : `Strip plot of the contrast value in ${r.region}, one mark per participant, with the mean (bar) and its ${percent(ctx.level)} confidence interval (whiskers); the dashed line marks zero. Horizontal offset is for visibility only.`;
+  return [
+    drawn,
+    resultLine(r, ctx.level),
+    methodLine(ctx),
+    flagMeaning(what.flags),
+    setAsideLine(ctx.spec, r.region),
+    source(ctx),
+  ]
+    .filter((l) => l.length > 0)
+    .join("\n");
+}
+
+/** Caption of a region's influence view. */
+export function influenceCaption(ctx: CaptionContext, r: RegionResult, flagged: number): string {
+  return [
+    `Who moves the estimate in ${r.region}: Cook's distance, leverage and the size of the studentized residual of each of ${count(r.n, "participant")}, largest Cook's distance first; ${count(flagged, "participant")} flagged, named by their ids.`,
+    influenceNote,
+    flagMeaning(["outlier", "leverage", "influence"]),
+    setAsideLine(ctx.spec, r.region),
+    source(ctx),
+  ].join("\n");
+}
+
+/** Caption of a region's permutation null distribution. */
+export function nullCaption(ctx: CaptionContext, r: RegionResult, words: string): string {
+  return [
+    `Permutation null distribution of t in ${r.region}: a histogram of the statistic over the rearrangements of the data (bins at least as extreme as the observed value in a second colour), with the observed statistic as a vertical line.`,
+    `${words}.`,
+    resultLine(r, ctx.level),
+    methodLine(ctx),
+    setAsideLine(ctx.spec, r.region),
+    source(ctx),
+  ].join("\n");
+}

@@ -1,0 +1,88 @@
+/**
+ * The figures' worker thread (piscina, server/jobs/figure-task.ts), so the
+ * request thread never outlines text or rasterizes: outlining a figure
+ * takes tens of milliseconds, a 300-dpi PNG a hundred or more. One thread
+ * (a second would take the core the request thread needs on a 2-core
+ * machine); at most `maxWaiting` tasks wait behind the running one, more
+ * answer 429 `figures_busy`. The thread starts with the first task and
+ * ends after `idleMs` without one.
+ */
+import type { Piscina } from "piscina";
+import { HttpError } from "../http/errors";
+import type { FigureTask } from "./figure-task";
+import { workerPool } from "./worker-pool";
+
+export interface FigureJobsOptions {
+  /** Tasks that may wait behind the running one (default 16). */
+  maxWaiting?: number;
+  /** The thread ends after this long without a task (default 2 minutes). */
+  idleMs?: number;
+}
+
+export class FigureJobs {
+  private pool: Piscina | null = null;
+  private readonly maxWaiting: number;
+  private readonly idleMs: number;
+  private inFlight = 0;
+  private closed = false;
+
+  constructor(options: FigureJobsOptions = {}) {
+    this.maxWaiting = options.maxWaiting ?? 16;
+    this.idleMs = options.idleMs ?? 2 * 60_000;
+  }
+
+  /** The SVG with its text as outlines (see outline.ts). */
+  async outline(svg: string, kept: Record<string, Record<string, string>>): Promise<string> {
+    return (await this.run({ kind: "outline", svg, kept })) as string;
+  }
+
+  /** A PNG `widthMm` wide at `dpi` with its pHYs chunk. */
+  async png(svg: string, widthMm: number, dpi: number): Promise<Buffer> {
+    const bytes = (await this.run({ kind: "png", svg, widthMm, dpi })) as Uint8Array;
+    return Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  }
+
+  /** Stops the worker thread (tasks in flight are rejected). */
+  async close(): Promise<void> {
+    this.closed = true;
+    const pool = this.pool;
+    this.pool = null;
+    if (pool) await pool.destroy();
+  }
+
+  private async run(task: FigureTask): Promise<unknown> {
+    if (this.closed) throw new Error("FigureJobs: closed");
+    if (this.inFlight > this.maxWaiting) {
+      throw new HttpError(
+        429,
+        "figures_busy",
+        "Figures are being drawn for other requests; ask again in a moment.",
+      );
+    }
+    this.inFlight++;
+    try {
+      return await this.getPool().run(task);
+    } finally {
+      this.inFlight--;
+    }
+  }
+
+  private getPool(): Piscina {
+    if (!this.pool) {
+      this.pool = workerPool("figure-task.ts", {
+        minThreads: 0,
+        maxThreads: 1,
+        idleTimeout: this.idleMs,
+      });
+    }
+    return this.pool;
+  }
+}
+
+let shared: FigureJobs | null = null;
+
+/** The process's figure thread (created on first use; idle, it does not keep the process alive). */
+export function sharedFigureJobs(): FigureJobs {
+  shared ??= new FigureJobs();
+  return shared;
+}
