@@ -186,8 +186,12 @@ export function previewUpload(
   options: PreviewOptions = {},
   read: ReadOptions = {},
 ): TablePreview {
-  const preview = previewTable(readTable(bytes, file, read), kind, options);
-  const previewable = PREVIEWABLE[kind];
+  return checkPreviewable(previewTable(readTable(bytes, file, read), kind, options));
+}
+
+/** The preview when an upload may be previewed; else throws IntakeError (422) with every problem no decision can resolve. */
+export function checkPreviewable(preview: TablePreview): TablePreview {
+  const previewable = PREVIEWABLE[preview.kind];
   const blocking = preview.problems.filter((p) => !previewable.has(p.code));
   if (blocking.length > 0) {
     const total =

@@ -8,9 +8,11 @@
  *
  * One pool per process, started with the first upload: as many threads as
  * cores less one (at least one), ended after a minute without work (idle
- * threads never keep the process alive). Uploads are at most 50 MB
- * (DEFAULT_MAX_BYTES), which caps a task's time. A refusal of the file
- * comes back as the IntakeError it was in the worker.
+ * threads never keep the process alive). An upload is handed over as
+ * the path of its file on disk (the worker reads it, intake-file.ts) and
+ * is at most MAX_UPLOAD_MB (server/config.ts), which caps a task's time.
+ * A refusal of the file comes back as the IntakeError it was in the
+ * worker.
  */
 import { availableParallelism } from "node:os";
 import type { Piscina } from "piscina";
@@ -22,6 +24,7 @@ import {
   type TableKind,
   type TablePreview,
 } from "../intake";
+import type { UploadLimits, UploadSource } from "./intake-file";
 import type { MappingFacts, RosterInput, RosterRequest } from "./intake-roster";
 import type { EncodedVersion } from "./intake-rows";
 import type { IntakeTask, IntakeTaskOutcome } from "./intake-task";
@@ -31,6 +34,19 @@ export interface IntakeJobsOptions {
   threads?: number;
   /** A thread without work ends after this long (default one minute). */
   idleTimeoutMs?: number;
+}
+
+/** An upload as the pool takes it: the path of its file, or its bytes; and the limits it is read under. */
+export interface UploadInput {
+  path?: string;
+  bytes?: Uint8Array;
+  limits?: UploadLimits;
+}
+
+function sourceOf(input: UploadInput): UploadSource {
+  if (input.path !== undefined) return { path: input.path };
+  if (input.bytes !== undefined) return { bytes: input.bytes };
+  throw new Error("intake: an upload needs its path or its bytes");
 }
 
 export class IntakeJobs {
@@ -44,29 +60,42 @@ export class IntakeJobs {
   }
 
   /**
-   * Reads and previews an uploaded file, with its SHA-256. `bytes` should
-   * be a view of shared memory (then it is not copied). Throws IntakeError.
+   * Reads and previews an uploaded file (its `path` on disk, or its
+   * `bytes`), with its SHA-256. Throws IntakeError.
    */
-  async preview(input: {
-    bytes: Uint8Array;
-    fileName: string;
-    kind: TableKind;
-    options: PreviewOptions;
-  }): Promise<{ preview: TablePreview; sha256: string }> {
-    const outcome = await this.run({ op: "preview", ...input });
+  async preview(
+    input: UploadInput & { fileName: string; kind: TableKind; options: PreviewOptions },
+  ): Promise<{ preview: TablePreview; sha256: string }> {
+    const outcome = await this.run({
+      op: "preview",
+      source: sourceOf(input),
+      limits: input.limits,
+      fileName: input.fileName,
+      kind: input.kind,
+      options: input.options,
+    });
     if (outcome.op !== "preview") throw new Error("intake task: unexpected answer");
     return { preview: outcome.preview, sha256: outcome.sha256 };
   }
 
   /** Reads, types and checks a file with the uploader's decisions and builds the rows to store. Throws IntakeError. */
-  async encode(input: {
-    bytes: Uint8Array;
-    fileName: string;
-    kind: TableKind;
-    confirmation: Confirmation;
-    datasetId: string;
-  }): Promise<{ encoded: EncodedVersion; sha256: string }> {
-    const outcome = await this.run({ op: "encode", ...input });
+  async encode(
+    input: UploadInput & {
+      fileName: string;
+      kind: TableKind;
+      confirmation: Confirmation;
+      datasetId: string;
+    },
+  ): Promise<{ encoded: EncodedVersion; sha256: string }> {
+    const outcome = await this.run({
+      op: "encode",
+      source: sourceOf(input),
+      limits: input.limits,
+      fileName: input.fileName,
+      kind: input.kind,
+      confirmation: input.confirmation,
+      datasetId: input.datasetId,
+    });
     if (outcome.op !== "encode") throw new Error("intake task: unexpected answer");
     return { encoded: outcome.encoded, sha256: outcome.sha256 };
   }

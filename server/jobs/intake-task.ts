@@ -1,13 +1,15 @@
 /**
  * Worker-thread task of the data intake: everything an upload or its
- * confirmation computes, off the request thread — reading the bytes
- * (decode, delimiter, parse), typing and checking, the preview, the
+ * confirmation computes, off the request thread — reading the file from
+ * disk (decompressing a gzip file, intake-file.ts; delimiter, cells),
+ * typing and checking, the preview, the
  * identifier guard, the SHA-256 hash, the rows to store as CSV chunks
- * (intake-rows.ts), and the roster join (intake-roster.ts). Workers compute only — no database, no files; the
+ * (intake-rows.ts), and the roster join (intake-roster.ts). Workers compute only — no database; the
+ * only file they touch is the upload they are given, which they read; the
  * main thread stores what this returns.
  *
- * The uploaded bytes arrive as a view of shared memory (no copy); the
- * stored rows go back as one transferred buffer (no copy). A refusal of
+ * The upload arrives as the path of its file (or, from the demo seed, as
+ * bytes); the stored rows go back as one transferred buffer (no copy). A refusal of
  * the file comes back as `{ ok: false, status, problems, problemCount }`
  * (an IntakeError does not survive the thread boundary); any other error
  * is thrown. Worker threads run at a lower priority than the request
@@ -23,10 +25,10 @@ import {
   type TableKind,
   type TablePreview,
   confirmTable,
-  previewUpload,
-  readTable,
-  sha256Hex,
+  checkPreviewable,
+  previewTable,
 } from "../intake";
+import { type UploadLimits, type UploadSource, readUpload } from "./intake-file";
 import {
   type MappingFacts,
   type RosterInput,
@@ -39,10 +41,18 @@ import { lowerWorkerThreadPriority } from "./thread-priority";
 lowerWorkerThreadPriority();
 
 export type IntakeTask =
-  | { op: "preview"; bytes: Uint8Array; fileName: string; kind: TableKind; options: PreviewOptions }
+  | {
+      op: "preview";
+      source: UploadSource;
+      fileName: string;
+      kind: TableKind;
+      options: PreviewOptions;
+      limits?: UploadLimits;
+    }
   | {
       op: "encode";
-      bytes: Uint8Array;
+      source: UploadSource;
+      limits?: UploadLimits;
       fileName: string;
       kind: TableKind;
       confirmation: Confirmation;
@@ -63,28 +73,24 @@ export type IntakeTaskOutcome =
   | { ok: true; op: "roster"; answer: string | MappingFacts }
   | IntakeRefusal;
 
-export default function runIntakeTask(
+export default async function runIntakeTask(
   task: IntakeTask,
-): IntakeTaskOutcome | ReturnType<typeof Piscina.move> {
+): Promise<IntakeTaskOutcome | ReturnType<typeof Piscina.move>> {
   try {
     if (task.op === "preview") {
-      const preview = previewUpload(task.bytes, task.fileName, task.kind, task.options);
-      return { ok: true, op: "preview", preview, sha256: sha256Hex(task.bytes) };
+      const { table, sha256 } = await readUpload(task.source, task.fileName, task.limits);
+      const preview = checkPreviewable(previewTable(table, task.kind, task.options));
+      return { ok: true, op: "preview", preview, sha256 };
     }
     if (task.op === "roster")
       return { ok: true, op: "roster", answer: answerRoster(task.input, task.request) };
-    const raw = readTable(task.bytes, task.fileName);
+    const { table: raw, sha256 } = await readUpload(task.source, task.fileName, task.limits);
     const encoded = encodeVersion(
       task.datasetId,
       raw,
       confirmTable(raw, task.kind, task.confirmation),
     );
-    const outcome: IntakeTaskOutcome = {
-      ok: true,
-      op: "encode",
-      encoded,
-      sha256: sha256Hex(task.bytes),
-    };
+    const outcome: IntakeTaskOutcome = { ok: true, op: "encode", encoded, sha256 };
     // The rows' buffer moves to the main thread instead of being copied.
     const movable = {
       [Piscina.transferableSymbol]: [encoded.csv.buffer],

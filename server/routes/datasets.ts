@@ -2,7 +2,8 @@
  * Datasets: uploads of brain tables and participant sheets, previews,
  * confirmation into immutable versions.
  *
- * POST /api/studies/:studyId/datasets                      multipart: kind (brain | participants), file,
+ * POST /api/studies/:studyId/datasets                      multipart: kind (brain | participants), file
+ *                                                          (.csv, .tsv, or gzip-compressed .csv.gz, .tsv.gz),
  *                                                          optional idColumn, seSuffix, layout, sessionColumn ("none" = no session column)
  *                                                          → 201 preview { id, status: "preview", columns, rows, problems, identifierColumns, … }
  * GET  /api/studies/:studyId/datasets                      → versions and live previews, newest first
@@ -11,7 +12,10 @@
  * POST /api/studies/:studyId/datasets/:datasetId/confirm   { types?, dropColumns?, identifierReasons?, idColumn?, seSuffix?, layout?, sessionColumn? }
  *                                                          → 201 the stored version
  *
- * Unreadable files answer 400, files over the limits 413, content refused
+ * The file is written to disk as it arrives (server/http/upload-storage.ts)
+ * and read in the intake's worker thread. Unreadable files (a damaged gzip
+ * file too) answer 400, files over the limits (MAX_UPLOAD_MB, counted on
+ * the bytes received; MAX_UPLOAD_COLUMNS) 413, content refused
  * 422 — each with every problem (file, row, column) in `details.problems`;
  * nothing is stored then. Rows are left out (null or []) for roles that may
  * not read participant-level rows (Viewers of a restricted study).
@@ -23,8 +27,14 @@ import { authorize, authorizedStudy, roleMay } from "../auth/permissions";
 import { signedInUser } from "../auth/session";
 import { HttpError } from "../http/errors";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
-import { sharedUploadStorage } from "../http/shared-upload-storage";
-import { DEFAULT_MAX_BYTES, IntakeError, NO_FILE_NAME, cleanFileName, problem } from "../intake";
+import { join } from "node:path";
+import {
+  clearStaleUploads,
+  discardUnlessKept,
+  keepUpload,
+  uploadStorage,
+} from "../http/upload-storage";
+import { IntakeError, NO_FILE_NAME, cleanFileName, problem } from "../intake";
 import { confirmUpload, getDataset, listDatasets, previewUpload } from "../services/datasets";
 import type { UploadOptions } from "../../contract/views/datasets";
 import type { PreviewStore } from "../services/preview-store";
@@ -83,17 +93,29 @@ function noFileName(): HttpError {
   ]);
 }
 
-/** multer with the intake's byte limit; its errors answer with the envelope (413 too large, 400 otherwise). */
-function receiveFile(): RequestHandler {
+/** The file's size limit in words, naming the setting that raises it. */
+export function uploadLimitText(maxBytes: number): string {
+  const mb = maxBytes / (1024 * 1024);
+  return `the limit of ${Number.isInteger(mb) ? mb : mb.toFixed(2)} MB (counted as received, compressed or not); a server administrator can raise it with the MAX_UPLOAD_MB setting`;
+}
+
+/**
+ * multer writing the file to the uploads folder, with the byte limit
+ * (MAX_UPLOAD_MB); its errors answer with the envelope (413 too large, 400
+ * otherwise). The file is removed once the answer has gone out unless the
+ * preview store took it.
+ */
+function receiveFile(dir: string, maxBytes: number): RequestHandler {
   const single = multer({
-    storage: sharedUploadStorage(),
-    limits: { fileSize: DEFAULT_MAX_BYTES, files: 1, fields: 10, fieldSize: 10_000, parts: 12 },
+    storage: uploadStorage(dir),
+    limits: { fileSize: maxBytes, files: 1, fields: 10, fieldSize: 10_000, parts: 12 },
     // Browsers send file names as UTF-8 (multer's default reads them as Latin-1).
     defParamCharset: "utf8",
     // Keep the name as sent ("." and ".." too): cleanFileName takes its last part and refuses what is no name.
     preservePath: true,
   } as multer.Options).single("file");
   return (req, res, next) => {
+    discardUnlessKept(req, res);
     single(req, res, (error: unknown) => {
       if (!error) {
         // A file part sent without a name arrives as a text field.
@@ -103,13 +125,11 @@ function receiveFile(): RequestHandler {
       }
       if (error instanceof multer.MulterError) {
         if (error.code === "LIMIT_FILE_SIZE") {
+          const name =
+            cleanFileName((error as { filename?: string }).filename ?? "") ?? "the upload";
           return next(
             new IntakeError(413, [
-              problem(
-                "upload",
-                "too_large",
-                `the file is larger than the limit of ${DEFAULT_MAX_BYTES / (1024 * 1024)} MB`,
-              ),
+              problem(name, "too_large", `the file is larger than ${uploadLimitText(maxBytes)}`),
             ]),
           );
         }
@@ -137,11 +157,15 @@ export function datasetRoutes(deps: RouteDeps, store: PreviewStore): Router {
   const router = Router();
   // Preview ids prove they were issued here, so one from before a restart is told "expired" (preview-store.ts).
   store.signIdsWith(deps.config.secrets.authSecret);
+  // Uploaded files wait here; a stopped process's are removed once older than a preview lives.
+  const uploads = join(deps.config.dataDir, "uploads");
+  clearStaleUploads(uploads, store.ttlMs);
+  const { maxBytes, maxColumns } = deps.config.uploads;
 
   router.post(
     "/studies/:studyId/datasets",
     authorize("data.upload"),
-    receiveFile(),
+    receiveFile(uploads, maxBytes),
     validate(upload),
     async (req, res) => {
       const { study } = authorizedStudy(res);
@@ -165,11 +189,15 @@ export function datasetRoutes(deps: RouteDeps, store: PreviewStore): Router {
           ? { sessionColumn: body.sessionColumn === "none" ? null : (body.sessionColumn as string) }
           : {}),
       };
+      // From here the preview store owns the file (previewUpload removes it when the upload is refused).
+      keepUpload(file);
       const view = await previewUpload(store, {
         studyId: study.id,
         kind: body.kind,
         fileName,
-        bytes: file.bytes ?? new Uint8Array(0),
+        upload: { path: file.path },
+        byteSize: file.size,
+        limits: { maxBytes, maxColumns },
         options,
         uploader: { id: user.id, name: user.name, email: user.email },
         now: deps.clock(),

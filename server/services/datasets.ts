@@ -2,10 +2,12 @@
  * Datasets: uploads, previews, confirmation into immutable versions, and
  * reading versions back.
  *
- * Flow: an upload is read and checked by the intake library in a worker
- * thread (server/jobs/intake-jobs.ts) and answered with a preview (first
- * rows, column types, problems, identifier columns); the file waits in the
- * PreviewStore. Confirmation applies the uploader's decisions (type
+ * Flow: an upload arrives as a file on disk (server/http/upload-storage.ts),
+ * is read and checked by the intake library in a worker thread
+ * (server/jobs/intake-jobs.ts) and answered with a preview (first rows,
+ * column types, problems, identifier columns); the file waits on disk,
+ * held by the PreviewStore, which removes it once it is confirmed or
+ * expires (a refused upload's file is removed at once). Confirmation applies the uploader's decisions (type
  * changes, dropped columns, reasons for keeping identifier columns) in a
  * worker thread, which also builds the rows to store; the main thread then
  * stores them (storeVersion). An upload whose problems no decision can
@@ -23,6 +25,7 @@
  * Services receive the database, the store, the intake pool and the time
  * as parameters.
  */
+import { rm } from "node:fs/promises";
 import { and, asc, desc, eq, getTableName, gte, inArray, lt, sql } from "drizzle-orm";
 import { copyCsv, type Database, type Queryable } from "../../db/client";
 import {
@@ -43,6 +46,7 @@ import type {
 } from "../../contract/views/datasets";
 import type { BrainTable, Confirmation, ParticipantSheet, SheetColumn } from "../intake";
 import { conflict, gone, notFound } from "../http/errors";
+import type { UploadLimits } from "../jobs/intake-file";
 import { type IntakeJobs, intakeJobs } from "../jobs/intake-jobs";
 import { type EncodedVersion, STORED_ROW_COLUMNS, decodeNumbers } from "../jobs/intake-rows";
 import { recordEvent } from "./audit";
@@ -58,8 +62,12 @@ export interface UploadInput {
   studyId: string;
   kind: DatasetKind;
   fileName: string;
-  /** The file's bytes, best a view of shared memory (handed to the worker thread without a copy). */
-  bytes: Uint8Array;
+  /** The uploaded file on disk (the store takes it over; removed when refused), or its bytes. */
+  upload: { path: string } | { bytes: Uint8Array };
+  /** The file's size as received. */
+  byteSize: number;
+  /** The limits the file is read under (MAX_UPLOAD_MB, MAX_UPLOAD_COLUMNS). */
+  limits?: UploadLimits;
   options: UploadOptions;
   uploader: PersonRef;
   now: Date;
@@ -68,25 +76,35 @@ export interface UploadInput {
 /**
  * Reads and checks an upload in a worker thread and keeps it as a preview.
  * Throws IntakeError (400 unreadable, 413 too large, 422 content refused)
- * — nothing is kept then.
+ * — nothing is kept then, and the uploaded file is removed.
  */
 export async function previewUpload(
   store: PreviewStore,
   input: UploadInput,
   jobs: IntakeJobs = intakeJobs(),
 ): Promise<PreviewView> {
-  const { preview, sha256 } = await jobs.preview({
-    bytes: input.bytes,
-    fileName: input.fileName,
-    kind: input.kind,
-    options: input.options,
-  });
+  let answer: { preview: TablePreview; sha256: string };
+  try {
+    answer = await jobs.preview({
+      ...input.upload,
+      limits: input.limits,
+      fileName: input.fileName,
+      kind: input.kind,
+      options: input.options,
+    });
+  } catch (error) {
+    if ("path" in input.upload) await rm(input.upload.path, { force: true }).catch(() => {});
+    throw error;
+  }
+  const { preview, sha256 } = answer;
   const stored: StoredPreview = {
     id: store.newId(input.studyId),
     studyId: input.studyId,
     kind: input.kind,
     fileName: input.fileName,
-    bytes: input.bytes,
+    upload: input.upload,
+    byteSize: input.byteSize,
+    limits: input.limits,
     sha256,
     uploadedBy: input.uploader.id,
     uploadedAt: input.now,
@@ -106,7 +124,7 @@ function previewView(p: StoredPreview, uploader: PersonRef): PreviewView {
     status: "preview",
     fileName: p.fileName,
     sha256: p.sha256,
-    byteSize: p.bytes.byteLength,
+    byteSize: p.byteSize,
     options: p.options,
     uploadedBy: uploader,
     uploadedAt: p.uploadedAt.toISOString(),
@@ -163,7 +181,9 @@ export async function confirmUpload(
         studyId: found.studyId,
         kind: found.kind,
         fileName: found.fileName,
-        bytes: found.bytes,
+        ...found.upload,
+        byteSize: found.byteSize,
+        limits: found.limits,
         confirmation: options,
         uploadedBy: found.uploadedBy,
         uploadedAt: found.uploadedAt,
@@ -188,7 +208,12 @@ export interface StoreVersionInput {
   studyId: string;
   kind: DatasetKind;
   fileName: string;
-  bytes: Uint8Array;
+  /** The uploaded file on disk, or its bytes (one of the two). */
+  path?: string;
+  bytes?: Uint8Array;
+  /** The file's size as received (default: the bytes' length). */
+  byteSize?: number;
+  limits?: UploadLimits;
   confirmation: Confirmation;
   uploadedBy: string;
   uploadedAt: Date;
@@ -216,8 +241,11 @@ export async function storeVersion(
   input: StoreVersionInput,
   jobs: IntakeJobs = intakeJobs(),
 ): Promise<DatasetView> {
+  const byteSize = input.byteSize ?? input.bytes?.byteLength ?? 0;
   const { encoded, sha256 } = await jobs.encode({
+    path: input.path,
     bytes: input.bytes,
+    limits: input.limits,
     fileName: input.fileName,
     kind: input.kind,
     confirmation: input.confirmation,
@@ -246,7 +274,7 @@ export async function storeVersion(
         version: next,
         fileName: input.fileName,
         sha256,
-        byteSize: input.bytes.byteLength,
+        byteSize,
         delimiter: encoded.delimiter,
         layout: encoded.layout,
         idColumn: encoded.idColumn,
@@ -283,7 +311,7 @@ export async function storeVersion(
             version,
             fileName: input.fileName,
             sha256,
-            byteSize: input.bytes.byteLength,
+            byteSize,
             rows: encoded.rowCount,
             participants: encoded.participantCount,
             columns: encoded.columns.map((c) => ({ name: c.name, type: c.type, role: c.role })),

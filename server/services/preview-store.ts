@@ -1,12 +1,15 @@
 /**
- * Upload previews waiting for confirmation, held in the server's memory.
+ * Upload previews waiting for confirmation, held in the server's memory;
+ * their files wait on disk, in the uploads folder.
  *
  * A preview is never used as data and never written to the database: an
  * uploaded file stays here, with its preview, until it is confirmed (then it
  * becomes a stored version and leaves the store), or until it expires. So a
  * column dropped as a direct identifier at confirmation is never stored.
- * One server process owns the data directory, so one store per app is the
- * whole truth. A byte budget evicts the oldest previews first. Ids of
+ * The store owns the files it holds: a preview's file is removed when the
+ * preview is confirmed, expires or is evicted. One server process owns the
+ * data directory, so one store per app is the whole truth. A byte budget
+ * (of the files' sizes on disk) evicts the oldest previews first. Ids of
  * expired or evicted previews are remembered for a day so a late confirm is
  * told "expired" rather than "not found".
  *
@@ -20,14 +23,21 @@
  * Cost: O(previews) per sweep.
  */
 import { createHmac, randomBytes, randomUUID, timingSafeEqual } from "node:crypto";
+import { rm } from "node:fs/promises";
 import type { DatasetKind, TablePreview, UploadOptions } from "../../contract/views/datasets";
+import type { UploadLimits } from "../jobs/intake-file";
 
 export interface StoredPreview {
   id: string;
   studyId: string;
   kind: DatasetKind;
   fileName: string;
-  bytes: Uint8Array;
+  /** The uploaded file on disk (or, from the demo seed and benchmarks, its bytes). */
+  upload: { path: string } | { bytes: Uint8Array };
+  /** The uploaded file's size as received. */
+  byteSize: number;
+  /** The limits it was read under (the confirmation reads it under the same). */
+  limits?: UploadLimits;
   sha256: string;
   uploadedBy: string;
   uploadedAt: Date;
@@ -39,7 +49,7 @@ export interface StoredPreview {
 export interface PreviewStoreOptions {
   /** How long a preview waits for confirmation (default 1 hour). */
   ttlMs?: number;
-  /** Bytes of uploaded files held at most (default 256 MiB). */
+  /** Bytes of uploaded files held at most (default 4 GiB, on disk). */
   maxBytes?: number;
 }
 
@@ -57,7 +67,7 @@ export class PreviewStore {
 
   constructor(options: PreviewStoreOptions = {}) {
     this.ttlMs = options.ttlMs ?? 60 * 60 * 1000;
-    this.maxBytes = options.maxBytes ?? 256 * 1024 * 1024;
+    this.maxBytes = options.maxBytes ?? 4 * 1024 * 1024 * 1024;
   }
 
   /** Keys preview ids with the server's secret (see the module note); without it ids are random UUIDs. */
@@ -101,7 +111,7 @@ export class PreviewStore {
   put(preview: StoredPreview, now: Date): void {
     this.sweep(now);
     this.live.set(preview.id, preview);
-    this.bytes += preview.bytes.byteLength;
+    this.bytes += preview.byteSize;
     for (const [id, p] of this.live) {
       if (this.bytes <= this.maxBytes || id === preview.id) break;
       this.drop(id, p, now);
@@ -123,12 +133,13 @@ export class PreviewStore {
     return studyId !== undefined && this.issued(id, studyId) ? "expired" : undefined;
   }
 
-  /** Removes a preview that has been confirmed. */
+  /** Removes a preview that has been confirmed, and its file. */
   remove(id: string): void {
     const p = this.live.get(id);
     if (!p) return;
     this.live.delete(id);
-    this.bytes -= p.bytes.byteLength;
+    this.bytes -= p.byteSize;
+    removeFile(p);
   }
 
   /** Marks a preview as being confirmed; false when it already is (a second confirm must wait for the first). */
@@ -151,7 +162,8 @@ export class PreviewStore {
 
   private drop(id: string, p: StoredPreview, now: Date): void {
     this.live.delete(id);
-    this.bytes -= p.bytes.byteLength;
+    this.bytes -= p.byteSize;
+    removeFile(p);
     this.gone.set(id, { at: now.getTime(), studyId: p.studyId });
   }
 
@@ -160,6 +172,11 @@ export class PreviewStore {
     for (const [id, p] of this.live) if (p.expiresAt.getTime() <= t) this.drop(id, p, now);
     for (const [id, left] of this.gone) if (t - left.at > DAY) this.gone.delete(id);
   }
+}
+
+/** Removes a preview's file on disk (one already gone is no error). */
+function removeFile(p: StoredPreview): void {
+  if ("path" in p.upload) void rm(p.upload.path, { force: true }).catch(() => {});
 }
 
 function formatUuid(b: Buffer): string {
