@@ -5,6 +5,8 @@
  *   README.txt            what each file is (this list, with what was left out and why)
  *   methods.md            the methods paragraph and its references (fit-exports.ts methodsOf)
  *   results/regions.csv   the region table (fit-exports.ts regionsCsv)
+ *   results/regions.md|tex|docx, results/sentences.md
+ *                         the table for a manuscript and the results sentences (manuscript-tables.ts)
  *   recipe.json           the recipe (left out for a caller without participant rows: it names them)
  *   inputs.json           the data files the fit used: name, version, SHA-256, participants
  *   set-asides.csv        participant, scope, reason, who, when (no participant column without participant rows)
@@ -39,6 +41,7 @@ import type { FitView } from "../../contract/views/fits";
 import { toCsv } from "../intake/export-csv";
 import type { FitJobs } from "../jobs/fit-jobs";
 import { methodsOf, recipeJson, regionsCsv } from "./fit-exports";
+import { regionsDocx, regionsLatex, regionsMarkdown, sentencesMarkdown } from "./manuscript-tables";
 import { fitViewParts } from "./fits";
 import { writeZip, type ZipEntry } from "./report-zip";
 
@@ -241,80 +244,95 @@ export async function buildReport(
     options.participantsVisible,
   );
   const modelName = view.model.name;
-  const [methods, inputs, activity] = await Promise.all([
+  const manuscript = { participantsVisible: options.participantsVisible };
+  const [methods, inputs, activity, docx] = await Promise.all([
     methodsOf(db, fit),
     inputsJson(db, fit),
     activityCsv(db, fit, modelName),
+    regionsDocx(fit, manuscript),
   ]);
   const leftOut: string[] = [];
+  const part = (name: string, about: string, data: Uint8Array, compress = true): ReportPart => ({
+    name,
+    about,
+    compress,
+    bytes: () => data,
+  });
   const parts: ReportPart[] = [
-    {
-      name: "methods.md",
-      about: "the methods paragraph with its references",
-      compress: true,
-      bytes: () => text(methodsMarkdown(methods)),
-    },
-    {
-      name: "results/regions.csv",
-      about:
-        "the region table: one row per region with n, estimate, se, statistic, df, p, adjusted p, 95% CI",
-      compress: true,
-      bytes: () => text(csv),
-    },
+    part("methods.md", "the methods paragraph with its references", text(methodsMarkdown(methods))),
+    part(
+      "results/regions.csv",
+      "the region table: one row per region with n, estimate, se, statistic, df, p, adjusted p, 95% CI (full precision)",
+      text(csv),
+    ),
+    part(
+      "results/regions.md",
+      "the region table for a manuscript, in Markdown, with its note (correction, set-asides)",
+      text(regionsMarkdown(fit, manuscript)),
+    ),
+    part(
+      "results/regions.tex",
+      "the same table in LaTeX (booktabs rules: needs \\usepackage{booktabs})",
+      text(regionsLatex(fit, manuscript)),
+    ),
+    // A Word document is already a ZIP archive: stored as it is.
+    part("results/regions.docx", "the same table as a Word document", docx, false),
+    part(
+      "results/sentences.md",
+      "one results sentence per region in the reporting style of the APA Publication Manual (7th ed.)",
+      text(sentencesMarkdown(fit)),
+    ),
   ];
   if (options.participantsVisible)
-    parts.push({
-      name: "recipe.json",
-      about: "the recipe: re-running it on the two input files reproduces the numbers exactly",
-      compress: true,
-      bytes: () => text(recipeJson(fit)),
-    });
+    parts.push(
+      part(
+        "recipe.json",
+        "the recipe: re-running it on the two input files reproduces the numbers exactly",
+        text(recipeJson(fit)),
+      ),
+    );
   else
     leftOut.push(
       "recipe.json: this study restricts participant-level rows, and the recipe names participants (set-asides and id mappings).",
     );
   parts.push(
-    {
-      name: "inputs.json",
-      about: "the data files the fit used: file name, version, SHA-256 of the bytes, participants",
-      compress: true,
-      bytes: () => json(inputs),
-    },
-    {
-      name: "set-asides.csv",
-      about: options.participantsVisible
+    part(
+      "inputs.json",
+      "the data files the fit used: file name, version, SHA-256 of the bytes, participants",
+      json(inputs),
+    ),
+    part(
+      "set-asides.csv",
+      options.participantsVisible
         ? "participants set aside from the fit: participant, scope, reason, who, when"
         : "set-asides applied by the fit: scope, reason, who, when (participant ids withheld: the study restricts participant-level rows)",
-      compress: true,
-      bytes: () => text(setAsidesCsv(view)),
-    },
-    {
-      name: "activity.csv",
-      about: "the fit's run, approval and seal from the study's audit trail",
-      compress: true,
-      bytes: () => text(activity),
-    },
+      text(setAsidesCsv(view)),
+    ),
+    part(
+      "activity.csv",
+      "the fit's run, approval and seal from the study's audit trail",
+      text(activity),
+    ),
   );
   if (view.seal)
-    parts.push({
-      name: "seal.json",
-      about:
+    parts.push(
+      part(
+        "seal.json",
         "the seal: SHA-256 of the canonical JSON of the recipe and result, who sealed it, when, and whether it still matches",
-      compress: true,
-      bytes: () =>
         json({
           fit: view.id,
-          sha256: view.seal?.sha256,
+          sha256: view.seal.sha256,
           hashOf: 'the canonical JSON (RFC 8785) of { "recipe": …, "result": … } as stored',
-          sealedBy: view.seal?.by,
-          sealedAt: view.seal?.at,
-          intact: view.seal?.intact,
-          singlePersonSignOff: view.seal?.singlePersonSignOff,
+          sealedBy: view.seal.by,
+          sealedAt: view.seal.at,
+          intact: view.seal.intact,
+          singlePersonSignOff: view.seal.singlePersonSignOff,
         }),
-    });
-  const readmeText = readme(view, parts, leftOut);
+      ),
+    );
+  const readmeText = text(readme(view, parts, leftOut));
   const entries: ZipEntry[] = [
-    { name: "README.txt", compress: true, bytes: () => text(readmeText) },
+    { name: "README.txt", compress: true, bytes: () => readmeText },
     ...parts,
   ];
   const digest = createHash("sha256");

@@ -79,10 +79,10 @@ afterAll(async () => {
   await t?.close();
 });
 
-/** Downloads the bundle as `who` and answers its bytes (200 expected). */
-async function download(who: Agent, id = fitId): Promise<Buffer> {
-  const res: Response = await who
-    .get(`/api/fits/${id}/report.zip`)
+/** Answers a request's body as bytes. */
+async function bytesOf(who: Agent, path: string): Promise<Response> {
+  return who
+    .get(path)
     .buffer(true)
     .parse((response, callback) => {
       const chunks: Buffer[] = [];
@@ -90,6 +90,11 @@ async function download(who: Agent, id = fitId): Promise<Buffer> {
       response.on("end", () => callback(null, Buffer.concat(chunks)));
     })
     .expect(200);
+}
+
+/** Downloads the bundle as `who` and answers its bytes (200 expected). */
+async function download(who: Agent, id = fitId): Promise<Buffer> {
+  const res = await bytesOf(who, `/api/fits/${id}/report.zip`);
   expect(res.headers["content-type"]).toBe("application/zip");
   expect(res.headers["content-disposition"]).toBe(
     `attachment; filename="fit-${id.slice(0, 8)}-report.zip"`,
@@ -98,11 +103,23 @@ async function download(who: Agent, id = fitId): Promise<Buffer> {
 }
 
 /** Entry names in the archive's own order (walking the local headers), and their contents. */
-function entriesOf(zip: Buffer): { names: string[]; files: Record<string, Uint8Array> } {
+function entriesOf(zip: Buffer): {
+  names: string[];
+  files: Record<string, Uint8Array>;
+  /** Each entry's DOS date and time, decoded. */
+  times: string[];
+} {
   const files = unzipSync(new Uint8Array(zip));
   const names: string[] = [];
+  const times: string[] = [];
+  const pad = (n: number) => String(n).padStart(2, "0");
   let at = 0;
   while (zip.readUInt32LE(at) === 0x04034b50) {
+    const time = zip.readUInt16LE(at + 10);
+    const date = zip.readUInt16LE(at + 12);
+    times.push(
+      `${(date >> 9) + 1980}-${pad((date >> 5) & 15)}-${pad(date & 31)}T${pad(time >> 11)}:${pad((time >> 5) & 63)}:${pad((time & 31) * 2)}`,
+    );
     const nameLength = zip.readUInt16LE(at + 26);
     const extraLength = zip.readUInt16LE(at + 28);
     const name = zip.toString("utf8", at + 30, at + 30 + nameLength);
@@ -111,7 +128,7 @@ function entriesOf(zip: Buffer): { names: string[]; files: Record<string, Uint8A
     // from the central directory's compressed size instead.
     at = nextLocalHeader(zip, name, at + 30 + nameLength + extraLength);
   }
-  return { names, files };
+  return { names, files, times };
 }
 
 /** Where the entry after `name` starts: its data, then a 16-byte data descriptor. */
@@ -132,21 +149,6 @@ function nextLocalHeader(zip: Buffer, name: string, dataStart: number): number {
   }
 }
 
-/** Every local header's DOS date and time, decoded. */
-function entryTimes(zip: Buffer): string[] {
-  const times: string[] = [];
-  for (let at = zip.indexOf(Buffer.from([0x50, 0x4b, 0x03, 0x04])); at >= 0; ) {
-    const time = zip.readUInt16LE(at + 10);
-    const date = zip.readUInt16LE(at + 12);
-    const pad = (n: number) => String(n).padStart(2, "0");
-    times.push(
-      `${(date >> 9) + 1980}-${pad((date >> 5) & 15)}-${pad(date & 31)}T${pad(time >> 11)}:${pad((time >> 5) & 63)}:${pad((time & 31) * 2)}`,
-    );
-    at = zip.indexOf(Buffer.from([0x50, 0x4b, 0x03, 0x04]), at + 4);
-  }
-  return times;
-}
-
 const text = (files: Record<string, Uint8Array>, name: string) => {
   const file = files[name];
   if (!file) throw new Error(`${name} is not in the bundle: ${Object.keys(files).join(", ")}`);
@@ -156,11 +158,15 @@ const text = (files: Record<string, Uint8Array>, name: string) => {
 describe("the report bundle of a finished fit", () => {
   it("lists the files in their fixed order, with their contents", async () => {
     const zip = await download(agents.owner);
-    const { names, files } = entriesOf(zip);
+    const { names, files, times } = entriesOf(zip);
     expect(names).toEqual([
       "README.txt",
       "methods.md",
       "results/regions.csv",
+      "results/regions.md",
+      "results/regions.tex",
+      "results/regions.docx",
+      "results/sentences.md",
       "recipe.json",
       "inputs.json",
       "set-asides.csv",
@@ -176,6 +182,21 @@ describe("the report bundle of a finished fit", () => {
     expect(text(files, "results/regions.csv")).toBe(csv.text);
     const recipe = await agents.owner.get(`/api/fits/${fitId}/recipe.json`).expect(200);
     expect(text(files, "recipe.json")).toBe(recipe.text);
+    // The manuscript tables and sentences as their own downloads give them.
+    for (const form of ["md", "tex"]) {
+      const own = await agents.owner.get(`/api/fits/${fitId}/regions.${form}`).expect(200);
+      expect(text(files, `results/regions.${form}`), form).toBe(own.text);
+    }
+    const docx = await bytesOf(agents.owner, `/api/fits/${fitId}/regions.docx`);
+    expect(Buffer.from(files["results/regions.docx"]).equals(docx.body as Buffer)).toBe(true);
+    const sentences = await agents.owner.get(`/api/fits/${fitId}/sentences`).expect(200);
+    // One list item per region (Markdown escapes the underscores of region names).
+    const items = text(files, "results/sentences.md")
+      .split("\n")
+      .filter((l) => l.startsWith("- "));
+    expect(items.map((l) => l.slice(4, l.indexOf("**:")).replace(/\\_/g, "_"))).toEqual(
+      (sentences.body as { region: string }[]).map((s) => s.region),
+    );
     // The data files, as stored.
     const inputs = JSON.parse(text(files, "inputs.json"));
     const [fit] = await t.db.select().from(fits).where(eq(fits.id, fitId));
@@ -205,7 +226,7 @@ describe("the report bundle of a finished fit", () => {
     const finished = fit.finishedAt as Date;
     const seconds = finished.getUTCSeconds() - (finished.getUTCSeconds() % 2);
     const expected = `${finished.toISOString().slice(0, 17)}${String(seconds).padStart(2, "0")}`;
-    expect(entryTimes(zip)).toEqual(names.map(() => expected));
+    expect(times).toEqual(names.map(() => expected));
   });
 
   it("is the same byte for byte on a second download, and report.sha256 names it", async () => {
@@ -244,6 +265,10 @@ describe("a restricted study's Viewer", () => {
         "README.txt",
         "methods.md",
         "results/regions.csv",
+        "results/regions.md",
+        "results/regions.tex",
+        "results/regions.docx",
+        "results/sentences.md",
         "inputs.json",
         "set-asides.csv",
         "activity.csv",
