@@ -202,6 +202,65 @@ function copyIn(client: pg.PoolClient, statement: string, data: Uint8Array): Pro
   });
 }
 
+// ─── Claims between processes ───
+
+/** A claim on a key, held until released (see `claim`). */
+export interface Claim {
+  release(): Promise<void>;
+}
+
+const noClaim: Claim = { release: async () => {} };
+
+/**
+ * Claims `key` for this process until `release()`: on a server, a session
+ * advisory lock on a connection of its own (so hold claims briefly and
+ * few at a time: each holds a pooled connection), which `tryClaim` in any
+ * other process sees; embedded there is no other process and nothing to hold.
+ */
+export async function claim(db: Database, key: string): Promise<Claim> {
+  return (await claimOn(db, key, true)) as Claim;
+}
+
+/** Claims `key` unless another process holds it (then null). Same rules as `claim`. */
+export function tryClaim(db: Database, key: string): Promise<Claim | null> {
+  return claimOn(db, key, false);
+}
+
+async function claimOn(db: Database, key: string, wait: boolean): Promise<Claim | null> {
+  const driver = driverOf(db);
+  if (driver.kind === "embedded") return noClaim;
+  const client = await driver.pool.connect();
+  try {
+    const { rows } = await client.query<{ held: boolean }>(
+      wait
+        ? "select pg_advisory_lock(hashtextextended($1, 0)) is not null as held"
+        : "select pg_try_advisory_lock(hashtextextended($1, 0)) as held",
+      [key],
+    );
+    if (!rows[0]?.held) {
+      client.release();
+      return null;
+    }
+  } catch (error) {
+    client.release(error as Error);
+    throw error;
+  }
+  let released = false;
+  return {
+    async release() {
+      if (released) return;
+      released = true;
+      try {
+        await client.query("select pg_advisory_unlock(hashtextextended($1, 0))", [key]);
+        client.release();
+      } catch (error) {
+        // A connection that cannot unlock is closed, which ends its locks.
+        client.release(error as Error);
+      }
+    },
+  };
+}
+
 // ─── Channels between processes ───
 
 /**

@@ -7,7 +7,8 @@
  * On a PostgreSQL server several processes may start at once: each takes
  * the same session-level advisory lock on one connection before looking at
  * what is applied, so one applies the migrations and the others, once they
- * get the lock, find nothing left to do.
+ * get the lock, find nothing left to do. The rest of start-up (the demo
+ * seed, removing leftovers) runs under the same lock (`duringStartUp`).
  */
 import { dirname, join } from "node:path";
 import { fileURLToPath } from "node:url";
@@ -15,6 +16,7 @@ import { drizzle } from "drizzle-orm/node-postgres";
 import { migrate as migrateServer } from "drizzle-orm/node-postgres/migrator";
 import { migrate as migrateEmbedded } from "drizzle-orm/pglite/migrator";
 import type { PgliteDatabase } from "drizzle-orm/pglite";
+import type { Pool, PoolClient } from "pg";
 import { type Database, driverOf } from "./client";
 import * as schema from "./schema";
 
@@ -29,11 +31,28 @@ export async function migrateDatabase(db: Database): Promise<void> {
     await migrateEmbedded(db as PgliteDatabase<typeof schema>, { migrationsFolder });
     return;
   }
-  const client = await driver.pool.connect();
+  await underStartLock(driver.pool, (client) =>
+    migrateServer(drizzle({ client, schema }), { migrationsFolder }),
+  );
+}
+
+/**
+ * Runs a process's start-up work (removing leftovers, seeding the demo)
+ * while no other process on the same server database runs its own, under
+ * the migrations' lock; `work` uses `db` as usual. Embedded: just runs it.
+ */
+export async function duringStartUp<T>(db: Database, work: () => Promise<T>): Promise<T> {
+  const driver = driverOf(db);
+  if (driver.kind === "embedded") return work();
+  return underStartLock(driver.pool, () => work());
+}
+
+async function underStartLock<T>(pool: Pool, work: (client: PoolClient) => Promise<T>): Promise<T> {
+  const client = await pool.connect();
   try {
     await client.query("select pg_advisory_lock($1)", [MIGRATION_LOCK_KEY.toString()]);
     try {
-      await migrateServer(drizzle({ client, schema }), { migrationsFolder });
+      return await work(client);
     } finally {
       await client.query("select pg_advisory_unlock($1)", [MIGRATION_LOCK_KEY.toString()]);
     }

@@ -18,7 +18,7 @@
 import { existsSync } from "node:fs";
 import type { Server } from "node:http";
 import { openConfiguredDatabase, type OpenDatabase } from "../db/client";
-import { migrateDatabase } from "../db/migrate";
+import { duringStartUp, migrateDatabase } from "../db/migrate";
 import { seedDemo } from "../db/seed";
 import { seedDemoDatasets } from "../db/seed/demo-datasets";
 import { createApp } from "./app";
@@ -66,16 +66,20 @@ async function main(): Promise<void> {
     process.once("SIGTERM", () => void stop(0));
     database = await openConfiguredDatabase(config);
     await migrateDatabase(database.db);
-    // A dataset version left half-stored by a stop in the middle of an upload is never read; remove it now.
-    const leftovers = await removeIncompleteVersions(database.db);
-    if (leftovers > 0)
-      console.log(
-        `Covarion: removed ${leftovers} dataset version(s) left incomplete by an interrupted upload.`,
-      );
-    if (config.demo) {
-      const seeded = await seedDemo(database.db, { now: new Date(), seedDemoDatasets });
-      if (seeded.seeded) console.log("Covarion: created the demo people and demo study.");
-    }
+    const db = database.db;
+    // One process at a time on a shared database, so two starting together seed the demo once.
+    await duringStartUp(db, async () => {
+      // A dataset version left half-stored by a stop in the middle of an upload is never read; remove it now.
+      const leftovers = await removeIncompleteVersions(db);
+      if (leftovers > 0)
+        console.log(
+          `Covarion: removed ${leftovers} dataset version(s) left incomplete by an interrupted upload.`,
+        );
+      if (config.demo) {
+        const seeded = await seedDemo(db, { now: new Date(), seedDemoDatasets });
+        if (seeded.seeded) console.log("Covarion: created the demo people and demo study.");
+      }
+    });
     services = await startServices(config);
     fitJobs = createFitJobs(database.db, { warm: true });
     const app = createApp({

@@ -27,7 +27,7 @@
  */
 import { rm } from "node:fs/promises";
 import { and, asc, desc, eq, getTableName, gte, inArray, lt, sql } from "drizzle-orm";
-import { copyCsv, type Database, type Queryable } from "../../db/client";
+import { claim, copyCsv, type Database, type Queryable, tryClaim } from "../../db/client";
 import {
   datasetRows,
   datasetVersions,
@@ -224,8 +224,14 @@ export interface StoreVersionInput {
 /** Rows deleted per statement when an incomplete version is removed. */
 const DELETE_BATCH = 5000;
 
-/** Versions this process is storing right now, per database (an incomplete version not listed was left by a stop). */
+/**
+ * Versions this process is storing right now, per database; another process
+ * on a shared database claims the versions it stores (`versionClaim`). An
+ * incomplete version neither lists nor claims was left by a stop.
+ */
 const storing = new WeakMap<Database, Set<string>>();
+
+const versionClaim = (id: string) => `dataset version ${id}`;
 
 const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
 
@@ -257,6 +263,8 @@ export async function storeVersion(
     storing.set(db, mine);
   }
   mine.add(input.id);
+  // Other processes on a shared database see the claim and leave this version alone.
+  const claimed = await claim(db, versionClaim(input.id));
   try {
     await removeIncompleteVersions(db);
     const version = await db.transaction(async (tx) => {
@@ -340,6 +348,7 @@ export async function storeVersion(
     }
   } finally {
     mine.delete(input.id);
+    await claimed.release();
   }
   const view = await findVersion(db, input.studyId, input.id);
   if (!view) throw new Error("storeVersion: the stored version cannot be read back");
@@ -388,7 +397,13 @@ export async function removeIncompleteVersions(db: Database): Promise<number> {
   let removed = 0;
   for (const v of left) {
     if (mine.has(v.id)) continue;
-    await removeVersion(db, v.id, v.rowCount);
+    const claimed = await tryClaim(db, versionClaim(v.id));
+    if (!claimed) continue; // another process is storing it
+    try {
+      await removeVersion(db, v.id, v.rowCount);
+    } finally {
+      await claimed.release();
+    }
     removed += 1;
   }
   return removed;
