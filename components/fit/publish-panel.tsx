@@ -3,8 +3,10 @@
  * its hash) and who may act next, the approve and seal actions for those
  * whose role and the study's "A second person signs off" allow them (the
  * person the setting stops sees why instead of the button), downloads of
- * the region table and the recipe, and the methods paragraph with its
- * references and a Copy button.
+ * the region table (CSV, and Markdown, LaTeX and Word tables for a
+ * manuscript) and the recipe, the results sentences with a Copy button each
+ * (results-sentences.tsx), and the methods paragraph with its references
+ * and a Copy button.
  */
 import { useState } from "react";
 import { StyleSheet, View } from "react-native";
@@ -13,6 +15,7 @@ import { Badge, Button, Failure, Heading, Notice, Pending, Txt } from "../ui";
 import { fonts, palette, radius, space, type } from "../theme";
 import { copyText } from "./clipboard";
 import { publishState } from "./publish-state";
+import { ResultsSentences } from "./results-sentences";
 import { ReportDownload } from "./report-download";
 import { useMe } from "../../hooks/use-me";
 import { can, useStudy } from "../../hooks/use-study";
@@ -121,6 +124,21 @@ export function PublishPanel({ fit }: { fit: FitView }) {
           href={downloads.regionsCsv}
           testID="download-regions"
         />
+        <DownloadLink
+          label="Table (Markdown)"
+          href={downloads.regionsMd}
+          testID="download-regions-md"
+        />
+        <DownloadLink
+          label="Table (LaTeX)"
+          href={downloads.regionsTex}
+          testID="download-regions-tex"
+        />
+        <DownloadLink
+          label="Table (Word)"
+          href={downloads.regionsDocx}
+          testID="download-regions-docx"
+        />
         {fit.participantsVisible ? (
           <DownloadLink
             label="Recipe (JSON)"
@@ -129,6 +147,7 @@ export function PublishPanel({ fit }: { fit: FitView }) {
           />
         ) : null}
       </View>
+      <ResultsSentences fitId={fit.id} enabled={done} />
       {methods.isPending ? <Pending label="Writing the methods paragraph…" /> : null}
       {methods.isError ? (
         <Failure

@@ -9,7 +9,7 @@
  */
 import { eq } from "drizzle-orm";
 import { unzipSync } from "fflate";
-import request from "supertest";
+import request, { type Response } from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { fits } from "../../db/schema";
 import type { RegionResult } from "../../contract/spec";
@@ -31,10 +31,11 @@ const target = "sub-05";
 const get = (role: string, path: string) => request(t.url).get(path).set("Cookie", cookies[role]);
 
 /** Supertest parser that keeps a binary body as a Buffer. */
-function binary(res: NodeJS.ReadableStream, done: (e: Error | null, body: Buffer) => void) {
+function binary(res: Response, done: (e: Error | null, body: Buffer) => void) {
+  const stream = res as unknown as NodeJS.ReadableStream;
   const chunks: Buffer[] = [];
-  res.on("data", (c: Buffer) => chunks.push(c));
-  res.on("end", () => done(null, Buffer.concat(chunks)));
+  stream.on("data", (c: Buffer) => chunks.push(c));
+  stream.on("end", () => done(null, Buffer.concat(chunks)));
 }
 
 const numberOf = (text: string) => Number(text.replace(/\u2212/g, "-").replace(/,/g, ""));
