@@ -25,7 +25,8 @@ export default defineConfig({
         // starts a throw-away server and each test app gets a fresh copy of a migrated template.
         test: {
           name: "api-pg",
-          include: ["tests/api/**/*.test.ts"],
+          // tests/api-pg: what only a server has (several processes, migrations racing, LISTEN/NOTIFY).
+          include: ["tests/api/**/*.test.ts", "tests/api-pg/**/*.test.ts"],
           exclude: [
             // Settings only, no database: nothing differs on a server.
             "tests/api/config.test.ts",
