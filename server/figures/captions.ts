@@ -46,10 +46,10 @@ export function setAsideLine(spec: ModelSpec, region: string | null): string {
   return `${count(n, "participant")} set aside before this fit (each with a written reason in the fit's record) ${n === 1 ? "is" : "are"} left out of every number shown.`;
 }
 
-function flagMeaning(flags: readonly Flag[]): string {
-  if (flags.length === 0) return "";
+function flagMeaning(flags: readonly Flag[], hollow: boolean): string {
+  if (flags.length === 0) return hollow ? "Hollow marks: participants set aside." : "";
   const words = flags.map((f) => `${roleShape[f]} = ${roleLabel[f]} (${cutLegend[f]})`);
-  return `Flag shapes: ${words.join("; ")}; circles: participants not flagged; hollow marks: participants set aside.`;
+  return `Flag shapes: ${words.join("; ")}; circles: participants not flagged${hollow ? "; hollow marks: participants set aside" : ""}.`;
 }
 
 function resultLine(r: RegionResult, level: number): string {
@@ -89,11 +89,17 @@ export function dataPlotCaption(
   ctx: CaptionContext,
   r: RegionResult,
   kind: "scatter" | "strip",
-  what: { axis: string | null; note: string; flags: readonly Flag[]; bandMethod: string | null },
+  what: {
+    axis: string | null;
+    flags: readonly Flag[];
+    bandMethod: string | null;
+    /** Participants set aside are drawn (hollow). */
+    hollow: boolean;
+  },
 ): string {
   const drawn =
     kind === "scatter"
-      ? `Scatter plot of the contrast value in ${r.region} against ${what.axis ?? "the trait"}, one mark per participant, with the fitted line (${what.bandMethod ?? "least squares"}) and its ${percent(ctx.level)} confidence band.`
+      ? `Scatter plot of the contrast value in ${r.region} against ${what.axis ?? "the trait"}, one mark per participant, with the fitted line and its ${percent(ctx.level)} confidence band. Line and band: ${what.bandMethod ?? "least squares"}.`
       : ctx.spec.kind === "two-group"
         ? `Strip plot of the contrast value in ${r.region} by group, one mark per participant, with each group's mean (bar) and ${percent(ctx.level)} confidence interval (whiskers); the dashed line marks zero. Horizontal offset within a group is for visibility only.`
         : `Strip plot of the contrast value in ${r.region}, one mark per participant, with the mean (bar) and its ${percent(ctx.level)} confidence interval (whiskers); the dashed line marks zero. Horizontal offset is for visibility only.`;
@@ -101,7 +107,7 @@ export function dataPlotCaption(
     drawn,
     resultLine(r, ctx.level),
     methodLine(ctx),
-    flagMeaning(what.flags),
+    flagMeaning(what.flags, what.hollow),
     setAsideLine(ctx.spec, r.region),
     source(ctx),
   ]
@@ -110,11 +116,16 @@ export function dataPlotCaption(
 }
 
 /** Caption of a region's influence view. */
-export function influenceCaption(ctx: CaptionContext, r: RegionResult, flagged: number): string {
+export function influenceCaption(
+  ctx: CaptionContext,
+  r: RegionResult,
+  flagged: number,
+  hollow: boolean,
+): string {
   return [
     `Who moves the estimate in ${r.region}: Cook's distance, leverage and the size of the studentized residual of each of ${count(r.n, "participant")}, largest Cook's distance first; ${count(flagged, "participant")} flagged, named by their ids.`,
     influenceNote,
-    flagMeaning(["outlier", "leverage", "influence"]),
+    flagMeaning(["outlier", "leverage", "influence"], hollow),
     setAsideLine(ctx.spec, r.region),
     source(ctx),
   ].join("\n");

@@ -209,9 +209,9 @@ async function build(
       raw: scatterFigure(s.input, figure.title, width),
       caption: dataPlotCaption(ctx, summary, "scatter", {
         axis: detail.axes.x,
-        note: s.note,
         flags: ordered,
         bandMethod: detail.band?.method ?? null,
+        hollow: s.input.points.some((p) => p.setAside),
       }),
     };
   }
@@ -221,9 +221,9 @@ async function build(
       raw: stripFigure(s.input, figure.title, width),
       caption: dataPlotCaption(ctx, summary, "strip", {
         axis: null,
-        note: s.note,
         flags: ordered,
         bandMethod: null,
+        hollow: s.input.points.some((p) => p.setAside),
       }),
     };
   }
@@ -236,6 +236,7 @@ async function build(
         ctx,
         summary,
         input.points.filter((p) => p.flags.length > 0).length,
+        input.points.some((p) => p.setAside),
       ),
     };
   }
