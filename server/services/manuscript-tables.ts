@@ -278,13 +278,12 @@ export function regionsLatex(fit: Fit, options: ManuscriptOptions): string {
 const RULE = { style: BorderStyle.SINGLE, size: 8, color: "000000" } as const;
 const NO_RULE = { style: BorderStyle.NONE, size: 0, color: "FFFFFF" } as const;
 
-function docxRuns(runs: readonly TextRun[], bold = false): DocxRun[] {
+function docxRuns(runs: readonly TextRun[]): DocxRun[] {
   return runs.map(
     (r) =>
       new DocxRun({
         text: r.text,
-        italics: r.italic,
-        bold,
+        ...(r.italic ? { italics: true } : {}),
         ...(r.script === "sub" ? { subScript: true } : {}),
         ...(r.script === "super" ? { superScript: true } : {}),
       }),
@@ -337,33 +336,24 @@ function rezip(bytes: Uint8Array, at: Date): Uint8Array {
 export async function regionsDocx(fit: Fit, options: ManuscriptOptions): Promise<Uint8Array> {
   const t = buildTable(fit, options);
   const width = t.header.length;
-  const tableCell = (c: Cell, k: number, head: boolean, last: boolean) =>
+  // The rules are the table's top and bottom borders and the header cells' bottom border:
+  // body cells carry no properties of their own (the docx writer's cost is per XML element).
+  const tableCell = (c: Cell, k: number, head: boolean) =>
     new TableCell({
       children: [
         new Paragraph({
-          alignment: t.numeric[k] ? AlignmentType.RIGHT : AlignmentType.LEFT,
+          ...(t.numeric[k] ? { alignment: AlignmentType.RIGHT } : {}),
           children: docxRuns(c),
         }),
       ],
-      borders: {
-        top: head ? RULE : NO_RULE,
-        bottom: head || last ? RULE : NO_RULE,
-        left: NO_RULE,
-        right: NO_RULE,
-      },
-      margins: { left: 80, right: 80 },
+      ...(head ? { borders: { bottom: RULE } } : {}),
     });
   const rows = [
     new TableRow({
       tableHeader: true,
-      children: t.header.map((c, k) => tableCell(c, k, true, t.rows.length === 0)),
+      children: t.header.map((c, k) => tableCell(c, k, true)),
     }),
-    ...t.rows.map(
-      (row, i) =>
-        new TableRow({
-          children: row.map((c, k) => tableCell(c, k, false, i === t.rows.length - 1)),
-        }),
-    ),
+    ...t.rows.map((row) => new TableRow({ children: row.map((c, k) => tableCell(c, k, false)) })),
   ];
   const at = fixedTime(fit);
   const doc = new Document({
@@ -380,9 +370,10 @@ export async function regionsDocx(fit: Fit, options: ManuscriptOptions): Promise
             rows,
             width: { size: 100, type: WidthType.PERCENTAGE },
             columnWidths: Array.from({ length: width }, () => Math.floor(9000 / width)),
+            margins: { left: 80, right: 80 },
             borders: {
-              top: NO_RULE,
-              bottom: NO_RULE,
+              top: RULE,
+              bottom: RULE,
               left: NO_RULE,
               right: NO_RULE,
               insideHorizontal: NO_RULE,
