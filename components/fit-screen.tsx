@@ -14,6 +14,8 @@ import { useCallback, useRef, useState } from "react";
 import { StyleSheet, useWindowDimensions, View } from "react-native";
 import { useRouter } from "expo-router";
 import { ForestPlot } from "./charts/forest-plot";
+import { estimateLabel } from "./fit/estimate-label";
+import { FigureDownloads } from "./fit/figure-downloads";
 import { RegionTable } from "./fit/region-table";
 import { RegionDetailPanel } from "./fit/region-detail";
 import { ProgressBar } from "./fit/progress-bar";
@@ -58,15 +60,6 @@ function specOf(fit: FitView): ModelSpec | null {
   } catch {
     return null;
   }
-}
-
-function estimateLabel(spec: ModelSpec | null): string {
-  if (!spec) return "Estimate";
-  if (spec.kind === "one-sample") return "Mean";
-  if (spec.kind === "two-group") return "Difference";
-  if (spec.estimator === "rank" || spec.estimator === "skipped" || spec.estimator === "bend")
-    return "Correlation";
-  return "Slope";
 }
 
 function FitBody({
@@ -231,6 +224,7 @@ function FitBody({
                 onSelect={select}
                 testID="forest-plot"
               />
+              <FigureDownloads fitId={fit.id} name="forest" label="forest plot of every region" />
             </Card>
             {spec?.weights === "first-level-se" ? (
               <Card style={wide ? styles.half : null}>

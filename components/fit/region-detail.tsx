@@ -22,6 +22,8 @@ import { pPhrase } from "./p-text";
 import { AttenuationNote } from "./attenuation-note";
 import type { AttenuationInput } from "./attenuation-words";
 import { ParticipantDiagnosticsTable } from "./participant-diagnostics-table";
+import { FigureDownloads } from "./figure-downloads";
+import { figureName } from "../../contract/views/figures";
 import {
   dataPlotKind,
   influenceInputOf,
@@ -134,6 +136,11 @@ export function RegionDetailPanel(props: {
         <Card>
           <Heading level={3}>{nullHistogramTitle}</Heading>
           <NullHistogram {...nullInput} testID="null-histogram" />
+          <FigureDownloads
+            fitId={d.fitId}
+            name={figureName(d.region, "null")}
+            label={`null distribution of ${d.region}`}
+          />
         </Card>
       ) : null}
     </>
@@ -192,6 +199,11 @@ function InfluenceCard({
             testID="influence-view"
           />
           <Txt kind="caption">{influenceNote}</Txt>
+          <FigureDownloads
+            fitId={detail.fitId}
+            name={figureName(detail.region, "influence")}
+            label={`influence view of ${detail.region}`}
+          />
         </>
       ) : (
         <Notice>
@@ -266,6 +278,11 @@ function DataPlot({
           testID="scatter-plot"
         />
         <Txt kind="caption">{scatter.note}</Txt>
+        <FigureDownloads
+          fitId={detail.fitId}
+          name={figureName(detail.region, "scatter")}
+          label={`scatter plot of ${detail.region}`}
+        />
       </Card>
     );
   }
@@ -280,6 +297,11 @@ function DataPlot({
         testID="strip-plot"
       />
       <Txt kind="caption">{strip.note}</Txt>
+      <FigureDownloads
+        fitId={detail.fitId}
+        name={figureName(detail.region, "strip")}
+        label={`strip plot of ${detail.region}`}
+      />
     </Card>
   );
 }

@@ -22,3 +22,8 @@ export interface FigureSummary {
   /** The regions the figure draws (every region for the forest plot). */
   regions?: string[];
 }
+
+/** The stable name of a region's figure: "L_dlpfc-scatter". */
+export function figureName(region: string, kind: Exclude<FigureKind, "forest">): string {
+  return `${region}-${kind}`;
+}

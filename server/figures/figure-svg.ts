@@ -72,10 +72,6 @@ export interface RawFigure {
   kept: KeptAttributes;
 }
 
-/** The journals' usual figure widths in millimetres: one column and two columns (common practice of journals, no single source). */
-export const figureWidthsMm = [89, 183] as const;
-export type FigureWidthMm = (typeof figureWidthsMm)[number];
-
 /**
  * SVG units per millimetre: a one-column figure is laid out 360 units wide,
  * the screen's default plot width, so its 11-unit tick labels print at

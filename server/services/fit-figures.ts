@@ -34,7 +34,12 @@ import {
 } from "../../components/fit/region-plot-inputs";
 import { specOfRecipe } from "../../contract/recipe";
 import type { Flag, RegionResult } from "../../contract/spec";
-import type { FigureKind, FigureSummary, FigureWidth } from "../../contract/views/figures";
+import {
+  type FigureKind,
+  type FigureSummary,
+  type FigureWidth,
+  figureName,
+} from "../../contract/views/figures";
 import {
   type CaptionContext,
   dataPlotCaption,
@@ -123,14 +128,14 @@ function figuresOf(fit: Fit, access: FigureAccess): FigureSummary[] {
   for (const r of regions) {
     if (access.participantsVisible) {
       list.push({
-        name: `${r.region}-${dataKind}`,
+        name: figureName(r.region, dataKind),
         kind: dataKind,
         title: `${r.region}: ${dataKind === "scatter" ? scatterTitle(spec.predictor ?? null) : stripTitle(spec.kind !== "two-group")}`,
         regions: [r.region],
       });
       if (spec.kind !== "reliability" && hasFlagCuts(r))
         list.push({
-          name: `${r.region}-influence`,
+          name: figureName(r.region, "influence"),
           kind: "influence",
           title: `${r.region}: ${influenceTitle}`,
           regions: [r.region],
@@ -138,7 +143,7 @@ function figuresOf(fit: Fit, access: FigureAccess): FigureSummary[] {
     }
     if (hasNull(r))
       list.push({
-        name: `${r.region}-null`,
+        name: figureName(r.region, "null"),
         kind: "null",
         title: `${r.region}: ${nullHistogramTitle.toLowerCase()}`,
         regions: [r.region],
