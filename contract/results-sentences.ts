@@ -84,7 +84,8 @@ export function sentenceContextOf(
     inference: text(result.inference ?? recipe.inference, "parametric"),
     correction: text(result.correction ?? recipe.correction, "none"),
     weighted: recipe.weights === "first-level-se",
-    adjusted: covariates > 0 || typeof recipe.group === "string",
+    // An association's group enters as a covariate; a two-group fit's group is what it compares.
+    adjusted: covariates > 0 || (recipe.kind === "association" && typeof recipe.group === "string"),
   };
 }
 

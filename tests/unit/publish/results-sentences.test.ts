@@ -27,7 +27,9 @@ import {
   sentenceContextOf,
   statisticRuns,
 } from "../../../contract/results-sentences";
-import type { RegionResult } from "../../../contract/spec";
+import { type FitData, type RegionResult, modelSpecSchema } from "../../../contract/spec";
+import { createRng, normalDraw } from "../../../server/stats/rng";
+import { runFit } from "../../../server/stats/run-fit";
 
 function region(fields: Partial<RegionResult>): RegionResult {
   return {
@@ -346,7 +348,95 @@ describe("results sentences (APA 7th ed., 6.36, 6.43, 6.44, from memory)", () =>
     ).toEqual(
       ctx({ inference: "permutation", correction: "maxt", adjusted: true, weighted: false }),
     );
+    // A two-group fit's group is what it compares, not an adjustment.
+    expect(
+      sentenceContextOf(
+        { kind: "two-group", estimator: "ols", inference: "bootstrap", correction: "none" },
+        { kind: "two-group", group: "group", covariates: [] },
+      ).adjusted,
+    ).toBe(false);
   });
+});
+
+describe("every kind and estimator of the engine gives a sentence by the rules", () => {
+  // Invented data from a seeded generator; the engine's own numbers, checked only for the style rules.
+  const rng = createRng(7);
+  const n = 30;
+  const age = Array.from({ length: n }, () => 20 + Math.floor(rng.next() * 40));
+  const data: FitData = {
+    participants: age.map((_, i) => `s${i}`),
+    regions: ["A", "B"],
+    values: [0, 1].map(() =>
+      Float64Array.from(age, (a, i) => 0.02 * a + (i % 2) * 0.5 + normalDraw(rng)),
+    ),
+    standardErrors: [0, 1].map(() => Float64Array.from(age, () => 0.2 + 0.1 * rng.next())),
+    numericColumns: { age, motion: age.map(() => rng.next()) },
+    categoricalColumns: { group: age.map((_, i) => (i % 2 ? "patient" : "control")) },
+  };
+  const groups = { group: "group", levels: ["patient", "control"] };
+  const cases: [Record<string, unknown>, RegExp][] = [
+    [{ kind: "one-sample" }, /^t\(29\) = \d+\.\d\d, p [<=] \.\d{3}, d = \d\.\d\d, 95% CI \[/],
+    [{ kind: "one-sample", estimator: "rank" }, /^T\+ = \d+, p [<=] \.\d{3}, pseudomedian = /],
+    [{ kind: "one-sample", estimator: "huber" }, /^t\(29\) = .*, b = \d\.\d\d, 95% CI/],
+    [{ kind: "two-group", ...groups, estimator: "welch" }, /^t\(\d+\.\d\) = .*, d = /],
+    [
+      { kind: "two-group", ...groups, estimator: "rank" },
+      /^U = [\d.]+, (z = .*, )?p .*Hodges–Lehmann shift = /,
+    ],
+    [{ kind: "two-group", ...groups, covariates: ["age"] }, /^t\(27\) = .*, d = /],
+    [
+      { kind: "association", predictor: "age" },
+      /^r\(28\) = −?\.\d\d, 95% CI \[−?\.\d\d, −?\.\d\d\], p /,
+    ],
+    [{ kind: "association", predictor: "age", estimator: "rank" }, /^r_s\(28\) = /],
+    [{ kind: "association", predictor: "age", estimator: "skipped" }, /^skipped r\(\d+\) = /],
+    [{ kind: "association", predictor: "age", estimator: "bend" }, /^r_pb\(28\) = −?\.\d\d, p /],
+    [
+      { kind: "association", predictor: "age", estimator: "bisquare" },
+      /^t\(28\) = .*, r = −?\.\d\d/,
+    ],
+    [
+      { kind: "association", predictor: "age", covariates: ["motion"], estimator: "rank" },
+      /^partial r_s\(27\) = /,
+    ],
+    [
+      { kind: "association", predictor: "age", ...groups, interaction: true },
+      /^partial r\(26\) = /,
+    ],
+    [{ kind: "one-sample", weights: "first-level-se" }, /^z = .*, b = /],
+    [
+      { kind: "one-sample", weights: "first-level-se", smallSample: "knapp-hartung" },
+      /^t\(29\) = .*, b = /,
+    ],
+    [
+      {
+        kind: "association",
+        predictor: "age",
+        inference: "permutation",
+        resamples: 200,
+        correction: "maxt",
+      },
+      /, permutation p [<=>] \.\d{3}, p_adj [<=>] \.\d{3} \(max-T\)$/,
+    ],
+    [
+      { kind: "two-group", ...groups, inference: "bootstrap", resamples: 200, correction: "bh" },
+      /^M_diff = \d\.\d\d, 95% CI \[.*\], bootstrap p .*\(Benjamini–Hochberg\), d = /,
+    ],
+  ];
+  for (const [fields, shape] of cases) {
+    it(JSON.stringify(fields), () => {
+      const spec = modelSpecSchema.parse(fields);
+      const result = runFit(spec, data);
+      const c = sentenceContextOf(result, spec);
+      for (const r of result.regions) {
+        const text = runsPlain(resultsSentence(r, c));
+        expect(text).toMatch(shape);
+        expect(text).not.toMatch(/NaN|undefined|null|Infinity|= \.000|-[\d.]/); // minus is U+2212
+        // No leading zero before r, r_s, r_pb, p or p_adj (6.36, from memory).
+        expect(text).not.toMatch(/\b(r|p)(_\w+)?(\([\d.]+\))? [=<>] −?0\./);
+      }
+    });
+  }
 });
 
 describe("Markdown escapes (common practice, no source)", () => {
