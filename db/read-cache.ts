@@ -21,6 +21,15 @@
  *
  * Answers are deep-frozen: a caller that changes one throws instead of
  * changing everyone's copy.
+ *
+ * On a PostgreSQL server (DATABASE_URL) the cache is not used: `cachedRead`
+ * just runs `load`. Other processes write to the same database, and no
+ * notice of their writes can arrive before a reader here asks — a NOTIFY
+ * reaches this process some time after the writer's commit, and the writer
+ * may already have answered its client, so a cache cleared on notices
+ * could hand out an answer older than a write its reader has seen
+ * confirmed. Correct first: a server answers many queries at once from its
+ * own processes, so the queueing this cache removes does not arise there.
  */
 import type { PGlite } from "@electric-sql/pglite";
 import type { Queryable } from "./client";

@@ -16,7 +16,8 @@ import { type ChildProcess, execFileSync, spawn } from "node:child_process";
 import { chownSync, existsSync, mkdtempSync, readdirSync, rmSync } from "node:fs";
 import { createServer } from "node:net";
 import { tmpdir } from "node:os";
-import { join } from "node:path";
+import { join, resolve } from "node:path";
+import { pathToFileURL } from "node:url";
 import pg from "pg";
 
 export interface PostgresServer {
@@ -252,7 +253,7 @@ export async function startPostgresServer(): Promise<PostgresServer> {
   };
 }
 
-if (import.meta.url === `file://${process.argv[1]}`) {
+if (process.argv[1] && import.meta.url === pathToFileURL(resolve(process.argv[1])).href) {
   const server = await startPostgresServer();
   await server.createDatabase("covarion");
   console.log(`PostgreSQL is running: DATABASE_URL=${server.url("covarion")}  (Ctrl-C stops it)`);
