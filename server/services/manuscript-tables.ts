@@ -14,7 +14,8 @@
  *   the same table; byte-deterministic: the core properties' created and
  *   modified dates are the fit's finish time and the zip entries carry that
  *   time too (its UTC fields), in a fixed order, so two calls give the same
- *   bytes whatever the server's time zone.
+ *   bytes whatever the server's time zone. The last 32 documents are kept
+ *   (a done fit never changes), so a second download costs nothing.
  * - `sentencesOf(fit): { region, text, runs }[]` — one results sentence per
  *   region (`text` without marks, `runs` with them).
  * - `sentencesMarkdown(fit): string` — the sentences as a Markdown list.
@@ -332,8 +333,40 @@ function rezip(bytes: Uint8Array, at: Date): Uint8Array {
   return zipSync(files);
 }
 
-/** The region table as a Word document (.docx), byte-deterministic for a given fit and options. */
+/**
+ * Word documents already written, by fit, finish time, visibility and title
+ * (a done fit never changes, so neither does its document): the download and
+ * the report bundle build it once. At most `DOCX_KEPT` documents, the least
+ * recently used dropped first.
+ */
+const docxKept = new Map<string, Uint8Array>();
+const DOCX_KEPT = 32;
+
+/**
+ * The region table as a Word document (.docx), byte-deterministic for a
+ * given fit and options. Callers get a copy of the kept bytes.
+ */
 export async function regionsDocx(fit: Fit, options: ManuscriptOptions): Promise<Uint8Array> {
+  regionsOf(fit); // 409 before anything kept is handed out
+  const key = JSON.stringify([
+    fit.id,
+    fixedTime(fit).toISOString(),
+    options.participantsVisible,
+    options.title ?? null,
+  ]);
+  const kept = docxKept.get(key);
+  if (kept) {
+    docxKept.delete(key);
+    docxKept.set(key, kept);
+    return kept.slice();
+  }
+  const bytes = await writeDocx(fit, options);
+  docxKept.set(key, bytes);
+  if (docxKept.size > DOCX_KEPT) docxKept.delete(docxKept.keys().next().value as string);
+  return bytes.slice();
+}
+
+async function writeDocx(fit: Fit, options: ManuscriptOptions): Promise<Uint8Array> {
   const t = buildTable(fit, options);
   const width = t.header.length;
   // The rules are the table's top and bottom borders and the header cells' bottom border:

@@ -130,7 +130,9 @@ describe("region tables", () => {
 
 describe("Word document", () => {
   it("is byte-identical when built twice at different times and in different time zones", async () => {
+    // Two fit rows with the same content: the second is written afresh, not taken from the kept documents.
     const fit = association();
+    const twin = { ...fit, id: "0f1e2d3c-0000-4000-8000-000000000002" } as Fit;
     const zone = process.env.TZ;
     try {
       vi.useFakeTimers({ toFake: ["Date"] });
@@ -139,11 +141,22 @@ describe("Word document", () => {
       const a = await regionsDocx(fit, { participantsVisible: true });
       vi.setSystemTime(new Date("2033-01-02T23:59:58.987Z"));
       process.env.TZ = "America/New_York";
-      const b = await regionsDocx(fit, { participantsVisible: true });
+      const b = await regionsDocx(twin, { participantsVisible: true });
       expect(Buffer.from(a).equals(Buffer.from(b))).toBe(true);
     } finally {
       process.env.TZ = zone;
     }
+  });
+
+  it("keeps a written document per fit and visibility, and hands out copies", async () => {
+    const fit = { ...association(), id: "0f1e2d3c-0000-4000-8000-000000000003" } as Fit;
+    const first = await regionsDocx(fit, { participantsVisible: true });
+    first.fill(0);
+    const again = await regionsDocx(fit, { participantsVisible: true });
+    expect(again[0]).toBe(0x50); // "P" of the zip signature: the kept bytes were not changed
+    const hidden = await regionsDocx(fit, { participantsVisible: false });
+    const xml = new TextDecoder().decode(unzipSync(hidden)["word/document.xml"]);
+    expect(xml).not.toContain("sub-03");
   });
 
   it("reads back: document.xml holds every region and its numbers; core dates are the finish time", async () => {
