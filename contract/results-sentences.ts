@@ -451,11 +451,20 @@ const LATEX_SPECIAL: Record<string, string> = {
   "²": "\\textsuperscript{2}",
   "×": "$\\times$",
   Σ: "$\\Sigma$",
+  "“": "``",
+  "”": "''",
+  "’": "'",
+  "≤": "$\\le$",
+  "≥": "$\\ge$",
 };
 
-/** Text for LaTeX: & % $ # _ { } ~ ^ \ escaped, the minus sign as `$-$`, dashes as `--`/`---`. */
+/**
+ * Text for LaTeX: & % $ # _ { } ~ ^ \ escaped, the minus sign as `$-$`, dashes as `--`/`---`,
+ * curly quotes as `` and '', and the other symbols the engine's method words use (τ, ², ×, Σ, ≤, ≥)
+ * in math mode, so the file compiles with pdfLaTeX's default fonts.
+ */
 export function escapeLatex(text: string): string {
-  return text.replace(/[&%$#_{}~^\\\u2212–—τ²×Σ]/g, (c) => LATEX_SPECIAL[c] ?? c);
+  return text.replace(/[&%$#_{}~^\\\u2212–—τ²×Σ“”’≤≥]/g, (c) => LATEX_SPECIAL[c] ?? c);
 }
 
 /** LaTeX: `\textit{t}`, `\textsubscript{adj}`, `\textsuperscript{+}`, text escaped. */

@@ -120,6 +120,7 @@ describe("region tables", () => {
     );
     expect(tex).toContain("L\\_insula &");
     expect(tex).not.toContain("\u2212"); // the minus sign is $-$ in LaTeX
+    expect(tex).toMatch(/^[\x09\x0a\x20-\x7e]*$/); // plain ASCII: compiles with pdfLaTeX's defaults
   });
 
   it("a fit that is not done answers 409", () => {

@@ -457,4 +457,9 @@ describe("LaTeX escapes (common practice, no source)", () => {
       "a\\&b\\%c\\$d\\#e\\_f\\{g\\}h\\textasciitilde{}i\\textasciicircum{}j\\textbackslash{}k",
     );
   });
+  it("writes dashes, the minus sign, curly quotes and the engine's symbols for pdfLaTeX", () => {
+    expect(escapeLatex("Benjamini–Hochberg — “age” − τ² × Σ ≤ ≥")).toBe(
+      "Benjamini--Hochberg --- ``age'' $-$ $\\tau$\\textsuperscript{2} $\\times$ $\\Sigma$ $\\le$ $\\ge$",
+    );
+  });
 });
