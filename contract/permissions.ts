@@ -71,6 +71,8 @@ export const permissions = {
   "invitation.read": anyone,
   "invitation.accept": signedIn,
   "planner.use": signedIn,
+  /** The route itself also asks that the person owns a study (server/routes/workers.ts). */
+  "workers.read": signedIn,
 
   // A study and its team
   "study.read": reads(everyone),

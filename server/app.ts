@@ -54,6 +54,7 @@ import { planRoutes } from "./routes/plans";
 import { setAsideRoutes } from "./routes/set-asides";
 import { studyRoutes } from "./routes/studies";
 import { systemRoutes } from "./routes/system";
+import { workerRoutes } from "./routes/workers";
 import type { Mailer } from "./services/mailer";
 import { FitNotices } from "./services/notices";
 import { PreviewStore } from "./services/preview-store";
@@ -184,6 +185,7 @@ export function createApp(deps: AppDeps): Express {
 
   app.use("/api", express.json({ limit: config.bodyLimit }), loadSession(db, clock));
   app.use("/api", systemRoutes(routeDeps));
+  app.use("/api", workerRoutes(routeDeps));
   if (config.devServices) app.use("/api", devRoutes(routeDeps));
   app.use("/api", studyRoutes(routeDeps));
   app.use("/api", memberRoutes(routeDeps));

@@ -26,6 +26,7 @@ import { ConfigError, loadConfig } from "./config";
 import { createHttpServer } from "./http/request-timeouts";
 import type { FitJobs } from "./jobs/fit-jobs";
 import { createFitJobs } from "./services/fit-store";
+import { queueDispatch } from "./worker/fit-dispatch";
 import { startServices, type Services } from "./dev/dev-services";
 import { removeIncompleteVersions } from "./services/datasets";
 import { acquireDataLock, DataLockError, type DataLock } from "./services/data-lock";
@@ -81,7 +82,11 @@ async function main(): Promise<void> {
       }
     });
     services = await startServices(config);
-    fitJobs = createFitJobs(database.db, { warm: true });
+    // With a PostgreSQL server, worker processes compute the fits (npm run worker); this process enqueues.
+    fitJobs = createFitJobs(
+      database.db,
+      database.kind === "server" ? { dispatch: queueDispatch(database.db) } : { warm: true },
+    );
     const app = createApp({
       config,
       db: database.db,

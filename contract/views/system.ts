@@ -36,3 +36,15 @@ export interface MailMessage {
   html: string | null;
   sentAt: string;
 }
+
+/** GET /api/system/workers: a live worker process (PostgreSQL server; none with the embedded database). */
+export interface LiveWorker {
+  id: string;
+  host: string;
+  pid: number;
+  startedAt: string;
+  /** Its last heartbeat. */
+  seenAt: string;
+  /** Chunks of permutation tests it stored in the last minute. */
+  chunksLastMinute: number;
+}

@@ -129,8 +129,20 @@ export interface FitEventRelay {
   subscribe(handler: (event: FitEvent) => void): () => void;
 }
 
+/** Where queued fits go instead of this process's threads: a job queue that worker processes serve (server/worker/). */
+export interface FitDispatch {
+  enqueue(fitId: string): Promise<void>;
+  close(): Promise<void>;
+}
+
 export interface FitJobsOptions {
   store: FitJobStore;
+  /**
+   * A job queue for the fits (PostgreSQL server): `enqueue` hands each fit
+   * to it and this process computes none; the workers' events arrive
+   * through `events`.
+   */
+  dispatch?: FitDispatch;
   /** Without it, a fit's events reach only this process's listeners. */
   events?: FitEventRelay;
   data: FitDataSource;
@@ -184,6 +196,7 @@ export class FitJobs {
   private readonly listeners = new Map<string, Set<(e: FitEvent) => void>>();
   private readonly everyFit = new Set<(e: FitEvent) => void>();
   private readonly events: FitEventRelay | null;
+  private readonly dispatch: FitDispatch | null;
   private readonly stopRelay: () => void;
   private closed = false;
 
@@ -198,6 +211,7 @@ export class FitJobs {
     this.data = options.data;
     this.warm = options.warm ?? false;
     this.events = options.events ?? null;
+    this.dispatch = options.dispatch ?? null;
     this.stopRelay =
       this.events?.subscribe((event) => {
         // Cancelled in another process: stop computing here too (the fit is already marked).
@@ -205,12 +219,20 @@ export class FitJobs {
           this.running.get(event.fitId)?.controller.abort(new Error("cancelled"));
         this.deliver(event);
       }) ?? (() => {});
-    if (this.warm) this.getPool();
+    if (this.warm && !this.dispatch) this.getPool();
   }
 
   /** Starts a queued fit (its row must exist with status "queued"). */
   enqueue(fitId: string): void {
     if (this.closed) throw new Error("FitJobs: closed");
+    if (this.dispatch) {
+      const sent = this.dispatch
+        .enqueue(fitId)
+        .catch((error) => this.log(error, `fit ${fitId}: queue`));
+      this.pending.add(sent);
+      void sent.finally(() => this.pending.delete(sent));
+      return;
+    }
     if (this.running.has(fitId)) return;
     let markStored: (count: number) => void = () => {};
     let storeFailed: (error: unknown) => void = () => {};
@@ -314,6 +336,7 @@ export class FitJobs {
     this.stopRelay();
     for (const run of this.running.values()) run.controller.abort(new Error("shutting down"));
     await Promise.allSettled([...this.pending]);
+    await this.dispatch?.close();
     const pool = this.pool;
     this.pool = null;
     if (pool) await pool.destroy();

@@ -21,6 +21,7 @@
 import type { MessagePort } from "node:worker_threads";
 import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
+import { mergedLinearPermutationTest, type RearrangementChunk } from "../stats/permutation";
 import type { RegionPlot } from "../../contract/views/fits";
 import { regionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
@@ -36,6 +37,8 @@ export interface FitTask {
   spec: ModelSpec;
   data: FitData;
   port: MessagePort;
+  /** The permutation test's chunks, computed by worker processes: merged instead of computed here. */
+  chunks?: RearrangementChunk[];
 }
 
 /** One region's per-participant diagnostics and plot data, as JSON text. */
@@ -62,7 +65,9 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
   post({ type: "started" });
   let last = 0;
   try {
+    const chunks = task.chunks;
     const result = runFit(task.spec, task.data, {
+      linearPermutation: chunks && ((input) => mergedLinearPermutationTest(input, chunks)),
       onProgress: (fraction) => {
         const now = Date.now();
         if (now - last < PROGRESS_INTERVAL_MS && fraction < 1) return;

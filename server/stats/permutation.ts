@@ -442,3 +442,24 @@ function lowerBound(sorted: Float64Array, x: number): number {
   }
   return lo;
 }
+
+/**
+ * The result of `sharedLinearPermutationTest` with "blocks-v1" streams from
+ * its chunks computed elsewhere (worker threads or processes): the input is
+ * prepared again here (its observed statistics and draw; cost as
+ * `prepareSharedLinearPermutation`) and the chunks merged by
+ * `mergeRearrangementChunks`. Throws StatsError as those do, and when the
+ * input does not ask for "blocks-v1" streams.
+ */
+export function mergedLinearPermutationTest(
+  input: SharedLinearPermutationInput,
+  chunks: readonly RearrangementChunk[],
+): LinearPermutationResult {
+  if (input.streams !== "blocks-v1")
+    throw new StatsError("linearPermutationTest merges chunks of blocked streams only");
+  const setup = prepareSharedLinearPermutation(input);
+  return mergeRearrangementChunks(setup.observed, setup.draw, chunks, {
+    maxT: input.maxT === true,
+    keepNull: input.keepNull === true,
+  });
+}

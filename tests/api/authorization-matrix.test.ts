@@ -117,6 +117,11 @@ const matrix: Record<string, Row> = {
     path: () => "/api/me/preferences/region-table.columns",
     expected: signedIn(204),
   },
+  // An Owner of any study sees the worker processes; other signed-in people own none here.
+  "GET /api/system/workers": {
+    path: () => "/api/system/workers",
+    expected: { ...signedIn(403), owner: 200 },
+  },
   "GET /api/dev/mail": { path: () => "/api/dev/mail", expected: all(200) },
   "POST /api/dev/demo-sign-in": {
     path: () => "/api/dev/demo-sign-in",

@@ -5,10 +5,17 @@
  * last check on a finished result (no NaN or ±Infinity leaves the engine).
  */
 import { StatsError } from "../errors";
+import type { LinearPermutationResult, SharedLinearPermutationInput } from "../permutation";
 
 export interface RunFitOptions {
   onProgress?: (fraction: number) => void;
   shouldCancel?: () => boolean;
+  /**
+   * Answers the least-squares permutation test in place of computing it
+   * here: given the test's input, what `sharedLinearPermutationTest` would
+   * return (a fit whose chunks worker processes computed merges them here).
+   */
+  linearPermutation?: (input: SharedLinearPermutationInput) => LinearPermutationResult;
 }
 
 /** Confidence level of every interval in a fit. */

@@ -12,7 +12,7 @@ import { bootstrapInterval } from "../bootstrap";
 import { bootstrapP, bootstrapStatistic } from "../bootstrap-statistic";
 import { adjustPValues } from "../corrections";
 import { sharedGenericPermutationTest } from "../generic-permutation";
-import { sharedLinearPermutationTest } from "../permutation";
+import { type SharedLinearPermutationInput, sharedLinearPermutationTest } from "../permutation";
 import { permutationStatistic } from "../permutation-statistic";
 import { extremeThreshold } from "../rearrangements";
 import { createRng } from "../rng";
@@ -91,44 +91,14 @@ export function permutationPass(
   const s = prep.spec;
   const maxT = s.correction === "maxt";
   // The shared participants: available in at least one region, in roster order.
-  const position = new Int32Array(prep.data.participants.length).fill(-1);
-  for (const w of works) for (const i of w.rows) position[i] = 0;
-  let shared = 0;
-  for (let i = 0; i < position.length; i++) if (position[i] === 0) position[i] = shared++;
+  const { of: position, shared } = sharedPositions(prep, works);
   const membersOf = (rows: readonly number[]) => Int32Array.from(rows, (i) => position[i]);
   const differ = works.some((w) => w.rows.length !== shared);
   const progress = scaledProgress(options, 0.1, 0.9);
   if (s.estimator === "ols") {
-    // Regions on the same participants form one block (one design, the kernel's batched product).
-    const groups = new Map<string, RegionWork[]>();
-    for (const w of works) {
-      const key = w.rows.join(",");
-      const list = groups.get(key) ?? [];
-      list.push(w);
-      groups.set(key, list);
-    }
-    const lists = [...groups.values()];
-    const scheme = s.kind === "one-sample" ? "sign-flip" : "freedman-lane";
-    const res = sharedLinearPermutationTest({
-      participants: shared,
-      blocks: lists.map((list) => {
-        const d = list[0].data;
-        return {
-          design: d.design.x,
-          n: d.design.n,
-          p: d.design.p,
-          tested: d.tested,
-          y: list.map((w) => w.data.y),
-          members: membersOf(list[0].rows),
-          label: list[0].name,
-        };
-      }),
-      scheme,
-      resamples: s.resamples,
-      rng: createRng(s.seed),
-      streams: s.rearrangementStreams,
-      maxT,
-      keepNull: true,
+    const { input, lists, scheme } = linearPermutationInput(prep, works);
+    const res = (options.linearPermutation ?? sharedLinearPermutationTest)({
+      ...input,
       onProgress: progress,
       shouldCancel: options.shouldCancel,
     });
@@ -196,6 +166,68 @@ export function permutationPass(
     notes.push(permutationNote(s.kind, false));
   }
   if (differ) notes.push(sharedRearrangementNote(s.kind, shared, s.resamples));
+}
+
+/**
+ * The least-squares permutation test of a fit's regions as
+ * `permutationPass` runs it (regions on the same participants form one
+ * block: one design, the kernel's batched product), and the regions of each
+ * block. Worker processes that compute a fit's chunks build it here too.
+ * Cost O(regions·n).
+ */
+export function linearPermutationInput(
+  prep: Prepared,
+  works: readonly RegionWork[],
+): {
+  input: SharedLinearPermutationInput;
+  lists: RegionWork[][];
+  scheme: "sign-flip" | "freedman-lane";
+} {
+  const s = prep.spec;
+  const position = sharedPositions(prep, works);
+  const groups = new Map<string, RegionWork[]>();
+  for (const w of works) {
+    const key = w.rows.join(",");
+    const list = groups.get(key) ?? [];
+    list.push(w);
+    groups.set(key, list);
+  }
+  const lists = [...groups.values()];
+  const scheme = s.kind === "one-sample" ? "sign-flip" : "freedman-lane";
+  const input: SharedLinearPermutationInput = {
+    participants: position.shared,
+    blocks: lists.map((list) => {
+      const d = list[0].data;
+      return {
+        design: d.design.x,
+        n: d.design.n,
+        p: d.design.p,
+        tested: d.tested,
+        y: list.map((w) => w.data.y),
+        members: Int32Array.from(list[0].rows, (i) => position.of[i]),
+        label: list[0].name,
+      };
+    }),
+    scheme,
+    resamples: s.resamples,
+    rng: createRng(s.seed),
+    streams: s.rearrangementStreams,
+    maxT: s.correction === "maxt",
+    keepNull: true,
+  };
+  return { input, lists, scheme };
+}
+
+/** The shared participants (available in at least one region, in roster order) and each one's position among them. */
+function sharedPositions(
+  prep: Prepared,
+  works: readonly RegionWork[],
+): { of: Int32Array; shared: number } {
+  const of = new Int32Array(prep.data.participants.length).fill(-1);
+  for (const w of works) for (const i of w.rows) of[i] = 0;
+  let shared = 0;
+  for (let i = 0; i < of.length; i++) if (of[i] === 0) of[i] = shared++;
+  return { of, shared };
 }
 
 /** Puts a region's permutation p, its scheme and its null histogram on the region's result (the parametric p kept as `pParametric`). */

@@ -1,0 +1,49 @@
+/**
+ * The worker processes serving the job queue (PostgreSQL server, `npm run
+ * worker`): those whose heartbeat is recent, with the chunks each stored
+ * in the last minute. With the embedded database the list is empty.
+ */
+import { and, eq, gt, isNull, sql } from "drizzle-orm";
+import type { Queryable } from "../../db/client";
+import { fitChunks, memberships, studies, workers } from "../../db/schema";
+import type { LiveWorker } from "../../contract/views/system";
+
+/** A heartbeat older than this counts as a stopped worker (workers beat every 5 s). */
+export const WORKER_ALIVE_SECONDS = 30;
+
+/** Whether the person is Owner of a study that is not deleted (who may see the workers). */
+export async function ownsAStudy(db: Queryable, userId: string): Promise<boolean> {
+  const rows = await db
+    .select({ id: studies.id })
+    .from(memberships)
+    .innerJoin(studies, eq(studies.id, memberships.studyId))
+    .where(
+      and(eq(memberships.userId, userId), eq(memberships.role, "owner"), isNull(studies.deletedAt)),
+    )
+    .limit(1);
+  return rows.length > 0;
+}
+
+/** Live workers, by host, oldest first. */
+export async function liveWorkers(db: Queryable, now: Date): Promise<LiveWorker[]> {
+  const alive = new Date(now.getTime() - WORKER_ALIVE_SECONDS * 1000);
+  const minute = new Date(now.getTime() - 60_000);
+  const rows = await db
+    .select({
+      id: workers.id,
+      host: workers.host,
+      pid: workers.pid,
+      startedAt: workers.startedAt,
+      seenAt: workers.seenAt,
+      chunksLastMinute: sql<number>`(select count(*)::int from ${fitChunks} where ${fitChunks.workerId} = ${workers.id} and ${fitChunks.computedAt} > ${minute.toISOString()}::timestamptz)`,
+    })
+    .from(workers)
+    .where(gt(workers.seenAt, alive))
+    .orderBy(workers.host, workers.startedAt);
+  return rows.map((r) => ({
+    ...r,
+    startedAt: r.startedAt.toISOString(),
+    seenAt: r.seenAt.toISOString(),
+    chunksLastMinute: Number(r.chunksLastMinute),
+  }));
+}

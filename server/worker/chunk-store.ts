@@ -1,0 +1,149 @@
+/**
+ * What worker processes read and write besides a fit's own row (which
+ * services/fit-store.ts writes): the fit's chunk plan (`fit_runs`), its
+ * computed chunks (`fit_chunks`, each written once), the merge claim, and
+ * worker heartbeats (`workers`; services/workers.ts lists them). PostgreSQL
+ * server only.
+ */
+import { and, count, eq, isNull } from "drizzle-orm";
+import { type Database, driverOf } from "../../db/client";
+import { fitChunks, fitRuns, fits, workers } from "../../db/schema";
+import type { StoredChunk } from "../jobs/fit-chunks";
+
+/** A fit's status, recipe, inputs and first start, or null when it is gone. */
+export async function fitRow(db: Database, fitId: string) {
+  const [row] = await db
+    .select({
+      status: fits.status,
+      recipe: fits.recipe,
+      brainVersionId: fits.brainVersionId,
+      sheetVersionId: fits.sheetVersionId,
+      startedAt: fits.startedAt,
+    })
+    .from(fits)
+    .where(eq(fits.id, fitId));
+  return row ?? null;
+}
+
+/** A fit's status, or null when it is gone. */
+export async function fitStatus(db: Database, fitId: string): Promise<string | null> {
+  const [row] = await db.select({ status: fits.status }).from(fits).where(eq(fits.id, fitId));
+  return row?.status ?? null;
+}
+
+/** Records a fit's number of chunks (once: a re-planned fit keeps its row). */
+export async function recordPlan(db: Database, fitId: string, chunks: number, at: Date) {
+  await db.insert(fitRuns).values({ fitId, chunks, plannedAt: at }).onConflictDoNothing();
+}
+
+/** A fit's plan: its number of chunks and whether it was merged. */
+export async function planOf(db: Database, fitId: string) {
+  const [row] = await db
+    .select({ chunks: fitRuns.chunks, mergedAt: fitRuns.mergedAt })
+    .from(fitRuns)
+    .where(eq(fitRuns.fitId, fitId));
+  return row ?? null;
+}
+
+/** Whether chunk `chunk` of the fit is stored. */
+export async function hasChunk(db: Database, fitId: string, chunk: number): Promise<boolean> {
+  const rows = await db
+    .select({ chunk: fitChunks.chunk })
+    .from(fitChunks)
+    .where(and(eq(fitChunks.fitId, fitId), eq(fitChunks.chunk, chunk)));
+  return rows.length > 0;
+}
+
+/** Stores a chunk unless it is already stored (then nothing changes); answers the fit's stored chunks. */
+export async function storeChunk(
+  db: Database,
+  fitId: string,
+  row: StoredChunk,
+  workerId: string,
+  at: Date,
+): Promise<number> {
+  await db
+    .insert(fitChunks)
+    .values({ fitId, ...row, workerId, computedAt: at })
+    .onConflictDoNothing();
+  const [{ done }] = await db
+    .select({ done: count() })
+    .from(fitChunks)
+    .where(eq(fitChunks.fitId, fitId));
+  return done;
+}
+
+/** Every stored chunk of a fit. */
+export async function storedChunks(db: Database, fitId: string): Promise<StoredChunk[]> {
+  return await db
+    .select({
+      chunk: fitChunks.chunk,
+      regionFrom: fitChunks.regionFrom,
+      block: fitChunks.block,
+      counts: fitChunks.counts,
+      maxAbs: fitChunks.maxAbs,
+      nulls: fitChunks.nulls,
+      exact: fitChunks.exact,
+      rearrangements: fitChunks.rearrangements,
+    })
+    .from(fitChunks)
+    .where(eq(fitChunks.fitId, fitId))
+    .orderBy(fitChunks.chunk);
+}
+
+/** Marks the fit merged (once). */
+export async function markMerged(db: Database, fitId: string, at: Date): Promise<void> {
+  await db
+    .update(fitRuns)
+    .set({ mergedAt: at })
+    .where(and(eq(fitRuns.fitId, fitId), isNull(fitRuns.mergedAt)));
+}
+
+/**
+ * Runs `merge` holding the fit's merge lock (a PostgreSQL session advisory
+ * lock on a connection of its own), or answers false at once when another
+ * process holds it. The lock ends with the connection, so a merging process
+ * that dies frees it.
+ */
+export async function withMergeLock(
+  db: Database,
+  fitId: string,
+  merge: () => Promise<void>,
+): Promise<boolean> {
+  const driver = driverOf(db);
+  if (driver.kind !== "server") throw new Error("merge locks need a PostgreSQL server");
+  const client = await driver.pool.connect();
+  const key = `covarion fit merge ${fitId}`;
+  try {
+    const got = await client.query<{ ok: boolean }>(
+      "select pg_try_advisory_lock(hashtextextended($1, 0)) as ok",
+      [key],
+    );
+    if (!got.rows[0].ok) return false;
+    try {
+      await merge();
+    } finally {
+      await client.query("select pg_advisory_unlock(hashtextextended($1, 0))", [key]);
+    }
+    return true;
+  } finally {
+    client.release();
+  }
+}
+
+/** Writes (or refreshes) a worker's heartbeat. */
+export async function beat(
+  db: Database,
+  worker: { id: string; host: string; pid: number; startedAt: Date },
+  at: Date,
+): Promise<void> {
+  await db
+    .insert(workers)
+    .values({ ...worker, seenAt: at })
+    .onConflictDoUpdate({ target: workers.id, set: { seenAt: at } });
+}
+
+/** Removes a worker's heartbeat (it stopped). */
+export async function forgetWorker(db: Database, id: string): Promise<void> {
+  await db.delete(workers).where(eq(workers.id, id));
+}

@@ -1,0 +1,433 @@
+/**
+ * A worker process's work (`npm run worker`, server/worker/index.ts): takes
+ * jobs from the three fit queues (server/worker/queue.ts) on the PostgreSQL
+ * server and computes them in worker threads, so its main thread stays free
+ * for the queue, the heartbeat and watching for cancels.
+ *
+ * - `fit`: a queued fit becomes running. A split fit (server/jobs/
+ *   fit-chunks.ts) records its number of chunks and sends one `fit-chunk`
+ *   job per chunk; any other fit is computed whole here, as the embedded
+ *   path computes it (server/jobs/fit-task.ts).
+ * - `fit-chunk`: computes one chunk and stores it once (a chunk already
+ *   stored is not computed again and adds nothing); progress is the share
+ *   of chunks stored. The one that stores the last chunk sends `fit-merge`.
+ *   While it computes, the fit's status is read every second: a fit that is
+ *   no longer running (cancelled) drops the chunk. A chunk that fails on its
+ *   last try fails the fit with the error.
+ * - `fit-merge`: under the fit's merge lock (one party at a time, and a
+ *   fit merged once), runs `runFit` with the stored chunks merged in place
+ *   of the permutation test and stores the result through the fit store
+ *   (services/fit-store.ts), as the embedded path does.
+ *
+ * Fit events (running, progress, done, failed) go out on the database's
+ * fit-event channel, so the web servers' listeners receive them.
+ */
+import { randomUUID } from "node:crypto";
+import { hostname } from "node:os";
+import { MessageChannel } from "node:worker_threads";
+import type PgBoss from "pg-boss";
+import type { Piscina } from "piscina";
+import { specOfRecipe } from "../../contract/recipe";
+import type { FitData, ModelSpec } from "../../contract/spec";
+import type { Database } from "../../db/client";
+import { IntakeError } from "../intake/errors";
+import {
+  type ChunkedFit,
+  chunkedFit,
+  chunkTask,
+  decodeChunk,
+  encodeChunk,
+} from "../jobs/fit-chunks";
+import { type FitEvent, INTERNAL_FAILURE } from "../jobs/fit-jobs";
+import type { FitTask, FitTaskMessage, FitTaskOutcome } from "../jobs/fit-task";
+import { secondsLeftOf } from "../jobs/time-left";
+import { workerPool } from "../jobs/worker-pool";
+import { FitDataCache, inputsOfFit } from "../services/fit-inputs";
+import { FitStore, fitEvents } from "../services/fit-store";
+import { StatsError } from "../stats/errors";
+import type { RearrangementChunk } from "../stats/permutation";
+import type { RearrangementCounts } from "../stats/permutation-kernel";
+import {
+  beat,
+  fitRow,
+  fitStatus,
+  forgetWorker,
+  hasChunk,
+  markMerged,
+  planOf,
+  recordPlan,
+  storeChunk,
+  storedChunks,
+  withMergeLock,
+} from "./chunk-store";
+import {
+  CHUNK_QUEUE,
+  type ChunkJobData,
+  FIT_QUEUE,
+  type FitJobData,
+  MERGE_QUEUE,
+  startQueue,
+} from "./queue";
+
+export interface FitWorkerOptions {
+  db: Database;
+  /** Seconds a job may be held before the queue retries it (default 600). */
+  leaseSeconds?: number;
+  /** Retries of a failed or expired job (default 3). */
+  retries?: number;
+  /** Seconds between the queue's maintenance passes (default 30). */
+  maintenanceSeconds?: number;
+  /** Seconds between heartbeats (default 5). */
+  heartbeatSeconds?: number;
+  log?: (error: unknown, context: string) => void;
+}
+
+/** How often a computing chunk or fit reads its fit's status (a cancel drops it). */
+const WATCH_MS = 1000;
+
+export class FitWorker {
+  readonly id = randomUUID();
+  readonly host = hostname();
+  private readonly db: Database;
+  private readonly store: FitStore;
+  private readonly data: FitDataCache;
+  private readonly events: ReturnType<typeof fitEvents>;
+  private readonly log: (error: unknown, context: string) => void;
+  private readonly startedAt = new Date();
+  private readonly plans = new Map<string, Promise<ChunkedFit>>();
+  private boss: PgBoss | null = null;
+  private chunkPool: Piscina | null = null;
+  private fitPool: Piscina | null = null;
+  private heartbeat: ReturnType<typeof setInterval> | null = null;
+  private stopped = false;
+
+  private constructor(private readonly options: FitWorkerOptions) {
+    this.db = options.db;
+    this.store = new FitStore(options.db);
+    this.data = new FitDataCache(options.db, 2);
+    this.events = fitEvents(options.db);
+    this.log = options.log ?? ((error, context) => console.error(`[covarion] ${context}:`, error));
+  }
+
+  /** Starts a worker on `db`: heartbeat, the queue, and one thread each for chunks and whole fits. */
+  static async start(options: FitWorkerOptions): Promise<FitWorker> {
+    const worker = new FitWorker(options);
+    await worker.begin();
+    return worker;
+  }
+
+  private async begin(): Promise<void> {
+    await this.beat();
+    this.heartbeat = setInterval(
+      () => void this.beat().catch((error) => this.log(error, "worker heartbeat")),
+      (this.options.heartbeatSeconds ?? 5) * 1000,
+    );
+    this.chunkPool = workerPool("permutation-task.ts", { minThreads: 1, maxThreads: 1 });
+    this.fitPool = workerPool("fit-task.ts", {
+      minThreads: 0,
+      maxThreads: 1,
+      idleTimeout: 60_000,
+    });
+    const boss = await startQueue(this.db, {
+      supervise: true,
+      leaseSeconds: this.options.leaseSeconds,
+      retries: this.options.retries,
+      maintenanceSeconds: this.options.maintenanceSeconds,
+    });
+    this.boss = boss;
+    const work = { includeMetadata: true as const, pollingIntervalSeconds: 0.5 };
+    await boss.work<FitJobData>(FIT_QUEUE, work, ([job]) => this.planFit(job));
+    await boss.work<ChunkJobData>(CHUNK_QUEUE, work, ([job]) => this.computeChunk(job));
+    await boss.work<FitJobData>(MERGE_QUEUE, work, ([job]) => this.merge(job.data.fitId));
+  }
+
+  /** Stops taking jobs (a job in hand is left to its lease), removes the heartbeat and ends the threads. */
+  async stop(): Promise<void> {
+    if (this.stopped) return;
+    this.stopped = true;
+    if (this.heartbeat) clearInterval(this.heartbeat);
+    await this.boss?.stop({ graceful: false, close: false, wait: true, timeout: 5000 });
+    await forgetWorker(this.db, this.id).catch((error) => this.log(error, "worker heartbeat"));
+    await Promise.all([this.chunkPool?.destroy(), this.fitPool?.destroy()]);
+  }
+
+  private beat(): Promise<void> {
+    return beat(
+      this.db,
+      { id: this.id, host: this.host, pid: process.pid, startedAt: this.startedAt },
+      new Date(),
+    );
+  }
+
+  private emit(event: FitEvent): void {
+    this.events.publish(event);
+  }
+
+  private async fail(fitId: string, code: string, message: string): Promise<void> {
+    const failed = await this.store.markFailed(fitId, code, message, new Date());
+    if (failed)
+      this.emit({
+        type: "status",
+        fitId,
+        status: "failed",
+        progress: { fraction: failed.progress, secondsLeft: null },
+        error: { code, message },
+      });
+  }
+
+  /** The model and data of a fit, or a reason it has none (the fit is then failed). */
+  private async inputsOf(
+    fitId: string,
+    row: NonNullable<Awaited<ReturnType<typeof fitRow>>>,
+  ): Promise<{ spec: ModelSpec; data: FitData } | null> {
+    try {
+      const spec = specOfRecipe(row.recipe);
+      const data = await this.data.get(inputsOfFit({ ...row, recipe: row.recipe }));
+      return { spec, data };
+    } catch (error) {
+      if (error instanceof IntakeError) {
+        await this.fail(fitId, error.problems[0]?.code ?? "invalid_data", error.message);
+        return null;
+      }
+      this.log(error, `fit ${fitId}: building its data`);
+      await this.fail(fitId, "data_unavailable", "The fit's data versions could not be read.");
+      return null;
+    }
+  }
+
+  /** `fit` job: start the fit, then split it into chunk jobs or compute it whole. */
+  private async planFit(job: PgBoss.JobWithMetadata<FitJobData>): Promise<void> {
+    const { fitId } = job.data;
+    const row = await fitRow(this.db, fitId);
+    // A retried plan (the first planner died) finds the fit running and plans it again: chunks are stored once.
+    if (!row || !(row.status === "queued" || (row.status === "running" && job.retryCount > 0)))
+      return;
+    const inputs = await this.inputsOf(fitId, row);
+    if (!inputs) return;
+    const startedAt = new Date();
+    if (row.status === "queued") {
+      if (!(await this.store.markRunning(fitId, startedAt))) return;
+      this.emit({
+        type: "status",
+        fitId,
+        status: "running",
+        progress: { fraction: 0, secondsLeft: null },
+        error: null,
+      });
+    }
+    let plan: ChunkedFit | null;
+    try {
+      plan = chunkedFit(inputs.spec, inputs.data);
+    } catch (error) {
+      if (error instanceof StatsError) return await this.fail(fitId, error.code, error.message);
+      throw error;
+    }
+    if (!plan) {
+      await this.computeFit(fitId, inputs, null, row.startedAt ?? startedAt);
+      return;
+    }
+    this.plans.set(fitId, Promise.resolve(plan));
+    await recordPlan(this.db, fitId, plan.chunks, startedAt);
+    const boss = this.boss as PgBoss;
+    await boss.insert(
+      Array.from({ length: plan.chunks }, (_, chunk) => ({
+        name: CHUNK_QUEUE,
+        data: { fitId, chunk } satisfies ChunkJobData,
+      })),
+    );
+  }
+
+  /** The chunk grid of a running fit (built once per fit in this process). */
+  private planFor(fitId: string): Promise<ChunkedFit> {
+    let plan = this.plans.get(fitId);
+    if (!plan) {
+      plan = (async () => {
+        const row = await fitRow(this.db, fitId);
+        if (!row) throw new Error(`fit ${fitId} is gone`);
+        const spec = specOfRecipe(row.recipe);
+        const data = await this.data.get(inputsOfFit(row));
+        const built = chunkedFit(spec, data);
+        if (!built) throw new Error(`fit ${fitId} is not split into chunks`);
+        return built;
+      })();
+      this.plans.set(fitId, plan);
+      plan.catch(() => this.plans.delete(fitId));
+      // Keep the grids of the last few fits only.
+      while (this.plans.size > 2) this.plans.delete(this.plans.keys().next().value as string);
+    }
+    return plan;
+  }
+
+  /** Runs `task` while reading the fit's status every second; `stop` is called once it is no longer running. */
+  private async watching<T>(fitId: string, stop: () => void, task: () => Promise<T>): Promise<T> {
+    let reading = false;
+    const timer = setInterval(() => {
+      if (reading) return;
+      reading = true;
+      fitStatus(this.db, fitId)
+        .then((status) => {
+          if (status !== "running") stop();
+        })
+        .catch((error) => this.log(error, `fit ${fitId}: status`))
+        .finally(() => {
+          reading = false;
+        });
+    }, WATCH_MS);
+    try {
+      return await task();
+    } finally {
+      clearInterval(timer);
+    }
+  }
+
+  /** `fit-chunk` job: compute the chunk unless stored; store it once; send the merge after the last. */
+  private async computeChunk(job: PgBoss.JobWithMetadata<ChunkJobData>): Promise<void> {
+    const { fitId, chunk } = job.data;
+    if ((await fitStatus(this.db, fitId)) !== "running") return; // cancelled or finished: dropped
+    if (!(await hasChunk(this.db, fitId, chunk))) {
+      let counts: RearrangementCounts;
+      const control = new Int32Array(new SharedArrayBuffer(8));
+      try {
+        const plan = await this.planFor(fitId);
+        const task = chunkTask(plan, chunk, control.buffer as SharedArrayBuffer);
+        counts = await this.watching(
+          fitId,
+          () => Atomics.store(control, 0, 1),
+          () => (this.chunkPool as Piscina).run(task) as Promise<RearrangementCounts>,
+        );
+        const done = await storeChunk(
+          this.db,
+          fitId,
+          encodeChunk(plan, chunk, counts),
+          this.id,
+          new Date(),
+        );
+        await this.reportChunks(fitId, done, plan.chunks);
+      } catch (error) {
+        if (Atomics.load(control, 0) === 1) return; // the fit stopped running: the chunk is dropped
+        if (job.retryCount >= job.retryLimit) {
+          this.log(error, `fit ${fitId}: chunk ${chunk}, last try`);
+          if (error instanceof StatsError) await this.fail(fitId, error.code, error.message);
+          else await this.fail(fitId, "internal_error", INTERNAL_FAILURE);
+        }
+        throw error;
+      }
+    } else {
+      const plan = await planOf(this.db, fitId);
+      const stored = await storedChunks(this.db, fitId);
+      if (plan) await this.reportChunks(fitId, stored.length, plan.chunks);
+    }
+  }
+
+  private async reportChunks(fitId: string, done: number, total: number): Promise<void> {
+    const row = await fitRow(this.db, fitId);
+    if (row?.status !== "running") return;
+    const fraction = done / total;
+    const elapsed = row.startedAt ? Date.now() - row.startedAt.getTime() : 0;
+    const secondsLeft = secondsLeftOf(fraction, elapsed);
+    await this.store.writeProgress(fitId, fraction, secondsLeft);
+    this.emit({
+      type: "progress",
+      fitId,
+      status: "running",
+      progress: { fraction, secondsLeft },
+      error: null,
+    });
+    if (done >= total) await (this.boss as PgBoss).send(MERGE_QUEUE, { fitId });
+  }
+
+  /** `fit-merge` job: merge a fit's chunks and store its result, once. */
+  private async merge(fitId: string): Promise<void> {
+    await withMergeLock(this.db, fitId, async () => {
+      const row = await fitRow(this.db, fitId);
+      const plan = await planOf(this.db, fitId);
+      if (!row || row.status !== "running" || !plan || plan.mergedAt) return;
+      const stored = await storedChunks(this.db, fitId);
+      if (stored.length < plan.chunks) return;
+      const inputs = await this.inputsOf(fitId, row);
+      if (!inputs) return;
+      const chunks = stored.map(decodeChunk);
+      await this.computeFit(fitId, inputs, chunks, row.startedAt ?? new Date());
+      await markMerged(this.db, fitId, new Date());
+    });
+  }
+
+  /**
+   * Runs the fit in the fit thread (with `chunks` merged in place of the
+   * permutation test when given) and stores its region rows and result
+   * through the fit store, as the embedded path does.
+   */
+  private async computeFit(
+    fitId: string,
+    inputs: { spec: ModelSpec; data: FitData },
+    chunks: RearrangementChunk[] | null,
+    startedAt: Date,
+  ): Promise<void> {
+    await this.store.clearRegionRows(fitId);
+    const channel = new MessageChannel();
+    let storing: Promise<void> = Promise.resolve();
+    let regionsDone: () => void = () => {};
+    const allRegions = new Promise<void>((resolve) => {
+      regionsDone = resolve;
+    });
+    channel.port1.on("message", (message: FitTaskMessage) => {
+      if (message.type === "region") {
+        const { position, region, participants, plot } = message;
+        storing = storing.then(() =>
+          this.store.storeRegionRow(fitId, { position, region, participants, plot }),
+        );
+      } else if (message.type === "regions-done") regionsDone();
+      else if (message.type === "progress" && !chunks) {
+        storing = storing.then(() =>
+          this.store.writeProgress(fitId, Math.min(1, message.fraction), null),
+        );
+      }
+    });
+    const task: FitTask = { ...inputs, port: channel.port2, ...(chunks ? { chunks } : {}) };
+    const controller = new AbortController();
+    let outcome: FitTaskOutcome;
+    try {
+      outcome = await this.watching(
+        fitId,
+        () => controller.abort(new Error("cancelled")),
+        () =>
+          (this.fitPool as Piscina).run(task, {
+            transferList: [channel.port2],
+            signal: controller.signal,
+          }) as Promise<FitTaskOutcome>,
+      );
+      // The thread's last message says every region was sent; then the rows are stored.
+      if (outcome.ok) await allRegions;
+      await storing;
+    } catch (error) {
+      channel.port1.close();
+      await storing.catch(() => {});
+      await this.store.clearRegionRows(fitId);
+      if (controller.signal.aborted) return; // cancelled: already marked
+      throw error;
+    }
+    channel.port1.close();
+    if (!outcome.ok) {
+      await this.store.clearRegionRows(fitId);
+      return await this.fail(fitId, outcome.code, outcome.message);
+    }
+    const done = await this.store.markDone(
+      fitId,
+      outcome.summary,
+      new Date(),
+      startedAt,
+      () => false,
+    );
+    if (!done) {
+      await this.store.clearRegionRows(fitId);
+      return;
+    }
+    this.emit({
+      type: "status",
+      fitId,
+      status: "done",
+      progress: { fraction: 1, secondsLeft: 0 },
+      error: null,
+    });
+  }
+}
