@@ -120,7 +120,18 @@ describe("region tables", () => {
     );
     expect(tex).toContain("L\\_insula &");
     expect(tex).not.toContain("\u2212"); // the minus sign is $-$ in LaTeX
-    expect(tex).toMatch(/^[\x09\x0a\x20-\x7e]*$/); // plain ASCII: compiles with pdfLaTeX's defaults
+    expect(tex).toMatch(/^[\t\n -~]*$/); // plain ASCII: compiles with pdfLaTeX's defaults
+  });
+
+  it("a cell without a value shows an em dash (a bootstrap has no test statistic)", () => {
+    const fit = fitOf({ kind: "one-sample", inference: "bootstrap", resamples: 200 });
+    const md = regionsMarkdown(fit, { participantsVisible: true });
+    const rows = md.split("\n").filter((l) => l.startsWith("| L\\_insula |"));
+    expect(rows).toHaveLength(1);
+    expect(rows[0].split(" | ")[3]).toBe("\u2014");
+    expect(md).toContain("bootstrap (BCa, 200 resamples)");
+    expect(md).toContain("No correction over regions.");
+    expect(md).toContain("No participant was set aside.");
   });
 
   it("a fit that is not done answers 409", () => {
