@@ -7,6 +7,10 @@
  *   results/regions.csv   the region table (fit-exports.ts regionsCsv)
  *   results/regions.md|tex|docx, results/sentences.md
  *                         the table for a manuscript and the results sentences (manuscript-tables.ts)
+ *   figures/<name>.svg|png|txt
+ *                         the forest plot and the figures of the first `reportFigureRegions` regions by
+ *                         adjusted p, with captions (fit-figures.ts; participant plots only for callers
+ *                         who may see participant rows)
  *   recipe.json           the recipe (left out for a caller without participant rows: it names them)
  *   inputs.json           the data files the fit used: name, version, SHA-256, participants
  *   set-asides.csv        participant, scope, reason, who, when (no participant column without participant rows)
@@ -37,10 +41,21 @@ import {
   fitRunWords,
   fitSealedWords,
 } from "../../contract/activity-words";
+import type { FigureSummary, FigureWidth } from "../../contract/views/figures";
 import type { FitView } from "../../contract/views/fits";
+import { pixelsFor } from "../figures/png-resolution";
 import { toCsv } from "../intake/export-csv";
 import type { FitJobs } from "../jobs/fit-jobs";
-import { methodsOf, recipeJson, regionsCsv } from "./fit-exports";
+import { methodsOf, recipeJson, regionsCsv, regionsOf } from "./fit-exports";
+import {
+  FIGURE_DPI,
+  type FigureAccess,
+  figureCaption,
+  figurePng,
+  figureSvg,
+  listFigures,
+  MAX_PNG_HEIGHT_PX,
+} from "./fit-figures";
 import { regionsDocx, regionsLatex, regionsMarkdown, sentencesMarkdown } from "./manuscript-tables";
 import { fitViewParts } from "./fits";
 import { writeZip, type ZipEntry } from "./report-zip";
@@ -48,6 +63,8 @@ import { writeZip, type ZipEntry } from "./report-zip";
 /** A part of the bundle and the line README.txt gives it. */
 export interface ReportPart extends ZipEntry {
   about: string;
+  /** Made while the archive is written (a PNG rendered in the figure worker), so not in the digest. */
+  lazy?: boolean;
 }
 
 export interface ReportOptions {
@@ -188,7 +205,127 @@ function methodsMarkdown(methods: Awaited<ReturnType<typeof methodsOf>>): string
   return `# Methods\n\n${methods.text}\n${refs ? `\n## References\n\n${refs}\n` : ""}`;
 }
 
-function readme(view: FitView, parts: readonly ReportPart[], leftOut: readonly string[]): string {
+/** How many regions' own figures the bundle holds (the forest plot draws every region). */
+export const reportFigureRegions = 6;
+/** The forest plot spans two columns; a region's figures one (contract/views/figures.ts). */
+const forestWidth: FigureWidth = 183;
+const regionWidth: FigureWidth = 89;
+
+/** A figure's name as a file name: letters, digits, ".", "_" and "-" kept, anything else "_". */
+function fileNameOf(name: string): string {
+  return name.replace(/[^A-Za-z0-9._-]/g, "_");
+}
+
+/**
+ * Rendered PNGs, kept (least recently used first out, at most
+ * `keptPngBytes` in all): a finished fit's figures never change, and a
+ * download, its hash and the next download ask for the same ones.
+ */
+const pngs = new Map<string, Uint8Array>();
+let pngBytes = 0;
+const keptPngBytes = 48 * 1024 * 1024;
+
+async function keptPng(key: string, render: () => Promise<Buffer>): Promise<Uint8Array> {
+  const hit = pngs.get(key);
+  if (hit) {
+    pngs.delete(key);
+    pngs.set(key, hit);
+    return hit;
+  }
+  const png = new Uint8Array(await render());
+  pngs.set(key, png);
+  pngBytes += png.length;
+  for (const [old, bytes] of pngs) {
+    if (pngBytes <= keptPngBytes) break;
+    pngs.delete(old);
+    pngBytes -= bytes.length;
+  }
+  return png;
+}
+
+/**
+ * The bundle's figures: the forest plot and the figures of the first
+ * `reportFigureRegions` regions by adjusted p (p without a correction;
+ * ties in the fit's order), each as SVG (text as outlines), PNG at 300 dpi
+ * and its caption. A PNG taller than the rasterizer's cap is left out (its
+ * SVG stays). SVGs and captions are made now (the figure worker outlines
+ * them); PNGs are rendered in the figure worker while the archive is
+ * written, one at a time.
+ */
+async function figureParts(
+  db: Queryable,
+  fit: Fit,
+  access: FigureAccess,
+): Promise<{ parts: ReportPart[]; leftOut: string[]; regions: string[] }> {
+  const figures = await listFigures(db, fit, access);
+  if (figures.length === 0) return { parts: [], leftOut: [], regions: [] };
+  const order = (p: number | null | undefined) =>
+    typeof p === "number" && Number.isFinite(p) ? p : Number.POSITIVE_INFINITY;
+  const chosen = regionsOf(fit)
+    .map((r, i) => ({ region: r.region, p: order(r.pAdjusted ?? r.p), i }))
+    .sort((a, b) => a.p - b.p || a.i - b.i)
+    .slice(0, reportFigureRegions)
+    .map((r) => r.region);
+  const selected: FigureSummary[] = [
+    ...figures.filter((f) => f.kind === "forest"),
+    ...chosen.flatMap((region) =>
+      figures.filter((f) => f.kind !== "forest" && f.regions?.[0] === region),
+    ),
+  ];
+  const parts: ReportPart[] = [];
+  const leftOut: string[] = [];
+  const used = new Set<string>();
+  for (const figure of selected) {
+    const widthMm = figure.kind === "forest" ? forestWidth : regionWidth;
+    let base = `figures/${fileNameOf(figure.name)}`;
+    for (let n = 2; used.has(base); n++) base = `figures/${fileNameOf(figure.name)}-${n}`;
+    used.add(base);
+    const [svg, caption] = await Promise.all([
+      figureSvg(db, fit, figure.name, access, widthMm),
+      figureCaption(db, fit, figure.name, access),
+    ]);
+    parts.push({
+      name: `${base}.svg`,
+      about: `${figure.title} (SVG, ${widthMm} mm wide, text as outlines)`,
+      compress: true,
+      bytes: () => text(svg),
+    });
+    const box = /viewBox="0 0 ([\d.]+) ([\d.]+)"/.exec(svg);
+    const heightPx = box
+      ? Math.round((pixelsFor(widthMm, FIGURE_DPI) * Number(box[2])) / Number(box[1]))
+      : 0;
+    if (heightPx > MAX_PNG_HEIGHT_PX)
+      leftOut.push(
+        `${base}.png: it would be ${heightPx} px tall at ${FIGURE_DPI} dpi (at most ${MAX_PNG_HEIGHT_PX}); the SVG holds the figure.`,
+      );
+    else
+      parts.push({
+        name: `${base}.png`,
+        about: `the same figure as PNG, ${widthMm} mm wide at ${FIGURE_DPI} dpi`,
+        compress: false,
+        lazy: true,
+        bytes: () =>
+          keptPng(
+            `${fit.id}\u0000${figure.name}\u0000${widthMm}\u0000${access.participantsVisible}`,
+            () => figurePng(db, fit, figure.name, access, widthMm),
+          ),
+      });
+    parts.push({
+      name: `${base}.txt`,
+      about: "its caption: what is drawn, N, estimator, interval, set-asides",
+      compress: true,
+      bytes: () => text(caption),
+    });
+  }
+  return { parts, leftOut, regions: chosen };
+}
+
+function readme(
+  view: FitView,
+  parts: readonly ReportPart[],
+  leftOut: readonly string[],
+  figureRegions: readonly string[],
+): string {
   const width = Math.max(...parts.map((p) => p.name.length), "README.txt".length);
   const lines = [
     "Covarion report bundle",
@@ -204,6 +341,14 @@ function readme(view: FitView, parts: readonly ReportPart[], leftOut: readonly s
     ...parts.map((p) => `${p.name.padEnd(width)}  ${p.about}`),
   ];
   if (leftOut.length > 0) lines.push("", "Left out:", "", ...leftOut.map((l) => `- ${l}`));
+  if (parts.some((p) => p.name.startsWith("figures/")))
+    lines.push(
+      "",
+      `Figures: the forest plot of every region (${forestWidth} mm, two columns) and the figures of the`,
+      `first ${reportFigureRegions} regions by adjusted p (${figureRegions.join(", ")}; ${regionWidth} mm, one column),`,
+      `each as SVG, PNG at ${FIGURE_DPI} dpi and a caption. Every other figure of the fit downloads from`,
+      `the fit screen or GET /api/fits/${view.id}/figures.`,
+    );
   lines.push(
     "",
     "The same fit gives the same bundle, byte for byte: the files are always in this order and every",
@@ -251,7 +396,8 @@ export async function buildReport(
     activityCsv(db, fit, modelName),
     regionsDocx(fit, manuscript),
   ]);
-  const leftOut: string[] = [];
+  const figures = await figureParts(db, fit, manuscript);
+  const leftOut: string[] = [...figures.leftOut];
   const part = (name: string, about: string, data: Uint8Array, compress = true): ReportPart => ({
     name,
     about,
@@ -282,6 +428,7 @@ export async function buildReport(
       "one results sentence per region in the reporting style of the APA Publication Manual (7th ed.)",
       text(sentencesMarkdown(fit)),
     ),
+    ...figures.parts,
   ];
   if (options.participantsVisible)
     parts.push(
@@ -330,15 +477,15 @@ export async function buildReport(
         }),
       ),
     );
-  const readmeText = text(readme(view, parts, leftOut));
+  const readmeText = text(readme(view, parts, leftOut, figures.regions));
   const entries: ZipEntry[] = [
     { name: "README.txt", compress: true, bytes: () => readmeText },
     ...parts,
   ];
   const digest = createHash("sha256");
-  for (const entry of entries) {
+  for (const entry of [{ name: "README.txt", bytes: () => readmeText }, ...parts]) {
     digest.update(entry.name);
-    digest.update(await entry.bytes());
+    if (!("lazy" in entry && entry.lazy)) digest.update(await entry.bytes());
   }
   const mtime = fit.finishedAt ?? fit.createdAt;
   return { view, entries, mtime, digest: digest.digest("hex") };

@@ -13,11 +13,17 @@
  *   fields are the UTC fields of `mtime`, so the stored fields are UTC
  *   wherever the server runs. No extra fields, comments or attributes.
  * - Text is deflated (level 6); entries that are already compressed (PNG,
- *   DOCX) are stored. Deflating a large entry (≥ 64 kB) runs in a worker
- *   thread (fflate's AsyncZipDeflate, the same deflate and so the same
- *   bytes), so the request thread never compresses for long.
+ *   DOCX) are stored. Deflating runs on Node's thread pool (zlib's
+ *   asynchronous raw deflate; fflate's own asynchronous deflate starts a
+ *   new worker thread for every entry, which cost seconds for a bundle of
+ *   figures), so the request thread never compresses; it only computes
+ *   each entry's CRC-32 (zlib, well over 100 MB/s). The deflated bytes are
+ *   zlib's: the same for the same input and zlib build, so a server gives
+ *   the same bundle for the same fit until its Node.js is upgraded.
  */
-import { AsyncZipDeflate, Zip, ZipDeflate, type ZipInputFile, ZipPassThrough } from "fflate";
+import { promisify } from "node:util";
+import { crc32, deflateRaw } from "node:zlib";
+import { Zip, type ZipInputFile, ZipPassThrough } from "fflate";
 
 export interface ZipEntry {
   /** Path inside the archive ("results/regions.csv"). */
@@ -27,10 +33,8 @@ export interface ZipEntry {
   bytes(): Promise<Uint8Array> | Uint8Array;
 }
 
-/** Entries at least this large are deflated in a worker thread. */
-export const asyncDeflateBytes = 64 * 1024;
-
 const deflateLevel = 6;
+const deflate = promisify(deflateRaw);
 
 /** The Date whose local fields are `at`'s UTC fields, rounded down to ZIP's 2-second step. */
 export function zipTime(at: Date): Date {
@@ -72,11 +76,11 @@ export async function writeZip(
   };
   for (const entry of entries) {
     const data = await entry.bytes();
-    const file: ZipInputFile & { push(chunk: Uint8Array, final: boolean): void } = !entry.compress
-      ? new ZipPassThrough(entry.name)
-      : data.length >= asyncDeflateBytes
-        ? new AsyncZipDeflate(entry.name, { level: deflateLevel })
-        : new ZipDeflate(entry.name, { level: deflateLevel });
+    // A stored entry passes through; a deflated one is deflated first and handed over whole.
+    const packed = entry.compress ? await deflate(data, { level: deflateLevel }) : null;
+    const file: ZipInputFile & { push?(chunk: Uint8Array, final: boolean): void } = packed
+      ? { filename: entry.name, size: data.length, crc: crc32(data), compression: 8 }
+      : new ZipPassThrough(entry.name);
     file.mtime = time;
     const written = new Promise<void>((resolve) => {
       zip.add(file);
@@ -88,7 +92,9 @@ export async function writeZip(
         if (error || final) resolve();
       };
     });
-    file.push(data, true);
+    if (packed)
+      file.ondata?.(null, new Uint8Array(packed.buffer, packed.byteOffset, packed.length), true);
+    else file.push?.(data, true);
     await written;
     if (failure) throw failure;
     await flush();

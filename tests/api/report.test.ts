@@ -13,13 +13,17 @@
 import { createHash } from "node:crypto";
 import { eq } from "drizzle-orm";
 import { strFromU8, unzipSync } from "fflate";
+import { PNG } from "pngjs";
 import type { Response } from "supertest";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { datasetVersions, fits, memberships } from "../../db/schema";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
 import { type Agent, type TestApp, createTestApp, signInDemo, userIdOf } from "./helpers";
 
 type Persona = "owner" | "analyst" | "reviewer" | "viewer";
+
+// Each bundle renders a dozen PNG figures in the figure worker: slow on a shared machine.
+vi.setConfig({ testTimeout: 180_000 });
 
 let t: TestApp;
 const agents = {} as Record<Persona, Agent>;
@@ -159,6 +163,27 @@ describe("the report bundle of a finished fit", () => {
   it("lists the files in their fixed order, with their contents", async () => {
     const zip = await download(agents.owner);
     const { names, files, times } = entriesOf(zip);
+    // Figures: the forest plot, then the figures of the first 6 regions by adjusted p (fit order on ties).
+    const [fit] = await t.db.select().from(fits).where(eq(fits.id, fitId));
+    const listed = (await agents.owner.get(`/api/fits/${fitId}/figures`).expect(200)).body as {
+      name: string;
+      kind: string;
+      regions?: string[];
+    }[];
+    const regions = (fit.result as { regions: { region: string; pAdjusted: number | null }[] })
+      .regions;
+    const firstSix = regions
+      .map((r, i) => ({ region: r.region, p: r.pAdjusted ?? Number.POSITIVE_INFINITY, i }))
+      .sort((a, b) => a.p - b.p || a.i - b.i)
+      .slice(0, 6)
+      .map((r) => r.region);
+    const figures = [
+      "forest",
+      ...firstSix.flatMap((region) =>
+        listed.filter((f) => f.kind !== "forest" && f.regions?.[0] === region).map((f) => f.name),
+      ),
+    ];
+    expect(figures.length).toBeGreaterThan(6);
     expect(names).toEqual([
       "README.txt",
       "methods.md",
@@ -167,6 +192,7 @@ describe("the report bundle of a finished fit", () => {
       "results/regions.tex",
       "results/regions.docx",
       "results/sentences.md",
+      ...figures.flatMap((f) => [`figures/${f}.svg`, `figures/${f}.png`, `figures/${f}.txt`]),
       "recipe.json",
       "inputs.json",
       "set-asides.csv",
@@ -197,9 +223,26 @@ describe("the report bundle of a finished fit", () => {
     expect(items.map((l) => l.slice(4, l.indexOf("**:")).replace(/\\_/g, "_"))).toEqual(
       (sentences.body as { region: string }[]).map((s) => s.region),
     );
+    // The figures as their own downloads give them: the forest plot two columns wide, the others one.
+    for (const f of figures) {
+      const width = f === "forest" ? 183 : 89;
+      const svg = await agents.owner
+        .get(`/api/fits/${fitId}/figures/${f}.svg?width=${width}`)
+        .expect(200);
+      expect(text(files, `figures/${f}.svg`), f).toBe(
+        Buffer.isBuffer(svg.body) ? svg.body.toString("utf8") : svg.text,
+      );
+      const caption = await agents.owner.get(`/api/fits/${fitId}/figures/${f}.txt`).expect(200);
+      expect(text(files, `figures/${f}.txt`), f).toBe(caption.text);
+      const png = PNG.sync.read(Buffer.from(files[`figures/${f}.png`]));
+      // 183 mm and 89 mm at 300 dpi (mm / 25.4 × 300, rounded).
+      expect(png.width, f).toBe(width === 183 ? 2161 : 1051);
+    }
+    expect(text(files, "README.txt")).toContain(
+      `first 6 regions by adjusted p (${firstSix.join(", ")}`,
+    );
     // The data files, as stored.
     const inputs = JSON.parse(text(files, "inputs.json"));
-    const [fit] = await t.db.select().from(fits).where(eq(fits.id, fitId));
     const [brain] = await t.db
       .select()
       .from(datasetVersions)
@@ -261,7 +304,8 @@ describe("a restricted study's Viewer", () => {
     try {
       const zip = await download(agents.viewer);
       const { names, files } = entriesOf(zip);
-      expect(names).toEqual([
+      // No participant plots (one mark per participant): the forest plot stays.
+      expect(names.filter((n) => !n.startsWith("figures/"))).toEqual([
         "README.txt",
         "methods.md",
         "results/regions.csv",
@@ -273,10 +317,18 @@ describe("a restricted study's Viewer", () => {
         "set-asides.csv",
         "activity.csv",
       ]);
+      const figureNames = names.filter((n) => n.startsWith("figures/"));
+      expect(figureNames.slice(0, 3)).toEqual([
+        "figures/forest.svg",
+        "figures/forest.png",
+        "figures/forest.txt",
+      ]);
+      expect(figureNames.filter((n) => /-(scatter|strip|influence)\./.test(n))).toEqual([]);
       const asides = text(files, "set-asides.csv");
       expect(asides.split("\r\n")[0]).toBe("scope,reason,who,when");
       expect(asides).toContain("Fell asleep in the scanner");
-      for (const name of names) expect(text(files, name), name).not.toContain(setAsideParticipant);
+      for (const name of names.filter((n) => !/\.(png|docx)$/.test(n)))
+        expect(text(files, name), name).not.toContain(setAsideParticipant);
       expect(text(files, "README.txt")).toContain("recipe.json: this study restricts");
       // The Viewer's hash is that of the Viewer's bundle.
       const hash = await agents.viewer.get(`/api/fits/${fitId}/report.sha256`).expect(200);

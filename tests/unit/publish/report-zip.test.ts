@@ -7,7 +7,7 @@
  */
 import { strFromU8, unzipSync } from "fflate";
 import { afterEach, describe, expect, it } from "vitest";
-import { asyncDeflateBytes, writeZip, type ZipEntry } from "../../../server/services/report-zip";
+import { writeZip, type ZipEntry } from "../../../server/services/report-zip";
 
 const enc = new TextEncoder();
 
@@ -55,7 +55,6 @@ afterEach(() => {
 
 describe("writeZip", () => {
   it("writes the entries in order, readable, with the same bytes every time", async () => {
-    expect(enc.encode(bigText(200_000)).length).toBeGreaterThanOrEqual(asyncDeflateBytes);
     const at = new Date("2026-12-04T01:02:03.900Z");
     const a = await zipOf(entries, at);
     const b = await zipOf(entries, at);
