@@ -348,6 +348,35 @@ export function nullFigure(input: NullHistogramInput, title: string, width: numb
   };
 }
 
+/** What a figure draws, as plain data (it crosses to the figure worker thread). */
+export type FigureInput =
+  | { kind: "forest"; rows: ForestRow[]; estimateLabel: string; title: string }
+  | { kind: "scatter"; input: ScatterInput; title: string }
+  | { kind: "strip"; input: StripInput; title: string }
+  | { kind: "influence"; points: InfluencePoint[]; cuts: FlagCuts; title: string }
+  | { kind: "null"; input: NullHistogramInput; title: string };
+
+/** The figure laid out `widthMm` wide (89 or 183 mm), with text still as text. */
+export function drawFigure(figure: FigureInput, widthMm: number): RawFigure {
+  const width = figureLayoutWidth(widthMm);
+  switch (figure.kind) {
+    case "forest":
+      return forestFigure(
+        figure.rows,
+        { estimateLabel: figure.estimateLabel, intervalLabel: "95% CI", title: figure.title },
+        width,
+      );
+    case "scatter":
+      return scatterFigure(figure.input, figure.title, width);
+    case "strip":
+      return stripFigure(figure.input, figure.title, width);
+    case "influence":
+      return influenceFigure(figure.points, figure.cuts, figure.title, width);
+    case "null":
+      return nullFigure(figure.input, figure.title, width);
+  }
+}
+
 /**
  * The figure as a standalone SVG document `widthMm` millimetres wide (the
  * height follows the drawing's proportions), with a viewBox in layout

@@ -1,7 +1,8 @@
 /**
  * The figures' worker thread (piscina, server/jobs/figure-task.ts), so the
- * request thread never outlines text or rasterizes: outlining a figure
- * takes tens of milliseconds, a 300-dpi PNG a hundred or more. One thread
+ * request thread never lays out, outlines or rasterizes a figure: a
+ * scatter plot's layout takes milliseconds, outlining its text tens of
+ * milliseconds, a 300-dpi PNG a hundred or more. One thread
  * (a second would take the core the request thread needs on a 2-core
  * machine); at most `maxWaiting` tasks wait behind the running one, more
  * answer 429 `figures_busy`. The thread starts with the first task and
@@ -9,6 +10,7 @@
  */
 import type { Piscina } from "piscina";
 import { HttpError } from "../http/errors";
+import type { FigureInput } from "../figures/figure-svg";
 import type { FigureTask } from "./figure-task";
 import { workerPool } from "./worker-pool";
 
@@ -31,14 +33,14 @@ export class FigureJobs {
     this.idleMs = options.idleMs ?? 2 * 60_000;
   }
 
-  /** The SVG with its text as outlines (see outline.ts). */
-  async outline(svg: string, kept: Record<string, Record<string, string>>): Promise<string> {
-    return (await this.run({ kind: "outline", svg, kept })) as string;
+  /** The figure as SVG `widthMm` wide with its text as outlines (see outline.ts). */
+  async svg(figure: FigureInput, widthMm: number): Promise<string> {
+    return (await this.run({ kind: "svg", figure, widthMm })) as string;
   }
 
-  /** A PNG `widthMm` wide at `dpi` with its pHYs chunk. */
-  async png(svg: string, widthMm: number, dpi: number): Promise<Buffer> {
-    const bytes = (await this.run({ kind: "png", svg, widthMm, dpi })) as Uint8Array;
+  /** The figure as a PNG `widthMm` wide at `dpi` with its pHYs chunk. */
+  async png(figure: FigureInput, widthMm: number, dpi: number): Promise<Buffer> {
+    const bytes = (await this.run({ kind: "png", figure, widthMm, dpi })) as Uint8Array;
     return Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   }
 

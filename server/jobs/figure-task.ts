@@ -1,21 +1,26 @@
 /**
- * Worker-thread task of the figures: turns a figure's text into outlines
- * or renders it as a PNG at 300 dpi with its resolution written in
- * (server/figures/outline.ts, png-resolution.ts). Computes only. Runs at
- * the fit threads' lower priority, so requests come first.
+ * Worker-thread task of the figures: lays a figure out from its plain
+ * input with the screen's layout modules, writes it as SVG and either turns
+ * its text into outlines or renders it as a PNG at `dpi` with its
+ * resolution written in (server/figures/). Computes only; the caller reads
+ * the fit from the database. Runs at the fit threads' lower priority, so
+ * requests come first.
  */
-import { type KeptById, outlineSvg, renderPng } from "../figures/outline";
+import { drawFigure, type FigureInput, svgDocument } from "../figures/figure-svg";
+import { outlineSvg, renderPng } from "../figures/outline";
 import { pixelsFor, withResolution } from "../figures/png-resolution";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
 lowerWorkerThreadPriority();
 
 export type FigureTask =
-  | { kind: "outline"; svg: string; kept: KeptById }
-  | { kind: "png"; svg: string; widthMm: number; dpi: number };
+  | { kind: "svg"; figure: FigureInput; widthMm: number }
+  | { kind: "png"; figure: FigureInput; widthMm: number; dpi: number };
 
 export default function runFigureTask(task: FigureTask): string | Uint8Array {
-  if (task.kind === "outline") return outlineSvg(task.svg, task.kept);
-  const png = renderPng(task.svg, pixelsFor(task.widthMm, task.dpi));
+  const raw = drawFigure(task.figure, task.widthMm);
+  const svg = svgDocument(raw, task.widthMm);
+  if (task.kind === "svg") return outlineSvg(svg, Object.fromEntries(raw.kept.byId));
+  const png = renderPng(svg, pixelsFor(task.widthMm, task.dpi));
   return new Uint8Array(withResolution(png, task.dpi));
 }

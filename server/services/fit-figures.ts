@@ -13,7 +13,8 @@
  * for one throws 403, as the region screen shows a Viewer of a restricted
  * study no participant plots; the forest plot and the null distribution
  * stay available. Every function throws 409 while the fit is not done and
- * 404 for a name that is not one of the fit's figures. Outlining and
+ * 404 for a name that is not one of the fit's figures. The request thread
+ * reads the fit and writes the caption; laying out, outlining and
  * rasterizing run in the figure worker thread (server/jobs/figure-jobs.ts);
  * a finished fit never changes, so outlined SVGs are kept (a small LRU).
  */
@@ -47,16 +48,8 @@ import {
   influenceCaption,
   nullCaption,
 } from "../figures/captions";
-import {
-  figureLayoutWidth,
-  forestFigure,
-  influenceFigure,
-  nullFigure,
-  type RawFigure,
-  scatterFigure,
-  stripFigure,
-  svgDocument,
-} from "../figures/figure-svg";
+import { type FigureInput, figureLayoutWidth } from "../figures/figure-svg";
+import { forestHeight } from "../../components/charts/forest-layout";
 import { conflict, forbidden, HttpError, notFound } from "../http/errors";
 import { pixelsFor } from "../figures/png-resolution";
 import { type FigureJobs, sharedFigureJobs } from "../jobs/figure-jobs";
@@ -170,7 +163,7 @@ function findFigure(fit: Fit, name: string, access: FigureAccess): FigureSummary
 }
 
 interface Built {
-  raw: RawFigure;
+  figure: FigureInput;
   caption: string;
 }
 
@@ -179,24 +172,23 @@ async function build(
   fit: Fit,
   figure: FigureSummary,
   access: FigureAccess,
-  widthMm: number,
 ): Promise<Built> {
-  const width = figureLayoutWidth(widthMm);
   const ctx = context(fit);
   const regions = doneRegions(fit);
   if (figure.kind === "forest") {
     const label = estimateLabel(ctx.spec);
     return {
-      raw: forestFigure(
-        regions.map((r) => ({
+      figure: {
+        kind: "forest",
+        rows: regions.map((r) => ({
           region: r.region,
           estimate: r.estimate,
           low: r.ciLow,
           high: r.ciHigh,
         })),
-        { estimateLabel: label, intervalLabel: "95% CI", title: figure.title },
-        width,
-      ),
+        estimateLabel: label,
+        title: figure.title,
+      },
       caption: forestCaption(ctx, regions, label),
     };
   }
@@ -211,7 +203,7 @@ async function build(
   if (figure.kind === "scatter") {
     const s = scatterInputOf(detail);
     return {
-      raw: scatterFigure(s.input, figure.title, width),
+      figure: { kind: "scatter", input: s.input, title: figure.title },
       caption: dataPlotCaption(ctx, summary, "scatter", {
         axis: detail.axes.x,
         flags: ordered,
@@ -223,7 +215,7 @@ async function build(
   if (figure.kind === "strip") {
     const s = stripInputOf(detail);
     return {
-      raw: stripFigure(s.input, figure.title, width),
+      figure: { kind: "strip", input: s.input, title: figure.title },
       caption: dataPlotCaption(ctx, summary, "strip", {
         axis: null,
         flags: ordered,
@@ -236,7 +228,7 @@ async function build(
     const input = influenceInputOf(detail);
     if (!input) throw notFound(`No figure '${figure.name}' for this fit.`);
     return {
-      raw: influenceFigure(input.points, input.cuts, figure.title, width),
+      figure: { kind: "influence", points: input.points, cuts: input.cuts, title: figure.title },
       caption: influenceCaption(
         ctx,
         summary,
@@ -248,7 +240,7 @@ async function build(
   const input = nullHistogramInputOf(detail);
   if (!input) throw notFound(`No figure '${figure.name}' for this fit.`);
   return {
-    raw: nullFigure(input, figure.title, width),
+    figure: { kind: "null", input, title: figure.title },
     caption: nullCaption(ctx, summary, nullHistogramWords(input).caption),
   };
 }
@@ -273,8 +265,8 @@ export async function figureSvg(
     kept.set(key, hit);
     return hit;
   }
-  const { raw } = await build(db, fit, figure, access, widthMm);
-  const svg = await jobs.outline(svgDocument(raw, widthMm), Object.fromEntries(raw.kept.byId));
+  const built = await build(db, fit, figure, access);
+  const svg = await jobs.svg(built.figure, widthMm);
   kept.set(key, svg);
   if (kept.size > KEEP) kept.delete(kept.keys().next().value as string);
   return svg;
@@ -290,8 +282,14 @@ export async function figurePng(
   jobs: FigureJobs = sharedFigureJobs(),
 ): Promise<Buffer> {
   const figure = findFigure(fit, name, access);
-  const { raw } = await build(db, fit, figure, access, widthMm);
-  const heightPx = Math.round((pixelsFor(widthMm, FIGURE_DPI) * raw.height) / raw.width);
+  const built = await build(db, fit, figure, access);
+  const heightPx =
+    built.figure.kind === "forest"
+      ? Math.round(
+          (pixelsFor(widthMm, FIGURE_DPI) * forestHeight(built.figure.rows.length)) /
+            figureLayoutWidth(widthMm),
+        )
+      : 0;
   if (heightPx > MAX_PNG_HEIGHT_PX) {
     throw new HttpError(
       422,
@@ -300,7 +298,7 @@ export async function figurePng(
       { heightPx, maxHeightPx: MAX_PNG_HEIGHT_PX },
     );
   }
-  return jobs.png(svgDocument(raw, widthMm), widthMm, FIGURE_DPI);
+  return jobs.png(built.figure, widthMm, FIGURE_DPI);
 }
 
 /** The figure's caption (plain text, one statement per line). */
@@ -311,6 +309,6 @@ export async function figureCaption(
   access: FigureAccess,
 ): Promise<string> {
   const figure = findFigure(fit, name, access);
-  const { caption } = await build(db, fit, figure, access, 89);
+  const { caption } = await build(db, fit, figure, access);
   return `${figure.title}\n\n${caption}\n`;
 }
