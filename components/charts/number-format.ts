@@ -5,7 +5,10 @@
  * (null, undefined, NaN) prints as "n/a", as the participant sheet writes it.
  */
 
-export const MINUS = "\u2212";
+import { MINUS } from "../../contract/results-sentences";
+
+/** The minus sign (U+2212): one definition, with the manuscript's reporting rules. */
+export { MINUS };
 export const MISSING = "n/a";
 
 /** True for null, undefined and any non-finite number. */
