@@ -30,9 +30,12 @@
  * estimate, the method, how p was found (the words of the CSV export), the
  * correction (`correctionLabels`, labels.ts) and the set-asides.
  *
- * Every function throws 409 when the fit is not done. Cost O(regions); the
- * Word document of 1,000 regions takes tens of milliseconds (see the
- * manuscript-tables benchmark).
+ * Every function throws 409 when the fit is not done. Cost O(regions): the
+ * text forms take well under a millisecond for 10 regions and ~20 ms for
+ * 1,000; the Word document ~60 ms for 10 and ~1.3 s for 1,000 (the docx
+ * writer's XML; benchmark `manuscript-tables`, at machine load 11), which is
+ * more than the request thread should spend — it is a pure function of the
+ * fit's row and the options, ready to move into a worker thread.
  */
 import {
   AlignmentType,
