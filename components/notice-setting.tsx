@@ -23,7 +23,8 @@ export function NoticeSetting({ studyId }: { studyId: string }) {
         <Pressable
           accessibilityRole="switch"
           accessibilityLabel={noticeSettingLabel}
-          accessibilityState={{ checked: setting.data.enabled, busy: change.isPending }}
+          aria-checked={setting.data.enabled}
+          aria-busy={change.isPending}
           onPress={() => change.mutate({ enabled: !setting.data.enabled })}
           style={styles.row}
           testID="notice-switch"

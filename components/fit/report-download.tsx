@@ -25,7 +25,8 @@ export function ReportDownload({ fit }: { fit: FitView }) {
           testID="download-report"
         />
         <Txt kind="caption" style={styles.muted}>
-          ZIP: methods, tables, recipe, inputs, set-asides, activity{sealed ? ", seal" : ""}
+          ZIP: methods, tables, figures{fit.participantsVisible ? ", recipe" : ""}, inputs,
+          set-asides, activity{sealed ? ", seal" : ""}
         </Txt>
       </View>
       {sealed ? (
