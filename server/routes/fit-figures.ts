@@ -30,11 +30,9 @@ const list = { params: z.strictObject({ fitId: idSchema }), query: noQuery };
 const one = {
   params: z.strictObject({
     fitId: idSchema,
-    file: z
-      .string()
-      .regex(/^.+\.(svg|png|txt)$/, {
-        error: "must be a figure name ending in .svg, .png or .txt",
-      }),
+    file: z.string().regex(/^.+\.(svg|png|txt)$/, {
+      error: "must be a figure name ending in .svg, .png or .txt",
+    }),
   }),
   query: z.strictObject({
     width: z.enum(["89", "183"], { error: "must be 89 or 183 (millimetres)" }).optional(),
