@@ -34,6 +34,7 @@ const kindOptions = [
   { value: "model", label: "Models" },
   { value: "fit", label: "Fits" },
   { value: "participant", label: "Set aside" },
+  { value: "notice", label: "E-mail notices" },
 ] as const;
 
 /** The audit trail, newest first, filterable by person and kind. */
@@ -207,13 +208,13 @@ export function describeEvent(
         field(after, "sha256") ?? "",
         field(after, "singlePersonSignOff") === "true",
       );
-    case "fit.notices_sent":
-    case "fit.notices_failed": {
+    case "notice.sent":
+    case "notice.failed": {
       const notice = field(after, "notice") as NoticeKind | null;
       if (!notice || !noticeKinds.includes(notice)) return event.kind.replace(/[._]/g, " ");
       const count = Number(field(after, "count") ?? 0);
       const model = fitModels.get(event.targetId ?? "") ?? null;
-      return event.kind === "fit.notices_sent"
+      return event.kind === "notice.sent"
         ? noticesSentWords(notice, count, model)
         : noticesFailedWords(notice, count, model, field(after, "error"));
     }

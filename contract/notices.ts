@@ -17,7 +17,7 @@
  * screen; the setting is kept in `user_preferences` under `notices:<studyId>`
  * as `{ enabled: boolean }` (absent: on). Notices are sent after the change
  * commits and never hold up or undo it; the audit trail records who got
- * them (`fit.notices_sent`) or could not be reached (`fit.notices_failed`),
+ * them (`notice.sent`) or could not be reached (`notice.failed`),
  * never what they said.
  */
 import { z } from "zod";
@@ -137,8 +137,8 @@ export function noticeMail(
 
 // ─── The audit events ───
 
-export const noticesSentKind = "fit.notices_sent";
-export const noticesFailedKind = "fit.notices_failed";
+export const noticesSentKind = "notice.sent";
+export const noticesFailedKind = "notice.failed";
 
 /** What a notice event records (`after`): the kind, the fit and who — never the e-mail's content. */
 export interface NoticeEventFacts {
@@ -146,6 +146,6 @@ export interface NoticeEventFacts {
   fitId: string;
   recipients: string[];
   count: number;
-  /** For `fit.notices_failed`: the transport's error code (e.g. ECONNREFUSED), when it gave one. */
+  /** For `notice.failed`: the transport's error code (e.g. ECONNREFUSED), when it gave one. */
   error?: string;
 }

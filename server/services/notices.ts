@@ -8,7 +8,7 @@
  * `sealFit`) and return at once: the e-mails go out in the background
  * through the same mailer as sign-in links (the local mail fake in demo and
  * development). Nothing here throws to the caller: a failure is logged and
- * recorded in the audit trail (`fit.notices_failed`, with who could not be
+ * recorded in the audit trail (`notice.failed`, with who could not be
  * reached), and the fit or seal stays as it is. `whenIdle()` resolves once
  * every notice started so far has been sent or has failed (tests, shutdown).
  *

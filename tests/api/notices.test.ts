@@ -163,7 +163,7 @@ describe("a fit that is done and waits for approval", () => {
       expect(m.subject).toContain("Load effect");
       expect(m.text).toContain(`${t.url}/studies/${studyId}/fits/${fitId}`);
     }
-    const events = await noticeEvents(fitId, "fit.notices_sent");
+    const events = await noticeEvents(fitId, "notice.sent");
     expect(events).toHaveLength(1);
     expect(events[0].actorId).toBeNull();
     expect(events[0].studyId).toBe(studyId);
@@ -182,7 +182,7 @@ describe("a fit that is done and waits for approval", () => {
     expect(JSON.stringify(after)).not.toContain("Load effect");
     // The Activity trail shows it (Reviewers and up read it).
     const activity = await agents.reviewer
-      .get(`/api/studies/${studyId}/activity?kind=fit.notices_sent`)
+      .get(`/api/studies/${studyId}/activity?kind=notice.sent`)
       .expect(200);
     expect(activity.body.map((e: { targetId: string }) => e.targetId)).toContain(fitId);
   });
@@ -214,7 +214,7 @@ describe("a sealed fit", () => {
       [emails.owner, emails.analyst, emails.reviewer, emails.viewer, emails.secondOwner].sort(),
     );
     expect(sealMail[0].text).toContain(sealed.body.seal.sha256);
-    const events = await noticeEvents(fitId, "fit.notices_sent");
+    const events = await noticeEvents(fitId, "notice.sent");
     const sealEvent = events.find((e) => (e.after as { notice: string }).notice === "fit.sealed");
     expect(sealEvent?.after).toMatchObject({ notice: "fit.sealed", fitId, count: 5 });
     expect(((sealEvent?.after as { recipients: string[] }).recipients ?? []).sort()).toEqual(
@@ -248,7 +248,7 @@ describe("a sealed fit", () => {
       await (broken.locals.notices as FitNotices).whenIdle();
       const [seal] = await t.db.select().from(fitSeals).where(eq(fitSeals.fitId, fitId));
       expect(seal.sha256).toBe(res.body.seal.sha256);
-      const failed = await noticeEvents(fitId, "fit.notices_failed");
+      const failed = await noticeEvents(fitId, "notice.failed");
       expect(failed).toHaveLength(1);
       expect(failed[0].after).toMatchObject({
         notice: "fit.sealed",
@@ -258,7 +258,7 @@ describe("a sealed fit", () => {
         error: "ESOCKET",
       });
       expect(
-        (await noticeEvents(fitId, "fit.notices_sent")).filter(
+        (await noticeEvents(fitId, "notice.sent")).filter(
           (e) => (e.after as { notice: string }).notice === "fit.sealed",
         ),
       ).toHaveLength(0);
