@@ -122,7 +122,10 @@ export async function openServerDatabase(
     await pool.query("select 1");
   } catch (error) {
     await pool.end().catch(() => {});
-    throw error;
+    throw new Error(
+      `cannot reach the PostgreSQL server at ${redactedUrl(url)} (DATABASE_URL): ${(error as Error).message}`,
+      { cause: error },
+    );
   }
   const db: Database = drizzleNodePg({ client: pool, schema });
   const events = new ServerHub(url, log);
@@ -138,6 +141,17 @@ export async function openServerDatabase(
       await pool.end();
     },
   };
+}
+
+/** A database address without its password, for messages and logs. */
+export function redactedUrl(url: string): string {
+  try {
+    const parsed = new URL(url);
+    if (parsed.password) parsed.password = "***";
+    return parsed.toString();
+  } catch {
+    return "(an address that cannot be read)";
+  }
 }
 
 /** Opens the database the configuration names: the server at `databaseUrl`, else the embedded one in `databaseDir`. */

@@ -17,7 +17,7 @@
  */
 import { existsSync } from "node:fs";
 import type { Server } from "node:http";
-import { openConfiguredDatabase, type OpenDatabase } from "../db/client";
+import { openConfiguredDatabase, type OpenDatabase, redactedUrl } from "../db/client";
 import { duringStartUp, migrateDatabase } from "../db/migrate";
 import { seedDemo } from "../db/seed";
 import { seedDemoDatasets } from "../db/seed/demo-datasets";
@@ -123,17 +123,6 @@ async function main(): Promise<void> {
       console.error("Covarion cannot start:", error);
     }
     await stop(1);
-  }
-}
-
-/** A database address without its password, for the log. */
-function redactedUrl(url: string): string {
-  try {
-    const parsed = new URL(url);
-    if (parsed.password) parsed.password = "***";
-    return parsed.toString();
-  } catch {
-    return "(unreadable address)";
   }
 }
 
