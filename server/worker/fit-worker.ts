@@ -366,6 +366,7 @@ export class FitWorker {
     await this.store.clearRegionRows(fitId);
     const channel = new MessageChannel();
     let storing: Promise<void> = Promise.resolve();
+    let lastProgress = 0;
     let regionsDone: () => void = () => {};
     const allRegions = new Promise<void>((resolve) => {
       regionsDone = resolve;
@@ -378,9 +379,20 @@ export class FitWorker {
         );
       } else if (message.type === "regions-done") regionsDone();
       else if (message.type === "progress" && !chunks) {
-        storing = storing.then(() =>
-          this.store.writeProgress(fitId, Math.min(1, message.fraction), null),
-        );
+        // A fit computed whole reports the thread's progress, at most every half second.
+        const now = Date.now();
+        if (now - lastProgress < 500) return;
+        lastProgress = now;
+        const fraction = Math.min(1, Math.max(0, message.fraction));
+        const secondsLeft = secondsLeftOf(fraction, now - startedAt.getTime());
+        storing = storing.then(() => this.store.writeProgress(fitId, fraction, secondsLeft));
+        this.emit({
+          type: "progress",
+          fitId,
+          status: "running",
+          progress: { fraction, secondsLeft },
+          error: null,
+        });
       }
     });
     const task: FitTask = { ...inputs, port: channel.port2, ...(chunks ? { chunks } : {}) };

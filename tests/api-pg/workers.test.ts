@@ -1,0 +1,222 @@
+/**
+ * Worker processes (`npm run worker`: children running server/worker/
+ * index.ts with only DATABASE_URL and the queue's timing) on the test
+ * PostgreSQL server: a max-T Freedman–Lane fit computed by one worker, by
+ * two, and by two of which one is killed with SIGKILL mid-fit, gives the
+ * numbers, region rows included, of the same recipe computed by the
+ * embedded path (the app's own worker threads); each chunk is stored once;
+ * the live workers are listed for an Owner.
+ */
+import { type ChildProcess, spawn } from "node:child_process";
+import { join } from "node:path";
+import { asc, count, eq } from "drizzle-orm";
+import request from "supertest";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { driverOf } from "../../db/client";
+import { demoPeople } from "../../db/seed";
+import { fitChunks, fitRegions, fitRuns, fits } from "../../db/schema";
+import { insertQueuedFit } from "../../server/services/fit-store";
+import { queueDispatch } from "../../server/worker/fit-dispatch";
+import {
+  type TestApp,
+  createTestApp,
+  demoCookie,
+  demoStudyWithData,
+  waitForFitStatus,
+} from "../api/helpers";
+
+const root = join(import.meta.dirname, "..", "..");
+
+interface Worker {
+  child: ChildProcess;
+  output: () => string;
+  exited: Promise<number | null>;
+}
+
+let t: TestApp;
+let cookie: string;
+let databaseUrl: string;
+let referenceFitId: string;
+const running: Worker[] = [];
+const dispatch = () => queueDispatch(t.db);
+
+function startWorker(): Worker {
+  let out = "";
+  const child = spawn(process.execPath, ["--import", "tsx", "server/worker/index.ts"], {
+    cwd: root,
+    // Only the database's address and the queue's timing (short, so a killed worker's chunk comes back soon).
+    env: {
+      PATH: process.env.PATH,
+      DATABASE_URL: databaseUrl,
+      WORKER_LEASE_SECONDS: "4",
+      WORKER_MAINTENANCE_SECONDS: "1",
+    },
+    stdio: ["ignore", "pipe", "pipe"],
+  });
+  const collect = (c: Buffer) => {
+    out += c.toString();
+  };
+  child.stdout?.on("data", collect);
+  child.stderr?.on("data", collect);
+  const exited = new Promise<number | null>((resolve) => child.once("exit", resolve));
+  const worker = { child, output: () => out, exited };
+  running.push(worker);
+  return worker;
+}
+
+async function stopWorkers(): Promise<void> {
+  for (const w of running.splice(0)) {
+    if (w.child.exitCode === null && w.child.signalCode === null) w.child.kill("SIGTERM");
+    await w.exited;
+  }
+}
+
+async function waitFor(what: string, check: () => Promise<boolean>, timeoutMs = 120_000) {
+  const start = Date.now();
+  while (!(await check())) {
+    if (Date.now() - start > timeoutMs) throw new Error(`timed out waiting for ${what}`);
+    await new Promise((r) => setTimeout(r, 100));
+  }
+}
+
+/** A new queued fit with the reference fit's recipe and data, sent to the job queue. */
+async function queueCopyOfReference(): Promise<string> {
+  const [ref] = await t.db.select().from(fits).where(eq(fits.id, referenceFitId));
+  const fit = await insertQueuedFit(t.db, {
+    studyId: ref.studyId,
+    modelId: ref.modelId,
+    brainVersionId: ref.brainVersionId,
+    sheetVersionId: ref.sheetVersionId,
+    recipe: ref.recipe,
+    createdBy: ref.createdBy,
+    createdAt: new Date(),
+    refitOf: null,
+  });
+  const queue = dispatch();
+  try {
+    await queue.enqueue(fit.id);
+  } finally {
+    await queue.close();
+  }
+  return fit.id;
+}
+
+async function finished(fitId: string) {
+  await waitFor(`fit ${fitId} to finish`, async () => {
+    const [row] = await t.db.select({ status: fits.status }).from(fits).where(eq(fits.id, fitId));
+    return row.status !== "queued" && row.status !== "running";
+  });
+  const [row] = await t.db.select().from(fits).where(eq(fits.id, fitId));
+  const regions = await t.db
+    .select({
+      position: fitRegions.position,
+      participants: fitRegions.participants,
+      plot: fitRegions.plot,
+    })
+    .from(fitRegions)
+    .where(eq(fitRegions.fitId, fitId))
+    .orderBy(asc(fitRegions.position));
+  return { status: row.status, error: row.error, result: row.result, regions };
+}
+
+beforeAll(async () => {
+  t = await createTestApp();
+  const driver = driverOf(t.db);
+  if (driver.kind !== "server") throw new Error("tests/api-pg run on a PostgreSQL server only");
+  databaseUrl = String(driver.pool.options.connectionString);
+  const studyId = await demoStudyWithData(t);
+  cookie = await demoCookie(t, demoPeople[0].email);
+  const model = await request(t.url)
+    .post(`/api/studies/${studyId}/models`)
+    .set("Cookie", cookie)
+    .send({
+      name: "Accuracy, max-T, on workers",
+      regionSelection: "anatomical-or-prior",
+      spec: {
+        kind: "association",
+        predictor: "accuracy",
+        covariates: ["age"],
+        inference: "permutation",
+        resamples: 30_000,
+        correction: "maxt",
+        seed: 11,
+      },
+    })
+    .expect(201);
+  const fit = await request(t.url)
+    .post(`/api/studies/${studyId}/fits`)
+    .set("Cookie", cookie)
+    .send({ modelId: model.body.id })
+    .expect(202);
+  referenceFitId = fit.body.id;
+  // The embedded path: the app's own worker threads, the same blocks.
+  await waitForFitStatus(t, cookie, referenceFitId, ["done"]);
+}, 180_000);
+
+afterAll(async () => {
+  await stopWorkers();
+  await t?.close();
+});
+
+describe("fits on worker processes", () => {
+  it("one worker gives the embedded path's numbers; chunks are stored once", async () => {
+    const reference = await finished(referenceFitId);
+    expect(reference.status).toBe("done");
+    startWorker();
+    const fitId = await queueCopyOfReference();
+    const one = await finished(fitId);
+    expect(one.status).toBe("done");
+    expect(one.result).toEqual(reference.result);
+    expect(one.regions).toEqual(reference.regions);
+    const [plan] = await t.db.select().from(fitRuns).where(eq(fitRuns.fitId, fitId));
+    // 30,001 rearrangements in blocks of 500 (the first with the identity): 60 blocks × one region chunk.
+    expect(plan.chunks).toBe(60);
+    expect(plan.mergedAt).not.toBeNull();
+    const [{ stored }] = await t.db
+      .select({ stored: count() })
+      .from(fitChunks)
+      .where(eq(fitChunks.fitId, fitId));
+    expect(stored).toBe(60);
+  }, 180_000);
+
+  it("two workers give the same numbers and are listed for an Owner", async () => {
+    startWorker();
+    await waitFor("two live workers", async () => {
+      const res = await request(t.url).get("/api/system/workers").set("Cookie", cookie).expect(200);
+      return res.body.workers.length === 2;
+    });
+    const listed = await request(t.url)
+      .get("/api/system/workers")
+      .set("Cookie", cookie)
+      .expect(200);
+    expect(listed.body.workers[0]).toMatchObject({
+      host: expect.any(String),
+      chunksLastMinute: expect.any(Number),
+    });
+    const reference = await finished(referenceFitId);
+    const fitId = await queueCopyOfReference();
+    const two = await finished(fitId);
+    expect(two.status).toBe("done");
+    expect(two.result).toEqual(reference.result);
+    expect(two.regions).toEqual(reference.regions);
+  }, 180_000);
+
+  it("a worker killed with SIGKILL mid-fit: the fit still finishes with the same numbers", async () => {
+    const reference = await finished(referenceFitId);
+    const [victim] = running;
+    const fitId = await queueCopyOfReference();
+    await waitFor("the first chunks", async () => {
+      const [{ stored }] = await t.db
+        .select({ stored: count() })
+        .from(fitChunks)
+        .where(eq(fitChunks.fitId, fitId));
+      return stored >= 3;
+    });
+    victim.child.kill("SIGKILL");
+    expect(await victim.exited).toBeNull();
+    const survived = await finished(fitId);
+    expect(survived.status).toBe("done");
+    expect(survived.result).toEqual(reference.result);
+    expect(survived.regions).toEqual(reference.regions);
+  }, 180_000);
+});
