@@ -20,7 +20,7 @@ import { RegionTable } from "./fit/region-table";
 import { RegionDetailPanel } from "./fit/region-detail";
 import { ProgressBar } from "./fit/progress-bar";
 import { VarianceShares } from "./fit/variance-shares";
-import type { VarianceShareInput } from "./fit/variance-shares-layout";
+import { varianceShareInputsOf } from "./fit/variance-shares-layout";
 import { PublishPanel } from "./fit/publish-panel";
 import { PredictionView } from "./fit/prediction-view";
 import { SpecificationCurveView } from "./fit/specification-curve-view";
@@ -230,8 +230,13 @@ function FitBody({
               <Card style={wide ? styles.half : null}>
                 <Heading level={3}>Measurement noise and true differences</Heading>
                 <VarianceShares
-                  regions={varianceRows(regions, spec.tau2Method)}
+                  regions={varianceShareInputsOf(regions, spec.tau2Method)}
                   testID="variance-shares"
+                />
+                <FigureDownloads
+                  fitId={fit.id}
+                  name="variance-shares"
+                  label="variance shares of every region"
                 />
               </Card>
             ) : null}
@@ -250,28 +255,6 @@ function FitBody({
       ) : null}
     </View>
   );
-}
-
-/** The weighted fit's per-region variance components, for the shares plot (regions without them are left out). */
-function varianceRows(
-  regions: readonly RegionResult[],
-  tau2Method: "dl" | "reml",
-): VarianceShareInput[] {
-  return regions
-    .filter(
-      (r) =>
-        typeof r.tau2 === "number" &&
-        typeof r.noiseShare === "number" &&
-        typeof r.trueShare === "number",
-    )
-    .map((r) => ({
-      region: r.region,
-      tau2: r.tau2 as number,
-      i2: (r.i2 as number | undefined) ?? 0,
-      noiseShare: r.noiseShare as number,
-      trueShare: r.trueShare as number,
-      tau2Method,
-    }));
 }
 
 const styles = StyleSheet.create({

@@ -8,8 +8,11 @@
  * Bad input (a share outside 0–1, shares that do not add to 1, a missing
  * number) throws a `ChartInputError` naming the field and region position.
  */
+import type { RegionResult } from "../../contract/spec";
 import { ChartInputError, requireFinite } from "../charts/chart-input-error";
+import type { LegendEntry } from "../charts/legend-entries";
 import { formatPercent, formatValue } from "../charts/number-format";
+import { chart, markRoles } from "../theme";
 
 export type Tau2Method = "dl" | "reml";
 
@@ -88,4 +91,39 @@ export function varianceSharesMethod(
 ): string {
   const methods = [...new Set(regions.map((r) => r.tau2Method))].map(tau2MethodName).join(" and ");
   return `Shares of each region's residual variance: measurement noise = mean(se²) / (mean(se²) + τ²), true differences between participants = τ² / (mean(se²) + τ²); se the first-level standard errors, τ² estimated by ${methods}. I² after Higgins & Thompson (2002).`;
+}
+
+/** The two segments' colours. */
+export const varianceColours = { noise: chart.bar, truth: markRoles.participant } as const;
+
+/** The legend under the bars. */
+export const varianceSharesLegend: readonly LegendEntry[] = [
+  { kind: "band", label: "measurement noise", colour: varianceColours.noise },
+  { kind: "band", label: "true differences between participants", colour: varianceColours.truth },
+];
+
+/** The accessible name of the whole list of bars. */
+export const varianceSharesLabel =
+  "Variance shares per region: measurement noise and true differences between participants";
+
+/** The weighted fit's per-region variance components (regions without them are left out). */
+export function varianceShareInputsOf(
+  regions: readonly RegionResult[],
+  tau2Method: Tau2Method,
+): VarianceShareInput[] {
+  return regions
+    .filter(
+      (r) =>
+        typeof r.tau2 === "number" &&
+        typeof r.noiseShare === "number" &&
+        typeof r.trueShare === "number",
+    )
+    .map((r) => ({
+      region: r.region,
+      tau2: r.tau2 as number,
+      i2: (r.i2 as number | undefined) ?? 0,
+      noiseShare: r.noiseShare as number,
+      trueShare: r.trueShare as number,
+      tau2Method,
+    }));
 }

@@ -10,11 +10,14 @@
 import { StyleSheet, View } from "react-native";
 import { tryLayout } from "../charts/chart-input-error";
 import { Legend } from "../charts/legend";
-import { chart, markRoles, palette, radius, space } from "../theme";
+import { palette, radius, space } from "../theme";
 import { Txt } from "../ui";
 import {
   type VarianceShareInput,
+  varianceColours,
   varianceShareRows,
+  varianceSharesLabel,
+  varianceSharesLegend,
   varianceSharesMethod,
 } from "./variance-shares-layout";
 
@@ -25,8 +28,8 @@ export interface VarianceSharesProps {
   testID?: string;
 }
 
-const NOISE = chart.bar;
-const TRUE = markRoles.participant;
+const NOISE = varianceColours.noise;
+const TRUE = varianceColours.truth;
 
 export function VarianceShares(props: VarianceSharesProps) {
   const result = tryLayout(() => varianceShareRows(props.regions));
@@ -42,10 +45,7 @@ export function VarianceShares(props: VarianceSharesProps) {
   }
   return (
     <View style={styles.root} testID={props.testID}>
-      <View
-        role="list"
-        accessibilityLabel="Variance shares per region: measurement noise and true differences between participants"
-      >
+      <View role="list" accessibilityLabel={varianceSharesLabel}>
         {result.layout.map((row) => (
           <View
             key={row.region}
@@ -73,13 +73,7 @@ export function VarianceShares(props: VarianceSharesProps) {
           </View>
         ))}
       </View>
-      <Legend
-        label="Variance shares legend"
-        entries={[
-          { kind: "band", label: "measurement noise", colour: NOISE },
-          { kind: "band", label: "true differences between participants", colour: TRUE },
-        ]}
-      />
+      <Legend label="Variance shares legend" entries={varianceSharesLegend} />
       <Txt kind="caption" style={styles.method}>
         {varianceSharesMethod(props.regions)}
       </Txt>

@@ -1,6 +1,7 @@
 /**
  * The API's view of a fit's figures (GET /api/fits/:fitId/figures): one
  * entry per figure that can be downloaded, named stably — `forest`,
+ * `variance-shares` (a fit weighted by first-level standard errors),
  * `<region>-scatter` or `<region>-strip`, `<region>-influence`,
  * `<region>-null`. Each downloads as `…/figures/:name.svg`,
  * `…/:name.png?width=89|183` and its caption as `…/:name.txt`.
@@ -11,7 +12,14 @@ export const figureWidths = [89, 183] as const;
 export type FigureWidth = (typeof figureWidths)[number];
 
 /** What a figure draws. */
-export const figureKinds = ["forest", "scatter", "strip", "influence", "null"] as const;
+export const figureKinds = [
+  "forest",
+  "variance-shares",
+  "scatter",
+  "strip",
+  "influence",
+  "null",
+] as const;
 export type FigureKind = (typeof figureKinds)[number];
 
 export interface FigureSummary {
@@ -24,6 +32,9 @@ export interface FigureSummary {
 }
 
 /** The stable name of a region's figure: "L_dlpfc-scatter". */
-export function figureName(region: string, kind: Exclude<FigureKind, "forest">): string {
+export function figureName(
+  region: string,
+  kind: Exclude<FigureKind, "forest" | "variance-shares">,
+): string {
   return `${region}-${kind}`;
 }

@@ -142,3 +142,14 @@ export function nullCaption(ctx: CaptionContext, r: RegionResult, words: string)
     source(ctx),
   ].join("\n");
 }
+
+/** Caption of a weighted fit's variance shares. */
+export function varianceCaption(ctx: CaptionContext, regions: number, method: string): string {
+  return [
+    `Variance shares of ${count(regions, "region")} of a fit weighted by first-level standard errors: for each region a bar split into the share of residual variance that is measurement noise and the share that is true differences between participants, with τ² and I² beside the region's name.`,
+    method,
+    methodLine(ctx),
+    setAsideLine(ctx.spec, null),
+    source(ctx),
+  ].join("\n");
+}

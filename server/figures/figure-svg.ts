@@ -1,8 +1,8 @@
 /**
  * A figure of a fit as SVG text, drawn from the same layout modules the
  * screen draws from (components/charts/*-layout.ts): the forest plot, the
- * scatter plot, the strip plot, the influence view and the permutation
- * null histogram. Each builder lays its plot out at `width` SVG units (the
+ * scatter plot, the strip plot, the influence view, the permutation
+ * null histogram and a weighted fit's variance shares. Each builder lays its plot out at `width` SVG units (the
  * screen's one unit per CSS pixel, see figureUnits) and adds the legend
  * under it; `svgDocument` wraps the drawing with its size in millimetres,
  * a viewBox, a white background, a <title> and a <desc>.
@@ -30,7 +30,7 @@ import {
   influenceMarks,
 } from "../../components/charts/influence-layout";
 import type { LegendEntry } from "../../components/charts/legend-entries";
-import { chartViewport } from "../../components/charts/scales";
+import { chartViewport, truncateLabel } from "../../components/charts/scales";
 import {
   checkScatter,
   type ScatterInput,
@@ -47,6 +47,14 @@ import {
   stripLegend,
   stripPlotLayout,
 } from "../../components/charts/strip-layout";
+import {
+  type VarianceShareInput,
+  varianceColours,
+  varianceShareRows,
+  varianceSharesLabel,
+  varianceSharesLegend,
+  varianceSharesMethod,
+} from "../../components/fit/variance-shares-layout";
 import { chart, markRoles, palette } from "../../components/theme";
 import {
   axis,
@@ -348,13 +356,88 @@ export function nullFigure(input: NullHistogramInput, title: string, width: numb
   };
 }
 
+/**
+ * Variance shares of a weighted fit: per region its name and τ²/I² on one
+ * line, a stacked bar (noise, then true differences) and the shares in
+ * words under it — the rows, words, colours and legend of the screen's
+ * view (variance-shares-layout.ts), stacked at fixed heights since the
+ * screen lays them out with flowing text.
+ */
+export function varianceFigure(
+  regions: readonly VarianceShareInput[],
+  title: string,
+  width: number,
+): RawFigure {
+  const rows = varianceShareRows(regions);
+  const rowHeight = 52;
+  const barWidth = width - 8;
+  const kept = new KeptAttributes();
+  const body = rows
+    .map((row, i) => {
+      const top = 4 + i * rowHeight;
+      const noise = barWidth * row.noiseShare;
+      const id = kept.add({
+        class: "variance-row",
+        "data-region": row.region,
+        "aria-label": `${row.region}: ${row.words}; ${row.detail}`,
+      });
+      return el(
+        "g",
+        { id },
+        text(4, top + 12, truncateLabel(row.region, width * 0.55, chart.labelText), {
+          size: chart.labelText,
+          weight: 600,
+        }) +
+          text(width - 4, top + 12, row.detail, { anchor: "end" }) +
+          el("rect", {
+            x: 4,
+            y: top + 18,
+            width: barWidth,
+            height: 14,
+            fill: palette.canvasDeep,
+            stroke: palette.line,
+          }) +
+          (row.noiseShare > 0
+            ? el("rect", {
+                x: 4,
+                y: top + 18,
+                width: noise,
+                height: 14,
+                fill: varianceColours.noise,
+              })
+            : "") +
+          (row.trueShare > 0
+            ? el("rect", {
+                x: 4 + noise,
+                y: top + 18,
+                width: barWidth - noise,
+                height: 14,
+                fill: varianceColours.truth,
+              })
+            : "") +
+          text(4, top + 45, row.words),
+      );
+    })
+    .join("");
+  const plotHeight = 4 + rows.length * rowHeight;
+  const framed = withLegend(width, plotHeight, body, varianceSharesLegend);
+  return {
+    width,
+    title,
+    description: `${varianceSharesLabel}. ${rows.map((r) => `${r.region}: ${r.words}; ${r.detail}.`).join(" ")} ${varianceSharesMethod(regions)}`,
+    kept,
+    ...framed,
+  };
+}
+
 /** What a figure draws, as plain data (it crosses to the figure worker thread). */
 export type FigureInput =
   | { kind: "forest"; rows: ForestRow[]; estimateLabel: string; title: string }
   | { kind: "scatter"; input: ScatterInput; title: string }
   | { kind: "strip"; input: StripInput; title: string }
   | { kind: "influence"; points: InfluencePoint[]; cuts: FlagCuts; title: string }
-  | { kind: "null"; input: NullHistogramInput; title: string };
+  | { kind: "null"; input: NullHistogramInput; title: string }
+  | { kind: "variance-shares"; regions: VarianceShareInput[]; title: string };
 
 /** The figure laid out `widthMm` wide (89 or 183 mm), with text still as text. */
 export function drawFigure(figure: FigureInput, widthMm: number): RawFigure {
@@ -374,6 +457,8 @@ export function drawFigure(figure: FigureInput, widthMm: number): RawFigure {
       return influenceFigure(figure.points, figure.cuts, figure.title, width);
     case "null":
       return nullFigure(figure.input, figure.title, width);
+    case "variance-shares":
+      return varianceFigure(figure.regions, figure.title, width);
   }
 }
 

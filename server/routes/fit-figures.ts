@@ -8,8 +8,8 @@
  *                                             `figure_too_large` past 12,000 px tall
  * GET /api/fits/:fitId/figures/:name.txt    → the figure's caption, plain text
  *
- * Names: `forest`, `<region>-scatter` or `<region>-strip`, `<region>-influence`,
- * `<region>-null`. All carry `fits.export`; 409 until the fit is done; 404 for a
+ * Names: `forest`, `variance-shares` (weighted fits), `<region>-scatter` or
+ * `<region>-strip`, `<region>-influence`, `<region>-null`. All carry `fits.export`; 409 until the fit is done; 404 for a
  * name that is not one of the fit's figures; 400 naming `query.width` for another
  * width; 403 for a figure with one mark per participant when the caller may not
  * read participant-level rows (a restricted study's Viewer, as on the screen).

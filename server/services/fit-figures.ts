@@ -1,6 +1,9 @@
 /**
  * A finished fit's figures, for the figures routes and the report bundle.
  *
+ * Names: `forest`, `variance-shares` (weighted fits), `<region>-scatter` or
+ * `<region>-strip`, `<region>-influence`, `<region>-null`.
+ *
  *   listFigures(db, fit, access)                 → FigureSummary[]
  *   figureSvg(db, fit, name, access, widthMm?)   → Promise<string>  SVG, text as outlines, widthMm 89 (default) or 183
  *   figurePng(db, fit, name, access, widthMm)    → Promise<Buffer>  PNG at 300 dpi, round(mm / 25.4 × 300) px wide, pHYs set
@@ -22,6 +25,10 @@ import type { Queryable } from "../../db/client";
 import type { Fit } from "../../db/schema";
 import { nullHistogramWords } from "../../components/charts/histogram-layout";
 import { estimateLabel } from "../../components/fit/estimate-label";
+import {
+  varianceShareInputsOf,
+  varianceSharesMethod,
+} from "../../components/fit/variance-shares-layout";
 import {
   dataPlotKind,
   influenceInputOf,
@@ -47,6 +54,7 @@ import {
   forestCaption,
   influenceCaption,
   nullCaption,
+  varianceCaption,
 } from "../figures/captions";
 import { type FigureInput, figureLayoutWidth } from "../figures/figure-svg";
 import { forestHeight } from "../../components/charts/forest-layout";
@@ -117,6 +125,16 @@ function figuresOf(fit: Fit, access: FigureAccess): FigureSummary[] {
       regions: regions.map((r) => r.region),
     },
   ];
+  if (
+    spec.weights === "first-level-se" &&
+    varianceShareInputsOf(regions, spec.tau2Method).length > 0
+  )
+    list.push({
+      name: "variance-shares",
+      kind: "variance-shares",
+      title: "Measurement noise and true differences",
+      regions: varianceShareInputsOf(regions, spec.tau2Method).map((r) => r.region),
+    });
   const dataKind = dataPlotKind(spec);
   for (const r of regions) {
     if (access.participantsVisible) {
@@ -190,6 +208,13 @@ async function build(
         title: figure.title,
       },
       caption: forestCaption(ctx, regions, label),
+    };
+  }
+  if (figure.kind === "variance-shares") {
+    const shares = varianceShareInputsOf(regions, ctx.spec.tau2Method);
+    return {
+      figure: { kind: "variance-shares", regions: shares, title: figure.title },
+      caption: varianceCaption(ctx, shares.length, varianceSharesMethod(shares)),
     };
   }
   const region = (figure.regions ?? [])[0];

@@ -19,6 +19,7 @@ import {
   scatterFigure,
   stripFigure,
   svgDocument,
+  varianceFigure,
 } from "../../../server/figures/figure-svg";
 import { outlineSvg } from "../../../server/figures/outline";
 import { escapeXml } from "../../../server/figures/svg-writer";
@@ -172,5 +173,41 @@ describe("influence and null figures", () => {
     expect(raw.filter((e) => e.name === "rect")).toHaveLength(1 + 6 + 2);
     expect(raw.some((e) => e.name === "text" && e.text.includes("500 rearrangements"))).toBe(true);
     parseXml(outlined(fig));
+  });
+});
+
+describe("variance-shares figure", () => {
+  it("one row per region with its bar split by the shares, names findable", () => {
+    const regions = [
+      {
+        region: "L_dlpfc",
+        tau2: 0.03,
+        i2: 0.41,
+        noiseShare: 0.62,
+        trueShare: 0.38,
+        tau2Method: "reml" as const,
+      },
+      {
+        region: "Precuneus",
+        tau2: 0,
+        i2: 0,
+        noiseShare: 1,
+        trueShare: 0,
+        tau2Method: "reml" as const,
+      },
+    ];
+    const fig = varianceFigure(regions, "Measurement noise and true differences", 360);
+    const els = parseXml(outlined(fig));
+    const rows = els.filter((e) => e.attrs.class === "variance-row");
+    expect(rows.map((r) => r.attrs["data-region"])).toEqual(["L_dlpfc", "Precuneus"]);
+    expect(rows[0].attrs["aria-label"]).toBe(
+      "L_dlpfc: 62% noise · 38% true differences; τ² = 0.03 · I² = 41%",
+    );
+    const raw = parseXml(svgDocument(fig, 89)).filter((e) => e.name === "rect");
+    // background, then per region the track and its non-empty segments (2 + 1), then two legend swatches
+    expect(raw).toHaveLength(1 + 3 + 2 + 2);
+    const [track, noise, truth] = raw.slice(1, 4).map((r) => Number(r.attrs.width));
+    expect(noise / track).toBeCloseTo(0.62, 2);
+    expect(truth / track).toBeCloseTo(0.38, 2);
   });
 });

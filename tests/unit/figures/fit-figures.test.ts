@@ -80,6 +80,19 @@ describe("listFigures", () => {
   });
 });
 
+describe("variance shares", () => {
+  it("a fit weighted by first-level standard errors lists variance-shares after forest", async () => {
+    const fit = fitOf(2, "done", { tau2: 0.02, i2: 0.3, noiseShare: 0.7, trueShare: 0.3 });
+    (fit as { recipe: Record<string, unknown> }).recipe = {
+      kind: "one-sample",
+      weights: "first-level-se",
+    };
+    const list = await listFigures(noDb, fit, { participantsVisible: false });
+    expect(list.map((f) => f.name)).toEqual(["forest", "variance-shares", "R0-null"]);
+    expect(list[1].regions).toEqual(["R0", "R1"]);
+  });
+});
+
 describe("figurePng refusals", () => {
   it("404 for an unknown name, 403 for a withheld participant figure", async () => {
     expect(
