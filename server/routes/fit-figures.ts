@@ -91,6 +91,8 @@ export function fitFigureRoutes(deps: RouteDeps): Router {
         const svg = await figureSvg(deps.db, fit, name, who, widthMm);
         res.set({
           "Content-Type": "image/svg+xml; charset=utf-8",
+          // an SVG opened on its own is a document: it may run nothing and load nothing
+          "Content-Security-Policy": "default-src 'none'",
           "Content-Disposition": `attachment; filename="${fileName(fit.id, name, `-${widthMm}mm.svg`)}"`,
         });
         res.send(svg);

@@ -35,7 +35,10 @@ const get = (role: string, path: string) => request(t.url).get(path).set("Cookie
 /** An SVG answer's text (supertest does not buffer image/svg+xml as text). */
 async function svgText(role: string, path: string, status = 200): Promise<string> {
   const res = await get(role, path).buffer(true).parse(binary).expect(status);
-  if (status === 200) expect(res.headers["content-type"]).toMatch(/^image\/svg\+xml/);
+  if (status === 200) {
+    expect(res.headers["content-type"]).toMatch(/^image\/svg\+xml/);
+    expect(res.headers["content-security-policy"]).toBe("default-src 'none'");
+  }
   return (res.body as Buffer).toString("utf8");
 }
 
