@@ -20,6 +20,10 @@
  *    and confirm durations, and those requests' p50, p95 and max. Target:
  *    p95 ≤ 100 ms while the upload and confirm run.
  *
+ * 4. A 20,000 × 1,000 brain table (≈ 200 MB CSV), plain and gzip, uploaded,
+ *    previewed and confirmed through the real server: wall time and the
+ *    server process's peak memory (bench/intake-biobank.ts). Target: < 2 GB.
+ *
  * `npm run bench -- intake`; INTAKE_PARTS=3 (or "1,2") runs only those
  * parts, INTAKE_SHAPES=3 (or "1,2") only those shapes of part 3.
  */
@@ -40,6 +44,7 @@ import {
   readTable,
   sha256Hex,
 } from "../../server/intake";
+import { biobankUpload } from "../intake-biobank";
 import { latencySummary, startBenchServer } from "../server-process";
 
 const PARTICIPANTS = 2000;
@@ -80,9 +85,10 @@ function time<T>(f: () => T): [T, number] {
 }
 
 export default async function intakeBench(): Promise<void> {
-  const parts = (process.env.INTAKE_PARTS ?? "1,2,3").split(",").map((p) => p.trim());
+  const parts = (process.env.INTAKE_PARTS ?? "1,2,3,4").split(",").map((p) => p.trim());
   if (parts.includes("1") || parts.includes("2")) await inProcess(parts);
   if (parts.includes("3")) await largeUploadOverHttp();
+  if (parts.includes("4")) await biobankUpload();
 }
 
 async function inProcess(parts: readonly string[]): Promise<void> {
