@@ -8,7 +8,7 @@
  *   results/regions.md|tex|docx, results/sentences.md
  *                         the table for a manuscript and the results sentences (manuscript-tables.ts)
  *   figures/<name>.svg|png|txt
- *                         the forest plot and the figures of the first `reportFigureRegions` regions by
+ *                         the forest plot (and a weighted fit's variance shares) and the figures of the first `reportFigureRegions` regions by
  *                         adjusted p, with captions (fit-figures.ts; participant plots only for callers
  *                         who may see participant rows)
  *   recipe.json           the recipe (left out for a caller without participant rows: it names them)
@@ -244,7 +244,8 @@ async function keptPng(key: string, render: () => Promise<Buffer>): Promise<Uint
 }
 
 /**
- * The bundle's figures: the forest plot and the figures of the first
+ * The bundle's figures: the whole-fit figures (the forest plot; the
+ * variance shares of a weighted fit) and the figures of the first
  * `reportFigureRegions` regions by adjusted p (p without a correction;
  * ties in the fit's order), each as SVG (text as outlines), PNG at 300 dpi
  * and its caption. A PNG taller than the rasterizer's cap is left out (its
@@ -266,17 +267,17 @@ async function figureParts(
     .sort((a, b) => a.p - b.p || a.i - b.i)
     .slice(0, reportFigureRegions)
     .map((r) => r.region);
+  // Whole-fit figures (every region) first, then each chosen region's own figures.
+  const wholeFit = (f: FigureSummary) => f.kind === "forest" || f.kind === "variance-shares";
   const selected: FigureSummary[] = [
-    ...figures.filter((f) => f.kind === "forest"),
-    ...chosen.flatMap((region) =>
-      figures.filter((f) => f.kind !== "forest" && f.regions?.[0] === region),
-    ),
+    ...figures.filter(wholeFit),
+    ...chosen.flatMap((region) => figures.filter((f) => !wholeFit(f) && f.regions?.[0] === region)),
   ];
   const parts: ReportPart[] = [];
   const leftOut: string[] = [];
   const used = new Set<string>();
   for (const figure of selected) {
-    const widthMm = figure.kind === "forest" ? forestWidth : regionWidth;
+    const widthMm = wholeFit(figure) ? forestWidth : regionWidth;
     let base = `figures/${fileNameOf(figure.name)}`;
     for (let n = 2; used.has(base); n++) base = `figures/${fileNameOf(figure.name)}-${n}`;
     used.add(base);
@@ -344,7 +345,7 @@ function readme(
   if (parts.some((p) => p.name.startsWith("figures/")))
     lines.push(
       "",
-      `Figures: the forest plot of every region (${forestWidth} mm, two columns) and the figures of the`,
+      `Figures: the forest plot of every region (and a weighted fit's variance shares; ${forestWidth} mm, two columns) and the figures of the`,
       `first ${reportFigureRegions} regions by adjusted p (${figureRegions.join(", ")}; ${regionWidth} mm, one column),`,
       `each as SVG, PNG at ${FIGURE_DPI} dpi and a caption. Every other figure of the fit downloads from`,
       `the fit screen or GET /api/fits/${view.id}/figures.`,
