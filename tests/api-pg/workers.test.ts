@@ -46,6 +46,7 @@ function startWorker(): Worker {
     cwd: root,
     // Only the database's address and the queue's timing (short, so a killed worker's chunk comes back soon).
     env: {
+      NODE_ENV: "production",
       PATH: process.env.PATH,
       DATABASE_URL: databaseUrl,
       WORKER_LEASE_SECONDS: "4",

@@ -1,0 +1,310 @@
+/**
+ * Scale: one max-T Freedman–Lane fit on a PostgreSQL server, computed by
+ * the embedded path (the fit's worker thread), by one worker process and
+ * by two (`npm run worker`, the job queue), with the same numbers.
+ *
+ * The issue's size is 20,000 participants × 400 regions × 5 regressors ×
+ * 10,000 rearrangements (≈ 800 GFLOP in the kernel's product); this suite
+ * runs it scaled down by SCALE_FACTOR in participants (default 10: 2,000
+ * participants, 80 GFLOP — the three runs fit in a few minutes of a shared
+ * 2-core machine) and projects the full size from the measured per-chunk
+ * cost (a chunk's work grows with the participants; its fixed costs do
+ * not). `SCALE_FACTOR=1 npm run bench -- scale` runs the full size.
+ *
+ * Printed: wall time of each run; the kernel's time per chunk measured in
+ * this process (one thread); per-worker throughput against it; the time
+ * not spent computing (wall − chunks × chunk time ÷ workers: queue,
+ * planning, storage, merge); the projected wall time on 10 and 50 workers;
+ * and, in the same run, a plain register-blocked reference loop of the same
+ * multiply–adds (two regions × five regressors per pass) with the kernel's
+ * share of its speed, on one thread.
+ *
+ * Needs Debian's postgresql (a throw-away server is started, as the tests
+ * do). Data are invented by a seeded generator.
+ */
+import { type ChildProcess, spawn } from "node:child_process";
+import os from "node:os";
+import { join } from "node:path";
+import { count, eq } from "drizzle-orm";
+import { openServerDatabase } from "../../db/client";
+import { migrateDatabase } from "../../db/migrate";
+import { fitChunks, fits, memberships, models, studies, users } from "../../db/schema";
+import { chunkedFit, chunkTask } from "../../server/jobs/fit-chunks";
+import runPermutationTask from "../../server/jobs/permutation-task";
+import { confirmUpload, previewUpload } from "../../server/services/datasets";
+import { buildFitInputs, inputsOfFit } from "../../server/services/fit-inputs";
+import { createFitJobs } from "../../server/services/fit-store";
+import { createFit } from "../../server/services/fits";
+import { PreviewStore } from "../../server/services/preview-store";
+import { createRng, normalDraw } from "../../server/stats/rng";
+import { queueDispatch } from "../../server/worker/fit-dispatch";
+import { startPostgresServer } from "../../tests/support/postgres-server";
+import { specOfRecipe } from "../../contract/recipe";
+import { modelSpecSchema } from "../../contract/spec";
+
+const FACTOR = Number(process.env.SCALE_FACTOR ?? 10);
+const FULL_N = 20_000;
+const N = Math.round(FULL_N / FACTOR);
+const REGIONS = 400;
+const P = 5; // intercept, accuracy, age, mean_fd, and the tested group
+const RESAMPLES = 10_000;
+const root = join(import.meta.dirname, "..", "..");
+
+function makeFiles(): { brain: Uint8Array; sheet: Uint8Array } {
+  const rng = createRng(2026);
+  const lines = [
+    [
+      "participant_id",
+      ...Array.from({ length: REGIONS }, (_, r) => `region_${String(r + 1).padStart(3, "0")}`),
+    ].join(","),
+  ];
+  const sheet = ["participant_id\tage\taccuracy\tmean_fd\tsite"];
+  for (let i = 0; i < N; i++) {
+    const id = `sub-${String(i + 1).padStart(5, "0")}`;
+    const accuracy = 0.5 + rng.next() / 2;
+    const cells = [id];
+    for (let r = 0; r < REGIONS; r++)
+      cells.push((0.2 * (r % 7 === 0 ? accuracy : 0) + normalDraw(rng)).toFixed(5));
+    lines.push(cells.join(","));
+    sheet.push(
+      [
+        id,
+        String(18 + rng.int(60)),
+        accuracy.toFixed(4),
+        (0.05 + rng.next() / 5).toFixed(4),
+        rng.next() < 0.5 ? "north" : "south",
+      ].join("\t"),
+    );
+  }
+  const enc = new TextEncoder();
+  return { brain: enc.encode(`${lines.join("\n")}\n`), sheet: enc.encode(`${sheet.join("\n")}\n`) };
+}
+
+/** Plain register-blocked loop of the kernel's multiply–adds: two regions × five columns per pass. */
+function referenceLoop(q: Float64Array, e: Float64Array, n: number, regions: number): number {
+  let sink = 0;
+  for (let r = 0; r + 1 < regions; r += 2) {
+    const a = r * n;
+    const b = a + n;
+    let a0 = 0;
+    let a1 = 0;
+    let a2 = 0;
+    let a3 = 0;
+    let a4 = 0;
+    let b0 = 0;
+    let b1 = 0;
+    let b2 = 0;
+    let b3 = 0;
+    let b4 = 0;
+    for (let j = 0; j < n; j++) {
+      const u = j * 5;
+      const x = e[a + j];
+      const y = e[b + j];
+      const q0 = q[u];
+      const q1 = q[u + 1];
+      const q2 = q[u + 2];
+      const q3 = q[u + 3];
+      const q4 = q[u + 4];
+      a0 += q0 * x;
+      a1 += q1 * x;
+      a2 += q2 * x;
+      a3 += q3 * x;
+      a4 += q4 * x;
+      b0 += q0 * y;
+      b1 += q1 * y;
+      b2 += q2 * y;
+      b3 += q3 * y;
+      b4 += q4 * y;
+    }
+    sink += a0 + a1 + a2 + a3 + a4 + b0 + b1 + b2 + b3 + b4;
+  }
+  return sink;
+}
+
+function startWorker(databaseUrl: string): { child: ChildProcess; exited: Promise<unknown> } {
+  const child = spawn(process.execPath, ["--import", "tsx", "server/worker/index.ts"], {
+    cwd: root,
+    env: { NODE_ENV: "production", PATH: process.env.PATH, DATABASE_URL: databaseUrl },
+    stdio: ["ignore", "ignore", "pipe"],
+  });
+  child.stderr?.on("data", (c: Buffer) => process.stderr.write(c));
+  return { child, exited: new Promise((resolve) => child.once("exit", resolve)) };
+}
+
+export default async function scaleBench(): Promise<void> {
+  const gflop = (2 * N * P * REGIONS * (RESAMPLES + 1)) / 1e9;
+  console.log(
+    `max-T Freedman–Lane: ${N.toLocaleString("en")} participants (the issue's ${FULL_N.toLocaleString("en")} ÷ ${FACTOR}) × ${REGIONS} regions × ${P} regressors × ${RESAMPLES.toLocaleString("en")} rearrangements ≈ ${gflop.toFixed(0)} GFLOP`,
+  );
+  console.log(`machine load (1-minute average) at start: ${os.loadavg()[0].toFixed(1)}`);
+  const server = await startPostgresServer();
+  const databaseUrl = await server.createDatabase("covarion_scale");
+  const database = await openServerDatabase(databaseUrl);
+  const workers: { child: ChildProcess; exited: Promise<unknown> }[] = [];
+  try {
+    await migrateDatabase(database.db);
+    const db = database.db;
+    const [user] = await db
+      .insert(users)
+      .values({ email: "bench@lab.example", name: "Bench" })
+      .returning();
+    const actor = { id: user.id, name: user.name, email: user.email };
+    const [study] = await db
+      .insert(studies)
+      .values({ name: "Scale bench", createdBy: user.id })
+      .returning();
+    await db.insert(memberships).values({ studyId: study.id, userId: user.id, role: "owner" });
+    const { brain, sheet } = makeFiles();
+    const store = new PreviewStore();
+    const t0 = performance.now();
+    for (const [kind, fileName, bytes] of [
+      ["brain", "brain.csv", brain],
+      ["participants", "participants.tsv", sheet],
+    ] as const) {
+      const preview = await previewUpload(store, {
+        studyId: study.id,
+        kind,
+        fileName,
+        upload: { bytes },
+        byteSize: bytes.byteLength,
+        options: {},
+        uploader: actor,
+        now: new Date(),
+      });
+      await confirmUpload(db, store, {
+        studyId: study.id,
+        datasetId: preview.id,
+        actor,
+        confirmation: {},
+        now: new Date(),
+      });
+    }
+    console.log(
+      `data: brain table ${(brain.byteLength / 1e6).toFixed(0)} MB uploaded and confirmed in ${((performance.now() - t0) / 1000).toFixed(1)} s`,
+    );
+    const spec = modelSpecSchema.parse({
+      kind: "two-group",
+      group: "site",
+      levels: ["north", "south"],
+      covariates: ["age", "accuracy", "mean_fd"],
+      inference: "permutation",
+      resamples: RESAMPLES,
+      correction: "maxt",
+      seed: 5,
+    });
+    const [model] = await db
+      .insert(models)
+      .values({
+        studyId: study.id,
+        name: "Scale",
+        spec,
+        regionSelection: "anatomical-or-prior",
+        createdBy: user.id,
+        updatedBy: user.id,
+      })
+      .returning();
+
+    async function runFitVia(label: string, jobs: ReturnType<typeof createFitJobs>) {
+      const start = performance.now();
+      const view = await createFit(db, jobs, actor, study, model.id, new Date(), "bench");
+      for (;;) {
+        const [row] = await db
+          .select({ status: fits.status, error: fits.error })
+          .from(fits)
+          .where(eq(fits.id, view.id));
+        if (row.status === "done") break;
+        if (row.status === "failed" || row.status === "cancelled")
+          throw new Error(`${label}: fit ${row.status}: ${row.error}`);
+        await new Promise((r) => setTimeout(r, 100));
+      }
+      const wall = (performance.now() - start) / 1000;
+      const [row] = await db.select().from(fits).where(eq(fits.id, view.id));
+      return { id: view.id, wall, result: JSON.stringify(row.result) };
+    }
+
+    const embedded = await runFitVia("embedded", createFitJobs(db, { threads: 1 }));
+    console.log(`embedded path (one fit thread): ${embedded.wall.toFixed(1)} s`);
+
+    // The kernel's cost per chunk, on one thread in this process (the same chunks the workers compute).
+    const [fitRow] = await db.select().from(fits).where(eq(fits.id, embedded.id));
+    const { data } = await buildFitInputs(db, inputsOfFit(fitRow));
+    const plan = chunkedFit(specOfRecipe(fitRow.recipe), data);
+    if (!plan) throw new Error("the fit is not split");
+    const control = new SharedArrayBuffer(8);
+    const sample = [0, 1, plan.blocks, plan.chunks - 1];
+    const c0 = performance.now();
+    for (const c of sample) runPermutationTask(chunkTask(plan, c, control));
+    const chunkSeconds = (performance.now() - c0) / 1000 / sample.length;
+    const computeSeconds = chunkSeconds * plan.chunks;
+    console.log(
+      `chunks: ${plan.chunks} (${plan.regionChunks.length} region chunks × ${plan.blocks} rearrangement blocks); kernel ${(chunkSeconds * 1000).toFixed(0)} ms per chunk on one thread here (${(gflop / computeSeconds).toFixed(2)} GFLOP/s), ${computeSeconds.toFixed(1)} s for all`,
+    );
+
+    const results: { workers: number; wall: number; same: boolean; mergeSeconds: number }[] = [];
+    for (const count of [1, 2]) {
+      while (workers.length < count) workers.push(startWorker(databaseUrl));
+      const jobs = createFitJobs(db, { dispatch: queueDispatch(db) });
+      const run = await runFitVia(`${count} worker(s)`, jobs);
+      await jobs.close();
+      const [last] = await db
+        .select({ at: fitChunks.computedAt })
+        .from(fitChunks)
+        .where(eq(fitChunks.fitId, run.id))
+        .orderBy(fitChunks.computedAt)
+        .limit(1)
+        .offset(plan.chunks - 1);
+      const [fitDone] = await db
+        .select({ finishedAt: fits.finishedAt })
+        .from(fits)
+        .where(eq(fits.id, run.id));
+      const mergeSeconds =
+        ((fitDone.finishedAt?.getTime() ?? 0) - (last?.at.getTime() ?? 0)) / 1000;
+      results.push({
+        workers: count,
+        wall: run.wall,
+        same: run.result === embedded.result,
+        mergeSeconds,
+      });
+    }
+    const [{ stored }] = await db.select({ stored: count() }).from(fitChunks);
+    for (const r of results) {
+      const perWorker = gflop / (r.wall * r.workers);
+      const kernel = gflop / computeSeconds;
+      const overhead = r.wall - computeSeconds / r.workers;
+      console.log(
+        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(0)} % of the run; merge and storing the result ${r.mergeSeconds.toFixed(1)} s) · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
+      );
+    }
+    console.log(`chunk rows stored: ${stored} (each chunk of each run once)`);
+
+    // Projection to the issue's size: a chunk's kernel time grows with the participants.
+    const fullChunk = chunkSeconds * FACTOR;
+    const fixed = Math.max(0, results[0].wall - computeSeconds) / plan.chunks;
+    for (const w of [10, 50]) {
+      const wall = Math.ceil(plan.chunks / w) * (fullChunk + fixed);
+      console.log(
+        `projected at ${FULL_N.toLocaleString("en")} participants on ${w} workers: ${wall.toFixed(0)} s (${plan.chunks} chunks of ${fullChunk.toFixed(1)} s + ${(fixed * 1000).toFixed(0)} ms each besides; the merge and diagnostics of 400 regions × ${FULL_N.toLocaleString("en")} participants come on top)`,
+      );
+    }
+
+    // Reference loop: the same multiply–adds as the kernel's product, register-blocked, one thread.
+    const q = new Float64Array(N * 5).map(() => Math.random());
+    const e = new Float64Array(N * REGIONS).map(() => Math.random());
+    const reps = 200;
+    referenceLoop(q, e, N, REGIONS);
+    const r0 = performance.now();
+    let sink = 0;
+    for (let k = 0; k < reps; k++) sink += referenceLoop(q, e, N, REGIONS);
+    const refSeconds = (performance.now() - r0) / 1000;
+    const refGflops = (2 * N * 5 * REGIONS * reps) / 1e9 / refSeconds;
+    const kernelGflops = gflop / computeSeconds;
+    console.log(
+      `reference loop (two regions × five regressors per pass, one thread): ${refGflops.toFixed(2)} GFLOP/s; the kernel's chunks reach ${((100 * kernelGflops) / refGflops).toFixed(0)} % of it (target ≥ 85 %; checksum ${sink.toExponential(2)})`,
+    );
+  } finally {
+    for (const w of workers) w.child.kill("SIGTERM");
+    await Promise.all(workers.map((w) => w.exited));
+    await database.close();
+    await server.stop();
+  }
+}
