@@ -385,8 +385,20 @@ class ServerHub implements ChannelHub {
       const client = await this.connection();
       await client.query(`LISTEN ${pg.escapeIdentifier(name)}`);
     } catch (error) {
-      if (!this.closed) this.log(error, `channel ${name}`);
+      if (this.closed) return;
+      this.log(error, `channel ${name}`);
+      this.listenAgainSoon();
     }
+  }
+
+  /** Listens to every channel again after a second, on a new connection (messages sent in between are lost, see Channel). */
+  private listenAgainSoon(): void {
+    if (this.retry || this.closed) return;
+    this.retry = setTimeout(() => {
+      this.retry = null;
+      if (this.closed) return;
+      for (const name of this.handlers.keys()) this.listening.set(name, this.listen(name));
+    }, 1000);
   }
 
   private connection(): Promise<pg.Client> {
@@ -399,12 +411,7 @@ class ServerHub implements ChannelHub {
           this.listener = null;
           if (this.closed) return;
           if (error) this.log(error, "channel connection");
-          // Listen again on a new connection; messages sent in between are lost (see Channel).
-          this.retry = setTimeout(() => {
-            this.retry = null;
-            if (this.closed) return;
-            for (const name of this.handlers.keys()) this.listening.set(name, this.listen(name));
-          }, 1000);
+          this.listenAgainSoon();
         };
         client.on("error", lost);
         client.on("end", () => lost());

@@ -166,4 +166,24 @@ describe("channels", () => {
     stop();
     expect(heard).toEqual(Array.from({ length: 50 }, (_, n) => n));
   });
+
+  it("a listener whose connection is cut listens again on a new one", async () => {
+    const [first, second] = await emptyDatabase(2);
+    const heard: string[] = [];
+    const listening = channel<{ text: string }>(second.db, "covarion_test_channel");
+    const stop = listening.subscribe((m) => heard.push(m.text));
+    await listening.ready();
+    const cut = await first.pool.query(
+      "select pg_terminate_backend(pid) as cut from pg_stat_activity where datname = current_database() and query like 'LISTEN%'",
+    );
+    expect(cut.rows).toEqual([{ cut: true }]);
+    const sending = channel<{ text: string }>(first.db, "covarion_test_channel");
+    const deadline = Date.now() + 15_000;
+    while (heard.length === 0 && Date.now() < deadline) {
+      sending.publish({ text: "after the cut" });
+      await new Promise((r) => setTimeout(r, 250));
+    }
+    stop();
+    expect(heard[0]).toBe("after the cut");
+  });
 });
