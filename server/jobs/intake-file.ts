@@ -200,7 +200,7 @@ async function gunzipFile(
   const collected = new TextBuffer(await recordedSize(path), textLimit(limits), () =>
     tooLargeText(file, limits),
   );
-  const input = createReadStream(path, { highWaterMark: 1024 * 1024 });
+  const input = createReadStream(path, { highWaterMark: 256 * 1024 });
   const gunzip = createGunzip({ chunkSize: 1024 * 1024 });
   return new Promise<Buffer>((resolve, reject) => {
     let settled = false;

@@ -109,7 +109,10 @@ export function encodeVersion(
   const decisions: IdentifierDecisionRecord[] = confirmed.identifierDecisions.map((d) => ({
     ...d,
   }));
-  const writer = new CsvChunks(datasetId);
+  const writer = new CsvChunks(
+    datasetId,
+    confirmed.kind === "brain" ? confirmed.brain.entries.length : confirmed.sheet.ids.length,
+  );
   const description =
     confirmed.kind === "brain"
       ? encodeBrain(confirmed.brain, raw, writer)
@@ -124,49 +127,70 @@ function field(text: string | null): string {
   return text.includes('"') ? `"${text.replaceAll('"', '""')}"` : `"${text}"`;
 }
 
-/** Collects rows as CSV and cuts them into chunks. */
+/**
+ * Collects rows as CSV and cuts them into chunks, writing each row's bytes
+ * straight into one buffer: sized, once the first chunk is cut, from that
+ * chunk's bytes per row (grown by a quarter when short), so the rows are
+ * never held twice (as text and as bytes).
+ */
 class CsvChunks {
   private readonly id: string;
-  private readonly chunks: string[] = [];
-  private current = "";
+  private buffer = new Uint8Array(2 * CHUNK_BYTES);
+  private used = 0;
+  private chunkStart = 0;
+  private readonly chunkEnds: number[] = [];
   private inChunk = 0;
   private rows = 0;
+  private sized = false;
+  private readonly encoder = new TextEncoder();
 
-  constructor(datasetId: string) {
+  constructor(
+    datasetId: string,
+    private readonly expectedRows: number,
+  ) {
     this.id = field(datasetId);
   }
 
   add(row: StoredRow): void {
     const line = `${this.id},${this.rows},${row.sourceRow},${field(row.participantId)},${field(row.session)},${field(row.numbers)},${field(JSON.stringify(row.categories))}\n`;
+    const bytes = Buffer.byteLength(line, "utf8");
     if (
       this.inChunk > 0 &&
-      (this.inChunk >= CHUNK_ROWS || this.current.length + line.length > CHUNK_BYTES)
+      (this.inChunk >= CHUNK_ROWS || this.used - this.chunkStart + bytes > CHUNK_BYTES)
     )
       this.cut();
-    this.current += line;
+    if (this.used + bytes > this.buffer.length)
+      this.resize(Math.max(this.used + bytes, Math.ceil(this.buffer.length * 1.25)));
+    this.encoder.encodeInto(line, this.buffer.subarray(this.used));
+    this.used += bytes;
     this.inChunk += 1;
     this.rows += 1;
   }
 
   finish(): { csv: Uint8Array<ArrayBuffer>; chunkEnds: number[]; rowCount: number } {
-    if (this.inChunk > 0) this.cut();
-    let total = 0;
-    for (const c of this.chunks) total += Buffer.byteLength(c, "utf8");
-    const csv = new Uint8Array(total);
-    const encoder = new TextEncoder();
-    const chunkEnds: number[] = [];
-    let at = 0;
-    for (const c of this.chunks) {
-      at += encoder.encodeInto(c, csv.subarray(at)).written;
-      chunkEnds.push(at);
-    }
-    return { csv, chunkEnds, rowCount: this.rows };
+    if (this.inChunk > 0) this.chunkEnds.push(this.used);
+    return {
+      csv: this.buffer.subarray(0, this.used),
+      chunkEnds: this.chunkEnds,
+      rowCount: this.rows,
+    };
   }
 
   private cut(): void {
-    this.chunks.push(this.current);
-    this.current = "";
+    this.chunkEnds.push(this.used);
+    this.chunkStart = this.used;
     this.inChunk = 0;
+    if (!this.sized) {
+      this.sized = true;
+      const expected = Math.ceil((this.used / this.rows) * this.expectedRows * 1.02) + CHUNK_BYTES;
+      if (expected > this.buffer.length) this.resize(expected);
+    }
+  }
+
+  private resize(length: number): void {
+    const next = new Uint8Array(length);
+    next.set(this.buffer.subarray(0, this.used));
+    this.buffer = next;
   }
 }
 
