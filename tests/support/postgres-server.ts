@@ -220,8 +220,15 @@ export async function startPostgresServer(): Promise<PostgresServer> {
   server.stdout?.on("data", keep);
   server.stderr?.on("data", keep);
   const exited = new Promise<void>((resolve) => server.once("exit", () => resolve()));
-  // The server dies with this process (e.g. a test run stopped with Ctrl-C).
-  const onExit = () => server.kill("SIGKILL");
+  // The server dies with this process (e.g. a test run stopped with Ctrl-C), its folder too as far as it can.
+  const onExit = () => {
+    server.kill("SIGKILL");
+    try {
+      rmSync(folder, { recursive: true, force: true, maxRetries: 3 });
+    } catch {
+      // left in the temporary folder
+    }
+  };
   process.once("exit", onExit);
   const url = (database = "postgres") =>
     `postgres://${SUPERUSER}@127.0.0.1:${port}/${encodeURIComponent(database)}`;
