@@ -140,6 +140,12 @@ describe("gzip-compressed uploads", () => {
     expect(await uploadsEmpty()).toEqual([]);
   });
 
+  it("an upload refused at the edge (a bad field) leaves no file behind", async () => {
+    const studyId = await newStudy();
+    await upload(studyId, "neither", gzipSync(enc(demo.brainCsv)), "brain.csv.gz").expect(400);
+    expect(await uploadsEmpty()).toEqual([]);
+  });
+
   it("a file named .gz that is not compressed answers 400", async () => {
     const studyId = await newStudy();
     const res = await upload(studyId, "brain", enc(demo.brainCsv), "plain.csv.gz").expect(400);
