@@ -123,10 +123,11 @@ export class FitWorker {
       (this.options.heartbeatSeconds ?? 5) * 1000,
     );
     this.chunkPool = workerPool("permutation-task.ts", { minThreads: 1, maxThreads: 1 });
+    // Started now and kept: loading the engine in a thread takes seconds, which a merge should not wait for.
     this.fitPool = workerPool("fit-task.ts", {
-      minThreads: 0,
+      minThreads: 1,
       maxThreads: 1,
-      idleTimeout: 60_000,
+      idleTimeout: Number.POSITIVE_INFINITY,
     });
     const boss = await startQueue(this.db, {
       supervise: true,
