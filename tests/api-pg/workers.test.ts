@@ -5,7 +5,8 @@
  * two, and by two of which one is killed with SIGKILL mid-fit, gives the
  * numbers, region rows included, of the same recipe computed by the
  * embedded path (the app's own worker threads); each chunk is stored once;
- * the live workers are listed for an Owner.
+ * the live workers are listed for an Owner; a cancelled fit stops getting
+ * chunks; a fit whose chunk fails on every try ends failed.
  */
 import { type ChildProcess, spawn } from "node:child_process";
 import { join } from "node:path";
@@ -15,7 +16,8 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { driverOf } from "../../db/client";
 import { demoPeople } from "../../db/seed";
 import { fitChunks, fitRegions, fitRuns, fits } from "../../db/schema";
-import { insertQueuedFit } from "../../server/services/fit-store";
+import { FitStore, insertQueuedFit, markFitCancelled } from "../../server/services/fit-store";
+import { startQueue, CHUNK_QUEUE } from "../../server/worker/queue";
 import { queueDispatch } from "../../server/worker/fit-dispatch";
 import {
   type TestApp,
@@ -81,7 +83,7 @@ async function waitFor(what: string, check: () => Promise<boolean>, timeoutMs = 
 }
 
 /** A new queued fit with the reference fit's recipe and data, sent to the job queue. */
-async function queueCopyOfReference(): Promise<string> {
+async function queueCopyOfReference(options: { send?: boolean } = {}): Promise<string> {
   const [ref] = await t.db.select().from(fits).where(eq(fits.id, referenceFitId));
   const fit = await insertQueuedFit(t.db, {
     studyId: ref.studyId,
@@ -93,6 +95,7 @@ async function queueCopyOfReference(): Promise<string> {
     createdAt: new Date(),
     refitOf: null,
   });
+  if (options.send === false) return fit.id;
   const queue = dispatch();
   try {
     await queue.enqueue(fit.id);
@@ -100,6 +103,14 @@ async function queueCopyOfReference(): Promise<string> {
     await queue.close();
   }
   return fit.id;
+}
+
+async function storedChunks(fitId: string): Promise<number> {
+  const [{ stored }] = await t.db
+    .select({ stored: count() })
+    .from(fitChunks)
+    .where(eq(fitChunks.fitId, fitId));
+  return stored;
 }
 
 async function finished(fitId: string) {
@@ -220,4 +231,38 @@ describe("fits on worker processes", () => {
     expect(survived.result).toEqual(reference.result);
     expect(survived.regions).toEqual(reference.regions);
   }, 180_000);
+
+  it("a cancelled fit gets no more chunks and no result", async () => {
+    const fitId = await queueCopyOfReference();
+    await waitFor("the first chunks", async () => (await storedChunks(fitId)) >= 2);
+    const [ref] = await t.db.select().from(fits).where(eq(fits.id, fitId));
+    expect(await markFitCancelled(t.db, fitId, ref.createdBy, new Date())).toBe(true);
+    // A chunk in hand when the cancel lands may still be stored; after that none.
+    await new Promise((r) => setTimeout(r, 2500));
+    const after = await storedChunks(fitId);
+    await new Promise((r) => setTimeout(r, 3000));
+    expect(await storedChunks(fitId)).toBe(after);
+    expect(after).toBeLessThan(60);
+    const view = await finished(fitId);
+    expect(view.status).toBe("cancelled");
+    expect(view.result).toBeNull();
+    expect(view.regions).toEqual([]);
+  }, 120_000);
+
+  it("a fit whose chunk fails on every try ends failed with the error", async () => {
+    const fitId = await queueCopyOfReference({ send: false });
+    expect(await new FitStore(t.db).markRunning(fitId, new Date())).toBe(true);
+    const boss = await startQueue(t.db, { supervise: false });
+    try {
+      // A chunk the fit does not have: every try fails (the default three retries, then the last).
+      await boss.send(CHUNK_QUEUE, { fitId, chunk: 9999 });
+    } finally {
+      await boss.stop({ graceful: false, close: false });
+    }
+    const view = await finished(fitId);
+    expect(view.status).toBe("failed");
+    expect(view.error).toBe(
+      "The fit stopped because of an internal error on the server. It has been logged.",
+    );
+  }, 120_000);
 });
