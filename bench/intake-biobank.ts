@@ -12,10 +12,18 @@
  * intake suite (`npm run bench -- intake`; INTAKE_PARTS=4 for this part
  * alone; BIOBANK_PARTICIPANTS / BIOBANK_REGIONS for another size).
  */
-import { readFileSync, writeFileSync } from "node:fs";
-import os from "node:os";
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
+import os, { tmpdir } from "node:os";
+import { join } from "node:path";
+import { monitorEventLoopDelay } from "node:perf_hooks";
 import { promisify } from "node:util";
 import { gzip } from "node:zlib";
+import { eq } from "drizzle-orm";
+import { openDatabase } from "../db/client";
+import { migrateDatabase } from "../db/migrate";
+import { datasetVersions, studies, users } from "../db/schema";
+import { intakeJobs } from "../server/jobs/intake-jobs";
+import { loadBrainTable, storeVersion } from "../server/services/datasets";
 import { createRng } from "../server/stats/rng";
 import { startBenchServer } from "./server-process";
 
@@ -148,5 +156,64 @@ export async function biobankUpload(): Promise<void> {
   } finally {
     if (previous === undefined) delete process.env.MAX_UPLOAD_MB;
     else process.env.MAX_UPLOAD_MB = previous;
+  }
+}
+
+/**
+ * Loading the stored biobank table for a fit, as the fit's data source does
+ * (services/datasets.ts `loadBrainTable`: rows read page by page and their
+ * numbers decoded from text on the request thread): total time and the
+ * longest stretch the event loop was held. The table is stored through the
+ * same path as a confirmation, in a database in a temporary folder.
+ */
+export async function biobankLoadForFit(): Promise<void> {
+  const participants = Number(process.env.BIOBANK_PARTICIPANTS ?? 20_000);
+  const regions = Number(process.env.BIOBANK_REGIONS ?? 1000);
+  const csv = makeWideTable(participants, regions);
+  const dataDir = mkdtempSync(join(tmpdir(), "covarion-bench-"));
+  const database = await openDatabase({ dataDir });
+  try {
+    await migrateDatabase(database.db);
+    const [user] = await database.db
+      .insert(users)
+      .values({ email: "bench@lab.example", name: "Bench" })
+      .returning();
+    const [study] = await database.db
+      .insert(studies)
+      .values({ name: "Biobank load", createdBy: user.id })
+      .returning();
+    const now = new Date();
+    const stored = await storeVersion(database.db, {
+      id: crypto.randomUUID(),
+      studyId: study.id,
+      kind: "brain",
+      fileName: "biobank.csv",
+      bytes: csv,
+      limits: { maxBytes: 512 * 1024 * 1024, maxColumns: 20_000 },
+      confirmation: {},
+      uploadedBy: user.id,
+      uploadedAt: now,
+      confirmedBy: user.id,
+      now,
+    });
+    const [version] = await database.db
+      .select()
+      .from(datasetVersions)
+      .where(eq(datasetVersions.id, stored.id));
+    for (let run = 1; run <= 2; run++) {
+      const delay = monitorEventLoopDelay({ resolution: 10 });
+      delay.enable();
+      const t0 = performance.now();
+      await loadBrainTable(database.db, version);
+      const ms = performance.now() - t0;
+      delay.disable();
+      console.log(
+        `  load for a fit, run ${run}: ${(ms / 1000).toFixed(2)} s (rows read and their numbers decoded from text); longest event-loop stretch ${(delay.max / 1e6).toFixed(0)} ms`,
+      );
+    }
+  } finally {
+    await intakeJobs().close();
+    await database.close();
+    rmSync(dataDir, { recursive: true, force: true });
   }
 }

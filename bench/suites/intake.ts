@@ -23,6 +23,7 @@
  * 4. A 20,000 × 1,000 brain table (≈ 200 MB CSV), plain and gzip, uploaded,
  *    previewed and confirmed through the real server: wall time and the
  *    server process's peak memory (bench/intake-biobank.ts). Target: < 2 GB.
+ *    Then the stored table loaded for a fit: time and longest event-loop stretch.
  *
  * `npm run bench -- intake`; INTAKE_PARTS=3 (or "1,2") runs only those
  * parts, INTAKE_SHAPES=3 (or "1,2") only those shapes of part 3.
@@ -44,7 +45,7 @@ import {
   readTable,
   sha256Hex,
 } from "../../server/intake";
-import { biobankUpload } from "../intake-biobank";
+import { biobankLoadForFit, biobankUpload } from "../intake-biobank";
 import { latencySummary, startBenchServer } from "../server-process";
 
 const PARTICIPANTS = 2000;
@@ -88,7 +89,10 @@ export default async function intakeBench(): Promise<void> {
   const parts = (process.env.INTAKE_PARTS ?? "1,2,3,4").split(",").map((p) => p.trim());
   if (parts.includes("1") || parts.includes("2")) await inProcess(parts);
   if (parts.includes("3")) await largeUploadOverHttp();
-  if (parts.includes("4")) await biobankUpload();
+  if (parts.includes("4")) {
+    await biobankUpload();
+    await biobankLoadForFit();
+  }
 }
 
 async function inProcess(parts: readonly string[]): Promise<void> {
