@@ -389,10 +389,10 @@ describe("specification curve: null draws in blocks (rearrangementStreams blocks
 
   it("keeps one stream for a recipe written before blocks (same numbers as before)", () => {
     const { rearrangementStreams: _, ...legacy } = blocked;
-    const a = runFit(legacy as typeof blocked, data).jointTest;
+    const a = runFit(legacy as typeof blocked, data).jointTest as { stoufferZ: number };
     // The one-stream joint test as the engine gave it before blocks existed (run then, pinned here).
     expect(a).toMatchObject({ shareSignificantDominant: 0.20833333333333334, pMedian: 4 / 61 });
-    expect(a?.stoufferZ).toBeCloseTo(7.088255955131922, 12);
+    expect(a.stoufferZ).toBeCloseTo(7.088255955131922, 12);
     const b = runFit(blocked, data).jointTest;
     expect(b).not.toEqual(a);
     expect(() => curveNullBlock(legacy as typeof blocked, data, 0)).toThrow(/blocks-v1/);
