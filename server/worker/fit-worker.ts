@@ -136,10 +136,28 @@ export class FitWorker {
       maintenanceSeconds: this.options.maintenanceSeconds,
     });
     this.boss = boss;
-    const work = { includeMetadata: true as const, pollingIntervalSeconds: 0.5 };
-    await boss.work<FitJobData>(FIT_QUEUE, work, ([job]) => this.planFit(job));
-    await boss.work<ChunkJobData>(CHUNK_QUEUE, work, ([job]) => this.computeChunk(job));
-    await boss.work<FitJobData>(MERGE_QUEUE, work, ([job]) => this.merge(job.data.fitId));
+    await this.serve<FitJobData>(boss, FIT_QUEUE, (job) => this.planFit(job));
+    await this.serve<ChunkJobData>(boss, CHUNK_QUEUE, (job) => this.computeChunk(job));
+    await this.serve<FitJobData>(boss, MERGE_QUEUE, (job) => this.merge(job.data.fitId));
+  }
+
+  /** Takes a queue's jobs one at a time; after each, looks for the next at once (not after the polling interval). */
+  private async serve<T extends object>(
+    boss: PgBoss,
+    queue: string,
+    handle: (job: PgBoss.JobWithMetadata<T>) => Promise<void>,
+  ): Promise<void> {
+    const ids: string[] = [];
+    const options = { includeMetadata: true as const, pollingIntervalSeconds: 0.5 };
+    ids.push(
+      await boss.work<T>(queue, options, async ([job]) => {
+        try {
+          await handle(job);
+        } finally {
+          for (const id of ids) boss.notifyWorker(id);
+        }
+      }),
+    );
   }
 
   /** Stops taking jobs (a job in hand is left to its lease), removes the heartbeat and ends the threads. */

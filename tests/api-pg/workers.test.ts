@@ -17,7 +17,7 @@ import { driverOf } from "../../db/client";
 import { demoPeople } from "../../db/seed";
 import { fitChunks, fitRegions, fitRuns, fits } from "../../db/schema";
 import { FitStore, insertQueuedFit, markFitCancelled } from "../../server/services/fit-store";
-import { startQueue, CHUNK_QUEUE } from "../../server/worker/queue";
+import { CHUNK_QUEUE, FIT_QUEUE, startQueue } from "../../server/worker/queue";
 import { queueDispatch } from "../../server/worker/fit-dispatch";
 import {
   type TestApp,
@@ -264,5 +264,26 @@ describe("fits on worker processes", () => {
     expect(view.error).toBe(
       "The fit stopped because of an internal error on the server. It has been logged.",
     );
+  }, 120_000);
+
+  it("a job taken by a worker that died holding it is retried after its lease", async () => {
+    await stopWorkers();
+    const reference = await finished(referenceFitId);
+    const fitId = await queueCopyOfReference();
+    // A worker takes the fit's job and dies before finishing it: nothing completes the job.
+    const boss = await startQueue(t.db, { supervise: false });
+    try {
+      const taken = await boss.fetch(FIT_QUEUE);
+      expect(taken.map((j) => (j.data as { fitId: string }).fitId)).toEqual([fitId]);
+    } finally {
+      await boss.stop({ graceful: false, close: false });
+    }
+    const started = Date.now();
+    startWorker();
+    const view = await finished(fitId);
+    // Not before the 4-second lease ran out.
+    expect(Date.now() - started).toBeGreaterThanOrEqual(3000);
+    expect(view.status).toBe("done");
+    expect(view.result).toEqual(reference.result);
   }, 120_000);
 });
