@@ -143,7 +143,9 @@ export function modelFieldChanges(
   const out: string[] = [];
   const keys = new Set([...Object.keys(before), ...Object.keys(after)]);
   for (const key of keys) {
-    if (key === "setAside") continue;
+    // Set-asides are compared apart; the stream scheme is how the engine draws, recorded by
+    // every new fit, not a choice made in the model.
+    if (key === "setAside" || key === "rearrangementStreams") continue;
     const a = (before as Record<string, unknown>)[key];
     const b = (after as Record<string, unknown>)[key];
     if (JSON.stringify(a ?? null) === JSON.stringify(b ?? null)) continue;

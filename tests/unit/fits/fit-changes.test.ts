@@ -11,6 +11,7 @@ import {
   refitChanges,
   setAsideDiff,
   staleReasons,
+  modelFieldChanges,
 } from "../../../server/services/fit-changes";
 
 const { setAside: _, ...model } = modelSpecSchema.parse({
@@ -159,6 +160,17 @@ describe("staleReasons", () => {
   it("says a participant sheet was uploaded where the fit had none", () => {
     expect(staleReasons({ ...base, sheet: null }, base, visible)).toEqual([
       "A participant sheet (version 1, participants.tsv) was uploaded",
+    ]);
+  });
+});
+
+describe("modelFieldChanges", () => {
+  it("does not count the recorded stream scheme as a change of the model", () => {
+    const model = modelSpecSchema.parse({ kind: "one-sample", inference: "permutation" });
+    const fitted = { ...model, rearrangementStreams: "blocks-v1" as const };
+    expect(modelFieldChanges(fitted, model)).toEqual([]);
+    expect(modelFieldChanges(fitted, { ...model, resamples: 500 })).toEqual([
+      "rearrangements 10000 → 500",
     ]);
   });
 });
