@@ -204,3 +204,9 @@ export function authorizedStudy(res: Response): AuthorizedStudy {
     throw new Error("authorizedStudy() called on a route without a study-scoped authorize()");
   return { study, role };
 }
+
+/** Whether the caller may see participant-level rows of the authorized study (`fits.participants.read`). */
+export function participantsVisible(res: Response): boolean {
+  const { study, role } = authorizedStudy(res);
+  return roleMay("fits.participants.read", role, { restricted: study.restricted });
+}

@@ -19,7 +19,7 @@
  */
 import { Router } from "express";
 import { z } from "zod";
-import { authorize, authorizedStudy, roleMay, type StudyOf } from "../auth/permissions";
+import { authorize, authorizedStudy, participantsVisible, type StudyOf } from "../auth/permissions";
 import { forbidden } from "../http/errors";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import { exportFileName, methodsOf, recipeJson, regionsCsv } from "../services/fit-exports";
@@ -80,8 +80,8 @@ export function fitExportRoutes(deps: RouteDeps): Router {
     authorize("fits.export", { studyOf: fitStudy }),
     validate(read),
     async (_req, res) => {
-      const { study, role } = authorizedStudy(res);
-      if (!roleMay("fits.participants.read", role, { restricted: study.restricted })) {
+      const { study } = authorizedStudy(res);
+      if (!participantsVisible(res)) {
         throw forbidden(
           "This study restricts participant-level rows, and the recipe names participants (set-asides and id mappings).",
         );
@@ -119,12 +119,12 @@ export function fitExportRoutes(deps: RouteDeps): Router {
       authorize("fits.export", { studyOf: fitStudy }),
       validate(read),
       async (_req, res) => {
-        const { study, role } = authorizedStudy(res);
-        const fit = await findFit(deps.db, study.id, parsed(res, read).params.fitId);
-        const participantsVisible = roleMay("fits.participants.read", role, {
-          restricted: study.restricted,
-        });
-        const body = await form.build(fit, { participantsVisible });
+        const fit = await findFit(
+          deps.db,
+          authorizedStudy(res).study.id,
+          parsed(res, read).params.fitId,
+        );
+        const body = await form.build(fit, { participantsVisible: participantsVisible(res) });
         res.set({
           "Content-Type": form.type,
           "Content-Disposition": `attachment; filename="${exportFileName(fit, name)}"`,

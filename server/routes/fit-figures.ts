@@ -17,7 +17,7 @@
  */
 import { Router } from "express";
 import { z } from "zod";
-import { roleMay, authorize, authorizedStudy, type StudyOf } from "../auth/permissions";
+import { authorize, authorizedStudy, participantsVisible, type StudyOf } from "../auth/permissions";
 import { HttpError } from "../http/errors";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import { figureCaption, figurePng, figureSvg, listFigures } from "../services/fit-figures";
@@ -40,12 +40,7 @@ const one = {
 };
 
 function access(res: Parameters<typeof authorizedStudy>[0]) {
-  const { study, role } = authorizedStudy(res);
-  return {
-    participantsVisible: roleMay("fits.participants.read", role, {
-      restricted: study.restricted,
-    }),
-  };
+  return { participantsVisible: participantsVisible(res) };
 }
 
 /** A download name for a figure: "fit-1a2b3c4d-L_dlpfc-scatter-89mm.png" (unsafe characters become "_"). */

@@ -13,7 +13,7 @@
  */
 import { Router } from "express";
 import { z } from "zod";
-import { authorize, authorizedStudy, roleMay, type StudyOf } from "../auth/permissions";
+import { authorize, authorizedStudy, participantsVisible, type StudyOf } from "../auth/permissions";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import type { FitJobs } from "../jobs/fit-jobs";
 import { exportFileName } from "../services/fit-exports";
@@ -28,13 +28,12 @@ export function fitReportRoutes(deps: RouteDeps, jobs: FitJobs): Router {
   const router = Router();
 
   const report = async (res: Parameters<typeof authorizedStudy>[0]) => {
-    const { study, role } = authorizedStudy(res);
-    const fit = await findFit(deps.db, study.id, parsed(res, read).params.fitId);
-    const options = {
-      participantsVisible: roleMay("fits.participants.read", role, {
-        restricted: study.restricted,
-      }),
-    };
+    const fit = await findFit(
+      deps.db,
+      authorizedStudy(res).study.id,
+      parsed(res, read).params.fitId,
+    );
+    const options = { participantsVisible: participantsVisible(res) };
     return { fit, options, built: await buildReport(deps.db, jobs, fit, options) };
   };
 

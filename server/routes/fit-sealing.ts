@@ -15,7 +15,7 @@
  */
 import { Router } from "express";
 import { z } from "zod";
-import { authorize, authorizedStudy, roleMay, type StudyOf } from "../auth/permissions";
+import { authorize, authorizedStudy, participantsVisible, type StudyOf } from "../auth/permissions";
 import { signedInUser } from "../auth/session";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import type { FitJobs } from "../jobs/fit-jobs";
@@ -39,7 +39,7 @@ export function fitSealingRoutes(deps: RouteDeps, jobs: FitJobs, notices: FitNot
     authorize("fits.approve", { studyOf: fitStudy }),
     validate(action),
     async (_req, res) => {
-      const { study, role } = authorizedStudy(res);
+      const { study } = authorizedStudy(res);
       const fit = await findFit(deps.db, study.id, parsed(res, action).params.fitId);
       const now = deps.clock();
       await approveFit(deps.db, signedInUser(res), fit, now);
@@ -48,7 +48,7 @@ export function fitSealingRoutes(deps: RouteDeps, jobs: FitJobs, notices: FitNot
           deps.db,
           jobs,
           await findFit(deps.db, study.id, fit.id),
-          roleMay("fits.participants.read", role, { restricted: study.restricted }),
+          participantsVisible(res),
         ),
       );
     },
@@ -59,7 +59,7 @@ export function fitSealingRoutes(deps: RouteDeps, jobs: FitJobs, notices: FitNot
     authorize("fits.seal", { studyOf: fitStudy }),
     validate(action),
     async (_req, res) => {
-      const { study, role } = authorizedStudy(res);
+      const { study } = authorizedStudy(res);
       const fit = await findFit(deps.db, study.id, parsed(res, action).params.fitId);
       await sealFit(deps.db, signedInUser(res), fit, deps.clock());
       // The seal has committed: the team's e-mails go out in the background and cannot undo it.
@@ -69,7 +69,7 @@ export function fitSealingRoutes(deps: RouteDeps, jobs: FitJobs, notices: FitNot
           deps.db,
           jobs,
           await findFit(deps.db, study.id, fit.id),
-          roleMay("fits.participants.read", role, { restricted: study.restricted }),
+          participantsVisible(res),
         ),
       );
     },

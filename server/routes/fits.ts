@@ -26,7 +26,7 @@
 import { Router } from "express";
 import { z } from "zod";
 import { type FitStatus, participantOrders } from "../../contract/views/fits";
-import { authorize, authorizedStudy, roleMay, type StudyOf } from "../auth/permissions";
+import { authorize, authorizedStudy, participantsVisible, type StudyOf } from "../auth/permissions";
 import { signedInUser } from "../auth/session";
 import { idSchema, noQuery, parsed, validate } from "../http/validate";
 import type { FitEvent, FitJobs } from "../jobs/fit-jobs";
@@ -74,11 +74,6 @@ const terminal: readonly FitStatus[] = ["done", "failed", "cancelled"];
 export interface FitRouteOptions {
   /** Time between heartbeat comments on an event stream (default 15 s). */
   heartbeatMs?: number;
-}
-
-function participantsVisible(res: Parameters<typeof authorizedStudy>[0]): boolean {
-  const { study, role } = authorizedStudy(res);
-  return roleMay("fits.participants.read", role, { restricted: study.restricted });
 }
 
 export function fitRoutes(deps: RouteDeps, jobs: FitJobs, options: FitRouteOptions = {}): Router {
