@@ -105,3 +105,28 @@ export function latencySummary(label: string, times: readonly number[]): string 
   const s = [...times].sort((a, b) => a - b);
   return `${label.padEnd(44)} n = ${String(s.length).padStart(5)}   p50 ${percentile(s, 0.5).toFixed(1).padStart(6)} ms   p95 ${percentile(s, 0.95).toFixed(1).padStart(6)} ms   max ${(s[s.length - 1] ?? Number.NaN).toFixed(1).padStart(7)} ms`;
 }
+
+/** Time between probes of GET /api/health while work runs. */
+const PROBE_MS = 100;
+
+/** Times GET /api/health every PROBE_MS until `work` settles; returns the latencies (ms). */
+export async function healthDuring(base: string, work: Promise<unknown>): Promise<number[]> {
+  const times: number[] = [];
+  const inFlight: Promise<void>[] = [];
+  let done = false;
+  void work.finally(() => {
+    done = true;
+  });
+  while (!done) {
+    const t0 = performance.now();
+    inFlight.push(
+      fetch(`${base}/api/health`).then(async (res) => {
+        await res.arrayBuffer();
+        times.push(performance.now() - t0);
+      }),
+    );
+    await new Promise((r) => setTimeout(r, PROBE_MS));
+  }
+  await Promise.all(inFlight);
+  return times;
+}

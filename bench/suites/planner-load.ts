@@ -9,9 +9,8 @@
  */
 import os from "node:os";
 import { PLANNER_MAX_DRAWS } from "../../contract/planner";
-import { latencySummary, startBenchServer } from "../server-process";
+import { healthDuring, latencySummary, startBenchServer } from "../server-process";
 
-const PROBE_MS = 100;
 /** The question that held the request thread ~250 s before the planner moved to its worker thread. */
 const ISSUE_QUESTION = {
   design: "correlation",
@@ -22,28 +21,6 @@ const ISSUE_QUESTION = {
   sessions: 20,
   trials: 10000,
 };
-
-/** Times GET /api/health every PROBE_MS until `work` settles; returns the latencies (ms). */
-async function healthDuring(base: string, work: Promise<unknown>): Promise<number[]> {
-  const times: number[] = [];
-  const inFlight: Promise<void>[] = [];
-  let done = false;
-  void work.finally(() => {
-    done = true;
-  });
-  while (!done) {
-    const t0 = performance.now();
-    inFlight.push(
-      fetch(`${base}/api/health`).then(async (res) => {
-        await res.arrayBuffer();
-        times.push(performance.now() - t0);
-      }),
-    );
-    await new Promise((r) => setTimeout(r, PROBE_MS));
-  }
-  await Promise.all(inFlight);
-  return times;
-}
 
 export default async function plannerLoad(): Promise<void> {
   const server = await startBenchServer();

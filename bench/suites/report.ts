@@ -9,30 +9,7 @@
  */
 import os from "node:os";
 import { unzipSync } from "fflate";
-import { latencySummary, startBenchServer } from "../server-process";
-
-const PROBE_MS = 100;
-
-async function healthDuring(base: string, work: Promise<unknown>): Promise<number[]> {
-  const times: number[] = [];
-  const inFlight: Promise<void>[] = [];
-  let done = false;
-  void work.finally(() => {
-    done = true;
-  });
-  while (!done) {
-    const t0 = performance.now();
-    inFlight.push(
-      fetch(`${base}/api/health`).then(async (res) => {
-        await res.arrayBuffer();
-        times.push(performance.now() - t0);
-      }),
-    );
-    await new Promise((r) => setTimeout(r, PROBE_MS));
-  }
-  await Promise.all(inFlight);
-  return times;
-}
+import { healthDuring, latencySummary, startBenchServer } from "../server-process";
 
 export default async function report(): Promise<void> {
   const server = await startBenchServer("analyst@demo.covarion.test");
