@@ -15,6 +15,7 @@ import type { FigureSummary } from "../../contract/views/figures";
 import type { RegionResult } from "../../contract/spec";
 import { parseXml } from "../unit/figures/xml-check";
 import {
+  binaryBody,
   createTestApp,
   demoCookie,
   demoStudyWithData,
@@ -34,20 +35,12 @@ const get = (role: string, path: string) => request(t.url).get(path).set("Cookie
 
 /** An SVG answer's text (supertest does not buffer image/svg+xml as text). */
 async function svgText(role: string, path: string, status = 200): Promise<string> {
-  const res = await get(role, path).buffer(true).parse(binary).expect(status);
+  const res = await get(role, path).buffer(true).parse(binaryBody).expect(status);
   if (status === 200) {
     expect(res.headers["content-type"]).toMatch(/^image\/svg\+xml/);
     expect(res.headers["content-security-policy"]).toBe("default-src 'none'");
   }
   return (res.body as Buffer).toString("utf8");
-}
-
-/** Supertest parser that keeps a binary body as a Buffer (the response is a readable stream). */
-function binary(res: request.Response, done: (e: Error | null, body: Buffer) => void) {
-  const stream = res as unknown as NodeJS.ReadableStream;
-  const chunks: Buffer[] = [];
-  stream.on("data", (c: Buffer) => chunks.push(c));
-  stream.on("end", () => done(null, Buffer.concat(chunks)));
 }
 
 async function runFit(name: string, spec: Record<string, unknown>): Promise<string> {
@@ -178,7 +171,7 @@ describe("figures of a fit", () => {
         `/api/fits/${associationFit}/figures/forest.png?width=${width}`,
       )
         .buffer(true)
-        .parse(binary)
+        .parse(binaryBody)
         .expect(200)
         .expect("Content-Type", "image/png");
       const body = res.body as Buffer;
@@ -195,7 +188,7 @@ describe("figures of a fit", () => {
       `/api/fits/${associationFit}/figures/${region}-scatter.png`,
     )
       .buffer(true)
-      .parse(binary)
+      .parse(binaryBody)
       .expect(200);
     expect(PNG.sync.read(scatter.body as Buffer).width).toBe(1051);
   });

@@ -300,3 +300,14 @@ export async function waitForFitStatus(
     await new Promise((r) => setTimeout(r, 100));
   }
 }
+
+/** Supertest parser that keeps a response body as bytes: `.buffer(true).parse(binaryBody)`. */
+export function binaryBody(
+  res: request.Response,
+  done: (error: Error | null, body: Buffer) => void,
+): void {
+  const stream = res as unknown as NodeJS.ReadableStream;
+  const chunks: Buffer[] = [];
+  stream.on("data", (c: Buffer) => chunks.push(c));
+  stream.on("end", () => done(null, Buffer.concat(chunks)));
+}

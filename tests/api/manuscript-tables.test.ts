@@ -9,11 +9,12 @@
  */
 import { eq } from "drizzle-orm";
 import { unzipSync } from "fflate";
-import request, { type Response } from "supertest";
+import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { fits } from "../../db/schema";
 import type { RegionResult } from "../../contract/spec";
 import {
+  binaryBody,
   createTestApp,
   demoCookie,
   demoStudyWithData,
@@ -29,14 +30,6 @@ const cookies: Record<string, string> = {};
 const target = "sub-05";
 
 const get = (role: string, path: string) => request(t.url).get(path).set("Cookie", cookies[role]);
-
-/** Supertest parser that keeps a binary body as a Buffer. */
-function binary(res: Response, done: (e: Error | null, body: Buffer) => void) {
-  const stream = res as unknown as NodeJS.ReadableStream;
-  const chunks: Buffer[] = [];
-  stream.on("data", (c: Buffer) => chunks.push(c));
-  stream.on("end", () => done(null, Buffer.concat(chunks)));
-}
 
 const numberOf = (text: string) => Number(text.replace(/\u2212/g, "-").replace(/,/g, ""));
 
@@ -143,8 +136,8 @@ describe("manuscript tables of a finished fit", () => {
 
   it("Word: the same bytes on two downloads, every region and its numbers inside", async () => {
     const path = `/api/fits/${fitId}/regions.docx`;
-    const a = await get("viewer", path).buffer(true).parse(binary).expect(200);
-    const b = await get("owner", path).buffer(true).parse(binary).expect(200);
+    const a = await get("viewer", path).buffer(true).parse(binaryBody).expect(200);
+    const b = await get("owner", path).buffer(true).parse(binaryBody).expect(200);
     expect(a.headers["content-type"]).toBe(
       "application/vnd.openxmlformats-officedocument.wordprocessingml.document",
     );
@@ -201,7 +194,7 @@ describe("participant ids and unfinished fits", () => {
       }
       const docx = await get("viewer", `/api/fits/${fitId}/regions.docx`)
         .buffer(true)
-        .parse(binary)
+        .parse(binaryBody)
         .expect(200);
       const xml = new TextDecoder().decode(
         unzipSync(new Uint8Array(docx.body as Buffer))["word/document.xml"],

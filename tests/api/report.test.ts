@@ -18,7 +18,14 @@ import type { Response } from "supertest";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { datasetVersions, fits, memberships } from "../../db/schema";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
-import { type Agent, type TestApp, createTestApp, signInDemo, userIdOf } from "./helpers";
+import {
+  type Agent,
+  binaryBody,
+  createTestApp,
+  signInDemo,
+  type TestApp,
+  userIdOf,
+} from "./helpers";
 
 type Persona = "owner" | "analyst" | "reviewer" | "viewer";
 
@@ -85,15 +92,7 @@ afterAll(async () => {
 
 /** Answers a request's body as bytes. */
 async function bytesOf(who: Agent, path: string): Promise<Response> {
-  return who
-    .get(path)
-    .buffer(true)
-    .parse((response, callback) => {
-      const chunks: Buffer[] = [];
-      response.on("data", (c: Buffer) => chunks.push(c));
-      response.on("end", () => callback(null, Buffer.concat(chunks)));
-    })
-    .expect(200);
+  return who.get(path).buffer(true).parse(binaryBody).expect(200);
 }
 
 /** Downloads the bundle as `who` and answers its bytes (200 expected). */
