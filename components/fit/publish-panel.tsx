@@ -5,7 +5,8 @@
  * person the setting stops sees why instead of the button), downloads of
  * the region table (CSV, and Markdown, LaTeX and Word tables for a
  * manuscript) and the recipe, the results sentences with a Copy button each
- * (results-sentences.tsx), and the methods paragraph with its references
+ * (results-sentences.tsx) — table and sentences only for a fit with region
+ * rows, not a prediction or a curve — and the methods paragraph with its references
  * and a Copy button.
  */
 import { useState } from "react";
@@ -47,6 +48,8 @@ export function PublishPanel({ fit }: { fit: FitView }) {
     (iso) => new Date(iso).toLocaleString(),
   );
   const downloads = fitDownloads(fit.id);
+  // A prediction or a specification curve has no region rows: no region table and no sentences.
+  const hasRegions = ((fit.result?.regions as unknown[] | undefined)?.length ?? 0) > 0;
   const actionError = approve.error ?? seal.error;
   return (
     <View style={styles.root} testID="publish-panel">
@@ -119,26 +122,30 @@ export function PublishPanel({ fit }: { fit: FitView }) {
         </View>
       ) : null}
       <View style={styles.actions}>
-        <DownloadLink
-          label="Region table (CSV)"
-          href={downloads.regionsCsv}
-          testID="download-regions"
-        />
-        <DownloadLink
-          label="Table (Markdown)"
-          href={downloads.regionsMd}
-          testID="download-regions-md"
-        />
-        <DownloadLink
-          label="Table (LaTeX)"
-          href={downloads.regionsTex}
-          testID="download-regions-tex"
-        />
-        <DownloadLink
-          label="Table (Word)"
-          href={downloads.regionsDocx}
-          testID="download-regions-docx"
-        />
+        {hasRegions ? (
+          <>
+            <DownloadLink
+              label="Region table (CSV)"
+              href={downloads.regionsCsv}
+              testID="download-regions"
+            />
+            <DownloadLink
+              label="Table (Markdown)"
+              href={downloads.regionsMd}
+              testID="download-regions-md"
+            />
+            <DownloadLink
+              label="Table (LaTeX)"
+              href={downloads.regionsTex}
+              testID="download-regions-tex"
+            />
+            <DownloadLink
+              label="Table (Word)"
+              href={downloads.regionsDocx}
+              testID="download-regions-docx"
+            />
+          </>
+        ) : null}
         {fit.participantsVisible ? (
           <DownloadLink
             label="Recipe (JSON)"
@@ -147,7 +154,7 @@ export function PublishPanel({ fit }: { fit: FitView }) {
           />
         ) : null}
       </View>
-      <ResultsSentences fitId={fit.id} enabled={done} />
+      <ResultsSentences fitId={fit.id} enabled={done && hasRegions} />
       {methods.isPending ? <Pending label="Writing the methods paragraph…" /> : null}
       {methods.isError ? (
         <Failure

@@ -1,8 +1,9 @@
 /**
  * A specification curve fit in the browser, at phone and wide size: run
  * through the API on the demo study (invented data), its fit page shows the
- * summary, the sorted estimates with their choices, and the joint test; the
- * page does not scroll sideways and logs no errors.
+ * summary, the sorted estimates with their choices, and the joint test;
+ * the study's plan names one specification, which the curve marks and
+ * can select; the page does not scroll sideways and logs no errors.
  */
 import { beforeAll, describe, expect, it } from "vitest";
 import { demoApi, openPage, phone, runFitToDone, screenshot, wide } from "./harness";
@@ -17,6 +18,31 @@ let count: number;
 beforeAll(async () => {
   const analyst = await demoApi(e2e.server.url, "analyst");
   studyId = ((await analyst("/api/studies")) as { id: string }[])[0].id;
+  await analyst(`/api/studies/${studyId}/plans`, {
+    method: "POST",
+    body: {
+      plan: {
+        title: "Accuracy and the left insula",
+        models: [
+          {
+            name: "accuracy, robust",
+            spec: {
+              kind: "association",
+              predictor: "accuracy",
+              regions: ["L_insula"],
+              estimator: "huber",
+              covariates: ["age"],
+            },
+            regionSelection: "anatomical-or-prior",
+            direction: "positive",
+          },
+        ],
+        correction: "none",
+        exclusionRules: [{ column: "mean_fd", op: ">", value: 0.3, reason: "motion" }],
+        missing: "keep",
+      },
+    },
+  });
   const model = (await analyst(`/api/studies/${studyId}/models`, {
     method: "POST",
     body: {
@@ -59,13 +85,24 @@ describe("specification curve fit page", () => {
         await page.getByTestId("specification-curve-view").waitFor();
         await screenshot(page, `curve-${label}-top`);
         await expect(page.getByTestId("curve-summary").isVisible()).resolves.toBe(true);
+        await expect(page.getByTestId("curve-planned").innerText()).resolves.toMatch(
+          /plan's specification \(model "accuracy, robust"\).* of 8 in estimate order/,
+        );
+        await expect(page.getByTestId("curve-planned-mark").count()).resolves.toBe(1);
         const columns = page.getByTestId("curve-columns");
         await columns.scrollIntoViewIfNeeded();
+        await page.getByRole("button", { name: "Show the planned one" }).click();
+        await expect(page.getByTestId("curve-selected").innerText()).resolves.toMatch(
+          /the plan's[\s\S]*huber; covariates: age; rules applied: motion/,
+        );
         await screenshot(page, `curve-${label}-columns`);
         await expect(columns.locator("svg").first().isVisible()).resolves.toBe(true);
         await page.getByTestId("curve-joint-test").scrollIntoViewIfNeeded();
         await expect(page.getByTestId("curve-joint-test").innerText()).resolves.toMatch(/49/);
         await screenshot(page, `curve-${label}-joint`);
+        // A curve has no region rows: no region table and no results sentences to hand over.
+        await page.getByTestId("publish-panel").waitFor();
+        await expect(page.getByTestId("download-regions").count()).resolves.toBe(0);
         const sideways = await page.evaluate(
           () => document.documentElement.scrollWidth - document.documentElement.clientWidth,
         );
