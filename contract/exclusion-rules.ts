@@ -47,6 +47,21 @@ export function ruleText(rule: ExclusionRule): string {
   return `${criterionText(rule)} (${rule.reason})`;
 }
 
+/**
+ * The reason a model's rule leaves a participant out of a fit, e.g.
+ * "rule: mean_fd > 0.5 (motion)" (an ordinary model's `exclusionRules`,
+ * and the rules a specification of a curve switches on).
+ */
+export function modelRuleReason(rule: ExclusionRule): string {
+  return `rule: ${ruleText(rule)}`;
+}
+
+/** The participants a model's rule left out of a fit (a fit result's `ruleExclusions`, in the rules' order). */
+export interface RuleExclusion {
+  rule: ExclusionRule;
+  participants: string[];
+}
+
 function asNumber(v: string | number): number | null {
   if (typeof v === "number") return Number.isFinite(v) ? v : null;
   const t = v.trim();

@@ -13,6 +13,7 @@
  * - `dataPreconditions`: those per-region preconditions in plain words,
  *   for the form to show before a fit is run.
  */
+import type { ExclusionRule } from "./exclusion-rules";
 import { curveChoices } from "./specification-curve";
 import type { ModelSpec } from "./spec";
 
@@ -209,6 +210,13 @@ export function specProblems(spec: ModelSpec): SpecProblem[] {
       `permutation with covariates requires estimator 'ols' (Freedman–Lane); '${spec.estimator}' has no such scheme`,
     );
   }
+  if (spec.exclusionRules !== undefined && kind !== "association" && kind !== "two-group")
+    add(
+      "exclusionRules",
+      kind === "specification-curve"
+        ? "a specification curve lists its rules in specifications.exclusionRules"
+        : `used by kinds 'association' and 'two-group' only`,
+    );
   if (spec.interaction && !takesDesign(spec.estimator))
     add("interaction", `estimator '${spec.estimator}' does not support an interaction`);
   curveProblems(spec, add);
@@ -290,8 +298,11 @@ export function dataProblems(spec: ModelSpec, shape: DataShape): SpecProblem[] {
           need(`specifications.covariateSets.${j}.${k}`, c, null);
         });
       });
-      (spec.specifications?.exclusionRules ?? []).forEach((rule, k) => {
-        const field = `specifications.exclusionRules.${k}`;
+    }
+    // The rules a curve switches on and off, and the rules of an ordinary model: judged alike.
+    const rulesAt = (prefix: string, rules: readonly ExclusionRule[]) =>
+      rules.forEach((rule, k) => {
+        const field = `${prefix}.${k}`;
         const order = rule.op !== "==" && rule.op !== "!=";
         if (
           !need(
@@ -307,7 +318,9 @@ export function dataProblems(spec: ModelSpec, shape: DataShape): SpecProblem[] {
             `column '${rule.column}' of ${sheet} holds numbers; the value '${rule.value}' is not a number`,
           );
       });
-    }
+    if (spec.kind === "specification-curve")
+      rulesAt("specifications.exclusionRules", spec.specifications?.exclusionRules ?? []);
+    rulesAt("exclusionRules", spec.exclusionRules ?? []);
     spec.covariates.forEach((c, k) => {
       need(
         `covariates.${k}`,

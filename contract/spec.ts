@@ -68,6 +68,13 @@ export const modelSpecShape = {
   rearrangementStreams: z.enum(["blocks-v1"]).optional(),
   correction: z.enum(corrections).default("none"),
   setAside: z.array(setAsideSchema).default([]),
+  /**
+   * association and two-group: criteria on participant-sheet columns; a
+   * participant meeting one (a missing value meets none) is left out of
+   * the fit with the reason "rule: ⟨criterion⟩ (⟨reason⟩)" — the rules a
+   * specification of a curve switches on, as part of an ordinary model.
+   */
+  exclusionRules: z.array(exclusionRuleSchema).max(8).optional(),
   /** Measurement-aware weighting by first-level standard errors. */
   weights: z.enum(["none", "first-level-se"]).default("none"),
   tau2Method: z.enum(["dl", "reml"]).default("reml"),

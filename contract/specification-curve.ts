@@ -5,7 +5,8 @@
  * with their defaults (`curveChoices`).
  */
 import type { ExclusionRule } from "./exclusion-rules";
-import type { ModelSpec } from "./spec";
+import { curveKind } from "./fit-rules";
+import type { ModelSpec, ModelSpecInput } from "./spec";
 
 /**
  * The alternatives of a curve with their defaults (the model's estimator;
@@ -74,4 +75,50 @@ export interface CurveResultFields {
   specifications: CurveSpecification[];
   summary: CurveSummary;
   jointTest?: CurveJointTest;
+}
+
+/**
+ * The ordinary model of one specification of a curve: an association (or
+ * two-group) model of the curve's region with the specification's
+ * estimator and covariates, the curve's rules it switches on as its
+ * `exclusionRules`, parametric inference and the curve's seed. The engine
+ * fits each specification as exactly this model (so a specification equals
+ * the ordinary fit of this model), and the curve screen opens a
+ * specification as a fit of it. Model fields as a model body takes them
+ * (defaults left to the schema).
+ */
+export function specificationModel(
+  curve: Pick<
+    ModelSpec,
+    | "regions"
+    | "predictor"
+    | "group"
+    | "levels"
+    | "estimator"
+    | "seed"
+    | "tau2Method"
+    | "smallSample"
+    | "specifications"
+  >,
+  choice: Pick<CurveSpecification, "covariates" | "exclusions"> & {
+    estimator: ModelSpec["estimator"];
+  },
+): ModelSpecInput {
+  const rules = curveChoices(curve).exclusionRules;
+  const on = choice.exclusions.map((k) => rules[k]);
+  const question = curveKind(curve);
+  return {
+    kind: question,
+    regions: curve.regions ? [...curve.regions] : undefined,
+    ...(question === "association"
+      ? { predictor: curve.predictor }
+      : { group: curve.group, levels: curve.levels }),
+    covariates: [...choice.covariates],
+    estimator: choice.estimator,
+    inference: "parametric",
+    seed: curve.seed,
+    tau2Method: curve.tau2Method,
+    smallSample: curve.smallSample,
+    ...(on.length > 0 ? { exclusionRules: on.map((r) => ({ ...r })) } : {}),
+  };
 }

@@ -75,6 +75,7 @@ import { diagnoseRegion } from "./fit/diagnose";
 import { type RegionWork, estimateRegionWork } from "./fit/estimate";
 import { bootstrapPass, correctOverRegions, permutationPass } from "./fit/infer";
 import { diagnosticNotes, weightingNotes } from "./fit/notes";
+import { ruleExclusionsOf } from "./fit/model-rules";
 import { prepare } from "./fit/prepare";
 import { runPrediction } from "./fit/prediction";
 import { runReliability } from "./fit/reliability";
@@ -132,6 +133,7 @@ export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = 
     correction: s.correction,
     seed: s.seed,
     level: FIT_LEVEL,
+    ...ruleExclusionsOf(prep),
   };
   assertFinite(result, "result");
   progress(1);

@@ -1,6 +1,7 @@
 /**
  * Stage 1 of a fit, prepare: checks the model and the data through the fit
- * rules (contract/fit-rules.ts), resolves the set-asides, the columns and the
+ * rules (contract/fit-rules.ts), resolves the set-asides (with those the
+ * model's exclusion rules make, model-rules.ts), the columns and the
  * group levels a valid model names, and gives each region its participants
  * (after set-asides and listwise deletion; weights: a standard error for
  * every value) or, for reliability, its matrix of sessions. Hands a
@@ -21,6 +22,7 @@ import { compareCodePoints } from "../design-matrix";
 import { StatsError } from "../errors";
 import type { Kind } from "../region-data";
 import { fail } from "./common";
+import { ruleMembers } from "./model-rules";
 
 export type Covariate =
   | { name: string; numeric: readonly (number | null)[] }
@@ -38,6 +40,8 @@ export interface Prepared {
   asideAll: Uint8Array;
   /** region name → participant indices set aside there */
   asideRegion: Map<string, Set<number>>;
+  /** Per rule of `spec.exclusionRules`, the participant indices it leaves out of every region (model-rules.ts). */
+  ruleExclusions: number[][];
 }
 
 function parseSpec(spec: ModelSpec): ModelSpec {
@@ -73,11 +77,19 @@ function has(record: Readonly<Record<string, unknown>>, key: string): boolean {
   return Object.hasOwn(record, key);
 }
 
-/** Participants set aside from every region, and per region, from the spec's set-aside list. Throws StatsError for unknown names. */
+/**
+ * Participants set aside from every region, and per region, from the spec's
+ * set-aside list, and those the model's exclusion rules leave out of every
+ * region (model-rules.ts). Throws StatsError for unknown names.
+ */
 function setAsides(
   spec: ModelSpec,
   data: FitData,
-): { asideAll: Uint8Array; asideRegion: Map<string, Set<number>> } {
+): {
+  asideAll: Uint8Array;
+  asideRegion: Map<string, Set<number>>;
+  ruleExclusions: number[][];
+} {
   const n = data.participants.length;
   const asideAll = new Uint8Array(n);
   const asideRegion = new Map<string, Set<number>>();
@@ -93,7 +105,9 @@ function setAsides(
       asideRegion.set(entry.region, set);
     }
   }
-  return { asideAll, asideRegion };
+  const ruleExclusions = ruleMembers(spec.exclusionRules ?? [], data);
+  for (const members of ruleExclusions) for (const i of members) asideAll[i] = 1;
+  return { asideAll, asideRegion, ruleExclusions };
 }
 
 /** The levels of a column among the participants not set aside from every region (numbers as text), sorted by code point. */
@@ -142,10 +156,10 @@ function ruleProblems(
 export function prepare(specIn: ModelSpec, data: FitData): Prepared {
   const spec = parseSpec(specIn);
   checkData(data);
-  const { asideAll, asideRegion } = setAsides(spec, data);
+  const { asideAll, asideRegion, ruleExclusions } = setAsides(spec, data);
   const [problem] = ruleProblems(spec, data, asideAll);
   if (problem) fail(`${problem.field.split(".")[0]}: ${problem.message}`);
-  return resolve(spec, data, asideAll, asideRegion);
+  return resolve(spec, data, asideAll, asideRegion, ruleExclusions);
 }
 
 /** The columns and levels a valid model names (the rules have passed). */
@@ -154,6 +168,7 @@ function resolve(
   data: FitData,
   asideAll: Uint8Array,
   asideRegion: Map<string, Set<number>>,
+  ruleExclusions: number[][],
 ): Prepared {
   const wanted = spec.regions && spec.regions.length > 0 ? spec.regions : data.regions;
   const regionIndex = wanted.map((name) => data.regions.indexOf(name));
@@ -177,7 +192,18 @@ function resolve(
       ? { name, numeric: data.numericColumns[name] }
       : { name, categorical: data.categoricalColumns[name] },
   );
-  return { spec, data, regionIndex, predictor, group, levels, covariates, asideAll, asideRegion };
+  return {
+    spec,
+    data,
+    regionIndex,
+    predictor,
+    group,
+    levels,
+    covariates,
+    asideAll,
+    asideRegion,
+    ruleExclusions,
+  };
 }
 
 /**
@@ -246,7 +272,7 @@ export function fitPreconditionProblems(
 ): SpecProblem[] {
   const spec = parseSpec(specIn);
   checkData(data);
-  const { asideAll, asideRegion } = setAsides(spec, data);
+  const { asideAll, asideRegion, ruleExclusions } = setAsides(spec, data);
   const columns = options.columns !== false;
   const shape: DataShape = { ...shapeOf(data, asideAll), ...options.naming };
   if (!columns) {
@@ -254,9 +280,14 @@ export function fitPreconditionProblems(
     shape.categoricalColumns = undefined;
   }
   const problems = [...specProblems(spec), ...dataProblems(spec, shape)];
-  const needsSheet = Boolean(spec.predictor || spec.group || spec.covariates.length > 0);
+  const needsSheet = Boolean(
+    spec.predictor ||
+      spec.group ||
+      spec.covariates.length > 0 ||
+      (spec.exclusionRules ?? []).length > 0,
+  );
   if (problems.length > 0 || (!columns && needsSheet)) return problems;
-  const prep = resolve(spec, data, asideAll, asideRegion);
+  const prep = resolve(spec, data, asideAll, asideRegion, ruleExclusions);
   if (spec.kind === "prediction") {
     const n = predictionRows(prep).length;
     if (n < PREDICTION_MINIMUM)

@@ -28,9 +28,17 @@
  * (and, unlike removing the estimated effect, needs no model to be right).
  */
 import { curveKind } from "../../../contract/fit-rules";
-import type { FitData, FitResult, ModelSpec } from "../../../contract/spec";
-import { type CurveSpecification, curveChoices } from "../../../contract/specification-curve";
-import { meetsRule, ruleText } from "../../../contract/exclusion-rules";
+import {
+  type FitData,
+  type FitResult,
+  type ModelSpec,
+  modelSpecSchema,
+} from "../../../contract/spec";
+import {
+  type CurveSpecification,
+  curveChoices,
+  specificationModel,
+} from "../../../contract/specification-curve";
 import { shuffleInPlace } from "../rearrangements";
 import { createBlockRng, createRng, type Rng } from "../rng";
 import {
@@ -56,40 +64,16 @@ interface Choice {
   prep: Prepared;
 }
 
-/** Participant indices each rule excludes (a missing value is not excluded). */
-function excludedBy(prep: Prepared): number[][] {
-  const { data } = prep;
-  return curveChoices(prep.spec).exclusionRules.map((rule) => {
-    const numeric = Object.hasOwn(data.numericColumns, rule.column)
-      ? data.numericColumns[rule.column]
-      : null;
-    const column = numeric ?? data.categoricalColumns[rule.column];
-    const out: number[] = [];
-    for (let i = 0; i < data.participants.length; i++)
-      if (meetsRule(rule, column[i] ?? null)) out.push(i);
-    return out;
-  });
-}
-
 /** Every specification of the curve, in a fixed order (estimator, covariate set, rule subset), each prepared as an ordinary fit. */
 function choicesOf(prep: Prepared): Choice[] {
   const s = prep.spec;
-  const question = curveKind(s);
   const { estimators: estimatorList, covariateSets: sets, exclusionRules: rules } = curveChoices(s);
-  const excluded = excludedBy(prep);
   const out: Choice[] = [];
   for (const estimator of estimatorList)
     for (const covariates of sets)
       for (let mask = 0; mask < 1 << rules.length; mask++) {
         const exclusions = rules.map((_, k) => k).filter((k) => mask & (1 << k));
-        const setAside = [...s.setAside];
-        for (const k of exclusions)
-          for (const i of excluded[k])
-            setAside.push({
-              participant: prep.data.participants[i],
-              reason: `rule: ${ruleText(rules[k])}`,
-            });
-        const sub = ordinarySpec(s, question, estimator, covariates, setAside);
+        const sub = ordinarySpec(s, { estimator, covariates, exclusions });
         const label = `specification (${estimator}; covariates: ${covariates.join(", ") || "none"}; rules on: ${exclusions.map((k) => k + 1).join(", ") || "none"})`;
         let p: Prepared;
         try {
@@ -103,32 +87,16 @@ function choicesOf(prep: Prepared): Choice[] {
   return out;
 }
 
-/** The ordinary association or two-group model of one specification. */
+/**
+ * The ordinary association or two-group model of one specification
+ * (contract/specification-curve.ts `specificationModel`: the switched-on
+ * rules as its `exclusionRules`), with the curve's own set-asides.
+ */
 export function ordinarySpec(
   s: ModelSpec,
-  question: "association" | "two-group",
-  estimator: Estimator,
-  covariates: string[],
-  setAside: ModelSpec["setAside"],
+  choice: { estimator: Estimator; covariates: string[]; exclusions: number[] },
 ): ModelSpec {
-  return {
-    kind: question,
-    regions: s.regions,
-    ...(question === "association"
-      ? { predictor: s.predictor }
-      : { group: s.group, levels: s.levels }),
-    covariates,
-    interaction: false,
-    estimator,
-    inference: "parametric",
-    resamples: s.resamples,
-    seed: s.seed,
-    correction: "none",
-    setAside,
-    weights: "none",
-    tau2Method: s.tau2Method,
-    smallSample: s.smallSample,
-  };
+  return modelSpecSchema.parse({ ...specificationModel(s, choice), setAside: s.setAside });
 }
 
 /**

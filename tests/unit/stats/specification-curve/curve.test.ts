@@ -124,6 +124,83 @@ describe("specification curve", () => {
     }
   });
 
+  it("gives every specification, of every estimator, the numbers of the ordinary fit of its model with the switched-on rules as exclusionRules", () => {
+    const rules = curveInput.specifications?.exclusionRules ?? [];
+    const close = (a: number | null, b: number | null) =>
+      expect(Math.abs((a as number) - (b as number))).toBeLessThanOrEqual(
+        1e-9 * Math.max(1e-300, Math.abs(b as number)),
+      );
+    for (const s of specs) {
+      const ordinary = runFit(
+        modelSpecSchema.parse({
+          kind: "association",
+          regions: ["amygdala"],
+          predictor: "trait",
+          covariates: s.covariates,
+          estimator: s.estimator,
+          ...(s.exclusions.length > 0 ? { exclusionRules: s.exclusions.map((k) => rules[k]) } : {}),
+        }),
+        data,
+      );
+      const region = ordinary.regions[0];
+      expect(s.n).toBe(region.n);
+      close(s.estimate, region.estimate);
+      close(s.ciLow, region.ciLow);
+      close(s.ciHigh, region.ciHigh);
+      close(s.p, region.p);
+      // The ordinary fit names each switched-on rule; site == north leaves out 20 (every third of 60).
+      const named = (ordinary.ruleExclusions ?? []) as {
+        rule: { column: string };
+        participants: string[];
+      }[];
+      expect(named.map((r) => r.rule.column)).toEqual(
+        s.exclusions.map((k) => (k === 0 ? "mean_fd" : "site")),
+      );
+      for (const r of named) if (r.rule.column === "site") expect(r.participants).toHaveLength(20);
+    }
+  });
+
+  it("leaves out, in an ordinary model, every participant meeting a rule and no one with a missing value", () => {
+    const fd = data.numericColumns.mean_fd;
+    const rules = curveInput.specifications?.exclusionRules ?? [];
+    const res = runFit(
+      modelSpecSchema.parse({
+        kind: "association",
+        regions: ["amygdala"],
+        predictor: "trait",
+        exclusionRules: rules,
+      }),
+      data,
+    );
+    const out = res.ruleExclusions as { rule: { column: string }; participants: string[] }[];
+    // By hand: mean_fd > 0.4 among those with a value (p6 has none); site north = p1, p4, …, p58.
+    const motion = data.participants.filter((_, i) => fd[i] !== null && (fd[i] as number) > 0.4);
+    const north = data.participants.filter((_, i) => i % 3 === 0);
+    expect(out.map((r) => r.rule.column)).toEqual(["mean_fd", "site"]);
+    expect(out[0].participants).toEqual(motion);
+    expect(out[0].participants).not.toContain("p6");
+    expect(out[1].participants).toEqual(north);
+    const left = new Set([...motion, ...north, "p4"]);
+    expect(res.regions[0].n).toBe(60 - left.size);
+    // A two-group model takes the same rules; other kinds refuse them, naming the field.
+    expect(
+      specProblems(modelSpecSchema.parse({ kind: "one-sample", exclusionRules: [rules[0]] })).map(
+        (p) => p.field,
+      ),
+    ).toEqual(["exclusionRules"]);
+    expect(() =>
+      runFit(
+        modelSpecSchema.parse({
+          kind: "two-group",
+          regions: ["amygdala"],
+          group: "group",
+          exclusionRules: [{ column: "handedness", op: "==", value: "left", reason: "x" }],
+        }),
+        data,
+      ),
+    ).toThrow(/exclusionRules: no column 'handedness'/);
+  });
+
   it("drops the participants each switched-on rule names and no others", () => {
     const none = specs.find(
       (s) => s.estimator === "ols" && s.covariates.length === 0 && s.exclusions.length === 0,
