@@ -114,7 +114,16 @@ export function specDifferences(planned: ModelSpec, fit: ModelSpec): string[] {
   }
   if (!sameList(planned.regions, fit.regions))
     out.push(`regions ${show(fit.regions)} instead of ${show(planned.regions)}`);
+  const plannedRules = (planned.exclusionRules ?? []).map(criterionText);
+  const fitRules = (fit.exclusionRules ?? []).map(criterionText);
+  for (const r of fitRules) if (!plannedRules.includes(r)) out.push(`added rule ${r}`);
+  for (const r of plannedRules) if (!fitRules.includes(r)) out.push(`dropped rule ${r}`);
   return out;
+}
+
+/** The deviation of a model rule that is neither one of the plan's rules nor the planned model's. */
+export function unplannedRuleWords(rule: ExclusionRule): string {
+  return `leaves out by rule ${criterionText(rule)}, not in the plan`;
 }
 
 export interface PlanComparison {
@@ -144,9 +153,21 @@ export function compareWithPlan(
     if (m.spec.kind === fit.spec.kind && (best === null || diffs.length < best.diffs.length))
       best = { name: m.name, diffs };
   }
+  // A model rule the plan names nowhere (its rules or the closest planned model's) is said once, as such.
+  const plannedCriteria = new Set([
+    ...plan.exclusionRules.map(criterionText),
+    ...(plan.models.find((m) => m.name === best?.name)?.spec.exclusionRules ?? []).map(
+      criterionText,
+    ),
+  ]);
+  const unplanned = (fit.spec.exclusionRules ?? []).filter(
+    (r) => !plannedCriteria.has(criterionText(r)),
+  );
+  const said = new Set(unplanned.map((r) => `added rule ${criterionText(r)}`));
   const deviations: string[] = best
-    ? [...best.diffs]
+    ? best.diffs.filter((d) => !said.has(d))
     : [`a ${fit.spec.kind} model, which the plan does not name`];
+  deviations.push(...unplanned.map(unplannedRuleWords));
   if (fit.spec.correction !== plan.correction)
     deviations.push(`correction ${fit.spec.correction} instead of ${plan.correction}`);
   const ruleSet = new Set(ruleParticipants);

@@ -8,6 +8,7 @@
  * fields. Participant ids appear only when `participantsVisible`; a Viewer
  * of a restricted study gets counts instead. Cost O(size of the lists).
  */
+import { type ExclusionRule, ruleText } from "../../contract/exclusion-rules";
 import type { ModelSpec } from "../../contract/spec";
 
 /** A dataset version as the words name it. */
@@ -51,7 +52,15 @@ const fieldWords: Record<string, string> = {
   weights: "weighting",
   tau2Method: "τ² method",
   smallSample: "small-sample adjustment",
+  exclusionRules: "exclusion rules",
 };
+
+/** A field's value as compared and shown: exclusion rules as their words ("mean_fd > 0.5 (motion)"). */
+function comparable(key: string, value: unknown): unknown {
+  return key === "exclusionRules" && Array.isArray(value)
+    ? (value as ExclusionRule[]).map(ruleText)
+    : value;
+}
 
 /** Names listed before "and k more". */
 const LIST_MAX = 5;
@@ -146,8 +155,8 @@ export function modelFieldChanges(
     // Set-asides are compared apart; the stream scheme is how the engine draws, recorded by
     // every new fit, not a choice made in the model.
     if (key === "setAside" || key === "rearrangementStreams") continue;
-    const a = (before as Record<string, unknown>)[key];
-    const b = (after as Record<string, unknown>)[key];
+    const a = comparable(key, (before as Record<string, unknown>)[key]);
+    const b = comparable(key, (after as Record<string, unknown>)[key]);
     if (JSON.stringify(a ?? null) === JSON.stringify(b ?? null)) continue;
     const bothLists =
       (Array.isArray(a) || a === undefined) &&

@@ -173,4 +173,17 @@ describe("modelFieldChanges", () => {
       "rearrangements 10000 → 500",
     ]);
   });
+
+  it("treats a model's exclusion rules as part of the model, in their words", () => {
+    const motion = { column: "mean_fd", op: ">" as const, value: 0.5, reason: "motion" };
+    const task = { column: "accuracy", op: "<" as const, value: 0.6, reason: "task not done" };
+    const one = { ...model, exclusionRules: [motion] };
+    expect(modelFieldChanges(one, { ...one, exclusionRules: [{ ...motion }] })).toEqual([]);
+    expect(modelFieldChanges(model, one)).toEqual([
+      "exclusion rules none → mean_fd > 0.5 (motion)",
+    ]);
+    expect(modelFieldChanges(one, { ...model, exclusionRules: [motion, task] })).toEqual([
+      "exclusion rules: accuracy < 0.6 (task not done) added",
+    ]);
+  });
 });

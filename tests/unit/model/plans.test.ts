@@ -136,6 +136,47 @@ describe("compareWithPlan", () => {
     expect(planVerdict(out)).toBe("Deviates from the plan (6)");
   });
 
+  it("a model rule the plan names nowhere is a deviation; one of the plan's rules is not", () => {
+    const accuracy = { kind: "association", predictor: "accuracy", covariates: ["age"] };
+    const out = compareWithPlan(
+      plan,
+      {
+        spec: spec({
+          ...accuracy,
+          exclusionRules: [rule(">", 0.5), rule("<", 0.6, "accuracy")],
+        }),
+        setAside: [byRule],
+      },
+      ["sub-09"],
+    );
+    // mean_fd > 0.5 is the plan's own rule: said only as a difference from the planned model.
+    expect(out.deviations).toEqual([
+      "added rule mean_fd > 0.5",
+      "leaves out by rule accuracy < 0.6, not in the plan",
+    ]);
+    // A planned model's rules compare like any other field.
+    const withRules: Plan = planSchema.parse({
+      ...plan,
+      models: [
+        { ...plan.models[0], spec: { ...accuracy, exclusionRules: [rule("<", 0.6, "accuracy")] } },
+      ],
+    });
+    expect(
+      compareWithPlan(
+        withRules,
+        {
+          spec: spec({ ...accuracy, exclusionRules: [rule("<", 0.6, "accuracy")] }),
+          setAside: [byRule],
+        },
+        ["sub-09"],
+      ),
+    ).toEqual({ model: "accuracy", asPlanned: true, deviations: [] });
+    expect(
+      compareWithPlan(withRules, { spec: spec(accuracy), setAside: [byRule] }, ["sub-09"])
+        .deviations,
+    ).toEqual(["dropped rule accuracy < 0.6"]);
+  });
+
   it("a kind the plan does not name is a deviation", () => {
     const out = compareWithPlan(plan, { spec: spec({ kind: "one-sample" }), setAside: [] }, []);
     expect(out).toEqual({
