@@ -18,6 +18,7 @@
  * plus about 9r³ for the eigendecomposition.
  */
 import { StatsError } from "../errors";
+import { gemm, rowMajor, transposed } from "./gemm";
 import { symmetricEigen } from "./symmetric-eigen";
 
 /** A training matrix decomposed for ridge predictions of its held-out rows. */
@@ -72,51 +73,41 @@ export function prepareRidge(
   }
   if (p <= nTrain) {
     const r = p;
+    // Gram XᵀX (p×p) from the column-major scaled matrix: xt is p×n_train row-major.
     const gram = new Float64Array(p * p);
-    for (let a = 0; a < p; a++) {
-      const oa = a * nTrain;
-      for (let c = a; c < p; c++) {
-        gram[a * p + c] = gram[c * p + a] = dot(xt, oa, xt, c * nTrain, nTrain);
-      }
-    }
+    gemm(p, p, nTrain, rowMajor(xt, nTrain), transposed(xt, nTrain), gram, p);
+    symmetrize(gram, p);
     const { values, vectors } = symmetricEigen(gram, p); // vectors: row k = v_k
+    // M = X V (n_train×r): X = xtᵀ, V = vectorsᵀ.
     const m = new Float64Array(nTrain * r);
-    // M = X V: M[i][k] = Σ_j X[i][j] v_k[j].
-    const row = new Float64Array(p);
-    for (let i = 0; i < nTrain; i++) {
-      for (let j = 0; j < p; j++) row[j] = xt[j * nTrain + i];
-      for (let k = 0; k < r; k++) m[i * r + k] = dot(row, 0, vectors, k * p, p);
-    }
+    gemm(nTrain, r, p, transposed(xt, nTrain), transposed(vectors, p), m, r);
+    // W = X_held V (n_held×r).
     const w = new Float64Array(nHeld * r);
-    for (let i = 0; i < nHeld; i++)
-      for (let k = 0; k < r; k++) w[i * r + k] = dot(h, i * p, vectors, k * p, p);
+    gemm(nHeld, r, p, rowMajor(h, p), transposed(vectors, p), w, r);
     const b = new Float64Array(p * r);
     for (let k = 0; k < r; k++) for (let j = 0; j < p; j++) b[j * r + k] = vectors[k * p + j];
     return { nTrain, nHeld, p, r, dsq: clampNonNegative(values), m, w, b };
   }
   const r = nTrain;
-  const x = new Float64Array(nTrain * p); // row-major scaled training matrix
-  for (let j = 0; j < p; j++) for (let i = 0; i < nTrain; i++) x[i * p + j] = xt[j * nTrain + i];
+  // Gram XXᵀ (n_train×n_train).
   const gram = new Float64Array(r * r);
-  for (let a = 0; a < r; a++)
-    for (let c = a; c <= r - 1; c++) gram[a * r + c] = gram[c * r + a] = dot(x, a * p, x, c * p, p);
+  gemm(r, r, p, transposed(xt, nTrain), rowMajor(xt, nTrain), gram, r);
+  symmetrize(gram, r);
   const { values, vectors } = symmetricEigen(gram, r); // row k = u_k
   const m = new Float64Array(nTrain * r);
   for (let k = 0; k < r; k++) for (let i = 0; i < nTrain; i++) m[i * r + k] = vectors[k * r + i];
-  // B = Xᵀ U: B[j][k] = Σ_i X[i][j] u_k[i].
+  // B = Xᵀ U (p×r): Xᵀ = xt, U = vectorsᵀ.
   const b = new Float64Array(p * r);
-  for (let j = 0; j < p; j++)
-    for (let k = 0; k < r; k++) b[j * r + k] = dot(xt, j * nTrain, vectors, k * r, nTrain);
-  // W = X_held B.
+  gemm(p, r, nTrain, rowMajor(xt, nTrain), transposed(vectors, r), b, r);
+  // W = X_held B (n_held×r).
   const w = new Float64Array(nHeld * r);
-  for (let i = 0; i < nHeld; i++) {
-    for (let j = 0; j < p; j++) {
-      const hij = h[i * p + j];
-      if (hij === 0) continue;
-      for (let k = 0; k < r; k++) w[i * r + k] += hij * b[j * r + k];
-    }
-  }
+  gemm(nHeld, r, p, rowMajor(h, p), rowMajor(b, r), w, r);
   return { nTrain, nHeld, p, r, dsq: clampNonNegative(values), m, w, b };
+}
+
+/** Makes a computed Gram matrix exactly symmetric (upper triangle copied to the lower). */
+function symmetrize(a: Float64Array, n: number): void {
+  for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) a[j * n + i] = a[i * n + j];
 }
 
 function clampNonNegative(values: Float64Array): Float64Array {

@@ -55,4 +55,50 @@ describe("symmetricEigen", () => {
     // Trace = sum of eigenvalues = Σ x² = 91 + 15 = 106 (arithmetic).
     expect(values[4] + values[5]).toBeCloseTo(106, 10);
   });
+
+  it("recovers a known spectrum, with tied and nearly tied eigenvalues, to 1e-12 relative", () => {
+    // A = H Λ H with the Householder reflector H = I − 2uuᵀ/uᵀu (orthogonal and
+    // symmetric) has eigenvalues Λ and eigenvectors the columns of H (Golub &
+    // Van Loan 2013, Matrix Computations, 4th ed., §5.1.2 and §8.1).
+    const m = 150;
+    const rng = createRng(21);
+    const u = Float64Array.from({ length: m }, () => normalDraw(rng));
+    let uu = 0;
+    for (const x of u) uu += x * x;
+    const spectrum = Float64Array.from({ length: m }, (_, i) => 1 + i * 0.5);
+    spectrum[10] = spectrum[11] = spectrum[12] = 7; // exact triple tie
+    spectrum[40] = 30 + 1e-9; // near tie with spectrum[41]
+    spectrum[41] = 30;
+    spectrum[0] = 0; // singular, as a duplicated region makes a Gram matrix
+    const h = (i: number, j: number) => (i === j ? 1 : 0) - (2 * u[i] * u[j]) / uu;
+    const a = new Float64Array(m * m);
+    for (let i = 0; i < m; i++)
+      for (let j = 0; j < m; j++) {
+        let s = 0;
+        for (let k = 0; k < m; k++) s += h(i, k) * spectrum[k] * h(k, j);
+        a[i * m + j] = s;
+      }
+    for (let i = 0; i < m; i++) for (let j = 0; j < i; j++) a[i * m + j] = a[j * m + i];
+    const norm = Math.max(...spectrum);
+    const { values, vectors } = symmetricEigen(a, m);
+    const sorted = Float64Array.from(spectrum).sort();
+    for (let k = 0; k < m; k++)
+      expect(Math.abs(values[k] - sorted[k])).toBeLessThan(1e-12 * norm * 10);
+    let residual = 0;
+    let orthogonality = 0;
+    for (let k = 0; k < m; k++) {
+      for (let i = 0; i < m; i++) {
+        let av = 0;
+        for (let j = 0; j < m; j++) av += a[i * m + j] * vectors[k * m + j];
+        residual = Math.max(residual, Math.abs(av - values[k] * vectors[k * m + i]));
+      }
+      for (let l = 0; l <= k; l++) {
+        let dot = 0;
+        for (let j = 0; j < m; j++) dot += vectors[k * m + j] * vectors[l * m + j];
+        orthogonality = Math.max(orthogonality, Math.abs(dot - (k === l ? 1 : 0)));
+      }
+    }
+    expect(residual / norm).toBeLessThan(1e-12);
+    expect(orthogonality).toBeLessThan(1e-12);
+  });
 });
