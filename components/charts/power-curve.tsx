@@ -1,165 +1,89 @@
 /**
  * Power curve for the planner: power (vertical, as a percentage) against the
- * number of participants N (horizontal), the target power as a dashed line,
- * and the answer N marked where the curve crosses it.
+ * number of participants N (horizontal), a point at each planned N, the
+ * target power as a dashed line, and the answer N marked where the curve
+ * crosses it. Where everything goes comes from power-curve-layout.ts (the
+ * figure writer draws from the same layout).
  */
-import { scaleLinear } from "d3-scale";
 import { Circle, G, Line, Path, Text as SvgText } from "react-native-svg";
 import { chart, fonts } from "../theme";
 import { Axis } from "./axis";
 import { ChartFrame } from "./chart-frame";
-import { ChartInputError, requireFinite, tryLayout } from "./chart-input-error";
+import { tryLayout } from "./chart-input-error";
 import { Legend } from "./legend";
-import { formatCount, formatPercent } from "./number-format";
-import { linePath } from "./paths";
-import { checkPowerPoints, interpolatePower, type PowerPoint } from "./power-layout";
-import { leftMarginFor, plotArea } from "./scales";
-import { formatTicks, niceDomain, tickCountFor, tickValues } from "./ticks";
+import {
+  checkPowerCurve,
+  type PowerCurveInput,
+  powerCurveAspect,
+  powerCurveDescription,
+  powerCurveLayout,
+  powerCurveLegend,
+  powerPointRadius,
+} from "./power-curve-layout";
 
-export interface PowerCurveProps {
-  /** Power at each N; any order. */
-  points: readonly PowerPoint[];
-  /** Target power, e.g. 0.8. */
-  targetPower: number;
-  /** The N the planner recommends, or null when no N on the curve reaches the target. */
-  answerN: number | null;
-  /** Horizontal axis title, default "Participants (N)". */
-  nLabel?: string;
+export interface PowerCurveProps extends PowerCurveInput {
   testID?: string;
 }
 
 export function PowerCurve(props: PowerCurveProps) {
-  const result = tryLayout(() => {
-    requireFinite(props.targetPower, "targetPower");
-    if (props.targetPower <= 0 || props.targetPower >= 1)
-      throw new ChartInputError(
-        "targetPower",
-        `must lie strictly between 0 and 1 (got ${props.targetPower})`,
-      );
-    if (props.answerN !== null) {
-      requireFinite(props.answerN, "answerN");
-      if (props.answerN <= 0)
-        throw new ChartInputError("answerN", `must be positive (got ${props.answerN})`);
-    }
-    return checkPowerPoints(props.points);
-  });
-  const nLabel = props.nLabel ?? "Participants (N)";
-  const target = formatPercent(props.targetPower);
-  const answerWords =
-    props.answerN !== null
-      ? `N = ${formatCount(props.answerN)} reaches ${target} power`
-      : `no N on the curve reaches ${target} power`;
+  const result = tryLayout(() => checkPowerCurve(props));
   return (
     <ChartFrame
-      label={`Power curve: power against the number of participants, with the ${target} target marked; ${answerWords}.`}
-      aspect={1.5}
+      label={powerCurveDescription(props)}
+      aspect={powerCurveAspect}
       problem={result.problem}
       testID={props.testID}
-      footer={
-        <Legend
-          entries={[
-            { kind: "line", label: "power", colour: chart.curve },
-            { kind: "line", label: `target ${target}`, colour: chart.reference, dashed: true },
-            ...(props.answerN !== null
-              ? [
-                  {
-                    kind: "line" as const,
-                    label: `N = ${formatCount(props.answerN)}`,
-                    colour: chart.estimate,
-                    dashed: true,
-                  },
-                ]
-              : []),
-          ]}
-        />
-      }
+      footer={<Legend entries={powerCurveLegend(props)} />}
     >
       {(viewport) => {
-        const sorted = result.layout;
-        if (!sorted) return null;
-        const yTicks = [0, 0.2, 0.4, 0.6, 0.8, 1];
-        const yLabels = formatTicks(yTicks, { scale: 100, suffix: "%" });
-        const area = plotArea(viewport, {
-          top: 12,
-          right: 16,
-          bottom: chart.tickText + chart.labelText + 18,
-          left: leftMarginFor(yLabels, chart.tickText, chart.labelText),
-        });
-        const nMax = Math.max(sorted[sorted.length - 1].n, props.answerN ?? 0);
-        const xCount = tickCountFor(area.width);
-        const xDomain = niceDomain([0, nMax], xCount);
-        const xTicks = tickValues(xDomain, xCount);
-        const x = scaleLinear().domain(xDomain).range([area.left, area.right]);
-        const y = scaleLinear().domain([0, 1]).range([area.bottom, area.top]);
-        const ty = y(props.targetPower);
-        const answerPower = props.answerN !== null ? interpolatePower(sorted, props.answerN) : null;
-        const ax = props.answerN !== null ? x(props.answerN) : null;
+        if (!result.layout) return null;
+        const layout = powerCurveLayout(props, viewport);
+        const { target, answer } = layout;
         return (
           <G>
-            <Axis
-              orientation="left"
-              area={area}
-              scale={y}
-              ticks={yTicks}
-              labels={yLabels}
-              title="Power"
-              grid
-            />
-            <Axis
-              orientation="bottom"
-              area={area}
-              scale={x}
-              ticks={xTicks}
-              labels={xTicks.map((t) => formatCount(t))}
-              title={nLabel}
-            />
+            <Axis {...layout.yAxis} />
+            <Axis {...layout.xAxis} />
             <Line
-              x1={area.left}
-              x2={area.right}
-              y1={ty}
-              y2={ty}
+              x1={target.x1}
+              x2={target.x2}
+              y1={target.y}
+              y2={target.y}
               stroke={chart.reference}
               strokeWidth={1.5}
               strokeDasharray="6 4"
             />
-            <Path
-              d={linePath(
-                sorted.map((p) => ({ x: p.n, y: p.power })),
-                x,
-                y,
-              )}
-              fill="none"
-              stroke={chart.curve}
-              strokeWidth={2.5}
-            />
-            {ax !== null ? (
+            <Path d={layout.curvePath} fill="none" stroke={chart.curve} strokeWidth={2.5} />
+            {layout.points.map((p) => (
+              <Circle key={p.n} cx={p.cx} cy={p.cy} r={powerPointRadius} fill={chart.curve} />
+            ))}
+            {answer ? (
               <G>
                 <Line
-                  x1={ax}
-                  x2={ax}
-                  y1={area.bottom}
-                  y2={answerPower !== null ? y(answerPower) : area.top}
+                  x1={answer.x}
+                  x2={answer.x}
+                  y1={answer.y1}
+                  y2={answer.y2}
                   stroke={chart.estimate}
                   strokeWidth={1.5}
                   strokeDasharray="4 3"
                 />
-                {answerPower !== null ? (
+                {answer.dot ? (
                   <Circle
-                    cx={ax}
-                    cy={y(answerPower)}
+                    cx={answer.dot.cx}
+                    cy={answer.dot.cy}
                     r={chart.markRadius + 1}
                     fill={chart.estimate}
                   />
                 ) : null}
                 <SvgText
-                  x={ax > (area.left + area.right) / 2 ? ax - 6 : ax + 6}
-                  y={(answerPower !== null ? y(answerPower) : area.top) + 16}
+                  x={answer.label.x}
+                  y={answer.label.y}
                   fontSize={chart.labelText}
                   fontFamily={fonts.semibold}
                   fill={chart.estimate}
-                  textAnchor={ax > (area.left + area.right) / 2 ? "end" : "start"}
+                  textAnchor={answer.label.anchor}
                 >
-                  {`N = ${formatCount(props.answerN as number)}`}
+                  {answer.label.text}
                 </SvgText>
               </G>
             ) : null}

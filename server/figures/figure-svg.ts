@@ -2,7 +2,8 @@
  * A figure of a fit as SVG text, drawn from the same layout modules the
  * screen draws from (components/charts/*-layout.ts): the forest plot, the
  * scatter plot, the strip plot, the influence view, the permutation
- * null histogram and a weighted fit's variance shares. Each builder lays its plot out at `width` SVG units (the
+ * null histogram, a weighted fit's variance shares and the planner's power
+ * curve. Each builder lays its plot out at `width` SVG units (the
  * screen's one unit per CSS pixel, see figureUnits) and adds the legend
  * under it; `svgDocument` wraps the drawing with its size in millimetres,
  * a viewBox, a white background, a <title> and a <desc>.
@@ -30,6 +31,14 @@ import {
   influenceMarks,
 } from "../../components/charts/influence-layout";
 import type { LegendEntry } from "../../components/charts/legend-entries";
+import {
+  type PowerCurveInput,
+  powerCurveAspect,
+  powerCurveDescription,
+  powerCurveLayout,
+  powerCurveLegend,
+  powerPointRadius,
+} from "../../components/charts/power-curve-layout";
 import { chartViewport, truncateLabel } from "../../components/charts/scales";
 import {
   checkScatter,
@@ -430,6 +439,60 @@ export function varianceFigure(
   };
 }
 
+/**
+ * The planner's power curve: axes, the target line, the curve with a point
+ * (`<g class="power-point" data-n>`) at each planned N, and the answer's
+ * marker. Throws ChartInputError on bad input.
+ */
+export function powerFigure(input: PowerCurveInput, title: string, width: number): RawFigure {
+  const viewport = chartViewport(width, powerCurveAspect);
+  const layout = powerCurveLayout(input, viewport);
+  const kept = new KeptAttributes();
+  const { target, answer } = layout;
+  const points = layout.points
+    .map((p) => {
+      const id = kept.add({ class: "power-point", "data-n": String(p.n), "aria-label": p.words });
+      return el(
+        "g",
+        { id },
+        el("circle", { cx: p.cx, cy: p.cy, r: powerPointRadius, fill: chart.curve }),
+      );
+    })
+    .join("");
+  const marker = answer
+    ? line(answer.x, answer.y1, answer.x, answer.y2, chart.estimate, 1.5, "4 3") +
+      (answer.dot
+        ? el("circle", {
+            cx: answer.dot.cx,
+            cy: answer.dot.cy,
+            r: chart.markRadius + 1,
+            fill: chart.estimate,
+          })
+        : "") +
+      text(answer.label.x, answer.label.y, answer.label.text, {
+        size: chart.labelText,
+        weight: 600,
+        fill: chart.estimate,
+        anchor: answer.label.anchor,
+      })
+    : "";
+  const body =
+    axis(layout.yAxis) +
+    axis(layout.xAxis) +
+    line(target.x1, target.y, target.x2, target.y, chart.reference, 1.5, "6 4") +
+    el("path", { d: layout.curvePath, fill: "none", stroke: chart.curve, "stroke-width": 2.5 }) +
+    points +
+    marker;
+  const framed = withLegend(viewport.width, viewport.height, body, powerCurveLegend(input));
+  return {
+    width: viewport.width,
+    title,
+    description: powerCurveDescription(input),
+    kept,
+    ...framed,
+  };
+}
+
 /** What a figure draws, as plain data (it crosses to the figure worker thread). */
 export type FigureInput =
   | { kind: "forest"; rows: ForestRow[]; estimateLabel: string; title: string }
@@ -437,7 +500,8 @@ export type FigureInput =
   | { kind: "strip"; input: StripInput; title: string }
   | { kind: "influence"; points: InfluencePoint[]; cuts: FlagCuts; title: string }
   | { kind: "null"; input: NullHistogramInput; title: string }
-  | { kind: "variance-shares"; regions: VarianceShareInput[]; title: string };
+  | { kind: "variance-shares"; regions: VarianceShareInput[]; title: string }
+  | { kind: "power-curve"; input: PowerCurveInput; title: string };
 
 /** The figure laid out `widthMm` wide (89 or 183 mm), with text still as text. */
 export function drawFigure(figure: FigureInput, widthMm: number): RawFigure {
@@ -459,6 +523,8 @@ export function drawFigure(figure: FigureInput, widthMm: number): RawFigure {
       return nullFigure(figure.input, figure.title, width);
     case "variance-shares":
       return varianceFigure(figure.regions, figure.title, width);
+    case "power-curve":
+      return powerFigure(figure.input, figure.title, width);
   }
 }
 

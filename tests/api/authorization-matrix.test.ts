@@ -134,6 +134,12 @@ const matrix: Record<string, Row> = {
     body: () => ({ design: "correlation", effect: 0.3 }),
     expected: signedIn(200),
   },
+  // The power curve as a figure: a planner answer, not a study's, so anyone signed in.
+  "POST /api/planner/:file": {
+    path: () => "/api/planner/figure.txt",
+    body: () => ({ design: "correlation", effect: 0.3 }),
+    expected: signedIn(200),
+  },
   "POST /api/studies": {
     path: () => "/api/studies",
     body: (f) => ({ name: `Matrix study ${f.n}` }),

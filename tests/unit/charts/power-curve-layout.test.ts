@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { checkPowerPoints, interpolatePower } from "../../../components/charts/power-layout";
+import { checkPowerPoints, interpolatePower } from "../../../components/charts/power-curve-layout";
 
 describe("power curve layout", () => {
   const pts = checkPowerPoints([
