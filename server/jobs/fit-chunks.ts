@@ -1,25 +1,34 @@
 /**
- * A fit's permutation test as chunks for worker processes (server/worker/):
- * which fits are split, how a chunk number maps to its regions and
- * rearrangement block, the task a thread computes for one chunk, and the
- * stored form of a chunk's counts. Pure (no database); the worker process
- * reads and writes the rows.
+ * A fit as chunks for threads (server/jobs/fit-jobs.ts) and worker
+ * processes (server/worker/): which fits are split, what a chunk number
+ * means, the task a thread computes for one chunk (chunk-task.ts), the
+ * stored form of a chunk's result, and how the merging party hands the
+ * merged chunks to `runFit`. Pure (no database); the worker process reads
+ * and writes the rows.
  *
- * A fit is split when `runFit` would run the least-squares permutation
- * test (inference "permutation", estimator "ols", one-sample, two-group or
- * association) with "blocks-v1" streams: chunk c is region chunk
- * ⌊c / B⌋ × rearrangement block c mod B, B the number of rearrangement
- * blocks (server/stats/permutation-kernel.ts). The merging party runs
- * `runFit` with the merged chunks (`mergedLinearPermutationTest`); every
- * other fit runs whole on one worker.
+ * Two kinds of split fit, both with "blocks-v1" streams:
+ * - "permutation": the least-squares permutation test (inference
+ *   "permutation", estimator "ols", one-sample, two-group or association).
+ *   Chunk c is region chunk ⌊c / B⌋ × rearrangement block c mod B, B the
+ *   number of rearrangement blocks (server/stats/permutation-kernel.ts);
+ *   merged by `mergedLinearPermutationTest` (RunFitOptions.linearPermutation).
+ * - "curve": the joint test of a specification curve. Chunk c is null
+ *   block c (`curveNullBlock`, CURVE_BLOCK_DRAWS draws from its own
+ *   stream); merged by concatenating blocks in order (RunFitOptions.curveNulls).
+ *
+ * Every other fit runs whole on one thread. Whatever the number of threads
+ * or workers and the order chunks finish in, the merged fit is the fit
+ * computed in one piece, number for number.
  */
 import type { FitData, ModelSpec } from "../../contract/spec";
-import { inRegion } from "../stats/fit/common";
+import { type RunFitOptions, inRegion } from "../stats/fit/common";
 import { estimateRegionWork } from "../stats/fit/estimate";
 import { linearPermutationInput } from "../stats/fit/infer";
 import { prepare } from "../stats/fit/prepare";
+import { CURVE_BLOCK_DRAWS } from "../stats/fit/specification-curve";
 import type { QrDecomposition } from "../stats/linear-model";
 import {
+  mergedLinearPermutationTest,
   prepareSharedLinearPermutation,
   type RearrangementChunk,
   type SharedLinearPermutationSetup,
@@ -31,10 +40,13 @@ import {
   regionChunks,
   sliceBlocks,
 } from "../stats/permutation-kernel";
+import type { CurveStatistics } from "../stats/specification-curve/joint";
+import type { ChunkTask } from "./chunk-task";
 import type { PermutationTask } from "./permutation-task";
 
-/** A split fit: its prepared test and the chunk grid. */
+/** A fit whose permutation test is split: its prepared test and the chunk grid. */
 export interface ChunkedFit {
+  kind: "permutation";
   setup: SharedLinearPermutationSetup;
   seed: number;
   maxT: boolean;
@@ -46,14 +58,66 @@ export interface ChunkedFit {
   chunks: number;
 }
 
+/** A specification curve whose joint test is split: one chunk per null block. */
+export interface ChunkedCurve {
+  kind: "curve";
+  spec: ModelSpec;
+  /** the fit's data cut to the curve's one region (what each chunk's thread is sent) */
+  data: FitData;
+  chunks: number;
+}
+
+/** A split fit of either kind. */
+export type FitChunks = ChunkedFit | ChunkedCurve;
+
+/** How a fit is split, or null when it runs whole. From the model alone. */
+export function chunkKind(spec: ModelSpec): FitChunks["kind"] | null {
+  if (spec.inference !== "permutation" || spec.rearrangementStreams !== "blocks-v1") return null;
+  if (spec.kind === "specification-curve") return "curve";
+  if (
+    spec.estimator === "ols" &&
+    (spec.kind === "one-sample" || spec.kind === "two-group" || spec.kind === "association")
+  )
+    return "permutation";
+  return null;
+}
+
 /** True when `runFit` would run the least-squares permutation test in blocked streams. */
 export function isChunked(spec: ModelSpec): boolean {
-  return (
-    spec.inference === "permutation" &&
-    spec.estimator === "ols" &&
-    spec.rearrangementStreams === "blocks-v1" &&
-    (spec.kind === "one-sample" || spec.kind === "two-group" || spec.kind === "association")
-  );
+  return chunkKind(spec) === "permutation";
+}
+
+/**
+ * The chunks of a fit, or null when it is not split. A permutation test
+ * runs the fit's preparation and estimates (no diagnostics),
+ * O(regions·n·p²), and throws StatsError as `runFit` does for the same
+ * model and data; a curve only counts its null blocks.
+ */
+export function fitChunks(spec: ModelSpec, data: FitData): FitChunks | null {
+  const kind = chunkKind(spec);
+  if (kind === "permutation") return chunkedFit(spec, data);
+  if (kind === "curve")
+    return {
+      kind,
+      spec,
+      data: curveData(spec, data),
+      chunks: Math.ceil(spec.resamples / CURVE_BLOCK_DRAWS),
+    };
+  return null;
+}
+
+/** The data of a curve's one region (the curve reads no other); the whole data when the model names no single region it has. */
+function curveData(spec: ModelSpec, data: FitData): FitData {
+  const r = spec.regions?.length === 1 ? data.regions.indexOf(spec.regions[0]) : -1;
+  if (r < 0) return data;
+  return {
+    participants: data.participants,
+    regions: [data.regions[r]],
+    values: [data.values[r]],
+    ...(data.standardErrors ? { standardErrors: [data.standardErrors[r]] } : {}),
+    numericColumns: data.numericColumns,
+    categoricalColumns: data.categoricalColumns,
+  };
 }
 
 /**
@@ -62,7 +126,7 @@ export function isChunked(spec: ModelSpec): boolean {
  * StatsError as `runFit` does for the same model and data.
  */
 export function chunkedFit(spec: ModelSpec, data: FitData): ChunkedFit | null {
-  if (!isChunked(spec)) return null;
+  if (chunkKind(spec) !== "permutation") return null;
   const prep = prepare(spec, data);
   const qrCache = new Map<string, QrDecomposition>();
   const works = prep.regionIndex.map((r) =>
@@ -73,6 +137,7 @@ export function chunkedFit(spec: ModelSpec, data: FitData): ChunkedFit | null {
   const chunksOfRegions = regionChunks(setup.observed.length);
   const blocks = rearrangementBlocks(rearrangementsOf(setup.draw)).length;
   return {
+    kind: "permutation",
     setup,
     seed: spec.seed,
     maxT: input.maxT === true,
@@ -85,13 +150,31 @@ export function chunkedFit(spec: ModelSpec, data: FitData): ChunkedFit | null {
 
 /** Where chunk `chunk` lies: its first region and its rearrangement block. */
 export function chunkPlace(fit: ChunkedFit, chunk: number): { regionFrom: number; block: number } {
-  if (!(Number.isInteger(chunk) && chunk >= 0 && chunk < fit.chunks))
-    throw new Error(`fit chunks: no chunk ${chunk} (the fit has ${fit.chunks})`);
+  checkChunk(fit, chunk);
   return {
     regionFrom: fit.regionChunks[Math.floor(chunk / fit.blocks)][0],
     block: chunk % fit.blocks,
   };
 }
+
+/** Throws unless `chunk` is a chunk of the fit. */
+function checkChunk(fit: FitChunks, chunk: number): void {
+  if (!(Number.isInteger(chunk) && chunk >= 0 && chunk < fit.chunks))
+    throw new Error(`fit chunks: no chunk ${chunk} (the fit has ${fit.chunks})`);
+}
+
+/** The thread task (chunk-task.ts) computing chunk `chunk` of either kind; `control` as a permutation task reads it (slot 0: cancel). */
+export function chunkTaskOf(fit: FitChunks, chunk: number, control: SharedArrayBuffer): ChunkTask {
+  checkChunk(fit, chunk);
+  if (fit.kind === "permutation")
+    return { type: "permutation", task: chunkTask(fit, chunk, control) };
+  return { type: "curve", spec: fit.spec, data: fit.data, block: chunk };
+}
+
+/** What a chunk's thread gives back, by kind. */
+export type ChunkResult =
+  | { kind: "permutation"; counts: RearrangementCounts }
+  | { kind: "curve"; nulls: CurveStatistics[] };
 
 /** The thread task (permutation-task.ts) computing chunk `chunk`; `control` as that task reads it. */
 export function chunkTask(
@@ -112,7 +195,12 @@ export function chunkTask(
   };
 }
 
-/** A chunk's counts as stored (fit_chunks): binary arrays as base64 text. */
+/**
+ * A chunk's result as stored (fit_chunks): binary arrays as base64 text. A
+ * curve's null block keeps its draws' statistics in `counts` (median,
+ * direction, share significant in the dominant direction, Stouffer's Z per
+ * draw), `block` its block and `rearrangements` its number of draws.
+ */
 export interface StoredChunk {
   chunk: number;
   regionFrom: number;
@@ -142,13 +230,31 @@ function float32Of(text: string): Float32Array {
   );
 }
 
-/** The stored form of chunk `chunk`'s counts. Cost O(size). */
-export function encodeChunk(
-  fit: ChunkedFit,
-  chunk: number,
-  counts: RearrangementCounts,
-): StoredChunk {
-  const place = chunkPlace(fit, chunk);
+/** The stored form of chunk `chunk`'s result. Cost O(size). */
+export function encodeChunk(fit: FitChunks, chunk: number, result: ChunkResult): StoredChunk {
+  checkChunk(fit, chunk);
+  if (result.kind !== fit.kind)
+    throw new Error(`fit chunks: a ${result.kind} result for a ${fit.kind} fit`);
+  if (result.kind === "curve") {
+    const all = new Float64Array(4 * result.nulls.length);
+    for (let d = 0; d < result.nulls.length; d++) {
+      const x = result.nulls[d];
+      all.set([x.median, x.direction, x.shareDominant, x.stoufferZ], 4 * d);
+    }
+
+    return {
+      chunk,
+      regionFrom: 0,
+      block: chunk,
+      counts: base64Of(all),
+      maxAbs: null,
+      nulls: null,
+      exact: false,
+      rearrangements: result.nulls.length,
+    };
+  }
+  const counts = result.counts;
+  const place = chunkPlace(fit as ChunkedFit, chunk);
   let nulls: string | null = null;
   if (counts.nulls) {
     const width = counts.rearrangements;
@@ -167,7 +273,7 @@ export function encodeChunk(
   };
 }
 
-/** A stored chunk back as the merge takes it. Cost O(size). */
+/** A stored permutation chunk back as the merge takes it. Cost O(size). */
 export function decodeChunk(row: StoredChunk): RearrangementChunk {
   const counts = float64Of(row.counts);
   let nulls: Float32Array[] | null = null;
@@ -187,4 +293,61 @@ export function decodeChunk(row: StoredChunk): RearrangementChunk {
       rearrangements: row.rearrangements,
     },
   };
+}
+
+/** A stored curve chunk back as its null block's statistics. Cost O(size). */
+function decodeCurveChunk(row: StoredChunk): CurveStatistics[] {
+  const all = float64Of(row.counts);
+  return Array.from({ length: row.rearrangements }, (_, d) => ({
+    median: all[4 * d],
+    direction: all[4 * d + 1] > 0 ? 1 : -1,
+    shareDominant: all[4 * d + 2],
+    stoufferZ: all[4 * d + 3],
+  }));
+}
+
+/** Every chunk of a split fit, as the merging party hands them to `runFit` (structured-clone-able, for its thread). */
+export type MergedChunks =
+  | { kind: "permutation"; chunks: RearrangementChunk[] }
+  | { kind: "curve"; nulls: CurveStatistics[] };
+
+/** The merged chunks of a fit of kind `kind` from its results, chunk c at place c. */
+export function mergedChunks(fit: FitChunks, results: readonly ChunkResult[]): MergedChunks {
+  if (results.length !== fit.chunks)
+    throw new Error(`fit chunks: ${results.length} results for ${fit.chunks} chunks`);
+  if (fit.kind === "curve")
+    return {
+      kind: "curve",
+      nulls: results.flatMap((r) => (r.kind === "curve" ? r.nulls : [])),
+    };
+  return {
+    kind: "permutation",
+    chunks: results.map((r, c) => {
+      if (r.kind !== "permutation")
+        throw new Error("fit chunks: a curve result for a permutation fit");
+      return { ...chunkPlace(fit, c), counts: r.counts };
+    }),
+  };
+}
+
+/** The merged chunks of a fit of kind `kind` from its stored rows (any order). */
+export function mergedOfStored(
+  kind: FitChunks["kind"],
+  rows: readonly StoredChunk[],
+): MergedChunks {
+  const sorted = [...rows].sort((a, b) => a.chunk - b.chunk);
+  if (kind === "curve") return { kind, nulls: sorted.flatMap(decodeCurveChunk) };
+  return { kind, chunks: sorted.map(decodeChunk) };
+}
+
+/** The `runFit` options that answer a split fit's test from its merged chunks. */
+export function mergeOptions(
+  merged: MergedChunks,
+): Pick<RunFitOptions, "linearPermutation" | "curveNulls"> {
+  if (merged.kind === "curve") {
+    const nulls = merged.nulls;
+    return { curveNulls: () => nulls };
+  }
+  const chunks = merged.chunks;
+  return { linearPermutation: (input) => mergedLinearPermutationTest(input, chunks) };
 }

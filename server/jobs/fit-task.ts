@@ -21,10 +21,10 @@
 import type { MessagePort } from "node:worker_threads";
 import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
-import { mergedLinearPermutationTest, type RearrangementChunk } from "../stats/permutation";
 import type { RegionPlot } from "../../contract/views/fits";
 import { regionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
+import { type MergedChunks, mergeOptions } from "./fit-chunks";
 import { encodeRegionRows } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
@@ -37,8 +37,8 @@ export interface FitTask {
   spec: ModelSpec;
   data: FitData;
   port: MessagePort;
-  /** The permutation test's chunks, computed by worker processes: merged instead of computed here. */
-  chunks?: RearrangementChunk[];
+  /** A split fit's chunks (fit-chunks.ts), computed by other threads or worker processes: merged instead of computed here. */
+  merged?: MergedChunks;
 }
 
 /** One region's per-participant diagnostics and plot data, as JSON text. */
@@ -65,9 +65,8 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
   post({ type: "started" });
   let last = 0;
   try {
-    const chunks = task.chunks;
     const result = runFit(task.spec, task.data, {
-      linearPermutation: chunks && ((input) => mergedLinearPermutationTest(input, chunks)),
+      ...(task.merged ? mergeOptions(task.merged) : {}),
       onProgress: (fraction) => {
         const now = Date.now();
         if (now - last < PROGRESS_INTERVAL_MS && fraction < 1) return;

@@ -32,12 +32,16 @@ import type { FitData, ModelSpec } from "../../contract/spec";
 import type { Database } from "../../db/client";
 import { IntakeError } from "../intake/errors";
 import {
-  type ChunkedFit,
-  chunkedFit,
-  chunkTask,
-  decodeChunk,
+  type ChunkResult,
+  chunkKind,
+  chunkTaskOf,
   encodeChunk,
+  type FitChunks,
+  fitChunks,
+  type MergedChunks,
+  mergedOfStored,
 } from "../jobs/fit-chunks";
+import type { ChunkTaskOutcome } from "../jobs/chunk-task";
 import { type FitEvent, INTERNAL_FAILURE } from "../jobs/fit-jobs";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "../jobs/fit-task";
 import { secondsLeftOf } from "../jobs/time-left";
@@ -45,8 +49,6 @@ import { workerPool } from "../jobs/worker-pool";
 import { FitDataCache, inputsOfFit } from "../services/fit-inputs";
 import { FitStore, fitEvents } from "../services/fit-store";
 import { StatsError } from "../stats/errors";
-import type { RearrangementChunk } from "../stats/permutation";
-import type { RearrangementCounts } from "../stats/permutation-kernel";
 import {
   beat,
   fitRow,
@@ -94,7 +96,7 @@ export class FitWorker {
   private readonly events: ReturnType<typeof fitEvents>;
   private readonly log: (error: unknown, context: string) => void;
   private readonly startedAt = new Date();
-  private readonly plans = new Map<string, Promise<ChunkedFit>>();
+  private readonly plans = new Map<string, Promise<FitChunks>>();
   private boss: PgBoss | null = null;
   private chunkPool: Piscina | null = null;
   private fitPool: Piscina | null = null;
@@ -122,7 +124,7 @@ export class FitWorker {
       () => void this.beat().catch((error) => this.log(error, "worker heartbeat")),
       (this.options.heartbeatSeconds ?? 5) * 1000,
     );
-    this.chunkPool = workerPool("permutation-task.ts", { minThreads: 1, maxThreads: 1 });
+    this.chunkPool = workerPool("chunk-task.ts", { minThreads: 1, maxThreads: 1 });
     // Started now and kept: loading the engine in a thread takes seconds, which a merge should not wait for.
     this.fitPool = workerPool("fit-task.ts", {
       minThreads: 1,
@@ -234,9 +236,9 @@ export class FitWorker {
         error: null,
       });
     }
-    let plan: ChunkedFit | null;
+    let plan: FitChunks | null;
     try {
-      plan = chunkedFit(inputs.spec, inputs.data);
+      plan = fitChunks(inputs.spec, inputs.data);
     } catch (error) {
       if (error instanceof StatsError) return await this.fail(fitId, error.code, error.message);
       throw error;
@@ -257,7 +259,7 @@ export class FitWorker {
   }
 
   /** The chunk grid of a running fit (built once per fit in this process). */
-  private planFor(fitId: string): Promise<ChunkedFit> {
+  private planFor(fitId: string): Promise<FitChunks> {
     let plan = this.plans.get(fitId);
     if (!plan) {
       plan = (async () => {
@@ -265,7 +267,7 @@ export class FitWorker {
         if (!row) throw new Error(`fit ${fitId} is gone`);
         const spec = specOfRecipe(row.recipe);
         const data = await this.data.get(inputsOfFit(row));
-        const built = chunkedFit(spec, data);
+        const built = fitChunks(spec, data);
         if (!built) throw new Error(`fit ${fitId} is not split into chunks`);
         return built;
       })();
@@ -304,20 +306,27 @@ export class FitWorker {
     const { fitId, chunk } = job.data;
     if ((await fitStatus(this.db, fitId)) !== "running") return; // cancelled or finished: dropped
     if (!(await hasChunk(this.db, fitId, chunk))) {
-      let counts: RearrangementCounts;
+      let result: ChunkResult;
       const control = new Int32Array(new SharedArrayBuffer(8));
       try {
         const plan = await this.planFor(fitId);
-        const task = chunkTask(plan, chunk, control.buffer as SharedArrayBuffer);
-        counts = await this.watching(
+        const task = chunkTaskOf(plan, chunk, control.buffer as SharedArrayBuffer);
+        const outcome = await this.watching(
           fitId,
           () => Atomics.store(control, 0, 1),
-          () => (this.chunkPool as Piscina).run(task) as Promise<RearrangementCounts>,
+          () => (this.chunkPool as Piscina).run(task) as Promise<ChunkTaskOutcome<ChunkResult>>,
         );
+        if (Atomics.load(control, 0) === 1) return; // the fit stopped running: the chunk is dropped
+        if (!outcome.ok) {
+          if (outcome.code === "cancelled") return; // the fit stopped running: the chunk is dropped
+          // A statistical precondition fails the same way on every try: the fit fails now.
+          return await this.fail(fitId, outcome.code, outcome.message);
+        }
+        result = outcome.value;
         const done = await storeChunk(
           this.db,
           fitId,
-          encodeChunk(plan, chunk, counts),
+          encodeChunk(plan, chunk, result),
           this.id,
           new Date(),
         );
@@ -365,21 +374,23 @@ export class FitWorker {
       if (stored.length < plan.chunks) return;
       const inputs = await this.inputsOf(fitId, row);
       if (!inputs) return;
-      const chunks = stored.map(decodeChunk);
-      await this.computeFit(fitId, inputs, chunks, row.startedAt ?? new Date());
+      const kind = chunkKind(inputs.spec);
+      if (!kind) throw new Error(`fit ${fitId} is not split into chunks`);
+      const merged = mergedOfStored(kind, stored);
+      await this.computeFit(fitId, inputs, merged, row.startedAt ?? new Date());
       await markMerged(this.db, fitId, new Date());
     });
   }
 
   /**
-   * Runs the fit in the fit thread (with `chunks` merged in place of the
-   * permutation test when given) and stores its region rows and result
+   * Runs the fit in the fit thread (with `merged` chunks in place of the
+   * permutation test or the curve's null draws when given) and stores its region rows and result
    * through the fit store, as the embedded path does.
    */
   private async computeFit(
     fitId: string,
     inputs: { spec: ModelSpec; data: FitData },
-    chunks: RearrangementChunk[] | null,
+    merged: MergedChunks | null,
     startedAt: Date,
   ): Promise<void> {
     await this.store.clearRegionRows(fitId);
@@ -397,7 +408,7 @@ export class FitWorker {
           this.store.storeRegionRow(fitId, { position, region, participants, plot }),
         );
       } else if (message.type === "regions-done") regionsDone();
-      else if (message.type === "progress" && !chunks) {
+      else if (message.type === "progress" && !merged) {
         // A fit computed whole reports the thread's progress, at most every half second.
         const now = Date.now();
         if (now - lastProgress < 500) return;
@@ -414,7 +425,7 @@ export class FitWorker {
         });
       }
     });
-    const task: FitTask = { ...inputs, port: channel.port2, ...(chunks ? { chunks } : {}) };
+    const task: FitTask = { ...inputs, port: channel.port2, ...(merged ? { merged } : {}) };
     const controller = new AbortController();
     let outcome: FitTaskOutcome;
     try {

@@ -6,6 +6,7 @@
  */
 import { StatsError } from "../errors";
 import type { LinearPermutationResult, SharedLinearPermutationInput } from "../permutation";
+import type { CurveStatistics } from "../specification-curve/joint";
 
 export interface RunFitOptions {
   onProgress?: (fraction: number) => void;
@@ -16,6 +17,13 @@ export interface RunFitOptions {
    * return (a fit whose chunks worker processes computed merges them here).
    */
   linearPermutation?: (input: SharedLinearPermutationInput) => LinearPermutationResult;
+  /**
+   * Answers the null draws of a specification curve's joint test (a fit
+   * recording "blocks-v1") in place of drawing them here: what
+   * `curveNullBlock` gives for blocks 0, 1, … in order, concatenated (a
+   * fit whose blocks threads or worker processes computed merges them here).
+   */
+  curveNulls?: () => readonly CurveStatistics[];
 }
 
 /** Confidence level of every interval in a fit. */

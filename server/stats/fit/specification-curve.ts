@@ -403,7 +403,10 @@ export function runSpecificationCurve(prep: Prepared, options: RunFitOptions): F
       if (shouldCancel?.()) cancelled();
       onProgress?.(Math.min(1, nulls.length / m));
     };
-    if (s.rearrangementStreams === "blocks-v1")
+    if (s.rearrangementStreams === "blocks-v1" && options.curveNulls) {
+      nulls.push(...options.curveNulls());
+      if (nulls.length !== m) fail(`internal: ${nulls.length} null draws merged of ${m}`);
+    } else if (s.rearrangementStreams === "blocks-v1")
       for (let b = 0; b * CURVE_BLOCK_DRAWS < m; b++)
         draw(
           createBlockRng(s.seed, b),

@@ -1,11 +1,18 @@
 import { describe, expect, it } from "vitest";
 import { type FitData, modelSpecSchema } from "../../../contract/spec";
+import runChunkTask from "../../../server/jobs/chunk-task";
 import {
+  type ChunkResult,
   chunkedFit,
   chunkPlace,
   chunkTask,
+  chunkTaskOf,
   decodeChunk,
   encodeChunk,
+  type FitChunks,
+  mergedChunks,
+  mergedOfStored,
+  mergeOptions,
 } from "../../../server/jobs/fit-chunks";
 import runPermutationTask from "../../../server/jobs/permutation-task";
 import { mergedLinearPermutationTest } from "../../../server/stats/permutation";
@@ -70,7 +77,10 @@ describe("a fit's permutation test in chunks", () => {
     const control = new SharedArrayBuffer(8);
     // Computed in reverse order, each through its stored form.
     const stored = Array.from({ length: fit.chunks }, (_, k) => fit.chunks - 1 - k).map((c) =>
-      encodeChunk(fit, c, runPermutationTask(chunkTask(fit, c, control))),
+      encodeChunk(fit, c, {
+        kind: "permutation",
+        counts: runPermutationTask(chunkTask(fit, c, control)),
+      }),
     );
     const chunks = stored.map(decodeChunk);
     const merged = runFit(spec, data, {
@@ -79,5 +89,91 @@ describe("a fit's permutation test in chunks", () => {
     const whole = runFit(spec, data);
     expect(JSON.stringify(merged)).toBe(JSON.stringify(whole));
     expect(whole.regions[0].pAdjusted).toBeGreaterThan(0);
+  });
+});
+
+/** 50 participants, three regions; one trait value and one motion value missing. */
+function curveData(): FitData {
+  const rng = createRng(21);
+  const participants = Array.from({ length: 50 }, (_, i) => `sub-${i + 1}`);
+  const trait = participants.map((_, i) => (i === 4 ? null : normalDraw(rng)));
+  const age = participants.map(() => 20 + 30 * rng.next());
+  const fd = participants.map((_, i) => (i === 9 ? null : 0.6 * rng.next()));
+  const regions = ["insula", "amygdala", "precuneus"];
+  const values = regions.map(() =>
+    Float64Array.from(participants, (_, i) => 0.01 * (age[i] ?? 0) + normalDraw(rng)),
+  );
+  return {
+    participants,
+    regions,
+    values,
+    numericColumns: { trait, age, mean_fd: fd },
+    categoricalColumns: {},
+  };
+}
+
+const curve = modelSpecSchema.parse({
+  kind: "specification-curve",
+  regions: ["amygdala"],
+  predictor: "trait",
+  specifications: {
+    estimators: ["ols", "huber", "rank"],
+    covariateSets: [[], ["age"]],
+    exclusionRules: [{ column: "mean_fd", op: ">", value: 0.4, reason: "motion" }],
+  },
+  inference: "permutation",
+  resamples: 60,
+  seed: 5,
+  rearrangementStreams: "blocks-v1",
+});
+
+function unwrap<T>(outcome: { ok: true; value: unknown } | { ok: false; message: string }): T {
+  if (!outcome.ok) throw new Error(outcome.message);
+  return outcome.value as T;
+}
+
+describe("a specification curve's joint test in chunks", () => {
+  const data = curveData();
+
+  it("is split into one chunk per null block, each sent only the curve's region", () => {
+    const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec: curve, data }));
+    // 60 draws in blocks of 25: 25, 25, 10 (CURVE_BLOCK_DRAWS).
+    expect(plan.kind).toBe("curve");
+    expect(plan.chunks).toBe(3);
+    expect(plan.kind === "curve" && plan.data.regions).toEqual(["amygdala"]);
+    const { rearrangementStreams: _, ...oneStream } = curve;
+    expect(
+      unwrap(runChunkTask({ type: "plan", spec: oneStream as typeof curve, data })),
+    ).toBeNull();
+  });
+
+  it("chunks computed apart in any order, stored and merged give the curve computed in one piece", () => {
+    const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec: curve, data }));
+    const control = new SharedArrayBuffer(8);
+    const stored = [2, 0, 1].map((c) =>
+      encodeChunk(plan, c, unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control)))),
+    );
+    expect(stored.map((r) => r.rearrangements)).toEqual([10, 25, 25]);
+    const merged = runFit(curve, data, mergeOptions(mergedOfStored("curve", stored)));
+    const whole = runFit(curve, data);
+    expect(JSON.stringify(merged)).toBe(JSON.stringify(whole));
+    // Not all at the floor 1/61: the null draws decide the p-values.
+    expect(whole.jointTest?.pMedian).toBeGreaterThan(1 / 61);
+    // The in-memory merge (threads) gives the same.
+    const results = [0, 1, 2].map((c) =>
+      unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control))),
+    );
+    const again = runFit(curve, data, mergeOptions(mergedChunks(plan, results)));
+    expect(JSON.stringify(again)).toBe(JSON.stringify(whole));
+  });
+
+  it("refuses merged null draws that are not the fit's number", () => {
+    const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec: curve, data }));
+    const control = new SharedArrayBuffer(8);
+    const first = unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, 0, control)));
+    const nulls = first.kind === "curve" ? first.nulls : [];
+    expect(() => runFit(curve, data, { curveNulls: () => nulls })).toThrow(
+      /25 null draws merged of 60/,
+    );
   });
 });

@@ -1,0 +1,55 @@
+/**
+ * Worker-thread task for a split fit's chunks (fit-chunks.ts), in the
+ * embedded path's chunk pool (fit-jobs.ts) and in worker processes
+ * (server/worker/fit-worker.ts):
+ *
+ * - `{ type: "plan", spec, data }`: the fit's chunks (`fitChunks`), or null
+ *   when it is not split — the preparation and estimates a permutation
+ *   test's chunks need, off the request thread.
+ * - `{ type: "permutation", task }`: one chunk of a least-squares
+ *   permutation test (permutation-task.ts).
+ * - `{ type: "curve", spec, data, block }`: one null block of a
+ *   specification curve's joint test (`curveNullBlock`).
+ *
+ * A statistical precondition comes back as `{ ok: false, code, message }`
+ * (the fit's reason for failing: it would fail the same way on any try);
+ * any other error is thrown. Threads compute only — no database, no files —
+ * and run at a lower priority than the request thread (thread-priority.ts).
+ */
+import type { FitData, ModelSpec } from "../../contract/spec";
+import { StatsError } from "../stats/errors";
+import { curveNullBlock } from "../stats/fit/specification-curve";
+import { type ChunkResult, type FitChunks, fitChunks } from "./fit-chunks";
+import runPermutationTask, { type PermutationTask } from "./permutation-task";
+import { lowerWorkerThreadPriority } from "./thread-priority";
+
+// Chunks run behind the request thread (see thread-priority.ts).
+lowerWorkerThreadPriority();
+
+export type ChunkTask =
+  | { type: "permutation"; task: PermutationTask }
+  | { type: "curve"; spec: ModelSpec; data: FitData; block: number };
+
+export type ChunkTaskInput = ChunkTask | { type: "plan"; spec: ModelSpec; data: FitData };
+
+export type ChunkTaskOutcome<T> =
+  | { ok: true; value: T }
+  | { ok: false; code: string; message: string };
+
+/** Computes one chunk (or plans a fit); see the module comment. */
+export default function runChunkTask(
+  input: ChunkTaskInput,
+): ChunkTaskOutcome<ChunkResult | FitChunks | null> {
+  try {
+    if (input.type === "plan") return { ok: true, value: fitChunks(input.spec, input.data) };
+    if (input.type === "permutation")
+      return { ok: true, value: { kind: "permutation", counts: runPermutationTask(input.task) } };
+    return {
+      ok: true,
+      value: { kind: "curve", nulls: curveNullBlock(input.spec, input.data, input.block) },
+    };
+  } catch (e) {
+    if (e instanceof StatsError) return { ok: false, code: e.code, message: e.message };
+    throw e;
+  }
+}
