@@ -27,7 +27,7 @@ import {
   smallSamplePaperCaution,
 } from "./cautions";
 import { dateWords } from "./dates";
-import { ruleText } from "./exclusion-rules";
+import { type RuleExclusion, ruleText } from "./exclusion-rules";
 import { estimatorWords } from "./labels";
 import { curveChoices } from "./specification-curve";
 import { secondPersonSignOffLabel } from "./sign-off";
@@ -139,6 +139,8 @@ export interface MethodsInput {
     readonly regions: readonly RegionResult[];
     readonly prediction?: PredictionBlock;
     readonly n?: number;
+    /** The participants each of the model's exclusion rules left out (an association or two-group model with rules). */
+    readonly ruleExclusions?: readonly RuleExclusion[];
   };
   /** The data versions the fit ran on. */
   datasets: { brain: MethodsDataFile; participants: MethodsDataFile | null };
@@ -301,6 +303,22 @@ function joinSentences(input: MethodsInput): string[] {
   return out;
 }
 
+/**
+ * The model's exclusion rules, each with how many participants it left out
+ * (counted by the fit), or nothing for a model without rules.
+ */
+function ruleSentences(spec: ModelSpec, found: readonly RuleExclusion[] | undefined): string[] {
+  const rules = spec.exclusionRules ?? [];
+  if (rules.length === 0) return [];
+  const parts = rules.map((rule, k) => {
+    const n = found?.[k]?.participants.length;
+    return n === undefined ? ruleText(rule) : `${ruleText(rule)}, ${count(n, "participant")}`;
+  });
+  return [
+    `The model's exclusion rules, part of the model before it was fitted, left out every participant meeting one of them: ${parts.join("; ")}; a participant with a missing value in a rule's column was not left out by that rule.`,
+  ];
+}
+
 function setAsideSentence(spec: ModelSpec): string {
   const asides = spec.setAside;
   if (asides.length === 0) return "No participant was set aside.";
@@ -323,7 +341,9 @@ function setAsideSentence(spec: ModelSpec): string {
     parts.push(
       `${count(people, "participant")} from some regions only (${count(pairs.size, "participant–region pair")})`,
     );
-  return `The team set aside ${list(parts)}; every set-aside has a written reason recorded in the study's audit log, and no participant was excluded automatically.`;
+  const automatic =
+    (spec.exclusionRules ?? []).length > 0 ? "" : ", and no participant was excluded automatically";
+  return `The team set aside ${list(parts)}; every set-aside has a written reason recorded in the study's audit log${automatic}.`;
 }
 
 function dataSentences(input: MethodsInput, spec: ModelSpec): string[] {
@@ -334,6 +354,7 @@ function dataSentences(input: MethodsInput, spec: ModelSpec): string[] {
     );
   }
   out.push(setAsideSentence(spec));
+  out.push(...ruleSentences(spec, input.result.ruleExclusions));
   const n = nRange(input.result.regions);
   if (spec.kind === "reliability") {
     out.push(

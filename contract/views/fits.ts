@@ -5,6 +5,7 @@
  * participants' diagnostics; the one-region preview with the current
  * set-asides. No server imports, so the web app can use it.
  */
+import type { ExclusionRule } from "../exclusion-rules";
 import type { FitPlanView } from "./plans";
 import type { RegionResult } from "../spec";
 
@@ -41,6 +42,15 @@ export interface FitSetAsideView {
   /** Who set the participant aside and when (null when no matching record is found). */
   createdBy: { id: string; name: string | null } | null;
   createdAt: string | null;
+}
+
+/** A rule of the fit's model (its `exclusionRules`) and whom it left out, as the fit view shows it. */
+export interface FitRuleExclusionView {
+  rule: ExclusionRule;
+  /** How many participants it left out; null until the fit is done. */
+  count: number | null;
+  /** Their ids; null when participant ids are withheld from the caller or the fit is not done. */
+  participants: string[] | null;
 }
 
 /** What the fits list and the fit view show of a fit's lineage. */
@@ -137,6 +147,8 @@ export interface FitView extends FitSummaryView {
   result: FitResultSummary | null;
   /** Each set-aside the fit applied, with who set it aside and when (participant ids withheld when not visible). */
   setAsides: FitSetAsideView[];
+  /** The model's exclusion rules, each with whom it left out (empty for a model without rules). */
+  ruleExclusions: FitRuleExclusionView[];
   /** Who approved the fit for sealing, and its seal { by, at, sha256, intact, singlePersonSignOff } (services/sealing.ts). */
   approval: Publication["approval"];
   seal: Publication["seal"];

@@ -22,6 +22,7 @@ import { eq, inArray } from "drizzle-orm";
 import type { Queryable } from "../../db/client";
 import { datasetVersions, fitSeals, models, type Fit } from "../../db/schema";
 import { toCsv, type CsvCell } from "../intake/export-csv";
+import type { RuleExclusion } from "../../contract/exclusion-rules";
 import { buildMethodsText, type MethodsInput, type MethodsText } from "../../contract/methods-text";
 import { correctionLabels } from "../../contract/labels";
 import type { PredictionBlock } from "../../contract/prediction";
@@ -162,6 +163,7 @@ export async function methodsOf(
       regions,
       prediction: (fit.result as { prediction?: PredictionBlock }).prediction,
       n: (fit.result as { n?: number }).n,
+      ruleExclusions: (fit.result as { ruleExclusions?: RuleExclusion[] }).ruleExclusions,
     },
     datasets: {
       brain: { fileName: brain.fileName, version: brain.version, sha256: brain.sha256 },

@@ -35,6 +35,7 @@ import { conflict, notFound } from "../http/errors";
 import { idSchema } from "../http/validate";
 import type { FitJobs } from "../jobs/fit-jobs";
 import { decodeRegionRows } from "../jobs/region-rows";
+import type { RuleExclusion } from "../../contract/exclusion-rules";
 import { circularityCaution } from "../../contract/model-form";
 import { type Recipe, RecipeSpecError, buildRecipe, specOfRecipe } from "../../contract/recipe";
 import {
@@ -47,6 +48,7 @@ import {
 } from "../../contract/spec";
 import { FIT_LEVEL, runFit } from "../stats/run-fit";
 import type {
+  FitRuleExclusionView,
   DatasetRef,
   FitLineage,
   FitProgress,
@@ -374,7 +376,9 @@ async function doneResultOf(
     .where(eq(fits.id, fitId));
   const text = row?.text ?? "null";
   const result = deepFreeze(JSON.parse(text) as FitResultSummary);
-  const shown = deepFreeze({ ...result, regions: result.regions.map(viewRegion) });
+  // The ids a model's rules left out go in the view's head (ruleExclusions), never in the shown result.
+  const { ruleExclusions: _ids, ...rest } = result;
+  const shown = deepFreeze({ ...rest, regions: result.regions.map(viewRegion) });
   const entry: DoneResult = { finishedAt: stamp, result, shown, chars: text.length, hash: null };
   if (hit) {
     cache.entries.delete(fitId);
@@ -501,6 +505,11 @@ export async function fitViewParts(
       spec: readableSpec(row.recipe),
     }),
   );
+  const ruleExclusions = ruleExclusionViews(
+    readableSpec(row.recipe),
+    stored?.result.ruleExclusions as RuleExclusion[] | undefined,
+    participantsVisible,
+  );
   const head: FitView = {
     ...summary,
     model: { ...summary.model, caution: summary.model.circular ? circularityCaution : null },
@@ -512,11 +521,28 @@ export async function fitViewParts(
     recipe: participantsVisible ? (row.recipe as Record<string, unknown>) : null,
     result: null,
     setAsides,
+    ruleExclusions,
     approval,
     seal,
     plan,
   };
   return { head, result: shown?.result ?? null, resultStamp: shown?.stamp ?? "" };
+}
+
+/** The model's rules with whom each left out (counts and ids once the fit is done; ids only when visible). */
+function ruleExclusionViews(
+  spec: ModelSpec | null,
+  found: readonly RuleExclusion[] | undefined,
+  participantsVisible: boolean,
+): FitRuleExclusionView[] {
+  return (spec?.exclusionRules ?? []).map((rule, k) => {
+    const ids = found?.[k]?.participants ?? null;
+    return {
+      rule,
+      count: ids ? ids.length : null,
+      participants: ids && participantsVisible ? [...ids] : null,
+    };
+  });
 }
 
 /**

@@ -564,4 +564,30 @@ describe("methods paragraph: counts and lists", () => {
     );
     expect(single.text).not.toContain("the same in every region");
   });
+
+  it("states a model's exclusion rules with how many each left out, and no longer says no one was excluded automatically", () => {
+    const rules = [
+      { column: "mean_fd", op: ">", value: 0.5, reason: "motion" },
+      { column: "accuracy", op: "<", value: 0.6, reason: "task not done" },
+    ];
+    const base = input({ ...association, exclusionRules: rules }, [
+      region("L_insula", 60, monteCarlo),
+    ]);
+    const t = buildMethodsText({
+      ...base,
+      result: {
+        ...base.result,
+        ruleExclusions: [
+          { rule: rules[0] as never, participants: ["sub-01", "sub-02", "sub-05"] },
+          { rule: rules[1] as never, participants: ["sub-07"] },
+        ],
+      },
+    }).text;
+    // Counts as the result lists them (3 and 1).
+    expect(t).toContain(
+      "The model's exclusion rules, part of the model before it was fitted, left out every participant meeting one of them: mean_fd > 0.5 (motion), 3 participants; accuracy < 0.6 (task not done), 1 participant; a participant with a missing value in a rule's column was not left out by that rule.",
+    );
+    expect(t).toContain("recorded in the study's audit log.");
+    expect(t).not.toContain("no participant was excluded automatically");
+  });
 });
