@@ -25,12 +25,19 @@
  *   se_j = σ̂·√[(XᵀX)⁻¹]_jj. t = b_j/se_j; rlm prints no p-value, the p
  *   given here is from Student t on n − p df (common practice).
  *
+ * Each weighted least-squares step is Householder QR (Golub & Van Loan 2013,
+ * Algorithm 5.2.1) with the arithmetic of qrDecompose + solveLinearModel
+ * (linear-model.ts), done in a reusable workspace without forming what the
+ * iteration does not use (thin Q, hat values, per-step standard errors and
+ * p-values); the unweighted decomposition of the start serves the standard
+ * errors. Same numbers, bit for bit, as decomposing and solving afresh at
+ * every step (tested against that).
+ *
  * Cost O(iterations · n·p²).
  */
-import { median } from "./descriptive";
+import { median, selectInPlace } from "./descriptive";
 import { studentTQuantile, studentTTwoSidedP } from "./distributions";
 import { StatsError, require } from "./errors";
-import { qrDecompose, solveLinearModel, unscaledCovariance } from "./linear-model";
 
 export type RobustPsi = "huber" | "bisquare";
 
@@ -57,6 +64,16 @@ export interface RobustFit {
   changes: number[];
 }
 
+export interface RobustOptions {
+  psi: RobustPsi;
+  tuning?: number;
+  start?: "ls" | "huber";
+  maxIterations?: number;
+  acc?: number;
+  level?: number;
+  columnNames?: readonly string[];
+}
+
 function weightOf(psi: RobustPsi, u: number, tuning: number): number {
   if (psi === "huber") {
     const a = Math.abs(u);
@@ -73,96 +90,219 @@ function derivativeOf(psi: RobustPsi, u: number, tuning: number): number {
   return t < 1 ? (1 - t) * (1 - 5 * t) : 0;
 }
 
-function weightedFit(
-  x: ArrayLike<number>,
-  n: number,
-  p: number,
-  y: ArrayLike<number>,
-  w: Float64Array | null,
-  names: readonly string[],
-) {
-  const xs = new Float64Array(n * p);
-  const ys = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    const sw = w ? Math.sqrt(w[i]) : 1;
-    ys[i] = y[i] * sw;
-    for (let j = 0; j < p; j++) xs[i * p + j] = x[i * p + j] * sw;
-  }
-  const fit = solveLinearModel(qrDecompose(xs, n, p, names, { thin: false }), ys);
-  const residuals = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    let f = 0;
-    for (let j = 0; j < p; j++) f += x[i * p + j] * fit.coefficients[j];
-    residuals[i] = y[i] - f;
-  }
-  return { coefficients: fit.coefficients, residuals };
+/**
+ * Scratch space of robust fits of one size (n participants, p
+ * coefficients): the IRLS loop writes into it and allocates nothing, so a
+ * caller fitting many responses or designs of the same size (the null draws
+ * of a specification curve) makes it once with `robustWorkspace(n, p)`.
+ */
+export interface RobustWorkspace {
+  readonly n: number;
+  readonly p: number;
+  /** Weighted design, column-major n×p, overwritten by the Householder vectors. */
+  readonly a: Float64Array;
+  readonly colNorm: Float64Array;
+  readonly beta: Float64Array;
+  readonly r: Float64Array;
+  readonly rInverse: Float64Array;
+  /** R⁻¹ of the unweighted design, for the standard errors. */
+  readonly rInverseX: Float64Array;
+  readonly z: Float64Array;
+  readonly coefficients: Float64Array;
+  readonly residualsA: Float64Array;
+  readonly residualsB: Float64Array;
+  readonly scratch: Float64Array;
+  readonly weights: Float64Array;
+  readonly se: Float64Array;
 }
 
-function madAboutZero(r: Float64Array): number {
-  const a = new Float64Array(r.length);
-  for (let i = 0; i < r.length; i++) a[i] = Math.abs(r[i]);
-  return median(a) / 0.6745;
+export function robustWorkspace(n: number, p: number): RobustWorkspace {
+  return {
+    n,
+    p,
+    a: new Float64Array(n * p),
+    colNorm: new Float64Array(p),
+    beta: new Float64Array(p),
+    r: new Float64Array(p * p),
+    rInverse: new Float64Array(p * p),
+    rInverseX: new Float64Array(p * p),
+    z: new Float64Array(n),
+    coefficients: new Float64Array(p),
+    residualsA: new Float64Array(n),
+    residualsB: new Float64Array(n),
+    scratch: new Float64Array(n),
+    weights: new Float64Array(n),
+    se: new Float64Array(p),
+  };
 }
 
 /**
- * M-estimation of y on the row-major n×p design x. Throws StatsError for
- * n ≤ p, non-finite values, a rank-deficient design, or when no residual lies
- * inside the ψ function's central region (the standard error is undefined).
+ * Weighted least squares of y on the row-major n×p design x with weights w
+ * (null: all 1): Householder QR of √w·x and the solve of √w·y, with the same
+ * arithmetic, in the same order, as qrDecompose followed by
+ * solveLinearModel, so the coefficients are the same to the last bit.
+ * Writes the coefficients to ws.coefficients, R⁻¹ to ws.rInverse and the
+ * residuals y − x·b (unweighted) to `out`. Throws StatsError naming a
+ * collinear column, as qrDecompose.
  */
-export function robustLinearModel(
+function weightedSolve(
+  ws: RobustWorkspace,
   x: ArrayLike<number>,
-  n: number,
-  p: number,
   y: ArrayLike<number>,
-  options: {
-    psi: RobustPsi;
-    tuning?: number;
-    start?: "ls" | "huber";
-    maxIterations?: number;
-    acc?: number;
-    level?: number;
-    columnNames?: readonly string[];
-  },
-): RobustFit {
-  const { psi, maxIterations = 20, acc = 1e-4 } = options;
-  const tuning = options.tuning ?? (psi === "huber" ? HUBER_K : BISQUARE_C);
-  const start = options.start ?? (psi === "bisquare" ? "huber" : "ls");
-  const names = options.columnNames ?? Array.from({ length: p }, (_, j) => `column ${j + 1}`);
+  w: Float64Array | null,
+  names: readonly string[],
+  out: Float64Array,
+): void {
+  const { n, p, a, colNorm, beta, r, rInverse, z, coefficients } = ws;
+  colNorm.fill(0);
+  for (let i = 0; i < n; i++) {
+    const sw = w ? Math.sqrt(w[i]) : 1;
+    const yi = y[i] * sw;
+    if (!Number.isFinite(yi))
+      throw new StatsError(`solveLinearModel requires finite responses (row ${i + 1})`);
+    z[i] = yi;
+    for (let j = 0; j < p; j++) {
+      const value = x[i * p + j] * sw;
+      if (!Number.isFinite(value))
+        throw new StatsError(`qrDecompose requires finite values (row ${i + 1}, ${names[j]})`);
+      a[j * n + i] = value;
+      colNorm[j] += value * value;
+    }
+  }
+  for (let k = 0; k < p; k++) {
+    const off = k * n;
+    let norm2 = 0;
+    for (let i = k; i < n; i++) norm2 += a[off + i] * a[off + i];
+    const norm = Math.sqrt(norm2);
+    if (!(norm > 1e-7 * Math.sqrt(colNorm[k])) || colNorm[k] === 0) {
+      throw new StatsError(
+        colNorm[k] === 0
+          ? `the design is rank deficient: column '${names[k]}' is all zero`
+          : `the design is rank deficient: column '${names[k]}' is a linear combination of the columns before it`,
+      );
+    }
+    const alpha = a[off + k] > 0 ? -norm : norm;
+    a[off + k] -= alpha;
+    const vtv = norm2 - 2 * alpha * (a[off + k] + alpha) + alpha * alpha;
+    beta[k] = vtv > 0 ? 2 / vtv : 0;
+    r[k * p + k] = alpha;
+    for (let j = k + 1; j < p; j++) {
+      const oj = j * n;
+      let s = 0;
+      for (let i = k; i < n; i++) s += a[off + i] * a[oj + i];
+      s *= beta[k];
+      for (let i = k; i < n; i++) a[oj + i] -= s * a[off + i];
+      r[k * p + j] = a[oj + k];
+    }
+  }
+  for (let j = 0; j < p; j++) {
+    rInverse[j * p + j] = 1 / r[j * p + j];
+    for (let i = j - 1; i >= 0; i--) {
+      let s = 0;
+      for (let k = i + 1; k <= j; k++) s += r[i * p + k] * rInverse[k * p + j];
+      rInverse[i * p + j] = -s / r[i * p + i];
+    }
+  }
+  // z ← Qᵀ(√w·y)
+  for (let k = 0; k < p; k++) {
+    if (beta[k] === 0) continue;
+    const off = k * n;
+    let s = 0;
+    for (let i = k; i < n; i++) s += a[off + i] * z[i];
+    s *= beta[k];
+    for (let i = k; i < n; i++) z[i] -= s * a[off + i];
+  }
+  for (let i = 0; i < p; i++) {
+    let s = 0;
+    for (let k = i; k < p; k++) s += rInverse[i * p + k] * z[k];
+    coefficients[i] = s;
+  }
+  for (let i = 0; i < n; i++) {
+    let f = 0;
+    for (let j = 0; j < p; j++) f += x[i * p + j] * coefficients[j];
+    out[i] = y[i] - f;
+  }
+}
+
+/** median(|r|)/0.6745 — the same order statistics as descriptive.ts's median, found in `scratch`. */
+function madAboutZero(r: Float64Array, scratch: Float64Array): number {
+  const n = r.length;
+  let nan = false;
+  for (let i = 0; i < n; i++) {
+    const v = Math.abs(r[i]);
+    if (Number.isNaN(v)) nan = true;
+    scratch[i] = v;
+  }
+  if (nan) return median(scratch) / 0.6745;
+  const h = n >> 1;
+  const upper = selectInPlace(scratch, h);
+  if (n % 2 === 1) return upper / 0.6745;
+  let lower = scratch[0];
+  for (let i = 1; i < h; i++) if (scratch[i] > lower) lower = scratch[i];
+  return (0.5 * (lower + upper)) / 0.6745;
+}
+
+interface CoreFit {
+  /** The final residuals: one of the workspace's residual arrays. */
+  residuals: Float64Array;
+  scale: number;
+  iterations: number;
+  converged: boolean;
+  changes: number[];
+  df: number;
+}
+
+/**
+ * The fit in the workspace: IRLS, then the standard errors of every
+ * coefficient into ws.se (the checks of robustLinearModel included).
+ */
+function fitCore(
+  ws: RobustWorkspace,
+  x: ArrayLike<number>,
+  y: ArrayLike<number>,
+  psi: RobustPsi,
+  tuning: number,
+  start: "ls" | "huber",
+  maxIterations: number,
+  acc: number,
+  names: readonly string[],
+): CoreFit {
+  const { n, p } = ws;
   require(n > p, "robustLinearModel requires more participants than coefficients");
   require(tuning > 0, "robustLinearModel requires a positive tuning constant");
   for (let i = 0; i < n; i++) {
     if (!Number.isFinite(y[i]))
       throw new StatsError(`robustLinearModel requires finite responses (row ${i + 1})`);
   }
-  let coefficients: Float64Array;
+  require(p >= 1 && n >= p, "qrDecompose requires at least as many rows as columns");
+  require(x.length === n * p, "qrDecompose requires a design of n·p entries");
   let residuals: Float64Array;
   if (start === "huber" && psi !== "huber") {
-    const h = robustLinearModel(x, n, p, y, {
-      psi: "huber",
-      maxIterations,
-      acc,
-      columnNames: names,
-    });
-    coefficients = h.coefficients;
-    residuals = h.residuals;
+    // The converged Huber fit (its own checks included) is the start.
+    residuals = fitCore(ws, x, y, "huber", HUBER_K, "ls", maxIterations, acc, names).residuals;
   } else {
-    ({ coefficients, residuals } = weightedFit(x, n, p, y, null, names));
+    residuals = ws.residualsA;
+    weightedSolve(ws, x, y, null, names, residuals);
+    ws.rInverseX.set(ws.rInverse);
   }
-  let scale = madAboutZero(residuals);
-  const weights = new Float64Array(n).fill(1);
+  let spare = residuals === ws.residualsA ? ws.residualsB : ws.residualsA;
+  const weights = ws.weights;
+  let scale = maxIterations >= 1 ? 0 : madAboutZero(residuals, ws.scratch);
   const changes: number[] = [];
   let converged = false;
   let iterations = 0;
   for (let iter = 1; iter <= maxIterations; iter++) {
     iterations = iter;
     const old = residuals;
-    scale = madAboutZero(old);
+    scale = madAboutZero(old, ws.scratch);
     if (scale === 0) {
       converged = true;
       break;
     }
     for (let i = 0; i < n; i++) weights[i] = weightOf(psi, old[i] / scale, tuning);
-    ({ coefficients, residuals } = weightedFit(x, n, p, y, weights, names));
+    weightedSolve(ws, x, y, weights, names, spare);
+    residuals = spare;
+    spare = old;
     let num = 0;
     let den = 0;
     for (let i = 0; i < n; i++) {
@@ -183,7 +323,7 @@ export function robustLinearModel(
   const df = n - p;
   let sumPsi2 = 0;
   let meanD = 0;
-  const deriv = new Float64Array(n);
+  const deriv = ws.scratch;
   for (let i = 0; i < n; i++) {
     const u = residuals[i] / scale;
     const w = weightOf(psi, u, tuning);
@@ -199,16 +339,51 @@ export function robustLinearModel(
   varD /= n - 1;
   const kappa = 1 + (p * varD) / (n * meanD * meanD);
   const stddev = Math.sqrt(sumPsi2 / df) * (kappa / meanD);
-  const cov = unscaledCovariance(qrDecompose(x, n, p, names, { thin: false }));
-  const se = new Float64Array(p);
+  // (XᵀX)⁻¹ = R⁻¹R⁻ᵀ of the unweighted design: its diagonal, as unscaledCovariance sums it.
+  const rInv = ws.rInverseX;
+  for (let j = 0; j < p; j++) {
+    let c = 0;
+    for (let k = j; k < p; k++) c += rInv[j * p + k] * rInv[j * p + k];
+    ws.se[j] = stddev * Math.sqrt(c);
+    require(ws.se[j] > 0, "robustLinearModel requires a positive standard error");
+  }
+  return { residuals, scale, iterations, converged, changes, df };
+}
+
+function settings(p: number, options: RobustOptions) {
+  const { psi, maxIterations = 20, acc = 1e-4 } = options;
+  const tuning = options.tuning ?? (psi === "huber" ? HUBER_K : BISQUARE_C);
+  const start = options.start ?? (psi === "bisquare" ? "huber" : "ls");
+  const names = options.columnNames ?? Array.from({ length: p }, (_, j) => `column ${j + 1}`);
+  return { psi, maxIterations, acc, tuning, start, names };
+}
+
+/**
+ * M-estimation of y on the row-major n×p design x. Throws StatsError for
+ * n ≤ p, non-finite values, a rank-deficient design, or when no residual lies
+ * inside the ψ function's central region (the standard error is undefined).
+ */
+export function robustLinearModel(
+  x: ArrayLike<number>,
+  n: number,
+  p: number,
+  y: ArrayLike<number>,
+  options: RobustOptions,
+): RobustFit {
+  const { psi, maxIterations, acc, tuning, start, names } = settings(p, options);
+  require(n > p, "robustLinearModel requires more participants than coefficients");
+  const ws = robustWorkspace(n, p);
+  const core = fitCore(ws, x, y, psi, tuning, start, maxIterations, acc, names);
+  const { residuals, scale, df } = core;
+  const coefficients = Float64Array.from(ws.coefficients);
+  const se = Float64Array.from(ws.se);
   const t = new Float64Array(p);
   const pValues = new Float64Array(p);
   for (let j = 0; j < p; j++) {
-    se[j] = stddev * Math.sqrt(cov[j * p + j]);
-    require(se[j] > 0, "robustLinearModel requires a positive standard error");
     t[j] = coefficients[j] / se[j];
     pValues[j] = studentTTwoSidedP(t[j], df);
   }
+  const weights = new Float64Array(n);
   for (let i = 0; i < n; i++) weights[i] = weightOf(psi, residuals[i] / scale, tuning);
   return {
     psi,
@@ -220,13 +395,38 @@ export function robustLinearModel(
     se,
     t,
     pValues,
-    residuals,
+    residuals: Float64Array.from(residuals),
     weights,
     scale,
-    iterations,
-    converged,
-    changes,
+    iterations: core.iterations,
+    converged: core.converged,
+    changes: core.changes,
   };
+}
+
+/**
+ * Coefficient j alone of the M-estimation robustLinearModel makes — the
+ * same estimate, standard error, t and p, to the last bit — fitted in a
+ * caller's workspace of the design's size (robustWorkspace(n, p)), for
+ * callers that fit many designs or responses of one size and need one
+ * coefficient: nothing is allocated per iteration, and only that
+ * coefficient's p-value is computed. Same errors as robustLinearModel.
+ */
+export function robustCoefficient(
+  x: ArrayLike<number>,
+  y: ArrayLike<number>,
+  j: number,
+  workspace: RobustWorkspace,
+  options: RobustOptions,
+): { estimate: number; se: number; t: number; p: number } {
+  const p = workspace.p;
+  require(j >= 0 && j < p, "robustCoefficient requires a coefficient of the design");
+  const { psi, maxIterations, acc, tuning, start, names } = settings(p, options);
+  const { df } = fitCore(workspace, x, y, psi, tuning, start, maxIterations, acc, names);
+  const estimate = workspace.coefficients[j];
+  const se = workspace.se[j];
+  const t = estimate / se;
+  return { estimate, se, t, p: studentTTwoSidedP(t, df) };
 }
 
 /** Two-sided Student-t interval for coefficient j of a robust fit (n − p df). */

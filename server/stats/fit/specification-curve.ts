@@ -52,6 +52,7 @@ import { studentTTwoSidedP } from "../distributions";
 import { estimateRegion, rankedDesign } from "../fit-methods";
 import type { Estimator as RegionEstimator } from "../region-data";
 import { averageRanks } from "../ranks";
+import { robustCoefficient, robustWorkspace } from "../robust-regression";
 import { designFor, estimateRegionWork } from "./estimate";
 import { type Prepared, prepare, regionRows } from "./prepare";
 
@@ -226,10 +227,12 @@ export function drawRanks(
  * The null draws of any other association specification when every
  * participant has a trait value: the specification's participants, design
  * and brain values are fixed, so each draw only puts the permuted trait into
- * the tested column and runs the estimator (estimateRegion) on it — the
- * same call the ordinary fit makes, without rebuilding the design and its
- * unused decomposition (tested against the ordinary fit). Returns null
- * where this does not apply.
+ * the tested column of one kept copy of the design and runs the estimator on
+ * it — estimateRegion, the call the ordinary fit makes, or for Huber and
+ * bisquare robustCoefficient in one workspace kept for the specification,
+ * which gives robustLinearModel's estimate and p to the last bit — without
+ * rebuilding the design and its unused decomposition (tested against the
+ * ordinary fit). Returns null where this does not apply.
  */
 export function swappedNull(
   prep: Prepared,
@@ -243,18 +246,35 @@ export function swappedNull(
   const y = Float64Array.from(rows, (i) => prep.data.values[r][i]);
   const n = design.n;
   const p = design.p;
+  const estimator = prep.spec.estimator as RegionEstimator;
+  const x = Float64Array.from(design.x);
+  const xs = new Float64Array(n);
+  const put = (perm: Int32Array) => {
+    for (let k = 0; k < n; k++) {
+      const v = trait[perm[rows[k]]] as number;
+      xs[k] = v;
+      x[k * p + tested] = v;
+    }
+  };
+  if ((estimator === "huber" || estimator === "bisquare") && n > p) {
+    const workspace = robustWorkspace(n, p);
+    const options = { psi: estimator, columnNames: design.columnNames } as const;
+    return (perm) => {
+      put(perm);
+      const fit = robustCoefficient(x, y, tested, workspace, options);
+      return { estimate: fit.estimate, p: fit.p };
+    };
+  }
   return (perm) => {
-    const xs = Float64Array.from(rows, (i) => trait[perm[i]] as number);
-    const x = Float64Array.from(design.x);
-    for (let k = 0; k < n; k++) x[k * p + tested] = xs[k];
+    put(perm);
     const est = estimateRegion({
       kind: "association",
-      estimator: prep.spec.estimator as RegionEstimator,
+      estimator,
       y,
-      design: { ...design, x },
+      design: { ...design, x: Float64Array.from(x) },
       tested,
       covariateColumns,
-      x: xs,
+      x: Float64Array.from(xs),
       groupIndicator: null,
       level: FIT_LEVEL,
     });

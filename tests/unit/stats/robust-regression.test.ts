@@ -1,6 +1,19 @@
 import { describe, expect, it } from "vitest";
-import { fitLinearModel } from "../../../server/stats/linear-model";
-import { robustLinearModel } from "../../../server/stats/robust-regression";
+import { median } from "../../../server/stats/descriptive";
+import { studentTTwoSidedP } from "../../../server/stats/distributions";
+import {
+  fitLinearModel,
+  qrDecompose,
+  solveLinearModel,
+  unscaledCovariance,
+} from "../../../server/stats/linear-model";
+import {
+  type RobustPsi,
+  robustCoefficient,
+  robustLinearModel,
+  robustWorkspace,
+} from "../../../server/stats/robust-regression";
+import { createRng, normalDraw } from "../../../server/stats/rng";
 import { stackloss, withIntercept } from "./reference-data";
 
 const design = withIntercept(
@@ -104,5 +117,190 @@ describe("Tukey bisquare M-estimation", () => {
       expect(Math.abs(fromHuber.coefficients[j] - fromLs.coefficients[j])).toBeLessThan(
         1e-3 * Math.max(1, Math.abs(fromLs.coefficients[j])),
       );
+  });
+});
+
+/**
+ * The straightforward IRLS (each step decomposes √w·X afresh with
+ * qrDecompose and solves with solveLinearModel; the MAD by descriptive.ts's
+ * median; the standard errors from unscaledCovariance of a fresh QR of X),
+ * written out here as the reference the workspace implementation must match
+ * bit for bit (same algorithm, same arithmetic; common practice, no source).
+ */
+function straightforward(
+  x: Float64Array,
+  n: number,
+  p: number,
+  y: Float64Array,
+  psi: RobustPsi,
+  start: "ls" | "huber",
+  maxIterations = 20,
+) {
+  const k = psi === "huber" ? 1.345 : 4.685;
+  const weightOf = (u: number) => {
+    if (psi === "huber") return Math.abs(u) <= k ? 1 : k / Math.abs(u);
+    const a = Math.min(1, Math.abs(u / k));
+    return (1 - a * a) * (1 - a * a);
+  };
+  const derivativeOf = (u: number) => {
+    if (psi === "huber") return Math.abs(u) <= k ? 1 : 0;
+    const t = (u / k) * (u / k);
+    return t < 1 ? (1 - t) * (1 - 5 * t) : 0;
+  };
+  const solve = (w: Float64Array | null) => {
+    const xs = new Float64Array(n * p);
+    const ys = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      const sw = w ? Math.sqrt(w[i]) : 1;
+      ys[i] = y[i] * sw;
+      for (let j = 0; j < p; j++) xs[i * p + j] = x[i * p + j] * sw;
+    }
+    const b = solveLinearModel(qrDecompose(xs, n, p), ys).coefficients;
+    const r = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      let f = 0;
+      for (let j = 0; j < p; j++) f += x[i * p + j] * b[j];
+      r[i] = y[i] - f;
+    }
+    return { b, r };
+  };
+  const mad = (r: Float64Array) => median(Array.from(r, Math.abs)) / 0.6745;
+  let { b, r } =
+    start === "huber" && psi !== "huber"
+      ? (() => {
+          const h = robustLinearModel(x, n, p, y, { psi: "huber", maxIterations });
+          return { b: h.coefficients, r: h.residuals };
+        })()
+      : solve(null);
+  let scale = mad(r);
+  let iterations = 0;
+  const changes: number[] = [];
+  for (let iter = 1; iter <= maxIterations; iter++) {
+    iterations = iter;
+    const old = r;
+    scale = mad(old);
+    if (scale === 0) break;
+    ({ b, r } = solve(Float64Array.from(old, (v) => weightOf(v / scale))));
+    let num = 0;
+    let den = 0;
+    for (let i = 0; i < n; i++) {
+      num += (old[i] - r[i]) * (old[i] - r[i]);
+      den += old[i] * old[i];
+    }
+    const change = Math.sqrt(num / Math.max(1e-20, den));
+    changes.push(change);
+    if (change <= 1e-4) break;
+  }
+  let sumPsi2 = 0;
+  let meanD = 0;
+  const deriv = Float64Array.from(r, (v) => derivativeOf(v / scale));
+  for (let i = 0; i < n; i++) {
+    const w = weightOf(r[i] / scale);
+    sumPsi2 += r[i] * w * (r[i] * w);
+    meanD += deriv[i];
+  }
+  meanD /= n;
+  let varD = 0;
+  for (let i = 0; i < n; i++) varD += (deriv[i] - meanD) * (deriv[i] - meanD);
+  varD /= n - 1;
+  const kappa = 1 + (p * varD) / (n * meanD * meanD);
+  const sd = Math.sqrt(sumPsi2 / (n - p)) * (kappa / meanD);
+  const cov = unscaledCovariance(qrDecompose(x, n, p));
+  const se = Array.from({ length: p }, (_, j) => sd * Math.sqrt(cov[j * p + j]));
+  const t = se.map((v, j) => b[j] / v);
+  return {
+    coefficients: Array.from(b),
+    se,
+    t,
+    pValues: t.map((v) => studentTTwoSidedP(v, n - p)),
+    residuals: Array.from(r),
+    scale,
+    iterations,
+    changes,
+  };
+}
+
+describe("the workspace IRLS against the straightforward computation", () => {
+  // Random designs with an intercept, heavy-tailed responses (every fifth an outlier) and a 0/1 column.
+  function sample(seed: number, n: number, p: number) {
+    const rng = createRng(seed);
+    const x = new Float64Array(n * p);
+    const y = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      x[i * p] = 1;
+      for (let j = 1; j < p; j++) x[i * p + j] = j === 3 ? (i % 3 === 0 ? 1 : 0) : normalDraw(rng);
+      y[i] = 0.3 * (p > 1 ? x[i * p + 1] : 0) + normalDraw(rng) * (i % 5 === 0 ? 6 : 1);
+    }
+    return { x, y };
+  }
+
+  it("every output equal to the last bit: Huber and bisquare, both starts, odd and even n", () => {
+    for (let trial = 0; trial < 24; trial++) {
+      const n = 30 + trial * 7;
+      const p = 1 + (trial % 5);
+      const { x, y } = sample(100 + trial, n, p);
+      for (const [psi, start] of [
+        ["huber", "ls"],
+        ["bisquare", "ls"],
+        ["bisquare", "huber"],
+      ] as const) {
+        const ref = straightforward(x, n, p, y, psi, start);
+        const fit = robustLinearModel(x, n, p, y, { psi, start });
+        const label = `trial ${trial}, ${psi} from ${start}`;
+        expect(Array.from(fit.coefficients), label).toEqual(ref.coefficients);
+        expect(Array.from(fit.se), label).toEqual(ref.se);
+        expect(Array.from(fit.t), label).toEqual(ref.t);
+        expect(Array.from(fit.pValues), label).toEqual(ref.pValues);
+        expect(Array.from(fit.residuals), label).toEqual(ref.residuals);
+        expect(fit.scale, label).toBe(ref.scale);
+        expect(fit.iterations, label).toBe(ref.iterations);
+        expect(fit.changes, label).toEqual(ref.changes);
+      }
+    }
+  });
+
+  it("stops after the iteration cap at the same point", () => {
+    const { x, y } = sample(7, 41, 3);
+    const ref = straightforward(x, 41, 3, y, "bisquare", "ls", 2);
+    const fit = robustLinearModel(x, 41, 3, y, { psi: "bisquare", start: "ls", maxIterations: 2 });
+    expect(Array.from(fit.coefficients)).toEqual(ref.coefficients);
+    expect(fit.scale).toBe(ref.scale);
+  });
+
+  it("robustCoefficient in one reused workspace gives robustLinearModel's coefficient, se, t and p", () => {
+    const n = 57;
+    const p = 4;
+    const ws = robustWorkspace(n, p);
+    for (let trial = 0; trial < 12; trial++) {
+      const { x, y } = sample(300 + trial, n, p);
+      for (const psi of ["huber", "bisquare"] as const) {
+        const full = robustLinearModel(x, n, p, y, { psi });
+        for (let j = 0; j < p; j++) {
+          const one = robustCoefficient(x, y, j, ws, { psi });
+          expect(one.estimate).toBe(full.coefficients[j]);
+          expect(one.se).toBe(full.se[j]);
+          expect(one.t).toBe(full.t[j]);
+          expect(one.p).toBe(full.pValues[j]);
+        }
+      }
+    }
+  });
+
+  it("robustCoefficient keeps the errors: a collinear column is named, a design of the wrong size refused", () => {
+    const n = 12;
+    const x = new Float64Array(n * 3);
+    for (let i = 0; i < n; i++) {
+      x[i * 3] = 1;
+      x[i * 3 + 1] = i;
+      x[i * 3 + 2] = 2 * i;
+    }
+    const y = Float64Array.from({ length: n }, (_, i) => Math.sin(i));
+    const ws = robustWorkspace(n, 3);
+    expect(() =>
+      robustCoefficient(x, y, 1, ws, { psi: "huber", columnNames: ["(intercept)", "a", "b"] }),
+    ).toThrow(/column 'b' is a linear combination/);
+    expect(() => robustCoefficient(x.subarray(3), y, 1, ws, { psi: "huber" })).toThrow(
+      /n·p entries/,
+    );
   });
 });
