@@ -7,6 +7,7 @@ import { useState } from "react";
 import { StyleSheet, View } from "react-native";
 import { Choice } from "./choice";
 import { PowerCurve } from "./charts/power-curve";
+import { PowerCurveDownloads } from "./planner/power-curve-downloads";
 import { Button, Card, Field, Heading, Notice, Txt } from "./ui";
 import { palette, space } from "./theme";
 import { usePlanner, type PlannerAnswer, type PlannerQuestionInput } from "../hooks/use-planner";
@@ -207,8 +208,8 @@ export function PlannerScreen() {
           <Button label="Plan the study" onPress={submit} busy={planner.isPending} testID="plan" />
         </Card>
         <View style={styles.answer}>
-          {planner.data ? (
-            <Answer answer={planner.data} design={design} power={num(power) ?? 0.8} />
+          {planner.data && planner.variables ? (
+            <Answer answer={planner.data} question={planner.variables} />
           ) : null}
         </View>
       </View>
@@ -218,13 +219,14 @@ export function PlannerScreen() {
 
 function Answer({
   answer,
-  design,
-  power,
+  question,
 }: {
   answer: PlannerAnswer;
-  design: Design;
-  power: number;
+  /** The question this answer is to (the figure downloads ask it again), not the form as edited since. */
+  question: PlannerQuestionInput;
 }) {
+  const { design } = question;
+  const power = plannerQuestionSchema.parse(question).power;
   const effectName = design === "correlation" ? "r" : "d";
   const sentence =
     design === "two-group" && answer.nPerGroup
@@ -258,6 +260,7 @@ function Answer({
         nLabel="Participants (total)"
         testID="power-curve"
       />
+      <PowerCurveDownloads question={question} />
       <Txt kind="caption">Method: {answer.method}.</Txt>
     </Card>
   );

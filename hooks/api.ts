@@ -41,19 +41,44 @@ export async function apiFetch<T>(path: string, init: RequestInit = {}): Promise
   }
   const text = await response.text();
   const body: unknown = text ? safeJson(text) : null;
-  if (!response.ok) {
-    // Any non-JSON answer (a proxy's error page) has no envelope.
-    const envelope = (body as Partial<ErrorBody> | null)?.error;
-    // A validation failure is said in sentences, without field paths (the details keep them).
-    const plain = envelope?.code === "validation_failed" ? validationWords(envelope.details) : null;
+  if (!response.ok) throw errorOf(response.status, body);
+  return body as T;
+}
+
+/** The ApiError of a refused answer's body (any non-JSON answer, a proxy's error page, has no envelope). */
+function errorOf(status: number, body: unknown): ApiError {
+  const envelope = (body as Partial<ErrorBody> | null)?.error;
+  // A validation failure is said in sentences, without field paths (the details keep them).
+  const plain = envelope?.code === "validation_failed" ? validationWords(envelope.details) : null;
+  return new ApiError(
+    status,
+    envelope?.code ?? `http_${status}`,
+    plain ?? envelope?.message ?? `The server answered ${status}.`,
+    envelope?.details,
+  );
+}
+
+/** A file the API answers (a figure drawn from a posted question): its bytes, or an ApiError as apiFetch throws. */
+export async function apiFile(path: string, init: RequestInit): Promise<Blob> {
+  const headers = new Headers(init.headers);
+  if (typeof init.body === "string" && !headers.has("Content-Type")) {
+    headers.set("Content-Type", "application/json");
+  }
+  let response: Response;
+  try {
+    response = await fetch(`${apiBase}${path}`, { credentials: "include", ...init, headers });
+  } catch {
     throw new ApiError(
-      response.status,
-      envelope?.code ?? `http_${response.status}`,
-      plain ?? envelope?.message ?? `The server answered ${response.status}.`,
-      envelope?.details,
+      0,
+      "network",
+      "Covarion's server could not be reached. Check your connection and try again.",
     );
   }
-  return body as T;
+  if (!response.ok) {
+    const text = await response.text();
+    throw errorOf(response.status, text ? safeJson(text) : null);
+  }
+  return response.blob();
 }
 
 /** JSON body helper for mutations. */
