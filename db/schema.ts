@@ -25,6 +25,7 @@ import {
   type AnyPgColumn,
   boolean,
   check,
+  customType,
   doublePrecision,
   index,
   integer,
@@ -275,7 +276,8 @@ export const datasetVersions = pgTable(
  * shortest round-trip decimals separated by commas (empty = missing), in
  * slot order; `categories` the category cells (null = missing). Text is
  * used for the numbers because the embedded database reads and writes long
- * text an order of magnitude faster than long float arrays or bytea.
+ * text an order of magnitude faster than long float arrays or bytea. A
+ * brain table's numbers are also in `dataset_columns`, which fits read.
  */
 export const datasetRows = pgTable(
   "dataset_rows",
@@ -292,6 +294,32 @@ export const datasetRows = pgTable(
     categories: jsonb("categories").$type<(string | null)[]>().notNull(),
   },
   (t) => [primaryKey({ columns: [t.datasetId, t.position] })],
+);
+
+/** Bytes as PostgreSQL `bytea`; read and written as base64 text through SQL (see datasetColumns). */
+const bytea = customType<{ data: string; driverData: string }>({ dataType: () => "bytea" });
+
+/**
+ * The number columns of a brain-table version stored since migration 0017,
+ * one row per slot (region values and standard errors, the `slot` of
+ * `columns`): the column's values in row order (`dataset_rows.position`
+ * 0, 1, …) as little-endian IEEE-754 doubles, NaN where missing, so a fit
+ * loads them without parsing text (server/services/dataset-columns.ts).
+ * They travel as base64 through SQL's `encode`/`decode`: both drivers
+ * answer text alike, and the embedded database moves long text far faster
+ * than `bytea` in its own wire form. Versions stored before have none and
+ * are read from their rows' text. Immutable like the rows.
+ */
+export const datasetColumns = pgTable(
+  "dataset_columns",
+  {
+    datasetId: text("dataset_id")
+      .notNull()
+      .references(() => datasetVersions.id),
+    slot: integer("slot").notNull(),
+    values: bytea("values").notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.datasetId, t.slot] })],
 );
 
 /** A confirmed id mapping (brain-table id → participant-sheet id) of a study's roster. */

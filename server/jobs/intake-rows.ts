@@ -13,6 +13,9 @@
  * end to end in one UTF-8 buffer, which moves to the main thread without
  * copying.
  *
+ * A brain table's number columns also go as they are (Float64Arrays, one
+ * per slot) for their binary form (services/dataset-columns.ts).
+ *
  * Pure: no database, no files. Cost: O(rows × columns).
  */
 import type { IdentifierDecisionRecord, StoredColumn } from "../../contract/views/datasets";
@@ -57,6 +60,13 @@ export interface EncodedVersion {
   csv: Uint8Array<ArrayBuffer>;
   /** End offset (in `csv`) of each chunk. */
   chunkEnds: number[];
+  /**
+   * Brain tables: every number column in slot order (region values and
+   * standard errors), one value per stored row in row order, NaN where
+   * missing — stored in binary form (`dataset_columns`). Empty for
+   * participant sheets.
+   */
+  numberColumns: Float64Array[];
 }
 
 interface StoredRow {
@@ -75,6 +85,7 @@ interface Description {
   columns: StoredColumn[];
   dropped: string[];
   participantCount: number;
+  numberColumns: Float64Array[];
 }
 
 /** Numbers as shortest round-trip decimals separated by commas; empty = missing. */
@@ -222,12 +233,15 @@ function encodeBrain(b: BrainTable, raw: RawTable, writer: CsvChunks): Descripti
   let slot = 0;
   const valueSlots: number[] = [];
   const seSlots: (number | null)[] = [];
+  const numberColumns: Float64Array[] = [];
   b.regions.forEach((region, r) => {
+    numberColumns.push(b.values[r] as Float64Array);
     valueSlots.push(slot);
     columns.push({ name: region, type: "number", role: "region", region, slot: slot++ });
     if (b.standardErrors[r] !== null) {
       const seName = b.layout === "wide" ? `${region}${b.seSuffix}` : `${region}_se`;
       columns.push({ name: seName, type: "number", role: "se", region, slot });
+      numberColumns.push(b.standardErrors[r] as Float64Array);
       seSlots.push(slot++);
     } else seSlots.push(null);
   });
@@ -268,6 +282,7 @@ function encodeBrain(b: BrainTable, raw: RawTable, writer: CsvChunks): Descripti
     columns,
     dropped: b.columns.filter((c) => c.role === "dropped").map((c) => c.name),
     participantCount: ids.size,
+    numberColumns,
   };
 }
 
@@ -310,5 +325,6 @@ function encodeSheet(s: ParticipantSheet, writer: CsvChunks): Description {
     columns,
     dropped: [...s.dropped],
     participantCount: s.ids.length,
+    numberColumns: [],
   };
 }

@@ -91,9 +91,15 @@ export default async function runIntakeTask(
       confirmTable(raw, task.kind, task.confirmation),
     );
     const outcome: IntakeTaskOutcome = { ok: true, op: "encode", encoded, sha256 };
-    // The rows' buffer moves to the main thread instead of being copied.
+    // The rows' buffer and the number columns' buffers move to the main thread instead of being
+    // copied; a column that is part of a larger buffer is copied out first (a buffer moves whole).
+    encoded.numberColumns = encoded.numberColumns.map((c) =>
+      c.byteOffset === 0 && c.byteLength === c.buffer.byteLength ? c : c.slice(),
+    );
+    const buffers = new Set<ArrayBufferLike>([encoded.csv.buffer]);
+    for (const c of encoded.numberColumns) buffers.add(c.buffer);
     const movable = {
-      [Piscina.transferableSymbol]: [encoded.csv.buffer],
+      [Piscina.transferableSymbol]: [...buffers],
       [Piscina.valueSymbol]: outcome,
     };
     return Piscina.move(movable as unknown as ArrayBuffer);

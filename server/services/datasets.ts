@@ -29,6 +29,7 @@ import { rm } from "node:fs/promises";
 import { and, asc, desc, eq, getTableName, gte, inArray, lt, sql } from "drizzle-orm";
 import { claim, copyCsv, type Database, type Queryable, tryClaim } from "../../db/client";
 import {
+  datasetColumns,
   datasetRows,
   datasetVersions,
   users,
@@ -50,6 +51,7 @@ import type { UploadLimits } from "../jobs/intake-file";
 import { type IntakeJobs, intakeJobs } from "../jobs/intake-jobs";
 import { type EncodedVersion, STORED_ROW_COLUMNS, decodeNumbers } from "../jobs/intake-rows";
 import { recordEvent } from "./audit";
+import { forEachColumn, hasColumns, storeColumns } from "./dataset-columns";
 import { applyCurrentPlanRules } from "./plans";
 import type { PreviewStore, StoredPreview } from "./preview-store";
 
@@ -302,6 +304,10 @@ export async function storeVersion(
       return next;
     });
     try {
+      // A brain table's number columns in binary form first, then let them go (they can be
+      // hundreds of megabytes) while the rows are stored.
+      await storeColumns(db, input.id, encoded.numberColumns);
+      encoded.numberColumns = [];
       await loadRows(db, encoded);
       await db.transaction(async (tx) => {
         await tx
@@ -367,8 +373,9 @@ async function loadRows(db: Database, encoded: EncodedVersion): Promise<void> {
   }
 }
 
-/** Deletes an incomplete version and its rows (the trigger refuses this for complete versions), rows in batches. */
+/** Deletes an incomplete version, its number columns and its rows (the triggers refuse this for complete versions), rows in batches. */
 async function removeVersion(db: Database, id: string, rowCount: number): Promise<void> {
+  await db.delete(datasetColumns).where(eq(datasetColumns.datasetId, id));
   for (let from = 0; from < rowCount; from += DELETE_BATCH) {
     await db
       .delete(datasetRows)
@@ -643,19 +650,46 @@ export async function forEachRowPage(
   }
 }
 
-/** A stored brain-table version as the intake's BrainTable (the form fits run on). */
+/**
+ * A stored brain-table version as the intake's BrainTable (the form fits
+ * run on). Versions stored since migration 0017 give their values from the
+ * binary number columns (services/dataset-columns.ts) and only the row
+ * keys (participant, session, source row) from their rows; older ones
+ * decode their rows' numbers from text. Both give the same numbers.
+ */
 export async function loadBrainTable(db: Queryable, v: DatasetVersion): Promise<BrainTable> {
   const regionColumns = v.columns.filter((c) => c.role === "region");
-  const numberCount = v.columns.filter((c) => c.type === "number").length;
   const n = v.rowCount;
-  const values = regionColumns.map(() => new Float64Array(n));
-  const standardErrors = regionColumns.map((rc) =>
-    v.columns.some((c) => c.role === "se" && c.region === rc.region) ? new Float64Array(n) : null,
-  );
   const seSlot = regionColumns.map(
     (rc) => v.columns.find((c) => c.role === "se" && c.region === rc.region)?.slot ?? -1,
   );
+  const binary = await hasColumns(db, v.id);
+  // Binary columns arrive as arrays of their own; text fills arrays made here.
+  const empty = new Float64Array(0);
+  const values: Float64Array[] = regionColumns.map(() => (binary ? empty : new Float64Array(n)));
+  const standardErrors: (Float64Array | null)[] = seSlot.map((s) =>
+    s < 0 ? null : binary ? empty : new Float64Array(n),
+  );
   const entries: BrainTable["entries"][number][] = [];
+  if (binary) {
+    const region = new Map(regionColumns.map((rc, r) => [rc.slot as number, r]));
+    const se = new Map<number, number>();
+    seSlot.forEach((s, r) => {
+      if (s >= 0) se.set(s, r);
+    });
+    await forEachColumn(db, v.id, n, [...region.keys(), ...se.keys()], (slot, column) => {
+      const r = region.get(slot);
+      if (r !== undefined) values[r] = column;
+      const q = se.get(slot);
+      if (q !== undefined) standardErrors[q] = column;
+    });
+    await forEachRowKeyPage(db, v, (rows) => {
+      for (const row of rows)
+        entries.push({ id: row.participantId, session: row.session, row: row.sourceRow });
+    });
+    return brainTableOf(v, regionColumns, entries, values, standardErrors);
+  }
+  const numberCount = v.columns.filter((c) => c.type === "number").length;
   await forEachRowPage(db, v, (rows, first) => {
     rows.forEach((row, j) => {
       const k = first + j;
@@ -668,6 +702,46 @@ export async function loadBrainTable(db: Queryable, v: DatasetVersion): Promise<
       entries.push({ id: row.participantId, session: row.session, row: row.sourceRow });
     });
   });
+  return brainTableOf(v, regionColumns, entries, values, standardErrors);
+}
+
+/** Rows' keys read per query when the values come from the binary columns. */
+const KEY_PAGE = 20_000;
+
+/** Calls `each` with the keys of a version's rows (participant, session, source row) page by page, in order. */
+async function forEachRowKeyPage(
+  db: Queryable,
+  v: DatasetVersion,
+  each: (rows: readonly Pick<DatasetRow, "participantId" | "session" | "sourceRow">[]) => void,
+): Promise<void> {
+  for (let first = 0; first < v.rowCount; first += KEY_PAGE) {
+    const rows = await db
+      .select({
+        participantId: datasetRows.participantId,
+        session: datasetRows.session,
+        sourceRow: datasetRows.sourceRow,
+      })
+      .from(datasetRows)
+      .where(
+        and(
+          eq(datasetRows.datasetId, v.id),
+          gte(datasetRows.position, first),
+          lt(datasetRows.position, first + KEY_PAGE),
+        ),
+      )
+      .orderBy(asc(datasetRows.position));
+    each(rows);
+    if (first + KEY_PAGE < v.rowCount) await nextTurn();
+  }
+}
+
+function brainTableOf(
+  v: DatasetVersion,
+  regionColumns: readonly DatasetVersion["columns"][number][],
+  entries: BrainTable["entries"][number][],
+  values: Float64Array[],
+  standardErrors: (Float64Array | null)[],
+): BrainTable {
   return {
     file: v.fileName,
     layout: (v.layout ?? "wide") as BrainTable["layout"],
