@@ -4,6 +4,13 @@
  * A pool of worker threads (piscina) sized to the machine —
  * `os.availableParallelism() − 1`, at least 1, so one core stays free for
  * requests — runs `runFit` off the request thread (server/jobs/fit-task.ts).
+ * A split fit (fit-chunks.ts: a blocked least-squares permutation test or
+ * a specification curve's joint test) first has its chunks computed on a
+ * second pool of `os.availableParallelism()` threads (chunk-task.ts, every
+ * core, all at the lower thread priority, so the request thread stays
+ * first in line), which also plans it; its fit thread then merges them
+ * (`FitTask.merged`) — the numbers of the fit computed in one piece.
+ * Progress: the chunk share done is the first 90 %.
  * The main thread alone reads and writes the database (one process owns
  * it), always through the `FitJobStore` it is given (services/fit-store.ts
  * implements it; no job imports a service): it builds the fit's data from
@@ -45,6 +52,15 @@ import type { FitData } from "../../contract/spec";
 import type { FitProgress, FitStatus } from "../../contract/views/fits";
 import { IntakeError } from "../intake/errors";
 import type { IdMapping } from "../intake/roster";
+import type { ChunkTaskInput, ChunkTaskOutcome } from "./chunk-task";
+import {
+  type ChunkResult,
+  chunkKind,
+  chunkTaskOf,
+  type FitChunks,
+  type MergedChunks,
+  mergedChunks,
+} from "./fit-chunks";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "./fit-task";
 import { secondsLeftOf } from "./time-left";
 import { workerPool } from "./worker-pool";
@@ -146,8 +162,10 @@ export interface FitJobsOptions {
   /** Without it, a fit's events reach only this process's listeners. */
   events?: FitEventRelay;
   data: FitDataSource;
-  /** Worker threads (default: available parallelism − 1, at least 1). */
+  /** Worker threads for whole fits and merges (default: available parallelism − 1, at least 1). */
   threads?: number;
+  /** Worker threads for a split fit's chunks (default: available parallelism). */
+  chunkThreads?: number;
   clock?: () => Date;
   log?: (error: unknown, context: string) => void;
   /** Least time between two progress writes to the database (default 500 ms). */
@@ -168,10 +186,20 @@ export function defaultFitThreads(): number {
   return Math.max(1, availableParallelism() - 1);
 }
 
+/** Default chunk pool size: every core (its threads run at the lower priority). */
+export function defaultChunkThreads(): number {
+  return Math.max(1, availableParallelism());
+}
+
+/** Share of a split fit's progress its chunks make; the merge makes the rest. */
+const CHUNK_SHARE = 0.9;
+
 interface Running {
   controller: AbortController;
   startedAt: number | null;
   progress: FitProgress;
+  /** The fit thread's progress f is reported as from + span·f (a split fit's merge: the last 10 %). */
+  span: { from: number; span: number };
   lastWrite: number;
   /** Region rows are stored one after another as the worker sends them. */
   storing: Promise<void>;
@@ -183,6 +211,7 @@ interface Running {
 
 export class FitJobs {
   readonly threads: number;
+  readonly chunkThreads: number;
   /** Built fit data, shared with previews and region detail. */
   readonly data: FitDataSource;
   private readonly store: FitJobStore;
@@ -190,6 +219,7 @@ export class FitJobs {
   private readonly log: (error: unknown, context: string) => void;
   private readonly progressWriteMs: number;
   private pool: Piscina | null = null;
+  private chunkPool: Piscina | null = null;
   private readonly warm: boolean;
   private readonly running = new Map<string, Running>();
   private readonly pending = new Set<Promise<void>>();
@@ -205,6 +235,11 @@ export class FitJobs {
     this.threads = options.threads ?? defaultFitThreads();
     if (!(Number.isInteger(this.threads) && this.threads >= 1))
       throw new Error(`FitJobs: threads must be a positive whole number (got ${this.threads})`);
+    this.chunkThreads = options.chunkThreads ?? defaultChunkThreads();
+    if (!(Number.isInteger(this.chunkThreads) && this.chunkThreads >= 1))
+      throw new Error(
+        `FitJobs: chunkThreads must be a positive whole number (got ${this.chunkThreads})`,
+      );
     this.clock = options.clock ?? (() => new Date());
     this.log = options.log ?? ((error, context) => console.error(`[covarion] ${context}:`, error));
     this.progressWriteMs = options.progressWriteMs ?? 500;
@@ -245,6 +280,7 @@ export class FitJobs {
       controller: new AbortController(),
       startedAt: null,
       progress: { fraction: 0, secondsLeft: null },
+      span: { from: 0, span: 1 },
       lastWrite: 0,
       storing: Promise.resolve(),
       stored,
@@ -337,9 +373,10 @@ export class FitJobs {
     for (const run of this.running.values()) run.controller.abort(new Error("shutting down"));
     await Promise.allSettled([...this.pending]);
     await this.dispatch?.close();
-    const pool = this.pool;
+    const pools = [this.pool, this.chunkPool];
     this.pool = null;
-    if (pool) await pool.destroy();
+    this.chunkPool = null;
+    await Promise.all(pools.map((pool) => pool?.destroy()));
   }
 
   private getPool(): Piscina {
@@ -351,6 +388,69 @@ export class FitJobs {
       });
     }
     return this.pool;
+  }
+
+  private getChunkPool(): Piscina {
+    if (!this.chunkPool) {
+      this.chunkPool = workerPool("chunk-task.ts", {
+        minThreads: 0,
+        maxThreads: this.chunkThreads,
+        idleTimeout: 60_000,
+      });
+    }
+    return this.chunkPool;
+  }
+
+  /** Runs one chunk task (or a plan) on the chunk pool. */
+  private runChunkTask<T>(
+    input: ChunkTaskInput,
+    signal: AbortSignal,
+  ): Promise<ChunkTaskOutcome<T>> {
+    return this.getChunkPool().run(input, { signal }) as Promise<ChunkTaskOutcome<T>>;
+  }
+
+  /**
+   * A split fit's chunks, computed on the chunk pool (at most one task per
+   * thread in flight); progress is their share done, up to CHUNK_SHARE.
+   * Null when the fit is not split after all; a StatsError's outcome when a
+   * chunk (or the plan) fails a precondition. Throws when aborted.
+   */
+  private async computeChunks(
+    fitId: string,
+    run: Running,
+    spec: FitTask["spec"],
+    data: FitData,
+  ): Promise<MergedChunks | null | { ok: false; code: string; message: string }> {
+    const signal = run.controller.signal;
+    const planned = await this.runChunkTask<FitChunks | null>({ type: "plan", spec, data }, signal);
+    if (!planned.ok) return planned;
+    const plan = planned.value;
+    if (!plan) return null;
+    const control = new Int32Array(new SharedArrayBuffer(8));
+    const results: ChunkResult[] = new Array(plan.chunks);
+    let next = 0;
+    let done = 0;
+    let failed: { ok: false; code: string; message: string } | null = null;
+    const runner = async () => {
+      while (next < plan.chunks && !failed) {
+        const chunk = next++;
+        const outcome = await this.runChunkTask<ChunkResult>(
+          chunkTaskOf(plan, chunk, control.buffer as SharedArrayBuffer),
+          signal,
+        );
+        if (!outcome.ok) {
+          failed ??= outcome;
+          Atomics.store(control, 0, 1);
+          return;
+        }
+        results[chunk] = outcome.value;
+        done++;
+        await this.onProgress(fitId, run, { type: "progress", fraction: done / plan.chunks });
+      }
+    };
+    await Promise.all(Array.from({ length: Math.min(this.chunkThreads, plan.chunks) }, runner));
+    if (failed) return failed;
+    return mergedChunks(plan, results);
   }
 
   /** A fit this process runs changed: its `subscribeAll` listeners here, its listeners everywhere. */
@@ -397,9 +497,25 @@ export class FitJobs {
       if (run.controller.signal.aborted) return;
       // Rows left by an interrupted earlier run of the same fit are replaced.
       await this.store.clearRegionRows(fitId);
+      let merged: MergedChunks | null = null;
+      if (chunkKind(spec)) {
+        await this.onProgress(fitId, run, { type: "started" });
+        run.span = { from: 0, span: CHUNK_SHARE };
+        let chunks: Awaited<ReturnType<FitJobs["computeChunks"]>>;
+        try {
+          chunks = await this.computeChunks(fitId, run, spec, data);
+        } catch (error) {
+          if (run.controller.signal.aborted) return; // cancelled (already marked) or shutting down (left for recovery)
+          this.log(error, `fit ${fitId}: chunks`);
+          return await this.fail(fitId, "internal_error", INTERNAL_FAILURE);
+        }
+        if (chunks && "ok" in chunks) return await this.fail(fitId, chunks.code, chunks.message);
+        merged = chunks;
+        run.span = merged ? { from: CHUNK_SHARE, span: 1 - CHUNK_SHARE } : { from: 0, span: 1 };
+      }
       const channel = new MessageChannel();
       channel.port1.on("message", (message: FitTaskMessage) => this.onMessage(fitId, run, message));
-      const task: FitTask = { spec, data, port: channel.port2 };
+      const task: FitTask = { spec, data, port: channel.port2, ...(merged ? { merged } : {}) };
       let outcome: FitTaskOutcome;
       try {
         outcome = (await this.getPool().run(task, {
@@ -456,6 +572,7 @@ export class FitJobs {
   ): Promise<void> {
     const nowMs = this.clock().getTime();
     if (message.type === "started") {
+      if (run.startedAt !== null) return; // a split fit started with its chunks
       run.startedAt = nowMs;
       if (await this.store.markRunning(fitId, new Date(nowMs)))
         this.emit({
@@ -467,7 +584,7 @@ export class FitJobs {
         });
       return;
     }
-    const fraction = Math.min(1, Math.max(0, message.fraction));
+    const fraction = run.span.from + run.span.span * Math.min(1, Math.max(0, message.fraction));
     const elapsed = run.startedAt === null ? 0 : nowMs - run.startedAt;
     const secondsLeft = secondsLeftOf(fraction, elapsed);
     run.progress = { fraction, secondsLeft };

@@ -158,7 +158,7 @@ describe("a specification curve's joint test in chunks", () => {
     const whole = runFit(curve, data);
     expect(JSON.stringify(merged)).toBe(JSON.stringify(whole));
     // Not all at the floor 1/61: the null draws decide the p-values.
-    expect(whole.jointTest?.pMedian).toBeGreaterThan(1 / 61);
+    expect((whole.jointTest as { pMedian: number }).pMedian).toBeGreaterThan(1 / 61);
     // The in-memory merge (threads) gives the same.
     const results = [0, 1, 2].map((c) =>
       unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control))),
