@@ -156,6 +156,9 @@ function FitBody({
           rules={spec?.specifications?.exclusionRules ?? []}
           region={curve.region}
           planned={fit.plan?.curveChoice}
+          open={
+            canRun && spec ? { studyId: fit.studyId, curve: spec, curveModel: fit.model } : null
+          }
         />
       ) : null}
       {fit.status === "done" && !prediction && !curve && regions.length > 0 ? (

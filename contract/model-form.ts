@@ -113,3 +113,30 @@ export interface ModelView {
 }
 
 export type { ModelSpec, ModelSpecInput };
+
+/** A value with its object keys sorted, so two models' fields compare whatever order they were written in. */
+function sortedKeys(value: unknown): unknown {
+  if (Array.isArray(value)) return value.map(sortedKeys);
+  if (value === null || typeof value !== "object") return value;
+  return Object.fromEntries(
+    Object.keys(value as object)
+      .sort()
+      .filter((k) => (value as Record<string, unknown>)[k] !== undefined)
+      .map((k) => [k, sortedKeys((value as Record<string, unknown>)[k])]),
+  );
+}
+
+/**
+ * True when two models ask the same: their fields equal once every default
+ * is filled in, leaving out the set-aside list (set-asides belong to the
+ * study) and the recorded stream scheme (how a fit draws, not a choice of
+ * the model). Opening a specification of a curve as a fit reuses a model
+ * for which this holds rather than making a duplicate.
+ */
+export function sameModelFields(a: ModelSpecInput, b: ModelSpecInput): boolean {
+  const fields = (s: ModelSpecInput) => {
+    const { setAside: _s, rearrangementStreams: _r, ...rest } = modelSpecSchema.parse(s);
+    return JSON.stringify(sortedKeys(rest));
+  };
+  return fields(a) === fields(b);
+}

@@ -2,7 +2,7 @@
  * The top of a fit, in plain words and within the first screen: the
  * model's name and stage, its question, N over the regions, **Set aside: k**
  * with a disclosure of each set-aside (participant, scope, reason, who and
- * when), the earlier fit it re-runs with what changed, a notice with a
+ * when) and what the model's exclusion rules left out, the earlier fit it re-runs with what changed, a notice with a
  * Refit button when newer data or set-asides exist, a Run again button when
  * the fit was cancelled or failed, and the small-sample caution when a
  * region has fewer than 20 participants.
@@ -23,6 +23,7 @@ import {
   whenWords,
 } from "./lineage-words";
 import { CollapsedCaution } from "./collapsed-caution";
+import { RuleExclusions } from "./rule-exclusions";
 import { smallSampleCaution } from "../../contract/cautions";
 import { planVerdict } from "../../contract/plans";
 import type { ModelSpec, RegionResult } from "../../contract/spec";
@@ -62,6 +63,7 @@ export function FitHeader({
         </Txt>
       ) : null}
       <SetAsideDisclosure fit={fit} />
+      <RuleExclusions rules={fit.ruleExclusions ?? []} />
       {fit.plan ? <PlanVerdict plan={fit.plan} /> : null}
       {fit.refitOf ? <RefitOf fit={fit} /> : null}
       {fit.stale ? <StaleNotice fit={fit} canRun={canRun && !ended(fit)} /> : null}

@@ -10,7 +10,9 @@
  * study's plan names one of the specifications (contract/plans.ts
  * plannedCurveChoice), its column carries a triangle above the curve, the
  * summary says where it falls among the others, and "Show the planned one"
- * selects it. Phone first: the columns scroll sideways when they do not fit.
+ * selects it. Those who may run fits can open the selected specification
+ * as an ordinary fit ("Fit this specification", fit/open-specification.tsx).
+ * Phone first: the columns scroll sideways when they do not fit.
  */
 import { useState } from "react";
 import { Pressable, ScrollView, StyleSheet, View } from "react-native";
@@ -24,6 +26,7 @@ import { formatP, formatPercent, formatValue } from "../charts/number-format";
 import { chart, marks, palette, radius, space } from "../theme";
 import { Button, Card, Heading, Txt } from "../ui";
 import { formatTicks, tickCountFor, tickValues } from "../charts/ticks";
+import { OpenSpecificationButton, type OpenSpecificationContext } from "./open-specification";
 import { curveLayout, specKey } from "./specification-curve-layout";
 
 const ESTIMATE_HEIGHT = 180;
@@ -48,6 +51,8 @@ export function SpecificationCurveView(props: {
     covariates: string[];
     exclusions: number[];
   } | null;
+  /** Set for those who may run fits: the selected specification gets "Fit this specification". */
+  open?: OpenSpecificationContext | null;
 }) {
   const { specifications: specs, summary, jointTest } = props;
   const [width, setWidth] = useState<number>(chart.defaultWidth);
@@ -219,6 +224,13 @@ export function SpecificationCurveView(props: {
             <Txt kind="small">
               {`n = ${chosen.n}; estimate ${formatValue(chosen.estimate)}${chosen.ciLow !== null && chosen.ciHigh !== null ? ` [${formatValue(chosen.ciLow)}, ${formatValue(chosen.ciHigh)}]` : ""}; ${formatP(chosen.p)}`}
             </Txt>
+            {props.open ? (
+              <OpenSpecificationButton
+                context={props.open}
+                index={(selected ?? 0) + 1}
+                choice={chosen}
+              />
+            ) : null}
           </View>
         ) : null}
       </Card>
