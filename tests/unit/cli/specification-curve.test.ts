@@ -81,6 +81,26 @@ beforeAll(async () => {
         })),
       },
     ],
+    // The same specification as a model with the rule as part of it (exclusionRules), as "Fit this specification" makes it.
+    [
+      "ruled",
+      {
+        ...base,
+        kind: "association",
+        predictor: "accuracy",
+        covariates: ["age"],
+        exclusionRules: [{ column: "mean_fd", op: ">", value: 0.5, reason: "motion" }],
+      },
+    ],
+    [
+      "badModelRule",
+      {
+        ...base,
+        kind: "association",
+        predictor: "accuracy",
+        exclusionRules: [{ column: "mean_fd", op: ">", value: "high", reason: "motion" }],
+      },
+    ],
     [
       "badRule",
       {
@@ -128,6 +148,39 @@ describe("recipe command: specification curve", () => {
       expect(Math.abs(spec[key] - ordinary[key])).toBeLessThanOrEqual(
         1e-9 * Math.abs(ordinary[key]),
       );
+  });
+
+  it("fits a model's own exclusion rules to the specification's numbers, lists whom they left out and keeps them in the recipe", () => {
+    const out = JSON.parse((runs.get("curve") as CommandRun).stdout);
+    const run = runs.get("ruled") as CommandRun;
+    expect(run.code, run.stderr).toBe(0);
+    const ruled = JSON.parse(run.stdout);
+    const spec = out.specifications.find(
+      (s: { estimator: string; covariates: string[]; exclusions: number[] }) =>
+        s.estimator === "ols" && s.covariates.join() === "age" && s.exclusions.join() === "0",
+    );
+    const region = ruled.regions[0];
+    expect(region.n).toBe(9);
+    for (const key of ["estimate", "ciLow", "ciHigh", "p"] as const)
+      expect(Math.abs(spec[key] - region[key])).toBeLessThanOrEqual(1e-9 * Math.abs(region[key]));
+    // By hand from the sheet: mean_fd above 0.5 for sub-02 (0.61), sub-06 (0.70), sub-12 (0.55); sub-05 blank, kept.
+    expect(ruled.ruleExclusions).toEqual([
+      {
+        rule: { column: "mean_fd", op: ">", value: 0.5, reason: "motion" },
+        participants: ["sub-02", "sub-06", "sub-12"],
+      },
+    ]);
+    // The recipe it prints carries the rule, so re-running it gives the same numbers.
+    expect(ruled.recipe.exclusionRules).toEqual([
+      { column: "mean_fd", op: ">", value: 0.5, reason: "motion" },
+    ]);
+  });
+
+  it("names the model's rule when its value does not fit a numeric column", () => {
+    const r = runs.get("badModelRule") as CommandRun;
+    expect(r.code).toBe(2);
+    expect(r.stderr).toContain("exclusionRules");
+    expect(r.stderr).toContain("'high' is not a number");
   });
 
   it("names the rule and the column when a rule reads a column the sheet lacks", () => {
