@@ -17,7 +17,7 @@
 import { StatsError } from "../errors";
 import type { Rng } from "../rng";
 import { type ConfoundFit, fitConfounds, residualize } from "./confounds";
-import { crossValidationSplits } from "./folds";
+import { crossValidationSplits, type Split } from "./folds";
 import {
   accumulateHeldSse,
   predictHeld,
@@ -67,16 +67,16 @@ export function defaultLambdaGrid(nTrain: number): number[] {
 }
 
 /**
- * Confound fit (when there are covariates) and ridge basis of the split
- * (train, held). Throws StatsError naming a region that is constant on the
- * training rows or fully explained by the covariates there.
+ * The confound fit (when there are covariates) and the training and held-out
+ * region matrices (row-major, residualized under the training fit) of the
+ * split (train, held). Throws StatsError naming a region that is constant on
+ * the training rows or fully explained by the covariates there.
  */
-export function prepareStage(
+export function stageMatrices(
   data: PredictionData,
   train: Int32Array,
   held: Int32Array,
-  standardize: boolean,
-): PreparedStage {
+): { confounds: ConfoundFit | null; trainMatrix: Float64Array; heldMatrix: Float64Array } {
   const p = data.x.length;
   const nt = train.length;
   const nh = held.length;
@@ -112,7 +112,25 @@ export function prepareStage(
     for (let i = 0; i < nt; i++) trainMatrix[i * p + j] = colTrain[i];
     for (let i = 0; i < nh; i++) heldMatrix[i * p + j] = colHeld[i];
   }
-  const basis = prepareRidge(trainMatrix, heldMatrix, nt, p, data.regions, { standardize });
+  return { confounds, trainMatrix, heldMatrix };
+}
+
+/**
+ * Confound fit (when there are covariates) and ridge basis of the split
+ * (train, held). Throws StatsError as `stageMatrices`.
+ */
+export function prepareStage(
+  data: PredictionData,
+  train: Int32Array,
+  held: Int32Array,
+  standardize: boolean,
+): PreparedStage {
+  const nt = train.length;
+  const nh = held.length;
+  const { confounds, trainMatrix, heldMatrix } = stageMatrices(data, train, held);
+  const basis = prepareRidge(trainMatrix, heldMatrix, nt, data.x.length, data.regions, {
+    standardize,
+  });
   return {
     train,
     held,
@@ -126,9 +144,24 @@ export function prepareStage(
 }
 
 /**
+ * The inner k-fold partition (k = min(5, n_train), unstratified) of a
+ * training set of `nTrain` rows, drawn from `rng`; indices are positions in
+ * the training set.
+ */
+export function drawInnerSplits(nTrain: number, rng: Rng): Split[] {
+  return crossValidationSplits({
+    n: nTrain,
+    folds: Math.min(INNER_FOLDS, nTrain),
+    repeats: 1,
+    rng,
+  });
+}
+
+/**
  * Prepares the split (train, held): its own stage and, unless `lambda` is
  * fixed, the stages of an inner k-fold partition of the training rows
- * (k = min(5, n_train), unstratified, drawn from `rng`). The grid is
+ * (`innerSplits` when planned ahead, else drawn from `rng` by
+ * `drawInnerSplits` after the split's own stage is prepared). The grid is
  * `lambdaGrid` or the default for n_train.
  */
 export function prepareFold(
@@ -139,18 +172,18 @@ export function prepareFold(
     standardize: boolean;
     lambda?: number;
     lambdaGrid?: readonly number[];
-    rng: Rng;
+    rng?: Rng;
+    innerSplits?: readonly Split[] | null;
   },
 ): PreparedFold {
   const outer = prepareStage(data, train, held, options.standardize);
   if (options.lambda !== undefined) return { outer, inner: [], grid: null, lambda: options.lambda };
   const grid = [...(options.lambdaGrid ?? defaultLambdaGrid(train.length))].sort((a, b) => a - b);
-  const innerSplits = crossValidationSplits({
-    n: train.length,
-    folds: Math.min(INNER_FOLDS, train.length),
-    repeats: 1,
-    rng: options.rng,
-  });
+  let innerSplits = options.innerSplits;
+  if (!innerSplits) {
+    if (!options.rng) throw new StatsError("prepareFold needs its inner splits or a generator");
+    innerSplits = drawInnerSplits(train.length, options.rng);
+  }
   const inner = innerSplits.map((s) =>
     prepareStage(
       data,

@@ -11,6 +11,9 @@ import type { Scores } from "../../../contract/prediction";
 
 export type { Scores };
 
+/** Numbers per ScoreSums in a serialised array (`writeTo`, `addFrom`). */
+export const SCORE_SUM_LENGTH = 8;
+
 /** Running sums of (observed, predicted) pairs. */
 export class ScoreSums {
   count = 0;
@@ -32,6 +35,30 @@ export class ScoreSums {
     const e = observed - predicted;
     this.sse += e * e;
     this.sabs += Math.abs(e);
+  }
+
+  /** Writes the sums to `out` from `offset` (SCORE_SUM_LENGTH numbers), for a serialisable partial. */
+  writeTo(out: Float64Array, offset: number): void {
+    out[offset] = this.count;
+    out[offset + 1] = this.so;
+    out[offset + 2] = this.sp;
+    out[offset + 3] = this.soo;
+    out[offset + 4] = this.spp;
+    out[offset + 5] = this.sop;
+    out[offset + 6] = this.sse;
+    out[offset + 7] = this.sabs;
+  }
+
+  /** Adds sums written by `writeTo` (the pairs of another set of rows). */
+  addFrom(sums: Float64Array, offset: number): void {
+    this.count += sums[offset];
+    this.so += sums[offset + 1];
+    this.sp += sums[offset + 2];
+    this.soo += sums[offset + 3];
+    this.spp += sums[offset + 4];
+    this.sop += sums[offset + 5];
+    this.sse += sums[offset + 6];
+    this.sabs += sums[offset + 7];
   }
 
   scores(): Scores {
