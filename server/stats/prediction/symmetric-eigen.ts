@@ -102,16 +102,7 @@ function tridiagonalize(
     // p = τ A₂₂ v (rows of the trailing block, contiguous).
     let pv = 0;
     for (let i = k + 1; i < n; i++) {
-      const row = i * n;
-      let s0 = 0;
-      let s1 = 0;
-      let j = k + 1;
-      for (; j + 1 < n; j += 2) {
-        s0 += a[row + j] * reflectors[vOff + j];
-        s1 += a[row + j + 1] * reflectors[vOff + j + 1];
-      }
-      if (j < n) s0 += a[row + j] * reflectors[vOff + j];
-      const pi = t * (s0 + s1);
+      const pi = t * dotRange(a, i * n, reflectors, vOff, k + 1, n);
       p[i] = pi;
       pv += pi * reflectors[vOff + i];
     }
@@ -119,12 +110,8 @@ function tridiagonalize(
     const half = 0.5 * t * pv;
     for (let i = k + 1; i < n; i++) p[i] -= half * reflectors[vOff + i];
     // A₂₂ ← A₂₂ − v wᵀ − w vᵀ.
-    for (let i = k + 1; i < n; i++) {
-      const row = i * n;
-      const vi = reflectors[vOff + i];
-      const wi = p[i];
-      for (let j = k + 1; j < n; j++) a[row + j] -= vi * p[j] + wi * reflectors[vOff + j];
-    }
+    for (let i = k + 1; i < n; i++)
+      rank2Row(a, i * n, reflectors[vOff + i], p, p[i], reflectors, vOff, k + 1, n);
   }
   if (n >= 2) {
     d[n - 2] = a[(n - 2) * n + n - 2];
@@ -140,21 +127,61 @@ function tridiagonalize(
     if (t === 0) continue;
     const vOff = k * n;
     w.fill(0, k + 1, n);
-    for (let i = k + 1; i < n; i++) {
-      const vi = reflectors[vOff + i];
-      const row = i * n;
-      for (let j = k + 1; j < n; j++) w[j] += vi * q[row + j];
-    }
-    for (let i = k + 1; i < n; i++) {
-      const f = t * reflectors[vOff + i];
-      const row = i * n;
-      for (let j = k + 1; j < n; j++) q[row + j] -= f * w[j];
-    }
+    for (let i = k + 1; i < n; i++) axpyRow(w, 0, reflectors[vOff + i], q, i * n, k + 1, n);
+    for (let i = k + 1; i < n; i++) axpyRow(q, i * n, -t * reflectors[vOff + i], w, 0, k + 1, n);
   }
   // z = Qᵀ.
   const z = new Float64Array(n * n);
   for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) z[j * n + i] = q[i * n + j];
   return z;
+}
+
+/** Σ_{j∈[from,to)} x[xo + j]·y[yo + j]. */
+function dotRange(
+  x: Float64Array,
+  xo: number,
+  y: Float64Array,
+  yo: number,
+  from: number,
+  to: number,
+) {
+  let s0 = 0;
+  let s1 = 0;
+  let j = from;
+  for (; j + 1 < to; j += 2) {
+    s0 += x[xo + j] * y[yo + j];
+    s1 += x[xo + j + 1] * y[yo + j + 1];
+  }
+  if (j < to) s0 += x[xo + j] * y[yo + j];
+  return s0 + s1;
+}
+
+/** a[ao + j] −= vi·w[j] + wi·v[vo + j] for j in [from, to): one row of A − vwᵀ − wvᵀ. */
+function rank2Row(
+  a: Float64Array,
+  ao: number,
+  vi: number,
+  w: Float64Array,
+  wi: number,
+  v: Float64Array,
+  vo: number,
+  from: number,
+  to: number,
+) {
+  for (let j = from; j < to; j++) a[ao + j] -= vi * w[j] + wi * v[vo + j];
+}
+
+/** y[yo + j] += alpha·x[xo + j] for j in [from, to). */
+function axpyRow(
+  y: Float64Array,
+  yo: number,
+  alpha: number,
+  x: Float64Array,
+  xo: number,
+  from: number,
+  to: number,
+) {
+  for (let j = from; j < to; j++) y[yo + j] += alpha * x[xo + j];
 }
 
 /** tql2: implicit QL with Wilkinson-type shifts on the tridiagonal (d, e); z holds vectors as rows. */
