@@ -5,8 +5,10 @@
  * two, and by two of which one is killed with SIGKILL mid-fit, gives the
  * numbers, region rows included, of the same recipe computed by the
  * embedded path (the app's own worker threads); each chunk is stored once;
- * the live workers are listed for an Owner; a cancelled fit stops getting
- * chunks; a fit whose chunk fails on every try ends failed.
+ * the live workers are listed for an Owner; a specification curve's joint
+ * test, split into null blocks, gives the embedded numbers on two workers;
+ * a cancelled fit stops getting chunks; a fit whose chunk fails on every
+ * try ends failed.
  */
 import { type ChildProcess, spawn } from "node:child_process";
 import { join } from "node:path";
@@ -82,9 +84,14 @@ async function waitFor(what: string, check: () => Promise<boolean>, timeoutMs = 
   }
 }
 
-/** A new queued fit with the reference fit's recipe and data, sent to the job queue. */
-async function queueCopyOfReference(options: { send?: boolean } = {}): Promise<string> {
-  const [ref] = await t.db.select().from(fits).where(eq(fits.id, referenceFitId));
+/** A new queued fit with the recipe and data of fit `of` (default: the reference fit), sent to the job queue. */
+async function queueCopyOfReference(
+  options: { send?: boolean; of?: string } = {},
+): Promise<string> {
+  const [ref] = await t.db
+    .select()
+    .from(fits)
+    .where(eq(fits.id, options.of ?? referenceFitId));
   const fit = await insertQueuedFit(t.db, {
     studyId: ref.studyId,
     modelId: ref.modelId,
@@ -211,6 +218,46 @@ describe("fits on worker processes", () => {
     expect(two.status).toBe("done");
     expect(two.result).toEqual(reference.result);
     expect(two.regions).toEqual(reference.regions);
+  }, 180_000);
+
+  it("a specification curve's null blocks on two workers give the embedded path's numbers", async () => {
+    const studyId = await demoStudyWithData(t);
+    const model = await request(t.url)
+      .post(`/api/studies/${studyId}/models`)
+      .set("Cookie", cookie)
+      .send({
+        name: "Accuracy under every reasonable choice, on workers",
+        regionSelection: "anatomical-or-prior",
+        spec: {
+          kind: "specification-curve",
+          predictor: "accuracy",
+          regions: ["L_dlpfc"],
+          specifications: {
+            estimators: ["ols", "huber"],
+            covariateSets: [[], ["age"]],
+            exclusionRules: [{ column: "mean_fd", op: ">", value: 0.5, reason: "motion" }],
+          },
+          inference: "permutation",
+          resamples: 110,
+          seed: 3,
+        },
+      })
+      .expect(201);
+    const embedded = await request(t.url)
+      .post(`/api/studies/${studyId}/fits`)
+      .set("Cookie", cookie)
+      .send({ modelId: model.body.id })
+      .expect(202);
+    await waitForFitStatus(t, cookie, embedded.body.id, ["done"]);
+    const reference = await finished(embedded.body.id);
+    const fitId = await queueCopyOfReference({ of: embedded.body.id });
+    const onWorkers = await finished(fitId);
+    expect(onWorkers.status).toBe("done");
+    expect(onWorkers.result).toEqual(reference.result);
+    // 110 null draws in blocks of 25: five chunks, each stored once.
+    const [plan] = await t.db.select().from(fitRuns).where(eq(fitRuns.fitId, fitId));
+    expect(plan.chunks).toBe(5);
+    expect(await storedChunks(fitId)).toBe(5);
   }, 180_000);
 
   it("a worker killed with SIGKILL mid-fit: the fit still finishes with the same numbers", async () => {
