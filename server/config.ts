@@ -69,6 +69,17 @@ const envSchema = z.object({
     .max(MAX_UPLOAD_MB_CEILING, `at most ${MAX_UPLOAD_MB_CEILING} (the largest size tested)`)
     .default(50),
   MAX_UPLOAD_COLUMNS: z.coerce.number().int().min(2).max(1_000_000).default(20_000),
+  /** Server admins: e-mail addresses, comma-separated, who may read server-wide pages (the worker list). */
+  ADMIN_EMAILS: z
+    .string()
+    .transform((text) =>
+      text
+        .split(",")
+        .map((a) => a.trim().toLowerCase())
+        .filter((a) => a.length > 0),
+    )
+    .pipe(z.array(z.email("a comma-separated list of e-mail addresses")))
+    .optional(),
 });
 
 export type Env = Readonly<Record<string, string | undefined>>;
@@ -105,6 +116,8 @@ export interface Config {
   requestTimeouts: { idleMs: number; totalMs: number };
   /** Uploaded files: most bytes received (MAX_UPLOAD_MB) and most columns in a header (MAX_UPLOAD_COLUMNS). */
   uploads: { maxBytes: number; maxColumns: number };
+  /** Server admins' e-mail addresses, lower-case (ADMIN_EMAILS): they may read the worker list. */
+  adminEmails: string[];
   secrets: Secrets;
 }
 
@@ -114,15 +127,7 @@ export interface Config {
  * variable.
  */
 export function loadConfig(env: Env = process.env): Config {
-  const parsed = envSchema.safeParse(stripEmpty(env));
-  if (!parsed.success) {
-    const issue = parsed.error.issues[0];
-    const name = String(issue?.path[0] ?? "environment");
-    throw new ConfigError(
-      `Configuration error: ${name} ${describeIssue(issue)} (got ${JSON.stringify(env[name] ?? null)}). See .env.example.`,
-    );
-  }
-  const e = parsed.data;
+  const e = parseEnv(envSchema, env);
   const production = e.NODE_ENV === "production";
   const dataDir = resolve(e.DATA_DIR);
   try {
@@ -199,9 +204,37 @@ export function loadConfig(env: Env = process.env): Config {
       idleMs: Math.round(e.REQUEST_IDLE_TIMEOUT_SECONDS * 1000),
       totalMs: Math.round(e.REQUEST_TIMEOUT_SECONDS * 1000),
     },
-    uploads: { maxBytes: e.MAX_UPLOAD_MB * 1024 * 1024, maxColumns: e.MAX_UPLOAD_COLUMNS },
+    uploads: uploadLimitsOf(e),
+    adminEmails: e.ADMIN_EMAILS ?? [],
     secrets,
   };
+}
+
+function uploadLimitsOf(e: { MAX_UPLOAD_MB: number; MAX_UPLOAD_COLUMNS: number }) {
+  return { maxBytes: e.MAX_UPLOAD_MB * 1024 * 1024, maxColumns: e.MAX_UPLOAD_COLUMNS };
+}
+
+/**
+ * The upload limits alone (MAX_UPLOAD_MB, MAX_UPLOAD_COLUMNS): the recipe
+ * command reads its files under them, as the server reads uploads. Throws
+ * `ConfigError` naming a bad variable.
+ */
+export function loadUploadLimits(env: Env = process.env): Config["uploads"] {
+  return uploadLimitsOf(
+    parseEnv(envSchema.pick({ MAX_UPLOAD_MB: true, MAX_UPLOAD_COLUMNS: true }), env),
+  );
+}
+
+function parseEnv<S extends z.ZodType>(schema: S, env: Env): z.output<S> {
+  const parsed = schema.safeParse(stripEmpty(env));
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0];
+    const name = String(issue?.path[0] ?? "environment");
+    throw new ConfigError(
+      `Configuration error: ${name} ${describeIssue(issue)} (got ${JSON.stringify(env[name] ?? null)}). See .env.example.`,
+    );
+  }
+  return parsed.data;
 }
 
 function stripEmpty(env: Env): Record<string, string> {

@@ -3,14 +3,18 @@
  * their meaning live in contract/recipe.ts, shared with the app.
  *
  * Paths are relative to the recipe's folder. Reading the files is the only
- * I/O; parsing, joining and fitting use the same intake library and the same
- * `runFit` as the app.
+ * I/O; they are read as the app reads an upload (server/jobs/intake-file.ts:
+ * a gzip-compressed `.csv.gz` / `.tsv.gz` is decompressed, under the same
+ * MAX_UPLOAD_MB and MAX_UPLOAD_COLUMNS limits), and parsing, joining and
+ * fitting use the same intake library and the same `runFit` as the app.
  */
 import { readFileSync } from "node:fs";
 import { basename, dirname, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
 import { buildRecipe, type Recipe, recipeSchema, specOfRecipe } from "../../contract/recipe";
 import type { FitResult, ModelSpec } from "../../contract/spec";
+import { ConfigError, loadUploadLimits } from "../config";
+import { readUpload } from "../jobs/intake-file";
 import { requireStandardErrors } from "./standard-error-check";
 import {
   IntakeError,
@@ -18,7 +22,6 @@ import {
   buildFitData,
   buildParticipantSheet,
   problem,
-  readTable,
   sha256Hex,
   type ParticipantSheet,
 } from "../intake";
@@ -220,7 +223,14 @@ export async function runRecipe(recipePath: string): Promise<RecipeOutput> {
           "participantSheet",
         );
 
-  const brainRaw = readTable(brainBytes, recipe.brainTable);
+  let limits: ReturnType<typeof loadUploadLimits>;
+  try {
+    limits = loadUploadLimits();
+  } catch (e) {
+    if (e instanceof ConfigError) throw new RecipeError(e.message);
+    throw e;
+  }
+  const brainRaw = (await readUpload({ bytes: brainBytes }, recipe.brainTable, limits)).table;
   const brain = withRecipeHints(() =>
     buildBrainTable(brainRaw, {
       idColumn: recipe.idColumn,
@@ -230,7 +240,9 @@ export async function runRecipe(recipePath: string): Promise<RecipeOutput> {
   );
   let sheet: ParticipantSheet | null = null;
   if (sheetBytes !== null && recipe.participantSheet !== undefined) {
-    sheet = buildParticipantSheet(readTable(sheetBytes, recipe.participantSheet), {
+    const sheetRaw = (await readUpload({ bytes: sheetBytes }, recipe.participantSheet, limits))
+      .table;
+    sheet = buildParticipantSheet(sheetRaw, {
       idColumn: recipe.idColumn,
     });
     if (recipe.predictor !== undefined) requireColumn(sheet, recipe.predictor, "predictor");

@@ -8,6 +8,7 @@ import { createHash } from "node:crypto";
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { dirname, join } from "node:path";
+import { gzipSync } from "node:zlib";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { runRecipeCommand, type CommandRun } from "../../support/recipe-command";
 
@@ -36,6 +37,9 @@ const SHEET =
   "sub-07\t35\tcontrol\t0.80\n" +
   "sub-06\t22\tpatient\t0.88\n" +
   "sub-09\t30\tcontrol\t0.75\n";
+
+const BRAIN_GZ = gzipSync(BRAIN);
+const SHEET_GZ = gzipSync(SHEET);
 
 function file(name: string, content: string | Uint8Array): string {
   const path = join(dir, name);
@@ -174,11 +178,32 @@ const cases: Record<string, () => string[]> = {
       correction: "holm",
     }),
   ],
+  // The same files gzip-compressed, read as the app reads a compressed upload.
+  associationGzip: () => [
+    recipe("association-gzip.json", {
+      brainTable: "data/brain.csv.gz",
+      participantSheet: "data/participants.tsv.gz",
+      kind: "association",
+      predictor: "accuracy",
+      covariates: ["age"],
+      mappings: [{ brainId: "7", sheetId: "sub-07" }],
+      correction: "holm",
+    }),
+  ],
+  truncatedGzip: () => {
+    const whole = gzipSync(BRAIN);
+    file("data/truncated.csv.gz", whole.subarray(0, whole.length - 12));
+    return [
+      recipe("truncated-gzip.json", { brainTable: "data/truncated.csv.gz", kind: "one-sample" }),
+    ];
+  },
 };
 
 beforeAll(async () => {
   file("data/brain.csv", BRAIN);
   file("data/participants.tsv", SHEET);
+  file("data/brain.csv.gz", BRAIN_GZ);
+  file("data/participants.tsv.gz", SHEET_GZ);
   const names = Object.keys(cases);
   const args = names.map((n) => cases[n]());
   // A few processes at a time: the machine has two cores.
@@ -241,6 +266,10 @@ describe("recipe command: bad input exits 2 with one line naming the fault", () 
     expect(bad("tooFew")).toMatch(/^too-few\.json: .*too few participants/));
   it("spreadsheet renamed .csv", () =>
     expect(bad("spreadsheet")).toMatch(/^data\/book\.csv: is a zip archive/));
+  it("truncated gzip file", () =>
+    expect(bad("truncatedGzip")).toBe(
+      "data/truncated.csv.gz: is a truncated gzip file: it ends before its compressed data does; upload the whole file again",
+    ));
   it("input changed since the recipe was made", () =>
     expect(bad("hashMismatch")).toMatch(/^data\/brain\.csv: content differs from the recipe/));
   it("set-aside names an unknown participant", () =>
@@ -324,6 +353,20 @@ describe("recipe command: fits", () => {
     });
     expect(out.recipe.regions).toEqual(["L_insula", "R_caudate"]);
     expect(out.recipe.covariates).toEqual(["age"]);
+  });
+
+  it("reads .csv.gz and .tsv.gz as the uncompressed files, recording the compressed files' hashes", () => {
+    const plain = JSON.parse(results.get("association")!.stdout);
+    const r = results.get("associationGzip")!;
+    expect(r.code, r.stderr).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.recipe.inputs).toEqual({
+      brainTable: { file: "data/brain.csv.gz", sha256: sha256(BRAIN_GZ) },
+      participantSheet: { file: "data/participants.tsv.gz", sha256: sha256(SHEET_GZ) },
+    });
+    const { recipe: _plainRecipe, ...plainResult } = plain;
+    const { recipe: _gzipRecipe, ...gzipResult } = out;
+    expect(gzipResult).toEqual(plainResult);
   });
 
   it("the printed recipe, run again, gives the same bytes", async () => {
