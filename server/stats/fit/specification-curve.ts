@@ -52,7 +52,7 @@ import { studentTTwoSidedP } from "../distributions";
 import { estimateRegion, rankedDesign } from "../fit-methods";
 import type { Estimator as RegionEstimator } from "../region-data";
 import { averageRanks } from "../ranks";
-import { robustCoefficient, robustWorkspace } from "../robust-regression";
+import { robustCoefficientByNormalEquations, robustWorkspace } from "../robust-regression";
 import { designFor, estimateRegionWork } from "./estimate";
 import { type Prepared, prepare, regionRows } from "./prepare";
 
@@ -228,11 +228,14 @@ export function drawRanks(
  * participant has a trait value: the specification's participants, design
  * and brain values are fixed, so each draw only puts the permuted trait into
  * the tested column of one kept copy of the design and runs the estimator on
- * it — estimateRegion, the call the ordinary fit makes, or for Huber and
- * bisquare robustCoefficient in one workspace kept for the specification,
- * which gives robustLinearModel's estimate and p to the last bit — without
- * rebuilding the design and its unused decomposition (tested against the
- * ordinary fit). Returns null where this does not apply.
+ * it — estimateRegion, the call the ordinary fit makes, without rebuilding
+ * the design and its unused decomposition (the same numbers; tested against
+ * the ordinary fit). Huber and bisquare draws run the same IRLS in one
+ * workspace kept for the specification with each step solved by the normal
+ * equations (robustCoefficientByNormalEquations): about 1e-12 relative from
+ * the ordinary fit's QR steps, or the stopping tolerance where a step's
+ * change lands on it (tested against the ordinary fit). Returns null where
+ * this does not apply.
  */
 export function swappedNull(
   prep: Prepared,
@@ -261,7 +264,7 @@ export function swappedNull(
     const options = { psi: estimator, columnNames: design.columnNames } as const;
     return (perm) => {
       put(perm);
-      const fit = robustCoefficient(x, y, tested, workspace, options);
+      const fit = robustCoefficientByNormalEquations(x, y, tested, workspace, options);
       return { estimate: fit.estimate, p: fit.p };
     };
   }

@@ -10,6 +10,7 @@ import {
 import {
   type RobustPsi,
   robustCoefficient,
+  robustCoefficientByNormalEquations,
   robustLinearModel,
   robustWorkspace,
 } from "../../../server/stats/robust-regression";
@@ -301,6 +302,78 @@ describe("the workspace IRLS against the straightforward computation", () => {
     ).toThrow(/column 'b' is a linear combination/);
     expect(() => robustCoefficient(x.subarray(3), y, 1, ws, { psi: "huber" })).toThrow(
       /n·p entries/,
+    );
+  });
+});
+
+describe("robustCoefficientByNormalEquations against the QR steps of robustLinearModel", () => {
+  function sample(seed: number, n: number, p: number) {
+    const rng = createRng(seed);
+    const x = new Float64Array(n * p);
+    const y = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      x[i * p] = 1;
+      // An uncentred covariate (mean 3) and a 0/1 column, as designs with covariates have.
+      for (let j = 1; j < p; j++)
+        x[i * p + j] = j === 3 ? (i % 4 === 0 ? 1 : 0) : normalDraw(rng) + (j === 2 ? 3 : 0);
+      y[i] = 0.2 * x[i * p + 1] + normalDraw(rng) * (i % 7 === 0 ? 5 : 1);
+    }
+    return { x, y };
+  }
+
+  it("the same iterations and, to rounding (1e-10 of the standard error), the same estimate, se, t and p", () => {
+    for (let trial = 0; trial < 60; trial++) {
+      const n = 25 + trial * 9;
+      const p = 2 + (trial % 4);
+      const { x, y } = sample(500 + trial, n, p);
+      const ws = robustWorkspace(n, p);
+      for (const psi of ["huber", "bisquare"] as const) {
+        const ref = robustLinearModel(x, n, p, y, { psi });
+        for (let j = 0; j < p; j++) {
+          const f = robustCoefficientByNormalEquations(x, y, j, ws, { psi });
+          const label = `trial ${trial}, ${psi}, coefficient ${j}`;
+          expect(f.iterations, label).toBe(ref.iterations);
+          expect(Math.abs(f.estimate - ref.coefficients[j]), label).toBeLessThan(1e-10 * ref.se[j]);
+          expect(Math.abs(f.se - ref.se[j]), label).toBeLessThan(1e-10 * ref.se[j]);
+          expect(Math.abs(f.t - ref.t[j]), label).toBeLessThan(
+            1e-10 * Math.max(1, Math.abs(ref.t[j])),
+          );
+          expect(Math.abs(f.p - ref.pValues[j]), label).toBeLessThan(1e-9 * ref.pValues[j] + 1e-15);
+        }
+      }
+    }
+  });
+
+  it("fits a nearly collinear design by the QR steps (the numbers of robustCoefficient, to the bit)", () => {
+    const n = 40;
+    const { x, y } = sample(77, n, 3);
+    // Column 3 = column 2 + 1e-6·noise: a Cholesky pivot far below 1e-8 of its diagonal.
+    const rng = createRng(78);
+    for (let i = 0; i < n; i++) x[i * 3 + 2] = x[i * 3 + 1] + 1e-6 * normalDraw(rng);
+    const viaQr = robustCoefficient(x, y, 1, robustWorkspace(n, 3), { psi: "huber" });
+    const f = robustCoefficientByNormalEquations(x, y, 1, robustWorkspace(n, 3), { psi: "huber" });
+    expect(f).toEqual(viaQr);
+  });
+
+  it("keeps robustLinearModel's errors: a collinear column named, non-finite responses refused", () => {
+    const n = 12;
+    const x = new Float64Array(n * 3);
+    for (let i = 0; i < n; i++) {
+      x[i * 3] = 1;
+      x[i * 3 + 1] = i;
+      x[i * 3 + 2] = 2 * i;
+    }
+    const y = Float64Array.from({ length: n }, (_, i) => Math.sin(i));
+    const ws = robustWorkspace(n, 3);
+    expect(() =>
+      robustCoefficientByNormalEquations(x, y, 1, ws, {
+        psi: "huber",
+        columnNames: ["(intercept)", "a", "b"],
+      }),
+    ).toThrow(/column 'b' is a linear combination/);
+    y[4] = Number.NaN;
+    expect(() => robustCoefficientByNormalEquations(x, y, 1, ws, { psi: "huber" })).toThrow(
+      /finite responses \(row 5\)/,
     );
   });
 });

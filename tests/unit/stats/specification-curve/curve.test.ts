@@ -431,9 +431,17 @@ describe("specification curve: null draws with the design reused", () => {
         const fast = (quick as NonNullable<typeof quick>)(perm);
         const permuted = Array.from(perm, (j) => trait[j]);
         const full = estimateRegionWork({ ...prep, predictor: permuted }, 0, new Map()).result;
-        // The same estimates on the same numbers: equal exactly.
-        expect(fast.estimate, estimator).toBe(full.estimate);
-        expect(fast.p, estimator).toBe(full.p);
+        if (estimator === "huber" || estimator === "bisquare") {
+          // The same IRLS with normal-equation steps: rounding apart (both stop at the same step here).
+          expect(Math.abs(fast.estimate - full.estimate), estimator).toBeLessThan(
+            1e-10 * Math.abs(full.estimate),
+          );
+          expect(Math.abs(fast.p - full.p), estimator).toBeLessThan(1e-10 * full.p);
+        } else {
+          // The same estimator call on the same numbers: equal exactly.
+          expect(fast.estimate, estimator).toBe(full.estimate);
+          expect(fast.p, estimator).toBe(full.p);
+        }
       }
     }
   });
