@@ -1,8 +1,9 @@
 /**
  * GET /api/system/workers → { workers: LiveWorker[] }: the live worker
  * processes of the job queue (PostgreSQL server), their host names and
- * chunks stored in the last minute. For a person who is Owner of a study;
- * anyone else signed in gets 403.
+ * chunks stored in the last minute. For a person who is Owner of a study
+ * or a server admin (the ADMIN_EMAILS setting); anyone else signed in gets
+ * 403.
  */
 import { Router } from "express";
 import type { LiveWorker } from "../../contract/views/system";
@@ -20,8 +21,12 @@ export function workerRoutes(deps: RouteDeps): Router {
     authorize("workers.read"),
     validate({ query: noQuery }),
     async (_req, res) => {
-      if (!(await ownsAStudy(deps.db, signedInUser(res).id)))
-        throw forbidden("Only an Owner of a study may see the worker processes.");
+      const user = signedInUser(res);
+      const admin = deps.config.adminEmails.includes(user.email.toLowerCase());
+      if (!admin && !(await ownsAStudy(deps.db, user.id)))
+        throw forbidden(
+          "Only an Owner of a study or a server admin (ADMIN_EMAILS) may see the worker processes.",
+        );
       const workers: LiveWorker[] = await liveWorkers(deps.db, deps.clock());
       res.json({ workers });
     },

@@ -117,10 +117,11 @@ const matrix: Record<string, Row> = {
     path: () => "/api/me/preferences/region-table.columns",
     expected: signedIn(204),
   },
-  // An Owner of any study sees the worker processes; other signed-in people own none here.
+  // An Owner of any study sees the worker processes, and so do the server admins (ADMIN_EMAILS
+  // names the viewer and the outsider here, in another case); the others own no study.
   "GET /api/system/workers": {
     path: () => "/api/system/workers",
-    expected: { ...signedIn(403), owner: 200 },
+    expected: { ...signedIn(403), owner: 200, viewer: 200, outsider: 200 },
   },
   "GET /api/dev/mail": { path: () => "/api/dev/mail", expected: all(200) },
   "POST /api/dev/demo-sign-in": {
@@ -500,7 +501,9 @@ const ids = new Map<Persona, string>();
 let counter = 0;
 
 beforeAll(async () => {
-  t = await createTestApp();
+  t = await createTestApp({
+    env: { ADMIN_EMAILS: "viewer@demo.covarion.test, Outsider@Lab.example" },
+  });
   for (const role of ["owner", "analyst", "reviewer", "viewer"] as const) {
     const email = `${role}@demo.covarion.test`;
     const res = await request(t.url).post("/api/dev/demo-sign-in").send({ email }).expect(200);

@@ -6,7 +6,7 @@ import { mkdtempSync, readFileSync, rmSync, statSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { afterAll, describe, expect, it } from "vitest";
-import { ConfigError, loadConfig } from "../../server/config";
+import { ConfigError, loadConfig, loadUploadLimits } from "../../server/config";
 
 const dirs: string[] = [];
 function dataDir(): string {
@@ -128,5 +128,31 @@ describe("loadConfig", () => {
     };
     expect(() => loadConfig(production)).toThrow(/AUTH_SECRET is required .* DATABASE_URL/);
     expect(loadConfig({ ...production, AUTH_SECRET: "s".repeat(32) }).databaseUrl).toBe(url);
+  });
+
+  it("reads ADMIN_EMAILS: comma-separated addresses, trimmed and lower-cased; none by default", () => {
+    expect(loadConfig({ DATA_DIR: dataDir() }).adminEmails).toEqual([]);
+    expect(
+      loadConfig({
+        DATA_DIR: dataDir(),
+        ADMIN_EMAILS: " IT-Admin@Lab.example, core@lab.example,, ",
+      }).adminEmails,
+    ).toEqual(["it-admin@lab.example", "core@lab.example"]);
+    expect(() =>
+      loadConfig({ DATA_DIR: dataDir(), ADMIN_EMAILS: "it-admin@lab.example; core" }),
+    ).toThrow(/ADMIN_EMAILS is invalid: a comma-separated list of e-mail addresses/);
+  });
+});
+
+describe("loadUploadLimits", () => {
+  it("reads MAX_UPLOAD_MB and MAX_UPLOAD_COLUMNS alone, as loadConfig does", () => {
+    expect(loadUploadLimits({})).toEqual(loadConfig({ DATA_DIR: dataDir() }).uploads);
+    expect(loadUploadLimits({ MAX_UPLOAD_MB: "200", MAX_UPLOAD_COLUMNS: "50" })).toEqual({
+      maxBytes: 200 * 1024 * 1024,
+      maxColumns: 50,
+    });
+    expect(() => loadUploadLimits({ MAX_UPLOAD_MB: "4096" })).toThrow(
+      /MAX_UPLOAD_MB is invalid: at most 2048/,
+    );
   });
 });
