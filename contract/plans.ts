@@ -153,7 +153,9 @@ export function compareWithPlan(
     if (m.spec.kind === fit.spec.kind && (best === null || diffs.length < best.diffs.length))
       best = { name: m.name, diffs };
   }
+  // A model rule that is one of the plan's rules repeats what the plan sets aside: no deviation.
   // A model rule the plan names nowhere (its rules or the closest planned model's) is said once, as such.
+  const planCriteria = plan.exclusionRules.map(criterionText);
   const plannedCriteria = new Set([
     ...plan.exclusionRules.map(criterionText),
     ...(plan.models.find((m) => m.name === best?.name)?.spec.exclusionRules ?? []).map(
@@ -163,7 +165,9 @@ export function compareWithPlan(
   const unplanned = (fit.spec.exclusionRules ?? []).filter(
     (r) => !plannedCriteria.has(criterionText(r)),
   );
-  const said = new Set(unplanned.map((r) => `added rule ${criterionText(r)}`));
+  const said = new Set(
+    [...planCriteria, ...unplanned.map(criterionText)].map((c) => `added rule ${c}`),
+  );
   const deviations: string[] = best
     ? best.diffs.filter((d) => !said.has(d))
     : [`a ${fit.spec.kind} model, which the plan does not name`];
