@@ -51,7 +51,7 @@ import { FIT_LEVEL, type RunFitOptions, assertFinite, cancelled, fail, inRegion 
 import { studentTTwoSidedP } from "../distributions";
 import { estimateRegion, rankedDesign } from "../fit-methods";
 import type { Estimator as RegionEstimator } from "../region-data";
-import { averageRanks } from "../ranks";
+import { type RankResult, averageRanks } from "../ranks";
 import { robustCoefficientByNormalEquations, robustWorkspace } from "../robust-regression";
 import { designFor, estimateRegionWork } from "./estimate";
 import { type Prepared, prepare, regionRows } from "./prepare";
@@ -150,22 +150,28 @@ export function fastNull(
     for (let i = 0; i < n; i++) v[i] /= norm;
     basis.push(v);
   }
+  // The basis one after another in one array; the same Gram–Schmidt sweeps, in the same order.
+  const nb = basis.length;
+  const q = new Float64Array(nb * n);
+  for (let c = 0; c < nb; c++) q.set(basis[c], c * n);
   const residual = (v: Float64Array) => {
-    for (const q of basis) {
+    for (let c = 0; c < nb; c++) {
+      const off = c * n;
       let dot = 0;
-      for (let i = 0; i < n; i++) dot += q[i] * v[i];
-      for (let i = 0; i < n; i++) v[i] -= dot * q[i];
+      for (let i = 0; i < n; i++) dot += q[off + i] * v[i];
+      for (let i = 0; i < n; i++) v[i] -= dot * q[off + i];
     }
     return v;
   };
   const ry = residual(Float64Array.from(y));
   let ryy = 0;
   for (let i = 0; i < n; i++) ryy += ry[i] * ry[i];
-  const xs = new Float64Array(n);
+  const rx = new Float64Array(n);
   const ranksOf = rank ? drawRanks(trait as readonly number[]) : null;
   return (perm) => {
-    for (let k = 0; k < n; k++) xs[k] = trait[perm[rows[k]]] as number;
-    const rx = residual(ranksOf ? ranksOf(perm, rows) : Float64Array.from(xs));
+    if (ranksOf) ranksOf(perm, rows, rx);
+    else for (let k = 0; k < n; k++) rx[k] = trait[perm[rows[k]]] as number;
+    residual(rx);
     let sxx = 0;
     let sxy = 0;
     for (let i = 0; i < n; i++) {
@@ -182,44 +188,56 @@ export function fastNull(
 /**
  * Average ranks (ties share the mean of their ranks, as averageRanks) of
  * the trait values a draw puts on a specification's rows — row k gets
- * trait[perm[rows[k]]] — without sorting per draw: the trait is sorted once,
- * and each draw walks that order keeping the values it uses. Same ranks as
- * averageRanks on those values (tested against it). Cost O(N) per draw,
- * N = participants, after O(N log N) once.
+ * trait[perm[rows[k]]] — and the sizes of their tie groups, without sorting
+ * per draw: the trait is sorted once into runs of equal values, and each
+ * draw walks the runs keeping the values it uses. Same ranks and tie groups
+ * as averageRanks on those values (tested against it); written to `out`
+ * when given. Cost O(N) per draw, N = participants, after O(N log N) once.
  */
 export function drawRanks(
   trait: readonly number[],
-): (perm: Int32Array, rows: ArrayLike<number>) => Float64Array {
+): (perm: Int32Array, rows: ArrayLike<number>, out?: Float64Array) => RankResult {
   const total = trait.length;
   const order = Int32Array.from({ length: total }, (_, i) => i);
   order.sort((a, b) => trait[a] - trait[b] || a - b);
+  // Runs of equal values in ascending order: run s holds order[runStart[s]] … order[runStart[s + 1] − 1].
+  const starts: number[] = [];
+  for (let i = 0; i < total; i++)
+    if (i === 0 || trait[order[i]] !== trait[order[i - 1]]) starts.push(i);
+  starts.push(total);
+  const runStart = Int32Array.from(starts);
+  const runs = runStart.length - 1;
   const slot = new Int32Array(total);
-  return (perm, rows) => {
+  return (perm, rows, out) => {
     const n = rows.length;
     slot.fill(-1);
     for (let k = 0; k < n; k++) slot[perm[rows[k]]] = k;
-    const ranks = new Float64Array(n);
-    // Walk the used values in ascending order; runs of equal values share their mean rank.
+    const ranks = out ?? new Float64Array(n);
+    const ties: number[] = [];
     let seen = 0;
-    let i = 0;
-    while (i < total) {
-      if (slot[order[i]] < 0) {
-        i++;
+    for (let s = 0; s < runs; s++) {
+      const start = runStart[s];
+      const end = runStart[s + 1];
+      if (end - start === 1) {
+        const k = slot[order[start]];
+        if (k >= 0) {
+          seen++;
+          ranks[k] = seen; // (seen + 1 + seen + 1)/2 of a group of one
+        }
         continue;
       }
-      const value = trait[order[i]];
-      let j = i;
       let count = 0;
-      while (j < total && trait[order[j]] === value) {
-        if (slot[order[j]] >= 0) count++;
-        j++;
-      }
+      for (let q = start; q < end; q++) if (slot[order[q]] >= 0) count++;
+      if (count === 0) continue;
       const r = (seen + 1 + seen + count) / 2;
-      for (let q = i; q < j; q++) if (slot[order[q]] >= 0) ranks[slot[order[q]]] = r;
+      for (let q = start; q < end; q++) {
+        const k = slot[order[q]];
+        if (k >= 0) ranks[k] = r;
+      }
+      if (count > 1) ties.push(count);
       seen += count;
-      i = j;
     }
-    return ranks;
+    return { ranks, ties };
   };
 }
 

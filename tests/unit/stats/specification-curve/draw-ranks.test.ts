@@ -2,7 +2,8 @@
  * The per-draw ranks of a specification curve's rank null draws
  * (drawRanks) against the engine's average ranks of the same values
  * (averageRanks: ties share the mean of their ranks, the textbook
- * mid-rank definition — common practice, no source), on seeded draws with
+ * mid-rank definition — common practice, no source), ranks and tie-group
+ * sizes, on seeded draws with
  * many ties and with rows left out as exclusion rules leave them.
  */
 import { describe, expect, it } from "vitest";
@@ -29,14 +30,21 @@ describe("drawRanks", () => {
       }
       const values = Array.from(rows, (k) => trait[perm[k]]);
       const ranksOf = drawRanks(trait);
-      expect(Array.from(ranksOf(perm, rows)), `trial ${trial}`).toEqual(
-        Array.from(averageRanks(values).ranks),
-      );
+      const mid = averageRanks(values);
+      const got = ranksOf(perm, rows);
+      expect(Array.from(got.ranks), `trial ${trial}`).toEqual(Array.from(mid.ranks));
+      expect(got.ties, `trial ${trial}`).toEqual(mid.ties);
+      // Written into a caller's array: the same ranks.
+      const out = new Float64Array(rows.length);
+      ranksOf(perm, rows, out);
+      expect(Array.from(out), `trial ${trial}`).toEqual(Array.from(mid.ranks));
     }
   });
 
   it("hand case: values 3, 1, 3, 2 on all rows → ranks 3.5, 1, 3.5, 2", () => {
     const ranksOf = drawRanks([3, 1, 3, 2]);
-    expect(Array.from(ranksOf(Int32Array.of(0, 1, 2, 3), [0, 1, 2, 3]))).toEqual([3.5, 1, 3.5, 2]);
+    const got = ranksOf(Int32Array.of(0, 1, 2, 3), [0, 1, 2, 3]);
+    expect(Array.from(got.ranks)).toEqual([3.5, 1, 3.5, 2]);
+    expect(got.ties).toEqual([2]);
   });
 });
