@@ -86,7 +86,7 @@ const styles = StyleSheet.create({
     backgroundColor: palette.canvas,
   },
   title: { fontFamily: fonts.semibold, flexShrink: 1 },
-  hint: { color: palette.focus },
+  hint: { color: palette.focus, flexShrink: 0 },
   pressed: { opacity: 0.7 },
   list: { gap: space.sm, paddingTop: space.sm },
   item: { gap: 2, paddingLeft: space.md, borderLeftWidth: 3, borderLeftColor: palette.lineStrong },

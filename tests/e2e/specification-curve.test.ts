@@ -3,7 +3,9 @@
  * through the API on the demo study (invented data), its fit page shows the
  * summary, the sorted estimates with their choices, and the joint test;
  * the study's plan names one specification, which the curve marks and
- * can select; the page does not scroll sideways and logs no errors.
+ * can select; the selected specification opens as an ordinary fit of its
+ * own model (reused the second time), whose header lists what the model's
+ * rule left out; the page does not scroll sideways and logs no errors.
  */
 import { beforeAll, describe, expect, it } from "vitest";
 import { demoApi, openPage, phone, runFitToDone, screenshot, wide } from "./harness";
@@ -38,7 +40,7 @@ beforeAll(async () => {
           },
         ],
         correction: "none",
-        exclusionRules: [{ column: "mean_fd", op: ">", value: 0.3, reason: "motion" }],
+        exclusionRules: [{ column: "mean_fd", op: ">", value: 0.2, reason: "motion" }],
         missing: "keep",
       },
     },
@@ -58,7 +60,7 @@ beforeAll(async () => {
         specifications: {
           estimators: ["ols", "huber"],
           covariateSets: [[], ["age"]],
-          exclusionRules: [{ column: "mean_fd", op: ">", value: 0.3, reason: "motion" }],
+          exclusionRules: [{ column: "mean_fd", op: ">", value: 0.2, reason: "motion" }],
         },
       },
     },
@@ -112,5 +114,66 @@ describe("specification curve fit page", () => {
         await context.close();
       }
     });
+  }
+
+  // The phone opens the specification (a new model and fit); the wide screen reuses both.
+  let opened: string | null = null;
+  for (const [label, viewport] of [
+    ["phone", phone],
+    ["wide", wide],
+  ] as const) {
+    it(`opens a specification as an ordinary fit at ${label} size`, async () => {
+      const { page, context, errors } = await openPage(e2e.browser, viewport);
+      try {
+        await page.goto(`${e2e.server.url}/sign-in`);
+        await page.getByRole("button", { name: "Sign in as the demo analyst" }).click();
+        await page.waitForURL(/\/studies$/);
+        await page.goto(`${e2e.server.url}/studies/${studyId}/fits/${fitId}`);
+        await page.getByTestId("specification-curve-view").waitFor();
+        await page.getByRole("button", { name: "Show the planned one" }).click();
+        const button = page.getByTestId("curve-open-specification");
+        await button.scrollIntoViewIfNeeded();
+        const box = await button.boundingBox();
+        expect(box?.height ?? 0).toBeGreaterThanOrEqual(44);
+        expect((box?.x ?? 0) + (box?.width ?? 0)).toBeLessThanOrEqual(viewport.width);
+        await screenshot(page, `curve-${label}-open`);
+        await button.click();
+        await page.waitForURL(
+          (url) => /\/fits\/[^/]+$/.test(url.pathname) && !url.pathname.endsWith(fitId),
+        );
+        const target = new URL(page.url()).pathname.split("/").pop() as string;
+        if (opened === null) opened = target;
+        else expect(target).toBe(opened);
+        await page.getByTestId("fit-header").waitFor();
+        await expect(page.getByTestId("fit-header").innerText()).resolves.toMatch(
+          /specification \d+/,
+        );
+        const toggle = page.getByTestId("fit-rule-exclusions-toggle");
+        await page.waitForFunction(
+          () =>
+            document.querySelector('[data-testid="fit-stage"]')?.textContent?.includes("done") ??
+            false,
+          undefined,
+          { timeout: 60_000 },
+        );
+        await expect(toggle.innerText()).resolves.toMatch(
+          /Left out by this model's rules: [1-9]\d* participants?/,
+        );
+        await toggle.click();
+        await expect(page.getByTestId("fit-rule-exclusion").innerText()).resolves.toMatch(
+          /rule: mean_fd > 0\.2 \(motion\)[\s\S]*participant[\s\S]*sub-/,
+        );
+        // The plan's specification, fitted with the plan's rule as the model's: as planned.
+        await expect(page.getByTestId("fit-plan").innerText()).resolves.toMatch(/As planned/);
+        await screenshot(page, `curve-${label}-opened-fit`);
+        const sideways = await page.evaluate(
+          () => document.documentElement.scrollWidth - document.documentElement.clientWidth,
+        );
+        expect(sideways).toBeLessThanOrEqual(0);
+        expect(errors).toEqual([]);
+      } finally {
+        await context.close();
+      }
+    }, 120_000);
   }
 });
