@@ -3,10 +3,10 @@
  * once (the observed trait or a block of its permutations), so that the
  * projections and held-out predictions are matrix–matrix products instead of
  * one dot product per row, trait and penalty. For each stage (training set)
- * with basis M, W and d² (ridge.ts; Hastie, Tibshirani & Friedman 2009, The
+ * with basis M, W and tridiagonal T (ridge.ts; Hastie, Tibshirani & Friedman 2009, The
  * Elements of Statistical Learning, 2nd ed., §3.4.1):
  *     G = Mᵀ(Y − ȳ)                          (r × B)
- *     Ŷ_held(λ) = ȳ + W (G ⊙ 1/(d² + λ))     (n_held × B, every λ in one product)
+ *     Ŷ_held(λ) = ȳ + W (T + λI)⁻¹G          (n_held × B, every λ in one product)
  * and the inner mean squared error of each λ chooses the penalty of each
  * trait separately, with the rule of `chooseLambda` (ties within a relative
  * 1e-12 go to the larger λ). Every column is computed by exactly the same
@@ -19,6 +19,7 @@
 import { residualize } from "./confounds";
 import type { PreparedFold, PreparedStage } from "./fold-pipeline";
 import { gemm, rowMajor, transposed } from "./gemm";
+import { ridgeFactors, ridgeSolveColumns } from "./ridge";
 
 /** Results of the fold's pipeline for a block of traits (held row i, trait b at i·count + b). */
 export interface BlockFit {
@@ -90,16 +91,11 @@ export function innerErrorsBlock(
   for (const stage of fold.inner) {
     const { yTrain, yHeld, mean } = stageResponses(stage, traits, n, count);
     const g = project(stage, yTrain, mean, count);
-    const { r, nHeld, w, dsq } = stage.basis;
+    const { r, nHeld, w } = stage.basis;
     const scaled = new Float64Array(r * width);
-    for (let k = 0; k < r; k++) {
-      const row = k * width;
-      for (let l = 0; l < nl; l++) {
-        const denominator = dsq[k] + grid[l];
-        for (let b = 0; b < count; b++)
-          scaled[row + l * count + b] = g[k * count + b] / denominator;
-      }
-    }
+    const factors = ridgeFactors(stage.basis, grid);
+    for (let l = 0; l < nl; l++)
+      ridgeSolveColumns(factors, l, g, count, 0, scaled, width, l * count, count);
     const fitted = new Float64Array(nHeld * width);
     gemm(nHeld, width, r, rowMajor(w, r), rowMajor(scaled, width), fitted, width);
     for (let l = 0; l < nl; l++) {
@@ -144,11 +140,10 @@ export function fitFoldBlock(
   const stage = fold.outer;
   const { yTrain, yHeld, mean } = stageResponses(stage, traits, n, count);
   const g = project(stage, yTrain, mean, count);
-  const { r, nHeld, w, dsq } = stage.basis;
+  const { r, nHeld, w } = stage.basis;
   const scaled = new Float64Array(r * count);
-  for (let k = 0; k < r; k++)
-    for (let b = 0; b < count; b++)
-      scaled[k * count + b] = g[k * count + b] / (dsq[k] + lambdas[b]);
+  const factors = ridgeFactors(stage.basis, lambdas);
+  for (let b = 0; b < count; b++) ridgeSolveColumns(factors, b, g, count, b, scaled, count, b, 1);
   const predicted = new Float64Array(nHeld * count);
   gemm(nHeld, count, r, rowMajor(w, r), rowMajor(scaled, count), predicted, count);
   for (let i = 0; i < nHeld; i++)

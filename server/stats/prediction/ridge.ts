@@ -4,22 +4,28 @@
  *
  * Minimizes Σ(y − b₀ − Xb)² + λ‖b‖² (Hoerl & Kennard 1970, Technometrics
  * 12:55–67). With X centred (and, by default, each column scaled by its
- * training standard deviation, n − 1), b₀ = ȳ and, from the singular value
- * decomposition X = UDVᵀ, b = V diag(d/(d² + λ)) Uᵀy (Hastie, Tibshirani &
- * Friedman 2009, The Elements of Statistical Learning, 2nd ed., §3.4.1, eq.
- * 3.47). The decomposition is taken from the smaller Gram matrix: XᵀX = VD²Vᵀ
- * when n ≥ p, XXᵀ = UD²Uᵀ when n < p (then b = XᵀU diag(1/(d²+λ)) Uᵀy), by
- * the symmetric eigen solver. Every prediction is then
- *     ŷ_held = ȳ + W (g ⊙ 1/(d² + λ)),   g = Mᵀ(y − ȳ),
- * with M (n×r) and W (n_held×r) fixed per training matrix: O(n·r) per
- * response and O(n_held·r) per penalty, r = min(n, p).
+ * training standard deviation, n − 1), b₀ = ȳ and b = (XᵀX + λI)⁻¹Xᵀ(y − ȳ)
+ * (Hastie, Tibshirani & Friedman 2009, The Elements of Statistical Learning,
+ * 2nd ed., §3.4.1, eq. 3.44). The smaller Gram matrix is reduced once to
+ * tridiagonal form by orthogonal similarity (Golub & Van Loan 2013, Matrix
+ * Computations, 4th ed., §8.3.1): XᵀX = QTQᵀ when n ≥ p, so
+ * b = Q(T + λI)⁻¹QᵀXᵀ(y − ȳ); XXᵀ = QTQᵀ when n < p, so
+ * b = XᵀQ(T + λI)⁻¹Qᵀ(y − ȳ) (the dual form, §18.3.5).
+ * Every prediction is then
+ *     ŷ_held = ȳ + W (T + λI)⁻¹ g,   g = Mᵀ(y − ȳ),
+ * with M (n×r) and W (n_held×r) fixed per training matrix, and T + λI
+ * (symmetric positive definite for λ > 0) solved by its LDLᵀ factors in
+ * O(r) (Golub & Van Loan §4.3.6): O(n·r) per response and O(n_held·r) per
+ * penalty, r = min(n, p) — the cost of the eigendecomposition route
+ * (eq. 3.47) without its QL iterations, which would cost more than the
+ * reduction itself.
  *
  * Cost of the preparation: O(n·p·r) for the Gram matrix and the products,
- * plus about 9r³ for the eigendecomposition.
+ * plus about 5r³/3 multiply-adds for the reduction.
  */
 import { StatsError } from "../errors";
 import { gemm, rowMajor, transposed } from "./gemm";
-import { symmetricEigen } from "./symmetric-eigen";
+import { householderTridiagonal } from "./symmetric-eigen";
 
 /** A training matrix decomposed for ridge predictions of its held-out rows. */
 export interface RidgeBasis {
@@ -28,13 +34,15 @@ export interface RidgeBasis {
   p: number;
   /** Rank of the decomposition: min(n_train, p). */
   r: number;
-  /** Squared singular values d² (eigenvalues of the Gram matrix, ≥ 0). */
-  dsq: Float64Array;
+  /** Diagonal of T (the Gram matrix in the basis Q). */
+  diag: Float64Array;
+  /** off[k] = T[k][k+1], k < r − 1. */
+  off: Float64Array;
   /** M, row-major n_train×r: g = Mᵀ(y − ȳ). */
   m: Float64Array;
   /** W, row-major n_held×r: held-out predictions. */
   w: Float64Array;
-  /** B, row-major p×r: weights b = B (g ⊙ 1/(d²+λ)) on the scaled columns. */
+  /** B, row-major p×r: weights b = B (T + λI)⁻¹g on the scaled columns. */
   b: Float64Array;
 }
 
@@ -77,32 +85,29 @@ export function prepareRidge(
     const gram = new Float64Array(p * p);
     gemm(p, p, nTrain, rowMajor(xt, nTrain), transposed(xt, nTrain), gram, p);
     symmetrize(gram, p);
-    const { values, vectors } = symmetricEigen(gram, p); // vectors: row k = v_k
-    // M = X V (n_train×r): X = xtᵀ, V = vectorsᵀ.
+    const { diag, off, q } = householderTridiagonal(gram, p);
+    // M = X Q (n_train×r): X = xtᵀ.
     const m = new Float64Array(nTrain * r);
-    gemm(nTrain, r, p, transposed(xt, nTrain), transposed(vectors, p), m, r);
-    // W = X_held V (n_held×r).
+    gemm(nTrain, r, p, transposed(xt, nTrain), rowMajor(q, p), m, r);
+    // W = X_held Q (n_held×r).
     const w = new Float64Array(nHeld * r);
-    gemm(nHeld, r, p, rowMajor(h, p), transposed(vectors, p), w, r);
-    const b = new Float64Array(p * r);
-    for (let k = 0; k < r; k++) for (let j = 0; j < p; j++) b[j * r + k] = vectors[k * p + j];
-    return { nTrain, nHeld, p, r, dsq: clampNonNegative(values), m, w, b };
+    gemm(nHeld, r, p, rowMajor(h, p), rowMajor(q, p), w, r);
+    return { nTrain, nHeld, p, r, diag, off, m, w, b: q };
   }
   const r = nTrain;
   // Gram XXᵀ (n_train×n_train).
   const gram = new Float64Array(r * r);
   gemm(r, r, p, transposed(xt, nTrain), rowMajor(xt, nTrain), gram, r);
   symmetrize(gram, r);
-  const { values, vectors } = symmetricEigen(gram, r); // row k = u_k
-  const m = new Float64Array(nTrain * r);
-  for (let k = 0; k < r; k++) for (let i = 0; i < nTrain; i++) m[i * r + k] = vectors[k * r + i];
-  // B = Xᵀ U (p×r): Xᵀ = xt, U = vectorsᵀ.
+  const { diag, off, q } = householderTridiagonal(gram, r);
+  const m = q; // M = Q (n_train×r)
+  // B = Xᵀ Q (p×r): Xᵀ = xt.
   const b = new Float64Array(p * r);
-  gemm(p, r, nTrain, rowMajor(xt, nTrain), transposed(vectors, r), b, r);
+  gemm(p, r, nTrain, rowMajor(xt, nTrain), rowMajor(q, r), b, r);
   // W = X_held B (n_held×r).
   const w = new Float64Array(nHeld * r);
   gemm(nHeld, r, p, rowMajor(h, p), rowMajor(b, r), w, r);
-  return { nTrain, nHeld, p, r, dsq: clampNonNegative(values), m, w, b };
+  return { nTrain, nHeld, p, r, diag, off, m, w, b };
 }
 
 /** Makes a computed Gram matrix exactly symmetric (upper triangle copied to the lower). */
@@ -110,9 +115,81 @@ function symmetrize(a: Float64Array, n: number): void {
   for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) a[j * n + i] = a[i * n + j];
 }
 
-function clampNonNegative(values: Float64Array): Float64Array {
-  for (let k = 0; k < values.length; k++) if (values[k] < 0) values[k] = 0;
-  return values;
+/** LDLᵀ factors of T + λ_l I for each penalty: pivots d (l·r + k) and multipliers (l·r + k, k < r − 1). */
+export interface RidgeFactors {
+  r: number;
+  count: number;
+  pivot: Float64Array;
+  multiplier: Float64Array;
+}
+
+/**
+ * Factors T + λI = LDLᵀ (L unit lower bidiagonal) for each λ of `lambdas`
+ * (Golub & Van Loan 2013, §4.3.6; stable without pivoting as T + λI is
+ * positive definite). Cost O(r) per λ.
+ */
+export function ridgeFactors(basis: RidgeBasis, lambdas: ArrayLike<number>): RidgeFactors {
+  const { r, diag, off } = basis;
+  const count = lambdas.length;
+  const pivot = new Float64Array(count * r);
+  const multiplier = new Float64Array(count * r);
+  for (let l = 0; l < count; l++) {
+    const base = l * r;
+    let d = diag[0] + lambdas[l];
+    pivot[base] = d;
+    for (let k = 1; k < r; k++) {
+      const mult = off[k - 1] / d;
+      multiplier[base + k - 1] = mult;
+      d = diag[k] + lambdas[l] - mult * off[k - 1];
+      pivot[base + k] = d;
+    }
+  }
+  return { r, count, pivot, multiplier };
+}
+
+/**
+ * Solves (T + λ_f I) s = g for `columns` right-hand sides at once: g and out
+ * are row-major r × (stride), column c of g at gOffset + c and of out at
+ * outOffset + c (they may be the same array and offsets); factor index f of
+ * column c is factorOf(c). Cost O(r) per column.
+ */
+export function ridgeSolveColumns(
+  factors: RidgeFactors,
+  factor: number,
+  g: Float64Array,
+  gStride: number,
+  gOffset: number,
+  out: Float64Array,
+  outStride: number,
+  outOffset: number,
+  columns: number,
+): void {
+  const { r, pivot, multiplier } = factors;
+  const base = factor * r;
+  for (let c = 0; c < columns; c++) out[outOffset + c] = g[gOffset + c];
+  for (let k = 1; k < r; k++) {
+    const mult = multiplier[base + k - 1];
+    const row = outOffset + k * outStride;
+    const prev = row - outStride;
+    const gRow = gOffset + k * gStride;
+    for (let c = 0; c < columns; c++) out[row + c] = g[gRow + c] - mult * out[prev + c];
+  }
+  for (let k = 0; k < r; k++) {
+    const d = pivot[base + k];
+    const row = outOffset + k * outStride;
+    for (let c = 0; c < columns; c++) out[row + c] /= d;
+  }
+  for (let k = r - 2; k >= 0; k--) {
+    const mult = multiplier[base + k];
+    const row = outOffset + k * outStride;
+    const next = row + outStride;
+    for (let c = 0; c < columns; c++) out[row + c] -= mult * out[next + c];
+  }
+}
+
+/** (T + λI)⁻¹g for one response. Cost O(r). */
+function solveOne(basis: RidgeBasis, g: Float64Array, lambda: number, out: Float64Array): void {
+  ridgeSolveColumns(ridgeFactors(basis, [lambda]), 0, g, 1, 0, out, 1, 0, 1);
 }
 
 function dot(a: Float64Array, ia: number, b: Float64Array, ib: number, len: number): number {
@@ -150,7 +227,7 @@ export function projectResponse(basis: RidgeBasis, yTrain: Float64Array, g: Floa
   return mean;
 }
 
-/** Held-out predictions at penalty λ from a projected response: ȳ + W(g ⊙ 1/(d²+λ)). Cost O(n_held·r). */
+/** Held-out predictions at penalty λ from a projected response: ȳ + W(T + λI)⁻¹g. Cost O(n_held·r). */
 export function predictHeld(
   basis: RidgeBasis,
   mean: number,
@@ -159,8 +236,8 @@ export function predictHeld(
   out: Float64Array,
   scratch: Float64Array,
 ): void {
-  const { r, nHeld, w, dsq } = basis;
-  for (let k = 0; k < r; k++) scratch[k] = g[k] / (dsq[k] + lambda);
+  const { r, nHeld, w } = basis;
+  solveOne(basis, g, lambda, scratch);
   for (let i = 0; i < nHeld; i++) out[i] = mean + dot(w, i * r, scratch, 0, r);
 }
 
@@ -177,10 +254,9 @@ export function accumulateHeldSse(
   sse: Float64Array,
   scratch: Float64Array,
 ): void {
-  const { r, nHeld, w, dsq } = basis;
+  const { r, nHeld, w } = basis;
   for (let l = 0; l < grid.length; l++) {
-    const lambda = grid[l];
-    for (let k = 0; k < r; k++) scratch[k] = g[k] / (dsq[k] + lambda);
+    solveOne(basis, g, grid[l], scratch);
     let s = 0;
     for (let i = 0; i < nHeld; i++) {
       const e = yHeld[i] - mean - dot(w, i * r, scratch, 0, r);
@@ -190,11 +266,11 @@ export function accumulateHeldSse(
   }
 }
 
-/** The weights b on the (scaled) columns at penalty λ: B(g ⊙ 1/(d²+λ)). Cost O(p·r). */
+/** The weights b on the (scaled) columns at penalty λ: B(T + λI)⁻¹g. Cost O(p·r). */
 export function ridgeWeights(basis: RidgeBasis, g: Float64Array, lambda: number): Float64Array {
-  const { r, p, b, dsq } = basis;
+  const { r, p, b } = basis;
   const scaled = new Float64Array(r);
-  for (let k = 0; k < r; k++) scaled[k] = g[k] / (dsq[k] + lambda);
+  solveOne(basis, g, lambda, scaled);
   const weights = new Float64Array(p);
   for (let j = 0; j < p; j++) weights[j] = dot(b, j * r, scaled, 0, r);
   return weights;

@@ -14,6 +14,36 @@
  */
 import { StatsError } from "../errors";
 
+/** A = Q T Qᵀ with T symmetric tridiagonal. */
+export interface Tridiagonal {
+  m: number;
+  /** Diagonal of T. */
+  diag: Float64Array;
+  /** off[k] = T[k][k+1] = T[k+1][k], k < m − 1 (length m, last entry 0). */
+  off: Float64Array;
+  /** Q, row-major m×m (orthogonal). */
+  q: Float64Array;
+}
+
+/**
+ * Householder tridiagonal form A = Q T Qᵀ of the symmetric m×m matrix `a`
+ * (row-major; not changed). Cost about 5m³/3 multiply-adds.
+ */
+export function householderTridiagonal(a: ArrayLike<number>, m: number): Tridiagonal {
+  if (a.length !== m * m) throw new StatsError("householderTridiagonal requires an m×m matrix");
+  for (let i = 0; i < a.length; i++)
+    if (!Number.isFinite(a[i]))
+      throw new StatsError("householderTridiagonal requires finite values");
+  const work = Float64Array.from(a);
+  const diag = new Float64Array(m);
+  const e = new Float64Array(m);
+  const off = new Float64Array(m);
+  if (m === 0) return { m, diag, off, q: work };
+  const q = tridiagonalize(work, diag, e, m);
+  for (let k = 0; k + 1 < m; k++) off[k] = e[k + 1];
+  return { m, diag, off, q };
+}
+
 export interface SymmetricEigen {
   /** Order m of the matrix. */
   m: number;
@@ -37,7 +67,10 @@ export function symmetricEigen(a: ArrayLike<number>, m: number): SymmetricEigen 
   const d = new Float64Array(m);
   const e = new Float64Array(m);
   if (m === 0) return { m, values: d, vectors: work };
-  const z = tridiagonalize(work, d, e, m);
+  const q = tridiagonalize(work, d, e, m);
+  // z = Qᵀ: row j is column j of Q, so the QL rotations combine contiguous rows.
+  const z = new Float64Array(m * m);
+  for (let i = 0; i < m; i++) for (let j = 0; j < m; j++) z[j * m + i] = q[i * m + j];
   implicitQl(z, d, e, m);
   // Sort ascending (selection sort on values, swapping vector rows).
   for (let i = 0; i < m - 1; i++) {
@@ -63,11 +96,10 @@ export function symmetricEigen(a: ArrayLike<number>, m: number): SymmetricEigen 
  * diagonal onto its first entry, with p = τ·A₂₂v, w = p − (τ/2)(pᵀv)v and the
  * two-sided update A₂₂ ← A₂₂ − vwᵀ − wvᵀ done on whole rows of the row-major
  * matrix (contiguous memory). The reflectors are then accumulated backwards
- * into Q (§5.1.6) and Qᵀ is returned in `z` (row j = column j of Q), ready
- * for the QL rotations. On return d is the diagonal and e[i] the entry (i, i−1)
+ * into Q (§5.1.6), returned row-major. On return d is the diagonal and e[i] the entry (i, i−1)
  * of the tridiagonal T = QᵀAQ (e[0] = 0).
  */
-function tridiagonalize(
+export function tridiagonalize(
   a: Float64Array,
   d: Float64Array,
   e: Float64Array,
@@ -130,10 +162,7 @@ function tridiagonalize(
     for (let i = k + 1; i < n; i++) axpyRow(w, 0, reflectors[vOff + i], q, i * n, k + 1, n);
     for (let i = k + 1; i < n; i++) axpyRow(q, i * n, -t * reflectors[vOff + i], w, 0, k + 1, n);
   }
-  // z = Qᵀ.
-  const z = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) z[j * n + i] = q[i * n + j];
-  return z;
+  return q;
 }
 
 /** Σ_{j∈[from,to)} x[xo + j]·y[yo + j]. */
