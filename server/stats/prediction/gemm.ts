@@ -41,6 +41,9 @@ const edge = new Float64Array(16);
 /**
  * C (m×n, row-major with row stride `ldc`, from `cOffset`) = A (m×k) · B (k×n),
  * or C += A·B with `accumulate`. A and B are strided views; C must not alias them.
+ * With `upper` (a square product known to be symmetric, such as XᵀX), only the
+ * 4×4 tiles touching the upper triangle are computed (about half the work);
+ * the entries strictly below the diagonal are then left partly unset.
  */
 export function gemm(
   m: number,
@@ -50,8 +53,9 @@ export function gemm(
   b: MatrixView,
   c: Float64Array,
   ldc: number,
-  options: { accumulate?: boolean; cOffset?: number } = {},
+  options: { accumulate?: boolean; cOffset?: number; upper?: boolean } = {},
 ): void {
+  const upper = options.upper === true;
   const cOffset = options.cOffset ?? 0;
   if (!options.accumulate)
     for (let i = 0; i < m; i++) c.fill(0, cOffset + i * ldc, cOffset + i * ldc + n);
@@ -63,12 +67,14 @@ export function gemm(
       const kc = Math.min(KC, k - pc);
       packPanelB(b, pc, jc, kc, nc, ncPad);
       for (let ic = 0; ic < m; ic += MC) {
+        if (upper && ic > jc + nc - 1) break;
         const mc = Math.min(MC, m - ic);
         const mcPad = (mc + 3) & ~3;
         packPanelA(a, ic, pc, mc, kc, mcPad);
         for (let jr = 0; jr < ncPad; jr += 4) {
           const nr = Math.min(4, nc - jr);
           for (let ir = 0; ir < mcPad; ir += 4) {
+            if (upper && ic + ir > jc + jr + 3) break;
             const mr = Math.min(4, mc - ir);
             const cBase = cOffset + (ic + ir) * ldc + jc + jr;
             if (mr === 4 && nr === 4) kernel4x4(kc, ir * kc, jr * kc, c, cBase, ldc);

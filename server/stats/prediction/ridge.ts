@@ -83,7 +83,7 @@ export function prepareRidge(
     const r = p;
     // Gram XᵀX (p×p) from the column-major scaled matrix: xt is p×n_train row-major.
     const gram = new Float64Array(p * p);
-    gemm(p, p, nTrain, rowMajor(xt, nTrain), transposed(xt, nTrain), gram, p);
+    gemm(p, p, nTrain, rowMajor(xt, nTrain), transposed(xt, nTrain), gram, p, { upper: true });
     symmetrize(gram, p);
     const { diag, off, q } = householderTridiagonal(gram, p);
     // M = X Q (n_train×r): X = xtᵀ.
@@ -97,7 +97,7 @@ export function prepareRidge(
   const r = nTrain;
   // Gram XXᵀ (n_train×n_train).
   const gram = new Float64Array(r * r);
-  gemm(r, r, p, transposed(xt, nTrain), rowMajor(xt, nTrain), gram, r);
+  gemm(r, r, p, transposed(xt, nTrain), rowMajor(xt, nTrain), gram, r, { upper: true });
   symmetrize(gram, r);
   const { diag, off, q } = householderTridiagonal(gram, r);
   const m = q; // M = Q (n_train×r)

@@ -68,3 +68,23 @@ describe("gemm", () => {
       }
   });
 });
+
+describe("gemm of a symmetric product", () => {
+  it("computes the upper triangle of XᵀX as the full product does", () => {
+    // XᵀX is symmetric (definition; no source needed): only its upper triangle is formed.
+    const rng = createRng(13);
+    for (const [rows, cols] of [
+      [5, 3],
+      [40, 70],
+      [300, 133],
+    ]) {
+      const x = Float64Array.from({ length: rows * cols }, () => normalDraw(rng));
+      const full = new Float64Array(cols * cols);
+      gemm(cols, cols, rows, transposed(x, cols), rowMajor(x, cols), full, cols);
+      const upper = new Float64Array(cols * cols);
+      gemm(cols, cols, rows, transposed(x, cols), rowMajor(x, cols), upper, cols, { upper: true });
+      for (let i = 0; i < cols; i++)
+        for (let j = i; j < cols; j++) expect(upper[i * cols + j]).toBe(full[i * cols + j]);
+    }
+  });
+});
