@@ -706,7 +706,7 @@ export async function loadBrainTable(db: Queryable, v: DatasetVersion): Promise<
 }
 
 /** Rows' keys read per query when the values come from the binary columns. */
-const KEY_PAGE = 20_000;
+const KEY_PAGE = 5000;
 
 /** Calls `each` with the keys of a version's rows (participant, session, source row) page by page, in order. */
 async function forEachRowKeyPage(

@@ -20,16 +20,13 @@ import {
   datasetVersions,
   studies,
 } from "../../db/schema";
-import {
-  type BrainTable,
-  buildBrainTable,
-  buildFitData,
-  readTable,
-} from "../../server/intake";
+import { type BrainTable, buildBrainTable, buildFitData, readTable } from "../../server/intake";
 import {
   columnFromBase64,
   columnToBase64,
+  forEachColumn,
   hasColumns,
+  storeColumns,
 } from "../../server/services/dataset-columns";
 import {
   loadBrainTable,
@@ -247,6 +244,35 @@ describe("binary number columns of a brain-table version", () => {
       [],
     );
     expect(await hasColumns(t.db, v.id)).toBe(true);
+  });
+});
+
+describe("storing and reading many columns", () => {
+  it("goes in batches and gives back exactly the slots asked for, in slot order", async () => {
+    const studyId = await newStudy();
+    const v = await store(studyId, "brain", edgeCsv, "edges.csv");
+    // An incomplete version of 20,000 rows and 12 slots: a few slots per batch (about 100,000 values).
+    const id = randomUUID();
+    await t.db
+      .insert(datasetVersions)
+      .values({ ...v, id, version: 50, rowCount: 20_000, complete: false });
+    const rows = 20_000;
+    const columns = Array.from({ length: 12 }, (_, s) =>
+      new Float64Array(rows).map((_, i) => (i % 97 === s ? Number.NaN : s * 1e6 + i / 7)),
+    );
+    await storeColumns(t.db, id, columns);
+    const got: [number, Float64Array][] = [];
+    await forEachColumn(t.db, id, rows, [11, 0, 4, 3, 5, 6, 4], (slot, values) =>
+      got.push([slot, values]),
+    );
+    expect(got.map(([slot]) => slot)).toEqual([0, 3, 4, 5, 6, 11]);
+    for (const [slot, values] of got)
+      expect(Buffer.from(values.buffer)).toEqual(Buffer.from(columns[slot].buffer));
+    await expect(forEachColumn(t.db, id, rows, [12], () => {})).rejects.toThrow(
+      `dataset column: slot 12 of version ${id} is missing`,
+    );
+    await t.db.delete(datasetColumns).where(eq(datasetColumns.datasetId, id));
+    await t.db.delete(datasetVersions).where(eq(datasetVersions.id, id));
   });
 });
 
