@@ -6,7 +6,9 @@
  * (contract/fit-rules.ts) are judged as the choices change against
  * what the form knows of the data (regions, columns and their types,
  * sessions, standard errors, the group's levels), and what only the
- * values decide is said before the model is saved or run.
+ * values decide is said before the model is saved or run. Started from
+ * an existing model ("New model from this one"), the form takes its
+ * fields, and lists its exclusion rules with a Remove button for each.
  */
 import { useMemo, useState } from "react";
 import { StyleSheet, View } from "react-native";
@@ -18,9 +20,12 @@ import { questionOf } from "./fit/describe-model";
 import {
   useColumnLevels,
   useCreateModel,
+  useModel,
   useModelInputs,
   type ModelInputs,
+  type ModelView,
 } from "../hooks/use-models";
+import { type ExclusionRule, ruleText } from "../contract/exclusion-rules";
 import { useRunFit } from "../hooks/use-fits";
 import {
   circularityCaution,
@@ -64,10 +69,16 @@ const foldsOptions: { value: FoldsChoice; label: string }[] = [
 ];
 const correctionOptions = optionsOf(correctionLabels, correctionOrder);
 
-export function ModelForm(props: { studyId: string }) {
+/** `from`: a model of the study whose fields the new model starts from (its rules included). */
+export function ModelForm(props: { studyId: string; from?: string }) {
   const inputs = useModelInputs(props.studyId);
-  if (inputs.isPending) return <Pending label="Reading the study's tables…" />;
+  const from = useModel(props.studyId, props.from ?? "");
+  const starting = Boolean(props.from);
+  if (inputs.isPending || (starting && from.isPending))
+    return <Pending label="Reading the study's tables…" />;
   if (inputs.isError) return <Failure error={inputs.error} onRetry={() => inputs.refetch()} />;
+  if (starting && from.isError)
+    return <Failure error={from.error} onRetry={() => from.refetch()} />;
   if (inputs.data.regions.length === 0) {
     return (
       <Notice tone="caution" title="No brain table yet">
@@ -75,29 +86,48 @@ export function ModelForm(props: { studyId: string }) {
       </Notice>
     );
   }
-  return <Form studyId={props.studyId} inputs={inputs.data} />;
+  const start = starting && from.data?.spec.kind !== "specification-curve" ? from.data : undefined;
+  return <Form studyId={props.studyId} inputs={inputs.data} start={start} />;
 }
 
-function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
+function Form({
+  studyId,
+  inputs,
+  start,
+}: {
+  studyId: string;
+  inputs: ModelInputs;
+  start?: ModelView;
+}) {
   const router = useRouter();
-  const [name, setName] = useState("");
-  const [kind, setKind] = useState<Kind>("association");
-  const [allRegions, setAllRegions] = useState(true);
-  const [regions, setRegions] = useState<string[]>([]);
-  const [predictor, setPredictor] = useState<string | null>(inputs.numericColumns[0] ?? null);
-  const [group, setGroup] = useState<string | null>(inputs.categoricalColumns[0] ?? null);
-  const [levels, setLevels] = useState<string[]>([]);
-  const [covariates, setCovariates] = useState<string[]>([]);
-  const [interactionWith, setInteractionWith] = useState<string>("");
-  const [estimator, setEstimator] = useState<Estimator>("ols");
-  const [inference, setInference] = useState<ModelSpec["inference"]>("parametric");
-  const [resamples, setResamples] = useState("10000");
-  const [seed, setSeed] = useState("1");
-  const [correction, setCorrection] = useState<ModelSpec["correction"]>("holm");
-  const [weighted, setWeighted] = useState(false);
-  const [tau2Method, setTau2Method] = useState<"reml" | "dl">("reml");
-  const [knappHartung, setKnappHartung] = useState(false);
-  const [selection, setSelection] = useState<RegionSelection | null>(null);
+  const s0 = start?.spec;
+  const [name, setName] = useState(start ? `${start.name} (copy)` : "");
+  const [kind, setKind] = useState<Kind>(s0?.kind ?? "association");
+  const [allRegions, setAllRegions] = useState(!s0?.regions || s0.regions.length === 0);
+  const [regions, setRegions] = useState<string[]>(s0?.regions ?? []);
+  const [predictor, setPredictor] = useState<string | null>(
+    s0?.predictor ?? inputs.numericColumns[0] ?? null,
+  );
+  const [group, setGroup] = useState<string | null>(
+    (s0?.kind === "two-group" ? s0.group : undefined) ?? inputs.categoricalColumns[0] ?? null,
+  );
+  const [levels, setLevels] = useState<string[]>(s0?.levels ? [...s0.levels] : []);
+  const [covariates, setCovariates] = useState<string[]>(s0?.covariates ?? []);
+  const [interactionWith, setInteractionWith] = useState<string>(
+    s0?.kind === "association" && s0.interaction ? (s0.group ?? "") : "",
+  );
+  const [estimator, setEstimator] = useState<Estimator>(s0?.estimator ?? "ols");
+  const [inference, setInference] = useState<ModelSpec["inference"]>(s0?.inference ?? "parametric");
+  const [resamples, setResamples] = useState(String(s0?.resamples ?? 10000));
+  const [seed, setSeed] = useState(String(s0?.seed ?? 1));
+  const [correction, setCorrection] = useState<ModelSpec["correction"]>(s0?.correction ?? "holm");
+  const [weighted, setWeighted] = useState(s0?.weights === "first-level-se");
+  const [tau2Method, setTau2Method] = useState<"reml" | "dl">(s0?.tau2Method ?? "reml");
+  const [knappHartung, setKnappHartung] = useState(s0?.smallSample === "knapp-hartung");
+  const [selection, setSelection] = useState<RegionSelection | null>(
+    start?.regionSelection ?? null,
+  );
+  const [rules, setRules] = useState<ExclusionRule[]>(s0?.exclusionRules ?? []);
   const [folds, setFolds] = useState<FoldsChoice>("10");
   const [repeats, setRepeats] = useState("10");
   const [fixedPenalty, setFixedPenalty] = useState(false);
@@ -175,6 +205,9 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
           weights: weighted ? "first-level-se" : "none",
           tau2Method,
           smallSample: knappHartung ? "knapp-hartung" : "none",
+          ...((kind === "association" || kind === "two-group") && rules.length > 0
+            ? { exclusionRules: rules }
+            : {}),
         };
 
   const save = (thenRun: boolean) => {
@@ -243,6 +276,27 @@ function Form({ studyId, inputs }: { studyId: string; inputs: ModelInputs }) {
           } as ModelSpec)}
         </Txt>
       </Card>
+
+      {rules.length > 0 && (kind === "association" || kind === "two-group") ? (
+        <Card testID="model-rules">
+          <Heading level={3}>Exclusion rules</Heading>
+          <Txt kind="small" style={{ color: palette.inkSoft }}>
+            Part of the model: a participant meeting a rule is left out of its fits (a missing value
+            meets none).
+          </Txt>
+          {rules.map((rule, k) => (
+            <View key={ruleText(rule)} style={styles.ruleRow} testID="model-rule">
+              <Txt style={{ flexShrink: 1 }}>{ruleText(rule)}</Txt>
+              <Button
+                label="Remove"
+                variant="secondary"
+                accessibilityLabel={`Remove the rule ${ruleText(rule)}`}
+                onPress={() => setRules(rules.filter((_, j) => j !== k))}
+              />
+            </View>
+          ))}
+        </Card>
+      ) : null}
 
       <Card>
         <Heading level={3}>Regions</Heading>
@@ -573,4 +627,10 @@ const styles = StyleSheet.create({
   pair: { flexDirection: "row", flexWrap: "wrap", gap: space.md },
   half: { flexGrow: 1, flexBasis: 140 },
   buttons: { flexDirection: "row", flexWrap: "wrap", gap: space.md },
+  ruleRow: {
+    flexDirection: "row",
+    alignItems: "center",
+    justifyContent: "space-between",
+    gap: space.sm,
+  },
 });

@@ -7,6 +7,7 @@ import { can, useStudy } from "../hooks/use-study";
 import { useModels, type ModelView } from "../hooks/use-models";
 import { useRunFit } from "../hooks/use-fits";
 import { PlanCard } from "./plan-card";
+import { ruleText } from "../contract/exclusion-rules";
 
 /** Saved models of a study, each a question in plain words, with a run button. */
 export function ModelsScreen(props: { studyId: string }) {
@@ -43,6 +44,7 @@ export function ModelsScreen(props: { studyId: string }) {
             studyId={props.studyId}
             model={model}
             canRun={can(study.data, "fits.run")}
+            canWrite={writable}
           />
         ))
       )}
@@ -54,10 +56,12 @@ function ModelCard({
   studyId,
   model,
   canRun,
+  canWrite,
 }: {
   studyId: string;
   model: ModelView;
   canRun: boolean;
+  canWrite: boolean;
 }) {
   const run = useRunFit(studyId);
   const router = useRouter();
@@ -73,6 +77,11 @@ function ModelCard({
       <Txt kind="small" style={{ color: palette.muted }}>
         {regionsOf(model.spec)} · {methodOf(model.spec)}
       </Txt>
+      {model.spec.exclusionRules && model.spec.exclusionRules.length > 0 ? (
+        <Txt kind="small" style={{ color: palette.muted }} testID="model-card-rules">
+          Leaves out by rule: {model.spec.exclusionRules.map(ruleText).join("; ")}
+        </Txt>
+      ) : null}
       {model.caution ? (
         <Notice tone="caution" title="Circular region selection">
           {model.caution}
@@ -97,6 +106,19 @@ function ModelCard({
           variant="secondary"
           onPress={() => router.push(`/studies/${studyId}/fits`)}
         />
+        {canWrite && model.spec.kind !== "specification-curve" ? (
+          <Button
+            label="New model from this one"
+            variant="secondary"
+            testID="model-copy"
+            onPress={() =>
+              router.push({
+                pathname: "/studies/[studyId]/models/new",
+                params: { studyId, from: model.id },
+              })
+            }
+          />
+        ) : null}
       </View>
     </Card>
   );

@@ -30,8 +30,9 @@ export function useModels(studyId: string) {
   return useQuery(modelsQueryOptions(studyId));
 }
 
+/** One model; nothing is read while `modelId` is empty. */
 export function useModel(studyId: string, modelId: string) {
-  return useQuery(modelQueryOptions(studyId, modelId));
+  return useQuery({ ...modelQueryOptions(studyId, modelId), enabled: modelId !== "" });
 }
 
 export function useCreateModel(studyId: string) {

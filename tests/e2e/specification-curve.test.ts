@@ -166,6 +166,25 @@ describe("specification curve fit page", () => {
         // The plan's specification, fitted with the plan's rule as the model's: as planned.
         await expect(page.getByTestId("fit-plan").innerText()).resolves.toMatch(/As planned/);
         await screenshot(page, `curve-${label}-opened-fit`);
+        // The models list says the opened model's rule; a new model started from it lists the rule with Remove.
+        await page.goto(`${e2e.server.url}/studies/${studyId}/models`);
+        const card = page.getByTestId("model-card").filter({ hasText: "· specification" });
+        await expect(card.getByTestId("model-card-rules").innerText()).resolves.toContain(
+          "mean_fd > 0.2 (motion)",
+        );
+        await card.getByTestId("model-copy").click();
+        await page.getByTestId("model-rules").waitFor();
+        await expect(page.getByTestId("model-rule").innerText()).resolves.toContain(
+          "mean_fd > 0.2 (motion)",
+        );
+        const remove = page.getByRole("button", { name: "Remove the rule mean_fd > 0.2 (motion)" });
+        const removeBox = await remove.boundingBox();
+        expect(removeBox?.height ?? 0).toBeGreaterThanOrEqual(44);
+        expect((removeBox?.x ?? 0) + (removeBox?.width ?? 0)).toBeLessThanOrEqual(viewport.width);
+        await page.getByTestId("model-rules").scrollIntoViewIfNeeded();
+        await screenshot(page, `curve-${label}-model-rules`);
+        await remove.click();
+        await expect(page.getByTestId("model-rules").count()).resolves.toBe(0);
         const sideways = await page.evaluate(
           () => document.documentElement.scrollWidth - document.documentElement.clientWidth,
         );

@@ -3,7 +3,7 @@ import { ModelForm } from "../../../../../components/model-form";
 import { RoleGate } from "../../../../../components/role-refusal";
 
 export default function NewModelRoute() {
-  const { studyId } = useLocalSearchParams<{ studyId: string }>();
+  const { studyId, from } = useLocalSearchParams<{ studyId: string; from?: string }>();
   const id = String(studyId);
   return (
     <RoleGate
@@ -13,7 +13,7 @@ export default function NewModelRoute() {
       changes
       back={{ href: `/studies/${id}/models`, label: "Back to Models" }}
     >
-      <ModelForm studyId={id} />
+      <ModelForm studyId={id} from={from ? String(from) : undefined} />
     </RoleGate>
   );
 }
