@@ -42,7 +42,7 @@ import {
 import { normalCdf } from "./distributions";
 import { require } from "./errors";
 import { spearmanDistribution, twoSidedExactP } from "./exact-rank-distributions";
-import { averageRanks } from "./ranks";
+import { type RankResult, averageRanks } from "./ranks";
 
 /** Largest n for which the exact permutation distribution is used. */
 export const SPEARMAN_EXACT_MAX_N = 9;
@@ -134,15 +134,28 @@ export function spearmanCorrelation(
   y: ArrayLike<number>,
   options: { level?: number } = {},
 ): SpearmanResult {
-  const { level = 0.95 } = options;
   require(x.length === y.length, "spearmanCorrelation requires two variables of equal length");
   const n = x.length;
   require(n >= 3, "spearmanCorrelation requires at least three pairs");
   for (let i = 0; i < n; i++)
     require(Number.isFinite(x[i]) &&
       Number.isFinite(y[i]), "spearmanCorrelation requires finite values");
-  const rx = averageRanks(x);
-  const ry = averageRanks(y);
+  return spearmanFromRanks(averageRanks(x), averageRanks(y), options);
+}
+
+/**
+ * spearmanCorrelation from the mid-ranks and tie groups of the two
+ * variables (averageRanks of each), for callers that have them already.
+ */
+export function spearmanFromRanks(
+  rx: RankResult,
+  ry: RankResult,
+  options: { level?: number } = {},
+): SpearmanResult {
+  const { level = 0.95 } = options;
+  const n = rx.ranks.length;
+  require(ry.ranks.length === n, "spearmanCorrelation requires two variables of equal length");
+  require(n >= 3, "spearmanCorrelation requires at least three pairs");
   const r = pearsonR(rx.ranks, ry.ranks);
   require(r !== null, "spearmanCorrelation requires variables that are not constant");
   let s = 0;

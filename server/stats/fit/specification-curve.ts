@@ -52,6 +52,7 @@ import { studentTTwoSidedP } from "../distributions";
 import { estimateRegion, rankedDesign } from "../fit-methods";
 import type { Estimator as RegionEstimator } from "../region-data";
 import { type RankResult, averageRanks } from "../ranks";
+import { spearmanFromRanks } from "../spearman";
 import { robustCoefficientByNormalEquations, robustWorkspace } from "../robust-regression";
 import { designFor, estimateRegionWork } from "./estimate";
 import { type Prepared, prepare, regionRows } from "./prepare";
@@ -248,7 +249,9 @@ export function drawRanks(
  * the tested column of one kept copy of the design and runs the estimator on
  * it — estimateRegion, the call the ordinary fit makes, without rebuilding
  * the design and its unused decomposition (the same numbers; tested against
- * the ordinary fit). Huber and bisquare draws run the same IRLS in one
+ * the ordinary fit). Spearman's correlation (rank without covariates) takes
+ * the brain value's ranks once and the trait's from drawRanks, the same
+ * ranks without a sort per draw (spearmanFromRanks; same numbers). Huber and bisquare draws run the same IRLS in one
  * workspace kept for the specification with each step solved by the normal
  * equations (robustCoefficientByNormalEquations): about 1e-12 relative from
  * the ordinary fit's QR steps, or the stopping tolerance where a step's
@@ -284,6 +287,16 @@ export function swappedNull(
       put(perm);
       const fit = robustCoefficientByNormalEquations(x, y, tested, workspace, options);
       return { estimate: fit.estimate, p: fit.p };
+    };
+  }
+  if (estimator === "rank" && covariateColumns === 0) {
+    // Spearman's correlation (estimateRegion's choice without covariates) from ranks: y's once, the trait's per draw without a sort.
+    const ry = averageRanks(y);
+    const ranksOf = drawRanks(trait as readonly number[]);
+    const rx = new Float64Array(n);
+    return (perm) => {
+      const s = spearmanFromRanks(ranksOf(perm, rows, rx), ry, { level: FIT_LEVEL });
+      return { estimate: s.r, p: s.p };
     };
   }
   return (perm) => {

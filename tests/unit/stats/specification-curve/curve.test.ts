@@ -398,8 +398,9 @@ describe("specification curve: null draws without refitting", () => {
 describe("specification curve: null draws with the design reused", () => {
   it("gives each robust, rank and correlation null draw the estimate and p of the engine's own ordinary fit on the permuted trait", () => {
     const data = invented(60, 0.3, 23);
-    const trait = (data.numericColumns.trait as (number | null)[]).map((v) => v ?? -0.2);
-    const complete: FitData = { ...data, numericColumns: { ...data.numericColumns, trait } };
+    const untied = (data.numericColumns.trait as (number | null)[]).map((v) => v ?? -0.2);
+    // Rounded to halves: tied ranks (Spearman's p then from t, untied from the Edgeworth series).
+    const tied = untied.map((v) => Math.round(v * 2) / 2);
     // Three draws in a row: a specification's kept design and workspace serve every draw.
     const rng = createRng(9);
     const perms = [0, 1, 2].map(() => {
@@ -414,7 +415,11 @@ describe("specification curve: null draws with the design reused", () => {
       { estimator: "skipped", covariates: [] },
       { estimator: "bend", covariates: [] },
     ] as const;
-    for (const { estimator, covariates } of cases) {
+    const runs = cases.flatMap((c) =>
+      (c.estimator === "rank" ? [untied, tied] : [untied]).map((trait) => ({ ...c, trait })),
+    );
+    for (const { estimator, covariates, trait } of runs) {
+      const complete: FitData = { ...data, numericColumns: { ...data.numericColumns, trait } };
       const prep = prepare(
         modelSpecSchema.parse({
           kind: "association",
