@@ -10,6 +10,9 @@
  *   permutation test (permutation-task.ts).
  * - `{ type: "curve", spec, data, block }`: one null block of a
  *   specification curve's joint test (`curveNullBlock`).
+ * - `{ type: "prediction", plan, input, from, to, control }`: outer splits
+ *   from … to − 1 of a planned prediction (`predictionSplit`); slot 0 of
+ *   `control` set to 1 cancels.
  *
  * A statistical precondition comes back as `{ ok: false, code, message }`
  * (the fit's reason for failing: it would fail the same way on any try);
@@ -19,6 +22,11 @@
 import type { FitData, ModelSpec } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
 import { curveNullBlock } from "../stats/fit/specification-curve";
+import {
+  type PredictionInput,
+  type PredictionPlan,
+  predictionSplit,
+} from "../stats/prediction/cross-validate";
 import { type ChunkResult, type FitChunks, fitChunks } from "./fit-chunks";
 import runPermutationTask, { type PermutationTask } from "./permutation-task";
 import { lowerWorkerThreadPriority } from "./thread-priority";
@@ -28,7 +36,15 @@ lowerWorkerThreadPriority();
 
 export type ChunkTask =
   | { type: "permutation"; task: PermutationTask }
-  | { type: "curve"; spec: ModelSpec; data: FitData; block: number };
+  | { type: "curve"; spec: ModelSpec; data: FitData; block: number }
+  | {
+      type: "prediction";
+      plan: PredictionPlan;
+      input: PredictionInput;
+      from: number;
+      to: number;
+      control: SharedArrayBuffer;
+    };
 
 export type ChunkTaskInput = ChunkTask | { type: "plan"; spec: ModelSpec; data: FitData };
 
@@ -44,6 +60,14 @@ export default function runChunkTask(
     if (input.type === "plan") return { ok: true, value: fitChunks(input.spec, input.data) };
     if (input.type === "permutation")
       return { ok: true, value: { kind: "permutation", counts: runPermutationTask(input.task) } };
+    if (input.type === "prediction") {
+      const control = new Int32Array(input.control);
+      const shouldCancel = () => Atomics.load(control, 0) === 1;
+      const partials = [];
+      for (let s = input.from; s < input.to; s++)
+        partials.push(predictionSplit(input.plan, input.input, s, { shouldCancel }));
+      return { ok: true, value: { kind: "prediction", partials } };
+    }
     return {
       ok: true,
       value: { kind: "curve", nulls: curveNullBlock(input.spec, input.data, input.block) },

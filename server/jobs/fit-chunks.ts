@@ -16,15 +16,24 @@
  *   block c (`curveNullBlock`, CURVE_BLOCK_DRAWS draws from its own
  *   stream); merged by concatenating blocks in order (RunFitOptions.curveNulls).
  *
+ * - "prediction": the outer splits of a cross-validated prediction (any
+ *   prediction fit; its random draws are all made by `planPrediction`, so
+ *   splits are independent whatever the streams). Chunk c is splits
+ *   c·k … c·k + k − 1 (k = ⌈splits / PREDICTION_CHUNKS⌉) computed by
+ *   `predictionSplit`; merged by `mergePrediction`
+ *   (RunFitOptions.predictionPartials).
+ *
  * Every other fit runs whole on one thread. Whatever the number of threads
  * or workers and the order chunks finish in, the merged fit is the fit
  * computed in one piece, number for number.
  */
+import { deserialize, serialize } from "node:v8";
 import type { FitData, ModelSpec } from "../../contract/spec";
 import { type RunFitOptions, inRegion } from "../stats/fit/common";
 import { estimateRegionWork } from "../stats/fit/estimate";
 import { linearPermutationInput } from "../stats/fit/infer";
 import { prepare } from "../stats/fit/prepare";
+import { predictionModel } from "../stats/fit/prediction";
 import { CURVE_BLOCK_DRAWS } from "../stats/fit/specification-curve";
 import type { QrDecomposition } from "../stats/linear-model";
 import {
@@ -40,6 +49,13 @@ import {
   regionChunks,
   sliceBlocks,
 } from "../stats/permutation-kernel";
+import {
+  type PredictionInput,
+  type PredictionPartial,
+  type PredictionPlan,
+  planPrediction,
+  predictionSplitCount,
+} from "../stats/prediction/cross-validate";
 import type { CurveStatistics } from "../stats/specification-curve/joint";
 import type { ChunkTask } from "./chunk-task";
 import type { PermutationTask } from "./permutation-task";
@@ -67,11 +83,25 @@ export interface ChunkedCurve {
   chunks: number;
 }
 
-/** A split fit of either kind. */
-export type FitChunks = ChunkedFit | ChunkedCurve;
+/** Most chunks a prediction is cut into (a few outer splits each beyond that). */
+export const PREDICTION_CHUNKS = 100;
+
+/** A prediction split by its outer splits: `perChunk` splits per chunk. */
+export interface ChunkedPrediction {
+  kind: "prediction";
+  plan: PredictionPlan;
+  input: PredictionInput;
+  splits: number;
+  perChunk: number;
+  chunks: number;
+}
+
+/** A split fit of any kind. */
+export type FitChunks = ChunkedFit | ChunkedCurve | ChunkedPrediction;
 
 /** How a fit is split, or null when it runs whole. From the model alone. */
 export function chunkKind(spec: ModelSpec): FitChunks["kind"] | null {
+  if (spec.kind === "prediction") return "prediction";
   if (spec.inference !== "permutation" || spec.rearrangementStreams !== "blocks-v1") return null;
   if (spec.kind === "specification-curve") return "curve";
   if (
@@ -96,6 +126,13 @@ export function isChunked(spec: ModelSpec): boolean {
 export function fitChunks(spec: ModelSpec, data: FitData): FitChunks | null {
   const kind = chunkKind(spec);
   if (kind === "permutation") return chunkedFit(spec, data);
+  if (kind === "prediction") {
+    const { input, options } = predictionModel(prepare(spec, data));
+    const plan = planPrediction(input, options);
+    const splits = predictionSplitCount(plan);
+    const perChunk = Math.max(1, Math.ceil(splits / PREDICTION_CHUNKS));
+    return { kind, plan, input, splits, perChunk, chunks: Math.ceil(splits / perChunk) };
+  }
   if (kind === "curve")
     return {
       kind,
@@ -168,13 +205,25 @@ export function chunkTaskOf(fit: FitChunks, chunk: number, control: SharedArrayB
   checkChunk(fit, chunk);
   if (fit.kind === "permutation")
     return { type: "permutation", task: chunkTask(fit, chunk, control) };
+  if (fit.kind === "prediction") {
+    const from = chunk * fit.perChunk;
+    return {
+      type: "prediction",
+      plan: fit.plan,
+      input: fit.input,
+      from,
+      to: Math.min(fit.splits, from + fit.perChunk),
+      control,
+    };
+  }
   return { type: "curve", spec: fit.spec, data: fit.data, block: chunk };
 }
 
 /** What a chunk's thread gives back, by kind. */
 export type ChunkResult =
   | { kind: "permutation"; counts: RearrangementCounts }
-  | { kind: "curve"; nulls: CurveStatistics[] };
+  | { kind: "curve"; nulls: CurveStatistics[] }
+  | { kind: "prediction"; partials: PredictionPartial[] };
 
 /** The thread task (permutation-task.ts) computing chunk `chunk`; `control` as that task reads it. */
 export function chunkTask(
@@ -199,7 +248,10 @@ export function chunkTask(
  * A chunk's result as stored (fit_chunks): binary arrays as base64 text. A
  * curve's null block keeps its draws' statistics in `counts` (median,
  * direction, share significant in the dominant direction, Stouffer's Z per
- * draw), `block` its block and `rearrangements` its number of draws.
+ * draw), `block` its block and `rearrangements` its number of draws; a
+ * prediction chunk keeps its splits' partials in `counts` (the structured
+ * clone serialization, node:v8, exact for numbers and typed arrays),
+ * `block` its chunk and `rearrangements` its number of splits.
  */
 export interface StoredChunk {
   chunk: number;
@@ -235,6 +287,17 @@ export function encodeChunk(fit: FitChunks, chunk: number, result: ChunkResult):
   checkChunk(fit, chunk);
   if (result.kind !== fit.kind)
     throw new Error(`fit chunks: a ${result.kind} result for a ${fit.kind} fit`);
+  if (result.kind === "prediction")
+    return {
+      chunk,
+      regionFrom: 0,
+      block: chunk,
+      counts: serialize(result.partials).toString("base64"),
+      maxAbs: null,
+      nulls: null,
+      exact: false,
+      rearrangements: result.partials.length,
+    };
   if (result.kind === "curve") {
     const all = new Float64Array(4 * result.nulls.length);
     for (let d = 0; d < result.nulls.length; d++) {
@@ -309,7 +372,8 @@ function decodeCurveChunk(row: StoredChunk): CurveStatistics[] {
 /** Every chunk of a split fit, as the merging party hands them to `runFit` (structured-clone-able, for its thread). */
 export type MergedChunks =
   | { kind: "permutation"; chunks: RearrangementChunk[] }
-  | { kind: "curve"; nulls: CurveStatistics[] };
+  | { kind: "curve"; nulls: CurveStatistics[] }
+  | { kind: "prediction"; partials: PredictionPartial[] };
 
 /** The merged chunks of a fit of kind `kind` from its results, chunk c at place c. */
 export function mergedChunks(fit: FitChunks, results: readonly ChunkResult[]): MergedChunks {
@@ -319,6 +383,11 @@ export function mergedChunks(fit: FitChunks, results: readonly ChunkResult[]): M
     return {
       kind: "curve",
       nulls: results.flatMap((r) => (r.kind === "curve" ? r.nulls : [])),
+    };
+  if (fit.kind === "prediction")
+    return {
+      kind: "prediction",
+      partials: results.flatMap((r) => (r.kind === "prediction" ? r.partials : [])),
     };
   return {
     kind: "permutation",
@@ -337,16 +406,27 @@ export function mergedOfStored(
 ): MergedChunks {
   const sorted = [...rows].sort((a, b) => a.chunk - b.chunk);
   if (kind === "curve") return { kind, nulls: sorted.flatMap(decodeCurveChunk) };
+  if (kind === "prediction")
+    return {
+      kind,
+      partials: sorted.flatMap(
+        (row) => deserialize(Buffer.from(row.counts, "base64")) as PredictionPartial[],
+      ),
+    };
   return { kind, chunks: sorted.map(decodeChunk) };
 }
 
 /** The `runFit` options that answer a split fit's test from its merged chunks. */
 export function mergeOptions(
   merged: MergedChunks,
-): Pick<RunFitOptions, "linearPermutation" | "curveNulls"> {
+): Pick<RunFitOptions, "linearPermutation" | "curveNulls" | "predictionPartials"> {
   if (merged.kind === "curve") {
     const nulls = merged.nulls;
     return { curveNulls: () => nulls };
+  }
+  if (merged.kind === "prediction") {
+    const partials = merged.partials;
+    return { predictionPartials: () => partials };
   }
   const chunks = merged.chunks;
   return { linearPermutation: (input) => mergedLinearPermutationTest(input, chunks) };

@@ -1,6 +1,7 @@
 /**
  * Split fits in the embedded path (server/jobs/fit-jobs.ts): a blocked
- * max-T Freedman–Lane fit and a specification curve with the joint test are
+ * max-T Freedman–Lane fit, a specification curve with the joint test and a
+ * cross-validated prediction (one chunk per outer split) are
  * computed chunk by chunk on the chunk pool's threads (progress moves in
  * chunk steps up to 90 %, then the merge) and store the numbers of the same
  * model and data computed in one piece by `runFit` (exact enumeration of the
@@ -89,7 +90,7 @@ describe("split fits on the embedded path's chunk threads", () => {
       "blocks-v1",
     );
     // 2,001 rearrangements = blocks of 501, 500, 500, 500; one region chunk: four chunks, 90 % / 4 each.
-    for (const k of [1, 2, 3, 4]) expect(fractions).toContain((0.9 * k) / 4);
+    for (const k of [1, 2, 3, 4]) expect(fractions).toContain(0.9 * (k / 4));
     expect(row.result).toEqual(await inOnePiece(row));
   }, 120_000);
 
@@ -108,7 +109,22 @@ describe("split fits on the embedded path's chunk threads", () => {
       seed: 5,
     });
     // 60 null draws in blocks of 25, 25 and 10: three chunks.
-    for (const k of [1, 2, 3]) expect(fractions).toContain((0.9 * k) / 3);
+    for (const k of [1, 2, 3]) expect(fractions).toContain(0.9 * (k / 3));
+    expect(row.result).toEqual(await inOnePiece(row));
+  }, 120_000);
+
+  it("a prediction: one chunk per outer split, the numbers of the prediction in one piece", async () => {
+    const { row, fractions } = await fitThroughApp("Accuracy predicted, in chunks", {
+      kind: "prediction",
+      predictor: "accuracy",
+      covariates: ["age"],
+      folds: 5,
+      repeats: 2,
+      resamples: 19,
+      seed: 4,
+    });
+    // 5 folds × 2 repeats: ten chunks.
+    for (const k of [1, 5, 10]) expect(fractions).toContain(0.9 * (k / 10));
     expect(row.result).toEqual(await inOnePiece(row));
   }, 120_000);
 });

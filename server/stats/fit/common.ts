@@ -6,6 +6,7 @@
  */
 import { StatsError } from "../errors";
 import type { LinearPermutationResult, SharedLinearPermutationInput } from "../permutation";
+import type { PredictionPartial } from "../prediction/split";
 import type { CurveStatistics } from "../specification-curve/joint";
 
 export interface RunFitOptions {
@@ -24,6 +25,13 @@ export interface RunFitOptions {
    * fit whose blocks threads or worker processes computed merges them here).
    */
   curveNulls?: () => readonly CurveStatistics[];
+  /**
+   * Answers every outer split of a prediction fit in place of computing
+   * them here: what `predictionSplit` gives for each split of the fit's
+   * plan, in any order (a fit whose splits threads or worker processes
+   * computed merges them here).
+   */
+  predictionPartials?: () => readonly PredictionPartial[];
 }
 
 /** Confidence level of every interval in a fit. */

@@ -8,11 +8,25 @@
  * `prediction` block (contract/prediction.ts) and `n`, the participants used.
  */
 import type { FitResult } from "../../../contract/spec";
-import { crossValidatedPrediction } from "../prediction/cross-validate";
+import {
+  crossValidatedPrediction,
+  mergePrediction,
+  type PredictionInput,
+  type PredictionOptions,
+  planPrediction,
+} from "../prediction/cross-validate";
 import { FIT_LEVEL, type RunFitOptions, assertFinite, fail } from "./common";
 import { PREDICTION_MINIMUM, type Prepared, predictionRows } from "./prepare";
 
-export function runPrediction(prep: Prepared, options: RunFitOptions): FitResult {
+/**
+ * The cross-validated model of a prepared prediction fit: its input (the
+ * participants complete in every chosen region, the trait and each
+ * confound) and options. Throws StatsError as `runPrediction`.
+ */
+export function predictionModel(prep: Prepared): {
+  input: PredictionInput;
+  options: PredictionOptions;
+} {
   const { spec: s, data } = prep;
   const rows = predictionRows(prep);
   if (rows.length < PREDICTION_MINIMUM)
@@ -26,8 +40,8 @@ export function runPrediction(prep: Prepared, options: RunFitOptions): FitResult
       fail(`covariates: '${c.name}' is a category; a prediction takes numeric confounds only`);
     return pick(c.numeric);
   });
-  const block = crossValidatedPrediction(
-    {
+  return {
+    input: {
       participants: rows.map((i) => data.participants[i]),
       X: prep.regionIndex.map((r) => pick(data.values[r])),
       regions: prep.regionIndex.map((r) => data.regions[r]),
@@ -38,7 +52,7 @@ export function runPrediction(prep: Prepared, options: RunFitOptions): FitResult
         ? { group: rows.map((i) => (prep.group as readonly (string | null)[])[i]) }
         : {}),
     },
-    {
+    options: {
       folds: s.folds,
       repeats: s.repeats,
       lambda: s.lambda,
@@ -47,10 +61,22 @@ export function runPrediction(prep: Prepared, options: RunFitOptions): FitResult
       inference: s.inference === "permutation" ? "permutation" : "none",
       resamples: s.resamples,
       learningCurve: true,
-      onProgress: options.onProgress,
-      shouldCancel: options.shouldCancel,
     },
-  );
+  };
+}
+
+export function runPrediction(prep: Prepared, options: RunFitOptions): FitResult {
+  const { spec: s, data } = prep;
+  const { input, options: model } = predictionModel(prep);
+  const rows = input.participants;
+  // A split fit (server/jobs/fit-chunks.ts) merges the partials other threads or processes computed.
+  const block = options.predictionPartials
+    ? mergePrediction(planPrediction(input, model), input, options.predictionPartials())
+    : crossValidatedPrediction(input, {
+        ...model,
+        onProgress: options.onProgress,
+        shouldCancel: options.shouldCancel,
+      });
   const left = data.participants.length - rows.length;
   const notes = [
     `Participants: ${rows.length} with a value in every chosen region, the trait and each confound${left > 0 ? `; ${left} left out` : ""}.`,

@@ -177,3 +177,47 @@ describe("a specification curve's joint test in chunks", () => {
     );
   });
 });
+
+describe("a prediction's outer splits in chunks", () => {
+  const data = curveData();
+  const prediction = modelSpecSchema.parse({
+    kind: "prediction",
+    predictor: "trait",
+    covariates: ["age"],
+    folds: 5,
+    repeats: 3,
+    inference: "permutation",
+    resamples: 19,
+    seed: 8,
+  });
+
+  it("chunks computed apart in any order, stored and merged give the prediction computed in one piece", () => {
+    const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec: prediction, data }));
+    // 5 folds × 3 repeats = 15 outer splits, one per chunk (at most PREDICTION_CHUNKS chunks).
+    expect(plan.kind).toBe("prediction");
+    expect(plan.chunks).toBe(15);
+    const control = new SharedArrayBuffer(8);
+    const order = Array.from({ length: 15 }, (_, c) => (c * 7) % 15);
+    const stored = order.map((c) =>
+      encodeChunk(plan, c, unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control)))),
+    );
+    const merged = runFit(prediction, data, mergeOptions(mergedOfStored("prediction", stored)));
+    const whole = runFit(prediction, data);
+    expect(JSON.stringify(merged)).toBe(JSON.stringify(whole));
+    expect((whole.prediction as { permutation: { resamples: number } }).permutation.resamples).toBe(
+      19,
+    );
+  });
+
+  it("a split missing from the merge is refused", () => {
+    const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec: prediction, data }));
+    const control = new SharedArrayBuffer(8);
+    const results = Array.from({ length: 14 }, (_, c) =>
+      unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control))),
+    );
+    const partials = results.flatMap((r) => (r.kind === "prediction" ? r.partials : []));
+    expect(() => runFit(prediction, data, { predictionPartials: () => partials })).toThrow(
+      /split 14 is missing/,
+    );
+  });
+});
