@@ -311,6 +311,49 @@ describe("specification curve: the joint test", () => {
     expect(ols.estimate).toBe(ordinary.estimate);
     expect(ols.p).toBe(ordinary.p);
   });
+
+  it("gives every two-group specification with rules the numbers of the ordinary two-group fit of its model", () => {
+    const data = invented(40, 1, 5);
+    const motion = { column: "mean_fd", op: ">" as const, value: 0.45, reason: "motion" };
+    const res = runFit(
+      modelSpecSchema.parse({
+        kind: "specification-curve",
+        regions: ["amygdala"],
+        group: "group",
+        levels: ["patient", "control"],
+        specifications: {
+          estimators: ["ols", "welch", "huber"],
+          covariateSets: [[]],
+          exclusionRules: [motion],
+        },
+      }),
+      data,
+    );
+    const specs = res.specifications as CurveSpecification[];
+    expect(specs).toHaveLength(6);
+    for (const s of specs) {
+      const region = runFit(
+        modelSpecSchema.parse({
+          kind: "two-group",
+          regions: ["amygdala"],
+          group: "group",
+          levels: ["patient", "control"],
+          estimator: s.estimator,
+          ...(s.exclusions.length > 0 ? { exclusionRules: [motion] } : {}),
+        }),
+        data,
+      ).regions[0];
+      expect(s.n).toBe(region.n);
+      for (const key of ["estimate", "ciLow", "ciHigh", "p"] as const)
+        expect(Math.abs((s[key] as number) - (region[key] as number))).toBeLessThanOrEqual(
+          1e-9 * Math.abs(region[key] as number),
+        );
+    }
+    // The rule leaves some out: the specifications with it on have fewer participants.
+    const on = specs.find((s) => s.estimator === "ols" && s.exclusions.length === 1);
+    const off = specs.find((s) => s.estimator === "ols" && s.exclusions.length === 0);
+    expect((on as CurveSpecification).n).toBeLessThan((off as CurveSpecification).n);
+  });
 });
 
 describe("specification curve: rules", () => {
