@@ -2,8 +2,9 @@
  * The top of a fit, in plain words and within the first screen: the
  * model's name and stage, its question, N over the regions, **Set aside: k**
  * with a disclosure of each set-aside (participant, scope, reason, who and
- * when) and what the model's exclusion rules left out, the earlier fit it re-runs with what changed, a notice with a
- * Refit button when newer data or set-asides exist, a Run again button when
+ * when) and what the model's exclusion rules left out, the earlier fit it
+ * re-runs with what changed, a notice with a Refit button when newer data
+ * or set-asides exist, a Run again button when
  * the fit was cancelled or failed, and the small-sample caution when a
  * region has fewer than 20 participants.
  */
