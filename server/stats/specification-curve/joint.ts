@@ -6,7 +6,7 @@
  *
  * Significance: p < .05, two-sided. A curve's dominant direction is the
  * sign of its median estimate (positive at exactly 0). Its statistics:
- * - the median estimate;
+ * - the median estimate (descriptive.ts's median: by selection, O(K) a curve);
  * - the share of specifications significant in its dominant direction;
  * - Stouffer's Z = Σ zᵢ/√K with zᵢ = Φ⁻¹(1 − qᵢ), qᵢ the one-sided p-value in
  *   the dominant direction (pᵢ/2 when the estimate points that way, else
@@ -16,6 +16,7 @@
  * dominant share or Z is at least the observed one (Phipson & Smyth 2010).
  */
 import type { CurveSummary } from "../../../contract/specification-curve";
+import { median } from "../descriptive";
 import { normalQuantile } from "../distributions/normal";
 
 export const CURVE_ALPHA = 0.05;
@@ -23,13 +24,6 @@ export const CURVE_ALPHA = 0.05;
 export interface EstimateAndP {
   estimate: number;
   p: number;
-}
-
-/** The median of the values (mean of the middle two for an even count). */
-export function median(values: readonly number[]): number {
-  const s = [...values].sort((a, b) => a - b);
-  const k = s.length >> 1;
-  return s.length % 2 === 1 ? s[k] : (s[k - 1] + s[k]) / 2;
 }
 
 export function curveSummary(specs: readonly EstimateAndP[]): CurveSummary {
@@ -64,7 +58,7 @@ export function curveStatistics(
   ps: ArrayLike<number>,
 ): CurveStatistics {
   const K = estimates.length;
-  const m = median(Array.from(estimates));
+  const m = median(estimates);
   const direction: 1 | -1 = m >= 0 ? 1 : -1;
   let sig = 0;
   let zSum = 0;
