@@ -61,24 +61,7 @@ export function prepareRidge(
   options: { standardize: boolean },
 ): RidgeBasis {
   const nHeld = held.length / p;
-  const xt = new Float64Array(p * nTrain); // scaled training matrix, column-major (p rows of n)
-  const h = new Float64Array(nHeld * p);
-  for (let j = 0; j < p; j++) {
-    let mean = 0;
-    for (let i = 0; i < nTrain; i++) mean += train[i * p + j];
-    mean /= nTrain;
-    let ss = 0;
-    for (let i = 0; i < nTrain; i++) {
-      const c = train[i * p + j] - mean;
-      xt[j * nTrain + i] = c;
-      ss += c * c;
-    }
-    const sd = Math.sqrt(ss / (nTrain - 1));
-    if (!(sd > 0)) throw new StatsError(`region '${names[j]}' is constant in a training fold`);
-    const scale = options.standardize ? 1 / sd : 1;
-    if (scale !== 1) for (let i = 0; i < nTrain; i++) xt[j * nTrain + i] *= scale;
-    for (let i = 0; i < nHeld; i++) h[i * p + j] = (held[i * p + j] - mean) * scale;
-  }
+  const { xt, h } = scaleColumns(train, held, nTrain, p, names, options.standardize);
   if (p <= nTrain) {
     const r = p;
     // Gram XᵀX (p×p) from the column-major scaled matrix: xt is p×n_train row-major.
@@ -110,8 +93,44 @@ export function prepareRidge(
   return { nTrain, nHeld, p, r, diag, off, m, w, b };
 }
 
+/**
+ * The training matrix centred (and with `standardize` scaled by the training
+ * SD, n − 1) column by column, stored column-major as `xt` (p rows of
+ * n_train), and the held-out rows row-major in `h` under the same centring
+ * and scaling. Throws StatsError naming a column constant on the training rows.
+ */
+export function scaleColumns(
+  train: Float64Array,
+  held: Float64Array,
+  nTrain: number,
+  p: number,
+  names: readonly string[],
+  standardize: boolean,
+): { xt: Float64Array; h: Float64Array } {
+  const nHeld = held.length / p;
+  const xt = new Float64Array(p * nTrain);
+  const h = new Float64Array(nHeld * p);
+  for (let j = 0; j < p; j++) {
+    let mean = 0;
+    for (let i = 0; i < nTrain; i++) mean += train[i * p + j];
+    mean /= nTrain;
+    let ss = 0;
+    for (let i = 0; i < nTrain; i++) {
+      const c = train[i * p + j] - mean;
+      xt[j * nTrain + i] = c;
+      ss += c * c;
+    }
+    const sd = Math.sqrt(ss / (nTrain - 1));
+    if (!(sd > 0)) throw new StatsError(`region '${names[j]}' is constant in a training fold`);
+    const scale = standardize ? 1 / sd : 1;
+    if (scale !== 1) for (let i = 0; i < nTrain; i++) xt[j * nTrain + i] *= scale;
+    for (let i = 0; i < nHeld; i++) h[i * p + j] = (held[i * p + j] - mean) * scale;
+  }
+  return { xt, h };
+}
+
 /** Makes a computed Gram matrix exactly symmetric (upper triangle copied to the lower). */
-function symmetrize(a: Float64Array, n: number): void {
+export function symmetrize(a: Float64Array, n: number): void {
   for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) a[j * n + i] = a[i * n + j];
 }
 
@@ -128,7 +147,10 @@ export interface RidgeFactors {
  * (Golub & Van Loan 2013, §4.3.6; stable without pivoting as T + λI is
  * positive definite). Cost O(r) per λ.
  */
-export function ridgeFactors(basis: RidgeBasis, lambdas: ArrayLike<number>): RidgeFactors {
+export function ridgeFactors(
+  basis: Pick<RidgeBasis, "r" | "diag" | "off">,
+  lambdas: ArrayLike<number>,
+): RidgeFactors {
   const { r, diag, off } = basis;
   const count = lambdas.length;
   const pivot = new Float64Array(count * r);

@@ -10,10 +10,11 @@
 import { StatsError } from "../errors";
 import { type BlockFit, fitFoldBlock } from "./block-fit";
 import type { PredictionInput } from "./cross-validate";
-import { type PreparedFold, prepareFold } from "./fold-pipeline";
+import { prepareFold } from "./fold-pipeline";
 import { type PredictionPlan, planData } from "./plan";
 import { ridgeWeights } from "./ridge";
 import { SCORE_SUM_LENGTH, ScoreSums } from "./scores";
+import { fitSingle } from "./single-fit";
 
 /** Traits fitted together per block of permutations. */
 export const PERMUTATION_BLOCK = 32;
@@ -126,10 +127,12 @@ export function predictionSplit(
     partial.curve = plan.curve[s].map((planned) => {
       cancel();
       if (planned.train === null) return { rows: planned.rows, sums: null };
-      let curveFold: PreparedFold;
+      let fit: ReturnType<typeof fitSingle>;
       try {
-        curveFold = prepareFold(data, planned.train, split.held, {
-          ...fitOptions,
+        fit = fitSingle(data, planned.train, split.held, input.y, {
+          standardize: plan.standardize,
+          lambda: plan.lambda,
+          lambdaGrid: plan.lambdaGrid,
           innerSplits: planned.inner,
         });
       } catch (error) {
@@ -137,9 +140,10 @@ export function predictionSplit(
           return { rows: planned.rows, sums: null };
         throw error;
       }
-      const fit = fitFoldBlock(curveFold, input.y, n, 1);
       const sums = new Float64Array(SCORE_SUM_LENGTH);
-      sumsOf(fit, 0, sums, 0);
+      const pairs = new ScoreSums();
+      for (let i = 0; i < fit.observed.length; i++) pairs.add(fit.observed[i], fit.predicted[i]);
+      pairs.writeTo(sums, 0);
       return { rows: planned.rows, sums };
     });
   }

@@ -105,6 +105,23 @@ export function tridiagonalize(
   e: Float64Array,
   n: number,
 ): Float64Array {
+  const { reflectors, tau } = reduceTridiagonal(a, d, e, n);
+  return accumulateReflectors(reflectors, tau, n);
+}
+
+/** Householder reflectors of a reduction: row k of `reflectors` is v_k (indices k+1..), with τ_k. */
+export interface Reflectors {
+  reflectors: Float64Array;
+  tau: Float64Array;
+}
+
+/** The reduction of `tridiagonalize` without forming Q (a is overwritten). Cost about m³ multiply-adds. */
+export function reduceTridiagonal(
+  a: Float64Array,
+  d: Float64Array,
+  e: Float64Array,
+  n: number,
+): Reflectors {
   const reflectors = new Float64Array(n * n); // row k: v of step k on indices k+1..n-1
   const tau = new Float64Array(n);
   const p = new Float64Array(n);
@@ -150,10 +167,19 @@ export function tridiagonalize(
     e[n - 1] = a[(n - 1) * n + n - 2];
   }
   d[n - 1] = a[(n - 1) * n + n - 1];
-  // Backward accumulation Q = H₀H₁⋯H_{n−3}: Q ← H_k Q touches rows and columns k+1.. only.
+  return { reflectors, tau };
+}
+
+/** Q = H₀H₁⋯H_{m−3} by backward accumulation (Golub & Van Loan §5.1.6). Cost about 2m³/3 multiply-adds. */
+export function accumulateReflectors(
+  reflectors: Float64Array,
+  tau: Float64Array,
+  n: number,
+): Float64Array {
+  // Q ← H_k Q touches rows and columns k+1.. only.
+  const w = new Float64Array(n);
   const q = new Float64Array(n * n);
   for (let i = 0; i < n; i++) q[i * n + i] = 1;
-  const w = p;
   for (let k = n - 3; k >= 0; k--) {
     const t = tau[k];
     if (t === 0) continue;
@@ -163,6 +189,25 @@ export function tridiagonalize(
     for (let i = k + 1; i < n; i++) axpyRow(q, i * n, -t * reflectors[vOff + i], w, 0, k + 1, n);
   }
   return q;
+}
+
+/**
+ * x ← Qᵀx (`transpose`) or x ← Qx for Q = H₀H₁⋯H_{m−3} given by its
+ * reflectors, H_k = I − τ_k v_k v_kᵀ. Cost about m² multiply-adds.
+ */
+export function applyReflectors(
+  { reflectors, tau }: Reflectors,
+  n: number,
+  x: Float64Array,
+  transpose: boolean,
+): void {
+  for (let step = 0; step < n - 2; step++) {
+    const k = transpose ? step : n - 3 - step;
+    const t = tau[k];
+    if (t === 0) continue;
+    const f = t * dotRange(reflectors, k * n, x, 0, k + 1, n);
+    axpyRow(x, 0, -f, reflectors, k * n, k + 1, n);
+  }
 }
 
 /** Σ_{j∈[from,to)} x[xo + j]·y[yo + j]. */

@@ -11,6 +11,7 @@ import { fitFold, prepareFold } from "../../../../server/stats/prediction/fold-p
 import { crossValidationSplits } from "../../../../server/stats/prediction/folds";
 import { CURVE_FRACTIONS } from "../../../../server/stats/prediction/plan";
 import { ScoreSums } from "../../../../server/stats/prediction/scores";
+import { fitSingle } from "../../../../server/stats/prediction/single-fit";
 import { shuffleInPlace } from "../../../../server/stats/rearrangements";
 import { createRng } from "../../../../server/stats/rng";
 import { inventData } from "./reference-ridge";
@@ -154,5 +155,53 @@ describe("prediction split into plan, splits and merge", () => {
       }
     });
     expect(failed.every((x) => x)).toBe(false);
+  });
+
+  it("fits one trait through reflectors as the prepared fold does (primal and dual, confounds, fixed λ)", () => {
+    // Same ridge estimate, (XᵀX + λI)⁻¹Xᵀy = Xᵀ(XXᵀ + λI)⁻¹y (Hastie, Tibshirani &
+    // Friedman 2009, §3.4.1 and §18.3.5), computed by two routes.
+    for (const [seed, n, p, covariates, lambda] of [
+      [41, 60, 8, 0, null],
+      [42, 30, 45, 2, null],
+      [43, 40, 12, 1, 2.5],
+    ] as const) {
+      const data = inventData(seed, n, p, { covariates });
+      const pipelineData = {
+        n,
+        x: data.X,
+        regions: data.regions,
+        covariates: data.covariates,
+        covariateNames: data.covariates.map((_, c) => `c${c}`),
+      };
+      const split = crossValidationSplits({ n, folds: 4, repeats: 1, rng: createRng(seed) })[1];
+      const rng = createRng(seed + 1);
+      const fold = prepareFold(pipelineData, split.train, split.held, {
+        standardize: true,
+        rng,
+        ...(lambda === null ? {} : { lambda }),
+      });
+      const reference = fitFold(fold, data.y);
+      const single = fitSingle(pipelineData, split.train, split.held, data.y, {
+        standardize: true,
+        lambda,
+        lambdaGrid: null,
+        innerSplits:
+          lambda === null
+            ? fold.inner.map((stage, f) => ({
+                repeat: 0,
+                fold: f,
+                train: stage.train.map((u) => split.train.indexOf(u)),
+                held: stage.held.map((u) => split.train.indexOf(u)),
+              }))
+            : null,
+      });
+      expect(single.lambda).toBe(reference.lambda);
+      for (let i = 0; i < split.held.length; i++) {
+        expect(single.observed[i]).toBeCloseTo(reference.observed[i], 12);
+        expect(Math.abs(single.predicted[i] - reference.predicted[i])).toBeLessThan(
+          1e-10 * Math.max(1, Math.abs(reference.predicted[i])),
+        );
+      }
+    }
   });
 });
