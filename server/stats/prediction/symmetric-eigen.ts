@@ -94,8 +94,8 @@ export function symmetricEigen(a: ArrayLike<number>, m: number): SymmetricEigen 
  * Householder reduction to tridiagonal form (Golub & Van Loan 2013, Matrix
  * Computations, 4th ed., Algorithm 8.3.1): step k reflects column k below the
  * diagonal onto its first entry, with p = τ·A₂₂v, w = p − (τ/2)(pᵀv)v and the
- * two-sided update A₂₂ ← A₂₂ − vwᵀ − wvᵀ done on whole rows of the row-major
- * matrix (contiguous memory). The reflectors are then accumulated backwards
+ * two-sided update A₂₂ ← A₂₂ − vwᵀ − wvᵀ, both on the upper triangle only,
+ * row by row (contiguous memory). The reflectors are then accumulated backwards
  * into Q (§5.1.6), returned row-major. On return d is the diagonal and e[i] the entry (i, i−1)
  * of the tridiagonal T = QᵀAQ (e[0] = 0).
  */
@@ -148,23 +148,28 @@ export function reduceTridiagonal(
     for (let i = k + 2; i < n; i++) reflectors[vOff + i] = a[rowK + i] * scale;
     tau[k] = t;
     e[k + 1] = beta;
-    // p = τ A₂₂ v (rows of the trailing block, contiguous).
+    // p = τ A₂₂ v from the upper triangle alone: one pass over each row adds
+    // A_ij v_j to p_i and A_ij v_i to p_j (j > i).
+    p.fill(0, k + 1, n);
+    for (let i = k + 1; i < n; i++) {
+      const row = i * n;
+      p[i] += a[row + i] * reflectors[vOff + i] + symmetricRow(a, row, reflectors, vOff, i, n, p);
+    }
     let pv = 0;
     for (let i = k + 1; i < n; i++) {
-      const pi = t * dotRange(a, i * n, reflectors, vOff, k + 1, n);
-      p[i] = pi;
-      pv += pi * reflectors[vOff + i];
+      p[i] *= t;
+      pv += p[i] * reflectors[vOff + i];
     }
     // w = p − (τ/2)(pᵀv) v, stored in p.
     const half = 0.5 * t * pv;
     for (let i = k + 1; i < n; i++) p[i] -= half * reflectors[vOff + i];
-    // A₂₂ ← A₂₂ − v wᵀ − w vᵀ.
+    // A₂₂ ← A₂₂ − v wᵀ − w vᵀ on the upper triangle.
     for (let i = k + 1; i < n; i++)
-      rank2Row(a, i * n, reflectors[vOff + i], p, p[i], reflectors, vOff, k + 1, n);
+      rank2Row(a, i * n, reflectors[vOff + i], p, p[i], reflectors, vOff, i, n);
   }
   if (n >= 2) {
     d[n - 2] = a[(n - 2) * n + n - 2];
-    e[n - 1] = a[(n - 1) * n + n - 2];
+    e[n - 1] = a[(n - 2) * n + n - 1];
   }
   d[n - 1] = a[(n - 1) * n + n - 1];
   return { reflectors, tau };
@@ -228,6 +233,29 @@ function dotRange(
   }
   if (j < to) s0 += x[xo + j] * y[yo + j];
   return s0 + s1;
+}
+
+/**
+ * For row i of the upper triangle (j from i + 1): returns Σ_j a_ij v_j and
+ * adds a_ij v_i to p_j.
+ */
+function symmetricRow(
+  a: Float64Array,
+  row: number,
+  v: Float64Array,
+  vo: number,
+  i: number,
+  n: number,
+  p: Float64Array,
+): number {
+  const vi = v[vo + i];
+  let s = 0;
+  for (let j = i + 1; j < n; j++) {
+    const aij = a[row + j];
+    s += aij * v[vo + j];
+    p[j] += aij * vi;
+  }
+  return s;
 }
 
 /** a[ao + j] −= vi·w[j] + wi·v[vo + j] for j in [from, to): one row of A − vwᵀ − wvᵀ. */
