@@ -35,7 +35,7 @@ import { conflict, notFound } from "../http/errors";
 import { idSchema } from "../http/validate";
 import type { FitJobs } from "../jobs/fit-jobs";
 import { decodeRegionRows } from "../jobs/region-rows";
-import type { RuleExclusion } from "../../contract/exclusion-rules";
+import { type RuleExclusion, modelRuleReason } from "../../contract/exclusion-rules";
 import { circularityCaution } from "../../contract/model-form";
 import { type Recipe, RecipeSpecError, buildRecipe, specOfRecipe } from "../../contract/recipe";
 import {
@@ -804,13 +804,24 @@ export async function regionDetail(
       : spec.levels
         ? [...spec.levels]
         : null;
-  const setAside = spec.setAside
-    .filter((s) => s.region === undefined || s.region === region)
-    .map((s) => ({
-      participant: s.participant,
-      scope: s.region === undefined ? ("all regions" as const) : ("this region" as const),
-      reason: s.reason,
-    }));
+  // Participants the model's rules left out are listed as left out of every region, with the rule as the reason.
+  const ruled = ((result.ruleExclusions as RuleExclusion[] | undefined) ?? []).flatMap((r) =>
+    r.participants.map((participant) => ({
+      participant,
+      scope: "all regions" as const,
+      reason: modelRuleReason(r.rule),
+    })),
+  );
+  const setAside = [
+    ...spec.setAside
+      .filter((s) => s.region === undefined || s.region === region)
+      .map((s) => ({
+        participant: s.participant,
+        scope: s.region === undefined ? ("all regions" as const) : ("this region" as const),
+        reason: s.reason,
+      })),
+    ...ruled,
+  ];
   const [shown] = (
     await withAttenuation(db, fit, [participantsVisible ? summary : withoutParticipantIds(summary)])
   ).regions;

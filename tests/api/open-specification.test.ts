@@ -136,6 +136,17 @@ describe("a specification opened as an ordinary fit", () => {
         expect(r.count).toBeGreaterThan(0);
         expect(r.participants).toHaveLength(r.count as number);
       }
+      // The region detail lists them as left out, the rule as the reason.
+      const detail = await as(() => analyst)
+        .get(`/api/fits/${fit.id}/regions/L_dlpfc`)
+        .expect(200);
+      const reasons = (detail.body.setAside as { participant: string; reason: string }[])
+        .filter((s) => s.reason.startsWith("rule: "))
+        .map((s) => s.reason);
+      expect(new Set(reasons)).toEqual(
+        new Set(["rule: mean_fd > 0.2 (motion)", "rule: accuracy < 0.7 (task not done)"]),
+      );
+      expect(reasons).toHaveLength(fit.ruleExclusions.reduce((n, r) => n + (r.count as number), 0));
       // No ids in the shown result; the recipe carries the rules.
       expect(fit.result).not.toHaveProperty("ruleExclusions");
       expect(fit.recipe?.exclusionRules).toEqual([motion, slow]);
