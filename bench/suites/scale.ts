@@ -1,6 +1,7 @@
 /**
  * Scale: one max-T Freedman–Lane fit on a PostgreSQL server, computed by
- * the embedded path (the fit's worker thread), by one worker process and
+ * the embedded path (its chunks on one thread per core, merged on the fit
+ * thread), by one worker process and
  * by two (`npm run worker`, the job queue), with the same numbers.
  *
  * The issue's size is 20,000 participants × 400 regions × 5 regressors ×
@@ -182,8 +183,12 @@ export default async function scaleBench(): Promise<void> {
       return { id: view.id, wall, result: JSON.stringify(row.result) };
     }
 
-    const embedded = await runFitVia("embedded", createFitJobs(db, { threads: 1 }));
-    console.log(`embedded path (one fit thread): ${embedded.wall.toFixed(1)} s`);
+    const embeddedJobs = createFitJobs(db, { threads: 1 });
+    const embedded = await runFitVia("embedded", embeddedJobs);
+    await embeddedJobs.close();
+    console.log(
+      `embedded path (plan and chunks on ${embeddedJobs.chunkThreads} chunk threads, merge on the fit thread): ${embedded.wall.toFixed(1)} s`,
+    );
 
     // The kernel's cost per chunk, on one thread in this process (the same chunks the workers compute).
     const [fitRow] = await db.select().from(fits).where(eq(fits.id, embedded.id));

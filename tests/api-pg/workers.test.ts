@@ -6,7 +6,8 @@
  * numbers, region rows included, of the same recipe computed by the
  * embedded path (the app's own worker threads); each chunk is stored once;
  * the live workers are listed for an Owner; a specification curve's joint
- * test, split into null blocks, gives the embedded numbers on two workers;
+ * test, split into null blocks, and a prediction, split into its outer
+ * splits, give the embedded numbers on two workers;
  * a cancelled fit stops getting chunks; a fit whose chunk fails on every
  * try ends failed.
  */
@@ -258,6 +259,40 @@ describe("fits on worker processes", () => {
     const [plan] = await t.db.select().from(fitRuns).where(eq(fitRuns.fitId, fitId));
     expect(plan.chunks).toBe(5);
     expect(await storedChunks(fitId)).toBe(5);
+  }, 180_000);
+
+  it("a prediction's outer splits on two workers give the embedded path's numbers", async () => {
+    const studyId = await demoStudyWithData(t);
+    const model = await request(t.url)
+      .post(`/api/studies/${studyId}/models`)
+      .set("Cookie", cookie)
+      .send({
+        name: "Accuracy predicted, on workers",
+        regionSelection: "anatomical-or-prior",
+        spec: {
+          kind: "prediction",
+          predictor: "accuracy",
+          covariates: ["age"],
+          folds: 4,
+          repeats: 2,
+          resamples: 19,
+          seed: 6,
+        },
+      })
+      .expect(201);
+    const embedded = await request(t.url)
+      .post(`/api/studies/${studyId}/fits`)
+      .set("Cookie", cookie)
+      .send({ modelId: model.body.id })
+      .expect(202);
+    await waitForFitStatus(t, cookie, embedded.body.id, ["done"]);
+    const reference = await finished(embedded.body.id);
+    const fitId = await queueCopyOfReference({ of: embedded.body.id });
+    const onWorkers = await finished(fitId);
+    expect(onWorkers.status).toBe("done");
+    expect(onWorkers.result).toEqual(reference.result);
+    // 4 folds × 2 repeats: eight chunks, each stored once.
+    expect(await storedChunks(fitId)).toBe(8);
   }, 180_000);
 
   it("a worker killed with SIGKILL mid-fit: the fit still finishes with the same numbers", async () => {
