@@ -118,9 +118,11 @@ export function fastNull(
   prep: Prepared,
   r: number,
   trait: readonly (number | null)[],
+  ranker?: TraitRanker,
 ): ((perm: Int32Array) => { estimate: number; p: number }) | null {
   const estimator = prep.spec.estimator;
   if (prep.spec.kind !== "association" || prep.group) return null;
+  if (!(estimator === "ols" || estimator === "rank")) return null;
   if (!trait.every((v) => v !== null && Number.isFinite(v))) return null;
   const rows = regionRows(prep, r);
   const { design, tested } = designFor(prep, rows);
@@ -168,7 +170,7 @@ export function fastNull(
   let ryy = 0;
   for (let i = 0; i < n; i++) ryy += ry[i] * ry[i];
   const rx = new Float64Array(n);
-  const ranksOf = rank ? drawRanks(trait as readonly number[]) : null;
+  const ranksOf = rank ? (ranker ?? drawRanks(trait as readonly number[])) : null;
   return (perm) => {
     if (ranksOf) ranksOf(perm, rows, rx);
     else for (let k = 0; k < n; k++) rx[k] = trait[perm[rows[k]]] as number;
@@ -193,11 +195,16 @@ export function fastNull(
  * per draw: the trait is sorted once into runs of equal values, and each
  * draw walks the runs keeping the values it uses. Same ranks and tie groups
  * as averageRanks on those values (tested against it); written to `out`
- * when given. Cost O(N) per draw, N = participants, after O(N log N) once.
+ * when given. Cost O(N) per draw, N = participants, after O(N log N) once
+ * (one ranker serves every specification of a curve).
  */
-export function drawRanks(
-  trait: readonly number[],
-): (perm: Int32Array, rows: ArrayLike<number>, out?: Float64Array) => RankResult {
+export type TraitRanker = (
+  perm: Int32Array,
+  rows: ArrayLike<number>,
+  out?: Float64Array,
+) => RankResult;
+
+export function drawRanks(trait: readonly number[]): TraitRanker {
   const total = trait.length;
   const order = Int32Array.from({ length: total }, (_, i) => i);
   order.sort((a, b) => trait[a] - trait[b] || a - b);
@@ -262,6 +269,7 @@ export function swappedNull(
   prep: Prepared,
   r: number,
   trait: readonly (number | null)[],
+  ranker?: TraitRanker,
 ): ((perm: Int32Array) => { estimate: number; p: number }) | null {
   if (prep.spec.kind !== "association" || prep.group) return null;
   if (!trait.every((v) => v !== null && Number.isFinite(v))) return null;
@@ -292,7 +300,7 @@ export function swappedNull(
   if (estimator === "rank" && covariateColumns === 0) {
     // Spearman's correlation (estimateRegion's choice without covariates) from ranks: y's once, the trait's per draw without a sort.
     const ry = averageRanks(y);
-    const ranksOf = drawRanks(trait as readonly number[]);
+    const ranksOf = ranker ?? drawRanks(trait as readonly number[]);
     const rx = new Float64Array(n);
     return (perm) => {
       const s = spearmanFromRanks(ranksOf(perm, rows, rx), ry, { level: FIT_LEVEL });
@@ -353,9 +361,18 @@ function nullDrawer(
       ? (prep.data.numericColumns[s.predictor as string] as readonly (number | null)[])
       : null;
   const groupColumn = choices[0]?.prep.group ?? null;
+  // One ranker of the trait for every rank specification (it sorts the trait once).
+  const ranker =
+    trait?.every((v) => v !== null && Number.isFinite(v)) &&
+    choices.some((c) => c.estimator === "rank")
+      ? drawRanks(trait as readonly number[])
+      : undefined;
   const fast = trait
     ? choices.map((c) =>
-        inRegion(region, () => fastNull(c.prep, r, trait) ?? swappedNull(c.prep, r, trait)),
+        inRegion(
+          region,
+          () => fastNull(c.prep, r, trait, ranker) ?? swappedNull(c.prep, r, trait, ranker),
+        ),
       )
     : [];
   return (rng, count, out, onDraw) => {
