@@ -13,20 +13,24 @@
  * permutations and extrapolated, as the output states; its observed r is
  * checked against the engine's.
  *
- * The complete full-size run takes several minutes on a shared machine, so by
- * default the suite times a sample of the outer folds (each with all of its
- * work: decompositions and 1,001 pipeline runs) and extrapolates to the 100
- * folds; PREDICTION_BENCH_SAMPLE_FOLDS sets the sample (default 2) and
- * PREDICTION_BENCH_FULL=1 runs the complete model instead. Data are invented
- * by a seeded generator.
+ * The model is split into independent outer splits (planPrediction,
+ * predictionSplit, mergePrediction); by default the suite plans the full
+ * model (learning curve included), times a sample of its 100 splits (each
+ * with all of its work: 6 decompositions, 1,001 pipeline runs in blocks, 24
+ * learning-curve decompositions) and projects time per split × splits, with
+ * the part spent preparing, on permutations and on the learning curve, the
+ * multiply-adds counted and the rate reached. PREDICTION_BENCH_SAMPLE_FOLDS
+ * sets the sample (default 2); PREDICTION_BENCH_FULL=1 runs the complete
+ * model instead. The load average is printed with each figure: the machine's
+ * 2 cores are shared. Data are invented by a seeded generator.
  */
 import os from "node:os";
-import { crossValidatedPrediction } from "../../server/stats/prediction/cross-validate";
 import {
-  defaultLambdaGrid,
-  fitFold,
-  prepareFold,
-} from "../../server/stats/prediction/fold-pipeline";
+  crossValidatedPrediction,
+  planPrediction,
+  predictionSplit,
+} from "../../server/stats/prediction/cross-validate";
+import { defaultLambdaGrid } from "../../server/stats/prediction/fold-pipeline";
 import { crossValidationSplits } from "../../server/stats/prediction/folds";
 import { createRearranger } from "../../server/stats/rearrangements";
 import { createRng, normalDraw } from "../../server/stats/rng";
@@ -34,6 +38,13 @@ import { createRng, normalDraw } from "../../server/stats/rng";
 const FULL_N = 1000;
 const FULL_P = 400;
 const FULL_RESAMPLES = 1000;
+
+function load(): string {
+  return `load ${os
+    .loadavg()
+    .map((l) => l.toFixed(1))
+    .join(", ")}`;
+}
 
 function seconds(start: bigint): number {
   return Number(process.hrtime.bigint() - start) / 1e9;
@@ -228,7 +239,7 @@ function speedUp(): void {
   const naivePer = seconds(start) / (naivePermutations + 1);
   const naive = naivePer * (resamples + 1);
   console.log(
-    `  engine ${engine.toFixed(2)} s; from scratch ${naivePer.toFixed(2)} s per pipeline run × ${resamples + 1} runs ≈ ${naive.toFixed(1)} s (timed on ${naivePermutations + 1} runs, extrapolated)`,
+    `  engine ${engine.toFixed(2)} s (${load()}); from scratch ${naivePer.toFixed(2)} s per pipeline run × ${resamples + 1} runs ≈ ${naive.toFixed(1)} s (timed on ${naivePermutations + 1} runs, extrapolated; ${load()})`,
   );
   console.log(
     `  speed-up ${(naive / engine).toFixed(1)}× (target ≥ 20×); observed r engine ${result.r?.toFixed(12)} vs from scratch ${naiveR.toFixed(12)}`,
@@ -250,7 +261,7 @@ function fullSize(): void {
     seed: 2026,
     inference: "permutation",
     resamples: FULL_RESAMPLES,
-    learningCurve: false,
+    learningCurve: true,
     onProgress: (fraction) => {
       if (fraction - lastReport >= 0.1) {
         lastReport = fraction;
@@ -260,63 +271,101 @@ function fullSize(): void {
   });
   const used = process.cpuUsage(cpu);
   console.log(
-    `  ${seconds(start).toFixed(1)} s wall, ${((used.user + used.system) / 1e6).toFixed(1)} s CPU (target ≤ 60 s); r = ${result.r?.toFixed(3)}, permutation p(r) = ${result.permutation?.pR}`,
+    `  ${seconds(start).toFixed(1)} s wall, ${((used.user + used.system) / 1e6).toFixed(1)} s CPU (target ≤ 60 s; ${load()}); r = ${result.r?.toFixed(3)}, permutation p(r) = ${result.permutation?.pR}`,
   );
 }
 
 /**
- * The same work on a sample of the 100 outer folds: each sampled fold is
- * prepared (its decomposition and its five inner ones) and its pipeline run
- * on the observed trait and every permutation, exactly as the model does per
- * fold; the total is extrapolated to 100 folds, as the output states.
+ * Multiply-adds of one split's matrix work, counted from the algorithm
+ * (server/stats/prediction/): per prepared training set the upper triangle
+ * of the Gram matrix (n_t·p·r/2), the tridiagonal reduction and the
+ * accumulation of Q (2r³/3 each), M and W (n·p·r); per trait G = Mᵀy (n_t·r)
+ * and the held-out predictions (n_h·r per penalty); per learning-curve
+ * training set the Gram matrix, the reduction, Xᵀy and per penalty the
+ * weights and predictions (n_h·p, and n_t·p in the dual form).
  */
-function sampledFolds(sample: number): void {
-  const data = invent(FULL_N, FULL_P, 2026);
-  console.log(
-    `full size, ${sample} of 100 outer folds timed: ${FULL_N} participants × ${FULL_P} regions, inner 5-fold λ over 20 values, ${FULL_RESAMPLES} permutations`,
-  );
-  const rng = createRng(2026);
-  const splits = crossValidationSplits({ n: FULL_N, folds: 10, repeats: 10, rng });
-  const walk = createRearranger({
-    kind: "permutations",
-    n: FULL_N,
-    resamples: FULL_RESAMPLES,
-    rng: createRng(2028),
-  });
-  const orders: Int32Array[] = [];
-  for (let k = 0; k < walk.total; k++) {
-    walk.next();
-    orders.push(Int32Array.from(walk.order));
-  }
-  const pipelineData = {
-    n: FULL_N,
-    x: data.X,
-    regions: data.regions,
-    covariates: [],
-    covariateNames: [],
+function splitMultiplyAdds(
+  plan: ReturnType<typeof planPrediction>,
+  s: number,
+): { prepare: number; perTrait: number; curve: number } {
+  const p = plan.p;
+  const grid = plan.lambda === null ? (plan.lambdaGrid?.length ?? 20) : 1;
+  const prepared = (nt: number, nh: number) => {
+    const r = Math.min(nt, p);
+    return { work: (nt * p * r) / 2 + (4 * r ** 3) / 3 + (nt + nh) * p * r, r };
   };
-  const permuted = new Float64Array(FULL_N);
-  let prepare = 0;
-  let permute = 0;
-  for (let s = 0; s < sample; s++) {
-    const split = splits[s * 10];
-    let start = process.hrtime.bigint();
-    const fold = prepareFold(pipelineData, split.train, split.held, { standardize: true, rng });
-    prepare += seconds(start);
-    start = process.hrtime.bigint();
-    for (const order of orders) {
-      for (let i = 0; i < FULL_N; i++) permuted[i] = data.y[order[i]];
-      fitFold(fold, permuted);
-    }
-    permute += seconds(start);
+  const single = (nt: number, nh: number, penalties: number) => {
+    const r = Math.min(nt, p);
+    const perPenalty = 2 * r * r + nh * p + (r < p ? nt * p : 0);
+    return (nt * p * r) / 2 + (2 * r ** 3) / 3 + nt * p + penalties * perPenalty;
+  };
+  const split = plan.splits[s];
+  const outer = prepared(split.train.length, split.held.length);
+  let prepare = outer.work;
+  let perTrait = split.train.length * outer.r + split.held.length * outer.r;
+  for (const i of plan.inner[s] ?? []) {
+    const st = prepared(i.train.length, i.held.length);
+    prepare += st.work;
+    perTrait += i.train.length * st.r + i.held.length * st.r * grid;
   }
-  const perFoldPrepare = prepare / sample;
-  const perFoldPermute = permute / sample;
+  let curve = 0;
+  for (const c of plan.curve?.[s] ?? []) {
+    if (c.train === null) continue;
+    curve += single(c.train.length, split.held.length, 1);
+    for (const i of c.inner ?? []) curve += single(i.train.length, i.held.length, grid);
+  }
+  return { prepare: prepare + perTrait, perTrait, curve };
+}
+
+/**
+ * The full-size model planned, a sample of its 100 outer splits computed as
+ * a worker would (predictionSplit: decompositions, the observed trait and
+ * 1,000 permutations in blocks, the learning curve), projected to all splits.
+ */
+function sampledSplits(sample: number): void {
+  const data = invent(FULL_N, FULL_P, 2026);
+  let start = process.hrtime.bigint();
+  const plan = planPrediction(data, {
+    folds: 10,
+    repeats: 10,
+    seed: 2026,
+    inference: "permutation",
+    resamples: FULL_RESAMPLES,
+    learningCurve: true,
+  });
+  const planning = seconds(start);
+  const splits = plan.splits.length;
   console.log(
-    `  per outer fold: decompositions ${perFoldPrepare.toFixed(2)} s, ${orders.length} pipeline runs ${perFoldPermute.toFixed(1)} s (${((perFoldPermute / orders.length) * 1e3).toFixed(1)} ms each)`,
+    `full size, ${sample} of ${splits} outer splits timed: ${FULL_N} participants × ${FULL_P} regions, inner 5-fold λ over 20 values, ${FULL_RESAMPLES} permutations, learning curve; planned in ${planning.toFixed(1)} s`,
+  );
+  const timings = { prepare: 0, permutations: 0, learningCurve: 0 };
+  const cpu = process.cpuUsage();
+  start = process.hrtime.bigint();
+  let work = { prepare: 0, permutations: 0, curve: 0 };
+  for (let k = 0; k < sample; k++) {
+    const s = Math.floor((k * splits) / sample);
+    predictionSplit(plan, data, s, { timings });
+    const count = splitMultiplyAdds(plan, s);
+    work = {
+      prepare: work.prepare + count.prepare,
+      permutations: work.permutations + count.perTrait * plan.permutationCount,
+      curve: work.curve + count.curve,
+    };
+  }
+  const wall = seconds(start);
+  const used = process.cpuUsage(cpu);
+  const perSplit = wall / sample;
+  const part = (name: string, secs: number, madds: number) =>
+    `${name} ${(secs / sample).toFixed(2)} s (${(madds / sample / 1e9).toFixed(1)} × 10⁹ multiply-adds, ${(madds / secs / 1e9).toFixed(2)} × 10⁹/s)`;
+  console.log(
+    `  per split: ${perSplit.toFixed(2)} s wall, ${((used.user + used.system) / 1e6 / sample).toFixed(2)} s CPU (${load()})`,
   );
   console.log(
-    `  extrapolated to 100 outer folds: ≈ ${(100 * (perFoldPrepare + perFoldPermute)).toFixed(0)} s on one thread (target ≤ 60 s)`,
+    `  per split: ${part("prepare", timings.prepare, work.prepare)}; ${part(`${plan.permutationCount} permutations`, timings.permutations, work.permutations)}; ${part("learning curve", timings.learningCurve, work.curve)}`,
+  );
+  const total = work.prepare + work.permutations + work.curve;
+  console.log(
+    `  projected to ${splits} splits: ≈ ${(perSplit * splits).toFixed(0)} s on one thread, ≈ ${((perSplit * splits) / 2).toFixed(0)} s with the splits on 2 threads (target ≤ 60 s); ≈ ${(((total / sample) * splits) / 1e12).toFixed(2)} × 10¹² multiply-adds in all`,
   );
 }
 
@@ -327,5 +376,5 @@ export default async function run(): Promise<void> {
   );
   speedUp();
   if (process.env.PREDICTION_BENCH_FULL === "1") fullSize();
-  else sampledFolds(Number(process.env.PREDICTION_BENCH_SAMPLE_FOLDS ?? 2));
+  else sampledSplits(Number(process.env.PREDICTION_BENCH_SAMPLE_FOLDS ?? 2));
 }
