@@ -1,5 +1,9 @@
 import { describe, expect, it } from "vitest";
-import { symmetricEigen } from "../../../../server/stats/prediction/symmetric-eigen";
+import { ridgeFactors, ridgeSolveColumns } from "../../../../server/stats/prediction/ridge";
+import {
+  householderTridiagonal,
+  symmetricEigen,
+} from "../../../../server/stats/prediction/symmetric-eigen";
 import { createRng, normalDraw } from "../../../../server/stats/rng";
 
 describe("symmetricEigen", () => {
@@ -100,5 +104,49 @@ describe("symmetricEigen", () => {
     }
     expect(residual / norm).toBeLessThan(1e-12);
     expect(orthogonality).toBeLessThan(1e-12);
+  });
+
+  it("reduces to tridiagonal form A = QTQᵀ with Q orthogonal, and solves T + λI", () => {
+    // Householder tridiagonalization (Golub & Van Loan 2013, Algorithm 8.3.1) and the
+    // LDLᵀ solve of a positive definite tridiagonal system (§4.3.6): checked by the
+    // definitions, QᵀQ = I, QTQᵀ = A and (T + λI)s = g.
+    const rng = createRng(23);
+    for (const m of [1, 2, 3, 17, 64]) {
+      const x = Array.from({ length: m + 3 }, () =>
+        Array.from({ length: m }, () => normalDraw(rng)),
+      );
+      const a = new Float64Array(m * m);
+      for (let i = 0; i < m; i++)
+        for (let j = 0; j < m; j++) for (const row of x) a[i * m + j] += row[i] * row[j];
+      const { diag, off, q } = householderTridiagonal(a, m);
+      const t = (i: number, j: number) =>
+        i === j ? diag[i] : j === i + 1 ? off[i] : i === j + 1 ? off[j] : 0;
+      let norm = 0;
+      for (const v of a) norm = Math.max(norm, Math.abs(v));
+      for (let i = 0; i < m; i++)
+        for (let j = 0; j < m; j++) {
+          let qtq = 0;
+          let back = 0;
+          for (let k = 0; k < m; k++) {
+            qtq += q[k * m + i] * q[k * m + j];
+            for (let l = Math.max(0, k - 1); l <= Math.min(m - 1, k + 1); l++)
+              back += q[i * m + k] * t(k, l) * q[j * m + l];
+          }
+          expect(Math.abs(qtq - (i === j ? 1 : 0))).toBeLessThan(1e-13);
+          expect(Math.abs(back - a[i * m + j])).toBeLessThan(1e-13 * norm);
+        }
+      const lambdas = [0.5, 30];
+      const factors = ridgeFactors({ r: m, diag, off }, lambdas);
+      const g = Float64Array.from({ length: m }, () => normalDraw(rng));
+      lambdas.forEach((lambda, l) => {
+        const s = new Float64Array(m);
+        ridgeSolveColumns(factors, l, g, 1, 0, s, 1, 0, 1);
+        for (let i = 0; i < m; i++) {
+          let ts = lambda * s[i];
+          for (let k = Math.max(0, i - 1); k <= Math.min(m - 1, i + 1); k++) ts += t(i, k) * s[k];
+          expect(Math.abs(ts - g[i])).toBeLessThan(1e-12 * (1 + Math.abs(g[i])));
+        }
+      });
+    }
   });
 });
