@@ -399,12 +399,42 @@ export function mergedChunks(fit: FitChunks, results: readonly ChunkResult[]): M
   };
 }
 
-/** The merged chunks of a fit of kind `kind` from its stored rows (any order). */
+/**
+ * Worker processes store the region rows of a split permutation test
+ * (per-participant diagnostics and plots, which do not depend on the test)
+ * while its chunks are computed, so the merge adds counts and stores the
+ * summary only: the fit then has one more part than chunks, recorded like a
+ * chunk (number `fit.chunks`, block −1, no counts) once its rows are stored.
+ */
+export function hasRowsPart(fit: FitChunks): boolean {
+  return fit.kind === "permutation";
+}
+
+/** Parts of a fit a worker process waits for before the merge: its chunks, and its region rows where stored apart. */
+export function partCount(fit: FitChunks): number {
+  return fit.chunks + (hasRowsPart(fit) ? 1 : 0);
+}
+
+/** The stored mark of a fit's region rows (see `hasRowsPart`). */
+export function rowsMark(fit: FitChunks): StoredChunk {
+  return {
+    chunk: fit.chunks,
+    regionFrom: 0,
+    block: -1,
+    counts: "",
+    maxAbs: null,
+    nulls: null,
+    exact: false,
+    rearrangements: 0,
+  };
+}
+
+/** The merged chunks of a fit of kind `kind` from its stored rows (any order; the rows mark left out). */
 export function mergedOfStored(
   kind: FitChunks["kind"],
   rows: readonly StoredChunk[],
 ): MergedChunks {
-  const sorted = [...rows].sort((a, b) => a.chunk - b.chunk);
+  const sorted = rows.filter((r) => r.block >= 0).sort((a, b) => a.chunk - b.chunk);
   if (kind === "curve") return { kind, nulls: sorted.flatMap(decodeCurveChunk) };
   if (kind === "prediction")
     return {

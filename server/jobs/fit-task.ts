@@ -39,6 +39,13 @@ export interface FitTask {
   port: MessagePort;
   /** A split fit's chunks (fit-chunks.ts), computed by other threads or worker processes: merged instead of computed here. */
   merged?: MergedChunks;
+  /**
+   * Region rows (default "all"): "only" computes just the per-participant
+   * diagnostics and plots of every region (they do not depend on the
+   * permutation test, so a worker process stores them while the chunks are
+   * computed; the summary returned is then of no use); "skip" sends none.
+   */
+  rows?: "all" | "only" | "skip";
 }
 
 /** One region's per-participant diagnostics and plot data, as JSON text. */
@@ -65,7 +72,12 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
   post({ type: "started" });
   let last = 0;
   try {
-    const result = runFit(task.spec, task.data, {
+    const rowsOnly = task.rows === "only";
+    // Diagnostics and plots do not read the inference: the region rows of a fit without its test are those of the fit.
+    const spec = rowsOnly
+      ? { ...task.spec, inference: "parametric" as const, correction: "none" as const }
+      : task.spec;
+    const result = runFit(spec, task.data, {
       ...(task.merged ? mergeOptions(task.merged) : {}),
       onProgress: (fraction) => {
         const now = Date.now();
@@ -80,6 +92,10 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
       const list = byRegion.get(d.region) ?? [];
       list.push(d);
       byRegion.set(d.region, list);
+    }
+    if (task.rows === "skip") {
+      post({ type: "regions-done", count: 0 });
+      return { ok: true, summary };
     }
     result.regions.forEach(({ region }, position) => {
       const rows = byRegion.get(region) ?? [];

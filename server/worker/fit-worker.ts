@@ -5,9 +5,12 @@
  * for the queue, the heartbeat and watching for cancels.
  *
  * - `fit`: a queued fit becomes running. A split fit (server/jobs/
- *   fit-chunks.ts) records its number of chunks and sends one `fit-chunk`
- *   job per chunk; any other fit is computed whole here, as the embedded
- *   path computes it (server/jobs/fit-task.ts).
+ *   fit-chunks.ts) records its number of parts and sends one `fit-chunk`
+ *   job per chunk; a split permutation test's region rows (diagnostics and
+ *   plots, which do not depend on the test) are then computed and stored
+ *   here on the fit thread while the chunk threads compute chunks, and
+ *   count as its last part. Any other fit is computed whole here, as the
+ *   embedded path computes it (server/jobs/fit-task.ts).
  * - `fit-chunk`: computes one chunk and stores it once (a chunk already
  *   stored is not computed again and adds nothing); progress is the share
  *   of chunks stored. The one that stores the last chunk sends `fit-merge`.
@@ -16,8 +19,12 @@
  *   last try fails the fit with the error.
  * - `fit-merge`: under the fit's merge lock (one party at a time, and a
  *   fit merged once), runs `runFit` with the stored chunks merged in place
- *   of the permutation test and stores the result through the fit store
- *   (services/fit-store.ts), as the embedded path does.
+ *   of the permutation test and stores the result (and the region rows
+ *   unless already stored) through the fit store (services/fit-store.ts),
+ *   as the embedded path does.
+ *
+ * A fit that fails, or a job that finds its fit cancelled, removes the
+ * fit's region rows (they may have been stored before the chunks were all in).
  *
  * Fit events (running, progress, done, failed) go out on the database's
  * fit-event channel, so the web servers' listeners receive them.
@@ -38,8 +45,11 @@ import {
   encodeChunk,
   type FitChunks,
   fitChunks,
+  hasRowsPart,
   type MergedChunks,
   mergedOfStored,
+  partCount,
+  rowsMark,
 } from "../jobs/fit-chunks";
 import type { ChunkTaskOutcome } from "../jobs/chunk-task";
 import { type FitEvent, INTERNAL_FAILURE } from "../jobs/fit-jobs";
@@ -186,6 +196,7 @@ export class FitWorker {
 
   private async fail(fitId: string, code: string, message: string): Promise<void> {
     const failed = await this.store.markFailed(fitId, code, message, new Date());
+    await this.store.clearRegionRows(fitId);
     if (failed)
       this.emit({
         type: "status",
@@ -248,7 +259,7 @@ export class FitWorker {
       return;
     }
     this.plans.set(fitId, Promise.resolve(plan));
-    await recordPlan(this.db, fitId, plan.chunks, startedAt);
+    await recordPlan(this.db, fitId, partCount(plan), startedAt);
     const boss = this.boss as PgBoss;
     await boss.insert(
       Array.from({ length: plan.chunks }, (_, chunk) => ({
@@ -256,6 +267,33 @@ export class FitWorker {
         data: { fitId, chunk } satisfies ChunkJobData,
       })),
     );
+    if (hasRowsPart(plan)) await this.storeRows(fitId, inputs, plan);
+  }
+
+  /**
+   * A split permutation test's region rows, computed on the fit thread and
+   * stored while chunks are computed; then its mark, counted as a part. A
+   * fit no longer running (cancelled) drops them.
+   */
+  private async storeRows(
+    fitId: string,
+    inputs: { spec: ModelSpec; data: FitData },
+    plan: FitChunks,
+  ): Promise<void> {
+    const stored = await this.computeFit(fitId, inputs, null, new Date(), "only");
+    if (!stored) return;
+    if ((await fitStatus(this.db, fitId)) !== "running") {
+      await this.dropped(fitId);
+      return;
+    }
+    const done = await storeChunk(this.db, fitId, rowsMark(plan), this.id, new Date());
+    await this.reportChunks(fitId, done, partCount(plan));
+  }
+
+  /** A job found its fit no longer running: a cancelled or failed fit keeps no region rows. */
+  private async dropped(fitId: string): Promise<void> {
+    const status = await fitStatus(this.db, fitId);
+    if (status === "cancelled" || status === "failed") await this.store.clearRegionRows(fitId);
   }
 
   /** The chunk grid of a running fit (built once per fit in this process). */
@@ -304,7 +342,8 @@ export class FitWorker {
   /** `fit-chunk` job: compute the chunk unless stored; store it once; send the merge after the last. */
   private async computeChunk(job: PgBoss.JobWithMetadata<ChunkJobData>): Promise<void> {
     const { fitId, chunk } = job.data;
-    if ((await fitStatus(this.db, fitId)) !== "running") return; // cancelled or finished: dropped
+    // Cancelled or finished: dropped.
+    if ((await fitStatus(this.db, fitId)) !== "running") return await this.dropped(fitId);
     if (!(await hasChunk(this.db, fitId, chunk))) {
       let result: ChunkResult;
       const control = new Int32Array(new SharedArrayBuffer(8));
@@ -316,7 +355,8 @@ export class FitWorker {
           () => Atomics.store(control, 0, 1),
           () => (this.chunkPool as Piscina).run(task) as Promise<ChunkTaskOutcome<ChunkResult>>,
         );
-        if (Atomics.load(control, 0) === 1) return; // the fit stopped running: the chunk is dropped
+        // The fit stopped running: the chunk is dropped.
+        if (Atomics.load(control, 0) === 1) return await this.dropped(fitId);
         if (!outcome.ok) {
           if (outcome.code === "cancelled") return; // the fit stopped running: the chunk is dropped
           // A statistical precondition fails the same way on every try: the fit fails now.
@@ -330,7 +370,7 @@ export class FitWorker {
           this.id,
           new Date(),
         );
-        await this.reportChunks(fitId, done, plan.chunks);
+        await this.reportChunks(fitId, done, partCount(plan));
       } catch (error) {
         if (Atomics.load(control, 0) === 1) return; // the fit stopped running: the chunk is dropped
         if (job.retryCount >= job.retryLimit) {
@@ -369,6 +409,7 @@ export class FitWorker {
     await withMergeLock(this.db, fitId, async () => {
       const row = await fitRow(this.db, fitId);
       const plan = await planOf(this.db, fitId);
+      if (row && row.status !== "running") await this.dropped(fitId);
       if (!row || row.status !== "running" || !plan || plan.mergedAt) return;
       const stored = await storedChunks(this.db, fitId);
       if (stored.length < plan.chunks) return;
@@ -377,7 +418,9 @@ export class FitWorker {
       const kind = chunkKind(inputs.spec);
       if (!kind) throw new Error(`fit ${fitId} is not split into chunks`);
       const merged = mergedOfStored(kind, stored);
-      await this.computeFit(fitId, inputs, merged, row.startedAt ?? new Date());
+      // A permutation test's region rows were stored with its parts: the merge stores the summary only.
+      const rows = stored.some((r) => r.block < 0) ? "skip" : "all";
+      await this.computeFit(fitId, inputs, merged, row.startedAt ?? new Date(), rows);
       await markMerged(this.db, fitId, new Date());
     });
   }
@@ -392,8 +435,9 @@ export class FitWorker {
     inputs: { spec: ModelSpec; data: FitData },
     merged: MergedChunks | null,
     startedAt: Date,
-  ): Promise<void> {
-    await this.store.clearRegionRows(fitId);
+    rows: "all" | "only" | "skip" = "all",
+  ): Promise<boolean> {
+    if (rows !== "skip") await this.store.clearRegionRows(fitId);
     const channel = new MessageChannel();
     let storing: Promise<void> = Promise.resolve();
     let lastProgress = 0;
@@ -408,7 +452,7 @@ export class FitWorker {
           this.store.storeRegionRow(fitId, { position, region, participants, plot }),
         );
       } else if (message.type === "regions-done") regionsDone();
-      else if (message.type === "progress" && !merged) {
+      else if (message.type === "progress" && !merged && rows === "all") {
         // A fit computed whole reports the thread's progress, at most every half second.
         const now = Date.now();
         if (now - lastProgress < 500) return;
@@ -425,7 +469,7 @@ export class FitWorker {
         });
       }
     });
-    const task: FitTask = { ...inputs, port: channel.port2, ...(merged ? { merged } : {}) };
+    const task: FitTask = { ...inputs, port: channel.port2, rows, ...(merged ? { merged } : {}) };
     const controller = new AbortController();
     let outcome: FitTaskOutcome;
     try {
@@ -445,14 +489,15 @@ export class FitWorker {
       channel.port1.close();
       await storing.catch(() => {});
       await this.store.clearRegionRows(fitId);
-      if (controller.signal.aborted) return; // cancelled: already marked
+      if (controller.signal.aborted) return false; // cancelled: already marked
       throw error;
     }
     channel.port1.close();
     if (!outcome.ok) {
-      await this.store.clearRegionRows(fitId);
-      return await this.fail(fitId, outcome.code, outcome.message);
+      await this.fail(fitId, outcome.code, outcome.message);
+      return false;
     }
+    if (rows === "only") return true;
     const done = await this.store.markDone(
       fitId,
       outcome.summary,
@@ -462,7 +507,7 @@ export class FitWorker {
     );
     if (!done) {
       await this.store.clearRegionRows(fitId);
-      return;
+      return false;
     }
     this.emit({
       type: "status",
@@ -471,5 +516,6 @@ export class FitWorker {
       progress: { fraction: 1, secondsLeft: 0 },
       error: null,
     });
+    return true;
   }
 }
