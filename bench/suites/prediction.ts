@@ -364,8 +364,9 @@ function sampledSplits(sample: number): void {
     `  per split: ${part("prepare", timings.prepare, work.prepare)}; ${part(`${plan.permutationCount} permutations`, timings.permutations, work.permutations)}; ${part("learning curve", timings.learningCurve, work.curve)}`,
   );
   const total = work.prepare + work.permutations + work.curve;
+  const cpuPerSplit = (used.user + used.system) / 1e6 / sample;
   console.log(
-    `  projected to ${splits} splits: ≈ ${(perSplit * splits).toFixed(0)} s on one thread, ≈ ${((perSplit * splits) / 2).toFixed(0)} s with the splits on 2 threads (target ≤ 60 s); ≈ ${(((total / sample) * splits) / 1e12).toFixed(2)} × 10¹² multiply-adds in all`,
+    `  projected to ${splits} splits: ≈ ${(perSplit * splits).toFixed(0)} s wall on one thread at this load; ≈ ${(cpuPerSplit * splits).toFixed(0)} s of CPU, so ≈ ${((cpuPerSplit * splits) / 2).toFixed(0)} s with the splits on 2 unshared threads (target ≤ 60 s); ≈ ${(((total / sample) * splits) / 1e12).toFixed(2)} × 10¹² multiply-adds in all, ${(total / sample / cpuPerSplit / 1e9).toFixed(2)} × 10⁹ per CPU second`,
   );
 }
 
