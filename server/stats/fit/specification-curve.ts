@@ -403,32 +403,89 @@ function nullDrawer(
   };
 }
 
+/** Equal content: the same keys and values, numbers compared by Object.is, arrays and typed arrays element by element. */
+function sameContent(a: unknown, b: unknown): boolean {
+  if (Object.is(a, b)) return true;
+  if (typeof a !== "object" || typeof b !== "object" || a === null || b === null) return false;
+  if (Object.getPrototypeOf(a) !== Object.getPrototypeOf(b)) return false;
+  if (Array.isArray(a) || ArrayBuffer.isView(a)) {
+    const x = a as ArrayLike<unknown>;
+    const y = b as ArrayLike<unknown>;
+    if (x.length !== y.length) return false;
+    for (let i = 0; i < x.length; i++) if (!sameContent(x[i], y[i])) return false;
+    return true;
+  }
+  const keys = Object.keys(a);
+  if (keys.length !== Object.keys(b).length) return false;
+  for (const k of keys)
+    if (
+      !Object.hasOwn(b, k) ||
+      !sameContent((a as Record<string, unknown>)[k], (b as Record<string, unknown>)[k])
+    )
+      return false;
+  return true;
+}
+
+/**
+ * The specifications and null-draw setup of the last curve whose blocks
+ * this thread drew, kept for its next block: preparing every specification
+ * and its kept design costs about as much as a block's draws, and a thread
+ * usually gets several blocks of one fit. Reused only for a spec and data
+ * of equal content (sameContent), so a block's numbers never depend on
+ * what the thread drew before (tested).
+ */
+let lastCurve: {
+  spec: ModelSpec;
+  data: FitData;
+  seed: number;
+  resamples: number;
+  draw: ReturnType<typeof nullDrawer>;
+} | null = null;
+
 /**
  * The null statistics of block `block` of a curve fit recording
  * rearrangementStreams "blocks-v1" (draws block·CURVE_BLOCK_DRAWS onwards,
  * at most CURVE_BLOCK_DRAWS of them), for a caller that makes blocks apart
  * and merges them: the joint test's p-values count null draws, so they do
  * not depend on the order blocks are merged in. Cost: one block's share of
- * the joint test plus preparing the specifications once.
+ * the joint test, plus preparing the specifications when the thread's last
+ * block was of another curve (see lastCurve).
  */
 export function curveNullBlock(spec: ModelSpec, data: FitData, block: number): CurveStatistics[] {
-  const prep = prepare(spec, data);
-  const s = prep.spec;
-  if (s.kind !== "specification-curve" || s.inference !== "permutation")
-    fail("null blocks belong to a specification curve with the joint test");
-  if (s.rearrangementStreams !== "blocks-v1")
-    fail('null blocks need a fit that records rearrangementStreams "blocks-v1"');
+  const cached =
+    lastCurve && sameContent(lastCurve.spec, spec) && sameContent(lastCurve.data, data)
+      ? lastCurve
+      : null;
+  let setup = cached;
+  if (!setup) {
+    lastCurve = null;
+    const prep = prepare(spec, data);
+    const s = prep.spec;
+    if (s.kind !== "specification-curve" || s.inference !== "permutation")
+      fail("null blocks belong to a specification curve with the joint test");
+    if (s.rearrangementStreams !== "blocks-v1")
+      fail('null blocks need a fit that records rearrangementStreams "blocks-v1"');
+    const region = prep.data.regions[prep.regionIndex[0]];
+    const choices = inRegion(region, () => choicesOf(prep));
+    // Copies: a caller may change its spec or data in place before the next block.
+    setup = {
+      spec: structuredClone(spec),
+      data: structuredClone(data),
+      seed: s.seed,
+      resamples: s.resamples,
+      draw: nullDrawer(prep, choices),
+    };
+  }
   const first = block * CURVE_BLOCK_DRAWS;
-  if (!Number.isInteger(block) || block < 0 || first >= s.resamples)
-    fail(`block ${block} is outside the fit's ${s.resamples} null draws`);
-  const region = prep.data.regions[prep.regionIndex[0]];
-  const choices = inRegion(region, () => choicesOf(prep));
+  if (!Number.isInteger(block) || block < 0 || first >= setup.resamples)
+    fail(`block ${block} is outside the fit's ${setup.resamples} null draws`);
   const out: CurveStatistics[] = [];
-  nullDrawer(prep, choices)(
-    createBlockRng(s.seed, block),
-    Math.min(CURVE_BLOCK_DRAWS, s.resamples - first),
+  setup.draw(
+    createBlockRng(setup.seed, block),
+    Math.min(CURVE_BLOCK_DRAWS, setup.resamples - first),
     out,
   );
+  lastCurve = setup;
   return out;
 }
 

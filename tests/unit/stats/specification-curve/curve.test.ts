@@ -527,6 +527,28 @@ describe("specification curve: null draws in blocks (rearrangementStreams blocks
     expect(() => curveNullBlock(blocked, data, 3)).toThrow(/outside the fit's 60 null draws/);
   });
 
+  it("gives a block the same numbers whether the thread's previous block was of the same curve or not", () => {
+    const other = modelSpecSchema.parse({ ...blocked, seed: 13 });
+    // Every trait value present, so the draws run on the kept designs (not refitted from the data).
+    const trait = (data.numericColumns.trait as (number | null)[]).map((v) => v ?? -0.2);
+    const complete: FitData = { ...data, numericColumns: { ...data.numericColumns, trait } };
+    // Fresh: the previous block belongs to another curve, so block 1 is prepared anew.
+    curveNullBlock(other, complete, 0);
+    const fresh = curveNullBlock(blocked, complete, 1);
+    // Kept: the previous block is of this curve (passed as copies, as a worker thread receives them).
+    curveNullBlock(structuredClone(blocked), structuredClone(complete), 0);
+    expect(curveNullBlock(structuredClone(blocked), structuredClone(complete), 1)).toEqual(fresh);
+    // Data changed in place after a block: the kept setup is not used for the changed data.
+    const changed = structuredClone(complete);
+    curveNullBlock(other, complete, 0);
+    curveNullBlock(blocked, changed, 1);
+    changed.values[0][0] += 5;
+    const afterChange = curveNullBlock(blocked, changed, 1);
+    curveNullBlock(other, complete, 0);
+    expect(afterChange).toEqual(curveNullBlock(blocked, changed, 1));
+    expect(afterChange).not.toEqual(fresh);
+  });
+
   it("keeps one stream for a recipe written before blocks (same numbers as before)", () => {
     const { rearrangementStreams: _, ...legacy } = blocked;
     const a = runFit(legacy as typeof blocked, data).jointTest as { stoufferZ: number };
