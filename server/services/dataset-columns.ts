@@ -21,16 +21,18 @@ import { and, asc, eq, gte, lt, sql } from "drizzle-orm";
 import type { Queryable } from "../../db/client";
 import { datasetColumns } from "../../db/schema";
 
-/** Values written per INSERT and read per query at most (≈ 0.8 MB of doubles: a short hold of the database and the event loop). */
-const BATCH_VALUES = 100_000;
+/** Values read per query at most (≈ 0.8 MB of doubles: a short hold of the database and the event loop). */
+const READ_VALUES = 100_000;
+/** Values written per INSERT at most: writing costs more per value than reading. */
+const WRITE_VALUES = 40_000;
 
 const bigEndian = endianness() === "BE";
 
 const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
 
-/** Slots per batch for columns of `rows` values. */
-function slotsPerBatch(rows: number): number {
-  return Math.max(1, Math.floor(BATCH_VALUES / Math.max(1, rows)));
+/** Slots per batch of at most `values` values for columns of `rows` values (at least one). */
+function slotsPerBatch(values: number, rows: number): number {
+  return Math.max(1, Math.floor(values / Math.max(1, rows)));
 }
 
 /** A column's values as base64 of their little-endian bytes. */
@@ -62,7 +64,7 @@ export async function storeColumns(
   columns: readonly Float64Array[],
 ): Promise<void> {
   if (columns.length === 0) return;
-  const per = slotsPerBatch(columns[0].length);
+  const per = slotsPerBatch(WRITE_VALUES, columns[0].length);
   for (let first = 0; first < columns.length; first += per) {
     const batch = columns.slice(first, first + per).map((values, k) => ({
       datasetId,
@@ -97,7 +99,7 @@ export async function forEachColumn(
   each: (slot: number, values: Float64Array<ArrayBuffer>) => void,
 ): Promise<void> {
   const wanted = [...new Set(slots)].sort((a, b) => a - b);
-  const per = slotsPerBatch(rows);
+  const per = slotsPerBatch(READ_VALUES, rows);
   let k = 0;
   while (k < wanted.length) {
     const from = wanted[k];

@@ -251,7 +251,7 @@ describe("storing and reading many columns", () => {
   it("goes in batches and gives back exactly the slots asked for, in slot order", async () => {
     const studyId = await newStudy();
     const v = await store(studyId, "brain", edgeCsv, "edges.csv");
-    // An incomplete version of 20,000 rows and 12 slots: a few slots per batch (about 100,000 values).
+    // An incomplete version of 20,000 rows and 12 slots: written 2 and read 5 slots at a time.
     const id = randomUUID();
     await t.db
       .insert(datasetVersions)
