@@ -121,6 +121,19 @@ const edgeCsv = Buffer.from(
   ].join("\n"),
 );
 
+/** A long table (region and value columns, standard errors, a session), with a region missing for one entry. */
+const longCsv = Buffer.from(
+  [
+    "participant_id,session,region,value,se",
+    "s1,1,amygdala,0.5,0.1",
+    "s1,1,insula,-0.25,0.2",
+    "s1,2,amygdala,0.75,0.15",
+    "s2,1,amygdala,n/a,n/a",
+    "s2,1,insula,1e-3,0.3",
+    "s3,1,insula,2.5,0.05",
+  ].join("\n"),
+);
+
 describe("binary number columns of a brain-table version", () => {
   it("are stored with the version, one per number slot, and give exactly the file's numbers", async () => {
     const studyId = await newStudy();
@@ -155,9 +168,11 @@ describe("binary number columns of a brain-table version", () => {
     for (const [bytes, name] of [
       [edgeCsv, "edges.csv"],
       [demoBrain, demo.brainFileName],
+      [longCsv, "long.csv"],
     ] as const) {
       const v = await store(studyId, "brain", bytes, name);
       const before = await storedAsBefore(t.db, v);
+      expect(await hasColumns(t.db, v.id)).toBe(true);
       expect(await hasColumns(t.db, before.id)).toBe(false);
       expect(numbersOf(await loadBrainTable(t.db, before))).toEqual(
         numbersOf(await loadBrainTable(t.db, v)),
