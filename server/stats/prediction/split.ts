@@ -57,8 +57,10 @@ function sumsOf(fit: BlockFit, b: number, out: Float64Array, offset: number): vo
  * Computes split `s` of the plan on the input it was planned from. Throws
  * StatsError naming a region constant (or explained by the confounds) in a
  * training fold, and with code "cancelled" when `shouldCancel()` returns true.
- * Cost: 1 + 5 ridge decompositions (plus 4 × 6 for the learning curve) and
- * the pipeline on the observed trait and every permutation.
+ * Cost: 1 + 5 prepared training sets (Gram matrix, tridiagonal reduction,
+ * M and W), the pipeline on the observed trait and every permutation, and
+ * 4 × 6 lighter learning-curve fits. Throws StatsError when `input` is not
+ * shaped as the plan (participants, regions).
  */
 export function predictionSplit(
   plan: PredictionPlan,
@@ -68,6 +70,10 @@ export function predictionSplit(
 ): PredictionPartial {
   if (!(Number.isInteger(s) && s >= 0 && s < plan.splits.length))
     throw new StatsError(`split ${s} is not in the plan (0 to ${plan.splits.length - 1})`);
+  if (input.y.length !== plan.n || input.X.length !== plan.p)
+    throw new StatsError(
+      `predictionSplit was given ${input.y.length} participants × ${input.X.length} regions for a plan of ${plan.n} × ${plan.p}`,
+    );
   const clock = () => performance.now() / 1e3;
   const cancel = () => {
     if (control.shouldCancel?.()) throw new StatsError("the prediction was cancelled", "cancelled");

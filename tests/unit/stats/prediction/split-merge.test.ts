@@ -50,6 +50,10 @@ describe("prediction split into plan, splits and merge", () => {
       /split 3 was given twice/,
     );
     expect(() => predictionSplit(plan, data, 8)).toThrow(/split 8 is not in the plan/);
+    const shorter = inventData(32, 23, 3);
+    expect(() => predictionSplit(plan, shorter, 0)).toThrow(
+      /given 23 participants × 3 regions for a plan of 24 × 3/,
+    );
   });
 
   it("fits a block of traits exactly as one trait at a time", () => {
