@@ -254,9 +254,40 @@ function weightedSolve(
   }
 }
 
-/** median(|r|)/0.6745 — the same order statistics as descriptive.ts's median, found in `scratch`. */
-function madAboutZero(r: Float64Array, scratch: Float64Array): number {
+/**
+ * median(|r|)/0.6745 — the same order statistics as descriptive.ts's
+ * median, found in `scratch`. With `near` (the last step's median of |r|),
+ * one pass keeps only the values within 5 % of it and counts those below,
+ * and the middle order statistics are selected among the kept few when
+ * they lie there (else among all): the same values either way.
+ */
+export function madAboutZero(r: Float64Array, scratch: Float64Array, near = 0): number {
   const n = r.length;
+  const h = n >> 1;
+  const even = n % 2 === 0;
+  if (near > 0) {
+    const lo = near * 0.95;
+    const hi = near * 1.05;
+    let below = 0;
+    let kept = 0;
+    let nan = false;
+    for (let i = 0; i < n; i++) {
+      const v = Math.abs(r[i]);
+      if (v < lo) below++;
+      else if (v <= hi) scratch[kept++] = v;
+      else if (Number.isNaN(v)) nan = true;
+    }
+    // Order statistic h (and h − 1 for even n) among the kept values?
+    const k = h - below;
+    if (!nan && k >= (even ? 1 : 0) && k < kept) {
+      const band = scratch.subarray(0, kept);
+      const upper = selectInPlace(band, k);
+      if (!even) return upper / 0.6745;
+      let lower = band[0];
+      for (let i = 1; i < k; i++) if (band[i] > lower) lower = band[i];
+      return (0.5 * (lower + upper)) / 0.6745;
+    }
+  }
   let nan = false;
   for (let i = 0; i < n; i++) {
     const v = Math.abs(r[i]);
@@ -264,9 +295,8 @@ function madAboutZero(r: Float64Array, scratch: Float64Array): number {
     scratch[i] = v;
   }
   if (nan) return median(scratch) / 0.6745;
-  const h = n >> 1;
   const upper = selectInPlace(scratch, h);
-  if (n % 2 === 1) return upper / 0.6745;
+  if (!even) return upper / 0.6745;
   let lower = scratch[0];
   for (let i = 1; i < h; i++) if (scratch[i] > lower) lower = scratch[i];
   return (0.5 * (lower + upper)) / 0.6745;
@@ -324,7 +354,7 @@ function fitCore(
   for (let iter = 1; iter <= maxIterations; iter++) {
     iterations = iter;
     const old = residuals;
-    scale = madAboutZero(old, ws.scratch);
+    scale = madAboutZero(old, ws.scratch, scale * 0.6745);
     if (scale === 0) {
       converged = true;
       break;
@@ -550,7 +580,7 @@ function gramCore(
   for (let iter = 1; iter <= maxIterations; iter++) {
     iterations = iter;
     const old = residuals;
-    scale = madAboutZero(old, ws.scratch);
+    scale = madAboutZero(old, ws.scratch, scale * 0.6745);
     if (scale === 0) break;
     let m = 0;
     for (let i = 0; i < n; i++) {

@@ -9,6 +9,7 @@ import {
 } from "../../../server/stats/linear-model";
 import {
   type RobustPsi,
+  madAboutZero,
   robustCoefficient,
   robustCoefficientByNormalEquations,
   robustLinearModel,
@@ -375,5 +376,25 @@ describe("robustCoefficientByNormalEquations against the QR steps of robustLinea
     expect(() => robustCoefficientByNormalEquations(x, y, 1, ws, { psi: "huber" })).toThrow(
       /finite responses \(row 5\)/,
     );
+  });
+});
+
+describe("madAboutZero with the last step's median as a hint", () => {
+  it("equals median(|r|)/0.6745 (descriptive.ts) whatever the hint: odd and even n, ties, a NaN", () => {
+    const rng = createRng(41);
+    for (let trial = 0; trial < 300; trial++) {
+      const n = 2 + (trial % 61);
+      // Every third vector from few distinct values, so ties straddle the middle.
+      const r = Float64Array.from({ length: n }, () =>
+        trial % 3 === 0 ? Math.round(normalDraw(rng) * 2) / 2 : normalDraw(rng),
+      );
+      if (trial % 50 === 7) r[0] = Number.NaN;
+      const expected = median(Array.from(r, Math.abs)) / 0.6745;
+      const m = expected * 0.6745;
+      for (const near of [0, m, m * 1.04, m * 0.97, m * 1.2, m * 0.5, 1e-9, 1e9]) {
+        const got = madAboutZero(r, new Float64Array(n), near);
+        expect(got, `trial ${trial}, hint ${near}`).toBe(expected);
+      }
+    }
   });
 });
