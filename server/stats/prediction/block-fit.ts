@@ -18,7 +18,7 @@
  */
 import { residualize } from "./confounds";
 import type { PreparedFold, PreparedStage } from "./fold-pipeline";
-import { gemm, rowMajor, transposed } from "./gemm";
+import { gemm, rowMajor } from "./gemm";
 import { ridgeFactors, ridgeSolveColumns } from "./ridge";
 
 /** Results of the fold's pipeline for a block of traits (held row i, trait b at i·count + b). */
@@ -66,10 +66,10 @@ function stageResponses(
 
 /** G = Mᵀ(Y − ȳ) (r × count); centres yTrain in place. */
 function project(stage: PreparedStage, yTrain: Float64Array, mean: Float64Array, count: number) {
-  const { nTrain, r, m } = stage.basis;
+  const { nTrain, r, mt } = stage.basis;
   for (let i = 0; i < nTrain; i++) for (let b = 0; b < count; b++) yTrain[i * count + b] -= mean[b];
   const g = new Float64Array(r * count);
-  gemm(r, count, nTrain, transposed(m, r), rowMajor(yTrain, count), g, count);
+  gemm(r, count, nTrain, rowMajor(mt, nTrain), rowMajor(yTrain, count), g, count);
   return g;
 }
 

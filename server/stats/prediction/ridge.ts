@@ -38,8 +38,8 @@ export interface RidgeBasis {
   diag: Float64Array;
   /** off[k] = T[k][k+1], k < r − 1. */
   off: Float64Array;
-  /** M, row-major n_train×r: g = Mᵀ(y − ȳ). */
-  m: Float64Array;
+  /** Mᵀ, row-major r×n_train (M = XQ, or Q in the dual form): g = Mᵀ(y − ȳ). */
+  mt: Float64Array;
   /** W, row-major n_held×r: held-out predictions. */
   w: Float64Array;
   /** B, row-major p×r: weights b = B (T + λI)⁻¹g on the scaled columns. */
@@ -70,12 +70,13 @@ export function prepareRidge(
     symmetrize(gram, p);
     const { diag, off, q } = householderTridiagonal(gram, p);
     // M = X Q (n_train×r): X = xtᵀ.
-    const m = new Float64Array(nTrain * r);
-    gemm(nTrain, r, p, transposed(xt, nTrain), rowMajor(q, p), m, r);
+    // Mᵀ = Qᵀ Xᵀ (r×n_train): Xᵀ = xt.
+    const mt = new Float64Array(r * nTrain);
+    gemm(r, nTrain, p, transposed(q, p), rowMajor(xt, nTrain), mt, nTrain);
     // W = X_held Q (n_held×r).
     const w = new Float64Array(nHeld * r);
     gemm(nHeld, r, p, rowMajor(h, p), rowMajor(q, p), w, r);
-    return { nTrain, nHeld, p, r, diag, off, m, w, b: q };
+    return { nTrain, nHeld, p, r, diag, off, mt, w, b: q };
   }
   const r = nTrain;
   // Gram XXᵀ (n_train×n_train).
@@ -83,14 +84,15 @@ export function prepareRidge(
   gemm(r, r, p, transposed(xt, nTrain), rowMajor(xt, nTrain), gram, r, { upper: true });
   symmetrize(gram, r);
   const { diag, off, q } = householderTridiagonal(gram, r);
-  const m = q; // M = Q (n_train×r)
+  const mt = new Float64Array(r * nTrain); // Mᵀ = Qᵀ
+  for (let i = 0; i < nTrain; i++) for (let k = 0; k < r; k++) mt[k * nTrain + i] = q[i * r + k];
   // B = Xᵀ Q (p×r): Xᵀ = xt.
   const b = new Float64Array(p * r);
   gemm(p, r, nTrain, rowMajor(xt, nTrain), rowMajor(q, r), b, r);
   // W = X_held B (n_held×r).
   const w = new Float64Array(nHeld * r);
   gemm(nHeld, r, p, rowMajor(h, p), rowMajor(b, r), w, r);
-  return { nTrain, nHeld, p, r, diag, off, m, w, b };
+  return { nTrain, nHeld, p, r, diag, off, mt, w, b };
 }
 
 /**
@@ -235,17 +237,13 @@ function dot(a: Float64Array, ia: number, b: Float64Array, ib: number, len: numb
  * into `g`. Cost O(n_train·r).
  */
 export function projectResponse(basis: RidgeBasis, yTrain: Float64Array, g: Float64Array): number {
-  const { nTrain, r, m } = basis;
+  const { nTrain, r, mt } = basis;
   let mean = 0;
   for (let i = 0; i < nTrain; i++) mean += yTrain[i];
   mean /= nTrain;
-  g.fill(0);
-  for (let i = 0; i < nTrain; i++) {
-    const yi = yTrain[i] - mean;
-    if (yi === 0) continue;
-    const off = i * r;
-    for (let k = 0; k < r; k++) g[k] += yi * m[off + k];
-  }
+  const centred = new Float64Array(nTrain);
+  for (let i = 0; i < nTrain; i++) centred[i] = yTrain[i] - mean;
+  for (let k = 0; k < r; k++) g[k] = dot(mt, k * nTrain, centred, 0, nTrain);
   return mean;
 }
 
