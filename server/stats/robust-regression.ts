@@ -31,7 +31,9 @@
  * iteration does not use (thin Q, hat values, per-step standard errors and
  * p-values); the unweighted decomposition of the start serves the standard
  * errors. Same numbers, bit for bit, as decomposing and solving afresh at
- * every step (tested against that).
+ * every step (tested against that). robustCoefficientByNormalEquations runs
+ * the same iteration with normal-equation steps, for callers fitting many
+ * designs of one size (agreeing to rounding, not bit for bit; see there).
  *
  * Cost O(iterations · n·p²).
  */
