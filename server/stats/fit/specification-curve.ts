@@ -23,7 +23,10 @@
  * one random permutation per draw (seeded by `seed`), while each
  * participant keeps their brain value, covariates and exclusion-column
  * values together. Every specification is re-run on each null draw and the
- * curve scored as in specification-curve/joint.ts. The permutation makes
+ * curve scored as in specification-curve/joint.ts; with every trait value
+ * present an association's specification keeps its design and only the
+ * tested column changes (fastNull, swappedNull: the ordinary fit's numbers,
+ * robust ones to rounding). The permutation makes
  * the trait unrelated to the brain value in every specification at once
  * (and, unlike removing the estimated effect, needs no model to be right).
  */
