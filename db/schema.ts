@@ -296,8 +296,16 @@ export const datasetRows = pgTable(
   (t) => [primaryKey({ columns: [t.datasetId, t.position] })],
 );
 
-/** Bytes as PostgreSQL `bytea`; read and written as base64 text through SQL (see datasetColumns). */
-const bytea = customType<{ data: string; driverData: string }>({ dataType: () => "bytea" });
+/**
+ * Bytes as PostgreSQL `bytea`, seen as base64 text: written and read through
+ * SQL's `decode`/`encode` (see datasetColumns); a plain select of the column
+ * (the driver's Uint8Array or Buffer) is turned into base64 alike.
+ */
+const bytea = customType<{ data: string; driverData: string | Uint8Array }>({
+  dataType: () => "bytea",
+  fromDriver: (value) =>
+    typeof value === "string" ? value : Buffer.from(value).toString("base64"),
+});
 
 /**
  * The number columns of a brain-table version stored since migration 0017,

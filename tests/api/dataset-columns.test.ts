@@ -150,6 +150,12 @@ describe("binary number columns of a brain-table version", () => {
     const direct = buildBrainTable(readTable(edgeCsv, "edges.csv"));
     expect(numbersOf(loaded).values).toEqual(numbersOf(direct).values);
     expect(numbersOf(loaded).standardErrors).toEqual(numbersOf(direct).standardErrors);
+    // A plain select of the column gives the same base64 on either driver.
+    const [raw] = await t.db
+      .select({ values: datasetColumns.values })
+      .from(datasetColumns)
+      .where(and(eq(datasetColumns.datasetId, v.id), eq(datasetColumns.slot, 0)));
+    expect(raw.values).toBe(columnToBase64(direct.values[0]));
     expect(Object.is(loaded.values[1][0], -0)).toBe(true);
     expect(loaded.values[2][0]).toBe(1e-310);
     expect(Number.isNaN(loaded.values[0][1])).toBe(true);
