@@ -446,6 +446,25 @@ export function mergedOfStored(
   return { kind, chunks: sorted.map(decodeChunk) };
 }
 
+/**
+ * The buffers of merged chunks, to move them to the fit thread instead of
+ * copying them (a max-T test's null statistics are regions × rearrangements
+ * floats: 16 MB at 400 × 10,000). The caller must not read them afterwards.
+ */
+export function transferablesOf(merged: MergedChunks): ArrayBuffer[] {
+  const buffers = new Set<ArrayBuffer>();
+  const add = (a: Float64Array | Float32Array | null) => {
+    if (a && a.buffer instanceof ArrayBuffer) buffers.add(a.buffer);
+  };
+  if (merged.kind === "permutation")
+    for (const { counts } of merged.chunks) {
+      add(counts.counts);
+      add(counts.maxAbs);
+      for (const n of counts.nulls ?? []) add(n);
+    }
+  return [...buffers];
+}
+
 /** The `runFit` options that answer a split fit's test from its merged chunks. */
 export function mergeOptions(
   merged: MergedChunks,

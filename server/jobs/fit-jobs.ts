@@ -60,6 +60,7 @@ import {
   type FitChunks,
   type MergedChunks,
   mergedChunks,
+  transferablesOf,
 } from "./fit-chunks";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "./fit-task";
 import { secondsLeftOf } from "./time-left";
@@ -519,7 +520,7 @@ export class FitJobs {
       let outcome: FitTaskOutcome;
       try {
         outcome = (await this.getPool().run(task, {
-          transferList: [channel.port2],
+          transferList: [channel.port2, ...(merged ? transferablesOf(merged) : [])],
           signal: run.controller.signal,
         })) as FitTaskOutcome;
         if (outcome.ok) await run.stored;

@@ -50,6 +50,7 @@ import {
   mergedOfStored,
   partCount,
   rowsMark,
+  transferablesOf,
 } from "../jobs/fit-chunks";
 import type { ChunkTaskOutcome } from "../jobs/chunk-task";
 import { type FitEvent, INTERNAL_FAILURE } from "../jobs/fit-jobs";
@@ -478,7 +479,7 @@ export class FitWorker {
         () => controller.abort(new Error("cancelled")),
         () =>
           (this.fitPool as Piscina).run(task, {
-            transferList: [channel.port2],
+            transferList: [channel.port2, ...(merged ? transferablesOf(merged) : [])],
             signal: controller.signal,
           }) as Promise<FitTaskOutcome>,
       );

@@ -13,6 +13,7 @@ import {
   mergedChunks,
   mergedOfStored,
   mergeOptions,
+  transferablesOf,
 } from "../../../server/jobs/fit-chunks";
 import runPermutationTask from "../../../server/jobs/permutation-task";
 import { mergedLinearPermutationTest } from "../../../server/stats/permutation";
@@ -89,6 +90,25 @@ describe("a fit's permutation test in chunks", () => {
     const whole = runFit(spec, data);
     expect(JSON.stringify(merged)).toBe(JSON.stringify(whole));
     expect(whole.regions[0].pAdjusted).toBeGreaterThan(0);
+  });
+
+  it("merged chunks move to the fit thread whole: every buffer once, none left behind", () => {
+    const fit = chunkedFit(spec, data);
+    if (!fit) throw new Error("not split");
+    const control = new SharedArrayBuffer(8);
+    const results = Array.from({ length: fit.chunks }, (_, c) => ({
+      kind: "permutation" as const,
+      counts: runPermutationTask(chunkTask(fit, c, control)),
+    }));
+    const merged = mergedChunks(fit, results);
+    const buffers = transferablesOf(merged);
+    // Per chunk: counts, maxima and one null array per region of its region chunk (100, 100, 30).
+    expect(buffers).toHaveLength(3 * 3 * 2 + 3 * (100 + 100 + 30));
+    const moved = structuredClone(merged, { transfer: buffers });
+    const first = merged.kind === "permutation" ? merged.chunks[0].counts.counts : null;
+    expect(first?.byteLength).toBe(0); // detached here: moved, not copied
+    const result = runFit(spec, data, mergeOptions(moved));
+    expect(JSON.stringify(result)).toBe(JSON.stringify(runFit(spec, data)));
   });
 });
 
