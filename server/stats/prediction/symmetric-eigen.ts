@@ -13,6 +13,7 @@
  * matrix hundreds of times.
  */
 import { StatsError } from "../errors";
+import { gemm, rowMajor, transposed } from "./gemm";
 
 /** A = Q T Qᵀ with T symmetric tridiagonal. */
 export interface Tridiagonal {
@@ -175,23 +176,56 @@ export function reduceTridiagonal(
   return { reflectors, tau };
 }
 
-/** Q = H₀H₁⋯H_{m−3} by backward accumulation (Golub & Van Loan §5.1.6). Cost about 2m³/3 multiply-adds. */
+/** Reflectors applied together in the accumulation of Q. */
+const BLOCK = 32;
+
+/**
+ * Q = H₀H₁⋯H_{m−3} by backward accumulation (Golub & Van Loan 2013, §5.1.6)
+ * in blocks of BLOCK reflectors: the product of a block is I − V𝒯Vᵀ with 𝒯
+ * upper triangular (the compact WY form, §5.1.7; Schreiber & Van Loan 1989,
+ * SIAM J. Sci. Stat. Comput. 10:53–57), so each block updates Q by two
+ * matrix products. Cost about 2m³/3 multiply-adds.
+ */
 export function accumulateReflectors(
   reflectors: Float64Array,
   tau: Float64Array,
   n: number,
 ): Float64Array {
-  // Q ← H_k Q touches rows and columns k+1.. only.
-  const w = new Float64Array(n);
   const q = new Float64Array(n * n);
   for (let i = 0; i < n; i++) q[i * n + i] = 1;
-  for (let k = n - 3; k >= 0; k--) {
-    const t = tau[k];
-    if (t === 0) continue;
-    const vOff = k * n;
-    w.fill(0, k + 1, n);
-    for (let i = k + 1; i < n; i++) axpyRow(w, 0, reflectors[vOff + i], q, i * n, k + 1, n);
-    for (let i = k + 1; i < n; i++) axpyRow(q, i * n, -t * reflectors[vOff + i], w, 0, k + 1, n);
+  const count = Math.max(0, n - 2);
+  const t = new Float64Array(BLOCK * BLOCK);
+  const y = new Float64Array(BLOCK);
+  for (let end = count; end > 0; end -= BLOCK) {
+    const k0 = Math.max(0, end - BLOCK);
+    const nb = end - k0;
+    const rows = n - k0 - 1; // the block acts on indices k0 + 1 … n − 1
+    const vOffset = k0 * n + k0 + 1; // Vᵀ: row j = v_{k0+j} from index k0 + 1
+    // 𝒯 column by column: 𝒯_jj = τ_j, 𝒯[0:j, j] = −τ_j 𝒯[0:j, 0:j] (V[:, 0:j]ᵀ v_j).
+    t.fill(0);
+    for (let j = 0; j < nb; j++) {
+      const tj = tau[k0 + j];
+      t[j * BLOCK + j] = tj;
+      if (tj === 0) continue;
+      for (let i = 0; i < j; i++)
+        y[i] = dotRange(reflectors, (k0 + i) * n, reflectors, (k0 + j) * n, k0 + j + 1, n);
+      for (let i = 0; i < j; i++) {
+        let sum = 0;
+        for (let l = i; l < j; l++) sum += t[i * BLOCK + l] * y[l];
+        t[i * BLOCK + j] = -tj * sum;
+      }
+    }
+    // Q₂₂ ← Q₂₂ − V (𝒯 (Vᵀ Q₂₂)).
+    const qOffset = (k0 + 1) * n + k0 + 1;
+    const vq = new Float64Array(nb * rows);
+    gemm(nb, rows, rows, rowMajor(reflectors, n, vOffset), rowMajor(q, n, qOffset), vq, rows);
+    const tvq = new Float64Array(nb * rows);
+    gemm(nb, rows, nb, rowMajor(t, BLOCK), rowMajor(vq, rows), tvq, rows);
+    for (let x = 0; x < tvq.length; x++) tvq[x] = -tvq[x];
+    gemm(rows, rows, nb, transposed(reflectors, n, vOffset), rowMajor(tvq, rows), q, n, {
+      accumulate: true,
+      cOffset: qOffset,
+    });
   }
   return q;
 }
