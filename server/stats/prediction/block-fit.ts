@@ -17,7 +17,7 @@
  * for the inner errors (n_held·r·B for the outer predictions).
  */
 import { residualize } from "./confounds";
-import type { PreparedFold, PreparedStage } from "./fold-pipeline";
+import { choosePenaltyIndex, type PreparedFold, type PreparedStage } from "./fold-pipeline";
 import { gemm, rowMajor } from "./gemm";
 import { ridgeFactors, ridgeSolveColumns } from "./ridge";
 
@@ -131,10 +131,7 @@ export function fitFoldBlock(
     const grid = fold.grid ?? [];
     const mse = innerErrorsBlock(fold, traits, n, count);
     for (let b = 0; b < count; b++) {
-      let best = grid.length - 1;
-      for (let l = grid.length - 2; l >= 0; l--)
-        if (mse[l * count + b] < mse[best * count + b] * (1 - 1e-12)) best = l;
-      lambdas[b] = grid[best];
+      lambdas[b] = grid[choosePenaltyIndex(grid.length, (l) => mse[l * count + b])];
     }
   }
   const stage = fold.outer;

@@ -61,6 +61,22 @@ export interface PreparedFold {
   lambda: number | null;
 }
 
+/** The penalties of an inner choice, ascending: `lambdaGrid` or the default for n_train. */
+export function penaltyGrid(lambdaGrid: readonly number[] | null | undefined, nTrain: number) {
+  return [...(lambdaGrid ?? defaultLambdaGrid(nTrain))].sort((a, b) => a - b);
+}
+
+/**
+ * Index of the penalty with the smallest inner mean squared error `error(l)`
+ * over an ascending grid of `count` values; ties (within a relative 1e-12)
+ * go to the larger λ, the simpler model. The one choice rule of the model.
+ */
+export function choosePenaltyIndex(count: number, error: (l: number) => number): number {
+  let best = count - 1;
+  for (let l = count - 2; l >= 0; l--) if (error(l) < error(best) * (1 - 1e-12)) best = l;
+  return best;
+}
+
 /** Default grid: 20 values log-spaced over 10⁻³…10³ × the number of training rows. */
 export function defaultLambdaGrid(nTrain: number): number[] {
   return Array.from({ length: 20 }, (_, i) => nTrain * 10 ** (-3 + (6 * i) / 19));
@@ -178,7 +194,7 @@ export function prepareFold(
 ): PreparedFold {
   const outer = prepareStage(data, train, held, options.standardize);
   if (options.lambda !== undefined) return { outer, inner: [], grid: null, lambda: options.lambda };
-  const grid = [...(options.lambdaGrid ?? defaultLambdaGrid(train.length))].sort((a, b) => a - b);
+  const grid = penaltyGrid(options.lambdaGrid, train.length);
   let innerSplits = options.innerSplits;
   if (!innerSplits) {
     if (!options.rng) throw new StatsError("prepareFold needs its inner splits or a generator");
@@ -232,9 +248,7 @@ export function chooseLambda(fold: PreparedFold, y: Float64Array): number {
   if (fold.lambda !== null) return fold.lambda;
   const grid = fold.grid ?? [];
   const mse = innerMeanSquaredErrors(fold, y);
-  let best = grid.length - 1;
-  for (let l = grid.length - 2; l >= 0; l--) if (mse[l] < mse[best] * (1 - 1e-12)) best = l;
-  return grid[best];
+  return grid[choosePenaltyIndex(grid.length, (l) => mse[l])];
 }
 
 /** Result of the fold's pipeline for one trait vector. */

@@ -12,7 +12,12 @@
  * n_train < p, §18.3.5).
  */
 import { residualize } from "./confounds";
-import { defaultLambdaGrid, type PredictionData, stageMatrices } from "./fold-pipeline";
+import {
+  choosePenaltyIndex,
+  type PredictionData,
+  penaltyGrid,
+  stageMatrices,
+} from "./fold-pipeline";
 import type { Split } from "./folds";
 import { gemm, rowMajor, transposed } from "./gemm";
 import { ridgeFactors, ridgeSolveColumns, scaleColumns, symmetrize } from "./ridge";
@@ -107,7 +112,7 @@ export function fitSingle(
 ): { lambda: number; observed: Float64Array; predicted: Float64Array } {
   let lambda = options.lambda;
   if (lambda === null) {
-    const grid = [...(options.lambdaGrid ?? defaultLambdaGrid(train.length))].sort((a, b) => a - b);
+    const grid = penaltyGrid(options.lambdaGrid, train.length);
     const sse = new Float64Array(grid.length);
     let count = 0;
     for (const s of options.innerSplits ?? []) {
@@ -130,10 +135,7 @@ export function fitSingle(
       }
       count += nh;
     }
-    let best = grid.length - 1;
-    for (let l = grid.length - 2; l >= 0; l--)
-      if (sse[l] / count < (sse[best] / count) * (1 - 1e-12)) best = l;
-    lambda = grid[best];
+    lambda = grid[choosePenaltyIndex(grid.length, (l) => sse[l] / count)];
   }
   const fit = stagePredictions(data, train, held, y, [lambda], options.standardize);
   return { lambda, ...fit };
