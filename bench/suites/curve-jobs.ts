@@ -107,9 +107,50 @@ export default async function curveJobs(): Promise<void> {
         await new Promise((r) => setTimeout(r, 200));
       }
     })();
-    const health = await healthDuring(base, finished);
+    // Probes of /api/health with when they were sent, to tell the phase of any slow answer.
+    const probes: { at: number; ms: number }[] = [];
+    const phases: { at: number; fraction: number }[] = [];
+    let settled = false;
+    void finished.finally(() => {
+      settled = true;
+    });
+    const inFlight: Promise<unknown>[] = [];
+    let turn = 0;
+    while (!settled) {
+      const sent = performance.now();
+      inFlight.push(
+        fetch(`${base}/api/health`).then(async (res) => {
+          await res.arrayBuffer();
+          probes.push({ at: sent - t0, ms: performance.now() - sent });
+        }),
+      );
+      if (turn++ % 5 === 0)
+        inFlight.push(
+          must("GET", `/api/fits/${fit.id}`).then((now) =>
+            phases.push({
+              at: sent - t0,
+              fraction: (now.progress as { fraction: number } | null)?.fraction ?? 0,
+            }),
+          ),
+        );
+      await new Promise((r) => setTimeout(r, 100));
+    }
+    await Promise.all(inFlight);
     const view = await finished;
-    return { seconds: (performance.now() - t0) / 1000, health, view, load };
+    const phaseAt = (at: number) => phases.filter((p) => p.at <= at).at(-1)?.fraction ?? 0;
+    const slow = probes
+      .filter((p) => p.ms > 100)
+      .map(
+        (p) =>
+          `${(p.at / 1000).toFixed(1)} s (${p.ms.toFixed(0)} ms, progress ${phaseAt(p.at).toFixed(2)})`,
+      );
+    return {
+      seconds: (performance.now() - t0) / 1000,
+      health: probes.map((p) => p.ms),
+      slow,
+      view,
+      load,
+    };
   };
   try {
     console.log(
@@ -170,7 +211,9 @@ export default async function curveJobs(): Promise<void> {
       `max-T Freedman–Lane through the jobs path: ${REGIONS} regions × ${PARTICIPANTS} participants × ${MAXT_RESAMPLES.toLocaleString("en")} rearrangements: ${maxT.seconds.toFixed(1)} s (load ${maxT.load.toFixed(1)} at the start, ${os.loadavg()[0].toFixed(1)} after)`,
     );
     console.log(latencySummary("GET /api/health during the max-T fit", maxT.health));
-    console.log(`  health answers over 100 ms: ${maxT.health.filter((t) => t > 100).length}`);
+    console.log(
+      `  health answers over 100 ms: ${maxT.slow.length}${maxT.slow.length ? ` — sent at ${maxT.slow.join(", ")} (progress up to 0.9 is chunks; then the merge and the region rows)` : ""}`,
+    );
   } catch (error) {
     console.log(`server output:\n${server.log().split("\n").slice(-30).join("\n")}`);
     throw error;
