@@ -1,7 +1,8 @@
 /**
  * The figures' worker thread (piscina, server/jobs/figure-task.ts), so the
  * request thread never lays out, outlines or rasterizes a figure, nor
- * writes a Word table (about a second for 1,000 regions): a
+ * writes a Word table (about a second for 1,000 regions) or the Markdown
+ * and LaTeX tables and the results sentences (10–20 ms for 1,000): a
  * scatter plot's layout takes milliseconds, outlining its text tens of
  * milliseconds, a 300-dpi PNG a hundred or more. One thread
  * (a second would take the core the request thread needs on a 2-core
@@ -13,7 +14,7 @@ import type { Piscina } from "piscina";
 import { HttpError } from "../http/errors";
 import type { Fit } from "../../db/schema";
 import type { FigureInput } from "../figures/figure-svg";
-import type { ManuscriptOptions } from "../services/manuscript-tables";
+import type { ManuscriptOptions, ManuscriptTexts } from "../services/manuscript-tables";
 import type { FigureTask } from "./figure-task";
 import { workerPool } from "./worker-pool";
 
@@ -50,6 +51,11 @@ export class FigureJobs {
   /** A done fit's region table as a Word document (manuscript-tables.ts `writeDocx`). */
   async docx(fit: Fit, options: ManuscriptOptions): Promise<Uint8Array> {
     return (await this.run({ kind: "docx", fit, options })) as Uint8Array;
+  }
+
+  /** A done fit's region table as Markdown and LaTeX, its sentences and their Markdown (`writeManuscriptTexts`). */
+  async manuscriptTexts(fit: Fit, options: ManuscriptOptions): Promise<ManuscriptTexts> {
+    return (await this.run({ kind: "texts", fit, options })) as ManuscriptTexts;
   }
 
   /** Stops the worker thread (tasks in flight are rejected). */

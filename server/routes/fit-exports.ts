@@ -14,7 +14,8 @@
  *                                     The tables' notes list set-aside ids only to callers with
  *                                     `fits.participants.read`; otherwise only their number.
  *
- * All carry `fits.export`. Routes under /fits/:fitId find the fit's study
+ * The tables and sentences are written on the figures' worker thread
+ * (manuscript-tables.ts) and kept. All carry `fits.export`. Routes under /fits/:fitId find the fit's study
  * before checking rights, so a fit of another study answers 404.
  */
 import { Router } from "express";
@@ -26,10 +27,8 @@ import { exportFileName, methodsOf, recipeJson, regionsCsv } from "../services/f
 import { findFit, studyOfFit } from "../services/fits";
 import {
   type ManuscriptOptions,
+  manuscriptTexts,
   regionsDocx,
-  regionsLatex,
-  regionsMarkdown,
-  sentencesOf,
 } from "../services/manuscript-tables";
 import type { Fit } from "../../db/schema";
 import type { RouteDeps } from "./deps";
@@ -41,11 +40,11 @@ const read = { params: z.strictObject({ fitId: idSchema }), query: noQuery };
 const tableForms = {
   "regions.md": {
     type: "text/markdown; charset=utf-8",
-    build: (fit: Fit, o: ManuscriptOptions) => regionsMarkdown(fit, o),
+    build: async (fit: Fit, o: ManuscriptOptions) => (await manuscriptTexts(fit, o)).markdown,
   },
   "regions.tex": {
     type: "application/x-tex; charset=utf-8",
-    build: (fit: Fit, o: ManuscriptOptions) => regionsLatex(fit, o),
+    build: async (fit: Fit, o: ManuscriptOptions) => (await manuscriptTexts(fit, o)).latex,
   },
   "regions.docx": {
     type: "application/vnd.openxmlformats-officedocument.wordprocessingml.document",
@@ -144,7 +143,8 @@ export function fitExportRoutes(deps: RouteDeps): Router {
         authorizedStudy(res).study.id,
         parsed(res, read).params.fitId,
       );
-      res.json(sentencesOf(fit));
+      const texts = await manuscriptTexts(fit, { participantsVisible: participantsVisible(res) });
+      res.json(texts.sentences);
     },
   );
 

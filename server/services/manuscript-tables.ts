@@ -19,6 +19,10 @@
  * - `sentencesOf(fit): { region, text, runs }[]` — one results sentence per
  *   region (`text` without marks, `runs` with them).
  * - `sentencesMarkdown(fit): string` — the sentences as a Markdown list.
+ * - `manuscriptTexts(fit, options): Promise<ManuscriptTexts>` — the Markdown
+ *   and LaTeX tables, the sentences and their Markdown, written together by
+ *   the functions above on the figures' worker thread and kept like the Word
+ *   document (the same bytes; the routes and the report bundle use this).
  *
  * `options.participantsVisible` says whether the caller may read
  * participant-level rows (`fits.participants.read`): when false, the note
@@ -31,11 +35,11 @@
  * correction (`correctionLabels`, labels.ts) and the set-asides.
  *
  * Every function throws 409 when the fit is not done. Cost O(regions): the
- * text forms take well under a millisecond for 10 regions and ~20 ms for
+ * text forms take well under a millisecond for 10 regions and 10–20 ms for
  * 1,000; the Word document ~60 ms for 10 and ~1.3 s for 1,000 (the docx
- * writer's XML; benchmark `manuscript-tables`, at machine load 11), which is
- * more than the request thread should spend — it is a pure function of the
- * fit's row and the options, ready to move into a worker thread.
+ * writer's XML; benchmark `manuscript-tables`, at machine load 11) — more
+ * than the request thread should spend, so all of them are written on the
+ * figures' worker thread (server/jobs/figure-jobs.ts) and kept.
  */
 import {
   AlignmentType,
@@ -346,18 +350,95 @@ function rezip(bytes: Uint8Array, at: Date): Uint8Array {
 const docxKept = new Map<string, Uint8Array>();
 const DOCX_KEPT = 32;
 
+/** The text forms of a fit's region table and its sentences, written together on the worker thread. */
+export interface ManuscriptTexts {
+  markdown: string;
+  latex: string;
+  sentencesMarkdown: string;
+  sentences: RegionSentence[];
+}
+
+/** Every text form of the fit (worker-thread side of `manuscriptTexts`; no cache). */
+export function writeManuscriptTexts(fit: Fit, options: ManuscriptOptions): ManuscriptTexts {
+  return {
+    markdown: regionsMarkdown(fit, options),
+    latex: regionsLatex(fit, options),
+    sentencesMarkdown: sentencesMarkdown(fit),
+    sentences: sentencesOf(fit),
+  };
+}
+
+/** Per-region diagnostics no table or sentence reads: left out of what crosses to the worker thread. */
+const diagnosticKeys = new Set(["leaveOneOut", "sensitivity", "flagged", "flagThresholds"]);
+
+/**
+ * The fit as handed to the worker thread: the columns the writers read and
+ * each region without its diagnostics, so the request thread's copy of a
+ * 1,000-region fit (a structured clone) stays a fraction of the writing.
+ */
+export function manuscriptHandOver(fit: Fit): Fit {
+  const result = fit.result as { regions?: RegionResult[] } | null;
+  const regions = result?.regions?.map((r) => {
+    const kept: RegionResult = { ...r };
+    for (const key of diagnosticKeys) delete kept[key];
+    return kept;
+  });
+  return {
+    id: fit.id,
+    status: fit.status,
+    recipe: fit.recipe,
+    result: result && regions ? { ...result, regions } : fit.result,
+    createdAt: fit.createdAt,
+    finishedAt: fit.finishedAt,
+  } as Fit;
+}
+
+/** The key of what is kept for a fit: id, finish time, visibility and title (a done fit never changes). */
+function keptKey(fit: Fit, options: ManuscriptOptions): string {
+  return JSON.stringify([
+    fit.id,
+    fixedTime(fit).toISOString(),
+    options.participantsVisible,
+    options.title ?? null,
+  ]);
+}
+
+/** Text forms already written, kept as the Word documents are. */
+const textsKept = new Map<string, ManuscriptTexts>();
+const TEXTS_KEPT = 32;
+
+/**
+ * The region table as Markdown and LaTeX, the sentences and their Markdown
+ * — the same text as `regionsMarkdown`, `regionsLatex`, `sentencesOf` and
+ * `sentencesMarkdown` — written together on the figures' worker thread
+ * (10–20 ms each for 1,000 regions) and kept. Throws 409 when the fit is
+ * not done. Callers must not change what they get.
+ */
+export async function manuscriptTexts(
+  fit: Fit,
+  options: ManuscriptOptions,
+): Promise<ManuscriptTexts> {
+  regionsOf(fit); // 409 before anything kept is handed out
+  const key = keptKey(fit, options);
+  const kept = textsKept.get(key);
+  if (kept) {
+    textsKept.delete(key);
+    textsKept.set(key, kept);
+    return kept;
+  }
+  const texts = await sharedFigureJobs().manuscriptTexts(manuscriptHandOver(fit), options);
+  textsKept.set(key, texts);
+  if (textsKept.size > TEXTS_KEPT) textsKept.delete(textsKept.keys().next().value as string);
+  return texts;
+}
+
 /**
  * The region table as a Word document (.docx), byte-deterministic for a
  * given fit and options. Callers get a copy of the kept bytes.
  */
 export async function regionsDocx(fit: Fit, options: ManuscriptOptions): Promise<Uint8Array> {
   regionsOf(fit); // 409 before anything kept is handed out
-  const key = JSON.stringify([
-    fit.id,
-    fixedTime(fit).toISOString(),
-    options.participantsVisible,
-    options.title ?? null,
-  ]);
+  const key = keptKey(fit, options);
   const kept = docxKept.get(key);
   if (kept) {
     docxKept.delete(key);
@@ -365,7 +446,7 @@ export async function regionsDocx(fit: Fit, options: ManuscriptOptions): Promise
     return kept.slice();
   }
   // The docx writer takes about a second for 1,000 regions: it runs on the figures' worker thread.
-  const bytes = await sharedFigureJobs().docx(fit, options);
+  const bytes = await sharedFigureJobs().docx(manuscriptHandOver(fit), options);
   docxKept.set(key, bytes);
   if (docxKept.size > DOCX_KEPT) docxKept.delete(docxKept.keys().next().value as string);
   return bytes.slice();

@@ -13,6 +13,13 @@ import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { fits } from "../../db/schema";
 import type { RegionResult } from "../../contract/spec";
+import { FigureJobs } from "../../server/jobs/figure-jobs";
+import {
+  regionsLatex,
+  regionsMarkdown,
+  sentencesMarkdown,
+  sentencesOf,
+} from "../../server/services/manuscript-tables";
 import {
   binaryBody,
   createTestApp,
@@ -131,6 +138,35 @@ describe("manuscript tables of a finished fit", () => {
       const math = (c: string) => c.replace(/\$-\$/g, "\u2212");
       shownEqual(math(cells[2]), [r.estimate, r.ciLow as number, r.ciHigh as number]);
       pShownEqual(cells[4], r.p);
+    }
+  });
+
+  it("Markdown, LaTeX and sentences come from the figures' worker thread with the writers' very bytes", async () => {
+    const [row] = await t.db.select().from(fits).where(eq(fits.id, fitId));
+    const o = { participantsVisible: true };
+    const expected = {
+      "regions.md": regionsMarkdown(row, o),
+      "regions.tex": regionsLatex(row, o),
+    };
+    // Twice: the second answer is the kept one.
+    for (let k = 0; k < 2; k++) {
+      for (const [name, text] of Object.entries(expected)) {
+        const res = await get("owner", `/api/fits/${fitId}/${name}`).expect(200);
+        expect(res.text, name).toBe(text);
+      }
+      const sentences = await get("owner", `/api/fits/${fitId}/sentences`).expect(200);
+      expect(sentences.body).toEqual(JSON.parse(JSON.stringify(sentencesOf(row))));
+    }
+    const jobs = new FigureJobs();
+    try {
+      expect(await jobs.manuscriptTexts(row, o)).toEqual({
+        markdown: expected["regions.md"],
+        latex: expected["regions.tex"],
+        sentencesMarkdown: sentencesMarkdown(row),
+        sentences: sentencesOf(row),
+      });
+    } finally {
+      await jobs.close();
     }
   });
 
