@@ -5,7 +5,12 @@
  * row per estimator, covariate set and exclusion rule) with, per column,
  * whether that specification made the choice. Pure; the view draws it.
  */
-import type { CurveSpecification } from "../../contract/specification-curve";
+import type {
+  CurveJointTest,
+  CurveSpecification,
+  CurveSummary,
+} from "../../contract/specification-curve";
+import { formatP, formatPercent, formatValue } from "../charts/number-format";
 
 export interface ChoiceRow {
   key: string;
@@ -81,4 +86,14 @@ export function specKey(
   s: Pick<CurveSpecification, "estimator" | "covariates" | "exclusions">,
 ): string {
   return `${s.estimator}|${s.covariates.join(",")}|${s.exclusions.join(",")}`;
+}
+
+/** The curve's summary in one sentence (the screen's summary card and the report bundle's curve.md). */
+export function curveSummaryWords(summary: CurveSummary): string {
+  return `Median estimate ${formatValue(summary.medianEstimate)}; ${formatPercent(summary.sharePositive)} above zero; significant (p < .05) above zero in ${formatPercent(summary.shareSignificantPositive)}, below zero in ${formatPercent(summary.shareSignificantNegative)}.`;
+}
+
+/** The joint test in one sentence (the screen and the report bundle's curve.md). */
+export function jointTestWords(jointTest: CurveJointTest): string {
+  return `Joint test against ${jointTest.resamples} null data sets (trait permuted): median estimate ${formatP(jointTest.pMedian)}; share significant ${jointTest.dominantDirection === "positive" ? "above" : "below"} zero ${formatP(jointTest.pShareSignificant)}; Stouffer's Z = ${formatValue(jointTest.stoufferZ)}, ${formatP(jointTest.pStouffer)}.`;
 }

@@ -22,12 +22,17 @@ import type {
   CurveSpecification,
   CurveSummary,
 } from "../../contract/specification-curve";
-import { formatP, formatPercent, formatValue } from "../charts/number-format";
+import { formatP, formatValue } from "../charts/number-format";
 import { chart, marks, palette, radius, space } from "../theme";
 import { Button, Card, Heading, Txt } from "../ui";
 import { formatTicks, tickCountFor, tickValues } from "../charts/ticks";
 import { OpenSpecificationButton, type OpenSpecificationContext } from "./open-specification";
-import { curveLayout, specKey } from "./specification-curve-layout";
+import {
+  curveLayout,
+  curveSummaryWords,
+  jointTestWords,
+  specKey,
+} from "./specification-curve-layout";
 
 const ESTIMATE_HEIGHT = 180;
 const ROW_HEIGHT = 20;
@@ -77,12 +82,10 @@ export function SpecificationCurveView(props: {
     <View style={styles.root} testID="specification-curve-view">
       <Card testID="curve-summary">
         <Heading level={3}>{`${summary.count} specifications in ${props.region}`}</Heading>
-        <Txt>
-          {`Median estimate ${formatValue(summary.medianEstimate)}; ${formatPercent(summary.sharePositive)} above zero; significant (p < .05) above zero in ${formatPercent(summary.shareSignificantPositive)}, below zero in ${formatPercent(summary.shareSignificantNegative)}.`}
-        </Txt>
+        <Txt>{curveSummaryWords(summary)}</Txt>
         {jointTest ? (
           <Txt kind="small" testID="curve-joint-test">
-            {`Joint test against ${jointTest.resamples} null data sets (trait permuted): median estimate ${formatP(jointTest.pMedian)}; share significant ${jointTest.dominantDirection === "positive" ? "above" : "below"} zero ${formatP(jointTest.pShareSignificant)}; Stouffer's Z = ${formatValue(jointTest.stoufferZ)}, ${formatP(jointTest.pStouffer)}.`}
+            {jointTestWords(jointTest)}
           </Txt>
         ) : null}
         {planned && props.planned ? (

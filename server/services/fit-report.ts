@@ -6,7 +6,16 @@
  *   methods.md            the methods paragraph and its references (fit-exports.ts methodsOf)
  *   results/regions.csv   the region table (fit-exports.ts regionsCsv)
  *   results/regions.md|tex|docx, results/sentences.md
- *                         the table for a manuscript and the results sentences (manuscript-tables.ts)
+ *                         the table for a manuscript and the results sentences (manuscript-tables.ts);
+ *                         only for a fit with region rows. Instead, a specification curve has
+ *   results/specifications.csv, results/curve.md
+ *                         one row per specification, and the curve's summary and joint test;
+ *                         and a prediction
+ *   results/prediction.md, results/prediction-repeats.csv, results/prediction-weights.csv,
+ *   results/predictions.csv
+ *                         its scores, the scores per repeat, the weight of each region, and each
+ *                         participant's held-out prediction (no participant column without
+ *                         participant rows)
  *   figures/<name>.svg|png|txt
  *                         the forest plot (and a weighted fit's variance shares) and the figures of the first `reportFigureRegions` regions by
  *                         adjusted p, with captions (fit-figures.ts; participant plots only for callers
@@ -41,7 +50,12 @@ import {
   fitRunWords,
   fitSealedWords,
 } from "../../contract/activity-words";
+import { ruleText } from "../../contract/exclusion-rules";
+import type { PredictionBlock } from "../../contract/prediction";
+import { specOfRecipe } from "../../contract/recipe";
+import { type CurveResultFields, curveChoices } from "../../contract/specification-curve";
 import type { FigureSummary, FigureWidth } from "../../contract/views/figures";
+import { curveSummaryWords, jointTestWords } from "../../components/fit/specification-curve-layout";
 import type { FitView } from "../../contract/views/fits";
 import { pixelsFor } from "../figures/png-resolution";
 import { toCsv } from "../intake/export-csv";
@@ -56,7 +70,7 @@ import {
   listFigures,
   MAX_PNG_HEIGHT_PX,
 } from "./fit-figures";
-import { regionsDocx, regionsLatex, regionsMarkdown, sentencesMarkdown } from "./manuscript-tables";
+import { manuscriptTexts, regionsDocx } from "./manuscript-tables";
 import { fitViewParts } from "./fits";
 import { writeZip, type ZipEntry } from "./report-zip";
 
@@ -203,6 +217,69 @@ async function inputsJson(db: Queryable, fit: Fit): Promise<unknown> {
 function methodsMarkdown(methods: Awaited<ReturnType<typeof methodsOf>>): string {
   const refs = methods.references.map((r) => `- ${r.citation}`).join("\n");
   return `# Methods\n\n${methods.text}\n${refs ? `\n## References\n\n${refs}\n` : ""}`;
+}
+
+/** A specification curve's specifications as CSV: one row per specification, in the fit's (estimate) order. */
+function specificationsCsv(fit: Fit, curve: CurveResultFields): string {
+  const rules = curveChoices(specOfRecipe(fit.recipe as Record<string, unknown>)).exclusionRules;
+  return toCsv(
+    ["estimator", "covariates", "rules_on", "n", "estimate", "ci_low", "ci_high", "p"],
+    curve.specifications.map((s) => [
+      s.estimator,
+      s.covariates.join("; "),
+      s.exclusions.map((k) => (rules[k] ? ruleText(rules[k]) : `rule ${k + 1}`)).join("; "),
+      s.n,
+      s.estimate,
+      s.ciLow,
+      s.ciHigh,
+      s.p,
+    ]),
+  );
+}
+
+/** The curve's summary and joint test in the words of the fit screen. */
+function curveMarkdown(curve: CurveResultFields): string {
+  const lines = [
+    "# Specification curve",
+    "",
+    `${curve.summary.count} specifications of the ${curve.question === "two-group" ? "two-group difference" : "association"} in ${curve.region}; each is fitted as an ordinary model (results/specifications.csv).`,
+    "",
+    curveSummaryWords(curve.summary),
+  ];
+  if (curve.jointTest) lines.push("", jointTestWords(curve.jointTest));
+  else lines.push("", "No joint test: the model asked for no null data sets.");
+  return `${lines.join("\n")}\n`;
+}
+
+function score(v: number | null): string {
+  return v === null ? "n/a" : v.toFixed(3);
+}
+
+/** A prediction's scores on held-out participants, its spread over repeats and its permutation p. */
+function predictionMarkdown(block: PredictionBlock): string {
+  const folds = block.folds === "leave-one-out" ? "leave-one-out" : `${block.folds}-fold`;
+  const lines = [
+    "# Prediction",
+    "",
+    `Cross-validated ridge prediction, ${folds}, ${block.repeats} repeat${block.repeats === 1 ? "" : "s"} (seed ${block.seed}); λ ${block.lambdaChoice === "inner-cv" ? "chosen by an inner cross-validation in each training set" : "fixed"}. Scores are on held-out participants only.`,
+    "",
+    `r = ${score(block.r)}, R² = ${score(block.r2)}, mean absolute error = ${block.mae.toFixed(3)}.`,
+  ];
+  if (block.repeats > 1)
+    lines.push(
+      "",
+      `Standard deviation over repeats: r ${score(block.spread.r)}, R² ${score(block.spread.r2)}, mean absolute error ${score(block.spread.mae)}.`,
+    );
+  if (block.permutation)
+    lines.push(
+      "",
+      `Permutation test (${block.permutation.resamples} rearrangements of the trait, the whole pipeline re-run on each): p for r ${score(block.permutation.pR)}, p for R² ${score(block.permutation.pR2)}.`,
+    );
+  lines.push(
+    "",
+    "Per repeat: results/prediction-repeats.csv. Weight of each region: results/prediction-weights.csv. Each participant's held-out prediction: results/predictions.csv.",
+  );
+  return `${lines.join("\n")}\n`;
 }
 
 /** How many regions' own figures the bundle holds (the forest plot draws every region). */
@@ -360,6 +437,128 @@ function readme(
   return lines.join("\n");
 }
 
+interface RegionTables {
+  markdown: string;
+  latex: string;
+  docx: Uint8Array;
+  sentences: string;
+}
+
+/** The region table for a manuscript in its forms and the sentences, written on the figures' worker thread. */
+async function regionTables(fit: Fit, manuscript: ReportOptions): Promise<RegionTables> {
+  const [texts, docx] = await Promise.all([
+    manuscriptTexts(fit, manuscript),
+    regionsDocx(fit, manuscript),
+  ]);
+  return { markdown: texts.markdown, latex: texts.latex, docx, sentences: texts.sentencesMarkdown };
+}
+
+type PartOf = (name: string, about: string, data: Uint8Array, compress?: boolean) => ReportPart;
+
+/**
+ * The results files: a fit with region rows has its region table in four
+ * forms and its results sentences; a specification curve its
+ * specifications and summary; a prediction its scores, per-repeat scores,
+ * region weights and held-out predictions (participant ids only for callers
+ * who may see participant rows, as set-asides.csv).
+ */
+function resultParts(
+  fit: Fit,
+  tables: RegionTables | null,
+  manuscript: ReportOptions,
+  part: PartOf,
+): ReportPart[] {
+  const result = fit.result as Partial<CurveResultFields> & { prediction?: PredictionBlock };
+  if (tables)
+    return [
+      part(
+        "results/regions.csv",
+        "the region table: one row per region with n, estimate, se, statistic, df, p, adjusted p, 95% CI (full precision)",
+        text(regionsCsv(fit)),
+      ),
+      part(
+        "results/regions.md",
+        "the region table for a manuscript, in Markdown, with its note (correction, set-asides)",
+        text(tables.markdown),
+      ),
+      part(
+        "results/regions.tex",
+        "the same table in LaTeX (booktabs rules: needs \\usepackage{booktabs})",
+        text(tables.latex),
+      ),
+      // A Word document is already a ZIP archive: stored as it is.
+      part("results/regions.docx", "the same table as a Word document", tables.docx, false),
+      part(
+        "results/sentences.md",
+        "one results sentence per region in the reporting style of the APA Publication Manual (7th ed.)",
+        text(tables.sentences),
+      ),
+    ];
+  if (result.specifications && result.summary) {
+    const curve = result as CurveResultFields;
+    return [
+      part(
+        "results/curve.md",
+        "the specification curve's summary (median estimate, shares above and below zero) and its joint test",
+        text(curveMarkdown(curve)),
+      ),
+      part(
+        "results/specifications.csv",
+        "one row per specification in estimate order: estimator, covariates, exclusion rules on, n, estimate, 95% CI, p (full precision)",
+        text(specificationsCsv(fit, curve)),
+      ),
+    ];
+  }
+  if (result.prediction) {
+    const block = result.prediction;
+    const visible = manuscript.participantsVisible;
+    return [
+      part(
+        "results/prediction.md",
+        "the prediction's scores on held-out participants (r, R², mean absolute error), their spread and permutation p",
+        text(predictionMarkdown(block)),
+      ),
+      part(
+        "results/prediction-repeats.csv",
+        "the scores of each repeat of the cross-validation: repeat, r, r2, mae",
+        text(
+          toCsv(
+            ["repeat", "r", "r2", "mae"],
+            block.perRepeat.map((s) => [s.repeat, s.r, s.r2, s.mae]),
+          ),
+        ),
+      ),
+      part(
+        "results/prediction-weights.csv",
+        "the weight of each region in the model (mean over folds) and the share of folds agreeing with its sign",
+        text(
+          toCsv(
+            ["region", "weight", "sign_consistency"],
+            block.regions.map((r) => [r.region, r.weight, r.signConsistency]),
+          ),
+        ),
+      ),
+      part(
+        "results/predictions.csv",
+        visible
+          ? "each participant's observed trait and held-out prediction: participant, observed, predicted"
+          : "each participant's observed trait and held-out prediction: observed, predicted (participant ids withheld: the study restricts participant-level rows)",
+        text(
+          toCsv(
+            [...(visible ? ["participant"] : []), "observed", "predicted"],
+            block.participants.map((p) => [
+              ...(visible ? [p.participant] : []),
+              p.observed,
+              p.predicted,
+            ]),
+          ),
+        ),
+      ),
+    ];
+  }
+  return [];
+}
+
 export interface Report {
   view: FitView;
   /** README.txt first, then the parts in the order above. */
@@ -381,7 +580,7 @@ export async function buildReport(
   fit: Fit,
   options: ReportOptions,
 ): Promise<Report> {
-  const csv = regionsCsv(fit); // 409 unless done
+  const regions = regionsOf(fit); // 409 unless done
   const { head: view } = await fitViewParts(
     db,
     jobs,
@@ -391,11 +590,12 @@ export async function buildReport(
   );
   const modelName = view.model.name;
   const manuscript = { participantsVisible: options.participantsVisible };
-  const [methods, inputs, activity, docx] = await Promise.all([
+  const [methods, inputs, activity, tables] = await Promise.all([
     methodsOf(db, fit),
     inputsJson(db, fit),
     activityCsv(db, fit, modelName),
-    regionsDocx(fit, manuscript),
+    // A prediction or a specification curve has no region rows: no region table (as the publish panel).
+    regions.length > 0 ? regionTables(fit, manuscript) : null,
   ]);
   const figures = await figureParts(db, fit, manuscript);
   const leftOut: string[] = [...figures.leftOut];
@@ -407,28 +607,7 @@ export async function buildReport(
   });
   const parts: ReportPart[] = [
     part("methods.md", "the methods paragraph with its references", text(methodsMarkdown(methods))),
-    part(
-      "results/regions.csv",
-      "the region table: one row per region with n, estimate, se, statistic, df, p, adjusted p, 95% CI (full precision)",
-      text(csv),
-    ),
-    part(
-      "results/regions.md",
-      "the region table for a manuscript, in Markdown, with its note (correction, set-asides)",
-      text(regionsMarkdown(fit, manuscript)),
-    ),
-    part(
-      "results/regions.tex",
-      "the same table in LaTeX (booktabs rules: needs \\usepackage{booktabs})",
-      text(regionsLatex(fit, manuscript)),
-    ),
-    // A Word document is already a ZIP archive: stored as it is.
-    part("results/regions.docx", "the same table as a Word document", docx, false),
-    part(
-      "results/sentences.md",
-      "one results sentence per region in the reporting style of the APA Publication Manual (7th ed.)",
-      text(sentencesMarkdown(fit)),
-    ),
+    ...resultParts(fit, tables, manuscript, part),
     ...figures.parts,
   ];
   if (options.participantsVisible)
