@@ -1,5 +1,12 @@
 import { describe, expect, it } from "vitest";
-import { checkPowerPoints, interpolatePower } from "../../../components/charts/power-curve-layout";
+import {
+  checkPowerCurve,
+  checkPowerPoints,
+  interpolatePower,
+  powerCurveDescription,
+  powerCurveLayout,
+  powerCurveLegend,
+} from "../../../components/charts/power-curve-layout";
 
 describe("power curve layout", () => {
   const pts = checkPowerPoints([
@@ -41,5 +48,37 @@ describe("power curve layout", () => {
       ]),
     ).toThrow("N = 10 appears more than once"); // (input contract)
     expect(() => checkPowerPoints([])).toThrow("points: must hold at least one point"); // (input contract)
+  });
+
+  it("places one point per planned N, the target line and the answer's marker", () => {
+    const input = { points: pts, targetPower: 0.8, answerN: 70 };
+    const layout = powerCurveLayout(input, { width: 360, height: 240 });
+    expect(layout.points.map((p) => p.n)).toEqual([20, 40, 80]); // (exact enumeration)
+    const { area } = layout;
+    // Power 0 at the bottom, 1 at the top, so 0.8 lies 80% of the way up (exact algebra).
+    expect(layout.target.y).toBeCloseTo(area.bottom - 0.8 * (area.bottom - area.top), 9);
+    // The answer's dot sits on the curve: power at N = 70 read by interpolation (exact algebra).
+    const power70 = 0.5 + 0.32 * 0.75;
+    expect(layout.answer?.dot?.cy).toBeCloseTo(area.bottom - power70 * (area.bottom - area.top), 9);
+    expect(layout.answer?.label.text).toBe("N = 70");
+    expect(layout.points[0].words).toBe("N = 20: power 30%"); // (input, in words)
+    expect(layout.curvePath.startsWith("M")).toBe(true);
+    expect(layout.curvePath.split("L")).toHaveLength(3); // (one segment per pair of neighbours)
+    expect(powerCurveLegend(input).map((e) => e.label)).toEqual(["power", "target 80%", "N = 70"]);
+    expect(powerCurveDescription(input)).toContain("at 3 planned Ns");
+  });
+
+  it("draws no marker without an answer and names a bad target", () => {
+    const layout = powerCurveLayout(
+      { points: pts, targetPower: 0.9, answerN: null },
+      { width: 360, height: 240 },
+    );
+    expect(layout.answer).toBeNull();
+    expect(() => checkPowerCurve({ points: pts, targetPower: 1, answerN: null })).toThrow(
+      "targetPower: must lie strictly between 0 and 1 (got 1)",
+    ); // (input contract)
+    expect(() => checkPowerCurve({ points: pts, targetPower: 0.8, answerN: -3 })).toThrow(
+      "answerN: must be positive (got -3)",
+    ); // (input contract)
   });
 });
