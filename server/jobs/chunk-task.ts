@@ -16,8 +16,11 @@
  *
  * A statistical precondition comes back as `{ ok: false, code, message }`
  * (the fit's reason for failing: it would fail the same way on any try);
- * any other error is thrown. Threads compute only — no database, no files —
- * and run at a lower priority than the request thread (thread-priority.ts).
+ * any other error is thrown. Threads compute only — no database, no files.
+ * In a web server the thread lowers its priority below the request
+ * thread's with its first task (thread-priority.ts); a worker process,
+ * which serves no requests, sends `fullPriority` and keeps its threads at
+ * normal priority (a lowered thread cannot raise itself again).
  */
 import type { FitData, ModelSpec } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
@@ -31,8 +34,7 @@ import { type ChunkResult, type FitChunks, fitChunks } from "./fit-chunks";
 import runPermutationTask, { type PermutationTask } from "./permutation-task";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
-// Chunks run behind the request thread (see thread-priority.ts).
-lowerWorkerThreadPriority();
+let lowered = false;
 
 export type ChunkTask =
   | { type: "permutation"; task: PermutationTask }
@@ -46,7 +48,10 @@ export type ChunkTask =
       control: SharedArrayBuffer;
     };
 
-export type ChunkTaskInput = ChunkTask | { type: "plan"; spec: ModelSpec; data: FitData };
+export type ChunkTaskInput = (ChunkTask | { type: "plan"; spec: ModelSpec; data: FitData }) & {
+  /** A worker process: keep the thread at normal priority. */
+  fullPriority?: boolean;
+};
 
 export type ChunkTaskOutcome<T> =
   | { ok: true; value: T }
@@ -56,6 +61,11 @@ export type ChunkTaskOutcome<T> =
 export default function runChunkTask(
   input: ChunkTaskInput,
 ): ChunkTaskOutcome<ChunkResult | FitChunks | null> {
+  if (!input.fullPriority && !lowered) {
+    // Chunks run behind the request thread (see thread-priority.ts).
+    lowered = true;
+    lowerWorkerThreadPriority();
+  }
   try {
     if (input.type === "plan") return { ok: true, value: fitChunks(input.spec, input.data) };
     if (input.type === "permutation")

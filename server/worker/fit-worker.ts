@@ -350,7 +350,11 @@ export class FitWorker {
       const control = new Int32Array(new SharedArrayBuffer(8));
       try {
         const plan = await this.planFor(fitId);
-        const task = chunkTaskOf(plan, chunk, control.buffer as SharedArrayBuffer);
+        // No requests to serve here: chunks at normal priority.
+        const task = {
+          ...chunkTaskOf(plan, chunk, control.buffer as SharedArrayBuffer),
+          fullPriority: true,
+        };
         const outcome = await this.watching(
           fitId,
           () => Atomics.store(control, 0, 1),
