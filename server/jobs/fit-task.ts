@@ -16,7 +16,8 @@
  * (the fit's reason for failing); any other error is thrown (the main
  * thread logs it). Cancel: the main thread aborts the task and the pool
  * ends the worker thread. Worker threads run at a lower priority than the
- * request thread (thread-priority.ts).
+ * request thread (thread-priority.ts), lowered with their first task, except
+ * in a worker process (`fullPriority`), which serves no requests.
  */
 import type { MessagePort } from "node:worker_threads";
 import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../../contract/spec";
@@ -28,8 +29,7 @@ import { type MergedChunks, mergeOptions } from "./fit-chunks";
 import { encodeRegionRows } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
-// Fits run behind the request thread (see thread-priority.ts).
-lowerWorkerThreadPriority();
+let lowered = false;
 
 export const PROGRESS_INTERVAL_MS = 100;
 
@@ -46,6 +46,8 @@ export interface FitTask {
    * computed; the summary returned is then of no use); "skip" sends none.
    */
   rows?: "all" | "only" | "skip";
+  /** A worker process (no requests to serve): keep the thread at normal priority. */
+  fullPriority?: boolean;
 }
 
 /** One region's per-participant diagnostics and plot data, as JSON text. */
@@ -67,6 +69,11 @@ export type FitTaskOutcome =
   | { ok: false; code: string; message: string };
 
 export default function runFitTask(task: FitTask): FitTaskOutcome {
+  if (!task.fullPriority && !lowered) {
+    // Fits run behind the request thread (see thread-priority.ts); a lowered thread cannot raise itself again.
+    lowered = true;
+    lowerWorkerThreadPriority();
+  }
   const { port } = task;
   const post = (message: FitTaskMessage) => port.postMessage(message);
   post({ type: "started" });

@@ -474,7 +474,13 @@ export class FitWorker {
         });
       }
     });
-    const task: FitTask = { ...inputs, port: channel.port2, rows, ...(merged ? { merged } : {}) };
+    const task: FitTask = {
+      ...inputs,
+      port: channel.port2,
+      rows,
+      fullPriority: true,
+      ...(merged ? { merged } : {}),
+    };
     const controller = new AbortController();
     let outcome: FitTaskOutcome;
     try {
