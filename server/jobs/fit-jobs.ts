@@ -9,7 +9,9 @@
  * second pool of `os.availableParallelism()` threads (chunk-task.ts, every
  * core, all at the lower thread priority, so the request thread stays
  * first in line), which also plans it; its fit thread then merges them
- * (`FitTask.merged`) — the numbers of the fit computed in one piece.
+ * (`FitTask.merged`) — the numbers of the fit computed in one piece. A
+ * permutation test's region rows do not depend on the test: the fit thread
+ * computes them while the chunks run, and the merge sends none.
  * Progress: the chunk share done is the first 90 %.
  * The main thread alone reads and writes the database (one process owns
  * it), always through the `FitJobStore` it is given (services/fit-store.ts
@@ -499,24 +501,61 @@ export class FitJobs {
       // Rows left by an interrupted earlier run of the same fit are replaced.
       await this.store.clearRegionRows(fitId);
       let merged: MergedChunks | null = null;
+      let rowsStored = false;
       if (chunkKind(spec)) {
         await this.onProgress(fitId, run, { type: "started" });
         run.span = { from: 0, span: CHUNK_SHARE };
-        let chunks: Awaited<ReturnType<FitJobs["computeChunks"]>>;
-        try {
-          chunks = await this.computeChunks(fitId, run, spec, data);
-        } catch (error) {
-          if (run.controller.signal.aborted) return; // cancelled (already marked) or shutting down (left for recovery)
-          this.log(error, `fit ${fitId}: chunks`);
-          return await this.fail(fitId, "internal_error", INTERNAL_FAILURE);
-        }
-        if (chunks && "ok" in chunks) return await this.fail(fitId, chunks.code, chunks.message);
-        merged = chunks;
+        // A permutation test's region rows do not depend on the test: the fit thread computes them while the chunks run.
+        const rowsChannel = chunkKind(spec) === "permutation" ? new MessageChannel() : null;
+        rowsChannel?.port1.on("message", (message: FitTaskMessage) => {
+          if (message.type === "region" || message.type === "regions-done")
+            this.onMessage(fitId, run, message);
+        });
+        const rows = rowsChannel
+          ? (this.getPool().run(
+              { spec, data, port: rowsChannel.port2, rows: "only" } satisfies FitTask,
+              { transferList: [rowsChannel.port2], signal: run.controller.signal },
+            ) as Promise<FitTaskOutcome>)
+          : Promise.resolve(null);
+        const [chunks, rowsOutcome] = await Promise.allSettled([
+          this.computeChunks(fitId, run, spec, data),
+          rows.then(async (outcome) => {
+            if (outcome?.ok) await run.stored;
+            return outcome;
+          }),
+        ]);
+        rowsChannel?.port1.close();
+        const failed = async (code: string, message: string) => {
+          await run.storing.catch(() => {});
+          await this.store.clearRegionRows(fitId);
+          if (!run.controller.signal.aborted) await this.fail(fitId, code, message);
+        };
+        for (const settled of [chunks, rowsOutcome])
+          if (settled.status === "rejected") {
+            // Cancelled (already marked) or shutting down (left for recovery): no rows kept.
+            if (run.controller.signal.aborted) return await failed("", "");
+            this.log(settled.reason, `fit ${fitId}: chunks`);
+            return await failed("internal_error", INTERNAL_FAILURE);
+          }
+        const chunked = (
+          chunks as PromiseFulfilledResult<Awaited<ReturnType<FitJobs["computeChunks"]>>>
+        ).value;
+        const rowsDone = (rowsOutcome as PromiseFulfilledResult<FitTaskOutcome | null>).value;
+        if (chunked && "ok" in chunked) return await failed(chunked.code, chunked.message);
+        if (rowsDone && !rowsDone.ok) return await failed(rowsDone.code, rowsDone.message);
+        rowsStored = rowsDone !== null;
+        merged = chunked;
         run.span = merged ? { from: CHUNK_SHARE, span: 1 - CHUNK_SHARE } : { from: 0, span: 1 };
       }
       const channel = new MessageChannel();
       channel.port1.on("message", (message: FitTaskMessage) => this.onMessage(fitId, run, message));
-      const task: FitTask = { spec, data, port: channel.port2, ...(merged ? { merged } : {}) };
+      const task: FitTask = {
+        spec,
+        data,
+        port: channel.port2,
+        ...(rowsStored ? { rows: "skip" as const } : {}),
+        ...(merged ? { merged } : {}),
+      };
       let outcome: FitTaskOutcome;
       try {
         outcome = (await this.getPool().run(task, {

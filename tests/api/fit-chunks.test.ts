@@ -13,7 +13,7 @@ import { eq } from "drizzle-orm";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { specOfRecipe } from "../../contract/recipe";
-import { fits } from "../../db/schema";
+import { fitRegions, fits } from "../../db/schema";
 import { demoPeople } from "../../db/seed";
 import type { FitEvent, FitJobs } from "../../server/jobs/fit-jobs";
 import { FitDataCache, inputsOfFit } from "../../server/services/fit-inputs";
@@ -93,6 +93,14 @@ describe("split fits on the embedded path's chunk threads", () => {
     // 2,001 rearrangements = blocks of 501, 500, 500, 500; one region chunk: four chunks, 90 % / 4 each.
     for (const k of [1, 2, 3, 4]) expect(fractions).toContain(0.9 * (k / 4));
     expect(row.result).toEqual(await inOnePiece(row));
+    // Its region rows, computed beside the chunks, are stored once each, in region order.
+    const stored = await t.db
+      .select({ position: fitRegions.position, region: fitRegions.region })
+      .from(fitRegions)
+      .where(eq(fitRegions.fitId, row.id))
+      .orderBy(fitRegions.position);
+    const regions = (row.result as { regions: { region: string }[] }).regions;
+    expect(stored).toEqual(regions.map(({ region }, position) => ({ position, region })));
   }, 120_000);
 
   it("a specification curve's joint test: one chunk per null block, the numbers of the curve in one piece", async () => {
