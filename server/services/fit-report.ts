@@ -22,7 +22,7 @@
  *                         who may see participant rows)
  *   recipe.json           the recipe (left out for a caller without participant rows: it names them)
  *   inputs.json           the data files the fit used: name, version, SHA-256, participants
- *   set-asides.csv        participant, scope, reason, who, when (no participant column without participant rows)
+ *   set-asides.csv        participant, scope, reason, who, when, then those the model's rules left out (no participant column without participant rows)
  *   activity.csv          the fit's run, re-queues, approval and seal from the audit trail
  *   seal.json             sealed fits: hash, who, when, intact
  *
@@ -50,7 +50,7 @@ import {
   fitRunWords,
   fitSealedWords,
 } from "../../contract/activity-words";
-import { ruleText } from "../../contract/exclusion-rules";
+import { modelRuleReason, ruleText } from "../../contract/exclusion-rules";
 import type { PredictionBlock } from "../../contract/prediction";
 import { specOfRecipe } from "../../contract/recipe";
 import { type CurveResultFields, curveChoices } from "../../contract/specification-curve";
@@ -161,20 +161,36 @@ async function activityCsv(db: Queryable, fit: Fit, modelName: string | null): P
   );
 }
 
-/** The set-asides the fit applied as CSV; without the participant column when ids are withheld. */
+/**
+ * The set-asides the fit applied as CSV, then the participants its model's
+ * rules left out (scope all regions, reason "rule: …", who started the fit
+ * that applied the rule, when); without the participant column when ids are
+ * withheld (a rule's rows are then one per participant it left out).
+ */
 function setAsidesCsv(view: FitView): string {
   const visible = view.participantsVisible;
   const header = [...(visible ? ["participant"] : []), "scope", "reason", "who", "when"];
-  return toCsv(
-    header,
-    view.setAsides.map((s) => [
+  const byRule = view.ruleExclusions.flatMap((r) => {
+    const row = (participant: string | null) => [
+      ...(visible ? [participant] : []),
+      "all regions",
+      modelRuleReason(r.rule),
+      view.createdBy.name ?? view.createdBy.id,
+      view.createdAt,
+    ];
+    if (r.participants) return r.participants.map(row);
+    return Array.from({ length: r.count ?? 0 }, () => row(null));
+  });
+  return toCsv(header, [
+    ...view.setAsides.map((s) => [
       ...(visible ? [s.participant] : []),
       s.region === null ? "all regions" : `region ${s.region}`,
       s.reason,
       s.createdBy?.name ?? s.createdBy?.id ?? null,
       s.createdAt,
     ]),
-  );
+    ...byRule,
+  ]);
 }
 
 /** What the fit's data were: each file's name, version, SHA-256 and participant count. */
@@ -631,8 +647,8 @@ export async function buildReport(
     part(
       "set-asides.csv",
       options.participantsVisible
-        ? "participants set aside from the fit: participant, scope, reason, who, when"
-        : "set-asides applied by the fit: scope, reason, who, when (participant ids withheld: the study restricts participant-level rows)",
+        ? "participants set aside from the fit, then those its model's rules left out: participant, scope, reason, who, when"
+        : "set-asides applied by the fit, then one row per participant its model's rules left out: scope, reason, who, when (participant ids withheld: the study restricts participant-level rows)",
       text(setAsidesCsv(view)),
     ),
     part(

@@ -8,6 +8,7 @@
  * methods paragraph carry the rules; changing the rules makes the fit
  * stale. On a study holding the seeded demo tables (invented data).
  */
+import { strFromU8, unzipSync } from "fflate";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { memberships } from "../../db/schema";
@@ -16,7 +17,14 @@ import { sameModelFields } from "../../contract/model-form";
 import type { ModelSpec } from "../../contract/spec";
 import { type CurveResultFields, specificationModel } from "../../contract/specification-curve";
 import type { FitView } from "../../contract/views/fits";
-import { createTestApp, demoCookie, type TestApp, userIdOf, waitForFitStatus } from "./helpers";
+import {
+  binaryBody,
+  createTestApp,
+  demoCookie,
+  type TestApp,
+  userIdOf,
+  waitForFitStatus,
+} from "./helpers";
 
 let t: TestApp;
 let studyId: string;
@@ -66,6 +74,20 @@ beforeAll(async () => {
 afterAll(async () => {
   await t?.close();
 });
+
+/** The report bundle's set-asides.csv of a fit, downloaded by `cookie`, as lines. */
+async function setAsidesOf(cookie: () => string, fitId: string): Promise<string[]> {
+  const res = await request(t.url)
+    .get(`/api/fits/${fitId}/report.zip`)
+    .set("Cookie", cookie())
+    .buffer(true)
+    .parse(binaryBody)
+    .expect(200);
+  const files = unzipSync(new Uint8Array(res.body as Buffer));
+  return strFromU8(files["set-asides.csv"])
+    .split("\r\n")
+    .filter((l) => l !== "");
+}
 
 async function fitOf(modelId: string): Promise<FitView> {
   const started = await as(() => analyst)
@@ -175,6 +197,22 @@ describe("a specification opened as an ordinary fit", () => {
     expect(JSON.stringify(methods.body)).toContain(
       "The model's exclusion rules, part of the model before it was fitted, left out every participant meeting one of them: mean_fd > 0.2 (motion), ",
     );
+    // The report bundle lists each participant a rule left out, the rule as the reason.
+    const view = (
+      await as(() => analyst)
+        .get(`/api/fits/${fitId}`)
+        .expect(200)
+    ).body as FitView;
+    const ruled = view.ruleExclusions.flatMap((r) =>
+      (r.participants ?? []).map(
+        (p) =>
+          `${p},all regions,rule: ${r.rule.column} ${r.rule.op} ${r.rule.value} (${r.rule.reason}),`,
+      ),
+    );
+    const listed = await setAsidesOf(() => analyst, fitId);
+    expect(listed[0]).toBe("participant,scope,reason,who,when");
+    for (const line of ruled) expect(listed.filter((l) => l.startsWith(line))).toHaveLength(1);
+    expect(listed).toHaveLength(1 + view.setAsides.length + ruled.length);
     await as(() => owner)
       .patch(`/api/studies/${studyId}`, { restricted: true })
       .expect(200);
@@ -186,6 +224,12 @@ describe("a specification opened as an ordinary fit", () => {
     expect(seen.participantsVisible).toBe(false);
     expect(seen.ruleExclusions[0].count).toBeGreaterThan(0);
     expect(seen.ruleExclusions[0].participants).toBeNull();
+    // Without ids: one row per participant a rule left out, no participant column.
+    const withheld = await setAsidesOf(() => viewer, fitId);
+    expect(withheld[0]).toBe("scope,reason,who,when");
+    expect(
+      withheld.filter((l) => l.startsWith("all regions,rule: mean_fd > 0.2 (motion),")),
+    ).toHaveLength(seen.ruleExclusions[0].count as number);
     await as(() => analyst)
       .patch(`/api/studies/${studyId}/models/${opened.id}`, {
         spec: { ...opened.spec, exclusionRules: [motion] },
