@@ -435,7 +435,8 @@ export function influenceLayout(
   const obstacles = panels.flatMap((p) => (p.cut ? [p.cut.box] : []));
   const { labels, unplaced } = placeLabels(
     wanted,
-    { left: 0, top: cook.top, right: viewport.width, bottom: cook.bottom },
+    // right of the axis: a label never covers the tick labels in the left margin
+    { left, top: cook.top, right: viewport.width, bottom: cook.bottom },
     obstacles,
     {
       fontSize: g.labelText,

@@ -100,16 +100,15 @@ export interface LegendItem {
 }
 
 /**
- * Legend entries for the meanings present among `marks`, always starting
- * with the plain participant mark, in a fixed order: participant, outlier,
- * high leverage, influential, set aside.
+ * Legend entries for the marks drawn among `marks`, always starting with the
+ * plain participant mark, in a fixed order: participant, outlier, high
+ * leverage, influential, set aside. A participant with several flags is
+ * drawn with its primary flag's shape (`markFor`), so only that flag needs an
+ * entry: the legend never names a mark the plot does not show.
  */
 export function legendItemsFor(marks: Iterable<ParticipantMark>): LegendItem[] {
   const present = new Set<MarkRole>(["participant"]);
-  for (const m of marks) {
-    for (const f of m.flags) present.add(f);
-    if (m.setAside) present.add("setAside");
-  }
+  for (const m of marks) present.add(markFor(m.flags, m.setAside ?? false).role);
   const order: MarkRole[] = ["participant", "outlier", "leverage", "influence", "setAside"];
   return order
     .filter((r) => present.has(r))

@@ -25,7 +25,10 @@ import { formatTicks, niceDomain, tickCountFor, tickValues } from "./ticks";
 
 export interface StripGroupInput {
   key: string;
+  /** The group's name; the layout adds its N, e.g. "patient (n = 36)". */
   label: string;
+  /** The group's N in the fit; the count of its placed points when absent. */
+  n?: number;
   mean: number;
   low: number | null;
   high: number | null;
@@ -161,7 +164,7 @@ export function stripLegend(input: StripInput): LegendEntry[] {
 /** The plot's accessible description with each group's count. */
 export function stripDescription(input: StripInput, counts: readonly number[] | null): string {
   const groupWords = input.groups
-    .map((g, i) => `${g.label} (n = ${counts ? counts[i] : 0})`)
+    .map((g, i) => `${g.label} (n = ${g.n ?? (counts ? counts[i] : 0)})`)
     .join(" and ");
   return `Strip plot of ${input.valueLabel} for ${groupWords}, each group's mean and interval beside its points, with a line at zero.`;
 }
@@ -203,7 +206,7 @@ export function stripPlotLayout(input: StripInput, viewport: Viewport): StripPlo
   const columns = groups.map((g, i) => ({
     key: g.key,
     label: truncateLabel(
-      `${g.label} (n = ${formatCount(layout.counts[i])})`,
+      `${g.label} (n = ${formatCount(g.n ?? layout.counts[i])})`,
       column - 8,
       chart.tickText,
     ),

@@ -77,7 +77,8 @@ export function stripInputOf(detail: RegionDetail): {
     detail.groupMeans && detail.groupMeans.length > 0
       ? detail.groupMeans.map((g) => ({
           key: g.label,
-          label: `${g.label} (n = ${g.n})`,
+          label: g.label,
+          n: g.n,
           mean: g.mean,
           low: g.ciLow,
           high: g.ciHigh,
@@ -85,7 +86,8 @@ export function stripInputOf(detail: RegionDetail): {
       : [
           {
             key: "all",
-            label: `All participants (n = ${detail.n})`,
+            label: "All participants",
+            n: detail.n,
             mean: detail.result.estimate,
             low: detail.result.ciLow,
             high: detail.result.ciHigh,

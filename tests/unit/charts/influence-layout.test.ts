@@ -149,7 +149,7 @@ describe("influence layout", () => {
       const cutBoxes = layout.panels.flatMap((p) => (p.cut ? [p.cut.box] : []));
       for (const b of boxes) {
         for (const c of cutBoxes) expect(boxesOverlap(b, c)).toBe(false);
-        expect(b.left).toBeGreaterThanOrEqual(0);
+        expect(b.left).toBeGreaterThanOrEqual(layout.plot.left); // never over the tick labels
         expect(b.right).toBeLessThanOrEqual(viewport.width);
         expect(b.top).toBeGreaterThanOrEqual(layout.panels[0].top);
       }

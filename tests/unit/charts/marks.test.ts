@@ -80,13 +80,16 @@ describe("marks for flags", () => {
       { id: "b", flags: [], setAside: true },
       { id: "c", flags: ["outlier", "leverage"] },
     ]);
+    // c is drawn as an outlier (outlier before leverage), so no high-leverage mark is drawn.
     expect(items.map((i) => i.label)).toEqual([
       "participant",
       "outlier",
-      "high leverage",
       "influential",
       "set aside",
-    ]); // (product convention)
+    ]); // (product convention: the legend names the marks drawn)
+    expect(
+      legendItemsFor([{ id: "d", flags: ["outlier", "influence"] }]).map((i) => i.role),
+    ).toEqual(["participant", "influence"]); // (product convention: influence decides the shape)
     expect(legendItemsFor([]).map((i) => i.role)).toEqual(["participant"]); // (product convention)
     expect(items.find((i) => i.role === "setAside")?.hollow).toBe(true); // (product convention)
   });

@@ -1,6 +1,11 @@
 import { describe, expect, it } from "vitest";
 import { jitterUnit } from "../../../components/charts/jitter";
-import { stripGeometry, stripLayout } from "../../../components/charts/strip-layout";
+import {
+  stripDescription,
+  stripGeometry,
+  stripLayout,
+  stripPlotLayout,
+} from "../../../components/charts/strip-layout";
 
 const groups = [
   { key: "control", label: "controls", mean: 0.2, low: 0.05, high: 0.35 },
@@ -37,6 +42,27 @@ describe("strip layout", () => {
   it("keeps the point cloud left of the summary bar", () => {
     const right = stripGeometry.cloudCentre + stripGeometry.cloudHalfWidth;
     expect(right).toBeLessThan(stripGeometry.summary - stripGeometry.meanHalfWidth); // (exact arithmetic: 0.08 < 0.19)
+  });
+
+  it("labels each column with its group's N once: the fit's N when given, else the placed points", () => {
+    const points = [
+      { id: "sub-1", group: "patient", value: 0.4, flags: [], setAside: false },
+      { id: "sub-3", group: "control", value: -0.1, flags: [], setAside: false },
+    ];
+    const given = stripPlotLayout(
+      { groups: groups.map((g, i) => ({ ...g, n: 36 + i })), points, valueLabel: "Contrast value" },
+      { width: 720, height: 400 },
+    );
+    // (exact enumeration: the label, then its N once)
+    expect(given.columns.map((c) => c.label)).toEqual(["controls (n = 36)", "patients (n = 37)"]);
+    const counted = stripPlotLayout(
+      { groups, points, valueLabel: "Contrast value" },
+      { width: 720, height: 400 },
+    );
+    expect(counted.columns.map((c) => c.label)).toEqual(["controls (n = 1)", "patients (n = 1)"]);
+    expect(
+      stripDescription({ groups: [{ ...groups[0], n: 36 }], points, valueLabel: "v" }, [1]),
+    ).toContain("for controls (n = 36), each");
   });
 
   it("names the field of bad input", () => {

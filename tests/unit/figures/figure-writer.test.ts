@@ -98,8 +98,8 @@ describe("strip figure", () => {
   it("draws one mark per participant with a value, in two groups", () => {
     const input: StripInput = {
       groups: [
-        { key: "patient", label: "patient (n = 11)", mean: 0.3, low: 0.1, high: 0.5 },
-        { key: "control", label: "control (n = 12)", mean: 0.1, low: -0.1, high: 0.3 },
+        { key: "patient", label: "patient", mean: 0.3, low: 0.1, high: 0.5 },
+        { key: "control", label: "control", mean: 0.1, low: -0.1, high: 0.3 },
       ],
       points: points.map((p, i) => ({
         id: p.id,
