@@ -1,6 +1,9 @@
 /**
  * A study's frame: its name, your role, whether it is archived (read only),
- * and the sections Data · Models · Fits · Team · Activity.
+ * and the sections Data · Models · Fits · Team · Activity. Below a section's
+ * first page (a fit, a region, a new model) the name shrinks to one line and
+ * the description is left out, so the page's own numbers start in the first
+ * screen of a phone.
  */
 import type { ReactNode } from "react";
 import { Pressable, ScrollView, StyleSheet, Text, View } from "react-native";
@@ -38,10 +41,18 @@ export function StudyFrame(props: { studyId: string; children: ReactNode }) {
     );
   const base = `/studies/${props.studyId}`;
   const visible = sections.filter((s) => can(study.data, s.action));
+  // /studies/:id/:section/… — a page inside a section
+  const deep = pathname.split("/").filter(Boolean).length > 3;
   return (
     <View style={styles.root}>
       <View style={styles.head}>
-        <Txt kind="headline" accessibilityRole="header" style={styles.name}>
+        <Txt
+          kind={deep ? "lead" : "headline"}
+          accessibilityRole="header"
+          numberOfLines={deep ? 1 : undefined}
+          style={styles.name}
+          testID="study-name"
+        >
           {study.data.name}
         </Txt>
         <Badge
@@ -60,7 +71,7 @@ export function StudyFrame(props: { studyId: string; children: ReactNode }) {
             : "An Owner can unarchive it."}
         </Notice>
       ) : null}
-      {study.data.description ? (
+      {study.data.description && !deep ? (
         <Txt kind="small" style={{ color: palette.muted }}>
           {study.data.description}
         </Txt>

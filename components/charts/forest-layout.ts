@@ -9,7 +9,7 @@ import { scaleLinear } from "d3-scale";
 import { chart } from "../theme";
 import type { AxisInput } from "./axis-layout";
 import { ChartInputError, requireFinite } from "./chart-input-error";
-import { formatValue } from "./number-format";
+import { formatInterval, formatValue } from "./number-format";
 import {
   estimateTextWidth,
   paddedExtent,
@@ -111,9 +111,7 @@ export function forestLayout(
     const top = forestTop + i * chart.forestRowHeight;
     const mid = top + chart.forestRowHeight / 2;
     const hasInterval = row.low !== null && row.high !== null;
-    const ci = hasInterval
-      ? `, ${interval} ${formatValue(row.low)} to ${formatValue(row.high)}`
-      : "";
+    const ci = hasInterval ? `, ${interval} ${formatInterval(row.low, row.high)}` : "";
     return {
       ...row,
       top,

@@ -62,6 +62,30 @@ export function formatValue(value: number | null | undefined, significant = 3): 
   return signed(value < 0, groupThousands(text));
 }
 
+/**
+ * An interval's two ends at one number of decimals, so they read as a pair:
+ * the decimals that give the larger end in size `significant` significant
+ * digits (1.39 and 3.3 → "1.39 to 3.30"; 0.638 and 2.28 → "0.64 to 2.28").
+ * Ends of 1,000 and more print whole; when the larger end is under 0.0001
+ * each end prints as formatValue does. "n/a" for a missing end.
+ */
+export function formatInterval(
+  low: number | null | undefined,
+  high: number | null | undefined,
+  significant = 3,
+  joiner = " to ",
+): string {
+  if (isMissingNumber(low) || isMissingNumber(high)) return MISSING;
+  const size = Math.max(Math.abs(low), Math.abs(high));
+  const digits = Math.max(1, Math.min(15, Math.round(significant)));
+  if (size < 1e-4)
+    return `${formatValue(low, significant)}${joiner}${formatValue(high, significant)}`;
+  // digits before the point of the larger end (after rounding to `digits` significant digits)
+  const whole = Math.floor(Math.log10(Number(size.toPrecision(digits)))) + 1;
+  const decimals = size >= 10 ** Math.max(digits, 3) ? 0 : Math.max(0, digits - whole);
+  return `${formatFixed(low, decimals)}${joiner}${formatFixed(high, decimals)}`;
+}
+
 const SUPERSCRIPT: Record<string, string> = {
   "0": "⁰",
   "1": "¹",

@@ -6,7 +6,7 @@
  * interval, effect sizes, the weighted fit's τ² and I²) are offered by the
  * column chooser when at least one region has a value for them.
  */
-import { formatValue, MISSING } from "../charts/number-format";
+import { formatInterval, MISSING } from "../charts/number-format";
 import type { RegionResult } from "../../contract/spec";
 
 export const keyRegionColumns = ["region", "estimate", "interval", "p", "pAdjusted", "flags"];
@@ -43,7 +43,7 @@ function extra(r: RegionResult, key: string): unknown {
 export function intervalText(low: unknown, high: unknown): string {
   const a = numberOf(low);
   const b = numberOf(high);
-  return a === null || b === null ? MISSING : `${formatValue(a)} to ${formatValue(b)}`;
+  return a === null || b === null ? MISSING : formatInterval(a, b);
 }
 
 function effectInterval(r: RegionResult, key: string): string | null {

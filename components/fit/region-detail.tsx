@@ -17,7 +17,7 @@ import { ScatterPlot } from "../charts/scatter-plot";
 import { StripPlot } from "../charts/strip-plot";
 import { InfluenceView } from "../charts/influence-view";
 import { NullHistogram } from "../charts/null-histogram";
-import { formatValue } from "../charts/number-format";
+import { formatInterval, formatValue } from "../charts/number-format";
 import { pPhrase } from "./p-text";
 import { AttenuationNote } from "./attenuation-note";
 import type { AttenuationInput } from "./attenuation-words";
@@ -217,10 +217,7 @@ function InfluenceCard({
 
 function Summary({ detail }: { detail: RegionDetail }) {
   const r = detail.result;
-  const ci =
-    r.ciLow !== null && r.ciHigh !== null
-      ? `${formatValue(r.ciLow)} to ${formatValue(r.ciHigh)}`
-      : "n/a";
+  const ci = r.ciLow !== null && r.ciHigh !== null ? formatInterval(r.ciLow, r.ciHigh) : "n/a";
   return (
     <Card>
       <Txt testID="region-summary">
@@ -233,7 +230,7 @@ function Summary({ detail }: { detail: RegionDetail }) {
         <Txt kind="small" style={{ color: palette.inkSoft }}>
           r = {formatValue(r.r)}
           {typeof r.rCiLow === "number" && typeof r.rCiHigh === "number"
-            ? ` (95% CI ${formatValue(r.rCiLow)} to ${formatValue(r.rCiHigh)})`
+            ? ` (95% CI ${formatInterval(r.rCiLow, r.rCiHigh)})`
             : ""}
           . With {r.n} participants the interval, not p alone, shows how uncertain this correlation
           is.

@@ -82,7 +82,7 @@ export function SpecificationCurveView(props: {
     <View style={styles.root} testID="specification-curve-view">
       <Card testID="curve-summary">
         <Heading level={3}>{`${summary.count} specifications in ${props.region}`}</Heading>
-        <Txt>{curveSummaryWords(summary)}</Txt>
+        <Txt testID="curve-summary-words">{curveSummaryWords(summary)}</Txt>
         {jointTest ? (
           <Txt kind="small" testID="curve-joint-test">
             {jointTestWords(jointTest)}

@@ -87,6 +87,11 @@ describe("specification curve fit page", () => {
         await page.getByTestId("specification-curve-view").waitFor();
         await screenshot(page, `curve-${label}-top`);
         await expect(page.getByTestId("curve-summary").isVisible()).resolves.toBe(true);
+        // The median estimate and the shares in the first screen, below the study's one-line name.
+        const words = await page.getByTestId("curve-summary-words").boundingBox();
+        expect(words, "summary in the first screen").not.toBeNull();
+        expect((words?.y ?? 0) + (words?.height ?? 0)).toBeLessThanOrEqual(viewport.height - 56);
+        await expect(page.getByTestId("study-name").innerText()).resolves.not.toContain("\n");
         await expect(page.getByTestId("curve-planned").innerText()).resolves.toMatch(
           /plan's specification \(model "accuracy, robust"\).* of 8 in estimate order/,
         );

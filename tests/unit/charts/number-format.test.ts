@@ -2,6 +2,7 @@ import { describe, expect, it } from "vitest";
 import {
   formatCount,
   formatFixed,
+  formatInterval,
   formatP,
   formatPercent,
   formatValue,
@@ -54,6 +55,22 @@ describe("formatValue", () => {
   it("prints zero and missing", () => {
     expect(formatValue(0)).toBe("0"); // (exact arithmetic)
     expect(formatValue(undefined)).toBe("n/a"); // (BIDS participants-file convention for missing)
+  });
+});
+
+describe("formatInterval", () => {
+  it("prints both ends at the decimals of the larger end's three significant digits", () => {
+    // common practice, no source: an interval's ends share one number of decimals
+    expect(formatInterval(1.39, 3.3)).toBe("1.39 to 3.30"); // (exact arithmetic)
+    expect(formatInterval(0.638, 2.28)).toBe("0.64 to 2.28"); // (exact arithmetic)
+    expect(formatInterval(-0.151, 0.193)).toBe(`${MINUS}0.151 to 0.193`); // (exact arithmetic)
+    expect(formatInterval(-0.0004, 0.0123)).toBe(`${MINUS}0.0004 to 0.0123`); // (exact arithmetic)
+    expect(formatInterval(9.996, 12.5)).toBe("10.0 to 12.5"); // (exact arithmetic: 9.996 rounds up)
+    expect(formatInterval(999.6, 1200)).toBe("1,000 to 1,200"); // (exact arithmetic)
+    expect(formatInterval(-0.004, 0)).toBe(`${MINUS}0.00400 to 0.00000`); // (exact arithmetic)
+    expect(formatInterval(2e-6, 3e-5)).toBe("2×10⁻⁶ to 3×10⁻⁵"); // (exact arithmetic)
+    expect(formatInterval(null, 1)).toBe("n/a");
+    expect(formatInterval(1, 2, 3, ", ")).toBe("1.00, 2.00"); // (exact arithmetic)
   });
 });
 

@@ -132,7 +132,7 @@ describe("forest figure", () => {
       expect(desc).toContain(r.region);
       expect(svg).toContain(escapeXml(r.region));
     }
-    expect(rowGroups[0].attrs["aria-label"]).toBe("L_dlpfc: estimate 0.31, 95% CI 0.06 to 0.52");
+    expect(rowGroups[0].attrs["aria-label"]).toBe("L_dlpfc: estimate 0.31, 95% CI 0.060 to 0.520");
   });
 });
 

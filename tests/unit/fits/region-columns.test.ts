@@ -58,14 +58,14 @@ describe("the region table's columns", () => {
     };
     const byId = Object.fromEntries(optionalRegionColumns.map((c) => [c.id, c.read(withExtras)]));
     expect(byId.cohensD).toBe(0.57);
-    expect(byId.cohensDInterval).toBe("0.18 to 0.95");
+    expect(byId.cohensDInterval).toBe("0.180 to 0.950"); // both ends at the larger end's three significant digits
     expect(byId.hedgesG).toBeNull();
     expect(byId.tau2).toBe(0.012);
     expect(byId.i2).toBeCloseTo(31.4);
   });
 
   it("prints an interval as 'low to high', n/a when an end is missing", () => {
-    expect(intervalText(-0.243, 1.47)).toBe("−0.243 to 1.47");
+    expect(intervalText(-0.243, 1.47)).toBe("−0.24 to 1.47"); // the decimals of 1.47, the larger end
     expect(intervalText(null, 1.47)).toBe("n/a");
   });
 
