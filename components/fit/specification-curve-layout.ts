@@ -10,7 +10,10 @@ import type {
   CurveSpecification,
   CurveSummary,
 } from "../../contract/specification-curve";
+import { estimatorLabels } from "../../contract/labels";
+import type { ModelSpec } from "../../contract/spec";
 import { formatP, formatPercent, formatValue } from "../charts/number-format";
+import { estimateTextWidth } from "../charts/scales";
 
 export interface ChoiceRow {
   key: string;
@@ -62,7 +65,7 @@ export function curveLayout(
     ...estimators.map((e) => ({
       key: `estimator-${e}`,
       group: "Estimator",
-      label: e,
+      label: estimatorLabels[e as ModelSpec["estimator"]] ?? e,
       made: specs.map((s) => s.estimator === e),
     })),
     ...sets.map((set) => ({
@@ -79,6 +82,24 @@ export function curveLayout(
     })),
   ];
   return { width: columnWidth * count, columnWidth, low, high, y, rows };
+}
+
+/** The narrowest column of choice labels (px): a phone's share of the width. */
+export const CURVE_LABELS_MIN = 112;
+
+/**
+ * The width of the choice labels beside the panel of `panelWidth` px: the
+ * widest label at `fontSize` with a little room, at least CURVE_LABELS_MIN
+ * and at most a third of the panel (a longer label is cut with "…").
+ */
+export function curveLabelWidth(
+  rows: readonly Pick<ChoiceRow, "label">[],
+  panelWidth: number,
+  fontSize: number,
+): number {
+  const widest = rows.reduce((m, r) => Math.max(m, estimateTextWidth(r.label, fontSize)), 0);
+  const most = Math.max(CURVE_LABELS_MIN, Math.floor(panelWidth / 3));
+  return Math.min(most, Math.max(CURVE_LABELS_MIN, Math.ceil(widest + 12)));
 }
 
 /** A specification's identity: its estimator, covariates and rules (unique within a curve). */

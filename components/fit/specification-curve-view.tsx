@@ -22,12 +22,15 @@ import type {
   CurveSpecification,
   CurveSummary,
 } from "../../contract/specification-curve";
+import { estimatorLabels } from "../../contract/labels";
+import type { ModelSpec } from "../../contract/spec";
 import { formatP, formatValue } from "../charts/number-format";
-import { chart, marks, palette, radius, space } from "../theme";
+import { chart, marks, palette, radius, space, type } from "../theme";
 import { Button, Card, Heading, Txt } from "../ui";
 import { formatTicks, tickCountFor, tickValues } from "../charts/ticks";
 import { OpenSpecificationButton, type OpenSpecificationContext } from "./open-specification";
 import {
+  curveLabelWidth,
   curveLayout,
   curveSummaryWords,
   jointTestWords,
@@ -37,7 +40,6 @@ import {
 const ESTIMATE_HEIGHT = 180;
 const ROW_HEIGHT = 20;
 /** Width of the fixed column naming each choice row. */
-const LABEL_WIDTH = 112;
 /** Half a tick label's line, so its middle sits on its value. */
 const TICK_HALF = 8;
 /** Half the width of the planned specification's triangle. */
@@ -60,9 +62,14 @@ export function SpecificationCurveView(props: {
   open?: OpenSpecificationContext | null;
 }) {
   const { specifications: specs, summary, jointTest } = props;
-  const [width, setWidth] = useState<number>(chart.defaultWidth);
+  const [panelWidth, setPanelWidth] = useState<number>(chart.defaultWidth);
   const [selected, setSelected] = useState<number | null>(null);
-  const layout = curveLayout(specs, props.rules, width);
+  const labelWidth = curveLabelWidth(
+    curveLayout(specs, props.rules, panelWidth).rows,
+    panelWidth,
+    type.caption,
+  );
+  const layout = curveLayout(specs, props.rules, panelWidth - labelWidth);
   // Value labels beside the estimate panel (inside its padded range; the title takes the top line).
   const ticks = tickValues([layout.low, layout.high], tickCountFor(ESTIMATE_HEIGHT, 48)).filter(
     (t) => t >= layout.low && t <= layout.high && layout.y(t, ESTIMATE_HEIGHT) > 2 * TICK_HALF,
@@ -97,11 +104,9 @@ export function SpecificationCurveView(props: {
       <Card>
         <View
           style={styles.panels}
-          onLayout={(e) =>
-            setWidth(Math.max(chart.minWidth, e.nativeEvent.layout.width) - LABEL_WIDTH)
-          }
+          onLayout={(e) => setPanelWidth(Math.max(chart.minWidth, e.nativeEvent.layout.width))}
         >
-          <View style={styles.labels}>
+          <View style={[styles.labels, { width: labelWidth }]}>
             <View style={{ height: ESTIMATE_HEIGHT + space.md }} testID="curve-axis">
               <Txt kind="caption" style={styles.axisTitle}>
                 Estimate
@@ -222,7 +227,7 @@ export function SpecificationCurveView(props: {
               {`Specification ${(selected ?? 0) + 1} of ${specs.length}${selected === plannedIndex ? " — the plan's" : ""}`}
             </Txt>
             <Txt kind="small">
-              {`${chosen.estimator}; covariates: ${chosen.covariates.join(", ") || "none"}; rules applied: ${chosen.exclusions.map((k) => props.rules[k]?.reason ?? `rule ${k + 1}`).join(", ") || "none"}`}
+              {`${estimatorLabels[chosen.estimator as ModelSpec["estimator"]] ?? chosen.estimator}; covariates: ${chosen.covariates.join(", ") || "none"}; rules applied: ${chosen.exclusions.map((k) => props.rules[k]?.reason ?? `rule ${k + 1}`).join(", ") || "none"}`}
             </Txt>
             <Txt kind="small">
               {`n = ${chosen.n}; estimate ${formatValue(chosen.estimate)}${chosen.ciLow !== null && chosen.ciHigh !== null ? ` [${formatValue(chosen.ciLow)}, ${formatValue(chosen.ciHigh)}]` : ""}; ${formatP(chosen.p)}`}
@@ -245,7 +250,7 @@ const styles = StyleSheet.create({
   root: { gap: space.lg },
   hitRow: { flexDirection: "row" },
   panels: { flexDirection: "row" },
-  labels: { width: LABEL_WIDTH, paddingRight: space.xs },
+  labels: { paddingRight: space.xs },
   axisTitle: { position: "absolute", left: 0, top: 0, color: palette.inkSoft },
   tick: {
     position: "absolute",

@@ -100,7 +100,7 @@ describe("specification curve fit page", () => {
         await columns.scrollIntoViewIfNeeded();
         await page.getByRole("button", { name: "Show the planned one" }).click();
         await expect(page.getByTestId("curve-selected").innerText()).resolves.toMatch(
-          /the plan's[\s\S]*huber; covariates: age; rules applied: motion/,
+          /the plan's[\s\S]*Huber; covariates: age; rules applied: motion/,
         );
         await screenshot(page, `curve-${label}-columns`);
         await expect(columns.locator("svg").first().isVisible()).resolves.toBe(true);

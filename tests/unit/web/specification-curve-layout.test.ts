@@ -5,7 +5,12 @@
  * every interval. Expected values counted by hand (exact enumeration).
  */
 import { describe, expect, it } from "vitest";
-import { curveLayout, specKey } from "../../../components/fit/specification-curve-layout";
+import {
+  CURVE_LABELS_MIN,
+  curveLabelWidth,
+  curveLayout,
+  specKey,
+} from "../../../components/fit/specification-curve-layout";
 import type { CurveSpecification } from "../../../contract/specification-curve";
 
 const spec = (
@@ -36,8 +41,8 @@ describe("specification curve layout", () => {
 
   it("has a row per estimator, covariate set and rule, marked where the specification made the choice", () => {
     expect(layout.rows.map((r) => r.label)).toEqual([
-      "ols",
-      "huber",
+      "Least squares",
+      "Huber",
       "no covariates",
       "+ age",
       "excl. mean_fd > 0.5",
@@ -54,6 +59,18 @@ describe("specification curve layout", () => {
     expect(layout.low).toBeCloseTo(-0.725, 12);
     expect(layout.high).toBeCloseTo(4.225, 12);
     expect(layout.y(layout.high, 100)).toBe(0);
+  });
+
+  it("gives the choice labels the room of the widest, between 112 px and a third of the panel", () => {
+    const long = [{ label: "excl. mean_fd_framewise_displacement > 0.5" }];
+    // a phone: the narrow column, the label cut with "…"
+    expect(curveLabelWidth(long, 320, 12)).toBe(CURVE_LABELS_MIN); // (exact arithmetic: 320/3 < 112)
+    // a wide screen: up to a third of 1,000 px
+    const wide = curveLabelWidth(long, 1000, 12);
+    expect(wide).toBeGreaterThan(CURVE_LABELS_MIN);
+    expect(wide).toBeLessThanOrEqual(333); // (exact arithmetic: floor(1000 / 3))
+    // short labels keep the narrow column
+    expect(curveLabelWidth([{ label: "Huber" }], 1000, 12)).toBe(CURVE_LABELS_MIN);
   });
 
   it("keys specifications uniquely", () => {
