@@ -13,6 +13,10 @@
  * - `{ type: "prediction", plan, input, from, to, control }`: outer splits
  *   from … to − 1 of a planned prediction (`predictionSplit`); slot 0 of
  *   `control` set to 1 cancels.
+ * - `{ type: "merge", before, chunks }`: the merge of a split permutation
+ *   test (`finishSplitFit`): the fit's result without its participants'
+ *   rows, from the fit before its test and every chunk (fit-chunks.ts
+ *   `mergeTask`). Needs no data: O(regions × rearrangements).
  *
  * A statistical precondition comes back as `{ ok: false, code, message }`
  * (the fit's reason for failing: it would fail the same way on any try);
@@ -25,6 +29,8 @@
 import type { FitData, ModelSpec } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
 import { curveNullBlock } from "../stats/fit/specification-curve";
+import type { RearrangementChunk } from "../stats/permutation";
+import { type FitBeforeTest, type FitSummary, finishSplitFit } from "../stats/run-fit";
 import {
   type PredictionInput,
   type PredictionPlan,
@@ -46,7 +52,8 @@ export type ChunkTask =
       from: number;
       to: number;
       control: SharedArrayBuffer;
-    };
+    }
+  | { type: "merge"; before: FitBeforeTest; chunks: RearrangementChunk[] };
 
 export type ChunkTaskInput = (ChunkTask | { type: "plan"; spec: ModelSpec; data: FitData }) & {
   /** A worker process: keep the thread at normal priority. */
@@ -60,7 +67,7 @@ export type ChunkTaskOutcome<T> =
 /** Computes one chunk (or plans a fit); see the module comment. */
 export default function runChunkTask(
   input: ChunkTaskInput,
-): ChunkTaskOutcome<ChunkResult | FitChunks | null> {
+): ChunkTaskOutcome<ChunkResult | FitChunks | FitSummary | null> {
   if (!input.fullPriority && !lowered) {
     // Chunks run behind the request thread (see thread-priority.ts).
     lowered = true;
@@ -68,6 +75,8 @@ export default function runChunkTask(
   }
   try {
     if (input.type === "plan") return { ok: true, value: fitChunks(input.spec, input.data) };
+    if (input.type === "merge")
+      return { ok: true, value: finishSplitFit(input.before, input.chunks) };
     if (input.type === "permutation")
       return { ok: true, value: { kind: "permutation", counts: runPermutationTask(input.task) } };
     if (input.type === "prediction") {

@@ -11,7 +11,11 @@
  *   "permutation", estimator "ols", one-sample, two-group or association).
  *   Chunk c is region chunk ⌊c / B⌋ × rearrangement block c mod B, B the
  *   number of rearrangement blocks (server/stats/permutation-kernel.ts);
- *   merged by `mergedLinearPermutationTest` (RunFitOptions.linearPermutation).
+ *   merged by `finishSplitFit` (`mergeTask`) from the fit before its test,
+ *   which is computed beside the chunks (`runFitBeforeTest`: estimates,
+ *   diagnostics, the test's observed statistics), so that after the last
+ *   chunk only the counts are added; without it, by `runFit` with
+ *   `mergedLinearPermutationTest` (RunFitOptions.linearPermutation).
  * - "curve": the joint test of a specification curve. Chunk c is null
  *   block c (`curveNullBlock`, CURVE_BLOCK_DRAWS draws from its own
  *   stream); merged by concatenating blocks in order (RunFitOptions.curveNulls).
@@ -36,6 +40,7 @@ import { prepare } from "../stats/fit/prepare";
 import { predictionModel } from "../stats/fit/prediction";
 import { CURVE_BLOCK_DRAWS } from "../stats/fit/specification-curve";
 import type { QrDecomposition } from "../stats/linear-model";
+import type { FitBeforeTest } from "../stats/run-fit";
 import {
   mergedLinearPermutationTest,
   prepareSharedLinearPermutation,
@@ -369,9 +374,14 @@ function decodeCurveChunk(row: StoredChunk): CurveStatistics[] {
   }));
 }
 
-/** Every chunk of a split fit, as the merging party hands them to `runFit` (structured-clone-able, for its thread). */
+/**
+ * Every chunk of a split fit, as the merging party hands them to its thread
+ * (structured-clone-able): to `runFit`, or, for a permutation test with
+ * `before` (the fit before its test, computed beside the chunks), to
+ * `finishSplitFit` (`mergeTask`).
+ */
 export type MergedChunks =
-  | { kind: "permutation"; chunks: RearrangementChunk[] }
+  | { kind: "permutation"; chunks: RearrangementChunk[]; before?: FitBeforeTest }
   | { kind: "curve"; nulls: CurveStatistics[] }
   | { kind: "prediction"; partials: PredictionPartial[] };
 
@@ -402,9 +412,12 @@ export function mergedChunks(fit: FitChunks, results: readonly ChunkResult[]): M
 /**
  * Worker processes store the region rows of a split permutation test
  * (per-participant diagnostics and plots, which do not depend on the test)
- * while its chunks are computed, so the merge adds counts and stores the
- * summary only: the fit then has one more part than chunks, recorded like a
- * chunk (number `fit.chunks`, block −1, no counts) once its rows are stored.
+ * while its chunks are computed, with the rest of the fit before its test
+ * (`runFitBeforeTest`: each region's estimate and diagnostics, the test's
+ * observed statistics), so the merge only adds counts and stores the
+ * summary: the fit then has one more part than chunks, recorded like a
+ * chunk (number `fit.chunks`, block −1, the fit before its test in
+ * `counts`) once its rows are stored.
  */
 export function hasRowsPart(fit: FitChunks): boolean {
   return fit.kind === "permutation";
@@ -415,13 +428,17 @@ export function partCount(fit: FitChunks): number {
   return fit.chunks + (hasRowsPart(fit) ? 1 : 0);
 }
 
-/** The stored mark of a fit's region rows (see `hasRowsPart`). */
-export function rowsMark(fit: FitChunks): StoredChunk {
+/**
+ * The stored mark of a fit's region rows (see `hasRowsPart`), with the fit
+ * before its test in `counts` (the structured clone serialization,
+ * node:v8, exact for numbers and typed arrays). Cost O(regions).
+ */
+export function rowsMark(fit: FitChunks, before: FitBeforeTest): StoredChunk {
   return {
     chunk: fit.chunks,
     regionFrom: 0,
     block: -1,
-    counts: "",
+    counts: serialize(before).toString("base64"),
     maxAbs: null,
     nulls: null,
     exact: false,
@@ -429,7 +446,11 @@ export function rowsMark(fit: FitChunks): StoredChunk {
   };
 }
 
-/** The merged chunks of a fit of kind `kind` from its stored rows (any order; the rows mark left out). */
+/**
+ * The merged chunks of a fit of kind `kind` from its stored rows (any
+ * order), with the fit before its test from the rows mark when it holds
+ * one (a mark stored without it, by an earlier version, is left out).
+ */
 export function mergedOfStored(
   kind: FitChunks["kind"],
   rows: readonly StoredChunk[],
@@ -443,7 +464,22 @@ export function mergedOfStored(
         (row) => deserialize(Buffer.from(row.counts, "base64")) as PredictionPartial[],
       ),
     };
-  return { kind, chunks: sorted.map(decodeChunk) };
+  const mark = rows.find((r) => r.block < 0 && r.counts !== "");
+  return {
+    kind,
+    chunks: sorted.map(decodeChunk),
+    ...(mark ? { before: deserialize(Buffer.from(mark.counts, "base64")) as FitBeforeTest } : {}),
+  };
+}
+
+/**
+ * The merge of a split permutation test whose fit before its test is at
+ * hand, as a chunk thread runs it (chunk-task.ts), or null when the merge
+ * needs `runFit` (the fit's data) instead (`mergeOptions`).
+ */
+export function mergeTask(merged: MergedChunks): ChunkTask | null {
+  if (merged.kind !== "permutation" || !merged.before) return null;
+  return { type: "merge", before: merged.before, chunks: merged.chunks };
 }
 
 /**

@@ -10,8 +10,10 @@
  * core, all at the lower thread priority, so the request thread stays
  * first in line), which also plans it; its fit thread then merges them
  * (`FitTask.merged`) — the numbers of the fit computed in one piece. A
- * permutation test's region rows do not depend on the test: the fit thread
- * computes them while the chunks run, and the merge sends none.
+ * permutation test's region rows and estimates do not depend on the test:
+ * the fit thread computes the fit before its test (`runFitBeforeTest`) and
+ * stores its rows while the chunks run, and a chunk thread then merges the
+ * chunks into it (`mergeTask`: counts, p-values, the correction over regions).
  * Progress: the chunk share done is the first 90 %.
  * The main thread alone reads and writes the database (one process owns
  * it), always through the `FitJobStore` it is given (services/fit-store.ts
@@ -53,6 +55,7 @@ import { type Recipe, specOfRecipe } from "../../contract/recipe";
 import type { FitData } from "../../contract/spec";
 import type { FitProgress, FitStatus } from "../../contract/views/fits";
 import { IntakeError } from "../intake/errors";
+import type { FitSummary } from "../stats/run-fit";
 import type { IdMapping } from "../intake/roster";
 import type { ChunkTaskInput, ChunkTaskOutcome } from "./chunk-task";
 import {
@@ -62,6 +65,7 @@ import {
   type FitChunks,
   type MergedChunks,
   mergedChunks,
+  mergeTask,
   transferablesOf,
 } from "./fit-chunks";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "./fit-task";
@@ -404,12 +408,13 @@ export class FitJobs {
     return this.chunkPool;
   }
 
-  /** Runs one chunk task (or a plan) on the chunk pool. */
+  /** Runs one chunk task (a plan, or a merge) on the chunk pool. */
   private runChunkTask<T>(
     input: ChunkTaskInput,
     signal: AbortSignal,
+    transferList: ArrayBuffer[] = [],
   ): Promise<ChunkTaskOutcome<T>> {
-    return this.getChunkPool().run(input, { signal }) as Promise<ChunkTaskOutcome<T>>;
+    return this.getChunkPool().run(input, { signal, transferList }) as Promise<ChunkTaskOutcome<T>>;
   }
 
   /**
@@ -545,7 +550,31 @@ export class FitJobs {
         if (rowsDone && !rowsDone.ok) return await failed(rowsDone.code, rowsDone.message);
         rowsStored = rowsDone !== null;
         merged = chunked;
+        if (merged?.kind === "permutation" && rowsDone?.before)
+          merged = { ...merged, before: rowsDone.before };
         run.span = merged ? { from: CHUNK_SHARE, span: 1 - CHUNK_SHARE } : { from: 0, span: 1 };
+      }
+      const merge = merged ? mergeTask(merged) : null;
+      if (merge && merged) {
+        // The fit before its test is at hand: a chunk thread adds the counts (no data, no rows).
+        let outcome: ChunkTaskOutcome<FitSummary>;
+        try {
+          outcome = await this.runChunkTask<FitSummary>(
+            merge,
+            run.controller.signal,
+            transferablesOf(merged),
+          );
+        } catch (error) {
+          await this.store.clearRegionRows(fitId);
+          if (run.controller.signal.aborted) return; // cancelled (already marked) or shutting down (left for recovery)
+          this.log(error, `fit ${fitId}: merge`);
+          return await this.fail(fitId, "internal_error", INTERNAL_FAILURE);
+        }
+        if (!outcome.ok) {
+          await this.store.clearRegionRows(fitId);
+          return await this.fail(fitId, outcome.code, outcome.message);
+        }
+        return await this.finish(fitId, run, outcome.value);
       }
       const channel = new MessageChannel();
       channel.port1.on("message", (message: FitTaskMessage) => this.onMessage(fitId, run, message));
@@ -576,7 +605,7 @@ export class FitJobs {
         await this.store.clearRegionRows(fitId);
         return await this.fail(fitId, outcome.code, outcome.message);
       }
-      await this.finish(fitId, run, outcome);
+      await this.finish(fitId, run, outcome.summary);
     } finally {
       this.running.delete(fitId);
     }
@@ -656,14 +685,10 @@ export class FitJobs {
    * unless the fit was cancelled meanwhile, in which case its rows are
    * removed again.
    */
-  private async finish(
-    fitId: string,
-    run: Running,
-    outcome: Extract<FitTaskOutcome, { ok: true }>,
-  ): Promise<void> {
+  private async finish(fitId: string, run: Running, summary: unknown): Promise<void> {
     const done = await this.store.markDone(
       fitId,
-      outcome.summary,
+      summary,
       this.clock(),
       new Date(run.startedAt ?? this.clock().getTime()),
       () => run.controller.signal.aborted,

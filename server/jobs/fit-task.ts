@@ -24,7 +24,7 @@ import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../.
 import { StatsError } from "../stats/errors";
 import type { RegionPlot } from "../../contract/views/fits";
 import { regionPlot } from "../stats/region-plot";
-import { FIT_LEVEL, runFit } from "../stats/run-fit";
+import { FIT_LEVEL, type FitBeforeTest, runFit, runFitBeforeTest } from "../stats/run-fit";
 import { type MergedChunks, mergeOptions } from "./fit-chunks";
 import { encodeRegionRows } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
@@ -40,10 +40,13 @@ export interface FitTask {
   /** A split fit's chunks (fit-chunks.ts), computed by other threads or worker processes: merged instead of computed here. */
   merged?: MergedChunks;
   /**
-   * Region rows (default "all"): "only" computes just the per-participant
-   * diagnostics and plots of every region (they do not depend on the
-   * permutation test, so a worker process stores them while the chunks are
-   * computed; the summary returned is then of no use); "skip" sends none.
+   * Region rows (default "all"): "only", for a split least-squares
+   * permutation test, computes the fit before its test (`runFitBeforeTest`:
+   * the per-participant diagnostics and plots of every region, which do not
+   * depend on the test, and the regions' estimates), so the rows are stored
+   * while the chunks are computed and the outcome's `before` is all the
+   * merge needs besides them (the summary returned is then of no use);
+   * "skip" sends none.
    */
   rows?: "all" | "only" | "skip";
   /** A worker process (no requests to serve): keep the thread at normal priority. */
@@ -65,7 +68,7 @@ export type FitTaskMessage =
   | { type: "regions-done"; count: number };
 
 export type FitTaskOutcome =
-  | { ok: true; summary: Omit<FitResult, "participants"> }
+  | { ok: true; summary: Omit<FitResult, "participants">; before?: FitBeforeTest }
   | { ok: false; code: string; message: string };
 
 export default function runFitTask(task: FitTask): FitTaskOutcome {
@@ -79,20 +82,25 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
   post({ type: "started" });
   let last = 0;
   try {
-    const rowsOnly = task.rows === "only";
-    // Diagnostics and plots do not read the inference: the region rows of a fit without its test are those of the fit.
-    const spec = rowsOnly
-      ? { ...task.spec, inference: "parametric" as const, correction: "none" as const }
-      : task.spec;
-    const result = runFit(spec, task.data, {
-      ...(task.merged ? mergeOptions(task.merged) : {}),
-      onProgress: (fraction) => {
-        const now = Date.now();
-        if (now - last < PROGRESS_INTERVAL_MS && fraction < 1) return;
-        last = now;
-        post({ type: "progress", fraction });
-      },
-    });
+    const onProgress = (fraction: number) => {
+      const now = Date.now();
+      if (now - last < PROGRESS_INTERVAL_MS && fraction < 1) return;
+      last = now;
+      post({ type: "progress", fraction });
+    };
+    let result: FitResult;
+    let before: FitBeforeTest | undefined;
+    if (task.rows === "only") {
+      // Diagnostics and plots do not read the test: the region rows of the fit before its test are those of the fit.
+      const split = runFitBeforeTest(task.spec, task.data, { onProgress });
+      before = split.before;
+      result = { regions: before.regions, participants: split.participants, notes: [] };
+    } else {
+      result = runFit(task.spec, task.data, {
+        ...(task.merged ? mergeOptions(task.merged) : {}),
+        onProgress,
+      });
+    }
     const { participants, ...summary } = result;
     const byRegion = new Map<string, ParticipantDiagnostics[]>();
     for (const d of participants) {
@@ -130,7 +138,7 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
       });
     });
     post({ type: "regions-done", count: result.regions.length });
-    return { ok: true, summary };
+    return { ok: true, summary, ...(before ? { before } : {}) };
   } catch (e) {
     if (e instanceof StatsError) return { ok: false, code: e.code, message: e.message };
     throw e;

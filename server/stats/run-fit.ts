@@ -67,16 +67,31 @@
  * sensitivity), infer.ts (permutation, bootstrap, correction over regions),
  * notes.ts (the plain-words notes); reliability.ts runs a reliability fit.
  */
-import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../../contract/spec";
+import type {
+  FitData,
+  FitResult,
+  ModelSpec,
+  ParticipantDiagnostics,
+  RegionResult,
+} from "../../contract/spec";
+import { StatsError } from "./errors";
 import type { Kind } from "./region-data";
 import type { QrDecomposition } from "./linear-model";
+import type { RearrangementChunk } from "./permutation";
 import { FIT_LEVEL, type RunFitOptions, assertFinite, cancelled, inRegion } from "./fit/common";
 import { diagnoseRegion } from "./fit/diagnose";
 import { type RegionWork, estimateRegionWork } from "./fit/estimate";
-import { bootstrapPass, correctOverRegions, permutationPass } from "./fit/infer";
+import {
+  type LinearTestBasis,
+  bootstrapPass,
+  correctOverRegions,
+  linearTestBasis,
+  mergedPermutationPass,
+  permutationPass,
+} from "./fit/infer";
 import { diagnosticNotes, weightingNotes } from "./fit/notes";
 import { ruleExclusionsOf } from "./fit/model-rules";
-import { prepare } from "./fit/prepare";
+import { type Prepared, prepare } from "./fit/prepare";
 import { runPrediction } from "./fit/prediction";
 import { runReliability } from "./fit/reliability";
 import { runSpecificationCurve } from "./fit/specification-curve";
@@ -91,21 +106,47 @@ export { fitPreconditionProblems } from "./fit/prepare";
  * correlation), times (resamples + 1) with permutation or bootstrap inference.
  */
 export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = {}): FitResult {
-  const { onProgress, shouldCancel } = options;
+  const { onProgress } = options;
   const prep = prepare(spec, data);
   const s = prep.spec;
   if (s.kind === "reliability") return runReliability(prep, options);
   if (s.kind === "prediction") return runPrediction(prep, options);
   if (s.kind === "specification-curve") return runSpecificationCurve(prep, options);
-  const kind = s.kind as Kind;
-  const regionCount = prep.regionIndex.length;
-  const heavy = s.inference !== "parametric";
-  const progress = (done: number) => onProgress?.(Math.min(1, done));
+  const { works, participants } = estimateAndDiagnose(prep, options);
   const notes: string[] = [];
+  // Infer: resampling, then the correction over regions.
+  if (s.inference === "permutation") permutationPass(prep, works, options, notes);
+  if (s.inference === "bootstrap") bootstrapPass(prep, works, options, notes);
+  const { regions, ...rest } = summaryOf(
+    s,
+    works.map((w) => w.result),
+    notes,
+    ruleExclusionsOf(prep),
+  );
+  const result: FitResult = { regions, participants, ...rest };
+  assertFinite(result, "result");
+  onProgress?.(1);
+  return result;
+}
+
+/** A fit's result without its participants' rows (what a fit stores besides its region rows). */
+export type FitSummary = Omit<FitResult, "participants" | "regions" | "notes"> & {
+  regions: RegionResult[];
+  notes: string[];
+};
+
+/** Stages 2 and 4 (estimate, diagnose), region by region: the regions' work and the participants' rows. */
+function estimateAndDiagnose(
+  prep: Prepared,
+  options: RunFitOptions,
+): { works: RegionWork[]; participants: ParticipantDiagnostics[] } {
+  const { onProgress, shouldCancel } = options;
+  const { data } = prep;
+  const regionCount = prep.regionIndex.length;
+  const heavy = prep.spec.inference !== "parametric";
   const works: RegionWork[] = [];
   const participants: ParticipantDiagnostics[] = [];
   const qrCache = new Map<string, QrDecomposition>();
-  // Estimate and diagnose, region by region.
   prep.regionIndex.forEach((r, idx) => {
     if (shouldCancel?.()) cancelled();
     inRegion(data.regions[r], () => {
@@ -113,29 +154,104 @@ export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = 
       if (work.qr) participants.push(...diagnoseRegion(prep, work));
       works.push(work);
     });
-    progress(heavy ? (0.1 * (idx + 1)) / regionCount : (idx + 1) / regionCount);
+    onProgress?.(Math.min(1, heavy ? (0.1 * (idx + 1)) / regionCount : (idx + 1) / regionCount));
   });
-  // Infer: resampling, then the correction over regions.
-  if (s.inference === "permutation") permutationPass(prep, works, options, notes);
-  if (s.inference === "bootstrap") bootstrapPass(prep, works, options, notes);
-  const regions = works.map((w) => w.result);
+  return { works, participants };
+}
+
+/**
+ * The result without its participants' rows, from the regions after the
+ * infer stage: the correction over regions, the notes of the weights and
+ * the diagnostics, and the model's fields.
+ */
+function summaryOf(
+  s: ModelSpec,
+  regions: RegionResult[],
+  notes: string[],
+  ruleExclusions: ReturnType<typeof ruleExclusionsOf>,
+): FitSummary {
   correctOverRegions(regions, s.correction, notes);
-  // Notes of the weights and the diagnostics.
   if (s.weights === "first-level-se") notes.push(...weightingNotes(s));
   notes.push(...diagnosticNotes());
-  const result: FitResult = {
+  return {
     regions,
-    participants,
     notes,
-    kind,
+    kind: s.kind as Kind,
     estimator: s.estimator,
     inference: s.inference,
     correction: s.correction,
     seed: s.seed,
     level: FIT_LEVEL,
-    ...ruleExclusionsOf(prep),
+    ...ruleExclusions,
   };
-  assertFinite(result, "result");
-  progress(1);
-  return result;
+}
+
+/**
+ * A fit whose least-squares permutation test is split into chunks
+ * (server/jobs/fit-chunks.ts), before its test: everything `runFit`
+ * computes that the test does not change — each region's estimate and
+ * diagnostics, the participants' rows — and the test's basis. Computed
+ * beside the chunks; `finishSplitFit` then needs only the chunks.
+ * Structured-clone-able (threads; stored by worker processes).
+ */
+export interface FitBeforeTest {
+  /** the model as the fit reads it (defaults filled in) */
+  spec: ModelSpec;
+  /** every region's result before the test, in the fit's region order */
+  regions: RegionResult[];
+  test: LinearTestBasis;
+  ruleExclusions: ReturnType<typeof ruleExclusionsOf>;
+}
+
+/**
+ * The stages of `runFit` before the test of a least-squares permutation
+ * fit (one-sample, two-group or association with estimator "ols"): its
+ * participants' rows and what `finishSplitFit` needs. Throws StatsError as
+ * `runFit` does for the same model and data. Cost: `runFit` without its
+ * rearrangements — per region O(n·p²), plus the test's observed statistics.
+ */
+export function runFitBeforeTest(
+  spec: ModelSpec,
+  data: FitData,
+  options: RunFitOptions = {},
+): { before: FitBeforeTest; participants: ParticipantDiagnostics[] } {
+  const prep = prepare(spec, data);
+  const s = prep.spec;
+  if (s.inference !== "permutation" || s.estimator !== "ols" || !isLinearKind(s.kind))
+    throw new StatsError(
+      "a fit is split before its test only for a least-squares permutation test",
+    );
+  const { works, participants } = estimateAndDiagnose(prep, options);
+  assertFinite({ participants }, "result");
+  const before: FitBeforeTest = {
+    spec: s,
+    regions: works.map((w) => w.result),
+    test: linearTestBasis(prep, works),
+    ruleExclusions: ruleExclusionsOf(prep),
+  };
+  return { before, participants };
+}
+
+/**
+ * The result of a split least-squares permutation fit without its
+ * participants' rows (which `runFitBeforeTest` gave), from the fit before
+ * its test and its merged chunks: what `runFit` gives, number for number.
+ * Cost O(regions × rearrangements): the merge, the p-values and null
+ * histograms, the correction over regions. Consumes `before` (its region
+ * results become the result's).
+ */
+export function finishSplitFit(
+  before: FitBeforeTest,
+  chunks: readonly RearrangementChunk[],
+): FitSummary {
+  const s = before.spec;
+  const notes: string[] = [];
+  mergedPermutationPass(s, before.regions, before.test, chunks, notes);
+  const summary = summaryOf(s, before.regions, notes, before.ruleExclusions);
+  assertFinite(summary, "result");
+  return summary;
+}
+
+function isLinearKind(kind: ModelSpec["kind"]): boolean {
+  return kind === "one-sample" || kind === "two-group" || kind === "association";
 }

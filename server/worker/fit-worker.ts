@@ -7,10 +7,11 @@
  * - `fit`: a queued fit becomes running. A split fit (server/jobs/
  *   fit-chunks.ts) records its number of parts and sends one `fit-chunk`
  *   job per chunk; a split permutation test's region rows (diagnostics and
- *   plots, which do not depend on the test) are then computed and stored
- *   here on the fit thread while the chunk threads compute chunks, and
- *   count as its last part. Any other fit is computed whole here, as the
- *   embedded path computes it (server/jobs/fit-task.ts).
+ *   plots, which do not depend on the test) and the rest of the fit before
+ *   its test (`runFitBeforeTest`) are then computed here on the fit thread
+ *   while the chunk threads compute chunks, and stored as its last part.
+ *   Any other fit is computed whole here, as the embedded path computes it
+ *   (server/jobs/fit-task.ts).
  * - `fit-chunk`: computes one chunk and stores it once (a chunk already
  *   stored is not computed again and adds nothing); progress is the share
  *   of chunks stored. The one that stores the last chunk sends `fit-merge`.
@@ -18,10 +19,13 @@
  *   no longer running (cancelled) drops the chunk. A chunk that fails on its
  *   last try fails the fit with the error.
  * - `fit-merge`: under the fit's merge lock (one party at a time, and a
- *   fit merged once), runs `runFit` with the stored chunks merged in place
- *   of the permutation test and stores the result (and the region rows
- *   unless already stored) through the fit store (services/fit-store.ts),
- *   as the embedded path does.
+ *   fit merged once), merges the stored chunks into the stored fit before
+ *   its test on a chunk thread (`mergeTask`: counts, p-values, the
+ *   correction over regions; no data read) — or, for a curve, a prediction
+ *   or a part stored without it, runs `runFit` with the chunks in place of
+ *   the test — and stores the result (and the region rows unless already
+ *   stored) through the fit store (services/fit-store.ts), as the embedded
+ *   path does.
  *
  * A fit that fails, or a job that finds its fit cancelled, removes the
  * fit's region rows (they may have been stored before the chunks were all in).
@@ -48,11 +52,12 @@ import {
   hasRowsPart,
   type MergedChunks,
   mergedOfStored,
+  mergeTask,
   partCount,
   rowsMark,
   transferablesOf,
 } from "../jobs/fit-chunks";
-import type { ChunkTaskOutcome } from "../jobs/chunk-task";
+import type { ChunkTask, ChunkTaskOutcome } from "../jobs/chunk-task";
 import { type FitEvent, INTERNAL_FAILURE } from "../jobs/fit-jobs";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "../jobs/fit-task";
 import { secondsLeftOf } from "../jobs/time-left";
@@ -60,6 +65,7 @@ import { workerPool } from "../jobs/worker-pool";
 import { FitDataCache, inputsOfFit } from "../services/fit-inputs";
 import { FitStore, fitEvents } from "../services/fit-store";
 import { StatsError } from "../stats/errors";
+import type { FitBeforeTest, FitSummary } from "../stats/run-fit";
 import {
   beat,
   fitRow,
@@ -108,6 +114,8 @@ export class FitWorker {
   private readonly log: (error: unknown, context: string) => void;
   private readonly startedAt = new Date();
   private readonly plans = new Map<string, Promise<FitChunks>>();
+  /** The queue taker (pg-boss worker id) of each queue in this process. */
+  private readonly takers = new Map<string, string>();
   private boss: PgBoss | null = null;
   private chunkPool: Piscina | null = null;
   private fitPool: Piscina | null = null;
@@ -160,17 +168,21 @@ export class FitWorker {
     queue: string,
     handle: (job: PgBoss.JobWithMetadata<T>) => Promise<void>,
   ): Promise<void> {
-    const ids: string[] = [];
     const options = { includeMetadata: true as const, pollingIntervalSeconds: 0.5 };
-    ids.push(
-      await boss.work<T>(queue, options, async ([job]) => {
-        try {
-          await handle(job);
-        } finally {
-          for (const id of ids) boss.notifyWorker(id);
-        }
-      }),
-    );
+    const id = await boss.work<T>(queue, options, async ([job]) => {
+      try {
+        await handle(job);
+      } finally {
+        this.wake(queue);
+      }
+    });
+    this.takers.set(queue, id);
+  }
+
+  /** This process looks for a job of `queue` at once (after sending one, or finishing one). */
+  private wake(queue: string): void {
+    const id = this.takers.get(queue);
+    if (id) this.boss?.notifyWorker(id);
   }
 
   /** Stops taking jobs (a job in hand is left to its lease), removes the heartbeat and ends the threads. */
@@ -268,6 +280,7 @@ export class FitWorker {
         data: { fitId, chunk } satisfies ChunkJobData,
       })),
     );
+    this.wake(CHUNK_QUEUE);
     if (hasRowsPart(plan)) await this.storeRows(fitId, inputs, plan);
   }
 
@@ -282,12 +295,18 @@ export class FitWorker {
     plan: FitChunks,
   ): Promise<void> {
     const stored = await this.computeFit(fitId, inputs, null, new Date(), "only");
-    if (!stored) return;
+    if (!stored?.before) return;
     if ((await fitStatus(this.db, fitId)) !== "running") {
       await this.dropped(fitId);
       return;
     }
-    const done = await storeChunk(this.db, fitId, rowsMark(plan), this.id, new Date());
+    const done = await storeChunk(
+      this.db,
+      fitId,
+      rowsMark(plan, stored.before),
+      this.id,
+      new Date(),
+    );
     await this.reportChunks(fitId, done, partCount(plan));
   }
 
@@ -406,7 +425,10 @@ export class FitWorker {
       progress: { fraction, secondsLeft },
       error: null,
     });
-    if (done >= total) await (this.boss as PgBoss).send(MERGE_QUEUE, { fitId });
+    if (done >= total) {
+      await (this.boss as PgBoss).send(MERGE_QUEUE, { fitId });
+      this.wake(MERGE_QUEUE);
+    }
   }
 
   /** `fit-merge` job: merge a fit's chunks and store its result, once. */
@@ -418,16 +440,55 @@ export class FitWorker {
       if (!row || row.status !== "running" || !plan || plan.mergedAt) return;
       const stored = await storedChunks(this.db, fitId);
       if (stored.length < plan.chunks) return;
-      const inputs = await this.inputsOf(fitId, row);
-      if (!inputs) return;
-      const kind = chunkKind(inputs.spec);
+      const kind = chunkKind(specOfRecipe(row.recipe));
       if (!kind) throw new Error(`fit ${fitId} is not split into chunks`);
       const merged = mergedOfStored(kind, stored);
+      const task = mergeTask(merged);
+      if (task) {
+        // The fit before its test was stored with its parts: a chunk thread adds the counts.
+        await this.finishMerge(fitId, task, merged, row.startedAt ?? new Date());
+        await markMerged(this.db, fitId, new Date());
+        return;
+      }
+      const inputs = await this.inputsOf(fitId, row);
+      if (!inputs) return;
       // A permutation test's region rows were stored with its parts: the merge stores the summary only.
       const rows = stored.some((r) => r.block < 0) ? "skip" : "all";
       await this.computeFit(fitId, inputs, merged, row.startedAt ?? new Date(), rows);
       await markMerged(this.db, fitId, new Date());
     });
+  }
+
+  /** Runs a merge task on the chunk thread and stores the fit's result. */
+  private async finishMerge(
+    fitId: string,
+    task: ChunkTask,
+    merged: MergedChunks,
+    startedAt: Date,
+  ): Promise<void> {
+    const outcome = (await (this.chunkPool as Piscina).run(
+      { ...task, fullPriority: true },
+      { transferList: transferablesOf(merged) },
+    )) as ChunkTaskOutcome<FitSummary>;
+    if (!outcome.ok) return await this.fail(fitId, outcome.code, outcome.message);
+    await this.storeResult(fitId, outcome.value, startedAt);
+  }
+
+  /** Marks the fit done with its result (its region rows stored), or removes its rows when it was no longer running. */
+  private async storeResult(fitId: string, summary: unknown, startedAt: Date): Promise<boolean> {
+    const done = await this.store.markDone(fitId, summary, new Date(), startedAt, () => false);
+    if (!done) {
+      await this.store.clearRegionRows(fitId);
+      return false;
+    }
+    this.emit({
+      type: "status",
+      fitId,
+      status: "done",
+      progress: { fraction: 1, secondsLeft: 0 },
+      error: null,
+    });
+    return true;
   }
 
   /**
@@ -441,7 +502,7 @@ export class FitWorker {
     merged: MergedChunks | null,
     startedAt: Date,
     rows: "all" | "only" | "skip" = "all",
-  ): Promise<boolean> {
+  ): Promise<{ before?: FitBeforeTest } | null> {
     if (rows !== "skip") await this.store.clearRegionRows(fitId);
     const channel = new MessageChannel();
     let storing: Promise<void> = Promise.resolve();
@@ -500,33 +561,15 @@ export class FitWorker {
       channel.port1.close();
       await storing.catch(() => {});
       await this.store.clearRegionRows(fitId);
-      if (controller.signal.aborted) return false; // cancelled: already marked
+      if (controller.signal.aborted) return null; // cancelled: already marked
       throw error;
     }
     channel.port1.close();
     if (!outcome.ok) {
       await this.fail(fitId, outcome.code, outcome.message);
-      return false;
+      return null;
     }
-    if (rows === "only") return true;
-    const done = await this.store.markDone(
-      fitId,
-      outcome.summary,
-      new Date(),
-      startedAt,
-      () => false,
-    );
-    if (!done) {
-      await this.store.clearRegionRows(fitId);
-      return false;
-    }
-    this.emit({
-      type: "status",
-      fitId,
-      status: "done",
-      progress: { fraction: 1, secondsLeft: 0 },
-      error: null,
-    });
-    return true;
+    if (rows === "only") return { before: outcome.before };
+    return (await this.storeResult(fitId, outcome.summary, startedAt)) ? {} : null;
   }
 }

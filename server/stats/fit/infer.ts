@@ -9,10 +9,19 @@
  */
 import type { RegionResult } from "../../../contract/spec";
 import { bootstrapInterval } from "../bootstrap";
+import { StatsError } from "../errors";
 import { bootstrapP, bootstrapStatistic } from "../bootstrap-statistic";
 import { adjustPValues } from "../corrections";
 import { sharedGenericPermutationTest } from "../generic-permutation";
-import { type SharedLinearPermutationInput, sharedLinearPermutationTest } from "../permutation";
+import {
+  type LinearPermutationResult,
+  type RearrangementChunk,
+  type SharedLinearPermutationInput,
+  mergeRearrangementChunks,
+  prepareSharedLinearPermutation,
+  sharedLinearPermutationTest,
+} from "../permutation";
+import type { RearrangementDraw } from "../permutation-kernel";
 import { permutationStatistic } from "../permutation-statistic";
 import { extremeThreshold } from "../rearrangements";
 import { createRng } from "../rng";
@@ -102,23 +111,11 @@ export function permutationPass(
       onProgress: progress,
       shouldCancel: options.shouldCancel,
     });
-    let k = 0;
-    for (const list of lists) {
-      for (const w of list) {
-        const nulls = res.nullStatistics?.[k] ?? new Float32Array(0);
-        applyPermutation(
-          w,
-          res.p[k],
-          res.observed[k],
-          res.exact,
-          res.rearrangements,
-          nulls,
-          scheme === "sign-flip" ? "sign flipping" : "Freedman–Lane",
-        );
-        if (res.pMaxT) w.result.pAdjusted = res.pMaxT[k];
-        k++;
-      }
-    }
+    applyLinearPermutation(
+      lists.flatMap((list) => list.map((w) => w.result)),
+      res,
+      scheme,
+    );
     notes.push(permutationNote(s.kind, true));
   } else {
     const plans = works.map((w) => permutationStatistic(w.data));
@@ -139,7 +136,7 @@ export function permutationPass(
     });
     works.forEach((w, idx) => {
       applyPermutation(
-        w,
+        w.result,
         res.p[idx],
         res.observed[idx],
         res.exact,
@@ -218,6 +215,95 @@ export function linearPermutationInput(
   return { input, lists, scheme };
 }
 
+/**
+ * Puts a least-squares permutation test's p-values (and max-T adjusted
+ * p-values) on the regions' results, `tested[k]` the region of the test's
+ * k-th statistic (blocks in order, as `linearPermutationInput` lists them).
+ */
+function applyLinearPermutation(
+  tested: readonly RegionResult[],
+  res: LinearPermutationResult,
+  scheme: "sign-flip" | "freedman-lane",
+): void {
+  tested.forEach((result, k) => {
+    const nulls = res.nullStatistics?.[k] ?? new Float32Array(0);
+    applyPermutation(
+      result,
+      res.p[k],
+      res.observed[k],
+      res.exact,
+      res.rearrangements,
+      nulls,
+      scheme === "sign-flip" ? "sign flipping" : "Freedman–Lane",
+    );
+    if (res.pMaxT) result.pAdjusted = res.pMaxT[k];
+  });
+}
+
+/**
+ * What a split least-squares permutation test's merge needs besides its
+ * chunks, computed before the test (beside the chunks): the test's
+ * observed statistics and draw (`prepareSharedLinearPermutation`, the
+ * same as the chunks' plan), the region of each statistic, the scheme, and
+ * the shared participants for the note. Structured-clone-able.
+ */
+export interface LinearTestBasis {
+  observed: Float64Array;
+  draw: RearrangementDraw;
+  /** `order[k]`: the position among the fit's regions of the test's k-th statistic */
+  order: number[];
+  scheme: "sign-flip" | "freedman-lane";
+  shared: number;
+  differ: boolean;
+}
+
+/** The basis of a fit's least-squares permutation test (see `LinearTestBasis`). Cost as `prepareSharedLinearPermutation`. */
+export function linearTestBasis(prep: Prepared, works: readonly RegionWork[]): LinearTestBasis {
+  const { input, lists, scheme } = linearPermutationInput(prep, works);
+  const { observed, draw } = prepareSharedLinearPermutation(input);
+  const at = new Map(works.map((w, idx) => [w, idx]));
+  const { shared } = sharedPositions(prep, works);
+  return {
+    observed,
+    draw,
+    order: lists.flatMap((list) => list.map((w) => at.get(w) as number)),
+    scheme,
+    shared,
+    differ: works.some((w) => w.rows.length !== shared),
+  };
+}
+
+/**
+ * `permutationPass` of a least-squares fit whose test was split into
+ * chunks: the chunks merged exactly (`mergeRearrangementChunks`: counts
+ * add, each rearrangement's maximum is the largest of its region slices')
+ * with the basis computed before the test, then the same p-values, null
+ * histograms and notes as `permutationPass` puts on `regions` (the
+ * results before the test, in the fit's region order). Cost O(regions ×
+ * rearrangements).
+ */
+export function mergedPermutationPass(
+  spec: Prepared["spec"],
+  regions: readonly RegionResult[],
+  basis: LinearTestBasis,
+  chunks: readonly RearrangementChunk[],
+  notes: string[],
+): void {
+  if (spec.rearrangementStreams !== "blocks-v1")
+    throw new StatsError("linearPermutationTest merges chunks of blocked streams only");
+  const res = mergeRearrangementChunks(basis.observed, basis.draw, chunks, {
+    maxT: spec.correction === "maxt",
+    keepNull: true,
+  });
+  applyLinearPermutation(
+    basis.order.map((idx) => regions[idx]),
+    res,
+    basis.scheme,
+  );
+  notes.push(permutationNote(spec.kind, true));
+  if (basis.differ) notes.push(sharedRearrangementNote(spec.kind, basis.shared, spec.resamples));
+}
+
 /** The shared participants (available in at least one region, in roster order) and each one's position among them. */
 function sharedPositions(
   prep: Prepared,
@@ -232,7 +318,7 @@ function sharedPositions(
 
 /** Puts a region's permutation p, its scheme and its null histogram on the region's result (the parametric p kept as `pParametric`). */
 function applyPermutation(
-  w: RegionWork,
+  res: RegionResult,
   p: number,
   observed: number,
   exact: boolean,
@@ -240,7 +326,6 @@ function applyPermutation(
   nulls: ArrayLike<number>,
   scheme: string,
 ): void {
-  const res = w.result;
   res.pParametric = res.p;
   res.p = p;
   res.pAdjusted = p;

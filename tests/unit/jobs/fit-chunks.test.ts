@@ -13,12 +13,14 @@ import {
   mergedChunks,
   mergedOfStored,
   mergeOptions,
+  mergeTask,
+  rowsMark,
   transferablesOf,
 } from "../../../server/jobs/fit-chunks";
 import runPermutationTask from "../../../server/jobs/permutation-task";
 import { mergedLinearPermutationTest } from "../../../server/stats/permutation";
 import { createRng, normalDraw } from "../../../server/stats/rng";
-import { runFit } from "../../../server/stats/run-fit";
+import { type FitSummary, runFit, runFitBeforeTest } from "../../../server/stats/run-fit";
 
 /** 40 participants, 230 regions (three region chunks); region 7 misses two values. */
 function makeData(): FitData {
@@ -26,6 +28,7 @@ function makeData(): FitData {
   const participants = Array.from({ length: 40 }, (_, i) => `sub-${i + 1}`);
   const age = participants.map(() => 20 + Math.floor(rng.next() * 40));
   const accuracy = participants.map(() => 0.5 + 0.5 * rng.next());
+  const site = participants.map((_, i) => (i % 3 === 0 ? "north" : "south"));
   const regions = Array.from({ length: 230 }, (_, r) => `region ${r + 1}`);
   const values = regions.map((_, r) =>
     Float64Array.from(participants, (_, i) =>
@@ -39,7 +42,7 @@ function makeData(): FitData {
     regions,
     values,
     numericColumns: { age, accuracy },
-    categoricalColumns: {},
+    categoricalColumns: { site },
   };
 }
 
@@ -109,6 +112,97 @@ describe("a fit's permutation test in chunks", () => {
     expect(first?.byteLength).toBe(0); // detached here: moved, not copied
     const result = runFit(spec, data, mergeOptions(moved));
     expect(JSON.stringify(result)).toBe(JSON.stringify(runFit(spec, data)));
+  });
+});
+
+describe("a split permutation test merged into the fit before its test", () => {
+  const data = makeData();
+  const twoGroup = modelSpecSchema.parse({
+    kind: "two-group",
+    group: "site",
+    levels: ["north", "south"],
+    covariates: ["age", "accuracy"],
+    inference: "permutation",
+    resamples: 1200,
+    correction: "maxt",
+    seed: 3,
+    rearrangementStreams: "blocks-v1",
+  });
+  const oneSample = modelSpecSchema.parse({
+    kind: "one-sample",
+    covariates: ["age"],
+    inference: "permutation",
+    resamples: 700,
+    correction: "holm",
+    seed: 11,
+    rearrangementStreams: "blocks-v1",
+  });
+
+  for (const [label, model] of [
+    ["association, max-T, a covariate", spec],
+    ["two groups, max-T, two covariates", twoGroup],
+    ["one sample, Holm, a covariate", oneSample],
+  ] as const) {
+    it(`${label}: chunks and the fit before its test, stored apart, give the fit computed in one piece`, () => {
+      const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec: model, data }));
+      const control = new SharedArrayBuffer(8);
+      // Chunks in reverse order, each through its stored form; the fit before its test through its rows mark.
+      const order = Array.from({ length: plan.chunks }, (_, k) => plan.chunks - 1 - k);
+      const stored = order.map((c) =>
+        encodeChunk(plan, c, unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control)))),
+      );
+      const { before, participants } = runFitBeforeTest(model, data);
+      stored.splice(1, 0, rowsMark(plan, before));
+      const merged = mergedOfStored("permutation", stored);
+      const task = mergeTask(merged);
+      if (!task) throw new Error("no merge task");
+      const summary = unwrap<FitSummary>(
+        runChunkTask(structuredClone(task, { transfer: transferablesOf(merged) })),
+      );
+      const { participants: wholeParticipants, ...whole } = runFit(model, data);
+      // Every number, note and field in the same order, and the participants' rows of the part.
+      expect(summary).toStrictEqual(whole);
+      expect(JSON.stringify(summary)).toBe(JSON.stringify(whole));
+      expect(participants).toStrictEqual(wholeParticipants);
+      // Region 7 misses two participants: its statistic is the test's last (its own block).
+      expect(whole.notes.length).toBeGreaterThan(2);
+      expect(summary.regions[7].n).toBe(38);
+      expect(summary.regions[7].pParametric).not.toBe(summary.regions[7].p);
+    });
+  }
+
+  it("a rows mark stored without the fit before its test leaves the merge to runFit", () => {
+    const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec, data }));
+    const control = new SharedArrayBuffer(8);
+    const stored = Array.from({ length: plan.chunks }, (_, c) =>
+      encodeChunk(plan, c, unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control)))),
+    );
+    const { before } = runFitBeforeTest(spec, data);
+    const merged = mergedOfStored("permutation", [
+      ...stored,
+      { ...rowsMark(plan, before), counts: "" },
+    ]);
+    expect(mergeTask(merged)).toBeNull();
+    const result = runFit(spec, data, mergeOptions(merged));
+    expect(JSON.stringify(result)).toBe(JSON.stringify(runFit(spec, data)));
+  });
+
+  it("refuses a fit that is not a least-squares permutation test, and a merge missing a chunk", () => {
+    expect(() =>
+      runFitBeforeTest({ ...spec, inference: "bootstrap", correction: "holm" }, data),
+    ).toThrow(/only for a least-squares permutation test/);
+    const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec, data }));
+    const control = new SharedArrayBuffer(8);
+    const results = Array.from({ length: plan.chunks }, (_, c) =>
+      unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control))),
+    );
+    const { before } = runFitBeforeTest(spec, data);
+    const merged = mergedChunks(plan, results);
+    const chunks = merged.kind === "permutation" ? merged.chunks.slice(1) : [];
+    expect(runChunkTask({ type: "merge", before, chunks })).toMatchObject({
+      ok: false,
+      message: /missing region 0 of block 0/,
+    });
   });
 });
 
