@@ -61,43 +61,10 @@ export function qrDecompose(
   }
   const beta = new Float64Array(p);
   const r = new Float64Array(p * p);
-  for (let k = 0; k < p; k++) {
-    const off = k * n;
-    let norm2 = 0;
-    for (let i = k; i < n; i++) norm2 += a[off + i] * a[off + i];
-    const norm = Math.sqrt(norm2);
-    if (!(norm > 1e-7 * Math.sqrt(colNorm[k])) || colNorm[k] === 0) {
-      throw new StatsError(
-        colNorm[k] === 0
-          ? `the design is rank deficient: column '${names[k]}' is all zero`
-          : `the design is rank deficient: column '${names[k]}' is a linear combination of the columns before it`,
-      );
-    }
-    const alpha = a[off + k] > 0 ? -norm : norm;
-    a[off + k] -= alpha; // v = x − alpha·e1, stored in place
-    const vtv = norm2 - 2 * alpha * (a[off + k] + alpha) + alpha * alpha;
-    // vtv = (x_k − α)² + Σ_{i>k} x_i² = norm2 − 2α·x_k + α²
-    beta[k] = vtv > 0 ? 2 / vtv : 0;
-    r[k * p + k] = alpha;
-    for (let j = k + 1; j < p; j++) {
-      const oj = j * n;
-      let s = 0;
-      for (let i = k; i < n; i++) s += a[off + i] * a[oj + i];
-      s *= beta[k];
-      for (let i = k; i < n; i++) a[oj + i] -= s * a[off + i];
-      r[k * p + j] = a[oj + k];
-    }
-  }
+  householderColumns(a, n, p, colNorm, names, beta, r);
   // R⁻¹ by back substitution, column by column.
   const rInverse = new Float64Array(p * p);
-  for (let j = 0; j < p; j++) {
-    rInverse[j * p + j] = 1 / r[j * p + j];
-    for (let i = j - 1; i >= 0; i--) {
-      let s = 0;
-      for (let k = i + 1; k <= j; k++) s += r[i * p + k] * rInverse[k * p + j];
-      rInverse[i * p + j] = -s / r[i * p + i];
-    }
-  }
+  invertUpper(r, p, rInverse);
   if (options.thin === false) {
     return {
       n,
@@ -165,20 +132,9 @@ export function solveLinearModel(qr: QrDecomposition, y: ArrayLike<number>): Lin
     z[i] = y[i];
   }
   // z ← Qᵀy
-  for (let k = 0; k < p; k++) {
-    if (beta[k] === 0) continue;
-    const off = k * n;
-    let s = 0;
-    for (let i = k; i < n; i++) s += v[off + i] * z[i];
-    s *= beta[k];
-    for (let i = k; i < n; i++) z[i] -= s * v[off + i];
-  }
+  applyQt(v, beta, n, p, z);
   const coefficients = new Float64Array(p);
-  for (let i = 0; i < p; i++) {
-    let s = 0;
-    for (let k = i; k < p; k++) s += rInverse[i * p + k] * z[k];
-    coefficients[i] = s;
-  }
+  multiplyUpper(rInverse, z, p, coefficients);
   let rss = 0;
   for (let i = p; i < n; i++) rss += z[i] * z[i];
   // residuals = Q·[0; z_{p…n−1}]
@@ -272,4 +228,94 @@ export function coefficientInterval(
   if (se === null || fit.df <= 0) return { low: null, high: null };
   const q = studentTQuantile(0.5 + level / 2, fit.df);
   return { low: fit.coefficients[j] - q * se, high: fit.coefficients[j] + q * se };
+}
+
+/**
+ * Householder QR of the column-major n × p matrix `a` in place: each
+ * column k below the diagonal becomes its reflector v (with β_k = 2/vᵀv in
+ * `beta`), `r` (p × p, row-major) receives R. `colNorm` holds each
+ * column's squared norm before the reduction; a column whose remaining norm
+ * falls under 1e-7 of it is a linear combination of those before it, and
+ * the error names it from `names`. Cost O(n·p²).
+ */
+export function householderColumns(
+  a: Float64Array,
+  n: number,
+  p: number,
+  colNorm: ArrayLike<number>,
+  names: readonly string[],
+  beta: Float64Array,
+  r: Float64Array,
+): void {
+  for (let k = 0; k < p; k++) {
+    const off = k * n;
+    let norm2 = 0;
+    for (let i = k; i < n; i++) norm2 += a[off + i] * a[off + i];
+    const norm = Math.sqrt(norm2);
+    if (!(norm > 1e-7 * Math.sqrt(colNorm[k])) || colNorm[k] === 0) {
+      throw new StatsError(
+        colNorm[k] === 0
+          ? `the design is rank deficient: column '${names[k]}' is all zero`
+          : `the design is rank deficient: column '${names[k]}' is a linear combination of the columns before it`,
+      );
+    }
+    const alpha = a[off + k] > 0 ? -norm : norm;
+    a[off + k] -= alpha; // v = x − alpha·e1, stored in place
+    const vtv = norm2 - 2 * alpha * (a[off + k] + alpha) + alpha * alpha;
+    // vtv = (x_k − α)² + Σ_{i>k} x_i² = norm2 − 2α·x_k + α²
+    beta[k] = vtv > 0 ? 2 / vtv : 0;
+    r[k * p + k] = alpha;
+    for (let j = k + 1; j < p; j++) {
+      const oj = j * n;
+      let s = 0;
+      for (let i = k; i < n; i++) s += a[off + i] * a[oj + i];
+      s *= beta[k];
+      for (let i = k; i < n; i++) a[oj + i] -= s * a[off + i];
+      r[k * p + j] = a[oj + k];
+    }
+  }
+}
+
+/** R⁻¹ of the p × p upper-triangular `r` (row-major) into `out`, by back substitution column by column. O(p³). */
+export function invertUpper(r: ArrayLike<number>, p: number, out: Float64Array): void {
+  for (let j = 0; j < p; j++) {
+    out[j * p + j] = 1 / r[j * p + j];
+    for (let i = j - 1; i >= 0; i--) {
+      let s = 0;
+      for (let k = i + 1; k <= j; k++) s += r[i * p + k] * out[k * p + j];
+      out[i * p + j] = -s / r[i * p + i];
+    }
+  }
+}
+
+/** z ← Qᵀz for the reflectors of householderColumns (column-major `v`, `beta`), in place. O(n·p). */
+export function applyQt(
+  v: ArrayLike<number>,
+  beta: ArrayLike<number>,
+  n: number,
+  p: number,
+  z: Float64Array,
+): void {
+  for (let k = 0; k < p; k++) {
+    if (beta[k] === 0) continue;
+    const off = k * n;
+    let s = 0;
+    for (let i = k; i < n; i++) s += v[off + i] * z[i];
+    s *= beta[k];
+    for (let i = k; i < n; i++) z[i] -= s * v[off + i];
+  }
+}
+
+/** out ← U·z for the p × p upper-triangular U (row-major), over z's first p entries: the coefficients R⁻¹(Qᵀy)₁…ₚ. O(p²). */
+export function multiplyUpper(
+  u: ArrayLike<number>,
+  z: ArrayLike<number>,
+  p: number,
+  out: Float64Array,
+): void {
+  for (let i = 0; i < p; i++) {
+    let s = 0;
+    for (let k = i; k < p; k++) s += u[i * p + k] * z[k];
+    out[i] = s;
+  }
 }

@@ -40,6 +40,7 @@
 import { median, selectInPlace } from "./descriptive";
 import { studentTQuantile, studentTTwoSidedP } from "./distributions";
 import { StatsError, require } from "./errors";
+import { applyQt, householderColumns, invertUpper, multiplyUpper } from "./linear-model";
 
 export type RobustPsi = "huber" | "bisquare";
 
@@ -90,6 +91,41 @@ function derivativeOf(psi: RobustPsi, u: number, tuning: number): number {
   if (psi === "huber") return Math.abs(u) <= tuning ? 1 : 0;
   const t = (u / tuning) * (u / tuning);
   return t < 1 ? (1 - t) * (1 - 5 * t) : 0;
+}
+
+/**
+ * The standard deviation of the M-estimate's sandwich covariance (rlm
+ * summary, method "XtX"): √(Σψ(r)² / df) · κ / mean ψ′, with Huber's
+ * correction κ = 1 + p·var(ψ′)/(n·mean(ψ′)²), over the first n residuals.
+ * `deriv` is scratch of n.
+ */
+function sandwichScale(
+  residuals: ArrayLike<number>,
+  n: number,
+  scale: number,
+  psi: RobustPsi,
+  tuning: number,
+  p: number,
+  df: number,
+  deriv: Float64Array,
+): number {
+  let sumPsi2 = 0;
+  let meanD = 0;
+  for (let i = 0; i < n; i++) {
+    const u = residuals[i] / scale;
+    const w = weightOf(psi, u, tuning);
+    sumPsi2 += residuals[i] * w * (residuals[i] * w);
+    deriv[i] = derivativeOf(psi, u, tuning);
+    meanD += deriv[i];
+  }
+  meanD /= n;
+  require(meanD >
+    0, "robustLinearModel requires residuals inside the central region of the ψ function");
+  let varD = 0;
+  for (let i = 0; i < n; i++) varD += (deriv[i] - meanD) * (deriv[i] - meanD);
+  varD /= n - 1;
+  const kappa = 1 + (p * varD) / (n * meanD * meanD);
+  return Math.sqrt(sumPsi2 / df) * (kappa / meanD);
 }
 
 /**
@@ -201,54 +237,11 @@ function weightedSolve(
       }
     }
   }
-  for (let k = 0; k < p; k++) {
-    const off = k * n;
-    let norm2 = 0;
-    for (let i = k; i < n; i++) norm2 += a[off + i] * a[off + i];
-    const norm = Math.sqrt(norm2);
-    if (!(norm > 1e-7 * Math.sqrt(colNorm[k])) || colNorm[k] === 0) {
-      throw new StatsError(
-        colNorm[k] === 0
-          ? `the design is rank deficient: column '${names[k]}' is all zero`
-          : `the design is rank deficient: column '${names[k]}' is a linear combination of the columns before it`,
-      );
-    }
-    const alpha = a[off + k] > 0 ? -norm : norm;
-    a[off + k] -= alpha;
-    const vtv = norm2 - 2 * alpha * (a[off + k] + alpha) + alpha * alpha;
-    beta[k] = vtv > 0 ? 2 / vtv : 0;
-    r[k * p + k] = alpha;
-    for (let j = k + 1; j < p; j++) {
-      const oj = j * n;
-      let s = 0;
-      for (let i = k; i < n; i++) s += a[off + i] * a[oj + i];
-      s *= beta[k];
-      for (let i = k; i < n; i++) a[oj + i] -= s * a[off + i];
-      r[k * p + j] = a[oj + k];
-    }
-  }
-  for (let j = 0; j < p; j++) {
-    rInverse[j * p + j] = 1 / r[j * p + j];
-    for (let i = j - 1; i >= 0; i--) {
-      let s = 0;
-      for (let k = i + 1; k <= j; k++) s += r[i * p + k] * rInverse[k * p + j];
-      rInverse[i * p + j] = -s / r[i * p + i];
-    }
-  }
+  householderColumns(a, n, p, colNorm, names, beta, r);
+  invertUpper(r, p, rInverse);
   // z ← Qᵀ(√w·y)
-  for (let k = 0; k < p; k++) {
-    if (beta[k] === 0) continue;
-    const off = k * n;
-    let s = 0;
-    for (let i = k; i < n; i++) s += a[off + i] * z[i];
-    s *= beta[k];
-    for (let i = k; i < n; i++) z[i] -= s * a[off + i];
-  }
-  for (let i = 0; i < p; i++) {
-    let s = 0;
-    for (let k = i; k < p; k++) s += rInverse[i * p + k] * z[k];
-    coefficients[i] = s;
-  }
+  applyQt(a, beta, n, p, z);
+  multiplyUpper(rInverse, z, p, coefficients);
   for (let i = 0; i < n; i++) {
     let f = 0;
     for (let j = 0; j < p; j++) f += x[i * p + j] * coefficients[j];
@@ -383,24 +376,7 @@ function fitCore(
     0, "robustLinearModel requires residuals that are not mostly zero (the robust scale is 0)");
   // Standard errors (rlm summary, method "XtX").
   const df = n - p;
-  let sumPsi2 = 0;
-  let meanD = 0;
-  const deriv = ws.scratch;
-  for (let i = 0; i < n; i++) {
-    const u = residuals[i] / scale;
-    const w = weightOf(psi, u, tuning);
-    sumPsi2 += residuals[i] * w * (residuals[i] * w);
-    deriv[i] = derivativeOf(psi, u, tuning);
-    meanD += deriv[i];
-  }
-  meanD /= n;
-  require(meanD >
-    0, "robustLinearModel requires residuals inside the central region of the ψ function");
-  let varD = 0;
-  for (let i = 0; i < n; i++) varD += (deriv[i] - meanD) * (deriv[i] - meanD);
-  varD /= n - 1;
-  const kappa = 1 + (p * varD) / (n * meanD * meanD);
-  const stddev = Math.sqrt(sumPsi2 / df) * (kappa / meanD);
+  const stddev = sandwichScale(residuals, n, scale, psi, tuning, p, df, ws.scratch);
   // (XᵀX)⁻¹ = R⁻¹R⁻ᵀ of the unweighted design: its diagonal, as unscaledCovariance sums it.
   const rInv = ws.rInverseX;
   for (let j = 0; j < p; j++) {
@@ -662,24 +638,7 @@ export function robustCoefficientByNormalEquations(
     return robustCoefficient(x, y, j, workspace, options);
   }
   const { residuals, scale, df } = core;
-  let sumPsi2 = 0;
-  let meanD = 0;
-  const deriv = workspace.scratch;
-  for (let i = 0; i < n; i++) {
-    const u = residuals[i] / scale;
-    const w = weightOf(psi, u, tuning);
-    sumPsi2 += residuals[i] * w * (residuals[i] * w);
-    deriv[i] = derivativeOf(psi, u, tuning);
-    meanD += deriv[i];
-  }
-  meanD /= n;
-  require(meanD >
-    0, "robustLinearModel requires residuals inside the central region of the ψ function");
-  let varD = 0;
-  for (let i = 0; i < n; i++) varD += (deriv[i] - meanD) * (deriv[i] - meanD);
-  varD /= n - 1;
-  const kappa = 1 + (p * varD) / (n * meanD * meanD);
-  const stddev = Math.sqrt(sumPsi2 / df) * (kappa / meanD);
+  const stddev = sandwichScale(residuals, n, scale, psi, tuning, p, df, workspace.scratch);
   // [(XᵀX)⁻¹]_jj = Σ_k (L⁻¹)_kj² for XᵀX = LLᵀ.
   const l = workspace.gramFactor;
   const li = workspace.gramFactorInverse;
