@@ -12,7 +12,8 @@ import { useState } from "react";
 import { Pressable, StyleSheet, View } from "react-native";
 import { useRouter } from "expo-router";
 import { Badge, Button, Notice, Txt } from "../ui";
-import { fonts, palette, radius, space, type } from "../theme";
+import { fonts, palette, space, type } from "../theme";
+import { disclosureStyles } from "./disclosure-styles";
 import { methodOf, questionOf, regionsOf } from "./describe-model";
 import {
   nWords,
@@ -287,36 +288,23 @@ export function CircularityCaution({ text }: { text: string }) {
   );
 }
 
-const styles = StyleSheet.create({
-  root: { gap: space.sm },
-  head: {
-    flexDirection: "row",
-    justifyContent: "space-between",
-    alignItems: "center",
-    gap: space.sm,
-  },
-  disclosure: {
-    minHeight: 44,
-    flexDirection: "row",
-    alignItems: "center",
-    justifyContent: "space-between",
-    gap: space.sm,
-    paddingHorizontal: space.md,
-    borderRadius: radius.md,
-    borderWidth: 1,
-    borderColor: palette.line,
-    backgroundColor: palette.canvas,
-  },
-  disclosureText: { fontFamily: fonts.semibold },
-  disclosureHint: { color: palette.focus },
-  pressed: { opacity: 0.7 },
-  list: { gap: space.sm, paddingTop: space.sm },
-  item: { gap: 2, paddingLeft: space.md, borderLeftWidth: 3, borderLeftColor: palette.lineStrong },
-  itemTitle: { fontFamily: fonts.semibold },
-  refit: { gap: 2 },
-  planRow: { flexDirection: "row", alignItems: "center", flexWrap: "wrap", gap: space.sm },
-  link: { minHeight: 44, justifyContent: "center", alignSelf: "flex-start" },
-  linkText: { color: palette.focus, textDecorationLine: "underline", fontSize: type.small },
-  stale: { gap: space.sm },
-  refitButton: { alignSelf: "flex-start" },
-});
+const styles = {
+  ...disclosureStyles,
+  ...StyleSheet.create({
+    root: { gap: space.sm },
+    head: {
+      flexDirection: "row",
+      justifyContent: "space-between",
+      alignItems: "center",
+      gap: space.sm,
+    },
+    disclosureText: { fontFamily: fonts.semibold },
+    disclosureHint: { color: palette.focus },
+    refit: { gap: 2 },
+    planRow: { flexDirection: "row", alignItems: "center", flexWrap: "wrap", gap: space.sm },
+    link: { minHeight: 44, justifyContent: "center", alignSelf: "flex-start" },
+    linkText: { color: palette.focus, textDecorationLine: "underline", fontSize: type.small },
+    stale: { gap: space.sm },
+    refitButton: { alignSelf: "flex-start" },
+  }),
+};

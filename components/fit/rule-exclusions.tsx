@@ -10,7 +10,8 @@ import { Pressable, StyleSheet, View } from "react-native";
 import { ruleText } from "../../contract/exclusion-rules";
 import type { FitRuleExclusionView } from "../../contract/views/fits";
 import { Txt } from "../ui";
-import { fonts, palette, radius, space } from "../theme";
+import { fonts, palette } from "../theme";
+import { disclosureStyles } from "./disclosure-styles";
 
 const people = (n: number) => `${n} participant${n === 1 ? "" : "s"}`;
 
@@ -72,23 +73,10 @@ export function RuleExclusions({ rules }: { rules: readonly FitRuleExclusionView
   );
 }
 
-const styles = StyleSheet.create({
-  disclosure: {
-    minHeight: 44,
-    flexDirection: "row",
-    alignItems: "center",
-    justifyContent: "space-between",
-    gap: space.sm,
-    paddingHorizontal: space.md,
-    borderRadius: radius.md,
-    borderWidth: 1,
-    borderColor: palette.line,
-    backgroundColor: palette.canvas,
-  },
-  title: { fontFamily: fonts.semibold, flexShrink: 1 },
-  hint: { color: palette.focus, flexShrink: 0 },
-  pressed: { opacity: 0.7 },
-  list: { gap: space.sm, paddingTop: space.sm },
-  item: { gap: 2, paddingLeft: space.md, borderLeftWidth: 3, borderLeftColor: palette.lineStrong },
-  itemTitle: { fontFamily: fonts.semibold },
-});
+const styles = {
+  ...disclosureStyles,
+  ...StyleSheet.create({
+    title: { fontFamily: fonts.semibold, flexShrink: 1 },
+    hint: { color: palette.focus, flexShrink: 0 },
+  }),
+};
