@@ -17,9 +17,9 @@
  * not spent computing (wall − chunks × chunk time ÷ workers) and its parts
  * — before the first chunk is stored (queue, planning) less one chunk's
  * kernel time, between chunks (queue, slicing, storage) and after the last
- * part (the merge, storing the result); when the part beside the chunks
- * (the fit before its test: estimates, diagnostics, region rows) was
- * stored; the projected wall time on 10 and 50 workers;
+ * part (the merge, storing the result); when the last part of the regions
+ * before the test (estimates, diagnostics, region rows: parts of 50
+ * regions on the workers' fit threads, beside the chunks) was stored; the projected wall time on 10 and 50 workers;
  * and, in the same run, a plain register-blocked reference loop of the same
  * multiply–adds (two regions × five regressors per pass) with the kernel's
  * share of its speed, on one thread.
@@ -34,7 +34,7 @@ import { count, eq } from "drizzle-orm";
 import { openServerDatabase } from "../../db/client";
 import { migrateDatabase } from "../../db/migrate";
 import { fitChunks, fits, memberships, models, studies, users } from "../../db/schema";
-import { chunkedFit, chunkTask } from "../../server/jobs/fit-chunks";
+import { ROWS_PART_REGIONS, chunkedFit, chunkTask } from "../../server/jobs/fit-chunks";
 import runPermutationTask from "../../server/jobs/permutation-task";
 import { confirmUpload, previewUpload } from "../../server/services/datasets";
 import { buildFitInputs, inputsOfFit } from "../../server/services/fit-inputs";
@@ -278,7 +278,7 @@ export default async function scaleBench(): Promise<void> {
         same: run.result === embedded.result,
         beforeFirst: seconds(firstChunk) - chunkSeconds,
         mergeSeconds: seconds(fitDone.finishedAt ?? undefined) - seconds(parts.at(-1)?.at),
-        beforeTestAt: seconds(parts.find((p) => p.block < 0)?.at),
+        beforeTestAt: seconds(parts.findLast((p) => p.block === -1)?.at),
       });
     }
     const [{ stored }] = await db
@@ -292,7 +292,7 @@ export default async function scaleBench(): Promise<void> {
       const overhead = r.wall - computeSeconds / r.workers;
       const between = overhead - r.beforeFirst - r.mergeSeconds;
       console.log(
-        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s) · the fit before its test stored at ${r.beforeTestAt.toFixed(1)} s · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
+        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
       );
     }
     console.log(`chunk rows stored: ${stored} (each chunk of each run once)`);
@@ -301,12 +301,14 @@ export default async function scaleBench(): Promise<void> {
     const fullChunk = chunkSeconds * FACTOR;
     const first = results[0];
     const fixed = Math.max(0, first.wall - computeSeconds - first.mergeSeconds) / plan.chunks;
-    const beside = first.beforeTestAt * FACTOR;
+    const rowsParts = Math.ceil(REGIONS / ROWS_PART_REGIONS);
     for (const w of [10, 50]) {
       const chunks = Math.ceil(plan.chunks / w) * (fullChunk + fixed);
+      // The 1-worker run computed every part on one fit thread, beside its chunks.
+      const beside = (first.beforeTestAt * FACTOR * Math.ceil(rowsParts / w)) / rowsParts;
       const wall = Math.max(chunks, beside) + first.mergeSeconds;
       console.log(
-        `projected at ${FULL_N.toLocaleString("en")} participants on ${w} workers: ${wall.toFixed(0)} s (${plan.chunks} chunks of ${fullChunk.toFixed(1)} s + ${(fixed * 1000).toFixed(0)} ms each besides: ${chunks.toFixed(0)} s; the fit before its test, one part on one worker, ≤ ${beside.toFixed(0)} s (${FACTOR} × this run's, computed beside chunks); the merge ${first.mergeSeconds.toFixed(1)} s after)`,
+        `projected at ${FULL_N.toLocaleString("en")} participants on ${w} workers: ${wall.toFixed(0)} s (${plan.chunks} chunks of ${fullChunk.toFixed(1)} s + ${(fixed * 1000).toFixed(0)} ms each besides: ${chunks.toFixed(0)} s; the regions before the test, ${rowsParts} parts beside them, ≤ ${beside.toFixed(0)} s from this run's ×${FACTOR}; the merge ${first.mergeSeconds.toFixed(1)} s after)`,
       );
     }
 

@@ -11,11 +11,12 @@
  *   "permutation", estimator "ols", one-sample, two-group or association).
  *   Chunk c is region chunk ⌊c / B⌋ × rearrangement block c mod B, B the
  *   number of rearrangement blocks (server/stats/permutation-kernel.ts);
- *   merged by `finishSplitFit` (`mergeTask`) from the fit before its test,
- *   which is computed beside the chunks (`runFitBeforeTest`: estimates,
- *   diagnostics, the test's observed statistics), so that after the last
- *   chunk only the counts are added; without it, by `runFit` with
- *   `mergedLinearPermutationTest` (RunFitOptions.linearPermutation).
+ *   merged by `finishSplitFit` (`mergeTask`) from the split test its plan
+ *   prepares (`prepareSplitTest`: the test's observed statistics) and the
+ *   regions before the test, computed beside the chunks
+ *   (`runRegionsBeforeTest`: estimates, diagnostics; see `rowsParts`), so
+ *   that after the last chunk only the counts are added; without them, by
+ *   `runFit` with `mergedLinearPermutationTest` (RunFitOptions.linearPermutation).
  * - "curve": the joint test of a specification curve. Chunk c is null
  *   block c (`curveNullBlock`, CURVE_BLOCK_DRAWS draws from its own
  *   stream); merged by concatenating blocks in order (RunFitOptions.curveNulls).
@@ -33,17 +34,14 @@
  */
 import { deserialize, serialize } from "node:v8";
 import type { FitData, ModelSpec } from "../../contract/spec";
-import { type RunFitOptions, inRegion } from "../stats/fit/common";
-import { estimateRegionWork } from "../stats/fit/estimate";
-import { linearPermutationInput } from "../stats/fit/infer";
+import type { RunFitOptions } from "../stats/fit/common";
 import { prepare } from "../stats/fit/prepare";
 import { predictionModel } from "../stats/fit/prediction";
 import { CURVE_BLOCK_DRAWS } from "../stats/fit/specification-curve";
-import type { QrDecomposition } from "../stats/linear-model";
-import type { FitBeforeTest } from "../stats/run-fit";
+import { type SplitTest, prepareSplitTest } from "../stats/run-fit";
+import type { RegionResult } from "../../contract/spec";
 import {
   mergedLinearPermutationTest,
-  prepareSharedLinearPermutation,
   type RearrangementChunk,
   type SharedLinearPermutationSetup,
 } from "../stats/permutation";
@@ -68,6 +66,8 @@ import type { PermutationTask } from "./permutation-task";
 /** A fit whose permutation test is split: its prepared test and the chunk grid. */
 export interface ChunkedFit {
   kind: "permutation";
+  /** what the merge needs of the test besides the chunks and the regions before it */
+  split: SplitTest;
   setup: SharedLinearPermutationSetup;
   seed: number;
   maxT: boolean;
@@ -169,17 +169,12 @@ function curveData(spec: ModelSpec, data: FitData): FitData {
  */
 export function chunkedFit(spec: ModelSpec, data: FitData): ChunkedFit | null {
   if (chunkKind(spec) !== "permutation") return null;
-  const prep = prepare(spec, data);
-  const qrCache = new Map<string, QrDecomposition>();
-  const works = prep.regionIndex.map((r) =>
-    inRegion(data.regions[r], () => estimateRegionWork(prep, r, qrCache)),
-  );
-  const { input } = linearPermutationInput(prep, works);
-  const setup = prepareSharedLinearPermutation(input);
+  const { split, input, setup } = prepareSplitTest(spec, data);
   const chunksOfRegions = regionChunks(setup.observed.length);
   const blocks = rearrangementBlocks(rearrangementsOf(setup.draw)).length;
   return {
     kind: "permutation",
+    split,
     setup,
     seed: spec.seed,
     maxT: input.maxT === true,
@@ -376,16 +371,22 @@ function decodeCurveChunk(row: StoredChunk): CurveStatistics[] {
 
 /**
  * Every chunk of a split fit, as the merging party hands them to its thread
- * (structured-clone-able): to `runFit`, or, for a permutation test with
- * `before` (the fit before its test, computed beside the chunks), to
- * `finishSplitFit` (`mergeTask`).
+ * (structured-clone-able): to `runFit`, or, for a permutation test whose
+ * split test and regions before the test are at hand (computed beside the
+ * chunks), to `finishSplitFit` (`mergeTask`).
  */
 export type MergedChunks =
-  | { kind: "permutation"; chunks: RearrangementChunk[]; before?: FitBeforeTest }
+  | {
+      kind: "permutation";
+      chunks: RearrangementChunk[];
+      split?: SplitTest;
+      /** every region's result before the test, in the fit's region order */
+      regions?: RegionResult[];
+    }
   | { kind: "curve"; nulls: CurveStatistics[] }
   | { kind: "prediction"; partials: PredictionPartial[] };
 
-/** The merged chunks of a fit of kind `kind` from its results, chunk c at place c. */
+/** The merged chunks of a fit of kind `kind` from its results, chunk c at place c (a permutation test with its split test). */
 export function mergedChunks(fit: FitChunks, results: readonly ChunkResult[]): MergedChunks {
   if (results.length !== fit.chunks)
     throw new Error(`fit chunks: ${results.length} results for ${fit.chunks} chunks`);
@@ -401,6 +402,7 @@ export function mergedChunks(fit: FitChunks, results: readonly ChunkResult[]): M
     };
   return {
     kind: "permutation",
+    split: fit.split,
     chunks: results.map((r, c) => {
       if (r.kind !== "permutation")
         throw new Error("fit chunks: a curve result for a permutation fit");
@@ -409,36 +411,77 @@ export function mergedChunks(fit: FitChunks, results: readonly ChunkResult[]): M
   };
 }
 
-/**
- * Worker processes store the region rows of a split permutation test
- * (per-participant diagnostics and plots, which do not depend on the test)
- * while its chunks are computed, with the rest of the fit before its test
- * (`runFitBeforeTest`: each region's estimate and diagnostics, the test's
- * observed statistics), so the merge only adds counts and stores the
- * summary: the fit then has one more part than chunks, recorded like a
- * chunk (number `fit.chunks`, block −1, the fit before its test in
- * `counts`) once its rows are stored.
- */
-export function hasRowsPart(fit: FitChunks): boolean {
-  return fit.kind === "permutation";
+/** Regions per part of a split permutation test's regions before the test. */
+export const ROWS_PART_REGIONS = 50;
+
+/** One part of a split permutation test's regions before the test: regions from … to − 1, stored as chunk `chunk`. */
+export interface RowsPart {
+  chunk: number;
+  from: number;
+  to: number;
 }
 
-/** Parts of a fit a worker process waits for before the merge: its chunks, and its region rows where stored apart. */
+/**
+ * Worker processes compute a split permutation test's regions before the
+ * test — each region's estimate and diagnostics, its participants' rows
+ * and plots, none of which depend on the test (`runRegionsBeforeTest`) —
+ * in parts of ROWS_PART_REGIONS regions beside its chunks, any worker any
+ * part, each stored like a chunk (numbers `fit.chunks` …, block −1, from
+ * its first region, the regions' results in `counts`) once its rows are
+ * stored; the planner stores the split test (block −2, after them). The
+ * merge then only adds counts and stores the summary. None for other fits.
+ */
+export function rowsParts(fit: FitChunks): RowsPart[] {
+  if (fit.kind !== "permutation") return [];
+  const regions = fit.setup.observed.length;
+  const parts: RowsPart[] = [];
+  for (let from = 0; from < regions; from += ROWS_PART_REGIONS)
+    parts.push({
+      chunk: fit.chunks + parts.length,
+      from,
+      to: Math.min(regions, from + ROWS_PART_REGIONS),
+    });
+  return parts;
+}
+
+/** Parts of a fit a worker process waits for before the merge: its chunks, and a permutation test's regions before the test and split test. */
 export function partCount(fit: FitChunks): number {
-  return fit.chunks + (hasRowsPart(fit) ? 1 : 0);
+  const rows = rowsParts(fit).length;
+  return fit.chunks + rows + (rows > 0 ? 1 : 0);
 }
 
-/**
- * The stored mark of a fit's region rows (see `hasRowsPart`), with the fit
- * before its test in `counts` (the structured clone serialization,
- * node:v8, exact for numbers and typed arrays). Cost O(regions).
- */
-export function rowsMark(fit: FitChunks, before: FitBeforeTest): StoredChunk {
+/** The structured clone serialization (node:v8, exact for numbers and typed arrays) as text. */
+function serialized(value: unknown): string {
+  return serialize(value).toString("base64");
+}
+
+function deserialized<T>(text: string): T {
+  return deserialize(Buffer.from(text, "base64")) as T;
+}
+
+/** The stored mark of a part of regions before the test (see `rowsParts`), with their results. Cost O(regions of the part). */
+export function rowsMark(part: RowsPart, regions: readonly RegionResult[]): StoredChunk {
+  if (regions.length !== part.to - part.from)
+    throw new Error(`fit chunks: ${regions.length} regions for part ${part.from}–${part.to}`);
   return {
-    chunk: fit.chunks,
-    regionFrom: 0,
+    chunk: part.chunk,
+    regionFrom: part.from,
     block: -1,
-    counts: serialize(before).toString("base64"),
+    counts: serialized(regions),
+    maxAbs: null,
+    nulls: null,
+    exact: false,
+    rearrangements: 0,
+  };
+}
+
+/** The stored split test of a permutation test (see `rowsParts`). */
+export function splitMark(fit: ChunkedFit): StoredChunk {
+  return {
+    chunk: partCount(fit) - 1,
+    regionFrom: 0,
+    block: -2,
+    counts: serialized(fit.split),
     maxAbs: null,
     nulls: null,
     exact: false,
@@ -448,8 +491,8 @@ export function rowsMark(fit: FitChunks, before: FitBeforeTest): StoredChunk {
 
 /**
  * The merged chunks of a fit of kind `kind` from its stored rows (any
- * order), with the fit before its test from the rows mark when it holds
- * one (a mark stored without it, by an earlier version, is left out).
+ * order); for a permutation test, with its split test and regions before
+ * the test when every part is stored with them (else the merge runs `runFit`).
  */
 export function mergedOfStored(
   kind: FitChunks["kind"],
@@ -460,26 +503,30 @@ export function mergedOfStored(
   if (kind === "prediction")
     return {
       kind,
-      partials: sorted.flatMap(
-        (row) => deserialize(Buffer.from(row.counts, "base64")) as PredictionPartial[],
-      ),
+      partials: sorted.flatMap((row) => deserialized<PredictionPartial[]>(row.counts)),
     };
-  const mark = rows.find((r) => r.block < 0 && r.counts !== "");
-  return {
-    kind,
-    chunks: sorted.map(decodeChunk),
-    ...(mark ? { before: deserialize(Buffer.from(mark.counts, "base64")) as FitBeforeTest } : {}),
-  };
+  const chunks = sorted.map(decodeChunk);
+  const splitRow = rows.find((r) => r.block === -2);
+  const parts = rows.filter((r) => r.block === -1).sort((a, b) => a.regionFrom - b.regionFrom);
+  if (!splitRow || parts.length === 0 || parts.some((r) => r.counts === ""))
+    return { kind, chunks };
+  const split = deserialized<SplitTest>(splitRow.counts);
+  const regions = parts.flatMap((r) => deserialized<RegionResult[]>(r.counts));
+  return { kind, chunks, split, regions };
 }
 
 /**
- * The merge of a split permutation test whose fit before its test is at
- * hand, as a chunk thread runs it (chunk-task.ts), or null when the merge
- * needs `runFit` (the fit's data) instead (`mergeOptions`).
+ * The merge of a split permutation test whose split test and regions
+ * before the test are at hand, as a chunk thread runs it (chunk-task.ts),
+ * or null when the merge needs `runFit` (the fit's data) instead (`mergeOptions`).
  */
 export function mergeTask(merged: MergedChunks): ChunkTask | null {
-  if (merged.kind !== "permutation" || !merged.before) return null;
-  return { type: "merge", before: merged.before, chunks: merged.chunks };
+  if (merged.kind !== "permutation" || !merged.split || !merged.regions) return null;
+  return {
+    type: "merge",
+    before: { ...merged.split, regions: merged.regions },
+    chunks: merged.chunks,
+  };
 }
 
 /**

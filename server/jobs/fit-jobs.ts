@@ -11,9 +11,10 @@
  * first in line), which also plans it; its fit thread then merges them
  * (`FitTask.merged`) — the numbers of the fit computed in one piece. A
  * permutation test's region rows and estimates do not depend on the test:
- * the fit thread computes the fit before its test (`runFitBeforeTest`) and
- * stores its rows while the chunks run, and a chunk thread then merges the
- * chunks into it (`mergeTask`: counts, p-values, the correction over regions).
+ * the fit thread computes the regions before the test (`runRegionsBeforeTest`)
+ * and stores their rows while the chunks run, and a chunk thread then merges
+ * the chunks into them and the plan's split test (`mergeTask`: counts,
+ * p-values, the correction over regions).
  * Progress: the chunk share done is the first 90 %.
  * The main thread alone reads and writes the database (one process owns
  * it), always through the `FitJobStore` it is given (services/fit-store.ts
@@ -550,13 +551,13 @@ export class FitJobs {
         if (rowsDone && !rowsDone.ok) return await failed(rowsDone.code, rowsDone.message);
         rowsStored = rowsDone !== null;
         merged = chunked;
-        if (merged?.kind === "permutation" && rowsDone?.before)
-          merged = { ...merged, before: rowsDone.before };
+        if (merged?.kind === "permutation" && rowsDone?.regionsBeforeTest)
+          merged = { ...merged, regions: rowsDone.regionsBeforeTest };
         run.span = merged ? { from: CHUNK_SHARE, span: 1 - CHUNK_SHARE } : { from: 0, span: 1 };
       }
       const merge = merged ? mergeTask(merged) : null;
       if (merge && merged) {
-        // The fit before its test is at hand: a chunk thread adds the counts (no data, no rows).
+        // The split test and the regions before it are at hand: a chunk thread adds the counts (no data, no rows).
         let outcome: ChunkTaskOutcome<FitSummary>;
         try {
           outcome = await this.runChunkTask<FitSummary>(

@@ -20,11 +20,17 @@
  * in a worker process (`fullPriority`), which serves no requests.
  */
 import type { MessagePort } from "node:worker_threads";
-import type { FitData, FitResult, ModelSpec, ParticipantDiagnostics } from "../../contract/spec";
+import type {
+  FitData,
+  FitResult,
+  ModelSpec,
+  ParticipantDiagnostics,
+  RegionResult,
+} from "../../contract/spec";
 import { StatsError } from "../stats/errors";
 import type { RegionPlot } from "../../contract/views/fits";
 import { regionPlot } from "../stats/region-plot";
-import { FIT_LEVEL, type FitBeforeTest, runFit, runFitBeforeTest } from "../stats/run-fit";
+import { FIT_LEVEL, runFit, runRegionsBeforeTest } from "../stats/run-fit";
 import { type MergedChunks, mergeOptions } from "./fit-chunks";
 import { encodeRegionRows } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
@@ -41,14 +47,16 @@ export interface FitTask {
   merged?: MergedChunks;
   /**
    * Region rows (default "all"): "only", for a split least-squares
-   * permutation test, computes the fit before its test (`runFitBeforeTest`:
-   * the per-participant diagnostics and plots of every region, which do not
-   * depend on the test, and the regions' estimates), so the rows are stored
-   * while the chunks are computed and the outcome's `before` is all the
-   * merge needs besides them (the summary returned is then of no use);
-   * "skip" sends none.
+   * permutation test, computes its regions before the test
+   * (`runRegionsBeforeTest`: the per-participant diagnostics and plots,
+   * which do not depend on the test, and the regions' estimates), so the
+   * rows are stored while the chunks are computed and the outcome's
+   * `regionsBeforeTest` is what the merge needs of the regions (the summary
+   * returned is then of no use); "skip" sends none.
    */
   rows?: "all" | "only" | "skip";
+  /** With rows "only": just the regions at positions from … to − 1 of the fit's regions (a worker process's part). */
+  regionRange?: [number, number];
   /** A worker process (no requests to serve): keep the thread at normal priority. */
   fullPriority?: boolean;
 }
@@ -68,7 +76,12 @@ export type FitTaskMessage =
   | { type: "regions-done"; count: number };
 
 export type FitTaskOutcome =
-  | { ok: true; summary: Omit<FitResult, "participants">; before?: FitBeforeTest }
+  | {
+      ok: true;
+      summary: Omit<FitResult, "participants">;
+      /** rows "only": the regions' results before the test */
+      regionsBeforeTest?: RegionResult[];
+    }
   | { ok: false; code: string; message: string };
 
 export default function runFitTask(task: FitTask): FitTaskOutcome {
@@ -89,12 +102,12 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
       post({ type: "progress", fraction });
     };
     let result: FitResult;
-    let before: FitBeforeTest | undefined;
+    let regionsBeforeTest: RegionResult[] | undefined;
     if (task.rows === "only") {
-      // Diagnostics and plots do not read the test: the region rows of the fit before its test are those of the fit.
-      const split = runFitBeforeTest(task.spec, task.data, { onProgress });
-      before = split.before;
-      result = { regions: before.regions, participants: split.participants, notes: [] };
+      // Diagnostics and plots do not read the test: the region rows before the test are those of the fit.
+      const before = runRegionsBeforeTest(task.spec, task.data, { onProgress }, task.regionRange);
+      regionsBeforeTest = before.regions;
+      result = { regions: before.regions, participants: before.participants, notes: [] };
     } else {
       result = runFit(task.spec, task.data, {
         ...(task.merged ? mergeOptions(task.merged) : {}),
@@ -112,7 +125,9 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
       post({ type: "regions-done", count: 0 });
       return { ok: true, summary };
     }
-    result.regions.forEach(({ region }, position) => {
+    const first = task.regionRange?.[0] ?? 0;
+    result.regions.forEach(({ region }, k) => {
+      const position = first + k;
       const rows = byRegion.get(region) ?? [];
       let plot: RegionPlot | { error: string } | null = null;
       if (rows.length > 0) {
@@ -138,7 +153,7 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
       });
     });
     post({ type: "regions-done", count: result.regions.length });
-    return { ok: true, summary, ...(before ? { before } : {}) };
+    return { ok: true, summary, ...(regionsBeforeTest ? { regionsBeforeTest } : {}) };
   } catch (e) {
     if (e instanceof StatsError) return { ok: false, code: e.code, message: e.message };
     throw e;

@@ -14,7 +14,7 @@
  * their events travel on a database channel (`fitEvents`), so a fit's
  * live events reach every process on a PostgreSQL server.
  */
-import { and, eq, inArray, sql } from "drizzle-orm";
+import { and, eq, gte, inArray, lt, sql } from "drizzle-orm";
 import { type Channel, channel, type Database, type Queryable } from "../../db/client";
 import { type Fit, fitRegions, fits } from "../../db/schema";
 import {
@@ -94,6 +94,19 @@ export class FitStore implements FitJobStore {
 
   async clearRegionRows(fitId: string): Promise<void> {
     await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
+  }
+
+  /** Removes the region rows at positions from … to − 1 (a part of a split fit computed again). */
+  async clearRegionRowsIn(fitId: string, from: number, to: number): Promise<void> {
+    await this.db
+      .delete(fitRegions)
+      .where(
+        and(
+          eq(fitRegions.fitId, fitId),
+          gte(fitRegions.position, from),
+          lt(fitRegions.position, to),
+        ),
+      );
   }
 
   async storeRegionRow(fitId: string, row: RegionRowInput): Promise<void> {

@@ -187,69 +187,101 @@ function summaryOf(
 }
 
 /**
- * A fit whose least-squares permutation test is split into chunks
- * (server/jobs/fit-chunks.ts), before its test: everything `runFit`
- * computes that the test does not change — each region's estimate and
- * diagnostics, the participants' rows — and the test's basis. Computed
- * beside the chunks; `finishSplitFit` then needs only the chunks.
- * Structured-clone-able (threads; stored by worker processes).
+ * The test of a fit whose least-squares permutation test is split into
+ * chunks (server/jobs/fit-chunks.ts), as its plan prepares it: the model
+ * as the fit reads it (defaults filled in), the test's basis, the
+ * participants the model's rules left out. Structured-clone-able.
  */
-export interface FitBeforeTest {
-  /** the model as the fit reads it (defaults filled in) */
+export interface SplitTest {
   spec: ModelSpec;
-  /** every region's result before the test, in the fit's region order */
-  regions: RegionResult[];
   test: LinearTestBasis;
   ruleExclusions: ReturnType<typeof ruleExclusionsOf>;
 }
 
 /**
- * The stages of `runFit` before the test of a least-squares permutation
- * fit (one-sample, two-group or association with estimator "ols"): its
- * participants' rows and what `finishSplitFit` needs. Throws StatsError as
- * `runFit` does for the same model and data. Cost: `runFit` without its
- * rearrangements — per region O(n·p²), plus the test's observed statistics.
+ * Such a fit before its test: its split test and every region's result as
+ * `runFit` has it before the test (estimate and diagnostics), in the fit's
+ * region order. `finishSplitFit` needs nothing else besides the chunks.
  */
-export function runFitBeforeTest(
+export interface FitBeforeTest extends SplitTest {
+  regions: RegionResult[];
+}
+
+/**
+ * The split test of a least-squares permutation fit (one-sample,
+ * two-group or association with estimator "ols"), with the test's input
+ * and setup that chunks are computed from. Throws StatsError as `runFit`
+ * does for the same model and data. Cost: the estimate stage,
+ * O(regions·n·p²), and the test's observed statistics.
+ */
+export function prepareSplitTest(
+  spec: ModelSpec,
+  data: FitData,
+): { split: SplitTest } & Omit<ReturnType<typeof linearTestBasis>, "basis"> {
+  const prep = prepare(spec, data);
+  checkSplit(prep.spec);
+  const qrCache = new Map<string, QrDecomposition>();
+  const works = prep.regionIndex.map((r) =>
+    inRegion(data.regions[r], () => estimateRegionWork(prep, r, qrCache)),
+  );
+  const { basis, input, setup } = linearTestBasis(prep, works);
+  return {
+    split: { spec: prep.spec, test: basis, ruleExclusions: ruleExclusionsOf(prep) },
+    input,
+    setup,
+  };
+}
+
+/**
+ * The stages of `runFit` before the test of a least-squares permutation
+ * fit, for the regions at positions from … to − 1 of the fit's regions
+ * (default all): their results before the test and their participants'
+ * rows, the same whatever the range. Throws StatsError as `runFit` does
+ * for the same model and data. Cost: per region O(n·p²).
+ */
+export function runRegionsBeforeTest(
   spec: ModelSpec,
   data: FitData,
   options: RunFitOptions = {},
-): { before: FitBeforeTest; participants: ParticipantDiagnostics[] } {
+  range?: readonly [number, number],
+): { regions: RegionResult[]; participants: ParticipantDiagnostics[] } {
   const prep = prepare(spec, data);
-  const s = prep.spec;
-  if (s.inference !== "permutation" || s.estimator !== "ols" || !isLinearKind(s.kind))
-    throw new StatsError(
-      "a fit is split before its test only for a least-squares permutation test",
-    );
+  checkSplit(prep.spec);
+  if (range) prep.regionIndex = prep.regionIndex.slice(range[0], range[1]);
   const { works, participants } = estimateAndDiagnose(prep, options);
   assertFinite({ participants }, "result");
-  const before: FitBeforeTest = {
-    spec: s,
-    regions: works.map((w) => w.result),
-    test: linearTestBasis(prep, works),
-    ruleExclusions: ruleExclusionsOf(prep),
-  };
-  return { before, participants };
+  return { regions: works.map((w) => w.result), participants };
 }
 
 /**
  * The result of a split least-squares permutation fit without its
- * participants' rows (which `runFitBeforeTest` gave), from the fit before
- * its test and its merged chunks: what `runFit` gives, number for number.
- * Cost O(regions × rearrangements): the merge, the p-values and null
- * histograms, the correction over regions. Consumes `before` (its region
- * results become the result's).
+ * participants' rows (which `runRegionsBeforeTest` gave), from the fit
+ * before its test and its merged chunks: what `runFit` gives, number for
+ * number. Cost O(regions × rearrangements): the merge, the p-values and
+ * null histograms, the correction over regions. Consumes `before` (its
+ * region results become the result's).
  */
 export function finishSplitFit(
   before: FitBeforeTest,
   chunks: readonly RearrangementChunk[],
 ): FitSummary {
   const s = before.spec;
+  if (before.regions.length !== before.test.observed.length)
+    throw new StatsError(
+      `a split fit has ${before.regions.length} regions before its test of ${before.test.observed.length}`,
+    );
   const notes: string[] = [];
   mergedPermutationPass(s, before.regions, before.test, chunks, notes);
   const summary = summaryOf(s, before.regions, notes, before.ruleExclusions);
   assertFinite(summary, "result");
   return summary;
+}
+
+function checkSplit(s: ModelSpec): void {
+  if (s.inference !== "permutation" || s.estimator !== "ols" || !isLinearKind(s.kind))
+    throw new StatsError(
+      "a fit is split before its test only for a least-squares permutation test",
+    );
 }
 
 function isLinearKind(kind: ModelSpec["kind"]): boolean {

@@ -1,31 +1,35 @@
 /**
  * A worker process's work (`npm run worker`, server/worker/index.ts): takes
- * jobs from the three fit queues (server/worker/queue.ts) on the PostgreSQL
+ * jobs from the four fit queues (server/worker/queue.ts) on the PostgreSQL
  * server and computes them in worker threads, so its main thread stays free
  * for the queue, the heartbeat and watching for cancels.
  *
  * - `fit`: a queued fit becomes running. A split fit (server/jobs/
  *   fit-chunks.ts) records its number of parts and sends one `fit-chunk`
- *   job per chunk; a split permutation test's region rows (diagnostics and
- *   plots, which do not depend on the test) and the rest of the fit before
- *   its test (`runFitBeforeTest`) are then computed here on the fit thread
- *   while the chunk threads compute chunks, and stored as its last part.
- *   Any other fit is computed whole here, as the embedded path computes it
- *   (server/jobs/fit-task.ts).
+ *   job per chunk; a split permutation test also stores its split test
+ *   (the test's observed statistics, a part) and sends one `fit-rows` job
+ *   per part of its regions. Any other fit is computed whole here, as the
+ *   embedded path computes it (server/jobs/fit-task.ts).
+ * - `fit-rows`: a part of a split permutation test's regions before the
+ *   test (`runRegionsBeforeTest`: estimates, diagnostics, rows and plots,
+ *   which do not depend on the test), computed on the fit thread while the
+ *   chunk thread computes chunks; its rows and then its mark (with the
+ *   regions' results) are stored once, as a part.
  * - `fit-chunk`: computes one chunk and stores it once (a chunk already
  *   stored is not computed again and adds nothing); progress is the share
- *   of chunks stored. The one that stores the last chunk sends `fit-merge`.
+ *   of parts stored. The one that stores the last part sends `fit-merge`
+ *   (and takes it at once).
  *   While it computes, the fit's status is read every second: a fit that is
  *   no longer running (cancelled) drops the chunk. A chunk that fails on its
  *   last try fails the fit with the error.
  * - `fit-merge`: under the fit's merge lock (one party at a time, and a
- *   fit merged once), merges the stored chunks into the stored fit before
- *   its test on a chunk thread (`mergeTask`: counts, p-values, the
- *   correction over regions; no data read) — or, for a curve, a prediction
- *   or a part stored without it, runs `runFit` with the chunks in place of
- *   the test — and stores the result (and the region rows unless already
- *   stored) through the fit store (services/fit-store.ts), as the embedded
- *   path does.
+ *   fit merged once), merges the stored chunks into the stored split test
+ *   and regions before the test on a chunk thread (`mergeTask`: counts,
+ *   p-values, the correction over regions; no data read) — or, for a curve,
+ *   a prediction or parts stored without their results, runs `runFit` with
+ *   the chunks in place of the test — and stores the result (and the region
+ *   rows unless already stored) through the fit store
+ *   (services/fit-store.ts), as the embedded path does.
  *
  * A fit that fails, or a job that finds its fit cancelled, removes the
  * fit's region rows (they may have been stored before the chunks were all in).
@@ -39,7 +43,7 @@ import { MessageChannel } from "node:worker_threads";
 import type PgBoss from "pg-boss";
 import type { Piscina } from "piscina";
 import { specOfRecipe } from "../../contract/recipe";
-import type { FitData, ModelSpec } from "../../contract/spec";
+import type { FitData, ModelSpec, RegionResult } from "../../contract/spec";
 import type { Database } from "../../db/client";
 import { IntakeError } from "../intake/errors";
 import {
@@ -49,12 +53,14 @@ import {
   encodeChunk,
   type FitChunks,
   fitChunks,
-  hasRowsPart,
   type MergedChunks,
   mergedOfStored,
   mergeTask,
   partCount,
+  type RowsPart,
   rowsMark,
+  rowsParts,
+  splitMark,
   transferablesOf,
 } from "../jobs/fit-chunks";
 import type { ChunkTask, ChunkTaskOutcome } from "../jobs/chunk-task";
@@ -65,7 +71,7 @@ import { workerPool } from "../jobs/worker-pool";
 import { FitDataCache, inputsOfFit } from "../services/fit-inputs";
 import { FitStore, fitEvents } from "../services/fit-store";
 import { StatsError } from "../stats/errors";
-import type { FitBeforeTest, FitSummary } from "../stats/run-fit";
+import type { FitSummary } from "../stats/run-fit";
 import {
   beat,
   fitRow,
@@ -85,6 +91,8 @@ import {
   FIT_QUEUE,
   type FitJobData,
   MERGE_QUEUE,
+  ROWS_QUEUE,
+  type RowsJobData,
   startQueue,
 } from "./queue";
 
@@ -159,6 +167,7 @@ export class FitWorker {
     this.boss = boss;
     await this.serve<FitJobData>(boss, FIT_QUEUE, (job) => this.planFit(job));
     await this.serve<ChunkJobData>(boss, CHUNK_QUEUE, (job) => this.computeChunk(job));
+    await this.serve<RowsJobData>(boss, ROWS_QUEUE, (job) => this.computeRows(job));
     await this.serve<FitJobData>(boss, MERGE_QUEUE, (job) => this.merge(job.data.fitId));
   }
 
@@ -273,41 +282,49 @@ export class FitWorker {
     }
     this.plans.set(fitId, Promise.resolve(plan));
     await recordPlan(this.db, fitId, partCount(plan), startedAt);
+    const parts = rowsParts(plan);
+    if (plan.kind === "permutation")
+      await storeChunk(this.db, fitId, splitMark(plan), this.id, new Date());
     const boss = this.boss as PgBoss;
-    await boss.insert(
-      Array.from({ length: plan.chunks }, (_, chunk) => ({
+    await boss.insert([
+      ...Array.from({ length: plan.chunks }, (_, chunk) => ({
         name: CHUNK_QUEUE,
         data: { fitId, chunk } satisfies ChunkJobData,
       })),
-    );
+      ...parts.map((part) => ({
+        name: ROWS_QUEUE,
+        data: { fitId, ...part } satisfies RowsJobData,
+      })),
+    ]);
     this.wake(CHUNK_QUEUE);
-    if (hasRowsPart(plan)) await this.storeRows(fitId, inputs, plan);
+    this.wake(ROWS_QUEUE);
   }
 
   /**
-   * A split permutation test's region rows, computed on the fit thread and
-   * stored while chunks are computed; then its mark, counted as a part. A
-   * fit no longer running (cancelled) drops them.
+   * `fit-rows` job: a part of a split permutation test's regions before the
+   * test (their rows and results, fit-chunks.ts `rowsParts`), computed on
+   * the fit thread while chunk threads compute chunks, stored once with
+   * its mark, counted as a part. A fit no longer running (cancelled) drops it.
    */
-  private async storeRows(
-    fitId: string,
-    inputs: { spec: ModelSpec; data: FitData },
-    plan: FitChunks,
-  ): Promise<void> {
-    const stored = await this.computeFit(fitId, inputs, null, new Date(), "only");
-    if (!stored?.before) return;
-    if ((await fitStatus(this.db, fitId)) !== "running") {
-      await this.dropped(fitId);
-      return;
+  private async computeRows(job: PgBoss.JobWithMetadata<RowsJobData>): Promise<void> {
+    const { fitId, chunk, from, to } = job.data;
+    const row = await fitRow(this.db, fitId);
+    if (row?.status !== "running") return await this.dropped(fitId);
+    const plan = await planOf(this.db, fitId);
+    if (!plan) throw new Error(`fit ${fitId} has no plan`);
+    if (await hasChunk(this.db, fitId, chunk)) {
+      const stored = await storedChunks(this.db, fitId);
+      return await this.reportChunks(fitId, stored.length, plan.chunks);
     }
-    const done = await storeChunk(
-      this.db,
-      fitId,
-      rowsMark(plan, stored.before),
-      this.id,
-      new Date(),
-    );
-    await this.reportChunks(fitId, done, partCount(plan));
+    const inputs = await this.inputsOf(fitId, row);
+    if (!inputs) return;
+    const part = { chunk, from, to };
+    const stored = await this.computeFit(fitId, inputs, null, new Date(), "only", part);
+    if (!stored?.regionsBeforeTest) return;
+    if ((await fitStatus(this.db, fitId)) !== "running") return await this.dropped(fitId);
+    const mark = rowsMark(part, stored.regionsBeforeTest);
+    const done = await storeChunk(this.db, fitId, mark, this.id, new Date());
+    await this.reportChunks(fitId, done, plan.chunks);
   }
 
   /** A job found its fit no longer running: a cancelled or failed fit keeps no region rows. */
@@ -502,8 +519,15 @@ export class FitWorker {
     merged: MergedChunks | null,
     startedAt: Date,
     rows: "all" | "only" | "skip" = "all",
-  ): Promise<{ before?: FitBeforeTest } | null> {
-    if (rows !== "skip") await this.store.clearRegionRows(fitId);
+    part?: RowsPart,
+  ): Promise<{ regionsBeforeTest?: RegionResult[] } | null> {
+    // Rows left by an earlier try are replaced: a part's own, or the whole fit's.
+    const clearRows = async () => {
+      if (!part) await this.store.clearRegionRows(fitId);
+      else if (!(await hasChunk(this.db, fitId, part.chunk)))
+        await this.store.clearRegionRowsIn(fitId, part.from, part.to);
+    };
+    if (rows !== "skip") await clearRows();
     const channel = new MessageChannel();
     let storing: Promise<void> = Promise.resolve();
     let lastProgress = 0;
@@ -541,6 +565,7 @@ export class FitWorker {
       rows,
       fullPriority: true,
       ...(merged ? { merged } : {}),
+      ...(part ? { regionRange: [part.from, part.to] as [number, number] } : {}),
     };
     const controller = new AbortController();
     let outcome: FitTaskOutcome;
@@ -560,8 +585,11 @@ export class FitWorker {
     } catch (error) {
       channel.port1.close();
       await storing.catch(() => {});
-      await this.store.clearRegionRows(fitId);
-      if (controller.signal.aborted) return null; // cancelled: already marked
+      if (controller.signal.aborted) {
+        await this.store.clearRegionRows(fitId);
+        return null; // cancelled: already marked
+      }
+      await clearRows();
       throw error;
     }
     channel.port1.close();
@@ -569,7 +597,7 @@ export class FitWorker {
       await this.fail(fitId, outcome.code, outcome.message);
       return null;
     }
-    if (rows === "only") return { before: outcome.before };
+    if (rows === "only") return { regionsBeforeTest: outcome.regionsBeforeTest };
     return (await this.storeResult(fitId, outcome.summary, startedAt)) ? {} : null;
   }
 }

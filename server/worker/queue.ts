@@ -1,12 +1,15 @@
 /**
  * The job queue of fits on a PostgreSQL server: pg-boss 10 on Covarion's own
  * database (its tables in the `pgboss` schema), reached through the
- * database's connection pool. Three queues:
+ * database's connection pool. Four queues:
  *
  * - `fit` { fitId }: a queued fit. A worker plans it: a fit whose
  *   permutation test is split (server/jobs/fit-chunks.ts) gets one
  *   `fit-chunk` job per chunk; any other fit is computed whole there.
  * - `fit-chunk` { fitId, chunk }: one chunk; its result is written once.
+ * - `fit-rows` { fitId, chunk, from, to }: a split permutation test's
+ *   regions from … to − 1 before the test (rows and results), stored once
+ *   as part `chunk` (server/jobs/fit-chunks.ts `rowsParts`).
  * - `fit-merge` { fitId }: all chunks are in; one party merges and stores.
  *
  * A job a worker does not finish within its lease (`leaseSeconds`: the
@@ -19,6 +22,7 @@ import { type Database, driverOf } from "../../db/client";
 export const FIT_QUEUE = "fit";
 export const CHUNK_QUEUE = "fit-chunk";
 export const MERGE_QUEUE = "fit-merge";
+export const ROWS_QUEUE = "fit-rows";
 
 export interface FitJobData {
   fitId: string;
@@ -27,6 +31,14 @@ export interface FitJobData {
 export interface ChunkJobData {
   fitId: string;
   chunk: number;
+}
+
+export interface RowsJobData {
+  fitId: string;
+  /** the part's number among the fit's stored parts */
+  chunk: number;
+  from: number;
+  to: number;
 }
 
 export interface QueueOptions {
@@ -40,7 +52,7 @@ export interface QueueOptions {
   supervise: boolean;
 }
 
-/** Starts pg-boss on the server database `db` (creating its tables and the three queues when missing). */
+/** Starts pg-boss on the server database `db` (creating its tables and the four queues when missing). */
 export async function startQueue(db: Database, options: QueueOptions): Promise<PgBoss> {
   const driver = driverOf(db);
   if (driver.kind !== "server") throw new Error("the job queue needs a PostgreSQL server");
@@ -58,7 +70,7 @@ export async function startQueue(db: Database, options: QueueOptions): Promise<P
     retryDelay: 1,
     expireInSeconds: options.leaseSeconds ?? 600,
   };
-  for (const name of [FIT_QUEUE, CHUNK_QUEUE, MERGE_QUEUE]) {
+  for (const name of [FIT_QUEUE, CHUNK_QUEUE, ROWS_QUEUE, MERGE_QUEUE]) {
     if (!(await boss.getQueue(name))) {
       try {
         await boss.createQueue(name, { name, ...queue });

@@ -257,20 +257,32 @@ export interface LinearTestBasis {
   differ: boolean;
 }
 
-/** The basis of a fit's least-squares permutation test (see `LinearTestBasis`). Cost as `prepareSharedLinearPermutation`. */
-export function linearTestBasis(prep: Prepared, works: readonly RegionWork[]): LinearTestBasis {
+/**
+ * A fit's least-squares permutation test prepared once (`linearPermutationInput`,
+ * `prepareSharedLinearPermutation`) and its basis (see `LinearTestBasis`).
+ * Cost as `prepareSharedLinearPermutation`.
+ */
+export function linearTestBasis(
+  prep: Prepared,
+  works: readonly RegionWork[],
+): {
+  basis: LinearTestBasis;
+  input: SharedLinearPermutationInput;
+  setup: ReturnType<typeof prepareSharedLinearPermutation>;
+} {
   const { input, lists, scheme } = linearPermutationInput(prep, works);
-  const { observed, draw } = prepareSharedLinearPermutation(input);
+  const setup = prepareSharedLinearPermutation(input);
   const at = new Map(works.map((w, idx) => [w, idx]));
   const { shared } = sharedPositions(prep, works);
-  return {
-    observed,
-    draw,
+  const basis: LinearTestBasis = {
+    observed: setup.observed,
+    draw: setup.draw,
     order: lists.flatMap((list) => list.map((w) => at.get(w) as number)),
     scheme,
     shared,
     differ: works.some((w) => w.rows.length !== shared),
   };
+  return { basis, input, setup };
 }
 
 /**

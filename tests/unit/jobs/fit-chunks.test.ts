@@ -14,13 +14,16 @@ import {
   mergedOfStored,
   mergeOptions,
   mergeTask,
+  partCount,
   rowsMark,
+  rowsParts,
+  splitMark,
   transferablesOf,
 } from "../../../server/jobs/fit-chunks";
 import runPermutationTask from "../../../server/jobs/permutation-task";
 import { mergedLinearPermutationTest } from "../../../server/stats/permutation";
 import { createRng, normalDraw } from "../../../server/stats/rng";
-import { type FitSummary, runFit, runFitBeforeTest } from "../../../server/stats/run-fit";
+import { type FitSummary, runFit, runRegionsBeforeTest } from "../../../server/stats/run-fit";
 
 /** 40 participants, 230 regions (three region chunks); region 7 misses two values. */
 function makeData(): FitData {
@@ -115,7 +118,7 @@ describe("a fit's permutation test in chunks", () => {
   });
 });
 
-describe("a split permutation test merged into the fit before its test", () => {
+describe("a split permutation test merged into its regions before the test", () => {
   const data = makeData();
   const twoGroup = modelSpecSchema.parse({
     kind: "two-group",
@@ -143,16 +146,34 @@ describe("a split permutation test merged into the fit before its test", () => {
     ["two groups, max-T, two covariates", twoGroup],
     ["one sample, Holm, a covariate", oneSample],
   ] as const) {
-    it(`${label}: chunks and the fit before its test, stored apart, give the fit computed in one piece`, () => {
+    it(`${label}: chunks, region parts and split test, stored apart, give the fit computed in one piece`, () => {
       const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec: model, data }));
+      if (plan.kind !== "permutation") throw new Error("not a permutation test");
       const control = new SharedArrayBuffer(8);
-      // Chunks in reverse order, each through its stored form; the fit before its test through its rows mark.
+      // Chunks in reverse order, each through its stored form.
       const order = Array.from({ length: plan.chunks }, (_, k) => plan.chunks - 1 - k);
-      const stored = order.map((c) =>
-        encodeChunk(plan, c, unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control)))),
+      const results = order.map((c) =>
+        unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control))),
       );
-      const { before, participants } = runFitBeforeTest(model, data);
-      stored.splice(1, 0, rowsMark(plan, before));
+      const stored = order.map((c, k) => encodeChunk(plan, c, results[k]));
+      // 230 regions in parts of 50: 0–50, …, 200–230, computed and stored in another order.
+      const parts = rowsParts(plan);
+      expect(parts.map((p) => [p.chunk, p.from, p.to])).toEqual([
+        [plan.chunks, 0, 50],
+        [plan.chunks + 1, 50, 100],
+        [plan.chunks + 2, 100, 150],
+        [plan.chunks + 3, 150, 200],
+        [plan.chunks + 4, 200, 230],
+      ]);
+      expect(partCount(plan)).toBe(plan.chunks + 6);
+      const participants = [];
+      for (const part of [parts[3], parts[0], parts[4], parts[2], parts[1]]) {
+        const before = runRegionsBeforeTest(model, data, {}, [part.from, part.to]);
+        stored.splice(2, 0, rowsMark(part, before.regions));
+        participants.push({ from: part.from, rows: before.participants });
+      }
+      stored.push(splitMark(plan));
+      expect(new Set(stored.map((r) => r.chunk)).size).toBe(partCount(plan));
       const merged = mergedOfStored("permutation", stored);
       const task = mergeTask(merged);
       if (!task) throw new Error("no merge task");
@@ -160,49 +181,65 @@ describe("a split permutation test merged into the fit before its test", () => {
         runChunkTask(structuredClone(task, { transfer: transferablesOf(merged) })),
       );
       const { participants: wholeParticipants, ...whole } = runFit(model, data);
-      // Every number, note and field in the same order, and the participants' rows of the part.
+      // Every number, note and field in the same order, and the participants' rows of the parts.
       expect(summary).toStrictEqual(whole);
       expect(JSON.stringify(summary)).toBe(JSON.stringify(whole));
-      expect(participants).toStrictEqual(wholeParticipants);
+      participants.sort((a, b) => a.from - b.from);
+      expect(participants.flatMap((p) => p.rows)).toStrictEqual(wholeParticipants);
       // Region 7 misses two participants: its statistic is the test's last (its own block).
       expect(whole.notes.length).toBeGreaterThan(2);
       expect(summary.regions[7].n).toBe(38);
       expect(summary.regions[7].pParametric).not.toBe(summary.regions[7].p);
+      // In memory (threads): the plan's split test, the regions before the test in one piece.
+      const inMemory = mergedChunks(plan, [...results].reverse());
+      const once = runRegionsBeforeTest(model, data);
+      const again = mergeTask(
+        inMemory.kind === "permutation" ? { ...inMemory, regions: once.regions } : inMemory,
+      );
+      if (!again) throw new Error("no merge task");
+      expect(unwrap<FitSummary>(runChunkTask(again))).toStrictEqual(whole);
     });
   }
 
-  it("a rows mark stored without the fit before its test leaves the merge to runFit", () => {
+  it("parts stored without their results leave the merge to runFit", () => {
     const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec, data }));
+    if (plan.kind !== "permutation") throw new Error("not a permutation test");
     const control = new SharedArrayBuffer(8);
     const stored = Array.from({ length: plan.chunks }, (_, c) =>
       encodeChunk(plan, c, unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control)))),
     );
-    const { before } = runFitBeforeTest(spec, data);
-    const merged = mergedOfStored("permutation", [
-      ...stored,
-      { ...rowsMark(plan, before), counts: "" },
-    ]);
-    expect(mergeTask(merged)).toBeNull();
-    const result = runFit(spec, data, mergeOptions(merged));
+    const marks = rowsParts(plan).map((part) => ({
+      ...rowsMark(part, runRegionsBeforeTest(spec, data, {}, [part.from, part.to]).regions),
+      counts: "",
+    }));
+    const withoutResults = mergedOfStored("permutation", [...stored, ...marks, splitMark(plan)]);
+    expect(mergeTask(withoutResults)).toBeNull();
+    const result = runFit(spec, data, mergeOptions(withoutResults));
     expect(JSON.stringify(result)).toBe(JSON.stringify(runFit(spec, data)));
+    expect(mergeTask(mergedOfStored("permutation", stored))).toBeNull(); // no split test, no parts
   });
 
-  it("refuses a fit that is not a least-squares permutation test, and a merge missing a chunk", () => {
+  it("refuses a fit that is not a least-squares permutation test, a missing chunk or region part", () => {
     expect(() =>
-      runFitBeforeTest({ ...spec, inference: "bootstrap", correction: "holm" }, data),
+      runRegionsBeforeTest({ ...spec, inference: "bootstrap", correction: "holm" }, data),
     ).toThrow(/only for a least-squares permutation test/);
     const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec, data }));
+    if (plan.kind !== "permutation") throw new Error("not a permutation test");
     const control = new SharedArrayBuffer(8);
     const results = Array.from({ length: plan.chunks }, (_, c) =>
       unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control))),
     );
-    const { before } = runFitBeforeTest(spec, data);
+    const { regions } = runRegionsBeforeTest(spec, data);
     const merged = mergedChunks(plan, results);
-    const chunks = merged.kind === "permutation" ? merged.chunks.slice(1) : [];
-    expect(runChunkTask({ type: "merge", before, chunks })).toMatchObject({
+    const chunks = merged.kind === "permutation" ? merged.chunks : [];
+    const before = { ...plan.split, regions };
+    expect(runChunkTask({ type: "merge", before, chunks: chunks.slice(1) })).toMatchObject({
       ok: false,
       message: /missing region 0 of block 0/,
     });
+    expect(
+      runChunkTask({ type: "merge", before: { ...before, regions: regions.slice(50) }, chunks }),
+    ).toMatchObject({ ok: false, message: /180 regions before its test of 230/ });
   });
 });
 
