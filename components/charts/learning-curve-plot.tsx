@@ -3,164 +3,88 @@
  * number of training rows (20 % … 100 % of the available training rows),
  * each with its spread over repeats (± one standard deviation) as a band,
  * and a line at zero. A curve still rising at the right suggests more
- * participants would help.
+ * participants would help. Where everything goes comes from
+ * learning-curve-layout.ts (the figure writer draws from the same layout).
  */
-import { scaleLinear } from "d3-scale";
 import { G, Line, Path } from "react-native-svg";
 import type { LearningCurvePoint } from "../../contract/prediction";
-import { curveSeries } from "../fit/prediction-layout";
-import { chart, marks } from "../theme";
+import { chart } from "../theme";
 import { Axis } from "./axis";
 import { ChartFrame } from "./chart-frame";
-import { ChartInputError, tryLayout } from "./chart-input-error";
+import { tryLayout } from "./chart-input-error";
+import {
+  learningCurveAspect,
+  learningCurveDescription,
+  learningCurveLayout,
+  learningCurveLegend,
+  learningCurveSeries,
+  learningCurveStyle,
+} from "./learning-curve-layout";
 import { Legend } from "./legend";
 import { MarkShape } from "./mark-shape";
-import { formatCount } from "./number-format";
-import { bandPath, linePath } from "./paths";
-import { leftMarginFor, paddedExtent, plotArea } from "./scales";
-import { formatTicks, niceDomain, tickCountFor, tickValues } from "./ticks";
 
 export interface LearningCurvePlotProps {
   points: readonly LearningCurvePoint[];
   testID?: string;
 }
 
-const R_COLOUR = marks.blue;
-const R2_COLOUR = marks.vermillion;
+const R = learningCurveStyle.r;
+const R2 = learningCurveStyle.r2;
 
 export function LearningCurvePlot(props: LearningCurvePlotProps) {
-  const result = tryLayout(() => {
-    const r = curveSeries(props.points, "r");
-    const r2 = curveSeries(props.points, "r2");
-    if (r.length === 0 && r2.length === 0)
-      throw new ChartInputError("learningCurve", "holds no scores");
-    return { r, r2 };
-  });
-  const hasBand = props.points.some((p) => p.rSpread !== null || p.r2Spread !== null);
+  const result = tryLayout(() => learningCurveSeries(props.points));
   return (
     <ChartFrame
-      label={`Learning curve: held-out r and r² against the number of training rows${hasBand ? ", with the spread over repeats as bands" : ""}.`}
-      aspect={1.5}
+      label={learningCurveDescription(props.points)}
+      aspect={learningCurveAspect}
       problem={result.problem}
       testID={props.testID}
-      footer={
-        <Legend
-          entries={[
-            { kind: "line", label: "r", colour: R_COLOUR },
-            { kind: "line", label: "r²", colour: R2_COLOUR, dashed: true },
-            ...(hasBand
-              ? [
-                  {
-                    kind: "band" as const,
-                    label: "± SD over repeats",
-                    colour: "rgba(0,114,178,0.18)",
-                  },
-                ]
-              : []),
-          ]}
-        />
-      }
+      footer={<Legend entries={learningCurveLegend(props.points)} />}
     >
       {(viewport) => {
-        const series = result.layout;
-        if (!series) return null;
-        const all = [...series.r, ...series.r2];
-        const yCount = tickCountFor(viewport.height - 50, 30);
-        const yDomain = niceDomain(
-          paddedExtent(
-            all.flatMap((p) => [p.low, p.high]),
-            { include: [0], pad: 0.05 },
-          ),
-          yCount,
-        );
-        const yTicks = tickValues(yDomain, yCount);
-        const yLabels = formatTicks(yTicks);
-        const area = plotArea(viewport, {
-          top: 10,
-          right: 16,
-          bottom: chart.tickText + chart.labelText + 18,
-          left: leftMarginFor(yLabels, chart.tickText, chart.labelText),
-        });
-        const xs = all.map((p) => p.x);
-        const xCount = tickCountFor(area.width);
-        const xDomain = niceDomain([0, Math.max(...xs)], xCount);
-        const xTicks = tickValues(xDomain, xCount);
-        const x = scaleLinear().domain(xDomain).range([area.left, area.right]);
-        const y = scaleLinear().domain(yDomain).range([area.bottom, area.top]);
-        const band = (pts: typeof series.r) =>
-          bandPath(
-            pts.map((p) => ({ x: p.x, fit: p.value, low: p.low, high: p.high })),
-            x,
-            y,
-          );
+        if (!result.layout) return null;
+        const layout = learningCurveLayout(props.points, viewport);
+        const { zero } = layout;
         return (
           <G>
-            <Axis
-              orientation="left"
-              area={area}
-              scale={y}
-              ticks={yTicks}
-              labels={yLabels}
-              title="Held-out score"
-              grid
-            />
-            <Axis
-              orientation="bottom"
-              area={area}
-              scale={x}
-              ticks={xTicks}
-              labels={xTicks.map((t) => formatCount(t))}
-              title="Training rows"
-            />
+            <Axis {...layout.yAxis} />
+            <Axis {...layout.xAxis} />
             <Line
-              x1={area.left}
-              x2={area.right}
-              y1={y(0)}
-              y2={y(0)}
+              x1={zero.x1}
+              x2={zero.x2}
+              y1={zero.y}
+              y2={zero.y}
               stroke={chart.zero}
               strokeWidth={1}
               strokeDasharray="4 3"
             />
-            <Path d={band(series.r)} fill={R_COLOUR} fillOpacity={0.18} />
-            <Path d={band(series.r2)} fill={R2_COLOUR} fillOpacity={0.14} />
+            <Path d={layout.r.band} fill={R.colour} fillOpacity={R.bandOpacity} />
+            <Path d={layout.r2.band} fill={R2.colour} fillOpacity={R2.bandOpacity} />
+            <Path d={layout.r.line} fill="none" stroke={R.colour} strokeWidth={2.5} />
             <Path
-              d={linePath(
-                series.r.map((p) => ({ x: p.x, y: p.value })),
-                x,
-                y,
-              )}
+              d={layout.r2.line}
               fill="none"
-              stroke={R_COLOUR}
-              strokeWidth={2.5}
-            />
-            <Path
-              d={linePath(
-                series.r2.map((p) => ({ x: p.x, y: p.value })),
-                x,
-                y,
-              )}
-              fill="none"
-              stroke={R2_COLOUR}
+              stroke={R2.colour}
               strokeWidth={2.5}
               strokeDasharray="6 4"
             />
-            {series.r.map((p) => (
+            {layout.r.points.map((p) => (
               <MarkShape
                 key={`r${p.x}`}
                 shape="circle"
-                cx={x(p.x)}
-                cy={y(p.value)}
-                colour={R_COLOUR}
+                cx={p.cx}
+                cy={p.cy}
+                colour={R.colour}
                 r={chart.markRadius}
               />
             ))}
-            {series.r2.map((p) => (
+            {layout.r2.points.map((p) => (
               <MarkShape
                 key={`q${p.x}`}
                 shape="square"
-                cx={x(p.x)}
-                cy={y(p.value)}
-                colour={R2_COLOUR}
+                cx={p.cx}
+                cy={p.cy}
+                colour={R2.colour}
                 r={chart.markRadius}
               />
             ))}
