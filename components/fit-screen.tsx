@@ -141,6 +141,7 @@ function FitBody({
 
       {fit.status === "done" && prediction ? (
         <PredictionView
+          fitId={fit.id}
           block={prediction}
           trait={spec?.predictor ?? null}
           confounds={spec?.covariates ?? []}

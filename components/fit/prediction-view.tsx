@@ -5,7 +5,8 @@
  * to read a prediction, then observed against predicted values with the
  * identity line, the learning curve, the region weights as a sorted dot
  * chart with their sign consistency (the 30 largest, or all), and how the
- * penalty was set. Phone first: one column; side by side on a wide screen.
+ * penalty was set. Each plot has the Figure row (SVG, PNG, caption) the
+ * region plots have. Phone first: one column; side by side on a wide screen.
  */
 import { useState } from "react";
 import { StyleSheet, View } from "react-native";
@@ -19,6 +20,7 @@ import { formatCount } from "../charts/number-format";
 import { fonts, palette, radius, space } from "../theme";
 import { Button, Card, Heading, Notice, Txt } from "../ui";
 import { CollapsedCaution } from "./collapsed-caution";
+import { FigureDownloads } from "./figure-downloads";
 import {
   lambdaSummary,
   scoreSentence,
@@ -31,6 +33,8 @@ import {
 export const WEIGHTS_SHOWN = 30;
 
 export function PredictionView(props: {
+  /** The fit, for the figures' download addresses. */
+  fitId: string;
   block: PredictionBlock;
   /** The trait predicted (the model's `predictor`), for sentences and axis titles. */
   trait: string | null;
@@ -104,12 +108,19 @@ export function PredictionView(props: {
             .
           </Txt>
           {props.participantsVisible && block.participants.length > 0 ? (
-            <ObservedPredictedPlot
-              participants={block.participants}
-              trait={trait}
-              confounds={props.confounds}
-              testID="observed-predicted-plot"
-            />
+            <>
+              <ObservedPredictedPlot
+                participants={block.participants}
+                trait={trait}
+                confounds={props.confounds}
+                testID="observed-predicted-plot"
+              />
+              <FigureDownloads
+                fitId={props.fitId}
+                name="observed-predicted"
+                label="observed against predicted plot"
+              />
+            </>
           ) : (
             <Notice>Participant-level values are not shown to you for this study.</Notice>
           )}
@@ -121,7 +132,10 @@ export function PredictionView(props: {
             right: more participants would likely help.
           </Txt>
           {block.learningCurve && block.learningCurve.length > 0 ? (
-            <LearningCurvePlot points={block.learningCurve} testID="learning-curve-plot" />
+            <>
+              <LearningCurvePlot points={block.learningCurve} testID="learning-curve-plot" />
+              <FigureDownloads fitId={props.fitId} name="learning-curve" label="learning curve" />
+            </>
           ) : (
             <Notice>This fit did not compute a learning curve.</Notice>
           )}
@@ -155,6 +169,13 @@ export function PredictionView(props: {
             onPress={() => setAllWeights(!allWeights)}
             style={styles.showAll}
             testID="weights-show-all"
+          />
+        ) : null}
+        {total > 0 ? (
+          <FigureDownloads
+            fitId={props.fitId}
+            name="weights"
+            label={`dot chart of all ${formatCount(total)} region weights`}
           />
         ) : null}
         <Txt kind="small" style={styles.muted} testID="prediction-lambda">

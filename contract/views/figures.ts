@@ -3,7 +3,8 @@
  * entry per figure that can be downloaded, named stably — `forest`,
  * `variance-shares` (a fit weighted by first-level standard errors),
  * `<region>-scatter` or `<region>-strip`, `<region>-influence`,
- * `<region>-null`. Each downloads as `…/figures/:name.svg`,
+ * `<region>-null`; a prediction fit's `observed-predicted`, `learning-curve`
+ * and `weights`. Each downloads as `…/figures/:name.svg`,
  * `…/:name.png?width=89|183` and its caption as `…/:name.txt`.
  */
 
@@ -19,8 +20,20 @@ export const figureKinds = [
   "strip",
   "influence",
   "null",
+  "observed-predicted",
+  "learning-curve",
+  "weights",
 ] as const;
 export type FigureKind = (typeof figureKinds)[number];
+
+/** The figures of a prediction fit (named by their kind; the fit has no region rows). */
+export const predictionFigureKinds = ["observed-predicted", "learning-curve", "weights"] as const;
+
+/** The figures drawn per region. */
+export type RegionFigureKind = Exclude<
+  FigureKind,
+  "forest" | "variance-shares" | (typeof predictionFigureKinds)[number]
+>;
 
 export interface FigureSummary {
   /** Stable name, used in the download addresses. */
@@ -32,9 +45,6 @@ export interface FigureSummary {
 }
 
 /** The stable name of a region's figure: "L_dlpfc-scatter". */
-export function figureName(
-  region: string,
-  kind: Exclude<FigureKind, "forest" | "variance-shares">,
-): string {
+export function figureName(region: string, kind: RegionFigureKind): string {
   return `${region}-${kind}`;
 }

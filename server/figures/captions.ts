@@ -9,6 +9,9 @@ import { cutLegend } from "../../components/charts/influence-layout";
 import { roleLabel, roleShape } from "../../components/charts/marks";
 import { formatCount, formatValue } from "../../components/charts/number-format";
 import { pPhrase } from "../../components/fit/p-text";
+import { schemeWords, scoreSentence, spreadSentence } from "../../components/fit/prediction-layout";
+import { predictionCaution } from "../../contract/cautions";
+import type { PredictionBlock } from "../../contract/prediction";
 import { influenceNote } from "../../components/fit/region-plot-inputs";
 import { correctionWords, estimatorWords, inferenceWords } from "../../contract/labels";
 import { count } from "../../contract/methods-text";
@@ -149,6 +152,81 @@ export function varianceCaption(ctx: CaptionContext, regions: number, method: st
     `Variance shares of ${count(regions, "region")} of a fit weighted by first-level standard errors: for each region a bar split into the share of residual variance that is measurement noise and the share that is true differences between participants, with τ² and I² beside the region's name.`,
     method,
     methodLine(ctx),
+    setAsideLine(ctx.spec, null),
+    source(ctx),
+  ].join("\n");
+}
+
+/** What a prediction fit's figures need besides the context. */
+export interface PredictionCaptionInput {
+  block: PredictionBlock;
+  /** The trait predicted (the model's predictor). */
+  trait: string;
+  /** Confounds removed from the trait inside each training fold (the model's covariates). */
+  confounds: readonly string[];
+}
+
+function scoreLines(p: PredictionCaptionInput): string[] {
+  const lines = [scoreSentence(p.block, p.trait)];
+  const spread = spreadSentence(p.block);
+  if (spread) lines.push(spread);
+  return lines;
+}
+
+function foldsLine(block: PredictionBlock): string {
+  const trainings = block.lambdas.length;
+  return `Cross-validation: ${schemeWords(block)}${trainings > 0 ? ` (${count(trainings, "training fold")} in all)` : ""}, ridge regression on the standardized regions.`;
+}
+
+function confoundsLine(p: PredictionCaptionInput): string {
+  return p.confounds.length > 0
+    ? `${p.confounds.join(", ")} removed from ${p.trait} and the regions inside each training fold (fitted on the training rows only, then applied to the held-out rows); the values shown are what is left.`
+    : "No confounds were removed.";
+}
+
+/** Caption of a prediction fit's observed against predicted plot. */
+export function observedPredictedCaption(ctx: CaptionContext, p: PredictionCaptionInput): string {
+  const { block } = p;
+  const repeats =
+    block.repeats > 1 ? `, averaged over the ${formatCount(block.repeats)} repeats` : "";
+  return [
+    `Observed against predicted ${p.trait} of ${count(block.participants.length, "held-out participant")} (N = ${formatCount(block.participants.length)}), one mark per participant: each prediction comes from a model fitted without that participant${repeats}. The dashed line marks prediction equal to observation; both axes share one scale.`,
+    foldsLine(block),
+    confoundsLine(p),
+    ...scoreLines(p),
+    setAsideLine(ctx.spec, null),
+    source(ctx),
+  ].join("\n");
+}
+
+/** Caption of a prediction fit's learning curve. */
+export function learningCurveCaption(ctx: CaptionContext, p: PredictionCaptionInput): string {
+  const points = [...(p.block.learningCurve ?? [])].sort((a, b) => a.trainingRows - b.trainingRows);
+  const sizes = points
+    .map((c) => `${formatCount(c.trainingRows)} (${Math.round(c.fraction * 100)}%)`)
+    .join(", ");
+  const band = points.some((c) => c.rSpread !== null || c.r2Spread !== null)
+    ? ` Bands: ± one standard deviation over the ${formatCount(p.block.repeats)} repeats.`
+    : " One repeat, so no spread is drawn.";
+  return [
+    `Learning curve: held-out r (circles, solid line) and r² (squares, dashed line) when the models are trained on fewer participants — ${sizes} training rows (share of the available training rows) — scored on the same held-out participants; the dashed line marks zero.${band} A curve still rising at the right suggests more participants would help.`,
+    foldsLine(p.block),
+    confoundsLine(p),
+    ...scoreLines(p),
+    setAsideLine(ctx.spec, null),
+    source(ctx),
+  ].join("\n");
+}
+
+/** Caption of a prediction fit's region weights. */
+export function weightsCaption(ctx: CaptionContext, p: PredictionCaptionInput): string {
+  const { block } = p;
+  return [
+    `Region weights of the prediction model: for each of ${count(block.regions.length, "region")} the mean standardized weight over all training folds, sorted from the most positive to the most negative, with the share of training folds that gave the weight the same sign (right column). Solid dots kept their sign in every fold; faint dots flipped about half the time. Blue: positive; red: negative.`,
+    predictionCaution,
+    foldsLine(block),
+    confoundsLine(p),
+    ...scoreLines(p),
     setAsideLine(ctx.spec, null),
     source(ctx),
   ].join("\n");

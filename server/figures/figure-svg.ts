@@ -2,8 +2,9 @@
  * A figure of a fit as SVG text, drawn from the same layout modules the
  * screen draws from (components/charts/*-layout.ts): the forest plot, the
  * scatter plot, the strip plot, the influence view, the permutation
- * null histogram, a weighted fit's variance shares and the planner's power
- * curve. Each builder lays its plot out at `width` SVG units (the
+ * null histogram, a weighted fit's variance shares, the planner's power
+ * curve and a prediction fit's observed against predicted plot, learning
+ * curve and region weights. Each builder lays its plot out at `width` SVG units (the
  * screen's one unit per CSS pixel, see figureUnits) and adds the legend
  * under it; `svgDocument` wraps the drawing with its size in millimetres,
  * a viewBox, a white background, a <title> and a <desc>.
@@ -30,7 +31,22 @@ import {
   influenceLayout,
   influenceMarks,
 } from "../../components/charts/influence-layout";
+import {
+  learningCurveAspect,
+  learningCurveDescription,
+  learningCurveLayout,
+  learningCurveLegend,
+  learningCurveStyle,
+} from "../../components/charts/learning-curve-layout";
 import type { LegendEntry } from "../../components/charts/legend-entries";
+import {
+  type ObservedPredictedInput,
+  observedPredictedAspect,
+  observedPredictedDescription,
+  observedPredictedLayout,
+  observedPredictedLegend,
+  predictionPointOpacity,
+} from "../../components/charts/observed-predicted-layout";
 import {
   type PowerCurveInput,
   powerCurveAspect,
@@ -57,6 +73,13 @@ import {
   stripPlotLayout,
 } from "../../components/charts/strip-layout";
 import {
+  weightDotDescription,
+  weightDotHeight,
+  weightDotLayout,
+} from "../../components/charts/weight-dot-layout";
+import type { LearningCurvePoint } from "../../contract/prediction";
+import type { WeightRow } from "../../components/fit/prediction-layout";
+import {
   type VarianceShareInput,
   varianceColours,
   varianceShareRows,
@@ -74,6 +97,7 @@ import {
   legendHeight,
   line,
   markShape,
+  PARTICIPANT_MARK_CLASS,
   participantMarks,
   text,
 } from "./svg-writer";
@@ -493,6 +517,165 @@ export function powerFigure(input: PowerCurveInput, title: string, width: number
   };
 }
 
+/**
+ * A prediction fit's observed against predicted plot: one point per
+ * held-out participant (`<g class="participant-mark" aria-label>`, the
+ * values but no participant id) and the identity line.
+ */
+export function observedPredictedFigure(
+  input: ObservedPredictedInput,
+  title: string,
+  width: number,
+): RawFigure {
+  const viewport = chartViewport(width, observedPredictedAspect);
+  const layout = observedPredictedLayout(input, viewport);
+  const kept = new KeptAttributes();
+  const { identity } = layout;
+  const points = layout.points
+    .map((p) => {
+      const id = kept.add({
+        class: PARTICIPANT_MARK_CLASS,
+        "aria-label": `participant, ${p.words}`,
+      });
+      return el(
+        "g",
+        { id },
+        el("circle", {
+          cx: p.cx,
+          cy: p.cy,
+          r: chart.markRadius,
+          fill: markRoles.participant,
+          "fill-opacity": predictionPointOpacity,
+          stroke: markRoles.participant,
+          "stroke-width": 1,
+        }),
+      );
+    })
+    .join("");
+  const body =
+    axis(layout.yAxis) +
+    axis(layout.xAxis) +
+    line(identity.x1, identity.y1, identity.x2, identity.y2, chart.reference, 1.5, "6 4") +
+    points;
+  const framed = withLegend(viewport.width, viewport.height, body, observedPredictedLegend);
+  return {
+    width: viewport.width,
+    title,
+    description: observedPredictedDescription(input),
+    kept,
+    ...framed,
+  };
+}
+
+/** A prediction fit's learning curve: r and r² against training rows with their bands. */
+export function learningCurveFigure(
+  points: readonly LearningCurvePoint[],
+  title: string,
+  width: number,
+): RawFigure {
+  const viewport = chartViewport(width, learningCurveAspect);
+  const layout = learningCurveLayout(points, viewport);
+  const { zero } = layout;
+  const R = learningCurveStyle.r;
+  const R2 = learningCurveStyle.r2;
+  const body =
+    axis(layout.yAxis) +
+    axis(layout.xAxis) +
+    line(zero.x1, zero.y, zero.x2, zero.y, chart.zero, 1, "4 3") +
+    el("path", { d: layout.r.band, fill: R.colour, "fill-opacity": R.bandOpacity }) +
+    el("path", { d: layout.r2.band, fill: R2.colour, "fill-opacity": R2.bandOpacity }) +
+    el("path", { d: layout.r.line, fill: "none", stroke: R.colour, "stroke-width": 2.5 }) +
+    el("path", {
+      d: layout.r2.line,
+      fill: "none",
+      stroke: R2.colour,
+      "stroke-width": 2.5,
+      "stroke-dasharray": "6 4",
+    }) +
+    layout.r.points.map((p) => markShape("circle", p.cx, p.cy, R.colour)).join("") +
+    layout.r2.points.map((p) => markShape("square", p.cx, p.cy, R2.colour)).join("");
+  const framed = withLegend(viewport.width, viewport.height, body, learningCurveLegend(points));
+  return {
+    width: viewport.width,
+    title,
+    description: learningCurveDescription(points),
+    kept: new KeptAttributes(),
+    ...framed,
+  };
+}
+
+/**
+ * A prediction fit's region weights as the screen's sorted dot chart, one
+ * `<g class="weight-row" data-region aria-label>` per region.
+ */
+export function weightsFigure(rows: readonly WeightRow[], title: string, width: number): RawFigure {
+  const viewport = chartViewport(width, 1, weightDotHeight(rows, width));
+  const layout = weightDotLayout(rows, viewport);
+  const kept = new KeptAttributes();
+  const { header, zero } = layout;
+  const stripes = layout.rows
+    .map((row) =>
+      row.stripe
+        ? el("rect", {
+            x: 0,
+            y: row.stripe.y,
+            width: viewport.width,
+            height: row.stripe.height,
+            fill: chart.grid,
+            "fill-opacity": 0.35,
+          })
+        : "",
+    )
+    .join("");
+  const marks = layout.rows
+    .map((row) => {
+      const id = kept.add({
+        class: "weight-row",
+        "data-region": row.region,
+        "aria-label": row.words,
+      });
+      return el(
+        "g",
+        { id },
+        row.lines.map((l) => text(l.x, l.y, l.text)).join("") +
+          el("line", {
+            x1: row.zeroX,
+            y1: row.mid,
+            x2: row.cx,
+            y2: row.mid,
+            stroke: row.colour,
+            "stroke-opacity": 0.35,
+            "stroke-width": 1,
+          }) +
+          el("circle", {
+            cx: row.cx,
+            cy: row.mid,
+            r: chart.markRadius + 0.5,
+            fill: row.colour,
+            "fill-opacity": row.opacity,
+            stroke: row.colour,
+            "stroke-width": 1.25,
+          }) +
+          text(row.share.x, row.share.y, row.share.text, { anchor: "end" }),
+      );
+    })
+    .join("");
+  const body =
+    text(header.x, header.y, header.text, { weight: 600, anchor: "end" }) +
+    stripes +
+    axis(layout.xAxis) +
+    line(zero.x, zero.y1, zero.x, zero.y2, chart.zero, 1, "4 3") +
+    marks;
+  return {
+    width: viewport.width,
+    height: viewport.height,
+    title,
+    description: `${weightDotDescription(rows)} ${layout.rows.map((r) => `${r.words}.`).join(" ")}`,
+    body,
+    kept,
+  };
+}
+
 /** What a figure draws, as plain data (it crosses to the figure worker thread). */
 export type FigureInput =
   | { kind: "forest"; rows: ForestRow[]; estimateLabel: string; title: string }
@@ -501,7 +684,10 @@ export type FigureInput =
   | { kind: "influence"; points: InfluencePoint[]; cuts: FlagCuts; title: string }
   | { kind: "null"; input: NullHistogramInput; title: string }
   | { kind: "variance-shares"; regions: VarianceShareInput[]; title: string }
-  | { kind: "power-curve"; input: PowerCurveInput; title: string };
+  | { kind: "power-curve"; input: PowerCurveInput; title: string }
+  | { kind: "observed-predicted"; input: ObservedPredictedInput; title: string }
+  | { kind: "learning-curve"; points: LearningCurvePoint[]; title: string }
+  | { kind: "weights"; rows: WeightRow[]; title: string };
 
 /** The figure laid out `widthMm` wide (89 or 183 mm), with text still as text. */
 export function drawFigure(figure: FigureInput, widthMm: number): RawFigure {
@@ -525,6 +711,12 @@ export function drawFigure(figure: FigureInput, widthMm: number): RawFigure {
       return varianceFigure(figure.regions, figure.title, width);
     case "power-curve":
       return powerFigure(figure.input, figure.title, width);
+    case "observed-predicted":
+      return observedPredictedFigure(figure.input, figure.title, width);
+    case "learning-curve":
+      return learningCurveFigure(figure.points, figure.title, width);
+    case "weights":
+      return weightsFigure(figure.rows, figure.title, width);
   }
 }
 

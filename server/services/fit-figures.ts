@@ -2,7 +2,9 @@
  * A finished fit's figures, for the figures routes and the report bundle.
  *
  * Names: `forest`, `variance-shares` (weighted fits), `<region>-scatter` or
- * `<region>-strip`, `<region>-influence`, `<region>-null`.
+ * `<region>-strip`, `<region>-influence`, `<region>-null`; a prediction
+ * fit has `observed-predicted`, `learning-curve` (when it computed one) and
+ * `weights` instead (a specification curve has none).
  *
  *   listFigures(db, fit, access)                 → FigureSummary[]
  *   figureSvg(db, fit, name, access, widthMm?)   → Promise<string>  SVG, text as outlines, widthMm 89 (default) or 183
@@ -12,7 +14,7 @@
  * `access` is `{ participantsVisible }` — whether the caller may see
  * participant-level rows (contract/permissions.ts `fits.participants.read`
  * for the study's restriction). Without it the figures that draw one mark
- * per participant (scatter, strip, influence) are not listed and asking
+ * per participant (scatter, strip, influence, observed-predicted) are not listed and asking
  * for one throws 403, as the region screen shows a Viewer of a restricted
  * study no participant plots; the forest plot and the null distribution
  * stay available. Every function throws 409 while the fit is not done and
@@ -24,6 +26,10 @@
 import type { Queryable } from "../../db/client";
 import type { Fit } from "../../db/schema";
 import { nullHistogramWords } from "../../components/charts/histogram-layout";
+import { formatCount } from "../../components/charts/number-format";
+import { weightDotHeight } from "../../components/charts/weight-dot-layout";
+import { weightRows } from "../../components/fit/prediction-layout";
+import type { PredictionBlock } from "../../contract/prediction";
 import { estimateLabel } from "../../components/fit/estimate-label";
 import {
   varianceShareInputsOf,
@@ -47,14 +53,18 @@ import {
   type FigureSummary,
   type FigureWidth,
   figureName,
+  predictionFigureKinds,
 } from "../../contract/views/figures";
 import {
   type CaptionContext,
   dataPlotCaption,
   forestCaption,
   influenceCaption,
+  learningCurveCaption,
   nullCaption,
+  observedPredictedCaption,
   varianceCaption,
+  weightsCaption,
 } from "../figures/captions";
 import { type FigureInput, figureLayoutWidth } from "../figures/figure-svg";
 import { forestHeight } from "../../components/charts/forest-layout";
@@ -76,16 +86,50 @@ export const FIGURE_DPI = 300;
 export const MAX_PNG_HEIGHT_PX = 12_000;
 
 /** Figures that draw one mark per participant. */
-const participantKinds: readonly FigureKind[] = ["scatter", "strip", "influence"];
+const participantKinds: readonly FigureKind[] = [
+  "scatter",
+  "strip",
+  "influence",
+  "observed-predicted",
+];
 const regionKinds: readonly FigureKind[] = ["scatter", "strip", "influence", "null"];
 
-function doneRegions(fit: Fit): RegionResult[] {
+function doneResult(fit: Fit): { regions?: RegionResult[]; prediction?: PredictionBlock } {
   if (fit.status !== "done" || !fit.result)
     throw conflict(
       `This fit is not finished (status ${fit.status}); its figures come when it is done.`,
     );
-  const result = fit.result as { regions?: RegionResult[]; prediction?: unknown; curve?: unknown };
-  return result.regions ?? [];
+  return fit.result as { regions?: RegionResult[]; prediction?: PredictionBlock };
+}
+
+function doneRegions(fit: Fit): RegionResult[] {
+  return doneResult(fit).regions ?? [];
+}
+
+/** A done prediction fit's block, or null for any other fit. Throws 409 until done. */
+function predictionOf(fit: Fit): PredictionBlock | null {
+  return doneResult(fit).prediction ?? null;
+}
+
+/** A prediction fit's figures: observed against predicted, learning curve, weights. */
+function predictionFigures(block: PredictionBlock, access: FigureAccess): FigureSummary[] {
+  const list: FigureSummary[] = [];
+  if (access.participantsVisible && block.participants.length > 0)
+    list.push({
+      name: "observed-predicted",
+      kind: "observed-predicted",
+      title: `Observed and predicted, ${formatCount(block.participants.length)} held-out participants`,
+    });
+  if (block.learningCurve && block.learningCurve.length > 0)
+    list.push({ name: "learning-curve", kind: "learning-curve", title: "Learning curve" });
+  if (block.regions.length > 0)
+    list.push({
+      name: "weights",
+      kind: "weights",
+      title: `Region weights, ${block.regions.length} region${block.regions.length === 1 ? "" : "s"}`,
+      regions: block.regions.map((r) => r.region),
+    });
+  return list;
 }
 
 function context(fit: Fit): CaptionContext {
@@ -115,6 +159,8 @@ export async function listFigures(
 function figuresOf(fit: Fit, access: FigureAccess): FigureSummary[] {
   const regions = doneRegions(fit);
   const spec = specOfRecipe(fit.recipe);
+  const prediction = spec.kind === "prediction" ? predictionOf(fit) : null;
+  if (prediction) return predictionFigures(prediction, access);
   if (regions.length === 0 || spec.kind === "prediction" || spec.kind === "specification-curve")
     return [];
   const list: FigureSummary[] = [
@@ -193,6 +239,8 @@ async function build(
 ): Promise<Built> {
   const ctx = context(fit);
   const regions = doneRegions(fit);
+  const prediction = predictionOf(fit);
+  if (prediction && isPredictionKind(figure.kind)) return buildPrediction(ctx, prediction, figure);
   if (figure.kind === "forest") {
     const label = estimateLabel(ctx.spec);
     return {
@@ -270,6 +318,48 @@ async function build(
   };
 }
 
+function isPredictionKind(kind: FigureKind): kind is (typeof predictionFigureKinds)[number] {
+  return (predictionFigureKinds as readonly FigureKind[]).includes(kind);
+}
+
+/** The screen's trait name and confounds (fit-screen.tsx passes the same to PredictionView). */
+function predictionCaptionInput(ctx: CaptionContext, block: PredictionBlock) {
+  return { block, trait: ctx.spec.predictor ?? "trait", confounds: ctx.spec.covariates ?? [] };
+}
+
+function buildPrediction(
+  ctx: CaptionContext,
+  block: PredictionBlock,
+  figure: FigureSummary,
+): Built {
+  const input = predictionCaptionInput(ctx, block);
+  if (figure.kind === "observed-predicted")
+    return {
+      figure: {
+        kind: "observed-predicted",
+        input: { participants: block.participants, trait: input.trait, confounds: input.confounds },
+        title: figure.title,
+      },
+      caption: observedPredictedCaption(ctx, input),
+    };
+  if (figure.kind === "learning-curve")
+    return {
+      figure: { kind: "learning-curve", points: block.learningCurve ?? [], title: figure.title },
+      caption: learningCurveCaption(ctx, input),
+    };
+  return {
+    figure: { kind: "weights", rows: weightRows(block.regions, null).rows, title: figure.title },
+    caption: weightsCaption(ctx, input),
+  };
+}
+
+/** Drawing height in layout units of the figures that grow with their rows (0 for the others). */
+function drawingHeight(figure: FigureInput, widthMm: FigureWidth): number {
+  if (figure.kind === "forest") return forestHeight(figure.rows.length);
+  if (figure.kind === "weights") return weightDotHeight(figure.rows, figureLayoutWidth(widthMm));
+  return 0;
+}
+
 const kept = new Map<string, string>();
 const KEEP = 32;
 
@@ -308,13 +398,10 @@ export async function figurePng(
 ): Promise<Buffer> {
   const figure = findFigure(fit, name, access);
   const built = await build(db, fit, figure, access);
-  const heightPx =
-    built.figure.kind === "forest"
-      ? Math.round(
-          (pixelsFor(widthMm, FIGURE_DPI) * forestHeight(built.figure.rows.length)) /
-            figureLayoutWidth(widthMm),
-        )
-      : 0;
+  const heightPx = Math.round(
+    (pixelsFor(widthMm, FIGURE_DPI) * drawingHeight(built.figure, widthMm)) /
+      figureLayoutWidth(widthMm),
+  );
   if (heightPx > MAX_PNG_HEIGHT_PX) {
     throw new HttpError(
       422,
