@@ -18,7 +18,7 @@
  *                         participant rows)
  *   figures/<name>.svg|png|txt
  *                         the forest plot (and a weighted fit's variance shares) and the figures of the first `reportFigureRegions` regions by
- *                         adjusted p, with captions (fit-figures.ts; participant plots only for callers
+ *                         adjusted p (a prediction's three figures at one column), with captions (fit-figures.ts; participant plots only for callers
  *                         who may see participant rows)
  *   recipe.json           the recipe (left out for a caller without participant rows: it names them)
  *   inputs.json           the data files the fit used: name, version, SHA-256, participants
@@ -54,7 +54,11 @@ import { modelRuleReason, ruleText } from "../../contract/exclusion-rules";
 import type { PredictionBlock } from "../../contract/prediction";
 import { specOfRecipe } from "../../contract/recipe";
 import { type CurveResultFields, curveChoices } from "../../contract/specification-curve";
-import type { FigureSummary, FigureWidth } from "../../contract/views/figures";
+import {
+  type FigureSummary,
+  type FigureWidth,
+  predictionFigureKinds,
+} from "../../contract/views/figures";
 import { curveSummaryWords, jointTestWords } from "../../components/fit/specification-curve-layout";
 import type { FitView } from "../../contract/views/fits";
 import { pixelsFor } from "../figures/png-resolution";
@@ -362,8 +366,11 @@ async function figureParts(
     .map((r) => r.region);
   // Whole-fit figures (every region) first, then each chosen region's own figures.
   const wholeFit = (f: FigureSummary) => f.kind === "forest" || f.kind === "variance-shares";
+  const ofPrediction = (f: FigureSummary) =>
+    (predictionFigureKinds as readonly string[]).includes(f.kind);
   const selected: FigureSummary[] = [
     ...figures.filter(wholeFit),
+    ...figures.filter(ofPrediction),
     ...chosen.flatMap((region) => figures.filter((f) => !wholeFit(f) && f.regions?.[0] === region)),
   ];
   const parts: ReportPart[] = [];

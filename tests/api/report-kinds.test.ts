@@ -5,7 +5,8 @@
  * what such a fit has — a curve its specifications as CSV and its summary
  * and joint test, a prediction its scores, per-repeat scores, region
  * weights and held-out predictions (no participant column for a restricted
- * study's Viewer). README.txt lists exactly the files present; two
+ * study's Viewer) and its three figures (no observed-predicted for that
+ * Viewer). README.txt lists exactly the files present; two
  * downloads are byte-identical. On the seeded demo study (invented data).
  */
 import { eq } from "drizzle-orm";
@@ -176,6 +177,9 @@ describe("a prediction's bundle", () => {
       "results/prediction-repeats.csv",
       "results/prediction-weights.csv",
       "results/predictions.csv",
+      ...["observed-predicted", "learning-curve", "weights"].flatMap((f) =>
+        ["svg", "png", "txt"].map((ext) => `figures/${f}.${ext}`),
+      ),
       "recipe.json",
       "inputs.json",
       "set-asides.csv",
@@ -215,6 +219,12 @@ describe("a prediction's bundle", () => {
       const viewer = filesOf(await download("viewer", fitId));
       const viewerNames = Object.keys(viewer);
       expect(viewerNames).not.toContain("recipe.json");
+      // observed-predicted draws one mark per participant: left out; the other two stay
+      expect(viewerNames.filter((n) => n.startsWith("figures/"))).toEqual(
+        ["learning-curve", "weights"].flatMap((f) =>
+          ["svg", "png", "txt"].map((ext) => `figures/${f}.${ext}`),
+        ),
+      );
       expect(readmeNames(viewer["README.txt"])).toEqual(viewerNames);
       const withheld = viewer["results/predictions.csv"].trimEnd().split("\r\n");
       expect(withheld[0]).toBe("observed,predicted");
