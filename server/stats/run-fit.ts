@@ -80,7 +80,7 @@ import type { QrDecomposition } from "./linear-model";
 import type { RearrangementChunk } from "./permutation";
 import { FIT_LEVEL, type RunFitOptions, assertFinite, cancelled, inRegion } from "./fit/common";
 import { diagnoseRegion } from "./fit/diagnose";
-import { type RegionWork, estimateRegionWork } from "./fit/estimate";
+import { type RegionWork, estimateRegionWork, regionDesign } from "./fit/estimate";
 import {
   type LinearTestBasis,
   bootstrapPass,
@@ -139,6 +139,7 @@ export type FitSummary = Omit<FitResult, "participants" | "regions" | "notes"> &
 function estimateAndDiagnose(
   prep: Prepared,
   options: RunFitOptions,
+  diagnose = true,
 ): { works: RegionWork[]; participants: ParticipantDiagnostics[] } {
   const { onProgress, shouldCancel } = options;
   const { data } = prep;
@@ -151,7 +152,7 @@ function estimateAndDiagnose(
     if (shouldCancel?.()) cancelled();
     inRegion(data.regions[r], () => {
       const work = estimateRegionWork(prep, r, qrCache);
-      if (work.qr) participants.push(...diagnoseRegion(prep, work));
+      if (work.qr && diagnose) participants.push(...diagnoseRegion(prep, work));
       works.push(work);
     });
     onProgress?.(Math.min(1, heavy ? (0.1 * (idx + 1)) / regionCount : (idx + 1) / regionCount));
@@ -211,8 +212,10 @@ export interface FitBeforeTest extends SplitTest {
  * The split test of a least-squares permutation fit (one-sample,
  * two-group or association with estimator "ols"), with the test's input
  * and setup that chunks are computed from. Throws StatsError as `runFit`
- * does for the same model and data. Cost: the estimate stage,
- * O(regions·n·p²), and the test's observed statistics.
+ * does for the same model and data when the test cannot be set up (a
+ * region whose estimate or diagnostics fail otherwise fails the regions
+ * before the test). Cost: each region's design, O(regions·n·p), and the
+ * test's observed statistics.
  */
 export function prepareSplitTest(
   spec: ModelSpec,
@@ -220,11 +223,17 @@ export function prepareSplitTest(
 ): { split: SplitTest } & Omit<ReturnType<typeof linearTestBasis>, "basis"> {
   const prep = prepare(spec, data);
   checkSplit(prep.spec);
-  const qrCache = new Map<string, QrDecomposition>();
-  const works = prep.regionIndex.map((r) =>
-    inRegion(data.regions[r], () => estimateRegionWork(prep, r, qrCache)),
-  );
-  const { basis, input, setup } = linearTestBasis(prep, works);
+  // The test reads each region's design and values, not its estimate.
+  const works = prep.regionIndex.map((r) => inRegion(data.regions[r], () => regionDesign(prep, r)));
+  let tested: ReturnType<typeof linearTestBasis>;
+  try {
+    tested = linearTestBasis(prep, works);
+  } catch (e) {
+    // A test that cannot be set up fails with runFit's message when the estimate stage fails first.
+    if (e instanceof StatsError) estimateAndDiagnose(prep, {}, false);
+    throw e;
+  }
+  const { basis, input, setup } = tested;
   return {
     split: { spec: prep.spec, test: basis, ruleExclusions: ruleExclusionsOf(prep) },
     input,

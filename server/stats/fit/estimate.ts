@@ -38,22 +38,8 @@ export function estimateRegionWork(
 ): RegionWork {
   const { data } = prep;
   const s = prep.spec;
-  const kind = s.kind as Kind;
-  const name = data.regions[r];
-  const rows = regionRows(prep, r);
-  const { design, tested, covariateColumns, x, groupIndicator } = designFor(prep, rows);
-  const y = Float64Array.from(rows, (i) => data.values[r][i]);
-  const regionData: RegionData = {
-    kind,
-    estimator: s.estimator as Estimator,
-    y,
-    design,
-    tested,
-    covariateColumns,
-    x,
-    groupIndicator,
-    level: FIT_LEVEL,
-  };
+  const { name, rows, data: regionData } = regionDesign(prep, r);
+  const { design } = regionData;
   const key = `${rows.join(",")}`;
   let qr: QrDecomposition | null = qrCache.get(key) ?? null;
   if (!qr && design.n > design.p) {
@@ -88,6 +74,37 @@ export function estimateRegionWork(
     }
   }
   return { r, name, rows, data: regionData, qr, result };
+}
+
+/**
+ * Region r's participants (regionRows, which throws StatsError below the
+ * minimum), design and values: what a permutation test reads of a region,
+ * without the estimate. Cost O(n·p).
+ */
+export function regionDesign(
+  prep: Prepared,
+  r: number,
+): Pick<RegionWork, "name" | "rows" | "data"> {
+  const { data } = prep;
+  const s = prep.spec;
+  const rows = regionRows(prep, r);
+  const { design, tested, covariateColumns, x, groupIndicator } = designFor(prep, rows);
+  const y = Float64Array.from(rows, (i) => data.values[r][i]);
+  return {
+    name: data.regions[r],
+    rows,
+    data: {
+      kind: s.kind as Kind,
+      estimator: s.estimator as Estimator,
+      y,
+      design,
+      tested,
+      covariateColumns,
+      x,
+      groupIndicator,
+      level: FIT_LEVEL,
+    },
+  };
 }
 
 /**

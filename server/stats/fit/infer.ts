@@ -36,6 +36,9 @@ import {
 } from "./notes";
 import type { Prepared } from "./prepare";
 
+/** What the least-squares permutation test reads of a region (`regionDesign`). */
+type PermutationWork = Pick<RegionWork, "name" | "rows" | "data">;
+
 /** Bins of the permutation null histogram. */
 export const NULL_HISTOGRAM_BINS = 40;
 
@@ -172,17 +175,17 @@ export function permutationPass(
  * block. Worker processes that compute a fit's chunks build it here too.
  * Cost O(regions·n).
  */
-export function linearPermutationInput(
+export function linearPermutationInput<W extends PermutationWork>(
   prep: Prepared,
-  works: readonly RegionWork[],
+  works: readonly W[],
 ): {
   input: SharedLinearPermutationInput;
-  lists: RegionWork[][];
+  lists: W[][];
   scheme: "sign-flip" | "freedman-lane";
 } {
   const s = prep.spec;
   const position = sharedPositions(prep, works);
-  const groups = new Map<string, RegionWork[]>();
+  const groups = new Map<string, W[]>();
   for (const w of works) {
     const key = w.rows.join(",");
     const list = groups.get(key) ?? [];
@@ -264,7 +267,7 @@ export interface LinearTestBasis {
  */
 export function linearTestBasis(
   prep: Prepared,
-  works: readonly RegionWork[],
+  works: readonly PermutationWork[],
 ): {
   basis: LinearTestBasis;
   input: SharedLinearPermutationInput;
@@ -319,7 +322,7 @@ export function mergedPermutationPass(
 /** The shared participants (available in at least one region, in roster order) and each one's position among them. */
 function sharedPositions(
   prep: Prepared,
-  works: readonly RegionWork[],
+  works: readonly PermutationWork[],
 ): { of: Int32Array; shared: number } {
   const of = new Int32Array(prep.data.participants.length).fill(-1);
   for (const w of works) for (const i of w.rows) of[i] = 0;

@@ -219,6 +219,27 @@ describe("a split permutation test merged into its regions before the test", () 
     expect(mergeTask(mergedOfStored("permutation", stored))).toBeNull(); // no split test, no parts
   });
 
+  it("plans from the regions' designs and refuses a rank-deficient one with runFit's message", () => {
+    const age = data.numericColumns.age as number[];
+    const twice = {
+      ...data,
+      numericColumns: { ...data.numericColumns, twice: age.map((a) => 2 * a) },
+    };
+    const collinear = { ...spec, covariates: ["age", "twice"] };
+    const message = (f: () => unknown) => {
+      try {
+        f();
+      } catch (e) {
+        return (e as Error).message;
+      }
+      return "no error";
+    };
+    const fromRunFit = message(() => runFit(collinear, twice));
+    expect(fromRunFit).toMatch(/^region 'region 1': the design is rank deficient: column 'twice'/);
+    expect(message(() => chunkedFit(collinear, twice))).toBe(fromRunFit);
+    expect(message(() => runRegionsBeforeTest(collinear, twice))).toBe(fromRunFit);
+  });
+
   it("refuses a fit that is not a least-squares permutation test, a missing chunk or region part", () => {
     expect(() =>
       runRegionsBeforeTest({ ...spec, inference: "bootstrap", correction: "holm" }, data),
