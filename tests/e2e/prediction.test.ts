@@ -5,10 +5,12 @@
  * the API. In the browser the fit shows the held-out scores in words and as
  * tiles, and the caution on reading a prediction, in its first screen; the
  * observed against predicted plot, the learning curve and the weight dot
- * chart are drawn; nothing scrolls sideways and the page logs no errors.
+ * chart are drawn, each with its Figure row (SVG, two PNGs, caption; the
+ * weights SVG downloads); nothing scrolls sideways and the page logs no errors.
  * The model form offers the kind with its own plain-words question and
  * fields.
  */
+import { readFileSync } from "node:fs";
 import { beforeAll, expect, it } from "vitest";
 import type { PredictionBlock } from "../../contract/prediction";
 import { demoApi, openPage, phone, runFitToDone, screenshot, wide } from "./harness";
@@ -98,6 +100,26 @@ for (const [label, viewport] of [
         await plot.scrollIntoViewIfNeeded();
         await expect(plot.locator("svg").first().isVisible()).resolves.toBe(true);
       }
+      // Each plot's Figure row: four links, at least 44 px tall, inside the viewport's width.
+      for (const name of ["observed-predicted", "learning-curve", "weights"])
+        for (const link of ["svg", "png-89", "png-183", "caption"]) {
+          const control = page.getByTestId(`figure-${name}-${link}`);
+          await control.scrollIntoViewIfNeeded();
+          const box = await control.boundingBox();
+          expect(box, `${name}-${link}`).not.toBeNull();
+          expect(box?.height ?? 0, `${name}-${link}`).toBeGreaterThanOrEqual(44);
+          expect(box?.x ?? -1, `${name}-${link}`).toBeGreaterThanOrEqual(0);
+          expect((box?.x ?? 0) + (box?.width ?? 0), `${name}-${link}`).toBeLessThanOrEqual(
+            viewport.width,
+          );
+        }
+      const [download] = await Promise.all([
+        page.waitForEvent("download"),
+        page.getByTestId("figure-weights-svg").click(),
+      ]);
+      expect(download.suggestedFilename()).toBe(`fit-${fitId.slice(0, 8)}-weights-89mm.svg`);
+      const svgText = readFileSync((await download.path()) as string, "utf8");
+      expect(svgText.match(/class="weight-row"/g)?.length).toBe(block.regions.length);
       const dots = await page.getByTestId("weight-dot-plot").locator("svg circle").count();
       expect(dots).toBe(Math.min(30, block.regions.length));
       await page.getByTestId("prediction-scores").scrollIntoViewIfNeeded();
