@@ -1,7 +1,8 @@
 /**
  * Scale: one max-T Freedman–Lane fit on a PostgreSQL server, computed by
- * the embedded path (its chunks on one thread per core, merged on the fit
- * thread), by one worker process and
+ * the embedded path (its chunks on one thread per core, its regions before
+ * the test on the fit thread beside them, merged on a chunk thread), by one
+ * worker process and
  * by two (`npm run worker`, the job queue), with the same numbers.
  *
  * The issue's size is 20,000 participants × 400 regions × 5 regressors ×
@@ -228,7 +229,7 @@ export default async function scaleBench(): Promise<void> {
     const embedded = await runFitVia("embedded", embeddedJobs);
     await embeddedJobs.close();
     console.log(
-      `embedded path (plan and chunks on ${embeddedJobs.chunkThreads} chunk threads, merge on the fit thread): ${embedded.wall.toFixed(1)} s`,
+      `embedded path (plan and chunks on ${embeddedJobs.chunkThreads} chunk threads, regions before the test on the fit thread beside them, merge on a chunk thread): ${embedded.wall.toFixed(1)} s`,
     );
 
     // The kernel's cost per chunk, on one thread in this process (the same chunks the workers compute).
