@@ -175,7 +175,7 @@ function scoreLines(p: PredictionCaptionInput): string[] {
 
 function foldsLine(block: PredictionBlock): string {
   const trainings = block.lambdas.length;
-  return `Cross-validation: ${schemeWords(block)}${trainings > 0 ? ` (${count(trainings, "training fold")} in all)` : ""}, ridge regression on the standardized regions.`;
+  return `Cross-validation of N = ${formatCount(block.participants.length)} participants: ${schemeWords(block)}${trainings > 0 ? ` (${count(trainings, "training fold")} in all)` : ""}, ridge regression on the standardized regions.`;
 }
 
 function confoundsLine(p: PredictionCaptionInput): string {

@@ -20,7 +20,7 @@ import {
 } from "../../../server/figures/figure-svg";
 import { outlineSvg } from "../../../server/figures/outline";
 import { HttpError } from "../../../server/http/errors";
-import { figurePng, listFigures } from "../../../server/services/fit-figures";
+import { figureCaption, figurePng, listFigures } from "../../../server/services/fit-figures";
 import { parseXml } from "./xml-check";
 
 const noDb = null as unknown as Queryable;
@@ -108,6 +108,23 @@ describe("a prediction fit's figure list", () => {
     );
     expect(error.status).toBe(422);
     expect(error.code).toBe("figure_too_large");
+  });
+});
+
+describe("the prediction figures' captions", () => {
+  it("name N, the folds and repeats, and the caution on weights", async () => {
+    const fit = fitOf(blockOf(4));
+    const access = { participantsVisible: true };
+    for (const name of ["observed-predicted", "learning-curve", "weights"]) {
+      const text = await figureCaption(noDb, fit, name, access);
+      expect(text, name).toContain(
+        "Cross-validation of N = 17 participants: 2 repeats of 5-fold cross-validation",
+      );
+    }
+    expect(await figureCaption(noDb, fit, "learning-curve", access)).toContain(
+      "7 (50%), 13 (100%) training rows",
+    );
+    expect(await figureCaption(noDb, fit, "weights", access)).toContain("Haufe et al. 2014");
   });
 });
 
