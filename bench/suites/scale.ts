@@ -254,6 +254,7 @@ export default async function scaleBench(): Promise<void> {
       beforeFirst: number;
       mergeSeconds: number;
       beforeTestAt: number;
+      firstChunks: number[];
     }[] = [];
     for (const count of [1, 2]) {
       while (workers.length < count) workers.push(startWorker(databaseUrl));
@@ -263,7 +264,7 @@ export default async function scaleBench(): Promise<void> {
       const run = await runFitVia(`${count} worker(s)`, jobs);
       await jobs.close();
       const parts = await db
-        .select({ at: fitChunks.computedAt, block: fitChunks.block })
+        .select({ at: fitChunks.computedAt, block: fitChunks.block, worker: fitChunks.workerId })
         .from(fitChunks)
         .where(eq(fitChunks.fitId, run.id))
         .orderBy(fitChunks.computedAt);
@@ -273,6 +274,10 @@ export default async function scaleBench(): Promise<void> {
         .where(eq(fits.id, run.id));
       const seconds = (at: Date | undefined) => ((at?.getTime() ?? 0) - run.startedAt) / 1000;
       const firstChunk = parts.find((p) => p.block >= 0)?.at;
+      // Each worker's first chunk: a worker that did not plan the fit plans it for its chunks first.
+      const firstOf = new Map<string, Date>();
+      for (const p of parts)
+        if (p.block >= 0 && !firstOf.has(p.worker)) firstOf.set(p.worker, p.at);
       results.push({
         workers: count,
         wall: run.wall,
@@ -280,6 +285,7 @@ export default async function scaleBench(): Promise<void> {
         beforeFirst: seconds(firstChunk) - chunkSeconds,
         mergeSeconds: seconds(fitDone.finishedAt ?? undefined) - seconds(parts.at(-1)?.at),
         beforeTestAt: seconds(parts.findLast((p) => p.block === -1)?.at),
+        firstChunks: [...firstOf.values()].map((at) => seconds(at)),
       });
     }
     const [{ stored }] = await db
@@ -293,7 +299,7 @@ export default async function scaleBench(): Promise<void> {
       const overhead = r.wall - computeSeconds / r.workers;
       const between = overhead - r.beforeFirst - r.mergeSeconds;
       console.log(
-        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
+        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s · each worker's first chunk stored at ${r.firstChunks.map((x) => `${x.toFixed(1)} s`).join(", ")} · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
       );
     }
     console.log(`chunk rows stored: ${stored} (each chunk of each run once)`);
