@@ -462,7 +462,7 @@ export class FitWorker {
       const merged = mergedOfStored(kind, stored);
       const task = mergeTask(merged);
       if (task) {
-        // The fit before its test was stored with its parts: a chunk thread adds the counts.
+        // The split test and the regions before it were stored as parts: a chunk thread adds the counts.
         await this.finishMerge(fitId, task, merged, row.startedAt ?? new Date());
         await markMerged(this.db, fitId, new Date());
         return;
