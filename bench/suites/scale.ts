@@ -36,6 +36,7 @@ import { openServerDatabase } from "../../db/client";
 import { migrateDatabase } from "../../db/migrate";
 import { fitChunks, fits, memberships, models, studies, users } from "../../db/schema";
 import { ROWS_PART_REGIONS, chunkedFit, chunkTask } from "../../server/jobs/fit-chunks";
+import { DEFAULT_UPLOAD_LIMITS } from "../../server/jobs/intake-file";
 import runPermutationTask from "../../server/jobs/permutation-task";
 import { confirmUpload, previewUpload } from "../../server/services/datasets";
 import { buildFitInputs, inputsOfFit } from "../../server/services/fit-inputs";
@@ -148,6 +149,11 @@ export default async function scaleBench(): Promise<void> {
         fileName,
         upload: { bytes },
         byteSize: bytes.byteLength,
+        // The full size's brain table is 65 MB: over the default limit, as a deployment would raise it (MAX_UPLOAD_MB).
+        limits: {
+          ...DEFAULT_UPLOAD_LIMITS,
+          maxBytes: Math.max(DEFAULT_UPLOAD_LIMITS.maxBytes, 2 * bytes.byteLength),
+        },
         options: {},
         uploader: actor,
         now: new Date(),
