@@ -29,6 +29,13 @@ export type FigureKind = (typeof figureKinds)[number];
 /** The figures of a prediction fit (named by their kind; the fit has no region rows). */
 export const predictionFigureKinds = ["observed-predicted", "learning-curve", "weights"] as const;
 
+/** Whether a figure is one of a prediction fit's (the figures routes and the report bundle). */
+export function isPredictionFigureKind(
+  kind: string,
+): kind is (typeof predictionFigureKinds)[number] {
+  return (predictionFigureKinds as readonly string[]).includes(kind);
+}
+
 /** The figures drawn per region. */
 export type RegionFigureKind = Exclude<
   FigureKind,

@@ -53,7 +53,7 @@ import {
   type FigureSummary,
   type FigureWidth,
   figureName,
-  predictionFigureKinds,
+  isPredictionFigureKind,
 } from "../../contract/views/figures";
 import {
   type CaptionContext,
@@ -240,7 +240,8 @@ async function build(
   const ctx = context(fit);
   const regions = doneRegions(fit);
   const prediction = predictionOf(fit);
-  if (prediction && isPredictionKind(figure.kind)) return buildPrediction(ctx, prediction, figure);
+  if (prediction && isPredictionFigureKind(figure.kind))
+    return buildPrediction(ctx, prediction, figure);
   if (figure.kind === "forest") {
     const label = estimateLabel(ctx.spec);
     return {
@@ -316,10 +317,6 @@ async function build(
     figure: { kind: "null", input, title: figure.title },
     caption: nullCaption(ctx, summary, nullHistogramWords(input).caption),
   };
-}
-
-function isPredictionKind(kind: FigureKind): kind is (typeof predictionFigureKinds)[number] {
-  return (predictionFigureKinds as readonly FigureKind[]).includes(kind);
 }
 
 /** The screen's trait name and confounds (fit-screen.tsx passes the same to PredictionView). */

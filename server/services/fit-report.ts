@@ -57,7 +57,7 @@ import { type CurveResultFields, curveChoices } from "../../contract/specificati
 import {
   type FigureSummary,
   type FigureWidth,
-  predictionFigureKinds,
+  isPredictionFigureKind,
 } from "../../contract/views/figures";
 import { curveSummaryWords, jointTestWords } from "../../components/fit/specification-curve-layout";
 import type { FitView } from "../../contract/views/fits";
@@ -366,8 +366,7 @@ async function figureParts(
     .map((r) => r.region);
   // Whole-fit figures (every region) first, then each chosen region's own figures.
   const wholeFit = (f: FigureSummary) => f.kind === "forest" || f.kind === "variance-shares";
-  const ofPrediction = (f: FigureSummary) =>
-    (predictionFigureKinds as readonly string[]).includes(f.kind);
+  const ofPrediction = (f: FigureSummary) => isPredictionFigureKind(f.kind);
   const selected: FigureSummary[] = [
     ...figures.filter(wholeFit),
     ...figures.filter(ofPrediction),
