@@ -285,24 +285,28 @@ function identityColumns(plan: LinearPermutationPlan, columns: Float64Array): vo
  * Writes the rearranged basis Q̃ (column-major) for the current
  * rearrangement: sign flips scale rows; label assignments and permutations
  * move rows (moving rows of Q by σ equals permuting e by σ⁻¹, and both walk
- * the same set of rearrangements). Cost O(n·p).
+ * the same set of rearrangements). `basisColumns` is the plan's basis
+ * in column-major order. Cost O(n·p).
  */
 function rearrangedColumns(
   plan: LinearPermutationPlan,
+  basisColumns: Float64Array,
   order: Int32Array,
   signs: Float64Array,
   columns: Float64Array,
 ): void {
   const { n, p, basis, kind, groupOrder } = plan;
+  // Column by column from the column-major basis: the writes run in order
+  // and each column's reads stay within one column.
   if (kind === "signs") {
-    for (let i = 0; i < n; i++) {
-      const s = signs[i];
-      for (let k = 0; k < p; k++) columns[k * n + i] = s * basis[i * p + k];
+    for (let k = 0; k < p; k++) {
+      const c = k * n;
+      for (let i = 0; i < n; i++) columns[c + i] = signs[i] * basisColumns[c + i];
     }
   } else if (kind === "permutations") {
-    for (let i = 0; i < n; i++) {
-      const src = order[i] * p;
-      for (let k = 0; k < p; k++) columns[k * n + i] = basis[src + k];
+    for (let k = 0; k < p; k++) {
+      const c = k * n;
+      for (let i = 0; i < n; i++) columns[c + i] = basisColumns[c + order[i]];
     }
   } else {
     // Slot j of the walk stands for unit groupOrder[j]; the units in the
@@ -796,7 +800,7 @@ interface BlockState {
   gathered: Float64Array;
   /** one-region blocks: Q′ẽ for each rearrangement of the chunk */
   products: Float64Array;
-  /** one-region blocks: the basis, column-major */
+  /** the basis, column-major */
   columns: Float64Array;
 }
 
@@ -902,12 +906,9 @@ export function countExtremeRearrangements(input: {
       signs: new Float64Array(full ? 0 : m),
       gathered: new Float64Array(!full && count === 1 ? CHUNK * m + 1 : 0),
       products: new Float64Array(!full && count === 1 ? CHUNK * block.plan.p : 0),
-      columns: new Float64Array(0),
+      columns: new Float64Array(m * block.plan.p),
     };
-    if (!full && count === 1) {
-      state.columns = new Float64Array(m * block.plan.p);
-      identityColumns(block.plan, state.columns);
-    }
+    identityColumns(block.plan, state.columns);
     regions += count;
     return state;
   });
@@ -948,7 +949,7 @@ export function countExtremeRearrangements(input: {
       for (const st of others) {
         const { block, t } = st;
         if (st.full) {
-          rearrangedColumns(block.plan, walk.order, walk.signs, st.work.columns);
+          rearrangedColumns(block.plan, st.columns, walk.order, walk.signs, st.work.columns);
         } else {
           if (draw.kind === "signs") {
             regionSigns(walk.signs, block.members as Int32Array, st.signs);
@@ -957,7 +958,7 @@ export function countExtremeRearrangements(input: {
             // Moving basis row from[j] to row j equals giving row j the residual of from[j].
             for (let j = 0; j < st.from.length; j++) st.order[st.from[j]] = j;
           }
-          rearrangedColumns(block.plan, st.order, st.signs, st.work.columns);
+          rearrangedColumns(block.plan, st.columns, st.order, st.signs, st.work.columns);
         }
         regionStatistics(
           block.plan,

@@ -13,6 +13,13 @@ export interface Rng {
   next(): number;
   /** Uniform integer in [0, n) without modulo bias. Requires 1 ≤ n ≤ 2^32. */
   int(n: number): number;
+  /**
+   * Fisher–Yates shuffle of `a` in place (Durstenfeld's form): for i from
+   * n − 1 down to 1, swap a[i] with a[int(i + 1)]. The same draws and swaps
+   * as that loop over `int`, with the generator's state in registers.
+   * Cost O(n).
+   */
+  shuffle(a: Int32Array): void;
   /** The seed this generator was created with. */
   readonly seed: number;
 }
@@ -101,22 +108,23 @@ export function createBlockRng(seed: number, block: number): Rng {
 
 /** A generator drawing on from the xoshiro128** state `state` (copied). */
 export function rngOfState(state: Uint32Array, seed: number): Rng {
-  let a = state[0];
-  let b = state[1];
-  let c = state[2];
-  let d = state[3];
+  // The state words are kept as signed 32-bit integers (the same bits):
+  // unsigned words above 2^31 would not fit V8's small integers, and every
+  // update would allocate a number on the heap.
+  let a = state[0] | 0;
+  let b = state[1] | 0;
+  let c = state[2] | 0;
+  let d = state[3] | 0;
   const nextUint32 = (): number => {
-    const result = Math.imul(rotl(Math.imul(b, 5) >>> 0, 7), 9) >>> 0;
-    const t = (b << 9) >>> 0;
+    const m = Math.imul(b, 5);
+    const result = Math.imul((m << 7) | (m >>> 25), 9) >>> 0;
+    const t = b << 9;
     c ^= a;
     d ^= b;
     b ^= c;
     a ^= d;
     c ^= t;
-    d = rotl(d, 11);
-    a >>>= 0;
-    b >>>= 0;
-    c >>>= 0;
+    d = (d << 11) | (d >>> 21);
     return result;
   };
   return {
@@ -126,11 +134,51 @@ export function rngOfState(state: Uint32Array, seed: number): Rng {
       if (!(n >= 1 && n <= 4294967296 && Number.isInteger(n))) {
         throw new RangeError("Rng.int requires an integer bound between 1 and 2^32");
       }
-      // Lemire-style rejection on the 32-bit draw keeps the result unbiased.
-      const limit = 4294967296 - (4294967296 % n);
-      let x = nextUint32();
-      while (x >= limit) x = nextUint32();
-      return x % n;
+      // Rejection on the 32-bit draw keeps the result unbiased: a draw x in
+      // the last, incomplete run of n below 2^32 ((q + 1)·n > 2^32 for
+      // q = ⌊x / n⌋) is drawn again, and the result is x − q·n = x mod n.
+      // q comes from one floating-point division, exactly: x / n lies at
+      // least 1/n below q + 1, far more than half the spacing of doubles
+      // near q + 1 ≤ 2^32 / n + 1, so rounding never reaches q + 1.
+      let x: number;
+      let q: number;
+      do {
+        x = nextUint32();
+        q = Math.floor(x / n);
+      } while ((q + 1) * n > 4294967296);
+      return x - q * n;
+    },
+    shuffle(arr: Int32Array): void {
+      // nextUint32 and int (its rejection and exact quotient) written out, the state in locals.
+      let sa = a;
+      let sb = b;
+      let sc = c;
+      let sd = d;
+      for (let i = arr.length - 1; i > 0; i--) {
+        const m = i + 1;
+        let x: number;
+        let q: number;
+        do {
+          const w = Math.imul(sb, 5);
+          x = Math.imul((w << 7) | (w >>> 25), 9) >>> 0;
+          const t = sb << 9;
+          sc ^= sa;
+          sd ^= sb;
+          sb ^= sc;
+          sa ^= sd;
+          sc ^= t;
+          sd = (sd << 11) | (sd >>> 21);
+          q = Math.floor(x / m);
+        } while ((q + 1) * m > 4294967296);
+        const j = x - q * m;
+        const v = arr[i];
+        arr[i] = arr[j];
+        arr[j] = v;
+      }
+      a = sa;
+      b = sb;
+      c = sc;
+      d = sd;
     },
   };
 }

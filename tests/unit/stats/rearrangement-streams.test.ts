@@ -57,6 +57,42 @@ describe("rearrangement streams: xoshiro128** and its jump", () => {
     ]);
   });
 
+  it("draws bounded integers and shuffles exactly as rejection with a remainder and Fisher–Yates do", () => {
+    // The definitions (common practice, no source beyond Durstenfeld 1964, CACM 7:420 for the
+    // shuffle): reject 32-bit outputs x ≥ 2^32 − (2^32 mod n), return x mod n; the shuffle swaps
+    // a[i] with a[int(i + 1)] for i = n − 1 … 1. The generator computes both with one exact
+    // floating-point quotient; the draws must be the same, bound for bound, near 2^32 too.
+    const textbookInt = (raw: () => number, n: number): number => {
+      const limit = 4294967296 - (4294967296 % n);
+      let x = raw();
+      while (x >= limit) x = raw();
+      return x % n;
+    };
+    const bounds = [1, 2, 3, 7, 500, 2000, 65536, 1e6, 2 ** 31 - 1, 2 ** 31, 2 ** 31 + 1, 3e9];
+    for (const seed of [1, 99, 123456789]) {
+      const raw = rngOfState(seedState(seed), seed);
+      const rawOutput = () => raw.next() * 4294967296;
+      const rng = createRng(seed);
+      for (let k = 0; k < 20000; k++) {
+        const n = k % 4 === 0 ? bounds[k % bounds.length] : 1 + ((k * 7919) % 50000);
+        expect(rng.int(n)).toBe(textbookInt(rawOutput, n));
+      }
+      expect(rng.int(2 ** 32)).toBe(rawOutput());
+      for (const length of [0, 1, 2, 5, 2001]) {
+        const expected = Int32Array.from({ length }, (_, i) => i);
+        for (let i = length - 1; i > 0; i--) {
+          const j = textbookInt(rawOutput, i + 1);
+          [expected[i], expected[j]] = [expected[j], expected[i]];
+        }
+        const shuffled = Int32Array.from({ length }, (_, i) => i);
+        rng.shuffle(shuffled);
+        expect(Array.from(shuffled)).toEqual(Array.from(expected));
+      }
+      // Both left the generator at the same place.
+      expect(rng.next() * 4294967296).toBe(rawOutput());
+    }
+  });
+
   it("steps the state as the generator does", () => {
     const s = seedState(42);
     const rng = rngOfState(s, 42);
