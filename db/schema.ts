@@ -647,6 +647,30 @@ export const fitRuns = pgTable("fit_runs", {
 });
 
 /**
+ * What a split permutation test's chunks need, one row per region chunk,
+ * written once by the worker that plans the fit so that other workers
+ * compute their chunks without loading the data or planning again:
+ * `setup` is the region chunk's blocks (basis, reduced-model residuals,
+ * observed statistics) with the draw, seed and test options, in the
+ * structured-clone serialization (node:v8, exact for numbers and typed
+ * arrays). It serves chunks `chunk_from` … `chunk_to` − 1 and is removed
+ * once the fit is merged, fails or is cancelled.
+ */
+export const fitChunkSetups = pgTable(
+  "fit_chunk_setups",
+  {
+    fitId: text("fit_id")
+      .notNull()
+      .references(() => fits.id, { onDelete: "cascade" }),
+    regionChunk: integer("region_chunk").notNull(),
+    chunkFrom: integer("chunk_from").notNull(),
+    chunkTo: integer("chunk_to").notNull(),
+    setup: bytea("setup").notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.fitId, t.regionChunk] })],
+);
+
+/**
  * One computed chunk of a fit's permutation test, written once (a retried
  * chunk whose row exists adds nothing). The arrays are little-endian
  * binary as base64 text: `counts` Float64 per region of the chunk,

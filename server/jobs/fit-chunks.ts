@@ -231,17 +231,106 @@ export function chunkTask(
   chunk: number,
   control: SharedArrayBuffer,
 ): PermutationTask {
-  const [from, to] = fit.regionChunks[Math.floor(chunk / fit.blocks)];
+  checkChunk(fit, chunk);
+  return setupChunkTask(regionChunkSetup(fit, Math.floor(chunk / fit.blocks)), chunk, control);
+}
+
+/**
+ * Everything the chunks of one region chunk of a split permutation test
+ * need — its regions' blocks, the draw, the seed and the test's options —
+ * and nothing of the rest of the fit. The worker that plans a fit stores
+ * one per region chunk (`serializeSetup`), so that other workers compute
+ * chunks without loading the data or planning again. Structured-cloneable.
+ */
+export interface RegionChunkSetup {
+  regionChunk: number;
+  /** the chunks it serves: chunkFrom … chunkTo − 1 (its region chunk × every rearrangement block) */
+  chunkFrom: number;
+  chunkTo: number;
+  /** first region of its region chunk */
+  regionFrom: number;
+  draw: PermutationTask["draw"];
+  blocks: PermutationTask["blocks"];
+  seed: number;
+  maxT: boolean;
+  keepNull: boolean;
+}
+
+/** Region chunk `regionChunk`'s setup. Cost O(its regions·n) (a copy of its residuals). */
+export function regionChunkSetup(fit: ChunkedFit, regionChunk: number): RegionChunkSetup {
+  const range = fit.regionChunks[regionChunk];
+  if (!range)
+    throw new Error(
+      `fit chunks: no region chunk ${regionChunk} (the fit has ${fit.regionChunks.length})`,
+    );
+  const [from, to] = range;
   return {
+    regionChunk,
+    chunkFrom: regionChunk * fit.blocks,
+    chunkTo: (regionChunk + 1) * fit.blocks,
+    regionFrom: from,
     draw: fit.setup.draw,
     blocks: sliceBlocks(fit.setup.blocks, from, to),
     seed: fit.seed,
-    block: chunkPlace(fit, chunk).block,
     maxT: fit.maxT,
     keepNull: fit.keepNull,
+  };
+}
+
+/** Every region chunk's setup of a split permutation test, in order. */
+export function regionChunkSetups(fit: ChunkedFit): RegionChunkSetup[] {
+  return fit.regionChunks.map((_, r) => regionChunkSetup(fit, r));
+}
+
+/** Throws unless `chunk` is one of the chunks `setup` serves. */
+function checkSetupChunk(setup: RegionChunkSetup, chunk: number): void {
+  if (!(Number.isInteger(chunk) && chunk >= setup.chunkFrom && chunk < setup.chunkTo))
+    throw new Error(
+      `fit chunks: chunk ${chunk} is not of region chunk ${setup.regionChunk} (chunks ${setup.chunkFrom}–${setup.chunkTo - 1})`,
+    );
+}
+
+/** The thread task computing chunk `chunk` from its region chunk's setup. */
+export function setupChunkTask(
+  setup: RegionChunkSetup,
+  chunk: number,
+  control: SharedArrayBuffer,
+): PermutationTask {
+  checkSetupChunk(setup, chunk);
+  return {
+    draw: setup.draw,
+    blocks: setup.blocks,
+    seed: setup.seed,
+    block: chunk - setup.chunkFrom,
+    maxT: setup.maxT,
+    keepNull: setup.keepNull,
     control,
     worker: 0,
   };
+}
+
+/** The stored form of a setup (node:v8 serialization: exact for numbers and typed arrays). */
+export function serializeSetup(setup: RegionChunkSetup): Buffer {
+  return serialize(setup);
+}
+
+/** A stored setup back. */
+export function deserializeSetup(bytes: Uint8Array): RegionChunkSetup {
+  return deserialize(bytes) as RegionChunkSetup;
+}
+
+/** The stored form of chunk `chunk`'s counts, computed from its region chunk's setup. Cost O(size). */
+export function encodeSetupChunk(
+  setup: RegionChunkSetup,
+  chunk: number,
+  counts: RearrangementCounts,
+): StoredChunk {
+  checkSetupChunk(setup, chunk);
+  return permutationChunkRow(
+    chunk,
+    { regionFrom: setup.regionFrom, block: chunk - setup.chunkFrom },
+    counts,
+  );
 }
 
 /**
@@ -316,8 +405,15 @@ export function encodeChunk(fit: FitChunks, chunk: number, result: ChunkResult):
       rearrangements: result.nulls.length,
     };
   }
-  const counts = result.counts;
-  const place = chunkPlace(fit as ChunkedFit, chunk);
+  return permutationChunkRow(chunk, chunkPlace(fit as ChunkedFit, chunk), result.counts);
+}
+
+/** The stored row of a permutation chunk at `place`. Cost O(size). */
+function permutationChunkRow(
+  chunk: number,
+  place: { regionFrom: number; block: number },
+  counts: RearrangementCounts,
+): StoredChunk {
   let nulls: string | null = null;
   if (counts.nulls) {
     const width = counts.rearrangements;

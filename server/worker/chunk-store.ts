@@ -1,14 +1,21 @@
 /**
  * What worker processes read and write besides a fit's own row (which
  * services/fit-store.ts writes): the fit's chunk plan (`fit_runs`), its
+ * region chunks' setups (`fit_chunk_setups`, each written once, removed
+ * when the fit ends), its
  * computed chunks (`fit_chunks`, each written once), the merge claim, and
  * worker heartbeats (`workers`; services/workers.ts lists them). PostgreSQL
  * server only.
  */
-import { and, count, eq, isNull } from "drizzle-orm";
+import { and, count, eq, gt, isNull, lte, sql } from "drizzle-orm";
 import { type Database, driverOf } from "../../db/client";
-import { fitChunks, fitRuns, fits, workers } from "../../db/schema";
-import type { StoredChunk } from "../jobs/fit-chunks";
+import { fitChunkSetups, fitChunks, fitRuns, fits, workers } from "../../db/schema";
+import {
+  deserializeSetup,
+  type RegionChunkSetup,
+  type StoredChunk,
+  serializeSetup,
+} from "../jobs/fit-chunks";
 
 /** A fit's status, recipe, inputs and first start, or null when it is gone. */
 export async function fitRow(db: Database, fitId: string) {
@@ -43,6 +50,51 @@ export async function planOf(db: Database, fitId: string) {
     .from(fitRuns)
     .where(eq(fitRuns.fitId, fitId));
   return row ?? null;
+}
+
+/** Stores a fit's region-chunk setups, one row each (a setup already stored is kept). */
+export async function storeSetups(
+  db: Database,
+  fitId: string,
+  setups: readonly RegionChunkSetup[],
+): Promise<void> {
+  // One row per statement: a region chunk's setup is tens of megabytes at biobank size.
+  for (const setup of setups) {
+    await db
+      .insert(fitChunkSetups)
+      .values({
+        fitId,
+        regionChunk: setup.regionChunk,
+        chunkFrom: setup.chunkFrom,
+        chunkTo: setup.chunkTo,
+        setup: sql`decode(${serializeSetup(setup).toString("base64")}, 'base64')`,
+      })
+      .onConflictDoNothing();
+  }
+}
+
+/** The setup serving chunk `chunk` of the fit, or null when none is stored (a fit planned without them, or not a permutation test). */
+export async function setupOf(
+  db: Database,
+  fitId: string,
+  chunk: number,
+): Promise<RegionChunkSetup | null> {
+  const [row] = await db
+    .select({ setup: sql<string>`encode(${fitChunkSetups.setup}, 'base64')` })
+    .from(fitChunkSetups)
+    .where(
+      and(
+        eq(fitChunkSetups.fitId, fitId),
+        lte(fitChunkSetups.chunkFrom, chunk),
+        gt(fitChunkSetups.chunkTo, chunk),
+      ),
+    );
+  return row ? deserializeSetup(Buffer.from(row.setup, "base64")) : null;
+}
+
+/** Removes a fit's setups (it was merged, failed or was cancelled). */
+export async function forgetSetups(db: Database, fitId: string): Promise<void> {
+  await db.delete(fitChunkSetups).where(eq(fitChunkSetups.fitId, fitId));
 }
 
 /** Whether chunk `chunk` of the fit is stored. */

@@ -7,8 +7,9 @@
  * - `fit`: a queued fit becomes running. A split fit (server/jobs/
  *   fit-chunks.ts) records its number of parts and sends one `fit-chunk`
  *   job per chunk; a split permutation test also stores its split test
- *   (the test's observed statistics, a part) and sends one `fit-rows` job
- *   per part of its regions. Any other fit is computed whole here, as the
+ *   (the test's observed statistics, a part) and each region chunk's setup
+ *   (what its chunks need; removed when the fit ends), and sends one
+ *   `fit-rows` job per part of its regions. Any other fit is computed whole here, as the
  *   embedded path computes it (server/jobs/fit-task.ts).
  * - `fit-rows`: a part of a split permutation test's regions before the
  *   test (`runRegionsBeforeTest`: estimates, diagnostics, rows and plots,
@@ -16,7 +17,9 @@
  *   chunk thread computes chunks; its rows and then its mark (with the
  *   regions' results) are stored once, as a part.
  * - `fit-chunk`: computes one chunk and stores it once (a chunk already
- *   stored is not computed again and adds nothing); progress is the share
+ *   stored is not computed again and adds nothing) — a permutation test's
+ *   chunk from its region chunk's stored setup, read once per process, so
+ *   that no worker but the planner loads the data or plans; progress is the share
  *   of parts stored. The one that stores the last part sends `fit-merge`
  *   (and takes it at once).
  *   While it computes, the fit's status is read every second: a fit that is
@@ -51,15 +54,19 @@ import {
   chunkKind,
   chunkTaskOf,
   encodeChunk,
+  encodeSetupChunk,
   type FitChunks,
   fitChunks,
   type MergedChunks,
   mergedOfStored,
   mergeTask,
   partCount,
+  type RegionChunkSetup,
+  regionChunkSetups,
   type RowsPart,
   rowsMark,
   rowsParts,
+  setupChunkTask,
   splitMark,
   transferablesOf,
 } from "../jobs/fit-chunks";
@@ -76,12 +83,15 @@ import {
   beat,
   fitRow,
   fitStatus,
+  forgetSetups,
   forgetWorker,
   hasChunk,
   markMerged,
   planOf,
   recordPlan,
+  setupOf,
   storeChunk,
+  storeSetups,
   storedChunks,
   withMergeLock,
 } from "./chunk-store";
@@ -122,6 +132,8 @@ export class FitWorker {
   private readonly log: (error: unknown, context: string) => void;
   private readonly startedAt = new Date();
   private readonly plans = new Map<string, Promise<FitChunks>>();
+  /** Region-chunk setups read or made here, by fit and region chunk (the last few). */
+  private readonly setups = new Map<string, Promise<RegionChunkSetup | null>>();
   /** The queue taker (pg-boss worker id) of each queue in this process. */
   private readonly takers = new Map<string, string>();
   private boss: PgBoss | null = null;
@@ -219,6 +231,7 @@ export class FitWorker {
   private async fail(fitId: string, code: string, message: string): Promise<void> {
     const failed = await this.store.markFailed(fitId, code, message, new Date());
     await this.store.clearRegionRows(fitId);
+    await forgetSetups(this.db, fitId);
     if (failed)
       this.emit({
         type: "status",
@@ -283,8 +296,14 @@ export class FitWorker {
     this.plans.set(fitId, Promise.resolve(plan));
     await recordPlan(this.db, fitId, partCount(plan), startedAt);
     const parts = rowsParts(plan);
-    if (plan.kind === "permutation")
+    if (plan.kind === "permutation") {
       await storeChunk(this.db, fitId, splitMark(plan), this.id, new Date());
+      // Stored before the chunks are sent, so that no other worker plans the fit again.
+      const setups = regionChunkSetups(plan);
+      await storeSetups(this.db, fitId, setups);
+      for (const setup of setups)
+        this.keepSetup(`${fitId}:${setup.regionChunk}`, Promise.resolve(setup));
+    }
     const boss = this.boss as PgBoss;
     await boss.insert([
       ...Array.from({ length: plan.chunks }, (_, chunk) => ({
@@ -327,10 +346,37 @@ export class FitWorker {
     await this.reportChunks(fitId, done, plan.chunks);
   }
 
-  /** A job found its fit no longer running: a cancelled or failed fit keeps no region rows. */
+  /** A job found its fit no longer running: a cancelled or failed fit keeps no region rows and no setups. */
   private async dropped(fitId: string): Promise<void> {
     const status = await fitStatus(this.db, fitId);
-    if (status === "cancelled" || status === "failed") await this.store.clearRegionRows(fitId);
+    if (status === "cancelled" || status === "failed") {
+      await this.store.clearRegionRows(fitId);
+      await forgetSetups(this.db, fitId);
+    }
+  }
+
+  /**
+   * The stored setup serving chunk `chunk` of a fit, read once per region
+   * chunk in this process; null when the fit has none stored (not a
+   * permutation test, or planned before setups were stored).
+   */
+  private async setupFor(fitId: string, chunk: number): Promise<RegionChunkSetup | null> {
+    for (const [key, setup] of this.setups) {
+      if (!key.startsWith(`${fitId}:`)) continue;
+      const found = await setup;
+      if (found && chunk >= found.chunkFrom && chunk < found.chunkTo) return found;
+    }
+    const reading = setupOf(this.db, fitId, chunk);
+    const found = await reading;
+    if (found) this.keepSetup(`${fitId}:${found.regionChunk}`, Promise.resolve(found));
+    return found;
+  }
+
+  /** Keeps a setup for later chunks (the last eight). */
+  private keepSetup(key: string, setup: Promise<RegionChunkSetup | null>): void {
+    this.setups.delete(key);
+    this.setups.set(key, setup);
+    while (this.setups.size > 8) this.setups.delete(this.setups.keys().next().value as string);
   }
 
   /** The chunk grid of a running fit (built once per fit in this process). */
@@ -385,10 +431,15 @@ export class FitWorker {
       let result: ChunkResult;
       const control = new Int32Array(new SharedArrayBuffer(8));
       try {
-        const plan = await this.planFor(fitId);
+        // A permutation test's chunk from its region chunk's stored setup; any other from the plan built here.
+        const setup = await this.setupFor(fitId, chunk);
+        const plan = setup ? null : await this.planFor(fitId);
+        const buffer = control.buffer as SharedArrayBuffer;
         // No requests to serve here: chunks at normal priority.
         const task = {
-          ...chunkTaskOf(plan, chunk, control.buffer as SharedArrayBuffer),
+          ...(setup
+            ? { type: "permutation" as const, task: setupChunkTask(setup, chunk, buffer) }
+            : chunkTaskOf(plan as FitChunks, chunk, buffer)),
           fullPriority: true,
         };
         const outcome = await this.watching(
@@ -404,14 +455,13 @@ export class FitWorker {
           return await this.fail(fitId, outcome.code, outcome.message);
         }
         result = outcome.value;
-        const done = await storeChunk(
-          this.db,
-          fitId,
-          encodeChunk(plan, chunk, result),
-          this.id,
-          new Date(),
-        );
-        await this.reportChunks(fitId, done, partCount(plan));
+        const row =
+          setup && result.kind === "permutation"
+            ? encodeSetupChunk(setup, chunk, result.counts)
+            : encodeChunk(plan as FitChunks, chunk, result);
+        const done = await storeChunk(this.db, fitId, row, this.id, new Date());
+        const stored = await planOf(this.db, fitId);
+        await this.reportChunks(fitId, done, stored?.chunks ?? done);
       } catch (error) {
         if (Atomics.load(control, 0) === 1) return; // the fit stopped running: the chunk is dropped
         if (job.retryCount >= job.retryLimit) {
@@ -465,6 +515,7 @@ export class FitWorker {
         // The split test and the regions before it were stored as parts: a chunk thread adds the counts.
         await this.finishMerge(fitId, task, merged, row.startedAt ?? new Date());
         await markMerged(this.db, fitId, new Date());
+        await forgetSetups(this.db, fitId);
         return;
       }
       const inputs = await this.inputsOf(fitId, row);
@@ -473,6 +524,7 @@ export class FitWorker {
       const rows = stored.some((r) => r.block < 0) ? "skip" : "all";
       await this.computeFit(fitId, inputs, merged, row.startedAt ?? new Date(), rows);
       await markMerged(this.db, fitId, new Date());
+      await forgetSetups(this.db, fitId);
     });
   }
 

@@ -18,7 +18,7 @@ import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { driverOf } from "../../db/client";
 import { demoPeople } from "../../db/seed";
-import { fitChunks, fitRegions, fitRuns, fits } from "../../db/schema";
+import { fitChunkSetups, fitChunks, fitRegions, fitRuns, fits } from "../../db/schema";
 import { FitStore, insertQueuedFit, markFitCancelled } from "../../server/services/fit-store";
 import { CHUNK_QUEUE, FIT_QUEUE, startQueue } from "../../server/worker/queue";
 import { queueDispatch } from "../../server/worker/fit-dispatch";
@@ -121,6 +121,15 @@ async function storedChunks(fitId: string): Promise<number> {
   return stored;
 }
 
+/** Region-chunk setups stored for a fit (the planner's; removed when the fit ends). */
+async function storedSetups(fitId: string): Promise<number> {
+  const [{ stored }] = await t.db
+    .select({ stored: count() })
+    .from(fitChunkSetups)
+    .where(eq(fitChunkSetups.fitId, fitId));
+  return stored;
+}
+
 async function finished(fitId: string) {
   await waitFor(`fit ${fitId} to finish`, async () => {
     const [row] = await t.db.select({ status: fits.status }).from(fits).where(eq(fits.id, fitId));
@@ -208,6 +217,8 @@ describe("fits on worker processes", () => {
       { block: -1, chunk: 60 },
       { block: -2, chunk: 61 },
     ]);
+    // The region chunk's setup, stored for other workers, went with the merge.
+    expect(await storedSetups(fitId)).toBe(0);
   }, 180_000);
 
   it("two workers give the same numbers and are listed for an Owner", async () => {
@@ -328,6 +339,8 @@ describe("fits on worker processes", () => {
   it("a cancelled fit gets no more chunks and no result", async () => {
     const fitId = await queueCopyOfReference();
     await waitFor("the first chunks", async () => (await storedChunks(fitId)) >= 2);
+    // One region chunk (under 100 regions): one setup, stored by the planner before the chunks were sent.
+    expect(await storedSetups(fitId)).toBe(1);
     const [ref] = await t.db.select().from(fits).where(eq(fits.id, fitId));
     expect(await markFitCancelled(t.db, fitId, ref.createdBy, new Date())).toBe(true);
     // A chunk in hand when the cancel lands may still be stored; after that none.
@@ -340,6 +353,7 @@ describe("fits on worker processes", () => {
     expect(view.status).toBe("cancelled");
     expect(view.result).toBeNull();
     expect(view.regions).toEqual([]);
+    await waitFor("the cancelled fit's setup to go", async () => (await storedSetups(fitId)) === 0);
   }, 120_000);
 
   it("a fit whose chunk fails on every try ends failed with the error", async () => {

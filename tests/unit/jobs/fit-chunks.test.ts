@@ -8,15 +8,20 @@ import {
   chunkTask,
   chunkTaskOf,
   decodeChunk,
+  deserializeSetup,
   encodeChunk,
+  encodeSetupChunk,
   type FitChunks,
   mergedChunks,
   mergedOfStored,
   mergeOptions,
   mergeTask,
   partCount,
+  regionChunkSetups,
   rowsMark,
   rowsParts,
+  serializeSetup,
+  setupChunkTask,
   splitMark,
   transferablesOf,
 } from "../../../server/jobs/fit-chunks";
@@ -96,6 +101,37 @@ describe("a fit's permutation test in chunks", () => {
     const whole = runFit(spec, data);
     expect(JSON.stringify(merged)).toBe(JSON.stringify(whole));
     expect(whole.regions[0].pAdjusted).toBeGreaterThan(0);
+  });
+
+  it("chunks computed from their region chunks' stored setups are the chunks of the plan", () => {
+    // What a worker that did not plan the fit computes: each region chunk's setup through its
+    // stored form (node:v8), then every chunk it serves; the rows must be the planner's, byte for byte.
+    const fit = chunkedFit(spec, data);
+    if (!fit) throw new Error("not split");
+    const control = new SharedArrayBuffer(8);
+    const setups = regionChunkSetups(fit).map((s) => deserializeSetup(serializeSetup(s)));
+    expect(setups.map((s) => [s.regionChunk, s.chunkFrom, s.chunkTo, s.regionFrom])).toEqual([
+      [0, 0, 3, 0],
+      [1, 3, 6, 100],
+      [2, 6, 9, 200],
+    ]);
+    for (let c = 0; c < fit.chunks; c++) {
+      const setup = setups.find((s) => c >= s.chunkFrom && c < s.chunkTo);
+      if (!setup) throw new Error(`no setup for chunk ${c}`);
+      const fromSetup = encodeSetupChunk(
+        setup,
+        c,
+        runPermutationTask(setupChunkTask(setup, c, control)),
+      );
+      const fromPlan = encodeChunk(fit, c, {
+        kind: "permutation",
+        counts: runPermutationTask(chunkTask(fit, c, control)),
+      });
+      expect(fromSetup).toEqual(fromPlan);
+    }
+    expect(() => setupChunkTask(setups[1], 2, control)).toThrow(
+      "chunk 2 is not of region chunk 1 (chunks 3–5)",
+    );
   });
 
   it("merged chunks move to the fit thread whole: every buffer once, none left behind", () => {
