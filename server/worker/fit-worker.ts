@@ -134,8 +134,10 @@ export class FitWorker {
   private readonly plans = new Map<string, Promise<FitChunks>>();
   /** Region-chunk setups read or made here, by fit and region chunk (the last few). */
   private readonly setups = new Map<string, Promise<RegionChunkSetup | null>>();
-  /** The queue taker (pg-boss worker id) of each queue in this process. */
-  private readonly takers = new Map<string, string>();
+  /** A read of a fit's stored setup in progress, by fit. */
+  private readonly reading = new Map<string, Promise<RegionChunkSetup | null>>();
+  /** The queue takers (pg-boss worker ids) of each queue in this process. */
+  private readonly takers = new Map<string, string[]>();
   private boss: PgBoss | null = null;
   private chunkPool: Piscina | null = null;
   private fitPool: Piscina | null = null;
@@ -178,32 +180,42 @@ export class FitWorker {
     });
     this.boss = boss;
     await this.serve<FitJobData>(boss, FIT_QUEUE, (job) => this.planFit(job));
-    await this.serve<ChunkJobData>(boss, CHUNK_QUEUE, (job) => this.computeChunk(job));
+    // Two chunk jobs in hand for the one chunk thread: while one computes, the other's reads
+    // and the last one's storing are done, so the thread does not wait on the database between chunks.
+    await this.serve<ChunkJobData>(boss, CHUNK_QUEUE, (job) => this.computeChunk(job), 2);
     await this.serve<RowsJobData>(boss, ROWS_QUEUE, (job) => this.computeRows(job));
     await this.serve<FitJobData>(boss, MERGE_QUEUE, (job) => this.merge(job.data.fitId));
   }
 
-  /** Takes a queue's jobs one at a time; after each, looks for the next at once (not after the polling interval). */
+  /**
+   * Takes a queue's jobs, `takers` at a time (each taker one job at a time);
+   * after each, looks for the next at once (not after the polling interval).
+   */
   private async serve<T extends object>(
     boss: PgBoss,
     queue: string,
     handle: (job: PgBoss.JobWithMetadata<T>) => Promise<void>,
+    takers = 1,
   ): Promise<void> {
     const options = { includeMetadata: true as const, pollingIntervalSeconds: 0.5 };
-    const id = await boss.work<T>(queue, options, async ([job]) => {
-      try {
-        await handle(job);
-      } finally {
-        this.wake(queue);
-      }
-    });
-    this.takers.set(queue, id);
+    const ids: string[] = [];
+    for (let k = 0; k < takers; k++) {
+      ids.push(
+        await boss.work<T>(queue, options, async ([job]) => {
+          try {
+            await handle(job);
+          } finally {
+            this.wake(queue);
+          }
+        }),
+      );
+    }
+    this.takers.set(queue, ids);
   }
 
-  /** This process looks for a job of `queue` at once (after sending one, or finishing one). */
+  /** This process looks for jobs of `queue` at once (after sending one, or finishing one). */
   private wake(queue: string): void {
-    const id = this.takers.get(queue);
-    if (id) this.boss?.notifyWorker(id);
+    for (const id of this.takers.get(queue) ?? []) this.boss?.notifyWorker(id);
   }
 
   /** Stops taking jobs (a job in hand is left to its lease), removes the heartbeat and ends the threads. */
@@ -361,15 +373,26 @@ export class FitWorker {
    * permutation test, or planned before setups were stored).
    */
   private async setupFor(fitId: string, chunk: number): Promise<RegionChunkSetup | null> {
-    for (const [key, setup] of this.setups) {
-      if (!key.startsWith(`${fitId}:`)) continue;
-      const found = await setup;
-      if (found && chunk >= found.chunkFrom && chunk < found.chunkTo) return found;
+    for (;;) {
+      for (const [key, setup] of this.setups) {
+        if (!key.startsWith(`${fitId}:`)) continue;
+        const found = await setup;
+        if (found && chunk >= found.chunkFrom && chunk < found.chunkTo) return found;
+      }
+      // One read of a fit's setups at a time here: the other chunk in hand may be reading the same one.
+      const pending = this.reading.get(fitId);
+      if (!pending) break;
+      await pending.catch(() => {});
     }
     const reading = setupOf(this.db, fitId, chunk);
-    const found = await reading;
-    if (found) this.keepSetup(`${fitId}:${found.regionChunk}`, Promise.resolve(found));
-    return found;
+    this.reading.set(fitId, reading);
+    try {
+      const found = await reading;
+      if (found) this.keepSetup(`${fitId}:${found.regionChunk}`, Promise.resolve(found));
+      return found;
+    } finally {
+      if (this.reading.get(fitId) === reading) this.reading.delete(fitId);
+    }
   }
 
   /** Keeps a setup for later chunks (the last eight). */
