@@ -30,8 +30,8 @@ import type {
 import { StatsError } from "../stats/errors";
 import type { RegionPlot } from "../../contract/views/fits";
 import { regionPlot } from "../stats/region-plot";
-import { FIT_LEVEL, runFit, runRegionsBeforeTest } from "../stats/run-fit";
-import { type MergedChunks, mergeOptions } from "./fit-chunks";
+import { FIT_LEVEL, fitRegionCount, runFit, runRegionsBeforeTest } from "../stats/run-fit";
+import { type MergedChunks, mergeOptions, ROWS_PART_REGIONS } from "./fit-chunks";
 import { encodeRegionRows } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
@@ -101,62 +101,84 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
       last = now;
       post({ type: "progress", fraction });
     };
-    let result: FitResult;
-    let regionsBeforeTest: RegionResult[] | undefined;
     if (task.rows === "only") {
-      // Diagnostics and plots do not read the test: the region rows before the test are those of the fit.
-      const before = runRegionsBeforeTest(task.spec, task.data, { onProgress }, task.regionRange);
-      regionsBeforeTest = before.regions;
-      result = { regions: before.regions, participants: before.participants, notes: [] };
-    } else {
-      result = runFit(task.spec, task.data, {
-        ...(task.merged ? mergeOptions(task.merged) : {}),
-        onProgress,
-      });
+      // Diagnostics and plots do not read the test: the region rows before the test are those of
+      // the fit. They come in parts of ROWS_PART_REGIONS regions (the same rows whatever the
+      // parts), each part's rows sent and let go before the next: at 20,000 participants the
+      // participants' rows of 400 regions at once would outgrow the thread's heap.
+      const [from, to] = task.regionRange ?? [0, fitRegionCount(task.spec, task.data)];
+      const regions: RegionResult[] = [];
+      for (let a = from; a < to; a += ROWS_PART_REGIONS) {
+        const b = Math.min(to, a + ROWS_PART_REGIONS);
+        const part = runRegionsBeforeTest(
+          task.spec,
+          task.data,
+          { onProgress: (f) => onProgress((a - from + f * (b - a)) / (to - from)) },
+          [a, b],
+        );
+        postRegions(task, part.regions, part.participants, a, post);
+        regions.push(...part.regions);
+      }
+      post({ type: "regions-done", count: regions.length });
+      return { ok: true, summary: { regions, notes: [] }, regionsBeforeTest: regions };
     }
+    const result = runFit(task.spec, task.data, {
+      ...(task.merged ? mergeOptions(task.merged) : {}),
+      onProgress,
+    });
     const { participants, ...summary } = result;
-    const byRegion = new Map<string, ParticipantDiagnostics[]>();
-    for (const d of participants) {
-      const list = byRegion.get(d.region) ?? [];
-      list.push(d);
-      byRegion.set(d.region, list);
-    }
     if (task.rows === "skip") {
       post({ type: "regions-done", count: 0 });
       return { ok: true, summary };
     }
-    const first = task.regionRange?.[0] ?? 0;
-    result.regions.forEach(({ region }, k) => {
-      const position = first + k;
-      const rows = byRegion.get(region) ?? [];
-      let plot: RegionPlot | { error: string } | null = null;
-      if (rows.length > 0) {
-        try {
-          plot = regionPlot(
-            task.spec,
-            task.data,
-            region,
-            rows.map((d) => d.participant),
-            { level: FIT_LEVEL },
-          );
-        } catch (e) {
-          if (!(e instanceof StatsError)) throw e;
-          plot = { error: e.message };
-        }
-      }
-      post({
-        type: "region",
-        position,
-        region,
-        participants: encodeRegionRows(rows),
-        plot: plot === null ? null : JSON.stringify(plot),
-      });
-    });
+    postRegions(task, result.regions, participants, 0, post);
     post({ type: "regions-done", count: result.regions.length });
-    return { ok: true, summary, ...(regionsBeforeTest ? { regionsBeforeTest } : {}) };
+    return { ok: true, summary };
   } catch (e) {
     if (e instanceof StatsError) return { ok: false, code: e.code, message: e.message };
     throw e;
   }
   // The port is left open: messages still queued on it must reach the main thread, which closes its end.
+}
+
+/** Sends one message per region: its participants' rows and plot data, as JSON text, at positions first, first + 1, …. */
+function postRegions(
+  task: FitTask,
+  regions: readonly RegionResult[],
+  participants: readonly ParticipantDiagnostics[],
+  first: number,
+  post: (message: FitTaskMessage) => void,
+): void {
+  const byRegion = new Map<string, ParticipantDiagnostics[]>();
+  for (const d of participants) {
+    const list = byRegion.get(d.region) ?? [];
+    list.push(d);
+    byRegion.set(d.region, list);
+  }
+  regions.forEach(({ region }, k) => {
+    const position = first + k;
+    const rows = byRegion.get(region) ?? [];
+    let plot: RegionPlot | { error: string } | null = null;
+    if (rows.length > 0) {
+      try {
+        plot = regionPlot(
+          task.spec,
+          task.data,
+          region,
+          rows.map((d) => d.participant),
+          { level: FIT_LEVEL },
+        );
+      } catch (e) {
+        if (!(e instanceof StatsError)) throw e;
+        plot = { error: e.message };
+      }
+    }
+    post({
+      type: "region",
+      position,
+      region,
+      participants: encodeRegionRows(rows),
+      plot: plot === null ? null : JSON.stringify(plot),
+    });
+  });
 }

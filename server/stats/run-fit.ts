@@ -241,6 +241,11 @@ export function prepareSplitTest(
   };
 }
 
+/** How many regions a fit of `spec` on `data` covers. Throws StatsError as `runFit` does. Cost: the fit's preparation. */
+export function fitRegionCount(spec: ModelSpec, data: FitData): number {
+  return prepare(spec, data).regionIndex.length;
+}
+
 /**
  * The stages of `runFit` before the test of a least-squares permutation
  * fit, for the regions at positions from … to − 1 of the fit's regions

@@ -1,0 +1,93 @@
+/**
+ * The fit thread's task (server/jobs/fit-task.ts) with rows "only" — a
+ * split permutation test's regions before the test, computed beside its
+ * chunks — works through the regions in parts of ROWS_PART_REGIONS so
+ * that a biobank-size fit's participant rows never sit in the thread's
+ * heap at once. The parts must not change a row: every region message is
+ * the one the whole fit sends, and the regions' results are those of
+ * `runRegionsBeforeTest` over all regions (exact enumeration of the
+ * engine's own output). Invented, seeded data.
+ */
+import { MessageChannel, receiveMessageOnPort } from "node:worker_threads";
+import { describe, expect, it } from "vitest";
+import { type FitData, modelSpecSchema } from "../../../contract/spec";
+import { ROWS_PART_REGIONS } from "../../../server/jobs/fit-chunks";
+import runFitTask, { type FitTaskMessage } from "../../../server/jobs/fit-task";
+import { createRng, normalDraw } from "../../../server/stats/rng";
+import { runRegionsBeforeTest } from "../../../server/stats/run-fit";
+
+/** 30 participants, 120 regions (three parts of at most 50); region 60 misses three values. */
+function makeData(): FitData {
+  const rng = createRng(21);
+  const participants = Array.from({ length: 30 }, (_, i) => `sub-${i + 1}`);
+  const age = participants.map(() => 20 + Math.floor(rng.next() * 40));
+  const accuracy = participants.map(() => 0.5 + 0.5 * rng.next());
+  const regions = Array.from({ length: 120 }, (_, r) => `region ${r + 1}`);
+  const values = regions.map((_, r) =>
+    Float64Array.from(participants, (_, i) =>
+      r === 60 && i < 3 ? Number.NaN : 0.02 * (r % 5) * accuracy[i] + normalDraw(rng),
+    ),
+  );
+  return {
+    participants,
+    regions,
+    values,
+    numericColumns: { age, accuracy },
+    categoricalColumns: {},
+  };
+}
+
+const spec = modelSpecSchema.parse({
+  kind: "association",
+  predictor: "accuracy",
+  covariates: ["age"],
+  inference: "permutation",
+  resamples: 200,
+  correction: "maxt",
+  seed: 3,
+  rearrangementStreams: "blocks-v1",
+});
+
+/** Runs the task and collects the messages it sent, in order. */
+function run(rows: "all" | "only", range?: [number, number]) {
+  const channel = new MessageChannel();
+  const outcome = runFitTask({
+    spec,
+    data: makeData(),
+    port: channel.port2,
+    rows,
+    fullPriority: true,
+    ...(range ? { regionRange: range } : {}),
+  });
+  const messages: FitTaskMessage[] = [];
+  for (let m = receiveMessageOnPort(channel.port1); m; m = receiveMessageOnPort(channel.port1))
+    messages.push(m.message as FitTaskMessage);
+  channel.port1.close();
+  channel.port2.close();
+  const regions = messages.filter((m) => m.type === "region");
+  return { outcome, messages, regions };
+}
+
+describe("the fit thread's regions before the test, in parts", () => {
+  it("sends every region's rows as the whole fit does, and the regions of runRegionsBeforeTest", () => {
+    expect(ROWS_PART_REGIONS).toBeLessThan(120);
+    const whole = run("all");
+    const parts = run("only");
+    expect(parts.regions).toHaveLength(120);
+    expect(parts.regions).toEqual(whole.regions);
+    expect(parts.messages.at(-1)).toEqual({ type: "regions-done", count: 120 });
+    if (!parts.outcome.ok) throw new Error(parts.outcome.message);
+    const { regions } = runRegionsBeforeTest(spec, makeData());
+    expect(JSON.stringify(parts.outcome.regionsBeforeTest)).toBe(JSON.stringify(regions));
+  });
+
+  it("a worker process's part: the regions of its range only, at their positions", () => {
+    const whole = run("all");
+    const part = run("only", [45, 105]);
+    expect(part.regions.map((m) => (m.type === "region" ? m.position : -1))).toEqual(
+      Array.from({ length: 60 }, (_, k) => 45 + k),
+    );
+    expect(part.regions).toEqual(whole.regions.slice(45, 105));
+    expect(part.messages.at(-1)).toEqual({ type: "regions-done", count: 60 });
+  });
+});
