@@ -18,7 +18,8 @@
  * rearranged (n·p work) and the p × n by n × R product V = Q̃′E is formed
  * (2·n·p·R flops), followed by O(p·R) work for the statistics. The product is
  * register-blocked: two regions per pass and up to five columns of Q̃ per
- * pass, so every accumulator stays in a register.
+ * pass, so every accumulator stays in a register; Q̃ is kept row by row, so a
+ * moved row is one read of p neighbouring numbers.
  *
  * Regions that differ in participants (empty cells) come in blocks, one
  * block per set of participants, each with its own basis; every block sees
@@ -206,7 +207,7 @@ export function prepareLinearPermutation(input: {
   };
   const observed = new Float64Array(regions);
   const work = createWorkspace(plan, regions);
-  identityColumns(plan, work.columns);
+  work.rows.set(plan.basis);
   regionStatistics(plan, work, residuals, residualSquares, regions, observed);
   for (let r = 0; r < regions; r++) {
     if (!Number.isFinite(observed[r])) {
@@ -263,66 +264,73 @@ function orthonormalBasis(
 }
 
 export interface KernelWorkspace {
-  /** rearranged basis, column-major: columns[k·n + i] */
-  columns: Float64Array;
+  /** rearranged basis, row-major like the plan's: rows[i·p + k] */
+  rows: Float64Array;
   /** products, region-major: products[r·p + k] */
   products: Float64Array;
 }
 
 export function createWorkspace(plan: LinearPermutationPlan, regions: number): KernelWorkspace {
   return {
-    columns: new Float64Array(plan.n * plan.p),
+    rows: new Float64Array(plan.n * plan.p),
     products: new Float64Array(regions * plan.p),
   };
 }
 
-function identityColumns(plan: LinearPermutationPlan, columns: Float64Array): void {
-  const { n, p, basis } = plan;
-  for (let i = 0; i < n; i++) for (let k = 0; k < p; k++) columns[k * n + i] = basis[i * p + k];
-}
-
 /**
- * Writes the rearranged basis Q̃ (column-major) for the current
- * rearrangement: sign flips scale rows; label assignments and permutations
- * move rows (moving rows of Q by σ equals permuting e by σ⁻¹, and both walk
- * the same set of rearrangements). `basisColumns` is the plan's basis
- * in column-major order. Cost O(n·p).
+ * Writes the rearranged basis Q̃ (row-major, as the plan's basis) for the
+ * current rearrangement: sign flips scale rows; label assignments and
+ * permutations move rows (moving rows of Q by σ equals permuting e by σ⁻¹,
+ * and both walk the same set of rearrangements). A moved row is its p
+ * numbers side by side, so each row costs one read from the basis
+ * wherever the rearrangement sends it. Cost O(n·p).
  */
-function rearrangedColumns(
+function rearrangedRows(
   plan: LinearPermutationPlan,
-  basisColumns: Float64Array,
   order: Int32Array,
   signs: Float64Array,
-  columns: Float64Array,
+  rows: Float64Array,
 ): void {
   const { n, p, basis, kind, groupOrder } = plan;
-  // Column by column from the column-major basis: the writes run in order
-  // and each column's reads stay within one column.
   if (kind === "signs") {
-    for (let k = 0; k < p; k++) {
-      const c = k * n;
-      for (let i = 0; i < n; i++) columns[c + i] = signs[i] * basisColumns[c + i];
+    for (let i = 0; i < n; i++) {
+      const s = signs[i];
+      const o = i * p;
+      for (let k = 0; k < p; k++) rows[o + k] = s * basis[o + k];
     }
   } else if (kind === "permutations") {
-    for (let k = 0; k < p; k++) {
-      const c = k * n;
-      for (let i = 0; i < n; i++) columns[c + i] = basisColumns[c + order[i]];
+    if (p === 5) {
+      // The common case (an intercept, the tested term and three covariates) written out.
+      for (let i = 0, o = 0; i < n; i++, o += 5) {
+        const src = order[i] * 5;
+        rows[o] = basis[src];
+        rows[o + 1] = basis[src + 1];
+        rows[o + 2] = basis[src + 2];
+        rows[o + 3] = basis[src + 3];
+        rows[o + 4] = basis[src + 4];
+      }
+      return;
+    }
+    for (let i = 0; i < n; i++) {
+      const src = order[i] * p;
+      const o = i * p;
+      for (let k = 0; k < p; k++) rows[o + k] = basis[src + k];
     }
   } else {
     // Slot j of the walk stands for unit groupOrder[j]; the units in the
     // first n1 slots of `order` receive first-group rows.
     const g = groupOrder as Int32Array;
     for (let j = 0; j < n; j++) {
-      const unit = g[order[j]];
+      const o = g[order[j]] * p;
       const src = g[j] * p;
-      for (let k = 0; k < p; k++) columns[k * n + unit] = basis[src + k];
+      for (let k = 0; k < p; k++) rows[o + k] = basis[src + k];
     }
   }
 }
 
 /**
  * t statistics of the tested coefficient for every region given the current
- * rearranged basis in `work.columns`. Cost 2·n·p·R flops + O(p·R).
+ * rearranged basis in `work.rows`. Cost 2·n·p·R flops + O(p·R).
  * A rearrangement that the full model fits exactly (RSS* ≤ 1e-12·e′e) gets
  * |t*| = Infinity, i.e. it counts as extreme (conservative).
  */
@@ -336,16 +344,16 @@ export function regionStatistics(
 ): void {
   const { n, p, df } = plan;
   const v = work.products;
-  blockedProducts(work.columns, n, p, residuals, regions, v);
+  blockedProducts(work.rows, n, p, residuals, regions, v);
   for (let r = 0; r < regions; r++) out[r] = tStatistic(v, r * p, p, residualSquares[r], df);
 }
 
 /**
- * V = Q̃′E: products[r·p + k] = Σ_i columns[k·n + i]·residuals[r·n + i].
+ * V = Q̃′E: products[r·p + k] = Σ_i rows[i·p + k]·residuals[r·n + i].
  * Columns are processed in chunks of at most five, regions two at a time.
  */
 function blockedProducts(
-  columns: Float64Array,
+  rows: Float64Array,
   n: number,
   p: number,
   residuals: Float64Array,
@@ -358,19 +366,19 @@ function blockedProducts(
     const width = Math.ceil((p - k0) / (chunks - c));
     switch (width) {
       case 1:
-        products1(columns, k0, n, p, residuals, regions, products);
+        products1(rows, k0, n, p, residuals, regions, products);
         break;
       case 2:
-        products2(columns, k0, n, p, residuals, regions, products);
+        products2(rows, k0, n, p, residuals, regions, products);
         break;
       case 3:
-        products3(columns, k0, n, p, residuals, regions, products);
+        products3(rows, k0, n, p, residuals, regions, products);
         break;
       case 4:
-        products4(columns, k0, n, p, residuals, regions, products);
+        products4(rows, k0, n, p, residuals, regions, products);
         break;
       default:
-        products5(columns, k0, n, p, residuals, regions, products);
+        products5(rows, k0, n, p, residuals, regions, products);
     }
     k0 += width;
   }
@@ -390,17 +398,16 @@ function products1(
   regions: number,
   v: Float64Array,
 ): void {
-  const c0 = k0 * n;
   for (let r = 0; r < regions; r += 2) {
     const s = r + 1 < regions ? r + 1 : r;
     const e0 = r * n;
     const e1 = s * n;
     let a0 = 0;
     let b0 = 0;
-    for (let i = 0; i < n; i++) {
+    for (let i = 0, j = k0; i < n; i++, j += p) {
       const x = e[e0 + i];
       const y = e[e1 + i];
-      const t = q[c0 + i];
+      const t = q[j];
       a0 += t * x;
       b0 += t * y;
     }
@@ -418,8 +425,6 @@ function products2(
   regions: number,
   v: Float64Array,
 ): void {
-  const c0 = k0 * n;
-  const c1 = c0 + n;
   for (let r = 0; r < regions; r += 2) {
     const s = r + 1 < regions ? r + 1 : r;
     const e0 = r * n;
@@ -428,13 +433,13 @@ function products2(
     let a1 = 0;
     let b0 = 0;
     let b1 = 0;
-    for (let i = 0; i < n; i++) {
+    for (let i = 0, j = k0; i < n; i++, j += p) {
       const x = e[e0 + i];
       const y = e[e1 + i];
-      let t = q[c0 + i];
+      let t = q[j];
       a0 += t * x;
       b0 += t * y;
-      t = q[c1 + i];
+      t = q[j + 1];
       a1 += t * x;
       b1 += t * y;
     }
@@ -456,9 +461,6 @@ function products3(
   regions: number,
   v: Float64Array,
 ): void {
-  const c0 = k0 * n;
-  const c1 = c0 + n;
-  const c2 = c1 + n;
   for (let r = 0; r < regions; r += 2) {
     const s = r + 1 < regions ? r + 1 : r;
     const e0 = r * n;
@@ -469,16 +471,16 @@ function products3(
     let b0 = 0;
     let b1 = 0;
     let b2 = 0;
-    for (let i = 0; i < n; i++) {
+    for (let i = 0, j = k0; i < n; i++, j += p) {
       const x = e[e0 + i];
       const y = e[e1 + i];
-      let t = q[c0 + i];
+      let t = q[j];
       a0 += t * x;
       b0 += t * y;
-      t = q[c1 + i];
+      t = q[j + 1];
       a1 += t * x;
       b1 += t * y;
-      t = q[c2 + i];
+      t = q[j + 2];
       a2 += t * x;
       b2 += t * y;
     }
@@ -502,10 +504,6 @@ function products4(
   regions: number,
   v: Float64Array,
 ): void {
-  const c0 = k0 * n;
-  const c1 = c0 + n;
-  const c2 = c1 + n;
-  const c3 = c2 + n;
   for (let r = 0; r < regions; r += 2) {
     const s = r + 1 < regions ? r + 1 : r;
     const e0 = r * n;
@@ -518,19 +516,19 @@ function products4(
     let b1 = 0;
     let b2 = 0;
     let b3 = 0;
-    for (let i = 0; i < n; i++) {
+    for (let i = 0, j = k0; i < n; i++, j += p) {
       const x = e[e0 + i];
       const y = e[e1 + i];
-      let t = q[c0 + i];
+      let t = q[j];
       a0 += t * x;
       b0 += t * y;
-      t = q[c1 + i];
+      t = q[j + 1];
       a1 += t * x;
       b1 += t * y;
-      t = q[c2 + i];
+      t = q[j + 2];
       a2 += t * x;
       b2 += t * y;
-      t = q[c3 + i];
+      t = q[j + 3];
       a3 += t * x;
       b3 += t * y;
     }
@@ -556,11 +554,6 @@ function products5(
   regions: number,
   v: Float64Array,
 ): void {
-  const c0 = k0 * n;
-  const c1 = c0 + n;
-  const c2 = c1 + n;
-  const c3 = c2 + n;
-  const c4 = c3 + n;
   for (let r = 0; r < regions; r += 2) {
     const s = r + 1 < regions ? r + 1 : r;
     const e0 = r * n;
@@ -575,22 +568,22 @@ function products5(
     let b2 = 0;
     let b3 = 0;
     let b4 = 0;
-    for (let i = 0; i < n; i++) {
+    for (let i = 0, j = k0; i < n; i++, j += p) {
       const x = e[e0 + i];
       const y = e[e1 + i];
-      let t = q[c0 + i];
+      let t = q[j];
       a0 += t * x;
       b0 += t * y;
-      t = q[c1 + i];
+      t = q[j + 1];
       a1 += t * x;
       b1 += t * y;
-      t = q[c2 + i];
+      t = q[j + 2];
       a2 += t * x;
       b2 += t * y;
-      t = q[c3 + i];
+      t = q[j + 3];
       a3 += t * x;
       b3 += t * y;
-      t = q[c4 + i];
+      t = q[j + 4];
       a4 += t * x;
       b4 += t * y;
     }
@@ -800,8 +793,6 @@ interface BlockState {
   gathered: Float64Array;
   /** one-region blocks: Q′ẽ for each rearrangement of the chunk */
   products: Float64Array;
-  /** the basis, column-major */
-  columns: Float64Array;
 }
 
 function checkBlocks(draw: RearrangementDraw, blocks: readonly RegionBlock[]): void {
@@ -906,9 +897,7 @@ export function countExtremeRearrangements(input: {
       signs: new Float64Array(full ? 0 : m),
       gathered: new Float64Array(!full && count === 1 ? CHUNK * m + 1 : 0),
       products: new Float64Array(!full && count === 1 ? CHUNK * block.plan.p : 0),
-      columns: new Float64Array(m * block.plan.p),
     };
-    identityColumns(block.plan, state.columns);
     regions += count;
     return state;
   });
@@ -949,7 +938,7 @@ export function countExtremeRearrangements(input: {
       for (const st of others) {
         const { block, t } = st;
         if (st.full) {
-          rearrangedColumns(block.plan, st.columns, walk.order, walk.signs, st.work.columns);
+          rearrangedRows(block.plan, walk.order, walk.signs, st.work.rows);
         } else {
           if (draw.kind === "signs") {
             regionSigns(walk.signs, block.members as Int32Array, st.signs);
@@ -958,7 +947,7 @@ export function countExtremeRearrangements(input: {
             // Moving basis row from[j] to row j equals giving row j the residual of from[j].
             for (let j = 0; j < st.from.length; j++) st.order[st.from[j]] = j;
           }
-          rearrangedColumns(block.plan, st.columns, st.order, st.signs, st.work.columns);
+          rearrangedRows(block.plan, st.order, st.signs, st.work.rows);
         }
         regionStatistics(
           block.plan,
@@ -998,7 +987,7 @@ export function countExtremeRearrangements(input: {
             );
         }
         // The rearranged residual vectors of the chunk share the block's basis: the batched product takes them as it takes regions.
-        blockedProducts(st.columns, m, plan.p, st.gathered, size, st.products);
+        blockedProducts(plan.basis, m, plan.p, st.gathered, size, st.products);
         for (let c = 0; c < size; c++) {
           st.t[0] = tStatistic(
             st.products,
