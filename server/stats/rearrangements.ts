@@ -176,7 +176,12 @@ export function createRearranger(input: {
  * a[j], j uniform in [0, i]. Cost O(n), n − 1 draws.
  */
 export function shuffleInPlace(a: Int32Array, rng: Rng): void {
-  rng.shuffle(a);
+  for (let i = a.length - 1; i > 0; i--) {
+    const j = rng.int(i + 1);
+    const t = a[i];
+    a[i] = a[j];
+    a[j] = t;
+  }
 }
 
 /** Rearranges `a` into the next permutation in lexicographic order (Knuth 2011, TAOCP 4A, Algorithm L). */

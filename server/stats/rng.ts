@@ -13,13 +13,6 @@ export interface Rng {
   next(): number;
   /** Uniform integer in [0, n) without modulo bias. Requires 1 ≤ n ≤ 2^32. */
   int(n: number): number;
-  /**
-   * Fisher–Yates shuffle of `a` in place (Durstenfeld's form): for i from
-   * n − 1 down to 1, swap a[i] with a[int(i + 1)]. The same draws and swaps
-   * as that loop over `int`, with the generator's state in registers.
-   * Cost O(n).
-   */
-  shuffle(a: Int32Array): void;
   /** The seed this generator was created with. */
   readonly seed: number;
 }
@@ -147,38 +140,6 @@ export function rngOfState(state: Uint32Array, seed: number): Rng {
         q = Math.floor(x / n);
       } while ((q + 1) * n > 4294967296);
       return x - q * n;
-    },
-    shuffle(arr: Int32Array): void {
-      // nextUint32 and int (its rejection and exact quotient) written out, the state in locals.
-      let sa = a;
-      let sb = b;
-      let sc = c;
-      let sd = d;
-      for (let i = arr.length - 1; i > 0; i--) {
-        const m = i + 1;
-        let x: number;
-        let q: number;
-        do {
-          const w = Math.imul(sb, 5);
-          x = Math.imul((w << 7) | (w >>> 25), 9) >>> 0;
-          const t = sb << 9;
-          sc ^= sa;
-          sd ^= sb;
-          sb ^= sc;
-          sa ^= sd;
-          sc ^= t;
-          sd = (sd << 11) | (sd >>> 21);
-          q = Math.floor(x / m);
-        } while ((q + 1) * m > 4294967296);
-        const j = x - q * m;
-        const v = arr[i];
-        arr[i] = arr[j];
-        arr[j] = v;
-      }
-      a = sa;
-      b = sb;
-      c = sc;
-      d = sd;
     },
   };
 }

@@ -11,6 +11,7 @@ import {
   type RearrangementChunk,
   sharedLinearPermutationTest,
 } from "../../../server/stats/permutation";
+import { shuffleInPlace } from "../../../server/stats/rearrangements";
 import {
   createBlockRng,
   createRng,
@@ -60,8 +61,8 @@ describe("rearrangement streams: xoshiro128** and its jump", () => {
   it("draws bounded integers and shuffles exactly as rejection with a remainder and Fisher–Yates do", () => {
     // The definitions (common practice, no source beyond Durstenfeld 1964, CACM 7:420 for the
     // shuffle): reject 32-bit outputs x ≥ 2^32 − (2^32 mod n), return x mod n; the shuffle swaps
-    // a[i] with a[int(i + 1)] for i = n − 1 … 1. The generator computes both with one exact
-    // floating-point quotient; the draws must be the same, bound for bound, near 2^32 too.
+    // a[i] with a[int(i + 1)] for i = n − 1 … 1. The generator's int takes one exact
+    // floating-point quotient instead; the draws must be the same, bound for bound, near 2^32 too.
     const textbookInt = (raw: () => number, n: number): number => {
       const limit = 4294967296 - (4294967296 % n);
       let x = raw();
@@ -85,7 +86,7 @@ describe("rearrangement streams: xoshiro128** and its jump", () => {
           [expected[i], expected[j]] = [expected[j], expected[i]];
         }
         const shuffled = Int32Array.from({ length }, (_, i) => i);
-        rng.shuffle(shuffled);
+        shuffleInPlace(shuffled, rng);
         expect(Array.from(shuffled)).toEqual(Array.from(expected));
       }
       // Both left the generator at the same place.
