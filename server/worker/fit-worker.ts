@@ -133,7 +133,7 @@ export class FitWorker {
   private readonly startedAt = new Date();
   private readonly plans = new Map<string, Promise<FitChunks>>();
   /** Region-chunk setups read or made here, by fit and region chunk (the last few). */
-  private readonly setups = new Map<string, Promise<RegionChunkSetup | null>>();
+  private readonly setups = new Map<string, RegionChunkSetup>();
   /** A read of a fit's stored setup in progress, by fit. */
   private readonly reading = new Map<string, Promise<RegionChunkSetup | null>>();
   /** The queue takers (pg-boss worker ids) of each queue in this process. */
@@ -313,8 +313,7 @@ export class FitWorker {
       // Stored before the chunks are sent, so that no other worker plans the fit again.
       const setups = regionChunkSetups(plan);
       await storeSetups(this.db, fitId, setups);
-      for (const setup of setups)
-        this.keepSetup(`${fitId}:${setup.regionChunk}`, Promise.resolve(setup));
+      for (const setup of setups) this.keepSetup(fitId, setup);
     }
     const boss = this.boss as PgBoss;
     await boss.insert([
@@ -373,30 +372,32 @@ export class FitWorker {
    * permutation test, or planned before setups were stored).
    */
   private async setupFor(fitId: string, chunk: number): Promise<RegionChunkSetup | null> {
-    for (;;) {
-      for (const [key, setup] of this.setups) {
-        if (!key.startsWith(`${fitId}:`)) continue;
-        const found = await setup;
-        if (found && chunk >= found.chunkFrom && chunk < found.chunkTo) return found;
-      }
-      // One read of a fit's setups at a time here: the other chunk in hand may be reading the same one.
-      const pending = this.reading.get(fitId);
-      if (!pending) break;
+    const kept = () =>
+      [...this.setups.entries()].find(
+        ([key, s]) => key.startsWith(`${fitId}:`) && chunk >= s.chunkFrom && chunk < s.chunkTo,
+      )?.[1];
+    // One read of a fit's setups at a time here: the other chunk in hand may be reading the same one.
+    let pending = this.reading.get(fitId);
+    while (!kept() && pending) {
       await pending.catch(() => {});
+      pending = this.reading.get(fitId);
     }
+    const found = kept();
+    if (found) return found;
     const reading = setupOf(this.db, fitId, chunk);
     this.reading.set(fitId, reading);
     try {
-      const found = await reading;
-      if (found) this.keepSetup(`${fitId}:${found.regionChunk}`, Promise.resolve(found));
-      return found;
+      const read = await reading;
+      if (read) this.keepSetup(fitId, read);
+      return read;
     } finally {
       if (this.reading.get(fitId) === reading) this.reading.delete(fitId);
     }
   }
 
-  /** Keeps a setup for later chunks (the last eight). */
-  private keepSetup(key: string, setup: Promise<RegionChunkSetup | null>): void {
+  /** Keeps a setup of a fit for later chunks (the last eight). */
+  private keepSetup(fitId: string, setup: RegionChunkSetup): void {
+    const key = `${fitId}:${setup.regionChunk}`;
     this.setups.delete(key);
     this.setups.set(key, setup);
     while (this.setups.size > 8) this.setups.delete(this.setups.keys().next().value as string);
@@ -479,12 +480,14 @@ export class FitWorker {
         }
         result = outcome.value;
         const row =
-          setup && result.kind === "permutation"
-            ? encodeSetupChunk(setup, chunk, result.counts)
+          plan === null && result.kind === "permutation"
+            ? encodeSetupChunk(setup as RegionChunkSetup, chunk, result.counts)
             : encodeChunk(plan as FitChunks, chunk, result);
         const done = await storeChunk(this.db, fitId, row, this.id, new Date());
-        const stored = await planOf(this.db, fitId);
-        await this.reportChunks(fitId, done, stored?.chunks ?? done);
+        // The number of parts as the planner recorded it (a worker with a setup has no plan here).
+        const parts = plan ? partCount(plan) : (await planOf(this.db, fitId))?.chunks;
+        if (parts === undefined) throw new Error(`fit ${fitId} has no plan`);
+        await this.reportChunks(fitId, done, parts);
       } catch (error) {
         if (Atomics.load(control, 0) === 1) return; // the fit stopped running: the chunk is dropped
         if (job.retryCount >= job.retryLimit) {
