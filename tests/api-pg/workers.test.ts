@@ -113,22 +113,20 @@ async function queueCopyOfReference(
   return fit.id;
 }
 
-async function storedChunks(fitId: string): Promise<number> {
+/** Rows a fit has in `table`: its stored chunks, or its region-chunk setups (the planner's; removed when the fit ends). */
+async function storedRows(
+  table: typeof fitChunks | typeof fitChunkSetups,
+  fitId: string,
+): Promise<number> {
   const [{ stored }] = await t.db
     .select({ stored: count() })
-    .from(fitChunks)
-    .where(eq(fitChunks.fitId, fitId));
+    .from(table)
+    .where(eq(table.fitId, fitId));
   return stored;
 }
 
-/** Region-chunk setups stored for a fit (the planner's; removed when the fit ends). */
-async function storedSetups(fitId: string): Promise<number> {
-  const [{ stored }] = await t.db
-    .select({ stored: count() })
-    .from(fitChunkSetups)
-    .where(eq(fitChunkSetups.fitId, fitId));
-  return stored;
-}
+const storedChunks = (fitId: string) => storedRows(fitChunks, fitId);
+const storedSetups = (fitId: string) => storedRows(fitChunkSetups, fitId);
 
 async function finished(fitId: string) {
   await waitFor(`fit ${fitId} to finish`, async () => {
@@ -203,11 +201,7 @@ describe("fits on worker processes", () => {
     // the split test the plan stored: 62 parts.
     expect(plan.chunks).toBe(62);
     expect(plan.mergedAt).not.toBeNull();
-    const [{ stored }] = await t.db
-      .select({ stored: count() })
-      .from(fitChunks)
-      .where(eq(fitChunks.fitId, fitId));
-    expect(stored).toBe(62);
+    expect(await storedChunks(fitId)).toBe(62);
     const marks = await t.db
       .select({ block: fitChunks.block, chunk: fitChunks.chunk })
       .from(fitChunks)
@@ -321,13 +315,7 @@ describe("fits on worker processes", () => {
     const reference = await finished(referenceFitId);
     const [victim] = running;
     const fitId = await queueCopyOfReference();
-    await waitFor("the first chunks", async () => {
-      const [{ stored }] = await t.db
-        .select({ stored: count() })
-        .from(fitChunks)
-        .where(eq(fitChunks.fitId, fitId));
-      return stored >= 3;
-    });
+    await waitFor("the first chunks", async () => (await storedChunks(fitId)) >= 3);
     victim.child.kill("SIGKILL");
     expect(await victim.exited).toBeNull();
     const survived = await finished(fitId);
