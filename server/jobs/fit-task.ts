@@ -30,7 +30,7 @@ import type {
 import { StatsError } from "../stats/errors";
 import type { RegionPlot } from "../../contract/views/fits";
 import { regionPlot } from "../stats/region-plot";
-import { FIT_LEVEL, fitRegionCount, runFit, runRegionsBeforeTest } from "../stats/run-fit";
+import { FIT_LEVEL, fitRegionCount, runFitByRegion, runRegionsBeforeTest } from "../stats/run-fit";
 import { type MergedChunks, mergeOptions, ROWS_PART_REGIONS } from "./fit-chunks";
 import { encodeRegionRows } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
@@ -116,23 +116,34 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
           { onProgress: (f) => onProgress((a - from + f * (b - a)) / (to - from)) },
           [a, b],
         );
-        postRegions(task, part.regions, part.participants, a, post);
+        const byRegion = new Map<string, ParticipantDiagnostics[]>();
+        for (const d of part.participants) {
+          const list = byRegion.get(d.region);
+          if (list) list.push(d);
+          else byRegion.set(d.region, [d]);
+        }
+        part.regions.forEach(({ region }, k) => {
+          postRegion(task, a + k, region, byRegion.get(region) ?? [], post);
+        });
         regions.push(...part.regions);
       }
       post({ type: "regions-done", count: regions.length });
       return { ok: true, summary: { regions, notes: [] }, regionsBeforeTest: regions };
     }
-    const result = runFit(task.spec, task.data, {
-      ...(task.merged ? mergeOptions(task.merged) : {}),
-      onProgress,
-    });
-    const { participants, ...summary } = result;
-    if (task.rows === "skip") {
-      post({ type: "regions-done", count: 0 });
-      return { ok: true, summary };
-    }
-    postRegions(task, result.regions, participants, 0, post);
-    post({ type: "regions-done", count: result.regions.length });
+    // Each region's rows are sent as soon as they are computed and then let go: at 20,000
+    // participants × 400 regions the whole fit's rows would crowd the thread's heap.
+    let sent = 0;
+    const summary = runFitByRegion(
+      task.spec,
+      task.data,
+      { ...(task.merged ? mergeOptions(task.merged) : {}), onProgress },
+      (position, region, rows) => {
+        if (task.rows === "skip") return;
+        postRegion(task, position, region, rows, post);
+        sent++;
+      },
+    );
+    post({ type: "regions-done", count: sent });
     return { ok: true, summary };
   } catch (e) {
     if (e instanceof StatsError) return { ok: false, code: e.code, message: e.message };
@@ -141,44 +152,34 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
   // The port is left open: messages still queued on it must reach the main thread, which closes its end.
 }
 
-/** Sends one message per region: its participants' rows and plot data, as JSON text, at positions first, first + 1, …. */
-function postRegions(
+/** Sends one region's message: its participants' rows and plot data, as JSON text. */
+function postRegion(
   task: FitTask,
-  regions: readonly RegionResult[],
-  participants: readonly ParticipantDiagnostics[],
-  first: number,
+  position: number,
+  region: string,
+  rows: readonly ParticipantDiagnostics[],
   post: (message: FitTaskMessage) => void,
 ): void {
-  const byRegion = new Map<string, ParticipantDiagnostics[]>();
-  for (const d of participants) {
-    const list = byRegion.get(d.region) ?? [];
-    list.push(d);
-    byRegion.set(d.region, list);
-  }
-  regions.forEach(({ region }, k) => {
-    const position = first + k;
-    const rows = byRegion.get(region) ?? [];
-    let plot: RegionPlot | { error: string } | null = null;
-    if (rows.length > 0) {
-      try {
-        plot = regionPlot(
-          task.spec,
-          task.data,
-          region,
-          rows.map((d) => d.participant),
-          { level: FIT_LEVEL },
-        );
-      } catch (e) {
-        if (!(e instanceof StatsError)) throw e;
-        plot = { error: e.message };
-      }
+  let plot: RegionPlot | { error: string } | null = null;
+  if (rows.length > 0) {
+    try {
+      plot = regionPlot(
+        task.spec,
+        task.data,
+        region,
+        rows.map((d) => d.participant),
+        { level: FIT_LEVEL },
+      );
+    } catch (e) {
+      if (!(e instanceof StatsError)) throw e;
+      plot = { error: e.message };
     }
-    post({
-      type: "region",
-      position,
-      region,
-      participants: encodeRegionRows(rows),
-      plot: plot === null ? null : JSON.stringify(plot),
-    });
+  }
+  post({
+    type: "region",
+    position,
+    region,
+    participants: encodeRegionRows(rows),
+    plot: plot === null ? null : JSON.stringify(plot),
   });
 }

@@ -106,24 +106,70 @@ export { fitPreconditionProblems } from "./fit/prepare";
  * correlation), times (resamples + 1) with permutation or bootstrap inference.
  */
 export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = {}): FitResult {
+  const participants: ParticipantDiagnostics[] = [];
+  const { regions, ...rest } = runFitByRegion(spec, data, options, (_position, _region, rows) => {
+    for (const d of rows) participants.push(d);
+  });
+  return { regions, participants, ...rest };
+}
+
+/**
+ * Receives a fit's participants' rows one region at a time, in the order of
+ * the result's regions (`position` is the index there); a region without
+ * diagnostics gets none.
+ */
+export type RegionRowsSink = (
+  position: number,
+  region: string,
+  rows: ParticipantDiagnostics[],
+) => void;
+
+/**
+ * `runFit`, with the participants' rows handed to `sink` region by region as
+ * they are computed (before the test) instead of gathered into the result,
+ * so a fit of many participants × many regions never holds all its rows at
+ * once. The same numbers as `runFit`; the result has no `participants`.
+ */
+export function runFitByRegion(
+  spec: ModelSpec,
+  data: FitData,
+  options: RunFitOptions,
+  sink: RegionRowsSink,
+): FitSummary {
   const { onProgress } = options;
   const prep = prepare(spec, data);
   const s = prep.spec;
-  if (s.kind === "reliability") return runReliability(prep, options);
-  if (s.kind === "prediction") return runPrediction(prep, options);
-  if (s.kind === "specification-curve") return runSpecificationCurve(prep, options);
-  const { works, participants } = estimateAndDiagnose(prep, options);
+  const whole =
+    s.kind === "reliability"
+      ? runReliability(prep, options)
+      : s.kind === "prediction"
+        ? runPrediction(prep, options)
+        : s.kind === "specification-curve"
+          ? runSpecificationCurve(prep, options)
+          : null;
+  if (whole) {
+    // These kinds have no participants' diagnostics (their `participants` is empty).
+    const { participants, ...rest } = whole;
+    rest.regions.forEach((region, k) => {
+      sink(
+        k,
+        region.region,
+        participants.filter((d) => d.region === region.region),
+      );
+    });
+    return rest;
+  }
+  const works = estimateAndDiagnose(prep, options, sink);
   const notes: string[] = [];
   // Infer: resampling, then the correction over regions.
   if (s.inference === "permutation") permutationPass(prep, works, options, notes);
   if (s.inference === "bootstrap") bootstrapPass(prep, works, options, notes);
-  const { regions, ...rest } = summaryOf(
+  const result = summaryOf(
     s,
     works.map((w) => w.result),
     notes,
     ruleExclusionsOf(prep),
   );
-  const result: FitResult = { regions, participants, ...rest };
   assertFinite(result, "result");
   onProgress?.(1);
   return result;
@@ -135,29 +181,36 @@ export type FitSummary = Omit<FitResult, "participants" | "regions" | "notes"> &
   notes: string[];
 };
 
-/** Stages 2 and 4 (estimate, diagnose), region by region: the regions' work and the participants' rows. */
+/**
+ * Stages 2 and 4 (estimate, diagnose), region by region: the regions' work;
+ * each region's participants' rows go to `sink` as soon as they are
+ * computed (none without `sink`).
+ */
 function estimateAndDiagnose(
   prep: Prepared,
   options: RunFitOptions,
-  diagnose = true,
-): { works: RegionWork[]; participants: ParticipantDiagnostics[] } {
+  sink?: RegionRowsSink,
+): RegionWork[] {
   const { onProgress, shouldCancel } = options;
   const { data } = prep;
   const regionCount = prep.regionIndex.length;
   const heavy = prep.spec.inference !== "parametric";
   const works: RegionWork[] = [];
-  const participants: ParticipantDiagnostics[] = [];
   const qrCache = new Map<string, QrDecomposition>();
   prep.regionIndex.forEach((r, idx) => {
     if (shouldCancel?.()) cancelled();
     inRegion(data.regions[r], () => {
       const work = estimateRegionWork(prep, r, qrCache);
-      if (work.qr && diagnose) participants.push(...diagnoseRegion(prep, work));
+      const rows = work.qr && sink ? diagnoseRegion(prep, work) : [];
       works.push(work);
+      if (sink) {
+        assertFinite(rows, `result.participants of region '${work.name}'`);
+        sink(idx, work.result.region, rows);
+      }
     });
     onProgress?.(Math.min(1, heavy ? (0.1 * (idx + 1)) / regionCount : (idx + 1) / regionCount));
   });
-  return { works, participants };
+  return works;
 }
 
 /**
@@ -230,7 +283,7 @@ export function prepareSplitTest(
     tested = linearTestBasis(prep, works);
   } catch (e) {
     // A test that cannot be set up fails with runFit's message when the estimate stage fails first.
-    if (e instanceof StatsError) estimateAndDiagnose(prep, {}, false);
+    if (e instanceof StatsError) estimateAndDiagnose(prep, {});
     throw e;
   }
   const { basis, input, setup } = tested;
@@ -262,8 +315,10 @@ export function runRegionsBeforeTest(
   const prep = prepare(spec, data);
   checkSplit(prep.spec);
   if (range) prep.regionIndex = prep.regionIndex.slice(range[0], range[1]);
-  const { works, participants } = estimateAndDiagnose(prep, options);
-  assertFinite({ participants }, "result");
+  const participants: ParticipantDiagnostics[] = [];
+  const works = estimateAndDiagnose(prep, options, (_position, _region, rows) => {
+    for (const d of rows) participants.push(d);
+  });
   return { regions: works.map((w) => w.result), participants };
 }
 

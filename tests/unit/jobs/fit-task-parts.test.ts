@@ -14,7 +14,7 @@ import { type FitData, modelSpecSchema } from "../../../contract/spec";
 import { ROWS_PART_REGIONS } from "../../../server/jobs/fit-chunks";
 import runFitTask, { type FitTaskMessage } from "../../../server/jobs/fit-task";
 import { createRng, normalDraw } from "../../../server/stats/rng";
-import { runRegionsBeforeTest } from "../../../server/stats/run-fit";
+import { runFit, runFitByRegion, runRegionsBeforeTest } from "../../../server/stats/run-fit";
 
 /** 30 participants, 120 regions (three parts of at most 50); region 60 misses three values. */
 function makeData(): FitData {
@@ -90,4 +90,67 @@ describe("the fit thread's regions before the test, in parts", () => {
     expect(part.regions).toEqual(whole.regions.slice(45, 105));
     expect(part.messages.at(-1)).toEqual({ type: "regions-done", count: 60 });
   });
+});
+
+/**
+ * A fit that is not split (robust, bootstrap, weighted, rank…) hands each
+ * region's participants' rows on as soon as the region is diagnosed, before
+ * the resampling pass, so the fit thread never holds a biobank-size fit's
+ * rows at once; the rows and the result are those of `runFit`.
+ */
+describe("a whole fit's rows, region by region", () => {
+  const data = makeData();
+  const cases = [
+    {
+      kind: "association",
+      predictor: "accuracy",
+      estimator: "huber",
+      inference: "bootstrap",
+      resamples: 60,
+    },
+    {
+      kind: "association",
+      predictor: "accuracy",
+
+      estimator: "rank",
+      inference: "permutation",
+      resamples: 60,
+    },
+    { kind: "one-sample", estimator: "bisquare", inference: "parametric" },
+  ] as const;
+  for (const input of cases)
+    it(`${input.kind}, ${input.estimator}, ${input.inference}`, () => {
+      const model = modelSpecSchema.parse({
+        ...input,
+        regions: data.regions.slice(0, 12),
+        seed: 9,
+      });
+      let progress = 0;
+      const seen: { position: number; region: string; progress: number; rows: unknown[] }[] = [];
+      const summary = runFitByRegion(
+        model,
+        data,
+        {
+          onProgress: (f) => {
+            progress = f;
+          },
+        },
+        (position, region, rows) => {
+          seen.push({ position, region, progress, rows });
+        },
+      );
+      const whole = runFit(model, data);
+      expect(seen.map((s) => s.position)).toEqual(Array.from({ length: 12 }, (_, k) => k));
+      expect(seen.map((s) => s.region)).toEqual(whole.regions.map((r) => r.region));
+      for (const s of seen) {
+        expect(s.rows.length).toBeGreaterThan(0);
+        for (const row of s.rows) expect((row as { region: string }).region).toBe(s.region);
+      }
+      // Handed on before any resampling: the estimate stage reports at most a tenth of the fit.
+      if (model.inference !== "parametric")
+        expect(Math.max(...seen.map((s) => s.progress))).toBeLessThanOrEqual(0.1);
+      expect(seen.flatMap((s) => s.rows)).toEqual(whole.participants);
+      const { participants: _, ...rest } = whole;
+      expect(JSON.stringify(summary)).toBe(JSON.stringify(rest));
+    });
 });
