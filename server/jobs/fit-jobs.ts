@@ -603,6 +603,8 @@ export class FitJobs {
       }
       channel.port1.close();
       if (!outcome.ok) {
+        // Rows of the regions diagnosed before the failure may still be on their way to storage.
+        await run.storing.catch(() => {});
         await this.store.clearRegionRows(fitId);
         return await this.fail(fitId, outcome.code, outcome.message);
       }
