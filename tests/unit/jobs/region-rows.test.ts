@@ -1,7 +1,8 @@
 /**
  * The stored form of a region's participant rows (server/jobs/region-rows.ts):
  * column by column, and back to exactly the rows the engine made, for
- * every kind of fit; the earlier row-by-row text still reads.
+ * every kind of fit, numbers bit for bit; the earlier row-by-row text and
+ * the earlier all-JSON columns still read.
  */
 import { describe, expect, it } from "vitest";
 import { decodeRegionRows, encodeRegionRows } from "../../../server/jobs/region-rows";
@@ -108,11 +109,90 @@ describe("region rows by columns", () => {
       "left insula",
     );
     const byRows = JSON.stringify(rows);
-    expect(encodeRegionRows(rows).length).toBeLessThan(0.75 * byRows.length);
+    expect(encodeRegionRows(rows).length).toBeLessThan(0.5 * byRows.length);
     expect(decodeRegionRows(byRows, "left insula")).toStrictEqual(rows);
   });
 
+  it("store numbers as IEEE 754 doubles, little-endian, and give back every bit", () => {
+    // 1.0 is 0x3FF0000000000000 and -2.0 is 0xC000000000000000 in IEEE 754 binary64; their
+    // little-endian bytes in base64 (RFC 4648) are "AAAAAAAA8D8=" and "AAAAAAAAAMA=".
+    const plain = (leverage: number, participant: string): ParticipantDiagnostics => ({
+      participant,
+      region: "r",
+      leverage,
+      studentizedResidual: null,
+      cooksDistance: null,
+      flags: [],
+    });
+    const one = JSON.parse(encodeRegionRows([plain(1, "a")]));
+    expect(one.fields.leverage).toEqual({ f64: "AAAAAAAA8D8=" });
+    expect(JSON.parse(encodeRegionRows([plain(-2, "a")])).fields.leverage).toEqual({
+      f64: "AAAAAAAAAMA=",
+    });
+    // Values whose shortest decimal form is long, the smallest subnormal, −0 and 2^53 + 2.
+    const awkward = [1 / 3, 0.1 + 0.2, 5e-324, -0, 2 ** 53 + 2, -1.7976931348623157e308];
+    const rows = awkward.map((v, i) => plain(v, `p${i}`));
+    const back = decodeRegionRows(encodeRegionRows(rows), "r");
+    back.forEach((row, i) => {
+      expect(Object.is(row.leverage, awkward[i])).toBe(true);
+    });
+  });
+
+  it("store objects of one shape key by key, with absent rows and nulls inside", () => {
+    const rows: ParticipantDiagnostics[] = [0, 1, 2, 3].map((i) => ({
+      participant: `p${i}`,
+      region: "r",
+      leverage: 0.25 * i,
+      studentizedResidual: i,
+      cooksDistance: null,
+      flags: i === 2 ? ["outlier"] : [],
+      ...(i === 1 ? {} : { dfbetas: { "(intercept)": i / 7, accuracy: i === 3 ? null : 0.5 - i } }),
+    }));
+    const text = encodeRegionRows(rows);
+    const stored = JSON.parse(text);
+    expect(Object.keys(stored.fields.dfbetas.object)).toEqual(["(intercept)", "accuracy"]);
+    expect(stored.fields.dfbetas.object["(intercept)"]).toHaveProperty("f64");
+    expect(Array.isArray(stored.fields.dfbetas.object.accuracy)).toBe(true);
+    expect(stored.absent).toEqual({ dfbetas: [1] });
+    expect(decodeRegionRows(text, "r")).toStrictEqual(rows);
+  });
+
+  it("read the earlier columns, every one a JSON array", () => {
+    const earlier =
+      '{"layout":"columns","n":2,"fields":{"participant":["a","b"],"leverage":[0.5,null],' +
+      '"studentizedResidual":[1.25,-2],"cooksDistance":[0,0.125],"flags":[[],["leverage"]],' +
+      '"dfbetas":[{"x":1},null]},"absent":{"dfbetas":[1]}}';
+    expect(decodeRegionRows(earlier, "r")).toStrictEqual([
+      {
+        participant: "a",
+        region: "r",
+        leverage: 0.5,
+        studentizedResidual: 1.25,
+        cooksDistance: 0,
+        flags: [],
+        dfbetas: { x: 1 },
+      },
+      {
+        participant: "b",
+        region: "r",
+        leverage: null,
+        studentizedResidual: -2,
+        cooksDistance: 0.125,
+        flags: ["leverage"],
+      },
+    ]);
+  });
+
   it("refuse text that is neither form", () => {
+    expect(() =>
+      decodeRegionRows(
+        '{"layout":"columns","n":2,"fields":{"leverage":{"f64":"AAAAAAAA8D8="}}}',
+        "r",
+      ),
+    ).toThrow(SyntaxError);
+    expect(() =>
+      decodeRegionRows('{"layout":"columns","n":1,"fields":{"leverage":{"bytes":"A"}}}', "r"),
+    ).toThrow(SyntaxError);
     expect(() => decodeRegionRows('{"points":[]}', "r")).toThrow(SyntaxError);
     expect(() => decodeRegionRows("not json", "r")).toThrow(SyntaxError);
   });
