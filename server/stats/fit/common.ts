@@ -34,6 +34,13 @@ export interface RunFitOptions {
   predictionPartials?: () => readonly PredictionPartial[];
 }
 
+/** `source[rows[k]]` for each k: the values of a region's participants, in its order. Cost O(rows). */
+export function valuesAt(source: ArrayLike<number | null>, rows: readonly number[]): Float64Array {
+  const out = new Float64Array(rows.length);
+  for (let k = 0; k < rows.length; k++) out[k] = source[rows[k]] as number;
+  return out;
+}
+
 /** Confidence level of every interval in a fit. */
 export const FIT_LEVEL = 0.95;
 

@@ -16,6 +16,7 @@ import { estimateRegion, olsFit } from "../fit-methods";
 import { type LinearModelFit, type QrDecomposition, unscaledCovariance } from "../linear-model";
 import type { RegionData } from "../region-data";
 import { type RegionWork, designFor } from "./estimate";
+import { valuesAt } from "./common";
 import type { Prepared } from "./prepare";
 
 /**
@@ -154,7 +155,7 @@ function sensitivityRefit(
       const { design, tested, covariateColumns, x, groupIndicator } = designFor(prep, keep);
       const reduced: RegionData = {
         ...d,
-        y: Float64Array.from(keep, (i) => prep.data.values[prep.data.regions.indexOf(region)][i]),
+        y: valuesAt(prep.data.values[prep.data.regions.indexOf(region)], keep),
         design,
         tested,
         covariateColumns,

@@ -12,7 +12,7 @@ import { estimateRegion } from "../fit-methods";
 import { type QrDecomposition, qrDecompose } from "../linear-model";
 import { weightedLinearModel } from "../meta-regression";
 import type { Estimator, Kind, RegionData } from "../region-data";
-import { FIT_LEVEL } from "./common";
+import { FIT_LEVEL, valuesAt } from "./common";
 import { type Prepared, regionRows } from "./prepare";
 
 /** One region after the estimate stage: what the diagnose and infer stages work on. */
@@ -89,7 +89,7 @@ export function regionDesign(
   const s = prep.spec;
   const rows = regionRows(prep, r);
   const { design, tested, covariateColumns, x, groupIndicator } = designFor(prep, rows);
-  const y = Float64Array.from(rows, (i) => data.values[r][i]);
+  const y = valuesAt(data.values[r], rows);
   return {
     name: data.regions[r],
     rows,
@@ -131,8 +131,11 @@ export function designFor(
   let tested = 0;
   let x: Float64Array | null = null;
   let groupIndicator: Float64Array | null = null;
-  if (group && levels)
-    groupIndicator = Float64Array.from(rows, (i) => (group[i] === levels[0] ? 1 : 0));
+  if (group && levels) {
+    const indicator = new Float64Array(n);
+    for (let k = 0; k < n; k++) indicator[k] = group[rows[k]] === levels[0] ? 1 : 0;
+    groupIndicator = indicator;
+  }
   if (spec.kind === "two-group") {
     const g = groupIndicator as Float64Array;
     terms.push({ name: `${spec.group}: ${levels?.[0]}`, kind: "numeric", values: g });
@@ -140,7 +143,7 @@ export function designFor(
     x = g;
     groupIndicator = null;
   } else if (spec.kind === "association") {
-    x = Float64Array.from(rows, (i) => predictor?.[i] as number);
+    x = valuesAt(predictor ?? [], rows);
     terms.push({ name: spec.predictor as string, kind: "numeric", values: x });
     tested = 1;
     if (groupIndicator) {
@@ -163,7 +166,7 @@ export function designFor(
   const before = terms.length;
   for (const c of covariates) {
     if ("numeric" in c) {
-      const values = Float64Array.from(rows, (i) => c.numeric[i] as number);
+      const values = valuesAt(c.numeric, rows);
       if (spec.kind === "one-sample") {
         let m = 0;
         for (const v of values) m += v;
@@ -200,7 +203,7 @@ function weightedRegion(prep: Prepared, r: number, rows: number[], d: RegionData
   for (let k = 0; k < rows.length; k++) X.push(Array.from(d.design.x.subarray(k * p, (k + 1) * p)));
   const w = weightedLinearModel({
     y: d.y,
-    se: Float64Array.from(rows, (i) => se[i]),
+    se: valuesAt(se, rows),
     X,
     tested: d.tested,
     tau2Method: prep.spec.tau2Method,
