@@ -22,7 +22,9 @@
  * kernel time, between chunks (queue, slicing, storage) and after the last
  * part (the merge, storing the result); when the last part of the regions
  * before the test (estimates, diagnostics, region rows: parts of 50
- * regions on the workers' fit threads, beside the chunks) was stored; the projected wall time on 10 and 50 workers;
+ * regions on the workers' fit threads, beside the chunks) was stored, and
+ * the time per chunk and worker after that, when the workers compute only
+ * chunks; the projected wall time on 10 and 50 workers;
  * and, in the same run right after the kernel, a plain register-blocked
  * reference loop of a chunk's multiply–adds (its 100 regions, two regions ×
  * five regressors per pass) with the kernel's share of its speed, on one
@@ -296,6 +298,9 @@ export default async function scaleBench(): Promise<void> {
       mergeSeconds: number;
       beforeTestAt: number;
       firstChunks: number[];
+      /** Seconds per chunk and worker once the regions before the test were stored (only chunks left), and how many such chunks. */
+      tailChunk: number | null;
+      tailCount: number;
     }[] = [];
     for (const count of [1, 2]) {
       while (workers.length < count) workers.push(startWorker(databaseUrl));
@@ -319,7 +324,19 @@ export default async function scaleBench(): Promise<void> {
       const firstOf = new Map<string, Date>();
       for (const p of parts)
         if (p.block >= 0 && !firstOf.has(p.worker)) firstOf.set(p.worker, p.at);
+      // Chunks stored after the last part of the regions before the test: the workers compute only chunks then.
+      const lastRows = parts.findLast((p) => p.block === -1)?.at.getTime() ?? 0;
+      const tail = parts.filter((p) => p.block >= 0 && p.at.getTime() > lastRows);
+      const tailChunk =
+        tail.length >= 2
+          ? ((tail[tail.length - 1].at.getTime() - tail[0].at.getTime()) /
+              1000 /
+              (tail.length - 1)) *
+            count
+          : null;
       results.push({
+        tailChunk,
+        tailCount: tail.length,
         workers: count,
         wall: run.wall,
         same: run.result === embedded.result,
@@ -342,7 +359,7 @@ export default async function scaleBench(): Promise<void> {
       const overhead = r.wall - computeSeconds / r.workers;
       const between = overhead - r.beforeFirst - r.mergeSeconds;
       console.log(
-        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread${r.workers >= 2 ? `, ${((100 * perWorker) / kernelPerCore).toFixed(0)} % of its per-core throughput with both cores computing` : ""} · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s · each worker's first chunk stored at ${r.firstChunks.map((x) => `${x.toFixed(1)} s`).join(", ")} · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
+        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread${r.workers >= 2 ? `, ${((100 * perWorker) / kernelPerCore).toFixed(0)} % of its per-core throughput with both cores computing` : ""} · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s${r.tailChunk === null ? "" : ` · after them, ${r.tailCount} chunks at ${(1000 * r.tailChunk).toFixed(0)} ms per chunk and worker (${((100 * (r.workers >= 2 ? chunkSecondsBoth : chunkSeconds)) / r.tailChunk).toFixed(0)} % of the kernel's ${r.workers >= 2 ? "two-at-a-time" : "one-thread"} time)`} · each worker's first chunk stored at ${r.firstChunks.map((x) => `${x.toFixed(1)} s`).join(", ")} · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
       );
     }
     console.log(`chunk rows stored: ${stored} (each chunk of each run once)`);
