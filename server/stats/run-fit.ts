@@ -139,16 +139,8 @@ export function runFitByRegion(
   const { onProgress } = options;
   const prep = prepare(spec, data);
   const s = prep.spec;
-  const whole =
-    s.kind === "reliability"
-      ? runReliability(prep, options)
-      : s.kind === "prediction"
-        ? runPrediction(prep, options)
-        : s.kind === "specification-curve"
-          ? runSpecificationCurve(prep, options)
-          : null;
+  const whole = runWithoutDiagnostics(prep, options);
   if (whole) {
-    // These kinds have no participants' diagnostics (their `participants` is empty).
     const { participants, ...rest } = whole;
     rest.regions.forEach((region, k) => {
       sink(
@@ -173,6 +165,20 @@ export function runFitByRegion(
   assertFinite(result, "result");
   onProgress?.(1);
   return result;
+}
+
+/** A fit of a kind without participants' diagnostics (its `participants` empty), run whole; null for the other kinds. */
+function runWithoutDiagnostics(prep: Prepared, options: RunFitOptions): FitResult | null {
+  switch (prep.spec.kind) {
+    case "reliability":
+      return runReliability(prep, options);
+    case "prediction":
+      return runPrediction(prep, options);
+    case "specification-curve":
+      return runSpecificationCurve(prep, options);
+    default:
+      return null;
+  }
 }
 
 /** A fit's result without its participants' rows (what a fit stores besides its region rows). */
