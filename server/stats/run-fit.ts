@@ -151,17 +151,13 @@ export function runFitByRegion(
     });
     return rest;
   }
-  const works = estimateAndDiagnose(prep, options, sink);
+  // Only resampling reads the regions' designs and values again: a parametric fit keeps just the results.
+  const { works, results } = estimateAndDiagnose(prep, options, sink, s.inference !== "parametric");
   const notes: string[] = [];
   // Infer: resampling, then the correction over regions.
   if (s.inference === "permutation") permutationPass(prep, works, options, notes);
   if (s.inference === "bootstrap") bootstrapPass(prep, works, options, notes);
-  const result = summaryOf(
-    s,
-    works.map((w) => w.result),
-    notes,
-    ruleExclusionsOf(prep),
-  );
+  const result = summaryOf(s, results, notes, ruleExclusionsOf(prep));
   assertFinite(result, "result");
   onProgress?.(1);
   return result;
@@ -188,27 +184,32 @@ export type FitSummary = Omit<FitResult, "participants" | "regions" | "notes"> &
 };
 
 /**
- * Stages 2 and 4 (estimate, diagnose), region by region: the regions' work;
- * each region's participants' rows go to `sink` as soon as they are
- * computed (none without `sink`).
+ * Stages 2 and 4 (estimate, diagnose), region by region: the regions'
+ * results, and their work (design, values, decomposition) when `keepWorks`
+ * (else none: at 20,000 participants a region's work is ~2 MB); each
+ * region's participants' rows go to `sink` as soon as they are computed
+ * (none without `sink`).
  */
 function estimateAndDiagnose(
   prep: Prepared,
   options: RunFitOptions,
-  sink?: RegionRowsSink,
-): RegionWork[] {
+  sink: RegionRowsSink | undefined,
+  keepWorks: boolean,
+): { works: RegionWork[]; results: RegionResult[] } {
   const { onProgress, shouldCancel } = options;
   const { data } = prep;
   const regionCount = prep.regionIndex.length;
   const heavy = prep.spec.inference !== "parametric";
   const works: RegionWork[] = [];
+  const results: RegionResult[] = [];
   const qrCache = new Map<string, QrDecomposition>();
   prep.regionIndex.forEach((r, idx) => {
     if (shouldCancel?.()) cancelled();
     inRegion(data.regions[r], () => {
       const work = estimateRegionWork(prep, r, qrCache);
       const rows = work.qr && sink ? diagnoseRegion(prep, work) : [];
-      works.push(work);
+      if (keepWorks) works.push(work);
+      results.push(work.result);
       if (sink) {
         assertFinite(rows, `result.participants of region '${work.name}'`);
         sink(idx, work.result.region, rows);
@@ -216,7 +217,7 @@ function estimateAndDiagnose(
     });
     onProgress?.(Math.min(1, heavy ? (0.1 * (idx + 1)) / regionCount : (idx + 1) / regionCount));
   });
-  return works;
+  return { works, results };
 }
 
 /**
@@ -289,7 +290,7 @@ export function prepareSplitTest(
     tested = linearTestBasis(prep, works);
   } catch (e) {
     // A test that cannot be set up fails with runFit's message when the estimate stage fails first.
-    if (e instanceof StatsError) estimateAndDiagnose(prep, {});
+    if (e instanceof StatsError) estimateAndDiagnose(prep, {}, undefined, false);
     throw e;
   }
   const { basis, input, setup } = tested;
@@ -322,10 +323,15 @@ export function runRegionsBeforeTest(
   checkSplit(prep.spec);
   if (range) prep.regionIndex = prep.regionIndex.slice(range[0], range[1]);
   const participants: ParticipantDiagnostics[] = [];
-  const works = estimateAndDiagnose(prep, options, (_position, _region, rows) => {
-    for (const d of rows) participants.push(d);
-  });
-  return { regions: works.map((w) => w.result), participants };
+  const { results } = estimateAndDiagnose(
+    prep,
+    options,
+    (_position, _region, rows) => {
+      for (const d of rows) participants.push(d);
+    },
+    false,
+  );
+  return { regions: results, participants };
 }
 
 /**
