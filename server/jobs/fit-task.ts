@@ -1,16 +1,18 @@
 /**
- * Worker-thread task of a fit job: runs `runFit` and, for every region with
- * participant diagnostics, the data its plots draw (`regionPlot`), and
- * serializes each region's rows to JSON text here, off the request thread
- * (column by column, region-rows.ts: at 400 regions × 500 participants
- * that is ~60 MB of JSON). Workers
- * compute only — no database, no files; the main thread writes everything.
+ * Worker-thread task of a fit job: runs the fit (`runFitByRegion`) and, for
+ * every region with participant diagnostics, the data its plots draw
+ * (`regionPlot`), and serializes each region's rows to text here, off the
+ * request thread (column by column, region-rows.ts). Workers compute only —
+ * no database, no files; the main thread writes everything.
  *
- * Messages on `port` (the main thread's end of a MessageChannel), in order:
- * `{ type: "started" }`; `{ type: "progress", fraction }` at most every
- * PROGRESS_INTERVAL_MS; then one `{ type: "region", … }` per region of the
- * result, as each is ready (so the main thread stores them one by one and
- * never receives the whole at once); then `{ type: "regions-done", count }`.
+ * Messages on `port` (the main thread's end of a MessageChannel):
+ * `{ type: "started" }` first; `{ type: "progress", fraction }` at most
+ * every PROGRESS_INTERVAL_MS; one `{ type: "region", … }` per region of the
+ * result, in the result's order, each as soon as its region is diagnosed
+ * (before any resampling, so the thread never holds the whole fit's rows and
+ * the main thread stores them one by one); `{ type: "regions-done", count }`
+ * last. A fit that then fails has sent some regions: the main thread
+ * removes their rows.
  * The task's return value is the result without its per-participant rows.
  * A statistical precondition comes back as `{ ok: false, code, message }`
  * (the fit's reason for failing); any other error is thrown (the main
