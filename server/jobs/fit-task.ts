@@ -32,8 +32,8 @@ import type {
 import { StatsError } from "../stats/errors";
 import type { RegionPlot } from "../../contract/views/fits";
 import { regionPlot } from "../stats/region-plot";
-import { FIT_LEVEL, fitRegionCount, runFitByRegion, runRegionsBeforeTest } from "../stats/run-fit";
-import { type MergedChunks, mergeOptions, ROWS_PART_REGIONS } from "./fit-chunks";
+import { FIT_LEVEL, regionsBeforeTestByRegion, runFitByRegion } from "../stats/run-fit";
+import { type MergedChunks, mergeOptions } from "./fit-chunks";
 import { encodeRegionRows } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
@@ -105,30 +105,15 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
     };
     if (task.rows === "only") {
       // Diagnostics and plots do not read the test: the region rows before the test are those of
-      // the fit. They come in parts of ROWS_PART_REGIONS regions (the same rows whatever the
-      // parts), each part's rows sent and let go before the next: at 20,000 participants the
-      // participants' rows of 400 regions at once would outgrow the thread's heap.
-      const [from, to] = task.regionRange ?? [0, fitRegionCount(task.spec, task.data)];
-      const regions: RegionResult[] = [];
-      for (let a = from; a < to; a += ROWS_PART_REGIONS) {
-        const b = Math.min(to, a + ROWS_PART_REGIONS);
-        const part = runRegionsBeforeTest(
-          task.spec,
-          task.data,
-          { onProgress: (f) => onProgress((a - from + f * (b - a)) / (to - from)) },
-          [a, b],
-        );
-        const byRegion = new Map<string, ParticipantDiagnostics[]>();
-        for (const d of part.participants) {
-          const list = byRegion.get(d.region);
-          if (list) list.push(d);
-          else byRegion.set(d.region, [d]);
-        }
-        part.regions.forEach(({ region }, k) => {
-          postRegion(task, a + k, region, byRegion.get(region) ?? [], post);
-        });
-        regions.push(...part.regions);
-      }
+      // the fit. Each region's rows are sent as soon as it is diagnosed and then let go.
+      const first = task.regionRange?.[0] ?? 0;
+      const regions = regionsBeforeTestByRegion(
+        task.spec,
+        task.data,
+        { onProgress },
+        task.regionRange,
+        (position, region, rows) => postRegion(task, first + position, region, rows, post),
+      );
       post({ type: "regions-done", count: regions.length });
       return { ok: true, summary: { regions, notes: [] }, regionsBeforeTest: regions };
     }

@@ -106,10 +106,8 @@ export { fitPreconditionProblems } from "./fit/prepare";
  * correlation), times (resamples + 1) with permutation or bootstrap inference.
  */
 export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = {}): FitResult {
-  const participants: ParticipantDiagnostics[] = [];
-  const { regions, ...rest } = runFitByRegion(spec, data, options, (_position, _region, rows) => {
-    for (const d of rows) participants.push(d);
-  });
+  const { participants, sink } = gathering();
+  const { regions, ...rest } = runFitByRegion(spec, data, options, sink);
   return { regions, participants, ...rest };
 }
 
@@ -123,6 +121,17 @@ export type RegionRowsSink = (
   region: string,
   rows: ParticipantDiagnostics[],
 ) => void;
+
+/** A sink that gathers every region's rows, in order, into `participants`. */
+function gathering(): { participants: ParticipantDiagnostics[]; sink: RegionRowsSink } {
+  const participants: ParticipantDiagnostics[] = [];
+  return {
+    participants,
+    sink: (_position, _region, rows) => {
+      for (const d of rows) participants.push(d);
+    },
+  };
+}
 
 /**
  * `runFit`, with the participants' rows handed to `sink` region by region as
@@ -301,11 +310,6 @@ export function prepareSplitTest(
   };
 }
 
-/** How many regions a fit of `spec` on `data` covers. Throws StatsError as `runFit` does. Cost: the fit's preparation. */
-export function fitRegionCount(spec: ModelSpec, data: FitData): number {
-  return prepare(spec, data).regionIndex.length;
-}
-
 /**
  * The stages of `runFit` before the test of a least-squares permutation
  * fit, for the regions at positions from … to − 1 of the fit's regions
@@ -319,19 +323,28 @@ export function runRegionsBeforeTest(
   options: RunFitOptions = {},
   range?: readonly [number, number],
 ): { regions: RegionResult[]; participants: ParticipantDiagnostics[] } {
+  const { participants, sink } = gathering();
+  const regions = regionsBeforeTestByRegion(spec, data, options, range, sink);
+  return { regions, participants };
+}
+
+/**
+ * `runRegionsBeforeTest`, with each region's participants' rows handed to
+ * `sink` as soon as the region is diagnosed (`position` counts from the
+ * range's start) instead of gathered: only the regions' results are kept,
+ * whatever the number of participants and regions.
+ */
+export function regionsBeforeTestByRegion(
+  spec: ModelSpec,
+  data: FitData,
+  options: RunFitOptions,
+  range: readonly [number, number] | undefined,
+  sink: RegionRowsSink,
+): RegionResult[] {
   const prep = prepare(spec, data);
   checkSplit(prep.spec);
   if (range) prep.regionIndex = prep.regionIndex.slice(range[0], range[1]);
-  const participants: ParticipantDiagnostics[] = [];
-  const { results } = estimateAndDiagnose(
-    prep,
-    options,
-    (_position, _region, rows) => {
-      for (const d of rows) participants.push(d);
-    },
-    false,
-  );
-  return { regions: results, participants };
+  return estimateAndDiagnose(prep, options, sink, false).results;
 }
 
 /**

@@ -1,12 +1,13 @@
 /**
  * The fit thread's task (server/jobs/fit-task.ts) with rows "only" — a
  * split permutation test's regions before the test, computed beside its
- * chunks — works through the regions in parts of ROWS_PART_REGIONS so
- * that a biobank-size fit's participant rows never sit in the thread's
- * heap at once. The parts must not change a row: every region message is
- * the one the whole fit sends, and the regions' results are those of
- * `runRegionsBeforeTest` over all regions (exact enumeration of the
- * engine's own output). Invented, seeded data.
+ * chunks — sends each region's rows as soon as it is diagnosed, so that a
+ * biobank-size fit's participant rows never sit in the thread's heap at
+ * once; worker processes ask for ranges of ROWS_PART_REGIONS regions. Neither
+ * may change a row: every region message is the one the whole fit sends,
+ * and the regions' results are those of `runRegionsBeforeTest` over all
+ * regions (exact enumeration of the engine's own output). Invented, seeded
+ * data.
  */
 import { MessageChannel, receiveMessageOnPort } from "node:worker_threads";
 import { describe, expect, it } from "vitest";
