@@ -83,7 +83,7 @@ export function encodeRegionRows(rows: readonly ParticipantDiagnostics[]): strin
  * One column's stored form: numbers as doubles, objects of one shape key by
  * key, anything else as JSON. `missing[i]` is 1 where row i has no value.
  */
-function encodeColumn(values: readonly unknown[], missing: Uint8Array): Column {
+function encodeColumn(values: unknown[], missing: Uint8Array): Column {
   let numbers = true;
   let objects = true;
   let keys: string[] | null = null;
@@ -109,7 +109,7 @@ function encodeColumn(values: readonly unknown[], missing: Uint8Array): Column {
       break;
     }
   }
-  if (present === 0 || (!numbers && !objects)) return [...values];
+  if (present === 0 || (!numbers && !objects)) return values;
   if (numbers) {
     const doubles = new Float64Array(values.length);
     for (let i = 0; i < values.length; i++) if (!missing[i]) doubles[i] = values[i] as number;

@@ -64,7 +64,7 @@ export function diagnoseRegion(prep: Prepared, work: RegionWork): ParticipantDia
   };
   if ((d.estimator === "ols" || d.estimator === "welch") && prep.spec.weights === "none")
     leaveOneOutRange(prep, rows, d, qr, fit, result);
-  sensitivityRefit(prep, region, rows, d, diag, result);
+  sensitivityRefit(prep, prep.data.values[work.r], rows, d, diag, result);
   return out;
 }
 
@@ -134,10 +134,11 @@ function leaveOneOutRange(
  * Sensitivity: the same estimator refitted without the participants flagged
  * `outlier` or `influence` (unweighted fits). Sets `result.sensitivity`, with
  * the refit's error message when the reduced region cannot be fitted.
+ * `values` are the region's values of every participant of the data.
  */
 function sensitivityRefit(
   prep: Prepared,
-  region: string,
+  values: ArrayLike<number>,
   rows: readonly number[],
   d: RegionData,
   diag: DiagnosticsResult,
@@ -155,7 +156,7 @@ function sensitivityRefit(
       const { design, tested, covariateColumns, x, groupIndicator } = designFor(prep, keep);
       const reduced: RegionData = {
         ...d,
-        y: valuesAt(prep.data.values[prep.data.regions.indexOf(region)], keep),
+        y: valuesAt(values, keep),
         design,
         tested,
         covariateColumns,
