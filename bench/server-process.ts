@@ -5,7 +5,7 @@
  * files in bench/suites/).
  */
 import { type ChildProcess, spawn } from "node:child_process";
-import { mkdtempSync, rmSync } from "node:fs";
+import { mkdtempSync, readFileSync, rmSync } from "node:fs";
 import { createServer } from "node:net";
 import os from "node:os";
 import { join } from "node:path";
@@ -129,4 +129,60 @@ export async function healthDuring(base: string, work: Promise<unknown>): Promis
   }
   await Promise.all(inFlight);
   return times;
+}
+
+/** CPU milliseconds (user + system) a process's main thread has used, or null where /proc cannot tell. */
+export function mainThreadCpuMs(pid: number | undefined): number | null {
+  if (pid === undefined) return null;
+  try {
+    const fields = readFileSync(`/proc/${pid}/task/${pid}/stat`, "utf8").split(") ")[1].split(" ");
+    return ((Number(fields[11]) + Number(fields[12])) * 1000) / 100; // utime and stime, in clock ticks of 1/100 s
+  } catch {
+    return null;
+  }
+}
+
+/** A JSON request as the signed-in person; throws on any status from 300 up. */
+export async function mustJson(
+  server: Pick<BenchServer, "base" | "cookie">,
+  method: string,
+  path: string,
+  body?: unknown,
+): Promise<Record<string, unknown>> {
+  const res = await fetch(`${server.base}${path}`, {
+    method,
+    headers: {
+      Cookie: server.cookie,
+      ...(body === undefined ? {} : { "Content-Type": "application/json" }),
+    },
+    body: body === undefined ? undefined : JSON.stringify(body),
+  });
+  const text = await res.text();
+  if (res.status >= 300)
+    throw new Error(`${method} ${path} answered ${res.status}: ${text.slice(0, 300)}`);
+  return (text ? JSON.parse(text) : null) as Record<string, unknown>;
+}
+
+/** Uploads a table to a study and confirms it. */
+export async function uploadDataset(
+  server: Pick<BenchServer, "base" | "cookie">,
+  studyId: string,
+  kind: "brain" | "participants",
+  fileName: string,
+  text: string,
+): Promise<void> {
+  const form = new FormData();
+  form.set("kind", kind);
+  form.set("file", new Blob([text]), fileName);
+  const res = await fetch(`${server.base}/api/studies/${studyId}/datasets`, {
+    method: "POST",
+    body: form,
+    headers: { Cookie: server.cookie },
+  });
+  const preview = (await res.json()) as { id: string };
+  if (res.status !== 201)
+    throw new Error(
+      `upload ${fileName} answered ${res.status}: ${JSON.stringify(preview).slice(0, 300)}`,
+    );
+  await mustJson(server, "POST", `/api/studies/${studyId}/datasets/${preview.id}/confirm`, {});
 }

@@ -33,12 +33,16 @@
  * machine runs, so it tells the rate the request thread could keep with a
  * core of its own.
  */
-import { readFileSync } from "node:fs";
 import { Agent, request } from "node:http";
 import os from "node:os";
 import { gunzipSync } from "node:zlib";
 import { createRng } from "../../server/stats/rng";
-import { latencySummary, startBenchServer } from "../server-process";
+import {
+  latencySummary,
+  mainThreadCpuMs,
+  startBenchServer,
+  uploadDataset,
+} from "../server-process";
 
 const PARTICIPANTS = 500;
 const REGIONS = 400;
@@ -69,17 +73,6 @@ function makeFiles(): { brain: string; sheet: string } {
     sheet.push([id, String(18 + Math.floor(rng.next() * 50)), accuracy.toFixed(3)].join("\t"));
   }
   return { brain: `${lines.join("\n")}\n`, sheet: `${sheet.join("\n")}\n` };
-}
-
-/** CPU milliseconds (user + system) a process's main thread has used, or null where /proc cannot tell. */
-function mainThreadCpuMs(pid: number | undefined): number | null {
-  if (pid === undefined) return null;
-  try {
-    const fields = readFileSync(`/proc/${pid}/task/${pid}/stat`, "utf8").split(") ")[1].split(" ");
-    return ((Number(fields[11]) + Number(fields[12])) * 1000) / 100; // utime and stime, in clock ticks of 1/100 s
-  } catch {
-    return null;
-  }
 }
 
 export default async function fitsLoad(): Promise<void> {
@@ -249,35 +242,13 @@ export default async function fitsLoad(): Promise<void> {
     return out;
   }
 
-  async function upload(
-    studyId: string,
-    kind: string,
-    fileName: string,
-    text: string,
-  ): Promise<void> {
-    const form = new FormData();
-    form.set("kind", kind);
-    form.set("file", new Blob([text]), fileName);
-    const res = await fetch(`${base}/api/studies/${studyId}/datasets`, {
-      method: "POST",
-      body: form,
-      headers: { Cookie: cookie },
-    });
-    const preview = (await res.json()) as { id: string };
-    if (res.status !== 201)
-      throw new Error(
-        `upload ${fileName} answered ${res.status}: ${JSON.stringify(preview).slice(0, 300)}`,
-      );
-    await must("POST", `/api/studies/${studyId}/datasets/${preview.id}/confirm`, {});
-  }
-
   try {
     const study = await must("POST", "/api/studies", { name: "Load benchmark" });
     const studyId = study.id as string;
     const files = makeFiles();
     const t0 = performance.now();
-    await upload(studyId, "brain", "bench_brain-table.csv", files.brain);
-    await upload(studyId, "participants", "bench_participants.tsv", files.sheet);
+    await uploadDataset(server, studyId, "brain", "bench_brain-table.csv", files.brain);
+    await uploadDataset(server, studyId, "participants", "bench_participants.tsv", files.sheet);
     console.log(
       `uploaded ${PARTICIPANTS} participants × ${REGIONS} regions in ${((performance.now() - t0) / 1000).toFixed(1)} s`,
     );
