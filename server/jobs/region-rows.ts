@@ -132,9 +132,15 @@ function toLittleEndianBytes(doubles: Float64Array): Buffer {
   return littleEndian ? bytes : Buffer.from(bytes).swap64();
 }
 
-/** Participant i's value in a stored column (any of its forms). */
-function columnReader(column: Column, n: number): (i: number) => unknown {
-  if (Array.isArray(column)) return (i) => column[i];
+/** A stored column read back: participant i's value, and all values as doubles when it was stored as doubles. */
+interface DecodedColumn {
+  at: (i: number) => unknown;
+  doubles: Float64Array | null;
+}
+
+/** A stored column (any of its forms) read back. */
+function decodeColumn(column: Column, n: number): DecodedColumn {
+  if (Array.isArray(column)) return { at: (i) => column[i], doubles: null };
   if (column !== null && typeof column === "object" && "f64" in column) {
     const bytes = Buffer.from(column.f64, "base64");
     if (bytes.length !== 8 * n)
@@ -144,25 +150,48 @@ function columnReader(column: Column, n: number): (i: number) => unknown {
     const own = Buffer.from(doubles.buffer);
     bytes.copy(own);
     if (!littleEndian) own.swap64();
-    return (i) => doubles[i];
+    return { at: (i) => doubles[i], doubles };
   }
   if (column !== null && typeof column === "object" && "object" in column) {
     const readers = Object.entries(column.object).map(
-      ([key, inner]) => [key, columnReader(inner, n)] as const,
+      ([key, inner]) => [key, decodeColumn(inner, n).at] as const,
     );
-    return (i) => {
-      const value: Record<string, unknown> = {};
-      for (const [key, read] of readers) value[key] = read(i);
-      return value;
+    return {
+      at: (i) => {
+        const value: Record<string, unknown> = {};
+        for (const [key, read] of readers) value[key] = read(i);
+        return value;
+      },
+      doubles: null,
     };
   }
   throw new SyntaxError("decodeRegionRows: a column that is none of its stored forms");
 }
 
-/** The rows of one region from their stored text (any of its forms), each with `region` set. Throws SyntaxError on text that is none of them. */
-export function decodeRegionRows(text: string, region: string): ParticipantDiagnostics[] {
+/** One region's rows read back by field, without making an object per row. */
+export interface RegionRowColumns {
+  n: number;
+  /** Field names in their stored order (without `region`). */
+  names: string[];
+  /** Row i's value of field `name`; undefined where the row has no such field. */
+  value(name: string, i: number): unknown;
+  /**
+   * Field `name` of every row as doubles: a row whose value is not a
+   * number (null, absent, text) reads NaN. Made once per field.
+   */
+  numbers(name: string): Float64Array;
+}
+
+/** The rows of one region from their stored text (any of its forms), by field. Throws SyntaxError on text that is none of them. */
+export function decodeRegionColumns(text: string): RegionRowColumns {
   const stored = JSON.parse(text) as unknown;
-  if (Array.isArray(stored)) return stored as ParticipantDiagnostics[];
+  return Array.isArray(stored)
+    ? rowArrayColumns(stored as Record<string, unknown>[])
+    : layoutColumns(stored);
+}
+
+/** The column layout (see the module note), read by field. */
+function layoutColumns(stored: unknown): RegionRowColumns {
   const layout = stored as Partial<ColumnLayout> | null;
   if (
     !layout ||
@@ -174,18 +203,80 @@ export function decodeRegionRows(text: string, region: string): ParticipantDiagn
     throw new SyntaxError("decodeRegionRows: neither a row array nor a column layout");
   }
   const n = layout.n;
-  const fields = Object.entries(layout.fields).map(
-    ([name, column]) => [name, columnReader(column, n)] as const,
+  const columns = new Map(
+    Object.entries(layout.fields).map(([name, column]) => [name, decodeColumn(column, n)]),
   );
   const absent = new Map(
     Object.entries(layout.absent ?? {}).map(([name, rows]) => [name, new Set(rows)]),
   );
-  const rows: ParticipantDiagnostics[] = [];
+  const value = (name: string, i: number) =>
+    absent.get(name)?.has(i) ? undefined : columns.get(name)?.at(i);
+  const stored64 = (name: string) => {
+    const doubles = columns.get(name)?.doubles;
+    if (!doubles) return null;
+    const out = doubles.slice();
+    for (const i of absent.get(name) ?? []) out[i] = Number.NaN;
+    return out;
+  };
+  return { n, names: [...columns.keys()], value, numbers: numbersOnce(n, stored64, value) };
+}
+
+/** The earlier row-by-row form, read by field. */
+function rowArrayColumns(rows: Record<string, unknown>[]): RegionRowColumns {
+  const names: string[] = [];
+  const seen = new Set<string>(["region"]);
+  for (const row of rows)
+    for (const name of Object.keys(row))
+      if (!seen.has(name)) {
+        seen.add(name);
+        names.push(name);
+      }
+  const value = (name: string, i: number) => rows[i]?.[name];
+  return { n: rows.length, names, value, numbers: numbersOnce(rows.length, () => null, value) };
+}
+
+/** `numbers(name)` for RegionRowColumns: the stored doubles when there are, else read value by value; kept per field. */
+function numbersOnce(
+  n: number,
+  stored: (name: string) => Float64Array | null,
+  value: (name: string, i: number) => unknown,
+): (name: string) => Float64Array {
+  const made = new Map<string, Float64Array>();
+  return (name) => {
+    let out = made.get(name);
+    if (!out) {
+      out = stored(name) ?? readNumbers(n, name, value);
+      made.set(name, out);
+    }
+    return out;
+  };
+}
+
+function readNumbers(
+  n: number,
+  name: string,
+  value: (name: string, i: number) => unknown,
+): Float64Array {
+  const out = new Float64Array(n);
   for (let i = 0; i < n; i++) {
+    const v = value(name, i);
+    out[i] = typeof v === "number" ? v : Number.NaN;
+  }
+  return out;
+}
+
+/** The rows of one region from their stored text (any of its forms), each with `region` set. Throws SyntaxError on text that is none of them. */
+export function decodeRegionRows(text: string, region: string): ParticipantDiagnostics[] {
+  const stored = JSON.parse(text) as unknown;
+  if (Array.isArray(stored)) return stored as ParticipantDiagnostics[];
+  const columns = layoutColumns(stored);
+  const rows: ParticipantDiagnostics[] = [];
+  for (let i = 0; i < columns.n; i++) {
     const row: Record<string, unknown> = {};
-    for (const [name, read] of fields) {
-      if (absent.get(name)?.has(i)) continue;
-      row[name] = read(i);
+    for (const name of columns.names) {
+      const value = columns.value(name, i);
+      if (value === undefined) continue;
+      row[name] = value;
       if (name === "participant") row.region = region;
     }
     if (!("region" in row)) row.region = region;

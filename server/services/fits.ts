@@ -20,6 +20,9 @@ import { and, desc, eq, getTableColumns, sql } from "drizzle-orm";
 import type { Database, Queryable } from "../../db/client";
 import { perDatabase } from "../../db/prepared";
 import { cachedRead, deepFreeze } from "../../db/read-cache";
+import { sharedRegionReadJobs } from "../jobs/region-read-jobs";
+import { type RegionPlotHead, RegionPoints } from "../jobs/region-points";
+import { settledCache } from "./settled-cache";
 import {
   datasetVersions,
   fitApprovals,
@@ -34,14 +37,12 @@ import {
 import { conflict, notFound } from "../http/errors";
 import { idSchema } from "../http/validate";
 import type { FitJobs } from "../jobs/fit-jobs";
-import { decodeRegionRows } from "../jobs/region-rows";
 import { type RuleExclusion, modelRuleReason } from "../../contract/exclusion-rules";
 import { circularityCaution } from "../../contract/model-form";
 import { type Recipe, RecipeSpecError, buildRecipe, specOfRecipe } from "../../contract/recipe";
 import {
   type Flag,
   type ModelSpec,
-  type ParticipantDiagnostics,
   type RegionResult,
   currentRearrangementStreams,
   modelSpecSchema,
@@ -58,8 +59,6 @@ import type {
   FitView,
   Publication,
   RegionDetail,
-  RegionDetailPoint,
-  RegionPlot,
   RegionPlotPoint,
   RegionPreview,
 } from "../../contract/views/fits";
@@ -335,65 +334,39 @@ interface DoneResult {
   result: FitResultSummary;
   /** As the fit view shows it: regions without REGION_DETAIL_KEYS. */
   shown: FitResultSummary;
-  chars: number;
   /** sealHash(recipe, result) of the values read from the database, computed when first needed. */
   hash: string | null;
 }
 
 /**
- * Finished fits' results, kept parsed in memory (per database, least
- * recently used first out, at most RESULT_CACHE_CHARS characters of JSON).
- * A fit's result is written once, in the same update that marks it done,
- * and never changes afterwards (a sealed fit's row is also guarded by a
- * trigger), so a parsed copy stays right; reading and parsing a result of
- * 400 regions from the embedded database costs ~20 ms of the request
- * thread, which readers of a finished fit would otherwise pay every time.
- * Entries are frozen: callers copy before they change anything. The bound
- * holds about 35 finished fits of 400 regions × 500 participants (counted
- * as JSON text; the parsed objects take a few times more memory).
+ * Finished fits' results, kept parsed (services/settled-cache.ts: a fit's
+ * result is written once, in the same update that marks it done, and
+ * never changes afterwards; a sealed fit's row is also guarded by a
+ * trigger). Reading and parsing a result of 400 regions from the embedded
+ * database costs ~20 ms of the request thread, which readers of a finished
+ * fit would otherwise pay every time. `result` and `shown` are frozen:
+ * callers copy before they change anything. The bound, counted in
+ * characters of JSON, holds about 35 finished fits of 400 regions × 500
+ * participants (the parsed objects take a few times more memory).
  */
 const RESULT_CACHE_CHARS = 32 * 1024 * 1024;
-const doneResults = new WeakMap<object, { entries: Map<string, DoneResult>; chars: number }>();
+const doneResults = settledCache<DoneResult>(RESULT_CACHE_CHARS);
 
 /** The finished fit's stored result (from memory when read before). */
-async function doneResultOf(
-  db: Queryable,
-  fitId: string,
-  finishedAt: Date | null,
-): Promise<DoneResult> {
-  const cache = doneResults.get(db) ?? { entries: new Map<string, DoneResult>(), chars: 0 };
-  doneResults.set(db, cache);
+function doneResultOf(db: Queryable, fitId: string, finishedAt: Date | null): Promise<DoneResult> {
   const stamp = finishedAt?.getTime() ?? 0;
-  const hit = cache.entries.get(fitId);
-  if (hit && hit.finishedAt === stamp) {
-    cache.entries.delete(fitId);
-    cache.entries.set(fitId, hit);
-    return hit;
-  }
-  const [row] = await db
-    .select({ text: sql<string | null>`${fits.result}::text` })
-    .from(fits)
-    .where(eq(fits.id, fitId));
-  const text = row?.text ?? "null";
-  const result = deepFreeze(JSON.parse(text) as FitResultSummary);
-  // The ids a model's rules left out go in the view's head (ruleExclusions), never in the shown result.
-  const { ruleExclusions: _ids, ...rest } = result;
-  const shown = deepFreeze({ ...rest, regions: result.regions.map(viewRegion) });
-  const entry: DoneResult = { finishedAt: stamp, result, shown, chars: text.length, hash: null };
-  if (hit) {
-    cache.entries.delete(fitId);
-    cache.chars -= hit.chars;
-  }
-  if (entry.chars <= RESULT_CACHE_CHARS) {
-    cache.entries.set(fitId, entry);
-    cache.chars += entry.chars;
-    for (const [id, old] of cache.entries) {
-      if (cache.chars <= RESULT_CACHE_CHARS) break;
-      cache.entries.delete(id);
-      cache.chars -= old.chars;
-    }
-  }
-  return entry;
+  return doneResults.get(db, fitId, stamp, async () => {
+    const [row] = await db
+      .select({ text: sql<string | null>`${fits.result}::text` })
+      .from(fits)
+      .where(eq(fits.id, fitId));
+    const text = row?.text ?? "null";
+    const result = deepFreeze(JSON.parse(text) as FitResultSummary);
+    // The ids a model's rules left out go in the view's head (ruleExclusions), never in the shown result.
+    const { ruleExclusions: _ids, ...rest } = result;
+    const shown = deepFreeze({ ...rest, regions: result.regions.map(viewRegion) });
+    return { value: { finishedAt: stamp, result, shown, hash: null }, weight: text.length };
+  });
 }
 
 /** A dataset version of the fit as { id, version, fileName, sha256 } (a scalar subquery). */
@@ -729,46 +702,38 @@ function regionOf(fit: Fit, region: string): RegionResult {
   return found;
 }
 
-/** A finished fit's region: its result row, its participants with every diagnostic (in the fit's order), its plot. Throws 409 (not done), 404 (no such region). */
+/**
+ * Finished regions, kept decoded (services/settled-cache.ts: a region's
+ * rows are written while its fit runs, never once it is done). At 20,000
+ * participants reading, decoding and joining one region cost the request
+ * thread over 100 ms, paid again for every page of its participants and
+ * every look at its plots. The bound, in characters of stored text, holds
+ * about 13 regions of 20,000 participants or 600 of 500.
+ */
+const REGION_CACHE_CHARS = 64 * 1024 * 1024;
+const finishedRegions = settledCache<RegionPoints>(REGION_CACHE_CHARS);
+
+/** A finished fit's region: its result row, its participants with every diagnostic (in the fit's order), its plot data. Throws 409 (not done), 404 (no such region). */
 export async function regionParticipantRows(
   db: Queryable,
   fit: Fit,
   region: string,
-): Promise<{
-  summary: RegionResult;
-  points: RegionDetailPoint[];
-  plot: RegionPlot | { error: string } | null;
-}> {
+): Promise<{ summary: RegionResult; points: RegionPoints; plot: RegionPlotHead }> {
   const summary = regionOf(fit, region);
-  const [row] = await db
-    .select()
-    .from(fitRegions)
-    .where(and(eq(fitRegions.fitId, fit.id), eq(fitRegions.region, region)));
-  const diagnostics: ParticipantDiagnostics[] = row
-    ? decodeRegionRows(row.participants, region)
-    : [];
-  const plot = (row?.plot ? JSON.parse(row.plot) : null) as RegionPlot | { error: string } | null;
-  const byId = new Map(
-    (plot && "points" in plot ? plot.points : []).map((p) => [p.participant, p]),
-  );
-  const points: RegionDetailPoint[] = diagnostics.map((d) => {
-    const p = byId.get(d.participant);
+  const stamp = fit.finishedAt?.getTime() ?? 0;
+  const points = await finishedRegions.get(db, `${fit.id}\u0000${region}`, stamp, async () => {
+    const [row] = await db
+      .select({ participants: fitRegions.participants, plot: fitRegions.plot })
+      .from(fitRegions)
+      .where(and(eq(fitRegions.fitId, fit.id), eq(fitRegions.region, region)));
     return {
-      participant: d.participant,
-      x: p?.x ?? null,
-      group: p?.group ?? null,
-      y: (p?.y ?? d.value) as number,
-      fitted: (d.fitted as number | undefined) ?? null,
-      residual: (d.residual as number | undefined) ?? null,
-      leverage: d.leverage,
-      studentizedResidual: d.studentizedResidual,
-      cooksDistance: d.cooksDistance,
-      dffits: (d.dffits as number | null | undefined) ?? null,
-      mahalanobis: (d.mahalanobis as number | null | undefined) ?? null,
-      flags: d.flags,
+      value: new RegionPoints(
+        await sharedRegionReadJobs().decode(row?.participants ?? null, row?.plot ?? null),
+      ),
+      weight: (row?.participants.length ?? 0) + (row?.plot?.length ?? 0),
     };
   });
-  return { summary, points, plot };
+  return { summary, points, plot: points.plot };
 }
 
 /** A finished fit's region, for its plots. Throws 409 (not done), 404 (no such region). */
@@ -781,23 +746,27 @@ export async function regionDetail(
   const { summary, points, plot } = await regionParticipantRows(db, fit, region);
   const spec = specOfRecipe(fit.recipe);
   const result = fit.result as Record<string, unknown>;
-  const drawn = plot && "points" in plot ? plot : null;
+  const drawn = plot && !("error" in plot) ? plot : null;
   const notes = [
     ...(drawn?.notes ?? []),
     ...(plot && "error" in plot ? [`No plot data: ${plot.error}.`] : []),
   ];
   const flagCounts = { outlier: 0, leverage: 0, influence: 0 };
-  for (const p of points) for (const f of p.flags) flagCounts[f as Flag] += 1;
-  const plotPoints: RegionPlotPoint[] = points.map((p) => ({
-    participant: p.participant,
-    x: p.x,
-    group: p.group,
-    y: p.y,
-    leverage: p.leverage,
-    studentizedResidual: p.studentizedResidual,
-    cooksDistance: p.cooksDistance,
-    flags: p.flags,
-  }));
+  for (let i = 0; i < points.n; i++) for (const f of points.flags(i)) flagCounts[f as Flag] += 1;
+  const plotPoints: RegionPlotPoint[] = [];
+  for (let i = 0; i < points.n; i++) {
+    const p = points.point(i);
+    plotPoints.push({
+      participant: p.participant,
+      x: p.x,
+      group: p.group,
+      y: p.y,
+      leverage: p.leverage,
+      studentizedResidual: p.studentizedResidual,
+      cooksDistance: p.cooksDistance,
+      flags: p.flags,
+    });
+  }
   const levels =
     drawn?.groupMeans && spec.kind === "two-group"
       ? drawn.groupMeans.map((g) => g.label)

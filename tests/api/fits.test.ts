@@ -1132,6 +1132,17 @@ describe("per-participant diagnostics, a page at a time", () => {
         r.participant.toLowerCase().includes(all[4].participant.toLowerCase()),
       ),
     ).toBe(true);
+    // A search within an order, a page at a time: the matching rows of that order, sliced.
+    const stem = all[0].participant.slice(0, -1);
+    const matching = whole.filter((r: { participant: string }) => r.participant.includes(stem));
+    expect(matching.length).toBeGreaterThan(4);
+    const searchedPage = (
+      await as("analyst")
+        .get(`${base()}?sort=cooksDistance&direction=desc&search=${stem}&offset=2&limit=3`)
+        .expect(200)
+    ).body;
+    expect(searchedPage.total).toBe(matching.length);
+    expect(searchedPage.rows).toEqual(matching.slice(2, 5));
   });
 
   it("refuses a bad page naming the field; 404 for an unknown region, 409 before the fit is done", async () => {

@@ -5,7 +5,11 @@
  * the earlier all-JSON columns still read.
  */
 import { describe, expect, it } from "vitest";
-import { decodeRegionRows, encodeRegionRows } from "../../../server/jobs/region-rows";
+import {
+  decodeRegionColumns,
+  decodeRegionRows,
+  encodeRegionRows,
+} from "../../../server/jobs/region-rows";
 import {
   type FitData,
   type ModelSpecInput,
@@ -181,6 +185,34 @@ describe("region rows by columns", () => {
         flags: ["leverage"],
       },
     ]);
+  });
+
+  it("read by field: a number column as doubles, NaN where a row has null or no value", () => {
+    const rows = rowsOf(
+      { kind: "association", predictor: "accuracy", covariates: ["age"] },
+      "precuneus",
+    );
+    rows[3] = { ...rows[3], dffits: null };
+    const { dffits: _gone, ...without } = rows[6];
+    rows[6] = without as ParticipantDiagnostics;
+    for (const text of [encodeRegionRows(rows), JSON.stringify(rows)]) {
+      const columns = decodeRegionColumns(text);
+      expect(columns.n).toBe(rows.length);
+      expect(columns.names).toContain("dfbetas");
+      expect(columns.names).not.toContain("region");
+      const leverage = columns.numbers("leverage");
+      rows.forEach((row, i) => {
+        expect(Object.is(leverage[i], row.leverage)).toBe(true);
+        expect(columns.value("participant", i)).toBe(row.participant);
+      });
+      const dffits = columns.numbers("dffits");
+      expect([dffits[3], dffits[6]]).toEqual([Number.NaN, Number.NaN]);
+      expect(dffits[4]).toBe(rows[4].dffits);
+      expect(columns.value("dffits", 6)).toBeUndefined();
+      expect(columns.value("dffits", 3)).toBeNull();
+      expect(columns.numbers("participant").every(Number.isNaN)).toBe(true);
+      expect(columns.numbers("no such field").every(Number.isNaN)).toBe(true);
+    }
   });
 
   it("refuse text that is neither form", () => {
