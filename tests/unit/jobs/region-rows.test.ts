@@ -215,6 +215,21 @@ describe("region rows by columns", () => {
     }
   });
 
+  it("write exactly the text JSON.stringify would, names needing escapes included", () => {
+    const rows = rowsOf(
+      { kind: "association", predictor: "accuracy", covariates: ["age"] },
+      "precuneus",
+    ).map((row, i) => ({
+      ...row,
+      'note "quoted"\\': i % 2 ? "odd" : null,
+      dfbetas: { 'group: "a"\n': i / 3, other: -i },
+      ...(i === 2 ? { extra: [1, "two"] } : {}),
+    }));
+    const text = encodeRegionRows(rows);
+    expect(text).toBe(JSON.stringify(JSON.parse(text)));
+    expect(decodeRegionRows(text, "precuneus")).toStrictEqual(rows);
+  });
+
   it("refuse text that is neither form", () => {
     expect(() =>
       decodeRegionRows(
