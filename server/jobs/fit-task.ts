@@ -34,7 +34,7 @@ import type { RegionPlot } from "../../contract/views/fits";
 import { regionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, regionsBeforeTestByRegion, runFitByRegion } from "../stats/run-fit";
 import { type MergedChunks, mergeOptions } from "./fit-chunks";
-import { encodeRegionRows } from "./region-rows";
+import { encodeRegionPlot, encodeRegionRows } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
 let lowered = false;
@@ -148,15 +148,10 @@ function postRegion(
   post: (message: FitTaskMessage) => void,
 ): void {
   let plot: RegionPlot | { error: string } | null = null;
+  const ids = rows.map((d) => d.participant);
   if (rows.length > 0) {
     try {
-      plot = regionPlot(
-        task.spec,
-        task.data,
-        region,
-        rows.map((d) => d.participant),
-        { level: FIT_LEVEL },
-      );
+      plot = regionPlot(task.spec, task.data, region, ids, { level: FIT_LEVEL });
     } catch (e) {
       if (!(e instanceof StatsError)) throw e;
       plot = { error: e.message };
@@ -167,6 +162,6 @@ function postRegion(
     position,
     region,
     participants: encodeRegionRows(rows),
-    plot: plot === null ? null : JSON.stringify(plot),
+    plot: plot === null ? null : encodeRegionPlot(plot, ids),
   });
 }

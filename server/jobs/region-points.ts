@@ -12,7 +12,7 @@
  */
 import type { RegionDetailPoint, RegionPlot } from "../../contract/views/fits";
 import { deepFreeze } from "../../db/read-cache";
-import { decodeRegionColumns } from "./region-rows";
+import { decodeRegionColumns, decodeRegionPlot } from "./region-rows";
 
 /** The plot data besides its points: what the region detail draws around them. */
 export type RegionPlotHead = Omit<RegionPlot, "points"> | { error: string } | null;
@@ -59,33 +59,23 @@ export function decodeRegionPoints(
 ): RegionColumns {
   const stored = participants ? decodeRegionColumns(participants) : null;
   const n = stored?.n ?? 0;
-  const plot = (plotText ? JSON.parse(plotText) : null) as RegionPlot | { error: string } | null;
-  const drawn = plot && "points" in plot ? plot.points : [];
-  const byId = new Map(drawn.map((p, k) => [p.participant, k]));
   const ids: string[] = new Array(n);
   const flags: (string[] | null)[] = new Array(n);
-  const xs = new Float64Array(n);
-  const ys = stored ? stored.numbers("value").slice() : new Float64Array(0);
-  const groups: (string | null)[] = new Array(n);
   for (let i = 0; i < n; i++) {
-    const id = String(stored?.value("participant", i));
-    ids[i] = id;
+    ids[i] = String(stored?.value("participant", i));
     const own = stored?.value("flags", i) as string[] | null | undefined;
     flags[i] = own && own.length > 0 ? own : null;
-    const k = byId.get(id);
-    const p = k === undefined ? undefined : drawn[k];
-    xs[i] = typeof p?.x === "number" ? p.x : Number.NaN;
-    if (typeof p?.y === "number") ys[i] = p.y;
-    groups[i] = p?.group ?? null;
   }
+  const drawn = plotText ? decodeRegionPlot(plotText, ids) : null;
+  const xs = drawn?.x ?? new Float64Array(n).fill(Number.NaN);
+  const groups = drawn?.group ?? new Array<string | null>(n).fill(null);
+  // y as the plot drew it, else the region's value.
+  const ys = stored ? stored.numbers("value").slice() : new Float64Array(0);
+  if (drawn) for (let i = 0; i < n; i++) if (!Number.isNaN(drawn.y[i])) ys[i] = drawn.y[i];
   const numbers = Object.fromEntries(
     numberFields.map((name) => [name, stored ? stored.numbers(name) : new Float64Array(0)]),
   ) as Record<NumberField, Float64Array>;
-  let head: RegionPlotHead = plot;
-  if (plot && "points" in plot) {
-    const { points: _points, ...rest } = plot;
-    head = rest;
-  }
+  const head: RegionPlotHead = drawn?.head ?? null;
   return { n, ids, flags, numbers, xs, ys, groups, plot: head };
 }
 

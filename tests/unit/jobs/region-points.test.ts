@@ -14,7 +14,7 @@ import {
 } from "../../../contract/spec";
 import type { RegionDetailPoint, RegionPlot } from "../../../contract/views/fits";
 import { RegionReadJobs } from "../../../server/jobs/region-read-jobs";
-import { encodeRegionRows } from "../../../server/jobs/region-rows";
+import { encodeRegionPlot, encodeRegionRows } from "../../../server/jobs/region-rows";
 import { decodeRegionPoints, RegionPoints } from "../../../server/jobs/region-points";
 import { regionPlot } from "../../../server/stats/region-plot";
 import { createRng } from "../../../server/stats/rng";
@@ -90,11 +90,15 @@ describe("a finished region's points", () => {
     it(`are the engine's rows joined with the plot: ${label}`, () => {
       const { rows, plot } = stored(input);
       expect(rows.some((r) => r.flags.length > 0)).toBe(true);
+      const ids = rows.map((r) => r.participant);
+      for (const plotText of [encodeRegionPlot(plot, ids), JSON.stringify(plot)]) {
+        const points = new RegionPoints(decodeRegionPoints(encodeRegionRows(rows), plotText));
+        expect(points.n).toBe(rows.length);
+        expect(pointsOf(points)).toStrictEqual(rows.map((r) => expected(r, plot)));
+      }
       const points = new RegionPoints(
-        decodeRegionPoints(encodeRegionRows(rows), JSON.stringify(plot)),
+        decodeRegionPoints(encodeRegionRows(rows), encodeRegionPlot(plot, ids)),
       );
-      expect(points.n).toBe(rows.length);
-      expect(pointsOf(points)).toStrictEqual(rows.map((r) => expected(r, plot)));
       const { points: _drawn, ...head } = plot;
       expect(points.plot).toStrictEqual(head);
       expect(Object.isFrozen(points.plot)).toBe(true);

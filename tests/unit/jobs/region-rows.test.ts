@@ -7,9 +7,12 @@
 import { describe, expect, it } from "vitest";
 import {
   decodeRegionColumns,
+  decodeRegionPlot,
   decodeRegionRows,
+  encodeRegionPlot,
   encodeRegionRows,
 } from "../../../server/jobs/region-rows";
+import { regionPlot } from "../../../server/stats/region-plot";
 import {
   type FitData,
   type ModelSpecInput,
@@ -242,5 +245,55 @@ describe("region rows by columns", () => {
     ).toThrow(SyntaxError);
     expect(() => decodeRegionRows('{"points":[]}', "r")).toThrow(SyntaxError);
     expect(() => decodeRegionRows("not json", "r")).toThrow(SyntaxError);
+  });
+});
+
+describe("a region's plot data as stored", () => {
+  const plotOf = (input: ModelSpecInput, region: string) => {
+    const spec = modelSpecSchema.parse(input);
+    const ids = rowsOf(input, region).map((r) => r.participant);
+    return { plot: regionPlot(spec, data, region, ids), ids };
+  };
+  const kinds: [string, ModelSpecInput][] = [
+    ["association by group", { kind: "association", predictor: "accuracy", group: "group" }],
+    ["two groups", { kind: "two-group", group: "group" }],
+    ["one sample", { kind: "one-sample" }],
+  ];
+  for (const [label, input] of kinds) {
+    it(`keeps its points by position, every number bit for bit: ${label}`, () => {
+      const { plot, ids } = plotOf(input, "precuneus");
+      const text = encodeRegionPlot(plot, ids);
+      const stored = JSON.parse(text);
+      expect(stored).toMatchObject({ layout: "columns", n: ids.length });
+      expect(text).not.toContain(ids[0]);
+      expect(text).toBe(JSON.stringify(stored));
+      // Smaller than the points one object each (at 60 participants the band weighs most).
+      expect(text.length).toBeLessThan(JSON.stringify(plot).length);
+      for (const form of [text, JSON.stringify(plot)]) {
+        const back = decodeRegionPlot(form, ids);
+        const { points, ...head } = plot;
+        expect(back.head).toStrictEqual(head);
+        points.forEach((p, i) => {
+          expect(Object.is(back.x[i], p.x ?? Number.NaN)).toBe(true);
+          expect(back.group[i]).toBe(p.group);
+          expect(Object.is(back.y[i], p.y)).toBe(true);
+        });
+      }
+    });
+  }
+
+  it("stores a plot that is not the rows' participants in order, or that failed, as plain JSON", () => {
+    const { plot, ids } = plotOf({ kind: "association", predictor: "accuracy" }, "left insula");
+    const reordered = [...ids.slice(1), ids[0]];
+    expect(encodeRegionPlot(plot, reordered)).toBe(JSON.stringify(plot));
+    expect(encodeRegionPlot(plot, ids.slice(1))).toBe(JSON.stringify(plot));
+    // Read back by id: each row gets its own point.
+    const back = decodeRegionPlot(encodeRegionPlot(plot, reordered), reordered);
+    expect(back.y[reordered.length - 1]).toBe(plot.points[0].y);
+    const failed = decodeRegionPlot(encodeRegionPlot({ error: "no band" }, ids), ids);
+    expect(failed.head).toEqual({ error: "no band" });
+    expect(failed.x.every(Number.isNaN) && failed.y.every(Number.isNaN)).toBe(true);
+    expect(() => decodeRegionPlot("[1]", ids)).toThrow(SyntaxError);
+    expect(() => decodeRegionPlot('{"layout":"columns","x":null}', ids)).toThrow(SyntaxError);
   });
 });
