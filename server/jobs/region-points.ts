@@ -10,7 +10,7 @@
  *
  * A number the fit did not give (null, or absent) reads null.
  */
-import type { RegionDetailPoint, RegionPlot } from "../../contract/views/fits";
+import type { RegionDetailPoint, RegionPlot, RegionPlotPoint } from "../../contract/views/fits";
 import { deepFreeze } from "../../db/read-cache";
 import { decodeRegionColumns, decodeRegionPlot } from "./region-rows";
 
@@ -120,6 +120,22 @@ export class RegionPoints {
       cooksDistance: orNull(d.cooksDistance[i]),
       dffits: orNull(d.dffits[i]),
       mahalanobis: orNull(d.mahalanobis[i]),
+      flags: this.flagLists[i] as string[],
+    };
+  }
+
+  /** Participant i as the region detail's plots draw it (a fresh object). */
+  plotPoint(i: number): RegionPlotPoint {
+    const c = this.columns;
+    const d = c.numbers;
+    return {
+      participant: c.ids[i],
+      x: orNull(c.xs[i]),
+      group: c.groups[i],
+      y: c.ys[i],
+      leverage: orNull(d.leverage[i]),
+      studentizedResidual: orNull(d.studentizedResidual[i]),
+      cooksDistance: orNull(d.cooksDistance[i]),
       flags: this.flagLists[i] as string[],
     };
   }

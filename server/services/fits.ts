@@ -754,19 +754,7 @@ export async function regionDetail(
   const flagCounts = { outlier: 0, leverage: 0, influence: 0 };
   for (let i = 0; i < points.n; i++) for (const f of points.flags(i)) flagCounts[f as Flag] += 1;
   const plotPoints: RegionPlotPoint[] = [];
-  for (let i = 0; i < points.n; i++) {
-    const p = points.point(i);
-    plotPoints.push({
-      participant: p.participant,
-      x: p.x,
-      group: p.group,
-      y: p.y,
-      leverage: p.leverage,
-      studentizedResidual: p.studentizedResidual,
-      cooksDistance: p.cooksDistance,
-      flags: p.flags,
-    });
-  }
+  if (participantsVisible) for (let i = 0; i < points.n; i++) plotPoints.push(points.plotPoint(i));
   const levels =
     drawn?.groupMeans && spec.kind === "two-group"
       ? drawn.groupMeans.map((g) => g.label)

@@ -99,6 +99,10 @@ describe("a finished region's points", () => {
       const points = new RegionPoints(
         decodeRegionPoints(encodeRegionRows(rows), encodeRegionPlot(plot, ids)),
       );
+      for (let i = 0; i < points.n; i++) {
+        const { fitted: _f, residual: _r, dffits: _d, mahalanobis: _m, ...drawn } = points.point(i);
+        expect(points.plotPoint(i)).toStrictEqual(drawn);
+      }
       const { points: _drawn, ...head } = plot;
       expect(points.plot).toStrictEqual(head);
       expect(Object.isFrozen(points.plot)).toBe(true);
