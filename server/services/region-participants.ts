@@ -65,16 +65,22 @@ function sortedPositions(
     return out;
   }
   const sign = direction === "asc" ? 1 : -1;
-  const entries = Array.from({ length: n }, (_, position) => ({
-    position,
-    value: orderValue(points.point(position), sort),
-  }));
-  entries.sort((a, b) => {
-    if (a.value === null || b.value === null)
-      return a.value === b.value ? a.position - b.position : a.value === null ? 1 : -1;
-    return sign * compareValues(a.value, b.value) || a.position - b.position;
-  });
-  for (let i = 0; i < n; i++) out[i] = entries[i].position;
+  // Missing values last in both directions; ties, and the missing, in the fit's order.
+  const values = Array.from({ length: n }, (_, i) => orderValue(points.point(i), sort));
+  const present: number[] = [];
+  const missing: number[] = [];
+  for (let i = 0; i < n; i++) (values[i] === null ? missing : present).push(i);
+  if (present.every((i) => typeof values[i] === "number")) {
+    const keys = Float64Array.from(values, (v) => (v === null ? 0 : (v as number)));
+    present.sort((a, b) => sign * (keys[a] - keys[b]) || a - b);
+  } else {
+    present.sort(
+      (a, b) =>
+        sign * compareValues(values[a] as string | number, values[b] as string | number) || a - b,
+    );
+  }
+  out.set(present);
+  out.set(missing, present.length);
   return out;
 }
 
