@@ -83,13 +83,14 @@ import { diagnoseRegion } from "./fit/diagnose";
 import { type RegionWork, estimateRegionWork, regionDesign } from "./fit/estimate";
 import {
   type LinearTestBasis,
-  bootstrapPass,
+  bootstrapMethod,
+  bootstrapRegion,
   correctOverRegions,
   linearTestBasis,
   mergedPermutationPass,
   permutationPass,
 } from "./fit/infer";
-import { diagnosticNotes, weightingNotes } from "./fit/notes";
+import { bootstrapNote, diagnosticNotes, weightingNotes } from "./fit/notes";
 import { ruleExclusionsOf } from "./fit/model-rules";
 import { type Prepared, prepare } from "./fit/prepare";
 import { runPrediction } from "./fit/prediction";
@@ -160,12 +161,19 @@ export function runFitByRegion(
     });
     return rest;
   }
-  // Only resampling reads the regions' designs and values again: a parametric fit keeps just the results.
-  const { works, results } = estimateAndDiagnose(prep, options, sink, s.inference !== "parametric");
   const notes: string[] = [];
-  // Infer: resampling, then the correction over regions.
-  if (s.inference === "permutation") permutationPass(prep, works, options, notes);
-  if (s.inference === "bootstrap") bootstrapPass(prep, works, options, notes);
+  // Infer: resampling, then the correction over regions. A permutation test rearranges every
+  // region at once, so it keeps the regions' designs and values; the bootstrap resamples each
+  // region on its own, right after it is diagnosed, so a bootstrap fit, like a parametric one,
+  // keeps only the results (at 20,000 participants × 400 regions the designs and values would
+  // take ~0.8 GB).
+  const permutation = s.inference === "permutation";
+  const { works, results } = estimateAndDiagnose(prep, options, sink, {
+    keepWorks: permutation,
+    perRegion: s.inference === "bootstrap" ? (work) => bootstrapRegion(prep, work) : undefined,
+  });
+  if (permutation) permutationPass(prep, works, options, notes);
+  if (s.inference === "bootstrap") notes.push(bootstrapNote(bootstrapMethod(s)));
   const result = summaryOf(s, results, notes, ruleExclusionsOf(prep));
   assertFinite(result, "result");
   onProgress?.(1);
@@ -197,18 +205,20 @@ export type FitSummary = Omit<FitResult, "participants" | "regions" | "notes"> &
  * results, and their work (design, values, decomposition) when `keepWorks`
  * (else none: at 20,000 participants a region's work is ~2 MB); each
  * region's participants' rows go to `sink` as soon as they are computed
- * (none without `sink`).
+ * (none without `sink`); then `perRegion` (inference of that region alone)
+ * runs on the region's work. Progress: each region's share of the whole,
+ * or of its first tenth when the regions are tested together afterwards.
  */
 function estimateAndDiagnose(
   prep: Prepared,
   options: RunFitOptions,
   sink: RegionRowsSink | undefined,
-  keepWorks: boolean,
+  { keepWorks, perRegion }: { keepWorks: boolean; perRegion?: (work: RegionWork) => void },
 ): { works: RegionWork[]; results: RegionResult[] } {
   const { onProgress, shouldCancel } = options;
   const { data } = prep;
   const regionCount = prep.regionIndex.length;
-  const heavy = prep.spec.inference !== "parametric";
+  const heavy = keepWorks;
   const works: RegionWork[] = [];
   const results: RegionResult[] = [];
   const qrCache = new Map<string, QrDecomposition>();
@@ -223,6 +233,7 @@ function estimateAndDiagnose(
         assertFinite(rows, `result.participants of region '${work.name}'`);
         sink(idx, work.result.region, rows);
       }
+      perRegion?.(work);
     });
     onProgress?.(Math.min(1, heavy ? (0.1 * (idx + 1)) / regionCount : (idx + 1) / regionCount));
   });
@@ -299,7 +310,7 @@ export function prepareSplitTest(
     tested = linearTestBasis(prep, works);
   } catch (e) {
     // A test that cannot be set up fails with runFit's message when the estimate stage fails first.
-    if (e instanceof StatsError) estimateAndDiagnose(prep, {}, undefined, false);
+    if (e instanceof StatsError) estimateAndDiagnose(prep, {}, undefined, { keepWorks: false });
     throw e;
   }
   const { basis, input, setup } = tested;
@@ -344,7 +355,7 @@ export function regionsBeforeTestByRegion(
   const prep = prepare(spec, data);
   checkSplit(prep.spec);
   if (range) prep.regionIndex = prep.regionIndex.slice(range[0], range[1]);
-  return estimateAndDiagnose(prep, options, sink, false).results;
+  return estimateAndDiagnose(prep, options, sink, { keepWorks: false }).results;
 }
 
 /**

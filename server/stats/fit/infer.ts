@@ -7,7 +7,7 @@
  * over regions. Works on the regions' results in place and adds the notes of
  * what it did; hands the finished regions to the result.
  */
-import type { RegionResult } from "../../../contract/spec";
+import type { ModelSpec, RegionResult } from "../../../contract/spec";
 import { bootstrapInterval } from "../bootstrap";
 import { StatsError } from "../errors";
 import { bootstrapP, bootstrapStatistic } from "../bootstrap-statistic";
@@ -25,15 +25,9 @@ import type { RearrangementDraw } from "../permutation-kernel";
 import { permutationStatistic } from "../permutation-statistic";
 import { extremeThreshold } from "../rearrangements";
 import { createRng } from "../rng";
-import { FIT_LEVEL, type RunFitOptions, cancelled, inRegion } from "./common";
+import { FIT_LEVEL, type RunFitOptions, inRegion } from "./common";
 import type { RegionWork } from "./estimate";
-import {
-  bootstrapNote,
-  correctionNote,
-  maxTNote,
-  permutationNote,
-  sharedRearrangementNote,
-} from "./notes";
+import { correctionNote, maxTNote, permutationNote, sharedRearrangementNote } from "./notes";
 import type { Prepared } from "./prepare";
 
 /** What the least-squares permutation test reads of a region (`regionDesign`). */
@@ -348,61 +342,57 @@ function applyPermutation(
   res.nullHistogram = nullHistogram(nulls, observed);
 }
 
+/** The bootstrap's interval method for the fit's estimator: BCa, percentile for the skipped and bend correlations. */
+export function bootstrapMethod(s: ModelSpec): "bca" | "percentile" {
+  return s.estimator === "skipped" || s.estimator === "bend" ? "percentile" : "bca";
+}
+
 /**
- * Bootstrap inference, region by region: participants resampled with
- * replacement from a fresh generator on the seed (bootstrap.ts), a BCa
- * interval (percentile for the skipped and bend correlations) and the
- * bootstrap p replace the parametric ones, which are kept as
- * `pParametric`, `ciLowParametric`, `ciHighParametric`.
+ * Bootstrap inference of one region: participants resampled with
+ * replacement from a fresh generator on the seed (bootstrap.ts), so each
+ * region's numbers are the same whatever the regions before it and
+ * whenever it runs; a BCa interval (percentile for the skipped and bend
+ * correlations) and the bootstrap p replace the parametric ones, which are
+ * kept as `pParametric`, `ciLowParametric`, `ciHighParametric`. The fit's
+ * note is `bootstrapNote(bootstrapMethod(spec))`.
  */
-export function bootstrapPass(
-  prep: Prepared,
-  works: RegionWork[],
-  options: RunFitOptions,
-  notes: string[],
-): void {
+export function bootstrapRegion(prep: Prepared, w: RegionWork): void {
   const s = prep.spec;
-  const total = works.length;
-  const method = s.estimator === "skipped" || s.estimator === "bend" ? "percentile" : "bca";
-  works.forEach((w, idx) => {
-    if (options.shouldCancel?.()) cancelled();
-    const res = inRegion(w.name, () =>
-      bootstrapInterval({
-        n: w.data.y.length,
-        statistic: bootstrapStatistic(w.data),
-        resamples: s.resamples,
-        rng: createRng(s.seed),
-        level: FIT_LEVEL,
-        method,
-      }),
-    );
-    const r = w.result;
-    r.pParametric = r.p;
-    r.ciLowParametric = r.ciLow;
-    r.ciHighParametric = r.ciHigh;
-    r.se = res.se;
-    r.ciLow = res.ciLow;
-    r.ciHigh = res.ciHigh;
-    r.p = bootstrapP(res.distribution);
-    r.pAdjusted = r.p;
-    r.statistic = null;
-    r.df = null;
-    if (
-      s.kind === "association" &&
-      (s.estimator === "rank" || s.estimator === "skipped" || s.estimator === "bend")
-    ) {
-      r.rCiLow = res.ciLow;
-      r.rCiHigh = res.ciHigh;
-    }
-    r.bootstrap = {
-      method,
+  const method = bootstrapMethod(s);
+  const res = inRegion(w.name, () =>
+    bootstrapInterval({
+      n: w.data.y.length,
+      statistic: bootstrapStatistic(w.data),
       resamples: s.resamples,
-      kept: res.distribution.length,
-      discarded: res.discarded,
-    };
-    options.onProgress?.(Math.min(1, 0.1 + (0.9 * (idx + 1)) / total));
-  });
-  notes.push(bootstrapNote(method));
+      rng: createRng(s.seed),
+      level: FIT_LEVEL,
+      method,
+    }),
+  );
+  const r = w.result;
+  r.pParametric = r.p;
+  r.ciLowParametric = r.ciLow;
+  r.ciHighParametric = r.ciHigh;
+  r.se = res.se;
+  r.ciLow = res.ciLow;
+  r.ciHigh = res.ciHigh;
+  r.p = bootstrapP(res.distribution);
+  r.pAdjusted = r.p;
+  r.statistic = null;
+  r.df = null;
+  if (
+    s.kind === "association" &&
+    (s.estimator === "rank" || s.estimator === "skipped" || s.estimator === "bend")
+  ) {
+    r.rCiLow = res.ciLow;
+    r.rCiHigh = res.ciHigh;
+  }
+  r.bootstrap = {
+    method,
+    resamples: s.resamples,
+    kept: res.distribution.length,
+    discarded: res.discarded,
+  };
 }
 
 /** 40-bin histogram of a null distribution; ±Infinity fall in the end bins. */

@@ -147,11 +147,34 @@ describe("a whole fit's rows, region by region", () => {
         expect(s.rows.length).toBeGreaterThan(0);
         for (const row of s.rows) expect((row as { region: string }).region).toBe(s.region);
       }
-      // Handed on before any resampling: the estimate stage reports at most a tenth of the fit.
-      if (model.inference !== "parametric")
+      // A permutation test: every region handed on before any rearranging (the estimate stage
+      // reports at most a tenth of the fit). The bootstrap: each region handed on before its own
+      // resampling, once the regions before it are done, so no region's rows wait for the rest.
+      if (model.inference === "permutation")
         expect(Math.max(...seen.map((s) => s.progress))).toBeLessThanOrEqual(0.1);
+      if (model.inference === "bootstrap")
+        for (const s of seen) expect(s.progress).toBeCloseTo(s.position / 12, 12);
       expect(seen.flatMap((s) => s.rows)).toEqual(whole.participants);
       const { participants: _, ...rest } = whole;
       expect(JSON.stringify(summary)).toBe(JSON.stringify(rest));
     });
+});
+
+describe("the bootstrap, region by region", () => {
+  const data = makeData();
+  it("gives each region the same numbers whatever the other regions of the fit", () => {
+    const base = {
+      kind: "association",
+      predictor: "accuracy",
+      estimator: "huber",
+      inference: "bootstrap",
+      resamples: 200,
+      seed: 4,
+    } as const;
+    const all = runFit(modelSpecSchema.parse({ ...base, regions: data.regions.slice(0, 6) }), data);
+    const alone = runFit(modelSpecSchema.parse({ ...base, regions: [data.regions[4]] }), data);
+    const pick = ({ pAdjusted: _p, ...r }: (typeof all.regions)[number]) => r;
+    expect(pick(alone.regions[0])).toEqual(pick(all.regions[4]));
+    expect(all.regions[4].bootstrap).toMatchObject({ method: "bca", resamples: 200 });
+  });
 });
