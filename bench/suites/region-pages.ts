@@ -15,6 +15,7 @@
  * `REGION_PAGES_PARTICIPANTS` changes the size.
  */
 import os from "node:os";
+import { participantOrders } from "../../contract/views/fits";
 import { createRng } from "../../server/stats/rng";
 import {
   latencySummary,
@@ -27,18 +28,8 @@ import {
 const PARTICIPANTS = Number(process.env.REGION_PAGES_PARTICIPANTS ?? 20_000);
 const REGIONS = 4;
 const PAGE = 100;
-const SORTS = [
-  "participant",
-  "flags",
-  "x",
-  "y",
-  "fitted",
-  "residual",
-  "leverage",
-  "studentizedResidual",
-  "cooksDistance",
-  "dffits",
-] as const;
+/** Every order but the fit's own. */
+const SORTS = participantOrders.filter((o) => o !== "position");
 
 function makeFiles(): { brain: string; sheet: string } {
   const rng = createRng(4242);

@@ -287,13 +287,8 @@ export interface RegionDetail {
   notes: string[];
 }
 
-/** Columns a page can be ordered by ("position" is the fit's participant order). */
-export const participantOrders = [
-  "position",
-  "participant",
-  "flags",
-  "x",
-  "y",
+/** A region participant's diagnostics that are numbers (null where the fit gives none). */
+export const participantDiagnosticNumbers = [
   "fitted",
   "residual",
   "leverage",
@@ -301,6 +296,16 @@ export const participantOrders = [
   "cooksDistance",
   "dffits",
   "mahalanobis",
+] as const;
+
+/** Columns a page can be ordered by ("position" is the fit's participant order). */
+export const participantOrders = [
+  "position",
+  "participant",
+  "flags",
+  "x",
+  "y",
+  ...participantDiagnosticNumbers,
 ] as const;
 export type ParticipantOrder = (typeof participantOrders)[number];
 

@@ -10,13 +10,12 @@
  * answer 429 `figures_busy`. The thread starts with the first task and
  * ends after `idleMs` without one.
  */
-import type { Piscina } from "piscina";
 import { HttpError } from "../http/errors";
 import type { Fit } from "../../db/schema";
 import type { FigureInput } from "../figures/figure-svg";
 import type { ManuscriptOptions, ManuscriptTexts } from "../services/manuscript-tables";
 import type { FigureTask } from "./figure-task";
-import { workerPool } from "./worker-pool";
+import { OneThread } from "./worker-pool";
 
 export interface FigureJobsOptions {
   /** Tasks that may wait behind the running one (default 16). */
@@ -26,15 +25,19 @@ export interface FigureJobsOptions {
 }
 
 export class FigureJobs {
-  private pool: Piscina | null = null;
-  private readonly maxWaiting: number;
-  private readonly idleMs: number;
-  private inFlight = 0;
-  private closed = false;
+  private readonly thread: OneThread;
 
   constructor(options: FigureJobsOptions = {}) {
-    this.maxWaiting = options.maxWaiting ?? 16;
-    this.idleMs = options.idleMs ?? 2 * 60_000;
+    this.thread = new OneThread("figure-task.ts", {
+      maxWaiting: options.maxWaiting ?? 16,
+      idleMs: options.idleMs ?? 2 * 60_000,
+      busy: () =>
+        new HttpError(
+          429,
+          "figures_busy",
+          "Figures are being drawn for other requests; ask again in a moment.",
+        ),
+    });
   }
 
   /** The figure as SVG `widthMm` wide with its text as outlines (see outline.ts). */
@@ -59,39 +62,12 @@ export class FigureJobs {
   }
 
   /** Stops the worker thread (tasks in flight are rejected). */
-  async close(): Promise<void> {
-    this.closed = true;
-    const pool = this.pool;
-    this.pool = null;
-    if (pool) await pool.destroy();
+  close(): Promise<void> {
+    return this.thread.close();
   }
 
-  private async run(task: FigureTask): Promise<unknown> {
-    if (this.closed) throw new Error("FigureJobs: closed");
-    if (this.inFlight > this.maxWaiting) {
-      throw new HttpError(
-        429,
-        "figures_busy",
-        "Figures are being drawn for other requests; ask again in a moment.",
-      );
-    }
-    this.inFlight++;
-    try {
-      return await this.getPool().run(task);
-    } finally {
-      this.inFlight--;
-    }
-  }
-
-  private getPool(): Piscina {
-    if (!this.pool) {
-      this.pool = workerPool("figure-task.ts", {
-        minThreads: 0,
-        maxThreads: 1,
-        idleTimeout: this.idleMs,
-      });
-    }
-    return this.pool;
+  private run(task: FigureTask): Promise<unknown> {
+    return this.thread.run(task);
   }
 }
 

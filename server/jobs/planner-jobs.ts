@@ -14,8 +14,7 @@
  * client disconnects) is dropped from the queue or, when running, stopped
  * by ending its worker thread; `aborted` counts those.
  */
-import type { Piscina } from "piscina";
-import { workerPool } from "./worker-pool";
+import { OneThread } from "./worker-pool";
 import { HttpError } from "../http/errors";
 import type { PlannerAnswer, PlannerQuestion } from "../../contract/planner";
 import type { PlannerTaskOutcome } from "./planner-task";
@@ -28,60 +27,39 @@ export interface PlannerJobsOptions {
 }
 
 export class PlannerJobs {
-  private pool: Piscina | null = null;
-  private readonly maxWaiting: number;
-  private readonly idleMs: number;
-  private inFlight = 0;
-  private closed = false;
+  private readonly thread: OneThread;
   /** Questions stopped because their asker left. */
   aborted = 0;
 
   constructor(options: PlannerJobsOptions = {}) {
-    this.maxWaiting = options.maxWaiting ?? 4;
-    this.idleMs = options.idleMs ?? 5 * 60_000;
+    this.thread = new OneThread("planner-task.ts", {
+      maxWaiting: options.maxWaiting ?? 4,
+      idleMs: options.idleMs ?? 5 * 60_000,
+      busy: () =>
+        new HttpError(
+          429,
+          "planner_busy",
+          "The planner is busy with other questions; ask again in a minute.",
+        ),
+    });
   }
 
   /** Answers a planner question in the worker thread. Rejects with HttpError for a refusal, with an AbortError when `signal` aborts. */
   async plan(question: PlannerQuestion, signal: AbortSignal): Promise<PlannerAnswer> {
-    if (this.closed) throw new Error("PlannerJobs: closed");
-    if (this.inFlight > this.maxWaiting) {
-      throw new HttpError(
-        429,
-        "planner_busy",
-        "The planner is busy with other questions; ask again in a minute.",
-      );
-    }
-    this.inFlight++;
     try {
-      const outcome = (await this.getPool().run(question, { signal })) as PlannerTaskOutcome;
+      const outcome = (await this.thread.run(question, signal)) as PlannerTaskOutcome;
       if (!outcome.ok)
         throw new HttpError(outcome.status, outcome.code, outcome.message, outcome.details);
       return outcome.answer;
     } catch (error) {
       if (signal.aborted) this.aborted++;
       throw error;
-    } finally {
-      this.inFlight--;
     }
   }
 
   /** Stops the worker thread (questions in flight are rejected). */
-  async close(): Promise<void> {
-    this.closed = true;
-    const pool = this.pool;
-    this.pool = null;
-    if (pool) await pool.destroy();
-  }
-
-  private getPool(): Piscina {
-    if (!this.pool) {
-      this.pool = workerPool("planner-task.ts", {
-        minThreads: 0,
-        maxThreads: 1,
-        idleTimeout: this.idleMs,
-      });
-    }
-    return this.pool;
+  close(): Promise<void> {
+    return this.thread.close();
   }
 }
 

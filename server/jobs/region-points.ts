@@ -10,7 +10,12 @@
  *
  * A number the fit did not give (null, or absent) reads null.
  */
-import type { RegionDetailPoint, RegionPlot, RegionPlotPoint } from "../../contract/views/fits";
+import {
+  participantDiagnosticNumbers,
+  type RegionDetailPoint,
+  type RegionPlot,
+  type RegionPlotPoint,
+} from "../../contract/views/fits";
 import { deepFreeze } from "../../db/read-cache";
 import { decodeRegionColumns, decodeRegionPlot } from "./region-rows";
 
@@ -18,15 +23,7 @@ import { decodeRegionColumns, decodeRegionPlot } from "./region-rows";
 export type RegionPlotHead = Omit<RegionPlot, "points"> | { error: string } | null;
 
 /** Diagnostics read as numbers, by their name in RegionDetailPoint. */
-const numberFields = [
-  "fitted",
-  "residual",
-  "leverage",
-  "studentizedResidual",
-  "cooksDistance",
-  "dffits",
-  "mahalanobis",
-] as const;
+const numberFields = participantDiagnosticNumbers;
 type NumberField = (typeof numberFields)[number];
 
 const noFlags: readonly string[] = Object.freeze([]);
@@ -106,21 +103,13 @@ export class RegionPoints {
 
   /** Participant i with every diagnostic, as a fresh object. */
   point(i: number): RegionDetailPoint {
-    const c = this.columns;
-    const d = c.numbers;
+    const d = this.columns.numbers;
     return {
-      participant: c.ids[i],
-      x: orNull(c.xs[i]),
-      group: c.groups[i],
-      y: c.ys[i],
+      ...this.plotPoint(i),
       fitted: orNull(d.fitted[i]),
       residual: orNull(d.residual[i]),
-      leverage: orNull(d.leverage[i]),
-      studentizedResidual: orNull(d.studentizedResidual[i]),
-      cooksDistance: orNull(d.cooksDistance[i]),
       dffits: orNull(d.dffits[i]),
       mahalanobis: orNull(d.mahalanobis[i]),
-      flags: this.flagLists[i] as string[],
     };
   }
 

@@ -10,11 +10,10 @@
  * first large region and ends after `idleMs` without one. Decoded regions
  * are kept (services/fits.ts), so each is decoded once.
  */
-import type { Piscina } from "piscina";
 import { HttpError } from "../http/errors";
 import { decodeRegionPoints, type RegionColumns } from "./region-points";
 import type { RegionReadTask } from "./region-read-task";
-import { workerPool } from "./worker-pool";
+import { OneThread } from "./worker-pool";
 
 /** Stored texts shorter than this (characters, rows and plot together) are decoded on the calling thread. */
 export const INLINE_CHARS = 256 * 1024;
@@ -29,57 +28,34 @@ export interface RegionReadJobsOptions {
 }
 
 export class RegionReadJobs {
-  private pool: Piscina | null = null;
-  private readonly maxWaiting: number;
-  private readonly idleMs: number;
+  private readonly thread: OneThread;
   private readonly inlineChars: number;
-  private inFlight = 0;
-  private closed = false;
 
   constructor(options: RegionReadJobsOptions = {}) {
-    this.maxWaiting = options.maxWaiting ?? 32;
-    this.idleMs = options.idleMs ?? 2 * 60_000;
     this.inlineChars = options.inlineChars ?? INLINE_CHARS;
+    this.thread = new OneThread("region-read-task.ts", {
+      maxWaiting: options.maxWaiting ?? 32,
+      idleMs: options.idleMs ?? 2 * 60_000,
+      busy: () =>
+        new HttpError(
+          429,
+          "regions_busy",
+          "Other regions are being read for other requests; ask again in a moment.",
+        ),
+    });
   }
 
   /** A region's columns from its stored texts (see decodeRegionPoints). */
   async decode(participants: string | null, plot: string | null): Promise<RegionColumns> {
     if ((participants?.length ?? 0) + (plot?.length ?? 0) < this.inlineChars)
       return decodeRegionPoints(participants, plot);
-    if (this.closed) throw new Error("RegionReadJobs: closed");
-    if (this.inFlight > this.maxWaiting) {
-      throw new HttpError(
-        429,
-        "regions_busy",
-        "Other regions are being read for other requests; ask again in a moment.",
-      );
-    }
-    this.inFlight++;
-    try {
-      const task: RegionReadTask = { participants, plot };
-      return (await this.getPool().run(task)) as RegionColumns;
-    } finally {
-      this.inFlight--;
-    }
+    const task: RegionReadTask = { participants, plot };
+    return (await this.thread.run(task)) as RegionColumns;
   }
 
   /** Stops the worker thread (reads in flight are rejected). */
-  async close(): Promise<void> {
-    this.closed = true;
-    const pool = this.pool;
-    this.pool = null;
-    if (pool) await pool.destroy();
-  }
-
-  private getPool(): Piscina {
-    if (!this.pool) {
-      this.pool = workerPool("region-read-task.ts", {
-        minThreads: 0,
-        maxThreads: 1,
-        idleTimeout: this.idleMs,
-      });
-    }
-    return this.pool;
+  close(): Promise<void> {
+    return this.thread.close();
   }
 }
 
