@@ -103,13 +103,23 @@ export class RegionPoints {
 
   /** Participant i with every diagnostic, as a fresh object. */
   point(i: number): RegionDetailPoint {
-    const d = this.columns.numbers;
+    // Written out, not spread from plotPoint(i): a spread and four more keys made each point
+    // several times slower to build (sorting 20,000 builds them all).
+    const c = this.columns;
+    const d = c.numbers;
     return {
-      ...this.plotPoint(i),
+      participant: c.ids[i],
+      x: orNull(c.xs[i]),
+      group: c.groups[i],
+      y: c.ys[i],
       fitted: orNull(d.fitted[i]),
       residual: orNull(d.residual[i]),
+      leverage: orNull(d.leverage[i]),
+      studentizedResidual: orNull(d.studentizedResidual[i]),
+      cooksDistance: orNull(d.cooksDistance[i]),
       dffits: orNull(d.dffits[i]),
       mahalanobis: orNull(d.mahalanobis[i]),
+      flags: this.flagLists[i] as string[],
     };
   }
 
