@@ -1,8 +1,8 @@
 /**
  * A finished region's participants, joined from what its fit stored — the
  * per-participant diagnostics (`fit_regions.participants`, see
- * region-rows.ts) and the plot data (`fit_regions.plot`: x, group and
- * y by participant, the band, the group means) — and kept as columns: one
+ * region-rows.ts) and the plot data (`fit_regions.plot`: each
+ * participant's x, group and y, the band, the group means) — and kept as columns: one
  * array per diagnostic, not one object per participant. A page of the
  * region's participants then makes only its own rows; at 20,000
  * participants an object per participant, made and frozen, cost the request
