@@ -14,7 +14,7 @@
  *   merged by `finishSplitFit` (`mergeTask`) from the split test its plan
  *   prepares (`prepareSplitTest`: the test's observed statistics) and the
  *   regions before the test, computed beside the chunks
- *   (`runRegionsBeforeTest`: estimates, diagnostics; see `rowsParts`), so
+ *   (`regionsBeforeTestByRegion`: estimates, diagnostics; see `rowsParts`), so
  *   that after the last chunk only the counts are added; without them, by
  *   `runFit` with `mergedLinearPermutationTest` (RunFitOptions.linearPermutation).
  * - "curve": the joint test of a specification curve. Chunk c is null
@@ -520,7 +520,7 @@ export interface RowsPart {
 /**
  * Worker processes compute a split permutation test's regions before the
  * test — each region's estimate and diagnostics, its participants' rows
- * and plots, none of which depend on the test (`runRegionsBeforeTest`) —
+ * and plots, none of which depend on the test (`regionsBeforeTestByRegion`) —
  * in parts of ROWS_PART_REGIONS regions beside its chunks, any worker any
  * part, each stored like a chunk (numbers `fit.chunks` …, block −1, from
  * its first region, the regions' results in `counts`) once its rows are

@@ -11,7 +11,7 @@
  * first in line), which also plans it; its fit thread then merges them
  * (`FitTask.merged`) — the numbers of the fit computed in one piece. A
  * permutation test's region rows and estimates do not depend on the test:
- * the fit thread computes the regions before the test (`runRegionsBeforeTest`)
+ * the fit thread computes the regions before the test (`regionsBeforeTestByRegion`)
  * and stores their rows while the chunks run, and a chunk thread then merges
  * the chunks into them and the plan's split test (`mergeTask`: counts,
  * p-values, the correction over regions).

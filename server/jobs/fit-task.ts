@@ -50,7 +50,7 @@ export interface FitTask {
   /**
    * Region rows (default "all"): "only", for a split least-squares
    * permutation test, computes its regions before the test
-   * (`runRegionsBeforeTest`: the per-participant diagnostics and plots,
+   * (`regionsBeforeTestByRegion`: the per-participant diagnostics and plots,
    * which do not depend on the test, and the regions' estimates), so the
    * rows are stored while the chunks are computed and the outcome's
    * `regionsBeforeTest` is what the merge needs of the regions (the summary

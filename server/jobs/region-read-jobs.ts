@@ -1,7 +1,7 @@
 /**
  * The worker thread that decodes finished regions (piscina,
  * server/jobs/region-read-task.ts), so the request thread does not: at
- * 20,000 participants one region's stored texts (~7 MB) take ~40 ms to
+ * 20,000 participants one region's stored texts (~3.5 MB) take ~40 ms to
  * decode. Texts under INLINE_CHARS (a region of up to ~700 participants,
  * a few milliseconds) are decoded in place, which costs less than the
  * hand-over. One thread (a second would take the core the request thread

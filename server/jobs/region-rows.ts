@@ -253,27 +253,24 @@ function layoutColumns(stored: unknown): RegionRowColumns {
   );
   const value = (name: string, i: number) =>
     absent.get(name)?.has(i) ? undefined : columns.get(name)?.at(i);
+  // The decoded doubles are this reader's own copy, and `value` never reads an absent row's slot.
   const stored64 = (name: string) => {
     const doubles = columns.get(name)?.doubles;
     if (!doubles) return null;
-    const out = doubles.slice();
-    for (const i of absent.get(name) ?? []) out[i] = Number.NaN;
-    return out;
+    for (const i of absent.get(name) ?? []) doubles[i] = Number.NaN;
+    return doubles;
   };
   return { n, names: [...columns.keys()], value, numbers: numbersOnce(n, stored64, value) };
 }
 
 /** The earlier row-by-row form, read by field. */
 function rowArrayColumns(rows: Record<string, unknown>[]): RegionRowColumns {
-  const names: string[] = [];
-  const seen = new Set<string>(["region"]);
-  for (const row of rows)
-    for (const name of Object.keys(row))
-      if (!seen.has(name)) {
-        seen.add(name);
-        names.push(name);
-      }
-  const value = (name: string, i: number) => rows[i]?.[name];
+  const { names, columns } = byKey(rows, { field: "region" });
+  const index = new Map(names.map((name, k) => [name, k]));
+  const value = (name: string, i: number) => {
+    const k = index.get(name);
+    return k === undefined ? undefined : columns[k][i];
+  };
   return { n: rows.length, names, value, numbers: numbersOnce(rows.length, () => null, value) };
 }
 

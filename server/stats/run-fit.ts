@@ -218,7 +218,6 @@ function estimateAndDiagnose(
   const { onProgress, shouldCancel } = options;
   const { data } = prep;
   const regionCount = prep.regionIndex.length;
-  const heavy = keepWorks;
   const works: RegionWork[] = [];
   const results: RegionResult[] = [];
   const qrCache = new Map<string, QrDecomposition>();
@@ -235,7 +234,9 @@ function estimateAndDiagnose(
       }
       perRegion?.(work);
     });
-    onProgress?.(Math.min(1, heavy ? (0.1 * (idx + 1)) / regionCount : (idx + 1) / regionCount));
+    onProgress?.(
+      Math.min(1, keepWorks ? (0.1 * (idx + 1)) / regionCount : (idx + 1) / regionCount),
+    );
   });
   return { works, results };
 }
@@ -324,26 +325,12 @@ export function prepareSplitTest(
 /**
  * The stages of `runFit` before the test of a least-squares permutation
  * fit, for the regions at positions from … to − 1 of the fit's regions
- * (default all): their results before the test and their participants'
- * rows, the same whatever the range. Throws StatsError as `runFit` does
- * for the same model and data. Cost: per region O(n·p²).
- */
-export function runRegionsBeforeTest(
-  spec: ModelSpec,
-  data: FitData,
-  options: RunFitOptions = {},
-  range?: readonly [number, number],
-): { regions: RegionResult[]; participants: ParticipantDiagnostics[] } {
-  const { participants, sink } = gathering();
-  const regions = regionsBeforeTestByRegion(spec, data, options, range, sink);
-  return { regions, participants };
-}
-
-/**
- * `runRegionsBeforeTest`, with each region's participants' rows handed to
- * `sink` as soon as the region is diagnosed (`position` counts from the
- * range's start) instead of gathered: only the regions' results are kept,
- * whatever the number of participants and regions.
+ * (default all): their results before the test, and each region's
+ * participants' rows handed to `sink` as soon as the region is diagnosed
+ * (`position` counts from the range's start) — the same whatever the
+ * range. Only the regions' results are kept, whatever the number of
+ * participants and regions. Throws StatsError as `runFit` does for the
+ * same model and data. Cost: per region O(n·p²).
  */
 export function regionsBeforeTestByRegion(
   spec: ModelSpec,
@@ -360,7 +347,7 @@ export function regionsBeforeTestByRegion(
 
 /**
  * The result of a split least-squares permutation fit without its
- * participants' rows (which `runRegionsBeforeTest` gave), from the fit
+ * participants' rows (which `regionsBeforeTestByRegion` gave), from the fit
  * before its test and its merged chunks: what `runFit` gives, number for
  * number. Cost O(regions × rearrangements): the merge, the p-values and
  * null histograms, the correction over regions. Consumes `before` (its

@@ -12,7 +12,7 @@
  *   `fit-rows` job per part of its regions. Any other fit is computed whole here, as the
  *   embedded path computes it (server/jobs/fit-task.ts).
  * - `fit-rows`: a part of a split permutation test's regions before the
- *   test (`runRegionsBeforeTest`: estimates, diagnostics, rows and plots,
+ *   test (`regionsBeforeTestByRegion`: estimates, diagnostics, rows and plots,
  *   which do not depend on the test), computed on the fit thread while the
  *   chunk thread computes chunks; its rows and then its mark (with the
  *   regions' results) are stored once, as a part.

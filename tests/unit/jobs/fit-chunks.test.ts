@@ -28,7 +28,8 @@ import {
 import runPermutationTask from "../../../server/jobs/permutation-task";
 import { mergedLinearPermutationTest } from "../../../server/stats/permutation";
 import { createRng, normalDraw } from "../../../server/stats/rng";
-import { type FitSummary, runFit, runRegionsBeforeTest } from "../../../server/stats/run-fit";
+import { type FitSummary, runFit } from "../../../server/stats/run-fit";
+import { regionsBeforeTest } from "../../support/regions-before-test";
 
 /** 40 participants, 230 regions (three region chunks); region 7 misses two values. */
 function makeData(): FitData {
@@ -204,7 +205,7 @@ describe("a split permutation test merged into its regions before the test", () 
       expect(partCount(plan)).toBe(plan.chunks + 6);
       const participants = [];
       for (const part of [parts[3], parts[0], parts[4], parts[2], parts[1]]) {
-        const before = runRegionsBeforeTest(model, data, {}, [part.from, part.to]);
+        const before = regionsBeforeTest(model, data, {}, [part.from, part.to]);
         stored.splice(2, 0, rowsMark(part, before.regions));
         participants.push({ from: part.from, rows: before.participants });
       }
@@ -228,7 +229,7 @@ describe("a split permutation test merged into its regions before the test", () 
       expect(summary.regions[7].pParametric).not.toBe(summary.regions[7].p);
       // In memory (threads): the plan's split test, the regions before the test in one piece.
       const inMemory = mergedChunks(plan, [...results].reverse());
-      const once = runRegionsBeforeTest(model, data);
+      const once = regionsBeforeTest(model, data);
       const again = mergeTask(
         inMemory.kind === "permutation" ? { ...inMemory, regions: once.regions } : inMemory,
       );
@@ -245,7 +246,7 @@ describe("a split permutation test merged into its regions before the test", () 
       encodeChunk(plan, c, unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control)))),
     );
     const marks = rowsParts(plan).map((part) => ({
-      ...rowsMark(part, runRegionsBeforeTest(spec, data, {}, [part.from, part.to]).regions),
+      ...rowsMark(part, regionsBeforeTest(spec, data, {}, [part.from, part.to]).regions),
       counts: "",
     }));
     const withoutResults = mergedOfStored("permutation", [...stored, ...marks, splitMark(plan)]);
@@ -273,12 +274,12 @@ describe("a split permutation test merged into its regions before the test", () 
     const fromRunFit = message(() => runFit(collinear, twice));
     expect(fromRunFit).toMatch(/^region 'region 1': the design is rank deficient: column 'twice'/);
     expect(message(() => chunkedFit(collinear, twice))).toBe(fromRunFit);
-    expect(message(() => runRegionsBeforeTest(collinear, twice))).toBe(fromRunFit);
+    expect(message(() => regionsBeforeTest(collinear, twice))).toBe(fromRunFit);
   });
 
   it("refuses a fit that is not a least-squares permutation test, a missing chunk or region part", () => {
     expect(() =>
-      runRegionsBeforeTest({ ...spec, inference: "bootstrap", correction: "holm" }, data),
+      regionsBeforeTest({ ...spec, inference: "bootstrap", correction: "holm" }, data),
     ).toThrow(/only for a least-squares permutation test/);
     const plan = unwrap<FitChunks>(runChunkTask({ type: "plan", spec, data }));
     if (plan.kind !== "permutation") throw new Error("not a permutation test");
@@ -286,7 +287,7 @@ describe("a split permutation test merged into its regions before the test", () 
     const results = Array.from({ length: plan.chunks }, (_, c) =>
       unwrap<ChunkResult>(runChunkTask(chunkTaskOf(plan, c, control))),
     );
-    const { regions } = runRegionsBeforeTest(spec, data);
+    const { regions } = regionsBeforeTest(spec, data);
     const merged = mergedChunks(plan, results);
     const chunks = merged.kind === "permutation" ? merged.chunks : [];
     const before = { ...plan.split, regions };

@@ -5,7 +5,7 @@
  * biobank-size fit's participant rows never sit in the thread's heap at
  * once; worker processes ask for ranges of ROWS_PART_REGIONS regions. Neither
  * may change a row: every region message is the one the whole fit sends,
- * and the regions' results are those of `runRegionsBeforeTest` over all
+ * and the regions' results are those of `regionsBeforeTestByRegion` over all
  * regions (exact enumeration of the engine's own output). Invented, seeded
  * data.
  */
@@ -15,7 +15,8 @@ import { type FitData, modelSpecSchema } from "../../../contract/spec";
 import { ROWS_PART_REGIONS } from "../../../server/jobs/fit-chunks";
 import runFitTask, { type FitTaskMessage } from "../../../server/jobs/fit-task";
 import { createRng, normalDraw } from "../../../server/stats/rng";
-import { runFit, runFitByRegion, runRegionsBeforeTest } from "../../../server/stats/run-fit";
+import { runFit, runFitByRegion } from "../../../server/stats/run-fit";
+import { regionsBeforeTest } from "../../support/regions-before-test";
 
 /** 30 participants, 120 regions (three parts of at most 50); region 60 misses three values. */
 function makeData(): FitData {
@@ -70,7 +71,7 @@ function run(rows: "all" | "only", range?: [number, number]) {
 }
 
 describe("the fit thread's regions before the test, in parts", () => {
-  it("sends every region's rows as the whole fit does, and the regions of runRegionsBeforeTest", () => {
+  it("sends every region's rows as the whole fit does, and the regions before the test", () => {
     expect(ROWS_PART_REGIONS).toBeLessThan(120);
     const whole = run("all");
     const parts = run("only");
@@ -78,7 +79,7 @@ describe("the fit thread's regions before the test, in parts", () => {
     expect(parts.regions).toEqual(whole.regions);
     expect(parts.messages.at(-1)).toEqual({ type: "regions-done", count: 120 });
     if (!parts.outcome.ok) throw new Error(parts.outcome.message);
-    const { regions } = runRegionsBeforeTest(spec, makeData());
+    const { regions } = regionsBeforeTest(spec, makeData());
     expect(JSON.stringify(parts.outcome.regionsBeforeTest)).toBe(JSON.stringify(regions));
   });
 
