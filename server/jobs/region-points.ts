@@ -10,7 +10,9 @@
  *
  * A number the fit did not give (null, or absent) reads null.
  */
+import { compareCells } from "../../components/tables/cell-values";
 import {
+  type ParticipantOrder,
   participantDiagnosticNumbers,
   type RegionDetailPoint,
   type RegionPlot,
@@ -76,6 +78,35 @@ export function decodeRegionPoints(
   return { n, ids, flags, numbers, xs, ys, groups, plot: head };
 }
 
+/** What an order of a region's participants sorts by, one key per participant: numbers (NaN: missing) or text (null: missing). */
+export type OrderKeys = Float64Array | (string | null)[];
+
+/**
+ * The positions (in the fit's order) sorted by `keys`: numbers by value,
+ * text in natural order as the app's tables sort it (`compareCells`);
+ * missing keys last in both directions; ties, and the missing, in the
+ * fit's order, so pages never overlap or skip a row. Pure; O(n log n):
+ * ~10–25 ms at 20,000 participants, so large regions sort in the region
+ * reads' worker thread (region-read-jobs.ts).
+ */
+export function orderPositions(keys: OrderKeys, direction: "asc" | "desc"): Uint32Array {
+  const n = keys.length;
+  const sign = direction === "asc" ? 1 : -1;
+  const present: number[] = [];
+  const missing: number[] = [];
+  if (keys instanceof Float64Array) {
+    for (let i = 0; i < n; i++) (Number.isFinite(keys[i]) ? present : missing).push(i);
+    present.sort((a, b) => sign * (keys[a] - keys[b]) || a - b);
+  } else {
+    for (let i = 0; i < n; i++) (keys[i] === null ? missing : present).push(i);
+    present.sort((a, b) => sign * compareCells(keys[a], keys[b]) || a - b);
+  }
+  const out = new Uint32Array(n);
+  out.set(present);
+  out.set(missing, present.length);
+  return out;
+}
+
 /** A region's points, read-only: the columns stay private and `point(i)` makes a fresh object. */
 export class RegionPoints {
   readonly n: number;
@@ -94,6 +125,27 @@ export class RegionPoints {
   /** Participant i's id (in the fit's order). */
   participant(i: number): string {
     return this.columns.ids[i];
+  }
+
+  /**
+   * The keys an order by `sort` sorts on (see orderPositions): the column
+   * itself for numbers and ids, not to be changed; flags as "count, which"
+   * ("1 outlier"), none missing.
+   */
+  sortKeys(sort: Exclude<ParticipantOrder, "position">): OrderKeys {
+    const c = this.columns;
+    switch (sort) {
+      case "participant":
+        return c.ids;
+      case "flags":
+        return this.flagLists.map((f) => (f.length === 0 ? null : `${f.length} ${f.join(", ")}`));
+      case "x":
+        return c.xs;
+      case "y":
+        return c.ys;
+      default:
+        return c.numbers[sort];
+    }
   }
 
   /** Participant i's flags (frozen). */

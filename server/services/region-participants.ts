@@ -21,6 +21,7 @@ import type {
 } from "../../contract/views/fits";
 import { regionParticipantRows } from "./fits";
 import type { RegionPoints } from "../jobs/region-points";
+import { sharedRegionReadJobs } from "../jobs/region-read-jobs";
 
 /** Most rows in one page. */
 export const PARTICIPANT_PAGE_MAX = 1000;
@@ -33,55 +34,19 @@ export interface RegionParticipantsQuery {
   search?: string;
 }
 
-type Comparable = string | number | null;
-
-/** Text in natural order ("sub-2" before "sub-10"), as the app's tables sort it. */
-const naturalCollator = new Intl.Collator("en", { numeric: true, sensitivity: "base" });
-const compareValues = (a: string | number, b: string | number) =>
-  typeof a === "number" && typeof b === "number"
-    ? a - b
-    : naturalCollator.compare(String(a), String(b));
-
-function orderValue(
-  point: RegionDetailPoint,
-  sort: Exclude<ParticipantOrder, "position">,
-): Comparable {
-  if (sort === "flags")
-    return point.flags.length === 0 ? null : `${point.flags.length} ${point.flags.join(", ")}`;
-  const value = point[sort];
-  return typeof value === "number" && !Number.isFinite(value) ? null : value;
-}
-
 /** The positions (in the fit's order) of `points` in the order asked for (see the module note). */
 function sortedPositions(
   points: RegionPoints,
   sort: ParticipantOrder,
   direction: "asc" | "desc",
-): Uint32Array {
-  const n = points.n;
-  const out = new Uint32Array(n);
+): Promise<Uint32Array> {
   if (sort === "position") {
+    const n = points.n;
+    const out = new Uint32Array(n);
     for (let i = 0; i < n; i++) out[i] = direction === "asc" ? i : n - 1 - i;
-    return out;
+    return Promise.resolve(out);
   }
-  const sign = direction === "asc" ? 1 : -1;
-  // Missing values last in both directions; ties, and the missing, in the fit's order.
-  const values = Array.from({ length: n }, (_, i) => orderValue(points.point(i), sort));
-  const present: number[] = [];
-  const missing: number[] = [];
-  for (let i = 0; i < n; i++) (values[i] === null ? missing : present).push(i);
-  if (present.every((i) => typeof values[i] === "number")) {
-    const keys = Float64Array.from(values, (v) => (v === null ? 0 : (v as number)));
-    present.sort((a, b) => sign * (keys[a] - keys[b]) || a - b);
-  } else {
-    present.sort(
-      (a, b) =>
-        sign * compareValues(values[a] as string | number, values[b] as string | number) || a - b,
-    );
-  }
-  out.set(present);
-  out.set(missing, present.length);
-  return out;
+  return sharedRegionReadJobs().order(points.sortKeys(sort), direction);
 }
 
 /**
@@ -89,10 +54,12 @@ function sortedPositions(
  * lower case, made when first asked for. Kept beside the region's points
  * (services/fits.ts keeps those while the region is read), so they
  * go when the points go. Sorting 20,000 participants costs tens of
- * milliseconds; a page from a kept order costs a slice.
+ * milliseconds (in the region reads' thread at that size); a page from a
+ * kept order costs a slice. Readers asking for an order while it is
+ * sorted share that sort; a failed one is not kept.
  */
 interface PageMemo {
-  orders: Map<string, Uint32Array>;
+  orders: Map<string, Promise<Uint32Array>>;
   lowerIds: string[] | null;
 }
 const memos = new WeakMap<RegionPoints, PageMemo>();
@@ -115,11 +82,14 @@ export async function regionParticipants(
   }
   const { sort, direction } = query;
   const orderKey = `${sort} ${direction}`;
-  let order = memo.orders.get(orderKey);
-  if (!order) {
-    order = sortedPositions(points, sort, direction);
-    memo.orders.set(orderKey, order);
+  let sorting = memo.orders.get(orderKey);
+  if (!sorting) {
+    const orders = memo.orders;
+    sorting = sortedPositions(points, sort, direction);
+    orders.set(orderKey, sorting);
+    sorting.catch(() => orders.delete(orderKey));
   }
+  const order = await sorting;
   const needle = query.search?.trim().toLowerCase() || null;
   const end = query.offset + query.limit;
   const rows: RegionDetailPoint[] = [];

@@ -8,6 +8,7 @@
 import { afterAll, describe, expect, it } from "vitest";
 import {
   type FitData,
+  type Flag,
   type ModelSpecInput,
   modelSpecSchema,
   type ParticipantDiagnostics,
@@ -15,7 +16,11 @@ import {
 import type { RegionDetailPoint, RegionPlot } from "../../../contract/views/fits";
 import { RegionReadJobs } from "../../../server/jobs/region-read-jobs";
 import { encodeRegionPlot, encodeRegionRows } from "../../../server/jobs/region-rows";
-import { decodeRegionPoints, RegionPoints } from "../../../server/jobs/region-points";
+import {
+  decodeRegionPoints,
+  orderPositions,
+  RegionPoints,
+} from "../../../server/jobs/region-points";
 import { regionPlot } from "../../../server/stats/region-plot";
 import { createRng } from "../../../server/stats/rng";
 import { runFit } from "../../../server/stats/run-fit";
@@ -162,7 +167,7 @@ describe("a finished region's points", () => {
 });
 
 describe("reading regions in a worker thread", () => {
-  const jobs = new RegionReadJobs({ inlineChars: 0, maxWaiting: 0 });
+  const jobs = new RegionReadJobs({ inlineChars: 0, inlineOrder: 0, maxWaiting: 0 });
   afterAll(() => jobs.close());
 
   it("gives the same columns as decoding in place", async () => {
@@ -177,6 +182,18 @@ describe("reading regions in a worker thread", () => {
     expect(threaded.numbers.leverage).toBeInstanceOf(Float64Array);
   });
 
+  it("sorts an order as in place, numbers and text", async () => {
+    const { rows, plot } = stored({ kind: "association", predictor: "accuracy" });
+    const points = new RegionPoints(
+      decodeRegionPoints(encodeRegionRows(rows), JSON.stringify(plot)),
+    );
+    for (const sort of ["cooksDistance", "participant", "flags", "x"] as const)
+      for (const direction of ["asc", "desc"] as const)
+        expect(await jobs.order(points.sortKeys(sort), direction)).toStrictEqual(
+          orderPositions(points.sortKeys(sort), direction),
+        );
+  });
+
   it("answers 429 when more reads wait than it takes", async () => {
     const { rows } = stored({ kind: "one-sample" });
     const text = encodeRegionRows(rows);
@@ -186,5 +203,37 @@ describe("reading regions in a worker thread", () => {
       status: "rejected",
       reason: { status: 429, code: "regions_busy" },
     });
+  });
+});
+
+describe("an order of a region's participants", () => {
+  // Exact enumeration: positions 0…5, missing values at 1 and 4, a tie between 2 and 5.
+  const numbers = Float64Array.from([0.5, Number.NaN, 0.25, -1, Number.NaN, 0.25]);
+  it("sorts numbers by value, missing last both ways, ties in the fit's order", () => {
+    expect([...orderPositions(numbers, "asc")]).toEqual([3, 2, 5, 0, 1, 4]);
+    expect([...orderPositions(numbers, "desc")]).toEqual([0, 2, 5, 3, 1, 4]);
+  });
+  it("sorts text in natural order, missing last both ways", () => {
+    const ids = ["sub-10", null, "sub-2", "Sub-1", "sub-2", null];
+    expect([...orderPositions(ids, "asc")]).toEqual([3, 2, 4, 0, 1, 5]);
+    expect([...orderPositions(ids, "desc")]).toEqual([0, 2, 4, 3, 1, 5]);
+  });
+  it("sorts flags by how many, then which, none last", () => {
+    const rows: ParticipantDiagnostics[] = [
+      ["outlier"],
+      [],
+      ["leverage", "influence"],
+      ["influence"],
+    ].map((flags, i) => ({
+      participant: `p${i}`,
+      region: "r",
+      value: i,
+      leverage: 0.1,
+      studentizedResidual: 0,
+      cooksDistance: 0,
+      flags: flags as Flag[],
+    }));
+    const points = new RegionPoints(decodeRegionPoints(encodeRegionRows(rows), null));
+    expect([...orderPositions(points.sortKeys("flags"), "desc")]).toEqual([2, 0, 3, 1]);
   });
 });
