@@ -2,7 +2,8 @@
  * Worker processes (`npm run worker`: children running server/worker/
  * index.ts with only DATABASE_URL and the queue's timing) on the test
  * PostgreSQL server: a max-T Freedman–Lane fit computed by one worker, by
- * two, and by two of which one is killed with SIGKILL mid-fit, gives the
+ * two, by three (each computing some of its chunks), and by workers of which
+ * one is killed with SIGKILL mid-fit, gives the
  * numbers, region rows included, of the same recipe computed by the
  * embedded path (the app's own worker threads); each chunk is stored once;
  * the live workers are listed for an Owner; a specification curve's joint
@@ -235,6 +236,31 @@ describe("fits on worker processes", () => {
     expect(two.status).toBe("done");
     expect(two.result).toEqual(reference.result);
     expect(two.regions).toEqual(reference.regions);
+  }, 180_000);
+
+  it("three workers give the same numbers, each computing chunks of the fit", async () => {
+    startWorker();
+    await waitFor("three live workers", async () => {
+      const res = await request(t.url).get("/api/system/workers").set("Cookie", cookie).expect(200);
+      return res.body.workers.length === 3;
+    });
+    // Listed once its heartbeat is written; taking jobs once it says so.
+    await waitFor("three workers taking jobs", async () =>
+      running.every((w) => w.output().includes("is taking fit jobs.")),
+    );
+    const reference = await finished(referenceFitId);
+    const fitId = await queueCopyOfReference();
+    const three = await finished(fitId);
+    expect(three.status).toBe("done");
+    expect(three.result).toEqual(reference.result);
+    expect(three.regions).toEqual(reference.regions);
+    // Each of the three took part: 62 chunks, each worker holding two at a time.
+    const computedBy = await t.db
+      .selectDistinct({ workerId: fitChunks.workerId })
+      .from(fitChunks)
+      .where(eq(fitChunks.fitId, fitId));
+    expect(computedBy).toHaveLength(3);
+    expect(await storedChunks(fitId)).toBe(62);
   }, 180_000);
 
   it("a specification curve's null blocks on two workers give the embedded path's numbers", async () => {
