@@ -22,19 +22,14 @@
  * in a worker process (`fullPriority`), which serves no requests.
  */
 import type { MessagePort } from "node:worker_threads";
-import type {
-  FitData,
-  FitResult,
-  ModelSpec,
-  ParticipantDiagnostics,
-  RegionResult,
-} from "../../contract/spec";
+import type { FitData, FitResult, ModelSpec, RegionResult } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
+import type { ParticipantRows } from "../stats/fit/participant-rows";
 import type { RegionPlot } from "../../contract/views/fits";
 import { regionPlot } from "../stats/region-plot";
 import { FIT_LEVEL, regionsBeforeTestByRegion, runFitByRegion } from "../stats/run-fit";
 import { type MergedChunks, mergeOptions } from "./fit-chunks";
-import { encodeRegionPlot, encodeRegionRows } from "./region-rows";
+import { encodeParticipantRows, encodeRegionPlot } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
 let lowered = false;
@@ -144,12 +139,12 @@ function postRegion(
   task: FitTask,
   position: number,
   region: string,
-  rows: readonly ParticipantDiagnostics[],
+  rows: ParticipantRows,
   post: (message: FitTaskMessage) => void,
 ): void {
   let plot: RegionPlot | { error: string } | null = null;
-  const ids = rows.map((d) => d.participant);
-  if (rows.length > 0) {
+  const ids = rows.ids;
+  if (rows.n > 0) {
     try {
       plot = regionPlot(task.spec, task.data, region, ids, { level: FIT_LEVEL });
     } catch (e) {
@@ -161,7 +156,7 @@ function postRegion(
     type: "region",
     position,
     region,
-    participants: encodeRegionRows(rows),
+    participants: encodeParticipantRows(rows),
     plot: plot === null ? null : encodeRegionPlot(plot, ids),
   });
 }

@@ -32,6 +32,7 @@
  * detail. Cost O(rows × fields).
  */
 import type { ParticipantDiagnostics } from "../../contract/spec";
+import type { FieldColumn, ParticipantRows } from "../stats/fit/participant-rows";
 import type { PlotPoint, RegionPlot } from "../../contract/views/fits";
 
 type Column = unknown[] | { f64: string } | { object: Record<string, Column> };
@@ -60,11 +61,50 @@ export function encodeRegionRows(rows: readonly ParticipantDiagnostics[]): strin
     }
     fields[name] = encodeColumn(values, missing);
   });
-  // The text JSON.stringify would make of the layout, written out so that the base64 of the
-  // doubles (most of it, and never in need of escaping) is not scanned again.
+  return layoutText(rows.length, names, fields, absent);
+}
+
+/**
+ * One region's rows, as the diagnose stage hands them on (by column), as
+ * stored text: the text `encodeRegionRows(rows.rows())` makes, without an
+ * object per row. Every row has every field, so none is absent.
+ */
+export function encodeParticipantRows(rows: ParticipantRows): string {
+  const names = rows.names();
+  const fields: Record<string, Column> = {};
+  for (const name of names) fields[name] = fieldColumn(rows.field(name), rows.n);
+  return layoutText(rows.n, names, fields, {});
+}
+
+/** A field's stored form, as `encodeColumn` gives it for the same values with none missing. */
+function fieldColumn(column: FieldColumn, n: number): Column {
+  if ("values" in column) return encodeColumn(column.values, new Uint8Array(n));
+  if ("object" in column) {
+    const object: Record<string, Column> = {};
+    for (const { key, column: inner } of column.object) object[key] = fieldColumn(inner, n);
+    return { object };
+  }
+  const { numbers, nullable } = column;
+  // A null among numbers makes the column a plain array (NaN stands for null where nullable).
+  if (nullable && numbers.some(Number.isNaN))
+    return Array.from(numbers, (v) => (Number.isNaN(v) ? null : v));
+  return { f64: toLittleEndianBytes(numbers).toString("base64") };
+}
+
+/**
+ * The text JSON.stringify would make of the layout, written out so that the
+ * base64 of the doubles (most of it, and never in need of escaping) is not
+ * scanned again.
+ */
+function layoutText(
+  n: number,
+  names: readonly string[],
+  fields: Record<string, Column>,
+  absent: Record<string, number[]>,
+): string {
   const fieldsText = names.map((name) => `${JSON.stringify(name)}:${columnText(fields[name])}`);
   const absentText = Object.keys(absent).length > 0 ? `,"absent":${JSON.stringify(absent)}` : "";
-  return `{"layout":"columns","n":${rows.length},"fields":{${fieldsText.join(",")}}${absentText}}`;
+  return `{"layout":"columns","n":${n},"fields":{${fieldsText.join(",")}}${absentText}}`;
 }
 
 /** JSON.stringify(column), with a column of doubles' base64 put in as it is. */

@@ -56,6 +56,7 @@ export interface DiagnosticsResult {
   thresholds: { outlierT: number | null; leverage: number; cooksDistance: number };
 }
 
+const finiteOrNaN = (v: number): number => (Number.isFinite(v) ? v : Number.NaN);
 const finiteOrNull = (v: number): number | null => (Number.isFinite(v) ? v : null);
 
 /**
@@ -78,6 +79,44 @@ export function flagThresholds(
   };
 }
 
+/** The flags in the order a row lists them. */
+export const FLAGS: readonly Flag[] = ["outlier", "leverage", "influence"];
+
+/** A flag's bit in `DiagnosticColumns.flags`. */
+export const FLAG_BIT: Readonly<Record<Flag, number>> = { outlier: 1, leverage: 2, influence: 4 };
+
+/**
+ * The diagnostics of every row as columns (no object per row): NaN stands
+ * for null (a value undefined there, as in `DiagnosticRow`).
+ */
+export interface DiagnosticColumns {
+  n: number;
+  p: number;
+  leverage: Float64Array;
+  internalStudentized: Float64Array;
+  externalStudentized: Float64Array;
+  cooksDistance: Float64Array;
+  dffits: Float64Array;
+  /** n × p, row-major; row i is meaningful only where `hasDfbetas[i]` is 1 */
+  dfbetas: Float64Array;
+  hasDfbetas: Uint8Array;
+  /** null when the design has no intercept or only one column (every row's value null) */
+  mahalanobis: Float64Array | null;
+  /** per row, the OR of the `FLAG_BIT`s of its flags */
+  flags: Uint8Array;
+  vif: DiagnosticsResult["vif"];
+  thresholds: DiagnosticsResult["thresholds"];
+}
+
+/** A row's flags from its bits, in the order of `FLAGS`. */
+export function flagsOf(bits: number): Flag[] {
+  const flags: Flag[] = [];
+  for (const flag of FLAGS) if (bits & FLAG_BIT[flag]) flags.push(flag);
+  return flags;
+}
+
+const orNull = (v: number): number | null => (Number.isNaN(v) ? null : v);
+
 /**
  * Diagnostics for every row of a fit. `interceptColumn` is the index of the
  * constant column, or -1 when there is none. Cost O(n·p²).
@@ -87,6 +126,38 @@ export function regressionDiagnostics(
   fit: LinearModelFit,
   options: { interceptColumn: number; alpha?: number },
 ): DiagnosticsResult {
+  const c = regressionDiagnosticColumns(qr, fit, options);
+  const { p } = c;
+  const rows: DiagnosticRow[] = [];
+  for (let i = 0; i < c.n; i++) {
+    let dfbetas: (number | null)[] | null = null;
+    if (c.hasDfbetas[i]) {
+      dfbetas = [];
+      for (let j = 0; j < p; j++) dfbetas.push(orNull(c.dfbetas[i * p + j]));
+    }
+    rows.push({
+      leverage: c.leverage[i],
+      internalStudentized: orNull(c.internalStudentized[i]),
+      externalStudentized: orNull(c.externalStudentized[i]),
+      cooksDistance: orNull(c.cooksDistance[i]),
+      dffits: orNull(c.dffits[i]),
+      dfbetas,
+      mahalanobis: c.mahalanobis ? c.mahalanobis[i] : null,
+      flags: flagsOf(c.flags[i]),
+    });
+  }
+  return { rows, vif: c.vif, thresholds: c.thresholds };
+}
+
+/**
+ * `regressionDiagnostics` as columns, for fits of many participants: the
+ * same numbers, with NaN for null. Cost O(n·p²).
+ */
+export function regressionDiagnosticColumns(
+  qr: QrDecomposition,
+  fit: LinearModelFit,
+  options: { interceptColumn: number; alpha?: number },
+): DiagnosticColumns {
   const { n, p, hat, q, rInverse } = qr;
   const { interceptColumn, alpha = 0.05 } = options;
   const df = n - p;
@@ -101,57 +172,72 @@ export function regressionDiagnostics(
     for (let k = j; k < p; k++) acc += rInverse[j * p + k] * rInverse[j * p + k];
     cDiag[j] = acc;
   }
-  const rows: DiagnosticRow[] = [];
+  const leverage = new Float64Array(n);
+  const internalStudentized = new Float64Array(n).fill(Number.NaN);
+  const externalStudentized = new Float64Array(n).fill(Number.NaN);
+  const cooksDistance = new Float64Array(n).fill(Number.NaN);
+  const dffits = new Float64Array(n).fill(Number.NaN);
+  const dfbetas = new Float64Array(n * p);
+  const hasDfbetas = new Uint8Array(n);
+  const withMahalanobis = interceptColumn >= 0 && p > 1;
+  const mahalanobis = withMahalanobis ? new Float64Array(n) : null;
+  const flags = new Uint8Array(n);
   const qi = new Float64Array(p);
   for (let i = 0; i < n; i++) {
     const h = hat[i];
     const one = h > 1 - LEVERAGE_ONE_TOLERANCE;
     const e = fit.residuals[i];
-    const flags: Flag[] = [];
-    let internal: number | null = null;
-    let external: number | null = null;
-    let cook: number | null = null;
-    let dffits: number | null = null;
-    let dfbetas: (number | null)[] | null = null;
+    let internal = Number.NaN;
+    let external = Number.NaN;
+    let cook = Number.NaN;
     if (!one && df > 0 && s > 0) {
       const oneMinusH = 1 - h;
-      internal = finiteOrNull(e / (s * Math.sqrt(oneMinusH)));
-      if (internal !== null) cook = finiteOrNull((internal * internal * h) / (p * oneMinusH));
+      internal = finiteOrNaN(e / (s * Math.sqrt(oneMinusH)));
+      if (!Number.isNaN(internal)) cook = finiteOrNaN((internal * internal * h) / (p * oneMinusH));
       if (df - 1 > 0) {
         const sDel2 = (rss - (e * e) / oneMinusH) / (df - 1);
         if (sDel2 > rss * 1e-14 && sDel2 > 0) {
           const sDel = Math.sqrt(sDel2);
-          external = finiteOrNull(e / (sDel * Math.sqrt(oneMinusH)));
-          if (external !== null) dffits = finiteOrNull(external * Math.sqrt(h / oneMinusH));
+          external = finiteOrNaN(e / (sDel * Math.sqrt(oneMinusH)));
+          if (!Number.isNaN(external)) dffits[i] = finiteOrNaN(external * Math.sqrt(h / oneMinusH));
           // (XᵀX)⁻¹x_i = R⁻¹ q_i, q_i the i-th row of thin Q
           for (let j = 0; j < p; j++) qi[j] = q[j * n + i];
-          dfbetas = [];
+          hasDfbetas[i] = 1;
           for (let j = 0; j < p; j++) {
             let acc = 0;
             for (let k = j; k < p; k++) acc += rInverse[j * p + k] * qi[k];
-            dfbetas.push(finiteOrNull((acc * e) / oneMinusH / (sDel * Math.sqrt(cDiag[j]))));
+            dfbetas[i * p + j] = finiteOrNaN((acc * e) / oneMinusH / (sDel * Math.sqrt(cDiag[j])));
           }
         }
       }
     }
-    if (outlierT !== null && external !== null && Math.abs(external) > outlierT)
-      flags.push("outlier");
-    if (one || h > leverageCut) flags.push("leverage");
-    if (cook !== null && cook > cookCut) flags.push("influence");
-    let mahalanobis: number | null = null;
-    if (interceptColumn >= 0 && p > 1) mahalanobis = Math.max(0, (n - 1) * ((one ? 1 : h) - 1 / n));
-    rows.push({
-      leverage: one ? 1 : h,
-      internalStudentized: internal,
-      externalStudentized: external,
-      cooksDistance: cook,
-      dffits,
-      dfbetas,
-      mahalanobis,
-      flags,
-    });
+    internalStudentized[i] = internal;
+    externalStudentized[i] = external;
+    cooksDistance[i] = cook;
+    let bits = 0;
+    if (outlierT !== null && !Number.isNaN(external) && Math.abs(external) > outlierT)
+      bits |= FLAG_BIT.outlier;
+    if (one || h > leverageCut) bits |= FLAG_BIT.leverage;
+    if (!Number.isNaN(cook) && cook > cookCut) bits |= FLAG_BIT.influence;
+    flags[i] = bits;
+    leverage[i] = one ? 1 : h;
+    if (mahalanobis) mahalanobis[i] = Math.max(0, (n - 1) * ((one ? 1 : h) - 1 / n));
   }
-  return { rows, vif: varianceInflation(qr, interceptColumn, cDiag), thresholds };
+  return {
+    n,
+    p,
+    leverage,
+    internalStudentized,
+    externalStudentized,
+    cooksDistance,
+    dffits,
+    dfbetas,
+    hasDfbetas,
+    mahalanobis,
+    flags,
+    vif: varianceInflation(qr, interceptColumn, cDiag),
+    thresholds,
+  };
 }
 
 function varianceInflation(

@@ -80,6 +80,7 @@ import type { QrDecomposition } from "./linear-model";
 import type { RearrangementChunk } from "./permutation";
 import { FIT_LEVEL, type RunFitOptions, assertFinite, cancelled, inRegion } from "./fit/common";
 import { diagnoseRegion } from "./fit/diagnose";
+import { type ParticipantRows, assertFiniteRows, objectRows } from "./fit/participant-rows";
 import { type RegionWork, estimateRegionWork, regionDesign } from "./fit/estimate";
 import {
   type LinearTestBasis,
@@ -117,11 +118,7 @@ export function runFit(spec: ModelSpec, data: FitData, options: RunFitOptions = 
  * the result's regions (`position` is the index there); a region without
  * diagnostics gets none.
  */
-export type RegionRowsSink = (
-  position: number,
-  region: string,
-  rows: ParticipantDiagnostics[],
-) => void;
+export type RegionRowsSink = (position: number, region: string, rows: ParticipantRows) => void;
 
 /** A sink that gathers every region's rows, in order, into `participants`. */
 function gathering(): { participants: ParticipantDiagnostics[]; sink: RegionRowsSink } {
@@ -129,7 +126,7 @@ function gathering(): { participants: ParticipantDiagnostics[]; sink: RegionRows
   return {
     participants,
     sink: (_position, _region, rows) => {
-      for (const d of rows) participants.push(d);
+      for (let i = 0; i < rows.n; i++) participants.push(rows.row(i));
     },
   };
 }
@@ -156,7 +153,10 @@ export function runFitByRegion(
       sink(
         k,
         region.region,
-        participants.filter((d) => d.region === region.region),
+        objectRows(
+          region.region,
+          participants.filter((d) => d.region === region.region),
+        ),
       );
     });
     return rest;
@@ -225,11 +225,11 @@ function estimateAndDiagnose(
     if (shouldCancel?.()) cancelled();
     inRegion(data.regions[r], () => {
       const work = estimateRegionWork(prep, r, qrCache);
-      const rows = work.qr && sink ? diagnoseRegion(prep, work) : [];
+      const rows = work.qr && sink ? diagnoseRegion(prep, work) : objectRows(work.name, []);
       if (keepWorks) works.push(work);
       results.push(work.result);
       if (sink) {
-        assertFinite(rows, `result.participants of region '${work.name}'`);
+        assertFiniteRows(rows, `result.participants of region '${work.name}'`);
         sink(idx, work.result.region, rows);
       }
       perRegion?.(work);

@@ -14,7 +14,7 @@ export function regionsBeforeTest(
 ): { regions: RegionResult[]; participants: ParticipantDiagnostics[] } {
   const participants: ParticipantDiagnostics[] = [];
   const regions = regionsBeforeTestByRegion(spec, data, options, range, (_p, _r, rows) => {
-    participants.push(...rows);
+    participants.push(...rows.rows());
   });
   return { regions, participants };
 }

@@ -69,11 +69,16 @@ export function inRegion<T>(region: string, f: () => T): T {
 /** Throws if any number in the result is NaN or ±Infinity: no such value may leave the engine. */
 export function assertFinite(value: unknown, path: string): void {
   const bad = findNonFinite(value);
-  if (bad !== null)
-    throw new StatsError(`internal: the fit produced a non-finite number at ${path}${bad}`);
+  if (bad !== null) throw nonFiniteError(`${path}${bad}`);
 }
 
-function findNonFinite(value: unknown): string | null {
+/** The error of a non-finite number found at `at` (a path into the result). */
+export function nonFiniteError(at: string): StatsError {
+  return new StatsError(`internal: the fit produced a non-finite number at ${at}`);
+}
+
+/** Where in `value` a number is not finite ("" for `value` itself), as a path, else null. */
+export function findNonFinite(value: unknown): string | null {
   if (typeof value === "number") return Number.isFinite(value) ? null : "";
   if (value === null || typeof value !== "object") return null;
   if (Array.isArray(value)) {

@@ -8,15 +8,21 @@
  * `outlier` or `influence`. Hands the participants' rows to the result, and
  * the region's result, so completed, on to the infer stage.
  */
-import type { ParticipantDiagnostics, RegionResult } from "../../../contract/spec";
+import type { Flag, RegionResult } from "../../../contract/spec";
 import { leaveOneOutCorrelations } from "../compare-correlations";
-import { type DiagnosticsResult, regressionDiagnostics } from "../diagnostics";
+import {
+  type DiagnosticColumns,
+  FLAG_BIT,
+  FLAGS,
+  regressionDiagnosticColumns,
+} from "../diagnostics";
 import { StatsError } from "../errors";
 import { estimateRegion, olsFit } from "../fit-methods";
 import { type LinearModelFit, type QrDecomposition, unscaledCovariance } from "../linear-model";
 import type { RegionData } from "../region-data";
 import { type RegionWork, designFor } from "./estimate";
 import { valuesAt } from "./common";
+import { type ParticipantRows, diagnosedRows } from "./participant-rows";
 import type { Prepared } from "./prepare";
 
 /**
@@ -26,46 +32,31 @@ import type { Prepared } from "./prepare";
  * counts, then the leave-one-out range and the sensitivity refit (below).
  * Needs the region's decomposition (`work.qr`, present when n > p).
  */
-export function diagnoseRegion(prep: Prepared, work: RegionWork): ParticipantDiagnostics[] {
+export function diagnoseRegion(prep: Prepared, work: RegionWork): ParticipantRows {
   const { name: region, rows, data: d, result } = work;
   const qr = work.qr as QrDecomposition;
   const fit = olsFit(d, qr);
-  const diag = regressionDiagnostics(qr, fit, { interceptColumn: 0 });
-  const names = d.design.columnNames;
+  const diag = regressionDiagnosticColumns(qr, fit, { interceptColumn: 0 });
   const ids = prep.data.participants;
-  const out: ParticipantDiagnostics[] = diag.rows.map((row, k) => {
-    const dfbetas: Record<string, number | null> | null = row.dfbetas ? {} : null;
-    if (row.dfbetas && dfbetas) {
-      for (let j = 0; j < names.length; j++) dfbetas[names[j]] = row.dfbetas[j];
-    }
-    return {
-      participant: ids[rows[k]],
-      region,
-      leverage: row.leverage,
-      studentizedResidual: row.externalStudentized,
-      cooksDistance: row.cooksDistance,
-      flags: row.flags,
-      internalStudentizedResidual: row.internalStudentized,
-      dffits: row.dffits,
-      dfbetas,
-      mahalanobis: row.mahalanobis,
-      value: d.y[k],
-      fitted: fit.fitted[k],
-      residual: fit.residuals[k],
-    };
-  });
   result.vif = diag.vif;
   // the flags' cut-offs, so the influence view draws the very values the flags used
   result.flagThresholds = diag.thresholds;
-  result.flagged = {
-    outlier: diag.rows.filter((r) => r.flags.includes("outlier")).length,
-    leverage: diag.rows.filter((r) => r.flags.includes("leverage")).length,
-    influence: diag.rows.filter((r) => r.flags.includes("influence")).length,
-  };
+  const flagged: Record<Flag, number> = { outlier: 0, leverage: 0, influence: 0 };
+  for (const flag of FLAGS)
+    for (let k = 0; k < diag.n; k++) if (diag.flags[k] & FLAG_BIT[flag]) flagged[flag]++;
+  result.flagged = flagged;
   if ((d.estimator === "ols" || d.estimator === "welch") && prep.spec.weights === "none")
     leaveOneOutRange(prep, rows, d, qr, fit, result);
   sensitivityRefit(prep, prep.data.values[work.r], rows, d, diag, result);
-  return out;
+  return diagnosedRows({
+    region,
+    ids: rows.map((i) => ids[i]),
+    diagnostics: diag,
+    coefficientNames: d.design.columnNames,
+    value: d.y,
+    fitted: fit.fitted,
+    residual: fit.residuals,
+  });
 }
 
 /**
@@ -141,13 +132,14 @@ function sensitivityRefit(
   values: ArrayLike<number>,
   rows: readonly number[],
   d: RegionData,
-  diag: DiagnosticsResult,
+  diag: DiagnosticColumns,
   result: RegionResult,
 ): void {
   const ids = prep.data.participants;
   const drop = new Set<number>();
-  diag.rows.forEach((row, k) => {
-    if (row.flags.includes("outlier") || row.flags.includes("influence")) drop.add(k);
+  const dropped = FLAG_BIT.outlier | FLAG_BIT.influence;
+  diag.flags.forEach((bits, k) => {
+    if (bits & dropped) drop.add(k);
   });
   if (drop.size > 0 && prep.spec.weights === "none") {
     const keep = rows.filter((_, k) => !drop.has(k));

@@ -138,7 +138,7 @@ describe("a whole fit's rows, region by region", () => {
           },
         },
         (position, region, rows) => {
-          seen.push({ position, region, progress, rows });
+          seen.push({ position, region, progress, rows: rows.rows() });
         },
       );
       const whole = runFit(model, data);
