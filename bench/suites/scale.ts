@@ -13,11 +13,15 @@
  * cost (a chunk's work grows with the participants; its fixed costs do
  * not). `SCALE_FACTOR=1 npm run bench -- scale` runs the full size.
  *
- * Printed: wall time of each run; the kernel's time per chunk measured in
- * this process (one thread), and with two chunks at a time on two threads
+ * Printed: wall time of each run; the kernel's time per chunk on one
+ * thread (timed inside a bench thread after a chunk of warm-up, as chunks
+ * run on threads in the embedded path and the workers), and with two
+ * chunks at a time on two threads
  * (each core's throughput when both compute, as with two workers here);
  * per-worker throughput against them; the time
- * not spent computing (wall − chunks × chunk time ÷ workers) and its parts
+ * not spent computing (wall − chunks × chunk time ÷ workers, the chunk
+ * time on one thread for one worker and two at a time for two: each
+ * core's speed when both compute) and its parts
  * — before the first chunk is stored (queue, planning) less one chunk's
  * kernel time, between chunks (queue, slicing, storage) and after the last
  * part (the merge, storing the result); when the last part of the regions
@@ -25,10 +29,10 @@
  * regions on the workers' fit threads, beside the chunks) was stored, and
  * the time per chunk and worker after that, when the workers compute only
  * chunks; the projected wall time on 10 and 50 workers;
- * and, in the same run right after the kernel, a plain register-blocked
- * reference loop of a chunk's multiply–adds (its 100 regions, two regions ×
- * five regressors per pass) with the kernel's share of its speed, on one
- * thread.
+ * and, in the same run right after the kernel and on the same thread, a
+ * plain register-blocked reference loop of a chunk's multiply–adds (its
+ * 100 regions, two regions × five regressors per pass) with the kernel's
+ * share of its speed.
  *
  * Needs Debian's postgresql (a throw-away server is started, as the tests
  * do). Data are invented by a seeded generator.
@@ -37,6 +41,7 @@ import { type ChildProcess, spawn } from "node:child_process";
 import os from "node:os";
 import { join } from "node:path";
 import { count, eq } from "drizzle-orm";
+import { Piscina } from "piscina";
 import { openServerDatabase } from "../../db/client";
 import { migrateDatabase } from "../../db/migrate";
 import { fitChunks, fits, memberships, models, studies, users } from "../../db/schema";
@@ -48,7 +53,6 @@ import {
 } from "../../server/jobs/fit-chunks";
 import { workerPool } from "../../server/jobs/worker-pool";
 import { DEFAULT_UPLOAD_LIMITS } from "../../server/jobs/intake-file";
-import runPermutationTask from "../../server/jobs/permutation-task";
 import { REGION_BLOCK } from "../../server/stats/permutation-kernel";
 import { confirmUpload, previewUpload } from "../../server/services/datasets";
 import { buildFitInputs, inputsOfFit } from "../../server/services/fit-inputs";
@@ -58,7 +62,7 @@ import { PreviewStore } from "../../server/services/preview-store";
 import { createRng, normalDraw } from "../../server/stats/rng";
 import { queueDispatch } from "../../server/worker/fit-dispatch";
 import { startPostgresServer } from "../../tests/support/postgres-server";
-import { referenceGflops } from "../reference-loop";
+import type { KernelTask } from "../kernel-task";
 import { specOfRecipe } from "../../contract/recipe";
 import { modelSpecSchema } from "../../contract/spec";
 
@@ -250,23 +254,34 @@ export default async function scaleBench(): Promise<void> {
       `embedded path (plan and chunks on ${embeddedJobs.chunkThreads} chunk threads, regions before the test on the fit thread beside them, merge on a chunk thread): ${embedded.wall.toFixed(1)} s`,
     );
 
-    // The kernel's cost per chunk, on one thread in this process (the same chunks the workers compute).
+    // The kernel's cost per chunk, on one thread (the same chunks the workers compute), timed in
+    // the thread after a chunk of warm-up, as the embedded path and the workers run chunks.
     const [fitRow] = await db.select().from(fits).where(eq(fits.id, embedded.id));
     const { data } = await buildFitInputs(db, inputsOfFit(fitRow));
     const plan = chunkedFit(specOfRecipe(fitRow.recipe), data);
     if (!plan) throw new Error("the fit is not split");
     const control = new SharedArrayBuffer(8);
     const sample = [0, 1, plan.blocks, plan.chunks - 1];
-    const c0 = performance.now();
-    for (const c of sample) runPermutationTask(chunkTask(plan, c, control));
-    const chunkSeconds = (performance.now() - c0) / 1000 / sample.length;
+    const kernelThread = new Piscina({
+      filename: new URL("../kernel-task.ts", import.meta.url).href,
+      execArgv: ["--import", "tsx"],
+      minThreads: 1,
+      maxThreads: 1,
+    });
+    const onKernelThread = (task: KernelTask) => kernelThread.run(task) as Promise<number>;
+    const chunkSeconds = await onKernelThread({
+      type: "chunks",
+      warmUp: chunkTask(plan, sample[0], control),
+      tasks: sample.map((c) => chunkTask(plan, c, control)),
+    });
     const computeSeconds = chunkSeconds * plan.chunks;
     console.log(
-      `chunks: ${plan.chunks} (${plan.regionChunks.length} region chunks × ${plan.blocks} rearrangement blocks); kernel ${(chunkSeconds * 1000).toFixed(0)} ms per chunk on one thread here (${(gflop / computeSeconds).toFixed(2)} GFLOP/s), ${computeSeconds.toFixed(1)} s for all`,
+      `chunks: ${plan.chunks} (${plan.regionChunks.length} region chunks × ${plan.blocks} rearrangement blocks); kernel ${(chunkSeconds * 1000).toFixed(0)} ms per chunk on one thread (timed in the thread, after a chunk of warm-up; ${(gflop / computeSeconds).toFixed(2)} GFLOP/s), ${computeSeconds.toFixed(1)} s for all`,
     );
     // Reference loop: a chunk's multiply–adds (its region chunk's regions against five columns),
     // register-blocked, on one thread, timed right after the kernel so that both meet the same machine.
-    const refGflops = referenceGflops(N, REGION_BLOCK);
+    const refGflops = await onKernelThread({ type: "reference", n: N, regions: REGION_BLOCK });
+    await kernelThread.destroy();
     console.log(
       `reference loop (a chunk's ${REGION_BLOCK} regions × ${N.toLocaleString("en")} participants, two regions × five regressors per pass, one thread): ${refGflops.toFixed(2)} GFLOP/s; the kernel's chunks reach ${((100 * gflop) / computeSeconds / refGflops).toFixed(0)} % of it (target ≥ 85 %)`,
     );
@@ -340,7 +355,7 @@ export default async function scaleBench(): Promise<void> {
         workers: count,
         wall: run.wall,
         same: run.result === embedded.result,
-        beforeFirst: seconds(firstChunk) - chunkSeconds,
+        beforeFirst: seconds(firstChunk) - (count >= 2 ? chunkSecondsBoth : chunkSeconds),
         mergeSeconds: seconds(fitDone.finishedAt ?? undefined) - seconds(parts.at(-1)?.at),
         beforeTestAt: seconds(parts.findLast((p) => p.block === -1)?.at),
         firstChunks: [...firstOf.values()].map((at) => seconds(at)),
@@ -354,12 +369,14 @@ export default async function scaleBench(): Promise<void> {
     for (const r of results) {
       const perWorker = gflop / (r.wall * r.workers);
       const kernel = gflop / computeSeconds;
-      // With as many workers as cores, each core's kernel is the two-thread figure.
-      const kernelPerCore = r.workers >= 2 ? gflop / (chunkSecondsBoth * plan.chunks) : kernel;
-      const overhead = r.wall - computeSeconds / r.workers;
+      // With as many workers as cores, each core's kernel is the two-thread figure, and so is
+      // the time the chunks take when no time is lost.
+      const perCoreChunk = r.workers >= 2 ? chunkSecondsBoth : chunkSeconds;
+      const kernelPerCore = gflop / (perCoreChunk * plan.chunks);
+      const overhead = r.wall - (perCoreChunk * plan.chunks) / r.workers;
       const between = overhead - r.beforeFirst - r.mergeSeconds;
       console.log(
-        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread${r.workers >= 2 ? `, ${((100 * perWorker) / kernelPerCore).toFixed(0)} % of its per-core throughput with both cores computing` : ""} · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s${r.tailChunk === null ? "" : ` · after them, ${r.tailCount} chunks at ${(1000 * r.tailChunk).toFixed(0)} ms per chunk and worker (${((100 * (r.workers >= 2 ? chunkSecondsBoth : chunkSeconds)) / r.tailChunk).toFixed(0)} % of the kernel's ${r.workers >= 2 ? "two-at-a-time" : "one-thread"} time)`} · each worker's first chunk stored at ${r.firstChunks.map((x) => `${x.toFixed(1)} s`).join(", ")} · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
+        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread${r.workers >= 2 ? `, ${((100 * perWorker) / kernelPerCore).toFixed(0)} % of its per-core throughput with both cores computing` : ""} · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s${r.tailChunk === null ? "" : ` · after them, ${r.tailCount} chunks at ${(1000 * r.tailChunk).toFixed(0)} ms per chunk and worker (${((100 * perCoreChunk) / r.tailChunk).toFixed(0)} % of the kernel's ${r.workers >= 2 ? "two-at-a-time" : "one-thread"} time)`} · each worker's first chunk stored at ${r.firstChunks.map((x) => `${x.toFixed(1)} s`).join(", ")} · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
       );
     }
     console.log(`chunk rows stored: ${stored} (each chunk of each run once)`);
