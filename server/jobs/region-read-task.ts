@@ -1,7 +1,8 @@
 /**
  * Worker-thread task of region reads (region-read-jobs.ts): a finished
- * region's stored texts decoded into columns, or one order of its
- * participants sorted (region-points.ts). Computes only; the caller reads
+ * region's stored texts decoded into columns, with its plot points written
+ * out as the region detail sends them, or one order of its participants
+ * sorted (region-points.ts). Computes only; the caller reads
  * the texts from the database. Runs at normal priority, unlike the fit
  * threads: a reader is waiting for it.
  */
@@ -10,6 +11,7 @@ import {
   type OrderKeys,
   orderPositions,
   type RegionColumns,
+  RegionPoints,
 } from "./region-points";
 
 export type RegionReadTask =
@@ -17,7 +19,9 @@ export type RegionReadTask =
   | { kind: "order"; keys: OrderKeys; direction: "asc" | "desc" };
 
 export default function runRegionReadTask(task: RegionReadTask): RegionColumns | Uint32Array {
-  return task.kind === "decode"
-    ? decodeRegionPoints(task.participants, task.plot)
-    : orderPositions(task.keys, task.direction);
+  if (task.kind === "order") return orderPositions(task.keys, task.direction);
+  // A region large enough to be decoded here has its plot points written out here too.
+  const columns = decodeRegionPoints(task.participants, task.plot);
+  columns.pointsText = new RegionPoints(columns).plotPointsText();
+  return columns;
 }

@@ -39,7 +39,7 @@ import {
   listFits,
   loadFitView,
   previewRegion,
-  regionDetail,
+  regionDetailJson,
   studyOfFit,
 } from "../services/fits";
 import { PARTICIPANT_PAGE_MAX, regionParticipants } from "../services/region-participants";
@@ -202,7 +202,10 @@ export function fitRoutes(deps: RouteDeps, jobs: FitJobs, options: FitRouteOptio
     async (_req, res) => {
       const { params } = parsed(res, region);
       const fit = await findFit(deps.db, authorizedStudy(res).study.id, params.fitId);
-      res.json(await regionDetail(deps.db, fit, params.region, participantsVisible(res)));
+      // The points are the region's kept JSON text; only the rest is written per request.
+      res
+        .type("json")
+        .send(await regionDetailJson(deps.db, fit, params.region, participantsVisible(res)));
     },
   );
 

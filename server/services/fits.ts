@@ -726,11 +726,16 @@ export async function regionParticipantRows(
       .select({ participants: fitRegions.participants, plot: fitRegions.plot })
       .from(fitRegions)
       .where(and(eq(fitRegions.fitId, fit.id), eq(fitRegions.region, region)));
+    const columns = await sharedRegionReadJobs().decode(
+      row?.participants ?? null,
+      row?.plot ?? null,
+    );
     return {
-      value: new RegionPoints(
-        await sharedRegionReadJobs().decode(row?.participants ?? null, row?.plot ?? null),
-      ),
-      weight: (row?.participants.length ?? 0) + (row?.plot?.length ?? 0),
+      value: new RegionPoints(columns),
+      weight:
+        (row?.participants.length ?? 0) +
+        (row?.plot?.length ?? 0) +
+        (columns.pointsText?.length ?? 0),
     };
   });
   return { summary, points, plot: points.plot };
@@ -743,6 +748,49 @@ export async function regionDetail(
   region: string,
   participantsVisible: boolean,
 ): Promise<RegionDetail> {
+  const { detail, points } = await regionDetailOf(db, fit, region, participantsVisible);
+  if (participantsVisible) {
+    const plotPoints: RegionPlotPoint[] = new Array(points.n);
+    for (let i = 0; i < points.n; i++) plotPoints[i] = points.plotPoint(i);
+    detail.points = plotPoints;
+  }
+  return detail;
+}
+
+/**
+ * `regionDetail` as the JSON text the API sends: the points are the
+ * region's kept text (`RegionPoints.plotPointsText`, written out once, off
+ * the request thread for a large region) and only the rest is written per
+ * request. The same JSON value as `regionDetail`, keys in the same order.
+ */
+export async function regionDetailJson(
+  db: Queryable,
+  fit: Fit,
+  region: string,
+  participantsVisible: boolean,
+): Promise<string> {
+  const { detail, points } = await regionDetailOf(db, fit, region, participantsVisible);
+  if (!participantsVisible) return JSON.stringify(detail);
+  const entries = Object.entries(detail);
+  const at = entries.findIndex(([key]) => key === "points");
+  // An object's members as JSON text without its braces ("" when it has none written).
+  const members = (part: [string, unknown][]) =>
+    JSON.stringify(Object.fromEntries(part)).slice(1, -1);
+  const parts = [
+    members(entries.slice(0, at)),
+    `"points":${points.plotPointsText()}`,
+    members(entries.slice(at + 1)),
+  ];
+  return `{${parts.filter((part) => part.length > 0).join(",")}}`;
+}
+
+/** A region's detail with its points left null, and the region's points. */
+async function regionDetailOf(
+  db: Queryable,
+  fit: Fit,
+  region: string,
+  participantsVisible: boolean,
+): Promise<{ detail: RegionDetail; points: RegionPoints }> {
   const { summary, points, plot } = await regionParticipantRows(db, fit, region);
   const spec = specOfRecipe(fit.recipe);
   const result = fit.result as Record<string, unknown>;
@@ -753,8 +801,6 @@ export async function regionDetail(
   ];
   const flagCounts = { outlier: 0, leverage: 0, influence: 0 };
   for (let i = 0; i < points.n; i++) for (const f of points.flags(i)) flagCounts[f as Flag] += 1;
-  const plotPoints: RegionPlotPoint[] = [];
-  if (participantsVisible) for (let i = 0; i < points.n; i++) plotPoints.push(points.plotPoint(i));
   const levels =
     drawn?.groupMeans && spec.kind === "two-group"
       ? drawn.groupMeans.map((g) => g.label)
@@ -782,7 +828,7 @@ export async function regionDetail(
   const [shown] = (
     await withAttenuation(db, fit, [participantsVisible ? summary : withoutParticipantIds(summary)])
   ).regions;
-  return {
+  const detail: RegionDetail = {
     fitId: fit.id,
     region,
     kind: spec.kind,
@@ -799,7 +845,7 @@ export async function regionDetail(
     },
     flagCounts,
     participantsVisible,
-    points: participantsVisible ? plotPoints : null,
+    points: null,
     setAside: participantsVisible ? setAside : null,
     band: drawn?.band ?? null,
     groupMeans: drawn?.groupMeans ?? null,
@@ -808,6 +854,7 @@ export async function regionDetail(
     leaveOneOut: shown.leaveOneOut ?? null,
     notes,
   };
+  return { detail, points };
 }
 
 /**

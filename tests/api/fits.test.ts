@@ -15,7 +15,7 @@ import type { FitJobs } from "../../server/jobs/fit-jobs";
 import { createFitJobs } from "../../server/services/fit-store";
 import { currentVersions } from "../../server/services/datasets";
 import { createRng } from "../../server/stats/rng";
-import { REGION_DETAIL_KEYS, loadFitView } from "../../server/services/fits";
+import { REGION_DETAIL_KEYS, loadFitView, regionDetail } from "../../server/services/fits";
 import { createTestApp, signInByEmail, type TestApp } from "./helpers";
 
 let t: TestApp;
@@ -623,6 +623,10 @@ describe("region detail, set-aside and preview", () => {
       d.result.permutation.rearrangements,
     );
     expect(d.groupMeans).toBeNull();
+    // Sent with the points as the region's kept text: the very JSON of the object form, key for key.
+    const [row] = await t.db.select().from(fits).where(eq(fits.id, fitId));
+    expect(res.text).toBe(JSON.stringify(await regionDetail(t.db, row, "L_dlpfc", true)));
+    expect(res.headers["content-type"]).toBe("application/json; charset=utf-8");
     await as("viewer").get(`/api/fits/${fitId}/regions/nowhere`).expect(404);
   });
 

@@ -3,7 +3,8 @@
  * and their decoding in a worker thread (server/jobs/region-read-jobs.ts):
  * each point is exactly the engine's diagnostics joined by participant id
  * with the plot's x, group and y, whatever form the rows were stored in,
- * and the thread gives the same columns as decoding in place.
+ * and the thread gives the same columns as decoding in place, with the
+ * plot points written out as the region detail sends them.
  */
 import { afterAll, describe, expect, it } from "vitest";
 import {
@@ -178,7 +179,16 @@ describe("reading regions in a worker thread", () => {
     });
     const texts = [encodeRegionRows(rows), JSON.stringify(plot)] as const;
     const threaded = await jobs.decode(...texts);
-    expect(threaded).toStrictEqual(decodeRegionPoints(...texts));
+    const inPlace = decodeRegionPoints(...texts);
+    // The thread also writes out the plot points, as the region detail sends them.
+    const points = new RegionPoints(inPlace);
+    const expected = JSON.stringify(
+      Array.from({ length: points.n }, (_, i) => points.plotPoint(i)),
+    );
+    expect(inPlace.pointsText).toBeNull();
+    expect(points.plotPointsText()).toBe(expected);
+    expect(threaded).toStrictEqual({ ...inPlace, pointsText: expected });
+    expect(new RegionPoints(threaded).plotPointsText()).toBe(expected);
     expect(threaded.numbers.leverage).toBeInstanceOf(Float64Array);
   });
 
