@@ -62,7 +62,7 @@ import {
   mergeTask,
   partCount,
   type RegionChunkSetup,
-  regionChunkSetups,
+  regionChunkSetup,
   type RowsPart,
   rowsMark,
   rowsParts,
@@ -307,26 +307,41 @@ export class FitWorker {
     }
     this.plans.set(fitId, Promise.resolve(plan));
     await recordPlan(this.db, fitId, partCount(plan), startedAt);
-    const parts = rowsParts(plan);
+    const boss = this.boss as PgBoss;
+    const sendChunks = async (from: number, to: number) => {
+      await boss.insert(
+        Array.from({ length: to - from }, (_, k) => ({
+          name: CHUNK_QUEUE,
+          data: { fitId, chunk: from + k } satisfies ChunkJobData,
+        })),
+      );
+      this.wake(CHUNK_QUEUE);
+    };
     if (plan.kind === "permutation") {
       await storeChunk(this.db, fitId, splitMark(plan), this.id, new Date());
-      // Stored before the chunks are sent, so that no other worker plans the fit again.
-      const setups = regionChunkSetups(plan);
-      await storeSetups(this.db, fitId, setups);
-      for (const setup of setups) this.keepSetup(fitId, setup);
+      // Each region chunk's setup is stored before its chunks are sent, so that no other worker
+      // plans the fit again, and its chunks are sent at once: at biobank size a setup is tens of
+      // megabytes, and the first chunks need not wait for the others' storing.
+      for (let r = 0; r < plan.regionChunks.length; r++) {
+        const setup = regionChunkSetup(plan, r);
+        await storeSetups(this.db, fitId, [setup]);
+        this.keepSetup(fitId, setup);
+        await sendChunks(setup.chunkFrom, setup.chunkTo);
+        if (r === 0) await this.sendRowsParts(fitId, plan);
+      }
+    } else {
+      await sendChunks(0, plan.chunks);
+      await this.sendRowsParts(fitId, plan);
     }
-    const boss = this.boss as PgBoss;
-    await boss.insert([
-      ...Array.from({ length: plan.chunks }, (_, chunk) => ({
-        name: CHUNK_QUEUE,
-        data: { fitId, chunk } satisfies ChunkJobData,
-      })),
-      ...parts.map((part) => ({
-        name: ROWS_QUEUE,
-        data: { fitId, ...part } satisfies RowsJobData,
-      })),
-    ]);
-    this.wake(CHUNK_QUEUE);
+  }
+
+  /** Sends the jobs of a fit's parts of the regions before the test (none unless it is a split permutation test). */
+  private async sendRowsParts(fitId: string, plan: FitChunks): Promise<void> {
+    const parts = rowsParts(plan);
+    if (parts.length === 0) return;
+    await (this.boss as PgBoss).insert(
+      parts.map((part) => ({ name: ROWS_QUEUE, data: { fitId, ...part } satisfies RowsJobData })),
+    );
     this.wake(ROWS_QUEUE);
   }
 
