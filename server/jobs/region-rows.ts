@@ -71,16 +71,24 @@ export function encodeRegionRows(rows: readonly ParticipantDiagnostics[]): strin
  */
 export function encodeParticipantRows(rows: ParticipantRows): string {
   const names = rows.names();
-  const fields: Record<string, Column> = {};
+  const fields: Record<string, WrittenColumn> = {};
   for (const name of names) fields[name] = fieldColumn(rows.field(name), rows.n);
   return layoutText(rows.n, names, fields, {});
 }
 
+/** A column about to be written: a stored form, or the JSON text of an array column already written. */
+type WrittenColumn =
+  | unknown[]
+  | { f64: string }
+  | { json: string }
+  | { object: Record<string, WrittenColumn> };
+
 /** A field's stored form, as `encodeColumn` gives it for the same values with none missing. */
-function fieldColumn(column: FieldColumn, n: number): Column {
+function fieldColumn(column: FieldColumn, n: number): WrittenColumn {
   if ("values" in column) return encodeColumn(column.values, new Uint8Array(n));
+  if ("json" in column) return column;
   if ("object" in column) {
-    const object: Record<string, Column> = {};
+    const object: Record<string, WrittenColumn> = {};
     for (const { key, column: inner } of column.object) object[key] = fieldColumn(inner, n);
     return { object };
   }
@@ -99,7 +107,7 @@ function fieldColumn(column: FieldColumn, n: number): Column {
 function layoutText(
   n: number,
   names: readonly string[],
-  fields: Record<string, Column>,
+  fields: Record<string, WrittenColumn>,
   absent: Record<string, number[]>,
 ): string {
   const fieldsText = names.map((name) => `${JSON.stringify(name)}:${columnText(fields[name])}`);
@@ -108,8 +116,9 @@ function layoutText(
 }
 
 /** JSON.stringify(column), with a column of doubles' base64 put in as it is. */
-function columnText(column: Column): string {
+function columnText(column: WrittenColumn): string {
   if (Array.isArray(column)) return JSON.stringify(column);
+  if ("json" in column) return column.json;
   if ("f64" in column) return `{"f64":"${column.f64}"}`;
   const keys = Object.keys(column.object).map(
     (key) => `${JSON.stringify(key)}:${columnText(column.object[key])}`,

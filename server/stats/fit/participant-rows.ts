@@ -15,10 +15,15 @@ import type { ParticipantDiagnostics } from "../../../contract/spec";
 import { type DiagnosticColumns, flagsOf } from "../diagnostics";
 import { findNonFinite, nonFiniteError } from "./common";
 
-/** One field of every row: numbers (NaN for null where `nullable`), any values, or objects of one shape key by key. */
+/**
+ * One field of every row: numbers (NaN for null where `nullable`), any
+ * values, the JSON text of the array of its values (written without
+ * making them), or objects of one shape key by key.
+ */
 export type FieldColumn =
   | { numbers: Float64Array; nullable: boolean }
   | { values: unknown[] }
+  | { json: string }
   | { object: { key: string; column: FieldColumn }[] };
 
 export interface ParticipantRows {
@@ -100,8 +105,13 @@ export function diagnosedRows(d: DiagnosedRegion): ParticipantRows {
         return numbers(c.externalStudentized, true);
       case "cooksDistance":
         return numbers(c.cooksDistance, true);
-      case "flags":
-        return { values: Array.from(c.flags, flagsOf) };
+      case "flags": {
+        // Eight possible lists, each written once.
+        const texts = Array.from({ length: 8 }, (_, bits) => JSON.stringify(flagsOf(bits)));
+        const parts = new Array<string>(n);
+        for (let i = 0; i < n; i++) parts[i] = texts[c.flags[i]];
+        return { json: `[${parts.join(",")}]` };
+      }
       case "internalStudentizedResidual":
         return numbers(c.internalStudentized, true);
       case "dffits":
@@ -145,19 +155,29 @@ export function diagnosedRows(d: DiagnosedRegion): ParticipantRows {
     ["fitted", d.fitted, false],
     ["residual", d.residual, false],
   ];
-  const bad = (v: number, nullable: boolean) =>
-    !(Number.isFinite(v) || (nullable && Number.isNaN(v)));
+  // The earliest row with a bad number, and in it the first field in a row's order: each field
+  // scanned on its own up to the best row found so far (a later field wins only an earlier row).
   const firstNonFinite = (): string | null => {
-    for (let i = 0; i < n; i++) {
-      for (const [name, values, nullable] of checked)
-        if (bad(values[i], nullable)) return `[${i}].${name}`;
-      if (c.hasDfbetas[i])
-        for (let j = 0; j < p; j++)
-          if (bad(c.dfbetas[i * p + j], true)) return `[${i}].dfbetas.${names[j]}`;
-      for (const [name, values, nullable] of after)
-        if (bad(values[i], nullable)) return `[${i}].${name}`;
+    let row = n;
+    let at = "";
+    const scan = ([name, values, nullable]: NumericField) => {
+      for (let i = 0; i < row; i++) {
+        const v = values[i];
+        if (!(Number.isFinite(v) || (nullable && Number.isNaN(v)))) {
+          row = i;
+          at = name;
+          return;
+        }
+      }
+    };
+    for (const field of checked) scan(field);
+    const dfbetasAt = firstInfinite(c.dfbetas, c.hasDfbetas, p, row);
+    if (dfbetasAt !== null) {
+      row = dfbetasAt.row;
+      at = `dfbetas.${names[dfbetasAt.column]}`;
     }
-    return null;
+    for (const field of after) scan(field);
+    return row < n ? `[${row}].${at}` : null;
   };
   return {
     region: d.region,
@@ -169,6 +189,23 @@ export function diagnosedRows(d: DiagnosedRegion): ParticipantRows {
     names: () => (n === 0 ? [] : Object.keys(row(0)).filter((name) => name !== "region")),
     field,
   };
+}
+
+/** The first ±Infinity among the rows before `rows` that have DFBETAS (NaN stands for null). */
+function firstInfinite(
+  values: Float64Array,
+  has: Uint8Array,
+  p: number,
+  rows: number,
+): { row: number; column: number } | null {
+  for (let i = 0; i < rows; i++) {
+    if (!has[i]) continue;
+    for (let j = 0; j < p; j++) {
+      const v = values[i * p + j];
+      if (!(Number.isFinite(v) || Number.isNaN(v))) return { row: i, column: j };
+    }
+  }
+  return null;
 }
 
 function rowsField(n: number, at: (i: number) => unknown): unknown[] {

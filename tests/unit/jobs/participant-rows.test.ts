@@ -132,6 +132,7 @@ describe("a region's rows by column", () => {
     const qr = qrDecompose(x, 5, 2, ["(intercept)", "x"]);
     const fit = solveLinearModel(qr, y);
     const fitted = Float64Array.from(fit.fitted);
+    const residual = Float64Array.from(fit.residuals);
     const rows = diagnosedRows({
       region: "r",
       ids: ["a", "b", "c", "d", "e"],
@@ -139,12 +140,26 @@ describe("a region's rows by column", () => {
       coefficientNames: ["(intercept)", "x"],
       value: y,
       fitted,
-      residual: fit.residuals,
+      residual,
     });
-    expect(() => assertFiniteRows(rows, "rows")).not.toThrow();
+    const firstBad = () => {
+      try {
+        assertFiniteRows(rows, "rows");
+        return null;
+      } catch (e) {
+        return (e as Error).message.replace(
+          "internal: the fit produced a non-finite number at ",
+          "",
+        );
+      }
+    };
+    expect(firstBad()).toBeNull();
+    // The earliest row first, then the first field in a row's order (fitted before residual).
     fitted[3] = Number.POSITIVE_INFINITY;
-    expect(() => assertFiniteRows(rows, "rows")).toThrow(
-      "internal: the fit produced a non-finite number at rows[3].fitted",
-    );
+    expect(firstBad()).toBe("rows[3].fitted");
+    residual[3] = Number.NaN;
+    expect(firstBad()).toBe("rows[3].fitted");
+    residual[1] = Number.NEGATIVE_INFINITY;
+    expect(firstBad()).toBe("rows[1].residual");
   });
 });
