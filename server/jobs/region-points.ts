@@ -19,6 +19,7 @@ import {
   type RegionPlotPoint,
 } from "../../contract/views/fits";
 import { deepFreeze } from "../../db/read-cache";
+import { nullIfNaN } from "../stats/diagnostics";
 import { decodeRegionColumns, decodeRegionPlot } from "./region-rows";
 
 /** The plot data besides its points: what the region detail draws around them. */
@@ -29,7 +30,6 @@ const numberFields = participantDiagnosticNumbers;
 type NumberField = (typeof numberFields)[number];
 
 const noFlags: readonly string[] = Object.freeze([]);
-const orNull = (v: number): number | null => (Number.isNaN(v) ? null : v);
 
 /**
  * A region's points as plain columns: what decoding makes, in a worker
@@ -169,16 +169,16 @@ export class RegionPoints {
     const d = c.numbers;
     return {
       participant: c.ids[i],
-      x: orNull(c.xs[i]),
+      x: nullIfNaN(c.xs[i]),
       group: c.groups[i],
       y: c.ys[i],
-      fitted: orNull(d.fitted[i]),
-      residual: orNull(d.residual[i]),
-      leverage: orNull(d.leverage[i]),
-      studentizedResidual: orNull(d.studentizedResidual[i]),
-      cooksDistance: orNull(d.cooksDistance[i]),
-      dffits: orNull(d.dffits[i]),
-      mahalanobis: orNull(d.mahalanobis[i]),
+      fitted: nullIfNaN(d.fitted[i]),
+      residual: nullIfNaN(d.residual[i]),
+      leverage: nullIfNaN(d.leverage[i]),
+      studentizedResidual: nullIfNaN(d.studentizedResidual[i]),
+      cooksDistance: nullIfNaN(d.cooksDistance[i]),
+      dffits: nullIfNaN(d.dffits[i]),
+      mahalanobis: nullIfNaN(d.mahalanobis[i]),
       flags: this.flagLists[i] as string[],
     };
   }
@@ -203,12 +203,12 @@ export class RegionPoints {
     const d = c.numbers;
     return {
       participant: c.ids[i],
-      x: orNull(c.xs[i]),
+      x: nullIfNaN(c.xs[i]),
       group: c.groups[i],
       y: c.ys[i],
-      leverage: orNull(d.leverage[i]),
-      studentizedResidual: orNull(d.studentizedResidual[i]),
-      cooksDistance: orNull(d.cooksDistance[i]),
+      leverage: nullIfNaN(d.leverage[i]),
+      studentizedResidual: nullIfNaN(d.studentizedResidual[i]),
+      cooksDistance: nullIfNaN(d.cooksDistance[i]),
       flags: this.flagLists[i] as string[],
     };
   }

@@ -32,6 +32,7 @@
  * detail. Cost O(rows × fields).
  */
 import type { ParticipantDiagnostics } from "../../contract/spec";
+import { nullIfNaN } from "../stats/diagnostics";
 import type { FieldColumn, ParticipantRows } from "../stats/fit/participant-rows";
 import type { PlotPoint, RegionPlot } from "../../contract/views/fits";
 
@@ -94,8 +95,7 @@ function fieldColumn(column: FieldColumn, n: number): WrittenColumn {
   }
   const { numbers, nullable } = column;
   // A null among numbers makes the column a plain array (NaN stands for null where nullable).
-  if (nullable && numbers.some(Number.isNaN))
-    return Array.from(numbers, (v) => (Number.isNaN(v) ? null : v));
+  if (nullable && numbers.some(Number.isNaN)) return Array.from(numbers, nullIfNaN);
   return { f64: toLittleEndianBytes(numbers).toString("base64") };
 }
 

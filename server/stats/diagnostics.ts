@@ -115,7 +115,8 @@ export function flagsOf(bits: number): Flag[] {
   return flags;
 }
 
-const orNull = (v: number): number | null => (Number.isNaN(v) ? null : v);
+/** A number of a column where NaN stands for null, as a value (null for NaN). */
+export const nullIfNaN = (v: number): number | null => (Number.isNaN(v) ? null : v);
 
 /**
  * Diagnostics for every row of a fit. `interceptColumn` is the index of the
@@ -133,14 +134,14 @@ export function regressionDiagnostics(
     let dfbetas: (number | null)[] | null = null;
     if (c.hasDfbetas[i]) {
       dfbetas = [];
-      for (let j = 0; j < p; j++) dfbetas.push(orNull(c.dfbetas[i * p + j]));
+      for (let j = 0; j < p; j++) dfbetas.push(nullIfNaN(c.dfbetas[i * p + j]));
     }
     rows.push({
       leverage: c.leverage[i],
-      internalStudentized: orNull(c.internalStudentized[i]),
-      externalStudentized: orNull(c.externalStudentized[i]),
-      cooksDistance: orNull(c.cooksDistance[i]),
-      dffits: orNull(c.dffits[i]),
+      internalStudentized: nullIfNaN(c.internalStudentized[i]),
+      externalStudentized: nullIfNaN(c.externalStudentized[i]),
+      cooksDistance: nullIfNaN(c.cooksDistance[i]),
+      dffits: nullIfNaN(c.dffits[i]),
       dfbetas,
       mahalanobis: c.mahalanobis ? c.mahalanobis[i] : null,
       flags: flagsOf(c.flags[i]),

@@ -12,7 +12,7 @@
  * The fields, and their order in a row, live here only.
  */
 import type { ParticipantDiagnostics } from "../../../contract/spec";
-import { type DiagnosticColumns, flagsOf } from "../diagnostics";
+import { type DiagnosticColumns, flagsOf, nullIfNaN } from "../diagnostics";
 import { findNonFinite, nonFiniteError } from "./common";
 
 /**
@@ -59,8 +59,6 @@ export interface DiagnosedRegion {
   residual: ArrayLike<number>;
 }
 
-const orNull = (v: number): number | null => (Number.isNaN(v) ? null : v);
-
 /** A numeric field: its name, every row's value, and whether NaN stands for null there. */
 type NumericField = [name: string, values: ArrayLike<number>, nullable: boolean];
 
@@ -72,18 +70,18 @@ export function diagnosedRows(d: DiagnosedRegion): ParticipantRows {
   const dfbetasOf = (i: number): Record<string, number | null> | null => {
     if (!c.hasDfbetas[i]) return null;
     const out: Record<string, number | null> = {};
-    for (let j = 0; j < p; j++) out[names[j]] = orNull(c.dfbetas[i * p + j]);
+    for (let j = 0; j < p; j++) out[names[j]] = nullIfNaN(c.dfbetas[i * p + j]);
     return out;
   };
   const row = (i: number): ParticipantDiagnostics => ({
     participant: d.ids[i],
     region: d.region,
     leverage: c.leverage[i],
-    studentizedResidual: orNull(c.externalStudentized[i]),
-    cooksDistance: orNull(c.cooksDistance[i]),
+    studentizedResidual: nullIfNaN(c.externalStudentized[i]),
+    cooksDistance: nullIfNaN(c.cooksDistance[i]),
     flags: flagsOf(c.flags[i]),
-    internalStudentizedResidual: orNull(c.internalStudentized[i]),
-    dffits: orNull(c.dffits[i]),
+    internalStudentizedResidual: nullIfNaN(c.internalStudentized[i]),
+    dffits: nullIfNaN(c.dffits[i]),
     dfbetas: dfbetasOf(i),
     mahalanobis: c.mahalanobis ? c.mahalanobis[i] : null,
     value: d.value[i],
