@@ -66,11 +66,13 @@ export function encodeRegionRows(rows: readonly ParticipantDiagnostics[]): strin
 }
 
 /**
- * One region's rows, as the diagnose stage hands them on (by column), as
- * stored text: the text `encodeRegionRows(rows.rows())` makes, without an
- * object per row. Every row has every field, so none is absent.
+ * One region's rows as stored text: the text `encodeRegionRows(rows.rows())`
+ * makes, written field by field — without an object per row — for rows the
+ * diagnose stage hands on by column (every row has every field, so none is
+ * absent).
  */
 export function encodeParticipantRows(rows: ParticipantRows): string {
+  if (!rows.byColumn) return encodeRegionRows(rows.rows());
   const names = rows.names();
   const fields: Record<string, WrittenColumn> = {};
   for (const name of names) fields[name] = fieldColumn(rows.field(name), rows.n);
@@ -96,7 +98,12 @@ function fieldColumn(column: FieldColumn, n: number): WrittenColumn {
   const { numbers, nullable } = column;
   // A null among numbers makes the column a plain array (NaN stands for null where nullable).
   if (nullable && numbers.some(Number.isNaN)) return Array.from(numbers, nullIfNaN);
-  return { f64: toLittleEndianBytes(numbers).toString("base64") };
+  return f64Column(numbers);
+}
+
+/** A column of doubles in its stored form: their little-endian bytes in base64. */
+function f64Column(doubles: Float64Array): { f64: string } {
+  return { f64: toLittleEndianBytes(doubles).toString("base64") };
 }
 
 /**
@@ -201,7 +208,7 @@ function encodeColumn(values: unknown[], missing: Uint8Array): Column {
   if (numbers) {
     const doubles = new Float64Array(values.length);
     for (let i = 0; i < values.length; i++) if (!missing[i]) doubles[i] = values[i] as number;
-    return { f64: toLittleEndianBytes(doubles).toString("base64") };
+    return f64Column(doubles);
   }
   // Objects only: stored key by key when every present one has the same fields in the same order.
   const shape = byKey(values, { rows: missing });

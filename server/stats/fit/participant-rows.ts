@@ -26,7 +26,10 @@ export type FieldColumn =
   | { json: string }
   | { object: { key: string; column: FieldColumn }[] };
 
-export interface ParticipantRows {
+/** A region's rows: by column from the diagnose stage, or rows made as objects. */
+export type ParticipantRows = ColumnRows | ObjectRows;
+
+interface RowsCommon {
   region: string;
   n: number;
   /** the participants, in the rows' order */
@@ -35,16 +38,26 @@ export interface ParticipantRows {
   row(i: number): ParticipantDiagnostics;
   /** every row as the contract's object */
   rows(): ParticipantDiagnostics[];
-  /** field names in a row's order (without `region`) */
-  names(): string[];
-  /** field `name` of every row */
-  field(name: string): FieldColumn;
   /**
    * The first number that is not finite, in row order then field order,
    * as a path from the rows (`[i].field…`), or null when there is none.
    * Nulls are not numbers.
    */
   firstNonFinite(): string | null;
+}
+
+/** Rows the diagnose stage made, by column: every row has every field. */
+export interface ColumnRows extends RowsCommon {
+  byColumn: true;
+  /** field names in a row's order (without `region`) */
+  names(): string[];
+  /** field `name` of every row */
+  field(name: string): FieldColumn;
+}
+
+/** Rows made as objects (a kind without diagnostics): stored as objects are. */
+export interface ObjectRows extends RowsCommon {
+  byColumn: false;
 }
 
 /** What the diagnose stage has of a region's rows: its diagnostics, the design's column names and the values. */
@@ -63,7 +76,7 @@ export interface DiagnosedRegion {
 type NumericField = [name: string, values: ArrayLike<number>, nullable: boolean];
 
 /** A diagnosed region's rows, by column. */
-export function diagnosedRows(d: DiagnosedRegion): ParticipantRows {
+export function diagnosedRows(d: DiagnosedRegion): ColumnRows {
   const c = d.diagnostics;
   const names = d.coefficientNames;
   const p = names.length;
@@ -178,6 +191,7 @@ export function diagnosedRows(d: DiagnosedRegion): ParticipantRows {
     return row < n ? `[${row}].${at}` : null;
   };
   return {
+    byColumn: true,
     region: d.region,
     n,
     ids: d.ids,
@@ -213,25 +227,14 @@ function rowsField(n: number, at: (i: number) => unknown): unknown[] {
 }
 
 /** Rows made as objects (a kind without diagnostics, or rows read back), as `ParticipantRows`. */
-export function objectRows(region: string, rows: ParticipantDiagnostics[]): ParticipantRows {
+export function objectRows(region: string, rows: ParticipantDiagnostics[]): ObjectRows {
   return {
     region,
     n: rows.length,
     ids: rows.map((r) => r.participant),
     row: (i) => rows[i],
     rows: () => rows,
-    names: () => {
-      const names: string[] = [];
-      const seen = new Set<string>();
-      for (const r of rows)
-        for (const name in r)
-          if (name !== "region" && !seen.has(name)) {
-            seen.add(name);
-            names.push(name);
-          }
-      return names;
-    },
-    field: (name) => ({ values: rows.map((r) => r[name]) }),
+    byColumn: false,
     firstNonFinite: () => findNonFinite(rows),
   };
 }
