@@ -36,24 +36,17 @@ import type { LinearModelFit, QrDecomposition } from "./linear-model";
 /** Leverage within this distance of 1 counts as 1. */
 export const LEVERAGE_ONE_TOLERANCE = 1e-8;
 
-export interface DiagnosticRow {
-  leverage: number;
-  internalStudentized: number | null;
-  externalStudentized: number | null;
-  cooksDistance: number | null;
-  dffits: number | null;
-  /** One value per design column; null where undefined. */
-  dfbetas: (number | null)[] | null;
-  /** Squared Mahalanobis distance of the predictor values (designs with an intercept). */
-  mahalanobis: number | null;
-  flags: Flag[];
+/** A variance inflation factor per non-intercept column (null when the design has no intercept or only one other column). */
+export interface ColumnVif {
+  column: string;
+  value: number | null;
 }
 
-export interface DiagnosticsResult {
-  rows: DiagnosticRow[];
-  /** VIF for every non-intercept column (null when the design has no intercept or only one other column). */
-  vif: { column: string; value: number | null }[];
-  thresholds: { outlierT: number | null; leverage: number; cooksDistance: number };
+/** The cut-offs of the three flags. */
+export interface FlagThresholds {
+  outlierT: number | null;
+  leverage: number;
+  cooksDistance: number;
 }
 
 const finiteOrNaN = (v: number): number => (Number.isFinite(v) ? v : Number.NaN);
@@ -66,11 +59,7 @@ const finiteOrNull = (v: number): number | null => (Number.isFinite(v) ? v : nul
  * n − p − 1 < 1), the leverage cut 2p/n and the Cook's distance cut 4/n.
  * The plots draw these same values. Cost O(1).
  */
-export function flagThresholds(
-  n: number,
-  p: number,
-  alpha = 0.05,
-): DiagnosticsResult["thresholds"] {
+export function flagThresholds(n: number, p: number, alpha = 0.05): FlagThresholds {
   const df = n - p;
   return {
     outlierT: df - 1 > 0 ? studentTQuantile(1 - alpha / (2 * n), df - 1) : null,
@@ -87,7 +76,7 @@ export const FLAG_BIT: Readonly<Record<Flag, number>> = { outlier: 1, leverage: 
 
 /**
  * The diagnostics of every row as columns (no object per row): NaN stands
- * for null (a value undefined there, as in `DiagnosticRow`).
+ * for null (a value undefined there: see this module's header).
  */
 export interface DiagnosticColumns {
   n: number;
@@ -104,8 +93,8 @@ export interface DiagnosticColumns {
   mahalanobis: Float64Array | null;
   /** per row, the OR of the `FLAG_BIT`s of its flags */
   flags: Uint8Array;
-  vif: DiagnosticsResult["vif"];
-  thresholds: DiagnosticsResult["thresholds"];
+  vif: ColumnVif[];
+  thresholds: FlagThresholds;
 }
 
 /** A row's flags from its bits, in the order of `FLAGS`. */
@@ -119,40 +108,8 @@ export function flagsOf(bits: number): Flag[] {
 export const nullIfNaN = (v: number): number | null => (Number.isNaN(v) ? null : v);
 
 /**
- * Diagnostics for every row of a fit. `interceptColumn` is the index of the
- * constant column, or -1 when there is none. Cost O(n·p²).
- */
-export function regressionDiagnostics(
-  qr: QrDecomposition,
-  fit: LinearModelFit,
-  options: { interceptColumn: number; alpha?: number },
-): DiagnosticsResult {
-  const c = regressionDiagnosticColumns(qr, fit, options);
-  const { p } = c;
-  const rows: DiagnosticRow[] = [];
-  for (let i = 0; i < c.n; i++) {
-    let dfbetas: (number | null)[] | null = null;
-    if (c.hasDfbetas[i]) {
-      dfbetas = [];
-      for (let j = 0; j < p; j++) dfbetas.push(nullIfNaN(c.dfbetas[i * p + j]));
-    }
-    rows.push({
-      leverage: c.leverage[i],
-      internalStudentized: nullIfNaN(c.internalStudentized[i]),
-      externalStudentized: nullIfNaN(c.externalStudentized[i]),
-      cooksDistance: nullIfNaN(c.cooksDistance[i]),
-      dffits: nullIfNaN(c.dffits[i]),
-      dfbetas,
-      mahalanobis: c.mahalanobis ? c.mahalanobis[i] : null,
-      flags: flagsOf(c.flags[i]),
-    });
-  }
-  return { rows, vif: c.vif, thresholds: c.thresholds };
-}
-
-/**
- * `regressionDiagnostics` as columns, for fits of many participants: the
- * same numbers, with NaN for null. Cost O(n·p²).
+ * Diagnostics for every row of a fit, as columns. `interceptColumn` is the
+ * index of the constant column, or -1 when there is none. Cost O(n·p²).
  */
 export function regressionDiagnosticColumns(
   qr: QrDecomposition,
@@ -245,9 +202,9 @@ function varianceInflation(
   qr: QrDecomposition,
   interceptColumn: number,
   cDiag: Float64Array,
-): DiagnosticsResult["vif"] {
+): ColumnVif[] {
   const { n, p, q, r } = qr;
-  const out: DiagnosticsResult["vif"] = [];
+  const out: ColumnVif[] = [];
   for (let j = 0; j < p; j++) {
     if (j === interceptColumn) continue;
     if (interceptColumn < 0 || p < 3) {

@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { flagThresholds, regressionDiagnostics } from "../../../server/stats/diagnostics";
+import { flagThresholds } from "../../../server/stats/diagnostics";
+import { regressionDiagnostics } from "../../support/diagnostic-rows";
 import { fitLinearModel } from "../../../server/stats/linear-model";
 import { carsDist, carsSpeed, withIntercept } from "./reference-data";
 

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { buildDesign, treatmentCoding } from "../../../server/stats/design-matrix";
-import { regressionDiagnostics } from "../../../server/stats/diagnostics";
+import { regressionDiagnostics } from "../../support/diagnostic-rows";
 import { StatsError } from "../../../server/stats/errors";
 import { fitLinearModel, unscaledCovariance } from "../../../server/stats/linear-model";
 import {
