@@ -41,6 +41,24 @@ export function valuesAt(source: ArrayLike<number | null>, rows: readonly number
   return out;
 }
 
+/**
+ * A key naming a set of participant rows (the indices joined), for caches
+ * of what depends only on the rows (a decomposition, a block of regions).
+ * Kept for a frozen array (the rows regions share, prepare.ts), which is
+ * asked for once per region.
+ */
+export function rowsKey(rows: readonly number[]): string {
+  if (!Object.isFrozen(rows)) return rows.join(",");
+  let key = rowsKeys.get(rows);
+  if (key === undefined) {
+    key = rows.join(",");
+    rowsKeys.set(rows, key);
+  }
+  return key;
+}
+
+const rowsKeys = new WeakMap<readonly number[], string>();
+
 /** Confidence level of every interval in a fit. */
 export const FIT_LEVEL = 0.95;
 

@@ -12,14 +12,14 @@ import { estimateRegion } from "../fit-methods";
 import { type QrDecomposition, qrDecompose } from "../linear-model";
 import { weightedLinearModel } from "../meta-regression";
 import type { Estimator, Kind, RegionData } from "../region-data";
-import { FIT_LEVEL, valuesAt } from "./common";
-import { type Prepared, regionRows } from "./prepare";
+import { FIT_LEVEL, rowsKey, valuesAt } from "./common";
+import { isSharedRows, type Prepared, regionRows } from "./prepare";
 
 /** One region after the estimate stage: what the diagnose and infer stages work on. */
 export interface RegionWork {
   r: number;
   name: string;
-  rows: number[];
+  rows: readonly number[];
   data: RegionData;
   qr: QrDecomposition | null;
   result: RegionResult;
@@ -40,7 +40,7 @@ export function estimateRegionWork(
   const s = prep.spec;
   const { name, rows, data: regionData } = regionDesign(prep, r);
   const { design } = regionData;
-  const key = `${rows.join(",")}`;
+  const key = rowsKey(rows);
   let qr: QrDecomposition | null = qrCache.get(key) ?? null;
   if (!qr && design.n > design.p) {
     qr = qrDecompose(design.x, design.n, design.p, design.columnNames);
@@ -115,16 +115,30 @@ export function regionDesign(
  * the number of covariate columns, the predictor or group values and, for an
  * association with a group, the group indicator.
  */
-export function designFor(
-  prep: Prepared,
-  rows: readonly number[],
-): {
+export function designFor(prep: Prepared, rows: readonly number[]): RegionDesignOf {
+  if (!isSharedRows(prep, rows)) return buildRegionDesign(prep, rows);
+  // Regions on all the eligible participants share one design (read only, as every design is).
+  let shared = sharedDesigns.get(rows);
+  if (!shared) {
+    shared = buildRegionDesign(prep, rows);
+    sharedDesigns.set(rows, shared);
+  }
+  return shared;
+}
+
+/** What `designFor` gives. */
+export interface RegionDesignOf {
   design: Design;
   tested: number;
   covariateColumns: number;
   x: Float64Array | null;
   groupIndicator: Float64Array | null;
-} {
+}
+
+/** The design of the shared rows of a prepared fit (`isSharedRows`), built once. */
+const sharedDesigns = new WeakMap<readonly number[], RegionDesignOf>();
+
+function buildRegionDesign(prep: Prepared, rows: readonly number[]): RegionDesignOf {
   const { spec, predictor, group, levels, covariates } = prep;
   const n = rows.length;
   const terms: DesignTerm[] = [{ name: "(intercept)", kind: "intercept" }];
@@ -196,7 +210,12 @@ export function designFor(
 }
 
 /** The result of a region weighted by first-level standard errors: the weighted meta-regression with τ² (meta-regression.ts). */
-function weightedRegion(prep: Prepared, r: number, rows: number[], d: RegionData): RegionResult {
+function weightedRegion(
+  prep: Prepared,
+  r: number,
+  rows: readonly number[],
+  d: RegionData,
+): RegionResult {
   const se = prep.data.standardErrors?.[r] as Float64Array;
   const p = d.design.p;
   const X: number[][] = [];

@@ -25,7 +25,7 @@ import type { RearrangementDraw } from "../permutation-kernel";
 import { permutationStatistic } from "../permutation-statistic";
 import { extremeThreshold } from "../rearrangements";
 import { createRng } from "../rng";
-import { FIT_LEVEL, type RunFitOptions, inRegion } from "./common";
+import { FIT_LEVEL, type RunFitOptions, inRegion, rowsKey } from "./common";
 import type { RegionWork } from "./estimate";
 import { correctionNote, maxTNote, permutationNote, sharedRearrangementNote } from "./notes";
 import type { Prepared } from "./prepare";
@@ -181,7 +181,7 @@ export function linearPermutationInput<W extends PermutationWork>(
   const position = sharedPositions(prep, works);
   const groups = new Map<string, W[]>();
   for (const w of works) {
-    const key = w.rows.join(",");
+    const key = rowsKey(w.rows);
     const list = groups.get(key) ?? [];
     list.push(w);
     groups.set(key, list);

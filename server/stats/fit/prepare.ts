@@ -212,10 +212,11 @@ function resolve(
  * (fit-rules.ts) and, for two groups, the minimum per group. Throws
  * StatsError otherwise.
  */
-export function regionRows(prep: Prepared, r: number): number[] {
+export function regionRows(prep: Prepared, r: number): readonly number[] {
   const s = prep.spec;
   const kind = s.kind as Kind;
   const rows = rowsFor(prep, r);
+  if (checkedShared.has(rows)) return rows;
   const min = minimumParticipants(kind, s.estimator);
   if (rows.length < min) fail(`too few participants (n = ${rows.length}; at least ${min} needed)`);
   if (kind === "two-group") {
@@ -229,8 +230,12 @@ export function regionRows(prep: Prepared, r: number): number[] {
         );
     }
   }
+  if (isSharedRows(prep, rows)) checkedShared.add(rows);
   return rows;
 }
+
+/** Shared rows (`eligibleRows`) that met the minimums once: they meet them for every region. */
+const checkedShared = new WeakSet<readonly number[]>();
 
 /** Reliability: per region the participants' values in every session (at least two participants). Throws StatsError otherwise. */
 export function sessionMatrix(prep: Prepared, r: number): number[][] {
@@ -336,21 +341,89 @@ export function predictionRows(prep: Prepared): number[] {
   return rows;
 }
 
-/** Participant indices used in region r (after set-aside and listwise deletion). */
-function rowsFor(prep: Prepared, r: number): number[] {
-  const { spec, data, predictor, group, levels, covariates, asideAll, asideRegion } = prep;
+/**
+ * The participants any region may use: not set aside from every region,
+ * with the tested term (predictor, a group level) and every covariate, in
+ * roster order. Computed once per prepared fit (a copy of `prep` computes
+ * its own) and frozen: a region that keeps all of them is given this very
+ * array, so that regions on the same participants share it (and their
+ * design, `designFor`).
+ */
+const eligibleOf = new WeakMap<Prepared, readonly number[]>();
+
+function eligibleRows(prep: Prepared): readonly number[] {
+  const known = eligibleOf.get(prep);
+  if (known) return known;
+  const { data, predictor, group, levels, covariates, asideAll } = prep;
+  const rows: number[] = [];
+  for (let i = 0; i < data.participants.length; i++) {
+    if (asideAll[i]) continue;
+    if (predictor) {
+      const v = predictor[i];
+      if (v === null || !Number.isFinite(v)) continue;
+    }
+    if (group && levels) {
+      const g = group[i];
+      if (g === null) continue;
+      if (g !== levels[0] && g !== levels[1]) continue;
+    }
+    let complete = true;
+    for (const c of covariates) {
+      if ("numeric" in c) {
+        const v = c.numeric[i];
+        if (v === null || !Number.isFinite(v)) complete = false;
+      } else if (c.categorical[i] === null) complete = false;
+    }
+    if (complete) rows.push(i);
+  }
+  Object.freeze(rows);
+  eligibleOf.set(prep, rows);
+  return rows;
+}
+
+/** True when `rows` are all of a prepared fit's eligible participants, as one shared array (see `eligibleRows`). */
+export function isSharedRows(prep: Prepared, rows: readonly number[]): boolean {
+  return eligibleOf.get(prep) === rows;
+}
+
+/**
+ * Participant indices used in region r (after set-aside and listwise
+ * deletion): the eligible participants (`eligibleRows`) with a value in r
+ * and not set aside there — the eligible array itself when that is all of
+ * them. Weighted fits walk every participant, as a participant with a
+ * value but no usable standard error fails the fit even when the model
+ * would leave it out for another reason.
+ */
+function rowsFor(prep: Prepared, r: number): readonly number[] {
+  const { spec, data } = prep;
+  const name = data.regions[r];
+  const aside = prep.asideRegion.get(name);
+  const values = data.values[r];
+  if (spec.weights === "first-level-se") return weightedRowsFor(prep, r);
+  const eligible = eligibleRows(prep);
+  const rows: number[] = [];
+  for (let k = 0; k < eligible.length; k++) {
+    const i = eligible[k];
+    if (aside?.has(i) || !Number.isFinite(values[i])) continue;
+    rows.push(i);
+  }
+  return rows.length === eligible.length ? eligible : rows;
+}
+
+/** `rowsFor` of a weighted fit: every participant with a value needs a usable standard error. */
+function weightedRowsFor(prep: Prepared, r: number): number[] {
+  const { data, predictor, group, levels, covariates, asideAll, asideRegion } = prep;
   const name = data.regions[r];
   const aside = asideRegion.get(name);
   const values = data.values[r];
-  const se = spec.weights === "first-level-se" ? (data.standardErrors?.[r] ?? null) : null;
-  if (spec.weights === "first-level-se" && !se)
-    fail(`weights: region '${name}' has no standard errors`);
+  const se = data.standardErrors?.[r] ?? null;
+  if (!se) fail(`weights: region '${name}' has no standard errors`);
   const rows: number[] = [];
   for (let i = 0; i < data.participants.length; i++) {
     if (asideAll[i] || aside?.has(i)) continue;
     if (!Number.isFinite(values[i])) continue;
     // Weighted fits refuse, never drop, a participant with a value but no usable standard error.
-    if (se && !(Number.isFinite(se[i]) && se[i] > 0)) {
+    if (!(Number.isFinite(se[i]) && se[i] > 0)) {
       fail(
         `participant '${data.participants[i]}' has a contrast value but no first-level standard error; weights 'first-level-se' need one for every participant with a value (add it, or set the participant aside)`,
       );
