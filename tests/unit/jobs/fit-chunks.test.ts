@@ -1,3 +1,4 @@
+import { MessageChannel } from "node:worker_threads";
 import { describe, expect, it } from "vitest";
 import { type FitData, modelSpecSchema } from "../../../contract/spec";
 import runChunkTask from "../../../server/jobs/chunk-task";
@@ -17,6 +18,8 @@ import {
   mergeOptions,
   mergeTask,
   partCount,
+  type RegionChunkSetup,
+  regionChunkSetup,
   regionChunkSetups,
   rowsMark,
   rowsParts,
@@ -26,6 +29,7 @@ import {
   transferablesOf,
 } from "../../../server/jobs/fit-chunks";
 import runPermutationTask from "../../../server/jobs/permutation-task";
+import { sliceBlocks } from "../../../server/stats/permutation-kernel";
 import { mergedLinearPermutationTest } from "../../../server/stats/permutation";
 import { createRng, normalDraw } from "../../../server/stats/rng";
 import { type FitSummary, runFit } from "../../../server/stats/run-fit";
@@ -133,6 +137,43 @@ describe("a fit's permutation test in chunks", () => {
     expect(() => setupChunkTask(setups[1], 2, control)).toThrow(
       "chunk 2 is not of region chunk 1 (chunks 3–5)",
     );
+  });
+
+  it("keeps each region chunk's setup once, in memory threads share, stored and read back alike", async () => {
+    const fit = chunkedFit(spec, data);
+    if (!fit) throw new Error("not split");
+    const made = regionChunkSetup(fit, 1);
+    // Made once per plan: every chunk of the region chunk posts the same arrays.
+    expect(regionChunkSetup(fit, 1)).toBe(made);
+    const arrays = (s: RegionChunkSetup) =>
+      s.blocks.flatMap((b) => [
+        b.residuals,
+        b.residualSquares,
+        b.observed,
+        b.plan.basis,
+        ...(b.members ? [b.members] : []),
+        ...(b.plan.groupOrder ? [b.plan.groupOrder] : []),
+      ]);
+    const read = deserializeSetup(serializeSetup(made));
+    for (const s of [made, read])
+      for (const a of arrays(s)) expect(a.buffer).toBeInstanceOf(SharedArrayBuffer);
+    // The same numbers as the plan's own blocks, and through the stored form.
+    const plain = sliceBlocks(fit.setup.blocks, 100, 200);
+    expect(arrays(made).map((a) => Array.from(a))).toEqual(
+      arrays({ ...made, blocks: plain }).map((a) => Array.from(a)),
+    );
+    expect(arrays(read).map((a) => Array.from(a))).toEqual(arrays(made).map((a) => Array.from(a)));
+    // Posted to another thread, the residuals are not copied: a write there is seen here.
+    const { port1, port2 } = new MessageChannel();
+    const residuals = made.blocks[0].residuals;
+    const seen = new Promise<Float64Array>((resolve) => port2.once("message", resolve));
+    port1.postMessage(residuals);
+    const posted = await seen;
+    port1.close();
+    const before = residuals[0];
+    posted[0] = before + 1;
+    expect(residuals[0]).toBe(before + 1);
+    posted[0] = before;
   });
 
   it("merged chunks move to the fit thread whole: every buffer once, none left behind", () => {
