@@ -32,7 +32,10 @@
  * and, in the same run right after the kernel and on the same thread, a
  * plain register-blocked reference loop of a chunk's multiply–adds (its
  * 100 regions, two regions × five regressors per pass) with the kernel's
- * share of its speed.
+ * share of its speed; the regions before the test's own computing on a fit
+ * thread (a part of 50 regions timed after a part of warm-up; storing not
+ * included), and the time not computing less that computing spread over
+ * the workers — what is left is the queue, storage and the merge.
  *
  * Needs Debian's postgresql (a throw-away server is started, as the tests
  * do). Data are invented by a seeded generator.
@@ -61,6 +64,8 @@ import { createFit } from "../../server/services/fits";
 import { PreviewStore } from "../../server/services/preview-store";
 import { createRng, normalDraw } from "../../server/stats/rng";
 import { queueDispatch } from "../../server/worker/fit-dispatch";
+import { MessageChannel } from "node:worker_threads";
+import type { FitTask, FitTaskOutcome } from "../../server/jobs/fit-task";
 import { startPostgresServer } from "../../tests/support/postgres-server";
 import type { KernelTask } from "../kernel-task";
 import { specOfRecipe } from "../../contract/recipe";
@@ -285,6 +290,39 @@ export default async function scaleBench(): Promise<void> {
     console.log(
       `reference loop (a chunk's ${REGION_BLOCK} regions × ${N.toLocaleString("en")} participants, two regions × five regressors per pass, one thread): ${refGflops.toFixed(2)} GFLOP/s; the kernel's chunks reach ${((100 * gflop) / computeSeconds / refGflops).toFixed(0)} % of it (target ≥ 85 %)`,
     );
+    // The regions before the test as a worker's fit thread computes them beside the chunks
+    // (estimates, diagnostics, plots, the rows' stored text; storing them is not included): a
+    // part of ROWS_PART_REGIONS regions timed on a fit thread after one part of warm-up.
+    const fitThread = workerPool("fit-task.ts", { minThreads: 1, maxThreads: 1 });
+    const rowsPart = async (from: number, to: number) => {
+      const channel = new MessageChannel();
+      channel.port1.on("message", () => {});
+      const start = performance.now();
+      const task: FitTask = {
+        spec: specOfRecipe(fitRow.recipe),
+        data,
+        port: channel.port2,
+        rows: "only",
+        regionRange: [from, to],
+        fullPriority: true,
+      };
+      const outcome = (await fitThread.run(task, {
+        transferList: [channel.port2],
+      })) as FitTaskOutcome;
+      const seconds = (performance.now() - start) / 1000;
+      channel.port1.close();
+      if (!outcome.ok)
+        throw new Error(`a part of the regions before the test failed: ${outcome.message}`);
+      return seconds;
+    };
+    const partCountOfRegions = Math.ceil(REGIONS / ROWS_PART_REGIONS);
+    await rowsPart(0, ROWS_PART_REGIONS);
+    const rowsSeconds =
+      (await rowsPart(ROWS_PART_REGIONS, 2 * ROWS_PART_REGIONS)) * partCountOfRegions;
+    await fitThread.destroy();
+    console.log(
+      `the regions before the test (estimates, diagnostics, plots, their rows' text; storing not included): ${((1000 * rowsSeconds) / REGIONS).toFixed(0)} ms per region on a fit thread, ${rowsSeconds.toFixed(1)} s for all ${REGIONS}`,
+    );
     // The same chunks two at a time on two threads (the chunk threads' own module, normal priority):
     // the kernel's per-core throughput when both cores compute, as two workers on this machine do.
     const pair = workerPool("chunk-task.ts", { minThreads: 2, maxThreads: 2 });
@@ -375,8 +413,10 @@ export default async function scaleBench(): Promise<void> {
       const kernelPerCore = gflop / (perCoreChunk * plan.chunks);
       const overhead = r.wall - (perCoreChunk * plan.chunks) / r.workers;
       const between = overhead - r.beforeFirst - r.mergeSeconds;
+      // Less the regions before the test's own computing, spread over the workers: what is left is queue, storage and merge.
+      const besides = overhead - rowsSeconds / r.workers;
       console.log(
-        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread${r.workers >= 2 ? `, ${((100 * perWorker) / kernelPerCore).toFixed(0)} % of its per-core throughput with both cores computing` : ""} · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s${r.tailChunk === null ? "" : ` · after them, ${r.tailCount} chunks at ${(1000 * r.tailChunk).toFixed(0)} ms per chunk and worker (${((100 * perCoreChunk) / r.tailChunk).toFixed(0)} % of the kernel's ${r.workers >= 2 ? "two-at-a-time" : "one-thread"} time)`} · each worker's first chunk stored at ${r.firstChunks.map((x) => `${x.toFixed(1)} s`).join(", ")} · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
+        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread${r.workers >= 2 ? `, ${((100 * perWorker) / kernelPerCore).toFixed(0)} % of its per-core throughput with both cores computing` : ""} · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s; less the regions before the test's own computing, ${(rowsSeconds / r.workers).toFixed(1)} s per worker: ${besides.toFixed(1)} s = ${((100 * besides) / r.wall).toFixed(1)} % for the queue, storing and the merge) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s${r.tailChunk === null ? "" : ` · after them, ${r.tailCount} chunks at ${(1000 * r.tailChunk).toFixed(0)} ms per chunk and worker (${((100 * perCoreChunk) / r.tailChunk).toFixed(0)} % of the kernel's ${r.workers >= 2 ? "two-at-a-time" : "one-thread"} time)`} · each worker's first chunk stored at ${r.firstChunks.map((x) => `${x.toFixed(1)} s`).join(", ")} · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
       );
     }
     console.log(`chunk rows stored: ${stored} (each chunk of each run once)`);
