@@ -59,6 +59,22 @@ function groupMean(label: string, y: readonly number[], level: number, notes: st
 }
 
 /**
+ * Each participant's position in the roster, made once per roster (a
+ * fit's regions share it: at 20,000 participants, making it again for
+ * each region was a sixth of the region's plot).
+ */
+function positionsOf(participants: readonly string[]): ReadonlyMap<string, number> {
+  let known = positions.get(participants);
+  if (!known) {
+    known = new Map(participants.map((id, i) => [id, i]));
+    positions.set(participants, known);
+  }
+  return known;
+}
+
+const positions = new WeakMap<readonly string[], ReadonlyMap<string, number>>();
+
+/**
  * Plot data of `region` for the participants in `included` (the fit's
  * participants there, in roster order).
  */
@@ -73,7 +89,7 @@ export function regionPlot(
   const gridPoints = options.gridPoints ?? BAND_GRID_POINTS;
   const r = data.regions.indexOf(region);
   if (r < 0) throw new StatsError(`regionPlot: unknown region '${region}'`);
-  const position = new Map(data.participants.map((id, i) => [id, i]));
+  const position = positionsOf(data.participants);
   const rows = included.map((id) => {
     const i = position.get(id);
     if (i === undefined) throw new StatsError(`regionPlot: unknown participant '${id}'`);
