@@ -318,6 +318,9 @@ export class FitWorker {
       this.wake(CHUNK_QUEUE);
     };
     if (plan.kind === "permutation") {
+      // The regions before the test need only the data: other workers start on them while the
+      // split test and the setups are stored.
+      await this.sendRowsParts(fitId, plan);
       await storeChunk(this.db, fitId, splitMark(plan), this.id, new Date());
       // Each region chunk's setup is stored before its chunks are sent, so that no other worker
       // plans the fit again, and its chunks are sent at once: at biobank size a setup is tens of
@@ -327,7 +330,6 @@ export class FitWorker {
         await storeSetups(this.db, fitId, [setup]);
         this.keepSetup(fitId, setup);
         await sendChunks(setup.chunkFrom, setup.chunkTo);
-        if (r === 0) await this.sendRowsParts(fitId, plan);
       }
     } else {
       await sendChunks(0, plan.chunks);
