@@ -62,6 +62,7 @@ import {
 } from "../stats/prediction/cross-validate";
 import type { CurveStatistics } from "../stats/specification-curve/joint";
 import type { ChunkTask } from "./chunk-task";
+import { sharedCopy } from "./shared-memory";
 import type { PermutationTask } from "./permutation-task";
 
 /** A fit whose permutation test is split: its prepared test and the chunk grid. */
@@ -295,15 +296,6 @@ export function regionChunkSetup(fit: ChunkedFit, regionChunk: number): RegionCh
 
 /** The region-chunk setups made of each plan (`regionChunkSetup`). */
 const setupsMade = new WeakMap<ChunkedFit, RegionChunkSetup[]>();
-
-/** `a` copied into memory the threads share (a typed array posted to a thread then shares it). */
-function sharedCopy<T extends Float64Array | Int32Array>(a: T): T {
-  if (a.buffer instanceof SharedArrayBuffer) return a;
-  const Typed = a.constructor as new (buffer: SharedArrayBuffer) => T;
-  const copy = new Typed(new SharedArrayBuffer(a.byteLength));
-  copy.set(a);
-  return copy;
-}
 
 /** A setup whose arrays live in shared memory (each block's plan copied once). Cost O(its size). */
 function inSharedMemory(setup: RegionChunkSetup): RegionChunkSetup {

@@ -16,7 +16,7 @@ import { specOfRecipe } from "../../contract/recipe";
 import { fitRegions, fits } from "../../db/schema";
 import { demoPeople } from "../../db/seed";
 import type { FitEvent, FitJobs } from "../../server/jobs/fit-jobs";
-import { FitDataCache, inputsOfFit } from "../../server/services/fit-inputs";
+import { buildFitInputs, FitDataCache, inputsOfFit } from "../../server/services/fit-inputs";
 import { runFit } from "../../server/stats/run-fit";
 import {
   createTestApp,
@@ -70,6 +70,25 @@ async function inOnePiece(row: typeof fits.$inferSelect) {
   const { participants: _, ...summary } = runFit(specOfRecipe(row.recipe), data);
   return JSON.parse(JSON.stringify(summary));
 }
+
+describe("a fit's data kept for its tasks", () => {
+  it("lives in shared memory, the numbers built from the stored versions", async () => {
+    await fitThroughApp("Accuracy, data in shared memory", {
+      kind: "association",
+      predictor: "accuracy",
+      inference: "parametric",
+    });
+    const [row] = await t.db.select().from(fits).limit(1);
+    const inputs = inputsOfFit(row);
+    const cached = await new FitDataCache(t.db).get(inputs);
+    const built = (await buildFitInputs(t.db, inputs)).data;
+    expect(cached.values.length).toBeGreaterThan(0);
+    for (const v of cached.values) expect(v.buffer).toBeInstanceOf(SharedArrayBuffer);
+    expect(cached.values.map((v) => Array.from(v))).toEqual(built.values.map((v) => Array.from(v)));
+    expect(cached.participants).toEqual(built.participants);
+    expect(cached.numericColumns).toEqual(built.numericColumns);
+  });
+});
 
 describe("split fits on the embedded path's chunk threads", () => {
   it("uses every core for chunks", () => {
