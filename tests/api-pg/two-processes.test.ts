@@ -91,6 +91,28 @@ async function waitForHealth(proc: Proc): Promise<void> {
   throw new Error(`server did not become healthy:\n${proc.output()}`);
 }
 
+const taken = new Set<number>();
+
+/**
+ * A web process on a port free a moment ago (never one given to another
+ * process of this file), healthy; started again on another port when the
+ * port was taken in between (it says so and exits).
+ */
+async function startServerOnFreePort(databaseUrl: string): Promise<Proc> {
+  for (let attempt = 1; ; attempt++) {
+    let port = await freePort();
+    while (taken.has(port)) port = await freePort();
+    taken.add(port);
+    const proc = startServer(databaseUrl, dataDir, port);
+    try {
+      await waitForHealth(proc);
+      return proc;
+    } catch (error) {
+      if (attempt >= 3 || !proc.output().includes("the address is already in use")) throw error;
+    }
+  }
+}
+
 interface SseEvent {
   event: string;
   data: { id: string; status: string; progress: { fraction: number } };
@@ -157,10 +179,7 @@ async function api(proc: Proc, method: string, path: string, body?: unknown) {
 beforeAll(async () => {
   // An empty database: both processes find migrations to apply and nobody to seed.
   const url = await createDatabase(postgres.adminUrl, databaseName);
-  const [portA, portB] = [await freePort(), await freePort()];
-  a = startServer(url, dataDir, portA);
-  b = startServer(url, dataDir, portB);
-  await Promise.all([waitForHealth(a), waitForHealth(b)]);
+  [a, b] = await Promise.all([startServerOnFreePort(url), startServerOnFreePort(url)]);
   worker = startWorker(url);
   const signIn = await fetch(`${a.url}/api/dev/demo-sign-in`, {
     method: "POST",
