@@ -354,31 +354,34 @@ const eligibleOf = new WeakMap<Prepared, readonly number[]>();
 function eligibleRows(prep: Prepared): readonly number[] {
   const known = eligibleOf.get(prep);
   if (known) return known;
-  const { data, predictor, group, levels, covariates, asideAll } = prep;
+  const { data, asideAll } = prep;
   const rows: number[] = [];
   for (let i = 0; i < data.participants.length; i++) {
-    if (asideAll[i]) continue;
-    if (predictor) {
-      const v = predictor[i];
-      if (v === null || !Number.isFinite(v)) continue;
-    }
-    if (group && levels) {
-      const g = group[i];
-      if (g === null) continue;
-      if (g !== levels[0] && g !== levels[1]) continue;
-    }
-    let complete = true;
-    for (const c of covariates) {
-      if ("numeric" in c) {
-        const v = c.numeric[i];
-        if (v === null || !Number.isFinite(v)) complete = false;
-      } else if (c.categorical[i] === null) complete = false;
-    }
-    if (complete) rows.push(i);
+    if (!asideAll[i] && hasModelColumns(prep, i)) rows.push(i);
   }
   Object.freeze(rows);
   eligibleOf.set(prep, rows);
   return rows;
+}
+
+/** Participant i has the model's predictor, one of its two group levels and every covariate (those it names). */
+function hasModelColumns(prep: Prepared, i: number): boolean {
+  const { predictor, group, levels, covariates } = prep;
+  if (predictor) {
+    const v = predictor[i];
+    if (v === null || !Number.isFinite(v)) return false;
+  }
+  if (group && levels) {
+    const g = group[i];
+    if (g === null || (g !== levels[0] && g !== levels[1])) return false;
+  }
+  for (const c of covariates) {
+    if ("numeric" in c) {
+      const v = c.numeric[i];
+      if (v === null || !Number.isFinite(v)) return false;
+    } else if (c.categorical[i] === null) return false;
+  }
+  return true;
 }
 
 /** True when `rows` are all of a prepared fit's eligible participants, as one shared array (see `eligibleRows`). */
@@ -412,7 +415,7 @@ function rowsFor(prep: Prepared, r: number): readonly number[] {
 
 /** `rowsFor` of a weighted fit: every participant with a value needs a usable standard error. */
 function weightedRowsFor(prep: Prepared, r: number): number[] {
-  const { data, predictor, group, levels, covariates, asideAll, asideRegion } = prep;
+  const { data, asideAll, asideRegion } = prep;
   const name = data.regions[r];
   const aside = asideRegion.get(name);
   const values = data.values[r];
@@ -428,24 +431,7 @@ function weightedRowsFor(prep: Prepared, r: number): number[] {
         `participant '${data.participants[i]}' has a contrast value but no first-level standard error; weights 'first-level-se' need one for every participant with a value (add it, or set the participant aside)`,
       );
     }
-    if (predictor) {
-      const v = predictor[i];
-      if (v === null || !Number.isFinite(v)) continue;
-    }
-    if (group && levels) {
-      const g = group[i];
-      if (g === null) continue;
-      if (g !== levels[0] && g !== levels[1]) continue;
-    }
-    let complete = true;
-    for (const c of covariates) {
-      if ("numeric" in c) {
-        const v = c.numeric[i];
-        if (v === null || !Number.isFinite(v)) complete = false;
-      } else if (c.categorical[i] === null) complete = false;
-    }
-    if (!complete) continue;
-    rows.push(i);
+    if (hasModelColumns(prep, i)) rows.push(i);
   }
   return rows;
 }
