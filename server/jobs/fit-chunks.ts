@@ -62,7 +62,6 @@ import {
 } from "../stats/prediction/cross-validate";
 import type { CurveStatistics } from "../stats/specification-curve/joint";
 import type { ChunkTask } from "./chunk-task";
-import { sharedCopy } from "./shared-memory";
 import type { PermutationTask } from "./permutation-task";
 
 /** A fit whose permutation test is split: its prepared test and the chunk grid. */
@@ -263,7 +262,8 @@ export interface RegionChunkSetup {
  * in memory the threads share, so that posting a chunk's task to a thread
  * copies none of its residuals (at 20,000 participants, 16 MB per chunk,
  * copied on the posting thread and again on the receiving one). Cost the
- * first time O(its regions·n) (a copy of its residuals), then O(1).
+ * first time O(its regions·n) (its residuals sliced, then copied into
+ * shared memory), then O(1).
  */
 export function regionChunkSetup(fit: ChunkedFit, regionChunk: number): RegionChunkSetup {
   const range = fit.regionChunks[regionChunk];
@@ -296,6 +296,15 @@ export function regionChunkSetup(fit: ChunkedFit, regionChunk: number): RegionCh
 
 /** The region-chunk setups made of each plan (`regionChunkSetup`). */
 const setupsMade = new WeakMap<ChunkedFit, RegionChunkSetup[]>();
+
+/** `a` copied into memory the threads share (`a` itself when it is there already). Cost O(its length). */
+function sharedCopy<T extends Float64Array | Int32Array>(a: T): T {
+  if (a.buffer instanceof SharedArrayBuffer) return a;
+  const Typed = a.constructor as new (buffer: SharedArrayBuffer) => T;
+  const copy = new Typed(new SharedArrayBuffer(a.byteLength));
+  copy.set(a);
+  return copy;
+}
 
 /** A setup whose arrays live in shared memory (each block's plan copied once). Cost O(its size). */
 function inSharedMemory(setup: RegionChunkSetup): RegionChunkSetup {

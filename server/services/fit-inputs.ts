@@ -15,7 +15,6 @@ import { datasetVersions, rosterMappings, type DatasetVersion } from "../../db/s
 import { type BuiltFitData, type IdMapping, buildFitData } from "../intake";
 import type { Recipe } from "../../contract/recipe";
 import type { FitDataSource, FitInputs } from "../jobs/fit-jobs";
-import { sharedCopy } from "../jobs/shared-memory";
 import type { FitData } from "../../contract/spec";
 import { loadBrainTable, loadParticipantSheet } from "./datasets";
 
@@ -91,9 +90,8 @@ export class FitDataCache implements FitDataSource {
       this.entries.set(key, hit);
       return hit;
     }
-    // Kept in shared memory: each fit, plan or part posted to a thread then shares the values.
     const built = buildFitInputs(this.db, inputs).then((b) => ({
-      data: inSharedMemory(b.data),
+      data: b.data,
       session: b.session,
     }));
     this.entries.set(key, built);
@@ -106,17 +104,6 @@ export class FitDataCache implements FitDataSource {
     }
     return built;
   }
-}
-
-/** Fit data whose values and standard errors live in shared memory (server/jobs/shared-memory.ts). Cost O(values). */
-function inSharedMemory(data: FitData): FitData {
-  return {
-    ...data,
-    values: data.values.map(sharedCopy),
-    ...(data.standardErrors
-      ? { standardErrors: data.standardErrors.map((se) => se && sharedCopy(se)) }
-      : {}),
-  };
 }
 
 /** The data a stored fit names: its dataset versions and the recipe's id mappings. */
