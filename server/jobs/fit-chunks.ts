@@ -333,11 +333,6 @@ function inSharedMemory(setup: RegionChunkSetup): RegionChunkSetup {
   };
 }
 
-/** Every region chunk's setup of a split permutation test, in order. */
-export function regionChunkSetups(fit: ChunkedFit): RegionChunkSetup[] {
-  return fit.regionChunks.map((_, r) => regionChunkSetup(fit, r));
-}
-
 /** Throws unless `chunk` is one of the chunks `setup` serves. */
 function checkSetupChunk(setup: RegionChunkSetup, chunk: number): void {
   if (!(Number.isInteger(chunk) && chunk >= setup.chunkFrom && chunk < setup.chunkTo))
