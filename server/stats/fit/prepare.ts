@@ -398,11 +398,10 @@ export function isSharedRows(prep: Prepared, rows: readonly number[]): boolean {
  * would leave it out for another reason.
  */
 function rowsFor(prep: Prepared, r: number): readonly number[] {
-  const { spec, data } = prep;
-  const name = data.regions[r];
-  const aside = prep.asideRegion.get(name);
+  if (prep.spec.weights === "first-level-se") return weightedRowsFor(prep, r);
+  const { data } = prep;
+  const aside = prep.asideRegion.get(data.regions[r]);
   const values = data.values[r];
-  if (spec.weights === "first-level-se") return weightedRowsFor(prep, r);
   const eligible = eligibleRows(prep);
   const rows: number[] = [];
   for (let k = 0; k < eligible.length; k++) {
