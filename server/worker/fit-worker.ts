@@ -331,13 +331,10 @@ export class FitWorker {
         this.keepSetup(fitId, setup);
         await sendChunks(setup.chunkFrom, setup.chunkTo);
       }
-    } else {
-      await sendChunks(0, plan.chunks);
-      await this.sendRowsParts(fitId, plan);
-    }
+    } else await sendChunks(0, plan.chunks);
   }
 
-  /** Sends the jobs of a fit's parts of the regions before the test (none unless it is a split permutation test). */
+  /** Sends the jobs of a split permutation test's parts of its regions before the test. */
   private async sendRowsParts(fitId: string, plan: FitChunks): Promise<void> {
     const parts = rowsParts(plan);
     if (parts.length === 0) return;
