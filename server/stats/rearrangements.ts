@@ -142,7 +142,7 @@ export function createRearranger(input: {
       }
       if (!exact) {
         for (let i = 0; i < n; i++) order[i] = i;
-        shuffleInPlace(order, rng);
+        rng.shuffle(order);
         if (kind === "subsets") {
           sortRange(order, 0, n1);
           sortRange(order, n1, n);
@@ -168,20 +168,6 @@ export function createRearranger(input: {
     },
   };
   return walk;
-}
-
-/**
- * Shuffles `a` in place by the Fisher–Yates algorithm in Durstenfeld's form
- * (Durstenfeld 1964, CACM 7:420): for i from n − 1 down to 1, swap a[i] with
- * a[j], j uniform in [0, i]. Cost O(n), n − 1 draws.
- */
-export function shuffleInPlace(a: Int32Array, rng: Rng): void {
-  for (let i = a.length - 1; i > 0; i--) {
-    const j = rng.int(i + 1);
-    const t = a[i];
-    a[i] = a[j];
-    a[j] = t;
-  }
 }
 
 /** Rearranges `a` into the next permutation in lexicographic order (Knuth 2011, TAOCP 4A, Algorithm L). */

@@ -42,7 +42,6 @@ import {
   curveChoices,
   specificationModel,
 } from "../../../contract/specification-curve";
-import { shuffleInPlace } from "../rearrangements";
 import { createBlockRng, createRng, type Rng } from "../rng";
 import {
   type CurveStatistics,
@@ -338,7 +337,7 @@ export const CURVE_BLOCK_DRAWS = 25;
 /**
  * The null draws of the joint test: `draw(rng, count, out, onDraw)` makes
  * `count` null data sets, each from one random permutation of the trait
- * (or group labels) taken from `rng` (shuffleInPlace of 0…N−1), re-runs
+ * (or group labels) taken from `rng` (its `shuffle` of 0…N−1), re-runs
  * every specification on it and appends the curve's statistics to `out`.
  * With one stream (recipes without rearrangementStreams) all draws come
  * from createRng(seed); with "blocks-v1" draw d belongs to block
@@ -381,7 +380,7 @@ function nullDrawer(
   return (rng, count, out, onDraw) => {
     for (let d = 0; d < count; d++) {
       for (let i = 0; i < n; i++) perm[i] = i;
-      shuffleInPlace(perm, rng);
+      rng.shuffle(perm);
       const permuted =
         question === "association"
           ? { predictor: Array.from(perm, (j) => (trait as readonly (number | null)[])[j]) }

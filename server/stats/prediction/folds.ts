@@ -12,7 +12,6 @@
  * depend only on the seed.
  */
 import { StatsError } from "../errors";
-import { shuffleInPlace } from "../rearrangements";
 import type { Rng } from "../rng";
 
 /** One training/held-out split; indices are sorted ascending. */
@@ -61,7 +60,7 @@ function assignFolds(
   let counter = 0;
   for (const key of keys) {
     const members = Int32Array.from(strata.get(key) ?? []);
-    shuffleInPlace(members, rng);
+    rng.shuffle(members);
     for (const unit of members) {
       fold[unit] = counter % k;
       counter++;

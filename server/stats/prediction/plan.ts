@@ -9,7 +9,7 @@
  * objects, numbers and typed arrays: it survives structured cloning.
  */
 import { StatsError } from "../errors";
-import { createRearranger, shuffleInPlace } from "../rearrangements";
+import { createRearranger } from "../rearrangements";
 import { createRng } from "../rng";
 import type { PredictionInput, PredictionOptions } from "./cross-validate";
 import {
@@ -106,7 +106,7 @@ export function planPrediction(input: PredictionInput, options: PredictionOption
       CURVE_FRACTIONS.map((fraction) => {
         const rows = Math.round(fraction * split.train.length);
         const order = Int32Array.from(split.train);
-        shuffleInPlace(order, curveRng);
+        curveRng.shuffle(order);
         if (rows < minimum) return { rows, train: null, inner: null };
         const train = order.slice(0, rows).sort();
         // The single loop drew the inner partition only once the subsample's

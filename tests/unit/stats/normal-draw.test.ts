@@ -39,7 +39,7 @@ describe("normal draws keep the seeded sequences of the code they replaced", () 
     const uniforms = [0, 0, 0.25, 0.5];
     const fake = (values: number[]) => {
       let k = 0;
-      return { seed: 0, next: () => values[k++], int: () => 0 };
+      return { seed: 0, next: () => values[k++], int: () => 0, shuffle: () => {} };
     };
     // redraw: u = 0.25 (third), v = 0.5 (fourth): √(−2 ln 0.25)·cos(π)
     expect(normalDraw(fake(uniforms))).toBeCloseTo(-Math.sqrt(-2 * Math.log(0.25)), 14); // (exact algebra)

@@ -11,7 +11,6 @@ import {
   type RearrangementChunk,
   sharedLinearPermutationTest,
 } from "../../../server/stats/permutation";
-import { shuffleInPlace } from "../../../server/stats/rearrangements";
 import {
   createBlockRng,
   createRng,
@@ -86,7 +85,7 @@ describe("rearrangement streams: xoshiro128** and its jump", () => {
           [expected[i], expected[j]] = [expected[j], expected[i]];
         }
         const shuffled = Int32Array.from({ length }, (_, i) => i);
-        shuffleInPlace(shuffled, rng);
+        rng.shuffle(shuffled);
         expect(Array.from(shuffled)).toEqual(Array.from(expected));
       }
       // Both left the generator at the same place.

@@ -12,7 +12,6 @@ import { crossValidationSplits } from "../../../../server/stats/prediction/folds
 import { CURVE_FRACTIONS } from "../../../../server/stats/prediction/plan";
 import { ScoreSums } from "../../../../server/stats/prediction/scores";
 import { fitSingle } from "../../../../server/stats/prediction/single-fit";
-import { shuffleInPlace } from "../../../../server/stats/rearrangements";
 import { createRng } from "../../../../server/stats/rng";
 import { inventData } from "./reference-ridge";
 
@@ -77,7 +76,7 @@ describe("prediction split into plan, splits and merge", () => {
     const traits = new Float64Array(5 * 40);
     for (let b = 0; b < 5; b++) {
       const order = Int32Array.from({ length: 40 }, (_, i) => i);
-      if (b > 0) shuffleInPlace(order, rng);
+      if (b > 0) rng.shuffle(order);
       for (let i = 0; i < 40; i++) traits[b * 40 + i] = data.y[order[i]];
     }
     const block = fitFoldBlock(fold, traits, 40, 5);
@@ -131,7 +130,7 @@ describe("prediction split into plan, splits and merge", () => {
       CURVE_FRACTIONS.forEach((fraction, f) => {
         const rows = Math.round(fraction * split.train.length);
         const order = Int32Array.from(split.train);
-        shuffleInPlace(order, curveRng);
+        curveRng.shuffle(order);
         if (rows < 4) {
           failed[f] = true;
           return;

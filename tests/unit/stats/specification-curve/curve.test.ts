@@ -17,7 +17,6 @@ import {
   fastNull,
   swappedNull,
 } from "../../../../server/stats/fit/specification-curve";
-import { shuffleInPlace } from "../../../../server/stats/rearrangements";
 import { runFit } from "../../../../server/stats/run-fit";
 import { createRng, normalDraw } from "../../../../server/stats/rng";
 import {
@@ -411,7 +410,7 @@ describe("specification curve: null draws without refitting", () => {
     const complete: FitData = { ...data, numericColumns: { ...data.numericColumns, trait } };
     const rng = createRng(4);
     const perm = Int32Array.from({ length: 80 }, (_, i) => i);
-    shuffleInPlace(perm, rng);
+    rng.shuffle(perm);
     const permuted = Array.from(perm, (j) => trait[j]);
     for (const estimator of ["ols", "rank"] as const)
       for (const covariates of [["age"], ["age", "site"]]) {
@@ -448,7 +447,7 @@ describe("specification curve: null draws with the design reused", () => {
     const rng = createRng(9);
     const perms = [0, 1, 2].map(() => {
       const perm = Int32Array.from({ length: 60 }, (_, i) => i);
-      shuffleInPlace(perm, rng);
+      rng.shuffle(perm);
       return perm;
     });
     const cases = [
