@@ -18,7 +18,9 @@
  * run on threads in the embedded path and the workers), and with two
  * chunks at a time on two threads
  * (each core's throughput when both compute, as with two workers here);
- * per-worker throughput against them; the time
+ * per-worker throughput against them (and, with as many workers as cores,
+ * the whole fit's speed against the embedded path's on the same cores,
+ * which does the same work besides the chunks); the time
  * not spent computing (wall − chunks × chunk time ÷ workers, the chunk
  * time on one thread for one worker and two at a time for two: each
  * core's speed when both compute) and its parts
@@ -416,7 +418,7 @@ export default async function scaleBench(): Promise<void> {
       // Less the regions before the test's own computing, spread over the workers: what is left is queue, storage and merge.
       const besides = overhead - rowsSeconds / r.workers;
       console.log(
-        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread${r.workers >= 2 ? `, ${((100 * perWorker) / kernelPerCore).toFixed(0)} % of its per-core throughput with both cores computing` : ""} · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s; less the regions before the test's own computing, ${(rowsSeconds / r.workers).toFixed(1)} s per worker: ${besides.toFixed(1)} s = ${((100 * besides) / r.wall).toFixed(1)} % for the queue, storing and the merge) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s${r.tailChunk === null ? "" : ` · after them, ${r.tailCount} chunks at ${(1000 * r.tailChunk).toFixed(0)} ms per chunk and worker (${((100 * perCoreChunk) / r.tailChunk).toFixed(0)} % of the kernel's ${r.workers >= 2 ? "two-at-a-time" : "one-thread"} time)`} · each worker's first chunk stored at ${r.firstChunks.map((x) => `${x.toFixed(1)} s`).join(", ")} · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
+        `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread${r.workers >= 2 ? `, ${((100 * perWorker) / kernelPerCore).toFixed(0)} % of its per-core throughput with both cores computing; the whole fit at ${((100 * embedded.wall) / r.wall).toFixed(0)} % of the embedded path's speed on the same ${embeddedJobs.chunkThreads} cores` : ""} · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s; less the regions before the test's own computing, ${(rowsSeconds / r.workers).toFixed(1)} s per worker: ${besides.toFixed(1)} s = ${((100 * besides) / r.wall).toFixed(1)} % for the queue, storing and the merge) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s${r.tailChunk === null ? "" : ` · after them, ${r.tailCount} chunks at ${(1000 * r.tailChunk).toFixed(0)} ms per chunk and worker (${((100 * perCoreChunk) / r.tailChunk).toFixed(0)} % of the kernel's ${r.workers >= 2 ? "two-at-a-time" : "one-thread"} time)`} · each worker's first chunk stored at ${r.firstChunks.map((x) => `${x.toFixed(1)} s`).join(", ")} · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
       );
     }
     console.log(`chunk rows stored: ${stored} (each chunk of each run once)`);
