@@ -86,10 +86,10 @@ function correlationFields(c: { r: number; ciLow: number | null; ciHigh: number 
 }
 
 /** Least-squares fit of the region's design (decomposition shared through `qr` when given). */
-export function olsFit(
-  d: RegionData,
-  qr?: QrDecomposition,
-): LinearModelFit & { qr: QrDecomposition } {
+/** A least-squares fit of a region's design, with the decomposition it came from. */
+export type OlsFit = LinearModelFit & { qr: QrDecomposition };
+
+export function olsFit(d: RegionData, qr?: QrDecomposition): OlsFit {
   const { design } = d;
   require(design.n >
     design.p, `too few participants (n = ${design.n}) for a model with ${design.p} coefficients`);
@@ -97,8 +97,8 @@ export function olsFit(
   return { ...solveLinearModel(q, d.y), qr: q };
 }
 
-function olsEstimate(d: RegionData, qr?: QrDecomposition): RegionEstimate {
-  const fit = olsFit(d, qr);
+function olsEstimate(d: RegionData, qr?: QrDecomposition, made?: OlsFit): RegionEstimate {
+  const fit = made ?? olsFit(d, qr);
   const j = d.tested;
   const se = fit.se[j];
   const t = fit.t[j];
@@ -279,11 +279,17 @@ const SPEARMAN_METHOD: Record<SpearmanPMethod, string> = {
 /**
  * The parametric estimate of one region. Throws StatsError when the
  * estimator does not apply (the orchestrator checks kind/estimator pairs
- * first) or a method's preconditions fail.
+ * first) or a method's preconditions fail. `leastSquares`: the region's
+ * `olsFit`, already made (least squares then reads it instead of solving
+ * again).
  */
-export function estimateRegion(d: RegionData, qr?: QrDecomposition): RegionEstimate {
+export function estimateRegion(
+  d: RegionData,
+  qr?: QrDecomposition,
+  leastSquares?: OlsFit,
+): RegionEstimate {
   const { kind, estimator } = d;
-  if (estimator === "ols") return olsEstimate(d, qr);
+  if (estimator === "ols") return olsEstimate(d, qr, leastSquares);
   if (estimator === "huber" || estimator === "bisquare") return robustEstimate(d, estimator);
   if (kind === "one-sample") {
     require(estimator ===

@@ -226,6 +226,8 @@ function estimateAndDiagnose(
     inRegion(data.regions[r], () => {
       const work = estimateRegionWork(prep, r, qrCache);
       const rows = work.qr && sink ? diagnoseRegion(prep, work) : objectRows(work.name, []);
+      // Diagnosed: the region's least-squares fit (two arrays of n) is let go before its work is kept.
+      work.leastSquares = null;
       if (keepWorks) works.push(work);
       results.push(work.result);
       if (sink) {

@@ -35,7 +35,8 @@ import type { Prepared } from "./prepare";
 export function diagnoseRegion(prep: Prepared, work: RegionWork): ParticipantRows {
   const { name: region, rows, data: d, result } = work;
   const qr = work.qr as QrDecomposition;
-  const fit = olsFit(d, qr);
+  // The estimate's own least-squares fit when it made one: the same numbers.
+  const fit = work.leastSquares ?? olsFit(d, qr);
   const diag = regressionDiagnosticColumns(qr, fit, { interceptColumn: 0 });
   const ids = prep.data.participants;
   result.vif = diag.vif;

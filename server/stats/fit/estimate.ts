@@ -8,7 +8,7 @@
  */
 import type { RegionResult } from "../../../contract/spec";
 import { type Design, type DesignTerm, buildDesign } from "../design-matrix";
-import { estimateRegion } from "../fit-methods";
+import { estimateRegion, type OlsFit, olsFit } from "../fit-methods";
 import { type QrDecomposition, qrDecompose } from "../linear-model";
 import { weightedLinearModel } from "../meta-regression";
 import type { Estimator, Kind, RegionData } from "../region-data";
@@ -22,6 +22,12 @@ export interface RegionWork {
   rows: readonly number[];
   data: RegionData;
   qr: QrDecomposition | null;
+  /**
+   * The least-squares fit of the design (`olsFit`) when the estimate made
+   * it (the ordinary estimator, unweighted): the diagnose stage reads it
+   * instead of solving again; run-fit.ts lets it go once diagnosed.
+   */
+  leastSquares: OlsFit | null;
   result: RegionResult;
 }
 
@@ -47,10 +53,12 @@ export function estimateRegionWork(
     qrCache.set(key, qr);
   }
   let result: RegionResult;
+  let leastSquares: OlsFit | null = null;
   if (s.weights === "first-level-se") {
     result = weightedRegion(prep, r, rows, regionData);
   } else {
-    const est = estimateRegion(regionData, qr ?? undefined);
+    if (qr && s.estimator === "ols") leastSquares = olsFit(regionData, qr);
+    const est = estimateRegion(regionData, qr ?? undefined, leastSquares ?? undefined);
     result = {
       region: name,
       n: rows.length,
@@ -73,7 +81,7 @@ export function estimateRegionWork(
       result.projectionOutliers = ids;
     }
   }
-  return { r, name, rows, data: regionData, qr, result };
+  return { r, name, rows, data: regionData, qr, leastSquares, result };
 }
 
 /**
