@@ -135,6 +135,47 @@ describe("outlier flag", () => {
     expect(sens.excluded).toContain("sub-11");
     expect(sens.n).toBe(30 - sens.excluded.length);
   });
+
+  it("refits exactly as a fit of the same model without the excluded participants", () => {
+    // Common practice, no source: the sensitivity refit is the fit on the participants left.
+    for (const model of [
+      spec({ kind: "association", predictor: "age", covariates: ["score"] }),
+      spec({
+        kind: "two-group",
+        group: "group",
+        levels: ["patient", "control"],
+        covariates: ["age"],
+      }),
+    ]) {
+      const d = makeData(40, 7);
+      const values = Float64Array.from(d.values[0]);
+      values[4] += 20;
+      values[21] -= 18;
+      const res = runFit(model, { ...d, values: [values] });
+      const sens = res.regions[0].sensitivity as {
+        excluded: string[];
+        n: number;
+        estimate: number;
+        p: number;
+        ciLow: number;
+        ciHigh: number;
+      };
+      expect(sens.excluded.length).toBeGreaterThan(0);
+      const keep = d.participants.flatMap((id, i) => (sens.excluded.includes(id) ? [] : [i]));
+      const reduced = runFit(model, {
+        participants: keep.map((i) => d.participants[i]),
+        regions: d.regions,
+        values: [Float64Array.from(keep, (i) => values[i])],
+        numericColumns: { age: keep.map((i) => d.age[i]), score: keep.map((i) => d.score[i]) },
+        categoricalColumns: { group: keep.map((i) => d.group[i]) },
+      }).regions[0];
+      expect(sens.n).toBe(reduced.n);
+      expect(sens.estimate).toBe(reduced.estimate);
+      expect(sens.p).toBe(reduced.p);
+      expect(sens.ciLow).toBe(reduced.ciLow);
+      expect(sens.ciHigh).toBe(reduced.ciHigh);
+    }
+  });
 });
 
 describe("robust estimators through the fit", () => {
