@@ -85,10 +85,10 @@ function correlationFields(c: { r: number; ciLow: number | null; ciHigh: number 
     : { r: c.r, rCiLow: c.ciLow, rCiHigh: c.ciHigh };
 }
 
-/** Least-squares fit of the region's design (decomposition shared through `qr` when given). */
 /** A least-squares fit of a region's design, with the decomposition it came from. */
 export type OlsFit = LinearModelFit & { qr: QrDecomposition };
 
+/** Least-squares fit of the region's design (decomposition shared through `qr` when given). */
 export function olsFit(d: RegionData, qr?: QrDecomposition): OlsFit {
   const { design } = d;
   require(design.n >
@@ -97,8 +97,8 @@ export function olsFit(d: RegionData, qr?: QrDecomposition): OlsFit {
   return { ...solveLinearModel(q, d.y), qr: q };
 }
 
-function olsEstimate(d: RegionData, qr?: QrDecomposition, made?: OlsFit): RegionEstimate {
-  const fit = made ?? olsFit(d, qr);
+function olsEstimate(d: RegionData, qr?: QrDecomposition, leastSquares?: OlsFit): RegionEstimate {
+  const fit = leastSquares ?? olsFit(d, qr);
   const j = d.tested;
   const se = fit.se[j];
   const t = fit.t[j];
