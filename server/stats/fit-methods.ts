@@ -88,12 +88,18 @@ function correlationFields(c: { r: number; ciLow: number | null; ciHigh: number 
 /** A least-squares fit of a region's design, with the decomposition it came from. */
 export type OlsFit = LinearModelFit & { qr: QrDecomposition };
 
-/** Least-squares fit of the region's design (decomposition shared through `qr` when given). */
+/**
+ * Least-squares fit of the region's design (decomposition shared through
+ * `qr` when given). A decomposition made here is made without the thin Q
+ * and the hat values: the fit reads only the reflectors and R⁻¹, and those
+ * two were about two thirds of its time at 20,000 participants; the
+ * diagnostics, which read them, pass their own `qr`.
+ */
 export function olsFit(d: RegionData, qr?: QrDecomposition): OlsFit {
   const { design } = d;
   require(design.n >
     design.p, `too few participants (n = ${design.n}) for a model with ${design.p} coefficients`);
-  const q = qr ?? qrDecompose(design.x, design.n, design.p, design.columnNames);
+  const q = qr ?? qrDecompose(design.x, design.n, design.p, design.columnNames, { thin: false });
   return { ...solveLinearModel(q, d.y), qr: q };
 }
 

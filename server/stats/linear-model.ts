@@ -191,15 +191,16 @@ export function solveLinearModel(qr: QrDecomposition, y: ArrayLike<number>): Lin
   };
 }
 
-/** Decompose and solve in one call. Cost O(n·p²). */
+/** Decompose and solve in one call (`options` as for qrDecompose). Cost O(n·p²). */
 export function fitLinearModel(
   x: ArrayLike<number>,
   n: number,
   p: number,
   y: ArrayLike<number>,
   columnNames?: readonly string[],
+  options: { thin?: boolean } = {},
 ): LinearModelFit & { qr: QrDecomposition } {
-  const qr = qrDecompose(x, n, p, columnNames);
+  const qr = qrDecompose(x, n, p, columnNames, options);
   return { ...solveLinearModel(qr, y), qr };
 }
 

@@ -19,7 +19,7 @@
 import type { FitData, ModelSpec } from "../../contract/spec";
 import { type DesignTerm, buildDesign, compareCodePoints } from "./design-matrix";
 import { StatsError } from "./errors";
-import { qrDecompose, solveLinearModel } from "./linear-model";
+import { fitLinearModel } from "./linear-model";
 import type { BandLine, GroupMean, PlotPoint, RegionPlot } from "../../contract/views/fits";
 import { meanResponseBand } from "./mean-response-band";
 import { oneSampleTTest } from "./one-sample-t";
@@ -181,8 +181,9 @@ export function regionPlot(
     const design = buildDesign(n, terms);
     // The band reads the coefficients and R⁻¹ only: no thin Q or hat values (two thirds of the
     // decomposition's time at 20,000 participants).
-    const qr = qrDecompose(design.x, design.n, design.p, design.columnNames, { thin: false });
-    const fit = { ...solveLinearModel(qr, y), qr };
+    const fit = fitLinearModel(design.x, design.n, design.p, y, design.columnNames, {
+      thin: false,
+    });
     const p = design.p;
     const means = new Float64Array(p);
     for (let i = 0; i < n; i++) for (let j = 0; j < p; j++) means[j] += design.x[i * p + j] / n;

@@ -18,12 +18,7 @@ import {
 } from "../diagnostics";
 import { StatsError } from "../errors";
 import { estimateRegion, olsFit } from "../fit-methods";
-import {
-  type LinearModelFit,
-  type QrDecomposition,
-  qrDecompose,
-  unscaledCovariance,
-} from "../linear-model";
+import { type LinearModelFit, type QrDecomposition, unscaledCovariance } from "../linear-model";
 import type { RegionData } from "../region-data";
 import { type RegionWork, designFor } from "./estimate";
 import { valuesAt } from "./common";
@@ -161,13 +156,7 @@ function sensitivityRefit(
         x,
         groupIndicator,
       };
-      // Least squares reads only the reflectors and R⁻¹: the decomposition is made without the
-      // thin Q and the hat values (about two thirds of its time at 20,000 participants).
-      const bare =
-        d.estimator === "ols" && design.n > design.p
-          ? qrDecompose(design.x, design.n, design.p, design.columnNames, { thin: false })
-          : undefined;
-      const est = estimateRegion(reduced, bare);
+      const est = estimateRegion(reduced);
       result.sensitivity = {
         excluded,
         n: keep.length,
