@@ -39,7 +39,11 @@ describe("normal draws keep the seeded sequences of the code they replaced", () 
     const uniforms = [0, 0, 0.25, 0.5];
     const fake = (values: number[]) => {
       let k = 0;
-      return { seed: 0, next: () => values[k++], int: () => 0, shuffle: () => {} };
+      // normalDraw takes uniforms only: the other draws fail loudly if it ever asks for them.
+      const unused = (): never => {
+        throw new Error("normalDraw drew something other than a uniform");
+      };
+      return { seed: 0, next: () => values[k++], int: unused, shuffle: unused };
     };
     // redraw: u = 0.25 (third), v = 0.5 (fourth): √(−2 ln 0.25)·cos(π)
     expect(normalDraw(fake(uniforms))).toBeCloseTo(-Math.sqrt(-2 * Math.log(0.25)), 14); // (exact algebra)
