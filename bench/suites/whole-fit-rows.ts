@@ -15,6 +15,7 @@
 import { MessageChannel } from "node:worker_threads";
 import { modelSpecSchema } from "../../contract/spec";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "../../server/jobs/fit-task";
+import { regionRowsOf } from "../../server/jobs/region-rows";
 import { workerPool } from "../../server/jobs/worker-pool";
 import { createRng, normalDraw } from "../../server/stats/rng";
 
@@ -57,8 +58,10 @@ export default async function wholeFitRows(): Promise<void> {
   channel.port1.on("message", (m: FitTaskMessage) => {
     if (m.type !== "region") return;
     received++;
-    rowBytes += m.participants.length;
-    plotBytes += m.plot?.length ?? 0;
+    // Read back as the app does before storing them.
+    const { participants, plot } = regionRowsOf(m);
+    rowBytes += participants.length;
+    plotBytes += plot?.length ?? 0;
   });
   let peak = process.memoryUsage().rss;
   const sampler = setInterval(() => {

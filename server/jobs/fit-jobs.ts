@@ -70,6 +70,7 @@ import {
   transferablesOf,
 } from "./fit-chunks";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "./fit-task";
+import { regionRowsOf } from "./region-rows";
 import { secondsLeftOf } from "./time-left";
 import { workerPool } from "./worker-pool";
 
@@ -618,8 +619,7 @@ export class FitJobs {
     if (message.type === "region") {
       run.storing = run.storing.then(async () => {
         if (run.controller.signal.aborted) return;
-        const { position, region, participants, plot } = message;
-        await this.store.storeRegionRow(fitId, { position, region, participants, plot });
+        await this.store.storeRegionRow(fitId, regionRowsOf(message));
         // The embedded database answers within microtasks: yield to the event loop so requests are served between regions.
         await new Promise<void>((resolve) => setImmediate(resolve));
       });

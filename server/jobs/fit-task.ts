@@ -1,8 +1,9 @@
 /**
  * Worker-thread task of a fit job: runs the fit (`runFitByRegion`) and, for
  * every region with participant diagnostics, the data its plots draw
- * (`regionPlot`), and serializes each region's rows to text here, off the
- * request thread (column by column, region-rows.ts). Workers compute only —
+ * (`regionPlotColumns`), and serializes each region's rows and plot to text
+ * here, off the request thread (column by column, region-rows.ts), as UTF-8
+ * bytes handed on without a copy (region-rows.ts' `regionRowsOf` reads them back). Workers compute only —
  * no database, no files; the main thread writes everything.
  *
  * Messages on `port` (the main thread's end of a MessageChannel):
@@ -25,11 +26,10 @@ import type { MessagePort } from "node:worker_threads";
 import type { FitData, FitResult, ModelSpec, RegionResult } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
 import type { ParticipantRows } from "../stats/fit/participant-rows";
-import type { RegionPlot } from "../../contract/views/fits";
-import { regionPlot } from "../stats/region-plot";
+import { type RegionPlotByColumn, regionPlotColumns } from "../stats/region-plot";
 import { FIT_LEVEL, regionsBeforeTestByRegion, runFitByRegion } from "../stats/run-fit";
 import { type MergedChunks, mergeOptions } from "./fit-chunks";
-import { encodeParticipantRows, encodeRegionPlot } from "./region-rows";
+import { type RegionTextBytes, encodeRegionTexts } from "./region-rows";
 import { lowerWorkerThreadPriority } from "./thread-priority";
 
 let lowered = false;
@@ -69,7 +69,7 @@ export interface RegionRows {
 export type FitTaskMessage =
   | { type: "started" }
   | { type: "progress"; fraction: number }
-  | ({ type: "region" } & RegionRows)
+  | ({ type: "region"; position: number; region: string } & RegionTextBytes)
   | { type: "regions-done"; count: number };
 
 export type FitTaskOutcome =
@@ -107,7 +107,7 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
         task.data,
         { onProgress },
         task.regionRange,
-        (position, region, rows) => postRegion(task, first + position, region, rows, post),
+        (position, region, rows) => postRegion(task, first + position, region, rows),
       );
       post({ type: "regions-done", count: regions.length });
       return { ok: true, summary: { regions, notes: [] }, regionsBeforeTest: regions };
@@ -121,7 +121,7 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
       { ...(task.merged ? mergeOptions(task.merged) : {}), onProgress },
       (position, region, rows) => {
         if (task.rows === "skip") return;
-        postRegion(task, position, region, rows, post);
+        postRegion(task, position, region, rows);
         sent++;
       },
     );
@@ -135,28 +135,18 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
 }
 
 /** Sends one region's message: its participants' rows and plot data, as JSON text. */
-function postRegion(
-  task: FitTask,
-  position: number,
-  region: string,
-  rows: ParticipantRows,
-  post: (message: FitTaskMessage) => void,
-): void {
-  let plot: RegionPlot | { error: string } | null = null;
-  const ids = rows.ids;
+function postRegion(task: FitTask, position: number, region: string, rows: ParticipantRows): void {
+  let plot: RegionPlotByColumn | { error: string } | null = null;
   if (rows.n > 0) {
     try {
-      plot = regionPlot(task.spec, task.data, region, ids, { level: FIT_LEVEL });
+      plot = regionPlotColumns(task.spec, task.data, region, rows.ids, { level: FIT_LEVEL });
     } catch (e) {
       if (!(e instanceof StatsError)) throw e;
       plot = { error: e.message };
     }
   }
-  post({
-    type: "region",
-    position,
-    region,
-    participants: encodeParticipantRows(rows),
-    plot: plot === null ? null : encodeRegionPlot(plot, ids),
-  });
+  const texts = encodeRegionTexts(rows, plot);
+  task.port.postMessage({ type: "region", position, region, ...texts } satisfies FitTaskMessage, [
+    texts.bytes.buffer as ArrayBuffer,
+  ]);
 }

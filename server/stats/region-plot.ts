@@ -20,7 +20,7 @@ import type { FitData, ModelSpec } from "../../contract/spec";
 import { type DesignTerm, buildDesign, compareCodePoints } from "./design-matrix";
 import { StatsError } from "./errors";
 import { fitLinearModel } from "./linear-model";
-import type { BandLine, GroupMean, PlotPoint, RegionPlot } from "../../contract/views/fits";
+import type { BandLine, GroupMean, RegionPlot } from "../../contract/views/fits";
 import { meanResponseBand } from "./mean-response-band";
 import { oneSampleTTest } from "./one-sample-t";
 
@@ -75,6 +75,21 @@ function positionsOf(participants: readonly string[]): ReadonlyMap<string, numbe
 const positions = new WeakMap<readonly string[], ReadonlyMap<string, number>>();
 
 /**
+ * A region's plot data with its points by column: the participant
+ * `participants[i]` has trait value x[i], group label group[i] and
+ * contrast value y[i] (x and group null where every point's is). The fit
+ * thread stores this form (server/jobs/region-rows.ts): at 20,000
+ * participants, making a point object each only to read them back column
+ * by column was most of a region's plot.
+ */
+export interface RegionPlotByColumn extends Omit<RegionPlot, "points"> {
+  participants: readonly string[];
+  x: readonly (number | null)[] | null;
+  group: readonly (string | null)[] | null;
+  y: Float64Array;
+}
+
+/**
  * Plot data of `region` for the participants in `included` (the fit's
  * participants there, in roster order).
  */
@@ -85,73 +100,94 @@ export function regionPlot(
   included: readonly string[],
   options: { level?: number; gridPoints?: number } = {},
 ): RegionPlot {
+  const { participants, x, group, y, ...rest } = regionPlotColumns(
+    spec,
+    data,
+    region,
+    included,
+    options,
+  );
+  const points = participants.map((participant, i) => ({
+    participant,
+    x: x ? x[i] : null,
+    group: group ? group[i] : null,
+    y: y[i],
+  }));
+  return { points, ...rest };
+}
+
+/** `regionPlot` with its points by column (see RegionPlotByColumn): the same numbers. */
+export function regionPlotColumns(
+  spec: ModelSpec,
+  data: FitData,
+  region: string,
+  included: readonly string[],
+  options: { level?: number; gridPoints?: number } = {},
+): RegionPlotByColumn {
   const level = options.level ?? 0.95;
   const gridPoints = options.gridPoints ?? BAND_GRID_POINTS;
   const r = data.regions.indexOf(region);
   if (r < 0) throw new StatsError(`regionPlot: unknown region '${region}'`);
   const position = positionsOf(data.participants);
-  const rows = included.map((id) => {
-    const i = position.get(id);
-    if (i === undefined) throw new StatsError(`regionPlot: unknown participant '${id}'`);
-    return i;
-  });
+  const n = included.length;
+  const rows = new Array<number>(n);
+  for (let k = 0; k < n; k++) {
+    const i = position.get(included[k]);
+    if (i === undefined) throw new StatsError(`regionPlot: unknown participant '${included[k]}'`);
+    rows[k] = i;
+  }
   const values = data.values[r];
   const predictor =
     spec.kind === "association" && spec.predictor ? numericColumn(data, spec.predictor) : null;
-  const group =
+  const groupOf =
     spec.group && (spec.kind === "two-group" || spec.kind === "association")
       ? groupColumn(data, spec.group)
       : null;
-  const points: PlotPoint[] = rows.map((i) => {
-    const y = values[i];
-    if (!Number.isFinite(y))
+  const y = new Float64Array(n);
+  for (let k = 0; k < n; k++) {
+    const i = rows[k];
+    const v = values[i];
+    if (!Number.isFinite(v))
       throw new StatsError(
         `regionPlot: participant '${data.participants[i]}' has no value in region '${region}'`,
       );
-    return {
-      participant: data.participants[i],
-      x: predictor ? predictor[i] : null,
-      group: group ? group[i] : null,
-      y,
-    };
-  });
+    y[k] = v;
+  }
+  const xs = predictor ? rows.map((i) => predictor[i]) : null;
+  const groups = groupOf ? rows.map((i) => groupOf[i]) : null;
+  const columns = { participants: included, x: xs, group: groups, y };
   const notes: string[] = [];
-  const y = points.map((p) => p.y);
   if (spec.kind === "one-sample") {
     return {
-      points,
+      ...columns,
       band: null,
-      groupMeans: points.length > 0 ? [groupMean("all participants", y, level, notes)] : null,
+      groupMeans: n > 0 ? [groupMean("all participants", Array.from(y), level, notes)] : null,
       notes,
     };
   }
-  const present = Array.from(
-    new Set(points.map((p) => p.group).filter((g): g is string => g !== null)),
-  ).sort(compareCodePoints);
+  const present = groups
+    ? Array.from(new Set(groups.filter((g): g is string => g !== null))).sort(compareCodePoints)
+    : [];
   const levels = spec.levels ? [spec.levels[0], spec.levels[1]] : present;
   if (spec.kind === "two-group") {
-    const groupMeans = levels.map((label) =>
-      groupMean(
-        label,
-        points.filter((p) => p.group === label).map((p) => p.y),
-        level,
-        notes,
-      ),
-    );
-    return { points, band: null, groupMeans: groupMeans.filter((g) => g.n > 0), notes };
+    const groupMeans = levels.map((label) => {
+      const inGroup: number[] = [];
+      if (groups) for (let k = 0; k < n; k++) if (groups[k] === label) inGroup.push(y[k]);
+      return groupMean(label, inGroup, level, notes);
+    });
+    return { ...columns, band: null, groupMeans: groupMeans.filter((g) => g.n > 0), notes };
   }
-  if (spec.kind !== "association" || !predictor)
-    return { points, band: null, groupMeans: null, notes };
+  if (spec.kind !== "association" || !predictor || !xs)
+    return { ...columns, band: null, groupMeans: null, notes };
   // Association: the model's least-squares design, as the fit builds it.
-  const n = points.length;
-  const x = Float64Array.from(points, (p) => p.x as number);
+  const x = Float64Array.from(xs, (v) => v as number);
   const terms: DesignTerm[] = [
     { name: "(intercept)", kind: "intercept" },
     { name: spec.predictor as string, kind: "numeric", values: x },
   ];
   let indicator: Float64Array | null = null;
-  if (group && levels.length === 2) {
-    indicator = Float64Array.from(points, (p) => (p.group === levels[0] ? 1 : 0));
+  if (groups && levels.length === 2) {
+    indicator = Float64Array.from(groups, (g) => (g === levels[0] ? 1 : 0));
     terms.push({ name: `${spec.group}: ${levels[0]}`, kind: "numeric", values: indicator });
     if (spec.interaction)
       terms.push({
@@ -229,5 +265,5 @@ export function regionPlot(
     if (!(e instanceof StatsError)) throw e;
     notes.push(`No fitted line: ${e.message}.`);
   }
-  return { points, band, groupMeans: null, notes };
+  return { ...columns, band, groupMeans: null, notes };
 }

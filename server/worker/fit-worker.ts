@@ -73,6 +73,7 @@ import {
 import type { ChunkTask, ChunkTaskOutcome } from "../jobs/chunk-task";
 import { type FitEvent, INTERNAL_FAILURE } from "../jobs/fit-jobs";
 import type { FitTask, FitTaskMessage, FitTaskOutcome } from "../jobs/fit-task";
+import { regionRowsOf } from "../jobs/region-rows";
 import { secondsLeftOf } from "../jobs/time-left";
 import { workerPool } from "../jobs/worker-pool";
 import { FitDataCache, inputsOfFit } from "../services/fit-inputs";
@@ -629,10 +630,9 @@ export class FitWorker {
     });
     channel.port1.on("message", (message: FitTaskMessage) => {
       if (message.type === "region") {
-        const { position, region, participants, plot } = message;
-        storing = storing.then(() =>
-          this.store.storeRegionRow(fitId, { position, region, participants, plot }),
-        );
+        // Read back at once: the message's bytes are let go, the texts wait for their turn.
+        const texts = regionRowsOf(message);
+        storing = storing.then(() => this.store.storeRegionRow(fitId, texts));
       } else if (message.type === "regions-done") regionsDone();
       else if (message.type === "progress" && !merged && rows === "all") {
         // A fit computed whole reports the thread's progress, at most every half second.

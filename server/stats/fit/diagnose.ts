@@ -136,15 +136,18 @@ function sensitivityRefit(
   diag: DiagnosticColumns,
   result: RegionResult,
 ): void {
+  if (prep.spec.weights !== "none") return;
   const ids = prep.data.participants;
-  const drop = new Set<number>();
   const dropped = FLAG_BIT.outlier | FLAG_BIT.influence;
-  diag.flags.forEach((bits, k) => {
-    if (bits & dropped) drop.add(k);
-  });
-  if (drop.size > 0 && prep.spec.weights === "none") {
-    const keep = rows.filter((_, k) => !drop.has(k));
-    const excluded = rows.filter((_, k) => drop.has(k)).map((i) => ids[i]);
+  // One pass over the flags, without a set: at 20,000 participants two filters looking rows up
+  // in a set of the flagged were about a third of the refit's time.
+  const keep: number[] = [];
+  const excluded: string[] = [];
+  for (let k = 0; k < rows.length; k++) {
+    if (diag.flags[k] & dropped) excluded.push(ids[rows[k]]);
+    else keep.push(rows[k]);
+  }
+  if (excluded.length > 0) {
     try {
       const { design, tested, covariateColumns, x, groupIndicator } = designFor(prep, keep);
       const reduced: RegionData = {

@@ -18,8 +18,12 @@ import {
 import {
   decodeRegionRows,
   encodeParticipantRows,
+  encodeRegionPlot,
   encodeRegionRows,
+  encodeRegionTexts,
+  regionRowsOf,
 } from "../../../server/jobs/region-rows";
+import { regionPlot, regionPlotColumns } from "../../../server/stats/region-plot";
 import { regressionDiagnosticColumns } from "../../../server/stats/diagnostics";
 import {
   type ParticipantRows,
@@ -105,6 +109,62 @@ describe("a region's rows by column", () => {
       }
     });
   }
+
+  it("hand their rows and plot on as bytes that read back as the same texts", () => {
+    // A second roster with ids, a label and a region name outside ASCII, as a participants file may hold.
+    const accented: FitData = {
+      ...data,
+      participants: data.participants.map((id, i) => (i % 5 === 0 ? `${id}-Ø` : id)),
+      regions: ["insula izquierda", "précunéus", "amígdala δ"],
+      categoricalColumns: {
+        ...data.categoricalColumns,
+        group: data.categoricalColumns.group.map((g) => (g === "patient" ? "patiënt" : g)),
+      },
+    };
+    const models: ModelSpecInput[] = [
+      { kind: "association", predictor: "accuracy", covariates: ["age"] },
+      { kind: "association", predictor: "accuracy", group: "group", interaction: true },
+      twoGroupsBySite,
+      { kind: "one-sample" },
+    ];
+    let cases = 0;
+    const kinds = new Set<boolean>();
+    for (const fitData of [data, accented])
+      for (const input of models) {
+        // The first and third regions: the second leaves too few participants to the interaction.
+        const regions = [fitData.regions[0], fitData.regions[2]];
+        const spec = modelSpecSchema.parse({ ...input, regions });
+        runFitByRegion(spec, fitData, {}, (position, region, rows) => {
+          const plot = regionPlotColumns(spec, fitData, region, rows.ids);
+          for (const [texts, plotText] of [
+            [
+              encodeRegionTexts(rows, plot),
+              encodeRegionPlot(regionPlot(spec, fitData, region, rows.ids), rows.ids),
+            ],
+            [
+              encodeRegionTexts(rows, { error: "no band: ü" }),
+              JSON.stringify({ error: "no band: ü" }),
+            ],
+            [encodeRegionTexts(rows, null), null],
+          ] as const) {
+            const back = regionRowsOf({ position, region, ...texts });
+            expect(back).toStrictEqual({
+              position,
+              region,
+              participants: encodeParticipantRows(rows),
+              plot: plotText,
+            });
+            const text = `${back.participants}${back.plot ?? ""}`;
+            expect(texts.ascii).toBe(Buffer.byteLength(text, "utf8") === text.length);
+            kinds.add(texts.ascii);
+            expect(texts.bytes.byteLength).toBe(Buffer.byteLength(text, "utf8"));
+          }
+          cases++;
+        });
+      }
+    expect(cases).toBeGreaterThan(10);
+    expect([...kinds].sort()).toEqual([false, true]);
+  });
 
   it("hold the nulls the cases above were chosen for", () => {
     const all = [

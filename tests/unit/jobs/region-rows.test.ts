@@ -10,9 +10,10 @@ import {
   decodeRegionPlot,
   decodeRegionRows,
   encodeRegionPlot,
+  encodeRegionPlotColumns,
   encodeRegionRows,
 } from "../../../server/jobs/region-rows";
-import { regionPlot } from "../../../server/stats/region-plot";
+import { regionPlot, regionPlotColumns } from "../../../server/stats/region-plot";
 import {
   type FitData,
   type ModelSpecInput,
@@ -281,6 +282,17 @@ describe("a region's plot data as stored", () => {
       }
     });
   }
+
+  it("writes the stored form the module note defines, drawn by column or point by point", () => {
+    const input: ModelSpecInput = { kind: "two-group", group: "group" };
+    const { plot, ids } = plotOf(input, "left insula");
+    const y = Float64Array.from(plot.points, (p) => p.y);
+    // The layout written out by hand from the module note of region-rows.ts.
+    const expected = `{"layout":"columns","n":${ids.length},"x":null,"group":${JSON.stringify(plot.points.map((p) => p.group))},"y":{"f64":"${Buffer.from(y.buffer).toString("base64")}"},"band":null,"groupMeans":${JSON.stringify(plot.groupMeans)},"notes":[]}`;
+    expect(encodeRegionPlot(plot, ids)).toBe(expected);
+    const columns = regionPlotColumns(modelSpecSchema.parse(input), data, "left insula", ids);
+    expect(encodeRegionPlotColumns(columns)).toBe(expected);
+  });
 
   it("stores a plot that is not the rows' participants in order, or that failed, as plain JSON", () => {
     const { plot, ids } = plotOf({ kind: "association", predictor: "accuracy" }, "left insula");
