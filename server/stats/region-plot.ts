@@ -77,10 +77,11 @@ const positions = new WeakMap<readonly string[], ReadonlyMap<string, number>>();
 /**
  * A region's plot data with its points by column: the participant
  * `participants[i]` has trait value x[i], group label group[i] and
- * contrast value y[i] (x and group null where every point's is). The fit
- * thread stores this form (server/jobs/region-rows.ts): at 20,000
- * participants, making a point object each only to read them back column
- * by column was most of a region's plot.
+ * contrast value y[i] (x null but for an association, group null without
+ * a group column: every point's is then null). The fit thread stores this
+ * form (server/jobs/region-rows.ts): at 20,000 participants, making a point
+ * object each only to read them back column by column was most of a
+ * region's plot.
  */
 export interface RegionPlotByColumn extends Omit<RegionPlot, "points"> {
   participants: readonly string[];
