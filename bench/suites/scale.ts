@@ -69,6 +69,7 @@ import { queueDispatch } from "../../server/worker/fit-dispatch";
 import { MessageChannel } from "node:worker_threads";
 import type { FitTask, FitTaskOutcome } from "../../server/jobs/fit-task";
 import { startPostgresServer } from "../../tests/support/postgres-server";
+import { cpuAccount, cpuSnapshot } from "../cpu-account";
 import type { KernelTask } from "../kernel-task";
 import { specOfRecipe } from "../../contract/recipe";
 import { modelSpecSchema } from "../../contract/spec";
@@ -235,7 +236,9 @@ export default async function scaleBench(): Promise<void> {
       label: string,
       jobs: ReturnType<typeof createFitJobs>,
       modelId = model.id,
+      workerPids: readonly number[] = [],
     ) {
+      const cpuBefore = cpuSnapshot(workerPids);
       const start = performance.now();
       const startedAt = Date.now();
       const view = await createFit(db, jobs, actor, study, modelId, new Date(), "bench");
@@ -250,8 +253,9 @@ export default async function scaleBench(): Promise<void> {
         await new Promise((r) => setTimeout(r, 100));
       }
       const wall = (performance.now() - start) / 1000;
+      const cpu = cpuAccount(cpuBefore, cpuSnapshot(workerPids));
       const [row] = await db.select().from(fits).where(eq(fits.id, view.id));
-      return { id: view.id, wall, startedAt, result: JSON.stringify(row.result) };
+      return { id: view.id, wall, startedAt, result: JSON.stringify(row.result), cpu };
     }
 
     const embeddedJobs = createFitJobs(db, { threads: 1 });
@@ -260,6 +264,7 @@ export default async function scaleBench(): Promise<void> {
     console.log(
       `embedded path (plan and chunks on ${embeddedJobs.chunkThreads} chunk threads, regions before the test on the fit thread beside them, merge on a chunk thread): ${embedded.wall.toFixed(1)} s`,
     );
+    if (embedded.cpu) console.log(`  ${embedded.cpu} (the embedded path runs in this process)`);
 
     // The kernel's cost per chunk, on one thread (the same chunks the workers compute), timed in
     // the thread after a chunk of warm-up, as the embedded path and the workers run chunks.
@@ -356,13 +361,16 @@ export default async function scaleBench(): Promise<void> {
       /** Seconds per chunk and worker once the regions before the test were stored (only chunks left), and how many such chunks. */
       tailChunk: number | null;
       tailCount: number;
+      /** Where the machine's CPU time went during the run (cpu-account.ts). */
+      cpu: string | null;
     }[] = [];
     for (const count of [1, 2]) {
       while (workers.length < count) workers.push(startWorker(databaseUrl));
       await Promise.all(workers.map((w) => w.ready));
       const jobs = createFitJobs(db, { dispatch: queueDispatch(db) });
       await runFitVia(`warm-up on ${count} worker(s)`, jobs, warmUp.id);
-      const run = await runFitVia(`${count} worker(s)`, jobs);
+      const pids = workers.map((w) => w.child.pid).filter((pid) => pid !== undefined);
+      const run = await runFitVia(`${count} worker(s)`, jobs, model.id, pids);
       await jobs.close();
       const parts = await db
         .select({ at: fitChunks.computedAt, block: fitChunks.block, worker: fitChunks.workerId })
@@ -390,6 +398,7 @@ export default async function scaleBench(): Promise<void> {
             count
           : null;
       results.push({
+        cpu: run.cpu,
         tailChunk,
         tailCount: tail.length,
         workers: count,
@@ -421,6 +430,7 @@ export default async function scaleBench(): Promise<void> {
         `${r.workers} worker process(es): ${r.wall.toFixed(1)} s · per worker ${perWorker.toFixed(2)} GFLOP/s = ${((100 * perWorker) / kernel).toFixed(0)} % of the kernel on one thread${r.workers >= 2 ? `, ${((100 * perWorker) / kernelPerCore).toFixed(0)} % of its per-core throughput with both cores computing; the whole fit at ${((100 * embedded.wall) / r.wall).toFixed(0)} % of the embedded path's speed on the same ${embeddedJobs.chunkThreads} cores` : ""} · not computing ${overhead.toFixed(1)} s (${((100 * overhead) / r.wall).toFixed(1)} % of the run: before the first chunk ${r.beforeFirst.toFixed(1)} s, between chunks ${between.toFixed(1)} s = ${((1000 * between * r.workers) / plan.chunks).toFixed(0)} ms per chunk and worker, after the last part — merge and storing the result — ${r.mergeSeconds.toFixed(2)} s; less the regions before the test's own computing, ${(rowsSeconds / r.workers).toFixed(1)} s per worker: ${besides.toFixed(1)} s = ${((100 * besides) / r.wall).toFixed(1)} % for the queue, storing and the merge) · the regions before the test stored by ${r.beforeTestAt.toFixed(1)} s${r.tailChunk === null ? "" : ` · after them, ${r.tailCount} chunks at ${(1000 * r.tailChunk).toFixed(0)} ms per chunk and worker (${((100 * perCoreChunk) / r.tailChunk).toFixed(0)} % of the kernel's ${r.workers >= 2 ? "two-at-a-time" : "one-thread"} time)`} · each worker's first chunk stored at ${r.firstChunks.map((x) => `${x.toFixed(1)} s`).join(", ")} · same numbers as the embedded path: ${r.same ? "yes" : "NO"}`,
       );
     }
+    for (const r of results) if (r.cpu) console.log(`  ${r.workers} worker process(es): ${r.cpu}`);
     console.log(`chunk rows stored: ${stored} (each chunk of each run once)`);
 
     // Projection to the issue's size: a chunk's kernel time grows with the participants, and so does the part beside the chunks.

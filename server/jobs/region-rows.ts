@@ -206,7 +206,7 @@ function fieldColumn(column: FieldColumn, n: number): WrittenColumn {
 
 /** Whether any of the doubles is NaN (a plain loop: `some(Number.isNaN)` took a call per value). */
 function hasNaN(doubles: Float64Array): boolean {
-  for (let i = 0; i < doubles.length; i++) if (doubles[i] !== doubles[i]) return true;
+  for (let i = 0; i < doubles.length; i++) if (Number.isNaN(doubles[i])) return true;
   return false;
 }
 
