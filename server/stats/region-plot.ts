@@ -75,6 +75,33 @@ function positionsOf(participants: readonly string[]): ReadonlyMap<string, numbe
 const positions = new WeakMap<readonly string[], ReadonlyMap<string, number>>();
 
 /**
+ * The roster positions of `included`, found once per list of participants
+ * (a fit's regions on the same rows share one). Throws StatsError for a
+ * participant not in the roster.
+ */
+function rosterRows(
+  participants: readonly string[],
+  included: readonly string[],
+): readonly number[] {
+  const kept = rowsOfIncluded.get(included);
+  if (kept?.participants === participants) return kept.rows;
+  const position = positionsOf(participants);
+  const rows = new Array<number>(included.length);
+  for (let k = 0; k < included.length; k++) {
+    const i = position.get(included[k]);
+    if (i === undefined) throw new StatsError(`regionPlot: unknown participant '${included[k]}'`);
+    rows[k] = i;
+  }
+  rowsOfIncluded.set(included, { participants, rows });
+  return rows;
+}
+
+const rowsOfIncluded = new WeakMap<
+  readonly string[],
+  { participants: readonly string[]; rows: readonly number[] }
+>();
+
+/**
  * A region's plot data with its points by column: the participant
  * `participants[i]` has trait value x[i], group label group[i] and
  * contrast value y[i] (x null but for an association, group null without
@@ -129,14 +156,8 @@ export function regionPlotColumns(
   const gridPoints = options.gridPoints ?? BAND_GRID_POINTS;
   const r = data.regions.indexOf(region);
   if (r < 0) throw new StatsError(`regionPlot: unknown region '${region}'`);
-  const position = positionsOf(data.participants);
   const n = included.length;
-  const rows = new Array<number>(n);
-  for (let k = 0; k < n; k++) {
-    const i = position.get(included[k]);
-    if (i === undefined) throw new StatsError(`regionPlot: unknown participant '${included[k]}'`);
-    rows[k] = i;
-  }
+  const rows = rosterRows(data.participants, included);
   const values = data.values[r];
   const predictor =
     spec.kind === "association" && spec.predictor ? numericColumn(data, spec.predictor) : null;

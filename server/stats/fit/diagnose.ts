@@ -51,7 +51,7 @@ export function diagnoseRegion(prep: Prepared, work: RegionWork): ParticipantRow
   sensitivityRefit(prep, prep.data.values[work.r], rows, d, diag, result);
   return diagnosedRows({
     region,
-    ids: rows.map((i) => ids[i]),
+    ids: idsOf(rows, ids),
     diagnostics: diag,
     coefficientNames: d.design.columnNames,
     value: d.y,
@@ -59,6 +59,24 @@ export function diagnoseRegion(prep: Prepared, work: RegionWork): ParticipantRow
     residual: fit.residuals,
   });
 }
+
+/**
+ * The participants at `rows`, made once per rows array: regions whose rows
+ * are the fit's shared eligible rows (every region without a missing value)
+ * share one list, and so its stored text (participant-rows.ts).
+ */
+function idsOf(rows: readonly number[], participants: readonly string[]): readonly string[] {
+  const kept = idsOfRows.get(rows);
+  if (kept?.participants === participants) return kept.ids;
+  const ids = rows.map((i) => participants[i]);
+  idsOfRows.set(rows, { participants, ids });
+  return ids;
+}
+
+const idsOfRows = new WeakMap<
+  readonly number[],
+  { participants: readonly string[]; ids: readonly string[] }
+>();
 
 /**
  * Leave-one-out range of the least-squares coefficient, exact: b − b(i) =

@@ -109,7 +109,8 @@ export function diagnosedRows(d: DiagnosedRegion): ColumnRows {
   const field = (name: string): FieldColumn => {
     switch (name) {
       case "participant":
-        return { values: d.ids.slice() };
+        // The text of the ids' array, as encodeColumn writes an array of strings: once per ids list.
+        return { json: idsJson(d.ids) };
       case "leverage":
         return numbers(c.leverage);
       case "studentizedResidual":
@@ -202,6 +203,18 @@ export function diagnosedRows(d: DiagnosedRegion): ColumnRows {
     field,
   };
 }
+
+/** JSON text of a list of participant ids, kept per list (regions on the same rows share one: see diagnose.ts). */
+function idsJson(ids: readonly string[]): string {
+  let text = idsTexts.get(ids);
+  if (text === undefined) {
+    text = JSON.stringify(ids);
+    idsTexts.set(ids, text);
+  }
+  return text;
+}
+
+const idsTexts = new WeakMap<readonly string[], string>();
 
 /** The first ±Infinity among the rows before `rows` that have DFBETAS (NaN stands for null). */
 function firstInfinite(
