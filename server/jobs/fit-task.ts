@@ -58,14 +58,6 @@ export interface FitTask {
   fullPriority?: boolean;
 }
 
-/** One region's per-participant diagnostics and plot data, as JSON text. */
-export interface RegionRows {
-  position: number;
-  region: string;
-  participants: string;
-  plot: string | null;
-}
-
 export type FitTaskMessage =
   | { type: "started" }
   | { type: "progress"; fraction: number }

@@ -36,6 +36,7 @@ import { nullIfNaN } from "../stats/diagnostics";
 import type { FieldColumn, ParticipantRows } from "../stats/fit/participant-rows";
 import type { RegionPlot } from "../../contract/views/fits";
 import type { RegionPlotByColumn } from "../stats/region-plot";
+import type { RegionRowInput } from "./fit-jobs";
 
 type Column = unknown[] | { f64: string } | { object: Record<string, Column> };
 
@@ -101,8 +102,9 @@ function writeParticipantRows(text: PieceText, rows: ParticipantRows): void {
  */
 export interface RegionTextBytes {
   bytes: Uint8Array;
-  /** the rows' text is bytes [0, rowsLength), the plot's the rest (null: no plot) */
+  /** the rows' text is bytes [0, rowsLength), the plot's the rest */
   rowsLength: number;
+  /** whether the region has a plot (false: no plot text, stored as null) */
   plot: boolean;
   /** every byte is ASCII (read back as Latin-1, several times faster than UTF-8) */
   ascii: boolean;
@@ -135,12 +137,9 @@ export function regionTextsOf(texts: RegionTextBytes): {
 }
 
 /** A region's position, name and texts (a fit thread's region message) as stored. */
-export function regionRowsOf(message: { position: number; region: string } & RegionTextBytes): {
-  position: number;
-  region: string;
-  participants: string;
-  plot: string | null;
-} {
+export function regionRowsOf(
+  message: { position: number; region: string } & RegionTextBytes,
+): RegionRowInput {
   return { position: message.position, region: message.region, ...regionTextsOf(message) };
 }
 
