@@ -22,7 +22,8 @@
  * the versions its recipe names (through the `FitDataSource` it is given),
  * hands data and model to a worker, receives `started`, throttled
  * `progress` and then one message per region (its diagnostics and plot
- * data as JSON text) through a MessagePort, and records status, progress
+ * data as JSON text, in one transferred buffer of UTF-8 bytes:
+ * `regionRowsOf`) through a MessagePort, and records status, progress
  * (at most every `progressWriteMs`), time left, each region's rows as they
  * arrive, and finally the result.
  *

@@ -126,7 +126,7 @@ export default function runFitTask(task: FitTask): FitTaskOutcome {
   // The port is left open: messages still queued on it must reach the main thread, which closes its end.
 }
 
-/** Sends one region's message: its participants' rows and plot data, as JSON text. */
+/** Sends one region's message: its participants' rows and plot data, as JSON text in one transferred buffer. */
 function postRegion(task: FitTask, position: number, region: string, rows: ParticipantRows): void {
   let plot: RegionPlotByColumn | { error: string } | null = null;
   if (rows.n > 0) {
