@@ -118,7 +118,11 @@ function startWorker(databaseUrl: string): {
   exited: Promise<unknown>;
   ready: Promise<void>;
 } {
-  const child = spawn(process.execPath, ["--import", "tsx", "server/worker/index.ts"], {
+  // BENCH_PROF=<directory>: each worker process writes CPU profiles of its threads there.
+  const profile = process.env.BENCH_PROF
+    ? ["--cpu-prof", `--cpu-prof-dir=${process.env.BENCH_PROF}`]
+    : [];
+  const child = spawn(process.execPath, [...profile, "--import", "tsx", "server/worker/index.ts"], {
     cwd: root,
     env: { NODE_ENV: "production", PATH: process.env.PATH, DATABASE_URL: databaseUrl },
     stdio: ["ignore", "pipe", "pipe"],
