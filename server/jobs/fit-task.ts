@@ -26,7 +26,7 @@ import type { MessagePort } from "node:worker_threads";
 import type { FitData, FitResult, ModelSpec, RegionResult } from "../../contract/spec";
 import { StatsError } from "../stats/errors";
 import type { ParticipantRows } from "../stats/fit/participant-rows";
-import { type RegionPlotByColumn, regionPlotColumns } from "../stats/region-plot";
+import { type RegionPlotByColumn, regionPlotColumns, rosterPositions } from "../stats/region-plot";
 import { FIT_LEVEL, regionsBeforeTestByRegion, runFitByRegion } from "../stats/run-fit";
 import { type MergedChunks, mergeOptions } from "./fit-chunks";
 import { type RegionTextBytes, encodeRegionTexts } from "./region-rows";
@@ -131,7 +131,11 @@ function postRegion(task: FitTask, position: number, region: string, rows: Parti
   let plot: RegionPlotByColumn | { error: string } | null = null;
   if (rows.n > 0) {
     try {
-      plot = regionPlotColumns(task.spec, task.data, region, rows.ids, { level: FIT_LEVEL });
+      // Diagnosed rows know their roster positions; rows made as objects know their ids only.
+      const positions = rows.byColumn
+        ? rows.positions
+        : rosterPositions(task.data.participants, rows.ids);
+      plot = regionPlotColumns(task.spec, task.data, region, positions, { level: FIT_LEVEL });
     } catch (e) {
       if (!(e instanceof StatsError)) throw e;
       plot = { error: e.message };

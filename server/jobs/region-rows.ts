@@ -528,7 +528,6 @@ export function encodeRegionPlot(
     return JSON.stringify(plot);
   const { points, band, groupMeans, notes } = plot;
   return encodeRegionPlotColumns({
-    participants,
     x: points.map((p) => p.x),
     group: points.map((p) => p.group),
     y: Float64Array.from(points, (p) => p.y),

@@ -75,43 +75,31 @@ function positionsOf(participants: readonly string[]): ReadonlyMap<string, numbe
 const positions = new WeakMap<readonly string[], ReadonlyMap<string, number>>();
 
 /**
- * The roster positions of `included`, found once per list of participants
- * (a fit's regions on the same rows share one). Throws StatsError for a
- * participant not in the roster.
+ * The roster positions of the participants `included`, in their order.
+ * Throws StatsError for a participant not in the roster.
  */
-function rosterRows(
+export function rosterPositions(
   participants: readonly string[],
   included: readonly string[],
-): readonly number[] {
-  const kept = rowsOfIncluded.get(included);
-  if (kept?.participants === participants) return kept.rows;
+): number[] {
   const position = positionsOf(participants);
-  const rows = new Array<number>(included.length);
-  for (let k = 0; k < included.length; k++) {
-    const i = position.get(included[k]);
-    if (i === undefined) throw new StatsError(`regionPlot: unknown participant '${included[k]}'`);
-    rows[k] = i;
-  }
-  rowsOfIncluded.set(included, { participants, rows });
-  return rows;
+  return included.map((id) => {
+    const i = position.get(id);
+    if (i === undefined) throw new StatsError(`regionPlot: unknown participant '${id}'`);
+    return i;
+  });
 }
 
-const rowsOfIncluded = new WeakMap<
-  readonly string[],
-  { participants: readonly string[]; rows: readonly number[] }
->();
-
 /**
- * A region's plot data with its points by column: the participant
- * `participants[i]` has trait value x[i], group label group[i] and
- * contrast value y[i] (x null but for an association, group null without
- * a group column: every point's is then null). The fit thread stores this
- * form (server/jobs/region-rows.ts): at 20,000 participants, making a point
- * object each only to read them back column by column was most of a
- * region's plot.
+ * A region's plot data with its points by column, in the order of the
+ * participants it was drawn for: point i has trait value x[i], group label
+ * group[i] and contrast value y[i] (x null but for an association, group
+ * null without a group column: every point's is then null). The fit thread
+ * stores this form (server/jobs/region-rows.ts): at 20,000 participants,
+ * making a point object each only to read them back column by column was
+ * most of a region's plot.
  */
 export interface RegionPlotByColumn extends Omit<RegionPlot, "points"> {
-  participants: readonly string[];
   x: readonly (number | null)[] | null;
   group: readonly (string | null)[] | null;
   y: Float64Array;
@@ -128,14 +116,9 @@ export function regionPlot(
   included: readonly string[],
   options: { level?: number; gridPoints?: number } = {},
 ): RegionPlot {
-  const { participants, x, group, y, ...rest } = regionPlotColumns(
-    spec,
-    data,
-    region,
-    included,
-    options,
-  );
-  const points = participants.map((participant, i) => ({
+  const positions = rosterPositions(data.participants, included);
+  const { x, group, y, ...rest } = regionPlotColumns(spec, data, region, positions, options);
+  const points = included.map((participant, i) => ({
     participant,
     x: x ? x[i] : null,
     group: group ? group[i] : null,
@@ -144,20 +127,23 @@ export function regionPlot(
   return { points, ...rest };
 }
 
-/** `regionPlot` with its points by column (see RegionPlotByColumn): the same numbers. */
+/**
+ * `regionPlot` with its points by column (see RegionPlotByColumn), for the
+ * participants at roster positions `rows` (the fit's participants there,
+ * in roster order, as the diagnose stage has them): the same numbers.
+ */
 export function regionPlotColumns(
   spec: ModelSpec,
   data: FitData,
   region: string,
-  included: readonly string[],
+  rows: readonly number[],
   options: { level?: number; gridPoints?: number } = {},
 ): RegionPlotByColumn {
   const level = options.level ?? 0.95;
   const gridPoints = options.gridPoints ?? BAND_GRID_POINTS;
   const r = data.regions.indexOf(region);
   if (r < 0) throw new StatsError(`regionPlot: unknown region '${region}'`);
-  const n = included.length;
-  const rows = rosterRows(data.participants, included);
+  const n = rows.length;
   const values = data.values[r];
   const predictor =
     spec.kind === "association" && spec.predictor ? numericColumn(data, spec.predictor) : null;
@@ -177,7 +163,7 @@ export function regionPlotColumns(
   }
   const xs = predictor ? rows.map((i) => predictor[i]) : null;
   const groups = groupOf ? rows.map((i) => groupOf[i]) : null;
-  const columns = { participants: included, x: xs, group: groups, y };
+  const columns = { x: xs, group: groups, y };
   const notes: string[] = [];
   if (spec.kind === "one-sample") {
     return {

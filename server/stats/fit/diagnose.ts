@@ -52,6 +52,7 @@ export function diagnoseRegion(prep: Prepared, work: RegionWork): ParticipantRow
   return diagnosedRows({
     region,
     ids: idsOf(rows, ids),
+    positions: rows,
     diagnostics: diag,
     coefficientNames: d.design.columnNames,
     value: d.y,

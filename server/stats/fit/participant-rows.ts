@@ -49,6 +49,8 @@ interface RowsCommon {
 /** Rows the diagnose stage made, by column: every row has every field. */
 export interface ColumnRows extends RowsCommon {
   byColumn: true;
+  /** the participants' positions in the fit's roster, in the rows' order */
+  positions: readonly number[];
   /** field names in a row's order (without `region`) */
   names(): string[];
   /** field `name` of every row */
@@ -64,6 +66,8 @@ export interface ObjectRows extends RowsCommon {
 export interface DiagnosedRegion {
   region: string;
   ids: readonly string[];
+  /** the participants' positions in the fit's roster, in the rows' order */
+  positions: readonly number[];
   diagnostics: DiagnosticColumns;
   /** the design's column names, one DFBETAS each */
   coefficientNames: readonly string[];
@@ -196,6 +200,7 @@ export function diagnosedRows(d: DiagnosedRegion): ColumnRows {
     region: d.region,
     n,
     ids: d.ids,
+    positions: d.positions,
     firstNonFinite,
     row,
     rows: () => Array.from({ length: n }, (_, i) => row(i)),

@@ -135,7 +135,8 @@ describe("a region's rows by column", () => {
         const regions = [fitData.regions[0], fitData.regions[2]];
         const spec = modelSpecSchema.parse({ ...input, regions });
         runFitByRegion(spec, fitData, {}, (position, region, rows) => {
-          const plot = regionPlotColumns(spec, fitData, region, rows.ids);
+          if (!rows.byColumn) throw new Error("the diagnose stage hands on rows by column");
+          const plot = regionPlotColumns(spec, fitData, region, rows.positions);
           for (const [texts, plotText] of [
             [
               encodeRegionTexts(rows, plot),
@@ -196,6 +197,7 @@ describe("a region's rows by column", () => {
     const rows = diagnosedRows({
       region: "r",
       ids: ["a", "b", "c", "d", "e"],
+      positions: [0, 1, 2, 3, 4],
       diagnostics: regressionDiagnosticColumns(qr, fit, { interceptColumn: 0 }),
       coefficientNames: ["(intercept)", "x"],
       value: y,

@@ -13,7 +13,7 @@ import {
   encodeRegionPlotColumns,
   encodeRegionRows,
 } from "../../../server/jobs/region-rows";
-import { regionPlot, regionPlotColumns } from "../../../server/stats/region-plot";
+import { regionPlot, regionPlotColumns, rosterPositions } from "../../../server/stats/region-plot";
 import {
   type FitData,
   type ModelSpecInput,
@@ -290,7 +290,8 @@ describe("a region's plot data as stored", () => {
     // The layout written out by hand from the module note of region-rows.ts.
     const expected = `{"layout":"columns","n":${ids.length},"x":null,"group":${JSON.stringify(plot.points.map((p) => p.group))},"y":{"f64":"${Buffer.from(y.buffer).toString("base64")}"},"band":null,"groupMeans":${JSON.stringify(plot.groupMeans)},"notes":[]}`;
     expect(encodeRegionPlot(plot, ids)).toBe(expected);
-    const columns = regionPlotColumns(modelSpecSchema.parse(input), data, "left insula", ids);
+    const positions = rosterPositions(data.participants, ids);
+    const columns = regionPlotColumns(modelSpecSchema.parse(input), data, "left insula", positions);
     expect(encodeRegionPlotColumns(columns)).toBe(expected);
   });
 
