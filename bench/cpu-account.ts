@@ -1,8 +1,10 @@
 /**
  * Benchmark helper: where a machine's CPU time went during a run, from
  * Linux's /proc — each worker process with its busiest thread (a worker's
- * chunk thread), the PostgreSQL server's processes (those ended included,
- * through their parent's count), this bench process, and the machine's
+ * chunk thread), every process named `postgres` on the machine (the
+ * bench's throw-away server; those ended included, through their parent's
+ * count — another PostgreSQL server running meanwhile would be counted
+ * too), this bench process, and the machine's
  * idle time, time waiting on the disk and time the host took for others
  * (steal), in core-seconds. On a machine without /proc the snapshot is
  * null and nothing is printed. Not a suite (bench/index.ts runs only the
@@ -18,7 +20,7 @@ export interface CpuSnapshot {
   machine: number[];
   /** per worker process: its own ticks and each thread's */
   workers: { pid: number; ticks: number; threads: Map<number, number> }[];
-  /** the PostgreSQL processes' ticks, those ended and reaped by their parent included */
+  /** the ticks of every process named postgres, those ended and reaped by their parent included */
   database: number;
   /** this process's CPU, user and system (µs) */
   self: NodeJS.CpuUsage;

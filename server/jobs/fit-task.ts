@@ -3,8 +3,9 @@
  * every region with participant diagnostics, the data its plots draw
  * (`regionPlotColumns`), and serializes each region's rows and plot to text
  * here, off the request thread (column by column, region-rows.ts), as UTF-8
- * bytes handed on without a copy (region-rows.ts' `regionRowsOf` reads them back). Workers compute only —
- * no database, no files; the main thread writes everything.
+ * bytes handed on without a copy (region-rows.ts' `regionRowsOf` reads them
+ * back). Workers compute only — no database, no files; the main thread
+ * writes everything.
  *
  * Messages on `port` (the main thread's end of a MessageChannel):
  * `{ type: "started" }` first; `{ type: "progress", fraction }` at most
