@@ -8,6 +8,7 @@ import { roleLabel } from "./studies-screen";
 import { useAcceptInvitation, useInvitationPreview } from "../hooks/use-team";
 import { useMe } from "../hooks/use-me";
 import { useAuthOptions, useSignOut } from "../hooks/use-auth";
+import { mutateThen } from "../hooks/mutate-then";
 
 /** The page an invitation e-mail links to: who invites whom to what, and the accept button. */
 export function InvitationScreen(props: { token: string }) {
@@ -71,9 +72,9 @@ export function InvitationScreen(props: { token: string }) {
                   testID="accept-invitation"
                   busy={accept.isPending}
                   onPress={() =>
-                    accept.mutate(undefined, {
-                      onSuccess: (result) => router.replace(`/studies/${result.studyId}`),
-                    })
+                    mutateThen(accept, undefined, (result) =>
+                      router.replace(`/studies/${result.studyId}`),
+                    )
                   }
                 />
               </>

@@ -47,6 +47,7 @@ import {
   kindLabels,
   optionsOf,
 } from "../contract/labels";
+import { mutateThen } from "../hooks/mutate-then";
 
 type Kind = ModelSpec["kind"];
 type Estimator = ModelSpec["estimator"];
@@ -223,16 +224,12 @@ function Form({
       return;
     }
     setProblems([]);
-    create.mutate(checked.data as ModelCreateInput, {
-      onSuccess: (model) => {
-        if (!thenRun) {
-          router.replace(`/studies/${studyId}/models`);
-          return;
-        }
-        runFit.mutate(model.id, {
-          onSuccess: (fit) => router.replace(`/studies/${studyId}/fits/${fit.id}`),
-        });
-      },
+    mutateThen(create, checked.data as ModelCreateInput, (model) => {
+      if (!thenRun) {
+        router.replace(`/studies/${studyId}/models`);
+        return;
+      }
+      mutateThen(runFit, model.id, (fit) => router.replace(`/studies/${studyId}/fits/${fit.id}`));
     });
   };
 

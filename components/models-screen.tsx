@@ -8,6 +8,7 @@ import { useModels, type ModelView } from "../hooks/use-models";
 import { useRunFit } from "../hooks/use-fits";
 import { PlanCard } from "./plan-card";
 import { ruleText } from "../contract/exclusion-rules";
+import { mutateThen } from "../hooks/mutate-then";
 
 /** Saved models of a study, each a question in plain words, with a run button. */
 export function ModelsScreen(props: { studyId: string }) {
@@ -93,9 +94,7 @@ function ModelCard({
           <Button
             label="Run fit"
             onPress={() =>
-              run.mutate(model.id, {
-                onSuccess: (fit) => router.push(`/studies/${studyId}/fits/${fit.id}`),
-              })
+              mutateThen(run, model.id, (fit) => router.push(`/studies/${studyId}/fits/${fit.id}`))
             }
             busy={run.isPending}
             testID="run-fit"

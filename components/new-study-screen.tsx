@@ -4,6 +4,7 @@ import { useRouter } from "expo-router";
 import { Button, Card, Field, Heading, Notice, Txt } from "./ui";
 import { space } from "./theme";
 import { useCreateStudy } from "../hooks/use-study";
+import { mutateThen } from "../hooks/mutate-then";
 
 export function NewStudyScreen() {
   const [name, setName] = useState("");
@@ -47,9 +48,10 @@ export function NewStudyScreen() {
           busy={create.isPending}
           testID="create-study"
           onPress={() =>
-            create.mutate(
+            mutateThen(
+              create,
               { name: name.trim(), description: description.trim() || undefined, restricted },
-              { onSuccess: (study) => router.replace(`/studies/${study.id}/data`) },
+              (study) => router.replace(`/studies/${study.id}/data`),
             )
           }
         />

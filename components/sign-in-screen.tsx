@@ -15,6 +15,7 @@ import {
 } from "../hooks/use-auth";
 import { meKeys } from "../hooks/use-me";
 import { researchUseCaution } from "../contract/cautions";
+import { mutateThen } from "../hooks/mutate-then";
 
 const roleBlurb: Record<string, string> = {
   owner: "manages members and can do everything",
@@ -165,11 +166,9 @@ function DemoAccounts({ accounts }: { accounts: AuthOptions["demoAccounts"] }) {
           label={`${account.name} — ${account.role}`}
           accessibilityLabel={`Sign in as the demo ${account.role}`}
           onPress={() =>
-            signIn.mutate(account.email, {
-              onSuccess: async () => {
-                await client.invalidateQueries({ queryKey: meKeys.all });
-                router.replace("/studies");
-              },
+            mutateThen(signIn, account.email, async () => {
+              await client.invalidateQueries({ queryKey: meKeys.all });
+              router.replace("/studies");
             })
           }
           busy={signIn.isPending && signIn.variables === account.email}

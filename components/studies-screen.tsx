@@ -10,6 +10,7 @@ import {
   type StudySummary,
 } from "../hooks/use-studies";
 import { dateWords } from "../contract/dates";
+import { mutateThen } from "../hooks/mutate-then";
 
 export function StudiesScreen() {
   const studies = useStudies();
@@ -88,11 +89,7 @@ function DeletedCard({ study }: { study: DeletedStudy }) {
         variant="secondary"
         accessibilityLabel={`Restore ${study.name}`}
         busy={restore.isPending}
-        onPress={() =>
-          restore.mutate(study.id, {
-            onSuccess: () => router.push(`/studies/${study.id}`),
-          })
-        }
+        onPress={() => mutateThen(restore, study.id, () => router.push(`/studies/${study.id}`))}
         style={{ alignSelf: "flex-start" }}
         testID="restore-study"
       />

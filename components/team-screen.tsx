@@ -29,6 +29,7 @@ import type { Role } from "../hooks/use-studies";
 import { secondPersonSignOffExplanation, secondPersonSignOffLabel } from "../contract/sign-off";
 import { restorableUntil, restoreWindowDays } from "../contract/study-lifecycle";
 import { dateWords } from "../contract/dates";
+import { mutateThen } from "../hooks/mutate-then";
 
 export const roleOptions: readonly ChoiceOption<Role>[] = [
   { value: "owner", label: "Owner", hint: "manages members and can do everything" },
@@ -185,9 +186,7 @@ function MemberRow({
           <Button
             variant="quiet"
             label="Leave this study"
-            onPress={() =>
-              remove.mutate(member.userId, { onSuccess: () => router.replace("/studies") })
-            }
+            onPress={() => mutateThen(remove, member.userId, () => router.replace("/studies"))}
             busy={remove.isPending}
           />
         ) : null}
@@ -423,7 +422,7 @@ function DeleteStudy({ study }: { study: StudyDetail }) {
         variant="danger"
         disabled={typed !== study.name}
         busy={remove.isPending}
-        onPress={() => remove.mutate(typed, { onSuccess: () => router.replace("/studies") })}
+        onPress={() => mutateThen(remove, typed, () => router.replace("/studies"))}
       />
     </Card>
   );

@@ -30,6 +30,7 @@ import { smallSampleCaution } from "../../contract/cautions";
 import { planVerdict } from "../../contract/plans";
 import type { ModelSpec, RegionResult } from "../../contract/spec";
 import { type FitView, useRunFit } from "../../hooks/use-fits";
+import { mutateThen } from "../../hooks/mutate-then";
 
 export function FitHeader({
   fit,
@@ -226,9 +227,9 @@ function StaleNotice({ fit, canRun }: { fit: FitView; canRun: boolean }) {
           testID="fit-refit"
           busy={run.isPending}
           onPress={() =>
-            run.mutate(fit.model.id, {
-              onSuccess: (created) => router.push(`/studies/${fit.studyId}/fits/${created.id}`),
-            })
+            mutateThen(run, fit.model.id, (created) =>
+              router.push(`/studies/${fit.studyId}/fits/${created.id}`),
+            )
           }
           style={styles.refitButton}
         />
@@ -252,9 +253,9 @@ function RunAgain({ fit }: { fit: FitView }) {
         testID="fit-run-again"
         busy={run.isPending}
         onPress={() =>
-          run.mutate(fit.model.id, {
-            onSuccess: (created) => router.push(`/studies/${fit.studyId}/fits/${created.id}`),
-          })
+          mutateThen(run, fit.model.id, (created) =>
+            router.push(`/studies/${fit.studyId}/fits/${created.id}`),
+          )
         }
         style={styles.refitButton}
       />

@@ -53,6 +53,7 @@ import {
   smallSampleTitle,
 } from "../../contract/cautions";
 import { setAsideLine } from "../../contract/set-aside-words";
+import { mutateThen } from "../../hooks/mutate-then";
 
 type Point = NonNullable<RegionDetail["points"]>[number];
 
@@ -500,9 +501,9 @@ function PreviewCard({
         <Button
           label="Refit every region"
           onPress={() =>
-            run.mutate(fit.model.id, {
-              onSuccess: (next) => router.push(`/studies/${fit.studyId}/fits/${next.id}`),
-            })
+            mutateThen(run, fit.model.id, (next) =>
+              router.push(`/studies/${fit.studyId}/fits/${next.id}`),
+            )
           }
           busy={run.isPending}
           testID="refit"
