@@ -40,6 +40,7 @@ import {
   undecidedIdentifiers,
   undecidedLeftOut,
 } from "./upload-decisions";
+import { mutateThen } from "../../hooks/mutate-then";
 
 const roleWords: Record<string, string> = {
   id: "participant id",
@@ -281,9 +282,7 @@ export function UploadPreview(props: {
       <View style={styles.actions}>
         <Button
           label="Confirm and store this version"
-          onPress={() =>
-            confirm.mutate(confirmInput(preview, decisions), { onSuccess: props.onConfirmed })
-          }
+          onPress={() => mutateThen(confirm, confirmInput(preview, decisions), props.onConfirmed)}
           busy={confirm.isPending}
           disabled={undecided.length > 0}
           testID="confirm-upload"

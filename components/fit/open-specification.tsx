@@ -9,6 +9,7 @@ import { StyleSheet, View } from "react-native";
 import { type OpenSpecification, useOpenSpecification } from "../../hooks/use-open-specification";
 import { Button, Notice, Txt } from "../ui";
 import { palette, space } from "../theme";
+import { mutateThen } from "../../hooks/mutate-then";
 
 export interface OpenSpecificationContext {
   studyId: string;
@@ -35,15 +36,14 @@ export function OpenSpecificationButton({
         testID="curve-open-specification"
         busy={open.isPending}
         onPress={() =>
-          open.mutate(
+          mutateThen(
+            open,
             { curve: context.curve, curveModel: context.curveModel, index, choice },
-            {
-              onSuccess: ({ fitId }) =>
-                router.push({
-                  pathname: "/studies/[studyId]/fits/[fitId]",
-                  params: { studyId: context.studyId, fitId },
-                }),
-            },
+            ({ fitId }) =>
+              router.push({
+                pathname: "/studies/[studyId]/fits/[fitId]",
+                params: { studyId: context.studyId, fitId },
+              }),
           )
         }
         style={styles.button}

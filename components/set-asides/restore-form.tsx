@@ -9,6 +9,7 @@ import { useRestoreSetAside, type SetAsideView } from "../../hooks/use-set-aside
 import { participantWords } from "../../contract/set-aside-words";
 import { space } from "../theme";
 import { Button, Field, Notice } from "../ui";
+import { mutateThen } from "../../hooks/mutate-then";
 
 export function RestoreForm(props: {
   studyId: string;
@@ -46,9 +47,8 @@ export function RestoreForm(props: {
           disabled={reason.trim().length === 0}
           busy={restore.isPending}
           onPress={() =>
-            restore.mutate(
-              { setAsideId: props.setAside.id, reason: reason.trim() },
-              { onSuccess: () => props.onRestored?.() },
+            mutateThen(restore, { setAsideId: props.setAside.id, reason: reason.trim() }, () =>
+              props.onRestored?.(),
             )
           }
           accessibilityLabel={`Restore ${who} and log the reason`}
