@@ -700,11 +700,23 @@ export const fitChunks = pgTable(
   ],
 );
 
-/** A worker process (`npm run worker`): its heartbeat, refreshed every few seconds while it runs. */
+/** A job a worker process has in hand: its queue and its id in the job queue. */
+export interface HeldJob {
+  queue: string;
+  id: string;
+}
+
+/**
+ * A worker process (`npm run worker`): its heartbeat, refreshed every few
+ * seconds while it runs (`seen_at`, the database's clock), and the jobs it
+ * has in hand, which another worker hands back to the queue when the
+ * heartbeat stops (server/worker/chunk-store.ts `reapStoppedWorkers`).
+ */
 export const workers = pgTable("workers", {
   id: text("id").primaryKey(),
   host: text("host").notNull(),
   pid: integer("pid").notNull(),
   startedAt: timestamp("started_at", { mode: "date", withTimezone: true }).notNull(),
   seenAt: timestamp("seen_at", { mode: "date", withTimezone: true }).notNull(),
+  jobs: jsonb("jobs").$type<HeldJob[]>().notNull().default([]),
 });

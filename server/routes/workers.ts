@@ -27,7 +27,7 @@ export function workerRoutes(deps: RouteDeps): Router {
         throw forbidden(
           "Only an Owner of a study or a server admin (ADMIN_EMAILS) may see the worker processes.",
         );
-      const workers: LiveWorker[] = await liveWorkers(deps.db, deps.clock());
+      const workers: LiveWorker[] = await liveWorkers(deps.db);
       res.json({ workers });
     },
   );

@@ -8,7 +8,11 @@ import type { Queryable } from "../../db/client";
 import { fitChunks, memberships, studies, workers } from "../../db/schema";
 import type { LiveWorker } from "../../contract/views/system";
 
-/** A heartbeat older than this counts as a stopped worker (workers beat every 5 s). */
+/**
+ * A heartbeat older than this counts as a stopped worker (workers beat
+ * every 5 s): it is not listed, and another worker hands the jobs it had
+ * in hand back to the queue (server/worker/fit-worker.ts).
+ */
 export const WORKER_ALIVE_SECONDS = 30;
 
 /** Whether the person is Owner of a study that is not deleted (who may see the workers). */
@@ -24,10 +28,8 @@ export async function ownsAStudy(db: Queryable, userId: string): Promise<boolean
   return rows.length > 0;
 }
 
-/** Live workers, by host, oldest first. */
-export async function liveWorkers(db: Queryable, now: Date): Promise<LiveWorker[]> {
-  const alive = new Date(now.getTime() - WORKER_ALIVE_SECONDS * 1000);
-  const minute = new Date(now.getTime() - 60_000);
+/** Live workers, by host, oldest first (heartbeats and chunks judged by the database's clock, which writes them). */
+export async function liveWorkers(db: Queryable): Promise<LiveWorker[]> {
   const rows = await db
     .select({
       id: workers.id,
@@ -35,10 +37,10 @@ export async function liveWorkers(db: Queryable, now: Date): Promise<LiveWorker[
       pid: workers.pid,
       startedAt: workers.startedAt,
       seenAt: workers.seenAt,
-      chunksLastMinute: sql<number>`(select count(*)::int from ${fitChunks} where ${fitChunks.workerId} = ${workers.id} and ${fitChunks.computedAt} > ${minute.toISOString()}::timestamptz)`,
+      chunksLastMinute: sql<number>`(select count(*)::int from ${fitChunks} where ${fitChunks.workerId} = ${workers.id} and ${fitChunks.computedAt} > now() - interval '1 minute')`,
     })
     .from(workers)
-    .where(gt(workers.seenAt, alive))
+    .where(gt(workers.seenAt, sql`now() - make_interval(secs => ${WORKER_ALIVE_SECONDS})`))
     .orderBy(workers.host, workers.startedAt);
   return rows.map((r) => ({
     ...r,

@@ -4,12 +4,12 @@
  * region chunks' setups (`fit_chunk_setups`, each written once, removed
  * when the fit ends), its
  * computed chunks (`fit_chunks`, each written once), the merge claim, and
- * worker heartbeats (`workers`; services/workers.ts lists them). PostgreSQL
- * server only.
+ * worker heartbeats with the jobs each has in hand (`workers`;
+ * services/workers.ts lists them). PostgreSQL server only.
  */
-import { and, count, eq, gt, isNull, lte, sql } from "drizzle-orm";
+import { and, count, eq, gt, isNull, lt, lte, sql } from "drizzle-orm";
 import { type Database, driverOf } from "../../db/client";
-import { fitChunkSetups, fitChunks, fitRuns, fits, workers } from "../../db/schema";
+import { fitChunkSetups, fitChunks, fitRuns, fits, type HeldJob, workers } from "../../db/schema";
 import {
   deserializeSetup,
   type RegionChunkSetup,
@@ -112,11 +112,11 @@ export async function storeChunk(
   fitId: string,
   row: StoredChunk,
   workerId: string,
-  at: Date,
 ): Promise<number> {
+  // The database's clock, as the heartbeats: the workers' list counts chunks of the last minute by it.
   await db
     .insert(fitChunks)
-    .values({ fitId, ...row, workerId, computedAt: at })
+    .values({ fitId, ...row, workerId, computedAt: sql`now()` })
     .onConflictDoNothing();
   const [{ done }] = await db
     .select({ done: count() })
@@ -183,16 +183,37 @@ export async function withMergeLock(
   }
 }
 
-/** Writes (or refreshes) a worker's heartbeat. */
+/**
+ * Writes (or refreshes) a worker's heartbeat and the jobs it has in hand.
+ * The time is the database's, so that workers on machines whose clocks
+ * differ judge each other's heartbeats by one clock.
+ */
 export async function beat(
   db: Database,
   worker: { id: string; host: string; pid: number; startedAt: Date },
-  at: Date,
+  jobs: readonly HeldJob[],
 ): Promise<void> {
+  const held = [...jobs];
   await db
     .insert(workers)
-    .values({ ...worker, seenAt: at })
-    .onConflictDoUpdate({ target: workers.id, set: { seenAt: at } });
+    .values({ ...worker, seenAt: sql`now()`, jobs: held })
+    .onConflictDoUpdate({ target: workers.id, set: { seenAt: sql`now()`, jobs: held } });
+}
+
+/**
+ * Removes the heartbeats older than `aliveSeconds` (by the database's
+ * clock) and returns those workers with the jobs they had in hand. One
+ * statement: when several workers look at once, each stopped worker is
+ * returned to one of them.
+ */
+export async function reapStoppedWorkers(
+  db: Database,
+  aliveSeconds: number,
+): Promise<{ id: string; host: string; pid: number; jobs: HeldJob[] }[]> {
+  return db
+    .delete(workers)
+    .where(lt(workers.seenAt, sql`now() - make_interval(secs => ${aliveSeconds})`))
+    .returning({ id: workers.id, host: workers.host, pid: workers.pid, jobs: workers.jobs });
 }
 
 /** Removes a worker's heartbeat (it stopped). */

@@ -34,6 +34,15 @@
  *   rows unless already stored) through the fit store
  *   (services/fit-store.ts), as the embedded path does.
  *
+ * - `fit-failed` (the others' dead letter): a job whose last try failed;
+ *   its fit, if still queued or running, fails with the reason.
+ *
+ * Every few seconds a worker writes its heartbeat with the jobs it has in
+ * hand (also as soon as it takes one), and hands the jobs that no worker
+ * with a heartbeat younger than `WORKER_ALIVE_SECONDS` holds back to the
+ * queue as failed tries: a killed worker's chunk is computed again
+ * elsewhere within about half a minute, not after its lease.
+ *
  * A fit that fails, or a job that finds its fit cancelled, removes the
  * fit's region rows (they may have been stored before the chunks were all in).
  *
@@ -89,6 +98,7 @@ import {
   hasChunk,
   markMerged,
   planOf,
+  reapStoppedWorkers,
   recordPlan,
   setupOf,
   storeChunk,
@@ -99,13 +109,19 @@ import {
 import {
   CHUNK_QUEUE,
   type ChunkJobData,
+  FAILED_QUEUE,
   FIT_QUEUE,
   type FitJobData,
   MERGE_QUEUE,
+  failureOf,
+  orphanedJobs,
   ROWS_QUEUE,
   type RowsJobData,
   startQueue,
+  WORKER_STOPPED,
+  workerLostMessage,
 } from "./queue";
+import { WORKER_ALIVE_SECONDS } from "../services/workers";
 
 export interface FitWorkerOptions {
   db: Database;
@@ -143,6 +159,10 @@ export class FitWorker {
   private chunkPool: Piscina | null = null;
   private fitPool: Piscina | null = null;
   private heartbeat: ReturnType<typeof setInterval> | null = null;
+  /** The jobs in hand, by id: their queues (written with each heartbeat). */
+  private readonly held = new Map<string, string>();
+  /** The heartbeat being written: one write at a time, each with the jobs in hand when it starts. */
+  private beating: Promise<void> = Promise.resolve();
   private stopped = false;
 
   private constructor(private readonly options: FitWorkerOptions) {
@@ -163,7 +183,10 @@ export class FitWorker {
   private async begin(): Promise<void> {
     await this.beat();
     this.heartbeat = setInterval(
-      () => void this.beat().catch((error) => this.log(error, "worker heartbeat")),
+      () =>
+        void this.beat()
+          .then(() => this.handBackJobsOfStoppedWorkers())
+          .catch((error) => this.log(error, "worker heartbeat")),
       (this.options.heartbeatSeconds ?? 5) * 1000,
     );
     this.chunkPool = workerPool("chunk-task.ts", { minThreads: 1, maxThreads: 1 });
@@ -186,6 +209,7 @@ export class FitWorker {
     await this.serve<ChunkJobData>(boss, CHUNK_QUEUE, (job) => this.computeChunk(job), 2);
     await this.serve<RowsJobData>(boss, ROWS_QUEUE, (job) => this.computeRows(job));
     await this.serve<FitJobData>(boss, MERGE_QUEUE, (job) => this.merge(job.data.fitId));
+    await this.serve<FitJobData>(boss, FAILED_QUEUE, (job) => this.lastTryFailed(job));
   }
 
   /**
@@ -203,9 +227,13 @@ export class FitWorker {
     for (let k = 0; k < takers; k++) {
       ids.push(
         await boss.work<T>(queue, options, async ([job]) => {
+          // Written before the work starts: if this process dies holding it, another hands it back.
+          this.held.set(job.id, queue);
+          await this.beat().catch((error) => this.log(error, "worker heartbeat"));
           try {
             await handle(job);
           } finally {
+            this.held.delete(job.id);
             this.wake(queue);
           }
         }),
@@ -219,22 +247,86 @@ export class FitWorker {
     for (const id of this.takers.get(queue) ?? []) this.boss?.notifyWorker(id);
   }
 
-  /** Stops taking jobs (a job in hand is left to its lease), removes the heartbeat and ends the threads. */
+  /** Stops taking jobs (those in hand go back to the queue), removes the heartbeat and ends the threads. */
   async stop(): Promise<void> {
     if (this.stopped) return;
     this.stopped = true;
     if (this.heartbeat) clearInterval(this.heartbeat);
+    // Jobs in hand are failed as tries, and so retried by the other workers at once.
     await this.boss?.stop({ graceful: false, close: false, wait: true, timeout: 5000 });
+    await this.beating.catch(() => {});
     await forgetWorker(this.db, this.id).catch((error) => this.log(error, "worker heartbeat"));
     await Promise.all([this.chunkPool?.destroy(), this.fitPool?.destroy()]);
   }
 
   private beat(): Promise<void> {
-    return beat(
-      this.db,
-      { id: this.id, host: this.host, pid: process.pid, startedAt: this.startedAt },
-      new Date(),
+    this.beating = this.beating
+      .catch(() => {})
+      .then(() =>
+        beat(
+          this.db,
+          { id: this.id, host: this.host, pid: process.pid, startedAt: this.startedAt },
+          [...this.held].map(([id, queue]) => ({ queue, id })),
+        ),
+      );
+    return this.beating;
+  }
+
+  /**
+   * Removes the heartbeats of workers that stopped (older than
+   * `WORKER_ALIVE_SECONDS`: killed, or cut off from the database) and
+   * hands back to the queue, as failed tries, the jobs they held and any
+   * other job no live worker holds (queue.ts `orphanedJobs`: a worker that
+   * died between taking a job and listing it), so that they are retried
+   * now rather than after their lease. A worker that was only cut off and
+   * comes back beats again; a job it then finishes as well adds nothing
+   * twice (parts are stored once).
+   */
+  private async handBackJobsOfStoppedWorkers(): Promise<void> {
+    const boss = this.boss;
+    if (!boss || this.stopped) return;
+    const lost: { queue: string; id: string; who: string }[] = [];
+    for (const stopped of await reapStoppedWorkers(this.db, WORKER_ALIVE_SECONDS)) {
+      const who = `worker ${stopped.id} on ${stopped.host} (process ${stopped.pid})`;
+      console.warn(`[covarion] ${who} stopped beating.`);
+      for (const job of stopped.jobs) lost.push({ ...job, who });
+    }
+    for (const job of await orphanedJobs(this.db, WORKER_ALIVE_SECONDS))
+      if (!lost.some((l) => l.id === job.id))
+        lost.push({ ...job, who: "a worker that stopped before it listed it" });
+    for (const job of lost) {
+      // A job finished or handed back in the meantime is left as it is.
+      const failure = { message: `${WORKER_STOPPED}: ${job.who}` };
+      // pg-boss 10 answers how many jobs it failed, though its types say nothing.
+      const { affected } = (await boss.fail(job.queue, job.id, failure)) as unknown as {
+        affected: number;
+      };
+      if (affected === 0) continue;
+      this.wake(job.queue);
+      console.warn(
+        `[covarion] ${job.queue} job ${job.id}, held by ${job.who}, goes back to the queue.`,
+      );
+    }
+  }
+
+  /**
+   * A job of any of the fit queues failed its last try — its handler threw,
+   * or its worker stopped or held it past its lease each time — and the
+   * queue sent its data here (the four queues' dead letter): a fit still
+   * queued or running then fails, with the reason, instead of waiting for a
+   * part that will not come.
+   */
+  private async lastTryFailed(job: PgBoss.JobWithMetadata<FitJobData>): Promise<void> {
+    const { fitId } = job.data;
+    const status = await fitStatus(this.db, fitId);
+    if (status !== "queued" && status !== "running") return;
+    const failure = failureOf(job.output);
+    this.log(
+      new Error(failure.message),
+      `fit ${fitId}: a job's last try failed (${JSON.stringify(job.data)})`,
     );
+    if (failure.lost) await this.fail(fitId, "worker_lost", workerLostMessage(job.retryLimit + 1));
+    else await this.fail(fitId, "internal_error", INTERNAL_FAILURE);
   }
 
   private emit(event: FitEvent): void {
@@ -322,7 +414,7 @@ export class FitWorker {
       // The regions before the test need only the data: other workers start on them while the
       // split test and the setups are stored.
       await this.sendRowsParts(fitId, plan);
-      await storeChunk(this.db, fitId, splitMark(plan), this.id, new Date());
+      await storeChunk(this.db, fitId, splitMark(plan), this.id);
       // Each region chunk's setup is stored before its chunks are sent, so that no other worker
       // plans the fit again, and its chunks are sent at once: at biobank size a setup is tens of
       // megabytes, and the first chunks need not wait for the others' storing.
@@ -368,7 +460,7 @@ export class FitWorker {
     if (!stored?.regionsBeforeTest) return;
     if ((await fitStatus(this.db, fitId)) !== "running") return await this.dropped(fitId);
     const mark = rowsMark(part, stored.regionsBeforeTest);
-    const done = await storeChunk(this.db, fitId, mark, this.id, new Date());
+    const done = await storeChunk(this.db, fitId, mark, this.id);
     await this.reportChunks(fitId, done, plan.chunks);
   }
 
@@ -498,7 +590,7 @@ export class FitWorker {
           plan === null && result.kind === "permutation"
             ? encodeSetupChunk(setup as RegionChunkSetup, chunk, result.counts)
             : encodeChunk(plan as FitChunks, chunk, result);
-        const done = await storeChunk(this.db, fitId, row, this.id, new Date());
+        const done = await storeChunk(this.db, fitId, row, this.id);
         // The number of parts as the planner recorded it (a worker with a setup has no plan here).
         const parts = plan ? partCount(plan) : (await planOf(this.db, fitId))?.chunks;
         if (parts === undefined) throw new Error(`fit ${fitId} has no plan`);

@@ -12,17 +12,58 @@
  *   as part `chunk` (server/jobs/fit-chunks.ts `rowsParts`).
  * - `fit-merge` { fitId }: all chunks are in; one party merges and stores.
  *
- * A job a worker does not finish within its lease (`leaseSeconds`: the
- * worker was killed, or lost the database) is failed by the queue's
- * maintenance and retried, up to `retries` times.
+ * A job in the hands of a worker whose heartbeat stopped (killed, or cut
+ * off from the database) is failed by another worker and retried at once
+ * (server/worker/fit-worker.ts); a job a worker does not finish within its
+ * lease (`leaseSeconds`) is failed by the queue's maintenance and retried.
+ * Either way a job has `retries` retries; a job whose last try fails is
+ * sent, with its data and the failure, to a fifth queue, `fit-failed`
+ * (the others' dead letter), where a worker fails its fit with the reason.
  */
+import { sql } from "drizzle-orm";
 import PgBoss from "pg-boss";
 import { type Database, driverOf } from "../../db/client";
+import { workers } from "../../db/schema";
 
 export const FIT_QUEUE = "fit";
 export const CHUNK_QUEUE = "fit-chunk";
 export const MERGE_QUEUE = "fit-merge";
 export const ROWS_QUEUE = "fit-rows";
+/** Where a job of the four queues above goes when its last try fails. */
+export const FAILED_QUEUE = "fit-failed";
+
+/** The queues whose jobs a worker holds while it computes (handed back when it stops). */
+const WORK_QUEUES = [FIT_QUEUE, CHUNK_QUEUE, ROWS_QUEUE, MERGE_QUEUE];
+
+/** The database schema of pg-boss's tables. */
+const QUEUE_SCHEMA = "pgboss";
+
+/** The start of the failure written for a job handed back because its worker stopped beating. */
+export const WORKER_STOPPED = "its worker stopped";
+
+/**
+ * Whether a job's failure (its stored output) says its worker was lost —
+ * it stopped beating, its lease ran out, or it stopped while holding it —
+ * rather than that its work threw; with the failure's text.
+ */
+export function failureOf(output: unknown): { lost: boolean; message: string } {
+  const o = (output ?? {}) as { message?: unknown; value?: unknown };
+  const inner = o.value as { message?: unknown } | string | undefined;
+  const message = String(
+    o.message ?? (typeof inner === "string" ? inner : inner?.message) ?? "no message",
+  );
+  const lost =
+    message.startsWith(WORKER_STOPPED) ||
+    // pg-boss 10's own words for a lease that ran out and for a job held when its worker stopped.
+    message === "job failed by timeout in active state" ||
+    message === "pg-boss shut down while active";
+  return { lost, message };
+}
+
+/** What a fit says when one of its jobs was lost on every try. */
+export function workerLostMessage(tries: number): string {
+  return `The fit stopped: one of its parts was not finished in ${tries} tries, because each time the worker process computing it stopped or lost the database. It has been logged; start the fit again, and if it stops again the workers' logs say why.`;
+}
 
 export interface FitJobData {
   fitId: string;
@@ -58,6 +99,7 @@ export async function startQueue(db: Database, options: QueueOptions): Promise<P
   if (driver.kind !== "server") throw new Error("the job queue needs a PostgreSQL server");
   const pool = driver.pool;
   const boss = new PgBoss({
+    schema: QUEUE_SCHEMA,
     db: { executeSql: (text, values) => pool.query(text, values) },
     supervise: options.supervise,
     schedule: false,
@@ -70,15 +112,55 @@ export async function startQueue(db: Database, options: QueueOptions): Promise<P
     retryDelay: 1,
     expireInSeconds: options.leaseSeconds ?? 600,
   };
-  for (const name of [FIT_QUEUE, CHUNK_QUEUE, ROWS_QUEUE, MERGE_QUEUE]) {
-    if (!(await boss.getQueue(name))) {
-      try {
-        await boss.createQueue(name, { name, ...queue });
-      } catch (error) {
-        // Another process created it at the same moment.
-        if (!(await boss.getQueue(name))) throw error;
-      }
-    } else if (options.supervise) await boss.updateQueue(name, { name, ...queue });
-  }
+  // The dead letter first: the others name it.
+  await ensureQueue(boss, FAILED_QUEUE, queue, options.supervise);
+  for (const name of WORK_QUEUES)
+    await ensureQueue(boss, name, { ...queue, deadLetter: FAILED_QUEUE }, options.supervise);
   return boss;
+}
+
+/** Creates queue `name` when missing; a supervising process also brings its settings up to date. */
+async function ensureQueue(
+  boss: PgBoss,
+  name: string,
+  settings: Omit<PgBoss.Queue, "name">,
+  supervise: boolean,
+): Promise<void> {
+  if (!(await boss.getQueue(name))) {
+    try {
+      await boss.createQueue(name, { name, ...settings });
+    } catch (error) {
+      // Another process created it at the same moment.
+      if (!(await boss.getQueue(name))) throw error;
+    }
+  } else if (supervise) await boss.updateQueue(name, { name, ...settings });
+}
+
+/**
+ * The jobs in progress that no live worker holds: active in one of the
+ * work queues for more than `aliveSeconds` and listed in the jobs in hand
+ * of no worker whose heartbeat is younger than that (by the database's
+ * clock). A worker lists a job as soon as it takes it, so such a job's
+ * worker stopped — or died between taking it and listing it. Reads
+ * pg-boss 10's job table (its `name`, `id`, `state`, `started_on`).
+ */
+export async function orphanedJobs(
+  db: Database,
+  aliveSeconds: number,
+): Promise<{ queue: string; id: string; data: unknown }[]> {
+  const since = sql`now() - make_interval(secs => ${aliveSeconds})`;
+  const result = (await db.execute(sql`
+    select j.name as queue, j.id::text as id, j.data as data
+    from ${sql.identifier(QUEUE_SCHEMA)}.job j
+    where j.name in (${sql.join(
+      WORK_QUEUES.map((q) => sql`${q}`),
+      sql`, `,
+    )})
+      and j.state = 'active' and j.started_on < ${since}
+      and not exists (
+        select 1 from ${workers} w, jsonb_array_elements(w.jobs) held
+        where w.seen_at >= ${since} and held->>'id' = j.id::text)`)) as unknown as {
+    rows: { queue: string; id: string; data: unknown }[];
+  };
+  return result.rows;
 }

@@ -10,18 +10,19 @@
  * test, split into null blocks, and a prediction, split into its outer
  * splits, give the embedded numbers on two workers;
  * a cancelled fit stops getting chunks; a fit whose chunk fails on every
- * try ends failed.
+ * try ends failed; a worker whose heartbeat stops has its jobs handed back
+ * long before their lease; a job lost on its last try fails its fit.
  */
 import { type ChildProcess, spawn } from "node:child_process";
 import { join } from "node:path";
-import { and, asc, count, eq, lt } from "drizzle-orm";
+import { and, asc, count, eq, lt, sql } from "drizzle-orm";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { driverOf } from "../../db/client";
 import { demoPeople } from "../../db/seed";
-import { fitChunkSetups, fitChunks, fitRegions, fitRuns, fits } from "../../db/schema";
+import { fitChunkSetups, fitChunks, fitRegions, fitRuns, fits, workers } from "../../db/schema";
 import { FitStore, insertQueuedFit, markFitCancelled } from "../../server/services/fit-store";
-import { CHUNK_QUEUE, FIT_QUEUE, startQueue } from "../../server/worker/queue";
+import { CHUNK_QUEUE, FIT_QUEUE, startQueue, workerLostMessage } from "../../server/worker/queue";
 import { queueDispatch } from "../../server/worker/fit-dispatch";
 import {
   type TestApp,
@@ -46,7 +47,8 @@ let referenceFitId: string;
 const running: Worker[] = [];
 const dispatch = () => queueDispatch(t.db);
 
-function startWorker(): Worker {
+/** A worker process; `lease` is its jobs' lease in seconds (short by default, so an expired job comes back soon). */
+function startWorker(lease = 4): Worker {
   let out = "";
   const child = spawn(process.execPath, ["--import", "tsx", "server/worker/index.ts"], {
     cwd: root,
@@ -55,7 +57,7 @@ function startWorker(): Worker {
       NODE_ENV: "production",
       PATH: process.env.PATH,
       DATABASE_URL: databaseUrl,
-      WORKER_LEASE_SECONDS: "4",
+      WORKER_LEASE_SECONDS: String(lease),
       WORKER_MAINTENANCE_SECONDS: "1",
     },
     stdio: ["ignore", "pipe", "pipe"],
@@ -128,6 +130,54 @@ async function storedRows(
 
 const storedChunks = (fitId: string) => storedRows(fitChunks, fitId);
 const storedSetups = (fitId: string) => storedRows(fitChunkSetups, fitId);
+
+/** The worker id a worker process printed when it began taking jobs. */
+function workerIdOf(worker: Worker): string {
+  const id = /Covarion worker (\S+) on /.exec(worker.output())?.[1];
+  if (!id) throw new Error("the worker has not said it takes jobs");
+  return id;
+}
+
+/**
+ * Kills `victim` with SIGKILL at a moment it holds a job of fit `fitId`
+ * that is still in progress: it is frozen (SIGSTOP) whenever its heartbeat
+ * lists jobs, and killed only if one of them is still active in the queue
+ * with its chunk not stored (a frozen process cannot finish it); otherwise
+ * it runs on and is tried again. Returns those jobs (their ids and
+ * chunks): the fit cannot finish unless they are handed back or retried.
+ */
+async function killHoldingAJob(
+  victim: Worker,
+  fitId: string,
+): Promise<{ id: string; chunk: number }[]> {
+  const id = workerIdOf(victim);
+  for (;;) {
+    const [row] = await t.db.select({ jobs: workers.jobs }).from(workers).where(eq(workers.id, id));
+    if (!row || row.jobs.length === 0) {
+      const [fit] = await t.db.select({ status: fits.status }).from(fits).where(eq(fits.id, fitId));
+      if (fit.status !== "queued" && fit.status !== "running")
+        throw new Error("the fit ended before the worker was caught holding a job");
+      await new Promise((r) => setTimeout(r, 5));
+      continue;
+    }
+    victim.child.kill("SIGSTOP");
+    const active = (await t.db.execute(sql`
+      select id::text as id, (data->>'chunk')::int as chunk from pgboss.job
+      where id::text in (select jsonb_array_elements(jobs)->>'id' from workers where id = ${id})
+        and state = 'active' and data->>'fitId' = ${fitId} and data ? 'chunk'
+        and not exists (select 1 from fit_chunks c
+                        where c.fit_id = ${fitId} and c.chunk = (data->>'chunk')::int)`)) as unknown as {
+      rows: { id: string; chunk: number }[];
+    };
+    if (active.rows.length > 0) {
+      victim.child.kill("SIGKILL");
+      expect(await victim.exited).toBeNull();
+      return active.rows;
+    }
+    victim.child.kill("SIGCONT");
+    await new Promise((r) => setTimeout(r, 5));
+  }
+}
 
 async function finished(fitId: string) {
   await waitFor(`fit ${fitId} to finish`, async () => {
@@ -341,9 +391,7 @@ describe("fits on worker processes", () => {
     const reference = await finished(referenceFitId);
     const [victim] = running;
     const fitId = await queueCopyOfReference();
-    await waitFor("the first chunks", async () => (await storedChunks(fitId)) >= 3);
-    victim.child.kill("SIGKILL");
-    expect(await victim.exited).toBeNull();
+    expect(await killHoldingAJob(victim, fitId)).not.toEqual([]);
     const survived = await finished(fitId);
     expect(survived.status).toBe("done");
     expect(survived.result).toEqual(reference.result);
@@ -406,5 +454,116 @@ describe("fits on worker processes", () => {
     expect(Date.now() - started).toBeGreaterThanOrEqual(3000);
     expect(view.status).toBe("done");
     expect(view.result).toEqual(reference.result);
+  }, 120_000);
+});
+
+describe("workers that stop", () => {
+  it("a worker whose heartbeat stopped while it held a job: another hands the job back long before its lease", async () => {
+    await stopWorkers();
+    const reference = await finished(referenceFitId);
+    const fitId = await queueCopyOfReference({ send: false });
+    let heldId = "";
+    const boss = await startQueue(t.db, { supervise: false });
+    try {
+      // A 10-minute lease: only the heartbeat can bring the job back in time.
+      // First in line (jobs of earlier tests may wait in the queue).
+      await boss.send(FIT_QUEUE, { fitId }, { expireInSeconds: 600, priority: 100 });
+      // A stand-in worker takes the fit's job, writes that it holds it, and stops beating: its heartbeat is an hour old.
+      const [taken] = await boss.fetch(FIT_QUEUE);
+      expect((taken.data as { fitId: string }).fitId).toBe(fitId);
+      heldId = taken.id;
+      await t.db.insert(workers).values({
+        id: "stand-in",
+        host: "stand-in-host",
+        pid: 1,
+        startedAt: new Date(),
+        seenAt: sql`now() - interval '1 hour'`,
+        jobs: [{ queue: FIT_QUEUE, id: taken.id }],
+      });
+    } finally {
+      await boss.stop({ graceful: false, close: false });
+    }
+    const started = Date.now();
+    // Workers whose jobs have a 10-minute lease, started after the job was taken.
+    startWorker(600);
+    const view = await finished(fitId);
+    expect(view.status).toBe("done");
+    expect(view.result).toEqual(reference.result);
+    expect(view.regions).toEqual(reference.regions);
+    // Handed back on the live worker's next heartbeat (every 5 s), not after the 600-second lease.
+    expect(Date.now() - started).toBeLessThan(60_000);
+    expect(running[0].output()).toContain(
+      "worker stand-in on stand-in-host (process 1) stopped beating.",
+    );
+    expect(running[0].output()).toContain(
+      `fit job ${heldId}, held by worker stand-in on stand-in-host (process 1), goes back to the queue.`,
+    );
+    // The stopped worker is no longer listed.
+    const listed = await request(t.url)
+      .get("/api/system/workers")
+      .set("Cookie", cookie)
+      .expect(200);
+    expect(listed.body.workers.map((w: { host: string }) => w.host)).not.toContain("stand-in-host");
+    const [{ left }] = await t.db
+      .select({ left: count() })
+      .from(workers)
+      .where(eq(workers.id, "stand-in"));
+    expect(left).toBe(0);
+  }, 120_000);
+
+  it("a worker killed with SIGKILL mid-fit, with a 10-minute lease: its chunks come back within a minute and the numbers are the same", async () => {
+    const reference = await finished(referenceFitId);
+    startWorker(600);
+    await waitFor("two workers taking jobs", async () =>
+      running.every((w) => w.output().includes("is taking fit jobs.")),
+    );
+    const [survivor, victim] = running;
+    const victimId = workerIdOf(victim);
+    const fitId = await queueCopyOfReference();
+    const held = await killHoldingAJob(victim, fitId);
+    const killed = Date.now();
+    // The victim held chunks not yet stored, which only it could finish — until handed back.
+    const [{ stored }] = await t.db
+      .select({ stored: count() })
+      .from(fitChunks)
+      .where(and(eq(fitChunks.fitId, fitId), eq(fitChunks.chunk, held[0].chunk)));
+    expect(stored).toBe(0);
+    const view = await finished(fitId);
+    expect(view.status).toBe("done");
+    expect(view.result).toEqual(reference.result);
+    expect(view.regions).toEqual(reference.regions);
+    // The heartbeat counts as stopped after 30 s and is looked at every 5 s: far inside the lease.
+    expect(Date.now() - killed).toBeLessThan(90_000);
+    expect(survivor.output()).toContain(`worker ${victimId} on `);
+    for (const job of held)
+      expect(survivor.output()).toMatch(
+        new RegExp(`(fit-chunk|fit-rows) job ${job.id}, held by .*, goes back to the queue\\.`),
+      );
+  }, 180_000);
+
+  it("a job lost on its last try fails its fit with the reason", async () => {
+    await stopWorkers();
+    const fitId = await queueCopyOfReference({ send: false });
+    expect(await new FitStore(t.db).markRunning(fitId, new Date())).toBe(true);
+    const boss = await startQueue(t.db, { supervise: false });
+    try {
+      // One try only, with a 2-second lease; a stand-in worker takes it and never finishes it
+      // (and writes no heartbeat): the lease runs out on the last try.
+      // (first in line: jobs of earlier tests may wait in the queue).
+      await boss.send(
+        CHUNK_QUEUE,
+        { fitId, chunk: 0 },
+        { retryLimit: 0, expireInSeconds: 2, priority: 100 },
+      );
+      const [taken] = await boss.fetch(CHUNK_QUEUE);
+      expect((taken.data as { fitId: string }).fitId).toBe(fitId);
+    } finally {
+      await boss.stop({ graceful: false, close: false });
+    }
+    // A worker started after it: its queue maintenance finds the lease run out.
+    startWorker();
+    const view = await finished(fitId);
+    expect(view.status).toBe("failed");
+    expect(view.error).toBe(workerLostMessage(1));
   }, 120_000);
 });
