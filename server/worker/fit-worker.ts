@@ -125,7 +125,7 @@ import { WORKER_ALIVE_SECONDS } from "../services/workers";
 
 export interface FitWorkerOptions {
   db: Database;
-  /** Seconds a job may be held before the queue retries it (default 600). */
+  /** The longest one try of a job may run, in seconds, before the queue retries it (default six hours). */
   leaseSeconds?: number;
   /** Retries of a failed or expired job (default 3). */
   retries?: number;

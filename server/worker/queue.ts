@@ -14,8 +14,9 @@
  *
  * A job in the hands of a worker whose heartbeat stopped (killed, or cut
  * off from the database) is failed by another worker and retried at once
- * (server/worker/fit-worker.ts); a job a worker does not finish within its
- * lease (`leaseSeconds`) is failed by the queue's maintenance and retried.
+ * (server/worker/fit-worker.ts); a try that runs longer than its lease
+ * (`leaseSeconds`, the longest one try may run) is failed by pg-boss and
+ * retried.
  * Either way a job has `retries` retries; a job whose last try fails is
  * sent, with its data and the failure, to a fifth queue, `fit-failed`
  * (the others' dead letter), where a worker fails its fit with the reason.
@@ -34,6 +35,13 @@ export const FAILED_QUEUE = "fit-failed";
 
 /** The queues whose jobs a worker holds while it computes (handed back when it stops). */
 const WORK_QUEUES = [FIT_QUEUE, CHUNK_QUEUE, ROWS_QUEUE, MERGE_QUEUE];
+
+/**
+ * Default lease: the longest one try of a job may run (six hours) before
+ * the queue retries it. A stopped worker's jobs come back long before
+ * that, through the heartbeats; the lease only bounds a try that hangs.
+ */
+export const DEFAULT_LEASE_SECONDS = 6 * 3600;
 
 /** The database schema of pg-boss's tables. */
 const QUEUE_SCHEMA = "pgboss";
@@ -83,7 +91,7 @@ export interface RowsJobData {
 }
 
 export interface QueueOptions {
-  /** Seconds a worker may hold a job before the queue retries it (default 600). */
+  /** The longest one try of a job may run, in seconds, before the queue retries it (default six hours). */
   leaseSeconds?: number;
   /** Retries of a job that failed or whose lease ran out (default 3). */
   retries?: number;
@@ -110,7 +118,7 @@ export async function startQueue(db: Database, options: QueueOptions): Promise<P
   const queue = {
     retryLimit: options.retries ?? 3,
     retryDelay: 1,
-    expireInSeconds: options.leaseSeconds ?? 600,
+    expireInSeconds: options.leaseSeconds ?? DEFAULT_LEASE_SECONDS,
   };
   // The dead letter first: the others name it.
   await ensureQueue(boss, FAILED_QUEUE, queue, options.supervise);

@@ -11,7 +11,8 @@
  * splits, give the embedded numbers on two workers;
  * a cancelled fit stops getting chunks; a fit whose chunk fails on every
  * try ends failed; a worker whose heartbeat stops has its jobs handed back
- * long before their lease; a job lost on its last try fails its fit.
+ * long before their lease, but a live worker's long job is not; a job lost
+ * on its last try fails its fit; the worker's settings are checked.
  */
 import { type ChildProcess, spawn } from "node:child_process";
 import { join } from "node:path";
@@ -58,6 +59,7 @@ function startWorker(lease = 4): Worker {
       PATH: process.env.PATH,
       DATABASE_URL: databaseUrl,
       WORKER_LEASE_SECONDS: String(lease),
+      WORKER_HEARTBEAT_SECONDS: "1",
       WORKER_MAINTENANCE_SECONDS: "1",
     },
     stdio: ["ignore", "pipe", "pipe"],
@@ -566,4 +568,76 @@ describe("workers that stop", () => {
     expect(view.status).toBe("failed");
     expect(view.error).toBe(workerLostMessage(1));
   }, 120_000);
+
+  it("a live worker's job that runs past the heartbeat window is not handed back: it is listed in hand", async () => {
+    await stopWorkers();
+    startWorker(600);
+    await waitFor("the worker taking jobs", async () =>
+      running.every((w) => w.output().includes("is taking fit jobs.")),
+    );
+    // A whole fit (a Huber bootstrap is not split) that runs longer than WORKER_ALIVE_SECONDS (30 s).
+    const [ref] = await t.db.select().from(fits).where(eq(fits.id, referenceFitId));
+    const model = await request(t.url)
+      .post(`/api/studies/${ref.studyId}/models`)
+      .set("Cookie", cookie)
+      .send({
+        name: "Accuracy, robust, bootstrap, on a worker",
+        regionSelection: "anatomical-or-prior",
+        spec: {
+          kind: "association",
+          predictor: "accuracy",
+          covariates: ["age"],
+          estimator: "huber",
+          inference: "bootstrap",
+          resamples: 80_000,
+          seed: 5,
+        },
+      })
+      .expect(201);
+    // The embedded path (the app's own threads) and the same recipe on the worker, side by side.
+    const embedded = await request(t.url)
+      .post(`/api/studies/${ref.studyId}/fits`)
+      .set("Cookie", cookie)
+      .send({ modelId: model.body.id })
+      .expect(202);
+    const fitId = await queueCopyOfReference({ of: embedded.body.id });
+    const started = Date.now();
+    const view = await finished(fitId);
+    expect(Date.now() - started).toBeGreaterThan(35_000);
+    expect(view.status).toBe("done");
+    await waitForFitStatus(t, cookie, embedded.body.id, ["done"]);
+    expect(view.result).toEqual((await finished(embedded.body.id)).result);
+    // Taken once and never handed back.
+    const job = (await t.db.execute(sql`
+      select retry_count, state from pgboss.job
+      where name = ${FIT_QUEUE} and data->>'fitId' = ${fitId}`)) as unknown as {
+      rows: { retry_count: number; state: string }[];
+    };
+    expect(job.rows).toEqual([{ retry_count: 0, state: "completed" }]);
+    expect(running[0].output()).not.toContain("goes back to the queue");
+  }, 240_000);
+});
+
+describe("a worker's settings", () => {
+  it("a heartbeat longer than 10 s is refused, naming the setting", async () => {
+    const child = spawn(process.execPath, ["--import", "tsx", "server/worker/index.ts"], {
+      cwd: root,
+      env: {
+        NODE_ENV: "production",
+        PATH: process.env.PATH,
+        DATABASE_URL: databaseUrl,
+        WORKER_HEARTBEAT_SECONDS: "30",
+      },
+      stdio: ["ignore", "pipe", "pipe"],
+    });
+    let err = "";
+    child.stderr?.on("data", (c: Buffer) => {
+      err += c.toString();
+    });
+    const code = await new Promise((resolve) => child.once("exit", resolve));
+    expect(code).toBe(2);
+    expect(err).toContain(
+      "Covarion worker cannot start: WORKER_HEARTBEAT_SECONDS: must be at most 10: a worker silent for 30 s counts as stopped",
+    );
+  }, 60_000);
 });
