@@ -113,13 +113,12 @@ import {
   FIT_QUEUE,
   type FitJobData,
   MERGE_QUEUE,
-  failureOf,
+  lastTryFailure,
   orphanedJobs,
   ROWS_QUEUE,
   type RowsJobData,
   startQueue,
   WORKER_STOPPED,
-  workerLostMessage,
 } from "./queue";
 import { WORKER_ALIVE_SECONDS } from "../services/workers";
 
@@ -320,13 +319,12 @@ export class FitWorker {
     const { fitId } = job.data;
     const status = await fitStatus(this.db, fitId);
     if (status !== "queued" && status !== "running") return;
-    const failure = failureOf(job.output);
+    const failure = lastTryFailure(job.output, job.retryLimit + 1);
     this.log(
       new Error(failure.message),
       `fit ${fitId}: a job's last try failed (${JSON.stringify(job.data)})`,
     );
-    if (failure.lost) await this.fail(fitId, "worker_lost", workerLostMessage(job.retryLimit + 1));
-    else await this.fail(fitId, "internal_error", INTERNAL_FAILURE);
+    await this.fail(fitId, failure.code, failure.fitMessage);
   }
 
   private emit(event: FitEvent): void {

@@ -25,6 +25,7 @@ import { sql } from "drizzle-orm";
 import PgBoss from "pg-boss";
 import { type Database, driverOf } from "../../db/client";
 import { workers } from "../../db/schema";
+import { INTERNAL_FAILURE } from "../jobs/fit-jobs";
 
 export const FIT_QUEUE = "fit";
 export const CHUNK_QUEUE = "fit-chunk";
@@ -49,28 +50,52 @@ const QUEUE_SCHEMA = "pgboss";
 /** The start of the failure written for a job handed back because its worker stopped beating. */
 export const WORKER_STOPPED = "its worker stopped";
 
+/** Why a job's last try failed, and what its fit then says. */
+export interface LastTryFailure {
+  /** the fit's error code */
+  code: "worker_lost" | "part_too_long" | "internal_error";
+  /** the fit's error message (for people) */
+  fitMessage: string;
+  /** the failure as the queue stored it (for the log) */
+  message: string;
+}
+
 /**
- * Whether a job's failure (its stored output) says its worker was lost —
- * it stopped beating, its lease ran out, or it stopped while holding it —
- * rather than that its work threw; with the failure's text.
+ * Why a job's last try failed, from its stored output: its worker was lost
+ * (stopped beating, stopped while holding it, or the queue's maintenance
+ * found the lease run out: a worker that hangs or died unseen), the try
+ * ran past its lease in a live worker, or its work threw. `tries` is how
+ * many tries the job had.
  */
-export function failureOf(output: unknown): { lost: boolean; message: string } {
+export function lastTryFailure(output: unknown, tries: number): LastTryFailure {
+  const inTries = `${tries} ${tries === 1 ? "try" : "tries"}`;
   const o = (output ?? {}) as { message?: unknown; value?: unknown };
   const inner = o.value as { message?: unknown } | string | undefined;
   const message = String(
     o.message ?? (typeof inner === "string" ? inner : inner?.message) ?? "no message",
   );
-  const lost =
+  // pg-boss 10's own words: a lease run out (maintenance), a worker stopping, a try timed out in its worker.
+  if (
     message.startsWith(WORKER_STOPPED) ||
-    // pg-boss 10's own words for a lease that ran out and for a job held when its worker stopped.
     message === "job failed by timeout in active state" ||
-    message === "pg-boss shut down while active";
-  return { lost, message };
-}
-
-/** What a fit says when one of its jobs was lost on every try. */
-export function workerLostMessage(tries: number): string {
-  return `The fit stopped: one of its parts was not finished in ${tries} tries, because each time the worker process computing it stopped or lost the database. It has been logged; start the fit again, and if it stops again the workers' logs say why.`;
+    message === "pg-boss shut down while active"
+  )
+    return {
+      code: "worker_lost",
+      message,
+      fitMessage: `The fit stopped: one of its parts was not finished in ${inTries}, because each time the worker process computing it stopped or lost the database. It has been logged; start the fit again, and if it stops again the workers' logs say why.`,
+    };
+  if (message.startsWith("handler execution exceeded"))
+    return {
+      code: "part_too_long",
+      message,
+      fitMessage: `The fit stopped: one of its parts ran longer than the workers' lease (WORKER_LEASE_SECONDS) in ${tries === 1 ? "its one try" : `each of its ${tries} tries`}. It has been logged; the server's administrator can lengthen the lease.`,
+    };
+  return {
+    code: "internal_error",
+    message,
+    fitMessage: INTERNAL_FAILURE,
+  };
 }
 
 export interface FitJobData {
