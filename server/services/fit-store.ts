@@ -14,7 +14,7 @@
  * their events travel on a database channel (`fitEvents`), so a fit's
  * live events reach every process on a PostgreSQL server.
  */
-import { and, eq, gte, inArray, lt, sql } from "drizzle-orm";
+import { and, eq, inArray, sql } from "drizzle-orm";
 import { type Channel, channel, type Database, type Queryable } from "../../db/client";
 import { type Fit, fitRegions, fits } from "../../db/schema";
 import {
@@ -96,21 +96,23 @@ export class FitStore implements FitJobStore {
     await this.db.delete(fitRegions).where(eq(fitRegions.fitId, fitId));
   }
 
-  /** Removes the region rows at positions from … to − 1 (a part of a split fit computed again). */
-  async clearRegionRowsIn(fitId: string, from: number, to: number): Promise<void> {
-    await this.db
-      .delete(fitRegions)
-      .where(
-        and(
-          eq(fitRegions.fitId, fitId),
-          gte(fitRegions.position, from),
-          lt(fitRegions.position, to),
-        ),
-      );
-  }
-
   async storeRegionRow(fitId: string, row: RegionRowInput): Promise<void> {
     await this.db.insert(fitRegions).values({ fitId, ...row });
+  }
+
+  /**
+   * Stores a region row unless the fit has one for that region already —
+   * on worker processes, where a row may come from an earlier try of the
+   * same part or from a second computation of it (a worker cut off from
+   * the database had its job handed on and then finished it too). The
+   * same recipe on the same data gives the same row, so the one stored
+   * first is kept.
+   */
+  async storeRegionRowOnce(fitId: string, row: RegionRowInput): Promise<void> {
+    await this.db
+      .insert(fitRegions)
+      .values({ fitId, ...row })
+      .onConflictDoNothing();
   }
 
   async markRunning(fitId: string, at: Date): Promise<boolean> {

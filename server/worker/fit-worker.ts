@@ -674,11 +674,15 @@ export class FitWorker {
     await this.storeResult(fitId, outcome.value, startedAt);
   }
 
-  /** Marks the fit done with its result (its region rows stored), or removes its rows when it was no longer running. */
+  /**
+   * Marks the fit done with its result (its region rows stored); when it
+   * was no longer running, removes its rows if it was cancelled or failed —
+   * a fit another computation finished keeps them.
+   */
   private async storeResult(fitId: string, summary: unknown, startedAt: Date): Promise<boolean> {
     const done = await this.store.markDone(fitId, summary, new Date(), startedAt, () => false);
     if (!done) {
-      await this.store.clearRegionRows(fitId);
+      await this.dropped(fitId);
       return false;
     }
     this.emit({
@@ -704,13 +708,10 @@ export class FitWorker {
     rows: "all" | "only" | "skip" = "all",
     part?: RowsPart,
   ): Promise<{ regionsBeforeTest?: RegionResult[] } | null> {
-    // Rows left by an earlier try are replaced: a part's own, or the whole fit's.
-    const clearRows = async () => {
-      if (!part) await this.store.clearRegionRows(fitId);
-      else if (!(await hasChunk(this.db, fitId, part.chunk)))
-        await this.store.clearRegionRowsIn(fitId, part.from, part.to);
-    };
-    if (rows !== "skip") await clearRows();
+    // Rows are never removed here but only when the fit is cancelled or fails: rows left by an
+    // earlier try, or stored by a second computation of the same part (a worker cut off from the
+    // database whose job was handed on, and which then finished it too), are the same rows, and
+    // removing them could take rows from a fit the other computation has finished.
     const channel = new MessageChannel();
     let storing: Promise<void> = Promise.resolve();
     let lastProgress = 0;
@@ -722,7 +723,7 @@ export class FitWorker {
       if (message.type === "region") {
         // Read back at once: the message's bytes are let go, the texts wait for their turn.
         const texts = regionRowsOf(message);
-        storing = storing.then(() => this.store.storeRegionRow(fitId, texts));
+        storing = storing.then(() => this.store.storeRegionRowOnce(fitId, texts));
       } else if (message.type === "regions-done") regionsDone();
       else if (message.type === "progress" && !merged && rows === "all") {
         // A fit computed whole reports the thread's progress, at most every half second.
@@ -768,10 +769,10 @@ export class FitWorker {
       channel.port1.close();
       await storing.catch(() => {});
       if (controller.signal.aborted) {
-        await this.store.clearRegionRows(fitId);
-        return null; // cancelled: already marked
+        // No longer running: cancelled (rows removed), or finished by another computation (kept).
+        await this.dropped(fitId);
+        return null;
       }
-      await clearRows();
       throw error;
     }
     channel.port1.close();

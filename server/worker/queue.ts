@@ -23,7 +23,7 @@
  */
 import { sql } from "drizzle-orm";
 import PgBoss from "pg-boss";
-import { type Database, driverOf } from "../../db/client";
+import { claim, type Database, driverOf } from "../../db/client";
 import { workers } from "../../db/schema";
 import { INTERNAL_FAILURE } from "../jobs/fit-jobs";
 
@@ -139,16 +139,23 @@ export async function startQueue(db: Database, options: QueueOptions): Promise<P
     maintenanceIntervalSeconds: options.maintenanceSeconds ?? 30,
   });
   boss.on("error", (error) => console.error("[covarion] job queue:", error));
-  await boss.start();
   const queue = {
     retryLimit: options.retries ?? 3,
     retryDelay: 1,
     expireInSeconds: options.leaseSeconds ?? DEFAULT_LEASE_SECONDS,
   };
-  // The dead letter first: the others name it.
-  await ensureQueue(boss, FAILED_QUEUE, queue, options.supervise);
-  for (const name of WORK_QUEUES)
-    await ensureQueue(boss, name, { ...queue, deadLetter: FAILED_QUEUE }, options.supervise);
+  // One process at a time: pg-boss installing its tables, or two processes creating the same
+  // queues at once on a new database, deadlocked one of them.
+  const setup = await claim(db, "covarion job queue setup");
+  try {
+    await boss.start();
+    // The dead letter first: the others name it.
+    await ensureQueue(boss, FAILED_QUEUE, queue, options.supervise);
+    for (const name of WORK_QUEUES)
+      await ensureQueue(boss, name, { ...queue, deadLetter: FAILED_QUEUE }, options.supervise);
+  } finally {
+    await setup.release();
+  }
   return boss;
 }
 

@@ -4,7 +4,8 @@
  * empty database, each exactly once; start-up work one process at a time;
  * claims seen across connections, and an upload another process is storing
  * left alone by the removal of leftovers; channel messages reaching
- * another process's listener in the order they were sent.
+ * another process's listener in the order they were sent; the job queue
+ * set up by several processes at once on a new database.
  */
 import { readdirSync } from "node:fs";
 import { eq } from "drizzle-orm";
@@ -15,6 +16,7 @@ import { datasetVersions, studies } from "../../db/schema";
 import { demoPeople, demoStudy, seedDemo } from "../../db/seed";
 import { seedDemoDatasets } from "../../db/seed/demo-datasets";
 import { removeIncompleteVersions } from "../../server/services/datasets";
+import { FAILED_QUEUE, FIT_QUEUE, startQueue } from "../../server/worker/queue";
 import { createDatabase, dropDatabase } from "../support/postgres-server";
 
 const postgres =
@@ -60,6 +62,20 @@ describe("migrations on a PostgreSQL server", () => {
       "select count(*)::int as n from drizzle.__drizzle_migrations",
     );
     expect(again.rows[0].n).toBe(files.length);
+  });
+
+  it("three processes setting up the job queue at once on a new database all start, with the dead letter in place", async () => {
+    // Before the set-up was claimed one process at a time, one of two deadlocked on most tries.
+    for (let round = 0; round < 3; round++) {
+      const handles = await emptyDatabase(3);
+      await migrateDatabase(handles[0].db);
+      const bosses = await Promise.all(handles.map((h) => startQueue(h.db, { supervise: true })));
+      try {
+        expect((await bosses[0].getQueue(FIT_QUEUE))?.deadLetter).toBe(FAILED_QUEUE);
+      } finally {
+        for (const boss of bosses) await boss.stop({ graceful: false, close: false });
+      }
+    }
   });
 
   it("start-up work runs one process at a time: the demo is seeded once", async () => {

@@ -11,8 +11,9 @@
  * splits, give the embedded numbers on two workers;
  * a cancelled fit stops getting chunks; a fit whose chunk fails on every
  * try ends failed; a worker whose heartbeat stops has its jobs handed back
- * long before their lease, but a live worker's long job is not; a job lost
- * on its last try fails its fit; the worker's settings are checked.
+ * long before their lease, but a live worker's long job is not; a whole fit
+ * computed twice at once keeps its rows; a job lost on its last try fails
+ * its fit; the worker's settings are checked.
  */
 import { type ChildProcess, spawn } from "node:child_process";
 import { join } from "node:path";
@@ -619,6 +620,82 @@ describe("workers that stop", () => {
     };
     expect(job.rows).toEqual([{ retry_count: 0, state: "completed" }]);
     expect(running[0].output()).not.toContain("goes back to the queue");
+  }, 240_000);
+
+  it("a whole fit computed twice at once (its job handed on while its worker was cut off) keeps every row of the first to finish", async () => {
+    await stopWorkers();
+    startWorker(600);
+    startWorker(600);
+    await waitFor("two workers taking jobs", async () =>
+      running.every((w) => w.output().includes("is taking fit jobs.")),
+    );
+    const [ref] = await t.db.select().from(fits).where(eq(fits.id, referenceFitId));
+    const model = await request(t.url)
+      .post(`/api/studies/${ref.studyId}/models`)
+      .set("Cookie", cookie)
+      .send({
+        name: "Accuracy, robust, bootstrap, computed twice",
+        regionSelection: "anatomical-or-prior",
+        spec: {
+          kind: "association",
+          predictor: "accuracy",
+          covariates: ["age"],
+          estimator: "huber",
+          inference: "bootstrap",
+          resamples: 20_000,
+          seed: 9,
+        },
+      })
+      .expect(201);
+    const embedded = await request(t.url)
+      .post(`/api/studies/${ref.studyId}/fits`)
+      .set("Cookie", cookie)
+      .send({ modelId: model.body.id })
+      .expect(202);
+    await waitForFitStatus(t, cookie, embedded.body.id, ["done"]);
+    const reference = await finished(embedded.body.id);
+    // The first computation: one worker takes the fit's job.
+    const fitId = await queueCopyOfReference({ of: embedded.body.id });
+    await waitFor("the fit to run", async () => {
+      const [row] = await t.db.select({ status: fits.status }).from(fits).where(eq(fits.id, fitId));
+      return row.status === "running";
+    });
+    // The second: the same job again as a retry (as if handed on from a worker cut off from the
+    // database), due in a second, which the other worker takes and computes beside the first.
+    const boss = await startQueue(t.db, { supervise: false });
+    let againId: string | null;
+    try {
+      againId = await boss.send(FIT_QUEUE, { fitId }, { startAfter: 2 });
+    } finally {
+      await boss.stop({ graceful: false, close: false });
+    }
+    await t.db.execute(sql`update pgboss.job set retry_count = 1 where id = ${againId}::uuid`);
+    const view = await finished(fitId);
+    expect(view.status).toBe("done");
+    // Both computations have ended: the second found the fit done and kept its rows.
+    await waitFor("the second computation to end", async () => {
+      const job = (await t.db.execute(
+        sql`select state, retry_count from pgboss.job where id = ${againId}::uuid`,
+      )) as unknown as { rows: { state: string; retry_count: number }[] };
+      return job.rows[0]?.state === "completed";
+    });
+    // It ran beside the first: taken before the fit was done, ended after.
+    const [{ finishedAt }] = await t.db
+      .select({ finishedAt: fits.finishedAt })
+      .from(fits)
+      .where(eq(fits.id, fitId));
+    const again = (await t.db.execute(
+      sql`select started_on, completed_on from pgboss.job where id = ${againId}::uuid`,
+    )) as unknown as { rows: { started_on: Date; completed_on: Date }[] };
+    expect(new Date(again.rows[0].started_on).getTime()).toBeLessThan(
+      (finishedAt as Date).getTime(),
+    );
+    expect(new Date(again.rows[0].completed_on).getTime()).toBeGreaterThan(
+      (finishedAt as Date).getTime(),
+    );
+    const after = await finished(fitId);
+    expect(after.result).toEqual(reference.result);
+    expect(after.regions).toEqual(reference.regions);
   }, 240_000);
 });
 
