@@ -162,6 +162,8 @@ export class FitWorker {
   private readonly held = new Map<string, string>();
   /** The heartbeat being written: one write at a time, each with the jobs in hand when it starts. */
   private beating: Promise<void> = Promise.resolve();
+  /** Whether a look for stopped workers is under way (one at a time). */
+  private handingBack = false;
   private stopped = false;
 
   private constructor(private readonly options: FitWorkerOptions) {
@@ -283,7 +285,16 @@ export class FitWorker {
    */
   private async handBackJobsOfStoppedWorkers(): Promise<void> {
     const boss = this.boss;
-    if (!boss || this.stopped) return;
+    if (!boss || this.stopped || this.handingBack) return;
+    this.handingBack = true;
+    try {
+      await this.handBack(boss);
+    } finally {
+      this.handingBack = false;
+    }
+  }
+
+  private async handBack(boss: PgBoss): Promise<void> {
     const lost: { queue: string; id: string; who: string }[] = [];
     for (const stopped of await reapStoppedWorkers(this.db, WORKER_ALIVE_SECONDS)) {
       const who = `worker ${stopped.id} on ${stopped.host} (process ${stopped.pid})`;
