@@ -49,20 +49,12 @@ let referenceFitId: string;
 const running: Worker[] = [];
 const dispatch = () => queueDispatch(t.db);
 
-/** A worker process; `lease` is its jobs' lease in seconds (short by default, so an expired job comes back soon). */
-function startWorker(lease = 4): Worker {
+/** A worker process with only the database's address and `settings` in its environment. */
+function spawnWorker(settings: Record<string, string>): Worker {
   let out = "";
   const child = spawn(process.execPath, ["--import", "tsx", "server/worker/index.ts"], {
     cwd: root,
-    // Only the database's address and the queue's timing (short, so a killed worker's chunk comes back soon).
-    env: {
-      NODE_ENV: "production",
-      PATH: process.env.PATH,
-      DATABASE_URL: databaseUrl,
-      WORKER_LEASE_SECONDS: String(lease),
-      WORKER_HEARTBEAT_SECONDS: "1",
-      WORKER_MAINTENANCE_SECONDS: "1",
-    },
+    env: { NODE_ENV: "production", PATH: process.env.PATH, DATABASE_URL: databaseUrl, ...settings },
     stdio: ["ignore", "pipe", "pipe"],
   });
   const collect = (c: Buffer) => {
@@ -71,7 +63,17 @@ function startWorker(lease = 4): Worker {
   child.stdout?.on("data", collect);
   child.stderr?.on("data", collect);
   const exited = new Promise<number | null>((resolve) => child.once("exit", resolve));
-  const worker = { child, output: () => out, exited };
+  return { child, output: () => out, exited };
+}
+
+/** A running worker process; `lease` is its jobs' lease in seconds (short by default, so an expired job comes back soon). */
+function startWorker(lease = 4): Worker {
+  // The queue's timing short: a heartbeat every second, maintenance every second.
+  const worker = spawnWorker({
+    WORKER_LEASE_SECONDS: String(lease),
+    WORKER_HEARTBEAT_SECONDS: "1",
+    WORKER_MAINTENANCE_SECONDS: "1",
+  });
   running.push(worker);
   return worker;
 }
@@ -180,6 +182,45 @@ async function killHoldingAJob(
     victim.child.kill("SIGCONT");
     await new Promise((r) => setTimeout(r, 5));
   }
+}
+
+/** Waits until every running worker process says it takes jobs. */
+async function workersTakingJobs(): Promise<void> {
+  await waitFor("the workers taking jobs", async () =>
+    running.every((w) => w.output().includes("is taking fit jobs.")),
+  );
+}
+
+/**
+ * A whole fit (a Huber bootstrap of accuracy with age, which is not split)
+ * on the reference fit's study, started on the embedded path (the app's
+ * own threads); its id. Its run time grows with `resamples`.
+ */
+async function robustBootstrapFit(name: string, resamples: number, seed: number): Promise<string> {
+  const [ref] = await t.db.select().from(fits).where(eq(fits.id, referenceFitId));
+  const model = await request(t.url)
+    .post(`/api/studies/${ref.studyId}/models`)
+    .set("Cookie", cookie)
+    .send({
+      name,
+      regionSelection: "anatomical-or-prior",
+      spec: {
+        kind: "association",
+        predictor: "accuracy",
+        covariates: ["age"],
+        estimator: "huber",
+        inference: "bootstrap",
+        resamples,
+        seed,
+      },
+    })
+    .expect(201);
+  const fit = await request(t.url)
+    .post(`/api/studies/${ref.studyId}/fits`)
+    .set("Cookie", cookie)
+    .send({ modelId: model.body.id })
+    .expect(202);
+  return fit.body.id;
 }
 
 async function finished(fitId: string) {
@@ -298,9 +339,7 @@ describe("fits on worker processes", () => {
       return res.body.workers.length === 3;
     });
     // Listed once its heartbeat is written; taking jobs once it says so.
-    await waitFor("three workers taking jobs", async () =>
-      running.every((w) => w.output().includes("is taking fit jobs.")),
-    );
+    await workersTakingJobs();
     const reference = await finished(referenceFitId);
     const fitId = await queueCopyOfReference();
     const three = await finished(fitId);
@@ -517,9 +556,7 @@ describe("workers that stop", () => {
   it("a worker killed with SIGKILL mid-fit, with a 10-minute lease: its chunks come back within a minute and the numbers are the same", async () => {
     const reference = await finished(referenceFitId);
     startWorker(600);
-    await waitFor("two workers taking jobs", async () =>
-      running.every((w) => w.output().includes("is taking fit jobs.")),
-    );
+    await workersTakingJobs();
     const [survivor, victim] = running;
     const victimId = workerIdOf(victim);
     const fitId = await queueCopyOfReference();
@@ -577,41 +614,20 @@ describe("workers that stop", () => {
   it("a live worker's job that runs past the heartbeat window is not handed back: it is listed in hand", async () => {
     await stopWorkers();
     startWorker(600);
-    await waitFor("the worker taking jobs", async () =>
-      running.every((w) => w.output().includes("is taking fit jobs.")),
+    await workersTakingJobs();
+    // Longer than WORKER_ALIVE_SECONDS (30 s): the embedded path and the same recipe on the worker, side by side.
+    const embedded = await robustBootstrapFit(
+      "Accuracy, robust, bootstrap, on a worker",
+      80_000,
+      5,
     );
-    // A whole fit (a Huber bootstrap is not split) that runs longer than WORKER_ALIVE_SECONDS (30 s).
-    const [ref] = await t.db.select().from(fits).where(eq(fits.id, referenceFitId));
-    const model = await request(t.url)
-      .post(`/api/studies/${ref.studyId}/models`)
-      .set("Cookie", cookie)
-      .send({
-        name: "Accuracy, robust, bootstrap, on a worker",
-        regionSelection: "anatomical-or-prior",
-        spec: {
-          kind: "association",
-          predictor: "accuracy",
-          covariates: ["age"],
-          estimator: "huber",
-          inference: "bootstrap",
-          resamples: 80_000,
-          seed: 5,
-        },
-      })
-      .expect(201);
-    // The embedded path (the app's own threads) and the same recipe on the worker, side by side.
-    const embedded = await request(t.url)
-      .post(`/api/studies/${ref.studyId}/fits`)
-      .set("Cookie", cookie)
-      .send({ modelId: model.body.id })
-      .expect(202);
-    const fitId = await queueCopyOfReference({ of: embedded.body.id });
+    const fitId = await queueCopyOfReference({ of: embedded });
     const started = Date.now();
     const view = await finished(fitId);
     expect(Date.now() - started).toBeGreaterThan(35_000);
     expect(view.status).toBe("done");
-    await waitForFitStatus(t, cookie, embedded.body.id, ["done"]);
-    expect(view.result).toEqual((await finished(embedded.body.id)).result);
+    await waitForFitStatus(t, cookie, embedded, ["done"]);
+    expect(view.result).toEqual((await finished(embedded)).result);
     // Taken once and never handed back.
     const job = (await t.db.execute(sql`
       select retry_count, state from pgboss.job
@@ -626,36 +642,16 @@ describe("workers that stop", () => {
     await stopWorkers();
     startWorker(600);
     startWorker(600);
-    await waitFor("two workers taking jobs", async () =>
-      running.every((w) => w.output().includes("is taking fit jobs.")),
+    await workersTakingJobs();
+    const embedded = await robustBootstrapFit(
+      "Accuracy, robust, bootstrap, computed twice",
+      20_000,
+      9,
     );
-    const [ref] = await t.db.select().from(fits).where(eq(fits.id, referenceFitId));
-    const model = await request(t.url)
-      .post(`/api/studies/${ref.studyId}/models`)
-      .set("Cookie", cookie)
-      .send({
-        name: "Accuracy, robust, bootstrap, computed twice",
-        regionSelection: "anatomical-or-prior",
-        spec: {
-          kind: "association",
-          predictor: "accuracy",
-          covariates: ["age"],
-          estimator: "huber",
-          inference: "bootstrap",
-          resamples: 20_000,
-          seed: 9,
-        },
-      })
-      .expect(201);
-    const embedded = await request(t.url)
-      .post(`/api/studies/${ref.studyId}/fits`)
-      .set("Cookie", cookie)
-      .send({ modelId: model.body.id })
-      .expect(202);
-    await waitForFitStatus(t, cookie, embedded.body.id, ["done"]);
-    const reference = await finished(embedded.body.id);
+    await waitForFitStatus(t, cookie, embedded, ["done"]);
+    const reference = await finished(embedded);
     // The first computation: one worker takes the fit's job.
-    const fitId = await queueCopyOfReference({ of: embedded.body.id });
+    const fitId = await queueCopyOfReference({ of: embedded });
     await waitFor("the fit to run", async () => {
       const [row] = await t.db.select({ status: fits.status }).from(fits).where(eq(fits.id, fitId));
       return row.status === "running";
@@ -701,23 +697,9 @@ describe("workers that stop", () => {
 
 describe("a worker's settings", () => {
   it("a heartbeat longer than 10 s is refused, naming the setting", async () => {
-    const child = spawn(process.execPath, ["--import", "tsx", "server/worker/index.ts"], {
-      cwd: root,
-      env: {
-        NODE_ENV: "production",
-        PATH: process.env.PATH,
-        DATABASE_URL: databaseUrl,
-        WORKER_HEARTBEAT_SECONDS: "30",
-      },
-      stdio: ["ignore", "pipe", "pipe"],
-    });
-    let err = "";
-    child.stderr?.on("data", (c: Buffer) => {
-      err += c.toString();
-    });
-    const code = await new Promise((resolve) => child.once("exit", resolve));
-    expect(code).toBe(2);
-    expect(err).toContain(
+    const worker = spawnWorker({ WORKER_HEARTBEAT_SECONDS: "30" });
+    expect(await worker.exited).toBe(2);
+    expect(worker.output()).toContain(
       "Covarion worker cannot start: WORKER_HEARTBEAT_SECONDS: must be at most 10: a worker silent for 30 s counts as stopped",
     );
   }, 60_000);
