@@ -3,7 +3,7 @@
  * worker`): those whose heartbeat is recent, with the chunks each stored
  * in the last minute. With the embedded database the list is empty.
  */
-import { and, eq, gt, isNull, sql } from "drizzle-orm";
+import { and, eq, gt, isNull, type SQL, sql } from "drizzle-orm";
 import type { Queryable } from "../../db/client";
 import { fitChunks, memberships, studies, workers } from "../../db/schema";
 import type { LiveWorker } from "../../contract/views/system";
@@ -14,6 +14,11 @@ import type { LiveWorker } from "../../contract/views/system";
  * in hand back to the queue (server/worker/fit-worker.ts).
  */
 export const WORKER_ALIVE_SECONDS = 30;
+
+/** The oldest heartbeat of a live worker, by the database's clock (which writes the heartbeats). */
+export function aliveSince(): SQL {
+  return sql`now() - make_interval(secs => ${WORKER_ALIVE_SECONDS})`;
+}
 
 /** Whether the person is Owner of a study that is not deleted (who may see the workers). */
 export async function ownsAStudy(db: Queryable, userId: string): Promise<boolean> {
@@ -40,7 +45,7 @@ export async function liveWorkers(db: Queryable): Promise<LiveWorker[]> {
       chunksLastMinute: sql<number>`(select count(*)::int from ${fitChunks} where ${fitChunks.workerId} = ${workers.id} and ${fitChunks.computedAt} > now() - interval '1 minute')`,
     })
     .from(workers)
-    .where(gt(workers.seenAt, sql`now() - make_interval(secs => ${WORKER_ALIVE_SECONDS})`))
+    .where(gt(workers.seenAt, aliveSince()))
     .orderBy(workers.host, workers.startedAt);
   return rows.map((r) => ({
     ...r,

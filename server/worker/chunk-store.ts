@@ -10,6 +10,7 @@
 import { and, count, eq, gt, isNull, lt, lte, sql } from "drizzle-orm";
 import { type Database, driverOf } from "../../db/client";
 import { fitChunkSetups, fitChunks, fitRuns, fits, type HeldJob, workers } from "../../db/schema";
+import { aliveSince } from "../services/workers";
 import {
   deserializeSetup,
   type RegionChunkSetup,
@@ -201,18 +202,17 @@ export async function beat(
 }
 
 /**
- * Removes the heartbeats older than `aliveSeconds` (by the database's
- * clock) and returns those workers with the jobs they had in hand. One
- * statement: when several workers look at once, each stopped worker is
- * returned to one of them.
+ * Removes the heartbeats of stopped workers (older than
+ * `WORKER_ALIVE_SECONDS`, services/workers.ts) and returns those workers
+ * with the jobs they had in hand. One statement: when several workers look
+ * at once, each stopped worker is returned to one of them.
  */
 export async function reapStoppedWorkers(
   db: Database,
-  aliveSeconds: number,
 ): Promise<{ id: string; host: string; pid: number; jobs: HeldJob[] }[]> {
   return db
     .delete(workers)
-    .where(lt(workers.seenAt, sql`now() - make_interval(secs => ${aliveSeconds})`))
+    .where(lt(workers.seenAt, aliveSince()))
     .returning({ id: workers.id, host: workers.host, pid: workers.pid, jobs: workers.jobs });
 }
 

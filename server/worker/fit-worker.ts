@@ -120,7 +120,6 @@ import {
   startQueue,
   WORKER_STOPPED,
 } from "./queue";
-import { WORKER_ALIVE_SECONDS } from "../services/workers";
 
 export interface FitWorkerOptions {
   db: Database;
@@ -296,12 +295,12 @@ export class FitWorker {
 
   private async handBack(boss: PgBoss): Promise<void> {
     const lost: { queue: string; id: string; who: string }[] = [];
-    for (const stopped of await reapStoppedWorkers(this.db, WORKER_ALIVE_SECONDS)) {
+    for (const stopped of await reapStoppedWorkers(this.db)) {
       const who = `worker ${stopped.id} on ${stopped.host} (process ${stopped.pid})`;
       console.warn(`[covarion] ${who} stopped beating.`);
       for (const job of stopped.jobs) lost.push({ ...job, who });
     }
-    for (const job of await orphanedJobs(this.db, WORKER_ALIVE_SECONDS))
+    for (const job of await orphanedJobs(this.db))
       if (!lost.some((l) => l.id === job.id))
         lost.push({ ...job, who: "a worker that stopped before it listed it" });
     for (const job of lost) {

@@ -20,6 +20,7 @@ import { openServerDatabase } from "../../db/client";
 import { migrateDatabase } from "../../db/migrate";
 import { FitWorker } from "./fit-worker";
 import { DEFAULT_LEASE_SECONDS } from "./queue";
+import { WORKER_ALIVE_SECONDS } from "../services/workers";
 
 const settingsSchema = z.object({
   DATABASE_URL: z
@@ -32,7 +33,7 @@ const settingsSchema = z.object({
     .number()
     .int()
     .min(1)
-    .max(10, "must be at most 10: a worker silent for 30 s counts as stopped")
+    .max(10, `must be at most 10: a worker silent for ${WORKER_ALIVE_SECONDS} s counts as stopped`)
     .default(5),
 });
 

@@ -26,6 +26,7 @@ import PgBoss from "pg-boss";
 import { claim, type Database, driverOf } from "../../db/client";
 import { workers } from "../../db/schema";
 import { INTERNAL_FAILURE } from "../jobs/fit-jobs";
+import { aliveSince } from "../services/workers";
 
 export const FIT_QUEUE = "fit";
 export const CHUNK_QUEUE = "fit-chunk";
@@ -166,31 +167,23 @@ async function ensureQueue(
   settings: Omit<PgBoss.Queue, "name">,
   supervise: boolean,
 ): Promise<void> {
-  if (!(await boss.getQueue(name))) {
-    try {
-      await boss.createQueue(name, { name, ...settings });
-    } catch (error) {
-      // Another process created it at the same moment.
-      if (!(await boss.getQueue(name))) throw error;
-    }
-  } else if (supervise) await boss.updateQueue(name, { name, ...settings });
+  // Under the set-up claim (startQueue): no other process creates it meanwhile.
+  if (!(await boss.getQueue(name))) await boss.createQueue(name, { name, ...settings });
+  else if (supervise) await boss.updateQueue(name, { name, ...settings });
 }
 
 /**
  * The jobs in progress that no live worker holds: active in one of the
- * work queues for more than `aliveSeconds` and listed in the jobs in hand
- * of no worker whose heartbeat is younger than that (by the database's
- * clock). A worker lists a job as soon as it takes it, so such a job's
+ * work queues for longer than a live worker's heartbeat may be old
+ * (`WORKER_ALIVE_SECONDS`, services/workers.ts) and listed in the jobs in
+ * hand of no live worker. A worker lists a job as soon as it takes it, so such a job's
  * worker stopped — or died between taking it and listing it. Reads
  * pg-boss 10's job table (its `name`, `id`, `state`, `started_on`).
  */
-export async function orphanedJobs(
-  db: Database,
-  aliveSeconds: number,
-): Promise<{ queue: string; id: string; data: unknown }[]> {
-  const since = sql`now() - make_interval(secs => ${aliveSeconds})`;
+export async function orphanedJobs(db: Database): Promise<{ queue: string; id: string }[]> {
+  const since = aliveSince();
   const result = (await db.execute(sql`
-    select j.name as queue, j.id::text as id, j.data as data
+    select j.name as queue, j.id::text as id
     from ${sql.identifier(QUEUE_SCHEMA)}.job j
     where j.name in (${sql.join(
       WORK_QUEUES.map((q) => sql`${q}`),
@@ -200,7 +193,7 @@ export async function orphanedJobs(
       and not exists (
         select 1 from ${workers} w, jsonb_array_elements(w.jobs) held
         where w.seen_at >= ${since} and held->>'id' = j.id::text)`)) as unknown as {
-    rows: { queue: string; id: string; data: unknown }[];
+    rows: { queue: string; id: string }[];
   };
   return result.rows;
 }
